@@ -1,0 +1,1 @@
+//! Options shared by several subcommands and the rendering helpers.

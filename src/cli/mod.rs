@@ -1,0 +1,47 @@
+//! Command-line layer: clap definitions (one file per subcommand) and
+//! rendering helpers. Nothing here computes; it calls the library.
+
+use clap::{Parser, Subcommand};
+
+pub mod common;
+
+/// Oscillator and clock stability analysis.
+#[derive(Debug, Parser)]
+#[command(name = "tauwise", version, about, long_about = None, max_term_width = 100)]
+pub struct Cli {
+    #[command(subcommand)]
+    pub command: Command,
+}
+
+/// The subcommands (DESIGN.md §5).
+#[derive(Debug, Subcommand)]
+pub enum Command {}
+
+/// What a subcommand returns to `main` when it did not fail.
+pub enum Outcome {
+    /// Success.
+    Done,
+    /// A verdict failed and the user asked for a non-zero exit status.
+    VerdictFailed,
+}
+
+/// Run the command line; returns the process exit code.
+pub fn main() -> i32 {
+    let cli = match Cli::try_parse() {
+        Ok(c) => c,
+        Err(e) => {
+            let code = if e.use_stderr() { 2 } else { 0 };
+            let _ = e.print();
+            return code;
+        }
+    };
+    let result: Result<Outcome, tauwise::Error> = match cli.command {};
+    match result {
+        Ok(Outcome::Done) => 0,
+        Ok(Outcome::VerdictFailed) => 3,
+        Err(e) => {
+            eprintln!("tauwise: error: {e}");
+            1
+        }
+    }
+}

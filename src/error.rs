@@ -1,0 +1,41 @@
+//! The crate-wide error type.
+//!
+//! Each layer has its own error enum (for example [`crate::io::ReadError`],
+//! [`crate::units::UnitError`]); [`Error`] wraps them so that the binary can
+//! print every failure the same way: `tauwise: error: <path>:<line>: <what>`.
+
+use thiserror::Error;
+
+/// Any failure of a tauwise library call.
+#[derive(Debug, Error)]
+pub enum Error {
+    /// A value with a unit could not be parsed.
+    #[error(transparent)]
+    Unit(#[from] crate::units::UnitError),
+    /// An input file could not be read or did not hold what was expected.
+    #[error(transparent)]
+    Read(#[from] crate::io::ReadError),
+    /// An output could not be written.
+    #[error(transparent)]
+    Write(#[from] crate::io::WriteError),
+    /// The arguments of a computation are invalid (τ0 ≤ 0, unknown estimator, …).
+    #[error("{0}")]
+    Invalid(String),
+    /// The data do not allow the requested computation (too short, all gaps, …).
+    #[error("{0}")]
+    Insufficient(String),
+}
+
+/// Result alias used throughout the library.
+pub type Result<T, E = Error> = std::result::Result<T, E>;
+
+impl Error {
+    /// Shorthand for [`Error::Invalid`].
+    pub fn invalid(msg: impl Into<String>) -> Self {
+        Error::Invalid(msg.into())
+    }
+    /// Shorthand for [`Error::Insufficient`].
+    pub fn insufficient(msg: impl Into<String>) -> Self {
+        Error::Insufficient(msg.into())
+    }
+}

@@ -1,0 +1,58 @@
+//! Input and output: readers for time series, L(f) tables and DUT files, and
+//! the atomic writer every output goes through.
+
+use std::path::PathBuf;
+use thiserror::Error;
+
+pub mod write;
+
+pub use write::write_atomic;
+
+/// An input could not be read, or did not hold what was expected.
+///
+/// Printed as `<path>:<line>: <expected>` (line omitted when not known).
+#[derive(Debug, Error)]
+#[error("{}{}: {expected}", path.display(), line.map(|l| format!(":{l}")).unwrap_or_default())]
+pub struct ReadError {
+    /// The file (`-` for standard input).
+    pub path: PathBuf,
+    /// 1-based line number, when the problem is on a line.
+    pub line: Option<u64>,
+    /// 1-based column (field) number, when the problem is in a field.
+    pub column: Option<usize>,
+    /// What was found and what was expected.
+    pub expected: String,
+}
+
+impl ReadError {
+    /// An error about the file as a whole.
+    pub fn file(path: impl Into<PathBuf>, expected: impl Into<String>) -> Self {
+        Self {
+            path: path.into(),
+            line: None,
+            column: None,
+            expected: expected.into(),
+        }
+    }
+
+    /// An error on one line.
+    pub fn at(path: impl Into<PathBuf>, line: u64, expected: impl Into<String>) -> Self {
+        Self {
+            path: path.into(),
+            line: Some(line),
+            column: None,
+            expected: expected.into(),
+        }
+    }
+}
+
+/// An output could not be written.
+#[derive(Debug, Error)]
+#[error("{}: could not write: {source}", path.display())]
+pub struct WriteError {
+    /// The target file.
+    pub path: PathBuf,
+    /// The underlying failure.
+    #[source]
+    pub source: std::io::Error,
+}

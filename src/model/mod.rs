@@ -1,0 +1,242 @@
+//! The power-law noise model of an oscillator (IEEE Std 1139-2008):
+//!
+//! S_y(f) = Σ_{α=−2}^{2} h_α f^α  for 0 < f < f_h,
+//!
+//! with the time-domain variances it implies (IEEE Std 1139 table, NIST SP 1065
+//! Table 3), the phase-noise quantities S_φ(f) = (ν0/f)² S_y(f) and
+//! L(f) = 10·log10(S_φ(f)/2) dBc/Hz, and (in [`fit`]) its fit to measured
+//! curves.
+
+use crate::error::{Error, Result};
+use std::f64::consts::{LN_2, PI};
+
+/// Noise type labels by α, from α = 2 (WPM) down to α = −4 (RRFM).
+pub const NOISE_LABELS: [(i32, &str); 7] = [
+    (2, "WPM"),
+    (1, "FPM"),
+    (0, "WFM"),
+    (-1, "FFM"),
+    (-2, "RWFM"),
+    (-3, "FWFM"),
+    (-4, "RRFM"),
+];
+
+/// The trade label of the power-law noise with exponent α of S_y(f) ∝ f^α
+/// (`WPM FPM WFM FFM RWFM`, and `FWFM RRFM` for α = −3, −4).
+pub fn noise_label(alpha: i32) -> Option<&'static str> {
+    NOISE_LABELS.iter().find(|(a, _)| *a == alpha).map(|p| p.1)
+}
+
+/// Parse a noise label (`WPM`, `wfm`, …) or a plain α (`0`, `-2`).
+pub fn parse_noise(text: &str) -> Result<i32> {
+    let t = text.trim();
+    if let Ok(a) = t.parse::<i32>() {
+        if noise_label(a).is_some() {
+            return Ok(a);
+        }
+    }
+    NOISE_LABELS
+        .iter()
+        .find(|(_, l)| l.eq_ignore_ascii_case(t))
+        .map(|p| p.0)
+        .ok_or_else(|| {
+            Error::invalid(format!(
+                "unknown noise type '{t}': expected one of WPM FPM WFM FFM RWFM FWFM RRFM or α from 2 to -4"
+            ))
+        })
+}
+
+/// A power-law model: h_α for α = −2 … 2 and the high-frequency cut-off f_h.
+///
+/// `h[k]` holds h_α with α = k − 2, so `h[0]` = h_−2 (RWFM) … `h[4]` = h_2 (WPM).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct PowerLaw {
+    /// h_−2 … h_2 (S_y in 1/Hz at f = 1 Hz for each term).
+    pub h: [f64; 5],
+    /// High-frequency cut-off f_h in Hz (enters WPM and FPM).
+    pub f_h: f64,
+}
+
+impl PowerLaw {
+    /// A model with every h_α zero and the given cut-off.
+    pub fn zero(f_h: f64) -> Self {
+        Self { h: [0.0; 5], f_h }
+    }
+
+    /// h_α for α in −2 … 2 (0 outside).
+    pub fn get(&self, alpha: i32) -> f64 {
+        if (-2..=2).contains(&alpha) {
+            self.h[(alpha + 2) as usize]
+        } else {
+            0.0
+        }
+    }
+
+    /// Set h_α for α in −2 … 2.
+    pub fn set(&mut self, alpha: i32, value: f64) {
+        assert!((-2..=2).contains(&alpha), "α out of range");
+        self.h[(alpha + 2) as usize] = value;
+    }
+
+    /// Parse a model string `h0=1e-22,h-1=3e-26,h-2=1e-31[,fh=0.5]`
+    /// (separators `,` or `;` or spaces). Unnamed terms are zero; `fh`
+    /// defaults to `default_fh` (for time records, the Nyquist frequency 1/(2τ0)).
+    ///
+    /// ```
+    /// use tauwise::model::PowerLaw;
+    /// let m = PowerLaw::parse("h0=1e-22,h-2=1e-30", 0.5).unwrap();
+    /// assert_eq!(m.get(0), 1e-22);
+    /// assert_eq!(m.get(-2), 1e-30);
+    /// assert_eq!(m.f_h, 0.5);
+    /// ```
+    pub fn parse(text: &str, default_fh: f64) -> Result<Self> {
+        let mut m = PowerLaw::zero(default_fh);
+        let mut any = false;
+        for part in text.split([',', ';', ' ']).filter(|p| !p.trim().is_empty()) {
+            let (key, val) = part.split_once('=').ok_or_else(|| {
+                Error::invalid(format!(
+                    "model term '{part}' is not of the form h<α>=<value> (e.g. h0=1e-22,h-1=3e-26)"
+                ))
+            })?;
+            let key = key.trim();
+            let val = val.trim();
+            if key.eq_ignore_ascii_case("fh") {
+                m.f_h = crate::units::parse_frequency(val)?;
+                if m.f_h <= 0.0 {
+                    return Err(Error::invalid(format!(
+                        "model fh must be positive, got '{val}'"
+                    )));
+                }
+                continue;
+            }
+            let alpha: i32 = key
+                .strip_prefix('h')
+                .and_then(|a| a.parse().ok())
+                .filter(|a| (-2..=2).contains(a))
+                .ok_or_else(|| {
+                    Error::invalid(format!(
+                        "model term '{key}' is not one of h2 h1 h0 h-1 h-2 fh"
+                    ))
+                })?;
+            let v: f64 = val.parse().map_err(|_| {
+                Error::invalid(format!("model value '{val}' for {key} is not a number"))
+            })?;
+            if !(v.is_finite() && v >= 0.0) {
+                return Err(Error::invalid(format!(
+                    "model value for {key} must be a non-negative number, got '{val}'"
+                )));
+            }
+            m.set(alpha, v);
+            any = true;
+        }
+        if !any {
+            return Err(Error::invalid(format!(
+                "model '{text}' names no term: expected e.g. h0=1e-22,h-1=3e-26"
+            )));
+        }
+        Ok(m)
+    }
+
+    /// The model as a string that [`PowerLaw::parse`] accepts (non-zero terms
+    /// only, then `fh`).
+    pub fn to_model_string(&self) -> String {
+        let mut parts: Vec<String> = (-2..=2)
+            .rev()
+            .filter(|&a| self.get(a) > 0.0)
+            .map(|a| format!("h{a}={:.4e}", self.get(a)))
+            .collect();
+        parts.push(format!("fh={}", self.f_h));
+        parts.join(",")
+    }
+
+    /// S_y(f) = Σ h_α f^α for 0 < f ≤ f_h, 0 above f_h (1/Hz).
+    pub fn sy(&self, f: f64) -> f64 {
+        if f <= 0.0 || f > self.f_h {
+            return 0.0;
+        }
+        (-2..=2).map(|a| self.get(a) * f.powi(a)).sum()
+    }
+
+    /// S_φ(f) = (ν0/f)² S_y(f) in rad²/Hz (IEEE Std 1139).
+    pub fn sphi(&self, f: f64, nu0: f64) -> f64 {
+        (nu0 / f).powi(2) * self.sy(f)
+    }
+
+    /// S_x(f) = S_y(f)/(2πf)² in s²/Hz.
+    pub fn sx(&self, f: f64) -> f64 {
+        self.sy(f) / (2.0 * PI * f).powi(2)
+    }
+
+    /// L(f) = 10·log10(S_φ(f)/2) in dBc/Hz (SSB convention, IEEE Std 1139).
+    pub fn lf(&self, f: f64, nu0: f64) -> f64 {
+        10.0 * (self.sphi(f, nu0) / 2.0).log10()
+    }
+
+    /// Allan variance σ_y²(τ), IEEE Std 1139 table (CHECKS.md C):
+    /// WPM 3f_h h_2/((2π)²τ²); FPM [1.038 + 3 ln(2πf_hτ)] h_1/((2π)²τ²);
+    /// WFM h_0/(2τ); FFM 2 ln2 h_−1; RWFM (2π)² τ h_−2/6. Valid for 2πf_hτ ≫ 1.
+    pub fn avar(&self, tau: f64) -> f64 {
+        let w = (2.0 * PI).powi(2);
+        self.get(2) * 3.0 * self.f_h / (w * tau * tau)
+            + self.get(1) * (1.038 + 3.0 * (2.0 * PI * self.f_h * tau).ln()) / (w * tau * tau)
+            + self.get(0) / (2.0 * tau)
+            + self.get(-1) * 2.0 * LN_2
+            + self.get(-2) * w * tau / 6.0
+    }
+
+    /// Modified Allan variance Mod σ_y²(τ) at τ = nτ0, IEEE Std 1139 table
+    /// (large-n forms, CHECKS.md C): WPM 3f_hτ0 h_2/((2π)²τ³); FPM
+    /// 3.37 h_1/((2π)²τ²); WFM h_0/(4τ); FFM 0.936 h_−1; RWFM 5.42 h_−2 τ.
+    pub fn mvar(&self, tau: f64, tau0: f64) -> f64 {
+        let w = (2.0 * PI).powi(2);
+        self.get(2) * 3.0 * self.f_h * tau0 / (w * tau.powi(3))
+            + self.get(1) * 3.37 / (w * tau * tau)
+            + self.get(0) / (4.0 * tau)
+            + self.get(-1) * 0.936
+            + self.get(-2) * 5.42 * tau
+    }
+
+    /// Time variance σ_x²(τ) = (τ²/3) Mod σ_y²(τ) (NIST SP 1065 eq. 17).
+    pub fn tvar(&self, tau: f64, tau0: f64) -> f64 {
+        tau * tau / 3.0 * self.mvar(tau, tau0)
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn parse_and_print() {
+        let m = PowerLaw::parse("h2=1e-20; h-1=3e-26 fh=10k", 0.5).unwrap();
+        assert_eq!(m.get(2), 1e-20);
+        assert_eq!(m.get(-1), 3e-26);
+        assert_eq!(m.f_h, 1e4);
+        let again = PowerLaw::parse(&m.to_model_string(), 0.5).unwrap();
+        assert_eq!(again.f_h, 1e4);
+        assert!((again.get(-1) - 3e-26).abs() < 1e-30);
+        assert!(PowerLaw::parse("h3=1", 0.5).is_err());
+        assert!(PowerLaw::parse("h0=abc", 0.5).is_err());
+        assert!(PowerLaw::parse("h0=-1", 0.5).is_err());
+        assert!(PowerLaw::parse("", 0.5).is_err());
+    }
+
+    #[test]
+    fn labels() {
+        assert_eq!(noise_label(0), Some("WFM"));
+        assert_eq!(parse_noise("rwfm").unwrap(), -2);
+        assert_eq!(parse_noise("1").unwrap(), 1);
+        assert!(parse_noise("pink").is_err());
+    }
+
+    /// IEEE Std 1139 table (CHECKS.md C): WFM AVAR = h0/(2τ), FFM = 2 ln2 h−1.
+    #[test]
+    fn ieee1139_closed_forms() {
+        let mut m = PowerLaw::zero(0.5);
+        m.set(0, 2e-22);
+        assert!((m.avar(10.0) - 1e-23).abs() < 1e-36);
+        let mut f = PowerLaw::zero(0.5);
+        f.set(-1, 1e-24);
+        assert!((f.avar(100.0) - 2.0 * LN_2 * 1e-24).abs() < 1e-36);
+    }
+}

@@ -1,0 +1,368 @@
+//! Units at the edges: parsing durations and frequencies written by people,
+//! the phase and frequency units of input files, and SI-prefixed output.
+//!
+//! Inside tauwise everything is SI: seconds, hertz, fractional frequency
+//! (dimensionless), rad²/Hz. Conversion happens only here.
+
+use thiserror::Error;
+
+/// A value with a unit could not be understood.
+#[derive(Debug, Error, Clone, PartialEq)]
+pub enum UnitError {
+    /// The text is not a number followed by a known suffix.
+    #[error("'{text}' is not a {what}: expected {expected}")]
+    Bad {
+        /// The text as given.
+        text: String,
+        /// What was being parsed ("duration", "frequency", …).
+        what: &'static str,
+        /// What would have been accepted.
+        expected: &'static str,
+    },
+}
+
+fn bad(text: &str, what: &'static str, expected: &'static str) -> UnitError {
+    UnitError::Bad {
+        text: text.to_string(),
+        what,
+        expected,
+    }
+}
+
+/// Split `"2.5us"` into `(2.5, "us")`. The number part follows Rust's `f64`
+/// grammar (including exponents such as `1e-3`).
+fn split_number(text: &str) -> Option<(f64, &str)> {
+    let t = text.trim();
+    // Longest prefix that parses as a float.
+    let bytes = t.as_bytes();
+    let mut end = 0;
+    let mut best: Option<(f64, usize)> = None;
+    while end < bytes.len() {
+        end += 1;
+        if !t.is_char_boundary(end) {
+            continue;
+        }
+        let head = &t[..end];
+        // Avoid taking the 'e' of a suffix such as "1e" without digits.
+        if let Ok(v) = head.parse::<f64>() {
+            if head
+                .chars()
+                .all(|c| c.is_ascii_digit() || "+-.eE".contains(c))
+            {
+                best = Some((v, end));
+            }
+        }
+    }
+    let (v, n) = best?;
+    Some((v, t[n..].trim()))
+}
+
+const DURATION_EXPECTED: &str =
+    "a number of seconds or a number with one of ps ns us µs ms s min h d (e.g. 100ms, 2.5us, 24h, 2d)";
+
+/// Parse a duration such as `1s`, `100ms`, `2.5us`, `24h`, `2d` or plain
+/// seconds (`0.001`). Returns seconds.
+///
+/// ```
+/// use tauwise::units::parse_duration;
+/// assert_eq!(parse_duration("100ms").unwrap(), 0.1);
+/// assert_eq!(parse_duration("2d").unwrap(), 172800.0);
+/// assert!(parse_duration("3 fortnights").is_err());
+/// ```
+pub fn parse_duration(text: &str) -> Result<f64, UnitError> {
+    let (v, suffix) = split_number(text).ok_or_else(|| bad(text, "duration", DURATION_EXPECTED))?;
+    let scale = match suffix {
+        "" | "s" | "sec" => 1.0,
+        "ps" => 1e-12,
+        "ns" => 1e-9,
+        "us" | "µs" | "μs" => 1e-6,
+        "ms" => 1e-3,
+        "min" | "m" => 60.0,
+        "h" | "hr" => 3600.0,
+        "d" | "day" | "days" => 86400.0,
+        _ => return Err(bad(text, "duration", DURATION_EXPECTED)),
+    };
+    let s = v * scale;
+    if !s.is_finite() {
+        return Err(bad(text, "duration", DURATION_EXPECTED));
+    }
+    Ok(s)
+}
+
+const FREQUENCY_EXPECTED: &str =
+    "a number of hertz or a number with one of Hz k kHz M MHz G GHz (e.g. 10MHz, 156.25M, 12k)";
+
+/// Parse a frequency such as `10MHz`, `156.25M`, `12k`, `1.5GHz` or plain
+/// hertz. Returns hertz.
+///
+/// ```
+/// use tauwise::units::parse_frequency;
+/// assert_eq!(parse_frequency("10MHz").unwrap(), 10e6);
+/// assert_eq!(parse_frequency("12k").unwrap(), 12e3);
+/// assert_eq!(parse_frequency("156.25M").unwrap(), 156.25e6);
+/// ```
+pub fn parse_frequency(text: &str) -> Result<f64, UnitError> {
+    let (v, suffix) =
+        split_number(text).ok_or_else(|| bad(text, "frequency", FREQUENCY_EXPECTED))?;
+    let s = suffix
+        .strip_suffix("Hz")
+        .or_else(|| suffix.strip_suffix("hz"))
+        .unwrap_or(suffix);
+    let scale = match s {
+        "" => 1.0,
+        "m" => 1e-3,
+        "k" | "K" => 1e3,
+        "M" => 1e6,
+        "G" | "g" => 1e9,
+        "T" => 1e12,
+        _ => return Err(bad(text, "frequency", FREQUENCY_EXPECTED)),
+    };
+    let f = v * scale;
+    if !f.is_finite() {
+        return Err(bad(text, "frequency", FREQUENCY_EXPECTED));
+    }
+    Ok(f)
+}
+
+/// Units of phase (time-error) readings in an input file.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum PhaseUnit {
+    /// seconds
+    S,
+    /// milliseconds
+    Ms,
+    /// microseconds
+    Us,
+    /// nanoseconds
+    Ns,
+    /// picoseconds
+    Ps,
+}
+
+impl PhaseUnit {
+    /// Multiply a reading by this to get seconds.
+    pub fn to_seconds(self) -> f64 {
+        match self {
+            PhaseUnit::S => 1.0,
+            PhaseUnit::Ms => 1e-3,
+            PhaseUnit::Us => 1e-6,
+            PhaseUnit::Ns => 1e-9,
+            PhaseUnit::Ps => 1e-12,
+        }
+    }
+    /// The unit's symbol as written on the command line.
+    pub fn symbol(self) -> &'static str {
+        match self {
+            PhaseUnit::S => "s",
+            PhaseUnit::Ms => "ms",
+            PhaseUnit::Us => "us",
+            PhaseUnit::Ns => "ns",
+            PhaseUnit::Ps => "ps",
+        }
+    }
+}
+
+/// Units of frequency readings in an input file.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum FreqUnit {
+    /// fractional frequency (dimensionless)
+    Frac,
+    /// parts per million
+    Ppm,
+    /// parts per billion
+    Ppb,
+    /// absolute frequency in hertz; needs the carrier (nominal) frequency
+    Hz,
+}
+
+impl FreqUnit {
+    /// The unit's symbol as written on the command line.
+    pub fn symbol(self) -> &'static str {
+        match self {
+            FreqUnit::Frac => "frac",
+            FreqUnit::Ppm => "ppm",
+            FreqUnit::Ppb => "ppb",
+            FreqUnit::Hz => "hz",
+        }
+    }
+}
+
+/// A unit for the values of a time series: phase or frequency.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum ValueUnit {
+    /// Phase (time error) in the given unit.
+    Phase(PhaseUnit),
+    /// Frequency in the given unit.
+    Freq(FreqUnit),
+}
+
+/// Parse a value unit: `s ms us ns ps` (phase) or `frac ppm ppb hz` (frequency).
+pub fn parse_value_unit(text: &str) -> Result<ValueUnit, UnitError> {
+    Ok(match text.trim() {
+        "s" => ValueUnit::Phase(PhaseUnit::S),
+        "ms" => ValueUnit::Phase(PhaseUnit::Ms),
+        "us" | "µs" | "μs" => ValueUnit::Phase(PhaseUnit::Us),
+        "ns" => ValueUnit::Phase(PhaseUnit::Ns),
+        "ps" => ValueUnit::Phase(PhaseUnit::Ps),
+        "frac" => ValueUnit::Freq(FreqUnit::Frac),
+        "ppm" => ValueUnit::Freq(FreqUnit::Ppm),
+        "ppb" => ValueUnit::Freq(FreqUnit::Ppb),
+        "hz" | "Hz" => ValueUnit::Freq(FreqUnit::Hz),
+        _ => {
+            return Err(bad(
+                text,
+                "unit",
+                "one of s ms us ns ps (phase) or frac ppm ppb hz (frequency)",
+            ))
+        }
+    })
+}
+
+/// Format `value` with an SI prefix and `digits` significant digits, followed
+/// by `unit` (e.g. `format_si(1.234e-11, "s", 4)` → `"12.34 ps"`). Zero and
+/// non-finite values are written plainly.
+///
+/// ```
+/// use tauwise::units::format_si;
+/// assert_eq!(format_si(1.234e-11, "s", 4), "12.34 ps");
+/// assert_eq!(format_si(86400.0, "s", 4), "86.40 ks");
+/// assert_eq!(format_si(1.0, "s", 4), "1.000 s");
+/// ```
+pub fn format_si(value: f64, unit: &str, digits: usize) -> String {
+    if value == 0.0 || !value.is_finite() {
+        return format!("{value} {unit}").trim_end().to_string();
+    }
+    const PREFIXES: [(i32, &str); 13] = [
+        (-24, "y"),
+        (-21, "z"),
+        (-18, "a"),
+        (-15, "f"),
+        (-12, "p"),
+        (-9, "n"),
+        (-6, "µ"),
+        (-3, "m"),
+        (0, ""),
+        (3, "k"),
+        (6, "M"),
+        (9, "G"),
+        (12, "T"),
+    ];
+    let digits = digits.max(1);
+    // Round to the significant digits first so that 999.96 becomes 1.000 k.
+    let exp10 = value.abs().log10().floor() as i32;
+    let rounded = round_sig(value, digits);
+    let exp10 = if rounded.abs() >= 10f64.powi(exp10 + 1) {
+        exp10 + 1
+    } else {
+        exp10
+    };
+    let e3 = (exp10.div_euclid(3) * 3).clamp(-24, 12);
+    let prefix = PREFIXES
+        .iter()
+        .find(|(e, _)| *e == e3)
+        .map(|p| p.1)
+        .unwrap_or("");
+    let mantissa = rounded / 10f64.powi(e3);
+    let int_digits = (exp10 - e3 + 1).max(1) as usize;
+    let decimals = digits.saturating_sub(int_digits);
+    format!("{mantissa:.decimals$} {prefix}{unit}")
+        .trim_end()
+        .to_string()
+}
+
+/// Round `value` to `digits` significant digits.
+pub fn round_sig(value: f64, digits: usize) -> f64 {
+    if value == 0.0 || !value.is_finite() {
+        return value;
+    }
+    let e = value.abs().log10().floor() as i32;
+    let scale = 10f64.powi(digits as i32 - 1 - e);
+    (value * scale).round() / scale
+}
+
+/// Format a plain number with `digits` significant digits in the shortest of
+/// fixed or scientific notation (used for dimensionless quantities such as σ_y).
+///
+/// ```
+/// use tauwise::units::format_sig;
+/// assert_eq!(format_sig(1.2345e-11, 4), "1.235e-11");
+/// assert_eq!(format_sig(12.0, 4), "12.00");
+/// ```
+pub fn format_sig(value: f64, digits: usize) -> String {
+    if value == 0.0 || !value.is_finite() {
+        return format!("{value}");
+    }
+    let e = value.abs().log10().floor() as i32;
+    if (-3..5).contains(&e) {
+        let decimals = (digits as i32 - 1 - e).max(0) as usize;
+        format!("{value:.decimals$}")
+    } else {
+        format!("{:.*e}", digits.saturating_sub(1), value)
+    }
+}
+
+/// 10·log10(x): power ratio to decibels.
+pub fn to_db(x: f64) -> f64 {
+    10.0 * x.log10()
+}
+
+/// 10^(db/10): decibels to power ratio.
+pub fn from_db(db: f64) -> f64 {
+    10f64.powf(db / 10.0)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn durations() {
+        assert_eq!(parse_duration("1s").unwrap(), 1.0);
+        assert_eq!(parse_duration("100ms").unwrap(), 0.1);
+        assert!((parse_duration("2.5us").unwrap() - 2.5e-6).abs() < 1e-20);
+        assert_eq!(parse_duration("24h").unwrap(), 86400.0);
+        assert_eq!(parse_duration("2d").unwrap(), 172800.0);
+        assert_eq!(parse_duration("0.001").unwrap(), 0.001);
+        assert_eq!(parse_duration("1e-3").unwrap(), 0.001);
+        assert_eq!(parse_duration(" 5 min").unwrap(), 300.0);
+        let e = parse_duration("5 fortnights").unwrap_err();
+        assert!(e.to_string().contains("'5 fortnights'"), "{e}");
+        assert!(parse_duration("").is_err());
+        assert!(parse_duration("s").is_err());
+    }
+
+    #[test]
+    fn frequencies() {
+        assert_eq!(parse_frequency("10MHz").unwrap(), 10e6);
+        assert_eq!(parse_frequency("156.25M").unwrap(), 156.25e6);
+        assert_eq!(parse_frequency("12k").unwrap(), 12e3);
+        assert_eq!(parse_frequency("10.3125G").unwrap(), 10.3125e9);
+        assert_eq!(parse_frequency("100").unwrap(), 100.0);
+        assert_eq!(parse_frequency("20 MHz").unwrap(), 20e6);
+        let e = parse_frequency("10 furlongs").unwrap_err();
+        assert!(e.to_string().contains("'10 furlongs'"));
+    }
+
+    #[test]
+    fn si_format() {
+        assert_eq!(format_si(1.234e-11, "s", 4), "12.34 ps");
+        assert_eq!(format_si(999.96, "s", 4), "1.000 ks");
+        assert_eq!(format_si(0.1, "s", 4), "100.0 ms");
+        assert_eq!(format_si(2.5e-6, "s", 4), "2.500 µs");
+        assert_eq!(format_si(-3.0e-9, "s", 4), "-3.000 ns");
+        assert_eq!(format_si(10e6, "Hz", 4), "10.00 MHz");
+    }
+
+    #[test]
+    fn units() {
+        assert_eq!(
+            parse_value_unit("ns").unwrap(),
+            ValueUnit::Phase(PhaseUnit::Ns)
+        );
+        assert_eq!(
+            parse_value_unit("ppb").unwrap(),
+            ValueUnit::Freq(FreqUnit::Ppb)
+        );
+        assert!(parse_value_unit("parsecs").is_err());
+    }
+}
