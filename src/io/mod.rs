@@ -4,6 +4,8 @@
 use std::path::PathBuf;
 use thiserror::Error;
 
+pub mod series;
+pub mod text;
 pub mod write;
 
 pub use write::write_atomic;
