@@ -188,3 +188,16 @@ pub fn json_text(doc: &serde_json::Value) -> String {
     s.push('\n');
     s
 }
+
+/// A number written for machines (CSV cells, data files): the shortest text
+/// that reads back to the same `f64`, in plain notation for moderate
+/// magnitudes and in exponent notation otherwise; `NaN` for a gap.
+pub fn plain(v: f64) -> String {
+    if v.is_nan() {
+        "NaN".to_string()
+    } else if v == 0.0 || (1e-4..1e15).contains(&v.abs()) {
+        format!("{v}")
+    } else {
+        format!("{v:e}")
+    }
+}

@@ -9,6 +9,7 @@ pub mod text;
 pub mod write;
 
 pub use write::write_atomic;
+pub use write::write_atomic_with;
 
 /// An input could not be read, or did not hold what was expected.
 ///

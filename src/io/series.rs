@@ -542,14 +542,7 @@ pub fn read_series_from<R: BufRead>(
         None => {
             tau0_from_timestamps = true;
             let mut s = spacings.clone();
-            let mid = s.len() / 2;
-            let (_, &mut m_hi, _) = s.select_nth_unstable_by(mid, f64::total_cmp);
-            let median = if s.len() % 2 == 1 {
-                m_hi
-            } else {
-                let lo = s[..mid].iter().copied().fold(f64::NEG_INFINITY, f64::max);
-                0.5 * (lo + m_hi)
-            };
+            let median = crate::prepare::median_in_place(&mut s).unwrap_or(f64::NAN);
             drop(s);
             let tau0 = crate::units::round_sig(median, 10);
             // Check every spacing; count the gaps to insert.
