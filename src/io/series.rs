@@ -18,7 +18,8 @@
 //! Timestamps are seconds (any origin) or ISO-8601 date-times
 //! (`2024-05-01T12:00:00.25Z`, `2024-05-01 12:00:00+02:00`; without an offset
 //! they are taken as UTC). They must increase. τ0 is `tau0` or, when not
-//! given, the median of the spacings Δt_i = t_i − t_{i−1} (rounded to 10
+//! given, the median of the spacings Δt_i = t_i − t_{i−1} (the lower median
+//! for an even count, so that it is a spacing actually seen; rounded to 10
 //! significant digits). Each spacing must be k·τ0 for a whole k ≥ 1 within
 //! 1 % of τ0, i.e. |Δt/τ0 − k| ≤ 0.01; a spacing of k·τ0 inserts k − 1 gaps
 //! (NaN). Samples are placed by accumulating k, so a time base that runs
@@ -541,8 +542,10 @@ pub fn read_series_from<R: BufRead>(
         Some(t) => t,
         None => {
             tau0_from_timestamps = true;
+            // The lower median: always one of the spacings actually seen.
             let mut s = spacings.clone();
-            let median = crate::prepare::median_in_place(&mut s).unwrap_or(f64::NAN);
+            let mid = (s.len() - 1) / 2;
+            let median = *s.select_nth_unstable_by(mid, f64::total_cmp).1;
             drop(s);
             let tau0 = crate::units::round_sig(median, 10);
             // Check every spacing; count the gaps to insert.
