@@ -610,6 +610,224 @@ mod tests {
         }
     }
 
+    /// A small deterministic generator for test data (xorshift64*).
+    struct Rng(u64);
+    impl Rng {
+        fn next(&mut self) -> f64 {
+            self.0 ^= self.0 >> 12;
+            self.0 ^= self.0 << 25;
+            self.0 ^= self.0 >> 27;
+            (self.0.wrapping_mul(0x2545_f491_4f6c_dd1d) >> 11) as f64 / (1u64 << 53) as f64 - 0.5
+        }
+    }
+
+    fn close(a: f64, b: f64, rel: f64) -> bool {
+        (a - b).abs() <= rel * b.abs().max(1e-300)
+    }
+
+    #[test]
+    fn median_matches_sorting() {
+        let mut r = Rng(7);
+        for n in [1, 2, 3, 10, 101, 1000] {
+            let v: Vec<f64> = (0..n).map(|_| r.next()).collect();
+            let mut s = v.clone();
+            s.sort_by(f64::total_cmp);
+            let want = if n % 2 == 1 {
+                s[n / 2]
+            } else {
+                0.5 * (s[n / 2 - 1] + s[n / 2])
+            };
+            let mut w = v.clone();
+            assert_eq!(median_in_place(&mut w), Some(want));
+        }
+    }
+
+    #[test]
+    fn linear_fit_matches_textbook_formula() {
+        // Direct least-squares slope: b = (nΣty − ΣtΣy)/(nΣt² − (Σt)²).
+        let mut r = Rng(11);
+        let tau0 = 0.5;
+        let mut y: Vec<f64> = (0..500)
+            .map(|i| 1e-9 + 2e-12 * i as f64 + 1e-10 * r.next())
+            .collect();
+        y[17] = f64::NAN;
+        y[300] = f64::NAN;
+        let fit = fit_drift_y(&y, tau0, DriftModel::Linear).unwrap();
+        let pts: Vec<(f64, f64)> = y
+            .iter()
+            .enumerate()
+            .filter(|(_, v)| !v.is_nan())
+            .map(|(i, &v)| ((i as f64 + 0.5) * tau0, v))
+            .collect();
+        let n = pts.len() as f64;
+        let (st, sy) = pts.iter().fold((0.0, 0.0), |a, p| (a.0 + p.0, a.1 + p.1));
+        let stt: f64 = pts.iter().map(|p| p.0 * p.0).sum();
+        let sty: f64 = pts.iter().map(|p| p.0 * p.1).sum();
+        let b = (n * sty - st * sy) / (n * stt - st * st);
+        assert!(close(fit.rate, b, 1e-9), "{} vs {b}", fit.rate);
+        assert!(close(fit.offset, sy / n, 1e-12));
+        assert_eq!(fit.points, 498);
+        assert!(close(fit.per_day(), b * 86400.0, 1e-9));
+    }
+
+    #[test]
+    fn quadratic_fit_is_exact_and_satisfies_normal_equations() {
+        // Frequency that is the interval mean of y(t) = a + b·u + c·u²
+        // (analytic: mean of u² over an interval of length τ0 is u² + τ0²/12).
+        let tau0 = 2.0;
+        let (a, b, c) = (3e-8, -4e-13, 5e-18);
+        let n = 1000;
+        let tc = n as f64 * tau0 / 2.0;
+        let y: Vec<f64> = (0..n)
+            .map(|i| {
+                let u = (i as f64 + 0.5) * tau0 - tc;
+                a + b * u + c * (u * u + tau0 * tau0 / 12.0)
+            })
+            .collect();
+        let fit = fit_drift_y(&y, tau0, DriftModel::Quadratic).unwrap();
+        assert!((fit.centre - tc).abs() < 1e-9);
+        assert!(close(fit.offset, a, 1e-9), "{}", fit.offset);
+        assert!(close(fit.rate, b, 1e-7), "{}", fit.rate);
+        assert!(close(fit.curvature, c, 1e-6), "{}", fit.curvature);
+        assert!(fit.residual_rms < 1e-20);
+        // On noisy data the residuals are orthogonal to 1, u and u² + τ0²/12.
+        let mut r = Rng(3);
+        let noisy: Vec<f64> = y.iter().map(|v| v + 1e-9 * r.next()).collect();
+        let f2 = fit_drift_y(&noisy, tau0, DriftModel::Quadratic).unwrap();
+        let mut dots = [0.0f64; 3];
+        for (i, &v) in noisy.iter().enumerate() {
+            let t = (i as f64 + 0.5) * tau0;
+            let u = t - f2.centre;
+            let res = v - f2.frequency_at(t, tau0);
+            let basis = [1.0, u / tc, (u * u + tau0 * tau0 / 12.0) / (tc * tc)];
+            for k in 0..3 {
+                dots[k] += res * basis[k];
+            }
+        }
+        for d in dots {
+            assert!(d.abs() < 1e-20, "{dots:?}");
+        }
+    }
+
+    #[test]
+    fn drift_removal_from_phase_matches_removal_from_frequency() {
+        let tau0 = 1.0;
+        let mut r = Rng(5);
+        let y: Vec<f64> = (0..400)
+            .map(|i| 1e-9 + 3e-12 * i as f64 + 1e-11 * r.next())
+            .collect();
+        let fr = Record::Frequency(FrequencyRecord::new(y, tau0).unwrap());
+        let ph = Record::Phase(fr.to_phase());
+        for model in [DriftModel::Linear, DriftModel::Quadratic] {
+            let f1 = fit_drift(&fr, model).unwrap();
+            let f2 = fit_drift(&ph, model).unwrap();
+            assert!(close(f1.rate, f2.rate, 1e-6));
+            let a = remove_drift(&fr, &f1).to_frequency().y;
+            let b = remove_drift(&ph, &f2).to_frequency().y;
+            for (u, v) in a.iter().zip(&b) {
+                assert!((u - v).abs() < 1e-16, "{model:?}: {u} vs {v}");
+            }
+            // After removal no drift is left, and the centre frequency is kept.
+            let left = fit_drift(&remove_drift(&fr, &f1), model).unwrap();
+            assert!(left.rate.abs() < 1e-22, "{}", left.rate);
+            assert!(close(left.offset, f1.offset, 1e-9));
+        }
+    }
+
+    #[test]
+    fn mean_frequency_of_phase_is_end_to_end_slope() {
+        // Analytic: for gap-free phase, the mean of first differences is
+        // (x_{N−1} − x_0)/((N−1)τ0).
+        let x: Vec<f64> = (0..50).map(|i| 1e-9 * (i as f64).powi(2)).collect();
+        let r = Record::Phase(PhaseRecord::new(x.clone(), 2.0).unwrap());
+        let m = mean_frequency(&r).unwrap();
+        assert!(close(m, (x[49] - x[0]) / (49.0 * 2.0), 1e-12));
+    }
+
+    #[test]
+    fn outliers_by_scaled_mad() {
+        // y alternates ±1 around 10: median 10, median |y − m| = 1, scaled MAD
+        // 1.4826 (1/Φ⁻¹(3/4), analytic). 20 lies 10/1.4826 = 6.7 MADs away.
+        let mut y: Vec<f64> = (0..21)
+            .map(|i| 10.0 + if i % 2 == 0 { 1.0 } else { -1.0 })
+            .collect();
+        y[4] = 20.0;
+        y[9] = 10.0 - 6.0;
+        y[12] = f64::NAN;
+        let o = find_outliers_y(&y, 5.0).unwrap();
+        assert_eq!(o.median, 10.0);
+        assert!(close(o.mad, MAD_SCALE, 1e-12));
+        assert_eq!(o.indices, vec![4]);
+        assert_eq!(o.tested, 20);
+        let o3 = find_outliers_y(&y, 3.0).unwrap();
+        assert_eq!(o3.indices, vec![4, 9]);
+        assert!(find_outliers_y(&y, 0.0).is_err());
+        // Quantised data: MAD 0, fallback scale.
+        let mut q = vec![0.0; 100];
+        q[10] = 1.0;
+        q[20] = 50.0;
+        let o = find_outliers_y(&q, 5.0).unwrap();
+        assert!(o.mad_fallback);
+        assert_eq!(o.indices, vec![20]);
+    }
+
+    #[test]
+    fn outlier_replacement_in_phase() {
+        // A glitch at x_5 and a step between x_12 and x_13.
+        let mut r = Rng(9);
+        let mut x: Vec<f64> = (0..20)
+            .map(|i| i as f64 * 1e-9 + 1e-10 * r.next())
+            .collect();
+        x[5] += 1e-6;
+        for v in x.iter_mut().skip(13) {
+            *v += 1e-6;
+        }
+        let r = Record::Phase(PhaseRecord::new(x, 1.0).unwrap());
+        let o = find_outliers(&r, 5.0).unwrap();
+        assert_eq!(o.indices, vec![4, 5, 12]);
+        let rem = remove_outliers(&r, &o);
+        assert_eq!(rem.replaced, 1);
+        assert_eq!(rem.steps, vec![12]);
+        let xp = rem.record.to_phase().x;
+        assert!(xp[5].is_nan());
+        assert_eq!(rem.record.gaps(), 1);
+        // Frequency data: the outlying value itself.
+        let f = freq(vec![0.0, 1e-9, -1e-9, 1e-6, 0.0, 2e-9, -2e-9]);
+        let o = find_outliers(&f, 5.0).unwrap();
+        let rem = remove_outliers(&f, &o);
+        assert_eq!(rem.replaced, 1);
+        assert!(rem.record.to_frequency().y[3].is_nan());
+    }
+
+    #[test]
+    fn gap_filling_is_linear() {
+        let n = f64::NAN;
+        let r = Record::Phase(PhaseRecord::new(vec![n, 1.0, n, n, 4.0, 5.0, n], 1.0).unwrap());
+        let g = fill_gaps(&r);
+        let x = g.record.to_phase().x;
+        assert_eq!(&x[1..6], &[1.0, 2.0, 3.0, 4.0, 5.0]);
+        assert!(x[0].is_nan() && x[6].is_nan());
+        assert_eq!((g.filled, g.left), (2, 2));
+    }
+
+    #[test]
+    fn summary_of_constructed_record() {
+        // x = y0·t + D·t²/2: y_i = y0 + D·(i + ½)τ0 exactly (analytic).
+        let (y0, d, tau0) = (2e-9, 1e-14, 10.0);
+        let x: Vec<f64> = (0..1000)
+            .map(|i| {
+                let t = i as f64 * tau0;
+                y0 * t + d * t * t / 2.0
+            })
+            .collect();
+        let s = summarize(&Record::Phase(PhaseRecord::new(x, tau0).unwrap()), 5.0).unwrap();
+        assert_eq!((s.points, s.gaps), (1000, 0));
+        assert_eq!(s.span, 9990.0);
+        let mean = y0 + d * 999.0 * tau0 / 2.0;
+        assert!(close(s.frequency_offset.unwrap(), mean, 1e-9));
+        assert!(close(s.drift.unwrap().per_day(), d * 86400.0, 1e-6));
+    }
+
     #[test]
     fn decimation() {
         let r = Record::Phase(PhaseRecord::new((0..10).map(f64::from).collect(), 1.0).unwrap());
