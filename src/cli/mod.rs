@@ -4,6 +4,7 @@
 use clap::{Parser, Subcommand};
 
 pub mod common;
+pub mod simulate;
 
 /// Oscillator and clock stability analysis.
 #[derive(Debug, Parser)]
@@ -15,7 +16,10 @@ pub struct Cli {
 
 /// The subcommands (DESIGN.md §5).
 #[derive(Debug, Subcommand)]
-pub enum Command {}
+pub enum Command {
+    /// Synthetic power-law noise records (seeded).
+    Simulate(simulate::SimulateArgs),
+}
 
 /// What a subcommand returns to `main` when it did not fail.
 pub enum Outcome {
@@ -35,7 +39,9 @@ pub fn main() -> i32 {
             return code;
         }
     };
-    let result: Result<Outcome, tauwise::Error> = match cli.command {};
+    let result: Result<Outcome, tauwise::Error> = match cli.command {
+        Command::Simulate(a) => simulate::run(a),
+    };
     match result {
         Ok(Outcome::Done) => 0,
         Ok(Outcome::VerdictFailed) => 3,
