@@ -7,6 +7,7 @@ pub mod common;
 pub mod inspect;
 pub mod prepare;
 pub mod simulate;
+pub mod stability;
 
 /// Oscillator and clock stability analysis.
 #[derive(Debug, Parser)]
@@ -25,6 +26,8 @@ pub enum Command {
     Prepare(prepare::Args),
     /// Synthetic power-law noise records (seeded).
     Simulate(simulate::SimulateArgs),
+    /// σ(τ) curves with confidence intervals and noise type.
+    Stability(stability::Args),
 }
 
 /// What a subcommand returns to `main` when it did not fail.
@@ -49,6 +52,7 @@ pub fn main() -> i32 {
         Command::Inspect(a) => inspect::run(a),
         Command::Prepare(a) => prepare::run(a),
         Command::Simulate(a) => simulate::run(a),
+        Command::Stability(a) => stability::run(a),
     };
     match result {
         Ok(Outcome::Done) => 0,
