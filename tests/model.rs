@@ -158,11 +158,12 @@ fn normal_lstsq(a: &Array2<f64>, cols: &[usize], b: &Array1<f64>) -> Option<Vec<
         if g[c][c].abs() < 1e-14 {
             return None;
         }
-        for r in 0..k {
+        let pivot = g[c].clone();
+        for (r, row) in g.iter_mut().enumerate() {
             if r != c {
-                let f = g[r][c] / g[c][c];
-                for j in c..=k {
-                    g[r][j] -= f * g[c][j];
+                let f = row[c] / pivot[c];
+                for (v, p) in row[c..].iter_mut().zip(&pivot[c..]) {
+                    *v -= f * p;
                 }
             }
         }

@@ -332,10 +332,10 @@ fn dominant_ranges(
 ) -> Vec<Dominant> {
     let top = |t: f64| -> Option<i32> {
         let mut best: Option<(i32, f64)> = None;
-        for k in 0..5 {
-            if h[k] > 0.0 {
+        for (k, &hk) in h.iter().enumerate() {
+            if hk > 0.0 {
                 let a = k as i32 - 2;
-                let c = h[k] * unit(a, t);
+                let c = hk * unit(a, t);
                 match best {
                     Some((_, b)) if b >= c => {}
                     _ => best = Some((a, c)),
