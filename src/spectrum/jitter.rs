@@ -1,0 +1,1 @@
+//! Integrated phase jitter (being written).

@@ -1,0 +1,1 @@
+//! Welch PSD estimation of phase records (placeholder being written).
