@@ -13,7 +13,8 @@
 //!
 //! Gaps (NaN): segments are taken only from gap-free stretches; every
 //! stretch at least L long contributes its segments, so no segment ever
-//! touches a gap. The default L is the largest power of two not above a
+//! touches a gap. Bins inside the window's main lobe around DC are left
+//! out (see [`Window::main_lobe_bins`]). The default L is the largest power of two not above a
 //! quarter of the longest gap-free stretch (at least 16 samples), which gives
 //! about seven half-overlapping segments on a record without gaps.
 
@@ -59,6 +60,18 @@ impl Window {
         }
     }
 
+    /// Half-width of the main lobe in bins (2 for Hann, 1 rectangular, 4
+    /// Blackman–Harris). Bins closer to DC than this mix in the power near
+    /// f = 0 that detrending cannot remove, which biases steep (red)
+    /// spectra upward; [`welch`] leaves them out.
+    pub fn main_lobe_bins(self) -> usize {
+        match self {
+            Window::Hann => 2,
+            Window::Rectangular => 1,
+            Window::BlackmanHarris => 4,
+        }
+    }
+
     /// The L coefficients (periodic, "DFT-even" form).
     pub fn coefficients(self, l: usize) -> Vec<f64> {
         let t = |n: usize| 2.0 * PI * n as f64 / l as f64;
@@ -100,7 +113,8 @@ impl Default for WelchOptions {
 /// how it was made.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Welch {
-    /// DFT frequencies f_k = k/(Lτ0), k = 1 … L/2 − 1 (Hz).
+    /// DFT frequencies f_k = k/(Lτ0), k = k0 … L/2 − 1 (Hz), where k0 is the
+    /// window's main-lobe half-width [`Window::main_lobe_bins`].
     pub f: Vec<f64>,
     /// One-sided S_x(f_k) in s²/Hz.
     pub sx: Vec<f64>,
@@ -278,8 +292,9 @@ pub fn welch(rec: &PhaseRecord, opt: &WelchOptions) -> Result<Welch> {
     }
     let df = 1.0 / (l as f64 * rec.tau0);
     let scale = 2.0 * rec.tau0 / (sw2 * nseg);
-    let f: Vec<f64> = (1..half).map(|k| k as f64 * df).collect();
-    let sx: Vec<f64> = (1..half).map(|k| acc[k] * scale).collect();
+    let k0 = opt.window.main_lobe_bins().min(half.saturating_sub(2)).max(1);
+    let f: Vec<f64> = (k0..half).map(|k| k as f64 * df).collect();
+    let sx: Vec<f64> = (k0..half).map(|k| acc[k] * scale).collect();
     Ok(Welch {
         f,
         sx,
@@ -357,7 +372,8 @@ impl Welch {
 }
 
 /// The plain periodogram of one segment by the textbook DFT sum
-/// X_k = Σ w_n x_n e^{−2πikn/L} (O(L²)); for tests of [`welch`].
+/// X_k = Σ w_n x_n e^{−2πikn/L} (O(L²)), for k = 1 … L/2 − 1; for tests
+/// of [`welch`].
 pub fn periodogram_reference(x: &[f64], tau0: f64, window: Window) -> Vec<f64> {
     let l = x.len();
     let mut seg = x.to_vec();
@@ -406,7 +422,10 @@ mod tests {
             let w = welch(&rec, &opt).unwrap();
             assert_eq!(w.segments, 1);
             let r = periodogram_reference(&x, 0.01, win);
-            for (a, b) in w.sx.iter().zip(&r) {
+            let k0 = (w.f[0] / w.resolution_hz).round() as usize;
+            assert_eq!(k0, win.main_lobe_bins());
+            assert_eq!(w.sx.len(), r.len() - (k0 - 1));
+            for (a, b) in w.sx.iter().zip(&r[k0 - 1..]) {
                 assert!((a / b - 1.0).abs() < 1e-9, "{win:?}");
             }
         }
@@ -421,7 +440,7 @@ mod tests {
                 *m += v / 5.0;
             }
         }
-        for (a, b) in w.sx.iter().zip(&mean) {
+        for (a, b) in w.sx.iter().zip(&mean[1..]) {
             assert!((a / b - 1.0).abs() < 1e-9);
         }
     }
