@@ -4,9 +4,12 @@
 use clap::{Parser, Subcommand};
 
 pub mod common;
+pub mod convert;
 pub mod inspect;
+pub mod jitter;
 pub mod prepare;
 pub mod simulate;
+pub mod spectrum;
 
 /// Oscillator and clock stability analysis.
 #[derive(Debug, Parser)]
@@ -25,6 +28,12 @@ pub enum Command {
     Prepare(prepare::Args),
     /// Synthetic power-law noise records (seeded).
     Simulate(simulate::SimulateArgs),
+    /// PSD of a time record as L(f), S_φ, S_y, S_x (Welch's method).
+    Spectrum(spectrum::Args),
+    /// Convert between phase-noise tables, power-law models and σ(τ).
+    Convert(convert::Args),
+    /// Integrated phase jitter over offset bands, with optional weighting.
+    Jitter(jitter::Args),
 }
 
 /// What a subcommand returns to `main` when it did not fail.
@@ -49,6 +58,9 @@ pub fn main() -> i32 {
         Command::Inspect(a) => inspect::run(a),
         Command::Prepare(a) => prepare::run(a),
         Command::Simulate(a) => simulate::run(a),
+        Command::Spectrum(a) => spectrum::run(a),
+        Command::Convert(a) => convert::run(a),
+        Command::Jitter(a) => jitter::run(a),
     };
     match result {
         Ok(Outcome::Done) => 0,

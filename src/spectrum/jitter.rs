@@ -26,7 +26,7 @@
 //! extrapolation is allowed; then the end segments' power laws are continued
 //! and the extrapolated ranges are reported with the result.
 
-use super::loglog::{power_integral, Extend, LogLog};
+use super::loglog::{power_integral_from, Extend, LogLog};
 use super::quad::adaptive;
 use super::{Quantity, Spectrum};
 use crate::error::{Error, Result};
@@ -270,14 +270,15 @@ pub fn integrate_band(
     };
     let mut var = 0.0;
     for (a, b) in weighted.pieces(band.from, band.to) {
-        let (c, e) = weighted.law_at(0.5 * (a + b));
+        let (_, e) = weighted.law_at(0.5 * (a + b));
+        let va = weighted.value_on_piece(a, b, a);
         var += if setup.filters.is_empty() {
-            power_integral(c, e, a, b)
+            power_integral_from(va, a, e, b)
         } else {
-            // In u = ln f: ∫ c·e^{(e+1)u}·Π|H|² du, smooth on each piece.
+            // In u = ln f: ∫ v_a·(f/a)^e·f·Π|H|² du, smooth on each piece.
             let g = |u: f64| {
                 let f = u.exp();
-                c * f.powf(e + 1.0) * setup.filters.iter().map(|w| w.h2(f)).product::<f64>()
+                va * (f / a).powf(e) * f * setup.filters.iter().map(|w| w.h2(f)).product::<f64>()
             };
             adaptive(&g, a.ln(), b.ln(), 1e-10)
         };
@@ -287,7 +288,9 @@ pub fn integrate_band(
         .iter()
         .filter(|s| s.f >= band.from && s.f <= band.to)
         .collect();
-    let spur_var: f64 = inside.iter().map(|s| s.phase_power() * setup.weight(s.f)).sum();
+    let spur_var: f64 = inside
+        .iter()
+        .fold(0.0, |acc, s| acc + s.phase_power() * setup.weight(s.f));
     let rad = (var + spur_var).sqrt();
     let secs = rad / (2.0 * PI * nu0);
     Ok(BandJitter {

@@ -35,13 +35,21 @@ pub struct LogLog {
 
 /// ∫_a^b c·f^e df for 0 < a ≤ b, exact (module notes).
 pub fn power_integral(c: f64, e: f64, a: f64, b: f64) -> f64 {
+    power_integral_from(c * a.powf(e), a, e, b)
+}
+
+/// ∫_a^b v_a·(f/a)^e df for 0 < a ≤ b: the same integral written with the
+/// value v_a at the lower end, v_a·a·ln(b/a)·expm1(u)/u, u = (e+1)·ln(b/a).
+/// This form never forms c = v_a/a^e, which overflows for the steep
+/// exponents that neighbouring bins of a noisy spectrum can have.
+pub fn power_integral_from(v_a: f64, a: f64, e: f64, b: f64) -> f64 {
     if !(b > a) {
         return 0.0;
     }
     let l = (b / a).ln();
     let u = (e + 1.0) * l;
     let ratio = if u.abs() < 1e-12 { 1.0 } else { u.exp_m1() / u };
-    c * a.powf(e + 1.0) * l * ratio
+    v_a * a * l * ratio
 }
 
 impl LogLog {
@@ -153,10 +161,26 @@ impl LogLog {
         }
         let mut total = 0.0;
         for (x0, x1) in self.pieces(a, b) {
-            let (c, e) = self.law_at(0.5 * (x0 + x1));
-            total += power_integral(c, e + p, x0, x1);
+            let (_, e) = self.law_at(0.5 * (x0 + x1));
+            let v0 = self.value_on_piece(x0, x1, x0);
+            total += power_integral_from(v0 * x0.powf(p), x0, e + p, x1);
         }
         Ok(total)
+    }
+
+    /// The value at `x` along the power law of the piece [x0, x1] (which
+    /// lies inside one segment or one extension).
+    pub fn value_on_piece(&self, x0: f64, x1: f64, x: f64) -> f64 {
+        let n = self.f.len();
+        let mid = 0.5 * (x0 + x1);
+        let i = if mid <= self.f[0] {
+            0
+        } else if mid >= self.f[n - 1] {
+            n - 2
+        } else {
+            (self.f.partition_point(|&q| q <= mid) - 1).min(n - 2)
+        };
+        self.v[i] * (x / self.f[i]).powf(self.b[i])
     }
 
     /// [a, b] cut at the table's knots (and its ends), in increasing order.
