@@ -37,7 +37,11 @@ fn no_noise_is_the_closed_form() {
     let p = predict(&m, &s).unwrap();
     let end = p.te.last().unwrap();
     assert_eq!(end.t, DAY);
-    assert!((end.deterministic - 4.32e-6).abs() < 1e-15, "{}", end.deterministic);
+    assert!(
+        (end.deterministic - 4.32e-6).abs() < 1e-15,
+        "{}",
+        end.deterministic
+    );
     assert!((end.p95 - 4.32e-6).abs() < 1e-15);
     assert_eq!(p.verdict, Verdict::Pass);
     assert_eq!(p.holds_for, None);
@@ -67,7 +71,14 @@ fn no_noise_is_the_closed_form() {
     // Worst-case temperature adds |c·ΔT|·t with the sign of TE.
     let mut m2 = quiet(0.0, 1e-11, 0.0);
     m2.temp_worst = 5e-11;
-    let p = predict(&m2, &Settings { paths: 100, ..Settings::new(1000.0, 1.0) }).unwrap();
+    let p = predict(
+        &m2,
+        &Settings {
+            paths: 100,
+            ..Settings::new(1000.0, 1.0)
+        },
+    )
+    .unwrap();
     let end = p.te.last().unwrap();
     assert!((end.deterministic - 6e-11 * 1000.0).abs() < 1e-18);
     assert!((end.p95 - 6e-11 * 1000.0).abs() < 1e-18);
@@ -91,8 +102,17 @@ fn white_fm_random_walk() {
     let mut checked = 0;
     for pt in p.te.iter().filter(|pt| pt.t >= 1000.0) {
         let sigma = (h0 * pt.t / 2.0).sqrt();
-        assert!((pt.rms / sigma - 1.0).abs() < 0.05, "t = {}: rms {} vs {sigma}", pt.t, pt.rms);
-        assert!((pt.p95 / (1.96 * sigma) - 1.0).abs() < 0.05, "t = {}: p95", pt.t);
+        assert!(
+            (pt.rms / sigma - 1.0).abs() < 0.05,
+            "t = {}: rms {} vs {sigma}",
+            pt.t,
+            pt.rms
+        );
+        assert!(
+            (pt.p95 / (1.96 * sigma) - 1.0).abs() < 0.05,
+            "t = {}: p95",
+            pt.t
+        );
         checked += 1;
     }
     assert!(checked >= 10);
@@ -138,7 +158,11 @@ fn aging_recovered_from_a_record() {
     assert!((got / d - 1.0).abs() < 0.05, "{got} vs {d}");
     // y0 is the frequency at the end of the record: 2e-9 + d·span.
     let want_y0 = 2e-9 + d * n as f64 * tau0;
-    assert!((m.y0 - want_y0).abs() < 3.0 * m.y0_sigma + 1e-13, "{} vs {want_y0}", m.y0);
+    assert!(
+        (m.y0 - want_y0).abs() < 3.0 * m.y0_sigma + 1e-13,
+        "{} vs {want_y0}",
+        m.y0
+    );
     // The fitted noise is WFM-dominated near h0 = 1e-22.
     assert!((m.noise.get(0) / 1e-22 - 1.0).abs() < 0.3, "{:?}", m.noise);
     // A log model on the same record also gives a rate near D at the end.
@@ -157,11 +181,26 @@ fn aging_recovered_from_a_record() {
 #[test]
 fn bad_settings() {
     let m = quiet(0.0, 0.0, 0.0);
-    for (span, budget, word) in [(0.0, 1e-6, "span"), (-5.0, 1e-6, "span"), (10.0, 0.0, "budget"), (10.0, -1.0, "budget")] {
-        let e = predict(&m, &Settings::new(span, budget)).unwrap_err().to_string();
+    for (span, budget, word) in [
+        (0.0, 1e-6, "span"),
+        (-5.0, 1e-6, "span"),
+        (10.0, 0.0, "budget"),
+        (10.0, -1.0, "budget"),
+    ] {
+        let e = predict(&m, &Settings::new(span, budget))
+            .unwrap_err()
+            .to_string();
         assert!(e.contains(word), "{e}");
     }
-    let e = predict(&m, &Settings { paths: 3, ..Settings::new(10.0, 1.0) }).unwrap_err().to_string();
+    let e = predict(
+        &m,
+        &Settings {
+            paths: 3,
+            ..Settings::new(10.0, 1.0)
+        },
+    )
+    .unwrap_err()
+    .to_string();
     assert!(e.contains("paths"), "{e}");
     let rec = Record::Frequency(FrequencyRecord::new(vec![0.0; 10], 1.0).unwrap());
     assert!(model_from_record(&rec, &FromRecord::default()).is_err());

@@ -3,10 +3,11 @@
 use rand::{Rng, SeedableRng};
 use rand_chacha::ChaCha8Rng;
 use std::path::Path;
+use tauwise::deviation::{compute, reference, Estimate, Estimator};
 use tauwise::wander::check::Verdict;
 use tauwise::wander::mask_file::{parse_mask_file, write_mask_file};
 use tauwise::wander::masks::{builtin, Mask, Metric, Shape, BUILTIN_NAMES, FROM_MEMORY_NOTE};
-use tauwise::wander::{analyse, log_grid, mtie, tdev, tie};
+use tauwise::wander::{analyse, log_grid, tie};
 use tauwise::PhaseRecord;
 
 fn random_walk(n: usize, seed: u64, gaps: &[usize]) -> PhaseRecord {
@@ -23,15 +24,24 @@ fn random_walk(n: usize, seed: u64, gaps: &[usize]) -> PhaseRecord {
     PhaseRecord::new(x, 0.25).unwrap()
 }
 
-/// Fast MTIE = direct window scan (ITU-T G.810 definition) on random data,
+/// Fast MTIE = direct window scan (ITU-T G.810 definition; deviation::reference) on random data,
 /// many window lengths, with and without gaps.
 #[test]
 fn mtie_fast_equals_direct_scan() {
-    let ms: Vec<usize> = (1..=64).chain([65, 100, 127, 128, 129, 255, 256, 257, 500, 999, 1500, 1999]).collect();
-    for (seed, gaps) in [(1u64, vec![]), (2, vec![3, 400, 401, 402, 1500]), (3, vec![0, 1999])] {
+    let ms: Vec<usize> = (1..=64)
+        .chain([65, 100, 127, 128, 129, 255, 256, 257, 500, 999, 1500, 1999])
+        .collect();
+    for (seed, gaps) in [
+        (1u64, vec![]),
+        (2, vec![3, 400, 401, 402, 1500]),
+        (3, vec![0, 1999]),
+    ] {
         let r = random_walk(2000, seed, &gaps);
-        let fast = mtie::mtie(&r, &ms);
-        let direct = mtie::mtie_direct(&r, &ms);
+        let fast = compute(Estimator::Mtie, &r, &ms);
+        let direct: Vec<Estimate> = ms
+            .iter()
+            .filter_map(|&m| reference::mtie(&r.x, r.tau0, m))
+            .collect();
         assert_eq!(fast.len(), direct.len());
         for (a, b) in fast.iter().zip(&direct) {
             assert_eq!((a.m, a.terms), (b.m, b.terms));
@@ -40,7 +50,7 @@ fn mtie_fast_equals_direct_scan() {
     }
 }
 
-/// Fast TDEV = the double sum of NIST SP 1065 eq. 17 on random data with
+/// Fast TDEV = the textbook sum of NIST SP 1065 (deviation::reference) on random data with
 /// gaps, and with a large phase offset and frequency drift added.
 #[test]
 fn tdev_fast_equals_double_sum() {
@@ -51,8 +61,11 @@ fn tdev_fast_equals_double_sum() {
             let t = i as f64 * 0.25;
             *v += 3.0 + 1e-6 * t + 1e-9 * t * t;
         }
-        let fast = tdev::tdev(&r, &ms);
-        let direct = tdev::tdev_direct(&r, &ms);
+        let fast = compute(Estimator::Tdev, &r, &ms);
+        let direct: Vec<Estimate> = ms
+            .iter()
+            .filter_map(|&m| reference::tdev(&r.x, r.tau0, m))
+            .collect();
         assert_eq!(fast.len(), direct.len());
         for (a, b) in fast.iter().zip(&direct) {
             assert_eq!((a.m, a.terms), (b.m, b.terms));
@@ -70,15 +83,16 @@ fn tdev_fast_equals_double_sum() {
 /// NIST SP 1065 nine-point set (CHECKS.md A, from memory): TDEV(τ0) = 52.67135.
 #[test]
 fn tdev_nine_point_set() {
-    let y = [892.0, 809.0, 823.0, 798.0, 671.0, 644.0, 883.0, 903.0, 677.0];
+    let y = [
+        892.0, 809.0, 823.0, 798.0, 671.0, 644.0, 883.0, 903.0, 677.0,
+    ];
     let mut x = vec![0.0];
     for v in y {
         x.push(x.last().unwrap() + v);
     }
     let r = PhaseRecord::new(x, 1.0).unwrap();
-    let e = tdev::tdev(&r, &[1]);
+    let e = compute(Estimator::Tdev, &r, &[1]);
     assert!((e[0].value - 52.67135).abs() < 5e-5, "{}", e[0].value);
-    assert_eq!(tdev::tdev_direct(&r, &[1])[0].value, e[0].value);
 }
 
 /// CHECKS.md F (analytic): a phase ramp x = y0·t has MTIE(τ) = y0·τ; a
@@ -88,8 +102,12 @@ fn mtie_ramp_and_sinusoid() {
     let y0 = 2.5e-8;
     let tau0 = 0.5;
     let ramp = PhaseRecord::new((0..5000).map(|i| y0 * i as f64 * tau0).collect(), tau0).unwrap();
-    for e in mtie::mtie(&ramp, &[1, 7, 100, 4999]) {
-        assert!((e.value - y0 * e.tau).abs() < 1e-12 * y0 * e.tau, "τ = {}", e.tau);
+    for e in compute(Estimator::Mtie, &ramp, &[1, 7, 100, 4999]) {
+        assert!(
+            (e.value - y0 * e.tau).abs() < 1e-12 * y0 * e.tau,
+            "τ = {}",
+            e.tau
+        );
     }
     let (a, p) = (40e-9, 100usize); // P = 100 samples; samples hit ±A exactly
     let sine = PhaseRecord::new(
@@ -99,11 +117,11 @@ fn mtie_ramp_and_sinusoid() {
         1.0,
     )
     .unwrap();
-    for e in mtie::mtie(&sine, &[50, 51, 80, 100, 1000]) {
+    for e in compute(Estimator::Mtie, &sine, &[50, 51, 80, 100, 1000]) {
         assert!((e.value - 2.0 * a).abs() < 1e-12 * a, "τ = {}", e.tau);
     }
     // Below P/2 the window cannot hold both extremes: MTIE < 2A.
-    let short = mtie::mtie(&sine, &[10]);
+    let short = compute(Estimator::Mtie, &sine, &[10]);
     assert!(short[0].value < 2.0 * a * 0.9);
 }
 
@@ -122,73 +140,103 @@ fn builtin_masks_equal_the_recalled_tables() {
     type F = fn(f64) -> Option<f64>;
     let cases: Vec<(&str, Metric, F, Vec<f64>)> = vec![
         // G.811 MTIE, from memory
-        ("g811", Metric::Mtie, |t| {
-            if t > 0.1 && t <= 1000.0 {
-                Some((0.275e-3 * t + 0.025) * 1e-6)
-            } else if t > 1000.0 {
-                Some((1e-5 * t + 0.29) * 1e-6)
-            } else {
-                None
-            }
-        }, vec![0.1, 1.0, 1000.0, 1e5]),
+        (
+            "g811",
+            Metric::Mtie,
+            |t| {
+                if t > 0.1 && t <= 1000.0 {
+                    Some((0.275e-3 * t + 0.025) * 1e-6)
+                } else if t > 1000.0 {
+                    Some((1e-5 * t + 0.29) * 1e-6)
+                } else {
+                    None
+                }
+            },
+            vec![0.1, 1.0, 1000.0, 1e5],
+        ),
         // G.811 TDEV, from memory
-        ("g811", Metric::Tdev, |t| {
-            if t > 0.1 && t <= 100.0 {
-                Some(3e-9)
-            } else if t > 100.0 && t <= 1000.0 {
-                Some(0.03 * t * 1e-9)
-            } else if t > 1000.0 && t <= 10000.0 {
-                Some(30e-9)
-            } else {
-                None
-            }
-        }, vec![0.1, 100.0, 1000.0, 10000.0]),
+        (
+            "g811",
+            Metric::Tdev,
+            |t| {
+                if t > 0.1 && t <= 100.0 {
+                    Some(3e-9)
+                } else if t > 100.0 && t <= 1000.0 {
+                    Some(0.03 * t * 1e-9)
+                } else if t > 1000.0 && t <= 10000.0 {
+                    Some(30e-9)
+                } else {
+                    None
+                }
+            },
+            vec![0.1, 100.0, 1000.0, 10000.0],
+        ),
         // G.8272 PRTC-A MTIE, from memory
-        ("g8272-prtc-a", Metric::Mtie, |t| {
-            if t > 0.1 && t <= 273.0 {
-                Some((0.275e-3 * t + 0.025) * 1e-6)
-            } else if t > 273.0 {
-                Some(0.10e-6)
-            } else {
-                None
-            }
-        }, vec![0.1, 273.0, 1e4]),
+        (
+            "g8272-prtc-a",
+            Metric::Mtie,
+            |t| {
+                if t > 0.1 && t <= 273.0 {
+                    Some((0.275e-3 * t + 0.025) * 1e-6)
+                } else if t > 273.0 {
+                    Some(0.10e-6)
+                } else {
+                    None
+                }
+            },
+            vec![0.1, 273.0, 1e4],
+        ),
         // G.8272 PRTC-A TDEV = G.811 TDEV, from memory
-        ("g8272-prtc-a", Metric::Tdev, |t| {
-            if t > 0.1 && t <= 100.0 {
-                Some(3e-9)
-            } else if t > 100.0 && t <= 1000.0 {
-                Some(0.03 * t * 1e-9)
-            } else if t > 1000.0 && t <= 10000.0 {
-                Some(30e-9)
-            } else {
-                None
-            }
-        }, vec![0.1, 100.0, 1000.0, 10000.0]),
+        (
+            "g8272-prtc-a",
+            Metric::Tdev,
+            |t| {
+                if t > 0.1 && t <= 100.0 {
+                    Some(3e-9)
+                } else if t > 100.0 && t <= 1000.0 {
+                    Some(0.03 * t * 1e-9)
+                } else if t > 1000.0 && t <= 10000.0 {
+                    Some(30e-9)
+                } else {
+                    None
+                }
+            },
+            vec![0.1, 100.0, 1000.0, 10000.0],
+        ),
         // G.8262 option 1 MTIE, from memory
-        ("g8262-opt1", Metric::Mtie, |t| {
-            if t > 0.1 && t <= 1.0 {
-                Some(40e-9)
-            } else if t > 1.0 && t <= 100.0 {
-                Some(40.0 * t.powf(0.1) * 1e-9)
-            } else if t > 100.0 && t <= 1000.0 {
-                Some(25.25 * t.powf(0.2) * 1e-9)
-            } else {
-                None
-            }
-        }, vec![0.1, 1.0, 100.0, 1000.0]),
+        (
+            "g8262-opt1",
+            Metric::Mtie,
+            |t| {
+                if t > 0.1 && t <= 1.0 {
+                    Some(40e-9)
+                } else if t > 1.0 && t <= 100.0 {
+                    Some(40.0 * t.powf(0.1) * 1e-9)
+                } else if t > 100.0 && t <= 1000.0 {
+                    Some(25.25 * t.powf(0.2) * 1e-9)
+                } else {
+                    None
+                }
+            },
+            vec![0.1, 1.0, 100.0, 1000.0],
+        ),
         // G.8262 option 1 TDEV, from memory
-        ("g8262-opt1", Metric::Tdev, |t| {
-            if t > 0.1 && t <= 25.0 {
-                Some(3.2e-9)
-            } else if t > 25.0 && t <= 100.0 {
-                Some(0.64 * t.sqrt() * 1e-9)
-            } else if t > 100.0 && t <= 1000.0 {
-                Some(6.4e-9)
-            } else {
-                None
-            }
-        }, vec![0.1, 25.0, 100.0, 1000.0]),
+        (
+            "g8262-opt1",
+            Metric::Tdev,
+            |t| {
+                if t > 0.1 && t <= 25.0 {
+                    Some(3.2e-9)
+                } else if t > 25.0 && t <= 100.0 {
+                    Some(0.64 * t.sqrt() * 1e-9)
+                } else if t > 100.0 && t <= 1000.0 {
+                    Some(6.4e-9)
+                } else {
+                    None
+                }
+            },
+            vec![0.1, 25.0, 100.0, 1000.0],
+        ),
     ];
     for (name, metric, want, breaks) in cases {
         let m = mask(name, metric);
@@ -196,13 +244,23 @@ fn builtin_masks_equal_the_recalled_tables() {
         let mut taus: Vec<f64> = Vec::new();
         for w in breaks.windows(2) {
             // at, just around, and between breakpoints
-            taus.extend([w[0], w[0] * 1.0001, (w[0] * w[1]).sqrt(), w[1] * 0.9999, w[1], w[1] * 1.0001]);
+            taus.extend([
+                w[0],
+                w[0] * 1.0001,
+                (w[0] * w[1]).sqrt(),
+                w[1] * 0.9999,
+                w[1],
+                w[1] * 1.0001,
+            ]);
         }
         taus.extend([0.05, 0.1, 1e6]);
         for t in taus {
             let (got, exp) = (m.limit(t), want(t));
             match (got, exp) {
-                (Some(g), Some(e)) => assert!((g - e).abs() <= 1e-12 * e, "{name} {metric:?} τ={t}: {g} vs {e}"),
+                (Some(g), Some(e)) => assert!(
+                    (g - e).abs() <= 1e-12 * e,
+                    "{name} {metric:?} τ={t}: {g} vs {e}"
+                ),
                 (None, None) => {}
                 _ => panic!("{name} {metric:?} τ={t}: {got:?} vs {exp:?}"),
             }
@@ -218,15 +276,23 @@ fn ramp_fails_the_mask_at_the_analytic_tau() {
     let y0 = 2e-8;
     let tau0 = 0.125;
     let n = 20_001;
-    let rec = PhaseRecord::new((0..n).map(|i| 1e-6 + y0 * i as f64 * tau0).collect(), tau0).unwrap();
+    let rec =
+        PhaseRecord::new((0..n).map(|i| 1e-6 + y0 * i as f64 * tau0).collect(), tau0).unwrap();
     let masks = builtin("g8262-opt1").unwrap();
     let ms = log_grid(n, 10);
     let res = analyse(&rec, &ms, false, &masks).unwrap();
-    let c = res.checks.iter().find(|c| c.metric == Metric::Mtie).unwrap();
+    let c = res
+        .checks
+        .iter()
+        .find(|c| c.metric == Metric::Mtie)
+        .unwrap();
     assert_eq!(c.verdict, Verdict::Fail);
     let tau_star = (40e-9 / y0).powf(1.0 / 0.9); // analytic
     let got = c.crossing_tau.unwrap();
-    assert!((got - tau_star).abs() < 1e-9 * tau_star, "{got} vs {tau_star}");
+    assert!(
+        (got - tau_star).abs() < 1e-9 * tau_star,
+        "{got} vs {tau_star}"
+    );
     // Every measured τ above τ* violates, none below.
     for e in &res.mtie {
         if e.tau <= 0.1 || e.tau > 1000.0 {
@@ -287,8 +353,15 @@ fn mask_file_round_trip() {
     // Formula masks have no row form.
     assert!(write_mask_file(&builtin("g811").unwrap()).is_err());
     // The file in docs/ parses.
-    let doc = std::fs::read_to_string(concat!(env!("CARGO_MANIFEST_DIR"), "/docs/mask-file.md")).unwrap();
-    let block = doc.split("```text").nth(1).unwrap().split("```").next().unwrap();
+    let doc =
+        std::fs::read_to_string(concat!(env!("CARGO_MANIFEST_DIR"), "/docs/mask-file.md")).unwrap();
+    let block = doc
+        .split("```text")
+        .nth(1)
+        .unwrap()
+        .split("```")
+        .next()
+        .unwrap();
     assert_eq!(parse_mask_file(block, p).unwrap().len(), 2);
 }
 
@@ -318,7 +391,10 @@ fn bad_masks() {
         assert!(e.starts_with(&format!("my.mask:{line}:")), "{text:?}: {e}");
         assert!(e.contains(word), "{text:?}: {e}");
     }
-    assert!(parse_mask_file("# nothing\n", p).unwrap_err().to_string().contains("no [mtie]"));
+    assert!(parse_mask_file("# nothing\n", p)
+        .unwrap_err()
+        .to_string()
+        .contains("no [mtie]"));
 }
 
 /// TIE statistics of a ramp plus a constant (analytic): TIE_i = y0·t_i.

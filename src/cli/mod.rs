@@ -4,9 +4,11 @@
 use clap::{Parser, Subcommand};
 
 pub mod common;
+pub mod holdover;
 pub mod inspect;
 pub mod prepare;
 pub mod simulate;
+pub mod wander;
 
 /// Oscillator and clock stability analysis.
 #[derive(Debug, Parser)]
@@ -25,6 +27,10 @@ pub enum Command {
     Prepare(prepare::Args),
     /// Synthetic power-law noise records (seeded).
     Simulate(simulate::SimulateArgs),
+    /// MTIE, TDEV and TIE statistics against wander masks.
+    Wander(wander::Args),
+    /// Time error predicted over a holdover span, against a budget.
+    Holdover(holdover::Args),
 }
 
 /// What a subcommand returns to `main` when it did not fail.
@@ -49,6 +55,8 @@ pub fn main() -> i32 {
         Command::Inspect(a) => inspect::run(a),
         Command::Prepare(a) => prepare::run(a),
         Command::Simulate(a) => simulate::run(a),
+        Command::Wander(a) => wander::run(a),
+        Command::Holdover(a) => holdover::run(a),
     };
     match result {
         Ok(Outcome::Done) => 0,

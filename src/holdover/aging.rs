@@ -228,8 +228,8 @@ pub fn fit_log(rec: &FrequencyRecord) -> Result<Aging> {
             a = c1;
         }
     }
-    let (_, c, a_coef, a_sigma, tc) =
-        fit_at(0.5 * (a + b)).ok_or_else(|| Error::insufficient("the logarithmic aging fit failed"))?;
+    let (_, c, a_coef, a_sigma, tc) = fit_at(0.5 * (a + b))
+        .ok_or_else(|| Error::insufficient("the logarithmic aging fit failed"))?;
     Ok(Aging::Log {
         c,
         a: a_coef,

@@ -229,22 +229,20 @@ pub fn predict_with(
     let (sy0, sd) = (model.y0_sigma.abs(), model.aging.sigma().abs());
     // te[p*n + (k−1)] = signed TE of path p at step k (k = 1 … n).
     let mut te = vec![0.0f64; np * n];
-    te.par_chunks_mut(n)
-        .enumerate()
-        .for_each_init(
-            || vec![0.0f64; n + 1],
-            |x, (p, row)| {
-                let mut rng = ChaCha8Rng::seed_from_u64(settings.seed);
-                rng.set_stream(p as u64);
-                gen.fill(&mut rng, x);
-                let dy: f64 = sy0 * rng.sample::<f64, _>(StandardNormal);
-                let dd: f64 = sd * rng.sample::<f64, _>(StandardNormal);
-                for k in 1..=n {
-                    let t = k as f64 * step;
-                    row[k - 1] = base[k] + dy * t + dd * unit[k] + x[k];
-                }
-            },
-        );
+    te.par_chunks_mut(n).enumerate().for_each_init(
+        || vec![0.0f64; n + 1],
+        |x, (p, row)| {
+            let mut rng = ChaCha8Rng::seed_from_u64(settings.seed);
+            rng.set_stream(p as u64);
+            gen.fill(&mut rng, x);
+            let dy: f64 = sy0 * rng.sample::<f64, _>(StandardNormal);
+            let dd: f64 = sd * rng.sample::<f64, _>(StandardNormal);
+            for k in 1..=n {
+                let t = k as f64 * step;
+                row[k - 1] = base[k] + dy * t + dd * unit[k] + x[k];
+            }
+        },
+    );
     let temp = model.temp_worst.abs();
     let abs_at = |k: usize, buf: &mut Vec<f64>| {
         let t = k as f64 * step;
@@ -394,8 +392,7 @@ pub fn model_from_record(rec: &Record, opts: &FromRecord) -> Result<HoldoverMode
         },
     };
     let residual = crate::record::FrequencyRecord {
-        y: y
-            .y
+        y: y.y
             .iter()
             .enumerate()
             .map(|(i, &v)| v - aging.y((i as f64 + 0.5) * tau0))

@@ -46,12 +46,14 @@ fn solve(mut a: Vec<Vec<f64>>, mut b: Vec<f64>) -> Option<Vec<f64>> {
         }
         a.swap(col, piv);
         b.swap(col, piv);
-        for r in col + 1..n {
-            let f = a[r][col] / a[col][col];
-            for c in col..n {
-                a[r][c] -= f * a[col][c];
+        let (top, bottom) = a.split_at_mut(col + 1);
+        let pivot_row = &top[col];
+        for (k, row) in bottom.iter_mut().enumerate() {
+            let f = row[col] / pivot_row[col];
+            for (v, p) in row[col..].iter_mut().zip(&pivot_row[col..]) {
+                *v -= f * p;
             }
-            b[r] -= f * b[col];
+            b[col + 1 + k] -= f * b[col];
         }
     }
     let mut h = vec![0.0; n];
@@ -118,7 +120,7 @@ pub fn fit_noise(rec: &PhaseRecord, f_h: f64) -> Result<PowerLaw> {
             }
         }
         let Some(h) = solve(ata, atb) else { continue };
-        if h.iter().any(|&v| !(v > 0.0)) {
+        if h.iter().any(|&v| v.is_nan() || v <= 0.0) {
             continue;
         }
         let mut model = PowerLaw::zero(f_h);

@@ -63,7 +63,10 @@ pub fn parse_mask_file(text: &str, path: &Path) -> Result<Vec<Mask>> {
         }
         if let Some(head) = line.strip_prefix('[') {
             let head = head.strip_suffix(']').ok_or_else(|| {
-                at(ln, format!("section header '{line}' is not closed: expected [mtie] or [tdev]"))
+                at(
+                    ln,
+                    format!("section header '{line}' is not closed: expected [mtie] or [tdev]"),
+                )
             })?;
             let metric = match head.trim().to_ascii_lowercase().as_str() {
                 "mtie" => Metric::Mtie,
@@ -190,7 +193,9 @@ pub fn parse_mask_file(text: &str, path: &Path) -> Result<Vec<Mask>> {
         }
     }
     if sections.is_empty() {
-        return Err(ReadError::file(path, "no [mtie] or [tdev] section: expected at least one").into());
+        return Err(
+            ReadError::file(path, "no [mtie] or [tdev] section: expected at least one").into(),
+        );
     }
     let name = name.unwrap_or_else(|| {
         path.file_stem()
@@ -201,7 +206,13 @@ pub fn parse_mask_file(text: &str, path: &Path) -> Result<Vec<Mask>> {
     let mut out = Vec::new();
     for sec in sections {
         let (is_step, _) = sec.shape.ok_or_else(|| {
-            at(sec.line, format!("section [{}] declares no shape: expected 'shape step' or 'shape loglog'", sec.metric.name()))
+            at(
+                sec.line,
+                format!(
+                    "section [{}] declares no shape: expected 'shape step' or 'shape loglog'",
+                    sec.metric.name()
+                ),
+            )
         })?;
         let need = if is_step { 1 } else { 2 };
         if sec.rows.len() < need {

@@ -245,9 +245,9 @@ pub fn builtin(name: &str) -> Result<Vec<Mask>> {
         ),
         _ => {
             return Err(Error::invalid(format!(
-                "unknown mask '{name}': the built-in masks are {} (or give your own with --mask-file)",
-                BUILTIN_NAMES.join(", ")
-            )))
+            "unknown mask '{name}': the built-in masks are {} (or give your own with --mask-file)",
+            BUILTIN_NAMES.join(", ")
+        )))
         }
     };
     let note = format!("{title}: {FROM_MEMORY_NOTE}");

@@ -2,8 +2,10 @@
 //! against network masks.
 //!
 //! - [`tie`] — max |TIE|, peak-to-peak, rms; constant-frequency-offset removal.
-//! - [`mtie`] — MTIE (ITU-T G.810), fast doubling method and direct scan.
-//! - [`tdev`] — TDEV (ITU-T G.810, NIST SP 1065), running sums and direct sum.
+//! - MTIE and TDEV come from the estimator registry
+//!   ([`crate::deviation::Estimator::Mtie`], [`crate::deviation::Estimator::Tdev`],
+//!   ITU-T G.810 / NIST SP 1065), which holds their fast forms and the direct
+//!   references they are tested against.
 //! - [`masks`] — built-in ITU-T masks (values recalled from memory) and the
 //!   mask type; [`mask_file`] — user masks in tauwise's own text format.
 //! - [`check`] — a measured curve against a mask: verdict, worst margin,
@@ -14,11 +16,9 @@
 pub mod check;
 pub mod mask_file;
 pub mod masks;
-pub mod mtie;
-pub mod tdev;
 pub mod tie;
 
-use crate::deviation::Estimate;
+use crate::deviation::{compute, Estimate, Estimator};
 use crate::error::{Error, Result};
 use crate::record::PhaseRecord;
 use check::MaskCheck;
@@ -92,9 +92,10 @@ pub fn analyse(
     if ms.is_empty() {
         return Err(Error::invalid("wander needs at least one τ"));
     }
-    let mtie = mtie::mtie(rec, ms);
-    let tdev = tdev::tdev(rec, ms);
-    let curve = |e: &[Estimate]| -> Vec<(f64, f64)> { e.iter().map(|p| (p.tau, p.value)).collect() };
+    let mtie = compute(Estimator::Mtie, rec, ms);
+    let tdev = compute(Estimator::Tdev, rec, ms);
+    let curve =
+        |e: &[Estimate]| -> Vec<(f64, f64)> { e.iter().map(|p| (p.tau, p.value)).collect() };
     let (mc, tc) = (curve(&mtie), curve(&tdev));
     let checks = masks
         .iter()
