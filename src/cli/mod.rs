@@ -5,12 +5,14 @@ use clap::{Parser, Subcommand};
 
 pub mod common;
 pub mod convert;
+pub mod holdover;
 pub mod inspect;
 pub mod jitter;
 pub mod prepare;
 pub mod simulate;
 pub mod stability;
 pub mod spectrum;
+pub mod wander;
 
 /// Oscillator and clock stability analysis.
 #[derive(Debug, Parser)]
@@ -37,6 +39,10 @@ pub enum Command {
     Convert(convert::Args),
     /// Integrated phase jitter over offset bands, with optional weighting.
     Jitter(jitter::Args),
+    /// MTIE, TDEV and TIE statistics against wander masks.
+    Wander(wander::Args),
+    /// Time error predicted over a holdover span, against a budget.
+    Holdover(holdover::Args),
 }
 
 /// What a subcommand returns to `main` when it did not fail.
@@ -65,6 +71,8 @@ pub fn main() -> i32 {
         Command::Spectrum(a) => spectrum::run(a),
         Command::Convert(a) => convert::run(a),
         Command::Jitter(a) => jitter::run(a),
+        Command::Wander(a) => wander::run(a),
+        Command::Holdover(a) => holdover::run(a),
     };
     match result {
         Ok(Outcome::Done) => 0,
