@@ -22,6 +22,7 @@ use std::ops::RangeInclusive;
 pub mod bias;
 pub mod closed_form;
 pub mod edf;
+pub mod gacv;
 pub mod interval;
 pub mod noise_id;
 
