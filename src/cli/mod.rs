@@ -4,6 +4,15 @@
 use clap::{Parser, Subcommand};
 
 pub mod common;
+pub mod convert;
+pub mod holdover;
+pub mod inspect;
+pub mod jitter;
+pub mod prepare;
+pub mod simulate;
+pub mod stability;
+pub mod spectrum;
+pub mod wander;
 
 /// Oscillator and clock stability analysis.
 #[derive(Debug, Parser)]
@@ -15,7 +24,26 @@ pub struct Cli {
 
 /// The subcommands (DESIGN.md §5).
 #[derive(Debug, Subcommand)]
-pub enum Command {}
+pub enum Command {
+    /// Summarise a record: points, span, τ0, gaps, offset, drift, outliers.
+    Inspect(inspect::Args),
+    /// Write a cleaned copy of a record (drift, outliers, gaps, decimation).
+    Prepare(prepare::Args),
+    /// Synthetic power-law noise records (seeded).
+    Simulate(simulate::SimulateArgs),
+    /// σ(τ) curves with confidence intervals and noise type.
+    Stability(stability::Args),
+    /// PSD of a time record as L(f), S_φ, S_y, S_x (Welch's method).
+    Spectrum(spectrum::Args),
+    /// Convert between phase-noise tables, power-law models and σ(τ).
+    Convert(convert::Args),
+    /// Integrated phase jitter over offset bands, with optional weighting.
+    Jitter(jitter::Args),
+    /// MTIE, TDEV and TIE statistics against wander masks.
+    Wander(wander::Args),
+    /// Time error predicted over a holdover span, against a budget.
+    Holdover(holdover::Args),
+}
 
 /// What a subcommand returns to `main` when it did not fail.
 pub enum Outcome {
@@ -35,7 +63,17 @@ pub fn main() -> i32 {
             return code;
         }
     };
-    let result: Result<Outcome, tauwise::Error> = match cli.command {};
+    let result: Result<Outcome, tauwise::Error> = match cli.command {
+        Command::Inspect(a) => inspect::run(a),
+        Command::Prepare(a) => prepare::run(a),
+        Command::Simulate(a) => simulate::run(a),
+        Command::Stability(a) => stability::run(a),
+        Command::Spectrum(a) => spectrum::run(a),
+        Command::Convert(a) => convert::run(a),
+        Command::Jitter(a) => jitter::run(a),
+        Command::Wander(a) => wander::run(a),
+        Command::Holdover(a) => holdover::run(a),
+    };
     match result {
         Ok(Outcome::Done) => 0,
         Ok(Outcome::VerdictFailed) => 3,
