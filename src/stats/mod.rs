@@ -13,12 +13,16 @@
 //!   series.
 //! - [`bias`] — the theoretical B1(N, μ) and R(n) ratios the fallback compares
 //!   against.
+//! - [`gacv`] — the autocovariance kernels of the EDF sums.
+//! - [`annotate`] — estimates of one estimator → points with noise type, EDF
+//!   and interval.
 //!
 //! The statistics layer names the variance it works on with its own
 //! [`VarianceKind`], so that it does not depend on the estimator registry.
 
 use std::ops::RangeInclusive;
 
+pub mod annotate;
 pub mod bias;
 pub mod closed_form;
 pub mod edf;
@@ -26,6 +30,7 @@ pub mod gacv;
 pub mod interval;
 pub mod noise_id;
 
+pub use annotate::{annotate, StatsOptions};
 pub use edf::{edf, totvar_bias};
 pub use interval::{interval, DEFAULT_CONFIDENCE};
 pub use noise_id::{identify, IdMethod, NoiseId};
@@ -120,6 +125,31 @@ impl VarianceKind {
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::deviation::{compute, Estimator};
+    use crate::record::PhaseRecord;
+
+    /// On a gap-free record the term count inverts to a record length with
+    /// the same EDF (the record length itself where the count is one-to-one).
+    #[test]
+    fn equivalent_points_invert_term_counts() {
+        let n = 1000;
+        let x: Vec<f64> = (0..n).map(|i| ((i * 7919) % 101) as f64 * 1e-9).collect();
+        let rec = PhaseRecord::new(x, 1.0).unwrap();
+        for &est in Estimator::ALL {
+            let Some(kind) = VarianceKind::of_estimator(est) else {
+                continue;
+            };
+            for e in compute(est, &rec, &[1, 2, 3, 7, 50, 100]) {
+                let n_eff = kind.equivalent_points(e.m, e.terms);
+                if kind.is_overlapping() {
+                    assert_eq!(n_eff, n, "{est} m={}", e.m);
+                }
+                for alpha in kind.alpha_range() {
+                    assert_eq!(edf(kind, alpha, e.m, n_eff), edf(kind, alpha, e.m, n));
+                }
+            }
+        }
+    }
 
     #[test]
     fn parameters() {
