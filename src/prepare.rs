@@ -116,10 +116,11 @@ fn solve<const N: usize>(mut a: [[f64; N]; N], mut b: [f64; N]) -> Option<[f64; 
         }
         a.swap(col, piv);
         b.swap(col, piv);
+        let pivot_row = a[col];
         for row in col + 1..N {
-            let f = a[row][col] / a[col][col];
-            for k in col..N {
-                a[row][k] -= f * a[col][k];
+            let f = a[row][col] / pivot_row[col];
+            for (v, p) in a[row].iter_mut().zip(&pivot_row).skip(col) {
+                *v -= f * p;
             }
             b[row] -= f * b[col];
         }

@@ -301,12 +301,12 @@ fn steps(dt: f64, tau0: f64) -> Result<u64, String> {
 
 /// Pull the value and time fields of one line.
 #[inline]
-fn pick<'a>(
+fn pick(
     delim: Delimiter,
-    line: &'a str,
+    line: &str,
     value_col: usize,
     time_col: Option<usize>,
-) -> (Option<&'a str>, Option<&'a str>, usize) {
+) -> (Option<&str>, Option<&str>, usize) {
     let need = value_col.max(time_col.unwrap_or(0));
     let mut value = None;
     let mut time = None;
@@ -478,7 +478,7 @@ pub fn read_series_from<R: BufRead>(
             })?;
             if rows > 0 {
                 let dt = t - prev_t;
-                if !(dt > 0.0) {
+                if dt.is_nan() || dt <= 0.0 {
                     return Err(ReadError::at(
                         label,
                         number,
@@ -526,7 +526,6 @@ pub fn read_series_from<R: BufRead>(
         last_line = line.number;
         handle(line.number, line.text)?;
     }
-    drop(handle);
 
     if rows < 2 {
         return Err(ReadError::at(
