@@ -472,6 +472,15 @@ fn columns() {
     };
     let s = read(text, &opts).unwrap();
     assert_eq!(s.record.tau0(), 1.0);
+    // A first reading that is missing does not move the value column.
+    let s = read(b"t,x\n0,NaN\n1,2\n2,3\n", &SeriesOptions::default()).unwrap();
+    assert_eq!(s.record.len(), 3);
+    assert_eq!(s.record.gaps(), 1);
+    let s = read(b"t,x\n0,\n1,2\n2,3\n", &SeriesOptions::default()).unwrap();
+    assert_eq!((s.record.len(), s.record.gaps()), (3, 1));
+    // A trailing delimiter on every line adds no column.
+    let s = read(b"0,1,\n1,2,\n", &SeriesOptions::default()).unwrap();
+    assert_eq!(values(&s.record), vec![1.0, 2.0]);
     // A trailing text column does not hide the last numeric column.
     let s = read(b"0,5,ok\n1,6,ok\n", &SeriesOptions::default()).unwrap();
     assert_eq!(values(&s.record), vec![5.0, 6.0]);

@@ -361,20 +361,26 @@ pub fn read_series_from<R: BufRead>(
     };
     let (first_line, first_text) = first;
     let delim = Delimiter::sniff(&first_text);
-    let first_fields = delim.split_trimmed(&first_text);
-    let ncols = first_fields.len();
-    let header = header_raw.as_deref().map(|h| {
+    // All fields of the first line, and the count without the empty fields
+    // of a trailing delimiter (unless the header names those columns).
+    let first_fields: Vec<&str> = delim.fields(&first_text).collect();
+    let header: Option<Vec<String>> = header_raw.as_deref().map(|h| {
         delim
             .split_trimmed(h)
             .iter()
             .map(|s| s.to_string())
             .collect()
     });
+    let ncols = delim
+        .split_trimmed(&first_text)
+        .len()
+        .max(header.as_ref().map_or(0, |h| h.len()))
+        .min(first_fields.len());
     let value_col = match opts.value_column {
         Some(c) => c,
-        None => first_fields
+        None => first_fields[..ncols]
             .iter()
-            .rposition(|f| matches!(text::classify(f), text::Field::Number(_)))
+            .rposition(|f| !matches!(text::classify(f), text::Field::Text))
             .map(|i| i + 1)
             .unwrap_or(ncols),
     };
@@ -385,13 +391,14 @@ pub fn read_series_from<R: BufRead>(
     };
     for (name, c) in [("value", Some(value_col)), ("time", time_col)] {
         if let Some(c) = c {
-            if c > ncols {
+            let n = first_fields.len();
+            if c > n {
                 return Err(ReadError::at(
                     label,
                     first_line,
                     format!(
-                        "{name} column {c} was asked for, but the line has {ncols} field{} ({} separated); expected a column from 1 to {ncols}",
-                        if ncols == 1 { "" } else { "s" },
+                        "{name} column {c} was asked for, but the line has {n} field{} ({} separated); expected a column from 1 to {n}",
+                        if n == 1 { "" } else { "s" },
                         delim.name()
                     ),
                 ));
