@@ -16,7 +16,8 @@
 //! - `NaN` (any case), an empty field and `-` mean "missing" (a gap);
 //! - with the whitespace delimiter, an ISO-8601 date followed by a time of
 //!   day (`2024-05-01 12:00:00`) is one field;
-//! - lines are at most [`MAX_LINE_BYTES`] long and must be UTF-8.
+//! - lines are at most [`MAX_LINE_BYTES`] long; content lines (not comments)
+//!   must be UTF-8.
 
 use super::ReadError;
 use std::fs::File;
