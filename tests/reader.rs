@@ -506,6 +506,17 @@ fn delimiters_give_the_same_record() {
 }
 
 #[test]
+fn decimal_comma_with_semicolons_or_tabs() {
+    for text in [
+        &b"Zeit;Phase\n0;1,5e-9\n1;2,25e-9\n"[..],
+        &b"0\t1,5e-9\n1\t2,25e-9\n"[..],
+    ] {
+        let s = read(text, &SeriesOptions::default()).unwrap();
+        assert_eq!(values(&s.record), vec![1.5e-9, 2.25e-9]);
+    }
+}
+
+#[test]
 fn comments_blank_lines_quotes_and_counts() {
     let text = b"# from the lab\n\n\"t\",\"x\"\n\"0\",\"1\"\n# pause\n\"1\",\"2\"\n";
     let s = read(text, &SeriesOptions::default()).unwrap();

@@ -14,6 +14,8 @@
 //!   ([`Delimiter::sniff`] picks one from the first data line);
 //! - a field may be wrapped in double quotes, which are removed;
 //! - `NaN` (any case), an empty field and `-` mean "missing" (a gap);
+//! - a number may be written with one decimal comma (`2,5`) when the fields
+//!   are separated by `;`, tabs or spaces;
 //! - with the whitespace delimiter, an ISO-8601 date followed by a time of
 //!   day (`2024-05-01 12:00:00`) is one field;
 //! - lines are at most [`MAX_LINE_BYTES`] long; content lines (not comments)
@@ -312,17 +314,18 @@ pub enum Delimiter {
 }
 
 impl Delimiter {
-    /// Pick the delimiter of a data line: a tab if the line has one and no
-    /// other separator, else `;` if present, else `,` if present, else runs
-    /// of whitespace. (`;` is preferred over `,` so that files whose numbers
-    /// use no decimal comma but list fields with `;` are read correctly.)
+    /// Pick the delimiter of a data line: `;` if present; else a tab if the
+    /// line has tabs and no spaces; else `,` if present; else runs of
+    /// spaces and tabs. `;` and tab come before `,` so that files written
+    /// with a decimal comma (`1,5;2,25` or `1,5<tab>2,25`) are split
+    /// correctly (see [`parse_finite`] for the decimal comma).
     pub fn sniff(line: &str) -> Self {
         if line.contains(';') {
             Delimiter::Semicolon
-        } else if line.contains(',') {
-            Delimiter::Comma
         } else if line.contains('\t') && !line.contains(' ') {
             Delimiter::Tab
+        } else if line.contains(',') {
+            Delimiter::Comma
         } else {
             Delimiter::Whitespace
         }
@@ -460,7 +463,9 @@ pub fn classify(field: &str) -> Field {
 }
 
 /// Parse a finite number (Rust `f64` grammar: `1`, `-2.5`, `1e-9`, `.5`);
-/// `None` for anything else, including `inf` and `NaN`.
+/// `None` for anything else, including `inf` and `NaN`. A field with one
+/// decimal comma and no point (`2,5e-9`, as some spreadsheets write with
+/// `;` or tab between fields) is read as the same number with a point.
 #[inline]
 pub fn parse_finite(field: &str) -> Option<f64> {
     // Only digits, signs, '.', 'e'/'E' may appear: refuse "inf", "infinity".
@@ -470,6 +475,18 @@ pub fn parse_finite(field: &str) -> Option<f64> {
         return None;
     }
     match field.parse::<f64>() {
+        Ok(v) if v.is_finite() => Some(v),
+        Ok(_) => None,
+        Err(_) => decimal_comma(field),
+    }
+}
+
+#[cold]
+fn decimal_comma(field: &str) -> Option<f64> {
+    if field.bytes().filter(|&c| c == b',').count() != 1 || field.contains('.') {
+        return None;
+    }
+    match field.replace(',', ".").parse::<f64>() {
         Ok(v) if v.is_finite() => Some(v),
         _ => None,
     }
@@ -613,6 +630,9 @@ mod tests {
         assert_eq!(Delimiter::sniff("1\t2"), Delimiter::Tab);
         assert_eq!(Delimiter::sniff("1   2"), Delimiter::Whitespace);
         assert_eq!(Delimiter::sniff("1.5"), Delimiter::Whitespace);
+        assert_eq!(Delimiter::sniff("1,5\t2,5"), Delimiter::Tab);
+        assert_eq!(Delimiter::sniff("1,5;2,5"), Delimiter::Semicolon);
+        assert_eq!(Delimiter::sniff("1.5, 2.5"), Delimiter::Comma);
     }
 
     #[test]
@@ -637,6 +657,9 @@ mod tests {
         assert_eq!(classify("inf"), Field::Text);
         assert_eq!(classify("1e999"), Field::Text);
         assert_eq!(classify("phase"), Field::Text);
+        assert_eq!(classify("2,5e-9"), Field::Number(2.5e-9));
+        assert_eq!(classify("1,000,000"), Field::Text);
+        assert_eq!(classify("1,5.2"), Field::Text);
         assert!(is_header(&["time", "phase"]));
         assert!(!is_header(&["1", "phase"]));
         assert!(!is_header(&["2024-05-01T00:00:00Z", "x"]));
