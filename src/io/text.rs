@@ -376,7 +376,10 @@ fn unquote(f: &str) -> &str {
 }
 
 fn is_date(s: &str) -> bool {
-    let b = s.as_bytes();
+    is_date_bytes(s.as_bytes())
+}
+
+fn is_date_bytes(b: &[u8]) -> bool {
     b.len() == 10
         && b[4] == b'-'
         && b[7] == b'-'
@@ -539,7 +542,7 @@ pub fn is_header(fields: &[&str]) -> bool {
 
 /// A quick test for an ISO-8601 date or date-time (`YYYY-MM-DD…`).
 pub fn looks_like_datetime(field: &str) -> bool {
-    field.len() >= 10 && is_date(&field[..10.min(field.len())])
+    field.len() >= 10 && is_date_bytes(&field.as_bytes()[..10])
 }
 
 /// A small numeric table read whole: the optional header, the delimiter,
@@ -564,6 +567,11 @@ pub struct TableRow {
     pub line: u64,
     /// The fields: `Some(number)` or `None` for a missing value.
     pub fields: Vec<Option<f64>>,
+}
+
+/// [`read_table`] on the file at `path` (`-` = standard input).
+pub fn read_table_file(path: &Path) -> Result<Table, ReadError> {
+    read_table(open_input(path)?, path)
 }
 
 /// Read a whole numeric table: comments and blank lines skipped, one header
@@ -663,6 +671,9 @@ mod tests {
         assert!(is_header(&["time", "phase"]));
         assert!(!is_header(&["1", "phase"]));
         assert!(!is_header(&["2024-05-01T00:00:00Z", "x"]));
+        // Multi-byte characters near the tenth byte are not a date (no panic).
+        assert!(!looks_like_datetime("2024-05-0éé"));
+        assert!(is_header(&["ééééééééé"]));
     }
 
     #[test]
