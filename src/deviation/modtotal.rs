@@ -98,8 +98,8 @@ fn subsequence(ps: &PrefixSums, n: usize, m: usize, q: &mut [f64]) -> f64 {
     for p in 2 * l3 + 1..=3 * l3 {
         q[p] = 3.0 * t - q[l3 + 3 * l3 - p];
     }
-    for p in l3..=2 * l3 {
-        q[p] += t;
+    for v in &mut q[l3..=2 * l3] {
+        *v += t;
     }
     // z_j·m = Q(j+3m) − 3Q(j+2m) + 3Q(j+m) − Q(j).
     let nz = 2 * l3;

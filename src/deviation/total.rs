@@ -85,7 +85,7 @@ pub fn totdev_edf(alpha: i32, n_phase: usize, m: usize) -> Option<f64> {
     Some(b * t_over_tau - c)
 }
 
-/// Bias of the total variance, E[Totvar]/AVAR = 1 − a·τ/T (NIST SP 1065;
+/// Bias of the total variance, E(Totvar)/AVAR = 1 − a·τ/T (NIST SP 1065;
 /// CHECKS.md D, from memory): a = 0 for white noise (WPM α = 2, WFM α = 0),
 /// a = 0.481 = 1/(3 ln 2) for FFM (α = −1), a = 0.750 for RWFM (α = −2).
 /// Divide Totvar by it (TOTDEV by its square root) to remove the bias.
