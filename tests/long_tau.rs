@@ -158,6 +158,9 @@ fn theoh_is_adev_then_bias_removed_theo1() {
             assert_eq!(e.m % 2, 0);
         }
     }
+    let from = Estimator::Theoh.bias_corrected_from(n, 1.0).unwrap();
+    assert!((from - 39.9).abs() < 1e-9);
+    assert_eq!(Estimator::Theo1.bias_corrected_from(n, 1.0), None);
     // Too short for the bias ratio (N < 90): the Theo part is left out.
     let short = PhaseRecord::new(random_phase(60, 8), 1.0).unwrap();
     let s = compute(Estimator::Theoh, &short, &[1, 2, 40]);

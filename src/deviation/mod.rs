@@ -206,6 +206,18 @@ impl Estimator {
         matches!(self, Estimator::Theo1 | Estimator::Theoh)
     }
 
+    /// The τ (seconds) from which this estimator's values are bias-corrected
+    /// for a record of `n_phase` samples at `tau0`, for output that marks
+    /// them: TheoH's ThêoBR part, τ ≥ 10 % of the record. None for the
+    /// estimators that report uncorrected values (apply
+    /// [`totvar_bias`] to TOTDEV where the noise type is known).
+    pub fn bias_corrected_from(self, n_phase: usize, tau0: f64) -> Option<f64> {
+        match self {
+            Estimator::Theoh => Some(theo::theoh_switch(n_phase, tau0)),
+            _ => None,
+        }
+    }
+
     /// Smallest valid averaging factor.
     pub fn min_m(self) -> usize {
         1
