@@ -443,3 +443,24 @@ fn long_tau_bias_on_random_walk_fm() {
         "Theo1 {t1_mean} should show its bias vs {ieee_t}"
     );
 }
+
+/// Analytic, from the SP 1065 definition as implemented: at m = 1 the
+/// half-average detrend of (w0, w1, w2) gives (a, b, a) with
+/// a − b = (w0 − 2w1 + w2)/2, and the reflected 9-point sequence
+/// [a b a a b a a b a] has mean square of second differences 2(a − b)², so
+/// every subsequence contributes (w0 − 2w1 + w2)²/2: MTOT(1) = MDEV(1)/√2,
+/// and HTOT(1) = OHDEV(1)/√2 on the frequencies. (Monte Carlo ratios at
+/// m ≥ 4, for the record: MTOT²/MDEV² ≈ 1.00 WPM, 0.77 WFM, 0.68 RWFM.)
+#[test]
+fn modified_totals_at_m_one() {
+    let x = with_gaps(random_phase(300, 22));
+    let rec = PhaseRecord::new(x, 1.0).unwrap();
+    let mt = compute(Estimator::Mtot, &rec, &[1])[0];
+    let md = compute(Estimator::Mdev, &rec, &[1])[0];
+    assert_eq!(mt.terms, md.terms);
+    assert!(rel(mt.value * 2f64.sqrt(), md.value) < 1e-10);
+    let ht = compute(Estimator::Htot, &rec, &[1])[0];
+    let oh = compute(Estimator::Ohdev, &rec, &[1])[0];
+    assert_eq!(ht.terms, oh.terms);
+    assert!(rel(ht.value * 2f64.sqrt(), oh.value) < 1e-10);
+}
