@@ -324,7 +324,7 @@ pub fn compute(est: Estimator, x: &PhaseRecord, ms: &[usize]) -> Vec<Estimate> {
         .collect();
     if est.uses_theo_lattice() {
         let mut seen = std::collections::HashSet::new();
-        out.retain(|e| seen.insert(e.m));
+        out.retain(|e| seen.insert(e.tau.to_bits()));
     }
     out
 }
