@@ -4,9 +4,9 @@
 //! report, so both print the same numbers.
 
 use crate::deviation::{compute, Curve, Estimator};
-use crate::stats::{annotate, StatsOptions};
 use crate::error::{Error, Result};
 use crate::record::PhaseRecord;
+use crate::stats::{annotate, StatsOptions};
 use crate::tau::TauGrid;
 
 /// What to compute.

@@ -358,7 +358,8 @@ fn large_r_tables_equal_their_integrals() {
             for i in 0..steps {
                 let u = (i as f64 + 0.5) / steps as f64;
                 let t = c as f64 + 0.5 * (1.0 - (std::f64::consts::PI * u).cos());
-                let w = 0.5 * std::f64::consts::PI * (std::f64::consts::PI * u).sin() / steps as f64;
+                let w =
+                    0.5 * std::f64::consts::PI * (std::f64::consts::PI * u).sin() / steps as f64;
                 i0 += 2.0 * f(t) * w;
                 i1 += 2.0 * t * f(t) * w;
             }
@@ -381,7 +382,12 @@ fn approximation_branches_meet_direct_sums() {
     for kind in kinds() {
         let v = diffs(kind);
         for alpha in kind.alpha_range() {
-            for &(n, m) in &[(100_000usize, 40usize), (100_000, 300), (3000, 700), (5000, 1200)] {
+            for &(n, m) in &[
+                (100_000usize, 40usize),
+                (100_000, 300),
+                (3000, 700),
+                (5000, 1200),
+            ] {
                 let d = v.order;
                 let span = if v.modified { (d + 1) * m } else { d * m + 1 };
                 if span > n {

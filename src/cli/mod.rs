@@ -10,8 +10,8 @@ pub mod inspect;
 pub mod jitter;
 pub mod prepare;
 pub mod simulate;
-pub mod stability;
 pub mod spectrum;
+pub mod stability;
 pub mod wander;
 
 /// Oscillator and clock stability analysis.

@@ -38,7 +38,16 @@ impl VarianceKind {
             Estimator::Hdev => Some(VarianceKind::Hadamard),
             Estimator::Ohdev => Some(VarianceKind::OverlappingHadamard),
             Estimator::Totdev => Some(VarianceKind::Total),
-            Estimator::Mtie | Estimator::Tierms => None,
+            // The long-τ estimators carry their own EDF and bias rules in
+            // `deviation` (issue 7); until they are wired here they get no
+            // interval rather than a borrowed one.
+            Estimator::Mtot
+            | Estimator::Ttot
+            | Estimator::Htot
+            | Estimator::Theo1
+            | Estimator::Theoh
+            | Estimator::Mtie
+            | Estimator::Tierms => None,
         }
     }
 
