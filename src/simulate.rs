@@ -31,7 +31,10 @@
 //! M ≥ 2N − 1 (the smallest 2^a·3^b·5^c, so that circular wrap-around never
 //! reaches the kept samples): white noise in the real part, the coefficients
 //! in the imaginary part, the two spectra separated by conjugate symmetry,
-//! multiplied, and transformed back. Without this zero padding the
+//! multiplied, and transformed back. Memory for the flicker terms is about
+//! 48 bytes per FFT point (buffer, scratch and twiddles of one plan), about
+//! 1 GB for N = 10^7 (M = 2·10^7); the integer-exponent terms need only the
+//! 8-byte output. Without this zero padding the
 //! convolution would be circular and the long memory of FPM and FFM
 //! (α ≤ −1 on the frequency side) would wrap the end of the record onto its
 //! start. The record is the first N samples of the process started from
@@ -281,6 +284,9 @@ fn alloc<T>(len: usize) -> Result<Vec<T>> {
 /// Add the increments of term α with white-noise standard deviation `sigma`
 /// to `acc`.
 fn add_term(alpha: i32, sigma: f64, rng: &mut impl Rng, acc: &mut [f64], fft: &mut FlickerFft) {
+    if acc.is_empty() {
+        return;
+    }
     let mut normal = || -> f64 { rng.sample(StandardNormal) };
     match alpha {
         2 => {
@@ -382,11 +388,10 @@ impl FlickerFft {
         normal: &mut impl FnMut() -> f64,
     ) -> impl Iterator<Item = f64> + '_ {
         let m = fast_len(2 * n - 1);
+        // One forward plan serves both ways (the inverse is conj∘FFT∘conj),
+        // which saves the twiddle table of a second plan (16·M bytes).
         let fwd = self.planner.plan_fft_forward(m);
-        let inv = self.planner.plan_fft_inverse(m);
-        let need = fwd
-            .get_inplace_scratch_len()
-            .max(inv.get_inplace_scratch_len());
+        let need = fwd.get_inplace_scratch_len();
         self.buf.clear();
         self.buf.resize(m, Complex::new(0.0, 0.0));
         if self.scratch.len() < need {
@@ -410,11 +415,13 @@ impl FlickerFft {
             let zj = self.buf[j].conj();
             let w = (zk + zj) * half;
             let h = (zk - zj) * minus_half_i;
+            // Store conj(P) for the inverse by conj∘FFT∘conj.
             let p = w * h;
-            self.buf[k] = p;
-            self.buf[j] = p.conj();
+            self.buf[k] = p.conj();
+            self.buf[j] = p;
         }
-        inv.process_with_scratch(&mut self.buf, &mut self.scratch[..need]);
+        fwd.process_with_scratch(&mut self.buf, &mut self.scratch[..need]);
+        // The result is real: conj changes nothing in the real part.
         let scale = 1.0 / m as f64;
         self.buf[..n].iter().map(move |c| c.re * scale)
     }
