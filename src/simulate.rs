@@ -104,8 +104,9 @@ use rustfft::FftPlannerScalar;
 use std::f64::consts::PI;
 
 /// Largest record [`simulate_phase`] and [`simulate_frequency`] accept
-/// (2^30 samples; the FFT for flicker terms needs about 32·2N bytes).
-pub const MAX_POINTS: usize = 1 << 30;
+/// (10^8 samples, the longest records of DESIGN.md §1; flicker terms then
+/// need about 10 GB for the FFT).
+pub const MAX_POINTS: usize = 100_000_000;
 
 /// What to synthesise.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -227,7 +228,9 @@ pub fn simulate_frequency(spec: &SimSpec) -> Result<FrequencyRecord> {
 /// zeros.
 ///
 /// # Panics
-/// When α is outside −2 … 2, or h is negative or not finite, or τ0 ≤ 0.
+/// When α is outside −2 … 2, or h is negative or not finite, or τ0 ≤ 0, or
+/// the memory for the FFT of a flicker term cannot be had (use
+/// [`simulate_phase`] for an error instead).
 pub fn power_law_phase(alpha: i32, h: f64, tau0: f64, n: usize, rng: &mut impl Rng) -> Vec<f64> {
     assert!((-2..=2).contains(&alpha), "α must be in −2 … 2");
     assert!(h.is_finite() && h >= 0.0, "h_α must be non-negative");
@@ -235,7 +238,8 @@ pub fn power_law_phase(alpha: i32, h: f64, tau0: f64, n: usize, rng: &mut impl R
     let mut acc = vec![0.0; n];
     if h > 0.0 {
         let mut fft = FlickerFft::default();
-        add_term(alpha, white_sigma(alpha, h, tau0), rng, &mut acc, &mut fft);
+        add_term(alpha, white_sigma(alpha, h, tau0), rng, &mut acc, &mut fft)
+            .expect("not enough memory for the FFT of a flicker term");
     }
     let mut sum = 0.0;
     for v in acc.iter_mut() {
@@ -267,7 +271,7 @@ fn increments(spec: &SimSpec, len: usize) -> Result<Vec<f64>> {
                 &mut rng,
                 &mut acc,
                 &mut fft,
-            );
+            )?;
         }
     }
     Ok(acc)
@@ -283,9 +287,15 @@ fn alloc<T>(len: usize) -> Result<Vec<T>> {
 
 /// Add the increments of term α with white-noise standard deviation `sigma`
 /// to `acc`.
-fn add_term(alpha: i32, sigma: f64, rng: &mut impl Rng, acc: &mut [f64], fft: &mut FlickerFft) {
+fn add_term(
+    alpha: i32,
+    sigma: f64,
+    rng: &mut impl Rng,
+    acc: &mut [f64],
+    fft: &mut FlickerFft,
+) -> Result<()> {
     if acc.is_empty() {
-        return;
+        return Ok(());
     }
     let mut normal = || -> f64 { rng.sample(StandardNormal) };
     match alpha {
@@ -310,7 +320,7 @@ fn add_term(alpha: i32, sigma: f64, rng: &mut impl Rng, acc: &mut [f64], fft: &m
             }
         }
         1 => {
-            let x = fft.filter_half(acc.len(), &mut normal);
+            let x = fft.filter_half(acc.len(), &mut normal)?;
             let mut prev = 0.0;
             for (v, xi) in acc.iter_mut().zip(x) {
                 *v += sigma * (xi - prev);
@@ -318,13 +328,14 @@ fn add_term(alpha: i32, sigma: f64, rng: &mut impl Rng, acc: &mut [f64], fft: &m
             }
         }
         -1 => {
-            let z = fft.filter_half(acc.len(), &mut normal);
+            let z = fft.filter_half(acc.len(), &mut normal)?;
             for (v, zi) in acc.iter_mut().zip(z) {
                 *v += sigma * zi;
             }
         }
         _ => unreachable!("α checked by the callers"),
     }
+    Ok(())
 }
 
 /// Kasdin–Walter coefficients h_0 … h_(n−1) of (1 − B)^(−d):
@@ -386,15 +397,23 @@ impl FlickerFft {
         &mut self,
         n: usize,
         normal: &mut impl FnMut() -> f64,
-    ) -> impl Iterator<Item = f64> + '_ {
+    ) -> Result<impl Iterator<Item = f64> + '_> {
         let m = fast_len(2 * n - 1);
         // One forward plan serves both ways (the inverse is conj∘FFT∘conj),
         // which saves the twiddle table of a second plan (16·M bytes).
         let fwd = self.planner.plan_fft_forward(m);
         let need = fwd.get_inplace_scratch_len();
+        let oom = || {
+            Error::insufficient(format!(
+                "not enough memory for an FFT of {m} points (a flicker term of {n} samples)"
+            ))
+        };
         self.buf.clear();
+        self.buf.try_reserve_exact(m).map_err(|_| oom())?;
         self.buf.resize(m, Complex::new(0.0, 0.0));
         if self.scratch.len() < need {
+            let extra = need - self.scratch.len();
+            self.scratch.try_reserve_exact(extra).map_err(|_| oom())?;
             self.scratch.resize(need, Complex::new(0.0, 0.0));
         }
         let mut c = 1.0;
@@ -423,7 +442,7 @@ impl FlickerFft {
         fwd.process_with_scratch(&mut self.buf, &mut self.scratch[..need]);
         // The result is real: conj changes nothing in the real part.
         let scale = 1.0 / m as f64;
-        self.buf[..n].iter().map(move |c| c.re * scale)
+        Ok(self.buf[..n].iter().map(move |c| c.re * scale))
     }
 }
 
@@ -445,7 +464,10 @@ mod tests {
             let w: Vec<f64> = (0..n).map(|_| rng.sample(StandardNormal)).collect();
             let mut it = w.iter().copied();
             let mut fft = FlickerFft::default();
-            let got: Vec<f64> = fft.filter_half(n, &mut || it.next().unwrap()).collect();
+            let got: Vec<f64> = fft
+                .filter_half(n, &mut || it.next().unwrap())
+                .unwrap()
+                .collect();
             let want = direct(&kw_coefficients(0.5, n), &w);
             for (g, e) in got.iter().zip(&want) {
                 assert!((g - e).abs() < 1e-12 * (1.0 + e.abs()), "n={n}: {g} vs {e}");
@@ -461,7 +483,7 @@ mod tests {
         for (alpha, d) in [(2, -1.0), (0, 0.0), (-2, 1.0)] {
             let mut rng = ChaCha8Rng::seed_from_u64(5);
             let mut acc = vec![0.0; n];
-            add_term(alpha, 1.0, &mut rng, &mut acc, &mut FlickerFft::default());
+            add_term(alpha, 1.0, &mut rng, &mut acc, &mut FlickerFft::default()).unwrap();
             let mut rng = ChaCha8Rng::seed_from_u64(5);
             let w: Vec<f64> = (0..n).map(|_| rng.sample(StandardNormal)).collect();
             let want = direct(&kw_coefficients(d, n), &w);
