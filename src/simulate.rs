@@ -22,11 +22,18 @@
 //! | 1  | FPM   | −1/2 | x = (1 − B)^(−1/2) w by FFT convolution, z = Δx       |
 //! | 0  | WFM   | 0    | z = w (x is a random walk)                          |
 //! | −1 | FFM   | 1/2  | z = (1 − B)^(−1/2) w by FFT convolution              |
-//! | −2 | RWFM  | 1    | z_k = Σ_(j≤k) w_j                                   |
+//! | −2 | RWFM  | 1    | z_k = Σ_(j≤k) e_j, e_k = a(w_k + θw_(k−1))           |
 //!
 //! For the integer exponents the filter is a finite recursion and is applied
 //! exactly, with no FFT (it gives the same numbers as the convolution, to
-//! rounding). For the half-integer exponent the N coefficients are applied by
+//! rounding). For RWFM the white input of the K&W filter is given the MA(1)
+//! shape e_k = a(w_k + θw_(k−1)), θ = 2 − √3, a² = (2/3)/(1 + θ²): the
+//! increments of a random walk averaged over τ0 have 2/3 of the variance of
+//! its unaveraged step and lag-1 correlation 1/4, nothing beyond, so that
+//! the record is exactly a sampled continuous RWFM process. The low-frequency level
+//! a²(1 + θ)² = 1 is that of the plain K&W filter, so the calibration below
+//! is unchanged, and the AVAR becomes exact at every τ instead of
+//! (1 + 1/(2m²)) times the table. For the half-integer exponent the N coefficients are applied by
 //! a linear convolution computed with one complex FFT of length
 //! M ≥ 2N − 1 (the smallest 2^a·3^b·5^c, so that circular wrap-around never
 //! reaches the kept samples): white noise in the real part, the coefficients
@@ -63,8 +70,9 @@
 //! - WPM: exactly at every τ (x is white with variance h_2 f_h/(2π)², and the
 //!   AVAR of white phase of variance σ² is 3σ²/τ²);
 //! - WFM: exactly at every τ (x is a random walk of step variance h_0τ0/2);
-//! - RWFM: σ_y²(mτ0) = (2π)²τh_−2/6 · (1 + 1/(2m²)) exactly, i.e. 50 % high at
-//!   m = 1, 3 % at m = 4, 0.8 % at m = 8;
+//! - RWFM: exactly at every τ (with the MA(1) increments above; the plain
+//!   K&W double sum would give (1 + 1/(2m²)) times the table, 50 % high at
+//!   m = 1);
 //! - FFM: 1.443 (= 1/ln2: at m = 1 the filter gives 2q/π), 1.154, 1.050,
 //!   1.015, 1.005 times 2 ln2·h_−1 at m = 1, 2, 4, 8, 16 (exact sums over the
 //!   filter coefficients), within 0.1 % beyond;
@@ -313,9 +321,14 @@ fn add_term(
             }
         }
         -2 => {
+            let theta = 2.0 - 3f64.sqrt();
+            let a = (2.0 / 3.0 / (1.0 + theta * theta)).sqrt();
+            let mut prev = normal();
             let mut s = 0.0;
             for v in acc.iter_mut() {
-                s += normal();
+                let w = normal();
+                s += a * (w + theta * prev);
+                prev = w;
                 *v += sigma * s;
             }
         }
@@ -476,7 +489,8 @@ mod tests {
     }
 
     /// The integer-d recursions are the Kasdin–Walter filter (analytic:
-    /// (1 − B)^1 = 1 − B, (1 − B)^0 = 1, (1 − B)^(−1) = Σ B^k).
+    /// (1 − B)^1 = 1 − B, (1 − B)^0 = 1, (1 − B)^(−1) = Σ B^k), for RWFM
+    /// applied to the MA(1) input.
     #[test]
     fn integer_paths_equal_the_filter() {
         let n = 200;
@@ -485,7 +499,15 @@ mod tests {
             let mut acc = vec![0.0; n];
             add_term(alpha, 1.0, &mut rng, &mut acc, &mut FlickerFft::default()).unwrap();
             let mut rng = ChaCha8Rng::seed_from_u64(5);
-            let w: Vec<f64> = (0..n).map(|_| rng.sample(StandardNormal)).collect();
+            let mut w: Vec<f64> = (0..=n).map(|_| rng.sample(StandardNormal)).collect();
+            if alpha == -2 {
+                // MA(1) input a(w_k + θ w_(k−1)), w_(−1) drawn first.
+                let theta = 2.0 - 3f64.sqrt();
+                let a = (2.0 / 3.0 / (1.0 + theta * theta)).sqrt();
+                w = (1..=n).map(|k| a * (w[k] + theta * w[k - 1])).collect();
+            } else {
+                w.truncate(n);
+            }
             let want = direct(&kw_coefficients(d, n), &w);
             for (g, e) in acc.iter().zip(&want) {
                 assert!((g - e).abs() < 1e-12 * (1.0 + e.abs()));

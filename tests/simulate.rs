@@ -129,9 +129,37 @@ fn white_noise_variances_reproduce_the_table() {
     assert!((3.0 * s2 / 16.0 - table_avar(2, 1e-20, 4.0, 0.5)).abs() < 1e-12 * 3.0 * s2 / 16.0);
     let s0 = white_sigma(0, 1e-22, 1.0).powi(2);
     assert!((s0 / 4.0 - table_avar(0, 1e-22, 4.0, 0.5)).abs() < 1e-12 * s0);
-    // RWFM: the step variance of y is 2π² τ0 h_−2 so that m/3·q_y = (2π)² τ h/6.
+    // RWFM: the low-frequency step variance of y is 2π² τ0 h_−2, so that
+    // m/3·q_y = (2π)² τ h/6.
     let sr = white_sigma(-2, 1e-28, 2.0).powi(2) / 4.0;
     assert!((sr - 2.0 * PI * PI * 2.0 * 1e-28).abs() < 1e-12 * sr);
+}
+
+/// Analytic: the RWFM increments a(w_k + θw_(k−1)), θ = 2 − √3,
+/// a² = (2/3)/(1 + θ²), have variance 2/3 and lag-1 covariance 1/6 (those
+/// of a τ0-averaged random walk of unit step). The lag-m second difference of
+/// the phase weighs them by the triangle 1 … m … 1, so the expected AVAR is
+/// Σc²·(2/3) + 2Σc_j c_(j+1)·(1/6) over 2m² = m/3 (unit step, τ0 = 1), which
+/// is (2π)²τh_−2/6 with the step 2π²τ0h_−2 (IEEE Std 1139) at every m.
+#[test]
+fn rwfm_is_exact_at_every_tau() {
+    let theta = 2.0 - 3f64.sqrt();
+    let a2 = 2.0 / 3.0 / (1.0 + theta * theta);
+    assert!((a2 * (1.0 + theta * theta) - 2.0 / 3.0).abs() < 1e-15);
+    assert!((a2 * theta - 1.0 / 6.0).abs() < 1e-15);
+    for m in [1usize, 2, 3, 4, 10, 100] {
+        let c: Vec<f64> = (1..m).chain((1..=m).rev()).map(|v| v as f64).collect();
+        let s2: f64 = c.iter().map(|v| v * v).sum();
+        let s11: f64 = c.windows(2).map(|w| w[0] * w[1]).sum();
+        let avar = (s2 * 2.0 / 3.0 + 2.0 * s11 / 6.0) / (2.0 * (m * m) as f64);
+        assert!((avar / (m as f64 / 3.0) - 1.0).abs() < 1e-12, "m={m}");
+    }
+    // And a seeded record at the shortest τ (IEEE Std 1139, CHECKS.md C).
+    let rec = simulate_phase(&SimSpec::new(single(-2, 1e-28), 1.0, 1 << 16, 21)).unwrap();
+    for m in [1usize, 2] {
+        let r = (oavar(&rec.x, m, 1.0) / table_avar(-2, 1e-28, m as f64, 0.5)).sqrt();
+        assert!((r - 1.0).abs() < 0.05, "m={m}: ratio {r}");
+    }
 }
 
 /// Same seed → same record; another seed → another record.
