@@ -85,8 +85,8 @@
 //!   h_1/((2π)² f) exactly up to f_h = 1/(2τ0): the process of the IEEE Std
 //!   1139 model with that f_h, whose AVAR is the integral of
 //!   [`crate::model::response`] (within 0.3 % of the table's
-//!   [1.038 + 3 ln(2πf_hτ)] form from m = 4 on, 7.6 % below it at m = 1,
-//!   where the table's large-τ form is itself approximate).
+//!   [1.038 + 3 ln(2πf_hτ)] form from m = 4 on; at m = 1 the table's
+//!   large-τ form is itself 7.6 % above the integral).
 //!
 //! The shaping kernels are short (the FFM gain has a |f|³ term, so its
 //! kernel decays as l^(−4); the FPM gain a kink at Nyquist, l^(−2)); the

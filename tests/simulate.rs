@@ -48,9 +48,9 @@ fn single(alpha: i32, h: f64) -> PowerLaw {
 
 /// IEEE Std 1139 (CHECKS.md C): for each noise type, the OADEV of a seeded
 /// 2^16-point record is within 10 % of the closed form at τ = 8, 32, 128 s
-/// (τ0 = 1 s, f_h = 1/(2τ0)). At these τ the discrete process's own
-/// departure from the table is at most 3.3 % in deviation (FPM at m = 8,
-/// see src/simulate.rs), and the estimator's scatter 1–3 %.
+/// (τ0 = 1 s, f_h = 1/(2τ0)). At these τ the model's exact variance is
+/// within 0.1 % of the table (see tests/model.rs), and the estimator's
+/// scatter is 1–3 %.
 #[test]
 fn oadev_matches_ieee1139_for_each_noise_type() {
     let n = 1 << 16;
