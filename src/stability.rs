@@ -76,3 +76,53 @@ pub fn analyse(x: &PhaseRecord, req: &Request) -> Result<Vec<Curve>> {
     }
     Ok(curves)
 }
+
+/// The power-law model of a record, fitted to its OADEV and MDEV curves
+/// together (so that white and flicker PM, which OADEV alone cannot tell
+/// apart, are separated by MDEV's different slope), each point weighted by
+/// its EDF ([`crate::model::fit::fit_variances`]). The cut-off is the
+/// record's Nyquist frequency f_h = 1/(2τ0).
+#[derive(Debug, Clone)]
+pub struct RecordModel {
+    /// The OADEV and MDEV curves the model was fitted to (annotated).
+    pub curves: Vec<Curve>,
+    /// The fit: h_α, dominant ranges, residual per point (dB) in the order
+    /// of the points of `curves`, OADEV first.
+    pub fit: crate::model::fit::ModelFit,
+}
+
+/// Fit the power-law model of `x` over the τ grid `grid` (see [`RecordModel`]).
+/// Points without an EDF (noise not identified) are weighted by their number
+/// of terms over m, a rough count of independent averages.
+pub fn fit_record_model(x: &PhaseRecord, grid: &TauGrid) -> Result<RecordModel> {
+    use crate::model::fit::{fit_variances, FitPoint, VarKind};
+    let req = Request {
+        estimators: vec![Estimator::Oadev, Estimator::Mdev],
+        grid: grid.clone(),
+        confidence: crate::stats::DEFAULT_CONFIDENCE,
+        forced_alpha: None,
+    };
+    let curves = analyse(x, &req)?;
+    let mut points = Vec::new();
+    for (curve, kind) in curves.iter().zip([VarKind::Avar, VarKind::Mvar]) {
+        for p in &curve.points {
+            let e = p.estimate;
+            if !(e.value > 0.0) {
+                continue;
+            }
+            let weight = p
+                .edf
+                .unwrap_or(e.terms as f64 / e.m as f64)
+                .max(1.0);
+            points.push(FitPoint {
+                kind,
+                tau: e.tau,
+                tau0: x.tau0,
+                var: e.value * e.value,
+                weight,
+            });
+        }
+    }
+    let fit = fit_variances(&points, 0.5 / x.tau0)?;
+    Ok(RecordModel { curves, fit })
+}

@@ -8,6 +8,7 @@ pub mod convert;
 pub mod holdover;
 pub mod inspect;
 pub mod jitter;
+pub mod noise;
 pub mod prepare;
 pub mod simulate;
 pub mod spectrum;
@@ -31,6 +32,8 @@ pub enum Command {
     Prepare(prepare::Args),
     /// Synthetic power-law noise records (seeded).
     Simulate(simulate::SimulateArgs),
+    /// Noise type per τ and the fitted power-law model.
+    Noise(noise::Args),
     /// σ(τ) curves with confidence intervals and noise type.
     Stability(stability::Args),
     /// PSD of a time record as L(f), S_φ, S_y, S_x (Welch's method).
@@ -68,6 +71,7 @@ pub fn main() -> i32 {
         Command::Prepare(a) => prepare::run(a),
         Command::Simulate(a) => simulate::run(a),
         Command::Stability(a) => stability::run(a),
+        Command::Noise(a) => noise::run(a),
         Command::Spectrum(a) => spectrum::run(a),
         Command::Convert(a) => convert::run(a),
         Command::Jitter(a) => jitter::run(a),
