@@ -110,10 +110,7 @@ pub fn fit_record_model(x: &PhaseRecord, grid: &TauGrid) -> Result<RecordModel> 
             if !(e.value > 0.0) {
                 continue;
             }
-            let weight = p
-                .edf
-                .unwrap_or(e.terms as f64 / e.m as f64)
-                .max(1.0);
+            let weight = p.edf.unwrap_or(e.terms as f64 / e.m as f64).max(1.0);
             points.push(FitPoint {
                 kind,
                 tau: e.tau,

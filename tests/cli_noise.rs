@@ -25,7 +25,11 @@ fn json_contract_and_fitted_model() {
         .args(["--tau0", "1s", "--format", "json"])
         .output()
         .unwrap();
-    assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
     let doc: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
     assert_eq!(doc["tool"], "tauwise");
     assert_eq!(doc["input"]["points"], 65536);
@@ -54,11 +58,16 @@ fn json_contract_and_fitted_model() {
     let ms = model["model_string"].as_str().unwrap();
     let again = dir.path().join("again.txt");
     let st = tauwise()
-        .args(["simulate", "--model", ms, "--tau0", "1s", "--points", "100", "-o"])
+        .args([
+            "simulate", "--model", ms, "--tau0", "1s", "--points", "100", "-o",
+        ])
         .arg(&again)
         .status()
         .unwrap();
-    assert!(st.success(), "model string '{ms}' is accepted by simulate --model");
+    assert!(
+        st.success(),
+        "model string '{ms}' is accepted by simulate --model"
+    );
 }
 
 #[test]
