@@ -26,6 +26,10 @@ pub struct Args {
     /// τ grid: octave, decade, all, log:N or a list of durations.
     #[arg(long, value_name = "GRID", default_value = "octave")]
     pub taus: String,
+    /// Remove a least-squares frequency drift before the analysis (aging
+    /// would otherwise read as random-walk FM at long τ).
+    #[arg(long, value_enum, value_name = "MODEL")]
+    pub remove_drift: Option<super::prepare::DriftArg>,
     #[command(flatten)]
     pub output: OutputArgs,
 }
@@ -39,7 +43,8 @@ struct Row {
 /// Run `noise`.
 pub fn run(args: Args) -> Result<Outcome> {
     let grid = TauGrid::parse(&args.taus)?;
-    let series = args.input.load(&args.file)?;
+    let mut series = args.input.load(&args.file)?;
+    series.record = super::prepare::without_drift(series.record, args.remove_drift)?;
     let x = series.record.to_phase();
     let ms = grid.ms(x.tau0, Estimator::Oadev.max_m(x.len()))?;
     let rows: Vec<Row> = ms
