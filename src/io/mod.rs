@@ -4,6 +4,7 @@
 use std::path::PathBuf;
 use thiserror::Error;
 
+pub mod dut;
 pub mod write;
 
 pub use write::write_atomic;

@@ -220,13 +220,13 @@ mod tests {
             None,
             Some((1.5, 0.0)),
             Some((5.0, 0.0)),
-            Some((1.0, 0.0)),
+            Some((1.0, 1.0)),
         ];
         let runs = clip_polyline(&R, &pts);
         assert_eq!(runs.len(), 3);
         assert_eq!(runs[0], vec![(0.0, 0.0), (1.0, 1.0)]);
         assert_eq!(runs[1], vec![(1.5, 0.0), (2.0, 0.0)]);
-        assert_eq!(runs[2], vec![(2.0, 0.0), (1.0, 0.0)]);
+        assert_eq!(runs[2], vec![(2.0, 0.75), (1.0, 1.0)]);
     }
 
     /// Direct reference for the polygon clip: Monte Carlo area of the
