@@ -1,1 +1,516 @@
-//! (being built)
+//! Power-law noise synthesis: seeded phase or frequency records whose
+//! stability follows a [`PowerLaw`] model, after Kasdin & Walter,
+//! "Discrete simulation of power law noise", Proc. IEEE Frequency Control
+//! Symposium 1992, pp. 274–283.
+//!
+//! # The discrete process
+//!
+//! Each power law h_α f^α of S_y(f) (α = 2 … −2) is made from its own white
+//! Gaussian sequence w_k of variance q by the fractional-difference filter
+//! of Kasdin & Walter,
+//!
+//! z = (1 − B)^(−d) w,   h_0 = 1,   h_k = h_(k−1)·(k − 1 + d)/k,
+//!
+//! where B is the one-sample delay. The phase is x_k = Σ_(j≤k) z_j (seconds),
+//! which is the same filter with exponent d + 1 applied to w (the partial sums
+//! of the coefficients of (1 − B)^(−d) are those of (1 − B)^(−d−1)). The
+//! exponent d on this "increment" level is d = −α/2:
+//!
+//! | α  | noise | d    | how it is computed                                  |
+//! |----|-------|------|-----------------------------------------------------|
+//! | 2  | WPM   | −1   | z_k = w_k − w_(k−1), so x_k = w_k                    |
+//! | 1  | FPM   | −1/2 | x = (1 − B)^(−1/2) w by FFT convolution, z = Δx       |
+//! | 0  | WFM   | 0    | z = w (x is a random walk)                          |
+//! | −1 | FFM   | 1/2  | z = (1 − B)^(−1/2) w by FFT convolution              |
+//! | −2 | RWFM  | 1    | z_k = Σ_(j≤k) w_j                                   |
+//!
+//! For the integer exponents the filter is a finite recursion and is applied
+//! exactly, with no FFT (it gives the same numbers as the convolution, to
+//! rounding). For the half-integer exponent the N coefficients are applied by
+//! a linear convolution computed with one complex FFT of length
+//! M ≥ 2N − 1 (the smallest 2^a·3^b·5^c, so that circular wrap-around never
+//! reaches the kept samples): white noise in the real part, the coefficients
+//! in the imaginary part, the two spectra separated by conjugate symmetry,
+//! multiplied, and transformed back. Without this zero padding the
+//! convolution would be circular and the long memory of FPM and FFM
+//! (α ≤ −1 on the frequency side) would wrap the end of the record onto its
+//! start. The record is the first N samples of the process started from
+//! rest ("pad to ≥ 2N"): no transient is discarded. The expected overlapping
+//! Allan variance of this zero-start FFM process, computed exactly from the
+//! filter coefficients for N = 2^16, is within 0.4 % of the stationary value
+//! for m ≤ N/16 and 1.9 % low at m = N/4, where the estimate itself has an
+//! EDF of about 3; keeping the tail of a process twice as long would cost 1.5×
+//! the memory for no visible gain.
+//!
+//! # Calibration: the white-noise variance q for a given h_α
+//!
+//! The one-sided PSD of z = (1 − B)^(−d) w on 0 < f < f_h = 1/(2τ0) is
+//! q·2τ0·|1 − e^(−i2πfτ0)|^(−2d) = 2qτ0·(2 sin(πfτ0))^(−2d). The phase is the
+//! same filter with exponent d_x = d + 1 = (2 − α)/2, so
+//!
+//! S_x^disc(f) = 2qτ0·(2 sin(πfτ0))^(α−2)  →  2qτ0·(2πfτ0)^(α−2)  as f → 0.
+//!
+//! The model's phase PSD is S_x(f) = S_y(f)/(2πf)² = h_α f^(α−2)/(2π)²
+//! (IEEE Std 1139-2008). Equating the two at low frequency gives
+//!
+//! q = h_α·(2πτ0)^(2−α)/(8π²τ0) = h_α·(2π)^(−α)·τ0^(1−α)/2   (seconds²).
+//!
+//! With this q the AVAR of the output agrees with the IEEE Std 1139 table
+//! (CHECKS.md C, f_h = 1/(2τ0)):
+//! - WPM: exactly at every τ (x is white with variance h_2 f_h/(2π)², and the
+//!   AVAR of white phase of variance σ² is 3σ²/τ²);
+//! - WFM: exactly at every τ (x is a random walk of step variance h_0τ0/2);
+//! - RWFM: σ_y²(mτ0) = (2π)²τh_−2/6 · (1 + 1/(2m²)) exactly, i.e. 50 % high at
+//!   m = 1, 3 % at m = 4, 0.8 % at m = 8;
+//! - FFM: 1.443, 1.154, 1.050, 1.015, 1.005 times 2 ln2·h_−1 at m = 1, 2, 4,
+//!   8, 16 (exact sums over the filter coefficients), within 0.1 % beyond;
+//! - FPM: 1.19, 1.09 (m = 4), 1.06 (m = 16), 1.03 (m = 1024) times the table
+//!   value: asymptotically the discrete process behaves as the table with
+//!   f_h = 2/(πτ0) instead of 1/(2τ0) (its PSD 1/(2 sin πfτ0) exceeds 1/(2πfτ0)
+//!   near Nyquist, and ∫_0^(π/2) (1/sin u − 1/u) du = ln(4/π)).
+//!
+//! These small-τ departures belong to the discrete Kasdin–Walter process
+//! itself; they are stated here so that a test or a Monte Carlo that uses
+//! short τ knows what to expect.
+//!
+//! # Offset and drift
+//!
+//! A fractional-frequency offset y0 and a linear frequency drift D (per
+//! second) add x(t) = y0·t + D·t²/2 to the phase at t_k = kτ0, which is
+//! y0 + D·(k + ½)·τ0 in the frequency sample k (the average over its
+//! interval).
+//!
+//! # Reproducibility
+//!
+//! Term α draws its white noise from ChaCha8 (`rand_chacha`) seeded with
+//! `seed_from_u64(seed)` on stream 2 − α (WPM 0 … RWFM 4), through
+//! `rand_distr::StandardNormal`; the FFT is `rustfft`'s scalar planner, whose
+//! choice of algorithm depends on the length only. So the same seed gives the
+//! same record on every machine, and adding a term to a model leaves the
+//! realisation of the other terms unchanged.
+
+use crate::error::{Error, Result};
+use crate::model::PowerLaw;
+use crate::record::{FrequencyRecord, PhaseRecord};
+use rand::{Rng, SeedableRng};
+use rand_chacha::ChaCha8Rng;
+use rand_distr::StandardNormal;
+use rustfft::num_complex::Complex;
+use rustfft::FftPlannerScalar;
+use std::f64::consts::PI;
+
+/// Largest record [`simulate_phase`] and [`simulate_frequency`] accept
+/// (2^30 samples; the FFT for flicker terms needs about 32·2N bytes).
+pub const MAX_POINTS: usize = 1 << 30;
+
+/// What to synthesise.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct SimSpec {
+    /// The power-law model (h_α; f_h must be 1/(2τ0) when WPM or FPM is present).
+    pub model: PowerLaw,
+    /// Sampling interval τ0 in seconds.
+    pub tau0: f64,
+    /// Number of samples in the record.
+    pub points: usize,
+    /// Seed of the random generator.
+    pub seed: u64,
+    /// Constant fractional-frequency offset y0.
+    pub freq_offset: f64,
+    /// Linear fractional-frequency drift D per second (aging).
+    pub drift_per_s: f64,
+}
+
+impl SimSpec {
+    /// A specification with no offset and no drift.
+    pub fn new(model: PowerLaw, tau0: f64, points: usize, seed: u64) -> Self {
+        Self {
+            model,
+            tau0,
+            points,
+            seed,
+            freq_offset: 0.0,
+            drift_per_s: 0.0,
+        }
+    }
+
+    fn check(&self, min_points: usize) -> Result<()> {
+        if !(self.tau0.is_finite() && self.tau0 > 0.0) {
+            return Err(Error::invalid(format!(
+                "τ0 must be a positive number of seconds, got {}",
+                self.tau0
+            )));
+        }
+        if self.points < min_points || self.points > MAX_POINTS {
+            return Err(Error::invalid(format!(
+                "number of points must be between {min_points} and {MAX_POINTS}, got {}",
+                self.points
+            )));
+        }
+        for a in -2..=2 {
+            let h = self.model.get(a);
+            if !(h.is_finite() && h >= 0.0) {
+                return Err(Error::invalid(format!(
+                    "model h{a} must be a non-negative number, got {h}"
+                )));
+            }
+        }
+        if !self.freq_offset.is_finite() {
+            return Err(Error::invalid("frequency offset must be a finite number"));
+        }
+        if !self.drift_per_s.is_finite() {
+            return Err(Error::invalid("frequency drift must be a finite number"));
+        }
+        let fh = 0.5 / self.tau0;
+        let uses_fh = self.model.get(2) > 0.0 || self.model.get(1) > 0.0;
+        if uses_fh && (self.model.f_h - fh).abs() > 1e-9 * fh {
+            return Err(Error::invalid(format!(
+                "the synthesised record has bandwidth f_h = 1/(2τ0) = {fh} Hz, but the model \
+                 gives fh = {} Hz for its WPM/FPM terms: omit fh or set it to 1/(2τ0)",
+                self.model.f_h
+            )));
+        }
+        Ok(())
+    }
+}
+
+/// Synthesise a phase record (seconds) of `spec.points` samples.
+///
+/// ```
+/// use tauwise::model::PowerLaw;
+/// use tauwise::simulate::{simulate_phase, SimSpec};
+/// let model = PowerLaw::parse("h0=1e-22", 0.5).unwrap();
+/// let rec = simulate_phase(&SimSpec::new(model, 1.0, 1000, 7)).unwrap();
+/// assert_eq!(rec.x.len(), 1000);
+/// assert_eq!(rec, simulate_phase(&SimSpec::new(model, 1.0, 1000, 7)).unwrap());
+/// ```
+pub fn simulate_phase(spec: &SimSpec) -> Result<PhaseRecord> {
+    spec.check(1)?;
+    let mut acc = increments(spec, spec.points)?;
+    let mut sum = 0.0;
+    for v in acc.iter_mut() {
+        sum += *v;
+        *v = sum;
+    }
+    let (y0, d, tau0) = (spec.freq_offset, spec.drift_per_s, spec.tau0);
+    if y0 != 0.0 || d != 0.0 {
+        for (k, v) in acc.iter_mut().enumerate() {
+            let t = k as f64 * tau0;
+            *v += y0 * t + 0.5 * d * t * t;
+        }
+    }
+    PhaseRecord::new(acc, tau0)
+}
+
+/// Synthesise a fractional-frequency record of `spec.points` samples: the
+/// first differences (divided by τ0) of the phase record of `points + 1`
+/// samples with the same seed, computed without the rounding of a
+/// difference of large phase values.
+pub fn simulate_frequency(spec: &SimSpec) -> Result<FrequencyRecord> {
+    spec.check(1)?;
+    let z = increments(spec, spec.points + 1)?;
+    let (y0, d, tau0) = (spec.freq_offset, spec.drift_per_s, spec.tau0);
+    let y = z[1..]
+        .iter()
+        .enumerate()
+        .map(|(k, v)| v / tau0 + y0 + d * (k as f64 + 0.5) * tau0)
+        .collect();
+    FrequencyRecord::new(y, tau0)
+}
+
+/// Phase (seconds) of one power-law term h_α f^α with sampling interval τ0:
+/// `n` samples drawn from `rng` (the building block of [`simulate_phase`],
+/// reused by Monte Carlo work such as holdover percentiles). h = 0 gives
+/// zeros.
+///
+/// # Panics
+/// When α is outside −2 … 2, or h is negative or not finite, or τ0 ≤ 0.
+pub fn power_law_phase(alpha: i32, h: f64, tau0: f64, n: usize, rng: &mut impl Rng) -> Vec<f64> {
+    assert!((-2..=2).contains(&alpha), "α must be in −2 … 2");
+    assert!(h.is_finite() && h >= 0.0, "h_α must be non-negative");
+    assert!(tau0.is_finite() && tau0 > 0.0, "τ0 must be positive");
+    let mut acc = vec![0.0; n];
+    if h > 0.0 {
+        let mut fft = FlickerFft::default();
+        add_term(alpha, white_sigma(alpha, h, tau0), rng, &mut acc, &mut fft);
+    }
+    let mut sum = 0.0;
+    for v in acc.iter_mut() {
+        sum += *v;
+        *v = sum;
+    }
+    acc
+}
+
+/// Standard deviation √q (seconds) of the white sequence behind term α, from
+/// q = h_α·(2π)^(−α)·τ0^(1−α)/2 (see the module notes for the derivation).
+pub fn white_sigma(alpha: i32, h: f64, tau0: f64) -> f64 {
+    (h * (2.0 * PI).powi(-alpha) * tau0.powi(1 - alpha) / 2.0).sqrt()
+}
+
+/// The sum over the model's terms of the increments z (seconds), `len` samples.
+fn increments(spec: &SimSpec, len: usize) -> Result<Vec<f64>> {
+    let mut acc = alloc(len)?;
+    acc.resize(len, 0.0);
+    let mut fft = FlickerFft::default();
+    for alpha in (-2..=2).rev() {
+        let h = spec.model.get(alpha);
+        if h > 0.0 {
+            let mut rng = ChaCha8Rng::seed_from_u64(spec.seed);
+            rng.set_stream((2 - alpha) as u64);
+            add_term(
+                alpha,
+                white_sigma(alpha, h, spec.tau0),
+                &mut rng,
+                &mut acc,
+                &mut fft,
+            );
+        }
+    }
+    Ok(acc)
+}
+
+fn alloc<T>(len: usize) -> Result<Vec<T>> {
+    let mut v = Vec::new();
+    v.try_reserve_exact(len).map_err(|_| {
+        Error::insufficient(format!("not enough memory for a record of {len} samples"))
+    })?;
+    Ok(v)
+}
+
+/// Add the increments of term α with white-noise standard deviation `sigma`
+/// to `acc`.
+fn add_term(alpha: i32, sigma: f64, rng: &mut impl Rng, acc: &mut [f64], fft: &mut FlickerFft) {
+    let mut normal = || -> f64 { rng.sample(StandardNormal) };
+    match alpha {
+        2 => {
+            let mut prev = 0.0;
+            for v in acc.iter_mut() {
+                let w = normal();
+                *v += sigma * (w - prev);
+                prev = w;
+            }
+        }
+        0 => {
+            for v in acc.iter_mut() {
+                *v += sigma * normal();
+            }
+        }
+        -2 => {
+            let mut s = 0.0;
+            for v in acc.iter_mut() {
+                s += normal();
+                *v += sigma * s;
+            }
+        }
+        1 => {
+            let x = fft.filter_half(acc.len(), &mut normal);
+            let mut prev = 0.0;
+            for (v, xi) in acc.iter_mut().zip(x) {
+                *v += sigma * (xi - prev);
+                prev = xi;
+            }
+        }
+        -1 => {
+            let z = fft.filter_half(acc.len(), &mut normal);
+            for (v, zi) in acc.iter_mut().zip(z) {
+                *v += sigma * zi;
+            }
+        }
+        _ => unreachable!("α checked by the callers"),
+    }
+}
+
+/// Kasdin–Walter coefficients h_0 … h_(n−1) of (1 − B)^(−d):
+/// h_0 = 1, h_k = h_(k−1)·(k − 1 + d)/k.
+pub fn kw_coefficients(d: f64, n: usize) -> Vec<f64> {
+    let mut h = Vec::with_capacity(n);
+    let mut c = 1.0;
+    for k in 0..n {
+        if k > 0 {
+            c *= (k as f64 - 1.0 + d) / k as f64;
+        }
+        h.push(c);
+    }
+    h
+}
+
+/// The smallest 2^a·3^b·5^c ≥ n (rustfft is fast on such lengths).
+pub fn fast_len(n: usize) -> usize {
+    let n = n.max(1);
+    let mut best = n.next_power_of_two();
+    let mut p5 = 1usize;
+    while p5 < best {
+        let mut p35 = p5;
+        while p35 < best {
+            let mut v = p35;
+            while v < n {
+                v *= 2;
+            }
+            best = best.min(v);
+            p35 *= 3;
+        }
+        p5 *= 5;
+    }
+    best
+}
+
+/// Reusable FFT state for the half-integer (flicker) filter.
+struct FlickerFft {
+    planner: FftPlannerScalar<f64>,
+    buf: Vec<Complex<f64>>,
+    scratch: Vec<Complex<f64>>,
+}
+
+impl Default for FlickerFft {
+    fn default() -> Self {
+        Self {
+            planner: FftPlannerScalar::new(),
+            buf: Vec::new(),
+            scratch: Vec::new(),
+        }
+    }
+}
+
+impl FlickerFft {
+    /// y_k = Σ_(j≤k) h_j w_(k−j), k < n, for the d = ½ coefficients h and
+    /// fresh white noise w: a linear convolution by one complex FFT pair of
+    /// length M ≥ 2n − 1. Returns the n outputs (borrowed from the buffer).
+    fn filter_half(
+        &mut self,
+        n: usize,
+        normal: &mut impl FnMut() -> f64,
+    ) -> impl Iterator<Item = f64> + '_ {
+        let m = fast_len(2 * n - 1);
+        let fwd = self.planner.plan_fft_forward(m);
+        let inv = self.planner.plan_fft_inverse(m);
+        let need = fwd
+            .get_inplace_scratch_len()
+            .max(inv.get_inplace_scratch_len());
+        self.buf.clear();
+        self.buf.resize(m, Complex::new(0.0, 0.0));
+        if self.scratch.len() < need {
+            self.scratch.resize(need, Complex::new(0.0, 0.0));
+        }
+        let mut c = 1.0;
+        for k in 0..n {
+            if k > 0 {
+                c *= (k as f64 - 0.5) / k as f64;
+            }
+            self.buf[k] = Complex::new(normal(), c);
+        }
+        fwd.process_with_scratch(&mut self.buf, &mut self.scratch[..need]);
+        // Z = W + iH with W, H the spectra of the real sequences w and h:
+        // W_k = (Z_k + conj Z_(M−k))/2, H_k = (Z_k − conj Z_(M−k))/(2i).
+        let half = Complex::new(0.5, 0.0);
+        let minus_half_i = Complex::new(0.0, -0.5);
+        for k in 0..=m / 2 {
+            let j = (m - k) % m;
+            let zk = self.buf[k];
+            let zj = self.buf[j].conj();
+            let w = (zk + zj) * half;
+            let h = (zk - zj) * minus_half_i;
+            let p = w * h;
+            self.buf[k] = p;
+            self.buf[j] = p.conj();
+        }
+        inv.process_with_scratch(&mut self.buf, &mut self.scratch[..need]);
+        let scale = 1.0 / m as f64;
+        self.buf[..n].iter().map(move |c| c.re * scale)
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// Direct linear convolution, the textbook form of the filter.
+    fn direct(h: &[f64], w: &[f64]) -> Vec<f64> {
+        (0..w.len())
+            .map(|k| (0..=k).map(|j| h[j] * w[k - j]).sum())
+            .collect()
+    }
+
+    #[test]
+    fn fft_filter_equals_direct_convolution() {
+        for &n in &[1usize, 2, 3, 17, 100, 257] {
+            let mut rng = ChaCha8Rng::seed_from_u64(3);
+            let w: Vec<f64> = (0..n).map(|_| rng.sample(StandardNormal)).collect();
+            let mut it = w.iter().copied();
+            let mut fft = FlickerFft::default();
+            let got: Vec<f64> = fft.filter_half(n, &mut || it.next().unwrap()).collect();
+            let want = direct(&kw_coefficients(0.5, n), &w);
+            for (g, e) in got.iter().zip(&want) {
+                assert!((g - e).abs() < 1e-12 * (1.0 + e.abs()), "n={n}: {g} vs {e}");
+            }
+        }
+    }
+
+    /// The integer-d recursions are the Kasdin–Walter filter (analytic:
+    /// (1 − B)^1 = 1 − B, (1 − B)^0 = 1, (1 − B)^(−1) = Σ B^k).
+    #[test]
+    fn integer_paths_equal_the_filter() {
+        let n = 200;
+        for (alpha, d) in [(2, -1.0), (0, 0.0), (-2, 1.0)] {
+            let mut rng = ChaCha8Rng::seed_from_u64(5);
+            let mut acc = vec![0.0; n];
+            add_term(alpha, 1.0, &mut rng, &mut acc, &mut FlickerFft::default());
+            let mut rng = ChaCha8Rng::seed_from_u64(5);
+            let w: Vec<f64> = (0..n).map(|_| rng.sample(StandardNormal)).collect();
+            let want = direct(&kw_coefficients(d, n), &w);
+            for (g, e) in acc.iter().zip(&want) {
+                assert!((g - e).abs() < 1e-12 * (1.0 + e.abs()));
+            }
+        }
+    }
+
+    #[test]
+    fn coefficients() {
+        // (1 − B)^(−1/2): 1, 1/2, 3/8, 5/16 (binomial series, analytic).
+        let h = kw_coefficients(0.5, 4);
+        assert_eq!(h, vec![1.0, 0.5, 0.375, 0.3125]);
+        assert_eq!(kw_coefficients(1.0, 3), vec![1.0, 1.0, 1.0]);
+        assert_eq!(kw_coefficients(-1.0, 3), vec![1.0, -1.0, 0.0]);
+    }
+
+    #[test]
+    fn fast_lengths() {
+        assert_eq!(fast_len(1), 1);
+        assert_eq!(fast_len(7), 8);
+        assert_eq!(fast_len(11), 12);
+        assert_eq!(fast_len(19_999_999), 20_000_000);
+        assert_eq!(fast_len(131_071), 131_072);
+        for n in 1..2000 {
+            let m = fast_len(n);
+            assert!(m >= n);
+            let mut r = m;
+            for p in [2, 3, 5] {
+                while r % p == 0 {
+                    r /= p;
+                }
+            }
+            assert_eq!(r, 1);
+            assert!((n..m).all(|v| {
+                let mut r = v;
+                for p in [2, 3, 5] {
+                    while r % p == 0 {
+                        r /= p;
+                    }
+                }
+                r != 1
+            }));
+        }
+    }
+
+    #[test]
+    fn bad_specs_are_errors() {
+        let model = PowerLaw::parse("h0=1e-22", 0.5).unwrap();
+        assert!(simulate_phase(&SimSpec::new(model, 0.0, 10, 1)).is_err());
+        assert!(simulate_phase(&SimSpec::new(model, 1.0, 0, 1)).is_err());
+        let wpm = PowerLaw::parse("h2=1e-22,fh=10", 0.5).unwrap();
+        let e = simulate_phase(&SimSpec::new(wpm, 1.0, 10, 1)).unwrap_err();
+        assert!(e.to_string().contains("fh"), "{e}");
+        let mut s = SimSpec::new(model, 1.0, 10, 1);
+        s.drift_per_s = f64::NAN;
+        assert!(simulate_frequency(&s).is_err());
+    }
+}

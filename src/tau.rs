@@ -1,1 +1,181 @@
-//! (being built)
+//! Grids of averaging times τ = m·τ0, given as averaging factors m.
+//!
+//! - `octave` (the default): m = 1, 2, 4, 8, …
+//! - `decade`: the 1-2-5 sequence m = 1, 2, 5, 10, 20, 50, …
+//! - `all`: every m from 1 to the largest valid one.
+//! - `log:N`: N points per decade, m = round(10^(k/N)), duplicates dropped.
+//! - an explicit list of durations, `1,10,100s,1h` (plain numbers are seconds;
+//!   see [`crate::units::parse_duration`]); each must be a whole multiple of τ0.
+
+use crate::error::{Error, Result};
+use crate::units::{format_si, parse_duration};
+
+/// A τ grid, as chosen on the command line with `--taus`.
+#[derive(Debug, Clone, PartialEq)]
+pub enum TauGrid {
+    /// m = 2^k.
+    Octave,
+    /// m = {1, 2, 5}·10^k.
+    Decade,
+    /// Every m.
+    All,
+    /// N points per decade, m = round(10^(k/N)).
+    PerDecade(u32),
+    /// Explicit averaging times in seconds.
+    Explicit(Vec<f64>),
+}
+
+const GRID_EXPECTED: &str =
+    "expected octave, decade, all, log:N (N points per decade, 1 to 1000) or a comma-separated list of durations such as 1,10,100s,1h";
+
+/// Relative tolerance for an explicit τ to count as a whole multiple of τ0.
+const WHOLE_TOL: f64 = 1e-6;
+
+impl TauGrid {
+    /// Parse `octave`, `decade`, `all`, `log:N` or a list of durations.
+    ///
+    /// ```
+    /// use tauwise::tau::TauGrid;
+    /// assert_eq!(TauGrid::parse("octave").unwrap(), TauGrid::Octave);
+    /// assert_eq!(TauGrid::parse("log:10").unwrap(), TauGrid::PerDecade(10));
+    /// assert_eq!(TauGrid::parse("1,10,100s,1h").unwrap(),
+    ///            TauGrid::Explicit(vec![1.0, 10.0, 100.0, 3600.0]));
+    /// assert!(TauGrid::parse("weekly").is_err());
+    /// ```
+    pub fn parse(text: &str) -> Result<Self> {
+        let t = text.trim();
+        let lower = t.to_ascii_lowercase();
+        match lower.as_str() {
+            "" => return Err(Error::invalid(format!("empty τ grid: {GRID_EXPECTED}"))),
+            "octave" => return Ok(TauGrid::Octave),
+            "decade" => return Ok(TauGrid::Decade),
+            "all" => return Ok(TauGrid::All),
+            _ => {}
+        }
+        if let Some(n) = lower.strip_prefix("log:") {
+            return match n.trim().parse::<u32>() {
+                Ok(k) if (1..=1000).contains(&k) => Ok(TauGrid::PerDecade(k)),
+                _ => Err(Error::invalid(format!(
+                    "τ grid '{t}': '{n}' is not a number of points per decade from 1 to 1000"
+                ))),
+            };
+        }
+        let mut taus = Vec::new();
+        for part in t.split(',') {
+            let p = part.trim();
+            let tau = parse_duration(p).map_err(|_| {
+                Error::invalid(format!("τ grid '{t}': '{p}' is not a duration; {GRID_EXPECTED}"))
+            })?;
+            if !(tau > 0.0) {
+                return Err(Error::invalid(format!(
+                    "τ grid '{t}': τ = '{p}' must be positive"
+                )));
+            }
+            taus.push(tau);
+        }
+        Ok(TauGrid::Explicit(taus))
+    }
+
+    /// Averaging factors for this grid: sorted, deduplicated, within
+    /// 1..=max_m. Explicit τ must be whole multiples of τ0 (within 1e-6
+    /// relative), else [`Error::Invalid`] naming the τ; an explicit τ beyond
+    /// max_m·τ0 (too long for the record) is left out, like any τ that cannot
+    /// be computed.
+    ///
+    /// ```
+    /// use tauwise::tau::TauGrid;
+    /// assert_eq!(TauGrid::Octave.ms(1.0, 20).unwrap(), vec![1, 2, 4, 8, 16]);
+    /// assert_eq!(TauGrid::Decade.ms(1.0, 60).unwrap(), vec![1, 2, 5, 10, 20, 50]);
+    /// assert!(TauGrid::Explicit(vec![1.5]).ms(1.0, 10).is_err());
+    /// ```
+    pub fn ms(&self, tau0: f64, max_m: usize) -> Result<Vec<usize>> {
+        if !(tau0.is_finite() && tau0 > 0.0) {
+            return Err(Error::invalid(format!(
+                "τ0 must be a positive number of seconds, got {tau0}"
+            )));
+        }
+        let mut out: Vec<usize> = match self {
+            TauGrid::Octave => {
+                let mut v = Vec::new();
+                let mut m = 1usize;
+                while m <= max_m {
+                    v.push(m);
+                    match m.checked_mul(2) {
+                        Some(n) => m = n,
+                        None => break,
+                    }
+                }
+                v
+            }
+            TauGrid::Decade => {
+                let mut v = Vec::new();
+                let mut dec = 1usize;
+                'outer: loop {
+                    for k in [1usize, 2, 5] {
+                        match dec.checked_mul(k) {
+                            Some(m) if m <= max_m => v.push(m),
+                            _ => break 'outer,
+                        }
+                    }
+                    match dec.checked_mul(10) {
+                        Some(d) => dec = d,
+                        None => break,
+                    }
+                }
+                v
+            }
+            TauGrid::All => (1..=max_m).collect(),
+            TauGrid::PerDecade(n) => {
+                let n = (*n).max(1) as f64;
+                let mut v = Vec::new();
+                let mut k = 0u32;
+                loop {
+                    let m = 10f64.powf(k as f64 / n).round();
+                    if m > max_m as f64 {
+                        break;
+                    }
+                    v.push(m as usize);
+                    k += 1;
+                }
+                v
+            }
+            TauGrid::Explicit(taus) => {
+                let mut v = Vec::new();
+                for &tau in taus {
+                    let ratio = tau / tau0;
+                    let m = ratio.round();
+                    if !(tau.is_finite() && m >= 1.0 && (ratio - m).abs() <= WHOLE_TOL * ratio) {
+                        return Err(Error::invalid(format!(
+                            "τ = {} is not a whole multiple of τ0 = {}",
+                            format_si(tau, "s", 6),
+                            format_si(tau0, "s", 6)
+                        )));
+                    }
+                    if m <= max_m as f64 {
+                        v.push(m as usize);
+                    }
+                }
+                v
+            }
+        };
+        out.sort_unstable();
+        out.dedup();
+        Ok(out)
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn empty_when_record_too_short() {
+        assert!(TauGrid::Octave.ms(1.0, 0).unwrap().is_empty());
+        assert!(TauGrid::All.ms(1.0, 0).unwrap().is_empty());
+    }
+
+    #[test]
+    fn bad_tau0() {
+        assert!(TauGrid::Octave.ms(0.0, 10).is_err());
+    }
+}

@@ -1,1 +1,203 @@
-//! Options shared by several subcommands and the rendering helpers.
+//! Options shared by several subcommands (how to read the input, where and
+//! how to write the output) and the JSON pieces every command's output
+//! carries (DESIGN.md §5).
+
+use clap::{Args, ValueEnum};
+use std::io::Write;
+use std::path::{Path, PathBuf};
+use tauwise::io::series::{read_series, Series, SeriesOptions};
+use tauwise::{DataKind, Error, Result};
+
+/// The kind of readings in an input file (`--data`).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum DataArg {
+    /// Phase (time error) readings.
+    Phase,
+    /// Frequency readings (fractional, ppm, ppb or absolute Hz).
+    Freq,
+}
+
+impl From<DataArg> for DataKind {
+    fn from(d: DataArg) -> Self {
+        match d {
+            DataArg::Phase => DataKind::Phase,
+            DataArg::Freq => DataKind::Freq,
+        }
+    }
+}
+
+/// How to read a time-series input file.
+#[derive(Debug, Clone, Args)]
+pub struct InputArgs {
+    /// What the readings are: phase (time error) or frequency.
+    /// Default: phase, or frequency when --units is a frequency unit.
+    #[arg(long = "data", value_enum, value_name = "KIND")]
+    pub data: Option<DataArg>,
+    /// Sampling interval τ0 (e.g. 1s, 100ms, or plain seconds).
+    /// Default: the median spacing of the timestamps in the time column.
+    #[arg(long, value_name = "DUR", allow_hyphen_values = true)]
+    pub tau0: Option<String>,
+    /// Unit of the readings: s ms us ns ps (phase) or frac ppm ppb hz
+    /// (frequency; hz = absolute readings, needs --carrier). Default s / frac.
+    #[arg(long = "units", value_name = "U")]
+    pub units: Option<String>,
+    /// Nominal (carrier) frequency, e.g. 10MHz; needed with --units hz.
+    #[arg(long, value_name = "FREQ")]
+    pub carrier: Option<String>,
+    /// Column holding the readings (1-based). Default: the last numeric column.
+    #[arg(long, value_name = "N")]
+    pub value_column: Option<usize>,
+    /// Column holding timestamps (seconds or ISO-8601), 1-based. Default:
+    /// column 1 when the file has two or more columns and --tau0 is not given.
+    #[arg(long, value_name = "N")]
+    pub time_column: Option<usize>,
+}
+
+impl InputArgs {
+    /// The reader options these arguments ask for.
+    pub fn options(&self) -> Result<SeriesOptions> {
+        let tau0 = match &self.tau0 {
+            Some(t) => {
+                let v = tauwise::units::parse_duration(t)?;
+                if !(v > 0.0) {
+                    return Err(Error::invalid(format!(
+                        "--tau0 {t}: expected a positive sampling interval (e.g. 1s, 100ms)"
+                    )));
+                }
+                Some(v)
+            }
+            None => None,
+        };
+        let unit = match &self.units {
+            Some(u) => Some(tauwise::units::parse_value_unit(u)?),
+            None => None,
+        };
+        let carrier = match &self.carrier {
+            Some(c) => {
+                let v = tauwise::units::parse_frequency(c)?;
+                if !(v > 0.0) {
+                    return Err(Error::invalid(format!(
+                        "--carrier {c}: expected a positive frequency (e.g. 10MHz)"
+                    )));
+                }
+                Some(v)
+            }
+            None => None,
+        };
+        Ok(SeriesOptions {
+            kind: self.data.map(DataKind::from),
+            unit,
+            tau0,
+            carrier,
+            value_column: self.value_column,
+            time_column: self.time_column,
+        })
+    }
+
+    /// Read the series at `path` (`-` = standard input) with these options.
+    pub fn load(&self, path: &Path) -> Result<Series> {
+        let opts = self.options()?;
+        Ok(read_series(path, &opts)?)
+    }
+}
+
+/// Output format of a command's results.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, ValueEnum)]
+pub enum Format {
+    /// Aligned text for reading.
+    #[default]
+    Table,
+    /// Comma-separated values, one row per result.
+    Csv,
+    /// JSON (the contract scripts rely on).
+    Json,
+}
+
+/// Where and how to write a command's results.
+#[derive(Debug, Clone, Args)]
+pub struct OutputArgs {
+    /// Output format.
+    #[arg(long, value_enum, default_value_t = Format::Table, value_name = "FORMAT")]
+    pub format: Format,
+    /// Write the results to FILE (atomically) instead of standard output.
+    #[arg(short = 'o', long = "output", value_name = "FILE")]
+    pub output: Option<PathBuf>,
+}
+
+/// Write `text` to standard output, or atomically to the `-o` file
+/// (`-o -` is standard output too).
+pub fn emit(out: &OutputArgs, text: &str) -> Result<()> {
+    emit_to(out.output.as_deref(), text.as_bytes())
+}
+
+/// Write `bytes` to `path` atomically, or to standard output when `path` is
+/// `None` or `-`. A closed pipe on standard output is not an error.
+pub fn emit_to(path: Option<&Path>, bytes: &[u8]) -> Result<()> {
+    match path {
+        Some(p) if p.as_os_str() != "-" => Ok(tauwise::io::write_atomic(p, bytes)?),
+        _ => {
+            let mut so = std::io::stdout().lock();
+            match so.write_all(bytes).and_then(|_| so.flush()) {
+                Ok(()) => Ok(()),
+                Err(e) if e.kind() == std::io::ErrorKind::BrokenPipe => Ok(()),
+                Err(e) => Err(tauwise::io::WriteError {
+                    path: PathBuf::from("-"),
+                    source: e,
+                }
+                .into()),
+            }
+        }
+    }
+}
+
+/// The `"input"` object of every command's JSON:
+/// `{"path","data","tau0","points","gaps"}` (DESIGN.md §5). `points` counts
+/// every sample of the record, gaps included; `gaps` the missing ones.
+pub fn input_json(series: &Series) -> serde_json::Value {
+    serde_json::json!({
+        "path": series.info.path.display().to_string(),
+        "data": series.record.kind().name(),
+        "tau0": series.record.tau0(),
+        "points": series.record.len(),
+        "gaps": series.record.gaps(),
+    })
+}
+
+/// The first members of every command's JSON: `"tool"`, `"version"` and
+/// `"input"`. Add the command's results to the returned map.
+pub fn header_json(series: &Series) -> serde_json::Map<String, serde_json::Value> {
+    let mut m = serde_json::Map::new();
+    m.insert("tool".into(), tauwise::TOOL.into());
+    m.insert("version".into(), tauwise::VERSION.into());
+    m.insert("input".into(), input_json(series));
+    m
+}
+
+/// JSON numbers cannot be NaN or infinite: such values become `null`.
+pub fn num(v: f64) -> serde_json::Value {
+    if v.is_finite() {
+        serde_json::Value::from(v)
+    } else {
+        serde_json::Value::Null
+    }
+}
+
+/// Serialise a JSON document with a final newline.
+pub fn json_text(doc: &serde_json::Value) -> String {
+    let mut s = serde_json::to_string_pretty(doc).unwrap_or_else(|_| "{}".to_string());
+    s.push('\n');
+    s
+}
+
+/// A number written for machines (CSV cells, data files): the shortest text
+/// that reads back to the same `f64`, in plain notation for moderate
+/// magnitudes and in exponent notation otherwise; `NaN` for a gap.
+pub fn plain(v: f64) -> String {
+    if v.is_nan() {
+        "NaN".to_string()
+    } else if v == 0.0 || (1e-4..1e15).contains(&v.abs()) {
+        format!("{v}")
+    } else {
+        format!("{v:e}")
+    }
+}

@@ -4,6 +4,9 @@
 use clap::{Parser, Subcommand};
 
 pub mod common;
+pub mod inspect;
+pub mod prepare;
+pub mod simulate;
 
 /// Oscillator and clock stability analysis.
 #[derive(Debug, Parser)]
@@ -15,7 +18,14 @@ pub struct Cli {
 
 /// The subcommands (DESIGN.md §5).
 #[derive(Debug, Subcommand)]
-pub enum Command {}
+pub enum Command {
+    /// Summarise a record: points, span, τ0, gaps, offset, drift, outliers.
+    Inspect(inspect::Args),
+    /// Write a cleaned copy of a record (drift, outliers, gaps, decimation).
+    Prepare(prepare::Args),
+    /// Synthetic power-law noise records (seeded).
+    Simulate(simulate::SimulateArgs),
+}
 
 /// What a subcommand returns to `main` when it did not fail.
 pub enum Outcome {
@@ -35,7 +45,11 @@ pub fn main() -> i32 {
             return code;
         }
     };
-    let result: Result<Outcome, tauwise::Error> = match cli.command {};
+    let result: Result<Outcome, tauwise::Error> = match cli.command {
+        Command::Inspect(a) => inspect::run(a),
+        Command::Prepare(a) => prepare::run(a),
+        Command::Simulate(a) => simulate::run(a),
+    };
     match result {
         Ok(Outcome::Done) => 0,
         Ok(Outcome::VerdictFailed) => 3,

@@ -9,7 +9,226 @@
 //! Definitions follow NIST SP 1065 (Riley 2008) and, for MTIE and TIE rms,
 //! ITU-T G.810.
 
+use crate::error::{Error, Result};
 use crate::record::PhaseRecord;
+use rayon::prelude::*;
+
+mod allan;
+mod gaps;
+mod hadamard;
+#[doc(hidden)]
+pub mod reference;
+mod sums;
+mod tie;
+mod total;
+
+/// The registry of estimators: the single source of truth for each one's
+/// trade name, title, difference order, kind of value and valid m range.
+///
+/// ```
+/// use tauwise::deviation::Estimator;
+/// let e = Estimator::from_name("oadev").unwrap();
+/// assert_eq!(e.title(), "overlapping Allan deviation");
+/// assert_eq!(e.max_m(1001), 500);
+/// assert!(Estimator::from_name("nonsense").is_err());
+/// ```
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, PartialOrd, Ord, serde::Serialize)]
+#[serde(rename_all = "lowercase")]
+pub enum Estimator {
+    /// Allan deviation, non-overlapping (NIST SP 1065 §5.2.2).
+    Adev,
+    /// Overlapping Allan deviation (NIST SP 1065 §5.2.4).
+    Oadev,
+    /// Modified Allan deviation (NIST SP 1065 §5.2.5).
+    Mdev,
+    /// Time deviation (NIST SP 1065 §5.2.6).
+    Tdev,
+    /// Hadamard deviation, non-overlapping (NIST SP 1065 §5.2.8).
+    Hdev,
+    /// Overlapping Hadamard deviation (NIST SP 1065 §5.2.9).
+    Ohdev,
+    /// Total deviation (NIST SP 1065 §5.2.11).
+    Totdev,
+    /// Maximum time interval error (ITU-T G.810).
+    Mtie,
+    /// rms time interval error (ITU-T G.810).
+    Tierms,
+}
+
+impl Estimator {
+    /// Every estimator, in the order they are listed and plotted.
+    pub const ALL: &'static [Estimator] = &[
+        Estimator::Adev,
+        Estimator::Oadev,
+        Estimator::Mdev,
+        Estimator::Tdev,
+        Estimator::Hdev,
+        Estimator::Ohdev,
+        Estimator::Totdev,
+        Estimator::Mtie,
+        Estimator::Tierms,
+    ];
+
+    /// The trade name used on the command line and in JSON (`oadev`, …).
+    pub fn name(self) -> &'static str {
+        match self {
+            Estimator::Adev => "adev",
+            Estimator::Oadev => "oadev",
+            Estimator::Mdev => "mdev",
+            Estimator::Tdev => "tdev",
+            Estimator::Hdev => "hdev",
+            Estimator::Ohdev => "ohdev",
+            Estimator::Totdev => "totdev",
+            Estimator::Mtie => "mtie",
+            Estimator::Tierms => "tierms",
+        }
+    }
+
+    /// The long title (`overlapping Allan deviation`, …).
+    pub fn title(self) -> &'static str {
+        match self {
+            Estimator::Adev => "Allan deviation (non-overlapping)",
+            Estimator::Oadev => "overlapping Allan deviation",
+            Estimator::Mdev => "modified Allan deviation",
+            Estimator::Tdev => "time deviation",
+            Estimator::Hdev => "Hadamard deviation (non-overlapping)",
+            Estimator::Ohdev => "overlapping Hadamard deviation",
+            Estimator::Totdev => "total deviation",
+            Estimator::Mtie => "maximum time interval error",
+            Estimator::Tierms => "rms time interval error",
+        }
+    }
+
+    /// Look an estimator up by its trade name (case and surrounding blanks
+    /// ignored). An unknown name is an [`Error::Invalid`] that lists the
+    /// known names.
+    pub fn from_name(s: &str) -> Result<Self> {
+        let t = s.trim();
+        Self::ALL
+            .iter()
+            .copied()
+            .find(|e| e.name().eq_ignore_ascii_case(t))
+            .ok_or_else(|| {
+                let known: Vec<&str> = Self::ALL.iter().map(|e| e.name()).collect();
+                Error::invalid(format!(
+                    "unknown estimator '{t}': expected one of {}",
+                    known.join(", ")
+                ))
+            })
+    }
+
+    /// Parse a comma-separated list (`oadev,mdev`); duplicates are dropped,
+    /// the order is kept. An empty list or an unknown name is an error.
+    pub fn parse_list(s: &str) -> Result<Vec<Self>> {
+        let mut out = Vec::new();
+        for part in s.split(',') {
+            if part.trim().is_empty() {
+                return Err(Error::invalid(format!(
+                    "estimator list '{s}' has an empty entry: expected names separated by commas, e.g. oadev,mdev"
+                )));
+            }
+            let e = Self::from_name(part)?;
+            if !out.contains(&e) {
+                out.push(e);
+            }
+        }
+        Ok(out)
+    }
+
+    /// Order of the phase difference the estimator is built on: 2 for the
+    /// Allan family (second difference of phase), 3 for the Hadamard family,
+    /// 1 for TIE rms, 0 for MTIE (a peak-to-peak, no difference).
+    pub fn difference_order(self) -> u32 {
+        match self {
+            Estimator::Adev
+            | Estimator::Oadev
+            | Estimator::Mdev
+            | Estimator::Tdev
+            | Estimator::Totdev => 2,
+            Estimator::Hdev | Estimator::Ohdev => 3,
+            Estimator::Tierms => 1,
+            Estimator::Mtie => 0,
+        }
+    }
+
+    /// True when the value is a time (seconds: TDEV, MTIE, TIE rms) rather
+    /// than a dimensionless fractional-frequency deviation.
+    pub fn is_time_deviation(self) -> bool {
+        matches!(self, Estimator::Tdev | Estimator::Mtie | Estimator::Tierms)
+    }
+
+    /// Smallest valid averaging factor.
+    pub fn min_m(self) -> usize {
+        1
+    }
+
+    /// Largest averaging factor with at least one term for a record of
+    /// `n_phase` phase samples (0 when the record is too short for any):
+    /// ADEV, OADEV, TOTDEV (N−1)/2; MDEV, TDEV N/3; HDEV, OHDEV (N−1)/3;
+    /// MTIE, TIE rms N−1.
+    pub fn max_m(self, n_phase: usize) -> usize {
+        let n = n_phase;
+        match self {
+            Estimator::Adev | Estimator::Oadev => n.saturating_sub(1) / 2,
+            Estimator::Totdev => {
+                if n < 3 {
+                    0
+                } else {
+                    (n - 1) / 2
+                }
+            }
+            Estimator::Mdev | Estimator::Tdev => n / 3,
+            Estimator::Hdev | Estimator::Ohdev => n.saturating_sub(1) / 3,
+            Estimator::Mtie | Estimator::Tierms => n.saturating_sub(1),
+        }
+    }
+}
+
+impl std::fmt::Display for Estimator {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.write_str(self.name())
+    }
+}
+
+fn estimate_at(est: Estimator, p: &gaps::Prepared, m: usize) -> Option<Estimate> {
+    if m < est.min_m() || m > est.max_m(p.x.len()) {
+        return None;
+    }
+    match est {
+        Estimator::Adev => allan::adev(p, m),
+        Estimator::Oadev => allan::oadev(p, m),
+        Estimator::Mdev => allan::mdev(p, m),
+        Estimator::Tdev => allan::tdev(p, m),
+        Estimator::Hdev => hadamard::hdev(p, m),
+        Estimator::Ohdev => hadamard::ohdev(p, m),
+        Estimator::Totdev => total::totdev(p, m),
+        Estimator::Mtie => tie::mtie(p, m),
+        Estimator::Tierms => tie::tierms(p, m),
+    }
+}
+
+/// Evaluate `est` on the phase record `x` at each averaging factor in `ms`
+/// (τ = m·τ0), in the order given. An m outside the estimator's valid range,
+/// or with no term clear of gaps, is left out. The τ values are computed in
+/// parallel (rayon).
+///
+/// ```
+/// use tauwise::{deviation::{compute, Estimator}, PhaseRecord};
+/// // White phase steps of ±1 ns: x = 0, 1, 0, 1, … ns.
+/// let x: Vec<f64> = (0..100).map(|i| (i % 2) as f64 * 1e-9).collect();
+/// let rec = PhaseRecord::new(x, 1.0).unwrap();
+/// let c = compute(Estimator::Oadev, &rec, &[1, 2]);
+/// // m = 1: every second difference is ±2 ns, σ = sqrt(4e-18/2) = 1.414e-9.
+/// assert!((c[0].value - 2f64.sqrt() * 1e-9).abs() < 1e-21);
+/// // m = 2: x_{i+4} − 2x_{i+2} + x_i = 0, σ = 0.
+/// assert_eq!(c[1].value, 0.0);
+/// ```
+pub fn compute(est: Estimator, x: &PhaseRecord, ms: &[usize]) -> Vec<Estimate> {
+    let p = gaps::Prepared::new(&x.x, x.tau0);
+    ms.par_iter()
+        .filter_map(|&m| estimate_at(est, &p, m))
+        .collect()
+}
 
 /// One estimated deviation at one τ.
 #[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]

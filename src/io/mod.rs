@@ -5,9 +5,12 @@ use std::path::PathBuf;
 use thiserror::Error;
 
 pub mod dut;
+pub mod series;
+pub mod text;
 pub mod write;
 
 pub use write::write_atomic;
+pub use write::write_atomic_with;
 
 /// An input could not be read, or did not hold what was expected.
 ///

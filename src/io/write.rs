@@ -27,6 +27,35 @@ pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<(), WriteError> {
     Ok(())
 }
 
+/// Write to `path` atomically, streaming: `fill` writes into a buffered
+/// temporary file in the same directory, which is synced and renamed over
+/// the target only when `fill` succeeds (for outputs too large to build in
+/// memory first).
+pub fn write_atomic_with<F>(path: &Path, fill: F) -> Result<(), WriteError>
+where
+    F: FnOnce(&mut dyn Write) -> std::io::Result<()>,
+{
+    let err = |source| WriteError {
+        path: path.to_path_buf(),
+        source,
+    };
+    let dir = match path.parent() {
+        Some(d) if !d.as_os_str().is_empty() => d,
+        _ => Path::new("."),
+    };
+    let tmp = tempfile::Builder::new()
+        .prefix(".tauwise-")
+        .suffix(".tmp")
+        .tempfile_in(dir)
+        .map_err(err)?;
+    let mut w = std::io::BufWriter::with_capacity(1 << 18, tmp);
+    fill(&mut w).map_err(err)?;
+    let tmp = w.into_inner().map_err(|e| err(e.into_error()))?;
+    tmp.as_file().sync_all().map_err(err)?;
+    tmp.persist(path).map_err(|e| err(e.error))?;
+    Ok(())
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

@@ -1,0 +1,718 @@
+//! The time-series reader: every kind of bad input with its message, units,
+//! timestamps, inserted gaps, delimiters, standard input, and a proptest that
+//! random bytes and mutated files never make it panic.
+//!
+//! Expected values are analytic (unit definitions: 1 ns = 10⁻⁹ s,
+//! 1 ppm = 10⁻⁶, 1 ppb = 10⁻⁹; IEEE Std 1139 definition of fractional
+//! frequency y = (ν − ν0)/ν0).
+
+use proptest::prelude::*;
+use std::path::{Path, PathBuf};
+use std::process::Command;
+use tauwise::io::series::{read_series, read_series_from, SeriesOptions};
+use tauwise::io::ReadError;
+use tauwise::units::{parse_value_unit, FreqUnit, PhaseUnit, ValueUnit};
+use tauwise::{DataKind, Record};
+
+fn read(text: &[u8], opts: &SeriesOptions) -> Result<tauwise::io::series::Series, ReadError> {
+    read_series_from(text, Path::new("in.txt"), opts)
+}
+
+fn tau(t: f64) -> SeriesOptions {
+    SeriesOptions {
+        tau0: Some(t),
+        ..Default::default()
+    }
+}
+
+fn values(r: &Record) -> Vec<f64> {
+    match r {
+        Record::Phase(p) => p.x.clone(),
+        Record::Frequency(f) => f.y.clone(),
+    }
+}
+
+fn same(a: &[f64], b: &[f64]) -> bool {
+    a.len() == b.len()
+        && a.iter().zip(b).all(|(x, y)| {
+            (x.is_nan() && y.is_nan()) || (x - y).abs() <= 1e-15 * y.abs().max(1e-300)
+        })
+}
+
+fn err_text(e: &ReadError) -> String {
+    e.to_string()
+}
+
+// ---------------------------------------------------------------- bad input
+
+#[test]
+fn missing_file() {
+    let e = read_series(Path::new("/nonexistent/none.txt"), &tau(1.0)).unwrap_err();
+    let m = err_text(&e);
+    assert!(m.starts_with("/nonexistent/none.txt: "), "{m}");
+    assert!(m.contains("no such file"), "{m}");
+}
+
+#[test]
+fn directory() {
+    let d = tempfile::tempdir().unwrap();
+    let e = read_series(d.path(), &tau(1.0)).unwrap_err();
+    assert!(err_text(&e).contains("is a directory"), "{e}");
+}
+
+#[test]
+fn empty_file() {
+    let e = read(b"", &tau(1.0)).unwrap_err();
+    assert!(err_text(&e).contains("the file is empty"), "{e}");
+    assert_eq!(e.path, PathBuf::from("in.txt"));
+}
+
+#[test]
+fn only_comments() {
+    let e = read(b"# nothing\n\n# here\n", &tau(1.0)).unwrap_err();
+    assert!(err_text(&e).contains("only comments"), "{e}");
+}
+
+#[test]
+fn header_only() {
+    let e = read(b"time,phase\n", &tau(1.0)).unwrap_err();
+    let m = err_text(&e);
+    assert!(m.contains("only a header line"), "{m}");
+    assert!(m.contains("time,phase"), "{m}");
+}
+
+#[test]
+fn single_value() {
+    let e = read(b"# one\n1.5e-9\n", &tau(1.0)).unwrap_err();
+    let m = err_text(&e);
+    assert!(m.contains("only one reading"), "{m}");
+    assert_eq!(e.line, Some(2));
+}
+
+#[test]
+fn non_numeric_field_names_line_1234() {
+    let mut text = String::from("# phase\n");
+    for i in 2..1234 {
+        text.push_str(&format!("{}e-9\n", i));
+    }
+    text.push_str("1.2e-9x\n");
+    text.push_str("3e-9\n");
+    let e = read(text.as_bytes(), &tau(1.0)).unwrap_err();
+    assert_eq!(e.line, Some(1234));
+    assert_eq!(e.column, Some(1));
+    let m = err_text(&e);
+    assert!(m.starts_with("in.txt:1234: "), "{m}");
+    assert!(
+        m.contains("'1.2e-9x'") && m.contains("expected a number"),
+        "{m}"
+    );
+}
+
+#[test]
+fn second_text_line_is_an_error() {
+    let e = read(b"a,b\nc,d\n1,2\n", &SeriesOptions::default()).unwrap_err();
+    assert_eq!(e.line, Some(2), "{e}");
+}
+
+#[test]
+fn wrong_column_number() {
+    let opts = SeriesOptions {
+        value_column: Some(5),
+        tau0: Some(1.0),
+        ..Default::default()
+    };
+    let e = read(b"1,2\n3,4\n", &opts).unwrap_err();
+    let m = err_text(&e);
+    assert!(
+        m.contains("value column 5") && m.contains("2 fields"),
+        "{m}"
+    );
+    assert_eq!(e.line, Some(1));
+    let opts = SeriesOptions {
+        time_column: Some(3),
+        ..Default::default()
+    };
+    let e = read(b"1,2\n3,4\n", &opts).unwrap_err();
+    assert!(err_text(&e).contains("time column 3"), "{e}");
+    let opts = SeriesOptions {
+        value_column: Some(0),
+        tau0: Some(1.0),
+        ..Default::default()
+    };
+    assert!(err_text(&read(b"1\n2\n", &opts).unwrap_err()).contains("numbered from 1"));
+    // A later line with too few fields.
+    let opts = SeriesOptions {
+        value_column: Some(2),
+        tau0: Some(1.0),
+        ..Default::default()
+    };
+    let e = read(b"1,2\n3,4\n5\n", &opts).unwrap_err();
+    assert_eq!(e.line, Some(3), "{e}");
+}
+
+#[test]
+fn irregular_timestamps_name_the_line() {
+    // 1.5 τ0 between lines 4 and 5.
+    let e = read(
+        b"t x\n0 1\n1 2\n2 3\n3.5 4\n4.5 5\n",
+        &SeriesOptions::default(),
+    )
+    .unwrap_err();
+    assert_eq!(e.line, Some(5), "{e}");
+    assert!(err_text(&e).contains("whole multiple of τ0"), "{e}");
+    // With τ0 given and no time column named, column 1 is not read as time.
+    let s = read(b"0 1\n1 2\n2.5 3\n", &tau(1.0)).unwrap();
+    assert_eq!(values(&s.record), vec![1.0, 2.0, 3.0]);
+    // With τ0 given and the time column named (streaming placement).
+    let opts = SeriesOptions {
+        tau0: Some(1.0),
+        time_column: Some(1),
+        ..Default::default()
+    };
+    let e = read(b"0 1\n1 2\n2.5 3\n", &opts).unwrap_err();
+    assert_eq!(e.line, Some(3), "{e}");
+    // Decreasing and repeated timestamps.
+    let e = read(b"0 1\n1 2\n1 3\n", &SeriesOptions::default()).unwrap_err();
+    assert_eq!(e.line, Some(3));
+    assert!(err_text(&e).contains("not later"), "{e}");
+}
+
+#[test]
+fn jitter_within_one_percent_is_accepted() {
+    let s = read(
+        b"0 1\n1.004 2\n2.000 3\n3.003 4\n",
+        &SeriesOptions::default(),
+    )
+    .unwrap();
+    assert_eq!(s.record.len(), 4);
+    assert_eq!(s.info.inserted_gaps, 0);
+    let e = read(b"0 1\n1 2\n2 3\n3.02 4\n", &SeriesOptions::default()).unwrap_err();
+    assert_eq!(e.line, Some(4));
+}
+
+#[test]
+fn tau0_not_positive() {
+    for t in [0.0, -1.0, f64::NAN, f64::INFINITY] {
+        let e = read(b"1\n2\n", &tau(t)).unwrap_err();
+        assert!(err_text(&e).contains("positive sampling interval"), "{e}");
+    }
+}
+
+#[test]
+fn tau0_unknown_without_time_column() {
+    let e = read(b"1\n2\n3\n", &SeriesOptions::default()).unwrap_err();
+    assert!(err_text(&e).contains("--tau0"), "{e}");
+}
+
+#[test]
+fn unknown_unit() {
+    let e = parse_value_unit("furlongs").unwrap_err();
+    assert!(e.to_string().contains("'furlongs'"), "{e}");
+}
+
+#[test]
+fn unit_kind_mismatch() {
+    let opts = SeriesOptions {
+        kind: Some(DataKind::Phase),
+        unit: Some(ValueUnit::Freq(FreqUnit::Ppm)),
+        tau0: Some(1.0),
+        ..Default::default()
+    };
+    assert!(err_text(&read(b"1\n2\n", &opts).unwrap_err()).contains("frequency unit"));
+    let opts = SeriesOptions {
+        kind: Some(DataKind::Freq),
+        unit: Some(ValueUnit::Phase(PhaseUnit::Ns)),
+        tau0: Some(1.0),
+        ..Default::default()
+    };
+    assert!(err_text(&read(b"1\n2\n", &opts).unwrap_err()).contains("phase unit"));
+}
+
+#[test]
+fn non_utf8_bytes() {
+    let e = read(b"1\n2\n3\xff\n4\n", &tau(1.0)).unwrap_err();
+    assert_eq!(e.line, Some(3));
+    assert!(err_text(&e).contains("not UTF-8"), "{e}");
+}
+
+#[test]
+fn hz_without_carrier() {
+    let opts = SeriesOptions {
+        unit: Some(ValueUnit::Freq(FreqUnit::Hz)),
+        tau0: Some(1.0),
+        ..Default::default()
+    };
+    let e = read(b"10000000.1\n10000000.2\n", &opts).unwrap_err();
+    assert!(err_text(&e).contains("--carrier"), "{e}");
+}
+
+#[test]
+fn all_missing() {
+    let e = read(b"NaN\n-\nnan\n", &tau(1.0)).unwrap_err();
+    assert!(err_text(&e).contains("all 3 readings are missing"), "{e}");
+}
+
+#[test]
+fn bad_timestamp_field() {
+    let e = read(b"t,x\n0,1\nnoon,2\n", &SeriesOptions::default()).unwrap_err();
+    assert_eq!((e.line, e.column), (Some(3), Some(1)));
+    assert!(err_text(&e).contains("ISO-8601"), "{e}");
+}
+
+#[test]
+fn binary_file_with_no_line_ends() {
+    let junk = vec![b'7'; (1 << 20) + 10];
+    let e = read(&junk, &tau(1.0)).unwrap_err();
+    assert!(err_text(&e).contains("longer than"), "{e}");
+}
+
+// ---------------------------------------------------------------- units
+
+#[test]
+fn phase_units() {
+    for (u, scale) in [
+        (PhaseUnit::S, 1.0),
+        (PhaseUnit::Ms, 1e-3),
+        (PhaseUnit::Us, 1e-6),
+        (PhaseUnit::Ns, 1e-9),
+        (PhaseUnit::Ps, 1e-12),
+    ] {
+        let opts = SeriesOptions {
+            unit: Some(ValueUnit::Phase(u)),
+            tau0: Some(1.0),
+            ..Default::default()
+        };
+        let s = read(b"1.5\n-2\n", &opts).unwrap();
+        assert_eq!(s.record.kind(), DataKind::Phase);
+        assert!(
+            same(&values(&s.record), &[1.5 * scale, -2.0 * scale]),
+            "{u:?}"
+        );
+    }
+}
+
+#[test]
+fn frequency_units() {
+    for (u, scale) in [
+        (FreqUnit::Frac, 1.0),
+        (FreqUnit::Ppm, 1e-6),
+        (FreqUnit::Ppb, 1e-9),
+    ] {
+        let opts = SeriesOptions {
+            unit: Some(ValueUnit::Freq(u)),
+            tau0: Some(1.0),
+            ..Default::default()
+        };
+        let s = read(b"0.25\n-3\n", &opts).unwrap();
+        assert_eq!(
+            s.record.kind(),
+            DataKind::Freq,
+            "a frequency unit implies frequency data"
+        );
+        assert!(
+            same(&values(&s.record), &[0.25 * scale, -3.0 * scale]),
+            "{u:?}"
+        );
+    }
+}
+
+#[test]
+fn absolute_hz_readings() {
+    // y = (ν − ν0)/ν0, IEEE Std 1139.
+    let opts = SeriesOptions {
+        unit: Some(ValueUnit::Freq(FreqUnit::Hz)),
+        carrier: Some(10e6),
+        tau0: Some(1.0),
+        ..Default::default()
+    };
+    let s = read(b"10000000.01\n9999999.98\n10000000\n", &opts).unwrap();
+    let y = values(&s.record);
+    let want = [1e-9, -2e-9, 0.0];
+    for (a, b) in y.iter().zip(want) {
+        assert!((a - b).abs() < 1e-16, "{a} vs {b}");
+    }
+}
+
+#[test]
+fn frequency_kind_default_unit_is_frac() {
+    let opts = SeriesOptions {
+        kind: Some(DataKind::Freq),
+        tau0: Some(2.0),
+        ..Default::default()
+    };
+    let s = read(b"1e-9\n2e-9\n", &opts).unwrap();
+    assert_eq!(values(&s.record), vec![1e-9, 2e-9]);
+    assert_eq!(s.record.tau0(), 2.0);
+}
+
+// ---------------------------------------------------------------- gaps and timestamps
+
+#[test]
+fn missing_value_spellings_are_gaps() {
+    let s = read(
+        b"t,x\n0,1\n1,NaN\n2,\n3,-\n4,nan\n5,6\n",
+        &SeriesOptions::default(),
+    )
+    .unwrap();
+    let v = values(&s.record);
+    assert_eq!(v.len(), 6);
+    assert_eq!(s.record.gaps(), 4);
+    assert_eq!((v[0], v[5]), (1.0, 6.0));
+    assert_eq!(s.info.inserted_gaps, 0);
+}
+
+#[test]
+fn jump_inserts_gaps() {
+    // Jumps of 3τ0 and 2τ0 insert 2 and 1 gaps (τ0 = 10 s, the median spacing).
+    let s = read(
+        b"100 1\n110 2\n140 3\n150 4\n170 5\n180 6\n190 7\n",
+        &SeriesOptions::default(),
+    )
+    .unwrap();
+    assert_eq!(s.record.tau0(), 10.0);
+    assert!(s.info.tau0_from_timestamps);
+    assert_eq!(s.info.inserted_gaps, 3);
+    let v = values(&s.record);
+    let n = f64::NAN;
+    assert!(
+        same(&v, &[1.0, 2.0, n, n, 3.0, 4.0, n, 5.0, 6.0, 7.0]),
+        "{v:?}"
+    );
+    assert_eq!(s.info.start_time, Some(100.0));
+    // The same with τ0 given and the time column named.
+    let opts = SeriesOptions {
+        tau0: Some(10.0),
+        time_column: Some(1),
+        ..Default::default()
+    };
+    let s2 = read(b"100 1\n110 2\n140 3\n150 4\n170 5\n180 6\n190 7\n", &opts).unwrap();
+    assert!(same(&values(&s2.record), &v));
+    assert!(!s2.info.tau0_from_timestamps);
+    assert_eq!(s2.info.inserted_gaps, 3);
+}
+
+#[test]
+fn iso_timestamps() {
+    let text = b"when,phase_ns\n\
+        2024-05-01T00:00:00Z,1\n\
+        2024-05-01T00:00:01Z,2\n\
+        2024-05-01T00:00:02Z,3\n\
+        2024-05-01T00:00:05Z,4\n\
+        2024-05-01T00:00:06Z,5\n";
+    let opts = SeriesOptions {
+        unit: Some(ValueUnit::Phase(PhaseUnit::Ns)),
+        ..Default::default()
+    };
+    let s = read(text, &opts).unwrap();
+    assert_eq!(s.record.tau0(), 1.0);
+    assert_eq!(s.info.inserted_gaps, 2);
+    assert_eq!(s.record.len(), 7);
+    // 2024-05-01T00:00:00Z is 1714521600 s after the Unix epoch (analytic:
+    // 19844 days × 86400 s).
+    assert_eq!(s.info.start_time, Some(1_714_521_600.0));
+    assert_eq!(s.info.header, Some(vec!["when".into(), "phase_ns".into()]));
+}
+
+#[test]
+fn iso_with_space_and_fraction_and_offset() {
+    // Space-separated columns where the date-time itself has a space.
+    let text = b"2024-05-01 00:00:00.000 1\n2024-05-01 00:00:00.250 2\n2024-05-01 00:00:00.500 3\n";
+    let s = read(text, &SeriesOptions::default()).unwrap();
+    assert_eq!(s.record.tau0(), 0.25);
+    assert_eq!(values(&s.record), vec![1.0, 2.0, 3.0]);
+    let text = b"2024-05-01T02:00:00+02:00;1\n2024-05-01T02:00:10+02:00;2\n";
+    let s = read(text, &SeriesOptions::default()).unwrap();
+    assert_eq!(s.record.tau0(), 10.0);
+    assert_eq!(s.info.start_time, Some(1_714_521_600.0));
+}
+
+#[test]
+fn slow_time_base_does_not_break_placement() {
+    // Spacing 1.004 s throughout: each step is 1 τ0 within 1 %, although
+    // after 100 lines the total is 100.4 τ0.
+    let mut text = String::new();
+    for i in 0..200 {
+        text.push_str(&format!("{} {}\n", i as f64 * 1.004, i));
+    }
+    let s = read(text.as_bytes(), &SeriesOptions::default()).unwrap();
+    assert_eq!(s.record.len(), 200);
+    assert_eq!(s.info.inserted_gaps, 0);
+    assert!((s.record.tau0() - 1.004).abs() < 1e-12);
+}
+
+#[test]
+fn columns() {
+    let text = b"# t, a, b\n0,10,20\n1,11,21\n2,12,22\n";
+    // Default: time = 1, value = last numeric column.
+    let s = read(text, &SeriesOptions::default()).unwrap();
+    assert_eq!(values(&s.record), vec![20.0, 21.0, 22.0]);
+    let opts = SeriesOptions {
+        value_column: Some(2),
+        ..Default::default()
+    };
+    assert_eq!(
+        values(&read(text, &opts).unwrap().record),
+        vec![10.0, 11.0, 12.0]
+    );
+    // τ0 given and no time column: readings taken as contiguous.
+    let opts = SeriesOptions {
+        value_column: Some(1),
+        tau0: Some(1.0),
+        ..Default::default()
+    };
+    assert_eq!(
+        values(&read(text, &opts).unwrap().record),
+        vec![0.0, 1.0, 2.0]
+    );
+    // Time in column 3, value in column 1.
+    let opts = SeriesOptions {
+        value_column: Some(1),
+        time_column: Some(3),
+        ..Default::default()
+    };
+    let s = read(text, &opts).unwrap();
+    assert_eq!(s.record.tau0(), 1.0);
+    // A trailing text column does not hide the last numeric column.
+    let s = read(b"0,5,ok\n1,6,ok\n", &SeriesOptions::default()).unwrap();
+    assert_eq!(values(&s.record), vec![5.0, 6.0]);
+}
+
+#[test]
+fn delimiters_give_the_same_record() {
+    let rows = [(0.0, 1.5e-9), (1.0, 2.5e-9), (2.0, -1e-9), (4.0, 3e-9)];
+    let mut results = Vec::new();
+    for sep in [",", ";", "\t", "   ", " \t "] {
+        let mut text = String::from("time{sep}phase\n").replace("{sep}", sep);
+        for (t, x) in rows {
+            text.push_str(&format!("{t}{sep}{x}\r\n"));
+        }
+        let s = read(text.as_bytes(), &SeriesOptions::default()).unwrap();
+        assert_eq!(s.info.header.as_ref().map(|h| h.len()), Some(2), "{sep:?}");
+        results.push(values(&s.record));
+    }
+    let n = f64::NAN;
+    for r in &results {
+        assert!(same(r, &[1.5e-9, 2.5e-9, -1e-9, n, 3e-9]), "{r:?}");
+    }
+}
+
+#[test]
+fn comments_blank_lines_quotes_and_counts() {
+    let text = b"# from the lab\n\n\"t\",\"x\"\n\"0\",\"1\"\n# pause\n\"1\",\"2\"\n";
+    let s = read(text, &SeriesOptions::default()).unwrap();
+    assert_eq!(values(&s.record), vec![1.0, 2.0]);
+    assert_eq!(s.info.lines, 6);
+    assert_eq!(s.info.bytes, text.len() as u64);
+    assert_eq!(s.info.header, Some(vec!["t".into(), "x".into()]));
+}
+
+#[test]
+fn reads_a_file_and_large_input_streams() {
+    let dir = tempfile::tempdir().unwrap();
+    let p = dir.path().join("big.txt");
+    let mut text = String::with_capacity(2_000_000);
+    for i in 0..100_000 {
+        text.push_str(&format!("{}\n", (i % 97) as f64 * 1e-12));
+    }
+    std::fs::write(&p, &text).unwrap();
+    let s = read_series(&p, &tau(1.0)).unwrap();
+    assert_eq!(s.record.len(), 100_000);
+    assert_eq!(values(&s.record)[96], 96.0 * 1e-12);
+    assert_eq!(s.info.path, p);
+}
+
+// ---------------------------------------------------------------- command line
+
+fn bin() -> Command {
+    Command::new(env!("CARGO_BIN_EXE_tauwise"))
+}
+
+/// Run `tauwise inspect` on `file` with `args` and `-o out.json`; it must
+/// fail with exit code 1, print the expected text, and write no output.
+fn cli_fails(file: &Path, args: &[&str], expect: &str) {
+    let dir = tempfile::tempdir().unwrap();
+    let out = dir.path().join("out.json");
+    let o = bin()
+        .arg("inspect")
+        .arg(file)
+        .args(args)
+        .args(["--format", "json", "-o"])
+        .arg(&out)
+        .output()
+        .unwrap();
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert_eq!(o.status.code(), Some(1), "{file:?} {args:?}: {err}");
+    assert!(err.starts_with("tauwise: error: "), "{err}");
+    assert!(err.contains(expect), "expected '{expect}' in: {err}");
+    assert!(!out.exists(), "no output may be written");
+    assert_eq!(
+        std::fs::read_dir(dir.path()).unwrap().count(),
+        0,
+        "no temporary file left"
+    );
+}
+
+#[test]
+fn cli_bad_inputs_exit_non_zero_and_write_nothing() {
+    let dir = tempfile::tempdir().unwrap();
+    let w = |name: &str, bytes: &[u8]| {
+        let p = dir.path().join(name);
+        std::fs::write(&p, bytes).unwrap();
+        p
+    };
+    cli_fails(
+        &dir.path().join("absent.txt"),
+        &["--tau0", "1s"],
+        "no such file",
+    );
+    cli_fails(dir.path(), &["--tau0", "1s"], "is a directory");
+    cli_fails(&w("empty.txt", b""), &["--tau0", "1s"], "the file is empty");
+    cli_fails(&w("header.txt", b"time,phase\n"), &[], "only a header line");
+    cli_fails(
+        &w("one.txt", b"1e-9\n"),
+        &["--tau0", "1s"],
+        "only one reading",
+    );
+    let mut t = String::new();
+    for i in 1..1234 {
+        t.push_str(&format!("{i}\n"));
+    }
+    t.push_str("oops\n");
+    cli_fails(
+        &w("text.txt", t.as_bytes()),
+        &["--tau0", "1s"],
+        "text.txt:1234: field 1 is 'oops'",
+    );
+    cli_fails(
+        &w("cols.txt", b"1 2\n3 4\n"),
+        &["--tau0", "1", "--value-column", "3"],
+        "value column 3",
+    );
+    cli_fails(&w("irr.txt", b"0 1\n1 2\n2 3\n3.5 4\n"), &[], "irr.txt:4:");
+    cli_fails(&w("ok.txt", b"1\n2\n"), &["--tau0", "0s"], "positive");
+    cli_fails(&w("ok2.txt", b"1\n2\n"), &["--tau0", "-1s"], "positive");
+    cli_fails(
+        &w("ok3.txt", b"1\n2\n"),
+        &["--tau0", "1s", "--units", "furlongs"],
+        "'furlongs'",
+    );
+    cli_fails(
+        &w("bin.txt", b"1\n\xfe\xff\n"),
+        &["--tau0", "1s"],
+        "bin.txt:2:",
+    );
+    cli_fails(
+        &w("hz.txt", b"10000000\n10000001\n"),
+        &["--tau0", "1s", "--units", "hz"],
+        "--carrier",
+    );
+}
+
+#[test]
+fn cli_prepare_failure_writes_nothing() {
+    let dir = tempfile::tempdir().unwrap();
+    let p = dir.path().join("in.txt");
+    std::fs::write(&p, b"1\n2\nbad\n").unwrap();
+    let out = dir.path().join("clean.txt");
+    let o = bin()
+        .arg("prepare")
+        .arg(&p)
+        .args(["--tau0", "1s", "-o"])
+        .arg(&out)
+        .output()
+        .unwrap();
+    assert_eq!(o.status.code(), Some(1));
+    assert!(!out.exists());
+}
+
+#[test]
+fn cli_reads_standard_input() {
+    use std::io::Write;
+    let mut child = bin()
+        .args(["inspect", "-", "--tau0", "1s", "--format", "json"])
+        .stdin(std::process::Stdio::piped())
+        .stdout(std::process::Stdio::piped())
+        .spawn()
+        .unwrap();
+    child
+        .stdin
+        .take()
+        .unwrap()
+        .write_all(b"# piped\n1e-9\n2e-9\nNaN\n4e-9\n")
+        .unwrap();
+    let o = child.wait_with_output().unwrap();
+    assert!(o.status.success());
+    let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    assert_eq!(v["input"]["path"], "-");
+    assert_eq!(v["input"]["points"], 4);
+    assert_eq!(v["input"]["gaps"], 1);
+}
+
+// ---------------------------------------------------------------- never panics
+
+const VALID: &str =
+    "# lab capture\ntime,phase\n0,1.0e-9\n1,1.5e-9\n2,NaN\n3,2.5e-9\n5,3e-9\n6,-\n7,4e-9\n";
+
+fn all_option_sets() -> Vec<SeriesOptions> {
+    vec![
+        SeriesOptions::default(),
+        tau(1.0),
+        SeriesOptions {
+            kind: Some(DataKind::Freq),
+            unit: Some(ValueUnit::Freq(FreqUnit::Hz)),
+            carrier: Some(10e6),
+            ..Default::default()
+        },
+        SeriesOptions {
+            value_column: Some(1),
+            time_column: Some(2),
+            ..Default::default()
+        },
+        SeriesOptions {
+            tau0: Some(0.5),
+            time_column: Some(1),
+            ..Default::default()
+        },
+    ]
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig { cases: 300, .. ProptestConfig::default() })]
+
+    #[test]
+    fn random_bytes_never_panic(bytes in proptest::collection::vec(any::<u8>(), 0..400)) {
+        for opts in all_option_sets() {
+            let _ = read(&bytes, &opts);
+        }
+    }
+
+    #[test]
+    fn random_text_never_panics(text in "[0-9eE+\\-.,;: \t\nNaTZ#:x]{0,300}") {
+        for opts in all_option_sets() {
+            let _ = read(text.as_bytes(), &opts);
+        }
+    }
+
+    #[test]
+    fn mutated_valid_file_never_panics(
+        edits in proptest::collection::vec((any::<usize>(), any::<u8>(), 0u8..3), 1..8)
+    ) {
+        let mut b = VALID.as_bytes().to_vec();
+        for (pos, byte, op) in edits {
+            let i = if b.is_empty() { 0 } else { pos % (b.len() + 1) };
+            match op {
+                0 if i < b.len() => b[i] = byte,
+                1 => b.insert(i, byte),
+                _ if i < b.len() => { b.remove(i); }
+                _ => b.push(byte),
+            }
+        }
+        for opts in all_option_sets() {
+            if let Ok(s) = read(&b, &opts) {
+                // Whatever was accepted is a well-formed record.
+                prop_assert!(s.record.len() >= 2);
+                prop_assert!(s.record.tau0() > 0.0 && s.record.tau0().is_finite());
+            }
+        }
+    }
+}
