@@ -70,7 +70,12 @@ pub fn mdev(x: &[f64], tau0: f64, m: usize) -> Option<Estimate> {
         }
     }
     let mf = m as f64;
-    est(tau, m, (s / (2.0 * mf * mf * tau * tau * n as f64)).sqrt(), n)
+    est(
+        tau,
+        m,
+        (s / (2.0 * mf * mf * tau * tau * n as f64)).sqrt(),
+        n,
+    )
 }
 
 /// TDEV (NIST SP 1065 eq. 17): τ/√3 · MDEV.
@@ -125,8 +130,8 @@ pub fn totdev(x: &[f64], tau0: f64, m: usize) -> Option<Estimate> {
     }
     let tau = m as f64 * tau0;
     let ext = n - 2; // reflected samples on each side
-    // star[k + ext] is x*_k (0-based k from −ext to n−1+ext), with the
-    // record indices it reads.
+                     // star[k + ext] is x*_k (0-based k from −ext to n−1+ext), with the
+                     // record indices it reads.
     let mut star = Vec::with_capacity(n + 2 * ext);
     for j in (1..=ext).rev() {
         star.push((2.0 * x[0] - x[j], 0usize, j));

@@ -67,7 +67,11 @@ impl Html {
     }
     /// Open a section with an id and heading.
     pub fn open_section(&mut self, id: &str, heading: &str) -> &mut Self {
-        let _ = write!(self.buf, "<section id=\"{id}\"><h2>{}</h2>", escape(heading));
+        let _ = write!(
+            self.buf,
+            "<section id=\"{id}\"><h2>{}</h2>",
+            escape(heading)
+        );
         self
     }
     /// Close a section.
@@ -99,7 +103,10 @@ impl Html {
                             Some(false) => ("fail", "exceeds"),
                             None => ("none", "not judged"),
                         };
-                        let _ = write!(self.buf, "<td><span class=\"badge {class}\">{word}</span></td>");
+                        let _ = write!(
+                            self.buf,
+                            "<td><span class=\"badge {class}\">{word}</span></td>"
+                        );
                     }
                     Cell::Code(t) => {
                         let _ = write!(self.buf, "<td><code>{}</code></td>", escape(t));
@@ -135,8 +142,16 @@ impl Html {
     /// carries no URL at all.
     pub fn figure(&mut self, svg: &str, caption: &str) -> &mut Self {
         let inline = svg.replacen(" xmlns=\"http://www.w3.org/2000/svg\"", "", 1);
-        let inline = inline.replacen("<svg ", &format!("<svg role=\"img\" aria-label=\"{}\" ", escape(caption)), 1);
-        let _ = write!(self.buf, "<figure>{inline}<figcaption>{}</figcaption></figure>\n", escape(caption));
+        let inline = inline.replacen(
+            "<svg ",
+            &format!("<svg role=\"img\" aria-label=\"{}\" ", escape(caption)),
+            1,
+        );
+        let _ = write!(
+            self.buf,
+            "<figure>{inline}<figcaption>{}</figcaption></figure>\n",
+            escape(caption)
+        );
         self
     }
     /// The HTML so far.
@@ -214,9 +229,16 @@ mod tests {
 
     #[test]
     fn escapes_everything_dangerous() {
-        assert_eq!(escape("<a href='x'>&</a>"), "&lt;a href=&#39;x&#39;&gt;&amp;&lt;/a&gt;");
+        assert_eq!(
+            escape("<a href='x'>&</a>"),
+            "&lt;a href=&#39;x&#39;&gt;&amp;&lt;/a&gt;"
+        );
         let mut h = Html::new();
-        h.table("t", &["<th>"], &[vec![t("<td>"), n("1<2"), Cell::Code("\"q\"".into())]]);
+        h.table(
+            "t",
+            &["<th>"],
+            &[vec![t("<td>"), n("1<2"), Cell::Code("\"q\"".into())]],
+        );
         let s = h.finish();
         assert!(!s.contains("<td><td>") && s.contains("&lt;td&gt;") && s.contains("1&lt;2"));
     }
@@ -224,7 +246,10 @@ mod tests {
     #[test]
     fn figures_drop_the_namespace_url() {
         let mut h = Html::new();
-        h.figure("<svg width=\"1\" height=\"1\" xmlns=\"http://www.w3.org/2000/svg\"></svg>", "a <b>");
+        h.figure(
+            "<svg width=\"1\" height=\"1\" xmlns=\"http://www.w3.org/2000/svg\"></svg>",
+            "a <b>",
+        );
         let s = h.finish();
         assert!(!s.contains("http"));
         assert!(s.contains("aria-label=\"a &lt;b&gt;\""));

@@ -50,12 +50,15 @@ impl Provenance {
 
 /// SHA-256 of a file, streamed in 64 KiB blocks; returns (hex, size).
 pub fn sha256_file(path: &Path) -> Result<(String, u64), ReadError> {
-    let mut f = std::fs::File::open(path).map_err(|e| ReadError::file(path, format!("cannot open: {e}")))?;
+    let mut f = std::fs::File::open(path)
+        .map_err(|e| ReadError::file(path, format!("cannot open: {e}")))?;
     let mut h = Sha256::new();
     let mut buf = vec![0u8; 1 << 16];
     let mut total = 0u64;
     loop {
-        let n = f.read(&mut buf).map_err(|e| ReadError::file(path, format!("cannot read: {e}")))?;
+        let n = f
+            .read(&mut buf)
+            .map_err(|e| ReadError::file(path, format!("cannot read: {e}")))?;
         if n == 0 {
             break;
         }
@@ -100,6 +103,9 @@ mod tests {
         let (h, n) = sha256_file(&p).unwrap();
         assert_eq!(n, data.len() as u64);
         assert_eq!(h, sha256_bytes(&data));
-        assert!(sha256_file(&dir.path().join("none")).unwrap_err().to_string().contains("none"));
+        assert!(sha256_file(&dir.path().join("none"))
+            .unwrap_err()
+            .to_string()
+            .contains("none"));
     }
 }

@@ -22,7 +22,9 @@ fn opt(v: Option<f64>, f: impl Fn(f64) -> String) -> String {
 
 fn absent(h: &mut Html, a: &Absent) {
     match a {
-        Absent::NotRequested(why) => h.p_class("absent", &format!("Not part of this report: {why}")),
+        Absent::NotRequested(why) => {
+            h.p_class("absent", &format!("Not part of this report: {why}"))
+        }
         Absent::NotComputed(why) => h.p_class("absent", &format!("Not computed: {why}")),
     };
 }
@@ -48,7 +50,11 @@ fn verdicts(h: &mut Html, r: &Report) {
         h.p(&format!(
             "{} check(s): {pass} meet, {fail} exceed{}.",
             r.verdicts.len(),
-            if none > 0 { format!(", {none} not judged") } else { String::new() }
+            if none > 0 {
+                format!(", {none} not judged")
+            } else {
+                String::new()
+            }
         ));
         let rows: Vec<Vec<Cell>> = r
             .verdicts
@@ -63,7 +69,11 @@ fn verdicts(h: &mut Html, r: &Report) {
                 ]
             })
             .collect();
-        h.table("verdicts", &["check", "item", "criterion", "result", "verdict"], &rows);
+        h.table(
+            "verdicts",
+            &["check", "item", "criterion", "result", "verdict"],
+            &rows,
+        );
     }
     h.p_class("caution", crate::DECISION_CAUTION);
     h.close_section();
@@ -81,9 +91,15 @@ fn stability(h: &mut Html, p: &Part<StabilitySection>) -> Result<()> {
                 s.confidence * 100.0
             ));
             let chart = s.plot.chart();
-            h.figure(&crate::plot::to_svg_string(&chart, CHART)?, "σ–τ: deviations against averaging time, with confidence intervals");
+            h.figure(
+                &crate::plot::to_svg_string(&chart, CHART)?,
+                "σ–τ: deviations against averaging time, with confidence intervals",
+            );
             if let Some(tc) = s.plot.time_chart() {
-                h.figure(&crate::plot::to_svg_string(&tc, CHART)?, "Time deviations against averaging time");
+                h.figure(
+                    &crate::plot::to_svg_string(&tc, CHART)?,
+                    "Time deviations against averaging time",
+                );
             }
             let rows: Vec<Vec<Cell>> = s
                 .rows
@@ -109,7 +125,16 @@ fn stability(h: &mut Html, p: &Part<StabilitySection>) -> Result<()> {
             h.el("h3", "", "Values");
             h.table(
                 "stability",
-                &["estimator", "τ", "m", "deviation", "interval", "EDF", "noise", "terms"],
+                &[
+                    "estimator",
+                    "τ",
+                    "m",
+                    "deviation",
+                    "interval",
+                    "EDF",
+                    "noise",
+                    "terms",
+                ],
                 &rows,
             );
             notes(h, &s.notes);
@@ -147,7 +172,14 @@ fn noise_model(h: &mut Html, p: &Part<NoiseModelSection>) {
                 let rows: Vec<Vec<Cell>> = s
                     .identified
                     .iter()
-                    .map(|r| vec![n(tau(r.tau)), n(r.alpha.to_string()), t(&r.label), t(&r.method)])
+                    .map(|r| {
+                        vec![
+                            n(tau(r.tau)),
+                            n(r.alpha.to_string()),
+                            t(&r.label),
+                            t(&r.method),
+                        ]
+                    })
                     .collect();
                 h.table("noise-id", &["τ", "α", "noise", "method"], &rows);
             }
@@ -164,7 +196,10 @@ fn phase_noise(h: &mut Html, p: &Part<PhaseNoiseSection>) -> Result<()> {
         Part::Absent(a) => absent(h, a),
         Part::Done(s) => {
             h.p(&format!("Table: {}. Carrier {}.", s.source, hz(s.carrier)));
-            h.figure(&crate::plot::to_svg_string(&s.plot.chart(), CHART)?, "L(f) against offset frequency; integration bands shaded");
+            h.figure(
+                &crate::plot::to_svg_string(&s.plot.chart(), CHART)?,
+                "L(f) against offset frequency; integration bands shaded",
+            );
             if s.bands.is_empty() {
                 h.p_class("absent", "No jitter band was asked for.");
             } else {
@@ -175,7 +210,11 @@ fn phase_noise(h: &mut Html, p: &Part<PhaseNoiseSection>) -> Result<()> {
                         vec![
                             t(&b.name),
                             n(format!("{} … {}", hz(b.from), hz(b.to))),
-                            t(if b.filters.is_empty() { "none".into() } else { b.filters.clone() }),
+                            t(if b.filters.is_empty() {
+                                "none".into()
+                            } else {
+                                b.filters.clone()
+                            }),
                             n(format!("{:.4e}", b.rms_rad)),
                             n(format!("{:.4}", b.rms_deg())),
                             n(secs(b.rms_s)),
@@ -188,7 +227,17 @@ fn phase_noise(h: &mut Html, p: &Part<PhaseNoiseSection>) -> Result<()> {
                 h.el("h3", "", "Integrated jitter per band");
                 h.table(
                     "jitter",
-                    &["band", "offsets", "filters", "rms phase (rad)", "rms phase (°)", "rms time", "rms (UI)", "limit", "verdict"],
+                    &[
+                        "band",
+                        "offsets",
+                        "filters",
+                        "rms phase (rad)",
+                        "rms phase (°)",
+                        "rms time",
+                        "rms (UI)",
+                        "limit",
+                        "verdict",
+                    ],
                     &rows,
                 );
             }
@@ -227,7 +276,9 @@ fn combined(h: &mut Html, p: &Part<CombinedSection>) -> Result<()> {
                             n(tau(r.tau)),
                             n(format_sig(r.measured, 4)),
                             n(match (r.lo, r.hi) {
-                                (Some(a), Some(b)) => format!("{} … {}", format_sig(a, 4), format_sig(b, 4)),
+                                (Some(a), Some(b)) => {
+                                    format!("{} … {}", format_sig(a, 4), format_sig(b, 4))
+                                }
                                 _ => "—".into(),
                             }),
                             n(format_sig(r.converted, 4)),
@@ -242,7 +293,14 @@ fn combined(h: &mut Html, p: &Part<CombinedSection>) -> Result<()> {
                     .collect();
                 h.table(
                     "consistency",
-                    &["τ", "measured", "interval", "from phase noise", "ratio", "inside"],
+                    &[
+                        "τ",
+                        "measured",
+                        "interval",
+                        "from phase noise",
+                        "ratio",
+                        "inside",
+                    ],
                     &rows,
                 );
             }
@@ -268,7 +326,10 @@ fn wander(h: &mut Html, p: &Part<WanderSection>) -> Result<()> {
                 ]);
             }
             for wp in &s.plots {
-                let cap = format!("{} against observation interval, with masks", wp.metric.name());
+                let cap = format!(
+                    "{} against observation interval, with masks",
+                    wp.metric.name()
+                );
                 h.figure(&crate::plot::to_svg_string(&wp.chart(), CHART)?, &cap);
             }
             if !s.masks.is_empty() {
@@ -289,10 +350,22 @@ fn wander(h: &mut Html, p: &Part<WanderSection>) -> Result<()> {
                     .collect();
                 h.table(
                     "masks",
-                    &["mask", "metric", "worst measured/limit", "margin", "at τ", "violating τ", "verdict"],
+                    &[
+                        "mask",
+                        "metric",
+                        "worst measured/limit",
+                        "margin",
+                        "at τ",
+                        "violating τ",
+                        "verdict",
+                    ],
                     &rows,
                 );
-                let mut srcs: Vec<String> = s.masks.iter().map(|m| format!("{}: {}", m.name, m.source_note)).collect();
+                let mut srcs: Vec<String> = s
+                    .masks
+                    .iter()
+                    .map(|m| format!("{}: {}", m.name, m.source_note))
+                    .collect();
                 srcs.dedup();
                 h.ul(&srcs);
             }
@@ -309,7 +382,11 @@ fn holdover(h: &mut Html, p: &Part<HoldoverSection>) -> Result<()> {
     match p {
         Part::Absent(a) => absent(h, a),
         Part::Done(s) => {
-            h.p(&format!("Predicted from: {}. Budget ±{}.", s.source, secs(s.budget)));
+            h.p(&format!(
+                "Predicted from: {}. Budget ±{}.",
+                s.source,
+                secs(s.budget)
+            ));
             match s.holds_for {
                 Some(x) => h.p(&format!(
                     "The p95 of |TE| first exceeds the budget after about {} ({}).",
@@ -338,7 +415,14 @@ fn holdover(h: &mut Html, p: &Part<HoldoverSection>) -> Result<()> {
                 .collect();
             h.table(
                 "holdover",
-                &["span", "deterministic TE", "p95 |TE|", "p99 |TE|", "budget", "verdict (p95)"],
+                &[
+                    "span",
+                    "deterministic TE",
+                    "p95 |TE|",
+                    "p99 |TE|",
+                    "budget",
+                    "verdict (p95)",
+                ],
                 &rows,
             );
             h.el("h3", "", "Model and parameters");
@@ -369,16 +453,22 @@ fn inputs(h: &mut Html, r: &Report) {
                     Cell::Code(p.path.clone()),
                     Cell::Code(p.sha256.clone()),
                     n(p.bytes.to_string()),
-                    n(p.points.map(|x| x.to_string()).unwrap_or_else(|| "—".into())),
+                    n(p.points
+                        .map(|x| x.to_string())
+                        .unwrap_or_else(|| "—".into())),
                     n(opt(p.tau0, secs)),
-                    n(opt(p.span, |s| format!("{} ({})", secs(s), format_si(s / 3600.0, "h", 3)))),
+                    n(opt(p.span, |s| {
+                        format!("{} ({})", secs(s), format_si(s / 3600.0, "h", 3))
+                    })),
                     n(p.gaps.map(|x| x.to_string()).unwrap_or_else(|| "—".into())),
                 ]
             })
             .collect();
         h.table(
             "inputs",
-            &["role", "name", "file", "SHA-256", "bytes", "points", "τ0", "span", "gaps"],
+            &[
+                "role", "name", "file", "SHA-256", "bytes", "points", "τ0", "span", "gaps",
+            ],
             &rows,
         );
     }
@@ -391,7 +481,11 @@ fn methods(h: &mut Html, r: &Report) {
     if r.methods.is_empty() {
         h.p_class("absent", "No computation was made.");
     } else {
-        let rows: Vec<Vec<Cell>> = r.methods.iter().map(|m| vec![t(&m.name), t(&m.source)]).collect();
+        let rows: Vec<Vec<Cell>> = r
+            .methods
+            .iter()
+            .map(|m| vec![t(&m.name), t(&m.source)])
+            .collect();
         h.table("methods", &["computation", "published source"], &rows);
     }
     h.close_section();
@@ -415,8 +509,14 @@ pub(super) fn document(r: &Report) -> Result<String> {
     let mut h = Html::new();
     h.raw("<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\">\n");
     h.raw("<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\">\n");
-    h.raw(&format!("<meta name=\"generator\" content=\"{} {}\">\n", crate::TOOL, crate::VERSION));
-    h.raw("<title>").text(&format!("{} — stability report", r.device)).raw("</title>\n");
+    h.raw(&format!(
+        "<meta name=\"generator\" content=\"{} {}\">\n",
+        crate::TOOL,
+        crate::VERSION
+    ));
+    h.raw("<title>")
+        .text(&format!("{} — stability report", r.device))
+        .raw("</title>\n");
     h.raw("<style>").raw(CSS).raw("</style>\n</head>\n<body>\n");
     h.raw("<header class=\"top\">");
     h.el("h1", "", &format!("{} — stability report", r.device));
@@ -428,11 +528,16 @@ pub(super) fn document(r: &Report) -> Result<String> {
         crate::TOOL,
         crate::VERSION,
         r.generated,
-        r.dut_file.as_ref().map(|f| format!(" from {f}")).unwrap_or_default()
+        r.dut_file
+            .as_ref()
+            .map(|f| format!(" from {f}"))
+            .unwrap_or_default()
     ));
     h.raw("</header>\n<nav class=\"toc\">");
     for (id, title) in SECTION_IDS {
-        h.raw(&format!("<a href=\"#{id}\">")).text(title).raw("</a>");
+        h.raw(&format!("<a href=\"#{id}\">"))
+            .text(title)
+            .raw("</a>");
     }
     h.raw("</nav>\n<main>\n");
     verdicts(&mut h, r);
