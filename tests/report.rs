@@ -370,3 +370,101 @@ fn report_from_a_dut_file() {
     assert!(html.contains("&lt;script&gt;alert(1)&lt;/script&gt;"));
     assert!(!html.contains("<script>alert"));
 }
+
+fn tauwise(args: &[&std::ffi::OsStr]) -> std::process::Output {
+    std::process::Command::new(env!("CARGO_BIN_EXE_tauwise"))
+        .args(args)
+        .output()
+        .unwrap()
+}
+
+fn write_record(path: &std::path::Path, n: usize) {
+    let mut s = String::new();
+    let mut x = 0.0f64;
+    for i in 0..n {
+        x += ((i * 7919) % 101) as f64 / 100.0 - 0.5;
+        s.push_str(&format!("{x}\n"));
+    }
+    fs::write(path, s).unwrap();
+}
+
+/// End to end: the command writes the report and the chart files; a bad DUT
+/// file is an error naming the key, exit status 1, and nothing is written.
+#[test]
+fn cli_report_end_to_end() {
+    let dir = tempfile::tempdir().unwrap();
+    let d = dir.path();
+    write_record(&d.join("rec.csv"), 3000);
+    fs::write(
+        d.join("unit.toml"),
+        "[device]\nname = \"unit & co\"\n[[record]]\npath = \"rec.csv\"\ntau0 = \"1s\"\nunits = \"ns\"\n[wander]\nmasks = [\"g8262-opt1\"]\n",
+    )
+    .unwrap();
+    let charts = d.join("charts");
+    fs::create_dir(&charts).unwrap();
+    let out = d.join("r.html");
+    let o = tauwise(&[
+        "report".as_ref(),
+        d.join("unit.toml").as_os_str(),
+        "-o".as_ref(),
+        out.as_os_str(),
+        "--charts".as_ref(),
+        charts.as_os_str(),
+    ]);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let html = fs::read_to_string(&out).unwrap();
+    check_document(&html);
+    assert!(html.contains("unit &amp; co"));
+    for f in [
+        "stability.png",
+        "stability-time.png",
+        "wander-mtie.png",
+        "wander-tdev.png",
+    ] {
+        let bytes = fs::read(charts.join(f)).unwrap_or_else(|_| panic!("{f} written"));
+        let mut r = png::Decoder::new(&bytes[..]).read_info().unwrap();
+        let mut buf = vec![0; r.output_buffer_size()];
+        let info = r.next_frame(&mut buf).unwrap();
+        assert_eq!((info.width, info.height), (960, 600));
+    }
+
+    // Quick form.
+    let quick = d.join("q.html");
+    let o = tauwise(&[
+        "report".as_ref(),
+        d.join("rec.csv").as_os_str(),
+        "--tau0".as_ref(),
+        "1s".as_ref(),
+        "--units".as_ref(),
+        "ns".as_ref(),
+        "-o".as_ref(),
+        quick.as_os_str(),
+    ]);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    check_document(&fs::read_to_string(&quick).unwrap());
+
+    // Bad DUT file: unknown key.
+    fs::write(d.join("bad.toml"), "[device]\nname = \"x\"\nnmae = \"y\"\n").unwrap();
+    let bad_out = d.join("bad.html");
+    let o = tauwise(&[
+        "report".as_ref(),
+        d.join("bad.toml").as_os_str(),
+        "-o".as_ref(),
+        bad_out.as_os_str(),
+    ]);
+    assert_eq!(o.status.code(), Some(1));
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert!(err.contains("bad.toml:3") && err.contains("nmae"), "{err}");
+    assert!(!bad_out.exists());
+    // Quick form with --lf but no carrier.
+    let o = tauwise(&[
+        "report".as_ref(),
+        d.join("rec.csv").as_os_str(),
+        "--tau0".as_ref(),
+        "1".as_ref(),
+        "--lf".as_ref(),
+        "x.csv".as_ref(),
+    ]);
+    assert_eq!(o.status.code(), Some(1));
+    assert!(String::from_utf8_lossy(&o.stderr).contains("--carrier"));
+}

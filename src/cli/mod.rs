@@ -6,6 +6,7 @@ use clap::{Parser, Subcommand};
 pub mod common;
 pub mod inspect;
 pub mod prepare;
+pub mod report;
 pub mod simulate;
 
 /// Oscillator and clock stability analysis.
@@ -25,6 +26,8 @@ pub enum Command {
     Prepare(prepare::Args),
     /// Synthetic power-law noise records (seeded).
     Simulate(simulate::SimulateArgs),
+    /// One self-contained HTML report for a device under test.
+    Report(report::Args),
 }
 
 /// What a subcommand returns to `main` when it did not fail.
@@ -49,6 +52,7 @@ pub fn main() -> i32 {
         Command::Inspect(a) => inspect::run(a),
         Command::Prepare(a) => prepare::run(a),
         Command::Simulate(a) => simulate::run(a),
+        Command::Report(a) => report::run(a),
     };
     match result {
         Ok(Outcome::Done) => 0,

@@ -427,6 +427,37 @@ pub const SECTION_IDS: [(&str, &str); 10] = [
     ("cautions", "Cautions"),
 ];
 
+/// Every chart of the report with a file-name stem (`stability`,
+/// `stability-time`, `phase-noise`, `combined`, `wander-mtie`,
+/// `wander-tdev`, `holdover`), for writing them as separate files.
+pub fn charts(report: &Report) -> Vec<(String, crate::plot::Chart)> {
+    let mut out = Vec::new();
+    if let Part::Done(s) = &report.stability {
+        out.push(("stability".to_string(), s.plot.chart()));
+        if let Some(t) = s.plot.time_chart() {
+            out.push(("stability-time".to_string(), t));
+        }
+    }
+    if let Part::Done(s) = &report.phase_noise {
+        out.push(("phase-noise".to_string(), s.plot.chart()));
+    }
+    if let Part::Done(s) = &report.combined {
+        out.push(("combined".to_string(), s.plot.chart()));
+    }
+    if let Part::Done(s) = &report.wander {
+        for p in &s.plots {
+            out.push((
+                format!("wander-{}", p.metric.name().to_ascii_lowercase()),
+                p.chart(),
+            ));
+        }
+    }
+    if let Part::Done(s) = &report.holdover {
+        out.push(("holdover".to_string(), s.plot.chart()));
+    }
+    out
+}
+
 /// Render the report as one self-contained HTML document.
 pub fn render_html(report: &Report) -> Result<String> {
     sections::document(report)

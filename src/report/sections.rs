@@ -91,10 +91,12 @@ fn stability(h: &mut Html, p: &Part<StabilitySection>) -> Result<()> {
                 s.confidence * 100.0
             ));
             let chart = s.plot.chart();
-            h.figure(
-                &crate::plot::to_svg_string(&chart, CHART)?,
-                "σ–τ: deviations against averaging time, with confidence intervals",
-            );
+            let cap = if s.plot.confidence.is_some() {
+                "σ–τ: deviations against averaging time; bars are confidence intervals"
+            } else {
+                "σ–τ: deviations against averaging time"
+            };
+            h.figure(&crate::plot::to_svg_string(&chart, CHART)?, cap);
             if let Some(tc) = s.plot.time_chart() {
                 h.figure(
                     &crate::plot::to_svg_string(&tc, CHART)?,
