@@ -147,9 +147,9 @@ impl Html {
             &format!("<svg role=\"img\" aria-label=\"{}\" ", escape(caption)),
             1,
         );
-        let _ = write!(
+        let _ = writeln!(
             self.buf,
-            "<figure>{inline}<figcaption>{}</figcaption></figure>\n",
+            "<figure>{inline}<figcaption>{}</figcaption></figure>",
             escape(caption)
         );
         self
