@@ -82,6 +82,27 @@ fn method(name: &str, source: &str) -> Method {
 
 /// Build the report for a DUT file.
 pub fn from_dut(dut: &Dut, opts: &BuildOptions) -> Result<Report> {
+    from_dut_with_progress(dut, opts, &mut |_, _, _| {})
+}
+
+/// The number of steps [`from_dut_with_progress`] reports for a DUT file.
+pub fn steps(dut: &Dut) -> usize {
+    dut.records.len() + dut.tie.len() + dut.phase_noise.len() + 3
+}
+
+/// Build the report, calling `progress(done, total, what)` before each
+/// step (reading a file, each analysis) so that a caller can show progress.
+pub fn from_dut_with_progress(
+    dut: &Dut,
+    opts: &BuildOptions,
+    progress: &mut dyn FnMut(usize, usize, &str),
+) -> Result<Report> {
+    let total = steps(dut);
+    let mut done = 0usize;
+    let mut step = |what: &str| {
+        progress(done, total, what);
+        done += 1;
+    };
     let mut r = Report::empty(&dut.name, "");
     r.description = dut.description.clone();
     r.dut_file = Some(dut.file.display().to_string());
@@ -89,12 +110,14 @@ pub fn from_dut(dut: &Dut, opts: &BuildOptions) -> Result<Report> {
     // Inputs: read and hash every file.
     let mut records = Vec::new();
     for src in &dut.records {
+        step(&format!("reading {}", src.name));
         let (s, p) = load("time record", src, dut.carrier)?;
         r.inputs.push(p);
         records.push((src, s));
     }
     let mut ties = Vec::new();
     for src in &dut.tie {
+        step(&format!("reading {}", src.name));
         let (s, p) = load("TIE capture", src, dut.carrier)?;
         r.inputs.push(p);
         ties.push((src, s));
@@ -120,6 +143,7 @@ pub fn from_dut(dut: &Dut, opts: &BuildOptions) -> Result<Report> {
     }
 
     // Frequency stability on the first record.
+    step("stability");
     r.stability = match records.first() {
         None => Part::not_requested("the DUT file lists no [[record]]."),
         Some((src, s)) => {
@@ -234,6 +258,7 @@ pub fn from_dut(dut: &Dut, opts: &BuildOptions) -> Result<Report> {
     };
 
     // Wander.
+    step("wander");
     r.wander = match &dut.wander {
         None => Part::not_requested("the DUT file has no [wander] section."),
         Some(w) => {
@@ -308,6 +333,7 @@ pub fn from_dut(dut: &Dut, opts: &BuildOptions) -> Result<Report> {
     };
 
     // Holdover.
+    step("holdover");
     r.holdover = match &dut.holdover {
         None => Part::not_requested("the DUT file has no [holdover] section."),
         Some(h) => {
