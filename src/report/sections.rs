@@ -539,7 +539,7 @@ pub(super) fn document(r: &Report) -> Result<String> {
     for (id, title) in SECTION_IDS {
         h.raw(&format!("<a href=\"#{id}\">"))
             .text(title)
-            .raw("</a>");
+            .raw("</a>\n");
     }
     h.raw("</nav>\n<main>\n");
     verdicts(&mut h, r);
