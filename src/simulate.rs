@@ -62,8 +62,9 @@
 //! - WFM: exactly at every τ (x is a random walk of step variance h_0τ0/2);
 //! - RWFM: σ_y²(mτ0) = (2π)²τh_−2/6 · (1 + 1/(2m²)) exactly, i.e. 50 % high at
 //!   m = 1, 3 % at m = 4, 0.8 % at m = 8;
-//! - FFM: 1.443, 1.154, 1.050, 1.015, 1.005 times 2 ln2·h_−1 at m = 1, 2, 4,
-//!   8, 16 (exact sums over the filter coefficients), within 0.1 % beyond;
+//! - FFM: 1.443 (= 1/ln2: at m = 1 the filter gives 2q/π), 1.154, 1.050,
+//!   1.015, 1.005 times 2 ln2·h_−1 at m = 1, 2, 4, 8, 16 (exact sums over the
+//!   filter coefficients), within 0.1 % beyond;
 //! - FPM: 1.19, 1.09 (m = 4), 1.06 (m = 16), 1.03 (m = 1024) times the table
 //!   value: asymptotically the discrete process behaves as the table with
 //!   f_h = 2/(πτ0) instead of 1/(2τ0) (its PSD 1/(2 sin πfτ0) exceeds 1/(2πfτ0)

@@ -68,7 +68,7 @@ impl TauGrid {
                     "τ grid '{t}': '{p}' is not a duration; {GRID_EXPECTED}"
                 ))
             })?;
-            if !(tau > 0.0) {
+            if tau <= 0.0 || tau.is_nan() {
                 return Err(Error::invalid(format!(
                     "τ grid '{t}': τ = '{p}' must be positive"
                 )));

@@ -4,10 +4,16 @@
 use clap::{Parser, Subcommand};
 
 pub mod common;
+pub mod convert;
+pub mod holdover;
 pub mod inspect;
+pub mod jitter;
 pub mod prepare;
 pub mod report;
 pub mod simulate;
+pub mod stability;
+pub mod spectrum;
+pub mod wander;
 
 /// Oscillator and clock stability analysis.
 #[derive(Debug, Parser)]
@@ -28,6 +34,18 @@ pub enum Command {
     Simulate(simulate::SimulateArgs),
     /// One self-contained HTML report for a device under test.
     Report(report::Args),
+    /// σ(τ) curves with confidence intervals and noise type.
+    Stability(stability::Args),
+    /// PSD of a time record as L(f), S_φ, S_y, S_x (Welch's method).
+    Spectrum(spectrum::Args),
+    /// Convert between phase-noise tables, power-law models and σ(τ).
+    Convert(convert::Args),
+    /// Integrated phase jitter over offset bands, with optional weighting.
+    Jitter(jitter::Args),
+    /// MTIE, TDEV and TIE statistics against wander masks.
+    Wander(wander::Args),
+    /// Time error predicted over a holdover span, against a budget.
+    Holdover(holdover::Args),
 }
 
 /// What a subcommand returns to `main` when it did not fail.
@@ -53,6 +71,12 @@ pub fn main() -> i32 {
         Command::Prepare(a) => prepare::run(a),
         Command::Simulate(a) => simulate::run(a),
         Command::Report(a) => report::run(a),
+        Command::Stability(a) => stability::run(a),
+        Command::Spectrum(a) => spectrum::run(a),
+        Command::Convert(a) => convert::run(a),
+        Command::Jitter(a) => jitter::run(a),
+        Command::Wander(a) => wander::run(a),
+        Command::Holdover(a) => holdover::run(a),
     };
     match result {
         Ok(Outcome::Done) => 0,

@@ -1,0 +1,338 @@
+//! `tauwise convert`: between phase-noise tables, power-law models and σ(τ)
+//! ([`tauwise::spectrum::sigma`], IEEE Std 1139).
+
+use super::common::{emit, json_text, num, plain, Format, OutputArgs};
+use super::jitter::{table_header, table_input_json};
+use super::spectrum::Rows;
+use super::Outcome;
+use clap::{Args as ClapArgs, ValueEnum};
+use std::fmt::Write as _;
+use std::path::PathBuf;
+use tauwise::io::lf_table::{read_lf_table, TableOptions, TableQuantity};
+use tauwise::model::PowerLaw;
+use tauwise::spectrum::sigma::{sigma_points, SigmaKind, SigmaOptions, SigmaPoint};
+use tauwise::spectrum::{Quantity, Spectrum};
+use tauwise::tau::TauGrid;
+use tauwise::units::{format_si, format_sig, parse_duration, parse_frequency};
+use tauwise::{Error, Result};
+
+/// What to convert to.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum Target {
+    /// σ(τ) curves (the `stability` curves shape).
+    Sigma,
+    /// An L(f) table (columns f, lf_dbc_hz, sphi, sy, sx).
+    Lf,
+}
+
+/// Convert between phase-noise tables, power-law models and σ(τ).
+#[derive(Debug, ClapArgs)]
+#[command(after_help = "Examples:\n  tauwise convert --lf ocxo-a-lf.csv --carrier 10MHz --to sigma --dev adev,mdev\n  \
+    tauwise convert --model h2=6e-30,h0=1e-25,h-1=3e-25,fh=10M --carrier 10MHz --to lf --from 1 --to-offset 10M")]
+pub struct Args {
+    /// Phase-noise table to convert (offset against L(f), or see --quantity).
+    #[arg(long = "lf", value_name = "TABLE", conflicts_with = "model", required_unless_present = "model")]
+    pub lf: Option<PathBuf>,
+    /// Power-law model in h_α notation (h2 h1 h0 h-1 h-2, fh).
+    #[arg(long, value_name = "MODEL")]
+    pub model: Option<String>,
+    /// What the table's values are: lf, sphi, sphi-db or sy.
+    #[arg(long, value_name = "Q", default_value = "lf")]
+    pub quantity: String,
+    /// Carrier frequency ν0 (e.g. 10MHz).
+    #[arg(long, value_name = "FREQ")]
+    pub carrier: Option<String>,
+    /// The target.
+    #[arg(long, value_enum, value_name = "WHAT")]
+    pub to: Target,
+    /// Estimators for --to sigma: adev oadev mdev hdev ohdev tdev.
+    #[arg(long, value_name = "LIST", default_value = "adev,mdev")]
+    pub dev: String,
+    /// τ grid: octave, decade, all, log:N or a list of durations.
+    #[arg(long, value_name = "GRID", default_value = "octave")]
+    pub taus: String,
+    /// Longest τ of a grid (default: 1/lowest offset of a table; 1e5 s for a model).
+    #[arg(long, value_name = "DUR")]
+    pub max_tau: Option<String>,
+    /// Sampling interval τ0 of MDEV/TDEV and of the τ grid (default 1/(2·f_h)).
+    #[arg(long, value_name = "DUR")]
+    pub tau0: Option<String>,
+    /// Upper integration limit f_h (default: the table's highest offset, or the model's fh).
+    #[arg(long, value_name = "FREQ")]
+    pub fh: Option<String>,
+    /// Lowest offset of a table made with --to lf.
+    #[arg(long, value_name = "FREQ", default_value = "1")]
+    pub from: String,
+    /// Highest offset of a table made with --to lf (default f_h).
+    #[arg(long, value_name = "FREQ")]
+    pub to_offset: Option<String>,
+    /// Points per decade of a table made with --to lf.
+    #[arg(long, value_name = "N", default_value_t = 10)]
+    pub per_decade: usize,
+    #[command(flatten)]
+    pub output: OutputArgs,
+}
+
+fn freq(opt: &Option<String>, what: &str) -> Result<Option<f64>> {
+    match opt {
+        Some(t) => {
+            let v = parse_frequency(t)?;
+            if !(v > 0.0) {
+                return Err(Error::invalid(format!("--{what} {t}: expected a positive frequency")));
+            }
+            Ok(Some(v))
+        }
+        None => Ok(None),
+    }
+}
+
+fn duration(opt: &Option<String>, what: &str) -> Result<Option<f64>> {
+    match opt {
+        Some(t) => {
+            let v = parse_duration(t)?;
+            if !(v > 0.0) {
+                return Err(Error::invalid(format!("--{what} {t}: expected a positive duration")));
+            }
+            Ok(Some(v))
+        }
+        None => Ok(None),
+    }
+}
+
+/// The source of a conversion: a table or a model, as a spectrum.
+struct Source {
+    spectrum: Spectrum,
+    header: serde_json::Map<String, serde_json::Value>,
+    f_h: f64,
+    label: String,
+    /// τ_max default for grids.
+    max_tau: f64,
+}
+
+fn source(args: &Args, carrier: Option<f64>, tau_hint: Option<f64>) -> Result<Source> {
+    let fh_opt = freq(&args.fh, "fh")?;
+    if let Some(path) = &args.lf {
+        let q = TableQuantity::parse(&args.quantity)?;
+        let t = read_lf_table(
+            path,
+            &TableOptions {
+                quantity: q,
+                carrier,
+                ..Default::default()
+            },
+        )?;
+        let (lo, hi) = t.spectrum.range();
+        let f_h = fh_opt.unwrap_or(hi);
+        let mut header = table_header(&t, q);
+        header.insert("input".into(), table_input_json(&t, q));
+        return Ok(Source {
+            spectrum: t.spectrum,
+            header,
+            f_h,
+            label: format!("table {}", path.display()),
+            max_tau: 1.0 / lo,
+        });
+    }
+    let text = args.model.as_deref().unwrap_or_default();
+    let parsed = PowerLaw::parse(text, f64::NAN)?;
+    let f_h = match (fh_opt, parsed.f_h.is_nan()) {
+        (Some(f), _) => f,
+        (None, false) => parsed.f_h,
+        (None, true) => {
+            return Err(Error::invalid(
+                "the model needs its high-frequency cut-off: add fh=… to the model or give --fh",
+            ))
+        }
+    };
+    let model = PowerLaw { f_h, ..parsed };
+    let max_tau = duration(&args.max_tau, "max-tau")?.or(tau_hint).unwrap_or(1e5);
+    // Sample the model densely (40 points per decade) from well below the
+    // longest τ's band up to f_h; the log–log interpolation of a sum of
+    // power laws at this density is within 10⁻⁴ dB.
+    let f_lo = (1e-4 / max_tau).min(f_h * 1e-3);
+    let spectrum = Spectrum::from_model(&model, Quantity::Sy, carrier, f_lo, f_h, 40)?;
+    let mut header = serde_json::Map::new();
+    header.insert("tool".into(), tauwise::TOOL.into());
+    header.insert("version".into(), tauwise::VERSION.into());
+    header.insert(
+        "input".into(),
+        serde_json::json!({"model": model.to_model_string(), "data": "model"}),
+    );
+    Ok(Source {
+        spectrum,
+        header,
+        f_h,
+        label: format!("model {}", model.to_model_string()),
+        max_tau,
+    })
+}
+
+/// Run `convert`.
+pub fn run(args: Args) -> Result<Outcome> {
+    let carrier = freq(&args.carrier, "carrier")?;
+    let needs_carrier = args.lf.is_some() && TableQuantity::parse(&args.quantity)? != TableQuantity::Sy
+        || args.to == Target::Lf;
+    if needs_carrier && carrier.is_none() {
+        return Err(Error::invalid(
+            "this conversion needs the carrier frequency: give --carrier (e.g. --carrier 10MHz)",
+        ));
+    }
+    let src = source(&args, carrier, duration(&args.max_tau, "max-tau")?)?;
+    let text = match args.to {
+        Target::Sigma => to_sigma(&args, src, carrier)?,
+        Target::Lf => to_lf(&args, src, carrier)?,
+    };
+    emit(&args.output, &text)?;
+    Ok(Outcome::Done)
+}
+
+fn to_sigma(args: &Args, src: Source, carrier: Option<f64>) -> Result<String> {
+    let kinds: Vec<(String, SigmaKind)> = args
+        .dev
+        .split(',')
+        .filter(|s| !s.trim().is_empty())
+        .map(|s| SigmaKind::from_name(s).map(|k| (s.trim().to_ascii_lowercase(), k)))
+        .collect::<Result<_>>()?;
+    if kinds.is_empty() {
+        return Err(Error::invalid("--dev names no estimator: expected e.g. adev,mdev"));
+    }
+    let tau0 = duration(&args.tau0, "tau0")?.unwrap_or(0.5 / src.f_h);
+    let max_tau = duration(&args.max_tau, "max-tau")?.unwrap_or(src.max_tau);
+    let grid = TauGrid::parse(&args.taus)?;
+    let taus: Vec<f64> = match &grid {
+        // Explicit τ are kept; MDEV/TDEV round them to whole multiples of τ0.
+        TauGrid::Explicit(t) => t.clone(),
+        g => {
+            let max_m = ((max_tau / tau0).floor() as usize).max(1);
+            g.ms(tau0, max_m)?.into_iter().map(|m| m as f64 * tau0).collect()
+        }
+    };
+    let opt = SigmaOptions { tau0, f_h: src.f_h };
+    let mut curves = Vec::new();
+    for (name, kind) in &kinds {
+        let t: Vec<f64> = match kind {
+            SigmaKind::Mdev | SigmaKind::Tdev => taus.iter().map(|t| (t / tau0).round().max(1.0) * tau0).collect(),
+            _ => taus.clone(),
+        };
+        curves.push((name.clone(), sigma_points(&src.spectrum, *kind, &t, opt)?));
+    }
+    Ok(match args.output.format {
+        Format::Json => {
+            let mut m = src.header;
+            m.insert("carrier".into(), carrier.map(num).unwrap_or(serde_json::Value::Null));
+            m.insert("f_h".into(), num(src.f_h));
+            m.insert("tau0".into(), num(tau0));
+            m.insert(
+                "method".into(),
+                "σ²(τ) = ∫ S_y(f)|H(f)|² df, table interpolated linearly in log f / dB (IEEE Std 1139 transfer functions)".into(),
+            );
+            m.insert(
+                "curves".into(),
+                serde_json::Value::Array(
+                    curves
+                        .iter()
+                        .map(|(name, pts)| {
+                            serde_json::json!({
+                                "estimator": name,
+                                "points": pts.iter().map(point_json).collect::<Vec<_>>(),
+                            })
+                        })
+                        .collect(),
+                ),
+            );
+            json_text(&serde_json::Value::Object(m))
+        }
+        Format::Csv => {
+            let mut out = String::from("estimator,tau,m,dev,terms,edf,lo,hi,alpha,noise,below_table,truncated\n");
+            for (name, pts) in &curves {
+                for p in pts {
+                    let _ = writeln!(
+                        out,
+                        "{name},{},{},{},,,,,,,{},{}",
+                        plain(p.tau),
+                        p.m,
+                        plain(p.dev),
+                        plain(p.below_table),
+                        p.truncated
+                    );
+                }
+            }
+            out
+        }
+        Format::Table => {
+            let mut out = String::new();
+            let _ = writeln!(out, "σ(τ) from {}", src.label);
+            let _ = writeln!(
+                out,
+                "  f_h {}, τ0 {} (MDEV/TDEV)",
+                format_si(src.f_h, "Hz", 4),
+                format_si(tau0, "s", 4)
+            );
+            for (name, pts) in &curves {
+                let _ = writeln!(out);
+                let _ = writeln!(out, "{name}");
+                let _ = writeln!(out, "{:>12}  {:>12}  {:>13}", "τ", "deviation", "below table");
+                for p in pts {
+                    let dev = if *name == "tdev" {
+                        format_si(p.dev, "s", 4)
+                    } else {
+                        format_sig(p.dev, 4)
+                    };
+                    let note = if p.truncated { "  (lower bound: table's low end too steep)" } else { "" };
+                    let _ = writeln!(
+                        out,
+                        "{:>12}  {:>12}  {:>12.1} %{note}",
+                        format_si(p.tau, "s", 4),
+                        dev,
+                        100.0 * p.below_table
+                    );
+                }
+            }
+            out
+        }
+    })
+}
+
+fn point_json(p: &SigmaPoint) -> serde_json::Value {
+    serde_json::json!({
+        "tau": num(p.tau),
+        "m": p.m,
+        "dev": num(p.dev),
+        "terms": null,
+        "edf": null,
+        "lo": null,
+        "hi": null,
+        "alpha": null,
+        "noise": null,
+        "below_table": num(p.below_table),
+        "truncated": p.truncated,
+    })
+}
+
+fn to_lf(args: &Args, src: Source, carrier: Option<f64>) -> Result<String> {
+    let from = parse_frequency(&args.from)?;
+    let to = freq(&args.to_offset, "to-offset")?.unwrap_or(src.f_h);
+    let spec = match &args.model {
+        Some(text) => {
+            let parsed = PowerLaw::parse(text, src.f_h)?;
+            let model = PowerLaw { f_h: src.f_h, ..parsed };
+            Spectrum::from_model(&model, Quantity::Lf, carrier, from, to, args.per_decade)?
+        }
+        None => src.spectrum.to(Quantity::Lf)?,
+    };
+    let rows = Rows::new(&spec)?;
+    Ok(match args.output.format {
+        Format::Json => {
+            let mut m = src.header;
+            m.insert("carrier".into(), carrier.map(num).unwrap_or(serde_json::Value::Null));
+            m.insert("points".into(), rows.json());
+            json_text(&serde_json::Value::Object(m))
+        }
+        Format::Csv => rows.csv(),
+        Format::Table => {
+            let mut out = format!("L(f) from {}\n\n", src.label);
+            out.push_str(&rows.text());
+            out
+        }
+    })
+}

@@ -1,0 +1,207 @@
+//! Holdover prediction against analytic results.
+
+use rand::{Rng, SeedableRng};
+use rand_chacha::ChaCha8Rng;
+use rand_distr::StandardNormal;
+use tauwise::holdover::aging::{Aging, AgingModel};
+use tauwise::holdover::{model_from_record, predict, FromRecord, HoldoverModel, Settings, Verdict};
+use tauwise::model::PowerLaw;
+use tauwise::{FrequencyRecord, Record};
+
+const DAY: f64 = 86400.0;
+
+fn quiet(te0: f64, y0: f64, d: f64) -> HoldoverModel {
+    HoldoverModel {
+        te0,
+        y0,
+        y0_sigma: 0.0,
+        aging: Aging::Linear {
+            c: 0.0,
+            d,
+            d_sigma: 0.0,
+        },
+        start: 0.0,
+        temp_worst: 0.0,
+        noise: PowerLaw::zero(0.5),
+    }
+}
+
+/// CHECKS.md G (analytic): with no noise TE(t) = te0 + y0·t + ½·D·t², and
+/// D = 1e−10/day over 24 h alone gives 4.32 µs.
+#[test]
+fn no_noise_is_the_closed_form() {
+    let d = 1e-10 / DAY;
+    let m = quiet(0.0, 0.0, d);
+    let mut s = Settings::new(DAY, 5e-6);
+    s.paths = 100;
+    let p = predict(&m, &s).unwrap();
+    let end = p.te.last().unwrap();
+    assert_eq!(end.t, DAY);
+    assert!(
+        (end.deterministic - 4.32e-6).abs() < 1e-15,
+        "{}",
+        end.deterministic
+    );
+    assert!((end.p95 - 4.32e-6).abs() < 1e-15);
+    assert_eq!(p.verdict, Verdict::Pass);
+    assert_eq!(p.holds_for, None);
+
+    let (te0, y0) = (-2e-7, 3e-12);
+    let m = quiet(te0, y0, d);
+    let p = predict(&m, &s).unwrap();
+    for pt in &p.te {
+        let t = pt.t;
+        let want = te0 + y0 * t + 0.5 * d * t * t;
+        assert!((pt.deterministic - want).abs() < 1e-18, "t = {t}");
+        for q in [pt.p50, pt.p95, pt.p99] {
+            assert!((q - want.abs()).abs() < 1e-18, "t = {t}");
+        }
+    }
+    // A 3 µs budget: the crossing is the root of te0 + y0·t + ½Dt² = 3 µs
+    // (|TE| grows through it), found by the quadratic formula (analytic).
+    s.budget = 3e-6;
+    let p = predict(&m, &s).unwrap();
+    let (a, b, c) = (0.5 * d, y0, te0 - 3e-6);
+    let root = (-b + (b * b - 4.0 * a * c).sqrt()) / (2.0 * a);
+    let got = p.holds_for.unwrap();
+    assert_eq!(p.verdict, Verdict::Fail);
+    // linear interpolation between steps of span/4096: error ≤ step²·D/|TE'|
+    assert!((got - root).abs() < 1.0, "{got} vs {root}");
+
+    // Worst-case temperature adds |c·ΔT|·t with the sign of TE.
+    let mut m2 = quiet(0.0, 1e-11, 0.0);
+    m2.temp_worst = 5e-11;
+    let p = predict(
+        &m2,
+        &Settings {
+            paths: 100,
+            ..Settings::new(1000.0, 1.0)
+        },
+    )
+    .unwrap();
+    let end = p.te.last().unwrap();
+    assert!((end.deterministic - 6e-11 * 1000.0).abs() < 1e-18);
+    assert!((end.p95 - 6e-11 * 1000.0).abs() < 1e-18);
+}
+
+/// Pure WFM (analytic): TE(t) is a random walk with σ²(t) = h0·t/2; the
+/// Monte Carlo rms is within 5 % of sqrt(h0·t/2) and, |TE| being
+/// half-normal, p95 within 5 % of 1.96× that.
+#[test]
+fn white_fm_random_walk() {
+    let h0 = 2e-22;
+    let mut m = quiet(0.0, 0.0, 0.0);
+    m.noise.set(0, h0);
+    let s = Settings {
+        paths: 8000,
+        seed: 11,
+        steps: 512,
+        ..Settings::new(DAY, 1.0)
+    };
+    let p = predict(&m, &s).unwrap();
+    let mut checked = 0;
+    for pt in p.te.iter().filter(|pt| pt.t >= 1000.0) {
+        let sigma = (h0 * pt.t / 2.0).sqrt();
+        assert!(
+            (pt.rms / sigma - 1.0).abs() < 0.05,
+            "t = {}: rms {} vs {sigma}",
+            pt.t,
+            pt.rms
+        );
+        assert!(
+            (pt.p95 / (1.96 * sigma) - 1.0).abs() < 0.05,
+            "t = {}: p95",
+            pt.t
+        );
+        checked += 1;
+    }
+    assert!(checked >= 10);
+    // Same seed, same answer.
+    assert_eq!(predict(&m, &s).unwrap(), p);
+}
+
+/// RWFM alone (analytic): x(t) is the integral of a random walk in y, so
+/// the variance of TE(t) grows as t³; the Monte Carlo must follow that
+/// growth between a tenth of the span and the span.
+#[test]
+fn rwfm_variance_grows_as_t_cubed() {
+    let mut m = quiet(0.0, 0.0, 0.0);
+    m.noise.set(-2, 1e-30);
+    let s = Settings {
+        paths: 4000,
+        seed: 5,
+        steps: 256,
+        ..Settings::new(DAY, 1.0)
+    };
+    let p = predict(&m, &s).unwrap();
+    let a = p.te.iter().find(|pt| pt.t >= 0.1 * DAY).unwrap();
+    let b = p.te.last().unwrap();
+    let ratio = (b.rms / a.rms).powi(2) / (b.t / a.t).powi(3);
+    assert!((ratio - 1.0).abs() < 0.15, "{ratio}");
+}
+
+/// Aging recovered from a simulated frequency record with known drift,
+/// within 5 % (the record also carries WFM noise).
+#[test]
+fn aging_recovered_from_a_record() {
+    let d = 5e-11 / DAY;
+    let tau0 = 10.0;
+    let n = 2 * 8640; // two days
+    let mut rng = ChaCha8Rng::seed_from_u64(3);
+    let sd = (1e-22f64 / (2.0 * tau0)).sqrt(); // WFM, h0 = 1e-22: σ_y(τ0)
+    let y: Vec<f64> = (0..n)
+        .map(|i| 2e-9 + d * (i as f64 + 0.5) * tau0 + sd * rng.sample::<f64, _>(StandardNormal))
+        .collect();
+    let rec = Record::Frequency(FrequencyRecord::new(y, tau0).unwrap());
+    let m = model_from_record(&rec, &FromRecord::default()).unwrap();
+    let got = m.aging.rate(0.0);
+    assert!((got / d - 1.0).abs() < 0.05, "{got} vs {d}");
+    // y0 is the frequency at the end of the record: 2e-9 + d·span.
+    let want_y0 = 2e-9 + d * n as f64 * tau0;
+    assert!(
+        (m.y0 - want_y0).abs() < 3.0 * m.y0_sigma + 1e-13,
+        "{} vs {want_y0}",
+        m.y0
+    );
+    // The fitted noise is WFM-dominated near h0 = 1e-22.
+    assert!((m.noise.get(0) / 1e-22 - 1.0).abs() < 0.3, "{:?}", m.noise);
+    // A log model on the same record also gives a rate near D at the end.
+    let ml = model_from_record(
+        &rec,
+        &FromRecord {
+            aging_model: AgingModel::Log,
+            ..FromRecord::default()
+        },
+    )
+    .unwrap();
+    assert_eq!(ml.aging.model(), AgingModel::Log);
+}
+
+/// Bad input: span ≤ 0, budget ≤ 0, too few paths — clear errors.
+#[test]
+fn bad_settings() {
+    let m = quiet(0.0, 0.0, 0.0);
+    for (span, budget, word) in [
+        (0.0, 1e-6, "span"),
+        (-5.0, 1e-6, "span"),
+        (10.0, 0.0, "budget"),
+        (10.0, -1.0, "budget"),
+    ] {
+        let e = predict(&m, &Settings::new(span, budget))
+            .unwrap_err()
+            .to_string();
+        assert!(e.contains(word), "{e}");
+    }
+    let e = predict(
+        &m,
+        &Settings {
+            paths: 3,
+            ..Settings::new(10.0, 1.0)
+        },
+    )
+    .unwrap_err()
+    .to_string();
+    assert!(e.contains("paths"), "{e}");
+    let rec = Record::Frequency(FrequencyRecord::new(vec![0.0; 10], 1.0).unwrap());
+    assert!(model_from_record(&rec, &FromRecord::default()).is_err());
+}
