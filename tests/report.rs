@@ -323,7 +323,7 @@ fn report_from_a_dut_file() {
         [[phase_noise]]\npath = \"lf.csv\"\n\
         [[jitter]]\nband = \"1:10\"\nlimit = \"1ps\"\n\
         [wander]\nmasks = [\"g8262-opt1\"]\n\
-        [holdover]\nbudget = \"1.5us\"\nspans = [\"8h\", \"24h\"]\n";
+        [holdover]\nbudget = \"1.5us\"\nspans = [\"8h\", \"24h\"]\npaths = 200\n";
     let dut_path = dir.path().join("dut.toml");
     fs::write(&dut_path, dut_text).unwrap();
     let dut = Dut::read(&dut_path).unwrap();
@@ -338,8 +338,9 @@ fn report_from_a_dut_file() {
         rec.sha256,
         tauwise::report::provenance::sha256_bytes(&bytes)
     );
-    // One verdict per jitter limit, per mask and per holdover span.
-    assert_eq!(rep.verdicts.len(), 1 + 1 + 2);
+    // One verdict per jitter limit, per mask (g8262-opt1 has an MTIE and a
+    // TDEV mask) and per holdover span.
+    assert_eq!(rep.verdicts.len(), 1 + 2 + 2);
     // Stability: OADEV at m = 1 equals the direct SP 1065 formula on the record.
     let Part::Done(st) = &rep.stability else {
         panic!("stability missing")
@@ -569,4 +570,119 @@ fn a_real_browser_renders_every_section() {
         "screenshot looks blank: {} colours, {share} ink",
         colours.len()
     );
+}
+
+/// The report's verdicts equal those of the individual commands on the same
+/// inputs (`tauwise wander`, `tauwise holdover`, `tauwise jitter`, JSON).
+/// The record has a constant frequency offset of 2e-10, so its MTIE is the
+/// ramp 2e-10·τ (analytic, CHECKS.md F): above G.8262 option 1 near 800 s,
+/// below G.811 there (mask values from memory).
+#[test]
+fn report_verdicts_equal_the_commands() {
+    use tauwise::simulate::{simulate_phase, SimSpec};
+    let dir = tempfile::tempdir().unwrap();
+    let d = dir.path();
+    let mut m = PowerLaw::zero(0.5);
+    m.set(0, 1e-24);
+    let mut spec = SimSpec::new(m, 1.0, 8000, 5);
+    spec.freq_offset = 2e-10;
+    let x = simulate_phase(&spec).unwrap();
+    let text: String = x.x.iter().map(|v| format!("{}\n", v * 1e9)).collect();
+    fs::write(d.join("rec.csv"), text).unwrap();
+    // A flat −155 dBc/Hz floor over 12 kHz–20 MHz on 10 MHz is 1.789 ps rms (issue 4, analytic).
+    fs::write(d.join("lf.csv"), "1000,-155\n30000000,-155\n").unwrap();
+    let dut_text = "[device]\nname = \"unit\"\ncarrier = \"10MHz\"\n\
+        [[record]]\npath = \"rec.csv\"\ntau0 = \"1s\"\nunits = \"ns\"\n\
+        [[phase_noise]]\npath = \"lf.csv\"\n\
+        [[jitter]]\nband = \"12k:20M\"\nlimit = \"1ps\"\n\
+        [[jitter]]\nband = \"12k:20M\"\nlimit = \"2ps\"\n\
+        [wander]\nmasks = [\"g8262-opt1\", \"g811\"]\n\
+        [holdover]\nbudget = \"1us\"\nspans = [\"1h\", \"8h\"]\npaths = 200\nseed = 4\n";
+    fs::write(d.join("unit.toml"), dut_text).unwrap();
+    let rep = from_dut(
+        &Dut::read(&d.join("unit.toml")).unwrap(),
+        &BuildOptions::default(),
+    )
+    .unwrap();
+    let run = |args: &[&str]| -> serde_json::Value {
+        let o = std::process::Command::new(env!("CARGO_BIN_EXE_tauwise"))
+            .current_dir(d)
+            .args(args)
+            .output()
+            .unwrap();
+        assert!(
+            o.status.success(),
+            "{args:?}: {}",
+            String::from_utf8_lossy(&o.stderr)
+        );
+        serde_json::from_slice(&o.stdout).unwrap()
+    };
+    let of_kind = |k: VerdictKind| {
+        rep.verdicts
+            .iter()
+            .filter(|v| v.kind == k)
+            .map(|v| v.pass)
+            .collect::<Vec<_>>()
+    };
+
+    let w = run(&[
+        "wander",
+        "rec.csv",
+        "--tau0",
+        "1s",
+        "--units",
+        "ns",
+        "--mask",
+        "g8262-opt1",
+        "--mask",
+        "g811",
+        "--format",
+        "json",
+    ]);
+    let cmd: Vec<Option<bool>> = w["masks"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|m| match m["verdict"].as_str().unwrap() {
+            "pass" => Some(true),
+            "fail" => Some(false),
+            _ => None,
+        })
+        .collect();
+    assert_eq!(of_kind(VerdictKind::Mask), cmd);
+    assert!(
+        cmd.contains(&Some(false)) && cmd.contains(&Some(true)),
+        "{cmd:?}"
+    );
+
+    let mut cmd = Vec::new();
+    for span in ["1h", "8h"] {
+        let h = run(&[
+            "holdover", "rec.csv", "--tau0", "1s", "--units", "ns", "--span", span, "--budget",
+            "1us", "--paths", "200", "--seed", "4", "--format", "json",
+        ]);
+        cmd.push(Some(h["verdict"].as_str().unwrap() == "pass"));
+    }
+    assert_eq!(of_kind(VerdictKind::Holdover), cmd);
+
+    let j = run(&[
+        "jitter",
+        "lf.csv",
+        "--carrier",
+        "10MHz",
+        "--band",
+        "12k:20M",
+        "--format",
+        "json",
+    ]);
+    let rms = j["bands"][0]["rms_s"].as_f64().unwrap();
+    assert!((rms - 1.789e-12).abs() < 1e-15, "{rms}");
+    assert_eq!(
+        of_kind(VerdictKind::Jitter),
+        vec![Some(rms <= 1e-12), Some(rms <= 2e-12)]
+    );
+    let Part::Done(pn) = &rep.phase_noise else {
+        panic!("phase noise missing")
+    };
+    assert_eq!(pn.bands[0].rms_s, rms);
 }

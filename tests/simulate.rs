@@ -114,7 +114,10 @@ fn ffm_calibration_is_exact_in_expectation() {
     // At m = 1 the filter gives exactly 2q/π (analytic: Σ(h_j − h_(j−1))² =
     // (1/2π)∫|1 − e^(−iω)| dω = 4/π), i.e. 1/ln2 times the table value.
     let r1 = kw_ffm_expected_oavar(n, 1, q) / (2.0 * LN_2 * h);
-    assert!((r1 - std::f64::consts::LOG2_E).abs() < 1e-4, "m=1 ratio {r1}");
+    assert!(
+        (r1 - std::f64::consts::LOG2_E).abs() < 1e-4,
+        "m=1 ratio {r1}"
+    );
 }
 
 /// Analytic: white phase of variance σ² has AVAR 3σ²/τ² and a random walk of

@@ -11,8 +11,8 @@ pub mod jitter;
 pub mod prepare;
 pub mod report;
 pub mod simulate;
-pub mod stability;
 pub mod spectrum;
+pub mod stability;
 pub mod wander;
 
 /// Oscillator and clock stability analysis.

@@ -214,7 +214,10 @@ pub fn read_lf_table_from<R: std::io::BufRead>(
     if rows.len() < 2 {
         return Err(ReadError::file(
             path,
-            format!("{} data row(s); expected at least 2 rows of offset and value", rows.len()),
+            format!(
+                "{} data row(s); expected at least 2 rows of offset and value",
+                rows.len()
+            ),
         )
         .into());
     }
@@ -325,7 +328,11 @@ mod tests {
 
     #[test]
     fn reads_units_and_quantities() {
-        let t = read("# analyser export\noffset (kHz),L\n0.001,-90\n1,-140\n10,-150\n", TableQuantity::Lf).unwrap();
+        let t = read(
+            "# analyser export\noffset (kHz),L\n0.001,-90\n1,-140\n10,-150\n",
+            TableQuantity::Lf,
+        )
+        .unwrap();
         assert_eq!(t.spectrum.f, vec![1.0, 1e3, 1e4]);
         assert_eq!(t.offset_scale, 1e3);
         let t = read("f_MHz\tS\n1\t2e-15\n2\t2e-15\n", TableQuantity::Sphi).unwrap();
@@ -341,13 +348,22 @@ mod tests {
         assert!(e.to_string().contains("t.csv:3:"), "{e}");
         assert!(e.to_string().contains("increasing"), "{e}");
         let e = read("1,-90\n10,3\n", TableQuantity::Lf).unwrap_err();
-        assert!(e.to_string().contains("t.csv:2:") && e.to_string().contains("above 0 dBc/Hz"), "{e}");
+        assert!(
+            e.to_string().contains("t.csv:2:") && e.to_string().contains("above 0 dBc/Hz"),
+            "{e}"
+        );
         let e = read("1,-90\n10,NaN\n", TableQuantity::Lf).unwrap_err();
-        assert!(e.to_string().contains("t.csv:2:") && e.to_string().contains("missing"), "{e}");
+        assert!(
+            e.to_string().contains("t.csv:2:") && e.to_string().contains("missing"),
+            "{e}"
+        );
         let e = read("1,-90\n", TableQuantity::Lf).unwrap_err();
         assert!(e.to_string().contains("at least 2"), "{e}");
         let e = read("-1,-90\n10,-100\n", TableQuantity::Lf).unwrap_err();
-        assert!(e.to_string().contains("t.csv:1:") && e.to_string().contains("positive"), "{e}");
+        assert!(
+            e.to_string().contains("t.csv:1:") && e.to_string().contains("positive"),
+            "{e}"
+        );
         let e = read("1,1e-20\n10,-1e-22\n", TableQuantity::Sy).unwrap_err();
         assert!(e.to_string().contains("t.csv:2:"), "{e}");
         let e = read("1,-90\n10\n", TableQuantity::Lf).unwrap_err();

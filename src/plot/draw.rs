@@ -341,7 +341,7 @@ pub(crate) fn draw<DB: DrawingBackend>(chart: &Chart, backend: DB) -> Result<()>
         xs.extend(b.x.iter().copied());
         ys.extend(b.lo.iter().chain(b.hi.iter()).copied());
     }
-    for r in &chart.rules {
+    for r in chart.rules.iter().filter(|r| r.extend_range) {
         match r.orientation {
             Orientation::Horizontal => ys.push(r.value),
             Orientation::Vertical => xs.push(r.value),

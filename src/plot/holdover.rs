@@ -129,20 +129,39 @@ impl HoldoverPlot {
             },
         );
         if let Some(b) = self.budget {
+            // Show the budget when the time error comes within a fifth of
+            // it; far below, draw the data at a readable scale and say so.
+            let top = self
+                .p99
+                .iter()
+                .chain(&self.p95)
+                .chain(&self.deterministic)
+                .fold(0.0f64, |m, v| m.max(v.abs()));
+            let near = top >= 0.2 * b;
+            let label = if near {
+                format!("budget ±{}", crate::units::format_si(b, "s", 3))
+            } else {
+                format!(
+                    "budget ±{} (above the plotted range)",
+                    crate::units::format_si(b, "s", 3)
+                )
+            };
             ch.rules.push(Rule {
-                label: format!("budget ±{}", crate::units::format_si(b, "s", 3)),
+                label,
                 orientation: Orientation::Horizontal,
                 value: b,
                 colour: Colour::Alarm,
                 line: Line::Dashed,
+                extend_range: near,
             });
-            if self.deterministic.iter().any(|v| *v < 0.0) {
+            if self.deterministic.iter().any(|v| *v < -0.2 * b) {
                 ch.rules.push(Rule {
                     label: String::new(),
                     orientation: Orientation::Horizontal,
                     value: -b,
                     colour: Colour::Alarm,
                     line: Line::Dashed,
+                    extend_range: true,
                 });
             }
         }
@@ -156,6 +175,7 @@ impl HoldoverPlot {
                 value: h / div,
                 colour: Colour::Limit,
                 line: Line::Solid,
+                extend_range: true,
             });
         }
         ch.notes.extend(self.notes.iter().cloned());

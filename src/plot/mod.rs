@@ -269,7 +269,7 @@ pub enum Orientation {
 /// A reference line across the plotting area (budget, hold time, span end).
 #[derive(Debug, Clone, PartialEq)]
 pub struct Rule {
-    /// Label drawn beside the line inside the plotting area's edge.
+    /// Legend text (empty: not in the legend).
     pub label: String,
     /// Horizontal (y = value) or vertical (x = value).
     pub orientation: Orientation,
@@ -279,6 +279,9 @@ pub struct Rule {
     pub colour: Colour,
     /// Line pattern.
     pub line: Line,
+    /// Widen the automatic axis range to show the rule (false: a rule
+    /// outside the data's range is left off the plot, not the data squeezed).
+    pub extend_range: bool,
 }
 
 /// A complete chart.

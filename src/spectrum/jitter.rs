@@ -57,7 +57,8 @@ impl Weighting {
     /// `highpass:1:12k`).
     pub fn parse(text: &str) -> Result<Self> {
         let parts: Vec<&str> = text.trim().split(':').collect();
-        let expected = "a filter of the form highpass:ORDER:FC or lowpass:ORDER:FC (e.g. highpass:1:12k)";
+        let expected =
+            "a filter of the form highpass:ORDER:FC or lowpass:ORDER:FC (e.g. highpass:1:12k)";
         if parts.len() != 3 {
             return Err(Error::invalid(format!("'{text}' is not {expected}")));
         }
@@ -67,11 +68,16 @@ impl Weighting {
             .ok()
             .filter(|o| (1..=20).contains(o))
             .ok_or_else(|| {
-                Error::invalid(format!("filter order '{}' in '{text}' must be an integer from 1 to 20", parts[1]))
+                Error::invalid(format!(
+                    "filter order '{}' in '{text}' must be an integer from 1 to 20",
+                    parts[1]
+                ))
             })?;
         let fc = parse_frequency(parts[2])?;
         if !(fc > 0.0) {
-            return Err(Error::invalid(format!("filter corner in '{text}' must be positive")));
+            return Err(Error::invalid(format!(
+                "filter corner in '{text}' must be positive"
+            )));
         }
         match parts[0].trim().to_ascii_lowercase().as_str() {
             "highpass" | "hp" => Ok(Weighting::HighPass { order, fc }),
@@ -91,8 +97,12 @@ impl Weighting {
     /// A short description (`highpass:1:12 kHz`).
     pub fn describe(&self) -> String {
         match *self {
-            Weighting::HighPass { order, fc } => format!("highpass:{order}:{}", format_si(fc, "Hz", 4)),
-            Weighting::LowPass { order, fc } => format!("lowpass:{order}:{}", format_si(fc, "Hz", 4)),
+            Weighting::HighPass { order, fc } => {
+                format!("highpass:{order}:{}", format_si(fc, "Hz", 4))
+            }
+            Weighting::LowPass { order, fc } => {
+                format!("lowpass:{order}:{}", format_si(fc, "Hz", 4))
+            }
         }
     }
 }
@@ -110,7 +120,9 @@ impl Band {
     /// Parse `FROM:TO` with units (`12k:20M`).
     pub fn parse(text: &str) -> Result<Self> {
         let (a, b) = text.split_once(':').ok_or_else(|| {
-            Error::invalid(format!("band '{text}' is not of the form FROM:TO (e.g. 12k:20M)"))
+            Error::invalid(format!(
+                "band '{text}' is not of the form FROM:TO (e.g. 12k:20M)"
+            ))
         })?;
         let band = Band {
             from: parse_frequency(a)?,
@@ -324,7 +336,13 @@ mod tests {
         assert!(Weighting::parse("bandpass:1:1k").is_err());
         assert!(Weighting::parse("highpass:0:1k").is_err());
         assert!(Weighting::parse("highpass:1").is_err());
-        assert_eq!(Band::parse("12k:20M").unwrap(), Band { from: 12e3, to: 20e6 });
+        assert_eq!(
+            Band::parse("12k:20M").unwrap(),
+            Band {
+                from: 12e3,
+                to: 20e6
+            }
+        );
         assert!(Band::parse("20M:12k").is_err());
         assert!(Band::parse("12k").is_err());
     }
@@ -347,8 +365,14 @@ mod tests {
             ],
             ..Default::default()
         };
-        let band = Band { from: 100.0, to: 5e6 };
-        let got = integrate_band(&s, band, &setup, None).unwrap().rms_rad.powi(2);
+        let band = Band {
+            from: 100.0,
+            to: 5e6,
+        };
+        let got = integrate_band(&s, band, &setup, None)
+            .unwrap()
+            .rms_rad
+            .powi(2);
         let t = LogLog::new(&s.f, &s.to(Quantity::Sphi).unwrap().values).unwrap();
         let n = 2_000_000;
         let l = (band.to / band.from).ln();

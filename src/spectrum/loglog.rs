@@ -63,7 +63,8 @@ impl LogLog {
                 v.len()
             )));
         }
-        if !(f[0] > 0.0) || f.windows(2).any(|w| !(w[1] > w[0])) || f.iter().any(|x| !x.is_finite()) {
+        if !(f[0] > 0.0) || f.windows(2).any(|w| !(w[1] > w[0])) || f.iter().any(|x| !x.is_finite())
+        {
             return Err(Error::invalid(
                 "log–log table offsets must be positive, finite and strictly increasing",
             ));
@@ -199,15 +200,24 @@ impl LogLog {
     /// law, interpolating the product at the merged knots is exact.
     pub fn product(&self, other: &LogLog, a: f64, b: f64, extend: Extend) -> Result<LogLog> {
         let mut knots = vec![a];
-        knots.extend(self.f.iter().chain(other.f.iter()).copied().filter(|&x| x > a && x < b));
+        knots.extend(
+            self.f
+                .iter()
+                .chain(other.f.iter())
+                .copied()
+                .filter(|&x| x > a && x < b),
+        );
         knots.push(b);
         knots.sort_by(|x, y| x.total_cmp(y));
         knots.dedup();
         let mut v = Vec::with_capacity(knots.len());
         for &x in &knots {
-            let p = self.eval(x, extend).zip(other.eval(x, extend)).ok_or_else(|| {
-                Error::invalid(format!("offset {x} Hz is outside one of the tables"))
-            })?;
+            let p = self
+                .eval(x, extend)
+                .zip(other.eval(x, extend))
+                .ok_or_else(|| {
+                    Error::invalid(format!("offset {x} Hz is outside one of the tables"))
+                })?;
             v.push(p.0 * p.1);
         }
         LogLog::new(&knots, &v)

@@ -101,7 +101,12 @@ impl Spectrum {
     /// A spectrum, checked: equal lengths, at least 2 points, offsets finite,
     /// positive and strictly increasing, values finite (L) or finite and
     /// positive (linear quantities), carrier positive when given.
-    pub fn new(f: Vec<f64>, values: Vec<f64>, quantity: Quantity, carrier: Option<f64>) -> Result<Self> {
+    pub fn new(
+        f: Vec<f64>,
+        values: Vec<f64>,
+        quantity: Quantity,
+        carrier: Option<f64>,
+    ) -> Result<Self> {
         if f.len() != values.len() {
             return Err(Error::invalid(format!(
                 "spectrum has {} offsets but {} values",

@@ -48,7 +48,11 @@ pub fn gl8(g: &impl Fn(f64) -> f64, a: f64, b: f64) -> f64 {
     let (x, w) = rule8();
     let h = 0.5 * (b - a);
     let c = 0.5 * (a + b);
-    x.iter().zip(w).map(|(xi, wi)| wi * g(c + h * xi)).sum::<f64>() * h
+    x.iter()
+        .zip(w)
+        .map(|(xi, wi)| wi * g(c + h * xi))
+        .sum::<f64>()
+        * h
 }
 
 /// ∫_a^b g by adaptive bisection of the 8-point rule until two levels agree
@@ -83,8 +87,16 @@ mod tests {
             let sw: f64 = w.iter().sum();
             assert!((sw - 2.0).abs() < 1e-13, "n={n}");
             let d = 2 * n - 1;
-            let got: f64 = x.iter().zip(&w).map(|(xi, wi)| wi * xi.powi(d as i32 - 1)).sum();
-            let want = if (d - 1) % 2 == 0 { 2.0 / d as f64 } else { 0.0 };
+            let got: f64 = x
+                .iter()
+                .zip(&w)
+                .map(|(xi, wi)| wi * xi.powi(d as i32 - 1))
+                .sum();
+            let want = if (d - 1) % 2 == 0 {
+                2.0 / d as f64
+            } else {
+                0.0
+            };
             assert!((got - want).abs() < 1e-12, "n={n}");
         }
     }

@@ -22,7 +22,9 @@ fn mask_points(m: &crate::wander::masks::Mask, lo: f64, hi: f64) -> Vec<(f64, f6
     if !(a > 0.0 && b > a) {
         return Vec::new();
     }
-    let mut taus: Vec<f64> = (0..=200).map(|i| a * (b / a).powf(i as f64 / 200.0)).collect();
+    let mut taus: Vec<f64> = (0..=200)
+        .map(|i| a * (b / a).powf(i as f64 / 200.0))
+        .collect();
     for bp in m.breakpoints() {
         if bp > a && bp < b {
             taus.push(bp);
@@ -30,7 +32,9 @@ fn mask_points(m: &crate::wander::masks::Mask, lo: f64, hi: f64) -> Vec<(f64, f6
         }
     }
     taus.sort_by(f64::total_cmp);
-    taus.iter().filter_map(|&t| m.limit(t).map(|l| (t, l))).collect()
+    taus.iter()
+        .filter_map(|&t| m.limit(t).map(|l| (t, l)))
+        .collect()
 }
 
 /// The wander section and one verdict per mask.
@@ -74,7 +78,10 @@ pub(super) fn wander(dut: &Dut, records: &[Loaded], ties: &[Loaded], r: &mut Rep
             return Ok(());
         }
     };
-    r.methods.push(method("TIE statistics, MTIE, TDEV", "ITU-T G.810 definitions; TDEV as NIST SP 1065 §5.2.6"));
+    r.methods.push(method(
+        "TIE statistics, MTIE, TDEV",
+        "ITU-T G.810 definitions; TDEV as NIST SP 1065 §5.2.6",
+    ));
     r.methods.push(method(
         "mask checks",
         "ITU-T G.811, G.8262, G.8272 masks (built-in values recalled from memory) or the user's mask files",
@@ -83,11 +90,20 @@ pub(super) fn wander(dut: &Dut, records: &[Loaded], ties: &[Loaded], r: &mut Rep
         .mtie
         .iter()
         .chain(&res.tdev)
-        .fold((f64::INFINITY, 0.0f64), |(a, b), e| (a.min(e.tau), b.max(e.tau)));
+        .fold((f64::INFINITY, 0.0f64), |(a, b), e| {
+            (a.min(e.tau), b.max(e.tau))
+        });
     let mut plots = Vec::new();
-    for (metric, pm, curve) in [(Metric::Mtie, PlotMetric::Mtie, &res.mtie), (Metric::Tdev, PlotMetric::Tdev, &res.tdev)] {
+    for (metric, pm, curve) in [
+        (Metric::Mtie, PlotMetric::Mtie, &res.mtie),
+        (Metric::Tdev, PlotMetric::Tdev, &res.tdev),
+    ] {
         let mut lines = Vec::new();
-        for (m, c) in masks.iter().zip(&res.checks).filter(|(m, _)| m.metric == metric) {
+        for (m, c) in masks
+            .iter()
+            .zip(&res.checks)
+            .filter(|(m, _)| m.metric == metric)
+        {
             lines.push(MaskLine {
                 name: m.name.clone(),
                 limit: mask_points(m, tlo, thi),
@@ -148,7 +164,9 @@ pub(super) fn wander(dut: &Dut, records: &[Loaded], ties: &[Loaded], r: &mut Rep
         notes.push(format!("Built-in masks: {FROM_MEMORY_NOTE}."));
     }
     if let Some(y) = res.tie.offset_removed {
-        notes.push(format!("A constant frequency offset of {y:.4e} was removed first."));
+        notes.push(format!(
+            "A constant frequency offset of {y:.4e} was removed first."
+        ));
     }
     r.cautions.push(CONDITIONS_NOTE.to_string());
     r.wander = Part::Done(WanderSection {
@@ -262,7 +280,10 @@ pub(super) fn holdover(dut: &Dut, records: &[Loaded], r: &mut Report) -> Result<
         "TE(t) = te0 + y0·t + aging term; random part by seeded Monte Carlo of the fitted power-law noise (Kasdin & Walter 1992); percentiles of |TE|",
     ));
     let parameters = vec![
-        ("initial time error te0".to_string(), format_si(model.te0, "s", 4)),
+        (
+            "initial time error te0".to_string(),
+            format_si(model.te0, "s", 4),
+        ),
         (
             "initial frequency y0".to_string(),
             format!("{:.4e} ± {:.2e}", model.y0, model.y0_sigma),
@@ -272,13 +293,22 @@ pub(super) fn holdover(dut: &Dut, records: &[Loaded], r: &mut Report) -> Result<
             format!(
                 "{:.4e} per day at the start{}",
                 model.aging.rate(model.start) * 86400.0,
-                if h.aging.is_some() { " (given)" } else { " (fitted)" }
+                if h.aging.is_some() {
+                    " (given)"
+                } else {
+                    " (fitted)"
+                }
             ),
         ),
         ("noise model".to_string(), model.noise.to_model_string()),
         (
             "Monte Carlo".to_string(),
-            format!("{} paths, seed {}, step {}", pred.paths, settings.seed, format_si(pred.step, "s", 4)),
+            format!(
+                "{} paths, seed {}, step {}",
+                pred.paths,
+                settings.seed,
+                format_si(pred.step, "s", 4)
+            ),
         ),
     ];
     let caution = crate::holdover::caution();

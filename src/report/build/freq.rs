@@ -29,9 +29,15 @@ fn setup_for(j: &JitterSpec) -> Result<JitterSetup> {
             .iter()
             .map(|f| {
                 if f.highpass {
-                    Weighting::HighPass { order: f.order, fc: f.corner }
+                    Weighting::HighPass {
+                        order: f.order,
+                        fc: f.corner,
+                    }
                 } else {
-                    Weighting::LowPass { order: f.order, fc: f.corner }
+                    Weighting::LowPass {
+                        order: f.order,
+                        fc: f.corner,
+                    }
                 }
             })
             .collect(),
@@ -45,9 +51,16 @@ fn setup_for(j: &JitterSpec) -> Result<JitterSetup> {
 }
 
 /// The L(f) section and one verdict per jitter band with a limit.
-pub(super) fn phase_noise(dut: &Dut, records: &[Loaded], tables: &[LoadedTable], r: &mut Report) -> Result<()> {
+pub(super) fn phase_noise(
+    dut: &Dut,
+    records: &[Loaded],
+    tables: &[LoadedTable],
+    r: &mut Report,
+) -> Result<()> {
     if tables.is_empty() && dut.jitter.is_empty() {
-        r.phase_noise = Part::not_requested("the DUT file lists no [[phase_noise]] table and no [[jitter]] band.");
+        r.phase_noise = Part::not_requested(
+            "the DUT file lists no [[phase_noise]] table and no [[jitter]] band.",
+        );
         return Ok(());
     }
     let carrier = tables.first().map(|t| t.src.carrier).or(dut.carrier);
@@ -56,7 +69,11 @@ pub(super) fn phase_noise(dut: &Dut, records: &[Loaded], tables: &[LoadedTable],
         (Some(l), Some(c)) => {
             let w = welch(&l.series.record.to_phase(), &WelchOptions::default());
             match w {
-                Ok(w) => Some((l.src.name.clone(), w.log_binned(10, Some(c))?, w.spectrum(Some(c))?)),
+                Ok(w) => Some((
+                    l.src.name.clone(),
+                    w.log_binned(10, Some(c))?,
+                    w.spectrum(Some(c))?,
+                )),
                 Err(_) => None,
             }
         }
@@ -75,13 +92,28 @@ pub(super) fn phase_noise(dut: &Dut, records: &[Loaded], tables: &[LoadedTable],
         let sy = t.table.spectrum.to(Quantity::Sy)?;
         let (f_lo, f_hi) = t.table.spectrum.range();
         if let Ok(fit) = fit_sy(&sy.f, &sy.values, None, f_hi) {
-            if let Ok(ms) = Spectrum::from_model(&fit.model, Quantity::Lf, Some(t.src.carrier), f_lo, f_hi, 20) {
+            if let Ok(ms) = Spectrum::from_model(
+                &fit.model,
+                Quantity::Lf,
+                Some(t.src.carrier),
+                f_lo,
+                f_hi,
+                20,
+            ) {
                 traces.push(LfTrace {
                     name: "power-law model of the table".into(),
                     kind: TraceKind::Model,
-                    points: ms.f.iter().copied().zip(ms.values.iter().copied()).collect(),
+                    points: ms
+                        .f
+                        .iter()
+                        .copied()
+                        .zip(ms.values.iter().copied())
+                        .collect(),
                 });
-                notes.push(format!("Model fitted to the table: {}", fit.model.to_model_string()));
+                notes.push(format!(
+                    "Model fitted to the table: {}",
+                    fit.model.to_model_string()
+                ));
             }
         }
     }
@@ -101,13 +133,25 @@ pub(super) fn phase_noise(dut: &Dut, records: &[Loaded], tables: &[LoadedTable],
     let mut marks = Vec::new();
     for j in &dut.jitter {
         let spectrum: Option<(&Spectrum, String)> = match &j.source {
-            Some(n) => tables.iter().find(|t| &t.src.name == n).map(|t| (&t.table.spectrum, t.src.name.clone())),
+            Some(n) => tables
+                .iter()
+                .find(|t| &t.src.name == n)
+                .map(|t| (&t.table.spectrum, t.src.name.clone())),
             None => tables
                 .first()
                 .map(|t| (&t.table.spectrum, t.src.name.clone()))
-                .or_else(|| record_spectrum.as_ref().map(|(n, _, s)| (s, format!("spectrum of {n}")))),
+                .or_else(|| {
+                    record_spectrum
+                        .as_ref()
+                        .map(|(n, _, s)| (s, format!("spectrum of {n}")))
+                }),
         };
-        let item = format!("{} ({} – {})", j.name, format_si(j.from, "Hz", 4), format_si(j.to, "Hz", 4));
+        let item = format!(
+            "{} ({} – {})",
+            j.name,
+            format_si(j.from, "Hz", 4),
+            format_si(j.to, "Hz", 4)
+        );
         let criterion = j
             .limit
             .map(|l| format!("rms time jitter ≤ {}", format_si(l, "s", 4)))
@@ -115,7 +159,17 @@ pub(super) fn phase_noise(dut: &Dut, records: &[Loaded], tables: &[LoadedTable],
         let result: std::result::Result<BandJitter, String> = match spectrum {
             None => Err("no spectrum to integrate (no table, or no carrier for the record)".into()),
             Some((s, _)) => setup_for(j)
-                .and_then(|setup| integrate_band(s, Band { from: j.from, to: j.to }, &setup, j.ui_rate))
+                .and_then(|setup| {
+                    integrate_band(
+                        s,
+                        Band {
+                            from: j.from,
+                            to: j.to,
+                        },
+                        &setup,
+                        j.ui_rate,
+                    )
+                })
                 .map_err(|e| e.to_string()),
         };
         match result {
@@ -124,7 +178,11 @@ pub(super) fn phase_noise(dut: &Dut, records: &[Loaded], tables: &[LoadedTable],
                     name: j.name.clone(),
                     from: b.from,
                     to: b.to,
-                    filters: if b.filter == "none" { String::new() } else { b.filter.clone() },
+                    filters: if b.filter == "none" {
+                        String::new()
+                    } else {
+                        b.filter.clone()
+                    },
                     rms_rad: b.rms_rad,
                     rms_s: b.rms_s,
                     rms_ui: b.rms_ui,
@@ -135,7 +193,11 @@ pub(super) fn phase_noise(dut: &Dut, records: &[Loaded], tables: &[LoadedTable],
                         kind: VerdictKind::Jitter,
                         item,
                         criterion,
-                        result: format!("{} rms ({:.3e} rad)", format_si(b.rms_s, "s", 4), b.rms_rad),
+                        result: format!(
+                            "{} rms ({:.3e} rad)",
+                            format_si(b.rms_s, "s", 4),
+                            b.rms_rad
+                        ),
                         pass: row.pass(),
                     });
                 }
@@ -176,7 +238,11 @@ pub(super) fn phase_noise(dut: &Dut, records: &[Loaded], tables: &[LoadedTable],
         source: tables
             .first()
             .map(|t| t.src.name.clone())
-            .or_else(|| record_spectrum.as_ref().map(|(n, _, _)| format!("spectrum of {n}")))
+            .or_else(|| {
+                record_spectrum
+                    .as_ref()
+                    .map(|(n, _, _)| format!("spectrum of {n}"))
+            })
             .unwrap_or_default(),
         carrier,
         plot: PhaseNoisePlot {
@@ -210,9 +276,29 @@ pub(super) fn combined(
         return;
     };
     let tau0 = l.series.record.tau0();
-    let taus: Vec<f64> = measured.points.iter().map(|p| p.estimate.tau).collect();
-    let f_h = t.table.spectrum.range().1;
-    let converted = match sigma_from_spectrum(&t.table.spectrum, SigmaKind::Adev, &taus, tau0, f_h) {
+    // The phase-noise side reaches from τ ≈ 1/f_h up to 1/(the table's
+    // lowest offset), as `tauwise convert` does; it is evaluated on the
+    // record's octave grid extended below τ0, so the two curves share their
+    // common τ values.
+    let (f_lo, f_h) = t.table.spectrum.range();
+    let tau_max = 1.0 / f_lo * (1.0 + 1e-9);
+    // Down to τ0/2¹⁴ at most, so the picture keeps the record's side readable.
+    let k_min = ((1.0 / (f_h * tau0)).log2().ceil() as i32).max(-14);
+    let mut taus: Vec<f64> = (k_min..0).map(|k| tau0 * 2f64.powi(k)).collect();
+    taus.extend(measured.points.iter().map(|p| p.estimate.tau));
+    taus.retain(|&tau| tau <= tau_max);
+    taus.sort_by(f64::total_cmp);
+    taus.dedup();
+    if taus.is_empty() {
+        r.combined = Part::not_computed(format!(
+            "the table's offsets ({} – {}) support no τ of the record.",
+            format_si(f_lo, "Hz", 4),
+            format_si(f_h, "Hz", 4)
+        ));
+        return;
+    }
+    let converted = match sigma_from_spectrum(&t.table.spectrum, SigmaKind::Adev, &taus, tau0, f_h)
+    {
         Ok(c) => c,
         Err(e) => {
             r.combined = Part::not_computed(format!("σ(τ) from {} failed: {e}", t.src.name));
@@ -222,7 +308,10 @@ pub(super) fn combined(
     let rows: Vec<ConsistencyRow> = consistency(measured, &converted)
         .into_iter()
         .map(|c| {
-            let p = measured.points.iter().find(|p| (p.estimate.tau - c.tau).abs() <= 1e-6 * c.tau);
+            let p = measured
+                .points
+                .iter()
+                .find(|p| (p.estimate.tau - c.tau).abs() <= 1e-6 * c.tau);
             ConsistencyRow {
                 tau: c.tau,
                 measured: c.measured,

@@ -34,7 +34,12 @@ impl Default for BuildOptions {
     fn default() -> Self {
         Self {
             confidence: 0.683,
-            estimators: vec![Estimator::Oadev, Estimator::Mdev, Estimator::Ohdev, Estimator::Tdev],
+            estimators: vec![
+                Estimator::Oadev,
+                Estimator::Mdev,
+                Estimator::Ohdev,
+                Estimator::Tdev,
+            ],
             grid: TauGrid::Octave,
         }
     }
@@ -63,7 +68,11 @@ fn series_options(src: &TimeSource, carrier: Option<f64>) -> SeriesOptions {
     }
 }
 
-fn load<'a>(role: &str, src: &'a TimeSource, carrier: Option<f64>) -> Result<(Loaded<'a>, Provenance)> {
+fn load<'a>(
+    role: &str,
+    src: &'a TimeSource,
+    carrier: Option<f64>,
+) -> Result<(Loaded<'a>, Provenance)> {
     let mut prov = Provenance::of_file(role, &src.name, &src.path)?;
     let s = read_series(&src.path, &series_options(src, carrier))?;
     prov.points = Some(s.record.len());
@@ -152,12 +161,17 @@ pub fn from_dut_with_progress(
     }
     for j in &dut.jitter {
         if let Some(f) = &j.filter_file {
-            r.inputs.push(Provenance::of_file("jitter filter table", &j.name, f)?);
+            r.inputs
+                .push(Provenance::of_file("jitter filter table", &j.name, f)?);
         }
     }
     if let Some(w) = &dut.wander {
         for f in &w.mask_files {
-            r.inputs.push(Provenance::of_file("mask file", &f.display().to_string(), f)?);
+            r.inputs.push(Provenance::of_file(
+                "mask file",
+                &f.display().to_string(),
+                f,
+            )?);
         }
     }
 

@@ -12,7 +12,12 @@ use crate::tau::TauGrid;
 
 /// The stability section from the first record; returns its curves for the
 /// other sections (empty when there is no record).
-pub(super) fn stability(dut: &Dut, records: &[Loaded], opts: &BuildOptions, r: &mut Report) -> Result<Vec<Curve>> {
+pub(super) fn stability(
+    dut: &Dut,
+    records: &[Loaded],
+    opts: &BuildOptions,
+    r: &mut Report,
+) -> Result<Vec<Curve>> {
     let Some(l) = records.first() else {
         r.stability = Part::not_requested("the DUT file lists no [[record]].");
         return Ok(Vec::new());
@@ -44,8 +49,12 @@ pub(super) fn stability(dut: &Dut, records: &[Loaded], opts: &BuildOptions, r: &
         ),
         "NIST SP 1065 (Riley 2008) §5.2 definitions; terms touching a gap are skipped",
     ));
-    let has_ci = curves.iter().any(|c| c.points.iter().any(|p| p.lo.is_some()));
-    let has_noise = curves.iter().any(|c| c.points.iter().any(|p| p.alpha.is_some()));
+    let has_ci = curves
+        .iter()
+        .any(|c| c.points.iter().any(|p| p.lo.is_some()));
+    let has_noise = curves
+        .iter()
+        .any(|c| c.points.iter().any(|p| p.alpha.is_some()));
     if has_ci {
         r.methods.push(method(
             "EDF and confidence intervals",
@@ -138,7 +147,9 @@ pub(super) fn noise_model(records: &[Loaded], curves: &[Curve], r: &mut Report) 
         }
     }
     if pts.is_empty() {
-        r.noise_model = Part::not_computed("the model is fitted to the oadev and mdev curves, and neither has a point.");
+        r.noise_model = Part::not_computed(
+            "the model is fitted to the oadev and mdev curves, and neither has a point.",
+        );
         return;
     }
     let f_h = 0.5 / tau0;
@@ -173,7 +184,8 @@ pub(super) fn noise_model(records: &[Loaded], curves: &[Curve], r: &mut Report) 
         worst
     )];
     if used_proxy {
-        notes.push("Weights: EDF where known, otherwise (N−1)/m (common practice stand-in).".into());
+        notes
+            .push("Weights: EDF where known, otherwise (N−1)/m (common practice stand-in).".into());
     }
     r.methods.push(method(
         "power-law model fit",
