@@ -2,6 +2,12 @@
 //! 10^7 phase points (issue 2 targets at 10^7 on the 2-core machine: oadev,
 //! mdev, ohdev, totdev ≤ 0.15 s each; mtie ≤ 1 s).
 //!
+//! Long-τ estimators (issue 7 targets on the 2-core machine): theo1 over
+//! its octave grid at N = 10^5 ≤ 3 s; mtot and htot ≤ 1 s at N = 10^5.
+//! The criterion group runs mtot and htot at N = 10^4 (their O(N·m) cost
+//! per τ makes 10 samples at 10^5 take minutes); the `deviation_peak` bench
+//! binary gives the N = 10^5 figures in one pass.
+//!
 //! `cargo bench --bench deviation -- --sample-size 10`
 
 use criterion::{criterion_group, criterion_main, BenchmarkId, Criterion};
@@ -44,5 +50,26 @@ fn octave(c: &mut Criterion) {
     }
 }
 
-criterion_group!(benches, octave);
+fn long_tau(c: &mut Criterion) {
+    for (label, n, ests) in [
+        ("1e5", 100_000usize, &[Estimator::Theo1][..]),
+        (
+            "1e4",
+            10_000,
+            &[Estimator::Mtot, Estimator::Htot, Estimator::Theoh][..],
+        ),
+    ] {
+        let rec = record(n);
+        let mut g = c.benchmark_group(format!("long_tau/{label}"));
+        for &est in ests {
+            let ms = TauGrid::Octave.ms(rec.tau0, est.max_m(n)).unwrap();
+            g.bench_with_input(BenchmarkId::from_parameter(est.name()), &ms, |b, ms| {
+                b.iter(|| compute(est, &rec, ms))
+            });
+        }
+        g.finish();
+    }
+}
+
+criterion_group!(benches, octave, long_tau);
 criterion_main!(benches);

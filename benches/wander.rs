@@ -31,7 +31,7 @@ fn bench_wander(c: &mut Criterion) {
     let mut masks = builtin("g8262-opt1").unwrap();
     masks.extend(builtin("g811").unwrap());
     let mut g = c.benchmark_group("wander");
-    g.sample_size(10).measurement_time(Duration::from_secs(20));
+    g.sample_size(10).measurement_time(Duration::from_secs(5));
     g.bench_function("tie+mtie+tdev+masks, 1e7 points, 10/decade", |b| {
         b.iter(|| analyse(&rec, &ms, true, &masks).unwrap())
     });
@@ -60,7 +60,7 @@ fn bench_holdover(c: &mut Criterion) {
     };
     let settings = Settings::new(86400.0, 1.5e-6);
     let mut g = c.benchmark_group("holdover");
-    g.sample_size(10).measurement_time(Duration::from_secs(20));
+    g.sample_size(10).measurement_time(Duration::from_secs(5));
     g.bench_function("24 h, 2000 paths, all five noise types", |b| {
         b.iter(|| predict(&model, &settings).unwrap())
     });

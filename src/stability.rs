@@ -3,9 +3,10 @@
 //! noise type) by [`crate::stats`]. Used by the `stability` command and the
 //! report, so both print the same numbers.
 
-use crate::deviation::{compute, Curve, Estimator, Point};
+use crate::deviation::{compute, Curve, Estimator};
 use crate::error::{Error, Result};
 use crate::record::PhaseRecord;
+use crate::stats::{annotate, StatsOptions};
 use crate::tau::TauGrid;
 
 /// What to compute.
@@ -47,12 +48,16 @@ pub fn analyse(x: &PhaseRecord, req: &Request) -> Result<Vec<Curve>> {
     if req.estimators.is_empty() {
         return Err(Error::invalid("no estimator requested"));
     }
+    let opts = StatsOptions {
+        confidence: req.confidence,
+        forced_alpha: req.forced_alpha,
+    };
     let n = x.len();
     let mut curves = Vec::with_capacity(req.estimators.len());
     for &est in &req.estimators {
         let ms = req.grid.ms(x.tau0, est.max_m(n))?;
         let estimates = compute(est, x, &ms);
-        let points = estimates.into_iter().map(Point::bare).collect();
+        let points = annotate(est, x, &estimates, &opts)?;
         curves.push(Curve {
             estimator: est.name().to_string(),
             points,

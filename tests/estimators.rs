@@ -50,10 +50,16 @@ fn rel(a: f64, b: f64) -> f64 {
 fn check_fast_equals_direct(x: &[f64], label: &str) {
     let rec = PhaseRecord::new(x.to_vec(), 0.5).unwrap();
     for &est in Estimator::ALL {
+        // Theo1 and TheoH live on their own τ lattice: tests/long_tau.rs.
+        if est.uses_theo_lattice() {
+            continue;
+        }
         let max_m = est.max_m(x.len());
+        // The direct modified-total forms are O(N·m²) per τ: keep m small.
+        let heavy = matches!(est, Estimator::Mtot | Estimator::Ttot | Estimator::Htot);
         let ms: Vec<usize> = [1, 2, 3, 5, 8, 13, 40, 101, max_m / 2 + 1, max_m]
             .into_iter()
-            .filter(|&m| m >= 1 && m <= max_m)
+            .filter(|&m| m >= 1 && m <= max_m && (!heavy || m <= 40 || m == max_m))
             .collect();
         let fast = compute(est, &rec, &ms);
         let mut k = 0;
@@ -70,8 +76,11 @@ fn check_fast_equals_direct(x: &[f64], label: &str) {
                     assert_eq!(f.m, m);
                     assert_eq!(f.tau, d.tau);
                     assert_eq!(f.terms, d.terms, "{label} {est} m={m}: terms");
+                    // Issue 2 asks 1e-12 of its estimators, issue 7 1e-10 of
+                    // the modified totals (their half-average detrend).
+                    let tol = if heavy { 1e-10 } else { 1e-12 };
                     assert!(
-                        rel(f.value, d.value) <= 1e-12,
+                        rel(f.value, d.value) <= tol,
                         "{label} {est} m={m}: fast {} direct {} (rel {:e})",
                         f.value,
                         d.value,
@@ -323,7 +332,7 @@ fn compute_leaves_out_what_cannot_be_computed() {
 fn max_m_matches_the_definitions() {
     for n in [3usize, 4, 7, 10, 31, 32, 33] {
         let x = random_phase(n, n as u64);
-        for &est in Estimator::ALL {
+        for &est in Estimator::ALL.iter().filter(|e| !e.uses_theo_lattice()) {
             let mm = est.max_m(n);
             if mm >= 1 {
                 assert!(

@@ -117,6 +117,9 @@ fn header_unit(field: &str) -> Option<f64> {
     }
 }
 
+/// One raw table row: (line number, offset in Hz, value as written).
+type Row = (u64, f64, f64);
+
 /// Read the raw rows of column pair (oc, vc), 1-based, applying the
 /// header's offset unit. Errors name line and field.
 fn pairs(
@@ -125,7 +128,7 @@ fn pairs(
     oc: usize,
     vc: usize,
     what: &str,
-) -> Result<(Vec<(u64, f64, f64)>, f64), ReadError> {
+) -> Result<(Vec<Row>, f64), ReadError> {
     let scale = table
         .header
         .as_ref()

@@ -453,7 +453,7 @@ mod tests {
         )
         .unwrap();
         assert_eq!(w.segments, 5);
-        let mut mean = vec![0.0; 15];
+        let mut mean = [0.0; 15];
         for s in 0..5 {
             let r = periodogram_reference(&x[s * 16..s * 16 + 32], 1.0, Window::Hann);
             for (m, v) in mean.iter_mut().zip(r) {

@@ -1,0 +1,132 @@
+//! The glue between the estimators and the statistics: every
+//! [`Estimate`] of one estimator becomes a [`Point`] with its noise type,
+//! EDF and confidence interval.
+
+use crate::deviation::{Estimate, Estimator, Point};
+use crate::error::{Error, Result};
+use crate::record::PhaseRecord;
+use crate::stats::{edf, identify, interval, VarianceKind, DEFAULT_CONFIDENCE};
+use rayon::prelude::*;
+
+/// How the statistics are computed.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct StatsOptions {
+    /// Two-sided confidence of the intervals, strictly inside (0, 1).
+    pub confidence: f64,
+    /// A power-law exponent α to use at every τ instead of identifying it.
+    pub forced_alpha: Option<i32>,
+}
+
+impl Default for StatsOptions {
+    fn default() -> Self {
+        Self {
+            confidence: DEFAULT_CONFIDENCE,
+            forced_alpha: None,
+        }
+    }
+}
+
+impl VarianceKind {
+    /// The variance behind an estimator, or `None` for those without an EDF
+    /// rule (MTIE, TIE rms).
+    pub fn of_estimator(est: Estimator) -> Option<VarianceKind> {
+        match est {
+            Estimator::Adev => Some(VarianceKind::Allan),
+            Estimator::Oadev => Some(VarianceKind::OverlappingAllan),
+            Estimator::Mdev => Some(VarianceKind::Modified),
+            Estimator::Tdev => Some(VarianceKind::Time),
+            Estimator::Hdev => Some(VarianceKind::Hadamard),
+            Estimator::Ohdev => Some(VarianceKind::OverlappingHadamard),
+            Estimator::Totdev => Some(VarianceKind::Total),
+            // The long-τ estimators carry their own EDF and bias rules in
+            // `deviation` (issue 7); until they are wired here they get no
+            // interval rather than a borrowed one.
+            Estimator::Mtot
+            | Estimator::Ttot
+            | Estimator::Htot
+            | Estimator::Theo1
+            | Estimator::Theoh
+            | Estimator::Mtie
+            | Estimator::Tierms => None,
+        }
+    }
+
+    /// The record length N that gives `terms` terms at averaging factor m
+    /// without gaps (the inverse of the term count of Greenhall & Riley:
+    /// overlapping M = N − dm, modified M = N − (d + 1)m + 1,
+    /// non-overlapping M = ⌊(N − 1 − dm)/m⌋ + 1, total M = N − 2).
+    pub fn equivalent_points(self, m: usize, terms: usize) -> usize {
+        let d = self.difference_order();
+        match self {
+            VarianceKind::Total => terms + 2,
+            VarianceKind::Modified | VarianceKind::Time => terms + (d + 1) * m - 1,
+            VarianceKind::Allan | VarianceKind::Hadamard => (terms + d - 1) * m + 1,
+            _ => terms + d * m,
+        }
+    }
+}
+
+impl From<Estimator> for Option<VarianceKind> {
+    fn from(est: Estimator) -> Self {
+        VarianceKind::of_estimator(est)
+    }
+}
+
+/// Annotate the estimates of `est` on the record `x`: the noise type at each
+/// τ ([`identify`], or `opts.forced_alpha`), its EDF ([`edf`]) and the
+/// two-sided interval at `opts.confidence` ([`interval`]).
+///
+/// The EDF is evaluated for the gap-free record that would give the same
+/// number of terms ([`VarianceKind::equivalent_points`]), so gaps widen the
+/// interval. Estimators without an EDF rule (MTIE, TIE rms) and points whose
+/// noise cannot be identified keep `None` in every statistic.
+///
+/// Errors: [`Error::Invalid`] when the confidence is outside (0, 1) or the
+/// forced α is outside the estimator's range.
+pub fn annotate(
+    est: Estimator,
+    x: &PhaseRecord,
+    estimates: &[Estimate],
+    opts: &StatsOptions,
+) -> Result<Vec<Point>> {
+    crate::stats::interval::check_confidence(opts.confidence)?;
+    let Some(kind) = VarianceKind::of_estimator(est) else {
+        return Ok(estimates.iter().copied().map(Point::bare).collect());
+    };
+    if let Some(a) = opts.forced_alpha {
+        if !kind.alpha_range().contains(&a) {
+            let range = kind.alpha_range();
+            return Err(Error::invalid(format!(
+                "noise type {} (α = {a}) is outside the range of {} (α = {} … {})",
+                crate::model::noise_label(a).unwrap_or("?"),
+                est.name(),
+                range.end(),
+                range.start()
+            )));
+        }
+    }
+    estimates
+        .par_iter()
+        .map(|e| {
+            let alpha = match opts.forced_alpha {
+                Some(a) => Some(a),
+                None => identify(&x.x, x.tau0, e.m, kind).map(|id| id.alpha),
+            };
+            let nu = alpha.and_then(|a| edf(kind, a, e.m, kind.equivalent_points(e.m, e.terms)));
+            let (lo, hi) = match nu {
+                Some(v) if e.value.is_finite() => {
+                    let (lo, hi) = interval(e.value, v, opts.confidence)?;
+                    (Some(lo), Some(hi))
+                }
+                _ => (None, None),
+            };
+            Ok(Point {
+                estimate: *e,
+                edf: nu,
+                lo,
+                hi,
+                alpha,
+            })
+        })
+        .collect()
+}
