@@ -343,7 +343,7 @@ fn wander(h: &mut Html, p: &Part<WanderSection>) -> Result<()> {
                             t(&m.name),
                             t(&m.metric),
                             n(format!("{:.3}", m.worst_ratio)),
-                            n(format!("{:+.2} dB", 20.0 * m.worst_ratio.log10())),
+                            n(format!("{:+.2} dB", -20.0 * m.worst_ratio.log10())),
                             n(tau(m.worst_tau)),
                             n(m.violations.to_string()),
                             Cell::Verdict(Some(m.pass)),
