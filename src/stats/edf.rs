@@ -78,13 +78,23 @@
 //!
 //! # Total variance
 //!
-//! NIST SP 1065 (Riley 2008, §5.2.11 and its EDF table): EDF = b·(T/τ) − c
-//! with T = (N − 1)τ0 the record length: WFM b = 1.50, c = 0; FFM b = 1.17,
-//! c = 0.22; RWFM b = 0.93, c = 0.36. SP 1065 gives no TOTVAR rule for WPM
-//! and FPM; for those we use the overlapping Allan EDF, since at those noises
-//! TOTVAR and the overlapping AVAR nearly coincide (SP 1065 recommends TOTDEV
-//! for its long-τ behaviour, where FM noise dominates) — our choice, stated
-//! here and in the issue note.
+//! NIST SP 1065 (Riley 2008, §5.2.11 and its EDF table; CHECKS.md D, from
+//! memory): EDF = b·(T/τ) − c with T = (N − 1)τ0 the record length: WFM
+//! b = 1.50, c = 0; FFM b = 1.17, c = 0.22; RWFM b = 0.93, c = 0.36. These
+//! describe the continuous-time, large-m behaviour: at m = 1, where TOTVAR
+//! and the overlapping AVAR are the same sum, the rule gives 1500 for white
+//! FM at N = 1001 against the true 666. We therefore multiply the rule by
+//! the overlapping Allan EDF's own small-m factor, EDF_OADEV(m)/EDF_OADEV,∞(m)
+//! (our discrete-model EDF over its large-r limit (a0 − a1/r)/r, taken as 1
+//! where m(d + 1) > Jmax or r ≤ 3, where the two agree), which makes m = 1
+//! exact and leaves larger m as printed (our choice, checked by the Monte
+//! Carlo in `tests/edf.rs`).
+//!
+//! SP 1065 gives no TOTVAR EDF for WPM and FPM, and none is given here
+//! (`None`): the reflected ends tie many terms to the two end samples, and a
+//! Monte Carlo (N = 1001, white PM) gives a TOTDEV EDF of 265 at m = 50 and
+//! 43 at m = 200 where the overlapping ADEV has 477 and 373 — borrowing the
+//! OADEV rule would overstate the confidence several-fold.
 
 use crate::stats::{gacv, VarianceKind};
 
@@ -122,8 +132,9 @@ pub fn edf(kind: VarianceKind, alpha: i32, m: usize, n_phase: usize) -> Option<f
     }
 }
 
-/// EDF of TOTVAR, NIST SP 1065: b·(T/τ) − c with T/τ = (N − 1)/m for FM
-/// noises; for WPM and FPM the overlapping Allan EDF (see the module notes).
+/// EDF of TOTVAR: NIST SP 1065 b·(T/τ) − c for the FM noises, times the
+/// small-m factor of the overlapping Allan EDF (see the module notes);
+/// `None` for WPM and FPM.
 fn total_edf(alpha: i32, m: usize, n_phase: usize) -> Option<f64> {
     if n_phase < 3 || 2 * m > n_phase - 1 {
         return None;
@@ -133,13 +144,16 @@ fn total_edf(alpha: i32, m: usize, n_phase: usize) -> Option<f64> {
         0 => (1.50, 0.0),
         -1 => (1.17, 0.22),
         -2 => (0.93, 0.36),
-        1 | 2 => {
-            let oadev = Differences::of(VarianceKind::OverlappingAllan)?;
-            return greenhall_edf(oadev, alpha, m, n_phase, J_MAX, PhaseModel::Discrete);
-        }
         _ => return None,
     };
-    let nu = b * ratio - c;
+    let oadev = Differences::of(VarianceKind::OverlappingAllan)?;
+    let exact = greenhall_edf(oadev, alpha, m, n_phase, J_MAX, PhaseModel::Discrete)?;
+    let r = (n_phase - 2 * m) as f64 / m as f64;
+    let factor = match large_r_coefficients(alpha, 2, false) {
+        Some((a0, a1)) if r > 3.0 && m * 3 <= J_MAX => exact * (a0 - a1 / r) / r,
+        _ => 1.0,
+    };
+    let nu = (b * ratio - c) * factor;
     (nu > 0.0).then_some(nu)
 }
 
