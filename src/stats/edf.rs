@@ -293,6 +293,32 @@ fn direct(j: usize, m_terms: f64, s: f64, kernel: &Kernel, d: usize) -> f64 {
     basic_sum(j, m_terms, s, z0, kernel, d) / (z0 * z0 * m_terms)
 }
 
+/// Theoretical lag-1 autocorrelation of the d-th differences (d = 0 … 3) of
+/// phase samples taken every m samples, for noise S_y ∝ f^α:
+/// ρ1 = sz(1)/sz(0) with the discrete-process kernel where m(d + 1) ≤ Jmax
+/// and the continuous one beyond (sampled phase; flicker PM with its
+/// discrete bandwidth). `None` when the d-th difference is not stationary
+/// (α + 2d ≤ 1). Used by [`crate::stats::noise_id`].
+pub fn decimated_lag1(alpha: i32, m: usize, d: usize) -> Option<f64> {
+    if d > 3 || !(-4..=2).contains(&alpha) || alpha + 2 * d as i32 <= 1 || m == 0 {
+        return None;
+    }
+    let kernel = if alpha == 2 {
+        Kernel::discrete(2, 1, d, false)
+    } else if m * (d + 1) <= J_MAX {
+        Kernel::discrete(alpha, m, d, false)
+    } else if alpha == 1 {
+        Kernel::flicker_pm(m)
+    } else {
+        Kernel::Continuous {
+            factor: None,
+            alpha,
+        }
+    };
+    let z0 = kernel.sz(0.0, d);
+    (z0 > 0.0 || z0 < 0.0).then(|| kernel.sz(1.0, d) / z0)
+}
+
 /// Table 1 of Greenhall & Riley (2003): (a0, a1) for the modified variances
 /// (F = 1), rows α = 2 … −4, columns d = 1, 2, 3 (from memory; agrees with
 /// the defining integrals to three decimals).
@@ -502,6 +528,25 @@ mod tests {
         let (a0, a1) = large_r_coefficients(2, 2, false).unwrap();
         assert!((a0 - 70.0 / 36.0).abs() < 1e-12);
         assert_eq!(a1, 1.0);
+    }
+
+    /// Lag-1 autocorrelations of differenced decimated phase (analytic):
+    /// second difference of white phase −2/3, of a random walk −1/2; random
+    /// walk FM 0 at m = 1 (white second differences) and +1/4 in the
+    /// continuous limit; flicker FM −1/3 at m = 1 (ARFIMA d = −½) and
+    /// (9 ln 3 − 16 ln 2)/(8 ln 2) = −0.2168 in the continuous limit.
+    #[test]
+    fn decimated_lag1_values() {
+        let close = |a: f64, b: f64| (a - b).abs() < 1e-9;
+        assert!(close(decimated_lag1(2, 7, 2).unwrap(), -2.0 / 3.0));
+        assert!(close(decimated_lag1(0, 5, 2).unwrap(), -0.5));
+        assert!(close(decimated_lag1(0, 5000, 2).unwrap(), -0.5));
+        assert!(close(decimated_lag1(-2, 1, 2).unwrap(), 0.0));
+        assert!(close(decimated_lag1(-2, 5000, 2).unwrap(), 0.25));
+        assert!(close(decimated_lag1(-1, 1, 2).unwrap(), -1.0 / 3.0));
+        let cont = (9.0 * 3f64.ln() - 16.0 * 2f64.ln()) / (8.0 * 2f64.ln());
+        assert!(close(decimated_lag1(-1, 5000, 2).unwrap(), cont));
+        assert_eq!(decimated_lag1(-1, 4, 1), None); // first difference of FFM phase: not stationary
     }
 
     #[test]

@@ -20,6 +20,19 @@
 //! α = round(p) + 2     (S_y ∝ f^α, since S_y = (2πf)² S_x)
 //! ```
 //!
+//! **Our refinement of the last step.** δ = −p/2 holds for the discrete
+//! fractionally integrated process; phase decimated by m behaves, as m
+//! grows, like continuous-time noise, whose differenced series have other
+//! lag-1 values — flicker FM after two differences tends to r1 = −0.217
+//! (δ = −0.277, so α̂ = −1.45, a hair from the RWFM boundary) instead of
+//! −1/3, and random-walk FM to +0.25 instead of 0. So instead of rounding
+//! p, α is the candidate whose *theoretical* r1 for the decimated, d-times
+//! differenced phase at this m ([`edf::decimated_lag1`], from the same
+//! autocovariance kernels as the EDF) is nearest the measured r1; the
+//! candidates are the α of the estimator's range whose d-th difference is
+//! stationary (α + 2d > 1). At m = 1 this reproduces the paper's
+//! boundaries up to the small differences of the discrete kernels.
+//!
 //! with dmin = 0 and dmax = the estimator's phase-difference order (2 for
 //! the Allan family, 3 for the Hadamard family), so that the differenced
 //! series stays stationary for every α the estimator accepts; α is then
@@ -56,8 +69,7 @@
 //! into WPM and FPM by R(n) as above (for n < 4 by the lag-1 statistic of
 //! the decimated phase: FPM if δ ≥ 0.25).
 
-use crate::stats::bias;
-use crate::stats::VarianceKind;
+use crate::stats::{bias, edf, VarianceKind};
 
 /// Fewest finite decimated points for the lag-1 method; shorter series use
 /// the B1 ratio (Riley & Greenhall 2004: "about 30").
@@ -170,18 +182,42 @@ pub(crate) fn lag1_autocorrelation(z: &[f64]) -> Option<f64> {
     (den > 0.0).then(|| num / den)
 }
 
-/// The Riley & Greenhall loop; returns (α before clamping, r1 at the stop).
-fn lag1_loop(mut z: Vec<f64>, dmax: usize) -> Option<(i32, f64)> {
+/// The Riley & Greenhall loop; returns the number of differences d at the
+/// stop and r1 there.
+fn lag1_loop(mut z: Vec<f64>, dmax: usize) -> Option<(usize, f64)> {
     let mut d = 0usize;
     loop {
         let r1 = lag1_autocorrelation(&z)?;
         let delta = r1 / (1.0 + r1);
         if delta < 0.25 || d >= dmax {
-            let p = -2.0 * (delta + d as f64);
-            return Some((p.round() as i32 + 2, r1));
+            return Some((d, r1));
         }
         z = z.windows(2).map(|w| w[1] - w[0]).collect();
         d += 1;
+    }
+}
+
+/// α at the stop: the candidate (inside the estimator's range, with a
+/// stationary d-th difference) whose theoretical lag-1 autocorrelation at
+/// this m and d ([`edf::decimated_lag1`]) is nearest to the measured r1.
+/// Falls back to the paper's rounding α = round(−2(δ + d)) + 2 if no
+/// candidate has a value.
+fn alpha_from_r1(r1: f64, m: usize, d: usize, kind: VarianceKind) -> i32 {
+    let mut best: Option<(f64, i32)> = None;
+    for alpha in kind.alpha_range() {
+        if let Some(rho) = edf::decimated_lag1(alpha, m, d) {
+            let dist = (r1 - rho).abs();
+            if best.is_none() || best.is_some_and(|(bd, _)| dist < bd) {
+                best = Some((dist, alpha));
+            }
+        }
+    }
+    match best {
+        Some((_, a)) => a,
+        None => {
+            let delta = r1 / (1.0 + r1);
+            clamp_alpha((-2.0 * (delta + d as f64)).round() as i32 + 2, kind)
+        }
     }
 }
 
@@ -192,8 +228,8 @@ fn clamp_alpha(alpha: i32, kind: VarianceKind) -> i32 {
 
 fn lag1_id(x: &[f64], m: usize, kind: VarianceKind) -> Option<NoiseId> {
     let z = decimate(x, m, MAX_LAG1_POINTS);
-    let (raw, r1) = lag1_loop(z, kind.difference_order())?;
-    let mut alpha = clamp_alpha(raw, kind);
+    let (d, r1) = lag1_loop(z, kind.difference_order())?;
+    let mut alpha = alpha_from_r1(r1, m, d, kind);
     if alpha >= 1 {
         if let Some(split) = pm_split(x, m) {
             alpha = split;
