@@ -64,10 +64,20 @@
 //!
 //! With fewer than [`MIN_LAG1_POINTS`] points at τ, the N frequency averages
 //! ȳ_k = (x_{(k+1)m} − x_{km})/τ give B̂1 = s²(ȳ)/σ̂²_y(τ) (N-sample over
-//! two-sample variance); μ is the one whose theoretical B1(N, μ)
-//! ([`bias::b1`]) is nearest in logarithm, α = −μ − 1, and μ = −2 is split
-//! into WPM and FPM by R(n) as above (for n < 4 by the lag-1 statistic of
-//! the decimated phase: FPM if δ ≥ 0.25).
+//! two-sample variance), compared with the theoretical B1(N, μ)
+//! ([`bias::b1`], μ = −α − 1). On 20 points B1 alone confuses RWFM with
+//! FFM about half the time (B̂1 of a random walk is very dispersed), so —
+//! our choice — the lag-1 statistic of the same short series is used as a
+//! second witness: α minimises
+//!
+//! ((ln B̂1 − ln B1(N, μ_α))/s_B)² + ((r1 − ρ1_α)/s_r)²,
+//!
+//! s_B = sqrt(5/(N − 1)) (the spread of ln B̂1: about 2/(N − 1) from the
+//! sample variance and 3/(N − 1) from the two-sample variance) and
+//! s_r = 1/sqrt(n) (the spread of a lag-1 autocorrelation of n points), ρ1_α
+//! the theoretical value as above (1 where the d-th difference is not
+//! stationary for α). WPM against FPM (the same μ) is then settled by R(n)
+//! when n ≥ 4, as above.
 
 use crate::stats::{bias, edf, VarianceKind};
 
@@ -302,33 +312,35 @@ fn b1_id(x: &[f64], m: usize, kind: VarianceKind) -> Option<NoiseId> {
     }
     let two_sample = 0.5 * s2 / pairs as f64;
     let observed = (sample_var / two_sample).ln();
-    let range = kind.alpha_range();
+    // The lag-1 statistic of the same short series, as a second witness.
+    let n_dec = dec.iter().filter(|v| v.is_finite()).count();
+    let lag = lag1_loop(dec, kind.difference_order());
+    let s_b = (5.0 / (n - 1) as f64).sqrt();
+    let s_r = 1.0 / (n_dec as f64).sqrt();
     let mut best: Option<(f64, i32)> = None;
-    // Candidate μ from the estimator's α range (μ = −2 stands for WPM/FPM).
-    for alpha in (*range.start()..=1).rev() {
+    for alpha in kind.alpha_range() {
         let mu = bias::mu_of_alpha(alpha);
-        let dist = (observed - bias::b1(n, mu).ln()).abs();
-        if best.is_none() || best.is_some_and(|(bd, _)| dist < bd) {
-            best = Some((dist, alpha));
+        let mut score = ((observed - bias::b1(n, mu).ln()) / s_b).powi(2);
+        if let Some((d, r1)) = lag {
+            // A d-th difference that is not stationary for this α behaves
+            // like a random walk: r1 near 1.
+            let rho = edf::decimated_lag1(alpha, m, d).unwrap_or(1.0);
+            score += ((r1 - rho) / s_r).powi(2);
+        }
+        if best.is_none() || best.is_some_and(|(bs, _)| score < bs) {
+            best = Some((score, alpha));
         }
     }
     let (_, mut alpha) = best?;
-    if alpha == 1 {
-        alpha = match pm_split(x, m) {
-            Some(a) => a,
-            None => {
-                // n < 4: the lag-1 statistic of the decimated phase decides.
-                match lag1_autocorrelation(&dec) {
-                    Some(r1) if r1 / (1.0 + r1) >= 0.25 => 1,
-                    _ => 2,
-                }
-            }
-        };
+    if alpha >= 1 {
+        if let Some(a) = pm_split(x, m) {
+            alpha = a;
+        }
     }
     Some(NoiseId {
-        alpha: clamp_alpha(alpha, kind),
+        alpha,
         method: IdMethod::B1,
-        r1: None,
+        r1: lag.map(|l| l.1),
     })
 }
 
