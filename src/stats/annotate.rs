@@ -68,12 +68,14 @@ impl From<Estimator> for Option<VarianceKind> {
 /// two-sided interval at `opts.confidence` ([`interval`]).
 ///
 /// A type found by the short-series fallback is capped at the type of the
-/// next shorter τ (see [`redden_short_series`]).
+/// next shorter τ, and a τ too short for any identification takes that type
+/// (see [`settle_short_series`]).
 ///
 /// The EDF is evaluated for the gap-free record that would give the same
 /// number of terms ([`VarianceKind::equivalent_points`]), so gaps widen the
-/// interval. Estimators without an EDF rule (MTIE, TIE rms) and points whose
-/// noise cannot be identified keep `None` in every statistic.
+/// interval. Estimators without an EDF rule (MTIE, TIE rms), and points
+/// with no identified or carried-over noise type, keep `None` in every
+/// statistic.
 ///
 /// Errors: [`Error::Invalid`] when the confidence is outside (0, 1) or the
 /// forced α is outside the estimator's range.
@@ -116,7 +118,7 @@ pub fn annotate(
     };
     let mut alphas: Vec<Option<i32>> = ids.iter().map(|id| id.map(|i| i.alpha)).collect();
     if opts.forced_alpha.is_none() {
-        redden_short_series(estimates, &ids, &mut alphas);
+        settle_short_series(estimates, &ids, &mut alphas);
     }
     estimates
         .par_iter()
@@ -146,16 +148,20 @@ pub fn annotate(
 /// found by the short-series B1 fallback is therefore not allowed to be
 /// whiter than the type at the next shorter τ: its α is capped there. This
 /// keeps a poorly determined long-τ point from borrowing the large EDF of
-/// white PM (our rule; the lag-1 identifications are left as found).
-fn redden_short_series(estimates: &[Estimate], ids: &[Option<NoiseId>], alphas: &mut [Option<i32>]) {
+/// white PM. Where too few points remain for any identification (fewer than
+/// four frequency averages), the type of the next shorter τ is carried over.
+/// (Our rules; the lag-1 identifications are left as found.)
+fn settle_short_series(estimates: &[Estimate], ids: &[Option<NoiseId>], alphas: &mut [Option<i32>]) {
     let mut order: Vec<usize> = (0..estimates.len()).collect();
     order.sort_by_key(|&i| estimates[i].m);
     let mut previous: Option<i32> = None;
     for i in order {
-        if let (Some(id), Some(cap)) = (ids[i], previous) {
-            if id.method == IdMethod::B1 {
+        match (ids[i], previous) {
+            (Some(id), Some(cap)) if id.method == IdMethod::B1 => {
                 alphas[i] = Some(id.alpha.min(cap));
             }
+            (None, Some(carried)) => alphas[i] = Some(carried),
+            _ => {}
         }
         if alphas[i].is_some() {
             previous = alphas[i];
