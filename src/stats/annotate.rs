@@ -5,7 +5,7 @@
 use crate::deviation::{Estimate, Estimator, Point};
 use crate::error::{Error, Result};
 use crate::record::PhaseRecord;
-use crate::stats::{edf, identify, interval, IdMethod, NoiseId, VarianceKind, DEFAULT_CONFIDENCE};
+use crate::stats::{edf, interval, IdMethod, Identifier, NoiseId, VarianceKind, DEFAULT_CONFIDENCE};
 use rayon::prelude::*;
 
 /// How the statistics are computed.
@@ -64,7 +64,7 @@ impl From<Estimator> for Option<VarianceKind> {
 }
 
 /// Annotate the estimates of `est` on the record `x`: the noise type at each
-/// τ ([`identify`], or `opts.forced_alpha`), its EDF ([`edf`]) and the
+/// τ ([`crate::stats::identify`], or `opts.forced_alpha`), its EDF ([`edf`]) and the
 /// two-sided interval at `opts.confidence` ([`interval`]).
 ///
 /// A type found by the short-series fallback is capped at the type of the
@@ -111,10 +111,10 @@ pub fn annotate(
             });
             estimates.len()
         ],
-        None => estimates
-            .par_iter()
-            .map(|e| identify(&x.x, x.tau0, e.m, kind))
-            .collect(),
+        None => {
+            let identifier = Identifier::new(&x.x, x.tau0, kind);
+            estimates.par_iter().map(|e| identifier.at(e.m)).collect()
+        }
     };
     let mut alphas: Vec<Option<i32>> = ids.iter().map(|id| id.map(|i| i.alpha)).collect();
     if opts.forced_alpha.is_none() {
