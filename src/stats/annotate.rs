@@ -5,7 +5,7 @@
 use crate::deviation::{Estimate, Estimator, Point};
 use crate::error::{Error, Result};
 use crate::record::PhaseRecord;
-use crate::stats::{edf, identify, interval, VarianceKind, DEFAULT_CONFIDENCE};
+use crate::stats::{edf, interval, IdMethod, Identifier, NoiseId, VarianceKind, DEFAULT_CONFIDENCE};
 use rayon::prelude::*;
 
 /// How the statistics are computed.
@@ -73,13 +73,18 @@ impl From<Estimator> for Option<VarianceKind> {
 }
 
 /// Annotate the estimates of `est` on the record `x`: the noise type at each
-/// τ ([`identify`], or `opts.forced_alpha`), its EDF ([`edf`]) and the
+/// τ ([`crate::stats::identify`], or `opts.forced_alpha`), its EDF ([`edf`]) and the
 /// two-sided interval at `opts.confidence` ([`interval`]).
+///
+/// A type found by the short-series fallback is capped at the type of the
+/// next shorter τ, and a τ too short for any identification takes that type
+/// (see [`settle_short_series`]).
 ///
 /// The EDF is evaluated for the gap-free record that would give the same
 /// number of terms ([`VarianceKind::equivalent_points`]), so gaps widen the
-/// interval. Estimators without an EDF rule (MTIE, TIE rms) and points whose
-/// noise cannot be identified keep `None` in every statistic.
+/// interval. Estimators without an EDF rule (MTIE, TIE rms), and points
+/// with no identified or carried-over noise type, keep `None` in every
+/// statistic.
 ///
 /// Errors: [`Error::Invalid`] when the confidence is outside (0, 1) or the
 /// forced α is outside the estimator's range.
@@ -105,13 +110,29 @@ pub fn annotate(
             )));
         }
     }
+    // Noise type per point (in parallel), then the short-series rule.
+    let ids: Vec<Option<NoiseId>> = match opts.forced_alpha {
+        Some(a) => vec![
+            Some(NoiseId {
+                alpha: a,
+                method: IdMethod::Lag1,
+                r1: None,
+            });
+            estimates.len()
+        ],
+        None => {
+            let identifier = Identifier::new(&x.x, x.tau0, kind);
+            estimates.par_iter().map(|e| identifier.at(e.m)).collect()
+        }
+    };
+    let mut alphas: Vec<Option<i32>> = ids.iter().map(|id| id.map(|i| i.alpha)).collect();
+    if opts.forced_alpha.is_none() {
+        settle_short_series(estimates, &ids, &mut alphas);
+    }
     estimates
         .par_iter()
-        .map(|e| {
-            let alpha = match opts.forced_alpha {
-                Some(a) => Some(a),
-                None => identify(&x.x, x.tau0, e.m, kind).map(|id| id.alpha),
-            };
+        .zip(alphas.par_iter())
+        .map(|(e, &alpha)| {
             let nu = alpha.and_then(|a| edf(kind, a, e.m, kind.equivalent_points(e.m, e.terms)));
             let (lo, hi) = match nu {
                 Some(v) if e.value.is_finite() => {
@@ -129,4 +150,30 @@ pub fn annotate(
             })
         })
         .collect()
+}
+
+/// The dominant power law of a sum of power laws can only get redder as τ
+/// grows (σ²_α(τ) ∝ τ^(−α−1): a lower α gains on a higher one). A type
+/// found by the short-series B1 fallback is therefore not allowed to be
+/// whiter than the type at the next shorter τ: its α is capped there. This
+/// keeps a poorly determined long-τ point from borrowing the large EDF of
+/// white PM. Where too few points remain for any identification (fewer than
+/// four frequency averages), the type of the next shorter τ is carried over.
+/// (Our rules; the lag-1 identifications are left as found.)
+fn settle_short_series(estimates: &[Estimate], ids: &[Option<NoiseId>], alphas: &mut [Option<i32>]) {
+    let mut order: Vec<usize> = (0..estimates.len()).collect();
+    order.sort_by_key(|&i| estimates[i].m);
+    let mut previous: Option<i32> = None;
+    for i in order {
+        match (ids[i], previous) {
+            (Some(id), Some(cap)) if id.method == IdMethod::B1 => {
+                alphas[i] = Some(id.alpha.min(cap));
+            }
+            (None, Some(carried)) => alphas[i] = Some(carried),
+            _ => {}
+        }
+        if alphas[i].is_some() {
+            previous = alphas[i];
+        }
+    }
 }
