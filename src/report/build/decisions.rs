@@ -312,7 +312,7 @@ pub(super) fn holdover(dut: &Dut, records: &[Loaded], r: &mut Report) -> Result<
         ),
     ];
     let caution = crate::holdover::caution();
-    r.cautions.push(caution.clone());
+    r.cautions.push(crate::holdover::HOLDOVER_NOTE.to_string());
     r.holdover = Part::Done(HoldoverSection {
         source: l.src.name.clone(),
         budget: h.budget,
