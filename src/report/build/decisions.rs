@@ -266,7 +266,7 @@ pub(super) fn holdover(dut: &Dut, records: &[Loaded], r: &mut Report) -> Result<
                 pass,
             });
         }
-        if longest.as_ref().is_none_or(|(s, _)| span > *s) {
+        if !longest.as_ref().is_some_and(|(s, _)| span <= *s) {
             longest = Some((span, pred));
             settings_used = Some(settings);
         }
