@@ -266,7 +266,7 @@ pub(super) fn holdover(dut: &Dut, records: &[Loaded], r: &mut Report) -> Result<
                 pass,
             });
         }
-        if longest.as_ref().is_none_or(|(s, _)| span > *s) {
+        if !longest.as_ref().is_some_and(|(s, _)| span <= *s) {
             longest = Some((span, pred));
             settings_used = Some(settings);
         }
@@ -312,7 +312,7 @@ pub(super) fn holdover(dut: &Dut, records: &[Loaded], r: &mut Report) -> Result<
         ),
     ];
     let caution = crate::holdover::caution();
-    r.cautions.push(caution.clone());
+    r.cautions.push(crate::holdover::HOLDOVER_NOTE.to_string());
     r.holdover = Part::Done(HoldoverSection {
         source: l.src.name.clone(),
         budget: h.budget,

@@ -177,7 +177,7 @@ pub fn from_dut_with_progress(
 
     step("stability and noise model");
     let curves = time::stability(dut, &records, opts, &mut r)?;
-    time::noise_model(&records, &curves, &mut r);
+    time::noise_model(&records, opts, &mut r);
     step("phase noise and jitter");
     freq::phase_noise(dut, &records, &tables, &mut r)?;
     freq::combined(dut, &records, &tables, &curves, opts.confidence, &mut r);

@@ -6,6 +6,7 @@ use crate::deviation::Curve;
 use crate::io::dut::Dut;
 use crate::model::fit::{fit_variances, FitPoint, VarKind};
 use crate::plot::stability::{regions_from_curve, SigmaCurve, StabilityPlot};
+use crate::prepare::{fit_drift, remove_drift, DriftModel};
 use crate::report::*;
 use crate::stability::{analyse, Request};
 use crate::tau::TauGrid;
@@ -109,17 +110,46 @@ pub(super) fn stability(
 /// Fit the power-law model to the OADEV and MDEV curves together (so that
 /// white and flicker PM separate), weighted by each point's EDF — or, where
 /// no EDF is known, by the number of non-overlapping averages (N−1)/m
-/// (common practice as a stand-in).
-pub(super) fn noise_model(records: &[Loaded], curves: &[Curve], r: &mut Report) {
+/// (common practice as a stand-in). The curves are recomputed on the record
+/// with its linear frequency drift removed (least-squares line through y,
+/// NIST SP 1065 §5): drift is not noise, and left in it would pose as RWFM.
+pub(super) fn noise_model(records: &[Loaded], opts: &BuildOptions, r: &mut Report) {
     let Some(l) = records.first() else {
         r.noise_model = Part::not_requested("the DUT file lists no [[record]].");
         return;
     };
-    let tau0 = l.series.record.tau0();
-    let n = l.series.record.len() as f64;
+    let rec = &l.series.record;
+    let tau0 = rec.tau0();
+    let n = rec.len() as f64;
+    let (detrended, drift_note) = match fit_drift(rec, DriftModel::Linear) {
+        Ok(fit) => (
+            remove_drift(rec, &fit),
+            format!(
+                "A linear frequency drift of {:.3e} per day was removed before the fit (the stability section shows the record as read).",
+                fit.per_day()
+            ),
+        ),
+        Err(e) => (rec.clone(), format!("No drift was removed: {e}")),
+    };
+    let req = Request {
+        estimators: vec![
+            crate::deviation::Estimator::Oadev,
+            crate::deviation::Estimator::Mdev,
+        ],
+        grid: opts.grid.clone(),
+        confidence: opts.confidence,
+        forced_alpha: None,
+    };
+    let curves = match analyse(&detrended.to_phase(), &req) {
+        Ok(c) => c,
+        Err(e) => {
+            r.noise_model = Part::not_computed(format!("{}: {e}", l.src.name));
+            return;
+        }
+    };
     let mut pts = Vec::new();
     let mut used_proxy = false;
-    for c in curves {
+    for c in &curves {
         let kind = match c.estimator.as_str() {
             "oadev" | "adev" => VarKind::Avar,
             "mdev" => VarKind::Mvar,
@@ -177,7 +207,7 @@ pub(super) fn noise_model(records: &[Loaded], curves: &[Curve], r: &mut Report) 
         });
     }
     let worst = fit.residual_db.iter().fold(0.0f64, |m, v| m.max(v.abs()));
-    let mut notes = vec![format!(
+    let mut notes = vec![drift_note, format!(
         "Fitted to {} OADEV/MDEV points, f_h = {}; largest residual {:.2} dB (10·log10 model/measured).",
         pts.len(),
         crate::units::format_si(f_h, "Hz", 4),
@@ -201,7 +231,7 @@ pub(super) fn noise_model(records: &[Loaded], curves: &[Curve], r: &mut Report) 
                         tau: p.estimate.tau,
                         alpha: p.alpha?,
                         label: p.noise()?.to_string(),
-                        method: "identified".into(),
+                        method: "oadev, drift removed".into(),
                     })
                 })
                 .collect()
