@@ -118,7 +118,10 @@ fn annotate_theo(
             carried = id;
         }
         let alpha = id.or(carried);
-        let theo_part = switch.is_none_or(|s| e.tau >= s);
+        let theo_part = match switch {
+            Some(s) => e.tau >= s,
+            None => true,
+        };
         let nu = alpha.and_then(|a| {
             if theo_part {
                 // Theo1 terms: N − m.
