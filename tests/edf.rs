@@ -411,8 +411,8 @@ fn edf_domain() {
     for kind in VarianceKind::ALL {
         for alpha in -6..=4 {
             let e = edf(kind, alpha, 2, 1000);
-            let defined = kind.alpha_range().contains(&alpha)
-                && !(kind == VarianceKind::Total && alpha >= 1);
+            let defined =
+                kind.alpha_range().contains(&alpha) && !(kind == VarianceKind::Total && alpha >= 1);
             assert_eq!(e.is_some(), defined, "{kind:?} α={alpha}");
             if let Some(e) = e {
                 assert!(e.is_finite() && e > 0.0);
@@ -494,7 +494,12 @@ fn monte_carlo_spread_matches_edf() {
                 let rec = simulate_phase(&spec).unwrap();
                 estimators
                     .iter()
-                    .map(|&e| compute(e, &rec, &ms).iter().map(|p| p.value * p.value).collect())
+                    .map(|&e| {
+                        compute(e, &rec, &ms)
+                            .iter()
+                            .map(|p| p.value * p.value)
+                            .collect()
+                    })
                     .collect()
             })
             .collect();
@@ -511,7 +516,10 @@ fn monte_carlo_spread_matches_edf() {
                     continue;
                 };
                 let rel = mc / want - 1.0;
-                report.push(format!("{est} α={alpha} m={m}: MC {mc:.1} EDF {want:.1} ({:+.1} %)", 100.0 * rel));
+                report.push(format!(
+                    "{est} α={alpha} m={m}: MC {mc:.1} EDF {want:.1} ({:+.1} %)",
+                    100.0 * rel
+                ));
                 if rel.abs() > 0.15 {
                     failures.push(report.last().unwrap().clone());
                 }
@@ -519,5 +527,9 @@ fn monte_carlo_spread_matches_edf() {
         }
     }
     eprintln!("{}", report.join("\n"));
-    assert!(failures.is_empty(), "outside 15 %:\n{}", failures.join("\n"));
+    assert!(
+        failures.is_empty(),
+        "outside 15 %:\n{}",
+        failures.join("\n")
+    );
 }
