@@ -7,7 +7,7 @@ use tauwise::deviation::{compute, reference, Estimate, Estimator};
 use tauwise::wander::check::Verdict;
 use tauwise::wander::mask_file::{parse_mask_file, write_mask_file};
 use tauwise::wander::masks::{builtin, Mask, Metric, Shape, BUILTIN_NAMES, FROM_MEMORY_NOTE};
-use tauwise::wander::{analyse, log_grid, tie};
+use tauwise::wander::{analyse, default_ms, tie};
 use tauwise::PhaseRecord;
 
 fn random_walk(n: usize, seed: u64, gaps: &[usize]) -> PhaseRecord {
@@ -279,7 +279,7 @@ fn ramp_fails_the_mask_at_the_analytic_tau() {
     let rec =
         PhaseRecord::new((0..n).map(|i| 1e-6 + y0 * i as f64 * tau0).collect(), tau0).unwrap();
     let masks = builtin("g8262-opt1").unwrap();
-    let ms = log_grid(n, 10);
+    let ms = default_ms(n, rec.tau0).unwrap();
     let res = analyse(&rec, &ms, false, &masks).unwrap();
     let c = res
         .checks
