@@ -103,11 +103,7 @@ pub(crate) fn mtie_pruned(p: &Prepared, m: usize) -> (f64, usize) {
     let mut bmax = Vec::with_capacity(nblocks);
     let mut bmin = Vec::with_capacity(nblocks);
     for chunk in x.chunks(b) {
-        let (mut hi, mut lo) = (f64::NEG_INFINITY, f64::INFINITY);
-        for &v in chunk {
-            hi = max(v, hi);
-            lo = min(v, lo);
-        }
+        let (hi, lo) = extrema(chunk);
         bmax.push(hi);
         bmin.push(lo);
     }
@@ -138,6 +134,29 @@ pub(crate) fn mtie_pruned(p: &Prepared, m: usize) -> (f64, usize) {
         }
     }
     (best, used)
+}
+
+/// (max, min) of a slice, skipping NaN (−∞ and +∞ when all are NaN). Four
+/// independent running extrema, so that the comparisons do not wait on one
+/// another.
+fn extrema(v: &[f64]) -> (f64, f64) {
+    let mut hi = [f64::NEG_INFINITY; 4];
+    let mut lo = [f64::INFINITY; 4];
+    let mut quads = v.chunks_exact(4);
+    for q in &mut quads {
+        for k in 0..4 {
+            hi[k] = max(q[k], hi[k]);
+            lo[k] = min(q[k], lo[k]);
+        }
+    }
+    for &r in quads.remainder() {
+        hi[0] = max(r, hi[0]);
+        lo[0] = min(r, lo[0]);
+    }
+    (
+        max(max(hi[0], hi[1]), max(hi[2], hi[3])),
+        min(min(lo[0], lo[1]), min(lo[2], lo[3])),
+    )
 }
 
 /// For each j < `count`: max(hi[j .. j+len]) − min(lo[j .. j+len]), the
