@@ -86,14 +86,18 @@ pub fn analyse(x: &PhaseRecord, req: &Request) -> Result<Vec<Curve>> {
 pub struct RecordModel {
     /// The OADEV and MDEV curves the model was fitted to (annotated).
     pub curves: Vec<Curve>,
-    /// The fit: h_α, dominant ranges, residual per point (dB) in the order
-    /// of the points of `curves`, OADEV first.
+    /// The fit: h_α, dominant ranges, residual per fitted point (dB), OADEV
+    /// points first.
     pub fit: crate::model::fit::ModelFit,
 }
 
-/// Fit the power-law model of `x` over the τ grid `grid` (see [`RecordModel`]).
-/// Points without an EDF (noise not identified) are weighted by their number
-/// of terms over m, a rough count of independent averages.
+/// Fit the power-law model of `x` over the τ grid `grid` (see [`RecordModel`]):
+/// OADEV and MDEV annotated by the statistics layer, then
+/// [`crate::model::fit::fit_variances`] on the variances σ² with the EDF as
+/// weight (the variance of ln σ̂² is about 2/EDF), f_h = 1/(2τ0). Points whose
+/// noise type, and so whose EDF, cannot be identified (the longest τ of a
+/// short record) are left out. Remove aging first
+/// ([`crate::prepare::remove_drift`]): drift left in would pose as RWFM.
 pub fn fit_record_model(x: &PhaseRecord, grid: &TauGrid) -> Result<RecordModel> {
     use crate::model::fit::{fit_variances, FitPoint, VarKind};
     let req = Request {
@@ -107,18 +111,25 @@ pub fn fit_record_model(x: &PhaseRecord, grid: &TauGrid) -> Result<RecordModel> 
     for (curve, kind) in curves.iter().zip([VarKind::Avar, VarKind::Mvar]) {
         for p in &curve.points {
             let e = p.estimate;
-            if !(e.value > 0.0) {
-                continue;
+            if let Some(edf) = p.edf.filter(|v| v.is_finite() && *v > 0.0) {
+                if e.value.is_finite() && e.value > 0.0 {
+                    points.push(FitPoint {
+                        kind,
+                        tau: e.tau,
+                        tau0: x.tau0,
+                        var: e.value * e.value,
+                        weight: edf,
+                    });
+                }
             }
-            let weight = p.edf.unwrap_or(e.terms as f64 / e.m as f64).max(1.0);
-            points.push(FitPoint {
-                kind,
-                tau: e.tau,
-                tau0: x.tau0,
-                var: e.value * e.value,
-                weight,
-            });
         }
+    }
+    if points.is_empty() {
+        return Err(Error::insufficient(format!(
+            "fitting the noise model needs OADEV or MDEV points with a known EDF; the record \
+             ({} phase points) gives none",
+            x.len()
+        )));
     }
     let fit = fit_variances(&points, 0.5 / x.tau0)?;
     Ok(RecordModel { curves, fit })

@@ -22,12 +22,11 @@
 pub mod aging;
 pub mod paths;
 
-use crate::error::{Error, Result};
 use crate::deviation::Estimator;
-use crate::model::fit::{fit_variances, FitPoint, ModelFit, VarKind};
+use crate::error::{Error, Result};
+use crate::model::fit::ModelFit;
 use crate::model::PowerLaw;
 use crate::record::{PhaseRecord, Record};
-use crate::stability::{analyse, Request};
 use aging::{Aging, AgingModel};
 use paths::NoisePaths;
 use rand::{Rng, SeedableRng};
@@ -446,45 +445,15 @@ pub const FIT_ESTIMATORS: [Estimator; 2] = [Estimator::Oadev, Estimator::Mdev];
 
 /// Fit the power-law model of the random part on a phase record (normally
 /// the record with its aging law removed, so that drift is not taken for
-/// RWFM): OADEV and MDEV on the octave grid, each point annotated by the
-/// statistics layer ([`crate::stability::analyse`]: noise type, EDF), then
-/// [`crate::model::fit::fit_variances`] on the variances σ² with the EDF as
-/// weights (the variance of ln σ̂² is about 2/EDF), f_h = 1/(2τ0). AVAR and
-/// MVAR together separate white from flicker PM. Points whose noise type,
-/// and so whose EDF, cannot be identified (the longest τ of a short record)
-/// are left out of the fit.
+/// RWFM): the project's record fit, [`crate::stability::fit_record_model`]
+/// (OADEV and MDEV on the octave grid, EDF-weighted, f_h = 1/(2τ0)).
 pub fn fit_noise(phase: &PhaseRecord) -> Result<ModelFit> {
-    let req = Request::new(FIT_ESTIMATORS.to_vec());
-    let curves = analyse(phase, &req)?;
-    let tau0 = phase.tau0;
-    let mut pts = Vec::new();
-    for c in &curves {
-        let kind = if c.estimator == Estimator::Mdev.name() {
-            VarKind::Mvar
-        } else {
-            VarKind::Avar
-        };
-        for p in &c.points {
-            let (tau, v) = (p.estimate.tau, p.estimate.value);
-            if let Some(edf) = p.edf.filter(|e| e.is_finite() && *e > 0.0) {
-                if v.is_finite() && v > 0.0 {
-                    pts.push(FitPoint {
-                        kind,
-                        tau,
-                        tau0,
-                        var: v * v,
-                        weight: edf,
-                    });
-                }
+    crate::stability::fit_record_model(phase, &crate::tau::TauGrid::Octave)
+        .map(|m| m.fit)
+        .map_err(|e| match e {
+            Error::Insufficient(msg) => {
+                Error::insufficient(format!("{msg}: give the model with --model"))
             }
-        }
-    }
-    if pts.is_empty() {
-        return Err(Error::insufficient(format!(
-            "fitting the noise model needs OADEV or MDEV points with a known EDF; the record \
-             ({} phase points) gives none: give the model with --model",
-            phase.len()
-        )));
-    }
-    fit_variances(&pts, 0.5 / tau0)
+            other => other,
+        })
 }

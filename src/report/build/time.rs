@@ -4,7 +4,6 @@
 use super::{method, BuildOptions, Loaded};
 use crate::deviation::Curve;
 use crate::io::dut::Dut;
-use crate::model::fit::{fit_variances, FitPoint, VarKind};
 use crate::plot::stability::{regions_from_curve, SigmaCurve, StabilityPlot};
 use crate::prepare::{fit_drift, remove_drift, DriftModel};
 use crate::report::*;
@@ -119,8 +118,6 @@ pub(super) fn noise_model(records: &[Loaded], opts: &BuildOptions, r: &mut Repor
         return;
     };
     let rec = &l.series.record;
-    let tau0 = rec.tau0();
-    let n = rec.len() as f64;
     let (detrended, drift_note) = match fit_drift(rec, DriftModel::Linear) {
         Ok(fit) => (
             remove_drift(rec, &fit),
@@ -131,65 +128,17 @@ pub(super) fn noise_model(records: &[Loaded], opts: &BuildOptions, r: &mut Repor
         ),
         Err(e) => (rec.clone(), format!("No drift was removed: {e}")),
     };
-    let req = Request {
-        estimators: vec![
-            crate::deviation::Estimator::Oadev,
-            crate::deviation::Estimator::Mdev,
-        ],
-        grid: opts.grid.clone(),
-        confidence: opts.confidence,
-        forced_alpha: None,
-    };
-    let curves = match analyse(&detrended.to_phase(), &req) {
-        Ok(c) => c,
-        Err(e) => {
-            r.noise_model = Part::not_computed(format!("{}: {e}", l.src.name));
-            return;
-        }
-    };
-    let mut pts = Vec::new();
-    let mut used_proxy = false;
-    for c in &curves {
-        let kind = match c.estimator.as_str() {
-            "oadev" | "adev" => VarKind::Avar,
-            "mdev" => VarKind::Mvar,
-            _ => continue,
-        };
-        for p in &c.points {
-            let v = p.estimate.value * p.estimate.value;
-            if !(v > 0.0) {
-                continue;
-            }
-            let weight = match p.edf {
-                Some(e) if e > 0.0 => e,
-                _ => {
-                    used_proxy = true;
-                    ((n - 1.0) / p.estimate.m as f64).max(1.0)
-                }
-            };
-            pts.push(FitPoint {
-                kind,
-                tau: p.estimate.tau,
-                tau0,
-                var: v,
-                weight,
-            });
-        }
-    }
-    if pts.is_empty() {
-        r.noise_model = Part::not_computed(
-            "the model is fitted to the oadev and mdev curves, and neither has a point.",
-        );
-        return;
-    }
-    let f_h = 0.5 / tau0;
-    let fit = match fit_variances(&pts, f_h) {
+    let fitted = match crate::stability::fit_record_model(&detrended.to_phase(), &opts.grid) {
         Ok(f) => f,
         Err(e) => {
-            r.noise_model = Part::not_computed(format!("the model fit failed: {e}"));
+            r.noise_model =
+                Part::not_computed(format!("{}: the model fit failed: {e}", l.src.name));
             return;
         }
     };
+    let fit = &fitted.fit;
+    let f_h = fit.model.f_h;
+    let n_points = fit.residual_db.len();
     let mut terms = Vec::new();
     for alpha in (-2..=2).rev() {
         if !fit.fitted[(alpha + 2) as usize] {
@@ -209,19 +158,17 @@ pub(super) fn noise_model(records: &[Loaded], opts: &BuildOptions, r: &mut Repor
     let worst = fit.residual_db.iter().fold(0.0f64, |m, v| m.max(v.abs()));
     let mut notes = vec![drift_note, format!(
         "Fitted to {} OADEV/MDEV points, f_h = {}; largest residual {:.2} dB (10·log10 model/measured).",
-        pts.len(),
+        n_points,
         crate::units::format_si(f_h, "Hz", 4),
         worst
     )];
-    if used_proxy {
-        notes
-            .push("Weights: EDF where known, otherwise (N−1)/m (common practice stand-in).".into());
-    }
+    notes.push("Weights: each point's EDF; points without one are left out.".into());
     r.methods.push(method(
         "power-law model fit",
         "IEEE Std 1139-2008 σ_y(τ) ↔ S_y(f) table; non-negative least squares in log space",
     ));
-    let identified = curves
+    let identified = fitted
+        .curves
         .first()
         .map(|c| {
             c.points
