@@ -107,9 +107,8 @@ pub(super) fn stability(
 }
 
 /// Fit the power-law model to the OADEV and MDEV curves together (so that
-/// white and flicker PM separate), weighted by each point's EDF — or, where
-/// no EDF is known, by the number of non-overlapping averages (N−1)/m
-/// (common practice as a stand-in). The curves are recomputed on the record
+/// white and flicker PM separate), weighted by each point's EDF
+/// ([`crate::stability::fit_record_model`]). The curves are recomputed on the record
 /// with its linear frequency drift removed (least-squares line through y,
 /// NIST SP 1065 §5): drift is not noise, and left in it would pose as RWFM.
 pub(super) fn noise_model(records: &[Loaded], opts: &BuildOptions, r: &mut Report) {
