@@ -65,7 +65,12 @@ fn main() {
         "record", "dev", "compute", "annotate", "ratio"
     );
     for (label, rec) in &records {
-        for est in [Estimator::Oadev, Estimator::Mdev, Estimator::Ohdev, Estimator::Totdev] {
+        for est in [
+            Estimator::Oadev,
+            Estimator::Mdev,
+            Estimator::Ohdev,
+            Estimator::Totdev,
+        ] {
             let ms = TauGrid::Octave.ms(rec.tau0, est.max_m(n)).unwrap();
             let base = best_of(runs, || {
                 std::hint::black_box(compute(est, rec, &ms));

@@ -64,5 +64,9 @@ fn nominal_68_percent_intervals_cover() {
         }
     }
     eprintln!("{}", lines.join("\n"));
-    assert!(bad.is_empty(), "coverage outside 60–77 %:\n{}", bad.join("\n"));
+    assert!(
+        bad.is_empty(),
+        "coverage outside 60–77 %:\n{}",
+        bad.join("\n")
+    );
 }

@@ -358,7 +358,8 @@ fn large_r_tables_equal_their_integrals() {
             for i in 0..steps {
                 let u = (i as f64 + 0.5) / steps as f64;
                 let t = c as f64 + 0.5 * (1.0 - (std::f64::consts::PI * u).cos());
-                let w = 0.5 * std::f64::consts::PI * (std::f64::consts::PI * u).sin() / steps as f64;
+                let w =
+                    0.5 * std::f64::consts::PI * (std::f64::consts::PI * u).sin() / steps as f64;
                 i0 += 2.0 * f(t) * w;
                 i1 += 2.0 * t * f(t) * w;
             }
@@ -381,7 +382,12 @@ fn approximation_branches_meet_direct_sums() {
     for kind in kinds() {
         let v = diffs(kind);
         for alpha in kind.alpha_range() {
-            for &(n, m) in &[(100_000usize, 40usize), (100_000, 300), (3000, 700), (5000, 1200)] {
+            for &(n, m) in &[
+                (100_000usize, 40usize),
+                (100_000, 300),
+                (3000, 700),
+                (5000, 1200),
+            ] {
                 let d = v.order;
                 let span = if v.modified { (d + 1) * m } else { d * m + 1 };
                 if span > n {
@@ -405,8 +411,8 @@ fn edf_domain() {
     for kind in VarianceKind::ALL {
         for alpha in -6..=4 {
             let e = edf(kind, alpha, 2, 1000);
-            let defined = kind.alpha_range().contains(&alpha)
-                && !(kind == VarianceKind::Total && alpha >= 1);
+            let defined =
+                kind.alpha_range().contains(&alpha) && !(kind == VarianceKind::Total && alpha >= 1);
             assert_eq!(e.is_some(), defined, "{kind:?} α={alpha}");
             if let Some(e) = e {
                 assert!(e.is_finite() && e > 0.0);
@@ -488,7 +494,12 @@ fn monte_carlo_spread_matches_edf() {
                 let rec = simulate_phase(&spec).unwrap();
                 estimators
                     .iter()
-                    .map(|&e| compute(e, &rec, &ms).iter().map(|p| p.value * p.value).collect())
+                    .map(|&e| {
+                        compute(e, &rec, &ms)
+                            .iter()
+                            .map(|p| p.value * p.value)
+                            .collect()
+                    })
                     .collect()
             })
             .collect();
@@ -505,7 +516,10 @@ fn monte_carlo_spread_matches_edf() {
                     continue;
                 };
                 let rel = mc / want - 1.0;
-                report.push(format!("{est} α={alpha} m={m}: MC {mc:.1} EDF {want:.1} ({:+.1} %)", 100.0 * rel));
+                report.push(format!(
+                    "{est} α={alpha} m={m}: MC {mc:.1} EDF {want:.1} ({:+.1} %)",
+                    100.0 * rel
+                ));
                 if rel.abs() > 0.15 {
                     failures.push(report.last().unwrap().clone());
                 }
@@ -513,5 +527,9 @@ fn monte_carlo_spread_matches_edf() {
         }
     }
     eprintln!("{}", report.join("\n"));
-    assert!(failures.is_empty(), "outside 15 %:\n{}", failures.join("\n"));
+    assert!(
+        failures.is_empty(),
+        "outside 15 %:\n{}",
+        failures.join("\n")
+    );
 }

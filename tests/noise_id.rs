@@ -16,7 +16,10 @@ fn record(alpha: i32, n: usize, seed: u64) -> PhaseRecord {
 }
 
 fn octaves(n: usize) -> Vec<usize> {
-    (0..).map(|k| 1usize << k).take_while(|&m| m <= n / 3).collect()
+    (0..)
+        .map(|k| 1usize << k)
+        .take_while(|&m| m <= n / 3)
+        .collect()
 }
 
 /// 2^14-point records (simulated α known exactly): of the τ with at least 30
@@ -56,7 +59,10 @@ fn lag1_identifies_long_records() {
             let total: usize = outcomes.iter().map(|o| o.1).sum();
             let frac = right as f64 / total as f64;
             let need = if alpha == 1 { 0.80 } else { 0.90 };
-            let line = format!("{kind:?} α={alpha}: {right}/{total} = {:.1} %", 100.0 * frac);
+            let line = format!(
+                "{kind:?} α={alpha}: {right}/{total} = {:.1} %",
+                100.0 * frac
+            );
             if frac < need {
                 bad.push(line.clone());
             }
@@ -88,7 +94,10 @@ fn alpha_stays_in_range() {
         for rec in [&drift, &gappy, &white] {
             for m in octaves(n) {
                 if let Some(id) = identify(&rec.x, 1.0, m, kind) {
-                    assert!(kind.alpha_range().contains(&id.alpha), "{kind:?} m={m}: {id:?}");
+                    assert!(
+                        kind.alpha_range().contains(&id.alpha),
+                        "{kind:?} m={m}: {id:?}"
+                    );
                 }
             }
         }
@@ -119,10 +128,17 @@ fn short_records_tell_wpm_wfm_rwfm() {
         let right = count(alpha);
         for other in -2..=2 {
             if other != alpha {
-                assert!(right > count(other), "α={alpha}: {right} right, {} as α={other}", count(other));
+                assert!(
+                    right > count(other),
+                    "α={alpha}: {right} right, {} as α={other}",
+                    count(other)
+                );
             }
         }
-        assert!(right as f64 >= 0.55 * 300.0, "α={alpha}: only {right}/300 right");
+        assert!(
+            right as f64 >= 0.55 * 300.0,
+            "α={alpha}: only {right}/300 right"
+        );
     }
 }
 
@@ -137,9 +153,16 @@ fn bad_input() {
 
     for n in 0..4 {
         let x = vec![0.0; n];
-        assert_eq!(identify(&x, 1.0, 1, VarianceKind::OverlappingAllan), None, "n={n}");
+        assert_eq!(
+            identify(&x, 1.0, 1, VarianceKind::OverlappingAllan),
+            None,
+            "n={n}"
+        );
     }
-    assert_eq!(identify(&[f64::NAN; 100], 1.0, 1, VarianceKind::Allan), None);
+    assert_eq!(
+        identify(&[f64::NAN; 100], 1.0, 1, VarianceKind::Allan),
+        None
+    );
     assert_eq!(identify(&[1.0; 100], 1.0, 1, VarianceKind::Allan), None); // no spread
 
     let rec = record(0, 1000, 1);
@@ -190,5 +213,7 @@ fn annotate_fills_points() {
     assert!(pts95[0].hi.unwrap() - pts95[0].lo.unwrap() > pts[0].hi.unwrap() - pts[0].lo.unwrap());
     let mtie = compute(Estimator::Mtie, &rec, &[1, 4]);
     let pm = annotate(Estimator::Mtie, &rec, &mtie, &StatsOptions::default()).unwrap();
-    assert!(pm.iter().all(|p| p.edf.is_none() && p.lo.is_none() && p.alpha.is_none()));
+    assert!(pm
+        .iter()
+        .all(|p| p.edf.is_none() && p.lo.is_none() && p.alpha.is_none()));
 }

@@ -5,7 +5,9 @@
 use crate::deviation::{Estimate, Estimator, Point};
 use crate::error::{Error, Result};
 use crate::record::PhaseRecord;
-use crate::stats::{edf, interval, IdMethod, Identifier, NoiseId, VarianceKind, DEFAULT_CONFIDENCE};
+use crate::stats::{
+    edf, interval, IdMethod, Identifier, NoiseId, VarianceKind, DEFAULT_CONFIDENCE,
+};
 use rayon::prelude::*;
 
 /// How the statistics are computed.
@@ -64,12 +66,12 @@ impl From<Estimator> for Option<VarianceKind> {
 }
 
 /// Annotate the estimates of `est` on the record `x`: the noise type at each
-/// τ ([`crate::stats::identify`], or `opts.forced_alpha`), its EDF ([`edf`]) and the
-/// two-sided interval at `opts.confidence` ([`interval`]).
+/// τ ([`crate::stats::identify`], or `opts.forced_alpha`), its EDF ([`fn@edf`]) and the
+/// two-sided interval at `opts.confidence` ([`fn@interval`]).
 ///
 /// A type found by the short-series fallback is capped at the type of the
 /// next shorter τ, and a τ too short for any identification takes that type
-/// (see [`settle_short_series`]).
+/// (our rule: the dominant power law can only get redder as τ grows).
 ///
 /// The EDF is evaluated for the gap-free record that would give the same
 /// number of terms ([`VarianceKind::equivalent_points`]), so gaps widen the
@@ -151,7 +153,11 @@ pub fn annotate(
 /// white PM. Where too few points remain for any identification (fewer than
 /// four frequency averages), the type of the next shorter τ is carried over.
 /// (Our rules; the lag-1 identifications are left as found.)
-fn settle_short_series(estimates: &[Estimate], ids: &[Option<NoiseId>], alphas: &mut [Option<i32>]) {
+fn settle_short_series(
+    estimates: &[Estimate],
+    ids: &[Option<NoiseId>],
+    alphas: &mut [Option<i32>],
+) {
     let mut order: Vec<usize> = (0..estimates.len()).collect();
     order.sort_by_key(|&i| estimates[i].m);
     let mut previous: Option<i32> = None;

@@ -68,9 +68,20 @@ mod tests {
     /// Every window sum equals the direct sum (the textbook definition).
     #[test]
     fn windows_match_direct_sums() {
-        let x: Vec<f64> = (0..1000).map(|i| ((i * 7919) % 1013) as f64 - 500.0).collect();
+        let x: Vec<f64> = (0..1000)
+            .map(|i| ((i * 7919) % 1013) as f64 - 500.0)
+            .collect();
         let t = BlockSums::new(&x);
-        for &(a, b) in &[(0, 0), (0, 1), (0, 1000), (3, 17), (16, 48), (15, 513), (100, 999), (512, 1000)] {
+        for &(a, b) in &[
+            (0, 0),
+            (0, 1),
+            (0, 1000),
+            (3, 17),
+            (16, 48),
+            (15, 513),
+            (100, 999),
+            (512, 1000),
+        ] {
             let direct: f64 = x[a..b].iter().sum();
             assert!((t.sum(&x, a, b) - direct).abs() < 1e-9, "[{a}, {b})");
         }

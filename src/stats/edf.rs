@@ -157,7 +157,7 @@ fn total_edf(alpha: i32, m: usize, n_phase: usize) -> Option<f64> {
     (nu > 0.0).then_some(nu)
 }
 
-/// Bias of the total variance, E[TOTVAR]/AVAR = 1 − a·τ/T with T = (N − 1)τ0
+/// Bias of the total variance, E\[TOTVAR\]/AVAR = 1 − a·τ/T with T = (N − 1)τ0
 /// (NIST SP 1065, from memory): a = 0 for white noise (WPM, WFM),
 /// 0.481 for FFM, 0.750 for RWFM. `None` for FPM (SP 1065 gives no value)
 /// and outside α = 2 … −2.
@@ -246,7 +246,9 @@ impl Kernel {
                 let at = |k: i64| table[k.unsigned_abs() as usize];
                 if *boxcar {
                     let mi = *m as i64;
-                    let sum: f64 = (1 - mi..mi).map(|u| (mi - u.abs()) as f64 * at(k0 + u)).sum();
+                    let sum: f64 = (1 - mi..mi)
+                        .map(|u| (mi - u.abs()) as f64 * at(k0 + u))
+                        .sum();
                     sum / (mi * mi) as f64
                 } else {
                     at(k0)
@@ -316,16 +318,28 @@ pub fn decimated_lag1(alpha: i32, m: usize, d: usize) -> Option<f64> {
         }
     };
     let z0 = kernel.sz(0.0, d);
-    (z0 > 0.0 || z0 < 0.0).then(|| kernel.sz(1.0, d) / z0)
+    (z0 != 0.0).then(|| kernel.sz(1.0, d) / z0)
 }
 
 /// Table 1 of Greenhall & Riley (2003): (a0, a1) for the modified variances
 /// (F = 1), rows α = 2 … −4, columns d = 1, 2, 3 (from memory; agrees with
 /// the defining integrals to three decimals).
 const TABLE1: [[Option<(f64, f64)>; 3]; 7] = [
-    [Some((0.667, 0.333)), Some((0.778, 0.500)), Some((0.880, 0.667))],
-    [Some((0.840, 0.345)), Some((0.997, 0.616)), Some((1.141, 0.843))],
-    [Some((1.079, 0.368)), Some((1.033, 0.607)), Some((1.184, 0.848))],
+    [
+        Some((0.667, 0.333)),
+        Some((0.778, 0.500)),
+        Some((0.880, 0.667)),
+    ],
+    [
+        Some((0.840, 0.345)),
+        Some((0.997, 0.616)),
+        Some((1.141, 0.843)),
+    ],
+    [
+        Some((1.079, 0.368)),
+        Some((1.033, 0.607)),
+        Some((1.184, 0.848)),
+    ],
     [None, Some((1.048, 0.534)), Some((1.180, 0.816))],
     [None, Some((1.302, 0.535)), Some((1.175, 0.777))],
     [None, None, Some((1.194, 0.703))],
@@ -336,8 +350,16 @@ const TABLE1: [[Option<(f64, f64)>; 3]; 7] = [
 /// columns d = 1, 2, 3, recomputed from the large-r integrals (α = 1 row
 /// un-normalised, to be divided by (b0 + b1 ln m)²).
 const TABLE2: [[Option<(f64, f64)>; 3]; 6] = [
-    [Some((78.56, 25.17)), Some((789.5, 410.4)), Some((9949.0, 6520.0))],
-    [Some((0.667, 0.167)), Some((0.667, 0.333)), Some((0.778, 0.500))],
+    [
+        Some((78.56, 25.17)),
+        Some((789.5, 410.4)),
+        Some((9949.0, 6520.0)),
+    ],
+    [
+        Some((0.667, 0.167)),
+        Some((0.667, 0.333)),
+        Some((0.778, 0.500)),
+    ],
     [None, Some((0.852, 0.375)), Some((0.997, 0.617))],
     [None, Some((1.079, 0.368)), Some((1.033, 0.607))],
     [None, None, Some((1.053, 0.553))],
@@ -353,7 +375,10 @@ pub fn large_r_coefficients(alpha: i32, d: usize, modified: bool) -> Option<(f64
     if modified {
         TABLE1[(2 - alpha) as usize][d - 1]
     } else if alpha == 2 {
-        Some((binom(4 * d, 2 * d) / binom(2 * d, d).powi(2), d as f64 / 2.0))
+        Some((
+            binom(4 * d, 2 * d) / binom(2 * d, d).powi(2),
+            d as f64 / 2.0,
+        ))
     } else {
         TABLE2[(1 - alpha) as usize][d - 1]
     }

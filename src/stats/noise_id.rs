@@ -402,7 +402,9 @@ mod tests {
     /// r1 of an alternating series is −1 + 1/n-ish; of a ramp near 1 (analytic).
     #[test]
     fn lag1_basic() {
-        let alt: Vec<f64> = (0..100).map(|i| if i % 2 == 0 { 1.0 } else { -1.0 }).collect();
+        let alt: Vec<f64> = (0..100)
+            .map(|i| if i % 2 == 0 { 1.0 } else { -1.0 })
+            .collect();
         assert!((lag1_autocorrelation(&alt).unwrap() + 0.99).abs() < 1e-9);
         let ramp: Vec<f64> = (0..1000).map(|i| i as f64).collect();
         assert!(lag1_autocorrelation(&ramp).unwrap() > 0.99);
