@@ -152,12 +152,12 @@ fn annotate_theo(
 }
 
 /// Annotate the estimates of `est` on the record `x`: the noise type at each
-/// τ ([`crate::stats::identify`], or `opts.forced_alpha`), its EDF ([`edf`]) and the
-/// two-sided interval at `opts.confidence` ([`interval`]).
+/// τ ([`crate::stats::identify`], or `opts.forced_alpha`), its EDF ([`fn@edf`]) and the
+/// two-sided interval at `opts.confidence` ([`fn@interval`]).
 ///
 /// A type found by the short-series fallback is capped at the type of the
 /// next shorter τ, and a τ too short for any identification takes that type
-/// (see [`settle_short_series`]).
+/// (our rule: the dominant power law can only get redder as τ grows).
 ///
 /// The EDF is evaluated for the gap-free record that would give the same
 /// number of terms ([`VarianceKind::equivalent_points`]), so gaps widen the

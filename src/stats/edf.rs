@@ -157,7 +157,7 @@ fn total_edf(alpha: i32, m: usize, n_phase: usize) -> Option<f64> {
     (nu > 0.0).then_some(nu)
 }
 
-/// Bias of the total variance, E[TOTVAR]/AVAR = 1 − a·τ/T with T = (N − 1)τ0
+/// Bias of the total variance, E\[TOTVAR\]/AVAR = 1 − a·τ/T with T = (N − 1)τ0
 /// (NIST SP 1065, from memory): a = 0 for white noise (WPM, WFM),
 /// 0.481 for FFM, 0.750 for RWFM. `None` for FPM (SP 1065 gives no value)
 /// and outside α = 2 … −2.
@@ -318,7 +318,7 @@ pub fn decimated_lag1(alpha: i32, m: usize, d: usize) -> Option<f64> {
         }
     };
     let z0 = kernel.sz(0.0, d);
-    (z0 > 0.0 || z0 < 0.0).then(|| kernel.sz(1.0, d) / z0)
+    (z0 != 0.0).then(|| kernel.sz(1.0, d) / z0)
 }
 
 /// Table 1 of Greenhall & Riley (2003): (a0, a1) for the modified variances
