@@ -10,14 +10,27 @@ fn bin() -> Command {
 }
 
 fn ok_json(args: &[&str]) -> serde_json::Value {
-    let o = bin().args(args).args(["--format", "json"]).output().unwrap();
-    assert!(o.status.success(), "{args:?}: {}", String::from_utf8_lossy(&o.stderr));
+    let o = bin()
+        .args(args)
+        .args(["--format", "json"])
+        .output()
+        .unwrap();
+    assert!(
+        o.status.success(),
+        "{args:?}: {}",
+        String::from_utf8_lossy(&o.stderr)
+    );
     serde_json::from_slice(&o.stdout).expect("valid JSON")
 }
 
 fn fails(args: &[&str]) -> String {
     let o = bin().args(args).output().unwrap();
-    assert_eq!(o.status.code(), Some(1), "{args:?} should fail: {}", String::from_utf8_lossy(&o.stdout));
+    assert_eq!(
+        o.status.code(),
+        Some(1),
+        "{args:?} should fail: {}",
+        String::from_utf8_lossy(&o.stdout)
+    );
     assert!(o.stdout.is_empty());
     String::from_utf8_lossy(&o.stderr).into_owned()
 }
@@ -36,8 +49,24 @@ fn model_to_table_to_sigma() {
     let dir = tempfile::tempdir().unwrap();
     let out = dir.path().join("lf.csv");
     let o = bin()
-        .args(["convert", "--model", "h0=1e-24,h-1=1e-26,fh=1k", "--carrier", "10MHz", "--to", "lf"])
-        .args(["--from", "1m", "--per-decade", "10", "--format", "csv", "-o"])
+        .args([
+            "convert",
+            "--model",
+            "h0=1e-24,h-1=1e-26,fh=1k",
+            "--carrier",
+            "10MHz",
+            "--to",
+            "lf",
+        ])
+        .args([
+            "--from",
+            "1m",
+            "--per-decade",
+            "10",
+            "--format",
+            "csv",
+            "-o",
+        ])
         .arg(&out)
         .output()
         .unwrap();
@@ -45,9 +74,24 @@ fn model_to_table_to_sigma() {
     let text = std::fs::read_to_string(&out).unwrap();
     assert!(text.starts_with("f,lf_dbc_hz,sphi,sy,sx\n"));
     // Keep f and L only, as an analyser would export it.
-    let two: String = text.lines().map(|l| l.split(',').take(2).collect::<Vec<_>>().join(",") + "\n").collect();
+    let two: String = text
+        .lines()
+        .map(|l| l.split(',').take(2).collect::<Vec<_>>().join(",") + "\n")
+        .collect();
     let table = write(dir.path(), "two.csv", &two);
-    let j = ok_json(&["convert", "--lf", &table, "--carrier", "10MHz", "--to", "sigma", "--dev", "adev,mdev", "--taus", "1,10,100"]);
+    let j = ok_json(&[
+        "convert",
+        "--lf",
+        &table,
+        "--carrier",
+        "10MHz",
+        "--to",
+        "sigma",
+        "--dev",
+        "adev,mdev",
+        "--taus",
+        "1,10,100",
+    ]);
     assert_eq!(j["tool"], "tauwise");
     assert_eq!(j["input"]["path"], table.as_str());
     let curves = j["curves"].as_array().unwrap();
@@ -57,7 +101,10 @@ fn model_to_table_to_sigma() {
         let tau = p["tau"].as_f64().unwrap();
         let want = 1e-24 / (2.0 * tau) + 2.0 * 2f64.ln() * 1e-26;
         let got = p["dev"].as_f64().unwrap().powi(2);
-        assert!((got / want - 1.0).abs() < 0.03, "τ={tau}: {got:e} vs {want:e}");
+        assert!(
+            (got / want - 1.0).abs() < 0.03,
+            "τ={tau}: {got:e} vs {want:e}"
+        );
         for k in ["terms", "edf", "lo", "hi", "alpha", "noise"] {
             assert!(p[k].is_null(), "{k}");
         }
@@ -66,19 +113,37 @@ fn model_to_table_to_sigma() {
         let tau = p["tau"].as_f64().unwrap();
         let want = 1e-24 / (4.0 * tau) + 0.936 * 1e-26;
         let got = p["dev"].as_f64().unwrap().powi(2);
-        assert!((got / want - 1.0).abs() < 0.03, "MVAR τ={tau}: {got:e} vs {want:e}");
+        assert!(
+            (got / want - 1.0).abs() < 0.03,
+            "MVAR τ={tau}: {got:e} vs {want:e}"
+        );
     }
 }
 
 /// The model path of `--to sigma` integrates the model itself.
 #[test]
 fn model_to_sigma() {
-    let j = ok_json(&["convert", "--model", "h-2=1e-30,fh=10", "--to", "sigma", "--dev", "adev", "--taus", "10,1000", "--tau0", "0.05"]);
+    let j = ok_json(&[
+        "convert",
+        "--model",
+        "h-2=1e-30,fh=10",
+        "--to",
+        "sigma",
+        "--dev",
+        "adev",
+        "--taus",
+        "10,1000",
+        "--tau0",
+        "0.05",
+    ]);
     for p in j["curves"][0]["points"].as_array().unwrap() {
         let tau = p["tau"].as_f64().unwrap();
         let want = (2.0 * std::f64::consts::PI).powi(2) * tau * 1e-30 / 6.0;
         let got = p["dev"].as_f64().unwrap().powi(2);
-        assert!((got / want - 1.0).abs() < 0.01, "τ={tau}: {got:e} vs {want:e}");
+        assert!(
+            (got / want - 1.0).abs() < 0.01,
+            "τ={tau}: {got:e} vs {want:e}"
+        );
     }
 }
 
@@ -87,21 +152,52 @@ fn model_to_sigma() {
 #[test]
 fn jitter_json_shape_and_value() {
     let dir = tempfile::tempdir().unwrap();
-    let t = write(dir.path(), "flat.txt", "# offset Hz, dBc/Hz\n1 -155\n1e8 -155\n");
-    let j = ok_json(&["jitter", &t, "--carrier", "10MHz", "--band", "12k:20M", "--band", "1k:10k"]);
+    let t = write(
+        dir.path(),
+        "flat.txt",
+        "# offset Hz, dBc/Hz\n1 -155\n1e8 -155\n",
+    );
+    let j = ok_json(&[
+        "jitter",
+        &t,
+        "--carrier",
+        "10MHz",
+        "--band",
+        "12k:20M",
+        "--band",
+        "1k:10k",
+    ]);
     assert_eq!(j["carrier"].as_f64(), Some(10e6));
     let b = &j["bands"][0];
-    for k in ["from", "to", "filter", "rms_rad", "rms_deg", "rms_s", "rms_ui"] {
+    for k in [
+        "from", "to", "filter", "rms_rad", "rms_deg", "rms_s", "rms_ui",
+    ] {
         assert!(b.get(k).is_some(), "{k}");
     }
     assert!((b["rms_rad"].as_f64().unwrap() / 1.124e-4 - 1.0).abs() < 5e-4);
     assert!((b["rms_s"].as_f64().unwrap() / 1.789e-12 - 1.0).abs() < 5e-4);
     assert!(b["rms_ui"].is_null());
     assert_eq!(b["filter"], "none");
-    assert!(j["caution"].as_str().unwrap().contains("Engineering estimate"));
-    let j = ok_json(&["jitter", &t, "--carrier", "10MHz", "--band", "12k:20M", "--ui-rate", "10.3125G", "--filter", "highpass:1:12k"]);
+    assert!(j["caution"]
+        .as_str()
+        .unwrap()
+        .contains("Engineering estimate"));
+    let j = ok_json(&[
+        "jitter",
+        &t,
+        "--carrier",
+        "10MHz",
+        "--band",
+        "12k:20M",
+        "--ui-rate",
+        "10.3125G",
+        "--filter",
+        "highpass:1:12k",
+    ]);
     let b = &j["bands"][0];
-    assert!((b["rms_ui"].as_f64().unwrap() - b["rms_s"].as_f64().unwrap() * 10.3125e9).abs() < 1e-12);
+    assert!(
+        (b["rms_ui"].as_f64().unwrap() - b["rms_s"].as_f64().unwrap() * 10.3125e9).abs() < 1e-12
+    );
     assert!(b["filter"].as_str().unwrap().starts_with("highpass:1:"));
 }
 
@@ -115,11 +211,29 @@ fn jitter_spurs_and_filter_file() {
     let filt = write(dir.path(), "h.csv", "1,-3.0103\n1e9,-3.0103\n");
     let base = ok_json(&["jitter", &t, "--carrier", "100M", "--band", "12k:20M"]);
     let v0 = base["bands"][0]["rms_rad"].as_f64().unwrap().powi(2);
-    let s = ok_json(&["jitter", &t, "--carrier", "100M", "--band", "12k:20M", "--spurs", &spurs]);
+    let s = ok_json(&[
+        "jitter",
+        &t,
+        "--carrier",
+        "100M",
+        "--band",
+        "12k:20M",
+        "--spurs",
+        &spurs,
+    ]);
     let v1 = s["bands"][0]["rms_rad"].as_f64().unwrap().powi(2);
     assert!(((v1 - v0) / 2e-7 - 1.0).abs() < 1e-9);
     assert_eq!(s["bands"][0]["spurs"], 1);
-    let f = ok_json(&["jitter", &t, "--carrier", "100M", "--band", "12k:20M", "--filter-file", &filt]);
+    let f = ok_json(&[
+        "jitter",
+        &t,
+        "--carrier",
+        "100M",
+        "--band",
+        "12k:20M",
+        "--filter-file",
+        &filt,
+    ]);
     let v2 = f["bands"][0]["rms_rad"].as_f64().unwrap().powi(2);
     assert!((v2 / v0 - 0.5).abs() < 1e-4);
 }
@@ -135,11 +249,25 @@ fn bad_input() {
     assert!(e.contains("dup.csv:3:") && e.contains("increasing"), "{e}");
     let pos = write(dir.path(), "pos.csv", "1,-90\n10,2\n");
     let e = fails(&["convert", "--lf", &pos, "--carrier", "10M", "--to", "sigma"]);
-    assert!(e.contains("pos.csv:2:") && e.contains("above 0 dBc/Hz"), "{e}");
+    assert!(
+        e.contains("pos.csv:2:") && e.contains("above 0 dBc/Hz"),
+        "{e}"
+    );
     let ok = write(dir.path(), "ok.csv", "10,-120\n1e6,-150\n");
     let e = fails(&["jitter", &ok, "--carrier", "10M", "--band", "12k:20M"]);
-    assert!(e.contains("outside the table") && e.contains("--extrapolate"), "{e}");
-    let j = ok_json(&["jitter", &ok, "--carrier", "10M", "--band", "12k:20M", "--extrapolate"]);
+    assert!(
+        e.contains("outside the table") && e.contains("--extrapolate"),
+        "{e}"
+    );
+    let j = ok_json(&[
+        "jitter",
+        &ok,
+        "--carrier",
+        "10M",
+        "--band",
+        "12k:20M",
+        "--extrapolate",
+    ]);
     let ex = &j["bands"][0]["extrapolated"][0];
     assert_eq!(ex[0].as_f64(), Some(1e6));
     assert_eq!(ex[1].as_f64(), Some(20e6));
@@ -147,7 +275,16 @@ fn bad_input() {
     assert!(e.contains("--carrier"), "{e}");
     let e = fails(&["convert", "--lf", &ok, "--to", "sigma"]);
     assert!(e.contains("--carrier"), "{e}");
-    let e = fails(&["jitter", &ok, "--carrier", "10M", "--band", "12k:20k", "--filter", "bandpass:1:3k"]);
+    let e = fails(&[
+        "jitter",
+        &ok,
+        "--carrier",
+        "10M",
+        "--band",
+        "12k:20k",
+        "--filter",
+        "bandpass:1:3k",
+    ]);
     assert!(e.contains("highpass:ORDER:FC"), "{e}");
     let e = fails(&["convert", "--model", "h0=1e-22", "--to", "sigma"]);
     assert!(e.contains("fh"), "{e}");
@@ -164,14 +301,19 @@ fn spectrum_and_record_jitter() {
     let dir = tempfile::tempdir().unwrap();
     let rec = dir.path().join("wpm.txt");
     let o = bin()
-        .args(["simulate", "--model", "h2=1e-20", "--tau0", "1ms", "--points", "65536", "--seed", "5", "-o"])
+        .args([
+            "simulate", "--model", "h2=1e-20", "--tau0", "1ms", "--points", "65536", "--seed", "5",
+            "-o",
+        ])
         .arg(&rec)
         .output()
         .unwrap();
     assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
     let r = rec.display().to_string();
     let j = ok_json(&["spectrum", &r, "--tau0", "1ms", "--carrier", "10MHz"]);
-    for k in ["tool", "version", "input", "carrier", "window", "enbw_hz", "points"] {
+    for k in [
+        "tool", "version", "input", "carrier", "window", "enbw_hz", "points",
+    ] {
         assert!(j.get(k).is_some(), "{k}");
     }
     assert_eq!(j["window"], "hann");
@@ -189,10 +331,23 @@ fn spectrum_and_record_jitter() {
         let sphi = p["sphi"].as_f64().unwrap();
         assert!((l - 10.0 * (sphi / 2.0).log10()).abs() < 1e-9);
     }
-    let j = ok_json(&["jitter", "--record", &r, "--tau0", "1ms", "--carrier", "10MHz", "--band", "1:490"]);
+    let j = ok_json(&[
+        "jitter",
+        "--record",
+        &r,
+        "--tau0",
+        "1ms",
+        "--carrier",
+        "10MHz",
+        "--band",
+        "1:490",
+    ]);
     let rms_s = j["bands"][0]["rms_s"].as_f64().unwrap();
     let want_s = (want * 489.0).sqrt();
-    assert!((rms_s / want_s - 1.0).abs() < 0.05, "{rms_s:e} vs {want_s:e}");
+    assert!(
+        (rms_s / want_s - 1.0).abs() < 0.05,
+        "{rms_s:e} vs {want_s:e}"
+    );
     let e = fails(&["spectrum", &r, "--tau0", "1ms"]);
     assert!(e.contains("--carrier"), "{e}");
     let j = ok_json(&["spectrum", &r, "--tau0", "1ms", "--quantity", "sx"]);

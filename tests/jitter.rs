@@ -15,7 +15,16 @@ fn flat(l: f64, carrier: f64) -> Spectrum {
 /// σ_t = 3.1822e−13 s; to 1e−6 relative against the closed form.
 #[test]
 fn flat_floor_100mhz() {
-    let j = integrate_band(&flat(-150.0, 100e6), Band { from: 12e3, to: 20e6 }, &JitterSetup::default(), None).unwrap();
+    let j = integrate_band(
+        &flat(-150.0, 100e6),
+        Band {
+            from: 12e3,
+            to: 20e6,
+        },
+        &JitterSetup::default(),
+        None,
+    )
+    .unwrap();
     let exact = (2e-15f64 * (20e6 - 12e3)).sqrt();
     assert!((j.rms_rad / exact - 1.0).abs() < 1e-6);
     assert!((j.rms_rad / 1.99940e-4 - 1.0).abs() < 5e-6, "{}", j.rms_rad);
@@ -30,7 +39,16 @@ fn flat_floor_100mhz() {
 /// line rate the UI figure is σ_t·R.
 #[test]
 fn flat_floor_10mhz_and_ui() {
-    let j = integrate_band(&flat(-155.0, 10e6), Band { from: 12e3, to: 20e6 }, &JitterSetup::default(), Some(10.3125e9)).unwrap();
+    let j = integrate_band(
+        &flat(-155.0, 10e6),
+        Band {
+            from: 12e3,
+            to: 20e6,
+        },
+        &JitterSetup::default(),
+        Some(10.3125e9),
+    )
+    .unwrap();
     assert!((j.rms_rad / 1.124e-4 - 1.0).abs() < 5e-4, "{}", j.rms_rad);
     assert!((j.rms_s / 1.789e-12 - 1.0).abs() < 5e-4, "{}", j.rms_s);
     assert!((j.rms_ui.unwrap() - j.rms_s * 10.3125e9).abs() < 1e-15);
@@ -48,8 +66,20 @@ fn minus_20db_per_decade_segment() {
     let want = 2.0 * 10f64.powf(l0 / 10.0) * f0 * f0 * (1.0 / a - 1.0 / b);
     assert!((j.rms_rad.powi(2) / want - 1.0).abs() < 1e-9);
     // Across a knot: −20 dB/dec then flat.
-    let s2 = Spectrum::new(vec![f0, 1e3, 1e6], vec![l0, l0 - 20.0, l0 - 20.0], Quantity::Lf, Some(10e6)).unwrap();
-    let j2 = integrate_band(&s2, Band { from: f0, to: 1e6 }, &JitterSetup::default(), None).unwrap();
+    let s2 = Spectrum::new(
+        vec![f0, 1e3, 1e6],
+        vec![l0, l0 - 20.0, l0 - 20.0],
+        Quantity::Lf,
+        Some(10e6),
+    )
+    .unwrap();
+    let j2 = integrate_band(
+        &s2,
+        Band { from: f0, to: 1e6 },
+        &JitterSetup::default(),
+        None,
+    )
+    .unwrap();
     let s0 = 2.0 * 10f64.powf(l0 / 10.0);
     let want2 = s0 * f0 * f0 * (1.0 / f0 - 1.0 / 1e3) + s0 / 100.0 * (1e6 - 1e3);
     assert!((j2.rms_rad.powi(2) / want2 - 1.0).abs() < 1e-9);
@@ -72,7 +102,12 @@ fn highpass_on_flat_floor() {
     let j = integrate_band(&flat(l, 100e6), Band { from: a, to: b }, &setup, None).unwrap();
     let prim = |f: f64| f - fc * (f / fc).atan();
     let want = s0 * (prim(b) - prim(a));
-    assert!((j.rms_rad.powi(2) / want - 1.0).abs() < 1e-8, "{} {}", j.rms_rad.powi(2), want);
+    assert!(
+        (j.rms_rad.powi(2) / want - 1.0).abs() < 1e-8,
+        "{} {}",
+        j.rms_rad.powi(2),
+        want
+    );
     assert!(j.filter.starts_with("highpass:1:"));
     // Low-pass first order: ∫ S0 /(1 + (f/fc)²) = S0·fc·[atan(f/fc)].
     let setup = JitterSetup {
@@ -90,19 +125,46 @@ fn highpass_on_flat_floor() {
 fn filter_table_weighting() {
     let half_db = 10.0 * 0.5f64.log10();
     let h = LogLog::new(&[1.0, 1e8], &[10f64.powf(half_db / 10.0); 2]).unwrap();
-    let base = integrate_band(&flat(-150.0, 100e6), Band { from: 12e3, to: 20e6 }, &JitterSetup::default(), None).unwrap();
+    let base = integrate_band(
+        &flat(-150.0, 100e6),
+        Band {
+            from: 12e3,
+            to: 20e6,
+        },
+        &JitterSetup::default(),
+        None,
+    )
+    .unwrap();
     let setup = JitterSetup {
         filter_table: Some(h.clone()),
         ..Default::default()
     };
-    let j = integrate_band(&flat(-150.0, 100e6), Band { from: 12e3, to: 20e6 }, &setup, None).unwrap();
+    let j = integrate_band(
+        &flat(-150.0, 100e6),
+        Band {
+            from: 12e3,
+            to: 20e6,
+        },
+        &setup,
+        None,
+    )
+    .unwrap();
     assert!((j.rms_rad.powi(2) / base.rms_rad.powi(2) - 0.5).abs() < 1e-12);
     let narrow = LogLog::new(&[1e5, 1e6], &[1.0, 1.0]).unwrap();
     let setup = JitterSetup {
         filter_table: Some(narrow),
         ..Default::default()
     };
-    let e = integrate_band(&flat(-150.0, 100e6), Band { from: 12e3, to: 20e6 }, &setup, None).unwrap_err();
+    let e = integrate_band(
+        &flat(-150.0, 100e6),
+        Band {
+            from: 12e3,
+            to: 20e6,
+        },
+        &setup,
+        None,
+    )
+    .unwrap_err();
     assert!(e.to_string().contains("filter file"), "{e}");
 }
 
@@ -112,7 +174,10 @@ fn filter_table_weighting() {
 #[test]
 fn spurs_add_their_power() {
     let s = flat(-160.0, 100e6);
-    let band = Band { from: 12e3, to: 20e6 };
+    let band = Band {
+        from: 12e3,
+        to: 20e6,
+    };
     let base = integrate_band(&s, band, &JitterSetup::default(), None).unwrap();
     let setup = JitterSetup {
         spurs: vec![Spur { f: 1e6, dbc: -70.0 }, Spur { f: 1e3, dbc: -40.0 }],
@@ -129,7 +194,10 @@ fn spurs_add_their_power() {
         ..Default::default()
     };
     let j = integrate_band(&s, band, &setup, None).unwrap();
-    assert!((j.spurs_rad2 / 1e-7 - 1.0).abs() < 1e-12, "|H|² = 1/2 at the corner");
+    assert!(
+        (j.spurs_rad2 / 1e-7 - 1.0).abs() < 1e-12,
+        "|H|² = 1/2 at the corner"
+    );
 }
 
 /// Bad input: a band outside the table is an error naming both ranges,
@@ -137,10 +205,22 @@ fn spurs_add_their_power() {
 /// A spectrum with no carrier cannot give jitter.
 #[test]
 fn band_outside_table() {
-    let s = Spectrum::new(vec![10.0, 1e6], vec![-100.0, -150.0], Quantity::Lf, Some(10e6)).unwrap();
-    let band = Band { from: 12e3, to: 20e6 };
+    let s = Spectrum::new(
+        vec![10.0, 1e6],
+        vec![-100.0, -150.0],
+        Quantity::Lf,
+        Some(10e6),
+    )
+    .unwrap();
+    let band = Band {
+        from: 12e3,
+        to: 20e6,
+    };
     let e = integrate_band(&s, band, &JitterSetup::default(), None).unwrap_err();
-    assert!(e.to_string().contains("outside the table") && e.to_string().contains("--extrapolate"), "{e}");
+    assert!(
+        e.to_string().contains("outside the table") && e.to_string().contains("--extrapolate"),
+        "{e}"
+    );
     let setup = JitterSetup {
         extrapolate: true,
         ..Default::default()
@@ -150,10 +230,28 @@ fn band_outside_table() {
     // End slope continued: −10 dB/dec from (10, −100) to (1e6, −150), so
     // S_φ = 2e−15·(1e6/f) above the table and the tail is 2e−15·1e6·ln 20.
     let tail = 2e-15 * 1e6 * 20f64.ln();
-    let inside = integrate_band(&s, Band { from: 12e3, to: 1e6 }, &JitterSetup::default(), None).unwrap();
+    let inside = integrate_band(
+        &s,
+        Band {
+            from: 12e3,
+            to: 1e6,
+        },
+        &JitterSetup::default(),
+        None,
+    )
+    .unwrap();
     assert!((j.rms_rad.powi(2) / (inside.rms_rad.powi(2) + tail) - 1.0).abs() < 1e-9);
     let mut nc = s.clone();
     nc.carrier = None;
-    let e = integrate_band(&nc, Band { from: 12e3, to: 1e5 }, &JitterSetup::default(), None).unwrap_err();
+    let e = integrate_band(
+        &nc,
+        Band {
+            from: 12e3,
+            to: 1e5,
+        },
+        &JitterSetup::default(),
+        None,
+    )
+    .unwrap_err();
     assert!(e.to_string().contains("--carrier"), "{e}");
 }

@@ -8,7 +8,7 @@ use tauwise::deviation::{compute, Estimator};
 use tauwise::model::PowerLaw;
 use tauwise::simulate::{simulate_phase, SimSpec};
 use tauwise::spectrum::sigma::{sigma_from_spectrum, sigma_points, SigmaKind, SigmaOptions};
-use tauwise::spectrum::welch::{welch, Window, WelchOptions};
+use tauwise::spectrum::welch::{welch, WelchOptions, Window};
 use tauwise::spectrum::{Quantity, Spectrum};
 use tauwise::PhaseRecord;
 
@@ -41,9 +41,21 @@ fn ieee1139_table_to_sigma() {
             let ra = a.dev.powi(2) / m.avar(a.tau);
             let rm = mo.dev.powi(2) / m.mvar(mo.tau, tau0);
             let rt = t.dev.powi(2) / m.tvar(t.tau, tau0);
-            assert!((ra - 1.0).abs() < 0.03, "α={alpha} τ={}: AVAR ratio {ra}", a.tau);
-            assert!((rm - 1.0).abs() < 0.03, "α={alpha} τ={}: MVAR ratio {rm}", a.tau);
-            assert!((rt - 1.0).abs() < 0.03, "α={alpha} τ={}: TVAR ratio {rt}", a.tau);
+            assert!(
+                (ra - 1.0).abs() < 0.03,
+                "α={alpha} τ={}: AVAR ratio {ra}",
+                a.tau
+            );
+            assert!(
+                (rm - 1.0).abs() < 0.03,
+                "α={alpha} τ={}: MVAR ratio {rm}",
+                a.tau
+            );
+            assert!(
+                (rt - 1.0).abs() < 0.03,
+                "α={alpha} τ={}: TVAR ratio {rt}",
+                a.tau
+            );
             assert!(!a.truncated);
         }
     }
@@ -66,7 +78,9 @@ fn lcg_gauss(n: usize, seed: u64) -> Vec<f64> {
     // Box–Muller on a 64-bit LCG (Knuth's MMIX constants): test data only.
     let mut s = seed;
     let mut u = || {
-        s = s.wrapping_mul(6364136223846793005).wrapping_add(1442695040888963407);
+        s = s
+            .wrapping_mul(6364136223846793005)
+            .wrapping_add(1442695040888963407);
         ((s >> 11) as f64 + 0.5) / (1u64 << 53) as f64
     };
     (0..n)
@@ -92,7 +106,10 @@ fn welch_white_phase_level() {
         let rec = PhaseRecord::new(x.clone(), tau0).unwrap();
         let w = welch(&rec, &WelchOptions::default()).unwrap();
         let mean = w.sx.iter().sum::<f64>() / w.sx.len() as f64;
-        assert!((mean / want - 1.0).abs() < 0.05, "gaps={with_gaps}: {mean:e} vs {want:e}");
+        assert!(
+            (mean / want - 1.0).abs() < 0.05,
+            "gaps={with_gaps}: {mean:e} vs {want:e}"
+        );
         let b = w.log_binned(10, None).unwrap();
         let mean_b = b.values.iter().sum::<f64>() / b.len() as f64;
         assert!((mean_b / want - 1.0).abs() < 0.15, "log bins: {mean_b:e}");
@@ -125,7 +142,11 @@ fn welch_sinusoid_parseval() {
         )
         .unwrap();
         let power: f64 = w.sx.iter().sum::<f64>() * w.resolution_hz;
-        let tol = if window == Window::Rectangular { 0.05 } else { 0.02 };
+        let tol = if window == Window::Rectangular {
+            0.05
+        } else {
+            0.02
+        };
         assert!(
             (power / (a * a / 2.0) - 1.0).abs() < tol,
             "{window:?}: {power:e} vs {:e}",
@@ -141,23 +162,33 @@ fn decade_errors(alpha: i32, h: f64, seed: u64, segment: usize) -> Vec<(i32, f64
     let tau0 = 1.0;
     let m = single(alpha, h, 0.5);
     let rec = simulate_phase(&SimSpec::new(m, tau0, 1 << 17, seed)).unwrap();
-    let w = welch(&rec, &WelchOptions { segment: Some(segment), ..Default::default() }).unwrap();
+    let w = welch(
+        &rec,
+        &WelchOptions {
+            segment: Some(segment),
+            ..Default::default()
+        },
+    )
+    .unwrap();
     let s = w.log_binned(10, None).unwrap();
     let mut out = Vec::new();
     for dec in -4..0 {
         let lo = 10f64.powi(dec);
-        let pts: Vec<(f64, f64)> = s
-            .f
-            .iter()
-            .zip(&s.values)
-            .filter(|(f, _)| **f >= lo && **f < 10.0 * lo)
-            .map(|(f, v)| (*f, *v))
-            .collect();
+        let pts: Vec<(f64, f64)> =
+            s.f.iter()
+                .zip(&s.values)
+                .filter(|(f, _)| **f >= lo && **f < 10.0 * lo)
+                .map(|(f, v)| (*f, *v))
+                .collect();
         if pts.len() < 5 {
             continue; // not a full decade of the output grid
         }
         let n = pts.len() as f64;
-        let cont: f64 = pts.iter().map(|(f, v)| 10.0 * (v / m.sx(*f)).log10()).sum::<f64>() / n;
+        let cont: f64 = pts
+            .iter()
+            .map(|(f, v)| 10.0 * (v / m.sx(*f)).log10())
+            .sum::<f64>()
+            / n;
         let disc: f64 = pts
             .iter()
             .map(|(f, v)| {
@@ -182,9 +213,15 @@ fn simulated_power_law_spectra() {
             let errs = decade_errors(alpha, h, seed, 4096);
             assert!(errs.len() >= 3, "{errs:?}");
             for (dec, cont, disc) in errs {
-                assert!(disc.abs() < 1.5, "α={alpha} seed={seed} decade 1e{dec}: {disc:+.2} dB");
+                assert!(
+                    disc.abs() < 1.5,
+                    "α={alpha} seed={seed} decade 1e{dec}: {disc:+.2} dB"
+                );
                 if dec <= -2 {
-                    assert!(cont.abs() < 1.5, "α={alpha} seed={seed} decade 1e{dec}: {cont:+.2} dB");
+                    assert!(
+                        cont.abs() < 1.5,
+                        "α={alpha} seed={seed} decade 1e{dec}: {cont:+.2} dB"
+                    );
                 }
             }
         }
@@ -201,7 +238,14 @@ fn record_spectrum_sigma_round_trip() {
     let tau0 = 1.0;
     let m = PowerLaw::parse("h2=2e-21,h0=4e-23,h-1=1e-25", 0.5 / tau0).unwrap();
     let rec = simulate_phase(&SimSpec::new(m, tau0, 1 << 17, 21)).unwrap();
-    let w = welch(&rec, &WelchOptions { segment: Some(8192), ..Default::default() }).unwrap();
+    let w = welch(
+        &rec,
+        &WelchOptions {
+            segment: Some(8192),
+            ..Default::default()
+        },
+    )
+    .unwrap();
     let spec = w.spectrum(None).unwrap();
     let fh = *spec.f.last().unwrap();
     let ms = [1usize, 2, 4, 8, 16, 32, 64];
@@ -210,13 +254,25 @@ fn record_spectrum_sigma_round_trip() {
     let meas = compute(Estimator::Oadev, &rec, &ms);
     for (c, e) in conv.iter().zip(&meas) {
         let r = e.value / c.1;
-        assert!((r - 1.0).abs() < 0.12, "τ={}: OADEV {:e} vs from spectrum {:e}", c.0, e.value, c.1);
+        assert!(
+            (r - 1.0).abs() < 0.12,
+            "τ={}: OADEV {:e} vs from spectrum {:e}",
+            c.0,
+            e.value,
+            c.1
+        );
     }
     // MDEV the same way.
     let convm = sigma_from_spectrum(&spec, SigmaKind::Mdev, &taus, tau0, fh).unwrap();
     let measm = compute(Estimator::Mdev, &rec, &ms);
     for (c, e) in convm.iter().zip(&measm) {
         let r = e.value / c.1;
-        assert!((r - 1.0).abs() < 0.12, "τ={}: MDEV {:e} vs from spectrum {:e}", c.0, e.value, c.1);
+        assert!(
+            (r - 1.0).abs() < 0.12,
+            "τ={}: MDEV {:e} vs from spectrum {:e}",
+            c.0,
+            e.value,
+            c.1
+        );
     }
 }

@@ -27,11 +27,18 @@ pub enum Target {
 
 /// Convert between phase-noise tables, power-law models and σ(τ).
 #[derive(Debug, ClapArgs)]
-#[command(after_help = "Examples:\n  tauwise convert --lf ocxo-a-lf.csv --carrier 10MHz --to sigma --dev adev,mdev\n  \
-    tauwise convert --model h2=6e-30,h0=1e-25,h-1=3e-25,fh=10M --carrier 10MHz --to lf --from 1 --to-offset 10M")]
+#[command(
+    after_help = "Examples:\n  tauwise convert --lf ocxo-a-lf.csv --carrier 10MHz --to sigma --dev adev,mdev\n  \
+    tauwise convert --model h2=6e-30,h0=1e-25,h-1=3e-25,fh=10M --carrier 10MHz --to lf --from 1 --to-offset 10M"
+)]
 pub struct Args {
     /// Phase-noise table to convert (offset against L(f), or see --quantity).
-    #[arg(long = "lf", value_name = "TABLE", conflicts_with = "model", required_unless_present = "model")]
+    #[arg(
+        long = "lf",
+        value_name = "TABLE",
+        conflicts_with = "model",
+        required_unless_present = "model"
+    )]
     pub lf: Option<PathBuf>,
     /// Power-law model in h_α notation (h2 h1 h0 h-1 h-2, fh).
     #[arg(long, value_name = "MODEL")]
@@ -77,8 +84,10 @@ fn freq(opt: &Option<String>, what: &str) -> Result<Option<f64>> {
     match opt {
         Some(t) => {
             let v = parse_frequency(t)?;
-            if !(v > 0.0) {
-                return Err(Error::invalid(format!("--{what} {t}: expected a positive frequency")));
+            if v.is_nan() || v <= 0.0 {
+                return Err(Error::invalid(format!(
+                    "--{what} {t}: expected a positive frequency"
+                )));
             }
             Ok(Some(v))
         }
@@ -90,8 +99,10 @@ fn duration(opt: &Option<String>, what: &str) -> Result<Option<f64>> {
     match opt {
         Some(t) => {
             let v = parse_duration(t)?;
-            if !(v > 0.0) {
-                return Err(Error::invalid(format!("--{what} {t}: expected a positive duration")));
+            if v.is_nan() || v <= 0.0 {
+                return Err(Error::invalid(format!(
+                    "--{what} {t}: expected a positive duration"
+                )));
             }
             Ok(Some(v))
         }
@@ -135,17 +146,18 @@ fn source(args: &Args, carrier: Option<f64>, tau_hint: Option<f64>) -> Result<So
     }
     let text = args.model.as_deref().unwrap_or_default();
     let parsed = PowerLaw::parse(text, f64::NAN)?;
-    let f_h = match (fh_opt, parsed.f_h.is_nan()) {
-        (Some(f), _) => f,
-        (None, false) => parsed.f_h,
-        (None, true) => {
-            return Err(Error::invalid(
+    let f_h =
+        match (fh_opt, parsed.f_h.is_nan()) {
+            (Some(f), _) => f,
+            (None, false) => parsed.f_h,
+            (None, true) => return Err(Error::invalid(
                 "the model needs its high-frequency cut-off: add fh=… to the model or give --fh",
-            ))
-        }
-    };
+            )),
+        };
     let model = PowerLaw { f_h, ..parsed };
-    let max_tau = duration(&args.max_tau, "max-tau")?.or(tau_hint).unwrap_or(1e5);
+    let max_tau = duration(&args.max_tau, "max-tau")?
+        .or(tau_hint)
+        .unwrap_or(1e5);
     // Sample the model densely (40 points per decade) from well below the
     // longest τ's band up to f_h; the log–log interpolation of a sum of
     // power laws at this density is within 10⁻⁴ dB.
@@ -170,7 +182,8 @@ fn source(args: &Args, carrier: Option<f64>, tau_hint: Option<f64>) -> Result<So
 /// Run `convert`.
 pub fn run(args: Args) -> Result<Outcome> {
     let carrier = freq(&args.carrier, "carrier")?;
-    let needs_carrier = args.lf.is_some() && TableQuantity::parse(&args.quantity)? != TableQuantity::Sy
+    let needs_carrier = args.lf.is_some()
+        && TableQuantity::parse(&args.quantity)? != TableQuantity::Sy
         || args.to == Target::Lf;
     if needs_carrier && carrier.is_none() {
         return Err(Error::invalid(
@@ -194,7 +207,9 @@ fn to_sigma(args: &Args, src: Source, carrier: Option<f64>) -> Result<String> {
         .map(|s| SigmaKind::from_name(s).map(|k| (s.trim().to_ascii_lowercase(), k)))
         .collect::<Result<_>>()?;
     if kinds.is_empty() {
-        return Err(Error::invalid("--dev names no estimator: expected e.g. adev,mdev"));
+        return Err(Error::invalid(
+            "--dev names no estimator: expected e.g. adev,mdev",
+        ));
     }
     let tau0 = duration(&args.tau0, "tau0")?.unwrap_or(0.5 / src.f_h);
     let max_tau = duration(&args.max_tau, "max-tau")?.unwrap_or(src.max_tau);
@@ -204,14 +219,20 @@ fn to_sigma(args: &Args, src: Source, carrier: Option<f64>) -> Result<String> {
         TauGrid::Explicit(t) => t.clone(),
         g => {
             let max_m = ((max_tau / tau0).floor() as usize).max(1);
-            g.ms(tau0, max_m)?.into_iter().map(|m| m as f64 * tau0).collect()
+            g.ms(tau0, max_m)?
+                .into_iter()
+                .map(|m| m as f64 * tau0)
+                .collect()
         }
     };
     let opt = SigmaOptions { tau0, f_h: src.f_h };
     let mut curves = Vec::new();
     for (name, kind) in &kinds {
         let t: Vec<f64> = match kind {
-            SigmaKind::Mdev | SigmaKind::Tdev => taus.iter().map(|t| (t / tau0).round().max(1.0) * tau0).collect(),
+            SigmaKind::Mdev | SigmaKind::Tdev => taus
+                .iter()
+                .map(|t| (t / tau0).round().max(1.0) * tau0)
+                .collect(),
             _ => taus.clone(),
         };
         curves.push((name.clone(), sigma_points(&src.spectrum, *kind, &t, opt)?));
@@ -219,7 +240,10 @@ fn to_sigma(args: &Args, src: Source, carrier: Option<f64>) -> Result<String> {
     Ok(match args.output.format {
         Format::Json => {
             let mut m = src.header;
-            m.insert("carrier".into(), carrier.map(num).unwrap_or(serde_json::Value::Null));
+            m.insert(
+                "carrier".into(),
+                carrier.map(num).unwrap_or(serde_json::Value::Null),
+            );
             m.insert("f_h".into(), num(src.f_h));
             m.insert("tau0".into(), num(tau0));
             m.insert(
@@ -243,7 +267,9 @@ fn to_sigma(args: &Args, src: Source, carrier: Option<f64>) -> Result<String> {
             json_text(&serde_json::Value::Object(m))
         }
         Format::Csv => {
-            let mut out = String::from("estimator,tau,m,dev,terms,edf,lo,hi,alpha,noise,below_table,truncated\n");
+            let mut out = String::from(
+                "estimator,tau,m,dev,terms,edf,lo,hi,alpha,noise,below_table,truncated\n",
+            );
             for (name, pts) in &curves {
                 for p in pts {
                     let _ = writeln!(
@@ -271,14 +297,22 @@ fn to_sigma(args: &Args, src: Source, carrier: Option<f64>) -> Result<String> {
             for (name, pts) in &curves {
                 let _ = writeln!(out);
                 let _ = writeln!(out, "{name}");
-                let _ = writeln!(out, "{:>12}  {:>12}  {:>13}", "τ", "deviation", "below table");
+                let _ = writeln!(
+                    out,
+                    "{:>12}  {:>12}  {:>13}",
+                    "τ", "deviation", "below table"
+                );
                 for p in pts {
                     let dev = if *name == "tdev" {
                         format_si(p.dev, "s", 4)
                     } else {
                         format_sig(p.dev, 4)
                     };
-                    let note = if p.truncated { "  (lower bound: table's low end too steep)" } else { "" };
+                    let note = if p.truncated {
+                        "  (lower bound: table's low end too steep)"
+                    } else {
+                        ""
+                    };
                     let _ = writeln!(
                         out,
                         "{:>12}  {:>12}  {:>12.1} %{note}",
@@ -315,7 +349,10 @@ fn to_lf(args: &Args, src: Source, carrier: Option<f64>) -> Result<String> {
     let spec = match &args.model {
         Some(text) => {
             let parsed = PowerLaw::parse(text, src.f_h)?;
-            let model = PowerLaw { f_h: src.f_h, ..parsed };
+            let model = PowerLaw {
+                f_h: src.f_h,
+                ..parsed
+            };
             Spectrum::from_model(&model, Quantity::Lf, carrier, from, to, args.per_decade)?
         }
         None => src.spectrum.to(Quantity::Lf)?,
@@ -324,7 +361,10 @@ fn to_lf(args: &Args, src: Source, carrier: Option<f64>) -> Result<String> {
     Ok(match args.output.format {
         Format::Json => {
             let mut m = src.header;
-            m.insert("carrier".into(), carrier.map(num).unwrap_or(serde_json::Value::Null));
+            m.insert(
+                "carrier".into(),
+                carrier.map(num).unwrap_or(serde_json::Value::Null),
+            );
             m.insert("points".into(), rows.json());
             json_text(&serde_json::Value::Object(m))
         }

@@ -8,7 +8,9 @@ use super::Outcome;
 use clap::Args as ClapArgs;
 use std::fmt::Write as _;
 use std::path::{Path, PathBuf};
-use tauwise::io::lf_table::{read_filter_file, read_lf_table, read_spurs, LfTable, TableOptions, TableQuantity};
+use tauwise::io::lf_table::{
+    read_filter_file, read_lf_table, read_spurs, LfTable, TableOptions, TableQuantity,
+};
 use tauwise::spectrum::jitter::{integrate_band, Band, BandJitter, JitterSetup, Weighting};
 use tauwise::spectrum::welch::welch;
 use tauwise::spectrum::Spectrum;
@@ -17,12 +19,18 @@ use tauwise::{Error, Result, DECISION_CAUTION};
 
 /// Integrated phase jitter over offset bands.
 #[derive(Debug, ClapArgs)]
-#[command(after_help = "Examples:\n  tauwise jitter ocxo-a-lf.csv --carrier 10MHz --band 12k:5M --band 10:1k\n  \
+#[command(
+    after_help = "Examples:\n  tauwise jitter ocxo-a-lf.csv --carrier 10MHz --band 12k:5M --band 10:1k\n  \
     tauwise jitter ocxo-a-lf.csv --carrier 156.25M --band 12k:20M --filter highpass:1:12k --ui-rate 10.3125G\n  \
-    tauwise jitter --record tie.csv --tau0 1us --carrier 10MHz --band 100:400k")]
+    tauwise jitter --record tie.csv --tau0 1us --carrier 10MHz --band 100:400k"
+)]
 pub struct Args {
     /// Phase-noise table: offset against L(f) in dBc/Hz (or see --quantity).
-    #[arg(value_name = "TABLE", required_unless_present = "record", conflicts_with = "record")]
+    #[arg(
+        value_name = "TABLE",
+        required_unless_present = "record",
+        conflicts_with = "record"
+    )]
     pub table: Option<PathBuf>,
     /// Use the PSD of this time record instead of a table.
     #[arg(long, value_name = "FILE")]
@@ -74,7 +82,10 @@ pub fn table_input_json(t: &LfTable, quantity: TableQuantity) -> serde_json::Val
 }
 
 /// Header members for a table input.
-pub fn table_header(t: &LfTable, quantity: TableQuantity) -> serde_json::Map<String, serde_json::Value> {
+pub fn table_header(
+    t: &LfTable,
+    quantity: TableQuantity,
+) -> serde_json::Map<String, serde_json::Value> {
     let mut m = serde_json::Map::new();
     m.insert("tool".into(), tauwise::TOOL.into());
     m.insert("version".into(), tauwise::VERSION.into());
@@ -83,7 +94,12 @@ pub fn table_header(t: &LfTable, quantity: TableQuantity) -> serde_json::Map<Str
 }
 
 /// Read a table with the common column options.
-pub fn load_table(path: &Path, quantity: TableQuantity, input: &InputArgs, carrier: Option<f64>) -> Result<LfTable> {
+pub fn load_table(
+    path: &Path,
+    quantity: TableQuantity,
+    input: &InputArgs,
+    carrier: Option<f64>,
+) -> Result<LfTable> {
     read_lf_table(
         path,
         &TableOptions {
@@ -100,9 +116,17 @@ pub fn run(args: Args) -> Result<Outcome> {
     let carrier = super::spectrum::carrier_of(&args.input)?.ok_or_else(|| {
         Error::invalid("jitter needs the carrier frequency: give --carrier (e.g. --carrier 10MHz)")
     })?;
-    let bands = args.bands.iter().map(|b| Band::parse(b)).collect::<Result<Vec<_>>>()?;
+    let bands = args
+        .bands
+        .iter()
+        .map(|b| Band::parse(b))
+        .collect::<Result<Vec<_>>>()?;
     let mut setup = JitterSetup {
-        filters: args.filters.iter().map(|f| Weighting::parse(f)).collect::<Result<Vec<_>>>()?,
+        filters: args
+            .filters
+            .iter()
+            .map(|f| Weighting::parse(f))
+            .collect::<Result<Vec<_>>>()?,
         extrapolate: args.extrapolate,
         ..Default::default()
     };
@@ -116,8 +140,10 @@ pub fn run(args: Args) -> Result<Outcome> {
     let ui_rate = match &args.ui_rate {
         Some(r) => {
             let v = parse_frequency(r)?;
-            if !(v > 0.0) {
-                return Err(Error::invalid(format!("--ui-rate {r}: expected a positive line rate")));
+            if v.is_nan() || v <= 0.0 {
+                return Err(Error::invalid(format!(
+                    "--ui-rate {r}: expected a positive line rate"
+                )));
             }
             Some(v)
         }
@@ -127,16 +153,27 @@ pub fn run(args: Args) -> Result<Outcome> {
         (Some(path), _) => {
             let q = TableQuantity::parse(&args.quantity)?;
             let t = load_table(path, q, &args.input, Some(carrier))?;
-            (table_header(&t, q), t.spectrum.clone(), format!("table {}", path.display()))
+            (
+                table_header(&t, q),
+                t.spectrum.clone(),
+                format!("table {}", path.display()),
+            )
         }
         (None, Some(path)) => {
             let series = args.input.load(path)?;
-            let w = welch(&series.record.to_phase(), &welch_options(&args.window, args.segment, 0.5)?)?;
+            let w = welch(
+                &series.record.to_phase(),
+                &welch_options(&args.window, args.segment, 0.5)?,
+            )?;
             let mut h = header_json(&series);
             h.insert("window".into(), w.window.name().into());
             h.insert("enbw_hz".into(), num(w.enbw_hz));
             h.insert("gaps_handling".into(), w.gap_note().into());
-            (h, w.spectrum(Some(carrier))?, format!("Welch spectrum of {}", path.display()))
+            (
+                h,
+                w.spectrum(Some(carrier))?,
+                format!("Welch spectrum of {}", path.display()),
+            )
         }
         (None, None) => return Err(Error::invalid("give a phase-noise TABLE or --record FILE")),
     };
@@ -147,14 +184,24 @@ pub fn run(args: Args) -> Result<Outcome> {
     let text = match args.output.format {
         Format::Json => {
             header.insert("carrier".into(), num(carrier));
-            header.insert("ui_rate".into(), ui_rate.map(num).unwrap_or(serde_json::Value::Null));
-            header.insert("spur_convention".into(), "spur level in dBc of one sideband; pure PM, 2·10^(dBc/10) rad²".into());
-            header.insert("bands".into(), serde_json::Value::Array(results.iter().map(band_json).collect()));
+            header.insert(
+                "ui_rate".into(),
+                ui_rate.map(num).unwrap_or(serde_json::Value::Null),
+            );
+            header.insert(
+                "spur_convention".into(),
+                "spur level in dBc of one sideband; pure PM, 2·10^(dBc/10) rad²".into(),
+            );
+            header.insert(
+                "bands".into(),
+                serde_json::Value::Array(results.iter().map(band_json).collect()),
+            );
             header.insert("caution".into(), DECISION_CAUTION.into());
             json_text(&serde_json::Value::Object(header))
         }
         Format::Csv => {
-            let mut out = String::from("from,to,filter,rms_rad,rms_deg,rms_s,rms_ui,spurs,extrapolated\n");
+            let mut out =
+                String::from("from,to,filter,rms_rad,rms_deg,rms_s,rms_ui,spurs,extrapolated\n");
             for r in &results {
                 let _ = writeln!(
                     out,
@@ -203,7 +250,11 @@ fn extrapolated_text(r: &BandJitter) -> String {
 
 fn table(source: &str, carrier: f64, results: &[BandJitter]) -> String {
     let mut out = String::new();
-    let _ = writeln!(out, "Integrated phase jitter, {source}, carrier {}", format_si(carrier, "Hz", 4));
+    let _ = writeln!(
+        out,
+        "Integrated phase jitter, {source}, carrier {}",
+        format_si(carrier, "Hz", 4)
+    );
     let _ = writeln!(out);
     let _ = writeln!(
         out,
@@ -211,7 +262,11 @@ fn table(source: &str, carrier: f64, results: &[BandJitter]) -> String {
         "band", "weighting", "rms rad", "rms deg", "rms time", "rms UI"
     );
     for r in results {
-        let band = format!("{} – {}", format_si(r.from, "Hz", 4), format_si(r.to, "Hz", 4));
+        let band = format!(
+            "{} – {}",
+            format_si(r.from, "Hz", 4),
+            format_si(r.to, "Hz", 4)
+        );
         let _ = writeln!(
             out,
             "{:>23}  {:>24}  {:>11.4e}  {:>10.4e}  {:>11}  {:>10}",
@@ -220,10 +275,16 @@ fn table(source: &str, carrier: f64, results: &[BandJitter]) -> String {
             r.rms_rad,
             r.rms_deg,
             format_si(r.rms_s, "s", 4),
-            r.rms_ui.map(|u| format!("{u:.4e}")).unwrap_or_else(|| "-".into())
+            r.rms_ui
+                .map(|u| format!("{u:.4e}"))
+                .unwrap_or_else(|| "-".into())
         );
         if r.spurs > 0 {
-            let _ = writeln!(out, "{:>23}  includes {} spur(s), {:.4e} rad²", "", r.spurs, r.spurs_rad2);
+            let _ = writeln!(
+                out,
+                "{:>23}  includes {} spur(s), {:.4e} rad²",
+                "", r.spurs, r.spurs_rad2
+            );
         }
         for (a, b) in &r.extrapolated {
             let _ = writeln!(

@@ -13,7 +13,9 @@ use tauwise::{Error, Result};
 
 /// PSD of a phase or frequency record (Welch's method).
 #[derive(Debug, ClapArgs)]
-#[command(after_help = "Example:\n  tauwise spectrum ocxo-a.csv --tau0 1s --units ns --carrier 10MHz --format csv")]
+#[command(
+    after_help = "Example:\n  tauwise spectrum ocxo-a.csv --tau0 1s --units ns --carrier 10MHz --format csv"
+)]
 pub struct Args {
     /// Input record (`-` reads standard input).
     #[arg(value_name = "FILE")]
@@ -70,7 +72,10 @@ pub fn run(args: Args) -> Result<Outcome> {
     }
     let series = args.input.load(&args.file)?;
     let phase = series.record.to_phase();
-    let w = welch(&phase, &welch_options(&args.window, args.segment, args.overlap)?)?;
+    let w = welch(
+        &phase,
+        &welch_options(&args.window, args.segment, args.overlap)?,
+    )?;
     let spec = if args.all_bins {
         w.spectrum(carrier)?
     } else {
@@ -80,7 +85,10 @@ pub fn run(args: Args) -> Result<Outcome> {
     let text = match args.output.format {
         Format::Json => {
             let mut m = header_json(&series);
-            m.insert("carrier".into(), carrier.map(num).unwrap_or(serde_json::Value::Null));
+            m.insert(
+                "carrier".into(),
+                carrier.map(num).unwrap_or(serde_json::Value::Null),
+            );
             m.insert("window".into(), w.window.name().into());
             m.insert("enbw_hz".into(), num(w.enbw_hz));
             m.insert("resolution_hz".into(), num(w.resolution_hz));
@@ -121,8 +129,16 @@ impl Rows {
         let has_carrier = s.carrier.is_some();
         Ok(Self {
             f: s.f.clone(),
-            lf: if has_carrier { Some(s.values_as(Quantity::Lf)?) } else { None },
-            sphi: if has_carrier { Some(s.values_as(Quantity::Sphi)?) } else { None },
+            lf: if has_carrier {
+                Some(s.values_as(Quantity::Lf)?)
+            } else {
+                None
+            },
+            sphi: if has_carrier {
+                Some(s.values_as(Quantity::Sphi)?)
+            } else {
+                None
+            },
             sy: s.values_as(Quantity::Sy)?,
             sx: s.values_as(Quantity::Sx)?,
         })
@@ -130,7 +146,11 @@ impl Rows {
 
     /// `[{"f","lf_dbc_hz","sphi","sy","sx"}, …]`.
     pub fn json(&self) -> serde_json::Value {
-        let opt = |v: &Option<Vec<f64>>, i: usize| v.as_ref().map(|v| num(v[i])).unwrap_or(serde_json::Value::Null);
+        let opt = |v: &Option<Vec<f64>>, i: usize| {
+            v.as_ref()
+                .map(|v| num(v[i]))
+                .unwrap_or(serde_json::Value::Null)
+        };
         serde_json::Value::Array(
             (0..self.f.len())
                 .map(|i| {
@@ -149,7 +169,8 @@ impl Rows {
     /// CSV with the header `f,lf_dbc_hz,sphi,sy,sx`.
     pub fn csv(&self) -> String {
         let mut out = String::from("f,lf_dbc_hz,sphi,sy,sx\n");
-        let opt = |v: &Option<Vec<f64>>, i: usize| v.as_ref().map(|v| plain(v[i])).unwrap_or_default();
+        let opt =
+            |v: &Option<Vec<f64>>, i: usize| v.as_ref().map(|v| plain(v[i])).unwrap_or_default();
         for i in 0..self.f.len() {
             let _ = writeln!(
                 out,
@@ -200,8 +221,16 @@ impl Rows {
             "f", "L(f) dBc/Hz", "S_φ rad²/Hz", "S_y 1/Hz", "S_x s²/Hz"
         );
         for i in 0..self.f.len() {
-            let lf = self.lf.as_ref().map(|v| format!("{:.2}", v[i])).unwrap_or_else(|| "-".into());
-            let sp = self.sphi.as_ref().map(|v| format_sig(v[i], 4)).unwrap_or_else(|| "-".into());
+            let lf = self
+                .lf
+                .as_ref()
+                .map(|v| format!("{:.2}", v[i]))
+                .unwrap_or_else(|| "-".into());
+            let sp = self
+                .sphi
+                .as_ref()
+                .map(|v| format_sig(v[i], 4))
+                .unwrap_or_else(|| "-".into());
             let _ = writeln!(
                 out,
                 "{:>12}  {:>12}  {:>11}  {:>11}  {:>11}",

@@ -16,6 +16,7 @@
 
 use super::text::{open_input, read_table, Table};
 use super::ReadError;
+use crate::spectrum::gt;
 use crate::spectrum::jitter::Spur;
 use crate::spectrum::loglog::LogLog;
 use crate::spectrum::{Quantity, Spectrum};
@@ -117,15 +118,12 @@ fn header_unit(field: &str) -> Option<f64> {
     }
 }
 
+/// Rows of (line, offset in Hz, value), and the offset scale applied.
+type Pairs = (Vec<(u64, f64, f64)>, f64);
+
 /// Read the raw rows of column pair (oc, vc), 1-based, applying the
 /// header's offset unit. Errors name line and field.
-fn pairs(
-    table: &Table,
-    path: &Path,
-    oc: usize,
-    vc: usize,
-    what: &str,
-) -> Result<(Vec<(u64, f64, f64)>, f64), ReadError> {
+fn pairs(table: &Table, path: &Path, oc: usize, vc: usize, what: &str) -> Result<Pairs, ReadError> {
     let scale = table
         .header
         .as_ref()
@@ -156,7 +154,7 @@ fn pairs(
         };
         let f = get(oc, "offset frequency")? * scale;
         let v = get(vc, "value")?;
-        if !(f > 0.0) {
+        if !gt(f, 0.0) {
             return Err(ReadError::at(
                 path,
                 row.line,
@@ -170,7 +168,7 @@ fn pairs(
 
 fn increasing(rows: &[(u64, f64, f64)], path: &Path) -> Result<(), ReadError> {
     for w in rows.windows(2) {
-        if !(w[1].1 > w[0].1) {
+        if !gt(w[1].1, w[0].1) {
             return Err(ReadError::at(
                 path,
                 w[1].0,
@@ -214,7 +212,10 @@ pub fn read_lf_table_from<R: std::io::BufRead>(
     if rows.len() < 2 {
         return Err(ReadError::file(
             path,
-            format!("{} data row(s); expected at least 2 rows of offset and value", rows.len()),
+            format!(
+                "{} data row(s); expected at least 2 rows of offset and value",
+                rows.len()
+            ),
         )
         .into());
     }
@@ -225,7 +226,7 @@ pub fn read_lf_table_from<R: std::io::BufRead>(
             TableQuantity::Lf => (v, Some(v)),
             TableQuantity::SphiDb => (v - 10.0 * 2f64.log10(), Some(v - 10.0 * 2f64.log10())),
             TableQuantity::Sphi | TableQuantity::Sy => {
-                if !(v > 0.0) {
+                if !gt(v, 0.0) {
                     return Err(ReadError::at(
                         path,
                         line,
@@ -325,7 +326,11 @@ mod tests {
 
     #[test]
     fn reads_units_and_quantities() {
-        let t = read("# analyser export\noffset (kHz),L\n0.001,-90\n1,-140\n10,-150\n", TableQuantity::Lf).unwrap();
+        let t = read(
+            "# analyser export\noffset (kHz),L\n0.001,-90\n1,-140\n10,-150\n",
+            TableQuantity::Lf,
+        )
+        .unwrap();
         assert_eq!(t.spectrum.f, vec![1.0, 1e3, 1e4]);
         assert_eq!(t.offset_scale, 1e3);
         let t = read("f_MHz\tS\n1\t2e-15\n2\t2e-15\n", TableQuantity::Sphi).unwrap();
@@ -341,13 +346,22 @@ mod tests {
         assert!(e.to_string().contains("t.csv:3:"), "{e}");
         assert!(e.to_string().contains("increasing"), "{e}");
         let e = read("1,-90\n10,3\n", TableQuantity::Lf).unwrap_err();
-        assert!(e.to_string().contains("t.csv:2:") && e.to_string().contains("above 0 dBc/Hz"), "{e}");
+        assert!(
+            e.to_string().contains("t.csv:2:") && e.to_string().contains("above 0 dBc/Hz"),
+            "{e}"
+        );
         let e = read("1,-90\n10,NaN\n", TableQuantity::Lf).unwrap_err();
-        assert!(e.to_string().contains("t.csv:2:") && e.to_string().contains("missing"), "{e}");
+        assert!(
+            e.to_string().contains("t.csv:2:") && e.to_string().contains("missing"),
+            "{e}"
+        );
         let e = read("1,-90\n", TableQuantity::Lf).unwrap_err();
         assert!(e.to_string().contains("at least 2"), "{e}");
         let e = read("-1,-90\n10,-100\n", TableQuantity::Lf).unwrap_err();
-        assert!(e.to_string().contains("t.csv:1:") && e.to_string().contains("positive"), "{e}");
+        assert!(
+            e.to_string().contains("t.csv:1:") && e.to_string().contains("positive"),
+            "{e}"
+        );
         let e = read("1,1e-20\n10,-1e-22\n", TableQuantity::Sy).unwrap_err();
         assert!(e.to_string().contains("t.csv:2:"), "{e}");
         let e = read("1,-90\n10\n", TableQuantity::Lf).unwrap_err();

@@ -12,7 +12,7 @@
 //!   high-pass |H|² = 1/(1 + (f_c/f)^{2n}), low-pass |H|² = 1/(1 + (f/f_c)^{2n});
 //!   several multiply. With one of these the integral is done by adaptive
 //!   Gauss–Legendre quadrature in log f on each table segment (relative
-//!   tolerance 10⁻¹⁰).
+//!   tolerance 10⁻⁹).
 //! - A filter file gives |H(f)|² in dB against f, interpolated linearly in
 //!   log f / dB like the table.
 //! - Spurs: a discrete line shown at L_s dBc (the level of one sideband,
@@ -26,6 +26,7 @@
 //! extrapolation is allowed; then the end segments' power laws are continued
 //! and the extrapolated ranges are reported with the result.
 
+use super::gt;
 use super::loglog::{power_integral_from, Extend, LogLog};
 use super::quad::adaptive;
 use super::{Quantity, Spectrum};
@@ -57,7 +58,8 @@ impl Weighting {
     /// `highpass:1:12k`).
     pub fn parse(text: &str) -> Result<Self> {
         let parts: Vec<&str> = text.trim().split(':').collect();
-        let expected = "a filter of the form highpass:ORDER:FC or lowpass:ORDER:FC (e.g. highpass:1:12k)";
+        let expected =
+            "a filter of the form highpass:ORDER:FC or lowpass:ORDER:FC (e.g. highpass:1:12k)";
         if parts.len() != 3 {
             return Err(Error::invalid(format!("'{text}' is not {expected}")));
         }
@@ -67,11 +69,16 @@ impl Weighting {
             .ok()
             .filter(|o| (1..=20).contains(o))
             .ok_or_else(|| {
-                Error::invalid(format!("filter order '{}' in '{text}' must be an integer from 1 to 20", parts[1]))
+                Error::invalid(format!(
+                    "filter order '{}' in '{text}' must be an integer from 1 to 20",
+                    parts[1]
+                ))
             })?;
         let fc = parse_frequency(parts[2])?;
-        if !(fc > 0.0) {
-            return Err(Error::invalid(format!("filter corner in '{text}' must be positive")));
+        if !gt(fc, 0.0) {
+            return Err(Error::invalid(format!(
+                "filter corner in '{text}' must be positive"
+            )));
         }
         match parts[0].trim().to_ascii_lowercase().as_str() {
             "highpass" | "hp" => Ok(Weighting::HighPass { order, fc }),
@@ -91,8 +98,12 @@ impl Weighting {
     /// A short description (`highpass:1:12 kHz`).
     pub fn describe(&self) -> String {
         match *self {
-            Weighting::HighPass { order, fc } => format!("highpass:{order}:{}", format_si(fc, "Hz", 4)),
-            Weighting::LowPass { order, fc } => format!("lowpass:{order}:{}", format_si(fc, "Hz", 4)),
+            Weighting::HighPass { order, fc } => {
+                format!("highpass:{order}:{}", format_si(fc, "Hz", 4))
+            }
+            Weighting::LowPass { order, fc } => {
+                format!("lowpass:{order}:{}", format_si(fc, "Hz", 4))
+            }
         }
     }
 }
@@ -110,7 +121,9 @@ impl Band {
     /// Parse `FROM:TO` with units (`12k:20M`).
     pub fn parse(text: &str) -> Result<Self> {
         let (a, b) = text.split_once(':').ok_or_else(|| {
-            Error::invalid(format!("band '{text}' is not of the form FROM:TO (e.g. 12k:20M)"))
+            Error::invalid(format!(
+                "band '{text}' is not of the form FROM:TO (e.g. 12k:20M)"
+            ))
         })?;
         let band = Band {
             from: parse_frequency(a)?,
@@ -280,7 +293,7 @@ pub fn integrate_band(
                 let f = u.exp();
                 va * (f / a).powf(e) * f * setup.filters.iter().map(|w| w.h2(f)).product::<f64>()
             };
-            adaptive(&g, a.ln(), b.ln(), 1e-10)
+            adaptive(&g, a.ln(), b.ln(), 1e-9)
         };
     }
     let inside: Vec<&Spur> = setup
@@ -324,7 +337,13 @@ mod tests {
         assert!(Weighting::parse("bandpass:1:1k").is_err());
         assert!(Weighting::parse("highpass:0:1k").is_err());
         assert!(Weighting::parse("highpass:1").is_err());
-        assert_eq!(Band::parse("12k:20M").unwrap(), Band { from: 12e3, to: 20e6 });
+        assert_eq!(
+            Band::parse("12k:20M").unwrap(),
+            Band {
+                from: 12e3,
+                to: 20e6
+            }
+        );
         assert!(Band::parse("20M:12k").is_err());
         assert!(Band::parse("12k").is_err());
     }
@@ -347,8 +366,14 @@ mod tests {
             ],
             ..Default::default()
         };
-        let band = Band { from: 100.0, to: 5e6 };
-        let got = integrate_band(&s, band, &setup, None).unwrap().rms_rad.powi(2);
+        let band = Band {
+            from: 100.0,
+            to: 5e6,
+        };
+        let got = integrate_band(&s, band, &setup, None)
+            .unwrap()
+            .rms_rad
+            .powi(2);
         let t = LogLog::new(&s.f, &s.to(Quantity::Sphi).unwrap().values).unwrap();
         let n = 2_000_000;
         let l = (band.to / band.from).ln();

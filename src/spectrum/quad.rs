@@ -2,6 +2,7 @@
 //! recurrence (Golub & Welsch's classical nodes found by Newton's method on
 //! P_n), and an adaptive bisection on top of them.
 
+use super::gt;
 use std::sync::OnceLock;
 
 /// Nodes and weights of the n-point Gauss–Legendre rule on [−1, 1].
@@ -48,23 +49,33 @@ pub fn gl8(g: &impl Fn(f64) -> f64, a: f64, b: f64) -> f64 {
     let (x, w) = rule8();
     let h = 0.5 * (b - a);
     let c = 0.5 * (a + b);
-    x.iter().zip(w).map(|(xi, wi)| wi * g(c + h * xi)).sum::<f64>() * h
+    x.iter()
+        .zip(w)
+        .map(|(xi, wi)| wi * g(c + h * xi))
+        .sum::<f64>()
+        * h
 }
 
 /// ∫_a^b g by adaptive bisection of the 8-point rule until two levels agree
-/// to `rel` (relative) or the interval is split 30 times.
+/// to `rel` (relative) or the interval has been halved [`MAX_DEPTH`] times.
+/// Ask for a `rel` well above the integrand's own rounding noise (an
+/// integrand evaluated at sin(10⁷π·…) is good to ~10⁻⁹ only), or every
+/// branch runs to the depth limit.
+pub const MAX_DEPTH: u32 = 18;
+
+/// See [`MAX_DEPTH`].
 pub fn adaptive(g: &impl Fn(f64) -> f64, a: f64, b: f64, rel: f64) -> f64 {
     fn rec(g: &impl Fn(f64) -> f64, a: f64, b: f64, whole: f64, rel: f64, depth: u32) -> f64 {
         let m = 0.5 * (a + b);
         let l = gl8(g, a, m);
         let r = gl8(g, m, b);
         let two = l + r;
-        if depth >= 30 || (two - whole).abs() <= rel * two.abs() || !(two.is_finite()) {
+        if depth >= MAX_DEPTH || (two - whole).abs() <= rel * two.abs() || !(two.is_finite()) {
             return two;
         }
         rec(g, a, m, l, rel, depth + 1) + rec(g, m, b, r, rel, depth + 1)
     }
-    if !(b > a) {
+    if !gt(b, a) {
         return 0.0;
     }
     let whole = gl8(g, a, b);
@@ -83,8 +94,16 @@ mod tests {
             let sw: f64 = w.iter().sum();
             assert!((sw - 2.0).abs() < 1e-13, "n={n}");
             let d = 2 * n - 1;
-            let got: f64 = x.iter().zip(&w).map(|(xi, wi)| wi * xi.powi(d as i32 - 1)).sum();
-            let want = if (d - 1) % 2 == 0 { 2.0 / d as f64 } else { 0.0 };
+            let got: f64 = x
+                .iter()
+                .zip(&w)
+                .map(|(xi, wi)| wi * xi.powi(d as i32 - 1))
+                .sum();
+            let want = if (d - 1) % 2 == 0 {
+                2.0 / d as f64
+            } else {
+                0.0
+            };
             assert!((got - want).abs() < 1e-12, "n={n}");
         }
     }

@@ -39,6 +39,7 @@
 //! Every piece is checked against [`variance_reference`], a plain
 //! Gauss–Legendre integration of the textbook integrand over every half period.
 
+use super::gt;
 use super::loglog::{Extend, LogLog};
 use super::quad::{adaptive, gl8};
 use super::{Quantity, Spectrum};
@@ -145,7 +146,8 @@ pub fn sigma_points(
     taus.par_iter()
         .map(|&tau| {
             let (tau, n) = tau_and_n(tau, opt.tau0, est)?;
-            let (var, below, truncated) = Integrator::new(&sy, est, tau, opt.tau0, n, opt.f_h).run();
+            let (var, below, truncated) =
+                Integrator::new(&sy, est, tau, opt.tau0, n, opt.f_h).run();
             let var = if est == SigmaKind::Tdev {
                 var * tau * tau / 3.0
             } else {
@@ -166,7 +168,12 @@ pub fn sigma_points(
 /// factor 1.25 wide in log f below 1/(4τ) (from 10⁻⁹/τ, whose tail is
 /// neglected) and on every quarter period 1/(4τ) above, split at the table's
 /// knots. Slow; for tests.
-pub fn variance_reference(s: &Spectrum, est: SigmaKind, tau: f64, opt: SigmaOptions) -> Result<f64> {
+pub fn variance_reference(
+    s: &Spectrum,
+    est: SigmaKind,
+    tau: f64,
+    opt: SigmaOptions,
+) -> Result<f64> {
     let sy = prepare(s, opt)?;
     let (tau, n) = tau_and_n(tau, opt.tau0, est)?;
     let it = Integrator::new(&sy, est, tau, opt.tau0, n, opt.f_h);
@@ -184,7 +191,12 @@ pub fn variance_reference(s: &Spectrum, est: SigmaKind, tau: f64, opt: SigmaOpti
         k += 1.0;
     }
     cuts.push(opt.f_h);
-    cuts.extend(sy.offsets().iter().copied().filter(|&x| x < opt.f_h && x > 1e-9 / tau));
+    cuts.extend(
+        sy.offsets()
+            .iter()
+            .copied()
+            .filter(|&x| x < opt.f_h && x > 1e-9 / tau),
+    );
     cuts.sort_by(|a, b| a.total_cmp(b));
     cuts.dedup();
     let mut v: f64 = cuts.windows(2).map(|w| gl8(&g, w[0], w[1])).sum();
@@ -196,7 +208,10 @@ pub fn variance_reference(s: &Spectrum, est: SigmaKind, tau: f64, opt: SigmaOpti
 
 fn prepare(s: &Spectrum, opt: SigmaOptions) -> Result<LogLog> {
     if !(opt.tau0.is_finite() && opt.tau0 > 0.0) {
-        return Err(Error::invalid(format!("τ0 must be positive, got {} s", opt.tau0)));
+        return Err(Error::invalid(format!(
+            "τ0 must be positive, got {} s",
+            opt.tau0
+        )));
     }
     let sy = s.to(Quantity::Sy)?;
     let t = LogLog::new(&sy.f, &sy.values)?;
@@ -398,7 +413,10 @@ impl<'a> Integrator<'a> {
             // 5. average over whole periods of 1/τ0: p̄/(2π)² ∫ S_y f⁻² df.
             let pbar = 3.0 / (self.n * self.tau * self.tau) / (2.0 * PI).powi(2);
             for (a, b) in self.cut(mid_hi, tail_lo) {
-                let v = self.sy.integrate(a, b, -2.0, Extend::EndSlope).unwrap_or(0.0);
+                let v = self
+                    .sy
+                    .integrate(a, b, -2.0, Extend::EndSlope)
+                    .unwrap_or(0.0);
                 acc.add(pbar * v, b <= self.f_min);
             }
             self.near_zone(tail_lo, self.f_h, &mut acc);
@@ -413,7 +431,7 @@ impl<'a> Integrator<'a> {
 
     /// Zones 3 and 4 over [a, b] (module notes).
     fn near_zone(&self, a: f64, b: f64, acc: &mut Acc) {
-        if !(b > a) {
+        if !gt(b, a) {
             return;
         }
         // Direct intervals: [.., K_LOW/τ] and around each pole j/τ0.
@@ -483,7 +501,7 @@ impl<'a> Integrator<'a> {
                 self.direct(x0, x1, acc);
                 continue;
             }
-            let mean = qbar * adaptive(&g, x0, x1, 1e-10);
+            let mean = qbar * adaptive(&g, x0, x1, 1e-7);
             let bracket = |f: f64| {
                 let s = self.sy.eval(f, Extend::EndSlope).unwrap_or(0.0);
                 let (e, de) = self.envelope(f);
@@ -539,8 +557,10 @@ pub fn consistency(measured: &Curve, converted: &[(f64, f64)]) -> Vec<Consistenc
         .iter()
         .filter_map(|p: &Point| {
             let t = p.estimate.tau;
-            let &(_, c) = converted.iter().find(|(tc, _)| (tc - t).abs() <= 1e-6 * t)?;
-            if !(c > 0.0) {
+            let &(_, c) = converted
+                .iter()
+                .find(|(tc, _)| (tc - t).abs() <= 1e-6 * t)?;
+            if !gt(c, 0.0) {
                 return None;
             }
             let m = p.estimate.value;
@@ -588,7 +608,12 @@ mod tests {
         let fh = 1e3;
         let s = table(fh);
         let tau0 = 0.5 / fh;
-        for est in [SigmaKind::Adev, SigmaKind::Hdev, SigmaKind::Mdev, SigmaKind::Tdev] {
+        for est in [
+            SigmaKind::Adev,
+            SigmaKind::Hdev,
+            SigmaKind::Mdev,
+            SigmaKind::Tdev,
+        ] {
             for n in [1.0, 2.0, 7.0, 200.0, 2000.0, 20000.0] {
                 check(&s, est, n * tau0, tau0, fh);
             }
@@ -600,7 +625,10 @@ mod tests {
     fn fast_matches_reference_beyond_nyquist() {
         let fh = 1e3;
         let s = table(fh);
-        for (tau0, ns) in [(0.05, vec![1.0, 2.0, 8.0, 40.0]), (0.5, vec![2.0, 3.0, 16.0])] {
+        for (tau0, ns) in [
+            (0.05, vec![1.0, 2.0, 8.0, 40.0]),
+            (0.5, vec![2.0, 3.0, 16.0]),
+        ] {
             for n in ns {
                 check(&s, SigmaKind::Mdev, n * tau0, tau0, fh);
             }
@@ -617,9 +645,27 @@ mod tests {
             Some(10e6),
         )
         .unwrap();
-        let p = sigma_points(&s, SigmaKind::Adev, &[0.01, 10.0], SigmaOptions { tau0: 5e-4, f_h: 1e3 }).unwrap();
+        let p = sigma_points(
+            &s,
+            SigmaKind::Adev,
+            &[0.01, 10.0],
+            SigmaOptions {
+                tau0: 5e-4,
+                f_h: 1e3,
+            },
+        )
+        .unwrap();
         assert!(p.iter().all(|q| q.truncated && q.below_table == 0.0));
-        let q = sigma_points(&table(1e3), SigmaKind::Adev, &[1e3], SigmaOptions { tau0: 5e-4, f_h: 1e3 }).unwrap();
+        let q = sigma_points(
+            &table(1e3),
+            SigmaKind::Adev,
+            &[1e3],
+            SigmaOptions {
+                tau0: 5e-4,
+                f_h: 1e3,
+            },
+        )
+        .unwrap();
         assert!(!q[0].truncated && q[0].below_table > 0.5, "{q:?}");
     }
 
@@ -641,5 +687,36 @@ mod tests {
                 check(&s, est, n * tau0, tau0, fh);
             }
         }
+    }
+
+    #[test]
+    fn consistency_ratio_and_interval() {
+        use crate::deviation::{Curve, Estimate, Point};
+        let pt = |tau: f64, v: f64, lo: Option<f64>, hi: Option<f64>| Point {
+            lo,
+            hi,
+            ..Point::bare(Estimate {
+                tau,
+                m: tau as usize,
+                value: v,
+                terms: 10,
+            })
+        };
+        let c = Curve {
+            estimator: "oadev".into(),
+            points: vec![
+                pt(1.0, 2e-11, Some(1.8e-11), Some(2.2e-11)),
+                pt(2.0, 1.5e-11, Some(1.4e-11), Some(1.6e-11)),
+                pt(4.0, 1e-11, None, None),
+                pt(8.0, 1e-11, None, None),
+            ],
+        };
+        let conv = [(1.0, 2.1e-11), (2.0, 1.0e-11), (4.0, 1e-11)];
+        let r = consistency(&c, &conv);
+        assert_eq!(r.len(), 3);
+        assert!((r[0].ratio - 2.0 / 2.1).abs() < 1e-12);
+        assert_eq!(r[0].inside, Some(true));
+        assert_eq!(r[1].inside, Some(false));
+        assert_eq!(r[2].inside, None);
     }
 }

@@ -245,54 +245,65 @@ pub fn welch(rec: &PhaseRecord, opt: &WelchOptions) -> Result<Welch> {
     // A_k = (Z_k + conj Z_{L−k})/2, B_k = (Z_k − conj Z_{L−k})/(2i).
     let pairs: Vec<&[usize]> = starts.chunks(2).collect();
     let x = &rec.x;
-    let acc = pairs
-        .par_iter()
-        .fold(
-            || (vec![0.0f64; half], Vec::<Complex<f64>>::new(), Vec::<Complex<f64>>::new()),
-            |(mut acc, mut buf, mut scratch), pair| {
-                let mut a: Vec<f64> = x[pair[0]..pair[0] + l].to_vec();
-                detrend(&mut a);
-                let b: Option<Vec<f64>> = pair.get(1).map(|&s| {
-                    let mut b = x[s..s + l].to_vec();
-                    detrend(&mut b);
-                    b
-                });
-                buf.clear();
-                buf.extend((0..l).map(|n| {
-                    Complex::new(a[n] * w[n], b.as_ref().map_or(0.0, |b| b[n] * w[n]))
-                }));
-                scratch.resize(fft.get_inplace_scratch_len(), Complex::new(0.0, 0.0));
-                fft.process_with_scratch(&mut buf, &mut scratch);
-                for (k, slot) in acc.iter_mut().enumerate().skip(1) {
-                    let zk = buf[k];
-                    let zr = buf[l - k].conj();
-                    let ak = (zk + zr) * 0.5;
-                    *slot += ak.norm_sqr();
-                    if b.is_some() {
-                        let bk = (zk - zr) * Complex::new(0.0, -0.5);
-                        *slot += bk.norm_sqr();
+    let acc =
+        pairs
+            .par_iter()
+            .fold(
+                || {
+                    (
+                        vec![0.0f64; half],
+                        Vec::<Complex<f64>>::new(),
+                        Vec::<Complex<f64>>::new(),
+                    )
+                },
+                |(mut acc, mut buf, mut scratch), pair| {
+                    let mut a: Vec<f64> = x[pair[0]..pair[0] + l].to_vec();
+                    detrend(&mut a);
+                    let b: Option<Vec<f64>> = pair.get(1).map(|&s| {
+                        let mut b = x[s..s + l].to_vec();
+                        detrend(&mut b);
+                        b
+                    });
+                    buf.clear();
+                    buf.extend((0..l).map(|n| {
+                        Complex::new(a[n] * w[n], b.as_ref().map_or(0.0, |b| b[n] * w[n]))
+                    }));
+                    scratch.resize(fft.get_inplace_scratch_len(), Complex::new(0.0, 0.0));
+                    fft.process_with_scratch(&mut buf, &mut scratch);
+                    for (k, slot) in acc.iter_mut().enumerate().skip(1) {
+                        let zk = buf[k];
+                        let zr = buf[l - k].conj();
+                        let ak = (zk + zr) * 0.5;
+                        *slot += ak.norm_sqr();
+                        if b.is_some() {
+                            let bk = (zk - zr) * Complex::new(0.0, -0.5);
+                            *slot += bk.norm_sqr();
+                        }
                     }
-                }
-                (acc, buf, scratch)
-            },
-        )
-        .map(|t| t.0)
-        .reduce(
-            || vec![0.0f64; half],
-            |mut a, b| {
-                for (x, y) in a.iter_mut().zip(b) {
-                    *x += y;
-                }
-                a
-            },
-        );
+                    (acc, buf, scratch)
+                },
+            )
+            .map(|t| t.0)
+            .reduce(
+                || vec![0.0f64; half],
+                |mut a, b| {
+                    for (x, y) in a.iter_mut().zip(b) {
+                        *x += y;
+                    }
+                    a
+                },
+            );
     let nseg = starts.len() as f64;
     if starts.is_empty() {
         return Err(Error::insufficient("no segment fits in the record"));
     }
     let df = 1.0 / (l as f64 * rec.tau0);
     let scale = 2.0 * rec.tau0 / (sw2 * nseg);
-    let k0 = opt.window.main_lobe_bins().min(half.saturating_sub(2)).max(1);
+    let k0 = opt
+        .window
+        .main_lobe_bins()
+        .min(half.saturating_sub(2))
+        .max(1);
     let f: Vec<f64> = (k0..half).map(|k| k as f64 * df).collect();
     let sx: Vec<f64> = (k0..half).map(|k| acc[k] * scale).collect();
     Ok(Welch {
@@ -401,7 +412,9 @@ mod tests {
         let mut s = seed;
         (0..n)
             .map(|_| {
-                s = s.wrapping_mul(6364136223846793005).wrapping_add(1442695040888963407);
+                s = s
+                    .wrapping_mul(6364136223846793005)
+                    .wrapping_add(1442695040888963407);
                 (s >> 11) as f64 / (1u64 << 53) as f64 - 0.5
             })
             .collect()
@@ -431,9 +444,16 @@ mod tests {
         }
         let x = lcg(96, 9);
         let rec = PhaseRecord::new(x.clone(), 1.0).unwrap();
-        let w = welch(&rec, &WelchOptions { segment: Some(32), ..Default::default() }).unwrap();
+        let w = welch(
+            &rec,
+            &WelchOptions {
+                segment: Some(32),
+                ..Default::default()
+            },
+        )
+        .unwrap();
         assert_eq!(w.segments, 5);
-        let mut mean = vec![0.0; 15];
+        let mut mean = [0.0; 15];
         for s in 0..5 {
             let r = periodogram_reference(&x[s * 16..s * 16 + 32], 1.0, Window::Hann);
             for (m, v) in mean.iter_mut().zip(r) {
@@ -449,7 +469,14 @@ mod tests {
     #[test]
     fn enbw_of_windows() {
         let rec = PhaseRecord::new(lcg(256, 1), 0.5).unwrap();
-        let w = welch(&rec, &WelchOptions { segment: Some(256), ..Default::default() }).unwrap();
+        let w = welch(
+            &rec,
+            &WelchOptions {
+                segment: Some(256),
+                ..Default::default()
+            },
+        )
+        .unwrap();
         assert!((w.enbw_hz / w.resolution_hz - 1.5).abs() < 1e-12);
         let r = welch(
             &rec,
@@ -469,12 +496,26 @@ mod tests {
         x[300] = f64::NAN;
         x[301] = f64::NAN;
         let rec = PhaseRecord::new(x, 1.0).unwrap();
-        let w = welch(&rec, &WelchOptions { segment: Some(128), ..Default::default() }).unwrap();
+        let w = welch(
+            &rec,
+            &WelchOptions {
+                segment: Some(128),
+                ..Default::default()
+            },
+        )
+        .unwrap();
         // Stretch 0..300 holds 3 segments, 302..1000 (698) holds 9.
         assert_eq!(w.segments, 3 + 9);
         assert_eq!(w.stretches, 2);
         assert!(w.gap_note().contains("free of gaps"));
-        assert!(welch(&rec, &WelchOptions { segment: Some(800), ..Default::default() }).is_err());
+        assert!(welch(
+            &rec,
+            &WelchOptions {
+                segment: Some(800),
+                ..Default::default()
+            }
+        )
+        .is_err());
         let all_gaps = PhaseRecord::new(vec![f64::NAN; 100], 1.0).unwrap();
         assert!(welch(&all_gaps, &WelchOptions::default()).is_err());
     }
