@@ -109,7 +109,7 @@ pub(crate) fn mtie_pruned(p: &Prepared, m: usize) -> (f64, usize) {
     }
     // Blocks of starts: starts [j·b, min((j+1)·b, windows)), j < nstarts.
     let nstarts = windows.div_ceil(b);
-    let c = (b - 1 + m) / b;
+    let c = m.div_ceil(b);
     // Sliding extrema over sample blocks j … j + c (clamped to the record).
     let upper = sliding_range(&bmax, &bmin, c + 1, nstarts);
     let used = if p.gaps.is_none() {
