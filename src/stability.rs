@@ -306,3 +306,87 @@ mod tests {
         assert!(best(&[]).is_empty());
     }
 }
+
+/// The phase-noise side of the combined short/long-τ view: σ(τ) converted
+/// from a spectrum (normally an L(f) table) for every measured curve whose
+/// estimator has a spectral form, and the consistency of the two where both
+/// exist.
+#[derive(Debug, Clone)]
+pub struct PhaseNoiseView {
+    /// One curve per convertible measured curve, named `<estimator>-from-lf`.
+    /// Points below the record's τ0 come from the table alone and carry
+    /// m = 0 and terms = 0.
+    pub curves: Vec<Curve>,
+    /// Per converted estimator: measured/converted ratio and whether the
+    /// converted value lies in the measured interval, at every shared τ.
+    pub checks: Vec<(String, Vec<crate::spectrum::sigma::Consistency>)>,
+    /// The upper integration limit used (the table's highest offset).
+    pub f_h: f64,
+}
+
+/// Suffix of the curves converted from a phase-noise table.
+pub const FROM_LF: &str = "-from-lf";
+
+/// Convert `s` to σ(τ) beside the `measured` curves of a record sampled at
+/// `tau0` (see [`PhaseNoiseView`]). The τ values are the measured ones up to
+/// 1/(the table's lowest offset), plus octaves below τ0 down to 1/f_h (at
+/// most 14 octaves), so the view shows where the short-τ (phase-noise) and
+/// long-τ (counter) sides meet. σ²(τ) = ∫ S_y(f)|H(f)|² df up to f_h, the
+/// table's highest offset ([`crate::spectrum::sigma::sigma_from_spectrum`]).
+///
+/// Where white or flicker PM dominates, σ(τ) depends on the measurement
+/// bandwidth, so the two sides may differ there without either being wrong.
+pub fn from_phase_noise(
+    measured: &[Curve],
+    s: &crate::spectrum::Spectrum,
+    tau0: f64,
+) -> Result<PhaseNoiseView> {
+    use crate::deviation::{Estimate, Point};
+    use crate::spectrum::sigma::{consistency, sigma_from_spectrum, SigmaKind};
+    let (f_lo, f_h) = s.range();
+    let tau_max = 1.0 / f_lo * (1.0 + 1e-9);
+    let k_min = ((1.0 / (f_h * tau0)).log2().ceil() as i32).clamp(-14, 0);
+    let mut curves = Vec::new();
+    let mut checks = Vec::new();
+    for c in measured {
+        let Ok(kind) = SigmaKind::from_name(&c.estimator) else {
+            continue;
+        };
+        let mut taus: Vec<f64> = (k_min..0).map(|k| tau0 * 2f64.powi(k)).collect();
+        taus.extend(c.points.iter().map(|p| p.estimate.tau));
+        taus.retain(|&t| t <= tau_max);
+        taus.sort_by(f64::total_cmp);
+        taus.dedup();
+        if taus.is_empty() {
+            continue;
+        }
+        let converted = sigma_from_spectrum(s, kind, &taus, tau0, f_h)?;
+        checks.push((c.estimator.clone(), consistency(c, &converted)));
+        curves.push(Curve {
+            estimator: format!("{}{FROM_LF}", c.estimator),
+            points: converted
+                .iter()
+                .map(|&(tau, value)| {
+                    let m = (tau / tau0).round();
+                    let m = if tau < tau0 * (1.0 - 1e-9) { 0 } else { m as usize };
+                    Point::bare(Estimate {
+                        tau,
+                        m,
+                        value,
+                        terms: 0,
+                    })
+                })
+                .collect(),
+        });
+    }
+    if curves.is_empty() {
+        return Err(Error::insufficient(format!(
+            "no requested estimator can be converted from the phase-noise table (adev, oadev, mdev, tdev, hdev and ohdev can), or the table's offsets ({f_lo} – {f_h} Hz) support no τ"
+        )));
+    }
+    Ok(PhaseNoiseView {
+        curves,
+        checks,
+        f_h,
+    })
+}

@@ -9,17 +9,11 @@ use tauwise::simulate::{simulate_phase, SimSpec};
 use tauwise::stats::{annotate, StatsOptions};
 
 /// IEEE Std 1139-2008 (CHECKS.md C): AVAR of each simulated term from its
-/// h_α. For WPM and FPM the bandwidth is that of the simulated discrete
-/// process: WPM f_h = 1/(2τ0) exactly; FPM behaves as the table with
-/// f_h = 2/(πτ0) (simulate.rs module notes: the discrete PSD
-/// 1/(2 sin πfτ0) exceeds 1/(2πfτ0) near Nyquist by ln(4/π) in the
-/// integral), within 6 % in variance at m ≥ 16.
+/// h_α, with f_h = 1/(2τ0): the simulator shapes WPM and FPM so that their
+/// phase PSD follows the power law exactly up to that cut-off (simulate.rs
+/// module notes, "Short-τ fidelity").
 fn true_sigma(alpha: i32, h: f64, tau: f64, tau0: f64) -> f64 {
-    let f_h = if alpha == 1 {
-        2.0 / (std::f64::consts::PI * tau0)
-    } else {
-        0.5 / tau0
-    };
+    let f_h = 0.5 / tau0;
     let mut model = PowerLaw::zero(f_h);
     model.set(alpha, h);
     model.avar(tau).sqrt()
