@@ -330,7 +330,7 @@ pub const FROM_LF: &str = "-from-lf";
 /// Convert `s` to σ(τ) beside the `measured` curves of a record sampled at
 /// `tau0` (see [`PhaseNoiseView`]). The τ values are the measured ones up to
 /// 1/(the table's lowest offset), plus octaves below τ0 down to 1/f_h (at
-/// most 14 octaves), so the view shows where the short-τ (phase-noise) and
+/// most 14 octaves; not for MDEV/TDEV, which need τ = nτ0), so the view shows where the short-τ (phase-noise) and
 /// long-τ (counter) sides meet. σ²(τ) = ∫ S_y(f)|H(f)|² df up to f_h, the
 /// table's highest offset ([`crate::spectrum::sigma::sigma_from_spectrum`]).
 ///
@@ -352,7 +352,14 @@ pub fn from_phase_noise(
         let Ok(kind) = SigmaKind::from_name(&c.estimator) else {
             continue;
         };
-        let mut taus: Vec<f64> = (k_min..0).map(|k| tau0 * 2f64.powi(k)).collect();
+        // MDEV and TDEV are defined on τ = nτ0 of the record's sampling:
+        // no points below τ0 for them.
+        let below = if matches!(kind, SigmaKind::Mdev | SigmaKind::Tdev) {
+            0
+        } else {
+            k_min
+        };
+        let mut taus: Vec<f64> = (below..0).map(|k| tau0 * 2f64.powi(k)).collect();
         taus.extend(c.points.iter().map(|p| p.estimate.tau));
         taus.retain(|&t| t <= tau_max);
         taus.sort_by(f64::total_cmp);
@@ -368,7 +375,11 @@ pub fn from_phase_noise(
                 .iter()
                 .map(|&(tau, value)| {
                     let m = (tau / tau0).round();
-                    let m = if tau < tau0 * (1.0 - 1e-9) { 0 } else { m as usize };
+                    let m = if tau < tau0 * (1.0 - 1e-9) {
+                        0
+                    } else {
+                        m as usize
+                    };
                     Point::bare(Estimate {
                         tau,
                         m,

@@ -244,3 +244,95 @@ fn best_curve_picks_the_narrowest_interval() {
     assert!(table.contains("best — "));
     assert!(table.contains("* bias-corrected"));
 }
+
+/// The combined view: a white-FM record and an L(f) table made from the same
+/// model (IEEE Std 1139: S_φ = (ν0/f)² h0 for white FM) agree where they
+/// meet, and the chart is written.
+#[test]
+fn combined_view_with_a_phase_noise_table_and_a_plot() {
+    let dir = tempfile::tempdir().unwrap();
+    let rec = dir.path().join("wfm.txt");
+    let table = dir.path().join("lf.csv");
+    let plot = dir.path().join("sigma.svg");
+    let st = tauwise()
+        .args([
+            "simulate", "--model", "h0=2e-22", "--tau0", "1s", "--points", "20000",
+        ])
+        .args(["--seed", "5", "-o"])
+        .arg(&rec)
+        .status()
+        .unwrap();
+    assert!(st.success());
+    let st = tauwise()
+        .args([
+            "convert",
+            "--model",
+            "h0=2e-22,fh=1k",
+            "--carrier",
+            "10MHz",
+            "--to",
+            "lf",
+        ])
+        .args([
+            "--from",
+            "0.01",
+            "--to-offset",
+            "1k",
+            "--format",
+            "csv",
+            "-o",
+        ])
+        .arg(&table)
+        .status()
+        .unwrap();
+    assert!(st.success());
+    let out = tauwise()
+        .arg("stability")
+        .arg(&rec)
+        .args([
+            "--tau0",
+            "1s",
+            "--dev",
+            "oadev",
+            "--carrier",
+            "10MHz",
+            "--lf",
+        ])
+        .arg(&table)
+        .args(["--format", "json", "--plot"])
+        .arg(&plot)
+        .output()
+        .unwrap();
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let doc: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    let names: Vec<&str> = doc["curves"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|c| c["estimator"].as_str().unwrap())
+        .collect();
+    assert_eq!(names, ["oadev", "oadev-from-lf"]);
+    let rows = doc["consistency"][0]["points"].as_array().unwrap();
+    assert!(rows.len() >= 5, "shared τ up to 1/(0.01 Hz)");
+    // White FM is bandwidth-independent: σ_y² = h0/(2τ) on both sides
+    // (IEEE Std 1139), so the ratio stays near 1 at short τ.
+    let r0 = rows[0]["ratio"].as_f64().unwrap();
+    assert!((r0 - 1.0).abs() < 0.05, "ratio at τ0 {r0}");
+    assert_eq!(rows[0]["inside_interval"], true);
+    let svg = std::fs::read_to_string(&plot).unwrap();
+    roxmltree::Document::parse(&svg).expect("valid SVG");
+    // --lf without --carrier is a clear error.
+    let out = tauwise()
+        .arg("stability")
+        .arg(&rec)
+        .args(["--tau0", "1s", "--lf"])
+        .arg(&table)
+        .output()
+        .unwrap();
+    assert_eq!(out.status.code(), Some(1));
+    assert!(String::from_utf8_lossy(&out.stderr).contains("--lf needs --carrier"));
+}
