@@ -37,6 +37,7 @@ pub mod record;
 pub mod report;
 pub mod simulate;
 pub mod spectrum;
+pub mod stability;
 pub mod stats;
 pub mod tau;
 pub mod units;

@@ -116,10 +116,11 @@ fn solve<const N: usize>(mut a: [[f64; N]; N], mut b: [f64; N]) -> Option<[f64; 
         }
         a.swap(col, piv);
         b.swap(col, piv);
+        let pivot_row = a[col];
         for row in col + 1..N {
-            let f = a[row][col] / a[col][col];
-            for k in col..N {
-                a[row][k] -= f * a[col][k];
+            let f = a[row][col] / pivot_row[col];
+            for (v, p) in a[row].iter_mut().zip(&pivot_row).skip(col) {
+                *v -= f * p;
             }
             b[row] -= f * b[col];
         }
@@ -826,6 +827,58 @@ mod tests {
         let mean = y0 + d * 999.0 * tau0 / 2.0;
         assert!(close(s.frequency_offset.unwrap(), mean, 1e-9));
         assert!(close(s.drift.unwrap().per_day(), d * 86400.0, 1e-6));
+    }
+
+    fn record_strategy() -> impl proptest::strategy::Strategy<Value = (Record, f64)> {
+        use proptest::prelude::*;
+        (
+            proptest::collection::vec(prop_oneof![4 => -1e-6f64..1e-6, 1 => Just(f64::NAN)], 0..60),
+            any::<bool>(),
+            0.5f64..10.0,
+            0.5f64..8.0,
+        )
+            .prop_map(|(v, phase, tau0, k)| {
+                let r = if phase {
+                    Record::Phase(PhaseRecord { x: v, tau0 })
+                } else {
+                    Record::Frequency(FrequencyRecord { y: v, tau0 })
+                };
+                (r, k)
+            })
+    }
+
+    proptest::proptest! {
+        #![proptest_config(proptest::prelude::ProptestConfig { cases: 200, ..Default::default() })]
+
+        /// Any record, however short or gappy: no panic, and the documented
+        /// invariants hold.
+        #[test]
+        fn never_panics_and_keeps_invariants((r, k) in record_strategy()) {
+            let _ = summarize(&r, k);
+            if let Ok(o) = find_outliers(&r, k) {
+                let rem = remove_outliers(&r, &o);
+                proptest::prop_assert_eq!(rem.record.len(), r.len());
+                proptest::prop_assert!(rem.record.gaps() >= r.gaps());
+                proptest::prop_assert_eq!(rem.record.gaps() - r.gaps(), rem.replaced);
+            }
+            for model in [DriftModel::Linear, DriftModel::Quadratic] {
+                if let Ok(f) = fit_drift(&r, model) {
+                    let d = remove_drift(&r, &f);
+                    proptest::prop_assert_eq!(d.len(), r.len());
+                    proptest::prop_assert_eq!(d.gaps(), r.gaps());
+                }
+            }
+            let g = fill_gaps(&r);
+            proptest::prop_assert_eq!(g.record.len(), r.len());
+            proptest::prop_assert_eq!(g.record.gaps(), g.left);
+            proptest::prop_assert_eq!(g.filled + g.left, r.gaps());
+            for n in 1..4 {
+                if let Ok(d) = decimate(&r, n) {
+                    proptest::prop_assert!(d.len() >= 2);
+                    proptest::prop_assert_eq!(d.tau0(), r.tau0() * n as f64);
+                }
+            }
+        }
     }
 
     #[test]

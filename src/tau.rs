@@ -64,9 +64,11 @@ impl TauGrid {
         for part in t.split(',') {
             let p = part.trim();
             let tau = parse_duration(p).map_err(|_| {
-                Error::invalid(format!("τ grid '{t}': '{p}' is not a duration; {GRID_EXPECTED}"))
+                Error::invalid(format!(
+                    "τ grid '{t}': '{p}' is not a duration; {GRID_EXPECTED}"
+                ))
             })?;
-            if !(tau > 0.0) {
+            if tau <= 0.0 || tau.is_nan() {
                 return Err(Error::invalid(format!(
                     "τ grid '{t}': τ = '{p}' must be positive"
                 )));

@@ -50,10 +50,16 @@ fn rel(a: f64, b: f64) -> f64 {
 fn check_fast_equals_direct(x: &[f64], label: &str) {
     let rec = PhaseRecord::new(x.to_vec(), 0.5).unwrap();
     for &est in Estimator::ALL {
+        // Theo1 and TheoH live on their own τ lattice: tests/long_tau.rs.
+        if est.uses_theo_lattice() {
+            continue;
+        }
         let max_m = est.max_m(x.len());
+        // The direct modified-total forms are O(N·m²) per τ: keep m small.
+        let heavy = matches!(est, Estimator::Mtot | Estimator::Ttot | Estimator::Htot);
         let ms: Vec<usize> = [1, 2, 3, 5, 8, 13, 40, 101, max_m / 2 + 1, max_m]
             .into_iter()
-            .filter(|&m| m >= 1 && m <= max_m)
+            .filter(|&m| m >= 1 && m <= max_m && (!heavy || m <= 40 || m == max_m))
             .collect();
         let fast = compute(est, &rec, &ms);
         let mut k = 0;
@@ -70,8 +76,11 @@ fn check_fast_equals_direct(x: &[f64], label: &str) {
                     assert_eq!(f.m, m);
                     assert_eq!(f.tau, d.tau);
                     assert_eq!(f.terms, d.terms, "{label} {est} m={m}: terms");
+                    // Issue 2 asks 1e-12 of its estimators, issue 7 1e-10 of
+                    // the modified totals (their half-average detrend).
+                    let tol = if heavy { 1e-10 } else { 1e-12 };
                     assert!(
-                        rel(f.value, d.value) <= 1e-12,
+                        rel(f.value, d.value) <= tol,
                         "{label} {est} m={m}: fast {} direct {} (rel {:e})",
                         f.value,
                         d.value,
@@ -80,7 +89,11 @@ fn check_fast_equals_direct(x: &[f64], label: &str) {
                 }
             }
         }
-        assert_eq!(k, fast.len(), "{label} {est}: extra values from the fast form");
+        assert_eq!(
+            k,
+            fast.len(),
+            "{label} {est}: extra values from the fast form"
+        );
     }
 }
 
@@ -97,7 +110,10 @@ fn fast_equals_direct_without_gaps() {
 #[test]
 fn fast_equals_direct_with_gaps() {
     for (n, seed) in [(1200, 5), (901, 6)] {
-        check_fast_equals_direct(&with_gaps(random_phase(n, seed), seed), &format!("gappy N={n}"));
+        check_fast_equals_direct(
+            &with_gaps(random_phase(n, seed), seed),
+            &format!("gappy N={n}"),
+        );
     }
 }
 
@@ -132,7 +148,12 @@ fn mdev_running_sum_keeps_precision() {
     for m in [1usize, 3, 64, 1000] {
         let f = compute(Estimator::Mdev, &rec, &[m])[0];
         let d = reference::mdev(&x, 1.0, m).unwrap();
-        assert!(rel(f.value, d.value) <= 1e-12, "m={m}: {} vs {}", f.value, d.value);
+        assert!(
+            rel(f.value, d.value) <= 1e-12,
+            "m={m}: {} vs {}",
+            f.value,
+            d.value
+        );
     }
 }
 
@@ -157,7 +178,13 @@ fn constant_phase_changes_nothing() {
     let x = random_phase(1000, 31);
     let shifted: Vec<f64> = x.iter().map(|v| v + 7e-9).collect();
     for &est in Estimator::ALL {
-        assert_close(est, &values(est, &x, &MS), &values(est, &shifted, &MS), 1e-9, "constant");
+        assert_close(
+            est,
+            &values(est, &x, &MS),
+            &values(est, &shifted, &MS),
+            1e-9,
+            "constant",
+        );
     }
 }
 
@@ -168,7 +195,11 @@ fn constant_phase_changes_nothing() {
 #[test]
 fn frequency_offset_changes_nothing() {
     let x = random_phase(1000, 32);
-    let ramp: Vec<f64> = x.iter().enumerate().map(|(i, v)| v + 3e-10 * i as f64).collect();
+    let ramp: Vec<f64> = x
+        .iter()
+        .enumerate()
+        .map(|(i, v)| v + 3e-10 * i as f64)
+        .collect();
     for est in [
         Estimator::Adev,
         Estimator::Oadev,
@@ -178,7 +209,13 @@ fn frequency_offset_changes_nothing() {
         Estimator::Ohdev,
         Estimator::Totdev,
     ] {
-        assert_close(est, &values(est, &x, &MS), &values(est, &ramp, &MS), 1e-9, "ramp");
+        assert_close(
+            est,
+            &values(est, &x, &MS),
+            &values(est, &ramp, &MS),
+            1e-9,
+            "ramp",
+        );
     }
     // MTIE and TIE rms do see it (the test would notice a broken ramp).
     let a = values(Estimator::Mtie, &x, &[100]);
@@ -191,9 +228,19 @@ fn frequency_offset_changes_nothing() {
 #[test]
 fn frequency_drift_leaves_hadamard_unchanged() {
     let x = random_phase(1000, 33);
-    let drift: Vec<f64> = x.iter().enumerate().map(|(i, v)| v + 4e-12 * (i * i) as f64).collect();
+    let drift: Vec<f64> = x
+        .iter()
+        .enumerate()
+        .map(|(i, v)| v + 4e-12 * (i * i) as f64)
+        .collect();
     for est in [Estimator::Hdev, Estimator::Ohdev] {
-        assert_close(est, &values(est, &x, &MS), &values(est, &drift, &MS), 1e-8, "drift");
+        assert_close(
+            est,
+            &values(est, &x, &MS),
+            &values(est, &drift, &MS),
+            1e-8,
+            "drift",
+        );
     }
     let a = values(Estimator::Oadev, &x, &[32]);
     let b = values(Estimator::Oadev, &drift, &[32]);
@@ -241,7 +288,13 @@ fn mtie_of_a_sinusoid() {
     }
     for e in compute(Estimator::Mtie, &rec, &[2, 10, 30, 48]) {
         let expect = 2.0 * a * (std::f64::consts::PI * e.tau / period).sin();
-        assert!(rel(e.value, expect) < 1e-12, "τ={}: {} vs {}", e.tau, e.value, expect);
+        assert!(
+            rel(e.value, expect) < 1e-12,
+            "τ={}: {} vs {}",
+            e.tau,
+            e.value,
+            expect
+        );
     }
 }
 
@@ -279,10 +332,13 @@ fn compute_leaves_out_what_cannot_be_computed() {
 fn max_m_matches_the_definitions() {
     for n in [3usize, 4, 7, 10, 31, 32, 33] {
         let x = random_phase(n, n as u64);
-        for &est in Estimator::ALL {
+        for &est in Estimator::ALL.iter().filter(|e| !e.uses_theo_lattice()) {
             let mm = est.max_m(n);
             if mm >= 1 {
-                assert!(reference::evaluate(est, &x, 1.0, mm).is_some(), "{est} N={n} m={mm}");
+                assert!(
+                    reference::evaluate(est, &x, 1.0, mm).is_some(),
+                    "{est} N={n} m={mm}"
+                );
             }
             assert!(
                 reference::evaluate(est, &x, 1.0, mm + 1).is_none(),
@@ -302,7 +358,10 @@ fn registry() {
         assert_eq!(e.min_m(), 1);
     }
     let err = Estimator::from_name("allan").unwrap_err().to_string();
-    assert!(err.contains("allan") && err.contains("oadev") && err.contains("tierms"), "{err}");
+    assert!(
+        err.contains("allan") && err.contains("oadev") && err.contains("tierms"),
+        "{err}"
+    );
     assert_eq!(
         Estimator::parse_list("oadev, mdev,oadev").unwrap(),
         vec![Estimator::Oadev, Estimator::Mdev]
@@ -320,29 +379,50 @@ fn registry() {
 
 #[test]
 fn tau_grids() {
-    assert_eq!(TauGrid::parse(" Octave ").unwrap().ms(1.0, 100).unwrap(), vec![1, 2, 4, 8, 16, 32, 64]);
+    assert_eq!(
+        TauGrid::parse(" Octave ").unwrap().ms(1.0, 100).unwrap(),
+        vec![1, 2, 4, 8, 16, 32, 64]
+    );
     assert_eq!(
         TauGrid::parse("decade").unwrap().ms(1.0, 500).unwrap(),
         vec![1, 2, 5, 10, 20, 50, 100, 200, 500]
     );
-    assert_eq!(TauGrid::parse("all").unwrap().ms(1.0, 5).unwrap(), vec![1, 2, 3, 4, 5]);
+    assert_eq!(
+        TauGrid::parse("all").unwrap().ms(1.0, 5).unwrap(),
+        vec![1, 2, 3, 4, 5]
+    );
     // log:10 → round(10^(k/10)), duplicates dropped.
     assert_eq!(
         TauGrid::parse("log:10").unwrap().ms(1.0, 100).unwrap(),
         vec![1, 2, 3, 4, 5, 6, 8, 10, 13, 16, 20, 25, 32, 40, 50, 63, 79, 100]
     );
-    assert_eq!(TauGrid::parse("log:1").unwrap().ms(1.0, 999).unwrap(), vec![1, 10, 100]);
+    assert_eq!(
+        TauGrid::parse("log:1").unwrap().ms(1.0, 999).unwrap(),
+        vec![1, 10, 100]
+    );
     let g = TauGrid::parse("1,10,100s,1h").unwrap();
     assert_eq!(g.ms(1.0, 10_000).unwrap(), vec![1, 10, 100, 3600]);
     assert_eq!(g.ms(0.5, 10_000).unwrap(), vec![2, 20, 200, 7200]);
     // Too long for the record: left out, like any τ that cannot be computed.
     assert_eq!(g.ms(1.0, 1000).unwrap(), vec![1, 10, 100]);
-    assert_eq!(TauGrid::parse("10,1,10").unwrap().ms(1.0, 50).unwrap(), vec![1, 10]);
-    assert_eq!(TauGrid::parse("100ms").unwrap().ms(0.001, 1000).unwrap(), vec![100]);
-    let e = TauGrid::parse("1.5,3").unwrap().ms(1.0, 100).unwrap_err().to_string();
+    assert_eq!(
+        TauGrid::parse("10,1,10").unwrap().ms(1.0, 50).unwrap(),
+        vec![1, 10]
+    );
+    assert_eq!(
+        TauGrid::parse("100ms").unwrap().ms(0.001, 1000).unwrap(),
+        vec![100]
+    );
+    let e = TauGrid::parse("1.5,3")
+        .unwrap()
+        .ms(1.0, 100)
+        .unwrap_err()
+        .to_string();
     assert!(e.contains("1.5") && e.contains("whole multiple"), "{e}");
     assert!(TauGrid::parse("0.5").unwrap().ms(1.0, 100).is_err());
-    for bad in ["", "weekly", "log:", "log:0", "log:x", "log:5000", "1,,2", "-5", "0", "1,2,abc"] {
+    for bad in [
+        "", "weekly", "log:", "log:0", "log:x", "log:5000", "1,,2", "-5", "0", "1,2,abc",
+    ] {
         assert!(TauGrid::parse(bad).is_err(), "'{bad}' should be rejected");
     }
 }

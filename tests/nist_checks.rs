@@ -9,7 +9,9 @@ use tauwise::{FrequencyRecord, PhaseRecord};
 /// NBS Monograph 140 nine-point fractional-frequency set, τ0 = 1 s, as
 /// tabulated in NIST SP 1065 (CHECKS.md A; values from memory, confirmed by
 /// an independent computation from the handbook's definitions).
-const NINE: [f64; 9] = [892.0, 809.0, 823.0, 798.0, 671.0, 644.0, 883.0, 903.0, 677.0];
+const NINE: [f64; 9] = [
+    892.0, 809.0, 823.0, 798.0, 671.0, 644.0, 883.0, 903.0, 677.0,
+];
 
 /// |v − reference| within half a unit in the 7th significant digit of the
 /// reference (the precision the handbook prints).

@@ -472,6 +472,15 @@ fn columns() {
     };
     let s = read(text, &opts).unwrap();
     assert_eq!(s.record.tau0(), 1.0);
+    // A first reading that is missing does not move the value column.
+    let s = read(b"t,x\n0,NaN\n1,2\n2,3\n", &SeriesOptions::default()).unwrap();
+    assert_eq!(s.record.len(), 3);
+    assert_eq!(s.record.gaps(), 1);
+    let s = read(b"t,x\n0,\n1,2\n2,3\n", &SeriesOptions::default()).unwrap();
+    assert_eq!((s.record.len(), s.record.gaps()), (3, 1));
+    // A trailing delimiter on every line adds no column.
+    let s = read(b"0,1,\n1,2,\n", &SeriesOptions::default()).unwrap();
+    assert_eq!(values(&s.record), vec![1.0, 2.0]);
     // A trailing text column does not hide the last numeric column.
     let s = read(b"0,5,ok\n1,6,ok\n", &SeriesOptions::default()).unwrap();
     assert_eq!(values(&s.record), vec![5.0, 6.0]);
@@ -493,6 +502,17 @@ fn delimiters_give_the_same_record() {
     let n = f64::NAN;
     for r in &results {
         assert!(same(r, &[1.5e-9, 2.5e-9, -1e-9, n, 3e-9]), "{r:?}");
+    }
+}
+
+#[test]
+fn decimal_comma_with_semicolons_or_tabs() {
+    for text in [
+        &b"Zeit;Phase\n0;1,5e-9\n1;2,25e-9\n"[..],
+        &b"0\t1,5e-9\n1\t2,25e-9\n"[..],
+    ] {
+        let s = read(text, &SeriesOptions::default()).unwrap();
+        assert_eq!(values(&s.record), vec![1.5e-9, 2.25e-9]);
     }
 }
 
@@ -688,6 +708,56 @@ proptest! {
 
     #[test]
     fn random_text_never_panics(text in "[0-9eE+\\-.,;: \t\nNaTZ#:x]{0,300}") {
+        for opts in all_option_sets() {
+            let _ = read(text.as_bytes(), &opts);
+        }
+    }
+
+    /// Round trip against a directly built grid: random values (some
+    /// missing), a random separator, timestamps with random jumps of k·τ0.
+    #[test]
+    fn written_records_read_back_exactly(
+        rows in proptest::collection::vec((-1e3f64..1e3, 1u64..4, 0u8..6), 2..80),
+        sep in 0usize..4,
+        tau0 in prop_oneof![Just(1.0f64), Just(0.25), Just(10.0)],
+        given_tau0 in any::<bool>(),
+    ) {
+        let sep = [",", ";", "\t", "  "][sep];
+        let mut text = String::from("# round trip\ntime{s}value\n").replace("{s}", sep);
+        let mut want: Vec<f64> = Vec::new();
+        let mut k_total = 0u64;
+        for (i, &(v, k, miss)) in rows.iter().enumerate() {
+            if i > 0 {
+                // The first spacing is one τ0, so that the median is τ0.
+                let k = if i == 1 { 1 } else { k };
+                for _ in 1..k {
+                    want.push(f64::NAN);
+                }
+                k_total += k;
+            }
+            let field = if miss == 0 { "NaN".to_string() } else { format!("{v:e}") };
+            want.push(if miss == 0 { f64::NAN } else { v });
+            text.push_str(&format!("{}{sep}{field}\n", k_total as f64 * tau0));
+        }
+        // The median spacing is τ0 only when at least half the steps are 1.
+        let steps: Vec<u64> = rows.iter().enumerate().skip(1)
+            .map(|(i, r)| if i == 1 { 1 } else { r.1 }).collect();
+        let ones = steps.iter().filter(|&&k| k == 1).count();
+        prop_assume!(given_tau0 || 2 * ones > steps.len());
+        prop_assume!(want.iter().any(|v| !v.is_nan()));
+        let opts = SeriesOptions {
+            tau0: given_tau0.then_some(tau0),
+            time_column: Some(1),
+            ..Default::default()
+        };
+        let s = read(text.as_bytes(), &opts).unwrap();
+        prop_assert_eq!(s.record.tau0(), tau0);
+        prop_assert!(same(&values(&s.record), &want));
+        prop_assert_eq!(s.info.inserted_gaps, want.len() - rows.len());
+    }
+
+    #[test]
+    fn random_unicode_never_panics(text in "(\\PC|[0-9,;\t \n:-]){0,200}") {
         for opts in all_option_sets() {
             let _ = read(text.as_bytes(), &opts);
         }

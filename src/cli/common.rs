@@ -59,7 +59,7 @@ impl InputArgs {
         let tau0 = match &self.tau0 {
             Some(t) => {
                 let v = tauwise::units::parse_duration(t)?;
-                if !(v > 0.0) {
+                if v.is_nan() || v <= 0.0 {
                     return Err(Error::invalid(format!(
                         "--tau0 {t}: expected a positive sampling interval (e.g. 1s, 100ms)"
                     )));
@@ -75,7 +75,7 @@ impl InputArgs {
         let carrier = match &self.carrier {
             Some(c) => {
                 let v = tauwise::units::parse_frequency(c)?;
-                if !(v > 0.0) {
+                if v.is_nan() || v <= 0.0 {
                     return Err(Error::invalid(format!(
                         "--carrier {c}: expected a positive frequency (e.g. 10MHz)"
                     )));

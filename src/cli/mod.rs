@@ -5,11 +5,16 @@ use clap::{Parser, Subcommand};
 
 pub mod common;
 pub mod convert;
+pub mod holdover;
 pub mod inspect;
 pub mod jitter;
+pub mod noise;
 pub mod prepare;
+pub mod report;
 pub mod simulate;
 pub mod spectrum;
+pub mod stability;
+pub mod wander;
 
 /// Oscillator and clock stability analysis.
 #[derive(Debug, Parser)]
@@ -28,12 +33,22 @@ pub enum Command {
     Prepare(prepare::Args),
     /// Synthetic power-law noise records (seeded).
     Simulate(simulate::SimulateArgs),
+    /// Noise type per τ and the fitted power-law model.
+    Noise(noise::Args),
+    /// One self-contained HTML report for a device under test.
+    Report(report::Args),
+    /// σ(τ) curves with confidence intervals and noise type.
+    Stability(stability::Args),
     /// PSD of a time record as L(f), S_φ, S_y, S_x (Welch's method).
     Spectrum(spectrum::Args),
     /// Convert between phase-noise tables, power-law models and σ(τ).
     Convert(convert::Args),
     /// Integrated phase jitter over offset bands, with optional weighting.
     Jitter(jitter::Args),
+    /// MTIE, TDEV and TIE statistics against wander masks.
+    Wander(wander::Args),
+    /// Time error predicted over a holdover span, against a budget.
+    Holdover(holdover::Args),
 }
 
 /// What a subcommand returns to `main` when it did not fail.
@@ -58,9 +73,14 @@ pub fn main() -> i32 {
         Command::Inspect(a) => inspect::run(a),
         Command::Prepare(a) => prepare::run(a),
         Command::Simulate(a) => simulate::run(a),
+        Command::Report(a) => report::run(a),
+        Command::Stability(a) => stability::run(a),
+        Command::Noise(a) => noise::run(a),
         Command::Spectrum(a) => spectrum::run(a),
         Command::Convert(a) => convert::run(a),
         Command::Jitter(a) => jitter::run(a),
+        Command::Wander(a) => wander::run(a),
+        Command::Holdover(a) => holdover::run(a),
     };
     match result {
         Ok(Outcome::Done) => 0,

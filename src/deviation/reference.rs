@@ -70,7 +70,12 @@ pub fn mdev(x: &[f64], tau0: f64, m: usize) -> Option<Estimate> {
         }
     }
     let mf = m as f64;
-    est(tau, m, (s / (2.0 * mf * mf * tau * tau * n as f64)).sqrt(), n)
+    est(
+        tau,
+        m,
+        (s / (2.0 * mf * mf * tau * tau * n as f64)).sqrt(),
+        n,
+    )
 }
 
 /// TDEV (NIST SP 1065 eq. 17): τ/√3 · MDEV.
@@ -125,8 +130,8 @@ pub fn totdev(x: &[f64], tau0: f64, m: usize) -> Option<Estimate> {
     }
     let tau = m as f64 * tau0;
     let ext = n - 2; // reflected samples on each side
-    // star[k + ext] is x*_k (0-based k from −ext to n−1+ext), with the
-    // record indices it reads.
+                     // star[k + ext] is x*_k (0-based k from −ext to n−1+ext), with the
+                     // record indices it reads.
     let mut star = Vec::with_capacity(n + 2 * ext);
     for j in (1..=ext).rev() {
         star.push((2.0 * x[0] - x[j], 0usize, j));
@@ -185,7 +190,9 @@ pub fn tierms(x: &[f64], tau0: f64, m: usize) -> Option<Estimate> {
     est(m as f64 * tau0, m, (s / n as f64).sqrt(), n)
 }
 
-/// Dispatch by estimator, for tests that loop over the registry.
+/// Dispatch by estimator, for tests that loop over the registry. `m` is the
+/// estimator's own averaging factor (for `theo1` the even Theo1 factor);
+/// `theoh` is a hybrid of two direct forms and has no single one (None).
 pub fn evaluate(est_: super::Estimator, x: &[f64], tau0: f64, m: usize) -> Option<Estimate> {
     use super::Estimator as E;
     match est_ {
@@ -196,7 +203,101 @@ pub fn evaluate(est_: super::Estimator, x: &[f64], tau0: f64, m: usize) -> Optio
         E::Hdev => hdev(x, tau0, m),
         E::Ohdev => ohdev(x, tau0, m),
         E::Totdev => totdev(x, tau0, m),
+        E::Mtot => mtot(x, tau0, m),
+        E::Ttot => ttot(x, tau0, m),
+        E::Htot => htot(x, tau0, m),
+        E::Theo1 => theo1(x, tau0, m),
+        E::Theoh => None,
         E::Mtie => mtie(x, tau0, m),
         E::Tierms => tierms(x, tau0, m),
     }
+}
+
+/// The modified-total computation of `modtotal` written out directly: for
+/// each subsequence of 3m samples, half-average detrend, build the 9m-sample
+/// reflected sequence, average each block of m by summing it, and average
+/// the 6m squared second differences. Returns (Σ over subsequences, count).
+pub fn reflected_mean_square(v: &[f64], m: usize) -> (f64, usize) {
+    let l3 = 3 * m;
+    let mut total = 0.0;
+    let mut count = 0;
+    if m == 0 || v.len() < l3 {
+        return (0.0, 0);
+    }
+    for n in 0..=v.len() - l3 {
+        let w = &v[n..n + l3];
+        if w.iter().any(|x| x.is_nan()) {
+            continue;
+        }
+        let h = l3 / 2;
+        let mean1 = w[..h].iter().sum::<f64>() / h as f64;
+        let mean2 = w[l3 - h..].iter().sum::<f64>() / h as f64;
+        let slope = (mean2 - mean1) / (l3 - h) as f64;
+        let w0: Vec<f64> = w
+            .iter()
+            .enumerate()
+            .map(|(k, x)| x - slope * k as f64)
+            .collect();
+        let mut ext: Vec<f64> = w0.iter().rev().cloned().collect();
+        ext.extend(w0.iter());
+        ext.extend(w0.iter().rev());
+        assert_eq!(ext.len(), 9 * m);
+        let avg = |a: usize| ext[a..a + m].iter().sum::<f64>() / m as f64;
+        let mut s = 0.0;
+        for j in 0..6 * m {
+            let z = avg(j + 2 * m) - 2.0 * avg(j + m) + avg(j);
+            s += z * z;
+        }
+        total += s / (6 * m) as f64;
+        count += 1;
+    }
+    (total, count)
+}
+
+/// MTOT (NIST SP 1065 §5.2.12): sqrt(mean reflected mean square / (2τ²)).
+pub fn mtot(x: &[f64], tau0: f64, m: usize) -> Option<Estimate> {
+    let tau = m as f64 * tau0;
+    let (s, n) = reflected_mean_square(x, m);
+    est(tau, m, (s / (n as f64 * 2.0 * tau * tau)).sqrt(), n)
+}
+
+/// TTOT (NIST SP 1065 §5.2.13): τ/√3 · MTOT.
+pub fn ttot(x: &[f64], tau0: f64, m: usize) -> Option<Estimate> {
+    mtot(x, tau0, m).map(|e| Estimate {
+        value: e.value * e.tau / 3f64.sqrt(),
+        ..e
+    })
+}
+
+/// HTOT (NIST SP 1065 §5.2.14) on the frequencies y_i = (x_{i+1} − x_i)/τ0:
+/// sqrt(mean reflected mean square / 6).
+pub fn htot(x: &[f64], tau0: f64, m: usize) -> Option<Estimate> {
+    let y: Vec<f64> = x.windows(2).map(|w| (w[1] - w[0]) / tau0).collect();
+    let (s, n) = reflected_mean_square(&y, m);
+    est(m as f64 * tau0, m, (s / (n as f64 * 6.0)).sqrt(), n)
+}
+
+/// Theo1 (NIST SP 1065 eq. 31) at the Theo1 factor m (even), written as in
+/// the handbook with δ = 0 … m/2 − 1:
+/// 1/(0.75(N−m)(mτ0)²) Σ_{i} Σ_δ 1/(m/2−δ) [(x_i − x_{i−δ+m/2}) + (x_{i+m} − x_{i+δ+m/2})]²,
+/// τ = 0.75·m·τ0; an i is used when x_i … x_{i+m} holds no gap.
+pub fn theo1(x: &[f64], tau0: f64, m: usize) -> Option<Estimate> {
+    if m < 2 || m % 2 == 1 || x.len() < m + 1 {
+        return None;
+    }
+    let half = m / 2;
+    let mut s = 0.0;
+    let mut n = 0;
+    for i in 0..x.len() - m {
+        if !clear(x, i, i + m) {
+            continue;
+        }
+        for delta in 0..half {
+            let a = (x[i] - x[i + half - delta]) + (x[i + m] - x[i + half + delta]);
+            s += a * a / (half - delta) as f64;
+        }
+        n += 1;
+    }
+    let mt = m as f64 * tau0;
+    est(0.75 * mt, m, (s / (0.75 * n as f64 * mt * mt)).sqrt(), n)
 }

@@ -78,7 +78,12 @@ pub(crate) fn sum_sq<const K: usize>(
         s += v * v;
     }
     // Pairwise combination of the lanes.
-    let s4 = [acc[0] + acc[4], acc[1] + acc[5], acc[2] + acc[6], acc[3] + acc[7]];
+    let s4 = [
+        acc[0] + acc[4],
+        acc[1] + acc[5],
+        acc[2] + acc[6],
+        acc[3] + acc[7],
+    ];
     ((s4[0] + s4[2]) + (s4[1] + s4[3]) + s, n)
 }
 

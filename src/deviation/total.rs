@@ -60,3 +60,45 @@ pub(crate) fn totdev(p: &Prepared, m: usize) -> Option<Estimate> {
     }
     finish(tau, m, s, 2.0 * tau * tau, used)
 }
+
+/// Equivalent degrees of freedom of the total variance (NIST SP 1065,
+/// TOTVAR EDF table; CHECKS.md D, from memory):
+/// EDF = b·(T/τ) − c with T = (N−1)·τ0, τ = m·τ0:
+/// WFM (α = 0) b = 1.50, c = 0; FFM (α = −1) b = 1.17, c = 0.22;
+/// RWFM (α = −2) b = 0.93, c = 0.36. None for other α (the table gives none).
+///
+/// ```
+/// // WFM, N = 1001, m = 10: 1.5 · 1000/10 = 150.
+/// assert_eq!(tauwise::deviation::totdev_edf(0, 1001, 10), Some(150.0));
+/// ```
+pub fn totdev_edf(alpha: i32, n_phase: usize, m: usize) -> Option<f64> {
+    if n_phase < 2 || m == 0 {
+        return None;
+    }
+    let (b, c) = match alpha {
+        0 => (1.50, 0.0),
+        -1 => (1.17, 0.22),
+        -2 => (0.93, 0.36),
+        _ => return None,
+    };
+    let t_over_tau = (n_phase - 1) as f64 / m as f64;
+    Some(b * t_over_tau - c)
+}
+
+/// Bias of the total variance, E(Totvar)/AVAR = 1 − a·τ/T (NIST SP 1065;
+/// CHECKS.md D, from memory): a = 0 for white noise (WPM α = 2, WFM α = 0),
+/// a = 0.481 = 1/(3 ln 2) for FFM (α = −1), a = 0.750 for RWFM (α = −2).
+/// Divide Totvar by it (TOTDEV by its square root) to remove the bias.
+/// None for other α.
+pub fn totvar_bias(alpha: i32, n_phase: usize, m: usize) -> Option<f64> {
+    if n_phase < 2 || m == 0 {
+        return None;
+    }
+    let a = match alpha {
+        2 | 0 => 0.0,
+        -1 => 0.481,
+        -2 => 0.750,
+        _ => return None,
+    };
+    Some(1.0 - a * m as f64 / (n_phase - 1) as f64)
+}

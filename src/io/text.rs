@@ -14,9 +14,12 @@
 //!   ([`Delimiter::sniff`] picks one from the first data line);
 //! - a field may be wrapped in double quotes, which are removed;
 //! - `NaN` (any case), an empty field and `-` mean "missing" (a gap);
+//! - a number may be written with one decimal comma (`2,5`) when the fields
+//!   are separated by `;`, tabs or spaces;
 //! - with the whitespace delimiter, an ISO-8601 date followed by a time of
 //!   day (`2024-05-01 12:00:00`) is one field;
-//! - lines are at most [`MAX_LINE_BYTES`] long and must be UTF-8.
+//! - lines are at most [`MAX_LINE_BYTES`] long; content lines (not comments)
+//!   must be UTF-8.
 
 use super::ReadError;
 use std::fs::File;
@@ -62,14 +65,30 @@ fn open_error(path: &Path, e: &std::io::Error) -> ReadError {
     ReadError::file(path, what)
 }
 
-/// Reads a text input line by line into one reused buffer, counting lines
-/// and bytes, and handing out only content lines (not comments or blanks).
+/// Reads a text input line by line, counting lines and bytes, and handing
+/// out only content lines (not comments or blanks).
+///
+/// A line that lies whole in the reader's buffer is handed out in place
+/// (no copy); only a line split across two buffer fills is copied, into one
+/// reused buffer. So memory stays bounded whatever the input's size.
 pub struct LineReader<R> {
     reader: R,
     buf: Vec<u8>,
+    /// Bytes of the reader's buffer handed out last time, to consume first.
+    pending: usize,
     path: PathBuf,
     line: u64,
     bytes: u64,
+}
+
+/// Where the current raw line is.
+enum Raw {
+    /// In the reader's buffer: `len` bytes (without the line end).
+    InPlace(usize),
+    /// Copied into `buf`.
+    Copied,
+    /// End of input.
+    End,
 }
 
 impl<R: BufRead> LineReader<R> {
@@ -77,7 +96,8 @@ impl<R: BufRead> LineReader<R> {
     pub fn new(reader: R, label: &Path) -> Self {
         Self {
             reader,
-            buf: Vec::with_capacity(256),
+            buf: Vec::new(),
+            pending: 0,
             path: label.to_path_buf(),
             line: 0,
             bytes: 0,
@@ -104,9 +124,23 @@ impl<R: BufRead> LineReader<R> {
         ReadError::at(&self.path, self.line, expected)
     }
 
-    /// Read one raw line (without its line end) into the buffer; false at
-    /// the end of the input.
-    fn read_raw(&mut self) -> Result<bool, ReadError> {
+    fn too_long(&self) -> ReadError {
+        ReadError::at(
+            &self.path,
+            self.line + 1,
+            format!(
+                "line longer than {MAX_LINE_BYTES} bytes; expected a text file with one reading per line"
+            ),
+        )
+    }
+
+    /// Find the next raw line: in place when it lies whole in the reader's
+    /// buffer, else copied into `buf`.
+    fn read_raw(&mut self) -> Result<Raw, ReadError> {
+        if self.pending > 0 {
+            self.reader.consume(self.pending);
+            self.pending = 0;
+        }
         self.buf.clear();
         let mut got_any = false;
         loop {
@@ -124,8 +158,16 @@ impl<R: BufRead> LineReader<R> {
             if avail.is_empty() {
                 break;
             }
-            got_any = true;
-            match avail.iter().position(|&b| b == b'\n') {
+            match memchr::memchr(b'\n', avail) {
+                Some(i) if !got_any => {
+                    if i > MAX_LINE_BYTES {
+                        return Err(self.too_long());
+                    }
+                    self.pending = i + 1;
+                    self.bytes += i as u64 + 1;
+                    self.line += 1;
+                    return Ok(Raw::InPlace(i));
+                }
                 Some(i) => {
                     self.buf.extend_from_slice(&avail[..i]);
                     self.reader.consume(i + 1);
@@ -133,6 +175,7 @@ impl<R: BufRead> LineReader<R> {
                     break;
                 }
                 None => {
+                    got_any = true;
                     let n = avail.len();
                     self.buf.extend_from_slice(avail);
                     self.reader.consume(n);
@@ -140,62 +183,87 @@ impl<R: BufRead> LineReader<R> {
                 }
             }
             if self.buf.len() > MAX_LINE_BYTES {
-                return Err(ReadError::at(
-                    &self.path,
-                    self.line + 1,
-                    format!(
-                        "line longer than {} bytes; expected a text file with one reading per line",
-                        MAX_LINE_BYTES
-                    ),
-                ));
+                return Err(self.too_long());
             }
         }
-        if !got_any {
-            return Ok(false);
+        if !got_any && self.buf.is_empty() {
+            return Ok(Raw::End);
+        }
+        if self.buf.len() > MAX_LINE_BYTES {
+            return Err(self.too_long());
         }
         self.line += 1;
-        if self.buf.len() > MAX_LINE_BYTES {
-            return Err(self.error(format!(
-                "line longer than {MAX_LINE_BYTES} bytes; expected a text file with one reading per line"
-            )));
-        }
-        if self.buf.last() == Some(&b'\r') {
-            self.buf.pop();
-        }
-        Ok(true)
+        Ok(Raw::Copied)
     }
 
     /// The next content line (trimmed; comments and blank lines skipped)
     /// with its 1-based number, or `None` at the end of the input.
-    /// Non-UTF-8 bytes are an error naming the line.
+    /// Non-UTF-8 bytes in a content line are an error naming the line.
     pub fn next_line(&mut self) -> Result<Option<Line<'_>>, ReadError> {
-        loop {
-            if !self.read_raw()? {
+        let (raw, start, end) = loop {
+            let raw = self.read_raw()?;
+            if let Raw::End = raw {
                 return Ok(None);
             }
-            let text = match std::str::from_utf8(&self.buf) {
-                Ok(t) => t,
-                Err(e) => {
-                    let at = e.valid_up_to();
-                    return Err(self.error(format!(
-                        "byte 0x{:02x} at position {} is not UTF-8 text; expected a plain text file",
-                        self.buf[at],
-                        at + 1
-                    )));
-                }
-            };
-            let t = text.trim();
-            if t.is_empty() || t.starts_with('#') {
-                continue;
+            let bytes = raw_bytes(&mut self.reader, &self.buf, &raw, &self.path, self.line)?;
+            let start = bytes
+                .iter()
+                .position(|b| !b.is_ascii_whitespace())
+                .unwrap_or(bytes.len());
+            let end = bytes
+                .iter()
+                .rposition(|b| !b.is_ascii_whitespace())
+                .map_or(start, |i| i + 1);
+            if start < end && bytes[start] != b'#' {
+                break (raw, start, end);
             }
-            // Re-borrow to return a slice tied to self (the checks above
-            // guarantee validity).
-            let start = text.len() - text.trim_start().len();
-            let end = start + t.len();
-            let number = self.line;
-            let text =
-                std::str::from_utf8(&self.buf[start..end]).map_err(|_| self.error("UTF-8"))?;
-            return Ok(Some(Line { number, text }));
+        };
+        let number = self.line;
+        let bytes = &raw_bytes(&mut self.reader, &self.buf, &raw, &self.path, number)?[start..end];
+        match std::str::from_utf8(bytes) {
+            Ok(t) => {
+                // Already trimmed of ASCII white space; trim Unicode white
+                // space only when the line starts or ends outside ASCII.
+                let text = if bytes[0] >= 0x80 || bytes[bytes.len() - 1] >= 0x80 {
+                    t.trim()
+                } else {
+                    t
+                };
+                Ok(Some(Line { number, text }))
+            }
+            Err(e) => {
+                let at = e.valid_up_to();
+                Err(ReadError::at(
+                    &self.path,
+                    number,
+                    format!(
+                        "byte 0x{:02x} at position {} is not UTF-8 text; expected a plain text file",
+                        bytes[at],
+                        start + at + 1
+                    ),
+                ))
+            }
+        }
+    }
+}
+
+/// The bytes of the current raw line (without `\n`): in the reader's
+/// buffer (nothing was consumed yet, so `fill_buf` returns the same bytes
+/// without reading) or in the copy buffer.
+fn raw_bytes<'a, R: BufRead>(
+    reader: &'a mut R,
+    buf: &'a [u8],
+    raw: &Raw,
+    path: &Path,
+    line: u64,
+) -> Result<&'a [u8], ReadError> {
+    match *raw {
+        Raw::End | Raw::Copied => Ok(buf),
+        Raw::InPlace(len) => {
+            let avail = reader
+                .fill_buf()
+                .map_err(|e| ReadError::at(path, line, format!("could not read: {e}")))?;
+            Ok(&avail[..len.min(avail.len())])
         }
     }
 }
@@ -246,17 +314,18 @@ pub enum Delimiter {
 }
 
 impl Delimiter {
-    /// Pick the delimiter of a data line: a tab if the line has one and no
-    /// other separator, else `;` if present, else `,` if present, else runs
-    /// of whitespace. (`;` is preferred over `,` so that files whose numbers
-    /// use no decimal comma but list fields with `;` are read correctly.)
+    /// Pick the delimiter of a data line: `;` if present; else a tab if the
+    /// line has tabs and no spaces; else `,` if present; else runs of
+    /// spaces and tabs. `;` and tab come before `,` so that files written
+    /// with a decimal comma (`1,5;2,25` or `1,5<tab>2,25`) are split
+    /// correctly (see [`parse_finite`] for the decimal comma).
     pub fn sniff(line: &str) -> Self {
         if line.contains(';') {
             Delimiter::Semicolon
-        } else if line.contains(',') {
-            Delimiter::Comma
         } else if line.contains('\t') && !line.contains(' ') {
             Delimiter::Tab
+        } else if line.contains(',') {
+            Delimiter::Comma
         } else {
             Delimiter::Whitespace
         }
@@ -298,16 +367,19 @@ pub struct Fields<'a> {
 }
 
 fn unquote(f: &str) -> &str {
-    let f = f.trim();
+    let f = f.trim_ascii();
     if f.len() >= 2 && f.starts_with('"') && f.ends_with('"') {
-        f[1..f.len() - 1].trim()
+        f[1..f.len() - 1].trim_ascii()
     } else {
         f
     }
 }
 
 fn is_date(s: &str) -> bool {
-    let b = s.as_bytes();
+    is_date_bytes(s.as_bytes())
+}
+
+fn is_date_bytes(b: &[u8]) -> bool {
     b.len() == 10
         && b[4] == b'-'
         && b[7] == b'-'
@@ -336,7 +408,7 @@ impl<'a> Iterator for Fields<'a> {
                     self.rest = None;
                     return None;
                 }
-                let end = r.find([' ', '\t']).unwrap_or(r.len());
+                let end = memchr::memchr2(b' ', b'\t', r.as_bytes()).unwrap_or(r.len());
                 let mut tok = &r[..end];
                 let mut after = &r[end..];
                 // A date and a time of day separated by spaces are one field.
@@ -353,7 +425,7 @@ impl<'a> Iterator for Fields<'a> {
                 return Some(unquote(tok));
             }
         };
-        match rest.as_bytes().iter().position(|&b| b == sep) {
+        match memchr::memchr(sep, rest.as_bytes()) {
             Some(i) => {
                 self.rest = Some(&rest[i + 1..]);
                 Some(unquote(&rest[..i]))
@@ -394,7 +466,9 @@ pub fn classify(field: &str) -> Field {
 }
 
 /// Parse a finite number (Rust `f64` grammar: `1`, `-2.5`, `1e-9`, `.5`);
-/// `None` for anything else, including `inf` and `NaN`.
+/// `None` for anything else, including `inf` and `NaN`. A field with one
+/// decimal comma and no point (`2,5e-9`, as some spreadsheets write with
+/// `;` or tab between fields) is read as the same number with a point.
 #[inline]
 pub fn parse_finite(field: &str) -> Option<f64> {
     // Only digits, signs, '.', 'e'/'E' may appear: refuse "inf", "infinity".
@@ -404,6 +478,18 @@ pub fn parse_finite(field: &str) -> Option<f64> {
         return None;
     }
     match field.parse::<f64>() {
+        Ok(v) if v.is_finite() => Some(v),
+        Ok(_) => None,
+        Err(_) => decimal_comma(field),
+    }
+}
+
+#[cold]
+fn decimal_comma(field: &str) -> Option<f64> {
+    if field.bytes().filter(|&c| c == b',').count() != 1 || field.contains('.') {
+        return None;
+    }
+    match field.replace(',', ".").parse::<f64>() {
         Ok(v) if v.is_finite() => Some(v),
         _ => None,
     }
@@ -456,7 +542,7 @@ pub fn is_header(fields: &[&str]) -> bool {
 
 /// A quick test for an ISO-8601 date or date-time (`YYYY-MM-DD…`).
 pub fn looks_like_datetime(field: &str) -> bool {
-    field.len() >= 10 && is_date(&field[..10.min(field.len())])
+    field.len() >= 10 && is_date_bytes(&field.as_bytes()[..10])
 }
 
 /// A small numeric table read whole: the optional header, the delimiter,
@@ -481,6 +567,11 @@ pub struct TableRow {
     pub line: u64,
     /// The fields: `Some(number)` or `None` for a missing value.
     pub fields: Vec<Option<f64>>,
+}
+
+/// [`read_table`] on the file at `path` (`-` = standard input).
+pub fn read_table_file(path: &Path) -> Result<Table, ReadError> {
+    read_table(open_input(path)?, path)
 }
 
 /// Read a whole numeric table: comments and blank lines skipped, one header
@@ -547,6 +638,9 @@ mod tests {
         assert_eq!(Delimiter::sniff("1\t2"), Delimiter::Tab);
         assert_eq!(Delimiter::sniff("1   2"), Delimiter::Whitespace);
         assert_eq!(Delimiter::sniff("1.5"), Delimiter::Whitespace);
+        assert_eq!(Delimiter::sniff("1,5\t2,5"), Delimiter::Tab);
+        assert_eq!(Delimiter::sniff("1,5;2,5"), Delimiter::Semicolon);
+        assert_eq!(Delimiter::sniff("1.5, 2.5"), Delimiter::Comma);
     }
 
     #[test]
@@ -571,9 +665,15 @@ mod tests {
         assert_eq!(classify("inf"), Field::Text);
         assert_eq!(classify("1e999"), Field::Text);
         assert_eq!(classify("phase"), Field::Text);
+        assert_eq!(classify("2,5e-9"), Field::Number(2.5e-9));
+        assert_eq!(classify("1,000,000"), Field::Text);
+        assert_eq!(classify("1,5.2"), Field::Text);
         assert!(is_header(&["time", "phase"]));
         assert!(!is_header(&["1", "phase"]));
         assert!(!is_header(&["2024-05-01T00:00:00Z", "x"]));
+        // Multi-byte characters near the tenth byte are not a date (no panic).
+        assert!(!looks_like_datetime("2024-05-0éé"));
+        assert!(is_header(&["ééééééééé"]));
     }
 
     #[test]

@@ -23,6 +23,16 @@ pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<(), WriteError> {
         .map_err(err)?;
     tmp.write_all(bytes).map_err(err)?;
     tmp.as_file().sync_all().map_err(err)?;
+    // The temporary file is created private (0600); give the result the
+    // permissions of the file it replaces, or the usual 0644 for a new one.
+    #[cfg(unix)]
+    {
+        use std::os::unix::fs::PermissionsExt;
+        let mode = std::fs::metadata(path)
+            .map(|m| m.permissions().mode() & 0o7777)
+            .unwrap_or(0o644);
+        std::fs::set_permissions(tmp.path(), std::fs::Permissions::from_mode(mode)).map_err(err)?;
+    }
     tmp.persist(path).map_err(|e| err(e.error))?;
     Ok(())
 }
@@ -52,6 +62,16 @@ where
     fill(&mut w).map_err(err)?;
     let tmp = w.into_inner().map_err(|e| err(e.into_error()))?;
     tmp.as_file().sync_all().map_err(err)?;
+    // The temporary file is created private (0600); give the result the
+    // permissions of the file it replaces, or the usual 0644 for a new one.
+    #[cfg(unix)]
+    {
+        use std::os::unix::fs::PermissionsExt;
+        let mode = std::fs::metadata(path)
+            .map(|m| m.permissions().mode() & 0o7777)
+            .unwrap_or(0o644);
+        std::fs::set_permissions(tmp.path(), std::fs::Permissions::from_mode(mode)).map_err(err)?;
+    }
     tmp.persist(path).map_err(|e| err(e.error))?;
     Ok(())
 }
@@ -67,6 +87,12 @@ mod tests {
         write_atomic(&p, b"one").unwrap();
         write_atomic(&p, b"two").unwrap();
         assert_eq!(std::fs::read(&p).unwrap(), b"two");
+        #[cfg(unix)]
+        {
+            use std::os::unix::fs::PermissionsExt;
+            let mode = std::fs::metadata(&p).unwrap().permissions().mode() & 0o777;
+            assert_eq!(mode, 0o644, "a new output file is readable by others");
+        }
         let left: Vec<_> = std::fs::read_dir(dir.path()).unwrap().collect();
         assert_eq!(left.len(), 1, "no temporary file left behind");
     }

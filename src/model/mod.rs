@@ -10,6 +10,18 @@
 use crate::error::{Error, Result};
 use std::f64::consts::{LN_2, PI};
 
+pub mod fit;
+pub mod response;
+
+pub use fit::{fit_sy, fit_variances, Dominant, FitPoint, ModelFit, VarKind};
+
+/// Euler–Mascheroni constant γ (enters the FPM forms).
+pub const EULER_GAMMA: f64 = 0.577_215_664_901_532_9;
+
+/// Constant of the FPM Hadamard variance, (10γ − 6 ln2 + ln3)/3 ≈ 0.9040
+/// (derived in [`PowerLaw::hvar`]).
+pub const HVAR_FPM_CONST: f64 = (10.0 * EULER_GAMMA - 6.0 * LN_2 + 1.098_612_288_668_109_8) / 3.0;
+
 /// Noise type labels by α, from α = 2 (WPM) down to α = −4 (RRFM).
 pub const NOISE_LABELS: [(i32, &str); 7] = [
     (2, "WPM"),
@@ -194,6 +206,67 @@ impl PowerLaw {
             + self.get(0) / (4.0 * tau)
             + self.get(-1) * 0.936
             + self.get(-2) * 5.42 * tau
+    }
+
+    /// Hadamard variance σ_H²(τ) from the transfer function
+    /// |H(f)|² = (8/3) sin⁶(πfτ)/(πfτ)² (DESIGN.md §6; NIST SP 1065 §5.2.8):
+    ///
+    /// | α  | σ_H²(τ)                                                      |
+    /// |----|--------------------------------------------------------------|
+    /// | 2  | (10/3) f_h h_2 / ((2π)² τ²)                                    |
+    /// | 1  | [(10γ − 6 ln2 + ln3)/3 + (10/3) ln(2πf_hτ)] h_1 / ((2π)² τ²)   |
+    /// | 0  | h_0 / (2τ)                                                   |
+    /// | −1 | (8 ln2 − 3 ln3)/2 · h_−1 ≈ 1.1247 h_−1                        |
+    /// | −2 | (2π)² τ h_−2 / 12                                            |
+    ///
+    /// Derivation (u = πfτ, so df = du/(πτ)):
+    /// - WPM: (8h_2/(3π²τ²)) ∫_0^(f_h) sin⁶(πfτ) df → the mean 5/16 of sin⁶
+    ///   gives (5/6) f_h h_2/(π²τ²) (exact when 2f_hτ is a whole number).
+    /// - FPM: (8h_1/(3π²τ²)) ∫_0^U sin⁶u/u du with U = πf_hτ; writing
+    ///   sin⁶u = [15(1−cos2u) − 6(1−cos4u) + (1−cos6u)]/32 and
+    ///   ∫_0^U (1 − cos bu)/u du = γ + ln(bU) − Ci(bU) ≈ γ + ln(bU) for
+    ///   large U gives [10(γ + ln U) + 4 ln2 + ln3]/32 (valid for 2πf_hτ ≫ 1,
+    ///   like the table's AVAR form, whose constant 1.038 is 3γ − ln2).
+    /// - WFM: (8h_0/(3πτ)) ∫_0^∞ sin⁶u/u² du = (8h_0/(3πτ))·(3π/16).
+    /// - FFM: (8h_−1/3) ∫_0^∞ sin⁶u/u³ du, and with the same expansion,
+    ///   ∫_0^∞ Σ a_k cos(b_k u)/u³ du = ½ Σ a_k b_k² ln b_k (Σa_k = Σa_k b_k² = 0)
+    ///   = (3/16)(8 ln2 − 3 ln3).
+    /// - RWFM: (8πτh_−2/3) ∫_0^∞ sin⁶u/u⁴ du, with
+    ///   ∫_0^∞ Σ a_k cos(b_k u)/u⁴ du = (π/12) Σ a_k b_k³ = π/8.
+    ///
+    /// The same method reproduces the AVAR table (∫ sin⁴u/u² = π/4,
+    /// ∫ sin⁴u/u³ = ln2, ∫ sin⁴u/u⁴ = π/3), and tests/model.rs checks every
+    /// form against [`response::variance_numeric`].
+    pub fn hvar(&self, tau: f64) -> f64 {
+        let w = (2.0 * PI).powi(2);
+        let ln3 = 1.098_612_288_668_109_8_f64;
+        self.get(2) * 10.0 / 3.0 * self.f_h / (w * tau * tau)
+            + self.get(1) * (HVAR_FPM_CONST + 10.0 / 3.0 * (2.0 * PI * self.f_h * tau).ln())
+                / (w * tau * tau)
+            + self.get(0) / (2.0 * tau)
+            + self.get(-1) * (8.0 * LN_2 - 3.0 * ln3) / 2.0
+            + self.get(-2) * w * tau / 12.0
+    }
+
+    /// The variance `kind` at τ from the closed forms ([`PowerLaw::avar`],
+    /// [`PowerLaw::mvar`], [`PowerLaw::hvar`]).
+    pub fn variance(&self, kind: VarKind, tau: f64, tau0: f64) -> f64 {
+        match kind {
+            VarKind::Avar => self.avar(tau),
+            VarKind::Mvar => self.mvar(tau, tau0),
+            VarKind::Hvar => self.hvar(tau),
+        }
+    }
+
+    /// The variance `kind` at τ = nτ0 by numerical integration of S_y(f) with
+    /// the transfer function ([`response::variance_numeric`]): exact at every
+    /// τ, including the short τ where the closed forms (large-τ, large-n
+    /// limits) are off, e.g. MVAR at n = 1 equals AVAR.
+    pub fn variance_numeric(&self, kind: VarKind, tau: f64, tau0: f64) -> f64 {
+        (-2..=2)
+            .filter(|&a| self.get(a) > 0.0)
+            .map(|a| self.get(a) * response::variance_numeric(kind, a, tau, tau0, self.f_h))
+            .sum()
     }
 
     /// Time variance σ_x²(τ) = (τ²/3) Mod σ_y²(τ) (NIST SP 1065 eq. 17).

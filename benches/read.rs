@@ -1,0 +1,141 @@
+//! Reading speed of the time-series reader (`tauwise::io::series`).
+//!
+//! Writes text files of 10^6 and 10^7 lines to a temporary directory — one
+//! phase value per line, and a `seconds,phase` two-column form whose τ0
+//! comes from the timestamps — and reads them with `read_series`. Criterion
+//! reports the throughput in bytes per second (target: ≥ 100 MB/s).
+//!
+//! Two groups: `read_series` measures wall-clock time; `read_series_cpu`
+//! measures the CPU time of the reading thread (Linux
+//! `/proc/thread-self/schedstat`), which is what to quote on a machine shared
+//! with other work, where wall time mostly measures waiting for a core.
+//!
+//! Run: `cargo bench --bench read` (set `TAUWISE_BENCH_LINES=1000000` to
+//! skip the 10^7-line files).
+
+use criterion::measurement::{Measurement, ValueFormatter, WallTime};
+use criterion::{criterion_group, criterion_main, BenchmarkGroup, Criterion, Throughput};
+use std::io::Write;
+use std::path::{Path, PathBuf};
+use std::time::Duration;
+use tauwise::io::series::{read_series, SeriesOptions};
+
+/// A random-walk phase record in seconds, written with 12 significant digits.
+fn write_file(path: &Path, lines: usize, with_time: bool) -> u64 {
+    let f = std::fs::File::create(path).unwrap();
+    let mut w = std::io::BufWriter::with_capacity(1 << 20, f);
+    writeln!(w, "# bench record").unwrap();
+    if with_time {
+        writeln!(w, "seconds,phase").unwrap();
+    }
+    let mut s: u64 = 0x1234_5678;
+    let mut x = 0.0f64;
+    for i in 0..lines {
+        s = s
+            .wrapping_mul(6364136223846793005)
+            .wrapping_add(1442695040888963407);
+        x += ((s >> 11) as f64 / (1u64 << 53) as f64 - 0.5) * 1e-9;
+        if with_time {
+            writeln!(w, "{i},{x:.11e}").unwrap();
+        } else {
+            writeln!(w, "{x:.11e}").unwrap();
+        }
+    }
+    w.flush().unwrap();
+    std::fs::metadata(path).unwrap().len()
+}
+
+/// CPU time of the calling thread, in nanoseconds.
+struct ThreadCpu;
+
+fn thread_cpu_ns() -> u64 {
+    std::fs::read_to_string("/proc/thread-self/schedstat")
+        .ok()
+        .and_then(|s| s.split_whitespace().next().and_then(|v| v.parse().ok()))
+        .unwrap_or(0)
+}
+
+static WALL: WallTime = WallTime;
+
+impl Measurement for ThreadCpu {
+    type Intermediate = u64;
+    type Value = u64;
+    fn start(&self) -> u64 {
+        thread_cpu_ns()
+    }
+    fn end(&self, i: u64) -> u64 {
+        thread_cpu_ns().saturating_sub(i)
+    }
+    fn add(&self, a: &u64, b: &u64) -> u64 {
+        a + b
+    }
+    fn zero(&self) -> u64 {
+        0
+    }
+    fn to_f64(&self, v: &u64) -> f64 {
+        *v as f64
+    }
+    fn formatter(&self) -> &dyn ValueFormatter {
+        // Values are nanoseconds, as for wall time.
+        WALL.formatter()
+    }
+}
+
+fn run_group<M: Measurement>(group: &mut BenchmarkGroup<'_, M>, sizes: &[usize], dir: &Path) {
+    group.sample_size(10);
+    group.warm_up_time(Duration::from_millis(500));
+    group.measurement_time(Duration::from_secs(5));
+    for &n in sizes {
+        for with_time in [false, true] {
+            let name = if with_time {
+                "time_and_phase"
+            } else {
+                "phase_only"
+            };
+            let path: PathBuf = dir.join(format!("{name}-{n}.txt"));
+            let bytes = write_file(&path, n, with_time);
+            let opts = SeriesOptions {
+                tau0: if with_time { None } else { Some(1.0) },
+                ..Default::default()
+            };
+            group.throughput(Throughput::Bytes(bytes));
+            group.bench_function(format!("{name}/{n}"), |b| {
+                b.iter(|| {
+                    let s = read_series(&path, &opts).unwrap();
+                    assert_eq!(s.record.len(), n);
+                    s
+                })
+            });
+            std::fs::remove_file(&path).unwrap();
+        }
+    }
+}
+
+fn sizes() -> Vec<usize> {
+    match std::env::var("TAUWISE_BENCH_LINES") {
+        Ok(v) => vec![v.parse().expect("TAUWISE_BENCH_LINES: a number of lines")],
+        Err(_) => vec![1_000_000, 10_000_000],
+    }
+}
+
+fn bench_wall(c: &mut Criterion) {
+    let dir = tempfile::tempdir().unwrap();
+    let mut group = c.benchmark_group("read_series");
+    run_group(&mut group, &sizes(), dir.path());
+    group.finish();
+}
+
+fn bench_cpu(c: &mut Criterion<ThreadCpu>) {
+    let dir = tempfile::tempdir().unwrap();
+    let mut group = c.benchmark_group("read_series_cpu");
+    run_group(&mut group, &sizes(), dir.path());
+    group.finish();
+}
+
+criterion_group!(wall, bench_wall);
+criterion_group! {
+    name = cpu;
+    config = Criterion::default().with_measurement(ThreadCpu);
+    targets = bench_cpu
+}
+criterion_main!(wall, cpu);

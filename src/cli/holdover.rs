@@ -1,0 +1,360 @@
+//! `tauwise holdover FILE`: time error predicted through a holdover span from
+//! the record, against a budget.
+
+use super::common::{emit, header_json, json_text, num, plain, Format, InputArgs, OutputArgs};
+use super::Outcome;
+use clap::{Args as ClapArgs, ValueEnum};
+use serde_json::{json, Value};
+use std::fmt::Write as _;
+use std::path::PathBuf;
+use tauwise::holdover::aging::{parse_aging_rate, Aging, AgingModel};
+use tauwise::holdover::{
+    caution, model_from_record, predict, FromRecord, HoldoverModel, Prediction, Settings,
+};
+use tauwise::io::series::Series;
+use tauwise::model::PowerLaw;
+use tauwise::units::{format_si, parse_duration};
+use tauwise::{Error, Result};
+
+/// The aging law to fit (`--aging-model`).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum AgingArg {
+    /// y = c + D·t.
+    Linear,
+    /// y = c + A·ln(1 + t/t_c).
+    Log,
+}
+
+/// Time error through a holdover span, against a budget.
+#[derive(Debug, ClapArgs)]
+pub struct Args {
+    /// Input file: phase or frequency record up to the loss of reference.
+    #[arg(value_name = "FILE")]
+    pub file: PathBuf,
+    #[command(flatten)]
+    pub input: InputArgs,
+    /// Holdover span (e.g. 8h, 24h).
+    #[arg(long, value_name = "DUR", allow_hyphen_values = true)]
+    pub span: String,
+    /// Time-error budget (e.g. 1.5us).
+    #[arg(long, value_name = "DUR", allow_hyphen_values = true)]
+    pub budget: String,
+    /// Monte Carlo paths.
+    #[arg(long, default_value_t = 2000, value_name = "N")]
+    pub paths: usize,
+    /// Seed of the Monte Carlo paths.
+    #[arg(long, default_value_t = 1, value_name = "N")]
+    pub seed: u64,
+    /// Simulation steps over the span.
+    #[arg(long, default_value_t = 4096, value_name = "N")]
+    pub steps: usize,
+    /// Time error when the reference is lost.
+    #[arg(
+        long,
+        default_value = "0",
+        value_name = "DUR",
+        allow_hyphen_values = true
+    )]
+    pub te0: String,
+    /// Window at the end of the record for the initial frequency y0.
+    /// Default: a tenth of the record.
+    #[arg(long, value_name = "DUR")]
+    pub settle: Option<String>,
+    /// Holdover starts at this record time instead of the record's end.
+    #[arg(long, value_name = "DUR")]
+    pub start: Option<String>,
+    /// Given linear aging (e.g. 5e-11/day) instead of a fit.
+    #[arg(long, value_name = "RATE", allow_hyphen_values = true)]
+    pub aging: Option<String>,
+    /// The aging law to fit on the record.
+    #[arg(long, value_enum, default_value_t = AgingArg::Linear)]
+    pub aging_model: AgingArg,
+    /// Temperature coefficient of frequency, e.g. 1e-11/K (with --temp-swing).
+    #[arg(long, value_name = "C", allow_hyphen_values = true)]
+    pub temp_coeff: Option<String>,
+    /// Worst-case temperature swing during holdover, e.g. 5K.
+    #[arg(long, value_name = "K")]
+    pub temp_swing: Option<String>,
+    /// Noise model instead of the fit, e.g. h0=1e-22,h-1=3e-26,h-2=1e-31.
+    #[arg(long, value_name = "MODEL")]
+    pub model: Option<String>,
+    /// Exit with status 3 when the verdict fails (for scripts).
+    #[arg(long)]
+    pub fail_on_violation: bool,
+    #[command(flatten)]
+    pub output: OutputArgs,
+}
+
+fn positive_duration(text: &str, what: &str, example: &str) -> Result<f64> {
+    let v = parse_duration(text)?;
+    if !(v.is_finite() && v > 0.0) {
+        return Err(Error::invalid(format!(
+            "--{what} {text}: expected a positive duration (e.g. {example})"
+        )));
+    }
+    Ok(v)
+}
+
+fn strip_kelvin(text: &str, what: &str) -> Result<f64> {
+    let t = text.trim();
+    let t = t
+        .strip_suffix("/K")
+        .or_else(|| t.strip_suffix('K'))
+        .unwrap_or(t)
+        .trim();
+    t.parse::<f64>()
+        .ok()
+        .filter(|v| v.is_finite())
+        .ok_or_else(|| {
+            Error::invalid(format!(
+                "--{what} {text}: expected a number{}",
+                if what == "temp-coeff" {
+                    " per kelvin (e.g. 1e-11/K)"
+                } else {
+                    " of kelvin (e.g. 5K)"
+                }
+            ))
+        })
+}
+
+/// Run `holdover`.
+pub fn run(args: Args) -> Result<Outcome> {
+    let span = positive_duration(&args.span, "span", "24h")?;
+    let budget = positive_duration(&args.budget, "budget", "1.5us")?;
+    let te0 = parse_duration(&args.te0)?;
+    let temp_worst = match (&args.temp_coeff, &args.temp_swing) {
+        (Some(c), Some(s)) => {
+            (strip_kelvin(c, "temp-coeff")? * strip_kelvin(s, "temp-swing")?).abs()
+        }
+        (None, None) => 0.0,
+        _ => return Err(Error::invalid(
+            "--temp-coeff and --temp-swing go together (e.g. --temp-coeff 1e-11/K --temp-swing 5K)",
+        )),
+    };
+    let series = args.input.load(&args.file)?;
+    let tau0 = series.record.tau0();
+    let noise = match &args.model {
+        Some(m) => Some(PowerLaw::parse(m, 0.5 / tau0)?),
+        None => None,
+    };
+    let opts = FromRecord {
+        te0,
+        settle: args
+            .settle
+            .as_deref()
+            .map(|s| positive_duration(s, "settle", "1h"))
+            .transpose()?,
+        start: args
+            .start
+            .as_deref()
+            .map(|s| positive_duration(s, "start", "36h"))
+            .transpose()?,
+        aging_model: match args.aging_model {
+            AgingArg::Linear => AgingModel::Linear,
+            AgingArg::Log => AgingModel::Log,
+        },
+        aging_given: args.aging.as_deref().map(parse_aging_rate).transpose()?,
+        temp_worst,
+        noise,
+    };
+    let model = model_from_record(&series.record, &opts)?;
+    let settings = Settings {
+        paths: args.paths,
+        seed: args.seed,
+        steps: args.steps,
+        ..Settings::new(span, budget)
+    };
+    let pred = predict(&model, &settings)?;
+    let text = match args.output.format {
+        Format::Json => json_text(&to_json(
+            &series,
+            &settings,
+            &model,
+            &pred,
+            args.aging.is_some(),
+        )),
+        Format::Csv => to_csv(&pred),
+        Format::Table => to_table(&series, &settings, &model, &pred),
+    };
+    emit(&args.output, &text)?;
+    Ok(
+        if pred.verdict == tauwise::holdover::Verdict::Fail && args.fail_on_violation {
+            Outcome::VerdictFailed
+        } else {
+            Outcome::Done
+        },
+    )
+}
+
+fn h_json(p: &PowerLaw) -> Value {
+    let mut m = serde_json::Map::new();
+    for a in (-2..=2).rev() {
+        m.insert(format!("h{a}"), num(p.get(a)));
+    }
+    m.insert("fh".into(), num(p.f_h));
+    Value::Object(m)
+}
+
+fn to_json(
+    series: &Series,
+    s: &Settings,
+    model: &HoldoverModel,
+    p: &Prediction,
+    given: bool,
+) -> Value {
+    let mut m = header_json(series);
+    m.insert("span_s".into(), num(s.span));
+    m.insert("budget_s".into(), num(s.budget));
+    let (extra_name, extra) = match model.aging {
+        Aging::Linear { .. } => ("aging_sigma_per_s", num(model.aging.sigma())),
+        Aging::Log { a, a_sigma, tc, c } => (
+            "log_law",
+            json!({"c": num(c), "a": num(a), "a_sigma": num(a_sigma), "tc_s": num(tc)}),
+        ),
+    };
+    let mut mm = serde_json::Map::new();
+    mm.insert("h".into(), h_json(&model.noise));
+    mm.insert("te0".into(), num(model.te0));
+    mm.insert("y0".into(), num(model.y0));
+    mm.insert("y0_sigma".into(), num(model.y0_sigma));
+    mm.insert("aging_per_s".into(), num(model.aging.rate(model.start)));
+    mm.insert(
+        "aging_model".into(),
+        if given {
+            "given"
+        } else {
+            model.aging.model().name()
+        }
+        .into(),
+    );
+    mm.insert(extra_name.into(), extra);
+    mm.insert("temp_worst".into(), num(model.temp_worst));
+    mm.insert("start_s".into(), num(model.start));
+    m.insert("model".into(), Value::Object(mm));
+    m.insert("paths".into(), p.paths.into());
+    m.insert("seed".into(), s.seed.into());
+    m.insert("step_s".into(), num(p.step));
+    m.insert(
+        "te".into(),
+        p.te.iter()
+            .map(|t| {
+                json!({"t": num(t.t), "deterministic": num(t.deterministic),
+                       "p50": num(t.p50), "p95": num(t.p95), "p99": num(t.p99), "rms": num(t.rms)})
+            })
+            .collect::<Vec<_>>()
+            .into(),
+    );
+    m.insert(
+        "holds_for_s".into(),
+        p.holds_for.map(num).unwrap_or(Value::Null),
+    );
+    m.insert("verdict".into(), p.verdict.name().into());
+    m.insert("caution".into(), caution().into());
+    Value::Object(m)
+}
+
+fn to_csv(p: &Prediction) -> String {
+    let mut s = String::from("t,deterministic,p50,p95,p99,rms\n");
+    for t in &p.te {
+        let _ = writeln!(
+            s,
+            "{},{},{},{},{},{}",
+            plain(t.t),
+            plain(t.deterministic),
+            plain(t.p50),
+            plain(t.p95),
+            plain(t.p99),
+            plain(t.rms)
+        );
+    }
+    s
+}
+
+fn hours(t: f64) -> String {
+    if t >= 3600.0 {
+        format!("{:.1} h", t / 3600.0)
+    } else {
+        format_si(t, "s", 3)
+    }
+}
+
+fn to_table(series: &Series, s: &Settings, model: &HoldoverModel, p: &Prediction) -> String {
+    let si = |v: f64| format_si(v, "s", 4);
+    let mut o = String::new();
+    let _ = writeln!(
+        o,
+        "{}: holdover of {} against a budget of {}",
+        series.info.path.display(),
+        hours(s.span),
+        si(s.budget)
+    );
+    let _ = writeln!(o, "\nmodel");
+    let _ = writeln!(o, "  te0         {}", si(model.te0));
+    let _ = writeln!(o, "  y0          {:.4e} ± {:.2e}", model.y0, model.y0_sigma);
+    let _ = writeln!(
+        o,
+        "  aging       {} law, {:.4e}/day at the start{}",
+        model.aging.model().name(),
+        model.aging.rate(model.start) * 86400.0,
+        match model.aging {
+            Aging::Linear { d_sigma, .. } => format!(" ± {:.2e}/day", d_sigma * 86400.0),
+            Aging::Log { a_sigma, tc, .. } => format!(" (A ± {a_sigma:.2e}, t_c = {})", hours(tc)),
+        }
+    );
+    if model.temp_worst > 0.0 {
+        let _ = writeln!(
+            o,
+            "  temperature worst case {:.3e} (fractional)",
+            model.temp_worst
+        );
+    }
+    let _ = writeln!(o, "  noise       {}", model.noise.to_model_string());
+    let _ = writeln!(
+        o,
+        "  Monte Carlo {} paths, seed {}, step {}",
+        p.paths,
+        s.seed,
+        si(p.step)
+    );
+    let _ = writeln!(
+        o,
+        "\n{:>10}  {:>12}  {:>12}  {:>12}  {:>12}",
+        "t", "determ.", "p50 |TE|", "p95 |TE|", "p99 |TE|"
+    );
+    for t in &p.te {
+        let _ = writeln!(
+            o,
+            "{:>10}  {:>12}  {:>12}  {:>12}  {:>12}",
+            hours(t.t),
+            si(t.deterministic),
+            si(t.p50),
+            si(t.p95),
+            si(t.p99)
+        );
+    }
+    let _ = writeln!(o);
+    match p.holds_for {
+        Some(t) => {
+            let _ = writeln!(
+                o,
+                "p95 of |TE| exceeds the budget after about {}: holds 95 % of the time for about {}.",
+                hours(t),
+                hours(t)
+            );
+        }
+        None => {
+            let _ = writeln!(
+                o,
+                "p95 of |TE| stays within the budget through the whole span."
+            );
+        }
+    }
+    let _ = writeln!(
+        o,
+        "verdict for {}: {}",
+        hours(s.span),
+        p.verdict.name().to_uppercase()
+    );
+    let _ = writeln!(o, "\n{}", caution());
+    o
+}

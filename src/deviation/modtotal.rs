@@ -1,0 +1,524 @@
+//! The modified-total family (NIST SP 1065 §5.2.12–5.2.14): modified total
+//! deviation MTOT, time total deviation TTOT and Hadamard total deviation
+//! HTOT. All three share one computation on a sequence v (phase for MTOT and
+//! TTOT, fractional frequency for HTOT), for each subsequence of 3m samples
+//! v_n … v_{n+3m−1}, n = 0 … L−3m:
+//!
+//! 1. remove its linear trend by the half-average method: slope
+//!    s = (mean of the last ⌊3m/2⌋ − mean of the first ⌊3m/2⌋) / (3m − ⌊3m/2⌋),
+//!    w_k = v_{n+k} − s·k (a constant left in w drops out below);
+//! 2. extend w at both ends by uninverted, even reflection to 9m samples,
+//!    X = [w_{3m−1} … w_0, w_0 … w_{3m−1}, w_{3m−1} … w_0];
+//! 3. take the 6m second differences of m-sample averages of X,
+//!    z_j = X̄_{j+2m} − 2X̄_{j+m} + X̄_j, X̄_j = (1/m) Σ_{t=j}^{j+m−1} X_t, j = 0 … 6m−1,
+//!    and their mean square (1/(6m)) Σ_j z_j².
+//!
+//! The mean over subsequences of that mean square is G(m); then
+//! Mod Totvar(τ) = G(m)/(2τ²) on phase, Time Totvar(τ) = (τ²/3)·Mod Totvar(τ),
+//! and Htotvar(τ) = G(m)/6 on frequency.
+//!
+//! At m = 1 the definition gives exactly MTOT = MDEV/√2 and HTOT =
+//! OHDEV/√2 (the detrended triple (a, b, a) reflects to [a b a a b a a b a],
+//! whose mean square second difference is half the single MVAR term); for
+//! m ≥ 4, Monte Carlo on N = 1001 gives E[MTOT²]/E[MDEV²] ≈ 1.00 (WPM),
+//! 0.77 (WFM), 0.68 (RWFM) — the bias no table here corrects yet.
+//!
+//! Gaps: a subsequence is used when none of its samples is missing (for
+//! HTOT, none of the 3m + 1 phase samples its frequencies come from).
+//!
+//! Fast forms. For m < 32: local sums of v come from prefix sums kept in
+//! double-double arithmetic (each prefix as an unevaluated sum hi + lo,
+//! built with the error-free TwoSum); the running sums of X then cost O(m)
+//! per subsequence. From m = 32 on: an exact O(1)-per-subsequence form
+//! (notes above `Plan` below) — every term of the inner sum over the
+//! reflected extension is a fixed linear combination of window prefix sums,
+//! so the sum over all subsequences reduces to weighted lagged products of
+//! prefix sums. Both are equal to the direct definition
+//! (`reference::reflected_mean_square`) to 1e-10 relative in the tests;
+//! subsequences are spread over threads in fixed blocks (reproducible).
+//! Cost O(N) per τ; at N = 10^6 the octave grid takes about 7 s of CPU.
+
+use super::allan::finish;
+use super::gaps::{Gaps, Prepared};
+use super::Estimate;
+use rayon::prelude::*;
+
+/// Error-free sum: a + b = s + e exactly (Knuth's TwoSum).
+#[inline(always)]
+fn two_sum(a: f64, b: f64) -> (f64, f64) {
+    let s = a + b;
+    let bb = s - a;
+    let e = (a - (s - bb)) + (b - bb);
+    (s, e)
+}
+
+/// Prefix sums of a sequence (gaps taken as 0) as double-double numbers.
+pub(crate) struct PrefixSums {
+    hi: Vec<f64>,
+    lo: Vec<f64>,
+}
+
+impl PrefixSums {
+    pub(crate) fn new(v: &[f64]) -> Self {
+        let mut hi = Vec::with_capacity(v.len() + 1);
+        let mut lo = Vec::with_capacity(v.len() + 1);
+        let (mut h, mut l) = (0.0f64, 0.0f64);
+        hi.push(h);
+        lo.push(l);
+        for &x in v {
+            let x = if x.is_nan() { 0.0 } else { x };
+            let (s, e) = two_sum(h, x);
+            h = s;
+            l += e;
+            hi.push(h);
+            lo.push(l);
+        }
+        Self { hi, lo }
+    }
+
+    /// Σ_{i=a}^{b−1} v_i.
+    #[inline(always)]
+    pub(crate) fn sum(&self, a: usize, b: usize) -> f64 {
+        (self.hi[b] - self.hi[a]) + (self.lo[b] - self.lo[a])
+    }
+}
+
+/// The mean square of the 6m reflected second differences for the
+/// subsequence starting at n (steps 1–3 of the module notes); `q` is scratch
+/// of length ≥ 9m + 1.
+fn subsequence(ps: &PrefixSums, n: usize, m: usize, q: &mut [f64]) -> f64 {
+    let l3 = 3 * m;
+    let h = l3 / 2;
+    let dist = (l3 - h) as f64;
+    let mean1 = ps.sum(n, n + h) / h as f64;
+    let mean2 = ps.sum(n + l3 - h, n + l3) / h as f64;
+    let s = (mean2 - mean1) / dist;
+    // Detrended local prefix sums W_k = Σ_{t<k} (v_{n+t} − s·t), k = 0 … 3m,
+    // stored in q[3m + k] for the middle copy.
+    for k in 0..=l3 {
+        let kf = k as f64;
+        q[l3 + k] = ps.sum(n, n + k) - s * (kf * (kf - 1.0) * 0.5);
+    }
+    let t = q[2 * l3];
+    // Prefix sums of the extended sequence X over positions 0 … 9m:
+    // left reflection Q(p) = T − W_{3m−p}; middle T + W_{p−3m};
+    // right reflection 3T − W_{9m−p}. The middle stores W; fix it up after.
+    for p in 0..l3 {
+        q[p] = t - q[2 * l3 - p];
+    }
+    for p in 2 * l3 + 1..=3 * l3 {
+        q[p] = 3.0 * t - q[l3 + 3 * l3 - p];
+    }
+    for v in &mut q[l3..=2 * l3] {
+        *v += t;
+    }
+    // z_j·m = Q(j+3m) − 3Q(j+2m) + 3Q(j+m) − Q(j).
+    let nz = 2 * l3;
+    let (a, b, c, d) = (
+        &q[..nz],
+        &q[m..m + nz],
+        &q[2 * m..2 * m + nz],
+        &q[l3..l3 + nz],
+    );
+    let mut acc = [0.0f64; 4];
+    let chunks = nz / 4;
+    for ch in 0..chunks {
+        let i = 4 * ch;
+        for l in 0..4 {
+            let z = (d[i + l] - a[i + l]) + 3.0 * (b[i + l] - c[i + l]);
+            acc[l] += z * z;
+        }
+    }
+    let mut tail = 0.0;
+    for i in 4 * chunks..nz {
+        let z = (d[i] - a[i]) + 3.0 * (b[i] - c[i]);
+        tail += z * z;
+    }
+    let mf = m as f64;
+    ((acc[0] + acc[2]) + (acc[1] + acc[3]) + tail) / (mf * mf * nz as f64)
+}
+
+/// G(m) of the module notes on sequence v with its gap index: (Σ over the
+/// subsequences used of their mean squares, number used).
+pub(crate) fn reflected_mean_square(v: &[f64], gaps: &Gaps, m: usize) -> (f64, usize) {
+    let len = v.len();
+    if m == 0 || len < 3 * m {
+        return (0.0, 0);
+    }
+    if m >= FAST_FROM_M {
+        return reflected_mean_square_fast(v, gaps, m);
+    }
+    let ps = PrefixSums::new(v);
+    let count = len - 3 * m + 1;
+    // Sum in fixed blocks (the same split whatever the thread count), then
+    // add the block sums in order, so the result is reproducible.
+    const BLOCK: usize = 256;
+    let blocks: Vec<(f64, usize)> = (0..count.div_ceil(BLOCK))
+        .into_par_iter()
+        .map_init(
+            || vec![0.0f64; 9 * m + 1],
+            |q, b| {
+                let mut s = 0.0;
+                let mut used = 0;
+                for n in b * BLOCK..((b + 1) * BLOCK).min(count) {
+                    if gaps.clear(n, n + 3 * m - 1) {
+                        s += subsequence(&ps, n, m, q);
+                        used += 1;
+                    }
+                }
+                (s, used)
+            },
+        )
+        .collect();
+    blocks
+        .iter()
+        .fold((0.0, 0), |(s, u), &(bs, bu)| (s + bs, u + bu))
+}
+
+/// Modified total deviation (NIST SP 1065 §5.2.12):
+/// Mod Totvar(τ) = G(m)/(2τ²) with G from the phase record (module notes).
+/// Valid for 1 ≤ m ≤ N/3.
+pub(crate) fn mtot(p: &Prepared, m: usize) -> Option<Estimate> {
+    let tau = m as f64 * p.tau0;
+    let (s, used) = reflected_mean_square(p.x, &p.gaps, m);
+    finish(tau, m, s, 2.0 * tau * tau, used)
+}
+
+/// Time total deviation (NIST SP 1065 §5.2.13): σ_x(τ) = (τ/√3)·MTOT(τ), in seconds.
+pub(crate) fn ttot(p: &Prepared, m: usize) -> Option<Estimate> {
+    mtot(p, m).map(|e| Estimate {
+        value: e.value * e.tau / 3f64.sqrt(),
+        ..e
+    })
+}
+
+/// Hadamard total deviation (NIST SP 1065 §5.2.14): Htotvar(τ) = G(m)/6 with
+/// G from the fractional frequency y_i = (x_{i+1} − x_i)/τ0 (module notes):
+/// the half-average detrend removes a linear frequency drift from each
+/// subsequence. Valid for 1 ≤ m ≤ (N−1)/3.
+pub(crate) fn htot(p: &Prepared, m: usize) -> Option<Estimate> {
+    let y: Vec<f64> = p.x.windows(2).map(|w| (w[1] - w[0]) / p.tau0).collect();
+    htot_on_frequency(&y, p.tau0, m)
+}
+
+/// HTOT on a fractional-frequency sequence (τ = m·τ0).
+pub(crate) fn htot_on_frequency(y: &[f64], tau0: f64, m: usize) -> Option<Estimate> {
+    let gaps = Gaps::new(y);
+    let (s, used) = reflected_mean_square(y, &gaps, m);
+    finish(m as f64 * tau0, m, s, 6.0, used)
+}
+
+// ---------------------------------------------------------------------------
+// Exact O(N)-per-τ form.
+//
+// For the subsequence starting at n, write the window's own prefix sums
+// through the record prefix V (V_t = Σ_{i<t} v_i): W_k = V_{n+k} − V_n −
+// s·P(k), P(k) = k(k−1)/2, and s = (V_{n+3m} − V_{n+3m−h} − V_{n+h} + V_n)/(h·d)
+// with h = ⌊3m/2⌋, d = 3m − h. Split j = b·m + r (b = 0 … 5, r = 0 … m−1).
+// The four prefix positions j + k·m (k = 0 … 3) of z_j fall in the ninths
+// B = b + k of the 9m extension, where Q = T − W_{(3−B)m−r} (B ≤ 2),
+// T + W_{(B−3)m+r} (3 ≤ B ≤ 5) or 3T − W_{(9−B)m−r} (B ≥ 6), T = W_{3m}. So
+//
+//   m·z_j(n) = Σ_k γ_k V_{n+A_k+σ_k r} + Σ_{c∈{0,h,3m−h,3m}} φ_c(r)·V_{n+c},
+//
+// with γ_k ∈ {±1, ±3}, A_k a multiple of m, σ_k = ±1 and φ_c polynomials of
+// degree 2 in r, all fixed for given (m, b). Squaring and summing over
+// n and r gives three kinds of sum, each O(1) per n after prefix sums:
+//
+// * moving × moving, equal σ: Σ_t w(t)·V_{t+A}V_{t+A'} with a trapezoid
+//   weight w(t) = #{(n, r): n + σr = t};
+// * moving × moving, opposite σ: Σ_q V_{q+A} Σ_r V_{q+A'−2r}, the inner sum
+//   over every other sample, from prefix sums of V taken over even and odd
+//   indices separately;
+// * with the fixed part: Σ_r r^p V_{n+A±r}, p ≤ 2, from prefix sums of
+//   t^p·V_t, and closed power sums Σ_r r^p, p ≤ 4.
+//
+// The squares are sums of large terms that cancel, so the sums are taken
+// block by block (3m subsequences at a time) on a *local* V built from the
+// block's own samples less an affine function of time (the estimator is
+// exactly invariant to adding a + b·t to v: the half-average slope removes
+// b, and second differences remove a). Prefix sums are double-double.
+// ---------------------------------------------------------------------------
+
+/// Below this m the O(m)-per-subsequence form is as fast and simpler.
+const FAST_FROM_M: usize = 32;
+
+/// A moving term γ·V_{n+A+σr}.
+#[derive(Clone, Copy)]
+struct Moving {
+    gamma: f64,
+    a: usize,
+    plus: bool,
+}
+
+/// The constants of one ninth-block b: the four moving terms and the
+/// polynomial coefficients [c0, c1, c2] of φ at offsets 0, h, 3m−h, 3m.
+struct BlockPlan {
+    moving: [Moving; 4],
+    fixed: [[f64; 3]; 4],
+}
+
+/// Everything about m that does not depend on the data.
+struct Plan {
+    m: usize,
+    offsets: [usize; 4],
+    blocks: Vec<BlockPlan>,
+    /// Σ_{r<m} r^p, p = 0 … 4.
+    power: [f64; 5],
+}
+
+impl Plan {
+    fn new(m: usize) -> Self {
+        let l3 = 3 * m;
+        let h = l3 / 2;
+        let d = l3 - h;
+        let g = 1.0 / (h as f64 * d as f64);
+        let mf = m as f64;
+        let p3m = (l3 as f64) * (l3 as f64 - 1.0) / 2.0;
+        let coef = [-1.0, 3.0, -3.0, 1.0];
+        let blocks = (0..6)
+            .map(|b| {
+                let mut theta = 0.0;
+                let mut gsum = 0.0;
+                let mut pi = [0.0f64; 3];
+                let mut moving = [Moving {
+                    gamma: 0.0,
+                    a: 0,
+                    plus: true,
+                }; 4];
+                for (k, mv) in moving.iter_mut().enumerate() {
+                    let ninth = b + k;
+                    let (tw, sign, e, plus) = match ninth {
+                        0..=2 => (1.0, -1.0, 3 - ninth, false),
+                        3..=5 => (1.0, 1.0, ninth - 3, true),
+                        _ => (3.0, -1.0, 9 - ninth, false),
+                    };
+                    let gamma = coef[k] * sign;
+                    theta += coef[k] * tw;
+                    gsum += gamma;
+                    let em = e as f64 * mf;
+                    let sg = if plus { 1.0 } else { -1.0 };
+                    // P(em + σr) = [(em)² − em]/2 + σ(2em − 1)/2·r + r²/2.
+                    pi[0] += gamma * (em * em - em) / 2.0;
+                    pi[1] += gamma * sg * (2.0 * em - 1.0) / 2.0;
+                    pi[2] += gamma * 0.5;
+                    *mv = Moving {
+                        gamma,
+                        a: e * m,
+                        plus,
+                    };
+                }
+                pi[0] += theta * p3m;
+                let mid = [g * pi[0], g * pi[1], g * pi[2]];
+                let fixed = [
+                    [-theta - gsum - mid[0], -mid[1], -mid[2]],
+                    mid,
+                    mid,
+                    [theta - mid[0], -mid[1], -mid[2]],
+                ];
+                BlockPlan { moving, fixed }
+            })
+            .collect();
+        let mut power = [0.0f64; 5];
+        for r in 0..m {
+            let rf = r as f64;
+            let mut p = 1.0;
+            for s in &mut power {
+                *s += p;
+                p *= rf;
+            }
+        }
+        Self {
+            m,
+            offsets: [0, h, l3 - h, l3],
+            blocks,
+            power,
+        }
+    }
+}
+
+/// Scratch for one run of consecutive subsequences.
+#[derive(Default)]
+struct RunScratch {
+    vv: Vec<f64>,
+    tmp: Vec<f64>,
+}
+
+/// Σ_{n} Σ_{j} (m·z_j(n))² over the subsequences n = start … start+count−1
+/// (all clear of gaps), by the exact fast form of the notes above.
+fn run_sum(plan: &Plan, v: &[f64], start: usize, count: usize, s: &mut RunScratch) -> f64 {
+    let m = plan.m;
+    let l3 = 3 * m;
+    let len = count + l3 - 1; // samples the run reads
+    let seg = &v[start..start + len];
+    // Local samples less an affine function of time.
+    let alpha = seg[0];
+    let beta = if len > 1 {
+        (seg[len - 1] - seg[0]) / (len - 1) as f64
+    } else {
+        0.0
+    };
+    // Local V_t = Σ_{i<t} (v_i − α − β·i), t = 0 … len, compensated.
+    s.vv.clear();
+    s.vv.reserve(len + 1);
+    let (mut hi, mut lo) = (0.0f64, 0.0f64);
+    s.vv.push(0.0);
+    for (i, &x) in seg.iter().enumerate() {
+        let (a, e) = two_sum(hi, x - alpha - beta * i as f64);
+        hi = a;
+        lo += e;
+        s.vv.push(hi + lo);
+    }
+    let vv = &s.vv;
+    // Prefix sums of t^p·V_t and of V over even / odd t.
+    let moment = |p: i32, tmp: &mut Vec<f64>| {
+        tmp.clear();
+        tmp.extend(vv.iter().enumerate().map(|(t, &x)| x * (t as f64).powi(p)));
+        PrefixSums::new(tmp)
+    };
+    let m0 = moment(0, &mut s.tmp);
+    let m1 = moment(1, &mut s.tmp);
+    let m2 = moment(2, &mut s.tmp);
+    s.tmp.clear();
+    s.tmp.extend(
+        vv.iter()
+            .enumerate()
+            .map(|(t, &x)| if t % 2 == 0 { x } else { 0.0 }),
+    );
+    let even = PrefixSums::new(&s.tmp);
+    s.tmp.clear();
+    s.tmp.extend(
+        vv.iter()
+            .enumerate()
+            .map(|(t, &x)| if t % 2 == 1 { x } else { 0.0 }),
+    );
+    let odd = PrefixSums::new(&s.tmp);
+
+    let r_max = m as i64 - 1;
+    let cnt = count as i64;
+    // Σ_r r^p V_{u±r} for p = 0, 1, 2.
+    let window = |u: usize, plus: bool| -> [f64; 3] {
+        if plus {
+            let (a, b) = (u, u + m);
+            let d0 = m0.sum(a, b);
+            let d1 = m1.sum(a, b);
+            let d2 = m2.sum(a, b);
+            let uf = u as f64;
+            [d0, d1 - uf * d0, d2 - 2.0 * uf * d1 + uf * uf * d0]
+        } else {
+            let (a, b) = (u + 1 - m, u + 1);
+            let d0 = m0.sum(a, b);
+            let d1 = m1.sum(a, b);
+            let d2 = m2.sum(a, b);
+            let uf = u as f64;
+            [d0, uf * d0 - d1, uf * uf * d0 - 2.0 * uf * d1 + d2]
+        }
+    };
+    let mut total = 0.0;
+    for bp in &plan.blocks {
+        let mut acc = 0.0;
+        // Moving × moving.
+        for k1 in 0..4 {
+            for k2 in k1..4 {
+                let (p, q) = (bp.moving[k1], bp.moving[k2]);
+                let f = if k1 == k2 { 1.0 } else { 2.0 } * p.gamma * q.gamma;
+                let sum = if p.plus == q.plus {
+                    // t = n + σr; weight = #{r ∈ [0, m): 0 ≤ t − σr < count}.
+                    let mut s2 = 0.0;
+                    if p.plus {
+                        for t in 0..(cnt + r_max) {
+                            let w = t.min(r_max) - (t - cnt + 1).max(0) + 1;
+                            let t = t as usize;
+                            s2 += w as f64 * vv[t + p.a] * vv[t + q.a];
+                        }
+                    } else {
+                        for t in -r_max..cnt {
+                            let w = r_max.min(cnt - 1 - t) - (-t).max(0) + 1;
+                            s2 += w as f64
+                                * vv[(t + p.a as i64) as usize]
+                                * vv[(t + q.a as i64) as usize];
+                        }
+                    }
+                    s2
+                } else {
+                    let (pl, mi) = if p.plus { (p, q) } else { (q, p) };
+                    let mut s2 = 0.0;
+                    for qq in 0..(cnt + r_max) {
+                        let rl = (qq - cnt + 1).max(0);
+                        let rh = qq.min(r_max);
+                        let base = qq + mi.a as i64;
+                        let lo_t = (base - 2 * rh) as usize;
+                        let hi_t = (base - 2 * rl) as usize + 1;
+                        let inner = if base % 2 == 0 {
+                            even.sum(lo_t, hi_t)
+                        } else {
+                            odd.sum(lo_t, hi_t)
+                        };
+                        s2 += vv[qq as usize + pl.a] * inner;
+                    }
+                    s2
+                };
+                acc += f * sum;
+            }
+        }
+        // With the fixed part F(n, r) = F0 + F1·r + F2·r².
+        let pw = &plan.power;
+        for n in 0..count {
+            let mut fc = [0.0f64; 3];
+            for (c, off) in plan.offsets.iter().enumerate() {
+                let x = vv[n + off];
+                for (i, f) in fc.iter_mut().enumerate() {
+                    *f += bp.fixed[c][i] * x;
+                }
+            }
+            let mut cross = 0.0;
+            for mv in &bp.moving {
+                let w = window(n + mv.a, mv.plus);
+                cross += mv.gamma * (fc[0] * w[0] + fc[1] * w[1] + fc[2] * w[2]);
+            }
+            let [f0, f1, f2] = fc;
+            let own = f0 * f0 * pw[0]
+                + 2.0 * f0 * f1 * pw[1]
+                + (f1 * f1 + 2.0 * f0 * f2) * pw[2]
+                + 2.0 * f1 * f2 * pw[3]
+                + f2 * f2 * pw[4];
+            acc += 2.0 * cross + own;
+        }
+        total += acc;
+    }
+    total
+}
+
+/// G(m) by the exact O(N)-per-τ form: (Σ of mean squares, subsequences used).
+fn reflected_mean_square_fast(v: &[f64], gaps: &Gaps, m: usize) -> (f64, usize) {
+    let count = v.len() - 3 * m + 1;
+    let plan = Plan::new(m);
+    let block = 3 * m;
+    let norm = (m * m * 6 * m) as f64;
+    let blocks: Vec<(f64, usize)> = (0..count.div_ceil(block))
+        .into_par_iter()
+        .map_init(RunScratch::default, |scr, b| {
+            let (lo, hi) = (b * block, ((b + 1) * block).min(count));
+            let mut s = 0.0;
+            let mut used = 0;
+            let mut n = lo;
+            while n < hi {
+                if !gaps.clear(n, n + 3 * m - 1) {
+                    n += 1;
+                    continue;
+                }
+                let mut e = n + 1;
+                while e < hi && gaps.clear(e, e + 3 * m - 1) {
+                    e += 1;
+                }
+                s += run_sum(&plan, v, n, e - n, scr);
+                used += e - n;
+                n = e;
+            }
+            (s / norm, used)
+        })
+        .collect();
+    blocks
+        .iter()
+        .fold((0.0, 0), |(s, u), &(bs, bu)| (s + bs, u + bu))
+}

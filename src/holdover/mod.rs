@@ -1,0 +1,459 @@
+//! Holdover: the time error TE(t) of a clock through a span with no
+//! reference, predicted from its record, and a verdict against a budget.
+//!
+//! TE(t) = te0 + y0·t + TE_a(t) + TE_temp(t) + x_noise(t), t from the start
+//! of holdover (the end of the record, or a chosen start):
+//! - te0 — the time error when the reference is lost;
+//! - y0 — the fractional-frequency error then, estimated as the mean
+//!   frequency over the last *settle* window, carried to the window's end by
+//!   the aging law, with its uncertainty;
+//! - TE_a — the aging law's time error ([`aging`]): ½·D·t² for a linear law
+//!   (CHECKS.md G: D = 1e−10/day over 24 h gives 4.32 µs);
+//! - TE_temp — a worst-case temperature term |c_T·ΔT|·t, always taken with the
+//!   sign that makes |TE| larger;
+//! - x_noise — the power-law noise model's random phase ([`paths`]).
+//!
+//! The random part is a seeded Monte Carlo: each path draws x_noise, and
+//! errors δy0 ~ N(0, σ_y0²) and δD ~ N(0, σ_D²) of the estimated frequency and
+//! aging; percentiles p50, p95, p99 of |TE(t)| over the paths are reported at
+//! log-spaced t. The paths are simulated at a step suited to the span
+//! (span / steps), not at τ0.
+
+pub mod aging;
+pub mod paths;
+
+use crate::deviation::Estimator;
+use crate::error::{Error, Result};
+use crate::model::fit::ModelFit;
+use crate::model::PowerLaw;
+use crate::record::{PhaseRecord, Record};
+use aging::{Aging, AgingModel};
+use paths::NoisePaths;
+use rand::{Rng, SeedableRng};
+use rand_chacha::ChaCha8Rng;
+use rand_distr::StandardNormal;
+use rayon::prelude::*;
+
+/// What holdover adds to [`crate::DECISION_CAUTION`].
+pub const HOLDOVER_NOTE: &str = "Real holdover also depends on temperature, supply, \
+vibration and ageing history that the record may not show.";
+
+/// The full caution printed with every holdover verdict.
+pub fn caution() -> String {
+    format!("{} {HOLDOVER_NOTE}", crate::DECISION_CAUTION)
+}
+
+/// The deterministic and random parameters of a holdover prediction.
+#[derive(Debug, Clone, PartialEq)]
+pub struct HoldoverModel {
+    /// Time error at the start of holdover, s.
+    pub te0: f64,
+    /// Fractional-frequency error at the start of holdover.
+    pub y0: f64,
+    /// Standard uncertainty of y0.
+    pub y0_sigma: f64,
+    /// The aging law, with its parameter's standard error.
+    pub aging: Aging,
+    /// Record time at which holdover starts, s (enters the log law only).
+    pub start: f64,
+    /// Worst-case temperature frequency offset |c_T·ΔT| (fractional).
+    pub temp_worst: f64,
+    /// The power-law noise model of the random part.
+    pub noise: PowerLaw,
+}
+
+impl HoldoverModel {
+    /// te0 + y0·t + TE_a(t) (no temperature, no noise).
+    pub fn base(&self, t: f64) -> f64 {
+        self.te0 + self.y0 * t + self.aging.te(self.start, t)
+    }
+
+    /// The deterministic TE(t): [`HoldoverModel::base`] plus the worst-case
+    /// temperature term with the sign of the base.
+    pub fn deterministic(&self, t: f64) -> f64 {
+        let b = self.base(t);
+        let temp = self.temp_worst.abs() * t;
+        if b < 0.0 {
+            b - temp
+        } else {
+            b + temp
+        }
+    }
+}
+
+/// How the prediction is run.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Settings {
+    /// Holdover span, s (> 0).
+    pub span: f64,
+    /// Time-error budget, s (> 0).
+    pub budget: f64,
+    /// Monte Carlo paths.
+    pub paths: usize,
+    /// Seed of the random paths (the same seed gives the same result).
+    pub seed: u64,
+    /// Simulation steps over the span (the step is span/steps).
+    pub steps: usize,
+    /// Output times per decade.
+    pub per_decade: usize,
+}
+
+impl Settings {
+    /// Defaults: 2000 paths, seed 1, 4096 steps, 10 output times per decade.
+    pub fn new(span: f64, budget: f64) -> Self {
+        Self {
+            span,
+            budget,
+            paths: 2000,
+            seed: 1,
+            steps: 4096,
+            per_decade: 10,
+        }
+    }
+
+    fn validate(&self) -> Result<()> {
+        if !(self.span.is_finite() && self.span > 0.0) {
+            return Err(Error::invalid(format!(
+                "holdover span must be a positive duration (e.g. 24h), got {} s",
+                self.span
+            )));
+        }
+        if !(self.budget.is_finite() && self.budget > 0.0) {
+            return Err(Error::invalid(format!(
+                "time-error budget must be a positive duration (e.g. 1.5us), got {} s",
+                self.budget
+            )));
+        }
+        if self.paths < 100 {
+            return Err(Error::invalid(format!(
+                "holdover needs at least 100 Monte Carlo paths for its percentiles, got {}",
+                self.paths
+            )));
+        }
+        if self.steps < 16 {
+            return Err(Error::invalid(format!(
+                "holdover needs at least 16 simulation steps, got {}",
+                self.steps
+            )));
+        }
+        Ok(())
+    }
+}
+
+/// One output time.
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
+pub struct TePoint {
+    /// Time since the start of holdover, s.
+    pub t: f64,
+    /// The deterministic TE(t), s (signed).
+    pub deterministic: f64,
+    /// Median of |TE(t)| over the paths, s.
+    pub p50: f64,
+    /// 95th percentile of |TE(t)|, s.
+    pub p95: f64,
+    /// 99th percentile of |TE(t)|, s.
+    pub p99: f64,
+    /// rms of the simulated TE(t) (without the worst-case temperature term), s.
+    pub rms: f64,
+}
+
+/// Pass when p95 of |TE| stays within the budget over the whole span.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
+#[serde(rename_all = "lowercase")]
+pub enum Verdict {
+    /// p95 ≤ budget throughout the span.
+    Pass,
+    /// p95 exceeds the budget within the span.
+    Fail,
+}
+
+impl Verdict {
+    /// `pass` or `fail`.
+    pub fn name(self) -> &'static str {
+        match self {
+            Verdict::Pass => "pass",
+            Verdict::Fail => "fail",
+        }
+    }
+}
+
+/// The prediction.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Prediction {
+    /// TE at log-spaced t, ending at the span.
+    pub te: Vec<TePoint>,
+    /// First t at which p95 of |TE| exceeds the budget (linear interpolation
+    /// between simulation steps); `None` when it never does within the span.
+    pub holds_for: Option<f64>,
+    /// The verdict for the span.
+    pub verdict: Verdict,
+    /// Simulation step, s.
+    pub step: f64,
+    /// Paths simulated.
+    pub paths: usize,
+}
+
+/// Percentile of `v` by linear interpolation between order statistics
+/// (Hyndman & Fan type 7); reorders `v`.
+fn percentile(v: &mut [f64], p: f64) -> f64 {
+    let len = v.len();
+    let h = (len - 1) as f64 * p;
+    let lo = h.floor() as usize;
+    let (_, &mut a, rest) = v.select_nth_unstable_by(lo, f64::total_cmp);
+    if lo + 1 >= len {
+        return a;
+    }
+    let b = rest.iter().cloned().fold(f64::INFINITY, f64::min);
+    a + (h - lo as f64) * (b - a)
+}
+
+/// Run the prediction: seeded Monte Carlo of the noise paths
+/// ([`paths::NoisePaths`]) plus the deterministic part and the y0 and aging
+/// uncertainties (module notes). Path p draws from ChaCha8 seeded with
+/// `seed` on stream p, so the same seed gives the same result whatever the
+/// number of threads.
+pub fn predict(model: &HoldoverModel, settings: &Settings) -> Result<Prediction> {
+    settings.validate()?;
+    let n = settings.steps;
+    let step = settings.span / n as f64;
+    let gen = NoisePaths::new(&model.noise, step, n)?;
+    let np = settings.paths;
+    let base: Vec<f64> = (0..=n).map(|k| model.base(k as f64 * step)).collect();
+    let unit: Vec<f64> = (0..=n)
+        .map(|k| model.aging.te_per_unit(model.start, k as f64 * step))
+        .collect();
+    let (sy0, sd) = (model.y0_sigma.abs(), model.aging.sigma().abs());
+    // te[p*n + (k−1)] = signed TE of path p at step k (k = 1 … n).
+    let mut te = vec![0.0f64; np * n];
+    te.par_chunks_mut(n).enumerate().for_each_init(
+        || vec![0.0f64; n + 1],
+        |x, (p, row)| {
+            let mut rng = ChaCha8Rng::seed_from_u64(settings.seed);
+            rng.set_stream(p as u64);
+            gen.fill(&mut rng, x);
+            let dy: f64 = sy0 * rng.sample::<f64, _>(StandardNormal);
+            let dd: f64 = sd * rng.sample::<f64, _>(StandardNormal);
+            for k in 1..=n {
+                let t = k as f64 * step;
+                row[k - 1] = base[k] + dy * t + dd * unit[k] + x[k];
+            }
+        },
+    );
+    let temp = model.temp_worst.abs();
+    let abs_at = |k: usize, buf: &mut Vec<f64>| {
+        let t = k as f64 * step;
+        buf.clear();
+        buf.extend((0..np).map(|p| te[p * n + k - 1].abs() + temp * t));
+    };
+    // p95 at every step, for the crossing.
+    let p95: Vec<f64> = (1..=n)
+        .into_par_iter()
+        .map_init(Vec::new, |buf, k| {
+            abs_at(k, buf);
+            percentile(buf, 0.95)
+        })
+        .collect();
+    let budget = settings.budget;
+    let holds_for = if model.te0.abs() > budget {
+        Some(0.0)
+    } else {
+        p95.iter().position(|&v| v > budget).map(|i| {
+            let k = i + 1;
+            let (t1, v1) = (k as f64 * step, p95[i]);
+            let (t0, v0) = if i == 0 {
+                (0.0, model.te0.abs())
+            } else {
+                ((k - 1) as f64 * step, p95[i - 1])
+            };
+            t0 + (budget - v0) / (v1 - v0) * (t1 - t0)
+        })
+    };
+    // Output steps: log-spaced, ending at the span.
+    let mut ks: Vec<usize> = Vec::new();
+    let pd = settings.per_decade.max(1) as f64;
+    for j in 0.. {
+        let k = 10f64.powf(j as f64 / pd).round() as usize;
+        if k > n {
+            break;
+        }
+        if ks.last() != Some(&k) {
+            ks.push(k);
+        }
+    }
+    if ks.last() != Some(&n) {
+        ks.push(n);
+    }
+    let mut buf = Vec::with_capacity(np);
+    let points = ks
+        .iter()
+        .map(|&k| {
+            let t = k as f64 * step;
+            let rms = ((0..np).map(|p| te[p * n + k - 1].powi(2)).sum::<f64>() / np as f64).sqrt();
+            abs_at(k, &mut buf);
+            TePoint {
+                t,
+                deterministic: model.deterministic(t),
+                p50: percentile(&mut buf, 0.50),
+                p95: percentile(&mut buf, 0.95),
+                p99: percentile(&mut buf, 0.99),
+                rms,
+            }
+        })
+        .collect();
+    Ok(Prediction {
+        te: points,
+        verdict: if holds_for.is_some() {
+            Verdict::Fail
+        } else {
+            Verdict::Pass
+        },
+        holds_for,
+        step,
+        paths: np,
+    })
+}
+
+/// How the deterministic part is obtained from a record.
+#[derive(Debug, Clone, PartialEq)]
+pub struct FromRecord {
+    /// Time error at the start of holdover, s (default 0).
+    pub te0: f64,
+    /// Settle window for y0, s; default a tenth of the record used.
+    pub settle: Option<f64>,
+    /// Holdover start as record time, s; default the end of the record.
+    pub start: Option<f64>,
+    /// The aging law to fit, unless `aging_given` is set.
+    pub aging_model: AgingModel,
+    /// A given linear aging rate (1/s), used instead of a fit.
+    pub aging_given: Option<f64>,
+    /// Worst-case temperature offset |c_T·ΔT| (fractional).
+    pub temp_worst: f64,
+    /// A given noise model; default: fitted on the record ([`fit_noise`]).
+    pub noise: Option<PowerLaw>,
+}
+
+impl Default for FromRecord {
+    fn default() -> Self {
+        Self {
+            te0: 0.0,
+            settle: None,
+            start: None,
+            aging_model: AgingModel::Linear,
+            aging_given: None,
+            temp_worst: 0.0,
+            noise: None,
+        }
+    }
+}
+
+/// Build a [`HoldoverModel`] from a record (phase or frequency):
+///
+/// 1. the record is cut at the start of holdover (`start`);
+/// 2. the aging law is fitted on its frequency ([`aging`]), or taken as given;
+/// 3. the noise model is fitted on the record with the aging removed
+///    ([`fit_noise`]), unless given;
+/// 4. y0 = ȳ_W + [y_a(T_s) − mean_W y_a], the mean frequency over the last
+///    settle window W carried to its end by the aging law, with
+///    σ_y0² = σ_y²(W) (the model's Allan variance at τ = W: the usual
+///    measure of how far a W-average can be from the next one, common
+///    practice) + (σ_param · ∂y_a/∂param · carry)².
+pub fn model_from_record(rec: &Record, opts: &FromRecord) -> Result<HoldoverModel> {
+    let mut y = rec.to_frequency();
+    let tau0 = y.tau0;
+    if let Some(s) = opts.start {
+        let span = y.y.len() as f64 * tau0;
+        if !(s.is_finite() && s > 0.0 && s <= span) {
+            return Err(Error::invalid(format!(
+                "holdover start {s} s is outside the record (0 … {span} s)"
+            )));
+        }
+        y.y.truncate((s / tau0).floor() as usize);
+    }
+    let valid = y.y.iter().filter(|v| !v.is_nan()).count();
+    if valid < 16 {
+        return Err(Error::insufficient(format!(
+            "holdover needs at least 16 valid frequency samples before the start, got {valid}"
+        )));
+    }
+    let ts = y.y.len() as f64 * tau0;
+    let aging = match opts.aging_given {
+        Some(d) => Aging::Linear {
+            c: 0.0,
+            d,
+            d_sigma: 0.0,
+        },
+        None => match opts.aging_model {
+            AgingModel::Linear => aging::fit_linear(&y)?,
+            AgingModel::Log => aging::fit_log(&y)?,
+        },
+    };
+    let residual = crate::record::FrequencyRecord {
+        y: y.y
+            .iter()
+            .enumerate()
+            .map(|(i, &v)| v - aging.y((i as f64 + 0.5) * tau0))
+            .collect(),
+        tau0,
+    };
+    let noise = match opts.noise {
+        Some(m) => m,
+        None => fit_noise(&residual.to_phase())?.model,
+    };
+    let w = opts.settle.unwrap_or(ts / 10.0);
+    if !(w.is_finite() && w >= tau0 && w <= ts) {
+        return Err(Error::invalid(format!(
+            "settle window {w} s must lie between τ0 = {tau0} s and the record used ({ts} s)"
+        )));
+    }
+    let first = y.y.len() - ((w / tau0).round() as usize).max(1);
+    let (mut sy, mut sa, mut k) = (0.0, 0.0, 0usize);
+    for i in first..y.y.len() {
+        let v = y.y[i];
+        if !v.is_nan() {
+            sy += v;
+            sa += aging.y((i as f64 + 0.5) * tau0);
+            k += 1;
+        }
+    }
+    if k == 0 {
+        return Err(Error::insufficient(
+            "the settle window holds no valid frequency sample",
+        ));
+    }
+    let carry = aging.y(ts) - sa / k as f64;
+    let y0 = sy / k as f64 + carry;
+    // ∂carry/∂param: for the linear law carry = D·(ts − t̄), for the log law carry ∝ A.
+    let param = match aging {
+        Aging::Linear { d, .. } => d,
+        Aging::Log { a, .. } => a,
+    };
+    let carry_per_unit = if param != 0.0 { carry / param } else { 0.0 };
+    let y0_sigma = (noise.avar(w) + (aging.sigma() * carry_per_unit).powi(2)).sqrt();
+    Ok(HoldoverModel {
+        te0: opts.te0,
+        y0,
+        y0_sigma,
+        aging,
+        start: ts,
+        temp_worst: opts.temp_worst,
+        noise,
+    })
+}
+
+/// The estimators whose curves feed the noise fit.
+pub const FIT_ESTIMATORS: [Estimator; 2] = [Estimator::Oadev, Estimator::Mdev];
+
+/// Fit the power-law model of the random part on a phase record (normally
+/// the record with its aging law removed, so that drift is not taken for
+/// RWFM): the project's record fit, [`crate::stability::fit_record_model`]
+/// (OADEV and MDEV on the octave grid, EDF-weighted, f_h = 1/(2τ0)).
+pub fn fit_noise(phase: &PhaseRecord) -> Result<ModelFit> {
+    crate::stability::fit_record_model(phase, &crate::tau::TauGrid::Octave)
+        .map(|m| m.fit)
+        .map_err(|e| match e {
+            Error::Insufficient(msg) => {
+                Error::insufficient(format!("{msg}: give the model with --model"))
+            }
+            other => other,
+        })
+}

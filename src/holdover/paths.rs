@@ -1,0 +1,142 @@
+//! Random phase paths of a power-law noise model for the holdover Monte
+//! Carlo, built from the project's synthesiser
+//! [`crate::simulate::power_law_phase`] (Kasdin & Walter 1992).
+//!
+//! One path is x_0 … x_n at t_k = k·Δ, relative to its start (x_0 = 0): each
+//! term h_α of the model is drawn by `power_law_phase` with the simulation
+//! step Δ as its sampling interval (n + 1 samples, started from rest at the
+//! start of holdover), the terms are added, and the first sample is
+//! subtracted.
+//!
+//! # Step and bandwidth
+//!
+//! The paths are simulated at a step Δ = span/steps suited to the span, not
+//! at the record's τ0, while the model keeps the record's bandwidth
+//! f_h = 1/(2τ0). For α ≤ 0 (WFM, FFM, RWFM) the synthesiser's calibration
+//! q = h_α·(2π)^(−α)·Δ^(1−α)/2 matches the model's S_x(f) at low frequency,
+//! whatever Δ, so the paths are right as drawn. The phase-noise terms
+//! depend on the bandwidth, and a path sampled at Δ sees everything above
+//! 1/(2Δ) folded into white phase:
+//! - WPM: the phase variance is h_2·f_h/(2π)² (IEEE Std 1139), so the term
+//!   is drawn with h_2' = 2Δ·f_h·h_2, which gives that variance at the
+//!   synthesiser's bandwidth 1/(2Δ) (exact);
+//! - FPM: drawn at Δ, plus white phase holding the part of its variance
+//!   between 1/(2Δ) and f_h, h_1·ln(2Δ·f_h)/(2π)² (S_x = h_1/((2π)²f)
+//!   integrated), added to the WPM term when Δ > τ0.
+//!
+//! # Variance growth (what the tests check)
+//!
+//! With Δ the step and t = kΔ, the variance of x_k − x_0 is
+//! - WPM: 2·h_2·f_h/(2π)², constant (analytic);
+//! - WFM: h_0·t/2 exactly (a random walk of step variance h_0Δ/2);
+//! - RWFM: q·[k² + k(k+1)(2k+1)/6] with q = (2π)²h_−2Δ³/2, i.e.
+//!   (2π)²·h_−2·t³/6 · (1 + O(1/k)) (IEEE Std 1139 RWFM integrated twice);
+//! - FFM: q·[(g_k − 1)² + Σ_{i<k} g_i²], q = π·h_−1·Δ², g the coefficients
+//!   of (1 − B)^(−3/2) ([`crate::simulate::kw_coefficients`] with d = 3/2).
+//!   Since g_i² = (4/π)(i + ¾) + O(1/i), this is 2·h_−1·t²·(1 + O(1/k)):
+//!   derived here. (Flicker FM has no stationary phase increments — its
+//!   variance diverges at low frequency — so some convention is needed;
+//!   "from rest at the start of holdover" leaves the frequency offset at
+//!   that moment to y0 and its uncertainty.)
+//! - FPM: the same sum with the coefficients of (1 − B)^(−1/2), q = h_1/(4π),
+//!   plus twice the white part above: it grows as ln k and stays below a
+//!   picosecond for any plausible oscillator.
+
+use crate::error::{Error, Result};
+use crate::model::PowerLaw;
+use crate::simulate::power_law_phase;
+use rand_chacha::ChaCha8Rng;
+use std::f64::consts::PI;
+
+/// Draws holdover noise paths of one model at one step (module notes).
+#[derive(Debug, Clone, PartialEq)]
+pub struct NoisePaths {
+    /// (α, h_α as drawn at the step), only the terms present.
+    terms: Vec<(i32, f64)>,
+    /// Steps per path.
+    n: usize,
+    /// Step Δ, s.
+    step: f64,
+}
+
+impl NoisePaths {
+    /// Prepare paths of `n` steps of `step` seconds for `model`.
+    ///
+    /// ```
+    /// use rand::SeedableRng;
+    /// use tauwise::{holdover::paths::NoisePaths, model::PowerLaw};
+    /// let mut m = PowerLaw::zero(0.5);
+    /// m.set(0, 1e-22);
+    /// let p = NoisePaths::new(&m, 10.0, 100).unwrap();
+    /// let mut x = vec![1.0; 101];
+    /// p.fill(&mut rand_chacha::ChaCha8Rng::seed_from_u64(1), &mut x);
+    /// assert_eq!(x[0], 0.0);
+    /// assert!(x[100].abs() < 1e-8);
+    /// ```
+    pub fn new(model: &PowerLaw, step: f64, n: usize) -> Result<Self> {
+        if !(step.is_finite() && step > 0.0) || n == 0 {
+            return Err(Error::invalid(format!(
+                "noise paths need a positive step and at least one step, got Δ = {step} s, n = {n}"
+            )));
+        }
+        for a in -2..=2 {
+            let h = model.get(a);
+            if !(h.is_finite() && h >= 0.0) {
+                return Err(Error::invalid(format!(
+                    "noise model h{a} must be a non-negative number, got {h}"
+                )));
+            }
+        }
+        let f_h = model.f_h;
+        let (h1, h2) = (model.get(1), model.get(2));
+        let mut wpm_phase_var = 0.0;
+        if h2 > 0.0 || h1 > 0.0 {
+            if !(f_h.is_finite() && f_h > 0.0) {
+                return Err(Error::invalid(format!(
+                    "a model with WPM or FPM needs a positive bandwidth f_h, got {f_h} Hz"
+                )));
+            }
+            wpm_phase_var = h2 * f_h / (4.0 * PI * PI);
+            let ratio = 2.0 * step * f_h;
+            if h1 > 0.0 && ratio > 1.0 {
+                wpm_phase_var += h1 * ratio.ln() / (4.0 * PI * PI);
+            }
+        }
+        let mut terms = Vec::new();
+        if wpm_phase_var > 0.0 {
+            // White phase of variance σ² is h_2' = σ²·(2π)²·2Δ at bandwidth 1/(2Δ).
+            terms.push((2, wpm_phase_var * 4.0 * PI * PI * 2.0 * step));
+        }
+        for a in [1, 0, -1, -2] {
+            let h = model.get(a);
+            if h > 0.0 {
+                terms.push((a, h));
+            }
+        }
+        Ok(Self { terms, n, step })
+    }
+
+    /// Steps per path.
+    pub fn steps(&self) -> usize {
+        self.n
+    }
+
+    /// The step Δ, s.
+    pub fn step(&self) -> f64 {
+        self.step
+    }
+
+    /// Fill `out` (length n + 1) with one path x_0 … x_n, x_0 = 0, seconds,
+    /// drawing every term from `rng` in turn.
+    pub fn fill(&self, rng: &mut ChaCha8Rng, out: &mut [f64]) {
+        let len = (self.n + 1).min(out.len());
+        out.iter_mut().for_each(|v| *v = 0.0);
+        for &(alpha, h) in &self.terms {
+            let x = power_law_phase(alpha, h, self.step, len, rng);
+            let x0 = x[0];
+            for (o, v) in out.iter_mut().zip(&x) {
+                *o += v - x0;
+            }
+        }
+    }
+}

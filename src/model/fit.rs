@@ -1,0 +1,543 @@
+//! Fit of a power-law model (h_α ≥ 0, α = 2 … −2) to measured variances or
+//! to S_y(f) points.
+//!
+//! # Variances
+//!
+//! Each point i is a measured variance v_i of kind AVAR, MVAR or HVAR at τ_i
+//! (τ0_i its sampling interval) with a weight w_i, normally its EDF (the
+//! variance of ln σ̂² is about 2/EDF). The model value is linear in h:
+//! p_i(h) = Σ_α h_α B_α(i), where B_α(i) is the variance of the unit power
+//! law h_α = 1 at that point. For n = τ/τ0 < 64 (or 2πf_hτ < 200) B is the
+//! numerical integral of the transfer function ([`super::response`]),
+//! which is exact at short τ — the table's MVAR forms are large-n limits
+//! (MVAR of WFM is h_0(1 + 1/n²)/(4τ), not h_0/(4τ)) — and beyond that the
+//! IEEE Std 1139 closed forms ([`PowerLaw::avar`], [`PowerLaw::mvar`],
+//! [`PowerLaw::hvar`]).
+//!
+//! The fit minimises the weighted squared log ratio
+//! J(h) = Σ w_i ln²(p_i(h)/v_i) over h ≥ 0 by Gauss–Newton steps, each a
+//! non-negative least-squares problem: linearising ln p around the current
+//! p gives min Σ w_i (B(i)·h/p_i − (1 − ln(p_i/v_i)))² over h ≥ 0, solved by
+//! Lawson–Hanson ([`nnls`]); the first step (p = v) is the fit of relative
+//! residuals. A step that raises J is shortened (h stays ≥ 0 on the
+//! segment). Using AVAR and MVAR points together separates white from
+//! flicker PM, whose AVAR both fall as τ^−2 but whose MVAR do not.
+//!
+//! # Spectra
+//!
+//! [`fit_sy`] fits S_y(f) = Σ h_α f^α to (f, S_y) points the same way, with
+//! B_α(i) = f_i^α.
+
+use super::response::variance_numeric;
+use super::PowerLaw;
+use crate::error::{Error, Result};
+use ndarray::{Array1, Array2};
+
+/// Which variance a point holds.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, serde::Serialize)]
+#[serde(rename_all = "lowercase")]
+pub enum VarKind {
+    /// Allan variance (overlapping or not: same expectation).
+    Avar,
+    /// Modified Allan variance.
+    Mvar,
+    /// Hadamard variance.
+    Hvar,
+}
+
+/// One measured variance to fit.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct FitPoint {
+    /// The kind of variance.
+    pub kind: VarKind,
+    /// Averaging time τ in seconds.
+    pub tau: f64,
+    /// Sampling interval τ0 of the record, seconds (τ = nτ0).
+    pub tau0: f64,
+    /// The measured variance (the deviation squared), > 0.
+    pub var: f64,
+    /// Weight, normally the point's EDF (> 0).
+    pub weight: f64,
+}
+
+/// The τ range over which one term gives the largest share of the model's
+/// Allan variance (closed forms of [`PowerLaw::avar`]).
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
+pub struct Dominant {
+    /// α of the term.
+    pub alpha: i32,
+    /// Start of the range, seconds.
+    pub tau_from: f64,
+    /// End of the range, seconds.
+    pub tau_to: f64,
+}
+
+/// A fitted power-law model.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ModelFit {
+    /// The fitted h_α (zero where a term is not in the fit) and f_h.
+    pub model: PowerLaw,
+    /// `fitted[k]`: h_α with α = k − 2 came out positive (is in the model).
+    pub fitted: [bool; 5],
+    /// Residual per input point, 10·log10(model/measured) in dB.
+    pub residual_db: Vec<f64>,
+    /// The dominant term over consecutive τ ranges, in increasing τ. For
+    /// variances the ranges cover the fitted τ; for [`fit_sy`] they cover
+    /// τ = 1/(2π f_max) … 1/(2π f_min).
+    pub dominant: Vec<Dominant>,
+}
+
+/// Below this n = τ/τ0 the basis is integrated numerically.
+const NUMERIC_BELOW_N: f64 = 64.0;
+/// Below this 2πf_hτ the FPM/WPM basis is integrated numerically.
+const NUMERIC_BELOW_FH: f64 = 200.0;
+
+/// The variance of the unit power law h_α = 1 at a point (module notes).
+pub fn basis(kind: VarKind, alpha: i32, tau: f64, tau0: f64, f_h: f64) -> f64 {
+    let n = tau / tau0;
+    let short_fh = alpha > 0 && 2.0 * std::f64::consts::PI * f_h * tau < NUMERIC_BELOW_FH;
+    if n < NUMERIC_BELOW_N || short_fh {
+        variance_numeric(kind, alpha, tau, tau0, f_h)
+    } else {
+        let mut m = PowerLaw::zero(f_h);
+        m.set(alpha, 1.0);
+        m.variance(kind, tau, tau0)
+    }
+}
+
+/// Fit h_α ≥ 0 (all five terms) to measured variances (module notes).
+///
+/// Errors when there is no point, or a point has a non-positive or
+/// non-finite variance, weight, τ or τ0, or τ < τ0, or f_h ≤ 0.
+pub fn fit_variances(points: &[FitPoint], f_h: f64) -> Result<ModelFit> {
+    fit_variances_terms(points, f_h, [true; 5])
+}
+
+/// [`fit_variances`] with only the terms where `allowed[α + 2]` is true.
+pub fn fit_variances_terms(points: &[FitPoint], f_h: f64, allowed: [bool; 5]) -> Result<ModelFit> {
+    check_fh(f_h)?;
+    if points.is_empty() {
+        return Err(Error::insufficient("no variance points to fit a model to"));
+    }
+    for (i, p) in points.iter().enumerate() {
+        let ok = |v: f64| v.is_finite() && v > 0.0;
+        if !(ok(p.tau) && ok(p.tau0) && ok(p.var) && ok(p.weight)) {
+            return Err(Error::invalid(format!(
+                "fit point {} (τ = {} s): τ, τ0, variance and weight must be positive numbers",
+                i + 1,
+                p.tau
+            )));
+        }
+        if p.tau < p.tau0 * (1.0 - 1e-9) {
+            return Err(Error::invalid(format!(
+                "fit point {}: τ = {} s is shorter than τ0 = {} s",
+                i + 1,
+                p.tau,
+                p.tau0
+            )));
+        }
+    }
+    let rows: Vec<[f64; 5]> = points
+        .iter()
+        .map(|p| {
+            let mut r = [0.0; 5];
+            for (k, v) in r.iter_mut().enumerate() {
+                if allowed[k] {
+                    *v = basis(p.kind, k as i32 - 2, p.tau, p.tau0, f_h);
+                }
+            }
+            r
+        })
+        .collect();
+    let v: Vec<f64> = points.iter().map(|p| p.var).collect();
+    let w: Vec<f64> = points.iter().map(|p| p.weight).collect();
+    let h = log_fit(&rows, &v, &w)?;
+    let model = PowerLaw { h, f_h };
+    let lo = points.iter().map(|p| p.tau).fold(f64::INFINITY, f64::min);
+    let hi = points.iter().map(|p| p.tau).fold(0.0, f64::max);
+    let dominant = dominant_ranges(&h, lo, hi, |a, t| unit_avar(a, t, f_h));
+    Ok(finish(model, &rows, &v, dominant))
+}
+
+/// Fit S_y(f) = Σ h_α f^α (h_α ≥ 0) to spectrum points in log space, with
+/// optional weights (equal when `None`; for a Welch estimate, the number of
+/// averaged segments). Every f must lie in (0, f_h].
+pub fn fit_sy(f: &[f64], sy: &[f64], weights: Option<&[f64]>, f_h: f64) -> Result<ModelFit> {
+    check_fh(f_h)?;
+    if f.len() != sy.len() || weights.is_some_and(|w| w.len() != f.len()) {
+        return Err(Error::invalid(
+            "spectrum fit: frequency, S_y and weight lists differ in length",
+        ));
+    }
+    if f.is_empty() {
+        return Err(Error::insufficient("no spectrum points to fit a model to"));
+    }
+    let ones = vec![1.0; f.len()];
+    let w = weights.unwrap_or(&ones);
+    for i in 0..f.len() {
+        let ok = |v: f64| v.is_finite() && v > 0.0;
+        if !(ok(f[i]) && ok(sy[i]) && ok(w[i])) {
+            return Err(Error::invalid(format!(
+                "spectrum point {} (f = {} Hz): f, S_y and weight must be positive numbers",
+                i + 1,
+                f[i]
+            )));
+        }
+        if f[i] > f_h * (1.0 + 1e-12) {
+            return Err(Error::invalid(format!(
+                "spectrum point {}: f = {} Hz is above the model's f_h = {} Hz",
+                i + 1,
+                f[i],
+                f_h
+            )));
+        }
+    }
+    let rows: Vec<[f64; 5]> = f
+        .iter()
+        .map(|&fi| std::array::from_fn(|k| fi.powi(k as i32 - 2)))
+        .collect();
+    let h = log_fit(&rows, sy, w)?;
+    let model = PowerLaw { h, f_h };
+    let fmin = f.iter().copied().fold(f64::INFINITY, f64::min);
+    let fmax = f.iter().copied().fold(0.0, f64::max);
+    let two_pi = 2.0 * std::f64::consts::PI;
+    let dominant = dominant_ranges(&h, 1.0 / (two_pi * fmax), 1.0 / (two_pi * fmin), |a, t| {
+        unit_avar(a, t, f_h)
+    });
+    Ok(finish(model, &rows, sy, dominant))
+}
+
+/// AVAR of the unit power law from the closed form (used to judge which
+/// term dominates; the short-τ refinements of [`basis`] do not move the
+/// crossovers noticeably).
+fn unit_avar(alpha: i32, tau: f64, f_h: f64) -> f64 {
+    let mut m = PowerLaw::zero(f_h);
+    m.set(alpha, 1.0);
+    m.avar(tau)
+}
+
+fn check_fh(f_h: f64) -> Result<()> {
+    if f_h.is_finite() && f_h > 0.0 {
+        Ok(())
+    } else {
+        Err(Error::invalid(format!(
+            "f_h must be a positive frequency, got {f_h}"
+        )))
+    }
+}
+
+fn finish(model: PowerLaw, rows: &[[f64; 5]], v: &[f64], dominant: Vec<Dominant>) -> ModelFit {
+    let residual_db = rows
+        .iter()
+        .zip(v)
+        .map(|(r, &vi)| 10.0 * (dot(r, &model.h) / vi).log10())
+        .collect();
+    ModelFit {
+        model,
+        fitted: std::array::from_fn(|k| model.h[k] > 0.0),
+        residual_db,
+        dominant,
+    }
+}
+
+fn dot(r: &[f64; 5], h: &[f64; 5]) -> f64 {
+    r.iter().zip(h).map(|(a, b)| a * b).sum()
+}
+
+fn objective(rows: &[[f64; 5]], v: &[f64], w: &[f64], h: &[f64; 5]) -> f64 {
+    let mut j = 0.0;
+    for ((r, &vi), &wi) in rows.iter().zip(v).zip(w) {
+        let p = dot(r, h);
+        if p <= 0.0 || !p.is_finite() {
+            return f64::INFINITY;
+        }
+        j += wi * (p / vi).ln().powi(2);
+    }
+    j
+}
+
+/// Gauss–Newton in log space with an NNLS solve per step (module notes).
+fn log_fit(rows: &[[f64; 5]], v: &[f64], w: &[f64]) -> Result<[f64; 5]> {
+    let m = rows.len();
+    // Column scales so that the NNLS columns are of order one.
+    let mut scale = [0.0f64; 5];
+    for (r, &vi) in rows.iter().zip(v) {
+        for k in 0..5 {
+            scale[k] = scale[k].max(r[k] / vi);
+        }
+    }
+    let cols: Vec<usize> = (0..5).filter(|&k| scale[k] > 0.0).collect();
+    if cols.is_empty() {
+        return Err(Error::insufficient(
+            "no power-law term contributes at the given points",
+        ));
+    }
+    let mut h = [0.0f64; 5];
+    let mut p: Vec<f64> = v.to_vec();
+    let mut current = f64::INFINITY;
+    for _ in 0..100 {
+        let mut a = Array2::<f64>::zeros((m, cols.len()));
+        let mut b = Array1::<f64>::zeros(m);
+        for i in 0..m {
+            let sw = w[i].sqrt();
+            let r = (p[i] / v[i]).ln();
+            for (j, &k) in cols.iter().enumerate() {
+                a[[i, j]] = sw * rows[i][k] / (scale[k] * p[i]);
+            }
+            b[i] = sw * (1.0 - r);
+        }
+        let g = nnls(&a, &b);
+        let mut cand = [0.0f64; 5];
+        for (j, &k) in cols.iter().enumerate() {
+            cand[k] = g[j] / scale[k];
+        }
+        let mut jc = objective(rows, v, w, &cand);
+        if current.is_finite() {
+            let mut lambda = 1.0;
+            let mut tries = 0;
+            while jc > current && tries < 40 {
+                lambda *= 0.5;
+                for k in 0..5 {
+                    cand[k] = h[k] + lambda * (cand[k] - h[k]);
+                }
+                jc = objective(rows, v, w, &cand);
+                tries += 1;
+            }
+            if jc > current {
+                break;
+            }
+        }
+        if !jc.is_finite() {
+            return Err(Error::insufficient(
+                "the model fit found no power law with a positive value at every point",
+            ));
+        }
+        let done = current.is_finite() && (current - jc) <= 1e-12 * current.max(1e-300);
+        h = cand;
+        current = jc;
+        for (pi, r) in p.iter_mut().zip(rows) {
+            *pi = dot(r, &h);
+        }
+        if done {
+            break;
+        }
+    }
+    if !current.is_finite() {
+        return Err(Error::insufficient("the model fit did not converge"));
+    }
+    Ok(h)
+}
+
+/// Dominant-term ranges over [lo, hi]: on a grid of 40 points per decade,
+/// then the boundaries refined by bisection in log τ.
+fn dominant_ranges(
+    h: &[f64; 5],
+    lo: f64,
+    hi: f64,
+    unit: impl Fn(i32, f64) -> f64,
+) -> Vec<Dominant> {
+    let top = |t: f64| -> Option<i32> {
+        let mut best: Option<(i32, f64)> = None;
+        for (k, &hk) in h.iter().enumerate() {
+            if hk > 0.0 {
+                let a = k as i32 - 2;
+                let c = hk * unit(a, t);
+                match best {
+                    Some((_, b)) if b >= c => {}
+                    _ => best = Some((a, c)),
+                }
+            }
+        }
+        best.map(|b| b.0)
+    };
+    if !(lo > 0.0 && hi >= lo) {
+        return Vec::new();
+    }
+    let steps = (((hi / lo).log10() * 40.0).ceil() as usize).max(1);
+    let at = |i: usize| lo * (hi / lo).powf(i as f64 / steps as f64);
+    let mut out: Vec<Dominant> = Vec::new();
+    let Some(mut cur) = top(lo) else {
+        return out;
+    };
+    let mut from = lo;
+    for i in 1..=steps {
+        let t = at(i);
+        let Some(a) = top(t) else { continue };
+        if a != cur {
+            let (mut l, mut r) = (at(i - 1).ln(), t.ln());
+            for _ in 0..40 {
+                let mid = 0.5 * (l + r);
+                if top(mid.exp()) == Some(cur) {
+                    l = mid;
+                } else {
+                    r = mid;
+                }
+            }
+            let edge = (0.5 * (l + r)).exp();
+            out.push(Dominant {
+                alpha: cur,
+                tau_from: from,
+                tau_to: edge,
+            });
+            from = edge;
+            cur = top(t).unwrap_or(a);
+        }
+    }
+    out.push(Dominant {
+        alpha: cur,
+        tau_from: from,
+        tau_to: hi,
+    });
+    out
+}
+
+/// Non-negative least squares, min ‖Ax − b‖ over x ≥ 0, by the active-set
+/// algorithm of Lawson & Hanson (*Solving Least Squares Problems*, 1974,
+/// ch. 23). Each passive-set subproblem is solved by Householder QR.
+pub fn nnls(a: &Array2<f64>, b: &Array1<f64>) -> Array1<f64> {
+    let (m, n) = a.dim();
+    let mut x = Array1::<f64>::zeros(n);
+    let mut passive = vec![false; n];
+    let norm = a.iter().fold(0.0f64, |s, v| s.max(v.abs()));
+    let tol = 10.0 * f64::EPSILON * norm * (m.max(n) as f64);
+    let grad = |x: &Array1<f64>| -> Array1<f64> {
+        let r = b - &a.dot(x);
+        a.t().dot(&r)
+    };
+    let mut outer = 0;
+    loop {
+        let wv = grad(&x);
+        let pick = (0..n)
+            .filter(|&j| !passive[j] && wv[j] > tol)
+            .max_by(|&i, &j| wv[i].total_cmp(&wv[j]));
+        let Some(t) = pick else { break };
+        outer += 1;
+        if outer > 3 * n + 10 {
+            break;
+        }
+        passive[t] = true;
+        loop {
+            let cols: Vec<usize> = (0..n).filter(|&j| passive[j]).collect();
+            let s_p = lstsq(a, &cols, b);
+            let mut s = Array1::<f64>::zeros(n);
+            for (i, &j) in cols.iter().enumerate() {
+                s[j] = s_p[i];
+            }
+            if cols.iter().all(|&j| s[j] > 0.0) {
+                x = s;
+                break;
+            }
+            // Step towards s until the first passive component reaches zero.
+            let mut alpha = 1.0f64;
+            for &j in &cols {
+                if s[j] <= 0.0 {
+                    let d = x[j] - s[j];
+                    alpha = alpha.min(if d > 0.0 { x[j] / d } else { 0.0 });
+                }
+            }
+            x = &x + &((&s - &x) * alpha);
+            for &j in &cols {
+                if x[j] <= tol {
+                    passive[j] = false;
+                    x[j] = 0.0;
+                }
+            }
+            if !passive.iter().any(|&p| p) {
+                break;
+            }
+        }
+    }
+    x
+}
+
+/// Least squares on the columns `cols` of A by Householder QR; components
+/// whose pivot is negligible (rank deficiency) are set to zero.
+pub fn lstsq(a: &Array2<f64>, cols: &[usize], b: &Array1<f64>) -> Vec<f64> {
+    let m = a.nrows();
+    let k = cols.len();
+    let mut r = Array2::<f64>::zeros((m, k));
+    for (j, &c) in cols.iter().enumerate() {
+        r.column_mut(j).assign(&a.column(c));
+    }
+    let mut y = b.clone();
+    let scale = r.iter().fold(0.0f64, |s, v| s.max(v.abs()));
+    let steps = k.min(m);
+    for j in 0..steps {
+        let norm: f64 = (j..m).map(|i| r[[i, j]].powi(2)).sum::<f64>().sqrt();
+        if norm == 0.0 {
+            continue;
+        }
+        let alpha = if r[[j, j]] > 0.0 { -norm } else { norm };
+        let mut v: Vec<f64> = (j..m).map(|i| r[[i, j]]).collect();
+        v[0] -= alpha;
+        let vn: f64 = v.iter().map(|e| e * e).sum();
+        if vn == 0.0 {
+            continue;
+        }
+        for c in j..k {
+            let d: f64 = (j..m).map(|i| v[i - j] * r[[i, c]]).sum::<f64>() * 2.0 / vn;
+            for i in j..m {
+                r[[i, c]] -= d * v[i - j];
+            }
+        }
+        let d: f64 = (j..m).map(|i| v[i - j] * y[i]).sum::<f64>() * 2.0 / vn;
+        for i in j..m {
+            y[i] -= d * v[i - j];
+        }
+    }
+    let mut x = vec![0.0; k];
+    for j in (0..steps).rev() {
+        let piv = r[[j, j]];
+        if piv.abs() <= 1e-12 * scale {
+            x[j] = 0.0;
+            continue;
+        }
+        let s: f64 = (j + 1..k).map(|c| r[[j, c]] * x[c]).sum();
+        x[j] = (y[j] - s) / piv;
+    }
+    x
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn lstsq_solves_a_small_system() {
+        // Exact fit y = 2 + 3t on four points (analytic).
+        let a = Array2::from_shape_vec((4, 2), vec![1., 0., 1., 1., 1., 2., 1., 3.]).unwrap();
+        let b = Array1::from(vec![2., 5., 8., 11.]);
+        let x = lstsq(&a, &[0, 1], &b);
+        assert!((x[0] - 2.0).abs() < 1e-12 && (x[1] - 3.0).abs() < 1e-12);
+    }
+
+    #[test]
+    fn nnls_clamps_a_negative_coefficient() {
+        // b = 1·a0 − 1·a1 exactly: the unconstrained solution is (1, −1);
+        // with x ≥ 0 the answer is the projection on a0 alone (analytic).
+        let a = Array2::from_shape_vec((3, 2), vec![1., 0., 0., 1., 1., 1.]).unwrap();
+        let b = Array1::from(vec![1., -1., 0.]);
+        let x = nnls(&a, &b);
+        assert!((x[0] - 0.5).abs() < 1e-12, "{x}");
+        assert_eq!(x[1], 0.0);
+    }
+
+    #[test]
+    fn fit_rejects_bad_points() {
+        let p = FitPoint {
+            kind: VarKind::Avar,
+            tau: 1.0,
+            tau0: 1.0,
+            var: -1.0,
+            weight: 1.0,
+        };
+        assert!(fit_variances(&[p], 0.5).is_err());
+        assert!(fit_variances(&[], 0.5).is_err());
+        let q = FitPoint { var: 1e-22, ..p };
+        assert!(fit_variances(&[q], 0.0).is_err());
+        let r = FitPoint { tau: 0.5, ..q };
+        assert!(fit_variances(&[r], 0.5).is_err());
+        assert!(fit_sy(&[1.0], &[1.0], None, 0.5).is_err());
+        assert!(fit_sy(&[0.1, 0.2], &[1.0], None, 0.5).is_err());
+    }
+}

@@ -1,0 +1,246 @@
+//! End-to-end: the `stability` binary on small files, its JSON and CSV
+//! contract (DESIGN.md §5), and its errors.
+
+use std::path::Path;
+use std::process::Command;
+
+fn tauwise() -> Command {
+    Command::new(env!("CARGO_BIN_EXE_tauwise"))
+}
+
+/// NIST SP 1065 nine-point set (CHECKS.md A): fractional-frequency data.
+const NINE: [f64; 9] = [892., 809., 823., 798., 671., 644., 883., 903., 677.];
+
+fn write(dir: &Path, name: &str, text: &str) -> std::path::PathBuf {
+    let p = dir.join(name);
+    std::fs::write(&p, text).unwrap();
+    p
+}
+
+#[test]
+fn json_contract_and_nist_values() {
+    let dir = tempfile::tempdir().unwrap();
+    let text: String = NINE.iter().map(|v| format!("{v}\n")).collect();
+    let f = write(dir.path(), "nine.txt", &text);
+    let out = tauwise()
+        .args(["stability"])
+        .arg(&f)
+        .args([
+            "--data",
+            "freq",
+            "--tau0",
+            "1s",
+            "--dev",
+            "adev,oadev,totdev",
+        ])
+        .args(["--taus", "1,2", "--format", "json"])
+        .output()
+        .unwrap();
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let doc: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    assert_eq!(doc["tool"], "tauwise");
+    assert_eq!(doc["version"], env!("CARGO_PKG_VERSION"));
+    assert_eq!(doc["input"]["data"], "freq");
+    assert_eq!(doc["input"]["tau0"], 1.0);
+    assert_eq!(doc["input"]["points"], 9);
+    assert_eq!(doc["input"]["gaps"], 0);
+    assert_eq!(doc["confidence"], 0.683);
+    let curves = doc["curves"].as_array().unwrap();
+    assert_eq!(curves.len(), 3);
+    // NIST SP 1065 nine-point values (CHECKS.md A, from memory): ADEV m=1
+    // 91.22945, m=2 115.8082; OADEV m=2 85.95287; TOTDEV m=2 93.90379.
+    let dev = |c: usize, k: usize| curves[c]["points"][k]["dev"].as_f64().unwrap();
+    let close = |a: f64, b: f64| (a - b).abs() / b < 5e-7;
+    assert_eq!(curves[0]["estimator"], "adev");
+    assert!(close(dev(0, 0), 91.22945), "{}", dev(0, 0));
+    assert!(close(dev(0, 1), 115.8082), "{}", dev(0, 1));
+    assert!(close(dev(1, 1), 85.95287), "{}", dev(1, 1));
+    assert!(close(dev(2, 1), 93.90379), "{}", dev(2, 1));
+    for key in [
+        "tau", "m", "dev", "terms", "edf", "lo", "hi", "alpha", "noise",
+    ] {
+        assert!(
+            curves[0]["points"][0].get(key).is_some(),
+            "point lacks '{key}'"
+        );
+    }
+}
+
+#[test]
+fn csv_has_one_row_per_point() {
+    let dir = tempfile::tempdir().unwrap();
+    let text: String = (0..64)
+        .map(|i| format!("{}\n", (i * i % 17) as f64))
+        .collect();
+    let f = write(dir.path(), "x.txt", &text);
+    let out_file = dir.path().join("out.csv");
+    let st = tauwise()
+        .arg("stability")
+        .arg(&f)
+        .args([
+            "--tau0",
+            "1",
+            "--dev",
+            "oadev,mdev",
+            "--format",
+            "csv",
+            "-o",
+        ])
+        .arg(&out_file)
+        .status()
+        .unwrap();
+    assert!(st.success());
+    let csv = std::fs::read_to_string(&out_file).unwrap();
+    let mut lines = csv.lines();
+    assert_eq!(
+        lines.next().unwrap(),
+        "estimator,tau,m,dev,terms,edf,lo,hi,alpha,noise"
+    );
+    // 64 phase points: oadev m = 1..16 (5 octaves up to 31), mdev up to 21.
+    let rows: Vec<&str> = lines.collect();
+    assert_eq!(rows.iter().filter(|r| r.starts_with("oadev,")).count(), 5);
+    assert_eq!(rows.iter().filter(|r| r.starts_with("mdev,")).count(), 5);
+}
+
+#[test]
+fn unknown_estimator_is_an_error_and_writes_nothing() {
+    let dir = tempfile::tempdir().unwrap();
+    let f = write(dir.path(), "x.txt", "1\n2\n3\n4\n5\n");
+    let out_file = dir.path().join("out.json");
+    let out = tauwise()
+        .arg("stability")
+        .arg(&f)
+        .args(["--tau0", "1", "--dev", "oadev,wobble", "-o"])
+        .arg(&out_file)
+        .output()
+        .unwrap();
+    assert_eq!(out.status.code(), Some(1));
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert!(err.contains("unknown estimator 'wobble'"), "{err}");
+    assert!(
+        err.contains("oadev"),
+        "the message lists the known names: {err}"
+    );
+    assert!(!out_file.exists());
+}
+
+#[test]
+fn too_short_record_is_an_error() {
+    let dir = tempfile::tempdir().unwrap();
+    let f = write(dir.path(), "x.txt", "1\n2\n");
+    let out = tauwise()
+        .arg("stability")
+        .arg(&f)
+        .args(["--tau0", "1", "--dev", "hdev"])
+        .output()
+        .unwrap();
+    assert_eq!(out.status.code(), Some(1));
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert!(err.contains("too short"), "{err}");
+}
+
+#[test]
+fn bad_confidence_is_an_error() {
+    let dir = tempfile::tempdir().unwrap();
+    let text: String = (0..50).map(|i| format!("{i}\n")).collect();
+    let f = write(dir.path(), "x.txt", &text);
+    for c in ["0", "1", "1.5", "-0.2"] {
+        let out = tauwise()
+            .arg("stability")
+            .arg(&f)
+            .args(["--tau0", "1", "--confidence", c])
+            .output()
+            .unwrap();
+        assert_eq!(out.status.code(), Some(1), "confidence {c}");
+        assert!(String::from_utf8_lossy(&out.stderr).contains("outside (0, 1)"));
+    }
+}
+
+/// `--best`: a curve `best` whose every point is the narrowest relative
+/// interval among the requested σ_y curves at its τ (checked against the
+/// other curves of the same output), with `"from"` naming the estimator;
+/// TDEV is never chosen. CSV gets a last column `from`; the table marks
+/// TheoH's bias-corrected values with `*`. (The record is tauwise's own
+/// seeded simulation; the check is the selection rule itself.)
+#[test]
+fn best_curve_picks_the_narrowest_interval() {
+    let dir = tempfile::tempdir().unwrap();
+    let rec = dir.path().join("rec.csv");
+    let sim = tauwise()
+        .args([
+            "simulate",
+            "--model",
+            "h0=1e-22,h-2=1e-30",
+            "--points",
+            "3000",
+            "--seed",
+            "5",
+            "-o",
+        ])
+        .arg(&rec)
+        .output()
+        .unwrap();
+    assert!(
+        sim.status.success(),
+        "{}",
+        String::from_utf8_lossy(&sim.stderr)
+    );
+    let run = |fmt: &str| {
+        let out = tauwise()
+            .arg("stability")
+            .arg(&rec)
+            .args(["--tau0", "1s", "--dev", "oadev,totdev,tdev,theoh", "--best"])
+            .args(["--format", fmt])
+            .output()
+            .unwrap();
+        assert!(
+            out.status.success(),
+            "{}",
+            String::from_utf8_lossy(&out.stderr)
+        );
+        String::from_utf8(out.stdout).unwrap()
+    };
+    let doc: serde_json::Value = serde_json::from_str(&run("json")).unwrap();
+    let curves = doc["curves"].as_array().unwrap();
+    assert_eq!(curves.len(), 5);
+    let best = &curves[4];
+    assert_eq!(best["estimator"], "best");
+    let pts = best["points"].as_array().unwrap();
+    assert!(pts.len() >= 8);
+    let width = |p: &serde_json::Value| p["hi"].as_f64().unwrap() / p["lo"].as_f64().unwrap();
+    for p in pts {
+        let from = p["from"].as_str().unwrap();
+        assert_ne!(from, "tdev");
+        let tau = p["tau"].as_f64().unwrap();
+        // The chosen point is one of `from`'s own points.
+        let src = curves.iter().find(|c| c["estimator"] == from).unwrap();
+        assert!(src["points"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .any(|q| q["tau"] == p["tau"] && q["dev"] == p["dev"]));
+        // No σ_y point at the same τ has a narrower interval.
+        for c in &curves[..4] {
+            if c["estimator"] == "tdev" {
+                continue;
+            }
+            for q in c["points"].as_array().unwrap() {
+                if q["tau"].as_f64().unwrap() == tau && !q["lo"].is_null() {
+                    assert!(width(q) >= width(p), "{from} at τ = {tau}");
+                }
+            }
+        }
+    }
+    let csv = run("csv");
+    assert!(csv.lines().next().unwrap().ends_with(",from"));
+    assert!(csv
+        .lines()
+        .any(|l| l.starts_with("best,") && l.ends_with(",totdev")));
+    let table = run("table");
+    assert!(table.contains("best — "));
+    assert!(table.contains("* bias-corrected"));
+}

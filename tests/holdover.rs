@@ -1,0 +1,313 @@
+//! Holdover prediction against analytic results.
+
+use rand::{Rng, SeedableRng};
+use rand_chacha::ChaCha8Rng;
+use rand_distr::StandardNormal;
+use tauwise::holdover::aging::{Aging, AgingModel};
+use tauwise::holdover::paths::NoisePaths;
+use tauwise::holdover::{
+    fit_noise, model_from_record, predict, FromRecord, HoldoverModel, Settings, Verdict,
+};
+use tauwise::model::PowerLaw;
+use tauwise::{FrequencyRecord, Record};
+
+const DAY: f64 = 86400.0;
+
+fn quiet(te0: f64, y0: f64, d: f64) -> HoldoverModel {
+    HoldoverModel {
+        te0,
+        y0,
+        y0_sigma: 0.0,
+        aging: Aging::Linear {
+            c: 0.0,
+            d,
+            d_sigma: 0.0,
+        },
+        start: 0.0,
+        temp_worst: 0.0,
+        noise: PowerLaw::zero(0.5),
+    }
+}
+
+/// CHECKS.md G (analytic): with no noise TE(t) = te0 + y0·t + ½·D·t², and
+/// D = 1e−10/day over 24 h alone gives 4.32 µs.
+#[test]
+fn no_noise_is_the_closed_form() {
+    let d = 1e-10 / DAY;
+    let m = quiet(0.0, 0.0, d);
+    let mut s = Settings::new(DAY, 5e-6);
+    s.paths = 100;
+    let p = predict(&m, &s).unwrap();
+    let end = p.te.last().unwrap();
+    assert_eq!(end.t, DAY);
+    assert!(
+        (end.deterministic - 4.32e-6).abs() < 1e-15,
+        "{}",
+        end.deterministic
+    );
+    assert!((end.p95 - 4.32e-6).abs() < 1e-15);
+    assert_eq!(p.verdict, Verdict::Pass);
+    assert_eq!(p.holds_for, None);
+
+    let (te0, y0) = (-2e-7, 3e-12);
+    let m = quiet(te0, y0, d);
+    let p = predict(&m, &s).unwrap();
+    for pt in &p.te {
+        let t = pt.t;
+        let want = te0 + y0 * t + 0.5 * d * t * t;
+        assert!((pt.deterministic - want).abs() < 1e-18, "t = {t}");
+        for q in [pt.p50, pt.p95, pt.p99] {
+            assert!((q - want.abs()).abs() < 1e-18, "t = {t}");
+        }
+    }
+    // A 3 µs budget: the crossing is the root of te0 + y0·t + ½Dt² = 3 µs
+    // (|TE| grows through it), found by the quadratic formula (analytic).
+    s.budget = 3e-6;
+    let p = predict(&m, &s).unwrap();
+    let (a, b, c) = (0.5 * d, y0, te0 - 3e-6);
+    let root = (-b + (b * b - 4.0 * a * c).sqrt()) / (2.0 * a);
+    let got = p.holds_for.unwrap();
+    assert_eq!(p.verdict, Verdict::Fail);
+    // linear interpolation between steps of span/4096: error ≤ step²·D/|TE'|
+    assert!((got - root).abs() < 1.0, "{got} vs {root}");
+
+    // Worst-case temperature adds |c·ΔT|·t with the sign of TE.
+    let mut m2 = quiet(0.0, 1e-11, 0.0);
+    m2.temp_worst = 5e-11;
+    let p = predict(
+        &m2,
+        &Settings {
+            paths: 100,
+            ..Settings::new(1000.0, 1.0)
+        },
+    )
+    .unwrap();
+    let end = p.te.last().unwrap();
+    assert!((end.deterministic - 6e-11 * 1000.0).abs() < 1e-18);
+    assert!((end.p95 - 6e-11 * 1000.0).abs() < 1e-18);
+}
+
+/// Pure WFM (analytic): TE(t) is a random walk with σ²(t) = h0·t/2; the
+/// Monte Carlo rms is within 5 % of sqrt(h0·t/2) and, |TE| being
+/// half-normal, p95 within 5 % of 1.96× that.
+#[test]
+fn white_fm_random_walk() {
+    let h0 = 2e-22;
+    let mut m = quiet(0.0, 0.0, 0.0);
+    m.noise.set(0, h0);
+    let s = Settings {
+        paths: 8000,
+        seed: 11,
+        steps: 512,
+        ..Settings::new(DAY, 1.0)
+    };
+    let p = predict(&m, &s).unwrap();
+    let mut checked = 0;
+    for pt in p.te.iter().filter(|pt| pt.t >= 1000.0) {
+        let sigma = (h0 * pt.t / 2.0).sqrt();
+        assert!(
+            (pt.rms / sigma - 1.0).abs() < 0.05,
+            "t = {}: rms {} vs {sigma}",
+            pt.t,
+            pt.rms
+        );
+        assert!(
+            (pt.p95 / (1.96 * sigma) - 1.0).abs() < 0.05,
+            "t = {}: p95",
+            pt.t
+        );
+        checked += 1;
+    }
+    assert!(checked >= 10);
+    // Same seed, same answer.
+    assert_eq!(predict(&m, &s).unwrap(), p);
+}
+
+/// RWFM alone (analytic): x(t) is the integral of a random walk in y, so
+/// the variance of TE(t) grows as t³; the Monte Carlo must follow that
+/// growth between a tenth of the span and the span.
+#[test]
+fn rwfm_variance_grows_as_t_cubed() {
+    let mut m = quiet(0.0, 0.0, 0.0);
+    m.noise.set(-2, 1e-30);
+    let s = Settings {
+        paths: 4000,
+        seed: 5,
+        steps: 256,
+        ..Settings::new(DAY, 1.0)
+    };
+    let p = predict(&m, &s).unwrap();
+    let a = p.te.iter().find(|pt| pt.t >= 0.1 * DAY).unwrap();
+    let b = p.te.last().unwrap();
+    let ratio = (b.rms / a.rms).powi(2) / (b.t / a.t).powi(3);
+    assert!((ratio - 1.0).abs() < 0.15, "{ratio}");
+}
+
+/// Aging recovered from a simulated frequency record with known drift,
+/// within 5 % (the record also carries WFM noise).
+#[test]
+fn aging_recovered_from_a_record() {
+    let d = 5e-11 / DAY;
+    let tau0 = 10.0;
+    let n = 2 * 8640; // two days
+    let mut rng = ChaCha8Rng::seed_from_u64(3);
+    let sd = (1e-22f64 / (2.0 * tau0)).sqrt(); // WFM, h0 = 1e-22: σ_y(τ0)
+    let y: Vec<f64> = (0..n)
+        .map(|i| 2e-9 + d * (i as f64 + 0.5) * tau0 + sd * rng.sample::<f64, _>(StandardNormal))
+        .collect();
+    let rec = Record::Frequency(FrequencyRecord::new(y, tau0).unwrap());
+    let m = model_from_record(&rec, &FromRecord::default()).unwrap();
+    let got = m.aging.rate(0.0);
+    assert!((got / d - 1.0).abs() < 0.05, "{got} vs {d}");
+    // y0 is the frequency at the end of the record: 2e-9 + d·span.
+    let want_y0 = 2e-9 + d * n as f64 * tau0;
+    assert!(
+        (m.y0 - want_y0).abs() < 3.0 * m.y0_sigma + 1e-13,
+        "{} vs {want_y0}",
+        m.y0
+    );
+    // The fitted noise is WFM-dominated near h0 = 1e-22.
+    assert!((m.noise.get(0) / 1e-22 - 1.0).abs() < 0.3, "{:?}", m.noise);
+    // A log model on the same record also gives a rate near D at the end.
+    let ml = model_from_record(
+        &rec,
+        &FromRecord {
+            aging_model: AgingModel::Log,
+            ..FromRecord::default()
+        },
+    )
+    .unwrap();
+    assert_eq!(ml.aging.model(), AgingModel::Log);
+}
+
+/// Bad input: span ≤ 0, budget ≤ 0, too few paths — clear errors.
+#[test]
+fn bad_settings() {
+    let m = quiet(0.0, 0.0, 0.0);
+    for (span, budget, word) in [
+        (0.0, 1e-6, "span"),
+        (-5.0, 1e-6, "span"),
+        (10.0, 0.0, "budget"),
+        (10.0, -1.0, "budget"),
+    ] {
+        let e = predict(&m, &Settings::new(span, budget))
+            .unwrap_err()
+            .to_string();
+        assert!(e.contains(word), "{e}");
+    }
+    let e = predict(
+        &m,
+        &Settings {
+            paths: 3,
+            ..Settings::new(10.0, 1.0)
+        },
+    )
+    .unwrap_err()
+    .to_string();
+    assert!(e.contains("paths"), "{e}");
+    let rec = Record::Frequency(FrequencyRecord::new(vec![0.0; 10], 1.0).unwrap());
+    assert!(model_from_record(&rec, &FromRecord::default()).is_err());
+}
+
+/// Monte Carlo variance of x_k − x_0 over `paths` paths of one term.
+fn path_variance(alpha: i32, h: f64, f_h: f64, step: f64, n: usize, ks: &[usize]) -> Vec<f64> {
+    let mut model = PowerLaw::zero(f_h);
+    model.set(alpha, h);
+    let g = NoisePaths::new(&model, step, n).unwrap();
+    let paths = 20_000;
+    let mut acc = vec![0.0; ks.len()];
+    let mut x = vec![0.0; n + 1];
+    for p in 0..paths {
+        let mut rng = ChaCha8Rng::seed_from_u64(17);
+        rng.set_stream(p);
+        g.fill(&mut rng, &mut x);
+        assert_eq!(x[0], 0.0);
+        for (a, &k) in acc.iter_mut().zip(ks) {
+            *a += x[k] * x[k];
+        }
+    }
+    acc.iter().map(|a| a / paths as f64).collect()
+}
+
+/// The holdover noise paths follow the analytic variance growth of each
+/// noise type (module notes of `holdover::paths`). Monte Carlo of 20 000
+/// paths: the relative sampling error of a variance is sqrt(2/20000) = 1 %,
+/// the tolerance 5 %.
+#[test]
+fn noise_paths_follow_the_analytic_variance_growth() {
+    use std::f64::consts::PI;
+    let (step, n) = (30.0, 256);
+    let ks = [16usize, 64, 256];
+    let f_h = 0.5; // record τ0 = 1 s, paths at 30 s
+                   // WPM (IEEE Std 1139: phase variance h2·f_h/(2π)², analytic): constant 2σ².
+    let h2 = 1e-22;
+    for (v, _) in path_variance(2, h2, f_h, step, n, &ks).iter().zip(ks) {
+        let want = 2.0 * h2 * f_h / (4.0 * PI * PI);
+        assert!((v / want - 1.0).abs() < 0.05, "WPM {v} vs {want}");
+    }
+    // WFM (analytic): h0·t/2.
+    let h0 = 1e-22;
+    for (v, k) in path_variance(0, h0, f_h, step, n, &ks).iter().zip(ks) {
+        let want = h0 * k as f64 * step / 2.0;
+        assert!((v / want - 1.0).abs() < 0.05, "WFM k={k}: {v} vs {want}");
+    }
+    // RWFM (analytic, y a random walk integrated once more): (2π)²·h·t³/6,
+    // exactly q·[k² + k(k+1)(2k+1)/6] for the discrete walk.
+    let hm2 = 1e-30;
+    for (v, k) in path_variance(-2, hm2, f_h, step, n, &ks).iter().zip(ks) {
+        let kf = k as f64;
+        let q = 4.0 * PI * PI * hm2 * step.powi(3) / 2.0;
+        let exact = q * (kf * kf + kf * (kf + 1.0) * (2.0 * kf + 1.0) / 6.0);
+        assert!((v / exact - 1.0).abs() < 0.05, "RWFM k={k}: {v} vs {exact}");
+        let t = kf * step;
+        let asym = 4.0 * PI * PI * hm2 * t.powi(3) / 6.0;
+        if k >= 256 {
+            assert!((v / asym - 1.0).abs() < 0.05, "RWFM k={k}: {v} vs {asym}");
+        }
+    }
+    // FFM (derived in holdover::paths): q·[(g_k − 1)² + Σ_{i<k} g_i²],
+    // q = π·h·Δ², g of (1 − B)^(−3/2); about 2·h·t².
+    let hm1 = 1e-26;
+    let g = tauwise::simulate::kw_coefficients(1.5, n + 1);
+    for (v, k) in path_variance(-1, hm1, f_h, step, n, &ks).iter().zip(ks) {
+        let q = PI * hm1 * step * step;
+        let exact = q * ((g[k] - 1.0).powi(2) + g[..k].iter().map(|c| c * c).sum::<f64>());
+        assert!((v / exact - 1.0).abs() < 0.05, "FFM k={k}: {v} vs {exact}");
+        let t = k as f64 * step;
+        if k >= 256 {
+            let asym = 2.0 * hm1 * t * t;
+            assert!((v / asym - 1.0).abs() < 0.05, "FFM k={k}: {v} vs {asym}");
+        }
+    }
+    // FPM: the same sum with the coefficients of (1 − B)^(−1/2), q = h/(4π),
+    // plus twice the white phase above 1/(2Δ), h·ln(2Δf_h)/(2π)² (derived).
+    let h1 = 1e-24;
+    let c = tauwise::simulate::kw_coefficients(0.5, n + 1);
+    for (v, k) in path_variance(1, h1, f_h, step, n, &ks).iter().zip(ks) {
+        let q = h1 / (4.0 * PI);
+        let white = h1 * (2.0 * step * f_h).ln() / (4.0 * PI * PI);
+        let exact =
+            q * ((c[k] - 1.0).powi(2) + c[..k].iter().map(|c| c * c).sum::<f64>()) + 2.0 * white;
+        assert!((v / exact - 1.0).abs() < 0.05, "FPM k={k}: {v} vs {exact}");
+    }
+}
+
+/// The noise fit of the holdover model (OADEV + MDEV with their EDF into
+/// model::fit) recovers a known model: a record synthesised from
+/// h0 = 1e-22, h−2 = 1e−30 (IEEE Std 1139 terms), each fitted h within 30 %.
+#[test]
+fn noise_fit_recovers_the_simulated_model() {
+    let truth = PowerLaw::parse("h0=1e-22,h-2=1e-30", 0.5).unwrap();
+    let rec =
+        tauwise::simulate::simulate_phase(&tauwise::simulate::SimSpec::new(truth, 1.0, 100_000, 9))
+            .unwrap();
+    let fit = fit_noise(&rec).unwrap();
+    let m = fit.model;
+    assert!((m.get(0) / 1e-22 - 1.0).abs() < 0.3, "{m:?}");
+    assert!((m.get(-2) / 1e-30 - 1.0).abs() < 0.3, "{m:?}");
+    // The model's ADEV stays within 20 % of the truth from 1 s to 10^4 s.
+    for tau in [1.0, 10.0, 100.0, 1e3, 1e4] {
+        let r = (m.avar(tau) / truth.avar(tau)).sqrt();
+        assert!((r - 1.0).abs() < 0.2, "τ = {tau}: {r}");
+    }
+}
