@@ -353,3 +353,72 @@ fn spectrum_and_record_jitter() {
     let j = ok_json(&["spectrum", &r, "--tau0", "1ms", "--quantity", "sx"]);
     assert!(j["points"][0]["lf_dbc_hz"].is_null());
 }
+
+/// `--to model` recovers the h_α of a table built from a model (IEEE Std
+/// 1139 terms, exact in log-log), and `--sigma` fits a stability JSON and
+/// says the direction is model-based.
+#[test]
+fn model_fit_paths() {
+    let dir = tempfile::tempdir().unwrap();
+    let out = dir.path().join("lf.csv");
+    let o = bin()
+        .args([
+            "convert",
+            "--model",
+            "h2=6e-30,h0=1e-25,h-1=3e-25,fh=10M",
+            "--carrier",
+            "10MHz",
+        ])
+        .args(["--to", "lf", "--from", "1", "--format", "csv", "-o"])
+        .arg(&out)
+        .output()
+        .unwrap();
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let p = out.display().to_string();
+    let j = ok_json(&[
+        "convert",
+        "--lf",
+        &p,
+        "--quantity",
+        "lf",
+        "--carrier",
+        "10MHz",
+        "--to",
+        "model",
+    ]);
+    for (k, want) in [("h2", 6e-30), ("h0", 1e-25), ("h-1", 3e-25)] {
+        let got = j["h"][k].as_f64().unwrap();
+        assert!((got / want - 1.0).abs() < 0.02, "{k}: {got:e}");
+    }
+    // A stability-shaped document: WFM OADEV σ² = h0/(2τ) (IEEE Std 1139).
+    let pts: Vec<serde_json::Value> = [1.0, 2.0, 4.0, 8.0, 16.0, 32.0]
+        .iter()
+        .map(|t: &f64| serde_json::json!({"tau": t, "m": *t as usize, "dev": (1e-22 / (2.0 * t)).sqrt(), "edf": 100.0}))
+        .collect();
+    let doc = serde_json::json!({"tool": "tauwise", "input": {"tau0": 1.0}, "curves": [{"estimator": "oadev", "points": pts}]});
+    let sj = dir.path().join("st.json");
+    std::fs::write(&sj, doc.to_string()).unwrap();
+    let s = sj.display().to_string();
+    let j = ok_json(&[
+        "convert",
+        "--sigma",
+        &s,
+        "--carrier",
+        "10MHz",
+        "--to",
+        "lf",
+        "--from",
+        "1m",
+        "--to-offset",
+        "0.1",
+    ]);
+    assert!(j["input"]["note"].as_str().unwrap().contains("model-based"));
+    // WFM: L(f) = 10·log10(h0·ν0²/(2f²)).
+    let p0 = &j["points"][0];
+    let f = p0["f"].as_f64().unwrap();
+    let want = 10.0 * (1e-22 * 1e14 / (2.0 * f * f)).log10();
+    assert!(
+        (p0["lf_dbc_hz"].as_f64().unwrap() - want).abs() < 0.5,
+        "{p0}"
+    );
+}

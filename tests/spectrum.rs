@@ -293,3 +293,37 @@ fn record_spectrum_sigma_round_trip() {
         );
     }
 }
+
+/// Round trip (issue 4): simulate from a model (Kasdin & Walter synthesis)
+/// → Welch spectrum → fit of S_y = Σ h_α f^α (the model layer's fit) gives
+/// each coefficient within a factor 1.5 of the model.
+#[test]
+fn simulate_spectrum_fit_round_trip() {
+    use tauwise::model::fit::fit_sy;
+    let tau0 = 1.0;
+    let truth = PowerLaw::parse("h2=1e-21,h0=1e-23,h-1=1e-25", 0.5 / tau0).unwrap();
+    let rec = simulate_phase(&SimSpec::new(truth, tau0, 1 << 18, 4)).unwrap();
+    let w = welch(
+        &rec,
+        &WelchOptions {
+            segment: Some(1 << 14),
+            ..Default::default()
+        },
+    )
+    .unwrap();
+    let sy = w.log_binned(10, None).unwrap().to(Quantity::Sy).unwrap();
+    // Below f_N/5, where the sampled spectrum follows the continuous model.
+    let keep: Vec<usize> = (0..sy.len()).filter(|&i| sy.f[i] < 0.1 / tau0).collect();
+    let f: Vec<f64> = keep.iter().map(|&i| sy.f[i]).collect();
+    let v: Vec<f64> = keep.iter().map(|&i| sy.values[i]).collect();
+    let fit = fit_sy(&f, &v, None, 0.5 / tau0).unwrap();
+    for a in [2, 0, -1] {
+        let r = fit.model.get(a) / truth.get(a);
+        assert!(
+            (1.0 / 1.5..1.5).contains(&r),
+            "h{a}: fitted {:e}, model {:e}",
+            fit.model.get(a),
+            truth.get(a)
+        );
+    }
+}

@@ -23,6 +23,8 @@ pub enum Target {
     Sigma,
     /// An L(f) table (columns f, lf_dbc_hz, sphi, sy, sx).
     Lf,
+    /// A power-law model h_α fitted to the table (IEEE Std 1139 terms).
+    Model,
 }
 
 /// Convert between phase-noise tables, power-law models and σ(τ).
@@ -36,10 +38,14 @@ pub struct Args {
     #[arg(
         long = "lf",
         value_name = "TABLE",
-        conflicts_with = "model",
-        required_unless_present = "model"
+        conflicts_with_all = ["model", "sigma"],
+        required_unless_present_any = ["model", "sigma"]
     )]
     pub lf: Option<PathBuf>,
+    /// A `tauwise stability --format json` result: fit h_α to its curves
+    /// (adev/oadev, mdev, hdev/ohdev; EDF weights), then convert the model.
+    #[arg(long, value_name = "FILE.json", conflicts_with = "model")]
+    pub sigma: Option<PathBuf>,
     /// Power-law model in h_α notation (h2 h1 h0 h-1 h-2, fh).
     #[arg(long, value_name = "MODEL")]
     pub model: Option<String>,
@@ -144,8 +150,13 @@ fn source(args: &Args, carrier: Option<f64>, tau_hint: Option<f64>) -> Result<So
             max_tau: 1.0 / lo,
         });
     }
-    let text = args.model.as_deref().unwrap_or_default();
-    let parsed = PowerLaw::parse(text, f64::NAN)?;
+    let (parsed, from_sigma) = match &args.sigma {
+        Some(path) => (model_from_stability(path, fh_opt)?, true),
+        None => (
+            PowerLaw::parse(args.model.as_deref().unwrap_or_default(), f64::NAN)?,
+            false,
+        ),
+    };
     let f_h =
         match (fh_opt, parsed.f_h.is_nan()) {
             (Some(f), _) => f,
@@ -166,10 +177,16 @@ fn source(args: &Args, carrier: Option<f64>, tau_hint: Option<f64>) -> Result<So
     let mut header = serde_json::Map::new();
     header.insert("tool".into(), tauwise::TOOL.into());
     header.insert("version".into(), tauwise::VERSION.into());
-    header.insert(
-        "input".into(),
-        serde_json::json!({"model": model.to_model_string(), "data": "model"}),
-    );
+    let input = match &args.sigma {
+        Some(p) if from_sigma => serde_json::json!({
+            "path": p.display().to_string(),
+            "data": "stability",
+            "model": model.to_model_string(),
+            "note": "model-based: h_α fitted to the σ(τ) curves, then converted",
+        }),
+        _ => serde_json::json!({"model": model.to_model_string(), "data": "model"}),
+    };
+    header.insert("input".into(), input);
     Ok(Source {
         spectrum,
         header,
@@ -194,6 +211,7 @@ pub fn run(args: Args) -> Result<Outcome> {
     let text = match args.to {
         Target::Sigma => to_sigma(&args, src, carrier)?,
         Target::Lf => to_lf(&args, src, carrier)?,
+        Target::Model => to_model(&args, src, carrier)?,
     };
     emit(&args.output, &text)?;
     Ok(Outcome::Done)
@@ -346,13 +364,19 @@ fn point_json(p: &SigmaPoint) -> serde_json::Value {
 fn to_lf(args: &Args, src: Source, carrier: Option<f64>) -> Result<String> {
     let from = parse_frequency(&args.from)?;
     let to = freq(&args.to_offset, "to-offset")?.unwrap_or(src.f_h);
-    let spec = match &args.model {
-        Some(text) => {
-            let parsed = PowerLaw::parse(text, src.f_h)?;
-            let model = PowerLaw {
-                f_h: src.f_h,
-                ..parsed
-            };
+    let model = match (&args.model, &args.sigma) {
+        (Some(text), _) => Some(PowerLaw {
+            f_h: src.f_h,
+            ..PowerLaw::parse(text, src.f_h)?
+        }),
+        (None, Some(path)) => Some(PowerLaw {
+            f_h: src.f_h,
+            ..model_from_stability(path, Some(src.f_h))?
+        }),
+        _ => None,
+    };
+    let spec = match model {
+        Some(model) => {
             Spectrum::from_model(&model, Quantity::Lf, carrier, from, to, args.per_decade)?
         }
         None => src.spectrum.to(Quantity::Lf)?,
@@ -372,6 +396,127 @@ fn to_lf(args: &Args, src: Source, carrier: Option<f64>) -> Result<String> {
         Format::Table => {
             let mut out = format!("L(f) from {}\n\n", src.label);
             out.push_str(&rows.text());
+            out
+        }
+    })
+}
+
+/// Fit h_α to the curves of a `stability` JSON document (model-based
+/// direction of the conversion): `adev`/`oadev` as AVAR, `mdev` as MVAR,
+/// `hdev`/`ohdev` as HVAR, weighted by each point's EDF (1 when absent).
+/// f_h defaults to 1/(2τ0) of the record.
+fn model_from_stability(path: &std::path::Path, fh: Option<f64>) -> Result<PowerLaw> {
+    use tauwise::model::fit::{fit_variances, FitPoint, VarKind};
+    let bad = |what: &str| {
+        Error::Read(tauwise::io::ReadError::file(
+            path,
+            format!("{what}; expected the JSON written by `tauwise stability --format json`"),
+        ))
+    };
+    let text = std::fs::read_to_string(path).map_err(|e| bad(&format!("could not read: {e}")))?;
+    let doc: serde_json::Value =
+        serde_json::from_str(&text).map_err(|e| bad(&format!("not JSON ({e})")))?;
+    let tau0 = doc["input"]["tau0"]
+        .as_f64()
+        .filter(|t| *t > 0.0)
+        .ok_or_else(|| bad("no input.tau0"))?;
+    let curves = doc["curves"].as_array().ok_or_else(|| bad("no curves"))?;
+    let mut points = Vec::new();
+    for c in curves {
+        let kind = match c["estimator"].as_str().unwrap_or("") {
+            "adev" | "oadev" => VarKind::Avar,
+            "mdev" => VarKind::Mvar,
+            "hdev" | "ohdev" => VarKind::Hvar,
+            _ => continue,
+        };
+        for p in c["points"].as_array().into_iter().flatten() {
+            let (Some(tau), Some(dev)) = (p["tau"].as_f64(), p["dev"].as_f64()) else {
+                continue;
+            };
+            if tau > 0.0 && dev > 0.0 {
+                points.push(FitPoint {
+                    kind,
+                    tau,
+                    tau0,
+                    var: dev * dev,
+                    weight: p["edf"].as_f64().filter(|e| *e > 0.0).unwrap_or(1.0),
+                });
+            }
+        }
+    }
+    if points.is_empty() {
+        return Err(bad("no adev, oadev, mdev, hdev or ohdev points"));
+    }
+    let f_h = fh.unwrap_or(0.5 / tau0);
+    Ok(fit_variances(&points, f_h)?.model)
+}
+
+/// `--to model`: fit S_y = Σ h_α f^α to the table's points (log-space fit of
+/// the model layer), f_h the table's highest offset unless --fh.
+fn to_model(args: &Args, src: Source, carrier: Option<f64>) -> Result<String> {
+    use tauwise::model::fit::fit_sy;
+    let sy = src.spectrum.to(Quantity::Sy)?;
+    let keep: Vec<usize> = (0..sy.len()).filter(|&i| sy.f[i] <= src.f_h).collect();
+    let f: Vec<f64> = keep.iter().map(|&i| sy.f[i]).collect();
+    let v: Vec<f64> = keep.iter().map(|&i| sy.values[i]).collect();
+    let fit = fit_sy(&f, &v, None, src.f_h)?;
+    let m = fit.model;
+    let rms_db = (fit.residual_db.iter().map(|r| r * r).sum::<f64>()
+        / fit.residual_db.len().max(1) as f64)
+        .sqrt();
+    Ok(match args.output.format {
+        Format::Json => {
+            let mut doc = src.header;
+            doc.insert(
+                "carrier".into(),
+                carrier.map(num).unwrap_or(serde_json::Value::Null),
+            );
+            doc.insert("f_h".into(), num(src.f_h));
+            doc.insert("model".into(), m.to_model_string().into());
+            doc.insert(
+                "h".into(),
+                serde_json::json!({
+                    "h2": num(m.get(2)), "h1": num(m.get(1)), "h0": num(m.get(0)),
+                    "h-1": num(m.get(-1)), "h-2": num(m.get(-2)),
+                }),
+            );
+            doc.insert("residual_rms_db".into(), num(rms_db));
+            doc.insert("dominant".into(), serde_json::json!(fit.dominant));
+            json_text(&serde_json::Value::Object(doc))
+        }
+        Format::Csv => {
+            let mut out = String::from("alpha,noise,h\n");
+            for a in (-2..=2).rev() {
+                let _ = writeln!(
+                    out,
+                    "{a},{},{}",
+                    tauwise::model::noise_label(a).unwrap_or(""),
+                    plain(m.get(a))
+                );
+            }
+            out
+        }
+        Format::Table => {
+            let mut out = format!("Power-law model fitted to {}\n", src.label);
+            let _ = writeln!(
+                out,
+                "  f_h {}, residual {:.2} dB rms",
+                format_si(src.f_h, "Hz", 4),
+                rms_db
+            );
+            for a in (-2..=2).rev() {
+                let _ = writeln!(
+                    out,
+                    "  h{a:<3} {:>5}  {}",
+                    tauwise::model::noise_label(a).unwrap_or(""),
+                    if m.get(a) > 0.0 {
+                        format_sig(m.get(a), 4)
+                    } else {
+                        "-".into()
+                    }
+                );
+            }
+            let _ = writeln!(out, "  model: {}", m.to_model_string());
             out
         }
     })
