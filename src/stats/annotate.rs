@@ -149,8 +149,8 @@ fn annotate_theo(
 }
 
 /// Annotate the estimates of `est` on the record `x`: the noise type at each
-/// τ ([`identify`], or `opts.forced_alpha`), its EDF ([`edf`]) and the
-/// two-sided interval at `opts.confidence` ([`interval`]).
+/// τ ([`identify`], or `opts.forced_alpha`), its EDF ([`edf()`]) and the
+/// two-sided interval at `opts.confidence` ([`interval()`]).
 ///
 /// The EDF is evaluated for the gap-free record that would give the same
 /// number of terms ([`VarianceKind::equivalent_points`]), so gaps widen the
