@@ -10,7 +10,7 @@ use std::time::Duration;
 use tauwise::holdover::aging::Aging;
 use tauwise::holdover::{predict, HoldoverModel, Settings};
 use tauwise::model::PowerLaw;
-use tauwise::wander::{analyse, log_grid, masks::builtin};
+use tauwise::wander::{analyse, default_ms, masks::builtin};
 use tauwise::PhaseRecord;
 
 fn tie_record(n: usize) -> PhaseRecord {
@@ -27,7 +27,7 @@ fn tie_record(n: usize) -> PhaseRecord {
 
 fn bench_wander(c: &mut Criterion) {
     let rec = tie_record(10_000_000);
-    let ms = log_grid(rec.len(), 10);
+    let ms = default_ms(rec.len(), rec.tau0).unwrap();
     let mut masks = builtin("g8262-opt1").unwrap();
     masks.extend(builtin("g811").unwrap());
     let mut g = c.benchmark_group("wander");

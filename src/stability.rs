@@ -77,6 +77,64 @@ pub fn analyse(x: &PhaseRecord, req: &Request) -> Result<Vec<Curve>> {
     Ok(curves)
 }
 
+/// The power-law model of a record, fitted to its OADEV and MDEV curves
+/// together (so that white and flicker PM, which OADEV alone cannot tell
+/// apart, are separated by MDEV's different slope), each point weighted by
+/// its EDF ([`crate::model::fit::fit_variances`]). The cut-off is the
+/// record's Nyquist frequency f_h = 1/(2τ0).
+#[derive(Debug, Clone)]
+pub struct RecordModel {
+    /// The OADEV and MDEV curves the model was fitted to (annotated).
+    pub curves: Vec<Curve>,
+    /// The fit: h_α, dominant ranges, residual per fitted point (dB), OADEV
+    /// points first.
+    pub fit: crate::model::fit::ModelFit,
+}
+
+/// Fit the power-law model of `x` over the τ grid `grid` (see [`RecordModel`]):
+/// OADEV and MDEV annotated by the statistics layer, then
+/// [`crate::model::fit::fit_variances`] on the variances σ² with the EDF as
+/// weight (the variance of ln σ̂² is about 2/EDF), f_h = 1/(2τ0). Points whose
+/// noise type, and so whose EDF, cannot be identified (the longest τ of a
+/// short record) are left out. Remove aging first
+/// ([`crate::prepare::remove_drift`]): drift left in would pose as RWFM.
+pub fn fit_record_model(x: &PhaseRecord, grid: &TauGrid) -> Result<RecordModel> {
+    use crate::model::fit::{fit_variances, FitPoint, VarKind};
+    let req = Request {
+        estimators: vec![Estimator::Oadev, Estimator::Mdev],
+        grid: grid.clone(),
+        confidence: crate::stats::DEFAULT_CONFIDENCE,
+        forced_alpha: None,
+    };
+    let curves = analyse(x, &req)?;
+    let mut points = Vec::new();
+    for (curve, kind) in curves.iter().zip([VarKind::Avar, VarKind::Mvar]) {
+        for p in &curve.points {
+            let e = p.estimate;
+            if let Some(edf) = p.edf.filter(|v| v.is_finite() && *v > 0.0) {
+                if e.value.is_finite() && e.value > 0.0 {
+                    points.push(FitPoint {
+                        kind,
+                        tau: e.tau,
+                        tau0: x.tau0,
+                        var: e.value * e.value,
+                        weight: edf,
+                    });
+                }
+            }
+        }
+    }
+    if points.is_empty() {
+        return Err(Error::insufficient(format!(
+            "fitting the noise model needs OADEV or MDEV points with a known EDF; the record \
+             ({} phase points) gives none",
+            x.len()
+        )));
+    }
+    let fit = fit_variances(&points, 0.5 / x.tau0)?;
+    Ok(RecordModel { curves, fit })
+}
+
 /// One point of the `best` curve: the chosen point and the estimator it
 /// came from.
 #[derive(Debug, Clone, Copy, PartialEq)]

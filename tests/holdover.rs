@@ -4,7 +4,10 @@ use rand::{Rng, SeedableRng};
 use rand_chacha::ChaCha8Rng;
 use rand_distr::StandardNormal;
 use tauwise::holdover::aging::{Aging, AgingModel};
-use tauwise::holdover::{model_from_record, predict, FromRecord, HoldoverModel, Settings, Verdict};
+use tauwise::holdover::paths::NoisePaths;
+use tauwise::holdover::{
+    fit_noise, model_from_record, predict, FromRecord, HoldoverModel, Settings, Verdict,
+};
 use tauwise::model::PowerLaw;
 use tauwise::{FrequencyRecord, Record};
 
@@ -204,4 +207,107 @@ fn bad_settings() {
     assert!(e.contains("paths"), "{e}");
     let rec = Record::Frequency(FrequencyRecord::new(vec![0.0; 10], 1.0).unwrap());
     assert!(model_from_record(&rec, &FromRecord::default()).is_err());
+}
+
+/// Monte Carlo variance of x_k − x_0 over `paths` paths of one term.
+fn path_variance(alpha: i32, h: f64, f_h: f64, step: f64, n: usize, ks: &[usize]) -> Vec<f64> {
+    let mut model = PowerLaw::zero(f_h);
+    model.set(alpha, h);
+    let g = NoisePaths::new(&model, step, n).unwrap();
+    let paths = 20_000;
+    let mut acc = vec![0.0; ks.len()];
+    let mut x = vec![0.0; n + 1];
+    for p in 0..paths {
+        let mut rng = ChaCha8Rng::seed_from_u64(17);
+        rng.set_stream(p);
+        g.fill(&mut rng, &mut x);
+        assert_eq!(x[0], 0.0);
+        for (a, &k) in acc.iter_mut().zip(ks) {
+            *a += x[k] * x[k];
+        }
+    }
+    acc.iter().map(|a| a / paths as f64).collect()
+}
+
+/// The holdover noise paths follow the analytic variance growth of each
+/// noise type (module notes of `holdover::paths`). Monte Carlo of 20 000
+/// paths: the relative sampling error of a variance is sqrt(2/20000) = 1 %,
+/// the tolerance 5 %.
+#[test]
+fn noise_paths_follow_the_analytic_variance_growth() {
+    use std::f64::consts::PI;
+    let (step, n) = (30.0, 256);
+    let ks = [16usize, 64, 256];
+    let f_h = 0.5; // record τ0 = 1 s, paths at 30 s
+                   // WPM (IEEE Std 1139: phase variance h2·f_h/(2π)², analytic): constant 2σ².
+    let h2 = 1e-22;
+    for (v, _) in path_variance(2, h2, f_h, step, n, &ks).iter().zip(ks) {
+        let want = 2.0 * h2 * f_h / (4.0 * PI * PI);
+        assert!((v / want - 1.0).abs() < 0.05, "WPM {v} vs {want}");
+    }
+    // WFM (analytic): h0·t/2.
+    let h0 = 1e-22;
+    for (v, k) in path_variance(0, h0, f_h, step, n, &ks).iter().zip(ks) {
+        let want = h0 * k as f64 * step / 2.0;
+        assert!((v / want - 1.0).abs() < 0.05, "WFM k={k}: {v} vs {want}");
+    }
+    // RWFM (analytic, y a random walk integrated once more): (2π)²·h·t³/6,
+    // exactly q·[k² + k(k+1)(2k+1)/6] for the discrete walk.
+    let hm2 = 1e-30;
+    for (v, k) in path_variance(-2, hm2, f_h, step, n, &ks).iter().zip(ks) {
+        let kf = k as f64;
+        let q = 4.0 * PI * PI * hm2 * step.powi(3) / 2.0;
+        let exact = q * (kf * kf + kf * (kf + 1.0) * (2.0 * kf + 1.0) / 6.0);
+        assert!((v / exact - 1.0).abs() < 0.05, "RWFM k={k}: {v} vs {exact}");
+        let t = kf * step;
+        let asym = 4.0 * PI * PI * hm2 * t.powi(3) / 6.0;
+        if k >= 256 {
+            assert!((v / asym - 1.0).abs() < 0.05, "RWFM k={k}: {v} vs {asym}");
+        }
+    }
+    // FFM (derived in holdover::paths): q·[(g_k − 1)² + Σ_{i<k} g_i²],
+    // q = π·h·Δ², g of (1 − B)^(−3/2); about 2·h·t².
+    let hm1 = 1e-26;
+    let g = tauwise::simulate::kw_coefficients(1.5, n + 1);
+    for (v, k) in path_variance(-1, hm1, f_h, step, n, &ks).iter().zip(ks) {
+        let q = PI * hm1 * step * step;
+        let exact = q * ((g[k] - 1.0).powi(2) + g[..k].iter().map(|c| c * c).sum::<f64>());
+        assert!((v / exact - 1.0).abs() < 0.05, "FFM k={k}: {v} vs {exact}");
+        let t = k as f64 * step;
+        if k >= 256 {
+            let asym = 2.0 * hm1 * t * t;
+            assert!((v / asym - 1.0).abs() < 0.05, "FFM k={k}: {v} vs {asym}");
+        }
+    }
+    // FPM: the same sum with the coefficients of (1 − B)^(−1/2), q = h/(4π),
+    // plus twice the white phase above 1/(2Δ), h·ln(2Δf_h)/(2π)² (derived).
+    let h1 = 1e-24;
+    let c = tauwise::simulate::kw_coefficients(0.5, n + 1);
+    for (v, k) in path_variance(1, h1, f_h, step, n, &ks).iter().zip(ks) {
+        let q = h1 / (4.0 * PI);
+        let white = h1 * (2.0 * step * f_h).ln() / (4.0 * PI * PI);
+        let exact =
+            q * ((c[k] - 1.0).powi(2) + c[..k].iter().map(|c| c * c).sum::<f64>()) + 2.0 * white;
+        assert!((v / exact - 1.0).abs() < 0.05, "FPM k={k}: {v} vs {exact}");
+    }
+}
+
+/// The noise fit of the holdover model (OADEV + MDEV with their EDF into
+/// model::fit) recovers a known model: a record synthesised from
+/// h0 = 1e-22, h−2 = 1e−30 (IEEE Std 1139 terms), each fitted h within 30 %.
+#[test]
+fn noise_fit_recovers_the_simulated_model() {
+    let truth = PowerLaw::parse("h0=1e-22,h-2=1e-30", 0.5).unwrap();
+    let rec =
+        tauwise::simulate::simulate_phase(&tauwise::simulate::SimSpec::new(truth, 1.0, 100_000, 9))
+            .unwrap();
+    let fit = fit_noise(&rec).unwrap();
+    let m = fit.model;
+    assert!((m.get(0) / 1e-22 - 1.0).abs() < 0.3, "{m:?}");
+    assert!((m.get(-2) / 1e-30 - 1.0).abs() < 0.3, "{m:?}");
+    // The model's ADEV stays within 20 % of the truth from 1 s to 10^4 s.
+    for tau in [1.0, 10.0, 100.0, 1e3, 1e4] {
+        let r = (m.avar(tau) / truth.avar(tau)).sqrt();
+        assert!((r - 1.0).abs() < 0.2, "τ = {tau}: {r}");
+    }
 }

@@ -7,7 +7,7 @@ use tauwise::deviation::{compute, reference, Estimate, Estimator};
 use tauwise::wander::check::Verdict;
 use tauwise::wander::mask_file::{parse_mask_file, write_mask_file};
 use tauwise::wander::masks::{builtin, Mask, Metric, Shape, BUILTIN_NAMES, FROM_MEMORY_NOTE};
-use tauwise::wander::{analyse, log_grid, tie};
+use tauwise::wander::{analyse, default_ms, tie};
 use tauwise::PhaseRecord;
 
 fn random_walk(n: usize, seed: u64, gaps: &[usize]) -> PhaseRecord {
@@ -279,7 +279,7 @@ fn ramp_fails_the_mask_at_the_analytic_tau() {
     let rec =
         PhaseRecord::new((0..n).map(|i| 1e-6 + y0 * i as f64 * tau0).collect(), tau0).unwrap();
     let masks = builtin("g8262-opt1").unwrap();
-    let ms = log_grid(n, 10);
+    let ms = default_ms(n, rec.tau0).unwrap();
     let res = analyse(&rec, &ms, false, &masks).unwrap();
     let c = res
         .checks
@@ -411,4 +411,36 @@ fn tie_statistics() {
     let s2 = tie::tie_stats(&r, true).unwrap();
     assert!((s2.offset_removed.unwrap() - y0).abs() < 1e-9 * y0);
     assert!(s2.max_abs < 1e-15);
+}
+
+/// The block-pruned MTIE (m ≥ 64) equals the direct window scan of the
+/// ITU-T G.810 definition (deviation::reference) on records where pruning
+/// bites (white phase plus a random walk, with and without gaps) and where it
+/// cannot (a steady ramp, all windows alike), at many m across block-size
+/// boundaries.
+#[test]
+fn pruned_mtie_equals_direct_scan_on_longer_records() {
+    let n = 30_000;
+    let ms = [63usize, 64, 65, 71, 127, 128, 200, 513, 1000, 2047, 2999];
+    let mut ramp = PhaseRecord::new((0..n).map(|i| 1e-9 * i as f64).collect(), 1.0).unwrap();
+    ramp.x[7777] = f64::NAN;
+    let mut spiky = random_walk(n, 9, &[]);
+    spiky.x[12_345] += 5e-7; // one outlier that sets every MTIE
+    for r in [
+        random_walk(n, 7, &[]),
+        random_walk(n, 8, &[5, 6, 7, 15_000, 29_999]),
+        spiky,
+        ramp,
+    ] {
+        let fast = compute(Estimator::Mtie, &r, &ms);
+        let direct: Vec<Estimate> = ms
+            .iter()
+            .filter_map(|&m| reference::mtie(&r.x, r.tau0, m))
+            .collect();
+        assert_eq!(fast.len(), direct.len());
+        for (a, b) in fast.iter().zip(&direct) {
+            assert_eq!((a.m, a.terms), (b.m, b.terms));
+            assert_eq!(a.value, b.value, "m = {}", a.m);
+        }
+    }
 }

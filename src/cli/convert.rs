@@ -84,7 +84,7 @@ fn freq(opt: &Option<String>, what: &str) -> Result<Option<f64>> {
     match opt {
         Some(t) => {
             let v = parse_frequency(t)?;
-            if !(v > 0.0) {
+            if v.is_nan() || v <= 0.0 {
                 return Err(Error::invalid(format!(
                     "--{what} {t}: expected a positive frequency"
                 )));
@@ -99,7 +99,7 @@ fn duration(opt: &Option<String>, what: &str) -> Result<Option<f64>> {
     match opt {
         Some(t) => {
             let v = parse_duration(t)?;
-            if !(v > 0.0) {
+            if v.is_nan() || v <= 0.0 {
                 return Err(Error::invalid(format!(
                     "--{what} {t}: expected a positive duration"
                 )));

@@ -140,7 +140,7 @@ pub fn run(args: Args) -> Result<Outcome> {
     let ui_rate = match &args.ui_rate {
         Some(r) => {
             let v = parse_frequency(r)?;
-            if !(v > 0.0) {
+            if v.is_nan() || v <= 0.0 {
                 return Err(Error::invalid(format!(
                     "--ui-rate {r}: expected a positive line rate"
                 )));

@@ -41,6 +41,10 @@ pub struct Args {
     /// instead of identifying it per τ.
     #[arg(long = "noise-type", value_name = "TYPE", allow_hyphen_values = true)]
     pub noise_type: Option<String>,
+    /// Remove a least-squares frequency drift before the analysis (aging
+    /// would otherwise read as random-walk FM at long τ).
+    #[arg(long, value_enum, value_name = "MODEL")]
+    pub remove_drift: Option<super::prepare::DriftArg>,
     /// Add a curve `best`: at each τ the point with the narrowest
     /// confidence interval among the requested σ_y estimators, with the
     /// estimator it came from.
@@ -58,7 +62,8 @@ pub fn run(args: Args) -> Result<Outcome> {
         Some(t) => Some(tauwise::model::parse_noise(t)?),
         None => None,
     };
-    let series = args.input.load(&args.file)?;
+    let mut series = args.input.load(&args.file)?;
+    series.record = super::prepare::without_drift(series.record, args.remove_drift)?;
     let request = Request {
         estimators,
         grid,

@@ -12,7 +12,7 @@ use tauwise::tau::TauGrid;
 use tauwise::units::format_si;
 use tauwise::wander::check::{MaskCheck, Verdict};
 use tauwise::wander::masks::{builtin, CONDITIONS_NOTE};
-use tauwise::wander::{analyse, mask_file::read_mask_file, WanderResult};
+use tauwise::wander::{analyse, default_ms, mask_file::read_mask_file, WanderResult};
 use tauwise::{Result, DECISION_CAUTION};
 
 /// MTIE, TDEV and TIE statistics against wander masks.
@@ -58,7 +58,7 @@ pub fn run(args: Args) -> Result<Outcome> {
     let n = rec.len();
     let ms = match &args.taus {
         Some(g) => TauGrid::parse(g)?.ms(rec.tau0, n.saturating_sub(1))?,
-        None => TauGrid::PerDecade(10).ms(rec.tau0, n.saturating_sub(1) / 10)?,
+        None => default_ms(n, rec.tau0)?,
     };
     let res = analyse(&rec, &ms, args.remove_offset, &masks)?;
     let text = match args.output.format {

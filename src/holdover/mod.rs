@@ -20,14 +20,15 @@
 //! (span / steps), not at τ0.
 
 pub mod aging;
-pub mod noise;
 pub mod paths;
 
+use crate::deviation::Estimator;
 use crate::error::{Error, Result};
+use crate::model::fit::ModelFit;
 use crate::model::PowerLaw;
-use crate::record::Record;
+use crate::record::{PhaseRecord, Record};
 use aging::{Aging, AgingModel};
-use paths::{KasdinWalterPaths, SynthFactory};
+use paths::NoisePaths;
 use rand::{Rng, SeedableRng};
 use rand_chacha::ChaCha8Rng;
 use rand_distr::StandardNormal;
@@ -206,21 +207,16 @@ fn percentile(v: &mut [f64], p: f64) -> f64 {
     a + (h - lo as f64) * (b - a)
 }
 
-/// Run the prediction with the built-in noise paths ([`KasdinWalterPaths`]).
+/// Run the prediction: seeded Monte Carlo of the noise paths
+/// ([`paths::NoisePaths`]) plus the deterministic part and the y0 and aging
+/// uncertainties (module notes). Path p draws from ChaCha8 seeded with
+/// `seed` on stream p, so the same seed gives the same result whatever the
+/// number of threads.
 pub fn predict(model: &HoldoverModel, settings: &Settings) -> Result<Prediction> {
-    predict_with(model, settings, &KasdinWalterPaths::boxed)
-}
-
-/// Run the prediction with a given path generator.
-pub fn predict_with(
-    model: &HoldoverModel,
-    settings: &Settings,
-    synth: &SynthFactory,
-) -> Result<Prediction> {
     settings.validate()?;
     let n = settings.steps;
     let step = settings.span / n as f64;
-    let gen = synth(&model.noise, step, n)?;
+    let gen = NoisePaths::new(&model.noise, step, n)?;
     let np = settings.paths;
     let base: Vec<f64> = (0..=n).map(|k| model.base(k as f64 * step)).collect();
     let unit: Vec<f64> = (0..=n)
@@ -332,7 +328,7 @@ pub struct FromRecord {
     pub aging_given: Option<f64>,
     /// Worst-case temperature offset |c_T·ΔT| (fractional).
     pub temp_worst: f64,
-    /// A given noise model; default: estimated from the record ([`noise`]).
+    /// A given noise model; default: fitted on the record ([`fit_noise`]).
     pub noise: Option<PowerLaw>,
 }
 
@@ -354,8 +350,8 @@ impl Default for FromRecord {
 ///
 /// 1. the record is cut at the start of holdover (`start`);
 /// 2. the aging law is fitted on its frequency ([`aging`]), or taken as given;
-/// 3. the noise model is estimated on the record with the aging removed
-///    ([`noise::fit_noise`]), unless given;
+/// 3. the noise model is fitted on the record with the aging removed
+///    ([`fit_noise`]), unless given;
 /// 4. y0 = ȳ_W + [y_a(T_s) − mean_W y_a], the mean frequency over the last
 ///    settle window W carried to its end by the aging law, with
 ///    σ_y0² = σ_y²(W) (the model's Allan variance at τ = W: the usual
@@ -401,7 +397,7 @@ pub fn model_from_record(rec: &Record, opts: &FromRecord) -> Result<HoldoverMode
     };
     let noise = match opts.noise {
         Some(m) => m,
-        None => noise::fit_noise(&residual.to_phase(), 0.5 / tau0)?,
+        None => fit_noise(&residual.to_phase())?.model,
     };
     let w = opts.settle.unwrap_or(ts / 10.0);
     if !(w.is_finite() && w >= tau0 && w <= ts) {
@@ -442,4 +438,22 @@ pub fn model_from_record(rec: &Record, opts: &FromRecord) -> Result<HoldoverMode
         temp_worst: opts.temp_worst,
         noise,
     })
+}
+
+/// The estimators whose curves feed the noise fit.
+pub const FIT_ESTIMATORS: [Estimator; 2] = [Estimator::Oadev, Estimator::Mdev];
+
+/// Fit the power-law model of the random part on a phase record (normally
+/// the record with its aging law removed, so that drift is not taken for
+/// RWFM): the project's record fit, [`crate::stability::fit_record_model`]
+/// (OADEV and MDEV on the octave grid, EDF-weighted, f_h = 1/(2τ0)).
+pub fn fit_noise(phase: &PhaseRecord) -> Result<ModelFit> {
+    crate::stability::fit_record_model(phase, &crate::tau::TauGrid::Octave)
+        .map(|m| m.fit)
+        .map_err(|e| match e {
+            Error::Insufficient(msg) => {
+                Error::insufficient(format!("{msg}: give the model with --model"))
+            }
+            other => other,
+        })
 }

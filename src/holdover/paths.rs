@@ -1,233 +1,142 @@
-//! Random phase paths of a power-law noise model, for the holdover Monte
-//! Carlo.
+//! Random phase paths of a power-law noise model for the holdover Monte
+//! Carlo, built from the project's synthesiser
+//! [`crate::simulate::power_law_phase`] (Kasdin & Walter 1992).
 //!
-//! [`PathSynth`] is the interface the prediction uses: one call fills one
-//! path x_0 … x_n at t_k = k·Δ, relative to its start (x_0 = 0). The built-in
-//! [`KasdinWalterPaths`] synthesises each h_α term by the fractional-difference
-//! filter of Kasdin & Walter (1992) applied to white Gaussian noise, by FFT
-//! convolution on a record zero-padded to twice its length (so the filter's
-//! long memory for α ≤ −1 is not wrapped around). For phase, S_x(f) =
-//! S_y(f)/(2πf)² ∝ f^−β with β = 2 − α, and the filter is
+//! One path is x_0 … x_n at t_k = k·Δ, relative to its start (x_0 = 0): each
+//! term h_α of the model is drawn by `power_law_phase` with the simulation
+//! step Δ as its sampling interval (n + 1 samples, started from rest at the
+//! start of holdover), the terms are added, and the first sample is
+//! subtracted.
 //!
-//! h_0 = 1,  h_k = h_{k−1}·(β/2 + k − 1)/k.
+//! # Step and bandwidth
 //!
-//! β = 0, 2, 4 (WPM, WFM, RWFM) are white noise, its running sum and its
-//! double running sum; they are computed directly. The white-noise variance
-//! Q that gives the one-sided S_x(f) = h_α/(4π²)·f^−β at low frequency is
-//! (Kasdin & Walter 1992, eq. for the discrete PSD, one-sided)
+//! The paths are simulated at a step Δ = span/steps suited to the span, not
+//! at the record's τ0, while the model keeps the record's bandwidth
+//! f_h = 1/(2τ0). For α ≤ 0 (WFM, FFM, RWFM) the synthesiser's calibration
+//! q = h_α·(2π)^(−α)·Δ^(1−α)/2 matches the model's S_x(f) at low frequency,
+//! whatever Δ, so the paths are right as drawn. The phase-noise terms
+//! depend on the bandwidth, and a path sampled at Δ sees everything above
+//! 1/(2Δ) folded into white phase:
+//! - WPM: the phase variance is h_2·f_h/(2π)² (IEEE Std 1139), so the term
+//!   is drawn with h_2' = 2Δ·f_h·h_2, which gives that variance at the
+//!   synthesiser's bandwidth 1/(2Δ) (exact);
+//! - FPM: drawn at Δ, plus white phase holding the part of its variance
+//!   between 1/(2Δ) and f_h, h_1·ln(2Δ·f_h)/(2π)² (S_x = h_1/((2π)²f)
+//!   integrated), added to the WPM term when Δ > τ0.
 //!
-//! Q = h_α·(2πΔ)^β / (8π²Δ),
+//! # Variance growth (what the tests check)
 //!
-//! so that WFM steps have variance h_0·Δ/2 (the analytic random walk with
-//! σ_x²(t) = h_0·t/2). WPM uses the model's own cut-off instead:
-//! Q = h_2·f_h/(4π²), the phase variance of white PM in the bandwidth f_h.
+//! With Δ the step and t = kΔ, the variance of x_k − x_0 is
+//! - WPM: 2·h_2·f_h/(2π)², constant (analytic);
+//! - WFM: h_0·t/2 exactly (a random walk of step variance h_0Δ/2);
+//! - RWFM: q·[k² + k(k+1)(2k+1)/6] with q = (2π)²h_−2Δ³/2, i.e.
+//!   (2π)²·h_−2·t³/6 · (1 + O(1/k)) (IEEE Std 1139 RWFM integrated twice);
+//! - FFM: q·[(g_k − 1)² + Σ_{i<k} g_i²], q = π·h_−1·Δ², g the coefficients
+//!   of (1 − B)^(−3/2) ([`crate::simulate::kw_coefficients`] with d = 3/2).
+//!   Since g_i² = (4/π)(i + ¾) + O(1/i), this is 2·h_−1·t²·(1 + O(1/k)):
+//!   derived here. (Flicker FM has no stationary phase increments — its
+//!   variance diverges at low frequency — so some convention is needed;
+//!   "from rest at the start of holdover" leaves the frequency offset at
+//!   that moment to y0 and its uncertainty.)
+//! - FPM: the same sum with the coefficients of (1 − B)^(−1/2), q = h_1/(4π),
+//!   plus twice the white part above: it grows as ln k and stays below a
+//!   picosecond for any plausible oscillator.
 
 use crate::error::{Error, Result};
 use crate::model::PowerLaw;
-use rand::Rng;
+use crate::simulate::power_law_phase;
 use rand_chacha::ChaCha8Rng;
-use rand_distr::StandardNormal;
-use rustfft::num_complex::Complex;
-use rustfft::{Fft, FftPlanner};
 use std::f64::consts::PI;
-use std::sync::Arc;
 
-/// Fills random phase paths of one noise model at one step.
-pub trait PathSynth: Sync {
-    /// Fill `out` (length n + 1) with one path x_0 … x_n, x_0 = 0, seconds.
-    fn fill(&self, rng: &mut ChaCha8Rng, out: &mut [f64]);
-}
-
-/// Builds a [`PathSynth`] for a model, a step Δ (s) and n steps.
-pub type SynthFactory = dyn Fn(&PowerLaw, f64, usize) -> Result<Box<dyn PathSynth>> + Sync;
-
-enum Term {
-    /// White phase, standard deviation per sample.
-    White(f64),
-    /// Running sum of white noise (WFM).
-    Walk(f64),
-    /// Double running sum (RWFM).
-    Walk2(f64),
-    /// FFT-filtered (FPM, FFM): sd, the filter's spectrum, plans.
-    Filtered {
-        sd: f64,
-        spectrum: Vec<Complex<f64>>,
-        forward: Arc<dyn Fft<f64>>,
-        inverse: Arc<dyn Fft<f64>>,
-    },
-}
-
-/// The built-in generator (see the module notes).
-pub struct KasdinWalterPaths {
-    terms: Vec<Term>,
+/// Draws holdover noise paths of one model at one step (module notes).
+#[derive(Debug, Clone, PartialEq)]
+pub struct NoisePaths {
+    /// (α, h_α as drawn at the step), only the terms present.
+    terms: Vec<(i32, f64)>,
+    /// Steps per path.
     n: usize,
+    /// Step Δ, s.
+    step: f64,
 }
 
-/// The filter coefficients h_0 … h_{len−1} for exponent β (Kasdin & Walter 1992).
-pub fn kw_coefficients(beta: f64, len: usize) -> Vec<f64> {
-    let mut h = Vec::with_capacity(len);
-    let mut v = 1.0;
-    for k in 0..len {
-        if k > 0 {
-            v *= (beta / 2.0 + k as f64 - 1.0) / k as f64;
-        }
-        h.push(v);
-    }
-    h
-}
-
-impl KasdinWalterPaths {
+impl NoisePaths {
     /// Prepare paths of `n` steps of `step` seconds for `model`.
+    ///
+    /// ```
+    /// use rand::SeedableRng;
+    /// use tauwise::{holdover::paths::NoisePaths, model::PowerLaw};
+    /// let mut m = PowerLaw::zero(0.5);
+    /// m.set(0, 1e-22);
+    /// let p = NoisePaths::new(&m, 10.0, 100).unwrap();
+    /// let mut x = vec![1.0; 101];
+    /// p.fill(&mut rand_chacha::ChaCha8Rng::seed_from_u64(1), &mut x);
+    /// assert_eq!(x[0], 0.0);
+    /// assert!(x[100].abs() < 1e-8);
+    /// ```
     pub fn new(model: &PowerLaw, step: f64, n: usize) -> Result<Self> {
         if !(step.is_finite() && step > 0.0) || n == 0 {
             return Err(Error::invalid(format!(
                 "noise paths need a positive step and at least one step, got Δ = {step} s, n = {n}"
             )));
         }
+        for a in -2..=2 {
+            let h = model.get(a);
+            if !(h.is_finite() && h >= 0.0) {
+                return Err(Error::invalid(format!(
+                    "noise model h{a} must be a non-negative number, got {h}"
+                )));
+            }
+        }
+        let f_h = model.f_h;
+        let (h1, h2) = (model.get(1), model.get(2));
+        let mut wpm_phase_var = 0.0;
+        if h2 > 0.0 || h1 > 0.0 {
+            if !(f_h.is_finite() && f_h > 0.0) {
+                return Err(Error::invalid(format!(
+                    "a model with WPM or FPM needs a positive bandwidth f_h, got {f_h} Hz"
+                )));
+            }
+            wpm_phase_var = h2 * f_h / (4.0 * PI * PI);
+            let ratio = 2.0 * step * f_h;
+            if h1 > 0.0 && ratio > 1.0 {
+                wpm_phase_var += h1 * ratio.ln() / (4.0 * PI * PI);
+            }
+        }
         let mut terms = Vec::new();
-        let mut planner = FftPlanner::<f64>::new();
-        let len = 2 * (n + 1);
-        for alpha in (-2..=2).rev() {
-            let h = model.get(alpha);
-            if h <= 0.0 {
-                continue;
-            }
-            let beta = (2 - alpha) as f64;
-            let q = if alpha == 2 {
-                h * model.f_h / (4.0 * PI * PI)
-            } else {
-                h * (2.0 * PI * step).powf(beta) / (8.0 * PI * PI * step)
-            };
-            let sd = q.sqrt();
-            terms.push(match alpha {
-                2 => Term::White(sd),
-                0 => Term::Walk(sd),
-                -2 => Term::Walk2(sd),
-                _ => {
-                    let forward = planner.plan_fft_forward(len);
-                    let inverse = planner.plan_fft_inverse(len);
-                    let mut spectrum: Vec<Complex<f64>> = kw_coefficients(beta, n + 1)
-                        .into_iter()
-                        .map(|c| Complex::new(c, 0.0))
-                        .chain(std::iter::repeat(Complex::new(0.0, 0.0)))
-                        .take(len)
-                        .collect();
-                    forward.process(&mut spectrum);
-                    Term::Filtered {
-                        sd,
-                        spectrum,
-                        forward,
-                        inverse,
-                    }
-                }
-            });
+        if wpm_phase_var > 0.0 {
+            // White phase of variance σ² is h_2' = σ²·(2π)²·2Δ at bandwidth 1/(2Δ).
+            terms.push((2, wpm_phase_var * 4.0 * PI * PI * 2.0 * step));
         }
-        Ok(Self { terms, n })
+        for a in [1, 0, -1, -2] {
+            let h = model.get(a);
+            if h > 0.0 {
+                terms.push((a, h));
+            }
+        }
+        Ok(Self { terms, n, step })
     }
 
-    /// Boxed, for use as a [`SynthFactory`].
-    pub fn boxed(model: &PowerLaw, step: f64, n: usize) -> Result<Box<dyn PathSynth>> {
-        Ok(Box::new(Self::new(model, step, n)?))
+    /// Steps per path.
+    pub fn steps(&self) -> usize {
+        self.n
     }
-}
 
-impl PathSynth for KasdinWalterPaths {
-    fn fill(&self, rng: &mut ChaCha8Rng, out: &mut [f64]) {
-        let n = self.n.min(out.len().saturating_sub(1));
+    /// The step Δ, s.
+    pub fn step(&self) -> f64 {
+        self.step
+    }
+
+    /// Fill `out` (length n + 1) with one path x_0 … x_n, x_0 = 0, seconds,
+    /// drawing every term from `rng` in turn.
+    pub fn fill(&self, rng: &mut ChaCha8Rng, out: &mut [f64]) {
+        let len = (self.n + 1).min(out.len());
         out.iter_mut().for_each(|v| *v = 0.0);
-        let mut normal = |sd: f64| -> f64 { sd * rng.sample::<f64, _>(StandardNormal) };
-        for term in &self.terms {
-            match term {
-                Term::White(sd) => {
-                    let x0 = normal(*sd);
-                    for v in out.iter_mut().take(n + 1).skip(1) {
-                        *v += normal(*sd) - x0;
-                    }
-                }
-                Term::Walk(sd) => {
-                    let mut x = 0.0;
-                    for v in out.iter_mut().take(n + 1).skip(1) {
-                        x += normal(*sd);
-                        *v += x;
-                    }
-                }
-                Term::Walk2(sd) => {
-                    let (mut y, mut x) = (0.0, 0.0);
-                    for v in out.iter_mut().take(n + 1).skip(1) {
-                        y += normal(*sd);
-                        x += y;
-                        *v += x;
-                    }
-                }
-                Term::Filtered {
-                    sd,
-                    spectrum,
-                    forward,
-                    inverse,
-                } => {
-                    let len = spectrum.len();
-                    let mut buf: Vec<Complex<f64>> = (0..len)
-                        .map(|k| {
-                            if k <= n {
-                                Complex::new(normal(*sd), 0.0)
-                            } else {
-                                Complex::new(0.0, 0.0)
-                            }
-                        })
-                        .collect();
-                    forward.process(&mut buf);
-                    for (b, s) in buf.iter_mut().zip(spectrum) {
-                        *b *= s;
-                    }
-                    inverse.process(&mut buf);
-                    let scale = 1.0 / len as f64;
-                    let x0 = buf[0].re * scale;
-                    for (v, b) in out.iter_mut().zip(&buf).take(n + 1).skip(1) {
-                        *v += b.re * scale - x0;
-                    }
-                }
+        for &(alpha, h) in &self.terms {
+            let x = power_law_phase(alpha, h, self.step, len, rng);
+            let x0 = x[0];
+            for (o, v) in out.iter_mut().zip(&x) {
+                *o += v - x0;
             }
-        }
-    }
-}
-
-#[cfg(test)]
-mod tests {
-    use super::*;
-    use rand::SeedableRng;
-
-    #[test]
-    fn kw_coefficients_of_integer_exponents() {
-        // β = 2: running sum, all ones; β = 4: k + 1 (analytic).
-        assert!(kw_coefficients(2.0, 5).iter().all(|&c| c == 1.0));
-        assert_eq!(kw_coefficients(4.0, 4), vec![1.0, 2.0, 3.0, 4.0]);
-        assert_eq!(kw_coefficients(0.0, 3), vec![1.0, 0.0, 0.0]);
-    }
-
-    /// The FFT convolution equals the direct convolution with the filter.
-    #[test]
-    fn filtered_term_is_the_direct_convolution() {
-        let mut m = PowerLaw::zero(0.5);
-        m.set(-1, 1.0);
-        let n = 50;
-        let g = KasdinWalterPaths::new(&m, 1.0, n).unwrap();
-        let mut out = vec![0.0; n + 1];
-        g.fill(&mut ChaCha8Rng::seed_from_u64(7), &mut out);
-        let mut rng = ChaCha8Rng::seed_from_u64(7);
-        let sd = match &g.terms[0] {
-            Term::Filtered { sd, .. } => *sd,
-            _ => unreachable!(),
-        };
-        let w: Vec<f64> = (0..=n)
-            .map(|_| sd * rng.sample::<f64, _>(StandardNormal))
-            .collect();
-        let h = kw_coefficients(3.0, n + 1);
-        let direct: Vec<f64> = (0..=n)
-            .map(|k| (0..=k).map(|j| h[j] * w[k - j]).sum())
-            .collect();
-        for k in 1..=n {
-            let want = direct[k] - direct[0];
-            assert!((out[k] - want).abs() < 1e-9 * want.abs().max(sd), "k={k}");
         }
     }
 }

@@ -16,6 +16,7 @@
 
 use super::text::{open_input, read_table, Table};
 use super::ReadError;
+use crate::spectrum::gt;
 use crate::spectrum::jitter::Spur;
 use crate::spectrum::loglog::LogLog;
 use crate::spectrum::{Quantity, Spectrum};
@@ -117,18 +118,12 @@ fn header_unit(field: &str) -> Option<f64> {
     }
 }
 
-/// One raw table row: (line number, offset in Hz, value as written).
-type Row = (u64, f64, f64);
+/// Rows of (line, offset in Hz, value), and the offset scale applied.
+type Pairs = (Vec<(u64, f64, f64)>, f64);
 
 /// Read the raw rows of column pair (oc, vc), 1-based, applying the
 /// header's offset unit. Errors name line and field.
-fn pairs(
-    table: &Table,
-    path: &Path,
-    oc: usize,
-    vc: usize,
-    what: &str,
-) -> Result<(Vec<Row>, f64), ReadError> {
+fn pairs(table: &Table, path: &Path, oc: usize, vc: usize, what: &str) -> Result<Pairs, ReadError> {
     let scale = table
         .header
         .as_ref()
@@ -159,7 +154,7 @@ fn pairs(
         };
         let f = get(oc, "offset frequency")? * scale;
         let v = get(vc, "value")?;
-        if !(f > 0.0) {
+        if !gt(f, 0.0) {
             return Err(ReadError::at(
                 path,
                 row.line,
@@ -173,7 +168,7 @@ fn pairs(
 
 fn increasing(rows: &[(u64, f64, f64)], path: &Path) -> Result<(), ReadError> {
     for w in rows.windows(2) {
-        if !(w[1].1 > w[0].1) {
+        if !gt(w[1].1, w[0].1) {
             return Err(ReadError::at(
                 path,
                 w[1].0,
@@ -231,7 +226,7 @@ pub fn read_lf_table_from<R: std::io::BufRead>(
             TableQuantity::Lf => (v, Some(v)),
             TableQuantity::SphiDb => (v - 10.0 * 2f64.log10(), Some(v - 10.0 * 2f64.log10())),
             TableQuantity::Sphi | TableQuantity::Sy => {
-                if !(v > 0.0) {
+                if !gt(v, 0.0) {
                     return Err(ReadError::at(
                         path,
                         line,

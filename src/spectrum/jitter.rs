@@ -12,7 +12,7 @@
 //!   high-pass |H|² = 1/(1 + (f_c/f)^{2n}), low-pass |H|² = 1/(1 + (f/f_c)^{2n});
 //!   several multiply. With one of these the integral is done by adaptive
 //!   Gauss–Legendre quadrature in log f on each table segment (relative
-//!   tolerance 10⁻¹⁰).
+//!   tolerance 10⁻⁹).
 //! - A filter file gives |H(f)|² in dB against f, interpolated linearly in
 //!   log f / dB like the table.
 //! - Spurs: a discrete line shown at L_s dBc (the level of one sideband,
@@ -26,6 +26,7 @@
 //! extrapolation is allowed; then the end segments' power laws are continued
 //! and the extrapolated ranges are reported with the result.
 
+use super::gt;
 use super::loglog::{power_integral_from, Extend, LogLog};
 use super::quad::adaptive;
 use super::{Quantity, Spectrum};
@@ -74,7 +75,7 @@ impl Weighting {
                 ))
             })?;
         let fc = parse_frequency(parts[2])?;
-        if !(fc > 0.0) {
+        if !gt(fc, 0.0) {
             return Err(Error::invalid(format!(
                 "filter corner in '{text}' must be positive"
             )));
@@ -292,7 +293,7 @@ pub fn integrate_band(
                 let f = u.exp();
                 va * (f / a).powf(e) * f * setup.filters.iter().map(|w| w.h2(f)).product::<f64>()
             };
-            adaptive(&g, a.ln(), b.ln(), 1e-10)
+            adaptive(&g, a.ln(), b.ln(), 1e-9)
         };
     }
     let inside: Vec<&Spur> = setup

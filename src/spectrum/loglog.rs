@@ -13,6 +13,7 @@
 //! Outside the table, a [`LogLog`] either refuses ([`Extend::No`]) or
 //! continues the power law of the nearest end segment ([`Extend::EndSlope`]).
 
+use super::gt;
 use crate::error::{Error, Result};
 
 /// What a table does outside its offset range.
@@ -43,7 +44,7 @@ pub fn power_integral(c: f64, e: f64, a: f64, b: f64) -> f64 {
 /// This form never forms c = v_a/a^e, which overflows for the steep
 /// exponents that neighbouring bins of a noisy spectrum can have.
 pub fn power_integral_from(v_a: f64, a: f64, e: f64, b: f64) -> f64 {
-    if !(b > a) {
+    if !gt(b, a) {
         return 0.0;
     }
     let l = (b / a).ln();
@@ -63,7 +64,9 @@ impl LogLog {
                 v.len()
             )));
         }
-        if !(f[0] > 0.0) || f.windows(2).any(|w| !(w[1] > w[0])) || f.iter().any(|x| !x.is_finite())
+        if !gt(f[0], 0.0)
+            || f.windows(2).any(|w| !gt(w[1], w[0]))
+            || f.iter().any(|x| !x.is_finite())
         {
             return Err(Error::invalid(
                 "log–log table offsets must be positive, finite and strictly increasing",

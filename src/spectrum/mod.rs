@@ -21,6 +21,13 @@ use crate::error::{Error, Result};
 use crate::model::PowerLaw;
 use std::f64::consts::PI;
 
+/// `a > b`, false when either is NaN: the checks write `!gt(x, 0.0)` to
+/// refuse NaN along with non-positive values.
+#[inline]
+pub fn gt(a: f64, b: f64) -> bool {
+    a > b
+}
+
 /// Which spectral quantity a [`Spectrum`] holds.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
 #[serde(rename_all = "lowercase")]
@@ -121,7 +128,7 @@ impl Spectrum {
             )));
         }
         for (i, w) in f.windows(2).enumerate() {
-            if !(w[1] > w[0]) {
+            if !gt(w[1], w[0]) {
                 return Err(Error::invalid(format!(
                     "spectrum offsets must increase strictly: point {} ({} Hz) follows {} Hz",
                     i + 2,
@@ -262,7 +269,7 @@ impl Spectrum {
             })
             .collect();
         let sy: Vec<f64> = f.iter().map(|&fi| model.sy(fi)).collect();
-        if sy.iter().any(|v| !(*v > 0.0)) {
+        if sy.iter().any(|v| !gt(*v, 0.0)) {
             return Err(Error::invalid(
                 "the model has no power at some offset of the range (all h_α zero?)",
             ));

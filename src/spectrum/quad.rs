@@ -2,6 +2,7 @@
 //! recurrence (Golub & Welsch's classical nodes found by Newton's method on
 //! P_n), and an adaptive bisection on top of them.
 
+use super::gt;
 use std::sync::OnceLock;
 
 /// Nodes and weights of the n-point Gauss–Legendre rule on [−1, 1].
@@ -56,19 +57,25 @@ pub fn gl8(g: &impl Fn(f64) -> f64, a: f64, b: f64) -> f64 {
 }
 
 /// ∫_a^b g by adaptive bisection of the 8-point rule until two levels agree
-/// to `rel` (relative) or the interval is split 30 times.
+/// to `rel` (relative) or the interval has been halved [`MAX_DEPTH`] times.
+/// Ask for a `rel` well above the integrand's own rounding noise (an
+/// integrand evaluated at sin(10⁷π·…) is good to ~10⁻⁹ only), or every
+/// branch runs to the depth limit.
+pub const MAX_DEPTH: u32 = 18;
+
+/// See [`MAX_DEPTH`].
 pub fn adaptive(g: &impl Fn(f64) -> f64, a: f64, b: f64, rel: f64) -> f64 {
     fn rec(g: &impl Fn(f64) -> f64, a: f64, b: f64, whole: f64, rel: f64, depth: u32) -> f64 {
         let m = 0.5 * (a + b);
         let l = gl8(g, a, m);
         let r = gl8(g, m, b);
         let two = l + r;
-        if depth >= 30 || (two - whole).abs() <= rel * two.abs() || !(two.is_finite()) {
+        if depth >= MAX_DEPTH || (two - whole).abs() <= rel * two.abs() || !(two.is_finite()) {
             return two;
         }
         rec(g, a, m, l, rel, depth + 1) + rec(g, m, b, r, rel, depth + 1)
     }
-    if !(b > a) {
+    if !gt(b, a) {
         return 0.0;
     }
     let whole = gl8(g, a, b);

@@ -39,6 +39,7 @@
 //! Every piece is checked against [`variance_reference`], a plain
 //! Gauss–Legendre integration of the textbook integrand over every half period.
 
+use super::gt;
 use super::loglog::{Extend, LogLog};
 use super::quad::{adaptive, gl8};
 use super::{Quantity, Spectrum};
@@ -430,7 +431,7 @@ impl<'a> Integrator<'a> {
 
     /// Zones 3 and 4 over [a, b] (module notes).
     fn near_zone(&self, a: f64, b: f64, acc: &mut Acc) {
-        if !(b > a) {
+        if !gt(b, a) {
             return;
         }
         // Direct intervals: [.., K_LOW/τ] and around each pole j/τ0.
@@ -500,7 +501,7 @@ impl<'a> Integrator<'a> {
                 self.direct(x0, x1, acc);
                 continue;
             }
-            let mean = qbar * adaptive(&g, x0, x1, 1e-10);
+            let mean = qbar * adaptive(&g, x0, x1, 1e-7);
             let bracket = |f: f64| {
                 let s = self.sy.eval(f, Extend::EndSlope).unwrap_or(0.0);
                 let (e, de) = self.envelope(f);
@@ -559,7 +560,7 @@ pub fn consistency(measured: &Curve, converted: &[(f64, f64)]) -> Vec<Consistenc
             let &(_, c) = converted
                 .iter()
                 .find(|(tc, _)| (tc - t).abs() <= 1e-6 * t)?;
-            if !(c > 0.0) {
+            if !gt(c, 0.0) {
                 return None;
             }
             let m = p.estimate.value;
@@ -686,5 +687,36 @@ mod tests {
                 check(&s, est, n * tau0, tau0, fh);
             }
         }
+    }
+
+    #[test]
+    fn consistency_ratio_and_interval() {
+        use crate::deviation::{Curve, Estimate, Point};
+        let pt = |tau: f64, v: f64, lo: Option<f64>, hi: Option<f64>| Point {
+            lo,
+            hi,
+            ..Point::bare(Estimate {
+                tau,
+                m: tau as usize,
+                value: v,
+                terms: 10,
+            })
+        };
+        let c = Curve {
+            estimator: "oadev".into(),
+            points: vec![
+                pt(1.0, 2e-11, Some(1.8e-11), Some(2.2e-11)),
+                pt(2.0, 1.5e-11, Some(1.4e-11), Some(1.6e-11)),
+                pt(4.0, 1e-11, None, None),
+                pt(8.0, 1e-11, None, None),
+            ],
+        };
+        let conv = [(1.0, 2.1e-11), (2.0, 1.0e-11), (4.0, 1e-11)];
+        let r = consistency(&c, &conv);
+        assert_eq!(r.len(), 3);
+        assert!((r[0].ratio - 2.0 / 2.1).abs() < 1e-12);
+        assert_eq!(r[0].inside, Some(true));
+        assert_eq!(r[1].inside, Some(false));
+        assert_eq!(r[2].inside, None);
     }
 }

@@ -5,7 +5,9 @@
 use crate::deviation::{Estimate, Estimator, Point};
 use crate::error::{Error, Result};
 use crate::record::PhaseRecord;
-use crate::stats::{edf, identify, interval, VarianceKind, DEFAULT_CONFIDENCE};
+use crate::stats::{
+    edf, interval, IdMethod, Identifier, NoiseId, VarianceKind, DEFAULT_CONFIDENCE,
+};
 use rayon::prelude::*;
 
 /// How the statistics are computed.
@@ -76,10 +78,10 @@ impl From<Estimator> for Option<VarianceKind> {
 }
 
 /// Theo1 and TheoH. The noise type comes from the overlapping-Allan
-/// identification at τ (rounded to a whole m); where the record is too short
-/// for it at that τ (Theo1 reaches 0.75 of the record), the type identified
-/// at the longest τ below that worked is carried on (an engineering choice:
-/// the noise type at the end of the ADEV range stands for the long-τ end).
+/// identification at τ (rounded to a whole m), settled by the same
+/// short-series rule as the other estimators: where the record is too short
+/// for any identification at that τ (Theo1 reaches 0.75 of the record), the
+/// type of the next shorter τ is carried on.
 /// EDF: Theo1 and TheoH's ThêoBR part by [`crate::deviation::theo1_edf`]
 /// (NIST SP 1065 Theo1 EDF; ThêoBR is a scaled Theo1, so its EDF is taken
 /// as Theo1's), TheoH's ADEV part by the overlapping Allan EDF (Greenhall &
@@ -101,23 +103,30 @@ fn annotate_theo(
     }
     let n = x.x.len();
     let switch = est.bias_corrected_from(n, x.tau0);
-    let ids: Vec<Option<i32>> = estimates
-        .par_iter()
-        .map(|e| match opts.forced_alpha {
-            Some(a) => Some(a),
-            None => {
-                let m = ((e.tau / x.tau0).round() as usize).max(1);
-                identify(&x.x, x.tau0, m, oa).map(|id| id.alpha)
-            }
-        })
-        .collect();
-    let mut carried = None;
-    let mut out = Vec::with_capacity(estimates.len());
-    for (e, id) in estimates.iter().zip(ids) {
-        if id.is_some() {
-            carried = id;
+    let ids: Vec<Option<NoiseId>> = match opts.forced_alpha {
+        Some(a) => vec![
+            Some(NoiseId {
+                alpha: a,
+                method: IdMethod::Lag1,
+                r1: None,
+            });
+            estimates.len()
+        ],
+        None => {
+            let identifier = Identifier::new(&x.x, x.tau0, oa);
+            estimates
+                .par_iter()
+                .map(|e| identifier.at(((e.tau / x.tau0).round() as usize).max(1)))
+                .collect()
         }
-        let alpha = id.or(carried);
+    };
+    let mut alphas: Vec<Option<i32>> = ids.iter().map(|id| id.map(|i| i.alpha)).collect();
+    if opts.forced_alpha.is_none() {
+        // The estimates' m grow with τ for both (Theo1 factor m' ≈ τ/(0.75τ0)).
+        settle_short_series(estimates, &ids, &mut alphas);
+    }
+    let mut out = Vec::with_capacity(estimates.len());
+    for (e, &alpha) in estimates.iter().zip(&alphas) {
         let theo_part = match switch {
             Some(s) => e.tau >= s,
             None => true,
@@ -149,14 +158,18 @@ fn annotate_theo(
 }
 
 /// Annotate the estimates of `est` on the record `x`: the noise type at each
-/// τ ([`identify`], or `opts.forced_alpha`), its EDF ([`edf()`]) and the
-/// two-sided interval at `opts.confidence` ([`interval()`]).
+/// τ ([`crate::stats::identify`], or `opts.forced_alpha`), its EDF ([`fn@edf`]) and the
+/// two-sided interval at `opts.confidence` ([`fn@interval`]).
+///
+/// A type found by the short-series fallback is capped at the type of the
+/// next shorter τ, and a τ too short for any identification takes that type
+/// (our rule: the dominant power law can only get redder as τ grows).
 ///
 /// The EDF is evaluated for the gap-free record that would give the same
 /// number of terms ([`VarianceKind::equivalent_points`]), so gaps widen the
 /// interval. Estimators without an EDF rule (MTIE, TIE rms; MTOT, TTOT, HTOT —
-/// see [`VarianceKind::of_estimator`]) and points whose
-/// noise cannot be identified keep `None` in every statistic.
+/// see [`VarianceKind::of_estimator`]), and points with no identified or
+/// carried-over noise type, keep `None` in every statistic.
 ///
 /// Errors: [`Error::Invalid`] when the confidence is outside (0, 1) or the
 /// forced α is outside the estimator's range.
@@ -185,13 +198,29 @@ pub fn annotate(
             )));
         }
     }
+    // Noise type per point (in parallel), then the short-series rule.
+    let ids: Vec<Option<NoiseId>> = match opts.forced_alpha {
+        Some(a) => vec![
+            Some(NoiseId {
+                alpha: a,
+                method: IdMethod::Lag1,
+                r1: None,
+            });
+            estimates.len()
+        ],
+        None => {
+            let identifier = Identifier::new(&x.x, x.tau0, kind);
+            estimates.par_iter().map(|e| identifier.at(e.m)).collect()
+        }
+    };
+    let mut alphas: Vec<Option<i32>> = ids.iter().map(|id| id.map(|i| i.alpha)).collect();
+    if opts.forced_alpha.is_none() {
+        settle_short_series(estimates, &ids, &mut alphas);
+    }
     estimates
         .par_iter()
-        .map(|e| {
-            let alpha = match opts.forced_alpha {
-                Some(a) => Some(a),
-                None => identify(&x.x, x.tau0, e.m, kind).map(|id| id.alpha),
-            };
+        .zip(alphas.par_iter())
+        .map(|(e, &alpha)| {
             let nu = alpha.and_then(|a| edf(kind, a, e.m, kind.equivalent_points(e.m, e.terms)));
             let (lo, hi) = match nu {
                 Some(v) if e.value.is_finite() => {
@@ -209,4 +238,34 @@ pub fn annotate(
             })
         })
         .collect()
+}
+
+/// The dominant power law of a sum of power laws can only get redder as τ
+/// grows (σ²_α(τ) ∝ τ^(−α−1): a lower α gains on a higher one). A type
+/// found by the short-series B1 fallback is therefore not allowed to be
+/// whiter than the type at the next shorter τ: its α is capped there. This
+/// keeps a poorly determined long-τ point from borrowing the large EDF of
+/// white PM. Where too few points remain for any identification (fewer than
+/// four frequency averages), the type of the next shorter τ is carried over.
+/// (Our rules; the lag-1 identifications are left as found.)
+fn settle_short_series(
+    estimates: &[Estimate],
+    ids: &[Option<NoiseId>],
+    alphas: &mut [Option<i32>],
+) {
+    let mut order: Vec<usize> = (0..estimates.len()).collect();
+    order.sort_by_key(|&i| estimates[i].m);
+    let mut previous: Option<i32> = None;
+    for i in order {
+        match (ids[i], previous) {
+            (Some(id), Some(cap)) if id.method == IdMethod::B1 => {
+                alphas[i] = Some(id.alpha.min(cap));
+            }
+            (None, Some(carried)) => alphas[i] = Some(carried),
+            _ => {}
+        }
+        if alphas[i].is_some() {
+            previous = alphas[i];
+        }
+    }
 }

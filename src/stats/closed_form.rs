@@ -3,7 +3,7 @@
 //! Proc. 35th Frequency Control Symposium (1981), as tabulated in NIST SP 1065
 //! (Riley 2008, §5.3.2). N is the number of phase points and m the averaging
 //! factor. These are approximations (a few per cent); tauwise uses
-//! [`crate::stats::edf`] and keeps these as an independent cross-check.
+//! [`fn@crate::stats::edf`] and keeps these as an independent cross-check.
 //!
 //! | noise | EDF |
 //! |---|---|

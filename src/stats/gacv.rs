@@ -1,5 +1,5 @@
 //! Generalised autocovariances (GACV) of power-law phase, the kernels of the
-//! EDF sums in [`crate::stats::edf`].
+//! EDF sums in [`mod@crate::stats::edf`].
 //!
 //! A GACV s(t) of a non-stationary process is defined up to a polynomial of
 //! low degree; every covariance of a finite difference of high enough order

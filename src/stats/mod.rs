@@ -2,19 +2,19 @@
 //! confidence intervals from χ² quantiles, and the power-law noise type at
 //! each τ.
 //!
-//! - [`edf`] — the Greenhall & Riley (PTTI 2003) EDF algorithm for the Allan,
+//! - [`mod@edf`] — the Greenhall & Riley (PTTI 2003) EDF algorithm for the Allan,
 //!   modified Allan / time and Hadamard variances, and the NIST SP 1065 rules
 //!   for the total variance.
 //! - [`closed_form`] — the Howe, Allan & Barnes (1981) closed-form EDF of the
-//!   overlapping Allan variance (a cross-check of [`edf`]).
-//! - [`interval`] — two-sided χ² interval on a deviation.
+//!   overlapping Allan variance (a cross-check of [`mod@edf`]).
+//! - [`mod@interval`] — two-sided χ² interval on a deviation.
 //! - [`noise_id`] — lag-1 autocorrelation noise identification (Riley &
 //!   Greenhall 2004) with the B1 / R(n) fallback (Barnes 1969) for short
 //!   series.
 //! - [`bias`] — the theoretical B1(N, μ) and R(n) ratios the fallback compares
 //!   against.
 //! - [`gacv`] — the autocovariance kernels of the EDF sums.
-//! - [`annotate`] — estimates of one estimator → points with noise type, EDF
+//! - [`mod@annotate`] — estimates of one estimator → points with noise type, EDF
 //!   and interval.
 //!
 //! The statistics layer names the variance it works on with its own
@@ -24,6 +24,7 @@ use std::ops::RangeInclusive;
 
 pub mod annotate;
 pub mod bias;
+pub mod block_sums;
 pub mod closed_form;
 pub mod edf;
 pub mod gacv;
@@ -33,7 +34,7 @@ pub mod noise_id;
 pub use annotate::{annotate, StatsOptions};
 pub use edf::{edf, totvar_bias};
 pub use interval::{interval, DEFAULT_CONFIDENCE};
-pub use noise_id::{identify, IdMethod, NoiseId};
+pub use noise_id::{identify, IdMethod, Identifier, NoiseId};
 
 /// The variance behind a deviation, as far as its statistics are concerned.
 ///

@@ -21,32 +21,25 @@ pub mod tie;
 use crate::deviation::{compute, Estimate, Estimator};
 use crate::error::{Error, Result};
 use crate::record::PhaseRecord;
+use crate::tau::TauGrid;
 use check::MaskCheck;
 use masks::{Mask, Metric};
 
-/// The default τ grid of the wander analysis: averaging factors log-spaced
-/// at `per_decade` points per decade, m_k = round(10^(k/per_decade)),
-/// deduplicated, from 1 (τ0) up to a tenth of the record, m ≤ (N − 1)/10.
+/// The default τ grid of the wander analysis: [`TauGrid::PerDecade`]`(10)`
+/// (m = round(10^(k/10)), deduplicated) from τ0 up to a tenth of the record,
+/// m ≤ (N − 1)/10.
+pub const DEFAULT_GRID: TauGrid = TauGrid::PerDecade(10);
+
+/// The averaging factors of [`DEFAULT_GRID`] for a record of `points`
+/// samples: up to m = (points − 1)/10.
 ///
 /// ```
-/// let ms = tauwise::wander::log_grid(1001, 10);
+/// let ms = tauwise::wander::default_ms(1001, 1.0).unwrap();
 /// assert_eq!(&ms[..8], &[1, 2, 3, 4, 5, 6, 8, 10]);
 /// assert_eq!(*ms.last().unwrap(), 100);
 /// ```
-pub fn log_grid(points: usize, per_decade: usize) -> Vec<usize> {
-    let max_m = points.saturating_sub(1) / 10;
-    let per_decade = per_decade.max(1) as f64;
-    let mut out: Vec<usize> = Vec::new();
-    for k in 0.. {
-        let m = 10f64.powf(k as f64 / per_decade).round() as usize;
-        if m > max_m {
-            break;
-        }
-        if out.last() != Some(&m) {
-            out.push(m);
-        }
-    }
-    out
+pub fn default_ms(points: usize, tau0: f64) -> Result<Vec<usize>> {
+    DEFAULT_GRID.ms(tau0, points.saturating_sub(1) / 10)
 }
 
 /// Everything the wander analysis reports for one record.
@@ -63,7 +56,7 @@ pub struct WanderResult {
 }
 
 /// Run the wander analysis: TIE statistics, MTIE and TDEV at the averaging
-/// factors `ms` (see [`log_grid`] for the usual choice), and every mask
+/// factors `ms` (see [`default_ms`] for the usual choice), and every mask
 /// against the curve of its metric. With `remove_offset`, the least-squares
 /// constant frequency offset is removed from the record before everything
 /// else (MTIE of an offset alone is y·τ and would hide the wander); TDEV is

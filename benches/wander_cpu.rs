@@ -1,0 +1,95 @@
+//! Wall and CPU time of the issue-5 speed targets, one run each:
+//! `wander` analysis of a 10^7-point TIE record at 10 τ per decade (≤ 2 s),
+//! split into MTIE and TDEV, and a 24 h holdover with 2000 paths (≤ 3 s).
+//!
+//! `cargo bench --bench wander_cpu -- 10000000`
+//!
+//! CPU time (user + system of the whole process, all threads, from
+//! /proc/self/stat) is printed beside the wall time: on a shared machine the
+//! wall time depends on the load, the CPU time much less. With
+//! `RAYON_NUM_THREADS=1` the wall time is the single-core cost.
+
+use rand::{Rng, SeedableRng};
+use rand_chacha::ChaCha8Rng;
+use std::time::Instant;
+use tauwise::deviation::{compute, Estimator};
+use tauwise::holdover::aging::Aging;
+use tauwise::holdover::{predict, HoldoverModel, Settings};
+use tauwise::model::PowerLaw;
+use tauwise::wander::{analyse, default_ms, masks::builtin};
+use tauwise::PhaseRecord;
+
+/// Process CPU time in seconds (utime + stime of /proc/self/stat, in clock
+/// ticks of 1/100 s); None where /proc is not available.
+fn cpu_seconds() -> Option<f64> {
+    let stat = std::fs::read_to_string("/proc/self/stat").ok()?;
+    let after = stat.rsplit_once(')')?.1;
+    let fields: Vec<&str> = after.split_whitespace().collect();
+    let utime: f64 = fields.get(11)?.parse().ok()?;
+    let stime: f64 = fields.get(12)?.parse().ok()?;
+    Some((utime + stime) / 100.0)
+}
+
+fn timed<T>(label: &str, f: impl FnOnce() -> T) -> T {
+    let c0 = cpu_seconds();
+    let t0 = Instant::now();
+    let r = f();
+    let wall = t0.elapsed().as_secs_f64();
+    let cpu = match (c0, cpu_seconds()) {
+        (Some(a), Some(b)) => format!("{:.2} s", b - a),
+        _ => "n/a".into(),
+    };
+    println!("{label:<44} wall {wall:.3} s  cpu {cpu}");
+    r
+}
+
+fn main() {
+    let n: usize = std::env::args()
+        .skip(1)
+        .find_map(|a| a.parse().ok())
+        .unwrap_or(10_000_000);
+    let mut rng = ChaCha8Rng::seed_from_u64(1);
+    let mut acc = 0.0;
+    let x: Vec<f64> = (0..n)
+        .map(|_| {
+            acc += rng.gen_range(-1.0..1.0) * 1e-11;
+            acc + rng.gen_range(-1.0..1.0) * 2e-10
+        })
+        .collect();
+    let rec = PhaseRecord::new(x, 1e-3).expect("record");
+    let ms = default_ms(rec.len(), rec.tau0).expect("grid");
+    println!(
+        "N = {n}, {} τ (10 per decade up to N/10), threads = {}",
+        ms.len(),
+        rayon::current_num_threads()
+    );
+    timed("mtie", || compute(Estimator::Mtie, &rec, &ms));
+    timed("tdev", || compute(Estimator::Tdev, &rec, &ms));
+    let mut masks = builtin("g8262-opt1").expect("mask");
+    masks.extend(builtin("g811").expect("mask"));
+    timed("wander analyse (tie, offset, mtie, tdev, masks)", || {
+        analyse(&rec, &ms, true, &masks).expect("analyse")
+    });
+
+    let mut noise = PowerLaw::zero(0.5);
+    for (a, h) in [(2, 1e-22), (1, 1e-24), (0, 1e-22), (-1, 1e-26), (-2, 1e-31)] {
+        noise.set(a, h);
+    }
+    let model = HoldoverModel {
+        te0: 0.0,
+        y0: 1e-12,
+        y0_sigma: 1e-12,
+        aging: Aging::Linear {
+            c: 0.0,
+            d: 1e-10 / 86400.0,
+            d_sigma: 1e-11 / 86400.0,
+        },
+        start: 2.0 * 86400.0,
+        temp_worst: 1e-11,
+        noise,
+    };
+    let settings = Settings::new(86400.0, 1.5e-6);
+    timed("holdover 24 h, 2000 paths, 4096 steps, 5 terms", || {
+        predict(&model, &settings).expect("predict")
+    });
+}
