@@ -5,8 +5,9 @@
 //! Long-τ estimators (issue 7 targets on the 2-core machine): theo1 over
 //! its octave grid at N = 10^5 ≤ 3 s; mtot and htot ≤ 1 s at N = 10^5.
 //! The criterion group runs theo1, mtot and htot at N = 10^5 (mtot and
-//! htot are O(N) per τ) and theoh at N = 10^4 (its ThêoBR ratio is still
-//! O(N³)); the `deviation_peak` bench binary gives single-pass figures.
+//! htot are O(N) per τ) and theoh at N = 10^4; the `deviation_peak` bench
+//! binary gives single-pass figures (theoh at N = 172800:
+//! `TAUWISE_BENCH_DEV=theoh cargo bench --bench deviation_peak -- 172800`).
 //!
 //! `cargo bench --bench deviation -- --sample-size 10`
 

@@ -212,6 +212,30 @@ fn theoh_is_adev_then_bias_removed_theo1() {
     assert_eq!(s.iter().map(|e| e.m).collect::<Vec<_>>(), vec![1, 2]);
 }
 
+/// The same on a record long enough (N = 2600) that ThêoBR takes its Theo1
+/// values beyond m = 256 from the all-factor autocorrelation form: TheoH
+/// equals sqrt(R)·Theo1 with R from the direct SP 1065 forms (1e-10).
+#[test]
+fn theoh_bias_ratio_from_the_all_factor_form() {
+    let x = random_phase(2600, 9);
+    let n = x.len();
+    let nb = (0.1 * n as f64 / 3.0 - 3.0).floor() as usize;
+    assert!(12 + 4 * nb > 300);
+    let r: f64 = (0..=nb)
+        .map(|i| {
+            let a = reference::oadev(&x, 1.0, 9 + 3 * i).unwrap().value;
+            let t = reference::theo1(&x, 1.0, 12 + 4 * i).unwrap().value;
+            a * a / (t * t)
+        })
+        .sum::<f64>()
+        / (nb + 1) as f64;
+    let rec = PhaseRecord::new(x.clone(), 1.0).unwrap();
+    for e in compute(Estimator::Theoh, &rec, &[600, 1200]) {
+        let d = reference::theo1(&x, 1.0, e.m).unwrap();
+        assert!(rel(e.value, d.value * r.sqrt()) < 1e-10, "m'={}", e.m);
+    }
+}
+
 /// NIST SP 1065 nine-point set (CHECKS.md A) through the long-τ
 /// estimators: values from direct evaluation of the SP 1065 definitions
 /// (reference forms above; no published value is given here), checked to

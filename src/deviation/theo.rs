@@ -113,8 +113,10 @@ pub(crate) fn theo1(p: &Prepared, m: usize) -> Option<Estimate> {
 /// over short τ where AVAR is reliable, how far Theo1 falls below AVAR for
 /// the noise at hand. None when N < 90 (n < 0) or no pair is computable.
 ///
-/// Cost: the n + 1 ≈ N/30 Theo1 values make this O(N³/1800) operations —
-/// about a second at N = 10⁴; it is computed once per record.
+/// Cost: on a gap-free record the n + 1 ≈ N/30 Theo1 values come together
+/// from [`theo1_sums_many`], O(N²/450); with gaps each is a direct Theo1
+/// sum, O(N³/1800) in all (about a second at N = 10⁴). Computed once per
+/// record.
 pub(crate) fn theobr_ratio(p: &Prepared) -> Option<f64> {
     let n = p.x.len();
     let nb = (0.1 * n as f64 / 3.0 - 3.0).floor();
@@ -122,12 +124,36 @@ pub(crate) fn theobr_ratio(p: &Prepared) -> Option<f64> {
         return None;
     }
     let nb = nb as usize;
+    // Gap-free records: the Theo1 values beyond m = DIRECT_UP_TO all at
+    // once (`theo1_sums_many`); the short ones, and all of them with gaps,
+    // one direct Theo1 sum per factor.
+    let direct = |i: usize| theo1_at(p, 12 + 4 * i).map(|e| e.value * e.value);
+    let theo: Vec<Option<f64>> = if p.gaps.is_none() {
+        let first_fast = (0..=nb)
+            .find(|&i| 12 + 4 * i > DIRECT_UP_TO)
+            .unwrap_or(nb + 1);
+        let mut t: Vec<Option<f64>> = (0..first_fast).into_par_iter().map(direct).collect();
+        let ms: Vec<usize> = (first_fast..=nb)
+            .map(|i| 12 + 4 * i)
+            .filter(|&m| m < n)
+            .collect();
+        let sums = theo1_sums_many(p.x, &ms);
+        t.extend((first_fast..=nb).map(|i| {
+            let m = 12 + 4 * i;
+            let s = *sums.get(i - first_fast)?;
+            let mt = m as f64 * p.tau0;
+            Some(s / (0.75 * mt * mt * (n - m) as f64))
+        }));
+        t
+    } else {
+        (0..=nb).into_par_iter().map(direct).collect()
+    };
     let ratios: Vec<Option<f64>> = (0..=nb)
         .into_par_iter()
         .map(|i| {
             let a = oadev(p, 9 + 3 * i)?.value;
-            let t = theo1_at(p, 12 + 4 * i)?.value;
-            (t > 0.0).then(|| (a * a) / (t * t))
+            let t = theo[i]?;
+            (t > 0.0).then(|| (a * a) / t)
         })
         .collect();
     let good: Vec<f64> = ratios.into_iter().flatten().collect();
@@ -135,6 +161,112 @@ pub(crate) fn theobr_ratio(p: &Prepared) -> Option<f64> {
         return None;
     }
     Some(good.iter().sum::<f64>() / good.len() as f64)
+}
+
+/// ThêoBR takes its Theo1 values up to this factor from the direct sum:
+/// there the autocorrelation form of [`theo1_sums_many`] loses most to
+/// rounding, and the direct sum is cheap.
+const DIRECT_UP_TO: usize = 256;
+
+/// The Theo1 double sum of [`theo1_sum`] for many even factors at once, on
+/// a gap-free record: entry j is the sum for `ms[j]` (every ms\[j\] even,
+/// 2 ≤ ms\[j\] ≤ N − 1).
+///
+/// Expanding the square (x_i − x_{i+k} − x_{i+m−k} + x_{i+m})² leaves sums
+/// W(p, ℓ) = Σ_{i<N−m} x_{i+p}·x_{i+p+ℓ} over the offsets p ∈ {0, k, m−k, m}.
+/// Each is the whole-record autocorrelation R(ℓ) = Σ_t x_t x_{t+ℓ} (one
+/// FFT) less a head of p products and a tail of m − ℓ − p products; the
+/// heads and tails needed have length k at every lag, or length ≤ m at lag
+/// k, so they are kept as running arrays while k grows. Lag-0 sums come
+/// from double-double prefix sums of x². The record is first reduced by a
+/// straight line through its end points (Theo1 is exactly invariant to it).
+/// Cost O(N log N + K·(M + J)) for largest factor M, K = M/2 and J factors:
+/// made for the ThêoBR ratio (J ≈ N/30 factors up to M ≈ 0.13·N).
+///
+/// Rounding: the expansion subtracts sums of squares of the record, so the
+/// relative error grows with the ratio of the record's spread to its
+/// m-scale differences: about 1e-15 on white plus random-walk phase, but
+/// about 1.5e-16·(N/m)³ on random-walk FM (2e-11 at N/m = 50; 5e-8 at
+/// N = 172800, m = 256 by that scaling) — why ThêoBR uses it from m = 256 on.
+pub(crate) fn theo1_sums_many(x: &[f64], ms: &[usize]) -> Vec<f64> {
+    use rustfft::num_complex::Complex;
+    let n = x.len();
+    let Some(&mx) = ms.iter().max() else {
+        return Vec::new();
+    };
+    if n < 3 || mx + 1 > n {
+        return Vec::new();
+    }
+    let slope = (x[n - 1] - x[0]) / (n - 1) as f64;
+    let xd: Vec<f64> = x
+        .iter()
+        .enumerate()
+        .map(|(t, &v)| (v - x[0]) - slope * t as f64)
+        .collect();
+    // R(ℓ), ℓ = 0 … mx, by FFT (zero-padded, no wrap-around).
+    let size = (n + mx + 1).next_power_of_two();
+    let mut buf: Vec<Complex<f64>> = xd.iter().map(|&v| Complex::new(v, 0.0)).collect();
+    buf.resize(size, Complex::new(0.0, 0.0));
+    let mut planner = rustfft::FftPlanner::<f64>::new();
+    planner.plan_fft_forward(size).process(&mut buf);
+    for c in &mut buf {
+        *c = Complex::new(c.norm_sqr(), 0.0);
+    }
+    planner.plan_fft_inverse(size).process(&mut buf);
+    let r: Vec<f64> = buf[..=mx].iter().map(|c| c.re / size as f64).collect();
+    let sq: Vec<f64> = xd.iter().map(|v| v * v).collect();
+    let q = super::modtotal::PrefixSums::new(&sq);
+    let sqw = |p: usize, l: usize| q.sum(p, p + l);
+    let mut out = vec![0.0f64; ms.len()];
+    // hd[ℓ] = Σ_{t<k} x_t x_{t+ℓ}; tl[ℓ] = the last k products at lag ℓ.
+    let mut hd = vec![0.0f64; mx + 1];
+    let mut tl = vec![0.0f64; mx + 1];
+    // pk[h] = Σ_{t<h} x_t x_{t+k}; sk[h] = the last h products at lag k.
+    let mut pk = vec![0.0f64; mx + 1];
+    let mut sk = vec![0.0f64; mx + 1];
+    for k in 1..=mx / 2 {
+        let t = k - 1;
+        for (lag, h) in hd.iter_mut().enumerate() {
+            if t + lag < n {
+                *h += xd[t] * xd[t + lag];
+            }
+        }
+        for (lag, v) in tl.iter_mut().enumerate() {
+            if n >= lag + k {
+                *v += xd[n - lag - k] * xd[n - k];
+            }
+        }
+        let (mut a, mut b) = (0.0, 0.0);
+        for h in 0..=mx {
+            pk[h] = a;
+            sk[h] = b;
+            if h + k < n {
+                a += xd[h] * xd[h + k];
+                b += xd[n - k - 1 - h] * xd[n - 1 - h];
+            }
+        }
+        let kf = k as f64;
+        for (o, &m) in out.iter_mut().zip(ms) {
+            if m < 2 * k {
+                continue;
+            }
+            let l = n - m;
+            let squares = sqw(0, l) + sqw(k, l) + sqw(m - k, l) + sqw(m, l);
+            let ab = r[k] - sk[m - k];
+            let ac = r[m - k] - tl[m - k];
+            let ad = r[m];
+            let lag = m - 2 * k;
+            let bc = if lag == 0 {
+                sqw(k, l)
+            } else {
+                r[lag] - hd[lag] - tl[lag]
+            };
+            let bd = r[m - k] - hd[m - k];
+            let cd = r[k] - pk[m - k];
+            *o += (squares - 2.0 * ab - 2.0 * ac + 2.0 * ad + 2.0 * bc - 2.0 * bd - 2.0 * cd) / kf;
+        }
+    }
+    out
 }
 
 /// The TheoH switch point: the Allan variance serves up to 10 % of the
@@ -199,4 +331,47 @@ pub fn theo1_edf(alpha: i32, n_phase: usize, m: usize) -> Option<f64> {
         _ => return None,
     };
     (edf.is_finite() && edf > 0.0).then_some(edf)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use rand::{Rng, SeedableRng};
+    use rand_chacha::ChaCha8Rng;
+
+    /// All-factor Theo1 sums (autocorrelation form) equal the direct sum
+    /// (SP 1065 eq. 31 as in `theo1_sum`) to 1e-10 relative, on white plus
+    /// random-walk phase with an offset and a frequency offset, and on
+    /// random-walk FM.
+    #[test]
+    fn many_factors_equal_the_direct_sum() {
+        let mut rng = ChaCha8Rng::seed_from_u64(5);
+        let mut w = 0.0;
+        let a: Vec<f64> = (0..700)
+            .map(|i| {
+                w += rng.gen_range(-1.0..1.0) * 1e-9;
+                1e-6 + w + rng.gen_range(-1.0..1.0) * 3e-9 + 5e-11 * i as f64
+            })
+            .collect();
+        let (mut f, mut ph) = (0.0, 0.0);
+        let b: Vec<f64> = (0..600)
+            .map(|_| {
+                f += rng.gen_range(-1.0..1.0) * 1e-12;
+                ph += f;
+                ph
+            })
+            .collect();
+        for x in [a, b] {
+            let n = x.len();
+            let ms = [12usize, 16, 50, 100, 298, n - 2, (n - 1) & !1];
+            let p = Prepared::new(&x, 1.0);
+            let fast = theo1_sums_many(&x, &ms);
+            for (&m, &s) in ms.iter().zip(&fast) {
+                let (d, used) = theo1_sum(&p, m);
+                assert_eq!(used, n - m);
+                assert!((s - d).abs() <= 1e-10 * d.abs(), "m={m}: {s} vs {d}");
+            }
+        }
+        assert!(theo1_sums_many(&[1.0, 2.0], &[2]).is_empty());
+    }
 }

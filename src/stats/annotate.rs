@@ -78,10 +78,10 @@ impl From<Estimator> for Option<VarianceKind> {
 }
 
 /// Theo1 and TheoH. The noise type comes from the overlapping-Allan
-/// identification at τ (rounded to a whole m); where the record is too short
-/// for it at that τ (Theo1 reaches 0.75 of the record), the type identified
-/// at the longest τ below that worked is carried on (an engineering choice:
-/// the noise type at the end of the ADEV range stands for the long-τ end).
+/// identification at τ (rounded to a whole m), settled by the same
+/// short-series rule as the other estimators: where the record is too short
+/// for any identification at that τ (Theo1 reaches 0.75 of the record), the
+/// type of the next shorter τ is carried on.
 /// EDF: Theo1 and TheoH's ThêoBR part by [`crate::deviation::theo1_edf`]
 /// (NIST SP 1065 Theo1 EDF; ThêoBR is a scaled Theo1, so its EDF is taken
 /// as Theo1's), TheoH's ADEV part by the overlapping Allan EDF (Greenhall &
@@ -103,24 +103,30 @@ fn annotate_theo(
     }
     let n = x.x.len();
     let switch = est.bias_corrected_from(n, x.tau0);
-    let identifier = Identifier::new(&x.x, x.tau0, oa);
-    let ids: Vec<Option<i32>> = estimates
-        .par_iter()
-        .map(|e| match opts.forced_alpha {
-            Some(a) => Some(a),
-            None => {
-                let m = ((e.tau / x.tau0).round() as usize).max(1);
-                identifier.at(m).map(|id| id.alpha)
-            }
-        })
-        .collect();
-    let mut carried = None;
-    let mut out = Vec::with_capacity(estimates.len());
-    for (e, id) in estimates.iter().zip(ids) {
-        if id.is_some() {
-            carried = id;
+    let ids: Vec<Option<NoiseId>> = match opts.forced_alpha {
+        Some(a) => vec![
+            Some(NoiseId {
+                alpha: a,
+                method: IdMethod::Lag1,
+                r1: None,
+            });
+            estimates.len()
+        ],
+        None => {
+            let identifier = Identifier::new(&x.x, x.tau0, oa);
+            estimates
+                .par_iter()
+                .map(|e| identifier.at(((e.tau / x.tau0).round() as usize).max(1)))
+                .collect()
         }
-        let alpha = id.or(carried);
+    };
+    let mut alphas: Vec<Option<i32>> = ids.iter().map(|id| id.map(|i| i.alpha)).collect();
+    if opts.forced_alpha.is_none() {
+        // The estimates' m grow with τ for both (Theo1 factor m' ≈ τ/(0.75τ0)).
+        settle_short_series(estimates, &ids, &mut alphas);
+    }
+    let mut out = Vec::with_capacity(estimates.len());
+    for (e, &alpha) in estimates.iter().zip(&alphas) {
         let theo_part = match switch {
             Some(s) => e.tau >= s,
             None => true,
