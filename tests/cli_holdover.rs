@@ -176,7 +176,11 @@ fn assert_error(out: &Output, words: &[&str], not_written: &Path) {
     for w in words {
         assert!(e.contains(w), "'{w}' missing from: {e}");
     }
-    assert!(!not_written.exists(), "{} was written", not_written.display());
+    assert!(
+        !not_written.exists(),
+        "{} was written",
+        not_written.display()
+    );
 }
 
 /// A span or budget ≤ 0 is a clear error; nothing is written.

@@ -99,7 +99,10 @@ fn json_contract_on_a_ramp() {
     assert!(rel(tie["max_abs"].as_f64().unwrap(), Y0 * span));
     assert!(rel(tie["pk_pk"].as_f64().unwrap(), Y0 * span));
     let sum_sq = span * (span + 1.0) * (2.0 * span + 1.0) / 6.0;
-    assert!(rel(tie["rms"].as_f64().unwrap(), Y0 * (sum_sq / N as f64).sqrt()));
+    assert!(rel(
+        tie["rms"].as_f64().unwrap(),
+        Y0 * (sum_sq / N as f64).sqrt()
+    ));
 
     // MTIE at every τ of the default grid equals y0·τ (analytic).
     let taus = grid(N);
@@ -132,10 +135,9 @@ fn json_contract_on_a_ramp() {
             assert!(m.get(key).is_some(), "mask lacks '{key}'");
         }
         assert_eq!(m["name"], "g8262-opt1");
-        assert!(m["source_note"]
-            .as_str()
-            .unwrap()
-            .contains("values recalled from memory; check against the current edition of the Recommendation"));
+        assert!(m["source_note"].as_str().unwrap().contains(
+            "values recalled from memory; check against the current edition of the Recommendation"
+        ));
     }
     let mt = masks.iter().find(|m| m["metric"] == "mtie").unwrap();
     assert_eq!(mt["verdict"], "fail");
@@ -150,11 +152,7 @@ fn json_contract_on_a_ramp() {
         .fold((0.0, 0.0), |a, b| if b.1 > a.1 { b } else { a });
     assert!(rel(mt["worst_ratio"].as_f64().unwrap(), wr));
     assert_eq!(mt["worst_tau"].as_f64().unwrap(), wt);
-    let want: Vec<f64> = ratios
-        .iter()
-        .filter(|r| r.1 > 1.0)
-        .map(|r| r.0)
-        .collect();
+    let want: Vec<f64> = ratios.iter().filter(|r| r.1 > 1.0).map(|r| r.0).collect();
     let got: Vec<f64> = mt["violations"]
         .as_array()
         .unwrap()
@@ -172,7 +170,10 @@ fn json_contract_on_a_ramp() {
     assert!(td["violations"].as_array().unwrap().is_empty());
 
     let caution = doc["caution"].as_str().unwrap();
-    assert!(caution.contains("formally measured under the conditions"), "{caution}");
+    assert!(
+        caution.contains("formally measured under the conditions"),
+        "{caution}"
+    );
     assert!(caution.contains("Engineering estimate"), "{caution}");
 }
 
@@ -185,7 +186,10 @@ fn exit_status_of_a_failed_mask() {
     let text = String::from_utf8_lossy(&out.stdout);
     assert!(text.contains("FAIL"), "{text}");
     assert!(text.contains("values recalled from memory"), "{text}");
-    assert!(text.contains("formally measured under the conditions"), "{text}");
+    assert!(
+        text.contains("formally measured under the conditions"),
+        "{text}"
+    );
     assert!(text.contains("Engineering estimate"), "{text}");
 
     let (out, doc) = run_ramp(&["--fail-on-violation", "--format", "json"]);
@@ -230,7 +234,11 @@ fn assert_error(out: &Output, words: &[&str], not_written: &Path) {
     for w in words {
         assert!(e.contains(w), "'{w}' missing from: {e}");
     }
-    assert!(!not_written.exists(), "{} was written", not_written.display());
+    assert!(
+        !not_written.exists(),
+        "{} was written",
+        not_written.display()
+    );
 }
 
 /// An unknown mask name is an error that lists the known ones; nothing is

@@ -239,7 +239,7 @@ fn noise_paths_follow_the_analytic_variance_growth() {
     let (step, n) = (30.0, 256);
     let ks = [16usize, 64, 256];
     let f_h = 0.5; // record τ0 = 1 s, paths at 30 s
-    // WPM (IEEE Std 1139: phase variance h2·f_h/(2π)², analytic): constant 2σ².
+                   // WPM (IEEE Std 1139: phase variance h2·f_h/(2π)², analytic): constant 2σ².
     let h2 = 1e-22;
     for (v, _) in path_variance(2, h2, f_h, step, n, &ks).iter().zip(ks) {
         let want = 2.0 * h2 * f_h / (4.0 * PI * PI);
@@ -298,10 +298,9 @@ fn noise_paths_follow_the_analytic_variance_growth() {
 #[test]
 fn noise_fit_recovers_the_simulated_model() {
     let truth = PowerLaw::parse("h0=1e-22,h-2=1e-30", 0.5).unwrap();
-    let rec = tauwise::simulate::simulate_phase(&tauwise::simulate::SimSpec::new(
-        truth, 1.0, 100_000, 9,
-    ))
-    .unwrap();
+    let rec =
+        tauwise::simulate::simulate_phase(&tauwise::simulate::SimSpec::new(truth, 1.0, 100_000, 9))
+            .unwrap();
     let fit = fit_noise(&rec).unwrap();
     let m = fit.model;
     assert!((m.get(0) / 1e-22 - 1.0).abs() < 0.3, "{m:?}");

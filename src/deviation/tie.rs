@@ -53,7 +53,7 @@ fn min(a: f64, b: f64) -> f64 {
 /// - For m ≥ [`PRUNE_FROM_M`], branch and bound over blocks of window starts
 ///   ([`mtie_pruned`]): the starts are cut into blocks of B = m/8; every
 ///   window starting in block b lies inside the span of blocks b … b + c
-///   (c = ⌊(B − 1 + m)/B⌋), so the range of that span, from per-block
+///   (c = ⌈m/B⌉), so the range of that span, from per-block
 ///   extrema and a sliding maximum over blocks, bounds all those windows
 ///   from above. The block with the largest bound is scanned exactly first;
 ///   then only blocks whose bound exceeds the best range found so far are
@@ -109,7 +109,7 @@ pub(crate) fn mtie_pruned(p: &Prepared, m: usize) -> (f64, usize) {
     }
     // Blocks of starts: starts [j·b, min((j+1)·b, windows)), j < nstarts.
     let nstarts = windows.div_ceil(b);
-    let c = (b - 1 + m) / b;
+    let c = m.div_ceil(b);
     // Sliding extrema over sample blocks j … j + c (clamped to the record).
     let upper = sliding_range(&bmax, &bmin, c + 1, nstarts);
     let used = if p.gaps.is_none() {

@@ -22,8 +22,8 @@
 pub mod aging;
 pub mod paths;
 
-use crate::error::{Error, Result};
 use crate::deviation::Estimator;
+use crate::error::{Error, Result};
 use crate::model::fit::{fit_variances, FitPoint, ModelFit, VarKind};
 use crate::model::PowerLaw;
 use crate::record::{PhaseRecord, Record};
