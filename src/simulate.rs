@@ -16,31 +16,34 @@
 //! of the coefficients of (1 − B)^(−d) are those of (1 − B)^(−d−1)). The
 //! exponent d on this "increment" level is d = −α/2:
 //!
-//! | α  | noise | d    | how it is computed                                  |
-//! |----|-------|------|-----------------------------------------------------|
-//! | 2  | WPM   | −1   | z_k = w_k − w_(k−1), so x_k = w_k                    |
-//! | 1  | FPM   | −1/2 | x = (1 − B)^(−1/2) w by FFT convolution, z = Δx       |
-//! | 0  | WFM   | 0    | z = w (x is a random walk)                          |
-//! | −1 | FFM   | 1/2  | z = (1 − B)^(−1/2) w by FFT convolution              |
-//! | −2 | RWFM  | 1    | z_k = Σ_(j≤k) w_j                                   |
+//! | α  | noise | d    | how it is computed                                   |
+//! |----|-------|------|------------------------------------------------------|
+//! | 2  | WPM   | −1   | z_k = w_k − w_(k−1), so x_k = w_k                     |
+//! | 1  | FPM   | −1/2 | x = (1 − B)^(−1/2) w by FFT convolution, shaped; z = Δx |
+//! | 0  | WFM   | 0    | z = w (x is a random walk)                           |
+//! | −1 | FFM   | 1/2  | z = (1 − B)^(−1/2) w by FFT convolution, shaped       |
+//! | −2 | RWFM  | 1    | z_k = Σ_(j≤k) e_j, e_k = a(w_k + θw_(k−1))            |
 //!
 //! For the integer exponents the filter is a finite recursion and is applied
 //! exactly, with no FFT (it gives the same numbers as the convolution, to
-//! rounding). For the half-integer exponent the N coefficients are applied by
-//! a linear convolution computed with one complex FFT of length
-//! M ≥ 2N − 1 (the smallest 2^a·3^b·5^c, so that circular wrap-around never
-//! reaches the kept samples): white noise in the real part, the coefficients
-//! in the imaginary part, the two spectra separated by conjugate symmetry,
-//! multiplied, and transformed back. Without this zero padding the
-//! convolution would be circular and the long memory of FPM and FFM
-//! (α ≤ −1 on the frequency side) would wrap the end of the record onto its
-//! start. The record is the first N samples of the process started from
-//! rest ("pad to ≥ 2N"): no transient is discarded. The expected overlapping
-//! Allan variance of this zero-start FFM process, computed exactly from the
-//! filter coefficients for N = 2^16, is within 0.4 % of the stationary value
-//! for m ≤ N/16 and 1.9 % low at m = N/4, where the estimate itself has an
-//! EDF of about 3; keeping the tail of a process twice as long would cost 1.5×
-//! the memory for no visible gain.
+//! rounding). For the half-integer exponent the coefficients are applied by
+//! a linear convolution computed with one complex FFT: white noise in the
+//! real part, the coefficients in the imaginary part, the two spectra
+//! separated by conjugate symmetry, multiplied, and transformed back. The
+//! FFT length M is the smallest 2^a·3^b·5^c ≥ 2N − 1 (plus 3·256 guard
+//! samples for the shaping below), so that circular wrap-around never
+//! reaches the kept samples: without this zero padding the convolution would
+//! be circular and the long memory of FPM and FFM (α ≤ −1 on the frequency
+//! side) would wrap the end of the record onto its start. The record is the
+//! first N samples of the process started from rest ("pad to ≥ 2N"): no
+//! transient is discarded. The expected overlapping Allan variance of this
+//! zero-start FFM process, computed exactly from the filter coefficients for
+//! N = 2^16, is within 0.4 % of the stationary value for m ≤ N/16 and 1.9 %
+//! low at m = N/4, where the estimate itself has an EDF of about 3; keeping
+//! the tail of a process twice as long would cost 1.5× the memory for no
+//! visible gain. Memory for the flicker terms is about 48 bytes per FFT
+//! point (buffer, scratch and twiddles of one plan), about 1 GB for
+//! N = 10^7; the integer-exponent terms need only the 8-byte output.
 //!
 //! # Calibration: the white-noise variance q for a given h_α
 //!
@@ -55,24 +58,42 @@
 //!
 //! q = h_α·(2πτ0)^(2−α)/(8π²τ0) = h_α·(2π)^(−α)·τ0^(1−α)/2   (seconds²).
 //!
-//! With this q the AVAR of the output agrees with the IEEE Std 1139 table
-//! (CHECKS.md C, f_h = 1/(2τ0)):
-//! - WPM: exactly at every τ (x is white with variance h_2 f_h/(2π)², and the
-//!   AVAR of white phase of variance σ² is 3σ²/τ²);
-//! - WFM: exactly at every τ (x is a random walk of step variance h_0τ0/2);
-//! - RWFM: σ_y²(mτ0) = (2π)²τh_−2/6 · (1 + 1/(2m²)) exactly, i.e. 50 % high at
-//!   m = 1, 3 % at m = 4, 0.8 % at m = 8;
-//! - FFM: 1.443 (= 1/ln2: at m = 1 the filter gives 2q/π), 1.154, 1.050,
-//!   1.015, 1.005 times 2 ln2·h_−1 at m = 1, 2, 4, 8, 16 (exact sums over the
-//!   filter coefficients), within 0.1 % beyond;
-//! - FPM: 1.19, 1.09 (m = 4), 1.06 (m = 16), 1.03 (m = 1024) times the table
-//!   value: asymptotically the discrete process behaves as the table with
-//!   f_h = 2/(πτ0) instead of 1/(2τ0) (its PSD 1/(2 sin πfτ0) exceeds 1/(2πfτ0)
-//!   near Nyquist, and ∫_0^(π/2) (1/sin u − 1/u) du = ln(4/π)).
+//! # Short-τ fidelity: the shaping of FPM, FFM and RWFM
 //!
-//! These small-τ departures belong to the discrete Kasdin–Walter process
-//! itself; they are stated here so that a test or a Monte Carlo that uses
-//! short τ knows what to expect.
+//! With q alone, the plain Kasdin–Walter process matches the IEEE Std 1139
+//! table (CHECKS.md C, f_h = 1/(2τ0)) at long τ but not at the shortest: its
+//! PSD departs from the model's near the Nyquist frequency. Computed
+//! exactly from the filter, the plain process gives 1 + 1/(2m²) times the
+//! table for RWFM (50 % high at m = 1), 1/ln2 = 1.443, 1.154, 1.050, 1.015
+//! times it for FFM at m = 1, 2, 4, 8, and for FPM 1.19 at m = 1 falling only
+//! slowly (1.03 at m = 1024: it behaves as the table with f_h = 2/(πτ0),
+//! since ∫_0^(π/2) (1/sin u − 1/u) du = ln(4/π)). tauwise therefore shapes
+//! these three, keeping the low-frequency level (so the calibration holds),
+//! so that each record is the sampled version of the continuous model:
+//! - RWFM: the white input is given the MA(1) shape e_k = a(w_k + θw_(k−1)),
+//!   θ = 2 − √3, a² = (2/3)/(1 + θ²) — the increments of a random walk
+//!   averaged over τ0 have 2/3 of the variance of its unaveraged step and
+//!   lag-1 correlation 1/4, nothing beyond; a²(1 + θ)² = 1 keeps the level.
+//!   AVAR is then exact at every τ.
+//! - FFM: the spectrum is multiplied by √R(f), f in cycles per sample,
+//!   R(f) = S_target/S_KW = sinc³(πf)·(1 + f³[ζ(3, 1+f) + ζ(3, 1−f)]), the
+//!   ratio of the PSD of τ0-averaged, sampled FFM,
+//!   Σ_k h/|f + k| · sinc²(π(f + k)) = h sin²(πf)/π² · Σ_k |f + k|^(−3), to the
+//!   Kasdin–Walter PSD πh/sin(πf) (ζ(3, a) is the Hurwitz zeta function).
+//!   AVAR is then 2 ln2·h_−1 at every τ.
+//! - FPM: the spectrum is multiplied by √sinc(πf), which makes the phase PSD
+//!   h_1/((2π)² f) exactly up to f_h = 1/(2τ0): the process of the IEEE Std
+//!   1139 model with that f_h, whose AVAR is the integral of
+//!   [`crate::model::response`] (within 0.3 % of the table's
+//!   [1.038 + 3 ln(2πf_hτ)] form from m = 4 on; at m = 1 the table's
+//!   large-τ form is itself 7.6 % above the integral).
+//!
+//! The shaping kernels are short (the FFM gain has a |f|³ term, so its
+//! kernel decays as l^(−4); the FPM gain a kink at Nyquist, l^(−2)); the
+//! process is generated 256 samples beyond the record and the FFT leaves 256
+//! more of zero padding, so the kernels see genuine samples ahead and the
+//! zero-start past behind. WPM and WFM need no shaping: white phase and a
+//! random walk are exact samples of their continuous models.
 //!
 //! # Offset and drift
 //!
@@ -101,8 +122,9 @@ use rustfft::FftPlannerScalar;
 use std::f64::consts::PI;
 
 /// Largest record [`simulate_phase`] and [`simulate_frequency`] accept
-/// (2^30 samples; the FFT for flicker terms needs about 32·2N bytes).
-pub const MAX_POINTS: usize = 1 << 30;
+/// (10^8 samples, the longest records of DESIGN.md §1; flicker terms then
+/// need about 10 GB for the FFT).
+pub const MAX_POINTS: usize = 100_000_000;
 
 /// What to synthesise.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -224,7 +246,9 @@ pub fn simulate_frequency(spec: &SimSpec) -> Result<FrequencyRecord> {
 /// zeros.
 ///
 /// # Panics
-/// When α is outside −2 … 2, or h is negative or not finite, or τ0 ≤ 0.
+/// When α is outside −2 … 2, or h is negative or not finite, or τ0 ≤ 0, or
+/// the memory for the FFT of a flicker term cannot be had (use
+/// [`simulate_phase`] for an error instead).
 pub fn power_law_phase(alpha: i32, h: f64, tau0: f64, n: usize, rng: &mut impl Rng) -> Vec<f64> {
     assert!((-2..=2).contains(&alpha), "α must be in −2 … 2");
     assert!(h.is_finite() && h >= 0.0, "h_α must be non-negative");
@@ -232,7 +256,8 @@ pub fn power_law_phase(alpha: i32, h: f64, tau0: f64, n: usize, rng: &mut impl R
     let mut acc = vec![0.0; n];
     if h > 0.0 {
         let mut fft = FlickerFft::default();
-        add_term(alpha, white_sigma(alpha, h, tau0), rng, &mut acc, &mut fft);
+        add_term(alpha, white_sigma(alpha, h, tau0), rng, &mut acc, &mut fft)
+            .expect("not enough memory for the FFT of a flicker term");
     }
     let mut sum = 0.0;
     for v in acc.iter_mut() {
@@ -264,7 +289,7 @@ fn increments(spec: &SimSpec, len: usize) -> Result<Vec<f64>> {
                 &mut rng,
                 &mut acc,
                 &mut fft,
-            );
+            )?;
         }
     }
     Ok(acc)
@@ -280,7 +305,16 @@ fn alloc<T>(len: usize) -> Result<Vec<T>> {
 
 /// Add the increments of term α with white-noise standard deviation `sigma`
 /// to `acc`.
-fn add_term(alpha: i32, sigma: f64, rng: &mut impl Rng, acc: &mut [f64], fft: &mut FlickerFft) {
+fn add_term(
+    alpha: i32,
+    sigma: f64,
+    rng: &mut impl Rng,
+    acc: &mut [f64],
+    fft: &mut FlickerFft,
+) -> Result<()> {
+    if acc.is_empty() {
+        return Ok(());
+    }
     let mut normal = || -> f64 { rng.sample(StandardNormal) };
     match alpha {
         2 => {
@@ -297,14 +331,19 @@ fn add_term(alpha: i32, sigma: f64, rng: &mut impl Rng, acc: &mut [f64], fft: &m
             }
         }
         -2 => {
+            let theta = 2.0 - 3f64.sqrt();
+            let a = (2.0 / 3.0 / (1.0 + theta * theta)).sqrt();
+            let mut prev = normal();
             let mut s = 0.0;
             for v in acc.iter_mut() {
-                s += normal();
+                let w = normal();
+                s += a * (w + theta * prev);
+                prev = w;
                 *v += sigma * s;
             }
         }
         1 => {
-            let x = fft.filter_half(acc.len(), &mut normal);
+            let x = fft.filter_half(acc.len(), &mut normal, Shape::FlickerPhase)?;
             let mut prev = 0.0;
             for (v, xi) in acc.iter_mut().zip(x) {
                 *v += sigma * (xi - prev);
@@ -312,13 +351,14 @@ fn add_term(alpha: i32, sigma: f64, rng: &mut impl Rng, acc: &mut [f64], fft: &m
             }
         }
         -1 => {
-            let z = fft.filter_half(acc.len(), &mut normal);
+            let z = fft.filter_half(acc.len(), &mut normal, Shape::FlickerFrequency)?;
             for (v, zi) in acc.iter_mut().zip(z) {
                 *v += sigma * zi;
             }
         }
         _ => unreachable!("α checked by the callers"),
     }
+    Ok(())
 }
 
 /// Kasdin–Walter coefficients h_0 … h_(n−1) of (1 − B)^(−d):
@@ -372,28 +412,90 @@ impl Default for FlickerFft {
     }
 }
 
+/// Spectral shaping on top of the d = ½ Kasdin–Walter filter (module notes).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Shape {
+    /// The plain Kasdin–Walter filter.
+    Plain,
+    /// FPM: gain √(sin(πf)/(πf)), so that the phase PSD is h_1/((2π)² f)
+    /// exactly up to f_h = 1/(2τ0).
+    FlickerPhase,
+    /// FFM: gain √R(f) with R(f) = sinc³(πf)·(1 + f³[ζ(3, 1+f) + ζ(3, 1−f)]),
+    /// so that the frequency PSD is that of τ0-averaged, sampled FFM.
+    FlickerFrequency,
+}
+
+/// Half-width (samples) kept free of wrap-around for the shaping kernel.
+const SHAPE_GUARD: usize = 256;
+
+/// Hurwitz zeta ζ(3, a) = Σ_(j≥0) (a + j)^(−3) for a > 0: twelve terms,
+/// then the Euler–Maclaurin tail ∫ + g/2 − g′/12 + g‴/720 − g⁽⁵⁾/30240 of
+/// g(j) = (a + j)^(−3) (relative error below 1e-11 for a ≥ 0.5).
+pub fn hurwitz_zeta3(a: f64) -> f64 {
+    let mut s = 0.0;
+    for j in 0..12 {
+        s += (a + j as f64).powi(-3);
+    }
+    let b = a + 12.0;
+    s + 0.5 / (b * b) + 0.5 / b.powi(3) + 0.25 / b.powi(4) - 1.0 / (12.0 * b.powi(6))
+        + 1.0 / (12.0 * b.powi(8))
+}
+
+/// Power gain R(f) of a [`Shape`] at f cycles per sample (0 ≤ f ≤ ½).
+pub fn shape_power_gain(shape: Shape, f: f64) -> f64 {
+    let x = PI * f;
+    let sinc = if x == 0.0 { 1.0 } else { x.sin() / x };
+    match shape {
+        Shape::Plain => 1.0,
+        Shape::FlickerPhase => sinc,
+        Shape::FlickerFrequency => {
+            sinc.powi(3) * (1.0 + f.powi(3) * (hurwitz_zeta3(1.0 + f) + hurwitz_zeta3(1.0 - f)))
+        }
+    }
+}
+
 impl FlickerFft {
     /// y_k = Σ_(j≤k) h_j w_(k−j), k < n, for the d = ½ coefficients h and
     /// fresh white noise w: a linear convolution by one complex FFT pair of
-    /// length M ≥ 2n − 1. Returns the n outputs (borrowed from the buffer).
+    /// length M ≥ 2n − 1 (with 256 guard samples each side when shaped), the
+    /// spectrum multiplied by √R(f) of `shape`. Returns the n outputs
+    /// (borrowed from the buffer).
     fn filter_half(
         &mut self,
         n: usize,
         normal: &mut impl FnMut() -> f64,
-    ) -> impl Iterator<Item = f64> + '_ {
-        let m = fast_len(2 * n - 1);
+        shape: Shape,
+    ) -> Result<impl Iterator<Item = f64> + '_> {
+        let guard = if shape == Shape::Plain {
+            0
+        } else {
+            SHAPE_GUARD
+        };
+        // The process is generated for n + guard samples, so that the
+        // shaping kernel finds genuine samples ahead of the last kept one,
+        // and the FFT is long enough that its backward reach wraps into the
+        // zero padding only (the zero-start process is zero before k = 0).
+        let len = n + guard;
+        let m = fast_len(2 * len - 1 + guard);
+        // One forward plan serves both ways (the inverse is conj∘FFT∘conj),
+        // which saves the twiddle table of a second plan (16·M bytes).
         let fwd = self.planner.plan_fft_forward(m);
-        let inv = self.planner.plan_fft_inverse(m);
-        let need = fwd
-            .get_inplace_scratch_len()
-            .max(inv.get_inplace_scratch_len());
+        let need = fwd.get_inplace_scratch_len();
+        let oom = || {
+            Error::insufficient(format!(
+                "not enough memory for an FFT of {m} points (a flicker term of {n} samples)"
+            ))
+        };
         self.buf.clear();
+        self.buf.try_reserve_exact(m).map_err(|_| oom())?;
         self.buf.resize(m, Complex::new(0.0, 0.0));
         if self.scratch.len() < need {
+            let extra = need - self.scratch.len();
+            self.scratch.try_reserve_exact(extra).map_err(|_| oom())?;
             self.scratch.resize(need, Complex::new(0.0, 0.0));
         }
         let mut c = 1.0;
-        for k in 0..n {
+        for k in 0..len {
             if k > 0 {
                 c *= (k as f64 - 0.5) / k as f64;
             }
@@ -410,13 +512,16 @@ impl FlickerFft {
             let zj = self.buf[j].conj();
             let w = (zk + zj) * half;
             let h = (zk - zj) * minus_half_i;
-            let p = w * h;
-            self.buf[k] = p;
-            self.buf[j] = p.conj();
+            // Store conj(P) for the inverse by conj∘FFT∘conj.
+            let g = shape_power_gain(shape, k as f64 / m as f64).sqrt();
+            let p = w * h * g;
+            self.buf[k] = p.conj();
+            self.buf[j] = p;
         }
-        inv.process_with_scratch(&mut self.buf, &mut self.scratch[..need]);
+        fwd.process_with_scratch(&mut self.buf, &mut self.scratch[..need]);
+        // The result is real: conj changes nothing in the real part.
         let scale = 1.0 / m as f64;
-        self.buf[..n].iter().map(move |c| c.re * scale)
+        Ok(self.buf[..n].iter().map(move |c| c.re * scale))
     }
 }
 
@@ -438,7 +543,10 @@ mod tests {
             let w: Vec<f64> = (0..n).map(|_| rng.sample(StandardNormal)).collect();
             let mut it = w.iter().copied();
             let mut fft = FlickerFft::default();
-            let got: Vec<f64> = fft.filter_half(n, &mut || it.next().unwrap()).collect();
+            let got: Vec<f64> = fft
+                .filter_half(n, &mut || it.next().unwrap(), Shape::Plain)
+                .unwrap()
+                .collect();
             let want = direct(&kw_coefficients(0.5, n), &w);
             for (g, e) in got.iter().zip(&want) {
                 assert!((g - e).abs() < 1e-12 * (1.0 + e.abs()), "n={n}: {g} vs {e}");
@@ -447,21 +555,48 @@ mod tests {
     }
 
     /// The integer-d recursions are the Kasdin–Walter filter (analytic:
-    /// (1 − B)^1 = 1 − B, (1 − B)^0 = 1, (1 − B)^(−1) = Σ B^k).
+    /// (1 − B)^1 = 1 − B, (1 − B)^0 = 1, (1 − B)^(−1) = Σ B^k), for RWFM
+    /// applied to the MA(1) input.
     #[test]
     fn integer_paths_equal_the_filter() {
         let n = 200;
         for (alpha, d) in [(2, -1.0), (0, 0.0), (-2, 1.0)] {
             let mut rng = ChaCha8Rng::seed_from_u64(5);
             let mut acc = vec![0.0; n];
-            add_term(alpha, 1.0, &mut rng, &mut acc, &mut FlickerFft::default());
+            add_term(alpha, 1.0, &mut rng, &mut acc, &mut FlickerFft::default()).unwrap();
             let mut rng = ChaCha8Rng::seed_from_u64(5);
-            let w: Vec<f64> = (0..n).map(|_| rng.sample(StandardNormal)).collect();
+            let mut w: Vec<f64> = (0..=n).map(|_| rng.sample(StandardNormal)).collect();
+            if alpha == -2 {
+                // MA(1) input a(w_k + θ w_(k−1)), w_(−1) drawn first.
+                let theta = 2.0 - 3f64.sqrt();
+                let a = (2.0 / 3.0 / (1.0 + theta * theta)).sqrt();
+                w = (1..=n).map(|k| a * (w[k] + theta * w[k - 1])).collect();
+            } else {
+                w.truncate(n);
+            }
             let want = direct(&kw_coefficients(d, n), &w);
             for (g, e) in acc.iter().zip(&want) {
                 assert!((g - e).abs() < 1e-12 * (1.0 + e.abs()));
             }
         }
+    }
+
+    /// Hurwitz ζ(3, a) against its defining sum (analytic), and the shaping
+    /// gains at f = 0 (1: the low-frequency level is kept) and at Nyquist
+    /// (FFM: 14ζ(3)/π³, from Σ_k |½ + k|^(−3) = 16·(7/8)ζ(3); FPM: 2/π).
+    #[test]
+    fn shaping_gains() {
+        for a in [0.5, 1.0, 1.25, 2.0] {
+            let direct: f64 = (0..200_000).map(|j| (a + j as f64).powi(-3)).sum::<f64>()
+                + 0.5 / (a + 200_000.0f64).powi(2);
+            assert!((hurwitz_zeta3(a) - direct).abs() < 1e-11 * direct, "a={a}");
+        }
+        let zeta3 = hurwitz_zeta3(1.0);
+        assert_eq!(shape_power_gain(Shape::FlickerFrequency, 0.0), 1.0);
+        assert_eq!(shape_power_gain(Shape::FlickerPhase, 0.0), 1.0);
+        let r = shape_power_gain(Shape::FlickerFrequency, 0.5);
+        assert!((r - 14.0 * zeta3 / PI.powi(3)).abs() < 1e-9);
+        assert!((shape_power_gain(Shape::FlickerPhase, 0.5) - 2.0 / PI).abs() < 1e-15);
     }
 
     #[test]

@@ -3,7 +3,7 @@
 //! noise type) by [`crate::stats`]. Used by the `stability` command and the
 //! report, so both print the same numbers.
 
-use crate::deviation::{compute, Curve, Estimator};
+use crate::deviation::{compute, Curve, Estimator, Point};
 use crate::error::{Error, Result};
 use crate::record::PhaseRecord;
 use crate::stats::{annotate, StatsOptions};
@@ -75,4 +75,223 @@ pub fn analyse(x: &PhaseRecord, req: &Request) -> Result<Vec<Curve>> {
         )));
     }
     Ok(curves)
+}
+
+/// The power-law model of a record, fitted to its OADEV and MDEV curves
+/// together (so that white and flicker PM, which OADEV alone cannot tell
+/// apart, are separated by MDEV's different slope), each point weighted by
+/// its EDF ([`crate::model::fit::fit_variances`]). The cut-off is the
+/// record's Nyquist frequency f_h = 1/(2τ0).
+#[derive(Debug, Clone)]
+pub struct RecordModel {
+    /// The OADEV and MDEV curves the model was fitted to (annotated).
+    pub curves: Vec<Curve>,
+    /// The fit: h_α, dominant ranges, residual per point (dB) in the order
+    /// of the points of `curves`, OADEV first.
+    pub fit: crate::model::fit::ModelFit,
+}
+
+/// Fit the power-law model of `x` over the τ grid `grid` (see [`RecordModel`]).
+/// Points without an EDF (noise not identified) are weighted by their number
+/// of terms over m, a rough count of independent averages.
+pub fn fit_record_model(x: &PhaseRecord, grid: &TauGrid) -> Result<RecordModel> {
+    use crate::model::fit::{fit_variances, FitPoint, VarKind};
+    let req = Request {
+        estimators: vec![Estimator::Oadev, Estimator::Mdev],
+        grid: grid.clone(),
+        confidence: crate::stats::DEFAULT_CONFIDENCE,
+        forced_alpha: None,
+    };
+    let curves = analyse(x, &req)?;
+    let mut points = Vec::new();
+    for (curve, kind) in curves.iter().zip([VarKind::Avar, VarKind::Mvar]) {
+        for p in &curve.points {
+            let e = p.estimate;
+            if !(e.value > 0.0) {
+                continue;
+            }
+            let weight = p.edf.unwrap_or(e.terms as f64 / e.m as f64).max(1.0);
+            points.push(FitPoint {
+                kind,
+                tau: e.tau,
+                tau0: x.tau0,
+                var: e.value * e.value,
+                weight,
+            });
+        }
+    }
+    let fit = fit_variances(&points, 0.5 / x.tau0)?;
+    Ok(RecordModel { curves, fit })
+}
+
+/// One point of the `best` curve: the chosen point and the estimator it
+/// came from.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct BestPoint {
+    /// The chosen point, as its estimator gave it (its own τ, m, EDF and
+    /// interval).
+    pub point: Point,
+    /// The estimator the point came from.
+    pub from: Estimator,
+}
+
+/// Name of the derived curve made by [`best`].
+pub const BEST_CURVE: &str = "best";
+
+/// τ values within this ratio of the first τ of a group are taken as the
+/// same averaging time (a quarter octave): Theo1 and TheoH sit on their own
+/// lattice τ = 0.75·m·τ0, next to, not on, the m·τ0 of the other estimators.
+pub const SAME_TAU_RATIO: f64 = 1.189_207_115_002_721; // 2^(1/4)
+
+/// The best estimate at each τ: among the curves of σ_y estimators (not
+/// the time deviations TDEV, TTOT, MTIE, TIE rms, which measure a different
+/// quantity), group the points by τ (within [`SAME_TAU_RATIO`]) and take,
+/// in each group, the point whose confidence interval is narrowest in
+/// relative terms (smallest hi/lo, i.e. the widest EDF); ties go to the
+/// estimator requested first. Points without an interval are not eligible.
+///
+/// The estimators answer slightly different questions (MDEV and ADEV differ
+/// for phase noise; TheoH is bias-corrected, TOTDEV is not), so the curve
+/// is a reading aid across τ, not a new estimator; each point says where it
+/// came from. An engineering estimate: the governing standard, the
+/// equipment maker's data and local acceptance procedures decide.
+///
+/// Curves whose name is not an estimator (derived curves) are skipped.
+pub fn best(curves: &[Curve]) -> Vec<BestPoint> {
+    let mut cands: Vec<(usize, BestPoint)> = Vec::new();
+    for (order, c) in curves.iter().enumerate() {
+        let Ok(est) = Estimator::from_name(&c.estimator) else {
+            continue;
+        };
+        if est.is_time_deviation() {
+            continue;
+        }
+        for p in &c.points {
+            if let (Some(lo), Some(hi)) = (p.lo, p.hi) {
+                if lo > 0.0 && hi.is_finite() && p.estimate.tau > 0.0 {
+                    cands.push((
+                        order,
+                        BestPoint {
+                            point: *p,
+                            from: est,
+                        },
+                    ));
+                }
+            }
+        }
+    }
+    cands.sort_by(|a, b| {
+        a.1.point
+            .estimate
+            .tau
+            .total_cmp(&b.1.point.estimate.tau)
+            .then(a.0.cmp(&b.0))
+    });
+    let width = |b: &BestPoint| b.point.hi.unwrap_or(f64::INFINITY) / b.point.lo.unwrap_or(0.0);
+    let mut out: Vec<BestPoint> = Vec::new();
+    let mut i = 0;
+    while i < cands.len() {
+        let start = cands[i].1.point.estimate.tau;
+        let mut j = i;
+        while j < cands.len() && cands[j].1.point.estimate.tau <= start * SAME_TAU_RATIO {
+            j += 1;
+        }
+        let chosen = cands[i..j]
+            .iter()
+            .min_by(|a, b| width(&a.1).total_cmp(&width(&b.1)).then(a.0.cmp(&b.0)))
+            .map(|c| c.1);
+        out.extend(chosen);
+        i = j;
+    }
+    out
+}
+
+/// The [`best`] points as a plain curve named [`BEST_CURVE`] (the estimator
+/// of each point is dropped; keep the [`BestPoint`]s to report it).
+pub fn best_curve(points: &[BestPoint]) -> Curve {
+    Curve {
+        estimator: BEST_CURVE.to_string(),
+        points: points.iter().map(|b| b.point).collect(),
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::deviation::Estimate;
+
+    fn pt(tau: f64, value: f64, lo: f64, hi: f64) -> Point {
+        Point {
+            estimate: Estimate {
+                tau,
+                m: tau as usize,
+                value,
+                terms: 10,
+            },
+            edf: Some(5.0),
+            lo: Some(lo),
+            hi: Some(hi),
+            alpha: Some(0),
+        }
+    }
+
+    fn curve(name: &str, pts: Vec<Point>) -> Curve {
+        Curve {
+            estimator: name.into(),
+            points: pts,
+        }
+    }
+
+    #[test]
+    fn best_takes_the_narrowest_relative_interval_per_tau() {
+        let curves = vec![
+            curve(
+                "oadev",
+                vec![pt(1.0, 1.0, 0.9, 1.1), pt(2.0, 1.0, 0.5, 2.0)],
+            ),
+            // Narrower at τ = 2 (ratio 1.5 < 4); wider at τ = 1.
+            curve(
+                "totdev",
+                vec![pt(1.0, 1.0, 0.8, 1.3), pt(2.0, 1.0, 0.8, 1.2)],
+            ),
+            // A time deviation is never chosen, however narrow.
+            curve("tdev", vec![pt(1.0, 1.0, 0.999, 1.001)]),
+            // Theo1's τ = 1.5·2 = 3 vs 4: separate groups; 4.5 joins 4.
+            curve("theo1", vec![pt(4.5, 1.0, 0.95, 1.05)]),
+            curve("mdev", vec![pt(4.0, 1.0, 0.5, 2.0), pt(8.0, 1.0, 0.5, 2.0)]),
+            // No interval: not eligible.
+            curve(
+                "htot",
+                vec![Point::bare(Estimate {
+                    tau: 16.0,
+                    m: 16,
+                    value: 1.0,
+                    terms: 3,
+                })],
+            ),
+        ];
+        let b = best(&curves);
+        let got: Vec<(f64, Estimator)> = b.iter().map(|p| (p.point.estimate.tau, p.from)).collect();
+        assert_eq!(
+            got,
+            vec![
+                (1.0, Estimator::Oadev),
+                (2.0, Estimator::Totdev),
+                (4.5, Estimator::Theo1),
+                (8.0, Estimator::Mdev),
+            ]
+        );
+        assert_eq!(best_curve(&b).estimator, "best");
+        assert_eq!(best_curve(&b).points.len(), 4);
+    }
+
+    #[test]
+    fn best_ties_go_to_the_first_requested() {
+        let curves = vec![
+            curve("mdev", vec![pt(1.0, 2.0, 1.0, 3.0)]),
+            curve("oadev", vec![pt(1.0, 1.0, 0.5, 1.5)]),
+        ];
+        assert_eq!(best(&curves)[0].from, Estimator::Mdev);
+        assert!(best(&[]).is_empty());
+    }
 }

@@ -159,3 +159,88 @@ fn bad_confidence_is_an_error() {
         assert!(String::from_utf8_lossy(&out.stderr).contains("outside (0, 1)"));
     }
 }
+
+/// `--best`: a curve `best` whose every point is the narrowest relative
+/// interval among the requested σ_y curves at its τ (checked against the
+/// other curves of the same output), with `"from"` naming the estimator;
+/// TDEV is never chosen. CSV gets a last column `from`; the table marks
+/// TheoH's bias-corrected values with `*`. (The record is tauwise's own
+/// seeded simulation; the check is the selection rule itself.)
+#[test]
+fn best_curve_picks_the_narrowest_interval() {
+    let dir = tempfile::tempdir().unwrap();
+    let rec = dir.path().join("rec.csv");
+    let sim = tauwise()
+        .args([
+            "simulate",
+            "--model",
+            "h0=1e-22,h-2=1e-30",
+            "--points",
+            "3000",
+            "--seed",
+            "5",
+            "-o",
+        ])
+        .arg(&rec)
+        .output()
+        .unwrap();
+    assert!(
+        sim.status.success(),
+        "{}",
+        String::from_utf8_lossy(&sim.stderr)
+    );
+    let run = |fmt: &str| {
+        let out = tauwise()
+            .arg("stability")
+            .arg(&rec)
+            .args(["--tau0", "1s", "--dev", "oadev,totdev,tdev,theoh", "--best"])
+            .args(["--format", fmt])
+            .output()
+            .unwrap();
+        assert!(
+            out.status.success(),
+            "{}",
+            String::from_utf8_lossy(&out.stderr)
+        );
+        String::from_utf8(out.stdout).unwrap()
+    };
+    let doc: serde_json::Value = serde_json::from_str(&run("json")).unwrap();
+    let curves = doc["curves"].as_array().unwrap();
+    assert_eq!(curves.len(), 5);
+    let best = &curves[4];
+    assert_eq!(best["estimator"], "best");
+    let pts = best["points"].as_array().unwrap();
+    assert!(pts.len() >= 8);
+    let width = |p: &serde_json::Value| p["hi"].as_f64().unwrap() / p["lo"].as_f64().unwrap();
+    for p in pts {
+        let from = p["from"].as_str().unwrap();
+        assert_ne!(from, "tdev");
+        let tau = p["tau"].as_f64().unwrap();
+        // The chosen point is one of `from`'s own points.
+        let src = curves.iter().find(|c| c["estimator"] == from).unwrap();
+        assert!(src["points"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .any(|q| q["tau"] == p["tau"] && q["dev"] == p["dev"]));
+        // No σ_y point at the same τ has a narrower interval.
+        for c in &curves[..4] {
+            if c["estimator"] == "tdev" {
+                continue;
+            }
+            for q in c["points"].as_array().unwrap() {
+                if q["tau"].as_f64().unwrap() == tau && !q["lo"].is_null() {
+                    assert!(width(q) >= width(p), "{from} at τ = {tau}");
+                }
+            }
+        }
+    }
+    let csv = run("csv");
+    assert!(csv.lines().next().unwrap().ends_with(",from"));
+    assert!(csv
+        .lines()
+        .any(|l| l.starts_with("best,") && l.ends_with(",totdev")));
+    let table = run("table");
+    assert!(table.contains("best — "));
+    assert!(table.contains("* bias-corrected"));
+}

@@ -365,3 +365,63 @@ fn fit_sy_recovers_a_spectrum() {
     }
     assert_eq!(fit.dominant.len(), 3);
 }
+
+/// Closure on exact variances (analytic: the points are the model's own
+/// numerically integrated AVAR and HVAR): a WFM + FFM + RWFM model is
+/// returned, and the dominant ranges meet at the AVAR crossovers.
+#[test]
+fn fit_with_hadamard_points() {
+    let truth = PowerLaw::parse("h0=1e-22,h-1=1e-25,h-2=1e-30", 0.5).unwrap();
+    let mut pts = Vec::new();
+    for k in 0..16 {
+        let tau = 2f64.powi(k);
+        for kind in [VarKind::Avar, VarKind::Hvar] {
+            pts.push(FitPoint {
+                kind,
+                tau,
+                tau0: 1.0,
+                var: truth.variance_numeric(kind, tau, 1.0),
+                weight: 1.0 + 1e4 / tau,
+            });
+        }
+    }
+    let fit = fit_variances(&pts, 0.5).unwrap();
+    for a in [0, -1, -2] {
+        assert!(rel(fit.model.get(a), truth.get(a)) < 5e-3, "h{a}");
+    }
+    let seen: Vec<i32> = fit.dominant.iter().map(|d| d.alpha).collect();
+    assert_eq!(seen, vec![0, -1, -2]);
+    // WFM/FFM crossover: h0/(2τ) = 2 ln2 h−1 → τ = h0/(4 ln2 h−1) (IEEE 1139 table).
+    let cross = 1e-22 / (4.0 * LN_2 * 1e-25);
+    assert!(rel(fit.dominant[0].tau_to, cross) < 0.01);
+    assert_eq!(fit.dominant[0].tau_to, fit.dominant[1].tau_from);
+}
+
+/// NNLS with a repeated column (a singular passive set): it terminates and
+/// reaches the brute-force optimum value.
+#[test]
+fn nnls_with_repeated_columns() {
+    let mut rng = ChaCha8Rng::seed_from_u64(77);
+    for _ in 0..50 {
+        let mut a = Array2::from_shape_fn((7, 3), |_| rng.gen_range(-1.0..1.0));
+        let c0 = a.column(0).to_owned();
+        a.column_mut(2).assign(&c0);
+        let b = Array1::from_shape_fn(7, |_| rng.gen_range(-1.0..1.0));
+        let x = nnls(&a, &b);
+        assert!(x.iter().all(|&v| v >= 0.0));
+        let obj = |x: &Array1<f64>| (&b - &a.dot(x)).mapv(|v| v * v).sum();
+        let mut best = b.mapv(|v| v * v).sum();
+        for cols in [vec![0], vec![1], vec![0, 1]] {
+            if let Some(s) = normal_lstsq(&a, &cols, &b) {
+                if s.iter().all(|&v| v >= 0.0) {
+                    let mut full = Array1::<f64>::zeros(3);
+                    for (i, &j) in cols.iter().enumerate() {
+                        full[j] = s[i];
+                    }
+                    best = best.min(obj(&full));
+                }
+            }
+        }
+        assert!((obj(&x) - best).abs() <= 1e-10 * (1.0 + best));
+    }
+}

@@ -192,7 +192,24 @@ fn decade_errors(alpha: i32, h: f64, seed: u64, segment: usize) -> Vec<(i32, f64
         let disc: f64 = pts
             .iter()
             .map(|(f, v)| {
-                let k = (PI * f * tau0 / (PI * f * tau0).sin()).powf(2.0 - alpha as f64);
+                let plain = (PI * f * tau0 / (PI * f * tau0).sin()).powf(2.0 - alpha as f64);
+                // The simulator shapes FFM and RWFM at high frequency so that
+                // they follow τ0-averaged continuous noise (src/simulate.rs):
+                // FFM by its published power gain, RWFM by the MA(1) input
+                // a²(1 + θ² + 2θ cos 2πfτ0), θ = 2 − √3, a² = (2/3)/(1 + θ²).
+                let shape = match alpha {
+                    -1 => tauwise::simulate::shape_power_gain(
+                        tauwise::simulate::Shape::FlickerFrequency,
+                        f * tau0,
+                    ),
+                    -2 => {
+                        let theta = 2.0 - 3f64.sqrt();
+                        let a2 = 2.0 / 3.0 / (1.0 + theta * theta);
+                        a2 * (1.0 + theta * theta + 2.0 * theta * (2.0 * PI * f * tau0).cos())
+                    }
+                    _ => 1.0,
+                };
+                let k = plain * shape;
                 10.0 * (v / (m.sx(*f) * k)).log10()
             })
             .sum::<f64>()

@@ -8,7 +8,9 @@ pub mod convert;
 pub mod holdover;
 pub mod inspect;
 pub mod jitter;
+pub mod noise;
 pub mod prepare;
+pub mod report;
 pub mod simulate;
 pub mod spectrum;
 pub mod stability;
@@ -31,6 +33,10 @@ pub enum Command {
     Prepare(prepare::Args),
     /// Synthetic power-law noise records (seeded).
     Simulate(simulate::SimulateArgs),
+    /// Noise type per τ and the fitted power-law model.
+    Noise(noise::Args),
+    /// One self-contained HTML report for a device under test.
+    Report(report::Args),
     /// σ(τ) curves with confidence intervals and noise type.
     Stability(stability::Args),
     /// PSD of a time record as L(f), S_φ, S_y, S_x (Welch's method).
@@ -67,7 +73,9 @@ pub fn main() -> i32 {
         Command::Inspect(a) => inspect::run(a),
         Command::Prepare(a) => prepare::run(a),
         Command::Simulate(a) => simulate::run(a),
+        Command::Report(a) => report::run(a),
         Command::Stability(a) => stability::run(a),
+        Command::Noise(a) => noise::run(a),
         Command::Spectrum(a) => spectrum::run(a),
         Command::Convert(a) => convert::run(a),
         Command::Jitter(a) => jitter::run(a),

@@ -24,6 +24,27 @@ pub enum DriftArg {
     Quadratic,
 }
 
+impl From<DriftArg> for DriftModel {
+    fn from(d: DriftArg) -> Self {
+        match d {
+            DriftArg::Linear => DriftModel::Linear,
+            DriftArg::Quadratic => DriftModel::Quadratic,
+        }
+    }
+}
+
+/// The record with the drift of `model` removed (when asked for), for the
+/// analysis commands' `--remove-drift`.
+pub fn without_drift(record: Record, model: Option<DriftArg>) -> Result<Record> {
+    match model {
+        None => Ok(record),
+        Some(m) => {
+            let fit = prepare::fit_drift(&record, m.into())?;
+            Ok(prepare::remove_drift(&record, &fit))
+        }
+    }
+}
+
 /// Write a cleaned copy of a phase or frequency record.
 #[derive(Debug, ClapArgs)]
 pub struct Args {
@@ -95,10 +116,7 @@ pub fn run(args: Args) -> Result<Outcome> {
     }
 
     if let Some(model) = args.remove_drift {
-        let model = match model {
-            DriftArg::Linear => DriftModel::Linear,
-            DriftArg::Quadratic => DriftModel::Quadratic,
-        };
+        let model = DriftModel::from(model);
         let fit = prepare::fit_drift(&record, model)?;
         let mut n = format!(
             "drift removed: {} fit to frequency, {} per day at the centre (t = {} s from the first sample)",

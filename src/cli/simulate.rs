@@ -130,7 +130,7 @@ fn parse_points(text: &str) -> Result<usize, Error> {
 /// A value with all the digits needed to read it back exactly.
 fn push_value(out: &mut Vec<u8>, v: f64) {
     let a = v.abs();
-    if a == 0.0 || (1e-3..1e7).contains(&a) {
+    if a == 0.0 || (1e-3..1e15).contains(&a) {
         let _ = writeln!(out, "{v}");
     } else {
         let _ = writeln!(out, "{v:e}");

@@ -7,9 +7,10 @@ use clap::Args as ClapArgs;
 use std::fmt::Write as _;
 use std::path::PathBuf;
 use tauwise::deviation::{Curve, Estimator};
-use tauwise::stability::{analyse, Request};
+use tauwise::stability::{analyse, best, BestPoint, Request, BEST_CURVE};
 use tauwise::tau::TauGrid;
 use tauwise::units::{format_si, format_sig};
+use tauwise::PhaseRecord;
 use tauwise::Result;
 
 /// σ(τ) curves with confidence intervals and noise type.
@@ -21,7 +22,7 @@ pub struct Args {
     #[command(flatten)]
     pub input: InputArgs,
     /// Estimators, comma-separated (adev, oadev, mdev, tdev, hdev, ohdev,
-    /// totdev, mtie, tierms).
+    /// totdev, mtot, ttot, htot, theo1, theoh, mtie, tierms).
     #[arg(long = "dev", value_name = "LIST", default_value = "oadev")]
     pub dev: String,
     /// τ grid: octave, decade, all, log:N (N per decade) or a list of
@@ -40,6 +41,15 @@ pub struct Args {
     /// instead of identifying it per τ.
     #[arg(long = "noise-type", value_name = "TYPE", allow_hyphen_values = true)]
     pub noise_type: Option<String>,
+    /// Remove a least-squares frequency drift before the analysis (aging
+    /// would otherwise read as random-walk FM at long τ).
+    #[arg(long, value_enum, value_name = "MODEL")]
+    pub remove_drift: Option<super::prepare::DriftArg>,
+    /// Add a curve `best`: at each τ the point with the narrowest
+    /// confidence interval among the requested σ_y estimators, with the
+    /// estimator it came from.
+    #[arg(long)]
+    pub best: bool,
     #[command(flatten)]
     pub output: OutputArgs,
 }
@@ -52,7 +62,8 @@ pub fn run(args: Args) -> Result<Outcome> {
         Some(t) => Some(tauwise::model::parse_noise(t)?),
         None => None,
     };
-    let series = args.input.load(&args.file)?;
+    let mut series = args.input.load(&args.file)?;
+    series.record = super::prepare::without_drift(series.record, args.remove_drift)?;
     let request = Request {
         estimators,
         grid,
@@ -61,18 +72,136 @@ pub fn run(args: Args) -> Result<Outcome> {
     };
     let phase = series.record.to_phase();
     let curves = analyse(&phase, &request)?;
+    let best_points = args.best.then(|| best(&curves));
     let text = match args.output.format {
         Format::Json => {
             let mut m = header_json(&series);
             m.insert("confidence".into(), num(request.confidence));
-            m.insert("curves".into(), curves_json(&curves));
+            let mut list = curves_json(&curves);
+            if let (Some(b), serde_json::Value::Array(a)) = (&best_points, &mut list) {
+                a.push(best_json(b));
+            }
+            m.insert("curves".into(), list);
             json_text(&serde_json::Value::Object(m))
         }
-        Format::Csv => curves_csv(&curves),
-        Format::Table => curves_table(&series.info.path, &curves, request.confidence),
+        Format::Csv => {
+            let t = curves_csv(&curves);
+            match &best_points {
+                // With --best every row gets a last column `from` (empty
+                // for the ordinary curves).
+                Some(b) => {
+                    let mut out = String::new();
+                    for (i, line) in t.lines().enumerate() {
+                        let _ = writeln!(out, "{line},{}", if i == 0 { "from" } else { "" });
+                    }
+                    out.push_str(&best_csv(b));
+                    out
+                }
+                None => t,
+            }
+        }
+        Format::Table => {
+            let mut t = curves_table(&series.info.path, &curves, request.confidence, &phase);
+            if let Some(b) = &best_points {
+                t.push_str(&best_table(b, &phase));
+            }
+            t
+        }
     };
     emit(&args.output, &text)?;
     Ok(Outcome::Done)
+}
+
+/// True when the point of `est` is a bias-corrected value
+/// ([`Estimator::bias_corrected_from`]).
+fn corrected(est: Estimator, p: &tauwise::deviation::Point, x: &PhaseRecord) -> bool {
+    est.bias_corrected_from(x.len(), x.tau0)
+        .is_some_and(|from| p.estimate.tau >= from)
+}
+
+/// The footnote under a table with bias-corrected values.
+const CORRECTED_NOTE: &str =
+    "* bias-corrected value (TheoH beyond 10 % of the record: Theo1 scaled by the ThêoBR ratio)";
+
+/// The `best` curve as a JSON curve whose points carry `"from"`.
+fn best_json(b: &[BestPoint]) -> serde_json::Value {
+    let curve = tauwise::stability::best_curve(b);
+    let mut v = curves_json(std::slice::from_ref(&curve));
+    if let Some(pts) = v
+        .get_mut(0)
+        .and_then(|c| c.get_mut("points"))
+        .and_then(|p| p.as_array_mut())
+    {
+        for (p, bp) in pts.iter_mut().zip(b) {
+            if let Some(o) = p.as_object_mut() {
+                o.insert("from".into(), bp.from.name().into());
+            }
+        }
+    }
+    v.as_array_mut()
+        .and_then(|a| a.pop())
+        .unwrap_or(serde_json::Value::Null)
+}
+
+/// CSV rows of the `best` curve (no header; the same columns as
+/// [`curves_csv`] plus a last column `from`).
+fn best_csv(b: &[BestPoint]) -> String {
+    let curve = tauwise::stability::best_curve(b);
+    let body = curves_csv(std::slice::from_ref(&curve));
+    let mut out = String::new();
+    for (line, bp) in body.lines().skip(1).zip(b) {
+        let _ = writeln!(out, "{line},{}", bp.from.name());
+    }
+    out
+}
+
+/// The `best` block of the table, with the estimator of each point.
+fn best_table(b: &[BestPoint], x: &PhaseRecord) -> String {
+    let mut s = String::new();
+    let _ = writeln!(s);
+    let _ = writeln!(
+        s,
+        "{BEST_CURVE} — narrowest confidence interval at each τ among the σ_y estimators"
+    );
+    let _ = writeln!(
+        s,
+        "{:>10} {:>11} {:>25} {:>9} {:>5} {:>7}",
+        "tau", "dev", "interval", "edf", "noise", "from"
+    );
+    let mut any = false;
+    for bp in b {
+        let p = &bp.point;
+        let mark = if corrected(bp.from, p, x) {
+            any = true;
+            "*"
+        } else {
+            " "
+        };
+        let interval = match (p.lo, p.hi) {
+            (Some(lo), Some(hi)) => format!("[{} … {}]", format_sig(lo, 4), format_sig(hi, 4)),
+            _ => "—".to_string(),
+        };
+        let _ = writeln!(
+            s,
+            "{:>10} {:>10}{mark} {:>25} {:>9} {:>5} {:>7}",
+            format_si(p.estimate.tau, "s", 4),
+            format_sig(p.estimate.value, 4),
+            interval,
+            p.edf
+                .map(|e| format_sig(e, 4))
+                .unwrap_or_else(|| "—".into()),
+            p.noise().unwrap_or("—"),
+            bp.from.name()
+        );
+    }
+    if any {
+        let _ = writeln!(s, "{CORRECTED_NOTE}");
+    }
+    let _ = writeln!(
+        s,
+        "An engineering estimate: the governing standard, the equipment maker's data and local acceptance procedures decide."
+    );
+    s
 }
 
 fn opt(v: Option<f64>) -> serde_json::Value {
@@ -144,7 +273,13 @@ pub fn curves_csv(curves: &[Curve]) -> String {
 
 /// A readable table: one block per estimator, τ with SI prefix, the value
 /// to 4 significant digits and its interval.
-pub fn curves_table(path: &std::path::Path, curves: &[Curve], confidence: f64) -> String {
+/// Bias-corrected values are marked `*` with a footnote.
+pub fn curves_table(
+    path: &std::path::Path,
+    curves: &[Curve],
+    confidence: f64,
+    x: &PhaseRecord,
+) -> String {
     let mut s = String::new();
     let _ = writeln!(s, "# {}", path.display());
     for c in curves {
@@ -171,14 +306,21 @@ pub fn curves_table(path: &std::path::Path, curves: &[Curve], confidence: f64) -
                 format_sig(v, 4)
             }
         };
+        let mut any = false;
         for p in &c.points {
             let interval = match (p.lo, p.hi) {
                 (Some(lo), Some(hi)) => format!("[{} … {}]", fmt(lo), fmt(hi)),
                 _ => "—".to_string(),
             };
+            let mark = if est.is_some_and(|e| corrected(e, p, x)) {
+                any = true;
+                "*"
+            } else {
+                " "
+            };
             let _ = writeln!(
                 s,
-                "{:>10} {:>9} {:>11} {:>25} {:>9} {:>9} {:>5}",
+                "{:>10} {:>9} {:>10}{mark} {:>25} {:>9} {:>9} {:>5}",
                 format_si(p.estimate.tau, "s", 4),
                 p.estimate.m,
                 fmt(p.estimate.value),
@@ -189,6 +331,9 @@ pub fn curves_table(path: &std::path::Path, curves: &[Curve], confidence: f64) -
                 p.estimate.terms,
                 p.noise().unwrap_or("—"),
             );
+        }
+        if any {
+            let _ = writeln!(s, "{CORRECTED_NOTE}");
         }
     }
     s

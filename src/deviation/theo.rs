@@ -171,10 +171,11 @@ pub(crate) fn theoh(p: &Prepared, m: usize, ratio: Option<f64>) -> Option<Estima
 /// - RWFM (α = −2): [(4.4N − 2)/(2.9r)] · [((4.4N − 1)² − 8.6r(4.4N − 1) + 11.4r²) / (4.4N − 3)²]
 ///
 /// Monte Carlo here (tests/long_tau.rs, N = 1001) confirms WFM and WPM
-/// within 20 % up to τ = 0.3·T, and RWFM within 2 % up to τ ≈ T/7; at
+/// within 20 % up to τ = 0.3·T, and RWFM within 2 % up to τ ≈ T/7 (FFM,
+/// from the power-law simulator: within 10 % at τ = 48 and 0.3·T); at
 /// τ = 0.3·T the RWFM form is about 22 % below the Monte Carlo EDF, which
-/// makes the interval wider than it need be (conservative). FPM and FFM
-/// wait for the power-law simulator to be checked.
+/// makes the interval wider than it need be (conservative). FPM is not
+/// checked by Monte Carlo here.
 /// None for other α or when m is not a valid Theo1 factor.
 pub fn theo1_edf(alpha: i32, n_phase: usize, m: usize) -> Option<f64> {
     if m < 2 || m % 2 == 1 || n_phase < m + 1 {

@@ -4,6 +4,7 @@
 use std::path::PathBuf;
 use thiserror::Error;
 
+pub mod dut;
 pub mod lf_table;
 pub mod series;
 pub mod text;

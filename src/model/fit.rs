@@ -61,7 +61,7 @@ pub struct FitPoint {
 }
 
 /// The τ range over which one term gives the largest share of the model's
-/// Allan variance.
+/// Allan variance (closed forms of [`PowerLaw::avar`]).
 #[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
 pub struct Dominant {
     /// α of the term.
@@ -153,10 +153,9 @@ pub fn fit_variances_terms(points: &[FitPoint], f_h: f64, allowed: [bool; 5]) ->
     let w: Vec<f64> = points.iter().map(|p| p.weight).collect();
     let h = log_fit(&rows, &v, &w)?;
     let model = PowerLaw { h, f_h };
-    let tau0 = points.iter().map(|p| p.tau0).fold(f64::INFINITY, f64::min);
     let lo = points.iter().map(|p| p.tau).fold(f64::INFINITY, f64::min);
     let hi = points.iter().map(|p| p.tau).fold(0.0, f64::max);
-    let dominant = dominant_ranges(&h, lo, hi, |a, t| basis(VarKind::Avar, a, t, tau0, f_h));
+    let dominant = dominant_ranges(&h, lo, hi, |a, t| unit_avar(a, t, f_h));
     Ok(finish(model, &rows, &v, dominant))
 }
 
@@ -203,11 +202,18 @@ pub fn fit_sy(f: &[f64], sy: &[f64], weights: Option<&[f64]>, f_h: f64) -> Resul
     let fmax = f.iter().copied().fold(0.0, f64::max);
     let two_pi = 2.0 * std::f64::consts::PI;
     let dominant = dominant_ranges(&h, 1.0 / (two_pi * fmax), 1.0 / (two_pi * fmin), |a, t| {
-        let mut m = PowerLaw::zero(f_h);
-        m.set(a, 1.0);
-        m.avar(t)
+        unit_avar(a, t, f_h)
     });
     Ok(finish(model, &rows, sy, dominant))
+}
+
+/// AVAR of the unit power law from the closed form (used to judge which
+/// term dominates; the short-τ refinements of [`basis`] do not move the
+/// crossovers noticeably).
+fn unit_avar(alpha: i32, tau: f64, f_h: f64) -> f64 {
+    let mut m = PowerLaw::zero(f_h);
+    m.set(alpha, 1.0);
+    m.avar(tau)
 }
 
 fn check_fh(f_h: f64) -> Result<()> {

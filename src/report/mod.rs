@@ -1,1 +1,471 @@
-//! (being built)
+//! The self-contained HTML report for one device under test.
+//!
+//! A [`Report`] is plain data: each section is a struct of results that the
+//! analysis layers fill in (see [`build`] for the assembly from a DUT file).
+//! [`render_html`] turns it into one HTML document with inline CSS and inline
+//! SVG charts — no script, no font, no image and no style sheet is fetched
+//! from anywhere — and every text that came from an input is escaped.
+//!
+//! Sections (our own names, always present so that a reader sees what was
+//! not part of the DUT file as well as what was): verdicts at a glance;
+//! frequency stability; noise model; phase noise and jitter; short and long
+//! τ together; wander against masks; holdover; inputs; methods and sources;
+//! cautions.
+
+use crate::error::Result;
+use crate::plot::holdover::HoldoverPlot;
+use crate::plot::phase_noise::PhaseNoisePlot;
+use crate::plot::stability::StabilityPlot;
+use crate::plot::wander::WanderPlot;
+use std::path::Path;
+
+pub mod build;
+pub mod html;
+pub mod provenance;
+mod sections;
+
+pub use provenance::Provenance;
+
+/// What a verdict is about.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum VerdictKind {
+    /// A wander mask (MTIE or TDEV).
+    Mask,
+    /// An integrated-jitter limit.
+    Jitter,
+    /// A holdover span against the budget.
+    Holdover,
+}
+
+impl VerdictKind {
+    /// Word for the summary table.
+    pub fn word(self) -> &'static str {
+        match self {
+            VerdictKind::Mask => "wander mask",
+            VerdictKind::Jitter => "jitter limit",
+            VerdictKind::Holdover => "holdover",
+        }
+    }
+}
+
+/// One line of the verdict summary.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Verdict {
+    /// Mask, jitter or holdover.
+    pub kind: VerdictKind,
+    /// What was judged (mask name, band, span).
+    pub item: String,
+    /// The criterion (limit, budget).
+    pub criterion: String,
+    /// The result in words (worst margin, rms jitter, p95 TE).
+    pub result: String,
+    /// Meets (true), exceeds (false) or not judged (None).
+    pub pass: Option<bool>,
+}
+
+/// One row of the stability table.
+#[derive(Debug, Clone, PartialEq)]
+pub struct StabilityRow {
+    /// Estimator name.
+    pub estimator: String,
+    /// τ (s).
+    pub tau: f64,
+    /// Averaging factor.
+    pub m: usize,
+    /// Deviation (σ_y, or s for time deviations).
+    pub dev: f64,
+    /// Lower bound of the interval.
+    pub lo: Option<f64>,
+    /// Upper bound of the interval.
+    pub hi: Option<f64>,
+    /// Equivalent degrees of freedom.
+    pub edf: Option<f64>,
+    /// Noise label at this τ.
+    pub noise: Option<String>,
+    /// Terms used.
+    pub terms: usize,
+}
+
+/// Frequency stability: the σ–τ chart and its table.
+#[derive(Debug, Clone, PartialEq)]
+pub struct StabilitySection {
+    /// Which record.
+    pub source: String,
+    /// The chart.
+    pub plot: StabilityPlot,
+    /// The table (one row per estimator and τ).
+    pub rows: Vec<StabilityRow>,
+    /// Confidence level of the intervals.
+    pub confidence: f64,
+    /// Notes (what is not yet computed, forced noise type, …).
+    pub notes: Vec<String>,
+}
+
+/// One term of the fitted power-law model.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ModelTerm {
+    /// α of S_y(f) ∝ f^α.
+    pub alpha: i32,
+    /// Noise label.
+    pub label: String,
+    /// h_α.
+    pub h: f64,
+    /// τ range where this term dominates (s), when known.
+    pub dominant: Option<(f64, f64)>,
+}
+
+/// One noise-identification row.
+#[derive(Debug, Clone, PartialEq)]
+pub struct NoiseIdRow {
+    /// τ (s).
+    pub tau: f64,
+    /// α.
+    pub alpha: i32,
+    /// Label.
+    pub label: String,
+    /// Method (`lag1`, `b1`).
+    pub method: String,
+}
+
+/// The noise model.
+#[derive(Debug, Clone, PartialEq)]
+pub struct NoiseModelSection {
+    /// The model string accepted by `--model`.
+    pub model_string: String,
+    /// The terms.
+    pub terms: Vec<ModelTerm>,
+    /// Noise type per τ.
+    pub identified: Vec<NoiseIdRow>,
+    /// Notes.
+    pub notes: Vec<String>,
+}
+
+/// One integrated-jitter band.
+#[derive(Debug, Clone, PartialEq)]
+pub struct JitterRow {
+    /// Band name.
+    pub name: String,
+    /// Lower offset (Hz).
+    pub from: f64,
+    /// Upper offset (Hz).
+    pub to: f64,
+    /// Filters in words.
+    pub filters: String,
+    /// rms phase (rad).
+    pub rms_rad: f64,
+    /// rms time jitter (s).
+    pub rms_s: f64,
+    /// rms in unit intervals, when a rate is given.
+    pub rms_ui: Option<f64>,
+    /// Limit (s).
+    pub limit: Option<f64>,
+}
+
+impl JitterRow {
+    /// rms phase in degrees.
+    pub fn rms_deg(&self) -> f64 {
+        self.rms_rad.to_degrees()
+    }
+    /// Meets the limit (None without a limit).
+    pub fn pass(&self) -> Option<bool> {
+        self.limit.map(|l| self.rms_s <= l)
+    }
+}
+
+/// Phase noise and jitter.
+#[derive(Debug, Clone, PartialEq)]
+pub struct PhaseNoiseSection {
+    /// Which table.
+    pub source: String,
+    /// Carrier ν0 (Hz).
+    pub carrier: f64,
+    /// The L(f) chart.
+    pub plot: PhaseNoisePlot,
+    /// Jitter per band.
+    pub bands: Vec<JitterRow>,
+    /// Notes.
+    pub notes: Vec<String>,
+}
+
+/// One row of the short/long-τ consistency check.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ConsistencyRow {
+    /// τ (s).
+    pub tau: f64,
+    /// Measured deviation.
+    pub measured: f64,
+    /// Its interval.
+    pub lo: Option<f64>,
+    /// Its interval.
+    pub hi: Option<f64>,
+    /// Deviation converted from phase noise.
+    pub converted: f64,
+}
+
+impl ConsistencyRow {
+    /// measured / converted.
+    pub fn ratio(&self) -> f64 {
+        self.measured / self.converted
+    }
+    /// Whether the converted value lies in the measured interval (None
+    /// without an interval).
+    pub fn inside(&self) -> Option<bool> {
+        match (self.lo, self.hi) {
+            (Some(lo), Some(hi)) => Some(self.converted >= lo && self.converted <= hi),
+            _ => None,
+        }
+    }
+}
+
+/// Short and long τ together.
+#[derive(Debug, Clone, PartialEq)]
+pub struct CombinedSection {
+    /// The σ–τ chart with the measured and converted curves.
+    pub plot: StabilityPlot,
+    /// Estimator compared.
+    pub estimator: String,
+    /// Rows where both exist.
+    pub rows: Vec<ConsistencyRow>,
+    /// Notes.
+    pub notes: Vec<String>,
+}
+
+/// One mask result.
+#[derive(Debug, Clone, PartialEq)]
+pub struct MaskRow {
+    /// Mask name.
+    pub name: String,
+    /// MTIE or TDEV.
+    pub metric: String,
+    /// Meets the mask.
+    pub pass: bool,
+    /// Worst measured/limit ratio.
+    pub worst_ratio: f64,
+    /// τ of the worst ratio (s).
+    pub worst_tau: f64,
+    /// Number of violating τ.
+    pub violations: usize,
+    /// Where the mask values come from.
+    pub source_note: String,
+}
+
+/// TIE statistics (s).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct TieStats {
+    /// max |TIE|.
+    pub max_abs: f64,
+    /// Peak to peak.
+    pub pk_pk: f64,
+    /// rms.
+    pub rms: f64,
+}
+
+/// Wander against masks.
+#[derive(Debug, Clone, PartialEq)]
+pub struct WanderSection {
+    /// Which capture.
+    pub source: String,
+    /// TIE statistics.
+    pub tie: Option<TieStats>,
+    /// Charts (MTIE, TDEV).
+    pub plots: Vec<WanderPlot>,
+    /// Mask results.
+    pub masks: Vec<MaskRow>,
+    /// Notes.
+    pub notes: Vec<String>,
+}
+
+/// One holdover span.
+#[derive(Debug, Clone, PartialEq)]
+pub struct SpanRow {
+    /// Span (s).
+    pub span: f64,
+    /// Deterministic TE at the span end (s).
+    pub deterministic: f64,
+    /// p95 of |TE| at the span end (s).
+    pub p95: f64,
+    /// p99 of |TE| at the span end (s).
+    pub p99: f64,
+    /// p95 within the budget.
+    pub pass: bool,
+}
+
+/// Holdover.
+#[derive(Debug, Clone, PartialEq)]
+pub struct HoldoverSection {
+    /// Which record.
+    pub source: String,
+    /// Budget (s).
+    pub budget: f64,
+    /// The chart (longest span).
+    pub plot: HoldoverPlot,
+    /// One row per span.
+    pub spans: Vec<SpanRow>,
+    /// When p95 first exceeds the budget (s).
+    pub holds_for: Option<f64>,
+    /// Model and parameters used, in words.
+    pub parameters: Vec<(String, String)>,
+    /// Notes and the holdover caution.
+    pub notes: Vec<String>,
+}
+
+/// A method and its published source.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Method {
+    /// What was computed.
+    pub name: String,
+    /// Where the method is published.
+    pub source: String,
+}
+
+/// Why a section is empty.
+#[derive(Debug, Clone, PartialEq)]
+pub enum Absent {
+    /// The DUT file does not ask for it.
+    NotRequested(String),
+    /// It was asked for but could not be computed (the reason).
+    NotComputed(String),
+}
+
+/// A section that may be absent.
+#[derive(Debug, Clone, PartialEq)]
+pub enum Part<T> {
+    /// The results.
+    Done(T),
+    /// Why there are none.
+    Absent(Absent),
+}
+
+impl<T> Part<T> {
+    /// Not part of the DUT file.
+    pub fn not_requested(why: impl Into<String>) -> Self {
+        Part::Absent(Absent::NotRequested(why.into()))
+    }
+    /// Asked for, not computed.
+    pub fn not_computed(why: impl Into<String>) -> Self {
+        Part::Absent(Absent::NotComputed(why.into()))
+    }
+}
+
+/// The whole report.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Report {
+    /// Device name.
+    pub device: String,
+    /// Device description.
+    pub description: Option<String>,
+    /// The DUT file (or the quick-form input).
+    pub dut_file: Option<String>,
+    /// When it was made (UTC, text).
+    pub generated: String,
+    /// Verdict summary.
+    pub verdicts: Vec<Verdict>,
+    /// Frequency stability.
+    pub stability: Part<StabilitySection>,
+    /// Noise model.
+    pub noise_model: Part<NoiseModelSection>,
+    /// Phase noise and jitter.
+    pub phase_noise: Part<PhaseNoiseSection>,
+    /// Short and long τ together.
+    pub combined: Part<CombinedSection>,
+    /// Wander.
+    pub wander: Part<WanderSection>,
+    /// Holdover.
+    pub holdover: Part<HoldoverSection>,
+    /// Inputs.
+    pub inputs: Vec<Provenance>,
+    /// Methods.
+    pub methods: Vec<Method>,
+    /// Cautions (the decision caution first).
+    pub cautions: Vec<String>,
+}
+
+impl Report {
+    /// An empty report for a device: every section absent with `why`.
+    pub fn empty(device: &str, why: &str) -> Self {
+        Self {
+            device: device.into(),
+            description: None,
+            dut_file: None,
+            generated: now_utc(),
+            verdicts: Vec::new(),
+            stability: Part::not_requested(why),
+            noise_model: Part::not_requested(why),
+            phase_noise: Part::not_requested(why),
+            combined: Part::not_requested(why),
+            wander: Part::not_requested(why),
+            holdover: Part::not_requested(why),
+            inputs: Vec::new(),
+            methods: Vec::new(),
+            cautions: vec![crate::DECISION_CAUTION.to_string()],
+        }
+    }
+}
+
+/// The current time in UTC as `YYYY-MM-DD HH:MM UTC`.
+pub fn now_utc() -> String {
+    let secs = std::time::SystemTime::now()
+        .duration_since(std::time::UNIX_EPOCH)
+        .map(|d| d.as_secs() as i64)
+        .unwrap_or(0);
+    chrono::DateTime::from_timestamp(secs, 0)
+        .map(|d| d.format("%Y-%m-%d %H:%M UTC").to_string())
+        .unwrap_or_default()
+}
+
+/// The section ids, in document order (for tests and the table of contents).
+pub const SECTION_IDS: [(&str, &str); 10] = [
+    ("verdicts", "Verdicts at a glance"),
+    ("stability", "Frequency stability"),
+    ("noise-model", "Noise model"),
+    ("phase-noise", "Phase noise and jitter"),
+    ("combined", "Short and long τ together"),
+    ("wander", "Wander against masks"),
+    ("holdover", "Holdover"),
+    ("inputs", "Inputs"),
+    ("methods", "Methods and sources"),
+    ("cautions", "Cautions"),
+];
+
+/// Every chart of the report with a file-name stem (`stability`,
+/// `stability-time`, `phase-noise`, `combined`, `wander-mtie`,
+/// `wander-tdev`, `holdover`), for writing them as separate files.
+pub fn charts(report: &Report) -> Vec<(String, crate::plot::Chart)> {
+    let mut out = Vec::new();
+    if let Part::Done(s) = &report.stability {
+        out.push(("stability".to_string(), s.plot.chart()));
+        if let Some(t) = s.plot.time_chart() {
+            out.push(("stability-time".to_string(), t));
+        }
+    }
+    if let Part::Done(s) = &report.phase_noise {
+        out.push(("phase-noise".to_string(), s.plot.chart()));
+    }
+    if let Part::Done(s) = &report.combined {
+        out.push(("combined".to_string(), s.plot.chart()));
+    }
+    if let Part::Done(s) = &report.wander {
+        for p in &s.plots {
+            out.push((
+                format!("wander-{}", p.metric.name().to_ascii_lowercase()),
+                p.chart(),
+            ));
+        }
+    }
+    if let Part::Done(s) = &report.holdover {
+        out.push(("holdover".to_string(), s.plot.chart()));
+    }
+    out
+}
+
+/// Render the report as one self-contained HTML document.
+pub fn render_html(report: &Report) -> Result<String> {
+    sections::document(report)
+}
+
+/// Render and write the report atomically.
+pub fn write(report: &Report, path: &Path) -> Result<()> {
+    let html = render_html(report)?;
+    crate::io::write_atomic(path, html.as_bytes())?;
+    Ok(())
+}

@@ -78,13 +78,23 @@
 //!
 //! # Total variance
 //!
-//! NIST SP 1065 (Riley 2008, §5.2.11 and its EDF table): EDF = b·(T/τ) − c
-//! with T = (N − 1)τ0 the record length: WFM b = 1.50, c = 0; FFM b = 1.17,
-//! c = 0.22; RWFM b = 0.93, c = 0.36. SP 1065 gives no TOTVAR rule for WPM
-//! and FPM; for those we use the overlapping Allan EDF, since at those noises
-//! TOTVAR and the overlapping AVAR nearly coincide (SP 1065 recommends TOTDEV
-//! for its long-τ behaviour, where FM noise dominates) — our choice, stated
-//! here and in the issue note.
+//! NIST SP 1065 (Riley 2008, §5.2.11 and its EDF table; CHECKS.md D, from
+//! memory): EDF = b·(T/τ) − c with T = (N − 1)τ0 the record length: WFM
+//! b = 1.50, c = 0; FFM b = 1.17, c = 0.22; RWFM b = 0.93, c = 0.36. These
+//! describe the continuous-time, large-m behaviour: at m = 1, where TOTVAR
+//! and the overlapping AVAR are the same sum, the rule gives 1500 for white
+//! FM at N = 1001 against the true 666. We therefore multiply the rule by
+//! the overlapping Allan EDF's own small-m factor, EDF_OADEV(m)/EDF_OADEV,∞(m)
+//! (our discrete-model EDF over its large-r limit (a0 − a1/r)/r, taken as 1
+//! where m(d + 1) > Jmax or r ≤ 3, where the two agree), which makes m = 1
+//! exact and leaves larger m as printed (our choice, checked by the Monte
+//! Carlo in `tests/edf.rs`).
+//!
+//! SP 1065 gives no TOTVAR EDF for WPM and FPM, and none is given here
+//! (`None`): the reflected ends tie many terms to the two end samples, and a
+//! Monte Carlo (N = 1001, white PM) gives a TOTDEV EDF of 265 at m = 50 and
+//! 43 at m = 200 where the overlapping ADEV has 477 and 373 — borrowing the
+//! OADEV rule would overstate the confidence several-fold.
 
 use crate::stats::{gacv, VarianceKind};
 
@@ -122,8 +132,9 @@ pub fn edf(kind: VarianceKind, alpha: i32, m: usize, n_phase: usize) -> Option<f
     }
 }
 
-/// EDF of TOTVAR, NIST SP 1065: b·(T/τ) − c with T/τ = (N − 1)/m for FM
-/// noises; for WPM and FPM the overlapping Allan EDF (see the module notes).
+/// EDF of TOTVAR: NIST SP 1065 b·(T/τ) − c for the FM noises, times the
+/// small-m factor of the overlapping Allan EDF (see the module notes);
+/// `None` for WPM and FPM.
 fn total_edf(alpha: i32, m: usize, n_phase: usize) -> Option<f64> {
     if n_phase < 3 || 2 * m > n_phase - 1 {
         return None;
@@ -133,13 +144,16 @@ fn total_edf(alpha: i32, m: usize, n_phase: usize) -> Option<f64> {
         0 => (1.50, 0.0),
         -1 => (1.17, 0.22),
         -2 => (0.93, 0.36),
-        1 | 2 => {
-            let oadev = Differences::of(VarianceKind::OverlappingAllan)?;
-            return greenhall_edf(oadev, alpha, m, n_phase, J_MAX, PhaseModel::Discrete);
-        }
         _ => return None,
     };
-    let nu = b * ratio - c;
+    let oadev = Differences::of(VarianceKind::OverlappingAllan)?;
+    let exact = greenhall_edf(oadev, alpha, m, n_phase, J_MAX, PhaseModel::Discrete)?;
+    let r = (n_phase - 2 * m) as f64 / m as f64;
+    let factor = match large_r_coefficients(alpha, 2, false) {
+        Some((a0, a1)) if r > 3.0 && m * 3 <= J_MAX => exact * (a0 - a1 / r) / r,
+        _ => 1.0,
+    };
+    let nu = (b * ratio - c) * factor;
     (nu > 0.0).then_some(nu)
 }
 
@@ -279,6 +293,32 @@ fn basic_sum(j: usize, m_terms: f64, s: f64, z0: f64, kernel: &Kernel, d: usize)
 fn direct(j: usize, m_terms: f64, s: f64, kernel: &Kernel, d: usize) -> f64 {
     let z0 = kernel.sz(0.0, d);
     basic_sum(j, m_terms, s, z0, kernel, d) / (z0 * z0 * m_terms)
+}
+
+/// Theoretical lag-1 autocorrelation of the d-th differences (d = 0 … 3) of
+/// phase samples taken every m samples, for noise S_y ∝ f^α:
+/// ρ1 = sz(1)/sz(0) with the discrete-process kernel where m(d + 1) ≤ Jmax
+/// and the continuous one beyond (sampled phase; flicker PM with its
+/// discrete bandwidth). `None` when the d-th difference is not stationary
+/// (α + 2d ≤ 1). Used by [`crate::stats::noise_id`].
+pub fn decimated_lag1(alpha: i32, m: usize, d: usize) -> Option<f64> {
+    if d > 3 || !(-4..=2).contains(&alpha) || alpha + 2 * d as i32 <= 1 || m == 0 {
+        return None;
+    }
+    let kernel = if alpha == 2 {
+        Kernel::discrete(2, 1, d, false)
+    } else if m * (d + 1) <= J_MAX {
+        Kernel::discrete(alpha, m, d, false)
+    } else if alpha == 1 {
+        Kernel::flicker_pm(m)
+    } else {
+        Kernel::Continuous {
+            factor: None,
+            alpha,
+        }
+    };
+    let z0 = kernel.sz(0.0, d);
+    (z0 > 0.0 || z0 < 0.0).then(|| kernel.sz(1.0, d) / z0)
 }
 
 /// Table 1 of Greenhall & Riley (2003): (a0, a1) for the modified variances
@@ -513,6 +553,25 @@ mod tests {
         let (a0, a1) = large_r_coefficients(2, 2, false).unwrap();
         assert!((a0 - 70.0 / 36.0).abs() < 1e-12);
         assert_eq!(a1, 1.0);
+    }
+
+    /// Lag-1 autocorrelations of differenced decimated phase (analytic):
+    /// second difference of white phase −2/3, of a random walk −1/2; random
+    /// walk FM 0 at m = 1 (white second differences) and +1/4 in the
+    /// continuous limit; flicker FM −1/3 at m = 1 (ARFIMA d = −½) and
+    /// (9 ln 3 − 16 ln 2)/(8 ln 2) = −0.2168 in the continuous limit.
+    #[test]
+    fn decimated_lag1_values() {
+        let close = |a: f64, b: f64| (a - b).abs() < 1e-9;
+        assert!(close(decimated_lag1(2, 7, 2).unwrap(), -2.0 / 3.0));
+        assert!(close(decimated_lag1(0, 5, 2).unwrap(), -0.5));
+        assert!(close(decimated_lag1(0, 5000, 2).unwrap(), -0.5));
+        assert!(close(decimated_lag1(-2, 1, 2).unwrap(), 0.0));
+        assert!(close(decimated_lag1(-2, 5000, 2).unwrap(), 0.25));
+        assert!(close(decimated_lag1(-1, 1, 2).unwrap(), -1.0 / 3.0));
+        let cont = (9.0 * 3f64.ln() - 16.0 * 2f64.ln()) / (8.0 * 2f64.ln());
+        assert!(close(decimated_lag1(-1, 5000, 2).unwrap(), cont));
+        assert_eq!(decimated_lag1(-1, 4, 1), None); // first difference of FFM phase: not stationary
     }
 
     #[test]

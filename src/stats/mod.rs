@@ -24,6 +24,7 @@ use std::ops::RangeInclusive;
 
 pub mod annotate;
 pub mod bias;
+pub mod block_sums;
 pub mod closed_form;
 pub mod edf;
 pub mod gacv;
@@ -33,7 +34,7 @@ pub mod noise_id;
 pub use annotate::{annotate, StatsOptions};
 pub use edf::{edf, totvar_bias};
 pub use interval::{interval, DEFAULT_CONFIDENCE};
-pub use noise_id::{identify, IdMethod, NoiseId};
+pub use noise_id::{identify, IdMethod, Identifier, NoiseId};
 
 /// The variance behind a deviation, as far as its statistics are concerned.
 ///

@@ -20,6 +20,19 @@
 //! α = round(p) + 2     (S_y ∝ f^α, since S_y = (2πf)² S_x)
 //! ```
 //!
+//! **Our refinement of the last step.** δ = −p/2 holds for the discrete
+//! fractionally integrated process; phase decimated by m behaves, as m
+//! grows, like continuous-time noise, whose differenced series have other
+//! lag-1 values — flicker FM after two differences tends to r1 = −0.217
+//! (δ = −0.277, so α̂ = −1.45, a hair from the RWFM boundary) instead of
+//! −1/3, and random-walk FM to +0.25 instead of 0. So instead of rounding
+//! p, α is the candidate whose *theoretical* r1 for the decimated, d-times
+//! differenced phase at this m ([`edf::decimated_lag1`], from the same
+//! autocovariance kernels as the EDF) is nearest the measured r1; the
+//! candidates are the α of the estimator's range whose d-th difference is
+//! stationary (α + 2d > 1). At m = 1 this reproduces the paper's
+//! boundaries up to the small differences of the discrete kernels.
+//!
 //! with dmin = 0 and dmax = the estimator's phase-difference order (2 for
 //! the Allan family, 3 for the Hadamard family), so that the differenced
 //! series stays stationary for every α the estimator accepts; α is then
@@ -43,7 +56,9 @@
 //! ([`bias::r_ratio`]), FPM otherwise. R̂ is taken from the second
 //! differences at start points j = 0, m, 2m, … (a subset of the overlapping
 //! terms, so both variances stay unbiased), at most [`MAX_R_BLOCKS`] blocks,
-//! using the same j for both so that gaps cancel alike. Below n = 4 the two
+//! using the same j for both so that gaps cancel alike; long windows are
+//! summed from a shared dyadic table ([`BlockSums`]), so a τ costs
+//! O(blocks·log m) rather than O(blocks·m). Below n = 4 the two
 //! R(n) values are too close (0.5 and 0.51 at n = 2) and the first
 //! identification stands.
 //!
@@ -51,13 +66,24 @@
 //!
 //! With fewer than [`MIN_LAG1_POINTS`] points at τ, the N frequency averages
 //! ȳ_k = (x_{(k+1)m} − x_{km})/τ give B̂1 = s²(ȳ)/σ̂²_y(τ) (N-sample over
-//! two-sample variance); μ is the one whose theoretical B1(N, μ)
-//! ([`bias::b1`]) is nearest in logarithm, α = −μ − 1, and μ = −2 is split
-//! into WPM and FPM by R(n) as above (for n < 4 by the lag-1 statistic of
-//! the decimated phase: FPM if δ ≥ 0.25).
+//! two-sample variance), compared with the theoretical B1(N, μ)
+//! ([`bias::b1`], μ = −α − 1). On 20 points B1 alone confuses RWFM with
+//! FFM about half the time (B̂1 of a random walk is very dispersed), so —
+//! our choice — the lag-1 statistic of the same short series is used as a
+//! second witness: α minimises
+//!
+//! ((ln B̂1 − ln B1(N, μ_α))/s_B)² + ((r1 − ρ1_α)/s_r)²,
+//!
+//! s_B = sqrt(5/(N − 1)) (the spread of ln B̂1: about 2/(N − 1) from the
+//! sample variance and 3/(N − 1) from the two-sample variance) and
+//! s_r = 1/sqrt(n) (the spread of a lag-1 autocorrelation of n points), ρ1_α
+//! the theoretical value as above (1 where the d-th difference is not
+//! stationary for α). WPM against FPM (the same μ) is then settled by R(n)
+//! when n ≥ 4, as above.
 
-use crate::stats::bias;
-use crate::stats::VarianceKind;
+use crate::stats::block_sums::BlockSums;
+use crate::stats::{bias, edf, VarianceKind};
+use std::sync::OnceLock;
 
 /// Fewest finite decimated points for the lag-1 method; shorter series use
 /// the B1 ratio (Riley & Greenhall 2004: "about 30").
@@ -124,21 +150,65 @@ pub struct NoiseId {
 /// assert_eq!(id.method, IdMethod::Lag1);
 /// ```
 pub fn identify(x: &[f64], tau0: f64, m: usize, kind: VarianceKind) -> Option<NoiseId> {
-    if !(tau0.is_finite() && tau0 > 0.0) || m == 0 {
-        return None;
+    Identifier::new(x, tau0, kind).at(m)
+}
+
+/// Identification of one record at many τ: [`identify`] with the window
+/// sums of R(n) shared between τ (built on first use, [`BlockSums`]).
+/// `Sync`, so the τ can be handled in parallel.
+#[derive(Debug)]
+pub struct Identifier<'a> {
+    x: &'a [f64],
+    tau0: f64,
+    kind: VarianceKind,
+    sums: OnceLock<BlockSums>,
+}
+
+impl<'a> Identifier<'a> {
+    /// Prepare to identify the noise of phase record `x` (seconds, NaN =
+    /// gap) for estimator family `kind`.
+    pub fn new(x: &'a [f64], tau0: f64, kind: VarianceKind) -> Self {
+        Self {
+            x,
+            tau0,
+            kind,
+            sums: OnceLock::new(),
+        }
     }
-    let finite = x
-        .iter()
-        .step_by(m)
-        .filter(|v| v.is_finite())
-        .take(MIN_LAG1_POINTS)
-        .count();
-    if finite >= MIN_LAG1_POINTS {
-        lag1_id(x, m, kind)
-    } else {
-        b1_id(x, m, kind)
+
+    /// The noise type at τ = m·τ0 (as [`identify`]).
+    pub fn at(&self, m: usize) -> Option<NoiseId> {
+        if !(self.tau0.is_finite() && self.tau0 > 0.0) || m == 0 {
+            return None;
+        }
+        let finite = self
+            .x
+            .iter()
+            .step_by(m)
+            .filter(|v| v.is_finite())
+            .take(MIN_LAG1_POINTS)
+            .count();
+        if finite >= MIN_LAG1_POINTS {
+            lag1_id(self, m)
+        } else {
+            b1_id(self, m)
+        }
+    }
+
+    /// Σ x[a .. a + len], directly for short windows, else from the table.
+    fn window_sum(&self, a: usize, len: usize) -> f64 {
+        if len <= DIRECT_WINDOW {
+            self.x[a..a + len].iter().sum()
+        } else {
+            self.sums
+                .get_or_init(|| BlockSums::new(self.x))
+                .sum(self.x, a, a + len)
+        }
     }
 }
+
+/// Windows up to this many samples are summed directly.
+const DIRECT_WINDOW: usize = 256;
 
 /// Every m-th sample of `x`, at most `cap` of them, from the start.
 fn decimate(x: &[f64], m: usize, cap: usize) -> Vec<f64> {
@@ -170,18 +240,42 @@ pub(crate) fn lag1_autocorrelation(z: &[f64]) -> Option<f64> {
     (den > 0.0).then(|| num / den)
 }
 
-/// The Riley & Greenhall loop; returns (α before clamping, r1 at the stop).
-fn lag1_loop(mut z: Vec<f64>, dmax: usize) -> Option<(i32, f64)> {
+/// The Riley & Greenhall loop; returns the number of differences d at the
+/// stop and r1 there.
+fn lag1_loop(mut z: Vec<f64>, dmax: usize) -> Option<(usize, f64)> {
     let mut d = 0usize;
     loop {
         let r1 = lag1_autocorrelation(&z)?;
         let delta = r1 / (1.0 + r1);
         if delta < 0.25 || d >= dmax {
-            let p = -2.0 * (delta + d as f64);
-            return Some((p.round() as i32 + 2, r1));
+            return Some((d, r1));
         }
         z = z.windows(2).map(|w| w[1] - w[0]).collect();
         d += 1;
+    }
+}
+
+/// α at the stop: the candidate (inside the estimator's range, with a
+/// stationary d-th difference) whose theoretical lag-1 autocorrelation at
+/// this m and d ([`edf::decimated_lag1`]) is nearest to the measured r1.
+/// Falls back to the paper's rounding α = round(−2(δ + d)) + 2 if no
+/// candidate has a value.
+fn alpha_from_r1(r1: f64, m: usize, d: usize, kind: VarianceKind) -> i32 {
+    let mut best: Option<(f64, i32)> = None;
+    for alpha in kind.alpha_range() {
+        if let Some(rho) = edf::decimated_lag1(alpha, m, d) {
+            let dist = (r1 - rho).abs();
+            if best.is_none() || best.is_some_and(|(bd, _)| dist < bd) {
+                best = Some((dist, alpha));
+            }
+        }
+    }
+    match best {
+        Some((_, a)) => a,
+        None => {
+            let delta = r1 / (1.0 + r1);
+            clamp_alpha((-2.0 * (delta + d as f64)).round() as i32 + 2, kind)
+        }
     }
 }
 
@@ -190,12 +284,13 @@ fn clamp_alpha(alpha: i32, kind: VarianceKind) -> i32 {
     alpha.clamp(*range.start(), *range.end())
 }
 
-fn lag1_id(x: &[f64], m: usize, kind: VarianceKind) -> Option<NoiseId> {
-    let z = decimate(x, m, MAX_LAG1_POINTS);
-    let (raw, r1) = lag1_loop(z, kind.difference_order())?;
-    let mut alpha = clamp_alpha(raw, kind);
+fn lag1_id(id: &Identifier, m: usize) -> Option<NoiseId> {
+    let kind = id.kind;
+    let z = decimate(id.x, m, MAX_LAG1_POINTS);
+    let (d, r1) = lag1_loop(z, kind.difference_order())?;
+    let mut alpha = alpha_from_r1(r1, m, d, kind);
     if alpha >= 1 {
-        if let Some(split) = pm_split(x, m) {
+        if let Some(split) = pm_split(id, m) {
             alpha = split;
         }
     }
@@ -208,11 +303,11 @@ fn lag1_id(x: &[f64], m: usize, kind: VarianceKind) -> Option<NoiseId> {
 
 /// WPM (2) or FPM (1) from the measured R(n) = MVAR/AVAR at n = m, or `None`
 /// when m < [`MIN_R_FACTOR`] or the record has no usable term.
-fn pm_split(x: &[f64], m: usize) -> Option<i32> {
+fn pm_split(id: &Identifier, m: usize) -> Option<i32> {
     if m < MIN_R_FACTOR {
         return None;
     }
-    let r = measured_r(x, m)?;
+    let r = measured_r(id, m)?;
     let boundary = (bias::r_ratio(2, m)? * bias::r_ratio(1, m)?).sqrt();
     Some(if r < boundary { 2 } else { 1 })
 }
@@ -220,14 +315,15 @@ fn pm_split(x: &[f64], m: usize) -> Option<i32> {
 /// R̂(m) = [mean (S₃ − 2S₂ + S₁)²/m²] / [mean (x_{j+2m} − 2x_{j+m} + x_j)²]
 /// over start points j = 0, m, 2m, …, S_k the sums of x over the k-th block
 /// of m samples from j; at most [`MAX_R_BLOCKS`] blocks.
-fn measured_r(x: &[f64], m: usize) -> Option<f64> {
+fn measured_r(id: &Identifier, m: usize) -> Option<f64> {
+    let x = id.x;
     let blocks = (x.len() / m).min(MAX_R_BLOCKS);
     if blocks < 3 {
         return None;
     }
-    // Block means and the phase at each block start.
+    // Block means, and the phase at each block start.
     let means: Vec<f64> = (0..blocks)
-        .map(|b| x[b * m..(b + 1) * m].iter().sum::<f64>() / m as f64)
+        .map(|b| id.window_sum(b * m, m) / m as f64)
         .collect();
     let (mut num, mut den, mut count) = (0.0, 0.0, 0usize);
     for b in 0..blocks - 2 {
@@ -243,8 +339,9 @@ fn measured_r(x: &[f64], m: usize) -> Option<f64> {
     (count > 0 && den > 0.0).then(|| num / den)
 }
 
-fn b1_id(x: &[f64], m: usize, kind: VarianceKind) -> Option<NoiseId> {
-    let dec = decimate(x, m, usize::MAX);
+fn b1_id(id: &Identifier, m: usize) -> Option<NoiseId> {
+    let kind = id.kind;
+    let dec = decimate(id.x, m, usize::MAX);
     let y: Vec<f64> = dec.windows(2).map(|w| w[1] - w[0]).collect();
     let finite: Vec<f64> = y.iter().copied().filter(|v| v.is_finite()).collect();
     let n = finite.len();
@@ -266,33 +363,35 @@ fn b1_id(x: &[f64], m: usize, kind: VarianceKind) -> Option<NoiseId> {
     }
     let two_sample = 0.5 * s2 / pairs as f64;
     let observed = (sample_var / two_sample).ln();
-    let range = kind.alpha_range();
+    // The lag-1 statistic of the same short series, as a second witness.
+    let n_dec = dec.iter().filter(|v| v.is_finite()).count();
+    let lag = lag1_loop(dec, kind.difference_order());
+    let s_b = (5.0 / (n - 1) as f64).sqrt();
+    let s_r = 1.0 / (n_dec as f64).sqrt();
     let mut best: Option<(f64, i32)> = None;
-    // Candidate μ from the estimator's α range (μ = −2 stands for WPM/FPM).
-    for alpha in (*range.start()..=1).rev() {
+    for alpha in kind.alpha_range() {
         let mu = bias::mu_of_alpha(alpha);
-        let dist = (observed - bias::b1(n, mu).ln()).abs();
-        if best.is_none() || best.is_some_and(|(bd, _)| dist < bd) {
-            best = Some((dist, alpha));
+        let mut score = ((observed - bias::b1(n, mu).ln()) / s_b).powi(2);
+        if let Some((d, r1)) = lag {
+            // A d-th difference that is not stationary for this α behaves
+            // like a random walk: r1 near 1.
+            let rho = edf::decimated_lag1(alpha, m, d).unwrap_or(1.0);
+            score += ((r1 - rho) / s_r).powi(2);
+        }
+        if best.is_none() || best.is_some_and(|(bs, _)| score < bs) {
+            best = Some((score, alpha));
         }
     }
     let (_, mut alpha) = best?;
-    if alpha == 1 {
-        alpha = match pm_split(x, m) {
-            Some(a) => a,
-            None => {
-                // n < 4: the lag-1 statistic of the decimated phase decides.
-                match lag1_autocorrelation(&dec) {
-                    Some(r1) if r1 / (1.0 + r1) >= 0.25 => 1,
-                    _ => 2,
-                }
-            }
-        };
+    if alpha >= 1 {
+        if let Some(a) = pm_split(id, m) {
+            alpha = a;
+        }
     }
     Some(NoiseId {
-        alpha: clamp_alpha(alpha, kind),
+        alpha,
         method: IdMethod::B1,
-        r1: None,
+        r1: lag.map(|l| l.1),
     })
 }
 
@@ -318,9 +417,15 @@ mod tests {
     #[test]
     fn measured_r_of_drift_is_one() {
         let x: Vec<f64> = (0..400).map(|i| (i as f64).powi(2)).collect();
-        assert!((measured_r(&x, 8).unwrap() - 1.0).abs() < 1e-12);
+        let id = Identifier::new(&x, 1.0, VarianceKind::Allan);
+        assert!((measured_r(&id, 8).unwrap() - 1.0).abs() < 1e-12);
+        // Windows beyond the direct length go through the block table.
+        let long: Vec<f64> = (0..40_000).map(|i| (i as f64 * 1e-3).powi(2)).collect();
+        let id = Identifier::new(&long, 1.0, VarianceKind::Allan);
+        assert!((measured_r(&id, 1000).unwrap() - 1.0).abs() < 1e-9);
         let ramp: Vec<f64> = (0..400).map(|i| i as f64).collect();
-        assert_eq!(measured_r(&ramp, 8), None);
+        let id = Identifier::new(&ramp, 1.0, VarianceKind::Allan);
+        assert_eq!(measured_r(&id, 8), None);
     }
 
     #[test]

@@ -1,0 +1,211 @@
+//! `tauwise noise FILE`: the noise type at each τ (lag-1 autocorrelation,
+//! or the B1/R(n) fallback) and the power-law model fitted to the record.
+
+use super::common::{emit, header_json, json_text, num, plain, Format, InputArgs, OutputArgs};
+use super::Outcome;
+use clap::Args as ClapArgs;
+use std::fmt::Write as _;
+use std::path::PathBuf;
+use tauwise::deviation::Estimator;
+use tauwise::model::noise_label;
+use tauwise::stability::{fit_record_model, RecordModel};
+use tauwise::stats::noise_id::{identify, NoiseId};
+use tauwise::stats::VarianceKind;
+use tauwise::tau::TauGrid;
+use tauwise::units::{format_si, format_sig};
+use tauwise::Result;
+
+/// Noise type per τ and the fitted power-law model.
+#[derive(Debug, ClapArgs)]
+pub struct Args {
+    /// Input file (`-` reads standard input).
+    #[arg(value_name = "FILE")]
+    pub file: PathBuf,
+    #[command(flatten)]
+    pub input: InputArgs,
+    /// τ grid: octave, decade, all, log:N or a list of durations.
+    #[arg(long, value_name = "GRID", default_value = "octave")]
+    pub taus: String,
+    /// Remove a least-squares frequency drift before the analysis (aging
+    /// would otherwise read as random-walk FM at long τ).
+    #[arg(long, value_enum, value_name = "MODEL")]
+    pub remove_drift: Option<super::prepare::DriftArg>,
+    #[command(flatten)]
+    pub output: OutputArgs,
+}
+
+struct Row {
+    tau: f64,
+    m: usize,
+    id: Option<NoiseId>,
+}
+
+/// Run `noise`.
+pub fn run(args: Args) -> Result<Outcome> {
+    let grid = TauGrid::parse(&args.taus)?;
+    let mut series = args.input.load(&args.file)?;
+    series.record = super::prepare::without_drift(series.record, args.remove_drift)?;
+    let x = series.record.to_phase();
+    let ms = grid.ms(x.tau0, Estimator::Oadev.max_m(x.len()))?;
+    let rows: Vec<Row> = ms
+        .iter()
+        .map(|&m| Row {
+            tau: m as f64 * x.tau0,
+            m,
+            id: identify(&x.x, x.tau0, m, VarianceKind::OverlappingAllan),
+        })
+        .collect();
+    let model = fit_record_model(&x, &grid)?;
+    let text = match args.output.format {
+        Format::Json => {
+            let mut doc = header_json(&series);
+            doc.insert("points".into(), points_json(&rows));
+            doc.insert("model".into(), model_json(&model));
+            json_text(&serde_json::Value::Object(doc))
+        }
+        Format::Csv => {
+            let mut s = String::from("tau,m,alpha,noise,method,r1\n");
+            for r in &rows {
+                let (a, l, me, r1) = cells(r);
+                let _ = writeln!(s, "{},{},{a},{l},{me},{r1}", plain(r.tau), r.m);
+            }
+            s
+        }
+        Format::Table => table(&series.info.path, &rows, &model),
+    };
+    emit(&args.output, &text)?;
+    Ok(Outcome::Done)
+}
+
+fn cells(r: &Row) -> (String, String, String, String) {
+    match &r.id {
+        Some(id) => (
+            id.alpha.to_string(),
+            noise_label(id.alpha).unwrap_or("").to_string(),
+            id.method.name().to_string(),
+            id.r1.map(|v| format!("{v:.4}")).unwrap_or_default(),
+        ),
+        None => Default::default(),
+    }
+}
+
+fn points_json(rows: &[Row]) -> serde_json::Value {
+    serde_json::Value::Array(
+        rows.iter()
+            .map(|r| {
+                serde_json::json!({
+                    "tau": num(r.tau),
+                    "m": r.m,
+                    "alpha": r.id.as_ref().map(|i| i.alpha),
+                    "noise": r.id.as_ref().and_then(|i| noise_label(i.alpha)),
+                    "method": r.id.as_ref().map(|i| i.method.name()),
+                    "r1": r.id.as_ref().and_then(|i| i.r1).map(num),
+                })
+            })
+            .collect(),
+    )
+}
+
+/// The `"model"` object: `{"h":{"2","1","0","-1","-2"},"fh","dominant"}`,
+/// `null` for a term the fit left out; plus the model string.
+pub fn model_json(model: &RecordModel) -> serde_json::Value {
+    let fit = &model.fit;
+    let mut h = serde_json::Map::new();
+    for a in (-2i32..=2).rev() {
+        let k = (a + 2) as usize;
+        h.insert(
+            a.to_string(),
+            if fit.fitted[k] {
+                num(fit.model.h[k])
+            } else {
+                serde_json::Value::Null
+            },
+        );
+    }
+    let dominant: Vec<serde_json::Value> = fit
+        .dominant
+        .iter()
+        .map(|d| {
+            serde_json::json!({
+                "noise": noise_label(d.alpha),
+                "tau_from": num(d.tau_from),
+                "tau_to": num(d.tau_to),
+            })
+        })
+        .collect();
+    serde_json::json!({
+        "h": h,
+        "fh": num(fit.model.f_h),
+        "dominant": dominant,
+        "model_string": fit.model.to_model_string(),
+        "residual_db_rms": num(rms(&fit.residual_db)),
+    })
+}
+
+fn rms(v: &[f64]) -> f64 {
+    if v.is_empty() {
+        return f64::NAN;
+    }
+    (v.iter().map(|r| r * r).sum::<f64>() / v.len() as f64).sqrt()
+}
+
+fn table(path: &std::path::Path, rows: &[Row], model: &RecordModel) -> String {
+    let mut s = String::new();
+    let _ = writeln!(s, "# {}", path.display());
+    let _ = writeln!(s);
+    let _ = writeln!(s, "noise type per τ (OADEV averaging)");
+    let _ = writeln!(
+        s,
+        "{:>10} {:>9} {:>6} {:>6} {:>7} {:>8}",
+        "tau", "m", "alpha", "noise", "method", "r1"
+    );
+    for r in rows {
+        let (a, l, me, r1) = cells(r);
+        let dash = |t: String| if t.is_empty() { "—".to_string() } else { t };
+        let _ = writeln!(
+            s,
+            "{:>10} {:>9} {:>6} {:>6} {:>7} {:>8}",
+            format_si(r.tau, "s", 4),
+            r.m,
+            dash(a),
+            dash(l),
+            dash(me),
+            dash(r1)
+        );
+    }
+    let fit = &model.fit;
+    let _ = writeln!(s);
+    let _ = writeln!(
+        s,
+        "power-law model fitted to OADEV and MDEV (EDF-weighted, log space), f_h = {}",
+        format_si(fit.model.f_h, "Hz", 4)
+    );
+    for a in (-2i32..=2).rev() {
+        let k = (a + 2) as usize;
+        let v = if fit.fitted[k] {
+            format_sig(fit.model.h[k], 4)
+        } else {
+            "not in the fit".to_string()
+        };
+        let _ = writeln!(
+            s,
+            "  h{:<3} {:>14}   ({})",
+            a,
+            v,
+            noise_label(a).unwrap_or("")
+        );
+    }
+    let _ = writeln!(s, "dominant terms:");
+    for d in &fit.dominant {
+        let _ = writeln!(
+            s,
+            "  {:<5} from {} to {}",
+            noise_label(d.alpha).unwrap_or("?"),
+            format_si(d.tau_from, "s", 4),
+            format_si(d.tau_to, "s", 4)
+        );
+    }
+    let _ = writeln!(s, "residual rms: {:.2} dB", rms(&fit.residual_db));
+    let _ = writeln!(s, "model (for --model): {}", fit.model.to_model_string());
+    s
+}

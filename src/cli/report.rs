@@ -1,0 +1,196 @@
+//! `tauwise report DUT.toml -o report.html`: one self-contained HTML report
+//! for a device under test; or the quick form `tauwise report FILE --tau0 …
+//! [--lf TABLE --carrier F]` for a single record (and phase-noise table)
+//! without a DUT file.
+
+use super::common::{emit_to, InputArgs};
+use super::Outcome;
+use clap::Args as ClapArgs;
+use std::io::IsTerminal;
+use std::path::PathBuf;
+use tauwise::io::dut::{Dut, LfQuantity, LfSource, TimeSource};
+use tauwise::report::build::{from_dut_with_progress, BuildOptions};
+use tauwise::{DataKind, Error, Result};
+
+/// Make the HTML report for a device under test.
+#[derive(Debug, ClapArgs)]
+pub struct Args {
+    /// A DUT file (`.toml`, see docs/dut-file.md), or a time record for the
+    /// quick form.
+    #[arg(value_name = "DUT|FILE")]
+    pub input: PathBuf,
+    /// Write the report to FILE (atomically); default: standard output.
+    #[arg(short = 'o', long = "output", value_name = "FILE")]
+    pub output: Option<PathBuf>,
+    /// Confidence level of the intervals, in (0, 1).
+    #[arg(long, value_name = "P", default_value_t = 0.683)]
+    pub confidence: f64,
+    /// Also write every chart of the report into DIR as PNG files
+    /// (stability.png, phase-noise.png, wander-mtie.png, holdover.png, …).
+    #[arg(long, value_name = "DIR")]
+    pub charts: Option<PathBuf>,
+    /// Size of the --charts pictures in pixels, WIDTHxHEIGHT.
+    #[arg(long, value_name = "WxH", default_value = "960x600")]
+    pub chart_size: String,
+    /// Exit with status 3 when any verdict fails.
+    #[arg(long)]
+    pub fail_on_violation: bool,
+    /// Quick form: device name (default: the record's file name).
+    #[arg(long, value_name = "NAME")]
+    pub name: Option<String>,
+    /// Quick form: an L(f) table for the phase-noise section (needs --carrier).
+    #[arg(long = "lf", value_name = "TABLE")]
+    pub lf: Option<PathBuf>,
+    /// Quick form: how to read the record.
+    #[command(flatten)]
+    pub input_args: InputArgs,
+}
+
+fn is_dut_file(p: &std::path::Path) -> bool {
+    p.extension()
+        .and_then(|e| e.to_str())
+        .is_some_and(|e| e.eq_ignore_ascii_case("toml"))
+}
+
+/// The quick form as an in-memory DUT.
+fn quick_dut(a: &Args) -> Result<Dut> {
+    let opts = a.input_args.options()?;
+    let name = a.name.clone().unwrap_or_else(|| {
+        a.input
+            .file_name()
+            .map(|n| n.to_string_lossy().into_owned())
+            .unwrap_or_else(|| "record".into())
+    });
+    let kind = opts.kind.unwrap_or(match opts.unit {
+        Some(tauwise::units::ValueUnit::Freq(_)) => DataKind::Freq,
+        _ => DataKind::Phase,
+    });
+    let mut phase_noise = Vec::new();
+    if let Some(lf) = &a.lf {
+        let carrier = opts.carrier.ok_or_else(|| {
+            Error::invalid(
+                "--lf needs --carrier (the carrier of the phase-noise table, e.g. 10MHz)",
+            )
+        })?;
+        if !lf.is_file() {
+            return Err(tauwise::io::ReadError::file(
+                lf,
+                "cannot open the L(f) table: no such file",
+            )
+            .into());
+        }
+        phase_noise.push(LfSource {
+            name: lf
+                .file_name()
+                .map(|n| n.to_string_lossy().into_owned())
+                .unwrap_or_default(),
+            path: lf.clone(),
+            quantity: LfQuantity::Lf,
+            carrier,
+        });
+    }
+    Ok(Dut {
+        file: a.input.clone(),
+        name,
+        description: None,
+        carrier: opts.carrier,
+        records: vec![TimeSource {
+            name: a
+                .input
+                .file_name()
+                .map(|n| n.to_string_lossy().into_owned())
+                .unwrap_or_default(),
+            path: a.input.clone(),
+            data: kind,
+            tau0: opts.tau0,
+            units: opts.unit,
+            value_column: opts.value_column,
+            time_column: opts.time_column,
+        }],
+        phase_noise,
+        tie: Vec::new(),
+        jitter: Vec::new(),
+        wander: None,
+        holdover: None,
+    })
+}
+
+/// Parse `960x600`.
+fn parse_size(text: &str) -> Result<(u32, u32)> {
+    text.split_once(['x', 'X', '×'])
+        .and_then(|(w, h)| Some((w.trim().parse().ok()?, h.trim().parse().ok()?)))
+        .ok_or_else(|| {
+            Error::invalid(format!(
+                "--chart-size {text}: expected WIDTHxHEIGHT in pixels, e.g. 960x600"
+            ))
+        })
+}
+
+/// Run `report`.
+pub fn run(a: Args) -> Result<Outcome> {
+    if !(a.confidence > 0.0 && a.confidence < 1.0) {
+        return Err(Error::invalid(format!(
+            "--confidence {}: expected a probability strictly between 0 and 1 (e.g. 0.683, 0.95)",
+            a.confidence
+        )));
+    }
+    let dut = if is_dut_file(&a.input) {
+        if a.lf.is_some() || a.name.is_some() || a.input_args.tau0.is_some() {
+            return Err(Error::invalid(
+                "--lf, --name and the record options belong to the quick form; a DUT file holds them itself",
+            ));
+        }
+        Dut::read(&a.input)?
+    } else {
+        quick_dut(&a)?
+    };
+    let opts = BuildOptions {
+        confidence: a.confidence,
+        ..BuildOptions::default()
+    };
+    let size = parse_size(&a.chart_size)?;
+    if let Some(dir) = &a.charts {
+        if !dir.is_dir() {
+            return Err(Error::invalid(format!(
+                "--charts {}: not a directory",
+                dir.display()
+            )));
+        }
+    }
+    let report = {
+        // A progress bar on stderr when it is a terminal, nothing otherwise.
+        let bar = std::io::stderr().is_terminal().then(|| {
+            let b = indicatif::ProgressBar::new(tauwise::report::build::steps(&dut) as u64);
+            b.set_style(
+                indicatif::ProgressStyle::with_template("{prefix} [{bar:30}] {pos}/{len} {msg}")
+                    .unwrap_or_else(|_| indicatif::ProgressStyle::default_bar())
+                    .progress_chars("=> "),
+            );
+            b.set_prefix("report");
+            b
+        });
+        let r = from_dut_with_progress(&dut, &opts, &mut |done, _, what| {
+            if let Some(b) = &bar {
+                b.set_position(done as u64);
+                b.set_message(what.to_string());
+            }
+        });
+        if let Some(b) = bar {
+            b.finish_and_clear();
+        }
+        r?
+    };
+    let html = tauwise::report::render_html(&report)?;
+    emit_to(a.output.as_deref(), html.as_bytes())?;
+    if let Some(dir) = &a.charts {
+        for (stem, chart) in tauwise::report::charts(&report) {
+            tauwise::plot::render(&chart, &dir.join(format!("{stem}.png")), size)?;
+        }
+    }
+    let failed = report.verdicts.iter().any(|v| v.pass == Some(false));
+    Ok(if failed && a.fail_on_violation {
+        Outcome::VerdictFailed
+    } else {
+        Outcome::Done
+    })
+}

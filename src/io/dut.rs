@@ -1,0 +1,993 @@
+//! The DUT file: one TOML file that says everything tauwise needs to know
+//! about a device under test — its name and carrier, its time records, L(f)
+//! tables and TIE captures, the jitter bands, wander masks and holdover
+//! spans to judge it by. The schema is ours and is documented in
+//! `docs/dut-file.md`.
+//!
+//! Reading is strict: unknown keys, wrong types, bad units, references to
+//! names that do not exist and missing files are errors that name the DUT
+//! file, the line, the key (`record[2].tau0`) and, for files, the resolved
+//! path. Paths are relative to the DUT file's directory (`..` is allowed).
+
+use crate::io::ReadError;
+use crate::record::DataKind;
+use crate::units::{self, ValueUnit};
+use serde::Deserialize;
+use std::path::{Component, Path, PathBuf};
+use toml::Spanned;
+
+// ---------------------------------------------------------------- raw schema
+
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawDut {
+    device: RawDevice,
+    #[serde(default)]
+    record: Vec<RawSeries>,
+    #[serde(default)]
+    phase_noise: Vec<RawTable>,
+    #[serde(default)]
+    tie: Vec<RawSeries>,
+    #[serde(default)]
+    jitter: Vec<RawJitter>,
+    wander: Option<RawWander>,
+    holdover: Option<RawHoldover>,
+}
+
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawDevice {
+    name: Spanned<String>,
+    description: Option<String>,
+    carrier: Option<Spanned<toml::Value>>,
+}
+
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawSeries {
+    name: Option<Spanned<String>>,
+    path: Spanned<String>,
+    data: Option<Spanned<String>>,
+    tau0: Option<Spanned<toml::Value>>,
+    units: Option<Spanned<String>>,
+    value_column: Option<Spanned<i64>>,
+    time_column: Option<Spanned<i64>>,
+}
+
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawTable {
+    name: Option<Spanned<String>>,
+    path: Spanned<String>,
+    quantity: Option<Spanned<String>>,
+    carrier: Option<Spanned<toml::Value>>,
+}
+
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawJitter {
+    name: Option<Spanned<String>>,
+    band: Spanned<String>,
+    #[serde(default)]
+    filters: Vec<Spanned<String>>,
+    filter_file: Option<Spanned<String>>,
+    limit: Option<Spanned<toml::Value>>,
+    ui_rate: Option<Spanned<toml::Value>>,
+    source: Option<Spanned<String>>,
+}
+
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawWander {
+    #[serde(default)]
+    masks: Vec<Spanned<String>>,
+    #[serde(default)]
+    mask_files: Vec<Spanned<String>>,
+    source: Option<Spanned<String>>,
+    remove_offset: Option<bool>,
+}
+
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawHoldover {
+    budget: Spanned<toml::Value>,
+    spans: Spanned<Vec<Spanned<toml::Value>>>,
+    record: Option<Spanned<String>>,
+    aging: Option<Spanned<toml::Value>>,
+    te0: Option<Spanned<toml::Value>>,
+    settle: Option<Spanned<toml::Value>>,
+    paths: Option<Spanned<i64>>,
+    seed: Option<u64>,
+}
+
+// ---------------------------------------------------------- resolved schema
+
+/// A device under test, as read from its DUT file.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Dut {
+    /// The DUT file itself.
+    pub file: PathBuf,
+    /// Device name (free text; escape before putting it in HTML).
+    pub name: String,
+    /// Optional description.
+    pub description: Option<String>,
+    /// Carrier ν0 in Hz, when given.
+    pub carrier: Option<f64>,
+    /// Time records (phase or frequency against a reference).
+    pub records: Vec<TimeSource>,
+    /// Phase-noise tables.
+    pub phase_noise: Vec<LfSource>,
+    /// TIE captures (phase data).
+    pub tie: Vec<TimeSource>,
+    /// Jitter bands to integrate.
+    pub jitter: Vec<JitterSpec>,
+    /// Wander masks to check.
+    pub wander: Option<WanderSpec>,
+    /// Holdover question.
+    pub holdover: Option<HoldoverSpec>,
+}
+
+/// A time series file and how to read it.
+#[derive(Debug, Clone, PartialEq)]
+pub struct TimeSource {
+    /// Name used in the report and in references (default: the file name).
+    pub name: String,
+    /// Resolved path.
+    pub path: PathBuf,
+    /// Phase or frequency.
+    pub data: DataKind,
+    /// Sampling interval τ0 in seconds (None: from the timestamps).
+    pub tau0: Option<f64>,
+    /// Units of the values (None: seconds for phase, fractional for frequency).
+    pub units: Option<ValueUnit>,
+    /// 1-based value column.
+    pub value_column: Option<usize>,
+    /// 1-based time column.
+    pub time_column: Option<usize>,
+}
+
+/// What an L(f) table holds.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum LfQuantity {
+    /// L(f) in dBc/Hz.
+    Lf,
+    /// S_φ(f) in rad²/Hz.
+    Sphi,
+    /// S_φ(f) in dB rad²/Hz.
+    SphiDb,
+    /// S_y(f) in 1/Hz.
+    Sy,
+}
+
+impl LfQuantity {
+    /// The name used in DUT files and on the command line.
+    pub fn name(self) -> &'static str {
+        match self {
+            LfQuantity::Lf => "lf",
+            LfQuantity::Sphi => "sphi",
+            LfQuantity::SphiDb => "sphi-db",
+            LfQuantity::Sy => "sy",
+        }
+    }
+}
+
+/// A phase-noise table file.
+#[derive(Debug, Clone, PartialEq)]
+pub struct LfSource {
+    /// Name (default: the file name).
+    pub name: String,
+    /// Resolved path.
+    pub path: PathBuf,
+    /// What the table holds.
+    pub quantity: LfQuantity,
+    /// Carrier ν0 in Hz (the table's own, else the device's).
+    pub carrier: f64,
+}
+
+/// A Butterworth weighting filter on the jitter integral (|H|² of order n).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct WeightingFilter {
+    /// High-pass (true) or low-pass (false).
+    pub highpass: bool,
+    /// Filter order n ≥ 1.
+    pub order: u32,
+    /// Corner frequency in Hz.
+    pub corner: f64,
+}
+
+/// One jitter band.
+#[derive(Debug, Clone, PartialEq)]
+pub struct JitterSpec {
+    /// Name (default: the band text).
+    pub name: String,
+    /// Lower offset (Hz).
+    pub from: f64,
+    /// Upper offset (Hz).
+    pub to: f64,
+    /// Weighting filters, applied together.
+    pub filters: Vec<WeightingFilter>,
+    /// A filter table (|H(f)|² in dB against f), resolved path.
+    pub filter_file: Option<PathBuf>,
+    /// rms time-jitter limit (s).
+    pub limit: Option<f64>,
+    /// Unit-interval rate (Hz) for jitter in UI.
+    pub ui_rate: Option<f64>,
+    /// Name of the phase-noise table to use (None: the first).
+    pub source: Option<String>,
+}
+
+/// The wander check.
+#[derive(Debug, Clone, PartialEq)]
+pub struct WanderSpec {
+    /// Built-in mask names (checked by the wander layer).
+    pub masks: Vec<String>,
+    /// User mask files, resolved.
+    pub mask_files: Vec<PathBuf>,
+    /// Name of the TIE capture or record to use (None: the first TIE
+    /// capture, else the first record).
+    pub source: Option<String>,
+    /// Remove a constant frequency offset before the analysis.
+    pub remove_offset: bool,
+}
+
+/// The holdover question.
+#[derive(Debug, Clone, PartialEq)]
+pub struct HoldoverSpec {
+    /// Time-error budget (s).
+    pub budget: f64,
+    /// Holdover spans to judge (s), in the order given.
+    pub spans: Vec<f64>,
+    /// Record to predict from (None: the first record).
+    pub record: Option<String>,
+    /// Aging D in fractional frequency per second (None: fitted).
+    pub aging: Option<f64>,
+    /// Initial time error (s).
+    pub te0: Option<f64>,
+    /// Window at the end of the record for the initial frequency (s).
+    pub settle: Option<f64>,
+    /// Monte Carlo paths.
+    pub paths: Option<usize>,
+    /// Seed.
+    pub seed: Option<u64>,
+}
+
+// ------------------------------------------------------------------ reading
+
+struct Ctx<'a> {
+    file: &'a Path,
+    src: &'a str,
+    dir: PathBuf,
+}
+
+impl Ctx<'_> {
+    fn line_of(&self, offset: usize) -> u64 {
+        let o = offset.min(self.src.len());
+        self.src[..o].bytes().filter(|&b| b == b'\n').count() as u64 + 1
+    }
+    fn err<T>(
+        &self,
+        span: std::ops::Range<usize>,
+        key: &str,
+        what: impl std::fmt::Display,
+    ) -> Result<T, ReadError> {
+        Err(ReadError::at(
+            self.file,
+            self.line_of(span.start),
+            format!("{key}: {what}"),
+        ))
+    }
+    /// Resolve a path relative to the DUT file and check it is a file.
+    fn file_path(&self, p: &Spanned<String>, key: &str) -> Result<PathBuf, ReadError> {
+        let raw = Path::new(p.get_ref());
+        if p.get_ref().trim().is_empty() {
+            return self.err(p.span(), key, "expected a file path, got an empty string");
+        }
+        let resolved = normalize(&self.dir.join(raw));
+        match std::fs::metadata(&resolved) {
+            Ok(m) if m.is_file() => Ok(resolved),
+            Ok(_) => self.err(
+                p.span(),
+                key,
+                format!("{} is not a regular file", resolved.display()),
+            ),
+            Err(e) => self.err(
+                p.span(),
+                key,
+                format!(
+                    "cannot open {} (given as '{}'): {e}",
+                    resolved.display(),
+                    p.get_ref()
+                ),
+            ),
+        }
+    }
+}
+
+/// Lexical normalisation: drop `.`, fold `a/..` (without touching the file
+/// system, so the message shows the path that was looked for).
+pub fn normalize(p: &Path) -> PathBuf {
+    let mut out = PathBuf::new();
+    for c in p.components() {
+        match c {
+            Component::CurDir => {}
+            Component::ParentDir => {
+                let last_normal =
+                    matches!(out.components().next_back(), Some(Component::Normal(_)));
+                if last_normal {
+                    out.pop();
+                } else if !matches!(out.components().next_back(), Some(Component::RootDir)) {
+                    out.push("..");
+                }
+            }
+            other => out.push(other.as_os_str()),
+        }
+    }
+    if out.as_os_str().is_empty() {
+        out.push(".");
+    }
+    out
+}
+
+fn value_text(v: &toml::Value) -> Option<String> {
+    match v {
+        toml::Value::String(s) => Some(s.clone()),
+        toml::Value::Integer(i) => Some(i.to_string()),
+        toml::Value::Float(f) => Some(f.to_string()),
+        _ => None,
+    }
+}
+
+fn type_name(v: &toml::Value) -> &'static str {
+    match v {
+        toml::Value::String(_) => "a string",
+        toml::Value::Integer(_) => "an integer",
+        toml::Value::Float(_) => "a float",
+        toml::Value::Boolean(_) => "a boolean",
+        toml::Value::Datetime(_) => "a date-time",
+        toml::Value::Array(_) => "an array",
+        toml::Value::Table(_) => "a table",
+    }
+}
+
+/// Parse a duration that may also be written in femtoseconds (`150fs`).
+fn duration_with_fs(text: &str) -> Result<f64, units::UnitError> {
+    let t = text.trim();
+    if let Some(num) = t.strip_suffix("fs") {
+        if let Ok(v) = num.trim().parse::<f64>() {
+            if v.is_finite() {
+                return Ok(v * 1e-15);
+            }
+        }
+    }
+    units::parse_duration(t)
+}
+
+impl Ctx<'_> {
+    fn duration(
+        &self,
+        v: &Spanned<toml::Value>,
+        key: &str,
+        positive: bool,
+    ) -> Result<f64, ReadError> {
+        let Some(text) = value_text(v.get_ref()) else {
+            return self.err(
+                v.span(),
+                key,
+                format!(
+                    "expected a duration such as \"1s\" or a number of seconds, got {}",
+                    type_name(v.get_ref())
+                ),
+            );
+        };
+        let d = duration_with_fs(&text).or_else(|e| self.err(v.span(), key, e))?;
+        if positive && d <= 0.0 {
+            return self.err(
+                v.span(),
+                key,
+                format!("expected a positive duration, got '{text}'"),
+            );
+        }
+        Ok(d)
+    }
+    fn frequency(&self, v: &Spanned<toml::Value>, key: &str) -> Result<f64, ReadError> {
+        let Some(text) = value_text(v.get_ref()) else {
+            return self.err(
+                v.span(),
+                key,
+                format!(
+                    "expected a frequency such as \"10MHz\" or a number of hertz, got {}",
+                    type_name(v.get_ref())
+                ),
+            );
+        };
+        let f = units::parse_frequency(&text).or_else(|e| self.err(v.span(), key, e))?;
+        if f <= 0.0 {
+            return self.err(
+                v.span(),
+                key,
+                format!("expected a positive frequency, got '{text}'"),
+            );
+        }
+        Ok(f)
+    }
+    fn column(&self, v: &Option<Spanned<i64>>, key: &str) -> Result<Option<usize>, ReadError> {
+        match v {
+            None => Ok(None),
+            Some(c) if *c.get_ref() >= 1 => Ok(Some(*c.get_ref() as usize)),
+            Some(c) => self.err(
+                c.span(),
+                key,
+                format!("expected a column number from 1, got {}", c.get_ref()),
+            ),
+        }
+    }
+}
+
+fn file_stem(p: &Path) -> String {
+    p.file_name()
+        .map(|n| n.to_string_lossy().into_owned())
+        .unwrap_or_default()
+}
+
+/// Parse `highpass:ORDER:FC` or `lowpass:ORDER:FC` (Butterworth magnitude).
+pub fn parse_filter(text: &str) -> Result<WeightingFilter, String> {
+    let parts: Vec<&str> = text.trim().split(':').collect();
+    let expected = "expected highpass:ORDER:FC or lowpass:ORDER:FC (e.g. highpass:1:12k)";
+    if parts.len() != 3 {
+        return Err(format!("filter '{text}': {expected}"));
+    }
+    let highpass = match parts[0].to_ascii_lowercase().as_str() {
+        "highpass" | "hp" => true,
+        "lowpass" | "lp" => false,
+        _ => return Err(format!("filter '{text}': {expected}")),
+    };
+    let order: u32 = parts[1]
+        .parse()
+        .ok()
+        .filter(|o| (1..=8).contains(o))
+        .ok_or_else(|| format!("filter '{text}': the order must be 1 … 8"))?;
+    let corner = units::parse_frequency(parts[2]).map_err(|e| format!("filter '{text}': {e}"))?;
+    if corner <= 0.0 {
+        return Err(format!(
+            "filter '{text}': the corner frequency must be positive"
+        ));
+    }
+    Ok(WeightingFilter {
+        highpass,
+        order,
+        corner,
+    })
+}
+
+/// Parse an aging rate such as `5e-11/day`, `1e-10/d`, `2e-16/s` or a plain
+/// number (per second). Returns fractional frequency per second.
+pub fn parse_aging(text: &str) -> Result<f64, String> {
+    let t = text.trim();
+    let (num, per) = match t.split_once('/') {
+        Some((n, p)) => (n.trim(), p.trim()),
+        None => (t, "s"),
+    };
+    let v: f64 = num.parse().map_err(|_| {
+        format!("'{text}' is not an aging rate: expected e.g. 5e-11/day or 2e-16/s")
+    })?;
+    let div = match per {
+        "s" => 1.0,
+        "h" => 3600.0,
+        "d" | "day" => 86400.0,
+        "week" => 7.0 * 86400.0,
+        "month" => 30.0 * 86400.0,
+        "year" | "yr" => 365.25 * 86400.0,
+        _ => {
+            return Err(format!(
+                "'{text}': aging unit must be /s, /h, /day, /week, /month or /year"
+            ))
+        }
+    };
+    if !v.is_finite() {
+        return Err(format!("'{text}' is not a finite aging rate"));
+    }
+    Ok(v / div)
+}
+
+impl Dut {
+    /// Read and check a DUT file.
+    pub fn read(path: &Path) -> Result<Dut, ReadError> {
+        let bytes = std::fs::read(path)
+            .map_err(|e| ReadError::file(path, format!("cannot read the DUT file: {e}")))?;
+        let text = String::from_utf8(bytes).map_err(|e| {
+            ReadError::file(
+                path,
+                format!(
+                    "the DUT file is not UTF-8 text (byte {})",
+                    e.utf8_error().valid_up_to()
+                ),
+            )
+        })?;
+        let dir = path.parent().map(Path::to_path_buf).unwrap_or_default();
+        Self::parse(&text, path, &dir)
+    }
+
+    /// Parse DUT text; `file` names it in errors and `dir` resolves its paths.
+    pub fn parse(text: &str, file: &Path, dir: &Path) -> Result<Dut, ReadError> {
+        let cx = Ctx {
+            file,
+            src: text,
+            dir: if dir.as_os_str().is_empty() {
+                PathBuf::from(".")
+            } else {
+                dir.to_path_buf()
+            },
+        };
+        let raw: RawDut = toml::from_str(text).map_err(|e| {
+            let span = e.span().unwrap_or(0..0);
+            let key = key_at(text, span.start);
+            let msg = e.message().to_string();
+            let what = match key {
+                Some(k) if !msg.contains(&k) => format!("{k}: {msg}"),
+                _ => msg,
+            };
+            match e.span() {
+                Some(s) => ReadError::at(file, cx.line_of(s.start), what),
+                None => ReadError::file(file, what),
+            }
+        })?;
+
+        let name = raw.device.name.get_ref().trim().to_string();
+        if name.is_empty() {
+            return cx.err(
+                raw.device.name.span(),
+                "device.name",
+                "expected a non-empty device name",
+            );
+        }
+        let carrier = match &raw.device.carrier {
+            Some(c) => Some(cx.frequency(c, "device.carrier")?),
+            None => None,
+        };
+
+        let series = |list: &[RawSeries],
+                      what: &str,
+                      tie: bool|
+         -> Result<Vec<TimeSource>, ReadError> {
+            let mut out = Vec::new();
+            for (i, r) in list.iter().enumerate() {
+                let k = |f: &str| format!("{what}[{}].{f}", i + 1);
+                let path = cx.file_path(&r.path, &k("path"))?;
+                let data = match &r.data {
+                    None => DataKind::Phase,
+                    Some(d) => match d.get_ref().as_str() {
+                        "phase" => DataKind::Phase,
+                        "freq" | "frequency" if !tie => DataKind::Freq,
+                        "freq" | "frequency" => {
+                            return cx.err(
+                                d.span(),
+                                &k("data"),
+                                "a TIE capture holds phase (time error); expected 'phase'",
+                            )
+                        }
+                        other => {
+                            return cx.err(
+                                d.span(),
+                                &k("data"),
+                                format!("expected 'phase' or 'freq', got '{other}'"),
+                            )
+                        }
+                    },
+                };
+                let tau0 = match &r.tau0 {
+                    Some(t) => Some(cx.duration(t, &k("tau0"), true)?),
+                    None => None,
+                };
+                let units_ = match &r.units {
+                    None => None,
+                    Some(u) => {
+                        let vu = units::parse_value_unit(u.get_ref())
+                            .or_else(|e| cx.err(u.span(), &k("units"), e))?;
+                        let fits = matches!(
+                            (vu, data),
+                            (ValueUnit::Phase(_), DataKind::Phase)
+                                | (ValueUnit::Freq(_), DataKind::Freq)
+                        );
+                        if !fits {
+                            return cx.err(
+                                u.span(),
+                                &k("units"),
+                                format!("'{}' is not a unit of {} data", u.get_ref(), data.name()),
+                            );
+                        }
+                        if matches!(vu, ValueUnit::Freq(units::FreqUnit::Hz)) && carrier.is_none() {
+                            return cx.err(
+                                u.span(),
+                                &k("units"),
+                                "units 'hz' need device.carrier to convert to fractional frequency",
+                            );
+                        }
+                        Some(vu)
+                    }
+                };
+                let name = match &r.name {
+                    Some(n) if !n.get_ref().trim().is_empty() => n.get_ref().trim().to_string(),
+                    Some(n) => return cx.err(n.span(), &k("name"), "expected a non-empty name"),
+                    None => file_stem(&path),
+                };
+                out.push(TimeSource {
+                    name,
+                    path,
+                    data,
+                    tau0,
+                    units: units_,
+                    value_column: cx.column(&r.value_column, &k("value_column"))?,
+                    time_column: cx.column(&r.time_column, &k("time_column"))?,
+                });
+            }
+            Ok(out)
+        };
+        let records = series(&raw.record, "record", false)?;
+        let tie = series(&raw.tie, "tie", true)?;
+
+        let mut phase_noise = Vec::new();
+        for (i, t) in raw.phase_noise.iter().enumerate() {
+            let k = |f: &str| format!("phase_noise[{}].{f}", i + 1);
+            let path = cx.file_path(&t.path, &k("path"))?;
+            let quantity = match &t.quantity {
+                None => LfQuantity::Lf,
+                Some(q) => match q.get_ref().as_str() {
+                    "lf" => LfQuantity::Lf,
+                    "sphi" => LfQuantity::Sphi,
+                    "sphi-db" => LfQuantity::SphiDb,
+                    "sy" => LfQuantity::Sy,
+                    other => {
+                        return cx.err(
+                            q.span(),
+                            &k("quantity"),
+                            format!("expected one of lf, sphi, sphi-db, sy, got '{other}'"),
+                        )
+                    }
+                },
+            };
+            let c = match &t.carrier {
+                Some(c) => cx.frequency(c, &k("carrier"))?,
+                None => match carrier {
+                    Some(c) => c,
+                    None => {
+                        return cx.err(
+                            t.path.span(),
+                            &k("carrier"),
+                            "a phase-noise table needs a carrier: set device.carrier or this table's carrier",
+                        )
+                    }
+                },
+            };
+            phase_noise.push(LfSource {
+                name: t
+                    .name
+                    .as_ref()
+                    .map(|n| n.get_ref().trim().to_string())
+                    .unwrap_or_else(|| file_stem(&path)),
+                path,
+                quantity,
+                carrier: c,
+            });
+        }
+
+        let mut jitter = Vec::new();
+        for (i, j) in raw.jitter.iter().enumerate() {
+            let k = |f: &str| format!("jitter[{}].{f}", i + 1);
+            let band = j.band.get_ref();
+            let (a, b) = band
+                .split_once(':')
+                .map(|(a, b)| (a.trim(), b.trim()))
+                .ok_or(())
+                .or_else(|_| {
+                    cx.err(
+                        j.band.span(),
+                        &k("band"),
+                        format!("'{band}' is not a band: expected FROM:TO such as \"12k:20M\""),
+                    )
+                })?;
+            let from =
+                units::parse_frequency(a).or_else(|e| cx.err(j.band.span(), &k("band"), e))?;
+            let to = units::parse_frequency(b).or_else(|e| cx.err(j.band.span(), &k("band"), e))?;
+            if !(from > 0.0 && to > from) {
+                return cx.err(
+                    j.band.span(),
+                    &k("band"),
+                    format!("'{band}': expected 0 < FROM < TO"),
+                );
+            }
+            if phase_noise.is_empty() && records.is_empty() {
+                return cx.err(
+                    j.band.span(),
+                    &k("band"),
+                    "a jitter band needs a [[phase_noise]] table or a [[record]]",
+                );
+            }
+            let mut filters = Vec::new();
+            for f in &j.filters {
+                filters.push(
+                    parse_filter(f.get_ref()).or_else(|e| cx.err(f.span(), &k("filters"), e))?,
+                );
+            }
+            let filter_file = match &j.filter_file {
+                Some(p) => Some(cx.file_path(p, &k("filter_file"))?),
+                None => None,
+            };
+            let limit = match &j.limit {
+                Some(l) => Some(cx.duration(l, &k("limit"), true)?),
+                None => None,
+            };
+            let ui_rate = match &j.ui_rate {
+                Some(r) => Some(cx.frequency(r, &k("ui_rate"))?),
+                None => None,
+            };
+            let source = match &j.source {
+                Some(s) => {
+                    let n = s.get_ref().trim();
+                    if !phase_noise.iter().any(|t| t.name == n) {
+                        let known: Vec<&str> =
+                            phase_noise.iter().map(|t| t.name.as_str()).collect();
+                        return cx.err(
+                            s.span(),
+                            &k("source"),
+                            format!(
+                                "no [[phase_noise]] table is named '{n}' (known: {})",
+                                known.join(", ")
+                            ),
+                        );
+                    }
+                    Some(n.to_string())
+                }
+                None => None,
+            };
+            jitter.push(JitterSpec {
+                name: j
+                    .name
+                    .as_ref()
+                    .map(|n| n.get_ref().trim().to_string())
+                    .unwrap_or_else(|| band.clone()),
+                from,
+                to,
+                filters,
+                filter_file,
+                limit,
+                ui_rate,
+                source,
+            });
+        }
+
+        let wander = match &raw.wander {
+            None => None,
+            Some(w) => {
+                if w.masks.is_empty() && w.mask_files.is_empty() {
+                    return Err(ReadError::file(
+                        file,
+                        "wander: expected at least one of masks or mask_files",
+                    ));
+                }
+                if tie.is_empty() && records.is_empty() {
+                    return Err(ReadError::file(
+                        file,
+                        "wander: needs a [[tie]] capture or a [[record]]",
+                    ));
+                }
+                let mut files = Vec::new();
+                for (i, p) in w.mask_files.iter().enumerate() {
+                    files.push(cx.file_path(p, &format!("wander.mask_files[{}]", i + 1))?);
+                }
+                let source = match &w.source {
+                    Some(s) => {
+                        let n = s.get_ref().trim();
+                        if !tie.iter().chain(&records).any(|r| r.name == n) {
+                            return cx.err(
+                                s.span(),
+                                "wander.source",
+                                format!("no [[tie]] or [[record]] is named '{n}'"),
+                            );
+                        }
+                        Some(n.to_string())
+                    }
+                    None => None,
+                };
+                for m in &w.masks {
+                    if m.get_ref().trim().is_empty() {
+                        return cx.err(
+                            m.span(),
+                            "wander.masks",
+                            "expected a mask name, got an empty string",
+                        );
+                    }
+                }
+                Some(WanderSpec {
+                    masks: w
+                        .masks
+                        .iter()
+                        .map(|m| m.get_ref().trim().to_string())
+                        .collect(),
+                    mask_files: files,
+                    source,
+                    remove_offset: w.remove_offset.unwrap_or(false),
+                })
+            }
+        };
+
+        let holdover = match &raw.holdover {
+            None => None,
+            Some(h) => {
+                if records.is_empty() {
+                    return cx.err(
+                        h.budget.span(),
+                        "holdover",
+                        "needs a [[record]] to predict from",
+                    );
+                }
+                let budget = cx.duration(&h.budget, "holdover.budget", true)?;
+                if h.spans.get_ref().is_empty() {
+                    return cx.err(
+                        h.spans.span(),
+                        "holdover.spans",
+                        "expected at least one span, e.g. [\"8h\", \"24h\"]",
+                    );
+                }
+                let mut spans = Vec::new();
+                for (i, s) in h.spans.get_ref().iter().enumerate() {
+                    spans.push(cx.duration(s, &format!("holdover.spans[{}]", i + 1), true)?);
+                }
+                let record = match &h.record {
+                    Some(s) => {
+                        let n = s.get_ref().trim();
+                        if !records.iter().any(|r| r.name == n) {
+                            return cx.err(
+                                s.span(),
+                                "holdover.record",
+                                format!("no [[record]] is named '{n}'"),
+                            );
+                        }
+                        Some(n.to_string())
+                    }
+                    None => None,
+                };
+                let aging = match &h.aging {
+                    None => None,
+                    Some(a) => match value_text(a.get_ref()) {
+                        Some(t) => Some(
+                            parse_aging(&t).or_else(|e| cx.err(a.span(), "holdover.aging", e))?,
+                        ),
+                        None => {
+                            return cx.err(
+                                a.span(),
+                                "holdover.aging",
+                                format!(
+                                    "expected an aging rate such as \"5e-11/day\", got {}",
+                                    type_name(a.get_ref())
+                                ),
+                            )
+                        }
+                    },
+                };
+                let te0 = match &h.te0 {
+                    Some(t) => Some(cx.duration(t, "holdover.te0", false)?),
+                    None => None,
+                };
+                let settle = match &h.settle {
+                    Some(t) => Some(cx.duration(t, "holdover.settle", true)?),
+                    None => None,
+                };
+                let paths = match &h.paths {
+                    None => None,
+                    Some(p) if *p.get_ref() >= 10 => Some(*p.get_ref() as usize),
+                    Some(p) => {
+                        return cx.err(
+                            p.span(),
+                            "holdover.paths",
+                            format!("expected at least 10 paths, got {}", p.get_ref()),
+                        )
+                    }
+                };
+                Some(HoldoverSpec {
+                    budget,
+                    spans,
+                    record,
+                    aging,
+                    te0,
+                    settle,
+                    paths,
+                    seed: h.seed,
+                })
+            }
+        };
+
+        Ok(Dut {
+            file: file.to_path_buf(),
+            name,
+            description: raw.device.description.map(|d| d.trim().to_string()),
+            carrier,
+            records,
+            phase_noise,
+            tie,
+            jitter,
+            wander,
+            holdover,
+        })
+    }
+}
+
+/// The dotted key at a byte offset of TOML text (`record[2].tau0`), found
+/// from the nearest table header above and the key on the offset's line.
+fn key_at(src: &str, offset: usize) -> Option<String> {
+    let offset = offset.min(src.len());
+    let line_start = src[..offset].rfind('\n').map_or(0, |i| i + 1);
+    let line_end = src[offset..].find('\n').map_or(src.len(), |i| offset + i);
+    let line = src[line_start..line_end].trim();
+    let key = line
+        .split_once('=')
+        .map(|(k, _)| k.trim().trim_matches('"').to_string())
+        .filter(|k| !k.is_empty() && !k.starts_with('['));
+    // Nearest header above, and its index for arrays of tables.
+    let mut header: Option<(String, usize)> = None;
+    let mut counts: std::collections::HashMap<String, usize> = std::collections::HashMap::new();
+    for l in src[..line_start].lines() {
+        let t = l.trim();
+        if let Some(h) = t
+            .strip_prefix("[[")
+            .and_then(|r| r.split_once("]]"))
+            .map(|(h, _)| h.trim().to_string())
+        {
+            let c = counts.entry(h.clone()).or_insert(0);
+            *c += 1;
+            header = Some((format!("{h}[{c}]"), 0));
+        } else if let Some(h) = t
+            .strip_prefix('[')
+            .and_then(|r| r.split_once(']'))
+            .map(|(h, _)| h.trim().to_string())
+        {
+            header = Some((h, 0));
+        }
+    }
+    match (header, key) {
+        (Some((h, _)), Some(k)) => Some(format!("{h}.{k}")),
+        (None, Some(k)) => Some(k),
+        (Some((h, _)), None) => Some(h),
+        (None, None) => None,
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn normalize_folds_parent_dirs() {
+        assert_eq!(
+            normalize(Path::new("/a/b/../c/./d.csv")),
+            PathBuf::from("/a/c/d.csv")
+        );
+        assert_eq!(normalize(Path::new("a/../../x")), PathBuf::from("../x"));
+        assert_eq!(normalize(Path::new("/../x")), PathBuf::from("/x"));
+    }
+
+    #[test]
+    fn filters_and_aging() {
+        let f = parse_filter("highpass:2:12k").unwrap();
+        assert!(f.highpass && f.order == 2 && f.corner == 12e3);
+        assert!(parse_filter("bandpass:1:1k").is_err());
+        assert!(parse_filter("lowpass:0:1k").is_err());
+        assert!((parse_aging("1e-10/day").unwrap() - 1e-10 / 86400.0).abs() < 1e-30);
+        assert_eq!(parse_aging("2e-16").unwrap(), 2e-16);
+        assert!(parse_aging("fast").is_err());
+        assert!(parse_aging("1e-10/fortnight").is_err());
+    }
+
+    #[test]
+    fn key_at_names_array_entries() {
+        let src = "[device]\nname = \"x\"\n[[record]]\npath = \"a\"\n[[record]]\npath = \"b\"\ntau0 = []\n";
+        let off = src.find("tau0").unwrap() + 7;
+        assert_eq!(key_at(src, off).as_deref(), Some("record[2].tau0"));
+        assert_eq!(key_at(src, 12).as_deref(), Some("device.name"));
+    }
+
+    #[test]
+    fn femtoseconds() {
+        assert!((duration_with_fs("150fs").unwrap() - 150e-15).abs() < 1e-27);
+        assert_eq!(duration_with_fs("1ps").unwrap(), 1e-12);
+    }
+}

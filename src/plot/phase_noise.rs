@@ -1,0 +1,141 @@
+//! The phase-noise chart: L(f) in dBc/Hz against offset frequency on a log
+//! axis — the measured table, the power-law model, the spectrum of a time
+//! record — with each integration band shaded and labelled.
+
+use super::{Axis, Chart, Colour, Line, Marker, Series, Span, Style, XY};
+
+/// Where an L(f) trace comes from; decides its look.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum TraceKind {
+    /// A measured table (solid, small markers).
+    Table,
+    /// A power-law model (dashed).
+    Model,
+    /// The PSD of a time record (thin solid).
+    RecordSpectrum,
+}
+
+/// One L(f) trace.
+#[derive(Debug, Clone, PartialEq)]
+pub struct LfTrace {
+    /// Legend text.
+    pub name: String,
+    /// What it is.
+    pub kind: TraceKind,
+    /// (offset f in Hz, L(f) in dBc/Hz).
+    pub points: Vec<(f64, f64)>,
+}
+
+/// An integration band to shade.
+#[derive(Debug, Clone, PartialEq)]
+pub struct BandMark {
+    /// Lower offset (Hz).
+    pub from: f64,
+    /// Upper offset (Hz).
+    pub to: f64,
+    /// Label in the strip (e.g. the band and its rms jitter).
+    pub label: String,
+}
+
+/// Everything the phase-noise chart shows.
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct PhaseNoisePlot {
+    /// Title (device or file name).
+    pub title: String,
+    /// Carrier ν0 in Hz, for the subtitle.
+    pub carrier: Option<f64>,
+    /// Traces.
+    pub traces: Vec<LfTrace>,
+    /// Integration bands.
+    pub bands: Vec<BandMark>,
+    /// Footnotes.
+    pub notes: Vec<String>,
+}
+
+impl PhaseNoisePlot {
+    /// Build the chart.
+    pub fn chart(&self) -> Chart {
+        let mut ch = Chart::new(
+            &self.title,
+            Axis::log_si("offset frequency", "Hz"),
+            Axis::linear_plain("single-sideband phase noise L(f)", "dBc/Hz"),
+        );
+        ch.subtitle = match self.carrier {
+            Some(c) => format!(
+                "carrier {} · L(f) = S_φ(f)/2 (IEEE Std 1139)",
+                crate::units::format_si(c, "Hz", 4)
+            ),
+            None => "L(f) = S_φ(f)/2 (IEEE Std 1139)".into(),
+        };
+        for (i, t) in self.traces.iter().enumerate() {
+            let style = match t.kind {
+                TraceKind::Table => Style {
+                    colour: Colour::Palette(i),
+                    line: Line::Solid,
+                    width: 2.0,
+                    marker: if t.points.len() <= 80 {
+                        Marker::Dot
+                    } else {
+                        Marker::None
+                    },
+                },
+                TraceKind::Model => Style::line(Colour::Palette(i), Line::Dashed),
+                TraceKind::RecordSpectrum => Style {
+                    colour: Colour::Palette(i),
+                    line: Line::Solid,
+                    width: 1.2,
+                    marker: Marker::None,
+                },
+            };
+            ch.series.push(Series {
+                name: t.name.clone(),
+                points: t.points.iter().map(|&(f, l)| XY::new(f, l)).collect(),
+                style,
+            });
+        }
+        for (i, b) in self.bands.iter().enumerate() {
+            ch.spans.push(Span {
+                label: b.label.clone(),
+                from: b.from,
+                to: b.to,
+                shade: true,
+                colour: Colour::Palette(self.traces.len() + i),
+                legend: Some(format!(
+                    "band {} – {}",
+                    super::scale::si_compact(b.from, "Hz"),
+                    super::scale::si_compact(b.to, "Hz")
+                )),
+            });
+        }
+        ch.notes.extend(self.notes.iter().cloned());
+        ch
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn bands_are_shaded_spans_in_the_legend() {
+        let p = PhaseNoisePlot {
+            title: "x".into(),
+            carrier: Some(10e6),
+            traces: vec![LfTrace {
+                name: "table".into(),
+                kind: TraceKind::Table,
+                points: vec![(1.0, -90.0), (1e6, -155.0)],
+            }],
+            bands: vec![BandMark {
+                from: 12e3,
+                to: 5e6,
+                label: "12k–5M".into(),
+            }],
+            notes: vec![],
+        };
+        let ch = p.chart();
+        assert!(ch.spans[0].shade);
+        assert_eq!(ch.spans[0].legend.as_deref(), Some("band 12 kHz – 5 MHz"));
+        assert!(ch.subtitle.contains("10.00 MHz"));
+    }
+}

@@ -1,0 +1,305 @@
+//! The σ–τ chart: one series per estimator on log–log axes with decade
+//! gridlines and confidence-interval bars, the noise type of each τ region in
+//! the strip above, curves converted from phase noise (`…-from-lf`) dashed.
+
+use super::{Axis, Chart, Colour, Line, Marker, Series, Span, Style, XY};
+use crate::deviation::Curve;
+
+/// One curve for the σ–τ chart.
+#[derive(Debug, Clone, PartialEq)]
+pub struct SigmaCurve {
+    /// Estimator name as shown in the legend (`oadev`, `oadev-from-lf`, …).
+    pub name: String,
+    /// (τ, deviation, lo, hi).
+    pub points: Vec<XY>,
+    /// A curve derived from another domain (phase noise, a model): dashed, no markers.
+    pub derived: bool,
+    /// A time deviation (seconds), not a fractional-frequency deviation.
+    pub time_deviation: bool,
+}
+
+/// Names of the estimators whose values are times (s) rather than σ_y.
+/// (NIST SP 1065: TDEV and TTOT; ITU-T G.810: MTIE and TIE rms.)
+pub fn is_time_deviation(name: &str) -> bool {
+    let base = name.strip_suffix("-from-lf").unwrap_or(name);
+    matches!(base, "tdev" | "ttot" | "mtie" | "tierms")
+}
+
+impl SigmaCurve {
+    /// From an estimator's [`Curve`]; intervals come along when present.
+    pub fn from_curve(c: &Curve) -> Self {
+        Self {
+            name: c.estimator.clone(),
+            points: c
+                .points
+                .iter()
+                .map(|p| XY::with_interval(p.estimate.tau, p.estimate.value, p.lo, p.hi))
+                .collect(),
+            derived: c.estimator.ends_with("-from-lf") || c.estimator.ends_with("-from-model"),
+            time_deviation: is_time_deviation(&c.estimator),
+        }
+    }
+}
+
+/// A τ range labelled with its noise type.
+#[derive(Debug, Clone, PartialEq)]
+pub struct NoiseRegion {
+    /// Start of the region (s).
+    pub from: f64,
+    /// End of the region (s).
+    pub to: f64,
+    /// Label (`WFM`, `FFM`, …).
+    pub label: String,
+}
+
+/// Group consecutive points of a curve that share a noise type into regions.
+/// The boundary between two points of different type is put at their
+/// geometric mean τ; the first and last regions extend half a step beyond
+/// the end points (in log τ).
+pub fn regions_from_curve(c: &Curve) -> Vec<NoiseRegion> {
+    let pts: Vec<(f64, &'static str)> = c
+        .points
+        .iter()
+        .filter_map(|p| p.noise().map(|n| (p.estimate.tau, n)))
+        .filter(|(t, _)| *t > 0.0)
+        .collect();
+    let mut out: Vec<NoiseRegion> = Vec::new();
+    if pts.is_empty() {
+        return out;
+    }
+    let half_step = if pts.len() > 1 {
+        (pts[1].0 / pts[0].0).sqrt()
+    } else {
+        2f64.sqrt()
+    };
+    let mut start = pts[0].0 / half_step;
+    for i in 0..pts.len() {
+        let last = i + 1 == pts.len();
+        if last || pts[i + 1].1 != pts[i].1 {
+            let end = if last {
+                let hs = if i > 0 {
+                    (pts[i].0 / pts[i - 1].0).sqrt()
+                } else {
+                    half_step
+                };
+                pts[i].0 * hs
+            } else {
+                (pts[i].0 * pts[i + 1].0).sqrt()
+            };
+            out.push(NoiseRegion {
+                from: start,
+                to: end,
+                label: pts[i].1.to_string(),
+            });
+            start = end;
+        }
+    }
+    out
+}
+
+/// Everything the σ–τ chart shows.
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct StabilityPlot {
+    /// Title (device or file name).
+    pub title: String,
+    /// The curves.
+    pub curves: Vec<SigmaCurve>,
+    /// Noise-type regions for the strip.
+    pub regions: Vec<NoiseRegion>,
+    /// Confidence level of the interval bars, for the subtitle.
+    pub confidence: Option<f64>,
+    /// Footnotes.
+    pub notes: Vec<String>,
+}
+
+const MARKERS: [Marker; 4] = [
+    Marker::Dot,
+    Marker::Square,
+    Marker::Triangle,
+    Marker::Diamond,
+];
+
+impl StabilityPlot {
+    /// Build the chart. Fractional-frequency deviations (σ_y) and time
+    /// deviations (s) need different axes: when both are present the chart
+    /// shows the σ_y curves and says in a note that the time deviations are
+    /// drawn on their own chart ([`StabilityPlot::time_chart`]).
+    pub fn chart(&self) -> Chart {
+        let any_freq = self.curves.iter().any(|c| !c.time_deviation);
+        if any_freq {
+            let mut ch = self.build(false);
+            if self.curves.iter().any(|c| c.time_deviation) {
+                ch.notes.insert(
+                    0,
+                    "Time deviations (tdev, ttot, mtie, tierms) are in seconds and are drawn on their own chart."
+                        .into(),
+                );
+            }
+            ch
+        } else {
+            self.build(true)
+        }
+    }
+
+    /// The chart of the time deviations only (None when there are none).
+    pub fn time_chart(&self) -> Option<Chart> {
+        self.curves
+            .iter()
+            .any(|c| c.time_deviation)
+            .then(|| self.build(true))
+    }
+
+    fn build(&self, time: bool) -> Chart {
+        let y = if time {
+            Axis::log_si("time deviation", "s")
+        } else {
+            Axis::log_plain("fractional frequency deviation σ(τ)", "")
+        };
+        let mut ch = Chart::new(&self.title, Axis::log_si("averaging time τ", "s"), y);
+        let names: Vec<&str> = self
+            .curves
+            .iter()
+            .filter(|c| c.time_deviation == time)
+            .map(|c| c.name.as_str())
+            .collect();
+        ch.subtitle = match self.confidence {
+            Some(p) => format!(
+                "{} · bars: {:.1} % confidence intervals",
+                names.join(", "),
+                p * 100.0
+            ),
+            None => names.join(", "),
+        };
+        let mut colour_of: Vec<(String, usize)> = Vec::new();
+        for c in self.curves.iter().filter(|c| c.time_deviation == time) {
+            // A derived curve takes the colour of the curve it derives from.
+            let base = c
+                .name
+                .strip_suffix("-from-lf")
+                .or_else(|| c.name.strip_suffix("-from-model"))
+                .unwrap_or(&c.name)
+                .to_string();
+            let idx = match colour_of.iter().find(|(n, _)| *n == base) {
+                Some((_, i)) if c.derived => *i,
+                _ => {
+                    let i = colour_of.len();
+                    colour_of.push((base, i));
+                    i
+                }
+            };
+            let style = if c.derived {
+                Style::line(Colour::Palette(idx), Line::Dashed)
+            } else {
+                Style {
+                    colour: Colour::Palette(idx),
+                    line: Line::Solid,
+                    width: 1.8,
+                    marker: MARKERS[idx % MARKERS.len()],
+                }
+            };
+            ch.series.push(Series {
+                name: c.name.clone(),
+                points: c.points.clone(),
+                style,
+            });
+        }
+        for r in &self.regions {
+            ch.spans.push(Span {
+                label: r.label.clone(),
+                from: r.from,
+                to: r.to,
+                shade: false,
+                colour: Colour::Muted,
+                legend: None,
+            });
+        }
+        if !self.regions.is_empty() {
+            ch.notes
+                .push("Strip above the plot: noise type identified at each τ.".into());
+        }
+        ch.notes.extend(self.notes.iter().cloned());
+        ch
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::deviation::{Estimate, Point};
+
+    fn curve(alphas: &[Option<i32>]) -> Curve {
+        Curve {
+            estimator: "oadev".into(),
+            points: alphas
+                .iter()
+                .enumerate()
+                .map(|(i, a)| {
+                    let tau = 2f64.powi(i as i32);
+                    let mut p = Point::bare(Estimate {
+                        tau,
+                        m: 1 << i,
+                        value: 1e-11,
+                        terms: 10,
+                    });
+                    p.alpha = *a;
+                    p
+                })
+                .collect(),
+        }
+    }
+
+    #[test]
+    fn regions_group_runs_of_one_type() {
+        let c = curve(&[Some(2), Some(2), Some(0), Some(0), Some(0), Some(-2)]);
+        let r = regions_from_curve(&c);
+        let labels: Vec<&str> = r.iter().map(|x| x.label.as_str()).collect();
+        assert_eq!(labels, ["WPM", "WFM", "RWFM"]);
+        // Boundary between τ = 2 and τ = 4 is at their geometric mean.
+        assert!((r[0].to - 8f64.sqrt()).abs() < 1e-12);
+        assert_eq!(r[0].to, r[1].from);
+        assert!((r[0].from - 1.0 / 2f64.sqrt()).abs() < 1e-12);
+        assert!((r[2].to - 32.0 * 2f64.sqrt()).abs() < 1e-9);
+    }
+
+    #[test]
+    fn regions_skip_unidentified_points() {
+        assert!(regions_from_curve(&curve(&[None, None])).is_empty());
+        let r = regions_from_curve(&curve(&[None, Some(-1), None]));
+        assert_eq!(r.len(), 1);
+        assert_eq!(r[0].label, "FFM");
+    }
+
+    #[test]
+    fn derived_curves_are_dashed_in_the_parent_colour() {
+        let mut a = SigmaCurve::from_curve(&curve(&[Some(0)]));
+        a.name = "oadev".into();
+        let mut b = a.clone();
+        b.name = "oadev-from-lf".into();
+        b.derived = true;
+        let p = StabilityPlot {
+            title: "t".into(),
+            curves: vec![a, b],
+            ..Default::default()
+        };
+        let ch = p.chart();
+        assert_eq!(ch.series[1].style.line, Line::Dashed);
+        assert_eq!(ch.series[0].style.colour, ch.series[1].style.colour);
+    }
+
+    #[test]
+    fn time_deviations_go_to_their_own_chart() {
+        let a = SigmaCurve::from_curve(&curve(&[Some(0)]));
+        let mut t = SigmaCurve::from_curve(&curve(&[Some(0)]));
+        t.name = "tdev".into();
+        t.time_deviation = true;
+        let p = StabilityPlot {
+            title: "t".into(),
+            curves: vec![a, t],
+            ..Default::default()
+        };
+        assert_eq!(p.chart().series.len(), 1);
+        assert_eq!(p.time_chart().unwrap().series[0].name, "tdev");
+        assert!(is_time_deviation("tdev-from-lf"));
+        assert!(!is_time_deviation("oadev"));
+    }
+}

@@ -1,0 +1,337 @@
+//! Decision sections: wander against masks (the `wander` command's library
+//! path) and holdover against the budget (the `holdover` command's, run
+//! once per span so each verdict equals `tauwise holdover --span …`).
+
+use super::{method, Loaded};
+use crate::holdover::{model_from_record, predict, FromRecord, Settings, Verdict as HVerdict};
+use crate::io::dut::Dut;
+use crate::plot::holdover::HoldoverPlot;
+use crate::plot::wander::{MaskLine, Metric as PlotMetric, WanderPlot};
+use crate::report::*;
+use crate::tau::TauGrid;
+use crate::units::format_si;
+use crate::wander::check::Verdict as WVerdict;
+use crate::wander::mask_file::read_mask_file;
+use crate::wander::masks::{builtin, Metric, CONDITIONS_NOTE, FROM_MEMORY_NOTE};
+
+/// Log-spaced samples of a mask's limit over the τ it covers (clipped to
+/// `lo … hi`), plus its breakpoints, so steps and corners show.
+fn mask_points(m: &crate::wander::masks::Mask, lo: f64, hi: f64) -> Vec<(f64, f64)> {
+    let (a, b) = m.tau_range();
+    let (a, b) = (a.max(lo), b.min(hi));
+    if !(a > 0.0 && b > a) {
+        return Vec::new();
+    }
+    let mut taus: Vec<f64> = (0..=200)
+        .map(|i| a * (b / a).powf(i as f64 / 200.0))
+        .collect();
+    for bp in m.breakpoints() {
+        if bp > a && bp < b {
+            taus.push(bp);
+            taus.push(bp * (1.0 + 1e-9));
+        }
+    }
+    taus.sort_by(f64::total_cmp);
+    taus.iter()
+        .filter_map(|&t| m.limit(t).map(|l| (t, l)))
+        .collect()
+}
+
+/// The wander section and one verdict per mask.
+pub(super) fn wander(dut: &Dut, records: &[Loaded], ties: &[Loaded], r: &mut Report) -> Result<()> {
+    let Some(w) = &dut.wander else {
+        r.wander = Part::not_requested("the DUT file has no [wander] section.");
+        return Ok(());
+    };
+    let mut masks = Vec::new();
+    for name in &w.masks {
+        masks.extend(builtin(name)?);
+    }
+    for f in &w.mask_files {
+        masks.extend(read_mask_file(f)?);
+    }
+    let chosen = match &w.source {
+        Some(n) => ties.iter().chain(records).find(|l| &l.src.name == n),
+        None => ties.first().or(records.first()),
+    };
+    let Some(l) = chosen else {
+        r.wander = Part::not_computed("no TIE capture or record to analyse.");
+        return Ok(());
+    };
+    let rec = l.series.record.to_phase();
+    let n = rec.len();
+    // As `tauwise wander` without --taus: 10 per decade up to a tenth of the record.
+    let ms = TauGrid::PerDecade(10).ms(rec.tau0, n.saturating_sub(1) / 10)?;
+    let res = match crate::wander::analyse(&rec, &ms, w.remove_offset, &masks) {
+        Ok(x) => x,
+        Err(e) => {
+            r.wander = Part::not_computed(format!("{}: {e}", l.src.name));
+            for m in &masks {
+                r.verdicts.push(Verdict {
+                    kind: VerdictKind::Mask,
+                    item: format!("{} ({})", m.name, m.metric.name().to_uppercase()),
+                    criterion: "below the mask at every τ it covers".into(),
+                    result: format!("not computed: {e}"),
+                    pass: None,
+                });
+            }
+            return Ok(());
+        }
+    };
+    r.methods.push(method(
+        "TIE statistics, MTIE, TDEV",
+        "ITU-T G.810 definitions; TDEV as NIST SP 1065 §5.2.6",
+    ));
+    r.methods.push(method(
+        "mask checks",
+        "ITU-T G.811, G.8262, G.8272 masks (built-in values recalled from memory) or the user's mask files",
+    ));
+    let (tlo, thi) = res
+        .mtie
+        .iter()
+        .chain(&res.tdev)
+        .fold((f64::INFINITY, 0.0f64), |(a, b), e| {
+            (a.min(e.tau), b.max(e.tau))
+        });
+    let mut plots = Vec::new();
+    for (metric, pm, curve) in [
+        (Metric::Mtie, PlotMetric::Mtie, &res.mtie),
+        (Metric::Tdev, PlotMetric::Tdev, &res.tdev),
+    ] {
+        let mut lines = Vec::new();
+        for (m, c) in masks
+            .iter()
+            .zip(&res.checks)
+            .filter(|(m, _)| m.metric == metric)
+        {
+            lines.push(MaskLine {
+                name: m.name.clone(),
+                limit: mask_points(m, tlo, thi),
+                violations: c.violations.iter().map(|v| (v.tau, v.value)).collect(),
+            });
+        }
+        let mut notes = Vec::new();
+        if lines.is_empty() {
+            notes.push(format!("No {} mask was asked for.", pm.name()));
+        }
+        plots.push(WanderPlot {
+            title: format!("{} — {}", dut.name, l.src.name),
+            metric: pm,
+            measured: curve.iter().map(|e| (e.tau, e.value)).collect(),
+            masks: lines,
+            notes,
+        });
+    }
+    let mut rows = Vec::new();
+    for c in &res.checks {
+        let item = format!("{} ({})", c.name, c.metric.name().to_uppercase());
+        let pass = match c.verdict {
+            WVerdict::Pass => Some(true),
+            WVerdict::Fail => Some(false),
+            WVerdict::NotCovered => None,
+        };
+        let result = match (c.worst_ratio, c.worst_tau) {
+            (Some(ratio), Some(tau)) => format!(
+                "worst measured/limit {ratio:.3} ({:+.2} dB) at τ = {}; {} violating τ of {} checked",
+                c.worst_margin_db.unwrap_or(20.0 * ratio.log10()),
+                format_si(tau, "s", 4),
+                c.violations.len(),
+                c.checked
+            ),
+            _ => "not covered: no measured τ inside the mask's range".into(),
+        };
+        r.verdicts.push(Verdict {
+            kind: VerdictKind::Mask,
+            item,
+            criterion: "below the mask at every τ it covers".into(),
+            result,
+            pass,
+        });
+        if let (Some(ratio), Some(tau)) = (c.worst_ratio, c.worst_tau) {
+            rows.push(MaskRow {
+                name: c.name.clone(),
+                metric: c.metric.name().to_uppercase(),
+                pass: c.verdict == WVerdict::Pass,
+                worst_ratio: ratio,
+                worst_tau: tau,
+                violations: c.violations.len(),
+                source_note: c.source_note.clone(),
+            });
+        }
+    }
+    let mut notes = vec![CONDITIONS_NOTE.to_string()];
+    if !w.masks.is_empty() {
+        notes.push(format!("Built-in masks: {FROM_MEMORY_NOTE}."));
+    }
+    if let Some(y) = res.tie.offset_removed {
+        notes.push(format!(
+            "A constant frequency offset of {y:.4e} was removed first."
+        ));
+    }
+    r.cautions.push(CONDITIONS_NOTE.to_string());
+    r.wander = Part::Done(WanderSection {
+        source: l.src.name.clone(),
+        tie: Some(TieStats {
+            max_abs: res.tie.max_abs,
+            pk_pk: res.tie.pk_pk,
+            rms: res.tie.rms,
+        }),
+        plots,
+        masks: rows,
+        notes,
+    });
+    Ok(())
+}
+
+/// The holdover section and one verdict per span.
+pub(super) fn holdover(dut: &Dut, records: &[Loaded], r: &mut Report) -> Result<()> {
+    let Some(h) = &dut.holdover else {
+        r.holdover = Part::not_requested("the DUT file has no [holdover] section.");
+        return Ok(());
+    };
+    let chosen = match &h.record {
+        Some(n) => records.iter().find(|l| &l.src.name == n),
+        None => records.first(),
+    };
+    let Some(l) = chosen else {
+        r.holdover = Part::not_computed("no record to predict from.");
+        return Ok(());
+    };
+    let not_computed = |r: &mut Report, why: String| {
+        for &span in &h.spans {
+            r.verdicts.push(Verdict {
+                kind: VerdictKind::Holdover,
+                item: format!("{} span", format_si(span / 3600.0, "h", 3)),
+                criterion: format!("p95 of |TE| ≤ {}", format_si(h.budget, "s", 3)),
+                result: format!("not computed: {why}"),
+                pass: None,
+            });
+        }
+        r.holdover = Part::not_computed(why);
+    };
+    let opts = FromRecord {
+        te0: h.te0.unwrap_or(0.0),
+        settle: h.settle,
+        aging_given: h.aging,
+        ..FromRecord::default()
+    };
+    let model = match model_from_record(&l.series.record, &opts) {
+        Ok(m) => m,
+        Err(e) => {
+            not_computed(r, format!("{}: {e}", l.src.name));
+            return Ok(());
+        }
+    };
+    let mut spans = Vec::new();
+    let mut longest: Option<(f64, crate::holdover::Prediction)> = None;
+    let mut settings_used = None;
+    for &span in &h.spans {
+        let mut settings = Settings::new(span, h.budget);
+        if let Some(p) = h.paths {
+            settings.paths = p;
+        }
+        if let Some(s) = h.seed {
+            settings.seed = s;
+        }
+        let pred = match predict(&model, &settings) {
+            Ok(p) => p,
+            Err(e) => {
+                not_computed(r, e.to_string());
+                return Ok(());
+            }
+        };
+        let end = pred.te.last().copied();
+        let pass = pred.verdict == HVerdict::Pass;
+        r.verdicts.push(Verdict {
+            kind: VerdictKind::Holdover,
+            item: format!("{} span", format_si(span / 3600.0, "h", 3)),
+            criterion: format!("p95 of |TE| ≤ {}", format_si(h.budget, "s", 3)),
+            result: match (end, pred.holds_for) {
+                (Some(e), Some(hf)) => format!(
+                    "p95 reaches the budget after {}; {} at the span end",
+                    format_si(hf / 3600.0, "h", 3),
+                    format_si(e.p95, "s", 3)
+                ),
+                (Some(e), None) => format!("p95 {} at the span end", format_si(e.p95, "s", 3)),
+                _ => "no time points".into(),
+            },
+            pass: Some(pass),
+        });
+        if let Some(e) = end {
+            spans.push(SpanRow {
+                span,
+                deterministic: e.deterministic,
+                p95: e.p95,
+                p99: e.p99,
+                pass,
+            });
+        }
+        if !longest.as_ref().is_some_and(|(s, _)| span <= *s) {
+            longest = Some((span, pred));
+            settings_used = Some(settings);
+        }
+    }
+    let (Some((span, pred)), Some(settings)) = (longest, settings_used) else {
+        r.holdover = Part::not_computed("no span given.");
+        return Ok(());
+    };
+    r.methods.push(method(
+        "holdover time error",
+        "TE(t) = te0 + y0·t + aging term; random part by seeded Monte Carlo of the fitted power-law noise (Kasdin & Walter 1992); percentiles of |TE|",
+    ));
+    let parameters = vec![
+        (
+            "initial time error te0".to_string(),
+            format_si(model.te0, "s", 4),
+        ),
+        (
+            "initial frequency y0".to_string(),
+            format!("{:.4e} ± {:.2e}", model.y0, model.y0_sigma),
+        ),
+        (
+            format!("aging ({})", model.aging.model().name()),
+            format!(
+                "{:.4e} per day at the start{}",
+                model.aging.rate(model.start) * 86400.0,
+                if h.aging.is_some() {
+                    " (given)"
+                } else {
+                    " (fitted)"
+                }
+            ),
+        ),
+        ("noise model".to_string(), model.noise.to_model_string()),
+        (
+            "Monte Carlo".to_string(),
+            format!(
+                "{} paths, seed {}, step {}",
+                pred.paths,
+                settings.seed,
+                format_si(pred.step, "s", 4)
+            ),
+        ),
+    ];
+    let caution = crate::holdover::caution();
+    r.cautions.push(crate::holdover::HOLDOVER_NOTE.to_string());
+    r.holdover = Part::Done(HoldoverSection {
+        source: l.src.name.clone(),
+        budget: h.budget,
+        plot: HoldoverPlot {
+            title: format!("{} — holdover from {}", dut.name, l.src.name),
+            t: pred.te.iter().map(|p| p.t).collect(),
+            deterministic: pred.te.iter().map(|p| p.deterministic).collect(),
+            p50: pred.te.iter().map(|p| p.p50).collect(),
+            p95: pred.te.iter().map(|p| p.p95).collect(),
+            p99: pred.te.iter().map(|p| p.p99).collect(),
+            budget: Some(h.budget),
+            holds_for: pred.holds_for,
+            span,
+            notes: vec![caution.clone()],
+        },
+        spans,
+        holds_for: pred.holds_for,
+        parameters,
+        notes: vec![caution],
+    });
+    Ok(())
+}

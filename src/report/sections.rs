@@ -1,0 +1,563 @@
+//! The report's sections, each written from its own result struct.
+
+use super::html::{n, t, Cell, Html, CSS};
+use super::*;
+use crate::units::{format_si, format_sig};
+
+/// Inline chart size (pixels; the SVG scales with the page).
+const CHART: (u32, u32) = (920, 540);
+
+fn tau(v: f64) -> String {
+    format_si(v, "s", 4)
+}
+fn secs(v: f64) -> String {
+    format_si(v, "s", 4)
+}
+fn hz(v: f64) -> String {
+    format_si(v, "Hz", 4)
+}
+fn opt(v: Option<f64>, f: impl Fn(f64) -> String) -> String {
+    v.map(f).unwrap_or_else(|| "—".into())
+}
+
+fn absent(h: &mut Html, a: &Absent) {
+    match a {
+        Absent::NotRequested(why) => {
+            h.p_class("absent", &format!("Not part of this report: {why}"))
+        }
+        Absent::NotComputed(why) => h.p_class("absent", &format!("Not computed: {why}")),
+    };
+}
+
+fn notes(h: &mut Html, list: &[String]) {
+    for x in list {
+        h.p_class("note", x);
+    }
+}
+
+fn verdicts(h: &mut Html, r: &Report) {
+    let (id, title) = SECTION_IDS[0];
+    h.open_section(id, title);
+    if r.verdicts.is_empty() {
+        h.p_class(
+            "absent",
+            "No verdict was asked for: the input names no jitter limit, wander mask or holdover budget.",
+        );
+    } else {
+        let pass = r.verdicts.iter().filter(|v| v.pass == Some(true)).count();
+        let fail = r.verdicts.iter().filter(|v| v.pass == Some(false)).count();
+        let none = r.verdicts.len() - pass - fail;
+        h.p(&format!(
+            "{} check(s): {pass} meet, {fail} exceed{}.",
+            r.verdicts.len(),
+            if none > 0 {
+                format!(", {none} not judged")
+            } else {
+                String::new()
+            }
+        ));
+        let rows: Vec<Vec<Cell>> = r
+            .verdicts
+            .iter()
+            .map(|v| {
+                vec![
+                    t(v.kind.word()),
+                    t(&v.item),
+                    t(&v.criterion),
+                    t(&v.result),
+                    Cell::Verdict(v.pass),
+                ]
+            })
+            .collect();
+        h.table(
+            "verdicts",
+            &["check", "item", "criterion", "result", "verdict"],
+            &rows,
+        );
+    }
+    h.p_class("caution", crate::DECISION_CAUTION);
+    h.close_section();
+}
+
+fn stability(h: &mut Html, p: &Part<StabilitySection>) -> Result<()> {
+    let (id, title) = SECTION_IDS[1];
+    h.open_section(id, title);
+    match p {
+        Part::Absent(a) => absent(h, a),
+        Part::Done(s) => {
+            h.p(&format!(
+                "Record: {}. Intervals at {:.1} % confidence.",
+                s.source,
+                s.confidence * 100.0
+            ));
+            let chart = s.plot.chart();
+            let cap = if s.plot.confidence.is_some() {
+                "σ–τ: deviations against averaging time; bars are confidence intervals"
+            } else {
+                "σ–τ: deviations against averaging time"
+            };
+            h.figure(&crate::plot::to_svg_string(&chart, CHART)?, cap);
+            if let Some(tc) = s.plot.time_chart() {
+                h.figure(
+                    &crate::plot::to_svg_string(&tc, CHART)?,
+                    "Time deviations against averaging time",
+                );
+            }
+            let rows: Vec<Vec<Cell>> = s
+                .rows
+                .iter()
+                .map(|r| {
+                    let time = crate::plot::stability::is_time_deviation(&r.estimator);
+                    let f = |v: f64| if time { secs(v) } else { format_sig(v, 4) };
+                    vec![
+                        t(&r.estimator),
+                        n(tau(r.tau)),
+                        n(r.m.to_string()),
+                        n(f(r.dev)),
+                        n(match (r.lo, r.hi) {
+                            (Some(lo), Some(hi)) => format!("{} … {}", f(lo), f(hi)),
+                            _ => "—".into(),
+                        }),
+                        n(opt(r.edf, |e| format!("{e:.1}"))),
+                        t(r.noise.clone().unwrap_or_else(|| "—".into())),
+                        n(r.terms.to_string()),
+                    ]
+                })
+                .collect();
+            h.el("h3", "", "Values");
+            h.table(
+                "stability",
+                &[
+                    "estimator",
+                    "τ",
+                    "m",
+                    "deviation",
+                    "interval",
+                    "EDF",
+                    "noise",
+                    "terms",
+                ],
+                &rows,
+            );
+            notes(h, &s.notes);
+        }
+    }
+    h.close_section();
+    Ok(())
+}
+
+fn noise_model(h: &mut Html, p: &Part<NoiseModelSection>) {
+    let (id, title) = SECTION_IDS[2];
+    h.open_section(id, title);
+    match p {
+        Part::Absent(a) => absent(h, a),
+        Part::Done(s) => {
+            h.p("Power-law model S_y(f) = Σ h_α f^α (IEEE Std 1139); the string below is accepted by --model:");
+            h.raw("<p><code>").text(&s.model_string).raw("</code></p>");
+            let rows: Vec<Vec<Cell>> = s
+                .terms
+                .iter()
+                .map(|m| {
+                    vec![
+                        n(m.alpha.to_string()),
+                        t(&m.label),
+                        n(format!("{:.3e}", m.h)),
+                        t(m.dominant
+                            .map(|(a, b)| format!("{} … {}", tau(a), tau(b)))
+                            .unwrap_or_else(|| "—".into())),
+                    ]
+                })
+                .collect();
+            h.table("model", &["α", "noise", "h_α", "dominates over τ"], &rows);
+            if !s.identified.is_empty() {
+                h.el("h3", "", "Noise type at each τ");
+                let rows: Vec<Vec<Cell>> = s
+                    .identified
+                    .iter()
+                    .map(|r| {
+                        vec![
+                            n(tau(r.tau)),
+                            n(r.alpha.to_string()),
+                            t(&r.label),
+                            t(&r.method),
+                        ]
+                    })
+                    .collect();
+                h.table("noise-id", &["τ", "α", "noise", "method"], &rows);
+            }
+            notes(h, &s.notes);
+        }
+    }
+    h.close_section();
+}
+
+fn phase_noise(h: &mut Html, p: &Part<PhaseNoiseSection>) -> Result<()> {
+    let (id, title) = SECTION_IDS[3];
+    h.open_section(id, title);
+    match p {
+        Part::Absent(a) => absent(h, a),
+        Part::Done(s) => {
+            h.p(&format!("Table: {}. Carrier {}.", s.source, hz(s.carrier)));
+            h.figure(
+                &crate::plot::to_svg_string(&s.plot.chart(), CHART)?,
+                "L(f) against offset frequency; integration bands shaded",
+            );
+            if s.bands.is_empty() {
+                h.p_class("absent", "No jitter band was asked for.");
+            } else {
+                let rows: Vec<Vec<Cell>> = s
+                    .bands
+                    .iter()
+                    .map(|b| {
+                        vec![
+                            t(&b.name),
+                            n(format!("{} … {}", hz(b.from), hz(b.to))),
+                            t(if b.filters.is_empty() {
+                                "none".into()
+                            } else {
+                                b.filters.clone()
+                            }),
+                            n(format!("{:.4e}", b.rms_rad)),
+                            n(format!("{:.4}", b.rms_deg())),
+                            n(secs(b.rms_s)),
+                            n(opt(b.rms_ui, |u| format!("{u:.4e}"))),
+                            n(opt(b.limit, secs)),
+                            Cell::Verdict(b.pass()),
+                        ]
+                    })
+                    .collect();
+                h.el("h3", "", "Integrated jitter per band");
+                h.table(
+                    "jitter",
+                    &[
+                        "band",
+                        "offsets",
+                        "filters",
+                        "rms phase (rad)",
+                        "rms phase (°)",
+                        "rms time",
+                        "rms (UI)",
+                        "limit",
+                        "verdict",
+                    ],
+                    &rows,
+                );
+            }
+            notes(h, &s.notes);
+        }
+    }
+    h.close_section();
+    Ok(())
+}
+
+fn combined(h: &mut Html, p: &Part<CombinedSection>) -> Result<()> {
+    let (id, title) = SECTION_IDS[4];
+    h.open_section(id, title);
+    match p {
+        Part::Absent(a) => absent(h, a),
+        Part::Done(s) => {
+            h.figure(
+                &crate::plot::to_svg_string(&s.plot.chart(), CHART)?,
+                "Measured deviations (solid) with those converted from phase noise (dashed)",
+            );
+            let judged: Vec<bool> = s.rows.iter().filter_map(|r| r.inside()).collect();
+            let inside = judged.iter().filter(|x| **x).count();
+            if s.rows.is_empty() {
+                h.p_class("absent", "The measured and converted curves share no τ.");
+            } else {
+                h.p(&format!(
+                    "Consistency check ({}): where both exist, {inside} of {} converted values lie inside the measured confidence interval.",
+                    s.estimator,
+                    judged.len()
+                ));
+                let rows: Vec<Vec<Cell>> = s
+                    .rows
+                    .iter()
+                    .map(|r| {
+                        vec![
+                            n(tau(r.tau)),
+                            n(format_sig(r.measured, 4)),
+                            n(match (r.lo, r.hi) {
+                                (Some(a), Some(b)) => {
+                                    format!("{} … {}", format_sig(a, 4), format_sig(b, 4))
+                                }
+                                _ => "—".into(),
+                            }),
+                            n(format_sig(r.converted, 4)),
+                            n(format!("{:.3}", r.ratio())),
+                            t(match r.inside() {
+                                Some(true) => "yes",
+                                Some(false) => "no",
+                                None => "—",
+                            }),
+                        ]
+                    })
+                    .collect();
+                h.table(
+                    "consistency",
+                    &[
+                        "τ",
+                        "measured",
+                        "interval",
+                        "from phase noise",
+                        "ratio",
+                        "inside",
+                    ],
+                    &rows,
+                );
+            }
+            notes(h, &s.notes);
+        }
+    }
+    h.close_section();
+    Ok(())
+}
+
+fn wander(h: &mut Html, p: &Part<WanderSection>) -> Result<()> {
+    let (id, title) = SECTION_IDS[5];
+    h.open_section(id, title);
+    match p {
+        Part::Absent(a) => absent(h, a),
+        Part::Done(s) => {
+            h.p(&format!("Capture: {}.", s.source));
+            if let Some(tie) = s.tie {
+                h.dl(&[
+                    ("max |TIE|".into(), secs(tie.max_abs)),
+                    ("TIE peak to peak".into(), secs(tie.pk_pk)),
+                    ("TIE rms".into(), secs(tie.rms)),
+                ]);
+            }
+            for wp in &s.plots {
+                let cap = format!(
+                    "{} against observation interval, with masks",
+                    wp.metric.name()
+                );
+                h.figure(&crate::plot::to_svg_string(&wp.chart(), CHART)?, &cap);
+            }
+            if !s.masks.is_empty() {
+                let rows: Vec<Vec<Cell>> = s
+                    .masks
+                    .iter()
+                    .map(|m| {
+                        vec![
+                            t(&m.name),
+                            t(&m.metric),
+                            n(format!("{:.3}", m.worst_ratio)),
+                            n(format!("{:+.2} dB", -20.0 * m.worst_ratio.log10())),
+                            n(tau(m.worst_tau)),
+                            n(m.violations.to_string()),
+                            Cell::Verdict(Some(m.pass)),
+                        ]
+                    })
+                    .collect();
+                h.table(
+                    "masks",
+                    &[
+                        "mask",
+                        "metric",
+                        "worst measured/limit",
+                        "margin",
+                        "at τ",
+                        "violating τ",
+                        "verdict",
+                    ],
+                    &rows,
+                );
+                let mut srcs: Vec<String> = s
+                    .masks
+                    .iter()
+                    .map(|m| format!("{}: {}", m.name, m.source_note))
+                    .collect();
+                srcs.dedup();
+                h.ul(&srcs);
+            }
+            notes(h, &s.notes);
+        }
+    }
+    h.close_section();
+    Ok(())
+}
+
+fn holdover(h: &mut Html, p: &Part<HoldoverSection>) -> Result<()> {
+    let (id, title) = SECTION_IDS[6];
+    h.open_section(id, title);
+    match p {
+        Part::Absent(a) => absent(h, a),
+        Part::Done(s) => {
+            h.p(&format!(
+                "Predicted from: {}. Budget ±{}.",
+                s.source,
+                secs(s.budget)
+            ));
+            match s.holds_for {
+                Some(x) => h.p(&format!(
+                    "The p95 of |TE| first exceeds the budget after about {} ({}).",
+                    format_si(x / 3600.0, "h", 3),
+                    secs(x)
+                )),
+                None => h.p("The p95 of |TE| stays within the budget over the longest span."),
+            };
+            h.figure(
+                &crate::plot::to_svg_string(&s.plot.chart(), CHART)?,
+                "Time error through holdover: deterministic part and p50/p95/p99 of |TE|",
+            );
+            let rows: Vec<Vec<Cell>> = s
+                .spans
+                .iter()
+                .map(|r| {
+                    vec![
+                        n(format_si(r.span / 3600.0, "h", 3)),
+                        n(secs(r.deterministic)),
+                        n(secs(r.p95)),
+                        n(secs(r.p99)),
+                        n(secs(s.budget)),
+                        Cell::Verdict(Some(r.pass)),
+                    ]
+                })
+                .collect();
+            h.table(
+                "holdover",
+                &[
+                    "span",
+                    "deterministic TE",
+                    "p95 |TE|",
+                    "p99 |TE|",
+                    "budget",
+                    "verdict (p95)",
+                ],
+                &rows,
+            );
+            h.el("h3", "", "Model and parameters");
+            h.dl(&s.parameters);
+            notes(h, &s.notes);
+        }
+    }
+    h.close_section();
+    Ok(())
+}
+
+fn inputs(h: &mut Html, r: &Report) {
+    let (id, title) = SECTION_IDS[7];
+    h.open_section(id, title);
+    if let Some(f) = &r.dut_file {
+        h.p(&format!("DUT file: {f}"));
+    }
+    if r.inputs.is_empty() {
+        h.p_class("absent", "No input file was read.");
+    } else {
+        let rows: Vec<Vec<Cell>> = r
+            .inputs
+            .iter()
+            .map(|p| {
+                vec![
+                    t(&p.role),
+                    t(&p.name),
+                    Cell::Code(p.path.clone()),
+                    Cell::Code(p.sha256.clone()),
+                    n(p.bytes.to_string()),
+                    n(p.points
+                        .map(|x| x.to_string())
+                        .unwrap_or_else(|| "—".into())),
+                    n(opt(p.tau0, secs)),
+                    n(opt(p.span, |s| {
+                        format!("{} ({})", secs(s), format_si(s / 3600.0, "h", 3))
+                    })),
+                    n(p.gaps.map(|x| x.to_string()).unwrap_or_else(|| "—".into())),
+                ]
+            })
+            .collect();
+        h.table(
+            "inputs",
+            &[
+                "role", "name", "file", "SHA-256", "bytes", "points", "τ0", "span", "gaps",
+            ],
+            &rows,
+        );
+    }
+    h.close_section();
+}
+
+fn methods(h: &mut Html, r: &Report) {
+    let (id, title) = SECTION_IDS[8];
+    h.open_section(id, title);
+    if r.methods.is_empty() {
+        h.p_class("absent", "No computation was made.");
+    } else {
+        let rows: Vec<Vec<Cell>> = r
+            .methods
+            .iter()
+            .map(|m| vec![t(&m.name), t(&m.source)])
+            .collect();
+        h.table("methods", &["computation", "published source"], &rows);
+    }
+    h.close_section();
+}
+
+fn cautions(h: &mut Html, r: &Report) {
+    let (id, title) = SECTION_IDS[9];
+    h.open_section(id, title);
+    let mut list = r.cautions.clone();
+    if !list.iter().any(|c| c == crate::DECISION_CAUTION) {
+        list.insert(0, crate::DECISION_CAUTION.to_string());
+    }
+    for c in &list {
+        h.p_class("caution", c);
+    }
+    h.close_section();
+}
+
+/// The whole document.
+pub(super) fn document(r: &Report) -> Result<String> {
+    let mut h = Html::new();
+    h.raw("<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\">\n");
+    h.raw("<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\">\n");
+    h.raw(&format!(
+        "<meta name=\"generator\" content=\"{} {}\">\n",
+        crate::TOOL,
+        crate::VERSION
+    ));
+    h.raw("<title>")
+        .text(&format!("{} — stability report", r.device))
+        .raw("</title>\n");
+    h.raw("<style>").raw(CSS).raw("</style>\n</head>\n<body>\n");
+    h.raw("<header class=\"top\">");
+    h.el("h1", "", &format!("{} — stability report", r.device));
+    if let Some(d) = &r.description {
+        h.p(d);
+    }
+    h.p(&format!(
+        "Made by {} {} on {}{}.",
+        crate::TOOL,
+        crate::VERSION,
+        r.generated,
+        r.dut_file
+            .as_ref()
+            .map(|f| format!(" from {f}"))
+            .unwrap_or_default()
+    ));
+    h.raw("</header>\n<nav class=\"toc\">");
+    for (id, title) in SECTION_IDS {
+        h.raw(&format!("<a href=\"#{id}\">"))
+            .text(title)
+            .raw("</a>\n");
+    }
+    h.raw("</nav>\n<main>\n");
+    verdicts(&mut h, r);
+    stability(&mut h, &r.stability)?;
+    noise_model(&mut h, &r.noise_model);
+    phase_noise(&mut h, &r.phase_noise)?;
+    combined(&mut h, &r.combined)?;
+    wander(&mut h, &r.wander)?;
+    holdover(&mut h, &r.holdover)?;
+    inputs(&mut h, r);
+    methods(&mut h, r);
+    cautions(&mut h, r);
+    h.raw("</main>\n<footer>");
+    h.text(&format!(
+        "{} {} · every value above was computed from the inputs listed; nothing was fetched from a network.",
+        crate::TOOL,
+        crate::VERSION
+    ));
+    h.raw("</footer>\n</body>\n</html>\n");
+    Ok(h.finish())
+}

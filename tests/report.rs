@@ -1,0 +1,688 @@
+//! The HTML report: parses as HTML (scraper), holds every section, fetches
+//! nothing (no http:// or https://, no <script>), escapes every text from an
+//! input, and — built from a DUT file — reports the inputs it read.
+//! Values in the synthetic report come from the IEEE Std 1139 closed forms
+//! (analytic) and CHECKS.md E/G; they only need to be plausible here.
+
+use scraper::{Html, Selector};
+use std::fs;
+use tauwise::io::dut::Dut;
+use tauwise::model::PowerLaw;
+use tauwise::plot::holdover::HoldoverPlot;
+use tauwise::plot::phase_noise::{BandMark, LfTrace, PhaseNoisePlot, TraceKind};
+use tauwise::plot::stability::{SigmaCurve, StabilityPlot};
+use tauwise::plot::wander::{MaskLine, Metric, WanderPlot};
+use tauwise::plot::XY;
+use tauwise::report::build::{from_dut, BuildOptions};
+use tauwise::report::*;
+
+fn full_report(name: &str) -> Report {
+    let mut m = PowerLaw::zero(0.5);
+    m.set(0, 4e-23);
+    m.set(-2, 1e-31);
+    let taus: Vec<f64> = (0..12).map(|k| 2f64.powi(k)).collect();
+    let oadev: Vec<XY> = taus
+        .iter()
+        .map(|&t| {
+            let v = m.avar(t).sqrt();
+            XY::with_interval(t, v, Some(0.9 * v), Some(1.1 * v))
+        })
+        .collect();
+    let plot = StabilityPlot {
+        title: name.into(),
+        curves: vec![SigmaCurve {
+            name: "oadev".into(),
+            points: oadev.clone(),
+            derived: false,
+            time_deviation: false,
+        }],
+        regions: vec![],
+        confidence: Some(0.683),
+        notes: vec![],
+    };
+    let mut r = Report::empty(name, "");
+    r.description = Some("desc with <b>markup</b>".into());
+    r.dut_file = Some("duts/<x>.toml".into());
+    r.verdicts = vec![
+        Verdict {
+            kind: VerdictKind::Mask,
+            item: "g8262-opt1".into(),
+            criterion: "MTIE".into(),
+            result: "worst 0.5".into(),
+            pass: Some(true),
+        },
+        Verdict {
+            kind: VerdictKind::Jitter,
+            item: "12k:20M".into(),
+            criterion: "≤ 1 ps".into(),
+            result: "1.789 ps".into(),
+            pass: Some(false),
+        },
+        Verdict {
+            kind: VerdictKind::Holdover,
+            item: "24 h".into(),
+            criterion: "p95 ≤ 1.5 µs".into(),
+            result: "4.32 µs".into(),
+            pass: Some(false),
+        },
+    ];
+    r.stability = Part::Done(StabilitySection {
+        source: "rec <1>".into(),
+        plot: plot.clone(),
+        rows: oadev
+            .iter()
+            .map(|p| StabilityRow {
+                estimator: "oadev".into(),
+                tau: p.x,
+                m: p.x as usize,
+                dev: p.y,
+                lo: p.lo,
+                hi: p.hi,
+                edf: Some(10.0),
+                noise: Some("WFM".into()),
+                terms: 100,
+            })
+            .collect(),
+        confidence: 0.683,
+        notes: vec![],
+    });
+    r.noise_model = Part::Done(NoiseModelSection {
+        model_string: m.to_model_string(),
+        terms: vec![ModelTerm {
+            alpha: 0,
+            label: "WFM".into(),
+            h: 4e-23,
+            dominant: Some((1.0, 1e4)),
+        }],
+        identified: vec![NoiseIdRow {
+            tau: 1.0,
+            alpha: 0,
+            label: "WFM".into(),
+            method: "lag1".into(),
+        }],
+        notes: vec![],
+    });
+    // CHECKS.md E / issue 4 (analytic): flat −155 dBc/Hz over 12 kHz–20 MHz on 10 MHz is 1.124e−4 rad, 1.789 ps.
+    r.phase_noise = Part::Done(PhaseNoiseSection {
+        source: "table".into(),
+        carrier: 10e6,
+        plot: PhaseNoisePlot {
+            title: name.into(),
+            carrier: Some(10e6),
+            traces: vec![LfTrace {
+                name: "flat".into(),
+                kind: TraceKind::Table,
+                points: vec![(1e3, -155.0), (1e7, -155.0)],
+            }],
+            bands: vec![BandMark {
+                from: 12e3,
+                to: 20e6,
+                label: "12k–20M".into(),
+            }],
+            notes: vec![],
+        },
+        bands: vec![JitterRow {
+            name: "generic".into(),
+            from: 12e3,
+            to: 20e6,
+            filters: String::new(),
+            rms_rad: 1.124e-4,
+            rms_s: 1.789e-12,
+            rms_ui: None,
+            limit: Some(1e-12),
+        }],
+        notes: vec![],
+    });
+    r.combined = Part::Done(CombinedSection {
+        plot,
+        estimator: "oadev".into(),
+        rows: vec![ConsistencyRow {
+            tau: 1.0,
+            measured: 4.5e-12,
+            lo: Some(4e-12),
+            hi: Some(5e-12),
+            converted: 4.4e-12,
+        }],
+        notes: vec![],
+    });
+    r.wander = Part::Done(WanderSection {
+        source: "tie".into(),
+        tie: Some(TieStats {
+            max_abs: 1e-8,
+            pk_pk: 2e-8,
+            rms: 5e-9,
+        }),
+        plots: vec![WanderPlot {
+            title: name.into(),
+            metric: Metric::Mtie,
+            measured: vec![(1.0, 1e-8), (100.0, 5e-8)],
+            masks: vec![MaskLine {
+                name: "m".into(),
+                limit: vec![(1.0, 4e-8), (100.0, 1e-7)],
+                violations: vec![],
+            }],
+            notes: vec![],
+        }],
+        masks: vec![MaskRow {
+            name: "g8262-opt1".into(),
+            metric: "MTIE".into(),
+            pass: true,
+            worst_ratio: 0.5,
+            worst_tau: 100.0,
+            violations: 0,
+            source_note: "values recalled from memory".into(),
+        }],
+        notes: vec![],
+    });
+    // CHECKS.md G (analytic): D = 1e-10/day over 24 h gives 4.32 µs.
+    let t: Vec<f64> = (0..=24).map(|h| h as f64 * 3600.0).collect();
+    let det: Vec<f64> = t.iter().map(|&s| 0.5 * 1e-10 / 86400.0 * s * s).collect();
+    r.holdover = Part::Done(HoldoverSection {
+        source: "rec".into(),
+        budget: 1.5e-6,
+        plot: HoldoverPlot {
+            title: name.into(),
+            p50: det.clone(),
+            p95: det.iter().map(|v| v * 1.2).collect(),
+            p99: det.iter().map(|v| v * 1.4).collect(),
+            deterministic: det.clone(),
+            t,
+            budget: Some(1.5e-6),
+            holds_for: Some(12.0 * 3600.0),
+            span: 86400.0,
+            notes: vec![],
+        },
+        spans: vec![SpanRow {
+            span: 86400.0,
+            deterministic: 4.32e-6,
+            p95: 5.2e-6,
+            p99: 6e-6,
+            pass: false,
+        }],
+        holds_for: Some(12.0 * 3600.0),
+        parameters: vec![("aging".into(), "1e-10/day".into())],
+        notes: vec![],
+    });
+    r.inputs = vec![Provenance {
+        role: "time record".into(),
+        name: "<rec>".into(),
+        path: "/data/<rec>.csv".into(),
+        sha256: "ab".repeat(32),
+        bytes: 10,
+        points: Some(3),
+        span: Some(2.0),
+        tau0: Some(1.0),
+        gaps: Some(0),
+    }];
+    r.methods = vec![Method {
+        name: "oadev".into(),
+        source: "NIST SP 1065".into(),
+    }];
+    r
+}
+
+fn check_document(html: &str) -> Html {
+    let doc = Html::parse_document(html);
+    for (id, title) in SECTION_IDS {
+        let sel = Selector::parse(&format!("section#{id} > h2")).unwrap();
+        let h2: Vec<_> = doc.select(&sel).collect();
+        assert_eq!(h2.len(), 1, "section {id}");
+        assert_eq!(h2[0].text().collect::<String>(), title);
+    }
+    assert!(
+        !html.contains("http://") && !html.contains("https://"),
+        "no URL of any kind"
+    );
+    assert!(!html.to_ascii_lowercase().contains("<script"), "no script");
+    assert!(!html.contains("<link") && !html.contains("@import") && !html.contains("url("));
+    let caution = Selector::parse("section#cautions p.caution").unwrap();
+    assert!(doc
+        .select(&caution)
+        .any(|p| p.text().collect::<String>() == tauwise::DECISION_CAUTION));
+    doc
+}
+
+#[test]
+fn full_report_has_every_section_and_fetches_nothing() {
+    let html = render_html(&full_report("ocxo-a")).unwrap();
+    let doc = check_document(&html);
+    let svg = Selector::parse("section figure svg").unwrap();
+    assert!(
+        doc.select(&svg).count() >= 5,
+        "stability, L(f), combined, wander, holdover charts"
+    );
+    let badges = Selector::parse("section#verdicts .badge").unwrap();
+    let words: Vec<String> = doc.select(&badges).map(|b| b.text().collect()).collect();
+    assert_eq!(words, ["meets", "exceeds", "exceeds"]);
+    assert!(html.contains("1.789 ps"));
+}
+
+#[test]
+fn names_from_the_input_are_escaped() {
+    let evil = "<script>alert(1)</script>";
+    let html = render_html(&full_report(evil)).unwrap();
+    let doc = check_document(&html);
+    assert!(html.contains("&lt;script&gt;alert(1)&lt;/script&gt;"));
+    let h1 = Selector::parse("h1").unwrap();
+    assert!(doc
+        .select(&h1)
+        .next()
+        .unwrap()
+        .text()
+        .collect::<String>()
+        .contains(evil));
+    let b = Selector::parse("header b").unwrap();
+    assert_eq!(doc.select(&b).count(), 0, "description markup stays text");
+}
+
+#[test]
+fn an_empty_report_still_has_every_section() {
+    let r = Report::empty("x", "nothing was asked.");
+    let html = render_html(&r).unwrap();
+    let doc = check_document(&html);
+    let absent = Selector::parse("p.absent").unwrap();
+    assert!(doc.select(&absent).count() >= 7);
+}
+
+#[test]
+fn write_is_atomic_and_complete() {
+    let dir = tempfile::tempdir().unwrap();
+    let p = dir.path().join("r.html");
+    write(&full_report("a"), &p).unwrap();
+    let text = fs::read_to_string(&p).unwrap();
+    assert!(text.trim_end().ends_with("</html>"));
+    assert_eq!(fs::read_dir(dir.path()).unwrap().count(), 1);
+}
+
+/// Built from a DUT file: every input is listed with its SHA-256 (checked
+/// against an independent streaming of the same bytes), points, τ0 and gaps;
+/// the stability values equal a direct OADEV of the record.
+#[test]
+fn report_from_a_dut_file() {
+    let dir = tempfile::tempdir().unwrap();
+    // A white-FM-like phase walk, values in ns, with one gap.
+    let mut x = 0.0f64;
+    let mut s = String::from("# phase, ns\n");
+    let mut state = 12345u64;
+    for i in 0..4000 {
+        state = state
+            .wrapping_mul(6364136223846793005)
+            .wrapping_add(1442695040888963407);
+        let u = (state >> 11) as f64 / (1u64 << 53) as f64 - 0.5;
+        x += u;
+        if i == 1000 {
+            s.push_str("NaN\n");
+        } else {
+            s.push_str(&format!("{x}\n"));
+        }
+    }
+    fs::write(dir.path().join("rec.csv"), &s).unwrap();
+    fs::write(dir.path().join("lf.csv"), "1,-90\n10,-120\n").unwrap();
+    let dut_text = "[device]\nname = \"<script>alert(1)</script>\"\ncarrier = \"10MHz\"\n\
+        [[record]]\nname = \"rec\"\npath = \"rec.csv\"\ntau0 = \"1s\"\nunits = \"ns\"\n\
+        [[phase_noise]]\npath = \"lf.csv\"\n\
+        [[jitter]]\nband = \"1:10\"\nlimit = \"1ps\"\n\
+        [wander]\nmasks = [\"g8262-opt1\"]\n\
+        [holdover]\nbudget = \"1.5us\"\nspans = [\"8h\", \"24h\"]\npaths = 200\n";
+    let dut_path = dir.path().join("dut.toml");
+    fs::write(&dut_path, dut_text).unwrap();
+    let dut = Dut::read(&dut_path).unwrap();
+    let rep = from_dut(&dut, &BuildOptions::default()).unwrap();
+    assert_eq!(rep.inputs.len(), 2);
+    let rec = &rep.inputs[0];
+    assert_eq!(rec.points, Some(4000));
+    assert_eq!(rec.gaps, Some(1));
+    assert_eq!(rec.tau0, Some(1.0));
+    let bytes = fs::read(dir.path().join("rec.csv")).unwrap();
+    assert_eq!(
+        rec.sha256,
+        tauwise::report::provenance::sha256_bytes(&bytes)
+    );
+    // One verdict per jitter limit, per mask (g8262-opt1 has an MTIE and a
+    // TDEV mask) and per holdover span.
+    assert_eq!(rep.verdicts.len(), 1 + 2 + 2);
+    // Stability: OADEV at m = 1 equals the direct SP 1065 formula on the record.
+    let Part::Done(st) = &rep.stability else {
+        panic!("stability missing")
+    };
+    let xs: Vec<f64> = s
+        .lines()
+        .skip(1)
+        .map(|l| l.parse::<f64>().unwrap() * 1e-9)
+        .collect();
+    let terms: Vec<f64> = (0..xs.len() - 2)
+        .map(|i| xs[i + 2] - 2.0 * xs[i + 1] + xs[i])
+        .filter(|d| d.is_finite())
+        .collect();
+    let direct = (terms.iter().map(|d| d * d).sum::<f64>() / (2.0 * terms.len() as f64)).sqrt();
+    let row = st
+        .rows
+        .iter()
+        .find(|r| r.estimator == "oadev" && r.m == 1)
+        .unwrap();
+    assert!(
+        (row.dev - direct).abs() < 1e-9 * direct,
+        "{} vs {direct}",
+        row.dev
+    );
+    assert_eq!(row.terms, terms.len());
+    let html = render_html(&rep).unwrap();
+    check_document(&html);
+    assert!(html.contains("&lt;script&gt;alert(1)&lt;/script&gt;"));
+    assert!(!html.contains("<script>alert"));
+}
+
+fn tauwise(args: &[&std::ffi::OsStr]) -> std::process::Output {
+    std::process::Command::new(env!("CARGO_BIN_EXE_tauwise"))
+        .args(args)
+        .output()
+        .unwrap()
+}
+
+fn write_record(path: &std::path::Path, n: usize) {
+    let mut s = String::new();
+    let mut x = 0.0f64;
+    for i in 0..n {
+        x += ((i * 7919) % 101) as f64 / 100.0 - 0.5;
+        s.push_str(&format!("{x}\n"));
+    }
+    fs::write(path, s).unwrap();
+}
+
+/// End to end: the command writes the report and the chart files; a bad DUT
+/// file is an error naming the key, exit status 1, and nothing is written.
+#[test]
+fn cli_report_end_to_end() {
+    let dir = tempfile::tempdir().unwrap();
+    let d = dir.path();
+    write_record(&d.join("rec.csv"), 3000);
+    fs::write(
+        d.join("unit.toml"),
+        "[device]\nname = \"unit & co\"\n[[record]]\npath = \"rec.csv\"\ntau0 = \"1s\"\nunits = \"ns\"\n[wander]\nmasks = [\"g8262-opt1\"]\n",
+    )
+    .unwrap();
+    let charts = d.join("charts");
+    fs::create_dir(&charts).unwrap();
+    let out = d.join("r.html");
+    let o = tauwise(&[
+        "report".as_ref(),
+        d.join("unit.toml").as_os_str(),
+        "-o".as_ref(),
+        out.as_os_str(),
+        "--charts".as_ref(),
+        charts.as_os_str(),
+    ]);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let html = fs::read_to_string(&out).unwrap();
+    check_document(&html);
+    assert!(html.contains("unit &amp; co"));
+    for f in [
+        "stability.png",
+        "stability-time.png",
+        "wander-mtie.png",
+        "wander-tdev.png",
+    ] {
+        let bytes = fs::read(charts.join(f)).unwrap_or_else(|_| panic!("{f} written"));
+        let mut r = png::Decoder::new(&bytes[..]).read_info().unwrap();
+        let mut buf = vec![0; r.output_buffer_size()];
+        let info = r.next_frame(&mut buf).unwrap();
+        assert_eq!((info.width, info.height), (960, 600));
+    }
+
+    // Quick form.
+    let quick = d.join("q.html");
+    let o = tauwise(&[
+        "report".as_ref(),
+        d.join("rec.csv").as_os_str(),
+        "--tau0".as_ref(),
+        "1s".as_ref(),
+        "--units".as_ref(),
+        "ns".as_ref(),
+        "-o".as_ref(),
+        quick.as_os_str(),
+    ]);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    check_document(&fs::read_to_string(&quick).unwrap());
+
+    // Bad DUT file: unknown key.
+    fs::write(d.join("bad.toml"), "[device]\nname = \"x\"\nnmae = \"y\"\n").unwrap();
+    let bad_out = d.join("bad.html");
+    let o = tauwise(&[
+        "report".as_ref(),
+        d.join("bad.toml").as_os_str(),
+        "-o".as_ref(),
+        bad_out.as_os_str(),
+    ]);
+    assert_eq!(o.status.code(), Some(1));
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert!(err.contains("bad.toml:3") && err.contains("nmae"), "{err}");
+    assert!(!bad_out.exists());
+    // Quick form with --lf but no carrier.
+    let o = tauwise(&[
+        "report".as_ref(),
+        d.join("rec.csv").as_os_str(),
+        "--tau0".as_ref(),
+        "1".as_ref(),
+        "--lf".as_ref(),
+        "x.csv".as_ref(),
+    ]);
+    assert_eq!(o.status.code(), Some(1));
+    assert!(String::from_utf8_lossy(&o.stderr).contains("--carrier"));
+}
+
+fn find_chromium() -> Option<std::path::PathBuf> {
+    if let Ok(p) = std::env::var("TAUWISE_CHROMIUM") {
+        return Some(p.into());
+    }
+    let path = std::env::var_os("PATH")?;
+    for dir in std::env::split_paths(&path) {
+        for name in ["chromium", "chromium-browser"] {
+            let p = dir.join(name);
+            if p.is_file() {
+                return Some(p);
+            }
+        }
+    }
+    None
+}
+
+/// A real browser renders the report: headless Chromium's DOM dump holds
+/// every section and no script, and its screenshot is not blank. `.ci/run`
+/// installs Debian's chromium when it is missing and sets
+/// TAUWISE_REQUIRE_BROWSER=1, which turns a missing browser into a failure;
+/// elsewhere the check runs whenever a Chromium is on PATH.
+#[test]
+fn a_real_browser_renders_every_section() {
+    let Some(chromium) = find_chromium() else {
+        assert!(
+            std::env::var("TAUWISE_REQUIRE_BROWSER").is_err(),
+            "TAUWISE_REQUIRE_BROWSER is set but no chromium was found (set TAUWISE_CHROMIUM or install chromium)"
+        );
+        eprintln!("no chromium on PATH: browser check not run here");
+        return;
+    };
+    let dir = tempfile::tempdir().unwrap();
+    let page = dir.path().join("report.html");
+    write(&full_report("<script>alert(1)</script>"), &page).unwrap();
+    let url = format!("file://{}", page.display());
+    let profile = dir.path().join("profile");
+    let common = [
+        "--headless".to_string(),
+        "--no-sandbox".into(),
+        "--disable-gpu".into(),
+        "--disable-background-networking".into(),
+        "--no-first-run".into(),
+        format!("--user-data-dir={}", profile.display()),
+    ];
+    let dom = std::process::Command::new(&chromium)
+        .args(&common)
+        .arg("--dump-dom")
+        .arg(&url)
+        .output()
+        .unwrap();
+    assert!(
+        dom.status.success(),
+        "{}",
+        String::from_utf8_lossy(&dom.stderr)
+    );
+    let dom = String::from_utf8_lossy(&dom.stdout).into_owned();
+    let doc = Html::parse_document(&dom);
+    for (id, _) in SECTION_IDS {
+        let sel = Selector::parse(&format!("section#{id}")).unwrap();
+        assert_eq!(
+            doc.select(&sel).count(),
+            1,
+            "browser DOM lacks section {id}"
+        );
+    }
+    let script = Selector::parse("script").unwrap();
+    assert_eq!(
+        doc.select(&script).count(),
+        0,
+        "the escaped name did not become a script"
+    );
+    let shot = dir.path().join("shot.png");
+    let o = std::process::Command::new(&chromium)
+        .args(&common)
+        .arg("--window-size=1200,2000")
+        .arg(format!("--screenshot={}", shot.display()))
+        .arg(&url)
+        .output()
+        .unwrap();
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let bytes = fs::read(&shot).unwrap();
+    let mut r = png::Decoder::new(&bytes[..]).read_info().unwrap();
+    let mut buf = vec![0; r.output_buffer_size()];
+    let info = r.next_frame(&mut buf).unwrap();
+    let ch = info.color_type.samples();
+    let px = &buf[..info.buffer_size()];
+    let mut colours = std::collections::HashSet::new();
+    let mut ink = 0usize;
+    for p in px.chunks(ch) {
+        colours.insert((p[0], p[1], p[2]));
+        if p[0] < 200 || p[1] < 200 || p[2] < 200 {
+            ink += 1;
+        }
+    }
+    let share = ink as f64 / (px.len() / ch) as f64;
+    assert!(
+        colours.len() > 50 && share > 0.01,
+        "screenshot looks blank: {} colours, {share} ink",
+        colours.len()
+    );
+}
+
+/// The report's verdicts equal those of the individual commands on the same
+/// inputs (`tauwise wander`, `tauwise holdover`, `tauwise jitter`, JSON).
+/// The record has a constant frequency offset of 2e-10, so its MTIE is the
+/// ramp 2e-10·τ (analytic, CHECKS.md F): above G.8262 option 1 near 800 s,
+/// below G.811 there (mask values from memory).
+#[test]
+fn report_verdicts_equal_the_commands() {
+    use tauwise::simulate::{simulate_phase, SimSpec};
+    let dir = tempfile::tempdir().unwrap();
+    let d = dir.path();
+    let mut m = PowerLaw::zero(0.5);
+    m.set(0, 1e-24);
+    let mut spec = SimSpec::new(m, 1.0, 8000, 5);
+    spec.freq_offset = 2e-10;
+    let x = simulate_phase(&spec).unwrap();
+    let text: String = x.x.iter().map(|v| format!("{}\n", v * 1e9)).collect();
+    fs::write(d.join("rec.csv"), text).unwrap();
+    // A flat −155 dBc/Hz floor over 12 kHz–20 MHz on 10 MHz is 1.789 ps rms (issue 4, analytic).
+    fs::write(d.join("lf.csv"), "1000,-155\n30000000,-155\n").unwrap();
+    let dut_text = "[device]\nname = \"unit\"\ncarrier = \"10MHz\"\n\
+        [[record]]\npath = \"rec.csv\"\ntau0 = \"1s\"\nunits = \"ns\"\n\
+        [[phase_noise]]\npath = \"lf.csv\"\n\
+        [[jitter]]\nband = \"12k:20M\"\nlimit = \"1ps\"\n\
+        [[jitter]]\nband = \"12k:20M\"\nlimit = \"2ps\"\n\
+        [wander]\nmasks = [\"g8262-opt1\", \"g811\"]\n\
+        [holdover]\nbudget = \"1us\"\nspans = [\"1h\", \"8h\"]\npaths = 200\nseed = 4\n";
+    fs::write(d.join("unit.toml"), dut_text).unwrap();
+    let rep = from_dut(
+        &Dut::read(&d.join("unit.toml")).unwrap(),
+        &BuildOptions::default(),
+    )
+    .unwrap();
+    let run = |args: &[&str]| -> serde_json::Value {
+        let o = std::process::Command::new(env!("CARGO_BIN_EXE_tauwise"))
+            .current_dir(d)
+            .args(args)
+            .output()
+            .unwrap();
+        assert!(
+            o.status.success(),
+            "{args:?}: {}",
+            String::from_utf8_lossy(&o.stderr)
+        );
+        serde_json::from_slice(&o.stdout).unwrap()
+    };
+    let of_kind = |k: VerdictKind| {
+        rep.verdicts
+            .iter()
+            .filter(|v| v.kind == k)
+            .map(|v| v.pass)
+            .collect::<Vec<_>>()
+    };
+
+    let w = run(&[
+        "wander",
+        "rec.csv",
+        "--tau0",
+        "1s",
+        "--units",
+        "ns",
+        "--mask",
+        "g8262-opt1",
+        "--mask",
+        "g811",
+        "--format",
+        "json",
+    ]);
+    let cmd: Vec<Option<bool>> = w["masks"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|m| match m["verdict"].as_str().unwrap() {
+            "pass" => Some(true),
+            "fail" => Some(false),
+            _ => None,
+        })
+        .collect();
+    assert_eq!(of_kind(VerdictKind::Mask), cmd);
+    assert!(
+        cmd.contains(&Some(false)) && cmd.contains(&Some(true)),
+        "{cmd:?}"
+    );
+
+    let mut cmd = Vec::new();
+    for span in ["1h", "8h"] {
+        let h = run(&[
+            "holdover", "rec.csv", "--tau0", "1s", "--units", "ns", "--span", span, "--budget",
+            "1us", "--paths", "200", "--seed", "4", "--format", "json",
+        ]);
+        cmd.push(Some(h["verdict"].as_str().unwrap() == "pass"));
+    }
+    assert_eq!(of_kind(VerdictKind::Holdover), cmd);
+
+    let j = run(&[
+        "jitter",
+        "lf.csv",
+        "--carrier",
+        "10MHz",
+        "--band",
+        "12k:20M",
+        "--format",
+        "json",
+    ]);
+    let rms = j["bands"][0]["rms_s"].as_f64().unwrap();
+    assert!((rms - 1.789e-12).abs() < 1e-15, "{rms}");
+    assert_eq!(
+        of_kind(VerdictKind::Jitter),
+        vec![Some(rms <= 1e-12), Some(rms <= 2e-12)]
+    );
+    let Part::Done(pn) = &rep.phase_noise else {
+        panic!("phase noise missing")
+    };
+    assert_eq!(pn.bands[0].rms_s, rms);
+}
