@@ -251,36 +251,25 @@ fn noise_paths_follow_the_analytic_variance_growth() {
         let want = h0 * k as f64 * step / 2.0;
         assert!((v / want - 1.0).abs() < 0.05, "WFM k={k}: {v} vs {want}");
     }
-    // RWFM (analytic, y a random walk integrated once more): (2π)²·h·t³/6,
-    // exactly q·[k² + k(k+1)(2k+1)/6] for the discrete walk.
+    // RWFM (analytic, y a random walk from rest integrated once more):
+    // (2π)²·h·t³/6, the discrete process within O(1/k) of it (2 % at k = 256).
     let hm2 = 1e-30;
-    for (v, k) in path_variance(-2, hm2, f_h, step, n, &ks).iter().zip(ks) {
-        let kf = k as f64;
-        let q = 4.0 * PI * PI * hm2 * step.powi(3) / 2.0;
-        let exact = q * (kf * kf + kf * (kf + 1.0) * (2.0 * kf + 1.0) / 6.0);
-        assert!((v / exact - 1.0).abs() < 0.05, "RWFM k={k}: {v} vs {exact}");
-        let t = kf * step;
-        let asym = 4.0 * PI * PI * hm2 * t.powi(3) / 6.0;
-        if k >= 256 {
-            assert!((v / asym - 1.0).abs() < 0.05, "RWFM k={k}: {v} vs {asym}");
-        }
-    }
-    // FFM (derived in holdover::paths): q·[(g_k − 1)² + Σ_{i<k} g_i²],
-    // q = π·h·Δ², g of (1 − B)^(−3/2); about 2·h·t².
+    let v = path_variance(-2, hm2, f_h, step, n, &ks);
+    let t = 256.0 * step;
+    let asym = 4.0 * PI * PI * hm2 * t.powi(3) / 6.0;
+    assert!((v[2] / asym - 1.0).abs() < 0.05, "RWFM: {} vs {asym}", v[2]);
+    let growth = v[2] / v[1]; // (256/64)³ = 64, O(1/k) corrections ≈ 7 %
+    assert!((growth / 64.0 - 1.0).abs() < 0.12, "RWFM growth {growth}");
+    // FFM (derived in holdover::paths): 2·h·t², within O(1/k) (1 % at k = 256).
     let hm1 = 1e-26;
-    let g = tauwise::simulate::kw_coefficients(1.5, n + 1);
-    for (v, k) in path_variance(-1, hm1, f_h, step, n, &ks).iter().zip(ks) {
-        let q = PI * hm1 * step * step;
-        let exact = q * ((g[k] - 1.0).powi(2) + g[..k].iter().map(|c| c * c).sum::<f64>());
-        assert!((v / exact - 1.0).abs() < 0.05, "FFM k={k}: {v} vs {exact}");
-        let t = k as f64 * step;
-        if k >= 256 {
-            let asym = 2.0 * hm1 * t * t;
-            assert!((v / asym - 1.0).abs() < 0.05, "FFM k={k}: {v} vs {asym}");
-        }
-    }
-    // FPM: the same sum with the coefficients of (1 − B)^(−1/2), q = h/(4π),
-    // plus twice the white phase above 1/(2Δ), h·ln(2Δf_h)/(2π)² (derived).
+    let v = path_variance(-1, hm1, f_h, step, n, &ks);
+    let asym = 2.0 * hm1 * t * t;
+    assert!((v[2] / asym - 1.0).abs() < 0.05, "FFM: {} vs {asym}", v[2]);
+    let growth = v[2] / v[1]; // (256/64)² = 16
+    assert!((growth / 16.0 - 1.0).abs() < 0.12, "FFM growth {growth}");
+    // FPM: the sum for the plain filter (1 − B)^(−1/2), q = h/(4π), plus
+    // twice the white phase above 1/(2Δ), h·ln(2Δf_h)/(2π)² (derived); the
+    // synthesiser's FPM shaping stays within the tolerance of it.
     let h1 = 1e-24;
     let c = tauwise::simulate::kw_coefficients(0.5, n + 1);
     for (v, k) in path_variance(1, h1, f_h, step, n, &ks).iter().zip(ks) {

@@ -53,7 +53,7 @@ fn min(a: f64, b: f64) -> f64 {
 /// - For m ≥ [`PRUNE_FROM_M`], branch and bound over blocks of window starts
 ///   ([`mtie_pruned`]): the starts are cut into blocks of B = m/8; every
 ///   window starting in block b lies inside the span of blocks b … b + c
-///   (c = ⌊(B − 1 + m)/B⌋), so the range of that span, from per-block
+///   (c = ⌈m/B⌉), so the range of that span, from per-block
 ///   extrema and a sliding maximum over blocks, bounds all those windows
 ///   from above. The block with the largest bound is scanned exactly first;
 ///   then only blocks whose bound exceeds the best range found so far are

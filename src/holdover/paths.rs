@@ -29,18 +29,19 @@
 //! With Δ the step and t = kΔ, the variance of x_k − x_0 is
 //! - WPM: 2·h_2·f_h/(2π)², constant (analytic);
 //! - WFM: h_0·t/2 exactly (a random walk of step variance h_0Δ/2);
-//! - RWFM: q·[k² + k(k+1)(2k+1)/6] with q = (2π)²h_−2Δ³/2, i.e.
-//!   (2π)²·h_−2·t³/6 · (1 + O(1/k)) (IEEE Std 1139 RWFM integrated twice);
-//! - FFM: q·[(g_k − 1)² + Σ_{i<k} g_i²], q = π·h_−1·Δ², g the coefficients
-//!   of (1 − B)^(−3/2) ([`crate::simulate::kw_coefficients`] with d = 3/2).
-//!   Since g_i² = (4/π)(i + ¾) + O(1/i), this is 2·h_−1·t²·(1 + O(1/k)):
-//!   derived here. (Flicker FM has no stationary phase increments — its
-//!   variance diverges at low frequency — so some convention is needed;
-//!   "from rest at the start of holdover" leaves the frequency offset at
-//!   that moment to y0 and its uncertainty.)
-//! - FPM: the same sum with the coefficients of (1 − B)^(−1/2), q = h_1/(4π),
-//!   plus twice the white part above: it grows as ln k and stays below a
-//!   picosecond for any plausible oscillator.
+//! - RWFM: (2π)²·h_−2·t³/6 · (1 + O(1/k)) (IEEE Std 1139 RWFM: y a random
+//!   walk from rest, integrated once more; analytic);
+//! - FFM: 2·h_−1·t² · (1 + O(1/k)), derived here for the filter
+//!   (1 − B)^(−3/2) of the phase with q = π·h_−1·Δ²: the variance is
+//!   q·[(g_k − 1)² + Σ_{i<k} g_i²] and g_i² = (4/π)(i + ¾) + O(1/i). The
+//!   synthesiser's short-τ shaping of FFM and RWFM keeps the low-frequency
+//!   level, so it changes only the O(1/k) part. (Flicker FM has no
+//!   stationary phase increments — its variance diverges at low frequency —
+//!   so some convention is needed; "from rest at the start of holdover"
+//!   leaves the frequency offset at that moment to y0 and its uncertainty.)
+//! - FPM: grows as ln k (about q·[(c_k − 1)² + Σ_{i<k} c_i²] with c the
+//!   coefficients of (1 − B)^(−1/2) and q = h_1/(4π), plus twice the white
+//!   part above) and stays below a picosecond for any plausible oscillator.
 
 use crate::error::{Error, Result};
 use crate::model::PowerLaw;
