@@ -31,14 +31,10 @@ pub enum Command {
     Inspect(inspect::Args),
     /// Write a cleaned copy of a record (drift, outliers, gaps, decimation).
     Prepare(prepare::Args),
-    /// Synthetic power-law noise records (seeded).
-    Simulate(simulate::SimulateArgs),
-    /// Noise type per τ and the fitted power-law model.
-    Noise(noise::Args),
-    /// One self-contained HTML report for a device under test.
-    Report(report::Args),
     /// σ(τ) curves with confidence intervals and noise type.
     Stability(stability::Args),
+    /// Noise type per τ and the fitted power-law model.
+    Noise(noise::Args),
     /// PSD of a time record as L(f), S_φ, S_y, S_x (Welch's method).
     Spectrum(spectrum::Args),
     /// Convert between phase-noise tables, power-law models and σ(τ).
@@ -49,6 +45,10 @@ pub enum Command {
     Wander(wander::Args),
     /// Time error predicted over a holdover span, against a budget.
     Holdover(holdover::Args),
+    /// Synthetic power-law noise records (seeded).
+    Simulate(simulate::SimulateArgs),
+    /// One self-contained HTML report for a device under test.
+    Report(report::Args),
 }
 
 /// What a subcommand returns to `main` when it did not fail.
