@@ -557,8 +557,8 @@ mod tests {
 
     /// Lag-1 autocorrelations of differenced decimated phase (analytic):
     /// second difference of white phase −2/3, of a random walk −1/2; random
-    /// walk FM 0 at m = 1 (white second differences) and +1/4 in the
-    /// continuous limit; flicker FM −1/3 at m = 1 (ARFIMA d = −½) and
+    /// walk FM +1/4 at every m (samples of continuous RWFM: MA(1) second
+    /// differences, ρ = 1/4); flicker FM −1/3 at m = 1 (ARFIMA d = −½) and
     /// (9 ln 3 − 16 ln 2)/(8 ln 2) = −0.2168 in the continuous limit.
     #[test]
     fn decimated_lag1_values() {
@@ -566,7 +566,7 @@ mod tests {
         assert!(close(decimated_lag1(2, 7, 2).unwrap(), -2.0 / 3.0));
         assert!(close(decimated_lag1(0, 5, 2).unwrap(), -0.5));
         assert!(close(decimated_lag1(0, 5000, 2).unwrap(), -0.5));
-        assert!(close(decimated_lag1(-2, 1, 2).unwrap(), 0.0));
+        assert!(close(decimated_lag1(-2, 1, 2).unwrap(), 0.25));
         assert!(close(decimated_lag1(-2, 5000, 2).unwrap(), 0.25));
         assert!(close(decimated_lag1(-1, 1, 2).unwrap(), -1.0 / 3.0));
         let cont = (9.0 * 3f64.ln() - 16.0 * 2f64.ln()) / (8.0 * 2f64.ln());

@@ -84,8 +84,18 @@ pub(crate) fn sx_continuous(t: f64, factor: Option<f64>, alpha: i32) -> f64 {
 
 /// GACV of the phase samples of the discrete power-law process with
 /// exponent α (2 … −4), at lags 0 ..= `kmax`.
+///
+/// RWFM (α = −2) is the exception: a counter samples the phase of a
+/// continuous random-walk FM, whose frequency steps between samples are
+/// MA(1)-correlated (they are τ0 averages of a continuous random walk). Its
+/// GACV is the continuous |t|³/12 at integer lags, k³/12, not the plain
+/// discrete random walk's (k³ − k)/12; the simulator draws this process
+/// (src/simulate.rs, RWFM shaping).
 pub(crate) fn discrete_phase_gacv(alpha: i32, kmax: usize) -> Vec<f64> {
     let n = kmax + 1;
+    if alpha == -2 {
+        return (0..n).map(|k| (k as f64).powi(3) / 12.0).collect();
+    }
     let (mut s, mut a): (Vec<f64>, i32) = if alpha % 2 == 0 {
         ((0..n).map(|k| if k == 0 { 1.0 } else { 0.0 }).collect(), 2)
     } else {
@@ -135,7 +145,7 @@ mod tests {
         let r = discrete_phase_gacv(-2, 50);
         for (k, v) in r.iter().enumerate() {
             let kf = k as f64;
-            assert!((v - (kf.powi(3) - kf) / 12.0).abs() < 1e-9 * (1.0 + kf.powi(3)));
+            assert!((v - kf.powi(3) / 12.0).abs() < 1e-9 * (1.0 + kf.powi(3)));
         }
         let f = discrete_phase_gacv(1, 3);
         assert!((f[3] + (1.0 + 1.0 / 3.0 + 1.0 / 5.0)).abs() < 1e-15);
