@@ -248,8 +248,9 @@ fn simulated_power_law_spectra() {
 /// Round trip: a simulated record's OADEV (NIST SP 1065 estimator, computed
 /// in the time domain) agrees with the AVAR converted from its own Welch
 /// spectrum (IEEE Std 1139 transfer function), over the τ both cover.
-/// The statistical spread of both at these τ is a few per cent; 12 % is
-/// allowed.
+/// The converted AVAR must lie inside the measured OADEV's 68.3 % interval;
+/// the ratio is also held within 12 % (the statistical spread of both at
+/// these τ is a few per cent), and MDEV the same way.
 #[test]
 fn record_spectrum_sigma_round_trip() {
     let tau0 = 1.0;
@@ -276,6 +277,27 @@ fn record_spectrum_sigma_round_trip() {
             "τ={}: OADEV {:e} vs from spectrum {:e}",
             c.0,
             e.value,
+            c.1
+        );
+    }
+    // And within the measured OADEV's confidence interval (Greenhall–Riley
+    // EDF, χ²; the default 68.3 %) at every τ: the round-trip check of issue 4.
+    let pts = tauwise::stats::annotate(
+        Estimator::Oadev,
+        &rec,
+        &meas,
+        &tauwise::stats::StatsOptions {
+            confidence: 0.683,
+            forced_alpha: None,
+        },
+    )
+    .unwrap();
+    for (c, p) in conv.iter().zip(&pts) {
+        let (lo, hi) = (p.lo.unwrap(), p.hi.unwrap());
+        assert!(
+            c.1 >= lo && c.1 <= hi,
+            "τ={}: converted {:e} outside the 68.3 % interval [{lo:e}, {hi:e}]",
+            c.0,
             c.1
         );
     }
