@@ -1,7 +1,7 @@
 //! The crate-wide error type.
 //!
 //! Each layer has its own error enum (for example [`crate::io::ReadError`],
-//! [`crate::units::UnitError`]); [`Error`] wraps them so that the binary can
+//! [`crate::units::UnitError`]); [`enum@Error`] wraps them so that the binary can
 //! print every failure the same way: `tauwise: error: <path>:<line>: <what>`.
 
 use thiserror::Error;
