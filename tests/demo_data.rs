@@ -24,7 +24,10 @@ fn demo_phase_noise_floors_are_plausible() {
             "{dev}: floor {floor:.1} dBc/Hz"
         );
         let (lo, hi) = t.spectrum.range();
-        assert!((lo - 1.0).abs() < 1e-9 && (hi - 10e6).abs() < 1e-3, "{dev}: 1 Hz – 10 MHz");
+        assert!(
+            (lo - 1.0).abs() < 1e-9 && (hi - 10e6).abs() < 1e-3,
+            "{dev}: 1 Hz – 10 MHz"
+        );
     }
 }
 

@@ -1,0 +1,121 @@
+//! End-to-end: `--plot FILE.svg|FILE.png` on the analysis commands. Each
+//! chart is checked as a document: the SVG parses as XML (roxmltree) and
+//! carries the expected labels; the PNG decodes (png crate) at 960×600 and
+//! is not blank. Inputs are made by `tauwise simulate` in a temporary
+//! directory and kept small so the file runs in seconds.
+
+use std::path::{Path, PathBuf};
+use std::process::Command;
+
+fn tauwise() -> Command {
+    Command::new(env!("CARGO_BIN_EXE_tauwise"))
+}
+
+fn run(args: &[&str]) {
+    let o = tauwise().args(args).output().unwrap();
+    assert!(
+        o.status.success(),
+        "tauwise {args:?} failed: {}",
+        String::from_utf8_lossy(&o.stderr)
+    );
+}
+
+/// A simulated phase record: white FM plus random-walk FM, τ0 = 1 s.
+fn record(dir: &Path, points: usize) -> PathBuf {
+    let p = dir.join("rec.txt");
+    run(&[
+        "simulate",
+        "--model",
+        "h0=1e-22,h-2=1e-30",
+        "--points",
+        &points.to_string(),
+        "--seed",
+        "3",
+        "-o",
+        p.to_str().unwrap(),
+    ]);
+    p
+}
+
+/// All text of an SVG document (parsed with roxmltree; a parse error fails).
+fn svg_text(path: &Path) -> String {
+    let text = std::fs::read_to_string(path).unwrap();
+    let doc = roxmltree::Document::parse(&text).unwrap_or_else(|e| panic!("{path:?}: {e}"));
+    assert_eq!(doc.root_element().tag_name().name(), "svg");
+    doc.descendants()
+        .filter(|n| n.is_text())
+        .filter_map(|n| n.text())
+        .collect::<Vec<_>>()
+        .join("\n")
+}
+
+/// Decode a PNG; check 960×600 and that it is not one flat colour.
+fn check_png(path: &Path) {
+    let dec = png::Decoder::new(std::fs::File::open(path).unwrap());
+    let mut reader = dec.read_info().unwrap();
+    let mut buf = vec![0; reader.output_buffer_size()];
+    let info = reader.next_frame(&mut buf).unwrap();
+    assert_eq!((info.width, info.height), (960, 600), "{path:?}");
+    let px = &buf[..info.buffer_size()];
+    let non_white = px.chunks(3).filter(|c| c.iter().any(|&v| v < 200)).count();
+    // Axes, grid, text and curves cover well over 1 % of the canvas.
+    assert!(
+        non_white > 960 * 600 / 100,
+        "{path:?}: nearly blank ({non_white} dark pixels)"
+    );
+}
+
+/// Run `args` + `--plot x.svg` and `--plot x.png`; return the SVG's text.
+fn both(dir: &Path, name: &str, args: &[&str]) -> String {
+    let svg = dir.join(format!("{name}.svg"));
+    let png = dir.join(format!("{name}.png"));
+    for p in [&svg, &png] {
+        let mut a: Vec<&str> = args.to_vec();
+        a.extend(["--plot", p.to_str().unwrap()]);
+        run(&a);
+    }
+    check_png(&png);
+    svg_text(&svg)
+}
+
+#[test]
+fn wander_plot_shows_mtie_tdev_and_masks() {
+    let d = tempfile::tempdir().unwrap();
+    let rec = record(d.path(), 2000);
+    let t = both(
+        d.path(),
+        "wander",
+        &[
+            "wander",
+            rec.to_str().unwrap(),
+            "--tau0",
+            "1s",
+            "--mask",
+            "g8262-opt1",
+        ],
+    );
+    for want in [
+        "MTIE measured",
+        "TDEV measured",
+        "MTIE mask g8262-opt1",
+        "TDEV mask g8262-opt1",
+    ] {
+        assert!(t.contains(want), "missing {want:?} in\n{t}");
+    }
+}
+
+#[test]
+fn plot_with_a_bad_extension_is_a_clear_error() {
+    let d = tempfile::tempdir().unwrap();
+    let rec = record(d.path(), 500);
+    let bad = d.path().join("x.jpg");
+    let o = tauwise()
+        .args(["wander", rec.to_str().unwrap(), "--tau0", "1s", "--plot"])
+        .arg(&bad)
+        .output()
+        .unwrap();
+    assert!(!o.status.success());
+    let e = String::from_utf8_lossy(&o.stderr);
+    assert!(e.contains("x.jpg") && e.contains(".svg or .png"), "{e}");
+    assert!(!bad.exists());
+}
