@@ -119,3 +119,30 @@ fn plot_with_a_bad_extension_is_a_clear_error() {
     assert!(e.contains("x.jpg") && e.contains(".svg or .png"), "{e}");
     assert!(!bad.exists());
 }
+
+#[test]
+fn holdover_plot_shows_percentiles_and_budget() {
+    let d = tempfile::tempdir().unwrap();
+    let rec = record(d.path(), 2000);
+    let t = both(
+        d.path(),
+        "holdover",
+        &[
+            "holdover",
+            rec.to_str().unwrap(),
+            "--tau0",
+            "1s",
+            "--span",
+            "2h",
+            "--budget",
+            "1us",
+            "--paths",
+            "100",
+            "--steps",
+            "256",
+        ],
+    );
+    for want in ["p95", "p99", "budget"] {
+        assert!(t.contains(want), "missing {want:?} in\n{t}");
+    }
+}
