@@ -146,3 +146,45 @@ fn holdover_plot_shows_percentiles_and_budget() {
         assert!(t.contains(want), "missing {want:?} in\n{t}");
     }
 }
+
+/// An L(f) table from a power-law model (`convert --model … --to lf`).
+fn lf_table(dir: &Path) -> PathBuf {
+    let p = dir.join("lf.csv");
+    run(&[
+        "convert",
+        "--model",
+        "h0=1e-22,h-1=1e-24,h-2=1e-30,fh=1e6",
+        "--carrier",
+        "10MHz",
+        "--to",
+        "lf",
+        "--format",
+        "csv",
+        "-o",
+        p.to_str().unwrap(),
+    ]);
+    p
+}
+
+#[test]
+fn jitter_plot_shades_the_bands() {
+    let d = tempfile::tempdir().unwrap();
+    let lf = lf_table(d.path());
+    let t = both(
+        d.path(),
+        "jitter",
+        &[
+            "jitter",
+            lf.to_str().unwrap(),
+            "--carrier",
+            "10MHz",
+            "--band",
+            "10:1k",
+            "--band",
+            "12k:100k",
+        ],
+    );
+    for want in ["band 10 Hz", "band 12 kHz", "10:1k:", "12k:100k:", "table"] {
+        assert!(t.contains(want), "missing {want:?} in\n{t}");
+    }
+}
