@@ -188,3 +188,41 @@ fn jitter_plot_shades_the_bands() {
         assert!(t.contains(want), "missing {want:?} in\n{t}");
     }
 }
+
+#[test]
+fn spectrum_plot_shows_the_record_lf() {
+    let d = tempfile::tempdir().unwrap();
+    let rec = record(d.path(), 2000);
+    let t = both(
+        d.path(),
+        "spectrum",
+        &[
+            "spectrum",
+            rec.to_str().unwrap(),
+            "--tau0",
+            "1s",
+            "--carrier",
+            "10MHz",
+        ],
+    );
+    assert!(t.contains("spectrum of"), "{t}");
+    assert!(t.contains("Welch"), "{t}");
+    // Without a carrier there is no L(f): a clear error and no file.
+    let svg = d.path().join("nocarrier.svg");
+    let o = tauwise()
+        .args([
+            "spectrum",
+            rec.to_str().unwrap(),
+            "--tau0",
+            "1s",
+            "--quantity",
+            "sy",
+            "--plot",
+        ])
+        .arg(&svg)
+        .output()
+        .unwrap();
+    assert!(!o.status.success());
+    assert!(String::from_utf8_lossy(&o.stderr).contains("--carrier"));
+    assert!(!svg.exists());
+}
