@@ -226,3 +226,23 @@ fn spectrum_plot_shows_the_record_lf() {
     assert!(String::from_utf8_lossy(&o.stderr).contains("--carrier"));
     assert!(!svg.exists());
 }
+
+#[test]
+fn noise_plot_shows_measured_and_model_curves() {
+    let d = tempfile::tempdir().unwrap();
+    let rec = record(d.path(), 2000);
+    let t = both(
+        d.path(),
+        "noise",
+        &["noise", rec.to_str().unwrap(), "--tau0", "1s"],
+    );
+    for want in [
+        "oadev",
+        "mdev",
+        "oadev-from-model",
+        "mdev-from-model",
+        "Dashed",
+    ] {
+        assert!(t.contains(want), "missing {want:?} in\n{t}");
+    }
+}
