@@ -246,3 +246,50 @@ fn noise_plot_shows_measured_and_model_curves() {
         assert!(t.contains(want), "missing {want:?} in\n{t}");
     }
 }
+
+#[test]
+fn convert_plots_sigma_lf_and_model() {
+    let d = tempfile::tempdir().unwrap();
+    let lf = lf_table(d.path());
+    let lf = lf.to_str().unwrap();
+    let t = both(
+        d.path(),
+        "conv-sigma",
+        &[
+            "convert",
+            "--lf",
+            lf,
+            "--carrier",
+            "10MHz",
+            "--to",
+            "sigma",
+            "--dev",
+            "adev,mdev",
+        ],
+    );
+    for want in ["adev-from-lf", "mdev-from-lf", "IEEE Std 1139"] {
+        assert!(t.contains(want), "missing {want:?} in\n{t}");
+    }
+    let t = both(
+        d.path(),
+        "conv-model",
+        &["convert", "--lf", lf, "--carrier", "10MHz", "--to", "model"],
+    );
+    for want in ["fitted power-law model", "h0=1.0000e-22"] {
+        assert!(t.contains(want), "missing {want:?} in\n{t}");
+    }
+    let t = both(
+        d.path(),
+        "conv-lf",
+        &[
+            "convert",
+            "--model",
+            "h0=1e-22,fh=1e3",
+            "--carrier",
+            "10MHz",
+            "--to",
+            "lf",
+        ],
+    );
+    assert!(t.contains("model h0=1.0000e-22"), "{t}");
+}
