@@ -105,6 +105,32 @@ fn wander_plot_shows_mtie_tdev_and_masks() {
 }
 
 #[test]
+fn wander_plot_marks_violations() {
+    // A pure frequency offset y0 = 2e-8: MTIE(τ) = y0·τ (analytic), above the
+    // 40 ns G.8262 option 1 MTIE limit (from memory) from τ = 2 s on.
+    let d = tempfile::tempdir().unwrap();
+    let text: String = (0..2001)
+        .map(|i| format!("{}\n", 2e-8 * i as f64))
+        .collect();
+    let rec = d.path().join("ramp.txt");
+    std::fs::write(&rec, text).unwrap();
+    let t = both(
+        d.path(),
+        "violations",
+        &[
+            "wander",
+            rec.to_str().unwrap(),
+            "--tau0",
+            "1s",
+            "--mask",
+            "g8262-opt1",
+        ],
+    );
+    assert!(t.contains("exceeds g8262-opt1"), "{t}");
+    assert!(t.contains("violating point(s) marked"), "{t}");
+}
+
+#[test]
 fn plot_with_a_bad_extension_is_a_clear_error() {
     let d = tempfile::tempdir().unwrap();
     let rec = record(d.path(), 500);
