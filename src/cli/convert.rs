@@ -10,6 +10,7 @@ use std::fmt::Write as _;
 use std::path::PathBuf;
 use tauwise::io::lf_table::{read_lf_table, TableOptions, TableQuantity};
 use tauwise::model::PowerLaw;
+use tauwise::plot::phase_noise::{LfTrace, PhaseNoisePlot, TraceKind};
 use tauwise::spectrum::sigma::{sigma_points, SigmaKind, SigmaOptions, SigmaPoint};
 use tauwise::spectrum::{Quantity, Spectrum};
 use tauwise::tau::TauGrid;
@@ -82,6 +83,10 @@ pub struct Args {
     /// Points per decade of a table made with --to lf.
     #[arg(long, value_name = "N", default_value_t = 10)]
     pub per_decade: usize,
+    /// Draw the result to FILE (.svg or .png): the σ–τ curves (--to sigma),
+    /// or L(f) (--to lf; --to model: the table with the fitted model dashed).
+    #[arg(long, value_name = "FILE")]
+    pub plot: Option<PathBuf>,
     #[command(flatten)]
     pub output: OutputArgs,
 }
@@ -207,6 +212,12 @@ pub fn run(args: Args) -> Result<Outcome> {
             "this conversion needs the carrier frequency: give --carrier (e.g. --carrier 10MHz)",
         ));
     }
+    if let (Some(path), Target::Model, None) = (&args.plot, args.to, carrier) {
+        return Err(Error::invalid(format!(
+            "--plot {}: the chart of --to model shows L(f), which needs the carrier frequency: give --carrier (e.g. --carrier 10MHz)",
+            path.display()
+        )));
+    }
     let src = source(&args, carrier, duration(&args.max_tau, "max-tau")?)?;
     let text = match args.to {
         Target::Sigma => to_sigma(&args, src, carrier)?,
@@ -254,6 +265,47 @@ fn to_sigma(args: &Args, src: Source, carrier: Option<f64>) -> Result<String> {
             _ => taus.clone(),
         };
         curves.push((name.clone(), sigma_points(&src.spectrum, *kind, &t, opt)?));
+    }
+    if let Some(path) = &args.plot {
+        use tauwise::plot::stability::{is_time_deviation, SigmaCurve, StabilityPlot};
+        let suffix = if args.lf.is_some() {
+            "-from-lf"
+        } else {
+            "-from-model"
+        };
+        let mut notes = vec![format!(
+            "Converted: σ²(τ) = ∫ S_y(f)|H(f)|² df up to f_h = {} (IEEE Std 1139 transfer functions), τ0 = {} for MDEV/TDEV.",
+            format_si(src.f_h, "Hz", 4),
+            format_si(tau0, "s", 4)
+        )];
+        if args.sigma.is_some() {
+            notes.push("Model-based: h_α fitted to the σ(τ) curves, then converted.".into());
+        }
+        if curves.iter().any(|(_, p)| p.iter().any(|q| q.truncated)) {
+            notes.push(
+                "Some points are lower bounds: the table's low end is too steep to extend below it."
+                    .into(),
+            );
+        }
+        let plot = StabilityPlot {
+            title: src.label.clone(),
+            curves: curves
+                .iter()
+                .map(|(name, pts)| SigmaCurve {
+                    name: format!("{name}{suffix}"),
+                    points: pts
+                        .iter()
+                        .map(|p| tauwise::plot::XY::new(p.tau, p.dev))
+                        .collect(),
+                    derived: true,
+                    time_deviation: is_time_deviation(name),
+                })
+                .collect(),
+            regions: Vec::new(),
+            confidence: None,
+            notes,
+        };
+        tauwise::plot::render(&plot.chart(), path, tauwise::plot::DEFAULT_SIZE)?;
     }
     Ok(match args.output.format {
         Format::Json => {
@@ -375,12 +427,31 @@ fn to_lf(args: &Args, src: Source, carrier: Option<f64>) -> Result<String> {
         }),
         _ => None,
     };
+    let from_model = model.is_some();
     let spec = match model {
         Some(model) => {
             Spectrum::from_model(&model, Quantity::Lf, carrier, from, to, args.per_decade)?
         }
         None => src.spectrum.to(Quantity::Lf)?,
     };
+    if let Some(path) = &args.plot {
+        let (kind, mut notes) = if from_model {
+            (TraceKind::Model, vec![format!("L(f) of {}.", src.label)])
+        } else {
+            (TraceKind::Table, Vec::new())
+        };
+        if args.sigma.is_some() {
+            notes.push("Model-based: h_α fitted to the σ(τ) curves, then converted.".into());
+        }
+        let plot = PhaseNoisePlot {
+            title: src.label.clone(),
+            carrier,
+            traces: vec![LfTrace::from_spectrum(&src.label, kind, &spec)?],
+            bands: Vec::new(),
+            notes,
+        };
+        tauwise::plot::render(&plot.chart(), path, tauwise::plot::DEFAULT_SIZE)?;
+    }
     let rows = Rows::new(&spec)?;
     Ok(match args.output.format {
         Format::Json => {
@@ -464,6 +535,33 @@ fn to_model(args: &Args, src: Source, carrier: Option<f64>) -> Result<String> {
     let rms_db = (fit.residual_db.iter().map(|r| r * r).sum::<f64>()
         / fit.residual_db.len().max(1) as f64)
         .sqrt();
+    if let Some(path) = &args.plot {
+        let (lo, hi) = (f.first().copied(), f.last().copied());
+        let mut traces = vec![LfTrace::from_spectrum(
+            &src.label,
+            TraceKind::Table,
+            &src.spectrum,
+        )?];
+        if let (Some(lo), Some(hi)) = (lo, hi) {
+            let ms = Spectrum::from_model(&m, Quantity::Lf, carrier, lo, hi, 20)?;
+            traces.push(LfTrace::from_spectrum(
+                "fitted power-law model",
+                TraceKind::Model,
+                &ms,
+            )?);
+        }
+        let plot = PhaseNoisePlot {
+            title: src.label.clone(),
+            carrier,
+            traces,
+            bands: Vec::new(),
+            notes: vec![format!(
+                "Model fitted to S_y in log space: {} (residual {rms_db:.2} dB rms).",
+                m.to_model_string()
+            )],
+        };
+        tauwise::plot::render(&plot.chart(), path, tauwise::plot::DEFAULT_SIZE)?;
+    }
     Ok(match args.output.format {
         Format::Json => {
             let mut doc = src.header;

@@ -81,6 +81,10 @@ pub struct Args {
     /// Exit with status 3 when the verdict fails (for scripts).
     #[arg(long)]
     pub fail_on_violation: bool,
+    /// Draw the time error through the span (deterministic, p50/p95/p99 of
+    /// |TE|, the budget and the hold time) to FILE (.svg or .png).
+    #[arg(long, value_name = "FILE")]
+    pub plot: Option<PathBuf>,
     #[command(flatten)]
     pub output: OutputArgs,
 }
@@ -165,6 +169,16 @@ pub fn run(args: Args) -> Result<Outcome> {
         ..Settings::new(span, budget)
     };
     let pred = predict(&model, &settings)?;
+    if let Some(path) = &args.plot {
+        let plot = tauwise::plot::holdover::HoldoverPlot::from_prediction(
+            &series.info.path.display().to_string(),
+            &pred,
+            settings.span,
+            settings.budget,
+            vec![caution()],
+        );
+        tauwise::plot::render(&plot.chart(), path, tauwise::plot::DEFAULT_SIZE)?;
+    }
     let text = match args.output.format {
         Format::Json => json_text(&to_json(
             &series,

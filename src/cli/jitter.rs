@@ -11,6 +11,7 @@ use std::path::{Path, PathBuf};
 use tauwise::io::lf_table::{
     read_filter_file, read_lf_table, read_spurs, LfTable, TableOptions, TableQuantity,
 };
+use tauwise::plot::phase_noise::{BandMark, LfTrace, PhaseNoisePlot, TraceKind};
 use tauwise::spectrum::jitter::{integrate_band, Band, BandJitter, JitterSetup, Weighting};
 use tauwise::spectrum::welch::welch;
 use tauwise::spectrum::Spectrum;
@@ -64,6 +65,10 @@ pub struct Args {
     /// Segment length for --record spectra (samples).
     #[arg(long, value_name = "N")]
     pub segment: Option<usize>,
+    /// Draw L(f) with each integration band shaded and labelled with its
+    /// rms jitter to FILE (.svg or .png).
+    #[arg(long, value_name = "FILE")]
+    pub plot: Option<PathBuf>,
     #[command(flatten)]
     pub output: OutputArgs,
 }
@@ -149,10 +154,16 @@ pub fn run(args: Args) -> Result<Outcome> {
         }
         None => None,
     };
+    // The trace to plot: the table itself, or the record's spectrum
+    // averaged into 10 log-spaced bins per decade (readable, same level).
+    let mut plot_trace: Option<(Spectrum, TraceKind)> = None;
     let (mut header, spectrum, source): (_, Spectrum, String) = match (&args.table, &args.record) {
         (Some(path), _) => {
             let q = TableQuantity::parse(&args.quantity)?;
             let t = load_table(path, q, &args.input, Some(carrier))?;
+            if args.plot.is_some() {
+                plot_trace = Some((t.spectrum.clone(), TraceKind::Table));
+            }
             (
                 table_header(&t, q),
                 t.spectrum.clone(),
@@ -165,6 +176,9 @@ pub fn run(args: Args) -> Result<Outcome> {
                 &series.record.to_phase(),
                 &welch_options(&args.window, args.segment, 0.5)?,
             )?;
+            if args.plot.is_some() {
+                plot_trace = Some((w.log_binned(10, Some(carrier))?, TraceKind::RecordSpectrum));
+            }
             let mut h = header_json(&series);
             h.insert("window".into(), w.window.name().into());
             h.insert("enbw_hz".into(), num(w.enbw_hz));
@@ -181,6 +195,31 @@ pub fn run(args: Args) -> Result<Outcome> {
         .iter()
         .map(|&b| integrate_band(&spectrum, b, &setup, ui_rate))
         .collect::<Result<Vec<_>>>()?;
+    if let (Some(path), Some((trace, kind))) = (&args.plot, &plot_trace) {
+        let mut notes = Vec::new();
+        if let Some(r) = results.first() {
+            if r.filter != "none" {
+                notes.push(format!("Band jitter weighted by {}.", r.filter));
+            }
+        }
+        if results.iter().any(|r| !r.extrapolated.is_empty()) {
+            notes.push("Some bands reach beyond the table: its end slopes were continued.".into());
+        }
+        notes.push(DECISION_CAUTION.to_string());
+        let plot = PhaseNoisePlot {
+            title: source.clone(),
+            carrier: Some(carrier),
+            traces: vec![LfTrace::from_spectrum(&source, *kind, trace)?],
+            bands: args
+                .bands
+                .iter()
+                .zip(&results)
+                .map(|(name, r)| BandMark::from_jitter(name, r))
+                .collect(),
+            notes,
+        };
+        tauwise::plot::render(&plot.chart(), path, tauwise::plot::DEFAULT_SIZE)?;
+    }
     let text = match args.output.format {
         Format::Json => {
             header.insert("carrier".into(), num(carrier));

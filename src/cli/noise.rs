@@ -30,6 +30,10 @@ pub struct Args {
     /// would otherwise read as random-walk FM at long τ).
     #[arg(long, value_enum, value_name = "MODEL")]
     pub remove_drift: Option<super::prepare::DriftArg>,
+    /// Draw OADEV and MDEV with the fitted model's curves dashed and the
+    /// noise type of each τ region to FILE (.svg or .png).
+    #[arg(long, value_name = "FILE")]
+    pub plot: Option<PathBuf>,
     #[command(flatten)]
     pub output: OutputArgs,
 }
@@ -56,6 +60,28 @@ pub fn run(args: Args) -> Result<Outcome> {
         })
         .collect();
     let model = fit_record_model(&x, &grid)?;
+    if let Some(path) = &args.plot {
+        use tauwise::plot::stability::{
+            model_curves, regions_from_curve, SigmaCurve, StabilityPlot,
+        };
+        let mut curves: Vec<SigmaCurve> = model.curves.iter().map(SigmaCurve::from_curve).collect();
+        curves.extend(model_curves(&model, x.tau0));
+        let plot = StabilityPlot {
+            title: series.info.path.display().to_string(),
+            curves,
+            regions: model
+                .curves
+                .first()
+                .map(regions_from_curve)
+                .unwrap_or_default(),
+            confidence: Some(tauwise::stats::DEFAULT_CONFIDENCE),
+            notes: vec![format!(
+                "Dashed: the power-law model fitted to OADEV and MDEV (EDF-weighted): {}",
+                model.fit.model.to_model_string()
+            )],
+        };
+        tauwise::plot::render(&plot.chart(), path, tauwise::plot::DEFAULT_SIZE)?;
+    }
     let text = match args.output.format {
         Format::Json => {
             let mut doc = header_json(&series);

@@ -6,6 +6,7 @@ use super::Outcome;
 use clap::Args as ClapArgs;
 use std::fmt::Write as _;
 use std::path::PathBuf;
+use tauwise::plot::phase_noise::{LfTrace, PhaseNoisePlot, TraceKind};
 use tauwise::spectrum::welch::{welch, Welch, WelchOptions, Window};
 use tauwise::spectrum::{Quantity, Spectrum};
 use tauwise::units::{format_si, format_sig};
@@ -42,6 +43,9 @@ pub struct Args {
     /// Write every DFT bin instead of log-spaced averages.
     #[arg(long)]
     pub all_bins: bool,
+    /// Draw L(f) of the record to FILE (.svg or .png); needs --carrier.
+    #[arg(long, value_name = "FILE")]
+    pub plot: Option<PathBuf>,
     #[command(flatten)]
     pub output: OutputArgs,
 }
@@ -70,6 +74,12 @@ pub fn run(args: Args) -> Result<Outcome> {
             quantity.name()
         )));
     }
+    if let (Some(path), None) = (&args.plot, carrier) {
+        return Err(Error::invalid(format!(
+            "--plot {}: the chart shows L(f), which needs the carrier frequency: give --carrier (e.g. --carrier 10MHz)",
+            path.display()
+        )));
+    }
     let series = args.input.load(&args.file)?;
     let phase = series.record.to_phase();
     let w = welch(
@@ -82,6 +92,35 @@ pub fn run(args: Args) -> Result<Outcome> {
         w.log_binned(args.per_decade, carrier)?
     };
     let rows = Rows::new(&spec)?;
+    if let Some(path) = &args.plot {
+        let name = series.info.path.display().to_string();
+        let plot = PhaseNoisePlot {
+            title: name.clone(),
+            carrier,
+            traces: vec![LfTrace::from_spectrum(
+                &format!("spectrum of {name}"),
+                TraceKind::RecordSpectrum,
+                &spec,
+            )?],
+            bands: Vec::new(),
+            notes: vec![format!(
+                "Welch's method: {} window, {:.0} % overlap, ENBW {}, {}; {}.",
+                w.window.name(),
+                w.overlap * 100.0,
+                format_si(w.enbw_hz, "Hz", 4),
+                if args.all_bins {
+                    "every DFT bin".to_string()
+                } else {
+                    format!(
+                        "averaged into {} log-spaced bins per decade",
+                        args.per_decade
+                    )
+                },
+                w.gap_note()
+            )],
+        };
+        tauwise::plot::render(&plot.chart(), path, tauwise::plot::DEFAULT_SIZE)?;
+    }
     let text = match args.output.format {
         Format::Json => {
             let mut m = header_json(&series);

@@ -39,6 +39,10 @@ pub struct Args {
     /// Exit with status 3 when any mask fails (for scripts).
     #[arg(long)]
     pub fail_on_violation: bool,
+    /// Draw MTIE and TDEV against the masks, violations marked, to FILE
+    /// (.svg or .png).
+    #[arg(long, value_name = "FILE")]
+    pub plot: Option<PathBuf>,
     #[command(flatten)]
     pub output: OutputArgs,
 }
@@ -61,6 +65,24 @@ pub fn run(args: Args) -> Result<Outcome> {
         None => default_ms(n, rec.tau0)?,
     };
     let res = analyse(&rec, &ms, args.remove_offset, &masks)?;
+    if let Some(path) = &args.plot {
+        let plots = tauwise::plot::wander::plots_from_result(
+            &res,
+            &masks,
+            &series.info.path.display().to_string(),
+        );
+        let mut notes = Vec::new();
+        if let Some(y) = res.tie.offset_removed {
+            notes.push(format!(
+                "A constant frequency offset of {y:.4e} was removed first."
+            ));
+        }
+        if !masks.is_empty() {
+            notes.push(format!("{CONDITIONS_NOTE} {DECISION_CAUTION}"));
+        }
+        let chart = tauwise::plot::wander::combined_chart(&plots, &notes);
+        tauwise::plot::render(&chart, path, tauwise::plot::DEFAULT_SIZE)?;
+    }
     let text = match args.output.format {
         Format::Json => json_text(&to_json(&series, &res)),
         Format::Csv => to_csv(&res),

@@ -41,6 +41,29 @@ pub fn time_unit(span: f64) -> (&'static str, f64) {
 }
 
 impl HoldoverPlot {
+    /// The chart data of a holdover prediction: the TE curves of `pred`, the
+    /// span and budget it was made for, and `notes` as footnotes.
+    pub fn from_prediction(
+        title: &str,
+        pred: &crate::holdover::Prediction,
+        span: f64,
+        budget: f64,
+        notes: Vec<String>,
+    ) -> Self {
+        Self {
+            title: title.to_string(),
+            t: pred.te.iter().map(|p| p.t).collect(),
+            deterministic: pred.te.iter().map(|p| p.deterministic).collect(),
+            p50: pred.te.iter().map(|p| p.p50).collect(),
+            p95: pred.te.iter().map(|p| p.p95).collect(),
+            p99: pred.te.iter().map(|p| p.p99).collect(),
+            budget: Some(budget),
+            holds_for: pred.holds_for,
+            span,
+            notes,
+        }
+    }
+
     /// Build the chart.
     pub fn chart(&self) -> Chart {
         let (unit, div) = time_unit(self.span.max(self.t.last().copied().unwrap_or(0.0)));

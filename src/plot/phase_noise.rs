@@ -52,6 +52,40 @@ pub struct PhaseNoisePlot {
     pub notes: Vec<String>,
 }
 
+/// (offset, L(f) in dBc/Hz) points of a spectrum in any quantity (S_y and
+/// S_x need the carrier the spectrum carries; IEEE Std 1139 relations).
+pub fn lf_points(s: &crate::spectrum::Spectrum) -> crate::Result<Vec<(f64, f64)>> {
+    let l = s.to(crate::spectrum::Quantity::Lf)?;
+    Ok(l.f.iter().copied().zip(l.values.iter().copied()).collect())
+}
+
+impl LfTrace {
+    /// A trace of the spectrum `s`, shown as L(f).
+    pub fn from_spectrum(
+        name: &str,
+        kind: TraceKind,
+        s: &crate::spectrum::Spectrum,
+    ) -> crate::Result<Self> {
+        Ok(Self {
+            name: name.to_string(),
+            kind,
+            points: lf_points(s)?,
+        })
+    }
+}
+
+impl BandMark {
+    /// The shaded band of an integrated-jitter result, labelled `name: rms`
+    /// (rms time jitter).
+    pub fn from_jitter(name: &str, b: &crate::spectrum::jitter::BandJitter) -> Self {
+        Self {
+            from: b.from,
+            to: b.to,
+            label: format!("{name}: {}", crate::units::format_si(b.rms_s, "s", 3)),
+        }
+    }
+}
+
 impl PhaseNoisePlot {
     /// Build the chart.
     pub fn chart(&self) -> Chart {

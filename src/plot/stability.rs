@@ -97,6 +97,61 @@ pub fn regions_from_curve(c: &Curve) -> Vec<NoiseRegion> {
     out
 }
 
+/// The model curves of a fitted record model, `oadev-from-model` and
+/// `mdev-from-model` (dashed, in the colour of the measured curve), over the
+/// τ span of the measured curves at up to 20 points per decade (whole
+/// multiples of τ0).
+///
+/// Each value is σ(τ) = √(Σ_α h_α·B_α(τ)), with B_α the variance of the unit
+/// power law h_α = 1 that the fit itself uses ([`crate::model::fit::basis`]:
+/// the IEEE Std 1139 / NIST SP 1065 closed forms for large τ/τ0, the
+/// transfer-function integral of the sampled estimator below), so the dashed
+/// line is exactly the curve the model was fitted as.
+pub fn model_curves(rm: &crate::stability::RecordModel, tau0: f64) -> Vec<SigmaCurve> {
+    use crate::model::fit::{basis, VarKind};
+    let (lo, hi) = rm
+        .curves
+        .iter()
+        .flat_map(|c| c.points.iter().map(|p| p.estimate.tau))
+        .filter(|t| t.is_finite() && *t > 0.0)
+        .fold((f64::INFINITY, 0.0f64), |(a, b), t| (a.min(t), b.max(t)));
+    if !(lo.is_finite() && hi >= lo && tau0 > 0.0) {
+        return Vec::new();
+    }
+    // The estimators are defined at τ = nτ0 with whole n: sample there
+    // (log-spaced, duplicates removed at short τ).
+    let steps = ((hi / lo).log10() * 20.0).ceil().max(1.0) as usize;
+    let mut ns: Vec<u64> = (0..=steps)
+        .map(|i| lo * (hi / lo).powf(i as f64 / steps as f64))
+        .map(|t| ((t / tau0).round() as u64).max(1))
+        .collect();
+    ns.dedup();
+    let taus: Vec<f64> = ns.iter().map(|&n| n as f64 * tau0).collect();
+    let model = &rm.fit.model;
+    let mut out = Vec::new();
+    for (name, kind) in [("oadev", VarKind::Avar), ("mdev", VarKind::Mvar)] {
+        if !rm.curves.iter().any(|c| c.estimator == name) {
+            continue;
+        }
+        let points: Vec<XY> = taus
+            .iter()
+            .filter_map(|&t| {
+                let var: f64 = (-2..=2)
+                    .map(|a| model.get(a) * basis(kind, a, t, tau0, model.f_h))
+                    .sum();
+                (var.is_finite() && var > 0.0).then(|| XY::new(t, var.sqrt()))
+            })
+            .collect();
+        out.push(SigmaCurve {
+            name: format!("{name}-from-model"),
+            points,
+            derived: true,
+            time_deviation: false,
+        });
+    }
+    out
+}
+
 /// Everything the σ–τ chart shows.
 #[derive(Debug, Clone, PartialEq, Default)]
 pub struct StabilityPlot {
@@ -301,5 +356,47 @@ mod tests {
         assert_eq!(p.time_chart().unwrap().series[0].name, "tdev");
         assert!(is_time_deviation("tdev-from-lf"));
         assert!(!is_time_deviation("oadev"));
+    }
+
+    #[test]
+    fn model_curve_is_the_closed_form_for_white_fm() {
+        // Pure WFM h_0: σ_y²(τ) = h_0/(2τ) and Mod σ_y²(τ) = h_0/(4τ)
+        // (IEEE Std 1139 table, large τ/τ0, analytic).
+        let h0 = 2e-22;
+        let mut oadev = curve(&[None; 11]);
+        for p in &mut oadev.points {
+            p.estimate.tau *= 64.0;
+        }
+        let mut mdev = oadev.clone();
+        mdev.estimator = "mdev".into();
+        let mut model = crate::model::PowerLaw::zero(0.5);
+        model.set(0, h0);
+        let rm = crate::stability::RecordModel {
+            curves: vec![oadev, mdev],
+            fit: crate::model::fit::ModelFit {
+                model,
+                fitted: [false, false, true, false, false],
+                residual_db: Vec::new(),
+                dominant: Vec::new(),
+            },
+        };
+        let c = model_curves(&rm, 1.0);
+        assert_eq!(c.len(), 2);
+        assert_eq!(c[0].name, "oadev-from-model");
+        assert!(c.iter().all(|x| x.derived && !x.time_deviation));
+        assert!((c[0].points[0].x - 64.0).abs() < 1e-9);
+        assert!((c[0].points.last().unwrap().x - 65536.0).abs() < 1e-6);
+        for (k, div) in [(0, 2.0), (1, 4.0)] {
+            for p in &c[k].points {
+                let want = (h0 / (div * p.x)).sqrt();
+                assert!(
+                    (p.y / want - 1.0).abs() < 0.02,
+                    "{} at τ = {}: {} vs {want}",
+                    c[k].name,
+                    p.x,
+                    p.y
+                );
+            }
+        }
     }
 }

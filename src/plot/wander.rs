@@ -119,6 +119,129 @@ impl WanderPlot {
     }
 }
 
+/// Log-spaced samples of a mask's limit over the τ it covers (clipped to
+/// `lo … hi`), plus its breakpoints, so steps and corners show.
+pub fn mask_points(m: &crate::wander::masks::Mask, lo: f64, hi: f64) -> Vec<(f64, f64)> {
+    let (a, b) = m.tau_range();
+    let (a, b) = (a.max(lo), b.min(hi));
+    if !(a > 0.0 && b > a) {
+        return Vec::new();
+    }
+    let mut taus: Vec<f64> = (0..=200)
+        .map(|i| a * (b / a).powf(i as f64 / 200.0))
+        .collect();
+    for bp in m.breakpoints() {
+        if bp > a && bp < b {
+            taus.push(bp);
+            taus.push(bp * (1.0 + 1e-9));
+        }
+    }
+    taus.sort_by(f64::total_cmp);
+    taus.iter()
+        .filter_map(|&t| m.limit(t).map(|l| (t, l)))
+        .collect()
+}
+
+/// The MTIE and the TDEV chart of a wander analysis, in that order: each
+/// measured curve with the masks of its metric (sampled over the measured τ
+/// range) and their violations. `masks` are the masks `res` was checked
+/// against, in the same order as `res.checks`.
+pub fn plots_from_result(
+    res: &crate::wander::WanderResult,
+    masks: &[crate::wander::masks::Mask],
+    title: &str,
+) -> Vec<WanderPlot> {
+    use crate::wander::masks::Metric as MaskMetric;
+    let (tlo, thi) = res
+        .mtie
+        .iter()
+        .chain(&res.tdev)
+        .fold((f64::INFINITY, 0.0f64), |(a, b), e| {
+            (a.min(e.tau), b.max(e.tau))
+        });
+    let mut plots = Vec::new();
+    for (metric, pm, curve) in [
+        (MaskMetric::Mtie, Metric::Mtie, &res.mtie),
+        (MaskMetric::Tdev, Metric::Tdev, &res.tdev),
+    ] {
+        let mut lines = Vec::new();
+        for (m, c) in masks
+            .iter()
+            .zip(&res.checks)
+            .filter(|(m, _)| m.metric == metric)
+        {
+            lines.push(MaskLine {
+                name: m.name.clone(),
+                limit: mask_points(m, tlo, thi),
+                violations: c.violations.iter().map(|v| (v.tau, v.value)).collect(),
+            });
+        }
+        let mut notes = Vec::new();
+        if lines.is_empty() {
+            notes.push(format!("No {} mask was asked for.", pm.name()));
+        }
+        plots.push(WanderPlot {
+            title: title.to_string(),
+            metric: pm,
+            measured: curve.iter().map(|e| (e.tau, e.value)).collect(),
+            masks: lines,
+            notes,
+        });
+    }
+    plots
+}
+
+/// MTIE and TDEV on one chart (both are times against τ): the charts of
+/// `plots` overlaid, the later metrics' measured curves in their own colour
+/// and their masks in further palette colours, so one file shows both.
+pub fn combined_chart(plots: &[WanderPlot], notes: &[String]) -> Chart {
+    let mut iter = plots.iter();
+    let Some(first) = iter.next() else {
+        return Chart::new(
+            "",
+            Axis::log_si("observation interval τ", "s"),
+            Axis::log_si("", "s"),
+        );
+    };
+    let mut ch = first.chart();
+    let mut subtitles = vec![ch.subtitle.clone()];
+    let mut shift = first.masks.len() + 2;
+    for p in iter {
+        let c = p.chart();
+        subtitles.push(c.subtitle.clone());
+        for mut s in c.series {
+            if s.style.colour != Colour::Alarm {
+                s.style.colour = match s.style.colour {
+                    Colour::Palette(i) => Colour::Palette(i + shift),
+                    _ => Colour::Palette(shift + 1),
+                };
+                if s.style.marker == Marker::Dot {
+                    s.style.marker = Marker::Square;
+                }
+            }
+            ch.series.push(s);
+        }
+        ch.notes.extend(c.notes);
+        shift += p.masks.len() + 2;
+    }
+    // Name each mask's metric in the legend (one mask file may limit both).
+    let mut k = 0;
+    for p in plots {
+        let c = p.chart();
+        for s in &mut ch.series[k..k + c.series.len()] {
+            if !s.name.starts_with(p.metric.name()) {
+                s.name = format!("{} {}", p.metric.name(), s.name);
+            }
+        }
+        k += c.series.len();
+    }
+    let names: Vec<&str> = plots.iter().map(|p| p.metric.name()).collect();
+    ch.y.label = names.join(", ");
+    ch.subtitle = subtitles.join("; ");
+    ch.notes.extend(notes.iter().cloned());
+    ch
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

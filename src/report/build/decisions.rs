@@ -6,36 +6,12 @@ use super::{method, Loaded};
 use crate::holdover::{model_from_record, predict, FromRecord, Settings, Verdict as HVerdict};
 use crate::io::dut::Dut;
 use crate::plot::holdover::HoldoverPlot;
-use crate::plot::wander::{MaskLine, Metric as PlotMetric, WanderPlot};
 use crate::report::*;
 use crate::tau::TauGrid;
 use crate::units::format_si;
 use crate::wander::check::Verdict as WVerdict;
 use crate::wander::mask_file::read_mask_file;
-use crate::wander::masks::{builtin, Metric, CONDITIONS_NOTE, FROM_MEMORY_NOTE};
-
-/// Log-spaced samples of a mask's limit over the τ it covers (clipped to
-/// `lo … hi`), plus its breakpoints, so steps and corners show.
-fn mask_points(m: &crate::wander::masks::Mask, lo: f64, hi: f64) -> Vec<(f64, f64)> {
-    let (a, b) = m.tau_range();
-    let (a, b) = (a.max(lo), b.min(hi));
-    if !(a > 0.0 && b > a) {
-        return Vec::new();
-    }
-    let mut taus: Vec<f64> = (0..=200)
-        .map(|i| a * (b / a).powf(i as f64 / 200.0))
-        .collect();
-    for bp in m.breakpoints() {
-        if bp > a && bp < b {
-            taus.push(bp);
-            taus.push(bp * (1.0 + 1e-9));
-        }
-    }
-    taus.sort_by(f64::total_cmp);
-    taus.iter()
-        .filter_map(|&t| m.limit(t).map(|l| (t, l)))
-        .collect()
-}
+use crate::wander::masks::{builtin, CONDITIONS_NOTE, FROM_MEMORY_NOTE};
 
 /// The wander section and one verdict per mask.
 pub(super) fn wander(dut: &Dut, records: &[Loaded], ties: &[Loaded], r: &mut Report) -> Result<()> {
@@ -86,42 +62,11 @@ pub(super) fn wander(dut: &Dut, records: &[Loaded], ties: &[Loaded], r: &mut Rep
         "mask checks",
         "ITU-T G.811, G.8262, G.8272 masks (built-in values recalled from memory) or the user's mask files",
     ));
-    let (tlo, thi) = res
-        .mtie
-        .iter()
-        .chain(&res.tdev)
-        .fold((f64::INFINITY, 0.0f64), |(a, b), e| {
-            (a.min(e.tau), b.max(e.tau))
-        });
-    let mut plots = Vec::new();
-    for (metric, pm, curve) in [
-        (Metric::Mtie, PlotMetric::Mtie, &res.mtie),
-        (Metric::Tdev, PlotMetric::Tdev, &res.tdev),
-    ] {
-        let mut lines = Vec::new();
-        for (m, c) in masks
-            .iter()
-            .zip(&res.checks)
-            .filter(|(m, _)| m.metric == metric)
-        {
-            lines.push(MaskLine {
-                name: m.name.clone(),
-                limit: mask_points(m, tlo, thi),
-                violations: c.violations.iter().map(|v| (v.tau, v.value)).collect(),
-            });
-        }
-        let mut notes = Vec::new();
-        if lines.is_empty() {
-            notes.push(format!("No {} mask was asked for.", pm.name()));
-        }
-        plots.push(WanderPlot {
-            title: format!("{} — {}", dut.name, l.src.name),
-            metric: pm,
-            measured: curve.iter().map(|e| (e.tau, e.value)).collect(),
-            masks: lines,
-            notes,
-        });
-    }
+    let plots = crate::plot::wander::plots_from_result(
+        &res,
+        &masks,
+        &format!("{} — {}", dut.name, l.src.name),
+    );
     let mut rows = Vec::new();
     for c in &res.checks {
         let item = format!("{} ({})", c.name, c.metric.name().to_uppercase());
@@ -316,18 +261,13 @@ pub(super) fn holdover(dut: &Dut, records: &[Loaded], r: &mut Report) -> Result<
     r.holdover = Part::Done(HoldoverSection {
         source: l.src.name.clone(),
         budget: h.budget,
-        plot: HoldoverPlot {
-            title: format!("{} — holdover from {}", dut.name, l.src.name),
-            t: pred.te.iter().map(|p| p.t).collect(),
-            deterministic: pred.te.iter().map(|p| p.deterministic).collect(),
-            p50: pred.te.iter().map(|p| p.p50).collect(),
-            p95: pred.te.iter().map(|p| p.p95).collect(),
-            p99: pred.te.iter().map(|p| p.p99).collect(),
-            budget: Some(h.budget),
-            holds_for: pred.holds_for,
+        plot: HoldoverPlot::from_prediction(
+            &format!("{} — holdover from {}", dut.name, l.src.name),
+            &pred,
             span,
-            notes: vec![caution.clone()],
-        },
+            h.budget,
+            vec![caution.clone()],
+        ),
         spans,
         holds_for: pred.holds_for,
         parameters,

@@ -7,7 +7,7 @@ use crate::deviation::Curve;
 use crate::io::dut::{Dut, JitterSpec};
 use crate::io::lf_table::read_filter_file;
 use crate::model::fit::fit_sy;
-use crate::plot::phase_noise::{BandMark, LfTrace, PhaseNoisePlot, TraceKind};
+use crate::plot::phase_noise::{lf_points, BandMark, LfTrace, PhaseNoisePlot, TraceKind};
 use crate::plot::stability::{SigmaCurve, StabilityPlot};
 use crate::plot::XY;
 use crate::report::*;
@@ -16,11 +16,6 @@ use crate::spectrum::sigma::{consistency, sigma_from_spectrum, SigmaKind};
 use crate::spectrum::welch::{welch, WelchOptions};
 use crate::spectrum::{Quantity, Spectrum};
 use crate::units::format_si;
-
-fn lf_points(s: &Spectrum) -> Result<Vec<(f64, f64)>> {
-    let l = s.to(Quantity::Lf)?;
-    Ok(l.f.iter().copied().zip(l.values.iter().copied()).collect())
-}
 
 fn setup_for(j: &JitterSpec) -> Result<JitterSetup> {
     let mut setup = JitterSetup {
@@ -100,16 +95,11 @@ pub(super) fn phase_noise(
                 f_hi,
                 20,
             ) {
-                traces.push(LfTrace {
-                    name: "power-law model of the table".into(),
-                    kind: TraceKind::Model,
-                    points: ms
-                        .f
-                        .iter()
-                        .copied()
-                        .zip(ms.values.iter().copied())
-                        .collect(),
-                });
+                traces.push(LfTrace::from_spectrum(
+                    "power-law model of the table",
+                    TraceKind::Model,
+                    &ms,
+                )?);
                 notes.push(format!(
                     "Model fitted to the table: {}",
                     fit.model.to_model_string()
@@ -201,11 +191,7 @@ pub(super) fn phase_noise(
                         pass: row.pass(),
                     });
                 }
-                marks.push(BandMark {
-                    from: b.from,
-                    to: b.to,
-                    label: format!("{}: {}", j.name, format_si(b.rms_s, "s", 3)),
-                });
+                marks.push(BandMark::from_jitter(&j.name, &b));
                 rows.push(row);
             }
             Err(e) => {
