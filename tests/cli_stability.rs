@@ -41,6 +41,12 @@ fn json_contract_and_nist_values() {
         "{}",
         String::from_utf8_lossy(&out.stderr)
     );
+    // stderr is not a terminal here: no progress indicator, nothing at all.
+    assert!(
+        out.stderr.is_empty(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
     let doc: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
     assert_eq!(doc["tool"], "tauwise");
     assert_eq!(doc["version"], env!("CARGO_PKG_VERSION"));

@@ -201,3 +201,65 @@ pub fn plain(v: f64) -> String {
         format!("{v:e}")
     }
 }
+
+/// Progress on standard error for commands that can run for seconds on big
+/// records: a spinner with the current stage, shown only when stderr is a
+/// terminal (nothing at all in pipes, files and CI), cleared at the end.
+pub struct Progress(Option<indicatif::ProgressBar>);
+
+impl Progress {
+    /// Start the indicator for `command` (no-op when stderr is not a terminal).
+    pub fn start(command: &str) -> Self {
+        use std::io::IsTerminal;
+        let bar = std::io::stderr().is_terminal().then(|| {
+            let b = indicatif::ProgressBar::new_spinner();
+            b.set_style(
+                indicatif::ProgressStyle::with_template("{prefix} {spinner} {msg} ({elapsed})")
+                    .unwrap_or_else(|_| indicatif::ProgressStyle::default_spinner()),
+            );
+            b.set_prefix(command.to_string());
+            b.enable_steady_tick(std::time::Duration::from_millis(120));
+            b
+        });
+        Progress(bar)
+    }
+
+    /// A determinate bar of `len` steps (for work counted in steps).
+    pub fn steps(command: &str, len: u64) -> Self {
+        use std::io::IsTerminal;
+        let bar = std::io::stderr().is_terminal().then(|| {
+            let b = indicatif::ProgressBar::new(len);
+            b.set_style(
+                indicatif::ProgressStyle::with_template("{prefix} [{bar:30}] {pos}/{len} {msg}")
+                    .unwrap_or_else(|_| indicatif::ProgressStyle::default_bar())
+                    .progress_chars("=> "),
+            );
+            b.set_prefix(command.to_string());
+            b
+        });
+        Progress(bar)
+    }
+
+    /// Name the stage now running.
+    pub fn stage(&self, what: impl Into<String>) {
+        if let Some(b) = &self.0 {
+            b.set_message(what.into());
+        }
+    }
+
+    /// Move a step bar to `done` steps with the stage's name.
+    pub fn at(&self, done: u64, what: impl Into<String>) {
+        if let Some(b) = &self.0 {
+            b.set_position(done);
+            b.set_message(what.into());
+        }
+    }
+}
+
+impl Drop for Progress {
+    fn drop(&mut self) {
+        if let Some(b) = &self.0 {
+            b.finish_and_clear();
+        }
+    }
+}

@@ -135,7 +135,10 @@ pub fn run(args: Args) -> Result<Outcome> {
             "--temp-coeff and --temp-swing go together (e.g. --temp-coeff 1e-11/K --temp-swing 5K)",
         )),
     };
+    let progress = super::common::Progress::start("holdover");
+    progress.stage(format!("reading {}", args.file.display()));
     let series = args.input.load(&args.file)?;
+    progress.stage("computing");
     let tau0 = series.record.tau0();
     let noise = match &args.model {
         Some(m) => Some(PowerLaw::parse(m, 0.5 / tau0)?),

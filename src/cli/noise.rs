@@ -47,6 +47,8 @@ struct Row {
 /// Run `noise`.
 pub fn run(args: Args) -> Result<Outcome> {
     let grid = TauGrid::parse(&args.taus)?;
+    let progress = super::common::Progress::start("noise");
+    progress.stage(format!("reading {}", args.file.display()));
     let mut series = args.input.load(&args.file)?;
     series.record = super::prepare::without_drift(series.record, args.remove_drift)?;
     let x = series.record.to_phase();
@@ -59,6 +61,7 @@ pub fn run(args: Args) -> Result<Outcome> {
             id: identify(&x.x, x.tau0, m, VarianceKind::OverlappingAllan),
         })
         .collect();
+    progress.stage("fitting the power-law model");
     let model = fit_record_model(&x, &grid)?;
     if let Some(path) = &args.plot {
         use tauwise::plot::stability::{

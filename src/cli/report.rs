@@ -6,7 +6,6 @@
 use super::common::{emit_to, InputArgs};
 use super::Outcome;
 use clap::Args as ClapArgs;
-use std::io::IsTerminal;
 use std::path::PathBuf;
 use tauwise::io::dut::{Dut, LfQuantity, LfSource, TimeSource};
 use tauwise::report::build::{from_dut_with_progress, BuildOptions};
@@ -159,25 +158,12 @@ pub fn run(a: Args) -> Result<Outcome> {
     }
     let report = {
         // A progress bar on stderr when it is a terminal, nothing otherwise.
-        let bar = std::io::stderr().is_terminal().then(|| {
-            let b = indicatif::ProgressBar::new(tauwise::report::build::steps(&dut) as u64);
-            b.set_style(
-                indicatif::ProgressStyle::with_template("{prefix} [{bar:30}] {pos}/{len} {msg}")
-                    .unwrap_or_else(|_| indicatif::ProgressStyle::default_bar())
-                    .progress_chars("=> "),
-            );
-            b.set_prefix("report");
-            b
-        });
+        let bar =
+            super::common::Progress::steps("report", tauwise::report::build::steps(&dut) as u64);
         let r = from_dut_with_progress(&dut, &opts, &mut |done, _, what| {
-            if let Some(b) = &bar {
-                b.set_position(done as u64);
-                b.set_message(what.to_string());
-            }
+            bar.at(done as u64, what.to_string());
         });
-        if let Some(b) = bar {
-            b.finish_and_clear();
-        }
+        drop(bar);
         r?
     };
     let html = tauwise::report::render_html(&report)?;

@@ -80,7 +80,10 @@ pub fn run(args: Args) -> Result<Outcome> {
             path.display()
         )));
     }
+    let progress = super::common::Progress::start("spectrum");
+    progress.stage(format!("reading {}", args.file.display()));
     let series = args.input.load(&args.file)?;
+    progress.stage("computing");
     let phase = series.record.to_phase();
     let w = welch(
         &phase,

@@ -70,6 +70,8 @@ pub fn run(args: Args) -> Result<Outcome> {
         Some(t) => Some(tauwise::model::parse_noise(t)?),
         None => None,
     };
+    let progress = super::common::Progress::start("stability");
+    progress.stage(format!("reading {}", args.file.display()));
     let mut series = args.input.load(&args.file)?;
     series.record = super::prepare::without_drift(series.record, args.remove_drift)?;
     let request = Request {
@@ -79,6 +81,7 @@ pub fn run(args: Args) -> Result<Outcome> {
         forced_alpha,
     };
     let phase = series.record.to_phase();
+    progress.stage(format!("computing {}", args.dev));
     let measured = analyse(&phase, &request)?;
     let best_points = args.best.then(|| best(&measured));
     let view = match &args.lf {

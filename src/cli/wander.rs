@@ -57,7 +57,10 @@ pub fn run(args: Args) -> Result<Outcome> {
     for f in &args.mask_files {
         masks.extend(read_mask_file(f)?);
     }
+    let progress = super::common::Progress::start("wander");
+    progress.stage(format!("reading {}", args.file.display()));
     let series = args.input.load(&args.file)?;
+    progress.stage("computing");
     let rec = series.record.to_phase();
     let n = rec.len();
     let ms = match &args.taus {
