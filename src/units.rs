@@ -218,6 +218,23 @@ pub fn parse_value_unit(text: &str) -> Result<ValueUnit, UnitError> {
     })
 }
 
+/// The SI prefixes from yocto to tera: (power of ten, symbol).
+pub const SI_PREFIXES: [(i32, &str); 13] = [
+    (-24, "y"),
+    (-21, "z"),
+    (-18, "a"),
+    (-15, "f"),
+    (-12, "p"),
+    (-9, "n"),
+    (-6, "µ"),
+    (-3, "m"),
+    (0, ""),
+    (3, "k"),
+    (6, "M"),
+    (9, "G"),
+    (12, "T"),
+];
+
 /// Format `value` with an SI prefix and `digits` significant digits, followed
 /// by `unit` (e.g. `format_si(1.234e-11, "s", 4)` → `"12.34 ps"`). Zero and
 /// non-finite values are written plainly.
@@ -232,21 +249,6 @@ pub fn format_si(value: f64, unit: &str, digits: usize) -> String {
     if value == 0.0 || !value.is_finite() {
         return format!("{value} {unit}").trim_end().to_string();
     }
-    const PREFIXES: [(i32, &str); 13] = [
-        (-24, "y"),
-        (-21, "z"),
-        (-18, "a"),
-        (-15, "f"),
-        (-12, "p"),
-        (-9, "n"),
-        (-6, "µ"),
-        (-3, "m"),
-        (0, ""),
-        (3, "k"),
-        (6, "M"),
-        (9, "G"),
-        (12, "T"),
-    ];
     let digits = digits.max(1);
     // Round to the significant digits first so that 999.96 becomes 1.000 k.
     let exp10 = value.abs().log10().floor() as i32;
@@ -257,7 +259,7 @@ pub fn format_si(value: f64, unit: &str, digits: usize) -> String {
         exp10
     };
     let e3 = (exp10.div_euclid(3) * 3).clamp(-24, 12);
-    let prefix = PREFIXES
+    let prefix = SI_PREFIXES
         .iter()
         .find(|(e, _)| *e == e3)
         .map(|p| p.1)

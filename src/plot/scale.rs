@@ -224,21 +224,7 @@ fn log_label(j: u32, k: i32, unit: &AxisUnit) -> String {
 
 /// The SI prefix (exponent, symbol) for a magnitude, from yocto to tera.
 pub fn si_prefix(mag: f64) -> (i32, &'static str) {
-    const PREFIXES: [(i32, &str); 13] = [
-        (-24, "y"),
-        (-21, "z"),
-        (-18, "a"),
-        (-15, "f"),
-        (-12, "p"),
-        (-9, "n"),
-        (-6, "µ"),
-        (-3, "m"),
-        (0, ""),
-        (3, "k"),
-        (6, "M"),
-        (9, "G"),
-        (12, "T"),
-    ];
+    use crate::units::SI_PREFIXES as PREFIXES;
     if !(mag.is_finite() && mag > 0.0) {
         return (0, "");
     }
