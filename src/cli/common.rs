@@ -57,15 +57,7 @@ impl InputArgs {
     /// The reader options these arguments ask for.
     pub fn options(&self) -> Result<SeriesOptions> {
         let tau0 = match &self.tau0 {
-            Some(t) => {
-                let v = tauwise::units::parse_duration(t)?;
-                if v.is_nan() || v <= 0.0 {
-                    return Err(Error::invalid(format!(
-                        "--tau0 {t}: expected a positive sampling interval (e.g. 1s, 100ms)"
-                    )));
-                }
-                Some(v)
-            }
+            Some(t) => Some(positive_duration(t, "tau0", "1s, 100ms")?),
             None => None,
         };
         let unit = match &self.units {
@@ -73,15 +65,7 @@ impl InputArgs {
             None => None,
         };
         let carrier = match &self.carrier {
-            Some(c) => {
-                let v = tauwise::units::parse_frequency(c)?;
-                if v.is_nan() || v <= 0.0 {
-                    return Err(Error::invalid(format!(
-                        "--carrier {c}: expected a positive frequency (e.g. 10MHz)"
-                    )));
-                }
-                Some(v)
-            }
+            Some(c) => Some(positive_frequency(c, "carrier", "10MHz")?),
             None => None,
         };
         Ok(SeriesOptions {
@@ -99,6 +83,30 @@ impl InputArgs {
         let opts = self.options()?;
         Ok(read_series(path, &opts)?)
     }
+}
+
+/// Parse the value of option `--flag` as a duration that must be positive
+/// (e.g. `--tau0`, `--span`); the error names the option and an example.
+pub fn positive_duration(text: &str, flag: &str, example: &str) -> Result<f64> {
+    let v = tauwise::units::parse_duration(text)?;
+    if !(v.is_finite() && v > 0.0) {
+        return Err(Error::invalid(format!(
+            "--{flag} {text}: expected a positive duration (e.g. {example})"
+        )));
+    }
+    Ok(v)
+}
+
+/// Parse the value of option `--flag` as a frequency that must be positive
+/// (e.g. `--carrier`, `--fh`); the error names the option and an example.
+pub fn positive_frequency(text: &str, flag: &str, example: &str) -> Result<f64> {
+    let v = tauwise::units::parse_frequency(text)?;
+    if !(v.is_finite() && v > 0.0) {
+        return Err(Error::invalid(format!(
+            "--{flag} {text}: expected a positive frequency (e.g. {example})"
+        )));
+    }
+    Ok(v)
 }
 
 /// Output format of a command's results.

@@ -14,7 +14,7 @@ use tauwise::plot::phase_noise::{LfTrace, PhaseNoisePlot, TraceKind};
 use tauwise::spectrum::sigma::{sigma_points, SigmaKind, SigmaOptions, SigmaPoint};
 use tauwise::spectrum::{Quantity, Spectrum};
 use tauwise::tau::TauGrid;
-use tauwise::units::{format_si, format_sig, parse_duration, parse_frequency};
+use tauwise::units::{format_si, format_sig, parse_frequency};
 use tauwise::{Error, Result};
 
 /// What to convert to.
@@ -92,33 +92,15 @@ pub struct Args {
 }
 
 fn freq(opt: &Option<String>, what: &str) -> Result<Option<f64>> {
-    match opt {
-        Some(t) => {
-            let v = parse_frequency(t)?;
-            if v.is_nan() || v <= 0.0 {
-                return Err(Error::invalid(format!(
-                    "--{what} {t}: expected a positive frequency"
-                )));
-            }
-            Ok(Some(v))
-        }
-        None => Ok(None),
-    }
+    opt.as_deref()
+        .map(|t| super::common::positive_frequency(t, what, "10MHz"))
+        .transpose()
 }
 
 fn duration(opt: &Option<String>, what: &str) -> Result<Option<f64>> {
-    match opt {
-        Some(t) => {
-            let v = parse_duration(t)?;
-            if v.is_nan() || v <= 0.0 {
-                return Err(Error::invalid(format!(
-                    "--{what} {t}: expected a positive duration"
-                )));
-            }
-            Ok(Some(v))
-        }
-        None => Ok(None),
-    }
+    opt.as_deref()
+        .map(|t| super::common::positive_duration(t, what, "1s"))
+        .transpose()
 }
 
 /// The source of a conversion: a table or a model, as a spectrum.

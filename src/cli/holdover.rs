@@ -1,7 +1,9 @@
 //! `tauwise holdover FILE`: time error predicted through a holdover span from
 //! the record, against a budget.
 
-use super::common::{emit, header_json, json_text, num, plain, Format, InputArgs, OutputArgs};
+use super::common::{
+    emit, header_json, json_text, num, plain, positive_duration, Format, InputArgs, OutputArgs,
+};
 use super::Outcome;
 use clap::{Args as ClapArgs, ValueEnum};
 use serde_json::{json, Value};
@@ -87,16 +89,6 @@ pub struct Args {
     pub plot: Option<PathBuf>,
     #[command(flatten)]
     pub output: OutputArgs,
-}
-
-fn positive_duration(text: &str, what: &str, example: &str) -> Result<f64> {
-    let v = parse_duration(text)?;
-    if !(v.is_finite() && v > 0.0) {
-        return Err(Error::invalid(format!(
-            "--{what} {text}: expected a positive duration (e.g. {example})"
-        )));
-    }
-    Ok(v)
 }
 
 fn strip_kelvin(text: &str, what: &str) -> Result<f64> {
