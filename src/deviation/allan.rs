@@ -58,9 +58,12 @@ pub(crate) fn oadev(p: &Prepared, m: usize) -> Option<Estimate> {
 /// Fast form: S_{j+1} = S_j + c_j with c_j = x_{j+3m} − 3x_{j+2m} + 3x_{j+m} − x_j,
 /// a running sum restarted from the direct sum every B = max(16m, 4096)
 /// terms (so rounding cannot build up, and the restarts cost a few per cent
-/// of the work). In chunks of 4096 terms the increments are computed as one
-/// contiguous vector and four lanes advance together, S_{j+4} = S_j + c_j + … + c_{j+3},
-/// so the loop vectorises instead of waiting on one chain of additions. Gaps enter the running sum as
+/// of the work). The terms go in blocks of eight: the eight increments of a
+/// block are computed together (a contiguous, vectorised load of the four
+/// shifted copies of x), their exclusive prefix sums give S at the eight
+/// terms from the S carried into the block, and only that carry links one
+/// block to the next, so the processor overlaps the blocks instead of
+/// waiting on one chain of additions. Gaps enter the running sum as
 /// zeros; a term whose span holds a gap is skipped, so those zeros never
 /// reach a result. O(N) per τ.
 pub(crate) fn mvar_sum(p: &Prepared, m: usize) -> (f64, usize) {
@@ -97,69 +100,72 @@ fn mvar_direct<const GAPS: bool>(x: &[f64], m: usize, j: usize) -> f64 {
 }
 
 fn mvar_lanes<const GAPS: bool>(p: &Prepared, m: usize, nterms: usize) -> (f64, usize) {
-    const CHUNK: usize = 4096;
+    const L: usize = 8;
     let x = p.x;
-    let restart = (16 * m).max(CHUNK);
-    let mut c = [0.0f64; CHUNK];
+    let restart = (16 * m).max(4096);
     let mut total = 0.0;
     let mut used = 0usize;
     let ok = |j: usize| !GAPS || p.gaps.clear(j, j + 3 * m - 1);
-    let mut sj = 0.0; // S at the start of the chunk
+    let inc = |j: usize| {
+        (val::<GAPS>(x, j + 3 * m) - val::<GAPS>(x, j))
+            + 3.0 * (val::<GAPS>(x, j + m) - val::<GAPS>(x, j + 2 * m))
+    };
     let mut b = 0;
     while b < nterms {
-        if b % restart == 0 {
-            sj = mvar_direct::<GAPS>(x, m, b);
-        }
-        let len = CHUNK.min(restart - b % restart).min(nterms - b);
-        // Increments c[t] = S_{b+t+1} − S_{b+t} for every term of the chunk
-        // that has a successor (contiguous, so the loop vectorises).
-        let n_c = len.min(nterms - 1 - b);
+        let len = restart.min(nterms - b);
+        // S_b from its definition, then S_{j+1} = S_j + c_j.
+        let mut base = mvar_direct::<GAPS>(x, m, b);
+        let mut acc = [0.0f64; L];
+        let blocks = if b + len < nterms {
+            len / L
+        } else {
+            (len - 1) / L
+        };
         {
-            let x0 = &x[b..b + n_c];
-            let x1 = &x[b + m..b + m + n_c];
-            let x2 = &x[b + 2 * m..b + 2 * m + n_c];
-            let x3 = &x[b + 3 * m..b + 3 * m + n_c];
-            for (t, ct) in c[..n_c].iter_mut().enumerate() {
-                *ct = (val::<GAPS>(x3, t) - val::<GAPS>(x0, t))
-                    + 3.0 * (val::<GAPS>(x1, t) - val::<GAPS>(x2, t));
-            }
-        }
-        // Four lanes hold S at b+k … b+k+3 and advance by four:
-        // S_{j+4} = S_j + c_j + c_{j+1} + c_{j+2} + c_{j+3}.
-        let mut acc = [0.0f64; 4];
-        let mut k = 0;
-        if len >= 8 {
-            let mut s = [sj, 0.0, 0.0, 0.0];
-            for l in 1..4 {
-                s[l] = s[l - 1] + c[l - 1];
-            }
-            while k + 8 <= len {
-                let cw: &[f64; 7] = c[k..k + 7].try_into().expect("seven increments");
-                for l in 0..4 {
-                    if ok(b + k + l) {
-                        acc[l] += s[l] * s[l];
-                        used += 1;
+            let x0 = &x[b..b + blocks * L];
+            let x1 = &x[b + m..b + m + blocks * L];
+            let x2 = &x[b + 2 * m..b + 2 * m + blocks * L];
+            let x3 = &x[b + 3 * m..b + 3 * m + blocks * L];
+            for k in 0..blocks {
+                let o = k * L;
+                let mut c = [0.0f64; L];
+                for l in 0..L {
+                    c[l] = (val::<GAPS>(x3, o + l) - val::<GAPS>(x0, o + l))
+                        + 3.0 * (val::<GAPS>(x1, o + l) - val::<GAPS>(x2, o + l));
+                }
+                // Exclusive prefix sums: S_{b+o+l} = base + pre[l]. The chain
+                // within a block does not depend on the previous block, so
+                // blocks overlap in the processor; only `base` is carried.
+                let mut pre = [0.0f64; L];
+                for l in 1..L {
+                    pre[l] = pre[l - 1] + c[l - 1];
+                }
+                for l in 0..L {
+                    if ok(b + o + l) {
+                        let s = base + pre[l];
+                        acc[l] += s * s;
+                        if GAPS {
+                            used += 1;
+                        }
                     }
                 }
-                for l in 0..4 {
-                    s[l] += (cw[l] + cw[l + 1]) + (cw[l + 2] + cw[l + 3]);
-                }
-                k += 4;
+                base += pre[L - 1] + c[L - 1];
             }
-            sj = s[0];
         }
-        // The rest of the chunk one by one; S is carried into the next chunk.
-        #[allow(clippy::needless_range_loop)] // t indexes both the terms and c
-        for t in k..len {
-            if ok(b + t) {
-                acc[0] += sj * sj;
+        if !GAPS {
+            used += blocks * L;
+        }
+        // The terms after the last whole block, one by one.
+        for j in b + blocks * L..b + len {
+            if ok(j) {
+                acc[0] += base * base;
                 used += 1;
             }
-            if t < n_c {
-                sj += c[t];
+            if j + 1 < nterms {
+                base += inc(j);
             }
         }
-        total += (acc[0] + acc[2]) + (acc[1] + acc[3]);
+        total += ((acc[0] + acc[4]) + (acc[2] + acc[6])) + ((acc[1] + acc[5]) + (acc[3] + acc[7]));
         b += len;
     }
     (total, used)
