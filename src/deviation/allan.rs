@@ -128,10 +128,12 @@ fn mvar_lanes<const GAPS: bool>(p: &Prepared, m: usize, nterms: usize) -> (f64, 
             let x3 = &x[b + 3 * m..b + 3 * m + blocks * L];
             for k in 0..blocks {
                 let o = k * L;
-                let c: [f64; L] = std::array::from_fn(|l| {
-                    (val::<GAPS>(x3, o + l) - val::<GAPS>(x0, o + l))
-                        + 3.0 * (val::<GAPS>(x1, o + l) - val::<GAPS>(x2, o + l))
-                });
+                let mut c = [0.0f64; L];
+                #[allow(clippy::needless_range_loop)] // l indexes five arrays
+                for l in 0..L {
+                    c[l] = (val::<GAPS>(x3, o + l) - val::<GAPS>(x0, o + l))
+                        + 3.0 * (val::<GAPS>(x1, o + l) - val::<GAPS>(x2, o + l));
+                }
                 // Exclusive prefix sums: S_{b+o+l} = base + pre[l]. The chain
                 // within a block does not depend on the previous block, so
                 // blocks overlap in the processor; only `base` is carried.
