@@ -20,6 +20,9 @@ pub struct Request {
     pub confidence: f64,
     /// A noise type forced for every τ (α), instead of identifying it per τ.
     pub forced_alpha: Option<i32>,
+    /// Divide the total family's values by their bias for the noise type
+    /// (see [`crate::stats::totals`]); true unless raw values are wanted.
+    pub bias_correction: bool,
 }
 
 impl Request {
@@ -30,6 +33,7 @@ impl Request {
             grid: TauGrid::Octave,
             confidence: 0.683,
             forced_alpha: None,
+            bias_correction: true,
         }
     }
 }
@@ -51,6 +55,7 @@ pub fn analyse(x: &PhaseRecord, req: &Request) -> Result<Vec<Curve>> {
     let opts = StatsOptions {
         confidence: req.confidence,
         forced_alpha: req.forced_alpha,
+        bias_correction: req.bias_correction,
     };
     let n = x.len();
     let mut curves = Vec::with_capacity(req.estimators.len());
@@ -105,6 +110,7 @@ pub fn fit_record_model(x: &PhaseRecord, grid: &TauGrid) -> Result<RecordModel> 
         grid: grid.clone(),
         confidence: crate::stats::DEFAULT_CONFIDENCE,
         forced_alpha: None,
+        bias_correction: true,
     };
     let curves = analyse(x, &req)?;
     let mut points = Vec::new();
@@ -243,6 +249,7 @@ mod tests {
             lo: Some(lo),
             hi: Some(hi),
             alpha: Some(0),
+            bias: None,
         }
     }
 

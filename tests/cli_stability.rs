@@ -33,7 +33,8 @@ fn json_contract_and_nist_values() {
             "--dev",
             "adev,oadev,totdev",
         ])
-        .args(["--taus", "1,2", "--format", "json"])
+        // The published TOTDEV is the value as computed (no bias removed).
+        .args(["--taus", "1,2", "--format", "json", "--uncorrected"])
         .output()
         .unwrap();
     assert!(
@@ -67,7 +68,7 @@ fn json_contract_and_nist_values() {
     assert!(close(dev(1, 1), 85.95287), "{}", dev(1, 1));
     assert!(close(dev(2, 1), 93.90379), "{}", dev(2, 1));
     for key in [
-        "tau", "m", "dev", "terms", "edf", "lo", "hi", "alpha", "noise",
+        "tau", "m", "dev", "terms", "edf", "lo", "hi", "alpha", "noise", "bias",
     ] {
         assert!(
             curves[0]["points"][0].get(key).is_some(),
@@ -104,7 +105,7 @@ fn csv_has_one_row_per_point() {
     let mut lines = csv.lines();
     assert_eq!(
         lines.next().unwrap(),
-        "estimator,tau,m,dev,terms,edf,lo,hi,alpha,noise"
+        "estimator,tau,m,dev,terms,edf,lo,hi,alpha,noise,bias"
     );
     // 64 phase points: oadev m = 1..16 (5 octaves up to 31), mdev up to 21.
     let rows: Vec<&str> = lines.collect();

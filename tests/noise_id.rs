@@ -171,6 +171,7 @@ fn bad_input() {
         let opts = StatsOptions {
             confidence: c,
             forced_alpha: None,
+            ..Default::default()
         };
         let err = annotate(Estimator::Oadev, &rec, &est, &opts).unwrap_err();
         assert!(matches!(err, tauwise::Error::Invalid(_)), "{err}");
@@ -178,6 +179,7 @@ fn bad_input() {
     let opts = StatsOptions {
         confidence: 0.683,
         forced_alpha: Some(-4),
+        ..Default::default()
     };
     let err = annotate(Estimator::Oadev, &rec, &est, &opts).unwrap_err();
     assert!(err.to_string().contains("RRFM"), "{err}");
@@ -207,6 +209,7 @@ fn annotate_fills_points() {
     let forced = StatsOptions {
         confidence: 0.95,
         forced_alpha: Some(-1),
+        ..Default::default()
     };
     let pts95 = annotate(Estimator::Oadev, &rec, &est, &forced).unwrap();
     assert!(pts95.iter().all(|p| p.alpha == Some(-1)));

@@ -289,6 +289,7 @@ fn record_spectrum_sigma_round_trip() {
         &tauwise::stats::StatsOptions {
             confidence: 0.683,
             forced_alpha: None,
+            ..Default::default()
         },
     )
     .unwrap();

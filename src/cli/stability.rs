@@ -53,6 +53,10 @@ pub struct Args {
     /// would otherwise read as random-walk FM at long τ).
     #[arg(long, value_enum, value_name = "MODEL")]
     pub remove_drift: Option<super::prepare::DriftArg>,
+    /// Report the total family (totdev, mtot, ttot, htot) as computed,
+    /// without dividing out its bias for the identified noise type.
+    #[arg(long)]
+    pub uncorrected: bool,
     /// Add a curve `best`: at each τ the point with the narrowest
     /// confidence interval among the requested σ_y estimators, with the
     /// estimator it came from.
@@ -79,6 +83,7 @@ pub fn run(args: Args) -> Result<Outcome> {
         grid,
         confidence: args.confidence,
         forced_alpha,
+        bias_correction: !args.uncorrected,
     };
     let phase = series.record.to_phase();
     progress.stage(format!("computing {}", args.dev));
@@ -160,16 +165,20 @@ pub fn run(args: Args) -> Result<Outcome> {
     Ok(Outcome::Done)
 }
 
-/// True when the point of `est` is a bias-corrected value
-/// ([`Estimator::bias_corrected_from`]).
+/// True when the point of `est` is a bias-corrected value: a total-family
+/// value divided by its bias ([`tauwise::deviation::Point::bias`]), or
+/// TheoH's ThêoBR part ([`Estimator::bias_corrected_from`]).
 fn corrected(est: Estimator, p: &tauwise::deviation::Point, x: &PhaseRecord) -> bool {
-    est.bias_corrected_from(x.len(), x.tau0)
-        .is_some_and(|from| p.estimate.tau >= from)
+    p.bias.is_some()
+        || est
+            .bias_corrected_from(x.len(), x.tau0)
+            .is_some_and(|from| p.estimate.tau >= from)
 }
 
 /// The footnote under a table with bias-corrected values.
-const CORRECTED_NOTE: &str =
-    "* bias-corrected value (TheoH beyond 10 % of the record: Theo1 scaled by the ThêoBR ratio)";
+const CORRECTED_NOTE: &str = "* bias-corrected value: totdev, mtot, ttot, htot divided by their \
+     bias for the noise type shown (--uncorrected reports them as computed); theoh beyond \
+     10 % of the record is Theo1 scaled by the record's ThêoBR ratio";
 
 /// The `best` curve as a JSON curve whose points carry `"from"`.
 fn best_json(b: &[BestPoint]) -> serde_json::Value {
@@ -275,6 +284,7 @@ pub fn curves_json(curves: &[Curve]) -> serde_json::Value {
                         "hi": opt(p.hi),
                         "alpha": p.alpha,
                         "noise": p.noise(),
+                        "bias": opt(p.bias),
                     })
                 })
                 .collect();
@@ -284,7 +294,9 @@ pub fn curves_json(curves: &[Curve]) -> serde_json::Value {
     serde_json::Value::Array(list)
 }
 
-/// One CSV row per point: `estimator,tau,m,dev,terms,edf,lo,hi,alpha,noise`.
+/// One CSV row per point: `estimator,tau,m,dev,terms,edf,lo,hi,alpha,noise,bias`
+/// (DESIGN.md §5, with `bias` — the factor divided out of a corrected
+/// total-family value, else empty — added last).
 pub fn curves_csv(curves: &[Curve]) -> String {
     let mut w = csv::Writer::from_writer(Vec::new());
     let cell = |v: Option<f64>| v.map(plain).unwrap_or_default();
@@ -299,6 +311,7 @@ pub fn curves_csv(curves: &[Curve]) -> String {
         "hi",
         "alpha",
         "noise",
+        "bias",
     ]);
     for c in curves {
         for p in &c.points {
@@ -313,6 +326,7 @@ pub fn curves_csv(curves: &[Curve]) -> String {
                 cell(p.hi),
                 p.alpha.map(|a| a.to_string()).unwrap_or_default(),
                 p.noise().unwrap_or("").to_string(),
+                cell(p.bias),
             ]);
         }
     }

@@ -16,16 +16,15 @@ use rayon::prelude::*;
 mod allan;
 mod gaps;
 mod hadamard;
-mod modtotal;
+pub(crate) mod modtotal;
 #[doc(hidden)]
 pub mod reference;
 mod sums;
 mod theo;
 mod tie;
-mod total;
+pub(crate) mod total;
 
 pub use theo::theo1_edf;
-pub use total::{totdev_edf, totvar_bias};
 
 /// The registry of estimators: the single source of truth for each one's
 /// trade name, title, difference order, kind of value and valid m range.
@@ -209,11 +208,12 @@ impl Estimator {
         matches!(self, Estimator::Theo1 | Estimator::Theoh)
     }
 
-    /// The τ (seconds) from which this estimator's values are bias-corrected
-    /// for a record of `n_phase` samples at `tau0`, for output that marks
-    /// them: TheoH's ThêoBR part, τ ≥ 10 % of the record. None for the
-    /// estimators that report uncorrected values (apply
-    /// [`totvar_bias`] to TOTDEV where the noise type is known).
+    /// The τ (seconds) from which this estimator's own values are
+    /// bias-corrected for a record of `n_phase` samples at `tau0`: TheoH's
+    /// ThêoBR part, τ ≥ 10 % of the record, scaled by the record's own
+    /// ratio. None for the others: the total family (TOTDEV, MTOT, TTOT,
+    /// HTOT) is corrected by the statistics layer for the identified noise
+    /// type ([`crate::stats::totals`], [`Point::bias`]).
     pub fn bias_corrected_from(self, n_phase: usize, tau0: f64) -> Option<f64> {
         match self {
             Estimator::Theoh => Some(theo::theoh_switch(n_phase, tau0)),
@@ -358,6 +358,12 @@ pub struct Point {
     pub hi: Option<f64>,
     /// Power-law exponent α of S_y(f) ∝ f^α identified at this τ.
     pub alpha: Option<i32>,
+    /// The bias factor B = E[σ̂²]/σ² divided out of this value, when it was
+    /// (the total family, for the identified noise type: the value, lo and
+    /// hi are the estimate over √B; see [`crate::stats::totals`]). `None`
+    /// for a value as computed — and for TheoH, which corrects itself by
+    /// the record's own ThêoBR ratio ([`Estimator::bias_corrected_from`]).
+    pub bias: Option<f64>,
 }
 
 impl Point {
@@ -369,6 +375,7 @@ impl Point {
             lo: None,
             hi: None,
             alpha: None,
+            bias: None,
         }
     }
 

@@ -208,6 +208,91 @@ pub(crate) fn htot_on_frequency(y: &[f64], tau0: f64, m: usize) -> Option<Estima
     finish(m as f64 * tau0, m, s, 6.0, used)
 }
 
+/// The definition of the module notes as a quadratic form: one
+/// subsequence v_0 … v_{3m−1} contributes vᵀRv to G(m) (its mean square of
+/// the 6m reflected second differences), with the 3m × 3m matrix R returned
+/// here in row-major order. Each z_j is a fixed linear combination c_j of
+/// the window: with u_j the weights of the block averages on the reflected
+/// copies of each w_k, and w_k = v_k − s·k where the half-average slope s is
+/// gᵀv (g = +1/(hd) on the last h samples, −1/(hd) on the first h),
+/// c_j = u_j − (Σ_k k·u_j\[k\])·g; then R = (1/6m) Σ_j c_j c_jᵀ.
+/// Used by the statistics layer for the exact mean and EDF of MTOT, TTOT
+/// and HTOT ([`crate::stats::totals`]). O(m³).
+pub(crate) fn subsequence_form(m: usize) -> Vec<f64> {
+    let l3 = 3 * m;
+    let h = l3 / 2;
+    let d = l3 - h;
+    let g: Vec<f64> = (0..l3)
+        .map(|k| {
+            let inv = 1.0 / (h as f64 * d as f64);
+            match (k < h, k >= l3 - h) {
+                (true, false) => -inv,
+                (false, true) => inv,
+                _ => 0.0,
+            }
+        })
+        .collect();
+    // Window sample behind position p of the 9m extension.
+    let source = |p: usize| -> usize {
+        if p < l3 {
+            l3 - 1 - p
+        } else if p < 2 * l3 {
+            p - l3
+        } else {
+            3 * l3 - 1 - p
+        }
+    };
+    let inv_m = 1.0 / m as f64;
+    let mut r = vec![0.0f64; l3 * l3];
+    let mut c = vec![0.0f64; l3];
+    for j in 0..2 * l3 {
+        c.fill(0.0);
+        for (b, w) in [(0usize, 1.0f64), (1, -2.0), (2, 1.0)] {
+            for p in j + b * m..j + (b + 1) * m {
+                c[source(p)] += w * inv_m;
+            }
+        }
+        let moment: f64 = c.iter().enumerate().map(|(k, u)| k as f64 * u).sum();
+        for (ck, gk) in c.iter_mut().zip(&g) {
+            *ck -= moment * gk;
+        }
+        for a in 0..l3 {
+            let ca = c[a];
+            if ca == 0.0 {
+                continue;
+            }
+            for (rv, cb) in r[a * l3..(a + 1) * l3].iter_mut().zip(&c) {
+                *rv += ca * cb;
+            }
+        }
+    }
+    let norm = 1.0 / (2 * l3) as f64;
+    r.iter_mut().for_each(|v| *v *= norm);
+    r
+}
+
+/// A local form R on `len` consecutive frequency samples y_k = x_{k+1} − x_k
+/// as the form on the `len + 1` phase samples behind them: DᵀRD with D the
+/// first-difference matrix (τ0 taken as 1).
+pub(crate) fn frequency_form_on_phase(r: &[f64], len: usize) -> Vec<f64> {
+    let n = len + 1;
+    let at = |a: isize, b: isize| -> f64 {
+        if a < 0 || b < 0 || a >= len as isize || b >= len as isize {
+            0.0
+        } else {
+            r[a as usize * len + b as usize]
+        }
+    };
+    let mut out = vec![0.0f64; n * n];
+    for a in 0..n as isize {
+        for b in 0..n as isize {
+            out[a as usize * n + b as usize] =
+                at(a - 1, b - 1) - at(a - 1, b) - at(a, b - 1) + at(a, b);
+        }
+    }
+    out
+}
+
 // ---------------------------------------------------------------------------
 // Exact O(N)-per-τ form.
 //
@@ -521,4 +606,51 @@ fn reflected_mean_square_fast(v: &[f64], gaps: &Gaps, m: usize) -> (f64, usize) 
     blocks
         .iter()
         .fold((0.0, 0), |(s, u), &(bs, bu)| (s + bs, u + bu))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use rand::{Rng, SeedableRng};
+    use rand_chacha::ChaCha8Rng;
+
+    fn form_value(r: &[f64], v: &[f64]) -> f64 {
+        let n = v.len();
+        let mut s = 0.0;
+        for a in 0..n {
+            for b in 0..n {
+                s += v[a] * r[a * n + b] * v[b];
+            }
+        }
+        s
+    }
+
+    /// The quadratic form of one subsequence equals the direct SP 1065
+    /// computation (`reference::reflected_mean_square` on that window alone),
+    /// for odd and even 3m; on phase, the frequency form equals the direct
+    /// computation on the differences of the phase window.
+    #[test]
+    fn subsequence_form_is_the_definition() {
+        let mut rng = ChaCha8Rng::seed_from_u64(3);
+        for m in [1usize, 2, 3, 5, 8] {
+            let r = subsequence_form(m);
+            let x: Vec<f64> = (0..3 * m + 1).map(|_| rng.gen_range(-1.0..1.0)).collect();
+            let v = &x[..3 * m];
+            let (want, count) = crate::deviation::reference::reflected_mean_square(v, m);
+            assert_eq!(count, 1);
+            let got = form_value(&r, v);
+            assert!(
+                (got - want).abs() <= 1e-12 * want.abs(),
+                "m={m}: {got} vs {want}"
+            );
+            let y: Vec<f64> = x.windows(2).map(|w| w[1] - w[0]).collect();
+            let (want_y, _) = crate::deviation::reference::reflected_mean_square(&y, m);
+            let rx = frequency_form_on_phase(&r, 3 * m);
+            let got_y = form_value(&rx, &x);
+            assert!(
+                (got_y - want_y).abs() <= 1e-12 * want_y.abs(),
+                "m={m} on frequency"
+            );
+        }
+    }
 }

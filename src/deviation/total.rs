@@ -7,19 +7,29 @@ use super::gaps::Prepared;
 use super::sums::{sum_sq, D2};
 use super::Estimate;
 
-/// The reflection-extended phase x*_k of SP 1065 §5.2.11 (0-based):
+/// The reflection-extended phase x*_k of SP 1065 §5.2.11 (0-based) as a
+/// combination of record samples, two (index, coefficient) pairs:
 /// x*_{−j} = 2x_0 − x_j and x*_{N−1+j} = 2x_{N−1} − x_{N−1−j} for 1 ≤ j ≤ N−2,
-/// x*_k = x_k inside the record.
+/// x*_k = x_k inside the record (the second pair then has coefficient 0).
+/// The statistics layer reads the same definition for the exact bias of
+/// TOTVAR ([`crate::stats::totals`]).
+#[inline]
+pub(crate) fn reflected_terms(n: usize, k: isize) -> [(usize, f64); 2] {
+    let last = n as isize - 1;
+    if k < 0 {
+        [(0, 2.0), ((-k) as usize, -1.0)]
+    } else if k > last {
+        [(last as usize, 2.0), ((2 * last - k) as usize, -1.0)]
+    } else {
+        [(k as usize, 1.0), (k as usize, 0.0)]
+    }
+}
+
+/// x*_k of [`reflected_terms`] evaluated on the record.
 #[inline]
 pub(crate) fn reflected(x: &[f64], k: isize) -> f64 {
-    let last = x.len() as isize - 1;
-    if k < 0 {
-        2.0 * x[0] - x[(-k) as usize]
-    } else if k > last {
-        2.0 * x[last as usize] - x[(2 * last - k) as usize]
-    } else {
-        x[k as usize]
-    }
+    let [(a, ca), (b, cb)] = reflected_terms(x.len(), k);
+    ca * x[a] + cb * x[b]
 }
 
 /// Total deviation (NIST SP 1065 eq. 25, phase form):
@@ -59,46 +69,4 @@ pub(crate) fn totdev(p: &Prepared, m: usize) -> Option<Estimate> {
         }
     }
     finish(tau, m, s, 2.0 * tau * tau, used)
-}
-
-/// Equivalent degrees of freedom of the total variance (NIST SP 1065,
-/// TOTVAR EDF table; CHECKS.md D, from memory):
-/// EDF = b·(T/τ) − c with T = (N−1)·τ0, τ = m·τ0:
-/// WFM (α = 0) b = 1.50, c = 0; FFM (α = −1) b = 1.17, c = 0.22;
-/// RWFM (α = −2) b = 0.93, c = 0.36. None for other α (the table gives none).
-///
-/// ```
-/// // WFM, N = 1001, m = 10: 1.5 · 1000/10 = 150.
-/// assert_eq!(tauwise::deviation::totdev_edf(0, 1001, 10), Some(150.0));
-/// ```
-pub fn totdev_edf(alpha: i32, n_phase: usize, m: usize) -> Option<f64> {
-    if n_phase < 2 || m == 0 {
-        return None;
-    }
-    let (b, c) = match alpha {
-        0 => (1.50, 0.0),
-        -1 => (1.17, 0.22),
-        -2 => (0.93, 0.36),
-        _ => return None,
-    };
-    let t_over_tau = (n_phase - 1) as f64 / m as f64;
-    Some(b * t_over_tau - c)
-}
-
-/// Bias of the total variance, E(Totvar)/AVAR = 1 − a·τ/T (NIST SP 1065;
-/// CHECKS.md D, from memory): a = 0 for white noise (WPM α = 2, WFM α = 0),
-/// a = 0.481 = 1/(3 ln 2) for FFM (α = −1), a = 0.750 for RWFM (α = −2).
-/// Divide Totvar by it (TOTDEV by its square root) to remove the bias.
-/// None for other α.
-pub fn totvar_bias(alpha: i32, n_phase: usize, m: usize) -> Option<f64> {
-    if n_phase < 2 || m == 0 {
-        return None;
-    }
-    let a = match alpha {
-        2 | 0 => 0.0,
-        -1 => 0.481,
-        -2 => 0.750,
-        _ => return None,
-    };
-    Some(1.0 - a * m as f64 / (n_phase - 1) as f64)
 }

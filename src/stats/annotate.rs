@@ -17,6 +17,9 @@ pub struct StatsOptions {
     pub confidence: f64,
     /// A power-law exponent α to use at every τ instead of identifying it.
     pub forced_alpha: Option<i32>,
+    /// Divide the total family's values (TOTDEV, MTOT, TTOT, HTOT) by their
+    /// bias for the noise type at each τ ([`crate::stats::totals::bias`]).
+    pub bias_correction: bool,
 }
 
 impl Default for StatsOptions {
@@ -24,6 +27,7 @@ impl Default for StatsOptions {
         Self {
             confidence: DEFAULT_CONFIDENCE,
             forced_alpha: None,
+            bias_correction: true,
         }
     }
 }
@@ -40,19 +44,13 @@ impl VarianceKind {
             Estimator::Hdev => Some(VarianceKind::Hadamard),
             Estimator::Ohdev => Some(VarianceKind::OverlappingHadamard),
             Estimator::Totdev => Some(VarianceKind::Total),
-            // MTOT, TTOT and HTOT: SP 1065 tabulates EDF coefficients for
-            // them, but no value for those coefficients is known here
-            // reliably, so they get no interval rather than a borrowed one.
+            Estimator::Mtot => Some(VarianceKind::ModifiedTotal),
+            Estimator::Ttot => Some(VarianceKind::TimeTotal),
+            Estimator::Htot => Some(VarianceKind::HadamardTotal),
             // Theo1 and TheoH have their own EDF rules and are annotated by
             // `annotate` directly (`theo1_edf`; TheoH's ADEV part by the
-            // overlapping Allan EDF), so they have no VarianceKind either.
-            Estimator::Mtot
-            | Estimator::Ttot
-            | Estimator::Htot
-            | Estimator::Theo1
-            | Estimator::Theoh
-            | Estimator::Mtie
-            | Estimator::Tierms => None,
+            // overlapping Allan EDF), so they have no VarianceKind.
+            Estimator::Theo1 | Estimator::Theoh | Estimator::Mtie | Estimator::Tierms => None,
         }
     }
 
@@ -64,7 +62,10 @@ impl VarianceKind {
         let d = self.difference_order();
         match self {
             VarianceKind::Total => terms + 2,
-            VarianceKind::Modified | VarianceKind::Time => terms + (d + 1) * m - 1,
+            VarianceKind::Modified
+            | VarianceKind::Time
+            | VarianceKind::ModifiedTotal
+            | VarianceKind::TimeTotal => terms + (d + 1) * m - 1,
             VarianceKind::Allan | VarianceKind::Hadamard => (terms + d - 1) * m + 1,
             _ => terms + d * m,
         }
@@ -152,6 +153,7 @@ fn annotate_theo(
             lo,
             hi,
             alpha,
+            bias: None,
         });
     }
     Ok(out)
@@ -167,9 +169,14 @@ fn annotate_theo(
 ///
 /// The EDF is evaluated for the gap-free record that would give the same
 /// number of terms ([`VarianceKind::equivalent_points`]), so gaps widen the
-/// interval. Estimators without an EDF rule (MTIE, TIE rms; MTOT, TTOT, HTOT —
-/// see [`VarianceKind::of_estimator`]), and points with no identified or
-/// carried-over noise type, keep `None` in every statistic.
+/// interval. Estimators without an EDF rule (MTIE, TIE rms), and points with
+/// no identified or carried-over noise type, keep `None` in every statistic.
+///
+/// The total family (TOTDEV, MTOT, TTOT, HTOT) is biased by an amount that
+/// depends on the noise type; with `opts.bias_correction` each value whose
+/// type is known is divided by √B ([`crate::stats::totals::bias`]) and the
+/// point records B ([`Point::bias`]). The interval is that of the corrected
+/// value.
 ///
 /// Errors: [`Error::Invalid`] when the confidence is outside (0, 1) or the
 /// forced α is outside the estimator's range.
@@ -221,20 +228,33 @@ pub fn annotate(
         .par_iter()
         .zip(alphas.par_iter())
         .map(|(e, &alpha)| {
-            let nu = alpha.and_then(|a| edf(kind, a, e.m, kind.equivalent_points(e.m, e.terms)));
+            let n_eff = kind.equivalent_points(e.m, e.terms);
+            let nu = alpha.and_then(|a| edf(kind, a, e.m, n_eff));
+            let bias = match alpha {
+                Some(a) if opts.bias_correction && kind.is_total() => {
+                    crate::stats::totals::bias(kind, a, e.m, n_eff)
+                        .filter(|b| b.is_finite() && *b > 0.0)
+                }
+                _ => None,
+            };
+            let estimate = Estimate {
+                value: e.value / bias.unwrap_or(1.0).sqrt(),
+                ..*e
+            };
             let (lo, hi) = match nu {
-                Some(v) if e.value.is_finite() => {
-                    let (lo, hi) = interval(e.value, v, opts.confidence)?;
+                Some(v) if estimate.value.is_finite() => {
+                    let (lo, hi) = interval(estimate.value, v, opts.confidence)?;
                     (Some(lo), Some(hi))
                 }
                 _ => (None, None),
             };
             Ok(Point {
-                estimate: *e,
+                estimate,
                 edf: nu,
                 lo,
                 hi,
                 alpha,
+                bias,
             })
         })
         .collect()

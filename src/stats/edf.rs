@@ -120,7 +120,10 @@ pub fn edf(kind: VarianceKind, alpha: i32, m: usize, n_phase: usize) -> Option<f
         return None;
     }
     match kind {
-        VarianceKind::Total => total_edf(alpha, m, n_phase),
+        VarianceKind::Total
+        | VarianceKind::ModifiedTotal
+        | VarianceKind::TimeTotal
+        | VarianceKind::HadamardTotal => crate::stats::totals::edf(kind, alpha, m, n_phase),
         _ => greenhall_edf(
             Differences::of(kind)?,
             alpha,
@@ -130,48 +133,6 @@ pub fn edf(kind: VarianceKind, alpha: i32, m: usize, n_phase: usize) -> Option<f
             PhaseModel::Discrete,
         ),
     }
-}
-
-/// EDF of TOTVAR: NIST SP 1065 b·(T/τ) − c for the FM noises, times the
-/// small-m factor of the overlapping Allan EDF (see the module notes);
-/// `None` for WPM and FPM.
-fn total_edf(alpha: i32, m: usize, n_phase: usize) -> Option<f64> {
-    if n_phase < 3 || 2 * m > n_phase - 1 {
-        return None;
-    }
-    let ratio = (n_phase - 1) as f64 / m as f64;
-    let (b, c) = match alpha {
-        0 => (1.50, 0.0),
-        -1 => (1.17, 0.22),
-        -2 => (0.93, 0.36),
-        _ => return None,
-    };
-    let oadev = Differences::of(VarianceKind::OverlappingAllan)?;
-    let exact = greenhall_edf(oadev, alpha, m, n_phase, J_MAX, PhaseModel::Discrete)?;
-    let r = (n_phase - 2 * m) as f64 / m as f64;
-    let factor = match large_r_coefficients(alpha, 2, false) {
-        Some((a0, a1)) if r > 3.0 && m * 3 <= J_MAX => exact * (a0 - a1 / r) / r,
-        _ => 1.0,
-    };
-    let nu = (b * ratio - c) * factor;
-    (nu > 0.0).then_some(nu)
-}
-
-/// Bias of the total variance, E\[TOTVAR\]/AVAR = 1 − a·τ/T with T = (N − 1)τ0
-/// (NIST SP 1065, from memory): a = 0 for white noise (WPM, WFM),
-/// 0.481 for FFM, 0.750 for RWFM. `None` for FPM (SP 1065 gives no value)
-/// and outside α = 2 … −2.
-pub fn totvar_bias(alpha: i32, m: usize, n_phase: usize) -> Option<f64> {
-    if n_phase < 2 || m == 0 {
-        return None;
-    }
-    let a = match alpha {
-        2 | 0 => 0.0,
-        -1 => 0.481,
-        -2 => 0.750,
-        _ => return None,
-    };
-    Some(1.0 - a * m as f64 / (n_phase - 1) as f64)
 }
 
 /// How the phase samples of a record are modelled in the autocovariance
@@ -411,10 +372,10 @@ pub struct Differences {
 }
 
 impl Differences {
-    /// The description of a [`VarianceKind`]; `None` for the total variance,
-    /// which has its own rule.
+    /// The description of a [`VarianceKind`]; `None` for the total family,
+    /// which has its own rules ([`crate::stats::totals`]).
     pub fn of(kind: VarianceKind) -> Option<Self> {
-        (kind != VarianceKind::Total).then(|| Differences {
+        (!kind.is_total()).then(|| Differences {
             order: kind.difference_order(),
             overlapping: kind.is_overlapping(),
             modified: kind.is_modified(),
@@ -580,6 +541,7 @@ mod tests {
         assert!(edf(VarianceKind::OverlappingHadamard, -4, 1, 100).is_some());
         assert_eq!(edf(VarianceKind::OverlappingAllan, 0, 60, 100), None);
         assert_eq!(edf(VarianceKind::Total, 0, 0, 100), None);
-        assert_eq!(totvar_bias(1, 1, 100), None);
+        assert_eq!(crate::stats::totvar_bias(-3, 1, 100), None);
+        assert_eq!(crate::stats::totvar_bias(0, 0, 100), None);
     }
 }

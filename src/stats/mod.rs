@@ -14,6 +14,8 @@
 //! - [`bias`] — the theoretical B1(N, μ) and R(n) ratios the fallback compares
 //!   against.
 //! - [`gacv`] — the autocovariance kernels of the EDF sums.
+//! - [`totals`] — bias and EDF of the total family (TOTDEV, MTOT, TTOT,
+//!   HTOT), the MTOT/HTOT ones exact from the estimators' definitions.
 //! - [`mod@annotate`] — estimates of one estimator → points with noise type, EDF
 //!   and interval.
 //!
@@ -30,11 +32,14 @@ pub mod edf;
 pub mod gacv;
 pub mod interval;
 pub mod noise_id;
+pub(crate) mod quadratic;
+pub mod totals;
 
 pub use annotate::{annotate, StatsOptions};
-pub use edf::{edf, totvar_bias};
+pub use edf::edf;
 pub use interval::{interval, DEFAULT_CONFIDENCE};
 pub use noise_id::{identify, IdMethod, Identifier, NoiseId};
+pub use totals::totvar_bias;
 
 /// The variance behind a deviation, as far as its statistics are concerned.
 ///
@@ -58,13 +63,23 @@ pub enum VarianceKind {
     Hadamard,
     /// Overlapping Hadamard variance (OHDEV): d = 3, F = m, S = m.
     OverlappingHadamard,
-    /// Total variance (TOTDEV): EDF and bias from the NIST SP 1065 rules.
+    /// Total variance (TOTDEV): d = 2; EDF by the NIST SP 1065 rule, bias
+    /// exact ([`totals`]).
     Total,
+    /// Modified total variance (MTOT): d = 2, phase averaged over τ;
+    /// bias and EDF exact ([`totals`]).
+    ModifiedTotal,
+    /// Time total variance TTOT = (τ²/3)·MTOT: the statistics of
+    /// [`VarianceKind::ModifiedTotal`].
+    TimeTotal,
+    /// Hadamard total variance (HTOT): d = 3; bias and EDF exact
+    /// ([`totals`]).
+    HadamardTotal,
 }
 
 impl VarianceKind {
     /// Every kind, in a fixed order.
-    pub const ALL: [VarianceKind; 7] = [
+    pub const ALL: [VarianceKind; 10] = [
         VarianceKind::Allan,
         VarianceKind::OverlappingAllan,
         VarianceKind::Modified,
@@ -72,20 +87,44 @@ impl VarianceKind {
         VarianceKind::Hadamard,
         VarianceKind::OverlappingHadamard,
         VarianceKind::Total,
+        VarianceKind::ModifiedTotal,
+        VarianceKind::TimeTotal,
+        VarianceKind::HadamardTotal,
     ];
 
     /// Order d of the phase difference: 2 for the Allan family (second
     /// difference of phase), 3 for the Hadamard family (third difference).
     pub fn difference_order(self) -> usize {
         match self {
-            VarianceKind::Hadamard | VarianceKind::OverlappingHadamard => 3,
+            VarianceKind::Hadamard
+            | VarianceKind::OverlappingHadamard
+            | VarianceKind::HadamardTotal => 3,
             _ => 2,
         }
     }
 
     /// True for the modified variances (phase averaged over τ first: F = 1).
     pub fn is_modified(self) -> bool {
-        matches!(self, VarianceKind::Modified | VarianceKind::Time)
+        matches!(
+            self,
+            VarianceKind::Modified
+                | VarianceKind::Time
+                | VarianceKind::ModifiedTotal
+                | VarianceKind::TimeTotal
+        )
+    }
+
+    /// True for the total family (TOTDEV, MTOT, TTOT, HTOT): estimators on a
+    /// reflected extension of the record, with a bias that depends on the
+    /// noise type ([`totals`]).
+    pub fn is_total(self) -> bool {
+        matches!(
+            self,
+            VarianceKind::Total
+                | VarianceKind::ModifiedTotal
+                | VarianceKind::TimeTotal
+                | VarianceKind::HadamardTotal
+        )
     }
 
     /// True for the fully overlapping estimators (stride 1 sample: S = m).
@@ -119,6 +158,9 @@ impl VarianceKind {
             VarianceKind::Hadamard => "hadamard",
             VarianceKind::OverlappingHadamard => "overlapping-hadamard",
             VarianceKind::Total => "total",
+            VarianceKind::ModifiedTotal => "modified-total",
+            VarianceKind::TimeTotal => "time-total",
+            VarianceKind::HadamardTotal => "hadamard-total",
         }
     }
 }

@@ -28,6 +28,7 @@ pub(super) fn stability(
         grid: opts.grid.clone(),
         confidence: opts.confidence,
         forced_alpha: None,
+        bias_correction: true,
     };
     let curves: Vec<Curve> = match analyse(&x, &req) {
         Ok(c) => c.into_iter().filter(|c| !c.points.is_empty()).collect(),

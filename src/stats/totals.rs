@@ -1,0 +1,390 @@
+//! Bias and EDF of the total family: TOTDEV, MTOT, TTOT and HTOT
+//! (NIST SP 1065, §5.2.11–5.2.14).
+//!
+//! # Bias
+//!
+//! The total estimators read reflected copies of the record, which makes
+//! them biased estimators of the variance they stand for: TOTVAR of the
+//! Allan variance, MTOT of the modified Allan variance (TTOT of TVAR, by the
+//! same factor), HTOT of the Hadamard variance. The bias factor
+//! B = E[estimate]/E[target] depends on the noise type; a value is corrected
+//! by dividing the variance by B (the deviation by √B).
+//!
+//! SP 1065 tabulates these factors. Here they are computed exactly from the
+//! estimators' own definitions under the discrete power-law noise of
+//! [`crate::stats::gacv`], as means of quadratic forms
+//! ([`crate::stats::quadratic`]):
+//!
+//! - **TOTVAR.** Of the N − 2 terms, N − 2m are ordinary Allan terms; the
+//!   2(m − 1) terms at the ends read a reflected sample 2x_0 − x_j (or its
+//!   twin at the far end) and have their own mean. So
+//!   B = [(N − 2m)·E_A + Σ_ends E_t] / ((N − 2)·E_A), exact for every N, m
+//!   and α. It reproduces SP 1065's B = 1 − a·τ/T with a = 0.481 (FFM) and
+//!   0.750 (RWFM) and a = 0 for WFM (CHECKS.md D; checked in
+//!   `tests/totals.rs`), and gives the factors SP 1065 does not tabulate:
+//!   white PM B = 1 + 1.335·τ/T (the reflected ends add variance), flicker
+//!   PM in between.
+//! - **MTOT, TTOT.** Every subsequence contributes vᵀRv with the same R
+//!   ([`crate::deviation::modtotal::subsequence_form`]), so
+//!   B = tr(RS)/E[MVAR term], independent of N. It is 1/2 at m = 1 exactly
+//!   (MTOT(1) = MDEV(1)/√2, see the module notes of the estimator) and
+//!   settles by m ≈ 16: 0.995 (WPM), 0.851 (FPM), 0.771 (WFM), 0.717
+//!   (FFM), 0.679 (RWFM). Computed at the actual m up to m = 64, and at
+//!   m = 64 beyond (it has settled to 0.1 %).
+//! - **HTOT.** The same form on the frequencies. For a power law α the
+//!   frequencies are the phase of the power law α + 2, so HTOT's factor at α
+//!   is MTOT's at α + 2: 0.995 (WFM), 0.851 (FFM), 0.771 (RWFM), 0.717
+//!   (FWFM), 0.679 (RRFM) — SP 1065's HTOT factors 1 + a with a = −0.005,
+//!   −0.149, −0.229, −0.283, −0.321 (from memory; checked in
+//!   `tests/totals.rs`). Given for α ≤ 0: for WPM and FPM the factor keeps
+//!   changing with m (1.38 and 1.26 at m = 64, still growing).
+//!
+//! # EDF
+//!
+//! - **TOTDEV**: SP 1065's b·(T/τ) − c (WFM b = 1.50, c = 0; FFM 1.17,
+//!   0.22; RWFM 0.93, 0.36; CHECKS.md D, from memory), times the small-m
+//!   factor described in [`mod@crate::stats::edf`]. The exact EDF of the
+//!   quadratic form ([`totvar_edf_exact`]) agrees with it within 1–4 % at
+//!   m = 16 for T/τ = 2 … 64 (`tests/totals.rs`). SP 1065 gives no rule for
+//!   WPM and FPM, and none is given here: their EDF grows with m at fixed
+//!   T/τ, so no reduced record stands for a long one.
+//! - **MTOT, TTOT, HTOT**: the exact EDF ν = tr(AS)²/tr((AS)²) of the
+//!   quadratic form of the whole estimate. It depends on the record through
+//!   T/τ = (N − 1)/m and, weakly, through m: at fixed T/τ it has settled to
+//!   about 2 % by m = 16. So it is evaluated on a reduced record with
+//!   m' = min(m, 16) and the same T/τ — exact for m ≤ 16 — directly while
+//!   T/τ ≤ 32 (at most 513 samples), and beyond that continued on the
+//!   straight line through T/τ = 16 and 32 (ν grows linearly in T/τ once the
+//!   subsequences far outnumber their span; the line meets the exact value
+//!   at T/τ = 128 within 0.5 %). SP 1065's empirical forms (from memory:
+//!   MTOT b·(T/τ) − c with WPM 1.90, 2.10; FPM 1.20, 1.40; WFM 1.10, 1.20;
+//!   FFM 0.85, 0.50; RWFM 0.75, 0.31, and HTOT (T/τ)/(b0 + b1·τ/T) with
+//!   WFM 0.559, 1.004; FFM 0.868, 1.006; RWFM 0.938, 1.000) agree with the
+//!   exact values within 20 % for T/τ ≥ 8 (`tests/totals.rs`); at the
+//!   longest τ (T/τ ≈ 3–4) they overstate the EDF by up to 70 % (RWFM),
+//!   which is why the exact form is used. HTOT's EDF is given for α ≤ 0
+//!   only (for WPM and FPM it grows with m at fixed T/τ).
+//!
+//! Both are model values: they assume the identified power law holds at
+//! that τ.
+
+use crate::deviation::modtotal::{frequency_form_on_phase, subsequence_form};
+use crate::deviation::total::reflected_terms;
+use crate::stats::gacv::discrete_phase_gacv;
+use crate::stats::quadratic::QuadraticForm;
+use crate::stats::VarianceKind;
+use std::collections::HashMap;
+use std::sync::{Mutex, OnceLock};
+
+/// MTOT and HTOT bias factors are computed at the actual m up to here, and
+/// at this m beyond.
+pub const BIAS_EXACT_UP_TO_M: usize = 64;
+/// The reduced records of the EDF use m' = min(m, this).
+pub const EDF_REDUCED_M: usize = 16;
+/// Up to this T/τ the EDF is evaluated directly on the reduced record;
+/// beyond, on the line through T/τ = 16 and this value.
+pub const EDF_DIRECT_UP_TO: f64 = 32.0;
+
+/// Bias factor B = E[estimate]/E[target variance] of a total-family
+/// variance at averaging factor `m` on `n_phase` phase samples, for noise
+/// S_y ∝ f^α (see the module notes). `None` for the other kinds, outside
+/// the kind's α range, or when the record is too short for m.
+///
+/// ```
+/// use tauwise::stats::{totals, VarianceKind};
+/// // TOTVAR on random-walk FM, τ = T/4: SP 1065's 1 − 0.750·τ/T = 0.8125.
+/// let b = totals::bias(VarianceKind::Total, -2, 250, 1001).unwrap();
+/// assert!((b - 0.8125).abs() < 0.002);
+/// // MTOT is MDEV/√2 at m = 1, whatever the noise.
+/// let b1 = totals::bias(VarianceKind::ModifiedTotal, 0, 1, 100).unwrap();
+/// assert!((b1 - 0.5).abs() < 1e-12);
+/// ```
+pub fn bias(kind: VarianceKind, alpha: i32, m: usize, n_phase: usize) -> Option<f64> {
+    if !kind.alpha_range().contains(&alpha) || m == 0 {
+        return None;
+    }
+    match kind {
+        VarianceKind::Total => totvar_bias(alpha, m, n_phase),
+        VarianceKind::ModifiedTotal | VarianceKind::TimeTotal => {
+            (n_phase >= 3 * m).then(|| local_bias(Local::Modified, alpha, m))?
+        }
+        VarianceKind::HadamardTotal => {
+            (alpha <= 0 && n_phase > 3 * m).then(|| local_bias(Local::Hadamard, alpha, m))?
+        }
+        _ => None,
+    }
+}
+
+/// Exact bias factor of TOTVAR, E[TOTVAR]/AVAR (module notes), for
+/// 1 ≤ m ≤ (N − 1)/2 and α = 2 … −2.
+///
+/// ```
+/// use tauwise::stats::totals::totvar_bias;
+/// // White FM: the reflected ends are unbiased (SP 1065: a = 0).
+/// assert!((totvar_bias(0, 100, 1001).unwrap() - 1.0).abs() < 2e-3);
+/// ```
+pub fn totvar_bias(alpha: i32, m: usize, n_phase: usize) -> Option<f64> {
+    if !(-2..=2).contains(&alpha) || m == 0 || n_phase < 2 * m + 1 {
+        return None;
+    }
+    // The left-end terms read samples 0 … 2m − 1; the right-end ones mirror
+    // them (the GACV is even), so Σ_ends = 2·Σ_left.
+    let g = discrete_phase_gacv(alpha, 2 * m + 1);
+    let mean = |terms: &[(usize, f64)]| -> f64 {
+        let mut s = 0.0;
+        for &(i, ci) in terms {
+            for &(j, cj) in terms {
+                s += ci * cj * g[i.abs_diff(j)];
+            }
+        }
+        s
+    };
+    let inner = mean(&[(0, 1.0), (m, -2.0), (2 * m, 1.0)]);
+    if !(inner > 0.0) {
+        return None;
+    }
+    let mut ends = 0.0;
+    for i in 1..m {
+        let [a, b] = reflected_terms(n_phase, i as isize - m as isize);
+        ends += mean(&[a, b, (i, -2.0), (i + m, 1.0)]);
+    }
+    let n = n_phase as f64;
+    Some(((n - 2.0 * m as f64) * inner + 2.0 * ends) / ((n - 2.0) * inner))
+}
+
+/// The two members built from the modified-total subsequence form.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
+enum Local {
+    /// MTOT and TTOT: the form on 3m phase samples.
+    Modified,
+    /// HTOT: the form on 3m frequency samples, i.e. 3m + 1 phase samples.
+    Hadamard,
+}
+
+impl Local {
+    /// The subsequence form on phase and its length.
+    fn form(self, m: usize) -> (Vec<f64>, usize) {
+        let r = subsequence_form(m);
+        match self {
+            Local::Modified => (r, 3 * m),
+            Local::Hadamard => (frequency_form_on_phase(&r, 3 * m), 3 * m + 1),
+        }
+    }
+
+    /// The target variance's term on the same phase window: the second
+    /// difference of m-sample averages of phase (MVAR) or of frequency
+    /// (HVAR), as (index, coefficient) pairs.
+    fn target_term(self, m: usize) -> Vec<(usize, f64)> {
+        let w = 1.0 / m as f64;
+        let mut c = vec![0.0f64; 3 * m + 1];
+        for i in 0..m {
+            for (k, v) in [(0, 1.0), (1, -2.0), (2, 1.0)] {
+                match self {
+                    Local::Modified => c[i + k * m] += v * w,
+                    // y_t = x_{t+1} − x_t.
+                    Local::Hadamard => {
+                        c[i + k * m + 1] += v * w;
+                        c[i + k * m] -= v * w;
+                    }
+                }
+            }
+        }
+        c.into_iter().enumerate().filter(|t| t.1 != 0.0).collect()
+    }
+
+    /// Phase samples spanned by `count` consecutive subsequences.
+    fn samples(self, m: usize, count: usize) -> usize {
+        match self {
+            Local::Modified => count + 3 * m - 1,
+            Local::Hadamard => count + 3 * m,
+        }
+    }
+}
+
+/// What a cache entry holds.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
+enum Cached {
+    Bias,
+    EdfLine,
+}
+
+/// (member, what, α, m').
+type Key = (Local, Cached, i32, usize);
+/// A bias factor is stored as (B, B); an EDF line as its values at
+/// T/τ = 16 and 32.
+type Values = Option<(f64, f64)>;
+
+/// Results that depend only on (member, α, m'), shared by every τ and
+/// record (each costs up to some tens of milliseconds).
+fn cached(key: Key, f: impl FnOnce() -> Values) -> Values {
+    static CACHE: OnceLock<Mutex<HashMap<Key, Values>>> = OnceLock::new();
+    let cache = CACHE.get_or_init(|| Mutex::new(HashMap::new()));
+    if let Some(v) = cache.lock().ok().and_then(|c| c.get(&key).copied()) {
+        return v;
+    }
+    let v = f();
+    if let Ok(mut c) = cache.lock() {
+        c.insert(key, v);
+    }
+    v
+}
+
+fn local_bias(which: Local, alpha: i32, m: usize) -> Option<f64> {
+    let mr = m.min(BIAS_EXACT_UP_TO_M);
+    cached((which, Cached::Bias, alpha, mr), || {
+        let (r, len) = which.form(mr);
+        let g = discrete_phase_gacv(alpha, len);
+        let mut estimate = QuadraticForm::new(len);
+        estimate.add_local(0, &r, len);
+        let mut target = QuadraticForm::new(len);
+        target.add_square(&which.target_term(mr));
+        let (num, den) = (estimate.mean(&g), target.mean(&g));
+        (den > 0.0 && num.is_finite()).then_some((num / den, num / den))
+    })
+    .map(|v| v.0)
+}
+
+/// The exact EDF of the whole estimate on a gap-free record of `n_phase`
+/// samples at factor m: `count` subsequences' forms added at successive
+/// offsets, ν = tr(AS)²/tr((AS)²). O(n²·m).
+fn local_edf_exact(which: Local, alpha: i32, m: usize, n_phase: usize) -> Option<f64> {
+    let (r, len) = which.form(m);
+    if n_phase < len {
+        return None;
+    }
+    let count = n_phase - len + 1;
+    let mut q = QuadraticForm::new(which.samples(m, count));
+    for start in 0..count {
+        q.add_local(start, &r, len);
+    }
+    let g = discrete_phase_gacv(alpha, q.len());
+    q.edf(&g)
+}
+
+/// The EDF of MTOT/TTOT (`Local::Modified`) or HTOT at m on `n_phase`
+/// samples by the reduced record and its line (module notes).
+fn local_edf(which: Local, alpha: i32, m: usize, n_phase: usize) -> Option<f64> {
+    if n_phase < 2 {
+        return None;
+    }
+    let ratio = (n_phase - 1) as f64 / m as f64; // T/τ
+    let mr = m.min(EDF_REDUCED_M);
+    let reduced = |t_over_tau: f64| (t_over_tau * mr as f64).round() as usize + 1;
+    let nu = if ratio <= EDF_DIRECT_UP_TO {
+        local_edf_exact(which, alpha, mr, reduced(ratio))?
+    } else {
+        let lo_ratio = EDF_DIRECT_UP_TO / 2.0;
+        let (lo, hi) = cached((which, Cached::EdfLine, alpha, mr), || {
+            Some((
+                local_edf_exact(which, alpha, mr, reduced(lo_ratio))?,
+                local_edf_exact(which, alpha, mr, reduced(EDF_DIRECT_UP_TO))?,
+            ))
+        })?;
+        hi + (ratio - EDF_DIRECT_UP_TO) * (hi - lo) / (EDF_DIRECT_UP_TO - lo_ratio)
+    };
+    (nu.is_finite() && nu > 0.0).then_some(nu)
+}
+
+/// EDF of a total-family variance at factor `m` on `n_phase` phase samples
+/// (module notes): TOTDEV by the SP 1065 rule (α = 0 … −2), MTOT and TTOT
+/// by the exact quadratic form (α = 2 … −2), HTOT likewise (α = 0 … −4).
+/// `None` for other kinds and outside those ranges.
+///
+/// ```
+/// use tauwise::stats::{totals, VarianceKind};
+/// // MTOT, white FM, N = 1025, m = 64 (T/τ = 16): exact, about 15.2.
+/// let nu = totals::edf(VarianceKind::ModifiedTotal, 0, 64, 1025).unwrap();
+/// assert!((nu - 15.2).abs() < 0.5);
+/// ```
+pub fn edf(kind: VarianceKind, alpha: i32, m: usize, n_phase: usize) -> Option<f64> {
+    if m == 0 || !kind.alpha_range().contains(&alpha) {
+        return None;
+    }
+    match kind {
+        VarianceKind::Total => totdev_edf(alpha, m, n_phase),
+        VarianceKind::ModifiedTotal | VarianceKind::TimeTotal => {
+            if n_phase < 3 * m {
+                return None;
+            }
+            local_edf(Local::Modified, alpha, m, n_phase)
+        }
+        VarianceKind::HadamardTotal => {
+            if alpha > 0 || n_phase < 3 * m + 1 {
+                return None;
+            }
+            local_edf(Local::Hadamard, alpha, m, n_phase)
+        }
+        _ => None,
+    }
+}
+
+/// EDF of TOTVAR: NIST SP 1065 b·(T/τ) − c for the FM noises, times the
+/// small-m factor of the overlapping Allan EDF (see the module notes of
+/// [`mod@crate::stats::edf`]); `None` for WPM and FPM.
+fn totdev_edf(alpha: i32, m: usize, n_phase: usize) -> Option<f64> {
+    use crate::stats::edf::{greenhall_edf, large_r_coefficients, Differences, PhaseModel};
+    if n_phase < 3 || 2 * m > n_phase - 1 {
+        return None;
+    }
+    let ratio = (n_phase - 1) as f64 / m as f64;
+    let (b, c) = match alpha {
+        0 => (1.50, 0.0),
+        -1 => (1.17, 0.22),
+        -2 => (0.93, 0.36),
+        _ => return None,
+    };
+    let oadev = Differences::of(VarianceKind::OverlappingAllan)?;
+    let j_max = crate::stats::edf::J_MAX;
+    let exact = greenhall_edf(oadev, alpha, m, n_phase, j_max, PhaseModel::Discrete)?;
+    let r = (n_phase - 2 * m) as f64 / m as f64;
+    let factor = match large_r_coefficients(alpha, 2, false) {
+        Some((a0, a1)) if r > 3.0 && m * 3 <= j_max => exact * (a0 - a1 / r) / r,
+        _ => 1.0,
+    };
+    let nu = (b * ratio - c) * factor;
+    (nu > 0.0).then_some(nu)
+}
+
+/// The exact EDF of TOTVAR for a gap-free record of `n_phase` samples at
+/// factor m and noise α = 2 … −2: the N − 2 terms, reflected ends included,
+/// as one quadratic form (module notes). Dense, O(N²·m): for cross-checks on
+/// records of up to a few thousand samples.
+///
+/// ```
+/// use tauwise::stats::totals::totvar_edf_exact;
+/// // White FM, N = 161, m = 10 (T/τ = 16): SP 1065 gives 1.5·16 = 24.
+/// let nu = totvar_edf_exact(0, 10, 161).unwrap();
+/// assert!((nu - 24.0).abs() < 1.0);
+/// ```
+pub fn totvar_edf_exact(alpha: i32, m: usize, n_phase: usize) -> Option<f64> {
+    if !(-2..=2).contains(&alpha) || m == 0 || n_phase < 2 * m + 1 {
+        return None;
+    }
+    let mut q = QuadraticForm::new(n_phase);
+    for i in 1..n_phase - 1 {
+        let [a, b] = reflected_terms(n_phase, i as isize - m as isize);
+        let [c, d] = reflected_terms(n_phase, (i + m) as isize);
+        q.add_square(&[a, b, (i, -2.0), c, d]);
+    }
+    q.edf(&discrete_phase_gacv(alpha, n_phase))
+}
+
+/// The exact EDF of MTOT (and TTOT; `hadamard` false) or HTOT (true) on a
+/// gap-free record of `n_phase` samples, without the reduced record: for
+/// cross-checks of [`edf`]. O(N²·m).
+pub fn modified_total_edf_exact(
+    hadamard: bool,
+    alpha: i32,
+    m: usize,
+    n_phase: usize,
+) -> Option<f64> {
+    let which = if hadamard {
+        Local::Hadamard
+    } else {
+        Local::Modified
+    };
+    if m == 0 || !(-4..=2).contains(&alpha) {
+        return None;
+    }
+    local_edf_exact(which, alpha, m, n_phase)
+}
