@@ -160,27 +160,44 @@ pub const BEST_CURVE: &str = "best";
 /// lattice τ = 0.75·m·τ0, next to, not on, the m·τ0 of the other estimators.
 pub const SAME_TAU_RATIO: f64 = 1.189_207_115_002_721; // 2^(1/4)
 
-/// The best estimate at each τ: among the curves of σ_y estimators (not
-/// the time deviations TDEV, TTOT, MTIE, TIE rms, which measure a different
-/// quantity), group the points by τ (within [`SAME_TAU_RATIO`]) and take,
-/// in each group, the point whose confidence interval is narrowest in
-/// relative terms (smallest hi/lo, i.e. the widest EDF); ties go to the
-/// estimator requested first. Points without an interval are not eligible.
+/// The best estimate at each τ: among the requested curves that estimate
+/// the same σ_y variance as the first requested σ_y estimator
+/// ([`Estimator::estimates`]: ADEV, OADEV, TOTDEV and TheoH the Allan
+/// variance; MDEV and MTOT the modified Allan variance; HDEV, OHDEV and
+/// HTOT the Hadamard variance), group the points by τ (within
+/// [`SAME_TAU_RATIO`]) and take, in each group, the point whose confidence
+/// interval is narrowest in relative terms (smallest hi/lo, i.e. the widest
+/// EDF); ties go to the estimator requested first. Points without an
+/// interval are not eligible, nor are time deviations, Theo1 (biased except
+/// for white FM: request TheoH) or estimators of another variance — the
+/// Hadamard variance ignores a frequency drift that the Allan variance
+/// sees, so a curve that hopped between them would show steps that are not
+/// in the oscillator.
 ///
-/// The estimators answer slightly different questions (MDEV and ADEV differ
-/// for phase noise; TheoH is bias-corrected, TOTDEV is not), so the curve
-/// is a reading aid across τ, not a new estimator; each point says where it
-/// came from. An engineering estimate: the governing standard, the
-/// equipment maker's data and local acceptance procedures decide.
+/// The total family is compared bias-corrected for the identified noise
+/// type ([`crate::stats::totals`]) and TheoH is bias-corrected by design,
+/// so the members of a family estimate the same quantity; each point still
+/// says where it came from. An engineering estimate: the governing
+/// standard, the equipment maker's data and local acceptance procedures
+/// decide.
 ///
 /// Curves whose name is not an estimator (derived curves) are skipped.
 pub fn best(curves: &[Curve]) -> Vec<BestPoint> {
     let mut cands: Vec<(usize, BestPoint)> = Vec::new();
+    let sigma_y = |c: &Curve| {
+        Estimator::from_name(&c.estimator)
+            .ok()
+            .filter(|e| !e.is_time_deviation())
+            .and_then(|e| e.estimates().map(|target| (e, target)))
+    };
+    let Some(family) = curves.iter().find_map(sigma_y).map(|(_, target)| target) else {
+        return Vec::new();
+    };
     for (order, c) in curves.iter().enumerate() {
-        let Ok(est) = Estimator::from_name(&c.estimator) else {
+        let Some((est, target)) = sigma_y(c) else {
             continue;
         };
-        if est.is_time_deviation() {
+        if target != family {
             continue;
         }
         for p in &c.points {
@@ -263,6 +280,9 @@ mod tests {
     #[test]
     fn best_takes_the_narrowest_relative_interval_per_tau() {
         let curves = vec![
+            // A time deviation is never chosen, however narrow, nor does it
+            // set the family.
+            curve("tdev", vec![pt(1.0, 1.0, 0.999, 1.001)]),
             curve(
                 "oadev",
                 vec![pt(1.0, 1.0, 0.9, 1.1), pt(2.0, 1.0, 0.5, 2.0)],
@@ -272,17 +292,23 @@ mod tests {
                 "totdev",
                 vec![pt(1.0, 1.0, 0.8, 1.3), pt(2.0, 1.0, 0.8, 1.2)],
             ),
-            // A time deviation is never chosen, however narrow.
-            curve("tdev", vec![pt(1.0, 1.0, 0.999, 1.001)]),
-            // Theo1's τ = 1.5·2 = 3 vs 4: separate groups; 4.5 joins 4.
-            curve("theo1", vec![pt(4.5, 1.0, 0.95, 1.05)]),
-            curve("mdev", vec![pt(4.0, 1.0, 0.5, 2.0), pt(8.0, 1.0, 0.5, 2.0)]),
+            // TheoH's τ = 1.5·2 = 3 vs 4: separate groups; 4.5 joins 4.
+            curve("theoh", vec![pt(4.5, 1.0, 0.95, 1.05)]),
+            // Theo1 is biased except for white FM: never chosen.
+            curve("theo1", vec![pt(6.0, 1.0, 0.99, 1.01)]),
+            // Another variance (the first σ_y curve, oadev, sets the
+            // Allan family): never chosen, however narrow.
+            curve(
+                "mdev",
+                vec![pt(4.0, 1.0, 0.99, 1.01), pt(8.0, 1.0, 0.5, 2.0)],
+            ),
+            curve("htot", vec![pt(16.0, 1.0, 0.99, 1.01)]),
             // No interval: not eligible.
             curve(
-                "htot",
+                "adev",
                 vec![Point::bare(Estimate {
-                    tau: 16.0,
-                    m: 16,
+                    tau: 32.0,
+                    m: 32,
                     value: 1.0,
                     terms: 3,
                 })],
@@ -295,22 +321,24 @@ mod tests {
             vec![
                 (1.0, Estimator::Oadev),
                 (2.0, Estimator::Totdev),
-                (4.5, Estimator::Theo1),
-                (8.0, Estimator::Mdev),
+                (4.5, Estimator::Theoh),
             ]
         );
         assert_eq!(best_curve(&b).estimator, "best");
-        assert_eq!(best_curve(&b).points.len(), 4);
+        assert_eq!(best_curve(&b).points.len(), 3);
     }
 
     #[test]
     fn best_ties_go_to_the_first_requested() {
         let curves = vec![
             curve("mdev", vec![pt(1.0, 2.0, 1.0, 3.0)]),
-            curve("oadev", vec![pt(1.0, 1.0, 0.5, 1.5)]),
+            curve("mtot", vec![pt(1.0, 1.0, 0.5, 1.5)]),
+            curve("oadev", vec![pt(1.0, 1.0, 0.9, 1.1)]),
         ];
+        // The modified family (set by mdev): oadev is not eligible.
         assert_eq!(best(&curves)[0].from, Estimator::Mdev);
         assert!(best(&[]).is_empty());
+        assert!(best(&[curve("mtie", vec![pt(1.0, 1.0, 0.9, 1.1)])]).is_empty());
     }
 }
 

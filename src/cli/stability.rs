@@ -58,8 +58,9 @@ pub struct Args {
     #[arg(long)]
     pub uncorrected: bool,
     /// Add a curve `best`: at each τ the point with the narrowest
-    /// confidence interval among the requested σ_y estimators, with the
-    /// estimator it came from.
+    /// confidence interval among the requested estimators of the same
+    /// variance as the first σ_y one (e.g. oadev, totdev, theoh; or mdev,
+    /// mtot; or ohdev, htot), with the estimator it came from.
     #[arg(long)]
     pub best: bool,
     #[command(flatten)]
@@ -216,9 +217,14 @@ fn best_csv(b: &[BestPoint]) -> String {
 fn best_table(b: &[BestPoint], x: &PhaseRecord) -> String {
     let mut s = String::new();
     let _ = writeln!(s);
+    let family = match b.first().and_then(|p| p.from.estimates()) {
+        Some(Estimator::Mdev) => "modified Allan variance",
+        Some(Estimator::Ohdev) => "Hadamard variance",
+        _ => "Allan variance",
+    };
     let _ = writeln!(
         s,
-        "{BEST_CURVE} — narrowest confidence interval at each τ among the σ_y estimators"
+        "{BEST_CURVE} — narrowest confidence interval at each τ among the estimators of the {family}"
     );
     let _ = writeln!(
         s,

@@ -201,6 +201,24 @@ impl Estimator {
         )
     }
 
+    /// The plain estimator whose variance this one estimates once any bias
+    /// is removed: the Allan variance (`oadev`) for ADEV, TOTDEV and TheoH;
+    /// the modified Allan variance (`mdev`) for MTOT; the Hadamard variance
+    /// (`ohdev`) for HDEV and HTOT; TVAR (`tdev`) for TTOT; itself for the
+    /// plain ones. None for Theo1, which equals the Allan variance only for
+    /// white FM (TheoH is its corrected form), and for MTIE and TIE rms.
+    pub fn estimates(self) -> Option<Estimator> {
+        match self {
+            Estimator::Adev | Estimator::Oadev | Estimator::Totdev | Estimator::Theoh => {
+                Some(Estimator::Oadev)
+            }
+            Estimator::Mdev | Estimator::Mtot => Some(Estimator::Mdev),
+            Estimator::Hdev | Estimator::Ohdev | Estimator::Htot => Some(Estimator::Ohdev),
+            Estimator::Tdev | Estimator::Ttot => Some(Estimator::Tdev),
+            Estimator::Theo1 | Estimator::Mtie | Estimator::Tierms => None,
+        }
+    }
+
     /// True for the estimators whose averaging times lie on their own
     /// lattice τ = 0.75·m·τ0 (m even): `theo1`, and `theoh` beyond its switch
     /// point. A requested τ is moved to the nearest lattice point.

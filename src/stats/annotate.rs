@@ -232,8 +232,10 @@ pub fn annotate(
             let nu = alpha.and_then(|a| edf(kind, a, e.m, n_eff));
             let bias = match alpha {
                 Some(a) if opts.bias_correction && kind.is_total() => {
+                    // B = 1 exactly (TOTDEV at m = 1: no reflected term)
+                    // is no correction.
                     crate::stats::totals::bias(kind, a, e.m, n_eff)
-                        .filter(|b| b.is_finite() && *b > 0.0)
+                        .filter(|b| b.is_finite() && *b > 0.0 && *b != 1.0)
                 }
                 _ => None,
             };
