@@ -245,6 +245,41 @@ fn theoh_bias_ratio_from_the_all_factor_form() {
     }
 }
 
+/// The same with gaps (isolated samples and a run; N = 2600): the all-factor
+/// form runs on each gap-free stretch, and TheoH still equals sqrt(R)·Theo1
+/// with R and Theo1 from the direct SP 1065 forms, every term that touches a
+/// gap skipped (1e-10).
+#[test]
+fn theoh_bias_ratio_with_gaps() {
+    let mut x = random_phase(2600, 10);
+    for i in [700usize, 701, 1650] {
+        x[i] = f64::NAN;
+    }
+    for v in &mut x[2000..2011] {
+        *v = f64::NAN;
+    }
+    let n = x.len();
+    let nb = (0.1 * n as f64 / 3.0 - 3.0).floor() as usize;
+    let ratios: Vec<f64> = (0..=nb)
+        .filter_map(|i| {
+            let a = reference::oadev(&x, 1.0, 9 + 3 * i)?.value;
+            let t = reference::theo1(&x, 1.0, 12 + 4 * i)?.value;
+            Some(a * a / (t * t))
+        })
+        .collect();
+    // Factors up to 344 fit the longest stretches: all pairs computable.
+    assert_eq!(ratios.len(), nb + 1);
+    let r = ratios.iter().sum::<f64>() / ratios.len() as f64;
+    let rec = PhaseRecord::new(x.clone(), 1.0).unwrap();
+    let got = compute(Estimator::Theoh, &rec, &[300, 600]);
+    assert_eq!(got.len(), 2);
+    for e in got {
+        let d = reference::theo1(&x, 1.0, e.m).unwrap();
+        assert_eq!(e.terms, d.terms);
+        assert!(rel(e.value, d.value * r.sqrt()) < 1e-10, "m'={}", e.m);
+    }
+}
+
 /// NIST SP 1065 nine-point set (CHECKS.md A) through the long-τ
 /// estimators: values from direct evaluation of the SP 1065 definitions
 /// (reference forms above; no published value is given here), checked to

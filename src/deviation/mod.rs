@@ -67,9 +67,9 @@ pub enum Estimator {
     Theo1,
     /// TheoH: overlapping ADEV up to 10 % of the record, bias-removed Theo1
     /// (ThêoBR) beyond (NIST SP 1065 §5.2.17). The ThêoBR bias ratio needs
-    /// about N/30 Theo1 values; on a gap-free record they come from one
-    /// all-factor form, O(N²): about 4 s of CPU for the octave grid at
-    /// N = 172800 (two days at 1 s). With gaps each is a direct sum, O(N³).
+    /// about N/30 Theo1 values; they come from one all-factor form run on
+    /// each gap-free stretch of the record, O(N²): about 4 s of CPU for the
+    /// octave grid at N = 172800 (two days at 1 s).
     Theoh,
     /// Maximum time interval error (ITU-T G.810).
     Mtie,

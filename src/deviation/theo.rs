@@ -31,38 +31,36 @@ pub(crate) fn theo_factor(m: usize, n_phase: usize) -> Option<usize> {
 /// SP 1065 form Σ_δ 1/(m/2−δ)·[(x_i − x_{i−δ+m/2}) + (x_{i+m} − x_{i+δ+m/2})]².)
 ///
 /// Fast form: k outside, i inside, so that each inner sum is one vectorised
-/// pass over four shifted copies of the record; the k are spread over
-/// threads and added back in order. O(N·m/2) per τ.
+/// pass over four shifted copies of each gap-free stretch; the k are spread
+/// over threads and added back in order. O(N·m/2) per τ.
 pub(crate) fn theo1_sum(p: &Prepared, m: usize) -> (f64, usize) {
     let x = p.x;
     let n = x.len();
     if m < 2 || m % 2 == 1 || n < m + 1 {
         return (0.0, 0);
     }
-    let count = n - m;
-    let used = if p.gaps.is_none() {
-        count
+    // A term is used when x_i … x_{i+m} is clear: the terms are those of
+    // the gap-free stretches (the whole record when it has no gap) taken
+    // one by one.
+    let stretches: Vec<(usize, usize)> = if p.gaps.is_none() {
+        vec![(0, n)]
     } else {
-        (0..count).filter(|&i| p.gaps.clear(i, i + m)).count()
+        clear_stretches(x)
+            .into_iter()
+            .filter(|&(a, b)| b - a > m)
+            .collect()
     };
+    let used: usize = stretches.iter().map(|&(a, b)| b - a - m).sum();
     if used == 0 {
         return (0.0, 0);
     }
     let per_k: Vec<f64> = (1..=m / 2)
         .into_par_iter()
         .map(|k| {
-            let s = if p.gaps.is_none() {
-                sum_sq_4(x, [0, k, m - k, m], count)
-            } else {
-                let mut s = 0.0;
-                for i in 0..count {
-                    if p.gaps.clear(i, i + m) {
-                        let v = (x[i] - x[i + k]) - (x[i + m - k] - x[i + m]);
-                        s += v * v;
-                    }
-                }
-                s
-            };
+            let s: f64 = stretches
+                .iter()
+                .map(|&(a, b)| sum_sq_4(&x[a..b], [0, k, m - k, m], b - a - m))
+                .sum();
             s / k as f64
         })
         .collect();
@@ -113,9 +111,9 @@ pub(crate) fn theo1(p: &Prepared, m: usize) -> Option<Estimate> {
 /// over short τ where AVAR is reliable, how far Theo1 falls below AVAR for
 /// the noise at hand. None when N < 90 (n < 0) or no pair is computable.
 ///
-/// Cost: on a gap-free record the n + 1 ≈ N/30 Theo1 values come together
-/// from [`theo1_sums_many`], O(N²/450); with gaps each is a direct Theo1
-/// sum, O(N³/1800) in all (about a second at N = 10⁴). Computed once per
+/// Cost: the n + 1 ≈ N/30 Theo1 values beyond m = 256 come together from
+/// [`theo1_sums_many`], run on each gap-free stretch of the record,
+/// O(N²/450) at most; the few below from direct sums. Computed once per
 /// record.
 pub(crate) fn theobr_ratio(p: &Prepared) -> Option<f64> {
     let n = p.x.len();
@@ -124,30 +122,40 @@ pub(crate) fn theobr_ratio(p: &Prepared) -> Option<f64> {
         return None;
     }
     let nb = nb as usize;
-    // Gap-free records: the Theo1 values beyond m = DIRECT_UP_TO all at
-    // once (`theo1_sums_many`); the short ones, and all of them with gaps,
-    // one direct Theo1 sum per factor.
     let direct = |i: usize| theo1_at(p, 12 + 4 * i).map(|e| e.value * e.value);
-    let theo: Vec<Option<f64>> = if p.gaps.is_none() {
-        let first_fast = (0..=nb)
-            .find(|&i| 12 + 4 * i > DIRECT_UP_TO)
-            .unwrap_or(nb + 1);
-        let mut t: Vec<Option<f64>> = (0..first_fast).into_par_iter().map(direct).collect();
-        let ms: Vec<usize> = (first_fast..=nb)
-            .map(|i| 12 + 4 * i)
-            .filter(|&m| m < n)
-            .collect();
-        let sums = theo1_sums_many(p.x, &ms);
-        t.extend((first_fast..=nb).map(|i| {
-            let m = 12 + 4 * i;
-            let s = *sums.get(i - first_fast)?;
-            let mt = m as f64 * p.tau0;
-            Some(s / (0.75 * mt * mt * (n - m) as f64))
-        }));
-        t
-    } else {
-        (0..=nb).into_par_iter().map(direct).collect()
-    };
+    // The Theo1 values beyond m = DIRECT_UP_TO all at once from the
+    // all-factor form, run on each gap-free stretch of the record (a Theo1
+    // term is used only when its whole span x_i … x_{i+m} is clear, so the
+    // record's sum is the sum over its stretches); the short ones one
+    // direct Theo1 sum per factor.
+    let first_fast = (0..=nb)
+        .find(|&i| 12 + 4 * i > DIRECT_UP_TO)
+        .unwrap_or(nb + 1);
+    let mut theo: Vec<Option<f64>> = (0..first_fast).into_par_iter().map(direct).collect();
+    let ms: Vec<usize> = (first_fast..=nb).map(|i| 12 + 4 * i).collect();
+    // Stretches in parallel; their sums are added in record order.
+    let per_stretch: Vec<(Vec<f64>, usize)> = clear_stretches(p.x)
+        .into_par_iter()
+        .map(|(a, b)| {
+            let fit: Vec<usize> = ms.iter().copied().take_while(|&m| m < b - a).collect();
+            if fit.is_empty() {
+                return (Vec::new(), b - a);
+            }
+            (theo1_sums_many(&p.x[a..b], &fit), b - a)
+        })
+        .collect();
+    let mut sums = vec![0.0f64; ms.len()];
+    let mut used = vec![0usize; ms.len()];
+    for (s, len) in per_stretch {
+        for (j, v) in s.into_iter().enumerate() {
+            sums[j] += v;
+            used[j] += len - ms[j];
+        }
+    }
+    theo.extend(ms.iter().enumerate().map(|(j, &m)| {
+        let mt = m as f64 * p.tau0;
+        (used[j] > 0).then(|| sums[j] / (0.75 * mt * mt * used[j] as f64))
+    }));
     let ratios: Vec<Option<f64>> = (0..=nb)
         .into_par_iter()
         .map(|i| {
@@ -161,6 +169,26 @@ pub(crate) fn theobr_ratio(p: &Prepared) -> Option<f64> {
         return None;
     }
     Some(good.iter().sum::<f64>() / good.len() as f64)
+}
+
+/// The maximal runs `a..b` of the record that hold no gap.
+fn clear_stretches(x: &[f64]) -> Vec<(usize, usize)> {
+    let mut out = Vec::new();
+    let mut start = None;
+    for (i, v) in x.iter().enumerate() {
+        match (v.is_nan(), start) {
+            (false, None) => start = Some(i),
+            (true, Some(a)) => {
+                out.push((a, i));
+                start = None;
+            }
+            _ => {}
+        }
+    }
+    if let Some(a) = start {
+        out.push((a, x.len()));
+    }
+    out
 }
 
 /// ThêoBR takes its Theo1 values up to this factor from the direct sum:
