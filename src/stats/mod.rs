@@ -14,6 +14,8 @@
 //! - [`bias`] — the theoretical B1(N, μ) and R(n) ratios the fallback compares
 //!   against.
 //! - [`gacv`] — the autocovariance kernels of the EDF sums.
+//! - [`quadratic`] — exact mean and EDF of an estimator written as a
+//!   quadratic form in the phase samples.
 //! - [`totals`] — bias and EDF of the total family (TOTDEV, MTOT, TTOT,
 //!   HTOT), the MTOT/HTOT ones exact from the estimators' definitions.
 //! - [`mod@annotate`] — estimates of one estimator → points with noise type, EDF
@@ -32,7 +34,7 @@ pub mod edf;
 pub mod gacv;
 pub mod interval;
 pub mod noise_id;
-pub(crate) mod quadratic;
+pub mod quadratic;
 pub mod totals;
 
 pub use annotate::{annotate, StatsOptions};

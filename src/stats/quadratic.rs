@@ -6,11 +6,11 @@
 //! Q(x) = Σ_t (c_tᵀ x)² = xᵀ A x with A = Σ_t c_t c_tᵀ. For Gaussian x with
 //! (generalised) autocovariance s(k) — the matrix S_{ij} = s(|i − j|) —
 //!
-//! - E[Q] = tr(A S),
-//! - Var[Q] = 2 tr((A S)²),
-//! - EDF ν = 2 E[Q]² / Var[Q] = tr(A S)² / tr((A S)²),
+//! - E\[Q\] = tr(A S),
+//! - Var\[Q\] = 2 tr((A S)²),
+//! - EDF ν = 2 E\[Q\]² / Var\[Q\] = tr(A S)² / tr((A S)²),
 //!
-//! the definition of the EDF (Var[σ̂²] = 2σ⁴/ν) evaluated exactly. This is
+//! the definition of the EDF (Var\[σ̂²\] = 2σ⁴/ν) evaluated exactly. This is
 //! the principle of Greenhall & Riley, "Uncertainty of stability variances
 //! based on finite differences" (PTTI 2003), who evaluate it in closed form
 //! for the estimators whose terms are all alike; here it is evaluated on the
@@ -27,8 +27,21 @@
 /// A quadratic form xᵀ A x on `n` phase samples (A dense, symmetric), built
 /// term by term, with the column range of each row's non-zero entries kept
 /// so that products with S skip the zeros.
+///
+/// ```
+/// use tauwise::stats::quadratic::QuadraticForm;
+/// // Σ (x_{i+1} − x_i)² over 10 samples of a random walk (white FM phase,
+/// // GACV s(k) = −|k|/2): nine independent unit squares, mean 9, EDF 9.
+/// let mut q = QuadraticForm::new(10);
+/// for i in 0..9 {
+///     q.add_square(&[(i, -1.0), (i + 1, 1.0)]);
+/// }
+/// let g: Vec<f64> = (0..10).map(|k| -(k as f64) / 2.0).collect();
+/// assert!((q.mean(&g) - 9.0).abs() < 1e-12);
+/// assert!((q.edf(&g).unwrap() - 9.0).abs() < 1e-12);
+/// ```
 #[derive(Debug, Clone)]
-pub(crate) struct QuadraticForm {
+pub struct QuadraticForm {
     n: usize,
     a: Vec<f64>,
     /// Per row: first and one-past-last column that may be non-zero.
@@ -37,7 +50,7 @@ pub(crate) struct QuadraticForm {
 
 impl QuadraticForm {
     /// The zero form on `n` samples.
-    pub(crate) fn new(n: usize) -> Self {
+    pub fn new(n: usize) -> Self {
         Self {
             n,
             a: vec![0.0; n * n],
@@ -46,7 +59,7 @@ impl QuadraticForm {
     }
 
     /// Number of samples.
-    pub(crate) fn len(&self) -> usize {
+    pub fn len(&self) -> usize {
         self.n
     }
 
@@ -58,7 +71,7 @@ impl QuadraticForm {
 
     /// Add the square (Σ_k c_k x_{i_k})² of a sparse combination given as
     /// (index, coefficient) pairs (an index may repeat).
-    pub(crate) fn add_square(&mut self, terms: &[(usize, f64)]) {
+    pub fn add_square(&mut self, terms: &[(usize, f64)]) {
         let lo = terms.iter().map(|t| t.0).min().unwrap_or(0);
         let hi = terms.iter().map(|t| t.0).max().map_or(0, |v| v + 1);
         for &(i, ci) in terms {
@@ -71,7 +84,7 @@ impl QuadraticForm {
 
     /// Add x_wᵀ R x_w for the window x_w = x_start … x_{start+len−1}, R a
     /// symmetric len × len matrix in row-major order.
-    pub(crate) fn add_local(&mut self, start: usize, r: &[f64], len: usize) {
+    pub fn add_local(&mut self, start: usize, r: &[f64], len: usize) {
         for a in 0..len {
             let row = &mut self.a[(start + a) * self.n + start..(start + a) * self.n + start + len];
             for (v, rv) in row.iter_mut().zip(&r[a * len..(a + 1) * len]) {
@@ -90,8 +103,8 @@ impl QuadraticForm {
             .collect()
     }
 
-    /// E[xᵀAx] = tr(A S) for the GACV table `g` (lags 0 … n−1).
-    pub(crate) fn mean(&self, g: &[f64]) -> f64 {
+    /// E\[xᵀAx\] = tr(A S) for the GACV table `g` (lags 0 … n−1).
+    pub fn mean(&self, g: &[f64]) -> f64 {
         let n = self.n;
         let mut t = 0.0;
         for (i, &(lo, hi)) in self.span.iter().enumerate() {
@@ -104,7 +117,7 @@ impl QuadraticForm {
 
     /// The EDF ν = tr(AS)²/tr((AS)²) for the GACV table `g` (lags 0 … n−1);
     /// `None` when the form is zero or the table is too short.
-    pub(crate) fn edf(&self, g: &[f64]) -> Option<f64> {
+    pub fn edf(&self, g: &[f64]) -> Option<f64> {
         let n = self.n;
         if n == 0 || g.len() < n {
             return None;

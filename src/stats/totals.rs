@@ -7,7 +7,7 @@
 //! them biased estimators of the variance they stand for: TOTVAR of the
 //! Allan variance, MTOT of the modified Allan variance (TTOT of TVAR, by the
 //! same factor), HTOT of the Hadamard variance. The bias factor
-//! B = E[estimate]/E[target] depends on the noise type; a value is corrected
+//! B = E\[estimate\]/E\[target\] depends on the noise type; a value is corrected
 //! by dividing the variance by B (the deviation by √B).
 //!
 //! SP 1065 tabulates these factors. Here they are computed exactly from the
@@ -25,7 +25,7 @@
 //!   white PM B = 1 + 1.335·τ/T (the reflected ends add variance), flicker
 //!   PM in between.
 //! - **MTOT, TTOT.** Every subsequence contributes vᵀRv with the same R
-//!   ([`crate::deviation::modtotal::subsequence_form`]), so
+//!   (`deviation::modtotal::subsequence_form`), so
 //!   B = tr(RS)/E[MVAR term], independent of N. It is 1/2 at m = 1 exactly
 //!   (MTOT(1) = MDEV(1)/√2, see the module notes of the estimator) and
 //!   settles by m ≈ 16: 0.995 (WPM), 0.851 (FPM), 0.771 (WFM), 0.717
@@ -85,7 +85,7 @@ pub const EDF_REDUCED_M: usize = 16;
 /// beyond, on the line through T/τ = 16 and this value.
 pub const EDF_DIRECT_UP_TO: f64 = 32.0;
 
-/// Bias factor B = E[estimate]/E[target variance] of a total-family
+/// Bias factor B = E\[estimate\]/E\[target variance\] of a total-family
 /// variance at averaging factor `m` on `n_phase` phase samples, for noise
 /// S_y ∝ f^α (see the module notes). `None` for the other kinds, outside
 /// the kind's α range, or when the record is too short for m.
@@ -115,7 +115,7 @@ pub fn bias(kind: VarianceKind, alpha: i32, m: usize, n_phase: usize) -> Option<
     }
 }
 
-/// Exact bias factor of TOTVAR, E[TOTVAR]/AVAR (module notes), for
+/// Exact bias factor of TOTVAR, E\[TOTVAR\]/AVAR (module notes), for
 /// 1 ≤ m ≤ (N − 1)/2 and α = 2 … −2.
 ///
 /// ```
