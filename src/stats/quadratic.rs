@@ -59,7 +59,7 @@ impl QuadraticForm {
     }
 
     /// Number of samples.
-    pub fn len(&self) -> usize {
+    pub fn samples(&self) -> usize {
         self.n
     }
 

@@ -257,7 +257,7 @@ fn local_edf_exact(which: Local, alpha: i32, m: usize, n_phase: usize) -> Option
     for start in 0..count {
         q.add_local(start, &r, len);
     }
-    let g = discrete_phase_gacv(alpha, q.len());
+    let g = discrete_phase_gacv(alpha, q.samples());
     q.edf(&g)
 }
 
