@@ -19,9 +19,10 @@
 //!
 //! At m = 1 the definition gives exactly MTOT = MDEV/√2 and HTOT =
 //! OHDEV/√2 (the detrended triple (a, b, a) reflects to [a b a a b a a b a],
-//! whose mean square second difference is half the single MVAR term); for
-//! m ≥ 4, Monte Carlo on N = 1001 gives E[MTOT²]/E[MDEV²] ≈ 1.00 (WPM),
-//! 0.77 (WFM), 0.68 (RWFM) — the bias no table here corrects yet.
+//! whose mean square second difference is half the single MVAR term). The
+//! expected ratio E\[MTOT²\]/MVAR for each noise type — 1/2 at m = 1, about
+//! 0.995 (WPM) … 0.679 (RWFM) from m ≈ 16 on — is computed exactly from
+//! this definition by [`crate::stats::totals`], which divides it out.
 //!
 //! Gaps: a subsequence is used when none of its samples is missing (for
 //! HTOT, none of the 3m + 1 phase samples its frequencies come from).
