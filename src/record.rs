@@ -151,6 +151,33 @@ impl FrequencyRecord {
     }
 }
 
+/// The maximal runs of a series that hold no gap (NaN), as (start, length)
+/// in record order. Estimators whose terms may not straddle a gap (Theo1's
+/// all-factor sums, Welch segments) work run by run.
+///
+/// ```
+/// let x = [1.0, 2.0, f64::NAN, 3.0, f64::NAN, f64::NAN, 4.0, 5.0];
+/// assert_eq!(tauwise::record::gap_free_runs(&x), vec![(0, 2), (3, 1), (6, 2)]);
+/// ```
+pub fn gap_free_runs(v: &[f64]) -> Vec<(usize, usize)> {
+    let mut out = Vec::new();
+    let mut start = None;
+    for (i, x) in v.iter().enumerate() {
+        match (x.is_nan(), start) {
+            (false, None) => start = Some(i),
+            (true, Some(s)) => {
+                out.push((s, i - s));
+                start = None;
+            }
+            _ => {}
+        }
+    }
+    if let Some(s) = start {
+        out.push((s, v.len() - s));
+    }
+    out
+}
+
 impl Record {
     /// The kind of data held.
     pub fn kind(&self) -> DataKind {

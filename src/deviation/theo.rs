@@ -12,6 +12,7 @@
 use super::allan::{finish, oadev};
 use super::gaps::Prepared;
 use super::Estimate;
+use crate::record::gap_free_runs;
 use rayon::prelude::*;
 
 /// The Theo1 factor m' (even, 2 ≤ m' ≤ N−1) nearest to a grid factor m
@@ -45,8 +46,9 @@ pub(crate) fn theo1_sum(p: &Prepared, m: usize) -> (f64, usize) {
     let stretches: Vec<(usize, usize)> = if p.gaps.is_none() {
         vec![(0, n)]
     } else {
-        clear_stretches(x)
+        gap_free_runs(x)
             .into_iter()
+            .map(|(a, len)| (a, a + len))
             .filter(|&(a, b)| b - a > m)
             .collect()
     };
@@ -134,8 +136,9 @@ pub(crate) fn theobr_ratio(p: &Prepared) -> Option<f64> {
     let mut theo: Vec<Option<f64>> = (0..first_fast).into_par_iter().map(direct).collect();
     let ms: Vec<usize> = (first_fast..=nb).map(|i| 12 + 4 * i).collect();
     // Stretches in parallel; their sums are added in record order.
-    let per_stretch: Vec<(Vec<f64>, usize)> = clear_stretches(p.x)
+    let per_stretch: Vec<(Vec<f64>, usize)> = gap_free_runs(p.x)
         .into_par_iter()
+        .map(|(a, len)| (a, a + len))
         .map(|(a, b)| {
             let fit: Vec<usize> = ms.iter().copied().take_while(|&m| m < b - a).collect();
             if fit.is_empty() {
@@ -169,26 +172,6 @@ pub(crate) fn theobr_ratio(p: &Prepared) -> Option<f64> {
         return None;
     }
     Some(good.iter().sum::<f64>() / good.len() as f64)
-}
-
-/// The maximal runs `a..b` of the record that hold no gap.
-fn clear_stretches(x: &[f64]) -> Vec<(usize, usize)> {
-    let mut out = Vec::new();
-    let mut start = None;
-    for (i, v) in x.iter().enumerate() {
-        match (v.is_nan(), start) {
-            (false, None) => start = Some(i),
-            (true, Some(a)) => {
-                out.push((a, i));
-                start = None;
-            }
-            _ => {}
-        }
-    }
-    if let Some(a) = start {
-        out.push((a, x.len()));
-    }
-    out
 }
 
 /// ThêoBR takes its Theo1 values up to this factor from the direct sum:

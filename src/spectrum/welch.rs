@@ -140,26 +140,6 @@ pub struct Welch {
     pub tau0: f64,
 }
 
-/// Maximal runs of non-NaN samples: (start, length).
-fn stretches(x: &[f64]) -> Vec<(usize, usize)> {
-    let mut out = Vec::new();
-    let mut start = None;
-    for (i, v) in x.iter().enumerate() {
-        match (v.is_nan(), start) {
-            (false, None) => start = Some(i),
-            (true, Some(s)) => {
-                out.push((s, i - s));
-                start = None;
-            }
-            _ => {}
-        }
-    }
-    if let Some(s) = start {
-        out.push((s, x.len() - s));
-    }
-    out
-}
-
 /// Remove the least-squares line from `seg` in place.
 fn detrend(seg: &mut [f64]) {
     let l = seg.len() as f64;
@@ -187,7 +167,7 @@ pub fn welch(rec: &PhaseRecord, opt: &WelchOptions) -> Result<Welch> {
             opt.overlap
         )));
     }
-    let runs = stretches(&rec.x);
+    let runs = crate::record::gap_free_runs(&rec.x);
     let longest = runs.iter().map(|r| r.1).max().unwrap_or(0);
     let l = match opt.segment {
         Some(l) => {
