@@ -206,3 +206,79 @@ fn bad_span_and_budget() {
         assert_error(&out, &[word, "positive"], &o);
     }
 }
+
+/// `--start` inside the record: the record after the start is set beside the
+/// prediction. Frequency with an exact linear drift y = D·t (midpoint
+/// samples, τ0 = 60 s, two days), holdover from 24 h: the observed time error
+/// is ∫_T^{T+t} D·s ds = D·T·t + ½·D·t² (analytic), which is also what the
+/// fitted model predicts; the observed |TE| first exceeds the budget at the
+/// root of that quadratic, to within one sample.
+#[test]
+fn record_after_the_start_beside_the_prediction() {
+    let dir = tempfile::tempdir().unwrap();
+    let f = dir.path().join("drift.txt");
+    let d = 2e-10 / DAY;
+    let text: String = (0..2880)
+        .map(|i| format!("{:e}\n", d * (i as f64 + 0.5) * 60.0))
+        .collect();
+    std::fs::write(&f, text).unwrap();
+    let run = |extra: &[&str]| {
+        tauwise()
+            .arg("holdover")
+            .arg(&f)
+            .args(["--data", "freq", "--tau0", "60s", "--span", "12h"])
+            .args(["--budget", "1.5us", "--model", "h0=1e-32", "--paths", "200"])
+            .args(extra)
+            .output()
+            .unwrap()
+    };
+    let out = run(&["--start", "24h", "--format", "json"]);
+    assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
+    let doc: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    let after = &doc["after_start"];
+    assert_eq!(after["covered_s"], 12.0 * 3600.0);
+    let pts = after["points"].as_array().unwrap();
+    assert!(pts.len() >= 20, "{after}");
+    let t_start = DAY;
+    for p in pts {
+        let t = p["t"].as_f64().unwrap();
+        let want = d * t_start * t + 0.5 * d * t * t;
+        let te = p["te"].as_f64().unwrap();
+        // Between samples the phase is interpolated linearly: off a
+        // parabola by at most D·τ0²/8 (analytic).
+        let interp = d * 60.0 * 60.0 / 8.0;
+        assert!(
+            (te - want).abs() <= interp + 1e-9 * want,
+            "t = {t}: {te} vs {want}"
+        );
+        let p95 = p["p95"].as_f64().unwrap();
+        assert!(
+            (p95 - want).abs() <= 1e-3 * want,
+            "t = {t}: p95 {p95} vs {want}"
+        );
+    }
+    let cross = crossing(d * t_start, d, 1.5e-6);
+    let at = after["exceeds_budget_at_s"].as_f64().unwrap();
+    assert!(at >= cross && at <= cross + 60.0, "{at} vs {cross}");
+    assert!(after["worst_ratio"].as_f64().unwrap() < 1.001);
+
+    // The table and the CSV carry it; without --start there is nothing after.
+    let out = run(&["--start", "24h"]);
+    let table = String::from_utf8_lossy(&out.stdout);
+    assert!(table.contains("the record after the start"), "{table}");
+    assert!(
+        table.contains("observed |TE| first exceeds the budget"),
+        "{table}"
+    );
+    let out = run(&["--start", "24h", "--format", "csv"]);
+    let csv = String::from_utf8_lossy(&out.stdout);
+    assert!(
+        csv.starts_with("t,deterministic,p50,p95,p99,rms,observed\n"),
+        "{csv}"
+    );
+    let filled = csv.lines().skip(1).filter(|l| !l.ends_with(',')).count();
+    assert_eq!(filled, pts.len());
+    let out = run(&["--format", "json"]);
+    let doc: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    assert!(doc["after_start"].is_null());
+}

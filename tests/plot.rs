@@ -191,6 +191,7 @@ fn holdover_chart() -> Chart {
         holds_for: holds,
         span: 86400.0,
         notes: vec![tauwise::DECISION_CAUTION.into()],
+        observed: vec![],
     }
     .chart()
 }

@@ -191,6 +191,7 @@ fn full_report(name: &str) -> Report {
             holds_for: Some(12.0 * 3600.0),
             span: 86400.0,
             notes: vec![],
+            observed: vec![],
         },
         spans: vec![SpanRow {
             span: 86400.0,

@@ -10,6 +10,7 @@ use serde_json::{json, Value};
 use std::fmt::Write as _;
 use std::path::PathBuf;
 use tauwise::holdover::aging::{parse_aging_rate, Aging, AgingModel};
+use tauwise::holdover::observed::{observe, Observed};
 use tauwise::holdover::{
     caution, model_from_record, predict, FromRecord, HoldoverModel, Prediction, Settings,
 };
@@ -62,7 +63,9 @@ pub struct Args {
     /// Default: a tenth of the record.
     #[arg(long, value_name = "DUR")]
     pub settle: Option<String>,
-    /// Holdover starts at this record time instead of the record's end.
+    /// Holdover starts at this record time instead of the record's end;
+    /// the record after it is then set beside the prediction (observed TE
+    /// against the predicted p95, and when it first exceeds the budget).
     #[arg(long, value_name = "DUR")]
     pub start: Option<String>,
     /// Given linear aging (e.g. 5e-11/day) instead of a fit.
@@ -164,14 +167,20 @@ pub fn run(args: Args) -> Result<Outcome> {
         ..Settings::new(span, budget)
     };
     let pred = predict(&model, &settings)?;
+    let observed = opts
+        .start
+        .and_then(|_| observe(&series.record, &model, &pred, span, budget));
     if let Some(path) = &args.plot {
-        let plot = tauwise::plot::holdover::HoldoverPlot::from_prediction(
+        let mut plot = tauwise::plot::holdover::HoldoverPlot::from_prediction(
             &series.info.path.display().to_string(),
             &pred,
             settings.span,
             settings.budget,
             vec![caution()],
         );
+        if let Some(o) = &observed {
+            plot = plot.with_observed(o);
+        }
         tauwise::plot::render(&plot.chart(), path, tauwise::plot::DEFAULT_SIZE)?;
     }
     let text = match args.output.format {
@@ -181,9 +190,10 @@ pub fn run(args: Args) -> Result<Outcome> {
             &model,
             &pred,
             args.aging.is_some(),
+            observed.as_ref(),
         )),
-        Format::Csv => to_csv(&pred),
-        Format::Table => to_table(&series, &settings, &model, &pred),
+        Format::Csv => to_csv(&pred, observed.as_ref()),
+        Format::Table => to_table(&series, &settings, &model, &pred, observed.as_ref()),
     };
     emit(&args.output, &text)?;
     Ok(
@@ -210,6 +220,7 @@ fn to_json(
     model: &HoldoverModel,
     p: &Prediction,
     given: bool,
+    observed: Option<&Observed>,
 ) -> Value {
     let mut m = header_json(series);
     m.insert("span_s".into(), num(s.span));
@@ -258,16 +269,37 @@ fn to_json(
         p.holds_for.map(num).unwrap_or(Value::Null),
     );
     m.insert("verdict".into(), p.verdict.name().into());
+    m.insert(
+        "after_start".into(),
+        observed.map_or(Value::Null, |o| {
+            json!({
+                "covered_s": num(o.covered),
+                "points": o.points.iter().map(|q| json!({
+                    "t": num(q.t), "te": num(q.te), "p95": num(q.p95), "inside": q.inside,
+                })).collect::<Vec<_>>(),
+                "inside": o.inside(),
+                "worst_ratio": o.worst.map_or(Value::Null, |w| num(w.0)),
+                "worst_t": o.worst.map_or(Value::Null, |w| num(w.1)),
+                "exceeds_budget_at_s": o.exceeds_budget_at.map_or(Value::Null, num),
+            })
+        }),
+    );
     m.insert("caution".into(), caution().into());
     Value::Object(m)
 }
 
-fn to_csv(p: &Prediction) -> String {
-    let mut s = String::from("t,deterministic,p50,p95,p99,rms\n");
+/// One row per output time; `observed` is the record's TE after the start
+/// (empty where the record does not reach, or holdover starts at its end).
+fn to_csv(p: &Prediction, observed: Option<&Observed>) -> String {
+    let mut s = String::from("t,deterministic,p50,p95,p99,rms,observed\n");
     for t in &p.te {
+        let obs = observed
+            .and_then(|o| o.points.iter().find(|q| q.t == t.t))
+            .map(|q| plain(q.te))
+            .unwrap_or_default();
         let _ = writeln!(
             s,
-            "{},{},{},{},{},{}",
+            "{},{},{},{},{},{},{obs}",
             plain(t.t),
             plain(t.deterministic),
             plain(t.p50),
@@ -287,7 +319,13 @@ fn hours(t: f64) -> String {
     }
 }
 
-fn to_table(series: &Series, s: &Settings, model: &HoldoverModel, p: &Prediction) -> String {
+fn to_table(
+    series: &Series,
+    s: &Settings,
+    model: &HoldoverModel,
+    p: &Prediction,
+    observed: Option<&Observed>,
+) -> String {
     let si = |v: f64| format_si(v, "s", 4);
     let mut o = String::new();
     let _ = writeln!(
@@ -364,6 +402,64 @@ fn to_table(series: &Series, s: &Settings, model: &HoldoverModel, p: &Prediction
         hours(s.span),
         p.verdict.name().to_uppercase()
     );
+    if let Some(ob) = observed {
+        observed_table(&mut o, ob, model, s);
+    }
     let _ = writeln!(o, "\n{}", caution());
     o
+}
+
+/// The record after the start beside the prediction.
+fn observed_table(o: &mut String, ob: &Observed, model: &HoldoverModel, s: &Settings) {
+    let si = |v: f64| format_si(v, "s", 4);
+    let _ = writeln!(
+        o,
+        "\nthe record after the start (holdover from {} of the record; the record covers {} of the span)",
+        hours(model.start),
+        hours(ob.covered)
+    );
+    let _ = writeln!(
+        o,
+        "{:>10}  {:>12}  {:>12}  {:>7}",
+        "t", "observed TE", "p95 |TE|", "inside"
+    );
+    for q in &ob.points {
+        let _ = writeln!(
+            o,
+            "{:>10}  {:>12}  {:>12}  {:>7}",
+            hours(q.t),
+            si(q.te),
+            si(q.p95),
+            if q.inside { "yes" } else { "no" }
+        );
+    }
+    let _ = writeln!(
+        o,
+        "observed |TE| inside the predicted p95 at {} of {} times{}",
+        ob.inside(),
+        ob.points.len(),
+        ob.worst
+            .map(|(r, t)| format!("; largest |TE|/p95 {r:.2} at {}", hours(t)))
+            .unwrap_or_default()
+    );
+    let _ = writeln!(
+        o,
+        "{}",
+        match ob.exceeds_budget_at {
+            Some(t) => format!(
+                "observed |TE| first exceeds the budget of {} at {} after the start",
+                si(s.budget),
+                hours(t)
+            ),
+            None => format!(
+                "observed |TE| stays within the budget of {} for the {} the record covers",
+                si(s.budget),
+                hours(ob.covered)
+            ),
+        }
+    );
+    let _ = writeln!(
+        o,
+        "One record is one path: it should lie inside p95 at about 95 % of the times, and cannot confirm the model alone."
+    );
 }

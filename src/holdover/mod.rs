@@ -18,8 +18,12 @@
 //! aging; percentiles p50, p95, p99 of |TE(t)| over the paths are reported at
 //! log-spaced t. The paths are simulated at a step suited to the span
 //! (span / steps), not at τ0.
+//!
+//! When holdover starts inside the record, the rest of the record is set
+//! beside the prediction ([`observed`]).
 
 pub mod aging;
+pub mod observed;
 pub mod paths;
 
 use crate::deviation::Estimator;

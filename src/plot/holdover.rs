@@ -27,6 +27,9 @@ pub struct HoldoverPlot {
     pub span: f64,
     /// Footnotes (caution).
     pub notes: Vec<String>,
+    /// The record after the start of holdover, when it goes on past the
+    /// start: (t, observed |TE|) in seconds.
+    pub observed: Vec<(f64, f64)>,
 }
 
 /// The display unit for a time axis: hours, minutes or seconds.
@@ -61,7 +64,15 @@ impl HoldoverPlot {
             holds_for: pred.holds_for,
             span,
             notes,
+            observed: Vec::new(),
         }
+    }
+
+    /// Add the record after the start ([`crate::holdover::observed`]) as a
+    /// line of observed |TE|.
+    pub fn with_observed(mut self, o: &crate::holdover::observed::Observed) -> Self {
+        self.observed = o.points.iter().map(|p| (p.t, p.te.abs())).collect();
+        self
     }
 
     /// Build the chart.
@@ -151,6 +162,22 @@ impl HoldoverPlot {
                 marker: Marker::None,
             },
         );
+        if !self.observed.is_empty() {
+            ch.series.push(Series {
+                name: "|TE| observed after the start".into(),
+                points: self
+                    .observed
+                    .iter()
+                    .map(|&(t, v)| XY::new(t / div, v))
+                    .collect(),
+                style: Style {
+                    colour: Colour::Palette(3),
+                    line: Line::Solid,
+                    width: 1.6,
+                    marker: Marker::None,
+                },
+            });
+        }
         if let Some(b) = self.budget {
             // Show the budget when the time error comes within a fifth of
             // it; far below, draw the data at a readable scale and say so.
@@ -225,6 +252,7 @@ mod tests {
             holds_for: Some(13.5 * 3600.0),
             span: 86400.0,
             notes: vec![],
+            observed: vec![],
         };
         let ch = p.chart();
         assert_eq!(ch.x.unit, super::super::AxisUnit::Plain("h".into()));
@@ -236,5 +264,19 @@ mod tests {
             .any(|r| r.orientation == Orientation::Vertical && (r.value - 13.5).abs() < 1e-12));
         assert!(ch.subtitle.contains("13.5 h"), "{}", ch.subtitle);
         assert_eq!(time_unit(600.0), ("min", 60.0));
+        assert!(!ch.series.iter().any(|s| s.name.contains("observed")));
+        // The record after the start: one more line, in hours.
+        let p = HoldoverPlot {
+            observed: vec![(3600.0, 1e-7), (7200.0, 2e-7)],
+            ..p
+        };
+        let ch = p.chart();
+        let s = ch
+            .series
+            .iter()
+            .find(|s| s.name.contains("observed"))
+            .unwrap();
+        assert_eq!(s.points.len(), 2);
+        assert!((s.points[1].x - 2.0).abs() < 1e-12);
     }
 }
