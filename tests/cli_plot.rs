@@ -319,3 +319,38 @@ fn convert_plots_sigma_lf_and_model() {
     );
     assert!(t.contains("model h0=1.0000e-22"), "{t}");
 }
+
+/// `stability --plot` with time deviations beside σ_y curves: the σ_y chart
+/// in FILE, TDEV on its own chart in FILE-time (same format); with σ_y
+/// curves alone no second file.
+#[test]
+fn stability_plot_puts_time_deviations_on_their_own_chart() {
+    let dir = tempfile::tempdir().unwrap();
+    let rec = record(dir.path(), 4096);
+    let r = rec.to_str().unwrap();
+    let text = both(
+        dir.path(),
+        "sigma",
+        &["stability", r, "--tau0", "1s", "--dev", "oadev,tdev"],
+    );
+    assert!(text.contains("oadev"), "{text}");
+    assert!(text.contains("own chart"), "{text}");
+    let time = svg_text(&dir.path().join("sigma-time.svg"));
+    assert!(
+        time.contains("tdev") && time.contains("time deviation"),
+        "{time}"
+    );
+    assert!(!time.contains("oadev"), "{time}");
+    check_png(&dir.path().join("sigma-time.png"));
+    let only = dir.path().join("only.svg");
+    run(&[
+        "stability",
+        r,
+        "--tau0",
+        "1s",
+        "--plot",
+        only.to_str().unwrap(),
+    ]);
+    assert!(only.exists());
+    assert!(!dir.path().join("only-time.svg").exists());
+}

@@ -46,7 +46,9 @@ pub struct Args {
     /// where both exist; needs --carrier.
     #[arg(long = "lf", value_name = "TABLE")]
     pub lf: Option<PathBuf>,
-    /// Draw the σ–τ chart to FILE (.svg or .png).
+    /// Draw the σ–τ chart to FILE (.svg or .png). Time deviations (tdev,
+    /// ttot, mtie, tierms) requested beside σ_y curves go to their own chart,
+    /// FILE-time.svg (or .png) next to it.
     #[arg(long, value_name = "FILE")]
     pub plot: Option<PathBuf>,
     /// Remove a least-squares frequency drift before the analysis (aging
@@ -119,7 +121,14 @@ pub fn run(args: Args) -> Result<Outcome> {
             c.derived = true;
             plot.curves.push(c);
         }
-        tauwise::plot::render(&plot.chart(), path, (960, 600))?;
+        let main = plot.chart();
+        tauwise::plot::render(&main, path, (960, 600))?;
+        // Time deviations beside σ_y curves: their own chart, FILE-time.EXT.
+        if plot.curves.iter().any(|c| !c.time_deviation) {
+            if let Some(time) = plot.time_chart() {
+                tauwise::plot::render(&time, &time_chart_path(path), (960, 600))?;
+            }
+        }
     }
     let text = match args.output.format {
         Format::Json => {
@@ -164,6 +173,20 @@ pub fn run(args: Args) -> Result<Outcome> {
     };
     emit(&args.output, &text)?;
     Ok(Outcome::Done)
+}
+
+/// Where the time-deviation chart goes when σ_y curves take the main one:
+/// `stab.svg` → `stab-time.svg` (same directory and format).
+pub fn time_chart_path(path: &std::path::Path) -> PathBuf {
+    let stem = path
+        .file_stem()
+        .map(|s| s.to_string_lossy().into_owned())
+        .unwrap_or_default();
+    let name = match path.extension() {
+        Some(ext) => format!("{stem}-time.{}", ext.to_string_lossy()),
+        None => format!("{stem}-time"),
+    };
+    path.with_file_name(name)
 }
 
 /// True when the point of `est` is a bias-corrected value: a total-family
