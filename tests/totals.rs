@@ -36,6 +36,30 @@ fn totvar_bias_reproduces_sp1065() {
     // m = 1 has no end terms: unbiased (analytic).
     assert_eq!(totals::totvar_bias(-2, 1, n), Some(1.0));
     assert_eq!(totals::totvar_bias(0, 501, n), None);
+    // Long records and large m (FFM in proportion beyond m = 2^16): the
+    // SP 1065 a-values to 0.001.
+    let n = 1usize << 23;
+    for (alpha, a_sp) in [(-1, 0.481), (-2, 0.750)] {
+        for m in [1usize << 16, 1 << 18, 1 << 21] {
+            let b = totals::totvar_bias(alpha, m, n).unwrap();
+            let a = (1.0 - b) * (n - 1) as f64 / m as f64;
+            assert!((a - a_sp).abs() < 1e-3, "α={alpha} m={m}: a = {a}");
+        }
+    }
+}
+
+/// White PM (analytic): an Allan term has mean square 6σ², an end term
+/// 2x_0 − x_{m−i} − 2x_i + x_{i+m} has 10σ² (14σ² where m − i = i), so
+/// B = 1 + (4/3)·(m − 1 + [m even])/(N − 2) — TOTDEV overstates white PM.
+#[test]
+fn totvar_bias_white_pm_closed_form() {
+    for (m, n) in [(2usize, 11usize), (7, 101), (100, 1001), (1 << 20, 1 << 22)] {
+        let even = if m % 2 == 0 { 1.0 } else { 0.0 };
+        let want = 1.0 + 4.0 / 3.0 * (m as f64 - 1.0 + even) / (n as f64 - 2.0);
+        let b = totals::totvar_bias(2, m, n).unwrap();
+        // (to the rounding of a sum of m terms)
+        assert!((b - want).abs() < 1e-10, "m={m} N={n}: {b} vs {want}");
+    }
 }
 
 /// TOTDEV EDF: SP 1065's b·(T/τ) − c (CHECKS.md D, from memory: WFM 1.50, 0;

@@ -117,6 +117,30 @@ pub(crate) fn discrete_phase_gacv(alpha: i32, kmax: usize) -> Vec<f64> {
     s
 }
 
+/// One value of [`discrete_phase_gacv`] at lag k without the table, for the
+/// noise types with a closed form: WPM δ_k, FPM −O(k), WFM −k/2, RWFM k³/12.
+/// For FPM, O(k) = Σ_{j=1}^{k} 1/(2j − 1) = H_{2k} − H_k/2 is summed
+/// directly up to k = 1024 and beyond taken from the asymptotic series of the
+/// harmonic numbers, O(k) = ½ ln k + ln 2 + γ/2 + 1/(48k²) − 7/(1920k⁴) + …
+/// (the next term is below 1e−19 there). `None` for FFM and α < −2, which
+/// have no closed form here.
+pub(crate) fn discrete_phase_gacv_at(alpha: i32, k: usize) -> Option<f64> {
+    let kf = k as f64;
+    match alpha {
+        2 => Some(if k == 0 { 1.0 } else { 0.0 }),
+        1 => Some(if k <= 1024 {
+            -(1..=k).map(|j| 1.0 / (2 * j - 1) as f64).sum::<f64>()
+        } else {
+            let k2 = kf * kf;
+            -(0.5 * kf.ln() + std::f64::consts::LN_2 + EULER_GAMMA / 2.0 + 1.0 / (48.0 * k2)
+                - 7.0 / (1920.0 * k2 * k2))
+        }),
+        0 => Some(-kf / 2.0),
+        -2 => Some(kf.powi(3) / 12.0),
+        _ => None,
+    }
+}
+
 /// One integration of the process: s′(k+1) − 2s′(k) + s′(k−1) = −s(k),
 /// s′(0) = 0, s′(1) = s′(−1).
 fn integrate(old: &[f64]) -> Vec<f64> {
@@ -149,6 +173,25 @@ mod tests {
         }
         let f = discrete_phase_gacv(1, 3);
         assert!((f[3] + (1.0 + 1.0 / 3.0 + 1.0 / 5.0)).abs() < 1e-15);
+    }
+
+    /// The closed forms without the table equal the table (analytic; for
+    /// flicker PM the asymptotic series beyond k = 1024, to the rounding of
+    /// the table's own running sum, about 1e−15 relative).
+    #[test]
+    fn closed_forms_at_one_lag() {
+        for alpha in [2, 1, 0, -2] {
+            let t = discrete_phase_gacv(alpha, 5000);
+            for k in [0usize, 1, 2, 7, 1024, 1025, 1500, 4999] {
+                let v = discrete_phase_gacv_at(alpha, k).unwrap();
+                assert!(
+                    (v - t[k]).abs() <= 2e-15 * (1.0 + t[k].abs()),
+                    "α={alpha} k={k}: {v} vs {}",
+                    t[k]
+                );
+            }
+        }
+        assert_eq!(discrete_phase_gacv_at(-1, 3), None);
     }
 
     /// Flicker PM: −O(k) → −½ ln k − (ln 2 + γ/2) (analytic asymptote).

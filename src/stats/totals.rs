@@ -19,11 +19,12 @@
 //!   2(m − 1) terms at the ends read a reflected sample 2x_0 − x_j (or its
 //!   twin at the far end) and have their own mean. So
 //!   B = [(N − 2m)·E_A + Σ_ends E_t] / ((N − 2)·E_A), exact for every N, m
-//!   and α. It reproduces SP 1065's B = 1 − a·τ/T with a = 0.481 (FFM) and
-//!   0.750 (RWFM) and a = 0 for WFM (CHECKS.md D; checked in
-//!   `tests/totals.rs`), and gives the factors SP 1065 does not tabulate:
-//!   white PM B = 1 + 1.335·τ/T (the reflected ends add variance), flicker
-//!   PM in between.
+//!   and α (for FFM beyond m = 2^16 in proportion to its value there, where
+//!   it has settled to 2e−5). It reproduces SP 1065's B = 1 − a·τ/T with
+//!   a = 0.481 (FFM) and 0.750 (RWFM) and a = 0 for WFM (CHECKS.md D;
+//!   checked in `tests/totals.rs`), and gives the factors SP 1065 does not
+//!   tabulate: white PM B = 1 + (4/3)·τ/T (the reflected ends add variance),
+//!   flicker PM B ≈ 1 + (1.0 … 1.2)·τ/T, growing slowly with m.
 //! - **MTOT, TTOT.** Every subsequence contributes vᵀRv with the same R
 //!   (`deviation::modtotal::subsequence_form`), so
 //!   B = tr(RS)/E[MVAR term], independent of N. It is 1/2 at m = 1 exactly
@@ -70,7 +71,7 @@
 
 use crate::deviation::modtotal::{frequency_form_on_phase, subsequence_form};
 use crate::deviation::total::reflected_terms;
-use crate::stats::gacv::discrete_phase_gacv;
+use crate::stats::gacv::{self, discrete_phase_gacv};
 use crate::stats::quadratic::QuadraticForm;
 use crate::stats::VarianceKind;
 use std::collections::HashMap;
@@ -127,14 +128,36 @@ pub fn totvar_bias(alpha: i32, m: usize, n_phase: usize) -> Option<f64> {
     if !(-2..=2).contains(&alpha) || m == 0 || n_phase < 2 * m + 1 {
         return None;
     }
-    // The left-end terms read samples 0 … 2m − 1; the right-end ones mirror
-    // them (the GACV is even), so Σ_ends = 2·Σ_left.
-    let g = discrete_phase_gacv(alpha, 2 * m + 1);
+    // B = 1 − 2·S(m)/(N − 2) with S(m) = Σ_{i=1}^{m−1} (1 − E_i/E_A) over
+    // the left-end terms (the right-end ones mirror them: the GACV is even),
+    // a function of m alone. Exact for every m where the GACV has a closed
+    // form; for FFM from a table up to m = 2^16 and in proportion beyond,
+    // where S(m)/m has settled (a = 2S/m: 0.48088 at 2^16, 0.48090 at 2^21).
+    let s = match gacv::discrete_phase_gacv_at(alpha, 0) {
+        Some(_) => end_sum(m, |k| {
+            gacv::discrete_phase_gacv_at(alpha, k).expect("closed form")
+        }),
+        None => {
+            let mr = m.min(TOTVAR_TABLE_M);
+            let g = discrete_phase_gacv(alpha, 2 * mr + 1);
+            end_sum(mr, |k| g[k]).map(|v| v * m as f64 / mr as f64)
+        }
+    }?;
+    Some(1.0 - 2.0 * s / (n_phase as f64 - 2.0))
+}
+
+/// TOTVAR bias for FFM is computed from the GACV table up to this m.
+const TOTVAR_TABLE_M: usize = 1 << 16;
+
+/// S(m) = Σ_{i=1}^{m−1} (1 − E_i/E_A) for the GACV `g`: E_A the mean square
+/// of an Allan term x_0 − 2x_m + x_{2m}, E_i that of the left-end term
+/// x*_{i−m} − 2x_i + x_{i+m} with x*_{i−m} = 2x_0 − x_{m−i}.
+fn end_sum(m: usize, g: impl Fn(usize) -> f64) -> Option<f64> {
     let mean = |terms: &[(usize, f64)]| -> f64 {
         let mut s = 0.0;
         for &(i, ci) in terms {
             for &(j, cj) in terms {
-                s += ci * cj * g[i.abs_diff(j)];
+                s += ci * cj * g(i.abs_diff(j));
             }
         }
         s
@@ -143,13 +166,12 @@ pub fn totvar_bias(alpha: i32, m: usize, n_phase: usize) -> Option<f64> {
     if !(inner > 0.0) {
         return None;
     }
-    let mut ends = 0.0;
+    let mut s = 0.0;
     for i in 1..m {
-        let [a, b] = reflected_terms(n_phase, i as isize - m as isize);
-        ends += mean(&[a, b, (i, -2.0), (i + m, 1.0)]);
+        let [a, b] = reflected_terms(2 * m + 1, i as isize - m as isize);
+        s += 1.0 - mean(&[a, b, (i, -2.0), (i + m, 1.0)]) / inner;
     }
-    let n = n_phase as f64;
-    Some(((n - 2.0 * m as f64) * inner + 2.0 * ends) / ((n - 2.0) * inner))
+    Some(s)
 }
 
 /// The two members built from the modified-total subsequence form.
