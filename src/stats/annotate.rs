@@ -79,10 +79,11 @@ impl From<Estimator> for Option<VarianceKind> {
 }
 
 /// Theo1 and TheoH. The noise type comes from the overlapping-Allan
-/// identification at τ (rounded to a whole m), settled by the same
-/// short-series rule as the other estimators: where the record is too short
-/// for any identification at that τ (Theo1 reaches 0.75 of the record), the
-/// type of the next shorter τ is carried on.
+/// identification at τ (rounded to a whole m), settled by the same rule as
+/// the other estimators (a type is never whiter than at the next shorter τ;
+/// where the record is too short for any identification at that τ — Theo1
+/// reaches 0.75 of the record — the type of the next shorter τ is carried
+/// on).
 /// EDF: Theo1 and TheoH's ThêoBR part by [`crate::deviation::theo1_edf`]
 /// (NIST SP 1065 Theo1 EDF; ThêoBR is a scaled Theo1, so its EDF is taken
 /// as Theo1's), TheoH's ADEV part by the overlapping Allan EDF (Greenhall &
@@ -124,7 +125,7 @@ fn annotate_theo(
     let mut alphas: Vec<Option<i32>> = ids.iter().map(|id| id.map(|i| i.alpha)).collect();
     if opts.forced_alpha.is_none() {
         // The estimates' m grow with τ for both (Theo1 factor m' ≈ τ/(0.75τ0)).
-        settle_short_series(estimates, &ids, &mut alphas);
+        settle_noise_types(estimates, &ids, &mut alphas);
     }
     let mut out = Vec::with_capacity(estimates.len());
     for (e, &alpha) in estimates.iter().zip(&alphas) {
@@ -163,9 +164,10 @@ fn annotate_theo(
 /// τ ([`crate::stats::identify`], or `opts.forced_alpha`), its EDF ([`fn@edf`]) and the
 /// two-sided interval at `opts.confidence` ([`fn@interval`]).
 ///
-/// A type found by the short-series fallback is capped at the type of the
-/// next shorter τ, and a τ too short for any identification takes that type
-/// (our rule: the dominant power law can only get redder as τ grows).
+/// Each identified type is capped at the type of the next shorter τ, and a
+/// τ too short for any identification takes that type (our rule: the
+/// dominant power law can only get redder as τ grows; see
+/// `settle_noise_types`).
 ///
 /// The EDF is evaluated for the gap-free record that would give the same
 /// number of terms ([`VarianceKind::equivalent_points`]), so gaps widen the
@@ -205,7 +207,7 @@ pub fn annotate(
             )));
         }
     }
-    // Noise type per point (in parallel), then the short-series rule.
+    // Noise type per point (in parallel), then the never-whiter rule.
     let ids: Vec<Option<NoiseId>> = match opts.forced_alpha {
         Some(a) => vec![
             Some(NoiseId {
@@ -222,7 +224,7 @@ pub fn annotate(
     };
     let mut alphas: Vec<Option<i32>> = ids.iter().map(|id| id.map(|i| i.alpha)).collect();
     if opts.forced_alpha.is_none() {
-        settle_short_series(estimates, &ids, &mut alphas);
+        settle_noise_types(estimates, &ids, &mut alphas);
     }
     estimates
         .par_iter()
@@ -264,23 +266,22 @@ pub fn annotate(
 
 /// The dominant power law of a sum of power laws can only get redder as τ
 /// grows (σ²_α(τ) ∝ τ^(−α−1): a lower α gains on a higher one). A type
-/// found by the short-series B1 fallback is therefore not allowed to be
-/// whiter than the type at the next shorter τ: its α is capped there. This
-/// keeps a poorly determined long-τ point from borrowing the large EDF of
-/// white PM. Where too few points remain for any identification (fewer than
-/// four frequency averages), the type of the next shorter τ is carried over.
-/// (Our rules; the lag-1 identifications are left as found.)
-fn settle_short_series(
-    estimates: &[Estimate],
-    ids: &[Option<NoiseId>],
-    alphas: &mut [Option<i32>],
-) {
+/// identified at a τ is therefore not allowed to be whiter than the type at
+/// the next shorter τ: its α is capped there. At long τ the decimated series
+/// is short (30 points at N/30 for the lag-1 method, fewer for the B1
+/// fallback) and its estimate scatters between neighbouring types; the cap
+/// keeps such a point from borrowing the larger EDF of a whiter type, which
+/// would make its interval too narrow. Where too few points remain for any
+/// identification (fewer than four frequency averages), the type of the
+/// next shorter τ is carried over. (Our rules; a bump in σ(τ) from a
+/// periodic disturbance keeps the redder type, the conservative side.)
+fn settle_noise_types(estimates: &[Estimate], ids: &[Option<NoiseId>], alphas: &mut [Option<i32>]) {
     let mut order: Vec<usize> = (0..estimates.len()).collect();
     order.sort_by_key(|&i| estimates[i].m);
     let mut previous: Option<i32> = None;
     for i in order {
         match (ids[i], previous) {
-            (Some(id), Some(cap)) if id.method == IdMethod::B1 => {
+            (Some(id), Some(cap)) => {
                 alphas[i] = Some(id.alpha.min(cap));
             }
             (None, Some(carried)) => alphas[i] = Some(carried),
