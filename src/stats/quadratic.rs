@@ -24,6 +24,27 @@
 //! constants and straight lines, and those of the Hadamard family kill
 //! parabolas), so tr(AS) and tr((AS)²) are those of the true covariances.
 
+/// E[(Σ_k c_k x_{i_k})²] = Σ_{k,l} c_k c_l s(|i_k − i_l|) for one sparse
+/// combination given as (index, coefficient) pairs, with the GACV s given as
+/// a function of the lag (so that no table is needed where s has a closed
+/// form).
+///
+/// ```
+/// use tauwise::stats::quadratic::mean_square;
+/// // White FM phase (s(k) = −|k|/2): x_2 − 2x_1 + x_0 = y_1 − y_0, mean square 2.
+/// let e = mean_square(&[(0, 1.0), (1, -2.0), (2, 1.0)], |k| -(k as f64) / 2.0);
+/// assert!((e - 2.0).abs() < 1e-15);
+/// ```
+pub fn mean_square(terms: &[(usize, f64)], s: impl Fn(usize) -> f64) -> f64 {
+    let mut total = 0.0;
+    for &(i, ci) in terms {
+        for &(j, cj) in terms {
+            total += ci * cj * s(i.abs_diff(j));
+        }
+    }
+    total
+}
+
 /// A quadratic form xᵀ A x on `n` phase samples (A dense, symmetric), built
 /// term by term, with the column range of each row's non-zero entries kept
 /// so that products with S skip the zeros.

@@ -72,7 +72,7 @@
 use crate::deviation::modtotal::{frequency_form_on_phase, subsequence_form};
 use crate::deviation::total::reflected_terms;
 use crate::stats::gacv::{self, discrete_phase_gacv};
-use crate::stats::quadratic::QuadraticForm;
+use crate::stats::quadratic::{mean_square, QuadraticForm};
 use crate::stats::VarianceKind;
 use std::collections::HashMap;
 use std::sync::{Mutex, OnceLock};
@@ -153,15 +153,7 @@ const TOTVAR_TABLE_M: usize = 1 << 16;
 /// of an Allan term x_0 − 2x_m + x_{2m}, E_i that of the left-end term
 /// x*_{i−m} − 2x_i + x_{i+m} with x*_{i−m} = 2x_0 − x_{m−i}.
 fn end_sum(m: usize, g: impl Fn(usize) -> f64) -> Option<f64> {
-    let mean = |terms: &[(usize, f64)]| -> f64 {
-        let mut s = 0.0;
-        for &(i, ci) in terms {
-            for &(j, cj) in terms {
-                s += ci * cj * g(i.abs_diff(j));
-            }
-        }
-        s
-    };
+    let mean = |terms: &[(usize, f64)]| mean_square(terms, &g);
     let inner = mean(&[(0, 1.0), (m, -2.0), (2 * m, 1.0)]);
     if !(inner > 0.0) {
         return None;
@@ -223,29 +215,26 @@ impl Local {
     }
 }
 
-/// What a cache entry holds.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
-enum Cached {
-    Bias,
-    EdfLine,
-}
+/// (member, α, m'): what the cached results depend on.
+type Key = (Local, i32, usize);
+/// A cache of results that depend only on [`Key`], shared by every τ and
+/// record (each costs up to some tens of milliseconds to compute).
+type Cache<V> = OnceLock<Mutex<HashMap<Key, Option<V>>>>;
 
-/// (member, what, α, m').
-type Key = (Local, Cached, i32, usize);
-/// A bias factor is stored as (B, B); an EDF line as its values at
-/// T/τ = 16 and 32.
-type Values = Option<(f64, f64)>;
+/// The bias factor of each (member, α, m').
+static BIAS_CACHE: Cache<f64> = OnceLock::new();
+/// The EDF at T/τ = 16 and 32 of each (member, α, m'), the ends of the line
+/// used beyond T/τ = 32.
+static EDF_LINE_CACHE: Cache<(f64, f64)> = OnceLock::new();
 
-/// Results that depend only on (member, α, m'), shared by every τ and
-/// record (each costs up to some tens of milliseconds).
-fn cached(key: Key, f: impl FnOnce() -> Values) -> Values {
-    static CACHE: OnceLock<Mutex<HashMap<Key, Values>>> = OnceLock::new();
-    let cache = CACHE.get_or_init(|| Mutex::new(HashMap::new()));
-    if let Some(v) = cache.lock().ok().and_then(|c| c.get(&key).copied()) {
+/// The value for `key` from `cache`, computed by `f` the first time.
+fn cached<V: Copy>(cache: &Cache<V>, key: Key, f: impl FnOnce() -> Option<V>) -> Option<V> {
+    let map = cache.get_or_init(|| Mutex::new(HashMap::new()));
+    if let Some(v) = map.lock().ok().and_then(|c| c.get(&key).copied()) {
         return v;
     }
     let v = f();
-    if let Ok(mut c) = cache.lock() {
+    if let Ok(mut c) = map.lock() {
         c.insert(key, v);
     }
     v
@@ -253,17 +242,15 @@ fn cached(key: Key, f: impl FnOnce() -> Values) -> Values {
 
 fn local_bias(which: Local, alpha: i32, m: usize) -> Option<f64> {
     let mr = m.min(BIAS_EXACT_UP_TO_M);
-    cached((which, Cached::Bias, alpha, mr), || {
+    cached(&BIAS_CACHE, (which, alpha, mr), || {
         let (r, len) = which.form(mr);
         let g = discrete_phase_gacv(alpha, len);
         let mut estimate = QuadraticForm::new(len);
         estimate.add_local(0, &r, len);
-        let mut target = QuadraticForm::new(len);
-        target.add_square(&which.target_term(mr));
-        let (num, den) = (estimate.mean(&g), target.mean(&g));
-        (den > 0.0 && num.is_finite()).then_some((num / den, num / den))
+        let num = estimate.mean(&g);
+        let den = mean_square(&which.target_term(mr), |k| g[k]);
+        (den > 0.0 && num.is_finite()).then_some(num / den)
     })
-    .map(|v| v.0)
 }
 
 /// The exact EDF of the whole estimate on a gap-free record of `n_phase`
@@ -296,7 +283,7 @@ fn local_edf(which: Local, alpha: i32, m: usize, n_phase: usize) -> Option<f64> 
         local_edf_exact(which, alpha, mr, reduced(ratio))?
     } else {
         let lo_ratio = EDF_DIRECT_UP_TO / 2.0;
-        let (lo, hi) = cached((which, Cached::EdfLine, alpha, mr), || {
+        let (lo, hi) = cached(&EDF_LINE_CACHE, (which, alpha, mr), || {
             Some((
                 local_edf_exact(which, alpha, mr, reduced(lo_ratio))?,
                 local_edf_exact(which, alpha, mr, reduced(EDF_DIRECT_UP_TO))?,
