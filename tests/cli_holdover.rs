@@ -281,4 +281,9 @@ fn record_after_the_start_beside_the_prediction() {
     let out = run(&["--format", "json"]);
     let doc: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
     assert!(doc["after_start"].is_null());
+    // A start at the very end: the table says there is nothing to compare.
+    let out = run(&["--start", "48h"]);
+    assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
+    let table = String::from_utf8_lossy(&out.stdout);
+    assert!(table.contains("nothing to compare"), "{table}");
 }

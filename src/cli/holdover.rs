@@ -193,7 +193,14 @@ pub fn run(args: Args) -> Result<Outcome> {
             observed.as_ref(),
         )),
         Format::Csv => to_csv(&pred, observed.as_ref()),
-        Format::Table => to_table(&series, &settings, &model, &pred, observed.as_ref()),
+        Format::Table => to_table(
+            &series,
+            &settings,
+            &model,
+            &pred,
+            observed.as_ref(),
+            opts.start.is_some(),
+        ),
     };
     emit(&args.output, &text)?;
     Ok(
@@ -325,6 +332,7 @@ fn to_table(
     model: &HoldoverModel,
     p: &Prediction,
     observed: Option<&Observed>,
+    start_given: bool,
 ) -> String {
     let si = |v: f64| format_si(v, "s", 4);
     let mut o = String::new();
@@ -402,8 +410,15 @@ fn to_table(
         hours(s.span),
         p.verdict.name().to_uppercase()
     );
-    if let Some(ob) = observed {
-        observed_table(&mut o, ob, model, s);
+    match observed {
+        Some(ob) => observed_table(&mut o, ob, model, s),
+        None if start_given => {
+            let _ = writeln!(
+                o,
+                "\nthe record after the start: nothing to compare (the record ends at the start, or its phase there is a gap)"
+            );
+        }
+        None => {}
     }
     let _ = writeln!(o, "\n{}", caution());
     o
