@@ -185,6 +185,11 @@ fn source(args: &Args, carrier: Option<f64>, tau_hint: Option<f64>) -> Result<So
 
 /// Run `convert`.
 pub fn run(args: Args) -> Result<Outcome> {
+    let inputs: Vec<&std::path::Path> = args.lf.iter().chain(args.sigma.iter()).map(|p| p.as_path()).collect();
+    super::common::check_output_paths(
+        &inputs,
+        &[args.output.output.as_deref(), args.plot.as_deref()],
+    )?;
     let carrier = freq(&args.carrier, "carrier")?;
     let needs_carrier = args.lf.is_some()
         && TableQuantity::parse(&args.quantity)? != TableQuantity::Sy

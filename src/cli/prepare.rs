@@ -74,6 +74,7 @@ pub struct Args {
 
 /// Run `prepare`.
 pub fn run(args: Args) -> Result<Outcome> {
+    super::common::check_output_paths(&[&args.file], &[Some(args.output.as_path())])?;
     let series = args.input.load(&args.file)?;
     let mut record = series.record;
     let mut notes: Vec<String> = Vec::new();

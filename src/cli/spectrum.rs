@@ -66,6 +66,10 @@ pub fn welch_options(window: &str, segment: Option<usize>, overlap: f64) -> Resu
 
 /// Run `spectrum`.
 pub fn run(args: Args) -> Result<Outcome> {
+    super::common::check_output_paths(
+        &[&args.file],
+        &[args.output.output.as_deref(), args.plot.as_deref()],
+    )?;
     let quantity = Quantity::parse(&args.quantity)?;
     let carrier = carrier_of(&args.input)?;
     if carrier.is_none() && matches!(quantity, Quantity::Lf | Quantity::Sphi) {

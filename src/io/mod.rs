@@ -12,6 +12,7 @@ pub mod write;
 
 pub use write::write_atomic;
 pub use write::write_atomic_with;
+pub use write::remove_pending_temp_files;
 
 /// An input could not be read, or did not hold what was expected.
 ///
