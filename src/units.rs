@@ -288,7 +288,13 @@ pub fn format_si(value: f64, unit: &str, digits: usize) -> String {
     } else {
         exp10
     };
-    let e3 = (exp10.div_euclid(3) * 3).clamp(-24, 12);
+    let e3 = exp10.div_euclid(3) * 3;
+    if !(-24..=12).contains(&e3) {
+        // Beyond the prefixes: exponent notation (`2.441e196 s`).
+        return format!("{:.*e} {unit}", digits - 1, value)
+            .trim_end()
+            .to_string();
+    }
     let prefix = SI_PREFIXES
         .iter()
         .find(|(e, _)| *e == e3)
@@ -370,6 +376,9 @@ pub fn format_bytes(bytes: u128) -> String {
     if bytes < 1000 {
         return format!("{bytes} B");
     }
+    if bytes >= 1_000_000_000_000_000 {
+        return format!("{:.3e} B", bytes as f64);
+    }
     format_si(bytes as f64, "B", 4)
 }
 
@@ -423,6 +432,8 @@ mod tests {
         assert_eq!(format_si(2.5e-6, "s", 4), "2.500 µs");
         assert_eq!(format_si(-3.0e-9, "s", 4), "-3.000 ns");
         assert_eq!(format_si(10e6, "Hz", 4), "10.00 MHz");
+        assert_eq!(format_si(2.4410e196, "s", 4), "2.441e196 s");
+        assert_eq!(format_si(3e-30, "s", 4), "3.000e-30 s");
     }
 
     #[test]

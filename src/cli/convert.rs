@@ -81,7 +81,7 @@ pub struct Args {
     #[arg(long, value_name = "FREQ")]
     pub to_offset: Option<String>,
     /// Points per decade of a table made with --to lf.
-    #[arg(long, value_name = "N", default_value_t = 10)]
+    #[arg(long, value_name = "N", default_value_t = 10, value_parser = super::common::count)]
     pub per_decade: usize,
     /// Draw the result to FILE (.svg or .png): the σ–τ curves (--to sigma),
     /// or L(f) (--to lf; --to model: the table with the fitted model dashed).

@@ -338,7 +338,9 @@ fn to_csv(p: &Prediction, observed: Option<&Observed>) -> String {
 }
 
 fn hours(t: f64) -> String {
-    if t >= 3600.0 {
+    if t >= 3.6e9 {
+        format!("{:.3e} h", t / 3600.0)
+    } else if t >= 3600.0 {
         format!("{:.1} h", t / 3600.0)
     } else {
         format_si(t, "s", 3)

@@ -71,7 +71,7 @@ pub struct Args {
     #[arg(long, value_name = "NAME", default_value = "hann")]
     pub window: String,
     /// Segment length for --record spectra (samples).
-    #[arg(long, value_name = "N")]
+    #[arg(long, value_name = "N", value_parser = super::common::count)]
     pub segment: Option<usize>,
     /// rms jitter limit with its unit (1ps, 300fs, 10mrad, 0.5deg, 0.01UI):
     /// one for every band, or one per --band in the same order. A band that

@@ -68,7 +68,7 @@ pub struct Args {
     #[arg(long)]
     pub fill_gaps: bool,
     /// Keep every N-th phase sample (or average N frequency values).
-    #[arg(long, value_name = "N")]
+    #[arg(long, value_name = "N", value_parser = super::common::count)]
     pub decimate: Option<usize>,
 }
 

@@ -414,6 +414,14 @@ impl Default for FromRecord {
 ///    measure of how far a W-average can be from the next one, common
 ///    practice) + (σ_param · ∂y_a/∂param · carry)².
 pub fn model_from_record(rec: &Record, opts: &FromRecord) -> Result<HoldoverModel> {
+    // A worst-case temperature offset is a fractional frequency: one of 1
+    // or more (or not finite) is not a clock's, and would only overflow.
+    if !(opts.temp_worst.is_finite() && opts.temp_worst.abs() < 1.0) {
+        return Err(Error::invalid(format!(
+            "the worst-case temperature frequency offset |c_T·ΔT| = {:e} is not a fractional frequency of a clock (expected well below 1, e.g. 1e-11/K × 5K = 5e-11)",
+            opts.temp_worst
+        )));
+    }
     let mut y = rec.to_frequency();
     let tau0 = y.tau0;
     if let Some(s) = opts.start {

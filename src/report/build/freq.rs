@@ -109,11 +109,39 @@ pub(super) fn phase_noise(
         }
     }
     if let Some((name, binned, _)) = &record_spectrum {
-        traces.push(LfTrace {
-            name: format!("spectrum of {name}"),
-            kind: TraceKind::RecordSpectrum,
-            points: lf_points(binned)?,
-        });
+        // Beside a table, the record's spectrum is drawn over the table's
+        // offsets only: its lowest bins (down to 1/(segment length), tens of
+        // µHz for a two-day record) would stretch the chart over decades
+        // where the table says nothing.
+        let mut points = lf_points(binned)?;
+        if let Some(t) = tables.first() {
+            let (lo, hi) = t.table.spectrum.range();
+            let (r_lo, r_hi) = binned.range();
+            let before = points.len();
+            points.retain(|&(f, _)| f >= lo && f <= hi);
+            if points.is_empty() {
+                notes.push(format!(
+                    "The spectrum of {name} ({} to {}) does not reach the table's offsets ({} to {}) and is not drawn.",
+                    format_si(r_lo, "Hz", 4),
+                    format_si(r_hi, "Hz", 4),
+                    format_si(lo, "Hz", 4),
+                    format_si(hi, "Hz", 4)
+                ));
+            } else if points.len() < before {
+                notes.push(format!(
+                    "The spectrum of {name} is drawn over the table's offsets ({} to {}) only.",
+                    format_si(lo, "Hz", 4),
+                    format_si(hi, "Hz", 4)
+                ));
+            }
+        }
+        if !points.is_empty() {
+            traces.push(LfTrace {
+                name: format!("spectrum of {name}"),
+                kind: TraceKind::RecordSpectrum,
+                points,
+            });
+        }
         r.methods.push(method(
             "spectrum of the time record",
             "Welch's method, Hann window, 50 % overlap, with its equivalent noise bandwidth",
