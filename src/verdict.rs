@@ -177,13 +177,16 @@ pub fn first_non_finite<'a>(
     values: impl IntoIterator<Item = (&'a str, f64, f64)>,
     unit_of_where: &str,
 ) -> Option<String> {
-    values.into_iter().find(|v| !v.1.is_finite()).map(|(what, v, at)| {
-        format!(
-            "{what} at {} is {} (the computation overflowed or is undefined there)",
-            crate::units::format_si(at, unit_of_where, 4),
-            if v.is_nan() { "NaN" } else { "infinite" }
-        )
-    })
+    values
+        .into_iter()
+        .find(|v| !v.1.is_finite())
+        .map(|(what, v, at)| {
+            format!(
+                "{what} at {} is {} (the computation overflowed or is undefined there)",
+                crate::units::format_si(at, unit_of_where, 4),
+                if v.is_nan() { "NaN" } else { "infinite" }
+            )
+        })
 }
 
 #[cfg(test)]

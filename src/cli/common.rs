@@ -121,9 +121,7 @@ pub fn count(text: &str) -> std::result::Result<usize, String> {
     }
     match t.parse::<f64>() {
         Ok(v) if v.is_finite() && v >= 0.0 && v.fract() == 0.0 && v < 1.8e19 => Ok(v as usize),
-        _ => Err(format!(
-            "'{text}' is not a whole number (e.g. 2000 or 1e6)"
-        )),
+        _ => Err(format!("'{text}' is not a whole number (e.g. 2000 or 1e6)")),
     }
 }
 
@@ -212,7 +210,10 @@ pub fn check_output_dir(out: &Path) -> Result<()> {
         .prefix(".tauwise-check-")
         .tempfile_in(dir)
     {
-        return fail(format!("directory {} does not take a new file: {e}", dir.display()));
+        return fail(format!(
+            "directory {} does not take a new file: {e}",
+            dir.display()
+        ));
     }
     Ok(())
 }

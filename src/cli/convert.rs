@@ -185,7 +185,12 @@ fn source(args: &Args, carrier: Option<f64>, tau_hint: Option<f64>) -> Result<So
 
 /// Run `convert`.
 pub fn run(args: Args) -> Result<Outcome> {
-    let inputs: Vec<&std::path::Path> = args.lf.iter().chain(args.sigma.iter()).map(|p| p.as_path()).collect();
+    let inputs: Vec<&std::path::Path> = args
+        .lf
+        .iter()
+        .chain(args.sigma.iter())
+        .map(|p| p.as_path())
+        .collect();
     super::common::check_output_paths(
         &inputs,
         &[args.output.output.as_deref(), args.plot.as_deref()],

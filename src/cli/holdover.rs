@@ -115,7 +115,11 @@ fn kelvin(text: &str, what: &str) -> Result<f64> {
     let Some(num) = stripped else {
         return Err(Error::invalid(format!(
             "--{what} {text}: give a unit, e.g. {}",
-            if what == "temp-coeff" { "1e-11/K" } else { "5K" }
+            if what == "temp-coeff" {
+                "1e-11/K"
+            } else {
+                "5K"
+            }
         )));
     };
     num.trim()
@@ -127,7 +131,10 @@ fn kelvin(text: &str, what: &str) -> Result<f64> {
 
 /// Run `holdover`.
 pub fn run(args: Args) -> Result<Outcome> {
-    super::common::check_output_paths(&[&args.file], &[args.output.output.as_deref(), args.plot.as_deref()])?;
+    super::common::check_output_paths(
+        &[&args.file],
+        &[args.output.output.as_deref(), args.plot.as_deref()],
+    )?;
     let span = positive_duration_with_unit(&args.span, "span", "24h")?;
     let budget = positive_duration_with_unit(&args.budget, "budget", "1.5us")?;
     let te0 = parse_duration_with_unit(&args.te0)

@@ -15,10 +15,10 @@ use tauwise::plot::phase_noise::{BandMark, LfTrace, PhaseNoisePlot, TraceKind};
 use tauwise::spectrum::jitter::{
     integrate_band, Band, BandJitter, JitterLimit, JitterSetup, Weighting,
 };
-use tauwise::verdict::{gate, Judgement, Verdict};
 use tauwise::spectrum::welch::welch;
 use tauwise::spectrum::Spectrum;
 use tauwise::units::{format_si, parse_frequency};
+use tauwise::verdict::{gate, Judgement, Verdict};
 use tauwise::{Error, Result, DECISION_CAUTION};
 
 /// Integrated phase jitter over offset bands.
@@ -143,7 +143,10 @@ pub fn run(args: Args) -> Result<Outcome> {
         .chain(args.spurs.iter())
         .map(|p| p.as_path())
         .collect();
-    super::common::check_output_paths(&inputs, &[args.output.output.as_deref(), args.plot.as_deref()])?;
+    super::common::check_output_paths(
+        &inputs,
+        &[args.output.output.as_deref(), args.plot.as_deref()],
+    )?;
     let carrier = super::spectrum::carrier_of(&args.input)?.ok_or_else(|| {
         Error::invalid("jitter needs the carrier frequency: give --carrier (e.g. --carrier 10MHz)")
     })?;
@@ -251,7 +254,11 @@ pub fn run(args: Args) -> Result<Outcome> {
                 .map(|l| l.judge(o.as_ref().map_err(|e| e.as_str())))
         })
         .collect();
-    let results: Vec<BandJitter> = outcomes.iter().filter_map(|o| o.as_ref().ok()).cloned().collect();
+    let results: Vec<BandJitter> = outcomes
+        .iter()
+        .filter_map(|o| o.as_ref().ok())
+        .cloned()
+        .collect();
     if let (Some(path), Some((trace, kind))) = (&args.plot, &plot_trace) {
         let mut notes = Vec::new();
         if let Some(r) = results.first() {
@@ -296,9 +303,7 @@ pub fn run(args: Args) -> Result<Outcome> {
                         .zip(&bands)
                         .zip(&judgements)
                         .enumerate()
-                        .map(|(i, ((o, b), j))| {
-                            band_json(o, b, limit_of(&limits, i), j.as_ref())
-                        })
+                        .map(|(i, ((o, b), j))| band_json(o, b, limit_of(&limits, i), j.as_ref()))
                         .collect(),
                 ),
             );

@@ -258,11 +258,7 @@ fn to_table(series: &Series, r: &WanderResult) -> String {
             } else {
                 list.join(", ")
             };
-            let _ = writeln!(
-                s,
-                "  {} violating τ: {shown}",
-                c.violations.len()
-            );
+            let _ = writeln!(s, "  {} violating τ: {shown}", c.violations.len());
         }
     }
     if !r.checks.is_empty() {

@@ -10,9 +10,9 @@ pub mod series;
 pub mod text;
 pub mod write;
 
+pub use write::remove_pending_temp_files;
 pub use write::write_atomic;
 pub use write::write_atomic_with;
-pub use write::remove_pending_temp_files;
 
 /// An input could not be read, or did not hold what was expected.
 ///

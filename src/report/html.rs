@@ -104,13 +104,12 @@ impl Html {
                             Verdict::Exceeds => ("fail", "exceeds"),
                             Verdict::NotJudged => ("none", "not judged"),
                         };
-                        let partial = if j.verdict != Verdict::NotJudged
-                            && j.coverage == Coverage::Partial
-                        {
-                            " <span class=\"partial\">partial coverage</span>"
-                        } else {
-                            ""
-                        };
+                        let partial =
+                            if j.verdict != Verdict::NotJudged && j.coverage == Coverage::Partial {
+                                " <span class=\"partial\">partial coverage</span>"
+                            } else {
+                                ""
+                            };
                         let _ = write!(
                             self.buf,
                             "<td><span class=\"badge {class}\">{word}</span>{partial}</td>"

@@ -54,7 +54,12 @@ fn verdicts(h: &mut Html, r: &Report) {
         );
     } else {
         use crate::verdict::{Coverage, Verdict};
-        let count = |v: Verdict| r.verdicts.iter().filter(|l| l.judgement.verdict == v).count();
+        let count = |v: Verdict| {
+            r.verdicts
+                .iter()
+                .filter(|l| l.judgement.verdict == v)
+                .count()
+        };
         let (pass, fail, none) = (
             count(Verdict::Meets),
             count(Verdict::Exceeds),
@@ -64,7 +69,8 @@ fn verdicts(h: &mut Html, r: &Report) {
             .verdicts
             .iter()
             .filter(|l| {
-                l.judgement.verdict != Verdict::NotJudged && l.judgement.coverage == Coverage::Partial
+                l.judgement.verdict != Verdict::NotJudged
+                    && l.judgement.coverage == Coverage::Partial
             })
             .count();
         h.p(&format!(
@@ -76,7 +82,9 @@ fn verdicts(h: &mut Html, r: &Report) {
                 String::new()
             },
             if partial > 0 {
-                format!("; {partial} judged on part of the range their criterion sets (see each line)")
+                format!(
+                    "; {partial} judged on part of the range their criterion sets (see each line)"
+                )
             } else {
                 String::new()
             }

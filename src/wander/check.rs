@@ -194,7 +194,11 @@ pub fn check_mask(mask: &Mask, curve: &[(f64, f64)], support: &Support) -> MaskC
     // Anything non-finite that feeds the verdict: not judged, say what.
     for &(t, v, l) in &pts {
         let why = if !v.is_finite() || v < 0.0 {
-            Some(format!("{metric} at τ = {} is {}", format_si(t, "s", 4), word(v)))
+            Some(format!(
+                "{metric} at τ = {} is {}",
+                format_si(t, "s", 4),
+                word(v)
+            ))
         } else if !(l.is_finite() && l > 0.0) {
             Some(format!(
                 "the mask's limit at τ = {} is {}",
