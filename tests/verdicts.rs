@@ -506,3 +506,137 @@ fn report_gate_fails_on_not_judged() {
     );
     assert_eq!(std::fs::read_to_string(d.join("rec.txt")).unwrap(), rec);
 }
+
+/// Issue 12 point 9: a margin is never printed "−0.00 dB" (a value exactly
+/// at its limit has margin 0.00 dB), and rms degrees keep four significant
+/// digits in the report (2.6304e-4° was printed "0.0003").
+#[test]
+fn report_margins_and_degrees() {
+    use tauwise::plot::phase_noise::PhaseNoisePlot;
+    use tauwise::report::*;
+    use tauwise::verdict::{Coverage, Judgement};
+    let mut r = Report::empty("u", "");
+    r.phase_noise = Part::Done(PhaseNoiseSection {
+        source: "t".into(),
+        carrier: 10e6,
+        plot: PhaseNoisePlot::default(),
+        bands: vec![JitterRow {
+            name: "close-in".into(),
+            from: 10.0,
+            to: 1e3,
+            filters: String::new(),
+            rms_rad: 2.6304e-4_f64.to_radians(),
+            rms_s: 73.07e-15,
+            rms_ui: None,
+            limit: None,
+            judgement: None,
+        }],
+        notes: vec![],
+    });
+    r.wander = Part::Done(WanderSection {
+        source: "c".into(),
+        tie: None,
+        plots: vec![],
+        masks: vec![MaskRow {
+            name: "lab".into(),
+            metric: "MTIE".into(),
+            judgement: Judgement::judged(false, Coverage::Full),
+            worst_ratio: Some(1.0),
+            worst_tau: Some(10.0),
+            checked: Some((1.0, 10.0)),
+            mask_range: (1.0, Some(10.0)),
+            violations: 0,
+            source_note: "n".into(),
+        }],
+        notes: vec![],
+    });
+    let html = render_html(&r).unwrap();
+    assert!(!html.contains("-0.00 dB") && !html.contains("−0.00 dB"));
+    assert!(html.contains(">0.00 dB<"), "margin cell");
+    assert!(html.contains("2.630e-4"), "rms degrees to 4 digits");
+}
+
+/// Issue 12 point 9: a band label wider than its band is written beside
+/// the band, whole, not cut to "…" (SVG text of the chart).
+#[test]
+fn band_labels_are_not_cut() {
+    use tauwise::plot::phase_noise::{BandMark, LfTrace, PhaseNoisePlot, TraceKind};
+    let label = "close-in 10 Hz – 1 kHz: 73.1 fs";
+    let p = PhaseNoisePlot {
+        title: "x".into(),
+        carrier: Some(10e6),
+        traces: vec![LfTrace {
+            name: "t".into(),
+            kind: TraceKind::Table,
+            points: vec![(1e-4, -40.0), (1e7, -160.0)],
+        }],
+        bands: vec![
+            BandMark {
+                from: 10.0,
+                to: 1e3,
+                label: label.into(),
+            },
+            BandMark {
+                from: 2e3,
+                to: 3e3,
+                label: "next: 1 fs".into(),
+            },
+        ],
+        notes: vec![],
+    };
+    let svg = tauwise::plot::to_svg_string(&p.chart(), (920, 540)).unwrap();
+    let doc = svg.replace("&#8211;", "–");
+    assert!(
+        doc.contains("73.1 fs"),
+        "label cut: {}",
+        &doc[..doc.len().min(400)]
+    );
+    assert!(doc.contains("next: 1 fs"));
+    assert!(!doc.contains('…'));
+}
+
+/// Issue 12 point 9: beside a table, the record's spectrum no longer
+/// stretches the report's L(f) chart to its lowest Welch bin (50 µHz for
+/// two days at 1 s): it is drawn over the table's offsets.
+#[test]
+fn record_spectrum_kept_to_the_table() {
+    use tauwise::io::dut::Dut;
+    use tauwise::report::build::{from_dut, BuildOptions};
+    use tauwise::report::Part;
+    let dir = tempfile::tempdir().unwrap();
+    let d = dir.path();
+    use rand::{Rng, SeedableRng};
+    let mut rng = rand_chacha::ChaCha8Rng::seed_from_u64(5);
+    let rec: String = (0..20_000)
+        .map(|_| format!("{}\n", rng.gen_range(-1.0..1.0)))
+        .collect();
+    write(d, "rec.txt", &rec);
+    write(d, "lf.csv", "0.01,-60\n0.1,-80\n1e6,-150\n");
+    write(
+        d,
+        "u.toml",
+        "[device]\nname = \"u\"\ncarrier = \"10MHz\"\n\
+         [[record]]\npath = \"rec.txt\"\ntau0 = \"1s\"\nunits = \"ns\"\n\
+         [[phase_noise]]\npath = \"lf.csv\"\n",
+    );
+    let rep = from_dut(
+        &Dut::read(&d.join("u.toml")).unwrap(),
+        &BuildOptions::default(),
+    )
+    .unwrap();
+    let Part::Done(pn) = &rep.phase_noise else {
+        panic!("no phase-noise section")
+    };
+    let lowest = pn
+        .plot
+        .traces
+        .iter()
+        .flat_map(|t| t.points.iter().map(|p| p.0))
+        .fold(f64::INFINITY, f64::min);
+    assert!(lowest >= 0.01, "chart reaches {lowest} Hz");
+    assert!(pn
+        .plot
+        .traces
+        .iter()
+        .any(|t| t.name.contains("spectrum of")));
+}
