@@ -640,3 +640,38 @@ fn record_spectrum_kept_to_the_table() {
         .iter()
         .any(|t| t.name.contains("spectrum of")));
 }
+
+/// A mask's verdict depends only on the record and that mask: checked
+/// alone or beside another mask (whose breakpoints add τ to the shared
+/// curve), it checks the same τ and gives the same worst ratio.
+#[test]
+fn a_mask_check_does_not_depend_on_the_other_masks() {
+    let dir = tempfile::tempdir().unwrap();
+    let f = offset_capture(dir.path(), 3e-11);
+    let run = |masks: &[&str]| {
+        let mut c = tauwise();
+        c.arg("wander")
+            .arg(&f)
+            .args(["--tau0", "1s", "--units", "ns", "--format", "json"]);
+        for m in masks {
+            c.args(["--mask", m]);
+        }
+        json(&c.output().unwrap())
+    };
+    let alone = run(&["g8262-opt1"]);
+    let both = run(&["g8262-opt1", "g8272-prtc-a"]);
+    for k in 0..2 {
+        let (a, b) = (&alone["masks"][k], &both["masks"][k]);
+        assert_eq!(a["name"], b["name"]);
+        for key in [
+            "checked",
+            "checked_range",
+            "worst_ratio",
+            "worst_tau",
+            "verdict",
+        ] {
+            assert_eq!(a[key], b[key], "{key}");
+        }
+    }
+    assert!(both["mtie"].as_array().unwrap().len() > alone["mtie"].as_array().unwrap().len());
+}

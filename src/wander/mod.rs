@@ -173,12 +173,20 @@ pub fn analyse(rec: &PhaseRecord, opts: &Options, masks: &[Mask]) -> Result<Wand
     let n = rec.len();
     let (mtie_ms, mtie_support) = plan(Metric::Mtie, n, rec.tau0, opts, masks)?;
     let (tdev_ms, tdev_support) = plan(Metric::Tdev, n, rec.tau0, opts, masks)?;
-    analyse_at(
+    // Each mask is checked on the τ of its own plan (the grid, the record's
+    // end and its own breakpoints), so that its verdict does not depend on
+    // which other masks were asked for; the curves hold the union.
+    let own = masks
+        .iter()
+        .map(|m| plan(m.metric, n, rec.tau0, opts, std::slice::from_ref(m)).map(|p| p.0))
+        .collect::<Result<Vec<_>>>()?;
+    run(
         rec,
         (&mtie_ms, &mtie_support),
         (&tdev_ms, &tdev_support),
         opts.remove_offset,
         masks,
+        Some(&own),
     )
 }
 
@@ -190,6 +198,19 @@ pub fn analyse_at(
     tdev_at: (&[usize], &Support),
     remove_offset: bool,
     masks: &[Mask],
+) -> Result<WanderResult> {
+    run(rec, mtie_at, tdev_at, remove_offset, masks, None)
+}
+
+/// The analysis; `own[k]`, when given, are the averaging factors mask k is
+/// checked on (a subset of its metric's curve).
+fn run(
+    rec: &PhaseRecord,
+    mtie_at: (&[usize], &Support),
+    tdev_at: (&[usize], &Support),
+    remove_offset: bool,
+    masks: &[Mask],
+    own: Option<&[Vec<usize>]>,
 ) -> Result<WanderResult> {
     let valid = rec.x.iter().filter(|v| !v.is_nan()).count();
     if valid < 2 {
@@ -227,14 +248,21 @@ pub fn analyse_at(
         tie.rms *= back;
         tie.offset_removed = tie.offset_removed.map(|y| y * back);
     }
-    let curve =
-        |e: &[Estimate]| -> Vec<(f64, f64)> { e.iter().map(|p| (p.tau, p.value)).collect() };
-    let (mc, tc) = (curve(&mtie), curve(&tdev));
+    let curve = |e: &[Estimate], keep: Option<&Vec<usize>>| -> Vec<(f64, f64)> {
+        e.iter()
+            .filter(|p| keep.map_or(true, |k| k.binary_search(&p.m).is_ok()))
+            .map(|p| (p.tau, p.value))
+            .collect()
+    };
     let checks = masks
         .iter()
-        .map(|m| match m.metric {
-            Metric::Mtie => check::check_mask(m, &mc, mtie_at.1),
-            Metric::Tdev => check::check_mask(m, &tc, tdev_at.1),
+        .enumerate()
+        .map(|(k, m)| {
+            let keep = own.map(|o| &o[k]);
+            match m.metric {
+                Metric::Mtie => check::check_mask(m, &curve(&mtie, keep), mtie_at.1),
+                Metric::Tdev => check::check_mask(m, &curve(&tdev, keep), tdev_at.1),
+            }
         })
         .collect();
     Ok(WanderResult {

@@ -173,7 +173,7 @@ pub(super) fn phase_noise(
         );
         let criterion = j
             .limit
-            .map(|l| format!("rms jitter ≤ {}", l.describe()))
+            .map(|l| format!("jitter ≤ {}", l.describe()))
             .unwrap_or_else(|| "no limit given".into());
         let result: std::result::Result<BandJitter, String> = match spectrum {
             None => Err("no spectrum to integrate (no table, or no carrier for the record)".into()),
