@@ -10,7 +10,7 @@ use std::time::Duration;
 use tauwise::holdover::aging::Aging;
 use tauwise::holdover::{predict, HoldoverModel, Settings};
 use tauwise::model::PowerLaw;
-use tauwise::wander::{analyse, default_ms, masks::builtin};
+use tauwise::wander::{analyse, masks::builtin, Options};
 use tauwise::PhaseRecord;
 
 fn tie_record(n: usize) -> PhaseRecord {
@@ -27,14 +27,18 @@ fn tie_record(n: usize) -> PhaseRecord {
 
 fn bench_wander(c: &mut Criterion) {
     let rec = tie_record(10_000_000);
-    let ms = default_ms(rec.len(), rec.tau0).unwrap();
     let mut masks = builtin("g8262-opt1").unwrap();
     masks.extend(builtin("g811").unwrap());
     let mut g = c.benchmark_group("wander");
     g.sample_size(10).measurement_time(Duration::from_secs(5));
-    g.bench_function("tie+mtie+tdev+masks, 1e7 points, 10/decade", |b| {
-        b.iter(|| analyse(&rec, &ms, true, &masks).unwrap())
-    });
+    let opts = Options {
+        remove_offset: true,
+        ..Options::default()
+    };
+    g.bench_function(
+        "tie+mtie+tdev+masks, 1e7 points, 10/decade over the record",
+        |b| b.iter(|| analyse(&rec, &opts, &masks).unwrap()),
+    );
     g.finish();
 }
 

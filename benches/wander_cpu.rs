@@ -16,7 +16,7 @@ use tauwise::deviation::{compute, Estimator};
 use tauwise::holdover::aging::Aging;
 use tauwise::holdover::{predict, HoldoverModel, Settings};
 use tauwise::model::PowerLaw;
-use tauwise::wander::{analyse, default_ms, masks::builtin};
+use tauwise::wander::{analyse, masks::builtin, masks::Metric, plan, Options};
 use tauwise::PhaseRecord;
 
 /// Process CPU time in seconds (utime + stime of /proc/self/stat, in clock
@@ -57,18 +57,24 @@ fn main() {
         })
         .collect();
     let rec = PhaseRecord::new(x, 1e-3).expect("record");
-    let ms = default_ms(rec.len(), rec.tau0).expect("grid");
-    println!(
-        "N = {n}, {} τ (10 per decade up to N/10), threads = {}",
-        ms.len(),
-        rayon::current_num_threads()
-    );
-    timed("mtie", || compute(Estimator::Mtie, &rec, &ms));
-    timed("tdev", || compute(Estimator::Tdev, &rec, &ms));
     let mut masks = builtin("g8262-opt1").expect("mask");
     masks.extend(builtin("g811").expect("mask"));
+    let opts = Options {
+        remove_offset: true,
+        ..Options::default()
+    };
+    let (mtie_ms, _) = plan(Metric::Mtie, rec.len(), rec.tau0, &opts, &masks).expect("grid");
+    let (tdev_ms, _) = plan(Metric::Tdev, rec.len(), rec.tau0, &opts, &masks).expect("grid");
+    println!(
+        "N = {n}, MTIE {} τ (10 per decade to the record's span), TDEV {} τ (to a third of it), threads = {}",
+        mtie_ms.len(),
+        tdev_ms.len(),
+        rayon::current_num_threads()
+    );
+    timed("mtie", || compute(Estimator::Mtie, &rec, &mtie_ms));
+    timed("tdev", || compute(Estimator::Tdev, &rec, &tdev_ms));
     timed("wander analyse (tie, offset, mtie, tdev, masks)", || {
-        analyse(&rec, &ms, true, &masks).expect("analyse")
+        analyse(&rec, &opts, &masks).expect("analyse")
     });
 
     let mut noise = PowerLaw::zero(0.5);

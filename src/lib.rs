@@ -23,6 +23,7 @@
 //! - [`spectrum`] — PSD estimation, L(f)/S_φ/S_y/S_x, σ(τ) from spectra, jitter.
 //! - [`wander`] — TIE statistics, MTIE, TDEV, masks.
 //! - [`holdover`] — time-error prediction through a holdover span.
+//! - [`verdict`] — the verdict vocabulary every check shares (meets / exceeds / not judged).
 //! - [`simulate`] — power-law noise synthesis (Kasdin & Walter 1992).
 //! - [`plot`] — charts; [`report`] — the self-contained HTML report.
 
@@ -41,6 +42,7 @@ pub mod stability;
 pub mod stats;
 pub mod tau;
 pub mod units;
+pub mod verdict;
 pub mod wander;
 
 pub use error::{Error, Result};

@@ -105,6 +105,42 @@ impl PhaseRecord {
         let y = self.x.windows(2).map(|w| (w[1] - w[0]) / tau0).collect();
         FrequencyRecord { y, tau0 }
     }
+
+    /// The record rescaled by an exact power of two when its magnitudes
+    /// would overflow or underflow the sums of squares every deviation
+    /// forms (|x| above 1e100 s or, non-zero, below 1e-100 s): returns the
+    /// scaled copy and the factor to multiply results of the first degree
+    /// in x (deviations, MTIE, TIE statistics) by. `None` when the record
+    /// needs no rescaling (every ordinary record). Multiplying by 2^k is
+    /// exact, so σ(scaled)·2^−k is the deviation of the record itself, and
+    /// EDF and noise type, which do not depend on the scale, are unchanged.
+    ///
+    /// ```
+    /// use tauwise::PhaseRecord;
+    /// let r = PhaseRecord::new(vec![1e160, -2e160, 3e160], 1.0).unwrap();
+    /// let (s, back) = r.rescaled_for_squares().unwrap();
+    /// assert!(s.x.iter().all(|v| v.abs() <= 4.0));
+    /// assert_eq!(s.x[1] * back, -2e160);
+    /// assert!(PhaseRecord::new(vec![1e-9, 2e-9], 1.0).unwrap().rescaled_for_squares().is_none());
+    /// ```
+    pub fn rescaled_for_squares(&self) -> Option<(PhaseRecord, f64)> {
+        let big = self
+            .x
+            .iter()
+            .filter(|v| v.is_finite())
+            .fold(0.0f64, |m, v| m.max(v.abs()));
+        if big == 0.0 || (1e-100..=1e100).contains(&big) {
+            return None;
+        }
+        // 2^k with big·2^k in [1, 2): exact scaling.
+        let k = -(big.log2().floor() as i32);
+        let scale = 2f64.powi(k);
+        if !(scale.is_finite() && scale > 0.0) {
+            return None;
+        }
+        let x = self.x.iter().map(|v| v * scale).collect();
+        Some((PhaseRecord { x, tau0: self.tau0 }, 2f64.powi(-k)))
+    }
 }
 
 impl FrequencyRecord {

@@ -58,11 +58,25 @@ pub fn analyse(x: &PhaseRecord, req: &Request) -> Result<Vec<Curve>> {
         bias_correction: req.bias_correction,
     };
     let n = x.len();
+    // Phase of extreme magnitude (beyond 1e100 s) would overflow the sums
+    // of squares: compute on an exactly rescaled copy and scale back.
+    let rescaled = x.rescaled_for_squares();
+    let (x, back) = match &rescaled {
+        Some((r, k)) => (r, *k),
+        None => (x, 1.0),
+    };
     let mut curves = Vec::with_capacity(req.estimators.len());
     for &est in &req.estimators {
         let ms = req.grid.ms(x.tau0, est.max_m(n))?;
         let estimates = compute(est, x, &ms);
-        let points = annotate(est, x, &estimates, &opts)?;
+        let mut points = annotate(est, x, &estimates, &opts)?;
+        if back != 1.0 {
+            for p in &mut points {
+                p.estimate.value *= back;
+                p.lo = p.lo.map(|v| v * back);
+                p.hi = p.hi.map(|v| v * back);
+            }
+        }
         curves.push(Curve {
             estimator: est.name().to_string(),
             points,

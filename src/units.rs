@@ -19,6 +19,12 @@ pub enum UnitError {
         /// What would have been accepted.
         expected: &'static str,
     },
+    /// A number that decides a verdict was given without its unit.
+    #[error("'{text}' has no unit: give a unit, e.g. 1.5us / 24h (a bare number is refused where it decides a verdict)")]
+    NoUnit {
+        /// The text as given.
+        text: String,
+    },
 }
 
 fn bad(text: &str, what: &'static str, expected: &'static str) -> UnitError {
@@ -58,7 +64,7 @@ fn split_number(text: &str) -> Option<(f64, &str)> {
 }
 
 const DURATION_EXPECTED: &str =
-    "a number of seconds or a number with one of ps ns us µs ms s min h d (e.g. 100ms, 2.5us, 24h, 2d)";
+    "a number of seconds or a number with one of fs ps ns us µs ms s min h d (e.g. 100ms, 2.5us, 24h, 2d)";
 
 /// Parse a duration such as `1s`, `100ms`, `2.5us`, `24h`, `2d` or plain
 /// seconds (`0.001`). Returns seconds.
@@ -73,6 +79,7 @@ pub fn parse_duration(text: &str) -> Result<f64, UnitError> {
     let (v, suffix) = split_number(text).ok_or_else(|| bad(text, "duration", DURATION_EXPECTED))?;
     let scale = match suffix {
         "" | "s" | "sec" => 1.0,
+        "fs" => 1e-15,
         "ps" => 1e-12,
         "ns" => 1e-9,
         "us" | "µs" | "μs" => 1e-6,
@@ -87,6 +94,29 @@ pub fn parse_duration(text: &str) -> Result<f64, UnitError> {
         return Err(bad(text, "duration", DURATION_EXPECTED));
     }
     Ok(s)
+}
+
+/// Parse a duration that decides a verdict — a budget, a span, a mask or
+/// limit value — as [`parse_duration`] does, but refuse a bare number
+/// ([`UnitError::NoUnit`]): `--budget 1.5` read as seconds once turned a
+/// FAIL into a PASS. Zero needs no unit (`0` is the same in every unit).
+///
+/// ```
+/// use tauwise::units::parse_duration_with_unit;
+/// assert_eq!(parse_duration_with_unit("1.5us").unwrap(), 1.5e-6);
+/// assert_eq!(parse_duration_with_unit("24h").unwrap(), 86400.0);
+/// assert_eq!(parse_duration_with_unit("0").unwrap(), 0.0);
+/// let e = parse_duration_with_unit("1.5").unwrap_err().to_string();
+/// assert!(e.contains("give a unit, e.g. 1.5us / 24h"), "{e}");
+/// ```
+pub fn parse_duration_with_unit(text: &str) -> Result<f64, UnitError> {
+    let (v, suffix) = split_number(text).ok_or_else(|| bad(text, "duration", DURATION_EXPECTED))?;
+    if suffix.is_empty() && v != 0.0 {
+        return Err(UnitError::NoUnit {
+            text: text.trim().to_string(),
+        });
+    }
+    parse_duration(text)
 }
 
 const FREQUENCY_EXPECTED: &str =
@@ -258,7 +288,13 @@ pub fn format_si(value: f64, unit: &str, digits: usize) -> String {
     } else {
         exp10
     };
-    let e3 = (exp10.div_euclid(3) * 3).clamp(-24, 12);
+    let e3 = exp10.div_euclid(3) * 3;
+    if !(-24..=12).contains(&e3) {
+        // Beyond the prefixes: exponent notation (`2.441e196 s`).
+        return format!("{:.*e} {unit}", digits - 1, value)
+            .trim_end()
+            .to_string();
+    }
     let prefix = SI_PREFIXES
         .iter()
         .find(|(e, _)| *e == e3)
@@ -301,6 +337,49 @@ pub fn format_sig(value: f64, digits: usize) -> String {
     } else {
         format!("{:.*e}", digits.saturating_sub(1), value)
     }
+}
+
+/// A margin in dB for tables and reports, two decimals with its sign
+/// (`+6.02 dB`, `-0.35 dB`). A margin that rounds to zero is never written
+/// `-0.00 dB`: exactly zero (a value at its limit) is `0.00 dB`, and a
+/// margin smaller than 0.005 dB in magnitude keeps two significant digits
+/// (`-8.7e-5 dB`), so that its sign — within or beyond the limit — shows.
+///
+/// ```
+/// use tauwise::units::format_margin_db;
+/// assert_eq!(format_margin_db(6.0206), "+6.02 dB");
+/// assert_eq!(format_margin_db(-0.0), "0.00 dB");
+/// assert_eq!(format_margin_db(-8.68e-5), "-8.7e-5 dB");
+/// assert_eq!(format_margin_db(-0.004999), "-5.0e-3 dB");
+/// ```
+pub fn format_margin_db(db: f64) -> String {
+    if db == 0.0 {
+        return "0.00 dB".to_string();
+    }
+    if !db.is_finite() {
+        return format!("{db} dB");
+    }
+    if db.abs() < 0.005 {
+        return format!("{db:+.1e} dB");
+    }
+    format!("{db:+.2} dB")
+}
+
+/// A number of bytes in decimal SI units for messages (`32.77 GB`).
+///
+/// ```
+/// use tauwise::units::format_bytes;
+/// assert_eq!(format_bytes(32_768_000_000), "32.77 GB");
+/// assert_eq!(format_bytes(512), "512 B");
+/// ```
+pub fn format_bytes(bytes: u128) -> String {
+    if bytes < 1000 {
+        return format!("{bytes} B");
+    }
+    if bytes >= 1_000_000_000_000_000 {
+        return format!("{:.3e} B", bytes as f64);
+    }
+    format_si(bytes as f64, "B", 4)
 }
 
 /// 10·log10(x): power ratio to decibels.
@@ -353,6 +432,8 @@ mod tests {
         assert_eq!(format_si(2.5e-6, "s", 4), "2.500 µs");
         assert_eq!(format_si(-3.0e-9, "s", 4), "-3.000 ns");
         assert_eq!(format_si(10e6, "Hz", 4), "10.00 MHz");
+        assert_eq!(format_si(2.4410e196, "s", 4), "2.441e196 s");
+        assert_eq!(format_si(3e-30, "s", 4), "3.000e-30 s");
     }
 
     #[test]

@@ -100,7 +100,7 @@ fn json_contract_with_given_aging() {
     let holds = doc["holds_for_s"].as_f64().unwrap();
     let want = crossing(y0, d, 1.5e-6);
     assert!((holds / want - 1.0).abs() < 1e-3, "{holds} vs {want}");
-    assert_eq!(doc["verdict"], "fail");
+    assert_eq!(doc["verdict"], "exceeds");
     let caution = doc["caution"].as_str().unwrap();
     for w in [
         "Engineering estimate",
@@ -123,7 +123,7 @@ fn exit_status_and_table() {
     let hours = crossing(flat_y0(d), d, 1.5e-6) / 3600.0; // 11.9 h (analytic)
     let want = format!("holds 95 % of the time for about {hours:.1} h");
     assert!(text.contains(&want), "{want} not in {text}");
-    assert!(text.contains("FAIL"), "{text}");
+    assert!(text.contains("EXCEEDS"), "{text}");
     assert!(text.contains("Engineering estimate"), "{text}");
     let out = run_flat("24h", &["--fail-on-violation"]);
     assert_eq!(out.status.code(), Some(3), "{}", stderr(&out));
@@ -131,7 +131,7 @@ fn exit_status_and_table() {
     let out = run_flat("8h", &["--fail-on-violation", "--format", "json"]);
     assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
     let doc: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
-    assert_eq!(doc["verdict"], "pass");
+    assert_eq!(doc["verdict"], "meets");
     assert!(doc["holds_for_s"].is_null());
 }
 
@@ -286,4 +286,194 @@ fn record_after_the_start_beside_the_prediction() {
     assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
     let table = String::from_utf8_lossy(&out.stdout);
     assert!(table.contains("nothing to compare"), "{table}");
+}
+
+/// Issue 12: a number that decides a verdict needs its unit. `--budget 1.5`
+/// once read as 1.5 s turned a FAIL into a PASS; `--span 24` was 24 s.
+#[test]
+fn bare_numbers_are_refused_where_they_decide() {
+    let dir = tempfile::tempdir().unwrap();
+    let f = flat_file(dir.path());
+    let o = dir.path().join("out.json");
+    for (args, word) in [
+        (["--span", "24h", "--budget", "1.5"], "--budget 1.5"),
+        (["--span", "24", "--budget", "1.5us"], "--span 24"),
+    ] {
+        let out = tauwise()
+            .arg("holdover")
+            .arg(&f)
+            .args(["--data", "freq", "--tau0", "60s", "--aging", "1e-10/day"])
+            .args(args)
+            .args(["--format", "json", "-o"])
+            .arg(&o)
+            .output()
+            .unwrap();
+        assert_error(&out, &[word, "give a unit, e.g. 1.5us / 24h"], &o);
+    }
+    for (flag, value, example) in [
+        ("--te0", "20", "give a unit"),
+        ("--aging", "1e-15", "5e-11/day"),
+        ("--settle", "600", "give a unit"),
+    ] {
+        let out = tauwise()
+            .arg("holdover")
+            .arg(&f)
+            .args(["--data", "freq", "--tau0", "60s", "--span", "8h"])
+            .args(["--budget", "1.5us", flag, value, "-o"])
+            .arg(&o)
+            .output()
+            .unwrap();
+        assert_error(&out, &[flag, example], &o);
+    }
+}
+
+/// Issue 12: nothing non-finite passes. A span of 1e200 s overflows the
+/// prediction: the verdict is `not-judged` with the reason, the JSON says
+/// which members are not finite (never a `null` for them), and
+/// `--fail-on-violation` exits 4. Too few paths for a p95 verdict is
+/// `not-judged` the same way.
+#[test]
+fn non_finite_prediction_is_not_judged() {
+    let dir = tempfile::tempdir().unwrap();
+    let f = flat_file(dir.path());
+    let run = |extra: &[&str]| {
+        tauwise()
+            .arg("holdover")
+            .arg(&f)
+            .args(["--data", "freq", "--tau0", "60s", "--aging", "1e-10/day"])
+            .args(["--model", "h0=1e-22", "--budget", "1.5us"])
+            .args(extra)
+            .output()
+            .unwrap()
+    };
+    let out = run(&[
+        "--span",
+        "1e200s",
+        "--paths",
+        "200",
+        "--fail-on-violation",
+        "--format",
+        "json",
+    ]);
+    assert_eq!(out.status.code(), Some(4), "{}", stderr(&out));
+    let doc: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    assert_eq!(doc["verdict"], "not-judged");
+    assert!(
+        doc["reason"].as_str().unwrap().contains("not"),
+        "{}",
+        doc["reason"]
+    );
+    let listed = doc["not_finite"].as_array().unwrap();
+    assert!(!listed.is_empty());
+    for t in doc["te"].as_array().unwrap() {
+        for k in ["p50", "p95", "p99", "deterministic"] {
+            assert!(!t[k].is_null(), "te.{k} is null: {t}");
+        }
+    }
+    assert!(stderr(&out).contains("not finite"), "{}", stderr(&out));
+    // Without the flag the verdict is a result: exit 0, table says so.
+    let out = run(&["--span", "1e200s", "--paths", "200"]);
+    assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
+    assert!(String::from_utf8_lossy(&out.stdout).contains("NOT JUDGED"));
+    // 50 paths: a p95 verdict is not judged.
+    let out = run(&[
+        "--span",
+        "8h",
+        "--paths",
+        "50",
+        "--fail-on-violation",
+        "--format",
+        "json",
+    ]);
+    assert_eq!(out.status.code(), Some(4), "{}", stderr(&out));
+    let doc: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    assert_eq!(doc["verdict"], "not-judged");
+    assert!(doc["reason"].as_str().unwrap().contains("too few"));
+    // A temperature term that is no clock's is refused.
+    let out = run(&[
+        "--span",
+        "8h",
+        "--temp-coeff",
+        "1e305/K",
+        "--temp-swing",
+        "5K",
+    ]);
+    assert_eq!(out.status.code(), Some(1), "{}", stderr(&out));
+    assert!(stderr(&out).contains("fractional frequency"));
+}
+
+/// Issue 12: every count option is bounded, with an error that gives the
+/// memory it would need — never a panic or an abort.
+#[test]
+fn counts_are_bounded_with_the_memory_they_need() {
+    let dir = tempfile::tempdir().unwrap();
+    let f = flat_file(dir.path());
+    for (flag, value) in [
+        ("--paths", "9223372036854775807"),
+        ("--paths", "1000000"),
+        ("--steps", "1e8"),
+        ("--steps", "18446744073709551615"),
+    ] {
+        let out = tauwise()
+            .arg("holdover")
+            .arg(&f)
+            .args(["--data", "freq", "--tau0", "60s", "--aging", "1e-10/day"])
+            .args(["--span", "8h", "--budget", "1.5us", flag, value])
+            .output()
+            .unwrap();
+        assert_eq!(
+            out.status.code(),
+            Some(1),
+            "{flag} {value}: {}",
+            stderr(&out)
+        );
+        let e = stderr(&out);
+        assert!(
+            e.contains("memory") && e.contains('B'),
+            "{flag} {value}: {e}"
+        );
+    }
+}
+
+/// Issue 12: `-o` naming the input is refused before anything is computed
+/// (the measurement is kept), and so is an output in a missing directory.
+#[test]
+fn output_is_checked_before_computing() {
+    let dir = tempfile::tempdir().unwrap();
+    let f = flat_file(dir.path());
+    let before = std::fs::read(&f).unwrap();
+    let link = dir.path().join("same.txt");
+    std::fs::hard_link(&f, &link).unwrap();
+    for o in [f.clone(), link] {
+        let out = tauwise()
+            .arg("holdover")
+            .arg(&f)
+            .args(["--data", "freq", "--tau0", "60s", "--aging", "1e-10/day"])
+            .args(["--span", "8h", "--budget", "1.5us", "-o"])
+            .arg(&o)
+            .output()
+            .unwrap();
+        assert_eq!(out.status.code(), Some(1), "{}", stderr(&out));
+        assert!(
+            stderr(&out).contains("is the input file"),
+            "{}",
+            stderr(&out)
+        );
+    }
+    assert_eq!(std::fs::read(&f).unwrap(), before);
+    let missing = dir.path().join("missing/dir/out.json");
+    let out = tauwise()
+        .arg("holdover")
+        .arg(&f)
+        .args(["--data", "freq", "--tau0", "60s", "--aging", "1e-10/day"])
+        .args(["--span", "8h", "--budget", "1.5us", "--plot"])
+        .arg(&missing)
+        .output()
+        .unwrap();
+    assert_eq!(out.status.code(), Some(1), "{}", stderr(&out));
+    assert!(
+        stderr(&out).contains("checked before computing"),
+        "{}",
+        stderr(&out)
+    );
 }

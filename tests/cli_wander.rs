@@ -43,19 +43,30 @@ fn g8262_mtie(tau: f64) -> Option<f64> {
     }
 }
 
-/// The default grid recomputed from its definition: m = round(10^(k/10)),
-/// deduplicated, m ≤ (N − 1)/10.
-fn grid(n: usize) -> Vec<f64> {
+/// The default grid recomputed from its definition (τ0 = 1 s): m =
+/// round(10^(k/10)) up to `max_m`, the record's longest τ `max_m` itself,
+/// and m = ⌊b⌋, ⌊b⌋ + 1 at every mask breakpoint b ≤ max_m + 1.
+fn grid(max_m: usize, breakpoints: &[f64]) -> Vec<f64> {
     let mut out: Vec<f64> = Vec::new();
     for k in 0.. {
         let m = 10f64.powf(k as f64 / 10.0).round();
-        if m > ((n - 1) / 10) as f64 {
+        if m > max_m as f64 {
             break;
         }
-        if out.last() != Some(&m) {
-            out.push(m);
+        out.push(m);
+    }
+    out.push(max_m as f64);
+    for &b in breakpoints {
+        if b < max_m as f64 + 2.0 {
+            for c in [b.floor(), b.floor() + 1.0] {
+                if c >= 1.0 && c <= max_m as f64 {
+                    out.push(c);
+                }
+            }
         }
     }
+    out.sort_by(f64::total_cmp);
+    out.dedup();
     out
 }
 
@@ -104,17 +115,21 @@ fn json_contract_on_a_ramp() {
         Y0 * (sum_sq / N as f64).sqrt()
     ));
 
-    // MTIE at every τ of the default grid equals y0·τ (analytic).
-    let taus = grid(N);
+    // MTIE over the whole record (ITU-T G.810: up to the observation
+    // period, here (N − 1)·τ0), equal to y0·τ at every τ (analytic).
+    let taus = grid(N - 1, &[0.1, 1.0, 100.0, 1000.0]);
     let mtie = doc["mtie"].as_array().unwrap();
     assert_eq!(mtie.len(), taus.len());
     for (p, &t) in mtie.iter().zip(&taus) {
         assert_eq!(p["tau"].as_f64().unwrap(), t);
         assert!(rel(p["value"].as_f64().unwrap(), Y0 * t), "τ = {t}");
     }
-    // TDEV of a ramp is zero (second differences vanish, analytic): rounding only.
+    assert_eq!(mtie.last().unwrap()["tau"].as_f64().unwrap(), span);
+    // TDEV to a third of the record; of a ramp it is zero (second
+    // differences vanish, analytic): rounding only.
     let tdev = doc["tdev"].as_array().unwrap();
-    assert_eq!(tdev.len(), taus.len());
+    let tdev_taus = grid((N - 1) / 3, &[0.1, 25.0, 100.0, 1000.0]);
+    assert_eq!(tdev.len(), tdev_taus.len());
     for p in tdev {
         assert!(p["tau"].is_f64());
         assert!(p["value"].as_f64().unwrap() < 1e-15);
@@ -140,7 +155,14 @@ fn json_contract_on_a_ramp() {
         ));
     }
     let mt = masks.iter().find(|m| m["metric"] == "mtie").unwrap();
-    assert_eq!(mt["verdict"], "fail");
+    assert_eq!(mt["verdict"], "exceeds");
+    // τ0 = 1 s cannot check the mask's τ from 0.1 s to 1 s: partial, said so.
+    assert_eq!(mt["coverage"], "partial");
+    assert!(mt["reason"].as_str().unwrap().contains("τ0"), "{mt}");
+    assert_eq!(mt["mask_range"]["from"], 0.1);
+    assert_eq!(mt["mask_range"]["to"], 1000.0);
+    assert_eq!(mt["checked_range"]["from"], 1.0);
+    assert_eq!(mt["checked_range"]["to"], 1000.0);
     // Worst ratio and violations from the formulas (CHECKS.md F, from memory).
     let ratios: Vec<(f64, f64)> = taus
         .iter()
@@ -166,7 +188,7 @@ fn json_contract_on_a_ramp() {
 
     // The TDEV of a ramp passes.
     let td = masks.iter().find(|m| m["metric"] == "tdev").unwrap();
-    assert_eq!(td["verdict"], "pass");
+    assert_eq!(td["verdict"], "meets");
     assert!(td["violations"].as_array().unwrap().is_empty());
 
     let caution = doc["caution"].as_str().unwrap();
@@ -184,7 +206,7 @@ fn exit_status_of_a_failed_mask() {
     let (out, _) = run_ramp(&[]);
     assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
     let text = String::from_utf8_lossy(&out.stdout);
-    assert!(text.contains("FAIL"), "{text}");
+    assert!(text.contains("EXCEEDS"), "{text}");
     assert!(text.contains("values recalled from memory"), "{text}");
     assert!(
         text.contains("formally measured under the conditions"),
@@ -217,7 +239,7 @@ fn passing_record_exits_zero() {
     assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
     let doc: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
     for m in doc["masks"].as_array().unwrap() {
-        assert_eq!(m["verdict"], "pass", "{m}");
+        assert_eq!(m["verdict"], "meets", "{m}");
     }
     let mtie = doc["mtie"].as_array().unwrap();
     assert!(mtie
@@ -288,7 +310,8 @@ fn mask_file_is_applied() {
     let dir = tempfile::tempdir().unwrap();
     let f = ramp_file(dir.path());
     // Step mask: 10 µs up to 1000 s. The ramp's MTIE y0·τ = 20 ns·τ passes
-    // it up to τ = 500 s; the grid stops at 200 s (analytic).
+    // it up to τ = 500 s and is twice the limit at the mask's end, 1000 s,
+    // which the record (2000 s) reaches (analytic).
     let mask = write(
         dir.path(),
         "lab.mask",
@@ -310,7 +333,9 @@ fn mask_file_is_applied() {
     let m = &doc["masks"][0];
     assert_eq!(m["name"], "lab");
     assert_eq!(m["source_note"], "internal draft");
-    assert_eq!(m["verdict"], "pass");
+    assert_eq!(m["verdict"], "exceeds");
+    assert_eq!(m["coverage"], "full");
     let wr = m["worst_ratio"].as_f64().unwrap();
-    assert!((wr - Y0 * 200.0 / 10e-6).abs() < 1e-12, "{wr}");
+    assert!((wr - Y0 * 1000.0 / 10e-6).abs() < 1e-12, "{wr}");
+    assert_eq!(m["worst_tau"], 1000.0);
 }

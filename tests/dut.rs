@@ -93,8 +93,12 @@ fn a_complete_file_reads() {
     assert_eq!(r.data, DataKind::Phase);
     assert_eq!(r.tau0, Some(1.0));
     assert_eq!((r.value_column, r.time_column), (Some(2), Some(1)));
-    // `..` is allowed; the path is resolved against the DUT file's directory.
-    assert_eq!(r.path, fx.root().join("data/phase.csv"));
+    // `..` is allowed; the path is joined to the DUT file's directory and
+    // resolved by the operating system.
+    assert_eq!(
+        fs::canonicalize(&r.path).unwrap(),
+        fs::canonicalize(fx.root().join("data/phase.csv")).unwrap()
+    );
     assert_eq!(dut.phase_noise[0].quantity, LfQuantity::Lf);
     assert_eq!(
         dut.phase_noise[0].carrier, 10e6,
@@ -103,7 +107,10 @@ fn a_complete_file_reads() {
     assert_eq!(dut.tie[0].name, "tie.csv", "name defaults to the file name");
     let j = &dut.jitter[0];
     assert_eq!((j.from, j.to), (12e3, 20e6));
-    assert!((j.limit.unwrap() - 300e-15).abs() < 1e-27);
+    match j.limit.unwrap() {
+        tauwise::spectrum::jitter::JitterLimit::S(v) => assert!((v - 300e-15).abs() < 1e-27),
+        other => panic!("{other:?}"),
+    }
     assert_eq!(j.ui_rate, Some(10.3125e9));
     assert!(j.filters[0].highpass);
     let w = dut.wander.as_ref().unwrap();
@@ -176,7 +183,7 @@ fn missing_file_names_the_resolved_path() {
         &fx,
         &GOOD.replace("../data/lf.csv", "../../elsewhere/./lf.csv"),
     );
-    let resolved = fx.root().parent().unwrap().join("elsewhere/lf.csv");
+    let resolved = fx.root().join("duts").join("../../elsewhere/./lf.csv");
     assert!(e.contains(&resolved.display().to_string()), "{e}");
     assert!(e.contains("phase_noise[1].path"), "{e}");
     let e = error_of(&fx, &GOOD.replace("../data/mask.txt", "nomask.txt"));
@@ -216,6 +223,22 @@ fn bad_values_are_named() {
             "holdover.aging",
         ),
         ("paths = 500", "paths = 2", "holdover.paths"),
+        // Issue 12: numbers that decide a verdict need their unit.
+        ("budget = \"1.5us\"", "budget = 1.5e-6", "give a unit"),
+        ("budget = \"1.5us\"", "budget = \"1.5\"", "give a unit"),
+        (
+            "spans = [\"8h\", \"24h\"]",
+            "spans = [8, 24]",
+            "holdover.spans[1]",
+        ),
+        (
+            "spans = [\"8h\", \"24h\"]",
+            "spans = [\"8h\", \"24\"]",
+            "give a unit",
+        ),
+        ("limit = \"300fs\"", "limit = 3e-13", "give a unit"),
+        ("limit = \"300fs\"", "limit = \"0.3\"", "give a unit"),
+        ("aging = \"1e-10/day\"", "aging = \"1e-15\"", "give a unit"),
         ("carrier = \"10MHz\"", "carrier = \"ten\"", "device.carrier"),
         ("name = \"ocxo-a\"", "name = \" \"", "device.name"),
     ];
@@ -251,4 +274,59 @@ fn structural_errors() {
         .unwrap_err()
         .to_string();
     assert!(e.contains("UTF-8"), "{e}");
+}
+
+/// Issue 12: DUT paths are joined to the DUT file's directory and resolved
+/// by the operating system, not folded as text. With `link -> real/sub`,
+/// `link/../rec.txt` is `real/rec.txt` — what the OS (and `tauwise
+/// stability`) opens — not the `rec.txt` beside the DUT file.
+#[cfg(unix)]
+#[test]
+fn paths_are_resolved_by_the_operating_system() {
+    let dir = tempfile::tempdir().unwrap();
+    let d = dir.path();
+    fs::create_dir_all(d.join("real/sub")).unwrap();
+    fs::write(d.join("real/rec.txt"), "1\n2\n3\n").unwrap();
+    fs::write(d.join("rec.txt"), "9\n").unwrap();
+    std::os::unix::fs::symlink(d.join("real/sub"), d.join("link")).unwrap();
+    let dut = d.join("unit.toml");
+    fs::write(
+        &dut,
+        "[device]\nname = \"x\"\n[[record]]\npath = \"link/../rec.txt\"\n",
+    )
+    .unwrap();
+    let r = &Dut::read(&dut).unwrap().records[0];
+    assert_eq!(fs::read_to_string(&r.path).unwrap(), "1\n2\n3\n");
+    assert_eq!(
+        fs::canonicalize(&r.path).unwrap(),
+        fs::canonicalize(d.join("real/rec.txt")).unwrap()
+    );
+}
+
+/// The `[wander]` section takes the τ grid and range (with units).
+#[test]
+fn wander_takes_the_tau_range() {
+    let fx = Fixture::new();
+    let text = GOOD.replace(
+        "[wander]\n",
+        "[wander]\ntaus = \"log:20\"\ntau_range = [\"1s\", \"3h\"]\n",
+    );
+    assert!(text.contains("log:20"), "fixture has no [wander]");
+    let dut = Dut::read(&fx.write(&text)).unwrap();
+    let w = dut.wander.unwrap();
+    assert_eq!(w.taus, Some(tauwise::tau::TauGrid::PerDecade(20)));
+    assert_eq!(w.tau_range, Some((1.0, 10800.0)));
+    let e = error_of(
+        &fx,
+        &GOOD.replace("[wander]\n", "[wander]\ntau_range = [1, 10800]\n"),
+    );
+    assert!(
+        e.contains("wander.tau_range[1]") && e.contains("give a unit"),
+        "{e}"
+    );
+    let e = error_of(
+        &fx,
+        &GOOD.replace("[wander]\n", "[wander]\ntau_range = [\"3h\", \"1s\"]\n"),
+    );
+    assert!(e.contains("FROM ≤ TO"), "{e}");
 }

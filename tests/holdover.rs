@@ -6,9 +6,10 @@ use rand_distr::StandardNormal;
 use tauwise::holdover::aging::{Aging, AgingModel};
 use tauwise::holdover::paths::NoisePaths;
 use tauwise::holdover::{
-    fit_noise, model_from_record, predict, FromRecord, HoldoverModel, Settings, Verdict,
+    fit_noise, model_from_record, predict, FromRecord, HoldoverModel, Settings,
 };
 use tauwise::model::PowerLaw;
+use tauwise::verdict::Verdict;
 use tauwise::{FrequencyRecord, Record};
 
 const DAY: f64 = 86400.0;
@@ -46,7 +47,7 @@ fn no_noise_is_the_closed_form() {
         end.deterministic
     );
     assert!((end.p95 - 4.32e-6).abs() < 1e-15);
-    assert_eq!(p.verdict, Verdict::Pass);
+    assert_eq!(p.judgement.verdict, Verdict::Meets);
     assert_eq!(p.holds_for, None);
 
     let (te0, y0) = (-2e-7, 3e-12);
@@ -67,7 +68,7 @@ fn no_noise_is_the_closed_form() {
     let (a, b, c) = (0.5 * d, y0, te0 - 3e-6);
     let root = (-b + (b * b - 4.0 * a * c).sqrt()) / (2.0 * a);
     let got = p.holds_for.unwrap();
-    assert_eq!(p.verdict, Verdict::Fail);
+    assert_eq!(p.judgement.verdict, Verdict::Exceeds);
     // linear interpolation between steps of span/4096: error ≤ step²·D/|TE'|
     assert!((got - root).abs() < 1.0, "{got} vs {root}");
 
@@ -195,16 +196,28 @@ fn bad_settings() {
             .to_string();
         assert!(e.contains(word), "{e}");
     }
+    // One path gives no percentile: an error. Three give percentiles but
+    // too few for a p95 verdict: the prediction is made, not judged (issue 12).
     let e = predict(
         &m,
         &Settings {
-            paths: 3,
+            paths: 1,
             ..Settings::new(10.0, 1.0)
         },
     )
     .unwrap_err()
     .to_string();
     assert!(e.contains("paths"), "{e}");
+    let p = predict(
+        &m,
+        &Settings {
+            paths: 3,
+            ..Settings::new(10.0, 1.0)
+        },
+    )
+    .unwrap();
+    assert_eq!(p.judgement.verdict, Verdict::NotJudged);
+    assert!(p.judgement.reason.unwrap().contains("too few"));
     let rec = Record::Frequency(FrequencyRecord::new(vec![0.0; 10], 1.0).unwrap());
     assert!(model_from_record(&rec, &FromRecord::default()).is_err());
 }

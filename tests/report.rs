@@ -15,6 +15,7 @@ use tauwise::plot::wander::{MaskLine, Metric, WanderPlot};
 use tauwise::plot::XY;
 use tauwise::report::build::{from_dut, BuildOptions};
 use tauwise::report::*;
+use tauwise::verdict::{Coverage, Judgement, Verdict};
 
 fn full_report(name: &str) -> Report {
     let mut m = PowerLaw::zero(0.5);
@@ -44,26 +45,26 @@ fn full_report(name: &str) -> Report {
     r.description = Some("desc with <b>markup</b>".into());
     r.dut_file = Some("duts/<x>.toml".into());
     r.verdicts = vec![
-        Verdict {
+        VerdictLine {
             kind: VerdictKind::Mask,
             item: "g8262-opt1".into(),
             criterion: "MTIE".into(),
             result: "worst 0.5".into(),
-            pass: Some(true),
+            judgement: Judgement::judged(false, Coverage::Full),
         },
-        Verdict {
+        VerdictLine {
             kind: VerdictKind::Jitter,
             item: "12k:20M".into(),
             criterion: "≤ 1 ps".into(),
             result: "1.789 ps".into(),
-            pass: Some(false),
+            judgement: Judgement::judged(true, Coverage::Full),
         },
-        Verdict {
+        VerdictLine {
             kind: VerdictKind::Holdover,
             item: "24 h".into(),
             criterion: "p95 ≤ 1.5 µs".into(),
             result: "4.32 µs".into(),
-            pass: Some(false),
+            judgement: Judgement::judged(true, Coverage::Full),
         },
     ];
     r.stability = Part::Done(StabilitySection {
@@ -129,7 +130,8 @@ fn full_report(name: &str) -> Report {
             rms_rad: 1.124e-4,
             rms_s: 1.789e-12,
             rms_ui: None,
-            limit: Some(1e-12),
+            limit: Some("1.000 ps rms".into()),
+            judgement: Some(Judgement::judged(true, Coverage::Full)),
         }],
         notes: vec![],
     });
@@ -166,9 +168,11 @@ fn full_report(name: &str) -> Report {
         masks: vec![MaskRow {
             name: "g8262-opt1".into(),
             metric: "MTIE".into(),
-            pass: true,
-            worst_ratio: 0.5,
-            worst_tau: 100.0,
+            judgement: Judgement::judged(false, Coverage::Partial),
+            worst_ratio: Some(0.5),
+            worst_tau: Some(100.0),
+            checked: Some((1.0, 100.0)),
+            mask_range: (0.1, Some(1000.0)),
             violations: 0,
             source_note: "values recalled from memory".into(),
         }],
@@ -198,7 +202,7 @@ fn full_report(name: &str) -> Report {
             deterministic: 4.32e-6,
             p95: 5.2e-6,
             p99: 6e-6,
-            pass: false,
+            judgement: Judgement::judged(true, Coverage::Full),
         }],
         holds_for: Some(12.0 * 3600.0),
         parameters: vec![("aging".into(), "1e-10/day".into())],
@@ -622,7 +626,7 @@ fn report_verdicts_equal_the_commands() {
         rep.verdicts
             .iter()
             .filter(|v| v.kind == k)
-            .map(|v| v.pass)
+            .map(|v| v.judgement.verdict)
             .collect::<Vec<_>>()
     };
 
@@ -640,19 +644,16 @@ fn report_verdicts_equal_the_commands() {
         "--format",
         "json",
     ]);
-    let cmd: Vec<Option<bool>> = w["masks"]
+    let word = |v: &serde_json::Value| -> Verdict { serde_json::from_value(v.clone()).unwrap() };
+    let cmd: Vec<Verdict> = w["masks"]
         .as_array()
         .unwrap()
         .iter()
-        .map(|m| match m["verdict"].as_str().unwrap() {
-            "pass" => Some(true),
-            "fail" => Some(false),
-            _ => None,
-        })
+        .map(|m| word(&m["verdict"]))
         .collect();
     assert_eq!(of_kind(VerdictKind::Mask), cmd);
     assert!(
-        cmd.contains(&Some(false)) && cmd.contains(&Some(true)),
+        cmd.contains(&Verdict::Exceeds) && cmd.contains(&Verdict::Meets),
         "{cmd:?}"
     );
 
@@ -662,7 +663,7 @@ fn report_verdicts_equal_the_commands() {
             "holdover", "rec.csv", "--tau0", "1s", "--units", "ns", "--span", span, "--budget",
             "1us", "--paths", "200", "--seed", "4", "--format", "json",
         ]);
-        cmd.push(Some(h["verdict"].as_str().unwrap() == "pass"));
+        cmd.push(word(&h["verdict"]));
     }
     assert_eq!(of_kind(VerdictKind::Holdover), cmd);
 
@@ -680,8 +681,43 @@ fn report_verdicts_equal_the_commands() {
     assert!((rms - 1.789e-12).abs() < 1e-15, "{rms}");
     assert_eq!(
         of_kind(VerdictKind::Jitter),
-        vec![Some(rms <= 1e-12), Some(rms <= 2e-12)]
+        vec![
+            if rms <= 1e-12 {
+                Verdict::Meets
+            } else {
+                Verdict::Exceeds
+            },
+            if rms <= 2e-12 {
+                Verdict::Meets
+            } else {
+                Verdict::Exceeds
+            }
+        ]
     );
+    // `tauwise jitter --limit` gives the report's verdicts too.
+    let j = run(&[
+        "jitter",
+        "lf.csv",
+        "--carrier",
+        "10MHz",
+        "--band",
+        "12k:20M",
+        "--band",
+        "12k:20M",
+        "--limit",
+        "1ps",
+        "--limit",
+        "2ps",
+        "--format",
+        "json",
+    ]);
+    let cmd: Vec<Verdict> = j["bands"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|b| word(&b["verdict"]))
+        .collect();
+    assert_eq!(of_kind(VerdictKind::Jitter), cmd);
     let Part::Done(pn) = &rep.phase_noise else {
         panic!("phase noise missing")
     };

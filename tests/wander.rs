@@ -4,10 +4,10 @@ use rand::{Rng, SeedableRng};
 use rand_chacha::ChaCha8Rng;
 use std::path::Path;
 use tauwise::deviation::{compute, reference, Estimate, Estimator};
-use tauwise::wander::check::Verdict;
+use tauwise::verdict::{Coverage, Verdict};
 use tauwise::wander::mask_file::{parse_mask_file, write_mask_file};
 use tauwise::wander::masks::{builtin, Mask, Metric, Shape, BUILTIN_NAMES, FROM_MEMORY_NOTE};
-use tauwise::wander::{analyse, default_ms, tie};
+use tauwise::wander::{analyse, tie, Options};
 use tauwise::PhaseRecord;
 
 fn random_walk(n: usize, seed: u64, gaps: &[usize]) -> PhaseRecord {
@@ -279,14 +279,15 @@ fn ramp_fails_the_mask_at_the_analytic_tau() {
     let rec =
         PhaseRecord::new((0..n).map(|i| 1e-6 + y0 * i as f64 * tau0).collect(), tau0).unwrap();
     let masks = builtin("g8262-opt1").unwrap();
-    let ms = default_ms(n, rec.tau0).unwrap();
-    let res = analyse(&rec, &ms, false, &masks).unwrap();
+    let res = analyse(&rec, &Options::default(), &masks).unwrap();
     let c = res
         .checks
         .iter()
         .find(|c| c.metric == Metric::Mtie)
         .unwrap();
-    assert_eq!(c.verdict, Verdict::Fail);
+    assert_eq!(c.judgement.verdict, Verdict::Exceeds);
+    // τ0 = 0.125 s > 0.1 s, the mask's start: partial coverage, said so.
+    assert_eq!(c.judgement.coverage, Coverage::Partial);
     let tau_star = (40e-9 / y0).powf(1.0 / 0.9); // analytic
     let got = c.crossing_tau.unwrap();
     assert!(
@@ -303,16 +304,27 @@ fn ramp_fails_the_mask_at_the_analytic_tau() {
     }
     // Worst ratio: y0·τ / limit is largest at the longest τ checked.
     let worst = c.worst_tau.unwrap();
-    assert_eq!(worst, c.checked_range.unwrap().1);
+    assert_eq!(worst, c.checked_range.unwrap().to.unwrap());
+    // The check reaches the mask's end, 1000 s (the record spans 2500 s).
+    assert_eq!(worst, 1000.0);
     assert!((c.worst_margin_db.unwrap() + 20.0 * c.worst_ratio.unwrap().log10()).abs() < 1e-12);
     // With the offset removed, the ramp is gone and the mask passes.
-    let res2 = analyse(&rec, &ms, true, &masks).unwrap();
+    let opts = Options {
+        remove_offset: true,
+        ..Options::default()
+    };
+    let res2 = analyse(&rec, &opts, &masks).unwrap();
     assert!((res2.tie.offset_removed.unwrap() - y0).abs() < 1e-12 * y0);
-    assert!(res2.checks.iter().all(|c| c.verdict == Verdict::Pass));
-    // A record far shorter than the mask's start is not covered.
+    assert!(res2
+        .checks
+        .iter()
+        .all(|c| c.judgement.verdict == Verdict::Meets));
+    // A record far shorter than the mask's start checks nothing: not judged.
     let tiny = PhaseRecord::new((0..100).map(|i| i as f64 * 1e-12).collect(), 1e-4).unwrap();
-    let r3 = analyse(&tiny, &[1, 2, 5], false, &masks).unwrap();
-    assert!(r3.checks.iter().all(|c| c.verdict == Verdict::NotCovered));
+    let r3 = analyse(&tiny, &Options::default(), &masks).unwrap();
+    assert!(r3.checks.iter().all(|c| {
+        c.judgement.verdict == Verdict::NotJudged && c.judgement.coverage == Coverage::None
+    }));
 }
 
 const SAMPLE_FILE: &str = "\
@@ -329,7 +341,7 @@ shape loglog
 
 [tdev]
 shape step
-0.1    3ns
+0.1s   3ns
 100s   3ns
 1000s  30ns
 ";
@@ -386,6 +398,11 @@ fn bad_masks() {
         ("[mtie]\nshape step\n-1s 40ns\n", 3, "positive"),
         ("[mtie]\nshape loglog\n1s 40ns\n", 1, "at least 2"),
         ("[mtie]\nshape step\n1s 4ns\n[mtie]\n", 4, "second"),
+        // Issue 12: a bare number decides a verdict and is refused …
+        ("[mtie]\nshape step\n1 40ns\n", 3, "give a unit"),
+        ("[mtie]\nshape step\n1s 40e-9\n", 3, "give a unit"),
+        // … and a subnormal limit would make value/limit overflow.
+        ("[mtie]\nshape step\n1s 1e-320s\n", 3, "normal"),
     ] {
         let e = parse_mask_file(text, p).unwrap_err().to_string();
         assert!(e.starts_with(&format!("my.mask:{line}:")), "{text:?}: {e}");

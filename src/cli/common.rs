@@ -97,6 +97,34 @@ pub fn positive_duration(text: &str, flag: &str, example: &str) -> Result<f64> {
     Ok(v)
 }
 
+/// Parse the value of option `--flag` as a duration that decides a verdict
+/// (a budget, a span, a limit): it must carry its unit
+/// ([`tauwise::units::parse_duration_with_unit`]) and be positive.
+pub fn positive_duration_with_unit(text: &str, flag: &str, example: &str) -> Result<f64> {
+    let v = tauwise::units::parse_duration_with_unit(text)
+        .map_err(|e| Error::invalid(format!("--{flag} {text}: {e}")))?;
+    if !(v.is_finite() && v > 0.0) {
+        return Err(Error::invalid(format!(
+            "--{flag} {text}: expected a positive duration with its unit (e.g. {example})"
+        )));
+    }
+    Ok(v)
+}
+
+/// A count on the command line (`--paths`, `--steps`, `--per-decade`, …):
+/// a whole number, also in exponent form (`2000`, `1e6`). Each command
+/// bounds its counts by the memory they would need; this only reads them.
+pub fn count(text: &str) -> std::result::Result<usize, String> {
+    let t = text.trim();
+    if let Ok(n) = t.parse::<usize>() {
+        return Ok(n);
+    }
+    match t.parse::<f64>() {
+        Ok(v) if v.is_finite() && v >= 0.0 && v.fract() == 0.0 && v < 1.8e19 => Ok(v as usize),
+        _ => Err(format!("'{text}' is not a whole number (e.g. 2000 or 1e6)")),
+    }
+}
+
 /// Parse the value of option `--flag` as a frequency that must be positive
 /// (e.g. `--carrier`, `--fh`); the error names the option and an example.
 pub fn positive_frequency(text: &str, flag: &str, example: &str) -> Result<f64> {
@@ -130,6 +158,82 @@ pub struct OutputArgs {
     /// Write the results to FILE (atomically) instead of standard output.
     #[arg(short = 'o', long = "output", value_name = "FILE")]
     pub output: Option<PathBuf>,
+}
+
+/// Check every output path before any computing: an output that names an
+/// input (the same file, by any path: symbolic and hard links included) is
+/// refused, and the directory of each output must exist and take a new
+/// file — so that a long run neither overwrites its measurement nor fails
+/// only at the end. `None` and `-` (standard output) are skipped; so are
+/// inputs read from standard input.
+pub fn check_output_paths(inputs: &[&Path], outputs: &[Option<&Path>]) -> Result<()> {
+    for out in outputs.iter().flatten() {
+        if out.as_os_str() == "-" || out.as_os_str().is_empty() {
+            continue;
+        }
+        for inp in inputs.iter().filter(|p| p.as_os_str() != "-") {
+            if same_file(inp, out) {
+                return Err(Error::invalid(format!(
+                    "output {} is the input file {}: refusing to overwrite a measurement (choose another output)",
+                    out.display(),
+                    inp.display()
+                )));
+            }
+        }
+        check_output_dir(out)?;
+    }
+    Ok(())
+}
+
+/// The directory an output will be written into must exist and accept a
+/// new file (checked by creating and removing a temporary file there).
+pub fn check_output_dir(out: &Path) -> Result<()> {
+    let dir = match out.parent() {
+        Some(d) if !d.as_os_str().is_empty() => d,
+        _ => Path::new("."),
+    };
+    let fail = |why: String| {
+        Err(Error::invalid(format!(
+            "cannot write {}: {why} (checked before computing)",
+            out.display()
+        )))
+    };
+    match std::fs::metadata(dir) {
+        Ok(m) if m.is_dir() => {}
+        Ok(_) => return fail(format!("{} is not a directory", dir.display())),
+        Err(e) => return fail(format!("directory {}: {e}", dir.display())),
+    }
+    if out.is_dir() {
+        return fail("it is a directory".into());
+    }
+    if let Err(e) = tempfile::Builder::new()
+        .prefix(".tauwise-check-")
+        .tempfile_in(dir)
+    {
+        return fail(format!(
+            "directory {} does not take a new file: {e}",
+            dir.display()
+        ));
+    }
+    Ok(())
+}
+
+/// Whether two paths name the same existing file (same device and inode on
+/// Unix; the same canonical path elsewhere).
+fn same_file(a: &Path, b: &Path) -> bool {
+    let (Ok(ma), Ok(mb)) = (std::fs::metadata(a), std::fs::metadata(b)) else {
+        return false;
+    };
+    #[cfg(unix)]
+    {
+        use std::os::unix::fs::MetadataExt;
+        ma.dev() == mb.dev() && ma.ino() == mb.ino()
+    }
+    #[cfg(not(unix))]
+    {
+        let _ = (ma, mb);
+        matches!((std::fs::canonicalize(a), std::fs::canonicalize(b)), (Ok(x), Ok(y)) if x == y)
+    }
 }
 
 /// Write `text` to standard output, or atomically to the `-o` file
@@ -181,17 +285,71 @@ pub fn header_json(series: &Series) -> serde_json::Map<String, serde_json::Value
     m
 }
 
-/// JSON numbers cannot be NaN or infinite: such values become `null`.
+/// A computed number for JSON. JSON numbers cannot be NaN or infinite, and
+/// `null` means "not computed" in tauwise's JSON: a value that overflowed
+/// (or is undefined) is written as the string `"inf"`, `"-inf"` or `"NaN"`
+/// instead, and [`json_text`] lists every such member under `"not_finite"`.
 pub fn num(v: f64) -> serde_json::Value {
     if v.is_finite() {
         serde_json::Value::from(v)
+    } else if v.is_nan() {
+        serde_json::Value::from(NOT_FINITE[2])
+    } else if v > 0.0 {
+        serde_json::Value::from(NOT_FINITE[0])
     } else {
-        serde_json::Value::Null
+        serde_json::Value::from(NOT_FINITE[1])
     }
 }
 
-/// Serialise a JSON document with a final newline.
+/// The strings [`num`] writes for +∞, −∞ and NaN.
+const NOT_FINITE: [&str; 3] = ["inf", "-inf", "NaN"];
+
+/// JSON paths (`te[3].p95`) of the members [`num`] wrote as not finite.
+fn not_finite_paths(v: &serde_json::Value, path: &str, out: &mut Vec<String>) {
+    match v {
+        serde_json::Value::String(s) if NOT_FINITE.contains(&s.as_str()) => {
+            out.push(path.to_string())
+        }
+        serde_json::Value::Array(a) => {
+            for (i, x) in a.iter().enumerate() {
+                not_finite_paths(x, &format!("{path}[{i}]"), out);
+            }
+        }
+        serde_json::Value::Object(m) => {
+            for (k, x) in m {
+                let p = if path.is_empty() {
+                    k.clone()
+                } else {
+                    format!("{path}.{k}")
+                };
+                not_finite_paths(x, &p, out);
+            }
+        }
+        _ => {}
+    }
+}
+
+/// Serialise a JSON document with a final newline. When a computed member
+/// is not finite ([`num`]), the document says so: `"not_finite"` lists the
+/// members, and a note on standard error names them.
 pub fn json_text(doc: &serde_json::Value) -> String {
+    let mut found = Vec::new();
+    not_finite_paths(doc, "", &mut found);
+    let mut owned;
+    let doc = if found.is_empty() {
+        doc
+    } else {
+        owned = doc.clone();
+        if let serde_json::Value::Object(m) = &mut owned {
+            eprintln!(
+                "tauwise: note: {} computed value(s) are not finite (overflowed or undefined): {}",
+                found.len(),
+                found.iter().take(5).cloned().collect::<Vec<_>>().join(", ")
+            );
+            m.insert("not_finite".into(), found.into());
+        }
+        &owned
+    };
     let mut s = serde_json::to_string_pretty(doc).unwrap_or_else(|_| "{}".to_string());
     s.push('\n');
     s

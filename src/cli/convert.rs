@@ -81,7 +81,7 @@ pub struct Args {
     #[arg(long, value_name = "FREQ")]
     pub to_offset: Option<String>,
     /// Points per decade of a table made with --to lf.
-    #[arg(long, value_name = "N", default_value_t = 10)]
+    #[arg(long, value_name = "N", default_value_t = 10, value_parser = super::common::count)]
     pub per_decade: usize,
     /// Draw the result to FILE (.svg or .png): the σ–τ curves (--to sigma),
     /// or L(f) (--to lf; --to model: the table with the fitted model dashed).
@@ -185,6 +185,16 @@ fn source(args: &Args, carrier: Option<f64>, tau_hint: Option<f64>) -> Result<So
 
 /// Run `convert`.
 pub fn run(args: Args) -> Result<Outcome> {
+    let inputs: Vec<&std::path::Path> = args
+        .lf
+        .iter()
+        .chain(args.sigma.iter())
+        .map(|p| p.as_path())
+        .collect();
+    super::common::check_output_paths(
+        &inputs,
+        &[args.output.output.as_deref(), args.plot.as_deref()],
+    )?;
     let carrier = freq(&args.carrier, "carrier")?;
     let needs_carrier = args.lf.is_some()
         && TableQuantity::parse(&args.quantity)? != TableQuantity::Sy

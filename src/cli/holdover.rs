@@ -2,7 +2,8 @@
 //! the record, against a budget.
 
 use super::common::{
-    emit, header_json, json_text, num, plain, positive_duration, Format, InputArgs, OutputArgs,
+    count, emit, header_json, json_text, num, plain, positive_duration_with_unit, Format,
+    InputArgs, OutputArgs,
 };
 use super::Outcome;
 use clap::{Args as ClapArgs, ValueEnum};
@@ -16,7 +17,7 @@ use tauwise::holdover::{
 };
 use tauwise::io::series::Series;
 use tauwise::model::PowerLaw;
-use tauwise::units::{format_si, parse_duration};
+use tauwise::units::{format_si, parse_duration_with_unit};
 use tauwise::{Error, Result};
 
 /// The aging law to fit (`--aging-model`).
@@ -30,37 +31,39 @@ pub enum AgingArg {
 
 /// Time error through a holdover span, against a budget.
 #[derive(Debug, ClapArgs)]
+#[command(after_help = super::EXIT_CODES)]
 pub struct Args {
     /// Input file: phase or frequency record up to the loss of reference.
     #[arg(value_name = "FILE")]
     pub file: PathBuf,
     #[command(flatten)]
     pub input: InputArgs,
-    /// Holdover span (e.g. 8h, 24h).
+    /// Holdover span, with its unit (e.g. 8h, 24h; a bare number is refused).
     #[arg(long, value_name = "DUR", allow_hyphen_values = true)]
     pub span: String,
-    /// Time-error budget (e.g. 1.5us).
+    /// Time-error budget, with its unit (e.g. 1.5us; a bare number is refused).
     #[arg(long, value_name = "DUR", allow_hyphen_values = true)]
     pub budget: String,
-    /// Monte Carlo paths.
-    #[arg(long, default_value_t = 2000, value_name = "N")]
+    /// Monte Carlo paths (at least 100 for a verdict; paths × steps bounded
+    /// by the memory they need).
+    #[arg(long, default_value_t = 2000, value_name = "N", value_parser = count)]
     pub paths: usize,
     /// Seed of the Monte Carlo paths.
     #[arg(long, default_value_t = 1, value_name = "N")]
     pub seed: u64,
-    /// Simulation steps over the span.
-    #[arg(long, default_value_t = 4096, value_name = "N")]
+    /// Simulation steps over the span (16 to 4194304).
+    #[arg(long, default_value_t = 4096, value_name = "N", value_parser = count)]
     pub steps: usize,
-    /// Time error when the reference is lost.
+    /// Time error when the reference is lost, with its unit (e.g. 20ns).
     #[arg(
         long,
-        default_value = "0",
+        default_value = "0s",
         value_name = "DUR",
         allow_hyphen_values = true
     )]
     pub te0: String,
-    /// Window at the end of the record for the initial frequency y0.
-    /// Default: a tenth of the record.
+    /// Window at the end of the record for the initial frequency y0, with
+    /// its unit (e.g. 2h). Default: a tenth of the record.
     #[arg(long, value_name = "DUR")]
     pub settle: Option<String>,
     /// Holdover starts at this record time instead of the record's end;
@@ -68,7 +71,7 @@ pub struct Args {
     /// against the predicted p95, and when it first exceeds the budget).
     #[arg(long, value_name = "DUR")]
     pub start: Option<String>,
-    /// Given linear aging (e.g. 5e-11/day) instead of a fit.
+    /// Given linear aging with its unit (e.g. 5e-11/day) instead of a fit.
     #[arg(long, value_name = "RATE", allow_hyphen_values = true)]
     pub aging: Option<String>,
     /// The aging law to fit on the record.
@@ -83,7 +86,8 @@ pub struct Args {
     /// Noise model instead of the fit, e.g. h0=1e-22,h-1=3e-26,h-2=1e-31.
     #[arg(long, value_name = "MODEL")]
     pub model: Option<String>,
-    /// Exit with status 3 when the verdict fails (for scripts).
+    /// Exit with status 3 when the verdict exceeds the budget, 4 when it
+    /// cannot be judged (for scripts).
     #[arg(long)]
     pub fail_on_violation: bool,
     /// Draw the time error through the span (deterministic, p50/p95/p99 of
@@ -94,37 +98,49 @@ pub struct Args {
     pub output: OutputArgs,
 }
 
-fn strip_kelvin(text: &str, what: &str) -> Result<f64> {
+/// A temperature coefficient `1e-11/K` or a swing `5K`: the kelvin is
+/// required (a bare number is refused, like every number that decides).
+fn kelvin(text: &str, what: &str) -> Result<f64> {
     let t = text.trim();
-    let t = t
-        .strip_suffix("/K")
-        .or_else(|| t.strip_suffix('K'))
-        .unwrap_or(t)
-        .trim();
-    t.parse::<f64>()
+    let stripped = if what == "temp-coeff" {
+        t.strip_suffix("/K")
+    } else {
+        t.strip_suffix('K')
+    };
+    let example = if what == "temp-coeff" {
+        "a number per kelvin (e.g. 1e-11/K)"
+    } else {
+        "a number of kelvin (e.g. 5K)"
+    };
+    let Some(num) = stripped else {
+        return Err(Error::invalid(format!(
+            "--{what} {text}: give a unit, e.g. {}",
+            if what == "temp-coeff" {
+                "1e-11/K"
+            } else {
+                "5K"
+            }
+        )));
+    };
+    num.trim()
+        .parse::<f64>()
         .ok()
         .filter(|v| v.is_finite())
-        .ok_or_else(|| {
-            Error::invalid(format!(
-                "--{what} {text}: expected a number{}",
-                if what == "temp-coeff" {
-                    " per kelvin (e.g. 1e-11/K)"
-                } else {
-                    " of kelvin (e.g. 5K)"
-                }
-            ))
-        })
+        .ok_or_else(|| Error::invalid(format!("--{what} {text}: expected {example}")))
 }
 
 /// Run `holdover`.
 pub fn run(args: Args) -> Result<Outcome> {
-    let span = positive_duration(&args.span, "span", "24h")?;
-    let budget = positive_duration(&args.budget, "budget", "1.5us")?;
-    let te0 = parse_duration(&args.te0)?;
+    super::common::check_output_paths(
+        &[&args.file],
+        &[args.output.output.as_deref(), args.plot.as_deref()],
+    )?;
+    let span = positive_duration_with_unit(&args.span, "span", "24h")?;
+    let budget = positive_duration_with_unit(&args.budget, "budget", "1.5us")?;
+    let te0 = parse_duration_with_unit(&args.te0)
+        .map_err(|e| Error::invalid(format!("--te0 {}: {e}", args.te0)))?;
     let temp_worst = match (&args.temp_coeff, &args.temp_swing) {
-        (Some(c), Some(s)) => {
-            (strip_kelvin(c, "temp-coeff")? * strip_kelvin(s, "temp-swing")?).abs()
-        }
+        (Some(c), Some(s)) => (kelvin(c, "temp-coeff")? * kelvin(s, "temp-swing")?).abs(),
         (None, None) => 0.0,
         _ => return Err(Error::invalid(
             "--temp-coeff and --temp-swing go together (e.g. --temp-coeff 1e-11/K --temp-swing 5K)",
@@ -144,18 +160,29 @@ pub fn run(args: Args) -> Result<Outcome> {
         settle: args
             .settle
             .as_deref()
-            .map(|s| positive_duration(s, "settle", "1h"))
+            .map(|s| positive_duration_with_unit(s, "settle", "1h"))
             .transpose()?,
         start: args
             .start
             .as_deref()
-            .map(|s| positive_duration(s, "start", "36h"))
+            .map(|s| positive_duration_with_unit(s, "start", "36h"))
             .transpose()?,
         aging_model: match args.aging_model {
             AgingArg::Linear => AgingModel::Linear,
             AgingArg::Log => AgingModel::Log,
         },
-        aging_given: args.aging.as_deref().map(parse_aging_rate).transpose()?,
+        aging_given: args
+            .aging
+            .as_deref()
+            .map(|a| {
+                if !a.contains('/') {
+                    return Err(Error::invalid(format!(
+                        "--aging {a}: give a unit, e.g. 5e-11/day (a bare number is refused)"
+                    )));
+                }
+                parse_aging_rate(a)
+            })
+            .transpose()?,
         temp_worst,
         noise,
     };
@@ -203,13 +230,10 @@ pub fn run(args: Args) -> Result<Outcome> {
         ),
     };
     emit(&args.output, &text)?;
-    Ok(
-        if pred.verdict == tauwise::holdover::Verdict::Fail && args.fail_on_violation {
-            Outcome::VerdictFailed
-        } else {
-            Outcome::Done
-        },
-    )
+    Ok(Outcome::of_gate(
+        tauwise::verdict::gate([&pred.judgement]),
+        args.fail_on_violation,
+    ))
 }
 
 fn h_json(p: &PowerLaw) -> Value {
@@ -275,7 +299,9 @@ fn to_json(
         "holds_for_s".into(),
         p.holds_for.map(num).unwrap_or(Value::Null),
     );
-    m.insert("verdict".into(), p.verdict.name().into());
+    if let Ok(serde_json::Value::Object(j)) = serde_json::to_value(&p.judgement) {
+        m.extend(j);
+    }
     m.insert(
         "after_start".into(),
         observed.map_or(Value::Null, |o| {
@@ -319,7 +345,9 @@ fn to_csv(p: &Prediction, observed: Option<&Observed>) -> String {
 }
 
 fn hours(t: f64) -> String {
-    if t >= 3600.0 {
+    if t >= 3.6e9 {
+        format!("{:.3e} h", t / 3600.0)
+    } else if t >= 3600.0 {
         format!("{:.1} h", t / 3600.0)
     } else {
         format_si(t, "s", 3)
@@ -388,7 +416,9 @@ fn to_table(
         );
     }
     let _ = writeln!(o);
+    let judged = p.judgement.verdict != tauwise::verdict::Verdict::NotJudged;
     match p.holds_for {
+        _ if !judged => {}
         Some(t) => {
             let _ = writeln!(
                 o,
@@ -404,12 +434,10 @@ fn to_table(
             );
         }
     }
-    let _ = writeln!(
-        o,
-        "verdict for {}: {}",
-        hours(s.span),
-        p.verdict.name().to_uppercase()
-    );
+    let _ = writeln!(o, "verdict for {}: {}", hours(s.span), p.judgement.cell());
+    if let Some(why) = &p.judgement.reason {
+        let _ = writeln!(o, "  not judged: {why}");
+    }
     match observed {
         Some(ob) => observed_table(&mut o, ob, model, s),
         None if start_given => {

@@ -31,6 +31,7 @@ pub struct Args {
 
 /// Run `inspect`.
 pub fn run(args: Args) -> Result<Outcome> {
+    super::common::check_output_paths(&[&args.file], &[args.output.output.as_deref()])?;
     let series = args.input.load(&args.file)?;
     let summary = summarize(&series.record, args.outlier_limit)?;
     let text = match args.output.format {

@@ -12,10 +12,13 @@ use tauwise::io::lf_table::{
     read_filter_file, read_lf_table, read_spurs, LfTable, TableOptions, TableQuantity,
 };
 use tauwise::plot::phase_noise::{BandMark, LfTrace, PhaseNoisePlot, TraceKind};
-use tauwise::spectrum::jitter::{integrate_band, Band, BandJitter, JitterSetup, Weighting};
+use tauwise::spectrum::jitter::{
+    integrate_band, Band, BandJitter, JitterLimit, JitterSetup, Weighting,
+};
 use tauwise::spectrum::welch::welch;
 use tauwise::spectrum::Spectrum;
 use tauwise::units::{format_si, parse_frequency};
+use tauwise::verdict::{gate, Judgement, Verdict};
 use tauwise::{Error, Result, DECISION_CAUTION};
 
 /// Integrated phase jitter over offset bands.
@@ -23,7 +26,12 @@ use tauwise::{Error, Result, DECISION_CAUTION};
 #[command(
     after_help = "Examples:\n  tauwise jitter ocxo-a-lf.csv --carrier 10MHz --band 12k:5M --band 10:1k\n  \
     tauwise jitter ocxo-a-lf.csv --carrier 156.25M --band 12k:20M --filter highpass:1:12k --ui-rate 10.3125G\n  \
-    tauwise jitter --record tie.csv --tau0 1us --carrier 10MHz --band 100:400k"
+    tauwise jitter --record tie.csv --tau0 1us --carrier 10MHz --band 100:400k\n  \
+    tauwise jitter ocxo-a-lf.csv --carrier 10MHz --band 12k:5M --limit 1ps --fail-on-violation\n\n\
+    Exit status: 0 success (a band over its limit is a result, not an error); 1 error; 2 bad command \
+    line; 3 a band exceeds its limit and --fail-on-violation was given; 4 none exceeds but one \
+    could not be judged (a band outside the table, a non-finite result) and --fail-on-violation \
+    was given."
 )]
 pub struct Args {
     /// Phase-noise table: offset against L(f) in dBc/Hz (or see --quantity).
@@ -63,8 +71,17 @@ pub struct Args {
     #[arg(long, value_name = "NAME", default_value = "hann")]
     pub window: String,
     /// Segment length for --record spectra (samples).
-    #[arg(long, value_name = "N")]
+    #[arg(long, value_name = "N", value_parser = super::common::count)]
     pub segment: Option<usize>,
+    /// rms jitter limit with its unit (1ps, 300fs, 10mrad, 0.5deg, 0.01UI):
+    /// one for every band, or one per --band in the same order. A band that
+    /// cannot be computed is then judged "not judged" instead of an error.
+    #[arg(long = "limit", value_name = "LIMIT", allow_hyphen_values = true)]
+    pub limits: Vec<String>,
+    /// Exit with status 3 when a band exceeds its limit, 4 when none does
+    /// but one cannot be judged (for scripts).
+    #[arg(long)]
+    pub fail_on_violation: bool,
     /// Draw L(f) with each integration band shaded and labelled with its
     /// rms jitter to FILE (.svg or .png).
     #[arg(long, value_name = "FILE")]
@@ -118,6 +135,18 @@ pub fn load_table(
 
 /// Run `jitter`.
 pub fn run(args: Args) -> Result<Outcome> {
+    let inputs: Vec<&Path> = args
+        .table
+        .iter()
+        .chain(args.record.iter())
+        .chain(args.filter_file.iter())
+        .chain(args.spurs.iter())
+        .map(|p| p.as_path())
+        .collect();
+    super::common::check_output_paths(
+        &inputs,
+        &[args.output.output.as_deref(), args.plot.as_deref()],
+    )?;
     let carrier = super::spectrum::carrier_of(&args.input)?.ok_or_else(|| {
         Error::invalid("jitter needs the carrier frequency: give --carrier (e.g. --carrier 10MHz)")
     })?;
@@ -141,6 +170,18 @@ pub fn run(args: Args) -> Result<Outcome> {
     }
     if let Some(p) = &args.spurs {
         setup.spurs = read_spurs(p)?;
+    }
+    let limits = args
+        .limits
+        .iter()
+        .map(|l| JitterLimit::parse(l).map_err(|e| Error::invalid(format!("--limit: {e}"))))
+        .collect::<Result<Vec<_>>>()?;
+    if !(limits.len() <= 1 || limits.len() == bands.len()) {
+        return Err(Error::invalid(format!(
+            "{} --limit for {} --band: give one limit for every band, or one per band in the same order",
+            limits.len(),
+            bands.len()
+        )));
     }
     let ui_rate = match &args.ui_rate {
         Some(r) => {
@@ -191,10 +232,33 @@ pub fn run(args: Args) -> Result<Outcome> {
         }
         (None, None) => return Err(Error::invalid("give a phase-noise TABLE or --record FILE")),
     };
-    let results = bands
+    // With limits, a band that cannot be computed is a verdict of its own
+    // (not judged); without, it is an error as before.
+    let outcomes: Vec<std::result::Result<BandJitter, String>> = if limits.is_empty() {
+        bands
+            .iter()
+            .map(|&b| integrate_band(&spectrum, b, &setup, ui_rate).map(Ok))
+            .collect::<Result<Vec<_>>>()?
+    } else {
+        bands
+            .iter()
+            .map(|&b| integrate_band(&spectrum, b, &setup, ui_rate).map_err(|e| e.to_string()))
+            .collect()
+    };
+    let judgements: Vec<Option<Judgement>> = outcomes
         .iter()
-        .map(|&b| integrate_band(&spectrum, b, &setup, ui_rate))
-        .collect::<Result<Vec<_>>>()?;
+        .enumerate()
+        .map(|(i, o)| {
+            limits
+                .get(if limits.len() == 1 { 0 } else { i })
+                .map(|l| l.judge(o.as_ref().map_err(|e| e.as_str())))
+        })
+        .collect();
+    let results: Vec<BandJitter> = outcomes
+        .iter()
+        .filter_map(|o| o.as_ref().ok())
+        .cloned()
+        .collect();
     if let (Some(path), Some((trace, kind))) = (&args.plot, &plot_trace) {
         let mut notes = Vec::new();
         if let Some(r) = results.first() {
@@ -213,8 +277,8 @@ pub fn run(args: Args) -> Result<Outcome> {
             bands: args
                 .bands
                 .iter()
-                .zip(&results)
-                .map(|(name, r)| BandMark::from_jitter(name, r))
+                .zip(&outcomes)
+                .filter_map(|(name, r)| r.as_ref().ok().map(|r| BandMark::from_jitter(name, r)))
                 .collect(),
             notes,
         };
@@ -233,7 +297,15 @@ pub fn run(args: Args) -> Result<Outcome> {
             );
             header.insert(
                 "bands".into(),
-                serde_json::Value::Array(results.iter().map(band_json).collect()),
+                serde_json::Value::Array(
+                    outcomes
+                        .iter()
+                        .zip(&bands)
+                        .zip(&judgements)
+                        .enumerate()
+                        .map(|(i, ((o, b), j))| band_json(o, b, limit_of(&limits, i), j.as_ref()))
+                        .collect(),
+                ),
             );
             header.insert("caution".into(), DECISION_CAUTION.into());
             json_text(&serde_json::Value::Object(header))
@@ -258,25 +330,59 @@ pub fn run(args: Args) -> Result<Outcome> {
             }
             out
         }
-        Format::Table => table(&source, carrier, &results),
+        Format::Table => table(&source, carrier, &outcomes, &bands, &limits, &judgements),
     };
     emit(&args.output, &text)?;
-    Ok(Outcome::Done)
+    Ok(Outcome::of_gate(
+        gate(judgements.iter().flatten()),
+        args.fail_on_violation,
+    ))
 }
 
-fn band_json(r: &BandJitter) -> serde_json::Value {
-    serde_json::json!({
-        "from": num(r.from),
-        "to": num(r.to),
-        "filter": r.filter,
-        "rms_rad": num(r.rms_rad),
-        "rms_deg": num(r.rms_deg),
-        "rms_s": num(r.rms_s),
-        "rms_ui": r.rms_ui.map(num).unwrap_or(serde_json::Value::Null),
-        "spurs": r.spurs,
-        "spurs_rad2": num(r.spurs_rad2),
-        "extrapolated": r.extrapolated.iter().map(|(a, b)| serde_json::json!([num(*a), num(*b)])).collect::<Vec<_>>(),
-    })
+fn limit_of(limits: &[JitterLimit], i: usize) -> Option<&JitterLimit> {
+    limits.get(if limits.len() == 1 { 0 } else { i })
+}
+
+fn band_json(
+    o: &std::result::Result<BandJitter, String>,
+    band: &Band,
+    limit: Option<&JitterLimit>,
+    j: Option<&Judgement>,
+) -> serde_json::Value {
+    let mut v = match o {
+        Ok(r) => serde_json::json!({
+            "from": num(r.from),
+            "to": num(r.to),
+            "filter": r.filter,
+            "rms_rad": num(r.rms_rad),
+            "rms_deg": num(r.rms_deg),
+            "rms_s": num(r.rms_s),
+            "rms_ui": r.rms_ui.map(num).unwrap_or(serde_json::Value::Null),
+            "spurs": r.spurs,
+            "spurs_rad2": num(r.spurs_rad2),
+            "extrapolated": r.extrapolated.iter().map(|(a, b)| serde_json::json!([num(*a), num(*b)])).collect::<Vec<_>>(),
+        }),
+        Err(e) => serde_json::json!({
+            "from": num(band.from),
+            "to": num(band.to),
+            "not_computed": e,
+        }),
+    };
+    if let serde_json::Value::Object(m) = &mut v {
+        m.insert(
+            "limit".into(),
+            limit
+                .and_then(|l| serde_json::to_value(l).ok())
+                .unwrap_or(serde_json::Value::Null),
+        );
+        match j.and_then(|j| serde_json::to_value(j).ok()) {
+            Some(serde_json::Value::Object(jm)) => m.extend(jm),
+            _ => {
+                m.insert("verdict".into(), serde_json::Value::Null);
+            }
+        }
+    }
+    v
 }
 
 fn extrapolated_text(r: &BandJitter) -> String {
@@ -287,7 +393,14 @@ fn extrapolated_text(r: &BandJitter) -> String {
         .join(" ")
 }
 
-fn table(source: &str, carrier: f64, results: &[BandJitter]) -> String {
+fn table(
+    source: &str,
+    carrier: f64,
+    outcomes: &[std::result::Result<BandJitter, String>],
+    bands: &[Band],
+    limits: &[JitterLimit],
+    judgements: &[Option<Judgement>],
+) -> String {
     let mut out = String::new();
     let _ = writeln!(
         out,
@@ -300,38 +413,59 @@ fn table(source: &str, carrier: f64, results: &[BandJitter]) -> String {
         "{:>23}  {:>24}  {:>11}  {:>10}  {:>11}  {:>10}",
         "band", "weighting", "rms rad", "rms deg", "rms time", "rms UI"
     );
-    for r in results {
-        let band = format!(
+    for (i, (o, band)) in outcomes.iter().zip(bands).enumerate() {
+        let name = format!(
             "{} – {}",
-            format_si(r.from, "Hz", 4),
-            format_si(r.to, "Hz", 4)
+            format_si(band.from, "Hz", 4),
+            format_si(band.to, "Hz", 4)
         );
-        let _ = writeln!(
-            out,
-            "{:>23}  {:>24}  {:>11.4e}  {:>10.4e}  {:>11}  {:>10}",
-            band,
-            r.filter,
-            r.rms_rad,
-            r.rms_deg,
-            format_si(r.rms_s, "s", 4),
-            r.rms_ui
-                .map(|u| format!("{u:.4e}"))
-                .unwrap_or_else(|| "-".into())
-        );
-        if r.spurs > 0 {
-            let _ = writeln!(
-                out,
-                "{:>23}  includes {} spur(s), {:.4e} rad²",
-                "", r.spurs, r.spurs_rad2
-            );
+        match o {
+            Ok(r) => {
+                let _ = writeln!(
+                    out,
+                    "{:>23}  {:>24}  {:>11.4e}  {:>10.4e}  {:>11}  {:>10}",
+                    name,
+                    r.filter,
+                    r.rms_rad,
+                    r.rms_deg,
+                    format_si(r.rms_s, "s", 4),
+                    r.rms_ui
+                        .map(|u| format!("{u:.4e}"))
+                        .unwrap_or_else(|| "-".into())
+                );
+                if r.spurs > 0 {
+                    let _ = writeln!(
+                        out,
+                        "{:>23}  includes {} spur(s), {:.4e} rad²",
+                        "", r.spurs, r.spurs_rad2
+                    );
+                }
+                for (a, b) in &r.extrapolated {
+                    let _ = writeln!(
+                        out,
+                        "{:>23}  extrapolated {} – {} (end slope continued)",
+                        "",
+                        format_si(*a, "Hz", 4),
+                        format_si(*b, "Hz", 4)
+                    );
+                }
+            }
+            Err(e) => {
+                let _ = writeln!(out, "{name:>23}  not computed: {e}");
+            }
         }
-        for (a, b) in &r.extrapolated {
+        if let (Some(l), Some(j)) = (limit_of(limits, i), &judgements[i]) {
             let _ = writeln!(
                 out,
-                "{:>23}  extrapolated {} – {} (end slope continued)",
+                "{:>23}  limit {}: {}{}",
                 "",
-                format_si(*a, "Hz", 4),
-                format_si(*b, "Hz", 4)
+                l.describe(),
+                j.cell(),
+                match (&j.reason, j.verdict) {
+                    (Some(why), Verdict::NotJudged) => format!(" — {why}"),
+                    (Some(why), _) => format!(" — {why}"),
+                    _ => String::new(),
+                }
             );
         }
     }

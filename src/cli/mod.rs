@@ -18,7 +18,8 @@ pub mod wander;
 
 /// Oscillator and clock stability analysis.
 #[derive(Debug, Parser)]
-#[command(name = "tauwise", version, about, long_about = None, max_term_width = 100)]
+#[command(name = "tauwise", version, about, long_about = None, max_term_width = 100,
+    after_help = EXIT_CODES)]
 pub struct Cli {
     #[command(subcommand)]
     pub command: Command,
@@ -55,12 +56,53 @@ pub enum Command {
 pub enum Outcome {
     /// Success.
     Done,
-    /// A verdict failed and the user asked for a non-zero exit status.
+    /// A verdict exceeds its limit and the user asked for a non-zero exit
+    /// status (`--fail-on-violation`): exit 3.
     VerdictFailed,
+    /// No verdict exceeds, but one could not be judged, with
+    /// `--fail-on-violation`: exit 4.
+    NotJudged,
+}
+
+impl Outcome {
+    /// The outcome of a command whose checks gave `gate`
+    /// ([`tauwise::verdict::gate`]), with or without `--fail-on-violation`.
+    pub fn of_gate(gate: tauwise::verdict::Gate, fail_on_violation: bool) -> Self {
+        use tauwise::verdict::Gate;
+        match (gate, fail_on_violation) {
+            (_, false) | (Gate::Pass, _) => Outcome::Done,
+            (Gate::Exceeds, true) => Outcome::VerdictFailed,
+            (Gate::NotJudged, true) => Outcome::NotJudged,
+        }
+    }
+}
+
+/// The exit statuses, for `--help` texts and the documentation.
+pub const EXIT_CODES: &str =
+    "Exit status: 0 success (a verdict that exceeds its limit is a result, \
+not an error); 1 error in the input or the computation; 2 bad command line; 3 a verdict exceeds \
+its limit and --fail-on-violation was given; 4 no verdict exceeds but one could not be judged \
+(a value that feeds it is not finite, nothing of its range was checked, too few paths, a band \
+outside the table) and --fail-on-violation was given.";
+
+/// On SIGINT or SIGTERM (and SIGHUP), remove the temporary files of the
+/// atomic writes in progress, then end with the conventional status
+/// 128 + signal (130 for an interrupt).
+fn remove_temp_files_on_signal() {
+    let _ = ctrlc::set_handler(|| {
+        let n = tauwise::io::remove_pending_temp_files();
+        if n > 0 {
+            eprintln!("tauwise: interrupted: removed {n} unfinished output file(s)");
+        } else {
+            eprintln!("tauwise: interrupted");
+        }
+        std::process::exit(130);
+    });
 }
 
 /// Run the command line; returns the process exit code.
 pub fn main() -> i32 {
+    remove_temp_files_on_signal();
     let cli = match Cli::try_parse() {
         Ok(c) => c,
         Err(e) => {
@@ -85,6 +127,7 @@ pub fn main() -> i32 {
     match result {
         Ok(Outcome::Done) => 0,
         Ok(Outcome::VerdictFailed) => 3,
+        Ok(Outcome::NotJudged) => 4,
         Err(e) => {
             eprintln!("tauwise: error: {e}");
             1

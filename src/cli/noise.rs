@@ -46,6 +46,10 @@ struct Row {
 
 /// Run `noise`.
 pub fn run(args: Args) -> Result<Outcome> {
+    super::common::check_output_paths(
+        &[&args.file],
+        &[args.output.output.as_deref(), args.plot.as_deref()],
+    )?;
     let grid = TauGrid::parse(&args.taus)?;
     let progress = super::common::Progress::start("noise");
     progress.stage(format!("reading {}", args.file.display()));

@@ -68,12 +68,13 @@ pub struct Args {
     #[arg(long)]
     pub fill_gaps: bool,
     /// Keep every N-th phase sample (or average N frequency values).
-    #[arg(long, value_name = "N")]
+    #[arg(long, value_name = "N", value_parser = super::common::count)]
     pub decimate: Option<usize>,
 }
 
 /// Run `prepare`.
 pub fn run(args: Args) -> Result<Outcome> {
+    super::common::check_output_paths(&[&args.file], &[Some(args.output.as_path())])?;
     let series = args.input.load(&args.file)?;
     let mut record = series.record;
     let mut notes: Vec<String> = Vec::new();

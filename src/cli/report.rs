@@ -13,6 +13,7 @@ use tauwise::{DataKind, Error, Result};
 
 /// Make the HTML report for a device under test.
 #[derive(Debug, ClapArgs)]
+#[command(after_help = super::EXIT_CODES)]
 pub struct Args {
     /// A DUT file (`.toml`, see docs/dut-file.md), or a time record for the
     /// quick form.
@@ -31,7 +32,8 @@ pub struct Args {
     /// Size of the --charts pictures in pixels, WIDTHxHEIGHT.
     #[arg(long, value_name = "WxH", default_value = "960x600")]
     pub chart_size: String,
-    /// Exit with status 3 when any verdict fails.
+    /// Exit with status 3 when any verdict exceeds its limit, 4 when none
+    /// does but one cannot be judged.
     #[arg(long)]
     pub fail_on_violation: bool,
     /// Quick form: device name (default: the record's file name).
@@ -143,6 +145,15 @@ pub fn run(a: Args) -> Result<Outcome> {
     } else {
         quick_dut(&a)?
     };
+    // Before any computing: the output must not be an input, and its
+    // directory must take the file.
+    let mut inputs: Vec<&std::path::Path> = vec![a.input.as_path()];
+    inputs.extend(dut.records.iter().chain(&dut.tie).map(|r| r.path.as_path()));
+    inputs.extend(dut.phase_noise.iter().map(|t| t.path.as_path()));
+    if let Some(w) = &dut.wander {
+        inputs.extend(w.mask_files.iter().map(|p| p.as_path()));
+    }
+    super::common::check_output_paths(&inputs, &[a.output.as_deref()])?;
     let opts = BuildOptions {
         confidence: a.confidence,
         ..BuildOptions::default()
@@ -173,10 +184,8 @@ pub fn run(a: Args) -> Result<Outcome> {
             tauwise::plot::render(&chart, &dir.join(format!("{stem}.png")), size)?;
         }
     }
-    let failed = report.verdicts.iter().any(|v| v.pass == Some(false));
-    Ok(if failed && a.fail_on_violation {
-        Outcome::VerdictFailed
-    } else {
-        Outcome::Done
-    })
+    Ok(Outcome::of_gate(
+        tauwise::verdict::gate(report.verdicts.iter().map(|v| &v.judgement)),
+        a.fail_on_violation,
+    ))
 }

@@ -164,6 +164,7 @@ fn quote(arg: &str) -> String {
 
 /// Run `tauwise simulate`.
 pub fn run(args: SimulateArgs) -> Result<Outcome, Error> {
+    super::common::check_output_paths(&[], &[args.output.as_deref()])?;
     let tau0 = parse_duration(&args.tau0)?;
     if !(tau0.is_finite() && tau0 > 0.0) {
         return Err(Error::invalid(format!(

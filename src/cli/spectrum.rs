@@ -32,13 +32,13 @@ pub struct Args {
     pub window: String,
     /// Segment length in samples (default: the largest power of two not
     /// above a quarter of the longest gap-free stretch).
-    #[arg(long, value_name = "N")]
+    #[arg(long, value_name = "N", value_parser = super::common::count)]
     pub segment: Option<usize>,
     /// Overlap of consecutive segments (fraction of a segment).
     #[arg(long, value_name = "FRAC", default_value_t = 0.5)]
     pub overlap: f64,
     /// Output bins per decade (log-spaced averages of the DFT bins).
-    #[arg(long, value_name = "N", default_value_t = 10)]
+    #[arg(long, value_name = "N", default_value_t = 10, value_parser = super::common::count)]
     pub per_decade: usize,
     /// Write every DFT bin instead of log-spaced averages.
     #[arg(long)]
@@ -66,6 +66,10 @@ pub fn welch_options(window: &str, segment: Option<usize>, overlap: f64) -> Resu
 
 /// Run `spectrum`.
 pub fn run(args: Args) -> Result<Outcome> {
+    super::common::check_output_paths(
+        &[&args.file],
+        &[args.output.output.as_deref(), args.plot.as_deref()],
+    )?;
     let quantity = Quantity::parse(&args.quantity)?;
     let carrier = carrier_of(&args.input)?;
     if carrier.is_none() && matches!(quantity, Quantity::Lf | Quantity::Sphi) {

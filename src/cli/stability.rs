@@ -71,6 +71,17 @@ pub struct Args {
 
 /// Run `stability`.
 pub fn run(args: Args) -> Result<Outcome> {
+    let mut inputs = vec![args.file.as_path()];
+    inputs.extend(args.lf.as_deref());
+    let time_plot = args.plot.as_deref().map(time_chart_path);
+    super::common::check_output_paths(
+        &inputs,
+        &[
+            args.output.output.as_deref(),
+            args.plot.as_deref(),
+            time_plot.as_deref(),
+        ],
+    )?;
     let estimators = Estimator::parse_list(&args.dev)?;
     let grid = TauGrid::parse(&args.taus)?;
     let forced_alpha = match &args.noise_type {

@@ -1,32 +1,38 @@
 //! `tauwise wander FILE`: TIE statistics, MTIE and TDEV of a phase (TIE)
 //! record, checked against built-in or user masks.
 
-use super::common::{emit, header_json, json_text, num, plain, Format, InputArgs, OutputArgs};
+use super::common::{emit, header_json, json_text, plain, Format, InputArgs, OutputArgs};
 use super::Outcome;
 use clap::Args as ClapArgs;
-use serde_json::{json, Value};
+use serde_json::Value;
 use std::fmt::Write as _;
 use std::path::PathBuf;
 use tauwise::io::series::Series;
 use tauwise::tau::TauGrid;
-use tauwise::units::format_si;
-use tauwise::wander::check::{MaskCheck, Verdict};
+use tauwise::units::{format_margin_db, format_si};
+use tauwise::verdict::{gate, Verdict};
 use tauwise::wander::masks::{builtin, CONDITIONS_NOTE};
-use tauwise::wander::{analyse, default_ms, mask_file::read_mask_file, WanderResult};
-use tauwise::{Result, DECISION_CAUTION};
+use tauwise::wander::{analyse, mask_file::read_mask_file, Options, WanderResult};
+use tauwise::{Error, Result, DECISION_CAUTION};
 
 /// MTIE, TDEV and TIE statistics against wander masks.
 #[derive(Debug, ClapArgs)]
+#[command(after_help = super::EXIT_CODES)]
 pub struct Args {
     /// Input file of phase (time error) readings (`-` reads standard input).
     #[arg(value_name = "FILE")]
     pub file: PathBuf,
     #[command(flatten)]
     pub input: InputArgs,
-    /// τ grid: octave, decade, all, log:N or a list of durations.
-    /// Default: log:10 from τ0 up to a tenth of the record.
+    /// τ grid: octave, decade, all, log:N or a list of durations, used as
+    /// given. Default: 10 per decade over the whole record (MTIE to its
+    /// span, TDEV to a third of it) with every mask's breakpoints.
     #[arg(long, value_name = "GRID")]
     pub taus: Option<String>,
+    /// Only τ in FROM:TO, each with its unit (e.g. 1s:3h); the checks then
+    /// say which part of each mask they covered.
+    #[arg(long, value_name = "FROM:TO")]
+    pub tau_range: Option<String>,
     /// Built-in mask to check (repeatable): g811, g8272-prtc-a, g8262-opt1.
     #[arg(long = "mask", value_name = "NAME")]
     pub masks: Vec<String>,
@@ -36,7 +42,8 @@ pub struct Args {
     /// Remove the least-squares constant frequency offset first.
     #[arg(long)]
     pub remove_offset: bool,
-    /// Exit with status 3 when any mask fails (for scripts).
+    /// Exit with status 3 when any mask is exceeded, 4 when none is but one
+    /// cannot be judged (for scripts).
     #[arg(long)]
     pub fail_on_violation: bool,
     /// Draw MTIE and TDEV against the masks, violations marked, to FILE
@@ -49,6 +56,10 @@ pub struct Args {
 
 /// Run `wander`.
 pub fn run(args: Args) -> Result<Outcome> {
+    super::common::check_output_paths(
+        &[&args.file],
+        &[args.output.output.as_deref(), args.plot.as_deref()],
+    )?;
     // Masks first: a bad name or file fails before the record is read.
     let mut masks = Vec::new();
     for name in &args.masks {
@@ -62,12 +73,12 @@ pub fn run(args: Args) -> Result<Outcome> {
     let series = args.input.load(&args.file)?;
     progress.stage("computing");
     let rec = series.record.to_phase();
-    let n = rec.len();
-    let ms = match &args.taus {
-        Some(g) => TauGrid::parse(g)?.ms(rec.tau0, n.saturating_sub(1))?,
-        None => default_ms(n, rec.tau0)?,
+    let opts = Options {
+        grid: args.taus.as_deref().map(TauGrid::parse).transpose()?,
+        range: args.tau_range.as_deref().map(parse_tau_range).transpose()?,
+        remove_offset: args.remove_offset,
     };
-    let res = analyse(&rec, &ms, args.remove_offset, &masks)?;
+    let res = analyse(&rec, &opts, &masks)?;
     if let Some(path) = &args.plot {
         let plots = tauwise::plot::wander::plots_from_result(
             &res,
@@ -92,59 +103,39 @@ pub fn run(args: Args) -> Result<Outcome> {
         Format::Table => to_table(&series, &res),
     };
     emit(&args.output, &text)?;
-    let failed = res.checks.iter().any(|c| c.verdict == Verdict::Fail);
-    Ok(if failed && args.fail_on_violation {
-        Outcome::VerdictFailed
-    } else {
-        Outcome::Done
-    })
+    Ok(Outcome::of_gate(
+        gate(res.checks.iter().map(|c| &c.judgement)),
+        args.fail_on_violation,
+    ))
 }
 
-fn opt(v: Option<f64>) -> Value {
-    v.map(num).unwrap_or(Value::Null)
-}
-
-fn check_json(c: &MaskCheck) -> Value {
-    json!({
-        "name": c.name,
-        "source_note": c.source_note,
-        "metric": c.metric.name(),
-        "verdict": c.verdict.name(),
-        "worst_ratio": opt(c.worst_ratio),
-        "worst_margin_db": opt(c.worst_margin_db),
-        "worst_tau": opt(c.worst_tau),
-        "crossing_tau": opt(c.crossing_tau),
-        "checked": c.checked,
-        "checked_range": c.checked_range.map(|(a, b)| json!([num(a), num(b)])).unwrap_or(Value::Null),
-        "violations": c.violations.iter().map(|v| json!({
-            "tau": num(v.tau), "value": num(v.value), "limit": num(v.limit), "ratio": num(v.ratio)
-        })).collect::<Vec<_>>(),
-    })
+/// `FROM:TO`, two durations with their units (`1s:3h`).
+pub fn parse_tau_range(text: &str) -> Result<(f64, f64)> {
+    let (a, b) = text.split_once(':').ok_or_else(|| {
+        Error::invalid(format!(
+            "--tau-range {text}: expected FROM:TO with units, e.g. 1s:3h"
+        ))
+    })?;
+    let d = |v: &str| {
+        tauwise::units::parse_duration_with_unit(v)
+            .map_err(|e| Error::invalid(format!("--tau-range {text}: {e}")))
+    };
+    let (a, b) = (d(a)?, d(b)?);
+    if !(a > 0.0 && b >= a) {
+        return Err(Error::invalid(format!(
+            "--tau-range {text}: expected 0 < FROM ≤ TO"
+        )));
+    }
+    Ok((a, b))
 }
 
 fn to_json(series: &Series, r: &WanderResult) -> Value {
     let mut m = header_json(series);
-    m.insert(
-        "tie".into(),
-        json!({
-            "max_abs": num(r.tie.max_abs),
-            "pk_pk": num(r.tie.pk_pk),
-            "rms": num(r.tie.rms),
-            "offset_removed": opt(r.tie.offset_removed),
-            "points": r.tie.points,
-        }),
-    );
-    let curve = |e: &[tauwise::deviation::Estimate]| -> Value {
-        e.iter()
-            .map(|p| json!({"tau": num(p.tau), "value": num(p.value), "terms": p.terms}))
-            .collect()
-    };
-    m.insert("mtie".into(), curve(&r.mtie));
-    m.insert("tdev".into(), curve(&r.tdev));
-    m.insert(
-        "masks".into(),
-        r.checks.iter().map(check_json).collect::<Vec<_>>().into(),
-    );
+    if let Ok(Value::Object(body)) = serde_json::to_value(r) {
+        for (k, v) in body {
+            m.insert(if k == "checks" { "masks".into() } else { k }, v);
+        }
+    }
     if !r.checks.is_empty() {
         m.insert(
             "caution".into(),
@@ -211,27 +202,63 @@ fn to_table(series: &Series, r: &WanderResult) -> String {
             "\nmask {} ({}): {}",
             c.name,
             c.metric.name().to_uppercase(),
-            c.verdict.name().to_uppercase()
+            c.judgement.cell()
         );
         let _ = writeln!(s, "  {}", c.source_note);
-        if let (Some(ratio), Some(db), Some(t)) = (c.worst_ratio, c.worst_margin_db, c.worst_tau) {
+        if let (Some(ratio), Some(t)) = (c.worst_ratio, c.worst_tau) {
             let _ = writeln!(
                 s,
-                "  worst: {:.3} of the limit ({:+.2} dB margin) at τ = {}",
+                "  worst: {:.3} of the limit ({} margin) at τ = {}",
                 ratio,
-                db,
+                c.worst_margin_db
+                    .map(format_margin_db)
+                    .unwrap_or_else(|| "unlimited".into()),
                 si(t)
             );
         }
-        if let Some((a, b)) = c.checked_range {
-            let _ = writeln!(s, "  checked {} τ from {} to {}", c.checked, si(a), si(b));
+        let mask_to = c
+            .mask_range
+            .to
+            .map(si)
+            .unwrap_or_else(|| "no upper end".into());
+        match (&c.checked_range, c.judgement.verdict) {
+            (Some(r), v) if v != Verdict::NotJudged => {
+                let _ = writeln!(
+                    s,
+                    "  checked {} τ from {} to {} (the mask: {} to {}); coverage {}",
+                    c.checked,
+                    si(r.from),
+                    si(r.to.unwrap_or(r.from)),
+                    si(c.mask_range.from),
+                    mask_to,
+                    c.judgement.coverage.name()
+                );
+            }
+            _ => {}
+        }
+        if let Some(why) = &c.judgement.reason {
+            let lead = if c.judgement.verdict == Verdict::NotJudged {
+                "not judged: "
+            } else {
+                ""
+            };
+            let _ = writeln!(s, "  {lead}{why}");
         }
         if !c.violations.is_empty() {
             if let Some(t) = c.crossing_tau {
                 let _ = writeln!(s, "  first exceeds the limit near τ = {}", si(t));
             }
             let list: Vec<String> = c.violations.iter().map(|v| si(v.tau)).collect();
-            let _ = writeln!(s, "  violations at τ = {}", list.join(", "));
+            let shown = if list.len() > 8 {
+                format!(
+                    "{}, … {}",
+                    list[..3].join(", "),
+                    list[list.len() - 3..].join(", ")
+                )
+            } else {
+                list.join(", ")
+            };
+            let _ = writeln!(s, "  {} violating τ: {shown}", c.violations.len());
         }
     }
     if !r.checks.is_empty() {

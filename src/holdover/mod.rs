@@ -31,6 +31,7 @@ use crate::error::{Error, Result};
 use crate::model::fit::ModelFit;
 use crate::model::PowerLaw;
 use crate::record::{PhaseRecord, Record};
+use crate::verdict::{Coverage, Judgement};
 use aging::{Aging, AgingModel};
 use paths::NoisePaths;
 use rand::{Rng, SeedableRng};
@@ -128,9 +129,9 @@ impl Settings {
                 self.budget
             )));
         }
-        if self.paths < 100 {
+        if self.paths < 2 {
             return Err(Error::invalid(format!(
-                "holdover needs at least 100 Monte Carlo paths for its percentiles, got {}",
+                "holdover needs at least 2 Monte Carlo paths for its percentiles (and {MIN_PATHS_FOR_VERDICT} for a verdict), got {}",
                 self.paths
             )));
         }
@@ -138,6 +139,24 @@ impl Settings {
             return Err(Error::invalid(format!(
                 "holdover needs at least 16 simulation steps, got {}",
                 self.steps
+            )));
+        }
+        if self.steps > MAX_STEPS {
+            return Err(Error::invalid(format!(
+                "holdover with {} simulation steps would need about {} of memory for each path's noise synthesis (FFT of 2 × steps complex values, 32 bytes a step, per thread), more than tauwise allows: use at most {MAX_STEPS} steps",
+                self.steps,
+                crate::units::format_bytes(self.steps as u128 * 32)
+            )));
+        }
+        // The table of simulated time errors is paths × steps values.
+        let bytes = (self.paths as u128) * (self.steps as u128) * 8;
+        if bytes > MAX_TABLE_BYTES as u128 {
+            return Err(Error::invalid(format!(
+                "holdover with {} paths of {} steps would need {} of memory for the simulated time errors (paths × steps × 8 bytes), more than the {} allowed: use fewer paths or steps",
+                self.paths,
+                self.steps,
+                crate::units::format_bytes(bytes),
+                crate::units::format_bytes(MAX_TABLE_BYTES as u128)
             )));
         }
         Ok(())
@@ -161,25 +180,18 @@ pub struct TePoint {
     pub rms: f64,
 }
 
-/// Pass when p95 of |TE| stays within the budget over the whole span.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
-#[serde(rename_all = "lowercase")]
-pub enum Verdict {
-    /// p95 ≤ budget throughout the span.
-    Pass,
-    /// p95 exceeds the budget within the span.
-    Fail,
-}
+/// At least this many Monte Carlo paths for a verdict: with fewer, the p95
+/// of |TE| is too poorly determined to judge against a budget (the
+/// prediction is still made and shown, the verdict is `not-judged`).
+pub const MIN_PATHS_FOR_VERDICT: usize = 100;
 
-impl Verdict {
-    /// `pass` or `fail`.
-    pub fn name(self) -> &'static str {
-        match self {
-            Verdict::Pass => "pass",
-            Verdict::Fail => "fail",
-        }
-    }
-}
+/// Most simulation steps over a span: each path is synthesised by FFT over
+/// the whole span (about 32 bytes of working memory a step, per thread).
+pub const MAX_STEPS: usize = 1 << 22;
+
+/// Largest table of simulated time errors (paths × steps, 8 bytes each)
+/// a prediction may hold in memory: 4 GB.
+pub const MAX_TABLE_BYTES: u64 = 4_000_000_000;
 
 /// The prediction.
 #[derive(Debug, Clone, PartialEq)]
@@ -189,8 +201,11 @@ pub struct Prediction {
     /// First t at which p95 of |TE| exceeds the budget (linear interpolation
     /// between simulation steps); `None` when it never does within the span.
     pub holds_for: Option<f64>,
-    /// The verdict for the span.
-    pub verdict: Verdict,
+    /// The verdict for the span (shared vocabulary): `meets` when p95 of
+    /// |TE| stays within the budget through the span, `exceeds` when it
+    /// does not, `not-judged` (with the reason) when the prediction is not
+    /// finite somewhere in the span or has too few paths.
+    pub judgement: Judgement,
     /// Simulation step, s.
     pub step: f64,
     /// Paths simulated.
@@ -288,7 +303,7 @@ pub fn predict(model: &HoldoverModel, settings: &Settings) -> Result<Prediction>
         ks.push(n);
     }
     let mut buf = Vec::with_capacity(np);
-    let points = ks
+    let points: Vec<TePoint> = ks
         .iter()
         .map(|&k| {
             let t = k as f64 * step;
@@ -304,17 +319,54 @@ pub fn predict(model: &HoldoverModel, settings: &Settings) -> Result<Prediction>
             }
         })
         .collect();
+    let judgement = judge(model, &points, &p95, step, np, budget, holds_for);
     Ok(Prediction {
         te: points,
-        verdict: if holds_for.is_some() {
-            Verdict::Fail
-        } else {
-            Verdict::Pass
-        },
+        judgement,
         holds_for,
         step,
         paths: np,
     })
+}
+
+/// The verdict of a prediction (see [`Prediction::judgement`]): anything
+/// non-finite in the time error that feeds it (te0, p95 at any step, the
+/// output points) makes it `not-judged`, naming the first such value.
+fn judge(
+    model: &HoldoverModel,
+    points: &[TePoint],
+    p95: &[f64],
+    step: f64,
+    paths: usize,
+    budget: f64,
+    holds_for: Option<f64>,
+) -> Judgement {
+    if !model.te0.is_finite() {
+        return Judgement::not_judged("the time error at the start, te0, is not finite");
+    }
+    let p95_steps = p95
+        .iter()
+        .enumerate()
+        .map(|(i, &v)| ("p95 of |TE|", v, (i + 1) as f64 * step));
+    let others = points.iter().flat_map(|p| {
+        [
+            ("the deterministic TE", p.deterministic, p.t),
+            ("p50 of |TE|", p.p50, p.t),
+            ("p99 of |TE|", p.p99, p.t),
+        ]
+    });
+    if let Some(why) = crate::verdict::first_non_finite(p95_steps.chain(others), "s") {
+        return Judgement::not_judged(format!(
+            "{why}; the prediction cannot be judged against the budget (check the span, the model and the temperature term)"
+        ));
+    }
+    if paths < MIN_PATHS_FOR_VERDICT {
+        return Judgement::not_judged(format!(
+            "{paths} Monte Carlo paths are too few for a p95 verdict (at least {MIN_PATHS_FOR_VERDICT})"
+        ));
+    }
+    let _ = budget;
+    Judgement::judged(holds_for.is_some(), Coverage::Full)
 }
 
 /// How the deterministic part is obtained from a record.
@@ -362,6 +414,14 @@ impl Default for FromRecord {
 ///    measure of how far a W-average can be from the next one, common
 ///    practice) + (σ_param · ∂y_a/∂param · carry)².
 pub fn model_from_record(rec: &Record, opts: &FromRecord) -> Result<HoldoverModel> {
+    // A worst-case temperature offset is a fractional frequency: one of 1
+    // or more (or not finite) is not a clock's, and would only overflow.
+    if !(opts.temp_worst.is_finite() && opts.temp_worst.abs() < 1.0) {
+        return Err(Error::invalid(format!(
+            "the worst-case temperature frequency offset |c_T·ΔT| = {:e} is not a fractional frequency of a clock (expected well below 1, e.g. 1e-11/K × 5K = 5e-11)",
+            opts.temp_worst
+        )));
+    }
     let mut y = rec.to_frequency();
     let tau0 = y.tau0;
     if let Some(s) = opts.start {

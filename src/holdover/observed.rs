@@ -55,7 +55,8 @@ impl Observed {
 /// gap.
 ///
 /// ```
-/// use tauwise::holdover::{observed::observe, HoldoverModel, Prediction, TePoint, Verdict};
+/// use tauwise::holdover::{observed::observe, HoldoverModel, Prediction, TePoint};
+/// use tauwise::verdict::{Coverage, Judgement};
 /// use tauwise::holdover::aging::Aging;
 /// use tauwise::{PhaseRecord, Record};
 /// use tauwise::model::PowerLaw;
@@ -67,7 +68,7 @@ impl Observed {
 ///     temp_worst: 0.0, noise: PowerLaw::zero(0.5) };
 /// let pred = Prediction { te: vec![TePoint { t: 50.0, deterministic: 5e-8,
 ///     p50: 5e-8, p95: 6e-8, p99: 7e-8, rms: 5e-8 }], holds_for: None,
-///     verdict: Verdict::Pass, step: 1.0, paths: 100 };
+///     judgement: Judgement::judged(false, Coverage::Full), step: 1.0, paths: 100 };
 /// let o = observe(&rec, &model, &pred, 80.0, 3.05e-8).unwrap();
 /// assert!((o.points[0].te - 5e-8).abs() < 1e-20);
 /// assert_eq!(o.inside(), 1);

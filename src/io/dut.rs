@@ -13,7 +13,7 @@ use crate::io::ReadError;
 use crate::record::DataKind;
 use crate::units::{self, ValueUnit};
 use serde::Deserialize;
-use std::path::{Component, Path, PathBuf};
+use std::path::{Path, PathBuf};
 use toml::Spanned;
 
 // ---------------------------------------------------------------- raw schema
@@ -85,6 +85,8 @@ struct RawWander {
     mask_files: Vec<Spanned<String>>,
     source: Option<Spanned<String>>,
     remove_offset: Option<bool>,
+    taus: Option<Spanned<String>>,
+    tau_range: Option<Spanned<Vec<Spanned<toml::Value>>>>,
 }
 
 #[derive(Debug, Deserialize)]
@@ -208,8 +210,8 @@ pub struct JitterSpec {
     pub filters: Vec<WeightingFilter>,
     /// A filter table (|H(f)|² in dB against f), resolved path.
     pub filter_file: Option<PathBuf>,
-    /// rms time-jitter limit (s).
-    pub limit: Option<f64>,
+    /// rms jitter limit, with its unit (time, phase or UI).
+    pub limit: Option<crate::spectrum::jitter::JitterLimit>,
     /// Unit-interval rate (Hz) for jitter in UI.
     pub ui_rate: Option<f64>,
     /// Name of the phase-noise table to use (None: the first).
@@ -228,6 +230,11 @@ pub struct WanderSpec {
     pub source: Option<String>,
     /// Remove a constant frequency offset before the analysis.
     pub remove_offset: bool,
+    /// τ grid (`taus = "log:20"`); None: the wander default over the whole
+    /// record.
+    pub taus: Option<crate::tau::TauGrid>,
+    /// Only τ in this range (s): `tau_range = ["1s", "3h"]`.
+    pub tau_range: Option<(f64, f64)>,
 }
 
 /// The holdover question.
@@ -276,56 +283,35 @@ impl Ctx<'_> {
             format!("{key}: {what}"),
         ))
     }
-    /// Resolve a path relative to the DUT file and check it is a file.
+    /// Join a path to the DUT file's directory and check, through the
+    /// operating system, that it names a regular file. The path is not
+    /// folded as text: `link/../rec.txt` is what the OS makes of it (with
+    /// `link` a symbolic link, the parent of its target), exactly as every
+    /// command that opens the same path reads it.
     fn file_path(&self, p: &Spanned<String>, key: &str) -> Result<PathBuf, ReadError> {
         let raw = Path::new(p.get_ref());
         if p.get_ref().trim().is_empty() {
             return self.err(p.span(), key, "expected a file path, got an empty string");
         }
-        let resolved = normalize(&self.dir.join(raw));
-        match std::fs::metadata(&resolved) {
-            Ok(m) if m.is_file() => Ok(resolved),
+        let joined = self.dir.join(raw);
+        match std::fs::metadata(&joined) {
+            Ok(m) if m.is_file() => Ok(joined),
             Ok(_) => self.err(
                 p.span(),
                 key,
-                format!("{} is not a regular file", resolved.display()),
+                format!("{} is not a regular file", joined.display()),
             ),
             Err(e) => self.err(
                 p.span(),
                 key,
                 format!(
                     "cannot open {} (given as '{}'): {e}",
-                    resolved.display(),
+                    joined.display(),
                     p.get_ref()
                 ),
             ),
         }
     }
-}
-
-/// Lexical normalisation: drop `.`, fold `a/..` (without touching the file
-/// system, so the message shows the path that was looked for).
-pub fn normalize(p: &Path) -> PathBuf {
-    let mut out = PathBuf::new();
-    for c in p.components() {
-        match c {
-            Component::CurDir => {}
-            Component::ParentDir => {
-                let last_normal =
-                    matches!(out.components().next_back(), Some(Component::Normal(_)));
-                if last_normal {
-                    out.pop();
-                } else if !matches!(out.components().next_back(), Some(Component::RootDir)) {
-                    out.push("..");
-                }
-            }
-            other => out.push(other.as_os_str()),
-        }
-    }
-    if out.as_os_str().is_empty() {
-        out.push(".");
-    }
-    out
 }
 
 fn value_text(v: &toml::Value) -> Option<String> {
@@ -380,6 +366,46 @@ impl Ctx<'_> {
             );
         };
         let d = duration_with_fs(&text).or_else(|e| self.err(v.span(), key, e))?;
+        if positive && d <= 0.0 {
+            return self.err(
+                v.span(),
+                key,
+                format!("expected a positive duration, got '{text}'"),
+            );
+        }
+        Ok(d)
+    }
+    /// A duration that decides a verdict (budget, span, te0, τ range): a
+    /// string with its unit; a bare number (TOML or text) is refused with
+    /// "give a unit".
+    fn duration_with_unit(
+        &self,
+        v: &Spanned<toml::Value>,
+        key: &str,
+        positive: bool,
+    ) -> Result<f64, ReadError> {
+        let text = match v.get_ref() {
+            toml::Value::String(s) => s.clone(),
+            toml::Value::Integer(_) | toml::Value::Float(_) => {
+                let t = value_text(v.get_ref()).unwrap_or_default();
+                return self.err(
+                    v.span(),
+                    key,
+                    format!("'{t}' has no unit: give a unit, e.g. \"1.5us\" / \"24h\" (a bare number is refused where it decides a verdict)"),
+                );
+            }
+            other => {
+                return self.err(
+                    v.span(),
+                    key,
+                    format!(
+                        "expected a duration with its unit such as \"1.5us\" or \"24h\", got {}",
+                        type_name(other)
+                    ),
+                )
+            }
+        };
+        let d = units::parse_duration_with_unit(&text).or_else(|e| self.err(v.span(), key, e))?;
         if positive && d <= 0.0 {
             return self.err(
                 v.span(),
@@ -713,7 +739,22 @@ impl Dut {
                 None => None,
             };
             let limit = match &j.limit {
-                Some(l) => Some(cx.duration(l, &k("limit"), true)?),
+                Some(l) => match l.get_ref() {
+                    toml::Value::String(t) => Some(
+                        crate::spectrum::jitter::JitterLimit::parse(t)
+                            .or_else(|e| cx.err(l.span(), &k("limit"), e))?,
+                    ),
+                    other => {
+                        return cx.err(
+                            l.span(),
+                            &k("limit"),
+                            format!(
+                                "'{}' has no unit: give a unit, e.g. \"1ps\" / \"10mrad\" / \"0.01UI\" (a bare number is refused where it decides a verdict)",
+                                value_text(other).unwrap_or_else(|| type_name(other).into())
+                            ),
+                        )
+                    }
+                },
                 None => None,
             };
             let ui_rate = match &j.ui_rate {
@@ -797,7 +838,42 @@ impl Dut {
                         );
                     }
                 }
+                let taus = match &w.taus {
+                    Some(g) => Some(
+                        crate::tau::TauGrid::parse(g.get_ref())
+                            .or_else(|e| cx.err(g.span(), "wander.taus", e))?,
+                    ),
+                    None => None,
+                };
+                let tau_range = match &w.tau_range {
+                    None => None,
+                    Some(r) => {
+                        let v = r.get_ref();
+                        if v.len() != 2 {
+                            return cx.err(
+                                r.span(),
+                                "wander.tau_range",
+                                format!(
+                                    "expected two durations with units, e.g. [\"1s\", \"3h\"], got {} value(s)",
+                                    v.len()
+                                ),
+                            );
+                        }
+                        let a = cx.duration_with_unit(&v[0], "wander.tau_range[1]", true)?;
+                        let b = cx.duration_with_unit(&v[1], "wander.tau_range[2]", true)?;
+                        if b < a {
+                            return cx.err(
+                                r.span(),
+                                "wander.tau_range",
+                                "expected FROM ≤ TO, e.g. [\"1s\", \"3h\"]",
+                            );
+                        }
+                        Some((a, b))
+                    }
+                };
                 Some(WanderSpec {
+                    taus,
+                    tau_range,
                     masks: w
                         .masks
                         .iter()
@@ -820,7 +896,7 @@ impl Dut {
                         "needs a [[record]] to predict from",
                     );
                 }
-                let budget = cx.duration(&h.budget, "holdover.budget", true)?;
+                let budget = cx.duration_with_unit(&h.budget, "holdover.budget", true)?;
                 if h.spans.get_ref().is_empty() {
                     return cx.err(
                         h.spans.span(),
@@ -830,7 +906,11 @@ impl Dut {
                 }
                 let mut spans = Vec::new();
                 for (i, s) in h.spans.get_ref().iter().enumerate() {
-                    spans.push(cx.duration(s, &format!("holdover.spans[{}]", i + 1), true)?);
+                    spans.push(cx.duration_with_unit(
+                        s,
+                        &format!("holdover.spans[{}]", i + 1),
+                        true,
+                    )?);
                 }
                 let record = match &h.record {
                     Some(s) => {
@@ -849,6 +929,13 @@ impl Dut {
                 let aging = match &h.aging {
                     None => None,
                     Some(a) => match value_text(a.get_ref()) {
+                        Some(t) if !t.contains('/') => {
+                            return cx.err(
+                                a.span(),
+                                "holdover.aging",
+                                format!("'{t}' has no unit: give a unit, e.g. \"5e-11/day\" (a bare number is refused where it decides a verdict)"),
+                            )
+                        }
                         Some(t) => Some(
                             parse_aging(&t).or_else(|e| cx.err(a.span(), "holdover.aging", e))?,
                         ),
@@ -865,11 +952,11 @@ impl Dut {
                     },
                 };
                 let te0 = match &h.te0 {
-                    Some(t) => Some(cx.duration(t, "holdover.te0", false)?),
+                    Some(t) => Some(cx.duration_with_unit(t, "holdover.te0", false)?),
                     None => None,
                 };
                 let settle = match &h.settle {
-                    Some(t) => Some(cx.duration(t, "holdover.settle", true)?),
+                    Some(t) => Some(cx.duration_with_unit(t, "holdover.settle", true)?),
                     None => None,
                 };
                 let paths = match &h.paths {
@@ -954,16 +1041,6 @@ fn key_at(src: &str, offset: usize) -> Option<String> {
 #[cfg(test)]
 mod tests {
     use super::*;
-
-    #[test]
-    fn normalize_folds_parent_dirs() {
-        assert_eq!(
-            normalize(Path::new("/a/b/../c/./d.csv")),
-            PathBuf::from("/a/c/d.csv")
-        );
-        assert_eq!(normalize(Path::new("a/../../x")), PathBuf::from("../x"));
-        assert_eq!(normalize(Path::new("/../x")), PathBuf::from("/x"));
-    }
 
     #[test]
     fn filters_and_aging() {

@@ -10,6 +10,7 @@ pub mod series;
 pub mod text;
 pub mod write;
 
+pub use write::remove_pending_temp_files;
 pub use write::write_atomic;
 pub use write::write_atomic_with;
 

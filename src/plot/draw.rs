@@ -417,7 +417,34 @@ pub(crate) fn draw<DB: DrawingBackend>(chart: &Chart, backend: DB) -> Result<()>
             (a.min(b), a.max(b))
         })
         .collect();
-    let rows = strip_rows(&span_px);
+    // Each strip mark takes its span; a label wider than its span is written
+    // beside the mark (right, or left at the plot's right edge) and the
+    // mark's extent includes it: marks are stacked in rows by these
+    // extents, so no label is cut.
+    let to_px = |a: f64| x0 + (a - xa.lo) / (xa.hi - xa.lo) * (x1 - x0);
+    // (x, horizontal anchor) of each label, and each mark's extent.
+    let mut label_at: Vec<(f64, HPos)> = Vec::with_capacity(chart.spans.len());
+    let mut extents: Vec<(f64, f64)> = Vec::with_capacity(chart.spans.len());
+    for (sp, &(a, b)) in chart.spans.iter().zip(&span_px) {
+        let (pa, pb) = (to_px(a), to_px(b));
+        let lw = if sp.label.is_empty() {
+            0.0
+        } else {
+            measure(&root, &sp.label, f_strip)?.0
+        };
+        let gap = 4.0 * s;
+        if lw + 2.0 * gap <= pb - pa {
+            label_at.push((0.5 * (pa + pb), HPos::Center));
+            extents.push((pa, pb));
+        } else if pb + gap + lw <= x1 || pa - gap - lw < x0 {
+            label_at.push((pb + gap, HPos::Left));
+            extents.push((pa, pb + 2.0 * gap + lw));
+        } else {
+            label_at.push((pa - gap, HPos::Right));
+            extents.push((pa - 2.0 * gap - lw, pb));
+        }
+    }
+    let rows = strip_rows(&extents);
     let n_rows = if chart.spans.is_empty() {
         0
     } else {
@@ -508,15 +535,19 @@ pub(crate) fn draw<DB: DrawingBackend>(chart: &Chart, backend: DB) -> Result<()>
             ))
             .map_err(fail)?;
         }
-        let label = fit(&root, &sp.label, f_strip, pb - pa - 4.0 * s)?;
+        // The label sits inside its mark, or beside it when wider (its row
+        // leaves room: see the strip layout); only a label wider than the
+        // whole plot is shortened.
+        let label = fit(&root, &sp.label, f_strip, r.x1 - r.x0 - 4.0 * s)?;
         if label != "…" {
+            let (lx, anchor) = label_at[i];
             draw_text(
                 &root,
                 &label,
-                ((pa + pb) / 2.0, (top + bot) / 2.0),
+                (lx, (top + bot) / 2.0),
                 f_strip,
                 style::INK,
-                Pos::new(HPos::Center, VPos::Center),
+                Pos::new(anchor, VPos::Center),
             )?;
         }
         if sp.shade {

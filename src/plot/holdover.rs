@@ -179,41 +179,41 @@ impl HoldoverPlot {
             });
         }
         if let Some(b) = self.budget {
-            // Show the budget when the time error comes within a fifth of
-            // it; far below, draw the data at a readable scale and say so.
+            // The budget is always drawn, both +budget and −budget (TE can
+            // leave it on either side): the y range always reaches them, so
+            // a prediction far inside the budget shows as far inside it.
+            ch.rules.push(Rule {
+                label: format!("budget ±{}", crate::units::format_si(b, "s", 3)),
+                orientation: Orientation::Horizontal,
+                value: b,
+                colour: Colour::Alarm,
+                line: Line::Dashed,
+                extend_range: true,
+            });
+            ch.rules.push(Rule {
+                label: String::new(),
+                orientation: Orientation::Horizontal,
+                value: -b,
+                colour: Colour::Alarm,
+                line: Line::Dashed,
+                extend_range: true,
+            });
+            // A little room beyond ±budget, so the lines never sit on the frame.
+            ch.y.range = None;
             let top = self
                 .p99
                 .iter()
                 .chain(&self.p95)
                 .chain(&self.deterministic)
-                .fold(0.0f64, |m, v| m.max(v.abs()));
-            let near = top >= 0.2 * b;
-            let label = if near {
-                format!("budget ±{}", crate::units::format_si(b, "s", 3))
-            } else {
-                format!(
-                    "budget ±{} (above the plotted range)",
-                    crate::units::format_si(b, "s", 3)
-                )
-            };
-            ch.rules.push(Rule {
-                label,
-                orientation: Orientation::Horizontal,
-                value: b,
-                colour: Colour::Alarm,
-                line: Line::Dashed,
-                extend_range: near,
-            });
-            if self.deterministic.iter().any(|v| *v < -0.2 * b) {
-                ch.rules.push(Rule {
-                    label: String::new(),
-                    orientation: Orientation::Horizontal,
-                    value: -b,
-                    colour: Colour::Alarm,
-                    line: Line::Dashed,
-                    extend_range: true,
-                });
-            }
+                .chain(self.observed.iter().map(|o| &o.1))
+                .filter(|v| v.is_finite())
+                .fold(b, |m, v| m.max(v.abs()));
+            let bottom = self
+                .deterministic
+                .iter()
+                .filter(|v| v.is_finite())
+                .fold(-b, |m, &v| m.min(v));
+            ch.y.range = Some((bottom - 0.08 * top, top * 1.08));
         }
         if let Some(h) = self.holds_for {
             ch.rules.push(Rule {
@@ -263,6 +263,15 @@ mod tests {
             .iter()
             .any(|r| r.orientation == Orientation::Vertical && (r.value - 13.5).abs() < 1e-12));
         assert!(ch.subtitle.contains("13.5 h"), "{}", ch.subtitle);
+        // +budget and −budget are always drawn, inside the y range.
+        let (lo, hi) = ch.y.range.unwrap();
+        for v in [1.5e-6, -1.5e-6] {
+            assert!(ch
+                .rules
+                .iter()
+                .any(|r| r.orientation == Orientation::Horizontal && r.value == v));
+            assert!(lo < v && v < hi, "{v} outside {lo} … {hi}");
+        }
         assert_eq!(time_unit(600.0), ("min", 60.0));
         assert!(!ch.series.iter().any(|s| s.name.contains("observed")));
         // The record after the start: one more line, in hours.

@@ -97,15 +97,22 @@ impl Html {
                     Cell::Num(t) => {
                         let _ = write!(self.buf, "<td class=\"num\">{}</td>", escape(t));
                     }
-                    Cell::Verdict(v) => {
-                        let (class, word) = match v {
-                            Some(true) => ("pass", "meets"),
-                            Some(false) => ("fail", "exceeds"),
-                            None => ("none", "not judged"),
+                    Cell::Verdict(j) => {
+                        use crate::verdict::{Coverage, Verdict};
+                        let (class, word) = match j.verdict {
+                            Verdict::Meets => ("pass", "meets"),
+                            Verdict::Exceeds => ("fail", "exceeds"),
+                            Verdict::NotJudged => ("none", "not judged"),
                         };
+                        let partial =
+                            if j.verdict != Verdict::NotJudged && j.coverage == Coverage::Partial {
+                                " <span class=\"partial\">partial coverage</span>"
+                            } else {
+                                ""
+                            };
                         let _ = write!(
                             self.buf,
-                            "<td><span class=\"badge {class}\">{word}</span></td>"
+                            "<td><span class=\"badge {class}\">{word}</span>{partial}</td>"
                         );
                     }
                     Cell::Code(t) => {
@@ -172,8 +179,9 @@ pub enum Cell {
     Text(String),
     /// A number (right-aligned, tabular figures).
     Num(String),
-    /// A verdict badge: meets / exceeds / not judged.
-    Verdict(Option<bool>),
+    /// A verdict badge: meets / exceeds / not judged, with "partial
+    /// coverage" beside a judged verdict that covered part of its range.
+    Verdict(crate::verdict::Judgement),
     /// Monospace text (hashes, model strings).
     Code(String),
 }
@@ -212,6 +220,7 @@ td.num { text-align: right; font-variant-numeric: tabular-nums; white-space: now
 code { font-family: "DejaVu Sans Mono", Menlo, Consolas, monospace; font-size: 12px; word-break: break-all; }
 .badge { display:inline-block; padding: 0 8px; border-radius: 9px; font-size: 12px; font-weight: 600; color: #fff; }
 .badge.pass { background: var(--pass); } .badge.fail { background: var(--fail); } .badge.none { background: var(--none); }
+span.partial { font-size: 12px; font-style: italic; color: var(--none); white-space: nowrap; }
 figure { margin: 10px 0 16px; }
 figure svg { max-width: 100%; height: auto; border: 1px solid var(--rule); }
 figcaption { font-size: 12px; color: var(--soft); }

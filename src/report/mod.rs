@@ -50,17 +50,18 @@ impl VerdictKind {
 
 /// One line of the verdict summary.
 #[derive(Debug, Clone, PartialEq)]
-pub struct Verdict {
+pub struct VerdictLine {
     /// Mask, jitter or holdover.
     pub kind: VerdictKind,
     /// What was judged (mask name, band, span).
     pub item: String,
-    /// The criterion (limit, budget).
+    /// The criterion (limit, budget), with the range it was checked over.
     pub criterion: String,
-    /// The result in words (worst margin, rms jitter, p95 TE).
+    /// The result in words (worst margin, rms jitter, p95 TE; why it was
+    /// not judged; what a partial check did not cover).
     pub result: String,
-    /// Meets (true), exceeds (false) or not judged (None).
-    pub pass: Option<bool>,
+    /// The shared verdict: meets, exceeds or not judged, with coverage.
+    pub judgement: crate::verdict::Judgement,
 }
 
 /// One row of the stability table.
@@ -157,18 +158,16 @@ pub struct JitterRow {
     pub rms_s: f64,
     /// rms in unit intervals, when a rate is given.
     pub rms_ui: Option<f64>,
-    /// Limit (s).
-    pub limit: Option<f64>,
+    /// The limit, in words with its unit (`1 ps rms`), when one is given.
+    pub limit: Option<String>,
+    /// The verdict against the limit (None without a limit).
+    pub judgement: Option<crate::verdict::Judgement>,
 }
 
 impl JitterRow {
     /// rms phase in degrees.
     pub fn rms_deg(&self) -> f64 {
         self.rms_rad.to_degrees()
-    }
-    /// Meets the limit (None without a limit).
-    pub fn pass(&self) -> Option<bool> {
-        self.limit.map(|l| self.rms_s <= l)
     }
 }
 
@@ -237,12 +236,16 @@ pub struct MaskRow {
     pub name: String,
     /// MTIE or TDEV.
     pub metric: String,
-    /// Meets the mask.
-    pub pass: bool,
-    /// Worst measured/limit ratio.
-    pub worst_ratio: f64,
+    /// The verdict, with the coverage of the mask's τ range.
+    pub judgement: crate::verdict::Judgement,
+    /// Worst measured/limit ratio (None when not judged).
+    pub worst_ratio: Option<f64>,
     /// τ of the worst ratio (s).
-    pub worst_tau: f64,
+    pub worst_tau: Option<f64>,
+    /// Lowest and highest τ checked (s).
+    pub checked: Option<(f64, f64)>,
+    /// The mask's own τ range (s; `None` upper end: no upper end).
+    pub mask_range: (f64, Option<f64>),
     /// Number of violating τ.
     pub violations: usize,
     /// Where the mask values come from.
@@ -286,8 +289,8 @@ pub struct SpanRow {
     pub p95: f64,
     /// p99 of |TE| at the span end (s).
     pub p99: f64,
-    /// p95 within the budget.
-    pub pass: bool,
+    /// The verdict: p95 within the budget through the span, or not judged.
+    pub judgement: crate::verdict::Judgement,
 }
 
 /// Holdover.
@@ -359,7 +362,7 @@ pub struct Report {
     /// When it was made (UTC, text).
     pub generated: String,
     /// Verdict summary.
-    pub verdicts: Vec<Verdict>,
+    pub verdicts: Vec<VerdictLine>,
     /// Frequency stability.
     pub stability: Part<StabilitySection>,
     /// Noise model.

@@ -13,6 +13,15 @@ fn tau(v: f64) -> String {
 fn secs(v: f64) -> String {
     format_si(v, "s", 4)
 }
+/// Seconds, or a dash for a value that is not finite (its verdict is then
+/// not judged and says why).
+fn finite_secs(v: f64) -> String {
+    if v.is_finite() {
+        secs(v)
+    } else {
+        "—".into()
+    }
+}
 fn hz(v: f64) -> String {
     format_si(v, "Hz", 4)
 }
@@ -44,14 +53,38 @@ fn verdicts(h: &mut Html, r: &Report) {
             "No verdict was asked for: the input names no jitter limit, wander mask or holdover budget.",
         );
     } else {
-        let pass = r.verdicts.iter().filter(|v| v.pass == Some(true)).count();
-        let fail = r.verdicts.iter().filter(|v| v.pass == Some(false)).count();
-        let none = r.verdicts.len() - pass - fail;
+        use crate::verdict::{Coverage, Verdict};
+        let count = |v: Verdict| {
+            r.verdicts
+                .iter()
+                .filter(|l| l.judgement.verdict == v)
+                .count()
+        };
+        let (pass, fail, none) = (
+            count(Verdict::Meets),
+            count(Verdict::Exceeds),
+            count(Verdict::NotJudged),
+        );
+        let partial = r
+            .verdicts
+            .iter()
+            .filter(|l| {
+                l.judgement.verdict != Verdict::NotJudged
+                    && l.judgement.coverage == Coverage::Partial
+            })
+            .count();
         h.p(&format!(
-            "{} check(s): {pass} meet, {fail} exceed{}.",
+            "{} check(s): {pass} meet, {fail} exceed{}{}.",
             r.verdicts.len(),
             if none > 0 {
-                format!(", {none} not judged")
+                format!(", {none} not judged (a check that cannot be judged fails the gate)")
+            } else {
+                String::new()
+            },
+            if partial > 0 {
+                format!(
+                    "; {partial} judged on part of the range their criterion sets (see each line)"
+                )
             } else {
                 String::new()
             }
@@ -65,7 +98,7 @@ fn verdicts(h: &mut Html, r: &Report) {
                     t(&v.item),
                     t(&v.criterion),
                     t(&v.result),
-                    Cell::Verdict(v.pass),
+                    Cell::Verdict(v.judgement.clone()),
                 ]
             })
             .collect();
@@ -218,11 +251,14 @@ fn phase_noise(h: &mut Html, p: &Part<PhaseNoiseSection>) -> Result<()> {
                                 b.filters.clone()
                             }),
                             n(format!("{:.4e}", b.rms_rad)),
-                            n(format!("{:.4}", b.rms_deg())),
+                            n(format_sig(b.rms_deg(), 4)),
                             n(secs(b.rms_s)),
                             n(opt(b.rms_ui, |u| format!("{u:.4e}"))),
-                            n(opt(b.limit, secs)),
-                            Cell::Verdict(b.pass()),
+                            n(b.limit.clone().unwrap_or_else(|| "—".into())),
+                            match &b.judgement {
+                                Some(j) => Cell::Verdict(j.clone()),
+                                None => t("no limit"),
+                            },
                         ]
                     })
                     .collect();
@@ -342,11 +378,22 @@ fn wander(h: &mut Html, p: &Part<WanderSection>) -> Result<()> {
                         vec![
                             t(&m.name),
                             t(&m.metric),
-                            n(format!("{:.3}", m.worst_ratio)),
-                            n(format!("{:+.2} dB", -20.0 * m.worst_ratio.log10())),
-                            n(tau(m.worst_tau)),
+                            n(opt(m.worst_ratio, |r| format!("{r:.3}"))),
+                            n(opt(m.worst_ratio, |r| {
+                                crate::units::format_margin_db(0.0 - 20.0 * r.log10())
+                            })),
+                            n(opt(m.worst_tau, tau)),
                             n(m.violations.to_string()),
-                            Cell::Verdict(Some(m.pass)),
+                            n(match m.checked {
+                                Some((a, b)) => format!("{} … {}", tau(a), tau(b)),
+                                None => "—".into(),
+                            }),
+                            n(format!(
+                                "{} … {}",
+                                tau(m.mask_range.0),
+                                m.mask_range.1.map(tau).unwrap_or_else(|| "no end".into())
+                            )),
+                            Cell::Verdict(m.judgement.clone()),
                         ]
                     })
                     .collect();
@@ -359,10 +406,17 @@ fn wander(h: &mut Html, p: &Part<WanderSection>) -> Result<()> {
                         "margin",
                         "at τ",
                         "violating τ",
+                        "τ checked",
+                        "mask's τ range",
                         "verdict",
                     ],
                     &rows,
                 );
+                for m in &s.masks {
+                    if let Some(why) = &m.judgement.reason {
+                        h.p_class("note", &format!("{} ({}): {why}", m.name, m.metric));
+                    }
+                }
                 let mut srcs: Vec<String> = s
                     .masks
                     .iter()
@@ -407,11 +461,11 @@ fn holdover(h: &mut Html, p: &Part<HoldoverSection>) -> Result<()> {
                 .map(|r| {
                     vec![
                         n(format_si(r.span / 3600.0, "h", 3)),
-                        n(secs(r.deterministic)),
-                        n(secs(r.p95)),
-                        n(secs(r.p99)),
+                        n(finite_secs(r.deterministic)),
+                        n(finite_secs(r.p95)),
+                        n(finite_secs(r.p99)),
                         n(secs(s.budget)),
-                        Cell::Verdict(Some(r.pass)),
+                        Cell::Verdict(r.judgement.clone()),
                     ]
                 })
                 .collect();

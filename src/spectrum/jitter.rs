@@ -32,6 +32,7 @@ use super::quad::adaptive;
 use super::{Quantity, Spectrum};
 use crate::error::{Error, Result};
 use crate::units::{format_si, parse_frequency};
+use crate::verdict::{Coverage, Judgement};
 use std::f64::consts::PI;
 
 /// A Butterworth magnitude weighting.
@@ -218,6 +219,138 @@ pub struct BandJitter {
     /// Offset ranges [from, to] in Hz that were extrapolated beyond the table
     /// or the filter file.
     pub extrapolated: Vec<(f64, f64)>,
+}
+
+/// A limit on the rms jitter of a band, in one of the units jitter is given
+/// in. The unit is required: `--limit 1.5` is refused ("give a unit").
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
+#[serde(tag = "unit", content = "value", rename_all = "lowercase")]
+pub enum JitterLimit {
+    /// rms time jitter, seconds (`1ps`, `300fs`).
+    S(f64),
+    /// rms phase jitter, radians (`10mrad`, `0.01rad`).
+    Rad(f64),
+    /// rms phase jitter, degrees (`0.5deg`).
+    Deg(f64),
+    /// rms jitter in unit intervals of the line rate (`0.01UI`; needs the rate).
+    Ui(f64),
+}
+
+impl JitterLimit {
+    /// Parse a limit with its unit: a duration (`fs ps ns us ms s`), `rad`,
+    /// `mrad`, `urad`, `deg` or `UI`.
+    ///
+    /// ```
+    /// use tauwise::spectrum::jitter::JitterLimit;
+    /// assert_eq!(JitterLimit::parse("1ps").unwrap(), JitterLimit::S(1e-12));
+    /// assert_eq!(JitterLimit::parse("10mrad").unwrap(), JitterLimit::Rad(0.01));
+    /// assert_eq!(JitterLimit::parse("0.1UI").unwrap(), JitterLimit::Ui(0.1));
+    /// assert!(JitterLimit::parse("1.5").unwrap_err().to_string().contains("give a unit"));
+    /// ```
+    pub fn parse(text: &str) -> Result<Self> {
+        let t = text.trim();
+        let num = |n: &str| -> Result<f64> {
+            n.trim()
+                .parse::<f64>()
+                .ok()
+                .filter(|v| v.is_finite() && *v > 0.0)
+                .ok_or_else(|| {
+                    Error::invalid(format!(
+                        "jitter limit '{text}': expected a positive number with its unit"
+                    ))
+                })
+        };
+        let lower = t.to_ascii_lowercase();
+        let limit = if let Some(n) = lower.strip_suffix("mrad") {
+            JitterLimit::Rad(num(n)? * 1e-3)
+        } else if let Some(n) = lower.strip_suffix("urad") {
+            JitterLimit::Rad(num(n)? * 1e-6)
+        } else if let Some(n) = lower.strip_suffix("rad") {
+            JitterLimit::Rad(num(n)?)
+        } else if let Some(n) = lower.strip_suffix("deg").or_else(|| t.strip_suffix('°')) {
+            JitterLimit::Deg(num(n)?)
+        } else if let Some(n) = lower.strip_suffix("ui") {
+            JitterLimit::Ui(num(n)?)
+        } else {
+            let v = crate::units::parse_duration_with_unit(t).map_err(|e| {
+                Error::invalid(format!(
+                    "jitter limit {e} (units: fs ps ns us ms s, rad mrad urad, deg, UI)"
+                ))
+            })?;
+            if !(v.is_finite() && v > 0.0) {
+                return Err(Error::invalid(format!(
+                    "jitter limit '{text}' must be positive"
+                )));
+            }
+            JitterLimit::S(v)
+        };
+        Ok(limit)
+    }
+
+    /// The limit in words with its unit (`1.000 ps rms`).
+    pub fn describe(&self) -> String {
+        match *self {
+            JitterLimit::S(v) => format!("{} rms", format_si(v, "s", 4)),
+            JitterLimit::Rad(v) => format!("{} rms", format_si(v, "rad", 4)),
+            JitterLimit::Deg(v) => format!("{} ° rms", crate::units::format_sig(v, 4)),
+            JitterLimit::Ui(v) => format!("{} UI rms", crate::units::format_sig(v, 4)),
+        }
+    }
+
+    /// The band's rms jitter in this limit's unit (None for UI without a
+    /// line rate).
+    pub fn measured(&self, b: &BandJitter) -> Option<f64> {
+        match self {
+            JitterLimit::S(_) => Some(b.rms_s),
+            JitterLimit::Rad(_) => Some(b.rms_rad),
+            JitterLimit::Deg(_) => Some(b.rms_deg),
+            JitterLimit::Ui(_) => b.rms_ui,
+        }
+    }
+
+    /// The limit's value in its unit.
+    pub fn value(&self) -> f64 {
+        match *self {
+            JitterLimit::S(v) | JitterLimit::Rad(v) | JitterLimit::Deg(v) | JitterLimit::Ui(v) => v,
+        }
+    }
+
+    /// Judge a band against the limit: `meets` when the rms is at or below
+    /// it, `exceeds` above it; `not-judged` when the band could not be
+    /// integrated (`band` is the error: outside the table, no carrier, …),
+    /// when the rms is not finite, or a UI limit has no line rate. A band
+    /// that reaches beyond the table by extrapolation is judged, with
+    /// partial coverage and the extrapolated offsets named.
+    pub fn judge(&self, band: std::result::Result<&BandJitter, &str>) -> Judgement {
+        let b = match band {
+            Ok(b) => b,
+            Err(e) => return Judgement::not_judged(format!("the band was not computed: {e}")),
+        };
+        let Some(v) = self.measured(b) else {
+            return Judgement::not_judged(
+                "a limit in UI needs the line rate (--ui-rate, or ui_rate in the DUT file)",
+            );
+        };
+        if !v.is_finite() {
+            return Judgement::not_judged(format!(
+                "the band's rms jitter is {} (the integral overflowed or is undefined)",
+                if v.is_nan() { "NaN" } else { "infinite" }
+            ));
+        }
+        if b.extrapolated.is_empty() {
+            Judgement::judged(v > self.value(), Coverage::Full)
+        } else {
+            let parts: Vec<String> = b
+                .extrapolated
+                .iter()
+                .map(|(a, c)| format!("{} – {}", format_si(*a, "Hz", 4), format_si(*c, "Hz", 4)))
+                .collect();
+            Judgement::judged(v > self.value(), Coverage::Partial).because(format!(
+                "partial coverage: the table does not reach {}; the end slopes were continued there",
+                parts.join(", ")
+            ))
+        }
+    }
 }
 
 /// Integrate the jitter of `spectrum` (any quantity; needs the carrier) over

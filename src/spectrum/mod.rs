@@ -11,6 +11,13 @@
 //! - S_x(f) = S_φ(f)/(2πν0)² (s²/Hz), phase as time;
 //! - hence S_y(f) = (2πf)²·S_x(f), which needs no carrier.
 
+/// Most points of a table made from a model ([`Spectrum::from_model`]).
+pub const MAX_MODEL_POINTS: usize = 10_000_000;
+
+/// Memory a point of a model table takes on its way out (offset, value,
+/// S_y, converted values and the text line), for the bound's message.
+const BYTES_PER_POINT: usize = 64;
+
 pub mod jitter;
 pub mod loglog;
 pub mod quad;
@@ -240,6 +247,8 @@ impl Spectrum {
     /// A spectrum sampled from a power-law model at `per_decade` log-spaced
     /// offsets from `f_from` to `f_to` (both included; `f_to` is clamped to
     /// the model's f_h). S_y(f) = Σ h_α f^α (IEEE Std 1139).
+    /// (`per_decade` × decades is bounded by [`MAX_MODEL_POINTS`], with an
+    /// error that gives the memory it would need.)
     pub fn from_model(
         model: &PowerLaw,
         quantity: Quantity,
@@ -258,7 +267,15 @@ impl Spectrum {
             return Err(Error::invalid("points per decade must be at least 1"));
         }
         let decades = (f_to / f_from).log10();
-        let n = ((decades * per_decade as f64).ceil() as usize).max(1);
+        let want = (decades * per_decade as f64).ceil();
+        if !(want <= MAX_MODEL_POINTS as f64) {
+            return Err(Error::invalid(format!(
+                "{per_decade} points per decade over {decades:.2} decades would make {want:.3e} points, about {} of memory (offset, S_y and the output table, {BYTES_PER_POINT} bytes a point); at most {MAX_MODEL_POINTS} points ({}): use fewer points per decade",
+                crate::units::format_bytes((want * BYTES_PER_POINT as f64) as u128),
+                crate::units::format_bytes((MAX_MODEL_POINTS * BYTES_PER_POINT) as u128),
+            )));
+        }
+        let n = (want as usize).max(1);
         let f: Vec<f64> = (0..=n)
             .map(|i| {
                 if i == n {

@@ -12,6 +12,11 @@
 //! the first segment's power law down to f = 0 when that integral converges
 //! (S_y ∝ f^e with e + 3 > 0 for AVAR/MVAR, e + 5 > 0 for HVAR), otherwise the
 //! integral starts at the lowest offset and the point is marked truncated.
+//! At the singular slopes themselves (−50 dB/decade of L(f) for AVAR/MVAR,
+//! −70 dB/decade for HVAR, within [`SLOPE_TOL`]) the extension diverges
+//! logarithmically ([`below_table_converges`]); segment integrals between
+//! knots use the form continuous through their own singular exponent
+//! ([`super::loglog::power_integral_from`]).
 //! Each point reports the fraction of its variance that came from below the
 //! table, so a σ(τ) that rests on extrapolation is visible.
 //!
@@ -244,6 +249,30 @@ fn tau_and_n(tau: f64, tau0: f64, est: SigmaKind) -> Result<(f64, f64)> {
     }
 }
 
+/// Exponents within this of a singular slope are taken as that slope: a
+/// table written in dB gives segment exponents with rounding error
+/// (−50 dB/decade of L(f) is S_y ∝ f^(−2.9999999999999996)), and the
+/// closed form 1/(e + 2r + 1) must not divide by that rounding error.
+pub const SLOPE_TOL: f64 = 1e-9;
+
+/// Whether ∫_0^{f_min} S_y(f)·A·x^{2r} df converges below the table, for
+/// S_y ∝ f^e continued from the first segment: e + 2r + 1 > 0. At the
+/// singular slope itself (e = −2r − 1: −50 dB/decade of L(f) for AVAR and
+/// MVAR, where 2r = 2; −70 dB/decade for HVAR, 2r = 4) the integral
+/// diverges like ln(1/f) — the limit of the closed form — so a slope within
+/// [`SLOPE_TOL`] of it counts as divergent, and the point is `truncated`.
+///
+/// ```
+/// use tauwise::spectrum::sigma::below_table_converges;
+/// assert!(!below_table_converges(-3.0, 2));                  // −50 dB/dec, AVAR
+/// assert!(!below_table_converges(-2.9999999999999996, 2));   // the same, as rounded
+/// assert!(below_table_converges(-2.9, 2));
+/// assert!(!below_table_converges(-5.0 + 1e-12, 4));          // −70 dB/dec, HVAR
+/// ```
+pub fn below_table_converges(e: f64, r2: i32) -> bool {
+    e + r2 as f64 + 1.0 > SLOPE_TOL
+}
+
 /// Coefficients (m, a_m) of Q(x) = Σ a_m cos(m x).
 const SIN4: [(f64, f64); 3] = [(0.0, 3.0 / 8.0), (2.0, -0.5), (4.0, 1.0 / 8.0)];
 const SIN6: [(f64, f64); 4] = [
@@ -360,7 +389,7 @@ impl<'a> Integrator<'a> {
         let mut acc = Acc::default();
         let (a_lead, r2) = self.leading();
         let e_low = self.sy.low_slope();
-        let converges = e_low + r2 as f64 + 1.0 > 0.0;
+        let converges = below_table_converges(e_low, r2);
         let f_l = (1e-3 / (PI * self.tau)).min(self.f_h);
         let start = if converges { 0.0 } else { self.f_min };
         // 1. leading-order piece [start, f_l].

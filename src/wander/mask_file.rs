@@ -23,15 +23,17 @@
 //! `name` and `note` are optional (default: the file's stem, and "user mask
 //! from FILE"). Each section `[mtie]` or `[tdev]` (at most one of each) first
 //! declares `shape step` or `shape loglog`, then holds rows of τ and limit,
-//! each a duration with its unit (`100ms`, `2.5us`, or plain seconds). τ must
-//! increase strictly; limits must be positive. Step rows mean "this limit up
+//! each a duration with its unit (`100ms`, `2.5us`, `1000s`; a bare number
+//! is refused — it decides a verdict). τ must increase strictly; limits must
+//! be positive normal numbers (a subnormal limit such as `1e-320s` would
+//! make value/limit overflow). Step rows mean "this limit up
 //! to and including this τ, from the previous row's τ"; the first row opens
 //! the mask. Log–log rows are joined by straight lines on log–log axes.
 
 use super::masks::{Mask, Metric, Shape};
 use crate::error::Result;
 use crate::io::ReadError;
-use crate::units::parse_duration;
+use crate::units::parse_duration_with_unit;
 use std::path::Path;
 
 /// Read a mask file from disk ([`parse_mask_file`] on its text).
@@ -166,15 +168,15 @@ pub fn parse_mask_file(text: &str, path: &Path) -> Result<Vec<Mask>> {
                     )
                     .into());
                 }
-                let tau = parse_duration(fields[0])
+                let tau = parse_duration_with_unit(fields[0])
                     .map_err(|e| at(ln, format!("τ: {e}")))?;
-                let lim = parse_duration(fields[1])
+                let lim = parse_duration_with_unit(fields[1])
                     .map_err(|e| at(ln, format!("limit: {e}")))?;
-                if tau <= 0.0 {
-                    return Err(at(ln, format!("τ must be positive, got {}", fields[0])).into());
+                if !(tau > 0.0 && tau.is_normal()) {
+                    return Err(at(ln, format!("τ must be a positive normal number of seconds, got {}", fields[0])).into());
                 }
-                if lim <= 0.0 {
-                    return Err(at(ln, format!("limit must be positive, got {}", fields[1])).into());
+                if !(lim > 0.0 && lim.is_normal()) {
+                    return Err(at(ln, format!("limit must be a positive normal number of seconds (at least {:e} s), got {}", f64::MIN_POSITIVE, fields[1])).into());
                 }
                 if let Some(&(prev, _)) = sec.rows.last() {
                     if tau <= prev {

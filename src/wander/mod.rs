@@ -22,28 +22,135 @@ use crate::deviation::{compute, Estimate, Estimator};
 use crate::error::{Error, Result};
 use crate::record::PhaseRecord;
 use crate::tau::TauGrid;
-use check::MaskCheck;
+use check::{MaskCheck, Support};
 use masks::{Mask, Metric};
 
 /// The default τ grid of the wander analysis: [`TauGrid::PerDecade`]`(10)`
-/// (m = round(10^(k/10)), deduplicated) from τ0 up to a tenth of the record,
-/// m ≤ (N − 1)/10.
+/// (m = round(10^(k/10)), deduplicated), from τ0 to the longest τ the record
+/// supports for each metric (see [`max_m`]), with the record's longest τ
+/// itself and the τ on both sides of every mask breakpoint added, so that
+/// the check reaches the ends of every mask segment.
 pub const DEFAULT_GRID: TauGrid = TauGrid::PerDecade(10);
 
-/// The averaging factors of [`DEFAULT_GRID`] for a record of `points`
-/// samples: up to m = (points − 1)/10.
+/// The longest averaging factor the wander check uses for `metric` on a
+/// record of `points` phase samples: MTIE over the whole record,
+/// m = N − 1 (ITU-T G.810: MTIE is defined up to the observation period);
+/// TDEV up to a third of it, m = (N − 1)/3 (the longest τ with one
+/// second difference of averages, NIST SP 1065 §5.2.6).
 ///
 /// ```
-/// let ms = tauwise::wander::default_ms(1001, 1.0).unwrap();
-/// assert_eq!(&ms[..8], &[1, 2, 3, 4, 5, 6, 8, 10]);
-/// assert_eq!(*ms.last().unwrap(), 100);
+/// use tauwise::wander::{masks::Metric, max_m};
+/// assert_eq!(max_m(Metric::Mtie, 108_000), 107_999);
+/// assert_eq!(max_m(Metric::Tdev, 108_000), 35_999);
 /// ```
-pub fn default_ms(points: usize, tau0: f64) -> Result<Vec<usize>> {
-    DEFAULT_GRID.ms(tau0, points.saturating_sub(1) / 10)
+pub fn max_m(metric: Metric, points: usize) -> usize {
+    let n = points.saturating_sub(1);
+    match metric {
+        Metric::Mtie => n,
+        Metric::Tdev => n / 3,
+    }
+}
+
+/// How the τ of the wander analysis are chosen.
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct Options {
+    /// The τ grid; `None`: [`DEFAULT_GRID`] with the record's end and the
+    /// masks' breakpoints added. A grid given here is used as given.
+    pub grid: Option<TauGrid>,
+    /// Only τ in this range (s), inclusive; `None`: every τ the record
+    /// supports.
+    pub range: Option<(f64, f64)>,
+    /// Remove the least-squares constant frequency offset first.
+    pub remove_offset: bool,
+}
+
+/// The averaging factors of one metric's curve for a record of `points`
+/// samples at `tau0` (see [`Options`] and [`DEFAULT_GRID`]), together with
+/// the [`Support`] a mask check needs to state its coverage.
+///
+/// ```
+/// use tauwise::wander::{masks::{builtin, Metric}, plan, Options};
+/// let masks = builtin("g8262-opt1").unwrap();
+/// // 3 h at 100 ms: MTIE reaches the record's span, 10 799.9 s.
+/// let (ms, support) = plan(Metric::Mtie, 108_000, 0.1, &Options::default(), &masks).unwrap();
+/// assert_eq!(*ms.last().unwrap(), 107_999);
+/// assert!(ms.contains(&10_000)); // the mask's end, 1000 s
+/// assert!((support.top - 10_799.9).abs() < 1e-9);
+/// ```
+pub fn plan(
+    metric: Metric,
+    points: usize,
+    tau0: f64,
+    opts: &Options,
+    masks: &[Mask],
+) -> Result<(Vec<usize>, Support)> {
+    let top_m = max_m(metric, points);
+    let mut ms = match &opts.grid {
+        Some(g) => g.ms(tau0, top_m)?,
+        None => {
+            let mut v = DEFAULT_GRID.ms(tau0, top_m)?;
+            if top_m >= 1 {
+                v.push(top_m);
+            }
+            for m in masks.iter().filter(|m| m.metric == metric) {
+                let (lo, _) = m.tau_range();
+                let mut edges = m.breakpoints();
+                edges.push(lo);
+                for b in edges.into_iter().filter(|b| b.is_finite() && *b > 0.0) {
+                    let k = b / tau0;
+                    if !(k < top_m as f64 + 2.0) {
+                        continue;
+                    }
+                    let f = (k + 1e-9).floor();
+                    // The last τ = m·τ0 at or below the breakpoint, and the first above.
+                    for c in [f, f + 1.0] {
+                        if c >= 1.0 && c <= top_m as f64 {
+                            v.push(c as usize);
+                        }
+                    }
+                }
+            }
+            v.sort_unstable();
+            v.dedup();
+            v
+        }
+    };
+    let what = match metric {
+        Metric::Mtie => "the record's span",
+        Metric::Tdev => "a third of the record's span, the longest TDEV",
+    };
+    let mut support = Support {
+        tau0,
+        bottom: tau0,
+        bottom_why: "the record's τ0".into(),
+        top: top_m as f64 * tau0,
+        top_why: what.into(),
+    };
+    if let Some((a, b)) = opts.range {
+        if !(a.is_finite() && b.is_finite() && a > 0.0 && b >= a) {
+            return Err(Error::invalid(format!(
+                "wander τ range {a} s to {b} s: expected 0 < FROM ≤ TO"
+            )));
+        }
+        let tol = 1e-9;
+        ms.retain(|&m| {
+            let t = m as f64 * tau0;
+            t >= a * (1.0 - tol) && t <= b * (1.0 + tol)
+        });
+        if a > support.bottom {
+            support.bottom = a;
+            support.bottom_why = "the requested τ range".into();
+        }
+        if b < support.top {
+            support.top = b;
+            support.top_why = "the requested τ range".into();
+        }
+    }
+    Ok((ms, support))
 }
 
 /// Everything the wander analysis reports for one record.
-#[derive(Debug, Clone, PartialEq)]
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
 pub struct WanderResult {
     /// TIE statistics over the record.
     pub tie: tie::TieStats,
@@ -55,17 +162,55 @@ pub struct WanderResult {
     pub checks: Vec<MaskCheck>,
 }
 
-/// Run the wander analysis: TIE statistics, MTIE and TDEV at the averaging
-/// factors `ms` (see [`default_ms`] for the usual choice), and every mask
-/// against the curve of its metric. With `remove_offset`, the least-squares
-/// constant frequency offset is removed from the record before everything
-/// else (MTIE of an offset alone is y·τ and would hide the wander); TDEV is
-/// unaffected by it (second differences).
-pub fn analyse(
+/// Run the wander analysis: TIE statistics, MTIE and TDEV on the τ of
+/// [`plan`] (by default over the whole record: MTIE to its span, TDEV to a
+/// third of it), and every mask against the curve of its metric. With
+/// `remove_offset`, the least-squares constant frequency offset is removed
+/// from the record before everything else (MTIE of an offset alone is y·τ
+/// and would hide the wander); TDEV is unaffected by it (second
+/// differences).
+pub fn analyse(rec: &PhaseRecord, opts: &Options, masks: &[Mask]) -> Result<WanderResult> {
+    let n = rec.len();
+    let (mtie_ms, mtie_support) = plan(Metric::Mtie, n, rec.tau0, opts, masks)?;
+    let (tdev_ms, tdev_support) = plan(Metric::Tdev, n, rec.tau0, opts, masks)?;
+    // Each mask is checked on the τ of its own plan (the grid, the record's
+    // end and its own breakpoints), so that its verdict does not depend on
+    // which other masks were asked for; the curves hold the union.
+    let own = masks
+        .iter()
+        .map(|m| plan(m.metric, n, rec.tau0, opts, std::slice::from_ref(m)).map(|p| p.0))
+        .collect::<Result<Vec<_>>>()?;
+    run(
+        rec,
+        (&mtie_ms, &mtie_support),
+        (&tdev_ms, &tdev_support),
+        opts.remove_offset,
+        masks,
+        Some(&own),
+    )
+}
+
+/// [`analyse`] on given averaging factors for MTIE and TDEV, each with the
+/// [`Support`] its mask checks state their coverage against.
+pub fn analyse_at(
     rec: &PhaseRecord,
-    ms: &[usize],
+    mtie_at: (&[usize], &Support),
+    tdev_at: (&[usize], &Support),
     remove_offset: bool,
     masks: &[Mask],
+) -> Result<WanderResult> {
+    run(rec, mtie_at, tdev_at, remove_offset, masks, None)
+}
+
+/// The analysis; `own[k]`, when given, are the averaging factors mask k is
+/// checked on (a subset of its metric's curve).
+fn run(
+    rec: &PhaseRecord,
+    mtie_at: (&[usize], &Support),
+    tdev_at: (&[usize], &Support),
+    remove_offset: bool,
+    masks: &[Mask],
+    own: Option<&[Vec<usize>]>,
 ) -> Result<WanderResult> {
     let valid = rec.x.iter().filter(|v| !v.is_nan()).count();
     if valid < 2 {
@@ -73,7 +218,14 @@ pub fn analyse(
             "wander needs at least two valid phase samples, the record has {valid}"
         )));
     }
-    let tie = tie::tie_stats(rec, remove_offset)?;
+    // Phase of extreme magnitude would overflow TDEV's and the TIE rms's
+    // squares: work on an exactly rescaled copy, scale the results back.
+    let rescaled = rec.rescaled_for_squares();
+    let (rec, back) = match &rescaled {
+        Some((r, k)) => (r, *k),
+        None => (rec, 1.0),
+    };
+    let mut tie = tie::tie_stats(rec, remove_offset)?;
     let owned;
     let rec = match tie.offset_removed {
         Some(y) => {
@@ -82,24 +234,35 @@ pub fn analyse(
         }
         None => rec,
     };
-    if ms.is_empty() {
+    if mtie_at.0.is_empty() && tdev_at.0.is_empty() {
         return Err(Error::invalid("wander needs at least one τ"));
     }
-    let mtie = compute(Estimator::Mtie, rec, ms);
-    let tdev = compute(Estimator::Tdev, rec, ms);
-    let curve =
-        |e: &[Estimate]| -> Vec<(f64, f64)> { e.iter().map(|p| (p.tau, p.value)).collect() };
-    let (mc, tc) = (curve(&mtie), curve(&tdev));
+    let mut mtie = compute(Estimator::Mtie, rec, mtie_at.0);
+    let mut tdev = compute(Estimator::Tdev, rec, tdev_at.0);
+    if back != 1.0 {
+        for e in mtie.iter_mut().chain(tdev.iter_mut()) {
+            e.value *= back;
+        }
+        tie.max_abs *= back;
+        tie.pk_pk *= back;
+        tie.rms *= back;
+        tie.offset_removed = tie.offset_removed.map(|y| y * back);
+    }
+    let curve = |e: &[Estimate], keep: Option<&Vec<usize>>| -> Vec<(f64, f64)> {
+        e.iter()
+            .filter(|p| keep.map_or(true, |k| k.binary_search(&p.m).is_ok()))
+            .map(|p| (p.tau, p.value))
+            .collect()
+    };
     let checks = masks
         .iter()
-        .map(|m| {
-            check::check_mask(
-                m,
-                match m.metric {
-                    Metric::Mtie => &mc,
-                    Metric::Tdev => &tc,
-                },
-            )
+        .enumerate()
+        .map(|(k, m)| {
+            let keep = own.map(|o| &o[k]);
+            match m.metric {
+                Metric::Mtie => check::check_mask(m, &curve(&mtie, keep), mtie_at.1),
+                Metric::Tdev => check::check_mask(m, &curve(&tdev, keep), tdev_at.1),
+            }
         })
         .collect();
     Ok(WanderResult {

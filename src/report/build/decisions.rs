@@ -3,13 +3,12 @@
 //! once per span so each verdict equals `tauwise holdover --span …`).
 
 use super::{method, Loaded};
-use crate::holdover::{model_from_record, predict, FromRecord, Settings, Verdict as HVerdict};
+use crate::holdover::{model_from_record, predict, FromRecord, Settings};
 use crate::io::dut::Dut;
 use crate::plot::holdover::HoldoverPlot;
 use crate::report::*;
-use crate::tau::TauGrid;
-use crate::units::format_si;
-use crate::wander::check::Verdict as WVerdict;
+use crate::units::{format_margin_db, format_si};
+use crate::verdict::{Judgement, Verdict};
 use crate::wander::mask_file::read_mask_file;
 use crate::wander::masks::{builtin, CONDITIONS_NOTE, FROM_MEMORY_NOTE};
 
@@ -35,20 +34,24 @@ pub(super) fn wander(dut: &Dut, records: &[Loaded], ties: &[Loaded], r: &mut Rep
         return Ok(());
     };
     let rec = l.series.record.to_phase();
-    let n = rec.len();
-    // As `tauwise wander` without --taus: 10 per decade up to a tenth of the record.
-    let ms = TauGrid::PerDecade(10).ms(rec.tau0, n.saturating_sub(1) / 10)?;
-    let res = match crate::wander::analyse(&rec, &ms, w.remove_offset, &masks) {
+    // As `tauwise wander` (same library call): by default over the whole
+    // record, MTIE to its span and TDEV to a third of it.
+    let opts = crate::wander::Options {
+        grid: w.taus.clone(),
+        range: w.tau_range,
+        remove_offset: w.remove_offset,
+    };
+    let res = match crate::wander::analyse(&rec, &opts, &masks) {
         Ok(x) => x,
         Err(e) => {
             r.wander = Part::not_computed(format!("{}: {e}", l.src.name));
             for m in &masks {
-                r.verdicts.push(Verdict {
+                r.verdicts.push(VerdictLine {
                     kind: VerdictKind::Mask,
                     item: format!("{} ({})", m.name, m.metric.name().to_uppercase()),
                     criterion: "below the mask at every τ it covers".into(),
                     result: format!("not computed: {e}"),
-                    pass: None,
+                    judgement: Judgement::not_judged(format!("not computed: {e}")),
                 });
             }
             return Ok(());
@@ -70,39 +73,51 @@ pub(super) fn wander(dut: &Dut, records: &[Loaded], ties: &[Loaded], r: &mut Rep
     let mut rows = Vec::new();
     for c in &res.checks {
         let item = format!("{} ({})", c.name, c.metric.name().to_uppercase());
-        let pass = match c.verdict {
-            WVerdict::Pass => Some(true),
-            WVerdict::Fail => Some(false),
-            WVerdict::NotCovered => None,
+        let range = |a: f64, b: Option<f64>| {
+            format!(
+                "{} to {}",
+                format_si(a, "s", 4),
+                b.map(|b| format_si(b, "s", 4))
+                    .unwrap_or_else(|| "no upper end".into())
+            )
         };
-        let result = match (c.worst_ratio, c.worst_tau) {
-            (Some(ratio), Some(tau)) => format!(
-                "worst measured/limit {ratio:.3} ({:+.2} dB) at τ = {}; {} violating τ of {} checked",
-                c.worst_margin_db.unwrap_or(20.0 * ratio.log10()),
+        let mut result = match (c.worst_ratio, c.worst_tau, &c.checked_range) {
+            (Some(ratio), Some(tau), Some(cr)) if c.verdict() != Verdict::NotJudged => format!(
+                "worst measured/limit {ratio:.3} ({}) at τ = {}; {} violating τ of {} checked from {}",
+                c.worst_margin_db
+                    .map(format_margin_db)
+                    .unwrap_or_else(|| "no margin: the value is zero".into()),
                 format_si(tau, "s", 4),
                 c.violations.len(),
-                c.checked
+                c.checked,
+                range(cr.from, cr.to)
             ),
-            _ => "not covered: no measured τ inside the mask's range".into(),
+            _ => "not judged".into(),
         };
-        r.verdicts.push(Verdict {
+        if let Some(why) = &c.judgement.reason {
+            result.push_str(&format!("; {why}"));
+        }
+        r.verdicts.push(VerdictLine {
             kind: VerdictKind::Mask,
             item,
-            criterion: "below the mask at every τ it covers".into(),
+            criterion: format!(
+                "below the mask at every τ it covers ({})",
+                range(c.mask_range.from, c.mask_range.to)
+            ),
             result,
-            pass,
+            judgement: c.judgement.clone(),
         });
-        if let (Some(ratio), Some(tau)) = (c.worst_ratio, c.worst_tau) {
-            rows.push(MaskRow {
-                name: c.name.clone(),
-                metric: c.metric.name().to_uppercase(),
-                pass: c.verdict == WVerdict::Pass,
-                worst_ratio: ratio,
-                worst_tau: tau,
-                violations: c.violations.len(),
-                source_note: c.source_note.clone(),
-            });
-        }
+        rows.push(MaskRow {
+            name: c.name.clone(),
+            metric: c.metric.name().to_uppercase(),
+            judgement: c.judgement.clone(),
+            worst_ratio: c.worst_ratio,
+            worst_tau: c.worst_tau,
+            checked: c.checked_range.map(|r| (r.from, r.to.unwrap_or(r.from))),
+            mask_range: (c.mask_range.from, c.mask_range.to),
+            violations: c.violations.len(),
+            source_note: c.source_note.clone(),
+        });
     }
     let mut notes = vec![CONDITIONS_NOTE.to_string()];
     if !w.masks.is_empty() {
@@ -144,12 +159,12 @@ pub(super) fn holdover(dut: &Dut, records: &[Loaded], r: &mut Report) -> Result<
     };
     let not_computed = |r: &mut Report, why: String| {
         for &span in &h.spans {
-            r.verdicts.push(Verdict {
+            r.verdicts.push(VerdictLine {
                 kind: VerdictKind::Holdover,
                 item: format!("{} span", format_si(span / 3600.0, "h", 3)),
                 criterion: format!("p95 of |TE| ≤ {}", format_si(h.budget, "s", 3)),
                 result: format!("not computed: {why}"),
-                pass: None,
+                judgement: Judgement::not_judged(format!("not computed: {why}")),
             });
         }
         r.holdover = Part::not_computed(why);
@@ -186,21 +201,24 @@ pub(super) fn holdover(dut: &Dut, records: &[Loaded], r: &mut Report) -> Result<
             }
         };
         let end = pred.te.last().copied();
-        let pass = pred.verdict == HVerdict::Pass;
-        r.verdicts.push(Verdict {
+        let judgement = pred.judgement.clone();
+        r.verdicts.push(VerdictLine {
             kind: VerdictKind::Holdover,
             item: format!("{} span", format_si(span / 3600.0, "h", 3)),
             criterion: format!("p95 of |TE| ≤ {}", format_si(h.budget, "s", 3)),
-            result: match (end, pred.holds_for) {
-                (Some(e), Some(hf)) => format!(
+            result: match (&judgement.reason, end, pred.holds_for) {
+                (Some(why), _, _) if judgement.verdict == Verdict::NotJudged => {
+                    format!("not judged: {why}")
+                }
+                (_, Some(e), Some(hf)) => format!(
                     "p95 reaches the budget after {}; {} at the span end",
                     format_si(hf / 3600.0, "h", 3),
                     format_si(e.p95, "s", 3)
                 ),
-                (Some(e), None) => format!("p95 {} at the span end", format_si(e.p95, "s", 3)),
+                (_, Some(e), None) => format!("p95 {} at the span end", format_si(e.p95, "s", 3)),
                 _ => "no time points".into(),
             },
-            pass: Some(pass),
+            judgement: judgement.clone(),
         });
         if let Some(e) = end {
             spans.push(SpanRow {
@@ -208,7 +226,7 @@ pub(super) fn holdover(dut: &Dut, records: &[Loaded], r: &mut Report) -> Result<
                 deterministic: e.deterministic,
                 p95: e.p95,
                 p99: e.p99,
-                pass,
+                judgement,
             });
         }
         if !longest.as_ref().is_some_and(|(s, _)| span <= *s) {

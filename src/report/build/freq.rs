@@ -16,6 +16,7 @@ use crate::spectrum::sigma::{consistency, sigma_from_spectrum, SigmaKind};
 use crate::spectrum::welch::{welch, WelchOptions};
 use crate::spectrum::{Quantity, Spectrum};
 use crate::units::format_si;
+use crate::verdict::Judgement;
 
 fn setup_for(j: &JitterSpec) -> Result<JitterSetup> {
     let mut setup = JitterSetup {
@@ -108,11 +109,39 @@ pub(super) fn phase_noise(
         }
     }
     if let Some((name, binned, _)) = &record_spectrum {
-        traces.push(LfTrace {
-            name: format!("spectrum of {name}"),
-            kind: TraceKind::RecordSpectrum,
-            points: lf_points(binned)?,
-        });
+        // Beside a table, the record's spectrum is drawn over the table's
+        // offsets only: its lowest bins (down to 1/(segment length), tens of
+        // µHz for a two-day record) would stretch the chart over decades
+        // where the table says nothing.
+        let mut points = lf_points(binned)?;
+        if let Some(t) = tables.first() {
+            let (lo, hi) = t.table.spectrum.range();
+            let (r_lo, r_hi) = binned.range();
+            let before = points.len();
+            points.retain(|&(f, _)| f >= lo && f <= hi);
+            if points.is_empty() {
+                notes.push(format!(
+                    "The spectrum of {name} ({} to {}) does not reach the table's offsets ({} to {}) and is not drawn.",
+                    format_si(r_lo, "Hz", 4),
+                    format_si(r_hi, "Hz", 4),
+                    format_si(lo, "Hz", 4),
+                    format_si(hi, "Hz", 4)
+                ));
+            } else if points.len() < before {
+                notes.push(format!(
+                    "The spectrum of {name} is drawn over the table's offsets ({} to {}) only.",
+                    format_si(lo, "Hz", 4),
+                    format_si(hi, "Hz", 4)
+                ));
+            }
+        }
+        if !points.is_empty() {
+            traces.push(LfTrace {
+                name: format!("spectrum of {name}"),
+                kind: TraceKind::RecordSpectrum,
+                points,
+            });
+        }
         r.methods.push(method(
             "spectrum of the time record",
             "Welch's method, Hann window, 50 % overlap, with its equivalent noise bandwidth",
@@ -144,7 +173,7 @@ pub(super) fn phase_noise(
         );
         let criterion = j
             .limit
-            .map(|l| format!("rms time jitter ≤ {}", format_si(l, "s", 4)))
+            .map(|l| format!("jitter ≤ {}", l.describe()))
             .unwrap_or_else(|| "no limit given".into());
         let result: std::result::Result<BandJitter, String> = match spectrum {
             None => Err("no spectrum to integrate (no table, or no carrier for the record)".into()),
@@ -162,6 +191,10 @@ pub(super) fn phase_noise(
                 })
                 .map_err(|e| e.to_string()),
         };
+        // The same judgement as `tauwise jitter --limit` on the same band.
+        let judgement = j
+            .limit
+            .map(|l| l.judge(result.as_ref().map_err(|e| e.as_str())));
         match result {
             Ok(b) => {
                 let row = JitterRow {
@@ -176,19 +209,24 @@ pub(super) fn phase_noise(
                     rms_rad: b.rms_rad,
                     rms_s: b.rms_s,
                     rms_ui: b.rms_ui,
-                    limit: j.limit,
+                    limit: j.limit.map(|l| l.describe()),
+                    judgement: judgement.clone(),
                 };
-                if j.limit.is_some() {
-                    r.verdicts.push(Verdict {
+                if let Some(jd) = judgement {
+                    r.verdicts.push(VerdictLine {
                         kind: VerdictKind::Jitter,
                         item,
                         criterion,
                         result: format!(
-                            "{} rms ({:.3e} rad)",
+                            "{} rms ({:.3e} rad){}",
                             format_si(b.rms_s, "s", 4),
-                            b.rms_rad
+                            b.rms_rad,
+                            jd.reason
+                                .as_ref()
+                                .map(|w| format!("; {w}"))
+                                .unwrap_or_default()
                         ),
-                        pass: row.pass(),
+                        judgement: jd,
                     });
                 }
                 marks.push(BandMark::from_jitter(&j.name, &b));
@@ -196,12 +234,13 @@ pub(super) fn phase_noise(
             }
             Err(e) => {
                 notes.push(format!("Band {}: not computed: {e}", j.name));
-                r.verdicts.push(Verdict {
+                r.verdicts.push(VerdictLine {
                     kind: VerdictKind::Jitter,
                     item,
                     criterion,
                     result: format!("not computed: {e}"),
-                    pass: None,
+                    judgement: judgement
+                        .unwrap_or_else(|| Judgement::not_judged(format!("not computed: {e}"))),
                 });
             }
         }
