@@ -126,8 +126,13 @@ where
 mod tests {
     use super::*;
 
+    /// `remove_pending_temp_files` removes every registered file of the
+    /// process, so the tests that write run one at a time.
+    static SERIAL: Mutex<()> = Mutex::new(());
+
     #[test]
     fn writes_and_replaces() {
+        let _one = SERIAL.lock().unwrap_or_else(|p| p.into_inner());
         let dir = tempfile::tempdir().unwrap();
         let p = dir.path().join("out.txt");
         write_atomic(&p, b"one").unwrap();
@@ -145,6 +150,7 @@ mod tests {
 
     #[test]
     fn pending_files_are_registered_while_writing() {
+        let _one = SERIAL.lock().unwrap_or_else(|p| p.into_inner());
         let dir = tempfile::tempdir().unwrap();
         let p = dir.path().join("big.txt");
         let r = write_atomic_with(&p, |w| {
@@ -162,6 +168,7 @@ mod tests {
 
     #[test]
     fn missing_directory_is_an_error() {
+        let _one = SERIAL.lock().unwrap_or_else(|p| p.into_inner());
         let e = write_atomic(Path::new("/nonexistent-dir-xyz/out.txt"), b"x").unwrap_err();
         assert!(e.to_string().contains("/nonexistent-dir-xyz/out.txt"));
     }
