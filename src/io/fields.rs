@@ -67,7 +67,8 @@ impl Delimiter {
     /// present — unless splitting on commas leaves a field with inner spaces
     /// while splitting on spaces gives only numbers with a decimal comma
     /// (`0 1,5e-9`); else runs of spaces and tabs. With `comma_is_decimal`
-    /// (`--decimal-comma`) a comma never separates fields.
+    /// (`--decimal-comma`) a comma separates fields only in a line with
+    /// quotes (then commas inside the quotes are decimal marks).
     pub fn sniff(line: &str, comma_is_decimal: bool) -> Self {
         if line.contains(';') {
             return Delimiter::Semicolon;
@@ -81,7 +82,9 @@ impl Delimiter {
                 return Delimiter::Tab;
             }
         }
-        if line.contains(',') && !comma_is_decimal {
+        // With --decimal-comma a comma separates fields only outside quotes
+        // (a quoted comma-separated file).
+        if line.contains(',') && (!comma_is_decimal || line.contains('"')) {
             let mut s = Splitter::new(Delimiter::Comma);
             let inner_space = match s.split(line) {
                 Ok(n) => (0..n).any(|i| {

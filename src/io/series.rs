@@ -40,9 +40,11 @@
 //!
 //! With `snap` (`--snap`, for stamps taken by a PC clock that wander by tens
 //! of milliseconds), each stamp is instead rounded to the nearest point of
-//! the grid t_first + n·τ0, provided it lies within `snap`·τ0 of it (τ0 from
-//! the median spacing rounded to 3 significant digits when not given); the
+//! the grid t_first + n·τ0, provided it lies within `snap`·τ0 of it; the
 //! largest distance from the grid (about the mean distance) is reported.
+//! When τ0 is not given it is the stamps' span over the number of steps
+//! between them (spacings counted in median spacings), to 3 significant
+//! digits.
 //!
 //! # Units
 //! Phase: `s ms us ns ps` (multiplied into seconds). Frequency: `frac`, `ppm`
@@ -846,6 +848,19 @@ fn jump_message(dt: f64, k: u64, tau0: f64) -> String {
     )
 }
 
+/// τ0 for `--snap` when not given: the stamps' span over the number of
+/// steps counted between them (each spacing rounded to a whole number of
+/// median spacings), to 3 significant digits — the median of jittered
+/// spacings alone can be off by more than the rounding.
+fn snap_tau0(times: &[f64], median: f64) -> f64 {
+    let mut steps = 0.0f64;
+    for w in times.windows(2) {
+        steps += ((w[1] - w[0]) / median).round().max(1.0);
+    }
+    let span = times[times.len() - 1] - times[0];
+    crate::units::round_sig(span / steps.max(1.0), 3)
+}
+
 /// Number of τ0 steps in a spacing, or an error message.
 #[inline]
 fn steps(dt: f64, tau0: f64) -> Result<u64, String> {
@@ -1255,13 +1270,20 @@ pub fn read_series_from<R: BufRead>(
             Row::Data(v, t) => (v, t),
         };
         if let Some((tl, _, first, _)) = &trailer {
+            let what = if time_col == Some(1) {
+                format!(
+                    "time field 1 is '{}': {TIME_EXPECTED}",
+                    fields::shorten(first)
+                )
+            } else {
+                text::not_a_number(first, 1)
+            };
             return Err(text::field_error(
                 label,
                 *tl,
                 1,
                 format!(
-                    "{}; readings go on at line {number}, so this line is not a closing block of text",
-                    text::not_a_number(first, 1)
+                    "{what}; readings go on at line {number}, so this line is not a closing block of text"
                 ),
             ));
         }
@@ -1417,7 +1439,7 @@ pub fn read_series_from<R: BufRead>(
                     "the timestamp is not later than the one before; expected increasing timestamps",
                 ));
             }
-            let tau0 = crate::units::round_sig(median, 3);
+            let tau0 = snap_tau0(&times, median);
             let mut g = Grid::new(tau0, opts.snap);
             let mut grid_values: Vec<f64> = Vec::with_capacity(values.len());
             for (i, &t) in times.iter().enumerate() {
@@ -1758,7 +1780,11 @@ fn read_npy<R: BufRead>(
                             "the times do not increase; expected increasing timestamps in seconds",
                         ));
                     }
-                    crate::units::round_sig(median, if opts.snap.is_some() { 3 } else { 10 })
+                    if opts.snap.is_some() {
+                        snap_tau0(&times, median)
+                    } else {
+                        crate::units::round_sig(median, 10)
+                    }
                 }
             };
             let mut g = Grid::new(tau0, opts.snap);
