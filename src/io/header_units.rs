@@ -61,13 +61,19 @@ impl HeaderUnit {
             },
             HeaderUnit::Mjd => "MJD".into(),
             HeaderUnit::Fractional(u) => u.symbol().to_string(),
-            HeaderUnit::Absolute(k) => match k {
-                k if k == 1e-3 => "mHz".into(),
-                k if k == 1.0 => "Hz".into(),
-                k if k == 1e3 => "kHz".into(),
-                k if k == 1e6 => "MHz".into(),
-                _ => "GHz".into(),
-            },
+            HeaderUnit::Absolute(k) => {
+                if k < 1.0 {
+                    "mHz".into()
+                } else if k < 1e3 {
+                    "Hz".into()
+                } else if k < 1e6 {
+                    "kHz".into()
+                } else if k < 1e9 {
+                    "MHz".into()
+                } else {
+                    "GHz".into()
+                }
+            }
             HeaderUnit::Lf => "dBc/Hz".into(),
             HeaderUnit::Sphi => "rad²/Hz".into(),
             HeaderUnit::SphiDb => "dB rad²/Hz".into(),

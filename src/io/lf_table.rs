@@ -175,6 +175,7 @@ enum PairRow {
     Pair(f64, f64),
 }
 
+#[allow(clippy::too_many_arguments)]
 fn parse_pair(
     s: &mut Splitter,
     decimal: Decimal,

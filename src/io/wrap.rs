@@ -43,8 +43,8 @@ pub fn unwrap(x: &mut [f64], period: f64) -> Result<usize, UnwrapError> {
     let mut slope = 0.0f64;
     let mut seen = 0.0f64;
     let mut wraps = 0usize;
-    for i in 0..x.len() {
-        let raw = x[i];
+    for (i, xi) in x.iter_mut().enumerate() {
+        let raw = *xi;
         if raw.is_nan() {
             continue;
         }
@@ -72,7 +72,7 @@ pub fn unwrap(x: &mut [f64], period: f64) -> Result<usize, UnwrapError> {
         let step = (u - prev) / gap as f64;
         seen += 1.0;
         slope += (step - slope) / seen.min(SLOPE_MEMORY);
-        x[i] = u;
+        *xi = u;
         last = Some((i, u));
     }
     Ok(wraps)
