@@ -808,3 +808,103 @@ proptest! {
         }
     }
 }
+
+// ---------------------------------------------------------------- issue 13
+
+/// A malformed first reading is refused at its line, never taken for a
+/// header (issue 13, point 6: these five were dropped as a header before).
+#[test]
+fn malformed_first_reading_is_refused_at_its_line() {
+    for bad in ["inf", "1e400", "0x1A", "1.2.3", "1.5x"] {
+        let text = format!("{bad}\n1\n2\n3\n");
+        let e = read(text.as_bytes(), &tau(1.0)).unwrap_err();
+        assert_eq!(e.line, Some(1), "{bad}: {e}");
+        assert!(err_text(&e).contains(&format!("'{bad}'")), "{e}");
+    }
+    // Two columns: the same.
+    let e = read(b"0,1.5x\n1,2\n2,3\n", &SeriesOptions::default()).unwrap_err();
+    assert_eq!((e.line, e.column), (Some(1), Some(2)), "{e}");
+}
+
+/// Comment styles (issue 13, point 1): `;`, `%`, `//` and `--comment`.
+#[test]
+fn comment_styles() {
+    let s = read(
+        b"; a\n% b\n// c\n! d\n1\n2\n",
+        &SeriesOptions {
+            tau0: Some(1.0),
+            comments: "!".into(),
+            ..Default::default()
+        },
+    )
+    .unwrap();
+    assert_eq!(values(&s.record), vec![1.0, 2.0]);
+    assert_eq!(s.info.preamble.len(), 4);
+}
+
+/// Units in headers (issue 13, point 2): `Frequency(Hz)` is not phase in
+/// seconds, `TIE (ns)` not seconds; a bracketed unit we do not read is
+/// refused without --units.
+#[test]
+fn units_from_headers() {
+    let e = read(
+        b"t,Frequency(Hz)\n0,10000000.1\n1,10000000.2\n",
+        &SeriesOptions::default(),
+    )
+    .unwrap_err();
+    assert!(err_text(&e).contains("--carrier"), "{e}");
+    let s = read(
+        b"t,Frequency(Hz)\n0,10000000.1\n1,10000000.2\n",
+        &SeriesOptions {
+            carrier: Some(10e6),
+            ..Default::default()
+        },
+    )
+    .unwrap();
+    assert_eq!(s.record.kind(), DataKind::Freq);
+    assert!((values(&s.record)[0] - 1e-8).abs() < 1e-15);
+    let s = read(b"t,TIE (ns)\n0,1.7\n1,1.8\n", &SeriesOptions::default()).unwrap();
+    assert!(same(&values(&s.record), &[1.7e-9, 1.8e-9]));
+    let e = read(b"t,Phase (deg)\n0,1\n1,2\n", &SeriesOptions::default()).unwrap_err();
+    assert_eq!(e.line, Some(1), "{e}");
+    assert!(err_text(&e).contains("'deg'"), "{e}");
+    let e = read(b"t,frequency\n0,1e-9\n1,2e-9\n", &SeriesOptions::default()).unwrap_err();
+    assert!(err_text(&e).contains("--data freq"), "{e}");
+    // Implausible values for the unit in force are warned about.
+    let s = read(b"t,x\n0,12.5\n1,13.5\n", &SeriesOptions::default()).unwrap();
+    assert!(
+        s.info.warnings[0].contains("more than a second"),
+        "{:?}",
+        s.info.warnings
+    );
+}
+
+/// Every reader of a small whole file is bounded (issue 12, point 8):
+/// `/dev/zero` is refused with the bound instead of filling memory.
+#[cfg(unix)]
+#[test]
+fn small_file_readers_are_bounded() {
+    let zero = Path::new("/dev/zero");
+    let e = tauwise::wander::mask_file::read_mask_file(zero).unwrap_err();
+    assert!(e.to_string().contains("larger than 1 MiB"), "{e}");
+    let e = tauwise::io::dut::Dut::read(zero).unwrap_err();
+    assert!(e.to_string().contains("larger than 1 MiB"), "{e}");
+    let o = bin()
+        .args([
+            "convert",
+            "--sigma",
+            "/dev/zero",
+            "--to",
+            "lf",
+            "--carrier",
+            "10MHz",
+        ])
+        .output()
+        .unwrap();
+    assert_eq!(o.status.code(), Some(1));
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert!(err.contains("larger than 64 MiB"), "{err}");
+    // The series reader: a line without an end is bounded too.
+    let e = read_series(zero, &tau(1.0)).unwrap_err();
+    assert!(err_text(&e).contains("longer than"), "{e}");
+}
