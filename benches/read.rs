@@ -10,6 +10,9 @@
 //! `/proc/thread-self/schedstat`), which is what to quote on a machine shared
 //! with other work, where wall time mostly measures waiting for a core.
 //!
+//! A third group, `read_npy`, reads the same records as `.npy` (float64,
+//! one-dimensional) — binary input at memory speed.
+//!
 //! Run: `cargo bench --bench read` (set `TAUWISE_BENCH_LINES=1000000` to
 //! skip the 10^7-line files).
 
@@ -132,7 +135,38 @@ fn bench_cpu(c: &mut Criterion<ThreadCpu>) {
     group.finish();
 }
 
-criterion_group!(wall, bench_wall);
+fn bench_npy(c: &mut Criterion) {
+    let dir = tempfile::tempdir().unwrap();
+    let mut group = c.benchmark_group("read_npy");
+    group.sample_size(10);
+    group.warm_up_time(Duration::from_millis(500));
+    group.measurement_time(Duration::from_secs(5));
+    for n in sizes() {
+        let path = dir.path().join(format!("x-{n}.npy"));
+        let x: Vec<f64> = (0..n).map(|i| (i as f64 * 1e-3).sin() * 1e-9).collect();
+        let mut f = std::io::BufWriter::new(std::fs::File::create(&path).unwrap());
+        tauwise::io::npy::write_f64(&mut f, &[&x]).unwrap();
+        f.flush().unwrap();
+        drop(f);
+        drop(x);
+        let opts = SeriesOptions {
+            tau0: Some(1.0),
+            ..Default::default()
+        };
+        group.throughput(Throughput::Bytes(std::fs::metadata(&path).unwrap().len()));
+        group.bench_function(format!("float64/{n}"), |b| {
+            b.iter(|| {
+                let s = read_series(&path, &opts).unwrap();
+                assert_eq!(s.record.len(), n);
+                s
+            })
+        });
+        std::fs::remove_file(&path).unwrap();
+    }
+    group.finish();
+}
+
+criterion_group!(wall, bench_wall, bench_npy);
 criterion_group! {
     name = cpu;
     config = Criterion::default().with_measurement(ThreadCpu);

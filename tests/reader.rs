@@ -77,8 +77,8 @@ fn only_comments() {
 fn header_only() {
     let e = read(b"time,phase\n", &tau(1.0)).unwrap_err();
     let m = err_text(&e);
-    assert!(m.contains("only a header line"), "{m}");
-    assert!(m.contains("time,phase"), "{m}");
+    assert!(m.contains("no readings"), "{m}");
+    assert!(m.contains("'time,phase'"), "{m}");
 }
 
 #[test]
@@ -109,9 +109,16 @@ fn non_numeric_field_names_line_1234() {
 }
 
 #[test]
-fn second_text_line_is_an_error() {
-    let e = read(b"a,b\nc,d\n1,2\n", &SeriesOptions::default()).unwrap_err();
-    assert_eq!(e.line, Some(2), "{e}");
+fn text_lines_before_the_data_are_a_preamble() {
+    // Issue 13: lines of text before the first reading are a preamble; the
+    // last one is the header.
+    let s = read(b"a,b\nc,d\n1,2\n2,3\n", &SeriesOptions::default()).unwrap();
+    assert_eq!(s.info.preamble, vec!["a,b".to_string(), "c,d".to_string()]);
+    assert_eq!(s.info.header, Some(vec!["c".into(), "d".into()]));
+    assert_eq!(values(&s.record), vec![2.0, 3.0]);
+    // Text between readings is an error naming its line.
+    let e = read(b"1,2\n2,3\nc,d\n3,4\n", &SeriesOptions::default()).unwrap_err();
+    assert_eq!(e.line, Some(3), "{e}");
 }
 
 #[test]
@@ -160,8 +167,16 @@ fn irregular_timestamps_name_the_line() {
     .unwrap_err();
     assert_eq!(e.line, Some(5), "{e}");
     assert!(err_text(&e).contains("whole multiple of τ0"), "{e}");
-    // With τ0 given and no time column named, column 1 is not read as time.
-    let s = read(b"0 1\n1 2\n2.5 3\n", &tau(1.0)).unwrap();
+    // Issue 13: with τ0 given, column 1 still places the readings (and the
+    // stamps must agree with τ0); --time-column none reads them contiguous.
+    let e = read(b"0 1\n1 2\n2.5 3\n", &tau(1.0)).unwrap_err();
+    assert_eq!(e.line, Some(3), "{e}");
+    let opts = SeriesOptions {
+        tau0: Some(1.0),
+        no_time_column: true,
+        ..Default::default()
+    };
+    let s = read(b"0 1\n1 2\n2.5 3\n", &opts).unwrap();
     assert_eq!(values(&s.record), vec![1.0, 2.0, 3.0]);
     // With τ0 given and the time column named (streaming placement).
     let opts = SeriesOptions {
@@ -254,7 +269,7 @@ fn all_missing() {
 
 #[test]
 fn bad_timestamp_field() {
-    let e = read(b"t,x\n0,1\nnoon,2\n", &SeriesOptions::default()).unwrap_err();
+    let e = read(b"t,x\n0,1\nnoon,2\n3,4\n", &SeriesOptions::default()).unwrap_err();
     assert_eq!((e.line, e.column), (Some(3), Some(1)));
     assert!(err_text(&e).contains("ISO-8601"), "{e}");
 }
@@ -587,7 +602,7 @@ fn cli_bad_inputs_exit_non_zero_and_write_nothing() {
     );
     cli_fails(dir.path(), &["--tau0", "1s"], "is a directory");
     cli_fails(&w("empty.txt", b""), &["--tau0", "1s"], "the file is empty");
-    cli_fails(&w("header.txt", b"time,phase\n"), &[], "only a header line");
+    cli_fails(&w("header.txt", b"time,phase\n"), &[], "no readings");
     cli_fails(
         &w("one.txt", b"1e-9\n"),
         &["--tau0", "1s"],
@@ -597,7 +612,7 @@ fn cli_bad_inputs_exit_non_zero_and_write_nothing() {
     for i in 1..1234 {
         t.push_str(&format!("{i}\n"));
     }
-    t.push_str("oops\n");
+    t.push_str("oops\n1235\n");
     cli_fails(
         &w("text.txt", t.as_bytes()),
         &["--tau0", "1s"],
@@ -632,7 +647,7 @@ fn cli_bad_inputs_exit_non_zero_and_write_nothing() {
 fn cli_prepare_failure_writes_nothing() {
     let dir = tempfile::tempdir().unwrap();
     let p = dir.path().join("in.txt");
-    std::fs::write(&p, b"1\n2\nbad\n").unwrap();
+    std::fs::write(&p, b"1\n2\nbad\n3\n").unwrap();
     let out = dir.path().join("clean.txt");
     let o = bin()
         .arg("prepare")
@@ -739,21 +754,28 @@ proptest! {
             want.push(if miss == 0 { f64::NAN } else { v });
             text.push_str(&format!("{}{sep}{field}\n", k_total as f64 * tau0));
         }
-        // The median spacing is τ0 only when at least half the steps are 1.
+        // The median spacing is τ0 only when at least half the steps are 1;
+        // a given τ0 must agree with the stamps in the same sense.
         let steps: Vec<u64> = rows.iter().enumerate().skip(1)
             .map(|(i, r)| if i == 1 { 1 } else { r.1 }).collect();
         let ones = steps.iter().filter(|&&k| k == 1).count();
-        prop_assume!(given_tau0 || 2 * ones > steps.len());
         prop_assume!(want.iter().any(|v| !v.is_nan()));
         let opts = SeriesOptions {
             tau0: given_tau0.then_some(tau0),
             time_column: Some(1),
             ..Default::default()
         };
-        let s = read(text.as_bytes(), &opts).unwrap();
-        prop_assert_eq!(s.record.tau0(), tau0);
-        prop_assert!(same(&values(&s.record), &want));
-        prop_assert_eq!(s.info.inserted_gaps, want.len() - rows.len());
+        let agree = 2 * ones >= steps.len();
+        if given_tau0 && !agree {
+            let e = read(text.as_bytes(), &opts).unwrap_err();
+            prop_assert!(e.to_string().contains("disagree"), "{}", e);
+        } else {
+            prop_assume!(given_tau0 || 2 * ones > steps.len());
+            let s = read(text.as_bytes(), &opts).unwrap();
+            prop_assert_eq!(s.record.tau0(), tau0);
+            prop_assert!(same(&values(&s.record), &want));
+            prop_assert_eq!(s.info.inserted_gaps, want.len() - rows.len());
+        }
     }
 
     #[test]
@@ -785,4 +807,104 @@ proptest! {
             }
         }
     }
+}
+
+// ---------------------------------------------------------------- issue 13
+
+/// A malformed first reading is refused at its line, never taken for a
+/// header (issue 13, point 6: these five were dropped as a header before).
+#[test]
+fn malformed_first_reading_is_refused_at_its_line() {
+    for bad in ["inf", "1e400", "0x1A", "1.2.3", "1.5x"] {
+        let text = format!("{bad}\n1\n2\n3\n");
+        let e = read(text.as_bytes(), &tau(1.0)).unwrap_err();
+        assert_eq!(e.line, Some(1), "{bad}: {e}");
+        assert!(err_text(&e).contains(&format!("'{bad}'")), "{e}");
+    }
+    // Two columns: the same.
+    let e = read(b"0,1.5x\n1,2\n2,3\n", &SeriesOptions::default()).unwrap_err();
+    assert_eq!((e.line, e.column), (Some(1), Some(2)), "{e}");
+}
+
+/// Comment styles (issue 13, point 1): `;`, `%`, `//` and `--comment`.
+#[test]
+fn comment_styles() {
+    let s = read(
+        b"; a\n% b\n// c\n! d\n1\n2\n",
+        &SeriesOptions {
+            tau0: Some(1.0),
+            comments: "!".into(),
+            ..Default::default()
+        },
+    )
+    .unwrap();
+    assert_eq!(values(&s.record), vec![1.0, 2.0]);
+    assert_eq!(s.info.preamble.len(), 4);
+}
+
+/// Units in headers (issue 13, point 2): `Frequency(Hz)` is not phase in
+/// seconds, `TIE (ns)` not seconds; a bracketed unit we do not read is
+/// refused without --units.
+#[test]
+fn units_from_headers() {
+    let e = read(
+        b"t,Frequency(Hz)\n0,10000000.1\n1,10000000.2\n",
+        &SeriesOptions::default(),
+    )
+    .unwrap_err();
+    assert!(err_text(&e).contains("--carrier"), "{e}");
+    let s = read(
+        b"t,Frequency(Hz)\n0,10000000.1\n1,10000000.2\n",
+        &SeriesOptions {
+            carrier: Some(10e6),
+            ..Default::default()
+        },
+    )
+    .unwrap();
+    assert_eq!(s.record.kind(), DataKind::Freq);
+    assert!((values(&s.record)[0] - 1e-8).abs() < 1e-15);
+    let s = read(b"t,TIE (ns)\n0,1.7\n1,1.8\n", &SeriesOptions::default()).unwrap();
+    assert!(same(&values(&s.record), &[1.7e-9, 1.8e-9]));
+    let e = read(b"t,Phase (deg)\n0,1\n1,2\n", &SeriesOptions::default()).unwrap_err();
+    assert_eq!(e.line, Some(1), "{e}");
+    assert!(err_text(&e).contains("'deg'"), "{e}");
+    let e = read(b"t,frequency\n0,1e-9\n1,2e-9\n", &SeriesOptions::default()).unwrap_err();
+    assert!(err_text(&e).contains("--data freq"), "{e}");
+    // Implausible values for the unit in force are warned about.
+    let s = read(b"t,x\n0,12.5\n1,13.5\n", &SeriesOptions::default()).unwrap();
+    assert!(
+        s.info.warnings[0].contains("more than a second"),
+        "{:?}",
+        s.info.warnings
+    );
+}
+
+/// Every reader of a small whole file is bounded (issue 12, point 8):
+/// `/dev/zero` is refused with the bound instead of filling memory.
+#[cfg(unix)]
+#[test]
+fn small_file_readers_are_bounded() {
+    let zero = Path::new("/dev/zero");
+    let e = tauwise::wander::mask_file::read_mask_file(zero).unwrap_err();
+    assert!(e.to_string().contains("larger than 1 MiB"), "{e}");
+    let e = tauwise::io::dut::Dut::read(zero).unwrap_err();
+    assert!(e.to_string().contains("larger than 1 MiB"), "{e}");
+    let o = bin()
+        .args([
+            "convert",
+            "--sigma",
+            "/dev/zero",
+            "--to",
+            "lf",
+            "--carrier",
+            "10MHz",
+        ])
+        .output()
+        .unwrap();
+    assert_eq!(o.status.code(), Some(1));
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert!(err.contains("larger than 64 MiB"), "{err}");
+    // The series reader: a line without an end is bounded too.
+    let e = read_series(zero, &tau(1.0)).unwrap_err();
+    assert!(err_text(&e).contains("longer than"), "{e}");
 }

@@ -331,10 +331,13 @@ fn bin() -> Command {
     Command::new(env!("CARGO_BIN_EXE_tauwise"))
 }
 
+/// The values of a `simulate` file: after the `#` comments and the header
+/// line `time (s),phase (ns)`, rows of time and value.
 fn data_lines(text: &str) -> Vec<f64> {
-    text.lines()
-        .filter(|l| !l.starts_with('#'))
-        .map(|l| l.trim().parse::<f64>().unwrap())
+    let mut lines = text.lines().filter(|l| !l.starts_with('#'));
+    assert!(lines.next().is_some_and(|h| h.starts_with("time (s),")));
+    lines
+        .map(|l| l.split(',').nth(1).unwrap().trim().parse::<f64>().unwrap())
         .collect()
 }
 

@@ -30,15 +30,19 @@ impl From<DataArg> for DataKind {
 #[derive(Debug, Clone, Args)]
 pub struct InputArgs {
     /// What the readings are: phase (time error) or frequency.
-    /// Default: phase, or frequency when --units is a frequency unit.
+    /// Default: from the unit (--units or the header), else phase.
     #[arg(long = "data", value_enum, value_name = "KIND")]
     pub data: Option<DataArg>,
-    /// Sampling interval τ0 (e.g. 1s, 100ms, or plain seconds).
-    /// Default: the median spacing of the timestamps in the time column.
+    /// Sampling interval τ0 (e.g. 1s, 100ms, or plain seconds). Default:
+    /// the median spacing of the timestamps. With a time column too, the
+    /// stamps still place the readings (gaps kept) and must agree with τ0.
     #[arg(long, value_name = "DUR", allow_hyphen_values = true)]
     pub tau0: Option<String>,
     /// Unit of the readings: s ms us ns ps (phase) or frac ppm ppb hz
-    /// (frequency; hz = absolute readings, needs --carrier). Default s / frac.
+    /// (frequency; hz = absolute readings, needs --carrier). Default: the
+    /// unit in the value column's header — (ns) [ps] _us , ns; s ms us ns ps,
+    /// frac ppm ppb, Hz kHz MHz GHz (see docs/input-files.md) — else s or
+    /// frac. A --units that disagrees with the header is an error.
     #[arg(long = "units", value_name = "U")]
     pub units: Option<String>,
     /// Nominal (carrier) frequency, e.g. 10MHz; needed with --units hz.
@@ -47,10 +51,34 @@ pub struct InputArgs {
     /// Column holding the readings (1-based). Default: the last numeric column.
     #[arg(long, value_name = "N")]
     pub value_column: Option<usize>,
-    /// Column holding timestamps (seconds or ISO-8601), 1-based. Default:
-    /// column 1 when the file has two or more columns and --tau0 is not given.
-    #[arg(long, value_name = "N")]
-    pub time_column: Option<usize>,
+    /// Column holding timestamps (seconds, ISO-8601, or the unit in its
+    /// header: ms us min h d MJD), 1-based, or `none` for readings without
+    /// stamps. Default: column 1 when the file has two or more columns.
+    #[arg(long, value_name = "N|none")]
+    pub time_column: Option<String>,
+    /// Round timestamps to the τ0 grid (stamps from a PC clock that wander),
+    /// if each lies within FRAC·τ0 of it (--snap alone: 0.25); the largest
+    /// distance is reported, a stamp beyond it is an error.
+    #[arg(
+        long,
+        value_name = "FRAC",
+        num_args = 0..=1,
+        require_equals = true,
+        default_missing_value = "0.25"
+    )]
+    pub snap: Option<f64>,
+    /// Unwrap phase readings that wrap at PERIOD (e.g. 100ns for a
+    /// time-interval counter comparing 10 MHz against 10 MHz).
+    #[arg(long, value_name = "PERIOD")]
+    pub wrap: Option<String>,
+    /// More characters that start a comment line, besides # ; % and //.
+    #[arg(long, value_name = "CHARS")]
+    pub comment: Option<String>,
+    /// Read every comma in a field as a decimal mark (for files where this
+    /// is ambiguous; semicolon-, tab- and space-separated files and quoted
+    /// fields are recognised without it).
+    #[arg(long)]
+    pub decimal_comma: bool,
 }
 
 impl InputArgs {
@@ -68,20 +96,71 @@ impl InputArgs {
             Some(c) => Some(positive_frequency(c, "carrier", "10MHz")?),
             None => None,
         };
+        let (time_column, no_time_column) = match self.time_column.as_deref().map(str::trim) {
+            None => (None, false),
+            Some(t) if t.eq_ignore_ascii_case("none") => (None, true),
+            Some(t) => match t.parse::<usize>() {
+                Ok(n) => (Some(n), false),
+                Err(_) => {
+                    return Err(Error::invalid(format!(
+                        "--time-column {t}: expected a column number (1, 2, …) or none"
+                    )))
+                }
+            },
+        };
+        let wrap = match &self.wrap {
+            Some(w) => Some(positive_duration(w, "wrap", "100ns")?),
+            None => None,
+        };
+        if let Some(f) = self.snap {
+            if !(f > 0.0 && f < 0.5) {
+                return Err(Error::invalid(format!(
+                    "--snap={f}: expected a fraction of τ0 above 0 and below 0.5 (e.g. --snap=0.25)"
+                )));
+            }
+        }
+        let comments = self.comment.clone().unwrap_or_default();
+        tauwise::io::text::CommentStyle::with_extra(&comments)
+            .map_err(|m| Error::invalid(format!("--comment {comments}: {m}")))?;
         Ok(SeriesOptions {
             kind: self.data.map(DataKind::from),
             unit,
             tau0,
             carrier,
             value_column: self.value_column,
-            time_column: self.time_column,
+            time_column,
+            no_time_column,
+            snap: self.snap,
+            wrap,
+            comments,
+            decimal_comma: self.decimal_comma,
         })
     }
 
-    /// Read the series at `path` (`-` = standard input) with these options.
+    /// Read the series at `path` (`-` = standard input) with these options;
+    /// the reader's notes and warnings go to standard error.
     pub fn load(&self, path: &Path) -> Result<Series> {
+        let series = self.load_quietly(path)?;
+        report_reading(&series.info);
+        Ok(series)
+    }
+
+    /// [`InputArgs::load`] without printing anything (for `inspect`, which
+    /// shows the notes in its output).
+    pub fn load_quietly(&self, path: &Path) -> Result<Series> {
         let opts = self.options()?;
         Ok(read_series(path, &opts)?)
+    }
+}
+
+/// Print how a file was read (notes) and what looks wrong (warnings) on
+/// standard error, one line each, naming the file.
+pub fn report_reading(info: &tauwise::io::series::SeriesInfo) {
+    for n in &info.notes {
+        eprintln!("tauwise: note: {}: {n}", info.path.display());
+    }
+    for w in &info.warnings {
+        eprintln!("tauwise: warning: {}: {w}", info.path.display());
     }
 }
 
@@ -263,8 +342,9 @@ pub fn emit_to(path: Option<&Path>, bytes: &[u8]) -> Result<()> {
 }
 
 /// The `"input"` object of every command's JSON:
-/// `{"path","data","tau0","points","gaps"}` (DESIGN.md §5). `points` counts
-/// every sample of the record, gaps included; `gaps` the missing ones.
+/// `{"path","data","tau0","points","gaps","preamble_lines"}` (DESIGN.md §5).
+/// `points` counts every sample of the record, gaps included; `gaps` the
+/// missing ones; `preamble_lines` the lines before the first reading.
 pub fn input_json(series: &Series) -> serde_json::Value {
     serde_json::json!({
         "path": series.info.path.display().to_string(),
@@ -272,6 +352,7 @@ pub fn input_json(series: &Series) -> serde_json::Value {
         "tau0": series.record.tau0(),
         "points": series.record.len(),
         "gaps": series.record.gaps(),
+        "preamble_lines": series.info.preamble,
     })
 }
 

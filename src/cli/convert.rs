@@ -50,9 +50,10 @@ pub struct Args {
     /// Power-law model in h_α notation (h2 h1 h0 h-1 h-2, fh).
     #[arg(long, value_name = "MODEL")]
     pub model: Option<String>,
-    /// What the table's values are: lf, sphi, sphi-db or sy.
-    #[arg(long, value_name = "Q", default_value = "lf")]
-    pub quantity: String,
+    /// What the table's values are: lf, sphi, sphi-db or sy. Default: the
+    /// quantity the value column's header names (dBc/Hz, rad²/Hz, …), else lf.
+    #[arg(long, value_name = "Q")]
+    pub quantity: Option<String>,
     /// Carrier frequency ν0 (e.g. 10MHz).
     #[arg(long, value_name = "FREQ")]
     pub carrier: Option<String>,
@@ -116,15 +117,21 @@ struct Source {
 fn source(args: &Args, carrier: Option<f64>, tau_hint: Option<f64>) -> Result<Source> {
     let fh_opt = freq(&args.fh, "fh")?;
     if let Some(path) = &args.lf {
-        let q = TableQuantity::parse(&args.quantity)?;
         let t = read_lf_table(
             path,
             &TableOptions {
-                quantity: q,
+                quantity: super::jitter::quantity_option(&args.quantity)?,
                 carrier,
                 ..Default::default()
             },
         )?;
+        super::jitter::report_table(&t);
+        let q = t.quantity;
+        if q != TableQuantity::Sy && carrier.is_none() {
+            return Err(Error::invalid(
+                "this conversion needs the carrier frequency: give --carrier (e.g. --carrier 10MHz)",
+            ));
+        }
         let (lo, hi) = t.spectrum.range();
         let f_h = fh_opt.unwrap_or(hi);
         let mut header = table_header(&t, q);
@@ -197,7 +204,7 @@ pub fn run(args: Args) -> Result<Outcome> {
     )?;
     let carrier = freq(&args.carrier, "carrier")?;
     let needs_carrier = args.lf.is_some()
-        && TableQuantity::parse(&args.quantity)? != TableQuantity::Sy
+        && super::jitter::quantity_option(&args.quantity)?.is_some_and(|q| q != TableQuantity::Sy)
         || args.to == Target::Lf;
     if needs_carrier && carrier.is_none() {
         return Err(Error::invalid(
@@ -464,6 +471,10 @@ fn to_lf(args: &Args, src: Source, carrier: Option<f64>) -> Result<String> {
     })
 }
 
+/// Largest `stability --format json` document `--sigma` reads (a result of
+/// every estimator at every τ of a long record is a few MB).
+const STABILITY_JSON_LIMIT: u64 = 64 << 20;
+
 /// Fit h_α to the curves of a `stability` JSON document (model-based
 /// direction of the conversion): `adev`/`oadev` as AVAR, `mdev` as MVAR,
 /// `hdev`/`ohdev` as HVAR, weighted by each point's EDF (1 when absent).
@@ -476,7 +487,8 @@ fn model_from_stability(path: &std::path::Path, fh: Option<f64>) -> Result<Power
             format!("{what}; expected the JSON written by `tauwise stability --format json`"),
         ))
     };
-    let text = std::fs::read_to_string(path).map_err(|e| bad(&format!("could not read: {e}")))?;
+    let text =
+        tauwise::io::text::read_small_text(path, STABILITY_JSON_LIMIT, "stability JSON result")?;
     let doc: serde_json::Value =
         serde_json::from_str(&text).map_err(|e| bad(&format!("not JSON ({e})")))?;
     let tau0 = doc["input"]["tau0"]

@@ -1,18 +1,23 @@
-//! `tauwise inspect FILE`: what a record holds before any analysis — size,
-//! span, τ0, gaps, mean frequency offset, linear drift, frequency outliers.
+//! `tauwise inspect FILE`: what a record holds before any analysis — how the
+//! file was read (preamble, header, delimiter, decimal mark, unit and where
+//! it came from, notes, warnings, suggested options), size, span, τ0, gaps,
+//! mean frequency offset, linear drift, frequency outliers.
 
 use super::common::{emit, header_json, json_text, num, plain, Format, InputArgs, OutputArgs};
 use super::Outcome;
 use clap::Args as ClapArgs;
 use std::fmt::Write as _;
 use std::path::PathBuf;
-use tauwise::io::series::Series;
+use tauwise::io::series::{suggestions, Series, Suggestion, UnitSource};
 use tauwise::prepare::{summarize, Summary};
 use tauwise::units::{format_si, format_sig};
 use tauwise::Result;
 
 /// Most outlier indices listed in the output.
 const LISTED: usize = 100;
+
+/// Most preamble lines shown in the table (JSON carries them all).
+const PREAMBLE_SHOWN: usize = 20;
 
 /// Summarise a phase or frequency record.
 #[derive(Debug, ClapArgs)]
@@ -32,20 +37,29 @@ pub struct Args {
 /// Run `inspect`.
 pub fn run(args: Args) -> Result<Outcome> {
     super::common::check_output_paths(&[&args.file], &[args.output.output.as_deref()])?;
-    let series = args.input.load(&args.file)?;
+    let series = args.input.load_quietly(&args.file)?;
     let summary = summarize(&series.record, args.outlier_limit)?;
+    let hints = suggestions(&series);
     let text = match args.output.format {
-        Format::Json => json_text(&to_json(&series, &summary)),
-        Format::Csv => to_csv(&series, &summary),
-        Format::Table => to_table(&series, &summary),
+        Format::Json => json_text(&to_json(&series, &summary, &hints)),
+        Format::Csv => to_csv(&series, &summary, &hints)?,
+        Format::Table => to_table(&series, &summary, &hints),
     };
     emit(&args.output, &text)?;
     Ok(Outcome::Done)
 }
 
-fn to_json(series: &Series, s: &Summary) -> serde_json::Value {
+fn to_json(series: &Series, s: &Summary, hints: &[Suggestion]) -> serde_json::Value {
     let mut m = header_json(series);
     let info = &series.info;
+    m.insert(
+        "reading".into(),
+        serde_json::to_value(info).unwrap_or(serde_json::Value::Null),
+    );
+    m.insert(
+        "suggestions".into(),
+        serde_json::to_value(hints).unwrap_or(serde_json::Value::Null),
+    );
     m.insert("lines".into(), info.lines.into());
     m.insert("bytes".into(), info.bytes.into());
     m.insert("header".into(), serde_json::json!(info.header));
@@ -107,11 +121,19 @@ fn opt(v: Option<f64>) -> String {
     v.map(plain).unwrap_or_default()
 }
 
-fn to_csv(series: &Series, s: &Summary) -> String {
+fn to_csv(series: &Series, s: &Summary, hints: &[Suggestion]) -> Result<String> {
     let info = &series.info;
     let mut rows: Vec<(&str, String, &str)> = vec![
         ("path", info.path.display().to_string(), ""),
         ("data", series.record.kind().name().to_string(), ""),
+        ("unit", info.unit.clone(), ""),
+        ("unit_source", unit_source(info.unit_source).to_string(), ""),
+        ("preamble_lines", info.preamble_lines.to_string(), ""),
+        (
+            "decimal_comma",
+            info.decimal_comma.is_some().to_string(),
+            "",
+        ),
         ("points", s.points.to_string(), ""),
         ("gaps", s.gaps.to_string(), ""),
         ("inserted_gaps", info.inserted_gaps.to_string(), ""),
@@ -142,16 +164,28 @@ fn to_csv(series: &Series, s: &Summary) -> String {
         rows.push(("frequency_median", plain(o.median), ""));
         rows.push(("frequency_mad", plain(o.mad), ""));
     }
-    let mut out = String::from("quantity,value,unit\n");
-    for (k, v, u) in rows {
-        let v = if v.contains([',', '"', '\n']) {
-            format!("\"{}\"", v.replace('"', "\"\""))
-        } else {
-            v
-        };
-        let _ = writeln!(out, "{k},{v},{u}");
+    for h in hints {
+        rows.push(("suggestion", h.option.clone(), ""));
     }
-    out
+    let mut w = csv::Writer::from_writer(Vec::new());
+    let fail = |e: csv::Error| tauwise::Error::invalid(format!("could not write CSV: {e}"));
+    w.write_record(["quantity", "value", "unit"])
+        .map_err(fail)?;
+    for (k, v, u) in rows {
+        w.write_record([k, v.as_str(), u]).map_err(fail)?;
+    }
+    let bytes = w
+        .into_inner()
+        .map_err(|e| tauwise::Error::invalid(format!("could not write CSV: {e}")))?;
+    Ok(String::from_utf8_lossy(&bytes).into_owned())
+}
+
+fn unit_source(s: UnitSource) -> &'static str {
+    match s {
+        UnitSource::Option => "option",
+        UnitSource::Header => "header",
+        UnitSource::Default => "default",
+    }
 }
 
 /// A duration in seconds, with days or hours when long.
@@ -166,22 +200,91 @@ fn duration_text(s: f64) -> String {
     }
 }
 
-fn to_table(series: &Series, s: &Summary) -> String {
+fn to_table(series: &Series, s: &Summary, hints: &[Suggestion]) -> String {
     let info = &series.info;
     let mut rows: Vec<(String, String)> = Vec::new();
     rows.push(("input".into(), info.path.display().to_string()));
-    rows.push((
-        "read".into(),
-        format!("{} lines, {} bytes", info.lines, info.bytes),
-    ));
+    let read = match info.format {
+        tauwise::io::series::InputFormat::Npy => format!("{} bytes (numpy .npy)", info.bytes),
+        tauwise::io::series::InputFormat::Text => format!(
+            "{} lines, {} bytes{}{}",
+            info.lines,
+            info.bytes,
+            info.delimiter
+                .map(|d| format!(", fields separated by {}", d.name()))
+                .unwrap_or_default(),
+            if info.bom {
+                ", UTF-8 byte-order mark skipped"
+            } else {
+                ""
+            }
+        ),
+    };
+    rows.push(("read".into(), read));
+    if info.preamble_lines > 0 {
+        rows.push((
+            "preamble".into(),
+            format!(
+                "{} line(s) before the first reading{}",
+                info.preamble_lines,
+                info.first_data_line
+                    .map(|l| format!(" (readings from line {l})"))
+                    .unwrap_or_default()
+            ),
+        ));
+        for l in info.preamble.iter().take(PREAMBLE_SHOWN) {
+            rows.push((String::new(), format!("| {l}")));
+        }
+        if info.preamble_lines as usize > PREAMBLE_SHOWN {
+            rows.push((
+                String::new(),
+                format!("| … {} more", info.preamble_lines as usize - PREAMBLE_SHOWN),
+            ));
+        }
+    }
     if let Some(h) = &info.header {
-        rows.push(("header".into(), h.join(" | ")));
+        rows.push((
+            "header".into(),
+            format!(
+                "{}{}",
+                h.join(" | "),
+                info.header_line
+                    .map(|l| format!("  (line {l})"))
+                    .unwrap_or_default()
+            ),
+        ));
     }
     let kind = match series.record.kind() {
-        tauwise::DataKind::Phase => "phase (s)",
-        tauwise::DataKind::Freq => "fractional frequency",
+        tauwise::DataKind::Phase => "phase",
+        tauwise::DataKind::Freq => "frequency",
     };
-    rows.push(("data".into(), kind.into()));
+    let unit_from = match info.unit_source {
+        UnitSource::Option => "--units",
+        UnitSource::Header => "from the header",
+        UnitSource::Default => "default: no unit given or in the header",
+    };
+    rows.push((
+        "data".into(),
+        format!(
+            "{kind} in {} ({unit_from}), column {}{}",
+            info.unit,
+            info.value_column,
+            match (info.time_column, info.time_kind) {
+                (Some(c), Some(k)) => format!(
+                    "; time column {c} ({})",
+                    match k {
+                        tauwise::io::series::TimeKind::Seconds => "seconds",
+                        tauwise::io::series::TimeKind::DateTime => "date-times",
+                        tauwise::io::series::TimeKind::Mjd => "MJD",
+                    }
+                ),
+                _ => "; no time column".to_string(),
+            }
+        ),
+    ));
+    if let Some(d) = &info.decimal_comma {
+        rows.push(("decimal mark".into(), format!("comma — {d}")));
+    }
     rows.push(("points".into(), s.points.to_string()));
     let gaps = if info.inserted_gaps > 0 {
         format!(
@@ -261,6 +364,15 @@ fn to_table(series: &Series, s: &Summary) -> String {
             );
         }
         rows.push(("outliers".into(), v));
+    }
+    for n in &info.notes {
+        rows.push(("note".into(), n.clone()));
+    }
+    for w in &info.warnings {
+        rows.push(("warning".into(), w.clone()));
+    }
+    for h in hints {
+        rows.push(("suggestion".into(), format!("{} — {}", h.option, h.reason)));
     }
     let w = rows
         .iter()

@@ -47,8 +47,10 @@ pub struct Args {
     #[command(flatten)]
     pub input: InputArgs,
     /// What the table's values are: lf (dBc/Hz), sphi (rad²/Hz), sphi-db (dB rad²/Hz), sy (1/Hz).
-    #[arg(long, value_name = "Q", default_value = "lf")]
-    pub quantity: String,
+    /// Default: the quantity the value column's header names (dBc/Hz, rad²/Hz,
+    /// dB rad²/Hz, 1/Hz), else lf.
+    #[arg(long, value_name = "Q")]
+    pub quantity: Option<String>,
     /// Integration band FROM:TO (e.g. 12k:20M); repeat for several bands.
     #[arg(long = "band", value_name = "FROM:TO", required = true)]
     pub bands: Vec<String>,
@@ -58,7 +60,8 @@ pub struct Args {
     /// Weighting file: offset against |H(f)|² in dB.
     #[arg(long, value_name = "FILE")]
     pub filter_file: Option<PathBuf>,
-    /// Spur list: offset against spur level in dBc (one sideband).
+    /// Spur list: offset against spur level in dBc (one sideband). Default:
+    /// the spurs listed after the table in a `[spurs]` block, if any.
     #[arg(long, value_name = "FILE")]
     pub spurs: Option<PathBuf>,
     /// Line rate for jitter in unit intervals (e.g. 10.3125G).
@@ -100,7 +103,21 @@ pub fn table_input_json(t: &LfTable, quantity: TableQuantity) -> serde_json::Val
         "points": t.spectrum.len(),
         "from": num(lo),
         "to": num(hi),
+        "preamble_lines": t.preamble,
+        "spurs_listed": t.spurs.len(),
     })
+}
+
+/// The `--quantity` option, parsed (`None` when not given).
+pub fn quantity_option(text: &Option<String>) -> Result<Option<TableQuantity>> {
+    text.as_deref().map(TableQuantity::parse).transpose()
+}
+
+/// Print a table's reading notes on standard error.
+pub fn report_table(t: &LfTable) {
+    for n in &t.notes {
+        eprintln!("tauwise: note: {}: {n}", t.path);
+    }
 }
 
 /// Header members for a table input.
@@ -115,14 +132,15 @@ pub fn table_header(
     m
 }
 
-/// Read a table with the common column options.
+/// Read a table with the common column options (its notes go to standard
+/// error).
 pub fn load_table(
     path: &Path,
-    quantity: TableQuantity,
+    quantity: Option<TableQuantity>,
     input: &InputArgs,
     carrier: Option<f64>,
 ) -> Result<LfTable> {
-    read_lf_table(
+    let t = read_lf_table(
         path,
         &TableOptions {
             quantity,
@@ -130,7 +148,9 @@ pub fn load_table(
             value_column: input.value_column,
             carrier,
         },
-    )
+    )?;
+    report_table(&t);
+    Ok(t)
 }
 
 /// Run `jitter`.
@@ -183,6 +203,7 @@ pub fn run(args: Args) -> Result<Outcome> {
             bands.len()
         )));
     }
+    let spur_file = args.spurs.is_some();
     let ui_rate = match &args.ui_rate {
         Some(r) => {
             let v = parse_frequency(r)?;
@@ -200,13 +221,24 @@ pub fn run(args: Args) -> Result<Outcome> {
     let mut plot_trace: Option<(Spectrum, TraceKind)> = None;
     let (mut header, spectrum, source): (_, Spectrum, String) = match (&args.table, &args.record) {
         (Some(path), _) => {
-            let q = TableQuantity::parse(&args.quantity)?;
+            let q = quantity_option(&args.quantity)?;
             let t = load_table(path, q, &args.input, Some(carrier))?;
             if args.plot.is_some() {
                 plot_trace = Some((t.spectrum.clone(), TraceKind::Table));
             }
+            if !t.spurs.is_empty() {
+                if spur_file {
+                    eprintln!(
+                        "tauwise: note: {}: the {} spur(s) listed after the table are not used: --spurs gives the spur list",
+                        t.path,
+                        t.spurs.len()
+                    );
+                } else {
+                    setup.spurs = t.spurs.clone();
+                }
+            }
             (
-                table_header(&t, q),
+                table_header(&t, t.quantity),
                 t.spectrum.clone(),
                 format!("table {}", path.display()),
             )

@@ -1,7 +1,10 @@
 //! `tauwise prepare FILE -o OUT`: a cleaned copy of a record — outliers made
-//! gaps, drift removed, gaps filled, decimated — written atomically as one
-//! value per line (phase in seconds, or fractional frequency) after a `#`
-//! comment header that says what was done.
+//! gaps, drift removed, gaps filled, decimated — written atomically in the
+//! form every command reads back as it was ([`tauwise::io::record_file`]):
+//! `#` comment lines that say what was done, a header `time (s),phase (s)`
+//! (or `time,frequency (frac)`), and rows of time stamp and value — the
+//! stamps carry τ0 and the record's start (ISO-8601 UTC when the input had
+//! date-times), NaN marks a gap.
 //!
 //! The steps run in this order: outliers (on the frequency as read), drift
 //! (fitted after the outliers are gone), gap filling, decimation.
@@ -11,8 +14,10 @@ use super::Outcome;
 use clap::{Args as ClapArgs, ValueEnum};
 use std::io::Write;
 use std::path::{Path, PathBuf};
+use tauwise::io::record_file::{write_record_file, RecordFile, Start};
 use tauwise::prepare::{self, DriftModel};
 use tauwise::units::{format_si, format_sig};
+use tauwise::units::{FreqUnit, PhaseUnit, ValueUnit};
 use tauwise::{Error, Record, Result};
 
 /// Drift model to remove (`--remove-drift`).
@@ -167,7 +172,12 @@ pub fn run(args: Args) -> Result<Outcome> {
         ));
     }
 
-    write_record(&args.output, &record, &notes)?;
+    let start = match (series.info.start_unix, series.info.start_time) {
+        (Some((s, ns)), _) => Start::DateTime(s, ns),
+        (None, Some(t)) => Start::Seconds(t),
+        (None, None) => Start::Seconds(0.0),
+    };
+    write_record(&args.output, &record, &notes, start)?;
     if args.output.as_os_str() != "-" {
         eprintln!(
             "tauwise: wrote {} ({} {} samples, τ0 {}, {} gaps)",
@@ -181,32 +191,42 @@ pub fn run(args: Args) -> Result<Outcome> {
     Ok(Outcome::Done)
 }
 
-fn write_body(w: &mut dyn Write, record: &Record, notes: &[String]) -> std::io::Result<()> {
-    let (what, values): (&str, &[f64]) = match record {
-        Record::Phase(p) => ("phase in seconds", &p.x),
-        Record::Frequency(f) => ("fractional frequency", &f.y),
+fn write_body(
+    w: &mut dyn Write,
+    record: &Record,
+    notes: &[String],
+    start: Start,
+) -> std::io::Result<()> {
+    let (what, unit) = match record {
+        Record::Phase(_) => ("phase in seconds", ValueUnit::Phase(PhaseUnit::S)),
+        Record::Frequency(_) => ("fractional frequency", ValueUnit::Freq(FreqUnit::Frac)),
     };
-    writeln!(w, "# {} {} prepare", tauwise::TOOL, tauwise::VERSION)?;
-    writeln!(
+    let mut comments = vec![
+        format!("{} {} prepare", tauwise::TOOL, tauwise::VERSION),
+        format!(
+            "data: {} ({what}), one sample per row after the header, NaN = gap",
+            record.kind().name()
+        ),
+        format!("tau0: {} s", plain(record.tau0())),
+        format!("samples: {}, gaps: {}", record.len(), record.gaps()),
+    ];
+    comments.extend(notes.iter().cloned());
+    write_record_file(
         w,
-        "# data: {} ({what}), one value per line, NaN = gap",
-        record.kind().name()
-    )?;
-    writeln!(w, "# tau0: {} s", plain(record.tau0()))?;
-    writeln!(w, "# samples: {}, gaps: {}", record.len(), record.gaps())?;
-    for n in notes {
-        writeln!(w, "# {n}")?;
-    }
-    for &v in values {
-        writeln!(w, "{}", plain(v))?;
-    }
-    Ok(())
+        &RecordFile {
+            record,
+            unit,
+            carrier: None,
+            start,
+            comments: &comments,
+        },
+    )
 }
 
-fn write_record(path: &Path, record: &Record, notes: &[String]) -> Result<()> {
+fn write_record(path: &Path, record: &Record, notes: &[String], start: Start) -> Result<()> {
     if path.as_os_str() == "-" {
         let mut so = std::io::BufWriter::new(std::io::stdout().lock());
-        return match write_body(&mut so, record, notes).and_then(|_| so.flush()) {
+        return match write_body(&mut so, record, notes, start).and_then(|_| so.flush()) {
             Ok(()) => Ok(()),
             Err(e) if e.kind() == std::io::ErrorKind::BrokenPipe => Ok(()),
             Err(e) => Err(Error::from(tauwise::io::WriteError {
@@ -215,6 +235,6 @@ fn write_record(path: &Path, record: &Record, notes: &[String]) -> Result<()> {
             })),
         };
     }
-    tauwise::io::write_atomic_with(path, |w| write_body(w, record, notes))?;
+    tauwise::io::write_atomic_with(path, |w| write_body(w, record, notes, start))?;
     Ok(())
 }

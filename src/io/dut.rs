@@ -515,20 +515,14 @@ pub fn parse_aging(text: &str) -> Result<f64, String> {
     Ok(v / div)
 }
 
+/// Largest DUT file read (a DUT file is a page of TOML).
+pub const DUT_FILE_LIMIT: u64 = 1 << 20;
+
 impl Dut {
-    /// Read and check a DUT file.
+    /// Read and check a DUT file (at most [`DUT_FILE_LIMIT`] bytes; a UTF-8
+    /// byte-order mark is skipped).
     pub fn read(path: &Path) -> Result<Dut, ReadError> {
-        let bytes = std::fs::read(path)
-            .map_err(|e| ReadError::file(path, format!("cannot read the DUT file: {e}")))?;
-        let text = String::from_utf8(bytes).map_err(|e| {
-            ReadError::file(
-                path,
-                format!(
-                    "the DUT file is not UTF-8 text (byte {})",
-                    e.utf8_error().valid_up_to()
-                ),
-            )
-        })?;
+        let text = crate::io::text::read_small_text(path, DUT_FILE_LIMIT, "DUT file")?;
         let dir = path.parent().map(Path::to_path_buf).unwrap_or_default();
         Self::parse(&text, path, &dir)
     }

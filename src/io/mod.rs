@@ -1,13 +1,23 @@
-//! Input and output: readers for time series, L(f) tables and DUT files, and
-//! the atomic writer every output goes through.
+//! Input and output: readers for time series (text and `.npy`), L(f) tables
+//! and DUT files, the writer of records that read back as they were, and the
+//! atomic writer every output goes through.
+//!
+//! Text inputs: lines in [`text`], fields and numbers in [`fields`], where
+//! the data start in [`layout`], units in headers in [`header_units`].
 
 use std::path::PathBuf;
 use thiserror::Error;
 
 pub mod dut;
+pub mod fields;
+pub mod header_units;
+pub mod layout;
 pub mod lf_table;
+pub mod npy;
+pub mod record_file;
 pub mod series;
 pub mod text;
+pub mod wrap;
 pub mod write;
 
 pub use write::remove_pending_temp_files;

@@ -3,59 +3,102 @@
 //!
 //! The reader streams: lines go through one reused buffer
 //! ([`super::text::LineReader`]) and only the `f64` values are kept (plus one
-//! `f64` spacing per line while τ0 is still unknown), so a 10^8-line file
-//! loads without its text ever being held in memory. Memory: 8 bytes per
-//! sample; when τ0 comes from the timestamps, 16 bytes more per line until
-//! the spacings have been checked (the spacings and one copy for the median).
+//! `f64` time per line while τ0 is still unknown), so a 10^8-line file loads
+//! without its text ever being held in memory. Memory: 8 bytes per sample;
+//! when τ0 comes from the timestamps, 16 bytes more per line until the
+//! readings have been placed. `.npy` files ([`super::npy`]) are recognised by
+//! their magic bytes and read as binary.
+//!
+//! # Layout (see [`super::layout`])
+//! Lines before the first row of numbers are the *preamble*; the header is
+//! its last line of text when it has as many fields as the data; comments
+//! start with `#`, `;`, `%` or `//` (and the `--comment` characters). A block
+//! of text after the readings ends them (with a note), unless readings
+//! follow it — then the first text line is an error.
 //!
 //! # Columns (our defaults)
 //! - The **value column** is `value_column` (1-based) or, by default, the last
-//!   field of the first data line that holds a number.
+//!   field of the first data row that holds a number (or a malformed one).
 //! - The **time column** is `time_column`, or by default column 1 when the
-//!   file has at least two fields, `tau0` is not given and the value column is
-//!   not column 1. When `tau0` is given and no time column is named, the
-//!   readings are taken as contiguous and any other column is ignored.
+//!   first data row has at least two fields and the value column is not
+//!   column 1 — also when τ0 is given (then the stamps place the readings and
+//!   must agree with τ0). `no_time_column` (`--time-column none`) reads the
+//!   readings as contiguous.
 //!
 //! # Timestamps and τ0
-//! Timestamps are seconds (any origin) or ISO-8601 date-times
-//! (`2024-05-01T12:00:00.25Z`, `2024-05-01 12:00:00+02:00`; without an offset
-//! they are taken as UTC). They must increase. τ0 is `tau0` or, when not
-//! given, the median of the spacings Δt_i = t_i − t_{i−1} (the lower median
-//! for an even count, so that it is a spacing actually seen; rounded to 10
-//! significant digits). Each spacing must be k·τ0 for a whole k ≥ 1 within
-//! 1 % of τ0, i.e. |Δt/τ0 − k| ≤ 0.01; a spacing of k·τ0 inserts k − 1 gaps
-//! (NaN). Samples are placed by accumulating k, so a time base that runs
-//! slightly fast or slow does not break the placement.
+//! Timestamps are seconds (any origin; or the unit in the time column's
+//! header: `ms`, `us`, `min`, `h`, `d`, `MJD`) or ISO-8601 date-times
+//! (`2024-05-01T12:00:00.25Z`, `2024-05-01 12:00:00+02:00`; without an
+//! offset they are taken as UTC). They must increase. τ0 is `tau0` or, when
+//! not given, the median of the spacings Δt_i = t_i − t_{i−1} (the lower
+//! median, a spacing actually seen; rounded to 10 significant digits).
+//! Each spacing must be k·τ0 for a whole k ≥ 1 within 1 % of τ0,
+//! |Δt/τ0 − k| ≤ 0.01; a spacing of k·τ0 inserts k − 1 gaps (NaN). Samples
+//! are placed by accumulating k, so a time base that runs slightly fast or
+//! slow does not break the placement. At least half the spacings must be one
+//! τ0 (else the stamps and τ0 disagree).
+//!
+//! With `snap` (`--snap`, for stamps taken by a PC clock that wander by tens
+//! of milliseconds), each stamp is instead rounded to the nearest point of
+//! the grid t_first + n·τ0, provided it lies within `snap`·τ0 of it; the
+//! largest distance from the grid (about the mean distance) is reported.
+//! When τ0 is not given it is the stamps' span over the number of steps
+//! between them (spacings counted in median spacings), to 3 significant
+//! digits.
 //!
 //! # Units
 //! Phase: `s ms us ns ps` (multiplied into seconds). Frequency: `frac`, `ppm`
 //! (×10⁻⁶), `ppb` (×10⁻⁹), and `hz` for absolute readings ν, converted to
 //! fractional frequency y = (ν − ν0)/ν0 with the carrier ν0 (IEEE Std 1139
-//! definition of y).
+//! definition of y). Without `unit`, a unit in the value column's header is
+//! used ([`super::header_units`]); a unit option that disagrees with the
+//! header is an error, and so is a header unit tauwise does not read. The
+//! readings are then checked for plausibility (phase beyond a second,
+//! fractional frequency beyond 10⁻³, readings that look like absolute
+//! hertz) and warnings say so.
+//!
+//! # Wrapping readings
+//! With `wrap` (a period in seconds, phase only), readings that wrap at the
+//! period are unwrapped ([`super::wrap`]).
 //!
 //! # Missing values
 //! `NaN`, an empty field and `-` in the value column are gaps (NaN).
 
-use super::text::{self, Delimiter, LineReader};
-use super::ReadError;
+use super::fields::{self, Decimal, Delimiter, NumberError, Splitter};
+use super::header_units::{self, Found, HeaderUnit};
+use super::layout::{self, LayoutOptions};
+use super::text::{self, CommentStyle, LineReader};
+use super::{npy, wrap, ReadError};
 use crate::record::{DataKind, FrequencyRecord, PhaseRecord, Record};
-use crate::units::{FreqUnit, ValueUnit};
+use crate::units::{format_sig, FreqUnit, ValueUnit};
+use serde::Serialize;
 use std::io::BufRead;
 use std::path::{Path, PathBuf};
 
 /// Largest number of missing samples one timestamp jump may insert.
 pub const MAX_JUMP: u64 = 10_000_000;
 
+/// Largest number of samples a record may have (8 GB of values): a bound
+/// so that an endless input fails with a message instead of filling memory.
+pub const MAX_POINTS: usize = 1_000_000_000;
+
 /// Relative tolerance of a timestamp spacing against a whole multiple of τ0.
 pub const SPACING_TOLERANCE: f64 = 0.01;
+
+/// Default `--snap` fraction of τ0.
+pub const DEFAULT_SNAP: f64 = 0.25;
+
+/// Largest phase reading (s) or fractional frequency that is plausible.
+const PLAUSIBLE_PHASE: f64 = 1.0;
+const PLAUSIBLE_FREQUENCY: f64 = 1e-3;
 
 /// How to interpret a time-series file. `Default` reads phase in seconds
 /// from the last numeric column, with τ0 from timestamps in column 1.
 #[derive(Debug, Clone, Default, PartialEq)]
 pub struct SeriesOptions {
-    /// Phase or frequency; `None` → phase, unless `unit` is a frequency unit.
+    /// Phase or frequency; `None` → from the unit (option or header), else phase.
     pub kind: Option<DataKind>,
-    /// Unit of the readings; default `s` for phase, `frac` for frequency.
+    /// Unit of the readings; default: the header's, else `s` / `frac`.
     pub unit: Option<ValueUnit>,
     /// Sampling interval in seconds; `None` → median timestamp spacing
     /// (needs a time column).
@@ -64,28 +107,147 @@ pub struct SeriesOptions {
     pub carrier: Option<f64>,
     /// 1-based value column; default: last numeric column.
     pub value_column: Option<usize>,
-    /// 1-based time column; default: column 1 when the file has ≥ 2 fields,
-    /// `tau0` is absent and the value column is not column 1; else none.
+    /// 1-based time column; default: column 1 when the file has ≥ 2 fields
+    /// and the value column is not column 1.
     pub time_column: Option<usize>,
+    /// No time column at all (`--time-column none`): readings contiguous.
+    pub no_time_column: bool,
+    /// Round stamps to the τ0 grid when within this fraction of τ0.
+    pub snap: Option<f64>,
+    /// Unwrap phase readings that wrap at this period (seconds).
+    pub wrap: Option<f64>,
+    /// Extra comment characters (besides `#`, `;`, `%`, `//`).
+    pub comments: String,
+    /// A comma in a field is always the decimal mark.
+    pub decimal_comma: bool,
+}
+
+/// Where the unit in force came from.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "lowercase")]
+pub enum UnitSource {
+    /// The unit option (`--units`, a DUT file's `units`).
+    Option,
+    /// The value column's header.
+    Header,
+    /// Neither: seconds for phase, fractional for frequency.
+    Default,
+}
+
+/// How the input was stored.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "lowercase")]
+pub enum InputFormat {
+    /// Text columns.
+    Text,
+    /// numpy `.npy` binary.
+    Npy,
+}
+
+/// How the time column is written.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum TimeKind {
+    /// Seconds (or the header's unit), any origin.
+    Seconds,
+    /// ISO-8601 date-times.
+    DateTime,
+    /// Modified Julian Date.
+    Mjd,
+}
+
+/// The end of the readings before a block of text.
+#[derive(Debug, Clone, PartialEq, Eq, Serialize)]
+pub struct DataEnd {
+    /// The line of the last reading.
+    pub last_data_line: u64,
+    /// The first line of the text after it.
+    pub text_line: u64,
+    /// That line (shortened).
+    pub text: String,
+    /// Lines of text ignored (not counting comments and blank lines).
+    pub lines_ignored: u64,
+}
+
+/// What `--snap` did.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct SnapInfo {
+    /// The allowed distance from the grid, as a fraction of τ0.
+    pub fraction: f64,
+    /// The largest distance of a stamp from the grid (s), measured about
+    /// the mean distance.
+    pub largest_jitter: f64,
+    /// The line (or row) of that stamp.
+    pub line: u64,
+}
+
+/// What `--wrap` did.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct UnwrapInfo {
+    /// The period (s).
+    pub period: f64,
+    /// Whole periods added or removed.
+    pub wraps: usize,
 }
 
 /// What was found while reading a series.
-#[derive(Debug, Clone, PartialEq)]
+#[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct SeriesInfo {
     /// The input path (`-` for standard input).
     pub path: PathBuf,
-    /// Lines read, including comments and blank lines.
+    /// Text or `.npy`.
+    pub format: InputFormat,
+    /// Lines read, including comments and blank lines (0 for `.npy`).
     pub lines: u64,
     /// Bytes read.
     pub bytes: u64,
+    /// True when the file started with a UTF-8 byte-order mark (skipped).
+    pub bom: bool,
+    /// The lines before the first reading (comments included; at most
+    /// [`layout::MAX_PREAMBLE_KEPT`]).
+    pub preamble: Vec<String>,
+    /// How many lines the preamble has.
+    pub preamble_lines: u64,
     /// The header line's fields, when there was one.
     pub header: Option<Vec<String>>,
-    /// True when τ0 was taken from the median timestamp spacing.
+    /// The header's line number.
+    pub header_line: Option<u64>,
+    /// The line of the first reading.
+    pub first_data_line: Option<u64>,
+    /// The field delimiter.
+    pub delimiter: Option<Delimiter>,
+    /// Why commas were read as decimal marks, when they were.
+    pub decimal_comma: Option<String>,
+    /// The value column read (1-based).
+    pub value_column: usize,
+    /// The time column read (1-based), if any.
+    pub time_column: Option<usize>,
+    /// How the time column is written.
+    pub time_kind: Option<TimeKind>,
+    /// The unit of the readings, as written (`ns`, `ppb`, `Hz`, …).
+    pub unit: String,
+    /// Where that unit came from.
+    pub unit_source: UnitSource,
+    /// True when τ0 was taken from the timestamps.
     pub tau0_from_timestamps: bool,
     /// Gaps inserted for timestamp jumps (not counting NaN readings).
     pub inserted_gaps: usize,
-    /// First timestamp in seconds (ISO-8601 date-times as Unix seconds).
+    /// First timestamp in seconds (ISO-8601 date-times and MJD as Unix seconds).
     pub start_time: Option<f64>,
+    /// First timestamp as Unix seconds and nanoseconds (date-times only),
+    /// for writers that carry the stamps on exactly.
+    #[serde(skip)]
+    pub start_unix: Option<(i64, u32)>,
+    /// Where the readings end before a block of text, if they do.
+    pub data_end: Option<DataEnd>,
+    /// What `--snap` did.
+    pub snap: Option<SnapInfo>,
+    /// What `--wrap` did.
+    pub unwrap: Option<UnwrapInfo>,
+    /// Plain statements about how the file was read.
+    pub notes: Vec<String>,
+    /// Things that look wrong (implausible values for the unit in force).
+    pub warnings: Vec<String>,
 }
 
 /// A record read from a file, with what was found on the way.
@@ -105,10 +267,14 @@ pub fn read_series(path: &Path, opts: &SeriesOptions) -> Result<Series, ReadErro
 }
 
 /// How a reading becomes an SI value.
-#[derive(Debug, Clone, Copy)]
+#[derive(Debug, Clone, Copy, PartialEq)]
 enum Conversion {
     Scale(f64),
-    Carrier(f64),
+    /// Absolute frequency: reading × `scale` is hertz; y = (ν − ν0)/ν0.
+    Carrier {
+        nu0: f64,
+        scale: f64,
+    },
 }
 
 impl Conversion {
@@ -116,55 +282,24 @@ impl Conversion {
     fn apply(self, v: f64) -> f64 {
         match self {
             Conversion::Scale(s) => v * s,
-            Conversion::Carrier(nu0) => (v - nu0) / nu0,
+            Conversion::Carrier { nu0, scale } => (v * scale - nu0) / nu0,
         }
     }
 }
 
-fn check_options(path: &Path, opts: &SeriesOptions) -> Result<(DataKind, Conversion), ReadError> {
+fn check_options(path: &Path, opts: &SeriesOptions) -> Result<(), ReadError> {
     let bad = |msg: String| ReadError::file(path, msg);
-    let kind = match (opts.kind, opts.unit) {
-        (Some(k), _) => k,
-        (None, Some(ValueUnit::Freq(_))) => DataKind::Freq,
-        (None, _) => DataKind::Phase,
-    };
-    let conv = match (kind, opts.unit) {
-        (DataKind::Phase, None) => Conversion::Scale(1.0),
-        (DataKind::Phase, Some(ValueUnit::Phase(u))) => Conversion::Scale(u.to_seconds()),
-        (DataKind::Phase, Some(ValueUnit::Freq(u))) => {
-            return Err(bad(format!(
-                "unit '{}' is a frequency unit but the data are phase; expected one of s ms us ns ps, or --data freq",
-                u.symbol()
-            )))
-        }
-        (DataKind::Freq, Some(ValueUnit::Phase(u))) => {
-            return Err(bad(format!(
-                "unit '{}' is a phase unit but the data are frequency; expected one of frac ppm ppb hz, or --data phase",
-                u.symbol()
-            )))
-        }
-        (DataKind::Freq, None | Some(ValueUnit::Freq(FreqUnit::Frac))) => Conversion::Scale(1.0),
-        (DataKind::Freq, Some(ValueUnit::Freq(FreqUnit::Ppm))) => Conversion::Scale(1e-6),
-        (DataKind::Freq, Some(ValueUnit::Freq(FreqUnit::Ppb))) => Conversion::Scale(1e-9),
-        (DataKind::Freq, Some(ValueUnit::Freq(FreqUnit::Hz))) => match opts.carrier {
-            Some(nu0) if nu0.is_finite() && nu0 > 0.0 => Conversion::Carrier(nu0),
-            Some(nu0) => {
-                return Err(bad(format!(
-                    "carrier frequency {nu0} Hz: expected a positive frequency"
-                )))
-            }
-            None => {
-                return Err(bad(
-                    "unit hz (absolute frequency readings) needs the carrier frequency: give --carrier (e.g. 10MHz)"
-                        .to_string(),
-                ))
-            }
-        },
-    };
     if let Some(t) = opts.tau0 {
         if !(t.is_finite() && t > 0.0) {
             return Err(bad(format!(
                 "τ0 = {t} s: expected a positive sampling interval"
+            )));
+        }
+    }
+    if let Some(nu0) = opts.carrier {
+        if !(nu0.is_finite() && nu0 > 0.0) {
+            return Err(bad(format!(
+                "carrier frequency {nu0} Hz: expected a positive frequency"
             )));
         }
     }
@@ -182,14 +317,226 @@ fn check_options(path: &Path, opts: &SeriesOptions) -> Result<(DataKind, Convers
             opts.value_column.unwrap_or(0)
         )));
     }
-    Ok((kind, conv))
+    if opts.no_time_column && opts.time_column.is_some() {
+        return Err(bad(
+            "a time column was named and 'no time column' was asked for; expected one of them"
+                .into(),
+        ));
+    }
+    if let Some(f) = opts.snap {
+        if !(f > 0.0 && f < 0.5) {
+            return Err(bad(format!(
+                "snap fraction {f}: expected a fraction of τ0 above 0 and below 0.5 (e.g. 0.25)"
+            )));
+        }
+    }
+    if let Some(p) = opts.wrap {
+        if !(p.is_finite() && p > 0.0) {
+            return Err(bad(format!(
+                "wrap period {p} s: expected a positive period (e.g. 100ns)"
+            )));
+        }
+        if opts.kind == Some(DataKind::Freq) || matches!(opts.unit, Some(ValueUnit::Freq(_))) {
+            return Err(bad(
+                "--wrap unwraps phase (time-interval) readings; these are frequency readings"
+                    .into(),
+            ));
+        }
+    }
+    CommentStyle::with_extra(&opts.comments).map_err(bad)?;
+    Ok(())
 }
 
-/// How the time column is written.
+/// The unit of the readings, resolved from the option, the header and the
+/// defaults.
+#[derive(Debug, Clone)]
+struct Resolved {
+    kind: DataKind,
+    conv: Conversion,
+    symbol: String,
+    source: UnitSource,
+    note: Option<String>,
+}
+
+fn value_unit_of_header(u: HeaderUnit) -> Option<(DataKind, ValueUnit, f64)> {
+    Some(match u {
+        HeaderUnit::Phase(p) => (DataKind::Phase, ValueUnit::Phase(p), 1.0),
+        HeaderUnit::Fractional(f) => (DataKind::Freq, ValueUnit::Freq(f), 1.0),
+        HeaderUnit::Absolute(k) if k >= 1.0 => (DataKind::Freq, ValueUnit::Freq(FreqUnit::Hz), k),
+        _ => return None,
+    })
+}
+
+fn kind_of(u: ValueUnit) -> DataKind {
+    match u {
+        ValueUnit::Phase(_) => DataKind::Phase,
+        ValueUnit::Freq(_) => DataKind::Freq,
+    }
+}
+
+fn unit_symbol(u: ValueUnit) -> String {
+    match u {
+        ValueUnit::Phase(p) => p.symbol().to_string(),
+        ValueUnit::Freq(FreqUnit::Hz) => "Hz".to_string(),
+        ValueUnit::Freq(f) => f.symbol().to_string(),
+    }
+}
+
+/// Resolve the unit: the option, else the header (`header` is the value
+/// column's header field and its line), else the default for the kind.
+fn resolve_unit(
+    label: &Path,
+    opts: &SeriesOptions,
+    header: Option<(&str, u64)>,
+    column: usize,
+) -> Result<Resolved, ReadError> {
+    let found = header.map(|(f, _)| header_units::unit_in(f));
+    let line = header.map(|(_, l)| l);
+    let quote = header.map(|(f, l)| format!("'{}' (line {l})", fields::shorten(f)));
+    let at = |msg: String| match line {
+        Some(l) => ReadError {
+            path: label.to_path_buf(),
+            line: Some(l),
+            column: Some(column),
+            expected: msg,
+        },
+        None => ReadError::file(label, msg),
+    };
+    let mut note = None;
+    let mut source = UnitSource::Option;
+    let (unit, scale) = match (opts.unit, &found) {
+        (Some(u), Some(Found::Unit(hu))) => {
+            let agrees = match value_unit_of_header(*hu) {
+                Some((_, hv, k)) => hv == u && k == 1.0,
+                None => false,
+            };
+            if !agrees {
+                return Err(at(format!(
+                    "--units {} disagrees with the header of column {column}, {}, which says {}; remove --units or correct it",
+                    unit_symbol(u),
+                    quote.unwrap_or_default(),
+                    hu.symbol()
+                )));
+            }
+            (Some(u), 1.0)
+        }
+        (Some(u), Some(Found::Unknown(w))) => {
+            note = Some(format!(
+                "the header of column {column} names the unit '{w}', which tauwise does not read; --units {} used as given",
+                unit_symbol(u)
+            ));
+            (Some(u), 1.0)
+        }
+        (Some(u), _) => (Some(u), 1.0),
+        (None, Some(Found::Unit(hu))) => match value_unit_of_header(*hu) {
+            Some((_, v, k)) => {
+                source = UnitSource::Header;
+                let shown = if k == 1.0 {
+                    unit_symbol(v)
+                } else {
+                    hu.symbol()
+                };
+                note = Some(format!(
+                    "unit {shown} taken from the header of column {column}, {}",
+                    quote.clone().unwrap_or_default()
+                ));
+                (Some(v), k)
+            }
+            None => {
+                let why = match hu {
+                    HeaderUnit::Lf | HeaderUnit::Sphi | HeaderUnit::SphiDb | HeaderUnit::Sy => {
+                        "that is a phase-noise table: read it with `jitter` or `convert --lf`"
+                    }
+                    _ => "that is not a unit of phase or frequency readings",
+                };
+                return Err(at(format!(
+                    "the header of column {column}, {}, says {}: {why}; expected readings in s ms us ns ps, frac ppm ppb or Hz (or give --units)",
+                    quote.unwrap_or_default(),
+                    hu.symbol()
+                )));
+            }
+        },
+        (None, Some(Found::Unknown(w))) => {
+            return Err(at(format!(
+                "the header of column {column}, {}, gives the unit '{w}', which tauwise does not read; give --units (s ms us ns ps for phase, frac ppm ppb hz for frequency)",
+                quote.unwrap_or_default()
+            )));
+        }
+        (None, _) => {
+            if let (Some((f, _)), None) = (header, opts.kind) {
+                if header_units::says_frequency(f) {
+                    return Err(at(format!(
+                        "the header of column {column}, {}, names frequency readings but gives no unit; say what they are with --data freq and --units (frac ppm ppb, or hz with --carrier)",
+                        quote.unwrap_or_default()
+                    )));
+                }
+            }
+            source = UnitSource::Default;
+            (None, 1.0)
+        }
+    };
+    let kind = match (opts.kind, unit) {
+        (Some(k), _) => k,
+        (None, Some(u)) => kind_of(u),
+        (None, None) => DataKind::Phase,
+    };
+    let from = match source {
+        UnitSource::Header => format!(" (from the header {})", quote.clone().unwrap_or_default()),
+        _ => String::new(),
+    };
+    let conv = match (kind, unit) {
+        (DataKind::Phase, None) => Conversion::Scale(1.0),
+        (DataKind::Phase, Some(ValueUnit::Phase(u))) => Conversion::Scale(u.to_seconds()),
+        (DataKind::Phase, Some(ValueUnit::Freq(u))) => {
+            return Err(at(format!(
+                "unit '{}'{from} is a frequency unit but the data are phase; expected one of s ms us ns ps, or --data freq",
+                u.symbol()
+            )))
+        }
+        (DataKind::Freq, Some(ValueUnit::Phase(u))) => {
+            return Err(at(format!(
+                "unit '{}'{from} is a phase unit but the data are frequency; expected one of frac ppm ppb hz, or --data phase",
+                u.symbol()
+            )))
+        }
+        (DataKind::Freq, None | Some(ValueUnit::Freq(FreqUnit::Frac))) => Conversion::Scale(1.0),
+        (DataKind::Freq, Some(ValueUnit::Freq(FreqUnit::Ppm))) => Conversion::Scale(1e-6),
+        (DataKind::Freq, Some(ValueUnit::Freq(FreqUnit::Ppb))) => Conversion::Scale(1e-9),
+        (DataKind::Freq, Some(ValueUnit::Freq(FreqUnit::Hz))) => match opts.carrier {
+            Some(nu0) => Conversion::Carrier { nu0, scale },
+            None => {
+                return Err(ReadError::file(
+                    label,
+                    format!(
+                        "unit hz{from} (absolute frequency readings) needs the carrier frequency: give --carrier (e.g. 10MHz)"
+                    ),
+                ))
+            }
+        },
+    };
+    let symbol = match (kind, unit) {
+        (_, Some(ValueUnit::Freq(FreqUnit::Hz))) if scale != 1.0 => {
+            HeaderUnit::Absolute(scale).symbol()
+        }
+        (_, Some(u)) => unit_symbol(u),
+        (DataKind::Phase, None) => "s".into(),
+        (DataKind::Freq, None) => "frac".into(),
+    };
+    Ok(Resolved {
+        kind,
+        conv,
+        symbol,
+        source,
+        note,
+    })
+}
+
+/// How the time column is written, and its origin.
 #[derive(Debug, Clone, Copy, PartialEq)]
 enum TimeForm {
-    Seconds { t0: f64 },
+    Seconds { t0: f64, scale: f64 },
     Iso { s0: i64, ns0: u32 },
+    Mjd { d0: f64 },
 }
 
 /// Parse an ISO-8601 date-time into Unix seconds and nanoseconds.
@@ -221,31 +568,91 @@ fn parse_iso(s: &str) -> Option<(i64, u32)> {
 const TIME_EXPECTED: &str =
     "expected a timestamp in seconds or an ISO-8601 date-time (e.g. 2024-05-01T12:00:00Z)";
 
+/// Unix time of MJD 0 is −3506716800 s; MJD 40587 is 1970-01-01.
+const MJD_UNIX_EPOCH: f64 = 40587.0;
+
 impl TimeForm {
-    /// Decide the form from the first timestamp.
-    fn detect(field: &str) -> Option<TimeForm> {
-        if let Some(t) = text::parse_finite(field) {
-            return Some(TimeForm::Seconds { t0: t });
+    /// Decide the form from the first timestamp and the column's unit.
+    fn detect(field: &str, unit: TimeUnit, decimal: Decimal) -> Option<TimeForm> {
+        if let Ok(Some(t)) = fields::number(field, decimal) {
+            return Some(match unit {
+                TimeUnit::Mjd => TimeForm::Mjd { d0: t },
+                TimeUnit::Scale(scale) => TimeForm::Seconds { t0: t, scale },
+            });
         }
         parse_iso(field).map(|(s0, ns0)| TimeForm::Iso { s0, ns0 })
     }
 
+    fn kind(self) -> TimeKind {
+        match self {
+            TimeForm::Seconds { .. } => TimeKind::Seconds,
+            TimeForm::Iso { .. } => TimeKind::DateTime,
+            TimeForm::Mjd { .. } => TimeKind::Mjd,
+        }
+    }
+
     fn start(self) -> f64 {
         match self {
-            TimeForm::Seconds { t0 } => t0,
+            TimeForm::Seconds { t0, scale } => t0 * scale,
             TimeForm::Iso { s0, ns0 } => s0 as f64 + ns0 as f64 * 1e-9,
+            TimeForm::Mjd { d0 } => (d0 - MJD_UNIX_EPOCH) * 86400.0,
         }
     }
 
     /// Time since the first timestamp, in seconds.
-    #[inline]
-    fn relative(self, field: &str) -> Option<f64> {
+    #[inline(always)]
+    fn relative(self, field: &str, decimal: Decimal) -> Option<f64> {
         match self {
-            TimeForm::Seconds { t0 } => text::parse_finite(field).map(|t| t - t0),
+            TimeForm::Seconds { t0, scale } => match fields::number(field, decimal) {
+                Ok(Some(t)) => Some((t - t0) * scale),
+                _ => None,
+            },
+            TimeForm::Mjd { d0 } => match fields::number(field, decimal) {
+                Ok(Some(d)) => Some((d - d0) * 86400.0),
+                _ => None,
+            },
             TimeForm::Iso { s0, ns0 } => {
                 parse_iso(field).map(|(s, ns)| (s - s0) as f64 + (ns as f64 - ns0 as f64) * 1e-9)
             }
         }
+    }
+}
+
+/// The unit of a time column.
+#[derive(Debug, Clone, Copy, PartialEq)]
+enum TimeUnit {
+    Scale(f64),
+    Mjd,
+}
+
+fn time_unit(
+    label: &Path,
+    header: Option<(&str, u64)>,
+    column: usize,
+) -> Result<TimeUnit, ReadError> {
+    let Some((f, line)) = header else {
+        return Ok(TimeUnit::Scale(1.0));
+    };
+    let err = |what: String| ReadError {
+        path: label.to_path_buf(),
+        line: Some(line),
+        column: Some(column),
+        expected: what,
+    };
+    match header_units::unit_in(f) {
+        Found::None => Ok(TimeUnit::Scale(1.0)),
+        Found::Unit(HeaderUnit::Phase(u)) => Ok(TimeUnit::Scale(u.to_seconds())),
+        Found::Unit(HeaderUnit::Time(k)) => Ok(TimeUnit::Scale(k)),
+        Found::Unit(HeaderUnit::Mjd) => Ok(TimeUnit::Mjd),
+        Found::Unit(u) => Err(err(format!(
+            "the header of the time column {column}, '{}' (line {line}), says {}; expected a unit of time (s ms us ns min h d MJD) or none",
+            fields::shorten(f),
+            u.symbol()
+        ))),
+        Found::Unknown(w) => Err(err(format!(
+            "the header of the time column {column}, '{}' (line {line}), gives the unit '{w}', which tauwise does not read; expected s ms us ns min h d or MJD",
+            fields::shorten(f)
+        ))),
     }
 }
 
@@ -275,6 +682,185 @@ impl LineMap {
     }
 }
 
+/// Places readings on the τ0 grid from their timestamps.
+#[derive(Debug)]
+struct Grid {
+    tau0: f64,
+    snap: Option<f64>,
+    prev_t: f64,
+    slot: u64,
+    started: bool,
+    /// Spacings of one τ0, and all spacings (agreement with τ0).
+    ones: u64,
+    spacings: u64,
+    /// Count of spacings of k τ0 for k = 1..=8 (index 8: more).
+    k_hist: [u64; 9],
+    /// Snap: sum, min and max of the distance from the grid, and where the
+    /// extremes are (row indices).
+    r_sum: f64,
+    r_min: (f64, usize),
+    r_max: (f64, usize),
+    r_pending: Option<(f64, usize)>,
+    rows: usize,
+}
+
+impl Grid {
+    fn new(tau0: f64, snap: Option<f64>) -> Self {
+        Self {
+            tau0,
+            snap,
+            prev_t: 0.0,
+            slot: 0,
+            started: false,
+            ones: 0,
+            spacings: 0,
+            k_hist: [0; 9],
+            r_sum: 0.0,
+            r_min: (f64::INFINITY, 0),
+            r_max: (f64::NEG_INFINITY, 0),
+            r_pending: None,
+            rows: 0,
+        }
+    }
+
+    /// The slot of a reading stamped `t` (seconds since the first stamp).
+    #[inline]
+    fn place(&mut self, t: f64) -> Result<u64, String> {
+        let row = self.rows;
+        if !self.started {
+            self.started = true;
+            self.prev_t = t;
+            if self.snap.is_some() {
+                self.note_residual(0.0, row);
+            }
+            self.rows += 1;
+            return Ok(0);
+        }
+        let dt = t - self.prev_t;
+        if dt.is_nan() || dt <= 0.0 {
+            return Err(
+                "the timestamp is not later than the one before; expected increasing timestamps"
+                    .to_string(),
+            );
+        }
+        let tau0 = self.tau0;
+        let next = match self.snap {
+            None => self.slot + steps(dt, tau0)?,
+            Some(frac) => {
+                let q = t / tau0;
+                let n = q.round();
+                let r = (q - n) * tau0;
+                if r.abs() > frac * tau0 {
+                    return Err(format!(
+                        "the timestamp is {} s off the τ0 grid ({:.3}·τ0; τ0 = {} s), more than the {} · τ0 that --snap allows; check τ0 or give a larger --snap",
+                        format_sig(r, 4),
+                        r / tau0,
+                        format_sig(tau0, 6),
+                        frac
+                    ));
+                }
+                if n < 0.0 || (n as u64) <= self.slot {
+                    return Err(format!(
+                        "the timestamp falls on the same τ0 slot as the reading before (τ0 = {} s); expected one reading per τ0",
+                        format_sig(tau0, 6)
+                    ));
+                }
+                let k = n as u64 - self.slot;
+                if k - 1 > MAX_JUMP {
+                    return Err(jump_message(dt, k, tau0));
+                }
+                self.r_pending = Some((r, row));
+                n as u64
+            }
+        };
+        if let Some((r, row)) = self.r_pending.take() {
+            self.note_residual(r, row);
+        }
+        let k = next - self.slot;
+        self.spacings += 1;
+        if k == 1 {
+            self.ones += 1;
+        } else {
+            self.k_hist[(k as usize).min(9) - 1] += 1;
+        }
+        self.slot = next;
+        self.prev_t = t;
+        self.rows += 1;
+        Ok(next)
+    }
+
+    fn note_residual(&mut self, r: f64, row: usize) {
+        self.r_sum += r;
+        if r < self.r_min.0 {
+            self.r_min = (r, row);
+        }
+        if r > self.r_max.0 {
+            self.r_max = (r, row);
+        }
+    }
+
+    /// The largest distance from the grid about the mean, and its row.
+    fn jitter(&self) -> (f64, usize) {
+        let mean = self.r_sum / self.rows.max(1) as f64;
+        let up = self.r_max.0 - mean;
+        let down = mean - self.r_min.0;
+        if up >= down {
+            (up, self.r_max.1)
+        } else {
+            (down, self.r_min.1)
+        }
+    }
+
+    /// Error when fewer than half the spacings are one τ0.
+    fn check_agreement(&self) -> Result<(), String> {
+        if self.spacings == 0 || 2 * self.ones >= self.spacings {
+            return Ok(());
+        }
+        // More than half the spacings are not one τ0: the most common of
+        // those is the typical spacing.
+        let (i, _) = self
+            .k_hist
+            .iter()
+            .enumerate()
+            .max_by_key(|(_, n)| **n)
+            .unwrap_or((0, &0));
+        let typical = if i == 8 {
+            "more than 8".to_string()
+        } else {
+            format!("{}", i + 1)
+        };
+        Err(format!(
+            "the timestamps disagree with τ0 = {} s: only {} of {} spacings are one τ0, most are {typical}·τ0; give the τ0 the stamps show, or --time-column none if column 1 is not a time",
+            format_sig(self.tau0, 6),
+            self.ones,
+            self.spacings
+        ))
+    }
+}
+
+fn jump_message(dt: f64, k: u64, tau0: f64) -> String {
+    format!(
+        "timestamps jump by {} s ({} samples of τ0 = {} s); more than {} missing samples in one jump: check the time column and τ0",
+        format_sig(dt, 6),
+        k,
+        format_sig(tau0, 6),
+        MAX_JUMP
+    )
+}
+
+/// τ0 for `--snap` when not given: the stamps' span over the number of
+/// steps counted between them (each spacing rounded to a whole number of
+/// median spacings), to 3 significant digits — the median of jittered
+/// spacings alone can be off by more than the rounding.
+fn snap_tau0(times: &[f64], median: f64) -> f64 {
+    let mut steps = 0.0f64;
+    for w in times.windows(2) {
+        steps += ((w[1] - w[0]) / median).round().max(1.0);
+    }
+    let span = times[times.len() - 1] - times[0];
+    crate::units::round_sig(span / steps.max(1.0), 3)
+}
+
 /// Number of τ0 steps in a spacing, or an error message.
 #[inline]
 fn steps(dt: f64, tau0: f64) -> Result<u64, String> {
@@ -282,125 +868,279 @@ fn steps(dt: f64, tau0: f64) -> Result<u64, String> {
     let k = q.round();
     if !(k >= 1.0 && (q - k).abs() <= SPACING_TOLERANCE) {
         return Err(format!(
-            "timestamps are {} s apart, which is {:.4}·τ0 (τ0 = {} s); expected a whole multiple of τ0 within {} %",
-            crate::units::format_sig(dt, 6),
+            "timestamps are {} s apart, which is {:.4}·τ0 (τ0 = {} s); expected a whole multiple of τ0 within {} % (stamps from a PC clock that wander: --snap rounds them to the τ0 grid)",
+            format_sig(dt, 6),
             q,
-            crate::units::format_sig(tau0, 6),
+            format_sig(tau0, 6),
             SPACING_TOLERANCE * 100.0
         ));
     }
     if k as u64 - 1 > MAX_JUMP {
-        return Err(format!(
-            "timestamps jump by {} s ({} samples of τ0 = {} s); more than {} missing samples in one jump: check the time column and τ0",
-            crate::units::format_sig(dt, 6),
-            k,
-            crate::units::format_sig(tau0, 6),
-            MAX_JUMP
-        ));
+        return Err(jump_message(dt, k as u64, tau0));
     }
     Ok(k as u64)
 }
 
-/// Pull the value and time fields of one line.
-#[inline]
-fn pick(
-    delim: Delimiter,
-    line: &str,
+/// A data row as parsed.
+#[derive(Debug, Clone, Copy, PartialEq)]
+enum Row {
+    /// Only delimiters.
+    Blank,
+    /// A line of text (its first field is a word).
+    Text,
+    /// A reading (NaN for a missing one) and its time (s since the first
+    /// stamp), when there is a time column.
+    Data(f64, Option<f64>),
+}
+
+/// Parses the data rows of one file: the fields in the value and time
+/// columns, as numbers (the time relative to the first stamp). Independent
+/// of where the row lies in the file, so that chunks of a file can be parsed
+/// apart given their first line number.
+struct RowParser {
+    splitter: Splitter,
+    decimal: Decimal,
     value_col: usize,
     time_col: Option<usize>,
-) -> (Option<&str>, Option<&str>, usize) {
-    let need = value_col.max(time_col.unwrap_or(0));
-    let mut value = None;
-    let mut time = None;
-    let mut n = 0;
-    for (i, f) in delim.fields(line).enumerate() {
-        n = i + 1;
-        if n == value_col {
-            value = Some(f);
+    form: Option<TimeForm>,
+    /// True when neither column is column 1 (then a first field that is a
+    /// word must be looked at separately).
+    check_first: bool,
+    /// One column of readings separated by white space: the first word of
+    /// the line is the reading (the common case, read without splitting).
+    single: bool,
+    /// The delimiter byte (comma, semicolon, tab), for [`RowParser::quick`].
+    sep: Option<u8>,
+}
+
+impl RowParser {
+    #[inline]
+    fn parse(&mut self, label: &Path, number: u64, line: &str) -> Result<Row, ReadError> {
+        if self.single {
+            let end = memchr::memchr2(b' ', b'\t', line.as_bytes()).unwrap_or(line.len());
+            let f = fields::unquote(&line[..end]);
+            if let Ok(v) = fields::number(f, self.decimal) {
+                return Ok(Row::Data(v.unwrap_or(f64::NAN), None));
+            }
+        } else if let Some(row) = self.quick(line) {
+            return Ok(row);
         }
-        if Some(n) == time_col {
-            time = Some(f);
-        }
-        if n >= need {
-            break;
-        }
+        self.parse_split(label, number, line)
     }
-    (value, time, n)
+
+    /// The common case without splitting the whole line: a delimited line
+    /// without quotes whose value (and time) fields read cleanly. `None`
+    /// sends the line through [`RowParser::parse_split`], which classifies
+    /// it and words any error.
+    #[inline]
+    fn quick(&self, line: &str) -> Option<Row> {
+        let sep = self.sep?;
+        let b = line.as_bytes();
+        if self.check_first {
+            return None;
+        }
+        let need = self.value_col.max(self.time_col.unwrap_or(0));
+        let mut start = 0;
+        let mut vf = None;
+        let mut tf = None;
+        for idx in 1..=need {
+            // The next delimiter, or a quote (then the slow path splits the
+            // line by RFC 4180).
+            let end = match memchr::memchr2(sep, b'"', &b[start..]) {
+                Some(i) if b[start + i] == b'"' => return None,
+                Some(i) => start + i,
+                None => b.len(),
+            };
+            if idx == self.value_col {
+                vf = Some(&line[start..end]);
+            }
+            if Some(idx) == self.time_col {
+                tf = Some(&line[start..end]);
+            }
+            if end == b.len() {
+                break;
+            }
+            start = end + 1;
+        }
+        let v = match fields::number(vf?.trim_ascii(), self.decimal) {
+            Ok(v) => v.unwrap_or(f64::NAN),
+            Err(_) => return None,
+        };
+        let t = match self.form {
+            Some(form) => Some(form.relative(tf?.trim_ascii(), self.decimal)?),
+            None => None,
+        };
+        Some(Row::Data(v, t))
+    }
+
+    fn parse_split(&mut self, label: &Path, number: u64, line: &str) -> Result<Row, ReadError> {
+        let n = match self.splitter.split(line) {
+            Ok(n) => n,
+            Err(_) => {
+                let first = line.split([',', ';', '\t', ' ']).next().unwrap_or("");
+                if fields::is_text(fields::unquote(first), self.decimal) {
+                    return Ok(Row::Text);
+                }
+                return Err(ReadError::at(
+                    label,
+                    number,
+                    "a quote (\") opens a field that does not close on this line; expected a closing quote",
+                ));
+            }
+        };
+        let s = &self.splitter;
+        if self.check_first && fields::is_text(s.field(line, 0), self.decimal) {
+            return Ok(Row::Text);
+        }
+        let text_first = |s: &Splitter| fields::is_text(s.field(line, 0), self.decimal);
+        let vc = self.value_col;
+        if vc > n {
+            if text_first(s) {
+                return Ok(Row::Text);
+            }
+            if (0..n).all(|i| s.field(line, i).is_empty()) {
+                return Ok(Row::Blank);
+            }
+            let need = vc.max(self.time_col.unwrap_or(0));
+            return Err(ReadError::at(
+                label,
+                number,
+                format!(
+                    "the line has {n} field{}; expected at least {need} (value column {vc})",
+                    if n == 1 { "" } else { "s" },
+                ),
+            ));
+        }
+        let vf = s.field(line, vc - 1);
+        let value = match fields::number(vf, self.decimal) {
+            Ok(Some(v)) => v,
+            Ok(None) => f64::NAN,
+            Err(e) => {
+                if text_first(s) {
+                    return Ok(Row::Text);
+                }
+                let msg = match e {
+                    NumberError::AmbiguousComma => text::ambiguous_comma(vf, vc),
+                    NumberError::Malformed => text::not_a_number(vf, vc),
+                };
+                return Err(text::field_error(label, number, vc, msg));
+            }
+        };
+        let time = match (self.form, self.time_col) {
+            (Some(form), Some(tc)) => {
+                if tc > n {
+                    if text_first(s) {
+                        return Ok(Row::Text);
+                    }
+                    return Err(ReadError::at(
+                        label,
+                        number,
+                        format!(
+                            "the line has {n} fields; expected at least {tc} (time column {tc})"
+                        ),
+                    ));
+                }
+                let tf = s.field(line, tc - 1);
+                match form.relative(tf, self.decimal) {
+                    Some(t) => Some(t),
+                    None => {
+                        if text_first(s) {
+                            return Ok(Row::Text);
+                        }
+                        let what = if tf.is_empty() {
+                            format!("time field {tc} is empty: {TIME_EXPECTED}")
+                        } else {
+                            format!(
+                                "time field {tc} is '{}': {TIME_EXPECTED}",
+                                fields::shorten(tf)
+                            )
+                        };
+                        return Err(text::field_error(label, number, tc, what));
+                    }
+                }
+            }
+            _ => None,
+        };
+        Ok(Row::Data(value, time))
+    }
 }
 
 /// Read a time series from any buffered reader; `label` names it in errors.
+/// A `.npy` file (recognised by its magic bytes) is read as binary.
 pub fn read_series_from<R: BufRead>(
-    reader: R,
+    mut reader: R,
     label: &Path,
     opts: &SeriesOptions,
 ) -> Result<Series, ReadError> {
-    let (kind, conv) = check_options(label, opts)?;
-    let mut lines = LineReader::new(reader, label);
+    check_options(label, opts)?;
+    let head = text::peek(&mut reader, npy::MAGIC.len())
+        .map_err(|e| ReadError::file(label, format!("could not read: {e}")))?;
+    if npy::is_npy(&head) {
+        return read_npy(reader, label, opts);
+    }
+    let comments =
+        CommentStyle::with_extra(&opts.comments).map_err(|m| ReadError::file(label, m))?;
+    let mut lines = LineReader::new(reader, label).with_comments(comments.clone());
+    let start = layout::find_start(
+        &mut lines,
+        label,
+        &LayoutOptions {
+            decimal_comma: opts.decimal_comma,
+            several_columns: opts.value_column.is_some_and(|c| c > 1) || opts.time_column.is_some(),
+            comments,
+        },
+        "one reading per line (or columns with a value and a timestamp)",
+    )?;
+    let lay = start.layout;
+    let mut queued = start.rows;
+    let (first_line, first_text) = queued
+        .front()
+        .cloned()
+        .ok_or_else(|| ReadError::file(label, "no readings"))?;
 
-    // 1. Header and the first data line: delimiter and columns.
-    let mut header_raw: Option<String> = None;
-    let first = loop {
-        let Some(line) = lines.next_line()? else {
-            let what = if lines.bytes() == 0 {
-                "the file is empty; expected one reading per line (or columns with a value and a timestamp)".to_string()
-            } else if let Some(h) = &header_raw {
-                format!(
-                    "only a header line ('{}') and no readings; expected numbers on the following lines",
-                    text::shorten(h)
-                )
-            } else {
-                "no readings, only comments or blank lines; expected one reading per line"
-                    .to_string()
-            };
-            return Err(ReadError::file(label, what));
-        };
-        let d = Delimiter::sniff(line.text);
-        if header_raw.is_none() && text::is_header(&d.split_trimmed(line.text)) {
-            header_raw = Some(line.text.to_string());
-            continue;
-        }
-        break (line.number, line.text.to_string());
-    };
-    let (first_line, first_text) = first;
-    let delim = Delimiter::sniff(&first_text);
-    // All fields of the first line, and the count without the empty fields
-    // of a trailing delimiter (unless the header names those columns).
-    let first_fields: Vec<&str> = delim.fields(&first_text).collect();
-    let header: Option<Vec<String>> = header_raw.as_deref().map(|h| {
-        delim
-            .split_trimmed(h)
-            .iter()
-            .map(|s| s.to_string())
-            .collect()
-    });
-    let ncols = delim
-        .split_trimmed(&first_text)
-        .len()
-        .max(header.as_ref().map_or(0, |h| h.len()))
-        .min(first_fields.len());
+    // 1. Columns.
+    let delim = lay.delimiter;
+    let decimal = lay.decimal;
+    let mut probe = Splitter::new(delim);
+    let nall = probe.split(&first_text).map_err(|_| {
+        ReadError::at(
+            label,
+            first_line,
+            "a quote (\") opens a field that does not close on this line; expected a closing quote",
+        )
+    })?;
+    let header = lay.header.as_ref();
+    let ncols = lay
+        .columns
+        .max(header.map_or(0, |h| h.fields.len()))
+        .min(nall);
     let value_col = match opts.value_column {
         Some(c) => c,
-        None => first_fields[..ncols]
-            .iter()
-            .rposition(|f| !matches!(text::classify(f), text::Field::Text))
+        None => (0..ncols)
+            .rev()
+            .find(|&i| {
+                matches!(
+                    fields::token(probe.field(&first_text, i), decimal),
+                    fields::Token::Number(_) | fields::Token::Missing | fields::Token::Bad
+                )
+            })
             .map(|i| i + 1)
             .unwrap_or(ncols),
     };
     let time_col = match opts.time_column {
         Some(c) => Some(c),
-        None if opts.tau0.is_none() && ncols >= 2 && value_col != 1 => Some(1),
+        None if !opts.no_time_column && ncols >= 2 && value_col != 1 => Some(1),
         None => None,
     };
     for (name, c) in [("value", Some(value_col)), ("time", time_col)] {
         if let Some(c) = c {
-            let n = first_fields.len();
-            if c > n {
+            if c > nall {
                 return Err(ReadError::at(
                     label,
                     first_line,
                     format!(
-                        "{name} column {c} was asked for, but the line has {n} field{} ({} separated); expected a column from 1 to {n}",
-                        if n == 1 { "" } else { "s" },
+                        "{name} column {c} was asked for, but the line has {nall} field{} ({} separated); expected a column from 1 to {nall}",
+                        if nall == 1 { "" } else { "s" },
                         delim.name()
                     ),
                 ));
@@ -416,124 +1156,215 @@ pub fn read_series_from<R: BufRead>(
         ));
     }
     if time_col.is_none() && opts.tau0.is_none() {
+        let why = if opts.no_time_column {
+            "--time-column none was given"
+        } else {
+            "the file has no time column"
+        };
         return Err(ReadError::file(
             label,
-            "the sampling interval τ0 is unknown: the file has no time column; give --tau0 (e.g. 1s) or --time-column",
+            format!("the sampling interval τ0 is unknown: {why}; give --tau0 (e.g. 1s) or --time-column"),
         ));
     }
+    let header_field =
+        |c: usize| header.and_then(|h| h.fields.get(c - 1).map(|f| (f.as_str(), h.line)));
+
+    // 2. Units.
+    let resolved = resolve_unit(label, opts, header_field(value_col), value_col)?;
+    if opts.wrap.is_some() && resolved.kind == DataKind::Freq {
+        return Err(ReadError::file(
+            label,
+            "--wrap unwraps phase (time-interval) readings; these are frequency readings",
+        ));
+    }
+    let tunit = match time_col {
+        Some(tc) => time_unit(label, header_field(tc), tc)?,
+        None => TimeUnit::Scale(1.0),
+    };
     let form = match time_col {
         Some(tc) => {
-            let f = first_fields.get(tc - 1).copied().unwrap_or("");
-            match TimeForm::detect(f) {
+            let f = if tc <= nall {
+                probe.field(&first_text, tc - 1)
+            } else {
+                ""
+            };
+            match TimeForm::detect(f, tunit, decimal) {
                 Some(form) => Some(form),
                 None => {
                     return Err(text::field_error(
                         label,
                         first_line,
                         tc,
-                        format!("time field {tc} is '{}': {TIME_EXPECTED}", text::shorten(f)),
+                        format!(
+                            "time field {tc} is '{}': {TIME_EXPECTED}",
+                            fields::shorten(f)
+                        ),
                     ))
                 }
             }
         }
         None => None,
     };
+    drop(probe);
 
-    // 2. Stream every data line.
+    // 3. Stream every data row.
+    let need = value_col.max(time_col.unwrap_or(0));
+    let mut parser = RowParser {
+        splitter: Splitter::new(delim).with_limit(if delim == Delimiter::Whitespace {
+            0
+        } else {
+            need
+        }),
+        decimal,
+        value_col,
+        time_col,
+        form,
+        check_first: value_col != 1 && time_col != Some(1),
+        single: delim == Delimiter::Whitespace && value_col == 1 && time_col.is_none(),
+        sep: match delim {
+            Delimiter::Comma => Some(b','),
+            Delimiter::Semicolon => Some(b';'),
+            Delimiter::Tab => Some(b'\t'),
+            Delimiter::Whitespace => None,
+        },
+    };
+    let conv = resolved.conv;
+    let stream_grid = match (opts.tau0, time_col) {
+        (Some(t), Some(_)) => Some(Grid::new(t, opts.snap)),
+        _ => None,
+    };
+    let mut grid = stream_grid;
     let mut values: Vec<f64> = Vec::new();
-    let mut spacings: Vec<f64> = Vec::new(); // only while τ0 is unknown
-    let mut map = LineMap::default();
+    // While τ0 is unknown: the spacings Δt_i (or, with --snap, the times).
+    let mut times: Vec<f64> = Vec::new();
     let mut prev_t = 0.0f64;
-    let mut inserted: u64 = 0;
+    let mut map = LineMap::default();
+    let mut slot_lines: Vec<(u64, u64)> = Vec::new(); // (slot, line), only for --wrap
+    let keep_lines = opts.wrap.is_some() || opts.snap.is_some();
     let mut rows: usize = 0;
     let mut last_line = first_line;
-    let stream_tau0 = opts.tau0;
+    let mut trailer: Option<(u64, String, String, u64)> = None; // line, text, first field, count
+                                                                // The smallest and largest value (for the plausibility check).
+    let mut lo = f64::INFINITY;
+    let mut hi = f64::NEG_INFINITY;
 
     let mut handle = |number: u64, line: &str| -> Result<(), ReadError> {
-        let (vf, tf, n) = pick(delim, line, value_col, time_col);
-        let Some(vf) = vf else {
-            return Err(ReadError::at(
-                label,
-                number,
+        let row = parser.parse(label, number, line)?;
+        let (v, t) = match row {
+            Row::Blank => return Ok(()),
+            Row::Text => {
+                match trailer.as_mut() {
+                    None => {
+                        let first = line
+                            .split([',', ';', '\t', ' '])
+                            .next()
+                            .map(fields::unquote)
+                            .unwrap_or("")
+                            .to_string();
+                        trailer = Some((number, line.to_string(), first, 1));
+                    }
+                    Some(t) => t.3 += 1,
+                }
+                return Ok(());
+            }
+            Row::Data(v, t) => (v, t),
+        };
+        if let Some((tl, _, first, _)) = &trailer {
+            let what = if time_col == Some(1) {
                 format!(
-                    "the line has {n} field{}; expected at least {} (value column {value_col})",
-                    if n == 1 { "" } else { "s" },
-                    value_col.max(time_col.unwrap_or(0))
+                    "time field 1 is '{}': {TIME_EXPECTED}",
+                    fields::shorten(first)
+                )
+            } else {
+                text::not_a_number(first, 1)
+            };
+            return Err(text::field_error(
+                label,
+                *tl,
+                1,
+                format!(
+                    "{what}; readings go on at line {number}, so this line is not a closing block of text"
                 ),
             ));
-        };
-        let v = match text::number_or_missing(label, number, vf, value_col)? {
-            Some(v) => conv.apply(v),
-            None => f64::NAN,
-        };
-        if let (Some(form), Some(tc)) = (form, time_col) {
-            let Some(tf) = tf else {
-                return Err(ReadError::at(
-                    label,
-                    number,
-                    format!("the line has {n} fields; expected at least {tc} (time column {tc})"),
-                ));
-            };
-            let t = form.relative(tf).ok_or_else(|| {
-                text::field_error(
-                    label,
-                    number,
-                    tc,
-                    format!(
-                        "time field {tc} is '{}': {TIME_EXPECTED}",
-                        text::shorten(tf)
-                    ),
-                )
-            })?;
-            if rows > 0 {
-                let dt = t - prev_t;
-                if dt.is_nan() || dt <= 0.0 {
-                    return Err(ReadError::at(
-                        label,
-                        number,
-                        format!(
-                            "timestamp '{}' is not later than the one before; expected increasing timestamps",
-                            text::shorten(tf)
-                        ),
-                    ));
+        }
+        let v = if v.is_nan() { v } else { conv.apply(v) };
+        // NaN compares false: gaps are skipped.
+        if v < lo {
+            lo = v;
+        }
+        if v > hi {
+            hi = v;
+        }
+        match (t, grid.as_mut()) {
+            (Some(t), Some(g)) => {
+                let slot = g.place(t).map_err(|m| ReadError::at(label, number, m))?;
+                if slot as usize > MAX_POINTS {
+                    return Err(too_many(label, number));
                 }
-                match stream_tau0 {
-                    Some(tau0) => {
-                        let k = steps(dt, tau0).map_err(|m| ReadError::at(label, number, m))?;
-                        if inserted + (k - 1) > 100 * MAX_JUMP {
+                values.resize(slot as usize, f64::NAN);
+                if keep_lines {
+                    slot_lines.push((slot, number));
+                }
+            }
+            (Some(t), None) => {
+                if opts.snap.is_some() {
+                    times.push(t);
+                } else {
+                    if rows > 0 {
+                        let dt = t - prev_t;
+                        if !(dt > 0.0) {
                             return Err(ReadError::at(
                                 label,
                                 number,
-                                format!(
-                                    "more than {} missing samples inserted for timestamp jumps; check the time column and τ0",
-                                    100 * MAX_JUMP
-                                ),
+                                "the timestamp is not later than the one before; expected increasing timestamps",
                             ));
                         }
-                        for _ in 1..k {
-                            values.push(f64::NAN);
-                        }
-                        inserted += k - 1;
+                        times.push(dt);
                     }
-                    None => {
-                        spacings.push(dt);
-                        map.push(rows, number);
-                    }
+                    prev_t = t;
                 }
-            } else if stream_tau0.is_none() {
                 map.push(rows, number);
             }
-            prev_t = t;
+            _ => {
+                if keep_lines {
+                    slot_lines.push((values.len() as u64, number));
+                }
+            }
+        }
+        if values.len() >= MAX_POINTS {
+            return Err(too_many(label, number));
         }
         values.push(v);
         rows += 1;
+        last_line = number;
         Ok(())
     };
 
-    handle(first_line, &first_text)?;
+    while let Some((n, t)) = queued.pop_front() {
+        handle(n, &t)?;
+    }
     while let Some(line) = lines.next_line()? {
-        last_line = line.number;
         handle(line.number, line.text)?;
+    }
+
+    let mut notes: Vec<String> = Vec::new();
+    if let Some(n) = &resolved.note {
+        notes.push(n.clone());
+    }
+    if let Some(n) = &lay.decimal_note {
+        notes.push(n.clone());
+    }
+    let data_end = trailer.map(|(tl, text, _, count)| DataEnd {
+        last_data_line: last_line,
+        text_line: tl,
+        text: fields::shorten(&text),
+        lines_ignored: count,
+    });
+    if let Some(d) = &data_end {
+        notes.push(format!(
+            "the readings end at line {}: {} line(s) of text after them ignored, from line {} ('{}')",
+            d.last_data_line, d.lines_ignored, d.text_line, d.text
+        ));
     }
 
     if rows < 2 {
@@ -544,17 +1375,24 @@ pub fn read_series_from<R: BufRead>(
         ));
     }
 
-    // 3. τ0 from the median spacing, and placement on the grid.
+    // 4. τ0 from the stamps, and placement on the grid.
     let mut tau0_from_timestamps = false;
-    let tau0 = match opts.tau0 {
-        Some(t) => t,
-        None => {
+    let mut inserted: u64 = 0;
+    let tau0 = match (opts.tau0, grid.as_ref()) {
+        (Some(t), Some(g)) => {
+            g.check_agreement().map_err(|m| ReadError::file(label, m))?;
+            inserted = g.slot + 1 - rows as u64;
+            t
+        }
+        (Some(t), None) => t,
+        (None, _) if opts.snap.is_none() => {
             tau0_from_timestamps = true;
+            let spacings = std::mem::take(&mut times);
             // The lower median: always one of the spacings actually seen.
-            let mut s = spacings.clone();
-            let mid = (s.len() - 1) / 2;
-            let median = *s.select_nth_unstable_by(mid, f64::total_cmp).1;
-            drop(s);
+            let mut sorted = spacings.clone();
+            let mid = (sorted.len() - 1) / 2;
+            let median = *sorted.select_nth_unstable_by(mid, f64::total_cmp).1;
+            drop(sorted);
             let tau0 = crate::units::round_sig(median, 10);
             // Check every spacing; count the gaps to insert.
             let mut total: u64 = 0;
@@ -562,32 +1400,88 @@ pub fn read_series_from<R: BufRead>(
                 let k = steps(dt, tau0).map_err(|m| ReadError::at(label, map.line_of(i + 1), m))?;
                 total += k - 1;
             }
-            if total > 100 * MAX_JUMP {
-                return Err(ReadError::file(
-                    label,
-                    format!(
-                        "timestamp jumps would insert {total} missing samples (τ0 = {} s); check the time column and τ0",
-                        crate::units::format_sig(tau0, 6)
-                    ),
-                ));
+            if total as usize + rows > MAX_POINTS {
+                return Err(too_many(label, last_line));
             }
-            if total > 0 {
-                let mut grid = Vec::with_capacity(values.len() + total as usize);
-                grid.push(values[0]);
+            if total > 0 || keep_lines {
+                let mut grid_values = Vec::with_capacity(rows + total as usize);
+                grid_values.push(values[0]);
+                if keep_lines {
+                    slot_lines.push((0, map.line_of(0)));
+                }
                 for (i, &dt) in spacings.iter().enumerate() {
                     let k = steps(dt, tau0).unwrap_or(1);
-                    for _ in 1..k {
-                        grid.push(f64::NAN);
+                    grid_values.resize(grid_values.len() + k as usize - 1, f64::NAN);
+                    if keep_lines {
+                        slot_lines.push((grid_values.len() as u64, map.line_of(i + 1)));
                     }
-                    grid.push(values[i + 1]);
+                    grid_values.push(values[i + 1]);
                 }
-                values = grid;
+                values = grid_values;
             }
             inserted = total;
             tau0
         }
+        (None, _) => {
+            tau0_from_timestamps = true;
+            // --snap: the median spacing to 3 significant digits, then every
+            // stamp rounded to the grid through the first.
+            let mut s: Vec<f64> = times.windows(2).map(|w| w[1] - w[0]).collect();
+            let mid = (s.len() - 1) / 2;
+            let median = *s.select_nth_unstable_by(mid, f64::total_cmp).1;
+            drop(s);
+            if !(median > 0.0) {
+                // Find the first stamp that does not increase.
+                let i = times.windows(2).position(|w| !(w[1] > w[0])).unwrap_or(0) + 1;
+                return Err(ReadError::at(
+                    label,
+                    map.line_of(i),
+                    "the timestamp is not later than the one before; expected increasing timestamps",
+                ));
+            }
+            let tau0 = snap_tau0(&times, median);
+            let mut g = Grid::new(tau0, opts.snap);
+            let mut grid_values: Vec<f64> = Vec::with_capacity(values.len());
+            for (i, &t) in times.iter().enumerate() {
+                let slot = g
+                    .place(t)
+                    .map_err(|m| ReadError::at(label, map.line_of(i), m))?;
+                if slot as usize >= MAX_POINTS {
+                    return Err(too_many(label, map.line_of(i)));
+                }
+                slot_lines.push((slot, map.line_of(i)));
+                grid_values.resize(slot as usize, f64::NAN);
+                grid_values.push(values[i]);
+            }
+            inserted = g.slot + 1 - rows as u64;
+            values = grid_values;
+            grid = Some(g);
+            tau0
+        }
     };
-    drop(spacings);
+    drop(times);
+
+    let snap = match (opts.snap, grid.as_ref()) {
+        (Some(fraction), Some(g)) => {
+            let (j, row) = g.jitter();
+            let line = slot_lines.get(row).map_or(0, |p| p.1);
+            notes.push(format!(
+                "timestamps rounded to the τ0 grid (--snap {fraction}): the largest distance from it is {} s ({:.3}·τ0) at line {line}",
+                format_sig(j, 3),
+                j / tau0
+            ));
+            Some(SnapInfo {
+                fraction,
+                largest_jitter: j,
+                line,
+            })
+        }
+        (Some(_), None) => {
+            notes.push("--snap has no effect: the file has no time column".to_string());
+            None
+        }
+        _ => None,
+    };
 
     if values.iter().all(|v| v.is_nan()) {
         return Err(ReadError::file(
@@ -595,8 +1489,107 @@ pub fn read_series_from<R: BufRead>(
             format!("all {rows} readings are missing values (NaN, - or empty); expected numbers"),
         ));
     }
+
+    // 5. Unwrap, check plausibility.
+    let unwrap = match opts.wrap {
+        Some(period) => {
+            let wraps = wrap::unwrap(&mut values, period).map_err(|e| {
+                let line = slot_lines
+                    .binary_search_by_key(&(e.index as u64), |p| p.0)
+                    .map_or(0, |i| slot_lines[i].1);
+                ReadError::at(
+                    label,
+                    line,
+                    format!(
+                        "this reading moves {} s ({:.2} of the {} s period) from the one predicted{}, too near half a period to tell which way it wrapped; check --wrap",
+                        format_sig(e.step, 4),
+                        e.step / period,
+                        format_sig(period, 4),
+                        if e.gap > 1 {
+                            format!(" after a gap of {} samples", e.gap - 1)
+                        } else {
+                            String::new()
+                        }
+                    ),
+                )
+            })?;
+            notes.push(format!(
+                "readings unwrapped at a period of {} s: {wraps} whole period(s) added or removed",
+                format_sig(period, 6)
+            ));
+            Some(UnwrapInfo { period, wraps })
+        }
+        None => None,
+    };
+    let range = if unwrap.is_some() {
+        value_range(&values)
+    } else {
+        (lo, hi)
+    };
+    let warnings = plausibility(
+        resolved.kind,
+        conv,
+        range,
+        &resolved.symbol,
+        resolved.source,
+    );
+
     values.shrink_to_fit();
-    let record = match kind {
+    let record = build_record(label, resolved.kind, values, tau0)?;
+    Ok(Series {
+        record,
+        info: SeriesInfo {
+            path: label.to_path_buf(),
+            format: InputFormat::Text,
+            lines: lines.lines(),
+            bytes: lines.bytes(),
+            bom: lines.had_bom(),
+            preamble: lay.preamble,
+            preamble_lines: lay.preamble_lines,
+            header: lay.header.as_ref().map(|h| h.fields.clone()),
+            header_line: lay.header.as_ref().map(|h| h.line),
+            first_data_line: Some(lay.first_line),
+            delimiter: Some(delim),
+            decimal_comma: lay.decimal_note.clone(),
+            value_column: value_col,
+            time_column: time_col,
+            time_kind: form.map(TimeForm::kind),
+            unit: resolved.symbol,
+            unit_source: resolved.source,
+            tau0_from_timestamps,
+            inserted_gaps: inserted as usize,
+            start_time: form.map(TimeForm::start),
+            start_unix: match form {
+                Some(TimeForm::Iso { s0, ns0 }) => Some((s0, ns0)),
+                _ => None,
+            },
+            data_end,
+            snap,
+            unwrap,
+            notes,
+            warnings,
+        },
+    })
+}
+
+fn too_many(label: &Path, line: u64) -> ReadError {
+    ReadError::at(
+        label,
+        line,
+        format!(
+            "more than {MAX_POINTS} samples ({} GB in memory); expected a record of at most {MAX_POINTS} samples — decimate or split it",
+            MAX_POINTS as f64 * 8.0 / 1e9
+        ),
+    )
+}
+
+fn build_record(
+    label: &Path,
+    kind: DataKind,
+    values: Vec<f64>,
+    tau0: f64,
+) -> Result<Record, ReadError> {
+    Ok(match kind {
         DataKind::Phase => Record::Phase(
             PhaseRecord::new(values, tau0).map_err(|e| ReadError::file(label, e.to_string()))?,
         ),
@@ -604,19 +1597,336 @@ pub fn read_series_from<R: BufRead>(
             FrequencyRecord::new(values, tau0)
                 .map_err(|e| ReadError::file(label, e.to_string()))?,
         ),
+    })
+}
+
+/// The smallest and largest value, gaps (NaN) skipped.
+fn value_range(values: &[f64]) -> (f64, f64) {
+    // Plain comparisons: NaN compares false and is skipped.
+    let mut lo = f64::INFINITY;
+    let mut hi = f64::NEG_INFINITY;
+    for &v in values {
+        if v < lo {
+            lo = v;
+        }
+        if v > hi {
+            hi = v;
+        }
+    }
+    (lo, hi)
+}
+
+/// Warnings for values implausible for the unit in force: phase beyond a
+/// second, fractional frequency beyond 10⁻³, readings that look like
+/// absolute hertz. (Thresholds ours: a second of time error, or 10⁻³ of
+/// frequency, is far beyond any oscillator a timing engineer qualifies.)
+fn plausibility(
+    kind: DataKind,
+    conv: Conversion,
+    (lo, hi): (f64, f64),
+    unit: &str,
+    source: UnitSource,
+) -> Vec<String> {
+    if !(lo.is_finite() && hi.is_finite()) {
+        return Vec::new();
+    }
+    let biggest = lo.abs().max(hi.abs());
+    // Readings as written (before the unit's scale).
+    let (raw_lo, raw_hi) = match conv {
+        Conversion::Scale(s) if s > 0.0 => (lo / s, hi / s),
+        _ => (lo, hi),
     };
+    let looks_absolute = raw_lo > 1e3
+        && (raw_hi - raw_lo) < 1e-3 * raw_lo
+        && !matches!(conv, Conversion::Carrier { .. });
+    let absolute_hint = if looks_absolute {
+        format!(
+            "; they look like absolute frequency readings (all near {} ): give --data freq --units hz --carrier FREQ",
+            format_sig(raw_lo, 8)
+        )
+    } else {
+        String::new()
+    };
+    let unit_hint = if source == UnitSource::Default && !looks_absolute {
+        "; if they are in another unit, give --units (or name the unit in the header, e.g. 'phase (ns)')"
+    } else {
+        ""
+    };
+    let mut out = Vec::new();
+    match (kind, conv) {
+        (DataKind::Phase, _) if biggest > PLAUSIBLE_PHASE => out.push(format!(
+            "phase readings reach {} s, implausible for phase in {unit} (more than a second){absolute_hint}{unit_hint}",
+            format_sig(biggest, 4)
+        )),
+        (DataKind::Freq, Conversion::Carrier { nu0, .. }) if biggest > PLAUSIBLE_FREQUENCY => {
+            out.push(format!(
+                "the readings differ from the carrier {} Hz by up to {} (fractional), implausible for an oscillator: is --carrier right?",
+                format_sig(nu0, 10),
+                format_sig(biggest, 4)
+            ))
+        }
+        (DataKind::Freq, _) if biggest > PLAUSIBLE_FREQUENCY => out.push(format!(
+            "fractional frequency reaches {}, implausible for readings in {unit} (above 1e-3){absolute_hint}{unit_hint}",
+            format_sig(biggest, 4)
+        )),
+        _ => {}
+    }
+    out
+}
+
+/// Read an `.npy` file as a series (see [`super::npy`]).
+fn read_npy<R: BufRead>(
+    mut reader: R,
+    label: &Path,
+    opts: &SeriesOptions,
+) -> Result<Series, ReadError> {
+    let h = npy::read_header(&mut reader, label)?;
+    let cols = h.columns();
+    let value_col = opts.value_column.unwrap_or(cols);
+    let time_col = match opts.time_column {
+        Some(c) => Some(c),
+        None if !opts.no_time_column && cols >= 2 && value_col != 1 => Some(1),
+        None => None,
+    };
+    for (name, c) in [("value", Some(value_col)), ("time", time_col)] {
+        if let Some(c) = c {
+            if c > cols {
+                return Err(ReadError::file(
+                    label,
+                    format!(
+                        "{name} column {c} was asked for, but the .npy array has {cols} column{}; expected a column from 1 to {cols}",
+                        if cols == 1 { "" } else { "s" }
+                    ),
+                ));
+            }
+        }
+    }
+    if time_col.is_none() && opts.tau0.is_none() {
+        return Err(ReadError::file(
+            label,
+            "the sampling interval τ0 is unknown: the .npy array has no time column; give --tau0 (e.g. 1s) or --time-column",
+        ));
+    }
+    let resolved = resolve_unit(label, opts, None, value_col)?;
+    if opts.wrap.is_some() && resolved.kind == DataKind::Freq {
+        return Err(ReadError::file(
+            label,
+            "--wrap unwraps phase (time-interval) readings; these are frequency readings",
+        ));
+    }
+    let c = npy::read_columns(
+        &mut reader,
+        label,
+        &h,
+        value_col - 1,
+        time_col.map(|t| t - 1),
+        MAX_POINTS,
+    )?;
+    let rows = c.values.len();
+    if rows < 2 {
+        return Err(ReadError::file(
+            label,
+            format!("the .npy array has {rows} reading(s); expected at least 2 to form a record"),
+        ));
+    }
+    let conv = resolved.conv;
+    let mut notes = vec![format!(
+        "numpy .npy file: {} {} array of {}",
+        h.dtype.descr(),
+        if cols == 1 {
+            "1-D".to_string()
+        } else {
+            format!("{} × {cols}", h.rows())
+        },
+        if h.fortran_order {
+            "(column after column)"
+        } else {
+            "(row after row)"
+        }
+    )];
+    let mut values: Vec<f64> = c.values;
+    if !matches!(conv, Conversion::Scale(s) if s == 1.0) {
+        for v in values.iter_mut() {
+            if !v.is_nan() {
+                *v = conv.apply(*v);
+            }
+        }
+    }
+    let mut tau0_from_timestamps = false;
+    let mut inserted = 0u64;
+    let mut start_time = None;
+    let mut snap = None;
+    let tau0 = match c.times {
+        None => opts.tau0.unwrap_or(1.0),
+        Some(times) => {
+            let t0 = times[0];
+            if !t0.is_finite() {
+                return Err(ReadError::file(
+                    label,
+                    "row 1: the time is NaN; expected a timestamp in seconds",
+                ));
+            }
+            start_time = Some(t0);
+            let tau0 = match opts.tau0 {
+                Some(t) => t,
+                None => {
+                    tau0_from_timestamps = true;
+                    let mut s: Vec<f64> = times.windows(2).map(|w| w[1] - w[0]).collect();
+                    let mid = (s.len() - 1) / 2;
+                    let median = *s.select_nth_unstable_by(mid, f64::total_cmp).1;
+                    if !(median > 0.0) {
+                        return Err(ReadError::file(
+                            label,
+                            "the times do not increase; expected increasing timestamps in seconds",
+                        ));
+                    }
+                    if opts.snap.is_some() {
+                        snap_tau0(&times, median)
+                    } else {
+                        crate::units::round_sig(median, 10)
+                    }
+                }
+            };
+            let mut g = Grid::new(tau0, opts.snap);
+            let mut grid_values = Vec::with_capacity(rows);
+            for (i, &t) in times.iter().enumerate() {
+                let row_err = |m: String| ReadError::file(label, format!("row {}: {m}", i + 1));
+                if !t.is_finite() {
+                    return Err(row_err(
+                        "the time is NaN; expected a timestamp in seconds".into(),
+                    ));
+                }
+                let slot = g.place(t - t0).map_err(row_err)?;
+                if slot as usize >= MAX_POINTS {
+                    return Err(row_err("too many samples".into()));
+                }
+                grid_values.resize(slot as usize, f64::NAN);
+                grid_values.push(values[i]);
+            }
+            if opts.tau0.is_some() {
+                g.check_agreement().map_err(|m| ReadError::file(label, m))?;
+            }
+            if let Some(fraction) = opts.snap {
+                let (j, row) = g.jitter();
+                notes.push(format!(
+                    "timestamps rounded to the τ0 grid (--snap {fraction}): the largest distance from it is {} s ({:.3}·τ0) at row {}",
+                    format_sig(j, 3),
+                    j / tau0,
+                    row + 1
+                ));
+                snap = Some(SnapInfo {
+                    fraction,
+                    largest_jitter: j,
+                    line: row as u64 + 1,
+                });
+            }
+            inserted = g.slot + 1 - rows as u64;
+            values = grid_values;
+            tau0
+        }
+    };
+    if values.iter().all(|v| v.is_nan()) {
+        return Err(ReadError::file(
+            label,
+            format!("all {rows} readings are NaN; expected numbers"),
+        ));
+    }
+    let unwrap = match opts.wrap {
+        Some(period) => {
+            let wraps = wrap::unwrap(&mut values, period).map_err(|e| {
+                ReadError::file(
+                    label,
+                    format!(
+                        "sample {}: the reading moves {} s from the one predicted, too near half the {} s period to tell which way it wrapped; check --wrap",
+                        e.index + 1,
+                        format_sig(e.step, 4),
+                        format_sig(period, 4)
+                    ),
+                )
+            })?;
+            notes.push(format!(
+                "readings unwrapped at a period of {} s: {wraps} whole period(s) added or removed",
+                format_sig(period, 6)
+            ));
+            Some(UnwrapInfo { period, wraps })
+        }
+        None => None,
+    };
+    if let Some(n) = &resolved.note {
+        notes.push(n.clone());
+    }
+    let warnings = plausibility(
+        resolved.kind,
+        conv,
+        value_range(&values),
+        &resolved.symbol,
+        resolved.source,
+    );
+    let bytes = h.data_offset as u64 + (h.rows() * cols * h.dtype.size) as u64;
+    let record = build_record(label, resolved.kind, values, tau0)?;
     Ok(Series {
         record,
         info: SeriesInfo {
             path: label.to_path_buf(),
-            lines: lines.lines(),
-            bytes: lines.bytes(),
-            header,
+            format: InputFormat::Npy,
+            lines: 0,
+            bytes,
+            bom: false,
+            preamble: Vec::new(),
+            preamble_lines: 0,
+            header: None,
+            header_line: None,
+            first_data_line: None,
+            delimiter: None,
+            decimal_comma: None,
+            value_column: value_col,
+            time_column: time_col,
+            time_kind: time_col.map(|_| TimeKind::Seconds),
+            unit: resolved.symbol,
+            unit_source: resolved.source,
             tau0_from_timestamps,
             inserted_gaps: inserted as usize,
-            start_time: form.map(TimeForm::start),
+            start_time,
+            start_unix: None,
+            data_end: None,
+            snap,
+            unwrap,
+            notes,
+            warnings,
         },
     })
+}
+
+/// An option that would read the file better, with the reason.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Suggestion {
+    /// The option as typed (`--wrap 100ns`).
+    pub option: String,
+    /// Why.
+    pub reason: String,
+}
+
+/// Options that would read this series better: `--wrap` when phase
+/// readings jump by nearly their whole range, again and again
+/// ([`wrap::find_wraps`]).
+pub fn suggestions(series: &Series) -> Vec<Suggestion> {
+    let mut out = Vec::new();
+    if let (Record::Phase(p), None) = (&series.record, series.info.unwrap) {
+        if let Some(h) = wrap::find_wraps(&p.x) {
+            let period = crate::units::round_sig(h.period, 2);
+            let typed = crate::units::format_si(period, "s", 3).replace(' ', "");
+            out.push(Suggestion {
+                option: format!("--wrap {typed}"),
+                reason: format!(
+                    "the readings jump {} time(s) by about {} while staying within {}: they look like time-interval readings that wrap at one carrier period",
+                    h.jumps,
+                    crate::units::format_si(h.period, "s", 4),
+                    crate::units::format_si(h.range, "s", 4)
+                ),
+            });
+        }
+    }
+    out
 }
 
 #[cfg(test)]
@@ -681,5 +1991,66 @@ mod tests {
         assert_eq!(parse_iso("1970-01-01T01:00:00+01:00"), Some((0, 0)));
         assert_eq!(parse_iso("1970-01-01 01:00:00+01:00"), Some((0, 0)));
         assert_eq!(parse_iso("yesterday"), None);
+    }
+
+    #[test]
+    fn grid_snap_and_agreement() {
+        let mut g = Grid::new(1.0, Some(0.25));
+        assert_eq!(g.place(0.0).unwrap(), 0);
+        assert_eq!(g.place(1.03).unwrap(), 1);
+        assert_eq!(g.place(1.98).unwrap(), 2);
+        assert_eq!(g.place(4.01).unwrap(), 4);
+        assert!(g.place(4.3).is_err());
+        let (j, row) = g.jitter();
+        // Distances 0, 0.03, −0.02, 0.01: mean 0.005, largest about it 0.025.
+        assert!((j - 0.025).abs() < 1e-12, "{j}");
+        assert_eq!(row, 1);
+        let mut g = Grid::new(0.1, None);
+        for i in 0..10 {
+            g.place(i as f64).unwrap();
+        }
+        assert!(g
+            .check_agreement()
+            .unwrap_err()
+            .contains("most are more than 8"));
+    }
+
+    #[test]
+    fn plausibility_warnings() {
+        let w = plausibility(
+            DataKind::Phase,
+            Conversion::Scale(1.0),
+            (1e7, 1e7 + 0.1),
+            "s",
+            UnitSource::Default,
+        );
+        assert!(w[0].contains("absolute frequency"), "{w:?}");
+        let w = plausibility(
+            DataKind::Phase,
+            Conversion::Scale(1.0),
+            (12.0, 13.0),
+            "s",
+            UnitSource::Default,
+        );
+        assert!(w[0].contains("--units"), "{w:?}");
+        let w = plausibility(
+            DataKind::Freq,
+            Conversion::Scale(1.0),
+            (1e-9, 1e-9),
+            "frac",
+            UnitSource::Default,
+        );
+        assert!(w.is_empty());
+        let w = plausibility(
+            DataKind::Freq,
+            Conversion::Carrier {
+                nu0: 10e6,
+                scale: 1.0,
+            },
+            (0.5, 0.5),
+            "Hz",
+            UnitSource::Option,
+        );
+        assert!(w[0].contains("--carrier"), "{w:?}");
     }
 }

@@ -1,29 +1,25 @@
-//! Plain-text tables: opening an input (file or standard input), reading it
-//! line by line into one reused buffer, skipping `#` comments and blank
-//! lines, sniffing the field delimiter, splitting fields and classifying them
-//! as numbers, missing values or text, and recognising one header line.
+//! Text inputs line by line: opening a file (or standard input), the byte
+//! order mark, line ends, comment lines, the line-length bound, and reading
+//! a small whole text file (masks, DUT files, JSON) within a size bound.
 //!
-//! Every reader of text input (time series in [`super::series`], L(f) tables)
-//! goes through this module, so that they accept the same files and fail with
-//! the same messages (`<path>:<line>: <what was expected>`).
+//! Every text reader (time series in [`super::series`], L(f) tables in
+//! [`super::lf_table`], masks, DUT files) goes through this module, so that
+//! they accept the same files and fail with the same messages
+//! (`<path>:<line>: <what was expected>`). Fields are split in
+//! [`super::fields`]; where the data start (preamble, header, delimiter,
+//! decimal mark) is found in [`super::layout`].
 //!
-//! Conventions accepted here (ours):
-//! - a line whose first non-blank character is `#` is a comment; blank lines
-//!   are skipped; a trailing `\r` (Windows line end) is removed;
-//! - fields are separated by one of: tab, `;`, `,`, or runs of spaces/tabs
-//!   ([`Delimiter::sniff`] picks one from the first data line);
-//! - a field may be wrapped in double quotes, which are removed;
-//! - `NaN` (any case), an empty field and `-` mean "missing" (a gap);
-//! - a number may be written with one decimal comma (`2,5`) when the fields
-//!   are separated by `;`, tabs or spaces;
-//! - with the whitespace delimiter, an ISO-8601 date followed by a time of
-//!   day (`2024-05-01 12:00:00`) is one field;
-//! - lines are at most [`MAX_LINE_BYTES`] long; content lines (not comments)
-//!   must be UTF-8.
+//! Conventions (ours):
+//! - a UTF-8 byte-order mark at the start is skipped; a UTF-16 one is
+//!   refused with a clear message;
+//! - a line whose first non-blank characters are `#`, `;`, `%` or `//` (or
+//!   one of the `--comment` characters) is a comment; blank lines are
+//!   skipped; a trailing `\r` (Windows line end) is removed;
+//! - lines are at most [`MAX_LINE_BYTES`] long; content lines must be UTF-8.
 
 use super::ReadError;
 use std::fs::File;
-use std::io::{BufRead, BufReader};
+use std::io::{BufRead, BufReader, Read};
 use std::path::{Path, PathBuf};
 
 /// Longest line accepted (bytes). A longer "line" is almost certainly a
@@ -32,6 +28,9 @@ pub const MAX_LINE_BYTES: usize = 1 << 20;
 
 /// Buffer size used when reading files (large reads are faster than 8 KiB).
 const READ_BUFFER: usize = 1 << 18;
+
+/// The UTF-8 byte-order mark.
+pub const BOM: &[u8] = b"\xef\xbb\xbf";
 
 /// Open `path` for reading; `-` is standard input.
 ///
@@ -65,12 +64,141 @@ fn open_error(path: &Path, e: &std::io::Error) -> ReadError {
     ReadError::file(path, what)
 }
 
+/// The first bytes of an input, without consuming them (as many as the
+/// reader's buffer holds, up to `n`).
+pub fn peek<R: BufRead>(reader: &mut R, n: usize) -> std::io::Result<Vec<u8>> {
+    loop {
+        match reader.fill_buf() {
+            Ok(b) => return Ok(b[..b.len().min(n)].to_vec()),
+            Err(e) if e.kind() == std::io::ErrorKind::Interrupted => continue,
+            Err(e) => return Err(e),
+        }
+    }
+}
+
+/// Read a small text file whole (mask files, DUT files, JSON results),
+/// refusing one larger than `limit` bytes before reading it all (so that
+/// `/dev/zero` or a wrong file cannot fill memory). A UTF-8 byte-order mark
+/// is removed; the text must be UTF-8. `what` names the kind of file in
+/// messages ("mask file"). `-` is standard input.
+pub fn read_small_text(path: &Path, limit: u64, what: &str) -> Result<String, ReadError> {
+    let mut reader = open_input(path).map_err(|e| ReadError {
+        expected: format!("{what}: {}", e.expected),
+        ..e
+    })?;
+    let mut bytes = Vec::new();
+    (&mut reader)
+        .take(limit + 1)
+        .read_to_end(&mut bytes)
+        .map_err(|e| ReadError::file(path, format!("could not read the {what}: {e}")))?;
+    if bytes.len() as u64 > limit {
+        return Err(ReadError::file(
+            path,
+            format!(
+                "larger than {}; a {what} is a short text file — is this the right file?",
+                size_text(limit)
+            ),
+        ));
+    }
+    let body = bytes.strip_prefix(BOM).unwrap_or(&bytes);
+    if body.starts_with(b"\xff\xfe") || body.starts_with(b"\xfe\xff") {
+        return Err(utf16(path));
+    }
+    match std::str::from_utf8(body) {
+        Ok(t) => Ok(t.to_string()),
+        Err(e) => {
+            let at = e.valid_up_to();
+            let line = body[..at].iter().filter(|&&c| c == b'\n').count() as u64 + 1;
+            Err(ReadError::at(
+                path,
+                line,
+                format!(
+                    "byte 0x{:02x} is not UTF-8 text; expected the {what} as plain text",
+                    body[at]
+                ),
+            ))
+        }
+    }
+}
+
+/// `1 MiB`, `64 KiB`, `512 bytes`.
+pub fn size_text(bytes: u64) -> String {
+    if bytes >= 1 << 20 && bytes % (1 << 20) == 0 {
+        format!("{} MiB", bytes >> 20)
+    } else if bytes >= 1 << 10 && bytes % (1 << 10) == 0 {
+        format!("{} KiB", bytes >> 10)
+    } else {
+        format!("{bytes} bytes")
+    }
+}
+
+fn utf16(path: &Path) -> ReadError {
+    ReadError::at(
+        path,
+        1,
+        "the file is UTF-16 text (it starts with a UTF-16 byte-order mark); expected UTF-8 or ASCII text — save it as UTF-8",
+    )
+}
+
+/// Which lines are comments: those whose first non-blank characters are
+/// `#`, `;`, `%` or `//`, or one of the extra characters given by the user.
+#[derive(Debug, Clone, Default, PartialEq, Eq)]
+pub struct CommentStyle {
+    extra: Vec<char>,
+}
+
+/// Characters that cannot start a comment: they start numbers, fields or
+/// quoted fields.
+const NOT_COMMENT: &str = "0123456789+-.,\"' \t";
+
+impl CommentStyle {
+    /// The default prefixes plus every character of `chars` (`--comment`).
+    /// Characters that start numbers, fields or quotes are refused.
+    pub fn with_extra(chars: &str) -> Result<Self, String> {
+        let mut extra = Vec::new();
+        for c in chars.chars() {
+            if NOT_COMMENT.contains(c) || c.is_alphanumeric() {
+                return Err(format!(
+                    "'{c}' cannot start a comment: it can start a reading or a field; expected symbols such as ! * @"
+                ));
+            }
+            if !extra.contains(&c) {
+                extra.push(c);
+            }
+        }
+        Ok(Self { extra })
+    }
+
+    /// True when the (trimmed, non-empty) line is a comment.
+    #[inline(always)]
+    pub fn is_comment(&self, line: &[u8]) -> bool {
+        match line.first() {
+            Some(b'#' | b';' | b'%') => true,
+            Some(b'/') => line.get(1) == Some(&b'/'),
+            Some(_) if !self.extra.is_empty() => std::str::from_utf8(line)
+                .ok()
+                .and_then(|s| s.chars().next())
+                .is_some_and(|c| self.extra.contains(&c)),
+            _ => false,
+        }
+    }
+
+    /// The extra comment characters, as given.
+    pub fn extra(&self) -> String {
+        self.extra.iter().collect()
+    }
+}
+
 /// Reads a text input line by line, counting lines and bytes, and handing
-/// out only content lines (not comments or blanks).
+/// out content lines (and, when asked, comment lines).
 ///
 /// A line that lies whole in the reader's buffer is handed out in place
 /// (no copy); only a line split across two buffer fills is copied, into one
 /// reused buffer. So memory stays bounded whatever the input's size.
+///
+/// A reader can start at any line of a larger input ([`LineReader::starting_at`]):
+/// line numbers in messages are then counted from there, so that a chunk of
+/// a file read on its own reports the file's own line numbers.
 pub struct LineReader<R> {
     reader: R,
     buf: Vec<u8>,
@@ -79,6 +207,9 @@ pub struct LineReader<R> {
     path: PathBuf,
     line: u64,
     bytes: u64,
+    comments: CommentStyle,
+    at_start: bool,
+    bom: bool,
 }
 
 /// Where the current raw line is.
@@ -101,7 +232,26 @@ impl<R: BufRead> LineReader<R> {
             path: label.to_path_buf(),
             line: 0,
             bytes: 0,
+            comments: CommentStyle::default(),
+            at_start: true,
+            bom: false,
         }
+    }
+
+    /// A reader over a part of a larger input that begins at line
+    /// `first_line` (1-based) of it. No byte-order mark is looked for unless
+    /// `first_line` is 1.
+    pub fn starting_at(reader: R, label: &Path, first_line: u64) -> Self {
+        let mut r = Self::new(reader, label);
+        r.line = first_line.saturating_sub(1);
+        r.at_start = first_line <= 1;
+        r
+    }
+
+    /// Use these comment prefixes.
+    pub fn with_comments(mut self, comments: CommentStyle) -> Self {
+        self.comments = comments;
+        self
     }
 
     /// The path used in messages.
@@ -109,7 +259,7 @@ impl<R: BufRead> LineReader<R> {
         &self.path
     }
 
-    /// Number of lines read so far (all lines, including comments and blanks).
+    /// Number of the last line read (all lines, including comments and blanks).
     pub fn lines(&self) -> u64 {
         self.line
     }
@@ -117,6 +267,11 @@ impl<R: BufRead> LineReader<R> {
     /// Number of bytes read so far.
     pub fn bytes(&self) -> u64 {
         self.bytes
+    }
+
+    /// True when the input started with a UTF-8 byte-order mark (skipped).
+    pub fn had_bom(&self) -> bool {
+        self.bom
     }
 
     /// An error on the current line.
@@ -199,23 +354,47 @@ impl<R: BufRead> LineReader<R> {
     /// The next content line (trimmed; comments and blank lines skipped)
     /// with its 1-based number, or `None` at the end of the input.
     /// Non-UTF-8 bytes in a content line are an error naming the line.
+    #[inline]
     pub fn next_line(&mut self) -> Result<Option<Line<'_>>, ReadError> {
-        let (raw, start, end) = loop {
+        self.next(false)
+    }
+
+    /// The next non-blank line, comments included (see [`Line::comment`]).
+    pub fn next_line_or_comment(&mut self) -> Result<Option<Line<'_>>, ReadError> {
+        self.next(true)
+    }
+
+    #[inline(always)]
+    fn next(&mut self, keep_comments: bool) -> Result<Option<Line<'_>>, ReadError> {
+        let (raw, start, end, comment) = loop {
             let raw = self.read_raw()?;
             if let Raw::End = raw {
                 return Ok(None);
             }
             let bytes = raw_bytes(&mut self.reader, &self.buf, &raw, &self.path, self.line)?;
-            let start = bytes
+            let mut from = 0;
+            if self.at_start {
+                self.at_start = false;
+                if bytes.starts_with(BOM) {
+                    from = BOM.len();
+                    self.bom = true;
+                } else if bytes.starts_with(b"\xff\xfe") || bytes.starts_with(b"\xfe\xff") {
+                    return Err(utf16(&self.path));
+                }
+            }
+            let start = bytes[from..]
                 .iter()
                 .position(|b| !b.is_ascii_whitespace())
-                .unwrap_or(bytes.len());
+                .map_or(bytes.len(), |i| i + from);
             let end = bytes
                 .iter()
                 .rposition(|b| !b.is_ascii_whitespace())
-                .map_or(start, |i| i + 1);
-            if start < end && bytes[start] != b'#' {
-                break (raw, start, end);
+                .map_or(start, |i| (i + 1).max(start));
+            if start < end {
+                let comment = self.comments.is_comment(&bytes[start..end]);
+                if !comment || keep_comments {
+                    break (raw, start, end, comment);
+                }
             }
         };
         let number = self.line;
@@ -229,7 +408,11 @@ impl<R: BufRead> LineReader<R> {
                 } else {
                     t
                 };
-                Ok(Some(Line { number, text }))
+                Ok(Some(Line {
+                    number,
+                    text,
+                    comment,
+                }))
             }
             Err(e) => {
                 let at = e.valid_up_to();
@@ -268,13 +451,16 @@ fn raw_bytes<'a, R: BufRead>(
     }
 }
 
-/// One content line of a text input.
+/// One non-blank line of a text input.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub struct Line<'a> {
     /// 1-based line number in the input.
     pub number: u64,
     /// The line, trimmed, without its line end.
     pub text: &'a str,
+    /// True for a comment line (only handed out by
+    /// [`LineReader::next_line_or_comment`]).
+    pub comment: bool,
 }
 
 /// An error in one field (1-based column) of one line.
@@ -296,335 +482,18 @@ pub fn field_error(
 pub fn not_a_number(field: &str, column: usize) -> String {
     format!(
         "field {column} is '{}': expected a number (or NaN, - or an empty field for a missing value)",
-        shorten(field)
+        super::fields::shorten(field)
     )
 }
 
-/// How the fields of a line are separated.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub enum Delimiter {
-    /// `,`
-    Comma,
-    /// `;`
-    Semicolon,
-    /// a tab character
-    Tab,
-    /// one or more spaces or tabs
-    Whitespace,
-}
-
-impl Delimiter {
-    /// Pick the delimiter of a data line: `;` if present; else a tab if the
-    /// line has tabs and no spaces; else `,` if present; else runs of
-    /// spaces and tabs. `;` and tab come before `,` so that files written
-    /// with a decimal comma (`1,5;2,25` or `1,5<tab>2,25`) are split
-    /// correctly (see [`parse_finite`] for the decimal comma).
-    pub fn sniff(line: &str) -> Self {
-        if line.contains(';') {
-            Delimiter::Semicolon
-        } else if line.contains('\t') && !line.contains(' ') {
-            Delimiter::Tab
-        } else if line.contains(',') {
-            Delimiter::Comma
-        } else {
-            Delimiter::Whitespace
-        }
-    }
-
-    /// The delimiter's plain name (`comma`, `semicolon`, `tab`, `spaces`).
-    pub fn name(self) -> &'static str {
-        match self {
-            Delimiter::Comma => "comma",
-            Delimiter::Semicolon => "semicolon",
-            Delimiter::Tab => "tab",
-            Delimiter::Whitespace => "spaces",
-        }
-    }
-
-    /// Iterate over the fields of `line` (each trimmed, quotes removed).
-    pub fn fields(self, line: &str) -> Fields<'_> {
-        Fields {
-            rest: Some(line),
-            delim: self,
-        }
-    }
-
-    /// Split `line` into fields, dropping trailing empty fields produced by
-    /// a line that ends with the delimiter.
-    pub fn split_trimmed(self, line: &str) -> Vec<&str> {
-        let mut v: Vec<&str> = self.fields(line).collect();
-        while v.len() > 1 && v.last().is_some_and(|f| f.is_empty()) {
-            v.pop();
-        }
-        v
-    }
-}
-
-/// Iterator over the fields of one line; see [`Delimiter::fields`].
-pub struct Fields<'a> {
-    rest: Option<&'a str>,
-    delim: Delimiter,
-}
-
-fn unquote(f: &str) -> &str {
-    let f = f.trim_ascii();
-    if f.len() >= 2 && f.starts_with('"') && f.ends_with('"') {
-        f[1..f.len() - 1].trim_ascii()
-    } else {
-        f
-    }
-}
-
-fn is_date(s: &str) -> bool {
-    is_date_bytes(s.as_bytes())
-}
-
-fn is_date_bytes(b: &[u8]) -> bool {
-    b.len() == 10
-        && b[4] == b'-'
-        && b[7] == b'-'
-        && b.iter()
-            .enumerate()
-            .all(|(i, c)| i == 4 || i == 7 || c.is_ascii_digit())
-}
-
-fn is_time_of_day(s: &str) -> bool {
-    let b = s.as_bytes();
-    b.len() >= 5 && b[0].is_ascii_digit() && b[1].is_ascii_digit() && b[2] == b':'
-}
-
-impl<'a> Iterator for Fields<'a> {
-    type Item = &'a str;
-
-    fn next(&mut self) -> Option<&'a str> {
-        let rest = self.rest?;
-        let sep = match self.delim {
-            Delimiter::Comma => b',',
-            Delimiter::Semicolon => b';',
-            Delimiter::Tab => b'\t',
-            Delimiter::Whitespace => {
-                let r = rest.trim_start_matches([' ', '\t']);
-                if r.is_empty() {
-                    self.rest = None;
-                    return None;
-                }
-                let end = memchr::memchr2(b' ', b'\t', r.as_bytes()).unwrap_or(r.len());
-                let mut tok = &r[..end];
-                let mut after = &r[end..];
-                // A date and a time of day separated by spaces are one field.
-                if is_date(tok) {
-                    let a = after.trim_start_matches([' ', '\t']);
-                    let e2 = a.find([' ', '\t']).unwrap_or(a.len());
-                    if is_time_of_day(&a[..e2]) {
-                        let skipped = after.len() - a.len();
-                        tok = &r[..end + skipped + e2];
-                        after = &a[e2..];
-                    }
-                }
-                self.rest = if after.is_empty() { None } else { Some(after) };
-                return Some(unquote(tok));
-            }
-        };
-        match memchr::memchr(sep, rest.as_bytes()) {
-            Some(i) => {
-                self.rest = Some(&rest[i + 1..]);
-                Some(unquote(&rest[..i]))
-            }
-            None => {
-                self.rest = None;
-                Some(unquote(rest))
-            }
-        }
-    }
-}
-
-/// What a field holds.
-#[derive(Debug, Clone, Copy, PartialEq)]
-pub enum Field {
-    /// A finite number.
-    Number(f64),
-    /// A missing value: `NaN`, empty, or `-`.
-    Missing,
-    /// Anything else (text, `inf`, a date).
-    Text,
-}
-
-/// True for the spellings of a missing value: empty, `-`, `NaN` (any case).
-pub fn is_missing(field: &str) -> bool {
-    field.is_empty() || field == "-" || field.eq_ignore_ascii_case("nan")
-}
-
-/// Classify one (trimmed) field.
-pub fn classify(field: &str) -> Field {
-    if is_missing(field) {
-        return Field::Missing;
-    }
-    match parse_finite(field) {
-        Some(v) => Field::Number(v),
-        None => Field::Text,
-    }
-}
-
-/// Parse a finite number (Rust `f64` grammar: `1`, `-2.5`, `1e-9`, `.5`);
-/// `None` for anything else, including `inf` and `NaN`. A field with one
-/// decimal comma and no point (`2,5e-9`, as some spreadsheets write with
-/// `;` or tab between fields) is read as the same number with a point.
-#[inline]
-pub fn parse_finite(field: &str) -> Option<f64> {
-    // Only digits, signs, '.', 'e'/'E' may appear: refuse "inf", "infinity".
-    let b = field.as_bytes();
-    let first = *b.first()?;
-    if !(first.is_ascii_digit() || first == b'-' || first == b'+' || first == b'.') {
-        return None;
-    }
-    match field.parse::<f64>() {
-        Ok(v) if v.is_finite() => Some(v),
-        Ok(_) => None,
-        Err(_) => decimal_comma(field),
-    }
-}
-
-#[cold]
-fn decimal_comma(field: &str) -> Option<f64> {
-    if field.bytes().filter(|&c| c == b',').count() != 1 || field.contains('.') {
-        return None;
-    }
-    match field.replace(',', ".").parse::<f64>() {
-        Ok(v) if v.is_finite() => Some(v),
-        _ => None,
-    }
-}
-
-/// Parse a field that must be a number or a missing value (`None`).
-/// The error names the path, line and field and says what was expected.
-pub fn number_or_missing(
-    path: &Path,
-    line: u64,
-    field: &str,
-    column: usize,
-) -> Result<Option<f64>, ReadError> {
-    if is_missing(field) {
-        return Ok(None);
-    }
-    parse_finite(field)
-        .map(Some)
-        .ok_or_else(|| field_error(path, line, column, not_a_number(field, column)))
-}
-
-/// Shorten a field for an error message (at most 40 characters).
-pub fn shorten(field: &str) -> String {
-    if field.chars().count() <= 40 {
-        field.to_string()
-    } else {
-        let s: String = field.chars().take(37).collect();
-        format!("{s}...")
-    }
-}
-
-/// True when a line is a header: it has at least one field that is text
-/// and no field that is a number or an ISO-8601 date-time.
-pub fn is_header(fields: &[&str]) -> bool {
-    let mut text = false;
-    for f in fields {
-        match classify(f) {
-            Field::Number(_) => return false,
-            Field::Missing => {}
-            Field::Text => {
-                if looks_like_datetime(f) {
-                    return false;
-                }
-                text = true;
-            }
-        }
-    }
-    text
-}
-
-/// A quick test for an ISO-8601 date or date-time (`YYYY-MM-DD…`).
-pub fn looks_like_datetime(field: &str) -> bool {
-    field.len() >= 10 && is_date_bytes(&field.as_bytes()[..10])
-}
-
-/// A small numeric table read whole: the optional header, the delimiter,
-/// and the rows with their line numbers. For files of modest size (L(f)
-/// tables, DUT lists); time series stream through [`super::series`].
-#[derive(Debug, Clone, PartialEq)]
-pub struct Table {
-    /// The header fields, when the first content line was a header.
-    pub header: Option<Vec<String>>,
-    /// The delimiter found in the first data line.
-    pub delimiter: Delimiter,
-    /// The data rows.
-    pub rows: Vec<TableRow>,
-    /// Lines read in all.
-    pub lines: u64,
-}
-
-/// One row of a [`Table`].
-#[derive(Debug, Clone, PartialEq)]
-pub struct TableRow {
-    /// 1-based line number in the file.
-    pub line: u64,
-    /// The fields: `Some(number)` or `None` for a missing value.
-    pub fields: Vec<Option<f64>>,
-}
-
-/// [`read_table`] on the file at `path` (`-` = standard input).
-pub fn read_table_file(path: &Path) -> Result<Table, ReadError> {
-    read_table(open_input(path)?, path)
-}
-
-/// Read a whole numeric table: comments and blank lines skipped, one header
-/// line recognised, the delimiter sniffed on the first data line, every
-/// field a number or a missing value. Errors name the line and field. An
-/// input with no data row is an error.
-pub fn read_table<R: BufRead>(reader: R, label: &Path) -> Result<Table, ReadError> {
-    let mut lines = LineReader::new(reader, label);
-    let mut header_raw: Option<String> = None;
-    let mut header: Option<Vec<String>> = None;
-    let mut delimiter: Option<Delimiter> = None;
-    let mut rows = Vec::new();
-    while let Some(line) = lines.next_line()? {
-        let d = match delimiter {
-            Some(d) => d,
-            None => {
-                let d = Delimiter::sniff(line.text);
-                if header_raw.is_none() && is_header(&d.split_trimmed(line.text)) {
-                    header_raw = Some(line.text.to_string());
-                    continue;
-                }
-                delimiter = Some(d);
-                header = header_raw
-                    .as_deref()
-                    .map(|h| d.split_trimmed(h).iter().map(|s| s.to_string()).collect());
-                d
-            }
-        };
-        let mut fields = Vec::new();
-        for (i, f) in d.split_trimmed(line.text).iter().enumerate() {
-            fields.push(number_or_missing(label, line.number, f, i + 1)?);
-        }
-        rows.push(TableRow {
-            line: line.number,
-            fields,
-        });
-    }
-    if rows.is_empty() {
-        let what = if lines.bytes() == 0 {
-            "the file is empty; expected lines of numbers".to_string()
-        } else if header_raw.is_some() {
-            "only a header line and no data; expected lines of numbers after it".to_string()
-        } else {
-            "no data lines (only comments or blank lines); expected lines of numbers".to_string()
-        };
-        return Err(ReadError::file(label, what));
-    }
-    Ok(Table {
-        header,
-        delimiter: delimiter.unwrap_or(Delimiter::Whitespace),
-        rows,
-        lines: lines.lines(),
-    })
+/// The message for `"1,288"` in a comma-separated file.
+pub fn ambiguous_comma(field: &str, column: usize) -> String {
+    format!(
+        "field {column} is '{}': the comma could be a decimal mark ({}) or a thousands separator ({}); give --decimal-comma if it is the decimal mark, or write the number without grouping",
+        super::fields::shorten(field),
+        field.replace(',', "."),
+        field.replace(',', "")
+    )
 }
 
 #[cfg(test)]
@@ -632,62 +501,51 @@ mod tests {
     use super::*;
 
     #[test]
-    fn sniffing() {
-        assert_eq!(Delimiter::sniff("1,2"), Delimiter::Comma);
-        assert_eq!(Delimiter::sniff("1;2"), Delimiter::Semicolon);
-        assert_eq!(Delimiter::sniff("1\t2"), Delimiter::Tab);
-        assert_eq!(Delimiter::sniff("1   2"), Delimiter::Whitespace);
-        assert_eq!(Delimiter::sniff("1.5"), Delimiter::Whitespace);
-        assert_eq!(Delimiter::sniff("1,5\t2,5"), Delimiter::Tab);
-        assert_eq!(Delimiter::sniff("1,5;2,5"), Delimiter::Semicolon);
-        assert_eq!(Delimiter::sniff("1.5, 2.5"), Delimiter::Comma);
-    }
-
-    #[test]
-    fn splitting() {
-        let f: Vec<_> = Delimiter::Comma.fields(" 1 , \"2\",,3").collect();
-        assert_eq!(f, vec!["1", "2", "", "3"]);
-        let f: Vec<_> = Delimiter::Whitespace.fields("  1   2\t 3 ").collect();
-        assert_eq!(f, vec!["1", "2", "3"]);
-        let f: Vec<_> = Delimiter::Whitespace
-            .fields("2024-05-01 12:00:00.5  1e-9")
-            .collect();
-        assert_eq!(f, vec!["2024-05-01 12:00:00.5", "1e-9"]);
-        assert_eq!(Delimiter::Comma.split_trimmed("1,2,"), vec!["1", "2"]);
-    }
-
-    #[test]
-    fn classifying() {
-        assert_eq!(classify("1e-9"), Field::Number(1e-9));
-        assert_eq!(classify("NaN"), Field::Missing);
-        assert_eq!(classify("-"), Field::Missing);
-        assert_eq!(classify(""), Field::Missing);
-        assert_eq!(classify("inf"), Field::Text);
-        assert_eq!(classify("1e999"), Field::Text);
-        assert_eq!(classify("phase"), Field::Text);
-        assert_eq!(classify("2,5e-9"), Field::Number(2.5e-9));
-        assert_eq!(classify("1,000,000"), Field::Text);
-        assert_eq!(classify("1,5.2"), Field::Text);
-        assert!(is_header(&["time", "phase"]));
-        assert!(!is_header(&["1", "phase"]));
-        assert!(!is_header(&["2024-05-01T00:00:00Z", "x"]));
-        // Multi-byte characters near the tenth byte are not a date (no panic).
-        assert!(!looks_like_datetime("2024-05-0éé"));
-        assert!(is_header(&["ééééééééé"]));
-    }
-
-    #[test]
     fn lines_and_comments() {
-        let data = b"# c\n\n 1 \r\n#x\n2\n3";
+        let data = b"# c\n\n 1 \r\n;x\n2\n% y\n// z\n3";
         let mut r = LineReader::new(&data[..], Path::new("t"));
         let l = r.next_line().unwrap().unwrap();
         assert_eq!((l.number, l.text), (3, "1"));
         assert_eq!(r.lines(), 3);
         assert_eq!(r.next_line().unwrap().unwrap().text, "2");
-        assert_eq!(r.next_line().unwrap().unwrap().number, 6);
-        assert_eq!(r.lines(), 6);
+        assert_eq!(r.next_line().unwrap().unwrap().number, 8);
+        assert_eq!(r.lines(), 8);
         assert_eq!(r.next_line().unwrap(), None);
         assert_eq!(r.bytes(), data.len() as u64);
+        let mut r = LineReader::new(&data[..], Path::new("t"));
+        let l = r.next_line_or_comment().unwrap().unwrap();
+        assert!(l.comment && l.text == "# c");
+    }
+
+    #[test]
+    fn extra_comment_characters() {
+        let c = CommentStyle::with_extra("!*").unwrap();
+        let mut r = LineReader::new(&b"! a\n* b\n1\n"[..], Path::new("t")).with_comments(c);
+        assert_eq!(r.next_line().unwrap().unwrap().number, 3);
+        assert!(CommentStyle::with_extra("-").is_err());
+        assert!(CommentStyle::with_extra("x").is_err());
+    }
+
+    #[test]
+    fn byte_order_marks() {
+        let mut r = LineReader::new(&b"\xef\xbb\xbf1.5\n2\n"[..], Path::new("t"));
+        assert_eq!(r.next_line().unwrap().unwrap().text, "1.5");
+        assert!(r.had_bom());
+        let mut r = LineReader::new(&b"\xff\xfe1\x002\x00"[..], Path::new("t"));
+        let e = r.next_line().unwrap_err();
+        assert!(e.to_string().contains("UTF-16"), "{e}");
+        // A chunk that starts later in a file looks for no mark: the
+        // character stays in the line (and will not read as a number).
+        let mut r = LineReader::starting_at(&b"\xef\xbb\xbf1\n"[..], Path::new("t"), 10);
+        let l = r.next_line().unwrap().unwrap();
+        assert_eq!((l.number, l.text), (10, "\u{feff}1"));
+    }
+
+    #[test]
+    fn line_numbers_from_an_offset() {
+        let mut r = LineReader::starting_at(&b"1\n\n3\n"[..], Path::new("t"), 41);
+        assert_eq!(r.next_line().unwrap().unwrap().number, 41);
+        assert_eq!(r.next_line().unwrap().unwrap().number, 43);
     }
 
     #[test]
@@ -702,16 +560,19 @@ mod tests {
     }
 
     #[test]
-    fn table() {
-        let t = read_table(&b"f;L\n1;-80\n10;-100\n"[..], Path::new("t")).unwrap();
-        assert_eq!(t.header, Some(vec!["f".to_string(), "L".to_string()]));
-        assert_eq!(t.delimiter, Delimiter::Semicolon);
-        assert_eq!(t.rows[1].fields, vec![Some(10.0), Some(-100.0)]);
-        assert_eq!(t.rows[1].line, 3);
-        let e = read_table(&b"1 2\n3 x\n"[..], Path::new("t")).unwrap_err();
-        assert_eq!(e.line, Some(2));
-        assert_eq!(e.column, Some(2));
-        assert!(read_table(&b""[..], Path::new("t")).is_err());
-        assert!(read_table(&b"a b\n"[..], Path::new("t")).is_err());
+    fn small_text_is_bounded() {
+        let d = tempfile::tempdir().unwrap();
+        let p = d.path().join("m.txt");
+        std::fs::write(&p, b"\xef\xbb\xbfname x\n").unwrap();
+        assert_eq!(read_small_text(&p, 100, "mask file").unwrap(), "name x\n");
+        std::fs::write(&p, vec![b'a'; 101]).unwrap();
+        let e = read_small_text(&p, 100, "mask file").unwrap_err();
+        assert!(e.to_string().contains("larger than 100 bytes"), "{e}");
+        assert_eq!(size_text(1 << 20), "1 MiB");
+        #[cfg(unix)]
+        {
+            let e = read_small_text(Path::new("/dev/zero"), 1 << 20, "mask file").unwrap_err();
+            assert!(e.to_string().contains("larger than 1 MiB"), "{e}");
+        }
     }
 }

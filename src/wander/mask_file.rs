@@ -36,10 +36,13 @@ use crate::io::ReadError;
 use crate::units::parse_duration_with_unit;
 use std::path::Path;
 
-/// Read a mask file from disk ([`parse_mask_file`] on its text).
+/// Largest mask file read (a mask is a few dozen lines).
+pub const MASK_FILE_LIMIT: u64 = 1 << 20;
+
+/// Read a mask file from disk ([`parse_mask_file`] on its text), refusing
+/// one larger than [`MASK_FILE_LIMIT`]; a byte-order mark is skipped.
 pub fn read_mask_file(path: &Path) -> Result<Vec<Mask>> {
-    let text = std::fs::read_to_string(path)
-        .map_err(|e| ReadError::file(path, format!("could not read mask file: {e}")))?;
+    let text = crate::io::text::read_small_text(path, MASK_FILE_LIMIT, "mask file")?;
     parse_mask_file(&text, path)
 }
 

@@ -65,6 +65,7 @@ fn series_options(src: &TimeSource, carrier: Option<f64>) -> SeriesOptions {
         carrier,
         value_column: src.value_column,
         time_column: src.time_column,
+        ..Default::default()
     }
 }
 
@@ -93,7 +94,7 @@ fn load_table(src: &LfSource) -> Result<(LoadedTable<'_>, Provenance)> {
     let table = read_lf_table(
         &src.path,
         &TableOptions {
-            quantity,
+            quantity: Some(quantity),
             offset_column: None,
             value_column: None,
             carrier: Some(src.carrier),
