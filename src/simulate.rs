@@ -255,9 +255,22 @@ pub fn power_law_phase(alpha: i32, h: f64, tau0: f64, n: usize, rng: &mut impl R
     assert!(tau0.is_finite() && tau0 > 0.0, "τ0 must be positive");
     let mut acc = vec![0.0; n];
     if h > 0.0 {
-        let mut fft = FlickerFft::default();
-        add_term(alpha, white_sigma(alpha, h, tau0), rng, &mut acc, &mut fft)
-            .expect("not enough memory for the FFT of a flicker term");
+        // One FFT state per thread: Monte Carlo callers draw thousands of
+        // paths of one length, and the plan and the shaping gains are then
+        // made once.
+        thread_local! {
+            static FFT: std::cell::RefCell<FlickerFft> = std::cell::RefCell::new(FlickerFft::default());
+        }
+        FFT.with(|f| {
+            add_term(
+                alpha,
+                white_sigma(alpha, h, tau0),
+                rng,
+                &mut acc,
+                &mut f.borrow_mut(),
+            )
+        })
+        .expect("not enough memory for the FFT of a flicker term");
     }
     let mut sum = 0.0;
     for v in acc.iter_mut() {
@@ -400,6 +413,8 @@ struct FlickerFft {
     planner: FftPlannerScalar<f64>,
     buf: Vec<Complex<f64>>,
     scratch: Vec<Complex<f64>>,
+    /// √R(k/M) of the last (M, shape) used, k = 0 … M/2.
+    gains: Option<(usize, Shape, Vec<f64>)>,
 }
 
 impl Default for FlickerFft {
@@ -408,6 +423,7 @@ impl Default for FlickerFft {
             planner: FftPlannerScalar::new(),
             buf: Vec::new(),
             scratch: Vec::new(),
+            gains: None,
         }
     }
 }
@@ -506,6 +522,16 @@ impl FlickerFft {
         // W_k = (Z_k + conj Z_(M−k))/2, H_k = (Z_k − conj Z_(M−k))/(2i).
         let half = Complex::new(0.5, 0.0);
         let minus_half_i = Complex::new(0.0, -0.5);
+        if !matches!(&self.gains, Some((gm, gs, _)) if *gm == m && *gs == shape) {
+            let g = (0..=m / 2)
+                .map(|k| shape_power_gain(shape, k as f64 / m as f64).sqrt())
+                .collect();
+            self.gains = Some((m, shape, g));
+        }
+        let gains = match &self.gains {
+            Some((_, _, g)) => g,
+            None => unreachable!("set just above"),
+        };
         for k in 0..=m / 2 {
             let j = (m - k) % m;
             let zk = self.buf[k];
@@ -513,7 +539,7 @@ impl FlickerFft {
             let w = (zk + zj) * half;
             let h = (zk - zj) * minus_half_i;
             // Store conj(P) for the inverse by conj∘FFT∘conj.
-            let g = shape_power_gain(shape, k as f64 / m as f64).sqrt();
+            let g = gains[k];
             let p = w * h * g;
             self.buf[k] = p.conj();
             self.buf[j] = p;
