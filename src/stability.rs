@@ -400,7 +400,9 @@ pub struct Agreement {
 pub struct Apart {
     /// In words.
     pub reason: String,
-    /// How far apart, as a ratio ≥ 1 (of offsets, or of τ; see `reason`).
+    /// How far apart, as a ratio of offsets or of τ (`reason` says which):
+    /// ≥ 1 when they do not overlap at all, below 1 when the table starts
+    /// below the record's bandwidth but too close to it to cover any τ.
     pub factor: f64,
 }
 
@@ -667,9 +669,10 @@ pub fn from_phase_noise(
                     },
                     None => Apart {
                         reason: format!(
-                            "the table's lowest offset ({f_lo} Hz) leaves no τ where it covers σ²"
+                            "the table starts at {f_lo} Hz, too close to the record's bandwidth of {f_h} Hz: at every τ more than {:.0} % of σ² would come from below it (the factor is of offsets)",
+                            MAX_BELOW_TABLE * 100.0
                         ),
-                        factor: f64::INFINITY,
+                        factor: f_lo / f_h,
                     },
                 });
             }
