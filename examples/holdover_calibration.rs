@@ -39,8 +39,16 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
         ("WFM, aging", "h0=1e-22", 1e-15),
         ("WFM + FFM", "h0=1e-22,h-1=1e-25", 0.0),
         ("WFM + FFM, aging", "h0=1e-22,h-1=1e-25", 3e-15),
-        ("WPM + WFM + FFM + RWFM", "h2=1e-20,h0=1e-22,h-1=3e-26,h-2=1e-29", 0.0),
-        ("WPM + WFM + FFM + RWFM, aging", "h2=1e-20,h0=1e-22,h-1=3e-26,h-2=1e-29", 3e-15),
+        (
+            "WPM + WFM + FFM + RWFM",
+            "h2=1e-20,h0=1e-22,h-1=3e-26,h-2=1e-29",
+            0.0,
+        ),
+        (
+            "WPM + WFM + FFM + RWFM, aging",
+            "h2=1e-20,h0=1e-22,h-1=3e-26,h-2=1e-29",
+            3e-15,
+        ),
     ];
     println!(
         "records per case: {records}; τ0 = 1 s, {points} points, span {} s, 400 paths, 256 steps",
@@ -64,7 +72,10 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
             records,
             paths: 400,
             steps: 256,
-            seed: std::env::var("SEED").ok().and_then(|s| s.parse().ok()).unwrap_or(1000),
+            seed: std::env::var("SEED")
+                .ok()
+                .and_then(|s| s.parse().ok())
+                .unwrap_or(1000),
             true_noise: std::env::args().nth(2).is_some_and(|a| a == "true"),
             replicates: tauwise::holdover::fit::REPLICATES,
         })?;

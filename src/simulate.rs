@@ -413,8 +413,8 @@ struct FlickerFft {
     planner: FftPlannerScalar<f64>,
     buf: Vec<Complex<f64>>,
     scratch: Vec<Complex<f64>>,
-    /// √R(k/M) of the last (M, shape) used, k = 0 … M/2.
-    gains: Option<(usize, Shape, Vec<f64>)>,
+    /// √R(k/M) of the last few (M, shape) used, k = 0 … M/2.
+    gains: Vec<(usize, Shape, Vec<f64>)>,
 }
 
 impl Default for FlickerFft {
@@ -423,7 +423,7 @@ impl Default for FlickerFft {
             planner: FftPlannerScalar::new(),
             buf: Vec::new(),
             scratch: Vec::new(),
-            gains: None,
+            gains: Vec::new(),
         }
     }
 }
@@ -522,16 +522,24 @@ impl FlickerFft {
         // W_k = (Z_k + conj Z_(M−k))/2, H_k = (Z_k − conj Z_(M−k))/(2i).
         let half = Complex::new(0.5, 0.0);
         let minus_half_i = Complex::new(0.0, -0.5);
-        if !matches!(&self.gains, Some((gm, gs, _)) if *gm == m && *gs == shape) {
-            let g = (0..=m / 2)
-                .map(|k| shape_power_gain(shape, k as f64 / m as f64).sqrt())
-                .collect();
-            self.gains = Some((m, shape, g));
-        }
-        let gains = match &self.gains {
-            Some((_, _, g)) => g,
-            None => unreachable!("set just above"),
+        let at = match self
+            .gains
+            .iter()
+            .position(|(gm, gs, _)| *gm == m && *gs == shape)
+        {
+            Some(i) => i,
+            None => {
+                if self.gains.len() >= 8 {
+                    self.gains.remove(0);
+                }
+                let g = (0..=m / 2)
+                    .map(|k| shape_power_gain(shape, k as f64 / m as f64).sqrt())
+                    .collect();
+                self.gains.push((m, shape, g));
+                self.gains.len() - 1
+            }
         };
+        let gains = &self.gains[at].2;
         for k in 0..=m / 2 {
             let j = (m - k) % m;
             let zk = self.buf[k];

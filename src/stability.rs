@@ -562,15 +562,7 @@ pub fn from_phase_noise(
             let k_min = ((1.0 / (f_top * tau0)).log2().ceil() as i32).clamp(-14, 0);
             let taus: Vec<f64> = (k_min..0).map(|k| tau0 * 2f64.powi(k)).collect();
             if !taus.is_empty() {
-                let pts = sigma_points(
-                    s,
-                    kind,
-                    &taus,
-                    SigmaOptions {
-                        tau0,
-                        f_h: f_top,
-                    },
-                )?;
+                let pts = sigma_points(s, kind, &taus, SigmaOptions { tau0, f_h: f_top })?;
                 curves.push(Curve {
                     estimator: format!("{}{FROM_LF_FULL_BAND}", c.estimator),
                     points: pts

@@ -124,8 +124,7 @@ pub fn parse_frequency(text: &str) -> Result<f64, UnitError> {
     Ok(f)
 }
 
-const FRACTION_EXPECTED: &str =
-    "a number, optionally with ppm, ppb or ppt (e.g. 1e-9, 2ppb)";
+const FRACTION_EXPECTED: &str = "a number, optionally with ppm, ppb or ppt (e.g. 1e-9, 2ppb)";
 
 /// Parse a fractional frequency (a frequency offset or error) such as
 /// `1e-9`, `2ppb`, `-0.5ppt` or `3e-7frac`. Returns the fraction.

@@ -313,8 +313,17 @@ fn y0_given_on_the_command_line() {
     let out = tauwise()
         .arg("holdover")
         .arg(flat_file(dir.path()))
-        .args(["--data", "freq", "--tau0", "60s", "--span", "24h", "--budget", "1.5us"])
-        .args(["--aging", "1e-10/day", "--model", "h0=1e-32", "--paths", "2000"])
+        .args([
+            "--data", "freq", "--tau0", "60s", "--span", "24h", "--budget", "1.5us",
+        ])
+        .args([
+            "--aging",
+            "1e-10/day",
+            "--model",
+            "h0=1e-32",
+            "--paths",
+            "2000",
+        ])
         .args(["--y0", "0", "--y0-sigma", "1e-11", "--format", "json"])
         .output()
         .unwrap();
@@ -349,7 +358,9 @@ fn aging_not_significant_is_said() {
     let out = tauwise()
         .arg("holdover")
         .arg(&p)
-        .args(["--data", "freq", "--tau0", "1s", "--span", "1h", "--budget", "1us"])
+        .args([
+            "--data", "freq", "--tau0", "1s", "--span", "1h", "--budget", "1us",
+        ])
         .args(["--paths", "200", "--format", "json"])
         .output()
         .unwrap();
@@ -362,7 +373,9 @@ fn aging_not_significant_is_said() {
     let out = tauwise()
         .arg("holdover")
         .arg(&p)
-        .args(["--data", "freq", "--tau0", "1s", "--span", "1h", "--budget", "1us"])
+        .args([
+            "--data", "freq", "--tau0", "1s", "--span", "1h", "--budget", "1us",
+        ])
         .args(["--paths", "200"])
         .output()
         .unwrap();

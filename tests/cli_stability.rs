@@ -324,11 +324,18 @@ fn combined_view_with_a_phase_noise_table_and_a_plot() {
         .collect();
     assert_eq!(names, ["oadev", "oadev-from-lf-full-band", "oadev-from-lf"]);
     let c = &doc["consistency"][0];
-    assert_eq!(c["f_h"].as_f64(), Some(0.5), "the record's bandwidth 1/(2τ0)");
+    assert_eq!(
+        c["f_h"].as_f64(),
+        Some(0.5),
+        "the record's bandwidth 1/(2τ0)"
+    );
     assert_eq!(c["bandwidth_given"], false);
     assert!(c["apart"].is_null());
     let rows = c["points"].as_array().unwrap();
-    assert!(rows.len() >= 3, "shared τ from 2τ0 to the table's reach: {rows:?}");
+    assert!(
+        rows.len() >= 3,
+        "shared τ from 2τ0 to the table's reach: {rows:?}"
+    );
     // White FM is bandwidth-independent at 2πf_hτ ≫ 1: σ_y² = h0/(2τ) on
     // both sides (IEEE Std 1139), so the ratio stays near 1.
     let r = rows.last().unwrap()["ratio"].as_f64().unwrap();

@@ -4,13 +4,13 @@
 //! (Kasdin & Walter 1992); tables are made from the same models by the
 //! IEEE Std 1139 relations L(f) = S_φ/2, S_y = (f/ν0)²·S_φ.
 
+use tauwise::deviation::Estimator;
 use tauwise::deviation::{Curve, Estimate, Point};
 use tauwise::model::PowerLaw;
 use tauwise::simulate::{simulate_phase, SimSpec};
 use tauwise::spectrum::sigma::{sigma_points, SigmaKind, SigmaOptions};
 use tauwise::spectrum::{Quantity, Spectrum};
 use tauwise::stability::{analyse, from_phase_noise, Request, ViewOptions, FROM_LF};
-use tauwise::deviation::Estimator;
 
 const CARRIER: f64 = 10e6;
 
@@ -50,7 +50,10 @@ fn same_model_agrees_and_a_table_6_db_off_does_not() {
     // From 2τ0 (the default bandwidth leaves τ0 out) to the table's reach.
     assert_eq!(c.common.unwrap()[0], 2.0);
     assert_eq!(c.f_h, 0.5);
-    assert!(ok.curves.iter().any(|c| c.estimator == format!("oadev{FROM_LF}")));
+    assert!(ok
+        .curves
+        .iter()
+        .any(|c| c.estimator == format!("oadev{FROM_LF}")));
     let off = from_phase_noise(
         &curves,
         &table(model, 0.01, 1e6, 6.0),
@@ -103,7 +106,8 @@ fn the_record_bandwidth_is_used() {
     let h2 = 1e-22;
     let s = table("h2=1e-22", 0.001, 1e4, 0.0);
     let taus = [16.0, 32.0, 64.0];
-    let wpm = |f_h: f64, t: f64| (3.0 * f_h * h2 / (4.0 * std::f64::consts::PI.powi(2) * t * t)).sqrt();
+    let wpm =
+        |f_h: f64, t: f64| (3.0 * f_h * h2 / (4.0 * std::f64::consts::PI.powi(2) * t * t)).sqrt();
     let curve = synthetic_curve(&taus, |t| wpm(0.5, t));
     let v = from_phase_noise(&[curve.clone()], &s, 1.0, &ViewOptions::default()).unwrap();
     let c = &v.comparisons[0];
@@ -113,7 +117,16 @@ fn the_record_bandwidth_is_used() {
         assert!(p.agree);
     }
     // Exactly the spectrum module's integral at f_h = 0.5 Hz.
-    let direct = sigma_points(&s, SigmaKind::Adev, &taus, SigmaOptions { tau0: 1.0, f_h: 0.5 }).unwrap();
+    let direct = sigma_points(
+        &s,
+        SigmaKind::Adev,
+        &taus,
+        SigmaOptions {
+            tau0: 1.0,
+            f_h: 0.5,
+        },
+    )
+    .unwrap();
     for (p, q) in c.points.iter().zip(&direct) {
         assert_eq!(p.converted, q.dev);
     }
@@ -130,7 +143,10 @@ fn the_record_bandwidth_is_used() {
     let c = &given.comparisons[0];
     assert!(c.bandwidth_given);
     for p in &c.points {
-        assert!((p.converted / wpm(100.0, p.tau) - 1.0).abs() < 0.02, "{p:?}");
+        assert!(
+            (p.converted / wpm(100.0, p.tau) - 1.0).abs() < 0.02,
+            "{p:?}"
+        );
         assert!(!p.agree, "a 200× wider band is not the record's: {p:?}");
     }
 }
@@ -143,24 +159,43 @@ fn the_record_bandwidth_is_used() {
 fn no_common_range_says_how_far_apart() {
     let model = "h0=1e-22";
     let curves = measured(model, 4096, 3);
-    let v = from_phase_noise(&curves, &table(model, 1.0, 1e6, 0.0), 1.0, &ViewOptions::default())
-        .unwrap();
+    let v = from_phase_noise(
+        &curves,
+        &table(model, 1.0, 1e6, 0.0),
+        1.0,
+        &ViewOptions::default(),
+    )
+    .unwrap();
     let c = &v.comparisons[0];
     let a = c.apart.as_ref().expect("apart");
     assert!((a.factor - 2.0).abs() < 1e-9, "{a:?}");
-    assert!(a.reason.contains("above the record's bandwidth"), "{}", a.reason);
+    assert!(
+        a.reason.contains("above the record's bandwidth"),
+        "{}",
+        a.reason
+    );
     assert!(c.points.is_empty() && c.agree().is_none());
     // From 0.2 Hz: the table covers σ² only at τ ≤ 0.5 s (below that share,
     // (0.2/0.5)³ = 6 % for white FM at τ ≪ 1/f_h, analytic), the record
     // starts at τ0 = 1 s: a factor 2 in τ.
-    let v = from_phase_noise(&curves, &table(model, 0.2, 1e6, 0.0), 1.0, &ViewOptions::default())
-        .unwrap();
+    let v = from_phase_noise(
+        &curves,
+        &table(model, 0.2, 1e6, 0.0),
+        1.0,
+        &ViewOptions::default(),
+    )
+    .unwrap();
     let a = v.comparisons[0].apart.as_ref().expect("apart");
     assert!(a.reason.contains("reaches τ ≤ 0.5 s"), "{a:?}");
     assert!((a.factor - 2.0).abs() < 1e-9, "{a:?}");
     // From 0.3 Hz, too close to the bandwidth for any τ: (0.3/0.5)³ = 22 %.
-    let v = from_phase_noise(&curves, &table(model, 0.3, 1e6, 0.0), 1.0, &ViewOptions::default())
-        .unwrap();
+    let v = from_phase_noise(
+        &curves,
+        &table(model, 0.3, 1e6, 0.0),
+        1.0,
+        &ViewOptions::default(),
+    )
+    .unwrap();
     let a = v.comparisons[0].apart.as_ref().expect("apart");
     assert!(a.reason.contains("too close"), "{a:?}");
     assert!((a.factor - 0.6).abs() < 1e-9, "{a:?}");

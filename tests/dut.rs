@@ -266,7 +266,10 @@ fn preparation_keys_read_and_are_checked() {
     assert_eq!(dut.records[0].prepare.outliers, None);
     assert!(!dut.records[0].prepare.fill_gaps);
     assert_eq!(dut.records[0].bandwidth, None);
-    assert!(dut.tie[0].prepare.is_empty(), "a TIE capture is used as read");
+    assert!(
+        dut.tie[0].prepare.is_empty(),
+        "a TIE capture is used as read"
+    );
     let text = GOOD
         .replacen(
             "time_column = 1",
@@ -297,14 +300,42 @@ fn preparation_keys_read_and_are_checked() {
     assert_eq!(none.records[0].prepare.drift, None);
 
     let bad = [
-        ("time_column = 1", "time_column = 1\ndrift = \"cubic\"", "record[1].drift"),
-        ("time_column = 1", "time_column = 1\noutliers = -3", "record[1].outliers"),
-        ("time_column = 1", "time_column = 1\noutliers = \"many\"", "scaled MADs"),
-        ("time_column = 1", "time_column = 1\nbandwidth = \"wide\"", "record[1].bandwidth"),
-        ("tau0 = 1\n", "tau0 = 1\ndrift = \"none\"\n", "applies to a [[record]] only"),
-        ("path = \"../data/lf.csv\"", "path = \"../data/lf.csv\"\nuncertainty = \"loud\"", "phase_noise[1].uncertainty"),
+        (
+            "time_column = 1",
+            "time_column = 1\ndrift = \"cubic\"",
+            "record[1].drift",
+        ),
+        (
+            "time_column = 1",
+            "time_column = 1\noutliers = -3",
+            "record[1].outliers",
+        ),
+        (
+            "time_column = 1",
+            "time_column = 1\noutliers = \"many\"",
+            "scaled MADs",
+        ),
+        (
+            "time_column = 1",
+            "time_column = 1\nbandwidth = \"wide\"",
+            "record[1].bandwidth",
+        ),
+        (
+            "tau0 = 1\n",
+            "tau0 = 1\ndrift = \"none\"\n",
+            "applies to a [[record]] only",
+        ),
+        (
+            "path = \"../data/lf.csv\"",
+            "path = \"../data/lf.csv\"\nuncertainty = \"loud\"",
+            "phase_noise[1].uncertainty",
+        ),
         ("seed = 3", "seed = 3\ny0 = \"fast\"", "holdover.y0"),
-        ("seed = 3", "seed = 3\ny0_sigma = 1e-12", "goes with holdover.y0"),
+        (
+            "seed = 3",
+            "seed = 3\ny0_sigma = 1e-12",
+            "goes with holdover.y0",
+        ),
     ];
     for (from, to, want) in bad {
         assert!(GOOD.contains(from), "fixture lacks {from}");

@@ -300,7 +300,13 @@ fn noise_fit_recovers_the_simulated_model() {
     let m = fit.model;
     assert!((m.get(0) / 1e-22 - 1.0).abs() < 0.3, "{m:?}");
     assert!((0.7..=2.0).contains(&(m.get(-2) / 1e-30)), "{m:?}");
-    for (tau, tol) in [(1.0, 0.2), (10.0, 0.2), (100.0, 0.2), (1e3, 0.2), (1e4, 0.4)] {
+    for (tau, tol) in [
+        (1.0, 0.2),
+        (10.0, 0.2),
+        (100.0, 0.2),
+        (1e3, 0.2),
+        (1e4, 0.4),
+    ] {
         let r = (m.avar(tau) / truth.avar(tau)).sqrt();
         assert!((r - 1.0).abs() < tol, "τ = {tau}: {r}");
     }

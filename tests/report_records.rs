@@ -154,9 +154,18 @@ fn every_record_is_analysed() {
     );
     let s = sections(&r);
     assert_eq!(s.len(), 2);
-    assert_eq!((s[0].source.as_str(), s[1].source.as_str()), ("first", "second"));
+    assert_eq!(
+        (s[0].source.as_str(), s[1].source.as_str()),
+        ("first", "second")
+    );
     // The second record's τ grid starts at its own τ0.
-    assert_eq!(s[1].rows.iter().map(|r| r.tau).fold(f64::INFINITY, f64::min), 10.0);
+    assert_eq!(
+        s[1].rows
+            .iter()
+            .map(|r| r.tau)
+            .fold(f64::INFINITY, f64::min),
+        10.0
+    );
     let Part::Done(models) = &r.noise_model else {
         panic!("no noise model")
     };

@@ -301,10 +301,7 @@ fn to_json(
         "uncertainty".into(),
         serde_json::to_value(model.uncertainty).unwrap_or(Value::Null),
     );
-    mm.insert(
-        "aging_z".into(),
-        model.aging_z().map_or(Value::Null, num),
-    );
+    mm.insert("aging_z".into(), model.aging_z().map_or(Value::Null, num));
     mm.insert(
         "aging_significant".into(),
         model.aging_significant().map_or(Value::Null, Value::Bool),
@@ -406,7 +403,10 @@ fn to_table(
         model.y0,
         model.y0_sigma,
         match u.y0_window {
-            Some(w) => format!("mean over the last {} of the record, carried by the aging law", hours(w)),
+            Some(w) => format!(
+                "mean over the last {} of the record, carried by the aging law",
+                hours(w)
+            ),
             None => "given".to_string(),
         }
     );

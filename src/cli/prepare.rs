@@ -124,7 +124,9 @@ pub fn run(args: Args) -> Result<Outcome> {
                 e.index,
                 format_sig(e.y, 6),
                 format_sig(e.mads, 3),
-                e.action.map(|a| format!("; {}", a.words())).unwrap_or_default()
+                e.action
+                    .map(|a| format!("; {}", a.words()))
+                    .unwrap_or_default()
             ));
         }
         if o.events.len() > 20 {

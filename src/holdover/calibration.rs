@@ -133,9 +133,10 @@ fn one(trial: &Trial, seed: u64) -> Result<Outcome> {
             ..Settings::new(span, 1.0)
         },
     )?;
-    let end = pred.te.last().copied().ok_or_else(|| {
-        crate::error::Error::insufficient("the prediction gave no time point")
-    })?;
+    let end =
+        pred.te.last().copied().ok_or_else(|| {
+            crate::error::Error::insufficient("the prediction gave no time point")
+        })?;
     let (d, sd) = match model.aging {
         super::aging::Aging::Linear { d, d_sigma, .. } => (d, d_sigma),
         super::aging::Aging::Log { a, a_sigma, .. } => (a, a_sigma),
@@ -144,6 +145,10 @@ fn one(trial: &Trial, seed: u64) -> Result<Outcome> {
         true_te,
         p50: end.p50,
         p95: end.p95,
-        z: if sd > 0.0 { (d - trial.aging) / sd } else { 0.0 },
+        z: if sd > 0.0 {
+            (d - trial.aging) / sd
+        } else {
+            0.0
+        },
     })
 }

@@ -145,7 +145,10 @@ pub fn fit_noise(x: &PhaseRecord) -> Result<ModelFit> {
     // The longest τ: does the model hold the measured low-frequency power?
     let from = LONG_REACH * x.span();
     let (mut excess, mut unit) = (0.0, 0.0);
-    for c in curves.iter().filter(|c| c.estimator == Estimator::Ohdev.name()) {
+    for c in curves
+        .iter()
+        .filter(|c| c.estimator == Estimator::Ohdev.name())
+    {
         for p in &c.points {
             let e = p.estimate;
             if let Some(edf) = p.edf.filter(|v| v.is_finite() && *v > 0.0 && e.tau >= from) {

@@ -644,12 +644,9 @@ impl Dut {
                     Some(n) => return cx.err(n.span(), &k("name"), "expected a non-empty name"),
                     None => file_stem(&path),
                 };
-                let only_records = "applies to a [[record]] only (a TIE capture is analysed as read)";
-                let mut prepare = if tie {
-                    Steps::default()
-                } else {
-                    RECORD_STEPS
-                };
+                let only_records =
+                    "applies to a [[record]] only (a TIE capture is analysed as read)";
+                let mut prepare = if tie { Steps::default() } else { RECORD_STEPS };
                 if let Some(d) = &r.drift {
                     if tie {
                         return cx.err(d.span(), &k("drift"), only_records);

@@ -72,7 +72,9 @@ impl OutlierAction {
         match self {
             OutlierAction::FrequencyGap => "frequency value made a gap",
             OutlierAction::PhaseGlitch => "phase glitch: the sample made a gap",
-            OutlierAction::PhaseStep => "phase step: taken out of the later phase, one sample made a gap",
+            OutlierAction::PhaseStep => {
+                "phase step: taken out of the later phase, one sample made a gap"
+            }
         }
     }
 }

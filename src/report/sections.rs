@@ -393,11 +393,7 @@ fn combined(h: &mut Html, p: &Part<Vec<CombinedSection>>) -> Result<()> {
                                 vec![
                                     n(tau(r.tau)),
                                     n(format_sig(r.measured, 4)),
-                                    n(format!(
-                                        "{} … {}",
-                                        format_sig(r.lo, 4),
-                                        format_sig(r.hi, 4)
-                                    )),
+                                    n(format!("{} … {}", format_sig(r.lo, 4), format_sig(r.hi, 4))),
                                     n(format_sig(r.converted, 4)),
                                     n(format!("{:.3}", r.ratio)),
                                     n(format!("±{:.1} %", (r.tolerance.exp() - 1.0) * 100.0)),

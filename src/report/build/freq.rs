@@ -10,9 +10,9 @@ use crate::plot::phase_noise::{lf_points, BandMark, LfTrace, PhaseNoisePlot, Tra
 use crate::plot::stability::{SigmaCurve, StabilityPlot};
 use crate::report::*;
 use crate::spectrum::jitter::{integrate_band, Band, BandJitter, JitterSetup, Weighting};
-use crate::stability::{from_phase_noise, ViewOptions};
 use crate::spectrum::welch::{welch, WelchOptions};
 use crate::spectrum::{Quantity, Spectrum};
+use crate::stability::{from_phase_noise, ViewOptions};
 use crate::units::format_si;
 
 fn setup_for(j: &JitterSpec) -> Result<JitterSetup> {
