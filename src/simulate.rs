@@ -540,14 +540,13 @@ impl FlickerFft {
             }
         };
         let gains = &self.gains[at].2;
-        for k in 0..=m / 2 {
+        for (k, &g) in gains.iter().enumerate() {
             let j = (m - k) % m;
             let zk = self.buf[k];
             let zj = self.buf[j].conj();
             let w = (zk + zj) * half;
             let h = (zk - zj) * minus_half_i;
             // Store conj(P) for the inverse by conj∘FFT∘conj.
-            let g = gains[k];
             let p = w * h * g;
             self.buf[k] = p.conj();
             self.buf[j] = p;

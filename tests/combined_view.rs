@@ -109,7 +109,13 @@ fn the_record_bandwidth_is_used() {
     let wpm =
         |f_h: f64, t: f64| (3.0 * f_h * h2 / (4.0 * std::f64::consts::PI.powi(2) * t * t)).sqrt();
     let curve = synthetic_curve(&taus, |t| wpm(0.5, t));
-    let v = from_phase_noise(&[curve.clone()], &s, 1.0, &ViewOptions::default()).unwrap();
+    let v = from_phase_noise(
+        std::slice::from_ref(&curve),
+        &s,
+        1.0,
+        &ViewOptions::default(),
+    )
+    .unwrap();
     let c = &v.comparisons[0];
     assert_eq!(c.points.len(), 3);
     for p in &c.points {

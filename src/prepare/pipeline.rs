@@ -241,9 +241,15 @@ fn take_out_outliers(record: &Record, limit: f64) -> Result<(Record, OutlierRepo
 /// ```
 /// use tauwise::prepare::pipeline::{prepare, Steps, OutlierAction};
 /// use tauwise::{PhaseRecord, Record};
-/// // A phase ramp of 1 ns/s with a 100 ns phase step after x_50.
+/// // A phase ramp of 1 ns/s with a little noise and a 100 ns phase step
+/// // after x_50.
+/// let mut state = 7u64;
+/// let mut noise = move || {
+///     state = state.wrapping_mul(6364136223846793005).wrapping_add(1442695040888963407);
+///     ((state >> 11) as f64 / (1u64 << 53) as f64 - 0.5) * 1e-11
+/// };
 /// let x: Vec<f64> = (0..100)
-///     .map(|i| i as f64 * 1e-9 + if i > 50 { 1e-7 } else { 0.0 } + 1e-12 * ((i * 7) % 5) as f64)
+///     .map(|i| i as f64 * 1e-9 + if i > 50 { 1e-7 } else { 0.0 } + noise())
 ///     .collect();
 /// let rec = Record::Phase(PhaseRecord::new(x, 1.0).unwrap());
 /// let p = prepare(&rec, &Steps { outliers: Some(5.0), ..Steps::default() }).unwrap();
@@ -322,9 +328,18 @@ mod tests {
     use super::*;
     use crate::record::FrequencyRecord;
 
+    /// A phase ramp of 1 ns per sample with uniform noise of 10 ps
+    /// (a 64-bit LCG, Knuth's MMIX constants).
     fn ramp(n: usize) -> Vec<f64> {
+        let mut state = 11u64;
         (0..n)
-            .map(|i| i as f64 * 1e-9 + 1e-12 * ((i * 7919) % 13) as f64)
+            .map(|i| {
+                state = state
+                    .wrapping_mul(6364136223846793005)
+                    .wrapping_add(1442695040888963407);
+                let u = (state >> 11) as f64 / (1u64 << 53) as f64 - 0.5;
+                i as f64 * 1e-9 + 1e-11 * u
+            })
             .collect()
     }
 
@@ -366,7 +381,9 @@ mod tests {
                 assert!((v - 0.5e-9).abs() < 1e-11, "y[{i}] = {v}");
             }
         }
-        assert_eq!(p.record, p.before_drift);
+        let bits =
+            |r: &Record| -> Vec<u64> { r.to_phase().x.iter().map(|v| v.to_bits()).collect() };
+        assert_eq!(bits(&p.record), bits(&p.before_drift));
         // With gap filling as well the record has no gap left.
         let p = prepare(
             &rec,
@@ -389,10 +406,8 @@ mod tests {
 
     #[test]
     fn frequency_outliers_become_gaps() {
-        let mut y = vec![1e-11; 50];
-        for (i, v) in y.iter_mut().enumerate() {
-            *v += 1e-13 * ((i * 31) % 7) as f64;
-        }
+        let y0 = ramp(51);
+        let mut y: Vec<f64> = y0.windows(2).map(|w| w[1] - w[0]).collect();
         y[10] = 5e-9;
         let rec = Record::Frequency(FrequencyRecord::new(y, 1.0).unwrap());
         let p = prepare(
@@ -407,7 +422,7 @@ mod tests {
         assert_eq!(o.events.len(), 1);
         assert_eq!(o.events[0].action, Some(OutlierAction::FrequencyGap));
         assert!(p.record.to_frequency().y[10].is_nan());
-        assert!(o.events[0].mads > 1e3);
+        assert!(o.events[0].mads > 100.0, "{}", o.events[0].mads);
     }
 
     #[test]
