@@ -61,8 +61,9 @@ pub struct Args {
     /// record's centre is kept).
     #[arg(long, value_enum, value_name = "MODEL")]
     pub remove_drift: Option<DriftArg>,
-    /// Make gaps of the samples whose frequency is further than K scaled
-    /// MADs from the median.
+    /// Take out the frequency values further than K scaled MADs from the
+    /// median: a frequency value or a phase glitch becomes a gap, a phase
+    /// step is taken out of the later phase (one sample becomes a gap).
     #[arg(long = "outliers", value_name = "K")]
     pub outliers: Option<f64>,
     /// Fill interior gaps by linear interpolation.
