@@ -5,8 +5,13 @@
 //! uncertainty. Heavier than the test in `tests/holdover.rs`; run with
 //!
 //! ```sh
-//! cargo run --release --example holdover_calibration [RECORDS]
+//! cargo run --release --example holdover_calibration [RECORDS] [true]
 //! ```
+//!
+//! `true` gives each prediction the true noise model instead of the one
+//! fitted on its record. Environment: `POINTS` (record length, default
+//! 4096), `SPAN_DIV` (the span is POINTS/SPAN_DIV samples, default 4),
+//! `CASE` (run one case by its index), `SEED` (first record's seed).
 //!
 //! Nominal: above p50 in 50 %, above p95 in 5 %, |z| > 2 in 4.6 %, sd(z) = 1.
 

@@ -223,3 +223,29 @@ fn drift_is_removed_from_the_stability_picture_by_default() {
     assert!((q.drift_per_day.unwrap() / (drift * 86400.0) - 1.0).abs() < 0.05);
     assert!(q.drift_sigma_per_day.unwrap() > 0.0);
 }
+
+/// The holdover's starting frequency given in the DUT file (`y0`,
+/// `y0_sigma`) is used instead of the record's end, and the report says so.
+#[test]
+fn holdover_y0_from_the_dut_file() {
+    let d = tempfile::tempdir().unwrap();
+    let model = PowerLaw::parse("h0=1e-22", 0.5).unwrap();
+    let x = simulate_phase(&SimSpec::new(model, 1.0, 4000, 4)).unwrap();
+    write_ns(&d.path().join("r.txt"), &x.x);
+    let r = report(
+        d.path(),
+        "y0",
+        "[device]\nname = \"unit\"\n[[record]]\npath = \"r.txt\"\ntau0 = \"1s\"\nunits = \"ns\"\n\
+         [holdover]\nbudget = \"1us\"\nspans = [\"1h\"]\npaths = 100\ny0 = \"2e-12\"\ny0_sigma = \"1e-12\"\n",
+    );
+    let Part::Done(h) = &r.holdover else {
+        panic!("no holdover section")
+    };
+    let y0 = &h
+        .parameters
+        .iter()
+        .find(|(k, _)| k == "initial frequency y0")
+        .unwrap()
+        .1;
+    assert!(y0.starts_with("2.0000e-12 ± 1.00e-12 (given"), "{y0}");
+}
