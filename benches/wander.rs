@@ -1,5 +1,6 @@
 //! Speed targets of issue 5: `wander` on a 10^7-point TIE record with 10 τ
-//! per decade in ≤ 2 s; `holdover` over 24 h with 2000 paths in ≤ 3 s.
+//! per decade in ≤ 2 s; `holdover` over 24 h with 2000 paths in ≤ 3 s; and
+//! the cost of the fit behind a holdover (with its bootstrap).
 //!
 //! `cargo bench --bench wander`
 
@@ -61,12 +62,29 @@ fn bench_holdover(c: &mut Criterion) {
         start: 2.0 * 86400.0,
         temp_worst: 1e-11,
         noise,
+        uncertainty: Default::default(),
     };
     let settings = Settings::new(86400.0, 1.5e-6);
     let mut g = c.benchmark_group("holdover");
     g.sample_size(10).measurement_time(Duration::from_secs(5));
     g.bench_function("24 h, 2000 paths, all five noise types", |b| {
         b.iter(|| predict(&model, &settings).unwrap())
+    });
+    // The fit behind a prediction: aging, noise model and the parametric
+    // bootstrap of their uncertainty (400 records), on two days at 1 s.
+    let mut spec = tauwise::simulate::SimSpec::new(
+        PowerLaw::parse("h2=7.9e-25,h0=8e-24,h-1=4e-25,h-2=1e-30", 0.5).unwrap(),
+        1.0,
+        172_800,
+        202,
+    );
+    spec.drift_per_s = 8e-11 / 86400.0;
+    let rec = tauwise::Record::Phase(tauwise::simulate::simulate_phase(&spec).unwrap());
+    g.bench_function("model from a 2-day record, bootstrap of 400", |b| {
+        b.iter(|| {
+            tauwise::holdover::model_from_record(&rec, &tauwise::holdover::FromRecord::default())
+                .unwrap()
+        })
     });
     g.finish();
 }

@@ -93,6 +93,7 @@ fn main() {
         start: 2.0 * 86400.0,
         temp_worst: 1e-11,
         noise,
+        uncertainty: Default::default(),
     };
     let settings = Settings::new(86400.0, 1.5e-6);
     timed("holdover 24 h, 2000 paths, 4096 steps, 5 terms", || {

@@ -14,6 +14,8 @@
 use crate::error::{Error, Result};
 use crate::record::{FrequencyRecord, PhaseRecord, Record};
 
+pub mod pipeline;
+
 /// Seconds per day, for drift figures "per day".
 pub const DAY: f64 = 86400.0;
 
@@ -70,7 +72,7 @@ impl DriftModel {
 ///
 /// Linear frequency drift by a least-squares line through y(t) is the method
 /// NIST SP 1065 §5 recommends for white and random-walk FM.
-#[derive(Debug, Clone, Copy, PartialEq)]
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
 pub struct DriftFit {
     /// The model fitted.
     pub model: DriftModel,

@@ -255,9 +255,22 @@ pub fn power_law_phase(alpha: i32, h: f64, tau0: f64, n: usize, rng: &mut impl R
     assert!(tau0.is_finite() && tau0 > 0.0, "τ0 must be positive");
     let mut acc = vec![0.0; n];
     if h > 0.0 {
-        let mut fft = FlickerFft::default();
-        add_term(alpha, white_sigma(alpha, h, tau0), rng, &mut acc, &mut fft)
-            .expect("not enough memory for the FFT of a flicker term");
+        // One FFT state per thread: Monte Carlo callers draw thousands of
+        // paths of one length, and the plan and the shaping gains are then
+        // made once.
+        thread_local! {
+            static FFT: std::cell::RefCell<FlickerFft> = std::cell::RefCell::new(FlickerFft::default());
+        }
+        FFT.with(|f| {
+            add_term(
+                alpha,
+                white_sigma(alpha, h, tau0),
+                rng,
+                &mut acc,
+                &mut f.borrow_mut(),
+            )
+        })
+        .expect("not enough memory for the FFT of a flicker term");
     }
     let mut sum = 0.0;
     for v in acc.iter_mut() {
@@ -400,6 +413,8 @@ struct FlickerFft {
     planner: FftPlannerScalar<f64>,
     buf: Vec<Complex<f64>>,
     scratch: Vec<Complex<f64>>,
+    /// √R(k/M) of the last few (M, shape) used, k = 0 … M/2.
+    gains: Vec<(usize, Shape, Vec<f64>)>,
 }
 
 impl Default for FlickerFft {
@@ -408,6 +423,7 @@ impl Default for FlickerFft {
             planner: FftPlannerScalar::new(),
             buf: Vec::new(),
             scratch: Vec::new(),
+            gains: Vec::new(),
         }
     }
 }
@@ -506,14 +522,31 @@ impl FlickerFft {
         // W_k = (Z_k + conj Z_(M−k))/2, H_k = (Z_k − conj Z_(M−k))/(2i).
         let half = Complex::new(0.5, 0.0);
         let minus_half_i = Complex::new(0.0, -0.5);
-        for k in 0..=m / 2 {
+        let at = match self
+            .gains
+            .iter()
+            .position(|(gm, gs, _)| *gm == m && *gs == shape)
+        {
+            Some(i) => i,
+            None => {
+                if self.gains.len() >= 8 {
+                    self.gains.remove(0);
+                }
+                let g = (0..=m / 2)
+                    .map(|k| shape_power_gain(shape, k as f64 / m as f64).sqrt())
+                    .collect();
+                self.gains.push((m, shape, g));
+                self.gains.len() - 1
+            }
+        };
+        let gains = &self.gains[at].2;
+        for (k, &g) in gains.iter().enumerate() {
             let j = (m - k) % m;
             let zk = self.buf[k];
             let zj = self.buf[j].conj();
             let w = (zk + zj) * half;
             let h = (zk - zj) * minus_half_i;
             // Store conj(P) for the inverse by conj∘FFT∘conj.
-            let g = shape_power_gain(shape, k as f64 / m as f64).sqrt();
             let p = w * h * g;
             self.buf[k] = p.conj();
             self.buf[j] = p;

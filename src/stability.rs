@@ -356,97 +356,349 @@ mod tests {
     }
 }
 
-/// The phase-noise side of the combined short/long-τ view: σ(τ) converted
-/// from a spectrum (normally an L(f) table) for every measured curve whose
-/// estimator has a spectral form, and the consistency of the two where both
-/// exist.
-#[derive(Debug, Clone)]
-pub struct PhaseNoiseView {
-    /// One curve per convertible measured curve, named `<estimator>-from-lf`.
-    /// Points below the record's τ0 come from the table alone and carry
-    /// m = 0 and terms = 0.
-    pub curves: Vec<Curve>,
-    /// Per converted estimator: measured/converted ratio and whether the
-    /// converted value lies in the measured interval, at every shared τ.
-    pub checks: Vec<(String, Vec<crate::spectrum::sigma::Consistency>)>,
-    /// The upper integration limit used (the table's highest offset).
-    pub f_h: f64,
+/// The L(f) uncertainty assumed for a phase-noise table that states none,
+/// dB (common practice: phase-noise analysers quote about ±2 dB).
+pub const DEFAULT_TABLE_UNCERTAINTY_DB: f64 = 2.0;
+
+/// A converted point is compared only when at most this share of its
+/// variance comes from offsets below the table's lowest one (the table's
+/// reach).
+pub const MAX_BELOW_TABLE: f64 = 0.1;
+
+/// How the two views are put side by side.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct ViewOptions {
+    /// The record's measurement bandwidth f_h, Hz (`None`: the record's
+    /// Nyquist frequency 1/(2τ0)).
+    pub bandwidth: Option<f64>,
+    /// The table's own uncertainty, dB of L(f).
+    pub table_uncertainty_db: f64,
 }
 
-/// Suffix of the curves converted from a phase-noise table.
+impl Default for ViewOptions {
+    fn default() -> Self {
+        Self {
+            bandwidth: None,
+            table_uncertainty_db: DEFAULT_TABLE_UNCERTAINTY_DB,
+        }
+    }
+}
+
+/// One τ where a measured point and the table's σ(τ) at the record's
+/// bandwidth are compared.
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
+pub struct Agreement {
+    /// τ, s.
+    pub tau: f64,
+    /// The measured deviation.
+    pub measured: f64,
+    /// Its confidence interval.
+    pub lo: f64,
+    /// Its confidence interval.
+    pub hi: f64,
+    /// The deviation from the table at the record's bandwidth.
+    pub converted: f64,
+    /// measured / converted.
+    pub ratio: f64,
+    /// The largest |ln(measured/converted)| taken as agreement (see
+    /// [`agreement`]).
+    pub tolerance: f64,
+    /// Share of the converted variance from offsets below the table.
+    pub below_table: f64,
+    /// The two agree within the tolerance.
+    pub agree: bool,
+}
+
+/// Why two views share no τ, and how far apart they are.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct Apart {
+    /// In words.
+    pub reason: String,
+    /// How far apart, as a ratio of offsets or of τ (`reason` says which):
+    /// ≥ 1 when they do not overlap at all, below 1 when the table starts
+    /// below the record's bandwidth but too close to it to cover any τ.
+    pub factor: f64,
+}
+
+/// The comparison of one measured curve with the table.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct Comparison {
+    /// The measured estimator.
+    pub estimator: String,
+    /// The bandwidth both sides are taken at, Hz.
+    pub f_h: f64,
+    /// f_h was stated by the user (else it is 1/(2τ0)).
+    pub bandwidth_given: bool,
+    /// The table's uncertainty used, dB of L(f).
+    pub table_uncertainty_db: f64,
+    /// The τ range compared (first and last compared τ), when any.
+    pub common: Option<[f64; 2]>,
+    /// Every compared τ.
+    pub points: Vec<Agreement>,
+    /// Measured points inside the common range without a confidence
+    /// interval (not compared).
+    pub without_interval: usize,
+    /// Set when the two views share no τ.
+    pub apart: Option<Apart>,
+}
+
+impl Comparison {
+    /// True when every compared point agrees; `None` when nothing was
+    /// compared.
+    pub fn agree(&self) -> Option<bool> {
+        (!self.points.is_empty()).then(|| self.points.iter().all(|p| p.agree))
+    }
+}
+
+/// Whether a measured point and a converted value agree:
+/// |ln(measured/converted)| ≤ √(δ_m² + δ_t²), with δ_m the half-width in log
+/// of the measured confidence interval on the side of the converted value
+/// (ln(hi/measured) when converted > measured, else ln(measured/lo)), and
+/// δ_t = (u/20)·ln 10 for a table uncertain by ±u dB (an uncertainty of u dB
+/// in L(f) is u/2 dB, a factor 10^(u/20), in σ). The two uncertainties are
+/// independent and added in quadrature, each at the interval's confidence.
+/// Returns (tolerance, agree).
+///
+/// ```
+/// use tauwise::stability::agreement;
+/// // Inside the measured interval: agree, whatever the table's uncertainty.
+/// assert!(agreement(1.0, 0.9, 1.1, 1.05, 0.0).1);
+/// // Twice the measured value (a table 6 dB too high) is far outside.
+/// assert!(!agreement(1.0, 0.9, 1.1, 2.0, 2.0).1);
+/// ```
+pub fn agreement(measured: f64, lo: f64, hi: f64, converted: f64, table_db: f64) -> (f64, bool) {
+    let dm = if converted > measured {
+        (hi / measured).ln()
+    } else {
+        (measured / lo).ln()
+    };
+    let dt = table_db / 20.0 * std::f64::consts::LN_10;
+    let tol = (dm * dm + dt * dt).sqrt();
+    let d = (measured / converted).ln().abs();
+    (tol, d.is_finite() && tol.is_finite() && d <= tol)
+}
+
+/// The phase-noise side of the combined short/long-τ view.
+#[derive(Debug, Clone)]
+pub struct PhaseNoiseView {
+    /// Per convertible measured curve: `<estimator>-from-lf`, the table's
+    /// σ(τ) at the record's bandwidth over the compared τ; and
+    /// `<estimator>-from-lf-full-band`, the table's σ(τ) with its whole
+    /// bandwidth at τ below the record's τ0 (what the record cannot see;
+    /// not for MDEV/TDEV, which need τ = nτ0). Points below τ0 carry m = 0
+    /// and terms = 0.
+    pub curves: Vec<Curve>,
+    /// One comparison per convertible measured curve.
+    pub comparisons: Vec<Comparison>,
+    /// The table's highest offset (the full-band curves' f_h), Hz.
+    pub table_f_h: f64,
+}
+
+/// Suffix of the curves converted from a phase-noise table at the record's
+/// bandwidth.
 pub const FROM_LF: &str = "-from-lf";
 
-/// Convert `s` to σ(τ) beside the `measured` curves of a record sampled at
-/// `tau0` (see [`PhaseNoiseView`]). The τ values are the measured ones up to
-/// 1/(the table's lowest offset), plus octaves below τ0 down to 1/f_h (at
-/// most 14 octaves; not for MDEV/TDEV, which need τ = nτ0), so the view shows where the short-τ (phase-noise) and
-/// long-τ (counter) sides meet. σ²(τ) = ∫ S_y(f)|H(f)|² df up to f_h, the
-/// table's highest offset ([`crate::spectrum::sigma::sigma_from_spectrum`]).
+/// Suffix of the curves converted from a phase-noise table with its whole
+/// bandwidth, below the record's τ0.
+pub const FROM_LF_FULL_BAND: &str = "-from-lf-full-band";
+
+fn bare(tau: f64, tau0: f64, value: f64) -> Point {
+    let m = if tau < tau0 * (1.0 - 1e-9) {
+        0
+    } else {
+        (tau / tau0).round() as usize
+    };
+    Point::bare(crate::deviation::Estimate {
+        tau,
+        m,
+        value,
+        terms: 0,
+    })
+}
+
+/// Put the `measured` curves of a record sampled at `tau0` beside the
+/// spectrum `s` (normally an L(f) table), comparing like with like:
 ///
-/// Where white or flicker PM dominates, σ(τ) depends on the measurement
-/// bandwidth, so the two sides may differ there without either being wrong.
+/// - both sides at the record's bandwidth f_h ([`ViewOptions::bandwidth`],
+///   else 1/(2τ0)): σ²(τ) = ∫_0^{f_h} S_y(f)|H(f)|² df from the table
+///   ([`crate::spectrum::sigma::sigma_points`]), because where white or
+///   flicker PM matters σ(τ) depends on the bandwidth;
+/// - only over the τ both cover: the measured τ at which at most
+///   [`MAX_BELOW_TABLE`] of the converted variance comes from offsets below
+///   the table's lowest one (and the integral is not truncated there), and
+///   from 2τ0 when f_h is the default 1/(2τ0) (at τ0 a sampled record's σ
+///   depends on how the instrument sampled: point samples alias white FM
+///   from above 1/(2τ0), by 25 % at τ0, an anti-alias filter does not);
+/// - with a tolerance that holds the table's own uncertainty
+///   ([`agreement`]).
+///
+/// When the views share no τ, [`Comparison::apart`] says why and how far
+/// apart they are: the table starts above the record's bandwidth, ends
+/// below it, or its reach ends at a τ below the record's shortest.
 pub fn from_phase_noise(
     measured: &[Curve],
     s: &crate::spectrum::Spectrum,
     tau0: f64,
+    opts: &ViewOptions,
 ) -> Result<PhaseNoiseView> {
-    use crate::deviation::{Estimate, Point};
-    use crate::spectrum::sigma::{consistency, sigma_from_spectrum, SigmaKind};
-    let (f_lo, f_h) = s.range();
-    let tau_max = 1.0 / f_lo * (1.0 + 1e-9);
-    let k_min = ((1.0 / (f_h * tau0)).log2().ceil() as i32).clamp(-14, 0);
+    use crate::spectrum::sigma::{sigma_points, SigmaKind, SigmaOptions};
+    if !(opts.table_uncertainty_db.is_finite() && opts.table_uncertainty_db >= 0.0) {
+        return Err(Error::invalid(format!(
+            "the table's uncertainty must be a number of dB ≥ 0, got {}",
+            opts.table_uncertainty_db
+        )));
+    }
+    let (f_lo, f_top) = s.range();
+    let f_h = opts.bandwidth.unwrap_or(0.5 / tau0);
+    if !(f_h.is_finite() && f_h > 0.0) {
+        return Err(Error::invalid(format!(
+            "the record's bandwidth must be a positive frequency, got {f_h} Hz"
+        )));
+    }
     let mut curves = Vec::new();
-    let mut checks = Vec::new();
+    let mut comparisons = Vec::new();
     for c in measured {
         let Ok(kind) = SigmaKind::from_name(&c.estimator) else {
             continue;
         };
-        // MDEV and TDEV are defined on τ = nτ0 of the record's sampling:
-        // no points below τ0 for them.
-        let below = if matches!(kind, SigmaKind::Mdev | SigmaKind::Tdev) {
-            0
-        } else {
-            k_min
+        let mut cmp = Comparison {
+            estimator: c.estimator.clone(),
+            f_h,
+            bandwidth_given: opts.bandwidth.is_some(),
+            table_uncertainty_db: opts.table_uncertainty_db,
+            common: None,
+            points: Vec::new(),
+            without_interval: 0,
+            apart: None,
         };
-        let mut taus: Vec<f64> = (below..0).map(|k| tau0 * 2f64.powi(k)).collect();
-        taus.extend(c.points.iter().map(|p| p.estimate.tau));
-        taus.retain(|&t| t <= tau_max);
-        taus.sort_by(f64::total_cmp);
-        taus.dedup();
-        if taus.is_empty() {
-            continue;
+        // The short-τ view: the table with its whole bandwidth below τ0.
+        if !matches!(kind, SigmaKind::Mdev | SigmaKind::Tdev) {
+            let k_min = ((1.0 / (f_top * tau0)).log2().ceil() as i32).clamp(-14, 0);
+            let taus: Vec<f64> = (k_min..0).map(|k| tau0 * 2f64.powi(k)).collect();
+            if !taus.is_empty() {
+                let pts = sigma_points(s, kind, &taus, SigmaOptions { tau0, f_h: f_top })?;
+                curves.push(Curve {
+                    estimator: format!("{}{FROM_LF_FULL_BAND}", c.estimator),
+                    points: pts
+                        .iter()
+                        .filter(|p| !p.truncated && p.dev > 0.0)
+                        .map(|p| bare(p.tau, tau0, p.dev))
+                        .collect(),
+                });
+            }
         }
-        let converted = sigma_from_spectrum(s, kind, &taus, tau0, f_h)?;
-        checks.push((c.estimator.clone(), consistency(c, &converted)));
-        curves.push(Curve {
-            estimator: format!("{}{FROM_LF}", c.estimator),
-            points: converted
-                .iter()
-                .map(|&(tau, value)| {
-                    let m = (tau / tau0).round();
-                    let m = if tau < tau0 * (1.0 - 1e-9) {
-                        0
-                    } else {
-                        m as usize
-                    };
-                    Point::bare(Estimate {
-                        tau,
-                        m,
-                        value,
-                        terms: 0,
-                    })
-                })
-                .collect(),
-        });
+        let tau_min = c
+            .points
+            .iter()
+            .map(|p| p.estimate.tau)
+            .fold(f64::INFINITY, f64::min);
+        if f_h > f_top * (1.0 + 1e-12) {
+            cmp.apart = Some(Apart {
+                reason: format!(
+                    "the table ends at {f_top} Hz, below the record's bandwidth of {f_h} Hz: it cannot give σ(τ) at that bandwidth"
+                ),
+                factor: f_h / f_top,
+            });
+        } else if f_h <= f_lo {
+            cmp.apart = Some(Apart {
+                reason: format!(
+                    "the table starts at {f_lo} Hz, above the record's bandwidth of {f_h} Hz: the two cover different offsets"
+                ),
+                factor: f_lo / f_h,
+            });
+        } else if tau_min.is_finite() {
+            let opt = SigmaOptions { tau0, f_h };
+            let taus: Vec<f64> = c.points.iter().map(|p| p.estimate.tau).collect();
+            let conv = sigma_points(s, kind, &taus, opt)?;
+            let mut kept = Vec::new();
+            // At the default f_h = 1/(2τ0), τ = τ0 itself is left out: there
+            // a sampled record's σ depends on how its instrument sampled
+            // (point samples alias white FM from above 1/(2τ0), an
+            // anti-alias filter does not) — for white FM the two differ by
+            // 25 % — which neither the record nor the table says.
+            let from_tau = if opts.bandwidth.is_some() {
+                0.0
+            } else {
+                2.0 * tau0 * (1.0 - 1e-9)
+            };
+            for (p, q) in c.points.iter().zip(&conv) {
+                if q.tau < from_tau
+                    || q.truncated
+                    || q.below_table > MAX_BELOW_TABLE
+                    || !(q.dev > 0.0)
+                {
+                    continue;
+                }
+                kept.push(bare(q.tau, tau0, q.dev));
+                match (p.lo, p.hi) {
+                    (Some(lo), Some(hi)) if lo > 0.0 && hi > 0.0 => {
+                        let m = p.estimate.value;
+                        let (tolerance, agree) =
+                            agreement(m, lo, hi, q.dev, opts.table_uncertainty_db);
+                        cmp.points.push(Agreement {
+                            tau: q.tau,
+                            measured: m,
+                            lo,
+                            hi,
+                            converted: q.dev,
+                            ratio: m / q.dev,
+                            tolerance,
+                            below_table: q.below_table,
+                            agree,
+                        });
+                    }
+                    _ => cmp.without_interval += 1,
+                }
+            }
+            if let (Some(a), Some(b)) = (kept.first(), kept.last()) {
+                cmp.common = Some([a.estimate.tau, b.estimate.tau]);
+            } else {
+                // The table's reach: the longest τ (octaves down from the
+                // record's shortest) whose σ² comes at most MAX_BELOW_TABLE
+                // from below the table (Allan form, which exists below τ0).
+                let mut reach = None;
+                for k in 1..=40 {
+                    let tau = tau_min * 2f64.powi(-k);
+                    let q = sigma_points(s, SigmaKind::Adev, &[tau], opt)?[0];
+                    if !q.truncated && q.below_table <= MAX_BELOW_TABLE {
+                        reach = Some(tau);
+                        break;
+                    }
+                }
+                cmp.apart = Some(match reach {
+                    Some(r) => Apart {
+                        reason: format!(
+                            "the table reaches τ ≤ {r} s (beyond it more than {:.0} % of σ² would come from below its lowest offset, {f_lo} Hz); the record's shortest τ is {tau_min} s",
+                            MAX_BELOW_TABLE * 100.0
+                        ),
+                        factor: tau_min / r,
+                    },
+                    None => Apart {
+                        reason: format!(
+                            "the table starts at {f_lo} Hz, too close to the record's bandwidth of {f_h} Hz: at every τ more than {:.0} % of σ² would come from below it (the factor is of offsets)",
+                            MAX_BELOW_TABLE * 100.0
+                        ),
+                        factor: f_lo / f_h,
+                    },
+                });
+            }
+            if !kept.is_empty() {
+                curves.push(Curve {
+                    estimator: format!("{}{FROM_LF}", c.estimator),
+                    points: kept,
+                });
+            }
+        }
+        comparisons.push(cmp);
     }
-    if curves.is_empty() {
-        return Err(Error::insufficient(format!(
-            "no requested estimator can be converted from the phase-noise table (adev, oadev, mdev, tdev, hdev and ohdev can), or the table's offsets ({f_lo} – {f_h} Hz) support no τ"
-        )));
+    if comparisons.is_empty() {
+        return Err(Error::insufficient(
+            "no measured estimator can be converted from the phase-noise table (adev, oadev, mdev, tdev, hdev and ohdev can)",
+        ));
     }
     Ok(PhaseNoiseView {
         curves,
-        checks,
-        f_h,
+        comparisons,
+        table_f_h: f_top,
     })
 }

@@ -154,6 +154,29 @@ pub fn parse_frequency(text: &str) -> Result<f64, UnitError> {
     Ok(f)
 }
 
+const FRACTION_EXPECTED: &str = "a number, optionally with ppm, ppb or ppt (e.g. 1e-9, 2ppb)";
+
+/// Parse a fractional frequency (a frequency offset or error) such as
+/// `1e-9`, `2ppb`, `-0.5ppt` or `3e-7frac`. Returns the fraction.
+///
+/// ```
+/// use tauwise::units::parse_fraction;
+/// assert_eq!(parse_fraction("2ppb").unwrap(), 2e-9);
+/// assert_eq!(parse_fraction("-1e-12").unwrap(), -1e-12);
+/// assert!(parse_fraction("fast").is_err());
+/// ```
+pub fn parse_fraction(text: &str) -> Result<f64, UnitError> {
+    let t = text.trim();
+    let (num, scale) = [("ppm", 1e-6), ("ppb", 1e-9), ("ppt", 1e-12), ("frac", 1.0)]
+        .iter()
+        .find_map(|(s, k)| t.strip_suffix(s).map(|n| (n.trim(), *k)))
+        .unwrap_or((t, 1.0));
+    match num.parse::<f64>() {
+        Ok(v) if v.is_finite() => Ok(v * scale),
+        _ => Err(bad(text, "fractional frequency", FRACTION_EXPECTED)),
+    }
+}
+
 /// Units of phase (time-error) readings in an input file.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum PhaseUnit {

@@ -477,3 +477,99 @@ fn output_is_checked_before_computing() {
         stderr(&out)
     );
 }
+
+/// `--y0` sets the frequency error at the start of holdover instead of the
+/// record's end: with a given aging and negligible noise the deterministic
+/// TE is y0·t + ½·D·t² (analytic); `--y0-sigma` spreads the paths by
+/// σ·t, so p95 of |TE| at the span end lies near |y0·t + ½Dt²| + 1.645σt
+/// when that term dominates (one-sided normal quantile, analytic; Monte
+/// Carlo of 2000 paths). `--y0-sigma` alone is a command-line error.
+#[test]
+fn y0_given_on_the_command_line() {
+    let d = 1e-10 / DAY;
+    let out = run_flat("24h", &["--y0", "-2e-11", "--format", "json"]);
+    assert!(out.status.success(), "{}", stderr(&out));
+    let doc: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    assert_eq!(doc["model"]["y0"].as_f64(), Some(-2e-11));
+    assert_eq!(doc["model"]["y0_sigma"].as_f64(), Some(0.0));
+    assert_eq!(doc["model"]["y0_source"], "given");
+    let end = doc["te"].as_array().unwrap().last().unwrap().clone();
+    let want = -2e-11 * DAY + 0.5 * d * DAY * DAY;
+    assert!(
+        (end["deterministic"].as_f64().unwrap() - want).abs() < 1e-12,
+        "{end}"
+    );
+    let dir = tempfile::tempdir().unwrap();
+    let out = tauwise()
+        .arg("holdover")
+        .arg(flat_file(dir.path()))
+        .args([
+            "--data", "freq", "--tau0", "60s", "--span", "24h", "--budget", "1.5us",
+        ])
+        .args([
+            "--aging",
+            "1e-10/day",
+            "--model",
+            "h0=1e-32",
+            "--paths",
+            "2000",
+        ])
+        .args(["--y0", "0", "--y0-sigma", "1e-11", "--format", "json"])
+        .output()
+        .unwrap();
+    assert!(out.status.success(), "{}", stderr(&out));
+    let doc: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    let end = doc["te"].as_array().unwrap().last().unwrap().clone();
+    let base = 0.5 * d * DAY * DAY; // 4.32 µs
+    let spread = 1e-11 * DAY; // 0.864 µs
+    let p95 = end["p95"].as_f64().unwrap();
+    let want = base + 1.645 * spread;
+    assert!((p95 / want - 1.0).abs() < 0.05, "p95 {p95} vs {want}");
+    let out = run_flat("24h", &["--y0-sigma", "1e-11"]);
+    assert_eq!(out.status.code(), Some(2), "{}", stderr(&out));
+    let out = run_flat("24h", &["--y0", "fast"]);
+    assert_eq!(out.status.code(), Some(1));
+    assert!(stderr(&out).contains("--y0"), "{}", stderr(&out));
+}
+
+/// On a record of pure noise (seeded white FM, no aging at all) the fitted
+/// aging is reported with its bootstrap uncertainty and called not
+/// significant: within 2σ of zero, as 95 % of such records should be.
+#[test]
+fn aging_not_significant_is_said() {
+    let dir = tempfile::tempdir().unwrap();
+    let p = dir.path().join("wfm.txt");
+    let mut rng = ChaCha8Rng::seed_from_u64(8);
+    let sd = (1e-22f64 / 2.0).sqrt(); // WFM h0 = 1e-22 at τ0 = 1 s: σ_y(τ0)
+    let text: String = (0..20_000)
+        .map(|_| format!("{:e}\n", sd * rng.sample::<f64, _>(StandardNormal)))
+        .collect();
+    std::fs::write(&p, text).unwrap();
+    let out = tauwise()
+        .arg("holdover")
+        .arg(&p)
+        .args([
+            "--data", "freq", "--tau0", "1s", "--span", "1h", "--budget", "1us",
+        ])
+        .args(["--paths", "200", "--format", "json"])
+        .output()
+        .unwrap();
+    assert!(out.status.success(), "{}", stderr(&out));
+    let doc: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    let z = doc["model"]["aging_z"].as_f64().unwrap();
+    assert!(z < 2.0, "{z}");
+    assert_eq!(doc["model"]["aging_significant"], false);
+    assert_eq!(doc["model"]["uncertainty"]["replicates"], 400);
+    let out = tauwise()
+        .arg("holdover")
+        .arg(&p)
+        .args([
+            "--data", "freq", "--tau0", "1s", "--span", "1h", "--budget", "1us",
+        ])
+        .args(["--paths", "200"])
+        .output()
+        .unwrap();
+    let text = String::from_utf8_lossy(&out.stdout);
+    assert!(text.contains("parametric bootstrap"), "{text}");
+    assert!(text.contains("not significant at 2σ"), "{text}");
+}

@@ -324,14 +324,25 @@ fn combined_view_with_a_phase_noise_table_and_a_plot() {
         .iter()
         .map(|c| c["estimator"].as_str().unwrap())
         .collect();
-    assert_eq!(names, ["oadev", "oadev-from-lf"]);
-    let rows = doc["consistency"][0]["points"].as_array().unwrap();
-    assert!(rows.len() >= 5, "shared τ up to 1/(0.01 Hz)");
-    // White FM is bandwidth-independent: σ_y² = h0/(2τ) on both sides
-    // (IEEE Std 1139), so the ratio stays near 1 at short τ.
-    let r0 = rows[0]["ratio"].as_f64().unwrap();
-    assert!((r0 - 1.0).abs() < 0.05, "ratio at τ0 {r0}");
-    assert_eq!(rows[0]["inside_interval"], true);
+    assert_eq!(names, ["oadev", "oadev-from-lf-full-band", "oadev-from-lf"]);
+    let c = &doc["consistency"][0];
+    assert_eq!(
+        c["f_h"].as_f64(),
+        Some(0.5),
+        "the record's bandwidth 1/(2τ0)"
+    );
+    assert_eq!(c["bandwidth_given"], false);
+    assert!(c["apart"].is_null());
+    let rows = c["points"].as_array().unwrap();
+    assert!(
+        rows.len() >= 3,
+        "shared τ from 2τ0 to the table's reach: {rows:?}"
+    );
+    // White FM is bandwidth-independent at 2πf_hτ ≫ 1: σ_y² = h0/(2τ) on
+    // both sides (IEEE Std 1139), so the ratio stays near 1.
+    let r = rows.last().unwrap()["ratio"].as_f64().unwrap();
+    assert!((r - 1.0).abs() < 0.1, "ratio {r}");
+    assert!(rows.iter().all(|p| p["agree"] == true), "{rows:?}");
     let svg = std::fs::read_to_string(&plot).unwrap();
     roxmltree::Document::parse(&svg).expect("valid SVG");
     // --lf without --carrier is a clear error.

@@ -330,3 +330,94 @@ fn wander_takes_the_tau_range() {
     );
     assert!(e.contains("FROM ≤ TO"), "{e}");
 }
+
+/// The preparation keys of a `[[record]]` (issue: records prepared in the
+/// report): drift none|linear|quadratic (linear by default), outliers as a
+/// MAD limit, gap filling, the record's bandwidth; the table's uncertainty;
+/// the holdover's y0. A `[[tie]]` capture refuses the preparation keys.
+#[test]
+fn preparation_keys_read_and_are_checked() {
+    use tauwise::prepare::DriftModel;
+    let fx = Fixture::new();
+    let dut = Dut::read(&fx.write(GOOD)).unwrap();
+    assert_eq!(dut.records[0].prepare.drift, Some(DriftModel::Linear));
+    assert_eq!(dut.records[0].prepare.outliers, None);
+    assert!(!dut.records[0].prepare.fill_gaps);
+    assert_eq!(dut.records[0].bandwidth, None);
+    assert!(
+        dut.tie[0].prepare.is_empty(),
+        "a TIE capture is used as read"
+    );
+    let text = GOOD
+        .replacen(
+            "time_column = 1",
+            "time_column = 1\ndrift = \"quadratic\"\noutliers = 4.5\nfill_gaps = true\nbandwidth = \"10Hz\"",
+            1,
+        )
+        .replacen(
+            "path = \"../data/lf.csv\"",
+            "path = \"../data/lf.csv\"\nuncertainty = \"1.5dB\"",
+            1,
+        )
+        .replacen("seed = 3", "seed = 3\ny0 = \"0.5ppb\"\ny0_sigma = 1e-11", 1);
+    let dut = Dut::read(&fx.write(&text)).unwrap();
+    let r = &dut.records[0];
+    assert_eq!(r.prepare.drift, Some(DriftModel::Quadratic));
+    assert_eq!(r.prepare.outliers, Some(4.5));
+    assert!(r.prepare.fill_gaps);
+    assert_eq!(r.bandwidth, Some(10.0));
+    assert_eq!(dut.phase_noise[0].uncertainty_db, Some(1.5));
+    let h = dut.holdover.as_ref().unwrap();
+    assert_eq!((h.y0, h.y0_sigma), (Some(0.5e-9), Some(1e-11)));
+    let none = Dut::read(&fx.write(&GOOD.replacen(
+        "time_column = 1",
+        "time_column = 1\ndrift = \"none\"",
+        1,
+    )))
+    .unwrap();
+    assert_eq!(none.records[0].prepare.drift, None);
+
+    let bad = [
+        (
+            "time_column = 1",
+            "time_column = 1\ndrift = \"cubic\"",
+            "record[1].drift",
+        ),
+        (
+            "time_column = 1",
+            "time_column = 1\noutliers = -3",
+            "record[1].outliers",
+        ),
+        (
+            "time_column = 1",
+            "time_column = 1\noutliers = \"many\"",
+            "scaled MADs",
+        ),
+        (
+            "time_column = 1",
+            "time_column = 1\nbandwidth = \"wide\"",
+            "record[1].bandwidth",
+        ),
+        (
+            "tau0 = 1\n",
+            "tau0 = 1\ndrift = \"none\"\n",
+            "applies to a [[record]] only",
+        ),
+        (
+            "path = \"../data/lf.csv\"",
+            "path = \"../data/lf.csv\"\nuncertainty = \"loud\"",
+            "phase_noise[1].uncertainty",
+        ),
+        ("seed = 3", "seed = 3\ny0 = \"fast\"", "holdover.y0"),
+        (
+            "seed = 3",
+            "seed = 3\ny0_sigma = 1e-12",
+            "goes with holdover.y0",
+        ),
+    ];
+    for (from, to, want) in bad {
+        assert!(GOOD.contains(from), "fixture lacks {from}");
+        let e = error_of(&fx, &GOOD.replacen(from, to, 1));
+        assert!(e.contains(want), "{to}: {e}");
+    }
+}

@@ -27,6 +27,7 @@ fn quiet(te0: f64, y0: f64, d: f64) -> HoldoverModel {
         start: 0.0,
         temp_worst: 0.0,
         noise: PowerLaw::zero(0.5),
+        uncertainty: Default::default(),
     }
 }
 
@@ -294,9 +295,14 @@ fn noise_paths_follow_the_analytic_variance_growth() {
     }
 }
 
-/// The noise fit of the holdover model (OADEV + MDEV with their EDF into
-/// model::fit) recovers a known model: a record synthesised from
-/// h0 = 1e-22, h−2 = 1e−30 (IEEE Std 1139 terms), each fitted h within 30 %.
+/// The noise fit of the holdover model (OHDEV at every τ and MDEV at short
+/// τ, with their EDF, into model::fit) recovers a known model: a record
+/// synthesised from h0 = 1e-22, h−2 = 1e−30 (IEEE Std 1139 terms). h0
+/// within 30 %; h−2 not below the truth by more than 30 % and at most twice
+/// it (the fit gives any shortfall at the longest τ to RWFM, the cautious
+/// side for the aging's uncertainty); the model's ADEV within 20 % of the
+/// truth from 1 s to 1000 s and within 40 % at 10^4 s (a tenth of the
+/// record, where the OHDEV points have an EDF of a few units).
 #[test]
 fn noise_fit_recovers_the_simulated_model() {
     let truth = PowerLaw::parse("h0=1e-22,h-2=1e-30", 0.5).unwrap();
@@ -306,10 +312,68 @@ fn noise_fit_recovers_the_simulated_model() {
     let fit = fit_noise(&rec).unwrap();
     let m = fit.model;
     assert!((m.get(0) / 1e-22 - 1.0).abs() < 0.3, "{m:?}");
-    assert!((m.get(-2) / 1e-30 - 1.0).abs() < 0.3, "{m:?}");
-    // The model's ADEV stays within 20 % of the truth from 1 s to 10^4 s.
-    for tau in [1.0, 10.0, 100.0, 1e3, 1e4] {
+    assert!((0.7..=2.0).contains(&(m.get(-2) / 1e-30)), "{m:?}");
+    for (tau, tol) in [
+        (1.0, 0.2),
+        (10.0, 0.2),
+        (100.0, 0.2),
+        (1e3, 0.2),
+        (1e4, 0.4),
+    ] {
         let r = (m.avar(tau) / truth.avar(tau)).sqrt();
-        assert!((r - 1.0).abs() < 0.2, "τ = {tau}: {r}");
+        assert!((r - 1.0).abs() < tol, "τ = {tau}: {r}");
+    }
+}
+
+/// Seeded Monte Carlo: the holdover prediction against the true futures of
+/// records of a known model (white FM h0 = 1e−22 and random-walk FM
+/// h−2 = 3e−27 1/Hz, τ0 = 1 s, 4096 points, a holdover of 256 s after each
+/// record), run through the whole pipeline a user runs (aging fit, noise
+/// fit, bootstrap uncertainties, Monte Carlo).
+///
+/// - No aging: the fitted aging in standard uncertainties, D̂/σ_D, behaves
+///   like a standard normal variable — well under 10 % beyond 2 (nominal
+///   4.6 %), standard deviation near 1. (The textbook regression σ_D gave a
+///   median |D̂|/σ_D near 10.)
+/// - With aging (1e−14/s) and without: the true |TE| at the span end lies
+///   above the predicted p95 in 3–8 % and above the p50 in 40–60 % of the
+///   records. Without aging the percentiles of |TE| lean to the safe side
+///   (the estimated aging scatters about a true zero; see
+///   `examples/holdover_calibration.rs` for the sweep).
+#[test]
+fn holdover_prediction_is_calibrated() {
+    use tauwise::holdover::calibration::{run, Trial};
+    let trial = Trial {
+        model: PowerLaw::parse("h0=1e-22,h-2=3e-27", 0.5).unwrap(),
+        aging: 0.0,
+        tau0: 1.0,
+        points: 4096,
+        span_samples: 256,
+        records: 200,
+        paths: 300,
+        steps: 64,
+        seed: 1000,
+        true_noise: false,
+        replicates: 200,
+    };
+    let none = run(&trial).unwrap();
+    assert!(none.z_beyond_2 < 0.10, "|z| > 2 in {}", none.z_beyond_2);
+    assert!((0.75..1.3).contains(&none.z_sd), "sd(z) = {}", none.z_sd);
+    let aged = run(&Trial {
+        aging: 1e-14,
+        ..trial
+    })
+    .unwrap();
+    for (what, c) in [("no aging", &none), ("aging", &aged)] {
+        assert!(
+            (0.03..=0.08).contains(&c.above_p95),
+            "{what}: above p95 in {}",
+            c.above_p95
+        );
+        assert!(
+            (0.40..=0.60).contains(&c.above_p50),
+            "{what}: above p50 in {}",
+            c.above_p50
+        );
     }
 }

@@ -67,9 +67,22 @@ fn full_report(name: &str) -> Report {
             judgement: Judgement::judged(true, Coverage::Full),
         },
     ];
-    r.stability = Part::Done(StabilitySection {
+    r.stability = Part::Done(vec![StabilitySection {
         source: "rec <1>".into(),
-        plot: plot.clone(),
+        quality: Some(DataQuality {
+            points: 4096,
+            tau0: 1.0,
+            span: 4095.0,
+            gaps: 3,
+            gap_runs: 1,
+            longest_gap: 3.0,
+            offset: Some(1e-11),
+            drift_per_day: Some(2e-11),
+            drift_sigma_per_day: Some(1e-12),
+            outliers: None,
+        }),
+        preparation: vec!["Linear frequency drift removed <&>".into()],
+        plot: Some(plot.clone()),
         rows: oadev
             .iter()
             .map(|p| StabilityRow {
@@ -86,8 +99,9 @@ fn full_report(name: &str) -> Report {
             .collect(),
         confidence: 0.683,
         notes: vec![],
-    });
-    r.noise_model = Part::Done(NoiseModelSection {
+    }]);
+    r.noise_model = Part::Done(vec![NoiseModelSection {
+        source: "rec <1>".into(),
         model_string: m.to_model_string(),
         terms: vec![ModelTerm {
             alpha: 0,
@@ -102,7 +116,7 @@ fn full_report(name: &str) -> Report {
             method: "lag1".into(),
         }],
         notes: vec![],
-    });
+    }]);
     // CHECKS.md E / issue 4 (analytic): flat −155 dBc/Hz over 12 kHz–20 MHz on 10 MHz is 1.124e−4 rad, 1.789 ps.
     r.phase_noise = Part::Done(PhaseNoiseSection {
         source: "table".into(),
@@ -135,18 +149,32 @@ fn full_report(name: &str) -> Report {
         }],
         notes: vec![],
     });
-    r.combined = Part::Done(CombinedSection {
+    r.combined = Part::Done(vec![CombinedSection {
+        source: "rec <1>".into(),
+        table: "table".into(),
         plot,
-        estimator: "oadev".into(),
-        rows: vec![ConsistencyRow {
-            tau: 1.0,
-            measured: 4.5e-12,
-            lo: Some(4e-12),
-            hi: Some(5e-12),
-            converted: 4.4e-12,
-        }],
+        comparison: tauwise::stability::Comparison {
+            estimator: "oadev".into(),
+            f_h: 0.5,
+            bandwidth_given: false,
+            table_uncertainty_db: 2.0,
+            common: Some([2.0, 2.0]),
+            points: vec![tauwise::stability::Agreement {
+                tau: 2.0,
+                measured: 4.5e-12,
+                lo: 4e-12,
+                hi: 5e-12,
+                converted: 4.4e-12,
+                ratio: 4.5 / 4.4,
+                tolerance: 0.2,
+                below_table: 0.01,
+                agree: true,
+            }],
+            without_interval: 0,
+            apart: None,
+        },
         notes: vec![],
-    });
+    }]);
     r.wander = Part::Done(WanderSection {
         source: "tie".into(),
         tie: Some(TieStats {
@@ -301,7 +329,8 @@ fn write_is_atomic_and_complete() {
 
 /// Built from a DUT file: every input is listed with its SHA-256 (checked
 /// against an independent streaming of the same bytes), points, τ0 and gaps;
-/// the stability values equal a direct OADEV of the record.
+/// the stability values (drift kept: `drift = "none"`) equal a direct OADEV
+/// of the record.
 #[test]
 fn report_from_a_dut_file() {
     let dir = tempfile::tempdir().unwrap();
@@ -324,7 +353,7 @@ fn report_from_a_dut_file() {
     fs::write(dir.path().join("rec.csv"), &s).unwrap();
     fs::write(dir.path().join("lf.csv"), "1,-90\n10,-120\n").unwrap();
     let dut_text = "[device]\nname = \"<script>alert(1)</script>\"\ncarrier = \"10MHz\"\n\
-        [[record]]\nname = \"rec\"\npath = \"rec.csv\"\ntau0 = \"1s\"\nunits = \"ns\"\n\
+        [[record]]\nname = \"rec\"\npath = \"rec.csv\"\ntau0 = \"1s\"\nunits = \"ns\"\ndrift = \"none\"\n\
         [[phase_noise]]\npath = \"lf.csv\"\n\
         [[jitter]]\nband = \"1:10\"\nlimit = \"1ps\"\n\
         [wander]\nmasks = [\"g8262-opt1\"]\n\
@@ -350,6 +379,7 @@ fn report_from_a_dut_file() {
     let Part::Done(st) = &rep.stability else {
         panic!("stability missing")
     };
+    let st = &st[0];
     let xs: Vec<f64> = s
         .lines()
         .skip(1)

@@ -62,6 +62,14 @@ pub struct Args {
         allow_hyphen_values = true
     )]
     pub te0: String,
+    /// Fractional-frequency error at the start of holdover (e.g. 2e-12,
+    /// 0.5ppb) instead of the one estimated at the record's end — for a
+    /// disciplined unit, the loop's residual when the reference is lost.
+    #[arg(long, value_name = "FRAC", allow_hyphen_values = true)]
+    pub y0: Option<String>,
+    /// Standard uncertainty of --y0 (default 0); drawn per Monte Carlo path.
+    #[arg(long, value_name = "FRAC", requires = "y0")]
+    pub y0_sigma: Option<String>,
     /// Window at the end of the record for the initial frequency y0, with
     /// its unit (e.g. 2h). Default: a tenth of the record.
     #[arg(long, value_name = "DUR")]
@@ -185,7 +193,32 @@ pub fn run(args: Args) -> Result<Outcome> {
             .transpose()?,
         temp_worst,
         noise,
+        y0_given: match &args.y0 {
+            Some(v) => {
+                let y0 = tauwise::units::parse_fraction(v)
+                    .map_err(|e| Error::invalid(format!("--y0: {e}")))?;
+                let s = match &args.y0_sigma {
+                    Some(t) => tauwise::units::parse_fraction(t)
+                        .map_err(|e| Error::invalid(format!("--y0-sigma: {e}")))?,
+                    None => 0.0,
+                };
+                if s < 0.0 {
+                    return Err(Error::invalid(format!(
+                        "--y0-sigma {s}: expected a standard uncertainty ≥ 0"
+                    )));
+                }
+                Some((y0, s))
+            }
+            None => None,
+        },
+        seed: args.seed,
+        ..FromRecord::default()
     };
+    if opts.y0_given.is_some() && args.settle.is_some() {
+        return Err(Error::invalid(
+            "--settle sets the window for the y0 estimated on the record; with --y0 it has no use",
+        ));
+    }
     let model = model_from_record(&series.record, &opts)?;
     let settings = Settings {
         paths: args.paths,
@@ -279,6 +312,24 @@ fn to_json(
         .into(),
     );
     mm.insert(extra_name.into(), extra);
+    mm.insert(
+        "y0_source".into(),
+        if model.uncertainty.y0_window.is_some() {
+            "record"
+        } else {
+            "given"
+        }
+        .into(),
+    );
+    mm.insert(
+        "uncertainty".into(),
+        serde_json::to_value(model.uncertainty).unwrap_or(Value::Null),
+    );
+    mm.insert("aging_z".into(), model.aging_z().map_or(Value::Null, num));
+    mm.insert(
+        "aging_significant".into(),
+        model.aging_significant().map_or(Value::Null, Value::Bool),
+    );
     mm.insert("temp_worst".into(), num(model.temp_worst));
     mm.insert("start_s".into(), num(model.start));
     m.insert("model".into(), Value::Object(mm));
@@ -372,18 +423,53 @@ fn to_table(
         si(s.budget)
     );
     let _ = writeln!(o, "\nmodel");
+    let u = &model.uncertainty;
     let _ = writeln!(o, "  te0         {}", si(model.te0));
-    let _ = writeln!(o, "  y0          {:.4e} ± {:.2e}", model.y0, model.y0_sigma);
+    let _ = writeln!(
+        o,
+        "  y0          {:.4e} ± {:.2e} ({})",
+        model.y0,
+        model.y0_sigma,
+        match u.y0_window {
+            Some(w) => format!(
+                "mean over the last {} of the record, carried by the aging law",
+                hours(w)
+            ),
+            None => "given".to_string(),
+        }
+    );
     let _ = writeln!(
         o,
         "  aging       {} law, {:.4e}/day at the start{}",
-        model.aging.model().name(),
+        if u.aging_given {
+            "given linear"
+        } else {
+            model.aging.model().name()
+        },
         model.aging.rate(model.start) * 86400.0,
         match model.aging {
-            Aging::Linear { d_sigma, .. } => format!(" ± {:.2e}/day", d_sigma * 86400.0),
+            Aging::Linear { d_sigma, .. } if !u.aging_given => {
+                format!(" ± {:.2e}/day (1σ)", d_sigma * 86400.0)
+            }
+            Aging::Linear { .. } => String::new(),
             Aging::Log { a_sigma, tc, .. } => format!(" (A ± {a_sigma:.2e}, t_c = {})", hours(tc)),
         }
     );
+    if let Some(words) = model.aging_significance_words() {
+        let _ = writeln!(o, "              {words}");
+    }
+    if u.replicates > 0 {
+        let _ = writeln!(
+            o,
+            "  uncertainty parametric bootstrap: the fit repeated on {} records drawn from the noise model below{}",
+            u.replicates,
+            if u.y0_window.is_some() && !u.aging_given {
+                format!("; y0 and aging errors correlated {:+.2}, drawn jointly per path", u.y0_aging_corr)
+            } else {
+                "; drawn per path".to_string()
+            }
+        );
+    }
     if model.temp_worst > 0.0 {
         let _ = writeln!(
             o,

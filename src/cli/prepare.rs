@@ -7,7 +7,8 @@
 //! date-times), NaN marks a gap.
 //!
 //! The steps run in this order: outliers (on the frequency as read), drift
-//! (fitted after the outliers are gone), gap filling, decimation.
+//! (fitted after the outliers are gone), gap filling
+//! ([`tauwise::prepare::pipeline`], shared with the report), decimation.
 
 use super::common::{plain, InputArgs};
 use super::Outcome;
@@ -65,8 +66,9 @@ pub struct Args {
     /// record's centre is kept).
     #[arg(long, value_enum, value_name = "MODEL")]
     pub remove_drift: Option<DriftArg>,
-    /// Make gaps of the samples whose frequency is further than K scaled
-    /// MADs from the median.
+    /// Take out the frequency values further than K scaled MADs from the
+    /// median: a frequency value or a phase glitch becomes a gap, a phase
+    /// step is taken out of the later phase (one sample becomes a gap).
     #[arg(long = "outliers", value_name = "K")]
     pub outliers: Option<f64>,
     /// Fill interior gaps by linear interpolation.
@@ -99,31 +101,47 @@ pub fn run(args: Args) -> Result<Outcome> {
         }
     ));
 
-    if let Some(k) = args.outliers {
-        let found = prepare::find_outliers(&record, k)?;
-        let removal = prepare::remove_outliers(&record, &found);
+    let steps = prepare::pipeline::Steps {
+        outliers: args.outliers,
+        drift: args.remove_drift.map(DriftModel::from),
+        fill_gaps: args.fill_gaps,
+    };
+    let kind = record.kind();
+    let done = prepare::pipeline::prepare(&record, &steps)?;
+    if let Some(o) = &done.outliers {
         let mut n = format!(
             "outliers: {} frequency values beyond {} × MAD (median {}, MAD {}); {} samples made gaps",
-            found.indices.len(),
-            format_sig(k, 3),
-            format_sig(found.median, 6),
-            format_sig(found.mad, 6),
-            removal.replaced
+            o.events.len(),
+            format_sig(o.limit, 3),
+            format_sig(o.median, 6),
+            format_sig(o.mad, 6),
+            o.samples_made_gaps
         );
-        if !removal.steps.is_empty() {
+        if o.steps_removed > 0 {
             n.push_str(&format!(
-                "; {} isolated frequency outliers (phase steps) left in place, first at y index {}",
-                removal.steps.len(),
-                removal.steps[0]
+                "; {} phase steps taken out of the later phase (one sample each made a gap)",
+                o.steps_removed
             ));
         }
         notes.push(n);
-        record = removal.record;
+        for e in o.events.iter().take(20) {
+            notes.push(format!(
+                "  outlier at t = {} s (y index {}): y = {}, {} MAD{}",
+                format_sig(e.t, 8),
+                e.index,
+                format_sig(e.y, 6),
+                format_sig(e.mads, 3),
+                e.action
+                    .map(|a| format!("; {}", a.words()))
+                    .unwrap_or_default()
+            ));
+        }
+        if o.events.len() > 20 {
+            notes.push(format!("  … and {} more", o.events.len() - 20));
+        }
     }
-
-    if let Some(model) = args.remove_drift {
-        let model = DriftModel::from(model);
-        let fit = prepare::fit_drift(&record, model)?;
+    if let Some(fit) = &done.drift {
+        let model = fit.model;
         let mut n = format!(
             "drift removed: {} fit to frequency, {} per day at the centre (t = {} s from the first sample)",
             model.name(),
@@ -141,22 +159,19 @@ pub fn run(args: Args) -> Result<Outcome> {
             format_sig(fit.offset, 6)
         ));
         notes.push(n);
-        record = prepare::remove_drift(&record, &fit);
     }
-
-    if args.fill_gaps {
-        let fill = prepare::fill_gaps(&record);
+    if let Some(g) = &done.gaps {
         notes.push(format!(
             "gaps filled by linear interpolation of {}: {} samples; {} left at the ends",
-            match record {
-                Record::Phase(_) => "phase",
-                Record::Frequency(_) => "frequency",
+            match kind {
+                tauwise::DataKind::Phase => "phase",
+                tauwise::DataKind::Freq => "frequency",
             },
-            fill.filled,
-            fill.left
+            g.filled,
+            g.left
         ));
-        record = fill.record;
     }
+    record = done.record;
 
     if let Some(n) = args.decimate {
         let before = record.tau0();

@@ -88,6 +88,7 @@ fn quick_dut(a: &Args) -> Result<Dut> {
             path: lf.clone(),
             quantity: LfQuantity::Lf,
             carrier,
+            uncertainty_db: None,
         });
     }
     Ok(Dut {
@@ -107,6 +108,8 @@ fn quick_dut(a: &Args) -> Result<Dut> {
             units: opts.unit,
             value_column: opts.value_column,
             time_column: opts.time_column,
+            prepare: tauwise::io::dut::RECORD_STEPS,
+            bandwidth: None,
         }],
         phase_noise,
         tie: Vec::new(),

@@ -66,18 +66,7 @@ pub struct SimulateArgs {
 /// Parse a fractional value: a number with an optional `ppm`, `ppb`, `ppt`
 /// or `frac` suffix.
 pub fn parse_fraction(text: &str) -> Result<f64, Error> {
-    let t = text.trim();
-    let (num, scale) = [("ppm", 1e-6), ("ppb", 1e-9), ("ppt", 1e-12), ("frac", 1.0)]
-        .iter()
-        .find_map(|(s, k)| t.strip_suffix(s).map(|n| (n.trim(), *k)))
-        .unwrap_or((t, 1.0));
-    match num.parse::<f64>() {
-        Ok(v) if v.is_finite() => Ok(v * scale),
-        _ => Err(Error::invalid(format!(
-            "'{text}' is not a fractional frequency: expected a number, optionally with ppm, \
-             ppb or ppt (e.g. 1e-9, 2ppb)"
-        ))),
-    }
+    Ok(tauwise::units::parse_fraction(text)?)
 }
 
 /// Parse a drift rate `VALUE[/DURATION]` into fractional frequency per second.

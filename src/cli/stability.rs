@@ -46,6 +46,15 @@ pub struct Args {
     /// where both exist; needs --carrier.
     #[arg(long = "lf", value_name = "TABLE")]
     pub lf: Option<PathBuf>,
+    /// With --lf: the record's measurement bandwidth (e.g. 0.5Hz, 100Hz),
+    /// at which the table's σ(τ) is computed for the comparison. Default:
+    /// the record's Nyquist frequency 1/(2τ0).
+    #[arg(long, value_name = "FREQ", requires = "lf")]
+    pub bandwidth: Option<String>,
+    /// With --lf: the table's own uncertainty in dB of L(f), part of the
+    /// comparison's tolerance (default 2dB).
+    #[arg(long, value_name = "DB", requires = "lf")]
+    pub lf_uncertainty: Option<String>,
     /// Draw the σ–τ chart to FILE (.svg or .png). Time deviations (tdev,
     /// ttot, mtie, tierms) requested beside σ_y curves go to their own chart,
     /// FILE-time.svg (or .png) next to it.
@@ -151,7 +160,10 @@ pub fn run(args: Args) -> Result<Outcome> {
             }
             m.insert("curves".into(), list);
             if let Some(v) = &view {
-                m.insert("consistency".into(), consistency_json(v));
+                m.insert(
+                    "consistency".into(),
+                    serde_json::to_value(&v.comparisons).unwrap_or(serde_json::Value::Null),
+                );
             }
             json_text(&serde_json::Value::Object(m))
         }
@@ -441,6 +453,18 @@ pub fn curves_table(
     s
 }
 
+/// Parse `2dB` or `2` as a table uncertainty in dB (0 … 20).
+pub fn parse_db(text: &str, flag: &str) -> Result<f64> {
+    let t = text.trim();
+    let num = t.strip_suffix("dB").unwrap_or(t).trim();
+    match num.parse::<f64>() {
+        Ok(v) if v.is_finite() && (0.0..=20.0).contains(&v) => Ok(v),
+        _ => Err(tauwise::Error::invalid(format!(
+            "--{flag} {text}: expected an uncertainty in dB from 0 to 20, e.g. 2dB"
+        ))),
+    }
+}
+
 /// Read the `--lf` table and convert it beside the measured curves.
 fn phase_noise_view(
     args: &Args,
@@ -459,71 +483,79 @@ fn phase_noise_view(
         carrier: Some(carrier),
         ..Default::default()
     };
+    let view = tauwise::stability::ViewOptions {
+        bandwidth: args
+            .bandwidth
+            .as_deref()
+            .map(|b| super::common::positive_frequency(b, "bandwidth", "0.5Hz"))
+            .transpose()?,
+        table_uncertainty_db: match &args.lf_uncertainty {
+            Some(u) => parse_db(u, "lf-uncertainty")?,
+            None => tauwise::stability::DEFAULT_TABLE_UNCERTAINTY_DB,
+        },
+    };
     let t = tauwise::io::lf_table::read_lf_table(table, &opts)?;
-    tauwise::stability::from_phase_noise(measured, &t.spectrum, tau0)
-}
-
-fn consistency_json(v: &tauwise::stability::PhaseNoiseView) -> serde_json::Value {
-    let list: Vec<serde_json::Value> = v
-        .checks
-        .iter()
-        .map(|(est, rows)| {
-            let pts: Vec<serde_json::Value> = rows
-                .iter()
-                .map(|c| {
-                    serde_json::json!({
-                        "tau": num(c.tau),
-                        "measured": num(c.measured),
-                        "converted": num(c.converted),
-                        "ratio": num(c.ratio),
-                        "inside_interval": c.inside,
-                    })
-                })
-                .collect();
-            serde_json::json!({"estimator": est, "fh": num(v.f_h), "points": pts})
-        })
-        .collect();
-    serde_json::Value::Array(list)
+    tauwise::stability::from_phase_noise(measured, &t.spectrum, tau0, &view)
 }
 
 fn consistency_table(v: &tauwise::stability::PhaseNoiseView) -> String {
     let mut s = String::new();
-    for (est, rows) in &v.checks {
+    for c in &v.comparisons {
         let _ = writeln!(s);
         let _ = writeln!(
             s,
-            "{est}: measured against converted from the phase-noise table (f_h = {})",
-            format_si(v.f_h, "Hz", 4)
+            "{}: measured against the phase-noise table at the record's bandwidth f_h = {}{} (table uncertainty ±{} dB)",
+            c.estimator,
+            format_si(c.f_h, "Hz", 4),
+            if c.bandwidth_given { ", as given" } else { " = 1/(2τ0)" },
+            c.table_uncertainty_db
         );
-        if rows.is_empty() {
-            let _ = writeln!(s, "  no τ where both exist");
+        if let Some(a) = &c.apart {
+            let _ = writeln!(
+                s,
+                "  no common range: {} (a factor {:.3} apart)",
+                a.reason, a.factor
+            );
             continue;
         }
         let _ = writeln!(
             s,
-            "{:>10} {:>11} {:>11} {:>8} {:>16}",
-            "tau", "measured", "converted", "ratio", "in interval"
+            "{:>10} {:>11} {:>25} {:>11} {:>8} {:>10} {:>6}",
+            "tau", "measured", "interval", "from table", "ratio", "tolerance", "agree"
         );
-        for c in rows {
-            let inside = match c.inside {
-                Some(true) => "yes",
-                Some(false) => "no",
-                None => "—",
-            };
+        for p in &c.points {
             let _ = writeln!(
                 s,
-                "{:>10} {:>11} {:>11} {:>8.3} {:>16}",
-                format_si(c.tau, "s", 4),
-                format_sig(c.measured, 4),
-                format_sig(c.converted, 4),
-                c.ratio,
-                inside
+                "{:>10} {:>11} {:>25} {:>11} {:>8.3} {:>9.1}% {:>6}",
+                format_si(p.tau, "s", 4),
+                format_sig(p.measured, 4),
+                format!("[{} … {}]", format_sig(p.lo, 4), format_sig(p.hi, 4)),
+                format_sig(p.converted, 4),
+                p.ratio,
+                (p.tolerance.exp() - 1.0) * 100.0,
+                if p.agree { "yes" } else { "no" }
             );
         }
+        let agree = c.points.iter().filter(|p| p.agree).count();
+        let _ = writeln!(
+            s,
+            "  {} of {} τ agree{}",
+            agree,
+            c.points.len(),
+            if c.without_interval > 0 {
+                format!(
+                    "; {} τ without a confidence interval not compared",
+                    c.without_interval
+                )
+            } else {
+                String::new()
+            }
+        );
     }
     let _ = writeln!(
         s,
-        "Where white or flicker PM dominates, σ(τ) depends on the measurement bandwidth, so the two sides can differ there without either being wrong."
+        "Agreement: |ln(measured/from table)| within √(δ_m² + δ_t²), δ_m the measured interval's half-width (log) on the table's side, δ_t the table's uncertainty (u dB in L(f) is a factor 10^(u/20) in σ); compared only where at most {:.0} % of σ² comes from below the table's lowest offset, and from 2τ0 when f_h is 1/(2τ0) (at τ0 a sampled record's σ depends on how the instrument sampled).",
+        tauwise::stability::MAX_BELOW_TABLE * 100.0
     );
     s
 }

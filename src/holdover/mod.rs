@@ -14,15 +14,23 @@
 //! - x_noise — the power-law noise model's random phase ([`paths`]).
 //!
 //! The random part is a seeded Monte Carlo: each path draws x_noise, and
-//! errors δy0 ~ N(0, σ_y0²) and δD ~ N(0, σ_D²) of the estimated frequency and
-//! aging; percentiles p50, p95, p99 of |TE(t)| over the paths are reported at
-//! log-spaced t. The paths are simulated at a step suited to the span
-//! (span / steps), not at τ0.
+//! errors δy0 and δD of the estimated frequency and aging, jointly normal
+//! with the standard uncertainties and the correlation found by a
+//! parametric bootstrap of the fit ([`fit`]); percentiles p50, p95, p99 of
+//! |TE(t)| over the paths are reported at log-spaced t. The paths are
+//! simulated at a step suited to the span (span / steps), not at τ0.
+//!
+//! y0 is either estimated on the record (above) or given — for a
+//! disciplined unit the frequency error when the reference is lost is the
+//! loop's residual, not the free-running offset the record shows — with its
+//! own standard uncertainty.
 //!
 //! When holdover starts inside the record, the rest of the record is set
 //! beside the prediction ([`observed`]).
 
 pub mod aging;
+pub mod calibration;
+pub mod fit;
 pub mod observed;
 pub mod paths;
 
@@ -65,9 +73,65 @@ pub struct HoldoverModel {
     pub temp_worst: f64,
     /// The power-law noise model of the random part.
     pub noise: PowerLaw,
+    /// Where y0 and the uncertainties came from, and the correlation of the
+    /// y0 and aging errors.
+    pub uncertainty: Uncertainty,
 }
 
+/// Where the starting frequency and the uncertainties of a
+/// [`HoldoverModel`] came from (the default: nothing estimated, nothing
+/// correlated).
+#[derive(Debug, Clone, Copy, PartialEq, Default, serde::Serialize)]
+pub struct Uncertainty {
+    /// y0 estimated over this settle window at the record's end, s (`None`:
+    /// y0 given).
+    pub y0_window: Option<f64>,
+    /// The aging law was given, not fitted.
+    pub aging_given: bool,
+    /// Correlation of the errors of y0 and of the aging parameter; the
+    /// Monte Carlo draws them jointly.
+    pub y0_aging_corr: f64,
+    /// Bootstrap records behind the uncertainties ([`fit::bootstrap`]; 0
+    /// when nothing was estimated).
+    pub replicates: usize,
+    /// Sampling step of the bootstrap records, s.
+    pub bootstrap_step: f64,
+}
+
+/// A fitted aging parameter is called significant when it is at least this
+/// many standard uncertainties from zero.
+pub const SIGNIFICANT_Z: f64 = 2.0;
+
 impl HoldoverModel {
+    /// The fitted aging parameter in standard uncertainties, |param|/σ;
+    /// `None` when the aging was given (or has no uncertainty).
+    pub fn aging_z(&self) -> Option<f64> {
+        let (p, s) = match self.aging {
+            Aging::Linear { d, d_sigma, .. } => (d, d_sigma),
+            Aging::Log { a, a_sigma, .. } => (a, a_sigma),
+        };
+        (!self.uncertainty.aging_given && s > 0.0).then(|| p.abs() / s)
+    }
+
+    /// Whether the fitted aging is significant at [`SIGNIFICANT_Z`]σ
+    /// (`None` when given).
+    pub fn aging_significant(&self) -> Option<bool> {
+        self.aging_z().map(|z| z >= SIGNIFICANT_Z)
+    }
+
+    /// A sentence on the aging's significance, for the outputs (`None` when
+    /// the aging was given).
+    pub fn aging_significance_words(&self) -> Option<String> {
+        let z = self.aging_z()?;
+        Some(if z >= SIGNIFICANT_Z {
+            format!("the fitted aging is {z:.1}σ from zero: significant at {SIGNIFICANT_Z}σ")
+        } else {
+            format!(
+                "the fitted aging is {z:.1}σ from zero: not significant at {SIGNIFICANT_Z}σ (the record does not show aging beyond its noise); the prediction keeps the fitted value and draws it per path from its uncertainty"
+            )
+        })
+    }
+
     /// te0 + y0·t + TE_a(t) (no temperature, no noise).
     pub fn base(&self, t: f64) -> f64 {
         self.te0 + self.y0 * t + self.aging.te(self.start, t)
@@ -242,6 +306,11 @@ pub fn predict(model: &HoldoverModel, settings: &Settings) -> Result<Prediction>
         .map(|k| model.aging.te_per_unit(model.start, k as f64 * step))
         .collect();
     let (sy0, sd) = (model.y0_sigma.abs(), model.aging.sigma().abs());
+    let rho = if model.uncertainty.y0_aging_corr.is_finite() {
+        model.uncertainty.y0_aging_corr.clamp(-1.0, 1.0)
+    } else {
+        0.0
+    };
     // te[p*n + (k−1)] = signed TE of path p at step k (k = 1 … n).
     let mut te = vec![0.0f64; np * n];
     te.par_chunks_mut(n).enumerate().for_each_init(
@@ -250,8 +319,10 @@ pub fn predict(model: &HoldoverModel, settings: &Settings) -> Result<Prediction>
             let mut rng = ChaCha8Rng::seed_from_u64(settings.seed);
             rng.set_stream(p as u64);
             gen.fill(&mut rng, x);
-            let dy: f64 = sy0 * rng.sample::<f64, _>(StandardNormal);
-            let dd: f64 = sd * rng.sample::<f64, _>(StandardNormal);
+            let z1: f64 = rng.sample(StandardNormal);
+            let z2: f64 = rng.sample(StandardNormal);
+            let dy = sy0 * z1;
+            let dd = sd * (rho * z1 + (1.0 - rho * rho).sqrt() * z2);
             for k in 1..=n {
                 let t = k as f64 * step;
                 row[k - 1] = base[k] + dy * t + dd * unit[k] + x[k];
@@ -382,10 +453,17 @@ pub struct FromRecord {
     pub aging_model: AgingModel,
     /// A given linear aging rate (1/s), used instead of a fit.
     pub aging_given: Option<f64>,
+    /// A given frequency error at the start of holdover and its standard
+    /// uncertainty, used instead of the record's end.
+    pub y0_given: Option<(f64, f64)>,
     /// Worst-case temperature offset |c_T·ΔT| (fractional).
     pub temp_worst: f64,
     /// A given noise model; default: fitted on the record ([`fit_noise`]).
     pub noise: Option<PowerLaw>,
+    /// Bootstrap records for the uncertainties ([`fit::bootstrap`]).
+    pub replicates: usize,
+    /// Seed of the bootstrap records.
+    pub seed: u64,
 }
 
 impl Default for FromRecord {
@@ -396,8 +474,11 @@ impl Default for FromRecord {
             start: None,
             aging_model: AgingModel::Linear,
             aging_given: None,
+            y0_given: None,
             temp_worst: 0.0,
             noise: None,
+            replicates: fit::REPLICATES,
+            seed: 1,
         }
     }
 }
@@ -408,11 +489,13 @@ impl Default for FromRecord {
 /// 2. the aging law is fitted on its frequency ([`aging`]), or taken as given;
 /// 3. the noise model is fitted on the record with the aging removed
 ///    ([`fit_noise`]), unless given;
-/// 4. y0 = ȳ_W + [y_a(T_s) − mean_W y_a], the mean frequency over the last
-///    settle window W carried to its end by the aging law, with
-///    σ_y0² = σ_y²(W) (the model's Allan variance at τ = W: the usual
-///    measure of how far a W-average can be from the next one, common
-///    practice) + (σ_param · ∂y_a/∂param · carry)².
+/// 4. y0 is given, or ŷ0 = ȳ_W + [y_a(T_s) − mean_W y_a], the mean frequency
+///    over the last settle window W carried to its end by the aging law
+///    ([`fit::estimate_y0`]);
+/// 5. the standard uncertainties of the aging parameter and of ŷ0, and the
+///    correlation of their errors, come from a parametric bootstrap of the
+///    fit on records drawn from the noise model of step 3 plus the law
+///    ([`fit::bootstrap`]); a given y0 keeps its given uncertainty.
 pub fn model_from_record(rec: &Record, opts: &FromRecord) -> Result<HoldoverModel> {
     // A worst-case temperature offset is a fractional frequency: one of 1
     // or more (or not finite) is not a clock's, and would only overflow.
@@ -439,8 +522,15 @@ pub fn model_from_record(rec: &Record, opts: &FromRecord) -> Result<HoldoverMode
             "holdover needs at least 16 valid frequency samples before the start, got {valid}"
         )));
     }
+    if let Some((v, s)) = opts.y0_given {
+        if !(v.is_finite() && s.is_finite() && s >= 0.0) {
+            return Err(Error::invalid(format!(
+                "the given y0 must be a finite fractional frequency with a standard uncertainty ≥ 0, got {v} ± {s}"
+            )));
+        }
+    }
     let ts = y.y.len() as f64 * tau0;
-    let aging = match opts.aging_given {
+    let mut aging = match opts.aging_given {
         Some(d) => Aging::Linear {
             c: 0.0,
             d,
@@ -463,36 +553,58 @@ pub fn model_from_record(rec: &Record, opts: &FromRecord) -> Result<HoldoverMode
         Some(m) => m,
         None => fit_noise(&residual.to_phase())?.model,
     };
-    let w = opts.settle.unwrap_or(ts / 10.0);
-    if !(w.is_finite() && w >= tau0 && w <= ts) {
-        return Err(Error::invalid(format!(
-            "settle window {w} s must lie between τ0 = {tau0} s and the record used ({ts} s)"
-        )));
-    }
-    let first = y.y.len() - ((w / tau0).round() as usize).max(1);
-    let (mut sy, mut sa, mut k) = (0.0, 0.0, 0usize);
-    for i in first..y.y.len() {
-        let v = y.y[i];
-        if !v.is_nan() {
-            sy += v;
-            sa += aging.y((i as f64 + 0.5) * tau0);
-            k += 1;
+    let window = match opts.y0_given {
+        Some(_) => None,
+        None => {
+            let w = opts.settle.unwrap_or(ts / 10.0);
+            if !(w.is_finite() && w >= tau0 && w <= ts) {
+                return Err(Error::invalid(format!(
+                    "settle window {w} s must lie between τ0 = {tau0} s and the record used ({ts} s)"
+                )));
+            }
+            Some(w)
+        }
+    };
+    let y0_hat = match window {
+        Some(w) => Some(fit::estimate_y0(
+            &y,
+            &aging,
+            ((w / tau0).round() as usize).max(1),
+        )?),
+        None => None,
+    };
+    let source = match opts.aging_given {
+        Some(_) => fit::AgingSource::Given,
+        None => fit::AgingSource::Fitted(opts.aging_model),
+    };
+    let spread = if matches!(source, fit::AgingSource::Given) && window.is_none() {
+        None
+    } else {
+        Some(fit::bootstrap(&fit::BootstrapSpec {
+            noise: &noise,
+            law: &aging,
+            source,
+            window,
+            span: ts,
+            tau0,
+            replicates: opts.replicates,
+            seed: opts.seed,
+        })?)
+    };
+    if let Some(sp) = &spread {
+        match &mut aging {
+            Aging::Linear { d_sigma, .. } if opts.aging_given.is_none() => {
+                *d_sigma = sp.param_sigma
+            }
+            Aging::Log { a_sigma, .. } => *a_sigma = sp.param_sigma,
+            _ => {}
         }
     }
-    if k == 0 {
-        return Err(Error::insufficient(
-            "the settle window holds no valid frequency sample",
-        ));
-    }
-    let carry = aging.y(ts) - sa / k as f64;
-    let y0 = sy / k as f64 + carry;
-    // ∂carry/∂param: for the linear law carry = D·(ts − t̄), for the log law carry ∝ A.
-    let param = match aging {
-        Aging::Linear { d, .. } => d,
-        Aging::Log { a, .. } => a,
+    let (y0, y0_sigma) = match (opts.y0_given, y0_hat) {
+        (Some((v, s)), _) => (v, s),
+        (None, Some(v)) => (v, spread.map_or(0.0, |sp| sp.y0_sigma)),
+        (None, None) => (0.0, 0.0),
     };
-    let carry_per_unit = if param != 0.0 { carry / param } else { 0.0 };
-    let y0_sigma = (noise.avar(w) + (aging.sigma() * carry_per_unit).powi(2)).sqrt();
     Ok(HoldoverModel {
         te0: opts.te0,
         y0,
@@ -501,6 +613,16 @@ pub fn model_from_record(rec: &Record, opts: &FromRecord) -> Result<HoldoverMode
         start: ts,
         temp_worst: opts.temp_worst,
         noise,
+        uncertainty: Uncertainty {
+            y0_window: window,
+            aging_given: opts.aging_given.is_some(),
+            y0_aging_corr: match window {
+                Some(_) => spread.map_or(0.0, |sp| sp.corr),
+                None => 0.0,
+            },
+            replicates: spread.map_or(0, |sp| sp.replicates),
+            bootstrap_step: spread.map_or(0.0, |sp| sp.step),
+        },
     })
 }
 
@@ -508,16 +630,13 @@ pub fn model_from_record(rec: &Record, opts: &FromRecord) -> Result<HoldoverMode
 pub const FIT_ESTIMATORS: [Estimator; 2] = [Estimator::Oadev, Estimator::Mdev];
 
 /// Fit the power-law model of the random part on a phase record (normally
-/// the record with its aging law removed, so that drift is not taken for
-/// RWFM): the project's record fit, [`crate::stability::fit_record_model`]
-/// (OADEV and MDEV on the octave grid, EDF-weighted, f_h = 1/(2τ0)).
+/// the record with its aging law removed): [`fit::fit_noise`] (OHDEV at
+/// every octave τ and MDEV at short τ, EDF-weighted, f_h = 1/(2τ0)).
 pub fn fit_noise(phase: &PhaseRecord) -> Result<ModelFit> {
-    crate::stability::fit_record_model(phase, &crate::tau::TauGrid::Octave)
-        .map(|m| m.fit)
-        .map_err(|e| match e {
-            Error::Insufficient(msg) => {
-                Error::insufficient(format!("{msg}: give the model with --model"))
-            }
-            other => other,
-        })
+    fit::fit_noise(phase).map_err(|e| match e {
+        Error::Insufficient(msg) => {
+            Error::insufficient(format!("{msg}: give the model with --model"))
+        }
+        other => other,
+    })
 }

@@ -65,7 +65,7 @@ impl Observed {
 /// let rec = Record::Phase(PhaseRecord::new(x, 1.0).unwrap());
 /// let model = HoldoverModel { te0: 0.0, y0: 1e-9, y0_sigma: 0.0,
 ///     aging: Aging::Linear { c: 0.0, d: 0.0, d_sigma: 0.0 }, start: 100.0,
-///     temp_worst: 0.0, noise: PowerLaw::zero(0.5) };
+///     temp_worst: 0.0, noise: PowerLaw::zero(0.5), uncertainty: Default::default() };
 /// let pred = Prediction { te: vec![TePoint { t: 50.0, deterministic: 5e-8,
 ///     p50: 5e-8, p95: 6e-8, p99: 7e-8, rms: 5e-8 }], holds_for: None,
 ///     judgement: Judgement::judged(false, Coverage::Full), step: 1.0, paths: 100 };

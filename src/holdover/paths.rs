@@ -130,14 +130,29 @@ impl NoisePaths {
     /// Fill `out` (length n + 1) with one path x_0 … x_n, x_0 = 0, seconds,
     /// drawing every term from `rng` in turn.
     pub fn fill(&self, rng: &mut ChaCha8Rng, out: &mut [f64]) {
+        self.fill_with_level(rng, out);
+    }
+
+    /// [`NoisePaths::fill`], returning as well the frequency level of the
+    /// random-walk FM term at the path's end, (x_n − x_{n−1})/Δ of that term
+    /// alone (0 without RWFM). RWFM is the one term whose frequency is a
+    /// state that carries on: a path that continues from the end starts at
+    /// that frequency ([`super::fit`] uses it as the true y0 of a bootstrap
+    /// record).
+    pub fn fill_with_level(&self, rng: &mut ChaCha8Rng, out: &mut [f64]) -> f64 {
         let len = (self.n + 1).min(out.len());
         out.iter_mut().for_each(|v| *v = 0.0);
+        let mut level = 0.0;
         for &(alpha, h) in &self.terms {
             let x = power_law_phase(alpha, h, self.step, len, rng);
             let x0 = x[0];
             for (o, v) in out.iter_mut().zip(&x) {
                 *o += v - x0;
             }
+            if alpha == -2 && len >= 2 {
+                level = (x[len - 1] - x[len - 2]) / self.step;
+            }
         }
+        level
     }
 }

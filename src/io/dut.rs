@@ -10,6 +10,8 @@
 //! path. Paths are relative to the DUT file's directory (`..` is allowed).
 
 use crate::io::ReadError;
+use crate::prepare::pipeline::Steps;
+use crate::prepare::DriftModel;
 use crate::record::DataKind;
 use crate::units::{self, ValueUnit};
 use serde::Deserialize;
@@ -52,6 +54,10 @@ struct RawSeries {
     units: Option<Spanned<String>>,
     value_column: Option<Spanned<i64>>,
     time_column: Option<Spanned<i64>>,
+    drift: Option<Spanned<String>>,
+    outliers: Option<Spanned<toml::Value>>,
+    fill_gaps: Option<Spanned<bool>>,
+    bandwidth: Option<Spanned<toml::Value>>,
 }
 
 #[derive(Debug, Deserialize)]
@@ -61,6 +67,7 @@ struct RawTable {
     path: Spanned<String>,
     quantity: Option<Spanned<String>>,
     carrier: Option<Spanned<toml::Value>>,
+    uncertainty: Option<Spanned<toml::Value>>,
 }
 
 #[derive(Debug, Deserialize)]
@@ -100,6 +107,8 @@ struct RawHoldover {
     settle: Option<Spanned<toml::Value>>,
     paths: Option<Spanned<i64>>,
     seed: Option<u64>,
+    y0: Option<Spanned<toml::Value>>,
+    y0_sigma: Option<Spanned<toml::Value>>,
 }
 
 // ---------------------------------------------------------- resolved schema
@@ -146,7 +155,24 @@ pub struct TimeSource {
     pub value_column: Option<usize>,
     /// 1-based time column.
     pub time_column: Option<usize>,
+    /// How the record is prepared before analysis (outliers, drift, gap
+    /// filling; [`crate::prepare::pipeline`]). A `[[record]]` removes a
+    /// linear drift unless its `drift` key says otherwise
+    /// ([`RECORD_STEPS`]); a `[[tie]]` capture is analysed as read.
+    pub prepare: Steps,
+    /// The record's measurement bandwidth, Hz, when stated (`None`: the
+    /// Nyquist frequency 1/(2τ0)).
+    pub bandwidth: Option<f64>,
 }
+
+/// The preparation of a `[[record]]` when its DUT entry says nothing: a
+/// linear drift removed for the stability picture (aging would otherwise
+/// read as random-walk FM), every sample kept, gaps left as gaps.
+pub const RECORD_STEPS: Steps = Steps {
+    outliers: None,
+    drift: Some(DriftModel::Linear),
+    fill_gaps: false,
+};
 
 /// What an L(f) table holds.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -184,6 +210,9 @@ pub struct LfSource {
     pub quantity: LfQuantity,
     /// Carrier ν0 in Hz (the table's own, else the device's).
     pub carrier: f64,
+    /// The table's own uncertainty in dB of L(f), when stated (`None`: the
+    /// default of [`crate::stability::DEFAULT_TABLE_UNCERTAINTY_DB`]).
+    pub uncertainty_db: Option<f64>,
 }
 
 /// A Butterworth weighting filter on the jitter integral (|H|² of order n).
@@ -256,6 +285,11 @@ pub struct HoldoverSpec {
     pub paths: Option<usize>,
     /// Seed.
     pub seed: Option<u64>,
+    /// Fractional-frequency error at the start of holdover, when given
+    /// (instead of the record's end).
+    pub y0: Option<f64>,
+    /// Standard uncertainty of the given y0.
+    pub y0_sigma: Option<f64>,
 }
 
 // ------------------------------------------------------------------ reading
@@ -630,6 +664,62 @@ impl Dut {
                     Some(n) => return cx.err(n.span(), &k("name"), "expected a non-empty name"),
                     None => file_stem(&path),
                 };
+                let only_records =
+                    "applies to a [[record]] only (a TIE capture is analysed as read)";
+                let mut prepare = if tie { Steps::default() } else { RECORD_STEPS };
+                if let Some(d) = &r.drift {
+                    if tie {
+                        return cx.err(d.span(), &k("drift"), only_records);
+                    }
+                    prepare.drift = match d.get_ref().trim() {
+                        "none" => None,
+                        "linear" => Some(DriftModel::Linear),
+                        "quadratic" => Some(DriftModel::Quadratic),
+                        other => {
+                            return cx.err(
+                                d.span(),
+                                &k("drift"),
+                                format!("expected none, linear or quadratic, got '{other}'"),
+                            )
+                        }
+                    };
+                }
+                if let Some(o) = &r.outliers {
+                    if tie {
+                        return cx.err(o.span(), &k("outliers"), only_records);
+                    }
+                    let v = match o.get_ref() {
+                        toml::Value::Integer(i) => Some(*i as f64),
+                        toml::Value::Float(f) => Some(*f),
+                        _ => None,
+                    };
+                    match v {
+                        Some(v) if v.is_finite() && v > 0.0 => prepare.outliers = Some(v),
+                        _ => {
+                            return cx.err(
+                                o.span(),
+                                &k("outliers"),
+                                format!(
+                                    "expected a positive number of scaled MADs such as 5, got {}",
+                                    value_text(o.get_ref())
+                                        .map(|t| format!("'{t}'"))
+                                        .unwrap_or_else(|| type_name(o.get_ref()).into())
+                                ),
+                            )
+                        }
+                    }
+                }
+                if let Some(f) = &r.fill_gaps {
+                    if tie {
+                        return cx.err(f.span(), &k("fill_gaps"), only_records);
+                    }
+                    prepare.fill_gaps = *f.get_ref();
+                }
+                let bandwidth = match &r.bandwidth {
+                    Some(b) if tie => return cx.err(b.span(), &k("bandwidth"), only_records),
+                    Some(b) => Some(cx.frequency(b, &k("bandwidth"))?),
+                    None => None,
+                };
                 out.push(TimeSource {
                     name,
                     path,
@@ -638,6 +728,8 @@ impl Dut {
                     units: units_,
                     value_column: cx.column(&r.value_column, &k("value_column"))?,
                     time_column: cx.column(&r.time_column, &k("time_column"))?,
+                    prepare,
+                    bandwidth,
                 });
             }
             Ok(out)
@@ -678,7 +770,32 @@ impl Dut {
                     }
                 },
             };
+            let uncertainty_db = match &t.uncertainty {
+                None => None,
+                Some(u) => {
+                    let text = value_text(u.get_ref()).unwrap_or_default();
+                    let num = text.trim().strip_suffix("dB").unwrap_or(&text).trim();
+                    match num.parse::<f64>() {
+                        Ok(v) if v.is_finite() && (0.0..=20.0).contains(&v) => Some(v),
+                        _ => {
+                            return cx.err(
+                                u.span(),
+                                &k("uncertainty"),
+                                format!(
+                                    "expected the table's uncertainty in dB from 0 to 20, e.g. \"2dB\", got {}",
+                                    if text.is_empty() {
+                                        type_name(u.get_ref()).to_string()
+                                    } else {
+                                        format!("'{text}'")
+                                    }
+                                ),
+                            )
+                        }
+                    }
+                }
+            };
             phase_noise.push(LfSource {
+                uncertainty_db,
                 name: t
                     .name
                     .as_ref()
@@ -964,7 +1081,45 @@ impl Dut {
                         )
                     }
                 };
+                let fraction = |v: &Option<Spanned<toml::Value>>,
+                                key: &str|
+                 -> Result<Option<f64>, ReadError> {
+                    match v {
+                        None => Ok(None),
+                        Some(x) => {
+                            let Some(text) = value_text(x.get_ref()) else {
+                                return cx.err(
+                                    x.span(),
+                                    key,
+                                    format!(
+                                        "expected a fractional frequency such as 1e-12 or \"0.5ppb\", got {}",
+                                        type_name(x.get_ref())
+                                    ),
+                                );
+                            };
+                            units::parse_fraction(&text)
+                                .map(Some)
+                                .or_else(|e| cx.err(x.span(), key, e))
+                        }
+                    }
+                };
+                let y0 = fraction(&h.y0, "holdover.y0")?;
+                let y0_sigma = fraction(&h.y0_sigma, "holdover.y0_sigma")?;
+                if let (Some(s), Some(v)) = (&h.y0_sigma, y0_sigma) {
+                    if y0.is_none() {
+                        return cx.err(
+                            s.span(),
+                            "holdover.y0_sigma",
+                            "goes with holdover.y0 (the frequency error at the start of holdover)",
+                        );
+                    }
+                    if v < 0.0 {
+                        return cx.err(s.span(), "holdover.y0_sigma", "expected a value ≥ 0");
+                    }
+                }
                 Some(HoldoverSpec {
+                    y0,
+                    y0_sigma,
                     budget,
                     spans,
                     record,

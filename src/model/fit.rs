@@ -93,7 +93,30 @@ const NUMERIC_BELOW_N: f64 = 64.0;
 const NUMERIC_BELOW_FH: f64 = 200.0;
 
 /// The variance of the unit power law h_α = 1 at a point (module notes).
+/// The numerical integrals are remembered per thread (a fit of many
+/// records on one τ grid, as a Monte Carlo does, makes each only once).
 pub fn basis(kind: VarKind, alpha: i32, tau: f64, tau0: f64, f_h: f64) -> f64 {
+    type Key = (VarKind, i32, u64, u64, u64);
+    thread_local! {
+        static SEEN: std::cell::RefCell<std::collections::HashMap<Key, f64>> =
+            std::cell::RefCell::new(std::collections::HashMap::new());
+    }
+    let key = (kind, alpha, tau.to_bits(), tau0.to_bits(), f_h.to_bits());
+    if let Some(v) = SEEN.with(|m| m.borrow().get(&key).copied()) {
+        return v;
+    }
+    let v = basis_uncached(kind, alpha, tau, tau0, f_h);
+    SEEN.with(|m| {
+        let mut m = m.borrow_mut();
+        if m.len() > 100_000 {
+            m.clear();
+        }
+        m.insert(key, v);
+    });
+    v
+}
+
+fn basis_uncached(kind: VarKind, alpha: i32, tau: f64, tau0: f64, f_h: f64) -> f64 {
     let n = tau / tau0;
     let short_fh = alpha > 0 && 2.0 * std::f64::consts::PI * f_h * tau < NUMERIC_BELOW_FH;
     if n < NUMERIC_BELOW_N || short_fh {

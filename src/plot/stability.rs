@@ -18,10 +18,19 @@ pub struct SigmaCurve {
     pub time_deviation: bool,
 }
 
+/// The estimator a derived curve comes from: `oadev` for `oadev-from-lf`,
+/// `oadev-from-lf-full-band` or `oadev-from-model`; `None` for a measured
+/// curve.
+pub fn derived_from(name: &str) -> Option<&str> {
+    ["-from-lf", "-from-model"]
+        .iter()
+        .find_map(|s| name.find(s).map(|i| &name[..i]))
+}
+
 /// Names of the estimators whose values are times (s) rather than σ_y.
 /// (NIST SP 1065: TDEV and TTOT; ITU-T G.810: MTIE and TIE rms.)
 pub fn is_time_deviation(name: &str) -> bool {
-    let base = name.strip_suffix("-from-lf").unwrap_or(name);
+    let base = derived_from(name).unwrap_or(name);
     matches!(base, "tdev" | "ttot" | "mtie" | "tierms")
 }
 
@@ -35,7 +44,7 @@ impl SigmaCurve {
                 .iter()
                 .map(|p| XY::with_interval(p.estimate.tau, p.estimate.value, p.lo, p.hi))
                 .collect(),
-            derived: c.estimator.ends_with("-from-lf") || c.estimator.ends_with("-from-model"),
+            derived: derived_from(&c.estimator).is_some(),
             time_deviation: is_time_deviation(&c.estimator),
         }
     }
@@ -228,12 +237,7 @@ impl StabilityPlot {
         let mut colour_of: Vec<(String, usize)> = Vec::new();
         for c in self.curves.iter().filter(|c| c.time_deviation == time) {
             // A derived curve takes the colour of the curve it derives from.
-            let base = c
-                .name
-                .strip_suffix("-from-lf")
-                .or_else(|| c.name.strip_suffix("-from-model"))
-                .unwrap_or(&c.name)
-                .to_string();
+            let base = derived_from(&c.name).unwrap_or(&c.name).to_string();
             let idx = match colour_of.iter().find(|(n, _)| *n == base) {
                 Some((_, i)) if c.derived => *i,
                 _ => {

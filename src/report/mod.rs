@@ -87,13 +87,46 @@ pub struct StabilityRow {
     pub terms: usize,
 }
 
-/// Frequency stability: the σ–τ chart and its table.
+/// What a record looks like before analysis: the figures `tauwise
+/// inspect` gives, with the drift's standard uncertainty.
+#[derive(Debug, Clone, PartialEq)]
+pub struct DataQuality {
+    /// Samples, gaps included.
+    pub points: usize,
+    /// Sampling interval, s.
+    pub tau0: f64,
+    /// Time covered, s.
+    pub span: f64,
+    /// Missing samples.
+    pub gaps: usize,
+    /// Runs of missing samples.
+    pub gap_runs: usize,
+    /// The longest run of missing samples, s.
+    pub longest_gap: f64,
+    /// Mean fractional-frequency offset.
+    pub offset: Option<f64>,
+    /// Linear frequency drift per day (least squares on y).
+    pub drift_per_day: Option<f64>,
+    /// Its standard uncertainty per day (parametric bootstrap on the
+    /// record's noise model), when found.
+    pub drift_sigma_per_day: Option<f64>,
+    /// Frequency outliers beyond the record's MAD limit, each with its time
+    /// (taken out only when the DUT file asks).
+    pub outliers: Option<crate::prepare::pipeline::OutlierReport>,
+}
+
+/// Frequency stability of one record: the σ–τ chart and its table.
 #[derive(Debug, Clone, PartialEq)]
 pub struct StabilitySection {
     /// Which record.
     pub source: String,
-    /// The chart.
-    pub plot: StabilityPlot,
+    /// The record as read.
+    pub quality: Option<DataQuality>,
+    /// What was done to the record before the analysis, in words (drift
+    /// removed with its value ± σ, outliers with their times, gaps filled).
+    pub preparation: Vec<String>,
+    /// The chart (`None` when the record gave no σ(τ); see `notes`).
+    pub plot: Option<StabilityPlot>,
     /// The table (one row per estimator and τ).
     pub rows: Vec<StabilityRow>,
     /// Confidence level of the intervals.
@@ -128,9 +161,11 @@ pub struct NoiseIdRow {
     pub method: String,
 }
 
-/// The noise model.
+/// The noise model of one record.
 #[derive(Debug, Clone, PartialEq)]
 pub struct NoiseModelSection {
+    /// Which record.
+    pub source: String,
     /// The model string accepted by `--model`.
     pub model_string: String,
     /// The terms.
@@ -186,45 +221,17 @@ pub struct PhaseNoiseSection {
     pub notes: Vec<String>,
 }
 
-/// One row of the short/long-τ consistency check.
-#[derive(Debug, Clone, PartialEq)]
-pub struct ConsistencyRow {
-    /// τ (s).
-    pub tau: f64,
-    /// Measured deviation.
-    pub measured: f64,
-    /// Its interval.
-    pub lo: Option<f64>,
-    /// Its interval.
-    pub hi: Option<f64>,
-    /// Deviation converted from phase noise.
-    pub converted: f64,
-}
-
-impl ConsistencyRow {
-    /// measured / converted.
-    pub fn ratio(&self) -> f64 {
-        self.measured / self.converted
-    }
-    /// Whether the converted value lies in the measured interval (None
-    /// without an interval).
-    pub fn inside(&self) -> Option<bool> {
-        match (self.lo, self.hi) {
-            (Some(lo), Some(hi)) => Some(self.converted >= lo && self.converted <= hi),
-            _ => None,
-        }
-    }
-}
-
-/// Short and long τ together.
+/// Short and long τ together, for one record and one table.
 #[derive(Debug, Clone, PartialEq)]
 pub struct CombinedSection {
+    /// Which record.
+    pub source: String,
+    /// Which table.
+    pub table: String,
     /// The σ–τ chart with the measured and converted curves.
     pub plot: StabilityPlot,
-    /// Estimator compared.
-    pub estimator: String,
-    /// Rows where both exist.
-    pub rows: Vec<ConsistencyRow>,
+    /// The comparison at the record's bandwidth.
+    pub comparison: crate::stability::Comparison,
     /// Notes.
     pub notes: Vec<String>,
 }
@@ -363,14 +370,14 @@ pub struct Report {
     pub generated: String,
     /// Verdict summary.
     pub verdicts: Vec<VerdictLine>,
-    /// Frequency stability.
-    pub stability: Part<StabilitySection>,
-    /// Noise model.
-    pub noise_model: Part<NoiseModelSection>,
+    /// Frequency stability, one per record.
+    pub stability: Part<Vec<StabilitySection>>,
+    /// Noise model, one per record.
+    pub noise_model: Part<Vec<NoiseModelSection>>,
     /// Phase noise and jitter.
     pub phase_noise: Part<PhaseNoiseSection>,
-    /// Short and long τ together.
-    pub combined: Part<CombinedSection>,
+    /// Short and long τ together, one per record (against the first table).
+    pub combined: Part<Vec<CombinedSection>>,
     /// Wander.
     pub wander: Part<WanderSection>,
     /// Holdover.
@@ -432,20 +439,35 @@ pub const SECTION_IDS: [(&str, &str); 10] = [
 
 /// Every chart of the report with a file-name stem (`stability`,
 /// `stability-time`, `phase-noise`, `combined`, `wander-mtie`,
-/// `wander-tdev`, `holdover`), for writing them as separate files.
+/// `wander-tdev`, `holdover`; the second and later records' charts get
+/// `-2`, `-3`, …: `stability-2`, `stability-2-time`, `combined-2`), for
+/// writing them as separate files.
 pub fn charts(report: &Report) -> Vec<(String, crate::plot::Chart)> {
     let mut out = Vec::new();
-    if let Part::Done(s) = &report.stability {
-        out.push(("stability".to_string(), s.plot.chart()));
-        if let Some(t) = s.plot.time_chart() {
-            out.push(("stability-time".to_string(), t));
+    let nth = |stem: &str, i: usize| {
+        if i == 0 {
+            stem.to_string()
+        } else {
+            format!("{stem}-{}", i + 1)
+        }
+    };
+    if let Part::Done(list) = &report.stability {
+        for (i, s) in list.iter().enumerate() {
+            if let Some(p) = &s.plot {
+                out.push((nth("stability", i), p.chart()));
+                if let Some(t) = p.time_chart() {
+                    out.push((format!("{}-time", nth("stability", i)), t));
+                }
+            }
         }
     }
     if let Part::Done(s) = &report.phase_noise {
         out.push(("phase-noise".to_string(), s.plot.chart()));
     }
-    if let Part::Done(s) = &report.combined {
-        out.push(("combined".to_string(), s.plot.chart()));
+    if let Part::Done(list) = &report.combined {
+        for (i, s) in list.iter().enumerate() {
+            out.push((nth("combined", i), s.plot.chart()));
+        }
     }
     if let Part::Done(s) = &report.wander {
         for p in &s.plots {

@@ -112,113 +112,193 @@ fn verdicts(h: &mut Html, r: &Report) {
     h.close_section();
 }
 
-fn stability(h: &mut Html, p: &Part<StabilitySection>) -> Result<()> {
+fn quality(h: &mut Html, q: &DataQuality) {
+    let mut pairs = vec![
+        (
+            "span".to_string(),
+            format!(
+                "{} ({}), {} points at τ0 = {}",
+                secs(q.span),
+                format_si(q.span / 3600.0, "h", 4),
+                q.points,
+                secs(q.tau0)
+            ),
+        ),
+        (
+            "gaps".to_string(),
+            if q.gaps == 0 {
+                "none".to_string()
+            } else {
+                format!(
+                    "{} missing samples in {} run{}, the longest {}",
+                    q.gaps,
+                    q.gap_runs,
+                    if q.gap_runs == 1 { "" } else { "s" },
+                    secs(q.longest_gap)
+                )
+            },
+        ),
+        (
+            "frequency offset".to_string(),
+            opt(q.offset, |v| format!("{} (mean of y)", format_sig(v, 4))),
+        ),
+        (
+            "linear drift".to_string(),
+            match (q.drift_per_day, q.drift_sigma_per_day) {
+                (Some(d), Some(sg)) => format!(
+                    "{} ± {} per day (1σ, parametric bootstrap on the record's noise model)",
+                    format_sig(d, 4),
+                    format_sig(sg, 2)
+                ),
+                (Some(d), None) => format!("{} per day", format_sig(d, 4)),
+                _ => "—".into(),
+            },
+        ),
+    ];
+    pairs.push((
+        "outliers".to_string(),
+        match &q.outliers {
+            Some(o) => format!(
+                "{} of {} frequency values beyond {} scaled MADs ({}) from the median",
+                o.events.len(),
+                o.tested,
+                format_sig(o.limit, 3),
+                format_sig(o.mad, 4)
+            ),
+            None => "—".into(),
+        },
+    ));
+    h.dl(&pairs);
+}
+
+fn stability(h: &mut Html, p: &Part<Vec<StabilitySection>>) -> Result<()> {
     let (id, title) = SECTION_IDS[1];
     h.open_section(id, title);
     match p {
         Part::Absent(a) => absent(h, a),
-        Part::Done(s) => {
-            h.p(&format!(
-                "Record: {}. Intervals at {:.1} % confidence.",
-                s.source,
-                s.confidence * 100.0
-            ));
-            let chart = s.plot.chart();
-            let cap = if s.plot.confidence.is_some() {
-                "σ–τ: deviations against averaging time; bars are confidence intervals"
-            } else {
-                "σ–τ: deviations against averaging time"
-            };
-            h.figure(&crate::plot::to_svg_string(&chart, CHART)?, cap);
-            if let Some(tc) = s.plot.time_chart() {
-                h.figure(
-                    &crate::plot::to_svg_string(&tc, CHART)?,
-                    "Time deviations against averaging time",
+        Part::Done(list) => {
+            for s in list {
+                h.el("h3", "", &format!("Record: {}", s.source));
+                if let Some(q) = &s.quality {
+                    h.el("h4", "", "Data quality");
+                    quality(h, q);
+                }
+                if !s.preparation.is_empty() {
+                    h.el("h4", "", "Prepared for the analysis");
+                    h.ul(&s.preparation);
+                }
+                let Some(plot) = &s.plot else {
+                    notes(h, &s.notes);
+                    continue;
+                };
+                h.p(&format!(
+                    "Intervals at {:.1} % confidence.",
+                    s.confidence * 100.0
+                ));
+                let chart = plot.chart();
+                let cap = if plot.confidence.is_some() {
+                    "σ–τ: deviations against averaging time; bars are confidence intervals"
+                } else {
+                    "σ–τ: deviations against averaging time"
+                };
+                h.figure(&crate::plot::to_svg_string(&chart, CHART)?, cap);
+                if let Some(tc) = plot.time_chart() {
+                    h.figure(
+                        &crate::plot::to_svg_string(&tc, CHART)?,
+                        "Time deviations against averaging time",
+                    );
+                }
+                let rows: Vec<Vec<Cell>> = s
+                    .rows
+                    .iter()
+                    .map(|r| {
+                        let time = crate::plot::stability::is_time_deviation(&r.estimator);
+                        let f = |v: f64| if time { secs(v) } else { format_sig(v, 4) };
+                        vec![
+                            t(&r.estimator),
+                            n(tau(r.tau)),
+                            n(r.m.to_string()),
+                            n(f(r.dev)),
+                            n(match (r.lo, r.hi) {
+                                (Some(lo), Some(hi)) => format!("{} … {}", f(lo), f(hi)),
+                                _ => "—".into(),
+                            }),
+                            n(opt(r.edf, |e| format!("{e:.1}"))),
+                            t(r.noise.clone().unwrap_or_else(|| "—".into())),
+                            n(r.terms.to_string()),
+                        ]
+                    })
+                    .collect();
+                h.el("h4", "", "Values");
+                h.table(
+                    "stability",
+                    &[
+                        "estimator",
+                        "τ",
+                        "m",
+                        "deviation",
+                        "interval",
+                        "EDF",
+                        "noise",
+                        "terms",
+                    ],
+                    &rows,
                 );
+                notes(h, &s.notes);
             }
-            let rows: Vec<Vec<Cell>> = s
-                .rows
-                .iter()
-                .map(|r| {
-                    let time = crate::plot::stability::is_time_deviation(&r.estimator);
-                    let f = |v: f64| if time { secs(v) } else { format_sig(v, 4) };
-                    vec![
-                        t(&r.estimator),
-                        n(tau(r.tau)),
-                        n(r.m.to_string()),
-                        n(f(r.dev)),
-                        n(match (r.lo, r.hi) {
-                            (Some(lo), Some(hi)) => format!("{} … {}", f(lo), f(hi)),
-                            _ => "—".into(),
-                        }),
-                        n(opt(r.edf, |e| format!("{e:.1}"))),
-                        t(r.noise.clone().unwrap_or_else(|| "—".into())),
-                        n(r.terms.to_string()),
-                    ]
-                })
-                .collect();
-            h.el("h3", "", "Values");
-            h.table(
-                "stability",
-                &[
-                    "estimator",
-                    "τ",
-                    "m",
-                    "deviation",
-                    "interval",
-                    "EDF",
-                    "noise",
-                    "terms",
-                ],
-                &rows,
-            );
-            notes(h, &s.notes);
         }
     }
     h.close_section();
     Ok(())
 }
 
-fn noise_model(h: &mut Html, p: &Part<NoiseModelSection>) {
+fn noise_model(h: &mut Html, p: &Part<Vec<NoiseModelSection>>) {
     let (id, title) = SECTION_IDS[2];
     h.open_section(id, title);
     match p {
         Part::Absent(a) => absent(h, a),
-        Part::Done(s) => {
-            h.p("Power-law model S_y(f) = Σ h_α f^α (IEEE Std 1139); the string below is accepted by --model:");
-            h.raw("<p><code>").text(&s.model_string).raw("</code></p>");
-            let rows: Vec<Vec<Cell>> = s
-                .terms
-                .iter()
-                .map(|m| {
-                    vec![
-                        n(m.alpha.to_string()),
-                        t(&m.label),
-                        n(format!("{:.3e}", m.h)),
-                        t(m.dominant
-                            .map(|(a, b)| format!("{} … {}", tau(a), tau(b)))
-                            .unwrap_or_else(|| "—".into())),
-                    ]
-                })
-                .collect();
-            h.table("model", &["α", "noise", "h_α", "dominates over τ"], &rows);
-            if !s.identified.is_empty() {
-                h.el("h3", "", "Noise type at each τ");
+        Part::Done(list) => {
+            for s in list {
+                h.el("h3", "", &format!("Record: {}", s.source));
+                if s.model_string.is_empty() {
+                    notes(h, &s.notes);
+                    continue;
+                }
+                h.p("Power-law model S_y(f) = Σ h_α f^α (IEEE Std 1139); the string below is accepted by --model:");
+                h.raw("<p><code>").text(&s.model_string).raw("</code></p>");
                 let rows: Vec<Vec<Cell>> = s
-                    .identified
+                    .terms
                     .iter()
-                    .map(|r| {
+                    .map(|m| {
                         vec![
-                            n(tau(r.tau)),
-                            n(r.alpha.to_string()),
-                            t(&r.label),
-                            t(&r.method),
+                            n(m.alpha.to_string()),
+                            t(&m.label),
+                            n(format!("{:.3e}", m.h)),
+                            t(m.dominant
+                                .map(|(a, b)| format!("{} … {}", tau(a), tau(b)))
+                                .unwrap_or_else(|| "—".into())),
                         ]
                     })
                     .collect();
-                h.table("noise-id", &["τ", "α", "noise", "method"], &rows);
+                h.table("model", &["α", "noise", "h_α", "dominates over τ"], &rows);
+                if !s.identified.is_empty() {
+                    h.el("h4", "", "Noise type at each τ");
+                    let rows: Vec<Vec<Cell>> = s
+                        .identified
+                        .iter()
+                        .map(|r| {
+                            vec![
+                                n(tau(r.tau)),
+                                n(r.alpha.to_string()),
+                                t(&r.label),
+                                t(&r.method),
+                            ]
+                        })
+                        .collect();
+                    h.table("noise-id", &["τ", "α", "noise", "method"], &rows);
+                }
+                notes(h, &s.notes);
             }
-            notes(h, &s.notes);
         }
     }
     h.close_section();
@@ -286,63 +366,94 @@ fn phase_noise(h: &mut Html, p: &Part<PhaseNoiseSection>) -> Result<()> {
     Ok(())
 }
 
-fn combined(h: &mut Html, p: &Part<CombinedSection>) -> Result<()> {
+fn combined(h: &mut Html, p: &Part<Vec<CombinedSection>>) -> Result<()> {
     let (id, title) = SECTION_IDS[4];
     h.open_section(id, title);
     match p {
         Part::Absent(a) => absent(h, a),
-        Part::Done(s) => {
-            h.figure(
-                &crate::plot::to_svg_string(&s.plot.chart(), CHART)?,
-                "Measured deviations (solid) with those converted from phase noise (dashed)",
-            );
-            let judged: Vec<bool> = s.rows.iter().filter_map(|r| r.inside()).collect();
-            let inside = judged.iter().filter(|x| **x).count();
-            if s.rows.is_empty() {
-                h.p_class("absent", "The measured and converted curves share no τ.");
-            } else {
-                h.p(&format!(
-                    "Consistency check ({}): where both exist, {inside} of {} converted values lie inside the measured confidence interval.",
-                    s.estimator,
-                    judged.len()
-                ));
-                let rows: Vec<Vec<Cell>> = s
-                    .rows
-                    .iter()
-                    .map(|r| {
-                        vec![
-                            n(tau(r.tau)),
-                            n(format_sig(r.measured, 4)),
-                            n(match (r.lo, r.hi) {
-                                (Some(a), Some(b)) => {
-                                    format!("{} … {}", format_sig(a, 4), format_sig(b, 4))
-                                }
-                                _ => "—".into(),
-                            }),
-                            n(format_sig(r.converted, 4)),
-                            n(format!("{:.3}", r.ratio())),
-                            t(match r.inside() {
-                                Some(true) => "yes",
-                                Some(false) => "no",
-                                None => "—",
-                            }),
-                        ]
-                    })
-                    .collect();
-                h.table(
-                    "consistency",
-                    &[
-                        "τ",
-                        "measured",
-                        "interval",
-                        "from phase noise",
-                        "ratio",
-                        "inside",
-                    ],
-                    &rows,
+        Part::Done(list) => {
+            for s in list {
+                let c = &s.comparison;
+                h.el(
+                    "h3",
+                    "",
+                    &format!("Record: {} — table: {}", s.source, s.table),
                 );
+                h.figure(
+                    &crate::plot::to_svg_string(&s.plot.chart(), CHART)?,
+                    "Measured deviations (solid) with those from the phase-noise table (dashed)",
+                );
+                match (&c.apart, c.agree()) {
+                    (Some(a), _) => {
+                        h.p_class(
+                            "absent",
+                            &format!(
+                                "No common range: {} — a factor {} apart.",
+                                a.reason,
+                                format_sig(a.factor, 3)
+                            ),
+                        );
+                    }
+                    (None, None) => {
+                        h.p_class(
+                            "absent",
+                            "The two views share τ, but no measured point there has a confidence interval to compare with.",
+                        );
+                    }
+                    (None, Some(all)) => {
+                        let agree = c.points.iter().filter(|p| p.agree).count();
+                        h.p(&format!(
+                            "{} ({}) from {} to {}: {agree} of {} τ agree{}.",
+                            if all {
+                                "The two views agree"
+                            } else {
+                                "The two views disagree"
+                            },
+                            c.estimator,
+                            c.common.map(|r| tau(r[0])).unwrap_or_default(),
+                            c.common.map(|r| tau(r[1])).unwrap_or_default(),
+                            c.points.len(),
+                            if c.without_interval > 0 {
+                                format!(
+                                    "; {} τ without an interval not compared",
+                                    c.without_interval
+                                )
+                            } else {
+                                String::new()
+                            }
+                        ));
+                        let rows: Vec<Vec<Cell>> = c
+                            .points
+                            .iter()
+                            .map(|r| {
+                                vec![
+                                    n(tau(r.tau)),
+                                    n(format_sig(r.measured, 4)),
+                                    n(format!("{} … {}", format_sig(r.lo, 4), format_sig(r.hi, 4))),
+                                    n(format_sig(r.converted, 4)),
+                                    n(format!("{:.3}", r.ratio)),
+                                    n(format!("±{:.1} %", (r.tolerance.exp() - 1.0) * 100.0)),
+                                    t(if r.agree { "yes" } else { "no" }),
+                                ]
+                            })
+                            .collect();
+                        h.table(
+                            "consistency",
+                            &[
+                                "τ",
+                                "measured",
+                                "interval",
+                                "from the table",
+                                "ratio",
+                                "tolerance",
+                                "agree",
+                            ],
+                            &rows,
+                        );
+                    }
+                }
+                notes(h, &s.notes);
             }
-            notes(h, &s.notes);
         }
     }
     h.close_section();

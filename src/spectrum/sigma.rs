@@ -48,7 +48,6 @@ use super::gt;
 use super::loglog::{Extend, LogLog};
 use super::quad::{adaptive, gl8};
 use super::{Quantity, Spectrum};
-use crate::deviation::{Curve, Point};
 use crate::error::{Error, Result};
 use std::f64::consts::PI;
 
@@ -562,48 +561,6 @@ impl Acc {
     }
 }
 
-/// One row of the comparison between a measured curve and a converted one.
-#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
-pub struct Consistency {
-    /// τ in seconds.
-    pub tau: f64,
-    /// The measured deviation.
-    pub measured: f64,
-    /// The deviation converted from the spectrum.
-    pub converted: f64,
-    /// measured / converted.
-    pub ratio: f64,
-    /// Whether the converted value lies inside the measured confidence
-    /// interval (`None` when the measured point has no interval).
-    pub inside: Option<bool>,
-}
-
-/// Compare a measured curve with converted `(τ, σ)` pairs at every τ both
-/// have (τ equal to 1 part in 10⁶).
-pub fn consistency(measured: &Curve, converted: &[(f64, f64)]) -> Vec<Consistency> {
-    measured
-        .points
-        .iter()
-        .filter_map(|p: &Point| {
-            let t = p.estimate.tau;
-            let &(_, c) = converted
-                .iter()
-                .find(|(tc, _)| (tc - t).abs() <= 1e-6 * t)?;
-            if !gt(c, 0.0) {
-                return None;
-            }
-            let m = p.estimate.value;
-            Some(Consistency {
-                tau: t,
-                measured: m,
-                converted: c,
-                ratio: m / c,
-                inside: p.lo.zip(p.hi).map(|(lo, hi)| lo <= c && c <= hi),
-            })
-        })
-        .collect()
-}
-
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -716,36 +673,5 @@ mod tests {
                 check(&s, est, n * tau0, tau0, fh);
             }
         }
-    }
-
-    #[test]
-    fn consistency_ratio_and_interval() {
-        use crate::deviation::{Curve, Estimate, Point};
-        let pt = |tau: f64, v: f64, lo: Option<f64>, hi: Option<f64>| Point {
-            lo,
-            hi,
-            ..Point::bare(Estimate {
-                tau,
-                m: tau as usize,
-                value: v,
-                terms: 10,
-            })
-        };
-        let c = Curve {
-            estimator: "oadev".into(),
-            points: vec![
-                pt(1.0, 2e-11, Some(1.8e-11), Some(2.2e-11)),
-                pt(2.0, 1.5e-11, Some(1.4e-11), Some(1.6e-11)),
-                pt(4.0, 1e-11, None, None),
-                pt(8.0, 1e-11, None, None),
-            ],
-        };
-        let conv = [(1.0, 2.1e-11), (2.0, 1.0e-11), (4.0, 1e-11)];
-        let r = consistency(&c, &conv);
-        assert_eq!(r.len(), 3);
-        assert!((r[0].ratio - 2.0 / 2.1).abs() < 1e-12);
-        assert_eq!(r[0].inside, Some(true));
-        assert_eq!(r[1].inside, Some(false));
-        assert_eq!(r[2].inside, None);
     }
 }

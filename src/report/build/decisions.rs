@@ -144,16 +144,21 @@ pub(super) fn wander(dut: &Dut, records: &[Loaded], ties: &[Loaded], r: &mut Rep
 }
 
 /// The holdover section and one verdict per span.
-pub(super) fn holdover(dut: &Dut, records: &[Loaded], r: &mut Report) -> Result<()> {
+pub(super) fn holdover(
+    dut: &Dut,
+    records: &[Loaded],
+    work: &[super::time::Worked],
+    r: &mut Report,
+) -> Result<()> {
     let Some(h) = &dut.holdover else {
         r.holdover = Part::not_requested("the DUT file has no [holdover] section.");
         return Ok(());
     };
     let chosen = match &h.record {
-        Some(n) => records.iter().find(|l| &l.src.name == n),
-        None => records.first(),
+        Some(n) => records.iter().position(|l| &l.src.name == n),
+        None => (!records.is_empty()).then_some(0),
     };
-    let Some(l) = chosen else {
+    let Some((l, w)) = chosen.map(|i| (&records[i], work.get(i))) else {
         r.holdover = Part::not_computed("no record to predict from.");
         return Ok(());
     };
@@ -173,9 +178,27 @@ pub(super) fn holdover(dut: &Dut, records: &[Loaded], r: &mut Report) -> Result<
         te0: h.te0.unwrap_or(0.0),
         settle: h.settle,
         aging_given: h.aging,
+        y0_given: h.y0.map(|v| (v, h.y0_sigma.unwrap_or(0.0))),
+        seed: h.seed.unwrap_or(1),
         ..FromRecord::default()
     };
-    let model = match model_from_record(&l.series.record, &opts) {
+    // The record as prepared (outliers and gaps as its DUT entry says),
+    // with its drift kept: holdover fits its own aging law.
+    let (input, prepared_note) = match w.and_then(|w| w.prepared.as_ref()) {
+        Some(p) => (
+            &p.before_drift,
+            if p.outliers.is_some() || p.gaps.is_some() {
+                "The record is used as prepared (outliers taken out, gaps filled as its [[record]] entry says) with its drift kept: the aging law is fitted here, not taken from the stability section."
+            } else {
+                "The record is used with its drift kept: the aging law is fitted here, not taken from the stability section."
+            },
+        ),
+        None => (
+            &l.series.record,
+            "The record is used as read: the aging law is fitted here.",
+        ),
+    };
+    let model = match model_from_record(input, &opts) {
         Ok(m) => m,
         Err(e) => {
             not_computed(r, format!("{}: {e}", l.src.name));
@@ -249,19 +272,55 @@ pub(super) fn holdover(dut: &Dut, records: &[Loaded], r: &mut Report) -> Result<
         ),
         (
             "initial frequency y0".to_string(),
-            format!("{:.4e} ± {:.2e}", model.y0, model.y0_sigma),
+            format!(
+                "{:.4e} ± {:.2e} ({})",
+                model.y0,
+                model.y0_sigma,
+                match model.uncertainty.y0_window {
+                    Some(wdw) => format!(
+                        "mean over the last {} of the record, carried by the aging law",
+                        format_si(wdw / 3600.0, "h", 3)
+                    ),
+                    None => "given in the DUT file".to_string(),
+                }
+            ),
         ),
         (
             format!("aging ({})", model.aging.model().name()),
             format!(
                 "{:.4e} per day at the start{}",
                 model.aging.rate(model.start) * 86400.0,
-                if h.aging.is_some() {
-                    " (given)"
-                } else {
-                    " (fitted)"
+                match model.aging {
+                    _ if h.aging.is_some() => " (given)".to_string(),
+                    crate::holdover::aging::Aging::Linear { d_sigma, .. } => format!(
+                        " ± {:.2e} per day (1σ, fitted; {})",
+                        d_sigma * 86400.0,
+                        model.aging_significance_words().unwrap_or_default()
+                    ),
+                    crate::holdover::aging::Aging::Log { a_sigma, .. } => {
+                        format!(" (fitted, A ± {a_sigma:.2e})")
+                    }
                 }
             ),
+        ),
+        (
+            "uncertainty of y0 and aging".to_string(),
+            if model.uncertainty.replicates > 0 {
+                format!(
+                    "parametric bootstrap: the fit repeated on {} records drawn from the noise model; drawn per Monte Carlo path{}",
+                    model.uncertainty.replicates,
+                    if model.uncertainty.y0_window.is_some() && h.aging.is_none() {
+                        format!(
+                            " jointly (correlation {:+.2})",
+                            model.uncertainty.y0_aging_corr
+                        )
+                    } else {
+                        String::new()
+                    }
+                )
+            } else {
+                "given values".to_string()
+            },
         ),
         ("noise model".to_string(), model.noise.to_model_string()),
         (
@@ -289,7 +348,7 @@ pub(super) fn holdover(dut: &Dut, records: &[Loaded], r: &mut Report) -> Result<
         spans,
         holds_for: pred.holds_for,
         parameters,
-        notes: vec![caution],
+        notes: vec![prepared_note.to_string(), caution],
     });
     Ok(())
 }

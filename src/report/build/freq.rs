@@ -3,18 +3,16 @@
 //! view with its consistency check (σ(τ) converted from the table).
 
 use super::{method, Loaded, LoadedTable};
-use crate::deviation::Curve;
 use crate::io::dut::{Dut, JitterSpec};
 use crate::io::lf_table::read_filter_file;
 use crate::model::fit::fit_sy;
 use crate::plot::phase_noise::{lf_points, BandMark, LfTrace, PhaseNoisePlot, TraceKind};
 use crate::plot::stability::{SigmaCurve, StabilityPlot};
-use crate::plot::XY;
 use crate::report::*;
 use crate::spectrum::jitter::{integrate_band, Band, BandJitter, JitterSetup, Weighting};
-use crate::spectrum::sigma::{consistency, sigma_from_spectrum, SigmaKind};
 use crate::spectrum::welch::{welch, WelchOptions};
 use crate::spectrum::{Quantity, Spectrum};
+use crate::stability::{from_phase_noise, ViewOptions};
 use crate::units::format_si;
 use crate::verdict::Judgement;
 
@@ -283,95 +281,102 @@ pub(super) fn phase_noise(
     Ok(())
 }
 
-/// Measured OADEV against the OADEV converted from the first table.
+/// Each record's measured OADEV against the first table's σ(τ), at the
+/// record's bandwidth and over the τ both cover
+/// ([`crate::stability::from_phase_noise`], the `stability --lf` path).
 pub(super) fn combined(
     dut: &Dut,
     records: &[Loaded],
     tables: &[LoadedTable],
-    curves: &[Curve],
+    work: &[super::time::Worked],
     confidence: f64,
     r: &mut Report,
 ) {
-    let (Some(l), Some(t)) = (records.first(), tables.first()) else {
+    let Some(t) = tables.first() else {
         r.combined = Part::not_requested("needs both a [[record]] and a [[phase_noise]] table.");
         return;
     };
-    let Some(measured) = curves.iter().find(|c| c.estimator == "oadev") else {
-        r.combined = Part::not_computed("no oadev curve from the record.");
-        return;
-    };
-    let tau0 = l.series.record.tau0();
-    // The phase-noise side reaches from τ ≈ 1/f_h up to 1/(the table's
-    // lowest offset), as `tauwise convert` does; it is evaluated on the
-    // record's octave grid extended below τ0, so the two curves share their
-    // common τ values.
-    let (f_lo, f_h) = t.table.spectrum.range();
-    let tau_max = 1.0 / f_lo * (1.0 + 1e-9);
-    // Down to τ0/2¹⁴ at most, so the picture keeps the record's side readable.
-    let k_min = ((1.0 / (f_h * tau0)).log2().ceil() as i32).max(-14);
-    let mut taus: Vec<f64> = (k_min..0).map(|k| tau0 * 2f64.powi(k)).collect();
-    taus.extend(measured.points.iter().map(|p| p.estimate.tau));
-    taus.retain(|&tau| tau <= tau_max);
-    taus.sort_by(f64::total_cmp);
-    taus.dedup();
-    if taus.is_empty() {
-        r.combined = Part::not_computed(format!(
-            "the table's offsets ({} – {}) support no τ of the record.",
-            format_si(f_lo, "Hz", 4),
-            format_si(f_h, "Hz", 4)
-        ));
+    if records.is_empty() {
+        r.combined = Part::not_requested("needs both a [[record]] and a [[phase_noise]] table.");
         return;
     }
-    let converted = match sigma_from_spectrum(&t.table.spectrum, SigmaKind::Adev, &taus, tau0, f_h)
-    {
-        Ok(c) => c,
-        Err(e) => {
-            r.combined = Part::not_computed(format!("σ(τ) from {} failed: {e}", t.src.name));
-            return;
-        }
+    let opts_for = |l: &Loaded| ViewOptions {
+        bandwidth: l.src.bandwidth,
+        table_uncertainty_db: t
+            .src
+            .uncertainty_db
+            .unwrap_or(crate::stability::DEFAULT_TABLE_UNCERTAINTY_DB),
     };
-    let rows: Vec<ConsistencyRow> = consistency(measured, &converted)
-        .into_iter()
-        .map(|c| {
-            let p = measured
-                .points
-                .iter()
-                .find(|p| (p.estimate.tau - c.tau).abs() <= 1e-6 * c.tau);
-            ConsistencyRow {
-                tau: c.tau,
-                measured: c.measured,
-                lo: p.and_then(|p| p.lo),
-                hi: p.and_then(|p| p.hi),
-                converted: c.converted,
+    let mut views = Vec::new();
+    let mut failed = Vec::new();
+    for (l, w) in records.iter().zip(work) {
+        let Some(measured) = w.curves.iter().find(|c| c.estimator == "oadev") else {
+            failed.push(format!("{}: no oadev curve from the record", l.src.name));
+            continue;
+        };
+        let tau0 = l.series.record.tau0();
+        let view = match from_phase_noise(
+            std::slice::from_ref(measured),
+            &t.table.spectrum,
+            tau0,
+            &opts_for(l),
+        ) {
+            Ok(v) => v,
+            Err(e) => {
+                failed.push(format!("{}: {e}", l.src.name));
+                continue;
             }
-        })
-        .collect();
+        };
+        let Some(comparison) = view.comparisons.into_iter().next() else {
+            continue;
+        };
+        let mut curves = vec![SigmaCurve::from_curve(measured)];
+        curves.extend(view.curves.iter().map(SigmaCurve::from_curve));
+        let mut notes = vec![format!(
+            "Both sides at the record's bandwidth f_h = {}{}: σ_y²(τ) = ∫₀^f_h S_y(f)|H(f)|² df from the table; the dashed curve below τ0 is the table with its whole bandwidth ({}), which the record cannot see.",
+            format_si(comparison.f_h, "Hz", 4),
+            if comparison.bandwidth_given {
+                " (as stated in the DUT file)"
+            } else {
+                " = 1/(2τ0)"
+            },
+            format_si(view.table_f_h, "Hz", 4)
+        )];
+        notes.push(format!(
+            "Agreement: |ln(measured/from table)| ≤ √(δ_m² + δ_t²), δ_m the measured interval's half-width (log) on the table's side, δ_t = (u/20)·ln 10 for the table's uncertainty u = {} dB of L(f){}; compared only where at most {:.0} % of σ² comes from below the table's lowest offset, and from 2τ0 when f_h is 1/(2τ0) (at τ0 a sampled record's σ depends on how the instrument sampled).",
+            comparison.table_uncertainty_db,
+            if t.src.uncertainty_db.is_some() {
+                " (stated in the DUT file)"
+            } else {
+                " (common practice when none is stated)"
+            },
+            crate::stability::MAX_BELOW_TABLE * 100.0
+        ));
+        views.push(CombinedSection {
+            source: l.src.name.clone(),
+            table: t.src.name.clone(),
+            plot: StabilityPlot {
+                title: format!("{} — {} and {}", dut.name, l.src.name, t.src.name),
+                curves,
+                regions: Vec::new(),
+                confidence: measured
+                    .points
+                    .iter()
+                    .any(|p| p.lo.is_some())
+                    .then_some(confidence),
+                notes: Vec::new(),
+            },
+            comparison,
+            notes,
+        });
+    }
     r.methods.push(method(
         "σ(τ) from phase noise",
-        "σ_y²(τ) = ∫ S_y(f)|H(f)|² df with |H|² = 2 sin⁴(πfτ)/(πfτ)² (IEEE Std 1139; NIST SP 1065)",
+        "σ_y²(τ) = ∫ S_y(f)|H(f)|² df with |H|² = 2 sin⁴(πfτ)/(πfτ)² (IEEE Std 1139; NIST SP 1065), up to the record's bandwidth",
     ));
-    let converted_curve = SigmaCurve {
-        name: "oadev-from-lf".into(),
-        points: converted.iter().map(|&(t, v)| XY::new(t, v)).collect(),
-        derived: true,
-        time_deviation: false,
+    r.combined = if views.is_empty() {
+        Part::not_computed(failed.join("; "))
+    } else {
+        Part::Done(views)
     };
-    r.combined = Part::Done(CombinedSection {
-        plot: StabilityPlot {
-            title: format!("{} — {} and {}", dut.name, l.src.name, t.src.name),
-            curves: vec![SigmaCurve::from_curve(measured), converted_curve],
-            regions: Vec::new(),
-            confidence: measured.points.iter().any(|p| p.lo.is_some()).then_some(confidence),
-            notes: vec![format!(
-                "Converted with f_h = {} (the table's highest offset); the record's own bandwidth is {}.",
-                format_si(f_h, "Hz", 4),
-                format_si(0.5 / tau0, "Hz", 4)
-            )],
-        },
-        estimator: "oadev".into(),
-        rows,
-        notes: vec![
-            "Where white or flicker phase noise dominates, σ(τ) depends on the measurement bandwidth f_h, so the two domains can differ there without either being wrong.".into(),
-        ],
-    });
 }

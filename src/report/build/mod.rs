@@ -177,15 +177,15 @@ pub fn from_dut_with_progress(
     }
 
     step("stability and noise model");
-    let curves = time::stability(dut, &records, opts, &mut r)?;
-    time::noise_model(&records, opts, &mut r);
+    let work = time::stability(dut, &records, opts, &mut r)?;
+    time::noise_model(&records, &work, opts, &mut r);
     step("phase noise and jitter");
     freq::phase_noise(dut, &records, &tables, &mut r)?;
-    freq::combined(dut, &records, &tables, &curves, opts.confidence, &mut r);
+    freq::combined(dut, &records, &tables, &work, opts.confidence, &mut r);
     step("wander");
     decisions::wander(dut, &records, &ties, &mut r)?;
     step("holdover");
-    decisions::holdover(dut, &records, &mut r)?;
+    decisions::holdover(dut, &records, &work, &mut r)?;
 
     if !r.cautions.iter().any(|c| c == crate::DECISION_CAUTION) {
         r.cautions.insert(0, crate::DECISION_CAUTION.to_string());
