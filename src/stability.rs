@@ -6,7 +6,7 @@
 use crate::deviation::{compute, Curve, Estimator, Point};
 use crate::error::{Error, Result};
 use crate::record::PhaseRecord;
-use crate::stats::{annotate, StatsOptions};
+use crate::stats::{annotate_with, NoiseIdentifier, StatsOptions};
 use crate::tau::TauGrid;
 
 /// What to compute.
@@ -58,11 +58,13 @@ pub fn analyse(x: &PhaseRecord, req: &Request) -> Result<Vec<Curve>> {
         bias_correction: req.bias_correction,
     };
     let n = x.len();
+    // One identification of the record's noise, shared by every estimator.
+    let ids = NoiseIdentifier::new(x);
     let mut curves = Vec::with_capacity(req.estimators.len());
     for &est in &req.estimators {
-        let ms = req.grid.ms(x.tau0, est.max_m(n))?;
+        let ms = req.grid.ms_for(est, x.tau0, n)?;
         let estimates = compute(est, x, &ms);
-        let points = annotate(est, x, &estimates, &opts)?;
+        let points = annotate_with(est, x, &ids, &estimates, &opts)?;
         curves.push(Curve {
             estimator: est.name().to_string(),
             points,
@@ -267,6 +269,7 @@ mod tests {
             hi: Some(hi),
             alpha: Some(0),
             bias: None,
+            drift: false,
         }
     }
 

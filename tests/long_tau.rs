@@ -9,7 +9,8 @@
 use rand::{Rng, SeedableRng};
 use rand_chacha::ChaCha8Rng;
 use rand_distr::{Distribution, StandardNormal};
-use tauwise::deviation::{compute, reference, theo1_edf, Estimate, Estimator};
+use tauwise::deviation::{compute, reference, Estimate, Estimator};
+use tauwise::stats::theo::theo1_edf;
 use tauwise::{FrequencyRecord, PhaseRecord};
 
 /// The TOTDEV EDF tauwise uses (the SP 1065 rule, CHECKS.md D).

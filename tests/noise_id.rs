@@ -6,7 +6,7 @@ use tauwise::deviation::{compute, Estimator};
 use tauwise::model::{parse_noise, PowerLaw};
 use tauwise::simulate::{simulate_phase, SimSpec};
 use tauwise::stats::noise_id::MIN_LAG1_POINTS;
-use tauwise::stats::{annotate, identify, IdMethod, StatsOptions, VarianceKind};
+use tauwise::stats::{annotate, power_law_at, IdMethod, StatsOptions, VarianceKind};
 use tauwise::PhaseRecord;
 
 fn record(alpha: i32, n: usize, seed: u64) -> PhaseRecord {
@@ -46,7 +46,7 @@ fn lag1_identifies_long_records() {
                         if (n - 1) / m + 1 < MIN_LAG1_POINTS {
                             continue;
                         }
-                        let id = identify(&rec.x, 1.0, m, kind).unwrap();
+                        let id = power_law_at(&rec.x, 1.0, m, kind).unwrap();
                         assert_eq!(id.method, IdMethod::Lag1);
                         assert!(kind.alpha_range().contains(&id.alpha));
                         total += 1;
@@ -93,7 +93,7 @@ fn alpha_stays_in_range() {
     for kind in VarianceKind::ALL {
         for rec in [&drift, &gappy, &white] {
             for m in octaves(n) {
-                if let Some(id) = identify(&rec.x, 1.0, m, kind) {
+                if let Some(id) = power_law_at(&rec.x, 1.0, m, kind) {
                     assert!(
                         kind.alpha_range().contains(&id.alpha),
                         "{kind:?} m={m}: {id:?}"
@@ -102,7 +102,7 @@ fn alpha_stays_in_range() {
             }
         }
         // The t⁴ term lands at the red end of the range.
-        let id = identify(&drift.x, 1.0, 64, kind).unwrap();
+        let id = power_law_at(&drift.x, 1.0, 64, kind).unwrap();
         assert_eq!(id.alpha, *kind.alpha_range().start(), "{kind:?}");
     }
 }
@@ -119,7 +119,7 @@ fn short_records_tell_wpm_wfm_rwfm() {
             .into_par_iter()
             .map(|seed| {
                 let rec = record(alpha, 20, 90_000 + seed);
-                let id = identify(&rec.x, 1.0, 1, VarianceKind::OverlappingAllan).unwrap();
+                let id = power_law_at(&rec.x, 1.0, 1, VarianceKind::OverlappingAllan).unwrap();
                 assert_eq!(id.method, IdMethod::B1);
                 id.alpha
             })
@@ -154,16 +154,16 @@ fn bad_input() {
     for n in 0..4 {
         let x = vec![0.0; n];
         assert_eq!(
-            identify(&x, 1.0, 1, VarianceKind::OverlappingAllan),
+            power_law_at(&x, 1.0, 1, VarianceKind::OverlappingAllan),
             None,
             "n={n}"
         );
     }
     assert_eq!(
-        identify(&[f64::NAN; 100], 1.0, 1, VarianceKind::Allan),
+        power_law_at(&[f64::NAN; 100], 1.0, 1, VarianceKind::Allan),
         None
     );
-    assert_eq!(identify(&[1.0; 100], 1.0, 1, VarianceKind::Allan), None); // no spread
+    assert_eq!(power_law_at(&[1.0; 100], 1.0, 1, VarianceKind::Allan), None); // no spread
 
     let rec = record(0, 1000, 1);
     let est = compute(Estimator::Oadev, &rec, &[1, 2, 4]);

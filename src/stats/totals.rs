@@ -46,9 +46,19 @@
 //!   0.22; RWFM 0.93, 0.36; CHECKS.md D, from memory), times the small-m
 //!   factor described in [`mod@crate::stats::edf`]. The exact EDF of the
 //!   quadratic form ([`totvar_edf_exact`]) agrees with it within 1–4 % at
-//!   m = 16 for T/τ = 2 … 64 (`tests/totals.rs`). SP 1065 gives no rule for
-//!   WPM and FPM, and none is given here: their EDF grows with m at fixed
-//!   T/τ, so no reduced record stands for a long one.
+//!   m = 16 for T/τ = 2 … 64 (`tests/totals.rs`). At m = 1 TOTVAR is the
+//!   overlapping AVAR term for term (no reflected term), and gets exactly
+//!   the overlapping Allan EDF. SP 1065 gives no rule for WPM and FPM;
+//!   their EDF grows with m at fixed T/τ, so no reduced record stands for a
+//!   long one. For white PM the EDF is exact, in O(m)
+//!   ([`totvar_edf_white_pm`]): the reflected ends tie every end term to
+//!   x_0 or x_{N−1}, whose squares then dominate the variance at long τ
+//!   (N = 4096, m = 256: EDF 296 where the overlapping ADEV has 1826). For
+//!   flicker PM, our rule: the overlapping Allan EDF of flicker PM with the
+//!   same penalty the reflected ends cost white PM,
+//!   1/ν = 1/ν_OADEV(FPM) + 1/ν_TOT(WPM) − 1/ν_OADEV(WPM), which the
+//!   seeded Monte Carlo of `examples/coverage.rs` finds 0–25 % below the
+//!   spread it measures (conservative).
 //! - **MTOT, TTOT, HTOT**: the exact EDF ν = tr(AS)²/tr((AS)²) of the
 //!   quadratic form of the whole estimate. It depends on the record through
 //!   T/τ = (N − 1)/m and, weakly, through m: at fixed T/τ it has settled to
@@ -327,22 +337,40 @@ pub fn edf(kind: VarianceKind, alpha: i32, m: usize, n_phase: usize) -> Option<f
     }
 }
 
-/// EDF of TOTVAR: NIST SP 1065 b·(T/τ) − c for the FM noises, times the
-/// small-m factor of the overlapping Allan EDF (see the module notes of
-/// [`mod@crate::stats::edf`]); `None` for WPM and FPM.
+/// EDF of TOTVAR (module notes): at m = 1, where TOTVAR is the overlapping
+/// AVAR term for term, the overlapping Allan EDF; for the FM noises NIST SP
+/// 1065 b·(T/τ) − c times the small-m factor of the overlapping Allan EDF
+/// (see the module notes of [`mod@crate::stats::edf`]); for white PM the
+/// exact EDF of the quadratic form ([`totvar_edf_white_pm`]); for flicker
+/// PM the overlapping Allan EDF with the reflected ends' white-PM penalty
+/// added: 1/ν = 1/ν_OADEV(FPM) + [1/ν_TOT(WPM) − 1/ν_OADEV(WPM)] (our rule,
+/// checked by seeded Monte Carlo in `tests/coverage.rs` and
+/// `examples/coverage.rs`).
 fn totdev_edf(alpha: i32, m: usize, n_phase: usize) -> Option<f64> {
     use crate::stats::edf::{greenhall_edf, large_r_coefficients, Differences, PhaseModel};
     if n_phase < 3 || 2 * m > n_phase - 1 {
         return None;
     }
+    let oadev_kind = VarianceKind::OverlappingAllan;
+    // The overlapping Allan EDF for the same record (N − 2m terms).
+    let oadev = |a: i32| crate::stats::edf::edf(oadev_kind, a, m, n_phase);
+    if m == 1 {
+        return oadev(alpha);
+    }
     let ratio = (n_phase - 1) as f64 / m as f64;
     let (b, c) = match alpha {
+        2 => return totvar_edf_white_pm(m, n_phase),
+        1 => {
+            let penalty = 1.0 / totvar_edf_white_pm(m, n_phase)? - 1.0 / oadev(2)?;
+            let inv = 1.0 / oadev(1)? + penalty.max(0.0);
+            return (inv.is_finite() && inv > 0.0).then(|| 1.0 / inv);
+        }
         0 => (1.50, 0.0),
         -1 => (1.17, 0.22),
         -2 => (0.93, 0.36),
         _ => return None,
     };
-    let oadev = Differences::of(VarianceKind::OverlappingAllan)?;
+    let oadev = Differences::of(oadev_kind)?;
     let j_max = crate::stats::edf::J_MAX;
     let exact = greenhall_edf(oadev, alpha, m, n_phase, j_max, PhaseModel::Discrete)?;
     let r = (n_phase - 2 * m) as f64 / m as f64;
@@ -352,6 +380,122 @@ fn totdev_edf(alpha: i32, m: usize, n_phase: usize) -> Option<f64> {
     };
     let nu = (b * ratio - c) * factor;
     (nu > 0.0).then_some(nu)
+}
+
+/// The exact EDF of TOTVAR for white PM on a gap-free record of `n_phase`
+/// samples at factor m, in O(m) (module notes).
+///
+/// With unit white phase the covariance matrix is the identity, so
+/// ν = tr(A)²/‖A‖²_F for A = Σ_t c_t c_tᵀ, c_t the coefficients of term t
+/// (x*_{i−m} − 2x_i + x*_{i+m}, reflections included), and
+/// ‖A‖²_F = Σ_{t,u} (c_t·c_u)². Two terms that share no sample other than
+/// an end sample x_0 or x_{N−1} meet only there, so with
+/// Q_0 = Σ_u c_{u,0}², Q_L = Σ_u c_{u,N−1}² and Q_0L = Σ_u c_{u,0}c_{u,N−1},
+/// Σ_u (c_t·c_u)² = c_{t,0}²Q_0 + c_{t,L}²Q_L + 2c_{t,0}c_{t,L}Q_0L
+/// + Σ_{u sharing an inner sample} [(c_t·c_u)² − (c_{t,0}c_{u,0} + c_{t,L}c_{u,L})²];
+/// a term whose centre is at least 3m from both ends shares samples only
+/// with the four ordinary terms at ±m, ±2m and contributes 36 + 2·16 + 2·1
+/// = 70 (its own |c|² = 6). So only the O(m) terms near the ends are
+/// summed. Checked against the dense quadratic form [`totvar_edf_exact`].
+///
+/// ```
+/// use tauwise::stats::totals::{totvar_edf_exact, totvar_edf_white_pm};
+/// let fast = totvar_edf_white_pm(20, 201).unwrap();
+/// let dense = totvar_edf_exact(2, 20, 201).unwrap();
+/// assert!((fast / dense - 1.0).abs() < 1e-12);
+/// ```
+pub fn totvar_edf_white_pm(m: usize, n_phase: usize) -> Option<f64> {
+    let n = n_phase;
+    if m == 0 || n < 2 * m + 1 || n < 3 {
+        return None;
+    }
+    let last = n - 1;
+    // The merged coefficients of the term centred at i (1 ≤ i ≤ N − 2).
+    let term = |i: usize| -> Vec<(usize, f64)> {
+        let [a, b] = reflected_terms(n, i as isize - m as isize);
+        let [c, d] = reflected_terms(n, (i + m) as isize);
+        let mut v: Vec<(usize, f64)> = Vec::with_capacity(5);
+        for (k, w) in [a, b, (i, -2.0), c, d] {
+            if w == 0.0 {
+                continue;
+            }
+            match v.iter_mut().find(|e| e.0 == k) {
+                Some(e) => e.1 += w,
+                None => v.push((k, w)),
+            }
+        }
+        v.retain(|e| e.1 != 0.0);
+        v
+    };
+    let coef = |t: &[(usize, f64)], k: usize| t.iter().find(|e| e.0 == k).map_or(0.0, |e| e.1);
+    // Centres of the terms that read the inner sample j (0 < j < N − 1).
+    let touching = |j: usize| -> Vec<usize> {
+        let mut c: Vec<usize> = vec![j];
+        if j + m <= last - 1 {
+            c.push(j + m);
+        }
+        if j > m {
+            c.push(j - m);
+        }
+        if j < m {
+            c.push(m - j); // reflected at the start: x*_{i−m} = 2x_0 − x_{m−i}
+        }
+        if let Some(i) = (2 * last).checked_sub(m + j) {
+            if i + m > last && i < last && i >= 1 {
+                c.push(i); // reflected at the end
+            }
+        }
+        c.retain(|&i| (1..last).contains(&i));
+        c.sort_unstable();
+        c.dedup();
+        c
+    };
+    // Q_0, Q_L, Q_0L over the terms that read an end sample.
+    let mut end_terms: Vec<usize> = (1..=m.min(last - 1)).collect();
+    end_terms.extend(last.saturating_sub(m).max(1)..last);
+    end_terms.sort_unstable();
+    end_terms.dedup();
+    let (mut q0, mut ql, mut q0l) = (0.0, 0.0, 0.0);
+    for &i in &end_terms {
+        let t = term(i);
+        let (a, b) = (coef(&t, 0), coef(&t, last));
+        q0 += a * a;
+        ql += b * b;
+        q0l += a * b;
+    }
+    // Terms with centre in [3m, N − 1 − 3m] are ordinary (70, |c|² = 6).
+    let generic = |i: usize| i >= 3 * m && i + 3 * m <= last;
+    let generic_count = if last >= 6 * m {
+        last - 6 * m + 1
+    } else {
+        0
+    };
+    let mut trace = 6.0 * generic_count as f64;
+    let mut frob = 70.0 * generic_count as f64;
+    for i in 1..last {
+        if generic(i) {
+            continue;
+        }
+        let t = term(i);
+        trace += t.iter().map(|e| e.1 * e.1).sum::<f64>();
+        let (t0, tl) = (coef(&t, 0), coef(&t, last));
+        let mut partners: Vec<usize> = t
+            .iter()
+            .filter(|e| e.0 != 0 && e.0 != last)
+            .flat_map(|e| touching(e.0))
+            .collect();
+        partners.sort_unstable();
+        partners.dedup();
+        let mut p = t0 * t0 * q0 + tl * tl * ql + 2.0 * t0 * tl * q0l;
+        for u in partners {
+            let cu = term(u);
+            let d: f64 = t.iter().map(|e| e.1 * coef(&cu, e.0)).sum();
+            let e = t0 * coef(&cu, 0) + tl * coef(&cu, last);
+            p += d * d - e * e;
+        }
+        frob += p;
+    }
+    (frob > 0.0).then(|| trace * trace / frob)
 }
 
 /// The exact EDF of TOTVAR for a gap-free record of `n_phase` samples at
