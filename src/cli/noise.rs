@@ -140,8 +140,20 @@ pub fn model_json(model: &RecordModel) -> serde_json::Value {
             })
         })
         .collect();
+    let mut std_err = serde_json::Map::new();
+    for a in (-2i32..=2).rev() {
+        std_err.insert(
+            a.to_string(),
+            fit.std_err[(a + 2) as usize]
+                .map(num)
+                .unwrap_or(serde_json::Value::Null),
+        );
+    }
     serde_json::json!({
         "h": h,
+        "std_err": std_err,
+        "left_out": serde_json::to_value(&fit.left_out).unwrap_or_default(),
+        "significance_sigma": num(tauwise::model::fit::SIGNIFICANCE),
         "fh": num(fit.model.f_h),
         "dominant": dominant,
         "model_string": fit.model.to_model_string(),
@@ -212,22 +224,44 @@ fn table(
     let _ = writeln!(s);
     let _ = writeln!(
         s,
-        "power-law model fitted to OADEV and MDEV (EDF-weighted, log space), f_h = {}",
+        "power-law model fitted to OADEV and MDEV (EDF-weighted, log space; ± one standard error), f_h = {}",
         format_si(fit.model.f_h, "Hz", 4)
     );
     for a in (-2i32..=2).rev() {
         let k = (a + 2) as usize;
         let v = if fit.fitted[k] {
-            format_sig(fit.model.h[k], 4)
+            match fit.std_err[k] {
+                Some(se) => format!("{} ± {}", format_sig(fit.model.h[k], 4), format_sig(se, 2)),
+                None => format_sig(fit.model.h[k], 4),
+            }
         } else {
             "not in the fit".to_string()
         };
         let _ = writeln!(
             s,
-            "  h{:<3} {:>14}   ({})",
+            "  h{:<3} {:>22}   ({})",
             a,
             v,
             noise_label(a).unwrap_or("")
+        );
+    }
+    for l in &fit.left_out {
+        let why = match l.reason {
+            tauwise::model::LeftOutReason::AtZero => {
+                "the non-negative fit put it at zero".to_string()
+            }
+            tauwise::model::LeftOutReason::NotSignificant => format!(
+                "{} ± {} is below {}σ, so it was removed and the model refitted",
+                format_sig(l.h, 3),
+                l.std_err.map_or("?".into(), |e| format_sig(e, 2)),
+                tauwise::model::fit::SIGNIFICANCE
+            ),
+        };
+        let _ = writeln!(
+            s,
+            "  left out h{} ({}): {why}",
+            l.alpha,
+            noise_label(l.alpha).unwrap_or("")
         );
     }
     let _ = writeln!(s, "dominant terms:");

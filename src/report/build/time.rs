@@ -163,6 +163,23 @@ pub(super) fn noise_model(records: &[Loaded], opts: &BuildOptions, r: &mut Repor
         worst
     )];
     notes.push("Weights: each point's EDF; points without one are left out.".into());
+    for l in &fit.left_out {
+        notes.push(match l.reason {
+            crate::model::LeftOutReason::AtZero => format!(
+                "h{} ({}) is not in the model: the non-negative fit put it at zero.",
+                l.alpha,
+                crate::model::noise_label(l.alpha).unwrap_or("?")
+            ),
+            crate::model::LeftOutReason::NotSignificant => format!(
+                "h{} ({}) is not in the model: {:.3e} ± {} is below {} standard errors.",
+                l.alpha,
+                crate::model::noise_label(l.alpha).unwrap_or("?"),
+                l.h,
+                l.std_err.map_or("?".to_string(), |e| format!("{e:.2e}")),
+                crate::model::fit::SIGNIFICANCE
+            ),
+        });
+    }
     r.methods.push(method(
         "power-law model fit",
         "IEEE Std 1139-2008 σ_y(τ) ↔ S_y(f) table; non-negative least squares in log space",
