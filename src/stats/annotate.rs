@@ -99,7 +99,15 @@ pub fn point_edf(est: Estimator, rec_len: usize, tau0: f64, e: &Estimate, id: &N
     if id.is_drift() && sees_drift(est) {
         return None;
     }
-    let a = id.alpha;
+    edf_of(est, id.alpha, rec_len, tau0, e)
+}
+
+/// The EDF of the estimate `e` of `est` (from a record of `rec_len` samples
+/// at τ0) for the power law α: the rule of each estimator
+/// ([`fn@edf`], [`crate::stats::totals`], [`crate::stats::theo`]) for the
+/// gap-free record with the same number of terms. `None` where the
+/// estimator has no rule for α.
+pub fn edf_of(est: Estimator, a: i32, rec_len: usize, tau0: f64, e: &Estimate) -> Option<f64> {
     match est {
         Estimator::Theo1 => crate::stats::theo::theo1_edf(a, rec_len, e.m),
         Estimator::Theoh => {

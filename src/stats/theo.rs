@@ -194,6 +194,21 @@ pub fn theoh_bias(alpha: i32, n_phase: usize, m: usize) -> Option<f64> {
     if !(1..=2).contains(&alpha) || m < 2 || m % 2 == 1 {
         return None;
     }
+    use std::collections::HashMap;
+    use std::sync::{Mutex, OnceLock};
+    static CACHE: OnceLock<Mutex<HashMap<(i32, usize, usize), Option<f64>>>> = OnceLock::new();
+    let map = CACHE.get_or_init(|| Mutex::new(HashMap::new()));
+    if let Some(v) = map.lock().ok().and_then(|c| c.get(&(alpha, n_phase, m)).copied()) {
+        return v;
+    }
+    let v = theoh_bias_uncached(alpha, n_phase, m);
+    if let Ok(mut c) = map.lock() {
+        c.insert((alpha, n_phase, m), v);
+    }
+    v
+}
+
+fn theoh_bias_uncached(alpha: i32, n_phase: usize, m: usize) -> Option<f64> {
     let nb = (0.1 * n_phase as f64 / 3.0 - 3.0).floor();
     if nb < 0.0 {
         return None;
@@ -384,6 +399,66 @@ pub const THEO1_INTERIOR_MAX_M: usize = 1 << 18;
 /// finite-record correction.
 const THEO1_PM_REDUCED_M: usize = 32;
 
+/// Up to this many offsets (N − m), [`theo1_edf_pm`] evaluates the exact
+/// EDF by [`theo1_edf_few_offsets`] when it costs at most
+/// [`FEW_OFFSETS_BUDGET`] pair-lag terms.
+const FEW_OFFSETS: usize = 16;
+/// See [`FEW_OFFSETS`].
+const FEW_OFFSETS_BUDGET: usize = 60_000_000;
+
+/// The exact EDF of Theo1 (α = 2 or 1, band-limited PM) from its terms, for
+/// records with few offsets M = N − m: with u_{ik} = c_k·x_{i…i+m} and
+/// γ_kl(d) = Cov(u_{ik}, u_{i+d,l}),
+/// E = M·Σ_k γ_kk(0)/k, Var = 2 Σ_{k,l} (1/kl) Σ_{|d|<M} (M − |d|)·γ_kl(d)²,
+/// ν = 2E²/Var. O(m²·M).
+pub fn theo1_edf_few_offsets(alpha: i32, n_phase: usize, m: usize) -> Option<f64> {
+    if m < 2 || m % 2 == 1 || n_phase < m + 1 {
+        return None;
+    }
+    let offsets = n_phase - m;
+    let kernel = BandLimitedPm::new(alpha, m + offsets + 1)?;
+    let s = kernel.table(m + offsets);
+    let comb = |k: usize| -> Vec<(i64, f64)> {
+        let mut c: Vec<(i64, f64)> = Vec::with_capacity(4);
+        for (i, v) in [(0i64, 1.0), (k as i64, -1.0), ((m - k) as i64, -1.0), (m as i64, 1.0)] {
+            match c.iter_mut().find(|e| e.0 == i) {
+                Some(e) => e.1 += v,
+                None => c.push((i, v)),
+            }
+        }
+        c
+    };
+    let combs: Vec<Vec<(i64, f64)>> = (1..=m / 2).map(comb).collect();
+    let gamma = |a: &[(i64, f64)], b: &[(i64, f64)], d: i64| -> f64 {
+        let mut g = 0.0;
+        for &(ia, ca) in a {
+            for &(ib, cb) in b {
+                g += ca * cb * s[(d + ib - ia).unsigned_abs() as usize];
+            }
+        }
+        g
+    };
+    let mf = offsets as f64;
+    let mut mean = 0.0;
+    let mut var = 0.0;
+    for (ki, a) in combs.iter().enumerate() {
+        let wk = 1.0 / (ki + 1) as f64;
+        mean += wk * gamma(a, a, 0);
+        for (li, b) in combs.iter().enumerate() {
+            let wl = 1.0 / (li + 1) as f64;
+            let mut acc = 0.0;
+            for d in -(offsets as i64 - 1)..=(offsets as i64 - 1) {
+                let g = gamma(a, b, d);
+                acc += (mf - d.unsigned_abs() as f64) * g * g;
+            }
+            var += wk * wl * acc;
+        }
+    }
+    let e = mf * mean;
+    let nu = e * e / var;
+    (nu.is_finite() && nu > 0.0).then_some(nu)
+}
+
 /// The large-record EDF per offset φ(m) of Theo1 for white PM (α = 2) or
 /// flicker PM (α = 1): with P(f) the phase spectrum band-limited at the
 /// Nyquist frequency (cycles per sample; white 1, flicker 1/f; see
@@ -467,6 +542,12 @@ fn theo1_interior_phi_cached(alpha: i32, m: usize) -> Option<f64> {
 pub fn theo1_edf_pm(alpha: i32, n_phase: usize, m: usize) -> Option<f64> {
     if !(1..=2).contains(&alpha) || m < 2 || m % 2 == 1 || n_phase < m + 1 {
         return None;
+    }
+    // Near the last point (few offsets) the large-record form does not
+    // hold; there the exact EDF is affordable directly.
+    let offsets = n_phase - m;
+    if offsets <= FEW_OFFSETS && (m / 2).pow(2) * (2 * offsets - 1) <= FEW_OFFSETS_BUDGET {
+        return theo1_edf_few_offsets(alpha, n_phase, m);
     }
     let offsets = (n_phase - m) as f64;
     let large = offsets * theo1_interior_phi_cached(alpha, m)?;
