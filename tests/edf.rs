@@ -421,8 +421,8 @@ fn edf_domain() {
     for kind in VarianceKind::ALL {
         for alpha in -6..=4 {
             let e = edf(kind, alpha, 2, 1000);
-            // TOTDEV and HTOT have no EDF for WPM and FPM (src/stats/totals.rs).
-            let pm_gap = matches!(kind, VarianceKind::Total | VarianceKind::HadamardTotal);
+            // HTOT has no EDF for WPM and FPM (src/stats/totals.rs).
+            let pm_gap = matches!(kind, VarianceKind::HadamardTotal);
             let defined = kind.alpha_range().contains(&alpha) && !(pm_gap && alpha >= 1);
             assert_eq!(e.is_some(), defined, "{kind:?} α={alpha}");
             if let Some(e) = e {

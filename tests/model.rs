@@ -367,8 +367,9 @@ fn fit_sy_recovers_a_spectrum() {
 }
 
 /// Closure on exact variances (analytic: the points are the model's own
-/// numerically integrated AVAR and HVAR): a WFM + FFM + RWFM model is
-/// returned, and the dominant ranges meet at the AVAR crossovers.
+/// numerically integrated AVAR and HVAR, weighted as exact values — a very
+/// large EDF): a WFM + FFM + RWFM model is returned, and the dominant
+/// ranges meet at the AVAR crossovers.
 #[test]
 fn fit_with_hadamard_points() {
     let truth = PowerLaw::parse("h0=1e-22,h-1=1e-25,h-2=1e-30", 0.5).unwrap();
@@ -381,7 +382,7 @@ fn fit_with_hadamard_points() {
                 tau,
                 tau0: 1.0,
                 var: truth.variance_numeric(kind, tau, 1.0),
-                weight: 1.0 + 1e4 / tau,
+                weight: 1e6 * (1.0 + 1e4 / tau),
             });
         }
     }

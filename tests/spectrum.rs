@@ -406,25 +406,43 @@ fn rectangular_window_warns_on_red_noise() {
 
 /// Frequency data (issue: S_y of white-FM frequency data 3.2 dB high at
 /// 0.45 Hz with the continuous (2πf)² relation): the sampled relation
-/// S_y = (2 sin(πfτ0)/τ0)²·S_x of the integrated phase makes white FM flat
-/// within 0.5 dB of h0 (IEEE Std 1139: S_y = h0) at every log bin up to the
-/// top one.
+/// S_y = (2 sin(πfτ0)/τ0)²·S_x of the integrated phase makes white FM flat:
+/// the mean over 20 seeded records of each log bin is within 0.5 dB of h0
+/// (IEEE Std 1139: S_y = h0) from the second decade up to the top bin.
 #[test]
 fn frequency_data_white_fm_is_flat() {
+    use rayon::prelude::*;
     use tauwise::spectrum::welch::welch_record;
     use tauwise::Record;
     let h0 = 1e-22;
-    let y = tauwise::simulate::simulate_frequency(&SimSpec::new(single(0, h0, 0.5), 1.0, 1 << 16, 9))
-        .unwrap();
-    let w = welch_record(&Record::Frequency(y), &WelchOptions::default()).unwrap();
-    let s = w.log_binned(10, None).unwrap();
-    assert_eq!(s.quantity, Quantity::Sy);
-    assert!(*s.f.last().unwrap() > 0.44);
-    for (f, v) in s.f.iter().zip(&s.values) {
-        let db = 10.0 * (v / h0).log10();
-        assert!(db.abs() < 0.5, "f = {f}: {db:+.2} dB");
+    let runs: Vec<Vec<(f64, f64)>> = (0..20u64)
+        .into_par_iter()
+        .map(|s| {
+            let y = tauwise::simulate::simulate_frequency(&SimSpec::new(
+                single(0, h0, 0.5),
+                1.0,
+                1 << 14,
+                9 + s,
+            ))
+            .unwrap();
+            let w = welch_record(&Record::Frequency(y), &WelchOptions::default()).unwrap();
+            let s = w.log_binned(10, None).unwrap();
+            assert_eq!(s.quantity, Quantity::Sy);
+            s.f.iter().copied().zip(s.values.iter().copied()).collect()
+        })
+        .collect();
+    let bins = runs[0].len();
+    assert!(runs[0][bins - 1].0 > 0.44);
+    let f_low = runs[0][0].0;
+    for k in 0..bins {
+        let mean = runs.iter().map(|r| r[k].1).sum::<f64>() / runs.len() as f64;
+        let db = 10.0 * (mean / h0).log10();
+        // In the lowest decade a log bin holds one or two DFT bins: the mean
+        // of 20 records still scatters by about 0.4 dB there.
+        let tol = if runs[0][k].0 < 10.0 * f_low { 1.2 } else { 0.5 };
+        assert!(db.abs() < tol, "f = {}: {db:+.2} dB", runs[0][k].0);
     }
-    // The phase record of the same data keeps S_x (continuous relations).
+    // The phase record keeps S_x (continuous relations from there).
     let x = tauwise::simulate::simulate_phase(&SimSpec::new(single(0, h0, 0.5), 1.0, 1 << 12, 9))
         .unwrap();
     let w = welch(&x, &WelchOptions::default()).unwrap();
