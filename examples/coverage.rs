@@ -87,7 +87,18 @@ fn main() -> tauwise::Result<()> {
     );
     println!(
         "{:<7} {:>5} {:>9} {:>7} {:>6} {:>7} {:>7} {:>6} {:>6} {:>9} {:>9} {:>7}",
-        "dev", "noise", "tau", "T/tau", "n", "68.3%", "95%", "right", "drift", "edf", "edf(MC)", "mean"
+        "dev",
+        "noise",
+        "tau",
+        "T/tau",
+        "n",
+        "68.3%",
+        "95%",
+        "right",
+        "drift",
+        "edf",
+        "edf(MC)",
+        "mean"
     );
     for c in &cells {
         println!(

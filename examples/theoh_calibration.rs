@@ -66,7 +66,11 @@ fn main() -> tauwise::Result<()> {
                 v.iter().map(|x| (x - m).powi(2)).sum::<f64>() / (v.len() - 1) as f64 / (m * m)
             };
             let (mr, mt) = (mean(&r), mean(&th));
-            let cov = r.iter().zip(&th).map(|(a, b)| (a - mr) * (b - mt)).sum::<f64>()
+            let cov = r
+                .iter()
+                .zip(&th)
+                .map(|(a, b)| (a - mr) * (b - mt))
+                .sum::<f64>()
                 / (r.len() - 1) as f64
                 / (mr * mt);
             let prod: Vec<f64> = r.iter().zip(&th).map(|(a, b)| a * b).collect();

@@ -101,19 +101,31 @@ fn noise_stability_and_report_give_the_same_label() {
     let rec = dir.path().join("unit.txt");
     let st = tauwise()
         .args(["simulate", "--model", "h0=1e-22,h-1=1e-25", "--tau0", "1s"])
-        .args(["--points", "40000", "--seed", "17", "--drift", "3e-9/day", "-o"])
+        .args([
+            "--points", "40000", "--seed", "17", "--drift", "3e-9/day", "-o",
+        ])
         .arg(&rec)
         .output()
         .unwrap();
-    assert!(st.status.success(), "{}", String::from_utf8_lossy(&st.stderr));
+    assert!(
+        st.status.success(),
+        "{}",
+        String::from_utf8_lossy(&st.stderr)
+    );
     let json = |args: &[&str]| -> serde_json::Value {
         let o = tauwise().args(args).output().unwrap();
-        assert!(o.status.success(), "{args:?}: {}", String::from_utf8_lossy(&o.stderr));
+        assert!(
+            o.status.success(),
+            "{args:?}: {}",
+            String::from_utf8_lossy(&o.stderr)
+        );
         serde_json::from_slice(&o.stdout).unwrap()
     };
     let path = rec.to_str().unwrap();
     let labels_of_noise = |extra: &[&str]| -> Vec<(f64, String)> {
-        let mut a = vec!["noise", path, "--tau0", "1s", "--units", "s", "--format", "json"];
+        let mut a = vec![
+            "noise", path, "--tau0", "1s", "--units", "s", "--format", "json",
+        ];
         a.extend_from_slice(extra);
         let doc = json(&a);
         doc["points"]
@@ -121,11 +133,25 @@ fn noise_stability_and_report_give_the_same_label() {
             .unwrap()
             .iter()
             .filter(|p| !p["noise"].is_null())
-            .map(|p| (p["tau"].as_f64().unwrap(), p["noise"].as_str().unwrap().to_string()))
+            .map(|p| {
+                (
+                    p["tau"].as_f64().unwrap(),
+                    p["noise"].as_str().unwrap().to_string(),
+                )
+            })
             .collect()
     };
     let labels_of_stability = |extra: &[&str]| -> Vec<(String, f64, String)> {
-        let mut a = vec!["stability", path, "--tau0", "1s", "--units", "s", "--format", "json"];
+        let mut a = vec![
+            "stability",
+            path,
+            "--tau0",
+            "1s",
+            "--units",
+            "s",
+            "--format",
+            "json",
+        ];
         a.extend_from_slice(&["--dev", "adev,oadev,mdev,tdev,hdev,ohdev,totdev,mtot"]);
         a.extend_from_slice(extra);
         let doc = json(&a);
@@ -163,7 +189,9 @@ fn noise_stability_and_report_give_the_same_label() {
         }
     }
     // The noise JSON carries the noise beneath the drift and the drift rate.
-    let doc = json(&["noise", path, "--tau0", "1s", "--units", "s", "--format", "json"]);
+    let doc = json(&[
+        "noise", path, "--tau0", "1s", "--units", "s", "--format", "json",
+    ]);
     let p = doc["points"]
         .as_array()
         .unwrap()

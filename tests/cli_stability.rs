@@ -230,7 +230,10 @@ fn best_curve_takes_one_estimator_per_tau() {
             .iter()
             .any(|q| q["tau"] == p["tau"] && q["dev"] == p["dev"]));
         // It has an honest interval (an EDF and both bounds).
-        assert!(width(p) > 1.0 && p["edf"].as_f64().unwrap() > 0.0, "{from} at τ = {tau}");
+        assert!(
+            width(p) > 1.0 && p["edf"].as_f64().unwrap() > 0.0,
+            "{from} at τ = {tau}"
+        );
     }
     let csv = run("csv");
     assert!(csv.lines().next().unwrap().ends_with(",from"));

@@ -493,7 +493,10 @@ fn totdev_white_pm_fast_equals_dense() {
     ] {
         let fast = totvar_edf_white_pm(m, n).unwrap();
         let dense = totvar_edf_exact(2, m, n).unwrap();
-        assert!((fast / dense - 1.0).abs() < 1e-12, "N={n} m={m}: {fast} vs {dense}");
+        assert!(
+            (fast / dense - 1.0).abs() < 1e-12,
+            "N={n} m={m}: {fast} vs {dense}"
+        );
     }
     assert_eq!(totvar_edf_white_pm(0, 10), None);
     assert_eq!(totvar_edf_white_pm(6, 10), None);

@@ -348,7 +348,11 @@ fn theo1_grid_starts_at_ten_and_is_octave_spaced() {
         let c = &analyse(&rec, &req).unwrap()[0];
         assert!(!c.points.is_empty());
         for p in &c.points {
-            assert!(p.estimate.m >= 10 && p.estimate.m % 2 == 0, "{grid:?}: m′ = {}", p.estimate.m);
+            assert!(
+                p.estimate.m >= 10 && p.estimate.m % 2 == 0,
+                "{grid:?}: m′ = {}",
+                p.estimate.m
+            );
         }
     }
     // A τ that maps below m′ = 10 is left out, like any τ that cannot be computed.

@@ -445,7 +445,12 @@ fn spurious_terms_are_left_out() {
         })
         .collect();
     for f in &fits {
-        assert_eq!(f.fitted, [true, false, false, false, false], "{:?}", f.model);
+        assert_eq!(
+            f.fitted,
+            [true, false, false, false, false],
+            "{:?}",
+            f.model
+        );
         assert!(f.std_err[0].is_some());
         assert_eq!(f.left_out.len(), 4);
         for l in &f.left_out {
@@ -474,9 +479,7 @@ fn standard_errors_are_calibrated() {
         .map(|s| {
             let rec = simulate_phase(&SimSpec::new(truth, 1.0, 1 << 14, 1900 + s)).unwrap();
             let f = fit_record_model(&rec, &TauGrid::Octave).unwrap().fit;
-            [2usize, 1].map(|k| {
-                f.std_err[k].map_or(f64::NAN, |e| (f.model.h[k] - truth.h[k]) / e)
-            })
+            [2usize, 1].map(|k| f.std_err[k].map_or(f64::NAN, |e| (f.model.h[k] - truth.h[k]) / e))
         })
         .collect();
     for (i, name) in ["h0", "h-1"].iter().enumerate() {
@@ -484,7 +487,11 @@ fn standard_errors_are_calibrated() {
         assert!(v.len() >= 95, "{name}: kept in {} fits", v.len());
         let n = v.len() as f64;
         let within = |k: f64| v.iter().filter(|x| x.abs() < k).count() as f64 / n;
-        assert!((0.58..=0.80).contains(&within(1.0)), "{name}: |z| < 1 in {}", within(1.0));
+        assert!(
+            (0.58..=0.80).contains(&within(1.0)),
+            "{name}: |z| < 1 in {}",
+            within(1.0)
+        );
         assert!(within(2.0) >= 0.88, "{name}: |z| < 2 in {}", within(2.0));
     }
 }

@@ -241,7 +241,11 @@ fn model_record(model: &str, n: usize, seed: u64, drift: f64) -> PhaseRecord {
 fn statistics_at_a_tau_do_not_depend_on_the_grid() {
     use tauwise::stability::{analyse, Request};
     use tauwise::tau::TauGrid;
-    for (model, seed) in [("h1=1e-20", 31u64), ("h-1=1e-24", 32), ("h0=1e-22,h-2=1e-30", 33)] {
+    for (model, seed) in [
+        ("h1=1e-20", 31u64),
+        ("h-1=1e-24", 32),
+        ("h0=1e-22,h-2=1e-30", 33),
+    ] {
         let rec = model_record(model, 4096, seed, 0.0);
         for (ests, grids) in [
             (
@@ -271,7 +275,9 @@ fn statistics_at_a_tau_do_not_depend_on_the_grid() {
             };
             let by_grid: Vec<_> = grids.iter().map(|g| run(g.clone())).collect();
             // The τ checked: a spread of factors (every one for Theo1/TheoH).
-            let checked = [1usize, 2, 5, 10, 20, 50, 64, 100, 128, 200, 256, 500, 512, 1000, 1024, 1365];
+            let checked = [
+                1usize, 2, 5, 10, 20, 50, 64, 100, 128, 200, 256, 500, 512, 1000, 1024, 1365,
+            ];
             let mut compared = 0;
             for (k, est) in ests.iter().enumerate() {
                 for curves in &by_grid {
@@ -279,7 +285,8 @@ fn statistics_at_a_tau_do_not_depend_on_the_grid() {
                         let e = p.estimate;
                         // The grid factor that asks for this point alone:
                         // on Theo1's lattice (τ = 0.75·m′) the m that maps to m′.
-                        let on_lattice = (e.tau - e.m as f64).abs() > 1e-9 || *est == Estimator::Theo1;
+                        let on_lattice =
+                            (e.tau - e.m as f64).abs() > 1e-9 || *est == Estimator::Theo1;
                         let m = if on_lattice {
                             (0.75 * e.m as f64).round() as usize
                         } else {
@@ -293,7 +300,9 @@ fn statistics_at_a_tau_do_not_depend_on_the_grid() {
                             .points
                             .iter()
                             .find(|q| q.estimate.tau == e.tau)
-                            .unwrap_or_else(|| panic!("{model} {est}: τ = {} alone missing", e.tau));
+                            .unwrap_or_else(|| {
+                                panic!("{model} {est}: τ = {} alone missing", e.tau)
+                            });
                         assert_eq!(p, q, "{model} {est} τ = {}", e.tau);
                         compared += 1;
                     }

@@ -364,9 +364,13 @@ fn lowest_bin_shown_is_unbiased_for_red_noise() {
             let ratios: Vec<f64> = (0..40u64)
                 .into_par_iter()
                 .map(|s| {
-                    let rec =
-                        simulate_phase(&SimSpec::new(single(alpha, 1.0, 0.5), 1.0, 1 << 15, 300 + s))
-                            .unwrap();
+                    let rec = simulate_phase(&SimSpec::new(
+                        single(alpha, 1.0, 0.5),
+                        1.0,
+                        1 << 15,
+                        300 + s,
+                    ))
+                    .unwrap();
                     let w = welch(
                         &rec,
                         &WelchOptions {
@@ -381,7 +385,10 @@ fn lowest_bin_shown_is_unbiased_for_red_noise() {
                 })
                 .collect();
             let db = 10.0 * (ratios.iter().sum::<f64>() / ratios.len() as f64).log10();
-            assert!(db.abs() < 1.0, "{window:?} α={alpha}: {db:+.2} dB at the lowest bin");
+            assert!(
+                db.abs() < 1.0,
+                "{window:?} α={alpha}: {db:+.2} dB at the lowest bin"
+            );
         }
     }
 }
@@ -401,7 +408,10 @@ fn rectangular_window_warns_on_red_noise() {
     assert!(w.warnings[0].contains("rectangular window on red noise"));
     let white = simulate_phase(&SimSpec::new(single(2, 1e-20, 0.5), 1.0, 1 << 14, 5)).unwrap();
     assert!(welch(&white, &rect).unwrap().warnings.is_empty());
-    assert!(welch(&red, &WelchOptions::default()).unwrap().warnings.is_empty());
+    assert!(welch(&red, &WelchOptions::default())
+        .unwrap()
+        .warnings
+        .is_empty());
 }
 
 /// Frequency data (issue: S_y of white-FM frequency data 3.2 dB high at
@@ -439,7 +449,11 @@ fn frequency_data_white_fm_is_flat() {
         let db = 10.0 * (mean / h0).log10();
         // In the lowest decade a log bin holds one or two DFT bins: the mean
         // of 20 records still scatters by about 0.4 dB there.
-        let tol = if runs[0][k].0 < 10.0 * f_low { 1.2 } else { 0.5 };
+        let tol = if runs[0][k].0 < 10.0 * f_low {
+            1.2
+        } else {
+            0.5
+        };
         assert!(db.abs() < tol, "f = {}: {db:+.2} dB", runs[0][k].0);
     }
     // The phase record keeps S_x (continuous relations from there).

@@ -81,7 +81,10 @@ pub fn run(args: Args) -> Result<Outcome> {
     let text = match args.output.format {
         Format::Json => {
             let mut doc = header_json(&series);
-            doc.insert("points".into(), serde_json::to_value(&rows).unwrap_or_default());
+            doc.insert(
+                "points".into(),
+                serde_json::to_value(&rows).unwrap_or_default(),
+            );
             doc.insert(
                 "drift_per_day".into(),
                 drift_per_day.map(num).unwrap_or(serde_json::Value::Null),

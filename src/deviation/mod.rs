@@ -24,7 +24,6 @@ mod theo;
 mod tie;
 pub(crate) mod total;
 
-
 /// The registry of estimators: the single source of truth for each one's
 /// trade name, title, difference order, kind of value and valid m range.
 ///

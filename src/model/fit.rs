@@ -331,7 +331,8 @@ fn invert_spd(a: &[f64], k: usize) -> Option<Vec<f64>> {
     }
     let scale = a.iter().fold(0.0f64, |s, v| s.max(v.abs()));
     for col in 0..k {
-        let piv = (col..k).max_by(|&x, &y| m[x * k + col].abs().total_cmp(&m[y * k + col].abs()))?;
+        let piv =
+            (col..k).max_by(|&x, &y| m[x * k + col].abs().total_cmp(&m[y * k + col].abs()))?;
         if !(m[piv * k + col].abs() > 1e-13 * scale) {
             return None;
         }

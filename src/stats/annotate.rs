@@ -95,7 +95,13 @@ pub fn identification_factor(est: Estimator, e: &Estimate, tau0: f64) -> usize {
 /// The EDF of one estimate for the noise `id` (`None` where the estimator
 /// has no rule for that noise, or sees a drift that dominates there: see
 /// [`crate::stats::noise_id`]).
-pub fn point_edf(est: Estimator, rec_len: usize, tau0: f64, e: &Estimate, id: &NoiseAt) -> Option<f64> {
+pub fn point_edf(
+    est: Estimator,
+    rec_len: usize,
+    tau0: f64,
+    e: &Estimate,
+    id: &NoiseAt,
+) -> Option<f64> {
     if id.is_drift() && sees_drift(est) {
         return None;
     }
@@ -218,7 +224,9 @@ pub fn annotate_with(
                 // ratio changes with τ ([`crate::stats::theo`]).
                 None if correct
                     && est == Estimator::Theoh
-                    && est.bias_corrected_from(n, x.tau0).is_some_and(|s| e.tau >= s) =>
+                    && est
+                        .bias_corrected_from(n, x.tau0)
+                        .is_some_and(|s| e.tau >= s) =>
                 {
                     crate::stats::theo::theoh_bias(id.alpha, n, e.m)
                 }

@@ -38,7 +38,9 @@ pub fn truth(est: Estimator, alpha: i32, tau: f64, m: usize, tau0: f64) -> Optio
     let f_h = 0.5 / tau0;
     let b = |k: VarKind| basis(k, alpha, tau, tau0, f_h);
     let var = match est {
-        Estimator::Adev | Estimator::Oadev | Estimator::Totdev | Estimator::Theoh => b(VarKind::Avar),
+        Estimator::Adev | Estimator::Oadev | Estimator::Totdev | Estimator::Theoh => {
+            b(VarKind::Avar)
+        }
         Estimator::Mdev | Estimator::Mtot => b(VarKind::Mvar),
         Estimator::Tdev | Estimator::Ttot => tau * tau / 3.0 * b(VarKind::Mvar),
         Estimator::Hdev | Estimator::Ohdev | Estimator::Htot => b(VarKind::Hvar),
@@ -147,8 +149,7 @@ pub fn run(spec: &CoverageSpec) -> crate::Result<Vec<CoverageCell>> {
                     let e = compute(est, &rec, &ms);
                     let e: Vec<_> = e.into_iter().filter(|e| keep(e.tau)).collect();
                     for p in annotate_with(est, &rec, &ids, &e, &opts)? {
-                        let Some(tr) = truth(est, alpha, p.estimate.tau, p.estimate.m, 1.0)
-                        else {
+                        let Some(tr) = truth(est, alpha, p.estimate.tau, p.estimate.m, 1.0) else {
                             continue;
                         };
                         let v = p.estimate.value;

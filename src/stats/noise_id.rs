@@ -143,7 +143,6 @@
 //! stationary for α). WPM against FPM (the same μ) is then settled by R(n)
 //! when n ≥ 4, as above.
 
-
 use crate::record::PhaseRecord;
 use crate::stats::block_sums::BlockSums;
 use crate::stats::interval::chi2_quantile;
@@ -417,7 +416,10 @@ impl<'a> NoiseIdentifier<'a> {
         // The settled answer at the largest octave point strictly below m.
         let (below, drift_below) = if m > 1 && self.rule == CrossTauRule::CapAtShorterTau {
             let k = usize::BITS - 1 - (m - 1).leading_zeros(); // 2^k < m ≤ 2^(k+1)
-            self.octaves().get(k as usize).copied().unwrap_or((None, false))
+            self.octaves()
+                .get(k as usize)
+                .copied()
+                .unwrap_or((None, false))
         } else {
             (None, false)
         };

@@ -96,7 +96,6 @@ pub fn theo1_edf_sp1065(alpha: i32, n_phase: usize, m: usize) -> Option<f64> {
     (edf.is_finite() && edf > 0.0).then_some(edf)
 }
 
-
 /// EDF of Theo1 at the Theo1 factor m (even, 10 ≤ m ≤ N − 1) from N phase
 /// samples, for S_y ∝ f^α (module notes): the SP 1065 forms for WFM and
 /// WPM, the exact reduced form for FFM and RWFM, the corrected large-record
@@ -168,7 +167,8 @@ fn pm_theo1_over_allan(kernel: &BandLimitedPm, m: usize) -> f64 {
         .sum::<f64>()
         / (0.75 * mf * mf);
     let r = 0.75 * mf;
-    let allan = (6.0 * kernel.at(0.0) - 8.0 * kernel.at(r) + 2.0 * kernel.at(2.0 * r)) / (2.0 * r * r);
+    let allan =
+        (6.0 * kernel.at(0.0) - 8.0 * kernel.at(r) + 2.0 * kernel.at(2.0 * r)) / (2.0 * r * r);
     theo / allan
 }
 
@@ -198,7 +198,11 @@ pub fn theoh_bias(alpha: i32, n_phase: usize, m: usize) -> Option<f64> {
     use std::sync::{Mutex, OnceLock};
     static CACHE: OnceLock<Mutex<HashMap<(i32, usize, usize), Option<f64>>>> = OnceLock::new();
     let map = CACHE.get_or_init(|| Mutex::new(HashMap::new()));
-    if let Some(v) = map.lock().ok().and_then(|c| c.get(&(alpha, n_phase, m)).copied()) {
+    if let Some(v) = map
+        .lock()
+        .ok()
+        .and_then(|c| c.get(&(alpha, n_phase, m)).copied())
+    {
         return v;
     }
     let v = theoh_bias_uncached(alpha, n_phase, m);
@@ -420,7 +424,12 @@ pub fn theo1_edf_few_offsets(alpha: i32, n_phase: usize, m: usize) -> Option<f64
     let s = kernel.table(m + offsets);
     let comb = |k: usize| -> Vec<(i64, f64)> {
         let mut c: Vec<(i64, f64)> = Vec::with_capacity(4);
-        for (i, v) in [(0i64, 1.0), (k as i64, -1.0), ((m - k) as i64, -1.0), (m as i64, 1.0)] {
+        for (i, v) in [
+            (0i64, 1.0),
+            (k as i64, -1.0),
+            ((m - k) as i64, -1.0),
+            (m as i64, 1.0),
+        ] {
             match c.iter_mut().find(|e| e.0 == i) {
                 Some(e) => e.1 += v,
                 None => c.push((i, v)),

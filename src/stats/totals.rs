@@ -465,11 +465,7 @@ pub fn totvar_edf_white_pm(m: usize, n_phase: usize) -> Option<f64> {
     }
     // Terms with centre in [3m, N − 1 − 3m] are ordinary (70, |c|² = 6).
     let generic = |i: usize| i >= 3 * m && i + 3 * m <= last;
-    let generic_count = if last >= 6 * m {
-        last - 6 * m + 1
-    } else {
-        0
-    };
+    let generic_count = if last >= 6 * m { last - 6 * m + 1 } else { 0 };
     let mut trace = 6.0 * generic_count as f64;
     let mut frob = 70.0 * generic_count as f64;
     for i in 1..last {
