@@ -16,7 +16,7 @@
 //! AVAR for ADEV, OADEV, TOTDEV and TheoH; MVAR for MDEV and MTOT; TVAR =
 //! (τ²/3)·MVAR for TDEV and TTOT; HVAR for HDEV, OHDEV and HTOT (the total
 //! family bias-corrected, as the commands report it); for Theo1, which is
-//! biased except for white FM, its own expectation E[Theo1] =
+//! biased except for white FM, its own expectation E\[Theo1\] =
 //! [`crate::stats::theo::theo1_over_allan`]·AVAR.
 
 use crate::deviation::{compute, Estimator};

@@ -45,7 +45,7 @@
 //!
 //! ThêoBR assumes that Theo1/AVAR is the same at every τ. It is for the FM
 //! noises (self-similar) but not for PM noise: for white PM
-//! E[Theo1]/AVAR = H_{m/2} + 1/m grows like ln m, so a ratio measured at
+//! E\[Theo1\]/AVAR = H_{m/2} + 1/m grows like ln m, so a ratio measured at
 //! short τ overstates AVAR at long τ (by 26–53 % at N = 4096). For white
 //! and flicker PM, TheoH's Theo part is therefore divided by its exact bias
 //! for the noise type, B = r(m)·mean_i 1/r(12 + 4i), r(m) =
@@ -54,6 +54,8 @@
 
 use crate::stats::gacv::{discrete_phase_gacv, BandLimitedPm};
 use crate::stats::quadratic::mean_square;
+use std::collections::HashMap;
+use std::sync::{Mutex, OnceLock};
 
 /// Equivalent degrees of freedom of Theo1 (NIST SP 1065, Theo1 EDF table,
 /// from memory), with N phase samples, the Theo1 factor m (even) and
@@ -176,10 +178,11 @@ fn pm_theo1_over_allan(kernel: &BandLimitedPm, m: usize) -> f64 {
 /// them 1/r (smooth in m) is interpolated linearly.
 const THEOH_BIAS_NODES: usize = 257;
 
-/// The bias factor B = E[TheoH²]/AVAR(τ) of TheoH's ThêoBR part for white
+/// The bias factor B = E\[TheoH²\]/AVAR(τ) of TheoH's ThêoBR part for white
 /// or flicker PM (α = 2, 1) at the Theo1 factor m on N samples (module
 /// notes): B = r(m)·mean_{i=0}^{n} 1/r(12 + 4i), n = ⌊0.1·N/3 − 3⌋, with
-/// r from [`pm_theo1_over_allan`] (the mean of the ratios taken as the ratio
+/// r = E\[Theo1(m)\]/AVAR(0.75·m·τ0) exact from the estimators' terms (the
+/// mean of the ratios taken as the ratio
 /// of the means). `None` for the FM noises (B = 1: they are self-similar),
 /// and when N < 90.
 ///
@@ -194,22 +197,10 @@ pub fn theoh_bias(alpha: i32, n_phase: usize, m: usize) -> Option<f64> {
     if !(1..=2).contains(&alpha) || m < 2 || m % 2 == 1 {
         return None;
     }
-    use std::collections::HashMap;
-    use std::sync::{Mutex, OnceLock};
-    static CACHE: OnceLock<Mutex<HashMap<(i32, usize, usize), Option<f64>>>> = OnceLock::new();
-    let map = CACHE.get_or_init(|| Mutex::new(HashMap::new()));
-    if let Some(v) = map
-        .lock()
-        .ok()
-        .and_then(|c| c.get(&(alpha, n_phase, m)).copied())
-    {
-        return v;
-    }
-    let v = theoh_bias_uncached(alpha, n_phase, m);
-    if let Ok(mut c) = map.lock() {
-        c.insert((alpha, n_phase, m), v);
-    }
-    v
+    static CACHE: Memo<(i32, usize, usize)> = OnceLock::new();
+    memo(&CACHE, (alpha, n_phase, m), || {
+        theoh_bias_uncached(alpha, n_phase, m)
+    })
 }
 
 fn theoh_bias_uncached(alpha: i32, n_phase: usize, m: usize) -> Option<f64> {
@@ -315,7 +306,8 @@ fn theo1_local_form(m: usize) -> Vec<f64> {
 /// a gap-free record of `n_phase` samples, for the power law α (PM
 /// band-limited at f_h = 1/(2τ0), FM discrete; [`crate::stats::gacv`]): the
 /// whole estimate as one quadratic form, the
-/// local form of [`theo1_local_form`] added at each of the N − m offsets.
+/// local form R = Σ_k (1/k)·c_k c_kᵀ of one offset (NIST SP 1065 eq. 31)
+/// added at each of the N − m offsets.
 /// O(N²·m): for records of up to some hundreds of samples (the reduced
 /// records of [`theo1_edf`]) and for cross-checks.
 ///
@@ -380,21 +372,32 @@ pub fn theo1_edf_exact_reduced(alpha: i32, n_phase: usize, m: usize) -> Option<f
 /// [`theo1_edf_exact`] remembered per (α, m, N): the reduced records take
 /// few distinct values, each some milliseconds to evaluate.
 fn cached(alpha: i32, m: usize, n: usize) -> Option<f64> {
-    use std::collections::HashMap;
-    use std::sync::{Mutex, OnceLock};
-    static CACHE: OnceLock<Mutex<HashMap<(i32, usize, usize), Option<f64>>>> = OnceLock::new();
-    let map = CACHE.get_or_init(|| Mutex::new(HashMap::new()));
-    if let Some(v) = map.lock().ok().and_then(|c| c.get(&(alpha, m, n)).copied()) {
+    static CACHE: Memo<(i32, usize, usize)> = OnceLock::new();
+    memo(&CACHE, (alpha, m, n), || theo1_edf_exact(alpha, n, m))
+}
+
+/// Results remembered per key (values that depend only on the key and
+/// take milliseconds to compute), shared by every τ and record.
+type Memo<K> = OnceLock<Mutex<HashMap<K, Option<f64>>>>;
+
+/// The value for `key` from `cache`, computed by `f` the first time.
+fn memo<K: std::hash::Hash + Eq>(
+    cache: &Memo<K>,
+    key: K,
+    f: impl FnOnce() -> Option<f64>,
+) -> Option<f64> {
+    let map = cache.get_or_init(|| Mutex::new(HashMap::new()));
+    if let Some(v) = map.lock().ok().and_then(|c| c.get(&key).copied()) {
         return v;
     }
-    let v = theo1_edf_exact(alpha, n, m);
+    let v = f();
     if let Ok(mut c) = map.lock() {
-        c.insert((alpha, m, n), v);
+        c.insert(key, v);
     }
     v
 }
 
-/// Theo1 factors up to this are treated by [`theo1_interior_phi`] with the
+/// Theo1 factors up to this get the large-record form of [`theo1_edf_pm`] with the
 /// transfer function on its own grid; beyond, φ is continued as a power of
 /// m fitted to the last two octaves below.
 pub const THEO1_INTERIOR_MAX_M: usize = 1 << 18;
@@ -482,7 +485,7 @@ pub fn theo1_edf_few_offsets(alpha: i32, n_phase: usize, m: usize) -> Option<f64
 /// three FFTs of its cosine expansion
 /// G = 4 Σ_k (1/k)[1 + ½cos 2πfm − cos 2πfk − cos 2πf(m−k) + ½cos 2πf(2k−m)],
 /// and both integrals by the trapezoid rule.
-fn theo1_interior_phi(alpha: i32, m: usize) -> Option<f64> {
+pub fn theo1_interior_phi(alpha: i32, m: usize) -> Option<f64> {
     use rustfft::num_complex::Complex;
     if !(1..=2).contains(&alpha) || m < 2 || m % 2 == 1 {
         return None;
@@ -526,18 +529,8 @@ fn theo1_interior_phi(alpha: i32, m: usize) -> Option<f64> {
 }
 
 fn theo1_interior_phi_cached(alpha: i32, m: usize) -> Option<f64> {
-    use std::collections::HashMap;
-    use std::sync::{Mutex, OnceLock};
-    static CACHE: OnceLock<Mutex<HashMap<(i32, usize), Option<f64>>>> = OnceLock::new();
-    let map = CACHE.get_or_init(|| Mutex::new(HashMap::new()));
-    if let Some(v) = map.lock().ok().and_then(|c| c.get(&(alpha, m)).copied()) {
-        return v;
-    }
-    let v = theo1_interior_phi(alpha, m);
-    if let Ok(mut c) = map.lock() {
-        c.insert((alpha, m), v);
-    }
-    v
+    static CACHE: Memo<(i32, usize)> = OnceLock::new();
+    memo(&CACHE, (alpha, m), || theo1_interior_phi(alpha, m))
 }
 
 /// The EDF of Theo1 for white or flicker PM (α = 2, 1) at the (even) factor

@@ -391,11 +391,15 @@ fn totdev_edf(alpha: i32, m: usize, n_phase: usize) -> Option<f64> {
 /// ‖A‖²_F = Σ_{t,u} (c_t·c_u)². Two terms that share no sample other than
 /// an end sample x_0 or x_{N−1} meet only there, so with
 /// Q_0 = Σ_u c_{u,0}², Q_L = Σ_u c_{u,N−1}² and Q_0L = Σ_u c_{u,0}c_{u,N−1},
+///
+/// ```text
 /// Σ_u (c_t·c_u)² = c_{t,0}²Q_0 + c_{t,L}²Q_L + 2c_{t,0}c_{t,L}Q_0L
-/// + Σ_{u sharing an inner sample} [(c_t·c_u)² − (c_{t,0}c_{u,0} + c_{t,L}c_{u,L})²];
-/// a term whose centre is at least 3m from both ends shares samples only
-/// with the four ordinary terms at ±m, ±2m and contributes 36 + 2·16 + 2·1
-/// = 70 (its own |c|² = 6). So only the O(m) terms near the ends are
+///     + Σ_{u sharing an inner sample} [(c_t·c_u)² − (c_{t,0}c_{u,0} + c_{t,L}c_{u,L})²]
+/// ```
+///
+/// A term whose centre is at least 3m from both ends shares samples only
+/// with the four ordinary terms at ±m, ±2m and contributes 36 + 2·16 + 2·1,
+/// that is 70 (its own |c|² = 6). So only the O(m) terms near the ends are
 /// summed. Checked against the dense quadratic form [`totvar_edf_exact`].
 ///
 /// ```
@@ -431,7 +435,7 @@ pub fn totvar_edf_white_pm(m: usize, n_phase: usize) -> Option<f64> {
     // Centres of the terms that read the inner sample j (0 < j < N − 1).
     let touching = |j: usize| -> Vec<usize> {
         let mut c: Vec<usize> = vec![j];
-        if j + m <= last - 1 {
+        if j + m < last {
             c.push(j + m);
         }
         if j > m {
