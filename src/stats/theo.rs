@@ -52,7 +52,7 @@
 //! E[Theo1(m)]/AVAR(0.75·m·τ0) ([`theoh_bias`]), like the total family's
 //! values ([`crate::stats::totals`]); for the FM noises B = 1.
 
-use crate::stats::gacv::{discrete_phase_gacv, BandLimitedPm};
+use crate::stats::gacv::{sampled_phase_gacv, BandLimitedPm};
 use crate::stats::quadratic::mean_square;
 use std::collections::HashMap;
 use std::sync::{Mutex, OnceLock};
@@ -176,7 +176,7 @@ fn pm_theo1_over_allan(kernel: &BandLimitedPm, m: usize) -> f64 {
 
 /// Most ThêoBR factors at which [`theoh_bias`] evaluates r exactly; between
 /// them 1/r (smooth in m) is interpolated linearly.
-const THEOH_BIAS_NODES: usize = 257;
+const THEOH_BIAS_NODES: usize = 65;
 
 /// The bias factor B = E\[TheoH²\]/AVAR(τ) of TheoH's ThêoBR part for white
 /// or flicker PM (α = 2, 1) at the Theo1 factor m on N samples (module
@@ -238,8 +238,8 @@ fn theoh_bias_uncached(alpha: i32, n_phase: usize, m: usize) -> Option<f64> {
 
 /// E[Theo1(τ)]/AVAR(τ) at τ = 0.75·m·τ0, exact from the estimators'
 /// terms: for white and flicker PM band-limited at f_h = 1/(2τ0) at every
-/// even m; for the FM noises (the discrete processes of
-/// [`crate::stats::gacv`]) where 0.75·m is whole (m a multiple of 4), else
+/// even m; for the FM noises (sampled; [`crate::stats::gacv`]) where 0.75·m
+/// is whole (m a multiple of 4), else
 /// `None`. The ratio ThêoBR's bias correction estimates from the record.
 ///
 /// ```
@@ -259,7 +259,7 @@ pub fn theo1_over_allan(alpha: i32, m: usize) -> Option<f64> {
         return None;
     }
     let r = 3 * m / 4;
-    let g = discrete_phase_gacv(alpha, 2 * r.max(m) + 1);
+    let g = sampled_phase_gacv(alpha, 2 * r.max(m) + 1);
     let s = |k: usize| g[k];
     let mf = m as f64;
     let theo: f64 = (1..=m / 2)
@@ -303,8 +303,8 @@ fn theo1_local_form(m: usize) -> Vec<f64> {
 }
 
 /// The exact EDF ν = tr(AS)²/tr((AS)²) of Theo1 at the (even) factor m on
-/// a gap-free record of `n_phase` samples, for the power law α (PM
-/// band-limited at f_h = 1/(2τ0), FM discrete; [`crate::stats::gacv`]): the
+/// a gap-free record of `n_phase` samples, for the power law α sampled
+/// (PM band-limited at f_h = 1/(2τ0); [`crate::stats::gacv`]): the
 /// whole estimate as one quadratic form, the
 /// local form R = Σ_k (1/k)·c_k c_kᵀ of one offset (NIST SP 1065 eq. 31)
 /// added at each of the N − m offsets.
@@ -333,12 +333,9 @@ pub fn theo1_edf_exact(alpha: i32, n_phase: usize, m: usize) -> Option<f64> {
 
 /// The phase autocovariance table (lags 0 … n − 1) behind the exact Theo1
 /// EDF: PM band-limited at f_h = 1/(2τ0), the FM noises as the discrete
-/// processes ([`crate::stats::gacv`]).
+/// processes sampled ([`crate::stats::gacv`]).
 fn phase_kernel(alpha: i32, n: usize) -> Vec<f64> {
-    match BandLimitedPm::new(alpha, n) {
-        Some(k) => k.table(n),
-        None => discrete_phase_gacv(alpha, n),
-    }
+    sampled_phase_gacv(alpha, n)
 }
 
 /// The exact EDF of Theo1 for an FM noise (α = 0 … −2) at factor m from N

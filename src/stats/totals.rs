@@ -11,16 +11,16 @@
 //! by dividing the variance by B (the deviation by √B).
 //!
 //! SP 1065 tabulates these factors. Here they are computed exactly from the
-//! estimators' own definitions under the discrete power-law noise of
-//! [`crate::stats::gacv`], as means of quadratic forms
+//! estimators' own definitions under the sampled power-law noise of IEEE
+//! Std 1139 (WPM and FPM band-limited at f_h = 1/(2τ0); the kernels of
+//! `gacv::sampled_phase_gacv`), as means of quadratic forms
 //! ([`crate::stats::quadratic`]):
 //!
 //! - **TOTVAR.** Of the N − 2 terms, N − 2m are ordinary Allan terms; the
 //!   2(m − 1) terms at the ends read a reflected sample 2x_0 − x_j (or its
 //!   twin at the far end) and have their own mean. So
 //!   B = [(N − 2m)·E_A + Σ_ends E_t] / ((N − 2)·E_A), exact for every N, m
-//!   and α (for FFM beyond m = 2^16 in proportion to its value there, where
-//!   it has settled to 2e−5). It reproduces SP 1065's B = 1 − a·τ/T with
+//!   and α, in O(m). It reproduces SP 1065's B = 1 − a·τ/T with
 //!   a = 0.481 (FFM) and 0.750 (RWFM) and a = 0 for WFM (CHECKS.md D;
 //!   checked in `tests/totals.rs`), and gives the factors SP 1065 does not
 //!   tabulate: white PM B = 1 + (4/3)·τ/T (the reflected ends add variance),
@@ -81,7 +81,7 @@
 
 use crate::deviation::modtotal::{frequency_form_on_phase, subsequence_form};
 use crate::deviation::total::reflected_terms;
-use crate::stats::gacv::{self, discrete_phase_gacv};
+use crate::stats::gacv::{self, sampled_phase_gacv};
 use crate::stats::quadratic::{mean_square, QuadraticForm};
 use crate::stats::VarianceKind;
 use std::collections::HashMap;
@@ -140,24 +140,13 @@ pub fn totvar_bias(alpha: i32, m: usize, n_phase: usize) -> Option<f64> {
     }
     // B = 1 − 2·S(m)/(N − 2) with S(m) = Σ_{i=1}^{m−1} (1 − E_i/E_A) over
     // the left-end terms (the right-end ones mirror them: the GACV is even),
-    // a function of m alone. Exact for every m where the GACV has a closed
-    // form; for FFM from a table up to m = 2^16 and in proportion beyond,
-    // where S(m)/m has settled (a = 2S/m: 0.48088 at 2^16, 0.48090 at 2^21).
-    let s = match gacv::discrete_phase_gacv_at(alpha, 0) {
-        Some(_) => end_sum(m, |k| {
-            gacv::discrete_phase_gacv_at(alpha, k).expect("closed form")
-        }),
-        None => {
-            let mr = m.min(TOTVAR_TABLE_M);
-            let g = discrete_phase_gacv(alpha, 2 * mr + 1);
-            end_sum(mr, |k| g[k]).map(|v| v * m as f64 / mr as f64)
-        }
-    }?;
+    // a function of m alone, exact for every m from the kernels one lag at
+    // a time (O(m)).
+    let s = end_sum(m, |k| {
+        gacv::sampled_phase_gacv_at(alpha, k).expect("α = 2 … −2 checked above")
+    })?;
     Some(1.0 - 2.0 * s / (n_phase as f64 - 2.0))
 }
-
-/// TOTVAR bias for FFM is computed from the GACV table up to this m.
-const TOTVAR_TABLE_M: usize = 1 << 16;
 
 /// S(m) = Σ_{i=1}^{m−1} (1 − E_i/E_A) for the GACV `g`: E_A the mean square
 /// of an Allan term x_0 − 2x_m + x_{2m}, E_i that of the left-end term
@@ -254,7 +243,7 @@ fn local_bias(which: Local, alpha: i32, m: usize) -> Option<f64> {
     let mr = m.min(BIAS_EXACT_UP_TO_M);
     cached(&BIAS_CACHE, (which, alpha, mr), || {
         let (r, len) = which.form(mr);
-        let g = discrete_phase_gacv(alpha, len);
+        let g = sampled_phase_gacv(alpha, len);
         let mut estimate = QuadraticForm::new(len);
         estimate.add_local(0, &r, len);
         let num = estimate.mean(&g);
@@ -276,7 +265,7 @@ fn local_edf_exact(which: Local, alpha: i32, m: usize, n_phase: usize) -> Option
     for start in 0..count {
         q.add_local(start, &r, len);
     }
-    let g = discrete_phase_gacv(alpha, q.samples());
+    let g = sampled_phase_gacv(alpha, q.samples());
     q.edf(&g)
 }
 
@@ -519,7 +508,7 @@ pub fn totvar_edf_exact(alpha: i32, m: usize, n_phase: usize) -> Option<f64> {
         let [c, d] = reflected_terms(n_phase, (i + m) as isize);
         q.add_square(&[a, b, (i, -2.0), c, d]);
     }
-    q.edf(&discrete_phase_gacv(alpha, n_phase))
+    q.edf(&sampled_phase_gacv(alpha, n_phase))
 }
 
 /// The exact EDF of MTOT (and TTOT; `hadamard` false) or HTOT (true) on a
