@@ -16,7 +16,7 @@ use tauwise::tau::TauGrid;
 use tauwise::units::{format_si, format_sig};
 use tauwise::Result;
 
-/// Noise type per τ and the fitted power-law model.
+/// The dominant noise per τ (WPM … RWFM, or drift) and the fitted power-law model.
 #[derive(Debug, ClapArgs)]
 pub struct Args {
     /// Input file (`-` reads standard input).

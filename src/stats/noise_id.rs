@@ -162,6 +162,11 @@ pub const MIN_R_FACTOR: usize = 4;
 pub const MIN_B1_POINTS: usize = 4;
 /// Two-sided confidence of the intervals used by the drift test.
 pub const DRIFT_TEST_CONFIDENCE: f64 = 0.95;
+/// Most decimated points the drift test reads at one τ (a contiguous block
+/// from the start of the record, like the lag-1 method's): at short τ,
+/// where that is less than the record, drift is far from dominating and
+/// 2^16 points already give the two variances to about 1 %.
+pub const DRIFT_TEST_MAX_POINTS: usize = 1 << 16;
 
 /// The estimator family whose reach the one identification uses: up to
 /// two differences, α = 2 … −2 (module notes).
@@ -374,9 +379,9 @@ pub struct NoiseIdentifier<'a> {
     rule: CrossTauRule,
     /// The record's least-squares linear frequency drift (per second).
     drift_rate: OnceLock<Option<f64>>,
-    /// Settled power law, and whether drift dominates, at m = 2^k,
-    /// k = 0, 1, … (module notes, steps 2 and 3).
-    octaves: OnceLock<Vec<(Option<NoiseId>, bool)>>,
+    /// The settled answer at m = 2^k, k = 0, 1, … (module notes, steps 2
+    /// and 3).
+    octaves: OnceLock<Vec<Option<NoiseAt>>>,
 }
 
 /// The rule across τ of step 2 (module notes).
@@ -413,20 +418,40 @@ impl<'a> NoiseIdentifier<'a> {
         if !(tau0.is_finite() && tau0 > 0.0) || m == 0 {
             return None;
         }
+        if self.rule == CrossTauRule::None {
+            return self.answer(m, None);
+        }
+        // A point of the internal grid has its answer there already.
+        if m.is_power_of_two() {
+            let k = m.trailing_zeros() as usize;
+            if let Some(a) = self.octaves().get(k) {
+                return *a;
+            }
+        }
         // The settled answer at the largest octave point strictly below m.
-        let (below, drift_below) = if m > 1 && self.rule == CrossTauRule::CapAtShorterTau {
+        let below = if m > 1 {
             let k = usize::BITS - 1 - (m - 1).leading_zeros(); // 2^k < m ≤ 2^(k+1)
-            self.octaves()
-                .get(k as usize)
-                .copied()
-                .unwrap_or((None, false))
+            self.octaves().get(k as usize).copied().flatten()
         } else {
-            (None, false)
+            None
         };
-        let (id, capped) = settle(self.raw.at(m), below)?;
+        self.answer(m, below.as_ref())
+    }
+
+    /// Steps 1–3 at m given the settled answer below it on the internal
+    /// grid (module notes).
+    fn answer(&self, m: usize, below: Option<&NoiseAt>) -> Option<NoiseAt> {
+        let tau0 = self.raw.tau0;
+        let below_id = below.map(|b| NoiseId {
+            alpha: b.alpha,
+            method: b.method,
+            r1: b.r1,
+        });
+        let (id, capped) = settle(self.raw.at(m), below_id)?;
         let drift = self.drift_test(m, id.alpha);
         // Drift's share D²τ²/2 grows faster with τ than any power law's, so
         // once it dominates on the internal grid it dominates beyond.
+        let drift_below = below.is_some_and(|b| b.is_drift());
         let noise = if drift_below || drift.is_some_and(|d| d.dominates) {
             NoiseLabel::Drift
         } else {
@@ -448,32 +473,51 @@ impl<'a> NoiseIdentifier<'a> {
     /// record has one (at least two finite frequency values).
     pub fn drift_rate(&self) -> Option<f64> {
         *self.drift_rate.get_or_init(|| {
+            // Least squares of y_i = (x_{i+1} − x_i)/τ0 on t_i = (i + ½)τ0
+            // over the finite y (the fit of `prepare::fit_drift_y`, linear),
+            // in two passes over the phase, with no copy of the record.
             let x = self.raw.x;
             let tau0 = self.raw.tau0;
-            let y: Vec<f64> = x.windows(2).map(|w| (w[1] - w[0]) / tau0).collect();
-            crate::prepare::fit_drift_y(&y, tau0, crate::prepare::DriftModel::Linear)
-                .ok()
-                .map(|f| f.rate)
-                .filter(|r| r.is_finite())
+            let ys = || {
+                x.windows(2)
+                    .enumerate()
+                    .map(move |(i, w)| ((i as f64 + 0.5) * tau0, (w[1] - w[0]) / tau0))
+                    .filter(|(_, y)| y.is_finite())
+            };
+            let (mut n, mut st, mut sy) = (0usize, 0.0, 0.0);
+            for (t, y) in ys() {
+                n += 1;
+                st += t;
+                sy += y;
+            }
+            if n < 2 {
+                return None;
+            }
+            let (tm, ym) = (st / n as f64, sy / n as f64);
+            let (mut sty, mut stt) = (0.0, 0.0);
+            for (t, y) in ys() {
+                sty += (t - tm) * (y - ym);
+                stt += (t - tm) * (t - tm);
+            }
+            let rate = sty / stt;
+            (stt > 0.0 && rate.is_finite()).then_some(rate)
         })
     }
 
-    /// The settled answers on the internal octave grid (module notes, steps
-    /// 2 and 3): the power law, and whether drift dominates.
-    fn octaves(&self) -> &[(Option<NoiseId>, bool)] {
+    /// The settled answers on the internal octave grid m = 2^k (module
+    /// notes, steps 2 and 3), each from the one below it.
+    fn octaves(&self) -> &[Option<NoiseAt>] {
         self.octaves.get_or_init(|| {
             let n = self.raw.x.len();
-            let mut out: Vec<(Option<NoiseId>, bool)> = Vec::new();
-            let mut previous: Option<NoiseId> = None;
-            let mut drift = false;
+            let mut out: Vec<Option<NoiseAt>> = Vec::new();
+            let mut previous: Option<NoiseAt> = None;
             let mut m = 1usize;
             while m <= n.max(1) {
-                let settled = settle(self.raw.at(m), previous).map(|s| s.0);
-                if let Some(id) = settled {
-                    drift = drift || self.drift_test(m, id.alpha).is_some_and(|d| d.dominates);
-                    previous = Some(id);
+                let here = self.answer(m, previous.as_ref());
+                out.push(here);
+                if here.is_some() {
+                    previous = here;
                 }
-                out.push((settled, drift));
                 match m.checked_mul(2) {
                     Some(v) => m = v,
                     None => break,
@@ -562,9 +606,10 @@ fn settle(own: Option<NoiseId>, below: Option<NoiseId>) -> Option<(NoiseId, bool
 }
 
 /// Σ_i (Σ_k c_k z_{i+k})² over the series z_j = x_{jm} (the record
-/// decimated to τ), every i whose window is finite, and the count of those i.
+/// decimated to τ, at most [`DRIFT_TEST_MAX_POINTS`] of it), every i whose
+/// window is finite, and the count of those i.
 fn strided_mean_square(x: &[f64], m: usize, c: &[f64]) -> (f64, usize) {
-    let len = x.len().div_ceil(m);
+    let len = x.len().div_ceil(m).min(DRIFT_TEST_MAX_POINTS);
     let (mut s, mut n) = (0.0, 0usize);
     for i in 0..len.saturating_sub(c.len() - 1) {
         let v: f64 = c

@@ -390,6 +390,9 @@ fn totdev_edf(alpha: i32, m: usize, n_phase: usize) -> Option<f64> {
 /// with the four ordinary terms at ±m, ±2m and contributes 36 + 2·16 + 2·1,
 /// that is 70 (its own |c|² = 6). So only the O(m) terms near the ends are
 /// summed. Checked against the dense quadratic form [`totvar_edf_exact`].
+/// Beyond m = [`TOTVAR_WPM_EXACT_UP_TO_M`] it is evaluated there with the
+/// same (N − 1)/m (the EDF has settled: the mean grows as m, the variance
+/// as m², at fixed (N − 1)/m).
 ///
 /// ```
 /// use tauwise::stats::totals::{totvar_edf_exact, totvar_edf_white_pm};
@@ -398,91 +401,158 @@ fn totdev_edf(alpha: i32, m: usize, n_phase: usize) -> Option<f64> {
 /// assert!((fast / dense - 1.0).abs() < 1e-12);
 /// ```
 pub fn totvar_edf_white_pm(m: usize, n_phase: usize) -> Option<f64> {
+    if m == 0 || n_phase < 2 * m + 1 || n_phase < 3 {
+        return None;
+    }
+    if m > TOTVAR_WPM_EXACT_UP_TO_M {
+        // Mean ∝ m and variance ∝ m² at fixed (N − 1)/m (the end samples'
+        // squares dominate): the EDF has settled to O(1/m′) there.
+        let mr = TOTVAR_WPM_EXACT_UP_TO_M;
+        let nr = ((n_phase - 1) as f64 * mr as f64 / m as f64).round() as usize + 1;
+        return totvar_edf_white_pm_exact(mr, nr.max(2 * mr + 1));
+    }
+    totvar_edf_white_pm_exact(m, n_phase)
+}
+
+/// [`totvar_edf_white_pm`] is exact up to this m, and beyond evaluated at
+/// it with the same (N − 1)/m.
+pub const TOTVAR_WPM_EXACT_UP_TO_M: usize = 1 << 14;
+
+/// A term's merged coefficients: up to five (index, weight) pairs.
+#[derive(Clone, Copy)]
+struct Term {
+    c: [(usize, f64); 5],
+    len: usize,
+}
+
+impl Term {
+    fn coef(&self, k: usize) -> f64 {
+        self.c[..self.len]
+            .iter()
+            .find(|e| e.0 == k)
+            .map_or(0.0, |e| e.1)
+    }
+}
+
+fn totvar_edf_white_pm_exact(m: usize, n_phase: usize) -> Option<f64> {
     let n = n_phase;
     if m == 0 || n < 2 * m + 1 || n < 3 {
         return None;
     }
     let last = n - 1;
     // The merged coefficients of the term centred at i (1 ≤ i ≤ N − 2).
-    let term = |i: usize| -> Vec<(usize, f64)> {
+    let term = |i: usize| -> Term {
         let [a, b] = reflected_terms(n, i as isize - m as isize);
         let [c, d] = reflected_terms(n, (i + m) as isize);
-        let mut v: Vec<(usize, f64)> = Vec::with_capacity(5);
+        let mut t = Term {
+            c: [(0, 0.0); 5],
+            len: 0,
+        };
         for (k, w) in [a, b, (i, -2.0), c, d] {
             if w == 0.0 {
                 continue;
             }
-            match v.iter_mut().find(|e| e.0 == k) {
+            match t.c[..t.len].iter_mut().find(|e| e.0 == k) {
                 Some(e) => e.1 += w,
-                None => v.push((k, w)),
+                None => {
+                    t.c[t.len] = (k, w);
+                    t.len += 1;
+                }
             }
         }
-        v.retain(|e| e.1 != 0.0);
-        v
+        let mut j = 0;
+        for q in 0..t.len {
+            if t.c[q].1 != 0.0 {
+                t.c[j] = t.c[q];
+                j += 1;
+            }
+        }
+        t.len = j;
+        t
     };
-    let coef = |t: &[(usize, f64)], k: usize| t.iter().find(|e| e.0 == k).map_or(0.0, |e| e.1);
     // Centres of the terms that read the inner sample j (0 < j < N − 1).
-    let touching = |j: usize| -> Vec<usize> {
-        let mut c: Vec<usize> = vec![j];
+    let touching = |j: usize, out: &mut [usize; 5]| -> usize {
+        let mut k = 0;
+        let mut push = |i: usize| {
+            if (1..last).contains(&i) && !out[..k].contains(&i) {
+                out[k] = i;
+                k += 1;
+            }
+        };
+        push(j);
         if j + m < last {
-            c.push(j + m);
+            push(j + m);
         }
         if j > m {
-            c.push(j - m);
+            push(j - m);
         }
         if j < m {
-            c.push(m - j); // reflected at the start: x*_{i−m} = 2x_0 − x_{m−i}
+            push(m - j); // reflected at the start: x*_{i−m} = 2x_0 − x_{m−i}
         }
         if let Some(i) = (2 * last).checked_sub(m + j) {
             if i + m > last && i < last && i >= 1 {
-                c.push(i); // reflected at the end
+                push(i); // reflected at the end
             }
         }
-        c.retain(|&i| (1..last).contains(&i));
-        c.sort_unstable();
-        c.dedup();
-        c
+        k
     };
     // Q_0, Q_L, Q_0L over the terms that read an end sample.
-    let mut end_terms: Vec<usize> = (1..=m.min(last - 1)).collect();
-    end_terms.extend(last.saturating_sub(m).max(1)..last);
-    end_terms.sort_unstable();
-    end_terms.dedup();
     let (mut q0, mut ql, mut q0l) = (0.0, 0.0, 0.0);
-    for &i in &end_terms {
+    let mut end = |i: usize| {
         let t = term(i);
-        let (a, b) = (coef(&t, 0), coef(&t, last));
+        let (a, b) = (t.coef(0), t.coef(last));
         q0 += a * a;
         ql += b * b;
         q0l += a * b;
+    };
+    let left_top = m.min(last - 1);
+    for i in 1..=left_top {
+        end(i);
+    }
+    for i in last.saturating_sub(m).max(1).max(left_top + 1)..last {
+        end(i);
     }
     // Terms with centre in [3m, N − 1 − 3m] are ordinary (70, |c|² = 6).
     let generic = |i: usize| i >= 3 * m && i + 3 * m <= last;
     let generic_count = if last >= 6 * m { last - 6 * m + 1 } else { 0 };
     let mut trace = 6.0 * generic_count as f64;
     let mut frob = 70.0 * generic_count as f64;
-    for i in 1..last {
-        if generic(i) {
-            continue;
-        }
+    let mut near = |i: usize| {
         let t = term(i);
-        trace += t.iter().map(|e| e.1 * e.1).sum::<f64>();
-        let (t0, tl) = (coef(&t, 0), coef(&t, last));
-        let mut partners: Vec<usize> = t
-            .iter()
-            .filter(|e| e.0 != 0 && e.0 != last)
-            .flat_map(|e| touching(e.0))
-            .collect();
-        partners.sort_unstable();
-        partners.dedup();
+        trace += t.c[..t.len].iter().map(|e| e.1 * e.1).sum::<f64>();
+        let (t0, tl) = (t.coef(0), t.coef(last));
+        let mut partners = [0usize; 25];
+        let mut np = 0;
+        let mut buf = [0usize; 5];
+        for e in &t.c[..t.len] {
+            if e.0 == 0 || e.0 == last {
+                continue;
+            }
+            let k = touching(e.0, &mut buf);
+            for &u in &buf[..k] {
+                if !partners[..np].contains(&u) {
+                    partners[np] = u;
+                    np += 1;
+                }
+            }
+        }
         let mut p = t0 * t0 * q0 + tl * tl * ql + 2.0 * t0 * tl * q0l;
-        for u in partners {
+        for &u in &partners[..np] {
             let cu = term(u);
-            let d: f64 = t.iter().map(|e| e.1 * coef(&cu, e.0)).sum();
-            let e = t0 * coef(&cu, 0) + tl * coef(&cu, last);
+            let d: f64 = t.c[..t.len].iter().map(|e| e.1 * cu.coef(e.0)).sum();
+            let e = t0 * cu.coef(0) + tl * cu.coef(last);
             p += d * d - e * e;
         }
         frob += p;
+    };
+    if generic_count > 0 {
+        for i in (1..3 * m).chain(last - 3 * m + 1..last) {
+            near(i);
+        }
+    } else {
+        for i in (1..last).filter(|&i| !generic(i)) {
+            near(i);
+        }
     }
     (frob > 0.0).then(|| trace * trace / frob)
 }
