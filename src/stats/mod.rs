@@ -49,6 +49,29 @@ pub use noise_id::{
 };
 pub use totals::totvar_bias;
 
+/// Results remembered per key, shared by every τ and record: values that
+/// depend only on the key (noise type, factor, reduced record size …) and
+/// take milliseconds or more to compute.
+pub(crate) type Cache<K, V> =
+    std::sync::OnceLock<std::sync::Mutex<std::collections::HashMap<K, Option<V>>>>;
+
+/// The value for `key` from `cache`, computed by `f` the first time.
+pub(crate) fn cached<K: std::hash::Hash + Eq, V: Copy>(
+    cache: &Cache<K, V>,
+    key: K,
+    f: impl FnOnce() -> Option<V>,
+) -> Option<V> {
+    let map = cache.get_or_init(|| std::sync::Mutex::new(std::collections::HashMap::new()));
+    if let Some(v) = map.lock().ok().and_then(|c| c.get(&key).copied()) {
+        return v;
+    }
+    let v = f();
+    if let Ok(mut c) = map.lock() {
+        c.insert(key, v);
+    }
+    v
+}
+
 /// The variance behind a deviation, as far as its statistics are concerned.
 ///
 /// Greenhall & Riley (2003) describe each variance by three numbers:

@@ -54,8 +54,8 @@
 
 use crate::stats::gacv::{sampled_phase_gacv, BandLimitedPm};
 use crate::stats::quadratic::mean_square;
-use std::collections::HashMap;
-use std::sync::{Mutex, OnceLock};
+use crate::stats::Cache;
+use std::sync::OnceLock;
 
 /// Equivalent degrees of freedom of Theo1 (NIST SP 1065, Theo1 EDF table,
 /// from memory), with N phase samples, the Theo1 factor m (even) and
@@ -197,8 +197,8 @@ pub fn theoh_bias(alpha: i32, n_phase: usize, m: usize) -> Option<f64> {
     if !(1..=2).contains(&alpha) || m < 2 || m % 2 == 1 {
         return None;
     }
-    static CACHE: Memo<(i32, usize, usize)> = OnceLock::new();
-    memo(&CACHE, (alpha, n_phase, m), || {
+    static CACHE: Cache<(i32, usize, usize), f64> = OnceLock::new();
+    crate::stats::cached(&CACHE, (alpha, n_phase, m), || {
         theoh_bias_uncached(alpha, n_phase, m)
     })
 }
@@ -369,29 +369,8 @@ pub fn theo1_edf_exact_reduced(alpha: i32, n_phase: usize, m: usize) -> Option<f
 /// [`theo1_edf_exact`] remembered per (α, m, N): the reduced records take
 /// few distinct values, each some milliseconds to evaluate.
 fn cached(alpha: i32, m: usize, n: usize) -> Option<f64> {
-    static CACHE: Memo<(i32, usize, usize)> = OnceLock::new();
-    memo(&CACHE, (alpha, m, n), || theo1_edf_exact(alpha, n, m))
-}
-
-/// Results remembered per key (values that depend only on the key and
-/// take milliseconds to compute), shared by every τ and record.
-type Memo<K> = OnceLock<Mutex<HashMap<K, Option<f64>>>>;
-
-/// The value for `key` from `cache`, computed by `f` the first time.
-fn memo<K: std::hash::Hash + Eq>(
-    cache: &Memo<K>,
-    key: K,
-    f: impl FnOnce() -> Option<f64>,
-) -> Option<f64> {
-    let map = cache.get_or_init(|| Mutex::new(HashMap::new()));
-    if let Some(v) = map.lock().ok().and_then(|c| c.get(&key).copied()) {
-        return v;
-    }
-    let v = f();
-    if let Ok(mut c) = map.lock() {
-        c.insert(key, v);
-    }
-    v
+    static CACHE: Cache<(i32, usize, usize), f64> = OnceLock::new();
+    crate::stats::cached(&CACHE, (alpha, m, n), || theo1_edf_exact(alpha, n, m))
 }
 
 /// Theo1 factors up to this get the large-record form of [`theo1_edf_pm`] with the
@@ -526,8 +505,8 @@ pub fn theo1_interior_phi(alpha: i32, m: usize) -> Option<f64> {
 }
 
 fn theo1_interior_phi_cached(alpha: i32, m: usize) -> Option<f64> {
-    static CACHE: Memo<(i32, usize)> = OnceLock::new();
-    memo(&CACHE, (alpha, m), || theo1_interior_phi(alpha, m))
+    static CACHE: Cache<(i32, usize), f64> = OnceLock::new();
+    crate::stats::cached(&CACHE, (alpha, m), || theo1_interior_phi(alpha, m))
 }
 
 /// The EDF of Theo1 for white or flicker PM (α = 2, 1) at the (even) factor

@@ -84,8 +84,8 @@ use crate::deviation::total::reflected_terms;
 use crate::stats::gacv::{self, sampled_phase_gacv};
 use crate::stats::quadratic::{mean_square, QuadraticForm};
 use crate::stats::VarianceKind;
-use std::collections::HashMap;
-use std::sync::{Mutex, OnceLock};
+use crate::stats::{cached, Cache};
+use std::sync::OnceLock;
 
 /// MTOT and HTOT bias factors are computed at the actual m up to here, and
 /// at this m beyond.
@@ -216,28 +216,12 @@ impl Local {
 
 /// (member, α, m'): what the cached results depend on.
 type Key = (Local, i32, usize);
-/// A cache of results that depend only on [`Key`], shared by every τ and
-/// record (each costs up to some tens of milliseconds to compute).
-type Cache<V> = OnceLock<Mutex<HashMap<Key, Option<V>>>>;
 
 /// The bias factor of each (member, α, m').
-static BIAS_CACHE: Cache<f64> = OnceLock::new();
+static BIAS_CACHE: Cache<Key, f64> = OnceLock::new();
 /// The EDF at T/τ = 16 and 32 of each (member, α, m'), the ends of the line
 /// used beyond T/τ = 32.
-static EDF_LINE_CACHE: Cache<(f64, f64)> = OnceLock::new();
-
-/// The value for `key` from `cache`, computed by `f` the first time.
-fn cached<V: Copy>(cache: &Cache<V>, key: Key, f: impl FnOnce() -> Option<V>) -> Option<V> {
-    let map = cache.get_or_init(|| Mutex::new(HashMap::new()));
-    if let Some(v) = map.lock().ok().and_then(|c| c.get(&key).copied()) {
-        return v;
-    }
-    let v = f();
-    if let Ok(mut c) = map.lock() {
-        c.insert(key, v);
-    }
-    v
-}
+static EDF_LINE_CACHE: Cache<Key, (f64, f64)> = OnceLock::new();
 
 fn local_bias(which: Local, alpha: i32, m: usize) -> Option<f64> {
     let mr = m.min(BIAS_EXACT_UP_TO_M);
