@@ -6,7 +6,7 @@
 use crate::deviation::{compute, Curve, Estimator, Point};
 use crate::error::{Error, Result};
 use crate::record::PhaseRecord;
-use crate::stats::{annotate, StatsOptions};
+use crate::stats::{annotate_with, NoiseIdentifier, StatsOptions};
 use crate::tau::TauGrid;
 
 /// What to compute.
@@ -65,11 +65,13 @@ pub fn analyse(x: &PhaseRecord, req: &Request) -> Result<Vec<Curve>> {
         Some((r, k)) => (r, *k),
         None => (x, 1.0),
     };
+    // One identification of the record's noise, shared by every estimator.
+    let ids = NoiseIdentifier::new(x);
     let mut curves = Vec::with_capacity(req.estimators.len());
     for &est in &req.estimators {
-        let ms = req.grid.ms(x.tau0, est.max_m(n))?;
+        let ms = req.grid.ms_for(est, x.tau0, n)?;
         let estimates = compute(est, x, &ms);
-        let mut points = annotate(est, x, &estimates, &opts)?;
+        let mut points = annotate_with(est, x, &ids, &estimates, &opts)?;
         if back != 1.0 {
             for p in &mut points {
                 p.estimate.value *= back;
@@ -110,25 +112,28 @@ pub struct RecordModel {
     pub fit: crate::model::fit::ModelFit,
 }
 
-/// Fit the power-law model of `x` over the τ grid `grid` (see [`RecordModel`]):
-/// OADEV and MDEV annotated by the statistics layer, then
+/// Fit the power-law model of `x` (see [`RecordModel`]): OADEV and MDEV
+/// annotated by the statistics layer on the record's octave grid, then
 /// [`crate::model::fit::fit_variances`] on the variances σ² with the EDF as
-/// weight (the variance of ln σ̂² is about 2/EDF), f_h = 1/(2τ0). Points whose
-/// noise type, and so whose EDF, cannot be identified (the longest τ of a
-/// short record) are left out. Remove aging first
-/// ([`crate::prepare::remove_drift`]): drift left in would pose as RWFM.
+/// weight (the variance of ln σ̂² is about 2/EDF), f_h = 1/(2τ0). The fit
+/// always uses the octave grid, so the model (and its standard errors,
+/// whose calibration assumes that grid) does not depend on the τ requested;
+/// the curves returned for display are on `grid`. Points without an EDF —
+/// where no noise type could be identified, or where linear drift dominates
+/// (no power-law EDF there) — are left out. Remove aging first
+/// ([`crate::prepare::remove_drift`]) to fit the noise beneath it.
 pub fn fit_record_model(x: &PhaseRecord, grid: &TauGrid) -> Result<RecordModel> {
     use crate::model::fit::{fit_variances, FitPoint, VarKind};
-    let req = Request {
+    let request = |grid: &TauGrid| Request {
         estimators: vec![Estimator::Oadev, Estimator::Mdev],
         grid: grid.clone(),
         confidence: crate::stats::DEFAULT_CONFIDENCE,
         forced_alpha: None,
         bias_correction: true,
     };
-    let curves = analyse(x, &req)?;
+    let octave = analyse(x, &request(&TauGrid::Octave))?;
     let mut points = Vec::new();
-    for (curve, kind) in curves.iter().zip([VarKind::Avar, VarKind::Mvar]) {
+    for (curve, kind) in octave.iter().zip([VarKind::Avar, VarKind::Mvar]) {
         for p in &curve.points {
             let e = p.estimate;
             if let Some(edf) = p.edf.filter(|v| v.is_finite() && *v > 0.0) {
@@ -152,6 +157,11 @@ pub fn fit_record_model(x: &PhaseRecord, grid: &TauGrid) -> Result<RecordModel> 
         )));
     }
     let fit = fit_variances(&points, 0.5 / x.tau0)?;
+    let curves = if *grid == TauGrid::Octave {
+        octave
+    } else {
+        analyse(x, &request(grid))?
+    };
     Ok(RecordModel { curves, fit })
 }
 
@@ -179,14 +189,29 @@ pub const SAME_TAU_RATIO: f64 = 1.189_207_115_002_721; // 2^(1/4)
 /// ([`Estimator::estimates`]: ADEV, OADEV, TOTDEV and TheoH the Allan
 /// variance; MDEV and MTOT the modified Allan variance; HDEV, OHDEV and
 /// HTOT the Hadamard variance), group the points by τ (within
-/// [`SAME_TAU_RATIO`]) and take, in each group, the point whose confidence
-/// interval is narrowest in relative terms (smallest hi/lo, i.e. the widest
-/// EDF); ties go to the estimator requested first. Points without an
-/// interval are not eligible, nor are time deviations, Theo1 (biased except
-/// for white FM: request TheoH) or estimators of another variance — the
-/// Hadamard variance ignores a frequency drift that the Allan variance
-/// sees, so a curve that hopped between them would show steps that are not
-/// in the oscillator.
+/// [`SAME_TAU_RATIO`]) and take, in each group, the point of the estimator
+/// chosen for that τ.
+///
+/// **Only honest intervals.** A point is eligible when it has an interval
+/// (an EDF rule for its noise that the seeded Monte Carlo of
+/// [`crate::stats::coverage`] checks): not where drift dominates an
+/// estimator that sees it, nor where no noise was identified; never a time
+/// deviation, Theo1 (biased except for white FM: request TheoH) or an
+/// estimator of another variance — the Hadamard variance ignores a
+/// frequency drift that the Allan variance sees, so a curve that hopped
+/// between them would show steps that are not in the oscillator.
+///
+/// **The choice does not follow the value.** Were the narrowest interval
+/// of each record taken, the choice would depend on the noise type
+/// identified in that record, which itself leans on the values (a record
+/// whose long-τ values run high looks redder, and its bias correction
+/// changes with the type) — the choice would follow the value and bias the
+/// curve. So the estimator at each τ is chosen from the EDFs alone, the
+/// same for every record of that length: the candidate whose EDF, over the
+/// five noise types WPM … RWFM, stays nearest the best candidate's (the
+/// largest minimum over α of ν_est(α)/max_est′ ν_est′(α), each for its own
+/// m, τ and terms); ties go to the estimator requested first. `n_phase` and
+/// `tau0` are those of the record.
 ///
 /// The total family is compared bias-corrected for the identified noise
 /// type ([`crate::stats::totals`]) and TheoH is bias-corrected by design,
@@ -196,7 +221,7 @@ pub const SAME_TAU_RATIO: f64 = 1.189_207_115_002_721; // 2^(1/4)
 /// decide.
 ///
 /// Curves whose name is not an estimator (derived curves) are skipped.
-pub fn best(curves: &[Curve]) -> Vec<BestPoint> {
+pub fn best(curves: &[Curve], n_phase: usize, tau0: f64) -> Vec<BestPoint> {
     let mut cands: Vec<(usize, BestPoint)> = Vec::new();
     let sigma_y = |c: &Curve| {
         Estimator::from_name(&c.estimator)
@@ -215,17 +240,13 @@ pub fn best(curves: &[Curve]) -> Vec<BestPoint> {
             continue;
         }
         for p in &c.points {
-            if let (Some(lo), Some(hi)) = (p.lo, p.hi) {
-                if lo > 0.0 && hi.is_finite() && p.estimate.tau > 0.0 {
-                    cands.push((
-                        order,
-                        BestPoint {
-                            point: *p,
-                            from: est,
-                        },
-                    ));
-                }
-            }
+            cands.push((
+                order,
+                BestPoint {
+                    point: *p,
+                    from: est,
+                },
+            ));
         }
     }
     cands.sort_by(|a, b| {
@@ -235,7 +256,10 @@ pub fn best(curves: &[Curve]) -> Vec<BestPoint> {
             .total_cmp(&b.1.point.estimate.tau)
             .then(a.0.cmp(&b.0))
     });
-    let width = |b: &BestPoint| b.point.hi.unwrap_or(f64::INFINITY) / b.point.lo.unwrap_or(0.0);
+    let honest = |b: &BestPoint| {
+        matches!((b.point.lo, b.point.hi), (Some(lo), Some(hi)) if lo > 0.0 && hi.is_finite())
+            && b.point.estimate.tau > 0.0
+    };
     let mut out: Vec<BestPoint> = Vec::new();
     let mut i = 0;
     while i < cands.len() {
@@ -244,11 +268,43 @@ pub fn best(curves: &[Curve]) -> Vec<BestPoint> {
         while j < cands.len() && cands[j].1.point.estimate.tau <= start * SAME_TAU_RATIO {
             j += 1;
         }
-        let chosen = cands[i..j]
+        let group = &cands[i..j];
+        // The choice from the EDFs alone (see above), among the estimators
+        // present at this τ.
+        let edfs: Vec<[Option<f64>; 5]> = group
             .iter()
-            .min_by(|a, b| width(&a.1).total_cmp(&width(&b.1)).then(a.0.cmp(&b.0)))
-            .map(|c| c.1);
-        out.extend(chosen);
+            .map(|(_, b)| {
+                std::array::from_fn(|k| {
+                    crate::stats::annotate::edf_of(
+                        b.from,
+                        2 - k as i32,
+                        n_phase,
+                        tau0,
+                        &b.point.estimate,
+                    )
+                })
+            })
+            .collect();
+        let score = |g: usize| -> f64 {
+            (0..5)
+                .filter_map(|k| {
+                    let top = edfs.iter().filter_map(|e| e[k]).fold(0.0f64, f64::max);
+                    (top > 0.0).then(|| edfs[g][k].unwrap_or(0.0) / top)
+                })
+                .fold(f64::INFINITY, f64::min)
+        };
+        let mut ranked: Vec<usize> = (0..group.len()).collect();
+        ranked.sort_by(|&a, &b| {
+            score(b)
+                .total_cmp(&score(a))
+                .then(group[a].0.cmp(&group[b].0))
+        });
+        // The chosen estimator's point, if its interval is honest here.
+        if let Some(&g) = ranked.first() {
+            if honest(&group[g].1) {
+                out.push(group[g].1);
+            }
+        }
         i = j;
     }
     out
@@ -281,6 +337,7 @@ mod tests {
             hi: Some(hi),
             alpha: Some(0),
             bias: None,
+            drift: false,
         }
     }
 
@@ -292,7 +349,7 @@ mod tests {
     }
 
     #[test]
-    fn best_takes_the_narrowest_relative_interval_per_tau() {
+    fn best_takes_only_eligible_points() {
         let curves = vec![
             // A time deviation is never chosen, however narrow, nor does it
             // set the family.
@@ -301,13 +358,6 @@ mod tests {
                 "oadev",
                 vec![pt(1.0, 1.0, 0.9, 1.1), pt(2.0, 1.0, 0.5, 2.0)],
             ),
-            // Narrower at τ = 2 (ratio 1.5 < 4); wider at τ = 1.
-            curve(
-                "totdev",
-                vec![pt(1.0, 1.0, 0.8, 1.3), pt(2.0, 1.0, 0.8, 1.2)],
-            ),
-            // TheoH's τ = 1.5·2 = 3 vs 4: separate groups; 4.5 joins 4.
-            curve("theoh", vec![pt(4.5, 1.0, 0.95, 1.05)]),
             // Theo1 is biased except for white FM: never chosen.
             curve("theo1", vec![pt(6.0, 1.0, 0.99, 1.01)]),
             // Another variance (the first σ_y curve, oadev, sets the
@@ -328,31 +378,61 @@ mod tests {
                 })],
             ),
         ];
-        let b = best(&curves);
+        let b = best(&curves, 1000, 1.0);
         let got: Vec<(f64, Estimator)> = b.iter().map(|p| (p.point.estimate.tau, p.from)).collect();
-        assert_eq!(
-            got,
-            vec![
-                (1.0, Estimator::Oadev),
-                (2.0, Estimator::Totdev),
-                (4.5, Estimator::Theoh),
-            ]
-        );
+        assert_eq!(got, vec![(1.0, Estimator::Oadev), (2.0, Estimator::Oadev)]);
         assert_eq!(best_curve(&b).estimator, "best");
-        assert_eq!(best_curve(&b).points.len(), 3);
+        assert_eq!(best_curve(&b).points.len(), 2);
+        assert!(best(&[], 1000, 1.0).is_empty());
+        assert!(best(&[curve("mtie", vec![pt(1.0, 1.0, 0.9, 1.1)])], 1000, 1.0).is_empty());
     }
 
+    /// The estimator chosen at a τ depends on the EDF rules only: swapping
+    /// which candidate has the narrower interval (and the larger value)
+    /// does not change it.
+    #[test]
+    fn best_choice_does_not_follow_the_value() {
+        let at = |terms: usize, value: f64, lo: f64, hi: f64| {
+            let mut p = pt(64.0, value, lo, hi);
+            p.estimate.terms = terms;
+            p
+        };
+        // N = 1000, m = 64: OADEV has N − 2m terms, TOTDEV N − 2.
+        let a = vec![
+            curve("oadev", vec![at(872, 1.0, 0.9, 1.1)]),
+            curve("totdev", vec![at(998, 2.0, 1.0, 4.0)]),
+        ];
+        let b = vec![
+            curve("oadev", vec![at(872, 2.0, 1.0, 4.0)]),
+            curve("totdev", vec![at(998, 1.0, 0.99, 1.01)]),
+        ];
+        let ca = best(&a, 1000, 1.0)[0].from;
+        let cb = best(&b, 1000, 1.0)[0].from;
+        assert_eq!(ca, cb);
+        // For white PM the reflected ends cost TOTDEV most of its EDF at
+        // T/τ ≈ 16 (stats::totals), so OADEV is never far from the best.
+        assert_eq!(ca, Estimator::Oadev);
+    }
+
+    /// At m = 1 TOTDEV is OADEV term for term (the same EDF for every noise):
+    /// the tie goes to the estimator requested first.
     #[test]
     fn best_ties_go_to_the_first_requested() {
-        let curves = vec![
-            curve("mdev", vec![pt(1.0, 2.0, 1.0, 3.0)]),
-            curve("mtot", vec![pt(1.0, 1.0, 0.5, 1.5)]),
-            curve("oadev", vec![pt(1.0, 1.0, 0.9, 1.1)]),
+        let at = |terms| {
+            let mut p = pt(1.0, 1.0, 0.9, 1.1);
+            p.estimate.terms = terms;
+            p
+        };
+        let ot = vec![
+            curve("oadev", vec![at(998)]),
+            curve("totdev", vec![at(998)]),
         ];
-        // The modified family (set by mdev): oadev is not eligible.
-        assert_eq!(best(&curves)[0].from, Estimator::Mdev);
-        assert!(best(&[]).is_empty());
-        assert!(best(&[curve("mtie", vec![pt(1.0, 1.0, 0.9, 1.1)])]).is_empty());
+        assert_eq!(best(&ot, 1000, 1.0)[0].from, Estimator::Oadev);
+        let to = vec![
+            curve("totdev", vec![at(998)]),
+            curve("oadev", vec![at(998)]),
+        ];
+        assert_eq!(best(&to, 1000, 1.0)[0].from, Estimator::Totdev);
     }
 }
 

@@ -28,6 +28,10 @@ pub enum TauGrid {
 const GRID_EXPECTED: &str =
     "expected octave, decade, all, log:N (N points per decade, 1 to 1000) or a comma-separated list of durations such as 1,10,100s,1h";
 
+/// Theo1's smallest factor m′ (τ = 7.5·τ0; NIST SP 1065 §5.2.15: m even,
+/// 10 ≤ m ≤ N − 1).
+pub const THEO1_MIN_FACTOR: usize = 10;
+
 /// Relative tolerance for an explicit τ to count as a whole multiple of τ0.
 const WHOLE_TOL: f64 = 1e-6;
 
@@ -76,6 +80,58 @@ impl TauGrid {
             taus.push(tau);
         }
         Ok(TauGrid::Explicit(taus))
+    }
+
+    /// The averaging factors to pass to [`crate::deviation::compute`] for
+    /// `est` on a record of `n_phase` samples at τ0: [`TauGrid::ms`] up to
+    /// the estimator's largest factor, except for Theo1, which lives on its
+    /// own lattice τ = 0.75·m′·τ0 with m′ even and m′ ≥ 10 (NIST SP 1065
+    /// §5.2.15): there the octave grid is τ = 7.5·2^k·τ0 (m′ = 10·2^k,
+    /// exactly octave-spaced from Theo1's shortest τ), and every other grid
+    /// keeps the τ whose nearest lattice point has m′ ≥ 10. The factors
+    /// returned for Theo1 are grid factors m = round(0.75·m′), which
+    /// `compute` maps back to m′.
+    ///
+    /// ```
+    /// use tauwise::deviation::Estimator;
+    /// use tauwise::tau::TauGrid;
+    /// let ms = TauGrid::Octave.ms_for(Estimator::Theo1, 1.0, 1001).unwrap();
+    /// assert_eq!(ms, vec![8, 15, 30, 60, 120, 240, 480]); // τ = 7.5, 15, 30, … s
+    /// ```
+    pub fn ms_for(
+        &self,
+        est: crate::deviation::Estimator,
+        tau0: f64,
+        n_phase: usize,
+    ) -> Result<Vec<usize>> {
+        let max_m = est.max_m(n_phase);
+        if est != crate::deviation::Estimator::Theo1 {
+            return self.ms(tau0, max_m);
+        }
+        let top = n_phase.saturating_sub(1) & !1; // largest even m′ ≤ N − 1
+        let lattice = |m: usize| 2 * ((m as f64 / 1.5).round() as usize);
+        let out: Vec<usize> = match self {
+            TauGrid::Octave => {
+                // Check τ0 as ms() does.
+                self.ms(tau0, 0)?;
+                let mut v = Vec::new();
+                let mut mp = THEO1_MIN_FACTOR;
+                while mp <= top {
+                    v.push((0.75 * mp as f64).round() as usize);
+                    match mp.checked_mul(2) {
+                        Some(n) => mp = n,
+                        None => break,
+                    }
+                }
+                v
+            }
+            _ => self
+                .ms(tau0, max_m)?
+                .into_iter()
+                .filter(|&m| lattice(m) >= THEO1_MIN_FACTOR)
+                .collect(),
+        };
+        Ok(out)
     }
 
     /// Averaging factors for this grid: sorted, deduplicated, within

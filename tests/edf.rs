@@ -421,8 +421,8 @@ fn edf_domain() {
     for kind in VarianceKind::ALL {
         for alpha in -6..=4 {
             let e = edf(kind, alpha, 2, 1000);
-            // TOTDEV and HTOT have no EDF for WPM and FPM (src/stats/totals.rs).
-            let pm_gap = matches!(kind, VarianceKind::Total | VarianceKind::HadamardTotal);
+            // HTOT has no EDF for WPM and FPM (src/stats/totals.rs).
+            let pm_gap = matches!(kind, VarianceKind::HadamardTotal);
             let defined = kind.alpha_range().contains(&alpha) && !(pm_gap && alpha >= 1);
             assert_eq!(e.is_some(), defined, "{kind:?} α={alpha}");
             if let Some(e) = e {
@@ -447,16 +447,18 @@ fn totdev_rules() {
     assert!((e(0) - 1.50 * ratio).abs() < 1e-12);
     assert!((e(-1) - (1.17 * ratio - 0.22)).abs() < 1e-12);
     assert!((e(-2) - (0.93 * ratio - 0.36)).abs() < 1e-12);
-    // m = 1: TOTVAR and OAVAR are the same sum (analytic), so the same EDF
-    // (to the rounding of SP 1065's b, c against the tables' a0).
-    for alpha in [0, -1, -2] {
+    // m = 1: TOTVAR and OAVAR are the same sum term for term (analytic), so
+    // exactly the same EDF, for every noise type (issue: they differed).
+    for alpha in -2..=2 {
         let tot = edf(VarianceKind::Total, alpha, 1, n).unwrap();
         let oa = edf(VarianceKind::OverlappingAllan, alpha, 1, n).unwrap();
-        assert!((tot / oa - 1.0).abs() < 0.01, "α={alpha}: {tot} vs {oa}");
+        assert_eq!(tot, oa, "α={alpha}");
     }
-    // WPM/FPM: SP 1065 gives no rule, so no EDF.
-    assert_eq!(edf(VarianceKind::Total, 2, m, n), None);
-    assert_eq!(edf(VarianceKind::Total, 1, m, n), None);
+    // WPM/FPM (SP 1065 gives no rule): WPM exact, FPM below OADEV's.
+    let wpm = edf(VarianceKind::Total, 2, m, n).unwrap();
+    assert!((wpm / tauwise::stats::totals::totvar_edf_exact(2, m, n).unwrap() - 1.0).abs() < 1e-10);
+    let fpm = edf(VarianceKind::Total, 1, m, n).unwrap();
+    assert!(fpm > 0.0 && fpm < edf(VarianceKind::OverlappingAllan, 1, m, n).unwrap());
     // Bias 1 − a·τ/T, a = 0.481 (FFM), 0.750 (RWFM), 0 (WFM); tauwise's
     // exact factor meets it within 0.002 here (the a-values themselves are
     // checked in tests/totals.rs).
@@ -466,6 +468,38 @@ fn totdev_rules() {
     // TOTDEV reaches τ = T/2 at most.
     assert!(edf(VarianceKind::Total, 0, 500, n).is_some());
     assert_eq!(edf(VarianceKind::Total, 0, 501, n), None);
+}
+
+/// The O(m) exact TOTVAR EDF for white PM equals the dense quadratic form
+/// ν = tr(A)²/tr(A²) (the textbook definition, NIST SP 1065 eq. 25 with its
+/// reflections) for short and long m, ends apart and overlapping, odd and
+/// even N.
+#[test]
+fn totdev_white_pm_fast_equals_dense() {
+    use tauwise::stats::totals::{totvar_edf_exact, totvar_edf_white_pm};
+    for (n, m) in [
+        (11usize, 1usize),
+        (11, 2),
+        (11, 5),
+        (40, 3),
+        (40, 19),
+        (101, 10),
+        (101, 16),
+        (101, 34),
+        (101, 50),
+        (256, 25),
+        (256, 100),
+        (513, 64),
+    ] {
+        let fast = totvar_edf_white_pm(m, n).unwrap();
+        let dense = totvar_edf_exact(2, m, n).unwrap();
+        assert!(
+            (fast / dense - 1.0).abs() < 1e-12,
+            "N={n} m={m}: {fast} vs {dense}"
+        );
+    }
+    assert_eq!(totvar_edf_white_pm(0, 10), None);
+    assert_eq!(totvar_edf_white_pm(6, 10), None);
 }
 
 // ---------------------------------------------------------------------------

@@ -107,9 +107,12 @@ fn htot_bias_reproduces_sp1065() {
 /// Analytic relations of the MTOT/HTOT factors: MTOT(1) = MDEV(1)/√2 for
 /// every record, so B = 1/2 at m = 1 for every noise; and the frequencies of
 /// the power law α are the phase of α + 2, so HTOT at α equals MTOT at
-/// α + 2 (exactly where both use the plain discrete process: WFM↔WPM,
-/// FFM↔FPM, FWFM↔FFM; within 0.2 % where one side is the sampled
-/// continuous random-walk FM, from m = 16). TTOT has MTOT's factor.
+/// α + 2 — exactly for WFM↔WPM (white frequency samples are white phase
+/// samples); for the others the sampled processes the factors are computed
+/// for (IEEE Std 1139 sampled at τ0, PM band-limited) differ from the
+/// differenced ones at short lags only, so they agree within 1 % from
+/// m = 16 (analytic identity; the kernels in src/stats/gacv.rs). TTOT has
+/// MTOT's factor.
 #[test]
 fn modified_total_factor_relations() {
     for alpha in -2..=2 {
@@ -122,9 +125,8 @@ fn modified_total_factor_relations() {
     }
     for m in [2usize, 5, 16, 40] {
         for (h, mt) in [(0, 2), (-1, 1), (-3, -1), (-2, 0), (-4, -2)] {
-            // The sampled continuous random-walk FM differs from the plain
-            // discrete process at short lags: compare those from m = 16.
-            let tol = if h == -2 || h == -4 { 2e-3 } else { 1e-9 };
+            // Exact for white FM ↔ white PM; the others from m = 16.
+            let tol = if h == 0 { 1e-9 } else { 1e-2 };
             if tol > 1e-9 && m < 16 {
                 continue;
             }

@@ -15,7 +15,7 @@ use tauwise::plot::phase_noise::{BandMark, LfTrace, PhaseNoisePlot, TraceKind};
 use tauwise::spectrum::jitter::{
     integrate_band, Band, BandJitter, JitterLimit, JitterSetup, Weighting,
 };
-use tauwise::spectrum::welch::welch;
+use tauwise::spectrum::welch::welch_record;
 use tauwise::spectrum::Spectrum;
 use tauwise::units::{format_si, parse_frequency};
 use tauwise::verdict::{gate, Judgement, Verdict};
@@ -245,10 +245,13 @@ pub fn run(args: Args) -> Result<Outcome> {
         }
         (None, Some(path)) => {
             let series = args.input.load(path)?;
-            let w = welch(
-                &series.record.to_phase(),
+            let w = welch_record(
+                &series.record,
                 &welch_options(&args.window, args.segment, 0.5)?,
             )?;
+            for warning in &w.warnings {
+                eprintln!("tauwise: warning: {warning}");
+            }
             if args.plot.is_some() {
                 plot_trace = Some((w.log_binned(10, Some(carrier))?, TraceKind::RecordSpectrum));
             }

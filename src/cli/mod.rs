@@ -34,7 +34,7 @@ pub enum Command {
     Prepare(prepare::Args),
     /// σ(τ) curves with confidence intervals and noise type.
     Stability(stability::Args),
-    /// Noise type per τ and the fitted power-law model.
+    /// The dominant noise per τ (WPM … RWFM, or drift) and the fitted power-law model.
     Noise(noise::Args),
     /// PSD of a time record as L(f), S_φ, S_y, S_x (Welch's method).
     Spectrum(spectrum::Args),

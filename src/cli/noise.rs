@@ -1,5 +1,7 @@
-//! `tauwise noise FILE`: the noise type at each τ (lag-1 autocorrelation,
-//! or the B1/R(n) fallback) and the power-law model fitted to the record.
+//! `tauwise noise FILE`: the dominant noise at each τ
+//! ([`tauwise::stats::dominant_noise`], the identification every command
+//! and the report use: a power law, or `drift`) and the power-law model
+//! fitted to the record.
 
 use super::common::{emit, header_json, json_text, num, plain, Format, InputArgs, OutputArgs};
 use super::Outcome;
@@ -9,13 +11,12 @@ use std::path::PathBuf;
 use tauwise::deviation::Estimator;
 use tauwise::model::noise_label;
 use tauwise::stability::{fit_record_model, RecordModel};
-use tauwise::stats::noise_id::{identify, NoiseId};
-use tauwise::stats::VarianceKind;
+use tauwise::stats::noise_id::{NoiseIdentifier, NoiseRow};
 use tauwise::tau::TauGrid;
 use tauwise::units::{format_si, format_sig};
 use tauwise::Result;
 
-/// Noise type per τ and the fitted power-law model.
+/// The dominant noise per τ (WPM … RWFM, or drift) and the fitted power-law model.
 #[derive(Debug, ClapArgs)]
 pub struct Args {
     /// Input file (`-` reads standard input).
@@ -38,12 +39,6 @@ pub struct Args {
     pub output: OutputArgs,
 }
 
-struct Row {
-    tau: f64,
-    m: usize,
-    id: Option<NoiseId>,
-}
-
 /// Run `noise`.
 pub fn run(args: Args) -> Result<Outcome> {
     super::common::check_output_paths(
@@ -57,14 +52,12 @@ pub fn run(args: Args) -> Result<Outcome> {
     series.record = super::prepare::without_drift(series.record, args.remove_drift)?;
     let x = series.record.to_phase();
     let ms = grid.ms(x.tau0, Estimator::Oadev.max_m(x.len()))?;
-    let rows: Vec<Row> = ms
+    let ids = NoiseIdentifier::new(&x);
+    let rows: Vec<NoiseRow> = ms
         .iter()
-        .map(|&m| Row {
-            tau: m as f64 * x.tau0,
-            m,
-            id: identify(&x.x, x.tau0, m, VarianceKind::OverlappingAllan),
-        })
+        .map(|&m| NoiseRow::new(m, x.tau0, ids.at(m)))
         .collect();
+    let drift_per_day = ids.drift_rate().map(|d| d * 86_400.0);
     progress.stage("fitting the power-law model");
     let model = fit_record_model(&x, &grid)?;
     if let Some(path) = &args.plot {
@@ -92,50 +85,38 @@ pub fn run(args: Args) -> Result<Outcome> {
     let text = match args.output.format {
         Format::Json => {
             let mut doc = header_json(&series);
-            doc.insert("points".into(), points_json(&rows));
+            doc.insert(
+                "points".into(),
+                serde_json::to_value(&rows).unwrap_or_default(),
+            );
+            doc.insert(
+                "drift_per_day".into(),
+                drift_per_day.map(num).unwrap_or(serde_json::Value::Null),
+            );
             doc.insert("model".into(), model_json(&model));
             json_text(&serde_json::Value::Object(doc))
         }
         Format::Csv => {
-            let mut s = String::from("tau,m,alpha,noise,method,r1\n");
+            let mut w = csv::Writer::from_writer(Vec::new());
+            let _ = w.write_record(["tau", "m", "alpha", "noise", "method", "r1"]);
             for r in &rows {
                 let (a, l, me, r1) = cells(r);
-                let _ = writeln!(s, "{},{},{a},{l},{me},{r1}", plain(r.tau), r.m);
+                let _ = w.write_record([plain(r.tau), r.m.to_string(), a, l, me, r1]);
             }
-            s
+            String::from_utf8(w.into_inner().unwrap_or_default()).unwrap_or_default()
         }
-        Format::Table => table(&series.info.path, &rows, &model),
+        Format::Table => table(&series.info.path, &rows, drift_per_day, &model),
     };
     emit(&args.output, &text)?;
     Ok(Outcome::Done)
 }
 
-fn cells(r: &Row) -> (String, String, String, String) {
-    match &r.id {
-        Some(id) => (
-            id.alpha.to_string(),
-            noise_label(id.alpha).unwrap_or("").to_string(),
-            id.method.name().to_string(),
-            id.r1.map(|v| format!("{v:.4}")).unwrap_or_default(),
-        ),
-        None => Default::default(),
-    }
-}
-
-fn points_json(rows: &[Row]) -> serde_json::Value {
-    serde_json::Value::Array(
-        rows.iter()
-            .map(|r| {
-                serde_json::json!({
-                    "tau": num(r.tau),
-                    "m": r.m,
-                    "alpha": r.id.as_ref().map(|i| i.alpha),
-                    "noise": r.id.as_ref().and_then(|i| noise_label(i.alpha)),
-                    "method": r.id.as_ref().map(|i| i.method.name()),
-                    "r1": r.id.as_ref().and_then(|i| i.r1).map(num),
-                })
-            })
-            .collect(),
+fn cells(r: &NoiseRow) -> (String, String, String, String) {
+    (
+        r.alpha.map(|a| a.to_string()).unwrap_or_default(),
+        r.noise.map(|l| l.name().to_string()).unwrap_or_default(),
+        r.method.map(|m| m.name().to_string()).unwrap_or_default(),
+        r.r1.map(|v| format!("{v:.4}")).unwrap_or_default(),
     )
 }
 
@@ -166,8 +147,20 @@ pub fn model_json(model: &RecordModel) -> serde_json::Value {
             })
         })
         .collect();
+    let mut std_err = serde_json::Map::new();
+    for a in (-2i32..=2).rev() {
+        std_err.insert(
+            a.to_string(),
+            fit.std_err[(a + 2) as usize]
+                .map(num)
+                .unwrap_or(serde_json::Value::Null),
+        );
+    }
     serde_json::json!({
         "h": h,
+        "std_err": std_err,
+        "left_out": serde_json::to_value(&fit.left_out).unwrap_or_default(),
+        "significance_sigma": num(tauwise::model::fit::SIGNIFICANCE),
         "fh": num(fit.model.f_h),
         "dominant": dominant,
         "model_string": fit.model.to_model_string(),
@@ -182,22 +175,32 @@ fn rms(v: &[f64]) -> f64 {
     (v.iter().map(|r| r * r).sum::<f64>() / v.len() as f64).sqrt()
 }
 
-fn table(path: &std::path::Path, rows: &[Row], model: &RecordModel) -> String {
+fn table(
+    path: &std::path::Path,
+    rows: &[NoiseRow],
+    drift_per_day: Option<f64>,
+    model: &RecordModel,
+) -> String {
     let mut s = String::new();
     let _ = writeln!(s, "# {}", path.display());
     let _ = writeln!(s);
-    let _ = writeln!(s, "noise type per τ (OADEV averaging)");
+    let _ = writeln!(s, "dominant noise per τ");
     let _ = writeln!(
         s,
-        "{:>10} {:>9} {:>6} {:>6} {:>7} {:>8}",
+        "{:>10} {:>9} {:>6} {:>6} {:>8} {:>8}",
         "tau", "m", "alpha", "noise", "method", "r1"
     );
     for r in rows {
         let (a, l, me, r1) = cells(r);
         let dash = |t: String| if t.is_empty() { "—".to_string() } else { t };
+        let me = if r.capped == Some(true) {
+            format!("{me}^")
+        } else {
+            me
+        };
         let _ = writeln!(
             s,
-            "{:>10} {:>9} {:>6} {:>6} {:>7} {:>8}",
+            "{:>10} {:>9} {:>6} {:>6} {:>8} {:>8}",
             format_si(r.tau, "s", 4),
             r.m,
             dash(a),
@@ -206,26 +209,66 @@ fn table(path: &std::path::Path, rows: &[Row], model: &RecordModel) -> String {
             dash(r1)
         );
     }
+    if rows
+        .iter()
+        .any(|r| r.noise == Some(tauwise::stats::NoiseLabel::Drift))
+    {
+        let _ = writeln!(
+            s,
+            "drift: σ_y there follows |D|·τ/√2 of the record's linear frequency drift D = {} per day \
+             (NIST SP 1065), the noise beneath (alpha) is what the Hadamard family sees; the Allan \
+             family has no interval there (--remove-drift linear shows the noise beneath)",
+            drift_per_day.map_or("?".to_string(), |d| format_sig(d, 4))
+        );
+    }
+    if rows.iter().any(|r| r.capped == Some(true)) {
+        let _ = writeln!(
+            s,
+            "^ capped at the type of the record's octave τ below (the dominant power law only gets redder with τ)"
+        );
+    }
     let fit = &model.fit;
     let _ = writeln!(s);
     let _ = writeln!(
         s,
-        "power-law model fitted to OADEV and MDEV (EDF-weighted, log space), f_h = {}",
+        "power-law model fitted to OADEV and MDEV (EDF-weighted, log space; ± one standard error), f_h = {}",
         format_si(fit.model.f_h, "Hz", 4)
     );
     for a in (-2i32..=2).rev() {
         let k = (a + 2) as usize;
         let v = if fit.fitted[k] {
-            format_sig(fit.model.h[k], 4)
+            match fit.std_err[k] {
+                Some(se) => format!("{} ± {}", format_sig(fit.model.h[k], 4), format_sig(se, 2)),
+                None => format_sig(fit.model.h[k], 4),
+            }
         } else {
             "not in the fit".to_string()
         };
         let _ = writeln!(
             s,
-            "  h{:<3} {:>14}   ({})",
+            "  h{:<3} {:>22}   ({})",
             a,
             v,
             noise_label(a).unwrap_or("")
+        );
+    }
+    for l in &fit.left_out {
+        let why = match l.reason {
+            tauwise::model::LeftOutReason::AtZero => {
+                "the non-negative fit put it at zero".to_string()
+            }
+            tauwise::model::LeftOutReason::NotSignificant => format!(
+                "{} ± {} is below {}σ, so it was removed and the model refitted",
+                format_sig(l.h, 3),
+                l.std_err.map_or("?".into(), |e| format_sig(e, 2)),
+                tauwise::model::fit::SIGNIFICANCE
+            ),
+        };
+        let _ = writeln!(
+            s,
+            "  left out h{} ({}): {why}",
+            l.alpha,
+            noise_label(l.alpha).unwrap_or("")
         );
     }
     let _ = writeln!(s, "dominant terms:");

@@ -7,7 +7,7 @@ use clap::Args as ClapArgs;
 use std::fmt::Write as _;
 use std::path::PathBuf;
 use tauwise::plot::phase_noise::{LfTrace, PhaseNoisePlot, TraceKind};
-use tauwise::spectrum::welch::{welch, Welch, WelchOptions, Window};
+use tauwise::spectrum::welch::{welch_record, Welch, WelchOptions, Window};
 use tauwise::spectrum::{Quantity, Spectrum};
 use tauwise::units::{format_si, format_sig};
 use tauwise::{Error, Result};
@@ -88,11 +88,13 @@ pub fn run(args: Args) -> Result<Outcome> {
     progress.stage(format!("reading {}", args.file.display()));
     let series = args.input.load(&args.file)?;
     progress.stage("computing");
-    let phase = series.record.to_phase();
-    let w = welch(
-        &phase,
+    let w = welch_record(
+        &series.record,
         &welch_options(&args.window, args.segment, args.overlap)?,
     )?;
+    for warning in &w.warnings {
+        eprintln!("tauwise: warning: {warning}");
+    }
     let spec = if args.all_bins {
         w.spectrum(carrier)?
     } else {
@@ -142,6 +144,10 @@ pub fn run(args: Args) -> Result<Outcome> {
             m.insert("segments".into(), w.segments.into());
             m.insert("overlap".into(), num(w.overlap));
             m.insert("gaps_handling".into(), w.gap_note().into());
+            m.insert(
+                "warnings".into(),
+                serde_json::to_value(&w.warnings).unwrap_or_default(),
+            );
             m.insert(
                 "bins".into(),
                 if args.all_bins {
@@ -244,6 +250,15 @@ fn table(path: &std::path::Path, w: &Welch, carrier: Option<f64>, rows: &Rows) -
         w.overlap * 100.0
     );
     let _ = writeln!(out, "  {}", w.gap_note());
+    if w.source == tauwise::record::DataKind::Freq {
+        let _ = writeln!(
+            out,
+            "  frequency record: S_y = (2 sin(πfτ0)/τ0)²·S_x of the integrated phase (sampled data); L(f), S_φ and S_x from S_y"
+        );
+    }
+    for warning in &w.warnings {
+        let _ = writeln!(out, "  warning: {warning}");
+    }
     match carrier {
         Some(c) => {
             let _ = writeln!(out, "  carrier {}", format_si(c, "Hz", 4));

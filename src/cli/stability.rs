@@ -68,10 +68,12 @@ pub struct Args {
     /// without dividing out its bias for the identified noise type.
     #[arg(long)]
     pub uncorrected: bool,
-    /// Add a curve `best`: at each τ the point with the narrowest
-    /// confidence interval among the requested estimators of the same
-    /// variance as the first σ_y one (e.g. oadev, totdev, theoh; or mdev,
-    /// mtot; or ohdev, htot), with the estimator it came from.
+    /// Add a curve `best`: at each τ the point of the estimator with the
+    /// most degrees of freedom (chosen from the EDFs alone, the same for any
+    /// noise type, so the choice does not follow the value) among the
+    /// requested estimators of the same variance as the first σ_y one (e.g.
+    /// oadev, totdev, theoh; or mdev, mtot; or ohdev, htot), with the
+    /// estimator it came from.
     #[arg(long)]
     pub best: bool,
     #[command(flatten)]
@@ -111,7 +113,7 @@ pub fn run(args: Args) -> Result<Outcome> {
     let phase = series.record.to_phase();
     progress.stage(format!("computing {}", args.dev));
     let measured = analyse(&phase, &request)?;
-    let best_points = args.best.then(|| best(&measured));
+    let best_points = args.best.then(|| best(&measured, phase.len(), phase.tau0));
     let view = match &args.lf {
         Some(table) => Some(phase_noise_view(&args, table, &measured, phase.tau0)?),
         None => None,
@@ -270,7 +272,7 @@ fn best_table(b: &[BestPoint], x: &PhaseRecord) -> String {
     };
     let _ = writeln!(
         s,
-        "{BEST_CURVE} — narrowest confidence interval at each τ among the estimators of the {family}"
+        "{BEST_CURVE} — at each τ the estimator of the {family} with the most degrees of freedom (chosen from the EDF rules, the same for any noise type, not from the values)"
     );
     let _ = writeln!(
         s,

@@ -24,8 +24,6 @@ mod theo;
 mod tie;
 pub(crate) mod total;
 
-pub use theo::theo1_edf;
-
 /// The registry of estimators: the single source of truth for each one's
 /// trade name, title, difference order, kind of value and valid m range.
 ///
@@ -374,7 +372,8 @@ pub struct Point {
     pub lo: Option<f64>,
     /// Upper bound of the confidence interval on the deviation.
     pub hi: Option<f64>,
-    /// Power-law exponent α of S_y(f) ∝ f^α identified at this τ.
+    /// Power-law exponent α of S_y(f) ∝ f^α identified at this τ (the
+    /// noise beneath the drift where [`Point::drift`] is set).
     pub alpha: Option<i32>,
     /// The bias factor B = E[σ̂²]/σ² divided out of this value, when it was
     /// (the total family, for the identified noise type: the value, lo and
@@ -382,6 +381,10 @@ pub struct Point {
     /// for a value as computed — and for TheoH, which corrects itself by
     /// the record's own ThêoBR ratio ([`Estimator::bias_corrected_from`]).
     pub bias: Option<f64>,
+    /// Linear frequency drift dominates σ_y at this τ (label `drift`; see
+    /// [`crate::stats::noise_id`]): estimators that see the drift have no
+    /// EDF, interval or bias correction here.
+    pub drift: bool,
 }
 
 impl Point {
@@ -394,11 +397,16 @@ impl Point {
             hi: None,
             alpha: None,
             bias: None,
+            drift: false,
         }
     }
 
-    /// The noise label of [`Point::alpha`] (`WFM`, …).
+    /// The noise label at this τ: `drift` where [`Point::drift`] is set,
+    /// else the label of [`Point::alpha`] (`WFM`, …).
     pub fn noise(&self) -> Option<&'static str> {
+        if self.drift {
+            return Some(crate::stats::noise_id::DRIFT_LABEL);
+        }
         self.alpha.and_then(crate::model::noise_label)
     }
 }

@@ -6,24 +6,27 @@
 //! Theo1 lives on its own lattice of averaging times, τ = 0.75·m·τ0 with m
 //! even: the averaging factors passed to [`crate::deviation::compute`] for
 //! `theo1` and `theoh` are read as the τ grid (τ ≈ m·τ0) and moved to the
-//! nearest Theo1 factor m' = 2·round(m/1.5); the estimate reports m' and its
-//! exact τ = 0.75·m'·τ0.
+//! nearest Theo1 factor m' = 2·round(m/1.5), which must be at least 10
+//! (SP 1065 defines Theo1 for even 10 ≤ m' ≤ N − 1; shorter grid τ are left
+//! out); the estimate reports m' and its exact τ = 0.75·m'·τ0.
 
 use super::allan::{finish, oadev};
 use super::gaps::Prepared;
 use super::Estimate;
 use crate::record::gap_free_runs;
+use crate::tau::THEO1_MIN_FACTOR;
 use rayon::prelude::*;
 
-/// The Theo1 factor m' (even, 2 ≤ m' ≤ N−1) nearest to a grid factor m
-/// (τ = m·τ0 ≈ 0.75·m'·τ0); None when the record is too short.
+/// The Theo1 factor m' (even, 10 ≤ m' ≤ N−1: NIST SP 1065 §5.2.15)
+/// nearest to a grid factor m (τ = m·τ0 ≈ 0.75·m'·τ0); None when that
+/// factor is below 10 or the record is too short for m' = 10.
 pub(crate) fn theo_factor(m: usize, n_phase: usize) -> Option<usize> {
     let top = n_phase.checked_sub(1)? & !1; // largest even ≤ N−1
-    if top < 2 || m == 0 {
+    if top < THEO1_MIN_FACTOR || m == 0 {
         return None;
     }
     let mp = (2.0 * (m as f64 / 1.5).round()) as usize;
-    Some(mp.clamp(2, top))
+    (mp >= THEO1_MIN_FACTOR).then(|| mp.min(top))
 }
 
 /// The Theo1 double sum and the number of i used:
@@ -301,47 +304,6 @@ pub(crate) fn theoh(p: &Prepared, m: usize, ratio: Option<f64>) -> Option<Estima
         value: e.value * r.sqrt(),
         ..e
     })
-}
-
-/// Equivalent degrees of freedom of Theo1 (NIST SP 1065, Theo1 EDF table,
-/// from memory), with N phase samples, the Theo1 factor m (even) and
-/// r = τ/τ0 = 0.75·m:
-///
-/// - WPM (α = 2):  [0.86(N+1)(N − 4r/3) / (N − r)] · [r / (r + 1.14)]
-/// - FPM (α = 1):  [(4.798N² − 6.374Nr + 12.387r) / (√(r + 36.6)·(N − r)(r + 0.3))] · [r/(r + 0.3)]
-/// - WFM (α = 0):  [(4.1N + 0.8)/r − (3.1N + 6.5)/N] · [r^1.5 / (r^1.5 + 5.2)]
-/// - FFM (α = −1): [(2N² − 1.3Nr − 3.5r) / (Nr)] · [r³ / (r³ + 2.3)]
-/// - RWFM (α = −2): [(4.4N − 2)/(2.9r)] · [((4.4N − 1)² − 8.6r(4.4N − 1) + 11.4r²) / (4.4N − 3)²]
-///
-/// Monte Carlo here (tests/long_tau.rs, N = 1001) confirms WFM and WPM
-/// within 20 % up to τ = 0.3·T, and RWFM within 2 % up to τ ≈ T/7 (FFM,
-/// from the power-law simulator: within 10 % at τ = 48 and 0.3·T); at
-/// τ = 0.3·T the RWFM form is about 22 % below the Monte Carlo EDF, which
-/// makes the interval wider than it need be (conservative). FPM is not
-/// checked by Monte Carlo here.
-/// None for other α or when m is not a valid Theo1 factor.
-pub fn theo1_edf(alpha: i32, n_phase: usize, m: usize) -> Option<f64> {
-    if m < 2 || m % 2 == 1 || n_phase < m + 1 {
-        return None;
-    }
-    let n = n_phase as f64;
-    let r = 0.75 * m as f64;
-    let edf = match alpha {
-        2 => 0.86 * (n + 1.0) * (n - 4.0 * r / 3.0) / (n - r) * (r / (r + 1.14)),
-        1 => {
-            (4.798 * n * n - 6.374 * n * r + 12.387 * r) / ((r + 36.6).sqrt() * (n - r) * (r + 0.3))
-                * (r / (r + 0.3))
-        }
-        0 => ((4.1 * n + 0.8) / r - (3.1 * n + 6.5) / n) * (r.powf(1.5) / (r.powf(1.5) + 5.2)),
-        -1 => (2.0 * n * n - 1.3 * n * r - 3.5 * r) / (n * r) * (r.powi(3) / (r.powi(3) + 2.3)),
-        -2 => {
-            let a = 4.4 * n - 1.0;
-            (4.4 * n - 2.0) / (2.9 * r)
-                * ((a * a - 8.6 * r * a + 11.4 * r * r) / (4.4 * n - 3.0).powi(2))
-        }
-        _ => return None,
-    };
-    (edf.is_finite() && edf > 0.0).then_some(edf)
 }
 
 #[cfg(test)]

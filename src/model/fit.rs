@@ -72,6 +72,41 @@ pub struct Dominant {
     pub tau_to: f64,
 }
 
+/// Why a term is not in a fitted model.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum LeftOutReason {
+    /// The non-negative fit put h_α at zero (the data ask for less than
+    /// nothing of it).
+    AtZero,
+    /// h_α came out below [`SIGNIFICANCE`] standard errors: the data do not
+    /// show it, so it was removed and the model refitted without it.
+    NotSignificant,
+}
+
+/// A term left out of a fitted model, and why.
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
+pub struct LeftOut {
+    /// α of the term.
+    pub alpha: i32,
+    /// Its h_α in the fit that removed it (0 when at zero).
+    pub h: f64,
+    /// Its standard error there, when one could be computed.
+    pub std_err: Option<f64>,
+    /// Why it was left out.
+    pub reason: LeftOutReason,
+}
+
+/// A term is kept only when h_α ≥ this many standard errors (2σ).
+pub const SIGNIFICANCE: f64 = 2.0;
+
+/// The covariance of a variance fit is multiplied by this for the
+/// correlation of neighbouring octave points of one curve (see
+/// [`fit_variances`]). Seeded Monte Carlo (`tests/model.rs`): without it,
+/// on records of WFM + FFM, |ĥ − h| exceeded 2 standard errors in a quarter
+/// of the fits instead of one in twenty.
+pub const NEIGHBOUR_INFLATION: f64 = 2.5;
+
 /// A fitted power-law model.
 #[derive(Debug, Clone, PartialEq)]
 pub struct ModelFit {
@@ -79,6 +114,11 @@ pub struct ModelFit {
     pub model: PowerLaw,
     /// `fitted[k]`: h_α with α = k − 2 came out positive (is in the model).
     pub fitted: [bool; 5],
+    /// Standard error of each fitted h_α (`None` for a term not in the
+    /// model, and for spectrum fits); see [`fit_variances`].
+    pub std_err: [Option<f64>; 5],
+    /// The terms that were candidates but are not in the model, and why.
+    pub left_out: Vec<LeftOut>,
     /// Residual per input point, 10·log10(model/measured) in dB.
     pub residual_db: Vec<f64>,
     /// The dominant term over consecutive τ ranges, in increasing τ. For
@@ -128,7 +168,29 @@ fn basis_uncached(kind: VarKind, alpha: i32, tau: f64, tau0: f64, f_h: f64) -> f
     }
 }
 
-/// Fit h_α ≥ 0 (all five terms) to measured variances (module notes).
+/// Fit h_α ≥ 0 (all five terms) to measured variances (module notes),
+/// keeping only the terms the data show.
+///
+/// **Standard errors.** With the weights taken as EDFs, ln σ̂²_i has
+/// variance about 2/EDF_i, so the weighted least squares in log space has
+/// the covariance (JᵀWJ)⁻¹ for J_ik = ∂ln p_i/∂h_k = B_k(i)/p_i and
+/// W = diag(EDF/2) at the fitted h (the Gauss–Newton information). That
+/// would hold for independent points; the points of a record are not, so
+/// three inflations follow, our rules: points of different variances at
+/// the same τ (an OADEV and an MDEV point) come from the same data and carry
+/// nearly the same information, so the covariance is multiplied by
+/// points/distinct τ; neighbouring τ of one curve share most of their
+/// samples, for which it is multiplied by [`NEIGHBOUR_INFLATION`]
+/// (calibrated by seeded Monte Carlo on octave-grid fits, the grid
+/// [`crate::stability::fit_record_model`] always uses); and by the reduced
+/// χ² of the fit when it exceeds 1 (a model that misses its points is less
+/// certain than the weights say).
+///
+/// **Significance.** A term whose h_α is below [`SIGNIFICANCE`] (2)
+/// standard errors is removed and the model refitted without it, the least
+/// significant first, until every remaining term is significant (or one
+/// remains); such terms, and those the non-negative fit puts at zero, are
+/// listed in [`ModelFit::left_out`] with the reason.
 ///
 /// Errors when there is no point, or a point has a non-positive or
 /// non-finite variance, weight, τ or τ0, or τ < τ0, or f_h ≤ 0.
@@ -138,6 +200,47 @@ pub fn fit_variances(points: &[FitPoint], f_h: f64) -> Result<ModelFit> {
 
 /// [`fit_variances`] with only the terms where `allowed[α + 2]` is true.
 pub fn fit_variances_terms(points: &[FitPoint], f_h: f64, allowed: [bool; 5]) -> Result<ModelFit> {
+    let mut allowed = allowed;
+    let mut removed: Vec<LeftOut> = Vec::new();
+    loop {
+        let mut fit = fit_variances_once(points, f_h, allowed)?;
+        let weakest = (0..5)
+            .filter(|&k| fit.fitted[k])
+            .filter_map(|k| fit.std_err[k].map(|se| (k, fit.model.h[k] / se)))
+            .min_by(|a, b| a.1.total_cmp(&b.1));
+        let active = fit.fitted.iter().filter(|f| **f).count();
+        match weakest {
+            Some((k, z)) if z < SIGNIFICANCE && active > 1 => {
+                removed.push(LeftOut {
+                    alpha: k as i32 - 2,
+                    h: fit.model.h[k],
+                    std_err: fit.std_err[k],
+                    reason: LeftOutReason::NotSignificant,
+                });
+                allowed[k] = false;
+            }
+            _ => {
+                for k in (0..5).rev() {
+                    if allowed[k] && !fit.fitted[k] {
+                        fit.left_out.push(LeftOut {
+                            alpha: k as i32 - 2,
+                            h: 0.0,
+                            std_err: None,
+                            reason: LeftOutReason::AtZero,
+                        });
+                    }
+                }
+                fit.left_out.extend(removed);
+                fit.left_out.sort_by_key(|l| -l.alpha);
+                return Ok(fit);
+            }
+        }
+    }
+}
+
+/// One weighted log-space fit with the `allowed` terms, with the standard
+/// errors of [`fit_variances`] (no pruning).
+fn fit_variances_once(points: &[FitPoint], f_h: f64, allowed: [bool; 5]) -> Result<ModelFit> {
     check_fh(f_h)?;
     if points.is_empty() {
         return Err(Error::insufficient("no variance points to fit a model to"));
@@ -179,7 +282,105 @@ pub fn fit_variances_terms(points: &[FitPoint], f_h: f64, allowed: [bool; 5]) ->
     let lo = points.iter().map(|p| p.tau).fold(f64::INFINITY, f64::min);
     let hi = points.iter().map(|p| p.tau).fold(0.0, f64::max);
     let dominant = dominant_ranges(&h, lo, hi, |a, t| unit_avar(a, t, f_h));
-    Ok(finish(model, &rows, &v, dominant))
+    let mut fit = finish(model, &rows, &v, dominant);
+    let mut taus: Vec<u64> = points.iter().map(|p| p.tau.to_bits()).collect();
+    taus.sort_unstable();
+    taus.dedup();
+    let duplication = points.len() as f64 / taus.len() as f64;
+    fit.std_err = standard_errors(&rows, &v, &w, &h, duplication);
+    Ok(fit)
+}
+
+/// Standard errors of the positive h_α of a log-space variance fit (see
+/// [`fit_variances`]): the diagonal of (JᵀWJ)⁻¹·duplication·max(1, χ²_red),
+/// W = weight/2. `None` where h_α is zero or the information matrix is
+/// singular.
+fn standard_errors(
+    rows: &[[f64; 5]],
+    v: &[f64],
+    w: &[f64],
+    h: &[f64; 5],
+    duplication: f64,
+) -> [Option<f64>; 5] {
+    let active: Vec<usize> = (0..5).filter(|&k| h[k] > 0.0).collect();
+    let mut out = [None; 5];
+    let k = active.len();
+    if k == 0 {
+        return out;
+    }
+    // Columns scaled by h_k, so the matrix is of order one: J'_ik = B_k(i)h_k/p_i.
+    let mut info = vec![0.0f64; k * k];
+    let mut chi2 = 0.0;
+    for ((r, &vi), &wi) in rows.iter().zip(v).zip(w) {
+        let p = dot(r, h);
+        if !(p > 0.0) {
+            return out;
+        }
+        let wgt = 0.5 * wi;
+        chi2 += wgt * (p / vi).ln().powi(2);
+        for (a, &ka) in active.iter().enumerate() {
+            for (b, &kb) in active.iter().enumerate() {
+                info[a * k + b] += wgt * (r[ka] * h[ka] / p) * (r[kb] * h[kb] / p);
+            }
+        }
+    }
+    let Some(inv) = invert_spd(&info, k) else {
+        return out;
+    };
+    let dof = rows.len().saturating_sub(k);
+    let scale = duplication
+        * NEIGHBOUR_INFLATION
+        * if dof > 0 {
+            (chi2 / dof as f64).max(1.0)
+        } else {
+            1.0
+        };
+    for (a, &ka) in active.iter().enumerate() {
+        let var = inv[a * k + a] * scale;
+        if var.is_finite() && var >= 0.0 {
+            out[ka] = Some(var.sqrt() * h[ka]);
+        }
+    }
+    out
+}
+
+/// The inverse of a symmetric positive definite k × k matrix (row-major) by
+/// Gauss–Jordan elimination with partial pivoting; `None` when singular.
+fn invert_spd(a: &[f64], k: usize) -> Option<Vec<f64>> {
+    let mut m = a.to_vec();
+    let mut inv = vec![0.0f64; k * k];
+    for i in 0..k {
+        inv[i * k + i] = 1.0;
+    }
+    let scale = a.iter().fold(0.0f64, |s, v| s.max(v.abs()));
+    for col in 0..k {
+        let piv =
+            (col..k).max_by(|&x, &y| m[x * k + col].abs().total_cmp(&m[y * k + col].abs()))?;
+        if !(m[piv * k + col].abs() > 1e-13 * scale) {
+            return None;
+        }
+        for j in 0..k {
+            m.swap(col * k + j, piv * k + j);
+            inv.swap(col * k + j, piv * k + j);
+        }
+        let d = m[col * k + col];
+        for j in 0..k {
+            m[col * k + j] /= d;
+            inv[col * k + j] /= d;
+        }
+        for row in 0..k {
+            if row != col {
+                let f = m[row * k + col];
+                if f != 0.0 {
+                    for j in 0..k {
+                        m[row * k + j] -= f * m[col * k + j];
+                        inv[row * k + j] -= f * inv[col * k + j];
+                    }
+                }
+            }
+        }
+    }
+    Some(inv)
 }
 
 /// Fit S_y(f) = Σ h_α f^α (h_α ≥ 0) to spectrum points in log space, with
@@ -258,6 +459,8 @@ fn finish(model: PowerLaw, rows: &[[f64; 5]], v: &[f64], dominant: Vec<Dominant>
     ModelFit {
         model,
         fitted: std::array::from_fn(|k| model.h[k] > 0.0),
+        std_err: [None; 5],
+        left_out: Vec::new(),
         residual_db,
         dominant,
     }
@@ -543,6 +746,23 @@ mod tests {
         let x = nnls(&a, &b);
         assert!((x[0] - 0.5).abs() < 1e-12, "{x}");
         assert_eq!(x[1], 0.0);
+    }
+
+    /// A 2 × 2 and a 3 × 3 inverse (analytic), and a singular matrix.
+    #[test]
+    fn invert_small_matrices() {
+        let inv = invert_spd(&[4.0, 2.0, 2.0, 3.0], 2).unwrap();
+        let want = [3.0 / 8.0, -2.0 / 8.0, -2.0 / 8.0, 4.0 / 8.0];
+        for (a, b) in inv.iter().zip(want) {
+            assert!((a - b).abs() < 1e-15);
+        }
+        let a = [2.0, -1.0, 0.0, -1.0, 2.0, -1.0, 0.0, -1.0, 2.0];
+        let inv = invert_spd(&a, 3).unwrap();
+        let want = [0.75, 0.5, 0.25, 0.5, 1.0, 0.5, 0.25, 0.5, 0.75];
+        for (x, y) in inv.iter().zip(want) {
+            assert!((x - y).abs() < 1e-15);
+        }
+        assert!(invert_spd(&[1.0, 1.0, 1.0, 1.0], 2).is_none());
     }
 
     #[test]

@@ -13,7 +13,9 @@ use std::f64::consts::{LN_2, PI};
 pub mod fit;
 pub mod response;
 
-pub use fit::{fit_sy, fit_variances, Dominant, FitPoint, ModelFit, VarKind};
+pub use fit::{
+    fit_sy, fit_variances, Dominant, FitPoint, LeftOut, LeftOutReason, ModelFit, VarKind,
+};
 
 /// Euler–Mascheroni constant γ (enters the FPM forms).
 pub const EULER_GAMMA: f64 = 0.577_215_664_901_532_9;

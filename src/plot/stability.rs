@@ -380,6 +380,8 @@ mod tests {
             fit: crate::model::fit::ModelFit {
                 model,
                 fitted: [false, false, true, false, false],
+                std_err: [None; 5],
+                left_out: Vec::new(),
                 residual_db: Vec::new(),
                 dominant: Vec::new(),
             },

@@ -5,9 +5,7 @@
 use crate::deviation::{Estimate, Estimator, Point};
 use crate::error::{Error, Result};
 use crate::record::PhaseRecord;
-use crate::stats::{
-    edf, interval, IdMethod, Identifier, NoiseId, VarianceKind, DEFAULT_CONFIDENCE,
-};
+use crate::stats::{edf, interval, NoiseAt, NoiseIdentifier, VarianceKind, DEFAULT_CONFIDENCE};
 use rayon::prelude::*;
 
 /// How the statistics are computed.
@@ -33,8 +31,9 @@ impl Default for StatsOptions {
 }
 
 impl VarianceKind {
-    /// The variance behind an estimator, or `None` for those without an EDF
-    /// rule (MTIE, TIE rms).
+    /// The variance behind an estimator, or `None` for those without a
+    /// Greenhall–Riley or total-family EDF rule (Theo1 and TheoH, which have
+    /// their own in [`crate::stats::theo`]; MTIE, TIE rms).
     pub fn of_estimator(est: Estimator) -> Option<VarianceKind> {
         match est {
             Estimator::Adev => Some(VarianceKind::Allan),
@@ -47,9 +46,6 @@ impl VarianceKind {
             Estimator::Mtot => Some(VarianceKind::ModifiedTotal),
             Estimator::Ttot => Some(VarianceKind::TimeTotal),
             Estimator::Htot => Some(VarianceKind::HadamardTotal),
-            // Theo1 and TheoH have their own EDF rules and are annotated by
-            // `annotate` directly (`theo1_edf`; TheoH's ADEV part by the
-            // overlapping Allan EDF), so they have no VarianceKind.
             Estimator::Theo1 | Estimator::Theoh | Estimator::Mtie | Estimator::Tierms => None,
         }
     }
@@ -78,126 +74,122 @@ impl From<Estimator> for Option<VarianceKind> {
     }
 }
 
-/// Theo1 and TheoH. The noise type comes from the overlapping-Allan
-/// identification at τ (rounded to a whole m), settled by the same rule as
-/// the other estimators (a type is never whiter than at the next shorter τ;
-/// where the record is too short for any identification at that τ — Theo1
-/// reaches 0.75 of the record — the type of the next shorter τ is carried
-/// on).
-/// EDF: Theo1 and TheoH's ThêoBR part by [`crate::deviation::theo1_edf`]
-/// (NIST SP 1065 Theo1 EDF; ThêoBR is a scaled Theo1, so its EDF is taken
-/// as Theo1's), TheoH's ADEV part by the overlapping Allan EDF (Greenhall &
-/// Riley), both for the gap-free record with the same number of terms.
-fn annotate_theo(
-    est: Estimator,
-    x: &PhaseRecord,
-    estimates: &[Estimate],
-    opts: &StatsOptions,
-) -> Result<Vec<Point>> {
-    let oa = VarianceKind::OverlappingAllan;
-    if let Some(a) = opts.forced_alpha {
-        if !(-2..=2).contains(&a) {
-            return Err(Error::invalid(format!(
-                "noise type α = {a} is outside the range of {} (α = 2 … −2)",
-                est.name()
-            )));
-        }
-    }
-    let n = x.x.len();
-    let switch = est.bias_corrected_from(n, x.tau0);
-    let ids: Vec<Option<NoiseId>> = match opts.forced_alpha {
-        Some(a) => vec![
-            Some(NoiseId {
-                alpha: a,
-                method: IdMethod::Lag1,
-                r1: None,
-            });
-            estimates.len()
-        ],
-        None => {
-            let identifier = Identifier::new(&x.x, x.tau0, oa);
-            estimates
-                .par_iter()
-                .map(|e| identifier.at(((e.tau / x.tau0).round() as usize).max(1)))
-                .collect()
-        }
-    };
-    let mut alphas: Vec<Option<i32>> = ids.iter().map(|id| id.map(|i| i.alpha)).collect();
-    if opts.forced_alpha.is_none() {
-        // The estimates' m grow with τ for both (Theo1 factor m' ≈ τ/(0.75τ0)).
-        settle_noise_types(estimates, &ids, &mut alphas);
-    }
-    let mut out = Vec::with_capacity(estimates.len());
-    for (e, &alpha) in estimates.iter().zip(&alphas) {
-        let theo_part = match switch {
-            Some(s) => e.tau >= s,
-            None => true,
-        };
-        let nu = alpha.and_then(|a| {
-            if theo_part {
-                // Theo1 terms: N − m.
-                crate::deviation::theo1_edf(a, e.terms + e.m, e.m)
-            } else {
-                edf(oa, a, e.m, oa.equivalent_points(e.m, e.terms))
-            }
-        });
-        let (lo, hi) = match nu {
-            Some(v) if e.value.is_finite() => {
-                let (lo, hi) = interval(e.value, v, opts.confidence)?;
-                (Some(lo), Some(hi))
-            }
-            _ => (None, None),
-        };
-        out.push(Point {
-            estimate: *e,
-            edf: nu,
-            lo,
-            hi,
-            alpha,
-            bias: None,
-        });
-    }
-    Ok(out)
+/// True when the estimator's value sees a linear frequency drift (every
+/// σ estimator but the Hadamard family, which cancels it).
+pub fn sees_drift(est: Estimator) -> bool {
+    !matches!(est, Estimator::Hdev | Estimator::Ohdev | Estimator::Htot)
 }
 
-/// Annotate the estimates of `est` on the record `x`: the noise type at each
-/// τ ([`crate::stats::identify`], or `opts.forced_alpha`), its EDF ([`fn@edf`]) and the
-/// two-sided interval at `opts.confidence` ([`fn@interval`]).
-///
-/// Each identified type is capped at the type of the next shorter τ, and a
-/// τ too short for any identification takes that type (our rule: the
-/// dominant power law can only get redder as τ grows; see
-/// `settle_noise_types`).
-///
-/// The EDF is evaluated for the gap-free record that would give the same
-/// number of terms ([`VarianceKind::equivalent_points`]), so gaps widen the
-/// interval. Estimators without an EDF rule (MTIE, TIE rms), and points with
-/// no identified or carried-over noise type, keep `None` in every statistic.
-///
-/// The total family (TOTDEV, MTOT, TTOT, HTOT) is biased by an amount that
-/// depends on the noise type; with `opts.bias_correction` each value whose
-/// type is known is divided by √B ([`crate::stats::totals::bias`]) and the
-/// point records B ([`Point::bias`]). The interval is that of the corrected
-/// value.
-///
-/// Errors: [`Error::Invalid`] when the confidence is outside (0, 1) or the
-/// forced α is outside the estimator's range.
+/// The averaging factor at which the noise of an estimate is identified:
+/// its own m, or for Theo1 and TheoH (τ = 0.75·m′·τ0) the whole m nearest
+/// τ/τ0 — so every estimator asks [`crate::stats::dominant_noise`] about
+/// its own τ.
+pub fn identification_factor(est: Estimator, e: &Estimate, tau0: f64) -> usize {
+    if est.uses_theo_lattice() {
+        ((e.tau / tau0).round() as usize).max(1)
+    } else {
+        e.m
+    }
+}
+
+/// The EDF of one estimate for the noise `id` (`None` where the estimator
+/// has no rule for that noise, or sees a drift that dominates there: see
+/// [`crate::stats::noise_id`]).
+pub fn point_edf(
+    est: Estimator,
+    rec_len: usize,
+    tau0: f64,
+    e: &Estimate,
+    id: &NoiseAt,
+) -> Option<f64> {
+    if id.is_drift() && sees_drift(est) {
+        return None;
+    }
+    edf_of(est, id.alpha, rec_len, tau0, e)
+}
+
+/// The EDF of the estimate `e` of `est` (from a record of `rec_len` samples
+/// at τ0) for the power law α: the rule of each estimator
+/// ([`fn@edf`], [`crate::stats::totals`], [`crate::stats::theo`]) for the
+/// gap-free record with the same number of terms. `None` where the
+/// estimator has no rule for α.
+pub fn edf_of(est: Estimator, a: i32, rec_len: usize, tau0: f64, e: &Estimate) -> Option<f64> {
+    match est {
+        Estimator::Theo1 => crate::stats::theo::theo1_edf(a, rec_len, e.m),
+        Estimator::Theoh => {
+            let switch = est.bias_corrected_from(rec_len, tau0);
+            if switch.is_some_and(|s| e.tau >= s) {
+                crate::stats::theo::theoh_edf(a, rec_len, e.m)
+            } else {
+                let oa = VarianceKind::OverlappingAllan;
+                edf(oa, a, e.m, oa.equivalent_points(e.m, e.terms))
+            }
+        }
+        _ => {
+            let kind = VarianceKind::of_estimator(est)?;
+            edf(kind, a, e.m, kind.equivalent_points(e.m, e.terms))
+        }
+    }
+}
+
+/// Annotate the estimates of `est` on the record `x`: the noise at each τ
+/// ([`crate::stats::dominant_noise`], or `opts.forced_alpha`), its EDF
+/// ([`fn@edf`], [`crate::stats::theo`]) and the two-sided interval at
+/// `opts.confidence` ([`fn@interval`]). The same as [`annotate_with`] with a
+/// fresh [`NoiseIdentifier`]; give one identifier to every estimator of a
+/// record to share its work.
 pub fn annotate(
     est: Estimator,
     x: &PhaseRecord,
     estimates: &[Estimate],
     opts: &StatsOptions,
 ) -> Result<Vec<Point>> {
+    annotate_with(est, x, &NoiseIdentifier::new(x), estimates, opts)
+}
+
+/// Annotate the estimates of `est` on the record `x` with the noise given
+/// by `ids` (the record's [`NoiseIdentifier`]) at each τ.
+///
+/// The answer at each τ is that of [`crate::stats::dominant_noise`] for the
+/// record and that τ alone, so a point's label, EDF, interval and
+/// bias-corrected value do not depend on which other τ were requested.
+///
+/// The EDF is evaluated for the gap-free record that would give the same
+/// number of terms ([`VarianceKind::equivalent_points`]), so gaps widen the
+/// interval. Estimators without an EDF rule (MTIE, TIE rms) keep `None` in
+/// every statistic; so do points where no noise could be identified, points
+/// whose α the estimator's variance does not reach (the Allan family for
+/// α ≤ −3), and — for the estimators that see a linear frequency drift —
+/// points labelled `drift` (no power-law EDF is pretended there; see
+/// [`crate::stats::noise_id`]).
+///
+/// The total family (TOTDEV, MTOT, TTOT, HTOT) is biased by an amount that
+/// depends on the noise type; with `opts.bias_correction` each value whose
+/// power law is known (and is not dominated by drift) is divided by √B
+/// ([`crate::stats::totals::bias`]) and the point records B
+/// ([`Point::bias`]). So is TheoH's ThêoBR part for white and flicker PM,
+/// where the record's own bias ratio does not carry to long τ
+/// ([`crate::stats::theo::theoh_bias`]). The interval is that of the
+/// corrected value.
+///
+/// Errors: [`Error::Invalid`] when the confidence is outside (0, 1) or the
+/// forced α is outside the estimator's range.
+pub fn annotate_with(
+    est: Estimator,
+    x: &PhaseRecord,
+    ids: &NoiseIdentifier,
+    estimates: &[Estimate],
+    opts: &StatsOptions,
+) -> Result<Vec<Point>> {
     crate::stats::interval::check_confidence(opts.confidence)?;
-    if matches!(est, Estimator::Theo1 | Estimator::Theoh) {
-        return annotate_theo(est, x, estimates, opts);
-    }
-    let Some(kind) = VarianceKind::of_estimator(est) else {
+    let kind = VarianceKind::of_estimator(est);
+    let has_rule = kind.is_some() || matches!(est, Estimator::Theo1 | Estimator::Theoh);
+    if !has_rule {
         return Ok(estimates.iter().copied().map(Point::bare).collect());
-    };
+    }
     if let Some(a) = opts.forced_alpha {
-        if !kind.alpha_range().contains(&a) {
-            let range = kind.alpha_range();
+        let range = kind.map_or(-2..=2, |k| k.alpha_range());
+        if !range.contains(&a) {
             return Err(Error::invalid(format!(
                 "noise type {} (α = {a}) is outside the range of {} (α = {} … {})",
                 crate::model::noise_label(a).unwrap_or("?"),
@@ -207,40 +199,40 @@ pub fn annotate(
             )));
         }
     }
-    // Noise type per point (in parallel), then the never-whiter rule.
-    let ids: Vec<Option<NoiseId>> = match opts.forced_alpha {
-        Some(a) => vec![
-            Some(NoiseId {
-                alpha: a,
-                method: IdMethod::Lag1,
-                r1: None,
-            });
-            estimates.len()
-        ],
-        None => {
-            let identifier = Identifier::new(&x.x, x.tau0, kind);
-            estimates.par_iter().map(|e| identifier.at(e.m)).collect()
-        }
-    };
-    let mut alphas: Vec<Option<i32>> = ids.iter().map(|id| id.map(|i| i.alpha)).collect();
-    if opts.forced_alpha.is_none() {
-        settle_noise_types(estimates, &ids, &mut alphas);
-    }
+    let n = x.x.len();
     estimates
         .par_iter()
-        .zip(alphas.par_iter())
-        .map(|(e, &alpha)| {
-            let n_eff = kind.equivalent_points(e.m, e.terms);
-            let nu = alpha.and_then(|a| edf(kind, a, e.m, n_eff));
-            let bias = match alpha {
-                Some(a) if opts.bias_correction && kind.is_total() => {
+        .map(|e| {
+            let m_id = identification_factor(est, e, x.tau0);
+            let id = match opts.forced_alpha {
+                Some(a) => Some(NoiseAt::given(a, m_id, x.tau0)),
+                None => ids.at(m_id),
+            };
+            let Some(id) = id else {
+                return Ok(Point::bare(*e));
+            };
+            let drift = id.is_drift();
+            let nu = point_edf(est, n, x.tau0, e, &id);
+            let correct = opts.bias_correction && !(drift && sees_drift(est));
+            let bias = match kind {
+                Some(k) if correct && k.is_total() => {
                     // B = 1 exactly (TOTDEV at m = 1: no reflected term)
                     // is no correction.
-                    crate::stats::totals::bias(kind, a, e.m, n_eff)
-                        .filter(|b| b.is_finite() && *b > 0.0 && *b != 1.0)
+                    crate::stats::totals::bias(k, id.alpha, e.m, k.equivalent_points(e.m, e.terms))
+                }
+                // TheoH's ThêoBR part for the PM noises, whose Theo1/AVAR
+                // ratio changes with τ ([`crate::stats::theo`]).
+                None if correct
+                    && est == Estimator::Theoh
+                    && est
+                        .bias_corrected_from(n, x.tau0)
+                        .is_some_and(|s| e.tau >= s) =>
+                {
+                    crate::stats::theo::theoh_bias(id.alpha, n, e.m)
                 }
                 _ => None,
-            };
+            }
+            .filter(|b| b.is_finite() && *b > 0.0 && *b != 1.0);
             let estimate = Estimate {
                 value: e.value / bias.unwrap_or(1.0).sqrt(),
                 ..*e
@@ -257,38 +249,10 @@ pub fn annotate(
                 edf: nu,
                 lo,
                 hi,
-                alpha,
+                alpha: Some(id.alpha),
                 bias,
+                drift,
             })
         })
         .collect()
-}
-
-/// The dominant power law of a sum of power laws can only get redder as τ
-/// grows (σ²_α(τ) ∝ τ^(−α−1): a lower α gains on a higher one). A type
-/// identified at a τ is therefore not allowed to be whiter than the type at
-/// the next shorter τ: its α is capped there. At long τ the decimated series
-/// is short (30 points at N/30 for the lag-1 method, fewer for the B1
-/// fallback) and its estimate scatters between neighbouring types; the cap
-/// keeps such a point from borrowing the larger EDF of a whiter type, which
-/// would make its interval too narrow. Where too few points remain for any
-/// identification (fewer than four frequency averages), the type of the
-/// next shorter τ is carried over. (Our rules; a bump in σ(τ) from a
-/// periodic disturbance keeps the redder type, the conservative side.)
-fn settle_noise_types(estimates: &[Estimate], ids: &[Option<NoiseId>], alphas: &mut [Option<i32>]) {
-    let mut order: Vec<usize> = (0..estimates.len()).collect();
-    order.sort_by_key(|&i| estimates[i].m);
-    let mut previous: Option<i32> = None;
-    for i in order {
-        match (ids[i], previous) {
-            (Some(id), Some(cap)) => {
-                alphas[i] = Some(id.alpha.min(cap));
-            }
-            (None, Some(carried)) => alphas[i] = Some(carried),
-            _ => {}
-        }
-        if alphas[i].is_some() {
-            previous = alphas[i];
-        }
-    }
 }

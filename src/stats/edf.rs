@@ -90,11 +90,12 @@
 //! exact and leaves larger m as printed (our choice, checked by the Monte
 //! Carlo in `tests/edf.rs`).
 //!
-//! SP 1065 gives no TOTVAR EDF for WPM and FPM, and none is given here
-//! (`None`): the reflected ends tie many terms to the two end samples, and a
-//! Monte Carlo (N = 1001, white PM) gives a TOTDEV EDF of 265 at m = 50 and
-//! 43 at m = 200 where the overlapping ADEV has 477 and 373 — borrowing the
-//! OADEV rule would overstate the confidence several-fold.
+//! SP 1065 gives no TOTVAR EDF for WPM and FPM; [`crate::stats::totals`]
+//! gives the exact one for white PM and a rule for flicker PM (the reflected
+//! ends tie many terms to the two end samples: N = 1001, white PM, a TOTDEV
+//! EDF of 265 at m = 50 and 43 at m = 200 where the overlapping ADEV has
+//! 477 and 373 — borrowing the OADEV rule would overstate the confidence
+//! several-fold).
 
 use crate::stats::{gacv, VarianceKind};
 

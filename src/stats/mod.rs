@@ -8,9 +8,11 @@
 //! - [`closed_form`] — the Howe, Allan & Barnes (1981) closed-form EDF of the
 //!   overlapping Allan variance (a cross-check of [`mod@edf`]).
 //! - [`mod@interval`] — two-sided χ² interval on a deviation.
-//! - [`noise_id`] — lag-1 autocorrelation noise identification (Riley &
+//! - [`noise_id`] — the dominant noise at each τ ([`dominant_noise`]), the
+//!   one identification every consumer uses: lag-1 autocorrelation (Riley &
 //!   Greenhall 2004) with the B1 / R(n) fallback (Barnes 1969) for short
-//!   series.
+//!   series, a rule across τ on a fixed internal grid, and linear frequency
+//!   drift.
 //! - [`bias`] — the theoretical B1(N, μ) and R(n) ratios the fallback compares
 //!   against.
 //! - [`gacv`] — the autocovariance kernels of the EDF sums.
@@ -30,18 +32,45 @@ pub mod annotate;
 pub mod bias;
 pub mod block_sums;
 pub mod closed_form;
+pub mod coverage;
 pub mod edf;
 pub mod gacv;
 pub mod interval;
 pub mod noise_id;
 pub mod quadratic;
+pub mod theo;
 pub mod totals;
 
-pub use annotate::{annotate, StatsOptions};
+pub use annotate::{annotate, annotate_with, StatsOptions};
 pub use edf::edf;
 pub use interval::{interval, DEFAULT_CONFIDENCE};
-pub use noise_id::{identify, IdMethod, Identifier, NoiseId};
+pub use noise_id::{
+    dominant_noise, power_law_at, IdMethod, NoiseAt, NoiseId, NoiseIdentifier, NoiseLabel,
+};
 pub use totals::totvar_bias;
+
+/// Results remembered per key, shared by every τ and record: values that
+/// depend only on the key (noise type, factor, reduced record size …) and
+/// take milliseconds or more to compute.
+pub(crate) type Cache<K, V> =
+    std::sync::OnceLock<std::sync::Mutex<std::collections::HashMap<K, Option<V>>>>;
+
+/// The value for `key` from `cache`, computed by `f` the first time.
+pub(crate) fn cached<K: std::hash::Hash + Eq, V: Copy>(
+    cache: &Cache<K, V>,
+    key: K,
+    f: impl FnOnce() -> Option<V>,
+) -> Option<V> {
+    let map = cache.get_or_init(|| std::sync::Mutex::new(std::collections::HashMap::new()));
+    if let Some(v) = map.lock().ok().and_then(|c| c.get(&key).copied()) {
+        return v;
+    }
+    let v = f();
+    if let Ok(mut c) = map.lock() {
+        c.insert(key, v);
+    }
+    v
+}
 
 /// The variance behind a deviation, as far as its statistics are concerned.
 ///

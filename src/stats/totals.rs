@@ -11,16 +11,16 @@
 //! by dividing the variance by B (the deviation by √B).
 //!
 //! SP 1065 tabulates these factors. Here they are computed exactly from the
-//! estimators' own definitions under the discrete power-law noise of
-//! [`crate::stats::gacv`], as means of quadratic forms
+//! estimators' own definitions under the sampled power-law noise of IEEE
+//! Std 1139 (WPM and FPM band-limited at f_h = 1/(2τ0); the kernels of
+//! `gacv::sampled_phase_gacv`), as means of quadratic forms
 //! ([`crate::stats::quadratic`]):
 //!
 //! - **TOTVAR.** Of the N − 2 terms, N − 2m are ordinary Allan terms; the
 //!   2(m − 1) terms at the ends read a reflected sample 2x_0 − x_j (or its
 //!   twin at the far end) and have their own mean. So
 //!   B = [(N − 2m)·E_A + Σ_ends E_t] / ((N − 2)·E_A), exact for every N, m
-//!   and α (for FFM beyond m = 2^16 in proportion to its value there, where
-//!   it has settled to 2e−5). It reproduces SP 1065's B = 1 − a·τ/T with
+//!   and α, in O(m). It reproduces SP 1065's B = 1 − a·τ/T with
 //!   a = 0.481 (FFM) and 0.750 (RWFM) and a = 0 for WFM (CHECKS.md D;
 //!   checked in `tests/totals.rs`), and gives the factors SP 1065 does not
 //!   tabulate: white PM B = 1 + (4/3)·τ/T (the reflected ends add variance),
@@ -46,9 +46,19 @@
 //!   0.22; RWFM 0.93, 0.36; CHECKS.md D, from memory), times the small-m
 //!   factor described in [`mod@crate::stats::edf`]. The exact EDF of the
 //!   quadratic form ([`totvar_edf_exact`]) agrees with it within 1–4 % at
-//!   m = 16 for T/τ = 2 … 64 (`tests/totals.rs`). SP 1065 gives no rule for
-//!   WPM and FPM, and none is given here: their EDF grows with m at fixed
-//!   T/τ, so no reduced record stands for a long one.
+//!   m = 16 for T/τ = 2 … 64 (`tests/totals.rs`). At m = 1 TOTVAR is the
+//!   overlapping AVAR term for term (no reflected term), and gets exactly
+//!   the overlapping Allan EDF. SP 1065 gives no rule for WPM and FPM;
+//!   their EDF grows with m at fixed T/τ, so no reduced record stands for a
+//!   long one. For white PM the EDF is exact, in O(m)
+//!   ([`totvar_edf_white_pm`]): the reflected ends tie every end term to
+//!   x_0 or x_{N−1}, whose squares then dominate the variance at long τ
+//!   (N = 4096, m = 256: EDF 296 where the overlapping ADEV has 1826). For
+//!   flicker PM, our rule: the overlapping Allan EDF of flicker PM with the
+//!   same penalty the reflected ends cost white PM,
+//!   1/ν = 1/ν_OADEV(FPM) + 1/ν_TOT(WPM) − 1/ν_OADEV(WPM), which the
+//!   seeded Monte Carlo of `examples/coverage.rs` finds 0–25 % below the
+//!   spread it measures (conservative).
 //! - **MTOT, TTOT, HTOT**: the exact EDF ν = tr(AS)²/tr((AS)²) of the
 //!   quadratic form of the whole estimate. It depends on the record through
 //!   T/τ = (N − 1)/m and, weakly, through m: at fixed T/τ it has settled to
@@ -71,11 +81,11 @@
 
 use crate::deviation::modtotal::{frequency_form_on_phase, subsequence_form};
 use crate::deviation::total::reflected_terms;
-use crate::stats::gacv::{self, discrete_phase_gacv};
+use crate::stats::gacv::{self, sampled_phase_gacv};
 use crate::stats::quadratic::{mean_square, QuadraticForm};
 use crate::stats::VarianceKind;
-use std::collections::HashMap;
-use std::sync::{Mutex, OnceLock};
+use crate::stats::{cached, Cache};
+use std::sync::OnceLock;
 
 /// MTOT and HTOT bias factors are computed at the actual m up to here, and
 /// at this m beyond.
@@ -130,24 +140,13 @@ pub fn totvar_bias(alpha: i32, m: usize, n_phase: usize) -> Option<f64> {
     }
     // B = 1 − 2·S(m)/(N − 2) with S(m) = Σ_{i=1}^{m−1} (1 − E_i/E_A) over
     // the left-end terms (the right-end ones mirror them: the GACV is even),
-    // a function of m alone. Exact for every m where the GACV has a closed
-    // form; for FFM from a table up to m = 2^16 and in proportion beyond,
-    // where S(m)/m has settled (a = 2S/m: 0.48088 at 2^16, 0.48090 at 2^21).
-    let s = match gacv::discrete_phase_gacv_at(alpha, 0) {
-        Some(_) => end_sum(m, |k| {
-            gacv::discrete_phase_gacv_at(alpha, k).expect("closed form")
-        }),
-        None => {
-            let mr = m.min(TOTVAR_TABLE_M);
-            let g = discrete_phase_gacv(alpha, 2 * mr + 1);
-            end_sum(mr, |k| g[k]).map(|v| v * m as f64 / mr as f64)
-        }
-    }?;
+    // a function of m alone, exact for every m from the kernels one lag at
+    // a time (O(m)).
+    let s = end_sum(m, |k| {
+        gacv::sampled_phase_gacv_at(alpha, k).expect("α = 2 … −2 checked above")
+    })?;
     Some(1.0 - 2.0 * s / (n_phase as f64 - 2.0))
 }
-
-/// TOTVAR bias for FFM is computed from the GACV table up to this m.
-const TOTVAR_TABLE_M: usize = 1 << 16;
 
 /// S(m) = Σ_{i=1}^{m−1} (1 − E_i/E_A) for the GACV `g`: E_A the mean square
 /// of an Allan term x_0 − 2x_m + x_{2m}, E_i that of the left-end term
@@ -217,34 +216,18 @@ impl Local {
 
 /// (member, α, m'): what the cached results depend on.
 type Key = (Local, i32, usize);
-/// A cache of results that depend only on [`Key`], shared by every τ and
-/// record (each costs up to some tens of milliseconds to compute).
-type Cache<V> = OnceLock<Mutex<HashMap<Key, Option<V>>>>;
 
 /// The bias factor of each (member, α, m').
-static BIAS_CACHE: Cache<f64> = OnceLock::new();
+static BIAS_CACHE: Cache<Key, f64> = OnceLock::new();
 /// The EDF at T/τ = 16 and 32 of each (member, α, m'), the ends of the line
 /// used beyond T/τ = 32.
-static EDF_LINE_CACHE: Cache<(f64, f64)> = OnceLock::new();
-
-/// The value for `key` from `cache`, computed by `f` the first time.
-fn cached<V: Copy>(cache: &Cache<V>, key: Key, f: impl FnOnce() -> Option<V>) -> Option<V> {
-    let map = cache.get_or_init(|| Mutex::new(HashMap::new()));
-    if let Some(v) = map.lock().ok().and_then(|c| c.get(&key).copied()) {
-        return v;
-    }
-    let v = f();
-    if let Ok(mut c) = map.lock() {
-        c.insert(key, v);
-    }
-    v
-}
+static EDF_LINE_CACHE: Cache<Key, (f64, f64)> = OnceLock::new();
 
 fn local_bias(which: Local, alpha: i32, m: usize) -> Option<f64> {
     let mr = m.min(BIAS_EXACT_UP_TO_M);
     cached(&BIAS_CACHE, (which, alpha, mr), || {
         let (r, len) = which.form(mr);
-        let g = discrete_phase_gacv(alpha, len);
+        let g = sampled_phase_gacv(alpha, len);
         let mut estimate = QuadraticForm::new(len);
         estimate.add_local(0, &r, len);
         let num = estimate.mean(&g);
@@ -266,7 +249,7 @@ fn local_edf_exact(which: Local, alpha: i32, m: usize, n_phase: usize) -> Option
     for start in 0..count {
         q.add_local(start, &r, len);
     }
-    let g = discrete_phase_gacv(alpha, q.samples());
+    let g = sampled_phase_gacv(alpha, q.samples());
     q.edf(&g)
 }
 
@@ -327,22 +310,40 @@ pub fn edf(kind: VarianceKind, alpha: i32, m: usize, n_phase: usize) -> Option<f
     }
 }
 
-/// EDF of TOTVAR: NIST SP 1065 b·(T/τ) − c for the FM noises, times the
-/// small-m factor of the overlapping Allan EDF (see the module notes of
-/// [`mod@crate::stats::edf`]); `None` for WPM and FPM.
+/// EDF of TOTVAR (module notes): at m = 1, where TOTVAR is the overlapping
+/// AVAR term for term, the overlapping Allan EDF; for the FM noises NIST SP
+/// 1065 b·(T/τ) − c times the small-m factor of the overlapping Allan EDF
+/// (see the module notes of [`mod@crate::stats::edf`]); for white PM the
+/// exact EDF of the quadratic form ([`totvar_edf_white_pm`]); for flicker
+/// PM the overlapping Allan EDF with the reflected ends' white-PM penalty
+/// added: 1/ν = 1/ν_OADEV(FPM) + [1/ν_TOT(WPM) − 1/ν_OADEV(WPM)] (our rule,
+/// checked by seeded Monte Carlo in `tests/coverage.rs` and
+/// `examples/coverage.rs`).
 fn totdev_edf(alpha: i32, m: usize, n_phase: usize) -> Option<f64> {
     use crate::stats::edf::{greenhall_edf, large_r_coefficients, Differences, PhaseModel};
     if n_phase < 3 || 2 * m > n_phase - 1 {
         return None;
     }
+    let oadev_kind = VarianceKind::OverlappingAllan;
+    // The overlapping Allan EDF for the same record (N − 2m terms).
+    let oadev = |a: i32| crate::stats::edf::edf(oadev_kind, a, m, n_phase);
+    if m == 1 {
+        return oadev(alpha);
+    }
     let ratio = (n_phase - 1) as f64 / m as f64;
     let (b, c) = match alpha {
+        2 => return totvar_edf_white_pm(m, n_phase),
+        1 => {
+            let penalty = 1.0 / totvar_edf_white_pm(m, n_phase)? - 1.0 / oadev(2)?;
+            let inv = 1.0 / oadev(1)? + penalty.max(0.0);
+            return (inv.is_finite() && inv > 0.0).then(|| 1.0 / inv);
+        }
         0 => (1.50, 0.0),
         -1 => (1.17, 0.22),
         -2 => (0.93, 0.36),
         _ => return None,
     };
-    let oadev = Differences::of(VarianceKind::OverlappingAllan)?;
+    let oadev = Differences::of(oadev_kind)?;
     let j_max = crate::stats::edf::J_MAX;
     let exact = greenhall_edf(oadev, alpha, m, n_phase, j_max, PhaseModel::Discrete)?;
     let r = (n_phase - 2 * m) as f64 / m as f64;
@@ -352,6 +353,192 @@ fn totdev_edf(alpha: i32, m: usize, n_phase: usize) -> Option<f64> {
     };
     let nu = (b * ratio - c) * factor;
     (nu > 0.0).then_some(nu)
+}
+
+/// The exact EDF of TOTVAR for white PM on a gap-free record of `n_phase`
+/// samples at factor m, in O(m) (module notes).
+///
+/// With unit white phase the covariance matrix is the identity, so
+/// ν = tr(A)²/‖A‖²_F for A = Σ_t c_t c_tᵀ, c_t the coefficients of term t
+/// (x*_{i−m} − 2x_i + x*_{i+m}, reflections included), and
+/// ‖A‖²_F = Σ_{t,u} (c_t·c_u)². Two terms that share no sample other than
+/// an end sample x_0 or x_{N−1} meet only there, so with
+/// Q_0 = Σ_u c_{u,0}², Q_L = Σ_u c_{u,N−1}² and Q_0L = Σ_u c_{u,0}c_{u,N−1},
+///
+/// ```text
+/// Σ_u (c_t·c_u)² = c_{t,0}²Q_0 + c_{t,L}²Q_L + 2c_{t,0}c_{t,L}Q_0L
+///     + Σ_{u sharing an inner sample} [(c_t·c_u)² − (c_{t,0}c_{u,0} + c_{t,L}c_{u,L})²]
+/// ```
+///
+/// A term whose centre is at least 3m from both ends shares samples only
+/// with the four ordinary terms at ±m, ±2m and contributes 36 + 2·16 + 2·1,
+/// that is 70 (its own |c|² = 6). So only the O(m) terms near the ends are
+/// summed. Checked against the dense quadratic form [`totvar_edf_exact`].
+/// Beyond m = [`TOTVAR_WPM_EXACT_UP_TO_M`] it is evaluated there with the
+/// same (N − 1)/m (the EDF has settled: the mean grows as m, the variance
+/// as m², at fixed (N − 1)/m).
+///
+/// ```
+/// use tauwise::stats::totals::{totvar_edf_exact, totvar_edf_white_pm};
+/// let fast = totvar_edf_white_pm(20, 201).unwrap();
+/// let dense = totvar_edf_exact(2, 20, 201).unwrap();
+/// assert!((fast / dense - 1.0).abs() < 1e-12);
+/// ```
+pub fn totvar_edf_white_pm(m: usize, n_phase: usize) -> Option<f64> {
+    if m == 0 || n_phase < 2 * m + 1 || n_phase < 3 {
+        return None;
+    }
+    if m > TOTVAR_WPM_EXACT_UP_TO_M {
+        // Mean ∝ m and variance ∝ m² at fixed (N − 1)/m (the end samples'
+        // squares dominate): the EDF has settled to O(1/m′) there.
+        let mr = TOTVAR_WPM_EXACT_UP_TO_M;
+        let nr = ((n_phase - 1) as f64 * mr as f64 / m as f64).round() as usize + 1;
+        return totvar_edf_white_pm_exact(mr, nr.max(2 * mr + 1));
+    }
+    totvar_edf_white_pm_exact(m, n_phase)
+}
+
+/// [`totvar_edf_white_pm`] is exact up to this m, and beyond evaluated at
+/// it with the same (N − 1)/m.
+pub const TOTVAR_WPM_EXACT_UP_TO_M: usize = 1 << 14;
+
+/// A term's merged coefficients: up to five (index, weight) pairs.
+#[derive(Clone, Copy)]
+struct Term {
+    c: [(usize, f64); 5],
+    len: usize,
+}
+
+impl Term {
+    fn coef(&self, k: usize) -> f64 {
+        self.c[..self.len]
+            .iter()
+            .find(|e| e.0 == k)
+            .map_or(0.0, |e| e.1)
+    }
+}
+
+fn totvar_edf_white_pm_exact(m: usize, n_phase: usize) -> Option<f64> {
+    let n = n_phase;
+    if m == 0 || n < 2 * m + 1 || n < 3 {
+        return None;
+    }
+    let last = n - 1;
+    // The merged coefficients of the term centred at i (1 ≤ i ≤ N − 2).
+    let term = |i: usize| -> Term {
+        let [a, b] = reflected_terms(n, i as isize - m as isize);
+        let [c, d] = reflected_terms(n, (i + m) as isize);
+        let mut t = Term {
+            c: [(0, 0.0); 5],
+            len: 0,
+        };
+        for (k, w) in [a, b, (i, -2.0), c, d] {
+            if w == 0.0 {
+                continue;
+            }
+            match t.c[..t.len].iter_mut().find(|e| e.0 == k) {
+                Some(e) => e.1 += w,
+                None => {
+                    t.c[t.len] = (k, w);
+                    t.len += 1;
+                }
+            }
+        }
+        let mut j = 0;
+        for q in 0..t.len {
+            if t.c[q].1 != 0.0 {
+                t.c[j] = t.c[q];
+                j += 1;
+            }
+        }
+        t.len = j;
+        t
+    };
+    // Centres of the terms that read the inner sample j (0 < j < N − 1).
+    let touching = |j: usize, out: &mut [usize; 5]| -> usize {
+        let mut k = 0;
+        let mut push = |i: usize| {
+            if (1..last).contains(&i) && !out[..k].contains(&i) {
+                out[k] = i;
+                k += 1;
+            }
+        };
+        push(j);
+        if j + m < last {
+            push(j + m);
+        }
+        if j > m {
+            push(j - m);
+        }
+        if j < m {
+            push(m - j); // reflected at the start: x*_{i−m} = 2x_0 − x_{m−i}
+        }
+        if let Some(i) = (2 * last).checked_sub(m + j) {
+            if i + m > last && i < last && i >= 1 {
+                push(i); // reflected at the end
+            }
+        }
+        k
+    };
+    // Q_0, Q_L, Q_0L over the terms that read an end sample.
+    let (mut q0, mut ql, mut q0l) = (0.0, 0.0, 0.0);
+    let mut end = |i: usize| {
+        let t = term(i);
+        let (a, b) = (t.coef(0), t.coef(last));
+        q0 += a * a;
+        ql += b * b;
+        q0l += a * b;
+    };
+    let left_top = m.min(last - 1);
+    for i in 1..=left_top {
+        end(i);
+    }
+    for i in last.saturating_sub(m).max(1).max(left_top + 1)..last {
+        end(i);
+    }
+    // Terms with centre in [3m, N − 1 − 3m] are ordinary (70, |c|² = 6).
+    let generic = |i: usize| i >= 3 * m && i + 3 * m <= last;
+    let generic_count = if last >= 6 * m { last - 6 * m + 1 } else { 0 };
+    let mut trace = 6.0 * generic_count as f64;
+    let mut frob = 70.0 * generic_count as f64;
+    let mut near = |i: usize| {
+        let t = term(i);
+        trace += t.c[..t.len].iter().map(|e| e.1 * e.1).sum::<f64>();
+        let (t0, tl) = (t.coef(0), t.coef(last));
+        let mut partners = [0usize; 25];
+        let mut np = 0;
+        let mut buf = [0usize; 5];
+        for e in &t.c[..t.len] {
+            if e.0 == 0 || e.0 == last {
+                continue;
+            }
+            let k = touching(e.0, &mut buf);
+            for &u in &buf[..k] {
+                if !partners[..np].contains(&u) {
+                    partners[np] = u;
+                    np += 1;
+                }
+            }
+        }
+        let mut p = t0 * t0 * q0 + tl * tl * ql + 2.0 * t0 * tl * q0l;
+        for &u in &partners[..np] {
+            let cu = term(u);
+            let d: f64 = t.c[..t.len].iter().map(|e| e.1 * cu.coef(e.0)).sum();
+            let e = t0 * cu.coef(0) + tl * cu.coef(last);
+            p += d * d - e * e;
+        }
+        frob += p;
+    };
+    if generic_count > 0 {
+        for i in (1..3 * m).chain(last - 3 * m + 1..last) {
+            near(i);
+        }
+    } else {
+        for i in (1..last).filter(|&i| !generic(i)) {
+            near(i);
+        }
+    }
+    (frob > 0.0).then(|| trace * trace / frob)
 }
 
 /// The exact EDF of TOTVAR for a gap-free record of `n_phase` samples at
@@ -375,7 +562,7 @@ pub fn totvar_edf_exact(alpha: i32, m: usize, n_phase: usize) -> Option<f64> {
         let [c, d] = reflected_terms(n_phase, (i + m) as isize);
         q.add_square(&[a, b, (i, -2.0), c, d]);
     }
-    q.edf(&discrete_phase_gacv(alpha, n_phase))
+    q.edf(&sampled_phase_gacv(alpha, n_phase))
 }
 
 /// The exact EDF of MTOT (and TTOT; `hadamard` false) or HTOT (true) on a

@@ -10,7 +10,7 @@ use crate::plot::phase_noise::{lf_points, BandMark, LfTrace, PhaseNoisePlot, Tra
 use crate::plot::stability::{SigmaCurve, StabilityPlot};
 use crate::report::*;
 use crate::spectrum::jitter::{integrate_band, Band, BandJitter, JitterSetup, Weighting};
-use crate::spectrum::welch::{welch, WelchOptions};
+use crate::spectrum::welch::{welch_record, WelchOptions};
 use crate::spectrum::{Quantity, Spectrum};
 use crate::stability::{from_phase_noise, ViewOptions};
 use crate::units::format_si;
@@ -61,7 +61,7 @@ pub(super) fn phase_noise(
     // The spectrum of the first record, when the carrier is known.
     let record_spectrum = match (records.first(), carrier) {
         (Some(l), Some(c)) => {
-            let w = welch(&l.series.record.to_phase(), &WelchOptions::default());
+            let w = welch_record(&l.series.record, &WelchOptions::default());
             match w {
                 Ok(w) => Some((
                     l.src.name.clone(),

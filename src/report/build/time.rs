@@ -387,7 +387,7 @@ pub(super) fn noise_model(
             });
         }
         let worst = fit.residual_db.iter().fold(0.0f64, |m, v| m.max(v.abs()));
-        let notes = vec![
+        let mut notes = vec![
             drift_note,
             format!(
                 "Fitted to {} OADEV/MDEV points, f_h = {}; largest residual {:.2} dB (10·log10 model/measured).",
@@ -397,6 +397,23 @@ pub(super) fn noise_model(
             ),
             "Weights: each point's EDF; points without one are left out.".into(),
         ];
+        for l in &fit.left_out {
+            notes.push(match l.reason {
+                crate::model::LeftOutReason::AtZero => format!(
+                    "h{} ({}) is not in the model: the non-negative fit put it at zero.",
+                    l.alpha,
+                    crate::model::noise_label(l.alpha).unwrap_or("?")
+                ),
+                crate::model::LeftOutReason::NotSignificant => format!(
+                    "h{} ({}) is not in the model: {:.3e} ± {} is below {} standard errors.",
+                    l.alpha,
+                    crate::model::noise_label(l.alpha).unwrap_or("?"),
+                    l.h,
+                    l.std_err.map_or("?".to_string(), |e| format!("{e:.2e}")),
+                    crate::model::fit::SIGNIFICANCE
+                ),
+            });
+        }
         let identified = fitted
             .curves
             .first()
