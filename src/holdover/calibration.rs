@@ -13,7 +13,7 @@
 //! D̂/σ_D, is collected as well: on records with no aging it should behave
 //! like a standard normal variable (about 4.6 % beyond 2).
 
-use super::{model_from_record, predict, FromRecord, Settings};
+use super::{model_from_record, predict, simulate_te, FromRecord, Settings};
 use crate::error::Result;
 use crate::model::PowerLaw;
 use crate::record::{PhaseRecord, Record};
@@ -59,6 +59,10 @@ pub struct Outcome {
     pub p95: f64,
     /// Error of the fitted aging in standard uncertainties, (D̂ − D)/σ_D.
     pub z: f64,
+    /// The fraction of the predicted paths whose signed TE at the span end
+    /// lies below the true signed TE (the probability integral transform:
+    /// uniform on 0…1 when the predicted distribution of TE is right).
+    pub pit: f64,
 }
 
 /// The summary over the trials.
@@ -74,6 +78,12 @@ pub struct Calibration {
     pub z_beyond_2: f64,
     /// Standard deviation of (D̂ − D)/σ_D over the trials (1 when σ_D is honest).
     pub z_sd: f64,
+    /// Fraction of trials with the true signed TE above the predicted
+    /// median of the signed TE (nominal 50 %).
+    pub above_signed_median: f64,
+    /// Fraction of trials with the true signed TE outside the predicted
+    /// central 90 % of the signed TE (nominal 10 %).
+    pub outside_signed_90: f64,
 }
 
 /// Run the trials (module notes); records are independent and run in
@@ -90,7 +100,15 @@ pub fn run(trial: &Trial) -> Result<Calibration> {
     let z_beyond_2 = zs.iter().filter(|z| z.abs() > 2.0).count() as f64 / n;
     let mean = zs.iter().sum::<f64>() / n;
     let z_sd = (zs.iter().map(|z| (z - mean).powi(2)).sum::<f64>() / (n - 1.0).max(1.0)).sqrt();
+    let above_signed_median = outcomes.iter().filter(|o| o.pit > 0.5).count() as f64 / n;
+    let outside_signed_90 = outcomes
+        .iter()
+        .filter(|o| o.pit < 0.05 || o.pit > 0.95)
+        .count() as f64
+        / n;
     Ok(Calibration {
+        above_signed_median,
+        outside_signed_90,
         outcomes,
         above_p50,
         above_p95,
@@ -109,7 +127,8 @@ fn one(trial: &Trial, seed: u64) -> Result<Outcome> {
     spec.drift_per_s = trial.aging;
     let full = simulate_phase(&spec)?;
     let last = trial.points - 1;
-    let true_te = (full.x[last + trial.span_samples] - full.x[last]).abs();
+    let signed_te = full.x[last + trial.span_samples] - full.x[last];
+    let true_te = signed_te.abs();
     let rec = Record::Phase(PhaseRecord::new(
         full.x[..trial.points].to_vec(),
         trial.tau0,
@@ -124,15 +143,18 @@ fn one(trial: &Trial, seed: u64) -> Result<Outcome> {
         },
     )?;
     let span = trial.span_samples as f64 * trial.tau0;
-    let pred = predict(
-        &model,
-        &Settings {
-            paths: trial.paths,
-            steps: trial.steps,
-            seed,
-            ..Settings::new(span, 1.0)
-        },
-    )?;
+    let settings = Settings {
+        paths: trial.paths,
+        steps: trial.steps,
+        seed,
+        ..Settings::new(span, 1.0)
+    };
+    let pred = predict(&model, &settings)?;
+    let (te, n, _) = simulate_te(&model, &settings)?;
+    let below = (0..trial.paths)
+        .filter(|p| te[p * n + n - 1] < signed_te)
+        .count();
+    let pit = below as f64 / trial.paths as f64;
     let end =
         pred.te.last().copied().ok_or_else(|| {
             crate::error::Error::insufficient("the prediction gave no time point")
@@ -145,6 +167,7 @@ fn one(trial: &Trial, seed: u64) -> Result<Outcome> {
         true_te,
         p50: end.p50,
         p95: end.p95,
+        pit,
         z: if sd > 0.0 {
             (d - trial.aging) / sd
         } else {

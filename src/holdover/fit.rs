@@ -107,6 +107,79 @@ const LONG_REACH: f64 = 1.0 / 16.0;
 /// FM). MDEV at short τ separates white from flicker PM, where the
 /// detrending changes nothing.
 pub fn fit_noise(x: &PhaseRecord) -> Result<ModelFit> {
+    fit_noise_spread(x).map(|(fit, _)| fit)
+}
+
+/// How well a record pins down its random-walk FM level, from its
+/// longest-τ overlapping Hadamard variances (τ ≥ a sixteenth of the
+/// record, the points where [`fit_noise`] holds the model to the measured
+/// low-frequency power).
+///
+/// # Why
+///
+/// Over a record a few times longer than the τ where random-walk FM takes
+/// over, h₋₂ rests on a handful of long-τ points with a few degrees of
+/// freedom each: on 4096-point records of white FM with weak RWFM (h₀ =
+/// 1e-22, h₋₂ = 3e-29, crossover near 500 s) the fitted h₋₂ is unbiased
+/// on average but zero in 30 % of the records and below half the truth in
+/// another 20 % (seeded Monte Carlo, 200 records). The aging's σ_D scales
+/// with √h₋₂ where RWFM dominates, so a bootstrap from the point estimate
+/// alone made σ_D far too small exactly where h₋₂ came out small: |D̂|/σ_D
+/// beyond 2 in 25 % of pure-noise records (nominal 4.6 %), sd 2.5.
+///
+/// # The draw
+///
+/// With ν_i the EDF and σ̂²_i the measured (log-bias-corrected) variance of
+/// each long point, W = Σ ν_i·σ̂²_i is compared with what the model without
+/// RWFM gives there (R = Σ ν_i·σ²_rest,i) and what h₋₂ = 1 gives (U =
+/// Σ ν_i·b_i). W is a sum of scaled χ² variables, with Satterthwaite's
+/// effective degrees of freedom ν_W = (Σ ν_i σ̂²_i)² / Σ ν_i σ̂⁴_i. Each
+/// bootstrap record draws the level it could have measured, E =
+/// W·χ²_{ν_W}/ν_W (the sampling distribution of W about its value, mean
+/// W), and h₋₂ = max(0, (E − R)/U): the bootstrap repeats the noise
+/// estimate as well as the aging fit, so σ_D and σ_y0 hold the uncertainty
+/// of the noise model too.
+///
+/// Calibration (seeded Monte Carlo, `examples/holdover_calibration.rs`,
+/// 200 records of 4096 points each): (D̂ − D)/σ_D has sd 1.04 / 0.91 /
+/// 0.92 and lies beyond 2 in 5.5 / 5.0 / 4.0 % of the records (nominal
+/// 1 and 4.6 %) for weak RWFM, strong RWFM and all four FM/PM terms; from
+/// the point estimate alone it was 2.55 / 1.01 / 1.60 and 25 / 5 / 16 %.
+/// (The posterior form W·ν_W/χ²_{ν_W}, tried as well, over-covers: sd 0.6–0.9.)
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
+pub struct RwfmSpread {
+    /// W = Σ ν_i·σ̂²_i over the long points.
+    pub measured: f64,
+    /// R = Σ ν_i·σ²_i of the model without its RWFM term.
+    pub rest: f64,
+    /// U = Σ ν_i·b_i, b_i the Hadamard variance of h₋₂ = 1.
+    pub unit: f64,
+    /// ν_W, the effective degrees of freedom of W.
+    pub edf: f64,
+}
+
+impl RwfmSpread {
+    /// One draw of h₋₂ (see the type's notes).
+    pub fn draw(&self, rng: &mut impl rand::Rng) -> f64 {
+        use rand_distr::{ChiSquared, Distribution};
+        let Ok(chi) = ChiSquared::new(self.edf) else {
+            return ((self.measured - self.rest) / self.unit).max(0.0);
+        };
+        let c: f64 = chi.sample(rng);
+        let level = self.measured * c / self.edf;
+        let h = (level - self.rest) / self.unit;
+        if h.is_finite() {
+            h.max(0.0)
+        } else {
+            0.0
+        }
+    }
+}
+
+/// [`fit_noise`], with the spread of its random-walk FM level
+/// ([`RwfmSpread`]; `None` when the record has no Hadamard point with an
+/// EDF at a sixteenth of its length or beyond).
+pub fn fit_noise_spread(x: &PhaseRecord) -> Result<(ModelFit, Option<RwfmSpread>)> {
     let req = crate::stability::Request {
         estimators: vec![Estimator::Ohdev, Estimator::Mdev],
         ..crate::stability::Request::new(Vec::new())
@@ -144,7 +217,9 @@ pub fn fit_noise(x: &PhaseRecord) -> Result<ModelFit> {
     let mut fit = fit_variances(&points, f_h)?;
     // The longest τ: does the model hold the measured low-frequency power?
     let from = LONG_REACH * x.span();
-    let (mut excess, mut unit) = (0.0, 0.0);
+    let mut rest_model = fit.model;
+    rest_model.set(-2, 0.0);
+    let (mut excess, mut unit, mut measured, mut rest, mut square) = (0.0, 0.0, 0.0, 0.0, 0.0);
     for c in curves
         .iter()
         .filter(|c| c.estimator == Estimator::Ohdev.name())
@@ -152,9 +227,14 @@ pub fn fit_noise(x: &PhaseRecord) -> Result<ModelFit> {
         for p in &c.points {
             let e = p.estimate;
             if let Some(edf) = p.edf.filter(|v| v.is_finite() && *v > 0.0 && e.tau >= from) {
+                let var = e.value * e.value / log_bias(edf).exp();
                 let model = fit.model.variance(VarKind::Hvar, e.tau, x.tau0);
+                let b = crate::model::fit::basis(VarKind::Hvar, -2, e.tau, x.tau0, f_h);
                 excess += edf * (e.value * e.value - model);
-                unit += edf * crate::model::fit::basis(VarKind::Hvar, -2, e.tau, x.tau0, f_h);
+                unit += edf * b;
+                measured += edf * var;
+                square += edf * var * var;
+                rest += edf * rest_model.variance(VarKind::Hvar, e.tau, x.tau0);
             }
         }
     }
@@ -165,7 +245,13 @@ pub fn fit_noise(x: &PhaseRecord) -> Result<ModelFit> {
             *f = true;
         }
     }
-    Ok(fit)
+    let spread = (unit > 0.0 && measured > 0.0 && square > 0.0).then(|| RwfmSpread {
+        measured,
+        rest,
+        unit,
+        edf: measured * measured / square,
+    });
+    Ok((fit, spread.filter(|s| s.edf.is_finite() && s.edf > 0.0)))
 }
 
 /// E[ln(σ̂²/σ²)] for a variance estimate with ν degrees of freedom,
@@ -208,6 +294,9 @@ pub struct Spread {
 pub struct BootstrapSpec<'a> {
     /// The noise model the records are drawn from.
     pub noise: &'a PowerLaw,
+    /// The spread of its random-walk FM level, drawn per record (`None`:
+    /// the model's h₋₂ as it is, e.g. for a model the user gave).
+    pub rwfm: Option<RwfmSpread>,
     /// The law the records carry (the fitted or given one).
     pub law: &'a Aging,
     /// How the law is obtained from a record.
@@ -249,8 +338,10 @@ pub fn sampling(span: f64, tau0: f64, window: Option<f64>) -> (f64, usize) {
 /// random-walk FM frequency at the record's end); `None` where `stat`
 /// fails. Replicate b draws from ChaCha8 on stream b, so the result does not
 /// depend on the number of threads.
+#[allow(clippy::too_many_arguments)]
 fn replicate<T, F>(
     noise: &PowerLaw,
+    rwfm: Option<&RwfmSpread>,
     law: &Aging,
     n: usize,
     step: f64,
@@ -271,7 +362,17 @@ where
             |x, b| {
                 let mut rng = ChaCha8Rng::seed_from_u64(seed);
                 rng.set_stream(b as u64);
-                let level = gen.fill_with_level(&mut rng, x);
+                let level = match rwfm {
+                    Some(spread) => {
+                        let mut m = *noise;
+                        m.set(-2, spread.draw(&mut rng));
+                        match NoisePaths::new(&m, step, n) {
+                            Ok(g) => g.fill_with_level(&mut rng, x),
+                            Err(_) => return None,
+                        }
+                    }
+                    None => gen.fill_with_level(&mut rng, x),
+                };
                 let y: Vec<f64> = (0..n)
                     .map(|k| (x[k + 1] - x[k]) / step + law.y((k as f64 + 0.5) * step))
                     .collect();
@@ -302,6 +403,7 @@ pub fn bootstrap(spec: &BootstrapSpec) -> Result<Spread> {
     let truth_end = spec.law.y(n as f64 * step);
     let errors = replicate(
         spec.noise,
+        spec.rwfm.as_ref(),
         spec.law,
         n,
         step,
@@ -354,6 +456,7 @@ pub fn bootstrap(spec: &BootstrapSpec) -> Result<Spread> {
 /// `noise` (module notes), per second.
 pub fn drift_sigma(
     noise: &PowerLaw,
+    rwfm: Option<&RwfmSpread>,
     model: crate::prepare::DriftModel,
     span: f64,
     tau0: f64,
@@ -371,7 +474,7 @@ pub fn drift_sigma(
         d: 0.0,
         d_sigma: 0.0,
     };
-    let rates = replicate(noise, &none, n, step, replicates, seed, |rec, _| {
+    let rates = replicate(noise, rwfm, &none, n, step, replicates, seed, |rec, _| {
         crate::prepare::fit_drift_y(&rec.y, rec.tau0, model)
             .ok()
             .map(|f| f.rate)
@@ -408,6 +511,7 @@ mod tests {
         let w = span / 10.0;
         let s = bootstrap(&BootstrapSpec {
             noise: &noise,
+            rwfm: None,
             law: &law,
             source: AgingSource::Fitted(AgingModel::Linear),
             window: Some(w),
@@ -461,6 +565,7 @@ mod tests {
         };
         let s = bootstrap(&BootstrapSpec {
             noise: &noise,
+            rwfm: None,
             law: &law,
             source: AgingSource::Given,
             window: Some(3600.0),

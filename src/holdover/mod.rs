@@ -296,6 +296,18 @@ fn percentile(v: &mut [f64], p: f64) -> f64 {
 /// `seed` on stream p, so the same seed gives the same result whatever the
 /// number of threads.
 pub fn predict(model: &HoldoverModel, settings: &Settings) -> Result<Prediction> {
+    let (te, n, step) = simulate_te(model, settings)?;
+
+    summarise(model, settings, &te, n, step)
+}
+
+/// The simulated signed time errors of the prediction: `te[p·n + k − 1]`
+/// is TE of path p at step k (k = 1 … n, t = k·step), without the
+/// worst-case temperature term; returns (te, n, step).
+pub(crate) fn simulate_te(
+    model: &HoldoverModel,
+    settings: &Settings,
+) -> Result<(Vec<f64>, usize, f64)> {
     settings.validate()?;
     let n = settings.steps;
     let step = settings.span / n as f64;
@@ -329,6 +341,19 @@ pub fn predict(model: &HoldoverModel, settings: &Settings) -> Result<Prediction>
             }
         },
     );
+    Ok((te, n, step))
+}
+
+/// Percentiles, crossing and verdict of simulated time errors
+/// ([`simulate_te`]).
+fn summarise(
+    model: &HoldoverModel,
+    settings: &Settings,
+    te: &[f64],
+    n: usize,
+    step: f64,
+) -> Result<Prediction> {
+    let np = settings.paths;
     let temp = model.temp_worst.abs();
     let abs_at = |k: usize, buf: &mut Vec<f64>| {
         let t = k as f64 * step;
@@ -549,9 +574,12 @@ pub fn model_from_record(rec: &Record, opts: &FromRecord) -> Result<HoldoverMode
             .collect(),
         tau0,
     };
-    let noise = match opts.noise {
-        Some(m) => m,
-        None => fit_noise(&residual.to_phase())?.model,
+    let (noise, rwfm) = match opts.noise {
+        Some(m) => (m, None),
+        None => {
+            let (fit, spread) = fit::fit_noise_spread(&residual.to_phase()).map_err(hint_model)?;
+            (fit.model, spread)
+        }
     };
     let window = match opts.y0_given {
         Some(_) => None,
@@ -582,6 +610,7 @@ pub fn model_from_record(rec: &Record, opts: &FromRecord) -> Result<HoldoverMode
     } else {
         Some(fit::bootstrap(&fit::BootstrapSpec {
             noise: &noise,
+            rwfm,
             law: &aging,
             source,
             window,
@@ -633,10 +662,15 @@ pub const FIT_ESTIMATORS: [Estimator; 2] = [Estimator::Oadev, Estimator::Mdev];
 /// the record with its aging law removed): [`fit::fit_noise`] (OHDEV at
 /// every octave τ and MDEV at short τ, EDF-weighted, f_h = 1/(2τ0)).
 pub fn fit_noise(phase: &PhaseRecord) -> Result<ModelFit> {
-    fit::fit_noise(phase).map_err(|e| match e {
+    fit::fit_noise(phase).map_err(hint_model)
+}
+
+/// A noise fit that found too little to fit says how to give the model.
+fn hint_model(e: Error) -> Error {
+    match e {
         Error::Insufficient(msg) => {
             Error::insufficient(format!("{msg}: give the model with --model"))
         }
         other => other,
-    })
+    }
 }

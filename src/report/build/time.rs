@@ -143,12 +143,13 @@ pub(super) fn stability(
         let noise = crate::prepare::fit_drift(rec, DriftModel::Linear)
             .ok()
             .map(|d| crate::prepare::remove_drift(rec, &d).to_phase())
-            .and_then(|x| crate::holdover::fit_noise(&x).ok())
-            .map(|f| f.model);
+            .and_then(|x| crate::holdover::fit::fit_noise_spread(&x).ok());
         let sigma = |model: DriftModel| -> Option<f64> {
             let span = summary.as_ref()?.span;
+            let (fit, spread) = noise.as_ref()?;
             crate::holdover::fit::drift_sigma(
-                noise.as_ref()?,
+                &fit.model,
+                spread.as_ref(),
                 model,
                 span,
                 rec.tau0(),
