@@ -21,7 +21,7 @@ fn rel(a: f64, b: f64) -> f64 {
     (a - b).abs() / b.abs()
 }
 
-/// IEEE Std 1139-2008 table (CHECKS.md C), each entry written out here:
+/// IEEE Std 1139-2008 table (docs/checks.md §C), each entry written out here:
 /// the model's AVAR, MVAR and TVAR reproduce it exactly.
 #[test]
 fn ieee1139_table_is_reproduced() {
@@ -51,7 +51,7 @@ fn ieee1139_table_is_reproduced() {
             m.set(*a, h);
             assert!(rel(m.avar(tau), *av) < 1e-13, "AVAR α={a}");
             assert!(rel(m.mvar(tau, tau0), *mv) < 1e-13, "MVAR α={a}");
-            // TVAR = (τ²/3) Mod σ_y² (IEEE Std 1139; CHECKS.md C).
+            // TVAR = (τ²/3) Mod σ_y² (IEEE Std 1139; docs/checks.md §C).
             assert!(rel(m.tvar(tau, tau0), tau * tau / 3.0 * mv) < 1e-13);
         }
     }
@@ -111,7 +111,7 @@ fn numerical_integral_matches_closed_form_cases() {
 }
 
 /// IEEE Std 1139 (issue "Model" check): the closed forms equal the
-/// numerical integral of S_y(f) with the transfer functions of DESIGN.md §6
+/// numerical integral of S_y(f) with the transfer functions of docs/design.md §6
 /// within 2 % where 2πf_hτ > 10 — AVAR and HVAR for f_h = 1/(2τ0) and for
 /// f_h = 50/τ0; MVAR (whose table forms are large-n limits for
 /// f_h = 1/(2τ0)) for n ≥ 8.
