@@ -61,7 +61,7 @@
 //! # Short-τ fidelity: the shaping of FPM, FFM and RWFM
 //!
 //! With q alone, the plain Kasdin–Walter process matches the IEEE Std 1139
-//! table (CHECKS.md C, f_h = 1/(2τ0)) at long τ but not at the shortest: its
+//! table (docs/checks.md §C, f_h = 1/(2τ0)) at long τ but not at the shortest: its
 //! PSD departs from the model's near the Nyquist frequency. Computed
 //! exactly from the filter, the plain process gives 1 + 1/(2m²) times the
 //! table for RWFM (50 % high at m = 1), 1/ln2 = 1.443, 1.154, 1.050, 1.015
@@ -122,7 +122,7 @@ use rustfft::FftPlannerScalar;
 use std::f64::consts::PI;
 
 /// Largest record [`simulate_phase`] and [`simulate_frequency`] accept
-/// (10^8 samples, the longest records of DESIGN.md §1; flicker terms then
+/// (10^8 samples, the longest records of docs/design.md §1; flicker terms then
 /// need about 10 GB for the FFT).
 pub const MAX_POINTS: usize = 100_000_000;
 

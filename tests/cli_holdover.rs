@@ -53,7 +53,7 @@ fn crossing(y0: f64, d: f64, budget: f64) -> f64 {
 
 /// The JSON shape of issue 5, with a given aging and negligible noise:
 /// TE(t) = y0·t + ½·D·t², whose aging part is 4.32 µs at 24 h for
-/// D = 1e−10/day (CHECKS.md G), and the 1.5 µs budget is first exceeded at
+/// D = 1e−10/day (docs/checks.md §G), and the 1.5 µs budget is first exceeded at
 /// the root of that quadratic (analytic).
 #[test]
 fn json_contract_with_given_aging() {

@@ -1,5 +1,5 @@
 //! End-to-end: the `stability` binary on small files, its JSON and CSV
-//! contract (DESIGN.md §5), and its errors.
+//! contract (docs/design.md §5), and its errors.
 
 use std::path::Path;
 use std::process::Command;
@@ -8,7 +8,7 @@ fn tauwise() -> Command {
     Command::new(env!("CARGO_BIN_EXE_tauwise"))
 }
 
-/// NIST SP 1065 nine-point set (CHECKS.md A): fractional-frequency data.
+/// NIST SP 1065 nine-point set (docs/checks.md §A): fractional-frequency data.
 const NINE: [f64; 9] = [892., 809., 823., 798., 671., 644., 883., 903., 677.];
 
 fn write(dir: &Path, name: &str, text: &str) -> std::path::PathBuf {
@@ -60,7 +60,7 @@ fn json_contract_and_nist_values() {
     assert_eq!(doc["confidence"], 0.683);
     let curves = doc["curves"].as_array().unwrap();
     assert_eq!(curves.len(), 3);
-    // NIST SP 1065 nine-point values (CHECKS.md A, from memory): ADEV m=1
+    // NIST SP 1065 nine-point values (docs/checks.md §A, from memory): ADEV m=1
     // 91.22945, m=2 115.8082; OADEV m=2 85.95287; TOTDEV m=2 93.90379.
     let dev = |c: usize, k: usize| curves[c]["points"][k]["dev"].as_f64().unwrap();
     let close = |a: f64, b: f64| (a - b).abs() / b < 5e-7;

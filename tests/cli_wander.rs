@@ -29,7 +29,7 @@ fn ramp_file(dir: &Path) -> PathBuf {
     write(dir, "ramp.txt", &text)
 }
 
-/// G.8262 option 1 MTIE (CHECKS.md F, from memory): 40 ns on (0.1, 1];
+/// G.8262 option 1 MTIE (docs/checks.md §F, from memory): 40 ns on (0.1, 1];
 /// 40·τ^0.1 ns on (1, 100]; 25.25·τ^0.2 ns on (100, 1000].
 fn g8262_mtie(tau: f64) -> Option<f64> {
     if tau > 0.1 && tau <= 1.0 {
@@ -85,7 +85,7 @@ fn run_ramp(extra: &[&str]) -> (Output, Option<serde_json::Value>) {
 }
 
 /// The JSON shape of issue 5 on a frequency-offset ramp, whose MTIE is
-/// y0·τ (CHECKS.md F, analytic): the verdict, worst ratio and violations
+/// y0·τ (docs/checks.md §F, analytic): the verdict, worst ratio and violations
 /// equal those computed here from the recalled G.8262 formulas.
 #[test]
 fn json_contract_on_a_ramp() {
@@ -163,7 +163,7 @@ fn json_contract_on_a_ramp() {
     assert_eq!(mt["mask_range"]["to"], 1000.0);
     assert_eq!(mt["checked_range"]["from"], 1.0);
     assert_eq!(mt["checked_range"]["to"], 1000.0);
-    // Worst ratio and violations from the formulas (CHECKS.md F, from memory).
+    // Worst ratio and violations from the formulas (docs/checks.md §F, from memory).
     let ratios: Vec<(f64, f64)> = taus
         .iter()
         .filter_map(|&t| g8262_mtie(t).map(|l| (t, Y0 * t / l)))
@@ -223,7 +223,7 @@ fn exit_status_of_a_failed_mask() {
 /// status at 0. Alternating 0, 1 ns: MTIE = 1 ns at every τ (analytic),
 /// TDEV(τ0) = sqrt(4/6) ns (NIST SP 1065: TDEV² = ⟨(Δ²x)²⟩/6 at m = 1, with
 /// second differences of ±2 ns)
-/// — below G.811's 25 ns and 3 ns (CHECKS.md F, from memory).
+/// — below G.811's 25 ns and 3 ns (docs/checks.md §F, from memory).
 #[test]
 fn passing_record_exits_zero() {
     let dir = tempfile::tempdir().unwrap();

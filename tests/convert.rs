@@ -1,6 +1,6 @@
 //! End to end: `tauwise convert`, `tauwise spectrum` and `tauwise jitter`
 //! on files whose answers are known from IEEE Std 1139 closed forms and the
-//! analytic jitter cases of CHECKS.md E; JSON shapes of issue 4; bad input.
+//! analytic jitter cases of docs/checks.md §E; JSON shapes of issue 4; bad input.
 
 use std::path::Path;
 use std::process::Command;
@@ -41,7 +41,7 @@ fn write(dir: &Path, name: &str, text: &str) -> String {
     p.display().to_string()
 }
 
-/// IEEE Std 1139 (CHECKS.md C): a WFM + FFM model → L(f) table (CSV) →
+/// IEEE Std 1139 (docs/checks.md §C): a WFM + FFM model → L(f) table (CSV) →
 /// σ(τ) matches h0/(2τ) + 2 ln2·h−1 within 3 %; curves carry the
 /// `stability` shape.
 #[test]
@@ -147,7 +147,7 @@ fn model_to_sigma() {
     }
 }
 
-/// CHECKS.md E (analytic): flat −155 dBc/Hz, 12 kHz–20 MHz, 10 MHz carrier:
+/// docs/checks.md §E (analytic): flat −155 dBc/Hz, 12 kHz–20 MHz, 10 MHz carrier:
 /// 1.124e−4 rad, 1.789 ps; issue 4 JSON shape; rms_ui null without a rate.
 #[test]
 fn jitter_json_shape_and_value() {

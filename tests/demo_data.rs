@@ -1,4 +1,4 @@
-//! The bundled demo data (invented scenario, DESIGN.md §8) is what its
+//! The bundled demo data (invented scenario, demo-data/README.md) is what its
 //! README says it is.
 
 use std::path::Path;

@@ -118,7 +118,7 @@ fn a_complete_file_reads() {
     let h = dut.holdover.as_ref().unwrap();
     assert_eq!(h.budget, 1.5e-6);
     assert_eq!(h.spans, [8.0 * 3600.0, 86400.0]);
-    // 1e-10 per day over 24 h gives ½·D·t² = 4.32 µs (CHECKS.md G, analytic).
+    // 1e-10 per day over 24 h gives ½·D·t² = 4.32 µs (docs/checks.md §G, analytic).
     let d = h.aging.unwrap();
     assert!((0.5 * d * 86400f64.powi(2) - 4.32e-6).abs() < 1e-12);
 }

@@ -14,7 +14,7 @@ use tauwise::stats::{edf, interval, totvar_bias, VarianceKind};
 // ---------------------------------------------------------------------------
 // χ² quantiles
 
-/// NIST/SEMATECH e-Handbook of Statistical Methods, χ² table (CHECKS.md D):
+/// NIST/SEMATECH e-Handbook of Statistical Methods, χ² table (docs/checks.md §D):
 /// 10 degrees of freedom, χ²(0.025) = 3.247, χ²(0.975) = 20.483.
 #[test]
 fn chi2_quantiles_match_handbook_table() {
@@ -236,7 +236,7 @@ fn paper_phase_model_converges_at_large_m() {
 // ---------------------------------------------------------------------------
 // Greenhall–Riley against the Howe–Allan–Barnes closed forms
 
-/// Howe, Allan & Barnes (1981), tabulated in NIST SP 1065 (CHECKS.md D):
+/// Howe, Allan & Barnes (1981), tabulated in NIST SP 1065 (docs/checks.md §D):
 /// closed-form EDF of the overlapping ADEV, known good to a few per cent.
 #[test]
 fn greenhall_meets_howe_allan_barnes_for_oadev() {
@@ -436,7 +436,7 @@ fn edf_domain() {
 // ---------------------------------------------------------------------------
 // Total variance
 
-/// NIST SP 1065 TOTDEV EDF: b·(T/τ) − c, T = (N − 1)τ0 (CHECKS.md D, from
+/// NIST SP 1065 TOTDEV EDF: b·(T/τ) − c, T = (N − 1)τ0 (docs/checks.md §D, from
 /// memory); bias of TOTVAR 1 − a·τ/T.
 #[test]
 fn totdev_rules() {

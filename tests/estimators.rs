@@ -1,7 +1,7 @@
 //! The estimators against outside references: every fast form against the
 //! direct textbook form (NIST SP 1065 / ITU-T G.810 definitions, written out
 //! plainly in `tauwise::deviation::reference`), invariances the definitions
-//! imply, analytic MTIE results (CHECKS.md F), and the τ grids.
+//! imply, analytic MTIE results (docs/checks.md §F), and the τ grids.
 
 use rand::{Rng, SeedableRng};
 use rand_chacha::ChaCha8Rng;
@@ -289,7 +289,7 @@ fn scaling_scales_every_deviation() {
     }
 }
 
-/// CHECKS.md F (analytic): a phase ramp x = y0·t has MTIE(τ) = y0·τ.
+/// docs/checks.md §F (analytic): a phase ramp x = y0·t has MTIE(τ) = y0·τ.
 #[test]
 fn mtie_of_a_ramp() {
     let y0 = 2.5e-9;
@@ -301,7 +301,7 @@ fn mtie_of_a_ramp() {
     }
 }
 
-/// CHECKS.md F (analytic): a sinusoid A·sin(2πt/P) has MTIE(τ) = 2A once
+/// docs/checks.md §F (analytic): a sinusoid A·sin(2πt/P) has MTIE(τ) = 2A once
 /// τ ≥ P/2; below, the widest window is centred on a zero crossing and, for
 /// an even number of sample steps m, MTIE = 2A·sin(πτ/P) exactly.
 #[test]

@@ -31,7 +31,7 @@ fn quiet(te0: f64, y0: f64, d: f64) -> HoldoverModel {
     }
 }
 
-/// CHECKS.md G (analytic): with no noise TE(t) = te0 + y0·t + ½·D·t², and
+/// docs/checks.md §G (analytic): with no noise TE(t) = te0 + y0·t + ½·D·t², and
 /// D = 1e−10/day over 24 h alone gives 4.32 µs.
 #[test]
 fn no_noise_is_the_closed_form() {

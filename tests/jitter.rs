@@ -1,4 +1,4 @@
-//! Integrated jitter against the analytic cases of CHECKS.md E and closed
+//! Integrated jitter against the analytic cases of docs/checks.md §E and closed
 //! forms of weighted integrals.
 
 use std::f64::consts::PI;
@@ -10,7 +10,7 @@ fn flat(l: f64, carrier: f64) -> Spectrum {
     Spectrum::new(vec![1.0, 1e9], vec![l, l], Quantity::Lf, Some(carrier)).unwrap()
 }
 
-/// CHECKS.md E (analytic): flat −150 dBc/Hz, 12 kHz–20 MHz, 100 MHz carrier:
+/// docs/checks.md §E (analytic): flat −150 dBc/Hz, 12 kHz–20 MHz, 100 MHz carrier:
 /// σ_φ² = 2·10^−15·(20e6 − 12e3) rad², σ_φ = 1.99940e−4 rad,
 /// σ_t = 3.1822e−13 s; to 1e−6 relative against the closed form.
 #[test]
@@ -34,7 +34,7 @@ fn flat_floor_100mhz() {
     assert!(j.extrapolated.is_empty());
 }
 
-/// Analytic (issue 4, CHECKS.md E): flat −155 dBc/Hz over 12 kHz–20 MHz on
+/// Analytic (issue 4, docs/checks.md §E): flat −155 dBc/Hz over 12 kHz–20 MHz on
 /// a 10 MHz carrier is 1.124e−4 rad and 1.789 ps rms. With a 10.3125 Gb/s
 /// line rate the UI figure is σ_t·R.
 #[test]

@@ -14,7 +14,7 @@ use tauwise::deviation::{compute, reference, Estimate, Estimator};
 use tauwise::stats::theo::theo1_edf;
 use tauwise::{FrequencyRecord, PhaseRecord};
 
-/// The TOTDEV EDF tauwise uses (the SP 1065 rule, CHECKS.md D).
+/// The TOTDEV EDF tauwise uses (the SP 1065 rule, docs/checks.md §D).
 fn totdev_edf(alpha: i32, n: usize, m: usize) -> Option<f64> {
     tauwise::stats::edf(tauwise::stats::VarianceKind::Total, alpha, m, n)
 }
@@ -282,7 +282,7 @@ fn theoh_bias_ratio_with_gaps() {
     }
 }
 
-/// NIST SP 1065 nine-point set (CHECKS.md A) through the long-τ
+/// NIST SP 1065 nine-point set (docs/checks.md §A) through the long-τ
 /// estimators: values from direct evaluation of the SP 1065 definitions
 /// (reference forms above; no published value is given here), checked to
 /// 7 significant digits for the fast forms, from frequency and from phase.
@@ -529,7 +529,7 @@ fn theo1_edf_against_monte_carlo() {
     }
 }
 
-/// TOTDEV EDF (CHECKS.md D, SP 1065, from memory): b·T/τ − c for WFM and
+/// TOTDEV EDF (docs/checks.md §D, SP 1065, from memory): b·T/τ − c for WFM and
 /// RWFM, Monte Carlo within 20 %.
 #[test]
 fn totdev_edf_monte_carlo() {
@@ -555,7 +555,7 @@ fn totdev_edf_monte_carlo() {
 }
 
 /// Bias at long τ on random-walk FM (400 records): TOTVAR falls short of
-/// the IEEE Std 1139 AVAR by 1 − 0.75·τ/T (CHECKS.md D); divided by that
+/// the IEEE Std 1139 AVAR by 1 − 0.75·τ/T (docs/checks.md §D); divided by that
 /// factor it is within 10 %. TheoH (bias-removed Theo1) is within 10 % where
 /// plain Theo1 shows its bias.
 #[test]
@@ -567,7 +567,7 @@ fn long_tau_bias_on_random_walk_fm() {
     let (tot, _) = variances(Estimator::Totdev, m, records, 18, random_walk_fm, n);
     let (raw, _) = mean_var(&tot);
     let bias = totvar_bias(-2, n, m).unwrap();
-    // SP 1065: 1 − 0.750·τ/T = 0.8125 (CHECKS.md D, from memory).
+    // SP 1065: 1 − 0.750·τ/T = 0.8125 (docs/checks.md §D, from memory).
     assert!((bias - 0.8125).abs() < 2e-3, "{bias}");
     assert!(
         raw / ieee < 0.9,
@@ -672,7 +672,7 @@ fn edf_on_simulated_flicker_fm() {
 /// Bias at long τ on flicker FM from the power-law simulator (240 records,
 /// N = 1001, τ = T/4 for TOTDEV, 0.6·T for TheoH): IEEE Std 1139 AVAR for
 /// FFM is 2·ln2·h_−1 at every τ. TOTVAR falls short by 1 − 0.481·τ/T
-/// (SP 1065; CHECKS.md D, from memory) and corrected is within 10 %; TheoH
+/// (SP 1065; docs/checks.md §D, from memory) and corrected is within 10 %; TheoH
 /// (bias-removed Theo1) is within 10 % where plain Theo1 shows its bias.
 #[test]
 fn long_tau_bias_on_simulated_flicker_fm() {

@@ -2,7 +2,7 @@
 //! against the numerical integral of S_y(f) with the transfer functions,
 //! NNLS against brute force, and the model fit on simulated records.
 
-use ndarray::{Array1, Array2};
+use nalgebra::{DMatrix, DVector};
 use rand::{Rng, SeedableRng};
 use rand_chacha::ChaCha8Rng;
 use std::f64::consts::{LN_2, PI};
@@ -21,7 +21,7 @@ fn rel(a: f64, b: f64) -> f64 {
     (a - b).abs() / b.abs()
 }
 
-/// IEEE Std 1139-2008 table (CHECKS.md C), each entry written out here:
+/// IEEE Std 1139-2008 table (docs/checks.md §C), each entry written out here:
 /// the model's AVAR, MVAR and TVAR reproduce it exactly.
 #[test]
 fn ieee1139_table_is_reproduced() {
@@ -51,7 +51,7 @@ fn ieee1139_table_is_reproduced() {
             m.set(*a, h);
             assert!(rel(m.avar(tau), *av) < 1e-13, "AVAR α={a}");
             assert!(rel(m.mvar(tau, tau0), *mv) < 1e-13, "MVAR α={a}");
-            // TVAR = (τ²/3) Mod σ_y² (IEEE Std 1139; CHECKS.md C).
+            // TVAR = (τ²/3) Mod σ_y² (IEEE Std 1139; docs/checks.md §C).
             assert!(rel(m.tvar(tau, tau0), tau * tau / 3.0 * mv) < 1e-13);
         }
     }
@@ -111,7 +111,7 @@ fn numerical_integral_matches_closed_form_cases() {
 }
 
 /// IEEE Std 1139 (issue "Model" check): the closed forms equal the
-/// numerical integral of S_y(f) with the transfer functions of DESIGN.md §6
+/// numerical integral of S_y(f) with the transfer functions of docs/design.md §6
 /// within 2 % where 2πf_hτ > 10 — AVAR and HVAR for f_h = 1/(2τ0) and for
 /// f_h = 50/τ0; MVAR (whose table forms are large-n limits for
 /// f_h = 1/(2τ0)) for n ≥ 8.
@@ -143,7 +143,7 @@ fn closed_forms_equal_the_integral() {
 
 /// Unconstrained least squares on a column subset by the normal equations
 /// and Gauss–Jordan elimination (the textbook form, for the brute force).
-fn normal_lstsq(a: &Array2<f64>, cols: &[usize], b: &Array1<f64>) -> Option<Vec<f64>> {
+fn normal_lstsq(a: &DMatrix<f64>, cols: &[usize], b: &DVector<f64>) -> Option<Vec<f64>> {
     let k = cols.len();
     let mut g = vec![vec![0.0; k + 1]; k];
     for i in 0..k {
@@ -179,20 +179,20 @@ fn nnls_equals_brute_force() {
     let mut rng = ChaCha8Rng::seed_from_u64(2024);
     for trial in 0..300 {
         let (m, n) = (8 + trial % 5, 1 + trial % 5);
-        let a = Array2::from_shape_fn((m, n), |_| rng.gen_range(-1.0..1.0));
-        let b = Array1::from_shape_fn(m, |_| rng.gen_range(-1.0..1.0));
+        let a = DMatrix::from_row_iterator(m, n, (0..m * n).map(|_| rng.gen_range(-1.0..1.0)));
+        let b = DVector::from_iterator(m, (0..m).map(|_| rng.gen_range(-1.0..1.0)));
         let x = nnls(&a, &b);
         assert!(x.iter().all(|&v| v >= 0.0));
-        let obj = |x: &Array1<f64>| (&b - &a.dot(x)).mapv(|v| v * v).sum();
-        let mut best = b.mapv(|v| v * v).sum(); // the empty set, x = 0
-        let mut best_x = Array1::<f64>::zeros(n);
+        let obj = |x: &DVector<f64>| (&b - &a * x).norm_squared();
+        let mut best = b.norm_squared(); // the empty set, x = 0
+        let mut best_x = DVector::<f64>::zeros(n);
         for mask in 1u32..(1 << n) {
             let cols: Vec<usize> = (0..n).filter(|j| mask & (1 << j) != 0).collect();
             let Some(s) = normal_lstsq(&a, &cols, &b) else {
                 continue;
             };
             if s.iter().all(|&v| v >= 0.0) {
-                let mut full = Array1::<f64>::zeros(n);
+                let mut full = DVector::<f64>::zeros(n);
                 for (i, &j) in cols.iter().enumerate() {
                     full[j] = s[i];
                 }
@@ -404,18 +404,18 @@ fn fit_with_hadamard_points() {
 fn nnls_with_repeated_columns() {
     let mut rng = ChaCha8Rng::seed_from_u64(77);
     for _ in 0..50 {
-        let mut a = Array2::from_shape_fn((7, 3), |_| rng.gen_range(-1.0..1.0));
-        let c0 = a.column(0).to_owned();
-        a.column_mut(2).assign(&c0);
-        let b = Array1::from_shape_fn(7, |_| rng.gen_range(-1.0..1.0));
+        let mut a = DMatrix::from_row_iterator(7, 3, (0..21).map(|_| rng.gen_range(-1.0..1.0)));
+        let c0 = a.column(0).clone_owned();
+        a.set_column(2, &c0);
+        let b = DVector::from_iterator(7, (0..7).map(|_| rng.gen_range(-1.0..1.0)));
         let x = nnls(&a, &b);
         assert!(x.iter().all(|&v| v >= 0.0));
-        let obj = |x: &Array1<f64>| (&b - &a.dot(x)).mapv(|v| v * v).sum();
-        let mut best = b.mapv(|v| v * v).sum();
+        let obj = |x: &DVector<f64>| (&b - &a * x).norm_squared();
+        let mut best = b.norm_squared();
         for cols in [vec![0], vec![1], vec![0, 1]] {
             if let Some(s) = normal_lstsq(&a, &cols, &b) {
                 if s.iter().all(|&v| v >= 0.0) {
-                    let mut full = Array1::<f64>::zeros(3);
+                    let mut full = DVector::<f64>::zeros(3);
                     for (i, &j) in cols.iter().enumerate() {
                         full[j] = s[i];
                     }

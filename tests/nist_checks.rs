@@ -1,5 +1,5 @@
 //! Published check values: NIST SP 1065 (Riley 2008) validation data
-//! (CHECKS.md A and B). Every value is checked to 7 significant digits, from
+//! (docs/checks.md §A and §B). Every value is checked to 7 significant digits, from
 //! the frequency data as given and from the phase obtained by integrating
 //! them in the test.
 
@@ -7,7 +7,7 @@ use tauwise::deviation::{compute, Estimate, Estimator};
 use tauwise::{FrequencyRecord, PhaseRecord};
 
 /// NBS Monograph 140 nine-point fractional-frequency set, τ0 = 1 s, as
-/// tabulated in NIST SP 1065 (CHECKS.md A; values from memory, confirmed by
+/// tabulated in NIST SP 1065 (docs/checks.md §A; values from memory, confirmed by
 /// an independent computation from the handbook's definitions).
 const NINE: [f64; 9] = [
     892.0, 809.0, 823.0, 798.0, 671.0, 644.0, 883.0, 903.0, 677.0,
@@ -48,7 +48,7 @@ fn at(est: Estimator, x: &PhaseRecord, m: usize) -> Estimate {
     r[0]
 }
 
-/// NIST SP 1065 nine-point set (CHECKS.md A), from memory.
+/// NIST SP 1065 nine-point set (docs/checks.md §A), from memory.
 #[test]
 fn sp1065_nine_point_set() {
     let table: &[(Estimator, usize, f64)] = &[
@@ -70,7 +70,7 @@ fn sp1065_nine_point_set() {
             assert_sig7(&format!("{est} m={m}"), e.value, reference);
         }
     }
-    // Arithmetic mean 788.8889 (CHECKS.md A): checks the data as typed.
+    // Arithmetic mean 788.8889 (docs/checks.md §A): checks the data as typed.
     assert_sig7("mean", NINE.iter().sum::<f64>() / 9.0, 788.8889);
 }
 
@@ -88,7 +88,7 @@ fn sp1065_nine_point_term_counts() {
     assert_eq!(at(Estimator::Totdev, x, 3).terms, 8);
 }
 
-/// The NIST SP 1065 1000-point test set (CHECKS.md B): the prime-modulus
+/// The NIST SP 1065 1000-point test set (docs/checks.md §B): the prime-modulus
 /// generator n_{k+1} = 16807·n_k mod 2147483647, n_0 = 1234567890,
 /// y_k = n_k / 2147483647 for k = 0 … 999.
 fn sp1065_1000_point() -> Vec<f64> {
@@ -101,7 +101,7 @@ fn sp1065_1000_point() -> Vec<f64> {
     y
 }
 
-/// NIST SP 1065 1000-point set (CHECKS.md B), from memory: mean 0.4897745,
+/// NIST SP 1065 1000-point set (docs/checks.md §B), from memory: mean 0.4897745,
 /// standard deviation 0.2884664, ADEV (m = 1) 0.2922319.
 #[test]
 fn sp1065_thousand_point_set() {
@@ -127,7 +127,7 @@ fn sp1065_thousand_point_set() {
 }
 
 /// NIST SP 1065 1000-point set at τ = 1, 10, 100 s: the handbook's table of
-/// results for this set, from memory (not in CHECKS.md; recalled, then
+/// results for this set, from memory (not in docs/checks.md; recalled, then
 /// confirmed to agree to all seven digits with this implementation — the
 /// agreement of 21 recalled numbers with an independent computation is the
 /// confirmation).

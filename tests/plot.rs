@@ -166,7 +166,7 @@ fn wander_chart() -> Chart {
 
 fn holdover_chart() -> Chart {
     let t: Vec<f64> = (0..=96).map(|k| k as f64 * 900.0).collect();
-    // CHECKS.md G (analytic): ½·D·t² with D = 1e-10/day; random part ~ sqrt(h0 t / 2).
+    // docs/checks.md §G (analytic): ½·D·t² with D = 1e-10/day; random part ~ sqrt(h0 t / 2).
     let d = 1e-10 / 86400.0;
     let det: Vec<f64> = t.iter().map(|&s| 0.5 * d * s * s).collect();
     // Random part widened for a readable picture: 0.4 µs·sqrt(t / 1 day).

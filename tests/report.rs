@@ -2,7 +2,7 @@
 //! nothing (no http:// or https://, no <script>), escapes every text from an
 //! input, and — built from a DUT file — reports the inputs it read.
 //! Values in the synthetic report come from the IEEE Std 1139 closed forms
-//! (analytic) and CHECKS.md E/G; they only need to be plausible here.
+//! (analytic) and docs/checks.md §E, §G; they only need to be plausible here.
 
 use scraper::{Html, Selector};
 use std::fs;
@@ -117,7 +117,7 @@ fn full_report(name: &str) -> Report {
         }],
         notes: vec![],
     }]);
-    // CHECKS.md E / issue 4 (analytic): flat −155 dBc/Hz over 12 kHz–20 MHz on 10 MHz is 1.124e−4 rad, 1.789 ps.
+    // docs/checks.md §E / issue 4 (analytic): flat −155 dBc/Hz over 12 kHz–20 MHz on 10 MHz is 1.124e−4 rad, 1.789 ps.
     r.phase_noise = Part::Done(PhaseNoiseSection {
         source: "table".into(),
         carrier: 10e6,
@@ -206,7 +206,7 @@ fn full_report(name: &str) -> Report {
         }],
         notes: vec![],
     });
-    // CHECKS.md G (analytic): D = 1e-10/day over 24 h gives 4.32 µs.
+    // docs/checks.md §G (analytic): D = 1e-10/day over 24 h gives 4.32 µs.
     let t: Vec<f64> = (0..=24).map(|h| h as f64 * 3600.0).collect();
     let det: Vec<f64> = t.iter().map(|&s| 0.5 * 1e-10 / 86400.0 * s * s).collect();
     r.holdover = Part::Done(HoldoverSection {
@@ -610,7 +610,7 @@ fn a_real_browser_renders_every_section() {
 /// The report's verdicts equal those of the individual commands on the same
 /// inputs (`tauwise wander`, `tauwise holdover`, `tauwise jitter`, JSON).
 /// The record has a constant frequency offset of 2e-10, so its MTIE is the
-/// ramp 2e-10·τ (analytic, CHECKS.md F): above G.8262 option 1 near 800 s,
+/// ramp 2e-10·τ (analytic, docs/checks.md §F): above G.8262 option 1 near 800 s,
 /// below G.811 there (mask values from memory).
 #[test]
 fn report_verdicts_equal_the_commands() {

@@ -26,7 +26,7 @@ fn oavar(x: &[f64], m: usize, tau0: f64) -> f64 {
     s / (2.0 * (n - 2 * m) as f64 * tau * tau)
 }
 
-/// IEEE Std 1139-2008 AVAR table (CHECKS.md C), written out here rather
+/// IEEE Std 1139-2008 AVAR table (docs/checks.md §C), written out here rather
 /// than taken from the library.
 fn table_avar(alpha: i32, h: f64, tau: f64, fh: f64) -> f64 {
     let w = (2.0 * PI).powi(2);
@@ -46,7 +46,7 @@ fn single(alpha: i32, h: f64) -> PowerLaw {
     m
 }
 
-/// IEEE Std 1139 (CHECKS.md C): for each noise type, the OADEV of a seeded
+/// IEEE Std 1139 (docs/checks.md §C): for each noise type, the OADEV of a seeded
 /// 2^16-point record is within 10 % of the closed form at τ = 8, 32, 128 s
 /// (τ0 = 1 s, f_h = 1/(2τ0)). At these τ the model's exact variance is
 /// within 0.1 % of the table (see tests/model.rs), and the estimator's
@@ -121,7 +121,7 @@ fn plain_kw_ffm_calibration_in_expectation() {
     );
 }
 
-/// IEEE Std 1139 (CHECKS.md C) and analytic: the shaped FFM process has the
+/// IEEE Std 1139 (docs/checks.md §C) and analytic: the shaped FFM process has the
 /// one-sided frequency PSD (πh/sin πf)·R(f) (τ0 = 1); its AVAR, the integral
 /// of that PSD against the discrete Allan transfer 2 sin⁴(πmf)/(m² sin²(πf))
 /// over 0 < f < ½, is 2 ln2·h at every m.
@@ -206,7 +206,7 @@ fn rwfm_is_exact_at_every_tau() {
         let avar = (s2 * 2.0 / 3.0 + 2.0 * s11 / 6.0) / (2.0 * (m * m) as f64);
         assert!((avar / (m as f64 / 3.0) - 1.0).abs() < 1e-12, "m={m}");
     }
-    // And a seeded record at the shortest τ (IEEE Std 1139, CHECKS.md C).
+    // And a seeded record at the shortest τ (IEEE Std 1139, docs/checks.md §C).
     let rec = simulate_phase(&SimSpec::new(single(-2, 1e-28), 1.0, 1 << 16, 21)).unwrap();
     for m in [1usize, 2] {
         let r = (oavar(&rec.x, m, 1.0) / table_avar(-2, 1e-28, m as f64, 0.5)).sqrt();
@@ -248,7 +248,7 @@ fn terms_are_independent_streams_and_add() {
 }
 
 /// A mix of WPM and WFM: the OADEV follows the sum of the two IEEE Std 1139
-/// forms (CHECKS.md C) within 10 % across the crossover (here near τ = 6 s).
+/// forms (docs/checks.md §C) within 10 % across the crossover (here near τ = 6 s).
 #[test]
 fn mixing_two_terms() {
     let model = PowerLaw::parse("h2=2e-21,h0=1e-22", 0.5).unwrap();

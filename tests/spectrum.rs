@@ -20,7 +20,7 @@ fn single(alpha: i32, h: f64, fh: f64) -> PowerLaw {
     m
 }
 
-/// IEEE Std 1139-2008 table (CHECKS.md C): an L(f) table built from each
+/// IEEE Std 1139-2008 table (docs/checks.md §C): an L(f) table built from each
 /// single-term model converts back to AVAR, MVAR and TVAR within 3 % of the
 /// closed forms at τ with 2πf_hτ > 10. The MVAR forms are large-n limits;
 /// n = τ/τ0 ≥ 32 here (τ0 = 1/(2f_h)).

@@ -13,7 +13,7 @@ fn rel(a: f64, b: f64) -> f64 {
     (a - b).abs() / b.abs()
 }
 
-/// TOTVAR bias, NIST SP 1065 (CHECKS.md D, from memory): E[TOTVAR]/AVAR =
+/// TOTVAR bias, NIST SP 1065 (docs/checks.md §D, from memory): E[TOTVAR]/AVAR =
 /// 1 − a·τ/T with a = 0.481 (FFM), 0.750 (RWFM), 0 (WFM). tauwise's exact
 /// factor gives a within 0.005 of those at τ ≥ T/4, and the factor itself
 /// within 0.0015 of SP 1065's at every τ.
@@ -62,7 +62,7 @@ fn totvar_bias_white_pm_closed_form() {
     }
 }
 
-/// TOTDEV EDF: SP 1065's b·(T/τ) − c (CHECKS.md D, from memory: WFM 1.50, 0;
+/// TOTDEV EDF: SP 1065's b·(T/τ) − c (docs/checks.md §D, from memory: WFM 1.50, 0;
 /// FFM 1.17, 0.22; RWFM 0.93, 0.36) against the exact EDF of TOTVAR's
 /// quadratic form (the definition, reflected ends included), m = 16,
 /// T/τ = 2 … 64: within 5 %. A check of both the published rule and the
@@ -232,7 +232,7 @@ fn simulated_means(model: &str, cases: &[(Estimator, usize)], records: u64, n: u
 
 /// Bias at long τ on seeded FFM and RWFM records (1000 each, N = 1001,
 /// τ = T/4 for MTOT and HTOT): the raw MTOT falls short of the IEEE Std 1139
-/// MVAR (CHECKS.md C: FFM 0.936·h_−1, RWFM 5.42·h_−2·τ) and HTOT of the
+/// MVAR (docs/checks.md §C: FFM 0.936·h_−1, RWFM 5.42·h_−2·τ) and HTOT of the
 /// Hadamard variance (from the IEEE Std 1139 transfer function, closed
 /// forms in `PowerLaw::hvar`: FFM (8 ln2 − 3 ln3)/2·h_−1, RWFM π²τh_−2/3) by
 /// clearly more than 10 %; divided by tauwise's factor, both are within 10 %.

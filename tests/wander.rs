@@ -80,7 +80,7 @@ fn tdev_fast_equals_double_sum() {
     }
 }
 
-/// NIST SP 1065 nine-point set (CHECKS.md A, from memory): TDEV(τ0) = 52.67135.
+/// NIST SP 1065 nine-point set (docs/checks.md §A, from memory): TDEV(τ0) = 52.67135.
 #[test]
 fn tdev_nine_point_set() {
     let y = [
@@ -95,7 +95,7 @@ fn tdev_nine_point_set() {
     assert!((e[0].value - 52.67135).abs() < 5e-5, "{}", e[0].value);
 }
 
-/// CHECKS.md F (analytic): a phase ramp x = y0·t has MTIE(τ) = y0·τ; a
+/// docs/checks.md §F (analytic): a phase ramp x = y0·t has MTIE(τ) = y0·τ; a
 /// sinusoid A·sin(2πt/P) has MTIE(τ) = 2A for τ ≥ P/2.
 #[test]
 fn mtie_ramp_and_sinusoid() {
@@ -134,7 +134,7 @@ fn mask(name: &str, metric: Metric) -> Mask {
 }
 
 /// Every built-in mask at and between its breakpoints equals the formulas of
-/// CHECKS.md F (ITU-T G.811, G.8272, G.8262 — values from memory).
+/// docs/checks.md §F (ITU-T G.811, G.8272, G.8262 — values from memory).
 #[test]
 fn builtin_masks_equal_the_recalled_tables() {
     type F = fn(f64) -> Option<f64>;

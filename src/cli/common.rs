@@ -1,6 +1,6 @@
 //! Options shared by several subcommands (how to read the input, where and
 //! how to write the output) and the JSON pieces every command's output
-//! carries (DESIGN.md §5).
+//! carries (docs/design.md §5).
 
 use clap::{Args, ValueEnum};
 use std::io::Write;
@@ -342,7 +342,7 @@ pub fn emit_to(path: Option<&Path>, bytes: &[u8]) -> Result<()> {
 }
 
 /// The `"input"` object of every command's JSON:
-/// `{"path","data","tau0","points","gaps","preamble_lines"}` (DESIGN.md §5).
+/// `{"path","data","tau0","points","gaps","preamble_lines"}` (docs/design.md §5).
 /// `points` counts every sample of the record, gaps included; `gaps` the
 /// missing ones; `preamble_lines` the lines before the first reading.
 pub fn input_json(series: &Series) -> serde_json::Value {

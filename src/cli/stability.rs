@@ -1,5 +1,5 @@
 //! `tauwise stability FILE`: σ(τ) curves with confidence intervals and the
-//! noise type at each τ, as a table, CSV or JSON (DESIGN.md §5).
+//! noise type at each τ, as a table, CSV or JSON (docs/design.md §5).
 
 use super::common::{emit, header_json, json_text, num, plain, Format, InputArgs, OutputArgs};
 use super::Outcome;
@@ -319,7 +319,7 @@ fn opt(v: Option<f64>) -> serde_json::Value {
     v.map(num).unwrap_or(serde_json::Value::Null)
 }
 
-/// The `"curves"` array of DESIGN.md §5.
+/// The `"curves"` array of docs/design.md §5.
 pub fn curves_json(curves: &[Curve]) -> serde_json::Value {
     let list: Vec<serde_json::Value> = curves
         .iter()
@@ -349,7 +349,7 @@ pub fn curves_json(curves: &[Curve]) -> serde_json::Value {
 }
 
 /// One CSV row per point: `estimator,tau,m,dev,terms,edf,lo,hi,alpha,noise,bias`
-/// (DESIGN.md §5, with `bias` — the factor divided out of a corrected
+/// (docs/design.md §5, with `bias` — the factor divided out of a corrected
 /// total-family value, else empty — added last).
 pub fn curves_csv(curves: &[Curve]) -> String {
     let mut w = csv::Writer::from_writer(Vec::new());

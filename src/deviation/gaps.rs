@@ -1,6 +1,6 @@
 //! Gap bookkeeping shared by every estimator.
 //!
-//! Gaps are NaN phase samples. The rule (DESIGN.md §7): a term is used only
+//! Gaps are NaN phase samples. The rule (docs/design.md §7): a term is used only
 //! when its *span* — the indices from the first to the last phase sample it
 //! reads — holds no gap. A prefix count of gaps answers "is the span a..=b
 //! clear?" in O(1): c\[b+1\] − c\[a\] = 0.

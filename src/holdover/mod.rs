@@ -8,7 +8,7 @@
 //!   frequency over the last *settle* window, carried to the window's end by
 //!   the aging law, with its uncertainty;
 //! - TE_a — the aging law's time error ([`aging`]): ½·D·t² for a linear law
-//!   (CHECKS.md G: D = 1e−10/day over 24 h gives 4.32 µs);
+//!   (docs/checks.md §G: D = 1e−10/day over 24 h gives 4.32 µs);
 //! - TE_temp — a worst-case temperature term |c_T·ΔT|·t, always taken with the
 //!   sign that makes |TE| larger;
 //! - x_noise — the power-law noise model's random phase ([`paths`]).

@@ -186,7 +186,7 @@ impl PowerLaw {
         10.0 * (self.sphi(f, nu0) / 2.0).log10()
     }
 
-    /// Allan variance σ_y²(τ), IEEE Std 1139 table (CHECKS.md C):
+    /// Allan variance σ_y²(τ), IEEE Std 1139 table (docs/checks.md §C):
     /// WPM 3f_h h_2/((2π)²τ²); FPM [1.038 + 3 ln(2πf_hτ)] h_1/((2π)²τ²);
     /// WFM h_0/(2τ); FFM 2 ln2 h_−1; RWFM (2π)² τ h_−2/6. Valid for 2πf_hτ ≫ 1.
     pub fn avar(&self, tau: f64) -> f64 {
@@ -199,7 +199,7 @@ impl PowerLaw {
     }
 
     /// Modified Allan variance Mod σ_y²(τ) at τ = nτ0, IEEE Std 1139 table
-    /// (large-n forms, CHECKS.md C): WPM 3f_hτ0 h_2/((2π)²τ³); FPM
+    /// (large-n forms, docs/checks.md §C): WPM 3f_hτ0 h_2/((2π)²τ³); FPM
     /// 3.37 h_1/((2π)²τ²); WFM h_0/(4τ); FFM 0.936 h_−1; RWFM 5.42 h_−2 τ.
     pub fn mvar(&self, tau: f64, tau0: f64) -> f64 {
         let w = (2.0 * PI).powi(2);
@@ -211,7 +211,7 @@ impl PowerLaw {
     }
 
     /// Hadamard variance σ_H²(τ) from the transfer function
-    /// |H(f)|² = (8/3) sin⁶(πfτ)/(πfτ)² (DESIGN.md §6; NIST SP 1065 §5.2.8):
+    /// |H(f)|² = (8/3) sin⁶(πfτ)/(πfτ)² (docs/design.md §6; NIST SP 1065 §5.2.8):
     ///
     /// | α  | σ_H²(τ)                                                      |
     /// |----|--------------------------------------------------------------|
@@ -304,7 +304,7 @@ mod tests {
         assert!(parse_noise("pink").is_err());
     }
 
-    /// IEEE Std 1139 table (CHECKS.md C): WFM AVAR = h0/(2τ), FFM = 2 ln2 h−1.
+    /// IEEE Std 1139 table (docs/checks.md §C): WFM AVAR = h0/(2τ), FFM = 2 ln2 h−1.
     #[test]
     fn ieee1139_closed_forms() {
         let mut m = PowerLaw::zero(0.5);

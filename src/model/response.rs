@@ -4,7 +4,7 @@
 //! only the large-τ forms.
 //!
 //! σ²(τ) = ∫_0^F h_α f^α |H(f)|² df  (IEEE Std 1139-2008; NIST SP 1065 §5),
-//! with, for τ = nτ0 (DESIGN.md §6):
+//! with, for τ = nτ0 (docs/design.md §6):
 //! - AVAR: |H|² = 2 sin⁴(πfτ)/(πfτ)²;
 //! - MVAR: |H|² = 2 sin⁶(πfτ)/((πfτ)² n² sin²(πfτ0));
 //! - HVAR: |H|² = (8/3) sin⁶(πfτ)/(πfτ)².

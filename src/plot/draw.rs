@@ -27,14 +27,78 @@ enum Swatch {
     Rule(RGBColor, Line),
 }
 
+/// Font sizes and the outer padding, in pixels, for a canvas scale `s`.
+struct Fonts {
+    title: f64,
+    sub: f64,
+    tick: f64,
+    axis: f64,
+    legend: f64,
+    strip: f64,
+    note: f64,
+    pad: f64,
+}
+
+impl Fonts {
+    /// The sizes on the 960×600 reference canvas, times `s`.
+    fn scaled(s: f64) -> Self {
+        Self {
+            title: 19.0 * s,
+            sub: 13.0 * s,
+            tick: 12.0 * s,
+            axis: 13.0 * s,
+            legend: 12.0 * s,
+            strip: 11.0 * s,
+            note: 10.5 * s,
+            pad: 12.0 * s,
+        }
+    }
+}
+
+/// One span's mark in the strip above the plot.
+struct StripMark {
+    /// The span in axis space, clamped to the visible range (lo ≤ hi).
+    axis: (f64, f64),
+    /// Where its label is anchored: x in pixels and the horizontal anchor.
+    label_at: (f64, HPos),
+    /// The strip row it sits in.
+    row: usize,
+}
+
+/// Where everything goes: computed from the chart and the canvas size (text
+/// is measured, nothing is painted) by [`layout`], then painted by the
+/// `paint_*` functions.
 struct Layout {
     /// Scale factor against the 960×600 reference canvas.
     s: f64,
+    /// Canvas height in pixels.
+    h: f64,
+    fonts: Fonts,
+    xa: ResolvedAxis,
+    ya: ResolvedAxis,
+    /// Legend entries, in order, and the width of the legend column.
+    legend: Vec<(String, Swatch)>,
+    legend_w: f64,
+    swatch_w: f64,
+    title_lines: Vec<String>,
+    sub_lines: Vec<String>,
+    note_lines: Vec<String>,
+    strip: Vec<StripMark>,
     plot: Rect,
     strip_top: f64,
     strip_row: f64,
     legend_x: f64,
     notes_top: f64,
+}
+
+impl Layout {
+    fn mapper(&self) -> Mapper<'_> {
+        Mapper {
+            x: &self.xa,
+            y: &self.ya,
+            r: self.plot,
+        }
+    }
 }
 
 fn font(size: f64) -> TextStyle<'static> {
@@ -309,23 +373,44 @@ fn draw_text<DB: DrawingBackend>(
     Ok(())
 }
 
-/// Draw `chart` on `backend`.
+/// Draw `chart` on `backend`: lay it out, then paint it layer by layer
+/// (titles, plot background, strip and spans, bands, grid and ticks, axis
+/// labels, rules, series, frame, legend, notes — later layers on top).
 pub(crate) fn draw<DB: DrawingBackend>(chart: &Chart, backend: DB) -> Result<()> {
     let root = backend.into_drawing_area();
     let (w, h) = root.dim_in_pixel();
     let (w, h) = (w as f64, h as f64);
     root.fill(&style::BACKGROUND).map_err(fail)?;
-    let s = (w / 960.0).min(h / 600.0).clamp(0.45, 4.0);
-    let f_title = 19.0 * s;
-    let f_sub = 13.0 * s;
-    let f_tick = 12.0 * s;
-    let f_axis = 13.0 * s;
-    let f_legend = 12.0 * s;
-    let f_strip = 11.0 * s;
-    let f_note = 10.5 * s;
-    let pad = 12.0 * s;
+    let lay = layout(chart, &root, w, h)?;
+    paint_titles(&root, &lay)?;
+    let r = lay.plot;
+    root.draw(&Rectangle::new(
+        [px((r.x0, r.y0)), px((r.x1, r.y1))],
+        style::PLOT_BACKGROUND.filled(),
+    ))
+    .map_err(fail)?;
+    paint_strip(chart, &root, &lay)?;
+    paint_bands(chart, &root, &lay)?;
+    paint_grid(&root, &lay)?;
+    paint_tick_labels(&root, &lay)?;
+    paint_axis_titles(chart, &root, &lay)?;
+    paint_rules(chart, &root, &lay)?;
+    paint_series(chart, &root, &lay)?;
+    root.draw(&Rectangle::new(
+        [px((r.x0, r.y0)), px((r.x1, r.y1))],
+        stroke(style::INK_SOFT, 1.0),
+    ))
+    .map_err(fail)?;
+    paint_legend(&root, &lay)?;
+    paint_notes(&root, &lay)?;
+    root.present().map_err(fail)?;
+    Ok(())
+}
 
-    // Values for automatic ranges.
+/// The visible ranges of both axes: from the chart's fixed ranges, else
+/// from every finite value it shows (points with their intervals, bands,
+/// rules that extend the range; the spans when nothing else lands on x).
+fn resolve_axes(chart: &Chart) -> (ResolvedAxis, ResolvedAxis) {
     let mut xs = Vec::new();
     let mut ys = Vec::new();
     for se in &chart.series {
@@ -358,8 +443,12 @@ pub(crate) fn draw<DB: DrawingBackend>(chart: &Chart, backend: DB) -> Result<()>
     }
     let xa = scale::resolve(chart.x.scale, &chart.x.unit, chart.x.range, &xs);
     let ya = scale::resolve(chart.y.scale, &chart.y.unit, chart.y.range, &ys);
+    (xa, ya)
+}
 
-    // Legend entries.
+/// The legend entries, in the order they are listed: shaded spans, bands,
+/// named series, labelled rules.
+fn legend_entries(chart: &Chart) -> Vec<(String, Swatch)> {
     let mut legend: Vec<(String, Swatch)> = Vec::new();
     for sp in &chart.spans {
         if let (true, Some(l)) = (sp.shade, &sp.legend) {
@@ -379,6 +468,19 @@ pub(crate) fn draw<DB: DrawingBackend>(chart: &Chart, backend: DB) -> Result<()>
             legend.push((r.label.clone(), Swatch::Rule(r.colour.rgb(), r.line)));
         }
     }
+    legend
+}
+
+/// Lay out `chart` on a `w`×`h` canvas: fonts, axes, legend column, wrapped
+/// titles and notes, the strip of span marks, and the plotting rectangle.
+/// Measures text on `root` but paints nothing. Fails when the plot would be
+/// too small for the canvas.
+fn layout<DB: DrawingBackend>(chart: &Chart, root: &Area<DB>, w: f64, h: f64) -> Result<Layout> {
+    let s = (w / 960.0).min(h / 600.0).clamp(0.45, 4.0);
+    let f = Fonts::scaled(s);
+    let pad = f.pad;
+    let (xa, ya) = resolve_axes(chart);
+    let legend = legend_entries(chart);
 
     // Horizontal layout.
     let swatch_w = 30.0 * s;
@@ -387,26 +489,26 @@ pub(crate) fn draw<DB: DrawingBackend>(chart: &Chart, backend: DB) -> Result<()>
     } else {
         let mut m: f64 = 0.0;
         for (t, _) in &legend {
-            m = m.max(measure(&root, t, f_legend)?.0);
+            m = m.max(measure(root, t, f.legend)?.0);
         }
         (m + swatch_w + 2.5 * pad).min(0.34 * w)
     };
     let mut ytick_w: f64 = 0.0;
     for t in &ya.ticks {
-        ytick_w = ytick_w.max(measure(&root, &t.label, f_tick)?.0);
+        ytick_w = ytick_w.max(measure(root, &t.label, f.tick)?.0);
     }
-    let x0 = pad + f_axis * 1.4 + ytick_w + 8.0 * s;
+    let x0 = pad + f.axis * 1.4 + ytick_w + 8.0 * s;
     let x1 = w - pad - legend_w - if legend.is_empty() { 8.0 * s } else { 0.0 };
 
     // Vertical layout.
-    let title_lines = wrap(&root, &chart.title, f_title, w - 2.0 * pad)?;
-    let sub_lines = wrap(&root, &chart.subtitle, f_sub, w - 2.0 * pad)?;
+    let title_lines = wrap(root, &chart.title, f.title, w - 2.0 * pad)?;
+    let sub_lines = wrap(root, &chart.subtitle, f.sub, w - 2.0 * pad)?;
     let mut note_lines = Vec::new();
     for n in &chart.notes {
-        note_lines.extend(wrap(&root, n, f_note, w - 2.0 * pad)?);
+        note_lines.extend(wrap(root, n, f.note, w - 2.0 * pad)?);
     }
     let top_text =
-        pad + title_lines.len() as f64 * f_title * 1.25 + sub_lines.len() as f64 * f_sub * 1.35;
+        pad + title_lines.len() as f64 * f.title * 1.25 + sub_lines.len() as f64 * f.sub * 1.35;
     // Strip rows.
     let span_px: Vec<(f64, f64)> = chart
         .spans
@@ -430,7 +532,7 @@ pub(crate) fn draw<DB: DrawingBackend>(chart: &Chart, backend: DB) -> Result<()>
         let lw = if sp.label.is_empty() {
             0.0
         } else {
-            measure(&root, &sp.label, f_strip)?.0
+            measure(root, &sp.label, f.strip)?.0
         };
         let gap = 4.0 * s;
         if lw + 2.0 * gap <= pb - pa {
@@ -450,73 +552,90 @@ pub(crate) fn draw<DB: DrawingBackend>(chart: &Chart, backend: DB) -> Result<()>
     } else {
         rows.iter().max().map_or(0, |m| m + 1)
     };
-    let strip_row = f_strip * 1.7;
+    let strip_row = f.strip * 1.7;
     let strip_top = top_text + 6.0 * s;
     let y0 = strip_top + n_rows as f64 * strip_row + 6.0 * s;
-    let notes_h = note_lines.len() as f64 * f_note * 1.35;
-    let y1 = h - pad - notes_h - f_axis * 1.6 - f_tick * 1.6;
+    let notes_h = note_lines.len() as f64 * f.note * 1.35;
+    let y1 = h - pad - notes_h - f.axis * 1.6 - f.tick * 1.6;
     if x1 - x0 < 60.0 || y1 - y0 < 40.0 {
         return Err(Error::invalid(format!(
             "the chart does not fit a {w}×{h} canvas with its legend and notes: use a larger size"
         )));
     }
-    let lay = Layout {
+    let strip = span_px
+        .into_iter()
+        .zip(label_at)
+        .zip(rows)
+        .map(|((axis, label_at), row)| StripMark {
+            axis,
+            label_at,
+            row,
+        })
+        .collect();
+    Ok(Layout {
         s,
+        h,
+        fonts: f,
+        xa,
+        ya,
+        legend,
+        legend_w,
+        swatch_w,
+        title_lines,
+        sub_lines,
+        note_lines,
+        strip,
         plot: Rect { x0, y0, x1, y1 },
         strip_top,
         strip_row,
         legend_x: x1 + 1.5 * pad,
         notes_top: h - pad - notes_h,
-    };
-    let m = Mapper {
-        x: &xa,
-        y: &ya,
-        r: lay.plot,
-    };
-    let r = lay.plot;
+    })
+}
 
-    // Title and subtitle.
-    let mut ty = pad;
-    for l in &title_lines {
+/// Title and subtitle lines, from the top left.
+fn paint_titles<DB: DrawingBackend>(root: &Area<DB>, lay: &Layout) -> Result<()> {
+    let f = &lay.fonts;
+    let mut ty = f.pad;
+    for l in &lay.title_lines {
         draw_text(
-            &root,
+            root,
             l,
-            (pad, ty),
-            f_title,
+            (f.pad, ty),
+            f.title,
             style::INK,
             Pos::new(HPos::Left, VPos::Top),
         )?;
-        ty += f_title * 1.25;
+        ty += f.title * 1.25;
     }
-    for l in &sub_lines {
+    for l in &lay.sub_lines {
         draw_text(
-            &root,
+            root,
             l,
-            (pad, ty),
-            f_sub,
+            (f.pad, ty),
+            f.sub,
             style::INK_SOFT,
             Pos::new(HPos::Left, VPos::Top),
         )?;
-        ty += f_sub * 1.35;
+        ty += f.sub * 1.35;
     }
+    Ok(())
+}
 
-    // Plot background.
-    root.draw(&Rectangle::new(
-        [px((r.x0, r.y0)), px((r.x1, r.y1))],
-        style::PLOT_BACKGROUND.filled(),
-    ))
-    .map_err(fail)?;
-
-    // Strip and shaded spans.
-    for (i, sp) in chart.spans.iter().enumerate() {
-        let (a, b) = span_px[i];
-        let pa = m.map_axis(a, ya.lo).0;
-        let pb = m.map_axis(b, ya.lo).0;
+/// The strip marks of the spans with their labels, and each span in the
+/// plot: shaded, or its edges dotted.
+fn paint_strip<DB: DrawingBackend>(chart: &Chart, root: &Area<DB>, lay: &Layout) -> Result<()> {
+    let (s, r, m) = (lay.s, lay.plot, lay.mapper());
+    let f_strip = lay.fonts.strip;
+    for (sp, mark) in chart.spans.iter().zip(&lay.strip) {
+        let (a, b) = mark.axis;
+        let pa = m.map_axis(a, lay.ya.lo).0;
+        let pb = m.map_axis(b, lay.ya.lo).0;
         if pb - pa < 0.5 {
             continue;
         }
         let c = sp.colour.rgb();
-        let top = lay.strip_top + rows[i] as f64 * lay.strip_row;
+        let top = lay.strip_top + mark.row as f64 * lay.strip_row;
         let bot = top + lay.strip_row - 2.0 * s;
         root.draw(&Rectangle::new(
             [px((pa, top)), px((pb, bot))],
@@ -538,11 +657,11 @@ pub(crate) fn draw<DB: DrawingBackend>(chart: &Chart, backend: DB) -> Result<()>
         // The label sits inside its mark, or beside it when wider (its row
         // leaves room: see the strip layout); only a label wider than the
         // whole plot is shortened.
-        let label = fit(&root, &sp.label, f_strip, r.x1 - r.x0 - 4.0 * s)?;
+        let label = fit(root, &sp.label, f_strip, r.x1 - r.x0 - 4.0 * s)?;
         if label != "…" {
-            let (lx, anchor) = label_at[i];
+            let (lx, anchor) = mark.label_at;
             draw_text(
-                &root,
+                root,
                 &label,
                 (lx, (top + bot) / 2.0),
                 f_strip,
@@ -559,20 +678,17 @@ pub(crate) fn draw<DB: DrawingBackend>(chart: &Chart, backend: DB) -> Result<()>
         } else {
             for xe in [pa, pb] {
                 if xe > r.x0 + 0.5 && xe < r.x1 - 0.5 {
-                    draw_polyline(
-                        &root,
-                        &[(xe, r.y0), (xe, r.y1)],
-                        c,
-                        1.0 * s,
-                        Line::Dotted,
-                        s,
-                    )?;
+                    draw_polyline(root, &[(xe, r.y0), (xe, r.y1)], c, 1.0 * s, Line::Dotted, s)?;
                 }
             }
         }
     }
+    Ok(())
+}
 
-    // Bands.
+/// Filled bands between their lower and upper curves, clipped to the plot.
+fn paint_bands<DB: DrawingBackend>(chart: &Chart, root: &Area<DB>, lay: &Layout) -> Result<()> {
+    let (r, m) = (lay.plot, lay.mapper());
     for b in &chart.bands {
         let n = b.x.len().min(b.lo.len()).min(b.hi.len());
         let mut poly = Vec::with_capacity(2 * n);
@@ -594,9 +710,18 @@ pub(crate) fn draw<DB: DrawingBackend>(chart: &Chart, backend: DB) -> Result<()>
                 .map_err(fail)?;
         }
     }
+    Ok(())
+}
 
-    // Grid and ticks.
-    let tick_len = 4.0 * s;
+/// The length of a major tick mark in pixels.
+fn tick_len(lay: &Layout) -> f64 {
+    4.0 * lay.s
+}
+
+/// Gridlines and tick marks of both axes.
+fn paint_grid<DB: DrawingBackend>(root: &Area<DB>, lay: &Layout) -> Result<()> {
+    let (r, m, tick_len) = (lay.plot, lay.mapper(), tick_len(lay));
+    let (xa, ya) = (&lay.xa, &lay.ya);
     for t in &xa.ticks {
         let (xp, _) = m.map_axis(t.pos, ya.lo);
         let c = if t.major {
@@ -639,11 +764,17 @@ pub(crate) fn draw<DB: DrawingBackend>(chart: &Chart, backend: DB) -> Result<()>
         ))
         .map_err(fail)?;
     }
-    // X tick labels, thinned when they would collide.
+    Ok(())
+}
+
+/// Tick labels; those of x are thinned when they would collide.
+fn paint_tick_labels<DB: DrawingBackend>(root: &Area<DB>, lay: &Layout) -> Result<()> {
+    let (s, r, m, tick_len) = (lay.s, lay.plot, lay.mapper(), tick_len(lay));
+    let (xa, ya, f_tick) = (&lay.xa, &lay.ya, lay.fonts.tick);
     let labelled: Vec<_> = xa.ticks.iter().filter(|t| !t.label.is_empty()).collect();
     let mut widest: f64 = 0.0;
     for t in &labelled {
-        widest = widest.max(measure(&root, &t.label, f_tick)?.0);
+        widest = widest.max(measure(root, &t.label, f_tick)?.0);
     }
     let spacing = if labelled.len() > 1 {
         let a = m.map_axis(labelled[0].pos, ya.lo).0;
@@ -659,7 +790,7 @@ pub(crate) fn draw<DB: DrawingBackend>(chart: &Chart, backend: DB) -> Result<()>
         }
         let (xp, _) = m.map_axis(t.pos, ya.lo);
         draw_text(
-            &root,
+            root,
             &t.label,
             (xp, r.y1 + tick_len + 3.0 * s),
             f_tick,
@@ -673,7 +804,7 @@ pub(crate) fn draw<DB: DrawingBackend>(chart: &Chart, backend: DB) -> Result<()>
         }
         let (_, yp) = m.map_axis(xa.lo, t.pos);
         draw_text(
-            &root,
+            root,
             &t.label,
             (r.x0 - tick_len - 4.0 * s, yp),
             f_tick,
@@ -681,28 +812,39 @@ pub(crate) fn draw<DB: DrawingBackend>(chart: &Chart, backend: DB) -> Result<()>
             Pos::new(HPos::Right, VPos::Center),
         )?;
     }
-    // Axis titles.
+    Ok(())
+}
+
+/// The axis titles with their units; the y title is turned upright.
+fn paint_axis_titles<DB: DrawingBackend>(
+    chart: &Chart,
+    root: &Area<DB>,
+    lay: &Layout,
+) -> Result<()> {
+    let (s, r, f) = (lay.s, lay.plot, &lay.fonts);
     draw_text(
-        &root,
-        &axis_title(&chart.x.label, &xa.unit_text),
+        root,
+        &axis_title(&chart.x.label, &lay.xa.unit_text),
         (
             (r.x0 + r.x1) / 2.0,
-            r.y1 + tick_len + f_tick * 1.5 + 4.0 * s,
+            r.y1 + tick_len(lay) + f.tick * 1.5 + 4.0 * s,
         ),
-        f_axis,
+        f.axis,
         style::INK,
         Pos::new(HPos::Center, VPos::Top),
     )?;
-    {
-        let title = axis_title(&chart.y.label, &ya.unit_text);
-        let st = font(f_axis)
-            .transform(FontTransform::Rotate270)
-            .pos(Pos::new(HPos::Center, VPos::Top));
-        root.draw(&Text::new(title, px((pad, (r.y0 + r.y1) / 2.0)), st))
-            .map_err(fail)?;
-    }
+    let title = axis_title(&chart.y.label, &lay.ya.unit_text);
+    let st = font(f.axis)
+        .transform(FontTransform::Rotate270)
+        .pos(Pos::new(HPos::Center, VPos::Top));
+    root.draw(&Text::new(title, px((f.pad, (r.y0 + r.y1) / 2.0)), st))
+        .map_err(fail)?;
+    Ok(())
+}
 
-    // Rules.
+/// Horizontal and vertical rules (limits, marks), clipped to the plot.
+fn paint_rules<DB: DrawingBackend>(chart: &Chart, root: &Area<DB>, lay: &Layout) -> Result<()> {
+    let (s, r, m) = (lay.s, lay.plot, lay.mapper());
     for rule in &chart.rules {
         let c = rule.colour.rgb();
         let seg = match rule.orientation {
@@ -710,11 +852,15 @@ pub(crate) fn draw<DB: DrawingBackend>(chart: &Chart, backend: DB) -> Result<()>
             Orientation::Vertical => m.px_x(rule.value).map(|x| ((x, r.y0), (x, r.y1))),
         };
         if let Some((a, b)) = seg.and_then(|(a, b)| clip::clip_segment(&r, a, b)) {
-            draw_polyline(&root, &[a, b], c, 1.6 * s, rule.line, s)?;
+            draw_polyline(root, &[a, b], c, 1.6 * s, rule.line, s)?;
         }
     }
+    Ok(())
+}
 
-    // Series: interval bars, lines, markers.
+/// Each series: interval bars with caps, then its line, then its markers.
+fn paint_series<DB: DrawingBackend>(chart: &Chart, root: &Area<DB>, lay: &Layout) -> Result<()> {
+    let (s, r, m) = (lay.s, lay.plot, lay.mapper());
     for se in &chart.series {
         let c = se.style.colour.rgb();
         let cap = 3.0 * s;
@@ -748,109 +894,111 @@ pub(crate) fn draw<DB: DrawingBackend>(chart: &Chart, backend: DB) -> Result<()>
         if se.style.line != Line::None {
             let pts: Vec<Option<(f64, f64)>> = se.points.iter().map(|p| m.map(p.x, p.y)).collect();
             for run in clip::clip_polyline(&r, &pts) {
-                draw_polyline(&root, &run, c, se.style.width * s, se.style.line, s)?;
+                draw_polyline(root, &run, c, se.style.width * s, se.style.line, s)?;
             }
         }
         if se.style.marker != Marker::None {
             for p in &se.points {
                 if let Some(q) = m.map(p.x, p.y) {
                     if r.contains(q) {
-                        draw_marker(&root, q, se.style.marker, c, s)?;
+                        draw_marker(root, q, se.style.marker, c, s)?;
                     }
                 }
             }
         }
     }
+    Ok(())
+}
 
-    // Frame.
-    root.draw(&Rectangle::new(
-        [px((r.x0, r.y0)), px((r.x1, r.y1))],
-        stroke(style::INK_SOFT, 1.0),
-    ))
-    .map_err(fail)?;
-
-    // Legend, in its own column.
-    if !legend.is_empty() {
-        let mut size = f_legend;
-        let row = |sz: f64| sz * 1.7;
-        let avail = h - r.y0 - pad;
-        while legend.len() as f64 * row(size) > avail && size > 7.0 * s.min(1.0) {
-            size *= 0.9;
-        }
-        let max_rows = ((avail / row(size)).floor() as usize).max(1);
-        let text_w = legend_w - swatch_w - 2.0 * pad;
-        let mut yy = r.y0 + row(size) / 2.0;
-        let lx = lay.legend_x;
-        for (i, (label, sw)) in legend.iter().enumerate() {
-            if i + 1 == max_rows && legend.len() > max_rows {
-                let more = format!("… {} more", legend.len() - i);
-                draw_text(
-                    &root,
-                    &more,
-                    (lx, yy),
-                    size,
-                    style::INK_SOFT,
-                    Pos::new(HPos::Left, VPos::Center),
-                )?;
-                break;
-            }
-            let sx0 = lx;
-            let sx1 = lx + swatch_w - 8.0 * s;
-            match sw {
-                Swatch::Series(st) => {
-                    let c = st.colour.rgb();
-                    if st.line != Line::None {
-                        draw_polyline(&root, &[(sx0, yy), (sx1, yy)], c, st.width * s, st.line, s)?;
-                    }
-                    if st.marker != Marker::None {
-                        draw_marker(&root, ((sx0 + sx1) / 2.0, yy), st.marker, c, s)?;
-                    }
-                }
-                Swatch::Fill(c) => {
-                    let k = size * 0.45;
-                    root.draw(&Rectangle::new(
-                        [px((sx0, yy - k)), px((sx1, yy + k))],
-                        c.mix(0.3).filled(),
-                    ))
-                    .map_err(fail)?;
-                    root.draw(&Rectangle::new(
-                        [px((sx0, yy - k)), px((sx1, yy + k))],
-                        stroke(*c, 1.0),
-                    ))
-                    .map_err(fail)?;
-                }
-                Swatch::Rule(c, line) => {
-                    draw_polyline(&root, &[(sx0, yy), (sx1, yy)], *c, 1.6 * s, *line, s)?;
-                }
-            }
-            let t = fit(&root, label, size, text_w.max(20.0))?;
+/// The legend in its own column right of the plot; its text shrinks to fit
+/// the column's height, and what still does not fit is counted ("… n more").
+fn paint_legend<DB: DrawingBackend>(root: &Area<DB>, lay: &Layout) -> Result<()> {
+    let legend = &lay.legend;
+    if legend.is_empty() {
+        return Ok(());
+    }
+    let (s, r, pad, swatch_w) = (lay.s, lay.plot, lay.fonts.pad, lay.swatch_w);
+    let mut size = lay.fonts.legend;
+    let row = |sz: f64| sz * 1.7;
+    let avail = lay.h - r.y0 - pad;
+    while legend.len() as f64 * row(size) > avail && size > 7.0 * s.min(1.0) {
+        size *= 0.9;
+    }
+    let max_rows = ((avail / row(size)).floor() as usize).max(1);
+    let text_w = lay.legend_w - swatch_w - 2.0 * pad;
+    let mut yy = r.y0 + row(size) / 2.0;
+    let lx = lay.legend_x;
+    for (i, (label, sw)) in legend.iter().enumerate() {
+        if i + 1 == max_rows && legend.len() > max_rows {
+            let more = format!("… {} more", legend.len() - i);
             draw_text(
-                &root,
-                &t,
-                (lx + swatch_w, yy),
+                root,
+                &more,
+                (lx, yy),
                 size,
-                style::INK,
+                style::INK_SOFT,
                 Pos::new(HPos::Left, VPos::Center),
             )?;
-            yy += row(size);
+            break;
         }
-    }
-
-    // Notes.
-    let mut ny = lay.notes_top;
-    for l in &note_lines {
+        let sx0 = lx;
+        let sx1 = lx + swatch_w - 8.0 * s;
+        match sw {
+            Swatch::Series(st) => {
+                let c = st.colour.rgb();
+                if st.line != Line::None {
+                    draw_polyline(root, &[(sx0, yy), (sx1, yy)], c, st.width * s, st.line, s)?;
+                }
+                if st.marker != Marker::None {
+                    draw_marker(root, ((sx0 + sx1) / 2.0, yy), st.marker, c, s)?;
+                }
+            }
+            Swatch::Fill(c) => {
+                let k = size * 0.45;
+                root.draw(&Rectangle::new(
+                    [px((sx0, yy - k)), px((sx1, yy + k))],
+                    c.mix(0.3).filled(),
+                ))
+                .map_err(fail)?;
+                root.draw(&Rectangle::new(
+                    [px((sx0, yy - k)), px((sx1, yy + k))],
+                    stroke(*c, 1.0),
+                ))
+                .map_err(fail)?;
+            }
+            Swatch::Rule(c, line) => {
+                draw_polyline(root, &[(sx0, yy), (sx1, yy)], *c, 1.6 * s, *line, s)?;
+            }
+        }
+        let t = fit(root, label, size, text_w.max(20.0))?;
         draw_text(
-            &root,
+            root,
+            &t,
+            (lx + swatch_w, yy),
+            size,
+            style::INK,
+            Pos::new(HPos::Left, VPos::Center),
+        )?;
+        yy += row(size);
+    }
+    Ok(())
+}
+
+/// The notes under the plot.
+fn paint_notes<DB: DrawingBackend>(root: &Area<DB>, lay: &Layout) -> Result<()> {
+    let f = &lay.fonts;
+    let mut ny = lay.notes_top;
+    for l in &lay.note_lines {
+        draw_text(
+            root,
             l,
-            (pad, ny),
-            f_note,
+            (f.pad, ny),
+            f.note,
             style::INK_SOFT,
             Pos::new(HPos::Left, VPos::Top),
         )?;
-        ny += f_note * 1.35;
+        ny += f.note * 1.35;
     }
-    let _ = lay.s;
-    root.present().map_err(fail)?;
     Ok(())
 }
 

@@ -1,4 +1,4 @@
-//! Integrated phase jitter over offset bands (DESIGN.md §6):
+//! Integrated phase jitter over offset bands (docs/design.md §6):
 //!
 //! σ_φ² = ∫_{f1}^{f2} S_φ(f)·|H(f)|² df + Σ_spurs 2·10^{L_s/10}·|H(f_s)|²  (rad²),
 //!
@@ -359,7 +359,7 @@ impl JitterLimit {
 /// ```
 /// use tauwise::spectrum::{Quantity, Spectrum};
 /// use tauwise::spectrum::jitter::{integrate_band, Band, JitterSetup};
-/// // Flat −150 dBc/Hz, 12 kHz–20 MHz, 100 MHz carrier (CHECKS.md E, analytic).
+/// // Flat −150 dBc/Hz, 12 kHz–20 MHz, 100 MHz carrier (docs/checks.md §E, analytic).
 /// let s = Spectrum::new(vec![1e3, 1e8], vec![-150.0, -150.0], Quantity::Lf, Some(100e6)).unwrap();
 /// let j = integrate_band(&s, Band { from: 12e3, to: 20e6 }, &JitterSetup::default(), None).unwrap();
 /// assert!((j.rms_rad / 1.99940e-4 - 1.0).abs() < 1e-5);

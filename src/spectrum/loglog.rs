@@ -8,7 +8,7 @@
 //! ∫_a^b c·f^e df = c·(b^{e+1} − a^{e+1})/(e+1), and c·ln(b/a) for e = −1,
 //!
 //! evaluated as c·a^{e+1}·ln(b/a)·expm1(u)/u with u = (e+1)·ln(b/a), which is
-//! continuous through e = −1 and loses no precision near it (DESIGN.md §6).
+//! continuous through e = −1 and loses no precision near it (docs/design.md §6).
 //!
 //! Outside the table, a [`LogLog`] either refuses ([`Extend::No`]) or
 //! continues the power law of the nearest end segment ([`Extend::EndSlope`]).

@@ -3,7 +3,7 @@
 //! ([`welch`]), log–log table integration ([`loglog`]), σ(τ) from a spectrum
 //! ([`sigma`]) and integrated phase jitter ([`jitter`]).
 //!
-//! Definitions (IEEE Std 1139-2008; DESIGN.md §6), all one-sided, for offset
+//! Definitions (IEEE Std 1139-2008; docs/design.md §6), all one-sided, for offset
 //! frequency f > 0 from a carrier ν0:
 //!
 //! - L(f) = 10·log10(S_φ(f)/2) dBc/Hz (the SSB convention: L is half of S_φ);

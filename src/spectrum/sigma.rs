@@ -1,5 +1,5 @@
 //! σ(τ) from a spectrum: σ²(τ) = ∫_0^{f_h} S_y(f)·|H(f)|² df, with the
-//! transfer functions of IEEE Std 1139-2008 and NIST SP 1065 (DESIGN.md §6),
+//! transfer functions of IEEE Std 1139-2008 and NIST SP 1065 (docs/design.md §6),
 //! x = πfτ, τ = nτ0:
 //!
 //! - AVAR (ADEV and overlapping ADEV share the expectation): |H|² = 2 sin⁴x / x²;

@@ -13,7 +13,7 @@
 //!   where σ_y²(τ) ∝ τ^μ: μ = −α − 1 for α ≤ 1 and μ = −2 for α = 2 (WPM and
 //!   FPM share μ = −2 and cannot be told apart by B1).
 //! - R(n) = Mod σ_y²(τ)/σ_y²(τ) at τ = nτ0, from the IEEE Std 1139 table
-//!   (CHECKS.md C) with the cut-off f_h = 1/(2τ0) of sampled data:
+//!   (docs/checks.md §C) with the cut-off f_h = 1/(2τ0) of sampled data:
 //!   WPM 1/n; FPM 3.37/(1.038 + 3 ln(πn)); WFM 1/2; FFM 0.936/(2 ln 2);
 //!   RWFM 5.42·6/(2π)². The WPM value is exact for sampled white phase.
 
@@ -97,7 +97,7 @@ mod tests {
 
     #[test]
     fn r_values() {
-        // IEEE Std 1139 table ratios (CHECKS.md C).
+        // IEEE Std 1139 table ratios (docs/checks.md §C).
         assert!((r_ratio(-1, 8).unwrap() - 0.675).abs() < 1e-3);
         assert!((r_ratio(-2, 8).unwrap() - 0.824).abs() < 1e-3);
         assert!(r_ratio(1, 16).unwrap() > r_ratio(2, 16).unwrap());

@@ -78,7 +78,7 @@
 //!
 //! # Total variance
 //!
-//! NIST SP 1065 (Riley 2008, §5.2.11 and its EDF table; CHECKS.md D, from
+//! NIST SP 1065 (Riley 2008, §5.2.11 and its EDF table; docs/checks.md §D, from
 //! memory): EDF = b·(T/τ) − c with T = (N − 1)τ0 the record length: WFM
 //! b = 1.50, c = 0; FFM b = 1.17, c = 0.22; RWFM b = 0.93, c = 0.36. These
 //! describe the continuous-time, large-m behaviour: at m = 1, where TOTVAR

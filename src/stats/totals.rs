@@ -21,7 +21,7 @@
 //!   twin at the far end) and have their own mean. So
 //!   B = [(N − 2m)·E_A + Σ_ends E_t] / ((N − 2)·E_A), exact for every N, m
 //!   and α, in O(m). It reproduces SP 1065's B = 1 − a·τ/T with
-//!   a = 0.481 (FFM) and 0.750 (RWFM) and a = 0 for WFM (CHECKS.md D;
+//!   a = 0.481 (FFM) and 0.750 (RWFM) and a = 0 for WFM (docs/checks.md §D;
 //!   checked in `tests/totals.rs`), and gives the factors SP 1065 does not
 //!   tabulate: white PM B = 1 + (4/3)·τ/T (the reflected ends add variance),
 //!   flicker PM B ≈ 1 + (1.0 … 1.2)·τ/T, growing slowly with m.
@@ -43,7 +43,7 @@
 //! # EDF
 //!
 //! - **TOTDEV**: SP 1065's b·(T/τ) − c (WFM b = 1.50, c = 0; FFM 1.17,
-//!   0.22; RWFM 0.93, 0.36; CHECKS.md D, from memory), times the small-m
+//!   0.22; RWFM 0.93, 0.36; docs/checks.md §D, from memory), times the small-m
 //!   factor described in [`mod@crate::stats::edf`]. The exact EDF of the
 //!   quadratic form ([`totvar_edf_exact`]) agrees with it within 1–4 % at
 //!   m = 16 for T/τ = 2 … 64 (`tests/totals.rs`). At m = 1 TOTVAR is the

@@ -14,7 +14,7 @@
 //!
 //! The built-in values are those of ITU-T G.811 (primary reference clock),
 //! G.8272 (PRTC-A) and G.8262 (EEC option 1, constant temperature) as
-//! **recalled from memory** (project file CHECKS.md F); every output that uses
+//! **recalled from memory** (docs/checks.md §F); every output that uses
 //! them carries [`FROM_MEMORY_NOTE`].
 
 use crate::error::{Error, Result};
@@ -185,7 +185,7 @@ fn seg(lo: f64, hi: f64, a: f64, p: f64, b: f64) -> Segment {
     Segment { lo, hi, a, p, b }
 }
 
-/// TDEV of G.811, also used by G.8272 PRTC-A (from memory, CHECKS.md F):
+/// TDEV of G.811, also used by G.8272 PRTC-A (from memory, docs/checks.md §F):
 /// 3 ns for 0.1 < τ ≤ 100 s; 0.03·τ ns for 100 < τ ≤ 1000 s;
 /// 30 ns for 1000 < τ ≤ 10000 s.
 fn g811_tdev() -> Vec<Segment> {
@@ -199,7 +199,7 @@ fn g811_tdev() -> Vec<Segment> {
 /// The masks of one built-in name (one per metric), or an error that lists
 /// the known names.
 ///
-/// Values recalled from memory (CHECKS.md F); check against the current
+/// Values recalled from memory (docs/checks.md §F); check against the current
 /// edition of the Recommendation:
 /// - `g811` (ITU-T G.811, primary reference clock). MTIE:
 ///   (0.275e−3·τ + 0.025) µs for 0.1 < τ ≤ 1000 s; (1e−5·τ + 0.29) µs for
@@ -273,7 +273,7 @@ mod tests {
 
     #[test]
     fn every_builtin_is_continuous_at_its_breakpoints() {
-        // The Recommendations' tables join up (CHECKS.md F, from memory);
+        // The Recommendations' tables join up (docs/checks.md §F, from memory);
         // a typo in a coefficient would show as a jump.
         for name in BUILTIN_NAMES {
             for m in builtin(name).unwrap() {

@@ -1,0 +1,259 @@
+//! Outliers: the MAD test on the frequency and the removal of what it finds.
+
+use super::offset::frequency_of;
+use crate::error::{Error, Result};
+use crate::record::{FrequencyRecord, PhaseRecord, Record};
+
+/// Scale factor that makes the median absolute deviation an estimate of the
+/// standard deviation for normal data: 1/Φ⁻¹(3/4) = 1/0.6744898 (analytic).
+pub const MAD_SCALE: f64 = 1.482_602_218_505_602;
+
+/// Frequency outliers by the median absolute deviation (the MAD test of
+/// NIST SP 1065 §5, from memory): with m = median(y) and
+/// MAD = median|y_i − m| / 0.6745, y_i is an outlier when |y_i − m| > K·MAD.
+///
+/// When more than half of the values equal the median (coarsely quantised
+/// data) the MAD is 0; then the scale used is the mean absolute deviation
+/// from the median times √(π/2) (also σ for normal data, analytic), and
+/// `mad_fallback` is set.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Outliers {
+    /// The limit K in units of the (scaled) MAD.
+    pub limit: f64,
+    /// Median of the valid frequency values.
+    pub median: f64,
+    /// The scaled MAD (an estimate of σ), or the fallback scale.
+    pub mad: f64,
+    /// True when the MAD was 0 and the fallback scale was used.
+    pub mad_fallback: bool,
+    /// Indices i of the outlying frequency values y_i, increasing.
+    pub indices: Vec<usize>,
+    /// Number of valid frequency values tested.
+    pub tested: usize,
+}
+
+/// Median of `v` (reorders it, O(n) selection); `None` when empty.
+pub fn median_in_place(v: &mut [f64]) -> Option<f64> {
+    if v.is_empty() {
+        return None;
+    }
+    let mid = v.len() / 2;
+    let odd = v.len() % 2 == 1;
+    let (lower, &mut hi, _) = v.select_nth_unstable_by(mid, f64::total_cmp);
+    if odd {
+        Some(hi)
+    } else {
+        let lo = lower.iter().copied().fold(f64::NEG_INFINITY, f64::max);
+        Some(0.5 * (lo + hi))
+    }
+}
+
+/// Find the frequency outliers of a record beyond `limit`·MAD (see [`Outliers`]).
+pub fn find_outliers(record: &Record, limit: f64) -> Result<Outliers> {
+    find_outliers_y(&frequency_of(record), limit)
+}
+
+/// [`find_outliers`] on frequency values.
+pub fn find_outliers_y(y: &[f64], limit: f64) -> Result<Outliers> {
+    if !(limit.is_finite() && limit > 0.0) {
+        return Err(Error::invalid(format!(
+            "outlier limit {limit}: expected a positive number of MADs (e.g. 5)"
+        )));
+    }
+    let mut valid: Vec<f64> = y.iter().copied().filter(|v| !v.is_nan()).collect();
+    let tested = valid.len();
+    let median = median_in_place(&mut valid)
+        .ok_or_else(|| Error::insufficient("no frequency values to test for outliers"))?;
+    for v in valid.iter_mut() {
+        *v = (*v - median).abs();
+    }
+    let mean_abs = valid.iter().sum::<f64>() / tested as f64;
+    let raw = median_in_place(&mut valid).unwrap_or(0.0);
+    let (mad, mad_fallback) = if raw > 0.0 {
+        (raw * MAD_SCALE, false)
+    } else {
+        (mean_abs * (std::f64::consts::PI / 2.0).sqrt(), true)
+    };
+    let indices = if mad > 0.0 {
+        y.iter()
+            .enumerate()
+            .filter(|(_, &v)| !v.is_nan() && (v - median).abs() > limit * mad)
+            .map(|(i, _)| i)
+            .collect()
+    } else {
+        Vec::new()
+    };
+    Ok(Outliers {
+        limit,
+        median,
+        mad,
+        mad_fallback,
+        indices,
+        tested,
+    })
+}
+
+/// What replacing outliers by gaps did.
+#[derive(Debug, Clone, PartialEq)]
+pub struct OutlierRemoval {
+    /// The record with the outliers replaced by gaps.
+    pub record: Record,
+    /// Samples of the record made gaps.
+    pub replaced: usize,
+    /// Frequency outliers that could not be removed by blanking one phase
+    /// sample: isolated frequency outliers between good phase samples, i.e.
+    /// phase steps (indices i of y_i). Always empty for frequency data.
+    pub steps: Vec<usize>,
+}
+
+/// Replace outliers by gaps.
+///
+/// Frequency data: each outlying y_i becomes a gap.
+/// Phase data: a phase sample x_j becomes a gap when each of its
+/// neighbouring frequencies y_{j−1}, y_j is an outlier, a gap or beyond the
+/// record's end, and at least one is an outlier — a glitch in x_j. An
+/// outlier y_i between two otherwise good phase samples is a step in phase,
+/// which blanking a sample cannot remove; it is left in place and listed in
+/// [`OutlierRemoval::steps`].
+pub fn remove_outliers(record: &Record, outliers: &Outliers) -> OutlierRemoval {
+    match record {
+        Record::Frequency(f) => {
+            let mut y = f.y.clone();
+            for &i in &outliers.indices {
+                if let Some(v) = y.get_mut(i) {
+                    *v = f64::NAN;
+                }
+            }
+            OutlierRemoval {
+                record: Record::Frequency(FrequencyRecord { y, tau0: f.tau0 }),
+                replaced: outliers.indices.len(),
+                steps: Vec::new(),
+            }
+        }
+        Record::Phase(p) => {
+            let n = p.x.len();
+            let ny = n.saturating_sub(1);
+            let mut is_out = vec![false; ny];
+            for &i in &outliers.indices {
+                if i < ny {
+                    is_out[i] = true;
+                }
+            }
+            // y_i is "bad" when it is an outlier or a gap.
+            let bad = |i: usize| i >= ny || is_out[i] || p.x[i].is_nan() || p.x[i + 1].is_nan();
+            let mut x = p.x.clone();
+            let mut blank = vec![false; n];
+            let mut replaced = 0;
+            for j in 0..n {
+                if p.x[j].is_nan() {
+                    continue;
+                }
+                let left = j.checked_sub(1);
+                let left_bad = match left {
+                    Some(i) => bad(i),
+                    None => true,
+                };
+                let right_bad = bad(j);
+                let any_out = left.is_some_and(|i| is_out[i]) || (j < ny && is_out[j]);
+                if left_bad && right_bad && any_out {
+                    blank[j] = true;
+                    replaced += 1;
+                }
+            }
+            let steps = outliers
+                .indices
+                .iter()
+                .copied()
+                .filter(|&i| i < ny && !blank[i] && !blank[i + 1])
+                .collect();
+            for (v, b) in x.iter_mut().zip(&blank) {
+                if *b {
+                    *v = f64::NAN;
+                }
+            }
+            OutlierRemoval {
+                record: Record::Phase(PhaseRecord { x, tau0: p.tau0 }),
+                replaced,
+                steps,
+            }
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::prepare::testing::{close, freq, Rng};
+
+    #[test]
+    fn median_matches_sorting() {
+        let mut r = Rng(7);
+        for n in [1, 2, 3, 10, 101, 1000] {
+            let v: Vec<f64> = (0..n).map(|_| r.next()).collect();
+            let mut s = v.clone();
+            s.sort_by(f64::total_cmp);
+            let want = if n % 2 == 1 {
+                s[n / 2]
+            } else {
+                0.5 * (s[n / 2 - 1] + s[n / 2])
+            };
+            let mut w = v.clone();
+            assert_eq!(median_in_place(&mut w), Some(want));
+        }
+    }
+
+    #[test]
+    fn outliers_by_scaled_mad() {
+        // y alternates ±1 around 10: median 10, median |y − m| = 1, scaled MAD
+        // 1.4826 (1/Φ⁻¹(3/4), analytic). 20 lies 10/1.4826 = 6.7 MADs away.
+        let mut y: Vec<f64> = (0..21)
+            .map(|i| 10.0 + if i % 2 == 0 { 1.0 } else { -1.0 })
+            .collect();
+        y[4] = 20.0;
+        y[9] = 10.0 - 6.0;
+        y[12] = f64::NAN;
+        let o = find_outliers_y(&y, 5.0).unwrap();
+        assert_eq!(o.median, 10.0);
+        assert!(close(o.mad, MAD_SCALE, 1e-12));
+        assert_eq!(o.indices, vec![4]);
+        assert_eq!(o.tested, 20);
+        let o3 = find_outliers_y(&y, 3.0).unwrap();
+        assert_eq!(o3.indices, vec![4, 9]);
+        assert!(find_outliers_y(&y, 0.0).is_err());
+        // Quantised data: MAD 0, fallback scale.
+        let mut q = vec![0.0; 100];
+        q[10] = 1.0;
+        q[20] = 50.0;
+        let o = find_outliers_y(&q, 5.0).unwrap();
+        assert!(o.mad_fallback);
+        assert_eq!(o.indices, vec![20]);
+    }
+
+    #[test]
+    fn outlier_replacement_in_phase() {
+        // A glitch at x_5 and a step between x_12 and x_13.
+        let mut r = Rng(9);
+        let mut x: Vec<f64> = (0..20)
+            .map(|i| i as f64 * 1e-9 + 1e-10 * r.next())
+            .collect();
+        x[5] += 1e-6;
+        for v in x.iter_mut().skip(13) {
+            *v += 1e-6;
+        }
+        let r = Record::Phase(PhaseRecord::new(x, 1.0).unwrap());
+        let o = find_outliers(&r, 5.0).unwrap();
+        assert_eq!(o.indices, vec![4, 5, 12]);
+        let rem = remove_outliers(&r, &o);
+        assert_eq!(rem.replaced, 1);
+        assert_eq!(rem.steps, vec![12]);
+        let xp = rem.record.to_phase().x;
+        assert!(xp[5].is_nan());
+        assert_eq!(rem.record.gaps(), 1);
+        // Frequency data: the outlying value itself.
+        let f = freq(vec![0.0, 1e-9, -1e-9, 1e-6, 0.0, 2e-9, -2e-9]);
+        let o = find_outliers(&f, 5.0).unwrap();
+        let rem = remove_outliers(&f, &o);
+        assert_eq!(rem.replaced, 1);
+        assert!(rem.record.to_frequency().y[3].is_nan());
+    }
+}
