@@ -27,17 +27,20 @@
 //! Gaps: a subsequence is used when none of its samples is missing (for
 //! HTOT, none of the 3m + 1 phase samples its frequencies come from).
 //!
-//! Fast forms. For m < 32: local sums of v come from prefix sums kept in
+//! Fast forms. For m < 8: local sums of v come from prefix sums kept in
 //! double-double arithmetic (each prefix as an unevaluated sum hi + lo,
 //! built with the error-free TwoSum); the running sums of X then cost O(m)
-//! per subsequence. From m = 32 on: an exact O(1)-per-subsequence form
+//! per subsequence. From m = 8 on: an exact O(1)-per-subsequence form
 //! (notes above `Plan` below) — every term of the inner sum over the
 //! reflected extension is a fixed linear combination of window prefix sums,
 //! so the sum over all subsequences reduces to weighted lagged products of
 //! prefix sums. Both are equal to the direct definition
 //! (`reference::reflected_mean_square`) to 1e-10 relative in the tests;
 //! subsequences are spread over threads in fixed blocks (reproducible).
-//! Cost O(N) per τ; at N = 10^6 the octave grid takes about 7 s of CPU.
+//! The six reflection blocks of the fast form share six distinct moving
+//! terms, so the lagged products are summed once per pair of distinct
+//! terms (21 passes) and the fixed part in one loop. Cost O(N) per τ;
+//! memory O(run length) per thread, record-sized runs one at a time.
 
 use super::allan::finish;
 use super::gaps::{Gaps, Prepared};
@@ -327,7 +330,15 @@ pub(crate) fn frequency_form_on_phase(r: &[f64], len: usize) -> Vec<f64> {
 // ---------------------------------------------------------------------------
 
 /// Below this m the O(m)-per-subsequence form is as fast and simpler.
-const FAST_FROM_M: usize = 32;
+const FAST_FROM_M: usize = 8;
+
+/// Runs longer than this many samples are summed one at a time across the
+/// τ computed in parallel ([`BIG_RUN`]).
+const BIG_RUN_LEN: usize = 1 << 18;
+
+/// Held while a run longer than [`BIG_RUN_LEN`] is summed, so that two
+/// long-τ sums never hold record-sized prefix arrays at once.
+static BIG_RUN: std::sync::Mutex<()> = std::sync::Mutex::new(());
 
 /// A moving term γ·V_{n+A+σr}.
 #[derive(Clone, Copy)]
@@ -499,6 +510,7 @@ fn run_sum(plan: &Plan, v: &[f64], start: usize, count: usize, s: &mut RunScratc
     let l3 = 3 * m;
     let len = count + l3 - 1; // samples the run reads
     let seg = &v[start..start + len];
+    let _guard = (len > BIG_RUN_LEN).then(|| BIG_RUN.lock().unwrap_or_else(|e| e.into_inner()));
     // Local samples less an affine function of time.
     let alpha = seg[0];
     let beta = if len > 1 {

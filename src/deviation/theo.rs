@@ -99,6 +99,13 @@ pub(crate) fn theo1_sum(p: &Prepared, m: usize) -> (f64, usize) {
     (per_k.iter().sum(), used)
 }
 
+/// FFT size from which a block is computed alone (see [`theo1_block`]).
+const BIG_FFT: usize = 1 << 18;
+
+/// Held while a block of FFT size ≥ [`BIG_FFT`] is computed, so that the
+/// τ computed in parallel do not hold several record-sized buffers at once.
+static BIG_BLOCK: std::sync::Mutex<()> = std::sync::Mutex::new(());
+
 /// Theo1 factors from this one on use the correlation form
 /// ([`theo1_block`]); below it the direct sum is as fast.
 pub(crate) const BLOCK_FORM_FROM: usize = 192;
@@ -138,41 +145,59 @@ fn theo1_block(seg: &[f64], m: usize, planner: &mut rustfft::FftPlanner<f64>) ->
         .enumerate()
         .map(|(t, &v)| (v - seg[0]) - slope * t as f64)
         .collect();
-    // R(ℓ), ℓ = 0 … m (zero-padded: no wrap-around).
+    // A large block takes the big-block lock (one at a time across the τ
+    // computed in parallel) and its own planner (its twiddles freed after).
     let size = (len + m + 1).next_power_of_two();
+    let _guard = (size >= BIG_FFT).then(|| BIG_BLOCK.lock().unwrap_or_else(|e| e.into_inner()));
+    let mut own_planner;
+    let planner = if size >= BIG_FFT {
+        own_planner = rustfft::FftPlanner::<f64>::new();
+        &mut own_planner
+    } else {
+        planner
+    };
+    // R(ℓ), ℓ = 0 … m (zero-padded: no wrap-around). Only forward plans:
+    // the inverse of a real even spectrum P is the forward transform of P
+    // (over the size), read at index 0 and size − ℓ.
     let mut buf: Vec<Complex<f64>> = Vec::with_capacity(size);
     buf.extend(y.iter().map(|&v| Complex::new(v, 0.0)));
     buf.resize(size, Complex::new(0.0, 0.0));
-    planner.plan_fft_forward(size).process(&mut buf);
+    let fwd = planner.plan_fft_forward(size);
+    fwd.process(&mut buf);
     for c in &mut buf {
         *c = Complex::new(c.norm_sqr(), 0.0);
     }
-    planner.plan_fft_inverse(size).process(&mut buf);
+    fwd.process(&mut buf);
     let scale = 1.0 / size as f64;
-    let r: Vec<f64> = buf[..=m].iter().map(|c| c.re * scale).collect();
-    drop(buf);
+    let r: Vec<f64> = (0..=m).map(|l| buf[(size - l) % size].re * scale).collect();
     // hd and tl at once: head in the real part, tail in the imaginary part;
-    // their spectra A, B from Z(k) and Z(−k), then |A|² + i|B|² back.
+    // their spectra A, B from Z(k) and Z(−k), then |A|² + i|B|² back
+    // (inverse as conj ∘ forward ∘ conj), in the same buffer.
     let size2 = (2 * m + 1).next_power_of_two();
-    let mut z: Vec<Complex<f64>> = vec![Complex::new(0.0, 0.0); size2];
+    buf.truncate(size2);
+    buf.fill(Complex::new(0.0, 0.0));
     for t in 0..m {
-        z[t] = Complex::new(y[t], y[n + t]);
+        buf[t] = Complex::new(y[t], y[n + t]);
     }
-    planner.plan_fft_forward(size2).process(&mut z);
-    let mut w: Vec<Complex<f64>> = vec![Complex::new(0.0, 0.0); size2];
-    for k in 0..size2 {
-        let zk = z[k];
-        let zc = z[(size2 - k) % size2].conj();
+    let fwd2 = planner.plan_fft_forward(size2);
+    fwd2.process(&mut buf);
+    let spectra = |zk: Complex<f64>, zc: Complex<f64>| {
         let a = (zk + zc) * 0.5;
         let b = (zk - zc) * Complex::new(0.0, -0.5);
-        w[k] = Complex::new(a.norm_sqr(), b.norm_sqr());
+        // conj of |A|² + i|B|² for the inverse by the forward transform.
+        Complex::new(a.norm_sqr(), -b.norm_sqr())
+    };
+    for k in 0..=size2 / 2 {
+        let j = (size2 - k) % size2;
+        let (zk, zj) = (buf[k], buf[j]);
+        buf[k] = spectra(zk, zj.conj());
+        buf[j] = spectra(zj, zk.conj());
     }
-    drop(z);
-    planner.plan_fft_inverse(size2).process(&mut w);
+    fwd2.process(&mut buf);
     let scale2 = 1.0 / size2 as f64;
-    let hd: Vec<f64> = w[..=m].iter().map(|c| c.re * scale2).collect();
-    let tl: Vec<f64> = w[..=m].iter().map(|c| c.im * scale2).collect();
-    drop(w);
+    let hd: Vec<f64> = buf[..=m].iter().map(|c| c.re * scale2).collect();
+    let tl: Vec<f64> = buf[..=m].iter().map(|c| -c.im * scale2).collect();
+    drop(buf);
     let sq: Vec<f64> = y.iter().map(|v| v * v).collect();
     let q = super::modtotal::PrefixSums::new(&sq);
     drop(sq);
@@ -246,7 +271,8 @@ fn lower_pairs(
 
 /// Σ_{u,w} h(u+w)·a_u·b_w over all u < a.len(), w < b.len() (h indexed
 /// from 0 at u = w = 0): Σ_s h(s)·(a ∗ b)(s), the convolution by one FFT
-/// of a + i·b (the imaginary part of the inverse of its square is 2·a ∗ b).
+/// of a + i·b (the imaginary part of the inverse of its square is 2·a ∗ b;
+/// the inverse is the forward transform read at −t).
 fn cross_pairs(a: &[f64], b: &[f64], h: &[f64], planner: &mut rustfft::FftPlanner<f64>) -> f64 {
     use rustfft::num_complex::Complex;
     let top = (a.len() + b.len() - 1).min(h.len());
@@ -267,16 +293,18 @@ fn cross_pairs(a: &[f64], b: &[f64], h: &[f64], planner: &mut rustfft::FftPlanne
     for (c, &v) in buf.iter_mut().zip(b) {
         c.im = v;
     }
-    planner.plan_fft_forward(size).process(&mut buf);
+    let fwd = planner.plan_fft_forward(size);
+    fwd.process(&mut buf);
     for c in &mut buf {
         *c = *c * *c;
     }
-    planner.plan_fft_inverse(size).process(&mut buf);
+    // Inverse by the forward transform read backwards.
+    fwd.process(&mut buf);
     let scale = 0.5 / size as f64;
-    buf[..top]
+    h[..top]
         .iter()
-        .zip(h)
-        .map(|(c, &hv)| hv * c.im * scale)
+        .enumerate()
+        .map(|(t, &hv)| hv * buf[(size - t) % size].im * scale)
         .sum()
 }
 
