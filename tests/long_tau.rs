@@ -71,7 +71,7 @@ fn modified_totals_fast_equals_direct() {
     ] {
         for est in [Estimator::Mtot, Estimator::Ttot, Estimator::Htot] {
             let max_m = est.max_m(x.len());
-            for m in [1, 2, 3, 4, 7, 16, 33, max_m] {
+            for m in [1, 2, 3, 4, 7, 8, 9, 12, 16, 33, max_m] {
                 if m > max_m {
                     continue;
                 }
@@ -96,7 +96,7 @@ fn modified_totals_fast_equals_direct() {
     }
 }
 
-/// The exact O(N)-per-τ form of MTOT/HTOT (used from m = 32 on) equals the
+/// The exact O(N)-per-τ form of MTOT/HTOT (used from m = 8 on) equals the
 /// direct SP 1065 definition (1e-10 relative) on longer records, odd and
 /// even m, with gaps, and on random-walk FM with a large frequency offset
 /// and drift (where the prefix sums cancel most).
@@ -119,7 +119,7 @@ fn modified_totals_exact_fast_form_equals_direct() {
     ] {
         for est in [Estimator::Mtot, Estimator::Htot] {
             let max_m = est.max_m(x.len());
-            for m in [31, 32, 33, 47, 64, 101, max_m - 1, max_m] {
+            for m in [7, 8, 10, 31, 32, 33, 47, 64, 101, max_m - 1, max_m] {
                 let d = reference::evaluate(est, &x, 1.0, m);
                 let f = one(est, &x, 1.0, m);
                 match (f, d) {
@@ -166,6 +166,55 @@ fn theo1_fast_equals_direct() {
                 f.m,
                 f.value,
                 d.value
+            );
+        }
+    }
+}
+
+/// The block correlation form of Theo1 (used from m' = 192 on) equals the
+/// direct SP 1065 eq. 31 double sum (1e-10 relative) through `compute`, on
+/// white + random-walk phase with and without gaps (isolated samples and a
+/// run) and on random-walk FM with a frequency offset, at factors on both
+/// sides of the switch, for blocks of 3m' terms and single short blocks.
+#[test]
+fn theo1_block_form_equals_direct() {
+    let mut rng = ChaCha8Rng::seed_from_u64(31);
+    let (mut f, mut ph) = (0.0, 0.0);
+    let rw: Vec<f64> = (0..2400)
+        .map(|_| {
+            f += 1e-12 * rng.sample::<f64, _>(StandardNormal);
+            ph += f + 3e-9;
+            ph
+        })
+        .collect();
+    let mut gappy = random_phase(2600, 32);
+    for i in [700usize, 701, 1650] {
+        gappy[i] = f64::NAN;
+    }
+    for v in &mut gappy[2000..2011] {
+        *v = f64::NAN;
+    }
+    for (label, x) in [
+        ("clean", random_phase(2500, 33)),
+        ("gappy", gappy),
+        ("rwfm", rw),
+    ] {
+        let n = x.len();
+        let rec = PhaseRecord::new(x.clone(), 1.0).unwrap();
+        // Grid factors m ≈ 0.75·m': m' = 190, 192, 194, 400, 700, 1200, top.
+        let grid = [142, 144, 146, 300, 525, 900, Estimator::Theo1.max_m(n)];
+        let fast = compute(Estimator::Theo1, &rec, &grid);
+        assert!(fast.len() >= 5, "{label}");
+        for e in &fast {
+            let d = reference::theo1(&x, 1.0, e.m).unwrap();
+            assert_eq!(e.terms, d.terms, "{label} m'={}", e.m);
+            assert!(
+                rel(e.value, d.value) < 1e-10,
+                "{label} m'={}: {} vs {} ({:e})",
+                e.m,
+                e.value,
+                d.value,
+                rel(e.value, d.value)
             );
         }
     }

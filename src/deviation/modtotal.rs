@@ -27,17 +27,20 @@
 //! Gaps: a subsequence is used when none of its samples is missing (for
 //! HTOT, none of the 3m + 1 phase samples its frequencies come from).
 //!
-//! Fast forms. For m < 32: local sums of v come from prefix sums kept in
+//! Fast forms. For m < 8: local sums of v come from prefix sums kept in
 //! double-double arithmetic (each prefix as an unevaluated sum hi + lo,
 //! built with the error-free TwoSum); the running sums of X then cost O(m)
-//! per subsequence. From m = 32 on: an exact O(1)-per-subsequence form
+//! per subsequence. From m = 8 on: an exact O(1)-per-subsequence form
 //! (notes above `Plan` below) — every term of the inner sum over the
 //! reflected extension is a fixed linear combination of window prefix sums,
 //! so the sum over all subsequences reduces to weighted lagged products of
 //! prefix sums. Both are equal to the direct definition
 //! (`reference::reflected_mean_square`) to 1e-10 relative in the tests;
 //! subsequences are spread over threads in fixed blocks (reproducible).
-//! Cost O(N) per τ; at N = 10^6 the octave grid takes about 7 s of CPU.
+//! The six reflection blocks of the fast form share six distinct moving
+//! terms, so the lagged products are summed once per pair of distinct
+//! terms (21 passes) and the fixed part in one loop. Cost O(N) per τ;
+//! memory O(run length) per thread, record-sized runs one at a time.
 
 use super::allan::finish;
 use super::gaps::{Gaps, Prepared};
@@ -327,7 +330,15 @@ pub(crate) fn frequency_form_on_phase(r: &[f64], len: usize) -> Vec<f64> {
 // ---------------------------------------------------------------------------
 
 /// Below this m the O(m)-per-subsequence form is as fast and simpler.
-const FAST_FROM_M: usize = 32;
+const FAST_FROM_M: usize = 8;
+
+/// Runs longer than this many samples are summed one at a time across the
+/// τ computed in parallel ([`BIG_RUN`]).
+const BIG_RUN_LEN: usize = 1 << 18;
+
+/// Held while a run longer than [`BIG_RUN_LEN`] is summed, so that two
+/// long-τ sums never hold record-sized prefix arrays at once.
+static BIG_RUN: std::sync::Mutex<()> = std::sync::Mutex::new(());
 
 /// A moving term γ·V_{n+A+σr}.
 #[derive(Clone, Copy)]
@@ -348,9 +359,18 @@ struct BlockPlan {
 struct Plan {
     m: usize,
     offsets: [usize; 4],
-    blocks: Vec<BlockPlan>,
-    /// Σ_{r<m} r^p, p = 0 … 4.
-    power: [f64; 5],
+    /// The distinct moving terms V_{n+A+σr} of all six blocks (six: A ∈
+    /// {0, m, 2m} with σ = +1 and A ∈ {m, 2m, 3m} with σ = −1).
+    terms: Vec<(usize, bool)>,
+    /// pair\[t1\]\[t2\] = Σ_b g_b\[t1\]·g_b\[t2\], g_b\[t\] the coefficient
+    /// of term t in block b: the moving × moving part summed over blocks.
+    pair: Vec<Vec<f64>>,
+    /// cross\[t\]\[c\]\[p\] = Σ_b g_b\[t\]·φ_b\[c\]\[p\]: the weight of
+    /// V_{n+offset c}·Σ_r r^p·(term t) in the moving × fixed part.
+    cross: Vec<[[f64; 3]; 4]>,
+    /// own\[c\]\[c'\] = Σ_b Σ_{p,q} φ_b\[c\]\[p\]·φ_b\[c'\]\[q\]·Σ_r r^{p+q}:
+    /// the fixed × fixed part as a form in the four V_{n+offset}.
+    own: [[f64; 4]; 4],
 }
 
 impl Plan {
@@ -414,11 +434,64 @@ impl Plan {
                 p *= rf;
             }
         }
+        // Aggregate the six blocks over their distinct moving terms.
+        let blocks: Vec<BlockPlan> = blocks;
+        let mut terms: Vec<(usize, bool)> = Vec::new();
+        for bp in &blocks {
+            for mv in &bp.moving {
+                if !terms.contains(&(mv.a, mv.plus)) {
+                    terms.push((mv.a, mv.plus));
+                }
+            }
+        }
+        let nt = terms.len();
+        let g: Vec<Vec<f64>> = blocks
+            .iter()
+            .map(|bp| {
+                let mut gb = vec![0.0f64; nt];
+                for mv in &bp.moving {
+                    let t = terms
+                        .iter()
+                        .position(|&x| x == (mv.a, mv.plus))
+                        .expect("term listed");
+                    gb[t] += mv.gamma;
+                }
+                gb
+            })
+            .collect();
+        let mut pair = vec![vec![0.0f64; nt]; nt];
+        let mut cross = vec![[[0.0f64; 3]; 4]; nt];
+        for (bp, gb) in blocks.iter().zip(&g) {
+            for t1 in 0..nt {
+                for t2 in 0..nt {
+                    pair[t1][t2] += gb[t1] * gb[t2];
+                }
+                for c in 0..4 {
+                    for p in 0..3 {
+                        cross[t1][c][p] += gb[t1] * bp.fixed[c][p];
+                    }
+                }
+            }
+        }
+        let mut own = [[0.0f64; 4]; 4];
+        for bp in &blocks {
+            for c1 in 0..4 {
+                for c2 in 0..4 {
+                    for p in 0..3 {
+                        for q in 0..3 {
+                            own[c1][c2] += bp.fixed[c1][p] * bp.fixed[c2][q] * power[p + q];
+                        }
+                    }
+                }
+            }
+        }
         Self {
             m,
             offsets: [0, h, l3 - h, l3],
-            blocks,
-            power,
+            terms,
+            pair,
+            cross,
+            own,
         }
     }
 }
@@ -437,6 +510,7 @@ fn run_sum(plan: &Plan, v: &[f64], start: usize, count: usize, s: &mut RunScratc
     let l3 = 3 * m;
     let len = count + l3 - 1; // samples the run reads
     let seg = &v[start..start + len];
+    let _guard = (len > BIG_RUN_LEN).then(|| BIG_RUN.lock().unwrap_or_else(|e| e.into_inner()));
     // Local samples less an affine function of time.
     let alpha = seg[0];
     let beta = if len > 1 {
@@ -500,79 +574,76 @@ fn run_sum(plan: &Plan, v: &[f64], start: usize, count: usize, s: &mut RunScratc
             [d0, uf * d0 - d1, uf * uf * d0 - 2.0 * uf * d1 + d2]
         }
     };
+    // Moving × moving: one pass per pair of distinct terms.
+    let nt = plan.terms.len();
     let mut total = 0.0;
-    for bp in &plan.blocks {
-        let mut acc = 0.0;
-        // Moving × moving.
-        for k1 in 0..4 {
-            for k2 in k1..4 {
-                let (p, q) = (bp.moving[k1], bp.moving[k2]);
-                let f = if k1 == k2 { 1.0 } else { 2.0 } * p.gamma * q.gamma;
-                let sum = if p.plus == q.plus {
-                    // t = n + σr; weight = #{r ∈ [0, m): 0 ≤ t − σr < count}.
-                    let mut s2 = 0.0;
-                    if p.plus {
-                        for t in 0..(cnt + r_max) {
-                            let w = t.min(r_max) - (t - cnt + 1).max(0) + 1;
-                            let t = t as usize;
-                            s2 += w as f64 * vv[t + p.a] * vv[t + q.a];
-                        }
-                    } else {
-                        for t in -r_max..cnt {
-                            let w = r_max.min(cnt - 1 - t) - (-t).max(0) + 1;
-                            s2 += w as f64
-                                * vv[(t + p.a as i64) as usize]
-                                * vv[(t + q.a as i64) as usize];
-                        }
+    for t1 in 0..nt {
+        for t2 in t1..nt {
+            let f = if t1 == t2 { 1.0 } else { 2.0 } * plan.pair[t1][t2];
+            if f == 0.0 {
+                continue;
+            }
+            let (pa, pplus) = plan.terms[t1];
+            let (qa, qplus) = plan.terms[t2];
+            let sum = if pplus == qplus {
+                // t = n + σr; weight = #{r ∈ [0, m): 0 ≤ t − σr < count}.
+                let mut s2 = 0.0;
+                if pplus {
+                    for t in 0..(cnt + r_max) {
+                        let w = t.min(r_max) - (t - cnt + 1).max(0) + 1;
+                        let t = t as usize;
+                        s2 += w as f64 * vv[t + pa] * vv[t + qa];
                     }
-                    s2
                 } else {
-                    let (pl, mi) = if p.plus { (p, q) } else { (q, p) };
-                    let mut s2 = 0.0;
-                    for qq in 0..(cnt + r_max) {
-                        let rl = (qq - cnt + 1).max(0);
-                        let rh = qq.min(r_max);
-                        let base = qq + mi.a as i64;
-                        let lo_t = (base - 2 * rh) as usize;
-                        let hi_t = (base - 2 * rl) as usize + 1;
-                        let inner = if base % 2 == 0 {
-                            even.sum(lo_t, hi_t)
-                        } else {
-                            odd.sum(lo_t, hi_t)
-                        };
-                        s2 += vv[qq as usize + pl.a] * inner;
+                    for t in -r_max..cnt {
+                        let w = r_max.min(cnt - 1 - t) - (-t).max(0) + 1;
+                        s2 +=
+                            w as f64 * vv[(t + pa as i64) as usize] * vv[(t + qa as i64) as usize];
                     }
-                    s2
-                };
-                acc += f * sum;
-            }
-        }
-        // With the fixed part F(n, r) = F0 + F1·r + F2·r².
-        let pw = &plan.power;
-        for n in 0..count {
-            let mut fc = [0.0f64; 3];
-            for (c, off) in plan.offsets.iter().enumerate() {
-                let x = vv[n + off];
-                for (i, f) in fc.iter_mut().enumerate() {
-                    *f += bp.fixed[c][i] * x;
                 }
-            }
-            let mut cross = 0.0;
-            for mv in &bp.moving {
-                let w = window(n + mv.a, mv.plus);
-                cross += mv.gamma * (fc[0] * w[0] + fc[1] * w[1] + fc[2] * w[2]);
-            }
-            let [f0, f1, f2] = fc;
-            let own = f0 * f0 * pw[0]
-                + 2.0 * f0 * f1 * pw[1]
-                + (f1 * f1 + 2.0 * f0 * f2) * pw[2]
-                + 2.0 * f1 * f2 * pw[3]
-                + f2 * f2 * pw[4];
-            acc += 2.0 * cross + own;
+                s2
+            } else {
+                let (pl, mi) = if pplus { (pa, qa) } else { (qa, pa) };
+                let mut s2 = 0.0;
+                for qq in 0..(cnt + r_max) {
+                    let rl = (qq - cnt + 1).max(0);
+                    let rh = qq.min(r_max);
+                    let base = qq + mi as i64;
+                    let lo_t = (base - 2 * rh) as usize;
+                    let hi_t = (base - 2 * rl) as usize + 1;
+                    let inner = if base % 2 == 0 {
+                        even.sum(lo_t, hi_t)
+                    } else {
+                        odd.sum(lo_t, hi_t)
+                    };
+                    s2 += vv[qq as usize + pl] * inner;
+                }
+                s2
+            };
+            total += f * sum;
         }
-        total += acc;
     }
-    total
+    // With the fixed part F_b(n, r) = Σ_c V_{n+offset c}·(φ_b[c][0] + φ_b[c][1]·r + φ_b[c][2]·r²),
+    // summed over the blocks through the aggregated tables of the plan.
+    let mut acc = 0.0;
+    for n in 0..count {
+        let vc: [f64; 4] = std::array::from_fn(|c| vv[n + plan.offsets[c]]);
+        let mut cross = 0.0;
+        for (t, &(a, plus)) in plan.terms.iter().enumerate() {
+            let w = window(n + a, plus);
+            let e = &plan.cross[t];
+            for (p, wp) in w.iter().enumerate() {
+                let coef = e[0][p] * vc[0] + e[1][p] * vc[1] + e[2][p] * vc[2] + e[3][p] * vc[3];
+                cross += coef * wp;
+            }
+        }
+        let mut own = 0.0;
+        for (c1, row) in plan.own.iter().enumerate() {
+            own += vc[c1] * (row[0] * vc[0] + row[1] * vc[1] + row[2] * vc[2] + row[3] * vc[3]);
+        }
+        acc += 2.0 * cross + own;
+    }
+    total + acc
 }
 
 /// G(m) by the exact O(N)-per-τ form: (Σ of mean squares, subsequences used).

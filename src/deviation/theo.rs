@@ -34,9 +34,14 @@ pub(crate) fn theo_factor(m: usize, n_phase: usize) -> Option<usize> {
 /// an i used when x_i … x_{i+m} holds no gap. (With k = m/2 − δ this is the
 /// SP 1065 form Σ_δ 1/(m/2−δ)·[(x_i − x_{i−δ+m/2}) + (x_{i+m} − x_{i+δ+m/2})]².)
 ///
-/// Fast form: k outside, i inside, so that each inner sum is one vectorised
-/// pass over four shifted copies of each gap-free stretch; the k are spread
-/// over threads and added back in order. O(N·m/2) per τ.
+/// Two exact forms, chosen by m alone (so a value never depends on the
+/// other τ asked for):
+///
+/// - m < [`BLOCK_FORM_FROM`]: k outside, i inside, each inner sum one
+///   vectorised pass over four shifted copies of each gap-free stretch;
+///   O(N·m/2) per τ.
+/// - from [`BLOCK_FORM_FROM`] on: the correlation form of [`theo1_block`]
+///   on blocks of 3m terms; O(N·log²m) per τ, memory O(m) per thread.
 pub(crate) fn theo1_sum(p: &Prepared, m: usize) -> (f64, usize) {
     let x = p.x;
     let n = x.len();
@@ -59,6 +64,28 @@ pub(crate) fn theo1_sum(p: &Prepared, m: usize) -> (f64, usize) {
     if used == 0 {
         return (0.0, 0);
     }
+    if m >= BLOCK_FORM_FROM {
+        // Blocks of at most 3m terms (the first index of each block and its
+        // number of terms), summed in record order.
+        let per_block = 3 * m;
+        let blocks: Vec<(usize, usize)> = stretches
+            .iter()
+            .flat_map(|&(a, b)| {
+                let terms = b - a - m;
+                (0..terms)
+                    .step_by(per_block)
+                    .map(move |s| (a + s, per_block.min(terms - s)))
+            })
+            .collect();
+        let sums: Vec<f64> = blocks
+            .par_iter()
+            .map_init(
+                rustfft::FftPlanner::<f64>::new,
+                |planner, &(start, count)| theo1_block(&x[start..start + count + m], m, planner),
+            )
+            .collect();
+        return (sums.iter().sum(), used);
+    }
     let per_k: Vec<f64> = (1..=m / 2)
         .into_par_iter()
         .map(|k| {
@@ -70,6 +97,215 @@ pub(crate) fn theo1_sum(p: &Prepared, m: usize) -> (f64, usize) {
         })
         .collect();
     (per_k.iter().sum(), used)
+}
+
+/// FFT size from which a block is computed alone (see [`theo1_block`]).
+const BIG_FFT: usize = 1 << 18;
+
+/// Held while a block of FFT size ≥ [`BIG_FFT`] is computed, so that the
+/// τ computed in parallel do not hold several record-sized buffers at once.
+static BIG_BLOCK: std::sync::Mutex<()> = std::sync::Mutex::new(());
+
+/// Theo1 factors from this one on use the correlation form
+/// ([`theo1_block`]); below it the direct sum is as fast.
+pub(crate) const BLOCK_FORM_FROM: usize = 192;
+
+/// The Theo1 double sum over the n = seg.len() − m terms i = 0 … n−1 of a
+/// gap-free segment (m even), exactly, in O((n + m)·log(n + m) + m·log²m).
+///
+/// With y the segment less the straight line through its end points (Theo1
+/// is exactly invariant to a + b·t), Δ_k(i) = y_{i+k} − y_i and L = n + m,
+/// each term is (Δ_k(i+m−k) − Δ_k(i))², and the sum over i of each product
+/// is a lagged product sum of y over a range of i. Each such range sum is
+/// the whole-segment autocorrelation R(ℓ) = Σ_{t<L−ℓ} y_t·y_{t+ℓ} less
+/// products that lie wholly within the first m samples (autocorrelation
+/// hd(ℓ) of y_0 … y_{m−1}) or the last m (tl(ℓ) of y_n … y_{L−1}):
+///
+/// - Σ_i Δ_k(i)² = Σ_{i<n}(y_{i+k}² + y_i²) − 2(R(k) − tl(k));
+/// - Σ_i Δ_k(i+m−k)² = Σ_{i<n}(y_{i+m}² + y_{i+m−k}²) − 2(R(k) − hd(k));
+/// - Σ_i Δ_k(i)·Δ_k(i+m−k) = [R(m−k) − hd(m−k)] − P_k − R(m) + [R(m−k) − tl(m−k)],
+///   with P_k = Σ_{i<n} y_{i+k}·y_{i+m−k} = R(m−2k) − H_k − T_k.
+///
+/// H_k = Σ_{j<k} y_j·y_{j+m−2k} are the products at lag m − 2k whose two
+/// indices add to less than m (a triangle, not a segment), and T_k the same
+/// at the other end (H_k of the reversed segment); their weighted sum
+/// Σ_k H_k/k comes from [`head_triangle`]. R, hd and tl come from FFTs; the
+/// sums of squares from double-double prefix sums. Rounding: the products
+/// are of a local, detrended y over 4m samples, so the cancellation is
+/// bounded (tested to 1e-10 relative against the direct sum, random-walk FM
+/// included).
+fn theo1_block(seg: &[f64], m: usize, planner: &mut rustfft::FftPlanner<f64>) -> f64 {
+    use rustfft::num_complex::Complex;
+    let len = seg.len();
+    let n = len - m;
+    let half = m / 2;
+    let slope = (seg[len - 1] - seg[0]) / (len - 1) as f64;
+    let y: Vec<f64> = seg
+        .iter()
+        .enumerate()
+        .map(|(t, &v)| (v - seg[0]) - slope * t as f64)
+        .collect();
+    // A large block takes the big-block lock (one at a time across the τ
+    // computed in parallel) and its own planner (its twiddles freed after).
+    let size = (len + m + 1).next_power_of_two();
+    let _guard = (size >= BIG_FFT).then(|| BIG_BLOCK.lock().unwrap_or_else(|e| e.into_inner()));
+    let mut own_planner;
+    let planner = if size >= BIG_FFT {
+        own_planner = rustfft::FftPlanner::<f64>::new();
+        &mut own_planner
+    } else {
+        planner
+    };
+    // R(ℓ), ℓ = 0 … m (zero-padded: no wrap-around). Only forward plans:
+    // the inverse of a real even spectrum P is the forward transform of P
+    // (over the size), read at index 0 and size − ℓ.
+    let mut buf: Vec<Complex<f64>> = Vec::with_capacity(size);
+    buf.extend(y.iter().map(|&v| Complex::new(v, 0.0)));
+    buf.resize(size, Complex::new(0.0, 0.0));
+    let fwd = planner.plan_fft_forward(size);
+    fwd.process(&mut buf);
+    for c in &mut buf {
+        *c = Complex::new(c.norm_sqr(), 0.0);
+    }
+    fwd.process(&mut buf);
+    let scale = 1.0 / size as f64;
+    let r: Vec<f64> = (0..=m).map(|l| buf[(size - l) % size].re * scale).collect();
+    // hd and tl at once: head in the real part, tail in the imaginary part;
+    // their spectra A, B from Z(k) and Z(−k), then |A|² + i|B|² back
+    // (inverse as conj ∘ forward ∘ conj), in the same buffer.
+    let size2 = (2 * m + 1).next_power_of_two();
+    buf.truncate(size2);
+    buf.fill(Complex::new(0.0, 0.0));
+    for t in 0..m {
+        buf[t] = Complex::new(y[t], y[n + t]);
+    }
+    let fwd2 = planner.plan_fft_forward(size2);
+    fwd2.process(&mut buf);
+    let spectra = |zk: Complex<f64>, zc: Complex<f64>| {
+        let a = (zk + zc) * 0.5;
+        let b = (zk - zc) * Complex::new(0.0, -0.5);
+        // conj of |A|² + i|B|² for the inverse by the forward transform.
+        Complex::new(a.norm_sqr(), -b.norm_sqr())
+    };
+    for k in 0..=size2 / 2 {
+        let j = (size2 - k) % size2;
+        let (zk, zj) = (buf[k], buf[j]);
+        buf[k] = spectra(zk, zj.conj());
+        buf[j] = spectra(zj, zk.conj());
+    }
+    fwd2.process(&mut buf);
+    let scale2 = 1.0 / size2 as f64;
+    let hd: Vec<f64> = buf[..=m].iter().map(|c| c.re * scale2).collect();
+    let tl: Vec<f64> = buf[..=m].iter().map(|c| -c.im * scale2).collect();
+    drop(buf);
+    let sq: Vec<f64> = y.iter().map(|v| v * v).collect();
+    let q = super::modtotal::PrefixSums::new(&sq);
+    drop(sq);
+    let sqw = |a: usize| q.sum(a, a + n);
+    let (s0, sm) = (sqw(0), sqw(m));
+    let mut acc = 0.0;
+    for k in 1..=half {
+        let d1 = sqw(k) + s0 - 2.0 * (r[k] - tl[k]);
+        let d2 = sm + sqw(m - k) - 2.0 * (r[k] - hd[k]);
+        let x = (r[m - k] - hd[m - k]) - r[m - 2 * k] - r[m] + (r[m - k] - tl[m - k]);
+        acc += (d1 + d2 - 2.0 * x) / k as f64;
+    }
+    let tail: Vec<f64> = y[n..].iter().rev().copied().collect();
+    let tri = head_triangle(&y[..m], planner) + head_triangle(&tail, planner);
+    acc - 2.0 * tri
+}
+
+/// Σ_{k=1}^{m/2} (1/k)·Σ_{j<k} z_j·z_{j+m−2k} for z of even length m: the
+/// products z_u·z_v, u ≤ v, v − u even, u + v < m, each weighted by
+/// 2/(m − (v − u)). With w = m − 1 − v and b_w = z_{m−1−w} this is
+/// Σ_{u≤w} h(u+w)·z_u·b_w, h(s) = 2/(s+1) for odd s < m, else 0: split
+/// [0, m) in halves, the pairs across the split are one convolution (FFT),
+/// the pairs within each half recurse. O(m·log²m).
+fn head_triangle(z: &[f64], planner: &mut rustfft::FftPlanner<f64>) -> f64 {
+    let m = z.len();
+    let b: Vec<f64> = z.iter().rev().copied().collect();
+    let h: Vec<f64> = (0..2 * m)
+        .map(|s| {
+            if s % 2 == 1 && s < m {
+                2.0 / (s + 1) as f64
+            } else {
+                0.0
+            }
+        })
+        .collect();
+    lower_pairs(z, &b, &h, 0, m, planner)
+}
+
+/// Σ_{lo ≤ u ≤ w < hi} h(u+w)·a_u·b_w with h(s) = 0 for s ≥ h.len() / 2
+/// (see [`head_triangle`]).
+fn lower_pairs(
+    a: &[f64],
+    b: &[f64],
+    h: &[f64],
+    lo: usize,
+    hi: usize,
+    planner: &mut rustfft::FftPlanner<f64>,
+) -> f64 {
+    let reach = h.len() / 2; // h(s) = 0 from s = reach on
+    if 2 * lo >= reach || hi <= lo {
+        return 0.0;
+    }
+    if hi - lo <= 64 {
+        let mut s = 0.0;
+        for u in lo..hi {
+            let mut inner = 0.0;
+            for w in u..hi {
+                inner += h[u + w] * b[w];
+            }
+            s += a[u] * inner;
+        }
+        return s;
+    }
+    let mid = (lo + hi) / 2;
+    let mut s = lower_pairs(a, b, h, lo, mid, planner) + lower_pairs(a, b, h, mid, hi, planner);
+    if lo + mid < reach {
+        s += cross_pairs(&a[lo..mid], &b[mid..hi], &h[lo + mid..], planner);
+    }
+    s
+}
+
+/// Σ_{u,w} h(u+w)·a_u·b_w over all u < a.len(), w < b.len() (h indexed
+/// from 0 at u = w = 0): Σ_s h(s)·(a ∗ b)(s), the convolution by one FFT
+/// of a + i·b (the imaginary part of the inverse of its square is 2·a ∗ b;
+/// the inverse is the forward transform read at −t).
+fn cross_pairs(a: &[f64], b: &[f64], h: &[f64], planner: &mut rustfft::FftPlanner<f64>) -> f64 {
+    use rustfft::num_complex::Complex;
+    let top = (a.len() + b.len() - 1).min(h.len());
+    if a.len() * b.len() <= 4096 {
+        let mut s = 0.0;
+        for (u, &av) in a.iter().enumerate() {
+            for (w, &bv) in b.iter().enumerate().take(top.saturating_sub(u)) {
+                s += h[u + w] * av * bv;
+            }
+        }
+        return s;
+    }
+    let size = (a.len() + b.len() - 1).next_power_of_two();
+    let mut buf = vec![Complex::new(0.0, 0.0); size];
+    for (c, &v) in buf.iter_mut().zip(a) {
+        c.re = v;
+    }
+    for (c, &v) in buf.iter_mut().zip(b) {
+        c.im = v;
+    }
+    let fwd = planner.plan_fft_forward(size);
+    fwd.process(&mut buf);
+    for c in &mut buf {
+        *c = *c * *c;
+    }
+    // Inverse by the forward transform read backwards.
+    fwd.process(&mut buf);
+    let scale = 0.5 / size as f64;
+    h[..top]
+        .iter()
+        .enumerate()
+        .map(|(t, &hv)| hv * buf[(size - t) % size].im * scale)
+        .sum()
 }
 
 /// Σ_{i<n} (x_{i+o0} − x_{i+o1} − x_{i+o2} + x_{i+o3})², vectorisable.
@@ -311,6 +547,73 @@ mod tests {
     use super::*;
     use rand::{Rng, SeedableRng};
     use rand_chacha::ChaCha8Rng;
+
+    /// The triangle sum of `head_triangle` (D&C with FFT) equals its
+    /// definition summed directly, for lengths across the direct/FFT
+    /// thresholds (analytic identity; 1e-12 relative).
+    #[test]
+    fn head_triangle_equals_its_definition() {
+        let mut rng = ChaCha8Rng::seed_from_u64(8);
+        let mut planner = rustfft::FftPlanner::new();
+        for m in [2usize, 10, 64, 66, 130, 256, 600, 1000] {
+            let z: Vec<f64> = (0..m).map(|_| rng.gen_range(-1.0..1.0)).collect();
+            let mut want = 0.0;
+            for k in 1..=m / 2 {
+                let mut s = 0.0;
+                for j in 0..k {
+                    s += z[j] * z[j + m - 2 * k];
+                }
+                want += s / k as f64;
+            }
+            let got = head_triangle(&z, &mut planner);
+            assert!(
+                (got - want).abs() <= 1e-12 * want.abs().max(1.0),
+                "m={m}: {got} vs {want}"
+            );
+        }
+    }
+
+    /// The block correlation form equals the direct double sum (SP 1065
+    /// eq. 31) to 1e-10 relative on white + random-walk phase and on
+    /// random-walk FM with a frequency offset, for blocks of n terms of
+    /// several shapes (n < m, n = m, n = 3m).
+    #[test]
+    fn block_form_equals_the_direct_sum() {
+        let mut rng = ChaCha8Rng::seed_from_u64(9);
+        let (mut f, mut ph, mut w) = (0.0, 0.0, 0.0);
+        let len = 1400;
+        let a: Vec<f64> = (0..len)
+            .map(|i| {
+                w += rng.gen_range(-1.0..1.0) * 1e-9;
+                1e-6 + w + rng.gen_range(-1.0..1.0) * 3e-9 + 5e-11 * i as f64
+            })
+            .collect();
+        let b: Vec<f64> = (0..len)
+            .map(|_| {
+                f += rng.gen_range(-1.0..1.0) * 1e-12;
+                ph += f + 1e-9;
+                ph
+            })
+            .collect();
+        let mut planner = rustfft::FftPlanner::new();
+        for x in [a, b] {
+            for (m, n) in [(200usize, 50usize), (256, 256), (300, 900), (1000, 399)] {
+                let seg = &x[..n + m];
+                let p = Prepared::new(seg, 1.0);
+                let half = m / 2;
+                let mut want = 0.0;
+                for k in 1..=half {
+                    want += sum_sq_4(seg, [0, k, m - k, m], n) / k as f64;
+                }
+                let got = theo1_block(seg, m, &mut planner);
+                assert!(
+                    (got - want).abs() <= 1e-10 * want.abs(),
+                    "m={m} n={n}: {got} vs {want}"
+                );
+                assert_eq!(theo1_sum(&p, m).1, n);
+            }
+        }
+    }
 
     /// All-factor Theo1 sums (autocorrelation form) equal the direct sum
     /// (SP 1065 eq. 31 as in `theo1_sum`) to 1e-10 relative, on white plus
