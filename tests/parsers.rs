@@ -273,7 +273,10 @@ fn sampling_intervals_are_the_same_in_every_entry_point() {
 
 /// Weighting filters (`jitter --filter`, DUT `jitter.filters`): one order
 /// range, 1 … 8, everywhere.
-const FILTERS: &[(&str, Option<(bool, u32, f64)>)] = &[
+/// Highpass or not, order, corner (Hz).
+type FilterValue = (bool, u32, f64);
+
+const FILTERS: &[(&str, Option<FilterValue>)] = &[
     ("highpass:1:12k", Some((true, 1, 12e3))),
     ("hp:2:12kHz", Some((true, 2, 12e3))),
     ("lowpass:8:5MHz", Some((false, 8, 5e6))),

@@ -169,10 +169,7 @@ pub fn run(args: Args) -> Result<Outcome> {
     let series = args.input.load(&args.file)?;
     progress.stage("computing");
     let tau0 = series.record.tau0();
-    let noise = match &args.model {
-        Some(m) => Some(m.power_law(0.5 / tau0)),
-        None => None,
-    };
+    let noise = args.model.map(|m| m.power_law(0.5 / tau0));
     let opts = FromRecord {
         te0,
         settle: args.settle.map(Duration::seconds),
