@@ -63,6 +63,8 @@
 //!
 //! Layers (`docs/design.md` §3, and `DEVELOPERS.md`):
 //! - [`units`] — parse and format durations, frequencies, SI prefixes, dB.
+//! - [`parse`] — one parser per concept (duration, frequency, rate, filter,
+//!   estimator list, model), shared by the command line and the DUT file.
 //! - [`record`] — phase and fractional-frequency records, gaps as NaN.
 //! - [`io`] — readers (time series, L(f) tables, DUT files) and atomic writers.
 //! - [`prepare`] — drift, outliers, gaps, decimation.
@@ -82,6 +84,7 @@ pub mod error;
 pub mod holdover;
 pub mod io;
 pub mod model;
+pub mod parse;
 pub mod plot;
 pub mod prepare;
 pub mod record;

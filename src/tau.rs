@@ -8,7 +8,7 @@
 //!   see [`crate::units::parse_duration`]); each must be a whole multiple of τ0.
 
 use crate::error::{Error, Result};
-use crate::units::{format_si, parse_duration};
+use crate::units::{format_si, parse_duration, UnitError};
 
 /// A τ grid, as chosen on the command line with `--taus`.
 #[derive(Debug, Clone, PartialEq)]
@@ -23,6 +23,13 @@ pub enum TauGrid {
     PerDecade(u32),
     /// Explicit averaging times in seconds.
     Explicit(Vec<f64>),
+}
+
+impl std::str::FromStr for TauGrid {
+    type Err = UnitError;
+    fn from_str(text: &str) -> Result<Self, UnitError> {
+        TauGrid::parse(text)
+    }
 }
 
 const GRID_EXPECTED: &str =
@@ -46,11 +53,15 @@ impl TauGrid {
     ///            TauGrid::Explicit(vec![1.0, 10.0, 100.0, 3600.0]));
     /// assert!(TauGrid::parse("weekly").is_err());
     /// ```
-    pub fn parse(text: &str) -> Result<Self> {
+    pub fn parse(text: &str) -> Result<Self, UnitError> {
         let t = text.trim();
         let lower = t.to_ascii_lowercase();
+        let invalid = |reason: String| UnitError::Invalid {
+            text: t.to_string(),
+            reason,
+        };
         match lower.as_str() {
-            "" => return Err(Error::invalid(format!("empty τ grid: {GRID_EXPECTED}"))),
+            "" => return Err(invalid(format!("empty τ grid: {GRID_EXPECTED}"))),
             "octave" => return Ok(TauGrid::Octave),
             "decade" => return Ok(TauGrid::Decade),
             "all" => return Ok(TauGrid::All),
@@ -59,7 +70,7 @@ impl TauGrid {
         if let Some(n) = lower.strip_prefix("log:") {
             return match n.trim().parse::<u32>() {
                 Ok(k) if (1..=1000).contains(&k) => Ok(TauGrid::PerDecade(k)),
-                _ => Err(Error::invalid(format!(
+                _ => Err(invalid(format!(
                     "τ grid '{t}': '{n}' is not a number of points per decade from 1 to 1000"
                 ))),
             };
@@ -68,14 +79,12 @@ impl TauGrid {
         for part in t.split(',') {
             let p = part.trim();
             let tau = parse_duration(p).map_err(|_| {
-                Error::invalid(format!(
+                invalid(format!(
                     "τ grid '{t}': '{p}' is not a duration; {GRID_EXPECTED}"
                 ))
             })?;
             if tau <= 0.0 || tau.is_nan() {
-                return Err(Error::invalid(format!(
-                    "τ grid '{t}': τ = '{p}' must be positive"
-                )));
+                return Err(invalid(format!("τ grid '{t}': τ = '{p}' must be positive")));
             }
             taus.push(tau);
         }

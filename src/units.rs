@@ -6,7 +6,8 @@
 
 use thiserror::Error;
 
-/// A value with a unit could not be understood.
+/// A value written by a person (an option value, a DUT-file value) could
+/// not be understood. One variant per cause; each names the text as given.
 #[derive(Debug, Error, Clone, PartialEq)]
 pub enum UnitError {
     /// The text is not a number followed by a known suffix.
@@ -25,6 +26,64 @@ pub enum UnitError {
         /// The text as given.
         text: String,
     },
+    /// A rate was given without the time it is per.
+    #[error("'{text}' has no time unit: give a unit, e.g. 5e-11/day, 1ppb/day, 2e-12/24h (a bare rate could be per second or per day)")]
+    NoTime {
+        /// The text as given.
+        text: String,
+    },
+    /// The value must be above zero.
+    #[error("'{text}': expected a positive {what}")]
+    NotPositive {
+        /// The text as given.
+        text: String,
+        /// What was being parsed.
+        what: &'static str,
+    },
+    /// The value is outside the range this quantity takes.
+    #[error("'{text}': {what} must be {range}")]
+    OutOfRange {
+        /// The text as given.
+        text: String,
+        /// The part out of range ("filter order", "confidence", …).
+        what: &'static str,
+        /// The accepted range in words.
+        range: &'static str,
+    },
+    /// A list has an empty entry (`oadev,,mdev`).
+    #[error("'{text}' has an empty entry: expected {what} separated by commas, e.g. {example}")]
+    EmptyEntry {
+        /// The list as given.
+        text: String,
+        /// What the entries are.
+        what: &'static str,
+        /// A valid list.
+        example: &'static str,
+    },
+    /// A name that is not one of the known ones, or a value the quantity's
+    /// own rules refuse (the reason says which).
+    #[error("{reason}")]
+    Invalid {
+        /// The text as given.
+        text: String,
+        /// What was expected, with the text.
+        reason: String,
+    },
+}
+
+impl UnitError {
+    /// The text the error is about, as given.
+    pub fn text(&self) -> &str {
+        match self {
+            UnitError::Bad { text, .. }
+            | UnitError::NoUnit { text }
+            | UnitError::NoTime { text }
+            | UnitError::NotPositive { text, .. }
+            | UnitError::OutOfRange { text, .. }
+            | UnitError::EmptyEntry { text, .. }
+            | UnitError::Invalid { text, .. } => text,
+        }
+    }
 }
 
 fn bad(text: &str, what: &'static str, expected: &'static str) -> UnitError {
@@ -32,6 +91,18 @@ fn bad(text: &str, what: &'static str, expected: &'static str) -> UnitError {
         text: text.to_string(),
         what,
         expected,
+    }
+}
+
+/// `value · scale`, exact to the last bit for the decimal submultiples: a
+/// scale below 1 (10⁻³, 10⁻⁹, …) is applied as a division by its exact
+/// reciprocal (10³, 10⁹, …), so that `150fs` is the double nearest to
+/// 150·10⁻¹⁵, as the literal `150e-15` is.
+pub fn scaled(value: f64, scale: f64) -> f64 {
+    if scale < 1.0 && scale > 0.0 {
+        value / (1.0 / scale).round()
+    } else {
+        value * scale
     }
 }
 
@@ -64,7 +135,29 @@ fn split_number(text: &str) -> Option<(f64, &str)> {
 }
 
 const DURATION_EXPECTED: &str =
-    "a number of seconds or a number with one of fs ps ns us µs ms s min h d (e.g. 100ms, 2.5us, 24h, 2d)";
+    "a number of seconds or a number with one of fs ps ns us µs ms s min h d week month year (e.g. 100ms, 2.5us, 24h, 2d)";
+
+/// Seconds in one of the time units people write after a number: the SI
+/// submultiples of the second down to fs, and min, h, d (day), week, month
+/// (30 d) and year (365.25 d, the Julian year of the IAU). `None` for an
+/// unknown unit; the empty unit is the second.
+pub fn time_unit_seconds(unit: &str) -> Option<f64> {
+    Some(match unit {
+        "" | "s" | "sec" | "secs" | "second" | "seconds" => 1.0,
+        "fs" => 1e-15,
+        "ps" => 1e-12,
+        "ns" => 1e-9,
+        "us" | "µs" | "μs" => 1e-6,
+        "ms" => 1e-3,
+        "m" | "min" | "mins" | "minute" | "minutes" => 60.0,
+        "h" | "hr" | "hrs" | "hour" | "hours" => 3600.0,
+        "d" | "day" | "days" => 86400.0,
+        "wk" | "week" | "weeks" => 7.0 * 86400.0,
+        "month" | "months" => 30.0 * 86400.0,
+        "yr" | "year" | "years" => 365.25 * 86400.0,
+        _ => return None,
+    })
+}
 
 /// Parse a duration such as `1s`, `100ms`, `2.5us`, `24h`, `2d` or plain
 /// seconds (`0.001`). Returns seconds.
@@ -77,19 +170,9 @@ const DURATION_EXPECTED: &str =
 /// ```
 pub fn parse_duration(text: &str) -> Result<f64, UnitError> {
     let (v, suffix) = split_number(text).ok_or_else(|| bad(text, "duration", DURATION_EXPECTED))?;
-    let scale = match suffix {
-        "" | "s" | "sec" => 1.0,
-        "fs" => 1e-15,
-        "ps" => 1e-12,
-        "ns" => 1e-9,
-        "us" | "µs" | "μs" => 1e-6,
-        "ms" => 1e-3,
-        "min" | "m" => 60.0,
-        "h" | "hr" => 3600.0,
-        "d" | "day" | "days" => 86400.0,
-        _ => return Err(bad(text, "duration", DURATION_EXPECTED)),
-    };
-    let s = v * scale;
+    let scale =
+        time_unit_seconds(suffix).ok_or_else(|| bad(text, "duration", DURATION_EXPECTED))?;
+    let s = scaled(v, scale);
     if !s.is_finite() {
         return Err(bad(text, "duration", DURATION_EXPECTED));
     }
@@ -120,7 +203,7 @@ pub fn parse_duration_with_unit(text: &str) -> Result<f64, UnitError> {
 }
 
 const FREQUENCY_EXPECTED: &str =
-    "a number of hertz or a number with one of Hz k kHz M MHz G GHz (e.g. 10MHz, 156.25M, 12k)";
+    "a number of hertz or a number with one of µHz mHz Hz k kHz M MHz G GHz (e.g. 10MHz, 156.25M, 12k)";
 
 /// Parse a frequency such as `10MHz`, `156.25M`, `12k`, `1.5GHz` or plain
 /// hertz. Returns hertz.
@@ -140,6 +223,7 @@ pub fn parse_frequency(text: &str) -> Result<f64, UnitError> {
         .unwrap_or(suffix);
     let scale = match s {
         "" => 1.0,
+        "u" | "µ" | "μ" => 1e-6,
         "m" => 1e-3,
         "k" | "K" => 1e3,
         "M" => 1e6,
@@ -147,7 +231,7 @@ pub fn parse_frequency(text: &str) -> Result<f64, UnitError> {
         "T" => 1e12,
         _ => return Err(bad(text, "frequency", FREQUENCY_EXPECTED)),
     };
-    let f = v * scale;
+    let f = scaled(v, scale);
     if !f.is_finite() {
         return Err(bad(text, "frequency", FREQUENCY_EXPECTED));
     }
@@ -172,7 +256,7 @@ pub fn parse_fraction(text: &str) -> Result<f64, UnitError> {
         .find_map(|(s, k)| t.strip_suffix(s).map(|n| (n.trim(), *k)))
         .unwrap_or((t, 1.0));
     match num.parse::<f64>() {
-        Ok(v) if v.is_finite() => Ok(v * scale),
+        Ok(v) if v.is_finite() => Ok(scaled(v, scale)),
         _ => Err(bad(text, "fractional frequency", FRACTION_EXPECTED)),
     }
 }

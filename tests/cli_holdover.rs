@@ -169,8 +169,10 @@ fn fitted_model_from_a_noisy_record() {
     assert!((got_d / d - 1.0).abs() < 0.05, "{got_d} vs {d}");
 }
 
+/// A bad command line: exit status 2 (issue 14), the words in the message,
+/// nothing written.
 fn assert_error(out: &Output, words: &[&str], not_written: &Path) {
-    assert_eq!(out.status.code(), Some(1), "{}", stderr(out));
+    assert_eq!(out.status.code(), Some(2), "{}", stderr(out));
     let e = stderr(out);
     assert!(e.starts_with("tauwise: error: "), "{e}");
     for w in words {
@@ -528,7 +530,7 @@ fn y0_given_on_the_command_line() {
     let out = run_flat("24h", &["--y0-sigma", "1e-11"]);
     assert_eq!(out.status.code(), Some(2), "{}", stderr(&out));
     let out = run_flat("24h", &["--y0", "fast"]);
-    assert_eq!(out.status.code(), Some(1));
+    assert_eq!(out.status.code(), Some(2));
     assert!(stderr(&out).contains("--y0"), "{}", stderr(&out));
 }
 

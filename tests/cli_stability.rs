@@ -127,7 +127,8 @@ fn unknown_estimator_is_an_error_and_writes_nothing() {
         .arg(&out_file)
         .output()
         .unwrap();
-    assert_eq!(out.status.code(), Some(1));
+    // A bad command line: exit status 2 (issue 14).
+    assert_eq!(out.status.code(), Some(2));
     let err = String::from_utf8_lossy(&out.stderr);
     assert!(err.contains("unknown estimator 'wobble'"), "{err}");
     assert!(
@@ -164,8 +165,8 @@ fn bad_confidence_is_an_error() {
             .args(["--tau0", "1", "--confidence", c])
             .output()
             .unwrap();
-        assert_eq!(out.status.code(), Some(1), "confidence {c}");
-        assert!(String::from_utf8_lossy(&out.stderr).contains("outside (0, 1)"));
+        assert_eq!(out.status.code(), Some(2), "confidence {c}");
+        assert!(String::from_utf8_lossy(&out.stderr).contains("strictly between 0 and 1"));
     }
 }
 
@@ -346,6 +347,6 @@ fn combined_view_with_a_phase_noise_table_and_a_plot() {
         .arg(&table)
         .output()
         .unwrap();
-    assert_eq!(out.status.code(), Some(1));
-    assert!(String::from_utf8_lossy(&out.stderr).contains("--lf needs --carrier"));
+    assert_eq!(out.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&out.stderr).contains("--lf: needs --carrier"));
 }

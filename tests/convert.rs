@@ -23,11 +23,22 @@ fn ok_json(args: &[&str]) -> serde_json::Value {
     serde_json::from_slice(&o.stdout).expect("valid JSON")
 }
 
+/// Bad data: exit status 1.
 fn fails(args: &[&str]) -> String {
+    fails_with(args, 1)
+}
+
+/// A bad command line (a value or a combination of options): exit status 2
+/// (issue 14).
+fn refused(args: &[&str]) -> String {
+    fails_with(args, 2)
+}
+
+fn fails_with(args: &[&str], code: i32) -> String {
     let o = bin().args(args).output().unwrap();
     assert_eq!(
         o.status.code(),
-        Some(1),
+        Some(code),
         "{args:?} should fail: {}",
         String::from_utf8_lossy(&o.stdout)
     );
@@ -278,11 +289,11 @@ fn bad_input() {
     let ex = &j["bands"][0]["extrapolated"][0];
     assert_eq!(ex[0].as_f64(), Some(1e6));
     assert_eq!(ex[1].as_f64(), Some(20e6));
-    let e = fails(&["jitter", &ok, "--band", "12k:20k"]);
+    let e = refused(&["jitter", &ok, "--band", "12k:20k"]);
     assert!(e.contains("--carrier"), "{e}");
-    let e = fails(&["convert", "--lf", &ok, "--to", "sigma"]);
+    let e = refused(&["convert", "--lf", &ok, "--to", "sigma"]);
     assert!(e.contains("--carrier"), "{e}");
-    let e = fails(&[
+    let e = refused(&[
         "jitter",
         &ok,
         "--carrier",
@@ -293,7 +304,7 @@ fn bad_input() {
         "bandpass:1:3k",
     ]);
     assert!(e.contains("highpass:ORDER:FC"), "{e}");
-    let e = fails(&["convert", "--model", "h0=1e-22", "--to", "sigma"]);
+    let e = refused(&["convert", "--model", "h0=1e-22", "--to", "sigma"]);
     assert!(e.contains("fh"), "{e}");
     let one = write(dir.path(), "one.csv", "10,-120\n");
     let e = fails(&["jitter", &one, "--carrier", "10M", "--band", "12k:20k"]);
@@ -355,7 +366,7 @@ fn spectrum_and_record_jitter() {
         (rms_s / want_s - 1.0).abs() < 0.05,
         "{rms_s:e} vs {want_s:e}"
     );
-    let e = fails(&["spectrum", &r, "--tau0", "1ms"]);
+    let e = refused(&["spectrum", &r, "--tau0", "1ms"]);
     assert!(e.contains("--carrier"), "{e}");
     let j = ok_json(&["spectrum", &r, "--tau0", "1ms", "--quantity", "sx"]);
     assert!(j["points"][0]["lf_dbc_hz"].is_null());

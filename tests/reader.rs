@@ -563,8 +563,18 @@ fn bin() -> Command {
 }
 
 /// Run `tauwise inspect` on `file` with `args` and `-o out.json`; it must
-/// fail with exit code 1, print the expected text, and write no output.
+/// fail with exit code 1 (bad data), print the expected text, and write no
+/// output.
 fn cli_fails(file: &Path, args: &[&str], expect: &str) {
+    cli_fails_with(file, args, expect, 1)
+}
+
+/// As [`cli_fails`] for a bad command line: exit code 2 (issue 14).
+fn cli_refused(file: &Path, args: &[&str], expect: &str) {
+    cli_fails_with(file, args, expect, 2)
+}
+
+fn cli_fails_with(file: &Path, args: &[&str], expect: &str, code: i32) {
     let dir = tempfile::tempdir().unwrap();
     let out = dir.path().join("out.json");
     let o = bin()
@@ -576,7 +586,7 @@ fn cli_fails(file: &Path, args: &[&str], expect: &str) {
         .output()
         .unwrap();
     let err = String::from_utf8_lossy(&o.stderr);
-    assert_eq!(o.status.code(), Some(1), "{file:?} {args:?}: {err}");
+    assert_eq!(o.status.code(), Some(code), "{file:?} {args:?}: {err}");
     assert!(err.starts_with("tauwise: error: "), "{err}");
     assert!(err.contains(expect), "expected '{expect}' in: {err}");
     assert!(!out.exists(), "no output may be written");
@@ -624,9 +634,9 @@ fn cli_bad_inputs_exit_non_zero_and_write_nothing() {
         "value column 3",
     );
     cli_fails(&w("irr.txt", b"0 1\n1 2\n2 3\n3.5 4\n"), &[], "irr.txt:4:");
-    cli_fails(&w("ok.txt", b"1\n2\n"), &["--tau0", "0s"], "positive");
-    cli_fails(&w("ok2.txt", b"1\n2\n"), &["--tau0", "-1s"], "positive");
-    cli_fails(
+    cli_refused(&w("ok.txt", b"1\n2\n"), &["--tau0", "0s"], "positive");
+    cli_refused(&w("ok2.txt", b"1\n2\n"), &["--tau0", "-1s"], "positive");
+    cli_refused(
         &w("ok3.txt", b"1\n2\n"),
         &["--tau0", "1s", "--units", "furlongs"],
         "'furlongs'",

@@ -501,7 +501,8 @@ fn cli_report_end_to_end() {
         "--lf".as_ref(),
         "x.csv".as_ref(),
     ]);
-    assert_eq!(o.status.code(), Some(1));
+    // A bad command line: exit status 2 (issue 14).
+    assert_eq!(o.status.code(), Some(2));
     assert!(String::from_utf8_lossy(&o.stderr).contains("--carrier"));
 }
 

@@ -435,7 +435,8 @@ fn cli_bad_input() {
             .arg(&out)
             .output()
             .unwrap();
-        assert_eq!(st.status.code(), Some(1), "{args:?}");
+        // A bad command line: exit status 2 (issue 14).
+        assert_eq!(st.status.code(), Some(2), "{args:?}");
         let err = String::from_utf8_lossy(&st.stderr);
         assert!(err.starts_with("tauwise: error:"), "{err}");
         assert!(err.contains(word), "{args:?}: {err}");

@@ -134,7 +134,7 @@ fn wander_tau_range_gives_partial_coverage() {
         assert!(m["checked_range"]["to"].as_f64().unwrap() <= 100.0);
     }
     let out = run("1:100");
-    assert_eq!(out.status.code(), Some(1));
+    assert_eq!(out.status.code(), Some(2)); // a bad command line (issue 14)
     assert!(stderr(&out).contains("give a unit"), "{}", stderr(&out));
 }
 
@@ -263,7 +263,7 @@ fn jitter_limit_and_gate() {
     assert_eq!(json(&out)["bands"][0]["verdict"], "meets");
     // A limit without its unit decides nothing: refused.
     let out = run(&["--limit", "1.5"]);
-    assert_eq!(out.status.code(), Some(1));
+    assert_eq!(out.status.code(), Some(2)); // a bad command line (issue 14)
     assert!(stderr(&out).contains("give a unit"), "{}", stderr(&out));
     // A UI limit without a line rate cannot be judged.
     let out = run(&[
@@ -315,7 +315,7 @@ fn jitter_band_beyond_the_table_fails_the_gate() {
         .args(["--band", "10k:100k", "--limit", "1ns", "--limit", "2ns"])
         .output()
         .unwrap();
-    assert_eq!(out.status.code(), Some(1));
+    assert_eq!(out.status.code(), Some(2)); // a bad command line (issue 14)
     assert!(stderr(&out).contains("one per band"), "{}", stderr(&out));
 }
 

@@ -6,6 +6,9 @@ use clap::{Args, ValueEnum};
 use std::io::Write;
 use std::path::{Path, PathBuf};
 use tauwise::io::series::{read_series, Series, SeriesOptions};
+use tauwise::parse::{Duration, Frequency, Probability};
+use tauwise::tau::TauGrid;
+use tauwise::units::{UnitError, ValueUnit};
 use tauwise::{DataKind, Error, Result};
 
 /// The kind of readings in an input file (`--data`).
@@ -26,7 +29,56 @@ impl From<DataArg> for DataKind {
     }
 }
 
-/// How to read a time-series input file.
+/// The time column of a record (`--time-column N|none`).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum TimeColumn {
+    /// 1-based column number.
+    Number(usize),
+    /// Readings without stamps.
+    None,
+}
+
+/// `--time-column`: a column number from 1, or `none`.
+pub fn time_column(text: &str) -> std::result::Result<TimeColumn, UnitError> {
+    let t = text.trim();
+    if t.eq_ignore_ascii_case("none") {
+        return Ok(TimeColumn::None);
+    }
+    match t.parse::<usize>() {
+        Ok(n) if n >= 1 => Ok(TimeColumn::Number(n)),
+        _ => Err(UnitError::Bad {
+            text: t.to_string(),
+            what: "time column",
+            expected: "a column number (1, 2, …) or none",
+        }),
+    }
+}
+
+/// `--snap=FRAC`: a fraction of τ0 above 0 and below 0.5.
+pub fn snap_fraction(text: &str) -> std::result::Result<f64, UnitError> {
+    let t = text.trim();
+    match t.parse::<f64>() {
+        Ok(f) if f > 0.0 && f < 0.5 => Ok(f),
+        _ => Err(UnitError::OutOfRange {
+            text: t.to_string(),
+            what: "the snap fraction",
+            range: "a fraction of τ0 above 0 and below 0.5 (e.g. --snap=0.25)",
+        }),
+    }
+}
+
+/// `--comment CHARS`: characters that may start a comment line.
+pub fn comment_chars(text: &str) -> std::result::Result<String, UnitError> {
+    tauwise::io::text::CommentStyle::with_extra(text)
+        .map(|_| text.to_string())
+        .map_err(|m| UnitError::Invalid {
+            text: text.to_string(),
+            reason: format!("'{text}': {m}"),
+        })
+}
+
+/// How to read a time-series input file (the record-input group every
+/// command that reads a record shares; the DUT file takes the same keys).
 #[derive(Debug, Clone, Args)]
 pub struct InputArgs {
     /// What the readings are: phase (time error) or frequency.
@@ -36,26 +88,26 @@ pub struct InputArgs {
     /// Sampling interval τ0 (e.g. 1s, 100ms, or plain seconds). Default:
     /// the median spacing of the timestamps. With a time column too, the
     /// stamps still place the readings (gaps kept) and must agree with τ0.
-    #[arg(long, value_name = "DUR", allow_hyphen_values = true)]
-    pub tau0: Option<String>,
+    #[arg(long, value_name = "DUR", allow_hyphen_values = true, value_parser = Duration::positive)]
+    pub tau0: Option<Duration>,
     /// Unit of the readings: s ms us ns ps (phase) or frac ppm ppb hz
     /// (frequency; hz = absolute readings, needs --carrier). Default: the
     /// unit in the value column's header — (ns) [ps] _us , ns; s ms us ns ps,
     /// frac ppm ppb, Hz kHz MHz GHz (see docs/input-files.md) — else s or
     /// frac. A --units that disagrees with the header is an error.
-    #[arg(long = "units", value_name = "U")]
-    pub units: Option<String>,
+    #[arg(long = "units", value_name = "U", value_parser = tauwise::units::parse_value_unit)]
+    pub units: Option<ValueUnit>,
     /// Nominal (carrier) frequency, e.g. 10MHz; needed with --units hz.
-    #[arg(long, value_name = "FREQ")]
-    pub carrier: Option<String>,
+    #[arg(long, value_name = "FREQ", allow_hyphen_values = true, value_parser = Frequency::positive)]
+    pub carrier: Option<Frequency>,
     /// Column holding the readings (1-based). Default: the last numeric column.
     #[arg(long, value_name = "N")]
     pub value_column: Option<usize>,
     /// Column holding timestamps (seconds, ISO-8601, or the unit in its
     /// header: ms us min h d MJD), 1-based, or `none` for readings without
     /// stamps. Default: column 1 when the file has two or more columns.
-    #[arg(long, value_name = "N|none")]
-    pub time_column: Option<String>,
+    #[arg(long, value_name = "N|none", value_parser = time_column)]
+    pub time_column: Option<TimeColumn>,
     /// Round timestamps to the τ0 grid (stamps from a PC clock that wander),
     /// if each lies within FRAC·τ0 of it (--snap alone: 0.25); the largest
     /// distance is reported, a stamp beyond it is an error.
@@ -64,15 +116,16 @@ pub struct InputArgs {
         value_name = "FRAC",
         num_args = 0..=1,
         require_equals = true,
-        default_missing_value = "0.25"
+        default_missing_value = "0.25",
+        value_parser = snap_fraction
     )]
     pub snap: Option<f64>,
     /// Unwrap phase readings that wrap at PERIOD (e.g. 100ns for a
     /// time-interval counter comparing 10 MHz against 10 MHz).
-    #[arg(long, value_name = "PERIOD")]
-    pub wrap: Option<String>,
+    #[arg(long, value_name = "PERIOD", allow_hyphen_values = true, value_parser = Duration::positive)]
+    pub wrap: Option<Duration>,
     /// More characters that start a comment line, besides # ; % and //.
-    #[arg(long, value_name = "CHARS")]
+    #[arg(long, value_name = "CHARS", value_parser = comment_chars)]
     pub comment: Option<String>,
     /// Read every comma in a field as a decimal mark (for files where this
     /// is ambiguous; semicolon-, tab- and space-separated files and quoted
@@ -84,55 +137,20 @@ pub struct InputArgs {
 impl InputArgs {
     /// The reader options these arguments ask for.
     pub fn options(&self) -> Result<SeriesOptions> {
-        let tau0 = match &self.tau0 {
-            Some(t) => Some(positive_duration(t, "tau0", "1s, 100ms")?),
-            None => None,
-        };
-        let unit = match &self.units {
-            Some(u) => Some(tauwise::units::parse_value_unit(u)?),
-            None => None,
-        };
-        let carrier = match &self.carrier {
-            Some(c) => Some(positive_frequency(c, "carrier", "10MHz")?),
-            None => None,
-        };
-        let (time_column, no_time_column) = match self.time_column.as_deref().map(str::trim) {
-            None => (None, false),
-            Some(t) if t.eq_ignore_ascii_case("none") => (None, true),
-            Some(t) => match t.parse::<usize>() {
-                Ok(n) => (Some(n), false),
-                Err(_) => {
-                    return Err(Error::invalid(format!(
-                        "--time-column {t}: expected a column number (1, 2, …) or none"
-                    )))
-                }
-            },
-        };
-        let wrap = match &self.wrap {
-            Some(w) => Some(positive_duration(w, "wrap", "100ns")?),
-            None => None,
-        };
-        if let Some(f) = self.snap {
-            if !(f > 0.0 && f < 0.5) {
-                return Err(Error::invalid(format!(
-                    "--snap={f}: expected a fraction of τ0 above 0 and below 0.5 (e.g. --snap=0.25)"
-                )));
-            }
-        }
-        let comments = self.comment.clone().unwrap_or_default();
-        tauwise::io::text::CommentStyle::with_extra(&comments)
-            .map_err(|m| Error::invalid(format!("--comment {comments}: {m}")))?;
         Ok(SeriesOptions {
             kind: self.data.map(DataKind::from),
-            unit,
-            tau0,
-            carrier,
+            unit: self.units,
+            tau0: self.tau0.map(Duration::seconds),
+            carrier: self.carrier.map(Frequency::hertz),
             value_column: self.value_column,
-            time_column,
-            no_time_column,
+            time_column: match self.time_column {
+                Some(TimeColumn::Number(n)) => Some(n),
+                _ => None,
+            },
+            no_time_column: self.time_column == Some(TimeColumn::None),
             snap: self.snap,
-            wrap,
-            comments,
+            wrap: self.wrap.map(Duration::seconds),
+            comments: self.comment.clone().unwrap_or_default(),
             decimal_comma: self.decimal_comma,
         })
     }
@@ -153,6 +171,40 @@ impl InputArgs {
     }
 }
 
+/// The τ grid of the commands that compute σ(τ) (`--taus`).
+#[derive(Debug, Clone, Args)]
+pub struct TauArgs {
+    /// τ grid: octave, decade, all, log:N (N per decade) or a list of
+    /// durations (1,10,100s,1h).
+    #[arg(long, value_name = "GRID", default_value = "octave", value_parser = TauGrid::parse)]
+    pub taus: TauGrid,
+}
+
+/// The chart a command can draw (`--plot FILE`); each command says what
+/// its chart shows in its own help (`mut_arg`).
+#[derive(Debug, Clone, Args)]
+pub struct PlotArgs {
+    /// Draw the command's chart to FILE (.svg or .png).
+    #[arg(long, value_name = "FILE")]
+    pub plot: Option<PathBuf>,
+}
+
+/// `--confidence P`: the two-sided confidence level of the intervals,
+/// strictly between 0 and 1; the default is the library's
+/// ([`tauwise::stats::DEFAULT_CONFIDENCE`]).
+#[derive(Debug, Clone, Args)]
+pub struct ConfidenceArgs {
+    /// Two-sided confidence level of the intervals, in (0, 1).
+    #[arg(
+        long,
+        value_name = "P",
+        allow_hyphen_values = true,
+        default_value_t = Probability::new(tauwise::stats::DEFAULT_CONFIDENCE).expect("in (0, 1)"),
+        value_parser = str::parse::<Probability>
+    )]
+    pub confidence: Probability,
+}
+
 /// Print how a file was read (notes) and what looks wrong (warnings) on
 /// standard error, one line each, naming the file.
 pub fn report_reading(info: &tauwise::io::series::SeriesInfo) {
@@ -162,32 +214,6 @@ pub fn report_reading(info: &tauwise::io::series::SeriesInfo) {
     for w in &info.warnings {
         eprintln!("tauwise: warning: {}: {w}", info.path.display());
     }
-}
-
-/// Parse the value of option `--flag` as a duration that must be positive
-/// (e.g. `--tau0`, `--span`); the error names the option and an example.
-pub fn positive_duration(text: &str, flag: &str, example: &str) -> Result<f64> {
-    let v = tauwise::units::parse_duration(text)?;
-    if !(v.is_finite() && v > 0.0) {
-        return Err(Error::invalid(format!(
-            "--{flag} {text}: expected a positive duration (e.g. {example})"
-        )));
-    }
-    Ok(v)
-}
-
-/// Parse the value of option `--flag` as a duration that decides a verdict
-/// (a budget, a span, a limit): it must carry its unit
-/// ([`tauwise::units::parse_duration_with_unit`]) and be positive.
-pub fn positive_duration_with_unit(text: &str, flag: &str, example: &str) -> Result<f64> {
-    let v = tauwise::units::parse_duration_with_unit(text)
-        .map_err(|e| Error::invalid(format!("--{flag} {text}: {e}")))?;
-    if !(v.is_finite() && v > 0.0) {
-        return Err(Error::invalid(format!(
-            "--{flag} {text}: expected a positive duration with its unit (e.g. {example})"
-        )));
-    }
-    Ok(v)
 }
 
 /// A count on the command line (`--paths`, `--steps`, `--per-decade`, …):
@@ -202,18 +228,6 @@ pub fn count(text: &str) -> std::result::Result<usize, String> {
         Ok(v) if v.is_finite() && v >= 0.0 && v.fract() == 0.0 && v < 1.8e19 => Ok(v as usize),
         _ => Err(format!("'{text}' is not a whole number (e.g. 2000 or 1e6)")),
     }
-}
-
-/// Parse the value of option `--flag` as a frequency that must be positive
-/// (e.g. `--carrier`, `--fh`); the error names the option and an example.
-pub fn positive_frequency(text: &str, flag: &str, example: &str) -> Result<f64> {
-    let v = tauwise::units::parse_frequency(text)?;
-    if !(v.is_finite() && v > 0.0) {
-        return Err(Error::invalid(format!(
-            "--{flag} {text}: expected a positive frequency (e.g. {example})"
-        )));
-    }
-    Ok(v)
 }
 
 /// Output format of a command's results.

@@ -1,7 +1,7 @@
 //! `tauwise convert`: between phase-noise tables, power-law models and σ(τ)
 //! ([`tauwise::spectrum::sigma`], IEEE Std 1139).
 
-use super::common::{emit, json_text, num, plain, Format, OutputArgs};
+use super::common::{emit, json_text, num, plain, Format, OutputArgs, PlotArgs, TauArgs};
 use super::jitter::{table_header, table_input_json};
 use super::spectrum::Rows;
 use super::Outcome;
@@ -10,11 +10,12 @@ use std::fmt::Write as _;
 use std::path::PathBuf;
 use tauwise::io::lf_table::{read_lf_table, TableOptions, TableQuantity};
 use tauwise::model::PowerLaw;
+use tauwise::parse::{Duration, EstimatorList, Frequency, Model};
 use tauwise::plot::phase_noise::{LfTrace, PhaseNoisePlot, TraceKind};
 use tauwise::spectrum::sigma::{sigma_points, SigmaKind, SigmaOptions, SigmaPoint};
 use tauwise::spectrum::{Quantity, Spectrum};
 use tauwise::tau::TauGrid;
-use tauwise::units::{format_si, format_sig, parse_frequency};
+use tauwise::units::{format_si, format_sig};
 use tauwise::{Error, Result};
 
 /// What to convert to.
@@ -34,6 +35,8 @@ pub enum Target {
     after_help = "Examples:\n  tauwise convert --lf ocxo-a-lf.csv --carrier 10MHz --to sigma --dev adev,mdev\n  \
     tauwise convert --model h2=6e-30,h0=1e-25,h-1=3e-25,fh=10M --carrier 10MHz --to lf --from 1 --to-offset 10M"
 )]
+#[command(mut_arg("plot", |a| a.help("Draw the result to FILE (.svg or .png): the σ–τ curves (--to sigma), \
+or L(f) (--to lf; --to model: the table with the fitted model dashed).")))]
 pub struct Args {
     /// Phase-noise table to convert (offset against L(f), or see --quantity).
     #[arg(
@@ -48,60 +51,55 @@ pub struct Args {
     #[arg(long, value_name = "FILE.json", conflicts_with = "model")]
     pub sigma: Option<PathBuf>,
     /// Power-law model in h_α notation (h2 h1 h0 h-1 h-2, fh).
-    #[arg(long, value_name = "MODEL")]
-    pub model: Option<String>,
+    #[arg(long, value_name = "MODEL", value_parser = str::parse::<Model>)]
+    pub model: Option<Model>,
     /// What the table's values are: lf, sphi, sphi-db or sy. Default: the
     /// quantity the value column's header names (dBc/Hz, rad²/Hz, …), else lf.
-    #[arg(long, value_name = "Q")]
-    pub quantity: Option<String>,
+    #[arg(long, value_name = "Q", value_parser = TableQuantity::parse)]
+    pub quantity: Option<TableQuantity>,
     /// Carrier frequency ν0 (e.g. 10MHz).
-    #[arg(long, value_name = "FREQ")]
-    pub carrier: Option<String>,
+    #[arg(long, value_name = "FREQ", allow_hyphen_values = true, value_parser = Frequency::positive)]
+    pub carrier: Option<Frequency>,
     /// The target.
     #[arg(long, value_enum, value_name = "WHAT")]
     pub to: Target,
     /// Estimators for --to sigma: adev oadev mdev hdev ohdev tdev.
-    #[arg(long, value_name = "LIST", default_value = "adev,mdev")]
-    pub dev: String,
-    /// τ grid: octave, decade, all, log:N or a list of durations.
-    #[arg(long, value_name = "GRID", default_value = "octave")]
-    pub taus: String,
+    #[arg(long, value_name = "LIST", default_value = "adev,mdev", value_parser = str::parse::<EstimatorList>)]
+    pub dev: EstimatorList,
+    #[command(flatten)]
+    pub taus: TauArgs,
     /// Longest τ of a grid (default: 1/lowest offset of a table; 1e5 s for a model).
-    #[arg(long, value_name = "DUR")]
-    pub max_tau: Option<String>,
+    #[arg(long, value_name = "DUR", allow_hyphen_values = true, value_parser = Duration::positive)]
+    pub max_tau: Option<Duration>,
     /// Sampling interval τ0 of MDEV/TDEV and of the τ grid (default 1/(2·f_h)).
-    #[arg(long, value_name = "DUR")]
-    pub tau0: Option<String>,
+    #[arg(long, value_name = "DUR", allow_hyphen_values = true, value_parser = Duration::positive)]
+    pub tau0: Option<Duration>,
     /// Upper integration limit f_h (default: the table's highest offset, or the model's fh).
-    #[arg(long, value_name = "FREQ")]
-    pub fh: Option<String>,
+    #[arg(long, value_name = "FREQ", allow_hyphen_values = true, value_parser = Frequency::positive)]
+    pub fh: Option<Frequency>,
     /// Lowest offset of a table made with --to lf.
-    #[arg(long, value_name = "FREQ", default_value = "1")]
-    pub from: String,
+    #[arg(long, value_name = "FREQ", default_value = "1", allow_hyphen_values = true, value_parser = Frequency::positive)]
+    pub from: Frequency,
     /// Highest offset of a table made with --to lf (default f_h).
-    #[arg(long, value_name = "FREQ")]
-    pub to_offset: Option<String>,
+    #[arg(long, value_name = "FREQ", allow_hyphen_values = true, value_parser = Frequency::positive)]
+    pub to_offset: Option<Frequency>,
     /// Points per decade of a table made with --to lf.
     #[arg(long, value_name = "N", default_value_t = 10, value_parser = super::common::count)]
     pub per_decade: usize,
-    /// Draw the result to FILE (.svg or .png): the σ–τ curves (--to sigma),
-    /// or L(f) (--to lf; --to model: the table with the fitted model dashed).
-    #[arg(long, value_name = "FILE")]
-    pub plot: Option<PathBuf>,
+    #[command(flatten)]
+    pub plot: PlotArgs,
     #[command(flatten)]
     pub output: OutputArgs,
 }
 
-fn freq(opt: &Option<String>, what: &str) -> Result<Option<f64>> {
-    opt.as_deref()
-        .map(|t| super::common::positive_frequency(t, what, "10MHz"))
-        .transpose()
+/// A frequency option in hertz (parsed and checked by clap).
+fn freq(opt: &Option<Frequency>, _what: &str) -> Result<Option<f64>> {
+    Ok(opt.map(Frequency::hertz))
 }
 
-fn duration(opt: &Option<String>, what: &str) -> Result<Option<f64>> {
-    opt.as_deref()
-        .map(|t| super::common::positive_duration(t, what, "1s"))
-        .transpose()
+/// A duration option in seconds (parsed and checked by clap).
+fn duration(opt: &Option<Duration>, _what: &str) -> Result<Option<f64>> {
+    Ok(opt.map(Duration::seconds))
 }
 
 /// The source of a conversion: a table or a model, as a spectrum.
@@ -128,7 +126,8 @@ fn source(args: &Args, carrier: Option<f64>, tau_hint: Option<f64>) -> Result<So
         super::jitter::report_table(&t);
         let q = t.quantity;
         if q != TableQuantity::Sy && carrier.is_none() {
-            return Err(Error::invalid(
+            return Err(Error::option(
+                "--carrier",
                 "this conversion needs the carrier frequency: give --carrier (e.g. --carrier 10MHz)",
             ));
         }
@@ -146,16 +145,22 @@ fn source(args: &Args, carrier: Option<f64>, tau_hint: Option<f64>) -> Result<So
     }
     let (parsed, from_sigma) = match &args.sigma {
         Some(path) => (model_from_stability(path, fh_opt)?, true),
-        None => (
-            PowerLaw::parse(args.model.as_deref().unwrap_or_default(), f64::NAN)?,
-            false,
-        ),
+        None => match args.model {
+            Some(m) => (m.power_law(f64::NAN), false),
+            None => {
+                return Err(Error::option(
+                    "--lf",
+                    "give a phase-noise table (--lf), a model (--model) or a stability result (--sigma)",
+                ))
+            }
+        },
     };
     let f_h =
         match (fh_opt, parsed.f_h.is_nan()) {
             (Some(f), _) => f,
             (None, false) => parsed.f_h,
-            (None, true) => return Err(Error::invalid(
+            (None, true) => return Err(Error::option(
+                "--model",
                 "the model needs its high-frequency cut-off: add fh=… to the model or give --fh",
             )),
         };
@@ -200,22 +205,23 @@ pub fn run(args: Args) -> Result<Outcome> {
         .collect();
     super::common::check_output_paths(
         &inputs,
-        &[args.output.output.as_deref(), args.plot.as_deref()],
+        &[args.output.output.as_deref(), args.plot.plot.as_deref()],
     )?;
     let carrier = freq(&args.carrier, "carrier")?;
     let needs_carrier = args.lf.is_some()
         && super::jitter::quantity_option(&args.quantity)?.is_some_and(|q| q != TableQuantity::Sy)
         || args.to == Target::Lf;
     if needs_carrier && carrier.is_none() {
-        return Err(Error::invalid(
+        return Err(Error::option(
+            "--carrier",
             "this conversion needs the carrier frequency: give --carrier (e.g. --carrier 10MHz)",
         ));
     }
-    if let (Some(path), Target::Model, None) = (&args.plot, args.to, carrier) {
-        return Err(Error::invalid(format!(
-            "--plot {}: the chart of --to model shows L(f), which needs the carrier frequency: give --carrier (e.g. --carrier 10MHz)",
-            path.display()
-        )));
+    if let (Some(path), Target::Model, None) = (&args.plot.plot, args.to, carrier) {
+        return Err(Error::option(
+            format!("--plot {}", path.display()),
+            "the chart of --to model shows L(f), which needs the carrier frequency: give --carrier (e.g. --carrier 10MHz)",
+        ));
     }
     let src = source(&args, carrier, duration(&args.max_tau, "max-tau")?)?;
     let text = match args.to {
@@ -230,18 +236,16 @@ pub fn run(args: Args) -> Result<Outcome> {
 fn to_sigma(args: &Args, src: Source, carrier: Option<f64>) -> Result<String> {
     let kinds: Vec<(String, SigmaKind)> = args
         .dev
-        .split(',')
-        .filter(|s| !s.trim().is_empty())
-        .map(|s| SigmaKind::from_name(s).map(|k| (s.trim().to_ascii_lowercase(), k)))
+        .iter()
+        .map(|e| {
+            SigmaKind::from_name(e.name())
+                .map(|k| (e.name().to_string(), k))
+                .map_err(|err| Error::option(format!("--dev {}", e.name()), err.to_string()))
+        })
         .collect::<Result<_>>()?;
-    if kinds.is_empty() {
-        return Err(Error::invalid(
-            "--dev names no estimator: expected e.g. adev,mdev",
-        ));
-    }
     let tau0 = duration(&args.tau0, "tau0")?.unwrap_or(0.5 / src.f_h);
     let max_tau = duration(&args.max_tau, "max-tau")?.unwrap_or(src.max_tau);
-    let grid = TauGrid::parse(&args.taus)?;
+    let grid = args.taus.taus.clone();
     let taus: Vec<f64> = match &grid {
         // Explicit τ are kept; MDEV/TDEV round them to whole multiples of τ0.
         TauGrid::Explicit(t) => t.clone(),
@@ -265,7 +269,7 @@ fn to_sigma(args: &Args, src: Source, carrier: Option<f64>) -> Result<String> {
         };
         curves.push((name.clone(), sigma_points(&src.spectrum, *kind, &t, opt)?));
     }
-    if let Some(path) = &args.plot {
+    if let Some(path) = &args.plot.plot {
         use tauwise::plot::stability::{is_time_deviation, SigmaCurve, StabilityPlot};
         let suffix = if args.lf.is_some() {
             "-from-lf"
@@ -413,12 +417,12 @@ fn point_json(p: &SigmaPoint) -> serde_json::Value {
 }
 
 fn to_lf(args: &Args, src: Source, carrier: Option<f64>) -> Result<String> {
-    let from = parse_frequency(&args.from)?;
+    let from = args.from.hertz();
     let to = freq(&args.to_offset, "to-offset")?.unwrap_or(src.f_h);
     let model = match (&args.model, &args.sigma) {
-        (Some(text), _) => Some(PowerLaw {
+        (Some(m), _) => Some(PowerLaw {
             f_h: src.f_h,
-            ..PowerLaw::parse(text, src.f_h)?
+            ..m.power_law(src.f_h)
         }),
         (None, Some(path)) => Some(PowerLaw {
             f_h: src.f_h,
@@ -433,7 +437,7 @@ fn to_lf(args: &Args, src: Source, carrier: Option<f64>) -> Result<String> {
         }
         None => src.spectrum.to(Quantity::Lf)?,
     };
-    if let Some(path) = &args.plot {
+    if let Some(path) = &args.plot.plot {
         let (kind, mut notes) = if from_model {
             (TraceKind::Model, vec![format!("L(f) of {}.", src.label)])
         } else {
@@ -539,7 +543,7 @@ fn to_model(args: &Args, src: Source, carrier: Option<f64>) -> Result<String> {
     let rms_db = (fit.residual_db.iter().map(|r| r * r).sum::<f64>()
         / fit.residual_db.len().max(1) as f64)
         .sqrt();
-    if let Some(path) = &args.plot {
+    if let Some(path) = &args.plot.plot {
         let (lo, hi) = (f.first().copied(), f.last().copied());
         let mut traces = vec![LfTrace::from_spectrum(
             &src.label,

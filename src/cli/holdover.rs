@@ -2,22 +2,21 @@
 //! the record, against a budget.
 
 use super::common::{
-    count, emit, header_json, json_text, num, plain, positive_duration_with_unit, Format,
-    InputArgs, OutputArgs,
+    count, emit, header_json, json_text, num, plain, Format, InputArgs, OutputArgs, PlotArgs,
 };
 use super::Outcome;
 use clap::{Args as ClapArgs, ValueEnum};
 use serde_json::{json, Value};
 use std::fmt::Write as _;
 use std::path::PathBuf;
-use tauwise::holdover::aging::{parse_aging_rate, Aging, AgingModel};
+use tauwise::holdover::aging::{Aging, AgingModel};
 use tauwise::holdover::observed::{observe, Observed};
 use tauwise::holdover::{
     caution, model_from_record, predict, FromRecord, HoldoverModel, Prediction, Settings,
 };
 use tauwise::io::series::Series;
-use tauwise::model::PowerLaw;
-use tauwise::units::{format_si, parse_duration_with_unit};
+use tauwise::parse::{Duration, Fraction, Model, Rate};
+use tauwise::units::{format_si, UnitError};
 use tauwise::{Error, Result};
 
 /// The aging law to fit (`--aging-model`).
@@ -32,6 +31,8 @@ pub enum AgingArg {
 /// Time error through a holdover span, against a budget.
 #[derive(Debug, ClapArgs)]
 #[command(after_help = super::EXIT_CODES)]
+#[command(mut_arg("plot", |a| a.help("Draw the time error through the span (deterministic, p50/p95/p99 \
+of |TE|, the budget and the hold time) to FILE (.svg or .png).")))]
 pub struct Args {
     /// Input file: phase or frequency record up to the loss of reference.
     #[arg(value_name = "FILE")]
@@ -39,11 +40,11 @@ pub struct Args {
     #[command(flatten)]
     pub input: InputArgs,
     /// Holdover span, with its unit (e.g. 8h, 24h; a bare number is refused).
-    #[arg(long, value_name = "DUR", allow_hyphen_values = true)]
-    pub span: String,
+    #[arg(long, value_name = "DUR", allow_hyphen_values = true, value_parser = Duration::positive_with_unit)]
+    pub span: Duration,
     /// Time-error budget, with its unit (e.g. 1.5us; a bare number is refused).
-    #[arg(long, value_name = "DUR", allow_hyphen_values = true)]
-    pub budget: String,
+    #[arg(long, value_name = "DUR", allow_hyphen_values = true, value_parser = Duration::positive_with_unit)]
+    pub budget: Duration,
     /// Monte Carlo paths (at least 100 for a verdict; paths × steps bounded
     /// by the memory they need).
     #[arg(long, default_value_t = 2000, value_name = "N", value_parser = count)]
@@ -59,164 +60,137 @@ pub struct Args {
         long,
         default_value = "0s",
         value_name = "DUR",
-        allow_hyphen_values = true
+        allow_hyphen_values = true,
+        value_parser = Duration::with_unit
     )]
-    pub te0: String,
+    pub te0: Duration,
     /// Fractional-frequency error at the start of holdover (e.g. 2e-12,
     /// 0.5ppb) instead of the one estimated at the record's end — for a
     /// disciplined unit, the loop's residual when the reference is lost.
-    #[arg(long, value_name = "FRAC", allow_hyphen_values = true)]
-    pub y0: Option<String>,
+    #[arg(long, value_name = "FRAC", allow_hyphen_values = true, value_parser = str::parse::<Fraction>)]
+    pub y0: Option<Fraction>,
     /// Standard uncertainty of --y0 (default 0); drawn per Monte Carlo path.
-    #[arg(long, value_name = "FRAC", requires = "y0")]
-    pub y0_sigma: Option<String>,
+    #[arg(long, value_name = "FRAC", requires = "y0", value_parser = non_negative_fraction)]
+    pub y0_sigma: Option<Fraction>,
     /// Window at the end of the record for the initial frequency y0, with
     /// its unit (e.g. 2h). Default: a tenth of the record.
-    #[arg(long, value_name = "DUR")]
-    pub settle: Option<String>,
+    #[arg(long, value_name = "DUR", allow_hyphen_values = true, value_parser = Duration::positive_with_unit)]
+    pub settle: Option<Duration>,
     /// Holdover starts at this record time instead of the record's end;
     /// the record after it is then set beside the prediction (observed TE
     /// against the predicted p95, and when it first exceeds the budget).
-    #[arg(long, value_name = "DUR")]
-    pub start: Option<String>,
+    #[arg(long, value_name = "DUR", allow_hyphen_values = true, value_parser = Duration::positive_with_unit)]
+    pub start: Option<Duration>,
     /// Given linear aging with its unit (e.g. 5e-11/day) instead of a fit.
-    #[arg(long, value_name = "RATE", allow_hyphen_values = true)]
-    pub aging: Option<String>,
+    #[arg(long, value_name = "RATE", allow_hyphen_values = true, value_parser = str::parse::<Rate>)]
+    pub aging: Option<Rate>,
     /// The aging law to fit on the record.
     #[arg(long, value_enum, default_value_t = AgingArg::Linear)]
     pub aging_model: AgingArg,
     /// Temperature coefficient of frequency, e.g. 1e-11/K (with --temp-swing).
-    #[arg(long, value_name = "C", allow_hyphen_values = true)]
-    pub temp_coeff: Option<String>,
+    #[arg(long, value_name = "C", allow_hyphen_values = true, value_parser = temp_coeff, requires = "temp_swing")]
+    pub temp_coeff: Option<f64>,
     /// Worst-case temperature swing during holdover, e.g. 5K.
-    #[arg(long, value_name = "K")]
-    pub temp_swing: Option<String>,
+    #[arg(long, value_name = "K", allow_hyphen_values = true, value_parser = temp_swing, requires = "temp_coeff")]
+    pub temp_swing: Option<f64>,
     /// Noise model instead of the fit, e.g. h0=1e-22,h-1=3e-26,h-2=1e-31.
-    #[arg(long, value_name = "MODEL")]
-    pub model: Option<String>,
+    #[arg(long, value_name = "MODEL", value_parser = str::parse::<Model>)]
+    pub model: Option<Model>,
     /// Exit with status 3 when the verdict exceeds the budget, 4 when it
     /// cannot be judged (for scripts).
     #[arg(long)]
     pub fail_on_violation: bool,
-    /// Draw the time error through the span (deterministic, p50/p95/p99 of
-    /// |TE|, the budget and the hold time) to FILE (.svg or .png).
-    #[arg(long, value_name = "FILE")]
-    pub plot: Option<PathBuf>,
+    #[command(flatten)]
+    pub plot: PlotArgs,
     #[command(flatten)]
     pub output: OutputArgs,
 }
 
-/// A temperature coefficient `1e-11/K` or a swing `5K`: the kelvin is
-/// required (a bare number is refused, like every number that decides).
-fn kelvin(text: &str, what: &str) -> Result<f64> {
+/// `--temp-coeff`: a temperature coefficient of frequency per kelvin
+/// (`1e-11/K`); the kelvin is required, like every number that decides.
+fn temp_coeff(text: &str) -> std::result::Result<f64, UnitError> {
+    kelvin(text, "/K", "a number per kelvin (e.g. 1e-11/K)")
+}
+
+/// `--temp-swing`: a temperature swing in kelvin (`5K`).
+fn temp_swing(text: &str) -> std::result::Result<f64, UnitError> {
+    kelvin(text, "K", "a number of kelvin (e.g. 5K)")
+}
+
+fn kelvin(text: &str, unit: &str, expected: &'static str) -> std::result::Result<f64, UnitError> {
     let t = text.trim();
-    let stripped = if what == "temp-coeff" {
-        t.strip_suffix("/K")
-    } else {
-        t.strip_suffix('K')
-    };
-    let example = if what == "temp-coeff" {
-        "a number per kelvin (e.g. 1e-11/K)"
-    } else {
-        "a number of kelvin (e.g. 5K)"
-    };
-    let Some(num) = stripped else {
-        return Err(Error::invalid(format!(
-            "--{what} {text}: give a unit, e.g. {}",
-            if what == "temp-coeff" {
-                "1e-11/K"
-            } else {
-                "5K"
-            }
-        )));
+    let Some(num) = t.strip_suffix(unit) else {
+        return Err(UnitError::Invalid {
+            text: t.to_string(),
+            reason: format!("'{t}' has no unit: give a unit, e.g. {expected}"),
+        });
     };
     num.trim()
         .parse::<f64>()
         .ok()
         .filter(|v| v.is_finite())
-        .ok_or_else(|| Error::invalid(format!("--{what} {text}: expected {example}")))
+        .ok_or_else(|| UnitError::Bad {
+            text: t.to_string(),
+            what: "temperature value",
+            expected,
+        })
+}
+
+/// `--y0-sigma`: a standard uncertainty, ≥ 0.
+fn non_negative_fraction(text: &str) -> std::result::Result<Fraction, UnitError> {
+    let f: Fraction = text.parse()?;
+    if f.value() >= 0.0 {
+        Ok(f)
+    } else {
+        Err(UnitError::OutOfRange {
+            text: text.trim().to_string(),
+            what: "a standard uncertainty",
+            range: "≥ 0",
+        })
+    }
 }
 
 /// Run `holdover`.
 pub fn run(args: Args) -> Result<Outcome> {
     super::common::check_output_paths(
         &[&args.file],
-        &[args.output.output.as_deref(), args.plot.as_deref()],
+        &[args.output.output.as_deref(), args.plot.plot.as_deref()],
     )?;
-    let span = positive_duration_with_unit(&args.span, "span", "24h")?;
-    let budget = positive_duration_with_unit(&args.budget, "budget", "1.5us")?;
-    let te0 = parse_duration_with_unit(&args.te0)
-        .map_err(|e| Error::invalid(format!("--te0 {}: {e}", args.te0)))?;
-    let temp_worst = match (&args.temp_coeff, &args.temp_swing) {
-        (Some(c), Some(s)) => (kelvin(c, "temp-coeff")? * kelvin(s, "temp-swing")?).abs(),
-        (None, None) => 0.0,
-        _ => return Err(Error::invalid(
-            "--temp-coeff and --temp-swing go together (e.g. --temp-coeff 1e-11/K --temp-swing 5K)",
-        )),
+    let span = args.span.seconds();
+    let budget = args.budget.seconds();
+    let te0 = args.te0.seconds();
+    // clap makes the two go together (`requires`).
+    let temp_worst = match (args.temp_coeff, args.temp_swing) {
+        (Some(c), Some(s)) => (c * s).abs(),
+        _ => 0.0,
     };
     let progress = super::common::Progress::start("holdover");
     progress.stage(format!("reading {}", args.file.display()));
     let series = args.input.load(&args.file)?;
     progress.stage("computing");
     let tau0 = series.record.tau0();
-    let noise = match &args.model {
-        Some(m) => Some(PowerLaw::parse(m, 0.5 / tau0)?),
-        None => None,
-    };
+    let noise = args.model.map(|m| m.power_law(0.5 / tau0));
     let opts = FromRecord {
         te0,
-        settle: args
-            .settle
-            .as_deref()
-            .map(|s| positive_duration_with_unit(s, "settle", "1h"))
-            .transpose()?,
-        start: args
-            .start
-            .as_deref()
-            .map(|s| positive_duration_with_unit(s, "start", "36h"))
-            .transpose()?,
+        settle: args.settle.map(Duration::seconds),
+        start: args.start.map(Duration::seconds),
         aging_model: match args.aging_model {
             AgingArg::Linear => AgingModel::Linear,
             AgingArg::Log => AgingModel::Log,
         },
-        aging_given: args
-            .aging
-            .as_deref()
-            .map(|a| {
-                if !a.contains('/') {
-                    return Err(Error::invalid(format!(
-                        "--aging {a}: give a unit, e.g. 5e-11/day (a bare number is refused)"
-                    )));
-                }
-                parse_aging_rate(a)
-            })
-            .transpose()?,
+        aging_given: args.aging.map(Rate::per_second),
         temp_worst,
         noise,
-        y0_given: match &args.y0 {
-            Some(v) => {
-                let y0 = tauwise::units::parse_fraction(v)
-                    .map_err(|e| Error::invalid(format!("--y0: {e}")))?;
-                let s = match &args.y0_sigma {
-                    Some(t) => tauwise::units::parse_fraction(t)
-                        .map_err(|e| Error::invalid(format!("--y0-sigma: {e}")))?,
-                    None => 0.0,
-                };
-                if s < 0.0 {
-                    return Err(Error::invalid(format!(
-                        "--y0-sigma {s}: expected a standard uncertainty ≥ 0"
-                    )));
-                }
-                Some((y0, s))
-            }
-            None => None,
-        },
+        y0_given: args
+            .y0
+            .map(|y0| (y0.value(), args.y0_sigma.map_or(0.0, Fraction::value))),
         seed: args.seed,
         ..FromRecord::default()
     };
     if opts.y0_given.is_some() && args.settle.is_some() {
-        return Err(Error::invalid(
-            "--settle sets the window for the y0 estimated on the record; with --y0 it has no use",
+        return Err(Error::option(
+            "--settle",
+            "sets the window for the y0 estimated on the record; with --y0 it has no use",
         ));
     }
     let model = model_from_record(&series.record, &opts)?;
@@ -230,7 +204,7 @@ pub fn run(args: Args) -> Result<Outcome> {
     let observed = opts
         .start
         .and_then(|_| observe(&series.record, &model, &pred, span, budget));
-    if let Some(path) = &args.plot {
+    if let Some(path) = &args.plot.plot {
         let mut plot = tauwise::plot::holdover::HoldoverPlot::from_prediction(
             &series.info.path.display().to_string(),
             &pred,
@@ -269,7 +243,7 @@ pub fn run(args: Args) -> Result<Outcome> {
     ))
 }
 
-fn h_json(p: &PowerLaw) -> Value {
+fn h_json(p: &tauwise::model::PowerLaw) -> Value {
     let mut m = serde_json::Map::new();
     for a in (-2..=2).rev() {
         m.insert(format!("h{a}"), num(p.get(a)));

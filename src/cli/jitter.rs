@@ -2,7 +2,9 @@
 //! phase-noise table or (with `--record`) from the PSD of a time record
 //! ([`tauwise::spectrum::jitter`]).
 
-use super::common::{emit, header_json, json_text, num, plain, Format, InputArgs, OutputArgs};
+use super::common::{
+    emit, header_json, json_text, num, plain, Format, InputArgs, OutputArgs, PlotArgs,
+};
 use super::spectrum::welch_options;
 use super::Outcome;
 use clap::Args as ClapArgs;
@@ -11,13 +13,14 @@ use std::path::{Path, PathBuf};
 use tauwise::io::lf_table::{
     read_filter_file, read_lf_table, read_spurs, LfTable, TableOptions, TableQuantity,
 };
+use tauwise::parse::{Filter, Frequency};
 use tauwise::plot::phase_noise::{BandMark, LfTrace, PhaseNoisePlot, TraceKind};
 use tauwise::spectrum::jitter::{
     integrate_band, Band, BandJitter, JitterLimit, JitterSetup, Weighting,
 };
-use tauwise::spectrum::welch::welch_record;
+use tauwise::spectrum::welch::{welch_record, Window};
 use tauwise::spectrum::Spectrum;
-use tauwise::units::{format_si, parse_frequency};
+use tauwise::units::format_si;
 use tauwise::verdict::{gate, Judgement, Verdict};
 use tauwise::{Error, Result, DECISION_CAUTION};
 
@@ -33,6 +36,8 @@ use tauwise::{Error, Result, DECISION_CAUTION};
     could not be judged (a band outside the table, a non-finite result) and --fail-on-violation \
     was given."
 )]
+#[command(mut_arg("plot", |a| a.help("Draw L(f) with each integration band shaded and labelled with its \
+rms jitter to FILE (.svg or .png).")))]
 pub struct Args {
     /// Phase-noise table: offset against L(f) in dBc/Hz (or see --quantity).
     #[arg(
@@ -49,14 +54,15 @@ pub struct Args {
     /// What the table's values are: lf (dBc/Hz), sphi (rad²/Hz), sphi-db (dB rad²/Hz), sy (1/Hz).
     /// Default: the quantity the value column's header names (dBc/Hz, rad²/Hz,
     /// dB rad²/Hz, 1/Hz), else lf.
-    #[arg(long, value_name = "Q")]
-    pub quantity: Option<String>,
+    #[arg(long, value_name = "Q", value_parser = TableQuantity::parse)]
+    pub quantity: Option<TableQuantity>,
     /// Integration band FROM:TO (e.g. 12k:20M); repeat for several bands.
-    #[arg(long = "band", value_name = "FROM:TO", required = true)]
-    pub bands: Vec<String>,
-    /// Butterworth weighting highpass:ORDER:FC or lowpass:ORDER:FC; repeat to combine.
-    #[arg(long = "filter", value_name = "FILTER")]
-    pub filters: Vec<String>,
+    #[arg(long = "band", value_name = "FROM:TO", required = true, value_parser = band_arg)]
+    pub bands: Vec<(String, Band)>,
+    /// Butterworth weighting highpass:ORDER:FC or lowpass:ORDER:FC (order 1 … 8);
+    /// repeat to combine.
+    #[arg(long = "filter", value_name = "FILTER", value_parser = str::parse::<Filter>)]
+    pub filters: Vec<Filter>,
     /// Weighting file: offset against |H(f)|² in dB.
     #[arg(long, value_name = "FILE")]
     pub filter_file: Option<PathBuf>,
@@ -65,32 +71,35 @@ pub struct Args {
     #[arg(long, value_name = "FILE")]
     pub spurs: Option<PathBuf>,
     /// Line rate for jitter in unit intervals (e.g. 10.3125G).
-    #[arg(long, value_name = "RATE")]
-    pub ui_rate: Option<String>,
+    #[arg(long, value_name = "RATE", allow_hyphen_values = true, value_parser = Frequency::positive)]
+    pub ui_rate: Option<Frequency>,
     /// Allow bands beyond the table by continuing its end slopes (reported).
     #[arg(long)]
     pub extrapolate: bool,
     /// Window for --record spectra.
-    #[arg(long, value_name = "NAME", default_value = "hann")]
-    pub window: String,
+    #[arg(long, value_name = "NAME", default_value = "hann", value_parser = Window::parse)]
+    pub window: Window,
     /// Segment length for --record spectra (samples).
     #[arg(long, value_name = "N", value_parser = super::common::count)]
     pub segment: Option<usize>,
     /// rms jitter limit with its unit (1ps, 300fs, 10mrad, 0.5deg, 0.01UI):
     /// one for every band, or one per --band in the same order. A band that
     /// cannot be computed is then judged "not judged" instead of an error.
-    #[arg(long = "limit", value_name = "LIMIT", allow_hyphen_values = true)]
-    pub limits: Vec<String>,
+    #[arg(long = "limit", value_name = "LIMIT", allow_hyphen_values = true, value_parser = JitterLimit::parse)]
+    pub limits: Vec<JitterLimit>,
     /// Exit with status 3 when a band exceeds its limit, 4 when none does
     /// but one cannot be judged (for scripts).
     #[arg(long)]
     pub fail_on_violation: bool,
-    /// Draw L(f) with each integration band shaded and labelled with its
-    /// rms jitter to FILE (.svg or .png).
-    #[arg(long, value_name = "FILE")]
-    pub plot: Option<PathBuf>,
+    #[command(flatten)]
+    pub plot: PlotArgs,
     #[command(flatten)]
     pub output: OutputArgs,
+}
+
+/// `--band FROM:TO`: the band, with its text as the label of the chart.
+fn band_arg(text: &str) -> std::result::Result<(String, Band), tauwise::units::UnitError> {
+    Ok((text.to_string(), Band::parse(text)?))
 }
 
 /// The `"input"` object for a phase-noise table.
@@ -108,9 +117,9 @@ pub fn table_input_json(t: &LfTable, quantity: TableQuantity) -> serde_json::Val
     })
 }
 
-/// The `--quantity` option, parsed (`None` when not given).
-pub fn quantity_option(text: &Option<String>) -> Result<Option<TableQuantity>> {
-    text.as_deref().map(TableQuantity::parse).transpose()
+/// The `--quantity` option (`None` when not given).
+pub fn quantity_option(q: &Option<TableQuantity>) -> Result<Option<TableQuantity>> {
+    Ok(*q)
 }
 
 /// Print a table's reading notes on standard error.
@@ -165,22 +174,17 @@ pub fn run(args: Args) -> Result<Outcome> {
         .collect();
     super::common::check_output_paths(
         &inputs,
-        &[args.output.output.as_deref(), args.plot.as_deref()],
+        &[args.output.output.as_deref(), args.plot.plot.as_deref()],
     )?;
     let carrier = super::spectrum::carrier_of(&args.input)?.ok_or_else(|| {
-        Error::invalid("jitter needs the carrier frequency: give --carrier (e.g. --carrier 10MHz)")
+        Error::option(
+            "--carrier",
+            "jitter needs the carrier frequency: give --carrier (e.g. --carrier 10MHz)",
+        )
     })?;
-    let bands = args
-        .bands
-        .iter()
-        .map(|b| Band::parse(b))
-        .collect::<Result<Vec<_>>>()?;
+    let bands: Vec<Band> = args.bands.iter().map(|b| b.1).collect();
     let mut setup = JitterSetup {
-        filters: args
-            .filters
-            .iter()
-            .map(|f| Weighting::parse(f))
-            .collect::<Result<Vec<_>>>()?,
+        filters: args.filters.iter().map(|&f| Weighting::from(f)).collect(),
         extrapolate: args.extrapolate,
         ..Default::default()
     };
@@ -191,31 +195,19 @@ pub fn run(args: Args) -> Result<Outcome> {
     if let Some(p) = &args.spurs {
         setup.spurs = read_spurs(p)?;
     }
-    let limits = args
-        .limits
-        .iter()
-        .map(|l| JitterLimit::parse(l).map_err(|e| Error::invalid(format!("--limit: {e}"))))
-        .collect::<Result<Vec<_>>>()?;
+    let limits = args.limits.clone();
     if !(limits.len() <= 1 || limits.len() == bands.len()) {
-        return Err(Error::invalid(format!(
-            "{} --limit for {} --band: give one limit for every band, or one per band in the same order",
-            limits.len(),
-            bands.len()
-        )));
+        return Err(Error::option(
+            "--limit",
+            format!(
+                "{} --limit for {} --band: give one limit for every band, or one per band in the same order",
+                limits.len(),
+                bands.len()
+            ),
+        ));
     }
     let spur_file = args.spurs.is_some();
-    let ui_rate = match &args.ui_rate {
-        Some(r) => {
-            let v = parse_frequency(r)?;
-            if v.is_nan() || v <= 0.0 {
-                return Err(Error::invalid(format!(
-                    "--ui-rate {r}: expected a positive line rate"
-                )));
-            }
-            Some(v)
-        }
-        None => None,
-    };
+    let ui_rate = args.ui_rate.map(Frequency::hertz);
     // The trace to plot: the table itself, or the record's spectrum
     // averaged into 10 log-spaced bins per decade (readable, same level).
     let mut plot_trace: Option<(Spectrum, TraceKind)> = None;
@@ -223,7 +215,7 @@ pub fn run(args: Args) -> Result<Outcome> {
         (Some(path), _) => {
             let q = quantity_option(&args.quantity)?;
             let t = load_table(path, q, &args.input, Some(carrier))?;
-            if args.plot.is_some() {
+            if args.plot.plot.is_some() {
                 plot_trace = Some((t.spectrum.clone(), TraceKind::Table));
             }
             if !t.spurs.is_empty() {
@@ -247,12 +239,12 @@ pub fn run(args: Args) -> Result<Outcome> {
             let series = args.input.load(path)?;
             let w = welch_record(
                 &series.record,
-                &welch_options(&args.window, args.segment, 0.5)?,
+                &welch_options(args.window, args.segment, 0.5)?,
             )?;
             for warning in &w.warnings {
                 eprintln!("tauwise: warning: {warning}");
             }
-            if args.plot.is_some() {
+            if args.plot.plot.is_some() {
                 plot_trace = Some((w.log_binned(10, Some(carrier))?, TraceKind::RecordSpectrum));
             }
             let mut h = header_json(&series);
@@ -294,7 +286,7 @@ pub fn run(args: Args) -> Result<Outcome> {
         .filter_map(|o| o.as_ref().ok())
         .cloned()
         .collect();
-    if let (Some(path), Some((trace, kind))) = (&args.plot, &plot_trace) {
+    if let (Some(path), Some((trace, kind))) = (&args.plot.plot, &plot_trace) {
         let mut notes = Vec::new();
         if let Some(r) = results.first() {
             if r.filter != "none" {
@@ -313,7 +305,9 @@ pub fn run(args: Args) -> Result<Outcome> {
                 .bands
                 .iter()
                 .zip(&outcomes)
-                .filter_map(|(name, r)| r.as_ref().ok().map(|r| BandMark::from_jitter(name, r)))
+                .filter_map(|((name, _), r)| {
+                    r.as_ref().ok().map(|r| BandMark::from_jitter(name, r))
+                })
                 .collect(),
             notes,
         };

@@ -100,15 +100,44 @@ fn remove_temp_files_on_signal() {
     });
 }
 
+/// A bad command line in tauwise's words: `tauwise: error: --budget 1.5:
+/// '1.5' has no unit: …` for a value one of the parsers refused (the option,
+/// the value, then the parser's reason), clap's own message otherwise
+/// (unknown option, missing value, …), after `tauwise: `.
+fn command_line_error(e: &clap::Error) -> String {
+    use clap::error::{ContextKind, ContextValue, ErrorKind};
+    if e.kind() == ErrorKind::ValueValidation {
+        let text = |k| match e.get(k) {
+            Some(ContextValue::String(s)) => Some(s.clone()),
+            _ => None,
+        };
+        let why = std::error::Error::source(e).map(|s| s.to_string());
+        if let (Some(arg), Some(value), Some(why)) = (
+            text(ContextKind::InvalidArg),
+            text(ContextKind::InvalidValue),
+            why,
+        ) {
+            // `--budget <DUR>` → `--budget`; a positional keeps its name.
+            let flag = arg.split_whitespace().next().unwrap_or(&arg);
+            return format!("tauwise: error: {flag} {value}: {why}\n");
+        }
+    }
+    format!("tauwise: {}", e.render())
+}
+
 /// Run the command line; returns the process exit code.
 pub fn main() -> i32 {
     remove_temp_files_on_signal();
     let cli = match Cli::try_parse() {
         Ok(c) => c,
-        Err(e) => {
-            let code = if e.use_stderr() { 2 } else { 0 };
+        Err(e) if !e.use_stderr() => {
+            // --help, --version
             let _ = e.print();
-            return code;
+            return 0;
+        }
+        Err(e) => {
+            eprint!("{}", command_line_error(&e));
+            return 2;
         }
     };
     let result: Result<Outcome, tauwise::Error> = match cli.command {
@@ -130,7 +159,11 @@ pub fn main() -> i32 {
         Ok(Outcome::NotJudged) => 4,
         Err(e) => {
             eprintln!("tauwise: error: {e}");
-            1
+            if e.is_bad_request() {
+                2
+            } else {
+                1
+            }
         }
     }
 }

@@ -3,7 +3,9 @@
 //! and the report use: a power law, or `drift`) and the power-law model
 //! fitted to the record.
 
-use super::common::{emit, header_json, json_text, num, plain, Format, InputArgs, OutputArgs};
+use super::common::{
+    emit, header_json, json_text, num, plain, Format, InputArgs, OutputArgs, PlotArgs, TauArgs,
+};
 use super::Outcome;
 use clap::Args as ClapArgs;
 use std::fmt::Write as _;
@@ -12,29 +14,27 @@ use tauwise::deviation::Estimator;
 use tauwise::model::noise_label;
 use tauwise::stability::{fit_record_model, RecordModel};
 use tauwise::stats::noise_id::{NoiseIdentifier, NoiseRow};
-use tauwise::tau::TauGrid;
 use tauwise::units::{format_si, format_sig};
 use tauwise::Result;
 
 /// The dominant noise per τ (WPM … RWFM, or drift) and the fitted power-law model.
 #[derive(Debug, ClapArgs)]
+#[command(mut_arg("plot", |a| a.help("Draw OADEV and MDEV with the fitted model's curves dashed and the \
+noise type of each τ region to FILE (.svg or .png).")))]
 pub struct Args {
     /// Input file (`-` reads standard input).
     #[arg(value_name = "FILE")]
     pub file: PathBuf,
     #[command(flatten)]
     pub input: InputArgs,
-    /// τ grid: octave, decade, all, log:N or a list of durations.
-    #[arg(long, value_name = "GRID", default_value = "octave")]
-    pub taus: String,
+    #[command(flatten)]
+    pub taus: TauArgs,
     /// Remove a least-squares frequency drift before the analysis (aging
     /// would otherwise read as random-walk FM at long τ).
     #[arg(long, value_enum, value_name = "MODEL")]
     pub remove_drift: Option<super::prepare::DriftArg>,
-    /// Draw OADEV and MDEV with the fitted model's curves dashed and the
-    /// noise type of each τ region to FILE (.svg or .png).
-    #[arg(long, value_name = "FILE")]
-    pub plot: Option<PathBuf>,
+    #[command(flatten)]
+    pub plot: PlotArgs,
     #[command(flatten)]
     pub output: OutputArgs,
 }
@@ -43,9 +43,9 @@ pub struct Args {
 pub fn run(args: Args) -> Result<Outcome> {
     super::common::check_output_paths(
         &[&args.file],
-        &[args.output.output.as_deref(), args.plot.as_deref()],
+        &[args.output.output.as_deref(), args.plot.plot.as_deref()],
     )?;
-    let grid = TauGrid::parse(&args.taus)?;
+    let grid = &args.taus.taus;
     let progress = super::common::Progress::start("noise");
     progress.stage(format!("reading {}", args.file.display()));
     let mut series = args.input.load(&args.file)?;
@@ -59,8 +59,8 @@ pub fn run(args: Args) -> Result<Outcome> {
         .collect();
     let drift_per_day = ids.drift_rate().map(|d| d * 86_400.0);
     progress.stage("fitting the power-law model");
-    let model = fit_record_model(&x, &grid)?;
-    if let Some(path) = &args.plot {
+    let model = fit_record_model(&x, grid)?;
+    if let Some(path) = &args.plot.plot {
         use tauwise::plot::stability::{
             model_curves, regions_from_curve, SigmaCurve, StabilityPlot,
         };

@@ -3,7 +3,7 @@
 //! [--lf TABLE --carrier F]` for a single record (and phase-noise table)
 //! without a DUT file.
 
-use super::common::{emit_to, InputArgs};
+use super::common::{emit_to, ConfidenceArgs, InputArgs};
 use super::Outcome;
 use clap::Args as ClapArgs;
 use std::path::PathBuf;
@@ -22,16 +22,15 @@ pub struct Args {
     /// Write the report to FILE (atomically); default: standard output.
     #[arg(short = 'o', long = "output", value_name = "FILE")]
     pub output: Option<PathBuf>,
-    /// Confidence level of the intervals, in (0, 1).
-    #[arg(long, value_name = "P", default_value_t = 0.683)]
-    pub confidence: f64,
+    #[command(flatten)]
+    pub confidence: ConfidenceArgs,
     /// Also write every chart of the report into DIR as PNG files
     /// (stability.png, phase-noise.png, wander-mtie.png, holdover.png, …).
     #[arg(long, value_name = "DIR")]
     pub charts: Option<PathBuf>,
     /// Size of the --charts pictures in pixels, WIDTHxHEIGHT.
-    #[arg(long, value_name = "WxH", default_value = "960x600")]
-    pub chart_size: String,
+    #[arg(long, value_name = "WxH", default_value = "960x600", value_parser = parse_size)]
+    pub chart_size: (u32, u32),
     /// Exit with status 3 when any verdict exceeds its limit, 4 when none
     /// does but one cannot be judged.
     #[arg(long)]
@@ -69,8 +68,9 @@ fn quick_dut(a: &Args) -> Result<Dut> {
     let mut phase_noise = Vec::new();
     if let Some(lf) = &a.lf {
         let carrier = opts.carrier.ok_or_else(|| {
-            Error::invalid(
-                "--lf needs --carrier (the carrier of the phase-noise table, e.g. 10MHz)",
+            Error::option(
+                "--lf",
+                "needs --carrier (the carrier of the phase-noise table, e.g. 10MHz)",
             )
         })?;
         if !lf.is_file() {
@@ -108,6 +108,11 @@ fn quick_dut(a: &Args) -> Result<Dut> {
             units: opts.unit,
             value_column: opts.value_column,
             time_column: opts.time_column,
+            no_time_column: opts.no_time_column,
+            snap: opts.snap,
+            wrap: opts.wrap,
+            comments: opts.comments.clone(),
+            decimal_comma: opts.decimal_comma,
             prepare: tauwise::io::dut::RECORD_STEPS,
             bandwidth: None,
         }],
@@ -120,28 +125,23 @@ fn quick_dut(a: &Args) -> Result<Dut> {
 }
 
 /// Parse `960x600`.
-fn parse_size(text: &str) -> Result<(u32, u32)> {
+fn parse_size(text: &str) -> std::result::Result<(u32, u32), tauwise::units::UnitError> {
     text.split_once(['x', 'X', '×'])
         .and_then(|(w, h)| Some((w.trim().parse().ok()?, h.trim().parse().ok()?)))
-        .ok_or_else(|| {
-            Error::invalid(format!(
-                "--chart-size {text}: expected WIDTHxHEIGHT in pixels, e.g. 960x600"
-            ))
+        .ok_or_else(|| tauwise::units::UnitError::Bad {
+            text: text.to_string(),
+            what: "chart size",
+            expected: "WIDTHxHEIGHT in pixels, e.g. 960x600",
         })
 }
 
 /// Run `report`.
 pub fn run(a: Args) -> Result<Outcome> {
-    if !(a.confidence > 0.0 && a.confidence < 1.0) {
-        return Err(Error::invalid(format!(
-            "--confidence {}: expected a probability strictly between 0 and 1 (e.g. 0.683, 0.95)",
-            a.confidence
-        )));
-    }
     let dut = if is_dut_file(&a.input) {
         if a.lf.is_some() || a.name.is_some() || a.input_args.tau0.is_some() {
-            return Err(Error::invalid(
-                "--lf, --name and the record options belong to the quick form; a DUT file holds them itself",
+            return Err(Error::option(
+                "--lf, --name, --tau0",
+                "belong to the quick form; a DUT file holds them itself",
             ));
         }
         Dut::read(&a.input)?
@@ -158,16 +158,16 @@ pub fn run(a: Args) -> Result<Outcome> {
     }
     super::common::check_output_paths(&inputs, &[a.output.as_deref()])?;
     let opts = BuildOptions {
-        confidence: a.confidence,
+        confidence: a.confidence.confidence.value(),
         ..BuildOptions::default()
     };
-    let size = parse_size(&a.chart_size)?;
+    let size = a.chart_size;
     if let Some(dir) = &a.charts {
         if !dir.is_dir() {
-            return Err(Error::invalid(format!(
-                "--charts {}: not a directory",
-                dir.display()
-            )));
+            return Err(Error::option(
+                format!("--charts {}", dir.display()),
+                "not a directory",
+            ));
         }
     }
     let report = {

@@ -9,8 +9,9 @@ use std::io::Write;
 use std::path::PathBuf;
 use tauwise::io::record_file::{write_record_file, RecordFile, Start};
 use tauwise::model::PowerLaw;
+use tauwise::parse::{Duration, Fraction, Frequency, Model, Rate};
 use tauwise::simulate::{simulate_frequency, simulate_phase, SimSpec};
-use tauwise::units::{parse_duration, parse_frequency, parse_value_unit, FreqUnit, ValueUnit};
+use tauwise::units::{parse_value_unit, FreqUnit, PhaseUnit, UnitError, ValueUnit};
 use tauwise::{Error, Record};
 
 /// Which quantity to write.
@@ -31,14 +32,14 @@ pub enum SimData {
 pub struct SimulateArgs {
     /// Power-law model in h_α notation, e.g. h0=1e-22,h-1=3e-26,h-2=1e-31
     /// (terms h2 h1 h0 h-1 h-2; fh, if given, must be 1/(2·τ0)).
-    #[arg(long, value_name = "MODEL")]
-    pub model: String,
+    #[arg(long, value_name = "MODEL", value_parser = str::parse::<Model>)]
+    pub model: Model,
     /// Sampling interval τ0 (1s, 100ms, …).
-    #[arg(long, value_name = "DUR", default_value = "1s")]
-    pub tau0: String,
+    #[arg(long, value_name = "DUR", default_value = "1s", allow_hyphen_values = true, value_parser = Duration::positive)]
+    pub tau0: Duration,
     /// Number of samples (100000, 1e6, …).
-    #[arg(long, value_name = "N")]
-    pub points: String,
+    #[arg(long, value_name = "N", value_parser = parse_points)]
+    pub points: usize,
     /// Seed of the random generator (the same seed gives the same record).
     #[arg(long, value_name = "N", default_value_t = 1)]
     pub seed: u64,
@@ -46,67 +47,30 @@ pub struct SimulateArgs {
     #[arg(long, value_enum, default_value = "phase")]
     pub data: SimData,
     /// Units of the values written: s ms us ns ps (phase), frac ppm ppb hz (freq).
-    #[arg(long, value_name = "UNIT")]
-    pub units: Option<String>,
+    #[arg(long, value_name = "UNIT", value_parser = parse_value_unit)]
+    pub units: Option<ValueUnit>,
     /// Nominal (carrier) frequency, needed for --units hz.
-    #[arg(long, value_name = "FREQ")]
-    pub carrier: Option<String>,
+    #[arg(long, value_name = "FREQ", allow_hyphen_values = true, value_parser = Frequency::positive)]
+    pub carrier: Option<Frequency>,
     /// Constant fractional-frequency offset (1e-9, 2ppb, …).
-    #[arg(long, value_name = "Y0", allow_hyphen_values = true)]
-    pub offset: Option<String>,
-    /// Linear frequency drift, fractional per duration (1e-10/day, 3ppb/24h;
-    /// a plain number is per second).
-    #[arg(long, value_name = "RATE", allow_hyphen_values = true)]
-    pub drift: Option<String>,
+    #[arg(long, value_name = "Y0", allow_hyphen_values = true, value_parser = str::parse::<Fraction>)]
+    pub offset: Option<Fraction>,
+    /// Linear frequency drift, fractional per time (1e-10/day, 1ppb/day,
+    /// 3ppb/24h, 5e-11/week; the time is required).
+    #[arg(long, value_name = "RATE", allow_hyphen_values = true, value_parser = str::parse::<Rate>)]
+    pub drift: Option<Rate>,
     /// Output file (written atomically); standard output when absent.
     #[arg(short = 'o', long, value_name = "FILE")]
     pub output: Option<PathBuf>,
 }
 
-/// Parse a fractional value: a number with an optional `ppm`, `ppb`, `ppt`
-/// or `frac` suffix.
-pub fn parse_fraction(text: &str) -> Result<f64, Error> {
-    Ok(tauwise::units::parse_fraction(text)?)
-}
-
-/// Parse a drift rate `VALUE[/DURATION]` into fractional frequency per second.
-pub fn parse_rate(text: &str) -> Result<f64, Error> {
-    let (value, per) = match text.split_once('/') {
-        Some((v, p)) => (v, Some(p.trim())),
-        None => (text, None),
-    };
-    let v = parse_fraction(value)?;
-    let seconds = match per {
-        None => 1.0,
-        Some(p) => {
-            let p = if p.starts_with(|c: char| c.is_ascii_digit() || c == '.') {
-                p.to_string()
-            } else {
-                format!("1{p}")
-            };
-            let s = parse_duration(&p).map_err(|_| {
-                Error::invalid(format!(
-                    "'{text}' is not a drift rate: expected VALUE/DURATION such as 1e-10/day, \
-                     3ppb/24h or 1e-15/s"
-                ))
-            })?;
-            if s <= 0.0 {
-                return Err(Error::invalid(format!(
-                    "'{text}': the duration of a drift rate must be positive"
-                )));
-            }
-            s
-        }
-    };
-    Ok(v / seconds)
-}
-
-fn parse_points(text: &str) -> Result<usize, Error> {
+/// `--points`: a positive whole number, also in exponent form (`1e6`).
+fn parse_points(text: &str) -> Result<usize, UnitError> {
     let t = text.trim();
-    let bad = || {
-        Error::invalid(format!(
-            "--points '{text}' is not a positive whole number (e.g. 100000 or 1e6)"
-        ))
+    let bad = || UnitError::Bad {
+        text: t.to_string(),
+        what: "number of points",
+        expected: "a positive whole number (e.g. 100000 or 1e6)",
     };
     if let Ok(n) = t.parse::<usize>() {
         return if n > 0 { Ok(n) } else { Err(bad()) };
@@ -147,34 +111,40 @@ fn quote(arg: &str) -> String {
 /// Run `tauwise simulate`.
 pub fn run(args: SimulateArgs) -> Result<Outcome, Error> {
     super::common::check_output_paths(&[], &[args.output.as_deref()])?;
-    let tau0 = parse_duration(&args.tau0)?;
-    if !(tau0.is_finite() && tau0 > 0.0) {
-        return Err(Error::invalid(format!(
-            "--tau0 '{}' must be a positive duration",
-            args.tau0
-        )));
+    let tau0 = args.tau0.seconds();
+    let points = args.points;
+    let model = args.model.power_law(0.5 / tau0);
+    // The record's bandwidth is 1/(2τ0); a model that says otherwise for
+    // its WPM/FPM terms contradicts --tau0 (the library refuses it too).
+    if let Some(fh) = args.model.f_h {
+        let uses_fh = model.get(2) > 0.0 || model.get(1) > 0.0;
+        if uses_fh && (fh - 0.5 / tau0).abs() > 1e-9 * (0.5 / tau0) {
+            return Err(Error::option(
+                "--model",
+                format!(
+                    "fh = {fh} Hz, but the synthesised record has bandwidth f_h = 1/(2τ0) = {} Hz: omit fh or set it to 1/(2τ0)",
+                    0.5 / tau0
+                ),
+            ));
+        }
     }
-    let points = parse_points(&args.points)?;
-    let model = PowerLaw::parse(&args.model, 0.5 / tau0)
-        .map_err(|e| Error::invalid(format!("--model: {e}")))?;
     let mut spec = SimSpec::new(model, tau0, points, args.seed);
-    if let Some(o) = &args.offset {
-        spec.freq_offset =
-            parse_fraction(o).map_err(|e| Error::invalid(format!("--offset: {e}")))?;
+    if let Some(o) = args.offset {
+        spec.freq_offset = o.value();
     }
-    if let Some(d) = &args.drift {
-        spec.drift_per_s = parse_rate(d).map_err(|e| Error::invalid(format!("--drift: {e}")))?;
+    if let Some(d) = args.drift {
+        spec.drift_per_s = d.per_second();
     }
 
-    let unit_text = args.units.clone().unwrap_or_else(|| match args.data {
-        SimData::Phase => "s".into(),
-        SimData::Freq => "frac".into(),
+    let unit = args.units.unwrap_or(match args.data {
+        SimData::Phase => ValueUnit::Phase(PhaseUnit::S),
+        SimData::Freq => ValueUnit::Freq(FreqUnit::Frac),
     });
-    let unit = parse_value_unit(&unit_text).map_err(|e| Error::invalid(format!("--units: {e}")))?;
-    let carrier = match &args.carrier {
-        Some(c) => Some(parse_frequency(c)?),
-        None => None,
+    let unit_text = match unit {
+        ValueUnit::Phase(u) => u.symbol(),
+        ValueUnit::Freq(u) => u.symbol(),
     };
+    let carrier = args.carrier.map(Frequency::hertz);
 
     let (record, what): (Record, String) = match (args.data, unit) {
         (SimData::Phase, ValueUnit::Phase(u)) => (
@@ -183,8 +153,9 @@ pub fn run(args: SimulateArgs) -> Result<Outcome, Error> {
         ),
         (SimData::Freq, ValueUnit::Freq(u)) => {
             if u == FreqUnit::Hz && !carrier.is_some_and(|c| c > 0.0) {
-                return Err(Error::invalid(
-                    "--units hz writes absolute frequency and needs --carrier FREQ (e.g. 10MHz)",
+                return Err(Error::option(
+                    "--units hz",
+                    "writes absolute frequency and needs --carrier FREQ (e.g. 10MHz)",
                 ));
             }
             let what = match u {
@@ -199,14 +170,16 @@ pub fn run(args: SimulateArgs) -> Result<Outcome, Error> {
             (Record::Frequency(simulate_frequency(&spec)?), what)
         }
         (SimData::Phase, ValueUnit::Freq(_)) => {
-            return Err(Error::invalid(format!(
-                "--units {unit_text} is a frequency unit, but --data phase writes phase: use one of s ms us ns ps"
-            )))
+            return Err(Error::option(
+                format!("--units {unit_text}"),
+                "is a frequency unit, but --data phase writes phase: use one of s ms us ns ps",
+            ))
         }
         (SimData::Freq, ValueUnit::Phase(_)) => {
-            return Err(Error::invalid(format!(
-                "--units {unit_text} is a phase unit, but --data freq writes frequency: use one of frac ppm ppb hz"
-            )))
+            return Err(Error::option(
+                format!("--units {unit_text}"),
+                "is a phase unit, but --data freq writes frequency: use one of frac ppm ppb hz",
+            ))
         }
     };
 
@@ -269,14 +242,7 @@ mod tests {
     use super::*;
 
     #[test]
-    fn rates_and_fractions() {
-        assert_eq!(parse_fraction("2ppb").unwrap(), 2e-9);
-        assert_eq!(parse_fraction("-1e-9").unwrap(), -1e-9);
-        assert!(parse_fraction("fast").is_err());
-        assert!((parse_rate("1e-10/day").unwrap() - 1e-10 / 86400.0).abs() < 1e-30);
-        assert!((parse_rate("3ppb/24h").unwrap() - 3e-9 / 86400.0).abs() < 1e-30);
-        assert_eq!(parse_rate("1e-15").unwrap(), 1e-15);
-        assert!(parse_rate("1e-10/fortnight").is_err());
+    fn points() {
         assert_eq!(parse_points("1e6").unwrap(), 1_000_000);
         assert!(parse_points("0").is_err());
         assert!(parse_points("2.5").is_err());

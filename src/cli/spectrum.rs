@@ -1,7 +1,9 @@
 //! `tauwise spectrum FILE`: the PSD of a time record by Welch's method, as
 //! L(f), S_φ, S_y and S_x ([`tauwise::spectrum::welch`]).
 
-use super::common::{emit, header_json, json_text, num, plain, Format, InputArgs, OutputArgs};
+use super::common::{
+    emit, header_json, json_text, num, plain, Format, InputArgs, OutputArgs, PlotArgs,
+};
 use super::Outcome;
 use clap::Args as ClapArgs;
 use std::fmt::Write as _;
@@ -17,6 +19,7 @@ use tauwise::{Error, Result};
 #[command(
     after_help = "Example:\n  tauwise spectrum ocxo-a.csv --tau0 1s --units ns --carrier 10MHz --format csv"
 )]
+#[command(mut_arg("plot", |a| a.help("Draw L(f) of the record to FILE (.svg or .png); needs --carrier.")))]
 pub struct Args {
     /// Input record (`-` reads standard input).
     #[arg(value_name = "FILE")]
@@ -25,11 +28,11 @@ pub struct Args {
     pub input: InputArgs,
     /// The quantity that must be available: lf and sphi need --carrier;
     /// sy and sx do not (the other columns are then left empty).
-    #[arg(long, value_name = "Q", default_value = "lf")]
-    pub quantity: String,
+    #[arg(long, value_name = "Q", default_value = "lf", value_parser = Quantity::parse)]
+    pub quantity: Quantity,
     /// Data window: hann, rectangular or blackman-harris.
-    #[arg(long, value_name = "NAME", default_value = "hann")]
-    pub window: String,
+    #[arg(long, value_name = "NAME", default_value = "hann", value_parser = Window::parse)]
+    pub window: Window,
     /// Segment length in samples (default: the largest power of two not
     /// above a quarter of the longest gap-free stretch).
     #[arg(long, value_name = "N", value_parser = super::common::count)]
@@ -43,9 +46,8 @@ pub struct Args {
     /// Write every DFT bin instead of log-spaced averages.
     #[arg(long)]
     pub all_bins: bool,
-    /// Draw L(f) of the record to FILE (.svg or .png); needs --carrier.
-    #[arg(long, value_name = "FILE")]
-    pub plot: Option<PathBuf>,
+    #[command(flatten)]
+    pub plot: PlotArgs,
     #[command(flatten)]
     pub output: OutputArgs,
 }
@@ -56,9 +58,9 @@ pub fn carrier_of(input: &InputArgs) -> Result<Option<f64>> {
 }
 
 /// Welch options from the command-line words.
-pub fn welch_options(window: &str, segment: Option<usize>, overlap: f64) -> Result<WelchOptions> {
+pub fn welch_options(window: Window, segment: Option<usize>, overlap: f64) -> Result<WelchOptions> {
     Ok(WelchOptions {
-        window: Window::parse(window)?,
+        window,
         segment,
         overlap,
     })
@@ -68,21 +70,21 @@ pub fn welch_options(window: &str, segment: Option<usize>, overlap: f64) -> Resu
 pub fn run(args: Args) -> Result<Outcome> {
     super::common::check_output_paths(
         &[&args.file],
-        &[args.output.output.as_deref(), args.plot.as_deref()],
+        &[args.output.output.as_deref(), args.plot.plot.as_deref()],
     )?;
-    let quantity = Quantity::parse(&args.quantity)?;
+    let quantity = args.quantity;
     let carrier = carrier_of(&args.input)?;
     if carrier.is_none() && matches!(quantity, Quantity::Lf | Quantity::Sphi) {
-        return Err(Error::invalid(format!(
-            "--quantity {} needs the carrier frequency: give --carrier (e.g. --carrier 10MHz), or ask for --quantity sy or sx",
-            quantity.name()
-        )));
+        return Err(Error::option(
+            format!("--quantity {}", quantity.name()),
+            "needs the carrier frequency: give --carrier (e.g. --carrier 10MHz), or ask for --quantity sy or sx",
+        ));
     }
-    if let (Some(path), None) = (&args.plot, carrier) {
-        return Err(Error::invalid(format!(
-            "--plot {}: the chart shows L(f), which needs the carrier frequency: give --carrier (e.g. --carrier 10MHz)",
-            path.display()
-        )));
+    if let (Some(path), None) = (&args.plot.plot, carrier) {
+        return Err(Error::option(
+            format!("--plot {}", path.display()),
+            "the chart shows L(f), which needs the carrier frequency: give --carrier (e.g. --carrier 10MHz)",
+        ));
     }
     let progress = super::common::Progress::start("spectrum");
     progress.stage(format!("reading {}", args.file.display()));
@@ -90,7 +92,7 @@ pub fn run(args: Args) -> Result<Outcome> {
     progress.stage("computing");
     let w = welch_record(
         &series.record,
-        &welch_options(&args.window, args.segment, args.overlap)?,
+        &welch_options(args.window, args.segment, args.overlap)?,
     )?;
     for warning in &w.warnings {
         eprintln!("tauwise: warning: {warning}");
@@ -101,7 +103,7 @@ pub fn run(args: Args) -> Result<Outcome> {
         w.log_binned(args.per_decade, carrier)?
     };
     let rows = Rows::new(&spec)?;
-    if let Some(path) = &args.plot {
+    if let Some(path) = &args.plot.plot {
         let name = series.info.path.display().to_string();
         let plot = PhaseNoisePlot {
             title: name.clone(),

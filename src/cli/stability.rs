@@ -1,20 +1,25 @@
 //! `tauwise stability FILE`: σ(τ) curves with confidence intervals and the
 //! noise type at each τ, as a table, CSV or JSON (docs/design.md §5).
 
-use super::common::{emit, header_json, json_text, num, plain, Format, InputArgs, OutputArgs};
+use super::common::{
+    emit, header_json, json_text, num, plain, ConfidenceArgs, Format, InputArgs, OutputArgs,
+    PlotArgs, TauArgs,
+};
 use super::Outcome;
 use clap::Args as ClapArgs;
 use std::fmt::Write as _;
 use std::path::PathBuf;
 use tauwise::deviation::{Curve, Estimator};
+use tauwise::parse::{EstimatorList, Frequency};
 use tauwise::stability::{analyse, best, BestPoint, Request, BEST_CURVE};
-use tauwise::tau::TauGrid;
 use tauwise::units::{format_si, format_sig};
 use tauwise::PhaseRecord;
 use tauwise::Result;
 
 /// σ(τ) curves with confidence intervals and noise type.
 #[derive(Debug, ClapArgs)]
+#[command(mut_arg("plot", |a| a.help("Draw the σ–τ chart to FILE (.svg or .png). Time deviations (tdev, \
+ttot, mtie, tierms) requested beside σ_y curves go to their own chart, FILE-time.svg (or .png) next to it.")))]
 pub struct Args {
     /// Input file (`-` reads standard input).
     #[arg(value_name = "FILE")]
@@ -23,24 +28,16 @@ pub struct Args {
     pub input: InputArgs,
     /// Estimators, comma-separated (adev, oadev, mdev, tdev, hdev, ohdev,
     /// totdev, mtot, ttot, htot, theo1, theoh, mtie, tierms).
-    #[arg(long = "dev", value_name = "LIST", default_value = "oadev")]
-    pub dev: String,
-    /// τ grid: octave, decade, all, log:N (N per decade) or a list of
-    /// durations (1,10,100s,1h).
-    #[arg(long, value_name = "GRID", default_value = "octave")]
-    pub taus: String,
-    /// Two-sided confidence level of the intervals.
-    #[arg(
-        long,
-        value_name = "P",
-        default_value_t = 0.683,
-        allow_hyphen_values = true
-    )]
-    pub confidence: f64,
+    #[arg(long = "dev", value_name = "LIST", default_value = "oadev", value_parser = str::parse::<EstimatorList>)]
+    pub dev: EstimatorList,
+    #[command(flatten)]
+    pub taus: TauArgs,
+    #[command(flatten)]
+    pub confidence: ConfidenceArgs,
     /// Force one noise type for every τ (WPM FPM WFM FFM RWFM, or α)
     /// instead of identifying it per τ.
-    #[arg(long = "noise-type", value_name = "TYPE", allow_hyphen_values = true)]
-    pub noise_type: Option<String>,
+    #[arg(long = "noise-type", value_name = "TYPE", allow_hyphen_values = true, value_parser = tauwise::model::parse_noise)]
+    pub noise_type: Option<i32>,
     /// Phase-noise table (offset vs L(f) in dBc/Hz) to convert to σ(τ) beside
     /// the measured curves (`<estimator>-from-lf`), with a consistency check
     /// where both exist; needs --carrier.
@@ -49,17 +46,14 @@ pub struct Args {
     /// With --lf: the record's measurement bandwidth (e.g. 0.5Hz, 100Hz),
     /// at which the table's σ(τ) is computed for the comparison. Default:
     /// the record's Nyquist frequency 1/(2τ0).
-    #[arg(long, value_name = "FREQ", requires = "lf")]
-    pub bandwidth: Option<String>,
+    #[arg(long, value_name = "FREQ", requires = "lf", value_parser = Frequency::positive)]
+    pub bandwidth: Option<Frequency>,
     /// With --lf: the table's own uncertainty in dB of L(f), part of the
     /// comparison's tolerance (default 2dB).
-    #[arg(long, value_name = "DB", requires = "lf")]
-    pub lf_uncertainty: Option<String>,
-    /// Draw the σ–τ chart to FILE (.svg or .png). Time deviations (tdev,
-    /// ttot, mtie, tierms) requested beside σ_y curves go to their own chart,
-    /// FILE-time.svg (or .png) next to it.
-    #[arg(long, value_name = "FILE")]
-    pub plot: Option<PathBuf>,
+    #[arg(long, value_name = "DB", requires = "lf", value_parser = tauwise::parse::uncertainty_db)]
+    pub lf_uncertainty: Option<f64>,
+    #[command(flatten)]
+    pub plot: PlotArgs,
     /// Remove a least-squares frequency drift before the analysis (aging
     /// would otherwise read as random-walk FM at long τ).
     #[arg(long, value_enum, value_name = "MODEL")]
@@ -84,21 +78,18 @@ pub struct Args {
 pub fn run(args: Args) -> Result<Outcome> {
     let mut inputs = vec![args.file.as_path()];
     inputs.extend(args.lf.as_deref());
-    let time_plot = args.plot.as_deref().map(time_chart_path);
+    let time_plot = args.plot.plot.as_deref().map(time_chart_path);
     super::common::check_output_paths(
         &inputs,
         &[
             args.output.output.as_deref(),
-            args.plot.as_deref(),
+            args.plot.plot.as_deref(),
             time_plot.as_deref(),
         ],
     )?;
-    let estimators = Estimator::parse_list(&args.dev)?;
-    let grid = TauGrid::parse(&args.taus)?;
-    let forced_alpha = match &args.noise_type {
-        Some(t) => Some(tauwise::model::parse_noise(t)?),
-        None => None,
-    };
+    let estimators = args.dev.0.clone();
+    let grid = args.taus.taus.clone();
+    let forced_alpha = args.noise_type;
     let progress = super::common::Progress::start("stability");
     progress.stage(format!("reading {}", args.file.display()));
     let mut series = args.input.load(&args.file)?;
@@ -106,7 +97,7 @@ pub fn run(args: Args) -> Result<Outcome> {
     let request = Request {
         estimators,
         grid,
-        confidence: args.confidence,
+        confidence: args.confidence.confidence.value(),
         forced_alpha,
         bias_correction: !args.uncorrected,
     };
@@ -122,7 +113,7 @@ pub fn run(args: Args) -> Result<Outcome> {
     if let Some(v) = &view {
         curves.extend(v.curves.iter().cloned());
     }
-    if let Some(path) = &args.plot {
+    if let Some(path) = &args.plot.plot {
         let mut plot = tauwise::plot::stability::StabilityPlot {
             title: series.info.path.display().to_string(),
             curves: curves
@@ -308,10 +299,7 @@ fn best_table(b: &[BestPoint], x: &PhaseRecord) -> String {
     if any {
         let _ = writeln!(s, "{CORRECTED_NOTE}");
     }
-    let _ = writeln!(
-        s,
-        "An engineering estimate: the governing standard, the equipment maker's data and local acceptance procedures decide."
-    );
+    let _ = writeln!(s, "{}", tauwise::DECISION_CAUTION);
     s
 }
 
@@ -455,18 +443,6 @@ pub fn curves_table(
     s
 }
 
-/// Parse `2dB` or `2` as a table uncertainty in dB (0 … 20).
-pub fn parse_db(text: &str, flag: &str) -> Result<f64> {
-    let t = text.trim();
-    let num = t.strip_suffix("dB").unwrap_or(t).trim();
-    match num.parse::<f64>() {
-        Ok(v) if v.is_finite() && (0.0..=20.0).contains(&v) => Ok(v),
-        _ => Err(tauwise::Error::invalid(format!(
-            "--{flag} {text}: expected an uncertainty in dB from 0 to 20, e.g. 2dB"
-        ))),
-    }
-}
-
 /// Read the `--lf` table and convert it beside the measured curves.
 fn phase_noise_view(
     args: &Args,
@@ -474,27 +450,24 @@ fn phase_noise_view(
     measured: &[Curve],
     tau0: f64,
 ) -> Result<tauwise::stability::PhaseNoiseView> {
-    let carrier =
-        match &args.input.carrier {
-            Some(c) => tauwise::units::parse_frequency(c)?,
-            None => return Err(tauwise::Error::invalid(
-                "--lf needs --carrier (the carrier frequency of the phase-noise table, e.g. 10MHz)",
-            )),
-        };
+    let carrier = match args.input.carrier {
+        Some(c) => c.hertz(),
+        None => {
+            return Err(tauwise::Error::option(
+                "--lf",
+                "needs --carrier (the carrier frequency of the phase-noise table, e.g. 10MHz)",
+            ))
+        }
+    };
     let opts = tauwise::io::lf_table::TableOptions {
         carrier: Some(carrier),
         ..Default::default()
     };
     let view = tauwise::stability::ViewOptions {
-        bandwidth: args
-            .bandwidth
-            .as_deref()
-            .map(|b| super::common::positive_frequency(b, "bandwidth", "0.5Hz"))
-            .transpose()?,
-        table_uncertainty_db: match &args.lf_uncertainty {
-            Some(u) => parse_db(u, "lf-uncertainty")?,
-            None => tauwise::stability::DEFAULT_TABLE_UNCERTAINTY_DB,
-        },
+        bandwidth: args.bandwidth.map(Frequency::hertz),
+        table_uncertainty_db: args
+            .lf_uncertainty
+            .unwrap_or(tauwise::stability::DEFAULT_TABLE_UNCERTAINTY_DB),
     };
     let t = tauwise::io::lf_table::read_lf_table(table, &opts)?;
     tauwise::stability::from_phase_noise(measured, &t.spectrum, tau0, &view)

@@ -1,23 +1,26 @@
 //! `tauwise wander FILE`: TIE statistics, MTIE and TDEV of a phase (TIE)
 //! record, checked against built-in or user masks.
 
-use super::common::{emit, header_json, json_text, plain, Format, InputArgs, OutputArgs};
+use super::common::{emit, header_json, json_text, plain, Format, InputArgs, OutputArgs, PlotArgs};
 use super::Outcome;
 use clap::Args as ClapArgs;
 use serde_json::Value;
 use std::fmt::Write as _;
 use std::path::PathBuf;
 use tauwise::io::series::Series;
+use tauwise::parse::Duration;
 use tauwise::tau::TauGrid;
-use tauwise::units::{format_margin_db, format_si};
+use tauwise::units::{format_margin_db, format_si, UnitError};
 use tauwise::verdict::{gate, Verdict};
 use tauwise::wander::masks::{builtin, CONDITIONS_NOTE};
 use tauwise::wander::{analyse, mask_file::read_mask_file, Options, WanderResult};
-use tauwise::{Error, Result, DECISION_CAUTION};
+use tauwise::{Result, DECISION_CAUTION};
 
 /// MTIE, TDEV and TIE statistics against wander masks.
 #[derive(Debug, ClapArgs)]
 #[command(after_help = super::EXIT_CODES)]
+#[command(mut_arg("plot", |a| a.help("Draw MTIE and TDEV against the masks, violations marked, to FILE \
+(.svg or .png).")))]
 pub struct Args {
     /// Input file of phase (time error) readings (`-` reads standard input).
     #[arg(value_name = "FILE")]
@@ -27,14 +30,14 @@ pub struct Args {
     /// τ grid: octave, decade, all, log:N or a list of durations, used as
     /// given. Default: 10 per decade over the whole record (MTIE to its
     /// span, TDEV to a third of it) with every mask's breakpoints.
-    #[arg(long, value_name = "GRID")]
-    pub taus: Option<String>,
+    #[arg(long, value_name = "GRID", value_parser = TauGrid::parse)]
+    pub taus: Option<TauGrid>,
     /// Only τ in FROM:TO, each with its unit (e.g. 1s:3h); the checks then
     /// say which part of each mask they covered.
-    #[arg(long, value_name = "FROM:TO")]
-    pub tau_range: Option<String>,
+    #[arg(long, value_name = "FROM:TO", value_parser = parse_tau_range)]
+    pub tau_range: Option<(f64, f64)>,
     /// Built-in mask to check (repeatable): g811, g8272-prtc-a, g8262-opt1.
-    #[arg(long = "mask", value_name = "NAME")]
+    #[arg(long = "mask", value_name = "NAME", value_parser = mask_name)]
     pub masks: Vec<String>,
     /// User mask file to check (repeatable); see docs/mask-file.md.
     #[arg(long = "mask-file", value_name = "FILE")]
@@ -46,10 +49,8 @@ pub struct Args {
     /// cannot be judged (for scripts).
     #[arg(long)]
     pub fail_on_violation: bool,
-    /// Draw MTIE and TDEV against the masks, violations marked, to FILE
-    /// (.svg or .png).
-    #[arg(long, value_name = "FILE")]
-    pub plot: Option<PathBuf>,
+    #[command(flatten)]
+    pub plot: PlotArgs,
     #[command(flatten)]
     pub output: OutputArgs,
 }
@@ -58,7 +59,7 @@ pub struct Args {
 pub fn run(args: Args) -> Result<Outcome> {
     super::common::check_output_paths(
         &[&args.file],
-        &[args.output.output.as_deref(), args.plot.as_deref()],
+        &[args.output.output.as_deref(), args.plot.plot.as_deref()],
     )?;
     // Masks first: a bad name or file fails before the record is read.
     let mut masks = Vec::new();
@@ -74,12 +75,12 @@ pub fn run(args: Args) -> Result<Outcome> {
     progress.stage("computing");
     let rec = series.record.to_phase();
     let opts = Options {
-        grid: args.taus.as_deref().map(TauGrid::parse).transpose()?,
-        range: args.tau_range.as_deref().map(parse_tau_range).transpose()?,
+        grid: args.taus.clone(),
+        range: args.tau_range,
         remove_offset: args.remove_offset,
     };
     let res = analyse(&rec, &opts, &masks)?;
-    if let Some(path) = &args.plot {
+    if let Some(path) = &args.plot.plot {
         let plots = tauwise::plot::wander::plots_from_result(
             &res,
             &masks,
@@ -109,22 +110,34 @@ pub fn run(args: Args) -> Result<Outcome> {
     ))
 }
 
+/// `--mask NAME`: a built-in mask (an unknown name is a bad command line).
+fn mask_name(text: &str) -> std::result::Result<String, UnitError> {
+    builtin(text)
+        .map(|_| text.to_string())
+        .map_err(|e| UnitError::Invalid {
+            text: text.to_string(),
+            reason: e.to_string(),
+        })
+}
+
 /// `FROM:TO`, two durations with their units (`1s:3h`).
-pub fn parse_tau_range(text: &str) -> Result<(f64, f64)> {
-    let (a, b) = text.split_once(':').ok_or_else(|| {
-        Error::invalid(format!(
-            "--tau-range {text}: expected FROM:TO with units, e.g. 1s:3h"
-        ))
+pub fn parse_tau_range(text: &str) -> std::result::Result<(f64, f64), UnitError> {
+    let t = text.trim();
+    let (a, b) = t.split_once(':').ok_or_else(|| UnitError::Bad {
+        text: t.to_string(),
+        what: "τ range",
+        expected: "FROM:TO with units, e.g. 1s:3h",
     })?;
-    let d = |v: &str| {
-        tauwise::units::parse_duration_with_unit(v)
-            .map_err(|e| Error::invalid(format!("--tau-range {text}: {e}")))
-    };
-    let (a, b) = (d(a)?, d(b)?);
-    if !(a > 0.0 && b >= a) {
-        return Err(Error::invalid(format!(
-            "--tau-range {text}: expected 0 < FROM ≤ TO"
-        )));
+    let (a, b) = (
+        Duration::positive_with_unit(a)?.seconds(),
+        Duration::positive_with_unit(b)?.seconds(),
+    );
+    if b < a {
+        return Err(UnitError::OutOfRange {
+            text: t.to_string(),
+            what: "a τ range FROM:TO",
+            range: "0 < FROM ≤ TO (e.g. 1s:3h)",
+        });
     }
     Ok((a, b))
 }

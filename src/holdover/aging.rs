@@ -238,8 +238,9 @@ pub fn fit_log(rec: &FrequencyRecord) -> Result<Aging> {
     })
 }
 
-/// Parse an aging rate such as `5e-11/day`, `1e-10/d`, `2e-12/h`, `3e-15/s`
-/// or a plain number (per second). Returns the rate per second.
+/// Parse an aging rate such as `5e-11/day`, `1ppb/day`, `2e-12/h`,
+/// `5e-11/24h` ([`crate::parse::Rate`]: the time is required). Returns the
+/// rate per second.
 ///
 /// ```
 /// use tauwise::holdover::aging::parse_aging_rate;
@@ -247,31 +248,7 @@ pub fn fit_log(rec: &FrequencyRecord) -> Result<Aging> {
 /// assert!(parse_aging_rate("fast").is_err());
 /// ```
 pub fn parse_aging_rate(text: &str) -> Result<f64> {
-    let t = text.trim();
-    let (num, per) = match t.split_once('/') {
-        Some((n, p)) => (n.trim(), p.trim()),
-        None => (t, "s"),
-    };
-    let bad = || {
-        Error::invalid(format!(
-            "aging '{text}': expected a fractional frequency change per time, e.g. 5e-11/day, 2e-12/h or 1e-16 (per second)"
-        ))
-    };
-    let v: f64 = num.parse().map_err(|_| bad())?;
-    let per_s = match per {
-        "s" | "sec" => 1.0,
-        "min" => 60.0,
-        "h" | "hr" | "hour" => 3600.0,
-        "d" | "day" => 86400.0,
-        "week" | "wk" => 7.0 * 86400.0,
-        "month" | "mo" => 30.0 * 86400.0,
-        "year" | "yr" | "y" => 365.25 * 86400.0,
-        _ => crate::units::parse_duration(per).map_err(|_| bad())?,
-    };
-    if !v.is_finite() || per_s <= 0.0 {
-        return Err(bad());
-    }
-    Ok(v / per_s)
+    Ok(text.parse::<crate::parse::Rate>()?.per_second())
 }
 
 #[cfg(test)]

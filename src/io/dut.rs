@@ -10,6 +10,7 @@
 //! path. Paths are relative to the DUT file's directory (`..` is allowed).
 
 use crate::io::ReadError;
+use crate::parse::{Duration, Filter, Fraction, Frequency, Rate};
 use crate::prepare::pipeline::Steps;
 use crate::prepare::DriftModel;
 use crate::record::DataKind;
@@ -53,7 +54,11 @@ struct RawSeries {
     tau0: Option<Spanned<toml::Value>>,
     units: Option<Spanned<String>>,
     value_column: Option<Spanned<i64>>,
-    time_column: Option<Spanned<i64>>,
+    time_column: Option<Spanned<toml::Value>>,
+    snap: Option<Spanned<toml::Value>>,
+    wrap: Option<Spanned<toml::Value>>,
+    comment: Option<Spanned<String>>,
+    decimal_comma: Option<bool>,
     drift: Option<Spanned<String>>,
     outliers: Option<Spanned<toml::Value>>,
     fill_gaps: Option<Spanned<bool>>,
@@ -155,6 +160,16 @@ pub struct TimeSource {
     pub value_column: Option<usize>,
     /// 1-based time column.
     pub time_column: Option<usize>,
+    /// No time column at all (`time_column = "none"`).
+    pub no_time_column: bool,
+    /// Round stamps to the τ0 grid when within this fraction of τ0.
+    pub snap: Option<f64>,
+    /// Unwrap phase readings that wrap at this period (s).
+    pub wrap: Option<f64>,
+    /// Extra comment characters.
+    pub comments: String,
+    /// A comma in a field is always the decimal mark.
+    pub decimal_comma: bool,
     /// How the record is prepared before analysis (outliers, drift, gap
     /// filling; [`crate::prepare::pipeline`]). A `[[record]]` removes a
     /// linear drift unless its `drift` key says otherwise
@@ -163,6 +178,26 @@ pub struct TimeSource {
     /// The record's measurement bandwidth, Hz, when stated (`None`: the
     /// Nyquist frequency 1/(2τ0)).
     pub bandwidth: Option<f64>,
+}
+
+impl TimeSource {
+    /// The reader options of this entry (those of the command line's
+    /// reading options), with the device's carrier for `hz` units.
+    pub fn series_options(&self, carrier: Option<f64>) -> crate::io::series::SeriesOptions {
+        crate::io::series::SeriesOptions {
+            kind: Some(self.data),
+            unit: self.units,
+            tau0: self.tau0,
+            carrier,
+            value_column: self.value_column,
+            time_column: self.time_column,
+            no_time_column: self.no_time_column,
+            snap: self.snap,
+            wrap: self.wrap,
+            comments: self.comments.clone(),
+            decimal_comma: self.decimal_comma,
+        }
+    }
 }
 
 /// The preparation of a `[[record]]` when its DUT entry says nothing: a
@@ -215,16 +250,9 @@ pub struct LfSource {
     pub uncertainty_db: Option<f64>,
 }
 
-/// A Butterworth weighting filter on the jitter integral (|H|² of order n).
-#[derive(Debug, Clone, Copy, PartialEq)]
-pub struct WeightingFilter {
-    /// High-pass (true) or low-pass (false).
-    pub highpass: bool,
-    /// Filter order n ≥ 1.
-    pub order: u32,
-    /// Corner frequency in Hz.
-    pub corner: f64,
-}
+/// A Butterworth weighting filter on the jitter integral (|H|² of order n),
+/// as the command line's `--filter` reads it.
+pub type WeightingFilter = crate::parse::Filter;
 
 /// One jitter band.
 #[derive(Debug, Clone, PartialEq)]
@@ -346,6 +374,110 @@ impl Ctx<'_> {
             ),
         }
     }
+
+    /// A value written as text (or a TOML number, read as its text), parsed
+    /// by the same parser as the command-line option: `what` says what a
+    /// value of the wrong TOML type should have been.
+    fn value<T>(
+        &self,
+        v: &Spanned<toml::Value>,
+        key: &str,
+        what: &str,
+        parse: impl Fn(&str) -> Result<T, units::UnitError>,
+    ) -> Result<T, ReadError> {
+        let Some(text) = value_text(v.get_ref()) else {
+            return self.err(
+                v.span(),
+                key,
+                format!("expected {what}, got {}", type_name(v.get_ref())),
+            );
+        };
+        parse(&text).or_else(|e| self.err(v.span(), key, e))
+    }
+    fn opt_value<T>(
+        &self,
+        v: &Option<Spanned<toml::Value>>,
+        key: &str,
+        what: &str,
+        parse: impl Fn(&str) -> Result<T, units::UnitError>,
+    ) -> Result<Option<T>, ReadError> {
+        v.as_ref()
+            .map(|v| self.value(v, key, what, parse))
+            .transpose()
+    }
+    /// A positive duration; plain numbers are seconds (`tau0`, `wrap`).
+    fn duration(&self, v: &Spanned<toml::Value>, key: &str) -> Result<f64, ReadError> {
+        self.value(
+            v,
+            key,
+            "a duration such as \"1s\" or a number of seconds",
+            Duration::positive,
+        )
+        .map(Duration::seconds)
+    }
+    /// A duration that decides a verdict (budget, span, te0, τ range): a
+    /// string with its unit; a bare number (TOML or text) is refused with
+    /// "give a unit".
+    fn duration_with_unit(
+        &self,
+        v: &Spanned<toml::Value>,
+        key: &str,
+        positive: bool,
+    ) -> Result<f64, ReadError> {
+        let what = "a duration with its unit such as \"1.5us\" or \"24h\"";
+        let parse = if positive {
+            Duration::positive_with_unit
+        } else {
+            Duration::with_unit
+        };
+        self.value(v, key, what, parse).map(Duration::seconds)
+    }
+    fn frequency(&self, v: &Spanned<toml::Value>, key: &str) -> Result<f64, ReadError> {
+        self.value(
+            v,
+            key,
+            "a frequency such as \"10MHz\" or a number of hertz",
+            Frequency::positive,
+        )
+        .map(Frequency::hertz)
+    }
+    fn column(&self, v: &Option<Spanned<i64>>, key: &str) -> Result<Option<usize>, ReadError> {
+        match v {
+            None => Ok(None),
+            Some(c) if *c.get_ref() >= 1 => Ok(Some(*c.get_ref() as usize)),
+            Some(c) => self.err(
+                c.span(),
+                key,
+                format!("expected a column number from 1, got {}", c.get_ref()),
+            ),
+        }
+    }
+    /// A reference to a named entry: `Some(name)` when `known` has it.
+    fn reference(
+        &self,
+        v: &Option<Spanned<String>>,
+        key: &str,
+        known: &[&str],
+        what: &str,
+    ) -> Result<Option<String>, ReadError> {
+        let Some(s) = v else { return Ok(None) };
+        let n = s.get_ref().trim();
+        if !known.contains(&n) {
+            return self.err(
+                s.span(),
+                key,
+                format!(
+                    "no {what} is named '{n}' (known: {})",
+                    if known.is_empty() {
+                        "none".to_string()
+                    } else {
+                        known.join(", ")
+                    }
+                ),
+            );
+        }
+        Ok(Some(n.to_string()))
+    }
 }
 
 fn value_text(v: &toml::Value) -> Option<String> {
@@ -369,184 +501,10 @@ fn type_name(v: &toml::Value) -> &'static str {
     }
 }
 
-/// Parse a duration that may also be written in femtoseconds (`150fs`).
-fn duration_with_fs(text: &str) -> Result<f64, units::UnitError> {
-    let t = text.trim();
-    if let Some(num) = t.strip_suffix("fs") {
-        if let Ok(v) = num.trim().parse::<f64>() {
-            if v.is_finite() {
-                return Ok(v * 1e-15);
-            }
-        }
-    }
-    units::parse_duration(t)
-}
-
-impl Ctx<'_> {
-    fn duration(
-        &self,
-        v: &Spanned<toml::Value>,
-        key: &str,
-        positive: bool,
-    ) -> Result<f64, ReadError> {
-        let Some(text) = value_text(v.get_ref()) else {
-            return self.err(
-                v.span(),
-                key,
-                format!(
-                    "expected a duration such as \"1s\" or a number of seconds, got {}",
-                    type_name(v.get_ref())
-                ),
-            );
-        };
-        let d = duration_with_fs(&text).or_else(|e| self.err(v.span(), key, e))?;
-        if positive && d <= 0.0 {
-            return self.err(
-                v.span(),
-                key,
-                format!("expected a positive duration, got '{text}'"),
-            );
-        }
-        Ok(d)
-    }
-    /// A duration that decides a verdict (budget, span, te0, τ range): a
-    /// string with its unit; a bare number (TOML or text) is refused with
-    /// "give a unit".
-    fn duration_with_unit(
-        &self,
-        v: &Spanned<toml::Value>,
-        key: &str,
-        positive: bool,
-    ) -> Result<f64, ReadError> {
-        let text = match v.get_ref() {
-            toml::Value::String(s) => s.clone(),
-            toml::Value::Integer(_) | toml::Value::Float(_) => {
-                let t = value_text(v.get_ref()).unwrap_or_default();
-                return self.err(
-                    v.span(),
-                    key,
-                    format!("'{t}' has no unit: give a unit, e.g. \"1.5us\" / \"24h\" (a bare number is refused where it decides a verdict)"),
-                );
-            }
-            other => {
-                return self.err(
-                    v.span(),
-                    key,
-                    format!(
-                        "expected a duration with its unit such as \"1.5us\" or \"24h\", got {}",
-                        type_name(other)
-                    ),
-                )
-            }
-        };
-        let d = units::parse_duration_with_unit(&text).or_else(|e| self.err(v.span(), key, e))?;
-        if positive && d <= 0.0 {
-            return self.err(
-                v.span(),
-                key,
-                format!("expected a positive duration, got '{text}'"),
-            );
-        }
-        Ok(d)
-    }
-    fn frequency(&self, v: &Spanned<toml::Value>, key: &str) -> Result<f64, ReadError> {
-        let Some(text) = value_text(v.get_ref()) else {
-            return self.err(
-                v.span(),
-                key,
-                format!(
-                    "expected a frequency such as \"10MHz\" or a number of hertz, got {}",
-                    type_name(v.get_ref())
-                ),
-            );
-        };
-        let f = units::parse_frequency(&text).or_else(|e| self.err(v.span(), key, e))?;
-        if f <= 0.0 {
-            return self.err(
-                v.span(),
-                key,
-                format!("expected a positive frequency, got '{text}'"),
-            );
-        }
-        Ok(f)
-    }
-    fn column(&self, v: &Option<Spanned<i64>>, key: &str) -> Result<Option<usize>, ReadError> {
-        match v {
-            None => Ok(None),
-            Some(c) if *c.get_ref() >= 1 => Ok(Some(*c.get_ref() as usize)),
-            Some(c) => self.err(
-                c.span(),
-                key,
-                format!("expected a column number from 1, got {}", c.get_ref()),
-            ),
-        }
-    }
-}
-
 fn file_stem(p: &Path) -> String {
     p.file_name()
         .map(|n| n.to_string_lossy().into_owned())
         .unwrap_or_default()
-}
-
-/// Parse `highpass:ORDER:FC` or `lowpass:ORDER:FC` (Butterworth magnitude).
-pub fn parse_filter(text: &str) -> Result<WeightingFilter, String> {
-    let parts: Vec<&str> = text.trim().split(':').collect();
-    let expected = "expected highpass:ORDER:FC or lowpass:ORDER:FC (e.g. highpass:1:12k)";
-    if parts.len() != 3 {
-        return Err(format!("filter '{text}': {expected}"));
-    }
-    let highpass = match parts[0].to_ascii_lowercase().as_str() {
-        "highpass" | "hp" => true,
-        "lowpass" | "lp" => false,
-        _ => return Err(format!("filter '{text}': {expected}")),
-    };
-    let order: u32 = parts[1]
-        .parse()
-        .ok()
-        .filter(|o| (1..=8).contains(o))
-        .ok_or_else(|| format!("filter '{text}': the order must be 1 … 8"))?;
-    let corner = units::parse_frequency(parts[2]).map_err(|e| format!("filter '{text}': {e}"))?;
-    if corner <= 0.0 {
-        return Err(format!(
-            "filter '{text}': the corner frequency must be positive"
-        ));
-    }
-    Ok(WeightingFilter {
-        highpass,
-        order,
-        corner,
-    })
-}
-
-/// Parse an aging rate such as `5e-11/day`, `1e-10/d`, `2e-16/s` or a plain
-/// number (per second). Returns fractional frequency per second.
-pub fn parse_aging(text: &str) -> Result<f64, String> {
-    let t = text.trim();
-    let (num, per) = match t.split_once('/') {
-        Some((n, p)) => (n.trim(), p.trim()),
-        None => (t, "s"),
-    };
-    let v: f64 = num.parse().map_err(|_| {
-        format!("'{text}' is not an aging rate: expected e.g. 5e-11/day or 2e-16/s")
-    })?;
-    let div = match per {
-        "s" => 1.0,
-        "h" => 3600.0,
-        "d" | "day" => 86400.0,
-        "week" => 7.0 * 86400.0,
-        "month" => 30.0 * 86400.0,
-        "year" | "yr" => 365.25 * 86400.0,
-        _ => {
-            return Err(format!(
-                "'{text}': aging unit must be /s, /h, /day, /week, /month or /year"
-            ))
-        }
-    };
-    if !v.is_finite() {
-        return Err(format!("'{text}' is not a finite aging rate"));
-    }
-    Ok(v / div)
 }
 
 /// Largest DUT file read (a DUT file is a page of TOML).
@@ -562,6 +520,7 @@ impl Dut {
     }
 
     /// Parse DUT text; `file` names it in errors and `dir` resolves its paths.
+    /// Each section has its own reader below, in the order of the file.
     pub fn parse(text: &str, file: &Path, dir: &Path) -> Result<Dut, ReadError> {
         let cx = Ctx {
             file,
@@ -572,566 +531,27 @@ impl Dut {
                 dir.to_path_buf()
             },
         };
-        let raw: RawDut = toml::from_str(text).map_err(|e| {
-            let span = e.span().unwrap_or(0..0);
-            let key = key_at(text, span.start);
-            let msg = e.message().to_string();
-            let what = match key {
-                Some(k) if !msg.contains(&k) => format!("{k}: {msg}"),
-                _ => msg,
-            };
-            match e.span() {
-                Some(s) => ReadError::at(file, cx.line_of(s.start), what),
-                None => ReadError::file(file, what),
-            }
-        })?;
-
-        let name = raw.device.name.get_ref().trim().to_string();
-        if name.is_empty() {
-            return cx.err(
-                raw.device.name.span(),
-                "device.name",
-                "expected a non-empty device name",
-            );
-        }
-        let carrier = match &raw.device.carrier {
-            Some(c) => Some(cx.frequency(c, "device.carrier")?),
-            None => None,
-        };
-
-        let series = |list: &[RawSeries],
-                      what: &str,
-                      tie: bool|
-         -> Result<Vec<TimeSource>, ReadError> {
-            let mut out = Vec::new();
-            for (i, r) in list.iter().enumerate() {
-                let k = |f: &str| format!("{what}[{}].{f}", i + 1);
-                let path = cx.file_path(&r.path, &k("path"))?;
-                let data = match &r.data {
-                    None => DataKind::Phase,
-                    Some(d) => match d.get_ref().as_str() {
-                        "phase" => DataKind::Phase,
-                        "freq" | "frequency" if !tie => DataKind::Freq,
-                        "freq" | "frequency" => {
-                            return cx.err(
-                                d.span(),
-                                &k("data"),
-                                "a TIE capture holds phase (time error); expected 'phase'",
-                            )
-                        }
-                        other => {
-                            return cx.err(
-                                d.span(),
-                                &k("data"),
-                                format!("expected 'phase' or 'freq', got '{other}'"),
-                            )
-                        }
-                    },
-                };
-                let tau0 = match &r.tau0 {
-                    Some(t) => Some(cx.duration(t, &k("tau0"), true)?),
-                    None => None,
-                };
-                let units_ = match &r.units {
-                    None => None,
-                    Some(u) => {
-                        let vu = units::parse_value_unit(u.get_ref())
-                            .or_else(|e| cx.err(u.span(), &k("units"), e))?;
-                        let fits = matches!(
-                            (vu, data),
-                            (ValueUnit::Phase(_), DataKind::Phase)
-                                | (ValueUnit::Freq(_), DataKind::Freq)
-                        );
-                        if !fits {
-                            return cx.err(
-                                u.span(),
-                                &k("units"),
-                                format!("'{}' is not a unit of {} data", u.get_ref(), data.name()),
-                            );
-                        }
-                        if matches!(vu, ValueUnit::Freq(units::FreqUnit::Hz)) && carrier.is_none() {
-                            return cx.err(
-                                u.span(),
-                                &k("units"),
-                                "units 'hz' need device.carrier to convert to fractional frequency",
-                            );
-                        }
-                        Some(vu)
-                    }
-                };
-                let name = match &r.name {
-                    Some(n) if !n.get_ref().trim().is_empty() => n.get_ref().trim().to_string(),
-                    Some(n) => return cx.err(n.span(), &k("name"), "expected a non-empty name"),
-                    None => file_stem(&path),
-                };
-                let only_records =
-                    "applies to a [[record]] only (a TIE capture is analysed as read)";
-                let mut prepare = if tie { Steps::default() } else { RECORD_STEPS };
-                if let Some(d) = &r.drift {
-                    if tie {
-                        return cx.err(d.span(), &k("drift"), only_records);
-                    }
-                    prepare.drift = match d.get_ref().trim() {
-                        "none" => None,
-                        "linear" => Some(DriftModel::Linear),
-                        "quadratic" => Some(DriftModel::Quadratic),
-                        other => {
-                            return cx.err(
-                                d.span(),
-                                &k("drift"),
-                                format!("expected none, linear or quadratic, got '{other}'"),
-                            )
-                        }
-                    };
-                }
-                if let Some(o) = &r.outliers {
-                    if tie {
-                        return cx.err(o.span(), &k("outliers"), only_records);
-                    }
-                    let v = match o.get_ref() {
-                        toml::Value::Integer(i) => Some(*i as f64),
-                        toml::Value::Float(f) => Some(*f),
-                        _ => None,
-                    };
-                    match v {
-                        Some(v) if v.is_finite() && v > 0.0 => prepare.outliers = Some(v),
-                        _ => {
-                            return cx.err(
-                                o.span(),
-                                &k("outliers"),
-                                format!(
-                                    "expected a positive number of scaled MADs such as 5, got {}",
-                                    value_text(o.get_ref())
-                                        .map(|t| format!("'{t}'"))
-                                        .unwrap_or_else(|| type_name(o.get_ref()).into())
-                                ),
-                            )
-                        }
-                    }
-                }
-                if let Some(f) = &r.fill_gaps {
-                    if tie {
-                        return cx.err(f.span(), &k("fill_gaps"), only_records);
-                    }
-                    prepare.fill_gaps = *f.get_ref();
-                }
-                let bandwidth = match &r.bandwidth {
-                    Some(b) if tie => return cx.err(b.span(), &k("bandwidth"), only_records),
-                    Some(b) => Some(cx.frequency(b, &k("bandwidth"))?),
-                    None => None,
-                };
-                out.push(TimeSource {
-                    name,
-                    path,
-                    data,
-                    tau0,
-                    units: units_,
-                    value_column: cx.column(&r.value_column, &k("value_column"))?,
-                    time_column: cx.column(&r.time_column, &k("time_column"))?,
-                    prepare,
-                    bandwidth,
-                });
-            }
-            Ok(out)
-        };
-        let records = series(&raw.record, "record", false)?;
-        let tie = series(&raw.tie, "tie", true)?;
-
-        let mut phase_noise = Vec::new();
-        for (i, t) in raw.phase_noise.iter().enumerate() {
-            let k = |f: &str| format!("phase_noise[{}].{f}", i + 1);
-            let path = cx.file_path(&t.path, &k("path"))?;
-            let quantity = match &t.quantity {
-                None => LfQuantity::Lf,
-                Some(q) => match q.get_ref().as_str() {
-                    "lf" => LfQuantity::Lf,
-                    "sphi" => LfQuantity::Sphi,
-                    "sphi-db" => LfQuantity::SphiDb,
-                    "sy" => LfQuantity::Sy,
-                    other => {
-                        return cx.err(
-                            q.span(),
-                            &k("quantity"),
-                            format!("expected one of lf, sphi, sphi-db, sy, got '{other}'"),
-                        )
-                    }
-                },
-            };
-            let c = match &t.carrier {
-                Some(c) => cx.frequency(c, &k("carrier"))?,
-                None => match carrier {
-                    Some(c) => c,
-                    None => {
-                        return cx.err(
-                            t.path.span(),
-                            &k("carrier"),
-                            "a phase-noise table needs a carrier: set device.carrier or this table's carrier",
-                        )
-                    }
-                },
-            };
-            let uncertainty_db = match &t.uncertainty {
-                None => None,
-                Some(u) => {
-                    let text = value_text(u.get_ref()).unwrap_or_default();
-                    let num = text.trim().strip_suffix("dB").unwrap_or(&text).trim();
-                    match num.parse::<f64>() {
-                        Ok(v) if v.is_finite() && (0.0..=20.0).contains(&v) => Some(v),
-                        _ => {
-                            return cx.err(
-                                u.span(),
-                                &k("uncertainty"),
-                                format!(
-                                    "expected the table's uncertainty in dB from 0 to 20, e.g. \"2dB\", got {}",
-                                    if text.is_empty() {
-                                        type_name(u.get_ref()).to_string()
-                                    } else {
-                                        format!("'{text}'")
-                                    }
-                                ),
-                            )
-                        }
-                    }
-                }
-            };
-            phase_noise.push(LfSource {
-                uncertainty_db,
-                name: t
-                    .name
-                    .as_ref()
-                    .map(|n| n.get_ref().trim().to_string())
-                    .unwrap_or_else(|| file_stem(&path)),
-                path,
-                quantity,
-                carrier: c,
-            });
-        }
-
-        let mut jitter = Vec::new();
-        for (i, j) in raw.jitter.iter().enumerate() {
-            let k = |f: &str| format!("jitter[{}].{f}", i + 1);
-            let band = j.band.get_ref();
-            let (a, b) = band
-                .split_once(':')
-                .map(|(a, b)| (a.trim(), b.trim()))
-                .ok_or(())
-                .or_else(|_| {
-                    cx.err(
-                        j.band.span(),
-                        &k("band"),
-                        format!("'{band}' is not a band: expected FROM:TO such as \"12k:20M\""),
-                    )
-                })?;
-            let from =
-                units::parse_frequency(a).or_else(|e| cx.err(j.band.span(), &k("band"), e))?;
-            let to = units::parse_frequency(b).or_else(|e| cx.err(j.band.span(), &k("band"), e))?;
-            if !(from > 0.0 && to > from) {
-                return cx.err(
-                    j.band.span(),
-                    &k("band"),
-                    format!("'{band}': expected 0 < FROM < TO"),
-                );
-            }
-            if phase_noise.is_empty() && records.is_empty() {
-                return cx.err(
-                    j.band.span(),
-                    &k("band"),
-                    "a jitter band needs a [[phase_noise]] table or a [[record]]",
-                );
-            }
-            let mut filters = Vec::new();
-            for f in &j.filters {
-                filters.push(
-                    parse_filter(f.get_ref()).or_else(|e| cx.err(f.span(), &k("filters"), e))?,
-                );
-            }
-            let filter_file = match &j.filter_file {
-                Some(p) => Some(cx.file_path(p, &k("filter_file"))?),
-                None => None,
-            };
-            let limit = match &j.limit {
-                Some(l) => match l.get_ref() {
-                    toml::Value::String(t) => Some(
-                        crate::spectrum::jitter::JitterLimit::parse(t)
-                            .or_else(|e| cx.err(l.span(), &k("limit"), e))?,
-                    ),
-                    other => {
-                        return cx.err(
-                            l.span(),
-                            &k("limit"),
-                            format!(
-                                "'{}' has no unit: give a unit, e.g. \"1ps\" / \"10mrad\" / \"0.01UI\" (a bare number is refused where it decides a verdict)",
-                                value_text(other).unwrap_or_else(|| type_name(other).into())
-                            ),
-                        )
-                    }
-                },
-                None => None,
-            };
-            let ui_rate = match &j.ui_rate {
-                Some(r) => Some(cx.frequency(r, &k("ui_rate"))?),
-                None => None,
-            };
-            let source = match &j.source {
-                Some(s) => {
-                    let n = s.get_ref().trim();
-                    if !phase_noise.iter().any(|t| t.name == n) {
-                        let known: Vec<&str> =
-                            phase_noise.iter().map(|t| t.name.as_str()).collect();
-                        return cx.err(
-                            s.span(),
-                            &k("source"),
-                            format!(
-                                "no [[phase_noise]] table is named '{n}' (known: {})",
-                                known.join(", ")
-                            ),
-                        );
-                    }
-                    Some(n.to_string())
-                }
-                None => None,
-            };
-            jitter.push(JitterSpec {
-                name: j
-                    .name
-                    .as_ref()
-                    .map(|n| n.get_ref().trim().to_string())
-                    .unwrap_or_else(|| band.clone()),
-                from,
-                to,
-                filters,
-                filter_file,
-                limit,
-                ui_rate,
-                source,
-            });
-        }
-
-        let wander = match &raw.wander {
-            None => None,
-            Some(w) => {
-                if w.masks.is_empty() && w.mask_files.is_empty() {
-                    return Err(ReadError::file(
-                        file,
-                        "wander: expected at least one of masks or mask_files",
-                    ));
-                }
-                if tie.is_empty() && records.is_empty() {
-                    return Err(ReadError::file(
-                        file,
-                        "wander: needs a [[tie]] capture or a [[record]]",
-                    ));
-                }
-                let mut files = Vec::new();
-                for (i, p) in w.mask_files.iter().enumerate() {
-                    files.push(cx.file_path(p, &format!("wander.mask_files[{}]", i + 1))?);
-                }
-                let source = match &w.source {
-                    Some(s) => {
-                        let n = s.get_ref().trim();
-                        if !tie.iter().chain(&records).any(|r| r.name == n) {
-                            return cx.err(
-                                s.span(),
-                                "wander.source",
-                                format!("no [[tie]] or [[record]] is named '{n}'"),
-                            );
-                        }
-                        Some(n.to_string())
-                    }
-                    None => None,
-                };
-                for m in &w.masks {
-                    if m.get_ref().trim().is_empty() {
-                        return cx.err(
-                            m.span(),
-                            "wander.masks",
-                            "expected a mask name, got an empty string",
-                        );
-                    }
-                }
-                let taus = match &w.taus {
-                    Some(g) => Some(
-                        crate::tau::TauGrid::parse(g.get_ref())
-                            .or_else(|e| cx.err(g.span(), "wander.taus", e))?,
-                    ),
-                    None => None,
-                };
-                let tau_range = match &w.tau_range {
-                    None => None,
-                    Some(r) => {
-                        let v = r.get_ref();
-                        if v.len() != 2 {
-                            return cx.err(
-                                r.span(),
-                                "wander.tau_range",
-                                format!(
-                                    "expected two durations with units, e.g. [\"1s\", \"3h\"], got {} value(s)",
-                                    v.len()
-                                ),
-                            );
-                        }
-                        let a = cx.duration_with_unit(&v[0], "wander.tau_range[1]", true)?;
-                        let b = cx.duration_with_unit(&v[1], "wander.tau_range[2]", true)?;
-                        if b < a {
-                            return cx.err(
-                                r.span(),
-                                "wander.tau_range",
-                                "expected FROM ≤ TO, e.g. [\"1s\", \"3h\"]",
-                            );
-                        }
-                        Some((a, b))
-                    }
-                };
-                Some(WanderSpec {
-                    taus,
-                    tau_range,
-                    masks: w
-                        .masks
-                        .iter()
-                        .map(|m| m.get_ref().trim().to_string())
-                        .collect(),
-                    mask_files: files,
-                    source,
-                    remove_offset: w.remove_offset.unwrap_or(false),
-                })
-            }
-        };
-
-        let holdover = match &raw.holdover {
-            None => None,
-            Some(h) => {
-                if records.is_empty() {
-                    return cx.err(
-                        h.budget.span(),
-                        "holdover",
-                        "needs a [[record]] to predict from",
-                    );
-                }
-                let budget = cx.duration_with_unit(&h.budget, "holdover.budget", true)?;
-                if h.spans.get_ref().is_empty() {
-                    return cx.err(
-                        h.spans.span(),
-                        "holdover.spans",
-                        "expected at least one span, e.g. [\"8h\", \"24h\"]",
-                    );
-                }
-                let mut spans = Vec::new();
-                for (i, s) in h.spans.get_ref().iter().enumerate() {
-                    spans.push(cx.duration_with_unit(
-                        s,
-                        &format!("holdover.spans[{}]", i + 1),
-                        true,
-                    )?);
-                }
-                let record = match &h.record {
-                    Some(s) => {
-                        let n = s.get_ref().trim();
-                        if !records.iter().any(|r| r.name == n) {
-                            return cx.err(
-                                s.span(),
-                                "holdover.record",
-                                format!("no [[record]] is named '{n}'"),
-                            );
-                        }
-                        Some(n.to_string())
-                    }
-                    None => None,
-                };
-                let aging = match &h.aging {
-                    None => None,
-                    Some(a) => match value_text(a.get_ref()) {
-                        Some(t) if !t.contains('/') => {
-                            return cx.err(
-                                a.span(),
-                                "holdover.aging",
-                                format!("'{t}' has no unit: give a unit, e.g. \"5e-11/day\" (a bare number is refused where it decides a verdict)"),
-                            )
-                        }
-                        Some(t) => Some(
-                            parse_aging(&t).or_else(|e| cx.err(a.span(), "holdover.aging", e))?,
-                        ),
-                        None => {
-                            return cx.err(
-                                a.span(),
-                                "holdover.aging",
-                                format!(
-                                    "expected an aging rate such as \"5e-11/day\", got {}",
-                                    type_name(a.get_ref())
-                                ),
-                            )
-                        }
-                    },
-                };
-                let te0 = match &h.te0 {
-                    Some(t) => Some(cx.duration_with_unit(t, "holdover.te0", false)?),
-                    None => None,
-                };
-                let settle = match &h.settle {
-                    Some(t) => Some(cx.duration_with_unit(t, "holdover.settle", true)?),
-                    None => None,
-                };
-                let paths = match &h.paths {
-                    None => None,
-                    Some(p) if *p.get_ref() >= 10 => Some(*p.get_ref() as usize),
-                    Some(p) => {
-                        return cx.err(
-                            p.span(),
-                            "holdover.paths",
-                            format!("expected at least 10 paths, got {}", p.get_ref()),
-                        )
-                    }
-                };
-                let fraction = |v: &Option<Spanned<toml::Value>>,
-                                key: &str|
-                 -> Result<Option<f64>, ReadError> {
-                    match v {
-                        None => Ok(None),
-                        Some(x) => {
-                            let Some(text) = value_text(x.get_ref()) else {
-                                return cx.err(
-                                    x.span(),
-                                    key,
-                                    format!(
-                                        "expected a fractional frequency such as 1e-12 or \"0.5ppb\", got {}",
-                                        type_name(x.get_ref())
-                                    ),
-                                );
-                            };
-                            units::parse_fraction(&text)
-                                .map(Some)
-                                .or_else(|e| cx.err(x.span(), key, e))
-                        }
-                    }
-                };
-                let y0 = fraction(&h.y0, "holdover.y0")?;
-                let y0_sigma = fraction(&h.y0_sigma, "holdover.y0_sigma")?;
-                if let (Some(s), Some(v)) = (&h.y0_sigma, y0_sigma) {
-                    if y0.is_none() {
-                        return cx.err(
-                            s.span(),
-                            "holdover.y0_sigma",
-                            "goes with holdover.y0 (the frequency error at the start of holdover)",
-                        );
-                    }
-                    if v < 0.0 {
-                        return cx.err(s.span(), "holdover.y0_sigma", "expected a value ≥ 0");
-                    }
-                }
-                Some(HoldoverSpec {
-                    y0,
-                    y0_sigma,
-                    budget,
-                    spans,
-                    record,
-                    aging,
-                    te0,
-                    settle,
-                    paths,
-                    seed: h.seed,
-                })
-            }
-        };
-
+        let raw = toml_document(&cx)?;
+        let (name, carrier) = device(&cx, &raw.device)?;
+        let records = series(&cx, &raw.record, "record", false, carrier)?;
+        let tie = series(&cx, &raw.tie, "tie", true, carrier)?;
+        let phase_noise = phase_noise(&cx, &raw.phase_noise, carrier)?;
+        let jitter = raw
+            .jitter
+            .iter()
+            .enumerate()
+            .map(|(i, j)| jitter_band(&cx, i, j, &phase_noise, &records))
+            .collect::<Result<Vec<_>, _>>()?;
+        let wander = raw
+            .wander
+            .as_ref()
+            .map(|w| wander(&cx, w, &tie, &records))
+            .transpose()?;
+        let holdover = raw
+            .holdover
+            .as_ref()
+            .map(|h| holdover(&cx, h, &records))
+            .transpose()?;
         Ok(Dut {
             file: file.to_path_buf(),
             name,
@@ -1145,6 +565,554 @@ impl Dut {
             holdover,
         })
     }
+}
+
+/// The TOML document in the raw schema; a syntax error, an unknown key or a
+/// wrong type names its line and key.
+fn toml_document(cx: &Ctx) -> Result<RawDut, ReadError> {
+    toml::from_str(cx.src).map_err(|e| {
+        let span = e.span().unwrap_or(0..0);
+        let key = key_at(cx.src, span.start);
+        let msg = e.message().to_string();
+        let what = match key {
+            Some(k) if !msg.contains(&k) => format!("{k}: {msg}"),
+            _ => msg,
+        };
+        match e.span() {
+            Some(s) => ReadError::at(cx.file, cx.line_of(s.start), what),
+            None => ReadError::file(cx.file, what),
+        }
+    })
+}
+
+/// `[device]`: the name and the carrier.
+fn device(cx: &Ctx, d: &RawDevice) -> Result<(String, Option<f64>), ReadError> {
+    let name = d.name.get_ref().trim().to_string();
+    if name.is_empty() {
+        return cx.err(
+            d.name.span(),
+            "device.name",
+            "expected a non-empty device name",
+        );
+    }
+    let carrier = match &d.carrier {
+        Some(c) => Some(cx.frequency(c, "device.carrier")?),
+        None => None,
+    };
+    Ok((name, carrier))
+}
+
+/// `[[record]]` and `[[tie]]`: a time series, how to read it (the keys of
+/// the command line's reading options) and, for a record, how to prepare it.
+fn series(
+    cx: &Ctx,
+    list: &[RawSeries],
+    what: &str,
+    tie: bool,
+    carrier: Option<f64>,
+) -> Result<Vec<TimeSource>, ReadError> {
+    let mut out = Vec::new();
+    for (i, r) in list.iter().enumerate() {
+        let k = |f: &str| format!("{what}[{}].{f}", i + 1);
+        let path = cx.file_path(&r.path, &k("path"))?;
+        let data = series_data(cx, r, tie, &k("data"))?;
+        let tau0 = match &r.tau0 {
+            Some(t) => Some(cx.duration(t, &k("tau0"))?),
+            None => None,
+        };
+        let units_ = series_units(cx, r, data, carrier, &k("units"))?;
+        let name = match &r.name {
+            Some(n) if !n.get_ref().trim().is_empty() => n.get_ref().trim().to_string(),
+            Some(n) => return cx.err(n.span(), &k("name"), "expected a non-empty name"),
+            None => file_stem(&path),
+        };
+        let (time_column, no_time_column) = match &r.time_column {
+            None => (None, false),
+            Some(c) => match c.get_ref() {
+                toml::Value::Integer(n) if *n >= 1 => (Some(*n as usize), false),
+                toml::Value::String(s) if s.trim().eq_ignore_ascii_case("none") => (None, true),
+                other => {
+                    return cx.err(
+                        c.span(),
+                        &k("time_column"),
+                        format!(
+                            "expected a column number from 1 or \"none\", got {}",
+                            value_text(other)
+                                .map(|t| format!("'{t}'"))
+                                .unwrap_or_else(|| type_name(other).into())
+                        ),
+                    )
+                }
+            },
+        };
+        let snap = match &r.snap {
+            None => None,
+            Some(s) => Some(match s.get_ref() {
+                toml::Value::Boolean(true) => DEFAULT_SNAP,
+                toml::Value::Float(f) if *f > 0.0 && *f < 0.5 => *f,
+                other => {
+                    return cx.err(
+                        s.span(),
+                        &k("snap"),
+                        format!(
+                            "expected true or a fraction of τ0 above 0 and below 0.5 (e.g. 0.25), got {}",
+                            value_text(other)
+                                .map(|t| format!("'{t}'"))
+                                .unwrap_or_else(|| type_name(other).into())
+                        ),
+                    )
+                }
+            }),
+        };
+        let wrap = match &r.wrap {
+            Some(w) => Some(cx.duration(w, &k("wrap"))?),
+            None => None,
+        };
+        let comments = match &r.comment {
+            Some(c) => {
+                crate::io::text::CommentStyle::with_extra(c.get_ref())
+                    .or_else(|m| cx.err(c.span(), &k("comment"), m))?;
+                c.get_ref().clone()
+            }
+            None => String::new(),
+        };
+        let prepare = series_steps(cx, r, tie, &k)?;
+        let bandwidth = match &r.bandwidth {
+            Some(b) if tie => return cx.err(b.span(), &k("bandwidth"), ONLY_RECORDS),
+            Some(b) => Some(cx.frequency(b, &k("bandwidth"))?),
+            None => None,
+        };
+        out.push(TimeSource {
+            name,
+            path,
+            data,
+            tau0,
+            units: units_,
+            value_column: cx.column(&r.value_column, &k("value_column"))?,
+            time_column,
+            no_time_column,
+            snap,
+            wrap,
+            comments,
+            decimal_comma: r.decimal_comma.unwrap_or(false),
+            prepare,
+            bandwidth,
+        });
+    }
+    Ok(out)
+}
+
+/// `--snap` alone, and `snap = true`: stamps within a quarter of τ0 of the
+/// grid are rounded to it.
+pub const DEFAULT_SNAP: f64 = 0.25;
+
+const ONLY_RECORDS: &str = "applies to a [[record]] only (a TIE capture is analysed as read)";
+
+fn series_data(cx: &Ctx, r: &RawSeries, tie: bool, key: &str) -> Result<DataKind, ReadError> {
+    let Some(d) = &r.data else {
+        return Ok(DataKind::Phase);
+    };
+    match d.get_ref().as_str() {
+        "phase" => Ok(DataKind::Phase),
+        "freq" | "frequency" if !tie => Ok(DataKind::Freq),
+        "freq" | "frequency" => cx.err(
+            d.span(),
+            key,
+            "a TIE capture holds phase (time error); expected 'phase'",
+        ),
+        other => cx.err(
+            d.span(),
+            key,
+            format!("expected 'phase' or 'freq', got '{other}'"),
+        ),
+    }
+}
+
+fn series_units(
+    cx: &Ctx,
+    r: &RawSeries,
+    data: DataKind,
+    carrier: Option<f64>,
+    key: &str,
+) -> Result<Option<ValueUnit>, ReadError> {
+    let Some(u) = &r.units else { return Ok(None) };
+    let vu = units::parse_value_unit(u.get_ref()).or_else(|e| cx.err(u.span(), key, e))?;
+    let fits = matches!(
+        (vu, data),
+        (ValueUnit::Phase(_), DataKind::Phase) | (ValueUnit::Freq(_), DataKind::Freq)
+    );
+    if !fits {
+        return cx.err(
+            u.span(),
+            key,
+            format!("'{}' is not a unit of {} data", u.get_ref(), data.name()),
+        );
+    }
+    if matches!(vu, ValueUnit::Freq(units::FreqUnit::Hz)) && carrier.is_none() {
+        return cx.err(
+            u.span(),
+            key,
+            "units 'hz' need device.carrier to convert to fractional frequency",
+        );
+    }
+    Ok(Some(vu))
+}
+
+/// The preparation keys of a `[[record]]` (drift, outliers, fill_gaps).
+fn series_steps(
+    cx: &Ctx,
+    r: &RawSeries,
+    tie: bool,
+    k: &dyn Fn(&str) -> String,
+) -> Result<Steps, ReadError> {
+    let mut prepare = if tie { Steps::default() } else { RECORD_STEPS };
+    if let Some(d) = &r.drift {
+        if tie {
+            return cx.err(d.span(), &k("drift"), ONLY_RECORDS);
+        }
+        prepare.drift = match d.get_ref().trim() {
+            "none" => None,
+            "linear" => Some(DriftModel::Linear),
+            "quadratic" => Some(DriftModel::Quadratic),
+            other => {
+                return cx.err(
+                    d.span(),
+                    &k("drift"),
+                    format!("expected none, linear or quadratic, got '{other}'"),
+                )
+            }
+        };
+    }
+    if let Some(o) = &r.outliers {
+        if tie {
+            return cx.err(o.span(), &k("outliers"), ONLY_RECORDS);
+        }
+        let v = match o.get_ref() {
+            toml::Value::Integer(i) => Some(*i as f64),
+            toml::Value::Float(f) => Some(*f),
+            _ => None,
+        };
+        match v {
+            Some(v) if v.is_finite() && v > 0.0 => prepare.outliers = Some(v),
+            _ => {
+                return cx.err(
+                    o.span(),
+                    &k("outliers"),
+                    format!(
+                        "expected a positive number of scaled MADs such as 5, got {}",
+                        value_text(o.get_ref())
+                            .map(|t| format!("'{t}'"))
+                            .unwrap_or_else(|| type_name(o.get_ref()).into())
+                    ),
+                )
+            }
+        }
+    }
+    if let Some(f) = &r.fill_gaps {
+        if tie {
+            return cx.err(f.span(), &k("fill_gaps"), ONLY_RECORDS);
+        }
+        prepare.fill_gaps = *f.get_ref();
+    }
+    Ok(prepare)
+}
+
+/// `[[phase_noise]]`: the tables, each with its carrier (its own, else the
+/// device's) and its uncertainty.
+fn phase_noise(
+    cx: &Ctx,
+    list: &[RawTable],
+    carrier: Option<f64>,
+) -> Result<Vec<LfSource>, ReadError> {
+    let mut out = Vec::new();
+    for (i, t) in list.iter().enumerate() {
+        let k = |f: &str| format!("phase_noise[{}].{f}", i + 1);
+        let path = cx.file_path(&t.path, &k("path"))?;
+        let quantity = match &t.quantity {
+            None => LfQuantity::Lf,
+            Some(q) => match q.get_ref().as_str() {
+                "lf" => LfQuantity::Lf,
+                "sphi" => LfQuantity::Sphi,
+                "sphi-db" => LfQuantity::SphiDb,
+                "sy" => LfQuantity::Sy,
+                other => {
+                    return cx.err(
+                        q.span(),
+                        &k("quantity"),
+                        format!("expected one of lf, sphi, sphi-db, sy, got '{other}'"),
+                    )
+                }
+            },
+        };
+        let c = match (&t.carrier, carrier) {
+            (Some(c), _) => cx.frequency(c, &k("carrier"))?,
+            (None, Some(c)) => c,
+            (None, None) => return cx.err(
+                t.path.span(),
+                &k("carrier"),
+                "a phase-noise table needs a carrier: set device.carrier or this table's carrier",
+            ),
+        };
+        let uncertainty_db = cx.opt_value(
+            &t.uncertainty,
+            &k("uncertainty"),
+            "the table's uncertainty in dB, e.g. \"2dB\"",
+            crate::parse::uncertainty_db,
+        )?;
+        out.push(LfSource {
+            uncertainty_db,
+            name: t
+                .name
+                .as_ref()
+                .map(|n| n.get_ref().trim().to_string())
+                .unwrap_or_else(|| file_stem(&path)),
+            path,
+            quantity,
+            carrier: c,
+        });
+    }
+    Ok(out)
+}
+
+/// One `[[jitter]]` band.
+fn jitter_band(
+    cx: &Ctx,
+    i: usize,
+    j: &RawJitter,
+    phase_noise: &[LfSource],
+    records: &[TimeSource],
+) -> Result<JitterSpec, ReadError> {
+    let k = |f: &str| format!("jitter[{}].{f}", i + 1);
+    let band = j.band.get_ref();
+    let b = crate::spectrum::jitter::Band::parse(band)
+        .or_else(|e| cx.err(j.band.span(), &k("band"), e))?;
+    if phase_noise.is_empty() && records.is_empty() {
+        return cx.err(
+            j.band.span(),
+            &k("band"),
+            "a jitter band needs a [[phase_noise]] table or a [[record]]",
+        );
+    }
+    let mut filters = Vec::new();
+    for f in &j.filters {
+        filters.push(
+            f.get_ref()
+                .parse::<Filter>()
+                .or_else(|e| cx.err(f.span(), &k("filters"), e))?,
+        );
+    }
+    let filter_file = match &j.filter_file {
+        Some(p) => Some(cx.file_path(p, &k("filter_file"))?),
+        None => None,
+    };
+    let limit = match &j.limit {
+        Some(l) => match l.get_ref() {
+            toml::Value::String(t) => Some(
+                crate::spectrum::jitter::JitterLimit::parse(t)
+                    .or_else(|e| cx.err(l.span(), &k("limit"), e))?,
+            ),
+            other => {
+                return cx.err(
+                    l.span(),
+                    &k("limit"),
+                    format!(
+                        "'{}' has no unit: give a unit, e.g. \"1ps\" / \"10mrad\" / \"0.01UI\" (a bare number is refused where it decides a verdict)",
+                        value_text(other).unwrap_or_else(|| type_name(other).into())
+                    ),
+                )
+            }
+        },
+        None => None,
+    };
+    let ui_rate = match &j.ui_rate {
+        Some(r) => Some(cx.frequency(r, &k("ui_rate"))?),
+        None => None,
+    };
+    let known: Vec<&str> = phase_noise.iter().map(|t| t.name.as_str()).collect();
+    let source = cx.reference(&j.source, &k("source"), &known, "[[phase_noise]] table")?;
+    Ok(JitterSpec {
+        name: j
+            .name
+            .as_ref()
+            .map(|n| n.get_ref().trim().to_string())
+            .unwrap_or_else(|| band.clone()),
+        from: b.from,
+        to: b.to,
+        filters,
+        filter_file,
+        limit,
+        ui_rate,
+        source,
+    })
+}
+
+/// `[wander]`.
+fn wander(
+    cx: &Ctx,
+    w: &RawWander,
+    tie: &[TimeSource],
+    records: &[TimeSource],
+) -> Result<WanderSpec, ReadError> {
+    if w.masks.is_empty() && w.mask_files.is_empty() {
+        return Err(ReadError::file(
+            cx.file,
+            "wander: expected at least one of masks or mask_files",
+        ));
+    }
+    if tie.is_empty() && records.is_empty() {
+        return Err(ReadError::file(
+            cx.file,
+            "wander: needs a [[tie]] capture or a [[record]]",
+        ));
+    }
+    let mut files = Vec::new();
+    for (i, p) in w.mask_files.iter().enumerate() {
+        files.push(cx.file_path(p, &format!("wander.mask_files[{}]", i + 1))?);
+    }
+    let known: Vec<&str> = tie.iter().chain(records).map(|r| r.name.as_str()).collect();
+    let source = cx.reference(&w.source, "wander.source", &known, "[[tie]] or [[record]]")?;
+    for m in &w.masks {
+        if m.get_ref().trim().is_empty() {
+            return cx.err(
+                m.span(),
+                "wander.masks",
+                "expected a mask name, got an empty string",
+            );
+        }
+    }
+    let taus = match &w.taus {
+        Some(g) => Some(
+            crate::tau::TauGrid::parse(g.get_ref())
+                .or_else(|e| cx.err(g.span(), "wander.taus", e))?,
+        ),
+        None => None,
+    };
+    let tau_range = match &w.tau_range {
+        None => None,
+        Some(r) => {
+            let v = r.get_ref();
+            if v.len() != 2 {
+                return cx.err(
+                    r.span(),
+                    "wander.tau_range",
+                    format!(
+                        "expected two durations with units, e.g. [\"1s\", \"3h\"], got {} value(s)",
+                        v.len()
+                    ),
+                );
+            }
+            let a = cx.duration_with_unit(&v[0], "wander.tau_range[1]", true)?;
+            let b = cx.duration_with_unit(&v[1], "wander.tau_range[2]", true)?;
+            if b < a {
+                return cx.err(
+                    r.span(),
+                    "wander.tau_range",
+                    "expected FROM ≤ TO, e.g. [\"1s\", \"3h\"]",
+                );
+            }
+            Some((a, b))
+        }
+    };
+    Ok(WanderSpec {
+        taus,
+        tau_range,
+        masks: w
+            .masks
+            .iter()
+            .map(|m| m.get_ref().trim().to_string())
+            .collect(),
+        mask_files: files,
+        source,
+        remove_offset: w.remove_offset.unwrap_or(false),
+    })
+}
+
+/// `[holdover]`.
+fn holdover(cx: &Ctx, h: &RawHoldover, records: &[TimeSource]) -> Result<HoldoverSpec, ReadError> {
+    if records.is_empty() {
+        return cx.err(
+            h.budget.span(),
+            "holdover",
+            "needs a [[record]] to predict from",
+        );
+    }
+    let budget = cx.duration_with_unit(&h.budget, "holdover.budget", true)?;
+    if h.spans.get_ref().is_empty() {
+        return cx.err(
+            h.spans.span(),
+            "holdover.spans",
+            "expected at least one span, e.g. [\"8h\", \"24h\"]",
+        );
+    }
+    let mut spans = Vec::new();
+    for (i, s) in h.spans.get_ref().iter().enumerate() {
+        spans.push(cx.duration_with_unit(s, &format!("holdover.spans[{}]", i + 1), true)?);
+    }
+    let known: Vec<&str> = records.iter().map(|r| r.name.as_str()).collect();
+    let record = cx.reference(&h.record, "holdover.record", &known, "[[record]]")?;
+    let aging = cx
+        .opt_value(
+            &h.aging,
+            "holdover.aging",
+            "an aging rate such as \"5e-11/day\"",
+            str::parse::<Rate>,
+        )?
+        .map(Rate::per_second);
+    let te0 = match &h.te0 {
+        Some(t) => Some(cx.duration_with_unit(t, "holdover.te0", false)?),
+        None => None,
+    };
+    let settle = match &h.settle {
+        Some(t) => Some(cx.duration_with_unit(t, "holdover.settle", true)?),
+        None => None,
+    };
+    let paths = match &h.paths {
+        None => None,
+        Some(p) if *p.get_ref() >= 10 => Some(*p.get_ref() as usize),
+        Some(p) => {
+            return cx.err(
+                p.span(),
+                "holdover.paths",
+                format!("expected at least 10 paths, got {}", p.get_ref()),
+            )
+        }
+    };
+    let fraction = "a fractional frequency such as 1e-12 or \"0.5ppb\"";
+    let y0 = cx
+        .opt_value(&h.y0, "holdover.y0", fraction, str::parse::<Fraction>)?
+        .map(Fraction::value);
+    let y0_sigma = cx
+        .opt_value(
+            &h.y0_sigma,
+            "holdover.y0_sigma",
+            fraction,
+            str::parse::<Fraction>,
+        )?
+        .map(Fraction::value);
+    if let (Some(s), Some(v)) = (&h.y0_sigma, y0_sigma) {
+        if y0.is_none() {
+            return cx.err(
+                s.span(),
+                "holdover.y0_sigma",
+                "goes with holdover.y0 (the frequency error at the start of holdover)",
+            );
+        }
+        if v < 0.0 {
+            return cx.err(s.span(), "holdover.y0_sigma", "expected a value ≥ 0");
+        }
+    }
+    Ok(HoldoverSpec {
+        y0,
+        y0_sigma,
+        budget,
+        spans,
+        record,
+        aging,
+        te0,
+        settle,
+        paths,
+        seed: h.seed,
+    })
 }
 
 /// The dotted key at a byte offset of TOML text (`record[2].tau0`), found
@@ -1192,28 +1160,10 @@ mod tests {
     use super::*;
 
     #[test]
-    fn filters_and_aging() {
-        let f = parse_filter("highpass:2:12k").unwrap();
-        assert!(f.highpass && f.order == 2 && f.corner == 12e3);
-        assert!(parse_filter("bandpass:1:1k").is_err());
-        assert!(parse_filter("lowpass:0:1k").is_err());
-        assert!((parse_aging("1e-10/day").unwrap() - 1e-10 / 86400.0).abs() < 1e-30);
-        assert_eq!(parse_aging("2e-16").unwrap(), 2e-16);
-        assert!(parse_aging("fast").is_err());
-        assert!(parse_aging("1e-10/fortnight").is_err());
-    }
-
-    #[test]
     fn key_at_names_array_entries() {
         let src = "[device]\nname = \"x\"\n[[record]]\npath = \"a\"\n[[record]]\npath = \"b\"\ntau0 = []\n";
         let off = src.find("tau0").unwrap() + 7;
         assert_eq!(key_at(src, off).as_deref(), Some("record[2].tau0"));
         assert_eq!(key_at(src, 12).as_deref(), Some("device.name"));
-    }
-
-    #[test]
-    fn femtoseconds() {
-        assert!((duration_with_fs("150fs").unwrap() - 150e-15).abs() < 1e-27);
-        assert_eq!(duration_with_fs("1ps").unwrap(), 1e-12);
     }
 }

@@ -104,51 +104,7 @@ impl PowerLaw {
     /// assert_eq!(m.f_h, 0.5);
     /// ```
     pub fn parse(text: &str, default_fh: f64) -> Result<Self> {
-        let mut m = PowerLaw::zero(default_fh);
-        let mut any = false;
-        for part in text.split([',', ';', ' ']).filter(|p| !p.trim().is_empty()) {
-            let (key, val) = part.split_once('=').ok_or_else(|| {
-                Error::invalid(format!(
-                    "model term '{part}' is not of the form h<α>=<value> (e.g. h0=1e-22,h-1=3e-26)"
-                ))
-            })?;
-            let key = key.trim();
-            let val = val.trim();
-            if key.eq_ignore_ascii_case("fh") {
-                m.f_h = crate::units::parse_frequency(val)?;
-                if m.f_h <= 0.0 {
-                    return Err(Error::invalid(format!(
-                        "model fh must be positive, got '{val}'"
-                    )));
-                }
-                continue;
-            }
-            let alpha: i32 = key
-                .strip_prefix('h')
-                .and_then(|a| a.parse().ok())
-                .filter(|a| (-2..=2).contains(a))
-                .ok_or_else(|| {
-                    Error::invalid(format!(
-                        "model term '{key}' is not one of h2 h1 h0 h-1 h-2 fh"
-                    ))
-                })?;
-            let v: f64 = val.parse().map_err(|_| {
-                Error::invalid(format!("model value '{val}' for {key} is not a number"))
-            })?;
-            if !(v.is_finite() && v >= 0.0) {
-                return Err(Error::invalid(format!(
-                    "model value for {key} must be a non-negative number, got '{val}'"
-                )));
-            }
-            m.set(alpha, v);
-            any = true;
-        }
-        if !any {
-            return Err(Error::invalid(format!(
-                "model '{text}' names no term: expected e.g. h0=1e-22,h-1=3e-26"
-            )));
-        }
-        Ok(m)
+        Ok(text.parse::<crate::parse::Model>()?.power_law(default_fh))
     }
 
     /// The model as a string that [`PowerLaw::parse`] accepts (non-zero terms

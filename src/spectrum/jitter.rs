@@ -26,12 +26,11 @@
 //! extrapolation is allowed; then the end segments' power laws are continued
 //! and the extrapolated ranges are reported with the result.
 
-use super::gt;
 use super::loglog::{power_integral_from, Extend, LogLog};
 use super::quad::adaptive;
 use super::{Quantity, Spectrum};
 use crate::error::{Error, Result};
-use crate::units::{format_si, parse_frequency};
+use crate::units::{format_si, parse_frequency, UnitError};
 use crate::verdict::{Coverage, Judgement};
 use std::f64::consts::PI;
 
@@ -56,36 +55,10 @@ pub enum Weighting {
 
 impl Weighting {
     /// Parse `highpass:ORDER:FC` or `lowpass:ORDER:FC` (FC with units, e.g.
-    /// `highpass:1:12k`).
+    /// `highpass:1:12k`) through the one filter parser,
+    /// [`crate::parse::Filter`].
     pub fn parse(text: &str) -> Result<Self> {
-        let parts: Vec<&str> = text.trim().split(':').collect();
-        let expected =
-            "a filter of the form highpass:ORDER:FC or lowpass:ORDER:FC (e.g. highpass:1:12k)";
-        if parts.len() != 3 {
-            return Err(Error::invalid(format!("'{text}' is not {expected}")));
-        }
-        let order: u32 = parts[1]
-            .trim()
-            .parse()
-            .ok()
-            .filter(|o| (1..=20).contains(o))
-            .ok_or_else(|| {
-                Error::invalid(format!(
-                    "filter order '{}' in '{text}' must be an integer from 1 to 20",
-                    parts[1]
-                ))
-            })?;
-        let fc = parse_frequency(parts[2])?;
-        if !gt(fc, 0.0) {
-            return Err(Error::invalid(format!(
-                "filter corner in '{text}' must be positive"
-            )));
-        }
-        match parts[0].trim().to_ascii_lowercase().as_str() {
-            "highpass" | "hp" => Ok(Weighting::HighPass { order, fc }),
-            "lowpass" | "lp" => Ok(Weighting::LowPass { order, fc }),
-            _ => Err(Error::invalid(format!("'{text}' is not {expected}"))),
-        }
+        Ok(text.parse::<crate::parse::Filter>()?.into())
     }
 
     /// |H(f)|².
@@ -109,6 +82,22 @@ impl Weighting {
     }
 }
 
+impl From<crate::parse::Filter> for Weighting {
+    fn from(f: crate::parse::Filter) -> Self {
+        if f.highpass {
+            Weighting::HighPass {
+                order: f.order,
+                fc: f.corner,
+            }
+        } else {
+            Weighting::LowPass {
+                order: f.order,
+                fc: f.corner,
+            }
+        }
+    }
+}
+
 /// An integration band [from, to] in Hz.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct Band {
@@ -119,21 +108,24 @@ pub struct Band {
 }
 
 impl Band {
-    /// Parse `FROM:TO` with units (`12k:20M`).
-    pub fn parse(text: &str) -> Result<Self> {
-        let (a, b) = text.split_once(':').ok_or_else(|| {
-            Error::invalid(format!(
-                "band '{text}' is not of the form FROM:TO (e.g. 12k:20M)"
-            ))
+    /// Parse `FROM:TO` with units (`12k:20M`); 0 < FROM < TO.
+    pub fn parse(text: &str) -> Result<Self, UnitError> {
+        let t = text.trim();
+        let (a, b) = t.split_once(':').ok_or_else(|| UnitError::Bad {
+            text: t.to_string(),
+            what: "band",
+            expected: "FROM:TO with units, e.g. 12k:20M",
         })?;
         let band = Band {
             from: parse_frequency(a)?,
             to: parse_frequency(b)?,
         };
         if !(band.from > 0.0 && band.to > band.from) {
-            return Err(Error::invalid(format!(
-                "band '{text}' must satisfy 0 < FROM < TO"
-            )));
+            return Err(UnitError::OutOfRange {
+                text: t.to_string(),
+                what: "a band FROM:TO",
+                range: "0 < FROM < TO (e.g. 12k:20M)",
+            });
         }
         Ok(band)
     }
@@ -247,17 +239,16 @@ impl JitterLimit {
     /// assert_eq!(JitterLimit::parse("0.1UI").unwrap(), JitterLimit::Ui(0.1));
     /// assert!(JitterLimit::parse("1.5").unwrap_err().to_string().contains("give a unit"));
     /// ```
-    pub fn parse(text: &str) -> Result<Self> {
+    pub fn parse(text: &str) -> Result<Self, UnitError> {
         let t = text.trim();
-        let num = |n: &str| -> Result<f64> {
+        let num = |n: &str| -> Result<f64, UnitError> {
             n.trim()
                 .parse::<f64>()
                 .ok()
                 .filter(|v| v.is_finite() && *v > 0.0)
-                .ok_or_else(|| {
-                    Error::invalid(format!(
-                        "jitter limit '{text}': expected a positive number with its unit"
-                    ))
+                .ok_or_else(|| UnitError::NotPositive {
+                    text: t.to_string(),
+                    what: "jitter limit with its unit",
                 })
         };
         let lower = t.to_ascii_lowercase();
@@ -272,17 +263,16 @@ impl JitterLimit {
         } else if let Some(n) = lower.strip_suffix("ui") {
             JitterLimit::Ui(num(n)?)
         } else {
-            let v = crate::units::parse_duration_with_unit(t).map_err(|e| {
-                Error::invalid(format!(
-                    "jitter limit {e} (units: fs ps ns us ms s, rad mrad urad, deg, UI)"
-                ))
+            let d = crate::parse::Duration::positive_with_unit(t).map_err(|e| match e {
+                UnitError::Bad { .. } => UnitError::Bad {
+                    text: t.to_string(),
+                    what: "jitter limit",
+                    expected:
+                        "a number with one of the units fs ps ns us ms s, rad mrad urad, deg, UI",
+                },
+                other => other,
             })?;
-            if !(v.is_finite() && v > 0.0) {
-                return Err(Error::invalid(format!(
-                    "jitter limit '{text}' must be positive"
-                )));
-            }
-            JitterLimit::S(v)
+            JitterLimit::S(d.seconds())
         };
         Ok(limit)
     }

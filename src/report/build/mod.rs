@@ -33,7 +33,7 @@ pub struct BuildOptions {
 impl Default for BuildOptions {
     fn default() -> Self {
         Self {
-            confidence: 0.683,
+            confidence: crate::stats::DEFAULT_CONFIDENCE,
             estimators: vec![
                 Estimator::Oadev,
                 Estimator::Mdev,
@@ -58,15 +58,7 @@ pub(super) struct LoadedTable<'a> {
 }
 
 fn series_options(src: &TimeSource, carrier: Option<f64>) -> SeriesOptions {
-    SeriesOptions {
-        kind: Some(src.data),
-        unit: src.units,
-        tau0: src.tau0,
-        carrier,
-        value_column: src.value_column,
-        time_column: src.time_column,
-        ..Default::default()
-    }
+    src.series_options(carrier)
 }
 
 fn load<'a>(
