@@ -89,6 +89,7 @@ pub mod plot;
 pub mod prepare;
 pub mod record;
 pub mod report;
+pub mod results;
 pub mod simulate;
 pub mod spectrum;
 pub mod stability;

@@ -122,7 +122,7 @@ fn json_contract_on_a_ramp() {
     assert_eq!(mtie.len(), taus.len());
     for (p, &t) in mtie.iter().zip(&taus) {
         assert_eq!(p["tau"].as_f64().unwrap(), t);
-        assert!(rel(p["value"].as_f64().unwrap(), Y0 * t), "τ = {t}");
+        assert!(rel(p["dev"].as_f64().unwrap(), Y0 * t), "τ = {t}");
     }
     assert_eq!(mtie.last().unwrap()["tau"].as_f64().unwrap(), span);
     // TDEV to a third of the record; of a ramp it is zero (second
@@ -132,7 +132,7 @@ fn json_contract_on_a_ramp() {
     assert_eq!(tdev.len(), tdev_taus.len());
     for p in tdev {
         assert!(p["tau"].is_f64());
-        assert!(p["value"].as_f64().unwrap() < 1e-15);
+        assert!(p["dev"].as_f64().unwrap() < 1e-15);
     }
 
     let masks = doc["masks"].as_array().unwrap();
@@ -244,8 +244,8 @@ fn passing_record_exits_zero() {
     let mtie = doc["mtie"].as_array().unwrap();
     assert!(mtie
         .iter()
-        .all(|p| (p["value"].as_f64().unwrap() - 1e-9).abs() < 1e-18));
-    let td0 = doc["tdev"][0]["value"].as_f64().unwrap();
+        .all(|p| (p["dev"].as_f64().unwrap() - 1e-9).abs() < 1e-18));
+    let td0 = doc["tdev"][0]["dev"].as_f64().unwrap();
     assert!((td0 - (4.0f64 / 6.0).sqrt() * 1e-9).abs() < 1e-15, "{td0}");
 }
 

@@ -1,12 +1,12 @@
 //! Options shared by several subcommands (how to read the input, where and
-//! how to write the output) and the JSON pieces every command's output
-//! carries (docs/design.md §5).
+//! how to write the output), and the writing of a command's document.
 
 use clap::{Args, ValueEnum};
 use std::io::Write;
 use std::path::{Path, PathBuf};
 use tauwise::io::series::{read_series, Series, SeriesOptions};
 use tauwise::parse::{Duration, Frequency, Probability};
+use tauwise::results::{Document, Input};
 use tauwise::tau::TauGrid;
 use tauwise::units::{UnitError, ValueUnit};
 use tauwise::{DataKind, Error, Result};
@@ -355,113 +355,23 @@ pub fn emit_to(path: Option<&Path>, bytes: &[u8]) -> Result<()> {
     }
 }
 
-/// The `"input"` object of every command's JSON:
-/// `{"path","data","tau0","points","gaps","preamble_lines"}` (docs/design.md §5).
-/// `points` counts every sample of the record, gaps included; `gaps` the
-/// missing ones; `preamble_lines` the lines before the first reading.
-pub fn input_json(series: &Series) -> serde_json::Value {
-    serde_json::json!({
-        "path": series.info.path.display().to_string(),
-        "data": series.record.kind().name(),
-        "tau0": series.record.tau0(),
-        "points": series.record.len(),
-        "gaps": series.record.gaps(),
-        "preamble_lines": series.info.preamble,
-    })
-}
-
-/// The first members of every command's JSON: `"tool"`, `"version"` and
-/// `"input"`. Add the command's results to the returned map.
-pub fn header_json(series: &Series) -> serde_json::Map<String, serde_json::Value> {
-    let mut m = serde_json::Map::new();
-    m.insert("tool".into(), tauwise::TOOL.into());
-    m.insert("version".into(), tauwise::VERSION.into());
-    m.insert("input".into(), input_json(series));
-    m
-}
-
-/// A computed number for JSON. JSON numbers cannot be NaN or infinite, and
-/// `null` means "not computed" in tauwise's JSON: a value that overflowed
-/// (or is undefined) is written as the string `"inf"`, `"-inf"` or `"NaN"`
-/// instead, and [`json_text`] lists every such member under `"not_finite"`.
-pub fn num(v: f64) -> serde_json::Value {
-    if v.is_finite() {
-        serde_json::Value::from(v)
-    } else if v.is_nan() {
-        serde_json::Value::from(NOT_FINITE[2])
-    } else if v > 0.0 {
-        serde_json::Value::from(NOT_FINITE[0])
-    } else {
-        serde_json::Value::from(NOT_FINITE[1])
+/// A command's JSON document ([`tauwise::results::Document`]: `"tool"`,
+/// `"version"`, `"schema"`, `"input"`, then `body`) as text. When a
+/// computed member is not finite the document lists it under
+/// `"not_finite"`, and a note on standard error names it.
+pub fn json_doc<B: serde::Serialize>(input: Input, body: B) -> Result<String> {
+    let (text, found) = Document::new(input, body).json()?;
+    if !found.is_empty() {
+        eprintln!(
+            "tauwise: note: {} computed value(s) are not finite (overflowed or undefined): {}",
+            found.len(),
+            found.iter().take(5).cloned().collect::<Vec<_>>().join(", ")
+        );
     }
+    Ok(text)
 }
 
-/// The strings [`num`] writes for +∞, −∞ and NaN.
-const NOT_FINITE: [&str; 3] = ["inf", "-inf", "NaN"];
-
-/// JSON paths (`te[3].p95`) of the members [`num`] wrote as not finite.
-fn not_finite_paths(v: &serde_json::Value, path: &str, out: &mut Vec<String>) {
-    match v {
-        serde_json::Value::String(s) if NOT_FINITE.contains(&s.as_str()) => {
-            out.push(path.to_string())
-        }
-        serde_json::Value::Array(a) => {
-            for (i, x) in a.iter().enumerate() {
-                not_finite_paths(x, &format!("{path}[{i}]"), out);
-            }
-        }
-        serde_json::Value::Object(m) => {
-            for (k, x) in m {
-                let p = if path.is_empty() {
-                    k.clone()
-                } else {
-                    format!("{path}.{k}")
-                };
-                not_finite_paths(x, &p, out);
-            }
-        }
-        _ => {}
-    }
-}
-
-/// Serialise a JSON document with a final newline. When a computed member
-/// is not finite ([`num`]), the document says so: `"not_finite"` lists the
-/// members, and a note on standard error names them.
-pub fn json_text(doc: &serde_json::Value) -> String {
-    let mut found = Vec::new();
-    not_finite_paths(doc, "", &mut found);
-    let mut owned;
-    let doc = if found.is_empty() {
-        doc
-    } else {
-        owned = doc.clone();
-        if let serde_json::Value::Object(m) = &mut owned {
-            eprintln!(
-                "tauwise: note: {} computed value(s) are not finite (overflowed or undefined): {}",
-                found.len(),
-                found.iter().take(5).cloned().collect::<Vec<_>>().join(", ")
-            );
-            m.insert("not_finite".into(), found.into());
-        }
-        &owned
-    };
-    let mut s = serde_json::to_string_pretty(doc).unwrap_or_else(|_| "{}".to_string());
-    s.push('\n');
-    s
-}
-
-/// A number written for machines (CSV cells, data files): the shortest text
-/// that reads back to the same `f64`, in plain notation for moderate
-/// magnitudes and in exponent notation otherwise; `NaN` for a gap.
-pub fn plain(v: f64) -> String {
-    if v.is_nan() {
-        "NaN".to_string()
-    } else if v == 0.0 || (1e-4..1e15).contains(&v.abs()) {
-        format!("{v}")
-    } else {
-        format!("{v:e}")
-    }
-}
+pub use tauwise::results::plain;
 
 /// Progress on standard error for commands that can run for seconds on big
 /// records: a spinner with the current stage, shown only when stderr is a

@@ -1,9 +1,7 @@
 //! `tauwise convert`: between phase-noise tables, power-law models and σ(τ)
 //! ([`tauwise::spectrum::sigma`], IEEE Std 1139).
 
-use super::common::{emit, json_text, num, plain, Format, OutputArgs, PlotArgs, TauArgs};
-use super::jitter::{table_header, table_input_json};
-use super::spectrum::Rows;
+use super::common::{emit, json_doc, Format, OutputArgs, PlotArgs, TauArgs};
 use super::Outcome;
 use clap::{Args as ClapArgs, ValueEnum};
 use std::fmt::Write as _;
@@ -12,7 +10,11 @@ use tauwise::io::lf_table::{read_lf_table, TableOptions, TableQuantity};
 use tauwise::model::PowerLaw;
 use tauwise::parse::{Duration, EstimatorList, Frequency, Model};
 use tauwise::plot::phase_noise::{LfTrace, PhaseNoisePlot, TraceKind};
-use tauwise::spectrum::sigma::{sigma_points, SigmaKind, SigmaOptions, SigmaPoint};
+use tauwise::results::{
+    ConvertedCurve, ConvertedPoint, FittedModel, Input, ModelInput, SigmaBody, SpectrumRows,
+    TableInput, SIGMA_METHOD,
+};
+use tauwise::spectrum::sigma::{sigma_points, SigmaKind, SigmaOptions};
 use tauwise::spectrum::{Quantity, Spectrum};
 use tauwise::tau::TauGrid;
 use tauwise::units::{format_si, format_sig};
@@ -105,7 +107,7 @@ fn duration(opt: &Option<Duration>, _what: &str) -> Result<Option<f64>> {
 /// The source of a conversion: a table or a model, as a spectrum.
 struct Source {
     spectrum: Spectrum,
-    header: serde_json::Map<String, serde_json::Value>,
+    input: Input,
     f_h: f64,
     label: String,
     /// τ_max default for grids.
@@ -133,11 +135,10 @@ fn source(args: &Args, carrier: Option<f64>, tau_hint: Option<f64>) -> Result<So
         }
         let (lo, hi) = t.spectrum.range();
         let f_h = fh_opt.unwrap_or(hi);
-        let mut header = table_header(&t, q);
-        header.insert("input".into(), table_input_json(&t, q));
+        let input = Input::Table(TableInput::of(&t));
         return Ok(Source {
             spectrum: t.spectrum,
-            header,
+            input,
             f_h,
             label: format!("table {}", path.display()),
             max_tau: 1.0 / lo,
@@ -173,22 +174,23 @@ fn source(args: &Args, carrier: Option<f64>, tau_hint: Option<f64>) -> Result<So
     // power laws at this density is within 10⁻⁴ dB.
     let f_lo = (1e-4 / max_tau).min(f_h * 1e-3);
     let spectrum = Spectrum::from_model(&model, Quantity::Sy, carrier, f_lo, f_h, 40)?;
-    let mut header = serde_json::Map::new();
-    header.insert("tool".into(), tauwise::TOOL.into());
-    header.insert("version".into(), tauwise::VERSION.into());
-    let input = match &args.sigma {
-        Some(p) if from_sigma => serde_json::json!({
-            "path": p.display().to_string(),
-            "data": "stability",
-            "model": model.to_model_string(),
-            "note": "model-based: h_α fitted to the σ(τ) curves, then converted",
-        }),
-        _ => serde_json::json!({"model": model.to_model_string(), "data": "model"}),
-    };
-    header.insert("input".into(), input);
+    let input = Input::Model(match &args.sigma {
+        Some(p) if from_sigma => ModelInput {
+            data: "stability",
+            model: model.to_model_string(),
+            path: Some(p.display().to_string()),
+            note: Some("model-based: h_α fitted to the σ(τ) curves, then converted"),
+        },
+        _ => ModelInput {
+            data: "model",
+            model: model.to_model_string(),
+            path: None,
+            note: None,
+        },
+    });
     Ok(Source {
         spectrum,
-        header,
+        input,
         f_h,
         label: format!("model {}", model.to_model_string()),
         max_tau,
@@ -310,54 +312,22 @@ fn to_sigma(args: &Args, src: Source, carrier: Option<f64>) -> Result<String> {
         };
         tauwise::plot::render(&plot.chart(), path, tauwise::plot::DEFAULT_SIZE)?;
     }
+    let body = SigmaBody {
+        carrier,
+        f_h: src.f_h,
+        tau0,
+        method: SIGMA_METHOD,
+        curves: curves
+            .iter()
+            .map(|(name, pts)| ConvertedCurve {
+                estimator: name.clone(),
+                points: pts.iter().map(ConvertedPoint::from).collect(),
+            })
+            .collect(),
+    };
     Ok(match args.output.format {
-        Format::Json => {
-            let mut m = src.header;
-            m.insert(
-                "carrier".into(),
-                carrier.map(num).unwrap_or(serde_json::Value::Null),
-            );
-            m.insert("f_h".into(), num(src.f_h));
-            m.insert("tau0".into(), num(tau0));
-            m.insert(
-                "method".into(),
-                "σ²(τ) = ∫ S_y(f)|H(f)|² df, table interpolated linearly in log f / dB (IEEE Std 1139 transfer functions)".into(),
-            );
-            m.insert(
-                "curves".into(),
-                serde_json::Value::Array(
-                    curves
-                        .iter()
-                        .map(|(name, pts)| {
-                            serde_json::json!({
-                                "estimator": name,
-                                "points": pts.iter().map(point_json).collect::<Vec<_>>(),
-                            })
-                        })
-                        .collect(),
-                ),
-            );
-            json_text(&serde_json::Value::Object(m))
-        }
-        Format::Csv => {
-            let mut out = String::from(
-                "estimator,tau,m,dev,terms,edf,lo,hi,alpha,noise,below_table,truncated\n",
-            );
-            for (name, pts) in &curves {
-                for p in pts {
-                    let _ = writeln!(
-                        out,
-                        "{name},{},{},{},,,,,,,{},{}",
-                        plain(p.tau),
-                        p.m,
-                        plain(p.dev),
-                        plain(p.below_table),
-                        p.truncated
-                    );
-                }
-            }
-            out
-        }
+        Format::Json => json_doc(src.input, body)?,
+        Format::Csv => body.csv()?,
         Format::Table => {
             let mut out = String::new();
             let _ = writeln!(out, "σ(τ) from {}", src.label);
@@ -400,22 +370,6 @@ fn to_sigma(args: &Args, src: Source, carrier: Option<f64>) -> Result<String> {
     })
 }
 
-fn point_json(p: &SigmaPoint) -> serde_json::Value {
-    serde_json::json!({
-        "tau": num(p.tau),
-        "m": p.m,
-        "dev": num(p.dev),
-        "terms": null,
-        "edf": null,
-        "lo": null,
-        "hi": null,
-        "alpha": null,
-        "noise": null,
-        "below_table": num(p.below_table),
-        "truncated": p.truncated,
-    })
-}
-
 fn to_lf(args: &Args, src: Source, carrier: Option<f64>) -> Result<String> {
     let from = args.from.hertz();
     let to = freq(&args.to_offset, "to-offset")?.unwrap_or(src.f_h);
@@ -455,18 +409,22 @@ fn to_lf(args: &Args, src: Source, carrier: Option<f64>) -> Result<String> {
         };
         tauwise::plot::render(&plot.chart(), path, tauwise::plot::DEFAULT_SIZE)?;
     }
-    let rows = Rows::new(&spec)?;
+    let rows = SpectrumRows::new(&spec)?;
+    /// `convert --to lf`: `{"carrier","points"}`.
+    #[derive(serde::Serialize)]
+    struct LfBody {
+        carrier: Option<f64>,
+        points: SpectrumRows,
+    }
     Ok(match args.output.format {
-        Format::Json => {
-            let mut m = src.header;
-            m.insert(
-                "carrier".into(),
-                carrier.map(num).unwrap_or(serde_json::Value::Null),
-            );
-            m.insert("points".into(), rows.json());
-            json_text(&serde_json::Value::Object(m))
-        }
-        Format::Csv => rows.csv(),
+        Format::Json => json_doc(
+            src.input,
+            LfBody {
+                carrier,
+                points: rows,
+            },
+        )?,
+        Format::Csv => rows.csv()?,
         Format::Table => {
             let mut out = format!("L(f) from {}\n\n", src.label);
             out.push_str(&rows.text());
@@ -570,38 +528,17 @@ fn to_model(args: &Args, src: Source, carrier: Option<f64>) -> Result<String> {
         };
         tauwise::plot::render(&plot.chart(), path, tauwise::plot::DEFAULT_SIZE)?;
     }
+    let body = FittedModel {
+        carrier,
+        f_h: src.f_h,
+        model: m.to_model_string(),
+        h: m,
+        residual_rms_db: rms_db,
+        dominant: fit.dominant.clone(),
+    };
     Ok(match args.output.format {
-        Format::Json => {
-            let mut doc = src.header;
-            doc.insert(
-                "carrier".into(),
-                carrier.map(num).unwrap_or(serde_json::Value::Null),
-            );
-            doc.insert("f_h".into(), num(src.f_h));
-            doc.insert("model".into(), m.to_model_string().into());
-            doc.insert(
-                "h".into(),
-                serde_json::json!({
-                    "h2": num(m.get(2)), "h1": num(m.get(1)), "h0": num(m.get(0)),
-                    "h-1": num(m.get(-1)), "h-2": num(m.get(-2)),
-                }),
-            );
-            doc.insert("residual_rms_db".into(), num(rms_db));
-            doc.insert("dominant".into(), serde_json::json!(fit.dominant));
-            json_text(&serde_json::Value::Object(doc))
-        }
-        Format::Csv => {
-            let mut out = String::from("alpha,noise,h\n");
-            for a in (-2..=2).rev() {
-                let _ = writeln!(
-                    out,
-                    "{a},{},{}",
-                    tauwise::model::noise_label(a).unwrap_or(""),
-                    plain(m.get(a))
-                );
-            }
-            out
-        }
+        Format::Json => json_doc(src.input, body)?,
+        Format::Csv => body.csv()?,
         Format::Table => {
             let mut out = format!("Power-law model fitted to {}\n", src.label);
             let _ = writeln!(

@@ -1,12 +1,9 @@
 //! `tauwise holdover FILE`: time error predicted through a holdover span from
 //! the record, against a budget.
 
-use super::common::{
-    count, emit, header_json, json_text, num, plain, Format, InputArgs, OutputArgs, PlotArgs,
-};
+use super::common::{count, emit, json_doc, Format, InputArgs, OutputArgs, PlotArgs};
 use super::Outcome;
 use clap::{Args as ClapArgs, ValueEnum};
-use serde_json::{json, Value};
 use std::fmt::Write as _;
 use std::path::PathBuf;
 use tauwise::holdover::aging::{Aging, AgingModel};
@@ -16,6 +13,7 @@ use tauwise::holdover::{
 };
 use tauwise::io::series::Series;
 use tauwise::parse::{Duration, Fraction, Model, Rate};
+use tauwise::results::HoldoverBody;
 use tauwise::units::{format_si, UnitError};
 use tauwise::{Error, Result};
 
@@ -218,15 +216,19 @@ pub fn run(args: Args) -> Result<Outcome> {
         tauwise::plot::render(&plot.chart(), path, tauwise::plot::DEFAULT_SIZE)?;
     }
     let text = match args.output.format {
-        Format::Json => json_text(&to_json(
-            &series,
-            &settings,
-            &model,
-            &pred,
-            args.aging.is_some(),
-            observed.as_ref(),
-        )),
-        Format::Csv => to_csv(&pred, observed.as_ref()),
+        Format::Json => json_doc(
+            (&series).into(),
+            HoldoverBody::new(
+                &settings,
+                &model,
+                &pred,
+                args.aging.is_some(),
+                observed.as_ref(),
+            ),
+        )?,
+        Format::Csv => {
+            HoldoverBody::new(&settings, &model, &pred, false, observed.as_ref()).csv()?
+        }
         Format::Table => to_table(
             &series,
             &settings,
@@ -241,132 +243,6 @@ pub fn run(args: Args) -> Result<Outcome> {
         tauwise::verdict::gate([&pred.judgement]),
         args.fail_on_violation,
     ))
-}
-
-fn h_json(p: &tauwise::model::PowerLaw) -> Value {
-    let mut m = serde_json::Map::new();
-    for a in (-2..=2).rev() {
-        m.insert(format!("h{a}"), num(p.get(a)));
-    }
-    m.insert("fh".into(), num(p.f_h));
-    Value::Object(m)
-}
-
-fn to_json(
-    series: &Series,
-    s: &Settings,
-    model: &HoldoverModel,
-    p: &Prediction,
-    given: bool,
-    observed: Option<&Observed>,
-) -> Value {
-    let mut m = header_json(series);
-    m.insert("span_s".into(), num(s.span));
-    m.insert("budget_s".into(), num(s.budget));
-    let (extra_name, extra) = match model.aging {
-        Aging::Linear { .. } => ("aging_sigma_per_s", num(model.aging.sigma())),
-        Aging::Log { a, a_sigma, tc, c } => (
-            "log_law",
-            json!({"c": num(c), "a": num(a), "a_sigma": num(a_sigma), "tc_s": num(tc)}),
-        ),
-    };
-    let mut mm = serde_json::Map::new();
-    mm.insert("h".into(), h_json(&model.noise));
-    mm.insert("te0".into(), num(model.te0));
-    mm.insert("y0".into(), num(model.y0));
-    mm.insert("y0_sigma".into(), num(model.y0_sigma));
-    mm.insert("aging_per_s".into(), num(model.aging.rate(model.start)));
-    mm.insert(
-        "aging_model".into(),
-        if given {
-            "given"
-        } else {
-            model.aging.model().name()
-        }
-        .into(),
-    );
-    mm.insert(extra_name.into(), extra);
-    mm.insert(
-        "y0_source".into(),
-        if model.uncertainty.y0_window.is_some() {
-            "record"
-        } else {
-            "given"
-        }
-        .into(),
-    );
-    mm.insert(
-        "uncertainty".into(),
-        serde_json::to_value(model.uncertainty).unwrap_or(Value::Null),
-    );
-    mm.insert("aging_z".into(), model.aging_z().map_or(Value::Null, num));
-    mm.insert(
-        "aging_significant".into(),
-        model.aging_significant().map_or(Value::Null, Value::Bool),
-    );
-    mm.insert("temp_worst".into(), num(model.temp_worst));
-    mm.insert("start_s".into(), num(model.start));
-    m.insert("model".into(), Value::Object(mm));
-    m.insert("paths".into(), p.paths.into());
-    m.insert("seed".into(), s.seed.into());
-    m.insert("step_s".into(), num(p.step));
-    m.insert(
-        "te".into(),
-        p.te.iter()
-            .map(|t| {
-                json!({"t": num(t.t), "deterministic": num(t.deterministic),
-                       "p50": num(t.p50), "p95": num(t.p95), "p99": num(t.p99), "rms": num(t.rms)})
-            })
-            .collect::<Vec<_>>()
-            .into(),
-    );
-    m.insert(
-        "holds_for_s".into(),
-        p.holds_for.map(num).unwrap_or(Value::Null),
-    );
-    if let Ok(serde_json::Value::Object(j)) = serde_json::to_value(&p.judgement) {
-        m.extend(j);
-    }
-    m.insert(
-        "after_start".into(),
-        observed.map_or(Value::Null, |o| {
-            json!({
-                "covered_s": num(o.covered),
-                "points": o.points.iter().map(|q| json!({
-                    "t": num(q.t), "te": num(q.te), "p95": num(q.p95), "inside": q.inside,
-                })).collect::<Vec<_>>(),
-                "inside": o.inside(),
-                "worst_ratio": o.worst.map_or(Value::Null, |w| num(w.0)),
-                "worst_t": o.worst.map_or(Value::Null, |w| num(w.1)),
-                "exceeds_budget_at_s": o.exceeds_budget_at.map_or(Value::Null, num),
-            })
-        }),
-    );
-    m.insert("caution".into(), caution().into());
-    Value::Object(m)
-}
-
-/// One row per output time; `observed` is the record's TE after the start
-/// (empty where the record does not reach, or holdover starts at its end).
-fn to_csv(p: &Prediction, observed: Option<&Observed>) -> String {
-    let mut s = String::from("t,deterministic,p50,p95,p99,rms,observed\n");
-    for t in &p.te {
-        let obs = observed
-            .and_then(|o| o.points.iter().find(|q| q.t == t.t))
-            .map(|q| plain(q.te))
-            .unwrap_or_default();
-        let _ = writeln!(
-            s,
-            "{},{},{},{},{},{},{obs}",
-            plain(t.t),
-            plain(t.deterministic),
-            plain(t.p50),
-            plain(t.p95),
-            plain(t.p99),
-            plain(t.rms)
-        );
-    }
-    s
 }
 
 fn hours(t: f64) -> String {

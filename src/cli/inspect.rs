@@ -3,18 +3,16 @@
 //! it came from, notes, warnings, suggested options), size, span, τ0, gaps,
 //! mean frequency offset, linear drift, frequency outliers.
 
-use super::common::{emit, header_json, json_text, num, plain, Format, InputArgs, OutputArgs};
+use super::common::{emit, json_doc, Format, InputArgs, OutputArgs};
 use super::Outcome;
 use clap::Args as ClapArgs;
 use std::fmt::Write as _;
 use std::path::PathBuf;
 use tauwise::io::series::{suggestions, Series, Suggestion, UnitSource};
 use tauwise::prepare::{summarize, Summary};
+use tauwise::results::InspectBody;
 use tauwise::units::{format_si, format_sig};
 use tauwise::Result;
-
-/// Most outlier indices listed in the output.
-const LISTED: usize = 100;
 
 /// Most preamble lines shown in the table (JSON carries them all).
 const PREAMBLE_SHOWN: usize = 20;
@@ -41,151 +39,15 @@ pub fn run(args: Args) -> Result<Outcome> {
     let summary = summarize(&series.record, args.outlier_limit)?;
     let hints = suggestions(&series);
     let text = match args.output.format {
-        Format::Json => json_text(&to_json(&series, &summary, &hints)),
-        Format::Csv => to_csv(&series, &summary, &hints)?,
+        Format::Json => json_doc(
+            (&series).into(),
+            InspectBody::new(&series, &summary, &hints),
+        )?,
+        Format::Csv => InspectBody::new(&series, &summary, &hints).csv()?,
         Format::Table => to_table(&series, &summary, &hints),
     };
     emit(&args.output, &text)?;
     Ok(Outcome::Done)
-}
-
-fn to_json(series: &Series, s: &Summary, hints: &[Suggestion]) -> serde_json::Value {
-    let mut m = header_json(series);
-    let info = &series.info;
-    m.insert(
-        "reading".into(),
-        serde_json::to_value(info).unwrap_or(serde_json::Value::Null),
-    );
-    m.insert(
-        "suggestions".into(),
-        serde_json::to_value(hints).unwrap_or(serde_json::Value::Null),
-    );
-    m.insert("lines".into(), info.lines.into());
-    m.insert("bytes".into(), info.bytes.into());
-    m.insert("header".into(), serde_json::json!(info.header));
-    m.insert(
-        "tau0_source".into(),
-        if info.tau0_from_timestamps {
-            "timestamps"
-        } else {
-            "option"
-        }
-        .into(),
-    );
-    m.insert("inserted_gaps".into(), info.inserted_gaps.into());
-    m.insert(
-        "start_time".into(),
-        info.start_time.map(num).unwrap_or(serde_json::Value::Null),
-    );
-    m.insert("span".into(), num(s.span));
-    m.insert(
-        "frequency_offset".into(),
-        s.frequency_offset
-            .map(num)
-            .unwrap_or(serde_json::Value::Null),
-    );
-    m.insert(
-        "drift".into(),
-        match &s.drift {
-            Some(d) => serde_json::json!({
-                "model": d.model.name(),
-                "per_day": num(d.per_day()),
-                "per_second": num(d.rate),
-                "offset_at_centre": num(d.offset),
-                "centre": num(d.centre),
-                "residual_rms": num(d.residual_rms),
-                "points": d.points,
-            }),
-            None => serde_json::Value::Null,
-        },
-    );
-    m.insert(
-        "outliers".into(),
-        match &s.outliers {
-            Some(o) => serde_json::json!({
-                "limit": num(o.limit),
-                "count": o.indices.len(),
-                "median": num(o.median),
-                "mad": num(o.mad),
-                "mad_fallback": o.mad_fallback,
-                "tested": o.tested,
-                "first_indices": o.indices.iter().take(LISTED).collect::<Vec<_>>(),
-            }),
-            None => serde_json::Value::Null,
-        },
-    );
-    serde_json::Value::Object(m)
-}
-
-fn opt(v: Option<f64>) -> String {
-    v.map(plain).unwrap_or_default()
-}
-
-fn to_csv(series: &Series, s: &Summary, hints: &[Suggestion]) -> Result<String> {
-    let info = &series.info;
-    let mut rows: Vec<(&str, String, &str)> = vec![
-        ("path", info.path.display().to_string(), ""),
-        ("data", series.record.kind().name().to_string(), ""),
-        ("unit", info.unit.clone(), ""),
-        ("unit_source", unit_source(info.unit_source).to_string(), ""),
-        ("preamble_lines", info.preamble_lines.to_string(), ""),
-        (
-            "decimal_comma",
-            info.decimal_comma.is_some().to_string(),
-            "",
-        ),
-        ("points", s.points.to_string(), ""),
-        ("gaps", s.gaps.to_string(), ""),
-        ("inserted_gaps", info.inserted_gaps.to_string(), ""),
-        ("tau0", plain(s.tau0), "s"),
-        (
-            "tau0_source",
-            if info.tau0_from_timestamps {
-                "timestamps"
-            } else {
-                "option"
-            }
-            .to_string(),
-            "",
-        ),
-        ("span", plain(s.span), "s"),
-        ("start_time", opt(info.start_time), "s"),
-        ("frequency_offset", opt(s.frequency_offset), ""),
-        ("drift_per_day", opt(s.drift.map(|d| d.per_day())), "1/d"),
-        (
-            "drift_residual_rms",
-            opt(s.drift.map(|d| d.residual_rms)),
-            "",
-        ),
-    ];
-    if let Some(o) = &s.outliers {
-        rows.push(("outlier_limit", format!("{}", o.limit), "MAD"));
-        rows.push(("outliers", o.indices.len().to_string(), ""));
-        rows.push(("frequency_median", plain(o.median), ""));
-        rows.push(("frequency_mad", plain(o.mad), ""));
-    }
-    for h in hints {
-        rows.push(("suggestion", h.option.clone(), ""));
-    }
-    let mut w = csv::Writer::from_writer(Vec::new());
-    let fail = |e: csv::Error| tauwise::Error::invalid(format!("could not write CSV: {e}"));
-    w.write_record(["quantity", "value", "unit"])
-        .map_err(fail)?;
-    for (k, v, u) in rows {
-        w.write_record([k, v.as_str(), u]).map_err(fail)?;
-    }
-    let bytes = w
-        .into_inner()
-        .map_err(|e| tauwise::Error::invalid(format!("could not write CSV: {e}")))?;
-    Ok(String::from_utf8_lossy(&bytes).into_owned())
-}
-
-fn unit_source(s: UnitSource) -> &'static str {
-    match s {
-        UnitSource::Option => "option",
-        UnitSource::Header => "header",
-        UnitSource::Default => "default",
-    }
 }
 
 /// A duration in seconds, with days or hours when long.

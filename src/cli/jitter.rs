@@ -2,9 +2,7 @@
 //! phase-noise table or (with `--record`) from the PSD of a time record
 //! ([`tauwise::spectrum::jitter`]).
 
-use super::common::{
-    emit, header_json, json_text, num, plain, Format, InputArgs, OutputArgs, PlotArgs,
-};
+use super::common::{emit, json_doc, Format, InputArgs, OutputArgs, PlotArgs};
 use super::spectrum::welch_options;
 use super::Outcome;
 use clap::Args as ClapArgs;
@@ -15,6 +13,7 @@ use tauwise::io::lf_table::{
 };
 use tauwise::parse::{Filter, Frequency};
 use tauwise::plot::phase_noise::{BandMark, LfTrace, PhaseNoisePlot, TraceKind};
+use tauwise::results::{Input, JitterBand, JitterBody, TableInput, SPUR_CONVENTION};
 use tauwise::spectrum::jitter::{
     integrate_band, Band, BandJitter, JitterLimit, JitterSetup, Weighting,
 };
@@ -102,21 +101,6 @@ fn band_arg(text: &str) -> std::result::Result<(String, Band), tauwise::units::U
     Ok((text.to_string(), Band::parse(text)?))
 }
 
-/// The `"input"` object for a phase-noise table.
-pub fn table_input_json(t: &LfTable, quantity: TableQuantity) -> serde_json::Value {
-    let (lo, hi) = t.spectrum.range();
-    serde_json::json!({
-        "path": t.path,
-        "data": "table",
-        "quantity": quantity.name(),
-        "points": t.spectrum.len(),
-        "from": num(lo),
-        "to": num(hi),
-        "preamble_lines": t.preamble,
-        "spurs_listed": t.spurs.len(),
-    })
-}
-
 /// The `--quantity` option (`None` when not given).
 pub fn quantity_option(q: &Option<TableQuantity>) -> Result<Option<TableQuantity>> {
     Ok(*q)
@@ -127,18 +111,6 @@ pub fn report_table(t: &LfTable) {
     for n in &t.notes {
         eprintln!("tauwise: note: {}: {n}", t.path);
     }
-}
-
-/// Header members for a table input.
-pub fn table_header(
-    t: &LfTable,
-    quantity: TableQuantity,
-) -> serde_json::Map<String, serde_json::Value> {
-    let mut m = serde_json::Map::new();
-    m.insert("tool".into(), tauwise::TOOL.into());
-    m.insert("version".into(), tauwise::VERSION.into());
-    m.insert("input".into(), table_input_json(t, quantity));
-    m
 }
 
 /// Read a table with the common column options (its notes go to standard
@@ -211,7 +183,8 @@ pub fn run(args: Args) -> Result<Outcome> {
     // The trace to plot: the table itself, or the record's spectrum
     // averaged into 10 log-spaced bins per decade (readable, same level).
     let mut plot_trace: Option<(Spectrum, TraceKind)> = None;
-    let (mut header, spectrum, source): (_, Spectrum, String) = match (&args.table, &args.record) {
+    let mut record_spectrum: Option<(&'static str, f64, String)> = None;
+    let (input, spectrum, source): (Input, Spectrum, String) = match (&args.table, &args.record) {
         (Some(path), _) => {
             let q = quantity_option(&args.quantity)?;
             let t = load_table(path, q, &args.input, Some(carrier))?;
@@ -230,7 +203,7 @@ pub fn run(args: Args) -> Result<Outcome> {
                 }
             }
             (
-                table_header(&t, t.quantity),
+                Input::Table(TableInput::of(&t)),
                 t.spectrum.clone(),
                 format!("table {}", path.display()),
             )
@@ -247,12 +220,9 @@ pub fn run(args: Args) -> Result<Outcome> {
             if args.plot.plot.is_some() {
                 plot_trace = Some((w.log_binned(10, Some(carrier))?, TraceKind::RecordSpectrum));
             }
-            let mut h = header_json(&series);
-            h.insert("window".into(), w.window.name().into());
-            h.insert("enbw_hz".into(), num(w.enbw_hz));
-            h.insert("gaps_handling".into(), w.gap_note().into());
+            record_spectrum = Some((w.window.name(), w.enbw_hz, w.gap_note()));
             (
-                h,
+                (&series).into(),
                 w.spectrum(Some(carrier))?,
                 format!("Welch spectrum of {}", path.display()),
             )
@@ -314,50 +284,28 @@ pub fn run(args: Args) -> Result<Outcome> {
         tauwise::plot::render(&plot.chart(), path, tauwise::plot::DEFAULT_SIZE)?;
     }
     let text = match args.output.format {
-        Format::Json => {
-            header.insert("carrier".into(), num(carrier));
-            header.insert(
-                "ui_rate".into(),
-                ui_rate.map(num).unwrap_or(serde_json::Value::Null),
-            );
-            header.insert(
-                "spur_convention".into(),
-                "spur level in dBc of one sideband; pure PM, 2·10^(dBc/10) rad²".into(),
-            );
-            header.insert(
-                "bands".into(),
-                serde_json::Value::Array(
-                    outcomes
-                        .iter()
-                        .zip(&bands)
-                        .zip(&judgements)
-                        .enumerate()
-                        .map(|(i, ((o, b), j))| band_json(o, b, limit_of(&limits, i), j.as_ref()))
-                        .collect(),
-                ),
-            );
-            header.insert("caution".into(), DECISION_CAUTION.into());
-            json_text(&serde_json::Value::Object(header))
-        }
-        Format::Csv => {
-            let mut out =
-                String::from("from,to,filter,rms_rad,rms_deg,rms_s,rms_ui,spurs,extrapolated\n");
-            for r in &results {
-                let _ = writeln!(
-                    out,
-                    "{},{},{},{},{},{},{},{},{}",
-                    plain(r.from),
-                    plain(r.to),
-                    r.filter,
-                    plain(r.rms_rad),
-                    plain(r.rms_deg),
-                    plain(r.rms_s),
-                    r.rms_ui.map(plain).unwrap_or_default(),
-                    r.spurs,
-                    extrapolated_text(r)
-                );
+        Format::Json | Format::Csv => {
+            let body = JitterBody {
+                carrier,
+                ui_rate,
+                spur_convention: SPUR_CONVENTION,
+                bands: outcomes
+                    .iter()
+                    .zip(&bands)
+                    .zip(&judgements)
+                    .enumerate()
+                    .map(|(i, ((o, b), j))| JitterBand::new(b, o, limit_of(&limits, i), j.as_ref()))
+                    .collect(),
+                caution: DECISION_CAUTION,
+                window: record_spectrum.as_ref().map(|r| r.0),
+                enbw_hz: record_spectrum.as_ref().map(|r| r.1),
+                gaps_handling: record_spectrum.map(|r| r.2),
+            };
+            if args.output.format == Format::Json {
+                json_doc(input, body)?
+            } else {
+                body.csv()?
             }
-            out
         }
         Format::Table => table(&source, carrier, &outcomes, &bands, &limits, &judgements),
     };
@@ -370,56 +318,6 @@ pub fn run(args: Args) -> Result<Outcome> {
 
 fn limit_of(limits: &[JitterLimit], i: usize) -> Option<&JitterLimit> {
     limits.get(if limits.len() == 1 { 0 } else { i })
-}
-
-fn band_json(
-    o: &std::result::Result<BandJitter, String>,
-    band: &Band,
-    limit: Option<&JitterLimit>,
-    j: Option<&Judgement>,
-) -> serde_json::Value {
-    let mut v = match o {
-        Ok(r) => serde_json::json!({
-            "from": num(r.from),
-            "to": num(r.to),
-            "filter": r.filter,
-            "rms_rad": num(r.rms_rad),
-            "rms_deg": num(r.rms_deg),
-            "rms_s": num(r.rms_s),
-            "rms_ui": r.rms_ui.map(num).unwrap_or(serde_json::Value::Null),
-            "spurs": r.spurs,
-            "spurs_rad2": num(r.spurs_rad2),
-            "extrapolated": r.extrapolated.iter().map(|(a, b)| serde_json::json!([num(*a), num(*b)])).collect::<Vec<_>>(),
-        }),
-        Err(e) => serde_json::json!({
-            "from": num(band.from),
-            "to": num(band.to),
-            "not_computed": e,
-        }),
-    };
-    if let serde_json::Value::Object(m) = &mut v {
-        m.insert(
-            "limit".into(),
-            limit
-                .and_then(|l| serde_json::to_value(l).ok())
-                .unwrap_or(serde_json::Value::Null),
-        );
-        match j.and_then(|j| serde_json::to_value(j).ok()) {
-            Some(serde_json::Value::Object(jm)) => m.extend(jm),
-            _ => {
-                m.insert("verdict".into(), serde_json::Value::Null);
-            }
-        }
-    }
-    v
-}
-
-fn extrapolated_text(r: &BandJitter) -> String {
-    r.extrapolated
-        .iter()
-        .map(|(a, b)| format!("{}:{}", plain(*a), plain(*b)))
-        .collect::<Vec<_>>()
-        .join(" ")
 }
 
 fn table(

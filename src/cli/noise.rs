@@ -3,15 +3,14 @@
 //! and the report use: a power law, or `drift`) and the power-law model
 //! fitted to the record.
 
-use super::common::{
-    emit, header_json, json_text, num, plain, Format, InputArgs, OutputArgs, PlotArgs, TauArgs,
-};
+use super::common::{emit, json_doc, Format, InputArgs, OutputArgs, PlotArgs, TauArgs};
 use super::Outcome;
 use clap::Args as ClapArgs;
 use std::fmt::Write as _;
 use std::path::PathBuf;
 use tauwise::deviation::Estimator;
 use tauwise::model::noise_label;
+use tauwise::results::{noise_cells, rms, ModelSummary, NoiseBody};
 use tauwise::stability::{fit_record_model, RecordModel};
 use tauwise::stats::noise_id::{NoiseIdentifier, NoiseRow};
 use tauwise::units::{format_si, format_sig};
@@ -82,97 +81,18 @@ pub fn run(args: Args) -> Result<Outcome> {
         };
         tauwise::plot::render(&plot.chart(), path, tauwise::plot::DEFAULT_SIZE)?;
     }
+    let body = NoiseBody {
+        points: rows,
+        drift_per_day,
+        model: ModelSummary::of(&model.fit),
+    };
     let text = match args.output.format {
-        Format::Json => {
-            let mut doc = header_json(&series);
-            doc.insert(
-                "points".into(),
-                serde_json::to_value(&rows).unwrap_or_default(),
-            );
-            doc.insert(
-                "drift_per_day".into(),
-                drift_per_day.map(num).unwrap_or(serde_json::Value::Null),
-            );
-            doc.insert("model".into(), model_json(&model));
-            json_text(&serde_json::Value::Object(doc))
-        }
-        Format::Csv => {
-            let mut w = csv::Writer::from_writer(Vec::new());
-            let _ = w.write_record(["tau", "m", "alpha", "noise", "method", "r1"]);
-            for r in &rows {
-                let (a, l, me, r1) = cells(r);
-                let _ = w.write_record([plain(r.tau), r.m.to_string(), a, l, me, r1]);
-            }
-            String::from_utf8(w.into_inner().unwrap_or_default()).unwrap_or_default()
-        }
-        Format::Table => table(&series.info.path, &rows, drift_per_day, &model),
+        Format::Json => json_doc((&series).into(), &body)?,
+        Format::Csv => body.csv()?,
+        Format::Table => table(&series.info.path, &body.points, drift_per_day, &model),
     };
     emit(&args.output, &text)?;
     Ok(Outcome::Done)
-}
-
-fn cells(r: &NoiseRow) -> (String, String, String, String) {
-    (
-        r.alpha.map(|a| a.to_string()).unwrap_or_default(),
-        r.noise.map(|l| l.name().to_string()).unwrap_or_default(),
-        r.method.map(|m| m.name().to_string()).unwrap_or_default(),
-        r.r1.map(|v| format!("{v:.4}")).unwrap_or_default(),
-    )
-}
-
-/// The `"model"` object: `{"h":{"2","1","0","-1","-2"},"fh","dominant"}`,
-/// `null` for a term the fit left out; plus the model string.
-pub fn model_json(model: &RecordModel) -> serde_json::Value {
-    let fit = &model.fit;
-    let mut h = serde_json::Map::new();
-    for a in (-2i32..=2).rev() {
-        let k = (a + 2) as usize;
-        h.insert(
-            a.to_string(),
-            if fit.fitted[k] {
-                num(fit.model.h[k])
-            } else {
-                serde_json::Value::Null
-            },
-        );
-    }
-    let dominant: Vec<serde_json::Value> = fit
-        .dominant
-        .iter()
-        .map(|d| {
-            serde_json::json!({
-                "noise": noise_label(d.alpha),
-                "tau_from": num(d.tau_from),
-                "tau_to": num(d.tau_to),
-            })
-        })
-        .collect();
-    let mut std_err = serde_json::Map::new();
-    for a in (-2i32..=2).rev() {
-        std_err.insert(
-            a.to_string(),
-            fit.std_err[(a + 2) as usize]
-                .map(num)
-                .unwrap_or(serde_json::Value::Null),
-        );
-    }
-    serde_json::json!({
-        "h": h,
-        "std_err": std_err,
-        "left_out": serde_json::to_value(&fit.left_out).unwrap_or_default(),
-        "significance_sigma": num(tauwise::model::fit::SIGNIFICANCE),
-        "fh": num(fit.model.f_h),
-        "dominant": dominant,
-        "model_string": fit.model.to_model_string(),
-        "residual_db_rms": num(rms(&fit.residual_db)),
-    })
-}
-
-fn rms(v: &[f64]) -> f64 {
-    if v.is_empty() {
-        return f64::NAN;
-    }
-    (v.iter().map(|r| r * r).sum::<f64>() / v.len() as f64).sqrt()
 }
 
 fn table(
@@ -191,7 +111,7 @@ fn table(
         "tau", "m", "alpha", "noise", "method", "r1"
     );
     for r in rows {
-        let (a, l, me, r1) = cells(r);
+        let [a, l, me, r1] = noise_cells(r);
         let dash = |t: String| if t.is_empty() { "—".to_string() } else { t };
         let me = if r.capped == Some(true) {
             format!("{me}^")

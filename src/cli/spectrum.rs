@@ -1,17 +1,16 @@
 //! `tauwise spectrum FILE`: the PSD of a time record by Welch's method, as
 //! L(f), S_φ, S_y and S_x ([`tauwise::spectrum::welch`]).
 
-use super::common::{
-    emit, header_json, json_text, num, plain, Format, InputArgs, OutputArgs, PlotArgs,
-};
+use super::common::{emit, json_doc, Format, InputArgs, OutputArgs, PlotArgs};
 use super::Outcome;
 use clap::Args as ClapArgs;
 use std::fmt::Write as _;
 use std::path::PathBuf;
 use tauwise::plot::phase_noise::{LfTrace, PhaseNoisePlot, TraceKind};
+use tauwise::results::{SpectrumBody, SpectrumRows};
 use tauwise::spectrum::welch::{welch_record, Welch, WelchOptions, Window};
-use tauwise::spectrum::{Quantity, Spectrum};
-use tauwise::units::{format_si, format_sig};
+use tauwise::spectrum::Quantity;
+use tauwise::units::format_si;
 use tauwise::{Error, Result};
 
 /// PSD of a phase or frequency record (Welch's method).
@@ -102,7 +101,7 @@ pub fn run(args: Args) -> Result<Outcome> {
     } else {
         w.log_binned(args.per_decade, carrier)?
     };
-    let rows = Rows::new(&spec)?;
+    let rows = SpectrumRows::new(&spec)?;
     if let Some(path) = &args.plot.plot {
         let name = series.info.path.display().to_string();
         let plot = PhaseNoisePlot {
@@ -134,113 +133,21 @@ pub fn run(args: Args) -> Result<Outcome> {
     }
     let text = match args.output.format {
         Format::Json => {
-            let mut m = header_json(&series);
-            m.insert(
-                "carrier".into(),
-                carrier.map(num).unwrap_or(serde_json::Value::Null),
-            );
-            m.insert("window".into(), w.window.name().into());
-            m.insert("enbw_hz".into(), num(w.enbw_hz));
-            m.insert("resolution_hz".into(), num(w.resolution_hz));
-            m.insert("segment".into(), w.segment.into());
-            m.insert("segments".into(), w.segments.into());
-            m.insert("overlap".into(), num(w.overlap));
-            m.insert("gaps_handling".into(), w.gap_note().into());
-            m.insert(
-                "warnings".into(),
-                serde_json::to_value(&w.warnings).unwrap_or_default(),
-            );
-            m.insert(
-                "bins".into(),
-                if args.all_bins {
-                    "all".into()
-                } else {
-                    format!("log, {} per decade", args.per_decade).into()
-                },
-            );
-            m.insert("points".into(), rows.json());
-            json_text(&serde_json::Value::Object(m))
+            let bins = if args.all_bins {
+                "all".to_string()
+            } else {
+                format!("log, {} per decade", args.per_decade)
+            };
+            json_doc((&series).into(), SpectrumBody::new(&w, carrier, bins, rows))?
         }
-        Format::Csv => rows.csv(),
+        Format::Csv => rows.csv()?,
         Format::Table => table(&series.info.path, &w, carrier, &rows),
     };
     emit(&args.output, &text)?;
     Ok(Outcome::Done)
 }
 
-/// The five columns of a spectrum output.
-pub struct Rows {
-    f: Vec<f64>,
-    lf: Option<Vec<f64>>,
-    sphi: Option<Vec<f64>>,
-    sy: Vec<f64>,
-    sx: Vec<f64>,
-}
-
-impl Rows {
-    /// The columns of `s` (L and S_φ only with a carrier).
-    pub fn new(s: &Spectrum) -> Result<Self> {
-        let has_carrier = s.carrier.is_some();
-        Ok(Self {
-            f: s.f.clone(),
-            lf: if has_carrier {
-                Some(s.values_as(Quantity::Lf)?)
-            } else {
-                None
-            },
-            sphi: if has_carrier {
-                Some(s.values_as(Quantity::Sphi)?)
-            } else {
-                None
-            },
-            sy: s.values_as(Quantity::Sy)?,
-            sx: s.values_as(Quantity::Sx)?,
-        })
-    }
-
-    /// `[{"f","lf_dbc_hz","sphi","sy","sx"}, …]`.
-    pub fn json(&self) -> serde_json::Value {
-        let opt = |v: &Option<Vec<f64>>, i: usize| {
-            v.as_ref()
-                .map(|v| num(v[i]))
-                .unwrap_or(serde_json::Value::Null)
-        };
-        serde_json::Value::Array(
-            (0..self.f.len())
-                .map(|i| {
-                    serde_json::json!({
-                        "f": num(self.f[i]),
-                        "lf_dbc_hz": opt(&self.lf, i),
-                        "sphi": opt(&self.sphi, i),
-                        "sy": num(self.sy[i]),
-                        "sx": num(self.sx[i]),
-                    })
-                })
-                .collect(),
-        )
-    }
-
-    /// CSV with the header `f,lf_dbc_hz,sphi,sy,sx`.
-    pub fn csv(&self) -> String {
-        let mut out = String::from("f,lf_dbc_hz,sphi,sy,sx\n");
-        let opt =
-            |v: &Option<Vec<f64>>, i: usize| v.as_ref().map(|v| plain(v[i])).unwrap_or_default();
-        for i in 0..self.f.len() {
-            let _ = writeln!(
-                out,
-                "{},{},{},{},{}",
-                plain(self.f[i]),
-                opt(&self.lf, i),
-                opt(&self.sphi, i),
-                plain(self.sy[i]),
-                plain(self.sx[i])
-            );
-        }
-        out
-    }
-}
-
-fn table(path: &std::path::Path, w: &Welch, carrier: Option<f64>, rows: &Rows) -> String {
+fn table(path: &std::path::Path, w: &Welch, carrier: Option<f64>, rows: &SpectrumRows) -> String {
     let mut out = String::new();
     let _ = writeln!(out, "Spectrum of {} (Welch)", path.display());
     let _ = writeln!(
@@ -272,38 +179,4 @@ fn table(path: &std::path::Path, w: &Welch, carrier: Option<f64>, rows: &Rows) -
     let _ = writeln!(out);
     out.push_str(&rows.text());
     out
-}
-
-impl Rows {
-    /// Aligned text columns for reading.
-    pub fn text(&self) -> String {
-        let mut out = String::new();
-        let _ = writeln!(
-            out,
-            "{:>12}  {:>12}  {:>11}  {:>11}  {:>11}",
-            "f", "L(f) dBc/Hz", "S_φ rad²/Hz", "S_y 1/Hz", "S_x s²/Hz"
-        );
-        for i in 0..self.f.len() {
-            let lf = self
-                .lf
-                .as_ref()
-                .map(|v| format!("{:.2}", v[i]))
-                .unwrap_or_else(|| "-".into());
-            let sp = self
-                .sphi
-                .as_ref()
-                .map(|v| format_sig(v[i], 4))
-                .unwrap_or_else(|| "-".into());
-            let _ = writeln!(
-                out,
-                "{:>12}  {:>12}  {:>11}  {:>11}  {:>11}",
-                format_si(self.f[i], "Hz", 4),
-                lf,
-                sp,
-                format_sig(self.sy[i], 4),
-                format_sig(self.sx[i], 4)
-            );
-        }
-        out
-    }
 }

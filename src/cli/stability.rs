@@ -2,8 +2,7 @@
 //! noise type at each τ, as a table, CSV or JSON (docs/design.md §5).
 
 use super::common::{
-    emit, header_json, json_text, num, plain, ConfidenceArgs, Format, InputArgs, OutputArgs,
-    PlotArgs, TauArgs,
+    emit, json_doc, ConfidenceArgs, Format, InputArgs, OutputArgs, PlotArgs, TauArgs,
 };
 use super::Outcome;
 use clap::Args as ClapArgs;
@@ -11,6 +10,7 @@ use std::fmt::Write as _;
 use std::path::PathBuf;
 use tauwise::deviation::{Curve, Estimator};
 use tauwise::parse::{EstimatorList, Frequency};
+use tauwise::results::{AnyCurve, BestCurve, StabilityBody};
 use tauwise::stability::{analyse, best, BestPoint, Request, BEST_CURVE};
 use tauwise::units::{format_si, format_sig};
 use tauwise::PhaseRecord;
@@ -144,36 +144,20 @@ pub fn run(args: Args) -> Result<Outcome> {
         }
     }
     let text = match args.output.format {
-        Format::Json => {
-            let mut m = header_json(&series);
-            m.insert("confidence".into(), num(request.confidence));
-            let mut list = curves_json(&curves);
-            if let (Some(b), serde_json::Value::Array(a)) = (&best_points, &mut list) {
-                a.push(best_json(b));
+        Format::Json | Format::Csv => {
+            let mut list: Vec<AnyCurve> = curves.iter().cloned().map(AnyCurve::Plain).collect();
+            if let Some(b) = &best_points {
+                list.push(AnyCurve::Best(BestCurve::new(b)));
             }
-            m.insert("curves".into(), list);
-            if let Some(v) = &view {
-                m.insert(
-                    "consistency".into(),
-                    serde_json::to_value(&v.comparisons).unwrap_or(serde_json::Value::Null),
-                );
-            }
-            json_text(&serde_json::Value::Object(m))
-        }
-        Format::Csv => {
-            let t = curves_csv(&curves);
-            match &best_points {
-                // With --best every row gets a last column `from` (empty
-                // for the ordinary curves).
-                Some(b) => {
-                    let mut out = String::new();
-                    for (i, line) in t.lines().enumerate() {
-                        let _ = writeln!(out, "{line},{}", if i == 0 { "from" } else { "" });
-                    }
-                    out.push_str(&best_csv(b));
-                    out
-                }
-                None => t,
+            let body = StabilityBody {
+                confidence: request.confidence,
+                curves: list,
+                consistency: view.as_ref().map(|v| v.comparisons.clone()),
+            };
+            if args.output.format == Format::Json {
+                json_doc((&series).into(), body)?
+            } else {
+                body.csv()?
             }
         }
         Format::Table => {
@@ -219,38 +203,6 @@ fn corrected(est: Estimator, p: &tauwise::deviation::Point, x: &PhaseRecord) -> 
 const CORRECTED_NOTE: &str = "* bias-corrected value: totdev, mtot, ttot, htot divided by their \
      bias for the noise type shown (--uncorrected reports them as computed); theoh beyond \
      10 % of the record is Theo1 scaled by the record's ThêoBR ratio";
-
-/// The `best` curve as a JSON curve whose points carry `"from"`.
-fn best_json(b: &[BestPoint]) -> serde_json::Value {
-    let curve = tauwise::stability::best_curve(b);
-    let mut v = curves_json(std::slice::from_ref(&curve));
-    if let Some(pts) = v
-        .get_mut(0)
-        .and_then(|c| c.get_mut("points"))
-        .and_then(|p| p.as_array_mut())
-    {
-        for (p, bp) in pts.iter_mut().zip(b) {
-            if let Some(o) = p.as_object_mut() {
-                o.insert("from".into(), bp.from.name().into());
-            }
-        }
-    }
-    v.as_array_mut()
-        .and_then(|a| a.pop())
-        .unwrap_or(serde_json::Value::Null)
-}
-
-/// CSV rows of the `best` curve (no header; the same columns as
-/// [`curves_csv`] plus a last column `from`).
-fn best_csv(b: &[BestPoint]) -> String {
-    let curve = tauwise::stability::best_curve(b);
-    let body = curves_csv(std::slice::from_ref(&curve));
-    let mut out = String::new();
-    for (line, bp) in body.lines().skip(1).zip(b) {
-        let _ = writeln!(out, "{line},{}", bp.from.name());
-    }
-    out
-}
 
 /// The `best` block of the table, with the estimator of each point.
 fn best_table(b: &[BestPoint], x: &PhaseRecord) -> String {
@@ -301,78 +253,6 @@ fn best_table(b: &[BestPoint], x: &PhaseRecord) -> String {
     }
     let _ = writeln!(s, "{}", tauwise::DECISION_CAUTION);
     s
-}
-
-fn opt(v: Option<f64>) -> serde_json::Value {
-    v.map(num).unwrap_or(serde_json::Value::Null)
-}
-
-/// The `"curves"` array of docs/design.md §5.
-pub fn curves_json(curves: &[Curve]) -> serde_json::Value {
-    let list: Vec<serde_json::Value> = curves
-        .iter()
-        .map(|c| {
-            let pts: Vec<serde_json::Value> = c
-                .points
-                .iter()
-                .map(|p| {
-                    serde_json::json!({
-                        "tau": num(p.estimate.tau),
-                        "m": p.estimate.m,
-                        "dev": num(p.estimate.value),
-                        "terms": p.estimate.terms,
-                        "edf": opt(p.edf),
-                        "lo": opt(p.lo),
-                        "hi": opt(p.hi),
-                        "alpha": p.alpha,
-                        "noise": p.noise(),
-                        "bias": opt(p.bias),
-                    })
-                })
-                .collect();
-            serde_json::json!({"estimator": c.estimator, "points": pts})
-        })
-        .collect();
-    serde_json::Value::Array(list)
-}
-
-/// One CSV row per point: `estimator,tau,m,dev,terms,edf,lo,hi,alpha,noise,bias`
-/// (docs/design.md §5, with `bias` — the factor divided out of a corrected
-/// total-family value, else empty — added last).
-pub fn curves_csv(curves: &[Curve]) -> String {
-    let mut w = csv::Writer::from_writer(Vec::new());
-    let cell = |v: Option<f64>| v.map(plain).unwrap_or_default();
-    let _ = w.write_record([
-        "estimator",
-        "tau",
-        "m",
-        "dev",
-        "terms",
-        "edf",
-        "lo",
-        "hi",
-        "alpha",
-        "noise",
-        "bias",
-    ]);
-    for c in curves {
-        for p in &c.points {
-            let _ = w.write_record([
-                c.estimator.clone(),
-                plain(p.estimate.tau),
-                p.estimate.m.to_string(),
-                plain(p.estimate.value),
-                p.estimate.terms.to_string(),
-                cell(p.edf),
-                cell(p.lo),
-                cell(p.hi),
-                p.alpha.map(|a| a.to_string()).unwrap_or_default(),
-                p.noise().unwrap_or("").to_string(),
-                cell(p.bias),
-            ]);
-        }
-    }
-    String::from_utf8(w.into_inner().unwrap_or_default()).unwrap_or_default()
 }
 
 /// A readable table: one block per estimator, τ with SI prefix, the value

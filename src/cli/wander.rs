@@ -1,14 +1,14 @@
 //! `tauwise wander FILE`: TIE statistics, MTIE and TDEV of a phase (TIE)
 //! record, checked against built-in or user masks.
 
-use super::common::{emit, header_json, json_text, plain, Format, InputArgs, OutputArgs, PlotArgs};
+use super::common::{emit, json_doc, Format, InputArgs, OutputArgs, PlotArgs};
 use super::Outcome;
 use clap::Args as ClapArgs;
-use serde_json::Value;
 use std::fmt::Write as _;
 use std::path::PathBuf;
 use tauwise::io::series::Series;
 use tauwise::parse::Duration;
+use tauwise::results::WanderBody;
 use tauwise::tau::TauGrid;
 use tauwise::units::{format_margin_db, format_si, UnitError};
 use tauwise::verdict::{gate, Verdict};
@@ -99,8 +99,8 @@ pub fn run(args: Args) -> Result<Outcome> {
         tauwise::plot::render(&chart, path, tauwise::plot::DEFAULT_SIZE)?;
     }
     let text = match args.output.format {
-        Format::Json => json_text(&to_json(&series, &res)),
-        Format::Csv => to_csv(&res),
+        Format::Json => json_doc((&series).into(), WanderBody::new(res.clone()))?,
+        Format::Csv => WanderBody::new(res.clone()).csv()?,
         Format::Table => to_table(&series, &res),
     };
     emit(&args.output, &text)?;
@@ -140,32 +140,6 @@ pub fn parse_tau_range(text: &str) -> std::result::Result<(f64, f64), UnitError>
         });
     }
     Ok((a, b))
-}
-
-fn to_json(series: &Series, r: &WanderResult) -> Value {
-    let mut m = header_json(series);
-    if let Ok(Value::Object(body)) = serde_json::to_value(r) {
-        for (k, v) in body {
-            m.insert(if k == "checks" { "masks".into() } else { k }, v);
-        }
-    }
-    if !r.checks.is_empty() {
-        m.insert(
-            "caution".into(),
-            format!("{CONDITIONS_NOTE} {DECISION_CAUTION}").into(),
-        );
-    }
-    Value::Object(m)
-}
-
-fn to_csv(r: &WanderResult) -> String {
-    let mut s = String::from("metric,tau,value,terms\n");
-    for (name, c) in [("mtie", &r.mtie), ("tdev", &r.tdev)] {
-        for p in c.iter() {
-            let _ = writeln!(s, "{name},{},{},{}", plain(p.tau), plain(p.value), p.terms);
-        }
-    }
-    s
 }
 
 fn si(v: f64) -> String {

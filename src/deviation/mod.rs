@@ -362,6 +362,12 @@ pub struct Estimate {
 }
 
 /// An estimate with its statistics (filled by [`crate::stats`]).
+///
+/// Serialised (JSON, CSV) in one shape wherever it appears — `stability`,
+/// `wander`, `convert`, the report: `{"tau","m","dev","terms","edf","lo",
+/// "hi","alpha","noise","bias"}` ([`Point::COLUMNS`]), `null` (an empty
+/// cell) for what was not computed — `terms` too, for a value that no
+/// record's terms gave (converted from a spectrum: `terms` 0 here).
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct Point {
     /// The estimate.
@@ -387,7 +393,68 @@ pub struct Point {
     pub drift: bool,
 }
 
+/// The serialised shape of a [`Point`].
+#[derive(serde::Serialize)]
+struct PointShape {
+    tau: f64,
+    m: usize,
+    dev: f64,
+    terms: Option<usize>,
+    edf: Option<f64>,
+    lo: Option<f64>,
+    hi: Option<f64>,
+    alpha: Option<i32>,
+    noise: Option<&'static str>,
+    bias: Option<f64>,
+}
+
+impl serde::Serialize for Point {
+    fn serialize<S: serde::Serializer>(&self, s: S) -> std::result::Result<S::Ok, S::Error> {
+        PointShape {
+            tau: self.estimate.tau,
+            m: self.estimate.m,
+            dev: self.estimate.value,
+            terms: (self.estimate.terms > 0).then_some(self.estimate.terms),
+            edf: self.edf,
+            lo: self.lo,
+            hi: self.hi,
+            alpha: self.alpha,
+            noise: self.noise(),
+            bias: self.bias,
+        }
+        .serialize(s)
+    }
+}
+
 impl Point {
+    /// The CSV columns of a point, in the order of [`Point::cells`] (the
+    /// JSON keys of its serialised form).
+    pub const COLUMNS: [&'static str; 10] = [
+        "tau", "m", "dev", "terms", "edf", "lo", "hi", "alpha", "noise", "bias",
+    ];
+
+    /// The CSV cells of this point ([`Point::COLUMNS`]): numbers as
+    /// [`crate::results::plain`], empty for what was not computed.
+    pub fn cells(&self) -> [String; 10] {
+        use crate::results::{plain, plain_opt};
+        [
+            plain(self.estimate.tau),
+            self.estimate.m.to_string(),
+            plain(self.estimate.value),
+            if self.estimate.terms > 0 {
+                self.estimate.terms.to_string()
+            } else {
+                String::new()
+            },
+            plain_opt(self.edf),
+            plain_opt(self.lo),
+            plain_opt(self.hi),
+            self.alpha.map(|a| a.to_string()).unwrap_or_default(),
+            self.noise().unwrap_or("").to_string(),
+            plain_opt(self.bias),
+        ]
+    }
+
     /// A point with no statistics yet.
     pub fn bare(estimate: Estimate) -> Self {
         Self {
@@ -411,12 +478,28 @@ impl Point {
     }
 }
 
-/// One estimator's results over a τ grid.
-#[derive(Debug, Clone, PartialEq)]
+/// One estimator's results over a τ grid. Serialised as
+/// `{"estimator","points"}`.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
 pub struct Curve {
     /// The estimator's trade name (`oadev`, …; derived curves such as
     /// `oadev-from-lf` or `best` carry their own name).
     pub estimator: String,
     /// The points in increasing τ.
     pub points: Vec<Point>,
+}
+
+/// Serialise plain estimates (no statistics: MTIE and TDEV of `wander`) in
+/// the shape of a [`Point`], so that one kind of estimate has one shape in
+/// every document (`serialize_with` helper).
+pub fn serialize_as_points<S: serde::Serializer>(
+    estimates: &[Estimate],
+    s: S,
+) -> std::result::Result<S::Ok, S::Error> {
+    use serde::ser::SerializeSeq;
+    let mut seq = s.serialize_seq(Some(estimates.len()))?;
+    for e in estimates {
+        seq.serialize_element(&Point::bare(*e))?;
+    }
+    seq.end()
 }

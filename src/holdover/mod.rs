@@ -258,7 +258,7 @@ pub const MAX_STEPS: usize = 1 << 22;
 pub const MAX_TABLE_BYTES: u64 = 4_000_000_000;
 
 /// The prediction.
-#[derive(Debug, Clone, PartialEq)]
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
 pub struct Prediction {
     /// TE at log-spaced t, ending at the span.
     pub te: Vec<TePoint>,
@@ -269,6 +269,7 @@ pub struct Prediction {
     /// |TE| stays within the budget through the span, `exceeds` when it
     /// does not, `not-judged` (with the reason) when the prediction is not
     /// finite somewhere in the span or has too few paths.
+    #[serde(flatten)]
     pub judgement: Judgement,
     /// Simulation step, s.
     pub step: f64,

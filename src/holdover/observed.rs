@@ -30,7 +30,7 @@ pub struct ObservedPoint {
 }
 
 /// The comparison of the record after the start with the prediction.
-#[derive(Debug, Clone, PartialEq)]
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
 pub struct Observed {
     /// The output times the record covers (gap-free at both neighbours).
     pub points: Vec<ObservedPoint>,

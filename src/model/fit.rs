@@ -108,7 +108,7 @@ pub const SIGNIFICANCE: f64 = 2.0;
 pub const NEIGHBOUR_INFLATION: f64 = 2.5;
 
 /// A fitted power-law model.
-#[derive(Debug, Clone, PartialEq)]
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
 pub struct ModelFit {
     /// The fitted h_α (zero where a term is not in the fit) and f_h.
     pub model: PowerLaw,

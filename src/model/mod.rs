@@ -71,6 +71,19 @@ pub struct PowerLaw {
     pub f_h: f64,
 }
 
+/// Serialised as `{"h2","h1","h0","h-1","h-2","fh"}` (1/Hz at 1 Hz, and Hz).
+impl serde::Serialize for PowerLaw {
+    fn serialize<S: serde::Serializer>(&self, s: S) -> std::result::Result<S::Ok, S::Error> {
+        use serde::ser::SerializeMap;
+        let mut m = s.serialize_map(Some(6))?;
+        for a in (-2..=2).rev() {
+            m.serialize_entry(&format!("h{a}"), &self.get(a))?;
+        }
+        m.serialize_entry("fh", &self.f_h)?;
+        m.end()
+    }
+}
+
 impl PowerLaw {
     /// A model with every h_α zero and the given cut-off.
     pub fn zero(f_h: f64) -> Self {

@@ -27,7 +27,8 @@ mod sections;
 pub use provenance::Provenance;
 
 /// What a verdict is about.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
+#[serde(rename_all = "lowercase")]
 pub enum VerdictKind {
     /// A wander mask (MTIE or TDEV).
     Mask,
@@ -48,8 +49,9 @@ impl VerdictKind {
     }
 }
 
-/// One line of the verdict summary.
-#[derive(Debug, Clone, PartialEq)]
+/// One line of the verdict summary (the report's verdict matrix; serialised
+/// as `{"kind","item","criterion","result","verdict","coverage","reason"}`).
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
 pub struct VerdictLine {
     /// Mask, jitter or holdover.
     pub kind: VerdictKind,
@@ -61,6 +63,7 @@ pub struct VerdictLine {
     /// not judged; what a partial check did not cover).
     pub result: String,
     /// The shared verdict: meets, exceeds or not judged, with coverage.
+    #[serde(flatten)]
     pub judgement: crate::verdict::Judgement,
 }
 
@@ -493,4 +496,27 @@ pub fn write(report: &Report, path: &Path) -> Result<()> {
     let html = render_html(report)?;
     crate::io::write_atomic(path, html.as_bytes())?;
     Ok(())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// The verdict matrix serialises with the judgement flat, as every
+    /// check does in JSON (docs/verdicts.md).
+    #[test]
+    fn verdict_line_serialises_flat() {
+        let line = VerdictLine {
+            kind: VerdictKind::Jitter,
+            item: "12 kHz – 5 MHz".into(),
+            criterion: "1 ps".into(),
+            result: "0.2 ps".into(),
+            judgement: crate::verdict::Judgement::not_judged("no carrier"),
+        };
+        let (v, _) = crate::results::json::to_value(&line).unwrap();
+        assert_eq!(v["kind"], "jitter");
+        assert_eq!(v["verdict"], "not-judged");
+        assert_eq!(v["reason"], "no carrier");
+        assert!(v.get("judgement").is_none());
+    }
 }

@@ -154,11 +154,15 @@ pub fn plan(
 pub struct WanderResult {
     /// TIE statistics over the record.
     pub tie: tie::TieStats,
-    /// MTIE at each τ.
+    /// MTIE at each τ (serialised in the shape of a
+    /// [`crate::deviation::Point`], as in `stability`).
+    #[serde(serialize_with = "crate::deviation::serialize_as_points")]
     pub mtie: Vec<Estimate>,
-    /// TDEV at each τ.
+    /// TDEV at each τ (serialised as MTIE).
+    #[serde(serialize_with = "crate::deviation::serialize_as_points")]
     pub tdev: Vec<Estimate>,
-    /// One check per mask given.
+    /// One check per mask given (`"masks"` in the `wander` document).
+    #[serde(rename = "masks")]
     pub checks: Vec<MaskCheck>,
 }
 

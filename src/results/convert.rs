@@ -1,0 +1,122 @@
+//! The `convert` documents: σ(τ) converted from a spectrum (`--to sigma`),
+//! an L(f) table (`--to lf`: [`super::SpectrumRows`]) and a fitted model
+//! (`--to model`).
+
+use super::{csv_text, plain, Result};
+use crate::deviation::{Estimate, Point};
+use crate::model::fit::Dominant;
+use crate::model::PowerLaw;
+use crate::spectrum::sigma::SigmaPoint;
+use serde::Serialize;
+
+/// A σ(τ) value converted from a spectrum: the [`Point`] keys (no record
+/// behind it: `terms` 0, no EDF, interval or noise type) and
+/// `"below_table"` (share of σ² from offsets below the table) and
+/// `"truncated"` (a lower bound: the table's low end is too steep to
+/// extend).
+#[derive(Debug, Clone, Copy, Serialize)]
+pub struct ConvertedPoint {
+    /// The value as a point.
+    #[serde(flatten)]
+    pub point: Point,
+    /// Share of σ² from offsets below the table.
+    pub below_table: f64,
+    /// The value is a lower bound.
+    pub truncated: bool,
+}
+
+impl From<&SigmaPoint> for ConvertedPoint {
+    fn from(p: &SigmaPoint) -> Self {
+        Self {
+            point: Point::bare(Estimate {
+                tau: p.tau,
+                m: p.m,
+                value: p.dev,
+                terms: 0,
+            }),
+            below_table: p.below_table,
+            truncated: p.truncated,
+        }
+    }
+}
+
+/// One converted curve: `{"estimator","points"}`.
+#[derive(Debug, Clone, Serialize)]
+pub struct ConvertedCurve {
+    /// The estimator's name.
+    pub estimator: String,
+    /// The values.
+    pub points: Vec<ConvertedPoint>,
+}
+
+/// `convert --to sigma`: `{"carrier","f_h","tau0","method","curves"}`.
+#[derive(Debug, Clone, Serialize)]
+pub struct SigmaBody {
+    /// Carrier, Hz (`null`: not given).
+    pub carrier: Option<f64>,
+    /// Upper integration limit, Hz.
+    pub f_h: f64,
+    /// Sampling interval of MDEV/TDEV and of the grid, s.
+    pub tau0: f64,
+    /// The method, in words.
+    pub method: &'static str,
+    /// The curves.
+    pub curves: Vec<ConvertedCurve>,
+}
+
+/// The method of `convert --to sigma`, in words.
+pub const SIGMA_METHOD: &str = "σ²(τ) = ∫ S_y(f)|H(f)|² df, table interpolated linearly in log f / dB (IEEE Std 1139 transfer functions)";
+
+impl SigmaBody {
+    /// CSV: `estimator`, [`Point::COLUMNS`], `below_table`, `truncated`.
+    pub fn csv(&self) -> Result<String> {
+        let mut header = vec!["estimator"];
+        header.extend(Point::COLUMNS);
+        header.extend(["below_table", "truncated"]);
+        let mut rows = Vec::new();
+        for c in &self.curves {
+            for p in &c.points {
+                let mut r = vec![c.estimator.clone()];
+                r.extend(p.point.cells());
+                r.push(plain(p.below_table));
+                r.push(p.truncated.to_string());
+                rows.push(r);
+            }
+        }
+        csv_text(&header, rows)
+    }
+}
+
+/// `convert --to model`: `{"carrier","f_h","model","h","residual_rms_db",
+/// "dominant"}`.
+#[derive(Debug, Clone, Serialize)]
+pub struct FittedModel {
+    /// Carrier, Hz (`null`: not given).
+    pub carrier: Option<f64>,
+    /// The model's cut-off, Hz.
+    pub f_h: f64,
+    /// The model in h_α notation.
+    pub model: String,
+    /// `{"h2","h1","h0","h-1","h-2","fh"}`.
+    pub h: PowerLaw,
+    /// rms of the residuals, dB.
+    pub residual_rms_db: f64,
+    /// The dominant term over consecutive offset ranges.
+    pub dominant: Vec<Dominant>,
+}
+
+impl FittedModel {
+    /// CSV: `alpha,noise,h`, one row per term.
+    pub fn csv(&self) -> Result<String> {
+        csv_text(
+            &["alpha", "noise", "h"],
+            (-2..=2).rev().map(|a| {
+                [
+                    a.to_string(),
+                    crate::model::noise_label(a).unwrap_or("").to_string(),
+                    plain(self.h.get(a)),
+                ]
+            }),
+        )
+    }
+}
