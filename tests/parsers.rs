@@ -473,3 +473,42 @@ fn exit_codes_of_bad_command_lines_and_bad_files() {
         );
     }
 }
+
+/// The reader's errors say their cause (issue 14): a missing file, text
+/// that is not UTF-8, a DUT file against its schema, content that is not
+/// readings — each with the file, and the line where there is one.
+#[test]
+fn reader_errors_carry_their_cause() {
+    use tauwise::io::series::{read_series, SeriesOptions};
+    use tauwise::io::ReadCause;
+    let place = Place::new();
+    let opts = SeriesOptions {
+        tau0: Some(1.0),
+        ..SeriesOptions::default()
+    };
+    let cause_of = |name: &str, bytes: &[u8]| {
+        let p = place.path(name);
+        std::fs::write(&p, bytes).unwrap();
+        read_series(&p, &opts).unwrap_err()
+    };
+    let e = read_series(&place.path("absent.txt"), &opts).unwrap_err();
+    assert_eq!(e.cause, ReadCause::Access, "{e}");
+    assert_eq!(e.path, place.path("absent.txt"));
+    let e = cause_of("utf16.txt", b"\xff\xfe1\x002\x00");
+    assert_eq!(e.cause, ReadCause::Encoding, "{e}");
+    let e = cause_of("words.txt", b"1\n2\nthree\n4\n");
+    assert_eq!(e.cause, ReadCause::Content, "{e}");
+    assert_eq!(e.line, Some(3), "{e}");
+    let e = Dut::parse(
+        "[device]\nname = \"x\"\ncolour = \"red\"\n",
+        &place.path("bad.toml"),
+        place.dir.path(),
+    )
+    .unwrap_err();
+    assert_eq!(e.cause, ReadCause::Schema, "{e}");
+    assert_eq!(e.line, Some(3), "{e}");
+    let e = place
+        .dut("[holdover]\nbudget = \"1.5\"\nspans = [\"1h\"]\n")
+        .unwrap_err();
+    assert!(e.contains("give a unit"), "{e}");
+}
