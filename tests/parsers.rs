@@ -410,6 +410,17 @@ fn exit_codes_of_bad_command_lines_and_bad_files() {
         (&["inspect", flat, "--wrap", "-1ns"], 2),
         (&["inspect", flat, "--time-column", "first"], 2),
         (&["inspect", flat, "--snap=0.9"], 2),
+        (&["inspect", flat, "--outliers", "-3"], 2),
+        (&["prepare", flat, "-o", "-", "--outliers", "zero"], 2),
+        (&["spectrum", flat, "--tau0", "1s", "--overlap", "1"], 2),
+        (&["spectrum", flat, "--tau0", "1s", "--window", "square"], 2),
+        (&["wander", flat, "--tau0", "1s", "--mask", "g999"], 2),
+        (
+            &[
+                "simulate", "--model", "h0=1e-22", "--points", "10", "--drift", "5e-11",
+            ],
+            2,
+        ),
         (
             &["jitter", lf, "--carrier", "10MHz", "--band", "20M:12k"],
             2,
