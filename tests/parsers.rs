@@ -523,3 +523,53 @@ fn reader_errors_carry_their_cause() {
         .unwrap_err();
     assert!(e.contains("give a unit"), "{e}");
 }
+
+/// The reading keys of a DUT record are those of the command line's
+/// record-input options, and they reach the reader: a semicolon file with
+/// decimal commas, no time column and `!` comments reads the same through
+/// the DUT file as through `--time-column none --decimal-comma --comment !`.
+#[test]
+fn dut_reading_keys_reach_the_reader() {
+    use tauwise::io::series::read_series;
+    let place = Place::new();
+    std::fs::write(
+        place.path("comma.txt"),
+        "! bench log\n1,5\n2,5\n! pause\n3,5\n4,5\n",
+    )
+    .unwrap();
+    let text = "[device]\nname = \"u\"\n[[record]]\npath = \"comma.txt\"\ntau0 = \"1s\"\n\
+                time_column = \"none\"\ndecimal_comma = true\ncomment = \"!\"\n\
+                snap = 0.1\n";
+    let dut = Dut::parse(text, &place.path("u.toml"), place.dir.path()).unwrap();
+    let r = &dut.records[0];
+    assert!(r.no_time_column && r.decimal_comma);
+    assert_eq!((r.snap, r.wrap), (Some(0.1), None));
+    assert_eq!(r.comments, "!");
+    let s = read_series(&r.path, &r.series_options(None)).unwrap();
+    let got: Vec<f64> = s.record.to_phase().x.clone();
+    assert_eq!(got, vec![1.5, 2.5, 3.5, 4.5]);
+    let cli = tauwise()
+        .arg("inspect")
+        .arg(place.path("comma.txt"))
+        .args(["--tau0", "1s", "--time-column", "none", "--decimal-comma"])
+        .args(["--comment", "!", "--format", "json"])
+        .output()
+        .unwrap();
+    assert_eq!(json(&cli)["input"]["points"], 4);
+    let text = "[device]\nname = \"u\"\n[[record]]\npath = \"comma.txt\"\nwrap = \"100ns\"\n";
+    let dut = Dut::parse(text, &place.path("u.toml"), place.dir.path()).unwrap();
+    assert_eq!(dut.records[0].wrap, Some(100e-9));
+    for (bad, key) in [
+        ("time_column = \"first\"", "record[1].time_column"),
+        ("snap = 0.7", "record[1].snap"),
+        ("wrap = \"-1ns\"", "record[1].wrap"),
+    ] {
+        let text = format!(
+            "[device]\nname = \"u\"\n[[record]]\npath = \"comma.txt\"\ntau0 = \"1s\"\n{bad}\n"
+        );
+        let e = Dut::parse(&text, &place.path("u.toml"), place.dir.path())
+            .unwrap_err()
+            .to_string();
+        assert!(e.contains(key), "{bad}: {e}");
+    }
+}
