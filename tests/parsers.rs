@@ -410,6 +410,17 @@ fn exit_codes_of_bad_command_lines_and_bad_files() {
         (&["inspect", flat, "--wrap", "-1ns"], 2),
         (&["inspect", flat, "--time-column", "first"], 2),
         (&["inspect", flat, "--snap=0.9"], 2),
+        (&["inspect", flat, "--outliers", "-3"], 2),
+        (&["prepare", flat, "-o", "-", "--outliers", "zero"], 2),
+        (&["spectrum", flat, "--tau0", "1s", "--overlap", "1"], 2),
+        (&["spectrum", flat, "--tau0", "1s", "--window", "square"], 2),
+        (&["wander", flat, "--tau0", "1s", "--mask", "g999"], 2),
+        (
+            &[
+                "simulate", "--model", "h0=1e-22", "--points", "10", "--drift", "5e-11",
+            ],
+            2,
+        ),
         (
             &["jitter", lf, "--carrier", "10MHz", "--band", "20M:12k"],
             2,
@@ -471,5 +482,94 @@ fn exit_codes_of_bad_command_lines_and_bad_files() {
             "tauwise {}: no message",
             args.join(" ")
         );
+    }
+}
+
+/// The reader's errors say their cause (issue 14): a missing file, text
+/// that is not UTF-8, a DUT file against its schema, content that is not
+/// readings — each with the file, and the line where there is one.
+#[test]
+fn reader_errors_carry_their_cause() {
+    use tauwise::io::series::{read_series, SeriesOptions};
+    use tauwise::io::ReadCause;
+    let place = Place::new();
+    let opts = SeriesOptions {
+        tau0: Some(1.0),
+        ..SeriesOptions::default()
+    };
+    let cause_of = |name: &str, bytes: &[u8]| {
+        let p = place.path(name);
+        std::fs::write(&p, bytes).unwrap();
+        read_series(&p, &opts).unwrap_err()
+    };
+    let e = read_series(&place.path("absent.txt"), &opts).unwrap_err();
+    assert_eq!(e.cause, ReadCause::Access, "{e}");
+    assert_eq!(e.path, place.path("absent.txt"));
+    let e = cause_of("utf16.txt", b"\xff\xfe1\x002\x00");
+    assert_eq!(e.cause, ReadCause::Encoding, "{e}");
+    let e = cause_of("words.txt", b"1\n2\nthree\n4\n");
+    assert_eq!(e.cause, ReadCause::Content, "{e}");
+    assert_eq!(e.line, Some(3), "{e}");
+    let e = Dut::parse(
+        "[device]\nname = \"x\"\ncolour = \"red\"\n",
+        &place.path("bad.toml"),
+        place.dir.path(),
+    )
+    .unwrap_err();
+    assert_eq!(e.cause, ReadCause::Schema, "{e}");
+    assert_eq!(e.line, Some(3), "{e}");
+    let e = place
+        .dut("[holdover]\nbudget = \"1.5\"\nspans = [\"1h\"]\n")
+        .unwrap_err();
+    assert!(e.contains("give a unit"), "{e}");
+}
+
+/// The reading keys of a DUT record are those of the command line's
+/// record-input options, and they reach the reader: a semicolon file with
+/// decimal commas, no time column and `!` comments reads the same through
+/// the DUT file as through `--time-column none --decimal-comma --comment !`.
+#[test]
+fn dut_reading_keys_reach_the_reader() {
+    use tauwise::io::series::read_series;
+    let place = Place::new();
+    std::fs::write(
+        place.path("comma.txt"),
+        "! bench log\n1,5\n2,5\n! pause\n3,5\n4,5\n",
+    )
+    .unwrap();
+    let text = "[device]\nname = \"u\"\n[[record]]\npath = \"comma.txt\"\ntau0 = \"1s\"\n\
+                time_column = \"none\"\ndecimal_comma = true\ncomment = \"!\"\n\
+                snap = 0.1\n";
+    let dut = Dut::parse(text, &place.path("u.toml"), place.dir.path()).unwrap();
+    let r = &dut.records[0];
+    assert!(r.no_time_column && r.decimal_comma);
+    assert_eq!((r.snap, r.wrap), (Some(0.1), None));
+    assert_eq!(r.comments, "!");
+    let s = read_series(&r.path, &r.series_options(None)).unwrap();
+    let got: Vec<f64> = s.record.to_phase().x.clone();
+    assert_eq!(got, vec![1.5, 2.5, 3.5, 4.5]);
+    let cli = tauwise()
+        .arg("inspect")
+        .arg(place.path("comma.txt"))
+        .args(["--tau0", "1s", "--time-column", "none", "--decimal-comma"])
+        .args(["--comment", "!", "--format", "json"])
+        .output()
+        .unwrap();
+    assert_eq!(json(&cli)["input"]["points"], 4);
+    let text = "[device]\nname = \"u\"\n[[record]]\npath = \"comma.txt\"\nwrap = \"100ns\"\n";
+    let dut = Dut::parse(text, &place.path("u.toml"), place.dir.path()).unwrap();
+    assert_eq!(dut.records[0].wrap, Some(100e-9));
+    for (bad, key) in [
+        ("time_column = \"first\"", "record[1].time_column"),
+        ("snap = 0.7", "record[1].snap"),
+        ("wrap = \"-1ns\"", "record[1].wrap"),
+    ] {
+        let text = format!(
+            "[device]\nname = \"u\"\n[[record]]\npath = \"comma.txt\"\ntau0 = \"1s\"\n{bad}\n"
+        );
+        let e = Dut::parse(&text, &place.path("u.toml"), place.dir.path())
+            .unwrap_err()
+            .to_string();
+        assert!(e.contains(key), "{bad}: {e}");
     }
 }

@@ -67,6 +67,31 @@ pub fn snap_fraction(text: &str) -> std::result::Result<f64, UnitError> {
     }
 }
 
+/// A limit in scaled MADs (`--outliers K`): a positive number.
+pub fn mad_limit(text: &str) -> std::result::Result<f64, UnitError> {
+    let t = text.trim();
+    match t.parse::<f64>() {
+        Ok(k) if k.is_finite() && k > 0.0 => Ok(k),
+        _ => Err(UnitError::NotPositive {
+            text: t.to_string(),
+            what: "number of scaled MADs (e.g. 5)",
+        }),
+    }
+}
+
+/// An overlap of consecutive segments (`--overlap`): 0 ≤ FRAC < 1.
+pub fn overlap_fraction(text: &str) -> std::result::Result<f64, UnitError> {
+    let t = text.trim();
+    match t.parse::<f64>() {
+        Ok(f) if (0.0..1.0).contains(&f) => Ok(f),
+        _ => Err(UnitError::OutOfRange {
+            text: t.to_string(),
+            what: "the overlap",
+            range: "a fraction of a segment from 0 to below 1 (e.g. 0.5)",
+        }),
+    }
+}
+
 /// `--comment CHARS`: characters that may start a comment line.
 pub fn comment_chars(text: &str) -> std::result::Result<String, UnitError> {
     tauwise::io::text::CommentStyle::with_extra(text)

@@ -26,7 +26,7 @@ pub struct Args {
     #[command(flatten)]
     pub input: InputArgs,
     /// Count frequency values further than K scaled MADs from the median.
-    #[arg(long = "outliers", value_name = "K", default_value_t = 5.0)]
+    #[arg(long = "outliers", value_name = "K", default_value_t = 5.0, allow_hyphen_values = true, value_parser = super::common::mad_limit)]
     pub outlier_limit: f64,
     #[command(flatten)]
     pub output: OutputArgs,

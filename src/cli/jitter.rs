@@ -227,7 +227,12 @@ pub fn run(args: Args) -> Result<Outcome> {
                 format!("Welch spectrum of {}", path.display()),
             )
         }
-        (None, None) => return Err(Error::invalid("give a phase-noise TABLE or --record FILE")),
+        (None, None) => {
+            return Err(Error::option(
+                "TABLE",
+                "give a phase-noise TABLE or --record FILE",
+            ))
+        }
     };
     // With limits, a band that cannot be computed is a verdict of its own
     // (not judged); without, it is an error as before.

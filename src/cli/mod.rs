@@ -80,7 +80,8 @@ impl Outcome {
 /// The exit statuses, for `--help` texts and the documentation.
 pub const EXIT_CODES: &str =
     "Exit status: 0 success (a verdict that exceeds its limit is a result, \
-not an error); 1 error in the input or the computation; 2 bad command line; 3 a verdict exceeds \
+not an error); 1 error in the input or the computation; 2 bad command line (an option value \
+refused, options that do not go together); 3 a verdict exceeds \
 its limit and --fail-on-violation was given; 4 no verdict exceeds but one could not be judged \
 (a value that feeds it is not finite, nothing of its range was checked, too few paths, a band \
 outside the table) and --fail-on-violation was given.";

@@ -69,7 +69,7 @@ pub struct Args {
     /// Take out the frequency values further than K scaled MADs from the
     /// median: a frequency value or a phase glitch becomes a gap, a phase
     /// step is taken out of the later phase (one sample becomes a gap).
-    #[arg(long = "outliers", value_name = "K")]
+    #[arg(long = "outliers", value_name = "K", allow_hyphen_values = true, value_parser = super::common::mad_limit)]
     pub outliers: Option<f64>,
     /// Fill interior gaps by linear interpolation.
     #[arg(long)]

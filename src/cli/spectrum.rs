@@ -37,7 +37,7 @@ pub struct Args {
     #[arg(long, value_name = "N", value_parser = super::common::count)]
     pub segment: Option<usize>,
     /// Overlap of consecutive segments (fraction of a segment).
-    #[arg(long, value_name = "FRAC", default_value_t = 0.5)]
+    #[arg(long, value_name = "FRAC", default_value_t = 0.5, value_parser = super::common::overlap_fraction)]
     pub overlap: f64,
     /// Output bins per decade (log-spaced averages of the DFT bins).
     #[arg(long, value_name = "N", default_value_t = 10, value_parser = super::common::count)]

@@ -153,21 +153,10 @@ impl Estimator {
     }
 
     /// Parse a comma-separated list (`oadev,mdev`); duplicates are dropped,
-    /// the order is kept. An empty list or an unknown name is an error.
+    /// the order is kept. An empty list, an empty entry or an unknown name is
+    /// an error. The one list parser is [`crate::parse::EstimatorList`].
     pub fn parse_list(s: &str) -> Result<Vec<Self>> {
-        let mut out = Vec::new();
-        for part in s.split(',') {
-            if part.trim().is_empty() {
-                return Err(Error::invalid(format!(
-                    "estimator list '{s}' has an empty entry: expected names separated by commas, e.g. oadev,mdev"
-                )));
-            }
-            let e = Self::from_name(part)?;
-            if !out.contains(&e) {
-                out.push(e);
-            }
-        }
-        Ok(out)
+        Ok(s.parse::<crate::parse::EstimatorList>()?.0)
     }
 
     /// Order of the phase difference the estimator is built on: 2 for the

@@ -9,7 +9,7 @@
 //! file, the line, the key (`record[2].tau0`) and, for files, the resolved
 //! path. Paths are relative to the DUT file's directory (`..` is allowed).
 
-use crate::io::ReadError;
+use crate::io::{ReadCause, ReadError};
 use crate::parse::{Duration, Filter, Fraction, Frequency, Rate};
 use crate::prepare::pipeline::Steps;
 use crate::prepare::DriftModel;
@@ -343,7 +343,8 @@ impl Ctx<'_> {
             self.file,
             self.line_of(span.start),
             format!("{key}: {what}"),
-        ))
+        )
+        .because(ReadCause::Schema))
     }
     /// Join a path to the DUT file's directory and check, through the
     /// operating system, that it names a regular file. The path is not
@@ -582,6 +583,7 @@ fn toml_document(cx: &Ctx) -> Result<RawDut, ReadError> {
             Some(s) => ReadError::at(cx.file, cx.line_of(s.start), what),
             None => ReadError::file(cx.file, what),
         }
+        .because(ReadCause::Schema)
     })
 }
 
@@ -957,13 +959,14 @@ fn wander(
         return Err(ReadError::file(
             cx.file,
             "wander: expected at least one of masks or mask_files",
-        ));
+        )
+        .because(ReadCause::Schema));
     }
     if tie.is_empty() && records.is_empty() {
-        return Err(ReadError::file(
-            cx.file,
-            "wander: needs a [[tie]] capture or a [[record]]",
-        ));
+        return Err(
+            ReadError::file(cx.file, "wander: needs a [[tie]] capture or a [[record]]")
+                .because(ReadCause::Schema),
+        );
     }
     let mut files = Vec::new();
     for (i, p) in w.mask_files.iter().enumerate() {

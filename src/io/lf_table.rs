@@ -55,15 +55,18 @@ pub enum TableQuantity {
 
 impl TableQuantity {
     /// Parse `lf`, `sphi`, `sphi-db` or `sy`.
-    pub fn parse(text: &str) -> crate::Result<Self> {
+    pub fn parse(text: &str) -> Result<Self, crate::units::UnitError> {
         match text.trim().to_ascii_lowercase().as_str() {
             "lf" => Ok(TableQuantity::Lf),
             "sphi" => Ok(TableQuantity::Sphi),
             "sphi-db" | "sphidb" => Ok(TableQuantity::SphiDb),
             "sy" => Ok(TableQuantity::Sy),
-            _ => Err(crate::Error::invalid(format!(
-                "unknown table quantity '{text}': expected one of lf sphi sphi-db sy"
-            ))),
+            _ => Err(crate::units::UnitError::Invalid {
+                text: text.trim().to_string(),
+                reason: format!(
+                    "unknown table quantity '{text}': expected one of lf sphi sphi-db sy"
+                ),
+            }),
         }
     }
 
@@ -131,6 +134,7 @@ fn offset_scale(path: &Path, header: Option<&Header>, col: usize) -> Result<f64,
         Found::None => Ok(1.0),
         Found::Unit(HeaderUnit::Absolute(k)) => Ok(k),
         Found::Unit(u) => Err(ReadError {
+            cause: super::ReadCause::Content,
             path: path.to_path_buf(),
             line: Some(line),
             column: Some(col),
@@ -141,6 +145,7 @@ fn offset_scale(path: &Path, header: Option<&Header>, col: usize) -> Result<f64,
             ),
         }),
         Found::Unknown(w) => Err(ReadError {
+            cause: super::ReadCause::Content,
             path: path.to_path_buf(),
             line: Some(line),
             column: Some(col),
@@ -433,6 +438,7 @@ fn spurs_of(path: &Path, mut b: Block) -> Result<Vec<Spur>, ReadError> {
                 Found::None | Found::Unit(HeaderUnit::Dbc) => {}
                 _ => {
                     return Err(ReadError {
+                        cause: super::ReadCause::Content,
                         path: path.to_path_buf(),
                         line: Some(h.line),
                         column: Some(2),
@@ -500,6 +506,7 @@ pub fn read_lf_table_from<R: BufRead>(
                 Some(q) => Some((q, f.clone(), line)),
                 None => {
                     return Err(ReadError {
+                        cause: super::ReadCause::Content,
                         path: path.to_path_buf(),
                         line: Some(line),
                         column: Some(vc),
@@ -515,6 +522,7 @@ pub fn read_lf_table_from<R: BufRead>(
             Found::Unknown(w) => {
                 if opt.quantity.is_none() {
                     return Err(ReadError {
+                        cause: super::ReadCause::Content,
                         path: path.to_path_buf(),
                         line: Some(line),
                         column: Some(vc),
@@ -533,6 +541,7 @@ pub fn read_lf_table_from<R: BufRead>(
     let quantity = match (opt.quantity, &header_q) {
         (Some(q), Some((hq, f, line))) if q != *hq => {
             return Err(ReadError {
+                cause: super::ReadCause::Content,
                 path: path.to_path_buf(),
                 line: Some(*line),
                 column: Some(vc),

@@ -24,6 +24,27 @@ pub use write::remove_pending_temp_files;
 pub use write::write_atomic;
 pub use write::write_atomic_with;
 
+/// Why an input was refused, for callers that act on the kind of failure
+/// (the message says the rest).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
+#[serde(rename_all = "kebab-case")]
+#[non_exhaustive]
+pub enum ReadCause {
+    /// The file could not be opened or read: missing, a directory, no
+    /// permission, an I/O failure.
+    Access,
+    /// Not text tauwise reads: not UTF-8 (UTF-16, binary), a line too long.
+    Encoding,
+    /// Larger than tauwise reads for this kind of file.
+    TooLarge,
+    /// The content is not what was expected: no readings, a field that is
+    /// not a number, a unit that disagrees, stamps that do not fit τ0, …
+    Content,
+    /// A DUT file against its schema: an unknown key, a wrong type, a value
+    /// that does not parse, a reference to a name or file that is not there.
+    Schema,
+}
+
 /// An input could not be read, or did not hold what was expected.
 ///
 /// Printed as `<path>:<line>: <expected>` (line omitted when not known).
@@ -38,27 +59,36 @@ pub struct ReadError {
     pub column: Option<usize>,
     /// What was found and what was expected.
     pub expected: String,
+    /// The kind of failure.
+    pub cause: ReadCause,
 }
 
 impl ReadError {
-    /// An error about the file as a whole.
+    /// An error about the file as a whole (cause: [`ReadCause::Content`]).
     pub fn file(path: impl Into<PathBuf>, expected: impl Into<String>) -> Self {
         Self {
             path: path.into(),
             line: None,
             column: None,
             expected: expected.into(),
+            cause: ReadCause::Content,
         }
     }
 
-    /// An error on one line.
+    /// An error on one line (cause: [`ReadCause::Content`]).
     pub fn at(path: impl Into<PathBuf>, line: u64, expected: impl Into<String>) -> Self {
         Self {
             path: path.into(),
             line: Some(line),
             column: None,
             expected: expected.into(),
+            cause: ReadCause::Content,
         }
+    }
+
+    /// The same error with its cause.
+    pub fn because(self, cause: ReadCause) -> Self {
+        Self { cause, ..self }
     }
 }
 

@@ -395,6 +395,7 @@ fn resolve_unit(
     let quote = header.map(|(f, l)| format!("'{}' (line {l})", fields::shorten(f)));
     let at = |msg: String| match line {
         Some(l) => ReadError {
+            cause: super::ReadCause::Content,
             path: label.to_path_buf(),
             line: Some(l),
             column: Some(column),
@@ -634,6 +635,7 @@ fn time_unit(
         return Ok(TimeUnit::Scale(1.0));
     };
     let err = |what: String| ReadError {
+        cause: super::ReadCause::Content,
         path: label.to_path_buf(),
         line: Some(line),
         column: Some(column),

@@ -17,7 +17,7 @@
 //!   skipped; a trailing `\r` (Windows line end) is removed;
 //! - lines are at most [`MAX_LINE_BYTES`] long; content lines must be UTF-8.
 
-use super::ReadError;
+use super::{ReadCause, ReadError};
 use std::fs::File;
 use std::io::{BufRead, BufReader, Read};
 use std::path::{Path, PathBuf};
@@ -44,10 +44,10 @@ pub fn open_input(path: &Path) -> Result<Box<dyn BufRead>, ReadError> {
     }
     let meta = std::fs::metadata(path).map_err(|e| open_error(path, &e))?;
     if meta.is_dir() {
-        return Err(ReadError::file(
-            path,
-            "is a directory; expected a text file of readings",
-        ));
+        return Err(
+            ReadError::file(path, "is a directory; expected a text file of readings")
+                .because(ReadCause::Access),
+        );
     }
     let f = File::open(path).map_err(|e| open_error(path, &e))?;
     Ok(Box::new(BufReader::with_capacity(READ_BUFFER, f)))
@@ -61,7 +61,7 @@ fn open_error(path: &Path, e: &std::io::Error) -> ReadError {
         }
         _ => format!("could not open: {e}"),
     };
-    ReadError::file(path, what)
+    ReadError::file(path, what).because(ReadCause::Access)
 }
 
 /// The first bytes of an input, without consuming them (as many as the
@@ -90,7 +90,10 @@ pub fn read_small_text(path: &Path, limit: u64, what: &str) -> Result<String, Re
     (&mut reader)
         .take(limit + 1)
         .read_to_end(&mut bytes)
-        .map_err(|e| ReadError::file(path, format!("could not read the {what}: {e}")))?;
+        .map_err(|e| {
+            ReadError::file(path, format!("could not read the {what}: {e}"))
+                .because(ReadCause::Access)
+        })?;
     if bytes.len() as u64 > limit {
         return Err(ReadError::file(
             path,
@@ -98,7 +101,8 @@ pub fn read_small_text(path: &Path, limit: u64, what: &str) -> Result<String, Re
                 "larger than {}; a {what} is a short text file — is this the right file?",
                 size_text(limit)
             ),
-        ));
+        )
+        .because(ReadCause::TooLarge));
     }
     let body = bytes.strip_prefix(BOM).unwrap_or(&bytes);
     if body.starts_with(b"\xff\xfe") || body.starts_with(b"\xfe\xff") {
@@ -116,7 +120,8 @@ pub fn read_small_text(path: &Path, limit: u64, what: &str) -> Result<String, Re
                     "byte 0x{:02x} is not UTF-8 text; expected the {what} as plain text",
                     body[at]
                 ),
-            ))
+            )
+            .because(ReadCause::Encoding))
         }
     }
 }
@@ -138,6 +143,7 @@ fn utf16(path: &Path) -> ReadError {
         1,
         "the file is UTF-16 text (it starts with a UTF-16 byte-order mark); expected UTF-8 or ASCII text — save it as UTF-8",
     )
+    .because(ReadCause::Encoding)
 }
 
 /// Which lines are comments: those whose first non-blank characters are
@@ -287,6 +293,7 @@ impl<R: BufRead> LineReader<R> {
                 "line longer than {MAX_LINE_BYTES} bytes; expected a text file with one reading per line"
             ),
         )
+        .because(ReadCause::Encoding)
     }
 
     /// Find the next raw line: in place when it lies whole in the reader's
@@ -307,7 +314,8 @@ impl<R: BufRead> LineReader<R> {
                         &self.path,
                         self.line + 1,
                         format!("could not read: {e}"),
-                    ))
+                    )
+                    .because(ReadCause::Access))
                 }
             };
             if avail.is_empty() {
@@ -424,7 +432,8 @@ impl<R: BufRead> LineReader<R> {
                         bytes[at],
                         start + at + 1
                     ),
-                ))
+                )
+                .because(ReadCause::Encoding))
             }
         }
     }
@@ -443,9 +452,9 @@ fn raw_bytes<'a, R: BufRead>(
     match *raw {
         Raw::End | Raw::Copied => Ok(buf),
         Raw::InPlace(len) => {
-            let avail = reader
-                .fill_buf()
-                .map_err(|e| ReadError::at(path, line, format!("could not read: {e}")))?;
+            let avail = reader.fill_buf().map_err(|e| {
+                ReadError::at(path, line, format!("could not read: {e}")).because(ReadCause::Access)
+            })?;
             Ok(&avail[..len.min(avail.len())])
         }
     }
@@ -471,6 +480,7 @@ pub fn field_error(
     expected: impl Into<String>,
 ) -> ReadError {
     ReadError {
+        cause: super::ReadCause::Content,
         path: path.to_path_buf(),
         line: Some(line),
         column: Some(column),
