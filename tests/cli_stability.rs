@@ -371,3 +371,37 @@ fn combined_view_with_a_phase_noise_table_and_a_plot() {
     assert_eq!(out.status.code(), Some(1));
     assert!(String::from_utf8_lossy(&out.stderr).contains("--lf needs --carrier"));
 }
+
+/// `--dev tierms` (the old name of TIE rms) is refused with a message that
+/// gives the new name, and nothing is written; `--dev tie-rms` works.
+#[test]
+fn old_estimator_name_is_refused_with_the_new_one() {
+    let dir = tempfile::tempdir().unwrap();
+    let text: String = (0..100).map(|i| format!("{}\n", (i % 7) as f64)).collect();
+    let f = write(dir.path(), "x.txt", &text);
+    let out = tauwise()
+        .arg("stability")
+        .arg(&f)
+        .args(["--tau0", "1", "--units", "ns", "--dev", "oadev,tierms"])
+        .output()
+        .unwrap();
+    assert!(!out.status.success());
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert!(err.contains("'tie-rms'"), "{err}");
+    assert!(out.stdout.is_empty());
+    let out = tauwise()
+        .arg("stability")
+        .arg(&f)
+        .args([
+            "--tau0", "1", "--units", "ns", "--dev", "tie-rms", "--format", "json",
+        ])
+        .output()
+        .unwrap();
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let doc: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    assert_eq!(doc["curves"][0]["estimator"], "tie-rms");
+}

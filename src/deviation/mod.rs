@@ -34,8 +34,7 @@ pub(crate) mod total;
 /// assert_eq!(e.max_m(1001), 500);
 /// assert!(Estimator::from_name("nonsense").is_err());
 /// ```
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, PartialOrd, Ord, serde::Serialize)]
-#[serde(rename_all = "lowercase")]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, PartialOrd, Ord)]
 pub enum Estimator {
     /// Allan deviation, non-overlapping (NIST SP 1065 §5.2.2).
     Adev,
@@ -71,8 +70,9 @@ pub enum Estimator {
     Theoh,
     /// Maximum time interval error (ITU-T G.810).
     Mtie,
-    /// rms time interval error (ITU-T G.810).
-    Tierms,
+    /// rms time interval error, "TIE rms" (ITU-T G.810); named `tie-rms`
+    /// (the old name `tierms` is refused with the new one).
+    TieRms,
 }
 
 impl Estimator {
@@ -91,7 +91,7 @@ impl Estimator {
         Estimator::Theo1,
         Estimator::Theoh,
         Estimator::Mtie,
-        Estimator::Tierms,
+        Estimator::TieRms,
     ];
 
     /// The trade name used on the command line and in JSON (`oadev`, …).
@@ -110,7 +110,7 @@ impl Estimator {
             Estimator::Theo1 => "theo1",
             Estimator::Theoh => "theoh",
             Estimator::Mtie => "mtie",
-            Estimator::Tierms => "tierms",
+            Estimator::TieRms => "tie-rms",
         }
     }
 
@@ -130,7 +130,7 @@ impl Estimator {
             Estimator::Theo1 => "Theo1 deviation",
             Estimator::Theoh => "hybrid Theo deviation (ADEV + bias-removed Theo1)",
             Estimator::Mtie => "maximum time interval error",
-            Estimator::Tierms => "rms time interval error",
+            Estimator::TieRms => "TIE rms (rms time interval error)",
         }
     }
 
@@ -139,6 +139,13 @@ impl Estimator {
     /// known names.
     pub fn from_name(s: &str) -> Result<Self> {
         let t = s.trim();
+        if let Some((old, new)) = RENAMED.iter().find(|(old, _)| old.eq_ignore_ascii_case(t)) {
+            return Err(Error::invalid(format!(
+                "estimator '{old}' is now called '{}': use --dev {}",
+                new.name(),
+                new.name()
+            )));
+        }
         Self::ALL
             .iter()
             .copied()
@@ -185,7 +192,7 @@ impl Estimator {
             | Estimator::Theo1
             | Estimator::Theoh => 2,
             Estimator::Hdev | Estimator::Ohdev | Estimator::Htot => 3,
-            Estimator::Tierms => 1,
+            Estimator::TieRms => 1,
             Estimator::Mtie => 0,
         }
     }
@@ -195,7 +202,7 @@ impl Estimator {
     pub fn is_time_deviation(self) -> bool {
         matches!(
             self,
-            Estimator::Tdev | Estimator::Ttot | Estimator::Mtie | Estimator::Tierms
+            Estimator::Tdev | Estimator::Ttot | Estimator::Mtie | Estimator::TieRms
         )
     }
 
@@ -279,7 +286,7 @@ impl Estimator {
             Estimator::Mdev | Estimator::Mtot => Some(Estimator::Mdev),
             Estimator::Hdev | Estimator::Ohdev | Estimator::Htot => Some(Estimator::Ohdev),
             Estimator::Tdev | Estimator::Ttot => Some(Estimator::Tdev),
-            Estimator::Theo1 | Estimator::Mtie | Estimator::Tierms => None,
+            Estimator::Theo1 | Estimator::Mtie | Estimator::TieRms => None,
         }
     }
 
@@ -334,10 +341,20 @@ impl Estimator {
                 }
             }
             Estimator::Hdev | Estimator::Ohdev => n.saturating_sub(1) / 3,
-            Estimator::Mtie | Estimator::Tierms => n.saturating_sub(1),
+            Estimator::Mtie | Estimator::TieRms => n.saturating_sub(1),
         }
     }
 }
+
+/// Serialised as its name ([`Estimator::name`]).
+impl serde::Serialize for Estimator {
+    fn serialize<S: serde::Serializer>(&self, s: S) -> std::result::Result<S::Ok, S::Error> {
+        s.serialize_str(self.name())
+    }
+}
+
+/// Names the registry once used, and the name that replaced each.
+pub const RENAMED: &[(&str, Estimator)] = &[("tierms", Estimator::TieRms)];
 
 impl std::fmt::Display for Estimator {
     fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
@@ -368,7 +385,7 @@ fn estimate_at(
         Estimator::Theo1 => theo::theo1(p, m),
         Estimator::Theoh => theo::theoh(p, m, theobr),
         Estimator::Mtie => tie::mtie(p, m),
-        Estimator::Tierms => tie::tierms(p, m),
+        Estimator::TieRms => tie::tierms(p, m),
     }
 }
 

@@ -207,8 +207,16 @@ impl StabilityPlot {
             if self.curves.iter().any(|c| c.time_deviation()) {
                 ch.notes.insert(
                     0,
-                    "Time deviations (tdev, ttot, mtie, tierms) are in seconds and are drawn on their own chart."
-                        .into(),
+                    format!(
+                        "Time deviations ({}) are in seconds and are drawn on their own chart.",
+                        Estimator::names(
+                            &Estimator::ALL
+                                .iter()
+                                .copied()
+                                .filter(|e| e.is_time_deviation())
+                                .collect::<Vec<_>>()
+                        )
+                    ),
                 );
             }
             ch

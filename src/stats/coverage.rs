@@ -45,7 +45,7 @@ pub fn truth(est: Estimator, alpha: i32, tau: f64, m: usize, tau0: f64) -> Optio
         Estimator::Tdev | Estimator::Ttot => tau * tau / 3.0 * b(Estimator::Mdev),
         Estimator::Hdev | Estimator::Ohdev | Estimator::Htot => b(Estimator::Ohdev),
         Estimator::Theo1 => crate::stats::theo::theo1_over_allan(alpha, m)? * b(Estimator::Oadev),
-        Estimator::Mtie | Estimator::Tierms => return None,
+        Estimator::Mtie | Estimator::TieRms => return None,
     };
     (var.is_finite() && var > 0.0).then(|| var.sqrt())
 }
