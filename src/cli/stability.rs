@@ -1,5 +1,5 @@
 //! `tauwise stability FILE`: σ(τ) curves with confidence intervals and the
-//! noise type at each τ, as a table, CSV or JSON (DESIGN.md §5).
+//! noise type at each τ, as a table, CSV or JSON (docs/json.md).
 
 use super::common::{emit, json_doc, Format, InputArgs, OutputArgs};
 use super::Outcome;
