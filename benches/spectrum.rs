@@ -4,9 +4,10 @@
 use criterion::{criterion_group, criterion_main, Criterion};
 use std::hint::black_box;
 use std::time::Duration;
+use tauwise::deviation::Estimator;
 use tauwise::model::PowerLaw;
 use tauwise::simulate::{simulate_phase, SimSpec};
-use tauwise::spectrum::sigma::{sigma_points, SigmaKind, SigmaOptions};
+use tauwise::spectrum::sigma::{sigma_points, SigmaOptions};
 use tauwise::spectrum::welch::{welch, WelchOptions};
 use tauwise::spectrum::{Quantity, Spectrum};
 
@@ -45,10 +46,10 @@ fn sigma_table(c: &mut Criterion) {
     let mut g = c.benchmark_group("convert");
     g.sample_size(20);
     for kind in [
-        SigmaKind::Adev,
-        SigmaKind::Mdev,
-        SigmaKind::Hdev,
-        SigmaKind::Tdev,
+        Estimator::Adev,
+        Estimator::Mdev,
+        Estimator::Hdev,
+        Estimator::Tdev,
     ] {
         g.bench_function(format!("table500_40tau_{}", kind.name()), |b| {
             b.iter(|| black_box(sigma_points(black_box(&s), kind, &taus, opt).unwrap()))
@@ -60,7 +61,7 @@ fn sigma_table(c: &mut Criterion) {
         .map(|k| (10f64.powf(5.0 * k as f64 / 39.0)).round())
         .collect();
     g.bench_function("table500_40tau_mdev_tau0_1s", |b| {
-        b.iter(|| black_box(sigma_points(black_box(&s), SigmaKind::Mdev, &taus1, opt1).unwrap()))
+        b.iter(|| black_box(sigma_points(black_box(&s), Estimator::Mdev, &taus1, opt1).unwrap()))
     });
     g.finish();
 }

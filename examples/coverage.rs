@@ -22,7 +22,7 @@ fn main() -> tauwise::Result<()> {
         estimators: Estimator::ALL
             .iter()
             .copied()
-            .filter(|e| !matches!(e, Estimator::Mtie | Estimator::Tierms))
+            .filter(|e| !matches!(e, Estimator::Mtie | Estimator::TieRms))
             .collect(),
         alphas: vec![2, 1, 0, -1, -2],
         points: 4096,

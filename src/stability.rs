@@ -3,7 +3,7 @@
 //! noise type) by [`crate::stats`]. Used by the `stability` command and the
 //! report, so both print the same numbers.
 
-use crate::deviation::{compute, Curve, Estimator, Point};
+use crate::deviation::{compute, Curve, Estimator, Origin, Point};
 use crate::error::{Error, Result};
 use crate::record::PhaseRecord;
 use crate::stats::{annotate_with, NoiseIdentifier, StatsOptions};
@@ -79,10 +79,7 @@ pub fn analyse(x: &PhaseRecord, req: &Request) -> Result<Vec<Curve>> {
                 p.hi = p.hi.map(|v| v * back);
             }
         }
-        curves.push(Curve {
-            estimator: est.name().to_string(),
-            points,
-        });
+        curves.push(Curve::measured(est, points));
     }
     if curves.iter().all(|c| c.points.is_empty()) {
         return Err(Error::insufficient(format!(
@@ -123,7 +120,7 @@ pub struct RecordModel {
 /// (no power-law EDF there) — are left out. Remove aging first
 /// ([`crate::prepare::remove_drift`]) to fit the noise beneath it.
 pub fn fit_record_model(x: &PhaseRecord, grid: &TauGrid) -> Result<RecordModel> {
-    use crate::model::fit::{fit_variances, FitPoint, VarKind};
+    use crate::model::fit::{fit_variances, FitPoint};
     let request = |grid: &TauGrid| Request {
         estimators: vec![Estimator::Oadev, Estimator::Mdev],
         grid: grid.clone(),
@@ -133,7 +130,8 @@ pub fn fit_record_model(x: &PhaseRecord, grid: &TauGrid) -> Result<RecordModel> 
     };
     let octave = analyse(x, &request(&TauGrid::Octave))?;
     let mut points = Vec::new();
-    for (curve, kind) in octave.iter().zip([VarKind::Avar, VarKind::Mvar]) {
+    for curve in &octave {
+        let kind = curve.estimator;
         for p in &curve.points {
             let e = p.estimate;
             if let Some(edf) = p.edf.filter(|v| v.is_finite() && *v > 0.0) {
@@ -220,12 +218,13 @@ pub const SAME_TAU_RATIO: f64 = 1.189_207_115_002_721; // 2^(1/4)
 /// standard, the equipment maker's data and local acceptance procedures
 /// decide.
 ///
-/// Curves whose name is not an estimator (derived curves) are skipped.
+/// Curves not measured on the record ([`crate::deviation::Origin`]) are
+/// skipped.
 pub fn best(curves: &[Curve], n_phase: usize, tau0: f64) -> Vec<BestPoint> {
     let mut cands: Vec<(usize, BestPoint)> = Vec::new();
     let sigma_y = |c: &Curve| {
-        Estimator::from_name(&c.estimator)
-            .ok()
+        (c.origin == Origin::Measured)
+            .then_some(c.estimator)
             .filter(|e| !e.is_time_deviation())
             .and_then(|e| e.estimates().map(|target| (e, target)))
     };
@@ -310,11 +309,17 @@ pub fn best(curves: &[Curve], n_phase: usize, tau0: f64) -> Vec<BestPoint> {
     out
 }
 
-/// The [`best`] points as a plain curve named [`BEST_CURVE`] (the estimator
-/// of each point is dropped; keep the [`BestPoint`]s to report it).
+/// The [`best`] points as a curve of origin [`Origin::Best`] whose
+/// estimator is the plain estimator of the variance they estimate (the
+/// estimator of each point is dropped; keep the [`BestPoint`]s to report
+/// it).
 pub fn best_curve(points: &[BestPoint]) -> Curve {
     Curve {
-        estimator: BEST_CURVE.to_string(),
+        estimator: points
+            .first()
+            .and_then(|b| b.from.estimates())
+            .unwrap_or(Estimator::Oadev),
+        origin: Origin::Best,
         points: points.iter().map(|b| b.point).collect(),
     }
 }
@@ -342,10 +347,7 @@ mod tests {
     }
 
     fn curve(name: &str, pts: Vec<Point>) -> Curve {
-        Curve {
-            estimator: name.into(),
-            points: pts,
-        }
+        Curve::measured(Estimator::from_name(name).unwrap(), pts)
     }
 
     #[test]
@@ -381,7 +383,9 @@ mod tests {
         let b = best(&curves, 1000, 1.0);
         let got: Vec<(f64, Estimator)> = b.iter().map(|p| (p.point.estimate.tau, p.from)).collect();
         assert_eq!(got, vec![(1.0, Estimator::Oadev), (2.0, Estimator::Oadev)]);
-        assert_eq!(best_curve(&b).estimator, "best");
+        assert_eq!(best_curve(&b).origin, Origin::Best);
+        assert_eq!(best_curve(&b).name(), "best");
+        assert_eq!(best_curve(&b).estimator, Estimator::Oadev);
         assert_eq!(best_curve(&b).points.len(), 2);
         assert!(best(&[], 1000, 1.0).is_empty());
         assert!(best(&[curve("mtie", vec![pt(1.0, 1.0, 0.9, 1.1)])], 1000, 1.0).is_empty());
@@ -561,9 +565,9 @@ pub fn agreement(measured: f64, lo: f64, hi: f64, converted: f64, table_db: f64)
 /// The phase-noise side of the combined short/long-τ view.
 #[derive(Debug, Clone)]
 pub struct PhaseNoiseView {
-    /// Per convertible measured curve: `<estimator>-from-lf`, the table's
+    /// Per convertible measured curve: origin [`Origin::FromLf`], the table's
     /// σ(τ) at the record's bandwidth over the compared τ; and
-    /// `<estimator>-from-lf-full-band`, the table's σ(τ) with its whole
+    /// [`Origin::FromLfFullBand`], the table's σ(τ) with its whole
     /// bandwidth at τ below the record's τ0 (what the record cannot see;
     /// not for MDEV/TDEV, which need τ = nτ0). Points below τ0 carry m = 0
     /// and terms = 0.
@@ -573,14 +577,6 @@ pub struct PhaseNoiseView {
     /// The table's highest offset (the full-band curves' f_h), Hz.
     pub table_f_h: f64,
 }
-
-/// Suffix of the curves converted from a phase-noise table at the record's
-/// bandwidth.
-pub const FROM_LF: &str = "-from-lf";
-
-/// Suffix of the curves converted from a phase-noise table with its whole
-/// bandwidth, below the record's τ0.
-pub const FROM_LF_FULL_BAND: &str = "-from-lf-full-band";
 
 fn bare(tau: f64, tau0: f64, value: f64) -> Point {
     let m = if tau < tau0 * (1.0 - 1e-9) {
@@ -621,7 +617,7 @@ pub fn from_phase_noise(
     tau0: f64,
     opts: &ViewOptions,
 ) -> Result<PhaseNoiseView> {
-    use crate::spectrum::sigma::{sigma_points, SigmaKind, SigmaOptions};
+    use crate::spectrum::sigma::{sigma_points, SigmaOptions};
     if !(opts.table_uncertainty_db.is_finite() && opts.table_uncertainty_db >= 0.0) {
         return Err(Error::invalid(format!(
             "the table's uncertainty must be a number of dB ≥ 0, got {}",
@@ -638,11 +634,12 @@ pub fn from_phase_noise(
     let mut curves = Vec::new();
     let mut comparisons = Vec::new();
     for c in measured {
-        let Ok(kind) = SigmaKind::from_name(&c.estimator) else {
+        if c.origin != Origin::Measured || c.estimator.transfer_function().is_none() {
             continue;
-        };
+        }
+        let kind = c.estimator;
         let mut cmp = Comparison {
-            estimator: c.estimator.clone(),
+            estimator: c.estimator.name().to_string(),
             f_h,
             bandwidth_given: opts.bandwidth.is_some(),
             table_uncertainty_db: opts.table_uncertainty_db,
@@ -652,13 +649,14 @@ pub fn from_phase_noise(
             apart: None,
         };
         // The short-τ view: the table with its whole bandwidth below τ0.
-        if !matches!(kind, SigmaKind::Mdev | SigmaKind::Tdev) {
+        if !kind.needs_whole_tau0() {
             let k_min = ((1.0 / (f_top * tau0)).log2().ceil() as i32).clamp(-14, 0);
             let taus: Vec<f64> = (k_min..0).map(|k| tau0 * 2f64.powi(k)).collect();
             if !taus.is_empty() {
                 let pts = sigma_points(s, kind, &taus, SigmaOptions { tau0, f_h: f_top })?;
                 curves.push(Curve {
-                    estimator: format!("{}{FROM_LF_FULL_BAND}", c.estimator),
+                    estimator: c.estimator,
+                    origin: Origin::FromLfFullBand,
                     points: pts
                         .iter()
                         .filter(|p| !p.truncated && p.dev > 0.0)
@@ -739,7 +737,7 @@ pub fn from_phase_noise(
                 let mut reach = None;
                 for k in 1..=40 {
                     let tau = tau_min * 2f64.powi(-k);
-                    let q = sigma_points(s, SigmaKind::Adev, &[tau], opt)?[0];
+                    let q = sigma_points(s, Estimator::Oadev, &[tau], opt)?[0];
                     if !q.truncated && q.below_table <= MAX_BELOW_TABLE {
                         reach = Some(tau);
                         break;
@@ -764,7 +762,8 @@ pub fn from_phase_noise(
             }
             if !kept.is_empty() {
                 curves.push(Curve {
-                    estimator: format!("{}{FROM_LF}", c.estimator),
+                    estimator: c.estimator,
+                    origin: Origin::FromLf,
                     points: kept,
                 });
             }
@@ -772,9 +771,10 @@ pub fn from_phase_noise(
         comparisons.push(cmp);
     }
     if comparisons.is_empty() {
-        return Err(Error::insufficient(
-            "no measured estimator can be converted from the phase-noise table (adev, oadev, mdev, tdev, hdev and ohdev can)",
-        ));
+        return Err(Error::insufficient(format!(
+            "no measured estimator can be converted from the phase-noise table ({} can)",
+            Estimator::names(&Estimator::convertible())
+        )));
     }
     Ok(PhaseNoiseView {
         curves,

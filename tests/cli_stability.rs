@@ -107,12 +107,22 @@ fn csv_has_one_row_per_point() {
     let mut lines = csv.lines();
     assert_eq!(
         lines.next().unwrap(),
-        "estimator,tau,m,dev,terms,edf,lo,hi,alpha,noise,bias"
+        "estimator,origin,tau,m,dev,terms,edf,lo,hi,alpha,noise,bias"
     );
     // 64 phase points: oadev m = 1..16 (5 octaves up to 31), mdev up to 21.
     let rows: Vec<&str> = lines.collect();
-    assert_eq!(rows.iter().filter(|r| r.starts_with("oadev,")).count(), 5);
-    assert_eq!(rows.iter().filter(|r| r.starts_with("mdev,")).count(), 5);
+    assert_eq!(
+        rows.iter()
+            .filter(|r| r.starts_with("oadev,measured,"))
+            .count(),
+        5
+    );
+    assert_eq!(
+        rows.iter()
+            .filter(|r| r.starts_with("mdev,measured,"))
+            .count(),
+        5
+    );
 }
 
 #[test]
@@ -217,7 +227,12 @@ fn best_curve_takes_one_estimator_per_tau() {
     let curves = doc["curves"].as_array().unwrap();
     assert_eq!(curves.len(), 5);
     let best = &curves[4];
-    assert_eq!(best["estimator"], "best");
+    assert_eq!(best["name"], "best");
+    assert_eq!(best["origin"], "best");
+    assert_eq!(
+        best["estimator"], "oadev",
+        "the variance the curve estimates"
+    );
     let pts = best["points"].as_array().unwrap();
     assert!(pts.len() >= 8);
     let width = |p: &serde_json::Value| p["hi"].as_f64().unwrap() / p["lo"].as_f64().unwrap();
@@ -226,7 +241,7 @@ fn best_curve_takes_one_estimator_per_tau() {
         assert_ne!(from, "tdev");
         let tau = p["tau"].as_f64().unwrap();
         // The chosen point is one of `from`'s own points.
-        let src = curves.iter().find(|c| c["estimator"] == from).unwrap();
+        let src = curves.iter().find(|c| c["name"] == from).unwrap();
         assert!(src["points"]
             .as_array()
             .unwrap()
@@ -242,7 +257,7 @@ fn best_curve_takes_one_estimator_per_tau() {
     assert!(csv.lines().next().unwrap().ends_with(",from"));
     assert!(csv
         .lines()
-        .any(|l| l.starts_with("best,") && l.ends_with(",totdev")));
+        .any(|l| l.starts_with("oadev,best,") && l.ends_with(",totdev")));
     let table = run("table");
     assert!(table.contains("best — "));
     assert!(table.contains("* bias-corrected"));
@@ -316,9 +331,16 @@ fn combined_view_with_a_phase_noise_table_and_a_plot() {
         .as_array()
         .unwrap()
         .iter()
-        .map(|c| c["estimator"].as_str().unwrap())
+        .map(|c| c["name"].as_str().unwrap())
         .collect();
     assert_eq!(names, ["oadev", "oadev-from-lf-full-band", "oadev-from-lf"]);
+    let origins: Vec<&str> = doc["curves"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|c| c["origin"].as_str().unwrap())
+        .collect();
+    assert_eq!(origins, ["measured", "from-lf-full-band", "from-lf"]);
     let c = &doc["consistency"][0];
     assert_eq!(
         c["f_h"].as_f64(),
@@ -349,4 +371,38 @@ fn combined_view_with_a_phase_noise_table_and_a_plot() {
         .unwrap();
     assert_eq!(out.status.code(), Some(2));
     assert!(String::from_utf8_lossy(&out.stderr).contains("--lf: needs --carrier"));
+}
+
+/// `--dev tierms` (the old name of TIE rms) is refused with a message that
+/// gives the new name, and nothing is written; `--dev tie-rms` works.
+#[test]
+fn old_estimator_name_is_refused_with_the_new_one() {
+    let dir = tempfile::tempdir().unwrap();
+    let text: String = (0..100).map(|i| format!("{}\n", (i % 7) as f64)).collect();
+    let f = write(dir.path(), "x.txt", &text);
+    let out = tauwise()
+        .arg("stability")
+        .arg(&f)
+        .args(["--tau0", "1", "--units", "ns", "--dev", "oadev,tierms"])
+        .output()
+        .unwrap();
+    assert!(!out.status.success());
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert!(err.contains("'tie-rms'"), "{err}");
+    assert!(out.stdout.is_empty());
+    let out = tauwise()
+        .arg("stability")
+        .arg(&f)
+        .args([
+            "--tau0", "1", "--units", "ns", "--dev", "tie-rms", "--format", "json",
+        ])
+        .output()
+        .unwrap();
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let doc: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    assert_eq!(doc["curves"][0]["estimator"], "tie-rms");
 }

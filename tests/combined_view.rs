@@ -8,9 +8,9 @@ use tauwise::deviation::Estimator;
 use tauwise::deviation::{Curve, Estimate, Point};
 use tauwise::model::PowerLaw;
 use tauwise::simulate::{simulate_phase, SimSpec};
-use tauwise::spectrum::sigma::{sigma_points, SigmaKind, SigmaOptions};
+use tauwise::spectrum::sigma::{sigma_points, SigmaOptions};
 use tauwise::spectrum::{Quantity, Spectrum};
-use tauwise::stability::{analyse, from_phase_noise, Request, ViewOptions, FROM_LF};
+use tauwise::stability::{analyse, from_phase_noise, Request, ViewOptions};
 
 const CARRIER: f64 = 10e6;
 
@@ -50,10 +50,7 @@ fn same_model_agrees_and_a_table_6_db_off_does_not() {
     // From 2τ0 (the default bandwidth leaves τ0 out) to the table's reach.
     assert_eq!(c.common.unwrap()[0], 2.0);
     assert_eq!(c.f_h, 0.5);
-    assert!(ok
-        .curves
-        .iter()
-        .any(|c| c.estimator == format!("oadev{FROM_LF}")));
+    assert!(ok.curves.iter().any(|c| c.name() == "oadev-from-lf"));
     let off = from_phase_noise(
         &curves,
         &table(model, 0.01, 1e6, 6.0),
@@ -80,7 +77,8 @@ fn same_model_agrees_and_a_table_6_db_off_does_not() {
 
 fn synthetic_curve(taus: &[f64], value: impl Fn(f64) -> f64) -> Curve {
     Curve {
-        estimator: "oadev".into(),
+        estimator: Estimator::Oadev,
+        origin: tauwise::deviation::Origin::Measured,
         points: taus
             .iter()
             .map(|&t| Point {
@@ -125,7 +123,7 @@ fn the_record_bandwidth_is_used() {
     // Exactly the spectrum module's integral at f_h = 0.5 Hz.
     let direct = sigma_points(
         &s,
-        SigmaKind::Adev,
+        Estimator::Adev,
         &taus,
         SigmaOptions {
             tau0: 1.0,

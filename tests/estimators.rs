@@ -332,7 +332,7 @@ fn mtie_of_a_sinusoid() {
 fn tierms_of_a_ramp() {
     let x: Vec<f64> = (0..300).map(|i| 1e-9 * i as f64).collect();
     let rec = PhaseRecord::new(x, 1.0).unwrap();
-    for e in compute(Estimator::Tierms, &rec, &[1, 10, 299]) {
+    for e in compute(Estimator::TieRms, &rec, &[1, 10, 299]) {
         assert!(rel(e.value, 1e-9 * e.tau) < 1e-12);
     }
 }
@@ -388,7 +388,7 @@ fn registry() {
     }
     let err = Estimator::from_name("allan").unwrap_err().to_string();
     assert!(
-        err.contains("allan") && err.contains("oadev") && err.contains("tierms"),
+        err.contains("allan") && err.contains("oadev") && err.contains("tie-rms"),
         "{err}"
     );
     assert_eq!(
@@ -396,10 +396,14 @@ fn registry() {
         vec![Estimator::Oadev, Estimator::Mdev]
     );
     assert!(Estimator::parse_list("oadev,,mdev").is_err());
+    // The old name of TIE rms is refused with the new one (issue 14).
+    let renamed = Estimator::from_name("tierms").unwrap_err().to_string();
+    assert!(renamed.contains("'tie-rms'"), "{renamed}");
+    assert_eq!(Estimator::TieRms.name(), "tie-rms");
     assert!(Estimator::parse_list("oadev,foo").is_err());
     assert_eq!(Estimator::Oadev.difference_order(), 2);
     assert_eq!(Estimator::Ohdev.difference_order(), 3);
-    assert_eq!(Estimator::Tierms.difference_order(), 1);
+    assert_eq!(Estimator::TieRms.difference_order(), 1);
     assert_eq!(Estimator::Mtie.difference_order(), 0);
     assert!(Estimator::Tdev.is_time_deviation());
     assert!(Estimator::Mtie.is_time_deviation());

@@ -6,9 +6,10 @@ use nalgebra::{DMatrix, DVector};
 use rand::{Rng, SeedableRng};
 use rand_chacha::ChaCha8Rng;
 use std::f64::consts::{LN_2, PI};
+use tauwise::deviation::Estimator;
 use tauwise::model::fit::nnls;
 use tauwise::model::response::variance_numeric;
-use tauwise::model::{fit_sy, fit_variances, FitPoint, PowerLaw, VarKind};
+use tauwise::model::{fit_sy, fit_variances, FitPoint, PowerLaw};
 use tauwise::simulate::{simulate_phase, SimSpec};
 
 fn unit(alpha: i32, fh: f64) -> PowerLaw {
@@ -92,20 +93,20 @@ fn numerical_integral_matches_closed_form_cases() {
         let tau = n as f64 * tau0;
         let s2 = fh / (2.0 * PI).powi(2);
         let wpm = |k| variance_numeric(k, 2, tau, tau0, fh);
-        assert!(rel(wpm(VarKind::Avar), 3.0 * s2 / (tau * tau)) < 1e-6);
-        assert!(rel(wpm(VarKind::Mvar), 3.0 * s2 / (n as f64 * tau * tau)) < 1e-6);
-        assert!(rel(wpm(VarKind::Hvar), 10.0 / 3.0 * s2 / (tau * tau)) < 1e-6);
+        assert!(rel(wpm(Estimator::Oadev), 3.0 * s2 / (tau * tau)) < 1e-6);
+        assert!(rel(wpm(Estimator::Mdev), 3.0 * s2 / (n as f64 * tau * tau)) < 1e-6);
+        assert!(rel(wpm(Estimator::Ohdev), 10.0 / 3.0 * s2 / (tau * tau)) < 1e-6);
         let wfm = |k| variance_numeric(k, 0, tau, tau0, fh);
-        assert!(rel(wfm(VarKind::Avar), 0.5 / tau) < 1e-4);
-        assert!(rel(wfm(VarKind::Hvar), 0.5 / tau) < 1e-4);
+        assert!(rel(wfm(Estimator::Oadev), 0.5 / tau) < 1e-4);
+        assert!(rel(wfm(Estimator::Ohdev), 0.5 / tau) < 1e-4);
         let nn = (n * n) as f64;
-        assert!(rel(wfm(VarKind::Mvar), (1.0 + 1.0 / nn) / (4.0 * tau)) < 1e-4);
-        let rw = variance_numeric(VarKind::Avar, -2, tau, tau0, fh);
+        assert!(rel(wfm(Estimator::Mdev), (1.0 + 1.0 / nn) / (4.0 * tau)) < 1e-4);
+        let rw = variance_numeric(Estimator::Oadev, -2, tau, tau0, fh);
         assert!(rel(rw, (2.0 * PI).powi(2) * tau / 6.0) < 1e-4);
     }
     for a in -2..=2 {
-        let av = variance_numeric(VarKind::Avar, a, 1.0, 1.0, 0.5);
-        let mv = variance_numeric(VarKind::Mvar, a, 1.0, 1.0, 0.5);
+        let av = variance_numeric(Estimator::Oadev, a, 1.0, 1.0, 0.5);
+        let mv = variance_numeric(Estimator::Mdev, a, 1.0, 1.0, 0.5);
         assert!(rel(mv, av) < 1e-4, "α={a}: MVAR(n=1) {mv} vs AVAR {av}");
     }
 }
@@ -126,13 +127,13 @@ fn closed_forms_equal_the_integral() {
             }
             for a in -2..=2 {
                 let m = unit(a, fh);
-                for kind in [VarKind::Avar, VarKind::Hvar] {
+                for kind in [Estimator::Oadev, Estimator::Ohdev] {
                     let num = variance_numeric(kind, a, tau, tau0, fh);
                     let r = m.variance(kind, tau, tau0) / num;
                     assert!((r - 1.0).abs() < 0.02, "{kind:?} α={a} n={n} fh={fh}: {r}");
                 }
                 if fh == 0.5 && n >= 8 {
-                    let num = variance_numeric(VarKind::Mvar, a, tau, tau0, fh);
+                    let num = variance_numeric(Estimator::Mdev, a, tau, tau0, fh);
                     let r = m.mvar(tau, tau0) / num;
                     assert!((r - 1.0).abs() < 0.02, "MVAR α={a} n={n}: {r}");
                 }
@@ -253,7 +254,7 @@ fn points_for(x: &[f64], tau0: f64) -> Vec<FitPoint> {
     while 3 * m <= x.len() / 8 {
         let (v, t) = oavar(x, m, tau0);
         pts.push(FitPoint {
-            kind: VarKind::Avar,
+            kind: Estimator::Oadev,
             tau: m as f64 * tau0,
             tau0,
             var: v,
@@ -261,7 +262,7 @@ fn points_for(x: &[f64], tau0: f64) -> Vec<FitPoint> {
         });
         let (v, t) = mvar(x, m, tau0);
         pts.push(FitPoint {
-            kind: VarKind::Mvar,
+            kind: Estimator::Mdev,
             tau: m as f64 * tau0,
             tau0,
             var: v,
@@ -322,7 +323,7 @@ fn fit_separates_white_and_flicker_pm_with_mdev() {
     let mut pts = Vec::new();
     for k in 0..12 {
         let tau = 2f64.powi(k);
-        for kind in [VarKind::Avar, VarKind::Mvar] {
+        for kind in [Estimator::Oadev, Estimator::Mdev] {
             pts.push(FitPoint {
                 kind,
                 tau,
@@ -376,7 +377,7 @@ fn fit_with_hadamard_points() {
     let mut pts = Vec::new();
     for k in 0..16 {
         let tau = 2f64.powi(k);
-        for kind in [VarKind::Avar, VarKind::Hvar] {
+        for kind in [Estimator::Oadev, Estimator::Ohdev] {
             pts.push(FitPoint {
                 kind,
                 tau,

@@ -270,7 +270,7 @@ fn the_same_estimate_has_the_same_json_keys_in_every_command() {
             .as_array()
             .unwrap()
             .iter()
-            .find(|c| c["estimator"] == est)
+            .find(|c| c["name"] == est)
             .unwrap_or_else(|| panic!("no {est} curve"))["points"][0]
             .clone()
     };
@@ -290,7 +290,7 @@ fn the_same_estimate_has_the_same_json_keys_in_every_command() {
     let lf_view = get("stability --lf");
     assert_eq!(keys(&curve(&lf_view, "oadev-from-lf")), point);
     let conv = get("convert --to sigma");
-    let mut k = keys(&curve(&conv, "adev"));
+    let mut k = keys(&curve(&conv, "adev-from-lf"));
     assert!(k.remove("below_table") && k.remove("truncated"));
     assert_eq!(k, point, "convert");
     let mut b = keys(&curve(&stab, "best"));

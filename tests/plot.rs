@@ -4,6 +4,7 @@
 //! (analytic), so the pictures show something meaningful.
 
 use std::path::Path;
+use tauwise::deviation::{Estimator, Origin};
 use tauwise::model::PowerLaw;
 use tauwise::plot::holdover::HoldoverPlot;
 use tauwise::plot::phase_noise::{BandMark, LfTrace, PhaseNoisePlot, TraceKind};
@@ -41,25 +42,25 @@ fn stability_chart(title: &str) -> Chart {
         curves: vec![
             SigmaCurve {
                 name: "oadev".into(),
+                estimator: Estimator::Oadev,
+                origin: Origin::Measured,
                 points: pts(&|t| m.avar(t).sqrt(), 0.3),
-                derived: false,
-                time_deviation: false,
             },
             SigmaCurve {
                 name: "mdev".into(),
+                estimator: Estimator::Mdev,
+                origin: Origin::Measured,
                 points: pts(&|t| m.mvar(t, 1.0).sqrt(), 0.4),
-                derived: false,
-                time_deviation: false,
             },
             SigmaCurve {
                 name: "oadev-from-lf".into(),
+                estimator: Estimator::Oadev,
+                origin: Origin::FromLf,
                 points: taus
                     .iter()
                     .take(8)
                     .map(|&t| XY::new(t, m.avar(t).sqrt() * 1.05))
                     .collect(),
-                derived: true,
-                time_deviation: false,
             },
         ],
         regions: vec![

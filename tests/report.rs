@@ -33,9 +33,9 @@ fn full_report(name: &str) -> Report {
         title: name.into(),
         curves: vec![SigmaCurve {
             name: "oadev".into(),
+            estimator: tauwise::deviation::Estimator::Oadev,
+            origin: tauwise::deviation::Origin::Measured,
             points: oadev.clone(),
-            derived: false,
-            time_deviation: false,
         }],
         regions: vec![],
         confidence: Some(0.683),
@@ -86,7 +86,7 @@ fn full_report(name: &str) -> Report {
         rows: oadev
             .iter()
             .map(|p| StabilityRow {
-                estimator: "oadev".into(),
+                estimator: tauwise::deviation::Estimator::Oadev,
                 tau: p.x,
                 m: p.x as usize,
                 dev: p.y,
@@ -393,7 +393,7 @@ fn report_from_a_dut_file() {
     let row = st
         .rows
         .iter()
-        .find(|r| r.estimator == "oadev" && r.m == 1)
+        .find(|r| r.estimator == tauwise::deviation::Estimator::Oadev && r.m == 1)
         .unwrap();
     assert!(
         (row.dev - direct).abs() < 1e-9 * direct,

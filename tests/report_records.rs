@@ -33,7 +33,7 @@ fn sections(r: &Report) -> &[StabilitySection] {
 fn oadev_at(s: &StabilitySection, m: usize) -> f64 {
     s.rows
         .iter()
-        .find(|r| r.estimator == "oadev" && r.m == m)
+        .find(|r| r.estimator == tauwise::deviation::Estimator::Oadev && r.m == m)
         .unwrap_or_else(|| panic!("no oadev at m = {m}"))
         .dev
 }

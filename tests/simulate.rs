@@ -159,14 +159,14 @@ fn shaped_ffm_psd_gives_the_table_at_every_tau() {
 #[test]
 fn flicker_terms_hold_at_short_tau() {
     use tauwise::model::response::variance_numeric;
-    use tauwise::model::VarKind;
     let n = 1 << 16;
     let ffm = simulate_phase(&SimSpec::new(single(-1, 1e-24), 1.0, n, 31)).unwrap();
     let fpm = simulate_phase(&SimSpec::new(single(1, 1e-21), 1.0, n, 32)).unwrap();
     for m in [1usize, 2] {
         let r = (oavar(&ffm.x, m, 1.0) / table_avar(-1, 1e-24, m as f64, 0.5)).sqrt();
         assert!((r - 1.0).abs() < 0.03, "FFM m={m}: {r}");
-        let want = 1e-21 * variance_numeric(VarKind::Avar, 1, m as f64, 1.0, 0.5);
+        let want =
+            1e-21 * variance_numeric(tauwise::deviation::Estimator::Oadev, 1, m as f64, 1.0, 0.5);
         let r = (oavar(&fpm.x, m, 1.0) / want).sqrt();
         assert!((r - 1.0).abs() < 0.03, "FPM m={m}: {r}");
     }

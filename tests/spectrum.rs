@@ -7,7 +7,7 @@ use std::f64::consts::PI;
 use tauwise::deviation::{compute, Estimator};
 use tauwise::model::PowerLaw;
 use tauwise::simulate::{simulate_phase, SimSpec};
-use tauwise::spectrum::sigma::{sigma_from_spectrum, sigma_points, SigmaKind, SigmaOptions};
+use tauwise::spectrum::sigma::{sigma_from_spectrum, sigma_points, SigmaOptions};
 use tauwise::spectrum::welch::{welch, WelchOptions, Window};
 use tauwise::spectrum::{Quantity, Spectrum};
 use tauwise::PhaseRecord;
@@ -33,9 +33,9 @@ fn ieee1139_table_to_sigma() {
         let m = single(alpha, 1e-22, fh);
         let table = Spectrum::from_model(&m, Quantity::Lf, Some(NU0), 1e-5, fh, 10).unwrap();
         let opt = SigmaOptions { tau0, f_h: fh };
-        let av = sigma_points(&table, SigmaKind::Adev, &taus, opt).unwrap();
-        let mv = sigma_points(&table, SigmaKind::Mdev, &taus, opt).unwrap();
-        let tv = sigma_points(&table, SigmaKind::Tdev, &taus, opt).unwrap();
+        let av = sigma_points(&table, Estimator::Adev, &taus, opt).unwrap();
+        let mv = sigma_points(&table, Estimator::Mdev, &taus, opt).unwrap();
+        let tv = sigma_points(&table, Estimator::Tdev, &taus, opt).unwrap();
         for ((a, mo), t) in av.iter().zip(&mv).zip(&tv) {
             assert!(2.0 * PI * fh * a.tau > 10.0 && mo.m >= 32);
             let ra = a.dev.powi(2) / m.avar(a.tau);
@@ -268,7 +268,7 @@ fn record_spectrum_sigma_round_trip() {
     let fh = *spec.f.last().unwrap();
     let ms = [1usize, 2, 4, 8, 16, 32, 64];
     let taus: Vec<f64> = ms.iter().map(|&k| k as f64 * tau0).collect();
-    let conv = sigma_from_spectrum(&spec, SigmaKind::Adev, &taus, tau0, fh).unwrap();
+    let conv = sigma_from_spectrum(&spec, Estimator::Adev, &taus, tau0, fh).unwrap();
     let meas = compute(Estimator::Oadev, &rec, &ms);
     for (c, e) in conv.iter().zip(&meas) {
         let r = e.value / c.1;
@@ -303,7 +303,7 @@ fn record_spectrum_sigma_round_trip() {
         );
     }
     // MDEV the same way.
-    let convm = sigma_from_spectrum(&spec, SigmaKind::Mdev, &taus, tau0, fh).unwrap();
+    let convm = sigma_from_spectrum(&spec, Estimator::Mdev, &taus, tau0, fh).unwrap();
     let measm = compute(Estimator::Mdev, &rec, &ms);
     for (c, e) in convm.iter().zip(&measm) {
         let r = e.value / c.1;

@@ -331,11 +331,12 @@ fn jitter_band_beyond_the_table_fails_the_gate() {
 /// for HDEV.
 #[test]
 fn singular_slopes_are_truncated_not_divided_by_rounding() {
+    use tauwise::deviation::Estimator;
     use tauwise::spectrum::quad::gl8;
-    use tauwise::spectrum::sigma::{sigma_points, SigmaKind, SigmaOptions};
+    use tauwise::spectrum::sigma::{sigma_points, SigmaOptions};
     use tauwise::spectrum::{Quantity, Spectrum};
     let nu0 = 10e6;
-    for (slope, kind, tau) in [(-50.0, SigmaKind::Adev, 1.0), (-70.0, SigmaKind::Hdev, 1.0)] {
+    for (slope, kind, tau) in [(-50.0, Estimator::Adev, 1.0), (-70.0, Estimator::Hdev, 1.0)] {
         let f = vec![1.0, 10.0, 1000.0];
         let l = vec![-60.0, -60.0 + slope, -60.0 + slope - 40.0];
         let s = Spectrum::new(f.clone(), l.clone(), Quantity::Lf, Some(nu0)).unwrap();
@@ -363,7 +364,7 @@ fn singular_slopes_are_truncated_not_divided_by_rounding() {
             let sy = (x / nu0).powi(2) * 2.0 * 10f64.powf(lf(x) / 10.0);
             let a = std::f64::consts::PI * x * tau;
             let h2 = match kind {
-                SigmaKind::Adev => 2.0 * a.sin().powi(4) / (a * a),
+                Estimator::Adev => 2.0 * a.sin().powi(4) / (a * a),
                 _ => 8.0 / 3.0 * a.sin().powi(6) / (a * a),
             };
             sy * h2

@@ -6,17 +6,17 @@ use super::Outcome;
 use clap::{Args as ClapArgs, ValueEnum};
 use std::fmt::Write as _;
 use std::path::PathBuf;
+use tauwise::deviation::{Estimator, Origin};
 use tauwise::io::lf_table::{read_lf_table, TableOptions, TableQuantity};
 use tauwise::model::PowerLaw;
 use tauwise::parse::{Duration, EstimatorList, Frequency, Model};
 use tauwise::plot::phase_noise::{LfTrace, PhaseNoisePlot, TraceKind};
 use tauwise::results::{
-    ConvertedCurve, ConvertedPoint, FittedModel, Input, ModelInput, SigmaBody, SpectrumRows,
-    TableInput, SIGMA_METHOD,
+    ConvertedCurve, FittedModel, Input, ModelInput, SigmaBody, SpectrumRows, TableInput,
+    SIGMA_METHOD,
 };
-use tauwise::spectrum::sigma::{sigma_points, SigmaKind, SigmaOptions};
+use tauwise::spectrum::sigma::{grid_taus, model_spectrum, sigma_curve, spectral, SigmaOptions};
 use tauwise::spectrum::{Quantity, Spectrum};
-use tauwise::tau::TauGrid;
 use tauwise::units::{format_si, format_sig};
 use tauwise::{Error, Result};
 
@@ -65,8 +65,8 @@ pub struct Args {
     /// The target.
     #[arg(long, value_enum, value_name = "WHAT")]
     pub to: Target,
-    /// Estimators for --to sigma: adev oadev mdev hdev ohdev tdev.
-    #[arg(long, value_name = "LIST", default_value = "adev,mdev", value_parser = str::parse::<EstimatorList>)]
+    /// Estimators for --to sigma (see `dev_help`).
+    #[arg(long, value_name = "LIST", default_value = "adev,mdev", value_parser = str::parse::<EstimatorList>, help = dev_help())]
     pub dev: EstimatorList,
     #[command(flatten)]
     pub taus: TauArgs,
@@ -97,6 +97,14 @@ pub struct Args {
 /// A frequency option in hertz (parsed and checked by clap).
 fn freq(opt: &Option<Frequency>, _what: &str) -> Result<Option<f64>> {
     Ok(opt.map(Frequency::hertz))
+}
+
+/// The help of `--dev`: the registry's estimators with a transfer function.
+fn dev_help() -> String {
+    format!(
+        "Estimators for --to sigma, comma-separated ({})",
+        Estimator::names(&Estimator::convertible())
+    )
 }
 
 /// A duration option in seconds (parsed and checked by clap).
@@ -145,7 +153,7 @@ fn source(args: &Args, carrier: Option<f64>, tau_hint: Option<f64>) -> Result<So
         });
     }
     let (parsed, from_sigma) = match &args.sigma {
-        Some(path) => (model_from_stability(path, fh_opt)?, true),
+        Some(path) => (tauwise::results::model_from_stability(path, fh_opt)?, true),
         None => match args.model {
             Some(m) => (m.power_law(f64::NAN), false),
             None => {
@@ -169,11 +177,7 @@ fn source(args: &Args, carrier: Option<f64>, tau_hint: Option<f64>) -> Result<So
     let max_tau = duration(&args.max_tau, "max-tau")?
         .or(tau_hint)
         .unwrap_or(1e5);
-    // Sample the model densely (40 points per decade) from well below the
-    // longest τ's band up to f_h; the log–log interpolation of a sum of
-    // power laws at this density is within 10⁻⁴ dB.
-    let f_lo = (1e-4 / max_tau).min(f_h * 1e-3);
-    let spectrum = Spectrum::from_model(&model, Quantity::Sy, carrier, f_lo, f_h, 40)?;
+    let spectrum = model_spectrum(&model, carrier, max_tau)?;
     let input = Input::Model(match &args.sigma {
         Some(p) if from_sigma => ModelInput {
             data: "stability",
@@ -236,48 +240,25 @@ pub fn run(args: Args) -> Result<Outcome> {
 }
 
 fn to_sigma(args: &Args, src: Source, carrier: Option<f64>) -> Result<String> {
-    let kinds: Vec<(String, SigmaKind)> = args
-        .dev
-        .iter()
-        .map(|e| {
-            SigmaKind::from_name(e.name())
-                .map(|k| (e.name().to_string(), k))
-                .map_err(|err| Error::option(format!("--dev {}", e.name()), err.to_string()))
-        })
-        .collect::<Result<_>>()?;
+    let estimators = args.dev.0.clone();
+    for e in &estimators {
+        spectral(*e)?;
+    }
     let tau0 = duration(&args.tau0, "tau0")?.unwrap_or(0.5 / src.f_h);
     let max_tau = duration(&args.max_tau, "max-tau")?.unwrap_or(src.max_tau);
-    let grid = args.taus.taus.clone();
-    let taus: Vec<f64> = match &grid {
-        // Explicit τ are kept; MDEV/TDEV round them to whole multiples of τ0.
-        TauGrid::Explicit(t) => t.clone(),
-        g => {
-            let max_m = ((max_tau / tau0).floor() as usize).max(1);
-            g.ms(tau0, max_m)?
-                .into_iter()
-                .map(|m| m as f64 * tau0)
-                .collect()
-        }
-    };
+    let taus = grid_taus(&args.taus.taus, tau0, max_tau)?;
     let opt = SigmaOptions { tau0, f_h: src.f_h };
-    let mut curves = Vec::new();
-    for (name, kind) in &kinds {
-        let t: Vec<f64> = match kind {
-            SigmaKind::Mdev | SigmaKind::Tdev => taus
-                .iter()
-                .map(|t| (t / tau0).round().max(1.0) * tau0)
-                .collect(),
-            _ => taus.clone(),
-        };
-        curves.push((name.clone(), sigma_points(&src.spectrum, *kind, &t, opt)?));
-    }
+    let origin = if args.lf.is_some() {
+        Origin::FromLf
+    } else {
+        Origin::FromModel
+    };
+    let curves = estimators
+        .iter()
+        .map(|&e| Ok((e, sigma_curve(&src.spectrum, e, &taus, opt)?)))
+        .collect::<Result<Vec<_>>>()?;
     if let Some(path) = &args.plot.plot {
-        use tauwise::plot::stability::{is_time_deviation, SigmaCurve, StabilityPlot};
-        let suffix = if args.lf.is_some() {
-            "-from-lf"
-        } else {
-            "-from-model"
-        };
+        use tauwise::plot::stability::{SigmaCurve, StabilityPlot};
         let mut notes = vec![format!(
             "Converted: σ²(τ) = ∫ S_y(f)|H(f)|² df up to f_h = {} (IEEE Std 1139 transfer functions), τ0 = {} for MDEV/TDEV.",
             format_si(src.f_h, "Hz", 4),
@@ -296,14 +277,17 @@ fn to_sigma(args: &Args, src: Source, carrier: Option<f64>) -> Result<String> {
             title: src.label.clone(),
             curves: curves
                 .iter()
-                .map(|(name, pts)| SigmaCurve {
-                    name: format!("{name}{suffix}"),
-                    points: pts
-                        .iter()
-                        .map(|p| tauwise::plot::XY::new(p.tau, p.dev))
-                        .collect(),
-                    derived: true,
-                    time_deviation: is_time_deviation(name),
+                .map(|(e, pts)| {
+                    let c = ConvertedCurve::new(*e, origin, pts);
+                    SigmaCurve {
+                        name: c.name,
+                        estimator: *e,
+                        origin,
+                        points: pts
+                            .iter()
+                            .map(|p| tauwise::plot::XY::new(p.tau, p.dev))
+                            .collect(),
+                    }
                 })
                 .collect(),
             regions: Vec::new(),
@@ -319,10 +303,7 @@ fn to_sigma(args: &Args, src: Source, carrier: Option<f64>) -> Result<String> {
         method: SIGMA_METHOD,
         curves: curves
             .iter()
-            .map(|(name, pts)| ConvertedCurve {
-                estimator: name.clone(),
-                points: pts.iter().map(ConvertedPoint::from).collect(),
-            })
+            .map(|(e, pts)| ConvertedCurve::new(*e, origin, pts))
             .collect(),
     };
     Ok(match args.output.format {
@@ -337,16 +318,16 @@ fn to_sigma(args: &Args, src: Source, carrier: Option<f64>) -> Result<String> {
                 format_si(src.f_h, "Hz", 4),
                 format_si(tau0, "s", 4)
             );
-            for (name, pts) in &curves {
+            for (est, pts) in &curves {
                 let _ = writeln!(out);
-                let _ = writeln!(out, "{name}");
+                let _ = writeln!(out, "{}", est.name());
                 let _ = writeln!(
                     out,
                     "{:>12}  {:>12}  {:>13}",
                     "τ", "deviation", "below table"
                 );
                 for p in pts {
-                    let dev = if *name == "tdev" {
+                    let dev = if est.is_time_deviation() {
                         format_si(p.dev, "s", 4)
                     } else {
                         format_sig(p.dev, 4)
@@ -380,7 +361,7 @@ fn to_lf(args: &Args, src: Source, carrier: Option<f64>) -> Result<String> {
         }),
         (None, Some(path)) => Some(PowerLaw {
             f_h: src.f_h,
-            ..model_from_stability(path, Some(src.f_h))?
+            ..tauwise::results::model_from_stability(path, Some(src.f_h))?
         }),
         _ => None,
     };
@@ -431,61 +412,6 @@ fn to_lf(args: &Args, src: Source, carrier: Option<f64>) -> Result<String> {
             out
         }
     })
-}
-
-/// Largest `stability --format json` document `--sigma` reads (a result of
-/// every estimator at every τ of a long record is a few MB).
-const STABILITY_JSON_LIMIT: u64 = 64 << 20;
-
-/// Fit h_α to the curves of a `stability` JSON document (model-based
-/// direction of the conversion): `adev`/`oadev` as AVAR, `mdev` as MVAR,
-/// `hdev`/`ohdev` as HVAR, weighted by each point's EDF (1 when absent).
-/// f_h defaults to 1/(2τ0) of the record.
-fn model_from_stability(path: &std::path::Path, fh: Option<f64>) -> Result<PowerLaw> {
-    use tauwise::model::fit::{fit_variances, FitPoint, VarKind};
-    let bad = |what: &str| {
-        Error::Read(tauwise::io::ReadError::file(
-            path,
-            format!("{what}; expected the JSON written by `tauwise stability --format json`"),
-        ))
-    };
-    let text =
-        tauwise::io::text::read_small_text(path, STABILITY_JSON_LIMIT, "stability JSON result")?;
-    let doc: serde_json::Value =
-        serde_json::from_str(&text).map_err(|e| bad(&format!("not JSON ({e})")))?;
-    let tau0 = doc["input"]["tau0"]
-        .as_f64()
-        .filter(|t| *t > 0.0)
-        .ok_or_else(|| bad("no input.tau0"))?;
-    let curves = doc["curves"].as_array().ok_or_else(|| bad("no curves"))?;
-    let mut points = Vec::new();
-    for c in curves {
-        let kind = match c["estimator"].as_str().unwrap_or("") {
-            "adev" | "oadev" => VarKind::Avar,
-            "mdev" => VarKind::Mvar,
-            "hdev" | "ohdev" => VarKind::Hvar,
-            _ => continue,
-        };
-        for p in c["points"].as_array().into_iter().flatten() {
-            let (Some(tau), Some(dev)) = (p["tau"].as_f64(), p["dev"].as_f64()) else {
-                continue;
-            };
-            if tau > 0.0 && dev > 0.0 {
-                points.push(FitPoint {
-                    kind,
-                    tau,
-                    tau0,
-                    var: dev * dev,
-                    weight: p["edf"].as_f64().filter(|e| *e > 0.0).unwrap_or(1.0),
-                });
-            }
-        }
-    }
-    if points.is_empty() {
-        return Err(bad("no adev, oadev, mdev, hdev or ohdev points"));
-    }
-    let f_h = fh.unwrap_or(0.5 / tau0);
-    Ok(fit_variances(&points, f_h)?.model)
 }
 
 /// `--to model`: fit S_y = Σ h_α f^α to the table's points (log-space fit of

@@ -311,8 +311,13 @@ fn to_table(
     if u.replicates > 0 {
         let _ = writeln!(
             o,
-            "  uncertainty parametric bootstrap: the fit repeated on {} records drawn from the noise model below{}",
+            "  uncertainty parametric bootstrap: the fit repeated on {} records drawn from the noise model below{}{}",
             u.replicates,
+            if u.rwfm_drawn {
+                " (each with its own random-walk FM level, as the record could have measured it)"
+            } else {
+                ""
+            },
             if u.y0_window.is_some() && !u.aging_given {
                 format!("; y0 and aging errors correlated {:+.2}, drawn jointly per path", u.y0_aging_corr)
             } else {

@@ -25,7 +25,7 @@ pub struct Cli {
     pub command: Command,
 }
 
-/// The subcommands (their outputs: docs/design.md §5).
+/// The subcommands (their outputs: docs/json.md).
 #[derive(Debug, Subcommand)]
 pub enum Command {
     /// Summarise a record: points, span, τ0, gaps, offset, drift, outliers.

@@ -1,5 +1,5 @@
 //! `tauwise stability FILE`: σ(τ) curves with confidence intervals and the
-//! noise type at each τ, as a table, CSV or JSON (docs/design.md §5).
+//! noise type at each τ, as a table, CSV or JSON (docs/json.md).
 
 use super::common::{
     emit, json_doc, ConfidenceArgs, Format, InputArgs, OutputArgs, PlotArgs, TauArgs,
@@ -8,7 +8,7 @@ use super::Outcome;
 use clap::Args as ClapArgs;
 use std::fmt::Write as _;
 use std::path::PathBuf;
-use tauwise::deviation::{Curve, Estimator};
+use tauwise::deviation::{Curve, Estimator, Origin};
 use tauwise::parse::{EstimatorList, Frequency};
 use tauwise::results::{AnyCurve, BestCurve, StabilityBody};
 use tauwise::stability::{analyse, best, BestPoint, Request, BEST_CURVE};
@@ -18,17 +18,15 @@ use tauwise::Result;
 
 /// σ(τ) curves with confidence intervals and noise type.
 #[derive(Debug, ClapArgs)]
-#[command(mut_arg("plot", |a| a.help("Draw the σ–τ chart to FILE (.svg or .png). Time deviations (tdev, \
-ttot, mtie, tierms) requested beside σ_y curves go to their own chart, FILE-time.svg (or .png) next to it.")))]
+#[command(mut_arg("plot", |a| a.help(plot_help())))]
 pub struct Args {
     /// Input file (`-` reads standard input).
     #[arg(value_name = "FILE")]
     pub file: PathBuf,
     #[command(flatten)]
     pub input: InputArgs,
-    /// Estimators, comma-separated (adev, oadev, mdev, tdev, hdev, ohdev,
-    /// totdev, mtot, ttot, htot, theo1, theoh, mtie, tierms).
-    #[arg(long = "dev", value_name = "LIST", default_value = "oadev", value_parser = str::parse::<EstimatorList>)]
+    /// Estimators, comma-separated (the registry's names: see `dev_help`).
+    #[arg(long = "dev", value_name = "LIST", default_value = "oadev", value_parser = str::parse::<EstimatorList>, help = dev_help())]
     pub dev: EstimatorList,
     #[command(flatten)]
     pub taus: TauArgs,
@@ -72,6 +70,28 @@ pub struct Args {
     pub best: bool,
     #[command(flatten)]
     pub output: OutputArgs,
+}
+
+/// The help of `--dev`: every estimator of the registry.
+fn dev_help() -> String {
+    format!(
+        "Estimators, comma-separated ({})",
+        Estimator::names(Estimator::ALL)
+    )
+}
+
+/// The help of `--plot`, naming the registry's time deviations.
+fn plot_help() -> String {
+    let time: Vec<Estimator> = Estimator::ALL
+        .iter()
+        .copied()
+        .filter(|e| e.is_time_deviation())
+        .collect();
+    format!(
+        "Draw the σ–τ chart to FILE (.svg or .png). Time deviations ({}) requested beside σ_y \
+         curves go to their own chart, FILE-time.svg (or .png) next to it",
+        Estimator::names(&time)
+    )
 }
 
 /// Run `stability`.
@@ -128,16 +148,15 @@ pub fn run(args: Args) -> Result<Outcome> {
             notes: Vec::new(),
         };
         if let Some(b) = &best_points {
-            let mut c = tauwise::plot::stability::SigmaCurve::from_curve(
-                &tauwise::stability::best_curve(b),
-            );
-            c.derived = true;
-            plot.curves.push(c);
+            plot.curves
+                .push(tauwise::plot::stability::SigmaCurve::from_curve(
+                    &tauwise::stability::best_curve(b),
+                ));
         }
         let main = plot.chart();
         tauwise::plot::render(&main, path, (960, 600))?;
         // Time deviations beside σ_y curves: their own chart, FILE-time.EXT.
-        if plot.curves.iter().any(|c| !c.time_deviation) {
+        if plot.curves.iter().any(|c| !c.time_deviation()) {
             if let Some(time) = plot.time_chart() {
                 tauwise::plot::render(&time, &time_chart_path(path), (960, 600))?;
             }
@@ -208,11 +227,10 @@ const CORRECTED_NOTE: &str = "* bias-corrected value: totdev, mtot, ttot, htot d
 fn best_table(b: &[BestPoint], x: &PhaseRecord) -> String {
     let mut s = String::new();
     let _ = writeln!(s);
-    let family = match b.first().and_then(|p| p.from.estimates()) {
-        Some(Estimator::Mdev) => "modified Allan variance",
-        Some(Estimator::Ohdev) => "Hadamard variance",
-        _ => "Allan variance",
-    };
+    let family = b
+        .first()
+        .and_then(|p| p.from.variance_title())
+        .unwrap_or("Allan variance");
     let _ = writeln!(
         s,
         "{BEST_CURVE} — at each τ the estimator of the {family} with the most degrees of freedom (chosen from the EDF rules, the same for any noise type, not from the values)"
@@ -267,11 +285,11 @@ pub fn curves_table(
     let mut s = String::new();
     let _ = writeln!(s, "# {}", path.display());
     for c in curves {
-        let est = Estimator::from_name(&c.estimator).ok();
+        let est = (c.origin == Origin::Measured).then_some(c.estimator);
         let title = est.map(|e| e.title()).unwrap_or("");
-        let time = est.map(|e| e.is_time_deviation()).unwrap_or(false);
+        let time = c.estimator.is_time_deviation();
         let _ = writeln!(s);
-        let _ = writeln!(s, "{} — {title}", c.estimator);
+        let _ = writeln!(s, "{} — {title}", c.name());
         let _ = writeln!(
             s,
             "{:>10} {:>9} {:>11} {:>25} {:>9} {:>9} {:>5}",

@@ -34,8 +34,7 @@ pub(crate) mod total;
 /// assert_eq!(e.max_m(1001), 500);
 /// assert!(Estimator::from_name("nonsense").is_err());
 /// ```
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, PartialOrd, Ord, serde::Serialize)]
-#[serde(rename_all = "lowercase")]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, PartialOrd, Ord)]
 pub enum Estimator {
     /// Allan deviation, non-overlapping (NIST SP 1065 §5.2.2).
     Adev,
@@ -71,8 +70,9 @@ pub enum Estimator {
     Theoh,
     /// Maximum time interval error (ITU-T G.810).
     Mtie,
-    /// rms time interval error (ITU-T G.810).
-    Tierms,
+    /// rms time interval error, "TIE rms" (ITU-T G.810); named `tie-rms`
+    /// (the old name `tierms` is refused with the new one).
+    TieRms,
 }
 
 impl Estimator {
@@ -91,7 +91,7 @@ impl Estimator {
         Estimator::Theo1,
         Estimator::Theoh,
         Estimator::Mtie,
-        Estimator::Tierms,
+        Estimator::TieRms,
     ];
 
     /// The trade name used on the command line and in JSON (`oadev`, …).
@@ -110,7 +110,7 @@ impl Estimator {
             Estimator::Theo1 => "theo1",
             Estimator::Theoh => "theoh",
             Estimator::Mtie => "mtie",
-            Estimator::Tierms => "tierms",
+            Estimator::TieRms => "tie-rms",
         }
     }
 
@@ -130,7 +130,7 @@ impl Estimator {
             Estimator::Theo1 => "Theo1 deviation",
             Estimator::Theoh => "hybrid Theo deviation (ADEV + bias-removed Theo1)",
             Estimator::Mtie => "maximum time interval error",
-            Estimator::Tierms => "rms time interval error",
+            Estimator::TieRms => "TIE rms (rms time interval error)",
         }
     }
 
@@ -139,6 +139,13 @@ impl Estimator {
     /// known names.
     pub fn from_name(s: &str) -> Result<Self> {
         let t = s.trim();
+        if let Some((old, new)) = RENAMED.iter().find(|(old, _)| old.eq_ignore_ascii_case(t)) {
+            return Err(Error::invalid(format!(
+                "estimator '{old}' is now called '{}': use --dev {}",
+                new.name(),
+                new.name()
+            )));
+        }
         Self::ALL
             .iter()
             .copied()
@@ -174,7 +181,7 @@ impl Estimator {
             | Estimator::Theo1
             | Estimator::Theoh => 2,
             Estimator::Hdev | Estimator::Ohdev | Estimator::Htot => 3,
-            Estimator::Tierms => 1,
+            Estimator::TieRms => 1,
             Estimator::Mtie => 0,
         }
     }
@@ -184,8 +191,74 @@ impl Estimator {
     pub fn is_time_deviation(self) -> bool {
         matches!(
             self,
-            Estimator::Tdev | Estimator::Ttot | Estimator::Mtie | Estimator::Tierms
+            Estimator::Tdev | Estimator::Ttot | Estimator::Mtie | Estimator::TieRms
         )
+    }
+
+    /// The plain variance whose transfer function turns a spectrum into this
+    /// estimator's value, σ²(τ) = ∫_0^{f_h} S_y(f)|H(f)|² df (IEEE Std 1139,
+    /// NIST SP 1065 §A): `oadev` (Allan, |H|² = 2 sin⁴(πfτ)/(πfτ)²) for ADEV
+    /// and OADEV, `mdev` (modified Allan) for MDEV, `tdev` (τ²/3 times the
+    /// modified Allan variance) for TDEV, `ohdev` (Hadamard,
+    /// |H|² = (8/3) sin⁶(πfτ)/(πfτ)²) for HDEV and OHDEV. None for the
+    /// others, which `convert` and `stability --lf` do not convert.
+    pub fn transfer_function(self) -> Option<Estimator> {
+        match self {
+            Estimator::Adev | Estimator::Oadev => Some(Estimator::Oadev),
+            Estimator::Mdev => Some(Estimator::Mdev),
+            Estimator::Tdev => Some(Estimator::Tdev),
+            Estimator::Hdev | Estimator::Ohdev => Some(Estimator::Ohdev),
+            _ => None,
+        }
+    }
+
+    /// The plain variance whose closed forms (IEEE Std 1139, NIST SP 1065)
+    /// and transfer function give this estimator's expectation once any bias
+    /// is removed: [`Estimator::estimates`] then
+    /// [`Estimator::transfer_function`] — `oadev` for ADEV, OADEV, TOTDEV and
+    /// TheoH; `mdev` for MDEV and MTOT; `tdev` for TDEV and TTOT; `ohdev`
+    /// for HDEV, OHDEV and HTOT; None for Theo1, MTIE and TIE rms. The model
+    /// layer ([`crate::model`]) computes a power-law model's variance by it.
+    pub fn variance_family(self) -> Option<Estimator> {
+        self.estimates().and_then(Estimator::transfer_function)
+    }
+
+    /// The name of the plain variance this estimator estimates
+    /// ([`Estimator::estimates`]): `Allan variance`, `modified Allan
+    /// variance`, `time variance`, `Hadamard variance`; None for Theo1,
+    /// MTIE and TIE rms.
+    pub fn variance_title(self) -> Option<&'static str> {
+        match self.estimates()? {
+            Estimator::Mdev => Some("modified Allan variance"),
+            Estimator::Tdev => Some("time variance"),
+            Estimator::Ohdev => Some("Hadamard variance"),
+            _ => Some("Allan variance"),
+        }
+    }
+
+    /// True when the estimator is defined only at τ = n·τ0 with whole n
+    /// (MDEV and TDEV average n phase samples), so a τ converted from a
+    /// spectrum is rounded to a whole multiple of τ0.
+    pub fn needs_whole_tau0(self) -> bool {
+        matches!(
+            self.transfer_function(),
+            Some(Estimator::Mdev | Estimator::Tdev)
+        )
+    }
+
+    /// The names of `list` joined by commas (help texts and errors).
+    pub fn names(list: &[Estimator]) -> String {
+        list.iter().map(|e| e.name()).collect::<Vec<_>>().join(", ")
+    }
+
+    /// Every estimator with a transfer function
+    /// ([`Estimator::transfer_function`]), in registry order.
+    pub fn convertible() -> Vec<Estimator> {
+        Self::ALL
+            .iter()
+            .copied()
+            .filter(|e| e.transfer_function().is_some())
+            .collect()
     }
 
     /// The plain estimator whose variance this one estimates once any bias
@@ -202,7 +275,7 @@ impl Estimator {
             Estimator::Mdev | Estimator::Mtot => Some(Estimator::Mdev),
             Estimator::Hdev | Estimator::Ohdev | Estimator::Htot => Some(Estimator::Ohdev),
             Estimator::Tdev | Estimator::Ttot => Some(Estimator::Tdev),
-            Estimator::Theo1 | Estimator::Mtie | Estimator::Tierms => None,
+            Estimator::Theo1 | Estimator::Mtie | Estimator::TieRms => None,
         }
     }
 
@@ -257,10 +330,20 @@ impl Estimator {
                 }
             }
             Estimator::Hdev | Estimator::Ohdev => n.saturating_sub(1) / 3,
-            Estimator::Mtie | Estimator::Tierms => n.saturating_sub(1),
+            Estimator::Mtie | Estimator::TieRms => n.saturating_sub(1),
         }
     }
 }
+
+/// Serialised as its name ([`Estimator::name`]).
+impl serde::Serialize for Estimator {
+    fn serialize<S: serde::Serializer>(&self, s: S) -> std::result::Result<S::Ok, S::Error> {
+        s.serialize_str(self.name())
+    }
+}
+
+/// Names the registry once used, and the name that replaced each.
+pub const RENAMED: &[(&str, Estimator)] = &[("tierms", Estimator::TieRms)];
 
 impl std::fmt::Display for Estimator {
     fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
@@ -291,7 +374,7 @@ fn estimate_at(
         Estimator::Theo1 => theo::theo1(p, m),
         Estimator::Theoh => theo::theoh(p, m, theobr),
         Estimator::Mtie => tie::mtie(p, m),
-        Estimator::Tierms => tie::tierms(p, m),
+        Estimator::TieRms => tie::tierms(p, m),
     }
 }
 
@@ -467,15 +550,97 @@ impl Point {
     }
 }
 
-/// One estimator's results over a τ grid. Serialised as
-/// `{"estimator","points"}`.
-#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+/// Where a curve's values come from.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, serde::Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum Origin {
+    /// Measured: the estimator run on a record.
+    Measured,
+    /// Converted from a phase-noise table at the record's bandwidth
+    /// (σ²(τ) = ∫ S_y(f)|H(f)|² df with the estimator's transfer function).
+    FromLf,
+    /// Converted from a phase-noise table with the table's whole bandwidth,
+    /// at τ below the record's τ0.
+    FromLfFullBand,
+    /// Computed from a power-law model (fitted, or given).
+    FromModel,
+    /// The `best` curve: at each τ the point of the estimator of one
+    /// variance with the most degrees of freedom
+    /// ([`crate::stability::best`]); the curve's estimator is the plain one
+    /// of that variance.
+    Best,
+}
+
+impl Origin {
+    /// The name in JSON and CSV (`measured`, `from-lf`, …).
+    pub fn name(self) -> &'static str {
+        match self {
+            Origin::Measured => "measured",
+            Origin::FromLf => "from-lf",
+            Origin::FromLfFullBand => "from-lf-full-band",
+            Origin::FromModel => "from-model",
+            Origin::Best => "best",
+        }
+    }
+
+    /// True for a curve not measured on the record (drawn dashed).
+    pub fn is_derived(self) -> bool {
+        self != Origin::Measured
+    }
+}
+
+/// One estimator's results over a τ grid, and where they come from.
+/// Serialised as `{"name","estimator","origin","points"}`.
+#[derive(Debug, Clone, PartialEq)]
 pub struct Curve {
-    /// The estimator's trade name (`oadev`, …; derived curves such as
-    /// `oadev-from-lf` or `best` carry their own name).
-    pub estimator: String,
+    /// The estimator (for [`Origin::Best`], the plain estimator of the
+    /// variance the curve estimates).
+    pub estimator: Estimator,
+    /// Where the values come from.
+    pub origin: Origin,
     /// The points in increasing τ.
     pub points: Vec<Point>,
+}
+
+impl Curve {
+    /// A measured curve.
+    pub fn measured(estimator: Estimator, points: Vec<Point>) -> Self {
+        Self {
+            estimator,
+            origin: Origin::Measured,
+            points,
+        }
+    }
+
+    /// The curve's label in legends and tables: the estimator's name for a
+    /// measured curve, `<estimator>-<origin>` for a converted one
+    /// (`oadev-from-lf`, `mdev-from-model`), `best` for the best curve.
+    ///
+    /// ```
+    /// use tauwise::deviation::{Curve, Estimator, Origin};
+    /// let c = Curve { estimator: Estimator::Tdev, origin: Origin::FromModel, points: vec![] };
+    /// assert_eq!(c.name(), "tdev-from-model");
+    /// assert!(c.estimator.is_time_deviation());
+    /// ```
+    pub fn name(&self) -> String {
+        match self.origin {
+            Origin::Measured => self.estimator.name().to_string(),
+            Origin::Best => "best".to_string(),
+            o => format!("{}-{}", self.estimator.name(), o.name()),
+        }
+    }
+}
+
+impl serde::Serialize for Curve {
+    fn serialize<S: serde::Serializer>(&self, s: S) -> std::result::Result<S::Ok, S::Error> {
+        use serde::ser::SerializeStruct;
+        let mut st = s.serialize_struct("Curve", 4)?;
+        st.serialize_field("name", &self.name())?;
+        st.serialize_field("estimator", &self.estimator)?;
+        st.serialize_field("origin", &self.origin)?;
+        st.serialize_field("points", &self.points)?;
+        st.end()
+    }
 }
 
 /// Serialise plain estimates (no statistics: MTIE and TDEV of `wander`) in

@@ -209,7 +209,7 @@ pub fn evaluate(est_: super::Estimator, x: &[f64], tau0: f64, m: usize) -> Optio
         E::Theo1 => theo1(x, tau0, m),
         E::Theoh => None,
         E::Mtie => mtie(x, tau0, m),
-        E::Tierms => tierms(x, tau0, m),
+        E::TieRms => tierms(x, tau0, m),
     }
 }
 

@@ -46,7 +46,7 @@ use super::aging::{fit_linear, fit_log, Aging, AgingModel};
 use super::paths::NoisePaths;
 use crate::deviation::Estimator;
 use crate::error::{Error, Result};
-use crate::model::fit::{fit_variances, FitPoint, ModelFit, VarKind};
+use crate::model::fit::{fit_variances, FitPoint, ModelFit};
 use crate::model::PowerLaw;
 use crate::record::{FrequencyRecord, PhaseRecord};
 use rand::SeedableRng;
@@ -187,10 +187,10 @@ pub fn fit_noise_spread(x: &PhaseRecord) -> Result<(ModelFit, Option<RwfmSpread>
     let curves = crate::stability::analyse(x, &req)?;
     let reach = MDEV_REACH * x.span();
     let mut points = Vec::new();
-    for (curve, kind) in curves.iter().zip([VarKind::Hvar, VarKind::Mvar]) {
+    for (curve, kind) in curves.iter().zip([Estimator::Ohdev, Estimator::Mdev]) {
         for p in &curve.points {
             let e = p.estimate;
-            if kind == VarKind::Mvar && e.tau > reach {
+            if kind == Estimator::Mdev && e.tau > reach {
                 continue;
             }
             if let Some(edf) = p.edf.filter(|v| v.is_finite() && *v > 0.0) {
@@ -220,21 +220,18 @@ pub fn fit_noise_spread(x: &PhaseRecord) -> Result<(ModelFit, Option<RwfmSpread>
     let mut rest_model = fit.model;
     rest_model.set(-2, 0.0);
     let (mut excess, mut unit, mut measured, mut rest, mut square) = (0.0, 0.0, 0.0, 0.0, 0.0);
-    for c in curves
-        .iter()
-        .filter(|c| c.estimator == Estimator::Ohdev.name())
-    {
+    for c in curves.iter().filter(|c| c.estimator == Estimator::Ohdev) {
         for p in &c.points {
             let e = p.estimate;
             if let Some(edf) = p.edf.filter(|v| v.is_finite() && *v > 0.0 && e.tau >= from) {
                 let var = e.value * e.value / log_bias(edf).exp();
-                let model = fit.model.variance(VarKind::Hvar, e.tau, x.tau0);
-                let b = crate::model::fit::basis(VarKind::Hvar, -2, e.tau, x.tau0, f_h);
+                let model = fit.model.variance(Estimator::Ohdev, e.tau, x.tau0);
+                let b = crate::model::fit::basis(Estimator::Ohdev, -2, e.tau, x.tau0, f_h);
                 excess += edf * (e.value * e.value - model);
                 unit += edf * b;
                 measured += edf * var;
                 square += edf * var * var;
-                rest += edf * rest_model.variance(VarKind::Hvar, e.tau, x.tau0);
+                rest += edf * rest_model.variance(Estimator::Ohdev, e.tau, x.tau0);
             }
         }
     }

@@ -96,6 +96,10 @@ pub struct Uncertainty {
     pub replicates: usize,
     /// Sampling step of the bootstrap records, s.
     pub bootstrap_step: f64,
+    /// Each bootstrap record drew its own random-walk FM level, as the
+    /// record could have measured it ([`fit::RwfmSpread`]); false when the
+    /// noise model was given or the record has no long-τ point to judge it.
+    pub rwfm_drawn: bool,
 }
 
 /// A fitted aging parameter is called significant when it is at least this
@@ -652,6 +656,7 @@ pub fn model_from_record(rec: &Record, opts: &FromRecord) -> Result<HoldoverMode
             },
             replicates: spread.map_or(0, |sp| sp.replicates),
             bootstrap_step: spread.map_or(0.0, |sp| sp.step),
+            rwfm_drawn: spread.is_some() && rwfm.is_some(),
         },
     })
 }

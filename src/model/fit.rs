@@ -30,26 +30,17 @@
 
 use super::response::variance_numeric;
 use super::PowerLaw;
+use crate::deviation::Estimator;
 use crate::error::{Error, Result};
 use nalgebra::{DMatrix, DVector};
-
-/// Which variance a point holds.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, serde::Serialize)]
-#[serde(rename_all = "lowercase")]
-pub enum VarKind {
-    /// Allan variance (overlapping or not: same expectation).
-    Avar,
-    /// Modified Allan variance.
-    Mvar,
-    /// Hadamard variance.
-    Hvar,
-}
 
 /// One measured variance to fit.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct FitPoint {
-    /// The kind of variance.
-    pub kind: VarKind,
+    /// The estimator whose variance the point holds (its
+    /// [`Estimator::variance_family`] picks the closed form: `oadev`,
+    /// `mdev`, `ohdev`, …).
+    pub kind: Estimator,
     /// Averaging time τ in seconds.
     pub tau: f64,
     /// Sampling interval τ0 of the record, seconds (τ = nτ0).
@@ -135,8 +126,8 @@ const NUMERIC_BELOW_FH: f64 = 200.0;
 /// The variance of the unit power law h_α = 1 at a point (module notes).
 /// The numerical integrals are remembered per thread (a fit of many
 /// records on one τ grid, as a Monte Carlo does, makes each only once).
-pub fn basis(kind: VarKind, alpha: i32, tau: f64, tau0: f64, f_h: f64) -> f64 {
-    type Key = (VarKind, i32, u64, u64, u64);
+pub fn basis(kind: Estimator, alpha: i32, tau: f64, tau0: f64, f_h: f64) -> f64 {
+    type Key = (Estimator, i32, u64, u64, u64);
     thread_local! {
         static SEEN: std::cell::RefCell<std::collections::HashMap<Key, f64>> =
             std::cell::RefCell::new(std::collections::HashMap::new());
@@ -156,7 +147,7 @@ pub fn basis(kind: VarKind, alpha: i32, tau: f64, tau0: f64, f_h: f64) -> f64 {
     v
 }
 
-fn basis_uncached(kind: VarKind, alpha: i32, tau: f64, tau0: f64, f_h: f64) -> f64 {
+fn basis_uncached(kind: Estimator, alpha: i32, tau: f64, tau0: f64, f_h: f64) -> f64 {
     let n = tau / tau0;
     let short_fh = alpha > 0 && 2.0 * std::f64::consts::PI * f_h * tau < NUMERIC_BELOW_FH;
     if n < NUMERIC_BELOW_N || short_fh {
@@ -905,7 +896,7 @@ mod tests {
     #[test]
     fn fit_rejects_bad_points() {
         let p = FitPoint {
-            kind: VarKind::Avar,
+            kind: Estimator::Oadev,
             tau: 1.0,
             tau0: 1.0,
             var: -1.0,

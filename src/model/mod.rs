@@ -13,9 +13,7 @@ use std::f64::consts::{LN_2, PI};
 pub mod fit;
 pub mod response;
 
-pub use fit::{
-    fit_sy, fit_variances, Dominant, FitPoint, LeftOut, LeftOutReason, ModelFit, VarKind,
-};
+pub use fit::{fit_sy, fit_variances, Dominant, FitPoint, LeftOut, LeftOutReason, ModelFit};
 
 /// Euler–Mascheroni constant γ (enters the FPM forms).
 pub const EULER_GAMMA: f64 = 0.577_215_664_901_532_9;
@@ -221,11 +219,20 @@ impl PowerLaw {
 
     /// The variance `kind` at τ from the closed forms ([`PowerLaw::avar`],
     /// [`PowerLaw::mvar`], [`PowerLaw::hvar`]).
-    pub fn variance(&self, kind: VarKind, tau: f64, tau0: f64) -> f64 {
-        match kind {
-            VarKind::Avar => self.avar(tau),
-            VarKind::Mvar => self.mvar(tau, tau0),
-            VarKind::Hvar => self.hvar(tau),
+    ///
+    /// `kind` names the estimator; its [`Estimator::variance_family`] picks
+    /// the form (TDEV's variance is τ²/3 times MVAR, NIST SP 1065 eq. 17);
+    /// NaN for an estimator without one (Theo1, MTIE, TIE rms).
+    ///
+    /// [`Estimator::variance_family`]: crate::deviation::Estimator::variance_family
+    pub fn variance(&self, kind: crate::deviation::Estimator, tau: f64, tau0: f64) -> f64 {
+        use crate::deviation::Estimator;
+        match kind.variance_family() {
+            Some(Estimator::Mdev) => self.mvar(tau, tau0),
+            Some(Estimator::Tdev) => tau * tau / 3.0 * self.mvar(tau, tau0),
+            Some(Estimator::Ohdev) => self.hvar(tau),
+            Some(_) => self.avar(tau),
+            None => f64::NAN,
         }
     }
 
@@ -233,7 +240,7 @@ impl PowerLaw {
     /// the transfer function ([`response::variance_numeric`]): exact at every
     /// τ, including the short τ where the closed forms (large-τ, large-n
     /// limits) are off, e.g. MVAR at n = 1 equals AVAR.
-    pub fn variance_numeric(&self, kind: VarKind, tau: f64, tau0: f64) -> f64 {
+    pub fn variance_numeric(&self, kind: crate::deviation::Estimator, tau: f64, tau0: f64) -> f64 {
         (-2..=2)
             .filter(|&a| self.get(a) > 0.0)
             .map(|a| self.get(a) * response::variance_numeric(kind, a, tau, tau0, self.f_h))

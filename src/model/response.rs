@@ -15,28 +15,34 @@
 //! average over n phase samples, so the integral is the variance of the
 //! sampled process (aliasing included).
 
-use super::fit::VarKind;
+use crate::deviation::Estimator;
 use std::f64::consts::PI;
 
 /// |H(f)|² of the variance `kind` at τ = nτ0, as listed in the module notes.
-pub fn transfer(kind: VarKind, f: f64, tau: f64, tau0: f64) -> f64 {
+pub fn transfer(kind: Estimator, f: f64, tau: f64, tau0: f64) -> f64 {
     let u = PI * f * tau;
     if u == 0.0 {
         return 0.0;
     }
     let s = u.sin();
-    match kind {
-        VarKind::Avar => 2.0 * s.powi(4) / (u * u),
-        VarKind::Hvar => 8.0 / 3.0 * s.powi(6) / (u * u),
-        VarKind::Mvar => {
+    match kind.variance_family() {
+        Some(Estimator::Ohdev) => 8.0 / 3.0 * s.powi(6) / (u * u),
+        Some(fam @ (Estimator::Mdev | Estimator::Tdev)) => {
             let n = tau / tau0;
             let d = (PI * f * tau0).sin();
             if d == 0.0 {
                 // sin⁶(nθ)/sin²(θ) → 0 at the zeros of sin θ (n ≥ 1).
                 return 0.0;
             }
-            2.0 * s.powi(6) / (u * u * n * n * d * d)
+            let scale = if fam == Estimator::Tdev {
+                tau * tau / 3.0
+            } else {
+                1.0
+            };
+            scale * 2.0 * s.powi(6) / (u * u * n * n * d * d)
         }
+        Some(_) => 2.0 * s.powi(4) / (u * u),
+        None => f64::NAN,
     }
 }
 
@@ -55,7 +61,16 @@ const SIMPSON_PER_PIECE: usize = 16;
 ///
 /// # Panics
 /// Never; returns NaN for τ ≤ 0, τ0 ≤ 0 or f_h ≤ 0.
-pub fn variance_numeric(kind: VarKind, alpha: i32, tau: f64, tau0: f64, f_h: f64) -> f64 {
+pub fn variance_numeric(kind: Estimator, alpha: i32, tau: f64, tau0: f64, f_h: f64) -> f64 {
+    // The variance family (module notes): Allan, modified Allan (TDEV is
+    // τ²/3 of it) or Hadamard; NaN for an estimator without one.
+    let (kind, scale_tdev) = match kind.variance_family() {
+        Some(Estimator::Tdev) => (Estimator::Mdev, tau * tau / 3.0),
+        Some(Estimator::Mdev) => (Estimator::Mdev, 1.0),
+        Some(Estimator::Ohdev) => (Estimator::Ohdev, 1.0),
+        Some(_) => (Estimator::Oadev, 1.0),
+        None => return f64::NAN,
+    };
     if !(tau > 0.0 && tau0 > 0.0 && f_h > 0.0) {
         return f64::NAN;
     }
@@ -67,9 +82,8 @@ pub fn variance_numeric(kind: VarKind, alpha: i32, tau: f64, tau0: f64, f_h: f64
         let u = u.max(1e-9);
         let s = u.sin();
         let t = match kind {
-            VarKind::Avar => 2.0 * s.powi(4) / (u * u),
-            VarKind::Hvar => 8.0 / 3.0 * s.powi(6) / (u * u),
-            VarKind::Mvar => {
+            Estimator::Ohdev => 8.0 / 3.0 * s.powi(6) / (u * u),
+            Estimator::Mdev => {
                 let d = (u / n).sin();
                 if d.abs() < 1e-300 {
                     0.0
@@ -77,6 +91,7 @@ pub fn variance_numeric(kind: VarKind, alpha: i32, tau: f64, tau0: f64, f_h: f64
                     2.0 * s.powi(6) / (u * u * n * n * d * d)
                 }
             }
+            _ => 2.0 * s.powi(4) / (u * u),
         };
         u.powf(a) * t
     };
@@ -86,7 +101,7 @@ pub fn variance_numeric(kind: VarKind, alpha: i32, tau: f64, tau0: f64, f_h: f64
         f64::INFINITY
     };
     let numeric_end = match kind {
-        VarKind::Mvar => 60.0 * n.ceil() * PI,
+        Estimator::Mdev => 60.0 * n.ceil() * PI,
         _ => 400.0 * PI,
     }
     .min(upper);
@@ -103,9 +118,8 @@ pub fn variance_numeric(kind: VarKind, alpha: i32, tau: f64, tau0: f64, f_h: f64
     if upper > numeric_end {
         // Tail: mean of the periodic factor times ∫ u^(α−2) du.
         let mean = match kind {
-            VarKind::Avar => 2.0 * 3.0 / 8.0,
-            VarKind::Hvar => 8.0 / 3.0 * 5.0 / 16.0,
-            VarKind::Mvar => {
+            Estimator::Ohdev => 8.0 / 3.0 * 5.0 / 16.0,
+            Estimator::Mdev => {
                 let period = n.round().max(1.0) * PI;
                 let k = (2.0 * n.round().max(1.0)) as usize;
                 let h = |u: f64| {
@@ -121,6 +135,7 @@ pub fn variance_numeric(kind: VarKind, alpha: i32, tau: f64, tau0: f64, f_h: f64
                     .sum::<f64>()
                     / period
             }
+            _ => 2.0 * 3.0 / 8.0,
         };
         let e = a - 1.0; // ∫ u^(α−2) du = u^(α−1)/(α−1)
         let tail = if alpha == 1 {
@@ -132,7 +147,7 @@ pub fn variance_numeric(kind: VarKind, alpha: i32, tau: f64, tau0: f64, f_h: f64
         };
         total += mean * tail;
     }
-    total * scale
+    total * scale * scale_tdev
 }
 
 fn simpson(g: &impl Fn(f64) -> f64, a: f64, b: f64) -> f64 {

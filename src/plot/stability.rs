@@ -3,49 +3,56 @@
 //! the strip above, curves converted from phase noise (`…-from-lf`) dashed.
 
 use super::{Axis, Chart, Colour, Line, Marker, Series, Span, Style, XY};
-use crate::deviation::Curve;
+use crate::deviation::{Curve, Estimator, Origin};
 
 /// One curve for the σ–τ chart.
 #[derive(Debug, Clone, PartialEq)]
 pub struct SigmaCurve {
-    /// Estimator name as shown in the legend (`oadev`, `oadev-from-lf`, …).
+    /// The label in the legend ([`Curve::name`]: `oadev`, `oadev-from-lf`, …).
     pub name: String,
+    /// The estimator (the registry says whether its values are times).
+    pub estimator: Estimator,
+    /// Where the values come from: a curve not measured on the record is
+    /// dashed, without markers, in the colour of the measured curve of its
+    /// estimator.
+    pub origin: Origin,
     /// (τ, deviation, lo, hi).
     pub points: Vec<XY>,
-    /// A curve derived from another domain (phase noise, a model): dashed, no markers.
-    pub derived: bool,
-    /// A time deviation (seconds), not a fractional-frequency deviation.
-    pub time_deviation: bool,
-}
-
-/// The estimator a derived curve comes from: `oadev` for `oadev-from-lf`,
-/// `oadev-from-lf-full-band` or `oadev-from-model`; `None` for a measured
-/// curve.
-pub fn derived_from(name: &str) -> Option<&str> {
-    ["-from-lf", "-from-model"]
-        .iter()
-        .find_map(|s| name.find(s).map(|i| &name[..i]))
-}
-
-/// Names of the estimators whose values are times (s) rather than σ_y.
-/// (NIST SP 1065: TDEV and TTOT; ITU-T G.810: MTIE and TIE rms.)
-pub fn is_time_deviation(name: &str) -> bool {
-    let base = derived_from(name).unwrap_or(name);
-    matches!(base, "tdev" | "ttot" | "mtie" | "tierms")
 }
 
 impl SigmaCurve {
     /// From an estimator's [`Curve`]; intervals come along when present.
     pub fn from_curve(c: &Curve) -> Self {
         Self {
-            name: c.estimator.clone(),
+            name: c.name(),
+            estimator: c.estimator,
+            origin: c.origin,
             points: c
                 .points
                 .iter()
                 .map(|p| XY::with_interval(p.estimate.tau, p.estimate.value, p.lo, p.hi))
                 .collect(),
-            derived: derived_from(&c.estimator).is_some(),
-            time_deviation: is_time_deviation(&c.estimator),
+        }
+    }
+
+    /// Drawn dashed: not measured on the record (phase noise, a model, the
+    /// `best` curve).
+    pub fn derived(&self) -> bool {
+        self.origin.is_derived()
+    }
+
+    /// A time deviation (seconds: TDEV, TTOT, MTIE, TIE rms), drawn on the
+    /// time chart ([`Estimator::is_time_deviation`]).
+    pub fn time_deviation(&self) -> bool {
+        self.estimator.is_time_deviation()
+    }
+
+    /// The curve whose colour this one takes: its estimator's, or its own
+    /// for the `best` curve.
+    fn colour_key(&self) -> String {
+        match self.origin {
+            Origin::Best => self.name.clone(),
+            _ => self.estimator.name().to_string(),
         }
     }
 }
@@ -117,7 +124,7 @@ pub fn regions_from_curve(c: &Curve) -> Vec<NoiseRegion> {
 /// transfer-function integral of the sampled estimator below), so the dashed
 /// line is exactly the curve the model was fitted as.
 pub fn model_curves(rm: &crate::stability::RecordModel, tau0: f64) -> Vec<SigmaCurve> {
-    use crate::model::fit::{basis, VarKind};
+    use crate::model::fit::basis;
     let (lo, hi) = rm
         .curves
         .iter()
@@ -138,8 +145,8 @@ pub fn model_curves(rm: &crate::stability::RecordModel, tau0: f64) -> Vec<SigmaC
     let taus: Vec<f64> = ns.iter().map(|&n| n as f64 * tau0).collect();
     let model = &rm.fit.model;
     let mut out = Vec::new();
-    for (name, kind) in [("oadev", VarKind::Avar), ("mdev", VarKind::Mvar)] {
-        if !rm.curves.iter().any(|c| c.estimator == name) {
+    for kind in [Estimator::Oadev, Estimator::Mdev] {
+        if !rm.curves.iter().any(|c| c.estimator == kind) {
             continue;
         }
         let points: Vec<XY> = taus
@@ -151,11 +158,16 @@ pub fn model_curves(rm: &crate::stability::RecordModel, tau0: f64) -> Vec<SigmaC
                 (var.is_finite() && var > 0.0).then(|| XY::new(t, var.sqrt()))
             })
             .collect();
+        let c = Curve {
+            estimator: kind,
+            origin: Origin::FromModel,
+            points: Vec::new(),
+        };
         out.push(SigmaCurve {
-            name: format!("{name}-from-model"),
+            name: c.name(),
+            estimator: kind,
+            origin: Origin::FromModel,
             points,
-            derived: true,
-            time_deviation: false,
         });
     }
     out
@@ -189,14 +201,22 @@ impl StabilityPlot {
     /// shows the σ_y curves and says in a note that the time deviations are
     /// drawn on their own chart ([`StabilityPlot::time_chart`]).
     pub fn chart(&self) -> Chart {
-        let any_freq = self.curves.iter().any(|c| !c.time_deviation);
+        let any_freq = self.curves.iter().any(|c| !c.time_deviation());
         if any_freq {
             let mut ch = self.build(false);
-            if self.curves.iter().any(|c| c.time_deviation) {
+            if self.curves.iter().any(|c| c.time_deviation()) {
                 ch.notes.insert(
                     0,
-                    "Time deviations (tdev, ttot, mtie, tierms) are in seconds and are drawn on their own chart."
-                        .into(),
+                    format!(
+                        "Time deviations ({}) are in seconds and are drawn on their own chart.",
+                        Estimator::names(
+                            &Estimator::ALL
+                                .iter()
+                                .copied()
+                                .filter(|e| e.is_time_deviation())
+                                .collect::<Vec<_>>()
+                        )
+                    ),
                 );
             }
             ch
@@ -209,7 +229,7 @@ impl StabilityPlot {
     pub fn time_chart(&self) -> Option<Chart> {
         self.curves
             .iter()
-            .any(|c| c.time_deviation)
+            .any(|c| c.time_deviation())
             .then(|| self.build(true))
     }
 
@@ -223,7 +243,7 @@ impl StabilityPlot {
         let names: Vec<&str> = self
             .curves
             .iter()
-            .filter(|c| c.time_deviation == time)
+            .filter(|c| c.time_deviation() == time)
             .map(|c| c.name.as_str())
             .collect();
         ch.subtitle = match self.confidence {
@@ -235,18 +255,18 @@ impl StabilityPlot {
             None => names.join(", "),
         };
         let mut colour_of: Vec<(String, usize)> = Vec::new();
-        for c in self.curves.iter().filter(|c| c.time_deviation == time) {
+        for c in self.curves.iter().filter(|c| c.time_deviation() == time) {
             // A derived curve takes the colour of the curve it derives from.
-            let base = derived_from(&c.name).unwrap_or(&c.name).to_string();
+            let base = c.colour_key();
             let idx = match colour_of.iter().find(|(n, _)| *n == base) {
-                Some((_, i)) if c.derived => *i,
+                Some((_, i)) if c.derived() => *i,
                 _ => {
                     let i = colour_of.len();
                     colour_of.push((base, i));
                     i
                 }
             };
-            let style = if c.derived {
+            let style = if c.derived() {
                 Style::line(Colour::Palette(idx), Line::Dashed)
             } else {
                 Style {
@@ -288,7 +308,8 @@ mod tests {
 
     fn curve(alphas: &[Option<i32>]) -> Curve {
         Curve {
-            estimator: "oadev".into(),
+            estimator: Estimator::Oadev,
+            origin: Origin::Measured,
             points: alphas
                 .iter()
                 .enumerate()
@@ -330,11 +351,10 @@ mod tests {
 
     #[test]
     fn derived_curves_are_dashed_in_the_parent_colour() {
-        let mut a = SigmaCurve::from_curve(&curve(&[Some(0)]));
-        a.name = "oadev".into();
+        let a = SigmaCurve::from_curve(&curve(&[Some(0)]));
         let mut b = a.clone();
         b.name = "oadev-from-lf".into();
-        b.derived = true;
+        b.origin = Origin::FromLf;
         let p = StabilityPlot {
             title: "t".into(),
             curves: vec![a, b],
@@ -350,7 +370,7 @@ mod tests {
         let a = SigmaCurve::from_curve(&curve(&[Some(0)]));
         let mut t = SigmaCurve::from_curve(&curve(&[Some(0)]));
         t.name = "tdev".into();
-        t.time_deviation = true;
+        t.estimator = Estimator::Tdev;
         let p = StabilityPlot {
             title: "t".into(),
             curves: vec![a, t],
@@ -358,8 +378,26 @@ mod tests {
         };
         assert_eq!(p.chart().series.len(), 1);
         assert_eq!(p.time_chart().unwrap().series[0].name, "tdev");
-        assert!(is_time_deviation("tdev-from-lf"));
-        assert!(!is_time_deviation("oadev"));
+        // Every origin of a time deviation goes to the time chart (the
+        // registry answers, not the curve's label; issue 14).
+        for origin in [
+            Origin::Measured,
+            Origin::FromLf,
+            Origin::FromLfFullBand,
+            Origin::FromModel,
+        ] {
+            let c = Curve {
+                estimator: Estimator::Tdev,
+                origin,
+                points: Vec::new(),
+            };
+            assert!(SigmaCurve::from_curve(&c).time_deviation(), "{}", c.name());
+            let c = Curve {
+                estimator: Estimator::Oadev,
+                ..c
+            };
+            assert!(!SigmaCurve::from_curve(&c).time_deviation(), "{}", c.name());
+        }
     }
 
     #[test]
@@ -372,7 +410,7 @@ mod tests {
             p.estimate.tau *= 64.0;
         }
         let mut mdev = oadev.clone();
-        mdev.estimator = "mdev".into();
+        mdev.estimator = Estimator::Mdev;
         let mut model = crate::model::PowerLaw::zero(0.5);
         model.set(0, h0);
         let rm = crate::stability::RecordModel {
@@ -389,7 +427,7 @@ mod tests {
         let c = model_curves(&rm, 1.0);
         assert_eq!(c.len(), 2);
         assert_eq!(c[0].name, "oadev-from-model");
-        assert!(c.iter().all(|x| x.derived && !x.time_deviation));
+        assert!(c.iter().all(|x| x.derived() && !x.time_deviation()));
         assert!((c[0].points[0].x - 64.0).abs() < 1e-9);
         assert!((c[0].points.last().unwrap().x - 65536.0).abs() < 1e-6);
         for (k, div) in [(0, 2.0), (1, 4.0)] {

@@ -3,24 +3,9 @@
 
 use super::{Axis, Chart, Colour, Line, Marker, Series, Style, XY};
 
-/// Which wander metric a chart shows (ITU-T G.810 definitions).
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub enum Metric {
-    /// Maximum time interval error.
-    Mtie,
-    /// Time deviation.
-    Tdev,
-}
-
-impl Metric {
-    /// Trade name.
-    pub fn name(self) -> &'static str {
-        match self {
-            Metric::Mtie => "MTIE",
-            Metric::Tdev => "TDEV",
-        }
-    }
-}
+/// Which wander metric a chart shows (ITU-T G.810 definitions): the mask
+/// layer's one metric type.
+pub use crate::wander::masks::Metric;
 
 /// A mask: the limit curve and the measured points that exceed it.
 #[derive(Debug, Clone, PartialEq)]
@@ -55,26 +40,26 @@ impl WanderPlot {
         let mut ch = Chart::new(
             &self.title,
             Axis::log_si("observation interval τ", "s"),
-            Axis::log_si(self.metric.name(), "s"),
+            Axis::log_si(&self.metric.label(), "s"),
         );
         let total: usize = self.masks.iter().map(|m| m.violations.len()).sum();
         ch.subtitle = if self.masks.is_empty() {
-            format!("{} (ITU-T G.810)", self.metric.name())
+            format!("{} (ITU-T G.810)", self.metric.label())
         } else if total == 0 {
             format!(
                 "{} against {} mask(s): no violation",
-                self.metric.name(),
+                self.metric.label(),
                 self.masks.len()
             )
         } else {
             format!(
                 "{} against {} mask(s): {total} violating point(s) marked",
-                self.metric.name(),
+                self.metric.label(),
                 self.masks.len()
             )
         };
         ch.series.push(Series {
-            name: format!("{} measured", self.metric.name()),
+            name: format!("{} measured", self.metric.label()),
             points: self.measured.iter().map(|&(t, v)| XY::new(t, v)).collect(),
             style: Style {
                 colour: Colour::Palette(0),
@@ -151,7 +136,6 @@ pub fn plots_from_result(
     masks: &[crate::wander::masks::Mask],
     title: &str,
 ) -> Vec<WanderPlot> {
-    use crate::wander::masks::Metric as MaskMetric;
     let (tlo, thi) = res
         .mtie
         .iter()
@@ -160,10 +144,7 @@ pub fn plots_from_result(
             (a.min(e.tau), b.max(e.tau))
         });
     let mut plots = Vec::new();
-    for (metric, pm, curve) in [
-        (MaskMetric::Mtie, Metric::Mtie, &res.mtie),
-        (MaskMetric::Tdev, Metric::Tdev, &res.tdev),
-    ] {
+    for (metric, curve) in [(Metric::Mtie, &res.mtie), (Metric::Tdev, &res.tdev)] {
         let mut lines = Vec::new();
         for (m, c) in masks
             .iter()
@@ -178,11 +159,11 @@ pub fn plots_from_result(
         }
         let mut notes = Vec::new();
         if lines.is_empty() {
-            notes.push(format!("No {} mask was asked for.", pm.name()));
+            notes.push(format!("No {} mask was asked for.", metric.label()));
         }
         plots.push(WanderPlot {
             title: title.to_string(),
-            metric: pm,
+            metric,
             measured: curve.iter().map(|e| (e.tau, e.value)).collect(),
             masks: lines,
             notes,
@@ -229,13 +210,14 @@ pub fn combined_chart(plots: &[WanderPlot], notes: &[String]) -> Chart {
     for p in plots {
         let c = p.chart();
         for s in &mut ch.series[k..k + c.series.len()] {
-            if !s.name.starts_with(p.metric.name()) {
-                s.name = format!("{} {}", p.metric.name(), s.name);
+            let label = p.metric.label();
+            if !s.name.starts_with(&label) {
+                s.name = format!("{label} {}", s.name);
             }
         }
         k += c.series.len();
     }
-    let names: Vec<&str> = plots.iter().map(|p| p.metric.name()).collect();
+    let names: Vec<String> = plots.iter().map(|p| p.metric.label()).collect();
     ch.y.label = names.join(", ");
     ch.subtitle = subtitles.join("; ");
     ch.notes.extend(notes.iter().cloned());

@@ -70,8 +70,8 @@ pub struct VerdictLine {
 /// One row of the stability table.
 #[derive(Debug, Clone, PartialEq)]
 pub struct StabilityRow {
-    /// Estimator name.
-    pub estimator: String,
+    /// The estimator.
+    pub estimator: crate::deviation::Estimator,
     /// τ (s).
     pub tau: f64,
     /// Averaging factor.

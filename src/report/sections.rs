@@ -212,10 +212,10 @@ fn stability(h: &mut Html, p: &Part<Vec<StabilitySection>>) -> Result<()> {
                     .rows
                     .iter()
                     .map(|r| {
-                        let time = crate::plot::stability::is_time_deviation(&r.estimator);
+                        let time = r.estimator.is_time_deviation();
                         let f = |v: f64| if time { secs(v) } else { format_sig(v, 4) };
                         vec![
-                            t(&r.estimator),
+                            t(r.estimator.name()),
                             n(tau(r.tau)),
                             n(r.m.to_string()),
                             n(f(r.dev)),
@@ -477,7 +477,7 @@ fn wander(h: &mut Html, p: &Part<WanderSection>) -> Result<()> {
             for wp in &s.plots {
                 let cap = format!(
                     "{} against observation interval, with masks",
-                    wp.metric.name()
+                    wp.metric.label()
                 );
                 h.figure(&crate::plot::to_svg_string(&wp.chart(), CHART)?, &cap);
             }

@@ -3,7 +3,7 @@
 //! (`--to model`).
 
 use super::{csv_text, plain, Result};
-use crate::deviation::{Estimate, Point};
+use crate::deviation::{Curve, Estimate, Estimator, Origin, Point};
 use crate::model::fit::Dominant;
 use crate::model::PowerLaw;
 use crate::spectrum::sigma::SigmaPoint;
@@ -25,6 +25,23 @@ pub struct ConvertedPoint {
     pub truncated: bool,
 }
 
+impl ConvertedCurve {
+    /// The curve of `estimator` converted (`origin`) at these points.
+    pub fn new(estimator: Estimator, origin: Origin, points: &[SigmaPoint]) -> Self {
+        Self {
+            name: Curve {
+                estimator,
+                origin,
+                points: Vec::new(),
+            }
+            .name(),
+            estimator,
+            origin,
+            points: points.iter().map(ConvertedPoint::from).collect(),
+        }
+    }
+}
+
 impl From<&SigmaPoint> for ConvertedPoint {
     fn from(p: &SigmaPoint) -> Self {
         Self {
@@ -40,11 +57,16 @@ impl From<&SigmaPoint> for ConvertedPoint {
     }
 }
 
-/// One converted curve: `{"estimator","points"}`.
+/// One converted curve: `{"name","estimator","origin","points"}` (origin
+/// `from-lf` for a table, `from-model` for a model).
 #[derive(Debug, Clone, Serialize)]
 pub struct ConvertedCurve {
-    /// The estimator's name.
-    pub estimator: String,
+    /// The label (`adev-from-lf`).
+    pub name: String,
+    /// The estimator.
+    pub estimator: Estimator,
+    /// `from-lf` or `from-model`.
+    pub origin: Origin,
     /// The values.
     pub points: Vec<ConvertedPoint>,
 }
@@ -68,15 +90,16 @@ pub struct SigmaBody {
 pub const SIGMA_METHOD: &str = "σ²(τ) = ∫ S_y(f)|H(f)|² df, table interpolated linearly in log f / dB (IEEE Std 1139 transfer functions)";
 
 impl SigmaBody {
-    /// CSV: `estimator`, [`Point::COLUMNS`], `below_table`, `truncated`.
+    /// CSV: `estimator`, `origin`, [`Point::COLUMNS`], `below_table`,
+    /// `truncated`.
     pub fn csv(&self) -> Result<String> {
-        let mut header = vec!["estimator"];
+        let mut header = vec!["estimator", "origin"];
         header.extend(Point::COLUMNS);
         header.extend(["below_table", "truncated"]);
         let mut rows = Vec::new();
         for c in &self.curves {
             for p in &c.points {
-                let mut r = vec![c.estimator.clone()];
+                let mut r = vec![c.estimator.name().to_string(), c.origin.name().to_string()];
                 r.extend(p.point.cells());
                 r.push(plain(p.below_table));
                 r.push(p.truncated.to_string());

@@ -6,7 +6,7 @@
 //! "not computed" in tauwise's JSON, so an overflowed value is never written
 //! as `null`.
 //!
-//! Every `f64` of every result type goes through [`Serializer::serialize_f64`]
+//! Every `f64` of every result type goes through `serialize_f64` of [`Serializer`]
 //! here — the rule is implemented once, not by annotating fields.
 //!
 //! ```

@@ -32,7 +32,7 @@ pub use jitter::{
 };
 pub use noise::{noise_cells, rms, DominantRange, ModelSummary, NoiseBody};
 pub use spectrum::{SpectrumBody, SpectrumRow, SpectrumRows};
-pub use stability::{AnyCurve, BestCurve, StabilityBody};
+pub use stability::{model_from_stability, AnyCurve, BestCurve, StabilityBody};
 pub use wander::WanderBody;
 
 /// Version of the JSON documents' layout (`"schema"` in every document):

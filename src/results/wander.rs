@@ -31,16 +31,16 @@ impl WanderBody {
         Self { result, caution }
     }
 
-    /// CSV: `estimator` (`mtie`, `tdev`) then [`Point::COLUMNS`], as the
-    /// rows of `stability`.
+    /// CSV: `estimator` (`mtie`, `tdev`), `origin` (`measured`), then
+    /// [`Point::COLUMNS`], as the rows of `stability`.
     pub fn csv(&self) -> Result<String> {
-        let mut header = vec!["estimator"];
+        let mut header = vec!["estimator", "origin"];
         header.extend(Point::COLUMNS);
         let rows = [("mtie", &self.result.mtie), ("tdev", &self.result.tdev)]
             .into_iter()
             .flat_map(|(name, c)| {
                 c.iter().map(move |e: &Estimate| {
-                    let mut r = vec![name.to_string()];
+                    let mut r = vec![name.to_string(), "measured".to_string()];
                     r.extend(Point::bare(*e).cells());
                     r
                 })

@@ -48,48 +48,22 @@ use super::gt;
 use super::loglog::{Extend, LogLog};
 use super::quad::{adaptive, gl8};
 use super::{Quantity, Spectrum};
+use crate::deviation::Estimator;
 use crate::error::{Error, Result};
 use std::f64::consts::PI;
 
-/// The estimators whose expectation a spectrum gives.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
-#[serde(rename_all = "lowercase")]
-pub enum SigmaKind {
-    /// Allan deviation (also the expectation of the overlapping ADEV).
-    Adev,
-    /// Modified Allan deviation.
-    Mdev,
-    /// Hadamard deviation (also the overlapping HDEV).
-    Hdev,
-    /// Time deviation TDEV = τ·MDEV/√3 (seconds).
-    Tdev,
-}
-
-impl SigmaKind {
-    /// Map an estimator trade name to its spectral form: `adev`/`oadev` →
-    /// Adev, `mdev`, `hdev`/`ohdev` → Hdev, `tdev`. Other estimators have no
-    /// transfer function here.
-    pub fn from_name(name: &str) -> Result<Self> {
-        match name.trim().to_ascii_lowercase().as_str() {
-            "adev" | "oadev" => Ok(SigmaKind::Adev),
-            "mdev" => Ok(SigmaKind::Mdev),
-            "hdev" | "ohdev" => Ok(SigmaKind::Hdev),
-            "tdev" => Ok(SigmaKind::Tdev),
-            other => Err(Error::invalid(format!(
-                "no spectral conversion for estimator '{other}': expected one of adev oadev mdev hdev ohdev tdev"
-            ))),
-        }
-    }
-
-    /// The trade name (`adev`, `mdev`, `hdev`, `tdev`).
-    pub fn name(self) -> &'static str {
-        match self {
-            SigmaKind::Adev => "adev",
-            SigmaKind::Mdev => "mdev",
-            SigmaKind::Hdev => "hdev",
-            SigmaKind::Tdev => "tdev",
-        }
-    }
+/// The transfer function a spectrum is integrated with for `est`
+/// ([`Estimator::transfer_function`]: `oadev` for ADEV and OADEV, `ohdev`
+/// for HDEV and OHDEV, `mdev`, `tdev`); an estimator without one is an
+/// error naming those that have one.
+pub fn spectral(est: Estimator) -> Result<Estimator> {
+    est.transfer_function().ok_or_else(|| {
+        Error::invalid(format!(
+            "no spectral conversion for estimator '{}': expected one of {}",
+            est.name(),
+            Estimator::names(&Estimator::convertible())
+        ))
+    })
 }
 
 /// One converted point.
@@ -127,7 +101,7 @@ const K_FAR: f64 = 64.0; // periods of 1/τ0 before the MVAR far average
 /// may not exceed the table's highest offset.
 pub fn sigma_from_spectrum(
     s: &Spectrum,
-    est: SigmaKind,
+    est: Estimator,
     taus: &[f64],
     tau0: f64,
     f_h: f64,
@@ -141,18 +115,19 @@ pub fn sigma_from_spectrum(
 /// σ(τ) with the extrapolation report of each point (see module notes).
 pub fn sigma_points(
     s: &Spectrum,
-    est: SigmaKind,
+    est: Estimator,
     taus: &[f64],
     opt: SigmaOptions,
 ) -> Result<Vec<SigmaPoint>> {
     use rayon::prelude::*;
+    let est = spectral(est)?;
     let sy = prepare(s, opt)?;
     taus.par_iter()
         .map(|&tau| {
             let (tau, n) = tau_and_n(tau, opt.tau0, est)?;
             let (var, below, truncated) =
                 Integrator::new(&sy, est, tau, opt.tau0, n, opt.f_h).run();
-            let var = if est == SigmaKind::Tdev {
+            let var = if est == Estimator::Tdev {
                 var * tau * tau / 3.0
             } else {
                 var
@@ -168,16 +143,73 @@ pub fn sigma_points(
         .collect()
 }
 
+/// The τ a conversion is evaluated at: an explicit list as given, any
+/// other grid ([`crate::tau::TauGrid`]) as multiples of `tau0` up to
+/// `max_tau` (at least τ0).
+pub fn grid_taus(grid: &crate::tau::TauGrid, tau0: f64, max_tau: f64) -> Result<Vec<f64>> {
+    use crate::tau::TauGrid;
+    if !(tau0.is_finite() && tau0 > 0.0) {
+        return Err(Error::invalid(format!("τ0 must be positive, got {tau0} s")));
+    }
+    Ok(match grid {
+        TauGrid::Explicit(t) => t.clone(),
+        g => {
+            let max_m = ((max_tau / tau0).floor() as usize).max(1);
+            g.ms(tau0, max_m)?
+                .into_iter()
+                .map(|m| m as f64 * tau0)
+                .collect()
+        }
+    })
+}
+
+/// σ(τ) of `est` at `taus` ([`sigma_points`]), where each τ of an estimator
+/// defined only at whole multiples of τ0 (MDEV, TDEV:
+/// [`Estimator::needs_whole_tau0`]) is first moved to the nearest one (at
+/// least τ0); the points carry the τ used.
+pub fn sigma_curve(
+    s: &Spectrum,
+    est: Estimator,
+    taus: &[f64],
+    opt: SigmaOptions,
+) -> Result<Vec<SigmaPoint>> {
+    if est.needs_whole_tau0() {
+        let t: Vec<f64> = taus
+            .iter()
+            .map(|t| (t / opt.tau0).round().max(1.0) * opt.tau0)
+            .collect();
+        sigma_points(s, est, &t, opt)
+    } else {
+        sigma_points(s, est, taus, opt)
+    }
+}
+
+/// The spectrum of a power-law model for a σ(τ) conversion up to
+/// `max_tau`: S_y sampled at 40 points per decade from well below the
+/// longest τ's band (10⁻⁴/τ_max, or 10⁻³·f_h if lower) up to f_h — the
+/// log–log interpolation of a sum of power laws at this density is within
+/// 10⁻⁴ dB.
+pub fn model_spectrum(
+    model: &crate::model::PowerLaw,
+    carrier: Option<f64>,
+    max_tau: f64,
+) -> Result<Spectrum> {
+    let f_h = model.f_h;
+    let f_lo = (1e-4 / max_tau).min(f_h * 1e-3);
+    Spectrum::from_model(model, Quantity::Sy, carrier, f_lo, f_h, 40)
+}
+
 /// The plain reference: ∫ S_y|H|² by 8-point Gauss–Legendre on panels a
 /// factor 1.25 wide in log f below 1/(4τ) (from 10⁻⁹/τ, whose tail is
 /// neglected) and on every quarter period 1/(4τ) above, split at the table's
 /// knots. Slow; for tests.
 pub fn variance_reference(
     s: &Spectrum,
-    est: SigmaKind,
+    est: Estimator,
     tau: f64,
     opt: SigmaOptions,
 ) -> Result<f64> {
+    let est = spectral(est)?;
     let sy = prepare(s, opt)?;
     let (tau, n) = tau_and_n(tau, opt.tau0, est)?;
     let it = Integrator::new(&sy, est, tau, opt.tau0, n, opt.f_h);
@@ -204,7 +236,7 @@ pub fn variance_reference(
     cuts.sort_by(|a, b| a.total_cmp(b));
     cuts.dedup();
     let mut v: f64 = cuts.windows(2).map(|w| gl8(&g, w[0], w[1])).sum();
-    if est == SigmaKind::Tdev {
+    if est == Estimator::Tdev {
         v *= tau * tau / 3.0;
     }
     Ok(v)
@@ -229,13 +261,13 @@ fn prepare(s: &Spectrum, opt: SigmaOptions) -> Result<LogLog> {
     Ok(t)
 }
 
-fn tau_and_n(tau: f64, tau0: f64, est: SigmaKind) -> Result<(f64, f64)> {
+fn tau_and_n(tau: f64, tau0: f64, est: Estimator) -> Result<(f64, f64)> {
     if !(tau.is_finite() && tau > 0.0) {
         return Err(Error::invalid(format!("τ must be positive, got {tau} s")));
     }
     let n = (tau / tau0).round().max(1.0);
     match est {
-        SigmaKind::Mdev | SigmaKind::Tdev => {
+        Estimator::Mdev | Estimator::Tdev => {
             if ((tau / tau0) - n).abs() > 1e-6 * n {
                 return Err(Error::invalid(format!(
                     "τ = {tau} s is not a whole multiple of τ0 = {tau0} s (needed for {})",
@@ -283,7 +315,7 @@ const SIN6: [(f64, f64); 4] = [
 
 struct Integrator<'a> {
     sy: &'a LogLog,
-    est: SigmaKind,
+    est: Estimator,
     tau: f64,
     tau0: f64,
     n: f64,
@@ -292,7 +324,7 @@ struct Integrator<'a> {
 }
 
 impl<'a> Integrator<'a> {
-    fn new(sy: &'a LogLog, est: SigmaKind, tau: f64, tau0: f64, n: f64, f_h: f64) -> Self {
+    fn new(sy: &'a LogLog, est: Estimator, tau: f64, tau0: f64, n: f64, f_h: f64) -> Self {
         Self {
             sy,
             est,
@@ -305,17 +337,18 @@ impl<'a> Integrator<'a> {
     }
 
     fn mod_like(&self) -> bool {
-        matches!(self.est, SigmaKind::Mdev | SigmaKind::Tdev) && self.n > 1.0
+        matches!(self.est, Estimator::Mdev | Estimator::Tdev) && self.n > 1.0
     }
 
     /// |H(f)|², the textbook transfer function (module notes).
     fn h2(&self, f: f64) -> f64 {
         let x = PI * f * self.tau;
         let sx = x.sin();
+        // `est` is a transfer function (oadev, ohdev, mdev, tdev): see
+        // [`spectral`].
         match self.est {
-            SigmaKind::Adev => 2.0 * sx.powi(4) / (x * x),
-            SigmaKind::Hdev => 8.0 / 3.0 * sx.powi(6) / (x * x),
-            SigmaKind::Mdev | SigmaKind::Tdev => {
+            Estimator::Ohdev => 8.0 / 3.0 * sx.powi(6) / (x * x),
+            Estimator::Mdev | Estimator::Tdev => {
                 if self.n <= 1.0 {
                     return 2.0 * sx.powi(4) / (x * x);
                 }
@@ -326,6 +359,7 @@ impl<'a> Integrator<'a> {
                 let r = sx / d;
                 2.0 * r * r * sx.powi(4) / (x * x)
             }
+            _ => 2.0 * sx.powi(4) / (x * x),
         }
     }
 
@@ -336,14 +370,14 @@ impl<'a> Integrator<'a> {
     /// Exponent 2r of the leading term A·x^{2r} of |H|² at small x.
     fn leading(&self) -> (f64, i32) {
         match self.est {
-            SigmaKind::Hdev => (8.0 / 3.0, 4),
+            Estimator::Ohdev => (8.0 / 3.0, 4),
             _ => (2.0, 2),
         }
     }
 
     fn q(&self) -> &'static [(f64, f64)] {
         match self.est {
-            SigmaKind::Hdev => &SIN6,
+            Estimator::Ohdev => &SIN6,
             _ if self.mod_like() => &SIN6,
             _ => &SIN4,
         }
@@ -353,7 +387,7 @@ impl<'a> Integrator<'a> {
     fn envelope(&self, f: f64) -> (f64, f64) {
         let pt = PI * self.tau;
         match self.est {
-            SigmaKind::Hdev => {
+            Estimator::Ohdev => {
                 let e = 8.0 / 3.0 / (pt * f).powi(2);
                 (e, -2.0 * e / f)
             }
@@ -576,7 +610,7 @@ mod tests {
         s
     }
 
-    fn check(s: &Spectrum, est: SigmaKind, tau: f64, tau0: f64, fh: f64) {
+    fn check(s: &Spectrum, est: Estimator, tau: f64, tau0: f64, fh: f64) {
         let opt = SigmaOptions { tau0, f_h: fh };
         let fast = sigma_points(s, est, &[tau], opt).unwrap()[0];
         let fast_var = fast.dev * fast.dev;
@@ -595,10 +629,10 @@ mod tests {
         let s = table(fh);
         let tau0 = 0.5 / fh;
         for est in [
-            SigmaKind::Adev,
-            SigmaKind::Hdev,
-            SigmaKind::Mdev,
-            SigmaKind::Tdev,
+            Estimator::Oadev,
+            Estimator::Ohdev,
+            Estimator::Mdev,
+            Estimator::Tdev,
         ] {
             for n in [1.0, 2.0, 7.0, 200.0, 2000.0, 20000.0] {
                 check(&s, est, n * tau0, tau0, fh);
@@ -616,7 +650,7 @@ mod tests {
             (0.5, vec![2.0, 3.0, 16.0]),
         ] {
             for n in ns {
-                check(&s, SigmaKind::Mdev, n * tau0, tau0, fh);
+                check(&s, Estimator::Mdev, n * tau0, tau0, fh);
             }
         }
     }
@@ -633,7 +667,7 @@ mod tests {
         .unwrap();
         let p = sigma_points(
             &s,
-            SigmaKind::Adev,
+            Estimator::Oadev,
             &[0.01, 10.0],
             SigmaOptions {
                 tau0: 5e-4,
@@ -644,7 +678,7 @@ mod tests {
         assert!(p.iter().all(|q| q.truncated && q.below_table == 0.0));
         let q = sigma_points(
             &table(1e3),
-            SigmaKind::Adev,
+            Estimator::Oadev,
             &[1e3],
             SigmaOptions {
                 tau0: 5e-4,
@@ -668,7 +702,7 @@ mod tests {
         let s = Spectrum::new(f, v, Quantity::Lf, Some(10e6)).unwrap();
         let fh = *s.f.last().unwrap();
         let tau0 = 0.5 / fh;
-        for est in [SigmaKind::Adev, SigmaKind::Mdev] {
+        for est in [Estimator::Oadev, Estimator::Mdev] {
             for n in [400.0, 2000.0, 16000.0] {
                 check(&s, est, n * tau0, tau0, fh);
             }

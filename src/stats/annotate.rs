@@ -46,7 +46,7 @@ impl VarianceKind {
             Estimator::Mtot => Some(VarianceKind::ModifiedTotal),
             Estimator::Ttot => Some(VarianceKind::TimeTotal),
             Estimator::Htot => Some(VarianceKind::HadamardTotal),
-            Estimator::Theo1 | Estimator::Theoh | Estimator::Mtie | Estimator::Tierms => None,
+            Estimator::Theo1 | Estimator::Theoh | Estimator::Mtie | Estimator::TieRms => None,
         }
     }
 

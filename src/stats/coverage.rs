@@ -20,7 +20,7 @@
 //! [`crate::stats::theo::theo1_over_allan`]·AVAR.
 
 use crate::deviation::{compute, Estimator};
-use crate::model::fit::{basis, VarKind};
+use crate::model::fit::basis;
 use crate::model::PowerLaw;
 use crate::simulate::{simulate_phase, SimSpec};
 use crate::stats::{annotate_with, interval, NoiseIdentifier, StatsOptions};
@@ -36,16 +36,16 @@ pub fn truth(est: Estimator, alpha: i32, tau: f64, m: usize, tau0: f64) -> Optio
         return None;
     }
     let f_h = 0.5 / tau0;
-    let b = |k: VarKind| basis(k, alpha, tau, tau0, f_h);
+    let b = |k: Estimator| basis(k, alpha, tau, tau0, f_h);
     let var = match est {
         Estimator::Adev | Estimator::Oadev | Estimator::Totdev | Estimator::Theoh => {
-            b(VarKind::Avar)
+            b(Estimator::Oadev)
         }
-        Estimator::Mdev | Estimator::Mtot => b(VarKind::Mvar),
-        Estimator::Tdev | Estimator::Ttot => tau * tau / 3.0 * b(VarKind::Mvar),
-        Estimator::Hdev | Estimator::Ohdev | Estimator::Htot => b(VarKind::Hvar),
-        Estimator::Theo1 => crate::stats::theo::theo1_over_allan(alpha, m)? * b(VarKind::Avar),
-        Estimator::Mtie | Estimator::Tierms => return None,
+        Estimator::Mdev | Estimator::Mtot => b(Estimator::Mdev),
+        Estimator::Tdev | Estimator::Ttot => tau * tau / 3.0 * b(Estimator::Mdev),
+        Estimator::Hdev | Estimator::Ohdev | Estimator::Htot => b(Estimator::Ohdev),
+        Estimator::Theo1 => crate::stats::theo::theo1_over_allan(alpha, m)? * b(Estimator::Oadev),
+        Estimator::Mtie | Estimator::TieRms => return None,
     };
     (var.is_finite() && var > 0.0).then(|| var.sqrt())
 }

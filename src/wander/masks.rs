@@ -39,12 +39,23 @@ pub enum Metric {
 }
 
 impl Metric {
-    /// The name used in mask files and in JSON (`mtie`, `tdev`).
-    pub fn name(self) -> &'static str {
+    /// The estimator of the registry this metric is.
+    pub fn estimator(self) -> crate::deviation::Estimator {
         match self {
-            Metric::Mtie => "mtie",
-            Metric::Tdev => "tdev",
+            Metric::Mtie => crate::deviation::Estimator::Mtie,
+            Metric::Tdev => crate::deviation::Estimator::Tdev,
         }
+    }
+
+    /// The name used in mask files and in JSON (`mtie`, `tdev`): the
+    /// estimator's ([`crate::deviation::Estimator::name`]).
+    pub fn name(self) -> &'static str {
+        self.estimator().name()
+    }
+
+    /// The name in chart axes and tables (`MTIE`, `TDEV`).
+    pub fn label(self) -> String {
+        self.name().to_uppercase()
     }
 }
 

@@ -307,8 +307,13 @@ pub(super) fn holdover(
             "uncertainty of y0 and aging".to_string(),
             if model.uncertainty.replicates > 0 {
                 format!(
-                    "parametric bootstrap: the fit repeated on {} records drawn from the noise model; drawn per Monte Carlo path{}",
+                    "parametric bootstrap: the fit repeated on {} records drawn from the noise model{}; drawn per Monte Carlo path{}",
                     model.uncertainty.replicates,
+                    if model.uncertainty.rwfm_drawn {
+                        " (each with its own random-walk FM level, as the record could have measured it)"
+                    } else {
+                        ""
+                    },
                     if model.uncertainty.y0_window.is_some() && h.aging.is_none() {
                         format!(
                             " jointly (correlation {:+.2})",

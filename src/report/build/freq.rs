@@ -310,7 +310,11 @@ pub(super) fn combined(
     let mut views = Vec::new();
     let mut failed = Vec::new();
     for (l, w) in records.iter().zip(work) {
-        let Some(measured) = w.curves.iter().find(|c| c.estimator == "oadev") else {
+        let Some(measured) = w
+            .curves
+            .iter()
+            .find(|c| c.estimator == crate::deviation::Estimator::Oadev)
+        else {
             failed.push(format!("{}: no oadev curve from the record", l.src.name));
             continue;
         };

@@ -258,7 +258,7 @@ pub(super) fn stability(
             .iter()
             .flat_map(|c| {
                 c.points.iter().map(|p| StabilityRow {
-                    estimator: c.estimator.clone(),
+                    estimator: c.estimator,
                     tau: p.estimate.tau,
                     m: p.estimate.m,
                     dev: p.estimate.value,
