@@ -429,20 +429,20 @@ impl Plan {
                 for t2 in 0..nt {
                     pair[t1][t2] += gb[t1] * gb[t2];
                 }
-                for c in 0..4 {
-                    for p in 0..3 {
-                        cross[t1][c][p] += gb[t1] * bp.fixed[c][p];
+                for (row, fixed) in cross[t1].iter_mut().zip(&bp.fixed) {
+                    for (x, f) in row.iter_mut().zip(fixed) {
+                        *x += gb[t1] * f;
                     }
                 }
             }
         }
         let mut own = [[0.0f64; 4]; 4];
         for bp in &blocks {
-            for c1 in 0..4 {
-                for c2 in 0..4 {
-                    for p in 0..3 {
-                        for q in 0..3 {
-                            own[c1][c2] += bp.fixed[c1][p] * bp.fixed[c2][q] * power[p + q];
+            for (row, f1) in own.iter_mut().zip(&bp.fixed) {
+                for (x, f2) in row.iter_mut().zip(&bp.fixed) {
+                    for (p, a) in f1.iter().enumerate() {
+                        for (q, b) in f2.iter().enumerate() {
+                            *x += a * b * power[p + q];
                         }
                     }
                 }
