@@ -51,16 +51,17 @@ pub enum Estimator {
     /// Total deviation (NIST SP 1065 §5.2.11).
     Totdev,
     /// Modified total deviation (NIST SP 1065 §5.2.12). Cost O(N) per τ
-    /// (exact prefix-sum form from m = 32): about 0.6 s of CPU for the
-    /// octave grid at N = 10⁵, 7 s at N = 10⁶.
+    /// (exact prefix-sum form from m = 8): about 2 s of CPU for the
+    /// octave grid at N = 10⁶, end to end.
     Mtot,
     /// Time total deviation (NIST SP 1065 §5.2.13), in seconds.
     Ttot,
     /// Hadamard total deviation (NIST SP 1065 §5.2.14). Cost as MTOT.
     Htot,
     /// Theo1 deviation (NIST SP 1065 §5.2.15), τ = 0.75·m·τ0 with m even,
-    /// up to 0.75 of the record. O(N·m) per τ: about 1.8 s of CPU for the
-    /// octave grid at N = 10⁵.
+    /// up to 0.75 of the record. Exact; O(N·log²m) per τ from m = 192
+    /// (correlation form): about 2.9 s of CPU for the octave grid at
+    /// N = 10⁶, end to end.
     Theo1,
     /// TheoH: overlapping ADEV up to 10 % of the record, bias-removed Theo1
     /// (ThêoBR) beyond (NIST SP 1065 §5.2.17). The ThêoBR bias ratio needs

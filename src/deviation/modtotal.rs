@@ -27,10 +27,9 @@
 //! Gaps: a subsequence is used when none of its samples is missing (for
 //! HTOT, none of the 3m + 1 phase samples its frequencies come from).
 //!
-//! Fast forms. For m < 8: local sums of v come from prefix sums kept in
-//! double-double arithmetic (each prefix as an unevaluated sum hi + lo,
-//! built with the error-free TwoSum); the running sums of X then cost O(m)
-//! per subsequence. From m = 8 on: an exact O(1)-per-subsequence form
+//! Fast forms. For m < 8: each subsequence's value is the quadratic form
+//! of [`subsequence_form`] on the window less the straight line through its
+//! end points, O(9m²) per subsequence. From m = 8 on: an exact O(1)-per-subsequence form
 //! (notes above `Plan` below) — every term of the inner sum over the
 //! reflected extension is a fixed linear combination of window prefix sums,
 //! so the sum over all subsequences reduces to weighted lagged products of
@@ -87,61 +86,6 @@ impl PrefixSums {
     }
 }
 
-/// The mean square of the 6m reflected second differences for the
-/// subsequence starting at n (steps 1–3 of the module notes); `q` is scratch
-/// of length ≥ 9m + 1.
-fn subsequence(ps: &PrefixSums, n: usize, m: usize, q: &mut [f64]) -> f64 {
-    let l3 = 3 * m;
-    let h = l3 / 2;
-    let dist = (l3 - h) as f64;
-    let mean1 = ps.sum(n, n + h) / h as f64;
-    let mean2 = ps.sum(n + l3 - h, n + l3) / h as f64;
-    let s = (mean2 - mean1) / dist;
-    // Detrended local prefix sums W_k = Σ_{t<k} (v_{n+t} − s·t), k = 0 … 3m,
-    // stored in q[3m + k] for the middle copy.
-    for k in 0..=l3 {
-        let kf = k as f64;
-        q[l3 + k] = ps.sum(n, n + k) - s * (kf * (kf - 1.0) * 0.5);
-    }
-    let t = q[2 * l3];
-    // Prefix sums of the extended sequence X over positions 0 … 9m:
-    // left reflection Q(p) = T − W_{3m−p}; middle T + W_{p−3m};
-    // right reflection 3T − W_{9m−p}. The middle stores W; fix it up after.
-    for p in 0..l3 {
-        q[p] = t - q[2 * l3 - p];
-    }
-    for p in 2 * l3 + 1..=3 * l3 {
-        q[p] = 3.0 * t - q[l3 + 3 * l3 - p];
-    }
-    for v in &mut q[l3..=2 * l3] {
-        *v += t;
-    }
-    // z_j·m = Q(j+3m) − 3Q(j+2m) + 3Q(j+m) − Q(j).
-    let nz = 2 * l3;
-    let (a, b, c, d) = (
-        &q[..nz],
-        &q[m..m + nz],
-        &q[2 * m..2 * m + nz],
-        &q[l3..l3 + nz],
-    );
-    let mut acc = [0.0f64; 4];
-    let chunks = nz / 4;
-    for ch in 0..chunks {
-        let i = 4 * ch;
-        for l in 0..4 {
-            let z = (d[i + l] - a[i + l]) + 3.0 * (b[i + l] - c[i + l]);
-            acc[l] += z * z;
-        }
-    }
-    let mut tail = 0.0;
-    for i in 4 * chunks..nz {
-        let z = (d[i] - a[i]) + 3.0 * (b[i] - c[i]);
-        tail += z * z;
-    }
-    let mf = m as f64;
-    ((acc[0] + acc[2]) + (acc[1] + acc[3]) + tail) / (mf * mf * nz as f64)
-}
-
 /// G(m) of the module notes on sequence v with its gap index: (Σ over the
 /// subsequences used of their mean squares, number used).
 pub(crate) fn reflected_mean_square(v: &[f64], gaps: &Gaps, m: usize) -> (f64, usize) {
@@ -152,21 +96,40 @@ pub(crate) fn reflected_mean_square(v: &[f64], gaps: &Gaps, m: usize) -> (f64, u
     if m >= FAST_FROM_M {
         return reflected_mean_square_fast(v, gaps, m);
     }
-    let ps = PrefixSums::new(v);
-    let count = len - 3 * m + 1;
+    // Small m: each subsequence's value is wᵀRw with R the form of
+    // [`subsequence_form`] and w the window less the straight line through
+    // its end points (R annihilates constants and ramps, so this is exact and
+    // keeps the products at the window's own scale). O(9m²) per subsequence.
+    let l3 = 3 * m;
+    let r = subsequence_form(m);
+    let count = len - l3 + 1;
     // Sum in fixed blocks (the same split whatever the thread count), then
     // add the block sums in order, so the result is reproducible.
-    const BLOCK: usize = 256;
+    const BLOCK: usize = 1024;
     let blocks: Vec<(f64, usize)> = (0..count.div_ceil(BLOCK))
         .into_par_iter()
         .map_init(
-            || vec![0.0f64; 9 * m + 1],
-            |q, b| {
+            || vec![0.0f64; l3],
+            |w, b| {
                 let mut s = 0.0;
                 let mut used = 0;
                 for n in b * BLOCK..((b + 1) * BLOCK).min(count) {
-                    if gaps.clear(n, n + 3 * m - 1) {
-                        s += subsequence(&ps, n, m, q);
+                    if gaps.clear(n, n + l3 - 1) {
+                        let win = &v[n..n + l3];
+                        let slope = if l3 > 1 {
+                            (win[l3 - 1] - win[0]) / (l3 - 1) as f64
+                        } else {
+                            0.0
+                        };
+                        for (k, (wk, &x)) in w.iter_mut().zip(win).enumerate() {
+                            *wk = (x - win[0]) - slope * k as f64;
+                        }
+                        let mut q = 0.0;
+                        for (a, row) in r.chunks_exact(l3).enumerate() {
+                            let dot: f64 = row.iter().zip(w.iter()).map(|(x, y)| x * y).sum();
+                            q += w[a] * dot;
+                        }
+                        s += q;
                         used += 1;
                     }
                 }
@@ -466,20 +429,20 @@ impl Plan {
                 for t2 in 0..nt {
                     pair[t1][t2] += gb[t1] * gb[t2];
                 }
-                for c in 0..4 {
-                    for p in 0..3 {
-                        cross[t1][c][p] += gb[t1] * bp.fixed[c][p];
+                for (row, fixed) in cross[t1].iter_mut().zip(&bp.fixed) {
+                    for (x, f) in row.iter_mut().zip(fixed) {
+                        *x += gb[t1] * f;
                     }
                 }
             }
         }
         let mut own = [[0.0f64; 4]; 4];
         for bp in &blocks {
-            for c1 in 0..4 {
-                for c2 in 0..4 {
-                    for p in 0..3 {
-                        for q in 0..3 {
-                            own[c1][c2] += bp.fixed[c1][p] * bp.fixed[c2][q] * power[p + q];
+            for (row, f1) in own.iter_mut().zip(&bp.fixed) {
+                for (x, f2) in row.iter_mut().zip(&bp.fixed) {
+                    for (p, a) in f1.iter().enumerate() {
+                        for (q, b) in f2.iter().enumerate() {
+                            *x += a * b * power[p + q];
                         }
                     }
                 }
@@ -500,7 +463,10 @@ impl Plan {
 #[derive(Default)]
 struct RunScratch {
     vv: Vec<f64>,
-    tmp: Vec<f64>,
+    m0: Vec<f64>,
+    m1: Vec<f64>,
+    m2: Vec<f64>,
+    par: Vec<f64>,
 }
 
 /// Σ_{n} Σ_{j} (m·z_j(n))² over the subsequences n = start … start+count−1
@@ -530,29 +496,34 @@ fn run_sum(plan: &Plan, v: &[f64], start: usize, count: usize, s: &mut RunScratc
         s.vv.push(hi + lo);
     }
     let vv = &s.vv;
-    // Prefix sums of t^p·V_t and of V over even / odd t.
-    let moment = |p: i32, tmp: &mut Vec<f64>| {
-        tmp.clear();
-        tmp.extend(vv.iter().enumerate().map(|(t, &x)| x * (t as f64).powi(p)));
-        PrefixSums::new(tmp)
-    };
-    let m0 = moment(0, &mut s.tmp);
-    let m1 = moment(1, &mut s.tmp);
-    let m2 = moment(2, &mut s.tmp);
-    s.tmp.clear();
-    s.tmp.extend(
-        vv.iter()
-            .enumerate()
-            .map(|(t, &x)| if t % 2 == 0 { x } else { 0.0 }),
-    );
-    let even = PrefixSums::new(&s.tmp);
-    s.tmp.clear();
-    s.tmp.extend(
-        vv.iter()
-            .enumerate()
-            .map(|(t, &x)| if t % 2 == 1 { x } else { 0.0 }),
-    );
-    let odd = PrefixSums::new(&s.tmp);
+    // Prefix sums of t^p·V_t (p = 0, 1, 2) and of V over the samples of one
+    // parity, built in one pass with compensated (TwoSum) chains and each
+    // stored rounded to one f64 (so a stored prefix carries one rounding,
+    // not an accumulated error).
+    let len_v = vv.len();
+    for a in [&mut s.m0, &mut s.m1, &mut s.m2, &mut s.par] {
+        a.clear();
+        a.reserve(len_v + 2);
+        a.push(0.0);
+    }
+    s.par.push(0.0);
+    let mut h = [0.0f64; 5];
+    let mut l = [0.0f64; 5];
+    for (t, &x) in vv.iter().enumerate() {
+        let tf = t as f64;
+        let par = 3 + (t & 1);
+        for (j, v) in [(0usize, x), (1, x * tf), (2, x * tf * tf), (par, x)] {
+            let (a, e) = two_sum(h[j], v);
+            h[j] = a;
+            l[j] += e;
+        }
+        s.m0.push(h[0] + l[0]);
+        s.m1.push(h[1] + l[1]);
+        s.m2.push(h[2] + l[2]);
+        // par[t + 2] = Σ_{u ≤ t, u ≡ t (mod 2)} V_u.
+        s.par.push(h[par] + l[par]);
+    }
+    let (m0, m1, m2, par) = (&s.m0, &s.m1, &s.m2, &s.par);
 
     let r_max = m as i64 - 1;
     let cnt = count as i64;
@@ -560,16 +531,16 @@ fn run_sum(plan: &Plan, v: &[f64], start: usize, count: usize, s: &mut RunScratc
     let window = |u: usize, plus: bool| -> [f64; 3] {
         if plus {
             let (a, b) = (u, u + m);
-            let d0 = m0.sum(a, b);
-            let d1 = m1.sum(a, b);
-            let d2 = m2.sum(a, b);
+            let d0 = m0[b] - m0[a];
+            let d1 = m1[b] - m1[a];
+            let d2 = m2[b] - m2[a];
             let uf = u as f64;
             [d0, d1 - uf * d0, d2 - 2.0 * uf * d1 + uf * uf * d0]
         } else {
             let (a, b) = (u + 1 - m, u + 1);
-            let d0 = m0.sum(a, b);
-            let d1 = m1.sum(a, b);
-            let d2 = m2.sum(a, b);
+            let d0 = m0[b] - m0[a];
+            let d1 = m1[b] - m1[a];
+            let d2 = m2[b] - m2[a];
             let uf = u as f64;
             [d0, uf * d0 - d1, uf * uf * d0 - 2.0 * uf * d1 + d2]
         }
@@ -611,11 +582,8 @@ fn run_sum(plan: &Plan, v: &[f64], start: usize, count: usize, s: &mut RunScratc
                     let base = qq + mi as i64;
                     let lo_t = (base - 2 * rh) as usize;
                     let hi_t = (base - 2 * rl) as usize + 1;
-                    let inner = if base % 2 == 0 {
-                        even.sum(lo_t, hi_t)
-                    } else {
-                        odd.sum(lo_t, hi_t)
-                    };
+                    // V at lo_t, lo_t + 2, …, hi_t − 1 (all of base's parity).
+                    let inner = par[hi_t + 1] - par[lo_t];
                     s2 += vv[qq as usize + pl] * inner;
                 }
                 s2
