@@ -1,19 +1,13 @@
 //! End-to-end: the `holdover` binary, its JSON contract (issue 5), exit
 //! statuses and bad-input errors.
 
+mod common;
+use common::{assert_error, stderr, tauwise};
 use rand::{Rng, SeedableRng};
 use rand_chacha::ChaCha8Rng;
 use rand_distr::StandardNormal;
 use std::path::{Path, PathBuf};
-use std::process::{Command, Output};
-
-fn tauwise() -> Command {
-    Command::new(env!("CARGO_BIN_EXE_tauwise"))
-}
-
-fn stderr(o: &Output) -> String {
-    String::from_utf8_lossy(&o.stderr).into_owned()
-}
+use std::process::Output;
 
 const DAY: f64 = 86400.0;
 
@@ -167,20 +161,6 @@ fn fitted_model_from_a_noisy_record() {
     assert!((got_h0 / h0 - 1.0).abs() < 0.3, "{got_h0}");
     let got_d = m["aging_per_s"].as_f64().unwrap();
     assert!((got_d / d - 1.0).abs() < 0.05, "{got_d} vs {d}");
-}
-
-fn assert_error(out: &Output, words: &[&str], not_written: &Path) {
-    assert_eq!(out.status.code(), Some(1), "{}", stderr(out));
-    let e = stderr(out);
-    assert!(e.starts_with("tauwise: error: "), "{e}");
-    for w in words {
-        assert!(e.contains(w), "'{w}' missing from: {e}");
-    }
-    assert!(
-        !not_written.exists(),
-        "{} was written",
-        not_written.display()
-    );
 }
 
 /// A span or budget ≤ 0 is a clear error; nothing is written.

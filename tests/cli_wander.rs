@@ -1,22 +1,10 @@
 //! End-to-end: the `wander` binary, its JSON contract (issue 5), exit
 //! statuses and bad-input errors.
 
+mod common;
+use common::{assert_error, stderr, tauwise, write};
 use std::path::{Path, PathBuf};
-use std::process::{Command, Output};
-
-fn tauwise() -> Command {
-    Command::new(env!("CARGO_BIN_EXE_tauwise"))
-}
-
-fn write(dir: &Path, name: &str, text: &str) -> PathBuf {
-    let p = dir.join(name);
-    std::fs::write(&p, text).unwrap();
-    p
-}
-
-fn stderr(o: &Output) -> String {
-    String::from_utf8_lossy(&o.stderr).into_owned()
-}
+use std::process::Output;
 
 const Y0: f64 = 2e-8;
 const N: usize = 2001;
@@ -247,20 +235,6 @@ fn passing_record_exits_zero() {
         .all(|p| (p["value"].as_f64().unwrap() - 1e-9).abs() < 1e-18));
     let td0 = doc["tdev"][0]["value"].as_f64().unwrap();
     assert!((td0 - (4.0f64 / 6.0).sqrt() * 1e-9).abs() < 1e-15, "{td0}");
-}
-
-fn assert_error(out: &Output, words: &[&str], not_written: &Path) {
-    assert_eq!(out.status.code(), Some(1), "{}", stderr(out));
-    let e = stderr(out);
-    assert!(e.starts_with("tauwise: error: "), "{e}");
-    for w in words {
-        assert!(e.contains(w), "'{w}' missing from: {e}");
-    }
-    assert!(
-        !not_written.exists(),
-        "{} was written",
-        not_written.display()
-    );
 }
 
 /// An unknown mask name is an error that lists the known ones; nothing is
