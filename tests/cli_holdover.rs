@@ -1,19 +1,13 @@
 //! End-to-end: the `holdover` binary, its JSON contract (issue 5), exit
 //! statuses and bad-input errors.
 
+mod common;
+use common::{stderr, tauwise};
 use rand::{Rng, SeedableRng};
 use rand_chacha::ChaCha8Rng;
 use rand_distr::StandardNormal;
 use std::path::{Path, PathBuf};
-use std::process::{Command, Output};
-
-fn tauwise() -> Command {
-    Command::new(env!("CARGO_BIN_EXE_tauwise"))
-}
-
-fn stderr(o: &Output) -> String {
-    String::from_utf8_lossy(&o.stderr).into_owned()
-}
+use std::process::Output;
 
 const DAY: f64 = 86400.0;
 

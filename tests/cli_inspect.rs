@@ -7,12 +7,9 @@
 //! (analytic), so the mean frequency is y0 + D·(N − 1)τ0/2 and the least-
 //! squares drift is D.
 
+mod common;
+use common::tauwise as bin;
 use std::path::Path;
-use std::process::Command;
-
-fn bin() -> Command {
-    Command::new(env!("CARGO_BIN_EXE_tauwise"))
-}
 
 fn run_json(args: &[&str], file: &Path) -> serde_json::Value {
     let o = bin()

@@ -1,11 +1,8 @@
 //! End-to-end: `tauwise noise` on simulated records — the JSON contract of
 //! issue 3 and the fitted model against the simulated h_α.
 
-use std::process::Command;
-
-fn tauwise() -> Command {
-    Command::new(env!("CARGO_BIN_EXE_tauwise"))
-}
+mod common;
+use common::tauwise;
 
 #[test]
 fn json_contract_and_fitted_model() {

@@ -4,12 +4,9 @@
 //! is not blank. Inputs are made by `tauwise simulate` in a temporary
 //! directory and kept small so the file runs in seconds.
 
+mod common;
+use common::tauwise;
 use std::path::{Path, PathBuf};
-use std::process::Command;
-
-fn tauwise() -> Command {
-    Command::new(env!("CARGO_BIN_EXE_tauwise"))
-}
 
 fn run(args: &[&str]) {
     let o = tauwise().args(args).output().unwrap();

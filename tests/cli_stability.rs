@@ -1,21 +1,11 @@
 //! End-to-end: the `stability` binary on small files, its JSON and CSV
 //! contract (docs/design.md §5), and its errors.
 
-use std::path::Path;
-use std::process::Command;
-
-fn tauwise() -> Command {
-    Command::new(env!("CARGO_BIN_EXE_tauwise"))
-}
+mod common;
+use common::{tauwise, write};
 
 /// NIST SP 1065 nine-point set (docs/checks.md §A): fractional-frequency data.
 const NINE: [f64; 9] = [892., 809., 823., 798., 671., 644., 883., 903., 677.];
-
-fn write(dir: &Path, name: &str, text: &str) -> std::path::PathBuf {
-    let p = dir.join(name);
-    std::fs::write(&p, text).unwrap();
-    p
-}
 
 #[test]
 fn json_contract_and_nist_values() {

@@ -1,22 +1,10 @@
 //! End-to-end: the `wander` binary, its JSON contract (issue 5), exit
 //! statuses and bad-input errors.
 
+mod common;
+use common::{stderr, tauwise, write};
 use std::path::{Path, PathBuf};
-use std::process::{Command, Output};
-
-fn tauwise() -> Command {
-    Command::new(env!("CARGO_BIN_EXE_tauwise"))
-}
-
-fn write(dir: &Path, name: &str, text: &str) -> PathBuf {
-    let p = dir.join(name);
-    std::fs::write(&p, text).unwrap();
-    p
-}
-
-fn stderr(o: &Output) -> String {
-    String::from_utf8_lossy(&o.stderr).into_owned()
-}
+use std::process::Output;
 
 const Y0: f64 = 2e-8;
 const N: usize = 2001;

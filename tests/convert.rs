@@ -2,12 +2,9 @@
 //! on files whose answers are known from IEEE Std 1139 closed forms and the
 //! analytic jitter cases of docs/checks.md §E; JSON shapes of issue 4; bad input.
 
+mod common;
+use common::tauwise as bin;
 use std::path::Path;
-use std::process::Command;
-
-fn bin() -> Command {
-    Command::new(env!("CARGO_BIN_EXE_tauwise"))
-}
 
 fn ok_json(args: &[&str]) -> serde_json::Value {
     let o = bin()

@@ -13,8 +13,9 @@
 //! formulas and the text as written (analytic; unit definitions: 1 ns =
 //! 10⁻⁹ s, 1 ppb = 10⁻⁹; IEEE Std 1139 definition y = (ν − ν0)/ν0).
 
+mod common;
+use common::tauwise as bin;
 use std::path::{Path, PathBuf};
-use std::process::Command;
 use tauwise::io::lf_table::{read_lf_table, TableOptions};
 use tauwise::io::series::{read_series, Series, SeriesOptions, UnitSource};
 use tauwise::units::{FreqUnit, PhaseUnit, ValueUnit};
@@ -775,10 +776,6 @@ fn byte_order_marks_are_skipped_by_every_reader() {
 }
 
 // ------------------------------------------------------------ own outputs
-
-fn bin() -> Command {
-    Command::new(env!("CARGO_BIN_EXE_tauwise"))
-}
 
 fn run(args: &[&str]) -> std::process::Output {
     let o = bin().args(args).output().unwrap();

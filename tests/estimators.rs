@@ -3,6 +3,8 @@
 //! plainly in `tauwise::deviation::reference`), invariances the definitions
 //! imply, analytic MTIE results (docs/checks.md §F), and the τ grids.
 
+mod common;
+use common::rel;
 use rand::{Rng, SeedableRng};
 use rand_chacha::ChaCha8Rng;
 use tauwise::deviation::{compute, reference, Estimator};
@@ -35,14 +37,6 @@ fn with_gaps(mut x: Vec<f64>, seed: u64) -> Vec<f64> {
         *v = f64::NAN;
     }
     x
-}
-
-fn rel(a: f64, b: f64) -> f64 {
-    if a == b {
-        0.0
-    } else {
-        (a - b).abs() / a.abs().max(b.abs())
-    }
 }
 
 /// Compare the fast form with the direct form at several m, up to the

@@ -6,6 +6,8 @@
 //! random-walk FM: AVAR = q(2m²+1)/(6m) → the IEEE Std 1139 form
 //! (2π)²τh_−2/6 = q·m/3 for h_−2 = q/(2π²τ0)).
 
+mod common;
+use common::rel;
 use rand::{Rng, SeedableRng};
 use rand_chacha::ChaCha8Rng;
 use rand_distr::{Distribution, StandardNormal};
@@ -23,14 +25,6 @@ fn totdev_edf(alpha: i32, n: usize, m: usize) -> Option<f64> {
 /// tests/totals.rs).
 fn totvar_bias(alpha: i32, n: usize, m: usize) -> Option<f64> {
     tauwise::stats::totvar_bias(alpha, m, n)
-}
-
-fn rel(a: f64, b: f64) -> f64 {
-    if a == b {
-        0.0
-    } else {
-        (a - b).abs() / a.abs().max(b.abs())
-    }
 }
 
 /// White PM plus random-walk phase plus a frequency offset, 1 ns scale.

@@ -2,6 +2,8 @@
 //! against the numerical integral of S_y(f) with the transfer functions,
 //! NNLS against brute force, and the model fit on simulated records.
 
+mod common;
+use common::rel_to as rel;
 use nalgebra::{DMatrix, DVector};
 use rand::{Rng, SeedableRng};
 use rand_chacha::ChaCha8Rng;
@@ -16,10 +18,6 @@ fn unit(alpha: i32, fh: f64) -> PowerLaw {
     let mut m = PowerLaw::zero(fh);
     m.set(alpha, 1.0);
     m
-}
-
-fn rel(a: f64, b: f64) -> f64 {
-    (a - b).abs() / b.abs()
 }
 
 /// IEEE Std 1139-2008 table (docs/checks.md §C), each entry written out here:

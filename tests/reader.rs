@@ -6,9 +6,10 @@
 //! 1 ppm = 10⁻⁶, 1 ppb = 10⁻⁹; IEEE Std 1139 definition of fractional
 //! frequency y = (ν − ν0)/ν0).
 
+mod common;
+use common::tauwise as bin;
 use proptest::prelude::*;
 use std::path::{Path, PathBuf};
-use std::process::Command;
 use tauwise::io::series::{read_series, read_series_from, SeriesOptions};
 use tauwise::io::ReadError;
 use tauwise::units::{parse_value_unit, FreqUnit, PhaseUnit, ValueUnit};
@@ -557,10 +558,6 @@ fn reads_a_file_and_large_input_streams() {
 }
 
 // ---------------------------------------------------------------- command line
-
-fn bin() -> Command {
-    Command::new(env!("CARGO_BIN_EXE_tauwise"))
-}
 
 /// Run `tauwise inspect` on `file` with `args` and `-o out.json`; it must
 /// fail with exit code 1 (bad data), print the expected text, and write no

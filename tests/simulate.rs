@@ -2,10 +2,11 @@
 //! properties of the Kasdin & Walter filter, reproducibility, offset and
 //! drift, and the `tauwise simulate` command.
 
+mod common;
+use common::tauwise as bin;
 use rand::SeedableRng;
 use rand_chacha::ChaCha8Rng;
 use std::f64::consts::{LN_2, PI};
-use std::process::Command;
 use tauwise::model::PowerLaw;
 use tauwise::simulate::{
     kw_coefficients, power_law_phase, simulate_frequency, simulate_phase, white_sigma, SimSpec,
@@ -325,10 +326,6 @@ fn frequency_is_the_difference_of_phase() {
     for (a, b) in y.y.iter().zip(&d.y) {
         assert!((a - b).abs() < 1e-9 * scale, "{a} vs {b}");
     }
-}
-
-fn bin() -> Command {
-    Command::new(env!("CARGO_BIN_EXE_tauwise"))
 }
 
 /// The values of a `simulate` file: after the `#` comments and the header

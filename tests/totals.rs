@@ -3,15 +3,13 @@
 //! exact forms without tauwise's reductions, and seeded Monte Carlo against
 //! the IEEE Std 1139 variances.
 
+mod common;
+use common::rel_to as rel;
 use tauwise::deviation::{compute, Estimator};
 use tauwise::model::PowerLaw;
 use tauwise::simulate::{simulate_phase, SimSpec};
 use tauwise::stats::totals::{self, modified_total_edf_exact, totvar_edf_exact};
 use tauwise::stats::{annotate, StatsOptions, VarianceKind};
-
-fn rel(a: f64, b: f64) -> f64 {
-    (a - b).abs() / b.abs()
-}
 
 /// TOTVAR bias, NIST SP 1065 (docs/checks.md §D, from memory): E[TOTVAR]/AVAR =
 /// 1 − a·τ/T with a = 0.481 (FFM), 0.750 (RWFM), 0 (WFM). tauwise's exact

@@ -3,22 +3,10 @@
 //! nothing non-finite passes, exact singular slopes, bounded counts and
 //! checked outputs, and the small items. Each check names its source.
 
+mod common;
+use common::{stderr, tauwise, write};
 use std::path::{Path, PathBuf};
 use std::process::{Command, Output};
-
-fn tauwise() -> Command {
-    Command::new(env!("CARGO_BIN_EXE_tauwise"))
-}
-
-fn write(dir: &Path, name: &str, text: &str) -> PathBuf {
-    let p = dir.join(name);
-    std::fs::write(&p, text).unwrap();
-    p
-}
-
-fn stderr(o: &Output) -> String {
-    String::from_utf8_lossy(&o.stderr).into_owned()
-}
 
 fn json(o: &Output) -> serde_json::Value {
     serde_json::from_slice(&o.stdout).unwrap_or_else(|e| {
