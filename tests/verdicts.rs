@@ -413,7 +413,11 @@ fn interrupted_run_leaves_no_temporary_file() {
                 .any(|e| e.file_name().to_string_lossy().starts_with(".tauwise-"))
         };
         let mut caught = false;
-        for _ in 0..6000 {
+        // Under load the synthesis before the write can take long: watch
+        // until the run ends (or two minutes pass), not a fixed number of
+        // polls.
+        let deadline = std::time::Instant::now() + std::time::Duration::from_secs(120);
+        while std::time::Instant::now() < deadline {
             if child.try_wait().unwrap().is_some() {
                 break;
             }
