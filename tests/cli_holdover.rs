@@ -449,7 +449,8 @@ fn output_is_checked_before_computing() {
             .arg(&o)
             .output()
             .unwrap();
-        assert_eq!(out.status.code(), Some(1), "{}", stderr(&out));
+        // A bad command line: exit status 2 (issue 14).
+        assert_eq!(out.status.code(), Some(2), "{}", stderr(&out));
         assert!(
             stderr(&out).contains("is the input file"),
             "{}",

@@ -297,3 +297,53 @@ fn the_same_estimate_has_the_same_json_keys_in_every_command() {
     assert!(b.remove("from"));
     assert_eq!(b, point, "best");
 }
+
+/// `-o FILE` without `--format` writes what the file's extension says
+/// (.csv → CSV, .json → JSON); `--format` still decides when given. Before,
+/// `-o result.csv` wrote the text table into a file named CSV.
+#[test]
+fn output_extension_names_the_format() {
+    let (_t, d) = awkward_dir();
+    let rec = record(&d);
+    let r = rec.to_str().unwrap();
+    let csv_out = d.join("result.CSV");
+    run(&[
+        "stability",
+        r,
+        "--tau0",
+        "1s",
+        "-o",
+        csv_out.to_str().unwrap(),
+    ]);
+    let text = std::fs::read_to_string(&csv_out).unwrap();
+    let mut rd = csv::Reader::from_reader(text.as_bytes());
+    let header = rd.headers().unwrap().clone();
+    assert!(header.iter().any(|h| h == "dev"), "{text}");
+    assert!(rd.records().count() > 3, "{text}");
+    let json_out = d.join("result.json");
+    run(&[
+        "stability",
+        r,
+        "--tau0",
+        "1s",
+        "-o",
+        json_out.to_str().unwrap(),
+    ]);
+    let v: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(&json_out).unwrap()).unwrap();
+    assert!(v.get("schema").is_some());
+    let table_out = d.join("table.csv");
+    run(&[
+        "stability",
+        r,
+        "--tau0",
+        "1s",
+        "--format",
+        "table",
+        "-o",
+        table_out.to_str().unwrap(),
+    ]);
+    let text = std::fs::read_to_string(&table_out).unwrap();
+    assert!(serde_json::from_str::<serde_json::Value>(&text).is_err());
+    assert!(!text.starts_with("estimator,"), "{text}");
+}

@@ -491,7 +491,8 @@ fn report_gate_fails_on_not_judged() {
         .args(["report", "unit.toml", "-o", "rec.txt"])
         .output()
         .unwrap();
-    assert_eq!(out.status.code(), Some(1));
+    // A bad command line: exit status 2 (issue 14).
+    assert_eq!(out.status.code(), Some(2));
     assert!(
         stderr(&out).contains("is the input file"),
         "{}",

@@ -270,12 +270,35 @@ pub enum Format {
 /// Where and how to write a command's results.
 #[derive(Debug, Clone, Args)]
 pub struct OutputArgs {
-    /// Output format.
-    #[arg(long, value_enum, default_value_t = Format::Table, value_name = "FORMAT")]
-    pub format: Format,
+    /// Output format [default: from the extension of -o FILE (.csv, .json),
+    /// else table].
+    #[arg(long = "format", value_enum, value_name = "FORMAT")]
+    pub format_given: Option<Format>,
     /// Write the results to FILE (atomically) instead of standard output.
     #[arg(short = 'o', long = "output", value_name = "FILE")]
     pub output: Option<PathBuf>,
+}
+
+impl OutputArgs {
+    /// The output format: `--format` when given, else the one the extension
+    /// of `-o FILE` names (`.csv` → CSV, `.json` → JSON, any case), else a
+    /// table — so that `-o result.csv` does not write a table into a file
+    /// that says it holds CSV.
+    pub fn format(&self) -> Format {
+        if let Some(f) = self.format_given {
+            return f;
+        }
+        let ext = self
+            .output
+            .as_deref()
+            .and_then(|p| p.extension())
+            .map(|e| e.to_string_lossy().to_ascii_lowercase());
+        match ext.as_deref() {
+            Some("csv") => Format::Csv,
+            Some("json") => Format::Json,
+            _ => Format::Table,
+        }
+    }
 }
 
 /// Check every output path before any computing: an output that names an
@@ -291,11 +314,14 @@ pub fn check_output_paths(inputs: &[&Path], outputs: &[Option<&Path>]) -> Result
         }
         for inp in inputs.iter().filter(|p| p.as_os_str() != "-") {
             if same_file(inp, out) {
-                return Err(Error::invalid(format!(
-                    "output {} is the input file {}: refusing to overwrite a measurement (choose another output)",
-                    out.display(),
-                    inp.display()
-                )));
+                return Err(Error::option(
+                    "-o",
+                    format!(
+                        "output {} is the input file {}: refusing to overwrite a measurement (choose another output)",
+                        out.display(),
+                        inp.display()
+                    ),
+                ));
             }
         }
         check_output_dir(out)?;

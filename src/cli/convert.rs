@@ -306,7 +306,7 @@ fn to_sigma(args: &Args, src: Source, carrier: Option<f64>) -> Result<String> {
             .map(|(e, pts)| ConvertedCurve::new(*e, origin, pts))
             .collect(),
     };
-    Ok(match args.output.format {
+    Ok(match args.output.format() {
         Format::Json => json_doc(src.input, body)?,
         Format::Csv => body.csv()?,
         Format::Table => {
@@ -397,7 +397,7 @@ fn to_lf(args: &Args, src: Source, carrier: Option<f64>) -> Result<String> {
         carrier: Option<f64>,
         points: SpectrumRows,
     }
-    Ok(match args.output.format {
+    Ok(match args.output.format() {
         Format::Json => json_doc(
             src.input,
             LfBody {
@@ -462,7 +462,7 @@ fn to_model(args: &Args, src: Source, carrier: Option<f64>) -> Result<String> {
         residual_rms_db: rms_db,
         dominant: fit.dominant.clone(),
     };
-    Ok(match args.output.format {
+    Ok(match args.output.format() {
         Format::Json => json_doc(src.input, body)?,
         Format::Csv => body.csv()?,
         Format::Table => {

@@ -215,7 +215,7 @@ pub fn run(args: Args) -> Result<Outcome> {
         }
         tauwise::plot::render(&plot.chart(), path, tauwise::plot::DEFAULT_SIZE)?;
     }
-    let text = match args.output.format {
+    let text = match args.output.format() {
         Format::Json => json_doc(
             (&series).into(),
             HoldoverBody::new(

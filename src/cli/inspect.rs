@@ -38,7 +38,7 @@ pub fn run(args: Args) -> Result<Outcome> {
     let series = args.input.load_quietly(&args.file)?;
     let summary = summarize(&series.record, args.outlier_limit)?;
     let hints = suggestions(&series);
-    let text = match args.output.format {
+    let text = match args.output.format() {
         Format::Json => json_doc(
             (&series).into(),
             InspectBody::new(&series, &summary, &hints),

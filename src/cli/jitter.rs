@@ -288,7 +288,7 @@ pub fn run(args: Args) -> Result<Outcome> {
         };
         tauwise::plot::render(&plot.chart(), path, tauwise::plot::DEFAULT_SIZE)?;
     }
-    let text = match args.output.format {
+    let text = match args.output.format() {
         Format::Json | Format::Csv => {
             let body = JitterBody {
                 carrier,
@@ -306,7 +306,7 @@ pub fn run(args: Args) -> Result<Outcome> {
                 enbw_hz: record_spectrum.as_ref().map(|r| r.1),
                 gaps_handling: record_spectrum.map(|r| r.2),
             };
-            if args.output.format == Format::Json {
+            if args.output.format() == Format::Json {
                 json_doc(input, body)?
             } else {
                 body.csv()?

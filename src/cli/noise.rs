@@ -86,7 +86,7 @@ pub fn run(args: Args) -> Result<Outcome> {
         drift_per_day,
         model: ModelSummary::of(&model.fit),
     };
-    let text = match args.output.format {
+    let text = match args.output.format() {
         Format::Json => json_doc((&series).into(), &body)?,
         Format::Csv => body.csv()?,
         Format::Table => table(&series.info.path, &body.points, drift_per_day, &model),

@@ -131,7 +131,7 @@ pub fn run(args: Args) -> Result<Outcome> {
         };
         tauwise::plot::render(&plot.chart(), path, tauwise::plot::DEFAULT_SIZE)?;
     }
-    let text = match args.output.format {
+    let text = match args.output.format() {
         Format::Json => {
             let bins = if args.all_bins {
                 "all".to_string()

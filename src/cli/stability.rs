@@ -162,7 +162,7 @@ pub fn run(args: Args) -> Result<Outcome> {
             }
         }
     }
-    let text = match args.output.format {
+    let text = match args.output.format() {
         Format::Json | Format::Csv => {
             let mut list: Vec<AnyCurve> = curves.iter().cloned().map(AnyCurve::Plain).collect();
             if let Some(b) = &best_points {
@@ -173,7 +173,7 @@ pub fn run(args: Args) -> Result<Outcome> {
                 curves: list,
                 consistency: view.as_ref().map(|v| v.comparisons.clone()),
             };
-            if args.output.format == Format::Json {
+            if args.output.format() == Format::Json {
                 json_doc((&series).into(), body)?
             } else {
                 body.csv()?

@@ -98,7 +98,7 @@ pub fn run(args: Args) -> Result<Outcome> {
         let chart = tauwise::plot::wander::combined_chart(&plots, &notes);
         tauwise::plot::render(&chart, path, tauwise::plot::DEFAULT_SIZE)?;
     }
-    let text = match args.output.format {
+    let text = match args.output.format() {
         Format::Json => json_doc((&series).into(), WanderBody::new(res.clone()))?,
         Format::Csv => WanderBody::new(res.clone()).csv()?,
         Format::Table => to_table(&series, &res),
