@@ -2,7 +2,7 @@
 //! statuses and bad-input errors.
 
 mod common;
-use common::{stderr, tauwise};
+use common::{assert_error, stderr, tauwise};
 use rand::{Rng, SeedableRng};
 use rand_chacha::ChaCha8Rng;
 use rand_distr::StandardNormal;
@@ -163,22 +163,6 @@ fn fitted_model_from_a_noisy_record() {
     assert!((got_d / d - 1.0).abs() < 0.05, "{got_d} vs {d}");
 }
 
-/// A bad command line: exit status 2 (issue 14), the words in the message,
-/// nothing written.
-fn assert_error(out: &Output, words: &[&str], not_written: &Path) {
-    assert_eq!(out.status.code(), Some(2), "{}", stderr(out));
-    let e = stderr(out);
-    assert!(e.starts_with("tauwise: error: "), "{e}");
-    for w in words {
-        assert!(e.contains(w), "'{w}' missing from: {e}");
-    }
-    assert!(
-        !not_written.exists(),
-        "{} was written",
-        not_written.display()
-    );
-}
-
 /// A span or budget ≤ 0 is a clear error; nothing is written.
 #[test]
 fn bad_span_and_budget() {
@@ -199,7 +183,7 @@ fn bad_span_and_budget() {
             .arg(&o)
             .output()
             .unwrap();
-        assert_error(&out, &[word, "positive"], &o);
+        assert_error(&out, 2, &[word, "positive"], &o);
     }
 }
 
@@ -304,7 +288,7 @@ fn bare_numbers_are_refused_where_they_decide() {
             .arg(&o)
             .output()
             .unwrap();
-        assert_error(&out, &[word, "give a unit, e.g. 1.5us / 24h"], &o);
+        assert_error(&out, 2, &[word, "give a unit, e.g. 1.5us / 24h"], &o);
     }
     for (flag, value, example) in [
         ("--te0", "20", "give a unit"),
@@ -319,7 +303,7 @@ fn bare_numbers_are_refused_where_they_decide() {
             .arg(&o)
             .output()
             .unwrap();
-        assert_error(&out, &[flag, example], &o);
+        assert_error(&out, 2, &[flag, example], &o);
     }
 }
 

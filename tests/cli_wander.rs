@@ -2,7 +2,7 @@
 //! statuses and bad-input errors.
 
 mod common;
-use common::{stderr, tauwise, write};
+use common::{assert_error, stderr, tauwise, write};
 use std::path::{Path, PathBuf};
 use std::process::Output;
 
@@ -235,22 +235,6 @@ fn passing_record_exits_zero() {
         .all(|p| (p["dev"].as_f64().unwrap() - 1e-9).abs() < 1e-18));
     let td0 = doc["tdev"][0]["dev"].as_f64().unwrap();
     assert!((td0 - (4.0f64 / 6.0).sqrt() * 1e-9).abs() < 1e-15, "{td0}");
-}
-
-/// An error with exit status `code` (2: a bad command line, 1: bad data),
-/// the words in the message, nothing written.
-fn assert_error(out: &Output, code: i32, words: &[&str], not_written: &Path) {
-    assert_eq!(out.status.code(), Some(code), "{}", stderr(out));
-    let e = stderr(out);
-    assert!(e.starts_with("tauwise: error: "), "{e}");
-    for w in words {
-        assert!(e.contains(w), "'{w}' missing from: {e}");
-    }
-    assert!(
-        !not_written.exists(),
-        "{} was written",
-        not_written.display()
-    );
 }
 
 /// An unknown mask name is an error that lists the known ones; nothing is

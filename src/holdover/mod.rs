@@ -302,7 +302,6 @@ fn percentile(v: &mut [f64], p: f64) -> f64 {
 /// number of threads.
 pub fn predict(model: &HoldoverModel, settings: &Settings) -> Result<Prediction> {
     let (te, n, step) = simulate_te(model, settings)?;
-
     summarise(model, settings, &te, n, step)
 }
 
@@ -351,7 +350,7 @@ pub(crate) fn simulate_te(
 
 /// Percentiles, crossing and verdict of simulated time errors
 /// ([`simulate_te`]).
-fn summarise(
+pub(crate) fn summarise(
     model: &HoldoverModel,
     settings: &Settings,
     te: &[f64],

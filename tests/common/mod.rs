@@ -37,11 +37,11 @@ pub fn rel_to(a: f64, b: f64) -> f64 {
     (a - b).abs() / b.abs()
 }
 
-/// The command failed with exit code 1, its message starts with
-/// `tauwise: error: ` and holds every one of `words`, and `not_written`
-/// was not written.
-pub fn assert_error(out: &Output, words: &[&str], not_written: &Path) {
-    assert_eq!(out.status.code(), Some(1), "{}", stderr(out));
+/// The command failed with exit status `code` (2: a bad command line, 1:
+/// bad data), its message starts with `tauwise: error: ` and holds every
+/// one of `words`, and `not_written` was not written.
+pub fn assert_error(out: &Output, code: i32, words: &[&str], not_written: &Path) {
+    assert_eq!(out.status.code(), Some(code), "{}", stderr(out));
     let e = stderr(out);
     assert!(e.starts_with("tauwise: error: "), "{e}");
     for w in words {
