@@ -399,3 +399,61 @@ fn noise_alone_is_rarely_drift() {
         );
     }
 }
+
+/// The rule across τ must not lean red at long τ, where the decimated series
+/// is short (B1 fallback, fewer than 30 points): over 150 seeded records of
+/// N = 4096 for each of WPM, FPM, WFM and FFM, at m = 256, 512 and 1024
+/// (T/τ ≈ 16, 8, 4) at most 8 % of the labels are redder than the simulated
+/// type (seeded Monte Carlo; before the margin of `REDDER_MARGIN` every
+/// random red reading stuck and was passed on to every longer τ: 12–23 % at
+/// m = 512, which widened the intervals there).
+#[test]
+fn long_tau_labels_do_not_lean_red() {
+    use tauwise::stats::NoiseIdentifier;
+    for (alpha, seed) in [(2, 9100u64), (1, 9200), (0, 9300), (-1, 9400)] {
+        let red: Vec<[bool; 3]> = (0..150u64)
+            .into_par_iter()
+            .map(|s| {
+                let rec = record(alpha, 4096, seed + s);
+                let ids = NoiseIdentifier::new(&rec);
+                [256usize, 512, 1024].map(|m| ids.at(m).is_some_and(|i| i.alpha < alpha))
+            })
+            .collect();
+        for (k, m) in [256, 512, 1024].iter().enumerate() {
+            let n = red.iter().filter(|r| r[k]).count();
+            assert!(
+                n as f64 <= 0.08 * red.len() as f64,
+                "α={alpha} m={m}: {n}/{} labelled redder",
+                red.len()
+            );
+        }
+    }
+}
+
+/// The margin must not hide a real change of type: WFM (h0 = 1e-22) with
+/// random-walk FM crossing it at τ ≈ 16 s (h−2 = 3h0/(4π²·16²), IEEE Std
+/// 1139 σ² = h0/(2τ) and (2π²/3)h−2·τ: analytic). At m = 128 and 256 the
+/// random walk is 64 and 256 times the white FM in AVAR; over 100 seeded
+/// records of N = 4096 at least 90 % are labelled RWFM there, and at m = 2
+/// at least 90 % WFM.
+#[test]
+fn a_change_of_type_is_followed() {
+    use tauwise::stats::NoiseIdentifier;
+    let h0 = 1e-22;
+    let hm2 = 3.0 * h0 / (4.0 * std::f64::consts::PI.powi(2) * 256.0);
+    let mut model = PowerLaw::zero(0.5);
+    model.set(0, h0);
+    model.set(-2, hm2);
+    let labels: Vec<[Option<i32>; 3]> = (0..100u64)
+        .into_par_iter()
+        .map(|s| {
+            let rec = simulate_phase(&SimSpec::new(model, 1.0, 4096, 9500 + s)).unwrap();
+            let ids = NoiseIdentifier::new(&rec);
+            [2usize, 128, 256].map(|m| ids.at(m).map(|i| i.alpha))
+        })
+        .collect();
+    let count = |k: usize, a: i32| labels.iter().filter(|l| l[k] == Some(a)).count();
+    assert!(count(0, 0) >= 90, "m=2: {} WFM", count(0, 0));
+    assert!(count(1, -2) >= 90, "m=128: {} RWFM", count(1, -2));
+    assert!(count(2, -2) >= 90, "m=256: {} RWFM", count(2, -2));
+}

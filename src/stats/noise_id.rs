@@ -36,6 +36,22 @@
 //!    identified on its own and capped at (or, when too long, carried from)
 //!    the internal result at the largest octave point below it. So the rule
 //!    only ever looks at the record and m.
+//!
+//!    A cap alone leans red: at long τ the decimated series is short, any
+//!    random red reading is accepted while a white one is capped, and the
+//!    mistake is passed on to every longer τ (seeded records, N = 4096:
+//!    12–23 % of WPM … FFM records read redder than they are at T/τ = 8,
+//!    which widened their intervals). So a type *redder* than the one below
+//!    is taken only when it fits the statistics at τ better than the type
+//!    below by at least [`REDDER_MARGIN`] = 4 squared standard errors (two
+//!    standard errors of the deciding statistic); otherwise the type below
+//!    is kept ("held", [`IdMethod::Held`]). The scores are those the
+//!    identification itself uses: ((r1 − ρ_α)·√n)² for the lag-1 method,
+//!    the B1 fallback's combined score below, and for WPM against FPM
+//!    ((ln R̂ − ln R_α)/s)² with s = sqrt(8/terms) ([`pm_scores`]). A real
+//!    change of type is still followed: white FM with random-walk FM
+//!    crossing it at 16 τ0 reads RWFM at 8 and 16 times the crossing in
+//!    over 90 % of seeded records (`tests/noise_id.rs`).
 //! 3. **Drift.** A linear frequency drift D (per second) adds D²τ²/2 to the
 //!    Allan variance (σ_y = |D|·τ/√2, NIST SP 1065 §5.2) and nothing to the
 //!    Hadamard variance. With D the record's least-squares drift
@@ -160,6 +176,11 @@ pub const MAX_R_BLOCKS: usize = 1024;
 pub const MIN_R_FACTOR: usize = 4;
 /// Fewest frequency averages for the B1 ratio.
 pub const MIN_B1_POINTS: usize = 4;
+/// A type redder than the one settled on the internal octave grid below is
+/// taken only when it fits the statistics at τ better by at least this many
+/// squared standard errors (module notes, step 2); otherwise the type below
+/// is held.
+pub const REDDER_MARGIN: f64 = 4.0;
 /// Two-sided confidence of the intervals used by the drift test.
 pub const DRIFT_TEST_CONFIDENCE: f64 = 0.95;
 /// Most decimated points the drift test reads at one τ (a contiguous block
@@ -185,6 +206,10 @@ pub enum IdMethod {
     Carried,
     /// Given by the user (`--noise-type`), not identified.
     Given,
+    /// The series at this τ read redder than the type of the internal octave
+    /// grid below it, but by less than [`REDDER_MARGIN`]: the type below was
+    /// kept (module notes, step 2).
+    Held,
 }
 
 impl IdMethod {
@@ -195,6 +220,7 @@ impl IdMethod {
             IdMethod::B1 => "b1",
             IdMethod::Carried => "carried",
             IdMethod::Given => "given",
+            IdMethod::Held => "held",
         }
     }
 }
@@ -447,7 +473,7 @@ impl<'a> NoiseIdentifier<'a> {
             method: b.method,
             r1: b.r1,
         });
-        let (id, capped) = settle(self.raw.at(m), below_id)?;
+        let (id, capped) = settle(self.raw.evidence(m), below_id)?;
         let drift = self.drift_test(m, id.alpha);
         // Drift's share D²τ²/2 grows faster with τ than any power law's, so
         // once it dominates on the internal grid it dominates beyond.
@@ -581,18 +607,30 @@ impl<'a> NoiseIdentifier<'a> {
 }
 
 /// Step 2 at one τ: the type identified there (`own`), capped at the
-/// settled type below it (`below`), or that type carried when nothing could
-/// be identified; with a flag for a cap. `None` when there is neither.
-fn settle(own: Option<NoiseId>, below: Option<NoiseId>) -> Option<(NoiseId, bool)> {
+/// settled type below it (`below`) when whiter, kept at that type when
+/// redder by less than [`REDDER_MARGIN`] (`held`), or that type carried
+/// when nothing could be identified; with a flag for a cap. `None` when
+/// there is neither.
+fn settle(own: Option<Evidence>, below: Option<NoiseId>) -> Option<(NoiseId, bool)> {
     match (own, below) {
-        (Some(o), Some(b)) if o.alpha > b.alpha => Some((
+        (Some(o), Some(b)) if o.id.alpha > b.alpha => Some((
             NoiseId {
                 alpha: b.alpha,
-                ..o
+                ..o.id
             },
             true,
         )),
-        (Some(o), _) => Some((o, false)),
+        (Some(o), Some(b)) if o.id.alpha < b.alpha && o.margin_over(b.alpha) < REDDER_MARGIN => {
+            Some((
+                NoiseId {
+                    alpha: b.alpha,
+                    method: IdMethod::Held,
+                    r1: o.id.r1,
+                },
+                false,
+            ))
+        }
+        (Some(o), _) => Some((o.id, false)),
         (None, Some(b)) => Some((
             NoiseId {
                 alpha: b.alpha,
@@ -653,6 +691,39 @@ pub fn power_law_at(x: &[f64], tau0: f64, m: usize, kind: VarianceKind) -> Optio
     PowerLawIdentifier::new(x, tau0, kind).at(m)
 }
 
+/// What one identification rests on (module notes, step 2): for every
+/// candidate α of the family's range, its squared standardised distance
+/// from the measured statistics (lag-1: ((r1 − ρ_α)·√n)²; B1: the score
+/// of the short-series fallback), and the same for WPM and FPM from R̂(n).
+#[derive(Debug, Clone)]
+struct Evidence {
+    id: NoiseId,
+    /// (α, score) for each candidate.
+    score: Vec<(i32, f64)>,
+    /// Scores of WPM and FPM from R̂(n) ([`pm_scores`]), when measured.
+    pm: Option<[f64; 2]>,
+}
+
+impl Evidence {
+    fn score_of(&self, alpha: i32) -> f64 {
+        self.score
+            .iter()
+            .find(|s| s.0 == alpha)
+            .map_or(f64::INFINITY, |s| s.1)
+    }
+
+    /// How much better the type found here fits than `below` does, in
+    /// squared standard errors (positive: better). WPM against FPM is
+    /// judged by R̂(n) when it was measured.
+    fn margin_over(&self, below: i32) -> f64 {
+        let own = self.id.alpha;
+        if let (Some(p), true) = (self.pm, own >= 1 && below >= 1) {
+            return p[(2 - below) as usize] - p[(2 - own) as usize];
+        }
+        self.score_of(below) - self.score_of(own)
+    }
+}
+
 /// [`power_law_at`] at many τ of one record, with the window sums of R(n)
 /// shared between τ (built on first use, [`BlockSums`]). `Sync`.
 #[derive(Debug)]
@@ -677,6 +748,12 @@ impl<'a> PowerLawIdentifier<'a> {
 
     /// The power law at τ = m·τ0 (as [`power_law_at`]).
     pub fn at(&self, m: usize) -> Option<NoiseId> {
+        self.evidence(m).map(|e| e.id)
+    }
+
+    /// [`PowerLawIdentifier::at`] with the evidence behind it: how far each
+    /// candidate lies from what was measured (module notes, step 2).
+    fn evidence(&self, m: usize) -> Option<Evidence> {
         if !(self.tau0.is_finite() && self.tau0 > 0.0) || m == 0 {
             return None;
         }
@@ -783,38 +860,71 @@ fn clamp_alpha(alpha: i32, kind: VarianceKind) -> i32 {
     alpha.clamp(*range.start(), *range.end())
 }
 
-fn lag1_id(id: &PowerLawIdentifier, m: usize) -> Option<NoiseId> {
+fn lag1_id(id: &PowerLawIdentifier, m: usize) -> Option<Evidence> {
     let kind = id.kind;
     let z = decimate(id.x, m, MAX_LAG1_POINTS);
+    let n = z.iter().filter(|v| v.is_finite()).count();
     let (d, r1) = lag1_loop(z, kind.difference_order())?;
     let mut alpha = alpha_from_r1(r1, m, d, kind);
+    // r1 of n points scatters by about 1/√n about its expectation.
+    let s_r = 1.0 / (n.saturating_sub(d).max(1) as f64).sqrt();
+    let score = kind
+        .alpha_range()
+        .map(|a| {
+            let rho = edf::decimated_lag1(a, m, d).unwrap_or(1.0);
+            (a, ((r1 - rho) / s_r).powi(2))
+        })
+        .collect();
+    let pm = pm_scores(id, m);
     if alpha >= 1 {
-        if let Some(split) = pm_split(id, m) {
-            alpha = split;
+        if let Some(p) = pm {
+            alpha = pm_choice(p);
         }
     }
-    Some(NoiseId {
-        alpha,
-        method: IdMethod::Lag1,
-        r1: Some(r1),
+    Some(Evidence {
+        id: NoiseId {
+            alpha,
+            method: IdMethod::Lag1,
+            r1: Some(r1),
+        },
+        score,
+        pm,
     })
 }
 
-/// WPM (2) or FPM (1) from the measured R(n) = MVAR/AVAR at n = m, or `None`
-/// when m < [`MIN_R_FACTOR`] or the record has no usable term.
-fn pm_split(id: &PowerLawIdentifier, m: usize) -> Option<i32> {
+/// WPM (2) or FPM (1), whichever of the [`pm_scores`] is smaller.
+fn pm_choice(p: [f64; 2]) -> i32 {
+    if p[0] <= p[1] {
+        2
+    } else {
+        1
+    }
+}
+
+/// The squared standardised distances of the measured ln R̂(n) (R = MVAR/AVAR
+/// at n = m) from ln R(n) of WPM and of FPM ([`bias::r_ratio`]), or `None`
+/// when m < [`MIN_R_FACTOR`] or the record has no usable term. The smaller
+/// one decides between the two (their boundary is the geometric mean of the
+/// two R(n)). The spread of ln R̂ over `count` terms is taken as
+/// sqrt(8/count) (our approximation: numerator and denominator each a sum
+/// of `count` second differences at stride m, whose squares carry about
+/// count/2 degrees of freedom — white PM: Σρ² = 1 + 2(4/9 + 1/36) ≈ 1.94 —
+/// and nearly independent).
+fn pm_scores(id: &PowerLawIdentifier, m: usize) -> Option<[f64; 2]> {
     if m < MIN_R_FACTOR {
         return None;
     }
-    let r = measured_r(id, m)?;
-    let boundary = (bias::r_ratio(2, m)? * bias::r_ratio(1, m)?).sqrt();
-    Some(if r < boundary { 2 } else { 1 })
+    let (r, count) = measured_r(id, m)?;
+    let s = (8.0 / count as f64).sqrt();
+    let z = |a: i32| bias::r_ratio(a, m).map(|ra| ((r.ln() - ra.ln()) / s).powi(2));
+    Some([z(2)?, z(1)?])
 }
 
 /// R̂(m) = [mean (S₃ − 2S₂ + S₁)²/m²] / [mean (x_{j+2m} − 2x_{j+m} + x_j)²]
 /// over start points j = 0, m, 2m, …, S_k the sums of x over the k-th block
-/// of m samples from j; at most [`MAX_R_BLOCKS`] blocks.
-fn measured_r(id: &PowerLawIdentifier, m: usize) -> Option<f64> {
+/// of m samples from j; at most [`MAX_R_BLOCKS`] blocks. With the number of
+/// terms.
+fn measured_r(id: &PowerLawIdentifier, m: usize) -> Option<(f64, usize)> {
     let x = id.x;
     let blocks = (x.len() / m).min(MAX_R_BLOCKS);
     if blocks < 3 {
@@ -835,10 +945,10 @@ fn measured_r(id: &PowerLawIdentifier, m: usize) -> Option<f64> {
             count += 1;
         }
     }
-    (count > 0 && den > 0.0).then(|| num / den)
+    (count > 0 && den > 0.0 && num > 0.0).then(|| (num / den, count))
 }
 
-fn b1_id(id: &PowerLawIdentifier, m: usize) -> Option<NoiseId> {
+fn b1_id(id: &PowerLawIdentifier, m: usize) -> Option<Evidence> {
     let kind = id.kind;
     let dec = decimate(id.x, m, usize::MAX);
     let y: Vec<f64> = dec.windows(2).map(|w| w[1] - w[0]).collect();
@@ -868,6 +978,7 @@ fn b1_id(id: &PowerLawIdentifier, m: usize) -> Option<NoiseId> {
     let s_b = (5.0 / (n - 1) as f64).sqrt();
     let s_r = 1.0 / (n_dec as f64).sqrt();
     let mut best: Option<(f64, i32)> = None;
+    let mut scores = Vec::new();
     for alpha in kind.alpha_range() {
         let mu = bias::mu_of_alpha(alpha);
         let mut score = ((observed - bias::b1(n, mu).ln()) / s_b).powi(2);
@@ -877,20 +988,26 @@ fn b1_id(id: &PowerLawIdentifier, m: usize) -> Option<NoiseId> {
             let rho = edf::decimated_lag1(alpha, m, d).unwrap_or(1.0);
             score += ((r1 - rho) / s_r).powi(2);
         }
+        scores.push((alpha, score));
         if best.is_none() || best.is_some_and(|(bs, _)| score < bs) {
             best = Some((score, alpha));
         }
     }
     let (_, mut alpha) = best?;
+    let pm = pm_scores(id, m);
     if alpha >= 1 {
-        if let Some(a) = pm_split(id, m) {
-            alpha = a;
+        if let Some(p) = pm {
+            alpha = pm_choice(p);
         }
     }
-    Some(NoiseId {
-        alpha,
-        method: IdMethod::B1,
-        r1: lag.map(|l| l.1),
+    Some(Evidence {
+        id: NoiseId {
+            alpha,
+            method: IdMethod::B1,
+            r1: lag.map(|l| l.1),
+        },
+        score: scores,
+        pm,
     })
 }
 
@@ -917,11 +1034,11 @@ mod tests {
     fn measured_r_of_drift_is_one() {
         let x: Vec<f64> = (0..400).map(|i| (i as f64).powi(2)).collect();
         let id = PowerLawIdentifier::new(&x, 1.0, VarianceKind::Allan);
-        assert!((measured_r(&id, 8).unwrap() - 1.0).abs() < 1e-12);
+        assert!((measured_r(&id, 8).unwrap().0 - 1.0).abs() < 1e-12);
         // Windows beyond the direct length go through the block table.
         let long: Vec<f64> = (0..40_000).map(|i| (i as f64 * 1e-3).powi(2)).collect();
         let id = PowerLawIdentifier::new(&long, 1.0, VarianceKind::Allan);
-        assert!((measured_r(&id, 1000).unwrap() - 1.0).abs() < 1e-9);
+        assert!((measured_r(&id, 1000).unwrap().0 - 1.0).abs() < 1e-9);
         let ramp: Vec<f64> = (0..400).map(|i| i as f64).collect();
         let id = PowerLawIdentifier::new(&ramp, 1.0, VarianceKind::Allan);
         assert_eq!(measured_r(&id, 8), None);
