@@ -603,7 +603,7 @@ fn monte_carlo_spread_matches_edf() {
 ///   dominant weight among many small ones, as the end samples of TOTDEV on
 ///   white PM): coverage never below nominal by more than 0.01 at 68.3 % and
 ///   95 % — the interval errs on the wide side — and with one dominant weight
-///   the 68.3 % interval covers more than 0.78.
+///   the 68.3 % interval covers more than 0.73 (nominal + 0.047).
 #[test]
 fn chi2_interval_errs_wide_for_unequal_weights() {
     use rand::{Rng, SeedableRng};
@@ -650,7 +650,7 @@ fn chi2_interval_errs_wide_for_unequal_weights() {
             );
         }
         if name == "one dominant" {
-            assert!(c68 > 0.78, "{name}: ν = {nu:.1}: {c68:.3}");
+            assert!(c68 > 0.73, "{name}: ν = {nu:.1}: {c68:.3}");
         }
     }
 }
