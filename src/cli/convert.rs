@@ -4,7 +4,6 @@
 use super::common::{emit, json_doc, Format, OutputArgs, PlotArgs, TauArgs};
 use super::Outcome;
 use clap::{Args as ClapArgs, ValueEnum};
-use std::fmt::Write as _;
 use std::path::PathBuf;
 use tauwise::deviation::{Estimator, Origin};
 use tauwise::io::lf_table::{read_lf_table, TableOptions, TableQuantity};
@@ -17,7 +16,7 @@ use tauwise::results::{
 };
 use tauwise::spectrum::sigma::{grid_taus, model_spectrum, sigma_curve, spectral, SigmaOptions};
 use tauwise::spectrum::{Quantity, Spectrum};
-use tauwise::units::{format_si, format_sig};
+use tauwise::units::format_si;
 use tauwise::{Error, Result};
 
 /// What to convert to.
@@ -309,45 +308,7 @@ fn to_sigma(args: &Args, src: Source, carrier: Option<f64>) -> Result<String> {
     Ok(match args.output.format() {
         Format::Json => json_doc(src.input, body)?,
         Format::Csv => body.csv()?,
-        Format::Table => {
-            let mut out = String::new();
-            let _ = writeln!(out, "σ(τ) from {}", src.label);
-            let _ = writeln!(
-                out,
-                "  f_h {}, τ0 {} (MDEV/TDEV)",
-                format_si(src.f_h, "Hz", 4),
-                format_si(tau0, "s", 4)
-            );
-            for (est, pts) in &curves {
-                let _ = writeln!(out);
-                let _ = writeln!(out, "{}", est.name());
-                let _ = writeln!(
-                    out,
-                    "{:>12}  {:>12}  {:>13}",
-                    "τ", "deviation", "below table"
-                );
-                for p in pts {
-                    let dev = if est.is_time_deviation() {
-                        format_si(p.dev, "s", 4)
-                    } else {
-                        format_sig(p.dev, 4)
-                    };
-                    let note = if p.truncated {
-                        "  (lower bound: table's low end too steep)"
-                    } else {
-                        ""
-                    };
-                    let _ = writeln!(
-                        out,
-                        "{:>12}  {:>12}  {:>12.1} %{note}",
-                        format_si(p.tau, "s", 4),
-                        dev,
-                        100.0 * p.below_table
-                    );
-                }
-            }
-            out
-        }
+        Format::Table => body.table(&src.label).render(),
     })
 }
 
@@ -424,9 +385,11 @@ fn to_model(args: &Args, src: Source, carrier: Option<f64>) -> Result<String> {
     let v: Vec<f64> = keep.iter().map(|&i| sy.values[i]).collect();
     let fit = fit_sy(&f, &v, None, src.f_h)?;
     let m = fit.model;
-    let rms_db = (fit.residual_db.iter().map(|r| r * r).sum::<f64>()
-        / fit.residual_db.len().max(1) as f64)
-        .sqrt();
+    let rms_db = if fit.residual_db.is_empty() {
+        0.0
+    } else {
+        tauwise::results::rms(&fit.residual_db)
+    };
     if let Some(path) = &args.plot.plot {
         let (lo, hi) = (f.first().copied(), f.last().copied());
         let mut traces = vec![LfTrace::from_spectrum(
@@ -465,28 +428,6 @@ fn to_model(args: &Args, src: Source, carrier: Option<f64>) -> Result<String> {
     Ok(match args.output.format() {
         Format::Json => json_doc(src.input, body)?,
         Format::Csv => body.csv()?,
-        Format::Table => {
-            let mut out = format!("Power-law model fitted to {}\n", src.label);
-            let _ = writeln!(
-                out,
-                "  f_h {}, residual {:.2} dB rms",
-                format_si(src.f_h, "Hz", 4),
-                rms_db
-            );
-            for a in (-2..=2).rev() {
-                let _ = writeln!(
-                    out,
-                    "  h{a:<3} {:>5}  {}",
-                    tauwise::model::noise_label(a).unwrap_or(""),
-                    if m.get(a) > 0.0 {
-                        format_sig(m.get(a), 4)
-                    } else {
-                        "-".into()
-                    }
-                );
-            }
-            let _ = writeln!(out, "  model: {}", m.to_model_string());
-            out
-        }
+        Format::Table => body.table(&src.label).render(),
     })
 }

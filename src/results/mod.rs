@@ -14,6 +14,7 @@ use crate::error::{Error, Result};
 use serde::Serialize;
 
 pub mod json;
+pub mod table;
 
 mod convert;
 mod holdover;
