@@ -8,9 +8,10 @@ use std::path::PathBuf;
 use tauwise::holdover::aging::AgingModel;
 use tauwise::holdover::observed::observe;
 use tauwise::holdover::{caution, model_from_record, predict, FromRecord, Settings};
-use tauwise::parse::{Duration, Fraction, Model, Rate};
+use tauwise::parse::{
+    non_negative_fraction, temp_coeff, temp_swing, Duration, Fraction, Model, Rate,
+};
 use tauwise::results::HoldoverBody;
-use tauwise::units::UnitError;
 use tauwise::{Error, Result};
 
 /// The aging law to fit (`--aging-model`).
@@ -98,50 +99,6 @@ pub struct Args {
     pub plot: PlotArgs,
     #[command(flatten)]
     pub output: OutputArgs,
-}
-
-/// `--temp-coeff`: a temperature coefficient of frequency per kelvin
-/// (`1e-11/K`); the kelvin is required, like every number that decides.
-fn temp_coeff(text: &str) -> std::result::Result<f64, UnitError> {
-    kelvin(text, "/K", "a number per kelvin (e.g. 1e-11/K)")
-}
-
-/// `--temp-swing`: a temperature swing in kelvin (`5K`).
-fn temp_swing(text: &str) -> std::result::Result<f64, UnitError> {
-    kelvin(text, "K", "a number of kelvin (e.g. 5K)")
-}
-
-fn kelvin(text: &str, unit: &str, expected: &'static str) -> std::result::Result<f64, UnitError> {
-    let t = text.trim();
-    let Some(num) = t.strip_suffix(unit) else {
-        return Err(UnitError::Invalid {
-            text: t.to_string(),
-            reason: format!("'{t}' has no unit: give a unit, e.g. {expected}"),
-        });
-    };
-    num.trim()
-        .parse::<f64>()
-        .ok()
-        .filter(|v| v.is_finite())
-        .ok_or_else(|| UnitError::Bad {
-            text: t.to_string(),
-            what: "temperature value",
-            expected,
-        })
-}
-
-/// `--y0-sigma`: a standard uncertainty, ≥ 0.
-fn non_negative_fraction(text: &str) -> std::result::Result<Fraction, UnitError> {
-    let f: Fraction = text.parse()?;
-    if f.value() >= 0.0 {
-        Ok(f)
-    } else {
-        Err(UnitError::OutOfRange {
-            text: text.trim().to_string(),
-            what: "a standard uncertainty",
-            range: "≥ 0",
-        })
-    }
 }
 
 /// Run `holdover`.

@@ -11,7 +11,7 @@ use tauwise::io::record_file::{write_record_file, RecordFile, Start};
 use tauwise::model::PowerLaw;
 use tauwise::parse::{Duration, Fraction, Frequency, Model, Rate};
 use tauwise::simulate::{simulate_frequency, simulate_phase, SimSpec};
-use tauwise::units::{parse_value_unit, FreqUnit, PhaseUnit, UnitError, ValueUnit};
+use tauwise::units::{parse_value_unit, FreqUnit, PhaseUnit, ValueUnit};
 use tauwise::{Error, Record};
 
 /// Which quantity to write.
@@ -38,7 +38,7 @@ pub struct SimulateArgs {
     #[arg(long, value_name = "DUR", default_value = "1s", allow_hyphen_values = true, value_parser = Duration::positive)]
     pub tau0: Duration,
     /// Number of samples (100000, 1e6, …).
-    #[arg(long, value_name = "N", value_parser = parse_points)]
+    #[arg(long, value_name = "N", value_parser = tauwise::parse::points)]
     pub points: usize,
     /// Seed of the random generator (the same seed gives the same record).
     #[arg(long, value_name = "N", default_value_t = 1)]
@@ -62,25 +62,6 @@ pub struct SimulateArgs {
     /// Output file (written atomically); standard output when absent.
     #[arg(short = 'o', long, value_name = "FILE")]
     pub output: Option<PathBuf>,
-}
-
-/// `--points`: a positive whole number, also in exponent form (`1e6`).
-fn parse_points(text: &str) -> Result<usize, UnitError> {
-    let t = text.trim();
-    let bad = || UnitError::Bad {
-        text: t.to_string(),
-        what: "number of points",
-        expected: "a positive whole number (e.g. 100000 or 1e6)",
-    };
-    if let Ok(n) = t.parse::<usize>() {
-        return if n > 0 { Ok(n) } else { Err(bad()) };
-    }
-    let v: f64 = t.parse().map_err(|_| bad())?;
-    if v.is_finite() && v >= 1.0 && v.fract() == 0.0 && v <= 1e18 {
-        Ok(v as usize)
-    } else {
-        Err(bad())
-    }
 }
 
 /// The model with every digit, as `--model` accepts it.
@@ -235,16 +216,4 @@ pub fn run(args: SimulateArgs) -> Result<Outcome, Error> {
         }
     }
     Ok(Outcome::Done)
-}
-
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    #[test]
-    fn points() {
-        assert_eq!(parse_points("1e6").unwrap(), 1_000_000);
-        assert!(parse_points("0").is_err());
-        assert!(parse_points("2.5").is_err());
-    }
 }

@@ -5,7 +5,7 @@ use super::common::{emit, json_doc, Format, InputArgs, OutputArgs, PlotArgs};
 use super::Outcome;
 use clap::Args as ClapArgs;
 use std::path::PathBuf;
-use tauwise::parse::Duration;
+use tauwise::parse::parse_tau_range;
 use tauwise::results::{RecordInput, WanderBody};
 use tauwise::tau::TauGrid;
 use tauwise::units::UnitError;
@@ -118,26 +118,4 @@ fn mask_name(text: &str) -> std::result::Result<String, UnitError> {
             text: text.to_string(),
             reason: e.to_string(),
         })
-}
-
-/// `FROM:TO`, two durations with their units (`1s:3h`).
-pub fn parse_tau_range(text: &str) -> std::result::Result<(f64, f64), UnitError> {
-    let t = text.trim();
-    let (a, b) = t.split_once(':').ok_or_else(|| UnitError::Bad {
-        text: t.to_string(),
-        what: "τ range",
-        expected: "FROM:TO with units, e.g. 1s:3h",
-    })?;
-    let (a, b) = (
-        Duration::positive_with_unit(a)?.seconds(),
-        Duration::positive_with_unit(b)?.seconds(),
-    );
-    if b < a {
-        return Err(UnitError::OutOfRange {
-            text: t.to_string(),
-            what: "a τ range FROM:TO",
-            range: "0 < FROM ≤ TO (e.g. 1s:3h)",
-        });
-    }
-    Ok((a, b))
 }
