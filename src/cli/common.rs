@@ -261,8 +261,6 @@ pub fn json_doc<B: serde::Serialize>(input: Input, body: B) -> Result<String> {
     Ok(text)
 }
 
-pub use tauwise::results::plain;
-
 /// Progress on standard error for commands that can run for seconds on big
 /// records: a spinner with the current stage, shown only when stderr is a
 /// terminal (nothing at all in pipes, files and CI), cleared at the end.

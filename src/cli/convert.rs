@@ -93,22 +93,12 @@ pub struct Args {
     pub output: OutputArgs,
 }
 
-/// A frequency option in hertz (parsed and checked by clap).
-fn freq(opt: &Option<Frequency>, _what: &str) -> Result<Option<f64>> {
-    Ok(opt.map(Frequency::hertz))
-}
-
 /// The help of `--dev`: the registry's estimators with a transfer function.
 fn dev_help() -> String {
     format!(
         "Estimators for --to sigma, comma-separated ({})",
         Estimator::names(&Estimator::convertible())
     )
-}
-
-/// A duration option in seconds (parsed and checked by clap).
-fn duration(opt: &Option<Duration>, _what: &str) -> Result<Option<f64>> {
-    Ok(opt.map(Duration::seconds))
 }
 
 /// The source of a conversion: a table or a model, as a spectrum.
@@ -122,12 +112,12 @@ struct Source {
 }
 
 fn source(args: &Args, carrier: Option<f64>, tau_hint: Option<f64>) -> Result<Source> {
-    let fh_opt = freq(&args.fh, "fh")?;
+    let fh_opt = args.fh.map(Frequency::hertz);
     if let Some(path) = &args.lf {
         let t = read_lf_table(
             path,
             &TableOptions {
-                quantity: super::jitter::quantity_option(&args.quantity)?,
+                quantity: args.quantity,
                 carrier,
                 ..Default::default()
             },
@@ -173,7 +163,9 @@ fn source(args: &Args, carrier: Option<f64>, tau_hint: Option<f64>) -> Result<So
             )),
         };
     let model = PowerLaw { f_h, ..parsed };
-    let max_tau = duration(&args.max_tau, "max-tau")?
+    let max_tau = args
+        .max_tau
+        .map(Duration::seconds)
         .or(tau_hint)
         .unwrap_or(1e5);
     let spectrum = model_spectrum(&model, carrier, max_tau)?;
@@ -212,9 +204,8 @@ pub fn run(args: Args) -> Result<Outcome> {
         &inputs,
         &[args.output.output.as_deref(), args.plot.plot.as_deref()],
     )?;
-    let carrier = freq(&args.carrier, "carrier")?;
-    let needs_carrier = args.lf.is_some()
-        && super::jitter::quantity_option(&args.quantity)?.is_some_and(|q| q != TableQuantity::Sy)
+    let carrier = args.carrier.map(Frequency::hertz);
+    let needs_carrier = args.lf.is_some() && args.quantity.is_some_and(|q| q != TableQuantity::Sy)
         || args.to == Target::Lf;
     if needs_carrier && carrier.is_none() {
         return Err(Error::option(
@@ -228,7 +219,7 @@ pub fn run(args: Args) -> Result<Outcome> {
             "the chart of --to model shows L(f), which needs the carrier frequency: give --carrier (e.g. --carrier 10MHz)",
         ));
     }
-    let src = source(&args, carrier, duration(&args.max_tau, "max-tau")?)?;
+    let src = source(&args, carrier, args.max_tau.map(Duration::seconds))?;
     let text = match args.to {
         Target::Sigma => to_sigma(&args, src, carrier)?,
         Target::Lf => to_lf(&args, src, carrier)?,
@@ -243,8 +234,8 @@ fn to_sigma(args: &Args, src: Source, carrier: Option<f64>) -> Result<String> {
     for e in &estimators {
         spectral(*e)?;
     }
-    let tau0 = duration(&args.tau0, "tau0")?.unwrap_or(0.5 / src.f_h);
-    let max_tau = duration(&args.max_tau, "max-tau")?.unwrap_or(src.max_tau);
+    let tau0 = args.tau0.map(Duration::seconds).unwrap_or(0.5 / src.f_h);
+    let max_tau = args.max_tau.map(Duration::seconds).unwrap_or(src.max_tau);
     let taus = grid_taus(&args.taus.taus, tau0, max_tau)?;
     let opt = SigmaOptions { tau0, f_h: src.f_h };
     let origin = if args.lf.is_some() {
@@ -314,7 +305,7 @@ fn to_sigma(args: &Args, src: Source, carrier: Option<f64>) -> Result<String> {
 
 fn to_lf(args: &Args, src: Source, carrier: Option<f64>) -> Result<String> {
     let from = args.from.hertz();
-    let to = freq(&args.to_offset, "to-offset")?.unwrap_or(src.f_h);
+    let to = args.to_offset.map(Frequency::hertz).unwrap_or(src.f_h);
     let model = match (&args.model, &args.sigma) {
         (Some(m), _) => Some(PowerLaw {
             f_h: src.f_h,

@@ -3,7 +3,6 @@
 //! ([`tauwise::spectrum::jitter`]).
 
 use super::common::{emit, json_doc, Format, InputArgs, OutputArgs, PlotArgs};
-use super::spectrum::welch_options;
 use super::Outcome;
 use clap::Args as ClapArgs;
 use std::path::{Path, PathBuf};
@@ -16,7 +15,7 @@ use tauwise::results::{Input, JitterBand, JitterBody, TableInput, SPUR_CONVENTIO
 use tauwise::spectrum::jitter::{
     integrate_band, Band, BandJitter, JitterLimit, JitterSetup, Weighting,
 };
-use tauwise::spectrum::welch::{welch_record, Window};
+use tauwise::spectrum::welch::{welch_record, WelchOptions, Window};
 use tauwise::spectrum::Spectrum;
 use tauwise::verdict::{gate, Judgement};
 use tauwise::{Error, Result, DECISION_CAUTION};
@@ -99,11 +98,6 @@ fn band_arg(text: &str) -> std::result::Result<(String, Band), tauwise::units::U
     Ok((text.to_string(), Band::parse(text)?))
 }
 
-/// The `--quantity` option (`None` when not given).
-pub fn quantity_option(q: &Option<TableQuantity>) -> Result<Option<TableQuantity>> {
-    Ok(*q)
-}
-
 /// Print a table's reading notes on standard error.
 pub fn report_table(t: &LfTable) {
     for n in &t.notes {
@@ -146,7 +140,7 @@ pub fn run(args: Args) -> Result<Outcome> {
         &inputs,
         &[args.output.output.as_deref(), args.plot.plot.as_deref()],
     )?;
-    let carrier = super::spectrum::carrier_of(&args.input)?.ok_or_else(|| {
+    let carrier = args.input.carrier.map(Frequency::hertz).ok_or_else(|| {
         Error::option(
             "--carrier",
             "jitter needs the carrier frequency: give --carrier (e.g. --carrier 10MHz)",
@@ -184,8 +178,7 @@ pub fn run(args: Args) -> Result<Outcome> {
     let mut record_spectrum: Option<(&'static str, f64, String)> = None;
     let (input, spectrum, source): (Input, Spectrum, String) = match (&args.table, &args.record) {
         (Some(path), _) => {
-            let q = quantity_option(&args.quantity)?;
-            let t = load_table(path, q, &args.input, Some(carrier))?;
+            let t = load_table(path, args.quantity, &args.input, Some(carrier))?;
             if args.plot.plot.is_some() {
                 plot_trace = Some((t.spectrum.clone(), TraceKind::Table));
             }
@@ -210,7 +203,11 @@ pub fn run(args: Args) -> Result<Outcome> {
             let series = args.input.load(path)?;
             let w = welch_record(
                 &series.record,
-                &welch_options(args.window, args.segment, 0.5)?,
+                &WelchOptions {
+                    window: args.window,
+                    segment: args.segment,
+                    overlap: 0.5,
+                },
             )?;
             for warning in &w.warnings {
                 eprintln!("tauwise: warning: {warning}");

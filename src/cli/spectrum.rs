@@ -50,20 +50,6 @@ pub struct Args {
     pub output: OutputArgs,
 }
 
-/// The carrier given with `--carrier`, parsed.
-pub fn carrier_of(input: &InputArgs) -> Result<Option<f64>> {
-    Ok(input.options()?.carrier)
-}
-
-/// Welch options from the command-line words.
-pub fn welch_options(window: Window, segment: Option<usize>, overlap: f64) -> Result<WelchOptions> {
-    Ok(WelchOptions {
-        window,
-        segment,
-        overlap,
-    })
-}
-
 /// Run `spectrum`.
 pub fn run(args: Args) -> Result<Outcome> {
     super::common::check_output_paths(
@@ -71,7 +57,7 @@ pub fn run(args: Args) -> Result<Outcome> {
         &[args.output.output.as_deref(), args.plot.plot.as_deref()],
     )?;
     let quantity = args.quantity;
-    let carrier = carrier_of(&args.input)?;
+    let carrier = args.input.carrier.map(tauwise::parse::Frequency::hertz);
     if carrier.is_none() && matches!(quantity, Quantity::Lf | Quantity::Sphi) {
         return Err(Error::option(
             format!("--quantity {}", quantity.name()),
@@ -90,7 +76,11 @@ pub fn run(args: Args) -> Result<Outcome> {
     progress.stage("computing");
     let w = welch_record(
         &series.record,
-        &welch_options(args.window, args.segment, args.overlap)?,
+        &WelchOptions {
+            window: args.window,
+            segment: args.segment,
+            overlap: args.overlap,
+        },
     )?;
     for warning in &w.warnings {
         eprintln!("tauwise: warning: {warning}");
