@@ -451,7 +451,8 @@ fn output_is_checked_before_computing() {
         .arg(&missing)
         .output()
         .unwrap();
-    assert_eq!(out.status.code(), Some(1), "{}", stderr(&out));
+    // A missing output directory is a bad command line (issue 14).
+    assert_eq!(out.status.code(), Some(2), "{}", stderr(&out));
     assert!(
         stderr(&out).contains("checked before computing"),
         "{}",

@@ -397,7 +397,22 @@ fn exit_codes_of_bad_command_lines_and_bad_files() {
     let bad_dut = bad_dut.to_str().unwrap();
     let missing = place.path("missing.txt");
     let missing = missing.to_str().unwrap();
+    // An output whose directory is missing, or is a file: a bad command
+    // line too (issue 14), named in the message.
+    let no_dir = place.path("no/such/dir/out.csv");
+    let no_dir = no_dir.to_str().unwrap();
+    let under_file = place.path("flat.txt/chart.svg");
+    let under_file = under_file.to_str().unwrap();
     let cases: &[(&[&str], i32)] = &[
+        (&["stability", flat, "--tau0", "1s", "-o", no_dir], 2),
+        (&["noise", flat, "--tau0", "1s", "--plot", under_file], 2),
+        (
+            &[
+                "simulate", "--model", "h0=1e-22", "--points", "10", "-o", no_dir,
+            ],
+            2,
+        ),
+        (&["prepare", flat, "--tau0", "1s", "-o", under_file], 2),
         (&["stability", flat, "--dev", "nonsense"], 2),
         (&["stability", flat, "--remove-drift", "nonsense"], 2),
         (&["stability", flat, "--taus", "weekly"], 2),
@@ -482,6 +497,16 @@ fn exit_codes_of_bad_command_lines_and_bad_files() {
             "tauwise {}: no message",
             args.join(" ")
         );
+        for path in [no_dir, under_file] {
+            if args.contains(&path) {
+                assert!(
+                    stderr(&o).contains(path),
+                    "tauwise {}: the message does not name {path}: {}",
+                    args.join(" "),
+                    stderr(&o)
+                );
+            }
+        }
     }
 }
 

@@ -5,11 +5,14 @@ use clap::{Args, ValueEnum};
 use std::io::Write;
 use std::path::{Path, PathBuf};
 use tauwise::io::series::{read_series, Series, SeriesOptions};
-use tauwise::parse::{Duration, Frequency, Probability};
+use tauwise::parse::{
+    comment_chars, snap_fraction, time_column, Duration, Frequency, Probability, TimeColumn,
+};
+pub use tauwise::parse::{count, mad_limit, overlap_fraction};
 use tauwise::results::{Document, Input};
 use tauwise::tau::TauGrid;
-use tauwise::units::{UnitError, ValueUnit};
-use tauwise::{DataKind, Error, Result};
+use tauwise::units::ValueUnit;
+use tauwise::{DataKind, Result};
 
 /// The kind of readings in an input file (`--data`).
 #[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
@@ -27,79 +30,6 @@ impl From<DataArg> for DataKind {
             DataArg::Freq => DataKind::Freq,
         }
     }
-}
-
-/// The time column of a record (`--time-column N|none`).
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub enum TimeColumn {
-    /// 1-based column number.
-    Number(usize),
-    /// Readings without stamps.
-    None,
-}
-
-/// `--time-column`: a column number from 1, or `none`.
-pub fn time_column(text: &str) -> std::result::Result<TimeColumn, UnitError> {
-    let t = text.trim();
-    if t.eq_ignore_ascii_case("none") {
-        return Ok(TimeColumn::None);
-    }
-    match t.parse::<usize>() {
-        Ok(n) if n >= 1 => Ok(TimeColumn::Number(n)),
-        _ => Err(UnitError::Bad {
-            text: t.to_string(),
-            what: "time column",
-            expected: "a column number (1, 2, …) or none",
-        }),
-    }
-}
-
-/// `--snap=FRAC`: a fraction of τ0 above 0 and below 0.5.
-pub fn snap_fraction(text: &str) -> std::result::Result<f64, UnitError> {
-    let t = text.trim();
-    match t.parse::<f64>() {
-        Ok(f) if f > 0.0 && f < 0.5 => Ok(f),
-        _ => Err(UnitError::OutOfRange {
-            text: t.to_string(),
-            what: "the snap fraction",
-            range: "a fraction of τ0 above 0 and below 0.5 (e.g. --snap=0.25)",
-        }),
-    }
-}
-
-/// A limit in scaled MADs (`--outliers K`): a positive number.
-pub fn mad_limit(text: &str) -> std::result::Result<f64, UnitError> {
-    let t = text.trim();
-    match t.parse::<f64>() {
-        Ok(k) if k.is_finite() && k > 0.0 => Ok(k),
-        _ => Err(UnitError::NotPositive {
-            text: t.to_string(),
-            what: "number of scaled MADs (e.g. 5)",
-        }),
-    }
-}
-
-/// An overlap of consecutive segments (`--overlap`): 0 ≤ FRAC < 1.
-pub fn overlap_fraction(text: &str) -> std::result::Result<f64, UnitError> {
-    let t = text.trim();
-    match t.parse::<f64>() {
-        Ok(f) if (0.0..1.0).contains(&f) => Ok(f),
-        _ => Err(UnitError::OutOfRange {
-            text: t.to_string(),
-            what: "the overlap",
-            range: "a fraction of a segment from 0 to below 1 (e.g. 0.5)",
-        }),
-    }
-}
-
-/// `--comment CHARS`: characters that may start a comment line.
-pub fn comment_chars(text: &str) -> std::result::Result<String, UnitError> {
-    tauwise::io::text::CommentStyle::with_extra(text)
-        .map(|_| text.to_string())
-        .map_err(|m| UnitError::Invalid {
-            text: text.to_string(),
-            reason: format!("'{text}': {m}"),
-        })
 }
 
 /// How to read a time-series input file (the record-input group every
@@ -241,20 +171,6 @@ pub fn report_reading(info: &tauwise::io::series::SeriesInfo) {
     }
 }
 
-/// A count on the command line (`--paths`, `--steps`, `--per-decade`, …):
-/// a whole number, also in exponent form (`2000`, `1e6`). Each command
-/// bounds its counts by the memory they would need; this only reads them.
-pub fn count(text: &str) -> std::result::Result<usize, String> {
-    let t = text.trim();
-    if let Ok(n) = t.parse::<usize>() {
-        return Ok(n);
-    }
-    match t.parse::<f64>() {
-        Ok(v) if v.is_finite() && v >= 0.0 && v.fract() == 0.0 && v < 1.8e19 => Ok(v as usize),
-        _ => Err(format!("'{text}' is not a whole number (e.g. 2000 or 1e6)")),
-    }
-}
-
 /// Output format of a command's results.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default, ValueEnum)]
 pub enum Format {
@@ -301,84 +217,7 @@ impl OutputArgs {
     }
 }
 
-/// Check every output path before any computing: an output that names an
-/// input (the same file, by any path: symbolic and hard links included) is
-/// refused, and the directory of each output must exist and take a new
-/// file — so that a long run neither overwrites its measurement nor fails
-/// only at the end. `None` and `-` (standard output) are skipped; so are
-/// inputs read from standard input.
-pub fn check_output_paths(inputs: &[&Path], outputs: &[Option<&Path>]) -> Result<()> {
-    for out in outputs.iter().flatten() {
-        if out.as_os_str() == "-" || out.as_os_str().is_empty() {
-            continue;
-        }
-        for inp in inputs.iter().filter(|p| p.as_os_str() != "-") {
-            if same_file(inp, out) {
-                return Err(Error::option(
-                    "-o",
-                    format!(
-                        "output {} is the input file {}: refusing to overwrite a measurement (choose another output)",
-                        out.display(),
-                        inp.display()
-                    ),
-                ));
-            }
-        }
-        check_output_dir(out)?;
-    }
-    Ok(())
-}
-
-/// The directory an output will be written into must exist and accept a
-/// new file (checked by creating and removing a temporary file there).
-pub fn check_output_dir(out: &Path) -> Result<()> {
-    let dir = match out.parent() {
-        Some(d) if !d.as_os_str().is_empty() => d,
-        _ => Path::new("."),
-    };
-    let fail = |why: String| {
-        Err(Error::invalid(format!(
-            "cannot write {}: {why} (checked before computing)",
-            out.display()
-        )))
-    };
-    match std::fs::metadata(dir) {
-        Ok(m) if m.is_dir() => {}
-        Ok(_) => return fail(format!("{} is not a directory", dir.display())),
-        Err(e) => return fail(format!("directory {}: {e}", dir.display())),
-    }
-    if out.is_dir() {
-        return fail("it is a directory".into());
-    }
-    if let Err(e) = tempfile::Builder::new()
-        .prefix(".tauwise-check-")
-        .tempfile_in(dir)
-    {
-        return fail(format!(
-            "directory {} does not take a new file: {e}",
-            dir.display()
-        ));
-    }
-    Ok(())
-}
-
-/// Whether two paths name the same existing file (same device and inode on
-/// Unix; the same canonical path elsewhere).
-fn same_file(a: &Path, b: &Path) -> bool {
-    let (Ok(ma), Ok(mb)) = (std::fs::metadata(a), std::fs::metadata(b)) else {
-        return false;
-    };
-    #[cfg(unix)]
-    {
-        use std::os::unix::fs::MetadataExt;
-        ma.dev() == mb.dev() && ma.ino() == mb.ino()
-    }
-    #[cfg(not(unix))]
-    {
-        let _ = (ma, mb);
-        matches!((std::fs::canonicalize(a), std::fs::canonicalize(b)), (Ok(x), Ok(y)) if x == y)
-    }
-}
+pub use tauwise::io::output_paths::check_output_paths;
 
 /// Write `text` to standard output, or atomically to the `-o` file
 /// (`-o -` is standard output too).
@@ -421,8 +260,6 @@ pub fn json_doc<B: serde::Serialize>(input: Input, body: B) -> Result<String> {
     }
     Ok(text)
 }
-
-pub use tauwise::results::plain;
 
 /// Progress on standard error for commands that can run for seconds on big
 /// records: a spinner with the current stage, shown only when stderr is a

@@ -4,7 +4,6 @@
 use super::common::{emit, json_doc, Format, OutputArgs, PlotArgs, TauArgs};
 use super::Outcome;
 use clap::{Args as ClapArgs, ValueEnum};
-use std::fmt::Write as _;
 use std::path::PathBuf;
 use tauwise::deviation::{Estimator, Origin};
 use tauwise::io::lf_table::{read_lf_table, TableOptions, TableQuantity};
@@ -17,7 +16,7 @@ use tauwise::results::{
 };
 use tauwise::spectrum::sigma::{grid_taus, model_spectrum, sigma_curve, spectral, SigmaOptions};
 use tauwise::spectrum::{Quantity, Spectrum};
-use tauwise::units::{format_si, format_sig};
+use tauwise::units::format_si;
 use tauwise::{Error, Result};
 
 /// What to convert to.
@@ -94,22 +93,12 @@ pub struct Args {
     pub output: OutputArgs,
 }
 
-/// A frequency option in hertz (parsed and checked by clap).
-fn freq(opt: &Option<Frequency>, _what: &str) -> Result<Option<f64>> {
-    Ok(opt.map(Frequency::hertz))
-}
-
 /// The help of `--dev`: the registry's estimators with a transfer function.
 fn dev_help() -> String {
     format!(
         "Estimators for --to sigma, comma-separated ({})",
         Estimator::names(&Estimator::convertible())
     )
-}
-
-/// A duration option in seconds (parsed and checked by clap).
-fn duration(opt: &Option<Duration>, _what: &str) -> Result<Option<f64>> {
-    Ok(opt.map(Duration::seconds))
 }
 
 /// The source of a conversion: a table or a model, as a spectrum.
@@ -123,12 +112,12 @@ struct Source {
 }
 
 fn source(args: &Args, carrier: Option<f64>, tau_hint: Option<f64>) -> Result<Source> {
-    let fh_opt = freq(&args.fh, "fh")?;
+    let fh_opt = args.fh.map(Frequency::hertz);
     if let Some(path) = &args.lf {
         let t = read_lf_table(
             path,
             &TableOptions {
-                quantity: super::jitter::quantity_option(&args.quantity)?,
+                quantity: args.quantity,
                 carrier,
                 ..Default::default()
             },
@@ -174,7 +163,9 @@ fn source(args: &Args, carrier: Option<f64>, tau_hint: Option<f64>) -> Result<So
             )),
         };
     let model = PowerLaw { f_h, ..parsed };
-    let max_tau = duration(&args.max_tau, "max-tau")?
+    let max_tau = args
+        .max_tau
+        .map(Duration::seconds)
         .or(tau_hint)
         .unwrap_or(1e5);
     let spectrum = model_spectrum(&model, carrier, max_tau)?;
@@ -213,9 +204,8 @@ pub fn run(args: Args) -> Result<Outcome> {
         &inputs,
         &[args.output.output.as_deref(), args.plot.plot.as_deref()],
     )?;
-    let carrier = freq(&args.carrier, "carrier")?;
-    let needs_carrier = args.lf.is_some()
-        && super::jitter::quantity_option(&args.quantity)?.is_some_and(|q| q != TableQuantity::Sy)
+    let carrier = args.carrier.map(Frequency::hertz);
+    let needs_carrier = args.lf.is_some() && args.quantity.is_some_and(|q| q != TableQuantity::Sy)
         || args.to == Target::Lf;
     if needs_carrier && carrier.is_none() {
         return Err(Error::option(
@@ -229,7 +219,7 @@ pub fn run(args: Args) -> Result<Outcome> {
             "the chart of --to model shows L(f), which needs the carrier frequency: give --carrier (e.g. --carrier 10MHz)",
         ));
     }
-    let src = source(&args, carrier, duration(&args.max_tau, "max-tau")?)?;
+    let src = source(&args, carrier, args.max_tau.map(Duration::seconds))?;
     let text = match args.to {
         Target::Sigma => to_sigma(&args, src, carrier)?,
         Target::Lf => to_lf(&args, src, carrier)?,
@@ -244,8 +234,8 @@ fn to_sigma(args: &Args, src: Source, carrier: Option<f64>) -> Result<String> {
     for e in &estimators {
         spectral(*e)?;
     }
-    let tau0 = duration(&args.tau0, "tau0")?.unwrap_or(0.5 / src.f_h);
-    let max_tau = duration(&args.max_tau, "max-tau")?.unwrap_or(src.max_tau);
+    let tau0 = args.tau0.map(Duration::seconds).unwrap_or(0.5 / src.f_h);
+    let max_tau = args.max_tau.map(Duration::seconds).unwrap_or(src.max_tau);
     let taus = grid_taus(&args.taus.taus, tau0, max_tau)?;
     let opt = SigmaOptions { tau0, f_h: src.f_h };
     let origin = if args.lf.is_some() {
@@ -309,51 +299,13 @@ fn to_sigma(args: &Args, src: Source, carrier: Option<f64>) -> Result<String> {
     Ok(match args.output.format() {
         Format::Json => json_doc(src.input, body)?,
         Format::Csv => body.csv()?,
-        Format::Table => {
-            let mut out = String::new();
-            let _ = writeln!(out, "σ(τ) from {}", src.label);
-            let _ = writeln!(
-                out,
-                "  f_h {}, τ0 {} (MDEV/TDEV)",
-                format_si(src.f_h, "Hz", 4),
-                format_si(tau0, "s", 4)
-            );
-            for (est, pts) in &curves {
-                let _ = writeln!(out);
-                let _ = writeln!(out, "{}", est.name());
-                let _ = writeln!(
-                    out,
-                    "{:>12}  {:>12}  {:>13}",
-                    "τ", "deviation", "below table"
-                );
-                for p in pts {
-                    let dev = if est.is_time_deviation() {
-                        format_si(p.dev, "s", 4)
-                    } else {
-                        format_sig(p.dev, 4)
-                    };
-                    let note = if p.truncated {
-                        "  (lower bound: table's low end too steep)"
-                    } else {
-                        ""
-                    };
-                    let _ = writeln!(
-                        out,
-                        "{:>12}  {:>12}  {:>12.1} %{note}",
-                        format_si(p.tau, "s", 4),
-                        dev,
-                        100.0 * p.below_table
-                    );
-                }
-            }
-            out
-        }
+        Format::Table => body.table(&src.label).render(),
     })
 }
 
 fn to_lf(args: &Args, src: Source, carrier: Option<f64>) -> Result<String> {
     let from = args.from.hertz();
-    let to = freq(&args.to_offset, "to-offset")?.unwrap_or(src.f_h);
+    let to = args.to_offset.map(Frequency::hertz).unwrap_or(src.f_h);
     let model = match (&args.model, &args.sigma) {
         (Some(m), _) => Some(PowerLaw {
             f_h: src.f_h,
@@ -424,9 +376,11 @@ fn to_model(args: &Args, src: Source, carrier: Option<f64>) -> Result<String> {
     let v: Vec<f64> = keep.iter().map(|&i| sy.values[i]).collect();
     let fit = fit_sy(&f, &v, None, src.f_h)?;
     let m = fit.model;
-    let rms_db = (fit.residual_db.iter().map(|r| r * r).sum::<f64>()
-        / fit.residual_db.len().max(1) as f64)
-        .sqrt();
+    let rms_db = if fit.residual_db.is_empty() {
+        0.0
+    } else {
+        tauwise::results::rms(&fit.residual_db)
+    };
     if let Some(path) = &args.plot.plot {
         let (lo, hi) = (f.first().copied(), f.last().copied());
         let mut traces = vec![LfTrace::from_spectrum(
@@ -465,28 +419,6 @@ fn to_model(args: &Args, src: Source, carrier: Option<f64>) -> Result<String> {
     Ok(match args.output.format() {
         Format::Json => json_doc(src.input, body)?,
         Format::Csv => body.csv()?,
-        Format::Table => {
-            let mut out = format!("Power-law model fitted to {}\n", src.label);
-            let _ = writeln!(
-                out,
-                "  f_h {}, residual {:.2} dB rms",
-                format_si(src.f_h, "Hz", 4),
-                rms_db
-            );
-            for a in (-2..=2).rev() {
-                let _ = writeln!(
-                    out,
-                    "  h{a:<3} {:>5}  {}",
-                    tauwise::model::noise_label(a).unwrap_or(""),
-                    if m.get(a) > 0.0 {
-                        format_sig(m.get(a), 4)
-                    } else {
-                        "-".into()
-                    }
-                );
-            }
-            let _ = writeln!(out, "  model: {}", m.to_model_string());
-            out
-        }
+        Format::Table => body.table(&src.label).render(),
     })
 }

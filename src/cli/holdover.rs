@@ -4,17 +4,14 @@
 use super::common::{count, emit, json_doc, Format, InputArgs, OutputArgs, PlotArgs};
 use super::Outcome;
 use clap::{Args as ClapArgs, ValueEnum};
-use std::fmt::Write as _;
 use std::path::PathBuf;
-use tauwise::holdover::aging::{Aging, AgingModel};
-use tauwise::holdover::observed::{observe, Observed};
-use tauwise::holdover::{
-    caution, model_from_record, predict, FromRecord, HoldoverModel, Prediction, Settings,
+use tauwise::holdover::aging::AgingModel;
+use tauwise::holdover::observed::observe;
+use tauwise::holdover::{caution, model_from_record, predict, FromRecord, Settings};
+use tauwise::parse::{
+    non_negative_fraction, temp_coeff, temp_swing, Duration, Fraction, Model, Rate,
 };
-use tauwise::io::series::Series;
-use tauwise::parse::{Duration, Fraction, Model, Rate};
 use tauwise::results::HoldoverBody;
-use tauwise::units::{format_si, UnitError};
 use tauwise::{Error, Result};
 
 /// The aging law to fit (`--aging-model`).
@@ -104,50 +101,6 @@ pub struct Args {
     pub output: OutputArgs,
 }
 
-/// `--temp-coeff`: a temperature coefficient of frequency per kelvin
-/// (`1e-11/K`); the kelvin is required, like every number that decides.
-fn temp_coeff(text: &str) -> std::result::Result<f64, UnitError> {
-    kelvin(text, "/K", "a number per kelvin (e.g. 1e-11/K)")
-}
-
-/// `--temp-swing`: a temperature swing in kelvin (`5K`).
-fn temp_swing(text: &str) -> std::result::Result<f64, UnitError> {
-    kelvin(text, "K", "a number of kelvin (e.g. 5K)")
-}
-
-fn kelvin(text: &str, unit: &str, expected: &'static str) -> std::result::Result<f64, UnitError> {
-    let t = text.trim();
-    let Some(num) = t.strip_suffix(unit) else {
-        return Err(UnitError::Invalid {
-            text: t.to_string(),
-            reason: format!("'{t}' has no unit: give a unit, e.g. {expected}"),
-        });
-    };
-    num.trim()
-        .parse::<f64>()
-        .ok()
-        .filter(|v| v.is_finite())
-        .ok_or_else(|| UnitError::Bad {
-            text: t.to_string(),
-            what: "temperature value",
-            expected,
-        })
-}
-
-/// `--y0-sigma`: a standard uncertainty, ≥ 0.
-fn non_negative_fraction(text: &str) -> std::result::Result<Fraction, UnitError> {
-    let f: Fraction = text.parse()?;
-    if f.value() >= 0.0 {
-        Ok(f)
-    } else {
-        Err(UnitError::OutOfRange {
-            text: text.trim().to_string(),
-            what: "a standard uncertainty",
-            range: "≥ 0",
-        })
-    }
-}
-
 /// Run `holdover`.
 pub fn run(args: Args) -> Result<Outcome> {
     super::common::check_output_paths(
@@ -215,235 +168,26 @@ pub fn run(args: Args) -> Result<Outcome> {
         }
         tauwise::plot::render(&plot.chart(), path, tauwise::plot::DEFAULT_SIZE)?;
     }
+    let body = HoldoverBody::new(
+        &settings,
+        &model,
+        &pred,
+        args.aging.is_some(),
+        observed.as_ref(),
+    );
     let text = match args.output.format() {
-        Format::Json => json_doc(
-            (&series).into(),
-            HoldoverBody::new(
-                &settings,
-                &model,
-                &pred,
-                args.aging.is_some(),
-                observed.as_ref(),
-            ),
-        )?,
-        Format::Csv => {
-            HoldoverBody::new(&settings, &model, &pred, false, observed.as_ref()).csv()?
-        }
-        Format::Table => to_table(
-            &series,
-            &settings,
-            &model,
-            &pred,
-            observed.as_ref(),
-            opts.start.is_some(),
-        ),
+        Format::Json => json_doc((&series).into(), body)?,
+        Format::Csv => body.csv()?,
+        Format::Table => body
+            .table(
+                &series.info.path.display().to_string(),
+                opts.start.is_some(),
+            )
+            .render(),
     };
     emit(&args.output, &text)?;
     Ok(Outcome::of_gate(
         tauwise::verdict::gate([&pred.judgement]),
         args.fail_on_violation,
     ))
-}
-
-fn hours(t: f64) -> String {
-    if t >= 3.6e9 {
-        format!("{:.3e} h", t / 3600.0)
-    } else if t >= 3600.0 {
-        format!("{:.1} h", t / 3600.0)
-    } else {
-        format_si(t, "s", 3)
-    }
-}
-
-fn to_table(
-    series: &Series,
-    s: &Settings,
-    model: &HoldoverModel,
-    p: &Prediction,
-    observed: Option<&Observed>,
-    start_given: bool,
-) -> String {
-    let si = |v: f64| format_si(v, "s", 4);
-    let mut o = String::new();
-    let _ = writeln!(
-        o,
-        "{}: holdover of {} against a budget of {}",
-        series.info.path.display(),
-        hours(s.span),
-        si(s.budget)
-    );
-    let _ = writeln!(o, "\nmodel");
-    let u = &model.uncertainty;
-    let _ = writeln!(o, "  te0         {}", si(model.te0));
-    let _ = writeln!(
-        o,
-        "  y0          {:.4e} ± {:.2e} ({})",
-        model.y0,
-        model.y0_sigma,
-        match u.y0_window {
-            Some(w) => format!(
-                "mean over the last {} of the record, carried by the aging law",
-                hours(w)
-            ),
-            None => "given".to_string(),
-        }
-    );
-    let _ = writeln!(
-        o,
-        "  aging       {} law, {:.4e}/day at the start{}",
-        if u.aging_given {
-            "given linear"
-        } else {
-            model.aging.model().name()
-        },
-        model.aging.rate(model.start) * 86400.0,
-        match model.aging {
-            Aging::Linear { d_sigma, .. } if !u.aging_given => {
-                format!(" ± {:.2e}/day (1σ)", d_sigma * 86400.0)
-            }
-            Aging::Linear { .. } => String::new(),
-            Aging::Log { a_sigma, tc, .. } => format!(" (A ± {a_sigma:.2e}, t_c = {})", hours(tc)),
-        }
-    );
-    if let Some(words) = model.aging_significance_words() {
-        let _ = writeln!(o, "              {words}");
-    }
-    if u.replicates > 0 {
-        let _ = writeln!(
-            o,
-            "  uncertainty parametric bootstrap: the fit repeated on {} records drawn from the noise model below{}{}",
-            u.replicates,
-            if u.rwfm_drawn {
-                " (each with its own random-walk FM level, as the record could have measured it)"
-            } else {
-                ""
-            },
-            if u.y0_window.is_some() && !u.aging_given {
-                format!("; y0 and aging errors correlated {:+.2}, drawn jointly per path", u.y0_aging_corr)
-            } else {
-                "; drawn per path".to_string()
-            }
-        );
-    }
-    if model.temp_worst > 0.0 {
-        let _ = writeln!(
-            o,
-            "  temperature worst case {:.3e} (fractional)",
-            model.temp_worst
-        );
-    }
-    let _ = writeln!(o, "  noise       {}", model.noise.to_model_string());
-    let _ = writeln!(
-        o,
-        "  Monte Carlo {} paths, seed {}, step {}",
-        p.paths,
-        s.seed,
-        si(p.step)
-    );
-    let _ = writeln!(
-        o,
-        "\n{:>10}  {:>12}  {:>12}  {:>12}  {:>12}",
-        "t", "determ.", "p50 |TE|", "p95 |TE|", "p99 |TE|"
-    );
-    for t in &p.te {
-        let _ = writeln!(
-            o,
-            "{:>10}  {:>12}  {:>12}  {:>12}  {:>12}",
-            hours(t.t),
-            si(t.deterministic),
-            si(t.p50),
-            si(t.p95),
-            si(t.p99)
-        );
-    }
-    let _ = writeln!(o);
-    let judged = p.judgement.verdict != tauwise::verdict::Verdict::NotJudged;
-    match p.holds_for {
-        _ if !judged => {}
-        Some(t) => {
-            let _ = writeln!(
-                o,
-                "p95 of |TE| exceeds the budget after about {}: holds 95 % of the time for about {}.",
-                hours(t),
-                hours(t)
-            );
-        }
-        None => {
-            let _ = writeln!(
-                o,
-                "p95 of |TE| stays within the budget through the whole span."
-            );
-        }
-    }
-    let _ = writeln!(o, "verdict for {}: {}", hours(s.span), p.judgement.cell());
-    if let Some(why) = &p.judgement.reason {
-        let _ = writeln!(o, "  not judged: {why}");
-    }
-    match observed {
-        Some(ob) => observed_table(&mut o, ob, model, s),
-        None if start_given => {
-            let _ = writeln!(
-                o,
-                "\nthe record after the start: nothing to compare (the record ends at the start, or its phase there is a gap)"
-            );
-        }
-        None => {}
-    }
-    let _ = writeln!(o, "\n{}", caution());
-    o
-}
-
-/// The record after the start beside the prediction.
-fn observed_table(o: &mut String, ob: &Observed, model: &HoldoverModel, s: &Settings) {
-    let si = |v: f64| format_si(v, "s", 4);
-    let _ = writeln!(
-        o,
-        "\nthe record after the start (holdover from {} of the record; the record covers {} of the span)",
-        hours(model.start),
-        hours(ob.covered)
-    );
-    let _ = writeln!(
-        o,
-        "{:>10}  {:>12}  {:>12}  {:>7}",
-        "t", "observed TE", "p95 |TE|", "inside"
-    );
-    for q in &ob.points {
-        let _ = writeln!(
-            o,
-            "{:>10}  {:>12}  {:>12}  {:>7}",
-            hours(q.t),
-            si(q.te),
-            si(q.p95),
-            if q.inside { "yes" } else { "no" }
-        );
-    }
-    let _ = writeln!(
-        o,
-        "observed |TE| inside the predicted p95 at {} of {} times{}",
-        ob.inside(),
-        ob.points.len(),
-        ob.worst
-            .map(|(r, t)| format!("; largest |TE|/p95 {r:.2} at {}", hours(t)))
-            .unwrap_or_default()
-    );
-    let _ = writeln!(
-        o,
-        "{}",
-        match ob.exceeds_budget_at {
-            Some(t) => format!(
-                "observed |TE| first exceeds the budget of {} at {} after the start",
-                si(s.budget),
-                hours(t)
-            ),
-            None => format!(
-                "observed |TE| stays within the budget of {} for the {} the record covers",
-                si(s.budget),
-                hours(ob.covered)
-            ),
-        }
-    );
-    let _ = writeln!(
-        o,
-        "One record is one path: it should lie inside p95 at about 95 % of the times, and cannot confirm the model alone."
-    );
 }

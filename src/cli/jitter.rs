@@ -3,10 +3,8 @@
 //! ([`tauwise::spectrum::jitter`]).
 
 use super::common::{emit, json_doc, Format, InputArgs, OutputArgs, PlotArgs};
-use super::spectrum::welch_options;
 use super::Outcome;
 use clap::Args as ClapArgs;
-use std::fmt::Write as _;
 use std::path::{Path, PathBuf};
 use tauwise::io::lf_table::{
     read_filter_file, read_lf_table, read_spurs, LfTable, TableOptions, TableQuantity,
@@ -17,10 +15,9 @@ use tauwise::results::{Input, JitterBand, JitterBody, TableInput, SPUR_CONVENTIO
 use tauwise::spectrum::jitter::{
     integrate_band, Band, BandJitter, JitterLimit, JitterSetup, Weighting,
 };
-use tauwise::spectrum::welch::{welch_record, Window};
+use tauwise::spectrum::welch::{welch_record, WelchOptions, Window};
 use tauwise::spectrum::Spectrum;
-use tauwise::units::format_si;
-use tauwise::verdict::{gate, Judgement, Verdict};
+use tauwise::verdict::{gate, Judgement};
 use tauwise::{Error, Result, DECISION_CAUTION};
 
 /// Integrated phase jitter over offset bands.
@@ -101,11 +98,6 @@ fn band_arg(text: &str) -> std::result::Result<(String, Band), tauwise::units::U
     Ok((text.to_string(), Band::parse(text)?))
 }
 
-/// The `--quantity` option (`None` when not given).
-pub fn quantity_option(q: &Option<TableQuantity>) -> Result<Option<TableQuantity>> {
-    Ok(*q)
-}
-
 /// Print a table's reading notes on standard error.
 pub fn report_table(t: &LfTable) {
     for n in &t.notes {
@@ -148,7 +140,7 @@ pub fn run(args: Args) -> Result<Outcome> {
         &inputs,
         &[args.output.output.as_deref(), args.plot.plot.as_deref()],
     )?;
-    let carrier = super::spectrum::carrier_of(&args.input)?.ok_or_else(|| {
+    let carrier = args.input.carrier.map(Frequency::hertz).ok_or_else(|| {
         Error::option(
             "--carrier",
             "jitter needs the carrier frequency: give --carrier (e.g. --carrier 10MHz)",
@@ -186,8 +178,7 @@ pub fn run(args: Args) -> Result<Outcome> {
     let mut record_spectrum: Option<(&'static str, f64, String)> = None;
     let (input, spectrum, source): (Input, Spectrum, String) = match (&args.table, &args.record) {
         (Some(path), _) => {
-            let q = quantity_option(&args.quantity)?;
-            let t = load_table(path, q, &args.input, Some(carrier))?;
+            let t = load_table(path, args.quantity, &args.input, Some(carrier))?;
             if args.plot.plot.is_some() {
                 plot_trace = Some((t.spectrum.clone(), TraceKind::Table));
             }
@@ -212,7 +203,11 @@ pub fn run(args: Args) -> Result<Outcome> {
             let series = args.input.load(path)?;
             let w = welch_record(
                 &series.record,
-                &welch_options(args.window, args.segment, 0.5)?,
+                &WelchOptions {
+                    window: args.window,
+                    segment: args.segment,
+                    overlap: 0.5,
+                },
             )?;
             for warning in &w.warnings {
                 eprintln!("tauwise: warning: {warning}");
@@ -288,31 +283,26 @@ pub fn run(args: Args) -> Result<Outcome> {
         };
         tauwise::plot::render(&plot.chart(), path, tauwise::plot::DEFAULT_SIZE)?;
     }
+    let body = JitterBody {
+        carrier,
+        ui_rate,
+        spur_convention: SPUR_CONVENTION,
+        bands: outcomes
+            .iter()
+            .zip(&bands)
+            .zip(&judgements)
+            .enumerate()
+            .map(|(i, ((o, b), j))| JitterBand::new(b, o, limit_of(&limits, i), j.as_ref()))
+            .collect(),
+        caution: DECISION_CAUTION,
+        window: record_spectrum.as_ref().map(|r| r.0),
+        enbw_hz: record_spectrum.as_ref().map(|r| r.1),
+        gaps_handling: record_spectrum.map(|r| r.2),
+    };
     let text = match args.output.format() {
-        Format::Json | Format::Csv => {
-            let body = JitterBody {
-                carrier,
-                ui_rate,
-                spur_convention: SPUR_CONVENTION,
-                bands: outcomes
-                    .iter()
-                    .zip(&bands)
-                    .zip(&judgements)
-                    .enumerate()
-                    .map(|(i, ((o, b), j))| JitterBand::new(b, o, limit_of(&limits, i), j.as_ref()))
-                    .collect(),
-                caution: DECISION_CAUTION,
-                window: record_spectrum.as_ref().map(|r| r.0),
-                enbw_hz: record_spectrum.as_ref().map(|r| r.1),
-                gaps_handling: record_spectrum.map(|r| r.2),
-            };
-            if args.output.format() == Format::Json {
-                json_doc(input, body)?
-            } else {
-                body.csv()?
-            }
-        }
-        Format::Table => table(&source, carrier, &outcomes, &bands, &limits, &judgements),
+        Format::Json => json_doc(input, body)?,
+        Format::Csv => body.csv()?,
+        Format::Table => body.table(&source).render(),
     };
     emit(&args.output, &text)?;
     Ok(Outcome::of_gate(
@@ -323,85 +313,4 @@ pub fn run(args: Args) -> Result<Outcome> {
 
 fn limit_of(limits: &[JitterLimit], i: usize) -> Option<&JitterLimit> {
     limits.get(if limits.len() == 1 { 0 } else { i })
-}
-
-fn table(
-    source: &str,
-    carrier: f64,
-    outcomes: &[std::result::Result<BandJitter, String>],
-    bands: &[Band],
-    limits: &[JitterLimit],
-    judgements: &[Option<Judgement>],
-) -> String {
-    let mut out = String::new();
-    let _ = writeln!(
-        out,
-        "Integrated phase jitter, {source}, carrier {}",
-        format_si(carrier, "Hz", 4)
-    );
-    let _ = writeln!(out);
-    let _ = writeln!(
-        out,
-        "{:>23}  {:>24}  {:>11}  {:>10}  {:>11}  {:>10}",
-        "band", "weighting", "rms rad", "rms deg", "rms time", "rms UI"
-    );
-    for (i, (o, band)) in outcomes.iter().zip(bands).enumerate() {
-        let name = format!(
-            "{} – {}",
-            format_si(band.from, "Hz", 4),
-            format_si(band.to, "Hz", 4)
-        );
-        match o {
-            Ok(r) => {
-                let _ = writeln!(
-                    out,
-                    "{:>23}  {:>24}  {:>11.4e}  {:>10.4e}  {:>11}  {:>10}",
-                    name,
-                    r.filter,
-                    r.rms_rad,
-                    r.rms_deg,
-                    format_si(r.rms_s, "s", 4),
-                    r.rms_ui
-                        .map(|u| format!("{u:.4e}"))
-                        .unwrap_or_else(|| "-".into())
-                );
-                if r.spurs > 0 {
-                    let _ = writeln!(
-                        out,
-                        "{:>23}  includes {} spur(s), {:.4e} rad²",
-                        "", r.spurs, r.spurs_rad2
-                    );
-                }
-                for (a, b) in &r.extrapolated {
-                    let _ = writeln!(
-                        out,
-                        "{:>23}  extrapolated {} – {} (end slope continued)",
-                        "",
-                        format_si(*a, "Hz", 4),
-                        format_si(*b, "Hz", 4)
-                    );
-                }
-            }
-            Err(e) => {
-                let _ = writeln!(out, "{name:>23}  not computed: {e}");
-            }
-        }
-        if let (Some(l), Some(j)) = (limit_of(limits, i), &judgements[i]) {
-            let _ = writeln!(
-                out,
-                "{:>23}  limit {}: {}{}",
-                "",
-                l.describe(),
-                j.cell(),
-                match (&j.reason, j.verdict) {
-                    (Some(why), Verdict::NotJudged) => format!(" — {why}"),
-                    (Some(why), _) => format!(" — {why}"),
-                    _ => String::new(),
-                }
-            );
-        }
-    }
-    let _ = writeln!(out);
-    let _ = writeln!(out, "{DECISION_CAUTION}");
-    out
 }

@@ -5,13 +5,11 @@
 
 use super::Outcome;
 use clap::{Args, ValueEnum};
-use std::io::Write;
 use std::path::PathBuf;
-use tauwise::io::record_file::{write_record_file, RecordFile, Start};
-use tauwise::model::PowerLaw;
 use tauwise::parse::{Duration, Fraction, Frequency, Model, Rate};
+use tauwise::results::simulated_file;
 use tauwise::simulate::{simulate_frequency, simulate_phase, SimSpec};
-use tauwise::units::{parse_value_unit, FreqUnit, PhaseUnit, UnitError, ValueUnit};
+use tauwise::units::{parse_value_unit, FreqUnit, PhaseUnit, ValueUnit};
 use tauwise::{Error, Record};
 
 /// Which quantity to write.
@@ -38,7 +36,7 @@ pub struct SimulateArgs {
     #[arg(long, value_name = "DUR", default_value = "1s", allow_hyphen_values = true, value_parser = Duration::positive)]
     pub tau0: Duration,
     /// Number of samples (100000, 1e6, …).
-    #[arg(long, value_name = "N", value_parser = parse_points)]
+    #[arg(long, value_name = "N", value_parser = tauwise::parse::points)]
     pub points: usize,
     /// Seed of the random generator (the same seed gives the same record).
     #[arg(long, value_name = "N", default_value_t = 1)]
@@ -62,50 +60,6 @@ pub struct SimulateArgs {
     /// Output file (written atomically); standard output when absent.
     #[arg(short = 'o', long, value_name = "FILE")]
     pub output: Option<PathBuf>,
-}
-
-/// `--points`: a positive whole number, also in exponent form (`1e6`).
-fn parse_points(text: &str) -> Result<usize, UnitError> {
-    let t = text.trim();
-    let bad = || UnitError::Bad {
-        text: t.to_string(),
-        what: "number of points",
-        expected: "a positive whole number (e.g. 100000 or 1e6)",
-    };
-    if let Ok(n) = t.parse::<usize>() {
-        return if n > 0 { Ok(n) } else { Err(bad()) };
-    }
-    let v: f64 = t.parse().map_err(|_| bad())?;
-    if v.is_finite() && v >= 1.0 && v.fract() == 0.0 && v <= 1e18 {
-        Ok(v as usize)
-    } else {
-        Err(bad())
-    }
-}
-
-/// The model with every digit, as `--model` accepts it.
-fn exact_model_string(m: &PowerLaw) -> String {
-    let mut parts: Vec<String> = (-2..=2)
-        .rev()
-        .filter(|&a| m.get(a) > 0.0)
-        .map(|a| format!("h{a}={:e}", m.get(a)))
-        .collect();
-    if parts.is_empty() {
-        parts.push("(no noise)".into());
-    }
-    parts.join(",")
-}
-
-fn quote(arg: &str) -> String {
-    if !arg.is_empty()
-        && arg
-            .chars()
-            .all(|c| c.is_ascii_alphanumeric() || "-_=.,/+:@%^".contains(c))
-    {
-        arg.to_string()
-    } else {
-        format!("'{}'", arg.replace('\'', "'\\''"))
-    }
 }
 
 /// Run `tauwise simulate`.
@@ -145,12 +99,8 @@ pub fn run(args: SimulateArgs) -> Result<Outcome, Error> {
         ValueUnit::Freq(u) => u.symbol(),
     };
     let carrier = args.carrier.map(Frequency::hertz);
-
-    let (record, what): (Record, String) = match (args.data, unit) {
-        (SimData::Phase, ValueUnit::Phase(u)) => (
-            Record::Phase(simulate_phase(&spec)?),
-            format!("phase (time error) in {}", u.symbol()),
-        ),
+    let record = match (args.data, unit) {
+        (SimData::Phase, ValueUnit::Phase(_)) => Record::Phase(simulate_phase(&spec)?),
         (SimData::Freq, ValueUnit::Freq(u)) => {
             if u == FreqUnit::Hz && !carrier.is_some_and(|c| c > 0.0) {
                 return Err(Error::option(
@@ -158,16 +108,7 @@ pub fn run(args: SimulateArgs) -> Result<Outcome, Error> {
                     "writes absolute frequency and needs --carrier FREQ (e.g. 10MHz)",
                 ));
             }
-            let what = match u {
-                FreqUnit::Frac => "fractional frequency".to_string(),
-                FreqUnit::Ppm => "fractional frequency in ppm".to_string(),
-                FreqUnit::Ppb => "fractional frequency in ppb".to_string(),
-                FreqUnit::Hz => format!(
-                    "frequency in Hz about a carrier of {} Hz",
-                    carrier.unwrap_or(0.0)
-                ),
-            };
-            (Record::Frequency(simulate_frequency(&spec)?), what)
+            Record::Frequency(simulate_frequency(&spec)?)
         }
         (SimData::Phase, ValueUnit::Freq(_)) => {
             return Err(Error::option(
@@ -182,69 +123,11 @@ pub fn run(args: SimulateArgs) -> Result<Outcome, Error> {
             ))
         }
     };
-
     let command: Vec<String> = std::iter::once("tauwise".to_string())
-        .chain(std::env::args().skip(1).map(|a| quote(&a)))
+        .chain(std::env::args().skip(1))
         .collect();
-    let comments = vec![
-        format!(
-            "{} {} simulate: synthetic power-law noise (Kasdin & Walter 1992), not a measurement",
-            tauwise::TOOL,
-            tauwise::VERSION
-        ),
-        format!(
-            "model: {} (fh = 1/(2 tau0) = {} Hz)",
-            exact_model_string(&model),
-            0.5 / tau0
-        ),
-        format!(
-            "data: {what}; tau0: {tau0} s; points: {}; seed: {}",
-            record.len(),
-            args.seed
-        ),
-        format!(
-            "offset: {:e} (fractional); drift: {:e} per s (fractional frequency)",
-            spec.freq_offset, spec.drift_per_s
-        ),
-        format!("command: {}", command.join(" ")),
-    ];
-    let mut out: Vec<u8> = Vec::with_capacity(record.len() * 40 + 512);
-    write_record_file(
-        &mut out,
-        &RecordFile {
-            record: &record,
-            unit,
-            carrier,
-            start: Start::Seconds(0.0),
-            comments: &comments,
-        },
-    )
-    .map_err(|e| Error::invalid(format!("could not write the record: {e}")))?;
-
-    match &args.output {
-        Some(path) => tauwise::io::write_atomic(path, &out)?,
-        None => {
-            let stdout = std::io::stdout();
-            let mut lock = stdout.lock();
-            lock.write_all(&out)
-                .and_then(|_| lock.flush())
-                .map_err(|source| tauwise::io::WriteError {
-                    path: PathBuf::from("-"),
-                    source,
-                })?;
-        }
-    }
+    let out = simulated_file(&spec, &record, unit, carrier, &command)
+        .map_err(|e| Error::invalid(format!("could not write the record: {e}")))?;
+    super::common::emit_to(args.output.as_deref(), &out)?;
     Ok(Outcome::Done)
-}
-
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    #[test]
-    fn points() {
-        assert_eq!(parse_points("1e6").unwrap(), 1_000_000);
-        assert!(parse_points("0").is_err());
-        assert!(parse_points("2.5").is_err());
-    }
 }

@@ -4,11 +4,10 @@
 use super::common::{emit, json_doc, Format, InputArgs, OutputArgs, PlotArgs};
 use super::Outcome;
 use clap::Args as ClapArgs;
-use std::fmt::Write as _;
 use std::path::PathBuf;
 use tauwise::plot::phase_noise::{LfTrace, PhaseNoisePlot, TraceKind};
 use tauwise::results::{SpectrumBody, SpectrumRows};
-use tauwise::spectrum::welch::{welch_record, Welch, WelchOptions, Window};
+use tauwise::spectrum::welch::{welch_record, WelchOptions, Window};
 use tauwise::spectrum::Quantity;
 use tauwise::units::format_si;
 use tauwise::{Error, Result};
@@ -51,20 +50,6 @@ pub struct Args {
     pub output: OutputArgs,
 }
 
-/// The carrier given with `--carrier`, parsed.
-pub fn carrier_of(input: &InputArgs) -> Result<Option<f64>> {
-    Ok(input.options()?.carrier)
-}
-
-/// Welch options from the command-line words.
-pub fn welch_options(window: Window, segment: Option<usize>, overlap: f64) -> Result<WelchOptions> {
-    Ok(WelchOptions {
-        window,
-        segment,
-        overlap,
-    })
-}
-
 /// Run `spectrum`.
 pub fn run(args: Args) -> Result<Outcome> {
     super::common::check_output_paths(
@@ -72,7 +57,7 @@ pub fn run(args: Args) -> Result<Outcome> {
         &[args.output.output.as_deref(), args.plot.plot.as_deref()],
     )?;
     let quantity = args.quantity;
-    let carrier = carrier_of(&args.input)?;
+    let carrier = args.input.carrier.map(tauwise::parse::Frequency::hertz);
     if carrier.is_none() && matches!(quantity, Quantity::Lf | Quantity::Sphi) {
         return Err(Error::option(
             format!("--quantity {}", quantity.name()),
@@ -91,7 +76,11 @@ pub fn run(args: Args) -> Result<Outcome> {
     progress.stage("computing");
     let w = welch_record(
         &series.record,
-        &welch_options(args.window, args.segment, args.overlap)?,
+        &WelchOptions {
+            window: args.window,
+            segment: args.segment,
+            overlap: args.overlap,
+        },
     )?;
     for warning in &w.warnings {
         eprintln!("tauwise: warning: {warning}");
@@ -131,52 +120,22 @@ pub fn run(args: Args) -> Result<Outcome> {
         };
         tauwise::plot::render(&plot.chart(), path, tauwise::plot::DEFAULT_SIZE)?;
     }
+    let bins = if args.all_bins {
+        "all".to_string()
+    } else {
+        format!("log, {} per decade", args.per_decade)
+    };
+    let body = SpectrumBody::new(&w, carrier, bins, rows);
     let text = match args.output.format() {
-        Format::Json => {
-            let bins = if args.all_bins {
-                "all".to_string()
-            } else {
-                format!("log, {} per decade", args.per_decade)
-            };
-            json_doc((&series).into(), SpectrumBody::new(&w, carrier, bins, rows))?
-        }
-        Format::Csv => rows.csv()?,
-        Format::Table => table(&series.info.path, &w, carrier, &rows),
+        Format::Json => json_doc((&series).into(), body)?,
+        Format::Csv => body.points.csv()?,
+        Format::Table => body
+            .table(
+                &series.info.path.display().to_string(),
+                w.source == tauwise::record::DataKind::Freq,
+            )
+            .render(),
     };
     emit(&args.output, &text)?;
     Ok(Outcome::Done)
-}
-
-fn table(path: &std::path::Path, w: &Welch, carrier: Option<f64>, rows: &SpectrumRows) -> String {
-    let mut out = String::new();
-    let _ = writeln!(out, "Spectrum of {} (Welch)", path.display());
-    let _ = writeln!(
-        out,
-        "  window {}, ENBW {}, resolution {}, overlap {:.0} %",
-        w.window.name(),
-        format_si(w.enbw_hz, "Hz", 4),
-        format_si(w.resolution_hz, "Hz", 4),
-        w.overlap * 100.0
-    );
-    let _ = writeln!(out, "  {}", w.gap_note());
-    if w.source == tauwise::record::DataKind::Freq {
-        let _ = writeln!(
-            out,
-            "  frequency record: S_y = (2 sin(πfτ0)/τ0)²·S_x of the integrated phase (sampled data); L(f), S_φ and S_x from S_y"
-        );
-    }
-    for warning in &w.warnings {
-        let _ = writeln!(out, "  warning: {warning}");
-    }
-    match carrier {
-        Some(c) => {
-            let _ = writeln!(out, "  carrier {}", format_si(c, "Hz", 4));
-        }
-        None => {
-            let _ = writeln!(out, "  no carrier given: L(f) and S_φ not shown");
-        }
-    }
-    let _ = writeln!(out);
-    out.push_str(&rows.text());
-    out
 }

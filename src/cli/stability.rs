@@ -6,14 +6,11 @@ use super::common::{
 };
 use super::Outcome;
 use clap::Args as ClapArgs;
-use std::fmt::Write as _;
 use std::path::PathBuf;
-use tauwise::deviation::{Curve, Estimator, Origin};
+use tauwise::deviation::{Curve, Estimator};
 use tauwise::parse::{EstimatorList, Frequency};
-use tauwise::results::{AnyCurve, BestCurve, StabilityBody};
-use tauwise::stability::{analyse, best, BestPoint, Request, BEST_CURVE};
-use tauwise::units::{format_si, format_sig};
-use tauwise::PhaseRecord;
+use tauwise::results::{AnyCurve, BestCurve, RecordInput, StabilityBody};
+use tauwise::stability::{analyse, best, Request};
 use tauwise::Result;
 
 /// σ(τ) curves with confidence intervals and noise type.
@@ -162,33 +159,19 @@ pub fn run(args: Args) -> Result<Outcome> {
             }
         }
     }
+    let mut list: Vec<AnyCurve> = curves.iter().cloned().map(AnyCurve::Plain).collect();
+    if let Some(b) = &best_points {
+        list.push(AnyCurve::Best(BestCurve::new(b)));
+    }
+    let body = StabilityBody {
+        confidence: request.confidence,
+        curves: list,
+        consistency: view.as_ref().map(|v| v.comparisons.clone()),
+    };
     let text = match args.output.format() {
-        Format::Json | Format::Csv => {
-            let mut list: Vec<AnyCurve> = curves.iter().cloned().map(AnyCurve::Plain).collect();
-            if let Some(b) = &best_points {
-                list.push(AnyCurve::Best(BestCurve::new(b)));
-            }
-            let body = StabilityBody {
-                confidence: request.confidence,
-                curves: list,
-                consistency: view.as_ref().map(|v| v.comparisons.clone()),
-            };
-            if args.output.format() == Format::Json {
-                json_doc((&series).into(), body)?
-            } else {
-                body.csv()?
-            }
-        }
-        Format::Table => {
-            let mut t = curves_table(&series.info.path, &curves, request.confidence, &phase);
-            if let Some(b) = &best_points {
-                t.push_str(&best_table(b, &phase));
-            }
-            if let Some(v) = &view {
-                t.push_str(&consistency_table(v));
-            }
-            t
-        }
+        Format::Json => json_doc((&series).into(), body)?,
+        Format::Csv => body.csv()?,
+        Format::Table => body.table(&RecordInput::of(&series)).render(),
     };
     emit(&args.output, &text)?;
     Ok(Outcome::Done)
@@ -206,139 +189,6 @@ pub fn time_chart_path(path: &std::path::Path) -> PathBuf {
         None => format!("{stem}-time"),
     };
     path.with_file_name(name)
-}
-
-/// True when the point of `est` is a bias-corrected value: a total-family
-/// value divided by its bias ([`tauwise::deviation::Point::bias`]), or
-/// TheoH's ThêoBR part ([`Estimator::bias_corrected_from`]).
-fn corrected(est: Estimator, p: &tauwise::deviation::Point, x: &PhaseRecord) -> bool {
-    p.bias.is_some()
-        || est
-            .bias_corrected_from(x.len(), x.tau0)
-            .is_some_and(|from| p.estimate.tau >= from)
-}
-
-/// The footnote under a table with bias-corrected values.
-const CORRECTED_NOTE: &str = "* bias-corrected value: totdev, mtot, ttot, htot divided by their \
-     bias for the noise type shown (--uncorrected reports them as computed); theoh beyond \
-     10 % of the record is Theo1 scaled by the record's ThêoBR ratio";
-
-/// The `best` block of the table, with the estimator of each point.
-fn best_table(b: &[BestPoint], x: &PhaseRecord) -> String {
-    let mut s = String::new();
-    let _ = writeln!(s);
-    let family = b
-        .first()
-        .and_then(|p| p.from.variance_title())
-        .unwrap_or("Allan variance");
-    let _ = writeln!(
-        s,
-        "{BEST_CURVE} — at each τ the estimator of the {family} with the most degrees of freedom (chosen from the EDF rules, the same for any noise type, not from the values)"
-    );
-    let _ = writeln!(
-        s,
-        "{:>10} {:>11} {:>25} {:>9} {:>5} {:>7}",
-        "tau", "dev", "interval", "edf", "noise", "from"
-    );
-    let mut any = false;
-    for bp in b {
-        let p = &bp.point;
-        let mark = if corrected(bp.from, p, x) {
-            any = true;
-            "*"
-        } else {
-            " "
-        };
-        let interval = match (p.lo, p.hi) {
-            (Some(lo), Some(hi)) => format!("[{} … {}]", format_sig(lo, 4), format_sig(hi, 4)),
-            _ => "—".to_string(),
-        };
-        let _ = writeln!(
-            s,
-            "{:>10} {:>10}{mark} {:>25} {:>9} {:>5} {:>7}",
-            format_si(p.estimate.tau, "s", 4),
-            format_sig(p.estimate.value, 4),
-            interval,
-            p.edf
-                .map(|e| format_sig(e, 4))
-                .unwrap_or_else(|| "—".into()),
-            p.noise().unwrap_or("—"),
-            bp.from.name()
-        );
-    }
-    if any {
-        let _ = writeln!(s, "{CORRECTED_NOTE}");
-    }
-    let _ = writeln!(s, "{}", tauwise::DECISION_CAUTION);
-    s
-}
-
-/// A readable table: one block per estimator, τ with SI prefix, the value
-/// to 4 significant digits and its interval.
-/// Bias-corrected values are marked `*` with a footnote.
-pub fn curves_table(
-    path: &std::path::Path,
-    curves: &[Curve],
-    confidence: f64,
-    x: &PhaseRecord,
-) -> String {
-    let mut s = String::new();
-    let _ = writeln!(s, "# {}", path.display());
-    for c in curves {
-        let est = (c.origin == Origin::Measured).then_some(c.estimator);
-        let title = est.map(|e| e.title()).unwrap_or("");
-        let time = c.estimator.is_time_deviation();
-        let _ = writeln!(s);
-        let _ = writeln!(s, "{} — {title}", c.name());
-        let _ = writeln!(
-            s,
-            "{:>10} {:>9} {:>11} {:>25} {:>9} {:>9} {:>5}",
-            "tau",
-            "m",
-            "dev",
-            format!("{:.1} % interval", confidence * 100.0),
-            "edf",
-            "terms",
-            "noise"
-        );
-        let fmt = |v: f64| {
-            if time {
-                format_si(v, "s", 4)
-            } else {
-                format_sig(v, 4)
-            }
-        };
-        let mut any = false;
-        for p in &c.points {
-            let interval = match (p.lo, p.hi) {
-                (Some(lo), Some(hi)) => format!("[{} … {}]", fmt(lo), fmt(hi)),
-                _ => "—".to_string(),
-            };
-            let mark = if est.is_some_and(|e| corrected(e, p, x)) {
-                any = true;
-                "*"
-            } else {
-                " "
-            };
-            let _ = writeln!(
-                s,
-                "{:>10} {:>9} {:>10}{mark} {:>25} {:>9} {:>9} {:>5}",
-                format_si(p.estimate.tau, "s", 4),
-                p.estimate.m,
-                fmt(p.estimate.value),
-                interval,
-                p.edf
-                    .map(|e| format_sig(e, 4))
-                    .unwrap_or_else(|| "—".into()),
-                p.estimate.terms,
-                p.noise().unwrap_or("—"),
-            );
-        }
-        if any {
-            let _ = writeln!(s, "{CORRECTED_NOTE}");
-        }
-    }
-    s
 }
 
 /// Read the `--lf` table and convert it beside the measured curves.
@@ -369,66 +219,4 @@ fn phase_noise_view(
     };
     let t = tauwise::io::lf_table::read_lf_table(table, &opts)?;
     tauwise::stability::from_phase_noise(measured, &t.spectrum, tau0, &view)
-}
-
-fn consistency_table(v: &tauwise::stability::PhaseNoiseView) -> String {
-    let mut s = String::new();
-    for c in &v.comparisons {
-        let _ = writeln!(s);
-        let _ = writeln!(
-            s,
-            "{}: measured against the phase-noise table at the record's bandwidth f_h = {}{} (table uncertainty ±{} dB)",
-            c.estimator,
-            format_si(c.f_h, "Hz", 4),
-            if c.bandwidth_given { ", as given" } else { " = 1/(2τ0)" },
-            c.table_uncertainty_db
-        );
-        if let Some(a) = &c.apart {
-            let _ = writeln!(
-                s,
-                "  no common range: {} (a factor {:.3} apart)",
-                a.reason, a.factor
-            );
-            continue;
-        }
-        let _ = writeln!(
-            s,
-            "{:>10} {:>11} {:>25} {:>11} {:>8} {:>10} {:>6}",
-            "tau", "measured", "interval", "from table", "ratio", "tolerance", "agree"
-        );
-        for p in &c.points {
-            let _ = writeln!(
-                s,
-                "{:>10} {:>11} {:>25} {:>11} {:>8.3} {:>9.1}% {:>6}",
-                format_si(p.tau, "s", 4),
-                format_sig(p.measured, 4),
-                format!("[{} … {}]", format_sig(p.lo, 4), format_sig(p.hi, 4)),
-                format_sig(p.converted, 4),
-                p.ratio,
-                (p.tolerance.exp() - 1.0) * 100.0,
-                if p.agree { "yes" } else { "no" }
-            );
-        }
-        let agree = c.points.iter().filter(|p| p.agree).count();
-        let _ = writeln!(
-            s,
-            "  {} of {} τ agree{}",
-            agree,
-            c.points.len(),
-            if c.without_interval > 0 {
-                format!(
-                    "; {} τ without a confidence interval not compared",
-                    c.without_interval
-                )
-            } else {
-                String::new()
-            }
-        );
-    }
-    let _ = writeln!(
-        s,
-        "Agreement: |ln(measured/from table)| within √(δ_m² + δ_t²), δ_m the measured interval's half-width (log) on the table's side, δ_t the table's uncertainty (u dB in L(f) is a factor 10^(u/20) in σ); compared only where at most {:.0} % of σ² comes from below the table's lowest offset, and from 2τ0 when f_h is 1/(2τ0) (at τ0 a sampled record's σ depends on how the instrument sampled).",
-        tauwise::stability::MAX_BELOW_TABLE * 100.0
-    );
-    s
 }

@@ -4,16 +4,14 @@
 use super::common::{emit, json_doc, Format, InputArgs, OutputArgs, PlotArgs};
 use super::Outcome;
 use clap::Args as ClapArgs;
-use std::fmt::Write as _;
 use std::path::PathBuf;
-use tauwise::io::series::Series;
-use tauwise::parse::Duration;
-use tauwise::results::WanderBody;
+use tauwise::parse::parse_tau_range;
+use tauwise::results::{RecordInput, WanderBody};
 use tauwise::tau::TauGrid;
-use tauwise::units::{format_margin_db, format_si, UnitError};
-use tauwise::verdict::{gate, Verdict};
+use tauwise::units::UnitError;
+use tauwise::verdict::gate;
 use tauwise::wander::masks::{builtin, CONDITIONS_NOTE};
-use tauwise::wander::{analyse, mask_file::read_mask_file, Options, WanderResult};
+use tauwise::wander::{analyse, mask_file::read_mask_file, Options};
 use tauwise::{Result, DECISION_CAUTION};
 
 /// MTIE, TDEV and TIE statistics against wander masks.
@@ -101,7 +99,9 @@ pub fn run(args: Args) -> Result<Outcome> {
     let text = match args.output.format() {
         Format::Json => json_doc((&series).into(), WanderBody::new(res.clone()))?,
         Format::Csv => WanderBody::new(res.clone()).csv()?,
-        Format::Table => to_table(&series, &res),
+        Format::Table => WanderBody::new(res.clone())
+            .table(&RecordInput::of(&series))
+            .render(),
     };
     emit(&args.output, &text)?;
     Ok(Outcome::of_gate(
@@ -118,138 +118,4 @@ fn mask_name(text: &str) -> std::result::Result<String, UnitError> {
             text: text.to_string(),
             reason: e.to_string(),
         })
-}
-
-/// `FROM:TO`, two durations with their units (`1s:3h`).
-pub fn parse_tau_range(text: &str) -> std::result::Result<(f64, f64), UnitError> {
-    let t = text.trim();
-    let (a, b) = t.split_once(':').ok_or_else(|| UnitError::Bad {
-        text: t.to_string(),
-        what: "τ range",
-        expected: "FROM:TO with units, e.g. 1s:3h",
-    })?;
-    let (a, b) = (
-        Duration::positive_with_unit(a)?.seconds(),
-        Duration::positive_with_unit(b)?.seconds(),
-    );
-    if b < a {
-        return Err(UnitError::OutOfRange {
-            text: t.to_string(),
-            what: "a τ range FROM:TO",
-            range: "0 < FROM ≤ TO (e.g. 1s:3h)",
-        });
-    }
-    Ok((a, b))
-}
-
-fn si(v: f64) -> String {
-    format_si(v, "s", 4)
-}
-
-fn to_table(series: &Series, r: &WanderResult) -> String {
-    let rec = &series.record;
-    let mut s = String::new();
-    let _ = writeln!(
-        s,
-        "{}: {} points at τ0 = {}, {} gaps",
-        series.info.path.display(),
-        rec.len(),
-        si(rec.tau0()),
-        rec.gaps()
-    );
-    let _ = writeln!(s, "\nTIE over the record");
-    if let Some(y) = r.tie.offset_removed {
-        let _ = writeln!(s, "  frequency offset removed  {y:.4e}");
-    }
-    let _ = writeln!(s, "  max |TIE|    {}", si(r.tie.max_abs));
-    let _ = writeln!(s, "  peak-to-peak {}", si(r.tie.pk_pk));
-    let _ = writeln!(s, "  rms          {}", si(r.tie.rms));
-    let _ = writeln!(s, "\n{:>12}  {:>12}  {:>12}", "τ", "MTIE", "TDEV");
-    let mut taus: Vec<f64> = r.mtie.iter().chain(&r.tdev).map(|p| p.tau).collect();
-    taus.sort_by(f64::total_cmp);
-    taus.dedup();
-    for t in taus {
-        let find = |c: &[tauwise::deviation::Estimate]| {
-            c.iter()
-                .find(|p| p.tau == t)
-                .map(|p| si(p.value))
-                .unwrap_or_else(|| "—".into())
-        };
-        let _ = writeln!(
-            s,
-            "{:>12}  {:>12}  {:>12}",
-            si(t),
-            find(&r.mtie),
-            find(&r.tdev)
-        );
-    }
-    for c in &r.checks {
-        let _ = writeln!(
-            s,
-            "\nmask {} ({}): {}",
-            c.name,
-            c.metric.name().to_uppercase(),
-            c.judgement.cell()
-        );
-        let _ = writeln!(s, "  {}", c.source_note);
-        if let (Some(ratio), Some(t)) = (c.worst_ratio, c.worst_tau) {
-            let _ = writeln!(
-                s,
-                "  worst: {:.3} of the limit ({} margin) at τ = {}",
-                ratio,
-                c.worst_margin_db
-                    .map(format_margin_db)
-                    .unwrap_or_else(|| "unlimited".into()),
-                si(t)
-            );
-        }
-        let mask_to = c
-            .mask_range
-            .to
-            .map(si)
-            .unwrap_or_else(|| "no upper end".into());
-        match (&c.checked_range, c.judgement.verdict) {
-            (Some(r), v) if v != Verdict::NotJudged => {
-                let _ = writeln!(
-                    s,
-                    "  checked {} τ from {} to {} (the mask: {} to {}); coverage {}",
-                    c.checked,
-                    si(r.from),
-                    si(r.to.unwrap_or(r.from)),
-                    si(c.mask_range.from),
-                    mask_to,
-                    c.judgement.coverage.name()
-                );
-            }
-            _ => {}
-        }
-        if let Some(why) = &c.judgement.reason {
-            let lead = if c.judgement.verdict == Verdict::NotJudged {
-                "not judged: "
-            } else {
-                ""
-            };
-            let _ = writeln!(s, "  {lead}{why}");
-        }
-        if !c.violations.is_empty() {
-            if let Some(t) = c.crossing_tau {
-                let _ = writeln!(s, "  first exceeds the limit near τ = {}", si(t));
-            }
-            let list: Vec<String> = c.violations.iter().map(|v| si(v.tau)).collect();
-            let shown = if list.len() > 8 {
-                format!(
-                    "{}, … {}",
-                    list[..3].join(", "),
-                    list[list.len() - 3..].join(", ")
-                )
-            } else {
-                list.join(", ")
-            };
-            let _ = writeln!(s, "  {} violating τ: {shown}", c.violations.len());
-        }
-    }
-    if !r.checks.is_empty() {
-        let _ = writeln!(s, "\n{CONDITIONS_NOTE}\n{DECISION_CAUTION}");
-    }
-    s
 }

@@ -126,14 +126,7 @@ impl HoldoverModel {
     /// A sentence on the aging's significance, for the outputs (`None` when
     /// the aging was given).
     pub fn aging_significance_words(&self) -> Option<String> {
-        let z = self.aging_z()?;
-        Some(if z >= SIGNIFICANT_Z {
-            format!("the fitted aging is {z:.1}σ from zero: significant at {SIGNIFICANT_Z}σ")
-        } else {
-            format!(
-                "the fitted aging is {z:.1}σ from zero: not significant at {SIGNIFICANT_Z}σ (the record does not show aging beyond its noise); the prediction keeps the fitted value and draws it per path from its uncertainty"
-            )
-        })
+        self.aging_z().map(aging_significance_words)
     }
 
     /// te0 + y0·t + TE_a(t) (no temperature, no noise).
@@ -677,5 +670,17 @@ fn hint_model(e: Error) -> Error {
             Error::insufficient(format!("{msg}: give the model with --model"))
         }
         other => other,
+    }
+}
+
+/// In words, whether a fitted aging `z` standard errors from zero is
+/// significant at [`SIGNIFICANT_Z`] (what the holdover text shows).
+pub fn aging_significance_words(z: f64) -> String {
+    if z >= SIGNIFICANT_Z {
+        format!("the fitted aging is {z:.1}σ from zero: significant at {SIGNIFICANT_Z}σ")
+    } else {
+        format!(
+            "the fitted aging is {z:.1}σ from zero: not significant at {SIGNIFICANT_Z}σ (the record does not show aging beyond its noise); the prediction keeps the fitted value and draws it per path from its uncertainty"
+        )
     }
 }

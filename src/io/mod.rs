@@ -14,6 +14,7 @@ pub mod header_units;
 pub mod layout;
 pub mod lf_table;
 pub mod npy;
+pub mod output_paths;
 pub mod record_file;
 pub mod series;
 pub mod text;

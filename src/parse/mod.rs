@@ -15,6 +15,10 @@
 //! | estimator list | [`EstimatorList`] | `oadev,mdev` |
 //! | power-law model | [`Model`] | `h0=1e-22,h-1=3e-26,fh=0.5` |
 //! | τ grid | [`crate::tau::TauGrid`] | `octave`, `log:10`, `1,10,100s,1h` |
+//! | τ range | [`parse_tau_range`] | `1s:3h` |
+//! | count | [`count`], [`points`] | `2000`, `1e6` |
+//! | time column | [`TimeColumn`] | `1`, `none` |
+//! | temperature | [`temp_coeff`], [`temp_swing`] | `1e-11/K`, `5K` |
 //!
 //! Every refusal is a [`crate::units::UnitError`] naming the text and what
 //! was expected.
@@ -22,9 +26,14 @@
 mod estimators;
 mod filter;
 mod model;
+mod options;
 mod quantity;
 
 pub use estimators::EstimatorList;
 pub use filter::{Filter, FILTER_ORDERS};
 pub use model::Model;
+pub use options::{
+    comment_chars, count, kelvin, mad_limit, non_negative_fraction, overlap_fraction,
+    parse_tau_range, points, snap_fraction, temp_coeff, temp_swing, time_column, TimeColumn,
+};
 pub use quantity::{uncertainty_db, Duration, Fraction, Frequency, Probability, Rate};

@@ -2,11 +2,13 @@
 //! an L(f) table (`--to lf`: [`super::SpectrumRows`]) and a fitted model
 //! (`--to model`).
 
+use super::table::{Cell, Column, Table, Text, Unit};
 use super::{csv_text, plain, Result};
 use crate::deviation::{Curve, Estimate, Estimator, Origin, Point};
 use crate::model::fit::Dominant;
 use crate::model::PowerLaw;
 use crate::spectrum::sigma::SigmaPoint;
+use crate::units::{format_si, format_sig};
 use serde::Serialize;
 
 /// A σ(τ) value converted from a spectrum: the [`Point`] keys (no record
@@ -141,5 +143,87 @@ impl FittedModel {
                 ]
             }),
         )
+    }
+}
+
+impl SigmaBody {
+    /// The table for reading: per curve τ, the deviation and how much of
+    /// σ² comes from below the table (lower bounds marked). `source` names
+    /// what was converted (`table FILE`, `model …`).
+    pub fn table(&self, source: &str) -> Text {
+        let mut t = Text::new();
+        t.line(format!("σ(τ) from {source}"));
+        t.line(format!(
+            "  f_h {}, τ0 {} (MDEV/TDEV)",
+            format_si(self.f_h, "Hz", 4),
+            format_si(self.tau0, "s", 4)
+        ));
+        for c in &self.curves {
+            let dev = if c.estimator.is_time_deviation() {
+                Unit::Si("s")
+            } else {
+                Unit::Plain
+            };
+            let mut tab = Table::new(vec![
+                Column::right("τ", 12).unit(Unit::Si("s")),
+                Column::right("deviation", 12).unit(dev).gap(2),
+                Column::right("below table", 14)
+                    .unit(Unit::Fixed(1, " %"))
+                    .gap(2),
+            ])
+            .heading("")
+            .heading(c.estimator.name());
+            for p in &c.points {
+                tab.row_with(
+                    vec![
+                        Cell::num(p.point.estimate.tau),
+                        Cell::num(p.point.estimate.value),
+                        Cell::num(100.0 * p.below_table),
+                    ],
+                    if p.truncated {
+                        "  (lower bound: table's low end too steep)"
+                    } else {
+                        ""
+                    },
+                );
+            }
+            t.table(tab);
+        }
+        t
+    }
+}
+
+impl FittedModel {
+    /// The fitted model for reading: h_α per term, the residual, the model
+    /// in `--model` notation. `source` names the table.
+    pub fn table(&self, source: &str) -> Text {
+        let mut t = Text::new();
+        t.line(format!("Power-law model fitted to {source}"));
+        t.line(format!(
+            "  f_h {}, residual {:.2} dB rms",
+            format_si(self.f_h, "Hz", 4),
+            self.residual_rms_db
+        ));
+        let mut h = Table::new(vec![
+            Column::left("", 4),
+            Column::right("", 5),
+            Column::left("", 0).gap(2),
+        ])
+        .indent(2);
+        for a in (-2..=2).rev() {
+            let v = self.h.get(a);
+            h.row(vec![
+                Cell::text(format!("h{a}")),
+                Cell::text(crate::model::noise_label(a).unwrap_or("")),
+                Cell::text(if v > 0.0 {
+                    format_sig(v, 4)
+                } else {
+                    "-".into()
+                }),
+            ]);
+        }
+        h.note(format!("  model: {}", self.model));
+        t.table(h);
+        t
     }
 }

@@ -1,11 +1,13 @@
 //! The `holdover` document: the model taken from the record, the predicted
 //! time error, the verdict, and the record after the start beside it.
 
+use super::table::{Cell, Column, Table, Text, Unit};
 use super::{csv_text, plain, Result};
 use crate::holdover::aging::Aging;
 use crate::holdover::observed::{Observed, ObservedPoint};
 use crate::holdover::{HoldoverModel, Prediction, Settings, TePoint, Uncertainty};
 use crate::model::PowerLaw;
+use crate::units::format_si;
 use crate::verdict::Judgement;
 use serde::Serialize;
 
@@ -202,5 +204,209 @@ impl HoldoverBody {
                 ]
             }),
         )
+    }
+}
+
+/// A time through the span: hours when long, else SI seconds.
+fn hours(t: f64) -> String {
+    if t >= 3.6e9 {
+        format!("{:.3e} h", t / 3600.0)
+    } else if t >= 3600.0 {
+        format!("{:.1} h", t / 3600.0)
+    } else {
+        format_si(t, "s", 3)
+    }
+}
+
+impl HoldoverBody {
+    /// The text for reading: the model taken from the record, the time
+    /// error through the span (deterministic and the |TE| percentiles), how
+    /// long the budget holds, the verdict, the record after the start
+    /// beside the prediction, and the caution. `path` names the record;
+    /// `start_given` when the holdover starts inside it (`--start`).
+    pub fn table(&self, path: &str, start_given: bool) -> Text {
+        let si = |v: f64| format_si(v, "s", 4);
+        let m = &self.model;
+        let u = &m.uncertainty;
+        let mut o = Text::new();
+        o.line(format!(
+            "{path}: holdover of {} against a budget of {}",
+            hours(self.span_s),
+            si(self.budget_s)
+        ));
+        o.blank();
+        o.line("model");
+        let mut kv = Table::new(vec![Column::left("", 12), Column::left("", 0).gap(0)]).indent(2);
+        let mut pair = |k: &str, v: String| kv.row(vec![Cell::text(k), Cell::text(v)]);
+        pair("te0", si(m.te0));
+        pair(
+            "y0",
+            format!(
+                "{:.4e} ± {:.2e} ({})",
+                m.y0,
+                m.y0_sigma,
+                match u.y0_window {
+                    Some(w) => format!(
+                        "mean over the last {} of the record, carried by the aging law",
+                        hours(w)
+                    ),
+                    None => "given".to_string(),
+                }
+            ),
+        );
+        pair(
+            "aging",
+            format!(
+                "{} law, {:.4e}/day at the start{}",
+                if u.aging_given {
+                    "given linear"
+                } else {
+                    m.aging_model
+                },
+                m.aging_per_s * 86400.0,
+                match (&m.log_law, m.aging_sigma_per_s) {
+                    (Some(l), _) => format!(" (A ± {:.2e}, t_c = {})", l.a_sigma, hours(l.tc_s)),
+                    (None, Some(d)) if !u.aging_given => format!(" ± {:.2e}/day (1σ)", d * 86400.0),
+                    _ => String::new(),
+                }
+            ),
+        );
+        if let Some(z) = m.aging_z {
+            pair("", crate::holdover::aging_significance_words(z));
+        }
+        if u.replicates > 0 {
+            pair(
+                "uncertainty",
+                format!(
+                    "parametric bootstrap: the fit repeated on {} records drawn from the noise model below{}{}",
+                    u.replicates,
+                    if u.rwfm_drawn {
+                        " (each with its own random-walk FM level, as the record could have measured it)"
+                    } else {
+                        ""
+                    },
+                    if u.y0_window.is_some() && !u.aging_given {
+                        format!("; y0 and aging errors correlated {:+.2}, drawn jointly per path", u.y0_aging_corr)
+                    } else {
+                        "; drawn per path".to_string()
+                    }
+                ),
+            );
+        }
+        if m.temp_worst > 0.0 {
+            pair(
+                "temperature",
+                format!("worst case {:.3e} (fractional)", m.temp_worst),
+            );
+        }
+        pair("noise", m.h.to_model_string());
+        pair(
+            "Monte Carlo",
+            format!(
+                "{} paths, seed {}, step {}",
+                self.paths,
+                self.seed,
+                si(self.step_s)
+            ),
+        );
+        o.table(kv);
+        o.blank();
+        let mut te = Table::new(vec![
+            Column::right("t", 10),
+            Column::right("determ.", 12).unit(Unit::Si("s")).gap(2),
+            Column::right("p50 |TE|", 12).unit(Unit::Si("s")).gap(2),
+            Column::right("p95 |TE|", 12).unit(Unit::Si("s")).gap(2),
+            Column::right("p99 |TE|", 12).unit(Unit::Si("s")).gap(2),
+        ]);
+        for t in &self.te {
+            te.row(vec![
+                Cell::text(hours(t.t)),
+                Cell::num(t.deterministic),
+                Cell::num(t.p50),
+                Cell::num(t.p95),
+                Cell::num(t.p99),
+            ]);
+        }
+        o.table(te);
+        o.blank();
+        let judged = self.judgement.verdict != crate::verdict::Verdict::NotJudged;
+        match self.holds_for_s {
+            _ if !judged => {}
+            Some(t) => o.line(format!(
+                "p95 of |TE| exceeds the budget after about {}: holds 95 % of the time for about {}.",
+                hours(t),
+                hours(t)
+            )),
+            None => o.line("p95 of |TE| stays within the budget through the whole span."),
+        }
+        o.line(format!(
+            "verdict for {}: {}",
+            hours(self.span_s),
+            self.judgement.cell()
+        ));
+        if let Some(why) = &self.judgement.reason {
+            o.line(format!("  not judged: {why}"));
+        }
+        match &self.after_start {
+            Some(ob) => o.extend(self.after_start_table(ob)),
+            None if start_given => {
+                o.blank();
+                o.line("the record after the start: nothing to compare (the record ends at the start, or its phase there is a gap)");
+            }
+            None => {}
+        }
+        o.blank();
+        o.line(&self.caution);
+        o
+    }
+
+    /// The record after the start beside the prediction.
+    fn after_start_table(&self, ob: &AfterStart) -> Text {
+        let si = |v: f64| format_si(v, "s", 4);
+        let mut o = Text::new();
+        o.blank();
+        o.line(format!(
+            "the record after the start (holdover from {} of the record; the record covers {} of the span)",
+            hours(self.model.start_s),
+            hours(ob.covered_s)
+        ));
+        let mut t = Table::new(vec![
+            Column::right("t", 10),
+            Column::right("observed TE", 12).unit(Unit::Si("s")).gap(2),
+            Column::right("p95 |TE|", 12).unit(Unit::Si("s")).gap(2),
+            Column::right("inside", 7).gap(2),
+        ]);
+        for q in &ob.points {
+            t.row(vec![
+                Cell::text(hours(q.t)),
+                Cell::num(q.te),
+                Cell::num(q.p95),
+                Cell::text(if q.inside { "yes" } else { "no" }),
+            ]);
+        }
+        t.note(format!(
+            "observed |TE| inside the predicted p95 at {} of {} times{}",
+            ob.inside,
+            ob.points.len(),
+            match (ob.worst_ratio, ob.worst_t) {
+                (Some(r), Some(t)) => format!("; largest |TE|/p95 {r:.2} at {}", hours(t)),
+                _ => String::new(),
+            }
+        ));
+        t.note(match ob.exceeds_budget_at_s {
+            Some(t) => format!(
+                "observed |TE| first exceeds the budget of {} at {} after the start",
+                si(self.budget_s),
+                hours(t)
+            ),
+            None => format!(
+                "observed |TE| stays within the budget of {} for the {} the record covers",
+                si(self.budget_s),
+                hours(ob.covered_s)
+            ),
+        });
+        t.note("One record is one path: it should lie inside p95 at about 95 % of the times, and cannot confirm the model alone.");
+        o.table(t);
+        o
     }
 }

@@ -1,9 +1,12 @@
 //! The `inspect` document: how a file was read and what the record holds.
 
+use super::table::{Cell, Column, Table};
 use super::{csv_text, plain, plain_opt, Result};
 use crate::io::series::{Series, SeriesInfo, Suggestion, UnitSource};
 use crate::prepare::{DriftModel, Summary};
+use crate::units::{format_si, format_sig};
 use serde::Serialize;
+use std::fmt::Write as _;
 
 /// Most outlier indices listed.
 pub const LISTED_OUTLIERS: usize = 100;
@@ -39,6 +42,10 @@ pub struct InspectBody {
     pub outliers: Option<OutliersOut>,
     #[serde(skip)]
     rows: Vec<(&'static str, String, &'static str)>,
+    #[serde(skip)]
+    summary: Summary,
+    #[serde(skip)]
+    kind: crate::DataKind,
 }
 
 /// `{"model","per_day","per_second","offset_at_centre","centre",
@@ -170,6 +177,8 @@ impl InspectBody {
                 first_indices: o.indices.iter().take(LISTED_OUTLIERS).copied().collect(),
             }),
             rows,
+            summary: s.clone(),
+            kind: series.record.kind(),
         }
     }
 
@@ -179,5 +188,207 @@ impl InspectBody {
             &["quantity", "value", "unit"],
             self.rows.iter().map(|(k, v, u)| [*k, v.as_str(), *u]),
         )
+    }
+}
+
+/// Most preamble lines shown in the table (JSON carries them all).
+const PREAMBLE_SHOWN: usize = 20;
+
+/// A duration in seconds, with days or hours when long.
+fn duration_text(s: f64) -> String {
+    let si = format_si(s, "s", 4);
+    if s >= 2.0 * 86400.0 {
+        format!("{si} ({} d)", format_sig(s / 86400.0, 4))
+    } else if s >= 2.0 * 3600.0 {
+        format!("{si} ({} h)", format_sig(s / 3600.0, 4))
+    } else {
+        si
+    }
+}
+
+impl InspectBody {
+    /// The table for reading: one line per figure (how the file was read,
+    /// preamble, header, unit, points, gaps, τ0, span, offset, drift,
+    /// outliers, notes, warnings, suggestions), the names aligned.
+    pub fn table(&self) -> Table {
+        let info = &self.reading;
+        let s = &self.summary;
+        let mut rows: Vec<(String, String)> = Vec::new();
+        rows.push(("input".into(), info.path.display().to_string()));
+        let read = match info.format {
+            crate::io::series::InputFormat::Npy => format!("{} bytes (numpy .npy)", info.bytes),
+            crate::io::series::InputFormat::Text => format!(
+                "{} lines, {} bytes{}{}",
+                info.lines,
+                info.bytes,
+                info.delimiter
+                    .map(|d| format!(", fields separated by {}", d.name()))
+                    .unwrap_or_default(),
+                if info.bom {
+                    ", UTF-8 byte-order mark skipped"
+                } else {
+                    ""
+                }
+            ),
+        };
+        rows.push(("read".into(), read));
+        if info.preamble_lines > 0 {
+            rows.push((
+                "preamble".into(),
+                format!(
+                    "{} line(s) before the first reading{}",
+                    info.preamble_lines,
+                    info.first_data_line
+                        .map(|l| format!(" (readings from line {l})"))
+                        .unwrap_or_default()
+                ),
+            ));
+            for l in info.preamble.iter().take(PREAMBLE_SHOWN) {
+                rows.push((String::new(), format!("| {l}")));
+            }
+            if info.preamble_lines as usize > PREAMBLE_SHOWN {
+                rows.push((
+                    String::new(),
+                    format!("| … {} more", info.preamble_lines as usize - PREAMBLE_SHOWN),
+                ));
+            }
+        }
+        if let Some(h) = &info.header {
+            rows.push((
+                "header".into(),
+                format!(
+                    "{}{}",
+                    h.join(" | "),
+                    info.header_line
+                        .map(|l| format!("  (line {l})"))
+                        .unwrap_or_default()
+                ),
+            ));
+        }
+        let kind = match self.kind {
+            crate::DataKind::Phase => "phase",
+            crate::DataKind::Freq => "frequency",
+        };
+        let unit_from = match info.unit_source {
+            UnitSource::Option => "--units",
+            UnitSource::Header => "from the header",
+            UnitSource::Default => "default: no unit given or in the header",
+        };
+        rows.push((
+            "data".into(),
+            format!(
+                "{kind} in {} ({unit_from}), column {}{}",
+                info.unit,
+                info.value_column,
+                match (info.time_column, info.time_kind) {
+                    (Some(c), Some(k)) => format!(
+                        "; time column {c} ({})",
+                        match k {
+                            crate::io::series::TimeKind::Seconds => "seconds",
+                            crate::io::series::TimeKind::DateTime => "date-times",
+                            crate::io::series::TimeKind::Mjd => "MJD",
+                        }
+                    ),
+                    _ => "; no time column".to_string(),
+                }
+            ),
+        ));
+        if let Some(d) = &info.decimal_comma {
+            rows.push(("decimal mark".into(), format!("comma — {d}")));
+        }
+        rows.push(("points".into(), s.points.to_string()));
+        let gaps = if info.inserted_gaps > 0 {
+            format!(
+                "{} ({} inserted for timestamp jumps)",
+                s.gaps, info.inserted_gaps
+            )
+        } else {
+            s.gaps.to_string()
+        };
+        rows.push(("gaps".into(), gaps));
+        rows.push((
+            "τ0".into(),
+            format!(
+                "{}{}",
+                format_si(s.tau0, "s", 4),
+                if info.tau0_from_timestamps {
+                    " (median timestamp spacing)"
+                } else {
+                    " (given)"
+                }
+            ),
+        ));
+        rows.push(("span".into(), duration_text(s.span)));
+        if let Some(t) = info.start_time {
+            let mut v = format_sig(t, 10);
+            if t > 1e9 {
+                if let Some(d) = chrono::DateTime::from_timestamp(t.floor() as i64, 0) {
+                    let _ = write!(
+                        v,
+                        " s  (as Unix time: {})",
+                        d.format("%Y-%m-%d %H:%M:%S UTC")
+                    );
+                }
+            } else {
+                v.push_str(" s");
+            }
+            rows.push(("first timestamp".into(), v));
+        }
+        rows.push((
+            "frequency offset".into(),
+            s.frequency_offset
+                .map(|v| format!("{} (mean of y)", format_sig(v, 4)))
+                .unwrap_or_else(|| "— (no frequency values)".into()),
+        ));
+        rows.push((
+            "linear drift".into(),
+            match &s.drift {
+                Some(d) => format!(
+                    "{} per day (least squares on y; residual rms {})",
+                    format_sig(d.per_day(), 4),
+                    format_sig(d.residual_rms, 4)
+                ),
+                None => "— (too few frequency values)".into(),
+            },
+        ));
+        if let Some(o) = &s.outliers {
+            let mut v = format!(
+                "{} of {} frequency values beyond {} × MAD ({}{}) from the median {}",
+                o.indices.len(),
+                o.tested,
+                format_sig(o.limit, 3),
+                format_sig(o.mad, 4),
+                if o.mad_fallback {
+                    ", MAD was 0: mean absolute deviation used"
+                } else {
+                    ""
+                },
+                format_sig(o.median, 4)
+            );
+            if !o.indices.is_empty() {
+                let list: Vec<String> = o.indices.iter().take(10).map(|i| i.to_string()).collect();
+                let _ = write!(
+                    v,
+                    "; at y index {}{}",
+                    list.join(", "),
+                    if o.indices.len() > 10 { ", …" } else { "" }
+                );
+            }
+            rows.push(("outliers".into(), v));
+        }
+        for n in &info.notes {
+            rows.push(("note".into(), n.clone()));
+        }
+        for w in &info.warnings {
+            rows.push(("warning".into(), w.clone()));
+        }
+        for h in &self.suggestions {
+            rows.push(("suggestion".into(), format!("{} — {}", h.option, h.reason)));
+        }
+        let mut t = Table::new(vec![Column::left("", 0).fit(), Column::left("", 0).gap(2)]);
+        for (k, v) in rows {
+            t.row(vec![Cell::text(k), Cell::text(v)]);
+        }
+        t
     }
 }

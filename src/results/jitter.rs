@@ -1,8 +1,10 @@
 //! The `jitter` document: integrated phase jitter per band, with its limit
 //! and verdict.
 
+use super::table::{Cell, Column, Table, Text, Unit};
 use super::{csv_text, plain, Result};
 use crate::spectrum::jitter::{Band, BandJitter, JitterLimit};
+use crate::units::format_si;
 use crate::verdict::Judgement;
 use serde::Serialize;
 
@@ -148,5 +150,84 @@ impl JitterBody {
                 BandOutcome::NotComputed { .. } => None,
             }),
         )
+    }
+}
+
+impl JitterBody {
+    /// The table for reading: per band the weighting and the rms jitter in
+    /// rad, degrees, time and UI, its spurs and extrapolation, the limit
+    /// and verdict; the decision caution last. `source` names the
+    /// spectrum (`table FILE`, `Welch spectrum of FILE`).
+    pub fn table(&self, source: &str) -> Text {
+        let mut t = Text::new();
+        t.line(format!(
+            "Integrated phase jitter, {source}, carrier {}",
+            format_si(self.carrier, "Hz", 4)
+        ));
+        t.blank();
+        let mut tab = Table::new(vec![
+            Column::right("band", 23),
+            Column::right("weighting", 24).gap(2),
+            Column::right("rms rad", 11).unit(Unit::Exp(4)).gap(2),
+            Column::right("rms deg", 10).unit(Unit::Exp(4)).gap(2),
+            Column::right("rms time", 11).unit(Unit::Si("s")).gap(2),
+            Column::right("rms UI", 10)
+                .unit(Unit::Exp(4))
+                .gap(2)
+                .missing("-"),
+        ]);
+        let hz = |v: f64| format_si(v, "Hz", 4);
+        for b in &self.bands {
+            let (from, to) = match &b.outcome {
+                BandOutcome::Computed(r) => (r.from, r.to),
+                BandOutcome::NotComputed { from, to, .. } => (*from, *to),
+            };
+            let name = format!("{} – {}", hz(from), hz(to));
+            match &b.outcome {
+                BandOutcome::Computed(r) => {
+                    tab.row(vec![
+                        Cell::text(name),
+                        Cell::text(r.filter.clone()),
+                        Cell::num(r.rms_rad),
+                        Cell::num(r.rms_deg),
+                        Cell::num(r.rms_s),
+                        Cell::opt(r.rms_ui),
+                    ]);
+                    if r.spurs > 0 {
+                        tab.span(
+                            Cell::text(""),
+                            format!("includes {} spur(s), {:.4e} rad²", r.spurs, r.spurs_rad2),
+                        );
+                    }
+                    for (a, b) in &r.extrapolated {
+                        tab.span(
+                            Cell::text(""),
+                            format!("extrapolated {} – {} (end slope continued)", hz(*a), hz(*b)),
+                        );
+                    }
+                }
+                BandOutcome::NotComputed { not_computed, .. } => {
+                    tab.span(Cell::text(name), format!("not computed: {not_computed}"));
+                }
+            }
+            if let (Some(l), MaybeJudged::Judged(j)) = (&b.limit, &b.judgement) {
+                tab.span(
+                    Cell::text(""),
+                    format!(
+                        "limit {}: {}{}",
+                        l.describe(),
+                        j.cell(),
+                        j.reason
+                            .as_ref()
+                            .map(|why| format!(" — {why}"))
+                            .unwrap_or_default()
+                    ),
+                );
+            }
+        }
+        tab.note("");
+        tab.note(self.caution);
+        t.table(tab);
+        t
     }
 }

@@ -14,12 +14,15 @@ use crate::error::{Error, Result};
 use serde::Serialize;
 
 pub mod json;
+pub mod table;
 
 mod convert;
 mod holdover;
 mod inspect;
 mod jitter;
 mod noise;
+mod prepare;
+mod simulate;
 mod spectrum;
 mod stability;
 mod wander;
@@ -31,6 +34,8 @@ pub use jitter::{
     extrapolated_text, BandOutcome, JitterBand, JitterBody, MaybeJudged, SPUR_CONVENTION,
 };
 pub use noise::{noise_cells, rms, DominantRange, ModelSummary, NoiseBody};
+pub use prepare::PrepareNotes;
+pub use simulate::{exact_model_string, shell_word, simulated_file, values_in_words};
 pub use spectrum::{SpectrumBody, SpectrumRow, SpectrumRows};
 pub use stability::{model_from_stability, AnyCurve, BestCurve, StabilityBody};
 pub use wander::WanderBody;

@@ -1,10 +1,12 @@
 //! The `noise` document: the dominant noise at each τ and the power-law
 //! model fitted to the record.
 
+use super::table::{Cell, Column, Table, Text, Unit};
 use super::{csv_text, Result};
 use crate::model::fit::{LeftOut, ModelFit};
 use crate::model::noise_label;
 use crate::stats::noise_id::NoiseRow;
+use crate::units::{format_si, format_sig};
 use serde::Serialize;
 use std::collections::BTreeMap;
 
@@ -113,5 +115,132 @@ impl NoiseBody {
                 [super::plain(r.tau), r.m.to_string(), a, l, me, r1]
             }),
         )
+    }
+}
+
+impl NoiseBody {
+    /// The table for reading: the dominant noise per τ, then the fitted
+    /// power-law model with its standard errors, the terms left out and
+    /// where each term dominates. `path` names the record.
+    pub fn table(&self, path: &str) -> Text {
+        let mut t = Text::new();
+        t.line(format!("# {path}"));
+        t.blank();
+        let mut rows = Table::new(vec![
+            Column::right("tau", 10).unit(Unit::Si("s")),
+            Column::right("m", 9),
+            Column::right("alpha", 6),
+            Column::right("noise", 6),
+            Column::right("method", 8),
+            Column::right("r1", 8),
+        ])
+        .heading("dominant noise per τ");
+        for r in &self.points {
+            let [a, l, me, r1] = noise_cells(r);
+            let me = if r.capped == Some(true) {
+                format!("{me}^")
+            } else {
+                me
+            };
+            let cell = |t: String| {
+                if t.is_empty() {
+                    Cell::none()
+                } else {
+                    Cell::text(t)
+                }
+            };
+            rows.row(vec![
+                Cell::num(r.tau),
+                Cell::int(r.m),
+                cell(a),
+                cell(l),
+                cell(me),
+                cell(r1),
+            ]);
+        }
+        if self
+            .points
+            .iter()
+            .any(|r| r.noise == Some(crate::stats::NoiseLabel::Drift))
+        {
+            rows.note(format!(
+                "drift: σ_y there follows |D|·τ/√2 of the record's linear frequency drift D = {} per day \
+                 (NIST SP 1065), the noise beneath (alpha) is what the Hadamard family sees; the Allan \
+                 family has no interval there (--remove-drift linear shows the noise beneath)",
+                self.drift_per_day.map_or("?".to_string(), |d| format_sig(d, 4))
+            ));
+        }
+        if self.points.iter().any(|r| r.capped == Some(true)) {
+            rows.note("^ capped at the type of the record's octave τ below (the dominant power law only gets redder with τ)");
+        }
+        t.table(rows);
+        t.blank();
+        t.extend(self.model.table());
+        t
+    }
+}
+
+impl ModelSummary {
+    /// The fitted model for reading: h_α ± standard error, the terms left
+    /// out and why, where each term dominates, the residual and the model
+    /// in `--model` notation.
+    pub fn table(&self) -> Text {
+        let mut t = Text::new();
+        t.line(format!(
+            "power-law model fitted to OADEV and MDEV (EDF-weighted, log space; ± one standard error), f_h = {}",
+            format_si(self.fh, "Hz", 4)
+        ));
+        let mut h = Table::new(vec![
+            Column::left("", 4),
+            Column::right("", 22),
+            Column::left("", 0).gap(3),
+        ])
+        .indent(2);
+        for a in (-2i32..=2).rev() {
+            let key = a.to_string();
+            let v = match self.h.get(&key).copied().flatten() {
+                Some(v) => match self.std_err.get(&key).copied().flatten() {
+                    Some(se) => format!("{} ± {}", format_sig(v, 4), format_sig(se, 2)),
+                    None => format_sig(v, 4),
+                },
+                None => "not in the fit".to_string(),
+            };
+            h.row(vec![
+                Cell::text(format!("h{a}")),
+                Cell::text(v),
+                Cell::text(format!("({})", noise_label(a).unwrap_or(""))),
+            ]);
+        }
+        for l in &self.left_out {
+            let why = match l.reason {
+                crate::model::LeftOutReason::AtZero => {
+                    "the non-negative fit put it at zero".to_string()
+                }
+                crate::model::LeftOutReason::NotSignificant => format!(
+                    "{} ± {} is below {}σ, so it was removed and the model refitted",
+                    format_sig(l.h, 3),
+                    l.std_err.map_or("?".into(), |e| format_sig(e, 2)),
+                    self.significance_sigma
+                ),
+            };
+            h.note(format!(
+                "  left out h{} ({}): {why}",
+                l.alpha,
+                noise_label(l.alpha).unwrap_or("")
+            ));
+        }
+        h.note("dominant terms:");
+        for d in &self.dominant {
+            h.note(format!(
+                "  {:<5} from {} to {}",
+                d.noise.unwrap_or("?"),
+                format_si(d.tau_from, "s", 4),
+                format_si(d.tau_to, "s", 4)
+            ));
+        }
+        h.note(format!("residual rms: {:.2} dB", self.residual_db_rms));
+        h.note(format!("model (for --model): {}", self.model_string));
+        t.table(h);
+        t
     }
 }

@@ -1,11 +1,11 @@
 //! The `spectrum` document (and the L(f) tables of `convert --to lf`): one
 //! row per offset with L(f), S_φ, S_y and S_x.
 
+use super::table::{Cell, Column, Table, Text, Unit};
 use super::{csv_text, plain, plain_opt, Result};
 use crate::spectrum::{Quantity, Spectrum};
-use crate::units::{format_si, format_sig};
+use crate::units::format_si;
 use serde::Serialize;
-use std::fmt::Write as _;
 
 /// One offset: `{"f","lf_dbc_hz","sphi","sy","sx"}` (Hz, dBc/Hz, rad²/Hz,
 /// 1/Hz, s²/Hz); L(f) and S_φ are `null` without a carrier.
@@ -73,30 +73,37 @@ impl SpectrumRows {
         )
     }
 
-    /// Aligned text columns for reading.
-    pub fn text(&self) -> String {
-        let mut out = String::new();
-        let _ = writeln!(
-            out,
-            "{:>12}  {:>12}  {:>11}  {:>11}  {:>11}",
-            "f", "L(f) dBc/Hz", "S_φ rad²/Hz", "S_y 1/Hz", "S_x s²/Hz"
-        );
+    /// The rows for reading: offset, L(f), S_φ, S_y, S_x (`-` where a
+    /// quantity needs the carrier).
+    pub fn table(&self) -> Table {
+        let mut t = Table::new(vec![
+            Column::right("f", 12).unit(Unit::Si("Hz")),
+            Column::right("L(f) dBc/Hz", 12)
+                .unit(Unit::Fixed(2, ""))
+                .gap(2)
+                .missing("-"),
+            Column::right("S_φ rad²/Hz", 11)
+                .unit(Unit::Plain)
+                .gap(2)
+                .missing("-"),
+            Column::right("S_y 1/Hz", 11).unit(Unit::Plain).gap(2),
+            Column::right("S_x s²/Hz", 11).unit(Unit::Plain).gap(2),
+        ]);
         for r in &self.0 {
-            let _ = writeln!(
-                out,
-                "{:>12}  {:>12}  {:>11}  {:>11}  {:>11}",
-                format_si(r.f, "Hz", 4),
-                r.lf_dbc_hz
-                    .map(|v| format!("{v:.2}"))
-                    .unwrap_or_else(|| "-".into()),
-                r.sphi
-                    .map(|v| format_sig(v, 4))
-                    .unwrap_or_else(|| "-".into()),
-                format_sig(r.sy, 4),
-                format_sig(r.sx, 4)
-            );
+            t.row(vec![
+                Cell::num(r.f),
+                Cell::opt(r.lf_dbc_hz),
+                Cell::opt(r.sphi),
+                Cell::num(r.sy),
+                Cell::num(r.sx),
+            ]);
         }
-        out
+        t
+    }
+
+    /// [`SpectrumRows::table`] as text.
+    pub fn text(&self) -> String {
+        self.table().render()
     }
 }
 
@@ -150,5 +157,36 @@ impl SpectrumBody {
             bins,
             points,
         }
+    }
+}
+
+impl SpectrumBody {
+    /// The table for reading: how the spectrum was made (window, ENBW,
+    /// resolution, overlap, gaps, warnings, carrier), then the rows.
+    /// `path` names the record; `frequency_record` when it held frequency.
+    pub fn table(&self, path: &str, frequency_record: bool) -> Text {
+        let mut t = Text::new();
+        t.line(format!("Spectrum of {path} (Welch)"));
+        t.line(format!(
+            "  window {}, ENBW {}, resolution {}, overlap {:.0} %",
+            self.window,
+            format_si(self.enbw_hz, "Hz", 4),
+            format_si(self.resolution_hz, "Hz", 4),
+            self.overlap * 100.0
+        ));
+        t.line(format!("  {}", self.gaps_handling));
+        if frequency_record {
+            t.line("  frequency record: S_y = (2 sin(πfτ0)/τ0)²·S_x of the integrated phase (sampled data); L(f), S_φ and S_x from S_y");
+        }
+        for warning in &self.warnings {
+            t.line(format!("  warning: {warning}"));
+        }
+        match self.carrier {
+            Some(c) => t.line(format!("  carrier {}", format_si(c, "Hz", 4))),
+            None => t.line("  no carrier given: L(f) and S_φ not shown"),
+        }
+        t.blank();
+        t.table(self.points.table());
+        t
     }
 }

@@ -1,8 +1,11 @@
 //! The `wander` document: TIE statistics, MTIE and TDEV (in the point
 //! shape of `stability`), and the mask checks.
 
+use super::table::{Cell, Column, Table, Text, Unit};
 use super::{csv_text, Result};
 use crate::deviation::{Estimate, Point};
+use crate::units::{format_margin_db, format_si};
+use crate::verdict::Verdict;
 use crate::wander::WanderResult;
 use serde::Serialize;
 
@@ -46,5 +49,124 @@ impl WanderBody {
                 })
             });
         csv_text(&header, rows)
+    }
+}
+
+impl WanderBody {
+    /// The table for reading: TIE over the record, MTIE and TDEV per τ,
+    /// then each mask check (verdict, source, worst point, what it
+    /// covered, violations) and the caution. `input` is the record.
+    pub fn table(&self, input: &super::RecordInput) -> Text {
+        let r = &self.result;
+        let si = |v: f64| format_si(v, "s", 4);
+        let mut s = Text::new();
+        s.line(format!(
+            "{}: {} points at τ0 = {}, {} gaps",
+            input.path,
+            input.points,
+            si(input.tau0),
+            input.gaps
+        ));
+        s.blank();
+        s.line("TIE over the record");
+        if let Some(y) = r.tie.offset_removed {
+            s.line(format!("  frequency offset removed  {y:.4e}"));
+        }
+        let mut tie = Table::new(vec![
+            Column::left("", 12),
+            Column::left("", 0).unit(Unit::Si("s")),
+        ])
+        .indent(2);
+        for (k, v) in [
+            ("max |TIE|", r.tie.max_abs),
+            ("peak-to-peak", r.tie.pk_pk),
+            ("rms", r.tie.rms),
+        ] {
+            tie.row(vec![Cell::text(k), Cell::num(v)]);
+        }
+        s.table(tie);
+        s.blank();
+        let mut tab = Table::new(vec![
+            Column::right("τ", 12).unit(Unit::Si("s")),
+            Column::right("MTIE", 12).unit(Unit::Si("s")).gap(2),
+            Column::right("TDEV", 12).unit(Unit::Si("s")).gap(2),
+        ]);
+        let mut taus: Vec<f64> = r.mtie.iter().chain(&r.tdev).map(|p| p.tau).collect();
+        taus.sort_by(f64::total_cmp);
+        taus.dedup();
+        for t in taus {
+            let find = |c: &[Estimate]| Cell::opt(c.iter().find(|p| p.tau == t).map(|p| p.value));
+            tab.row(vec![Cell::num(t), find(&r.mtie), find(&r.tdev)]);
+        }
+        s.table(tab);
+        for c in &r.checks {
+            s.blank();
+            s.line(format!(
+                "mask {} ({}): {}",
+                c.name,
+                c.metric.name().to_uppercase(),
+                c.judgement.cell()
+            ));
+            s.line(format!("  {}", c.source_note));
+            if let (Some(ratio), Some(t)) = (c.worst_ratio, c.worst_tau) {
+                s.line(format!(
+                    "  worst: {:.3} of the limit ({} margin) at τ = {}",
+                    ratio,
+                    c.worst_margin_db
+                        .map(format_margin_db)
+                        .unwrap_or_else(|| "unlimited".into()),
+                    si(t)
+                ));
+            }
+            let mask_to = c
+                .mask_range
+                .to
+                .map(si)
+                .unwrap_or_else(|| "no upper end".into());
+            match (&c.checked_range, c.judgement.verdict) {
+                (Some(r), v) if v != Verdict::NotJudged => {
+                    s.line(format!(
+                        "  checked {} τ from {} to {} (the mask: {} to {}); coverage {}",
+                        c.checked,
+                        si(r.from),
+                        si(r.to.unwrap_or(r.from)),
+                        si(c.mask_range.from),
+                        mask_to,
+                        c.judgement.coverage.name()
+                    ));
+                }
+                _ => {}
+            }
+            if let Some(why) = &c.judgement.reason {
+                let lead = if c.judgement.verdict == Verdict::NotJudged {
+                    "not judged: "
+                } else {
+                    ""
+                };
+                s.line(format!("  {lead}{why}"));
+            }
+            if !c.violations.is_empty() {
+                if let Some(t) = c.crossing_tau {
+                    s.line(format!("  first exceeds the limit near τ = {}", si(t)));
+                }
+                let list: Vec<String> = c.violations.iter().map(|v| si(v.tau)).collect();
+                let shown = if list.len() > 8 {
+                    format!(
+                        "{}, … {}",
+                        list[..3].join(", "),
+                        list[list.len() - 3..].join(", ")
+                    )
+                } else {
+                    list.join(", ")
+                };
+                s.line(format!("  {} violating τ: {shown}", c.violations.len()));
+            }
+        }
+        if !r.checks.is_empty() {
+            s.blank();
+            s.line(crate::wander::masks::CONDITIONS_NOTE);
+            s.line(crate::DECISION_CAUTION);
+        }
+        s
     }
 }
