@@ -16,6 +16,7 @@ use serde::Serialize;
 pub mod json;
 
 mod convert;
+mod fleet;
 mod holdover;
 mod inspect;
 mod jitter;
@@ -25,6 +26,10 @@ mod stability;
 mod wander;
 
 pub use convert::{ConvertedCurve, ConvertedPoint, FittedModel, SigmaBody, SIGMA_METHOD};
+pub use fleet::{
+    CheckColumn, CheckKind, DeviceSummary, FarPoint, FleetDocument, FleetInput, FleetMatrix,
+    FloorPoint, MatrixCell, MatrixRow, SummaryTerm,
+};
 pub use holdover::HoldoverBody;
 pub use inspect::InspectBody;
 pub use jitter::{
