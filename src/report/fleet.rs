@@ -49,16 +49,8 @@ impl Fleet {
     /// Two devices of one name are refused: the legends, the ranking and
     /// the matrix name devices.
     pub fn from_reports(reports: Vec<Report>, duts: &[String]) -> Result<Self> {
-        for (i, r) in reports.iter().enumerate() {
-            if let Some(j) = reports[..i].iter().position(|o| o.device == r.device) {
-                return Err(Error::invalid(format!(
-                    "{} and {} both name the device \"{}\": give each DUT file its own [device] name",
-                    duts.get(j).map(String::as_str).unwrap_or("?"),
-                    duts.get(i).map(String::as_str).unwrap_or("?"),
-                    r.device
-                )));
-            }
-        }
+        let names: Vec<&str> = reports.iter().map(|r| r.device.as_str()).collect();
+        distinct_names(&names, duts)?;
         let pairs: Vec<(&Report, String)> = reports
             .iter()
             .zip(duts)
@@ -73,6 +65,20 @@ impl Fleet {
     }
 }
 
+/// Refuse two devices of one name (`files` name their DUT files).
+fn distinct_names(names: &[&str], files: &[String]) -> Result<()> {
+    for (i, n) in names.iter().enumerate() {
+        if let Some(j) = names[..i].iter().position(|o| o == n) {
+            return Err(Error::invalid(format!(
+                "{} and {} both name the device \"{n}\": give each DUT file its own [device] name",
+                files.get(j).map(String::as_str).unwrap_or("?"),
+                files.get(i).map(String::as_str).unwrap_or("?"),
+            )));
+        }
+    }
+    Ok(())
+}
+
 /// Build every device's report in parallel (rayon) and the matrix.
 /// `progress(device, done, total, what)` is called before each step of
 /// each device, from the worker threads.
@@ -81,6 +87,9 @@ pub fn build(
     opts: &build::BuildOptions,
     progress: &(dyn Fn(usize, usize, usize, &str) + Sync),
 ) -> Result<Fleet> {
+    let files: Vec<String> = duts.iter().map(|d| d.file.display().to_string()).collect();
+    let names: Vec<&str> = duts.iter().map(|d| d.name.as_str()).collect();
+    distinct_names(&names, &files)?;
     let reports: Vec<Report> = duts
         .par_iter()
         .enumerate()
@@ -90,8 +99,7 @@ pub fn build(
             })
         })
         .collect::<Result<Vec<_>>>()?;
-    let names: Vec<String> = duts.iter().map(|d| d.file.display().to_string()).collect();
-    Fleet::from_reports(reports, &names)
+    Fleet::from_reports(reports, &files)
 }
 
 /// Device `i`'s style: its colour, its marker, a solid line.
