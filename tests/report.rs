@@ -51,6 +51,8 @@ fn full_report(name: &str) -> Report {
             criterion: "MTIE".into(),
             result: "worst 0.5".into(),
             judgement: Judgement::judged(false, Coverage::Full),
+            ratio: None,
+            hold_time: None,
         },
         VerdictLine {
             kind: VerdictKind::Jitter,
@@ -58,6 +60,8 @@ fn full_report(name: &str) -> Report {
             criterion: "≤ 1 ps".into(),
             result: "1.789 ps".into(),
             judgement: Judgement::judged(true, Coverage::Full),
+            ratio: None,
+            hold_time: None,
         },
         VerdictLine {
             kind: VerdictKind::Holdover,
@@ -65,6 +69,8 @@ fn full_report(name: &str) -> Report {
             criterion: "p95 ≤ 1.5 µs".into(),
             result: "4.32 µs".into(),
             judgement: Judgement::judged(true, Coverage::Full),
+            ratio: None,
+            hold_time: None,
         },
     ];
     r.stability = Part::Done(vec![StabilitySection {
@@ -233,6 +239,7 @@ fn full_report(name: &str) -> Report {
             judgement: Judgement::judged(true, Coverage::Full),
         }],
         holds_for: Some(12.0 * 3600.0),
+        aging_per_day: Some((1e-10, Some(1e-12))),
         parameters: vec![("aging".into(), "1e-10/day".into())],
         notes: vec![],
     });

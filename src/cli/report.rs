@@ -1,7 +1,9 @@
 //! `tauwise report DUT.toml -o report.html`: one self-contained HTML report
 //! for a device under test; or the quick form `tauwise report FILE --tau0 …
 //! [--lf TABLE --carrier F]` for a single record (and phase-noise table)
-//! without a DUT file.
+//! without a DUT file. With several DUT files, one comparison report
+//! (`tauwise::report::fleet`); `--format json` prints the verdict matrix
+//! (`tauwise::results::FleetDocument`) for any number of DUT files.
 
 use super::common::{emit_to, ConfidenceArgs, InputArgs};
 use super::Outcome;
@@ -11,14 +13,27 @@ use tauwise::io::dut::{Dut, LfQuantity, LfSource, TimeSource};
 use tauwise::report::build::{from_dut_with_progress, BuildOptions};
 use tauwise::{DataKind, Error, Result};
 
-/// Make the HTML report for a device under test.
+/// What `report` writes.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, clap::ValueEnum)]
+pub enum ReportFormat {
+    /// The self-contained HTML report (one device) or comparison (several).
+    #[default]
+    Html,
+    /// The verdict matrix of the DUT files as JSON (docs/json.md).
+    Json,
+}
+
+/// Make the HTML report for a device under test, or compare several.
 #[derive(Debug, ClapArgs)]
 #[command(after_help = super::EXIT_CODES)]
 pub struct Args {
     /// A DUT file (`.toml`, see docs/dut-file.md), or a time record for the
-    /// quick form.
-    #[arg(value_name = "DUT|FILE")]
-    pub input: PathBuf,
+    /// quick form; several DUT files make one comparison report.
+    #[arg(value_name = "DUT|FILE", required = true, num_args = 1..)]
+    pub inputs: Vec<PathBuf>,
+    /// html (default) or json: the verdict matrix of the DUT files.
+    #[arg(long, value_enum, default_value_t = ReportFormat::Html)]
+    pub format: ReportFormat,
     /// Write the report to FILE (atomically); default: standard output.
     #[arg(short = 'o', long = "output", value_name = "FILE")]
     pub output: Option<PathBuf>,
@@ -53,10 +68,10 @@ fn is_dut_file(p: &std::path::Path) -> bool {
 }
 
 /// The quick form as an in-memory DUT.
-fn quick_dut(a: &Args) -> Result<Dut> {
+fn quick_dut(a: &Args, input: &std::path::Path) -> Result<Dut> {
     let opts = a.input_args.options()?;
     let name = a.name.clone().unwrap_or_else(|| {
-        a.input
+        input
             .file_name()
             .map(|n| n.to_string_lossy().into_owned())
             .unwrap_or_else(|| "record".into())
@@ -92,17 +107,16 @@ fn quick_dut(a: &Args) -> Result<Dut> {
         });
     }
     Ok(Dut {
-        file: a.input.clone(),
+        file: input.to_path_buf(),
         name,
         description: None,
         carrier: opts.carrier,
         records: vec![TimeSource {
-            name: a
-                .input
+            name: input
                 .file_name()
                 .map(|n| n.to_string_lossy().into_owned())
                 .unwrap_or_default(),
-            path: a.input.clone(),
+            path: input.to_path_buf(),
             data: kind,
             tau0: opts.tau0,
             units: opts.unit,
@@ -135,27 +149,52 @@ fn parse_size(text: &str) -> std::result::Result<(u32, u32), tauwise::units::Uni
         })
 }
 
+/// Every file a DUT reads (for the output check).
+fn dut_inputs(dut: &Dut) -> Vec<&std::path::Path> {
+    let mut inputs: Vec<&std::path::Path> = vec![dut.file.as_path()];
+    inputs.extend(dut.records.iter().chain(&dut.tie).map(|r| r.path.as_path()));
+    inputs.extend(dut.phase_noise.iter().map(|t| t.path.as_path()));
+    inputs.extend(dut.jitter.iter().filter_map(|j| j.filter_file.as_deref()));
+    if let Some(w) = &dut.wander {
+        inputs.extend(w.mask_files.iter().map(|p| p.as_path()));
+    }
+    inputs
+}
+
 /// Run `report`.
 pub fn run(a: Args) -> Result<Outcome> {
-    let dut = if is_dut_file(&a.input) {
-        if a.lf.is_some() || a.name.is_some() || a.input_args.tau0.is_some() {
+    let quick_opts = a.lf.is_some() || a.name.is_some() || a.input_args.tau0.is_some();
+    let duts: Vec<Dut> = if a.inputs.len() > 1 {
+        if let Some(p) = a.inputs.iter().find(|p| !is_dut_file(p)) {
+            return Err(Error::option(
+                format!("{}", p.display()),
+                "several inputs make a comparison of DUT files: each must be a .toml DUT file (docs/dut-file.md)",
+            ));
+        }
+        if quick_opts {
+            return Err(Error::option(
+                "--lf, --name, --tau0",
+                "belong to the quick form of one record; a DUT file holds them itself",
+            ));
+        }
+        a.inputs
+            .iter()
+            .map(|p| Dut::read(p).map_err(Error::from))
+            .collect::<Result<_>>()?
+    } else if is_dut_file(&a.inputs[0]) {
+        if quick_opts {
             return Err(Error::option(
                 "--lf, --name, --tau0",
                 "belong to the quick form; a DUT file holds them itself",
             ));
         }
-        Dut::read(&a.input)?
+        vec![Dut::read(&a.inputs[0])?]
     } else {
-        quick_dut(&a)?
+        vec![quick_dut(&a, &a.inputs[0])?]
     };
     // Before any computing: the output must not be an input, and its
     // directory must take the file.
-    let mut inputs: Vec<&std::path::Path> = vec![a.input.as_path()];
-    inputs.extend(dut.records.iter().chain(&dut.tie).map(|r| r.path.as_path()));
-    inputs.extend(dut.phase_noise.iter().map(|t| t.path.as_path()));
-    if let Some(w) = &dut.wander {
-        inputs.extend(w.mask_files.iter().map(|p| p.as_path()));
-    }
+    let inputs: Vec<&std::path::Path> = duts.iter().flat_map(dut_inputs).collect();
     super::common::check_output_paths(&inputs, &[a.output.as_deref()])?;
     let opts = BuildOptions {
         confidence: a.confidence.confidence.value(),
@@ -170,11 +209,110 @@ pub fn run(a: Args) -> Result<Outcome> {
             ));
         }
     }
+    if duts.len() == 1 && a.format == ReportFormat::Html {
+        return single(&a, &duts[0], &opts, size);
+    }
+    let fleet = {
+        let bars = DeviceBars::new(&duts);
+        let r =
+            tauwise::report::fleet::build(&duts, &opts, &|i, done, _, what| bars.at(i, done, what));
+        drop(bars);
+        r?
+    };
+    let gate = tauwise::verdict::gate(
+        fleet
+            .reports
+            .iter()
+            .flat_map(|r| r.verdicts.iter().map(|v| &v.judgement)),
+    );
+    match a.format {
+        ReportFormat::Json => {
+            let (text, not_finite) =
+                tauwise::results::FleetDocument::new(fleet.matrix.clone()).json()?;
+            if !not_finite.is_empty() {
+                eprintln!(
+                    "tauwise: note: not finite (written as strings): {}",
+                    not_finite.join(", ")
+                );
+            }
+            emit_to(a.output.as_deref(), text.as_bytes())?;
+        }
+        ReportFormat::Html => {
+            let html = tauwise::report::fleet::render_html(&fleet)?;
+            emit_to(a.output.as_deref(), html.as_bytes())?;
+        }
+    }
+    if let Some(dir) = &a.charts {
+        for (stem, chart) in tauwise::report::fleet::charts(&fleet) {
+            tauwise::plot::render(&chart, &dir.join(format!("{stem}.png")), size)?;
+        }
+    }
+    Ok(Outcome::of_gate(gate, a.fail_on_violation))
+}
+
+/// One progress bar per device on a terminal (nothing otherwise).
+struct DeviceBars(Option<(indicatif::MultiProgress, Vec<indicatif::ProgressBar>)>);
+
+impl DeviceBars {
+    fn new(duts: &[Dut]) -> Self {
+        use std::io::IsTerminal;
+        if !std::io::stderr().is_terminal() {
+            return Self(None);
+        }
+        let multi = indicatif::MultiProgress::new();
+        let width = duts
+            .iter()
+            .map(|d| d.name.chars().count())
+            .max()
+            .unwrap_or(0);
+        let bars = duts
+            .iter()
+            .map(|d| {
+                let b = multi.add(indicatif::ProgressBar::new(
+                    tauwise::report::build::steps(d) as u64,
+                ));
+                b.set_style(
+                    indicatif::ProgressStyle::with_template(
+                        "{prefix} [{bar:30}] {pos}/{len} {msg}",
+                    )
+                    .unwrap_or_else(|_| indicatif::ProgressStyle::default_bar())
+                    .progress_chars("=> "),
+                );
+                b.set_prefix(format!("{:width$}", d.name));
+                b
+            })
+            .collect();
+        Self(Some((multi, bars)))
+    }
+
+    fn at(&self, i: usize, done: usize, what: &str) {
+        if let Some((_, bars)) = &self.0 {
+            if let Some(b) = bars.get(i) {
+                b.set_position(done as u64);
+                b.set_message(what.to_string());
+            }
+        }
+    }
+}
+
+impl Drop for DeviceBars {
+    fn drop(&mut self) {
+        if let Some((multi, bars)) = &self.0 {
+            for b in bars {
+                b.finish_and_clear();
+            }
+            let _ = multi.clear();
+        }
+    }
+}
+
+/// The single-device HTML report.
+fn single(a: &Args, dut: &Dut, opts: &BuildOptions, size: (u32, u32)) -> Result<Outcome> {
     let report = {
         // A progress bar on stderr when it is a terminal, nothing otherwise.
         let bar =
-            super::common::Progress::steps("report", tauwise::report::build::steps(&dut) as u64);
-        let r = from_dut_with_progress(&dut, &opts, &mut |done, _, what| {
+            super::common::Progress::steps("report", tauwise::report::build::steps(dut) as u64);
+        let r = from_dut_with_progress(dut, opts, &mut |done, _, what| {
             bar.at(done as u64, what.to_string());
         });
         drop(bar);

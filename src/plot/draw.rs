@@ -336,6 +336,25 @@ fn draw_marker<DB: DrawingBackend>(
             root.draw(&PathElement::new(pts, stroke(c, w)))
                 .map_err(fail)?;
         }
+        Marker::Ring => {
+            root.draw(&Circle::new(
+                px(at),
+                r.round() as i32,
+                BACKGROUND_FILL.filled(),
+            ))
+            .map_err(fail)?;
+            root.draw(&Circle::new(px(at), r.round() as i32, stroke(c, w)))
+                .map_err(fail)?;
+        }
+        Marker::DownTriangle => {
+            let k = r * 1.25;
+            let pts = vec![
+                px((x, y + k)),
+                px((x + k, y - 0.8 * k)),
+                px((x - k, y - 0.8 * k)),
+            ];
+            root.draw(&Polygon::new(pts, c.filled())).map_err(fail)?;
+        }
         Marker::Cross => {
             let k = r * 1.4;
             let w = (2.2 * s).max(1.5);

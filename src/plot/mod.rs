@@ -168,6 +168,10 @@ pub enum Marker {
     Diamond,
     /// Diagonal cross (used for violations).
     Cross,
+    /// Open circle.
+    Ring,
+    /// Filled triangle pointing down.
+    DownTriangle,
 }
 
 /// How a series is drawn.

@@ -11,6 +11,10 @@
 //! frequency stability; noise model; phase noise and jitter; short and long
 //! τ together; wander against masks; holdover; inputs; methods and sources;
 //! cautions.
+//!
+//! With several DUT files, [`fleet`] builds each device's report in
+//! parallel and writes one comparison: the verdict matrix, overlaid charts,
+//! a summary row per device, and each device's sections below.
 
 use crate::error::Result;
 use crate::plot::holdover::HoldoverPlot;
@@ -20,6 +24,7 @@ use crate::plot::wander::WanderPlot;
 use std::path::Path;
 
 pub mod build;
+pub mod fleet;
 pub mod html;
 pub mod provenance;
 mod sections;
@@ -65,6 +70,24 @@ pub struct VerdictLine {
     /// The shared verdict: meets, exceeds or not judged, with coverage.
     #[serde(flatten)]
     pub judgement: crate::verdict::Judgement,
+    /// Measured over limit at the point that decides (the worst τ of a
+    /// mask, the band's rms over a jitter limit, p95 of |TE| at the span's
+    /// end over a holdover budget); `None` when not judged.
+    pub ratio: Option<f64>,
+    /// Holdover only: when p95 of |TE| first reaches the budget (s), when
+    /// it does within the span.
+    pub hold_time: Option<f64>,
+}
+
+impl VerdictLine {
+    /// The margin in dB, 20·log10(limit / measured) (the quantities judged
+    /// are amplitudes: times, rms jitter, |TE|); positive means within the
+    /// limit. `None` when there is no finite positive ratio.
+    pub fn margin_db(&self) -> Option<f64> {
+        self.ratio
+            .filter(|r| r.is_finite() && *r > 0.0)
+            .map(|r| -20.0 * r.log10())
+    }
 }
 
 /// One row of the stability table.
@@ -316,6 +339,9 @@ pub struct HoldoverSection {
     pub spans: Vec<SpanRow>,
     /// When p95 first exceeds the budget (s).
     pub holds_for: Option<f64>,
+    /// The aging rate at the start, per day, with its standard uncertainty
+    /// per day when it was fitted with one (linear law).
+    pub aging_per_day: Option<(f64, Option<f64>)>,
     /// Model and parameters used, in words.
     pub parameters: Vec<(String, String)>,
     /// Notes and the holdover caution.
@@ -512,6 +538,8 @@ mod tests {
             criterion: "1 ps".into(),
             result: "0.2 ps".into(),
             judgement: crate::verdict::Judgement::not_judged("no carrier"),
+            ratio: None,
+            hold_time: None,
         };
         let (v, _) = crate::results::json::to_value(&line).unwrap();
         assert_eq!(v["kind"], "jitter");

@@ -29,6 +29,13 @@ fn opt(v: Option<f64>, f: impl Fn(f64) -> String) -> String {
     v.map(f).unwrap_or_else(|| "—".into())
 }
 
+/// Open section `k` of [`SECTION_IDS`], its id prefixed with `pre` (empty
+/// for the single report; `d1-`, `d2-`, … for each device of a fleet report).
+fn open(h: &mut Html, k: usize, pre: &str) {
+    let (id, title) = SECTION_IDS[k];
+    h.open_section(&format!("{pre}{id}"), title);
+}
+
 fn absent(h: &mut Html, a: &Absent) {
     match a {
         Absent::NotRequested(why) => {
@@ -44,9 +51,8 @@ fn notes(h: &mut Html, list: &[String]) {
     }
 }
 
-fn verdicts(h: &mut Html, r: &Report) {
-    let (id, title) = SECTION_IDS[0];
-    h.open_section(id, title);
+fn verdicts(h: &mut Html, r: &Report, pre: &str) {
+    open(h, 0, pre);
     if r.verdicts.is_empty() {
         h.p_class(
             "absent",
@@ -171,9 +177,8 @@ fn quality(h: &mut Html, q: &DataQuality) {
     h.dl(&pairs);
 }
 
-fn stability(h: &mut Html, p: &Part<Vec<StabilitySection>>) -> Result<()> {
-    let (id, title) = SECTION_IDS[1];
-    h.open_section(id, title);
+fn stability(h: &mut Html, p: &Part<Vec<StabilitySection>>, pre: &str) -> Result<()> {
+    open(h, 1, pre);
     match p {
         Part::Absent(a) => absent(h, a),
         Part::Done(list) => {
@@ -252,9 +257,8 @@ fn stability(h: &mut Html, p: &Part<Vec<StabilitySection>>) -> Result<()> {
     Ok(())
 }
 
-fn noise_model(h: &mut Html, p: &Part<Vec<NoiseModelSection>>) {
-    let (id, title) = SECTION_IDS[2];
-    h.open_section(id, title);
+fn noise_model(h: &mut Html, p: &Part<Vec<NoiseModelSection>>, pre: &str) {
+    open(h, 2, pre);
     match p {
         Part::Absent(a) => absent(h, a),
         Part::Done(list) => {
@@ -304,9 +308,8 @@ fn noise_model(h: &mut Html, p: &Part<Vec<NoiseModelSection>>) {
     h.close_section();
 }
 
-fn phase_noise(h: &mut Html, p: &Part<PhaseNoiseSection>) -> Result<()> {
-    let (id, title) = SECTION_IDS[3];
-    h.open_section(id, title);
+fn phase_noise(h: &mut Html, p: &Part<PhaseNoiseSection>, pre: &str) -> Result<()> {
+    open(h, 3, pre);
     match p {
         Part::Absent(a) => absent(h, a),
         Part::Done(s) => {
@@ -366,9 +369,8 @@ fn phase_noise(h: &mut Html, p: &Part<PhaseNoiseSection>) -> Result<()> {
     Ok(())
 }
 
-fn combined(h: &mut Html, p: &Part<Vec<CombinedSection>>) -> Result<()> {
-    let (id, title) = SECTION_IDS[4];
-    h.open_section(id, title);
+fn combined(h: &mut Html, p: &Part<Vec<CombinedSection>>, pre: &str) -> Result<()> {
+    open(h, 4, pre);
     match p {
         Part::Absent(a) => absent(h, a),
         Part::Done(list) => {
@@ -460,9 +462,8 @@ fn combined(h: &mut Html, p: &Part<Vec<CombinedSection>>) -> Result<()> {
     Ok(())
 }
 
-fn wander(h: &mut Html, p: &Part<WanderSection>) -> Result<()> {
-    let (id, title) = SECTION_IDS[5];
-    h.open_section(id, title);
+fn wander(h: &mut Html, p: &Part<WanderSection>, pre: &str) -> Result<()> {
+    open(h, 5, pre);
     match p {
         Part::Absent(a) => absent(h, a),
         Part::Done(s) => {
@@ -543,9 +544,8 @@ fn wander(h: &mut Html, p: &Part<WanderSection>) -> Result<()> {
     Ok(())
 }
 
-fn holdover(h: &mut Html, p: &Part<HoldoverSection>) -> Result<()> {
-    let (id, title) = SECTION_IDS[6];
-    h.open_section(id, title);
+fn holdover(h: &mut Html, p: &Part<HoldoverSection>, pre: &str) -> Result<()> {
+    open(h, 6, pre);
     match p {
         Part::Absent(a) => absent(h, a),
         Part::Done(s) => {
@@ -601,9 +601,8 @@ fn holdover(h: &mut Html, p: &Part<HoldoverSection>) -> Result<()> {
     Ok(())
 }
 
-fn inputs(h: &mut Html, r: &Report) {
-    let (id, title) = SECTION_IDS[7];
-    h.open_section(id, title);
+fn inputs(h: &mut Html, r: &Report, pre: &str) {
+    open(h, 7, pre);
     if let Some(f) = &r.dut_file {
         h.p(&format!("DUT file: {f}"));
     }
@@ -642,9 +641,8 @@ fn inputs(h: &mut Html, r: &Report) {
     h.close_section();
 }
 
-fn methods(h: &mut Html, r: &Report) {
-    let (id, title) = SECTION_IDS[8];
-    h.open_section(id, title);
+fn methods(h: &mut Html, r: &Report, pre: &str) {
+    open(h, 8, pre);
     if r.methods.is_empty() {
         h.p_class("absent", "No computation was made.");
     } else {
@@ -658,9 +656,8 @@ fn methods(h: &mut Html, r: &Report) {
     h.close_section();
 }
 
-fn cautions(h: &mut Html, r: &Report) {
-    let (id, title) = SECTION_IDS[9];
-    h.open_section(id, title);
+fn cautions(h: &mut Html, r: &Report, pre: &str) {
+    open(h, 9, pre);
     let mut list = r.cautions.clone();
     if !list.iter().any(|c| c == crate::DECISION_CAUTION) {
         list.insert(0, crate::DECISION_CAUTION.to_string());
@@ -669,6 +666,22 @@ fn cautions(h: &mut Html, r: &Report) {
         h.p_class("caution", c);
     }
     h.close_section();
+}
+
+/// Every section of [`SECTION_IDS`] in order, each section id prefixed with
+/// `pre` (the single report and each device of a fleet report).
+pub(super) fn body(h: &mut Html, r: &Report, pre: &str) -> Result<()> {
+    verdicts(h, r, pre);
+    stability(h, &r.stability, pre)?;
+    noise_model(h, &r.noise_model, pre);
+    phase_noise(h, &r.phase_noise, pre)?;
+    combined(h, &r.combined, pre)?;
+    wander(h, &r.wander, pre)?;
+    holdover(h, &r.holdover, pre)?;
+    inputs(h, r, pre);
+    methods(h, r, pre);
+    cautions(h, r, pre);
+    Ok(())
 }
 
 /// The whole document.
@@ -707,16 +720,7 @@ pub(super) fn document(r: &Report) -> Result<String> {
             .raw("</a>\n");
     }
     h.raw("</nav>\n<main>\n");
-    verdicts(&mut h, r);
-    stability(&mut h, &r.stability)?;
-    noise_model(&mut h, &r.noise_model);
-    phase_noise(&mut h, &r.phase_noise)?;
-    combined(&mut h, &r.combined)?;
-    wander(&mut h, &r.wander)?;
-    holdover(&mut h, &r.holdover)?;
-    inputs(&mut h, r);
-    methods(&mut h, r);
-    cautions(&mut h, r);
+    body(&mut h, r, "")?;
     h.raw("</main>\n<footer>");
     h.text(&format!(
         "{} {} · every value above was computed from the inputs listed; nothing was fetched from a network.",

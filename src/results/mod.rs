@@ -17,6 +17,7 @@ pub mod json;
 pub mod table;
 
 mod convert;
+mod fleet;
 mod holdover;
 mod inspect;
 mod jitter;
@@ -28,6 +29,10 @@ mod stability;
 mod wander;
 
 pub use convert::{ConvertedCurve, ConvertedPoint, FittedModel, SigmaBody, SIGMA_METHOD};
+pub use fleet::{
+    CheckColumn, CheckKind, DeviceSummary, FarPoint, FleetDocument, FleetInput, FleetMatrix,
+    FloorPoint, MatrixCell, MatrixRow, SummaryTerm,
+};
 pub use holdover::HoldoverBody;
 pub use inspect::InspectBody;
 pub use jitter::{

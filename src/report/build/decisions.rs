@@ -52,6 +52,8 @@ pub(super) fn wander(dut: &Dut, records: &[Loaded], ties: &[Loaded], r: &mut Rep
                     criterion: "below the mask at every τ it covers".into(),
                     result: format!("not computed: {e}"),
                     judgement: Judgement::not_judged(format!("not computed: {e}")),
+                    ratio: None,
+                    hold_time: None,
                 });
             }
             return Ok(());
@@ -106,6 +108,10 @@ pub(super) fn wander(dut: &Dut, records: &[Loaded], ties: &[Loaded], r: &mut Rep
             ),
             result,
             judgement: c.judgement.clone(),
+            ratio: c
+                .worst_ratio
+                .filter(|_| c.judgement.verdict != Verdict::NotJudged),
+            hold_time: None,
         });
         rows.push(MaskRow {
             name: c.name.clone(),
@@ -170,6 +176,8 @@ pub(super) fn holdover(
                 criterion: format!("p95 of |TE| ≤ {}", format_si(h.budget, "s", 3)),
                 result: format!("not computed: {why}"),
                 judgement: Judgement::not_judged(format!("not computed: {why}")),
+                ratio: None,
+                hold_time: None,
             });
         }
         r.holdover = Part::not_computed(why);
@@ -242,6 +250,10 @@ pub(super) fn holdover(
                 _ => "no time points".into(),
             },
             judgement: judgement.clone(),
+            ratio: end
+                .map(|e| e.p95 / h.budget)
+                .filter(|_| judgement.verdict != Verdict::NotJudged),
+            hold_time: pred.holds_for,
         });
         if let Some(e) = end {
             spans.push(SpanRow {
@@ -352,6 +364,14 @@ pub(super) fn holdover(
         ),
         spans,
         holds_for: pred.holds_for,
+        aging_per_day: Some((
+            model.aging.rate(model.start) * 86400.0,
+            match model.aging {
+                _ if h.aging.is_some() => None,
+                crate::holdover::aging::Aging::Linear { d_sigma, .. } => Some(d_sigma * 86400.0),
+                crate::holdover::aging::Aging::Log { .. } => None,
+            },
+        )),
         parameters,
         notes: vec![prepared_note.to_string(), caution],
     });

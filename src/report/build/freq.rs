@@ -224,7 +224,12 @@ pub(super) fn phase_noise(
                                 .map(|w| format!("; {w}"))
                                 .unwrap_or_default()
                         ),
+                        ratio: j
+                            .limit
+                            .and_then(|l| l.measured(&b).map(|v| v / l.value()))
+                            .filter(|_| jd.verdict != crate::verdict::Verdict::NotJudged),
                         judgement: jd,
+                        hold_time: None,
                     });
                 }
                 marks.push(BandMark::from_jitter(&j.name, &b));
@@ -239,6 +244,8 @@ pub(super) fn phase_noise(
                     result: format!("not computed: {e}"),
                     judgement: judgement
                         .unwrap_or_else(|| Judgement::not_judged(format!("not computed: {e}"))),
+                    ratio: None,
+                    hold_time: None,
                 });
             }
         }

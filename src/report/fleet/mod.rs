@@ -1,0 +1,100 @@
+//! The comparison report of several devices: each device's report built
+//! from its DUT file (in parallel, by the same [`super::build`] path as the
+//! single report, so every verdict is the single report's), the verdict
+//! matrix ([`crate::results::FleetMatrix`]) with the answer first, charts
+//! that overlay the devices — one colour and marker per device, the same
+//! in every chart ([`crate::plot::style::DEVICE_PALETTE`]) — the summary
+//! rows, and every device's full sections below, linked by anchors.
+//!
+//! Sections of the comparison (our own names): the answer; verdict matrix;
+//! the devices side by side (charts); summary per device; then one block per
+//! device with the single report's sections, ids prefixed `d1-`, `d2-`, ….
+
+use super::{build, Report};
+use crate::error::{Error, Result};
+use crate::io::dut::Dut;
+use crate::results::FleetMatrix;
+use rayon::prelude::*;
+
+mod charts;
+mod page;
+
+pub use charts::charts;
+pub use page::{anchor, render_html, write};
+
+/// The comparison sections, in document order (ids and headings).
+pub const FLEET_SECTION_IDS: [(&str, &str); 4] = [
+    ("answer", "The answer"),
+    ("matrix", "Verdict matrix"),
+    ("side-by-side", "The devices side by side"),
+    ("summary", "Summary per device"),
+];
+
+/// Several devices' reports and their matrix.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Fleet {
+    /// Each device's report, in input order.
+    pub reports: Vec<Report>,
+    /// The matrix.
+    pub matrix: FleetMatrix,
+    /// When it was made (UTC, text).
+    pub generated: String,
+}
+
+impl Fleet {
+    /// The comparison of reports already built, each with its DUT file.
+    /// Two devices of one name are refused: the legends, the ranking and
+    /// the matrix name devices.
+    pub fn from_reports(reports: Vec<Report>, duts: &[String]) -> Result<Self> {
+        let names: Vec<&str> = reports.iter().map(|r| r.device.as_str()).collect();
+        distinct_names(&names, duts)?;
+        let pairs: Vec<(&Report, String)> = reports
+            .iter()
+            .zip(duts)
+            .map(|(r, d)| (r, d.clone()))
+            .collect();
+        let matrix = FleetMatrix::build(&pairs);
+        Ok(Self {
+            reports,
+            matrix,
+            generated: super::now_utc(),
+        })
+    }
+}
+
+/// Refuse two devices of one name (`files` name their DUT files).
+fn distinct_names(names: &[&str], files: &[String]) -> Result<()> {
+    for (i, n) in names.iter().enumerate() {
+        if let Some(j) = names[..i].iter().position(|o| o == n) {
+            return Err(Error::invalid(format!(
+                "{} and {} both name the device \"{n}\": give each DUT file its own [device] name",
+                files.get(j).map(String::as_str).unwrap_or("?"),
+                files.get(i).map(String::as_str).unwrap_or("?"),
+            )));
+        }
+    }
+    Ok(())
+}
+
+/// Build every device's report in parallel (rayon) and the matrix.
+/// `progress(device, done, total, what)` is called before each step of
+/// each device, from the worker threads.
+pub fn build(
+    duts: &[Dut],
+    opts: &build::BuildOptions,
+    progress: &(dyn Fn(usize, usize, usize, &str) + Sync),
+) -> Result<Fleet> {
+    let files: Vec<String> = duts.iter().map(|d| d.file.display().to_string()).collect();
+    let names: Vec<&str> = duts.iter().map(|d| d.name.as_str()).collect();
+    distinct_names(&names, &files)?;
+    let reports: Vec<Report> = duts
+        .par_iter()
+        .enumerate()
+        .map(|(i, d)| {
+            build::from_dut_with_progress(d, opts, &mut |done, total, what| {
+                progress(i, done, total, what)
+            })
+        })
+        .collect::<Result<Vec<_>>>()?;
+    Fleet::from_reports(reports, &files)
+}
