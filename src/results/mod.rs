@@ -20,6 +20,7 @@ mod holdover;
 mod inspect;
 mod jitter;
 mod noise;
+mod separate;
 mod spectrum;
 mod stability;
 mod wander;
@@ -31,6 +32,7 @@ pub use jitter::{
     extrapolated_text, BandOutcome, JitterBand, JitterBody, MaybeJudged, SPUR_CONVENTION,
 };
 pub use noise::{noise_cells, rms, DominantRange, ModelSummary, NoiseBody};
+pub use separate::{PairInputs, SeparateBody};
 pub use spectrum::{SpectrumBody, SpectrumRow, SpectrumRows};
 pub use stability::{model_from_stability, AnyCurve, BestCurve, StabilityBody};
 pub use wander::WanderBody;
@@ -87,6 +89,8 @@ pub enum Input {
     /// A power-law model given on the command line or fitted to a
     /// `stability` document.
     Model(ModelInput),
+    /// Several pair records (`separate`).
+    Pairs(PairInputs),
 }
 
 /// A time record: `{"path","data","tau0","points","gaps","preamble_lines"}`.
