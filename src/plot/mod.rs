@@ -25,6 +25,7 @@ mod draw;
 pub mod holdover;
 pub mod phase_noise;
 pub mod scale;
+pub mod separate;
 pub mod stability;
 pub mod style;
 pub mod wander;

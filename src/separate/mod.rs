@@ -257,6 +257,10 @@ pub struct Request {
     pub seed: u64,
     /// Monte Carlo draws of the covariance form.
     pub draws: usize,
+    /// The pair records were taken at the same time (one realisation of
+    /// each clock's noise in every pair that has it), so pairs sharing a
+    /// clock covary; false for pairs measured in separate sessions.
+    pub simultaneous: bool,
 }
 
 /// Whether a separated variance is resolved.
@@ -356,6 +360,12 @@ pub fn separate(pairs: &[PairRecord], req: &Request) -> Result<Separation> {
         )));
     }
     crate::stats::interval::check_confidence(req.confidence)?;
+    if req.method == Method::Covariance && !req.simultaneous {
+        return Err(Error::invalid(
+            "the covariance form needs simultaneous pair records (the covariances between \
+             pairs come from one realisation of each clock)",
+        ));
+    }
     let mut names: Vec<String> = Vec::new();
     let mut idx = Vec::new();
     for p in pairs {
@@ -420,7 +430,7 @@ pub fn separate(pairs: &[PairRecord], req: &Request) -> Result<Separation> {
         .collect();
     let (points_by_clock, reference, interval) = match req.method {
         Method::Independent => (
-            independent(&curves, &idx, &w, n, &ms, req.confidence)?,
+            independent(&curves, &idx, &w, n, &ms, req)?,
             None,
             "edf-propagated",
         ),
@@ -519,7 +529,9 @@ pub(crate) fn clock_point(
         0.5 * (1.0 + confidence),
     );
     let sd = sd.filter(|s| s.is_finite() && *s > 0.0);
-    if var > 0.0 {
+    // Resolved: positive, and told from zero by at least one degree of
+    // freedom (ν = 2σ̂⁴/sd² ≥ 1, i.e. sd ≤ √2·σ̂²).
+    if var > 0.0 && !sd.is_some_and(|s| s > std::f64::consts::SQRT_2 * var) {
         let dev = var.sqrt();
         let edf = sd.map(|s| 2.0 * var * var / (s * s));
         let (lo, hi) = match edf {
@@ -581,8 +593,9 @@ fn independent(
     w: &DMatrix<f64>,
     n: usize,
     ms: &[usize],
-    confidence: f64,
+    req: &Request,
 ) -> Result<Vec<Vec<ClockPoint>>> {
+    let confidence = req.confidence;
     let mut out = vec![Vec::new(); n];
     let three = n == 3 && idx.len() == 3;
     for &m in ms {
@@ -605,7 +618,7 @@ fn independent(
                 .map(|i| (0..idx.len()).map(|k| w[(i, k)] * v[k]).sum())
                 .collect()
         };
-        let sd = propagated_sd(idx, w, &pts, &v, &var);
+        let sd = propagated_sd(idx, w, &pts, &v, &var, req.simultaneous);
         let dom = dominated_pairs(idx, &var);
         let terms = pts.iter().map(|p| p.estimate.terms).min().unwrap_or(0);
         for i in 0..n {
@@ -640,6 +653,7 @@ pub(crate) fn propagated_sd(
     pts: &[&Point],
     v: &[f64],
     var: &[f64],
+    simultaneous: bool,
 ) -> Vec<Option<f64>> {
     let n = var.len();
     let p = idx.len();
@@ -653,7 +667,7 @@ pub(crate) fn propagated_sd(
             _ => known[k] = false,
         }
         for l in 0..p {
-            if l == k {
+            if l == k || !simultaneous {
                 continue;
             }
             let (a, b) = idx[k];
@@ -685,4 +699,56 @@ pub(crate) fn propagated_sd(
             (s > 0.0).then(|| s.sqrt())
         })
         .collect()
+}
+
+/// A pair on the command line: `A,B=FILE` — the two clocks compared and the
+/// record of x_A − x_B.
+///
+/// ```
+/// use tauwise::separate::PairSpec;
+/// let p: PairSpec = "ocxo-a,rb-1=ab.txt".parse().unwrap();
+/// assert_eq!((p.a.as_str(), p.b.as_str()), ("ocxo-a", "rb-1"));
+/// assert_eq!(p.path.to_str(), Some("ab.txt"));
+/// assert!("A=ab.txt".parse::<PairSpec>().is_err());
+/// assert!("A,A=ab.txt".parse::<PairSpec>().is_err());
+/// ```
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct PairSpec {
+    /// First clock.
+    pub a: String,
+    /// Second clock.
+    pub b: String,
+    /// The record of x_a − x_b.
+    pub path: std::path::PathBuf,
+}
+
+impl std::str::FromStr for PairSpec {
+    type Err = crate::units::UnitError;
+    fn from_str(s: &str) -> std::result::Result<Self, Self::Err> {
+        let bad = |reason: &str| crate::units::UnitError::Invalid {
+            text: s.to_string(),
+            reason: format!("'{s}': {reason}; expected CLOCK,CLOCK=FILE (e.g. A,B=ab.txt)"),
+        };
+        let (names, path) = s
+            .split_once('=')
+            .ok_or_else(|| bad("no '=' before the file"))?;
+        let (a, b) = names
+            .split_once(',')
+            .ok_or_else(|| bad("two clock names separated by a comma are needed"))?;
+        let (a, b) = (a.trim(), b.trim());
+        if a.is_empty() || b.is_empty() || b.contains(',') {
+            return Err(bad("two non-empty clock names are needed"));
+        }
+        if a == b {
+            return Err(bad("the two clocks of a pair must differ"));
+        }
+        if path.trim().is_empty() {
+            return Err(bad("no file after '='"));
+        }
+        Ok(PairSpec {
+            a: a.to_string(),
+            b: b.to_string(),
+            path: std::path::PathBuf::from(path.trim()),
+        })
+    }
 }
