@@ -15,6 +15,7 @@ pub mod separate;
 pub mod simulate;
 pub mod spectrum;
 pub mod stability;
+pub mod timeline;
 pub mod wander;
 
 /// Oscillator and clock stability analysis.
@@ -49,6 +50,8 @@ pub enum Command {
     Holdover(holdover::Args),
     /// The stability of each clock from pairs measured against each other (N-cornered hat).
     Separate(separate::Args),
+    /// σ(τ) in a window sliding along the record, and where it departs from the whole.
+    Timeline(timeline::Args),
     /// Synthetic power-law noise records (seeded).
     Simulate(simulate::SimulateArgs),
     /// One self-contained HTML report for a device under test.
@@ -151,6 +154,7 @@ pub fn main() -> i32 {
         Command::Report(a) => report::run(a),
         Command::Stability(a) => stability::run(a),
         Command::Separate(a) => separate::run(a),
+        Command::Timeline(a) => timeline::run(a),
         Command::Noise(a) => noise::run(a),
         Command::Spectrum(a) => spectrum::run(a),
         Command::Convert(a) => convert::run(a),

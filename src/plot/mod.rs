@@ -28,6 +28,7 @@ pub mod scale;
 pub mod separate;
 pub mod stability;
 pub mod style;
+pub mod timeline;
 pub mod wander;
 
 pub use style::Colour;

@@ -23,6 +23,7 @@ mod noise;
 mod separate;
 mod spectrum;
 mod stability;
+mod timeline;
 mod wander;
 
 pub use convert::{ConvertedCurve, ConvertedPoint, FittedModel, SigmaBody, SIGMA_METHOD};
@@ -35,6 +36,7 @@ pub use noise::{noise_cells, rms, DominantRange, ModelSummary, NoiseBody};
 pub use separate::{PairInputs, SeparateBody};
 pub use spectrum::{SpectrumBody, SpectrumRow, SpectrumRows};
 pub use stability::{model_from_stability, AnyCurve, BestCurve, StabilityBody};
+pub use timeline::TimelineBody;
 pub use wander::WanderBody;
 
 /// Version of the JSON documents' layout (`"schema"` in every document):
