@@ -76,6 +76,8 @@
 //! - [`wander`] — TIE statistics, MTIE, TDEV, masks.
 //! - [`holdover`] — time-error prediction through a holdover span.
 //! - [`verdict`] — the verdict vocabulary every check shares (meets / exceeds / not judged).
+//! - [`separate`] — the stability of each clock from pairwise comparisons (N-cornered hat).
+//! - [`timeline`] — σ(τ) in a window sliding along the record (dynamic Allan variance).
 //! - [`simulate`] — power-law noise synthesis (Kasdin & Walter 1992).
 //! - [`plot`] — charts; [`report`] — the self-contained HTML report.
 
@@ -90,11 +92,13 @@ pub mod prepare;
 pub mod record;
 pub mod report;
 pub mod results;
+pub mod separate;
 pub mod simulate;
 pub mod spectrum;
 pub mod stability;
 pub mod stats;
 pub mod tau;
+pub mod timeline;
 pub mod units;
 pub mod verdict;
 pub mod wander;

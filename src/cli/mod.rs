@@ -11,9 +11,11 @@ pub mod jitter;
 pub mod noise;
 pub mod prepare;
 pub mod report;
+pub mod separate;
 pub mod simulate;
 pub mod spectrum;
 pub mod stability;
+pub mod timeline;
 pub mod wander;
 
 /// Oscillator and clock stability analysis.
@@ -46,6 +48,10 @@ pub enum Command {
     Wander(wander::Args),
     /// Time error predicted over a holdover span, against a budget.
     Holdover(holdover::Args),
+    /// The stability of each clock from pairs measured against each other (N-cornered hat).
+    Separate(separate::Args),
+    /// σ(τ) in a window sliding along the record, and where it departs from the whole.
+    Timeline(timeline::Args),
     /// Synthetic power-law noise records (seeded).
     Simulate(simulate::SimulateArgs),
     /// One self-contained HTML report for a device under test.
@@ -147,6 +153,8 @@ pub fn main() -> i32 {
         Command::Simulate(a) => simulate::run(a),
         Command::Report(a) => report::run(a),
         Command::Stability(a) => stability::run(a),
+        Command::Separate(a) => separate::run(a),
+        Command::Timeline(a) => timeline::run(a),
         Command::Noise(a) => noise::run(a),
         Command::Spectrum(a) => spectrum::run(a),
         Command::Convert(a) => convert::run(a),

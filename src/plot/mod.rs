@@ -25,8 +25,10 @@ mod draw;
 pub mod holdover;
 pub mod phase_noise;
 pub mod scale;
+pub mod separate;
 pub mod stability;
 pub mod style;
+pub mod timeline;
 pub mod wander;
 
 pub use style::Colour;

@@ -24,8 +24,10 @@ mod jitter;
 mod noise;
 mod prepare;
 mod simulate;
+mod separate;
 mod spectrum;
 mod stability;
+mod timeline;
 mod wander;
 
 pub use convert::{ConvertedCurve, ConvertedPoint, FittedModel, SigmaBody, SIGMA_METHOD};
@@ -41,8 +43,10 @@ pub use jitter::{
 pub use noise::{noise_cells, rms, DominantRange, ModelSummary, NoiseBody};
 pub use prepare::PrepareNotes;
 pub use simulate::{exact_model_string, shell_word, simulated_file, values_in_words};
+pub use separate::{PairInputs, SeparateBody};
 pub use spectrum::{SpectrumBody, SpectrumRow, SpectrumRows};
 pub use stability::{model_from_stability, AnyCurve, BestCurve, StabilityBody};
+pub use timeline::TimelineBody;
 pub use wander::WanderBody;
 
 /// Version of the JSON documents' layout (`"schema"` in every document):
@@ -97,6 +101,8 @@ pub enum Input {
     /// A power-law model given on the command line or fitted to a
     /// `stability` document.
     Model(ModelInput),
+    /// Several pair records (`separate`).
+    Pairs(PairInputs),
 }
 
 /// A time record: `{"path","data","tau0","points","gaps","preamble_lines"}`.

@@ -1,0 +1,275 @@
+//! `tauwise separate --pair A,B=ab.txt …`: the stability of each clock from
+//! records of pairs measured against each other (N-cornered hat), as a
+//! table, CSV or JSON (docs/json.md), with an optional chart.
+
+use super::common::{
+    emit, json_doc, ConfidenceArgs, Format, InputArgs, OutputArgs, PlotArgs, TauArgs,
+};
+use super::Outcome;
+use clap::{Args as ClapArgs, ValueEnum};
+use std::fmt::Write as _;
+use std::path::Path;
+use tauwise::deviation::Estimator;
+use tauwise::results::{Input, PairInputs, RecordInput, SeparateBody};
+use tauwise::separate::{
+    align, separate, Method, PairRecord, PairSpec, Request, Resolution, Separation,
+};
+use tauwise::units::{format_si, format_sig};
+use tauwise::Result;
+
+/// Monte Carlo draws of the covariance form's intervals.
+pub const DRAWS: usize = 400;
+
+/// How to separate (`--method`).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum MethodArg {
+    /// Independent clocks: three-cornered hat (Gray & Allan 1974), least
+    /// squares for more pairs or clocks (Barnes).
+    Independent,
+    /// Correlated clocks (Premoli & Tavella 1993): needs one clock compared
+    /// with every other and simultaneous records.
+    Covariance,
+}
+
+/// When the pair records were taken (`--sessions`).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum SessionsArg {
+    /// All pairs recorded over the same span (a multi-channel counter).
+    Simultaneous,
+    /// Each pair recorded in its own session.
+    Separate,
+}
+
+/// The stability of each clock from pairwise comparisons (N-cornered hat).
+#[derive(Debug, ClapArgs)]
+#[command(mut_arg("plot", |a| a.help("Draw the σ–τ chart to FILE (.svg or .png): one series per clock, the pair curves faint")))]
+pub struct Args {
+    /// A pair record: the two clocks it compares and its file,
+    /// CLOCK,CLOCK=FILE (the record holds x_first − x_second); give one per
+    /// pair, at least three.
+    #[arg(long = "pair", value_name = "A,B=FILE", required = true, value_parser = str::parse::<PairSpec>)]
+    pub pairs: Vec<PairSpec>,
+    #[command(flatten)]
+    pub input: InputArgs,
+    /// The estimator (adev, oadev, mdev, tdev, hdev, ohdev).
+    #[arg(long = "dev", value_name = "EST", default_value = "oadev", value_parser = estimator)]
+    pub dev: Estimator,
+    /// How the clocks are separated.
+    #[arg(long, value_enum, default_value = "independent")]
+    pub method: MethodArg,
+    /// When the pair records were taken: at the same time (pairs sharing a
+    /// clock share its noise, which the intervals use), or in separate
+    /// sessions (no shared noise; the covariance method needs simultaneous
+    /// records).
+    #[arg(long, value_enum, default_value = "simultaneous")]
+    pub sessions: SessionsArg,
+    /// Seed of the covariance form's Monte Carlo intervals.
+    #[arg(long, default_value_t = 1)]
+    pub seed: u64,
+    #[command(flatten)]
+    pub taus: TauArgs,
+    #[command(flatten)]
+    pub confidence: ConfidenceArgs,
+    /// Remove a least-squares frequency drift from each pair record first.
+    #[arg(long, value_enum, value_name = "MODEL")]
+    pub remove_drift: Option<super::prepare::DriftArg>,
+    #[command(flatten)]
+    pub plot: PlotArgs,
+    #[command(flatten)]
+    pub output: OutputArgs,
+}
+
+/// `--dev`: one estimator the separation supports.
+fn estimator(s: &str) -> std::result::Result<Estimator, tauwise::units::UnitError> {
+    let bad = |reason: String| tauwise::units::UnitError::Invalid {
+        text: s.to_string(),
+        reason,
+    };
+    let e = Estimator::from_name(s).map_err(|e| bad(e.to_string()))?;
+    if !tauwise::separate::SUPPORTED.contains(&e) {
+        return Err(bad(format!(
+            "'{s}' cannot be separated: expected one of {} (plain variances, quadratic in the phase)",
+            Estimator::names(tauwise::separate::SUPPORTED)
+        )));
+    }
+    Ok(e)
+}
+
+/// Run `separate`.
+pub fn run(args: Args) -> Result<Outcome> {
+    let inputs: Vec<&Path> = args.pairs.iter().map(|p| p.path.as_path()).collect();
+    super::common::check_output_paths(
+        &inputs,
+        &[args.output.output.as_deref(), args.plot.plot.as_deref()],
+    )?;
+    if args.pairs.len() < 3 {
+        return Err(tauwise::Error::option(
+            "--pair",
+            format!(
+                "{} pair(s) given: separating clocks needs at least three (A,B A,C B,C)",
+                args.pairs.len()
+            ),
+        ));
+    }
+    let mut records = Vec::new();
+    let mut read = Vec::new();
+    for p in &args.pairs {
+        let mut series = args.input.load(&p.path)?;
+        series.record = super::prepare::without_drift(series.record, args.remove_drift)?;
+        read.push(RecordInput::of(&series));
+        records.push(PairRecord {
+            a: p.a.clone(),
+            b: p.b.clone(),
+            source: p.path.display().to_string(),
+            record: series.record.to_phase(),
+            start: series.info.start_time,
+        });
+    }
+    let records = align(records)?;
+    let request = Request {
+        estimator: args.dev,
+        grid: args.taus.taus.clone(),
+        confidence: args.confidence.confidence.value(),
+        method: match args.method {
+            MethodArg::Independent => Method::Independent,
+            MethodArg::Covariance => Method::Covariance,
+        },
+        seed: args.seed,
+        draws: DRAWS,
+        simultaneous: args.sessions == SessionsArg::Simultaneous,
+    };
+    let sep = separate(&records, &request)?;
+    if let Some(path) = &args.plot.plot {
+        let title = format!("{} clocks from {} pairs", sep.clocks.len(), sep.pairs.len());
+        tauwise::plot::render(
+            &tauwise::plot::separate::chart(&sep, &title),
+            path,
+            tauwise::plot::DEFAULT_SIZE,
+        )?;
+    }
+    let body = SeparateBody::new(&sep, request.confidence);
+    let text = match args.output.format() {
+        Format::Json => json_doc(
+            Input::Pairs(PairInputs {
+                data: "pairs",
+                records: read,
+            }),
+            body,
+        )?,
+        Format::Csv => body.csv()?,
+        Format::Table => table(&sep, request.confidence),
+    };
+    emit(&args.output, &text)?;
+    Ok(Outcome::Done)
+}
+
+/// The method in words, with its source.
+pub fn method_text(s: &Separation) -> String {
+    match s.method {
+        Method::Independent if s.clocks.len() == 3 && s.pairs.len() == 3 => {
+            "independent clocks, three-cornered hat (Gray & Allan 1974)".into()
+        }
+        Method::Independent => "independent clocks, least squares (Barnes)".into(),
+        Method::Covariance => format!(
+            "covariance-aware (Premoli & Tavella 1993), reference clock {}",
+            s.reference.as_deref().unwrap_or("?")
+        ),
+    }
+}
+
+/// The readable table: one block per clock.
+pub fn table(s: &Separation, confidence: f64) -> String {
+    let mut t = String::new();
+    let est = s
+        .clocks
+        .first()
+        .and_then(|c| c.curves.first())
+        .map(|c| c.estimator);
+    let _ = writeln!(
+        t,
+        "# {} clocks from {} pair records of {} points; {}",
+        s.clocks.len(),
+        s.pairs.len(),
+        s.points,
+        method_text(s)
+    );
+    for c in &s.clocks {
+        let Some(curve) = c.curves.first() else {
+            continue;
+        };
+        let _ = writeln!(t);
+        let _ = writeln!(
+            t,
+            "{} — {} separated",
+            c.name,
+            est.map(|e| e.name()).unwrap_or("")
+        );
+        let _ = writeln!(
+            t,
+            "{:>10} {:>11} {:>25} {:>9} {:>5}",
+            "tau",
+            "dev",
+            format!("{:.1} % interval", confidence * 100.0),
+            "edf",
+            "noise"
+        );
+        let time = est.is_some_and(|e| e.is_time_deviation());
+        let fmt = |v: f64| {
+            if time {
+                format_si(v, "s", 4)
+            } else {
+                format_sig(v, 4)
+            }
+        };
+        for p in &curve.points {
+            let (dev, interval) = match p.resolution {
+                Resolution::Resolved => (
+                    fmt(p.point.estimate.value),
+                    match (p.point.lo, p.point.hi) {
+                        (Some(lo), Some(hi)) => format!("[{} … {}]", fmt(lo), fmt(hi)),
+                        _ => "—".into(),
+                    },
+                ),
+                Resolution::Below => (
+                    format!("< {}", fmt(p.point.estimate.value)),
+                    "below resolution".into(),
+                ),
+            };
+            let _ = writeln!(
+                t,
+                "{:>10} {:>11} {:>25} {:>9} {:>5}",
+                format_si(p.point.estimate.tau, "s", 4),
+                dev,
+                interval,
+                p.point
+                    .edf
+                    .map(|e| format_sig(e, 4))
+                    .unwrap_or_else(|| "—".into()),
+                p.point.noise().unwrap_or("—"),
+            );
+        }
+    }
+    let _ = writeln!(t);
+    let _ = writeln!(
+        t,
+        "{}",
+        match s.method {
+            Method::Independent =>
+                "intervals: the pair variances' EDF propagated through the separation (shared clocks covary), Satterthwaite degrees of freedom, χ²",
+            Method::Covariance =>
+                "intervals: seeded Monte Carlo of the same separation (Wishart draws of the difference covariances)",
+        }
+    );
+    if s.clocks
+        .iter()
+        .flat_map(|c| c.curves.iter().flat_map(|k| k.points.iter()))
+        .any(|p| p.resolution == Resolution::Below)
+    {
+        let _ = writeln!(
+            t,
+            "< bound: the separated variance is not positive (below the resolution of the data); the value is the upper bound the data allow"
+        );
+    }
+    let _ = writeln!(t, "{}", tauwise::DECISION_CAUTION);
+    t
+}

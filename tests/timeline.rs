@@ -1,0 +1,178 @@
+//! The timeline (dynamic Allan variance): each window against `stability`
+//! on its slice, events on a seeded step, and the false-alarm rate on a
+//! stationary record.
+
+use rand::SeedableRng;
+use rand_chacha::ChaCha8Rng;
+use tauwise::deviation::Estimator;
+use tauwise::simulate::power_law_phase;
+use tauwise::stability::{analyse, Request as StabilityRequest};
+use tauwise::tau::TauGrid;
+use tauwise::timeline::{timeline, Direction, Request, EVENT_CONFIDENCE};
+use tauwise::PhaseRecord;
+
+fn white_fm(levels: &[(f64, usize)], seed: u64) -> Vec<f64> {
+    let mut rng = ChaCha8Rng::seed_from_u64(seed);
+    let mut out: Vec<f64> = Vec::new();
+    for &(h0, n) in levels {
+        let part = power_law_phase(0, h0, 1.0, n, &mut rng);
+        let base = out.last().copied().unwrap_or(0.0);
+        out.extend(part.iter().map(|v| v + base));
+    }
+    out
+}
+
+fn request(est: Estimator, window: usize, step: usize) -> Request {
+    Request {
+        estimator: est,
+        grid: TauGrid::Octave,
+        window,
+        step,
+        confidence: 0.683,
+        event_confidence: EVENT_CONFIDENCE,
+    }
+}
+
+#[test]
+fn each_window_equals_stability_on_its_slice() {
+    // The incremental sums against the direct estimators of NIST SP 1065
+    // (`stability` on the slice), with and without gaps.
+    let mut x = white_fm(&[(1e-22, 6000)], 3);
+    let mut rng = ChaCha8Rng::seed_from_u64(4);
+    let flicker = power_law_phase(-1, 1e-24, 1.0, 6000, &mut rng);
+    for (a, b) in x.iter_mut().zip(&flicker) {
+        *a += b;
+    }
+    let mut gappy = x.clone();
+    for i in [700, 701, 2500, 4444] {
+        gappy[i] = f64::NAN;
+    }
+    for data in [&x, &gappy] {
+        let rec = PhaseRecord::new(data.clone(), 1.0).unwrap();
+        for est in [
+            Estimator::Oadev,
+            Estimator::Mdev,
+            Estimator::Tdev,
+            Estimator::Ohdev,
+        ] {
+            let tl = timeline(&rec, &request(est, 1500, 500)).unwrap();
+            assert_eq!(tl.windows.len(), 10);
+            for w in &tl.windows {
+                let s = w.start as usize;
+                let slice = PhaseRecord::new(data[s..s + 1500].to_vec(), 1.0).unwrap();
+                let taus: Vec<f64> = w.points.iter().map(|p| p.estimate.tau).collect();
+                let want = analyse(
+                    &slice,
+                    &StabilityRequest {
+                        estimators: vec![est],
+                        grid: TauGrid::Explicit(taus.clone()),
+                        confidence: 0.683,
+                        forced_alpha: None,
+                        bias_correction: true,
+                    },
+                )
+                .unwrap()
+                .remove(0);
+                assert_eq!(w.points.len(), want.points.len());
+                for (a, b) in w.points.iter().zip(&want.points) {
+                    let rel = (a.estimate.value / b.estimate.value - 1.0).abs();
+                    assert!(
+                        rel < 1e-10,
+                        "{est} window {s} τ {}: {rel:e}",
+                        a.estimate.tau
+                    );
+                    assert_eq!(a.estimate.terms, b.estimate.terms);
+                    assert_eq!(a.edf, b.edf);
+                    assert_eq!(a.alpha, b.alpha);
+                    assert_eq!(a.drift, b.drift);
+                    for (p, q) in [(a.lo, b.lo), (a.hi, b.hi)] {
+                        assert!((p.unwrap() / q.unwrap() - 1.0).abs() < 1e-10);
+                    }
+                }
+                assert!(taus.iter().all(|t| *t <= 1500.0 / 4.0));
+            }
+        }
+    }
+}
+
+#[test]
+fn a_tenfold_white_fm_step_is_found_within_one_step() {
+    // Seeded Monte Carlo: the white FM level h0 steps up 10× at t = 20000 s in
+    // the middle of the record, so the whole record's variance is 5.5× the
+    // first half's; the first window found above the whole record is centred
+    // on the step within one step (analytic: the window's variance passes the
+    // whole's when half of it lies after the step).
+    let step_at = 20_000.0;
+    let x = white_fm(&[(1e-22, 20_000), (1e-21, 20_000)], 9);
+    let rec = PhaseRecord::new(x, 1.0).unwrap();
+    let step = 1000;
+    let tl = timeline(&rec, &request(Estimator::Oadev, 8000, step)).unwrap();
+    let first_above = tl
+        .windows
+        .iter()
+        .find(|w| {
+            tl.events
+                .iter()
+                .any(|e| e.direction == Direction::Above && e.tau == 1.0 && e.start == w.start)
+        })
+        .expect("an event above the whole record");
+    let centre = first_above.centre();
+    assert!(
+        (centre - step_at).abs() <= step as f64,
+        "first window above centred at {centre} s, the step is at {step_at} s"
+    );
+    // And the quiet first half is below the whole record.
+    assert!(tl
+        .events
+        .iter()
+        .any(|e| e.direction == Direction::Below && e.start == 0.0));
+}
+
+#[test]
+fn a_stationary_record_stays_within_the_expected_false_alarm_rate() {
+    // Seeded Monte Carlo on stationary white + flicker FM: the fraction of
+    // (window, τ) cells flagged stays within the stated rate (module notes:
+    // 2Φ(−z(s_w + s_a)/√(s_w² − s_a²)); about 2e-4 per cell at 99 %).
+    let (mut flagged, mut cells, mut expected) = (0usize, 0usize, 0.0f64);
+    for seed in 0..12 {
+        let mut x = white_fm(&[(1e-22, 32_000)], 100 + seed);
+        let mut rng = ChaCha8Rng::seed_from_u64(200 + seed);
+        let fl = power_law_phase(-1, 2e-25, 1.0, 32_000, &mut rng);
+        for (a, b) in x.iter_mut().zip(&fl) {
+            *a += b;
+        }
+        let rec = PhaseRecord::new(x, 1.0).unwrap();
+        let tl = timeline(&rec, &request(Estimator::Oadev, 4000, 1000)).unwrap();
+        let ntau = tl.whole.points.len();
+        cells += tl.windows.len() * ntau;
+        flagged += tl.events.iter().map(|e| e.windows).sum::<usize>();
+        expected += tl
+            .false_alarm
+            .iter()
+            .map(|f| f.rate * tl.windows.len() as f64)
+            .sum::<f64>();
+    }
+    assert!(cells > 3000);
+    // Overlapping windows make the counts clumpy: allow three times the
+    // expected count and a few cells.
+    assert!(
+        (flagged as f64) <= 3.0 * expected + 4.0,
+        "{flagged} of {cells} cells flagged, {expected:.2} expected"
+    );
+}
+
+#[test]
+fn false_alarm_rate_is_the_stated_formula() {
+    // Analytic: a window an eighth of the record at 99 %: 2Φ(−2.5758·1.4481) = 1.9e-4.
+    let r = tauwise::timeline::false_alarm_rate(1000.0, 8000.0, 0.99).unwrap();
+    assert!((r - 1.91e-4).abs() < 0.05e-4, "{r:e}");
+    assert!(tauwise::timeline::false_alarm_rate(10.0, 5.0, 0.99).is_none());
+}
+
+#[test]
+fn bad_windows_are_refused() {
+    let rec = PhaseRecord::new(vec![0.0; 100], 1.0).unwrap();
+    assert!(timeline(&rec, &request(Estimator::Oadev, 200, 10)).is_err());
+    assert!(timeline(&rec, &request(Estimator::Oadev, 50, 0)).is_err());
+    assert!(timeline(&rec, &request(Estimator::Totdev, 50, 10)).is_err());
+}
