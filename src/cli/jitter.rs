@@ -8,6 +8,7 @@ use super::Outcome;
 use clap::Args as ClapArgs;
 use std::fmt::Write as _;
 use std::path::{Path, PathBuf};
+use tauwise::io::filter_set::read_filter_set;
 use tauwise::io::lf_table::{
     read_filter_file, read_lf_table, read_spurs, LfTable, TableOptions, TableQuantity,
 };
@@ -15,7 +16,8 @@ use tauwise::parse::{Filter, Frequency};
 use tauwise::plot::phase_noise::{BandMark, LfTrace, PhaseNoisePlot, TraceKind};
 use tauwise::results::{Input, JitterBand, JitterBody, TableInput, SPUR_CONVENTION};
 use tauwise::spectrum::jitter::{
-    integrate_band, Band, BandJitter, JitterLimit, JitterSetup, Weighting,
+    integrate_band, record_period_jitter, Band, BandJitter, FilterTable, JitterLimit, JitterSetup,
+    PeriodRequest,
 };
 use tauwise::spectrum::welch::{welch_record, Window};
 use tauwise::spectrum::Spectrum;
@@ -58,13 +60,27 @@ pub struct Args {
     /// Integration band FROM:TO (e.g. 12k:20M); repeat for several bands.
     #[arg(long = "band", value_name = "FROM:TO", required = true, value_parser = band_arg)]
     pub bands: Vec<(String, Band)>,
-    /// Butterworth weighting highpass:ORDER:FC or lowpass:ORDER:FC (order 1 … 8);
-    /// repeat to combine.
+    /// Weighting: highpass:ORDER:FC or lowpass:ORDER:FC (Butterworth, order
+    /// 1 … 8); pll:FN:ZETA (what a type-2 PLL passes), cdr:FN:ZETA (what a
+    /// clock-recovery loop leaves), a loop also as bw=F3DB:peak=PDB;
+    /// pll-diff:FN1:ZETA1:FN2:ZETA2:DELAY (two loops, the first delayed).
+    /// Repeat to combine (they multiply).
     #[arg(long = "filter", value_name = "FILTER", value_parser = str::parse::<Filter>)]
     pub filters: Vec<Filter>,
-    /// Weighting file: offset against |H(f)|² in dB.
-    #[arg(long, value_name = "FILE")]
-    pub filter_file: Option<PathBuf>,
+    /// Weighting file: offset against |H(f)|² in dB; repeat to combine.
+    #[arg(long = "filter-file", value_name = "FILE")]
+    pub filter_files: Vec<PathBuf>,
+    /// A named set of weightings (TOML: name, filters, filter_files), added
+    /// to any --filter and --filter-file.
+    #[arg(long = "filters", value_name = "FILE.toml")]
+    pub filter_set: Option<PathBuf>,
+    /// Also give each band's rms period and cycle-to-cycle jitter (and with
+    /// --record, the same measured from the record's edge differences).
+    #[arg(long)]
+    pub period: bool,
+    /// Also give the jitter over N periods (implies --period).
+    #[arg(long, value_name = "N", value_parser = clap::value_parser!(u32).range(1..))]
+    pub periods: Option<u32>,
     /// Spur list: offset against spur level in dBc (one sideband). Default:
     /// the spurs listed after the table in a `[spurs]` block, if any.
     #[arg(long, value_name = "FILE")]
@@ -140,7 +156,8 @@ pub fn run(args: Args) -> Result<Outcome> {
         .table
         .iter()
         .chain(args.record.iter())
-        .chain(args.filter_file.iter())
+        .chain(args.filter_files.iter())
+        .chain(args.filter_set.iter())
         .chain(args.spurs.iter())
         .map(|p| p.as_path())
         .collect();
@@ -156,14 +173,30 @@ pub fn run(args: Args) -> Result<Outcome> {
     })?;
     let bands: Vec<Band> = args.bands.iter().map(|b| b.1).collect();
     let mut setup = JitterSetup {
-        filters: args.filters.iter().map(|&f| Weighting::from(f)).collect(),
+        filters: args.filters.clone(),
         extrapolate: args.extrapolate,
         ..Default::default()
     };
-    if let Some(p) = &args.filter_file {
-        setup.filter_table = Some(read_filter_file(p)?);
-        setup.filter_table_name = Some(p.display().to_string());
+    let mut filter_files = args.filter_files.clone();
+    let mut filter_set_name = None;
+    if let Some(p) = &args.filter_set {
+        let set = read_filter_set(p)?;
+        setup.filters.extend(set.filters.iter().copied());
+        filter_files.extend(set.filter_files.iter().cloned());
+        filter_set_name = Some(set.name);
     }
+    for p in &filter_files {
+        setup.filter_tables.push(FilterTable {
+            name: p.display().to_string(),
+            table: read_filter_file(p)?,
+        });
+    }
+    if args.period || args.periods.is_some() {
+        setup.period = Some(PeriodRequest {
+            periods: args.periods,
+        });
+    }
+    let mut record_period = None;
     if let Some(p) = &args.spurs {
         setup.spurs = read_spurs(p)?;
     }
@@ -210,6 +243,10 @@ pub fn run(args: Args) -> Result<Outcome> {
         }
         (None, Some(path)) => {
             let series = args.input.load(path)?;
+            if setup.period.is_some() {
+                let x = series.record.to_phase();
+                record_period = Some(record_period_jitter(&x.x, x.tau0, carrier, args.periods)?);
+            }
             let w = welch_record(
                 &series.record,
                 &welch_options(args.window, args.segment, 0.5)?,
@@ -305,6 +342,8 @@ pub fn run(args: Args) -> Result<Outcome> {
                 window: record_spectrum.as_ref().map(|r| r.0),
                 enbw_hz: record_spectrum.as_ref().map(|r| r.1),
                 gaps_handling: record_spectrum.map(|r| r.2),
+                filter_set: filter_set_name.clone(),
+                record_period: record_period.clone(),
             };
             if args.output.format() == Format::Json {
                 json_doc(input, body)?
@@ -312,7 +351,16 @@ pub fn run(args: Args) -> Result<Outcome> {
                 body.csv()?
             }
         }
-        Format::Table => table(&source, carrier, &outcomes, &bands, &limits, &judgements),
+        Format::Table => {
+            let mut t = table(&source, carrier, &outcomes, &bands, &limits, &judgements);
+            if let Some(name) = &filter_set_name {
+                t.push_str(&format!("Weightings from the filter set '{name}'.\n"));
+            }
+            if let Some(r) = &record_period {
+                t.push_str(&record_period_text(r));
+            }
+            t
+        }
     };
     emit(&args.output, &text)?;
     Ok(Outcome::of_gate(
@@ -372,6 +420,20 @@ fn table(
                         "", r.spurs, r.spurs_rad2
                     );
                 }
+                if let Some(p) = &r.period {
+                    let _ = writeln!(
+                        out,
+                        "{:>23}  period jitter {} rms, cycle-to-cycle {} rms{}",
+                        "",
+                        format_si(p.period_rms_s, "s", 4),
+                        format_si(p.c2c_rms_s, "s", 4),
+                        match (p.periods, p.n_period_rms_s) {
+                            (Some(n), Some(v)) =>
+                                format!(", over {n} periods {}", format_si(v, "s", 4)),
+                            _ => String::new(),
+                        }
+                    );
+                }
                 for (a, b) in &r.extrapolated {
                     let _ = writeln!(
                         out,
@@ -404,4 +466,19 @@ fn table(
     let _ = writeln!(out);
     let _ = writeln!(out, "{DECISION_CAUTION}");
     out
+}
+
+/// The record's own period jitter, for the table.
+fn record_period_text(r: &tauwise::spectrum::jitter::RecordPeriodJitter) -> String {
+    format!(
+        "From the record's edge differences ({} periods, all offsets to ν0/2): period jitter {} rms, \
+         cycle-to-cycle {} rms{}.\n",
+        r.count,
+        format_si(r.period_rms_s, "s", 4),
+        format_si(r.c2c_rms_s, "s", 4),
+        match (r.periods, r.n_period_rms_s) {
+            (Some(n), Some(v)) => format!(", over {n} periods {}", format_si(v, "s", 4)),
+            _ => String::new(),
+        }
+    )
 }

@@ -2,7 +2,7 @@
 //! and verdict.
 
 use super::{csv_text, plain, Result};
-use crate::spectrum::jitter::{Band, BandJitter, JitterLimit};
+use crate::spectrum::jitter::{Band, BandJitter, JitterLimit, RecordPeriodJitter};
 use crate::verdict::Judgement;
 use serde::Serialize;
 
@@ -30,6 +30,13 @@ pub struct JitterBody {
     /// How its gaps were handled.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub gaps_handling: Option<String>,
+    /// The name of the filter set the weightings came from (`--filters`).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub filter_set: Option<String>,
+    /// Period jitter measured from the record's edge differences (`--record`
+    /// with `--period`).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub record_period: Option<RecordPeriodJitter>,
 }
 
 /// How a spur level is read, in words.
@@ -118,23 +125,35 @@ pub fn extrapolated_text(r: &BandJitter) -> String {
 
 impl JitterBody {
     /// CSV: `from,to,filter,rms_rad,rms_deg,rms_s,rms_ui,spurs,extrapolated`,
-    /// one row per computed band (a weighting named by a file whose name
-    /// holds a comma is quoted).
+    /// then, when period jitter was asked for, `period_rms_s,c2c_rms_s,
+    /// n_period_rms_s`; one row per computed band (a weighting named by a
+    /// file whose name holds a comma is quoted).
     pub fn csv(&self) -> Result<String> {
-        csv_text(
-            &[
-                "from",
-                "to",
-                "filter",
-                "rms_rad",
-                "rms_deg",
-                "rms_s",
-                "rms_ui",
-                "spurs",
-                "extrapolated",
-            ],
+        let computed = || {
             self.bands.iter().filter_map(|b| match &b.outcome {
-                BandOutcome::Computed(r) => Some([
+                BandOutcome::Computed(r) => Some(r),
+                BandOutcome::NotComputed { .. } => None,
+            })
+        };
+        let with_period = computed().any(|r| r.period.is_some());
+        let mut header = vec![
+            "from",
+            "to",
+            "filter",
+            "rms_rad",
+            "rms_deg",
+            "rms_s",
+            "rms_ui",
+            "spurs",
+            "extrapolated",
+        ];
+        if with_period {
+            header.extend(["period_rms_s", "c2c_rms_s", "n_period_rms_s"]);
+        }
+        csv_text(
+            &header,
+            computed().map(|r| {
+                let mut row = vec![
                     plain(r.from),
                     plain(r.to),
                     r.filter.clone(),
@@ -144,8 +163,18 @@ impl JitterBody {
                     r.rms_ui.map(plain).unwrap_or_default(),
                     r.spurs.to_string(),
                     extrapolated_text(r),
-                ]),
-                BandOutcome::NotComputed { .. } => None,
+                ];
+                if with_period {
+                    let p = r.period.as_ref();
+                    row.push(p.map(|p| plain(p.period_rms_s)).unwrap_or_default());
+                    row.push(p.map(|p| plain(p.c2c_rms_s)).unwrap_or_default());
+                    row.push(
+                        p.and_then(|p| p.n_period_rms_s)
+                            .map(plain)
+                            .unwrap_or_default(),
+                    );
+                }
+                row
             }),
         )
     }

@@ -9,7 +9,7 @@ use crate::model::fit::fit_sy;
 use crate::plot::phase_noise::{lf_points, BandMark, LfTrace, PhaseNoisePlot, TraceKind};
 use crate::plot::stability::{SigmaCurve, StabilityPlot};
 use crate::report::*;
-use crate::spectrum::jitter::{integrate_band, Band, BandJitter, JitterSetup, Weighting};
+use crate::spectrum::jitter::{integrate_band, Band, BandJitter, FilterTable, JitterSetup};
 use crate::spectrum::welch::{welch_record, WelchOptions};
 use crate::spectrum::{Quantity, Spectrum};
 use crate::stability::{from_phase_noise, ViewOptions};
@@ -18,28 +18,14 @@ use crate::verdict::Judgement;
 
 fn setup_for(j: &JitterSpec) -> Result<JitterSetup> {
     let mut setup = JitterSetup {
-        filters: j
-            .filters
-            .iter()
-            .map(|f| {
-                if f.highpass {
-                    Weighting::HighPass {
-                        order: f.order,
-                        fc: f.corner,
-                    }
-                } else {
-                    Weighting::LowPass {
-                        order: f.order,
-                        fc: f.corner,
-                    }
-                }
-            })
-            .collect(),
+        filters: j.filters.clone(),
         ..Default::default()
     };
     if let Some(p) = &j.filter_file {
-        setup.filter_table = Some(read_filter_file(p)?);
-        setup.filter_table_name = Some(p.display().to_string());
+        setup.filter_tables.push(FilterTable {
+            name: p.display().to_string(),
+            table: read_filter_file(p)?,
+        });
     }
     Ok(setup)
 }
