@@ -13,12 +13,13 @@ use tauwise::io::lf_table::{
     read_filter_file, read_lf_table, read_spurs, LfTable, TableOptions, TableQuantity,
 };
 use tauwise::parse::{Filter, Frequency};
-use tauwise::plot::phase_noise::{BandMark, LfTrace, PhaseNoisePlot, TraceKind};
+use tauwise::plot::phase_noise::{found_spur_marks, BandMark, LfTrace, PhaseNoisePlot, TraceKind};
 use tauwise::results::{Input, JitterBand, JitterBody, TableInput, SPUR_CONVENTION};
 use tauwise::spectrum::jitter::{
     integrate_band, record_period_jitter, Band, BandJitter, FilterTable, JitterLimit, JitterSetup,
     PeriodRequest,
 };
+use tauwise::spectrum::spurs::{prepare_trace, FoundSpur, SpurRule};
 use tauwise::spectrum::welch::{welch_record, Window};
 use tauwise::spectrum::Spectrum;
 use tauwise::units::format_si;
@@ -88,6 +89,15 @@ pub struct Args {
     /// Line rate for jitter in unit intervals (e.g. 10.3125G).
     #[arg(long, value_name = "RATE", allow_hyphen_values = true, value_parser = Frequency::positive)]
     pub ui_rate: Option<Frequency>,
+    /// Do not look for spurs in the trace (by default narrow peaks 10 dB or
+    /// more above the running median are taken out of the noise and counted
+    /// once as tones; a listed spur in the same place takes precedence).
+    #[arg(long)]
+    pub no_spur_search: bool,
+    /// How far above the trace's running median a narrow peak must stand to
+    /// be a spur, dB (default 10).
+    #[arg(long, value_name = "DB", value_parser = spur_threshold)]
+    pub spur_threshold: Option<f64>,
     /// Allow bands beyond the table by continuing its end slopes (reported).
     #[arg(long)]
     pub extrapolate: bool,
@@ -110,6 +120,21 @@ pub struct Args {
     pub plot: PlotArgs,
     #[command(flatten)]
     pub output: OutputArgs,
+}
+
+/// `--spur-threshold DB`: a positive number of dB (`10`, `10dB`).
+fn spur_threshold(text: &str) -> std::result::Result<f64, String> {
+    let t = text.trim();
+    let t = t
+        .strip_suffix("dB")
+        .or_else(|| t.strip_suffix("db"))
+        .unwrap_or(t);
+    match t.trim().parse::<f64>() {
+        Ok(v) if v > 0.0 && v.is_finite() => Ok(v),
+        _ => Err(format!(
+            "'{text}' is not a positive number of dB (e.g. 10dB)"
+        )),
+    }
 }
 
 /// `--band FROM:TO`: the band, with its text as the label of the chart.
@@ -271,6 +296,17 @@ pub fn run(args: Args) -> Result<Outcome> {
             ))
         }
     };
+    // Spurs found in the trace leave the noise and count once as tones.
+    let rule = (!args.no_spur_search).then(|| SpurRule {
+        threshold_db: args
+            .spur_threshold
+            .unwrap_or(SpurRule::default().threshold_db),
+        ..SpurRule::default()
+    });
+    let prepared = prepare_trace(&spectrum, &setup.spurs, rule.as_ref())?;
+    let spectrum = prepared.spectrum;
+    setup.spurs = prepared.spurs;
+    let found_spurs = prepared.found;
     // With limits, a band that cannot be computed is a verdict of its own
     // (not judged); without, it is an error as before.
     let outcomes: Vec<std::result::Result<BandJitter, String>> = if limits.is_empty() {
@@ -323,7 +359,9 @@ pub fn run(args: Args) -> Result<Outcome> {
                 .collect(),
             notes,
         };
-        tauwise::plot::render(&plot.chart(), path, tauwise::plot::DEFAULT_SIZE)?;
+        let mut chart = plot.chart();
+        chart.series.extend(found_spur_marks(&found_spurs));
+        tauwise::plot::render(&chart, path, tauwise::plot::DEFAULT_SIZE)?;
     }
     let text = match args.output.format() {
         Format::Json | Format::Csv => {
@@ -343,6 +381,8 @@ pub fn run(args: Args) -> Result<Outcome> {
                 enbw_hz: record_spectrum.as_ref().map(|r| r.1),
                 gaps_handling: record_spectrum.map(|r| r.2),
                 filter_set: filter_set_name.clone(),
+                spur_rule: rule.map(|r| r.describe()),
+                found_spurs: found_spurs.clone(),
                 record_period: record_period.clone(),
             };
             if args.output.format() == Format::Json {
@@ -359,6 +399,7 @@ pub fn run(args: Args) -> Result<Outcome> {
             if let Some(r) = &record_period {
                 t.push_str(&record_period_text(r));
             }
+            t.push_str(&found_spurs_text(&found_spurs));
             t
         }
     };
@@ -481,4 +522,24 @@ fn record_period_text(r: &tauwise::spectrum::jitter::RecordPeriodJitter) -> Stri
             _ => String::new(),
         }
     )
+}
+
+/// The spurs found in the trace, for the table (nothing when none).
+fn found_spurs_text(found: &[FoundSpur]) -> String {
+    let mut out = String::new();
+    for s in found {
+        let _ = writeln!(
+            out,
+            "Spur found in the trace at {}: {:.1} dBc as a tone ({:.1} dB above the floor){}.",
+            format_si(s.offset_hz, "Hz", 4),
+            s.level_dbc,
+            s.above_floor_db,
+            if s.replaced_by_listed {
+                "; a listed spur there is used instead"
+            } else {
+                "; taken out of the noise and counted once"
+            }
+        );
+    }
+    out
 }

@@ -3,6 +3,7 @@
 
 use super::{csv_text, plain, Result};
 use crate::spectrum::jitter::{Band, BandJitter, JitterLimit, RecordPeriodJitter};
+use crate::spectrum::spurs::FoundSpur;
 use crate::verdict::Judgement;
 use serde::Serialize;
 
@@ -33,6 +34,11 @@ pub struct JitterBody {
     /// The name of the filter set the weightings came from (`--filters`).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub filter_set: Option<String>,
+    /// The rule spurs were looked for by (`null`: not looked for).
+    pub spur_rule: Option<String>,
+    /// Spurs found in the trace (taken out of the noise and counted once,
+    /// unless a listed spur took their place).
+    pub found_spurs: Vec<FoundSpur>,
     /// Period jitter measured from the record's edge differences (`--record`
     /// with `--period`).
     #[serde(skip_serializing_if = "Option::is_none")]
