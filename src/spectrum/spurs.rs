@@ -137,7 +137,7 @@ pub fn find_spurs(spectrum: &Spectrum, rule: &SpurRule) -> Result<(Vec<FoundSpur
         while b + 1 < n && excess[b + 1] >= 3.0 {
             b += 1;
         }
-        if b - a + 1 <= rule.max_width && a > 0 && b + 1 < n {
+        if b - a < rule.max_width && a > 0 && b + 1 < n {
             let share = |j: usize| 0.5 * (f[j + 1] - f[j - 1]);
             let power: f64 = (a..=b)
                 .map(|j| (10f64.powf(l[j] / 10.0) - 10f64.powf(floor[j] / 10.0)) * share(j))
