@@ -2,7 +2,7 @@
 //! forms of weighted integrals.
 
 use std::f64::consts::PI;
-use tauwise::spectrum::jitter::{integrate_band, Band, JitterSetup, Spur, Weighting};
+use tauwise::spectrum::jitter::{integrate_band, Band, FilterTable, JitterSetup, Spur, Weighting};
 use tauwise::spectrum::loglog::LogLog;
 use tauwise::spectrum::{Quantity, Spectrum};
 
@@ -136,7 +136,10 @@ fn filter_table_weighting() {
     )
     .unwrap();
     let setup = JitterSetup {
-        filter_table: Some(h.clone()),
+        filter_tables: vec![FilterTable {
+            name: "half".into(),
+            table: h.clone(),
+        }],
         ..Default::default()
     };
     let j = integrate_band(
@@ -152,7 +155,10 @@ fn filter_table_weighting() {
     assert!((j.rms_rad.powi(2) / base.rms_rad.powi(2) - 0.5).abs() < 1e-12);
     let narrow = LogLog::new(&[1e5, 1e6], &[1.0, 1.0]).unwrap();
     let setup = JitterSetup {
-        filter_table: Some(narrow),
+        filter_tables: vec![FilterTable {
+            name: "narrow".into(),
+            table: narrow,
+        }],
         ..Default::default()
     };
     let e = integrate_band(

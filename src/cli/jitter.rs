@@ -6,15 +6,18 @@ use super::common::{emit, json_doc, Format, InputArgs, OutputArgs, PlotArgs};
 use super::Outcome;
 use clap::Args as ClapArgs;
 use std::path::{Path, PathBuf};
+use tauwise::io::filter_set::read_filter_set;
 use tauwise::io::lf_table::{
     read_filter_file, read_lf_table, read_spurs, LfTable, TableOptions, TableQuantity,
 };
 use tauwise::parse::{Filter, Frequency};
-use tauwise::plot::phase_noise::{BandMark, LfTrace, PhaseNoisePlot, TraceKind};
+use tauwise::plot::phase_noise::{found_spur_marks, BandMark, LfTrace, PhaseNoisePlot, TraceKind};
 use tauwise::results::{Input, JitterBand, JitterBody, TableInput, SPUR_CONVENTION};
 use tauwise::spectrum::jitter::{
-    integrate_band, Band, BandJitter, JitterLimit, JitterSetup, Weighting,
+    integrate_band, record_period_jitter, Band, BandJitter, FilterTable, JitterLimit, JitterSetup,
+    PeriodRequest,
 };
+use tauwise::spectrum::spurs::{prepare_trace, SpurRule};
 use tauwise::spectrum::welch::{welch_record, WelchOptions, Window};
 use tauwise::spectrum::Spectrum;
 use tauwise::verdict::{gate, Judgement};
@@ -55,13 +58,27 @@ pub struct Args {
     /// Integration band FROM:TO (e.g. 12k:20M); repeat for several bands.
     #[arg(long = "band", value_name = "FROM:TO", required = true, value_parser = band_arg)]
     pub bands: Vec<(String, Band)>,
-    /// Butterworth weighting highpass:ORDER:FC or lowpass:ORDER:FC (order 1 … 8);
-    /// repeat to combine.
+    /// Weighting: highpass:ORDER:FC or lowpass:ORDER:FC (Butterworth, order
+    /// 1 … 8); pll:FN:ZETA (what a type-2 PLL passes), cdr:FN:ZETA (what a
+    /// clock-recovery loop leaves), a loop also as bw=F3DB:peak=PDB;
+    /// pll-diff:FN1:ZETA1:FN2:ZETA2:DELAY (two loops, the first delayed).
+    /// Repeat to combine (they multiply).
     #[arg(long = "filter", value_name = "FILTER", value_parser = str::parse::<Filter>)]
     pub filters: Vec<Filter>,
-    /// Weighting file: offset against |H(f)|² in dB.
-    #[arg(long, value_name = "FILE")]
-    pub filter_file: Option<PathBuf>,
+    /// Weighting file: offset against |H(f)|² in dB; repeat to combine.
+    #[arg(long = "filter-file", value_name = "FILE")]
+    pub filter_files: Vec<PathBuf>,
+    /// A named set of weightings (TOML: name, filters, filter_files), added
+    /// to any --filter and --filter-file.
+    #[arg(long = "filters", value_name = "FILE.toml")]
+    pub filter_set: Option<PathBuf>,
+    /// Also give each band's rms period and cycle-to-cycle jitter (and with
+    /// --record, the same measured from the record's edge differences).
+    #[arg(long)]
+    pub period: bool,
+    /// Also give the jitter over N periods (implies --period).
+    #[arg(long, value_name = "N", value_parser = clap::value_parser!(u32).range(1..))]
+    pub periods: Option<u32>,
     /// Spur list: offset against spur level in dBc (one sideband). Default:
     /// the spurs listed after the table in a `[spurs]` block, if any.
     #[arg(long, value_name = "FILE")]
@@ -69,6 +86,15 @@ pub struct Args {
     /// Line rate for jitter in unit intervals (e.g. 10.3125G).
     #[arg(long, value_name = "RATE", allow_hyphen_values = true, value_parser = Frequency::positive)]
     pub ui_rate: Option<Frequency>,
+    /// Do not look for spurs in the trace (by default narrow peaks 10 dB or
+    /// more above the running median are taken out of the noise and counted
+    /// once as tones; a listed spur in the same place takes precedence).
+    #[arg(long)]
+    pub no_spur_search: bool,
+    /// How far above the trace's running median a narrow peak must stand to
+    /// be a spur, dB (default 10).
+    #[arg(long, value_name = "DB", value_parser = spur_threshold)]
+    pub spur_threshold: Option<f64>,
     /// Allow bands beyond the table by continuing its end slopes (reported).
     #[arg(long)]
     pub extrapolate: bool,
@@ -91,6 +117,21 @@ pub struct Args {
     pub plot: PlotArgs,
     #[command(flatten)]
     pub output: OutputArgs,
+}
+
+/// `--spur-threshold DB`: a positive number of dB (`10`, `10dB`).
+fn spur_threshold(text: &str) -> std::result::Result<f64, String> {
+    let t = text.trim();
+    let t = t
+        .strip_suffix("dB")
+        .or_else(|| t.strip_suffix("db"))
+        .unwrap_or(t);
+    match t.trim().parse::<f64>() {
+        Ok(v) if v > 0.0 && v.is_finite() => Ok(v),
+        _ => Err(format!(
+            "'{text}' is not a positive number of dB (e.g. 10dB)"
+        )),
+    }
 }
 
 /// `--band FROM:TO`: the band, with its text as the label of the chart.
@@ -132,7 +173,8 @@ pub fn run(args: Args) -> Result<Outcome> {
         .table
         .iter()
         .chain(args.record.iter())
-        .chain(args.filter_file.iter())
+        .chain(args.filter_files.iter())
+        .chain(args.filter_set.iter())
         .chain(args.spurs.iter())
         .map(|p| p.as_path())
         .collect();
@@ -148,14 +190,30 @@ pub fn run(args: Args) -> Result<Outcome> {
     })?;
     let bands: Vec<Band> = args.bands.iter().map(|b| b.1).collect();
     let mut setup = JitterSetup {
-        filters: args.filters.iter().map(|&f| Weighting::from(f)).collect(),
+        filters: args.filters.clone(),
         extrapolate: args.extrapolate,
         ..Default::default()
     };
-    if let Some(p) = &args.filter_file {
-        setup.filter_table = Some(read_filter_file(p)?);
-        setup.filter_table_name = Some(p.display().to_string());
+    let mut filter_files = args.filter_files.clone();
+    let mut filter_set_name = None;
+    if let Some(p) = &args.filter_set {
+        let set = read_filter_set(p)?;
+        setup.filters.extend(set.filters.iter().copied());
+        filter_files.extend(set.filter_files.iter().cloned());
+        filter_set_name = Some(set.name);
     }
+    for p in &filter_files {
+        setup.filter_tables.push(FilterTable {
+            name: p.display().to_string(),
+            table: read_filter_file(p)?,
+        });
+    }
+    if args.period || args.periods.is_some() {
+        setup.period = Some(PeriodRequest {
+            periods: args.periods,
+        });
+    }
+    let mut record_period = None;
     if let Some(p) = &args.spurs {
         setup.spurs = read_spurs(p)?;
     }
@@ -201,6 +259,10 @@ pub fn run(args: Args) -> Result<Outcome> {
         }
         (None, Some(path)) => {
             let series = args.input.load(path)?;
+            if setup.period.is_some() {
+                let x = series.record.to_phase();
+                record_period = Some(record_period_jitter(&x.x, x.tau0, carrier, args.periods)?);
+            }
             let w = welch_record(
                 &series.record,
                 &WelchOptions {
@@ -229,6 +291,17 @@ pub fn run(args: Args) -> Result<Outcome> {
             ))
         }
     };
+    // Spurs found in the trace leave the noise and count once as tones.
+    let rule = (!args.no_spur_search).then(|| SpurRule {
+        threshold_db: args
+            .spur_threshold
+            .unwrap_or(SpurRule::default().threshold_db),
+        ..SpurRule::default()
+    });
+    let prepared = prepare_trace(&spectrum, &setup.spurs, rule.as_ref())?;
+    let spectrum = prepared.spectrum;
+    setup.spurs = prepared.spurs;
+    let found_spurs = prepared.found;
     // With limits, a band that cannot be computed is a verdict of its own
     // (not judged); without, it is an error as before.
     let outcomes: Vec<std::result::Result<BandJitter, String>> = if limits.is_empty() {
@@ -281,7 +354,9 @@ pub fn run(args: Args) -> Result<Outcome> {
                 .collect(),
             notes,
         };
-        tauwise::plot::render(&plot.chart(), path, tauwise::plot::DEFAULT_SIZE)?;
+        let mut chart = plot.chart();
+        chart.series.extend(found_spur_marks(&found_spurs));
+        tauwise::plot::render(&chart, path, tauwise::plot::DEFAULT_SIZE)?;
     }
     let body = JitterBody {
         carrier,
@@ -298,6 +373,10 @@ pub fn run(args: Args) -> Result<Outcome> {
         window: record_spectrum.as_ref().map(|r| r.0),
         enbw_hz: record_spectrum.as_ref().map(|r| r.1),
         gaps_handling: record_spectrum.map(|r| r.2),
+        filter_set: filter_set_name,
+        spur_rule: rule.map(|r| r.describe()),
+        found_spurs,
+        record_period,
     };
     let text = match args.output.format() {
         Format::Json => json_doc(input, body)?,

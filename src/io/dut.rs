@@ -250,8 +250,8 @@ pub struct LfSource {
     pub uncertainty_db: Option<f64>,
 }
 
-/// A Butterworth weighting filter on the jitter integral (|H|² of order n),
-/// as the command line's `--filter` reads it.
+/// A weighting of the jitter integral (Butterworth or loop), as the command
+/// line's `--filter` reads it.
 pub type WeightingFilter = crate::parse::Filter;
 
 /// One jitter band.

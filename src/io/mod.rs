@@ -10,6 +10,7 @@ use thiserror::Error;
 
 pub mod dut;
 pub mod fields;
+pub mod filter_set;
 pub mod header_units;
 pub mod layout;
 pub mod lf_table;

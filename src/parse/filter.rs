@@ -1,13 +1,37 @@
-//! Butterworth weighting filters on a jitter integral:
-//! `highpass:ORDER:CORNER` or `lowpass:ORDER:CORNER` (`hp`/`lp` for short).
+//! Weighting filters on a jitter integral, one parser for the command line
+//! and the DUT file:
+//!
+//! | text | weighting |
+//! |---|---|
+//! | `highpass:ORDER:FC`, `hp:…` | Butterworth high-pass, order 1 … 8 |
+//! | `lowpass:ORDER:FC`, `lp:…` | Butterworth low-pass, order 1 … 8 |
+//! | `pll:FN:ZETA` | what a type-2 PLL passes, \|H\|² |
+//! | `cdr:FN:ZETA` | what a clock-recovery loop leaves, \|1 − H\|² |
+//! | `pll-diff:FN1:ZETA1:FN2:ZETA2:DELAY` | \|H₁e^{−sT} − H₂\|² |
+//!
+//! A loop's `FN:ZETA` may be written `bw=F3DB:peak=PDB` instead (its −3 dB
+//! bandwidth and peaking in dB): `pll:bw=4MHz:peak=0.1dB`. The formulas are
+//! in [`crate::spectrum::weighting`].
 
+use crate::spectrum::weighting::{SecondOrderLoop, Weighting};
 use crate::units::UnitError;
-use serde::Serialize;
 use std::fmt;
 use std::ops::RangeInclusive;
 use std::str::FromStr;
 
-/// The filter orders accepted everywhere (command line and DUT file).
+/// The weighting filter as it is parsed: [`Weighting`].
+///
+/// ```
+/// use tauwise::parse::Filter;
+/// let f: Filter = "highpass:2:12k".parse().unwrap();
+/// assert_eq!(f, Filter::HighPass { order: 2, fc: 12e3 });
+/// assert!("highpass:9:12k".parse::<Filter>().is_err());
+/// let l: Filter = "cdr:bw=4MHz:peak=0.1dB".parse().unwrap();
+/// assert!((l.h2(4e9) - 1.0).abs() < 1e-3); // a clock-recovery loop leaves what is far above it
+/// ```
+pub type Filter = Weighting;
+
+/// The Butterworth orders accepted everywhere (command line and DUT file).
 ///
 /// 1 … 8: the weighting filters that jitter specifications name are of
 /// first to third order (from memory: ITU-T O.172 and the IEEE 802.3
@@ -17,30 +41,48 @@ use std::str::FromStr;
 /// accepted on the command line and refused in the DUT file; one range now.
 pub const FILTER_ORDERS: RangeInclusive<u32> = 1..=8;
 
-/// A Butterworth magnitude weighting of order n and corner f_c:
-/// high-pass |H|² = 1/(1 + (f_c/f)^{2n}), low-pass |H|² = 1/(1 + (f/f_c)^{2n})
-/// (the maximally flat magnitude; S. Butterworth, 1930).
-///
-/// ```
-/// use tauwise::parse::Filter;
-/// let f: Filter = "highpass:2:12k".parse().unwrap();
-/// assert!(f.highpass && f.order == 2 && f.corner == 12e3);
-/// assert!("highpass:9:12k".parse::<Filter>().is_err());
-/// ```
-#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
-pub struct Filter {
-    /// High-pass (true) or low-pass (false).
-    pub highpass: bool,
-    /// Filter order n, in [`FILTER_ORDERS`].
-    pub order: u32,
-    /// Corner frequency f_c in Hz (> 0).
-    pub corner: f64,
+const FILTER_EXPECTED: &str = "highpass:ORDER:FC or lowpass:ORDER:FC with ORDER 1 … 8 \
+(e.g. highpass:1:12k), pll:FN:ZETA, cdr:FN:ZETA (or pll:bw=F3DB:peak=PDB), \
+or pll-diff:FN1:ZETA1:FN2:ZETA2:DELAY";
+
+/// One loop from two fields: `FN:ZETA` or `bw=F3DB:peak=PDB`.
+fn parse_loop(text: &str, a: &str, b: &str) -> Result<SecondOrderLoop, UnitError> {
+    let invalid = |reason: String| UnitError::Invalid {
+        text: text.to_string(),
+        reason: format!("filter '{text}': {reason}"),
+    };
+    // Only the key is case-blind: `4MHz` and `4mHz` differ.
+    let strip = |t: &'_ str, key: &str| -> Option<String> {
+        (t.len() >= key.len() && t[..key.len()].eq_ignore_ascii_case(key))
+            .then(|| t[key.len()..].to_string())
+    };
+    if let Some(bw) = strip(a, "bw=") {
+        let bw = super::Frequency::positive(bw.trim())
+            .map_err(|e| invalid(format!("loop bandwidth {e}")))?
+            .hertz();
+        let peak = strip(b, "peak=")
+            .ok_or_else(|| invalid("after bw=F3DB give peak=PDB (e.g. peak=0.1dB)".into()))?;
+        let peak = peak.trim();
+        let peak = strip(&peak.chars().rev().collect::<String>(), "bd")
+            .map(|r| r.chars().rev().collect::<String>())
+            .unwrap_or_else(|| peak.to_string());
+        let peak = peak.trim();
+        let peak: f64 = peak
+            .parse()
+            .map_err(|_| invalid(format!("peaking '{b}' is not a number of dB")))?;
+        SecondOrderLoop::from_bandwidth(bw, peak).map_err(|e| invalid(e.to_string()))
+    } else {
+        let fnat = super::Frequency::positive(a)
+            .map_err(|e| invalid(format!("loop natural frequency {e}")))?
+            .hertz();
+        let zeta: f64 = b
+            .parse()
+            .map_err(|_| invalid(format!("damping factor '{b}' is not a number")))?;
+        SecondOrderLoop::new(fnat, zeta).map_err(|e| invalid(e.to_string()))
+    }
 }
 
-const FILTER_EXPECTED: &str =
-    "highpass:ORDER:FC or lowpass:ORDER:FC with ORDER 1 … 8 (e.g. highpass:1:12k)";
-
-impl FromStr for Filter {
+impl FromStr for Weighting {
     type Err = UnitError;
     fn from_str(text: &str) -> Result<Self, UnitError> {
         let t = text.trim();
@@ -50,40 +92,69 @@ impl FromStr for Filter {
             expected: FILTER_EXPECTED,
         };
         let parts: Vec<&str> = t.split(':').map(str::trim).collect();
-        let [kind, order, corner] = parts[..] else {
-            return Err(bad());
-        };
-        let highpass = match kind.to_ascii_lowercase().as_str() {
-            "highpass" | "hp" => true,
-            "lowpass" | "lp" => false,
-            _ => return Err(bad()),
-        };
-        let order: u32 = order.parse().map_err(|_| bad())?;
-        if !FILTER_ORDERS.contains(&order) {
-            return Err(UnitError::OutOfRange {
-                text: t.to_string(),
-                what: "the filter order",
-                range: "a whole number from 1 to 8",
-            });
+        let kind = parts[0].to_ascii_lowercase();
+        match (kind.as_str(), &parts[1..]) {
+            ("highpass" | "hp" | "lowpass" | "lp", [order, corner]) => {
+                let order: u32 = order.parse().map_err(|_| bad())?;
+                if !FILTER_ORDERS.contains(&order) {
+                    return Err(UnitError::OutOfRange {
+                        text: t.to_string(),
+                        what: "the filter order",
+                        range: "a whole number from 1 to 8",
+                    });
+                }
+                let fc = super::Frequency::positive(corner)
+                    .map_err(|e| UnitError::Invalid {
+                        text: t.to_string(),
+                        reason: format!("filter '{t}': corner {e}"),
+                    })?
+                    .hertz();
+                Ok(if kind.starts_with('h') {
+                    Weighting::HighPass { order, fc }
+                } else {
+                    Weighting::LowPass { order, fc }
+                })
+            }
+            ("pll", [a, b]) => Ok(Weighting::Pll(parse_loop(t, a, b)?)),
+            ("cdr", [a, b]) => Ok(Weighting::Cdr(parse_loop(t, a, b)?)),
+            ("pll-diff", [a1, b1, a2, b2, delay]) => {
+                let delay_s = super::Duration::from_str(delay)
+                    .ok()
+                    .filter(|d| d.seconds() >= 0.0 && d.seconds().is_finite())
+                    .ok_or_else(|| UnitError::Invalid {
+                        text: t.to_string(),
+                        reason: format!(
+                            "filter '{t}': delay '{delay}' is not a duration of 0 or more (e.g. 2ns)"
+                        ),
+                    })?
+                    .seconds();
+                Ok(Weighting::PllDiff {
+                    first: parse_loop(t, a1, b1)?,
+                    second: parse_loop(t, a2, b2)?,
+                    delay_s,
+                })
+            }
+            _ => Err(bad()),
         }
-        let corner = super::Frequency::positive(corner)
-            .map_err(|e| UnitError::Invalid {
-                text: t.to_string(),
-                reason: format!("filter '{t}': corner {e}"),
-            })?
-            .hertz();
-        Ok(Filter {
-            highpass,
-            order,
-            corner,
-        })
     }
 }
 
-impl fmt::Display for Filter {
+/// Text that parses back to the same weighting (loops in their `FN:ZETA`
+/// form).
+impl fmt::Display for Weighting {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        let kind = if self.highpass { "highpass" } else { "lowpass" };
-        write!(f, "{kind}:{}:{}Hz", self.order, self.corner)
+        let lp = |l: &SecondOrderLoop| format!("{}Hz:{}", l.natural_hz, l.damping);
+        match self {
+            Weighting::HighPass { order, fc } => write!(f, "highpass:{order}:{fc}Hz"),
+            Weighting::LowPass { order, fc } => write!(f, "lowpass:{order}:{fc}Hz"),
+            Weighting::Pll(l) => write!(f, "pll:{}", lp(l)),
+            Weighting::Cdr(l) => write!(f, "cdr:{}", lp(l)),
+            Weighting::PllDiff {
+                first,
+                second,
+                delay_s,
+            } => write!(f, "pll-diff:{}:{}:{delay_s}s", lp(first), lp(second)),
+        }
     }
 }
 
@@ -107,6 +178,38 @@ mod tests {
             "highpass:1:0",
             "highpass:1",
             "highpass:1:1k:2",
+        ] {
+            let e = bad.parse::<Filter>().unwrap_err();
+            assert!(e.to_string().contains(bad.trim()), "{bad}: {e}");
+        }
+    }
+
+    #[test]
+    fn loops() {
+        for ok in [
+            "pll:1MHz:0.707",
+            "cdr:4M:0.8",
+            "pll-diff:2M:0.7:10M:0.9:3ns",
+            "pll-diff:2M:0.7:2M:0.7:0",
+        ] {
+            let f: Filter = ok.parse().unwrap();
+            assert_eq!(f.to_string().parse::<Filter>().unwrap(), f, "{ok}");
+        }
+        let f: Filter = "pll:bw=4MHz:peak=0.1dB".parse().unwrap();
+        let Weighting::Pll(l) = f else { panic!() };
+        assert!((l.bandwidth_3db() / 4e6 - 1.0).abs() < 1e-9);
+        assert!((l.peaking_db() - 0.1).abs() < 1e-9);
+        assert_eq!(l.given_as, Some((4e6, 0.1)));
+        for bad in [
+            "pll:1MHz",
+            "pll:-1MHz:0.7",
+            "pll:1MHz:-0.7",
+            "pll:1MHz:zero",
+            "cdr:bw=1M:0.7",
+            "cdr:bw=1M:peak=0dB",
+            "pll-diff:2M:0.7:10M:0.9",
+            "pll-diff:2M:0.7:10M:0.9:-1ns",
+            "pll-diff:2M:0.7:10M:0.9:soon",
         ] {
             let e = bad.parse::<Filter>().unwrap_err();
             assert!(e.to_string().contains(bad.trim()), "{bad}: {e}");

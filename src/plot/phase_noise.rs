@@ -146,6 +146,20 @@ impl PhaseNoisePlot {
     }
 }
 
+/// Spurs found in a trace, as markers at their peaks on the trace
+/// (offset, L in dBc/Hz); the legend points to the table for their levels
+/// as tones.
+pub fn found_spur_marks(found: &[crate::spectrum::spurs::FoundSpur]) -> Option<Series> {
+    (!found.is_empty()).then(|| Series {
+        name: format!("spurs found in the trace ({})", found.len()),
+        points: found
+            .iter()
+            .map(|s| XY::new(s.offset_hz, s.peak_dbc_hz))
+            .collect(),
+        style: Style::markers(Colour::Palette(7), Marker::Triangle),
+    })
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

@@ -3,7 +3,8 @@
 
 use super::table::{Cell, Column, Table, Text, Unit};
 use super::{csv_text, plain, Result};
-use crate::spectrum::jitter::{Band, BandJitter, JitterLimit};
+use crate::spectrum::jitter::{Band, BandJitter, JitterLimit, RecordPeriodJitter};
+use crate::spectrum::spurs::FoundSpur;
 use crate::units::format_si;
 use crate::verdict::Judgement;
 use serde::Serialize;
@@ -32,6 +33,18 @@ pub struct JitterBody {
     /// How its gaps were handled.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub gaps_handling: Option<String>,
+    /// The name of the filter set the weightings came from (`--filters`).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub filter_set: Option<String>,
+    /// The rule spurs were looked for by (`null`: not looked for).
+    pub spur_rule: Option<String>,
+    /// Spurs found in the trace (taken out of the noise and counted once,
+    /// unless a listed spur took their place).
+    pub found_spurs: Vec<FoundSpur>,
+    /// Period jitter measured from the record's edge differences (`--record`
+    /// with `--period`).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub record_period: Option<RecordPeriodJitter>,
 }
 
 /// How a spur level is read, in words.
@@ -120,23 +133,35 @@ pub fn extrapolated_text(r: &BandJitter) -> String {
 
 impl JitterBody {
     /// CSV: `from,to,filter,rms_rad,rms_deg,rms_s,rms_ui,spurs,extrapolated`,
-    /// one row per computed band (a weighting named by a file whose name
-    /// holds a comma is quoted).
+    /// then, when period jitter was asked for, `period_rms_s,c2c_rms_s,
+    /// n_period_rms_s`; one row per computed band (a weighting named by a
+    /// file whose name holds a comma is quoted).
     pub fn csv(&self) -> Result<String> {
-        csv_text(
-            &[
-                "from",
-                "to",
-                "filter",
-                "rms_rad",
-                "rms_deg",
-                "rms_s",
-                "rms_ui",
-                "spurs",
-                "extrapolated",
-            ],
+        let computed = || {
             self.bands.iter().filter_map(|b| match &b.outcome {
-                BandOutcome::Computed(r) => Some([
+                BandOutcome::Computed(r) => Some(r),
+                BandOutcome::NotComputed { .. } => None,
+            })
+        };
+        let with_period = computed().any(|r| r.period.is_some());
+        let mut header = vec![
+            "from",
+            "to",
+            "filter",
+            "rms_rad",
+            "rms_deg",
+            "rms_s",
+            "rms_ui",
+            "spurs",
+            "extrapolated",
+        ];
+        if with_period {
+            header.extend(["period_rms_s", "c2c_rms_s", "n_period_rms_s"]);
+        }
+        csv_text(
+            &header,
+            computed().map(|r| {
+                let mut row = vec![
                     plain(r.from),
                     plain(r.to),
                     r.filter.clone(),
@@ -146,8 +171,18 @@ impl JitterBody {
                     r.rms_ui.map(plain).unwrap_or_default(),
                     r.spurs.to_string(),
                     extrapolated_text(r),
-                ]),
-                BandOutcome::NotComputed { .. } => None,
+                ];
+                if with_period {
+                    let p = r.period.as_ref();
+                    row.push(p.map(|p| plain(p.period_rms_s)).unwrap_or_default());
+                    row.push(p.map(|p| plain(p.c2c_rms_s)).unwrap_or_default());
+                    row.push(
+                        p.and_then(|p| p.n_period_rms_s)
+                            .map(plain)
+                            .unwrap_or_default(),
+                    );
+                }
+                row
             }),
         )
     }
@@ -199,6 +234,21 @@ impl JitterBody {
                             format!("includes {} spur(s), {:.4e} rad²", r.spurs, r.spurs_rad2),
                         );
                     }
+                    if let Some(p) = &r.period {
+                        tab.span(
+                            Cell::text(""),
+                            format!(
+                                "period jitter {} rms, cycle-to-cycle {} rms{}",
+                                format_si(p.period_rms_s, "s", 4),
+                                format_si(p.c2c_rms_s, "s", 4),
+                                match (p.periods, p.n_period_rms_s) {
+                                    (Some(n), Some(v)) =>
+                                        format!(", over {n} periods {}", format_si(v, "s", 4)),
+                                    _ => String::new(),
+                                }
+                            ),
+                        );
+                    }
                     for (a, b) in &r.extrapolated {
                         tab.span(
                             Cell::text(""),
@@ -228,6 +278,35 @@ impl JitterBody {
         tab.note("");
         tab.note(self.caution);
         t.table(tab);
+        if let Some(name) = &self.filter_set {
+            t.line(format!("Weightings from the filter set '{name}'."));
+        }
+        if let Some(r) = &self.record_period {
+            t.line(format!(
+                "From the record's edge differences ({} periods, all offsets to ν0/2): period \
+                 jitter {} rms, cycle-to-cycle {} rms{}.",
+                r.count,
+                format_si(r.period_rms_s, "s", 4),
+                format_si(r.c2c_rms_s, "s", 4),
+                match (r.periods, r.n_period_rms_s) {
+                    (Some(n), Some(v)) => format!(", over {n} periods {}", format_si(v, "s", 4)),
+                    _ => String::new(),
+                }
+            ));
+        }
+        for s in &self.found_spurs {
+            t.line(format!(
+                "Spur found in the trace at {}: {:.1} dBc as a tone ({:.1} dB above the floor){}.",
+                format_si(s.offset_hz, "Hz", 4),
+                s.level_dbc,
+                s.above_floor_db,
+                if s.replaced_by_listed {
+                    "; a listed spur there is used instead"
+                } else {
+                    "; taken out of the noise and counted once"
+                }
+            ));
+        }
         t
     }
 }

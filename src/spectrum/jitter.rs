@@ -8,13 +8,12 @@
 //! - S_φ is the table interpolated linearly in log f / dB; with no weighting
 //!   (or only a filter file) every segment is a power law and the integral is
 //!   exact ([`super::loglog`]).
-//! - Butterworth magnitude weightings of order n and corner f_c:
-//!   high-pass |H|² = 1/(1 + (f_c/f)^{2n}), low-pass |H|² = 1/(1 + (f/f_c)^{2n});
-//!   several multiply. With one of these the integral is done by adaptive
-//!   Gauss–Legendre quadrature in log f on each table segment (relative
-//!   tolerance 10⁻⁹).
+//! - Weightings ([`super::weighting`]): Butterworth high- and low-passes,
+//!   loop responses (`pll`, `cdr`, `pll-diff`); several multiply. With one
+//!   of these the integral is done by adaptive Gauss–Legendre quadrature in
+//!   log f on each table segment (relative tolerance 10⁻⁹).
 //! - A filter file gives |H(f)|² in dB against f, interpolated linearly in
-//!   log f / dB like the table.
+//!   log f / dB like the table; several files multiply.
 //! - Spurs: a discrete line shown at L_s dBc (the level of one sideband,
 //!   as an analyser displays it) at offset f_s is a pure phase modulation
 //!   φ(t) = β·sin(2πf_s t) with sidebands of (β/2)² = 10^{L_s/10} each side,
@@ -34,69 +33,7 @@ use crate::units::{format_si, parse_frequency, UnitError};
 use crate::verdict::{Coverage, Judgement};
 use std::f64::consts::PI;
 
-/// A Butterworth magnitude weighting.
-#[derive(Debug, Clone, Copy, PartialEq)]
-pub enum Weighting {
-    /// High-pass of order n at corner f_c: |H|² = 1/(1 + (f_c/f)^{2n}).
-    HighPass {
-        /// Order n ≥ 1.
-        order: u32,
-        /// Corner frequency f_c in Hz.
-        fc: f64,
-    },
-    /// Low-pass of order n at corner f_c: |H|² = 1/(1 + (f/f_c)^{2n}).
-    LowPass {
-        /// Order n ≥ 1.
-        order: u32,
-        /// Corner frequency f_c in Hz.
-        fc: f64,
-    },
-}
-
-impl Weighting {
-    /// Parse `highpass:ORDER:FC` or `lowpass:ORDER:FC` (FC with units, e.g.
-    /// `highpass:1:12k`) through the one filter parser,
-    /// [`crate::parse::Filter`].
-    pub fn parse(text: &str) -> Result<Self> {
-        Ok(text.parse::<crate::parse::Filter>()?.into())
-    }
-
-    /// |H(f)|².
-    pub fn h2(&self, f: f64) -> f64 {
-        match *self {
-            Weighting::HighPass { order, fc } => 1.0 / (1.0 + (fc / f).powi(2 * order as i32)),
-            Weighting::LowPass { order, fc } => 1.0 / (1.0 + (f / fc).powi(2 * order as i32)),
-        }
-    }
-
-    /// A short description (`highpass:1:12 kHz`).
-    pub fn describe(&self) -> String {
-        match *self {
-            Weighting::HighPass { order, fc } => {
-                format!("highpass:{order}:{}", format_si(fc, "Hz", 4))
-            }
-            Weighting::LowPass { order, fc } => {
-                format!("lowpass:{order}:{}", format_si(fc, "Hz", 4))
-            }
-        }
-    }
-}
-
-impl From<crate::parse::Filter> for Weighting {
-    fn from(f: crate::parse::Filter) -> Self {
-        if f.highpass {
-            Weighting::HighPass {
-                order: f.order,
-                fc: f.corner,
-            }
-        } else {
-            Weighting::LowPass {
-                order: f.order,
-                fc: f.corner,
-            }
-        }
-    }
-}
+pub use super::weighting::{SecondOrderLoop, Weighting};
 
 /// An integration band [from, to] in Hz.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -147,30 +84,48 @@ impl Spur {
     }
 }
 
+/// A weighting table: |H(f)|² against f (linear), from a filter file of dB
+/// values, with its name (the file) for the description.
+#[derive(Debug, Clone)]
+pub struct FilterTable {
+    /// A name for the description (the file).
+    pub name: String,
+    /// |H(f)|², interpolated linearly in log f / dB.
+    pub table: LogLog,
+}
+
+/// Period jitter asked for: the period and cycle-to-cycle jitter of every
+/// band, and the jitter over `periods` periods when given.
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
+pub struct PeriodRequest {
+    /// N of the N-period jitter (≥ 1), when asked for.
+    pub periods: Option<u32>,
+}
+
 /// Weighting and extras applied to every band.
 #[derive(Debug, Clone, Default)]
 pub struct JitterSetup {
-    /// Butterworth weightings (multiplied).
+    /// Weightings (Butterworth and loops; multiplied).
     pub filters: Vec<Weighting>,
-    /// |H(f)|² as a linear table (from a filter file of dB values).
-    pub filter_table: Option<LogLog>,
-    /// A name for the filter table (the file), for the description.
-    pub filter_table_name: Option<String>,
+    /// Weighting tables from filter files (multiplied).
+    pub filter_tables: Vec<FilterTable>,
     /// Spurs added when inside a band.
     pub spurs: Vec<Spur>,
-    /// Allow bands outside the table (and filter table) by continuing the end slopes.
+    /// Allow bands outside the table (and filter tables) by continuing the end slopes.
     pub extrapolate: bool,
+    /// Period jitter too ([`period_kernels`]).
+    pub period: Option<PeriodRequest>,
 }
 
 impl JitterSetup {
     /// A description of the weighting (`none` when unweighted).
     pub fn describe(&self) -> String {
         let mut parts: Vec<String> = self.filters.iter().map(|w| w.describe()).collect();
-        if let Some(n) = &self.filter_table_name {
-            parts.push(format!("file:{n}"));
-        } else if self.filter_table.is_some() {
-            parts.push("file".into());
-        }
+        parts.extend(
+            self.filter_tables
+                .iter()
+                .map(|t| format!("file:{}", t.name)),
+        );
         if parts.is_empty() {
             "none".into()
         } else {
@@ -180,11 +135,65 @@ impl JitterSetup {
 
     fn weight(&self, f: f64) -> f64 {
         let mut h = self.filters.iter().map(|w| w.h2(f)).product::<f64>();
-        if let Some(t) = &self.filter_table {
-            h *= t.eval(f, Extend::EndSlope).unwrap_or(0.0);
+        for t in &self.filter_tables {
+            h *= t.table.eval(f, Extend::EndSlope).unwrap_or(0.0);
         }
         h
     }
+}
+
+/// The kernels K(f) that turn S_φ into the mean square of a difference of
+/// clock edges, with the spacing of their zeros (ν0/N for N periods):
+///
+/// - period jitter, P_k − T₀ = x(t + T₀) − x(t): K = 4 sin²(πf/ν0);
+/// - cycle-to-cycle, P_{k+1} − P_k, the second difference: K = 16 sin⁴(πf/ν0);
+/// - N-period jitter, x(t + N T₀) − x(t): K = 4 sin²(πNf/ν0);
+///
+/// each in time through σ² = (2πν0)⁻² ∫ S_φ(f)·K(f) df (S_φ one-sided; the
+/// |1 − e^{−j2πfT}|² = 4 sin²(πfT) of a difference over T, analytic).
+pub fn period_kernels(nu0: f64, periods: Option<u32>) -> Vec<(PeriodKind, f64)> {
+    let mut k = vec![(PeriodKind::Period, nu0), (PeriodKind::CycleToCycle, nu0)];
+    if let Some(n) = periods {
+        k.push((PeriodKind::NPeriods(n), nu0 / n as f64));
+    }
+    k
+}
+
+/// Which difference of edges a period kernel gives.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum PeriodKind {
+    /// One period: 4 sin²(πf/ν0).
+    Period,
+    /// Cycle to cycle: 16 sin⁴(πf/ν0).
+    CycleToCycle,
+    /// N periods: 4 sin²(πNf/ν0).
+    NPeriods(u32),
+}
+
+impl PeriodKind {
+    /// K(f) at carrier ν0.
+    pub fn kernel(self, f: f64, nu0: f64) -> f64 {
+        match self {
+            PeriodKind::Period => 4.0 * (PI * f / nu0).sin().powi(2),
+            PeriodKind::CycleToCycle => 16.0 * (PI * f / nu0).sin().powi(4),
+            PeriodKind::NPeriods(n) => 4.0 * (PI * n as f64 * f / nu0).sin().powi(2),
+        }
+    }
+}
+
+/// Period jitter of a band, seconds rms (module notes of [`period_kernels`]).
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct PeriodJitter {
+    /// rms period jitter, s.
+    pub period_rms_s: f64,
+    /// rms cycle-to-cycle jitter, s.
+    pub c2c_rms_s: f64,
+    /// N of the N-period jitter.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub periods: Option<u32>,
+    /// rms jitter over N periods, s.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub n_period_rms_s: Option<f64>,
 }
 
 /// The jitter in one band.
@@ -211,6 +220,9 @@ pub struct BandJitter {
     /// Offset ranges [from, to] in Hz that were extrapolated beyond the table
     /// or the filter file.
     pub extrapolated: Vec<(f64, f64)>,
+    /// Period, cycle-to-cycle and N-period jitter in the band, when asked for.
+    #[serde(flatten, skip_serializing_if = "Option::is_none")]
+    pub period: Option<PeriodJitter>,
 }
 
 /// A limit on the rms jitter of a band, in one of the units jitter is given
@@ -395,30 +407,16 @@ pub fn integrate_band(
         Ok(())
     };
     check_cover("table", &table)?;
-    if let Some(ft) = &setup.filter_table {
-        check_cover("filter file", ft)?;
+    for ft in &setup.filter_tables {
+        check_cover(&format!("filter file {}", ft.name), &ft.table)?;
     }
     extrapolated.sort_by(|a, b| a.0.total_cmp(&b.0));
     extrapolated.dedup();
-    let weighted = match &setup.filter_table {
-        Some(ft) => table.product(ft, band.from, band.to, Extend::EndSlope)?,
-        None => table.clone(),
-    };
-    let mut var = 0.0;
-    for (a, b) in weighted.pieces(band.from, band.to) {
-        let (_, e) = weighted.law_at(0.5 * (a + b));
-        let va = weighted.value_on_piece(a, b, a);
-        var += if setup.filters.is_empty() {
-            power_integral_from(va, a, e, b)
-        } else {
-            // In u = ln f: ∫ v_a·(f/a)^e·f·Π|H|² du, smooth on each piece.
-            let g = |u: f64| {
-                let f = u.exp();
-                va * (f / a).powf(e) * f * setup.filters.iter().map(|w| w.h2(f)).product::<f64>()
-            };
-            adaptive(&g, a.ln(), b.ln(), 1e-9)
-        };
+    let mut weighted = table.clone();
+    for ft in &setup.filter_tables {
+        weighted = weighted.product(&ft.table, band.from, band.to, Extend::EndSlope)?;
     }
+    let var = weighted_integral(&weighted, band, setup, None)?;
     let inside: Vec<&Spur> = setup
         .spurs
         .iter()
@@ -429,6 +427,27 @@ pub fn integrate_band(
         .fold(0.0, |acc, s| acc + s.phase_power() * setup.weight(s.f));
     let rad = (var + spur_var).sqrt();
     let secs = rad / (2.0 * PI * nu0);
+    let period = match setup.period {
+        Some(req) => {
+            let mut values = Vec::new();
+            for (kind, spacing) in period_kernels(nu0, req.periods) {
+                let k = |f: f64| kind.kernel(f, nu0);
+                let cont = weighted_integral(&weighted, band, setup, Some((&k, spacing)))?;
+                let lines: f64 = inside
+                    .iter()
+                    .map(|s| s.phase_power() * setup.weight(s.f) * k(s.f))
+                    .sum();
+                values.push((cont + lines).sqrt() / (2.0 * PI * nu0));
+            }
+            Some(PeriodJitter {
+                period_rms_s: values[0],
+                c2c_rms_s: values[1],
+                periods: req.periods,
+                n_period_rms_s: values.get(2).copied(),
+            })
+        }
+        None => None,
+    };
     Ok(BandJitter {
         from: band.from,
         to: band.to,
@@ -440,6 +459,152 @@ pub fn integrate_band(
         spurs_rad2: spur_var,
         spurs: inside.len(),
         extrapolated,
+        period,
+    })
+}
+
+/// The most sub-intervals an oscillating integrand is split into.
+const MAX_SPLITS: usize = 2_000_000;
+
+/// ∫ over `band` of the piecewise power law `weighted` times the weightings
+/// of `setup` and an optional kernel K(f) whose zeros are `spacing` Hz
+/// apart. Each table piece is a power law: with nothing else it is
+/// integrated exactly; otherwise by adaptive Gauss–Legendre in u = ln f,
+/// ∫ v_a·(f/a)^e·f·Π|H|²·K du, the piece first cut at every half zero
+/// spacing of K and of any loop difference's delay (1/T) so that each
+/// sub-interval holds at most half an oscillation.
+fn weighted_integral(
+    weighted: &LogLog,
+    band: Band,
+    setup: &JitterSetup,
+    kernel: Option<(&dyn Fn(f64) -> f64, f64)>,
+) -> Result<f64> {
+    let mut spacing = kernel.map(|k| k.1).unwrap_or(f64::INFINITY);
+    for w in &setup.filters {
+        if let Weighting::PllDiff { delay_s, .. } = w {
+            if *delay_s > 0.0 {
+                spacing = spacing.min(1.0 / delay_s);
+            }
+        }
+    }
+    let step = 0.5 * spacing;
+    let mut var = 0.0;
+    for (a, b) in weighted.pieces(band.from, band.to) {
+        let (_, e) = weighted.law_at(0.5 * (a + b));
+        let va = weighted.value_on_piece(a, b, a);
+        if setup.filters.is_empty() && kernel.is_none() {
+            var += power_integral_from(va, a, e, b);
+            continue;
+        }
+        let g = |u: f64| {
+            let f = u.exp();
+            let k = kernel.map(|k| (k.0)(f)).unwrap_or(1.0);
+            va * (f / a).powf(e) * f * setup.filters.iter().map(|w| w.h2(f)).product::<f64>() * k
+        };
+        let splits = ((b - a) / step).ceil();
+        if !(splits <= MAX_SPLITS as f64) {
+            return Err(Error::invalid(format!(
+                "the band {} to {} holds more than {MAX_SPLITS} half-oscillations of the                  weighting (a long loop delay or a large N of periods); narrow the band",
+                format_si(band.from, "Hz", 4),
+                format_si(band.to, "Hz", 4)
+            )));
+        }
+        let mut lo = a;
+        let mut m = (a / step).floor() + 1.0;
+        while lo < b {
+            let hi = (m * step).min(b);
+            if hi > lo {
+                var += adaptive(&g, lo.ln(), hi.ln(), 1e-9);
+            }
+            lo = hi;
+            m += 1.0;
+        }
+    }
+    Ok(var)
+}
+
+/// Period jitter measured directly from a time record of edge times (TIE)
+/// sampled once per period: P_k − T₀ = x_{k+1} − x_k.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct RecordPeriodJitter {
+    /// The standard deviation of x_{k+1} − x_k (the mean period error, a
+    /// frequency offset, removed), s.
+    pub period_rms_s: f64,
+    /// The rms of the second difference x_{k+2} − 2x_{k+1} + x_k, s.
+    pub c2c_rms_s: f64,
+    /// N of the N-period jitter.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub periods: Option<u32>,
+    /// The standard deviation of x_{k+N} − x_k, s.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub n_period_rms_s: Option<f64>,
+    /// How many periods (first differences) the figures rest on.
+    pub count: usize,
+}
+
+/// Period, cycle-to-cycle and N-period jitter of a phase record `x` (s; NaN
+/// = gap, differences across a gap are left out) whose samples are one
+/// period of the carrier apart: τ0·ν0 = 1 within 10⁻⁶ (otherwise the
+/// differences are not of one period and this is an error naming both).
+/// All frequencies up to ν0/2 count, which is what the spectrum's integral
+/// over the whole band (0, ν0/2] gives (analytic: the kernels of
+/// [`period_kernels`] are the transfer functions of these differences).
+pub fn record_period_jitter(
+    x: &[f64],
+    tau0: f64,
+    nu0: f64,
+    periods: Option<u32>,
+) -> Result<RecordPeriodJitter> {
+    if !((tau0 * nu0 - 1.0).abs() <= 1e-6) {
+        return Err(Error::invalid(format!(
+            "period jitter from a record needs one sample per period: τ0 = {} but 1/ν0 = {} \
+             (a TIE capture of every edge; give --carrier as 1/τ0 for such a record)",
+            format_si(tau0, "s", 6),
+            format_si(1.0 / nu0, "s", 6)
+        )));
+    }
+    fn spread(d: impl Iterator<Item = f64>, remove_mean: bool) -> (f64, usize) {
+        let v: Vec<f64> = d.filter(|v| v.is_finite()).collect();
+        let n = v.len();
+        if n == 0 {
+            return (f64::NAN, 0);
+        }
+        let mean = if remove_mean {
+            v.iter().sum::<f64>() / n as f64
+        } else {
+            0.0
+        };
+        let dof = if remove_mean { n.saturating_sub(1) } else { n };
+        let ss: f64 = v.iter().map(|d| (d - mean) * (d - mean)).sum();
+        ((ss / dof.max(1) as f64).sqrt(), n)
+    }
+    let (period, count) = spread(x.windows(2).map(|w| w[1] - w[0]), true);
+    let (c2c, _) = spread(x.windows(3).map(|w| w[2] - 2.0 * w[1] + w[0]), false);
+    if count < 3 {
+        return Err(Error::insufficient(format!(
+            "period jitter needs at least 3 periods without gaps; the record has {count}"
+        )));
+    }
+    let n_period = match periods {
+        Some(n) => {
+            let n = n as usize;
+            if x.len() <= n + 2 {
+                return Err(Error::insufficient(format!(
+                    "{n}-period jitter needs more than {} samples; the record has {}",
+                    n + 2,
+                    x.len()
+                )));
+            }
+            Some(spread(x.iter().zip(&x[n..]).map(|(a, b)| b - a), true).0)
+        }
+        None => None,
+    };
+    Ok(RecordPeriodJitter {
+        period_rms_s: period,
+        c2c_rms_s: c2c,
+        periods,
+        n_period_rms_s: n_period,
+        count,
     })
 }
 

@@ -22,6 +22,8 @@ pub mod jitter;
 pub mod loglog;
 pub mod quad;
 pub mod sigma;
+pub mod spurs;
+pub mod weighting;
 pub mod welch;
 
 use crate::error::{Error, Result};

@@ -9,7 +9,8 @@ use crate::model::fit::fit_sy;
 use crate::plot::phase_noise::{lf_points, BandMark, LfTrace, PhaseNoisePlot, TraceKind};
 use crate::plot::stability::{SigmaCurve, StabilityPlot};
 use crate::report::*;
-use crate::spectrum::jitter::{integrate_band, Band, BandJitter, JitterSetup, Weighting};
+use crate::spectrum::jitter::{integrate_band, Band, BandJitter, FilterTable, JitterSetup, Spur};
+use crate::spectrum::spurs::{prepare_trace, SpurRule};
 use crate::spectrum::welch::{welch_record, WelchOptions};
 use crate::spectrum::{Quantity, Spectrum};
 use crate::stability::{from_phase_noise, ViewOptions};
@@ -18,28 +19,14 @@ use crate::verdict::Judgement;
 
 fn setup_for(j: &JitterSpec) -> Result<JitterSetup> {
     let mut setup = JitterSetup {
-        filters: j
-            .filters
-            .iter()
-            .map(|f| {
-                if f.highpass {
-                    Weighting::HighPass {
-                        order: f.order,
-                        fc: f.corner,
-                    }
-                } else {
-                    Weighting::LowPass {
-                        order: f.order,
-                        fc: f.corner,
-                    }
-                }
-            })
-            .collect(),
+        filters: j.filters.clone(),
         ..Default::default()
     };
     if let Some(p) = &j.filter_file {
-        setup.filter_table = Some(read_filter_file(p)?);
-        setup.filter_table_name = Some(p.display().to_string());
+        setup.filter_tables.push(FilterTable {
+            name: p.display().to_string(),
+            table: read_filter_file(p)?,
+        });
     }
     Ok(setup)
 }
@@ -149,18 +136,19 @@ pub(super) fn phase_noise(
     let mut rows = Vec::new();
     let mut marks = Vec::new();
     for j in &dut.jitter {
-        let spectrum: Option<(&Spectrum, String)> = match &j.source {
+        // The spectrum, with the spurs its table lists (none for a record's).
+        let spectrum: Option<(&Spectrum, String, &[Spur])> = match &j.source {
             Some(n) => tables
                 .iter()
                 .find(|t| &t.src.name == n)
-                .map(|t| (&t.table.spectrum, t.src.name.clone())),
+                .map(|t| (&t.table.spectrum, t.src.name.clone(), &t.table.spurs[..])),
             None => tables
                 .first()
-                .map(|t| (&t.table.spectrum, t.src.name.clone()))
+                .map(|t| (&t.table.spectrum, t.src.name.clone(), &t.table.spurs[..]))
                 .or_else(|| {
                     record_spectrum
                         .as_ref()
-                        .map(|(n, _, s)| (s, format!("spectrum of {n}")))
+                        .map(|(n, _, s)| (s, format!("spectrum of {n}"), &[][..]))
                 }),
         };
         let item = format!(
@@ -175,10 +163,14 @@ pub(super) fn phase_noise(
             .unwrap_or_else(|| "no limit given".into());
         let result: std::result::Result<BandJitter, String> = match spectrum {
             None => Err("no spectrum to integrate (no table, or no carrier for the record)".into()),
-            Some((s, _)) => setup_for(j)
-                .and_then(|setup| {
+            // As `tauwise jitter`: spurs found in the trace leave the noise
+            // and count once; the listed ones take precedence.
+            Some((s, _, listed)) => setup_for(j)
+                .and_then(|mut setup| {
+                    let p = prepare_trace(s, listed, Some(&SpurRule::default()))?;
+                    setup.spurs = p.spurs;
                     integrate_band(
-                        s,
+                        &p.spectrum,
                         Band {
                             from: j.from,
                             to: j.to,
