@@ -13,11 +13,14 @@
 //! (too narrow: the dangerous side), or above by more than 0.2 at 68.3 %
 //! (grossly conservative, as the recalled Theo1 flicker-PM form was, with
 //! 1.00); and the pooled coverage of each estimator over its cells must be
-//! within 0.04 of nominal. Known conservative cells, within that bound: TOTDEV
-//! for white and flicker PM at T/τ = 4 covers 0.82–0.87 at 68.3 % (its
-//! variance is dominated there by the squares of the two end samples, which
-//! every reflected term reads, so the estimate is far from χ²-shaped: a χ²
-//! interval with the exact variance is too wide in the middle).
+//! within 0.04 of nominal. Known conservative cells, within that bound
+//! (docs/statistics.md § Coverage): TOTDEV for white and flicker PM at
+//! T/τ = 4 covers about 0.82 at 68.3 % (its variance is dominated there by
+//! the squares of the two end samples, which every reflected term reads, so
+//! the estimate is far from χ²-shaped: a χ² interval with the exact variance
+//! is too wide in the middle), and points with EDF below about 10 at the
+//! last octaves cover 0.72–0.80 (a quadratic form with few, unequal
+//! eigenvalues is not χ²_ν-shaped; `tests/edf.rs`).
 
 use tauwise::deviation::Estimator;
 use tauwise::stats::coverage::{run, CoverageCell, CoverageSpec};

@@ -48,7 +48,7 @@
 //!    is kept ("held", [`IdMethod::Held`]). The scores are those the
 //!    identification itself uses: ((r1 − ρ_α)·√n)² for the lag-1 method,
 //!    the B1 fallback's combined score below, and for WPM against FPM
-//!    ((ln R̂ − ln R_α)/s)² with s = sqrt(8/terms) ([`pm_scores`]). A real
+//!    ((ln R̂ − ln R_α)/s)² with s = sqrt(8/terms) (`pm_scores`). A real
 //!    change of type is still followed: white FM with random-walk FM
 //!    crossing it at 16 τ0 reads RWFM at 8 and 16 times the crossing in
 //!    over 90 % of seeded records (`tests/noise_id.rs`).
