@@ -301,7 +301,7 @@ fn holdover_chart(f: &Fleet) -> Chart {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::report::{Part, Report};
+    use crate::report::Report;
 
     fn report(name: &str) -> Report {
         use crate::plot::holdover::HoldoverPlot;
