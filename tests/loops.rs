@@ -398,3 +398,37 @@ fn weighting_applies_to_period_jitter() {
     let j = integrate_band(&s, band, &setup, None).unwrap();
     assert!((j.period.unwrap().period_rms_s / plain - 1.0).abs() < 1e-8);
 }
+
+/// The DUT key `jitter.filter_set` reads the same set file: its filters and
+/// filter files join the band's own; a filter that does not parse in the set
+/// names the set file and line.
+#[test]
+fn dut_filter_set() {
+    let dir = tempfile::tempdir().unwrap();
+    write(dir.path(), "lf.csv", TABLE);
+    write(dir.path(), "half.txt", "1,-3.0103\n1e9,-3.0103\n");
+    write(
+        dir.path(),
+        "link.toml",
+        "name = \"example link\"\nfilters = [\"pll:4MHz:0.8\"]\nfilter_files = [\"half.txt\"]\n",
+    );
+    let dut = write(
+        dir.path(),
+        "unit.toml",
+        "[device]\nname = \"unit\"\ncarrier = \"100MHz\"\n\n[[phase_noise]]\npath = \"lf.csv\"\n\n\
+         [[jitter]]\nband = \"10k:50M\"\nfilters = [\"cdr:40kHz:0.7\"]\nfilter_set = \"link.toml\"\n",
+    );
+    let d = tauwise::io::dut::Dut::read(&dut).unwrap();
+    let j = &d.jitter[0];
+    assert_eq!(j.filters.len(), 2);
+    assert!(matches!(j.filters[1], Weighting::Pll(_)));
+    assert_eq!(j.filter_files.len(), 1);
+    assert_eq!(j.filter_set.as_ref().unwrap().1, "example link");
+    write(
+        dir.path(),
+        "link.toml",
+        "name = \"example link\"\nfilters = [\n  \"pll:4MHz\",\n]\n",
+    );
+    let e = tauwise::io::dut::Dut::read(&dut).unwrap_err().to_string();
+    assert!(e.contains("link.toml:3"), "{e}");
+}

@@ -154,7 +154,16 @@ fn dut_inputs(dut: &Dut) -> Vec<&std::path::Path> {
     let mut inputs: Vec<&std::path::Path> = vec![dut.file.as_path()];
     inputs.extend(dut.records.iter().chain(&dut.tie).map(|r| r.path.as_path()));
     inputs.extend(dut.phase_noise.iter().map(|t| t.path.as_path()));
-    inputs.extend(dut.jitter.iter().filter_map(|j| j.filter_file.as_deref()));
+    inputs.extend(
+        dut.jitter
+            .iter()
+            .flat_map(|j| {
+                j.filter_files
+                    .iter()
+                    .chain(j.filter_set.iter().map(|s| &s.0))
+            })
+            .map(|p| p.as_path()),
+    );
     if let Some(w) = &dut.wander {
         inputs.extend(w.mask_files.iter().map(|p| p.as_path()));
     }

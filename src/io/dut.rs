@@ -83,6 +83,7 @@ struct RawJitter {
     #[serde(default)]
     filters: Vec<Spanned<String>>,
     filter_file: Option<Spanned<String>>,
+    filter_set: Option<Spanned<String>>,
     limit: Option<Spanned<toml::Value>>,
     ui_rate: Option<Spanned<toml::Value>>,
     source: Option<Spanned<String>>,
@@ -265,8 +266,11 @@ pub struct JitterSpec {
     pub to: f64,
     /// Weighting filters, applied together.
     pub filters: Vec<WeightingFilter>,
-    /// A filter table (|H(f)|² in dB against f), resolved path.
-    pub filter_file: Option<PathBuf>,
+    /// Filter tables (|H(f)|² in dB against f), resolved paths: the
+    /// `filter_file`, then those of the `filter_set`.
+    pub filter_files: Vec<PathBuf>,
+    /// The filter set file the weightings were partly taken from, and its name.
+    pub filter_set: Option<(PathBuf, String)>,
     /// rms jitter limit, with its unit (time, phase or UI).
     pub limit: Option<crate::spectrum::jitter::JitterLimit>,
     /// Unit-interval rate (Hz) for jitter in UI.
@@ -903,8 +907,18 @@ fn jitter_band(
                 .or_else(|e| cx.err(f.span(), &k("filters"), e))?,
         );
     }
-    let filter_file = match &j.filter_file {
-        Some(p) => Some(cx.file_path(p, &k("filter_file"))?),
+    let mut filter_files = Vec::new();
+    if let Some(p) = &j.filter_file {
+        filter_files.push(cx.file_path(p, &k("filter_file"))?);
+    }
+    let filter_set = match &j.filter_set {
+        Some(p) => {
+            let path = cx.file_path(p, &k("filter_set"))?;
+            let set = crate::io::filter_set::read_filter_set(&path)?;
+            filters.extend(set.filters.iter().copied());
+            filter_files.extend(set.filter_files.iter().cloned());
+            Some((path, set.name))
+        }
         None => None,
     };
     let limit = match &j.limit {
@@ -941,7 +955,8 @@ fn jitter_band(
         from: b.from,
         to: b.to,
         filters,
-        filter_file,
+        filter_files,
+        filter_set,
         limit,
         ui_rate,
         source,

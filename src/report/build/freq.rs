@@ -22,7 +22,7 @@ fn setup_for(j: &JitterSpec) -> Result<JitterSetup> {
         filters: j.filters.clone(),
         ..Default::default()
     };
-    if let Some(p) = &j.filter_file {
+    for p in &j.filter_files {
         setup.filter_tables.push(FilterTable {
             name: p.display().to_string(),
             table: read_filter_file(p)?,

@@ -153,7 +153,7 @@ pub fn from_dut_with_progress(
         tables.push(t);
     }
     for j in &dut.jitter {
-        if let Some(f) = &j.filter_file {
+        for f in &j.filter_files {
             r.inputs
                 .push(Provenance::of_file("jitter filter table", &j.name, f)?);
         }
