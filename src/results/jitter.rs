@@ -220,14 +220,24 @@ impl JitterBody {
             let name = format!("{} – {}", hz(from), hz(to));
             match &b.outcome {
                 BandOutcome::Computed(r) => {
+                    // A long weighting (loops with their converted values)
+                    // gets a line of its own under the row.
+                    let long = r.filter.chars().count() > 24;
                     tab.row(vec![
                         Cell::text(name),
-                        Cell::text(r.filter.clone()),
+                        Cell::text(if long {
+                            "(below)".to_string()
+                        } else {
+                            r.filter.clone()
+                        }),
                         Cell::num(r.rms_rad),
                         Cell::num(r.rms_deg),
                         Cell::num(r.rms_s),
                         Cell::opt(r.rms_ui),
                     ]);
+                    if long {
+                        tab.span(Cell::text(""), format!("weighting {}", r.filter));
+                    }
                     if r.spurs > 0 {
                         tab.span(
                             Cell::text(""),
