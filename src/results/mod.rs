@@ -27,7 +27,9 @@ mod spectrum;
 mod stability;
 mod wander;
 
-pub use convert::{ConvertedCurve, ConvertedPoint, FittedModel, SigmaBody, SIGMA_METHOD};
+pub use convert::{
+    ConvertSource, ConvertedCurve, ConvertedPoint, FittedModel, SigmaBody, SIGMA_METHOD,
+};
 pub use holdover::HoldoverBody;
 pub use inspect::InspectBody;
 pub use jitter::{
