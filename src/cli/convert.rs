@@ -11,10 +11,9 @@ use tauwise::model::PowerLaw;
 use tauwise::parse::{Duration, EstimatorList, Frequency, Model};
 use tauwise::plot::phase_noise::{LfTrace, PhaseNoisePlot, TraceKind};
 use tauwise::results::{
-    ConvertedCurve, FittedModel, Input, ModelInput, SigmaBody, SpectrumRows, TableInput,
-    SIGMA_METHOD,
+    ConvertSource as Source, ConvertedCurve, FittedModel, SigmaBody, SpectrumRows, SIGMA_METHOD,
 };
-use tauwise::spectrum::sigma::{grid_taus, model_spectrum, sigma_curve, spectral, SigmaOptions};
+use tauwise::spectrum::sigma::{grid_taus, sigma_curve, spectral, SigmaOptions};
 use tauwise::spectrum::{Quantity, Spectrum};
 use tauwise::units::format_si;
 use tauwise::{Error, Result};
@@ -102,15 +101,6 @@ fn dev_help() -> String {
 }
 
 /// The source of a conversion: a table or a model, as a spectrum.
-struct Source {
-    spectrum: Spectrum,
-    input: Input,
-    f_h: f64,
-    label: String,
-    /// τ_max default for grids.
-    max_tau: f64,
-}
-
 fn source(args: &Args, carrier: Option<f64>, tau_hint: Option<f64>) -> Result<Source> {
     let fh_opt = args.fh.map(Frequency::hertz);
     if let Some(path) = &args.lf {
@@ -123,35 +113,21 @@ fn source(args: &Args, carrier: Option<f64>, tau_hint: Option<f64>) -> Result<So
             },
         )?;
         super::jitter::report_table(&t);
-        let q = t.quantity;
-        if q != TableQuantity::Sy && carrier.is_none() {
+        if t.quantity != TableQuantity::Sy && carrier.is_none() {
             return Err(Error::option(
                 "--carrier",
                 "this conversion needs the carrier frequency: give --carrier (e.g. --carrier 10MHz)",
             ));
         }
-        let (lo, hi) = t.spectrum.range();
-        let f_h = fh_opt.unwrap_or(hi);
-        let input = Input::Table(TableInput::of(&t));
-        return Ok(Source {
-            spectrum: t.spectrum,
-            input,
-            f_h,
-            label: format!("table {}", path.display()),
-            max_tau: 1.0 / lo,
-        });
+        return Ok(Source::table(t, fh_opt));
     }
-    let (parsed, from_sigma) = match &args.sigma {
-        Some(path) => (tauwise::results::model_from_stability(path, fh_opt)?, true),
-        None => match args.model {
-            Some(m) => (m.power_law(f64::NAN), false),
-            None => {
-                return Err(Error::option(
-                    "--lf",
-                    "give a phase-noise table (--lf), a model (--model) or a stability result (--sigma)",
-                ))
-            }
-        },
+    let parsed = match (&args.sigma, args.model) {
+        (Some(path), _) => tauwise::results::model_from_stability(path, fh_opt)?,
+        (None, Some(m)) => m.power_law(f64::NAN),
+        (None, None) => return Err(Error::option(
+            "--lf",
+            "give a phase-noise table (--lf), a model (--model) or a stability result (--sigma)",
+        )),
     };
     let f_h =
         match (fh_opt, parsed.f_h.is_nan()) {
@@ -162,34 +138,17 @@ fn source(args: &Args, carrier: Option<f64>, tau_hint: Option<f64>) -> Result<So
                 "the model needs its high-frequency cut-off: add fh=… to the model or give --fh",
             )),
         };
-    let model = PowerLaw { f_h, ..parsed };
     let max_tau = args
         .max_tau
         .map(Duration::seconds)
         .or(tau_hint)
         .unwrap_or(1e5);
-    let spectrum = model_spectrum(&model, carrier, max_tau)?;
-    let input = Input::Model(match &args.sigma {
-        Some(p) if from_sigma => ModelInput {
-            data: "stability",
-            model: model.to_model_string(),
-            path: Some(p.display().to_string()),
-            note: Some("model-based: h_α fitted to the σ(τ) curves, then converted"),
-        },
-        _ => ModelInput {
-            data: "model",
-            model: model.to_model_string(),
-            path: None,
-            note: None,
-        },
-    });
-    Ok(Source {
-        spectrum,
-        input,
-        f_h,
-        label: format!("model {}", model.to_model_string()),
+    Source::model(
+        PowerLaw { f_h, ..parsed },
+        carrier,
         max_tau,
-    })
+        args.sigma.as_deref(),
+    )
 }
 
 /// Run `convert`.

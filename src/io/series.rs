@@ -1069,6 +1069,13 @@ impl RowParser {
 
 /// Read a time series from any buffered reader; `label` names it in errors.
 /// A `.npy` file (recognised by its magic bytes) is read as binary.
+///
+/// The stages, one function each: where the data start and how the lines
+/// are laid out (`layout::find_start`), which columns hold the readings
+/// and the stamps (`choose_columns`), their units and the form of the
+/// stamps (`read_units`), every data row (`Collected::take`), τ0 and
+/// the gaps from the stamps (`Collected::place`), the snapping note
+/// (`snap_info`), unwrapping (`unwrap_values`), then the record.
 pub fn read_series_from<R: BufRead>(
     mut reader: R,
     label: &Path,
@@ -1099,22 +1106,166 @@ pub fn read_series_from<R: BufRead>(
         .front()
         .cloned()
         .ok_or_else(|| ReadError::file(label, "no readings"))?;
+    let cols = choose_columns(label, opts, &lay, first_line, &first_text)?;
+    let (resolved, form) = read_units(label, opts, &lay, &cols, first_line, &first_text)?;
+    let (value_col, time_col, delim) = (cols.value, cols.time, lay.delimiter);
 
-    // 1. Columns.
+    // Every data row.
+    let need = value_col.max(time_col.unwrap_or(0));
+    let mut parser = RowParser {
+        splitter: Splitter::new(delim).with_limit(if delim == Delimiter::Whitespace {
+            0
+        } else {
+            need
+        }),
+        decimal: lay.decimal,
+        value_col,
+        time_col,
+        form,
+        check_first: value_col != 1 && time_col != Some(1),
+        single: delim == Delimiter::Whitespace && value_col == 1 && time_col.is_none(),
+        sep: match delim {
+            Delimiter::Comma => Some(b','),
+            Delimiter::Semicolon => Some(b';'),
+            Delimiter::Tab => Some(b'\t'),
+            Delimiter::Whitespace => None,
+        },
+    };
+    let mut c = Collected::new(label, opts, time_col, resolved.conv, first_line);
+    while let Some((n, t)) = queued.pop_front() {
+        c.take(&mut parser, n, &t)?;
+    }
+    while let Some(line) = lines.next_line()? {
+        c.take(&mut parser, line.number, line.text)?;
+    }
+
+    let mut notes: Vec<String> = Vec::new();
+    notes.extend(resolved.note.iter().cloned());
+    notes.extend(lay.decimal_note.iter().cloned());
+    let data_end = c.trailer.take().map(|(tl, text, _, count)| DataEnd {
+        last_data_line: c.last_line,
+        text_line: tl,
+        text: fields::shorten(&text),
+        lines_ignored: count,
+    });
+    if let Some(d) = &data_end {
+        notes.push(format!(
+            "the readings end at line {}: {} line(s) of text after them ignored, from line {} ('{}')",
+            d.last_data_line, d.lines_ignored, d.text_line, d.text
+        ));
+    }
+    if c.rows < 2 {
+        return Err(ReadError::at(
+            label,
+            c.last_line,
+            "only one reading; expected at least 2 to form a record",
+        ));
+    }
+    let (tau0, tau0_from_timestamps, inserted) = c.place()?;
+    let snap = snap_info(opts, &c, tau0, &mut notes);
+    let (rows, lo, hi) = (c.rows, c.lo, c.hi);
+    let (mut values, slot_lines) = (c.values, c.slot_lines);
+    if values.iter().all(|v| v.is_nan()) {
+        return Err(ReadError::file(
+            label,
+            format!("all {rows} readings are missing values (NaN, - or empty); expected numbers"),
+        ));
+    }
+    let unwrap = match opts.wrap {
+        Some(period) => Some(unwrap_values(
+            label,
+            period,
+            &mut values,
+            &slot_lines,
+            &mut notes,
+        )?),
+        None => None,
+    };
+    let range = if unwrap.is_some() {
+        value_range(&values)
+    } else {
+        (lo, hi)
+    };
+    let warnings = plausibility(
+        resolved.kind,
+        resolved.conv,
+        range,
+        &resolved.symbol,
+        resolved.source,
+    );
+
+    values.shrink_to_fit();
+    let record = build_record(label, resolved.kind, values, tau0)?;
+    Ok(Series {
+        record,
+        info: SeriesInfo {
+            path: label.to_path_buf(),
+            format: InputFormat::Text,
+            lines: lines.lines(),
+            bytes: lines.bytes(),
+            bom: lines.had_bom(),
+            preamble: lay.preamble,
+            preamble_lines: lay.preamble_lines,
+            header: lay.header.as_ref().map(|h| h.fields.clone()),
+            header_line: lay.header.as_ref().map(|h| h.line),
+            first_data_line: Some(lay.first_line),
+            delimiter: Some(delim),
+            decimal_comma: lay.decimal_note.clone(),
+            value_column: value_col,
+            time_column: time_col,
+            time_kind: form.map(TimeForm::kind),
+            unit: resolved.symbol,
+            unit_source: resolved.source,
+            tau0_from_timestamps,
+            inserted_gaps: inserted as usize,
+            start_time: form.map(TimeForm::start),
+            start_unix: match form {
+                Some(TimeForm::Iso { s0, ns0 }) => Some((s0, ns0)),
+                _ => None,
+            },
+            data_end,
+            snap,
+            unwrap,
+            notes,
+            warnings,
+        },
+    })
+}
+
+/// The columns of a text series (1-based): the readings and the stamps.
+#[derive(Debug, Clone, Copy)]
+struct Columns {
+    /// Fields of the first data line.
+    all: usize,
+    /// The readings.
+    value: usize,
+    /// The stamps, if any.
+    time: Option<usize>,
+}
+
+/// Which columns hold the readings and the stamps: as asked, else the
+/// last numeric column of the first data line and column 1 for the stamps
+/// when there are two or more columns; refused when a column is beyond the
+/// line, both are the same, or τ0 cannot be known.
+fn choose_columns(
+    label: &Path,
+    opts: &SeriesOptions,
+    lay: &layout::Layout,
+    first_line: u64,
+    first_text: &str,
+) -> Result<Columns, ReadError> {
     let delim = lay.delimiter;
-    let decimal = lay.decimal;
     let mut probe = Splitter::new(delim);
-    let nall = probe.split(&first_text).map_err(|_| {
+    let nall = probe.split(first_text).map_err(|_| {
         ReadError::at(
             label,
             first_line,
             "a quote (\") opens a field that does not close on this line; expected a closing quote",
         )
     })?;
-    let header = lay.header.as_ref();
     let ncols = lay
         .columns
-        .max(header.map_or(0, |h| h.fields.len()))
+        .max(lay.header.as_ref().map_or(0, |h| h.fields.len()))
         .min(nall);
     let value_col = match opts.value_column {
         Some(c) => c,
@@ -1122,7 +1273,7 @@ pub fn read_series_from<R: BufRead>(
             .rev()
             .find(|&i| {
                 matches!(
-                    fields::token(probe.field(&first_text, i), decimal),
+                    fields::token(probe.field(first_text, i), lay.decimal),
                     fields::Token::Number(_) | fields::Token::Missing | fields::Token::Bad
                 )
             })
@@ -1168,94 +1319,129 @@ pub fn read_series_from<R: BufRead>(
             format!("the sampling interval τ0 is unknown: {why}; give --tau0 (e.g. 1s) or --time-column"),
         ));
     }
-    let header_field =
-        |c: usize| header.and_then(|h| h.fields.get(c - 1).map(|f| (f.as_str(), h.line)));
+    Ok(Columns {
+        all: nall,
+        value: value_col,
+        time: time_col,
+    })
+}
 
-    // 2. Units.
-    let resolved = resolve_unit(label, opts, header_field(value_col), value_col)?;
+/// The unit of the readings (option, header or default) and the form of
+/// the stamps (seconds in the header's unit, ISO-8601, MJD), read from the
+/// header and the first data line.
+fn read_units(
+    label: &Path,
+    opts: &SeriesOptions,
+    lay: &layout::Layout,
+    cols: &Columns,
+    first_line: u64,
+    first_text: &str,
+) -> Result<(Resolved, Option<TimeForm>), ReadError> {
+    let header_field = |c: usize| {
+        lay.header
+            .as_ref()
+            .and_then(|h| h.fields.get(c - 1).map(|f| (f.as_str(), h.line)))
+    };
+    let resolved = resolve_unit(label, opts, header_field(cols.value), cols.value)?;
     if opts.wrap.is_some() && resolved.kind == DataKind::Freq {
         return Err(ReadError::file(
             label,
             "--wrap unwraps phase (time-interval) readings; these are frequency readings",
         ));
     }
-    let tunit = match time_col {
-        Some(tc) => time_unit(label, header_field(tc), tc)?,
-        None => TimeUnit::Scale(1.0),
+    let Some(tc) = cols.time else {
+        return Ok((resolved, None));
     };
-    let form = match time_col {
-        Some(tc) => {
-            let f = if tc <= nall {
-                probe.field(&first_text, tc - 1)
-            } else {
-                ""
-            };
-            match TimeForm::detect(f, tunit, decimal) {
-                Some(form) => Some(form),
-                None => {
-                    return Err(text::field_error(
-                        label,
-                        first_line,
-                        tc,
-                        format!(
-                            "time field {tc} is '{}': {TIME_EXPECTED}",
-                            fields::shorten(f)
-                        ),
-                    ))
-                }
-            }
+    let tunit = time_unit(label, header_field(tc), tc)?;
+    let mut probe = Splitter::new(lay.delimiter);
+    // The line split in `choose_columns` already.
+    let _ = probe.split(first_text);
+    let f = if tc <= cols.all {
+        probe.field(first_text, tc - 1)
+    } else {
+        ""
+    };
+    match TimeForm::detect(f, tunit, lay.decimal) {
+        Some(form) => Ok((resolved, Some(form))),
+        None => Err(text::field_error(
+            label,
+            first_line,
+            tc,
+            format!(
+                "time field {tc} is '{}': {TIME_EXPECTED}",
+                fields::shorten(f)
+            ),
+        )),
+    }
+}
+
+/// The data rows as they stream in: the values (converted to SI), and the
+/// stamps as needed to place them — on the τ0 grid at once when τ0 is
+/// given, else kept (spacings, or the times with --snap) until
+/// `Collected::place` knows τ0.
+struct Collected<'a> {
+    label: &'a Path,
+    opts: &'a SeriesOptions,
+    time_col: Option<usize>,
+    conv: Conversion,
+    /// Keep (slot, line) pairs, for the messages of --wrap and --snap.
+    keep_lines: bool,
+    grid: Option<Grid>,
+    values: Vec<f64>,
+    /// While τ0 is unknown: the spacings Δt_i (or, with --snap, the times).
+    times: Vec<f64>,
+    prev_t: f64,
+    map: LineMap,
+    /// (slot, line), only for --wrap and --snap.
+    slot_lines: Vec<(u64, u64)>,
+    rows: usize,
+    last_line: u64,
+    /// A line of text after the readings: line, text, first field, count.
+    trailer: Option<(u64, String, String, u64)>,
+    /// The smallest and largest value (for the plausibility check).
+    lo: f64,
+    hi: f64,
+}
+
+impl<'a> Collected<'a> {
+    fn new(
+        label: &'a Path,
+        opts: &'a SeriesOptions,
+        time_col: Option<usize>,
+        conv: Conversion,
+        first_line: u64,
+    ) -> Self {
+        Self {
+            label,
+            opts,
+            time_col,
+            conv,
+            keep_lines: opts.wrap.is_some() || opts.snap.is_some(),
+            grid: match (opts.tau0, time_col) {
+                (Some(t), Some(_)) => Some(Grid::new(t, opts.snap)),
+                _ => None,
+            },
+            values: Vec::new(),
+            times: Vec::new(),
+            prev_t: 0.0,
+            map: LineMap::default(),
+            slot_lines: Vec::new(),
+            rows: 0,
+            last_line: first_line,
+            trailer: None,
+            lo: f64::INFINITY,
+            hi: f64::NEG_INFINITY,
         }
-        None => None,
-    };
-    drop(probe);
+    }
 
-    // 3. Stream every data row.
-    let need = value_col.max(time_col.unwrap_or(0));
-    let mut parser = RowParser {
-        splitter: Splitter::new(delim).with_limit(if delim == Delimiter::Whitespace {
-            0
-        } else {
-            need
-        }),
-        decimal,
-        value_col,
-        time_col,
-        form,
-        check_first: value_col != 1 && time_col != Some(1),
-        single: delim == Delimiter::Whitespace && value_col == 1 && time_col.is_none(),
-        sep: match delim {
-            Delimiter::Comma => Some(b','),
-            Delimiter::Semicolon => Some(b';'),
-            Delimiter::Tab => Some(b'\t'),
-            Delimiter::Whitespace => None,
-        },
-    };
-    let conv = resolved.conv;
-    let stream_grid = match (opts.tau0, time_col) {
-        (Some(t), Some(_)) => Some(Grid::new(t, opts.snap)),
-        _ => None,
-    };
-    let mut grid = stream_grid;
-    let mut values: Vec<f64> = Vec::new();
-    // While τ0 is unknown: the spacings Δt_i (or, with --snap, the times).
-    let mut times: Vec<f64> = Vec::new();
-    let mut prev_t = 0.0f64;
-    let mut map = LineMap::default();
-    let mut slot_lines: Vec<(u64, u64)> = Vec::new(); // (slot, line), only for --wrap
-    let keep_lines = opts.wrap.is_some() || opts.snap.is_some();
-    let mut rows: usize = 0;
-    let mut last_line = first_line;
-    let mut trailer: Option<(u64, String, String, u64)> = None; // line, text, first field, count
-                                                                // The smallest and largest value (for the plausibility check).
-    let mut lo = f64::INFINITY;
-    let mut hi = f64::NEG_INFINITY;
-
-    let mut handle = |number: u64, line: &str| -> Result<(), ReadError> {
-        let row = parser.parse(label, number, line)?;
-        let (v, t) = match row {
+    /// Take line `number`: a reading, a blank, or text after the readings
+    /// (refused when readings follow it).
+    fn take(&mut self, parser: &mut RowParser, number: u64, line: &str) -> Result<(), ReadError> {
+        let label = self.label;
+        let (v, t) = match parser.parse(label, number, line)? {
             Row::Blank => return Ok(()),
             Row::Text => {
-                match trailer.as_mut() {
+                match self.trailer.as_mut() {
                     None => {
                         let first = line
                             .split([',', ';', '\t', ' '])
@@ -1263,7 +1449,7 @@ pub fn read_series_from<R: BufRead>(
                             .map(fields::unquote)
                             .unwrap_or("")
                             .to_string();
-                        trailer = Some((number, line.to_string(), first, 1));
+                        self.trailer = Some((number, line.to_string(), first, 1));
                     }
                     Some(t) => t.3 += 1,
                 }
@@ -1271,8 +1457,8 @@ pub fn read_series_from<R: BufRead>(
             }
             Row::Data(v, t) => (v, t),
         };
-        if let Some((tl, _, first, _)) = &trailer {
-            let what = if time_col == Some(1) {
+        if let Some((tl, _, first, _)) = &self.trailer {
+            let what = if self.time_col == Some(1) {
                 format!(
                     "time field 1 is '{}': {TIME_EXPECTED}",
                     fields::shorten(first)
@@ -1289,31 +1475,31 @@ pub fn read_series_from<R: BufRead>(
                 ),
             ));
         }
-        let v = if v.is_nan() { v } else { conv.apply(v) };
+        let v = if v.is_nan() { v } else { self.conv.apply(v) };
         // NaN compares false: gaps are skipped.
-        if v < lo {
-            lo = v;
+        if v < self.lo {
+            self.lo = v;
         }
-        if v > hi {
-            hi = v;
+        if v > self.hi {
+            self.hi = v;
         }
-        match (t, grid.as_mut()) {
+        match (t, self.grid.as_mut()) {
             (Some(t), Some(g)) => {
                 let slot = g.place(t).map_err(|m| ReadError::at(label, number, m))?;
                 if slot as usize > MAX_POINTS {
                     return Err(too_many(label, number));
                 }
-                values.resize(slot as usize, f64::NAN);
-                if keep_lines {
-                    slot_lines.push((slot, number));
+                self.values.resize(slot as usize, f64::NAN);
+                if self.keep_lines {
+                    self.slot_lines.push((slot, number));
                 }
             }
             (Some(t), None) => {
-                if opts.snap.is_some() {
-                    times.push(t);
+                if self.opts.snap.is_some() {
+                    self.times.push(t);
                 } else {
-                    if rows > 0 {
-                        let dt = t - prev_t;
+                    if self.rows > 0 {
+                        let dt = t - self.prev_t;
                         if !(dt > 0.0) {
                             return Err(ReadError::at(
                                 label,
@@ -1321,152 +1507,132 @@ pub fn read_series_from<R: BufRead>(
                                 "the timestamp is not later than the one before; expected increasing timestamps",
                             ));
                         }
-                        times.push(dt);
+                        self.times.push(dt);
                     }
-                    prev_t = t;
+                    self.prev_t = t;
                 }
-                map.push(rows, number);
+                self.map.push(self.rows, number);
             }
             _ => {
-                if keep_lines {
-                    slot_lines.push((values.len() as u64, number));
+                if self.keep_lines {
+                    self.slot_lines.push((self.values.len() as u64, number));
                 }
             }
         }
-        if values.len() >= MAX_POINTS {
+        if self.values.len() >= MAX_POINTS {
             return Err(too_many(label, number));
         }
-        values.push(v);
-        rows += 1;
-        last_line = number;
+        self.values.push(v);
+        self.rows += 1;
+        self.last_line = number;
         Ok(())
-    };
-
-    while let Some((n, t)) = queued.pop_front() {
-        handle(n, &t)?;
-    }
-    while let Some(line) = lines.next_line()? {
-        handle(line.number, line.text)?;
     }
 
-    let mut notes: Vec<String> = Vec::new();
-    if let Some(n) = &resolved.note {
-        notes.push(n.clone());
-    }
-    if let Some(n) = &lay.decimal_note {
-        notes.push(n.clone());
-    }
-    let data_end = trailer.map(|(tl, text, _, count)| DataEnd {
-        last_data_line: last_line,
-        text_line: tl,
-        text: fields::shorten(&text),
-        lines_ignored: count,
-    });
-    if let Some(d) = &data_end {
-        notes.push(format!(
-            "the readings end at line {}: {} line(s) of text after them ignored, from line {} ('{}')",
-            d.last_data_line, d.lines_ignored, d.text_line, d.text
-        ));
-    }
-
-    if rows < 2 {
-        return Err(ReadError::at(
-            label,
-            last_line,
-            "only one reading; expected at least 2 to form a record",
-        ));
-    }
-
-    // 4. τ0 from the stamps, and placement on the grid.
-    let mut tau0_from_timestamps = false;
-    let mut inserted: u64 = 0;
-    let tau0 = match (opts.tau0, grid.as_ref()) {
-        (Some(t), Some(g)) => {
-            g.check_agreement().map_err(|m| ReadError::file(label, m))?;
-            inserted = g.slot + 1 - rows as u64;
-            t
-        }
-        (Some(t), None) => t,
-        (None, _) if opts.snap.is_none() => {
-            tau0_from_timestamps = true;
-            let spacings = std::mem::take(&mut times);
-            // The lower median: always one of the spacings actually seen.
-            let mut sorted = spacings.clone();
-            let mid = (sorted.len() - 1) / 2;
-            let median = *sorted.select_nth_unstable_by(mid, f64::total_cmp).1;
-            drop(sorted);
-            let tau0 = crate::units::round_sig(median, 10);
-            // Check every spacing; count the gaps to insert.
-            let mut total: u64 = 0;
-            for (i, &dt) in spacings.iter().enumerate() {
-                let k = steps(dt, tau0).map_err(|m| ReadError::at(label, map.line_of(i + 1), m))?;
-                total += k - 1;
+    /// τ0 (given, or the median spacing of the stamps) and the placement
+    /// of every reading on its grid, gaps inserted for jumps: τ0, whether
+    /// it came from the stamps, and the gaps inserted.
+    fn place(&mut self) -> Result<(f64, bool, u64), ReadError> {
+        let label = self.label;
+        let rows = self.rows;
+        let keep_lines = self.keep_lines;
+        let out = match (self.opts.tau0, self.grid.as_ref()) {
+            (Some(t), Some(g)) => {
+                g.check_agreement().map_err(|m| ReadError::file(label, m))?;
+                (t, false, g.slot + 1 - rows as u64)
             }
-            if total as usize + rows > MAX_POINTS {
-                return Err(too_many(label, last_line));
-            }
-            if total > 0 || keep_lines {
-                let mut grid_values = Vec::with_capacity(rows + total as usize);
-                grid_values.push(values[0]);
-                if keep_lines {
-                    slot_lines.push((0, map.line_of(0)));
-                }
+            (Some(t), None) => (t, false, 0),
+            (None, _) if self.opts.snap.is_none() => {
+                let spacings = std::mem::take(&mut self.times);
+                // The lower median: always one of the spacings actually seen.
+                let mut sorted = spacings.clone();
+                let mid = (sorted.len() - 1) / 2;
+                let median = *sorted.select_nth_unstable_by(mid, f64::total_cmp).1;
+                drop(sorted);
+                let tau0 = crate::units::round_sig(median, 10);
+                // Check every spacing; count the gaps to insert.
+                let mut total: u64 = 0;
                 for (i, &dt) in spacings.iter().enumerate() {
-                    let k = steps(dt, tau0).unwrap_or(1);
-                    grid_values.resize(grid_values.len() + k as usize - 1, f64::NAN);
+                    let k = steps(dt, tau0)
+                        .map_err(|m| ReadError::at(label, self.map.line_of(i + 1), m))?;
+                    total += k - 1;
+                }
+                if total as usize + rows > MAX_POINTS {
+                    return Err(too_many(label, self.last_line));
+                }
+                if total > 0 || keep_lines {
+                    let values = &self.values;
+                    let mut grid_values = Vec::with_capacity(rows + total as usize);
+                    grid_values.push(values[0]);
                     if keep_lines {
-                        slot_lines.push((grid_values.len() as u64, map.line_of(i + 1)));
+                        self.slot_lines.push((0, self.map.line_of(0)));
                     }
-                    grid_values.push(values[i + 1]);
+                    for (i, &dt) in spacings.iter().enumerate() {
+                        let k = steps(dt, tau0).unwrap_or(1);
+                        grid_values.resize(grid_values.len() + k as usize - 1, f64::NAN);
+                        if keep_lines {
+                            self.slot_lines
+                                .push((grid_values.len() as u64, self.map.line_of(i + 1)));
+                        }
+                        grid_values.push(values[i + 1]);
+                    }
+                    self.values = grid_values;
                 }
-                values = grid_values;
+                (tau0, true, total)
             }
-            inserted = total;
-            tau0
-        }
-        (None, _) => {
-            tau0_from_timestamps = true;
-            // --snap: the median spacing to 3 significant digits, then every
-            // stamp rounded to the grid through the first.
-            let mut s: Vec<f64> = times.windows(2).map(|w| w[1] - w[0]).collect();
-            let mid = (s.len() - 1) / 2;
-            let median = *s.select_nth_unstable_by(mid, f64::total_cmp).1;
-            drop(s);
-            if !(median > 0.0) {
-                // Find the first stamp that does not increase.
-                let i = times.windows(2).position(|w| !(w[1] > w[0])).unwrap_or(0) + 1;
-                return Err(ReadError::at(
-                    label,
-                    map.line_of(i),
-                    "the timestamp is not later than the one before; expected increasing timestamps",
-                ));
-            }
-            let tau0 = snap_tau0(&times, median);
-            let mut g = Grid::new(tau0, opts.snap);
-            let mut grid_values: Vec<f64> = Vec::with_capacity(values.len());
-            for (i, &t) in times.iter().enumerate() {
-                let slot = g
-                    .place(t)
-                    .map_err(|m| ReadError::at(label, map.line_of(i), m))?;
-                if slot as usize >= MAX_POINTS {
-                    return Err(too_many(label, map.line_of(i)));
+            (None, _) => {
+                // --snap: the median spacing to 3 significant digits, then
+                // every stamp rounded to the grid through the first.
+                let times = &self.times;
+                let mut s: Vec<f64> = times.windows(2).map(|w| w[1] - w[0]).collect();
+                let mid = (s.len() - 1) / 2;
+                let median = *s.select_nth_unstable_by(mid, f64::total_cmp).1;
+                drop(s);
+                if !(median > 0.0) {
+                    // Find the first stamp that does not increase.
+                    let i = times.windows(2).position(|w| !(w[1] > w[0])).unwrap_or(0) + 1;
+                    return Err(ReadError::at(
+                        label,
+                        self.map.line_of(i),
+                        "the timestamp is not later than the one before; expected increasing timestamps",
+                    ));
                 }
-                slot_lines.push((slot, map.line_of(i)));
-                grid_values.resize(slot as usize, f64::NAN);
-                grid_values.push(values[i]);
+                let tau0 = snap_tau0(times, median);
+                let mut g = Grid::new(tau0, self.opts.snap);
+                let mut grid_values: Vec<f64> = Vec::with_capacity(self.values.len());
+                for (i, &t) in times.iter().enumerate() {
+                    let slot = g
+                        .place(t)
+                        .map_err(|m| ReadError::at(label, self.map.line_of(i), m))?;
+                    if slot as usize >= MAX_POINTS {
+                        return Err(too_many(label, self.map.line_of(i)));
+                    }
+                    self.slot_lines.push((slot, self.map.line_of(i)));
+                    grid_values.resize(slot as usize, f64::NAN);
+                    grid_values.push(self.values[i]);
+                }
+                let inserted = g.slot + 1 - rows as u64;
+                self.values = grid_values;
+                self.grid = Some(g);
+                (tau0, true, inserted)
             }
-            inserted = g.slot + 1 - rows as u64;
-            values = grid_values;
-            grid = Some(g);
-            tau0
-        }
-    };
-    drop(times);
+        };
+        self.times = Vec::new();
+        Ok(out)
+    }
+}
 
-    let snap = match (opts.snap, grid.as_ref()) {
+/// With --snap: how far the stamps were from the grid (and a note), or a
+/// note that it had no effect without stamps.
+fn snap_info(
+    opts: &SeriesOptions,
+    c: &Collected,
+    tau0: f64,
+    notes: &mut Vec<String>,
+) -> Option<SnapInfo> {
+    match (opts.snap, c.grid.as_ref()) {
         (Some(fraction), Some(g)) => {
             let (j, row) = g.jitter();
-            let line = slot_lines.get(row).map_or(0, |p| p.1);
+            let line = c.slot_lines.get(row).map_or(0, |p| p.1);
             notes.push(format!(
                 "timestamps rounded to the τ0 grid (--snap {fraction}): the largest distance from it is {} s ({:.3}·τ0) at line {line}",
                 format_sig(j, 3),
@@ -1483,95 +1649,43 @@ pub fn read_series_from<R: BufRead>(
             None
         }
         _ => None,
-    };
-
-    if values.iter().all(|v| v.is_nan()) {
-        return Err(ReadError::file(
-            label,
-            format!("all {rows} readings are missing values (NaN, - or empty); expected numbers"),
-        ));
     }
+}
 
-    // 5. Unwrap, check plausibility.
-    let unwrap = match opts.wrap {
-        Some(period) => {
-            let wraps = wrap::unwrap(&mut values, period).map_err(|e| {
-                let line = slot_lines
-                    .binary_search_by_key(&(e.index as u64), |p| p.0)
-                    .map_or(0, |i| slot_lines[i].1);
-                ReadError::at(
-                    label,
-                    line,
-                    format!(
-                        "this reading moves {} s ({:.2} of the {} s period) from the one predicted{}, too near half a period to tell which way it wrapped; check --wrap",
-                        format_sig(e.step, 4),
-                        e.step / period,
-                        format_sig(period, 4),
-                        if e.gap > 1 {
-                            format!(" after a gap of {} samples", e.gap - 1)
-                        } else {
-                            String::new()
-                        }
-                    ),
-                )
-            })?;
-            notes.push(format!(
-                "readings unwrapped at a period of {} s: {wraps} whole period(s) added or removed",
-                format_sig(period, 6)
-            ));
-            Some(UnwrapInfo { period, wraps })
-        }
-        None => None,
-    };
-    let range = if unwrap.is_some() {
-        value_range(&values)
-    } else {
-        (lo, hi)
-    };
-    let warnings = plausibility(
-        resolved.kind,
-        conv,
-        range,
-        &resolved.symbol,
-        resolved.source,
-    );
-
-    values.shrink_to_fit();
-    let record = build_record(label, resolved.kind, values, tau0)?;
-    Ok(Series {
-        record,
-        info: SeriesInfo {
-            path: label.to_path_buf(),
-            format: InputFormat::Text,
-            lines: lines.lines(),
-            bytes: lines.bytes(),
-            bom: lines.had_bom(),
-            preamble: lay.preamble,
-            preamble_lines: lay.preamble_lines,
-            header: lay.header.as_ref().map(|h| h.fields.clone()),
-            header_line: lay.header.as_ref().map(|h| h.line),
-            first_data_line: Some(lay.first_line),
-            delimiter: Some(delim),
-            decimal_comma: lay.decimal_note.clone(),
-            value_column: value_col,
-            time_column: time_col,
-            time_kind: form.map(TimeForm::kind),
-            unit: resolved.symbol,
-            unit_source: resolved.source,
-            tau0_from_timestamps,
-            inserted_gaps: inserted as usize,
-            start_time: form.map(TimeForm::start),
-            start_unix: match form {
-                Some(TimeForm::Iso { s0, ns0 }) => Some((s0, ns0)),
-                _ => None,
-            },
-            data_end,
-            snap,
-            unwrap,
-            notes,
-            warnings,
-        },
-    })
+/// Unwrap phase readings that wrap at `period` ([`wrap::unwrap`]); a step
+/// too near half a period is refused naming its line.
+fn unwrap_values(
+    label: &Path,
+    period: f64,
+    values: &mut [f64],
+    slot_lines: &[(u64, u64)],
+    notes: &mut Vec<String>,
+) -> Result<UnwrapInfo, ReadError> {
+    let wraps = wrap::unwrap(values, period).map_err(|e| {
+        let line = slot_lines
+            .binary_search_by_key(&(e.index as u64), |p| p.0)
+            .map_or(0, |i| slot_lines[i].1);
+        ReadError::at(
+            label,
+            line,
+            format!(
+                "this reading moves {} s ({:.2} of the {} s period) from the one predicted{}, too near half a period to tell which way it wrapped; check --wrap",
+                format_sig(e.step, 4),
+                e.step / period,
+                format_sig(period, 4),
+                if e.gap > 1 {
+                    format!(" after a gap of {} samples", e.gap - 1)
+                } else {
+                    String::new()
+                }
+            ),
+        )
+    })?;
+    notes.push(format!(
+        "readings unwrapped at a period of {} s: {wraps} whole period(s) added or removed",
+        format_sig(period, 6)
+    ));
+    Ok(UnwrapInfo { period, wraps })
 }
 
 fn too_many(label: &Path, line: u64) -> ReadError {

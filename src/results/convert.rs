@@ -227,3 +227,68 @@ impl FittedModel {
         t
     }
 }
+
+/// What `convert` converts: a phase-noise table or a power-law model, as a
+/// spectrum, with its `"input"` member, its f_h, a label for the text and
+/// charts, and the longest τ a grid goes to by default.
+#[derive(Debug, Clone)]
+pub struct ConvertSource {
+    /// The spectrum.
+    pub spectrum: crate::spectrum::Spectrum,
+    /// The document's `"input"`.
+    pub input: super::Input,
+    /// The upper integration limit, Hz.
+    pub f_h: f64,
+    /// `table FILE` or `model …`.
+    pub label: String,
+    /// The default longest τ of a grid, s.
+    pub max_tau: f64,
+}
+
+impl ConvertSource {
+    /// A table as read: f_h its highest offset unless `fh`, τ up to
+    /// 1/(lowest offset).
+    pub fn table(t: crate::io::lf_table::LfTable, fh: Option<f64>) -> Self {
+        let (lo, hi) = t.spectrum.range();
+        Self {
+            input: super::Input::Table(super::TableInput::of(&t)),
+            label: format!("table {}", t.path),
+            spectrum: t.spectrum,
+            f_h: fh.unwrap_or(hi),
+            max_tau: 1.0 / lo,
+        }
+    }
+
+    /// A model with its f_h ([`crate::spectrum::sigma::model_spectrum`] up
+    /// to `max_tau`); `fitted_to` the `stability` document it was fitted to.
+    pub fn model(
+        model: PowerLaw,
+        carrier: Option<f64>,
+        max_tau: f64,
+        fitted_to: Option<&std::path::Path>,
+    ) -> Result<Self> {
+        let spectrum = crate::spectrum::sigma::model_spectrum(&model, carrier, max_tau)?;
+        let text = model.to_model_string();
+        let input = super::Input::Model(match fitted_to {
+            Some(p) => super::ModelInput {
+                data: "stability",
+                model: text.clone(),
+                path: Some(p.display().to_string()),
+                note: Some("model-based: h_α fitted to the σ(τ) curves, then converted"),
+            },
+            None => super::ModelInput {
+                data: "model",
+                model: text.clone(),
+                path: None,
+                note: None,
+            },
+        });
+        Ok(Self {
+            spectrum,
+            input,
+            f_h: model.f_h,
+            label: format!("model {text}"),
+            max_tau,
+        })
+    }
+}

@@ -30,7 +30,9 @@ mod stability;
 mod timeline;
 mod wander;
 
-pub use convert::{ConvertedCurve, ConvertedPoint, FittedModel, SigmaBody, SIGMA_METHOD};
+pub use convert::{
+    ConvertSource, ConvertedCurve, ConvertedPoint, FittedModel, SigmaBody, SIGMA_METHOD,
+};
 pub use fleet::{
     CheckColumn, CheckKind, DeviceSummary, FarPoint, FleetDocument, FleetInput, FleetMatrix,
     FloorPoint, MatrixCell, MatrixRow, SummaryTerm,
