@@ -6,21 +6,18 @@ use super::common::{emit, json_doc, Format, InputArgs, OutputArgs, PlotArgs};
 use super::Outcome;
 use clap::Args as ClapArgs;
 use std::path::{Path, PathBuf};
-use tauwise::io::filter_set::read_filter_set;
-use tauwise::io::lf_table::{
-    read_filter_file, read_lf_table, read_spurs, LfTable, TableOptions, TableQuantity,
-};
+use tauwise::io::filter_set::assemble_weightings;
+use tauwise::io::lf_table::{read_lf_table, read_spurs, LfTable, TableOptions, TableQuantity};
 use tauwise::parse::{Filter, Frequency};
 use tauwise::plot::phase_noise::{found_spur_marks, BandMark, LfTrace, PhaseNoisePlot, TraceKind};
 use tauwise::results::{Input, JitterBand, JitterBody, TableInput, SPUR_CONVENTION};
 use tauwise::spectrum::jitter::{
-    integrate_band, record_period_jitter, Band, BandJitter, FilterTable, JitterLimit, JitterSetup,
-    PeriodRequest,
+    judge_bands, record_period_jitter, Band, BandJitter, JitterLimit, JitterSetup, PeriodRequest,
 };
 use tauwise::spectrum::spurs::{prepare_trace, SpurRule};
 use tauwise::spectrum::welch::{welch_record, WelchOptions, Window};
 use tauwise::spectrum::Spectrum;
-use tauwise::verdict::{gate, Judgement};
+use tauwise::verdict::gate;
 use tauwise::{Error, Result, DECISION_CAUTION};
 
 /// Integrated phase jitter over offset bands.
@@ -189,30 +186,20 @@ pub fn run(args: Args) -> Result<Outcome> {
         )
     })?;
     let bands: Vec<Band> = args.bands.iter().map(|b| b.1).collect();
+    let (filters, filter_tables, filter_set_name) = assemble_weightings(
+        &args.filters,
+        &args.filter_files,
+        args.filter_set.as_deref(),
+    )?;
     let mut setup = JitterSetup {
-        filters: args.filters.clone(),
+        filters,
+        filter_tables,
         extrapolate: args.extrapolate,
+        period: (args.period || args.periods.is_some()).then_some(PeriodRequest {
+            periods: args.periods,
+        }),
         ..Default::default()
     };
-    let mut filter_files = args.filter_files.clone();
-    let mut filter_set_name = None;
-    if let Some(p) = &args.filter_set {
-        let set = read_filter_set(p)?;
-        setup.filters.extend(set.filters.iter().copied());
-        filter_files.extend(set.filter_files.iter().cloned());
-        filter_set_name = Some(set.name);
-    }
-    for p in &filter_files {
-        setup.filter_tables.push(FilterTable {
-            name: p.display().to_string(),
-            table: read_filter_file(p)?,
-        });
-    }
-    if args.period || args.periods.is_some() {
-        setup.period = Some(PeriodRequest {
-            periods: args.periods,
-        });
-    }
     let mut record_period = None;
     if let Some(p) = &args.spurs {
         setup.spurs = read_spurs(p)?;
@@ -302,28 +289,10 @@ pub fn run(args: Args) -> Result<Outcome> {
     let spectrum = prepared.spectrum;
     setup.spurs = prepared.spurs;
     let found_spurs = prepared.found;
-    // With limits, a band that cannot be computed is a verdict of its own
-    // (not judged); without, it is an error as before.
-    let outcomes: Vec<std::result::Result<BandJitter, String>> = if limits.is_empty() {
-        bands
-            .iter()
-            .map(|&b| integrate_band(&spectrum, b, &setup, ui_rate).map(Ok))
-            .collect::<Result<Vec<_>>>()?
-    } else {
-        bands
-            .iter()
-            .map(|&b| integrate_band(&spectrum, b, &setup, ui_rate).map_err(|e| e.to_string()))
-            .collect()
-    };
-    let judgements: Vec<Option<Judgement>> = outcomes
-        .iter()
-        .enumerate()
-        .map(|(i, o)| {
-            limits
-                .get(if limits.len() == 1 { 0 } else { i })
-                .map(|l| l.judge(o.as_ref().map_err(|e| e.as_str())))
-        })
-        .collect();
+    let (outcomes, judgements): (Vec<_>, Vec<_>) =
+        judge_bands(&spectrum, &bands, &setup, ui_rate, &limits)?
+            .into_iter()
+            .unzip();
     let results: Vec<BandJitter> = outcomes
         .iter()
         .filter_map(|o| o.as_ref().ok())

@@ -114,6 +114,41 @@ pub fn parse_filter_set(path: &Path, src: &str) -> Result<FilterSet, ReadError> 
     })
 }
 
+/// The weightings of a jitter integral from their three sources — filters
+/// given as text already parsed, filter files, and a filter set file — as
+/// the command line and the DUT file give them: the filters (the set's after
+/// the given ones) and the tables of every filter file (the given ones, then
+/// the set's), with the set's name.
+pub fn assemble_weightings(
+    filters: &[Filter],
+    filter_files: &[PathBuf],
+    filter_set: Option<&Path>,
+) -> crate::Result<(
+    Vec<Filter>,
+    Vec<crate::spectrum::jitter::FilterTable>,
+    Option<String>,
+)> {
+    let mut filters = filters.to_vec();
+    let mut files = filter_files.to_vec();
+    let mut name = None;
+    if let Some(p) = filter_set {
+        let set = read_filter_set(p)?;
+        filters.extend(set.filters.iter().copied());
+        files.extend(set.filter_files.iter().cloned());
+        name = Some(set.name);
+    }
+    let tables = files
+        .iter()
+        .map(|p| {
+            Ok(crate::spectrum::jitter::FilterTable {
+                name: p.display().to_string(),
+                table: crate::io::lf_table::read_filter_file(p)?,
+            })
+        })
+        .collect::<crate::Result<Vec<_>>>()?;
+    Ok((filters, tables, name))
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

@@ -463,6 +463,43 @@ pub fn integrate_band(
     })
 }
 
+/// Every band of `bands` integrated ([`integrate_band`]) and, when limits
+/// are given — one for every band, or one per band in order — judged
+/// ([`JitterLimit::judge`]). Without limits a band that cannot be computed
+/// is an error; with limits it is a result of its own, `not-judged` with the
+/// reason, so that a gate fails on it.
+pub fn judge_bands(
+    spectrum: &Spectrum,
+    bands: &[Band],
+    setup: &JitterSetup,
+    ui_rate: Option<f64>,
+    limits: &[JitterLimit],
+) -> Result<Vec<(std::result::Result<BandJitter, String>, Option<Judgement>)>> {
+    if !(limits.len() <= 1 || limits.len() == bands.len()) {
+        return Err(Error::invalid(format!(
+            "{} limits for {} bands: give one limit for every band, or one per band in the same order",
+            limits.len(),
+            bands.len()
+        )));
+    }
+    bands
+        .iter()
+        .enumerate()
+        .map(|(i, &b)| {
+            let outcome = integrate_band(spectrum, b, setup, ui_rate);
+            let limit = limits.get(if limits.len() == 1 { 0 } else { i });
+            match (outcome, limit) {
+                (Err(e), None) => Err(e),
+                (o, _) => {
+                    let o = o.map_err(|e| e.to_string());
+                    let j = limit.map(|l| l.judge(o.as_ref().map_err(|e| e.as_str())));
+                    Ok((o, j))
+                }
+            }
+        })
+        .collect()
+}
+
 /// The most sub-intervals an oscillating integrand is split into.
 const MAX_SPLITS: usize = 2_000_000;
 
