@@ -176,3 +176,68 @@ fn bad_windows_are_refused() {
     assert!(timeline(&rec, &request(Estimator::Oadev, 50, 0)).is_err());
     assert!(timeline(&rec, &request(Estimator::Totdev, 50, 10)).is_err());
 }
+
+mod common;
+
+#[test]
+fn cli_timeline_json_has_windows_events_and_times_from_the_first_sample() {
+    let dir = tempfile::tempdir().unwrap();
+    let x = white_fm(&[(1e-22, 3000), (1e-21, 3000)], 17);
+    let text: String = x.iter().map(|v| format!("{:.6}\n", v * 1e9)).collect();
+    let f = common::write(dir.path(), "rec.txt", &text);
+    let out = common::tauwise()
+        .arg("timeline")
+        .arg(&f)
+        .args([
+            "--units", "ns", "--tau0", "1s", "--window", "20min", "--step", "5min",
+        ])
+        .args(["--format", "json"])
+        .output()
+        .unwrap();
+    assert!(out.status.success(), "{}", common::stderr(&out));
+    let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    let w = v["windows"].as_array().unwrap();
+    assert_eq!(w.len(), (6000 - 1200) / 300 + 1);
+    assert_eq!(w[0]["start"], 0.0);
+    assert_eq!(w[1]["start"], 300.0);
+    assert_eq!(w[0]["end"], 1199.0);
+    for key in ["tau", "dev", "lo", "hi", "edf", "noise"] {
+        assert!(w[0]["points"][0].get(key).is_some(), "{key}");
+    }
+    assert!(w[0]["points"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .all(|p| p["tau"].as_f64().unwrap() <= 300.0));
+    let ev = v["events"].as_array().unwrap();
+    assert!(ev.iter().any(|e| e["direction"] == "above"));
+    for key in ["start", "end", "tau", "ratio"] {
+        assert!(ev[0].get(key).is_some(), "{key}");
+    }
+}
+
+#[test]
+fn cli_timeline_refuses_bad_windows() {
+    let dir = tempfile::tempdir().unwrap();
+    let f = common::write(dir.path(), "rec.txt", &"1.0\n2.0\n3.5\n".repeat(100));
+    let out_file = dir.path().join("out.csv");
+    let run = |extra: &[&str]| {
+        common::tauwise()
+            .arg("timeline")
+            .arg(&f)
+            .args(["--units", "ns", "--tau0", "1s", "-o"])
+            .arg(&out_file)
+            .args(extra)
+            .output()
+            .unwrap()
+    };
+    // Longer than the record.
+    let out = run(&["--window", "1h", "--step", "1min"]);
+    common::assert_error(&out, 2, &["--window", "longer than the record"], &out_file);
+    // Not a whole number of τ0.
+    let out = run(&["--window", "100s", "--step", "1.5s"]);
+    common::assert_error(&out, 2, &["--step", "whole number of τ0"], &out_file);
+    // A bare number is refused: give a unit.
+    let out = run(&["--window", "100", "--step", "10s"]);
+    common::assert_error(&out, 2, &["--window"], &out_file);
+}
