@@ -241,3 +241,59 @@ fn cli_timeline_refuses_bad_windows() {
     let out = run(&["--window", "100", "--step", "10s"]);
     common::assert_error(&out, 2, &["--window"], &out_file);
 }
+
+#[test]
+fn a_dut_file_with_pairs_and_a_timeline_gets_both_report_sections() {
+    let dir = tempfile::tempdir().unwrap();
+    let demo = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("demo-data");
+    let rec = |name: &str, file: &str| {
+        format!(
+            "[[record]]\nname = \"{name}\"\npath = \"{}\"\nunits = \"ns\"\ntau0 = \"1s\"\ndrift = \"none\"\n\n",
+            demo.join(file).display()
+        )
+    };
+    let mut dut = String::from("[device]\nname = \"lab trio\"\n\n");
+    dut += &rec("ab", "pair-ocxo-a-ocxo-b.txt");
+    dut += &rec("ar", "pair-ocxo-a-rb-1.txt");
+    dut += &rec("br", "pair-ocxo-b-rb-1.txt");
+    dut += "[separate]\nsessions = \"separate\"\n\n";
+    for (a, b, r) in [
+        ("ocxo-a", "ocxo-b", "ab"),
+        ("ocxo-a", "rb-1", "ar"),
+        ("ocxo-b", "rb-1", "br"),
+    ] {
+        dut += &format!("[[separate.pair]]\na = \"{a}\"\nb = \"{b}\"\nrecord = \"{r}\"\n\n");
+    }
+    dut += "[timeline]\nrecord = \"ab\"\nwindow = \"3h\"\nstep = \"30min\"\n";
+    let f = common::write(dir.path(), "trio.toml", &dut);
+    let html = dir.path().join("trio.html");
+    let out = common::tauwise()
+        .arg("report")
+        .arg(&f)
+        .arg("-o")
+        .arg(&html)
+        .output()
+        .unwrap();
+    assert!(out.status.success(), "{}", common::stderr(&out));
+    let page = std::fs::read_to_string(&html).unwrap();
+    assert!(page.contains("id=\"separate\""), "no separate section");
+    assert!(page.contains("three-cornered hat"));
+    assert!(page.contains("id=\"timeline\""), "no timeline section");
+    assert!(!page.contains("Not computed"), "a section failed");
+    // A bare number for the window is refused, naming the key and line.
+    let bad = dut.replace("window = \"3h\"", "window = 3");
+    let f = common::write(dir.path(), "bad.toml", &bad);
+    let out = common::tauwise()
+        .arg("report")
+        .arg(&f)
+        .arg("-o")
+        .arg(dir.path().join("b.html"))
+        .output()
+        .unwrap();
+    assert_ne!(out.status.code(), Some(0));
+    assert!(
+        common::stderr(&out).contains("timeline.window"),
+        "{}",
+        common::stderr(&out)
+    );
+}

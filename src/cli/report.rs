@@ -121,6 +121,8 @@ fn quick_dut(a: &Args) -> Result<Dut> {
         jitter: Vec::new(),
         wander: None,
         holdover: None,
+        separate: None,
+        timeline: None,
     })
 }
 

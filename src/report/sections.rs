@@ -714,6 +714,9 @@ pub(super) fn document(r: &Report) -> Result<String> {
     combined(&mut h, &r.combined)?;
     wander(&mut h, &r.wander)?;
     holdover(&mut h, &r.holdover)?;
+    for a in &r.added {
+        h.raw(&a.html);
+    }
     inputs(&mut h, r);
     methods(&mut h, r);
     cautions(&mut h, r);
