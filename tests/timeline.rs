@@ -297,3 +297,10 @@ fn a_dut_file_with_pairs_and_a_timeline_gets_both_report_sections() {
         common::stderr(&out)
     );
 }
+
+#[test]
+fn too_many_windows_are_refused_with_the_memory_they_would_need() {
+    let rec = PhaseRecord::new(vec![0.0; 2_000_000], 1.0).unwrap();
+    let e = timeline(&rec, &request(Estimator::Oadev, 1000, 1)).unwrap_err();
+    assert!(e.to_string().contains("MB"), "{e}");
+}
