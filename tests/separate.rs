@@ -412,3 +412,101 @@ fn intervals_of_pairs_from_separate_sessions_have_their_coverage() {
     };
     assert!(separate(&pairs, &req).is_err());
 }
+
+mod common;
+
+/// Three pair files (white FM, 600 points) in `dir`; the third optionally shorter.
+fn pair_files(dir: &std::path::Path, short: bool) -> Vec<std::path::PathBuf> {
+    let x = clocks(&[(1e-22, 0.0), (4e-22, 0.0), (9e-22, 0.0)], 600, 31);
+    let mut out = Vec::new();
+    for (k, &(i, j)) in [(0, 1), (0, 2), (1, 2)].iter().enumerate() {
+        let n = if short && k == 2 { 500 } else { 600 };
+        let text: String = (0..n)
+            .map(|t| format!("{:.6}\n", (x[i][t] - x[j][t]) * 1e9))
+            .collect();
+        out.push(common::write(
+            dir,
+            &format!("p{k}.txt"),
+            &format!("# phase (ns)\n{text}"),
+        ));
+    }
+    out
+}
+
+#[test]
+fn cli_separate_writes_the_library_document() {
+    let dir = tempfile::tempdir().unwrap();
+    let f = pair_files(dir.path(), false);
+    let out = common::tauwise()
+        .args([
+            "separate", "--units", "ns", "--tau0", "1s", "--format", "json",
+        ])
+        .arg("--pair")
+        .arg(format!("A,B={}", f[0].display()))
+        .arg("--pair")
+        .arg(format!("A,C={}", f[1].display()))
+        .arg("--pair")
+        .arg(format!("B,C={}", f[2].display()))
+        .output()
+        .unwrap();
+    assert!(out.status.success(), "{}", common::stderr(&out));
+    let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    assert_eq!(v["tool"], "tauwise");
+    assert_eq!(v["input"]["data"], "pairs");
+    assert_eq!(v["clocks"].as_array().unwrap().len(), 3);
+    assert_eq!(v["clocks"][0]["name"], "A");
+    let c = &v["clocks"][0]["curves"][0];
+    assert_eq!(c["origin"], "separated");
+    for key in [
+        "tau", "m", "dev", "terms", "edf", "lo", "hi", "alpha", "noise", "bias",
+    ] {
+        assert!(c["points"][0].get(key).is_some(), "{key}");
+    }
+    // The identity on the document's own numbers (Gray & Allan 1974).
+    let pv = |k: usize| {
+        let d = v["pairs"][k]["curve"]["points"][0]["dev"].as_f64().unwrap();
+        d * d
+    };
+    let var_a = c["points"][0]["variance"].as_f64().unwrap();
+    assert!((var_a - (pv(0) + pv(1) - pv(2)) / 2.0).abs() < 1e-12 * pv(0));
+}
+
+#[test]
+fn cli_separate_refuses_bad_pairs_naming_them() {
+    let dir = tempfile::tempdir().unwrap();
+    let f = pair_files(dir.path(), true);
+    let out_file = dir.path().join("out.json");
+    let out = common::tauwise()
+        .args(["separate", "--units", "ns", "--tau0", "1s", "-o"])
+        .arg(&out_file)
+        .arg("--pair")
+        .arg(format!("A,B={}", f[0].display()))
+        .arg("--pair")
+        .arg(format!("A,C={}", f[1].display()))
+        .arg("--pair")
+        .arg(format!("B,C={}", f[2].display()))
+        .output()
+        .unwrap();
+    common::assert_error(&out, 1, &["p2.txt", "same length"], &out_file);
+    // A malformed pair and an estimator that cannot be separated: bad command lines.
+    let out = common::tauwise()
+        .args(["separate", "--pair", "A=x.txt"])
+        .output()
+        .unwrap();
+    common::assert_error(&out, 2, &["--pair", "CLOCK,CLOCK=FILE"], &out_file);
+    let out = common::tauwise()
+        .args(["separate", "--dev", "totdev", "--pair"])
+        .arg(format!("A,B={}", f[0].display()))
+        .output()
+        .unwrap();
+    common::assert_error(&out, 2, &["--dev", "totdev"], &out_file);
+    // Two pairs cannot separate three clocks.
+    let out = common::tauwise()
+        .args(["separate", "--units", "ns", "--tau0", "1s", "--pair"])
+        .arg(format!("A,B={}", f[0].display()))
+        .arg("--pair")
+        .arg(format!("A,C={}", f[1].display()))
+        .output()
+        .unwrap();
+    common::assert_error(&out, 2, &["at least three"], &out_file);
+}

@@ -176,3 +176,131 @@ fn bad_windows_are_refused() {
     assert!(timeline(&rec, &request(Estimator::Oadev, 50, 0)).is_err());
     assert!(timeline(&rec, &request(Estimator::Totdev, 50, 10)).is_err());
 }
+
+mod common;
+
+#[test]
+fn cli_timeline_json_has_windows_events_and_times_from_the_first_sample() {
+    let dir = tempfile::tempdir().unwrap();
+    let x = white_fm(&[(1e-22, 3000), (1e-21, 3000)], 17);
+    let text: String = x.iter().map(|v| format!("{:.6}\n", v * 1e9)).collect();
+    let f = common::write(dir.path(), "rec.txt", &text);
+    let out = common::tauwise()
+        .arg("timeline")
+        .arg(&f)
+        .args([
+            "--units", "ns", "--tau0", "1s", "--window", "20min", "--step", "5min",
+        ])
+        .args(["--format", "json"])
+        .output()
+        .unwrap();
+    assert!(out.status.success(), "{}", common::stderr(&out));
+    let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    let w = v["windows"].as_array().unwrap();
+    assert_eq!(w.len(), (6000 - 1200) / 300 + 1);
+    assert_eq!(w[0]["start"], 0.0);
+    assert_eq!(w[1]["start"], 300.0);
+    assert_eq!(w[0]["end"], 1199.0);
+    for key in ["tau", "dev", "lo", "hi", "edf", "noise"] {
+        assert!(w[0]["points"][0].get(key).is_some(), "{key}");
+    }
+    assert!(w[0]["points"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .all(|p| p["tau"].as_f64().unwrap() <= 300.0));
+    let ev = v["events"].as_array().unwrap();
+    assert!(ev.iter().any(|e| e["direction"] == "above"));
+    for key in ["start", "end", "tau", "ratio"] {
+        assert!(ev[0].get(key).is_some(), "{key}");
+    }
+}
+
+#[test]
+fn cli_timeline_refuses_bad_windows() {
+    let dir = tempfile::tempdir().unwrap();
+    let f = common::write(dir.path(), "rec.txt", &"1.0\n2.0\n3.5\n".repeat(100));
+    let out_file = dir.path().join("out.csv");
+    let run = |extra: &[&str]| {
+        common::tauwise()
+            .arg("timeline")
+            .arg(&f)
+            .args(["--units", "ns", "--tau0", "1s", "-o"])
+            .arg(&out_file)
+            .args(extra)
+            .output()
+            .unwrap()
+    };
+    // Longer than the record.
+    let out = run(&["--window", "1h", "--step", "1min"]);
+    common::assert_error(&out, 2, &["--window", "longer than the record"], &out_file);
+    // Not a whole number of τ0.
+    let out = run(&["--window", "100s", "--step", "1.5s"]);
+    common::assert_error(&out, 2, &["--step", "whole number of τ0"], &out_file);
+    // A bare number is refused: give a unit.
+    let out = run(&["--window", "100", "--step", "10s"]);
+    common::assert_error(&out, 2, &["--window"], &out_file);
+}
+
+#[test]
+fn a_dut_file_with_pairs_and_a_timeline_gets_both_report_sections() {
+    let dir = tempfile::tempdir().unwrap();
+    let demo = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("demo-data");
+    let rec = |name: &str, file: &str| {
+        format!(
+            "[[record]]\nname = \"{name}\"\npath = \"{}\"\nunits = \"ns\"\ntau0 = \"1s\"\ndrift = \"none\"\n\n",
+            demo.join(file).display()
+        )
+    };
+    let mut dut = String::from("[device]\nname = \"lab trio\"\n\n");
+    dut += &rec("ab", "pair-ocxo-a-ocxo-b.txt");
+    dut += &rec("ar", "pair-ocxo-a-rb-1.txt");
+    dut += &rec("br", "pair-ocxo-b-rb-1.txt");
+    dut += "[separate]\nsessions = \"separate\"\n\n";
+    for (a, b, r) in [
+        ("ocxo-a", "ocxo-b", "ab"),
+        ("ocxo-a", "rb-1", "ar"),
+        ("ocxo-b", "rb-1", "br"),
+    ] {
+        dut += &format!("[[separate.pair]]\na = \"{a}\"\nb = \"{b}\"\nrecord = \"{r}\"\n\n");
+    }
+    dut += "[timeline]\nrecord = \"ab\"\nwindow = \"3h\"\nstep = \"30min\"\n";
+    let f = common::write(dir.path(), "trio.toml", &dut);
+    let html = dir.path().join("trio.html");
+    let out = common::tauwise()
+        .arg("report")
+        .arg(&f)
+        .arg("-o")
+        .arg(&html)
+        .output()
+        .unwrap();
+    assert!(out.status.success(), "{}", common::stderr(&out));
+    let page = std::fs::read_to_string(&html).unwrap();
+    assert!(page.contains("id=\"separate\""), "no separate section");
+    assert!(page.contains("three-cornered hat"));
+    assert!(page.contains("id=\"timeline\""), "no timeline section");
+    assert!(!page.contains("Not computed"), "a section failed");
+    // A bare number for the window is refused, naming the key and line.
+    let bad = dut.replace("window = \"3h\"", "window = 3");
+    let f = common::write(dir.path(), "bad.toml", &bad);
+    let out = common::tauwise()
+        .arg("report")
+        .arg(&f)
+        .arg("-o")
+        .arg(dir.path().join("b.html"))
+        .output()
+        .unwrap();
+    assert_ne!(out.status.code(), Some(0));
+    assert!(
+        common::stderr(&out).contains("timeline.window"),
+        "{}",
+        common::stderr(&out)
+    );
+}
+
+#[test]
+fn too_many_windows_are_refused_with_the_memory_they_would_need() {
+    let rec = PhaseRecord::new(vec![0.0; 2_000_000], 1.0).unwrap();
+    let e = timeline(&rec, &request(Estimator::Oadev, 1000, 1)).unwrap_err();
+    assert!(e.to_string().contains("MB"), "{e}");
+}

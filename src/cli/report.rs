@@ -135,6 +135,8 @@ fn quick_dut(a: &Args, input: &std::path::Path) -> Result<Dut> {
         jitter: Vec::new(),
         wander: None,
         holdover: None,
+        separate: None,
+        timeline: None,
     })
 }
 

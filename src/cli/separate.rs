@@ -253,10 +253,12 @@ pub fn table(s: &Separation, confidence: f64) -> String {
     let _ = writeln!(
         t,
         "{}",
-        match s.method {
-            Method::Independent =>
-                "intervals: the pair variances' EDF propagated through the separation (shared clocks covary), Satterthwaite degrees of freedom, χ²",
-            Method::Covariance =>
+        match (s.method, s.simultaneous) {
+            (Method::Independent, true) =>
+                "intervals: the pair variances' EDF propagated through the separation (simultaneous pairs sharing a clock covary), Satterthwaite degrees of freedom, χ²",
+            (Method::Independent, false) =>
+                "intervals: the pair variances' EDF propagated through the separation (pairs from separate sessions, independent), Satterthwaite degrees of freedom, χ²",
+            (Method::Covariance, _) =>
                 "intervals: seeded Monte Carlo of the same separation (Wishart draws of the difference covariances)",
         }
     );

@@ -35,6 +35,36 @@ struct RawDut {
     jitter: Vec<RawJitter>,
     wander: Option<RawWander>,
     holdover: Option<RawHoldover>,
+    separate: Option<RawSeparate>,
+    timeline: Option<RawTimeline>,
+}
+
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawSeparate {
+    dev: Option<Spanned<String>>,
+    method: Option<Spanned<String>>,
+    sessions: Option<Spanned<String>>,
+    #[serde(default)]
+    pair: Vec<RawPair>,
+}
+
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawPair {
+    a: Spanned<String>,
+    b: Spanned<String>,
+    record: Spanned<String>,
+}
+
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawTimeline {
+    record: Option<Spanned<String>>,
+    window: Spanned<toml::Value>,
+    step: Spanned<toml::Value>,
+    dev: Option<Spanned<String>>,
+    taus: Option<Spanned<String>>,
 }
 
 #[derive(Debug, Deserialize)]
@@ -142,6 +172,40 @@ pub struct Dut {
     pub wander: Option<WanderSpec>,
     /// Holdover question.
     pub holdover: Option<HoldoverSpec>,
+    /// Clocks to separate from pair records (`[separate]`).
+    pub separate: Option<SeparateSpec>,
+    /// σ(τ) through a record (`[timeline]`).
+    pub timeline: Option<TimelineSpec>,
+}
+
+/// `[separate]`: the N-cornered hat on pair records named among the
+/// `[[record]]` entries (each `[[separate.pair]]` gives `a`, `b` and the
+/// `record` holding x_a − x_b).
+#[derive(Debug, Clone, PartialEq)]
+pub struct SeparateSpec {
+    /// The estimator (`dev`, default oadev).
+    pub estimator: crate::deviation::Estimator,
+    /// The method (`method`: independent or covariance).
+    pub method: crate::separate::Method,
+    /// `sessions = "simultaneous"` (default) or `"separate"`.
+    pub simultaneous: bool,
+    /// (clock a, clock b, record name).
+    pub pairs: Vec<(String, String, String)>,
+}
+
+/// `[timeline]`: σ(τ) in a sliding window over one record.
+#[derive(Debug, Clone, PartialEq)]
+pub struct TimelineSpec {
+    /// The record's name (None: the first record).
+    pub record: Option<String>,
+    /// Window length (s).
+    pub window: f64,
+    /// Step (s).
+    pub step: f64,
+    /// The estimator (`dev`, default oadev).
+    pub estimator: crate::deviation::Estimator,
+    /// τ grid (None: octave).
+    pub taus: Option<crate::tau::TauGrid>,
 }
 
 /// A time series file and how to read it.
@@ -557,6 +621,16 @@ impl Dut {
             .as_ref()
             .map(|h| holdover(&cx, h, &records))
             .transpose()?;
+        let separate = raw
+            .separate
+            .as_ref()
+            .map(|p| separate_section(&cx, p, &records))
+            .transpose()?;
+        let timeline = raw
+            .timeline
+            .as_ref()
+            .map(|t| timeline_section(&cx, t, &records))
+            .transpose()?;
         Ok(Dut {
             file: file.to_path_buf(),
             name,
@@ -568,8 +642,134 @@ impl Dut {
             jitter,
             wander,
             holdover,
+            separate,
+            timeline,
         })
     }
+}
+
+/// An estimator named in the DUT file that `allowed` holds.
+fn dut_estimator(
+    cx: &Ctx,
+    v: &Option<Spanned<String>>,
+    key: &str,
+    allowed: &[crate::deviation::Estimator],
+) -> Result<crate::deviation::Estimator, ReadError> {
+    let Some(v) = v else {
+        return Ok(crate::deviation::Estimator::Oadev);
+    };
+    match crate::deviation::Estimator::from_name(v.get_ref()) {
+        Ok(e) if allowed.contains(&e) => Ok(e),
+        _ => cx.err(
+            v.span(),
+            key,
+            format!(
+                "expected one of {}, got '{}'",
+                crate::deviation::Estimator::names(allowed),
+                v.get_ref()
+            ),
+        ),
+    }
+}
+
+/// `[separate]` and its `[[separate.pair]]` entries.
+fn separate_section(
+    cx: &Ctx,
+    p: &RawSeparate,
+    records: &[TimeSource],
+) -> Result<SeparateSpec, ReadError> {
+    let estimator = dut_estimator(cx, &p.dev, "separate.dev", crate::separate::SUPPORTED)?;
+    let method = match &p.method {
+        None => crate::separate::Method::Independent,
+        Some(m) => match m.get_ref().trim() {
+            "independent" => crate::separate::Method::Independent,
+            "covariance" => crate::separate::Method::Covariance,
+            other => {
+                return cx.err(
+                    m.span(),
+                    "separate.method",
+                    format!("expected independent or covariance, got '{other}'"),
+                )
+            }
+        },
+    };
+    let simultaneous = match &p.sessions {
+        None => true,
+        Some(m) => match m.get_ref().trim() {
+            "simultaneous" => true,
+            "separate" => false,
+            other => {
+                return cx.err(
+                    m.span(),
+                    "separate.sessions",
+                    format!("expected simultaneous or separate, got '{other}'"),
+                )
+            }
+        },
+    };
+    let known: Vec<&str> = records.iter().map(|r| r.name.as_str()).collect();
+    let mut pairs = Vec::new();
+    for (i, q) in p.pair.iter().enumerate() {
+        let k = |f: &str| format!("separate.pair[{}].{f}", i + 1);
+        let (a, b) = (q.a.get_ref().trim(), q.b.get_ref().trim());
+        if a.is_empty() || b.is_empty() || a == b {
+            return cx.err(
+                q.a.span(),
+                &k("a"),
+                "expected two different, non-empty clock names",
+            );
+        }
+        let rec = cx
+            .reference(&Some(q.record.clone()), &k("record"), &known, "record")?
+            .unwrap_or_default();
+        pairs.push((a.to_string(), b.to_string(), rec));
+    }
+    if pairs.len() < 3 {
+        return cx.err(
+            0..0,
+            "separate.pair",
+            format!(
+                "{} pair(s): separating clocks needs at least three [[separate.pair]] entries",
+                pairs.len()
+            ),
+        );
+    }
+    Ok(SeparateSpec {
+        estimator,
+        method,
+        simultaneous,
+        pairs,
+    })
+}
+
+/// `[timeline]`.
+fn timeline_section(
+    cx: &Ctx,
+    t: &RawTimeline,
+    records: &[TimeSource],
+) -> Result<TimelineSpec, ReadError> {
+    let known: Vec<&str> = records.iter().map(|r| r.name.as_str()).collect();
+    let record = cx.reference(&t.record, "timeline.record", &known, "record")?;
+    if record.is_none() && records.is_empty() {
+        return cx.err(t.window.span(), "timeline", "needs a [[record]] to follow");
+    }
+    let window = cx.duration_with_unit(&t.window, "timeline.window", true)?;
+    let step = cx.duration_with_unit(&t.step, "timeline.step", true)?;
+    let estimator = dut_estimator(cx, &t.dev, "timeline.dev", crate::timeline::SUPPORTED)?;
+    let taus = match &t.taus {
+        None => None,
+        Some(g) => Some(
+            crate::tau::TauGrid::parse(g.get_ref())
+                .or_else(|e| cx.err(g.span(), "timeline.taus", e))?,
+        ),
+    };
+    Ok(TimelineSpec {
+        record,
+        window,
+        step,
+        estimator,
+        taus,
+    })
 }
 
 /// The TOML document in the raw schema; a syntax error, an unknown key or a

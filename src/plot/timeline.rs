@@ -372,6 +372,14 @@ fn draw<DB: DrawingBackend>(t: &Timeline, title: &str, backend: DB) -> Result<()
 /// The canvas size of the timeline picture (pixels).
 pub const SIZE: (u32, u32) = (1100, 620);
 
+/// The timeline picture as an SVG document.
+pub fn to_svg(t: &Timeline, title: &str) -> Result<String> {
+    style::ensure_font()?;
+    let mut out = String::new();
+    draw(t, title, SVGBackend::with_string(&mut out, SIZE))?;
+    Ok(out)
+}
+
 /// Render the timeline picture to `path` (SVG or PNG by the extension),
 /// written atomically.
 pub fn render(t: &Timeline, title: &str, path: &Path) -> Result<()> {

@@ -23,6 +23,7 @@ use crate::plot::stability::StabilityPlot;
 use crate::plot::wander::WanderPlot;
 use std::path::Path;
 
+pub mod added;
 pub mod build;
 pub mod fleet;
 pub mod html;
@@ -417,6 +418,9 @@ pub struct Report {
     pub methods: Vec<Method>,
     /// Cautions (the decision caution first).
     pub cautions: Vec<String>,
+    /// Sections the DUT file's `[separate]` and `[timeline]` ask for
+    /// ([`added`]).
+    pub added: Vec<added::AddedSection>,
 }
 
 impl Report {
@@ -437,6 +441,7 @@ impl Report {
             inputs: Vec::new(),
             methods: Vec::new(),
             cautions: vec![crate::DECISION_CAUTION.to_string()],
+            added: Vec::new(),
         }
     }
 }

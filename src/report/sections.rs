@@ -678,6 +678,10 @@ pub(super) fn body(h: &mut Html, r: &Report, pre: &str) -> Result<()> {
     combined(h, &r.combined, pre)?;
     wander(h, &r.wander, pre)?;
     holdover(h, &r.holdover, pre)?;
+    // Sections added by the DUT file's [separate] and [timeline] (no anchors).
+    for a in &r.added {
+        h.raw(&a.html);
+    }
     inputs(h, r, pre);
     methods(h, r, pre);
     cautions(h, r, pre);

@@ -20,6 +20,8 @@ pub struct SeparateBody {
     pub reference: Option<String>,
     /// Samples of each aligned pair record.
     pub points: usize,
+    /// `simultaneous` or `separate` pair records.
+    pub sessions: &'static str,
     /// The clocks.
     pub clocks: Vec<Clock>,
     /// The pairs and their measured curves.
@@ -45,6 +47,11 @@ impl SeparateBody {
             method: s.method,
             reference: s.reference.clone(),
             points: s.points,
+            sessions: if s.simultaneous {
+                "simultaneous"
+            } else {
+                "separate"
+            },
             clocks: s.clocks.clone(),
             pairs: s.pairs.clone(),
             caution: crate::DECISION_CAUTION,

@@ -344,6 +344,8 @@ pub struct Separation {
     pub reference: Option<String>,
     /// Samples of each aligned record.
     pub points: usize,
+    /// The pair records were simultaneous ([`Request::simultaneous`]).
+    pub simultaneous: bool,
 }
 
 /// Separate the clocks of the aligned pair records (see [`align`]): each
@@ -470,6 +472,7 @@ pub fn separate(pairs: &[PairRecord], req: &Request) -> Result<Separation> {
         method: req.method,
         reference,
         points: len,
+        simultaneous: req.simultaneous,
     })
 }
 

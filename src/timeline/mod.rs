@@ -141,7 +141,7 @@ pub struct Timeline {
     pub events: Vec<Event>,
     /// Expected false-alarm rate per τ.
     pub false_alarm: Vec<FalseAlarm>,
-    /// Window length (s, window − 1 sample intervals… as samples × τ0).
+    /// Window length (s): the window's samples × τ0.
     pub window_s: f64,
     /// Step (s).
     pub step_s: f64,
@@ -283,9 +283,9 @@ fn starts(n: usize, window: usize, step: usize) -> Vec<usize> {
     (0..=(n - window) / step).map(|k| k * step).collect()
 }
 
-/// The largest number of windows [`timeline`] computes (each keeps its
-/// points: about 100 bytes per τ).
-pub const MAX_WINDOWS: usize = 1_000_000;
+/// The largest number of (window, τ) points [`timeline`] keeps (about
+/// 100 bytes each: 400 MB).
+pub const MAX_CELLS: usize = 4_000_000;
 
 /// σ(τ) in each window, the whole record's curve and the events (module
 /// notes).
@@ -312,18 +312,22 @@ pub fn timeline(x: &PhaseRecord, req: &Request) -> Result<Timeline> {
         ));
     }
     let st = starts(n, req.window, req.step);
-    if st.len() > MAX_WINDOWS {
-        return Err(Error::invalid(format!(
-            "{} windows exceed the limit of {MAX_WINDOWS}: take a longer step",
-            st.len()
-        )));
-    }
     let max_m = (req.window / 4).min(req.estimator.max_m(req.window));
     let ms = req.grid.ms(x.tau0, max_m)?;
     if ms.is_empty() {
         return Err(Error::insufficient(format!(
             "no τ of the grid fits a quarter of the window ({} samples)",
             req.window
+        )));
+    }
+    let cells = st.len().saturating_mul(ms.len());
+    if cells > MAX_CELLS {
+        return Err(Error::invalid(format!(
+            "{} windows × {} τ = {cells} points would need about {} MB (limit {} MB): take a longer step or fewer τ",
+            st.len(),
+            ms.len(),
+            cells / 10_000,
+            MAX_CELLS / 10_000
         )));
     }
     let opts = StatsOptions {

@@ -182,5 +182,6 @@ pub fn from_dut_with_progress(
     if !r.cautions.iter().any(|c| c == crate::DECISION_CAUTION) {
         r.cautions.insert(0, crate::DECISION_CAUTION.to_string());
     }
+    r.added = super::added::sections(dut, opts.confidence);
     Ok(r)
 }
