@@ -11,7 +11,9 @@
 //! with other work, where wall time mostly measures waiting for a core.
 //!
 //! A third group, `read_npy`, reads the same records as `.npy` (float64,
-//! one-dimensional) — binary input at memory speed.
+//! one-dimensional) — binary input at memory speed. A fourth, `read_raw`,
+//! reads them as a raw float64 little-endian array (`--binary f64le`,
+//! `tauwise::io::binary`).
 //!
 //! Run: `cargo bench --bench read` (set `TAUWISE_BENCH_LINES=1000000` to
 //! skip the 10^7-line files).
@@ -166,7 +168,40 @@ fn bench_npy(c: &mut Criterion) {
     group.finish();
 }
 
-criterion_group!(wall, bench_wall, bench_npy);
+fn bench_raw(c: &mut Criterion) {
+    let dir = tempfile::tempdir().unwrap();
+    let mut group = c.benchmark_group("read_raw");
+    group.sample_size(10);
+    group.warm_up_time(Duration::from_millis(500));
+    group.measurement_time(Duration::from_secs(3));
+    for n in sizes() {
+        let path = dir.path().join(format!("x-{n}.f64"));
+        let x: Vec<f64> = (0..n).map(|i| (i as f64 * 1e-3).sin() * 1e-9).collect();
+        let mut f = std::io::BufWriter::new(std::fs::File::create(&path).unwrap());
+        tauwise::io::binary::write_values(&mut f, &x, tauwise::io::binary::BinaryFormat::F64le)
+            .unwrap();
+        f.flush().unwrap();
+        drop(f);
+        drop(x);
+        let opts = SeriesOptions {
+            tau0: Some(1.0),
+            binary: Some(tauwise::io::binary::BinaryFormat::F64le),
+            ..Default::default()
+        };
+        group.throughput(Throughput::Bytes(std::fs::metadata(&path).unwrap().len()));
+        group.bench_function(format!("f64le/{n}"), |b| {
+            b.iter(|| {
+                let s = read_series(&path, &opts).unwrap();
+                assert_eq!(s.record.len(), n);
+                s
+            })
+        });
+        std::fs::remove_file(&path).unwrap();
+    }
+    group.finish();
+}
+
+criterion_group!(wall, bench_wall, bench_npy, bench_raw);
 criterion_group! {
     name = cpu;
     config = Criterion::default().with_measurement(ThreadCpu);

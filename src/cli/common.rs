@@ -6,7 +6,8 @@ use std::io::Write;
 use std::path::{Path, PathBuf};
 use tauwise::io::series::{read_series, Series, SeriesOptions};
 use tauwise::parse::{
-    comment_chars, snap_fraction, time_column, Duration, Frequency, Probability, TimeColumn,
+    comment_chars, snap_fraction, time_column, BinaryFormat, Duration, Frequency, Probability,
+    TimeColumn,
 };
 pub use tauwise::parse::{count, mad_limit, overlap_fraction};
 use tauwise::results::{Document, Input};
@@ -87,6 +88,11 @@ pub struct InputArgs {
     /// fields are recognised without it).
     #[arg(long)]
     pub decimal_comma: bool,
+    /// Read the file as a raw binary array of IEEE 754 numbers, no header:
+    /// f64le, f32le, f64be or f32be (float64/float32, little/big-endian).
+    /// Element i is the reading at i·τ0, so --tau0 is needed; NaN is a gap.
+    #[arg(long, value_name = "TYPE", value_parser = str::parse::<BinaryFormat>)]
+    pub binary: Option<BinaryFormat>,
 }
 
 impl InputArgs {
@@ -107,6 +113,7 @@ impl InputArgs {
             wrap: self.wrap.map(Duration::seconds),
             comments: self.comment.clone().unwrap_or_default(),
             decimal_comma: self.decimal_comma,
+            binary: self.binary,
         })
     }
 

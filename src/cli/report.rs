@@ -127,6 +127,7 @@ fn quick_dut(a: &Args, input: &std::path::Path) -> Result<Dut> {
             wrap: opts.wrap,
             comments: opts.comments.clone(),
             decimal_comma: opts.decimal_comma,
+            binary: opts.binary,
             prepare: tauwise::io::dut::RECORD_STEPS,
             bandwidth: None,
         }],

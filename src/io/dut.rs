@@ -89,6 +89,7 @@ struct RawSeries {
     wrap: Option<Spanned<toml::Value>>,
     comment: Option<Spanned<String>>,
     decimal_comma: Option<bool>,
+    binary: Option<Spanned<String>>,
     drift: Option<Spanned<String>>,
     outliers: Option<Spanned<toml::Value>>,
     fill_gaps: Option<Spanned<bool>>,
@@ -235,6 +236,9 @@ pub struct TimeSource {
     pub comments: String,
     /// A comma in a field is always the decimal mark.
     pub decimal_comma: bool,
+    /// A raw binary file of this element type (`binary = "f64le"`), not
+    /// text or `.npy`.
+    pub binary: Option<crate::io::binary::BinaryFormat>,
     /// How the record is prepared before analysis (outliers, drift, gap
     /// filling; [`crate::prepare::pipeline`]). A `[[record]]` removes a
     /// linear drift unless its `drift` key says otherwise
@@ -261,6 +265,7 @@ impl TimeSource {
             wrap: self.wrap,
             comments: self.comments.clone(),
             decimal_comma: self.decimal_comma,
+            binary: self.binary,
         }
     }
 }
@@ -882,6 +887,14 @@ fn series(
             }
             None => String::new(),
         };
+        let binary = match &r.binary {
+            Some(b) => Some(
+                b.get_ref()
+                    .parse::<crate::io::binary::BinaryFormat>()
+                    .or_else(|e| cx.err(b.span(), &k("binary"), e))?,
+            ),
+            None => None,
+        };
         let prepare = series_steps(cx, r, tie, &k)?;
         let bandwidth = match &r.bandwidth {
             Some(b) if tie => return cx.err(b.span(), &k("bandwidth"), ONLY_RECORDS),
@@ -901,6 +914,7 @@ fn series(
             wrap,
             comments,
             decimal_comma: r.decimal_comma.unwrap_or(false),
+            binary,
             prepare,
             bandwidth,
         });

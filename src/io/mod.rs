@@ -1,4 +1,4 @@
-//! Input and output: readers for time series (text and `.npy`), L(f) tables
+//! Input and output: readers for time series (text, `.npy` and raw binary), L(f) tables
 //! and DUT files, the writer of records that read back as they were, and the
 //! atomic writer every output goes through.
 //!
@@ -8,6 +8,7 @@
 use std::path::PathBuf;
 use thiserror::Error;
 
+pub mod binary;
 pub mod dut;
 pub mod fields;
 pub mod filter_set;

@@ -64,11 +64,12 @@
 //! # Missing values
 //! `NaN`, an empty field and `-` in the value column are gaps (NaN).
 
+use super::binary::BinaryFormat;
 use super::fields::{self, Decimal, Delimiter, NumberError, Splitter};
 use super::header_units::{self, Found, HeaderUnit};
 use super::layout::{self, LayoutOptions};
 use super::text::{self, CommentStyle, LineReader};
-use super::{npy, wrap, ReadError};
+use super::{binary, npy, wrap, ReadError};
 use crate::record::{DataKind, FrequencyRecord, PhaseRecord, Record};
 use crate::units::{format_sig, FreqUnit, ValueUnit};
 use serde::Serialize;
@@ -120,6 +121,10 @@ pub struct SeriesOptions {
     pub comments: String,
     /// A comma in a field is always the decimal mark.
     pub decimal_comma: bool,
+    /// Read the file as a raw binary array of this element type
+    /// ([`super::binary`]; `--binary f64le`): no header, no time column,
+    /// τ0 required.
+    pub binary: Option<BinaryFormat>,
 }
 
 /// Where the unit in force came from.
@@ -142,6 +147,9 @@ pub enum InputFormat {
     Text,
     /// numpy `.npy` binary.
     Npy,
+    /// A raw binary array (`--binary`; the element type in
+    /// [`SeriesInfo::binary`]).
+    Binary,
 }
 
 /// How the time column is written.
@@ -195,9 +203,11 @@ pub struct UnwrapInfo {
 pub struct SeriesInfo {
     /// The input path (`-` for standard input).
     pub path: PathBuf,
-    /// Text or `.npy`.
+    /// Text, `.npy` or raw binary.
     pub format: InputFormat,
-    /// Lines read, including comments and blank lines (0 for `.npy`).
+    /// The element type of a raw binary file (`null` otherwise).
+    pub binary: Option<BinaryFormat>,
+    /// Lines read, including comments and blank lines (0 for binary input).
     pub lines: u64,
     /// Bytes read.
     pub bytes: u64,
@@ -1084,6 +1094,15 @@ pub fn read_series_from<R: BufRead>(
     check_options(label, opts)?;
     let head = text::peek(&mut reader, npy::MAGIC.len())
         .map_err(|e| ReadError::file(label, format!("could not read: {e}")))?;
+    if let Some(format) = opts.binary {
+        if npy::is_npy(&head) {
+            return Err(ReadError::file(
+                label,
+                "the file starts with the .npy magic bytes: it is a numpy .npy file, read without --binary (its header says the element type and shape)",
+            ));
+        }
+        return read_raw(reader, label, opts, format);
+    }
     if npy::is_npy(&head) {
         return read_npy(reader, label, opts);
     }
@@ -1201,6 +1220,7 @@ pub fn read_series_from<R: BufRead>(
         info: SeriesInfo {
             path: label.to_path_buf(),
             format: InputFormat::Text,
+            binary: None,
             lines: lines.lines(),
             bytes: lines.bytes(),
             bom: lines.had_bom(),
@@ -1941,6 +1961,166 @@ fn read_npy<R: BufRead>(
             tau0
         }
     };
+    finish_binary(
+        label,
+        opts,
+        resolved,
+        Decoded {
+            format: InputFormat::Npy,
+            binary: None,
+            values,
+            rows,
+            tau0,
+            bytes: h.data_offset as u64 + (h.rows() * cols * h.dtype.size) as u64,
+            value_column: value_col,
+            time_column: time_col,
+            tau0_from_timestamps,
+            inserted_gaps: inserted as usize,
+            start_time,
+            snap,
+            notes,
+        },
+    )
+}
+
+/// Read a raw binary file (`--binary`) as a series: element i is the
+/// reading at i·τ0 (see [`super::binary`]). τ0 must be given; options that
+/// choose columns or describe text are refused, since the file has neither.
+fn read_raw<R: BufRead>(
+    mut reader: R,
+    label: &Path,
+    opts: &SeriesOptions,
+    format: BinaryFormat,
+) -> Result<Series, ReadError> {
+    let refuse = |what: &str| {
+        Err(ReadError::file(
+            label,
+            format!(
+                "{what} was given, but a raw binary file (--binary {format}) is one flat array of readings with no columns or text; expected none"
+            ),
+        ))
+    };
+    if opts.value_column.is_some_and(|c| c != 1) {
+        return refuse("a value column");
+    }
+    if opts.time_column.is_some() {
+        return refuse("a time column");
+    }
+    if opts.snap.is_some() {
+        return refuse("--snap (rounding timestamps)");
+    }
+    if !opts.comments.is_empty() {
+        return refuse("--comment");
+    }
+    if opts.decimal_comma {
+        return refuse("--decimal-comma");
+    }
+    let Some(tau0) = opts.tau0 else {
+        return Err(ReadError::file(
+            label,
+            format!(
+                "the sampling interval τ0 is unknown: a raw binary file (--binary {format}) has no time column; expected --tau0 (e.g. 1s; tau0 in a DUT file)"
+            ),
+        ));
+    };
+    let resolved = resolve_unit(label, opts, None, 1)?;
+    if opts.wrap.is_some() && resolved.kind == DataKind::Freq {
+        return Err(ReadError::file(
+            label,
+            "--wrap unwraps phase (time-interval) readings; these are frequency readings",
+        ));
+    }
+    let mut values = binary::read_values(&mut reader, label, format, MAX_POINTS)?;
+    let rows = values.len();
+    if rows < 2 {
+        return Err(ReadError::file(
+            label,
+            format!(
+                "the raw binary file has {rows} reading(s); expected at least 2 to form a record"
+            ),
+        ));
+    }
+    let conv = resolved.conv;
+    if !matches!(conv, Conversion::Scale(s) if s == 1.0) {
+        for v in values.iter_mut() {
+            if !v.is_nan() {
+                *v = conv.apply(*v);
+            }
+        }
+    }
+    let bytes = (rows * format.size()) as u64;
+    let notes = vec![format!(
+        "raw binary file: {rows} {} values ({} bytes each), sampled every τ0 = {} s as given",
+        format.describe(),
+        format.size(),
+        format_sig(tau0, 10)
+    )];
+    finish_binary(
+        label,
+        opts,
+        resolved,
+        Decoded {
+            format: InputFormat::Binary,
+            binary: Some(format),
+            values,
+            rows,
+            tau0,
+            bytes,
+            value_column: 1,
+            time_column: None,
+            tau0_from_timestamps: false,
+            inserted_gaps: 0,
+            start_time: None,
+            snap: None,
+            notes,
+        },
+    )
+}
+
+/// What a binary reader decoded, before the shared last steps.
+struct Decoded {
+    format: InputFormat,
+    binary: Option<BinaryFormat>,
+    /// The readings on the τ0 grid (SI units, NaN for gaps).
+    values: Vec<f64>,
+    /// Readings in the file.
+    rows: usize,
+    tau0: f64,
+    bytes: u64,
+    value_column: usize,
+    time_column: Option<usize>,
+    tau0_from_timestamps: bool,
+    inserted_gaps: usize,
+    start_time: Option<f64>,
+    snap: Option<SnapInfo>,
+    notes: Vec<String>,
+}
+
+/// The last steps of every binary reader (`.npy`, raw): refuse all-NaN
+/// readings, unwrap (`--wrap`), the unit note, plausibility warnings, the
+/// record.
+fn finish_binary(
+    label: &Path,
+    opts: &SeriesOptions,
+    resolved: Resolved,
+    d: Decoded,
+) -> Result<Series, ReadError> {
+    let Decoded {
+        format,
+        binary,
+        mut values,
+        rows,
+        tau0,
+        bytes,
+        value_column,
+        time_column,
+        tau0_from_timestamps,
+        inserted_gaps,
+        start_time,
+        snap,
+        mut notes,
+    } = d;
+    let conv = resolved.conv;
     if values.iter().all(|v| v.is_nan()) {
         return Err(ReadError::file(
             label,
@@ -1978,13 +2158,13 @@ fn read_npy<R: BufRead>(
         &resolved.symbol,
         resolved.source,
     );
-    let bytes = h.data_offset as u64 + (h.rows() * cols * h.dtype.size) as u64;
     let record = build_record(label, resolved.kind, values, tau0)?;
     Ok(Series {
         record,
         info: SeriesInfo {
             path: label.to_path_buf(),
-            format: InputFormat::Npy,
+            format,
+            binary,
             lines: 0,
             bytes,
             bom: false,
@@ -1995,13 +2175,13 @@ fn read_npy<R: BufRead>(
             first_data_line: None,
             delimiter: None,
             decimal_comma: None,
-            value_column: value_col,
-            time_column: time_col,
-            time_kind: time_col.map(|_| TimeKind::Seconds),
+            value_column,
+            time_column,
+            time_kind: time_column.map(|_| TimeKind::Seconds),
             unit: resolved.symbol,
             unit_source: resolved.source,
             tau0_from_timestamps,
-            inserted_gaps: inserted as usize,
+            inserted_gaps,
             start_time,
             start_unix: None,
             data_end: None,

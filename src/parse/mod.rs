@@ -18,6 +18,7 @@
 //! | τ range | [`parse_tau_range`] | `1s:3h` |
 //! | count | [`count`], [`points`] | `2000`, `1e6` |
 //! | time column | [`TimeColumn`] | `1`, `none` |
+//! | raw binary element type | [`BinaryFormat`] | `f64le`, `f32be` |
 //! | temperature | [`temp_coeff`], [`temp_swing`] | `1e-11/K`, `5K` |
 //!
 //! Every refusal is a [`crate::units::UnitError`] naming the text and what
@@ -29,6 +30,7 @@ mod model;
 mod options;
 mod quantity;
 
+pub use crate::io::binary::BinaryFormat;
 pub use estimators::EstimatorList;
 pub use filter::{Filter, FILTER_ORDERS};
 pub use model::Model;

@@ -217,6 +217,11 @@ impl InspectBody {
         rows.push(("input".into(), info.path.display().to_string()));
         let read = match info.format {
             crate::io::series::InputFormat::Npy => format!("{} bytes (numpy .npy)", info.bytes),
+            crate::io::series::InputFormat::Binary => format!(
+                "{} bytes (raw binary, {})",
+                info.bytes,
+                info.binary.map_or("", |b| b.describe())
+            ),
             crate::io::series::InputFormat::Text => format!(
                 "{} lines, {} bytes{}{}",
                 info.lines,
