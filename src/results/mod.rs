@@ -31,7 +31,7 @@ mod timeline;
 mod wander;
 
 pub use convert::{
-    ConvertSource, ConvertedCurve, ConvertedPoint, FittedModel, SigmaBody, SIGMA_METHOD,
+    ConvertSource, ConvertedCurve, ConvertedPoint, FittedModel, LfBody, SigmaBody, SIGMA_METHOD,
 };
 pub use fleet::{
     CheckColumn, CheckKind, DeviceSummary, FarPoint, FleetDocument, FleetInput, FleetMatrix,
