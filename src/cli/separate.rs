@@ -48,7 +48,7 @@ pub struct Args {
     #[command(flatten)]
     pub input: InputArgs,
     /// The estimator (adev, oadev, mdev, tdev, hdev, ohdev).
-    #[arg(long = "dev", value_name = "EST", default_value = "oadev", value_parser = estimator)]
+    #[arg(long = "dev", value_name = "EST", default_value = "oadev", value_parser = tauwise::separate::estimator_named)]
     pub dev: Estimator,
     /// How the clocks are separated.
     #[arg(long, value_enum, default_value = "independent")]
@@ -73,22 +73,6 @@ pub struct Args {
     pub plot: PlotArgs,
     #[command(flatten)]
     pub output: OutputArgs,
-}
-
-/// `--dev`: one estimator the separation supports.
-fn estimator(s: &str) -> std::result::Result<Estimator, tauwise::units::UnitError> {
-    let bad = |reason: String| tauwise::units::UnitError::Invalid {
-        text: s.to_string(),
-        reason,
-    };
-    let e = Estimator::from_name(s).map_err(|e| bad(e.to_string()))?;
-    if !tauwise::separate::SUPPORTED.contains(&e) {
-        return Err(bad(format!(
-            "'{s}' cannot be separated: expected one of {} (plain variances, quadratic in the phase)",
-            Estimator::names(tauwise::separate::SUPPORTED)
-        )));
-    }
-    Ok(e)
 }
 
 /// Run `separate`.

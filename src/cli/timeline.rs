@@ -31,7 +31,7 @@ pub struct Args {
     #[arg(long, value_name = "DUR", value_parser = Duration::positive_with_unit)]
     pub step: Duration,
     /// The estimator (oadev, mdev, tdev, ohdev).
-    #[arg(long = "dev", value_name = "EST", default_value = "oadev", value_parser = estimator)]
+    #[arg(long = "dev", value_name = "EST", default_value = "oadev", value_parser = tauwise::timeline::estimator_named)]
     pub dev: Estimator,
     #[command(flatten)]
     pub taus: TauArgs,
@@ -48,22 +48,6 @@ pub struct Args {
     pub plot: PlotArgs,
     #[command(flatten)]
     pub output: OutputArgs,
-}
-
-/// `--dev`: one estimator the timeline supports.
-fn estimator(s: &str) -> std::result::Result<Estimator, tauwise::units::UnitError> {
-    let bad = |reason: String| tauwise::units::UnitError::Invalid {
-        text: s.to_string(),
-        reason,
-    };
-    let e = Estimator::from_name(s).map_err(|e| bad(e.to_string()))?;
-    if !tauwise::timeline::SUPPORTED.contains(&e) {
-        return Err(bad(format!(
-            "'{s}' has no timeline: expected one of {}",
-            Estimator::names(tauwise::timeline::SUPPORTED)
-        )));
-    }
-    Ok(e)
 }
 
 /// Run `timeline`.

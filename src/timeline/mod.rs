@@ -325,6 +325,23 @@ pub fn window_and_step(
     Ok((w, s))
 }
 
+/// An estimator by name (`--dev`), refused with the list of [`SUPPORTED`]
+/// ones unless the timeline supports it.
+pub fn estimator_named(s: &str) -> std::result::Result<Estimator, crate::units::UnitError> {
+    let bad = |reason: String| crate::units::UnitError::Invalid {
+        text: s.to_string(),
+        reason,
+    };
+    let e = Estimator::from_name(s).map_err(|e| bad(e.to_string()))?;
+    if !crate::timeline::SUPPORTED.contains(&e) {
+        return Err(bad(format!(
+            "'{s}' has no timeline: expected one of {}",
+            Estimator::names(crate::timeline::SUPPORTED)
+        )));
+    }
+    Ok(e)
+}
+
 /// σ(τ) in each window, the whole record's curve and the events (module
 /// notes).
 pub fn timeline(x: &PhaseRecord, req: &Request) -> Result<Timeline> {
