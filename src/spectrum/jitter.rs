@@ -463,6 +463,10 @@ pub fn integrate_band(
     })
 }
 
+/// One band's outcome in [`judge_bands`]: the integrated jitter (or why it
+/// could not be computed) and its judgement when a limit was given.
+pub type JudgedBand = (std::result::Result<BandJitter, String>, Option<Judgement>);
+
 /// Every band of `bands` integrated ([`integrate_band`]) and, when limits
 /// are given — one for every band, or one per band in order — judged
 /// ([`JitterLimit::judge`]). Without limits a band that cannot be computed
@@ -474,7 +478,7 @@ pub fn judge_bands(
     setup: &JitterSetup,
     ui_rate: Option<f64>,
     limits: &[JitterLimit],
-) -> Result<Vec<(std::result::Result<BandJitter, String>, Option<Judgement>)>> {
+) -> Result<Vec<JudgedBand>> {
     if !(limits.len() <= 1 || limits.len() == bands.len()) {
         return Err(Error::invalid(format!(
             "{} limits for {} bands: give one limit for every band, or one per band in the same order",
