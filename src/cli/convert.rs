@@ -9,13 +9,13 @@ use tauwise::deviation::{Estimator, Origin};
 use tauwise::io::lf_table::{read_lf_table, TableOptions, TableQuantity};
 use tauwise::model::PowerLaw;
 use tauwise::parse::{Duration, EstimatorList, Frequency, Model};
-use tauwise::plot::phase_noise::{LfTrace, PhaseNoisePlot, TraceKind};
+use tauwise::plot::convert as charts;
 use tauwise::results::{
-    ConvertSource as Source, ConvertedCurve, FittedModel, SigmaBody, SpectrumRows, SIGMA_METHOD,
+    ConvertSource as Source, ConvertedCurve, FittedModel, LfBody, SigmaBody, SpectrumRows,
+    SIGMA_METHOD,
 };
 use tauwise::spectrum::sigma::{grid_taus, sigma_curve, spectral, SigmaOptions};
 use tauwise::spectrum::{Quantity, Spectrum};
-use tauwise::units::format_si;
 use tauwise::{Error, Result};
 
 /// What to convert to.
@@ -204,57 +204,22 @@ fn to_sigma(args: &Args, src: Source, carrier: Option<f64>) -> Result<String> {
     };
     let curves = estimators
         .iter()
-        .map(|&e| Ok((e, sigma_curve(&src.spectrum, e, &taus, opt)?)))
+        .map(|&e| {
+            let points = sigma_curve(&src.spectrum, e, &taus, opt)?;
+            Ok(ConvertedCurve::new(e, origin, &points))
+        })
         .collect::<Result<Vec<_>>>()?;
-    if let Some(path) = &args.plot.plot {
-        use tauwise::plot::stability::{SigmaCurve, StabilityPlot};
-        let mut notes = vec![format!(
-            "Converted: σ²(τ) = ∫ S_y(f)|H(f)|² df up to f_h = {} (IEEE Std 1139 transfer functions), τ0 = {} for MDEV/TDEV.",
-            format_si(src.f_h, "Hz", 4),
-            format_si(tau0, "s", 4)
-        )];
-        if args.sigma.is_some() {
-            notes.push("Model-based: h_α fitted to the σ(τ) curves, then converted.".into());
-        }
-        if curves.iter().any(|(_, p)| p.iter().any(|q| q.truncated)) {
-            notes.push(
-                "Some points are lower bounds: the table's low end is too steep to extend below it."
-                    .into(),
-            );
-        }
-        let plot = StabilityPlot {
-            title: src.label.clone(),
-            curves: curves
-                .iter()
-                .map(|(e, pts)| {
-                    let c = ConvertedCurve::new(*e, origin, pts);
-                    SigmaCurve {
-                        name: c.name,
-                        estimator: *e,
-                        origin,
-                        points: pts
-                            .iter()
-                            .map(|p| tauwise::plot::XY::new(p.tau, p.dev))
-                            .collect(),
-                    }
-                })
-                .collect(),
-            regions: Vec::new(),
-            confidence: None,
-            notes,
-        };
-        tauwise::plot::render(&plot.chart(), path, tauwise::plot::DEFAULT_SIZE)?;
-    }
     let body = SigmaBody {
         carrier,
         f_h: src.f_h,
         tau0,
         method: SIGMA_METHOD,
-        curves: curves
-            .iter()
-            .map(|(e, pts)| ConvertedCurve::new(*e, origin, pts))
-            .collect(),
+        curves,
     };
+    if let Some(path) = &args.plot.plot {
+        let chart = charts::sigma_chart(&body, &src.label, args.sigma.is_some());
+        tauwise::plot::render(&chart, path, tauwise::plot::DEFAULT_SIZE)?;
+    }
     Ok(match args.output.format() {
         Format::Json => json_doc(src.input, body)?,
         Format::Csv => body.csv()?,
@@ -284,97 +249,28 @@ fn to_lf(args: &Args, src: Source, carrier: Option<f64>) -> Result<String> {
         None => src.spectrum.to(Quantity::Lf)?,
     };
     if let Some(path) = &args.plot.plot {
-        let (kind, mut notes) = if from_model {
-            (TraceKind::Model, vec![format!("L(f) of {}.", src.label)])
-        } else {
-            (TraceKind::Table, Vec::new())
-        };
-        if args.sigma.is_some() {
-            notes.push("Model-based: h_α fitted to the σ(τ) curves, then converted.".into());
-        }
-        let plot = PhaseNoisePlot {
-            title: src.label.clone(),
-            carrier,
-            traces: vec![LfTrace::from_spectrum(&src.label, kind, &spec)?],
-            bands: Vec::new(),
-            notes,
-        };
-        tauwise::plot::render(&plot.chart(), path, tauwise::plot::DEFAULT_SIZE)?;
+        let chart = charts::lf_chart(&src.label, carrier, &spec, from_model, args.sigma.is_some())?;
+        tauwise::plot::render(&chart, path, tauwise::plot::DEFAULT_SIZE)?;
     }
-    let rows = SpectrumRows::new(&spec)?;
-    /// `convert --to lf`: `{"carrier","points"}`.
-    #[derive(serde::Serialize)]
-    struct LfBody {
-        carrier: Option<f64>,
-        points: SpectrumRows,
-    }
+    let body = LfBody {
+        carrier,
+        points: SpectrumRows::new(&spec)?,
+    };
     Ok(match args.output.format() {
-        Format::Json => json_doc(
-            src.input,
-            LfBody {
-                carrier,
-                points: rows,
-            },
-        )?,
-        Format::Csv => rows.csv()?,
-        Format::Table => {
-            let mut out = format!("L(f) from {}\n\n", src.label);
-            out.push_str(&rows.text());
-            out
-        }
+        Format::Json => json_doc(src.input, body)?,
+        Format::Csv => body.points.csv()?,
+        Format::Table => body.text(&src.label),
     })
 }
 
-/// `--to model`: fit S_y = Σ h_α f^α to the table's points (log-space fit of
-/// the model layer), f_h the table's highest offset unless --fh.
+/// `--to model`: fit S_y = Σ h_α f^α to the table's points up to f_h
+/// ([`FittedModel::of_spectrum`]), f_h the table's highest offset unless --fh.
 fn to_model(args: &Args, src: Source, carrier: Option<f64>) -> Result<String> {
-    use tauwise::model::fit::fit_sy;
-    let sy = src.spectrum.to(Quantity::Sy)?;
-    let keep: Vec<usize> = (0..sy.len()).filter(|&i| sy.f[i] <= src.f_h).collect();
-    let f: Vec<f64> = keep.iter().map(|&i| sy.f[i]).collect();
-    let v: Vec<f64> = keep.iter().map(|&i| sy.values[i]).collect();
-    let fit = fit_sy(&f, &v, None, src.f_h)?;
-    let m = fit.model;
-    let rms_db = if fit.residual_db.is_empty() {
-        0.0
-    } else {
-        tauwise::results::rms(&fit.residual_db)
-    };
+    let (body, range) = FittedModel::of_spectrum(&src.spectrum, carrier, src.f_h)?;
     if let Some(path) = &args.plot.plot {
-        let (lo, hi) = (f.first().copied(), f.last().copied());
-        let mut traces = vec![LfTrace::from_spectrum(
-            &src.label,
-            TraceKind::Table,
-            &src.spectrum,
-        )?];
-        if let (Some(lo), Some(hi)) = (lo, hi) {
-            let ms = Spectrum::from_model(&m, Quantity::Lf, carrier, lo, hi, 20)?;
-            traces.push(LfTrace::from_spectrum(
-                "fitted power-law model",
-                TraceKind::Model,
-                &ms,
-            )?);
-        }
-        let plot = PhaseNoisePlot {
-            title: src.label.clone(),
-            carrier,
-            traces,
-            bands: Vec::new(),
-            notes: vec![format!(
-                "Model fitted to S_y in log space: {} (residual {rms_db:.2} dB rms).",
-                m.to_model_string()
-            )],
-        };
-        tauwise::plot::render(&plot.chart(), path, tauwise::plot::DEFAULT_SIZE)?;
+        let chart = charts::model_chart(&src.label, &src.spectrum, &body, range)?;
+        tauwise::plot::render(&chart, path, tauwise::plot::DEFAULT_SIZE)?;
     }
-    let body = FittedModel {
-        carrier,
-        f_h: src.f_h,
-        model: m.to_model_string(),
-        h: m,
-        residual_rms_db: rms_db,
-        dominant: fit.dominant.clone(),
-    };
     Ok(match args.output.format() {
         Format::Json => json_doc(src.input, body)?,
         Format::Csv => body.csv()?,

@@ -9,7 +9,7 @@ use std::path::{Path, PathBuf};
 use tauwise::io::filter_set::assemble_weightings;
 use tauwise::io::lf_table::{read_lf_table, read_spurs, LfTable, TableOptions, TableQuantity};
 use tauwise::parse::{Filter, Frequency};
-use tauwise::plot::phase_noise::{found_spur_marks, BandMark, LfTrace, PhaseNoisePlot, TraceKind};
+use tauwise::plot::phase_noise::{jitter_chart, TraceKind};
 use tauwise::results::{Input, JitterBand, JitterBody, TableInput, SPUR_CONVENTION};
 use tauwise::spectrum::jitter::{
     judge_bands, record_period_jitter, Band, BandJitter, JitterLimit, JitterSetup, PeriodRequest,
@@ -293,38 +293,14 @@ pub fn run(args: Args) -> Result<Outcome> {
         judge_bands(&spectrum, &bands, &setup, ui_rate, &limits)?
             .into_iter()
             .unzip();
-    let results: Vec<BandJitter> = outcomes
-        .iter()
-        .filter_map(|o| o.as_ref().ok())
-        .cloned()
-        .collect();
     if let (Some(path), Some((trace, kind))) = (&args.plot.plot, &plot_trace) {
-        let mut notes = Vec::new();
-        if let Some(r) = results.first() {
-            if r.filter != "none" {
-                notes.push(format!("Band jitter weighted by {}.", r.filter));
-            }
-        }
-        if results.iter().any(|r| !r.extrapolated.is_empty()) {
-            notes.push("Some bands reach beyond the table: its end slopes were continued.".into());
-        }
-        notes.push(DECISION_CAUTION.to_string());
-        let plot = PhaseNoisePlot {
-            title: source.clone(),
-            carrier: Some(carrier),
-            traces: vec![LfTrace::from_spectrum(&source, *kind, trace)?],
-            bands: args
-                .bands
-                .iter()
-                .zip(&outcomes)
-                .filter_map(|((name, _), r)| {
-                    r.as_ref().ok().map(|r| BandMark::from_jitter(name, r))
-                })
-                .collect(),
-            notes,
-        };
-        let mut chart = plot.chart();
-        chart.series.extend(found_spur_marks(&found_spurs));
+        let drawn: Vec<(&str, &BandJitter)> = args
+            .bands
+            .iter()
+            .zip(&outcomes)
+            .filter_map(|((name, _), r)| r.as_ref().ok().map(|r| (name.as_str(), r)))
+            .collect();
+        let chart = jitter_chart(&source, carrier, trace, *kind, &drawn, &found_spurs)?;
         tauwise::plot::render(&chart, path, tauwise::plot::DEFAULT_SIZE)?;
     }
     let body = JitterBody {

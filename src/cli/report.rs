@@ -9,9 +9,10 @@ use super::common::{emit_to, ConfidenceArgs, InputArgs};
 use super::Outcome;
 use clap::Args as ClapArgs;
 use std::path::PathBuf;
-use tauwise::io::dut::{Dut, LfQuantity, LfSource, TimeSource};
+use tauwise::io::dut::Dut;
 use tauwise::report::build::{from_dut_with_progress, BuildOptions};
-use tauwise::{DataKind, Error, Result};
+use tauwise::report::duts::{dut_inputs, read_duts, QuickForm};
+use tauwise::{Error, Result};
 
 /// What `report` writes.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default, clap::ValueEnum)]
@@ -61,86 +62,6 @@ pub struct Args {
     pub input_args: InputArgs,
 }
 
-fn is_dut_file(p: &std::path::Path) -> bool {
-    p.extension()
-        .and_then(|e| e.to_str())
-        .is_some_and(|e| e.eq_ignore_ascii_case("toml"))
-}
-
-/// The quick form as an in-memory DUT.
-fn quick_dut(a: &Args, input: &std::path::Path) -> Result<Dut> {
-    let opts = a.input_args.options()?;
-    let name = a.name.clone().unwrap_or_else(|| {
-        input
-            .file_name()
-            .map(|n| n.to_string_lossy().into_owned())
-            .unwrap_or_else(|| "record".into())
-    });
-    let kind = opts.kind.unwrap_or(match opts.unit {
-        Some(tauwise::units::ValueUnit::Freq(_)) => DataKind::Freq,
-        _ => DataKind::Phase,
-    });
-    let mut phase_noise = Vec::new();
-    if let Some(lf) = &a.lf {
-        let carrier = opts.carrier.ok_or_else(|| {
-            Error::option(
-                "--lf",
-                "needs --carrier (the carrier of the phase-noise table, e.g. 10MHz)",
-            )
-        })?;
-        if !lf.is_file() {
-            return Err(tauwise::io::ReadError::file(
-                lf,
-                "cannot open the L(f) table: no such file",
-            )
-            .into());
-        }
-        phase_noise.push(LfSource {
-            name: lf
-                .file_name()
-                .map(|n| n.to_string_lossy().into_owned())
-                .unwrap_or_default(),
-            path: lf.clone(),
-            quantity: LfQuantity::Lf,
-            carrier,
-            uncertainty_db: None,
-        });
-    }
-    Ok(Dut {
-        file: input.to_path_buf(),
-        name,
-        description: None,
-        carrier: opts.carrier,
-        records: vec![TimeSource {
-            name: input
-                .file_name()
-                .map(|n| n.to_string_lossy().into_owned())
-                .unwrap_or_default(),
-            path: input.to_path_buf(),
-            data: kind,
-            tau0: opts.tau0,
-            units: opts.unit,
-            value_column: opts.value_column,
-            time_column: opts.time_column,
-            no_time_column: opts.no_time_column,
-            snap: opts.snap,
-            wrap: opts.wrap,
-            comments: opts.comments.clone(),
-            decimal_comma: opts.decimal_comma,
-            binary: opts.binary,
-            prepare: tauwise::io::dut::RECORD_STEPS,
-            bandwidth: None,
-        }],
-        phase_noise,
-        tie: Vec::new(),
-        jitter: Vec::new(),
-        wander: None,
-        holdover: None,
-        separate: None,
-        timeline: None,
-    })
-}
-
 /// Parse `960x600`.
 fn parse_size(text: &str) -> std::result::Result<(u32, u32), tauwise::units::UnitError> {
     text.split_once(['x', 'X', '×'])
@@ -152,58 +73,15 @@ fn parse_size(text: &str) -> std::result::Result<(u32, u32), tauwise::units::Uni
         })
 }
 
-/// Every file a DUT reads (for the output check).
-fn dut_inputs(dut: &Dut) -> Vec<&std::path::Path> {
-    let mut inputs: Vec<&std::path::Path> = vec![dut.file.as_path()];
-    inputs.extend(dut.records.iter().chain(&dut.tie).map(|r| r.path.as_path()));
-    inputs.extend(dut.phase_noise.iter().map(|t| t.path.as_path()));
-    inputs.extend(
-        dut.jitter
-            .iter()
-            .flat_map(|j| {
-                j.filter_files
-                    .iter()
-                    .chain(j.filter_set.iter().map(|s| &s.0))
-            })
-            .map(|p| p.as_path()),
-    );
-    if let Some(w) = &dut.wander {
-        inputs.extend(w.mask_files.iter().map(|p| p.as_path()));
-    }
-    inputs
-}
-
 /// Run `report`.
 pub fn run(a: Args) -> Result<Outcome> {
-    let quick_opts = a.lf.is_some() || a.name.is_some() || a.input_args.tau0.is_some();
-    let duts: Vec<Dut> = if a.inputs.len() > 1 {
-        if let Some(p) = a.inputs.iter().find(|p| !is_dut_file(p)) {
-            return Err(Error::option(
-                format!("{}", p.display()),
-                "several inputs make a comparison of DUT files: each must be a .toml DUT file (docs/dut-file.md)",
-            ));
-        }
-        if quick_opts {
-            return Err(Error::option(
-                "--lf, --name, --tau0",
-                "belong to the quick form of one record; a DUT file holds them itself",
-            ));
-        }
-        a.inputs
-            .iter()
-            .map(|p| Dut::read(p).map_err(Error::from))
-            .collect::<Result<_>>()?
-    } else if is_dut_file(&a.inputs[0]) {
-        if quick_opts {
-            return Err(Error::option(
-                "--lf, --name, --tau0",
-                "belong to the quick form; a DUT file holds them itself",
-            ));
-        }
-        vec![Dut::read(&a.inputs[0])?]
-    } else {
-        vec![quick_dut(&a, &a.inputs[0])?]
+    let quick = QuickForm {
+        name: a.name.clone(),
+        lf: a.lf.clone(),
+        options: a.input_args.options()?,
     };
+    let quick_opts = a.lf.is_some() || a.name.is_some() || a.input_args.tau0.is_some();
+    let duts = read_duts(&a.inputs, &quick, quick_opts)?;
     // Before any computing: the output must not be an input, and its
     // directory must take the file.
     let inputs: Vec<&std::path::Path> = duts.iter().flat_map(dut_inputs).collect();

@@ -7,14 +7,10 @@ use super::common::{
 };
 use super::Outcome;
 use clap::{Args as ClapArgs, ValueEnum};
-use std::fmt::Write as _;
 use std::path::Path;
 use tauwise::deviation::Estimator;
 use tauwise::results::{Input, PairInputs, RecordInput, SeparateBody};
-use tauwise::separate::{
-    align, separate, Method, PairRecord, PairSpec, Request, Resolution, Separation,
-};
-use tauwise::units::{format_si, format_sig};
+use tauwise::separate::{align, separate, Method, PairRecord, PairSpec, Request};
 use tauwise::Result;
 
 /// Monte Carlo draws of the covariance form's intervals.
@@ -52,7 +48,7 @@ pub struct Args {
     #[command(flatten)]
     pub input: InputArgs,
     /// The estimator (adev, oadev, mdev, tdev, hdev, ohdev).
-    #[arg(long = "dev", value_name = "EST", default_value = "oadev", value_parser = estimator)]
+    #[arg(long = "dev", value_name = "EST", default_value = "oadev", value_parser = tauwise::separate::estimator_named)]
     pub dev: Estimator,
     /// How the clocks are separated.
     #[arg(long, value_enum, default_value = "independent")]
@@ -77,22 +73,6 @@ pub struct Args {
     pub plot: PlotArgs,
     #[command(flatten)]
     pub output: OutputArgs,
-}
-
-/// `--dev`: one estimator the separation supports.
-fn estimator(s: &str) -> std::result::Result<Estimator, tauwise::units::UnitError> {
-    let bad = |reason: String| tauwise::units::UnitError::Invalid {
-        text: s.to_string(),
-        reason,
-    };
-    let e = Estimator::from_name(s).map_err(|e| bad(e.to_string()))?;
-    if !tauwise::separate::SUPPORTED.contains(&e) {
-        return Err(bad(format!(
-            "'{s}' cannot be separated: expected one of {} (plain variances, quadratic in the phase)",
-            Estimator::names(tauwise::separate::SUPPORTED)
-        )));
-    }
-    Ok(e)
 }
 
 /// Run `separate`.
@@ -157,121 +137,8 @@ pub fn run(args: Args) -> Result<Outcome> {
             body,
         )?,
         Format::Csv => body.csv()?,
-        Format::Table => table(&sep, request.confidence),
+        Format::Table => tauwise::results::separate_text(&sep, request.confidence),
     };
     emit(&args.output, &text)?;
     Ok(Outcome::Done)
-}
-
-/// The method in words, with its source.
-pub fn method_text(s: &Separation) -> String {
-    match s.method {
-        Method::Independent if s.clocks.len() == 3 && s.pairs.len() == 3 => {
-            "independent clocks, three-cornered hat (Gray & Allan 1974)".into()
-        }
-        Method::Independent => "independent clocks, least squares (Barnes)".into(),
-        Method::Covariance => format!(
-            "covariance-aware (Premoli & Tavella 1993), reference clock {}",
-            s.reference.as_deref().unwrap_or("?")
-        ),
-    }
-}
-
-/// The readable table: one block per clock.
-pub fn table(s: &Separation, confidence: f64) -> String {
-    let mut t = String::new();
-    let est = s
-        .clocks
-        .first()
-        .and_then(|c| c.curves.first())
-        .map(|c| c.estimator);
-    let _ = writeln!(
-        t,
-        "# {} clocks from {} pair records of {} points; {}",
-        s.clocks.len(),
-        s.pairs.len(),
-        s.points,
-        method_text(s)
-    );
-    for c in &s.clocks {
-        let Some(curve) = c.curves.first() else {
-            continue;
-        };
-        let _ = writeln!(t);
-        let _ = writeln!(
-            t,
-            "{} — {} separated",
-            c.name,
-            est.map(|e| e.name()).unwrap_or("")
-        );
-        let _ = writeln!(
-            t,
-            "{:>10} {:>11} {:>25} {:>9} {:>5}",
-            "tau",
-            "dev",
-            format!("{:.1} % interval", confidence * 100.0),
-            "edf",
-            "noise"
-        );
-        let time = est.is_some_and(|e| e.is_time_deviation());
-        let fmt = |v: f64| {
-            if time {
-                format_si(v, "s", 4)
-            } else {
-                format_sig(v, 4)
-            }
-        };
-        for p in &curve.points {
-            let (dev, interval) = match p.resolution {
-                Resolution::Resolved => (
-                    fmt(p.point.estimate.value),
-                    match (p.point.lo, p.point.hi) {
-                        (Some(lo), Some(hi)) => format!("[{} … {}]", fmt(lo), fmt(hi)),
-                        _ => "—".into(),
-                    },
-                ),
-                Resolution::Below => (
-                    format!("< {}", fmt(p.point.estimate.value)),
-                    "below resolution".into(),
-                ),
-            };
-            let _ = writeln!(
-                t,
-                "{:>10} {:>11} {:>25} {:>9} {:>5}",
-                format_si(p.point.estimate.tau, "s", 4),
-                dev,
-                interval,
-                p.point
-                    .edf
-                    .map(|e| format_sig(e, 4))
-                    .unwrap_or_else(|| "—".into()),
-                p.point.noise().unwrap_or("—"),
-            );
-        }
-    }
-    let _ = writeln!(t);
-    let _ = writeln!(
-        t,
-        "{}",
-        match (s.method, s.simultaneous) {
-            (Method::Independent, true) =>
-                "intervals: the pair variances' EDF propagated through the separation (simultaneous pairs sharing a clock covary), Satterthwaite degrees of freedom, χ²",
-            (Method::Independent, false) =>
-                "intervals: the pair variances' EDF propagated through the separation (pairs from separate sessions, independent), Satterthwaite degrees of freedom, χ²",
-            (Method::Covariance, _) =>
-                "intervals: seeded Monte Carlo of the same separation (Wishart draws of the difference covariances)",
-        }
-    );
-    if s.clocks
-        .iter()
-        .flat_map(|c| c.curves.iter().flat_map(|k| k.points.iter()))
-        .any(|p| p.resolution == Resolution::Below)
-    {
-        let _ = writeln!(
-            t,
-            "< bound: the separated variance is not positive (below the resolution of the data); the value is the upper bound the data allow"
-        );
-    }
-    let _ = writeln!(t, "{}", tauwise::DECISION_CAUTION);
-    t
 }

@@ -9,6 +9,7 @@ use clap::Args as ClapArgs;
 use std::path::PathBuf;
 use tauwise::deviation::{Curve, Estimator};
 use tauwise::parse::{EstimatorList, Frequency};
+use tauwise::plot::stability::{stability_charts, time_chart_path};
 use tauwise::results::{AnyCurve, BestCurve, RecordInput, StabilityBody};
 use tauwise::stability::{analyse, best, Request};
 use tauwise::Result;
@@ -131,32 +132,18 @@ pub fn run(args: Args) -> Result<Outcome> {
         curves.extend(v.curves.iter().cloned());
     }
     if let Some(path) = &args.plot.plot {
-        let mut plot = tauwise::plot::stability::StabilityPlot {
-            title: series.info.path.display().to_string(),
-            curves: curves
-                .iter()
-                .map(tauwise::plot::stability::SigmaCurve::from_curve)
-                .collect(),
-            regions: measured
-                .first()
-                .map(tauwise::plot::stability::regions_from_curve)
-                .unwrap_or_default(),
-            confidence: Some(request.confidence),
-            notes: Vec::new(),
-        };
-        if let Some(b) = &best_points {
-            plot.curves
-                .push(tauwise::plot::stability::SigmaCurve::from_curve(
-                    &tauwise::stability::best_curve(b),
-                ));
-        }
-        let main = plot.chart();
+        let best_curve = best_points.as_deref().map(tauwise::stability::best_curve);
+        let (main, time) = stability_charts(
+            &series.info.path.display().to_string(),
+            &curves,
+            &measured,
+            request.confidence,
+            best_curve.as_ref(),
+        );
         tauwise::plot::render(&main, path, (960, 600))?;
         // Time deviations beside σ_y curves: their own chart, FILE-time.EXT.
-        if plot.curves.iter().any(|c| !c.time_deviation()) {
-            if let Some(time) = plot.time_chart() {
-                tauwise::plot::render(&time, &time_chart_path(path), (960, 600))?;
-            }
+        if let Some(time) = time {
+            tauwise::plot::render(&time, &time_chart_path(path), (960, 600))?;
         }
     }
     let mut list: Vec<AnyCurve> = curves.iter().cloned().map(AnyCurve::Plain).collect();
@@ -175,20 +162,6 @@ pub fn run(args: Args) -> Result<Outcome> {
     };
     emit(&args.output, &text)?;
     Ok(Outcome::Done)
-}
-
-/// Where the time-deviation chart goes when σ_y curves take the main one:
-/// `stab.svg` → `stab-time.svg` (same directory and format).
-pub fn time_chart_path(path: &std::path::Path) -> PathBuf {
-    let stem = path
-        .file_stem()
-        .map(|s| s.to_string_lossy().into_owned())
-        .unwrap_or_default();
-    let name = match path.extension() {
-        Some(ext) => format!("{stem}-time.{}", ext.to_string_lossy()),
-        None => format!("{stem}-time"),
-    };
-    path.with_file_name(name)
 }
 
 /// Read the `--lf` table and convert it beside the measured curves.

@@ -21,6 +21,7 @@ use crate::error::{Error, Result};
 use std::path::Path;
 
 pub mod clip;
+pub mod convert;
 mod draw;
 pub mod holdover;
 pub mod phase_noise;

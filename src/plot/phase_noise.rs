@@ -160,6 +160,43 @@ pub fn found_spur_marks(found: &[crate::spectrum::spurs::FoundSpur]) -> Option<S
     })
 }
 
+/// The chart of `jitter`: the trace (a table, or a record's spectrum) with
+/// each band that could be integrated shaded (`bands`: its label and
+/// result, in order), the weighting and extrapolation noted, the decision
+/// caution, and the spurs found in the trace marked.
+pub fn jitter_chart(
+    title: &str,
+    carrier: f64,
+    trace: &crate::spectrum::Spectrum,
+    kind: TraceKind,
+    bands: &[(&str, &crate::spectrum::jitter::BandJitter)],
+    found: &[crate::spectrum::spurs::FoundSpur],
+) -> crate::Result<Chart> {
+    let mut notes = Vec::new();
+    if let Some((_, r)) = bands.first() {
+        if r.filter != "none" {
+            notes.push(format!("Band jitter weighted by {}.", r.filter));
+        }
+    }
+    if bands.iter().any(|(_, r)| !r.extrapolated.is_empty()) {
+        notes.push("Some bands reach beyond the table: its end slopes were continued.".into());
+    }
+    notes.push(crate::DECISION_CAUTION.to_string());
+    let mut chart = PhaseNoisePlot {
+        title: title.to_string(),
+        carrier: Some(carrier),
+        traces: vec![LfTrace::from_spectrum(title, kind, trace)?],
+        bands: bands
+            .iter()
+            .map(|(name, r)| BandMark::from_jitter(name, r))
+            .collect(),
+        notes,
+    }
+    .chart();
+    chart.series.extend(found_spur_marks(found));
+    Ok(chart)
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

@@ -301,6 +301,48 @@ impl StabilityPlot {
     }
 }
 
+/// The charts of `stability`: the σ–τ chart of `curves` (the noise regions
+/// of `measured`'s first curve in the strip, the best-of curve when given),
+/// and, when σ_y curves take that chart, the time deviations' own chart.
+pub fn stability_charts(
+    title: &str,
+    curves: &[Curve],
+    measured: &[Curve],
+    confidence: f64,
+    best: Option<&Curve>,
+) -> (Chart, Option<Chart>) {
+    let mut plot = StabilityPlot {
+        title: title.to_string(),
+        curves: curves.iter().map(SigmaCurve::from_curve).collect(),
+        regions: measured.first().map(regions_from_curve).unwrap_or_default(),
+        confidence: Some(confidence),
+        notes: Vec::new(),
+    };
+    if let Some(b) = best {
+        plot.curves.push(SigmaCurve::from_curve(b));
+    }
+    let time = if plot.curves.iter().any(|c| !c.time_deviation()) {
+        plot.time_chart()
+    } else {
+        None
+    };
+    (plot.chart(), time)
+}
+
+/// Where the time-deviation chart goes when σ_y curves take the main one:
+/// `stab.svg` → `stab-time.svg` (same directory and format).
+pub fn time_chart_path(path: &std::path::Path) -> std::path::PathBuf {
+    let stem = path
+        .file_stem()
+        .map(|s| s.to_string_lossy().into_owned())
+        .unwrap_or_default();
+    let name = match path.extension() {
+        Some(ext) => format!("{stem}-time.{}", ext.to_string_lossy()),
+        None => format!("{stem}-time"),
+    };
+    path.with_file_name(name)
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

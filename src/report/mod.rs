@@ -25,6 +25,7 @@ use std::path::Path;
 
 pub mod added;
 pub mod build;
+pub mod duts;
 pub mod fleet;
 pub mod html;
 pub mod provenance;

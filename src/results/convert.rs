@@ -228,6 +228,56 @@ impl FittedModel {
     }
 }
 
+/// `convert --to lf`: `{"carrier","points"}`.
+#[derive(Debug, Clone, Serialize)]
+pub struct LfBody {
+    /// Carrier ν0, Hz.
+    pub carrier: Option<f64>,
+    /// The table's rows.
+    pub points: super::SpectrumRows,
+}
+
+impl LfBody {
+    /// The readable table: a heading naming the source, then the rows.
+    pub fn text(&self, source: &str) -> String {
+        format!("L(f) from {source}\n\n{}", self.points.text())
+    }
+}
+
+impl FittedModel {
+    /// Fit S_y = Σ h_α f^α to the offsets of `spectrum` up to `f_h`
+    /// ([`crate::model::fit::fit_sy`], log space; IEEE Std 1139 terms), with
+    /// the offset range fitted (None when no offset is at or below f_h).
+    pub fn of_spectrum(
+        spectrum: &crate::spectrum::Spectrum,
+        carrier: Option<f64>,
+        f_h: f64,
+    ) -> Result<(Self, Option<(f64, f64)>)> {
+        let sy = spectrum.to(crate::spectrum::Quantity::Sy)?;
+        let keep: Vec<usize> = (0..sy.len()).filter(|&i| sy.f[i] <= f_h).collect();
+        let f: Vec<f64> = keep.iter().map(|&i| sy.f[i]).collect();
+        let v: Vec<f64> = keep.iter().map(|&i| sy.values[i]).collect();
+        let fit = crate::model::fit::fit_sy(&f, &v, None, f_h)?;
+        let residual_rms_db = if fit.residual_db.is_empty() {
+            0.0
+        } else {
+            super::rms(&fit.residual_db)
+        };
+        let range = f.first().copied().zip(f.last().copied());
+        Ok((
+            Self {
+                carrier,
+                f_h,
+                model: fit.model.to_model_string(),
+                h: fit.model,
+                residual_rms_db,
+                dominant: fit.dominant,
+            },
+            range,
+        ))
+    }
+}
+
 /// What `convert` converts: a phase-noise table or a power-law model, as a
 /// spectrum, with its `"input"` member, its f_h, a label for the text and
 /// charts, and the longest τ a grid goes to by default.

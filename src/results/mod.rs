@@ -31,7 +31,7 @@ mod timeline;
 mod wander;
 
 pub use convert::{
-    ConvertSource, ConvertedCurve, ConvertedPoint, FittedModel, SigmaBody, SIGMA_METHOD,
+    ConvertSource, ConvertedCurve, ConvertedPoint, FittedModel, LfBody, SigmaBody, SIGMA_METHOD,
 };
 pub use fleet::{
     CheckColumn, CheckKind, DeviceSummary, FarPoint, FleetDocument, FleetInput, FleetMatrix,
@@ -44,11 +44,11 @@ pub use jitter::{
 };
 pub use noise::{noise_cells, rms, DominantRange, ModelSummary, NoiseBody};
 pub use prepare::PrepareNotes;
-pub use separate::{PairInputs, SeparateBody};
+pub use separate::{separate_text, PairInputs, SeparateBody};
 pub use simulate::{exact_model_string, shell_word, simulated_file, values_in_words};
 pub use spectrum::{SpectrumBody, SpectrumRow, SpectrumRows};
 pub use stability::{model_from_stability, AnyCurve, BestCurve, StabilityBody};
-pub use timeline::TimelineBody;
+pub use timeline::{timeline_text, TimelineBody};
 pub use wander::WanderBody;
 
 /// Version of the JSON documents' layout (`"schema"` in every document):

@@ -4,7 +4,9 @@
 use super::{csv_text, Result};
 use crate::deviation::Point;
 use crate::separate::{Clock, Method, Pair, Resolution, Separation};
+use crate::units::{format_si, format_sig};
 use serde::Serialize;
+use std::fmt::Write as _;
 
 /// The `separate` results: `{"confidence","method","reference","clocks",
 /// "pairs","caution"}`; each clock `{"name","curves"}`, each curve in the
@@ -103,4 +105,118 @@ impl SeparateBody {
         }
         csv_text(&header, rows)
     }
+}
+
+/// The method in words, with its source.
+pub fn method_text(s: &Separation) -> String {
+    match s.method {
+        Method::Independent if s.clocks.len() == 3 && s.pairs.len() == 3 => {
+            "independent clocks, three-cornered hat (Gray & Allan 1974)".into()
+        }
+        Method::Independent => "independent clocks, least squares (Barnes)".into(),
+        Method::Covariance => format!(
+            "covariance-aware (Premoli & Tavella 1993), reference clock {}",
+            s.reference.as_deref().unwrap_or("?")
+        ),
+    }
+}
+
+/// The readable `separate` table: one block per clock, then how the
+/// intervals were made and the decision caution.
+pub fn separate_text(s: &Separation, confidence: f64) -> String {
+    let mut t = String::new();
+    let est = s
+        .clocks
+        .first()
+        .and_then(|c| c.curves.first())
+        .map(|c| c.estimator);
+    let _ = writeln!(
+        t,
+        "# {} clocks from {} pair records of {} points; {}",
+        s.clocks.len(),
+        s.pairs.len(),
+        s.points,
+        method_text(s)
+    );
+    for c in &s.clocks {
+        let Some(curve) = c.curves.first() else {
+            continue;
+        };
+        let _ = writeln!(t);
+        let _ = writeln!(
+            t,
+            "{} — {} separated",
+            c.name,
+            est.map(|e| e.name()).unwrap_or("")
+        );
+        let _ = writeln!(
+            t,
+            "{:>10} {:>11} {:>25} {:>9} {:>5}",
+            "tau",
+            "dev",
+            format!("{:.1} % interval", confidence * 100.0),
+            "edf",
+            "noise"
+        );
+        let time = est.is_some_and(|e| e.is_time_deviation());
+        let fmt = |v: f64| {
+            if time {
+                format_si(v, "s", 4)
+            } else {
+                format_sig(v, 4)
+            }
+        };
+        for p in &curve.points {
+            let (dev, interval) = match p.resolution {
+                Resolution::Resolved => (
+                    fmt(p.point.estimate.value),
+                    match (p.point.lo, p.point.hi) {
+                        (Some(lo), Some(hi)) => format!("[{} … {}]", fmt(lo), fmt(hi)),
+                        _ => "—".into(),
+                    },
+                ),
+                Resolution::Below => (
+                    format!("< {}", fmt(p.point.estimate.value)),
+                    "below resolution".into(),
+                ),
+            };
+            let _ = writeln!(
+                t,
+                "{:>10} {:>11} {:>25} {:>9} {:>5}",
+                format_si(p.point.estimate.tau, "s", 4),
+                dev,
+                interval,
+                p.point
+                    .edf
+                    .map(|e| format_sig(e, 4))
+                    .unwrap_or_else(|| "—".into()),
+                p.point.noise().unwrap_or("—"),
+            );
+        }
+    }
+    let _ = writeln!(t);
+    let _ = writeln!(
+        t,
+        "{}",
+        match (s.method, s.simultaneous) {
+            (Method::Independent, true) =>
+                "intervals: the pair variances' EDF propagated through the separation (simultaneous pairs sharing a clock covary), Satterthwaite degrees of freedom, χ²",
+            (Method::Independent, false) =>
+                "intervals: the pair variances' EDF propagated through the separation (pairs from separate sessions, independent), Satterthwaite degrees of freedom, χ²",
+            (Method::Covariance, _) =>
+                "intervals: seeded Monte Carlo of the same separation (Wishart draws of the difference covariances)",
+        }
+    );
+    if s.clocks
+        .iter()
+        .flat_map(|c| c.curves.iter().flat_map(|k| k.points.iter()))
+        .any(|p| p.resolution == Resolution::Below)
+    {
+        let _ = writeln!(
+            t,
+            "< bound: the separated variance is not positive (below the resolution of the data); the value is the upper bound the data allow"
+        );
+    }
+    let _ = writeln!(t, "{}", crate::DECISION_CAUTION);
+    t
 }

@@ -348,6 +348,23 @@ pub struct Separation {
     pub simultaneous: bool,
 }
 
+/// An estimator by name (`--dev`), refused with the list of [`SUPPORTED`]
+/// ones unless the separation supports it.
+pub fn estimator_named(s: &str) -> std::result::Result<Estimator, crate::units::UnitError> {
+    let bad = |reason: String| crate::units::UnitError::Invalid {
+        text: s.to_string(),
+        reason,
+    };
+    let e = Estimator::from_name(s).map_err(|e| bad(e.to_string()))?;
+    if !crate::separate::SUPPORTED.contains(&e) {
+        return Err(bad(format!(
+            "'{s}' cannot be separated: expected one of {} (plain variances, quadratic in the phase)",
+            Estimator::names(crate::separate::SUPPORTED)
+        )));
+    }
+    Ok(e)
+}
+
 /// Separate the clocks of the aligned pair records (see [`align`]): each
 /// pair's curve from [`crate::stability::analyse`] (so a pair curve equals
 /// `stability` on that record), then, at every τ all pairs have, the

@@ -287,6 +287,61 @@ fn starts(n: usize, window: usize, step: usize) -> Vec<usize> {
 /// 100 bytes each: 400 MB).
 pub const MAX_CELLS: usize = 4_000_000;
 
+/// A duration as a whole number of τ0 (within 1e-6), or an error naming
+/// the option that gave it.
+pub fn whole_samples(seconds: f64, tau0: f64, option: &str) -> Result<usize> {
+    let k = seconds / tau0;
+    let r = k.round();
+    if !(r >= 1.0 && (k - r).abs() <= 1e-6 * r.max(1.0) && r < 1e12) {
+        return Err(Error::option(
+            option,
+            format!("{seconds} s is not a whole number of τ0 = {tau0} s"),
+        ));
+    }
+    Ok(r as usize)
+}
+
+/// The window and step of a timeline in samples of `x`, each given as
+/// `(option, seconds)`: whole numbers of τ0, the window no longer than the
+/// record.
+pub fn window_and_step(
+    x: &PhaseRecord,
+    window: (&str, f64),
+    step: (&str, f64),
+) -> Result<(usize, usize)> {
+    let w = whole_samples(window.1, x.tau0, window.0)?;
+    let s = whole_samples(step.1, x.tau0, step.0)?;
+    if w > x.len() {
+        return Err(Error::option(
+            window.0,
+            format!(
+                "{} is longer than the record ({} samples at τ0 = {} s)",
+                crate::units::format_si(window.1, "s", 4),
+                x.len(),
+                x.tau0
+            ),
+        ));
+    }
+    Ok((w, s))
+}
+
+/// An estimator by name (`--dev`), refused with the list of [`SUPPORTED`]
+/// ones unless the timeline supports it.
+pub fn estimator_named(s: &str) -> std::result::Result<Estimator, crate::units::UnitError> {
+    let bad = |reason: String| crate::units::UnitError::Invalid {
+        text: s.to_string(),
+        reason,
+    };
+    let e = Estimator::from_name(s).map_err(|e| bad(e.to_string()))?;
+    if !crate::timeline::SUPPORTED.contains(&e) {
+        return Err(bad(format!(
+            "'{s}' has no timeline: expected one of {}",
+            Estimator::names(crate::timeline::SUPPORTED)
+        )));
+    }
+    Ok(e)
+}
+
 /// σ(τ) in each window, the whole record's curve and the events (module
 /// notes).
 pub fn timeline(x: &PhaseRecord, req: &Request) -> Result<Timeline> {
