@@ -328,31 +328,10 @@ fn fleet_html_holds_every_section_and_a_browser_renders_it() {
         assert!(charts.join(f).is_file(), "{f}");
     }
 
-    let Some(chromium) = find_chromium() else {
-        assert!(
-            std::env::var("TAUWISE_REQUIRE_BROWSER").is_err(),
-            "TAUWISE_REQUIRE_BROWSER is set but no chromium was found"
-        );
-        eprintln!("no chromium on PATH: browser check not run here");
+    let Some(browser) = common::browser(&d.join("profile")) else {
         return;
     };
-    let url = format!("file://{}", out.display());
-    let common = [
-        "--headless".to_string(),
-        "--no-sandbox".into(),
-        "--disable-gpu".into(),
-        "--disable-background-networking".into(),
-        "--no-first-run".into(),
-        format!("--user-data-dir={}", d.join("profile").display()),
-    ];
-    let dom = std::process::Command::new(&chromium)
-        .args(&common)
-        .arg("--dump-dom")
-        .arg(&url)
-        .output()
-        .unwrap();
-    assert!(dom.status.success(), "{}", stderr(&dom));
-    let dom = String::from_utf8_lossy(&dom.stdout).into_owned();
+    let dom = browser.dom(&out);
     let bdoc = Html::parse_document(&dom);
     for (id, _) in FLEET_SECTION_IDS {
         let sel = Selector::parse(&format!("section#{id}")).unwrap();
@@ -364,45 +343,7 @@ fn fleet_html_holds_every_section_and_a_browser_renders_it() {
     }
     let script = Selector::parse("script").unwrap();
     assert_eq!(bdoc.select(&script).count(), 0, "the evil name stayed text");
-    let shot = d.join("shot.png");
-    let o = std::process::Command::new(&chromium)
-        .args(&common)
-        .arg("--window-size=1200,2000")
-        .arg(format!("--screenshot={}", shot.display()))
-        .arg(&url)
-        .output()
-        .unwrap();
-    assert!(o.status.success(), "{}", stderr(&o));
-    let bytes = fs::read(&shot).unwrap();
-    let mut r = png::Decoder::new(&bytes[..]).read_info().unwrap();
-    let mut buf = vec![0; r.output_buffer_size()];
-    let info = r.next_frame(&mut buf).unwrap();
-    let ch = info.color_type.samples();
-    let px = &buf[..info.buffer_size()];
-    let mut colours = std::collections::HashSet::new();
-    let mut ink = 0usize;
-    for p in px.chunks(ch) {
-        colours.insert((p[0], p[1], p[2]));
-        if p[0] < 200 || p[1] < 200 || p[2] < 200 {
-            ink += 1;
-        }
-    }
-    let share = ink as f64 / (px.len() / ch) as f64;
-    assert!(
-        colours.len() > 50 && share > 0.01,
-        "screenshot looks blank: {} colours, {share} ink",
-        colours.len()
-    );
-}
-
-fn find_chromium() -> Option<PathBuf> {
-    if let Ok(p) = std::env::var("TAUWISE_CHROMIUM") {
-        return Some(p.into());
-    }
-    let path = std::env::var_os("PATH")?;
-    std::env::split_paths(&path)
-        .flat_map(|dir| ["chromium", "chromium-browser"].map(|n| dir.join(n)))
-        .find(|p| p.is_file())
+    browser.assert_screenshot_not_blank(&out, &d.join("shot.png"));
 }
 
 /// Bad command lines and bad sets of DUT files: several inputs must all

@@ -3,11 +3,10 @@
 
 mod common;
 
-use common::{tauwise, write};
+use common::{json_of, tauwise, write};
 use rand::SeedableRng;
 use rand_chacha::ChaCha8Rng;
 use rand_distr::{Distribution, Normal};
-use serde_json::Value;
 use std::f64::consts::PI;
 use tauwise::record::{PhaseRecord, Record};
 use tauwise::spectrum::jitter::{
@@ -16,16 +15,6 @@ use tauwise::spectrum::jitter::{
 };
 use tauwise::spectrum::welch::{welch_record, WelchOptions};
 use tauwise::spectrum::{Quantity, Spectrum};
-
-fn json(args: &[&str]) -> Value {
-    let out = tauwise().arg("jitter").args(args).output().unwrap();
-    assert!(
-        out.status.success(),
-        "{}",
-        String::from_utf8_lossy(&out.stderr)
-    );
-    serde_json::from_slice(&out.stdout).unwrap()
-}
 
 /// A table L(f) (dBc/Hz) with a slope change, written for the CLI.
 const TABLE: &str =
@@ -80,17 +69,20 @@ fn loop_difference_matches_an_independent_quadrature() {
     let dir = tempfile::tempdir().unwrap();
     let table = write(dir.path(), "lf.csv", TABLE);
     let (f1, z1, f2, z2, t) = (2e6, 0.7, 8e6, 1.1, 3e-9);
-    let doc = json(&[
-        table.to_str().unwrap(),
-        "--carrier",
-        "100MHz",
-        "--band",
-        "10k:50M",
-        "--filter",
-        "pll-diff:2MHz:0.7:8MHz:1.1:3ns",
-        "--format",
-        "json",
-    ]);
+    let doc = json_of(
+        "jitter",
+        &[
+            table.to_str().unwrap(),
+            "--carrier",
+            "100MHz",
+            "--band",
+            "10k:50M",
+            "--filter",
+            "pll-diff:2MHz:0.7:8MHz:1.1:3ns",
+            "--format",
+            "json",
+        ],
+    );
     let got = doc["bands"][0]["rms_rad"].as_f64().unwrap().powi(2);
     // H(jω) = (wn² + j2ζwnω)/(wn² − ω² + j2ζwnω), as (re, im).
     let h = |fnat: f64, z: f64, f: f64| {
@@ -118,17 +110,20 @@ fn loop_difference_matches_an_independent_quadrature() {
 fn clock_recovery_weighting_matches_quadrature() {
     let dir = tempfile::tempdir().unwrap();
     let table = write(dir.path(), "lf.csv", TABLE);
-    let doc = json(&[
-        table.to_str().unwrap(),
-        "--carrier",
-        "100MHz",
-        "--band",
-        "10k:50M",
-        "--filter",
-        "cdr:4MHz:0.8",
-        "--format",
-        "json",
-    ]);
+    let doc = json_of(
+        "jitter",
+        &[
+            table.to_str().unwrap(),
+            "--carrier",
+            "100MHz",
+            "--band",
+            "10k:50M",
+            "--filter",
+            "cdr:4MHz:0.8",
+            "--format",
+            "json",
+        ],
+    );
     let got = doc["bands"][0]["rms_rad"].as_f64().unwrap().powi(2);
     let (wn, z) = (2.0 * PI * 4e6, 0.8);
     let weight = |f: f64| {
@@ -146,32 +141,38 @@ fn clock_recovery_weighting_matches_quadrature() {
 fn bandwidth_form_says_the_values_used() {
     let dir = tempfile::tempdir().unwrap();
     let table = write(dir.path(), "lf.csv", TABLE);
-    let doc = json(&[
-        table.to_str().unwrap(),
-        "--carrier",
-        "100MHz",
-        "--band",
-        "10k:50M",
-        "--filter",
-        "pll:bw=4MHz:peak=0.5dB",
-        "--format",
-        "json",
-    ]);
+    let doc = json_of(
+        "jitter",
+        &[
+            table.to_str().unwrap(),
+            "--carrier",
+            "100MHz",
+            "--band",
+            "10k:50M",
+            "--filter",
+            "pll:bw=4MHz:peak=0.5dB",
+            "--format",
+            "json",
+        ],
+    );
     let described = doc["bands"][0]["filter"].as_str().unwrap();
     assert!(described.contains("bw 4.000 MHz"), "{described}");
     assert!(described.contains("→ fn"), "{described}");
     let l = SecondOrderLoop::from_bandwidth(4e6, 0.5).unwrap();
-    let by_fn = json(&[
-        table.to_str().unwrap(),
-        "--carrier",
-        "100MHz",
-        "--band",
-        "10k:50M",
-        "--filter",
-        &format!("pll:{}Hz:{}", l.natural_hz, l.damping),
-        "--format",
-        "json",
-    ]);
+    let by_fn = json_of(
+        "jitter",
+        &[
+            table.to_str().unwrap(),
+            "--carrier",
+            "100MHz",
+            "--band",
+            "10k:50M",
+            "--filter",
+            &format!("pll:{}Hz:{}", l.natural_hz, l.damping),
+            "--format",
+            "json",
+        ],
+    );
     let (a, b) = (
         doc["bands"][0]["rms_rad"].as_f64().unwrap(),
         by_fn["bands"][0]["rms_rad"].as_f64().unwrap(),
@@ -200,8 +201,12 @@ fn filter_set_and_several_filter_files() {
         "--format",
         "json",
     ];
-    let by_set = json(&[&[t, "--filters", set.to_str().unwrap()], &base[..]].concat());
-    let by_hand = json(
+    let by_set = json_of(
+        "jitter",
+        &[&[t, "--filters", set.to_str().unwrap()], &base[..]].concat(),
+    );
+    let by_hand = json_of(
+        "jitter",
         &[
             &[
                 t,
@@ -220,8 +225,9 @@ fn filter_set_and_several_filter_files() {
     let b = by_hand["bands"][0]["rms_rad"].as_f64().unwrap();
     assert!((a / b - 1.0).abs() < 1e-12, "{a} {b}");
     assert_eq!(by_set["filter_set"], "example link");
-    let plain = json(&[&[t], &base[..]].concat());
-    let quarter = json(
+    let plain = json_of("jitter", &[&[t], &base[..]].concat());
+    let quarter = json_of(
+        "jitter",
         &[
             &[
                 t,

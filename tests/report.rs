@@ -4,6 +4,7 @@
 //! Values in the synthetic report come from the IEEE Std 1139 closed forms
 //! (analytic) and docs/checks.md §E, §G; they only need to be plausible here.
 
+mod common;
 use scraper::{Html, Selector};
 use std::fs;
 use tauwise::io::dut::Dut;
@@ -513,22 +514,6 @@ fn cli_report_end_to_end() {
     assert!(String::from_utf8_lossy(&o.stderr).contains("--carrier"));
 }
 
-fn find_chromium() -> Option<std::path::PathBuf> {
-    if let Ok(p) = std::env::var("TAUWISE_CHROMIUM") {
-        return Some(p.into());
-    }
-    let path = std::env::var_os("PATH")?;
-    for dir in std::env::split_paths(&path) {
-        for name in ["chromium", "chromium-browser"] {
-            let p = dir.join(name);
-            if p.is_file() {
-                return Some(p);
-            }
-        }
-    }
-    None
-}
-
 /// A real browser renders the report: headless Chromium's DOM dump holds
 /// every section and no script, and its screenshot is not blank. `.ci/run`
 /// installs Debian's chromium when it is missing and sets
@@ -536,39 +521,13 @@ fn find_chromium() -> Option<std::path::PathBuf> {
 /// elsewhere the check runs whenever a Chromium is on PATH.
 #[test]
 fn a_real_browser_renders_every_section() {
-    let Some(chromium) = find_chromium() else {
-        assert!(
-            std::env::var("TAUWISE_REQUIRE_BROWSER").is_err(),
-            "TAUWISE_REQUIRE_BROWSER is set but no chromium was found (set TAUWISE_CHROMIUM or install chromium)"
-        );
-        eprintln!("no chromium on PATH: browser check not run here");
-        return;
-    };
     let dir = tempfile::tempdir().unwrap();
     let page = dir.path().join("report.html");
     write(&full_report("<script>alert(1)</script>"), &page).unwrap();
-    let url = format!("file://{}", page.display());
-    let profile = dir.path().join("profile");
-    let common = [
-        "--headless".to_string(),
-        "--no-sandbox".into(),
-        "--disable-gpu".into(),
-        "--disable-background-networking".into(),
-        "--no-first-run".into(),
-        format!("--user-data-dir={}", profile.display()),
-    ];
-    let dom = std::process::Command::new(&chromium)
-        .args(&common)
-        .arg("--dump-dom")
-        .arg(&url)
-        .output()
-        .unwrap();
-    assert!(
-        dom.status.success(),
-        "{}",
-        String::from_utf8_lossy(&dom.stderr)
-    );
-    let dom = String::from_utf8_lossy(&dom.stdout).into_owned();
+    let Some(browser) = common::browser(&dir.path().join("profile")) else {
+        return;
+    };
+    let dom = browser.dom(&page);
     let doc = Html::parse_document(&dom);
     for (id, _) in SECTION_IDS {
         let sel = Selector::parse(&format!("section#{id}")).unwrap();
@@ -584,35 +543,7 @@ fn a_real_browser_renders_every_section() {
         0,
         "the escaped name did not become a script"
     );
-    let shot = dir.path().join("shot.png");
-    let o = std::process::Command::new(&chromium)
-        .args(&common)
-        .arg("--window-size=1200,2000")
-        .arg(format!("--screenshot={}", shot.display()))
-        .arg(&url)
-        .output()
-        .unwrap();
-    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
-    let bytes = fs::read(&shot).unwrap();
-    let mut r = png::Decoder::new(&bytes[..]).read_info().unwrap();
-    let mut buf = vec![0; r.output_buffer_size()];
-    let info = r.next_frame(&mut buf).unwrap();
-    let ch = info.color_type.samples();
-    let px = &buf[..info.buffer_size()];
-    let mut colours = std::collections::HashSet::new();
-    let mut ink = 0usize;
-    for p in px.chunks(ch) {
-        colours.insert((p[0], p[1], p[2]));
-        if p[0] < 200 || p[1] < 200 || p[2] < 200 {
-            ink += 1;
-        }
-    }
-    let share = ink as f64 / (px.len() / ch) as f64;
-    assert!(
-        colours.len() > 50 && share > 0.01,
-        "screenshot looks blank: {} colours, {share} ink",
-        colours.len()
-    );
+    browser.assert_screenshot_not_blank(&page, &dir.path().join("shot.png"));
 }
 
 /// The report's verdicts equal those of the individual commands on the same

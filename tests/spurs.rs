@@ -4,7 +4,7 @@
 
 mod common;
 
-use common::{tauwise, write};
+use common::{json_of, write};
 use rand::{Rng, SeedableRng};
 use rand_chacha::ChaCha8Rng;
 use serde_json::Value;
@@ -29,16 +29,6 @@ fn trace(tones: &[(f64, f64)], ripple: f64) -> String {
     t
 }
 
-fn run(args: &[&str]) -> Value {
-    let out = tauwise().arg("jitter").args(args).output().unwrap();
-    assert!(
-        out.status.success(),
-        "{}",
-        String::from_utf8_lossy(&out.stderr)
-    );
-    serde_json::from_slice(&out.stdout).unwrap()
-}
-
 const TONES: [(f64, f64); 2] = [(12_300.0, -120.0), (456_700.0, -125.0)];
 
 /// The level the rule gives a one-point tone on a −150 dBc/Hz floor with
@@ -55,15 +45,18 @@ fn tone_dbc(l: f64) -> f64 {
 fn injected_tones_are_found_and_counted_once() {
     let dir = tempfile::tempdir().unwrap();
     let table = write(dir.path(), "trace.csv", &trace(&TONES, 0.0));
-    let doc = run(&[
-        table.to_str().unwrap(),
-        "--carrier",
-        "10MHz",
-        "--band",
-        "2k:900k",
-        "--format",
-        "json",
-    ]);
+    let doc = json_of(
+        "jitter",
+        &[
+            table.to_str().unwrap(),
+            "--carrier",
+            "10MHz",
+            "--band",
+            "2k:900k",
+            "--format",
+            "json",
+        ],
+    );
     let found = doc["found_spurs"].as_array().unwrap();
     assert_eq!(found.len(), 2, "{found:?}");
     for (s, &(f, l)) in found.iter().zip(&TONES) {
@@ -81,16 +74,19 @@ fn injected_tones_are_found_and_counted_once() {
     assert_eq!(doc["bands"][0]["spurs"], 2);
     // Without the search the peaks stay in the noise integral, interpolated
     // between their neighbours: a different (and unstated) figure.
-    let plain = run(&[
-        table.to_str().unwrap(),
-        "--carrier",
-        "10MHz",
-        "--band",
-        "2k:900k",
-        "--no-spur-search",
-        "--format",
-        "json",
-    ]);
+    let plain = json_of(
+        "jitter",
+        &[
+            table.to_str().unwrap(),
+            "--carrier",
+            "10MHz",
+            "--band",
+            "2k:900k",
+            "--no-spur-search",
+            "--format",
+            "json",
+        ],
+    );
     assert!(plain["found_spurs"].as_array().unwrap().is_empty());
     assert_eq!(plain["spur_rule"], Value::Null);
 }
@@ -100,15 +96,18 @@ fn injected_tones_are_found_and_counted_once() {
 fn a_trace_without_tones_finds_none() {
     let dir = tempfile::tempdir().unwrap();
     let table = write(dir.path(), "trace.csv", &trace(&[], 1.0));
-    let doc = run(&[
-        table.to_str().unwrap(),
-        "--carrier",
-        "10MHz",
-        "--band",
-        "2k:900k",
-        "--format",
-        "json",
-    ]);
+    let doc = json_of(
+        "jitter",
+        &[
+            table.to_str().unwrap(),
+            "--carrier",
+            "10MHz",
+            "--band",
+            "2k:900k",
+            "--format",
+            "json",
+        ],
+    );
     assert!(doc["found_spurs"].as_array().unwrap().is_empty());
     assert_eq!(doc["bands"][0]["spurs"], 0);
 }
@@ -121,17 +120,20 @@ fn a_listed_spur_takes_the_place_of_a_found_one() {
     let dir = tempfile::tempdir().unwrap();
     let table = write(dir.path(), "trace.csv", &trace(&TONES, 0.0));
     let spurs = write(dir.path(), "spurs.csv", "12300,-98\n");
-    let doc = run(&[
-        table.to_str().unwrap(),
-        "--carrier",
-        "10MHz",
-        "--band",
-        "2k:900k",
-        "--spurs",
-        spurs.to_str().unwrap(),
-        "--format",
-        "json",
-    ]);
+    let doc = json_of(
+        "jitter",
+        &[
+            table.to_str().unwrap(),
+            "--carrier",
+            "10MHz",
+            "--band",
+            "2k:900k",
+            "--spurs",
+            spurs.to_str().unwrap(),
+            "--format",
+            "json",
+        ],
+    );
     let found = doc["found_spurs"].as_array().unwrap();
     assert_eq!(found[0]["replaced_by_listed"], true);
     assert_eq!(found[1]["replaced_by_listed"], false);

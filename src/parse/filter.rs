@@ -63,10 +63,12 @@ fn parse_loop(text: &str, a: &str, b: &str) -> Result<SecondOrderLoop, UnitError
         let peak = strip(b, "peak=")
             .ok_or_else(|| invalid("after bw=F3DB give peak=PDB (e.g. peak=0.1dB)".into()))?;
         let peak = peak.trim();
-        let peak = strip(&peak.chars().rev().collect::<String>(), "bd")
-            .map(|r| r.chars().rev().collect::<String>())
-            .unwrap_or_else(|| peak.to_string());
-        let peak = peak.trim();
+        let peak = match peak.len().checked_sub(2) {
+            Some(n) if peak.is_char_boundary(n) && peak[n..].eq_ignore_ascii_case("db") => {
+                peak[..n].trim()
+            }
+            _ => peak,
+        };
         let peak: f64 = peak
             .parse()
             .map_err(|_| invalid(format!("peaking '{b}' is not a number of dB")))?;
@@ -118,13 +120,15 @@ impl FromStr for Weighting {
             ("pll", [a, b]) => Ok(Weighting::Pll(parse_loop(t, a, b)?)),
             ("cdr", [a, b]) => Ok(Weighting::Cdr(parse_loop(t, a, b)?)),
             ("pll-diff", [a1, b1, a2, b2, delay]) => {
-                let delay_s = super::Duration::from_str(delay)
+                // A delay needs its unit (`3` would be 3 s where 3 ns was
+                // meant); zero needs none.
+                let delay_s = super::Duration::with_unit(delay)
                     .ok()
                     .filter(|d| d.seconds() >= 0.0 && d.seconds().is_finite())
                     .ok_or_else(|| UnitError::Invalid {
                         text: t.to_string(),
                         reason: format!(
-                            "filter '{t}': delay '{delay}' is not a duration of 0 or more (e.g. 2ns)"
+                            "filter '{t}': delay '{delay}' is not a duration of 0 or more with its unit (e.g. 2ns)"
                         ),
                     })?
                     .seconds();
@@ -210,6 +214,7 @@ mod tests {
             "pll-diff:2M:0.7:10M:0.9",
             "pll-diff:2M:0.7:10M:0.9:-1ns",
             "pll-diff:2M:0.7:10M:0.9:soon",
+            "pll-diff:2M:0.7:10M:0.9:3",
         ] {
             let e = bad.parse::<Filter>().unwrap_err();
             assert!(e.to_string().contains(bad.trim()), "{bad}: {e}");

@@ -247,16 +247,7 @@ impl JitterBody {
                     if let Some(p) = &r.period {
                         tab.span(
                             Cell::text(""),
-                            format!(
-                                "period jitter {} rms, cycle-to-cycle {} rms{}",
-                                format_si(p.period_rms_s, "s", 4),
-                                format_si(p.c2c_rms_s, "s", 4),
-                                match (p.periods, p.n_period_rms_s) {
-                                    (Some(n), Some(v)) =>
-                                        format!(", over {n} periods {}", format_si(v, "s", 4)),
-                                    _ => String::new(),
-                                }
-                            ),
+                            period_words(p.period_rms_s, p.c2c_rms_s, p.periods, p.n_period_rms_s),
                         );
                     }
                     for (a, b) in &r.extrapolated {
@@ -293,15 +284,9 @@ impl JitterBody {
         }
         if let Some(r) = &self.record_period {
             t.line(format!(
-                "From the record's edge differences ({} periods, all offsets to ν0/2): period \
-                 jitter {} rms, cycle-to-cycle {} rms{}.",
+                "From the record's edge differences ({} periods, all offsets to ν0/2): {}.",
                 r.count,
-                format_si(r.period_rms_s, "s", 4),
-                format_si(r.c2c_rms_s, "s", 4),
-                match (r.periods, r.n_period_rms_s) {
-                    (Some(n), Some(v)) => format!(", over {n} periods {}", format_si(v, "s", 4)),
-                    _ => String::new(),
-                }
+                period_words(r.period_rms_s, r.c2c_rms_s, r.periods, r.n_period_rms_s)
             ));
         }
         for s in &self.found_spurs {
@@ -319,4 +304,18 @@ impl JitterBody {
         }
         t
     }
+}
+
+/// `period jitter … rms, cycle-to-cycle … rms[, over N periods …]`: the same
+/// words for a band's figures and a record's.
+fn period_words(period: f64, c2c: f64, periods: Option<u32>, n_period: Option<f64>) -> String {
+    format!(
+        "period jitter {} rms, cycle-to-cycle {} rms{}",
+        format_si(period, "s", 4),
+        format_si(c2c, "s", 4),
+        match (periods, n_period) {
+            (Some(n), Some(v)) => format!(", over {n} periods {}", format_si(v, "s", 4)),
+            _ => String::new(),
+        }
+    )
 }
