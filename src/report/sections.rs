@@ -691,17 +691,7 @@ pub(super) fn body(h: &mut Html, r: &Report, pre: &str) -> Result<()> {
 /// The whole document.
 pub(super) fn document(r: &Report) -> Result<String> {
     let mut h = Html::new();
-    h.raw("<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\">\n");
-    h.raw("<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\">\n");
-    h.raw(&format!(
-        "<meta name=\"generator\" content=\"{} {}\">\n",
-        crate::TOOL,
-        crate::VERSION
-    ));
-    h.raw("<title>")
-        .text(&format!("{} — stability report", r.device))
-        .raw("</title>\n");
-    h.raw("<style>").raw(CSS).raw("</style>\n</head>\n<body>\n");
+    open_document(&mut h, &format!("{} — stability report", r.device), &[CSS]);
     h.raw("<header class=\"top\">");
     h.el("h1", "", &format!("{} — stability report", r.device));
     if let Some(d) = &r.description {
@@ -725,6 +715,29 @@ pub(super) fn document(r: &Report) -> Result<String> {
     }
     h.raw("</nav>\n<main>\n");
     body(&mut h, r, "")?;
+    close_document(&mut h);
+    Ok(h.finish())
+}
+
+/// The document up to `<body>`: doctype, meta (generator: tool and
+/// version), the title and the style sheets, inline.
+pub(crate) fn open_document(h: &mut Html, title: &str, css: &[&str]) {
+    h.raw("<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\">\n");
+    h.raw("<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\">\n");
+    h.raw(&format!(
+        "<meta name=\"generator\" content=\"{} {}\">\n",
+        crate::TOOL,
+        crate::VERSION
+    ));
+    h.raw("<title>").text(title).raw("</title>\n<style>");
+    for c in css {
+        h.raw(c);
+    }
+    h.raw("</style>\n</head>\n<body>\n");
+}
+
+/// `</main>`, the footer (tool, version, nothing fetched) and the end.
+pub(crate) fn close_document(h: &mut Html) {
     h.raw("</main>\n<footer>");
     h.text(&format!(
         "{} {} · every value above was computed from the inputs listed; nothing was fetched from a network.",
@@ -732,5 +745,4 @@ pub(super) fn document(r: &Report) -> Result<String> {
         crate::VERSION
     ));
     h.raw("</footer>\n</body>\n</html>\n");
-    Ok(h.finish())
 }

@@ -250,18 +250,7 @@ pub fn render_html(f: &Fleet) -> Result<String> {
     let names: Vec<&str> = f.reports.iter().map(|r| r.device.as_str()).collect();
     let title = format!("{} — devices compared", names.join(", "));
     let mut h = Html::new();
-    h.raw("<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\">\n");
-    h.raw("<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\">\n");
-    h.raw(&format!(
-        "<meta name=\"generator\" content=\"{} {}\">\n",
-        crate::TOOL,
-        crate::VERSION
-    ));
-    h.raw("<title>").text(&title).raw("</title>\n");
-    h.raw("<style>")
-        .raw(CSS)
-        .raw(FLEET_CSS)
-        .raw("</style>\n</head>\n<body>\n");
+    crate::report::sections::open_document(&mut h, &title, &[CSS, FLEET_CSS]);
     h.raw("<header class=\"top\">");
     h.el("h1", "", &title);
     h.p(&format!(
@@ -312,13 +301,7 @@ pub fn render_html(f: &Fleet) -> Result<String> {
         crate::report::sections::body(&mut h, r, &pre)?;
         h.raw("</article>\n");
     }
-    h.raw("</main>\n<footer>");
-    h.text(&format!(
-        "{} {} · every value above was computed from the inputs listed; nothing was fetched from a network.",
-        crate::TOOL,
-        crate::VERSION
-    ));
-    h.raw("</footer>\n</body>\n</html>\n");
+    crate::report::sections::close_document(&mut h);
     Ok(h.finish())
 }
 
