@@ -226,6 +226,44 @@ impl OutputArgs {
 
 pub use tauwise::io::output_paths::check_output_paths;
 
+impl OutputArgs {
+    /// Before any computing: neither `-o` nor the chart file (`plot`) is one
+    /// of `inputs`, and their directories take files
+    /// ([`check_output_paths`]).
+    pub fn check(&self, inputs: &[&Path], plot: &PlotArgs) -> Result<()> {
+        check_output_paths(inputs, &[self.output.as_deref(), plot.plot.as_deref()])
+    }
+
+    /// Write a command's result in the chosen format: its JSON document
+    /// ([`json_doc`]), its CSV (`csv`) or its table text (`table`), to
+    /// standard output or atomically to `-o` ([`emit`]).
+    pub fn write<B: serde::Serialize>(
+        &self,
+        input: Input,
+        body: &B,
+        csv: impl FnOnce(&B) -> Result<String>,
+        table: impl FnOnce(&B) -> String,
+    ) -> Result<()> {
+        let text = match self.format() {
+            Format::Json => json_doc(input, body)?,
+            Format::Csv => csv(body)?,
+            Format::Table => table(body),
+        };
+        emit(self, &text)
+    }
+}
+
+impl PlotArgs {
+    /// Draw the chart `make` builds to `--plot FILE` at the default size;
+    /// nothing (and no chart built) without `--plot`.
+    pub fn draw(&self, make: impl FnOnce() -> Result<tauwise::plot::Chart>) -> Result<()> {
+        match &self.plot {
+            Some(path) => tauwise::plot::render(&make()?, path, tauwise::plot::DEFAULT_SIZE),
+            None => Ok(()),
+        }
+    }
+}
+
 /// Write `text` to standard output, or atomically to the `-o` file
 /// (`-o -` is standard output too).
 pub fn emit(out: &OutputArgs, text: &str) -> Result<()> {
@@ -290,33 +328,9 @@ impl Progress {
         Progress(bar)
     }
 
-    /// A determinate bar of `len` steps (for work counted in steps).
-    pub fn steps(command: &str, len: u64) -> Self {
-        use std::io::IsTerminal;
-        let bar = std::io::stderr().is_terminal().then(|| {
-            let b = indicatif::ProgressBar::new(len);
-            b.set_style(
-                indicatif::ProgressStyle::with_template("{prefix} [{bar:30}] {pos}/{len} {msg}")
-                    .unwrap_or_else(|_| indicatif::ProgressStyle::default_bar())
-                    .progress_chars("=> "),
-            );
-            b.set_prefix(command.to_string());
-            b
-        });
-        Progress(bar)
-    }
-
     /// Name the stage now running.
     pub fn stage(&self, what: impl Into<String>) {
         if let Some(b) = &self.0 {
-            b.set_message(what.into());
-        }
-    }
-
-    /// Move a step bar to `done` steps with the stage's name.
-    pub fn at(&self, done: u64, what: impl Into<String>) {
-        if let Some(b) = &self.0 {
-            b.set_position(done);
             b.set_message(what.into());
         }
     }
@@ -326,6 +340,56 @@ impl Drop for Progress {
     fn drop(&mut self) {
         if let Some(b) = &self.0 {
             b.finish_and_clear();
+        }
+    }
+}
+
+/// Determinate progress bars on standard error, one per named job of
+/// counted steps (a report's devices), shown only when stderr is a terminal
+/// and cleared at the end.
+pub struct StepBars(Option<(indicatif::MultiProgress, Vec<indicatif::ProgressBar>)>);
+
+impl StepBars {
+    /// One bar for each `(name, steps)`.
+    pub fn new(jobs: &[(&str, u64)]) -> Self {
+        use std::io::IsTerminal;
+        if !std::io::stderr().is_terminal() {
+            return Self(None);
+        }
+        let multi = indicatif::MultiProgress::new();
+        let width = jobs.iter().map(|j| j.0.chars().count()).max().unwrap_or(0);
+        let style =
+            indicatif::ProgressStyle::with_template("{prefix} [{bar:30}] {pos}/{len} {msg}")
+                .unwrap_or_else(|_| indicatif::ProgressStyle::default_bar())
+                .progress_chars("=> ");
+        let bars = jobs
+            .iter()
+            .map(|(name, len)| {
+                let b = multi.add(indicatif::ProgressBar::new(*len));
+                b.set_style(style.clone());
+                b.set_prefix(format!("{name:width$}"));
+                b
+            })
+            .collect();
+        Self(Some((multi, bars)))
+    }
+
+    /// Move bar `i` to `done` steps with the stage's name.
+    pub fn at(&self, i: usize, done: usize, what: &str) {
+        if let Some(b) = self.0.as_ref().and_then(|(_, bars)| bars.get(i)) {
+            b.set_position(done as u64);
+            b.set_message(what.to_string());
+        }
+    }
+}
+
+impl Drop for StepBars {
+    fn drop(&mut self) {
+        if let Some((multi, bars)) = &self.0 {
+            for b in bars {
+                b.finish_and_clear();
+            }
+            let _ = multi.clear();
         }
     }
 }

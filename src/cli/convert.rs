@@ -1,7 +1,7 @@
 //! `tauwise convert`: between phase-noise tables, power-law models and σ(τ)
 //! ([`tauwise::spectrum::sigma`], IEEE Std 1139).
 
-use super::common::{emit, json_doc, Format, OutputArgs, PlotArgs, TauArgs};
+use super::common::{OutputArgs, PlotArgs, TauArgs};
 use super::Outcome;
 use clap::{Args as ClapArgs, ValueEnum};
 use std::path::PathBuf;
@@ -101,7 +101,7 @@ fn dev_help() -> String {
 }
 
 /// The source of a conversion: a table or a model, as a spectrum.
-fn source(args: &Args, carrier: Option<f64>, tau_hint: Option<f64>) -> Result<Source> {
+fn source(args: &Args, carrier: Option<f64>) -> Result<Source> {
     let fh_opt = args.fh.map(Frequency::hertz);
     if let Some(path) = &args.lf {
         let t = read_lf_table(
@@ -129,26 +129,8 @@ fn source(args: &Args, carrier: Option<f64>, tau_hint: Option<f64>) -> Result<So
             "give a phase-noise table (--lf), a model (--model) or a stability result (--sigma)",
         )),
     };
-    let f_h =
-        match (fh_opt, parsed.f_h.is_nan()) {
-            (Some(f), _) => f,
-            (None, false) => parsed.f_h,
-            (None, true) => return Err(Error::option(
-                "--model",
-                "the model needs its high-frequency cut-off: add fh=… to the model or give --fh",
-            )),
-        };
-    let max_tau = args
-        .max_tau
-        .map(Duration::seconds)
-        .or(tau_hint)
-        .unwrap_or(1e5);
-    Source::model(
-        PowerLaw { f_h, ..parsed },
-        carrier,
-        max_tau,
-        args.sigma.as_deref(),
-    )
+    let max_tau = args.max_tau.map(Duration::seconds);
+    Source::of_model(parsed, fh_opt, carrier, max_tau, args.sigma.as_deref())
 }
 
 /// Run `convert`.
@@ -159,10 +141,7 @@ pub fn run(args: Args) -> Result<Outcome> {
         .chain(args.sigma.iter())
         .map(|p| p.as_path())
         .collect();
-    super::common::check_output_paths(
-        &inputs,
-        &[args.output.output.as_deref(), args.plot.plot.as_deref()],
-    )?;
+    args.output.check(&inputs, &args.plot)?;
     let carrier = args.carrier.map(Frequency::hertz);
     let needs_carrier = args.lf.is_some() && args.quantity.is_some_and(|q| q != TableQuantity::Sy)
         || args.to == Target::Lf;
@@ -178,17 +157,16 @@ pub fn run(args: Args) -> Result<Outcome> {
             "the chart of --to model shows L(f), which needs the carrier frequency: give --carrier (e.g. --carrier 10MHz)",
         ));
     }
-    let src = source(&args, carrier, args.max_tau.map(Duration::seconds))?;
-    let text = match args.to {
+    let src = source(&args, carrier)?;
+    match args.to {
         Target::Sigma => to_sigma(&args, src, carrier)?,
         Target::Lf => to_lf(&args, src, carrier)?,
         Target::Model => to_model(&args, src, carrier)?,
-    };
-    emit(&args.output, &text)?;
+    }
     Ok(Outcome::Done)
 }
 
-fn to_sigma(args: &Args, src: Source, carrier: Option<f64>) -> Result<String> {
+fn to_sigma(args: &Args, src: Source, carrier: Option<f64>) -> Result<()> {
     let estimators = args.dev.0.clone();
     for e in &estimators {
         spectral(*e)?;
@@ -216,18 +194,17 @@ fn to_sigma(args: &Args, src: Source, carrier: Option<f64>) -> Result<String> {
         method: SIGMA_METHOD,
         curves,
     };
-    if let Some(path) = &args.plot.plot {
-        let chart = charts::sigma_chart(&body, &src.label, args.sigma.is_some());
-        tauwise::plot::render(&chart, path, tauwise::plot::DEFAULT_SIZE)?;
-    }
-    Ok(match args.output.format() {
-        Format::Json => json_doc(src.input, body)?,
-        Format::Csv => body.csv()?,
-        Format::Table => body.table(&src.label).render(),
-    })
+    args.plot
+        .draw(|| Ok(charts::sigma_chart(&body, &src.label, args.sigma.is_some())))?;
+    (args.output).write(
+        src.input,
+        &body,
+        |b| b.csv(),
+        |b| b.table(&src.label).render(),
+    )
 }
 
-fn to_lf(args: &Args, src: Source, carrier: Option<f64>) -> Result<String> {
+fn to_lf(args: &Args, src: Source, carrier: Option<f64>) -> Result<()> {
     let from = args.from.hertz();
     let to = args.to_offset.map(Frequency::hertz).unwrap_or(src.f_h);
     let model = match (&args.model, &args.sigma) {
@@ -248,32 +225,26 @@ fn to_lf(args: &Args, src: Source, carrier: Option<f64>) -> Result<String> {
         }
         None => src.spectrum.to(Quantity::Lf)?,
     };
-    if let Some(path) = &args.plot.plot {
-        let chart = charts::lf_chart(&src.label, carrier, &spec, from_model, args.sigma.is_some())?;
-        tauwise::plot::render(&chart, path, tauwise::plot::DEFAULT_SIZE)?;
-    }
+    let from_sigma = args.sigma.is_some();
+    args.plot
+        .draw(|| charts::lf_chart(&src.label, carrier, &spec, from_model, from_sigma))?;
     let body = LfBody {
         carrier,
         points: SpectrumRows::new(&spec)?,
     };
-    Ok(match args.output.format() {
-        Format::Json => json_doc(src.input, body)?,
-        Format::Csv => body.points.csv()?,
-        Format::Table => body.text(&src.label),
-    })
+    (args.output).write(src.input, &body, |b| b.points.csv(), |b| b.text(&src.label))
 }
 
 /// `--to model`: fit S_y = Σ h_α f^α to the table's points up to f_h
 /// ([`FittedModel::of_spectrum`]), f_h the table's highest offset unless --fh.
-fn to_model(args: &Args, src: Source, carrier: Option<f64>) -> Result<String> {
+fn to_model(args: &Args, src: Source, carrier: Option<f64>) -> Result<()> {
     let (body, range) = FittedModel::of_spectrum(&src.spectrum, carrier, src.f_h)?;
-    if let Some(path) = &args.plot.plot {
-        let chart = charts::model_chart(&src.label, &src.spectrum, &body, range)?;
-        tauwise::plot::render(&chart, path, tauwise::plot::DEFAULT_SIZE)?;
-    }
-    Ok(match args.output.format() {
-        Format::Json => json_doc(src.input, body)?,
-        Format::Csv => body.csv()?,
-        Format::Table => body.table(&src.label).render(),
-    })
+    args.plot
+        .draw(|| charts::model_chart(&src.label, &src.spectrum, &body, range))?;
+    (args.output).write(
+        src.input,
+        &body,
+        |b| b.csv(),
+        |b| b.table(&src.label).render(),
+    )
 }

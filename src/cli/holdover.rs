@@ -1,9 +1,9 @@
 //! `tauwise holdover FILE`: time error predicted through a holdover span from
 //! the record, against a budget.
 
-use super::common::{count, emit, json_doc, Format, InputArgs, OutputArgs, PlotArgs};
+use super::common::{count, InputArgs, OutputArgs, PlotArgs};
 use super::Outcome;
-use clap::{Args as ClapArgs, ValueEnum};
+use clap::Args as ClapArgs;
 use std::path::PathBuf;
 use tauwise::holdover::aging::AgingModel;
 use tauwise::holdover::observed::observe;
@@ -11,17 +11,9 @@ use tauwise::holdover::{caution, model_from_record, predict, FromRecord, Setting
 use tauwise::parse::{
     non_negative_fraction, temp_coeff, temp_swing, Duration, Fraction, Model, Rate,
 };
+use tauwise::plot::holdover::HoldoverPlot;
 use tauwise::results::HoldoverBody;
 use tauwise::{Error, Result};
-
-/// The aging law to fit (`--aging-model`).
-#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
-pub enum AgingArg {
-    /// y = c + D·t.
-    Linear,
-    /// y = c + A·ln(1 + t/t_c).
-    Log,
-}
 
 /// Time error through a holdover span, against a budget.
 #[derive(Debug, ClapArgs)]
@@ -79,9 +71,10 @@ pub struct Args {
     /// Given linear aging with its unit (e.g. 5e-11/day) instead of a fit.
     #[arg(long, value_name = "RATE", allow_hyphen_values = true, value_parser = str::parse::<Rate>)]
     pub aging: Option<Rate>,
-    /// The aging law to fit on the record.
-    #[arg(long, value_enum, default_value_t = AgingArg::Linear)]
-    pub aging_model: AgingArg,
+    /// The aging law to fit on the record: linear (y = c + D·t) or log
+    /// (y = c + A·ln(1 + t/t_c)).
+    #[arg(long, value_name = "LAW", default_value = "linear", value_parser = str::parse::<AgingModel>)]
+    pub aging_model: AgingModel,
     /// Temperature coefficient of frequency, e.g. 1e-11/K (with --temp-swing).
     #[arg(long, value_name = "C", allow_hyphen_values = true, value_parser = temp_coeff, requires = "temp_swing")]
     pub temp_coeff: Option<f64>,
@@ -103,10 +96,7 @@ pub struct Args {
 
 /// Run `holdover`.
 pub fn run(args: Args) -> Result<Outcome> {
-    super::common::check_output_paths(
-        &[&args.file],
-        &[args.output.output.as_deref(), args.plot.plot.as_deref()],
-    )?;
+    args.output.check(&[&args.file], &args.plot)?;
     let span = args.span.seconds();
     let budget = args.budget.seconds();
     let te0 = args.te0.seconds();
@@ -125,10 +115,7 @@ pub fn run(args: Args) -> Result<Outcome> {
         te0,
         settle: args.settle.map(Duration::seconds),
         start: args.start.map(Duration::seconds),
-        aging_model: match args.aging_model {
-            AgingArg::Linear => AgingModel::Linear,
-            AgingArg::Log => AgingModel::Log,
-        },
+        aging_model: args.aging_model,
         aging_given: args.aging.map(Rate::per_second),
         temp_worst,
         noise,
@@ -155,19 +142,11 @@ pub fn run(args: Args) -> Result<Outcome> {
     let observed = opts
         .start
         .and_then(|_| observe(&series.record, &model, &pred, span, budget));
-    if let Some(path) = &args.plot.plot {
-        let mut plot = tauwise::plot::holdover::HoldoverPlot::from_prediction(
-            &series.info.path.display().to_string(),
-            &pred,
-            settings.span,
-            settings.budget,
-            vec![caution()],
-        );
-        if let Some(o) = &observed {
-            plot = plot.with_observed(o);
-        }
-        tauwise::plot::render(&plot.chart(), path, tauwise::plot::DEFAULT_SIZE)?;
-    }
+    let path = series.info.path.display().to_string();
+    args.plot.draw(|| {
+        let plot = HoldoverPlot::from_prediction(&path, &pred, span, budget, vec![caution()]);
+        Ok(plot.with_observed(observed.as_ref()).chart())
+    })?;
     let body = HoldoverBody::new(
         &settings,
         &model,
@@ -175,17 +154,12 @@ pub fn run(args: Args) -> Result<Outcome> {
         args.aging.is_some(),
         observed.as_ref(),
     );
-    let text = match args.output.format() {
-        Format::Json => json_doc((&series).into(), body)?,
-        Format::Csv => body.csv()?,
-        Format::Table => body
-            .table(
-                &series.info.path.display().to_string(),
-                opts.start.is_some(),
-            )
-            .render(),
-    };
-    emit(&args.output, &text)?;
+    args.output.write(
+        (&series).into(),
+        &body,
+        |b| b.csv(),
+        |b| b.table(&path, opts.start.is_some()).render(),
+    )?;
     Ok(Outcome::of_gate(
         tauwise::verdict::gate([&pred.judgement]),
         args.fail_on_violation,

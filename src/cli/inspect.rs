@@ -3,7 +3,7 @@
 //! it came from, notes, warnings, suggested options), size, span, τ0, gaps,
 //! mean frequency offset, linear drift, frequency outliers.
 
-use super::common::{emit, json_doc, Format, InputArgs, OutputArgs};
+use super::common::{InputArgs, OutputArgs};
 use super::Outcome;
 use clap::Args as ClapArgs;
 use std::path::PathBuf;
@@ -34,11 +34,7 @@ pub fn run(args: Args) -> Result<Outcome> {
     let summary = summarize(&series.record, args.outlier_limit)?;
     let hints = suggestions(&series);
     let body = InspectBody::new(&series, &summary, &hints);
-    let text = match args.output.format() {
-        Format::Json => json_doc((&series).into(), body)?,
-        Format::Csv => body.csv()?,
-        Format::Table => body.table().render(),
-    };
-    emit(&args.output, &text)?;
+    args.output
+        .write((&series).into(), &body, |b| b.csv(), |b| b.table().render())?;
     Ok(Outcome::Done)
 }

@@ -2,7 +2,7 @@
 //! phase-noise table or (with `--record`) from the PSD of a time record
 //! ([`tauwise::spectrum::jitter`]).
 
-use super::common::{emit, json_doc, Format, InputArgs, OutputArgs, PlotArgs};
+use super::common::{InputArgs, OutputArgs, PlotArgs};
 use super::Outcome;
 use clap::Args as ClapArgs;
 use std::path::{Path, PathBuf};
@@ -10,13 +10,12 @@ use tauwise::io::filter_set::assemble_weightings;
 use tauwise::io::lf_table::{read_lf_table, read_spurs, LfTable, TableOptions, TableQuantity};
 use tauwise::parse::{Filter, Frequency};
 use tauwise::plot::phase_noise::{jitter_chart, TraceKind};
-use tauwise::results::{Input, JitterBand, JitterBody, TableInput, SPUR_CONVENTION};
+use tauwise::results::{JitterBand, JitterBody, JitterTrace, SPUR_CONVENTION};
 use tauwise::spectrum::jitter::{
     judge_bands, record_period_jitter, Band, BandJitter, JitterLimit, JitterSetup, PeriodRequest,
 };
 use tauwise::spectrum::spurs::{prepare_trace, SpurRule};
-use tauwise::spectrum::welch::{welch_record, WelchOptions, Window};
-use tauwise::spectrum::Spectrum;
+use tauwise::spectrum::welch::{WelchOptions, Window};
 use tauwise::verdict::gate;
 use tauwise::{Error, Result, DECISION_CAUTION};
 
@@ -175,10 +174,7 @@ pub fn run(args: Args) -> Result<Outcome> {
         .chain(args.spurs.iter())
         .map(|p| p.as_path())
         .collect();
-    super::common::check_output_paths(
-        &inputs,
-        &[args.output.output.as_deref(), args.plot.plot.as_deref()],
-    )?;
+    args.output.check(&inputs, &args.plot)?;
     let carrier = args.input.carrier.map(Frequency::hertz).ok_or_else(|| {
         Error::option(
             "--carrier",
@@ -217,32 +213,19 @@ pub fn run(args: Args) -> Result<Outcome> {
     }
     let spur_file = args.spurs.is_some();
     let ui_rate = args.ui_rate.map(Frequency::hertz);
-    // The trace to plot: the table itself, or the record's spectrum
-    // averaged into 10 log-spaced bins per decade (readable, same level).
-    let mut plot_trace: Option<(Spectrum, TraceKind)> = None;
-    let mut record_spectrum: Option<(&'static str, f64, String)> = None;
-    let (input, spectrum, source): (Input, Spectrum, String) = match (&args.table, &args.record) {
+    let trace = match (&args.table, &args.record) {
         (Some(path), _) => {
             let t = load_table(path, args.quantity, &args.input, Some(carrier))?;
-            if args.plot.plot.is_some() {
-                plot_trace = Some((t.spectrum.clone(), TraceKind::Table));
+            if !t.spurs.is_empty() && spur_file {
+                eprintln!(
+                    "tauwise: note: {}: the {} spur(s) listed after the table are not used: --spurs gives the spur list",
+                    t.path,
+                    t.spurs.len()
+                );
+            } else if !t.spurs.is_empty() {
+                setup.spurs = t.spurs.clone();
             }
-            if !t.spurs.is_empty() {
-                if spur_file {
-                    eprintln!(
-                        "tauwise: note: {}: the {} spur(s) listed after the table are not used: --spurs gives the spur list",
-                        t.path,
-                        t.spurs.len()
-                    );
-                } else {
-                    setup.spurs = t.spurs.clone();
-                }
-            }
-            (
-                Input::Table(TableInput::of(&t)),
-                t.spectrum.clone(),
-                format!("table {}", path.display()),
-            )
+            JitterTrace::of_table(&t, path)
         }
         (None, Some(path)) => {
             let series = args.input.load(path)?;
@@ -250,26 +233,16 @@ pub fn run(args: Args) -> Result<Outcome> {
                 let x = series.record.to_phase();
                 record_period = Some(record_period_jitter(&x.x, x.tau0, carrier, args.periods)?);
             }
-            let w = welch_record(
-                &series.record,
-                &WelchOptions {
-                    window: args.window,
-                    segment: args.segment,
-                    overlap: 0.5,
-                },
-            )?;
-            for warning in &w.warnings {
+            let welch = WelchOptions {
+                window: args.window,
+                segment: args.segment,
+                overlap: 0.5,
+            };
+            let (trace, warnings) = JitterTrace::of_record(&series, carrier, &welch)?;
+            for warning in &warnings {
                 eprintln!("tauwise: warning: {warning}");
             }
-            if args.plot.plot.is_some() {
-                plot_trace = Some((w.log_binned(10, Some(carrier))?, TraceKind::RecordSpectrum));
-            }
-            record_spectrum = Some((w.window.name(), w.enbw_hz, w.gap_note()));
-            (
-                (&series).into(),
-                w.spectrum(Some(carrier))?,
-                format!("Welch spectrum of {}", path.display()),
-            )
+            trace
         }
         (None, None) => {
             return Err(Error::option(
@@ -285,7 +258,7 @@ pub fn run(args: Args) -> Result<Outcome> {
             .unwrap_or(SpurRule::default().threshold_db),
         ..SpurRule::default()
     });
-    let prepared = prepare_trace(&spectrum, &setup.spurs, rule.as_ref())?;
+    let prepared = prepare_trace(&trace.spectrum, &setup.spurs, rule.as_ref())?;
     let spectrum = prepared.spectrum;
     setup.spurs = prepared.spurs;
     let found_spurs = prepared.found;
@@ -293,16 +266,26 @@ pub fn run(args: Args) -> Result<Outcome> {
         judge_bands(&spectrum, &bands, &setup, ui_rate, &limits)?
             .into_iter()
             .unzip();
-    if let (Some(path), Some((trace, kind))) = (&args.plot.plot, &plot_trace) {
-        let drawn: Vec<(&str, &BandJitter)> = args
-            .bands
-            .iter()
-            .zip(&outcomes)
-            .filter_map(|((name, _), r)| r.as_ref().ok().map(|r| (name.as_str(), r)))
-            .collect();
-        let chart = jitter_chart(&source, carrier, trace, *kind, &drawn, &found_spurs)?;
-        tauwise::plot::render(&chart, path, tauwise::plot::DEFAULT_SIZE)?;
-    }
+    let drawn: Vec<(&str, &BandJitter)> = args
+        .bands
+        .iter()
+        .zip(&outcomes)
+        .filter_map(|((name, _), r)| r.as_ref().ok().map(|r| (name.as_str(), r)))
+        .collect();
+    let kind = match trace.welch {
+        None => TraceKind::Table,
+        Some(_) => TraceKind::RecordSpectrum,
+    };
+    args.plot.draw(|| {
+        jitter_chart(
+            &trace.source,
+            carrier,
+            &trace.drawn,
+            kind,
+            &drawn,
+            &found_spurs,
+        )
+    })?;
     let body = JitterBody {
         carrier,
         ui_rate,
@@ -315,20 +298,20 @@ pub fn run(args: Args) -> Result<Outcome> {
             .map(|(i, ((o, b), j))| JitterBand::new(b, o, limit_of(&limits, i), j.as_ref()))
             .collect(),
         caution: DECISION_CAUTION,
-        window: record_spectrum.as_ref().map(|r| r.0),
-        enbw_hz: record_spectrum.as_ref().map(|r| r.1),
-        gaps_handling: record_spectrum.map(|r| r.2),
+        window: trace.welch.as_ref().map(|r| r.0),
+        enbw_hz: trace.welch.as_ref().map(|r| r.1),
+        gaps_handling: trace.welch.as_ref().map(|r| r.2.clone()),
         filter_set: filter_set_name,
         spur_rule: rule.map(|r| r.describe()),
         found_spurs,
         record_period,
     };
-    let text = match args.output.format() {
-        Format::Json => json_doc(input, body)?,
-        Format::Csv => body.csv()?,
-        Format::Table => body.table(&source).render(),
-    };
-    emit(&args.output, &text)?;
+    args.output.write(
+        trace.input,
+        &body,
+        |b| b.csv(),
+        |b| b.table(&trace.source).render(),
+    )?;
     Ok(Outcome::of_gate(
         gate(judgements.iter().flatten()),
         args.fail_on_violation,

@@ -3,11 +3,12 @@
 //! and the report use: a power law, or `drift`) and the power-law model
 //! fitted to the record.
 
-use super::common::{emit, json_doc, Format, InputArgs, OutputArgs, PlotArgs, TauArgs};
+use super::common::{InputArgs, OutputArgs, PlotArgs, TauArgs};
 use super::Outcome;
 use clap::Args as ClapArgs;
 use std::path::PathBuf;
 use tauwise::deviation::Estimator;
+use tauwise::plot::stability::record_model_chart;
 use tauwise::results::{ModelSummary, NoiseBody};
 use tauwise::stability::fit_record_model;
 use tauwise::stats::noise_id::{NoiseIdentifier, NoiseRow};
@@ -37,10 +38,7 @@ pub struct Args {
 
 /// Run `noise`.
 pub fn run(args: Args) -> Result<Outcome> {
-    super::common::check_output_paths(
-        &[&args.file],
-        &[args.output.output.as_deref(), args.plot.plot.as_deref()],
-    )?;
+    args.output.check(&[&args.file], &args.plot)?;
     let grid = &args.taus.taus;
     let progress = super::common::Progress::start("noise");
     progress.stage(format!("reading {}", args.file.display()));
@@ -56,38 +54,19 @@ pub fn run(args: Args) -> Result<Outcome> {
     let drift_per_day = ids.drift_rate().map(|d| d * 86_400.0);
     progress.stage("fitting the power-law model");
     let model = fit_record_model(&x, grid)?;
-    if let Some(path) = &args.plot.plot {
-        use tauwise::plot::stability::{
-            model_curves, regions_from_curve, SigmaCurve, StabilityPlot,
-        };
-        let mut curves: Vec<SigmaCurve> = model.curves.iter().map(SigmaCurve::from_curve).collect();
-        curves.extend(model_curves(&model, x.tau0));
-        let plot = StabilityPlot {
-            title: series.info.path.display().to_string(),
-            curves,
-            regions: model
-                .curves
-                .first()
-                .map(regions_from_curve)
-                .unwrap_or_default(),
-            confidence: Some(tauwise::stats::DEFAULT_CONFIDENCE),
-            notes: vec![format!(
-                "Dashed: the power-law model fitted to OADEV and MDEV (EDF-weighted): {}",
-                model.fit.model.to_model_string()
-            )],
-        };
-        tauwise::plot::render(&plot.chart(), path, tauwise::plot::DEFAULT_SIZE)?;
-    }
+    let path = series.info.path.display().to_string();
+    args.plot
+        .draw(|| Ok(record_model_chart(&path, &model, x.tau0)))?;
     let body = NoiseBody {
         points: rows,
         drift_per_day,
         model: ModelSummary::of(&model.fit),
     };
-    let text = match args.output.format() {
-        Format::Json => json_doc((&series).into(), &body)?,
-        Format::Csv => body.csv()?,
-        Format::Table => body.table(&series.info.path.display().to_string()).render(),
-    };
-    emit(&args.output, &text)?;
+    args.output.write(
+        (&series).into(),
+        &body,
+        |b| b.csv(),
+        |b| b.table(&path).render(),
+    )?;
     Ok(Outcome::Done)
 }

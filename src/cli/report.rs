@@ -5,7 +5,7 @@
 //! (`tauwise::report::fleet`); `--format json` prints the verdict matrix
 //! (`tauwise::results::FleetDocument`) for any number of DUT files.
 
-use super::common::{emit_to, ConfidenceArgs, InputArgs};
+use super::common::{emit_to, ConfidenceArgs, InputArgs, StepBars};
 use super::Outcome;
 use clap::Args as ClapArgs;
 use std::path::PathBuf;
@@ -103,7 +103,11 @@ pub fn run(a: Args) -> Result<Outcome> {
         return single(&a, &duts[0], &opts, size);
     }
     let fleet = {
-        let bars = DeviceBars::new(&duts);
+        let jobs: Vec<(&str, u64)> = duts
+            .iter()
+            .map(|d| (d.name.as_str(), tauwise::report::build::steps(d) as u64))
+            .collect();
+        let bars = StepBars::new(&jobs);
         let r =
             tauwise::report::fleet::build(&duts, &opts, &|i, done, _, what| bars.at(i, done, what));
         drop(bars);
@@ -140,71 +144,12 @@ pub fn run(a: Args) -> Result<Outcome> {
     Ok(Outcome::of_gate(gate, a.fail_on_violation))
 }
 
-/// One progress bar per device on a terminal (nothing otherwise).
-struct DeviceBars(Option<(indicatif::MultiProgress, Vec<indicatif::ProgressBar>)>);
-
-impl DeviceBars {
-    fn new(duts: &[Dut]) -> Self {
-        use std::io::IsTerminal;
-        if !std::io::stderr().is_terminal() {
-            return Self(None);
-        }
-        let multi = indicatif::MultiProgress::new();
-        let width = duts
-            .iter()
-            .map(|d| d.name.chars().count())
-            .max()
-            .unwrap_or(0);
-        let bars = duts
-            .iter()
-            .map(|d| {
-                let b = multi.add(indicatif::ProgressBar::new(
-                    tauwise::report::build::steps(d) as u64,
-                ));
-                b.set_style(
-                    indicatif::ProgressStyle::with_template(
-                        "{prefix} [{bar:30}] {pos}/{len} {msg}",
-                    )
-                    .unwrap_or_else(|_| indicatif::ProgressStyle::default_bar())
-                    .progress_chars("=> "),
-                );
-                b.set_prefix(format!("{:width$}", d.name));
-                b
-            })
-            .collect();
-        Self(Some((multi, bars)))
-    }
-
-    fn at(&self, i: usize, done: usize, what: &str) {
-        if let Some((_, bars)) = &self.0 {
-            if let Some(b) = bars.get(i) {
-                b.set_position(done as u64);
-                b.set_message(what.to_string());
-            }
-        }
-    }
-}
-
-impl Drop for DeviceBars {
-    fn drop(&mut self) {
-        if let Some((multi, bars)) = &self.0 {
-            for b in bars {
-                b.finish_and_clear();
-            }
-            let _ = multi.clear();
-        }
-    }
-}
-
 /// The single-device HTML report.
 fn single(a: &Args, dut: &Dut, opts: &BuildOptions, size: (u32, u32)) -> Result<Outcome> {
     let report = {
         // A progress bar on stderr when it is a terminal, nothing otherwise.
-        let bar =
-            super::common::Progress::steps("report", tauwise::report::build::steps(dut) as u64);
-        let r = from_dut_with_progress(dut, opts, &mut |done, _, what| {
-            bar.at(done as u64, what.to_string());
-        });
+        let bar = StepBars::new(&[("report", tauwise::report::build::steps(dut) as u64)]);
+        let r = from_dut_with_progress(dut, opts, &mut |done, _, what| bar.at(0, done, what));
         drop(bar);
         r?
     };

@@ -2,9 +2,7 @@
 //! records of pairs measured against each other (N-cornered hat), as a
 //! table, CSV or JSON (docs/json.md), with an optional chart.
 
-use super::common::{
-    emit, json_doc, ConfidenceArgs, Format, InputArgs, OutputArgs, PlotArgs, TauArgs,
-};
+use super::common::{ConfidenceArgs, InputArgs, OutputArgs, PlotArgs, TauArgs};
 use super::Outcome;
 use clap::{Args as ClapArgs, ValueEnum};
 use std::path::Path;
@@ -78,10 +76,7 @@ pub struct Args {
 /// Run `separate`.
 pub fn run(args: Args) -> Result<Outcome> {
     let inputs: Vec<&Path> = args.pairs.iter().map(|p| p.path.as_path()).collect();
-    super::common::check_output_paths(
-        &inputs,
-        &[args.output.output.as_deref(), args.plot.plot.as_deref()],
-    )?;
+    args.output.check(&inputs, &args.plot)?;
     if args.pairs.len() < 3 {
         return Err(tauwise::Error::option(
             "--pair",
@@ -119,26 +114,19 @@ pub fn run(args: Args) -> Result<Outcome> {
         simultaneous: args.sessions == SessionsArg::Simultaneous,
     };
     let sep = separate(&records, &request)?;
-    if let Some(path) = &args.plot.plot {
-        let title = format!("{} clocks from {} pairs", sep.clocks.len(), sep.pairs.len());
-        tauwise::plot::render(
-            &tauwise::plot::separate::chart(&sep, &title),
-            path,
-            tauwise::plot::DEFAULT_SIZE,
-        )?;
-    }
+    let title = format!("{} clocks from {} pairs", sep.clocks.len(), sep.pairs.len());
+    args.plot
+        .draw(|| Ok(tauwise::plot::separate::chart(&sep, &title)))?;
+    let input = Input::Pairs(PairInputs {
+        data: "pairs",
+        records: read,
+    });
     let body = SeparateBody::new(&sep, request.confidence);
-    let text = match args.output.format() {
-        Format::Json => json_doc(
-            Input::Pairs(PairInputs {
-                data: "pairs",
-                records: read,
-            }),
-            body,
-        )?,
-        Format::Csv => body.csv()?,
-        Format::Table => tauwise::results::separate_text(&sep, request.confidence),
-    };
-    emit(&args.output, &text)?;
+    args.output.write(
+        input,
+        &body,
+        |b| b.csv(),
+        |_| tauwise::results::separate_text(&sep, request.confidence),
+    )?;
     Ok(Outcome::Done)
 }

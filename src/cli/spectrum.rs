@@ -1,15 +1,14 @@
 //! `tauwise spectrum FILE`: the PSD of a time record by Welch's method, as
 //! L(f), S_φ, S_y and S_x ([`tauwise::spectrum::welch`]).
 
-use super::common::{emit, json_doc, Format, InputArgs, OutputArgs, PlotArgs};
+use super::common::{InputArgs, OutputArgs, PlotArgs};
 use super::Outcome;
 use clap::Args as ClapArgs;
 use std::path::PathBuf;
-use tauwise::plot::phase_noise::{LfTrace, PhaseNoisePlot, TraceKind};
+use tauwise::plot::phase_noise::record_spectrum_chart;
 use tauwise::results::{SpectrumBody, SpectrumRows};
 use tauwise::spectrum::welch::{welch_record, WelchOptions, Window};
 use tauwise::spectrum::Quantity;
-use tauwise::units::format_si;
 use tauwise::{Error, Result};
 
 /// PSD of a phase or frequency record (Welch's method).
@@ -52,10 +51,7 @@ pub struct Args {
 
 /// Run `spectrum`.
 pub fn run(args: Args) -> Result<Outcome> {
-    super::common::check_output_paths(
-        &[&args.file],
-        &[args.output.output.as_deref(), args.plot.plot.as_deref()],
-    )?;
+    args.output.check(&[&args.file], &args.plot)?;
     let quantity = args.quantity;
     let carrier = args.input.carrier.map(tauwise::parse::Frequency::hertz);
     if carrier.is_none() && matches!(quantity, Quantity::Lf | Quantity::Sphi) {
@@ -91,51 +87,21 @@ pub fn run(args: Args) -> Result<Outcome> {
         w.log_binned(args.per_decade, carrier)?
     };
     let rows = SpectrumRows::new(&spec)?;
-    if let Some(path) = &args.plot.plot {
-        let name = series.info.path.display().to_string();
-        let plot = PhaseNoisePlot {
-            title: name.clone(),
-            carrier,
-            traces: vec![LfTrace::from_spectrum(
-                &format!("spectrum of {name}"),
-                TraceKind::RecordSpectrum,
-                &spec,
-            )?],
-            bands: Vec::new(),
-            notes: vec![format!(
-                "Welch's method: {} window, {:.0} % overlap, ENBW {}, {}; {}.",
-                w.window.name(),
-                w.overlap * 100.0,
-                format_si(w.enbw_hz, "Hz", 4),
-                if args.all_bins {
-                    "every DFT bin".to_string()
-                } else {
-                    format!(
-                        "averaged into {} log-spaced bins per decade",
-                        args.per_decade
-                    )
-                },
-                w.gap_note()
-            )],
-        };
-        tauwise::plot::render(&plot.chart(), path, tauwise::plot::DEFAULT_SIZE)?;
-    }
-    let bins = if args.all_bins {
-        "all".to_string()
-    } else {
-        format!("log, {} per decade", args.per_decade)
+    let per_decade = (!args.all_bins).then_some(args.per_decade);
+    let name = series.info.path.display().to_string();
+    args.plot
+        .draw(|| record_spectrum_chart(&name, carrier, &spec, &w, per_decade))?;
+    let bins = match per_decade {
+        None => "all".to_string(),
+        Some(n) => format!("log, {n} per decade"),
     };
     let body = SpectrumBody::new(&w, carrier, bins, rows);
-    let text = match args.output.format() {
-        Format::Json => json_doc((&series).into(), body)?,
-        Format::Csv => body.points.csv()?,
-        Format::Table => body
-            .table(
-                &series.info.path.display().to_string(),
-                w.source == tauwise::record::DataKind::Freq,
-            )
-            .render(),
-    };
-    emit(&args.output, &text)?;
+    let freq = w.source == tauwise::record::DataKind::Freq;
+    args.output.write(
+        (&series).into(),
+        &body,
+        |b| b.points.csv(),
+        |b| b.table(&name, freq).render(),
+    )?;
     Ok(Outcome::Done)
 }

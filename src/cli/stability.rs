@@ -1,9 +1,7 @@
 //! `tauwise stability FILE`: σ(τ) curves with confidence intervals and the
 //! noise type at each τ, as a table, CSV or JSON (docs/json.md).
 
-use super::common::{
-    emit, json_doc, ConfidenceArgs, Format, InputArgs, OutputArgs, PlotArgs, TauArgs,
-};
+use super::common::{ConfidenceArgs, InputArgs, OutputArgs, PlotArgs, TauArgs};
 use super::Outcome;
 use clap::Args as ClapArgs;
 use std::path::PathBuf;
@@ -155,12 +153,12 @@ pub fn run(args: Args) -> Result<Outcome> {
         curves: list,
         consistency: view.as_ref().map(|v| v.comparisons.clone()),
     };
-    let text = match args.output.format() {
-        Format::Json => json_doc((&series).into(), body)?,
-        Format::Csv => body.csv()?,
-        Format::Table => body.table(&RecordInput::of(&series)).render(),
-    };
-    emit(&args.output, &text)?;
+    args.output.write(
+        (&series).into(),
+        &body,
+        |b| b.csv(),
+        |b| b.table(&RecordInput::of(&series)).render(),
+    )?;
     Ok(Outcome::Done)
 }
 

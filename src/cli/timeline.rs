@@ -3,9 +3,7 @@
 //! depart from the whole record, as a table, CSV or JSON (docs/json.md),
 //! with an optional heat-map picture.
 
-use super::common::{
-    emit, json_doc, ConfidenceArgs, Format, InputArgs, OutputArgs, PlotArgs, TauArgs,
-};
+use super::common::{ConfidenceArgs, InputArgs, OutputArgs, PlotArgs, TauArgs};
 use super::Outcome;
 use clap::Args as ClapArgs;
 use std::path::PathBuf;
@@ -52,10 +50,7 @@ pub struct Args {
 
 /// Run `timeline`.
 pub fn run(args: Args) -> Result<Outcome> {
-    super::common::check_output_paths(
-        &[args.file.as_path()],
-        &[args.output.output.as_deref(), args.plot.plot.as_deref()],
-    )?;
+    args.output.check(&[args.file.as_path()], &args.plot)?;
     let mut series = args.input.load(&args.file)?;
     series.record = super::prepare::without_drift(series.record, args.remove_drift)?;
     let phase = series.record.to_phase();
@@ -80,11 +75,11 @@ pub fn run(args: Args) -> Result<Outcome> {
         tauwise::plot::timeline::render(&t, &series.info.path.display().to_string(), path)?;
     }
     let body = TimelineBody::new(&t, request.confidence, request.event_confidence);
-    let text = match args.output.format() {
-        Format::Json => json_doc((&series).into(), body)?,
-        Format::Csv => body.csv()?,
-        Format::Table => tauwise::results::timeline_text(&series.info.path, &t, &request),
-    };
-    emit(&args.output, &text)?;
+    args.output.write(
+        (&series).into(),
+        &body,
+        |b| b.csv(),
+        |_| tauwise::results::timeline_text(&series.info.path, &t, &request),
+    )?;
     Ok(Outcome::Done)
 }

@@ -1,7 +1,7 @@
 //! `tauwise wander FILE`: TIE statistics, MTIE and TDEV of a phase (TIE)
 //! record, checked against built-in or user masks.
 
-use super::common::{emit, json_doc, Format, InputArgs, OutputArgs, PlotArgs};
+use super::common::{InputArgs, OutputArgs, PlotArgs};
 use super::Outcome;
 use clap::Args as ClapArgs;
 use std::path::PathBuf;
@@ -10,9 +10,9 @@ use tauwise::results::{RecordInput, WanderBody};
 use tauwise::tau::TauGrid;
 use tauwise::units::UnitError;
 use tauwise::verdict::gate;
-use tauwise::wander::masks::{builtin, CONDITIONS_NOTE};
+use tauwise::wander::masks::builtin;
 use tauwise::wander::{analyse, mask_file::read_mask_file, Options};
-use tauwise::{Result, DECISION_CAUTION};
+use tauwise::Result;
 
 /// MTIE, TDEV and TIE statistics against wander masks.
 #[derive(Debug, ClapArgs)]
@@ -55,10 +55,7 @@ pub struct Args {
 
 /// Run `wander`.
 pub fn run(args: Args) -> Result<Outcome> {
-    super::common::check_output_paths(
-        &[&args.file],
-        &[args.output.output.as_deref(), args.plot.plot.as_deref()],
-    )?;
+    args.output.check(&[&args.file], &args.plot)?;
     // Masks first: a bad name or file fails before the record is read.
     let mut masks = Vec::new();
     for name in &args.masks {
@@ -78,36 +75,18 @@ pub fn run(args: Args) -> Result<Outcome> {
         remove_offset: args.remove_offset,
     };
     let res = analyse(&rec, &opts, &masks)?;
-    if let Some(path) = &args.plot.plot {
-        let plots = tauwise::plot::wander::plots_from_result(
-            &res,
-            &masks,
-            &series.info.path.display().to_string(),
-        );
-        let mut notes = Vec::new();
-        if let Some(y) = res.tie.offset_removed {
-            notes.push(format!(
-                "A constant frequency offset of {y:.4e} was removed first."
-            ));
-        }
-        if !masks.is_empty() {
-            notes.push(format!("{CONDITIONS_NOTE} {DECISION_CAUTION}"));
-        }
-        let chart = tauwise::plot::wander::combined_chart(&plots, &notes);
-        tauwise::plot::render(&chart, path, tauwise::plot::DEFAULT_SIZE)?;
-    }
-    let text = match args.output.format() {
-        Format::Json => json_doc((&series).into(), WanderBody::new(res.clone()))?,
-        Format::Csv => WanderBody::new(res.clone()).csv()?,
-        Format::Table => WanderBody::new(res.clone())
-            .table(&RecordInput::of(&series))
-            .render(),
-    };
-    emit(&args.output, &text)?;
-    Ok(Outcome::of_gate(
-        gate(res.checks.iter().map(|c| &c.judgement)),
-        args.fail_on_violation,
-    ))
+    let title = series.info.path.display().to_string();
+    args.plot
+        .draw(|| Ok(tauwise::plot::wander::wander_chart(&res, &masks, &title)))?;
+    let gate = gate(res.checks.iter().map(|c| &c.judgement));
+    let body = WanderBody::new(res);
+    args.output.write(
+        (&series).into(),
+        &body,
+        |b| b.csv(),
+        |b| b.table(&RecordInput::of(&series)).render(),
+    )?;
+    Ok(Outcome::of_gate(gate, args.fail_on_violation))
 }
 
 /// `--mask NAME`: a built-in mask (an unknown name is a bad command line).

@@ -47,6 +47,23 @@ impl AgingModel {
     }
 }
 
+impl std::str::FromStr for AgingModel {
+    type Err = crate::units::UnitError;
+
+    /// `linear` or `log` (any case).
+    fn from_str(text: &str) -> std::result::Result<Self, Self::Err> {
+        match text.trim().to_ascii_lowercase().as_str() {
+            "linear" => Ok(AgingModel::Linear),
+            "log" => Ok(AgingModel::Log),
+            _ => Err(crate::units::UnitError::Bad {
+                text: text.to_string(),
+                what: "aging law",
+                expected: "linear (y = c + D·t) or log (y = c + A·ln(1 + t/t_c))",
+            }),
+        }
+    }
+}
+
 /// A fitted or given aging law.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub enum Aging {

@@ -70,8 +70,11 @@ impl HoldoverPlot {
 
     /// Add the record after the start ([`crate::holdover::observed`]) as a
     /// line of observed |TE|.
-    pub fn with_observed(mut self, o: &crate::holdover::observed::Observed) -> Self {
-        self.observed = o.points.iter().map(|p| (p.t, p.te.abs())).collect();
+    /// (Nothing when `o` is `None`.)
+    pub fn with_observed(mut self, o: Option<&crate::holdover::observed::Observed>) -> Self {
+        if let Some(o) = o {
+            self.observed = o.points.iter().map(|p| (p.t, p.te.abs())).collect();
+        }
         self
     }
 

@@ -197,6 +197,40 @@ pub fn jitter_chart(
     Ok(chart)
 }
 
+/// The chart of `spectrum`: L(f) of the record's Welch spectrum `spec`
+/// (every DFT bin, or averaged into `per_decade` log-spaced bins), titled
+/// `name`, with the method (window, overlap, ENBW, bins, gaps) noted.
+pub fn record_spectrum_chart(
+    name: &str,
+    carrier: Option<f64>,
+    spec: &crate::spectrum::Spectrum,
+    w: &crate::spectrum::welch::Welch,
+    per_decade: Option<usize>,
+) -> crate::Result<Chart> {
+    let bins = match per_decade {
+        None => "every DFT bin".to_string(),
+        Some(n) => format!("averaged into {n} log-spaced bins per decade"),
+    };
+    Ok(PhaseNoisePlot {
+        title: name.to_string(),
+        carrier,
+        traces: vec![LfTrace::from_spectrum(
+            &format!("spectrum of {name}"),
+            TraceKind::RecordSpectrum,
+            spec,
+        )?],
+        bands: Vec::new(),
+        notes: vec![format!(
+            "Welch's method: {} window, {:.0} % overlap, ENBW {}, {bins}; {}.",
+            w.window.name(),
+            w.overlap * 100.0,
+            crate::units::format_si(w.enbw_hz, "Hz", 4),
+            w.gap_note()
+        )],
+    }
+    .chart())
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

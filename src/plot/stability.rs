@@ -173,6 +173,29 @@ pub fn model_curves(rm: &crate::stability::RecordModel, tau0: f64) -> Vec<SigmaC
     out
 }
 
+/// The chart of `noise`: the measured OADEV and MDEV of the record model
+/// with their noise regions, and the fitted power-law model dashed over them
+/// ([`model_curves`]).
+pub fn record_model_chart(title: &str, rm: &crate::stability::RecordModel, tau0: f64) -> Chart {
+    let mut curves: Vec<SigmaCurve> = rm.curves.iter().map(SigmaCurve::from_curve).collect();
+    curves.extend(model_curves(rm, tau0));
+    StabilityPlot {
+        title: title.to_string(),
+        curves,
+        regions: rm
+            .curves
+            .first()
+            .map(regions_from_curve)
+            .unwrap_or_default(),
+        confidence: Some(crate::stats::DEFAULT_CONFIDENCE),
+        notes: vec![format!(
+            "Dashed: the power-law model fitted to OADEV and MDEV (EDF-weighted): {}",
+            rm.fit.model.to_model_string()
+        )],
+    }
+    .chart()
+}
+
 /// Everything the σ–τ chart shows.
 #[derive(Debug, Clone, PartialEq, Default)]
 pub struct StabilityPlot {

@@ -172,6 +172,32 @@ pub fn plots_from_result(
     plots
 }
 
+/// The chart of `wander`: MTIE and TDEV of `res` against `masks` on one
+/// chart ([`plots_from_result`], [`combined_chart`]), noting a removed
+/// frequency offset and, when masks were checked, the conditions the tool
+/// cannot know and the decision caution.
+pub fn wander_chart(
+    res: &crate::wander::WanderResult,
+    masks: &[crate::wander::masks::Mask],
+    title: &str,
+) -> Chart {
+    let plots = plots_from_result(res, masks, title);
+    let mut notes = Vec::new();
+    if let Some(y) = res.tie.offset_removed {
+        notes.push(format!(
+            "A constant frequency offset of {y:.4e} was removed first."
+        ));
+    }
+    if !masks.is_empty() {
+        notes.push(format!(
+            "{} {}",
+            crate::wander::masks::CONDITIONS_NOTE,
+            crate::DECISION_CAUTION
+        ));
+    }
+    combined_chart(&plots, &notes)
+}
+
 /// MTIE and TDEV on one chart (both are times against τ): the charts of
 /// `plots` overlaid, the later metrics' measured curves in their own colour
 /// and their masks in further palette colours, so one file shows both.

@@ -309,6 +309,28 @@ impl ConvertSource {
         }
     }
 
+    /// A model (given, or fitted to the `stability` document `fitted_to`)
+    /// whose f_h is `fh` when given, else the model's own (an error when it
+    /// has none); τ up to `max_tau` (default 10⁵ s).
+    pub fn of_model(
+        parsed: PowerLaw,
+        fh: Option<f64>,
+        carrier: Option<f64>,
+        max_tau: Option<f64>,
+        fitted_to: Option<&std::path::Path>,
+    ) -> Result<Self> {
+        let f_h = match (fh, parsed.f_h.is_nan()) {
+            (Some(f), _) => f,
+            (None, false) => parsed.f_h,
+            (None, true) => return Err(crate::Error::option(
+                "--model",
+                "the model needs its high-frequency cut-off: add fh=… to the model or give --fh",
+            )),
+        };
+        let model = PowerLaw { f_h, ..parsed };
+        Self::model(model, carrier, max_tau.unwrap_or(1e5), fitted_to)
+    }
+
     /// A model with its f_h ([`crate::spectrum::sigma::model_spectrum`] up
     /// to `max_tau`); `fitted_to` the `stability` document it was fitted to.
     pub fn model(

@@ -9,6 +9,56 @@ use crate::units::format_si;
 use crate::verdict::Judgement;
 use serde::Serialize;
 
+/// What `jitter` integrates — a phase-noise table, or the Welch spectrum of
+/// a time record — with the input its document names and the trace its
+/// chart draws.
+#[derive(Debug, Clone)]
+pub struct JitterTrace {
+    /// The input, for the JSON document.
+    pub input: super::Input,
+    /// The spectrum integrated.
+    pub spectrum: crate::spectrum::Spectrum,
+    /// Where it came from, in words (table titles and chart).
+    pub source: String,
+    /// The trace drawn: the table itself, or the record's spectrum averaged
+    /// into 10 log-spaced bins per decade (readable, same level).
+    pub drawn: crate::spectrum::Spectrum,
+    /// The record's spectrum: its window, equivalent noise bandwidth (Hz)
+    /// and how its gaps were handled (`None` for a table).
+    pub welch: Option<(&'static str, f64, String)>,
+}
+
+impl JitterTrace {
+    /// A phase-noise table read from `path`.
+    pub fn of_table(t: &crate::io::lf_table::LfTable, path: &std::path::Path) -> Self {
+        JitterTrace {
+            input: super::Input::Table(super::TableInput::of(t)),
+            spectrum: t.spectrum.clone(),
+            source: format!("table {}", path.display()),
+            drawn: t.spectrum.clone(),
+            welch: None,
+        }
+    }
+
+    /// The Welch spectrum ([`crate::spectrum::welch::welch_record`]) of a
+    /// record, as L(f) at `carrier`; with the estimator's warnings.
+    pub fn of_record(
+        series: &crate::io::series::Series,
+        carrier: f64,
+        options: &crate::spectrum::welch::WelchOptions,
+    ) -> crate::Result<(Self, Vec<String>)> {
+        let w = crate::spectrum::welch::welch_record(&series.record, options)?;
+        let trace = JitterTrace {
+            input: series.into(),
+            spectrum: w.spectrum(Some(carrier))?,
+            source: format!("Welch spectrum of {}", series.info.path.display()),
+            drawn: w.log_binned(10, Some(carrier))?,
+            welch: Some((w.window.name(), w.enbw_hz, w.gap_note())),
+        };
+        Ok((trace, w.warnings))
+    }
+}
+
 /// The `jitter` results: `{"carrier","ui_rate","spur_convention","bands",
 /// "caution"}`, and for a record's spectrum `"window","enbw_hz",
 /// "gaps_handling"`.

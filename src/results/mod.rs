@@ -40,7 +40,8 @@ pub use fleet::{
 pub use holdover::HoldoverBody;
 pub use inspect::InspectBody;
 pub use jitter::{
-    extrapolated_text, BandOutcome, JitterBand, JitterBody, MaybeJudged, SPUR_CONVENTION,
+    extrapolated_text, BandOutcome, JitterBand, JitterBody, JitterTrace, MaybeJudged,
+    SPUR_CONVENTION,
 };
 pub use noise::{noise_cells, rms, DominantRange, ModelSummary, NoiseBody};
 pub use prepare::PrepareNotes;
