@@ -304,3 +304,57 @@ fn too_many_windows_are_refused_with_the_memory_they_would_need() {
     let e = timeline(&rec, &request(Estimator::Oadev, 1000, 1)).unwrap_err();
     assert!(e.to_string().contains("MB"), "{e}");
 }
+
+#[test]
+fn added_sections_are_in_the_contents_and_anchored_per_device() {
+    // The demo's lab-trio.toml asks for [separate] and [timeline]: both
+    // sections appear in the report's contents (before the inputs), and on a
+    // comparison page each device's copy has its own prefixed anchor, so no
+    // id repeats.
+    let dir = tempfile::tempdir().unwrap();
+    let demo = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("demo-data");
+    let html = dir.path().join("trio.html");
+    let out = common::tauwise()
+        .arg("report")
+        .arg(demo.join("lab-trio.toml"))
+        .arg("-o")
+        .arg(&html)
+        .output()
+        .unwrap();
+    assert!(out.status.success(), "{}", common::stderr(&out));
+    let page = std::fs::read_to_string(&html).unwrap();
+    let at = |s: &str| page.find(s).unwrap_or_else(|| panic!("{s} missing"));
+    assert!(at("href=\"#holdover\"") < at("href=\"#separate\""));
+    assert!(at("href=\"#separate\"") < at("href=\"#timeline\""));
+    assert!(at("href=\"#timeline\"") < at("href=\"#inputs\""));
+    assert!(page.contains("<section id=\"separate\">"));
+    assert!(page.contains("<section id=\"timeline\">"));
+    assert!(!page.contains("Not computed"), "a section failed");
+
+    let fleet = dir.path().join("fleet.html");
+    let out = common::tauwise()
+        .arg("report")
+        .arg(demo.join("lab-trio.toml"))
+        .arg(demo.join("rb-1.toml"))
+        .arg("-o")
+        .arg(&fleet)
+        .output()
+        .unwrap();
+    assert!(out.status.success(), "{}", common::stderr(&out));
+    let page = std::fs::read_to_string(&fleet).unwrap();
+    let ids: Vec<&str> = page
+        .split("id=\"")
+        .skip(1)
+        .filter_map(|s| s.split('"').next())
+        .collect();
+    let mut seen = std::collections::HashSet::new();
+    for id in &ids {
+        assert!(seen.insert(*id), "id {id} repeats");
+    }
+    let trio = ids
+        .iter()
+        .find(|id| id.ends_with("timeline"))
+        .expect("a timeline section");
+    assert!(trio.len() > "timeline".len(), "unprefixed: {trio}");
+    assert!(page.contains(&format!("href=\"#{trio}\"")));
+}

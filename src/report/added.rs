@@ -10,14 +10,16 @@ use crate::io::dut::{Dut, TimeSource};
 use crate::separate::{align, separate, PairRecord, Request, Resolution};
 use crate::units::{format_si, format_sig};
 
-/// One added section: its anchor, heading and finished HTML.
+/// One added section: its anchor, heading and finished HTML (the section's
+/// content; the page wraps it in its `<section>` with the anchor, prefixed
+/// per device on a comparison page).
 #[derive(Debug, Clone, PartialEq)]
 pub struct AddedSection {
     /// The anchor (`separate`, `timeline`).
     pub id: &'static str,
     /// The heading.
     pub title: &'static str,
-    /// The section's HTML (escaped text, inline SVG).
+    /// The section's content as HTML (escaped text, inline SVG).
     pub html: String,
 }
 
@@ -33,11 +35,9 @@ pub fn sections(dut: &Dut, confidence: f64) -> Vec<AddedSection> {
     let mut out = Vec::new();
     if let Some(spec) = &dut.separate {
         let mut h = Html::new();
-        h.open_section("separate", "Each clock from pair records");
         if let Err(e) = separate_html(&mut h, dut, spec, confidence) {
             h.p(&format!("Not computed: {e}"));
         }
-        h.close_section();
         out.push(AddedSection {
             id: "separate",
             title: "Each clock from pair records",
@@ -46,11 +46,9 @@ pub fn sections(dut: &Dut, confidence: f64) -> Vec<AddedSection> {
     }
     if let Some(spec) = &dut.timeline {
         let mut h = Html::new();
-        h.open_section("timeline", "Stability through the record");
         if let Err(e) = timeline_html(&mut h, dut, spec, confidence) {
             h.p(&format!("Not computed: {e}"));
         }
-        h.close_section();
         out.push(AddedSection {
             id: "timeline",
             title: "Stability through the record",

@@ -668,6 +668,24 @@ fn cautions(h: &mut Html, r: &Report, pre: &str) {
     h.close_section();
 }
 
+/// The report's contents in page order, `(anchor, heading)`: the sections
+/// of [`SECTION_IDS`] with those the DUT file adds ([`Report::added`])
+/// after the holdover.
+pub(crate) fn contents(r: &Report) -> Vec<(&'static str, &'static str)> {
+    let k = SECTION_IDS
+        .iter()
+        .position(|s| s.0 == "inputs")
+        .unwrap_or(SECTION_IDS.len());
+    let (before, after) = SECTION_IDS.split_at(k);
+    let added = r.added.iter().map(|a| (a.id, a.title));
+    before
+        .iter()
+        .copied()
+        .chain(added)
+        .chain(after.iter().copied())
+        .collect()
+}
+
 /// Every section of [`SECTION_IDS`] in order, each section id prefixed with
 /// `pre` (the single report and each device of a fleet report).
 pub(super) fn body(h: &mut Html, r: &Report, pre: &str) -> Result<()> {
@@ -678,9 +696,11 @@ pub(super) fn body(h: &mut Html, r: &Report, pre: &str) -> Result<()> {
     combined(h, &r.combined, pre)?;
     wander(h, &r.wander, pre)?;
     holdover(h, &r.holdover, pre)?;
-    // Sections added by the DUT file's [separate] and [timeline] (no anchors).
+    // Sections added by the DUT file's [separate] and [timeline].
     for a in &r.added {
+        h.open_section(&format!("{pre}{}", a.id), a.title);
         h.raw(&a.html);
+        h.close_section();
     }
     inputs(h, r, pre);
     methods(h, r, pre);
@@ -708,7 +728,7 @@ pub(super) fn document(r: &Report) -> Result<String> {
             .unwrap_or_default()
     ));
     h.raw("</header>\n<nav class=\"toc\">");
-    for (id, title) in SECTION_IDS {
+    for (id, title) in contents(r) {
         h.raw(&format!("<a href=\"#{id}\">"))
             .text(title)
             .raw("</a>\n");

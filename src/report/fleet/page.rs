@@ -292,7 +292,7 @@ pub fn render_html(f: &Fleet) -> Result<String> {
             h.p(&format!("DUT file: {file}"));
         }
         h.raw("<nav class=\"toc\">");
-        for (id, title) in crate::report::SECTION_IDS {
+        for (id, title) in crate::report::sections::contents(r) {
             h.raw(&format!("<a href=\"#{pre}{id}\">"))
                 .text(title)
                 .raw("</a>\n");
