@@ -4,21 +4,12 @@
 //! and budgets in the neutral limit colours.
 
 use super::Fleet;
-use crate::plot::holdover::time_unit;
-use crate::plot::style::{device_colour, device_marker};
-use crate::plot::{Axis, Chart, Colour, Line, Marker, Orientation, Rule, Series, Style, XY};
+use crate::plot::style::device_marker;
+use crate::plot::{Axis, Chart, Marker, Series, Style, XY};
 use crate::report::Part;
-use crate::units::format_si;
 
-/// Device `i`'s style: its colour, its marker, a solid line.
-pub(super) fn device_style(i: usize) -> Style {
-    Style {
-        colour: device_colour(i),
-        line: Line::Solid,
-        width: 2.0,
-        marker: device_marker(i),
-    }
-}
+pub(super) use crate::plot::overlay::item_style as device_style;
+use crate::plot::overlay::{self, missing_note};
 
 fn fleet_title(what: &str) -> String {
     format!("Devices compared — {what}")
@@ -46,49 +37,41 @@ pub fn charts(f: &Fleet) -> Vec<(String, Chart)> {
     ]
 }
 
-fn missing_note(missing: &[String], what: &str) -> Option<String> {
-    (!missing.is_empty()).then(|| format!("Not shown ({what}): {}.", missing.join(", ")))
-}
-
 fn stability_chart(f: &Fleet) -> Chart {
     use crate::deviation::{Estimator, Origin};
-    let mut ch = Chart::new(
-        &fleet_title("frequency stability"),
-        Axis::log_si("averaging time τ", "s"),
-        Axis::log_plain("Allan deviation σ_y(τ)", ""),
-    );
     let mut conf = None;
-    let mut missing = Vec::new();
-    for (i, r) in f.reports.iter().enumerate() {
-        let curve = match &r.stability {
-            Part::Done(list) => list.first().and_then(|s| {
-                s.plot.as_ref().and_then(|p| {
-                    conf = conf.or(p.confidence);
-                    p.curves
-                        .iter()
-                        .find(|c| c.estimator == Estimator::Oadev && c.origin == Origin::Measured)
-                })
-            }),
-            Part::Absent(_) => None,
-        };
-        match curve {
-            Some(c) => ch.series.push(Series {
-                name: r.device.clone(),
-                points: c.points.clone(),
-                style: device_style(i),
-            }),
-            None => missing.push(r.device.clone()),
-        }
-    }
-    ch.subtitle = match conf {
+    let items: Vec<(String, Option<&crate::plot::stability::SigmaCurve>)> = f
+        .reports
+        .iter()
+        .map(|r| {
+            let curve = match &r.stability {
+                Part::Done(list) => list.first().and_then(|s| {
+                    s.plot.as_ref().and_then(|p| {
+                        conf = conf.or(p.confidence);
+                        p.curves.iter().find(|c| {
+                            c.estimator == Estimator::Oadev && c.origin == Origin::Measured
+                        })
+                    })
+                }),
+                Part::Absent(_) => None,
+            };
+            (r.device.clone(), curve)
+        })
+        .collect();
+    let subtitle = match conf {
         Some(p) => format!(
             "OADEV of each device's first record, as prepared for its report · bars: {:.1} % confidence intervals",
             p * 100.0
         ),
         None => "OADEV of each device's first record, as prepared for its report".into(),
     };
-    ch.notes.extend(missing_note(&missing, "no OADEV"));
-    ch
+    overlay::sigma_chart(
+        &fleet_title("frequency stability"),
+        &subtitle,
+        Axis::log_plain("Allan deviation σ_y(τ)", ""),
+        &items,
+        "no OADEV",
+    )
 }
 
 fn phase_noise_chart(f: &Fleet) -> Chart {
@@ -138,308 +121,64 @@ fn phase_noise_chart(f: &Fleet) -> Chart {
 }
 
 fn wander_chart(f: &Fleet, metric: crate::wander::masks::Metric) -> Chart {
-    let mut ch = Chart::new(
-        &fleet_title(&metric.label()),
-        Axis::log_si("observation interval τ", "s"),
-        Axis::log_si(&metric.label(), "s"),
-    );
-    ch.subtitle = format!(
+    let items: Vec<(String, Option<&crate::plot::wander::WanderPlot>)> = f
+        .reports
+        .iter()
+        .map(|r| {
+            let plot = match &r.wander {
+                Part::Done(w) => w.plots.iter().find(|p| p.metric == metric),
+                Part::Absent(_) => None,
+            };
+            (r.device.clone(), plot)
+        })
+        .collect();
+    let subtitle = format!(
         "{} of each device's capture against every mask asked for (ITU-T G.810)",
         metric.label()
     );
-    // Masks by name: the widest sampling of each among the devices.
-    let mut masks: Vec<(String, Vec<(f64, f64)>)> = Vec::new();
-    let mut missing = Vec::new();
-    for (i, r) in f.reports.iter().enumerate() {
-        let plot = match &r.wander {
-            Part::Done(w) => w.plots.iter().find(|p| p.metric == metric),
-            Part::Absent(_) => None,
-        };
-        let Some(p) = plot else {
-            missing.push(r.device.clone());
-            continue;
-        };
-        ch.series.push(Series {
-            name: r.device.clone(),
-            points: p.measured.iter().map(|&(x, y)| XY::new(x, y)).collect(),
-            style: Style {
-                marker: if p.measured.len() <= 120 {
-                    device_marker(i)
-                } else {
-                    Marker::None
-                },
-                ..device_style(i)
-            },
-        });
-        for m in &p.masks {
-            let span = |v: &Vec<(f64, f64)>| match (v.first(), v.last()) {
-                (Some(a), Some(b)) => b.0 / a.0,
-                _ => 0.0,
-            };
-            match masks.iter_mut().find(|(n, _)| *n == m.name) {
-                Some((_, pts)) if span(pts) < span(&m.limit) => *pts = m.limit.clone(),
-                Some(_) => {}
-                None => masks.push((m.name.clone(), m.limit.clone())),
-            }
-        }
-    }
-    let patterns = [Line::Dashed, Line::Dotted, Line::Solid];
-    for (k, (name, pts)) in masks.into_iter().enumerate() {
-        ch.series.push(Series {
-            name: format!("mask {name}"),
-            points: pts.iter().map(|&(x, y)| XY::new(x, y)).collect(),
-            style: Style {
-                colour: if k % 2 == 0 {
-                    Colour::Limit
-                } else {
-                    Colour::Muted
-                },
-                line: patterns[k % patterns.len()],
-                width: 1.8,
-                marker: Marker::None,
-            },
-        });
-    }
-    ch.notes.push(
+    let mut ch = overlay::wander_chart(
+        &fleet_title(&metric.label()),
+        &subtitle,
+        metric,
+        &items,
+        "no wander analysis",
+    );
+    ch.notes.insert(
+        0,
         "Violations are listed in the verdict matrix and in each device's wander section.".into(),
     );
-    ch.notes
-        .extend(missing_note(&missing, "no wander analysis"));
     ch
 }
 
 fn holdover_chart(f: &Fleet) -> Chart {
-    let longest = f
+    let spans: Vec<Vec<f64>> = f
         .reports
         .iter()
-        .filter_map(|r| match &r.holdover {
-            Part::Done(h) => Some(h.plot.span),
-            Part::Absent(_) => None,
+        .map(|r| match &r.holdover {
+            Part::Done(h) => h.spans.iter().map(|s| s.span).collect(),
+            Part::Absent(_) => Vec::new(),
         })
-        .fold(0.0f64, f64::max);
-    let (unit, div) = time_unit(longest.max(1.0));
-    let x = if unit == "s" {
-        Axis::linear_si("time in holdover", "s")
-    } else {
-        Axis::linear_plain("time in holdover", unit)
-    };
-    let mut ch = Chart::new(
+        .collect();
+    let items: Vec<(String, Option<overlay::HoldoverItem>)> = f
+        .reports
+        .iter()
+        .zip(&spans)
+        .map(|(r, spans)| {
+            let item = match &r.holdover {
+                Part::Done(h) => Some(overlay::HoldoverItem {
+                    plot: &h.plot,
+                    budget: h.budget,
+                    spans,
+                }),
+                Part::Absent(_) => None,
+            };
+            (r.device.clone(), item)
+        })
+        .collect();
+    overlay::holdover_chart(
         &fleet_title("holdover"),
-        x,
-        Axis::linear_si("time error |TE|", "s"),
-    );
-    ch.x.range = Some((0.0, longest.max(1.0) / div));
-    ch.subtitle =
-        "p95 of |TE| (solid, markers) and p50 (dashed) of each device against its budget".into();
-    let mut budgets: Vec<f64> = Vec::new();
-    let mut spans: Vec<f64> = Vec::new();
-    let mut missing = Vec::new();
-    for (i, r) in f.reports.iter().enumerate() {
-        let Part::Done(h) = &r.holdover else {
-            missing.push(r.device.clone());
-            continue;
-        };
-        let p = &h.plot;
-        let xs: Vec<f64> = p.t.iter().map(|t| t / div).collect();
-        let pts =
-            |v: &[f64]| -> Vec<XY> { xs.iter().zip(v).map(|(&x, &y)| XY::new(x, y)).collect() };
-        ch.series.push(Series {
-            name: format!("{} p95", r.device),
-            points: pts(&p.p95),
-            style: device_style(i),
-        });
-        ch.series.push(Series {
-            name: format!("{} p50", r.device),
-            points: pts(&p.p50),
-            style: Style {
-                colour: device_colour(i),
-                line: Line::Dashed,
-                width: 1.4,
-                marker: Marker::None,
-            },
-        });
-        if !budgets.contains(&h.budget) {
-            budgets.push(h.budget);
-        }
-        for s in &h.spans {
-            if !spans.contains(&s.span) {
-                spans.push(s.span);
-            }
-        }
-    }
-    for b in budgets {
-        ch.rules.push(Rule {
-            label: format!(
-                "budget ±{} (|TE| ≤ {})",
-                format_si(b, "s", 3),
-                format_si(b, "s", 3)
-            ),
-            orientation: Orientation::Horizontal,
-            value: b,
-            colour: Colour::Limit,
-            line: Line::Dashed,
-            extend_range: true,
-        });
-    }
-    spans.sort_by(f64::total_cmp);
-    for s in spans {
-        ch.rules.push(Rule {
-            label: format!("span {}", format_si(s / div, unit, 3)),
-            orientation: Orientation::Vertical,
-            value: s / div,
-            colour: Colour::Muted,
-            line: Line::Dotted,
-            extend_range: false,
-        });
-    }
-    ch.notes
-        .push("|TE| is the size of the time error either side of zero: a budget of ±B holds while |TE| ≤ B.".into());
-    ch.notes.extend(missing_note(&missing, "no holdover"));
-    ch
-}
-
-#[cfg(test)]
-mod tests {
-    use super::*;
-    use crate::report::Report;
-
-    fn report(name: &str) -> Report {
-        use crate::plot::holdover::HoldoverPlot;
-        use crate::plot::phase_noise::{LfTrace, PhaseNoisePlot, TraceKind};
-        use crate::plot::stability::{SigmaCurve, StabilityPlot};
-        use crate::plot::wander::{MaskLine, Metric, WanderPlot};
-        use crate::report::*;
-        let mut r = Report::empty(name, "");
-        let pts: Vec<XY> = (0..8)
-            .map(|k| {
-                let t = 2f64.powi(k);
-                XY::with_interval(t, 1e-11 / t.sqrt(), Some(0.9e-11), Some(1.1e-11))
-            })
-            .collect();
-        r.stability = Part::Done(vec![StabilitySection {
-            source: "rec".into(),
-            quality: None,
-            preparation: vec![],
-            plot: Some(StabilityPlot {
-                title: name.into(),
-                curves: vec![SigmaCurve {
-                    name: "oadev".into(),
-                    estimator: crate::deviation::Estimator::Oadev,
-                    origin: crate::deviation::Origin::Measured,
-                    points: pts,
-                }],
-                regions: vec![],
-                confidence: Some(0.683),
-                notes: vec![],
-            }),
-            rows: vec![],
-            confidence: 0.683,
-            notes: vec![],
-        }]);
-        r.phase_noise = Part::Done(PhaseNoiseSection {
-            source: "t".into(),
-            carrier: 10e6,
-            plot: PhaseNoisePlot {
-                title: name.into(),
-                carrier: Some(10e6),
-                traces: vec![LfTrace {
-                    name: "t".into(),
-                    kind: TraceKind::Table,
-                    points: vec![(1.0, -90.0), (1e6, -150.0)],
-                }],
-                bands: vec![],
-                notes: vec![],
-            },
-            bands: vec![],
-            notes: vec![],
-        });
-        let wp = |metric| WanderPlot {
-            title: name.into(),
-            metric,
-            measured: vec![(1.0, 1e-9), (100.0, 1e-8)],
-            masks: vec![MaskLine {
-                name: "m".into(),
-                limit: vec![(1.0, 1e-7), (100.0, 1e-6)],
-                violations: vec![],
-            }],
-            notes: vec![],
-        };
-        r.wander = Part::Done(WanderSection {
-            source: "tie".into(),
-            tie: None,
-            plots: vec![wp(Metric::Mtie), wp(Metric::Tdev)],
-            masks: vec![],
-            notes: vec![],
-        });
-        let t: Vec<f64> = (0..=8).map(|h| h as f64 * 3600.0).collect();
-        r.holdover = Part::Done(HoldoverSection {
-            source: "rec".into(),
-            budget: 1.5e-6,
-            plot: HoldoverPlot {
-                title: name.into(),
-                p50: t.iter().map(|s| s * 1e-11).collect(),
-                p95: t.iter().map(|s| s * 2e-11).collect(),
-                p99: t.iter().map(|s| s * 3e-11).collect(),
-                deterministic: t.iter().map(|s| s * 1e-11).collect(),
-                t,
-                budget: Some(1.5e-6),
-                holds_for: None,
-                span: 8.0 * 3600.0,
-                notes: vec![],
-                observed: vec![],
-            },
-            spans: vec![],
-            holds_for: None,
-            aging_per_day: None,
-            parameters: vec![],
-            notes: vec![],
-        });
-        r
-    }
-
-    /// Every overlaid chart has one series per device (two for holdover:
-    /// p95 and p50) in that device's palette colour, the same in every
-    /// chart.
-    #[test]
-    fn one_series_per_device_in_its_colour_in_every_chart() {
-        let names = ["ocxo-a", "ocxo-b", "rb-1"];
-        let reports: Vec<Report> = names.iter().map(|n| report(n)).collect();
-        let duts: Vec<String> = names.iter().map(|n| format!("{n}.toml")).collect();
-        let f = Fleet::from_reports(reports, &duts).unwrap();
-        let charts = charts(&f);
-        assert_eq!(charts.len(), 5);
-        for (stem, ch) in &charts {
-            for (i, name) in names.iter().enumerate() {
-                let mine: Vec<&Series> = ch
-                    .series
-                    .iter()
-                    .filter(|s| s.name == *name || s.name.starts_with(&format!("{name} ")))
-                    .collect();
-                let want = if stem == "fleet-holdover" { 2 } else { 1 };
-                assert_eq!(mine.len(), want, "{stem}: {name}");
-                for s in mine {
-                    assert_eq!(s.style.colour, device_colour(i), "{stem}: {name}");
-                }
-                if let Some(s) = ch.series.iter().find(|s| s.name == *name) {
-                    assert_eq!(s.style.marker, device_marker(i), "{stem}: {name}");
-                }
-            }
-        }
-        // No other series takes a device colour.
-        for (stem, ch) in &charts {
-            for s in &ch.series {
-                if !names.iter().any(|n| s.name.starts_with(n)) {
-                    assert!(
-                        !(0..names.len()).any(|i| s.style.colour == device_colour(i)),
-                        "{stem}: {}",
-                        s.name
-                    );
-                }
-            }
-        }
-        // The same device name twice is refused.
-        let twice = vec![report("x"), report("x")];
-        let e = Fleet::from_reports(twice, &["a.toml".into(), "b.toml".into()]).unwrap_err();
-        assert!(e.to_string().contains("a.toml") && e.to_string().contains("b.toml"));
-    }
+        "p95 of |TE| (solid, markers) and p50 (dashed) of each device against its budget",
+        &items,
+        "no holdover",
+    )
 }
