@@ -100,6 +100,11 @@ fn cut_pieces(bytes: &[u8], piece: usize) -> Vec<&[u8]> {
 /// number of lines before the piece. Stops at the first error `take`
 /// returns. Returns the number of lines of the whole input
 /// (`lines_before` plus the lines read here) and the bytes read here.
+///
+/// A line that no block holds whole is refused here when it passes
+/// [`MAX_LINE_BYTES`]; `parse` checks the lines within a piece against the
+/// same bound ([`too_long`]), so that the error names the same line as
+/// the line reader's.
 pub fn read_blocks<R: Read, T: Send>(
     mut reader: R,
     path: &Path,
@@ -214,9 +219,12 @@ mod tests {
         }
     }
 
+    /// A line longer than the bound, read block after block without a
+    /// line end, is refused naming it (a line within a block is checked by
+    /// the caller's `parse`, with the same [`too_long`]).
     #[test]
     fn an_endless_line_is_refused_naming_it() {
-        let text = format!("1\n2\n{}", "9".repeat(MAX_LINE_BYTES + 5));
+        let text = format!("1\n2\n{}\n3\n", "9".repeat(MAX_LINE_BYTES + 10_000));
         let e = read_blocks(
             text.as_bytes(),
             Path::new("t"),
