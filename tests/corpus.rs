@@ -17,7 +17,9 @@ mod common;
 use common::tauwise as bin;
 use std::path::{Path, PathBuf};
 use tauwise::io::lf_table::{read_lf_table, TableOptions};
-use tauwise::io::series::{read_series, Series, SeriesOptions, UnitSource};
+use tauwise::io::parallel::RowReading;
+use tauwise::io::series::{read_series, read_series_with, Series, SeriesOptions, UnitSource};
+use tauwise::io::ReadError;
 use tauwise::units::{FreqUnit, PhaseUnit, ValueUnit};
 use tauwise::{DataKind, Record};
 
@@ -1115,4 +1117,117 @@ fn inspect_shows_preamble_unit_decimal_comma_and_suggestions() {
     // slope of ti_true), the sine adding at most 0.4 ns over the record.
     let y = v["frequency_offset"].as_f64().unwrap();
     assert!((y - 9.3e-10).abs() < 0.4e-9 / 599.0 + 1e-15, "{y}");
+}
+
+// ------------------------------------------- the block reader against the line reader
+
+/// The outcome of one reading, in a form that compares exactly: the
+/// record's values bit for bit (NaN gaps included), τ0, kind and every
+/// fact; or the error's full message, line, column and cause.
+fn outcome(r: Result<Series, ReadError>) -> String {
+    match r {
+        Ok(s) => {
+            let bits: Vec<u64> = values(&s.record).iter().map(|v| v.to_bits()).collect();
+            format!(
+                "ok {:?} {} {:?} {:?}",
+                s.record.kind(),
+                s.record.tau0().to_bits(),
+                bits,
+                s.info
+            )
+        }
+        Err(e) => format!(
+            "error {e} | line {:?} column {:?} cause {:?}",
+            e.line, e.column, e.cause
+        ),
+    }
+}
+
+/// The block reader (pieces parsed in parallel, `tauwise::io::parallel`)
+/// gives exactly what the line-by-line reader gives — the same record bit
+/// for bit, the same facts, or the same error on the same line — on every
+/// file of the corpus (tests/data and tests/data/broken), under the options
+/// the corpus tests use and a few more, with blocks and pieces small enough
+/// that every file is cut in many places (down to one byte). The reference
+/// is the line reader (the serial path the corpus tests above check
+/// against the generators' closed forms).
+#[test]
+fn block_reader_equals_line_reader_on_every_corpus_file() {
+    let mut files: Vec<PathBuf> = Vec::new();
+    for dir in [data_dir(), data_dir().join("broken")] {
+        for e in std::fs::read_dir(dir).unwrap() {
+            let p = e.unwrap().path();
+            if p.is_file() {
+                files.push(p);
+            }
+        }
+    }
+    files.sort();
+    assert!(files.len() >= 20, "{files:?}");
+    let option_sets = [
+        SeriesOptions::default(),
+        SeriesOptions {
+            tau0: Some(1.0),
+            ..Default::default()
+        },
+        SeriesOptions {
+            tau0: Some(1.0),
+            no_time_column: true,
+            ..Default::default()
+        },
+        SeriesOptions {
+            carrier: Some(10e6),
+            ..Default::default()
+        },
+        SeriesOptions {
+            snap: Some(0.25),
+            ..Default::default()
+        },
+        SeriesOptions {
+            tau0: Some(1.0),
+            wrap: Some(100e-9),
+            ..Default::default()
+        },
+        SeriesOptions {
+            decimal_comma: true,
+            ..Default::default()
+        },
+        SeriesOptions {
+            tau0: Some(1.0),
+            value_column: Some(2),
+            comments: "!".into(),
+            ..Default::default()
+        },
+    ];
+    let readings = [
+        RowReading::Blocks { block: 1, piece: 1 },
+        RowReading::Blocks { block: 7, piece: 3 },
+        RowReading::Blocks {
+            block: 100,
+            piece: 10,
+        },
+        RowReading::Blocks {
+            block: 4096,
+            piece: 200,
+        },
+        RowReading::default(),
+    ];
+    let mut compared = 0;
+    for f in &files {
+        for opts in &option_sets {
+            let want = outcome(read_series_with(f, opts, RowReading::Serial));
+            for r in readings {
+                let got = outcome(read_series_with(f, opts, r));
+                assert!(
+                    got == want,
+                    "{} {opts:?} {r:?}:\n block: {}\n  line: {}",
+                    f.display(),
+                    &got[..got.len().min(400)],
+                    &want[..want.len().min(400)]
+                );
+                compared += 1;
+            }
+        }
+    }
+    assert!(compared >= 20 * 8 * 5);
 }

@@ -17,6 +17,7 @@ pub mod layout;
 pub mod lf_table;
 pub mod npy;
 pub mod output_paths;
+pub mod parallel;
 pub mod record_file;
 pub mod series;
 pub mod text;

@@ -286,14 +286,7 @@ impl<R: BufRead> LineReader<R> {
     }
 
     fn too_long(&self) -> ReadError {
-        ReadError::at(
-            &self.path,
-            self.line + 1,
-            format!(
-                "line longer than {MAX_LINE_BYTES} bytes; expected a text file with one reading per line"
-            ),
-        )
-        .because(ReadCause::Encoding)
+        too_long(&self.path, self.line + 1)
     }
 
     /// Find the next raw line: in place when it lies whole in the reader's
@@ -390,14 +383,7 @@ impl<R: BufRead> LineReader<R> {
                     return Err(utf16(&self.path));
                 }
             }
-            let start = bytes[from..]
-                .iter()
-                .position(|b| !b.is_ascii_whitespace())
-                .map_or(bytes.len(), |i| i + from);
-            let end = bytes
-                .iter()
-                .rposition(|b| !b.is_ascii_whitespace())
-                .map_or(start, |i| (i + 1).max(start));
+            let (start, end) = trim_span(bytes, from);
             if start < end {
                 let comment = self.comments.is_comment(&bytes[start..end]);
                 if !comment || keep_comments {
@@ -406,35 +392,95 @@ impl<R: BufRead> LineReader<R> {
             }
         };
         let number = self.line;
-        let bytes = &raw_bytes(&mut self.reader, &self.buf, &raw, &self.path, number)?[start..end];
-        match std::str::from_utf8(bytes) {
-            Ok(t) => {
-                // Already trimmed of ASCII white space; trim Unicode white
-                // space only when the line starts or ends outside ASCII.
-                let text = if bytes[0] >= 0x80 || bytes[bytes.len() - 1] >= 0x80 {
-                    t.trim()
-                } else {
-                    t
-                };
-                Ok(Some(Line {
-                    number,
-                    text,
-                    comment,
-                }))
-            }
-            Err(e) => {
-                let at = e.valid_up_to();
-                Err(ReadError::at(
-                    &self.path,
-                    number,
-                    format!(
-                        "byte 0x{:02x} at position {} is not UTF-8 text; expected a plain text file",
-                        bytes[at],
-                        start + at + 1
-                    ),
-                )
-                .because(ReadCause::Encoding))
-            }
+        let bytes = raw_bytes(&mut self.reader, &self.buf, &raw, &self.path, number)?;
+        let text = line_text(bytes, start, end, &self.path, number)?;
+        Ok(Some(Line {
+            number,
+            text,
+            comment,
+        }))
+    }
+
+    /// Give up line-by-line reading: the underlying reader positioned just
+    /// after the last line handed out, the number of that line and the
+    /// bytes read so far (for a reader that takes the rest in blocks,
+    /// [`super::parallel`]). `None` while the first line has not been read
+    /// (the byte-order mark is looked for there).
+    pub fn into_rest(mut self) -> Option<(R, u64, u64)> {
+        if self.at_start {
+            return None;
+        }
+        if self.pending > 0 {
+            self.reader.consume(self.pending);
+            self.pending = 0;
+        }
+        Some((self.reader, self.line, self.bytes))
+    }
+}
+
+/// The error for line `line` longer than [`MAX_LINE_BYTES`].
+pub fn too_long(path: &Path, line: u64) -> ReadError {
+    ReadError::at(
+        path,
+        line,
+        format!(
+            "line longer than {MAX_LINE_BYTES} bytes; expected a text file with one reading per line"
+        ),
+    )
+    .because(ReadCause::Encoding)
+}
+
+/// The span of a raw line (without its `\n`) left after trimming ASCII
+/// white space (`\r` included) from `bytes[from..]`: `start == end` for a
+/// blank line.
+#[inline(always)]
+pub fn trim_span(bytes: &[u8], from: usize) -> (usize, usize) {
+    let len = bytes.len();
+    // The common line: no white space at either end.
+    if from < len && !bytes[from].is_ascii_whitespace() && !bytes[len - 1].is_ascii_whitespace() {
+        return (from, len);
+    }
+    let start = bytes[from..]
+        .iter()
+        .position(|b| !b.is_ascii_whitespace())
+        .map_or(len, |i| i + from);
+    let end = bytes
+        .iter()
+        .rposition(|b| !b.is_ascii_whitespace())
+        .map_or(start, |i| (i + 1).max(start));
+    (start, end)
+}
+
+/// The text of `bytes[start..end]` (a trimmed, non-blank line), refused
+/// naming line `number` when it is not UTF-8; Unicode white space is
+/// trimmed too when the line starts or ends outside ASCII.
+#[inline(always)]
+pub fn line_text<'a>(
+    bytes: &'a [u8],
+    start: usize,
+    end: usize,
+    path: &Path,
+    number: u64,
+) -> Result<&'a str, ReadError> {
+    let b = &bytes[start..end];
+    match std::str::from_utf8(b) {
+        Ok(t) => Ok(if b[0] >= 0x80 || b[b.len() - 1] >= 0x80 {
+            t.trim()
+        } else {
+            t
+        }),
+        Err(e) => {
+            let at = e.valid_up_to();
+            Err(ReadError::at(
+                path,
+                number,
+                format!(
+                    "byte 0x{:02x} at position {} is not UTF-8 text; expected a plain text file",
+                    b[at],
+                    start + at + 1
+                ),
+            )
+            .because(ReadCause::Encoding))
         }
     }
 }
