@@ -370,6 +370,7 @@ mod tests {
             plots: vec![wp(Metric::Mtie), wp(Metric::Tdev)],
             masks: vec![],
             notes: vec![],
+            te: None,
         });
         let t: Vec<f64> = (0..=8).map(|h| h as f64 * 3600.0).collect();
         r.holdover = Part::Done(HoldoverSection {
