@@ -40,5 +40,5 @@ pub use options::{
     comment_chars, count, kelvin, mad_limit, non_negative_fraction, overlap_fraction,
     parse_tau_range, points, snap_fraction, temp_coeff, temp_swing, time_column, TimeColumn,
 };
-pub use te_filter::TeFilter;
 pub use quantity::{uncertainty_db, Duration, Fraction, Frequency, Probability, Rate};
+pub use te_filter::TeFilter;

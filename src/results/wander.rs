@@ -46,15 +46,13 @@ impl WanderBody {
             curves.push(("dte_l_mtie", &te.dte_l_mtie));
             curves.push(("dte_l_tdev", &te.dte_l_tdev));
         }
-        let rows = curves
-            .into_iter()
-            .flat_map(|(name, c)| {
-                c.iter().map(move |e: &Estimate| {
-                    let mut r = vec![name.to_string(), "measured".to_string()];
-                    r.extend(Point::bare(*e).cells());
-                    r
-                })
-            });
+        let rows = curves.into_iter().flat_map(|(name, c)| {
+            c.iter().map(move |e: &Estimate| {
+                let mut r = vec![name.to_string(), "measured".to_string()];
+                r.extend(Point::bare(*e).cells());
+                r
+            })
+        });
         csv_text(&header, rows)
     }
 }
@@ -204,9 +202,15 @@ fn te_table(s: &mut Text, te: &crate::wander::te::TeMetrics) {
         Column::left("", 0).unit(Unit::Si("s")),
     ])
     .indent(2);
-    t.row(vec![Cell::text("cTE, mean over the record"), Cell::num(te.cte)]);
     t.row(vec![
-        Cell::text(format!("cTE, largest |mean| over {} windows", si(te.cte_window))),
+        Cell::text("cTE, mean over the record"),
+        Cell::num(te.cte),
+    ]);
+    t.row(vec![
+        Cell::text(format!(
+            "cTE, largest |mean| over {} windows",
+            si(te.cte_window)
+        )),
         Cell::opt(te.cte_windowed_max_abs),
     ]);
     t.row(vec![Cell::text("max |TE|"), Cell::num(te.max_abs)]);
@@ -239,7 +243,11 @@ fn te_table(s: &mut Text, te: &crate::wander::te::TeMetrics) {
     taus.dedup();
     for t in taus {
         let find = |c: &[Estimate]| Cell::opt(c.iter().find(|p| p.tau == t).map(|p| p.value));
-        tab.row(vec![Cell::num(t), find(&te.dte_l_mtie), find(&te.dte_l_tdev)]);
+        tab.row(vec![
+            Cell::num(t),
+            find(&te.dte_l_mtie),
+            find(&te.dte_l_tdev),
+        ]);
     }
     s.blank();
     s.table(tab);

@@ -206,7 +206,10 @@ impl MeasurementFilter {
         for j in 1..=n / 2 {
             let zeta = (std::f64::consts::PI * (2 * j - 1) as f64 / (2 * n) as f64).sin();
             let d0 = 1.0 + 2.0 * zeta * k + k * k;
-            let a = [2.0 * (k * k - 1.0) / d0, (1.0 - 2.0 * zeta * k + k * k) / d0];
+            let a = [
+                2.0 * (k * k - 1.0) / d0,
+                (1.0 - 2.0 * zeta * k + k * k) / d0,
+            ];
             let g = match self.pass {
                 Pass::LowPass => k * k / d0,
                 Pass::HighPass => 1.0 / d0,
@@ -309,7 +312,10 @@ impl MeasurementFilter {
             Pass::LowPass => "low-pass",
             Pass::HighPass => "high-pass",
         };
-        format!("{ord} {kind}, corner {}", format_si(self.corner_hz, "Hz", 4))
+        format!(
+            "{ord} {kind}, corner {}",
+            format_si(self.corner_hz, "Hz", 4)
+        )
     }
 
     /// Run the filter over `rec` (module notes): returns the filtered record,
