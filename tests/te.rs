@@ -211,7 +211,7 @@ fn sinusoid_gain_and_phase() {
 #[test]
 fn highpass_removes_a_ramp_except_its_transient() {
     let (fc, tau0, r) = (0.1, 0.5, 5e-9);
-    let n = 2000;
+    let n: usize = 2000;
     let x: Vec<f64> = (0..n).map(|i| r * i as f64 * tau0).collect();
     let k = (PI * fc * tau0).tan();
     let a = (1.0 - k) / (1.0 + k);
@@ -624,4 +624,35 @@ fn dut_file_and_report() {
     let p = write(dir.path(), "bad.toml", &text);
     let e = tauwise::io::dut::Dut::read(&p).unwrap_err().to_string();
     assert!(e.contains("needs te = true"), "{e}");
+}
+
+/// A cTE window below τ0 or beyond the record: the windowed cTE is not
+/// computed and the notes say why (never a number from no window).
+#[test]
+fn cte_window_that_does_not_fit() {
+    for (w, says) in [
+        (0.4, "shorter than τ0"),
+        (1e6, "shorter than the cTE window"),
+    ] {
+        let opts = Options {
+            te: Some(TeOptions {
+                cte_window: w,
+                ..TeOptions::default()
+            }),
+            ..Options::default()
+        };
+        let te = analyse(&rec(noise(200, 2, 1e-9), 1.0), &opts, &[])
+            .unwrap()
+            .te
+            .unwrap();
+        assert!(te.cte_windowed_max_abs.is_none() && te.cte_windowed_at.is_none());
+        assert_eq!(te.cte_windows, 0);
+        assert!(te.notes.iter().any(|n| n.contains(says)), "{:?}", te.notes);
+    }
+    // A corner so low that the discrete filter never settles: an error, no panic.
+    let e = MeasurementFilter::lowpass(1e-300)
+        .apply(&rec(noise(200, 2, 1e-9), 1.0))
+        .unwrap_err()
+        .to_string();
+    assert!(e.contains("too low") || e.contains("settling"), "{e}");
 }

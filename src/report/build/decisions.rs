@@ -69,6 +69,12 @@ pub(super) fn wander(dut: &Dut, records: &[Loaded], ties: &[Loaded], r: &mut Rep
         "mask checks",
         "ITU-T G.811, G.8262, G.8272 masks (built-in values recalled from memory) or the user's mask files",
     ));
+    if res.te.is_some() || res.filter.is_some() {
+        r.methods.push(method(
+            "time error",
+            "measurement filters: Butterworth by the bilinear transform, corner pre-warped, settling dropped; cTE, max |TE|, dTE_L (MTIE, TDEV through a 0.1 Hz low-pass), dTE_H (peak-to-peak through a 0.1 Hz high-pass), split recalled from memory (ITU-T G.8273.2); docs/time-error.md",
+        ));
+    }
     let plots = crate::plot::wander::plots_from_result(
         &res,
         &masks,

@@ -291,7 +291,7 @@ impl MeasurementFilter {
             0.0
         } else if r >= 1.0 {
             return Err(Error::invalid(format!(
-                "the filter {self} is not stable at τ0 = {}",
+                "the filter {self}: its corner is too low for τ0 = {} (the discrete filter would never settle)",
                 format_si(tau0, "s", 4)
             )));
         } else {
@@ -332,10 +332,11 @@ impl MeasurementFilter {
         let runs = gap_free_runs(&rec.x);
         for &(start, len) in &runs {
             let mut f = Running::settled(&sections, rec.x[start]);
-            for i in start..start + len {
-                let v = f.step(rec.x[i]);
-                if i - start >= settle {
-                    y[i] = v;
+            let out = &mut y[start..start + len];
+            for (k, (o, &x)) in out.iter_mut().zip(&rec.x[start..start + len]).enumerate() {
+                let v = f.step(x);
+                if k >= settle {
+                    *o = v;
                 }
             }
         }

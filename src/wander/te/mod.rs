@@ -185,7 +185,14 @@ pub fn metrics_at(
     let span = (rec.len() - 1) as f64 * rec.tau0;
     let mut notes = Vec::new();
     let m = (opts.cte_window / rec.tau0).round();
-    let (windowed, at, windows) = if m < 1.0 || m > rec.len() as f64 {
+    let (windowed, at, windows) = if m < 1.0 {
+        notes.push(format!(
+            "the windowed cTE was not computed: the cTE window ({}) is shorter than τ0 ({})",
+            format_si(opts.cte_window, "s", 4),
+            format_si(rec.tau0, "s", 4)
+        ));
+        (None, None, 0)
+    } else if m > rec.len() as f64 {
         notes.push(format!(
             "the windowed cTE was not computed: the record ({}) is shorter than the cTE window ({})",
             format_si(span, "s", 4),
