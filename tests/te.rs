@@ -649,6 +649,19 @@ fn cte_window_that_does_not_fit() {
         assert_eq!(te.cte_windows, 0);
         assert!(te.notes.iter().any(|n| n.contains(says)), "{:?}", te.notes);
     }
+    // τ0 = 10 s puts the 0.1 Hz split above the Nyquist frequency: refused,
+    // saying why.
+    let opts = Options {
+        te: Some(TeOptions::default()),
+        ..Options::default()
+    };
+    let e = analyse(&rec(noise(200, 2, 1e-9), 10.0), &opts, &[])
+        .unwrap_err()
+        .to_string();
+    assert!(
+        e.contains("time-error metrics") && e.contains("Nyquist"),
+        "{e}"
+    );
     // A corner so low that the discrete filter never settles: an error, no panic.
     let e = MeasurementFilter::lowpass(1e-300)
         .apply(&rec(noise(200, 2, 1e-9), 1.0))

@@ -251,6 +251,15 @@ pub fn split(rec: &PhaseRecord, opts: &TeOptions) -> Result<(filter::Filtered, f
 /// worked on in an exactly rescaled copy, as the wander analysis does.
 pub fn metrics(rec: &PhaseRecord, opts: &TeOptions, grid: &super::Options) -> Result<TeMetrics> {
     use super::masks::Metric;
+    let nyquist = 0.5 / rec.tau0;
+    if opts.split_hz.is_nan() || opts.split_hz >= nyquist {
+        return Err(Error::invalid(format!(
+            "the time-error metrics split the record at {} (dTE_L below, dTE_H above), which must lie below the record's Nyquist frequency 1/(2τ0) = {}: they need τ0 below {}",
+            format_si(opts.split_hz, "Hz", 4),
+            format_si(nyquist, "Hz", 4),
+            format_si(0.5 / opts.split_hz, "s", 4)
+        )));
+    }
     let rescaled = rec.rescaled_for_squares();
     let (r, back) = match &rescaled {
         Some((r, k)) => (r, *k),
