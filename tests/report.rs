@@ -212,6 +212,7 @@ fn full_report(name: &str) -> Report {
             source_note: "values recalled from memory".into(),
         }],
         notes: vec![],
+        te: None,
     });
     // docs/checks.md §G (analytic): D = 1e-10/day over 24 h gives 4.32 µs.
     let t: Vec<f64> = (0..=24).map(|h| h as f64 * 3600.0).collect();

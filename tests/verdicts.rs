@@ -543,6 +543,7 @@ fn report_margins_and_degrees() {
             source_note: "n".into(),
         }],
         notes: vec![],
+        te: None,
     });
     let html = render_html(&r).unwrap();
     assert!(!html.contains("-0.00 dB") && !html.contains("−0.00 dB"));

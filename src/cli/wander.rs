@@ -5,12 +5,13 @@ use super::common::{InputArgs, OutputArgs, PlotArgs};
 use super::Outcome;
 use clap::Args as ClapArgs;
 use std::path::PathBuf;
-use tauwise::parse::parse_tau_range;
+use tauwise::parse::{parse_tau_range, Duration, TeFilter};
 use tauwise::results::{RecordInput, WanderBody};
 use tauwise::tau::TauGrid;
 use tauwise::units::UnitError;
 use tauwise::verdict::gate;
 use tauwise::wander::masks::builtin;
+use tauwise::wander::te::{TeOptions, DEFAULT_CTE_WINDOW};
 use tauwise::wander::{analyse, mask_file::read_mask_file, Options};
 use tauwise::Result;
 
@@ -43,6 +44,19 @@ pub struct Args {
     /// Remove the least-squares constant frequency offset first.
     #[arg(long)]
     pub remove_offset: bool,
+    /// Measurement filter applied to the time-error record before the TIE
+    /// statistics, MTIE, TDEV and the masks: lowpass:FC or highpass:FC,
+    /// optionally with an order (lowpass:2:0.1Hz); see docs/time-error.md.
+    #[arg(long, value_name = "FILTER", value_parser = str::parse::<TeFilter>)]
+    pub te_filter: Option<TeFilter>,
+    /// Add the time-error metrics: cTE (mean, and the largest mean over
+    /// --cte-window), max |TE|, dTE_L (MTIE, TDEV through a 0.1 Hz low-pass),
+    /// dTE_H (peak-to-peak through a 0.1 Hz high-pass).
+    #[arg(long)]
+    pub te: bool,
+    /// Window of the windowed cTE, with its unit (default 1000s); needs --te.
+    #[arg(long, value_name = "DURATION", requires = "te", value_parser = cte_window)]
+    pub cte_window: Option<f64>,
     /// Exit with status 3 when any mask is exceeded, 4 when none is but one
     /// cannot be judged (for scripts).
     #[arg(long)]
@@ -73,6 +87,11 @@ pub fn run(args: Args) -> Result<Outcome> {
         grid: args.taus.clone(),
         range: args.tau_range,
         remove_offset: args.remove_offset,
+        filter: args.te_filter,
+        te: args.te.then(|| TeOptions {
+            cte_window: args.cte_window.unwrap_or(DEFAULT_CTE_WINDOW),
+            ..TeOptions::default()
+        }),
     };
     let res = analyse(&rec, &opts, &masks)?;
     let title = series.info.path.display().to_string();
@@ -97,4 +116,9 @@ fn mask_name(text: &str) -> std::result::Result<String, UnitError> {
             text: text.to_string(),
             reason: e.to_string(),
         })
+}
+
+/// `--cte-window`: a positive duration with its unit.
+fn cte_window(text: &str) -> std::result::Result<f64, UnitError> {
+    Duration::positive_with_unit(text).map(Duration::seconds)
 }

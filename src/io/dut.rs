@@ -131,6 +131,9 @@ struct RawWander {
     remove_offset: Option<bool>,
     taus: Option<Spanned<String>>,
     tau_range: Option<Spanned<Vec<Spanned<toml::Value>>>>,
+    te_filter: Option<Spanned<toml::Value>>,
+    te: Option<bool>,
+    cte_window: Option<Spanned<toml::Value>>,
 }
 
 #[derive(Debug, Deserialize)]
@@ -365,6 +368,12 @@ pub struct WanderSpec {
     pub taus: Option<crate::tau::TauGrid>,
     /// Only τ in this range (s): `tau_range = ["1s", "3h"]`.
     pub tau_range: Option<(f64, f64)>,
+    /// Measurement filter on the time-error record (`te_filter =
+    /// "lowpass:0.1Hz"`, as `wander --te-filter`).
+    pub te_filter: Option<crate::wander::te::filter::MeasurementFilter>,
+    /// Time-error metrics (`te = true`, as `wander --te`), with the cTE
+    /// window (`cte_window = "1000s"`, as `--cte-window`).
+    pub te: Option<crate::wander::te::TeOptions>,
 }
 
 /// The holdover question.
@@ -1184,10 +1193,10 @@ fn wander(
     tie: &[TimeSource],
     records: &[TimeSource],
 ) -> Result<WanderSpec, ReadError> {
-    if w.masks.is_empty() && w.mask_files.is_empty() {
+    if w.masks.is_empty() && w.mask_files.is_empty() && w.te != Some(true) {
         return Err(ReadError::file(
             cx.file,
-            "wander: expected at least one of masks or mask_files",
+            "wander: expected at least one of masks, mask_files or te = true",
         )
         .because(ReadCause::Schema));
     }
@@ -1245,7 +1254,28 @@ fn wander(
             Some((a, b))
         }
     };
+    let te_filter = cx.opt_value(
+        &w.te_filter,
+        "wander.te_filter",
+        "a measurement filter such as \"lowpass:0.1Hz\"",
+        str::parse::<crate::parse::TeFilter>,
+    )?;
+    if let (Some(c), false) = (&w.cte_window, w.te == Some(true)) {
+        return cx.err(c.span(), "wander.cte_window", "needs te = true");
+    }
+    let te = match w.te {
+        Some(true) => Some(crate::wander::te::TeOptions {
+            cte_window: match &w.cte_window {
+                Some(c) => cx.duration_with_unit(c, "wander.cte_window", true)?,
+                None => crate::wander::te::DEFAULT_CTE_WINDOW,
+            },
+            ..crate::wander::te::TeOptions::default()
+        }),
+        _ => None,
+    };
     Ok(WanderSpec {
+        te_filter,
+        te,
         taus,
         tau_range,
         masks: w

@@ -12,6 +12,7 @@
 //! | rate (fractional frequency per time) | [`Rate`] | `1ppb/day`, `5e-11/week`, `5e-11/24h` |
 //! | probability (confidence level) | [`Probability`] | `0.683`, `0.95` |
 //! | weighting filter | [`Filter`] | `highpass:1:12k`, `lp:2:20MHz` |
+//! | measurement filter on time error | [`TeFilter`] | `lowpass:0.1Hz`, `highpass:2:100mHz` |
 //! | estimator list | [`EstimatorList`] | `oadev,mdev` |
 //! | power-law model | [`Model`] | `h0=1e-22,h-1=3e-26,fh=0.5` |
 //! | τ grid | [`crate::tau::TauGrid`] | `octave`, `log:10`, `1,10,100s,1h` |
@@ -29,6 +30,7 @@ mod filter;
 mod model;
 mod options;
 mod quantity;
+mod te_filter;
 
 pub use crate::io::binary::BinaryFormat;
 pub use estimators::EstimatorList;
@@ -39,3 +41,4 @@ pub use options::{
     parse_tau_range, points, snap_fraction, temp_coeff, temp_swing, time_column, TimeColumn,
 };
 pub use quantity::{uncertainty_db, Duration, Fraction, Frequency, Probability, Rate};
+pub use te_filter::TeFilter;

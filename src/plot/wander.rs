@@ -188,6 +188,9 @@ pub fn wander_chart(
             "A constant frequency offset of {y:.4e} was removed first."
         ));
     }
+    if let Some(f) = &res.filter {
+        notes.push(format!("Measurement filter: {}.", f.line()));
+    }
     if !masks.is_empty() {
         notes.push(format!(
             "{} {}",

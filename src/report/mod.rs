@@ -311,6 +311,8 @@ pub struct WanderSection {
     pub masks: Vec<MaskRow>,
     /// Notes.
     pub notes: Vec<String>,
+    /// Time-error metrics, when the DUT file asks for them (`te = true`).
+    pub te: Option<crate::wander::te::TeMetrics>,
 }
 
 /// One holdover span.

@@ -537,11 +537,57 @@ fn wander(h: &mut Html, p: &Part<WanderSection>, pre: &str) -> Result<()> {
                 srcs.dedup();
                 h.ul(&srcs);
             }
+            if let Some(te) = &s.te {
+                te_part(h, te);
+            }
             notes(h, &s.notes);
         }
     }
     h.close_section();
     Ok(())
+}
+
+/// The time-error metrics of the wander section: the values, the filters
+/// of the dTE split, dTE_L's MTIE and TDEV, and what they rest on.
+fn te_part(h: &mut Html, te: &crate::wander::te::TeMetrics) {
+    h.p("Time error (the record's values as read, not relative to its first sample):");
+    h.dl(&[
+        ("cTE, mean over the record".into(), secs(te.cte)),
+        (
+            format!("cTE, largest |mean| over {} windows", secs(te.cte_window)),
+            opt(te.cte_windowed_max_abs, secs),
+        ),
+        ("max |TE|".into(), secs(te.max_abs)),
+        (
+            "dTE_H, peak-to-peak through the high-pass".into(),
+            secs(te.dte_h_pkpk),
+        ),
+        ("dTE_L low-pass".into(), te.lowpass.line()),
+        ("dTE_H high-pass".into(), te.highpass.line()),
+    ]);
+    let mut taus: Vec<f64> = te
+        .dte_l_mtie
+        .iter()
+        .chain(&te.dte_l_tdev)
+        .map(|p| p.tau)
+        .collect();
+    taus.sort_by(f64::total_cmp);
+    taus.dedup();
+    let find = |c: &[crate::deviation::Estimate], x: f64| {
+        opt(c.iter().find(|p| p.tau == x).map(|p| p.value), secs)
+    };
+    let rows: Vec<Vec<Cell>> = taus
+        .iter()
+        .map(|&x| {
+            vec![
+                n(tau(x)),
+                n(find(&te.dte_l_mtie, x)),
+                n(find(&te.dte_l_tdev, x)),
+            ]
+        })
+        .collect();
+    h.table("dte-l", &["τ", "dTE_L MTIE", "dTE_L TDEV"], &rows);
+    notes(h, &te.notes);
 }
 
 fn holdover(h: &mut Html, p: &Part<HoldoverSection>, pre: &str) -> Result<()> {

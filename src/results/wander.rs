@@ -9,8 +9,9 @@ use crate::verdict::Verdict;
 use crate::wander::WanderResult;
 use serde::Serialize;
 
-/// The `wander` results: `{"tie","mtie","tdev","masks","caution"?}`
-/// ([`WanderResult`]); `"caution"` when masks were checked.
+/// The `wander` results: `{"tie","mtie","tdev","masks","filter"?,"te"?,
+/// "observation"?,"caution"?}` ([`WanderResult`]); `"caution"` when masks
+/// were checked or the time-error metrics computed.
 #[derive(Debug, Clone, Serialize)]
 pub struct WanderBody {
     /// The analysis.
@@ -24,7 +25,7 @@ pub struct WanderBody {
 impl WanderBody {
     /// The document body of `result`.
     pub fn new(result: WanderResult) -> Self {
-        let caution = (!result.checks.is_empty()).then(|| {
+        let caution = (!result.checks.is_empty() || result.te.is_some()).then(|| {
             format!(
                 "{} {}",
                 crate::wander::masks::CONDITIONS_NOTE,
@@ -34,20 +35,24 @@ impl WanderBody {
         Self { result, caution }
     }
 
-    /// CSV: `estimator` (`mtie`, `tdev`), `origin` (`measured`), then
+    /// CSV: `estimator` (`mtie`, `tdev`; with the time-error metrics also
+    /// `dte_l_mtie`, `dte_l_tdev`), `origin` (`measured`), then
     /// [`Point::COLUMNS`], as the rows of `stability`.
     pub fn csv(&self) -> Result<String> {
         let mut header = vec!["estimator", "origin"];
         header.extend(Point::COLUMNS);
-        let rows = [("mtie", &self.result.mtie), ("tdev", &self.result.tdev)]
-            .into_iter()
-            .flat_map(|(name, c)| {
-                c.iter().map(move |e: &Estimate| {
-                    let mut r = vec![name.to_string(), "measured".to_string()];
-                    r.extend(Point::bare(*e).cells());
-                    r
-                })
-            });
+        let mut curves = vec![("mtie", &self.result.mtie), ("tdev", &self.result.tdev)];
+        if let Some(te) = &self.result.te {
+            curves.push(("dte_l_mtie", &te.dte_l_mtie));
+            curves.push(("dte_l_tdev", &te.dte_l_tdev));
+        }
+        let rows = curves.into_iter().flat_map(|(name, c)| {
+            c.iter().map(move |e: &Estimate| {
+                let mut r = vec![name.to_string(), "measured".to_string()];
+                r.extend(Point::bare(*e).cells());
+                r
+            })
+        });
         csv_text(&header, rows)
     }
 }
@@ -67,8 +72,21 @@ impl WanderBody {
             si(input.tau0),
             input.gaps
         ));
+        if let Some(f) = &r.filter {
+            s.line(format!("measurement filter: {}", f.line()));
+        }
+        if let Some(o) = &r.observation {
+            s.line(o.line());
+            for w in &o.warnings {
+                s.line(format!("  warning: {w}"));
+            }
+        }
         s.blank();
-        s.line("TIE over the record");
+        s.line(if r.filter.is_some() {
+            "TIE over the record, through the measurement filter"
+        } else {
+            "TIE over the record"
+        });
         if let Some(y) = r.tie.offset_removed {
             s.line(format!("  frequency offset removed  {y:.4e}"));
         }
@@ -99,6 +117,9 @@ impl WanderBody {
             tab.row(vec![Cell::num(t), find(&r.mtie), find(&r.tdev)]);
         }
         s.table(tab);
+        if let Some(te) = &r.te {
+            te_table(&mut s, te);
+        }
         for c in &r.checks {
             s.blank();
             s.line(format!(
@@ -162,11 +183,75 @@ impl WanderBody {
                 s.line(format!("  {} violating τ: {shown}", c.violations.len()));
             }
         }
-        if !r.checks.is_empty() {
+        if !r.checks.is_empty() || r.te.is_some() {
             s.blank();
             s.line(crate::wander::masks::CONDITIONS_NOTE);
             s.line(crate::DECISION_CAUTION);
         }
         s
+    }
+}
+
+/// The time-error metrics for reading.
+fn te_table(s: &mut Text, te: &crate::wander::te::TeMetrics) {
+    let si = |v: f64| format_si(v, "s", 4);
+    s.blank();
+    s.line("time error (the values as read, not relative to the first sample)");
+    let mut t = Table::new(vec![
+        Column::left("", 44),
+        Column::left("", 0).unit(Unit::Si("s")),
+    ])
+    .indent(2);
+    t.row(vec![
+        Cell::text("cTE, mean over the record"),
+        Cell::num(te.cte),
+    ]);
+    t.row(vec![
+        Cell::text(format!(
+            "cTE, largest |mean| over {} windows",
+            si(te.cte_window)
+        )),
+        Cell::opt(te.cte_windowed_max_abs),
+    ]);
+    t.row(vec![Cell::text("max |TE|"), Cell::num(te.max_abs)]);
+    t.row(vec![
+        Cell::text("dTE_H, peak-to-peak through the high-pass"),
+        Cell::num(te.dte_h_pkpk),
+    ]);
+    s.table(t);
+    if let Some(at) = te.cte_windowed_at {
+        s.line(format!(
+            "  the largest windowed cTE: window starting at t = {} ({} windows, sliding by one sample)",
+            si(at),
+            te.cte_windows
+        ));
+    }
+    s.line(format!("  dTE_L low-pass: {}", te.lowpass.line()));
+    s.line(format!("  dTE_H high-pass: {}", te.highpass.line()));
+    let mut tab = Table::new(vec![
+        Column::right("τ", 12).unit(Unit::Si("s")),
+        Column::right("dTE_L MTIE", 12).unit(Unit::Si("s")).gap(2),
+        Column::right("dTE_L TDEV", 12).unit(Unit::Si("s")).gap(2),
+    ]);
+    let mut taus: Vec<f64> = te
+        .dte_l_mtie
+        .iter()
+        .chain(&te.dte_l_tdev)
+        .map(|p| p.tau)
+        .collect();
+    taus.sort_by(f64::total_cmp);
+    taus.dedup();
+    for t in taus {
+        let find = |c: &[Estimate]| Cell::opt(c.iter().find(|p| p.tau == t).map(|p| p.value));
+        tab.row(vec![
+            Cell::num(t),
+            find(&te.dte_l_mtie),
+            find(&te.dte_l_tdev),
+        ]);
+    }
+    s.blank();
+    s.table(tab);
+    for n in &te.notes {
+        s.line(format!("  {n}"));
     }
 }

@@ -11,11 +11,17 @@
 //! - [`check`] — a measured curve against a mask: verdict, worst margin,
 //!   crossing τ, violations.
 //!
+//! - [`te`] — measurement filters on the time-error record
+//!   ([`te::filter`]) and the time-error metrics (cTE, max |TE|, dTE_L,
+//!   dTE_H); [`observation`] — what the record's span lets a mask check.
+//!
 //! [`analyse`] runs all of it on one record.
 
 pub mod check;
 pub mod mask_file;
 pub mod masks;
+pub mod observation;
+pub mod te;
 pub mod tie;
 
 use crate::deviation::{compute, Estimate, Estimator};
@@ -62,6 +68,11 @@ pub struct Options {
     pub range: Option<(f64, f64)>,
     /// Remove the least-squares constant frequency offset first.
     pub remove_offset: bool,
+    /// A measurement filter applied to the record (after the offset removal)
+    /// before the TIE statistics, MTIE, TDEV and the mask checks.
+    pub filter: Option<te::filter::MeasurementFilter>,
+    /// Compute the time-error metrics ([`te`]) too, with these options.
+    pub te: Option<te::TeOptions>,
 }
 
 /// The averaging factors of one metric's curve for a record of `points`
@@ -164,6 +175,16 @@ pub struct WanderResult {
     /// One check per mask given (`"masks"` in the `wander` document).
     #[serde(rename = "masks")]
     pub checks: Vec<MaskCheck>,
+    /// The measurement filter applied before everything above, when asked.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub filter: Option<te::filter::AppliedFilter>,
+    /// The time-error metrics, when asked.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub te: Option<te::TeMetrics>,
+    /// The observation the verdicts (and the time-error metrics) rest on,
+    /// when masks were checked or the metrics asked for.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub observation: Option<observation::Observation>,
 }
 
 /// Run the wander analysis: TIE statistics, MTIE and TDEV on the τ of
@@ -172,26 +193,65 @@ pub struct WanderResult {
 /// `remove_offset`, the least-squares constant frequency offset is removed
 /// from the record before everything else (MTIE of an offset alone is y·τ
 /// and would hide the wander); TDEV is unaffected by it (second
-/// differences).
+/// differences). With a measurement filter (`opts.filter`), the record
+/// (offset removed when asked) goes through it first and everything above
+/// is computed on the filtered record, its settling intervals dropped
+/// ([`te::filter`]). With `opts.te`, the time-error metrics of the record
+/// (offset removed when asked, never through the measurement filter: their
+/// filters are part of their definition) are added ([`te`]); with masks or
+/// `opts.te`, the observation they rest on ([`observation`]).
 pub fn analyse(rec: &PhaseRecord, opts: &Options, masks: &[Mask]) -> Result<WanderResult> {
-    let n = rec.len();
-    let (mtie_ms, mtie_support) = plan(Metric::Mtie, n, rec.tau0, opts, masks)?;
-    let (tdev_ms, tdev_support) = plan(Metric::Tdev, n, rec.tau0, opts, masks)?;
+    // The record the time-error metrics and the measurement filter see: as
+    // read, or with the least-squares frequency offset removed.
+    let offset = if opts.remove_offset && (opts.filter.is_some() || opts.te.is_some()) {
+        Some(tie::frequency_offset(rec)?)
+    } else {
+        None
+    };
+    let base_owned;
+    let base = match offset {
+        Some(y) => {
+            base_owned = tie::remove_offset(rec, y);
+            &base_owned
+        }
+        None => rec,
+    };
+    // The measurement filter first: its settling interval shortens the record
+    // every τ is planned on.
+    let filtered = opts.filter.map(|f| f.apply(base)).transpose()?;
+    let (work, remove) = match &filtered {
+        Some(f) => (&f.record, false),
+        None => (rec, opts.remove_offset),
+    };
+    let n = work.len();
+    let (mtie_ms, mtie_support) = plan(Metric::Mtie, n, work.tau0, opts, masks)?;
+    let (tdev_ms, tdev_support) = plan(Metric::Tdev, n, work.tau0, opts, masks)?;
     // Each mask is checked on the τ of its own plan (the grid, the record's
     // end and its own breakpoints), so that its verdict does not depend on
     // which other masks were asked for; the curves hold the union.
     let own = masks
         .iter()
-        .map(|m| plan(m.metric, n, rec.tau0, opts, std::slice::from_ref(m)).map(|p| p.0))
+        .map(|m| plan(m.metric, n, work.tau0, opts, std::slice::from_ref(m)).map(|p| p.0))
         .collect::<Result<Vec<_>>>()?;
-    run(
-        rec,
+    let mut res = run(
+        work,
         (&mtie_ms, &mtie_support),
         (&tdev_ms, &tdev_support),
-        opts.remove_offset,
+        remove,
         masks,
         Some(&own),
-    )
+    )?;
+    if let Some(f) = &filtered {
+        res.filter = Some(f.applied.clone());
+        res.tie.offset_removed = offset;
+    }
+    if let Some(t) = &opts.te {
+        res.te = Some(te::metrics(base, t, opts)?);
+    }
+    if !masks.is_empty() || opts.te.is_some() {
+        res.observation = Some(observation::observe(work, masks));
+    }
+    Ok(res)
 }
 
 /// [`analyse`] on given averaging factors for MTIE and TDEV, each with the
@@ -274,5 +334,8 @@ fn run(
         mtie,
         tdev,
         checks,
+        filter: None,
+        te: None,
+        observation: None,
     })
 }

@@ -40,6 +40,8 @@ pub(super) fn wander(dut: &Dut, records: &[Loaded], ties: &[Loaded], r: &mut Rep
         grid: w.taus.clone(),
         range: w.tau_range,
         remove_offset: w.remove_offset,
+        filter: w.te_filter,
+        te: w.te,
     };
     let res = match crate::wander::analyse(&rec, &opts, &masks) {
         Ok(x) => x,
@@ -67,6 +69,12 @@ pub(super) fn wander(dut: &Dut, records: &[Loaded], ties: &[Loaded], r: &mut Rep
         "mask checks",
         "ITU-T G.811, G.8262, G.8272 masks (built-in values recalled from memory) or the user's mask files",
     ));
+    if res.te.is_some() || res.filter.is_some() {
+        r.methods.push(method(
+            "time error",
+            "measurement filters: Butterworth by the bilinear transform, corner pre-warped, settling dropped; cTE, max |TE|, dTE_L (MTIE, TDEV through a 0.1 Hz low-pass), dTE_H (peak-to-peak through a 0.1 Hz high-pass), split recalled from memory (ITU-T G.8273.2); docs/time-error.md",
+        ));
+    }
     let plots = crate::plot::wander::plots_from_result(
         &res,
         &masks,
@@ -125,7 +133,20 @@ pub(super) fn wander(dut: &Dut, records: &[Loaded], ties: &[Loaded], r: &mut Rep
             source_note: c.source_note.clone(),
         });
     }
-    let mut notes = vec![CONDITIONS_NOTE.to_string()];
+    let mut notes = Vec::new();
+    if let Some(f) = &res.filter {
+        notes.push(format!(
+            "Measurement filter applied before the TIE statistics, MTIE, TDEV and the masks: {}.",
+            f.line()
+        ));
+    }
+    if let Some(o) = &res.observation {
+        notes.push(format!("{}.", capitalised(&o.line())));
+        for w in &o.warnings {
+            notes.push(format!("Warning: {w}."));
+        }
+    }
+    notes.push(CONDITIONS_NOTE.to_string());
     if !w.masks.is_empty() {
         notes.push(format!("Built-in masks: {FROM_MEMORY_NOTE}."));
     }
@@ -145,8 +166,18 @@ pub(super) fn wander(dut: &Dut, records: &[Loaded], ties: &[Loaded], r: &mut Rep
         plots,
         masks: rows,
         notes,
+        te: res.te.clone(),
     });
     Ok(())
+}
+
+/// `text` with its first letter in upper case.
+fn capitalised(text: &str) -> String {
+    let mut c = text.chars();
+    match c.next() {
+        Some(f) => f.to_uppercase().chain(c).collect(),
+        None => String::new(),
+    }
 }
 
 /// The holdover section and one verdict per span.

@@ -182,3 +182,151 @@ fn holdover_chart(f: &Fleet) -> Chart {
         "no holdover",
     )
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::plot::style::device_colour;
+    use crate::report::Report;
+
+    fn report(name: &str) -> Report {
+        use crate::plot::holdover::HoldoverPlot;
+        use crate::plot::phase_noise::{LfTrace, PhaseNoisePlot, TraceKind};
+        use crate::plot::stability::{SigmaCurve, StabilityPlot};
+        use crate::plot::wander::{MaskLine, Metric, WanderPlot};
+        use crate::report::*;
+        let mut r = Report::empty(name, "");
+        let pts: Vec<XY> = (0..8)
+            .map(|k| {
+                let t = 2f64.powi(k);
+                XY::with_interval(t, 1e-11 / t.sqrt(), Some(0.9e-11), Some(1.1e-11))
+            })
+            .collect();
+        r.stability = Part::Done(vec![StabilitySection {
+            source: "rec".into(),
+            quality: None,
+            preparation: vec![],
+            plot: Some(StabilityPlot {
+                title: name.into(),
+                curves: vec![SigmaCurve {
+                    name: "oadev".into(),
+                    estimator: crate::deviation::Estimator::Oadev,
+                    origin: crate::deviation::Origin::Measured,
+                    points: pts,
+                }],
+                regions: vec![],
+                confidence: Some(0.683),
+                notes: vec![],
+            }),
+            rows: vec![],
+            confidence: 0.683,
+            notes: vec![],
+        }]);
+        r.phase_noise = Part::Done(PhaseNoiseSection {
+            source: "t".into(),
+            carrier: 10e6,
+            plot: PhaseNoisePlot {
+                title: name.into(),
+                carrier: Some(10e6),
+                traces: vec![LfTrace {
+                    name: "t".into(),
+                    kind: TraceKind::Table,
+                    points: vec![(1.0, -90.0), (1e6, -150.0)],
+                }],
+                bands: vec![],
+                notes: vec![],
+            },
+            bands: vec![],
+            notes: vec![],
+        });
+        let wp = |metric| WanderPlot {
+            title: name.into(),
+            metric,
+            measured: vec![(1.0, 1e-9), (100.0, 1e-8)],
+            masks: vec![MaskLine {
+                name: "m".into(),
+                limit: vec![(1.0, 1e-7), (100.0, 1e-6)],
+                violations: vec![],
+            }],
+            notes: vec![],
+        };
+        r.wander = Part::Done(WanderSection {
+            source: "tie".into(),
+            tie: None,
+            plots: vec![wp(Metric::Mtie), wp(Metric::Tdev)],
+            masks: vec![],
+            notes: vec![],
+            te: None,
+        });
+        let t: Vec<f64> = (0..=8).map(|h| h as f64 * 3600.0).collect();
+        r.holdover = Part::Done(HoldoverSection {
+            source: "rec".into(),
+            budget: 1.5e-6,
+            plot: HoldoverPlot {
+                title: name.into(),
+                p50: t.iter().map(|s| s * 1e-11).collect(),
+                p95: t.iter().map(|s| s * 2e-11).collect(),
+                p99: t.iter().map(|s| s * 3e-11).collect(),
+                deterministic: t.iter().map(|s| s * 1e-11).collect(),
+                t,
+                budget: Some(1.5e-6),
+                holds_for: None,
+                span: 8.0 * 3600.0,
+                notes: vec![],
+                observed: vec![],
+            },
+            spans: vec![],
+            holds_for: None,
+            aging_per_day: None,
+            parameters: vec![],
+            notes: vec![],
+        });
+        r
+    }
+
+    /// Every overlaid chart has one series per device (two for holdover:
+    /// p95 and p50) in that device's palette colour, the same in every
+    /// chart.
+    #[test]
+    fn one_series_per_device_in_its_colour_in_every_chart() {
+        let names = ["ocxo-a", "ocxo-b", "rb-1"];
+        let reports: Vec<Report> = names.iter().map(|n| report(n)).collect();
+        let duts: Vec<String> = names.iter().map(|n| format!("{n}.toml")).collect();
+        let f = Fleet::from_reports(reports, &duts).unwrap();
+        let charts = charts(&f);
+        assert_eq!(charts.len(), 5);
+        for (stem, ch) in &charts {
+            for (i, name) in names.iter().enumerate() {
+                let mine: Vec<&Series> = ch
+                    .series
+                    .iter()
+                    .filter(|s| s.name == *name || s.name.starts_with(&format!("{name} ")))
+                    .collect();
+                let want = if stem == "fleet-holdover" { 2 } else { 1 };
+                assert_eq!(mine.len(), want, "{stem}: {name}");
+                for s in mine {
+                    assert_eq!(s.style.colour, device_colour(i), "{stem}: {name}");
+                }
+                if let Some(s) = ch.series.iter().find(|s| s.name == *name) {
+                    assert_eq!(s.style.marker, device_marker(i), "{stem}: {name}");
+                }
+            }
+        }
+        // No other series takes a device colour.
+        for (stem, ch) in &charts {
+            for s in &ch.series {
+                if !names.iter().any(|n| s.name.starts_with(n)) {
+                    assert!(
+                        !(0..names.len()).any(|i| s.style.colour == device_colour(i)),
+                        "{stem}: {}",
+                        s.name
+                    );
+                }
+            }
+        }
+        // The same device name twice is refused.
+        let twice = vec![report("x"), report("x")];
+        let e = Fleet::from_reports(twice, &["a.toml".into(), "b.toml".into()]).unwrap_err();
+        assert!(e.to_string().contains("a.toml") && e.to_string().contains("b.toml"));
+    }
+}
