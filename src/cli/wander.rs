@@ -11,7 +11,7 @@ use tauwise::tau::TauGrid;
 use tauwise::units::UnitError;
 use tauwise::verdict::gate;
 use tauwise::wander::masks::{builtin, CONDITIONS_NOTE};
-use tauwise::wander::{analyse, mask_file::read_mask_file, Options};
+use tauwise::wander::{analyse, Options};
 use tauwise::{Result, DECISION_CAUTION};
 
 /// MTIE, TDEV and TIE statistics against wander masks.
@@ -37,8 +37,10 @@ pub struct Args {
     /// Built-in mask to check (repeatable): g811, g8272-prtc-a, g8262-opt1.
     #[arg(long = "mask", value_name = "NAME", value_parser = mask_name)]
     pub masks: Vec<String>,
-    /// User mask file to check (repeatable); see docs/mask-file.md.
-    #[arg(long = "mask-file", value_name = "FILE")]
+    /// Limit file to check (repeatable; TOML, see docs/limit-file.md): its
+    /// mtie and tdev limits are checked here, any other metric is named as
+    /// left to `stability` or `jitter`. `--mask-file` is the same option.
+    #[arg(long = "limit-file", visible_alias = "mask-file", value_name = "FILE")]
     pub mask_files: Vec<PathBuf>,
     /// Remove the least-squares constant frequency offset first.
     #[arg(long)]
@@ -64,8 +66,12 @@ pub fn run(args: Args) -> Result<Outcome> {
     for name in &args.masks {
         masks.extend(builtin(name)?);
     }
+    let mut elsewhere = Vec::new();
     for f in &args.mask_files {
-        masks.extend(read_mask_file(f)?);
+        let file = tauwise::limits::read_limit_file(f)?;
+        file.require_for("wander")?;
+        masks.extend(file.masks());
+        elsewhere.extend(tauwise::limits::elsewhere(&file.limits, "wander"));
     }
     let progress = super::common::Progress::start("wander");
     progress.stage(format!("reading {}", args.file.display()));
@@ -96,12 +102,11 @@ pub fn run(args: Args) -> Result<Outcome> {
         let chart = tauwise::plot::wander::combined_chart(&plots, &notes);
         tauwise::plot::render(&chart, path, tauwise::plot::DEFAULT_SIZE)?;
     }
+    let body = WanderBody::new(res.clone()).with_elsewhere(elsewhere);
     let text = match args.output.format() {
-        Format::Json => json_doc((&series).into(), WanderBody::new(res.clone()))?,
-        Format::Csv => WanderBody::new(res.clone()).csv()?,
-        Format::Table => WanderBody::new(res.clone())
-            .table(&RecordInput::of(&series))
-            .render(),
+        Format::Json => json_doc((&series).into(), body)?,
+        Format::Csv => body.csv()?,
+        Format::Table => body.table(&RecordInput::of(&series)).render(),
     };
     emit(&args.output, &text)?;
     Ok(Outcome::of_gate(

@@ -21,6 +21,7 @@ mod fleet;
 mod holdover;
 mod inspect;
 mod jitter;
+mod limits;
 mod noise;
 mod prepare;
 mod separate;
@@ -42,6 +43,7 @@ pub use inspect::InspectBody;
 pub use jitter::{
     extrapolated_text, BandOutcome, JitterBand, JitterBody, MaybeJudged, SPUR_CONVENTION,
 };
+pub use limits::{check_text as limit_check_text, LimitsPart};
 pub use noise::{noise_cells, rms, DominantRange, ModelSummary, NoiseBody};
 pub use prepare::PrepareNotes;
 pub use separate::{separate_text, PairInputs, SeparateBody};

@@ -9,7 +9,6 @@ use crate::plot::holdover::HoldoverPlot;
 use crate::report::*;
 use crate::units::{format_margin_db, format_si};
 use crate::verdict::{Judgement, Verdict};
-use crate::wander::mask_file::read_mask_file;
 use crate::wander::masks::{builtin, CONDITIONS_NOTE, FROM_MEMORY_NOTE};
 
 /// The wander section and one verdict per mask.
@@ -23,7 +22,7 @@ pub(super) fn wander(dut: &Dut, records: &[Loaded], ties: &[Loaded], r: &mut Rep
         masks.extend(builtin(name)?);
     }
     for f in &w.mask_files {
-        masks.extend(read_mask_file(f)?);
+        masks.extend(crate::limits::read_limit_file(f)?.masks());
     }
     let chosen = match &w.source {
         Some(n) => ties.iter().chain(records).find(|l| &l.src.name == n),
@@ -65,7 +64,7 @@ pub(super) fn wander(dut: &Dut, records: &[Loaded], ties: &[Loaded], r: &mut Rep
     ));
     r.methods.push(method(
         "mask checks",
-        "ITU-T G.811, G.8262, G.8272 masks (built-in values recalled from memory) or the user's mask files",
+        "ITU-T G.811, G.8262, G.8272 masks (built-in values recalled from memory) or the user's limit files",
     ));
     let plots = crate::plot::wander::plots_from_result(
         &res,

@@ -161,7 +161,7 @@ pub fn from_dut_with_progress(
     if let Some(w) = &dut.wander {
         for f in &w.mask_files {
             r.inputs.push(Provenance::of_file(
-                "mask file",
+                "limit file",
                 &f.display().to_string(),
                 f,
             )?);
