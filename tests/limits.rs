@@ -488,3 +488,14 @@ fn wander_reads_limit_files() {
         &o,
     );
 }
+
+/// The demo lab's limit file (demo-data/, invented) reads, and each of its
+/// limits names the command that checks it.
+#[test]
+fn demo_limit_file_reads() {
+    let p = Path::new(env!("CARGO_MANIFEST_DIR")).join("demo-data/acceptance-limits.toml");
+    let f = tauwise::limits::read_limit_file(&p).unwrap();
+    assert_eq!(f.name, "lab-acceptance");
+    let cmds: Vec<&str> = f.limits.iter().map(|l| l.metric.command()).collect();
+    assert_eq!(cmds, ["stability", "jitter"]);
+}

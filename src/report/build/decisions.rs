@@ -21,7 +21,7 @@ pub(super) fn wander(dut: &Dut, records: &[Loaded], ties: &[Loaded], r: &mut Rep
     for name in &w.masks {
         masks.extend(builtin(name)?);
     }
-    for f in &w.mask_files {
+    for f in w.mask_files.iter().chain(&dut.limit_files) {
         masks.extend(crate::limits::read_limit_file(f)?.masks());
     }
     let chosen = match &w.source {
