@@ -85,6 +85,7 @@ pub mod deviation;
 pub mod error;
 pub mod holdover;
 pub mod io;
+pub mod limits;
 pub mod model;
 pub mod parse;
 pub mod plot;

@@ -254,7 +254,7 @@ fn unknown_mask_lists_the_known_ones() {
     assert_error(&out, 2, &["g999", "g811", "g8272-prtc-a", "g8262-opt1"], &o);
 }
 
-/// A mask file whose τ decreases is an error naming the file and line;
+/// A limit file whose τ decreases is an error naming the file and line;
 /// nothing is written.
 #[test]
 fn mask_file_with_decreasing_tau() {
@@ -262,8 +262,8 @@ fn mask_file_with_decreasing_tau() {
     let f = ramp_file(dir.path());
     let mask = write(
         dir.path(),
-        "lab.mask",
-        "name lab\n[mtie]\nshape loglog\n1s 40ns\n100s 60ns\n10s 50ns\n",
+        "lab.toml",
+        "name = \"lab\"\n[[limit]]\nmetric = \"mtie\"\nshape = \"loglog\"\npoints = [\n  [\"1s\", \"40ns\"],\n  [\"100s\", \"60ns\"],\n  [\"10s\", \"50ns\"],\n]\n",
     );
     let o = dir.path().join("out.json");
     let out = tauwise()
@@ -275,7 +275,7 @@ fn mask_file_with_decreasing_tau() {
         .arg(&o)
         .output()
         .unwrap();
-    assert_error(&out, 1, &["lab.mask", ":6", "increasing"], &o);
+    assert_error(&out, 1, &["lab.toml", ":8", "increasing"], &o);
 }
 
 /// A user mask file checks like a built-in: its note in the output.
@@ -288,8 +288,8 @@ fn mask_file_is_applied() {
     // which the record (2000 s) reaches (analytic).
     let mask = write(
         dir.path(),
-        "lab.mask",
-        "name lab\nnote internal draft\n[mtie]\nshape step\n1s 10us\n1000s 10us\n",
+        "lab.toml",
+        "name = \"lab\"\nnote = \"internal draft\"\n[[limit]]\nmetric = \"mtie\"\nshape = \"step\"\npoints = [[\"1s\", \"10us\"], [\"1000s\", \"10us\"]]\n",
     );
     let o = dir.path().join("out.json");
     let out = tauwise()

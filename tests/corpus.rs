@@ -351,8 +351,8 @@ fn bom_lf() -> String {
     format!("{BOM}f (Hz),L (dBc/Hz)\n1,-90\n10,-110\n100,-130\n1000,-145\n")
 }
 
-fn bom_mask() -> String {
-    format!("{BOM}name  lab-limit\n\n[mtie]\nshape loglog\n0.1s  40ns\n100s  400ns\n")
+fn bom_limits() -> String {
+    format!("{BOM}name = \"lab-limit\"\n\n[[limit]]\nmetric = \"mtie\"\nshape = \"loglog\"\npoints = [[\"0.1s\", \"40ns\"], [\"100s\", \"400ns\"]]\n")
 }
 
 fn bom_dut() -> String {
@@ -391,7 +391,7 @@ fn corpus() -> Vec<(&'static str, String)> {
         ("bom-one-column.txt", bom_one_column()),
         ("bom-header.csv", bom_header()),
         ("bom-lf.csv", bom_lf()),
-        ("bom-mask.txt", bom_mask()),
+        ("bom-limits.toml", bom_limits()),
         ("bom-dut.toml", bom_dut()),
     ]
 }
@@ -771,8 +771,9 @@ fn byte_order_marks_are_skipped_by_every_reader() {
     )
     .unwrap();
     assert_eq!(t.spectrum.f, vec![1.0, 10.0, 100.0, 1000.0]);
-    let m = tauwise::wander::mask_file::read_mask_file(&path("bom-mask.txt")).unwrap();
-    assert_eq!(m.len(), 1);
+    let m = tauwise::limits::read_limit_file(&path("bom-limits.toml")).unwrap();
+    assert_eq!(m.limits.len(), 1);
+    assert_eq!(m.name, "lab-limit");
     let d = tauwise::io::dut::Dut::read(&path("bom-dut.toml")).unwrap();
     assert_eq!(d.name, "dut-7");
 }

@@ -369,3 +369,76 @@ fn several_inputs_are_dut_files_of_distinct_devices() {
     let o = run(&["report", "a.toml", "b.toml", "-o", "a.toml"]);
     assert_eq!(o.status.code(), Some(2), "{}", stderr(&o));
 }
+
+/// A limit file in one device's DUT file gives the matrix a `limit` column
+/// per limit: that device's cell equals `stability --limit-file` (verdict,
+/// ratio), the other device's is "—" (null). WFM h0 = 1e-24: σ_y(1 s) =
+/// 7.07e-13 (IEEE Std 1139, analytic; seeded Monte Carlo record) meets a
+/// 2e-12 limit at 1 s.
+#[test]
+fn limit_columns_in_the_matrix() {
+    let dir = tempfile::tempdir().unwrap();
+    let d = dir.path();
+    let mut m = PowerLaw::zero(0.5);
+    m.set(0, 1e-24);
+    let x = simulate_phase(&SimSpec::new(m, 1.0, 4000, 11)).unwrap();
+    let text: String = x.x.iter().map(|v| format!("{}\n", v * 1e9)).collect();
+    fs::write(d.join("rec.csv"), text).unwrap();
+    fs::write(
+        d.join("lim.toml"),
+        "name = \"sheet\"\n[[limit]]\nmetric = \"adev\"\npoints = [[\"1s\", \"2e-12\"]]\n",
+    )
+    .unwrap();
+    for (name, extra) in [("a", "limit_files = [\"lim.toml\"]\n"), ("b", "")] {
+        fs::write(
+            d.join(format!("{name}.toml")),
+            format!(
+                "[device]\nname = \"{name}\"\n{extra}[[record]]\npath = \"rec.csv\"\ntau0 = \"1s\"\nunits = \"ns\"\ndrift = \"none\"\n"
+            ),
+        )
+        .unwrap();
+    }
+    let out = run_ok(
+        d,
+        &[
+            os("report"),
+            os("a.toml"),
+            os("b.toml"),
+            os("--format"),
+            os("json"),
+        ],
+    );
+    let doc: serde_json::Value = serde_json::from_slice(&out).unwrap();
+    let cols = doc["columns"].as_array().unwrap();
+    let k = cols
+        .iter()
+        .position(|c| c["kind"] == "limit")
+        .expect("a limit column");
+    assert_eq!(cols[k]["item"], "sheet ADEV at 1.00 s");
+    let cell_a = &doc["devices"][0]["checks"][k];
+    let cell_b = &doc["devices"][1]["checks"][k];
+    assert!(cell_b["verdict"].is_null(), "{cell_b}");
+    let s = run_ok(
+        d,
+        &[
+            os("stability"),
+            os("rec.csv"),
+            os("--tau0"),
+            os("1s"),
+            os("--units"),
+            os("ns"),
+            os("--limit-file"),
+            os("lim.toml"),
+            os("--format"),
+            os("json"),
+        ],
+    );
+    let s: serde_json::Value = serde_json::from_slice(&s).unwrap();
+    let l = &s["limits"][0];
+    assert_eq!(cell_a["verdict"], l["verdict"]);
+    assert_eq!(l["verdict"], "meets");
+    assert_eq!(cell_a["coverage"], "full");
+    assert_eq!(cell_a["ratio"], l["worst_ratio"]);
+    let v: Verdict = serde_json::from_value(cell_a["verdict"].clone()).unwrap();
+    assert_eq!(v, Verdict::Meets);
+}

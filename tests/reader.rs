@@ -911,7 +911,7 @@ fn units_from_headers() {
 #[test]
 fn small_file_readers_are_bounded() {
     let zero = Path::new("/dev/zero");
-    let e = tauwise::wander::mask_file::read_mask_file(zero).unwrap_err();
+    let e = tauwise::limits::read_limit_file(zero).unwrap_err();
     assert!(e.to_string().contains("larger than 1 MiB"), "{e}");
     let e = tauwise::io::dut::Dut::read(zero).unwrap_err();
     assert!(e.to_string().contains("larger than 1 MiB"), "{e}");

@@ -4,8 +4,8 @@ use rand::{Rng, SeedableRng};
 use rand_chacha::ChaCha8Rng;
 use std::path::Path;
 use tauwise::deviation::{compute, reference, Estimate, Estimator};
+use tauwise::limits::{parse_limit_file, write_limit_file};
 use tauwise::verdict::{Coverage, Verdict};
-use tauwise::wander::mask_file::{parse_mask_file, write_mask_file};
 use tauwise::wander::masks::{builtin, Mask, Metric, Shape, BUILTIN_NAMES, FROM_MEMORY_NOTE};
 use tauwise::wander::{analyse, tie, Options};
 use tauwise::PhaseRecord;
@@ -327,91 +327,106 @@ fn ramp_fails_the_mask_at_the_analytic_tau() {
     }));
 }
 
-const SAMPLE_FILE: &str = "\
+const SAMPLE_FILE: &str = r#"
 # lab limit
-name lab-limit
-note operator's internal limit, draft 3
+name = "lab-limit"
+note = "operator's internal limit, draft 3"
 
-[mtie]
-shape loglog
-0.1s   40ns
-1s     40ns   # flat to 1 s
-100s   63.4ns
-1000s  0.1us
+[[limit]]
+metric = "mtie"
+shape = "loglog"
+points = [
+  ["0.1s", "40ns"],
+  ["1s", "40ns"],     # flat to 1 s
+  ["100s", "63.4ns"],
+  ["1000s", "0.1us"],
+]
 
-[tdev]
-shape step
-0.1s   3ns
-100s   3ns
-1000s  30ns
-";
+[[limit]]
+metric = "tdev"
+shape = "step"
+points = [["0.1s", "3ns"], ["100s", "3ns"], ["1000s", "30ns"]]
+"#;
 
-/// A user mask file round-trips through write and parse, and reads as
-/// documented (docs/mask-file.md).
+/// A user limit file gives wander masks that round-trip through write and
+/// parse, and reads as documented (docs/limit-file.md).
 #[test]
 fn mask_file_round_trip() {
-    let p = Path::new("lab.mask");
-    let masks = parse_mask_file(SAMPLE_FILE, p).unwrap();
+    let p = Path::new("lab.toml");
+    let file = parse_limit_file(SAMPLE_FILE, p).unwrap();
+    let masks = file.masks();
     assert_eq!(masks.len(), 2);
     assert_eq!(masks[0].name, "lab-limit");
+    assert_eq!(masks[0].source_note, "operator's internal limit, draft 3");
     assert_eq!(masks[0].metric, Metric::Mtie);
     assert!(matches!(&masks[0].shape, Shape::LogLog(r) if r.len() == 4));
     assert!((masks[0].limit(0.5).unwrap() - 40e-9).abs() < 1e-20);
     assert!((masks[1].limit(50.0).unwrap() - 3e-9).abs() < 1e-20);
     assert!((masks[1].limit(100.5).unwrap() - 30e-9).abs() < 1e-20);
-    let text = write_mask_file(&masks).unwrap();
-    let again = parse_mask_file(&text, p).unwrap();
+    let text = write_limit_file(&file).unwrap();
+    let again = parse_limit_file(&text, p).unwrap().masks();
     assert_eq!(again, masks);
-    // Formula masks have no row form.
-    assert!(write_mask_file(&builtin("g811").unwrap()).is_err());
-    // The file in docs/ parses.
-    let doc =
-        std::fs::read_to_string(concat!(env!("CARGO_MANIFEST_DIR"), "/docs/mask-file.md")).unwrap();
-    let block = doc
-        .split("```text")
-        .nth(1)
-        .unwrap()
-        .split("```")
-        .next()
+    // Every TOML block in docs/limit-file.md parses.
+    let doc = std::fs::read_to_string(concat!(env!("CARGO_MANIFEST_DIR"), "/docs/limit-file.md"))
         .unwrap();
-    assert_eq!(parse_mask_file(block, p).unwrap().len(), 2);
+    let blocks: Vec<&str> = doc
+        .split("```toml")
+        .skip(1)
+        .map(|b| b.split("```").next().unwrap())
+        .collect();
+    assert!(blocks.len() >= 2);
+    for b in blocks {
+        parse_limit_file(b, p).unwrap_or_else(|e| panic!("{e}\n{b}"));
+    }
 }
 
-/// Bad input: clear errors naming the file, the line and what was expected.
+/// Bad input: clear errors naming the file, the line and what was expected
+/// (the wander cases; every metric's in tests/limits.rs).
 #[test]
 fn bad_masks() {
     let e = builtin("g8275").unwrap_err().to_string();
     for n in BUILTIN_NAMES {
         assert!(e.contains(n), "{e}");
     }
-    let p = Path::new("my.mask");
-    let dec = "[mtie]\nshape step\n1s 40ns\n10s 50ns\n5s 60ns\n";
-    let e = parse_mask_file(dec, p).unwrap_err().to_string();
-    assert!(e.starts_with("my.mask:5:"), "{e}");
+    let p = Path::new("my.toml");
+    let head = "[[limit]]\nmetric = \"mtie\"\n";
+    let dec = format!("{head}shape = \"step\"\npoints = [\n [\"1s\", \"40ns\"],\n [\"10s\", \"50ns\"],\n [\"5s\", \"60ns\"],\n]\n");
+    let e = parse_limit_file(&dec, p).unwrap_err().to_string();
+    assert!(e.starts_with("my.toml:7:"), "{e}");
     assert!(e.contains("increas"), "{e}");
     for (text, line, word) in [
-        ("[mtie]\n1s 40ns\n", 2, "shape"),
-        ("[mtie]\nshape curvy\n", 2, "step"),
-        ("[phase]\n", 1, "[mtie]"),
-        ("[mtie]\nshape step\n1s forty\n", 3, "limit"),
-        ("[mtie]\nshape step\n1s 40ns 3\n", 3, "two"),
-        ("[mtie]\nshape step\n-1s 40ns\n", 3, "positive"),
-        ("[mtie]\nshape loglog\n1s 40ns\n", 1, "at least 2"),
-        ("[mtie]\nshape step\n1s 4ns\n[mtie]\n", 4, "second"),
+        (
+            "shape = \"curvy\"\npoints = [[\"1s\", \"4ns\"]]\n",
+            3,
+            "step",
+        ),
+        (
+            "[[limit]]\nmetric = \"phase\"\npoints = [[\"1s\", \"4ns\"]]\n",
+            2,
+            "mtie",
+        ),
+        ("points = [[\"1s\", \"forty\"]]\n", 3, "limit"),
+        ("points = [[\"1s\", \"40ns\", \"3\"]]\n", 3, "pair"),
+        ("points = [[\"-1s\", \"40ns\"]]\n", 3, "positive"),
         // Issue 12: a bare number decides a verdict and is refused …
-        ("[mtie]\nshape step\n1 40ns\n", 3, "give a unit"),
-        ("[mtie]\nshape step\n1s 40e-9\n", 3, "give a unit"),
+        ("points = [[\"1\", \"40ns\"]]\n", 3, "give a unit"),
+        ("points = [[\"1s\", \"40e-9\"]]\n", 3, "give a unit"),
         // … and a subnormal limit would make value/limit overflow.
-        ("[mtie]\nshape step\n1s 1e-320s\n", 3, "normal"),
+        ("points = [[\"1s\", \"1e-320s\"]]\n", 3, "positive"),
     ] {
-        let e = parse_mask_file(text, p).unwrap_err().to_string();
-        assert!(e.starts_with(&format!("my.mask:{line}:")), "{text:?}: {e}");
+        let full = if text.starts_with("[[limit]]") {
+            text.to_string()
+        } else {
+            format!("{head}{text}")
+        };
+        let e = parse_limit_file(&full, p).unwrap_err().to_string();
+        assert!(e.starts_with(&format!("my.toml:{line}:")), "{text:?}: {e}");
         assert!(e.contains(word), "{text:?}: {e}");
     }
-    assert!(parse_mask_file("# nothing\n", p)
+    assert!(parse_limit_file("# nothing\n", p)
         .unwrap_err()
         .to_string()
-        .contains("no [mtie]"));
+        .contains("no [[limit]]"));
 }
 
 /// TIE statistics of a ramp plus a constant (analytic): TIE_i = y0·t_i.

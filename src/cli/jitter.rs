@@ -52,7 +52,7 @@ pub struct Args {
     #[arg(long, value_name = "Q", value_parser = TableQuantity::parse)]
     pub quantity: Option<TableQuantity>,
     /// Integration band FROM:TO (e.g. 12k:20M); repeat for several bands.
-    #[arg(long = "band", value_name = "FROM:TO", required = true, value_parser = band_arg)]
+    #[arg(long = "band", value_name = "FROM:TO", required_unless_present = "limit_files", value_parser = band_arg)]
     pub bands: Vec<(String, Band)>,
     /// Weighting: highpass:ORDER:FC or lowpass:ORDER:FC (Butterworth, order
     /// 1 … 8); pll:FN:ZETA (what a type-2 PLL passes), cdr:FN:ZETA (what a
@@ -105,8 +105,14 @@ pub struct Args {
     /// cannot be computed is then judged "not judged" instead of an error.
     #[arg(long = "limit", value_name = "LIMIT", allow_hyphen_values = true, value_parser = JitterLimit::parse)]
     pub limits: Vec<JitterLimit>,
-    /// Exit with status 3 when a band exceeds its limit, 4 when none does
-    /// but one cannot be judged (for scripts).
+    /// Limit file (repeatable; TOML, see docs/limit-file.md): its lf limits
+    /// are checked against the TABLE's points and its interpolation at the
+    /// limit's offsets; other metrics are named as left to `stability` or
+    /// `wander`.
+    #[arg(long = "limit-file", value_name = "FILE", requires = "table")]
+    pub limit_files: Vec<PathBuf>,
+    /// Exit with status 3 when a band or a limit is exceeded, 4 when none
+    /// is but one cannot be judged (for scripts).
     #[arg(long)]
     pub fail_on_violation: bool,
     #[command(flatten)]
@@ -172,6 +178,7 @@ pub fn run(args: Args) -> Result<Outcome> {
         .chain(args.filter_files.iter())
         .chain(args.filter_set.iter())
         .chain(args.spurs.iter())
+        .chain(args.limit_files.iter())
         .map(|p| p.as_path())
         .collect();
     args.output.check(&inputs, &args.plot)?;
@@ -182,6 +189,16 @@ pub fn run(args: Args) -> Result<Outcome> {
         )
     })?;
     let bands: Vec<Band> = args.bands.iter().map(|b| b.1).collect();
+    // Limit files first: a bad file fails before the table is read.
+    let mut limit_set = Vec::new();
+    let mut elsewhere = Vec::new();
+    for f in &args.limit_files {
+        let file = tauwise::limits::read_limit_file(f)?;
+        file.require_for("jitter")?;
+        elsewhere.extend(tauwise::limits::elsewhere(&file.limits, "jitter"));
+        limit_set.extend(file.limits);
+    }
+    let mut limit_checks = Vec::new();
     let (filters, filter_tables, filter_set_name) = assemble_weightings(
         &args.filters,
         &args.filter_files,
@@ -225,9 +242,16 @@ pub fn run(args: Args) -> Result<Outcome> {
             } else if !t.spurs.is_empty() {
                 setup.spurs = t.spurs.clone();
             }
+            limit_checks = tauwise::limits::check_lf(&t.spectrum, &limit_set)?;
             JitterTrace::of_table(&t, path)
         }
         (None, Some(path)) => {
+            if limit_set.iter().any(|l| l.metric.command() == "jitter") {
+                return Err(Error::option(
+                    "--limit-file",
+                    "L(f) limits are checked against a phase-noise table, not a record's spectrum: give the TABLE",
+                ));
+            }
             let series = args.input.load(path)?;
             if setup.period.is_some() {
                 let x = series.record.to_phase();
@@ -305,6 +329,7 @@ pub fn run(args: Args) -> Result<Outcome> {
         spur_rule: rule.map(|r| r.describe()),
         found_spurs,
         record_period,
+        limits: tauwise::results::LimitsPart::new(limit_checks, elsewhere),
     };
     args.output.write(
         trace.input,
@@ -313,7 +338,12 @@ pub fn run(args: Args) -> Result<Outcome> {
         |b| b.table(&trace.source).render(),
     )?;
     Ok(Outcome::of_gate(
-        gate(judgements.iter().flatten()),
+        gate(
+            judgements
+                .iter()
+                .flatten()
+                .chain(tauwise::limits::judgements(&body.limits.limits)),
+        ),
         args.fail_on_violation,
     ))
 }

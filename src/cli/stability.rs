@@ -64,6 +64,17 @@ pub struct Args {
     /// estimator it came from.
     #[arg(long)]
     pub best: bool,
+    /// Limit file (repeatable; TOML, see docs/limit-file.md): each σ limit
+    /// is checked against its own estimator on this record (computed on
+    /// the τ grid plus the τ beside each of the limit's points, whether or
+    /// not --dev asks for it); mtie/tdev and lf limits are named as left to
+    /// `wander` and `jitter`.
+    #[arg(long = "limit-file", value_name = "FILE")]
+    pub limit_files: Vec<PathBuf>,
+    /// Exit with status 3 when a limit is exceeded, 4 when none is but one
+    /// cannot be judged (for scripts).
+    #[arg(long)]
+    pub fail_on_violation: bool,
     #[command(flatten)]
     pub output: OutputArgs,
 }
@@ -94,6 +105,7 @@ fn plot_help() -> String {
 pub fn run(args: Args) -> Result<Outcome> {
     let mut inputs = vec![args.file.as_path()];
     inputs.extend(args.lf.as_deref());
+    inputs.extend(args.limit_files.iter().map(|p| p.as_path()));
     let time_plot = args.plot.plot.as_deref().map(time_chart_path);
     super::common::check_output_paths(
         &inputs,
@@ -103,6 +115,15 @@ pub fn run(args: Args) -> Result<Outcome> {
             time_plot.as_deref(),
         ],
     )?;
+    // Limit files first: a bad file fails before the record is read.
+    let mut limit_set = Vec::new();
+    let mut elsewhere = Vec::new();
+    for f in &args.limit_files {
+        let file = tauwise::limits::read_limit_file(f)?;
+        file.require_for("stability")?;
+        elsewhere.extend(tauwise::limits::elsewhere(&file.limits, "stability"));
+        limit_set.extend(file.limits);
+    }
     let estimators = args.dev.0.clone();
     let grid = args.taus.taus.clone();
     let forced_alpha = args.noise_type;
@@ -121,6 +142,7 @@ pub fn run(args: Args) -> Result<Outcome> {
     progress.stage(format!("computing {}", args.dev));
     let measured = analyse(&phase, &request)?;
     let best_points = args.best.then(|| best(&measured, phase.len(), phase.tau0));
+    let limit_checks = tauwise::limits::check_sigma(&phase, &request, &limit_set)?;
     let view = match &args.lf {
         Some(table) => Some(phase_noise_view(&args, table, &measured, phase.tau0)?),
         None => None,
@@ -152,14 +174,16 @@ pub fn run(args: Args) -> Result<Outcome> {
         confidence: request.confidence,
         curves: list,
         consistency: view.as_ref().map(|v| v.comparisons.clone()),
+        limits: tauwise::results::LimitsPart::new(limit_checks, elsewhere),
     };
+    let gate = tauwise::verdict::gate(tauwise::limits::judgements(&body.limits.limits));
     args.output.write(
         (&series).into(),
         &body,
         |b| b.csv(),
         |b| b.table(&RecordInput::of(&series)).render(),
     )?;
-    Ok(Outcome::Done)
+    Ok(Outcome::of_gate(gate, args.fail_on_violation))
 }
 
 /// Read the `--lf` table and convert it beside the measured curves.

@@ -12,7 +12,7 @@ use tauwise::units::UnitError;
 use tauwise::verdict::gate;
 use tauwise::wander::masks::builtin;
 use tauwise::wander::te::{TeOptions, DEFAULT_CTE_WINDOW};
-use tauwise::wander::{analyse, mask_file::read_mask_file, Options};
+use tauwise::wander::{analyse, Options};
 use tauwise::Result;
 
 /// MTIE, TDEV and TIE statistics against wander masks.
@@ -38,8 +38,10 @@ pub struct Args {
     /// Built-in mask to check (repeatable): g811, g8272-prtc-a, g8262-opt1.
     #[arg(long = "mask", value_name = "NAME", value_parser = mask_name)]
     pub masks: Vec<String>,
-    /// User mask file to check (repeatable); see docs/mask-file.md.
-    #[arg(long = "mask-file", value_name = "FILE")]
+    /// Limit file to check (repeatable; TOML, see docs/limit-file.md): its
+    /// mtie and tdev limits are checked here, any other metric is named as
+    /// left to `stability` or `jitter`. `--mask-file` is the same option.
+    #[arg(long = "limit-file", visible_alias = "mask-file", value_name = "FILE")]
     pub mask_files: Vec<PathBuf>,
     /// Remove the least-squares constant frequency offset first.
     #[arg(long)]
@@ -75,8 +77,12 @@ pub fn run(args: Args) -> Result<Outcome> {
     for name in &args.masks {
         masks.extend(builtin(name)?);
     }
+    let mut elsewhere = Vec::new();
     for f in &args.mask_files {
-        masks.extend(read_mask_file(f)?);
+        let file = tauwise::limits::read_limit_file(f)?;
+        file.require_for("wander")?;
+        masks.extend(file.masks());
+        elsewhere.extend(tauwise::limits::elsewhere(&file.limits, "wander"));
     }
     let progress = super::common::Progress::start("wander");
     progress.stage(format!("reading {}", args.file.display()));
@@ -98,7 +104,7 @@ pub fn run(args: Args) -> Result<Outcome> {
     args.plot
         .draw(|| Ok(tauwise::plot::wander::wander_chart(&res, &masks, &title)))?;
     let gate = gate(res.checks.iter().map(|c| &c.judgement));
-    let body = WanderBody::new(res);
+    let body = WanderBody::new(res).with_elsewhere(elsewhere);
     args.output.write(
         (&series).into(),
         &body,

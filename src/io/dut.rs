@@ -73,6 +73,8 @@ struct RawDevice {
     name: Spanned<String>,
     description: Option<String>,
     carrier: Option<Spanned<toml::Value>>,
+    #[serde(default)]
+    limit_files: Vec<Spanned<String>>,
 }
 
 #[derive(Debug, Deserialize)]
@@ -180,6 +182,11 @@ pub struct Dut {
     pub separate: Option<SeparateSpec>,
     /// σ(τ) through a record (`[timeline]`).
     pub timeline: Option<TimelineSpec>,
+    /// Limit files (`[device] limit_files`, docs/limit-file.md), resolved:
+    /// their σ limits are checked on the first record, their L(f) limits
+    /// on the first phase-noise table, their MTIE/TDEV limits with the
+    /// `[wander]` masks.
+    pub limit_files: Vec<PathBuf>,
 }
 
 /// `[separate]`: the N-cornered hat on pair records named among the
@@ -658,6 +665,13 @@ impl Dut {
             holdover,
             separate,
             timeline,
+            limit_files: raw
+                .device
+                .limit_files
+                .iter()
+                .enumerate()
+                .map(|(i, p)| cx.file_path(p, &format!("device.limit_files[{}]", i + 1)))
+                .collect::<Result<Vec<_>, _>>()?,
         })
     }
 }

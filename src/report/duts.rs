@@ -97,6 +97,7 @@ pub fn quick_dut(q: &QuickForm, input: &Path) -> Result<Dut> {
         holdover: None,
         separate: None,
         timeline: None,
+        limit_files: Vec::new(),
     })
 }
 
@@ -118,6 +119,7 @@ pub fn dut_inputs(dut: &Dut) -> Vec<&Path> {
     if let Some(w) = &dut.wander {
         inputs.extend(w.mask_files.iter().map(|p| p.as_path()));
     }
+    inputs.extend(dut.limit_files.iter().map(|p| p.as_path()));
     inputs
 }
 

@@ -43,6 +43,12 @@ pub enum VerdictKind {
     Jitter,
     /// A holdover span against the budget.
     Holdover,
+    /// A limit of a limit file on an amplitude (a σ estimator).
+    Limit,
+    /// A limit of a limit file on a power density (L(f)): its margin is
+    /// 10·log10(limit/measured), the dB difference.
+    #[serde(rename = "limit")]
+    LimitPower,
 }
 
 impl VerdictKind {
@@ -52,6 +58,7 @@ impl VerdictKind {
             VerdictKind::Mask => "wander mask",
             VerdictKind::Jitter => "jitter limit",
             VerdictKind::Holdover => "holdover",
+            VerdictKind::Limit | VerdictKind::LimitPower => "limit file",
         }
     }
 }
@@ -83,12 +90,19 @@ pub struct VerdictLine {
 
 impl VerdictLine {
     /// The margin in dB, 20·log10(limit / measured) (the quantities judged
-    /// are amplitudes: times, rms jitter, |TE|); positive means within the
+    /// are amplitudes: times, rms jitter, |TE|, σ), 10·log10 for an L(f)
+    /// limit (its ratio is of power densities); positive means within the
     /// limit. `None` when there is no finite positive ratio.
     pub fn margin_db(&self) -> Option<f64> {
+        // A power density (an L(f) limit): the dB difference itself.
+        let k = if self.kind == VerdictKind::LimitPower {
+            10.0
+        } else {
+            20.0
+        };
         self.ratio
             .filter(|r| r.is_finite() && *r > 0.0)
-            .map(|r| -20.0 * r.log10())
+            .map(|r| 0.0 - k * r.log10())
     }
 }
 

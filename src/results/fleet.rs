@@ -32,6 +32,9 @@ pub enum CheckKind {
     Wander,
     /// An integrated-jitter limit.
     Jitter,
+    /// A limit of a limit file (σ or L(f); MTIE/TDEV limits are wander
+    /// columns).
+    Limit,
 }
 
 impl CheckKind {
@@ -40,6 +43,7 @@ impl CheckKind {
             VerdictKind::Holdover => CheckKind::Holdover,
             VerdictKind::Mask => CheckKind::Wander,
             VerdictKind::Jitter => CheckKind::Jitter,
+            VerdictKind::Limit | VerdictKind::LimitPower => CheckKind::Limit,
         }
     }
     /// Word for tables.
@@ -48,6 +52,7 @@ impl CheckKind {
             CheckKind::Holdover => "holdover",
             CheckKind::Wander => "wander",
             CheckKind::Jitter => "jitter",
+            CheckKind::Limit => "limit",
         }
     }
     fn order(self) -> u8 {
@@ -55,6 +60,7 @@ impl CheckKind {
             CheckKind::Holdover => 0,
             CheckKind::Wander => 1,
             CheckKind::Jitter => 2,
+            CheckKind::Limit => 3,
         }
     }
 }

@@ -95,6 +95,10 @@ pub struct JitterBody {
     /// with `--period`).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub record_period: Option<RecordPeriodJitter>,
+    /// With `--limit-file`: the L(f) limit checks (`"limits"`,
+    /// `"limits_elsewhere"`, `"limits_caution"`).
+    #[serde(flatten)]
+    pub limits: super::LimitsPart,
 }
 
 /// How a spur level is read, in words.
@@ -352,6 +356,7 @@ impl JitterBody {
                 }
             ));
         }
+        t.extend(self.limits.table());
         t
     }
 }

@@ -21,6 +21,7 @@ mod fleet;
 mod holdover;
 mod inspect;
 mod jitter;
+mod limits;
 mod noise;
 mod prepare;
 mod separate;
@@ -43,6 +44,7 @@ pub use jitter::{
     extrapolated_text, BandOutcome, JitterBand, JitterBody, JitterTrace, MaybeJudged,
     SPUR_CONVENTION,
 };
+pub use limits::{check_text as limit_check_text, LimitsPart};
 pub use noise::{noise_cells, rms, DominantRange, ModelSummary, NoiseBody};
 pub use prepare::PrepareNotes;
 pub use separate::{separate_text, PairInputs, SeparateBody};

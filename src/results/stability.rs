@@ -10,7 +10,8 @@ use crate::stability::{BestPoint, Comparison};
 use crate::units::format_si;
 use serde::Serialize;
 
-/// The `stability` results: `{"confidence","curves","consistency"?}`.
+/// The `stability` results: `{"confidence","curves","consistency"?,
+/// "limits"?, "limits_elsewhere"?, "limits_caution"?}`.
 #[derive(Debug, Clone, Serialize)]
 pub struct StabilityBody {
     /// Two-sided confidence level of the intervals.
@@ -21,6 +22,10 @@ pub struct StabilityBody {
     /// With a phase-noise table: one comparison per convertible curve.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub consistency: Option<Vec<Comparison>>,
+    /// With `--limit-file`: the σ limit checks (`"limits"`,
+    /// `"limits_elsewhere"`, `"limits_caution"`).
+    #[serde(flatten)]
+    pub limits: super::LimitsPart,
 }
 
 /// A curve of the `stability` document.
@@ -221,6 +226,7 @@ impl StabilityBody {
                 crate::stability::MAX_BELOW_TABLE * 100.0
             ));
         }
+        t.extend(self.limits.table());
         t
     }
 

@@ -20,6 +20,10 @@ pub struct WanderBody {
     /// The conditions of the masks and the decision caution.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub caution: Option<String>,
+    /// Limits of a limit file that `wander` leaves to another command
+    /// (`"limits_elsewhere"`, absent when none).
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub limits_elsewhere: Vec<crate::limits::Elsewhere>,
 }
 
 impl WanderBody {
@@ -32,7 +36,17 @@ impl WanderBody {
                 crate::DECISION_CAUTION
             )
         });
-        Self { result, caution }
+        Self {
+            result,
+            caution,
+            limits_elsewhere: Vec::new(),
+        }
+    }
+
+    /// The same body, naming the limits left to other commands.
+    pub fn with_elsewhere(mut self, limits: Vec<crate::limits::Elsewhere>) -> Self {
+        self.limits_elsewhere = limits;
+        self
     }
 
     /// CSV: `estimator` (`mtie`, `tdev`; with the time-error metrics also
@@ -182,6 +196,10 @@ impl WanderBody {
                 };
                 s.line(format!("  {} violating τ: {shown}", c.violations.len()));
             }
+        }
+        for e in &self.limits_elsewhere {
+            s.blank();
+            s.line(e.words());
         }
         if !r.checks.is_empty() || r.te.is_some() {
             s.blank();

@@ -9,6 +9,10 @@
 //! as the MTIE y0·τ of a frequency offset) and solving against the mask's own
 //! limit function by bisection.
 //!
+//! The check itself is the one of every limit,
+//! [`crate::limits::check::check_curve`]; this module gives it the
+//! mask's words and the `masks[]` shape of the `wander` document.
+//!
 //! The verdict is the shared [`crate::verdict::Judgement`]: `meets` /
 //! `exceeds` for what was checked, with the coverage of the mask's τ range
 //! (`full` or `partial`, and in words which τ were not checked and why), or
@@ -16,8 +20,8 @@
 //! feeds the verdict is not finite.
 
 use super::masks::{Mask, Metric, CONDITIONS_NOTE};
-use crate::units::format_si;
-use crate::verdict::{Coverage, Judgement, Verdict};
+use crate::limits::check::{check_curve, Words};
+use crate::verdict::{Judgement, Verdict};
 
 /// A τ interval in seconds; `to` is `None` for a mask with no upper end.
 #[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
@@ -28,35 +32,7 @@ pub struct TauRange {
     pub to: Option<f64>,
 }
 
-/// The τ a record (and the requested range) lets a check reach for one
-/// metric: from `bottom` to `top`, each with the reason for the limit in
-/// words, for the coverage note.
-#[derive(Debug, Clone, PartialEq)]
-pub struct Support {
-    /// Sampling interval τ0 of the record, s (the checked τ are m·τ0).
-    pub tau0: f64,
-    /// Lowest τ that may be checked, s.
-    pub bottom: f64,
-    /// Why nothing below `bottom` (e.g. "the record's τ0").
-    pub bottom_why: String,
-    /// Highest τ that may be checked, s.
-    pub top: f64,
-    /// Why nothing above `top` (e.g. "the record's span").
-    pub top_why: String,
-}
-
-impl Support {
-    /// No limit but the sampling interval: every τ = m·τ0 may be checked.
-    pub fn unbounded(tau0: f64) -> Self {
-        Self {
-            tau0,
-            bottom: tau0,
-            bottom_why: "the record's τ0".into(),
-            top: f64::INFINITY,
-            top_why: String::new(),
-        }
-    }
-}
+pub use crate::limits::check::Support;
 
 /// One measured τ above the limit.
 #[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
@@ -116,12 +92,6 @@ impl MaskCheck {
     }
 }
 
-/// Log–log interpolation of a measured curve between two points.
-fn interp_loglog(a: (f64, f64), b: (f64, f64), tau: f64) -> f64 {
-    let u = (tau.ln() - a.0.ln()) / (b.0.ln() - a.0.ln());
-    (a.1.ln() + u * (b.1.ln() - a.1.ln())).exp()
-}
-
 /// Check a measured curve, given as `(τ, value)` pairs in increasing τ
 /// (seconds, seconds), against one mask, where `support` says which τ the
 /// record (and a requested range) allowed.
@@ -154,223 +124,46 @@ fn interp_loglog(a: (f64, f64), b: (f64, f64), tau: f64) -> f64 {
 /// ```
 pub fn check_mask(mask: &Mask, curve: &[(f64, f64)], support: &Support) -> MaskCheck {
     let (lo, hi) = mask.tau_range();
-    let mut out = MaskCheck {
+    let metric = mask.metric.name().to_uppercase();
+    let words = Words {
+        metric: &metric,
+        what: "mask",
+        axis: "τ",
+        axis_unit: "s",
+        value_unit: "s",
+    };
+    let c = check_curve(&|t| mask.limit(t), (lo, hi), curve, support, &words);
+    let worst = c.worst;
+    MaskCheck {
         name: mask.name.clone(),
         source_note: mask.source_note.clone(),
         metric: mask.metric,
-        judgement: Judgement::not_judged(""),
-        worst_ratio: None,
-        worst_margin_db: None,
-        worst_tau: None,
-        crossing_tau: None,
-        checked: 0,
-        checked_range: None,
+        judgement: c.judgement,
+        worst_ratio: worst.map(|w| w.0),
+        // A value exactly at the limit has margin 0, not −0.
+        worst_margin_db: worst
+            .map(|w| 0.0 - 20.0 * w.0.log10())
+            .filter(|m| m.is_finite()),
+        worst_tau: worst.map(|w| w.1),
+        crossing_tau: c.crossing,
+        checked: c.checked,
+        checked_range: c
+            .checked_range
+            .map(|(from, to)| TauRange { from, to: Some(to) }),
         mask_range: TauRange {
             from: lo,
             to: hi.is_finite().then_some(hi),
         },
-        violations: Vec::new(),
+        violations: c
+            .excesses
+            .iter()
+            .map(|e| Violation {
+                tau: e.at,
+                value: e.value,
+                limit: e.limit,
+                ratio: e.ratio,
+            })
+            .collect(),
         conditions: CONDITIONS_NOTE,
-    };
-    let metric = mask.metric.name().to_uppercase();
-    let pts: Vec<(f64, f64, f64)> = curve
-        .iter()
-        .filter(|(t, _)| t.is_finite() && *t > 0.0)
-        .filter_map(|&(t, v)| mask.limit(t).map(|l| (t, v, l)))
-        .collect();
-    if pts.is_empty() {
-        out.judgement = Judgement::not_judged(format!(
-            "no measured τ inside the mask's range ({}): nothing was checked",
-            range_words(lo, hi)
-        ));
-        return out;
-    }
-    out.checked = pts.len();
-    let (first, last) = (pts[0].0, pts[pts.len() - 1].0);
-    out.checked_range = Some(TauRange {
-        from: first,
-        to: Some(last),
-    });
-    // Anything non-finite that feeds the verdict: not judged, say what.
-    for &(t, v, l) in &pts {
-        let why = if !v.is_finite() || v < 0.0 {
-            Some(format!(
-                "{metric} at τ = {} is {}",
-                format_si(t, "s", 4),
-                word(v)
-            ))
-        } else if !(l.is_finite() && l > 0.0) {
-            Some(format!(
-                "the mask's limit at τ = {} is {}",
-                format_si(t, "s", 4),
-                word(l)
-            ))
-        } else if !(v / l).is_finite() {
-            Some(format!(
-                "{metric}/limit at τ = {} overflows ({v:e} s / {l:e} s)",
-                format_si(t, "s", 4)
-            ))
-        } else {
-            None
-        };
-        if let Some(why) = why {
-            out.judgement = Judgement::not_judged(format!("{why}: the check cannot be judged"));
-            return out;
-        }
-    }
-    let mut worst: Option<(f64, f64)> = None;
-    for &(t, v, l) in &pts {
-        let r = v / l;
-        if worst.map_or(true, |(w, _)| r > w) {
-            worst = Some((r, t));
-        }
-        if r > 1.0 {
-            out.violations.push(Violation {
-                tau: t,
-                value: v,
-                limit: l,
-                ratio: r,
-            });
-        }
-    }
-    out.crossing_tau = pts.iter().position(|p| p.1 > p.2).map(|k| {
-        if k == 0 {
-            return pts[0].0;
-        }
-        let a = (pts[k - 1].0, pts[k - 1].1);
-        let b = (pts[k].0, pts[k].1);
-        if !(a.1 > 0.0) {
-            return b.0;
-        }
-        // f(τ) = ln(measured/limit): ≤ 0 at a, > 0 at b. The limit may be
-        // undefined between the two only if the mask has a hole; then keep b.
-        let f = |tau: f64| mask.limit(tau).map(|l| (interp_loglog(a, b, tau) / l).ln());
-        let (mut lo, mut hi) = (a.0.ln(), b.0.ln());
-        for _ in 0..200 {
-            let mid = 0.5 * (lo + hi);
-            match f(mid.exp()) {
-                Some(v) if v > 0.0 => hi = mid,
-                Some(_) => lo = mid,
-                None => return b.0,
-            }
-            if hi - lo < 1e-15 {
-                break;
-            }
-        }
-        hi.exp()
-    });
-    out.worst_ratio = worst.map(|w| w.0);
-    // A value exactly at the limit has margin 0, not −0.
-    out.worst_margin_db = worst
-        .map(|w| 0.0 - 20.0 * w.0.log10())
-        .filter(|m| m.is_finite());
-    out.worst_tau = worst.map(|w| w.1);
-    let (coverage, note) = coverage(mask, lo, hi, first, last, support);
-    out.judgement = Judgement::judged(!out.violations.is_empty(), coverage);
-    out.judgement.reason = note;
-    out
-}
-
-/// NaN, infinite or negative, in words.
-fn word(v: f64) -> String {
-    if v.is_nan() {
-        "NaN".into()
-    } else if v.is_infinite() {
-        "infinite (the computation overflowed)".into()
-    } else if v < 0.0 {
-        format!("negative ({v:e} s)")
-    } else {
-        format!("{v:e} s")
-    }
-}
-
-fn range_words(lo: f64, hi: f64) -> String {
-    if hi.is_finite() {
-        format!("{} to {}", format_si(lo, "s", 4), format_si(hi, "s", 4))
-    } else {
-        format!("{} upwards, no upper end", format_si(lo, "s", 4))
-    }
-}
-
-/// Coverage of the mask's range [lo, hi] by the checked τ [first, last]
-/// (module notes of [`check_mask`]), and the note for a partial one.
-fn coverage(
-    mask: &Mask,
-    lo: f64,
-    hi: f64,
-    first: f64,
-    last: f64,
-    s: &Support,
-) -> (Coverage, Option<String>) {
-    const EPS: f64 = 1e-9;
-    let tau0 = s.tau0;
-    let mut missing = Vec::new();
-    // Low end: the first multiple of τ0 at or above the bottom that the
-    // mask limits.
-    let bottom = s.bottom.max(tau0);
-    let low_ok = if lo < bottom * (1.0 - EPS) {
-        false
-    } else {
-        let mut m = ((lo / tau0) - EPS).ceil().max(1.0);
-        if mask.limit(m * tau0).is_none() {
-            m += 1.0;
-        }
-        first <= m * tau0 * (1.0 + EPS)
-    };
-    if !low_ok {
-        let why = if lo < bottom * (1.0 - EPS) {
-            format!(" ({})", s.bottom_why)
-        } else {
-            String::new()
-        };
-        missing.push(format!(
-            "the mask's τ from {} to {} were not checked{why}",
-            format_si(lo, "s", 4),
-            format_si(first, "s", 4)
-        ));
-    }
-    // High end.
-    let high_ok = if !hi.is_finite() || hi > s.top * (1.0 + EPS) {
-        false
-    } else {
-        let mut m = (hi / tau0 + EPS).floor();
-        if m >= 1.0 && mask.limit(m * tau0).is_none() {
-            m -= 1.0;
-        }
-        last >= m * tau0 * (1.0 - EPS)
-    };
-    if !high_ok {
-        let why = if !hi.is_finite() && s.top.is_finite() {
-            format!(" ({}; the mask has no upper end)", s.top_why)
-        } else if !hi.is_finite() {
-            " (the mask has no upper end)".to_string()
-        } else if hi > s.top * (1.0 + EPS) {
-            format!(" ({})", s.top_why)
-        } else {
-            String::new()
-        };
-        missing.push(format!(
-            "the mask's τ above {} {}were not checked{why}",
-            format_si(last, "s", 4),
-            if hi.is_finite() {
-                format!("up to {} ", format_si(hi, "s", 4))
-            } else {
-                String::new()
-            }
-        ));
-    }
-    if missing.is_empty() {
-        (Coverage::Full, None)
-    } else {
-        (
-            Coverage::Partial,
-            Some(format!(
-                "partial coverage: checked τ {} to {} of the mask's {}; {}",
-                format_si(first, "s", 4),
-                format_si(last, "s", 4),
-                range_words(lo, hi),
-                missing.join("; ")
-            )),
-        )
     }
 }

@@ -1,6 +1,6 @@
 //! Wander masks: limits on MTIE(τ) or TDEV(τ) as a function of the
-//! observation interval τ, built in (ITU-T) or read from a user's mask file
-//! ([`super::mask_file`]).
+//! observation interval τ, built in (ITU-T) or read from a user's limit file
+//! ([`crate::limits`]).
 //!
 //! A mask is one metric (MTIE or TDEV) and one shape:
 //! - [`Shape::Formula`]: segments `limit(τ) = a·τ^p + b` on `(lo, hi]`, the way
@@ -117,10 +117,32 @@ impl Mask {
     /// assert!(mtie.limit(0.05).is_none());
     /// ```
     pub fn limit(&self, tau: f64) -> Option<f64> {
+        self.shape.eval(tau)
+    }
+
+    /// The τ range the mask covers, `(lowest, highest)`; the lowest end is
+    /// exclusive for formula masks and inclusive for row masks.
+    pub fn tau_range(&self) -> (f64, f64) {
+        self.shape.range()
+    }
+
+    /// τ values where the limit changes formula (segment ends or rows), for
+    /// reports and tests.
+    pub fn breakpoints(&self) -> Vec<f64> {
+        self.shape.breakpoints()
+    }
+}
+
+impl Shape {
+    /// The limit at x (τ in seconds, or an offset in hertz for a limit on
+    /// L(f)), or `None` where the shape sets none. Step rows: `L_k` on
+    /// `(x_{k−1}, x_k]`, `L_0` at `x_0`; log–log rows: log L linear in
+    /// log x on `[x_0, x_last]`; formula segments `a·x^p + b` on `(lo, hi]`.
+    pub fn eval(&self, tau: f64) -> Option<f64> {
         if !(tau.is_finite() && tau > 0.0) {
             return None;
         }
-        match &self.shape {
+        match self {
             Shape::Formula(segs) => segs
                 .iter()
                 .find(|s| tau > s.lo && tau <= s.hi)
@@ -153,10 +175,10 @@ impl Mask {
         }
     }
 
-    /// The τ range the mask covers, `(lowest, highest)`; the lowest end is
-    /// exclusive for formula masks and inclusive for row masks.
-    pub fn tau_range(&self) -> (f64, f64) {
-        match &self.shape {
+    /// The range the shape covers, `(lowest, highest)`; the lowest end is
+    /// exclusive for formula shapes and inclusive for rows.
+    pub fn range(&self) -> (f64, f64) {
+        match self {
             Shape::Formula(s) => (
                 s.first().map(|s| s.lo).unwrap_or(f64::NAN),
                 s.last().map(|s| s.hi).unwrap_or(f64::NAN),
@@ -168,10 +190,9 @@ impl Mask {
         }
     }
 
-    /// τ values where the limit changes formula (segment ends or rows), for
-    /// reports and tests.
+    /// Where the limit changes formula (segment ends or rows).
     pub fn breakpoints(&self) -> Vec<f64> {
-        match &self.shape {
+        match self {
             Shape::Formula(s) => {
                 let mut v: Vec<f64> = s.iter().map(|s| s.lo).collect();
                 if let Some(l) = s.last() {
@@ -256,7 +277,7 @@ pub fn builtin(name: &str) -> Result<Vec<Mask>> {
         ),
         _ => {
             return Err(Error::invalid(format!(
-            "unknown mask '{name}': the built-in masks are {} (or give your own with --mask-file)",
+            "unknown mask '{name}': the built-in masks are {} (or give your own with --limit-file)",
             BUILTIN_NAMES.join(", ")
         )))
         }

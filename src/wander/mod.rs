@@ -7,7 +7,7 @@
 //!   ITU-T G.810 / NIST SP 1065), which holds their fast forms and the direct
 //!   references they are tested against.
 //! - [`masks`] — built-in ITU-T masks (values recalled from memory) and the
-//!   mask type; [`mask_file`] — user masks in tauwise's own text format.
+//!   mask type; user masks come from limit files ([`crate::limits`]).
 //! - [`check`] — a measured curve against a mask: verdict, worst margin,
 //!   crossing τ, violations.
 //!
@@ -18,7 +18,6 @@
 //! [`analyse`] runs all of it on one record.
 
 pub mod check;
-pub mod mask_file;
 pub mod masks;
 pub mod observation;
 pub mod te;

@@ -9,7 +9,6 @@ use crate::plot::holdover::HoldoverPlot;
 use crate::report::*;
 use crate::units::{format_margin_db, format_si};
 use crate::verdict::{Judgement, Verdict};
-use crate::wander::mask_file::read_mask_file;
 use crate::wander::masks::{builtin, CONDITIONS_NOTE, FROM_MEMORY_NOTE};
 
 /// The wander section and one verdict per mask.
@@ -22,8 +21,8 @@ pub(super) fn wander(dut: &Dut, records: &[Loaded], ties: &[Loaded], r: &mut Rep
     for name in &w.masks {
         masks.extend(builtin(name)?);
     }
-    for f in &w.mask_files {
-        masks.extend(read_mask_file(f)?);
+    for f in w.mask_files.iter().chain(&dut.limit_files) {
+        masks.extend(crate::limits::read_limit_file(f)?.masks());
     }
     let chosen = match &w.source {
         Some(n) => ties.iter().chain(records).find(|l| &l.src.name == n),
@@ -67,7 +66,7 @@ pub(super) fn wander(dut: &Dut, records: &[Loaded], ties: &[Loaded], r: &mut Rep
     ));
     r.methods.push(method(
         "mask checks",
-        "ITU-T G.811, G.8262, G.8272 masks (built-in values recalled from memory) or the user's mask files",
+        "ITU-T G.811, G.8262, G.8272 masks (built-in values recalled from memory) or the user's limit files",
     ));
     if res.te.is_some() || res.filter.is_some() {
         r.methods.push(method(

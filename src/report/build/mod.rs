@@ -17,6 +17,8 @@ use crate::tau::TauGrid;
 
 mod decisions;
 mod freq;
+mod limits;
+pub use limits::verdict_line as limit_verdict_line;
 mod time;
 
 /// Choices for the report that the DUT file does not hold.
@@ -158,10 +160,17 @@ pub fn from_dut_with_progress(
                 .push(Provenance::of_file("jitter filter table", &j.name, f)?);
         }
     }
+    for f in &dut.limit_files {
+        r.inputs.push(Provenance::of_file(
+            "limit file",
+            &f.display().to_string(),
+            f,
+        )?);
+    }
     if let Some(w) = &dut.wander {
         for f in &w.mask_files {
             r.inputs.push(Provenance::of_file(
-                "mask file",
+                "limit file",
                 &f.display().to_string(),
                 f,
             )?);
@@ -176,6 +185,8 @@ pub fn from_dut_with_progress(
     freq::combined(dut, &records, &tables, &work, opts.confidence, &mut r);
     step("wander");
     decisions::wander(dut, &records, &ties, &mut r)?;
+    step("limit files");
+    limits::check(dut, &records, &work, &tables, opts, &mut r)?;
     step("holdover");
     decisions::holdover(dut, &records, &work, &mut r)?;
 

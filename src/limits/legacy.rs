@@ -1,49 +1,117 @@
-//! User masks: tauwise's own small text format (documented in
-//! `docs/mask-file.md`).
+//! The old line-based mask syntax (tauwise before limit files), kept only
+//! to say what a file in it would be in the TOML limit-file format:
 //!
 //! ```text
-//! # lines starting with '#' are comments; blank lines are ignored
 //! name  lab-wander-limit
 //! note  operator's internal limit, draft 3
-//!
 //! [mtie]
 //! shape loglog
-//! # tau    limit
 //! 0.1s     40ns
 //! 1s       40ns
-//! 100s     63.4ns
-//!
 //! [tdev]
 //! shape step
 //! 0.1s     3ns
 //! 100s     3ns
-//! 1000s    30ns
 //! ```
 //!
-//! `name` and `note` are optional (default: the file's stem, and "user mask
-//! from FILE"). Each section `[mtie]` or `[tdev]` (at most one of each) first
-//! declares `shape step` or `shape loglog`, then holds rows of τ and limit,
-//! each a duration with its unit (`100ms`, `2.5us`, `1000s`; a bare number
-//! is refused — it decides a verdict). τ must increase strictly; limits must
-//! be positive normal numbers (a subnormal limit such as `1e-320s` would
-//! make value/limit overflow). Step rows mean "this limit up
-//! to and including this τ, from the previous row's τ"; the first row opens
-//! the mask. Log–log rows are joined by straight lines on log–log axes.
+//! [`old_syntax_message`] recognises such a file (a line `[mtie]` or
+//! `[tdev]`, or `shape …`), checks it with the old rules and returns the
+//! message a reader prints: the format changed, and here is the file in
+//! TOML, its values as written.
 
-use super::masks::{Mask, Metric, Shape};
 use crate::error::Result;
 use crate::io::ReadError;
 use crate::units::parse_duration_with_unit;
+use crate::wander::masks::{Mask, Metric, Shape};
+use serde::Serialize;
 use std::path::Path;
 
-/// Largest mask file read (a mask is a few dozen lines).
-pub const MASK_FILE_LIMIT: u64 = 1 << 20;
+/// Whether `text` looks like the old mask syntax.
+fn looks_old(text: &str) -> bool {
+    text.lines().any(|l| {
+        let t = l
+            .split('#')
+            .next()
+            .unwrap_or("")
+            .trim()
+            .to_ascii_lowercase();
+        t == "[mtie]" || t == "[tdev]" || t.starts_with("shape ")
+    })
+}
 
-/// Read a mask file from disk ([`parse_mask_file`] on its text), refusing
-/// one larger than [`MASK_FILE_LIMIT`]; a byte-order mark is skipped.
-pub fn read_mask_file(path: &Path) -> Result<Vec<Mask>> {
-    let text = crate::io::text::read_small_text(path, MASK_FILE_LIMIT, "mask file")?;
-    parse_mask_file(&text, path)
+#[derive(Serialize)]
+struct OutFile {
+    #[serde(skip_serializing_if = "Option::is_none")]
+    name: Option<String>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    note: Option<String>,
+    limit: Vec<OutLimit>,
+}
+
+#[derive(Serialize)]
+struct OutLimit {
+    metric: String,
+    shape: String,
+    points: Vec<[String; 2]>,
+}
+
+/// For a file in the old mask syntax: the message saying the format
+/// changed, with the file in the TOML form (its values as written) when it
+/// reads under the old rules, or a short example when it does not. `None`
+/// for any other text.
+pub fn old_syntax_message(text: &str, path: &Path) -> Option<String> {
+    if !looks_old(text) {
+        return None;
+    }
+    let lead = "this is the old mask-file syntax: mask and limit files are TOML now \
+(docs/limit-file.md)";
+    let toml = parse_old(text, path).ok().and_then(|_| convert(text));
+    Some(match toml {
+        Some(t) => format!("{lead}; this file in the new form reads:\n\n{t}"),
+        None => format!(
+            "{lead}, e.g.\n\nname = \"lab-limit\"\n\n[[limit]]\nmetric = \"mtie\"\nshape = \"loglog\"\npoints = [[\"0.1s\", \"40ns\"], [\"1000s\", \"100ns\"]]\n"
+        ),
+    })
+}
+
+/// The TOML form of an old file that the old rules accept, from its own
+/// tokens.
+fn convert(text: &str) -> Option<String> {
+    let mut out = OutFile {
+        name: None,
+        note: None,
+        limit: Vec::new(),
+    };
+    for raw in text.lines() {
+        let line = raw.split('#').next().unwrap_or("").trim();
+        if line.is_empty() {
+            continue;
+        }
+        if let Some(h) = line.strip_prefix('[') {
+            out.limit.push(OutLimit {
+                metric: h.trim_end_matches(']').trim().to_ascii_lowercase(),
+                shape: String::new(),
+                points: Vec::new(),
+            });
+            continue;
+        }
+        let (key, rest) = match line.split_once(char::is_whitespace) {
+            Some((k, r)) => (k, r.trim()),
+            None => (line, ""),
+        };
+        match (key.to_ascii_lowercase().as_str(), out.limit.last_mut()) {
+            ("name", None) => out.name = Some(rest.to_string()),
+            ("note", None) => out.note = Some(rest.to_string()),
+            ("shape", Some(l)) => l.shape = rest.to_ascii_lowercase(),
+            (_, Some(l)) => {
+                let f: Vec<&str> = line.split_whitespace().collect();
+                l.points
+                    .push([f.first()?.to_string(), f.get(1)?.to_string()]);
+            }
+            _ => return None,
+        }
+    }
+    super::file::toml_text(&out).ok()
 }
 
 struct Section {
@@ -53,9 +121,9 @@ struct Section {
     rows: Vec<(f64, f64)>,
 }
 
-/// Parse the text of a mask file; `path` names the file in errors, which
-/// give the line and what was expected.
-pub fn parse_mask_file(text: &str, path: &Path) -> Result<Vec<Mask>> {
+/// Parse the text of an old mask file (the old rules); `path` names the
+/// file in errors.
+fn parse_old(text: &str, path: &Path) -> Result<Vec<Mask>> {
     let at = |line: u64, msg: String| ReadError::at(path, line, msg);
     let mut name: Option<String> = None;
     let mut note: Option<String> = None;
@@ -244,35 +312,4 @@ pub fn parse_mask_file(text: &str, path: &Path) -> Result<Vec<Mask>> {
         });
     }
     Ok(out)
-}
-
-/// Write masks (all of one name) in the mask-file format; values are plain
-/// seconds in the shortest form that reads back exactly. Formula masks (the
-/// built-ins) cannot be written as rows and are an error.
-pub fn write_mask_file(masks: &[Mask]) -> Result<String> {
-    let mut s = String::from("# tauwise mask file (see docs/mask-file.md)\n");
-    if let Some(m) = masks.first() {
-        s.push_str(&format!("name {}\n", m.name));
-        if !m.source_note.is_empty() {
-            s.push_str(&format!("note {}\n", m.source_note.replace('#', " ")));
-        }
-    }
-    for m in masks {
-        let (shape, rows) = match &m.shape {
-            Shape::Step(r) => ("step", r),
-            Shape::LogLog(r) => ("loglog", r),
-            Shape::Formula(_) => {
-                return Err(crate::Error::invalid(format!(
-                    "mask '{}' ({}) is a formula mask: only step and loglog masks have a file form",
-                    m.name,
-                    m.metric.name()
-                )))
-            }
-        };
-        s.push_str(&format!("\n[{}]\nshape {shape}\n", m.metric.name()));
-        for (t, l) in rows {
-            s.push_str(&format!("{t:e}s {l:e}s\n"));
-        }
-    }
-    Ok(s)
 }
