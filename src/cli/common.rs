@@ -10,10 +10,11 @@ use tauwise::parse::{
     TimeColumn,
 };
 pub use tauwise::parse::{count, mad_limit, overlap_fraction};
+use tauwise::prepare::DriftModel;
 use tauwise::results::{Document, Input};
 use tauwise::tau::TauGrid;
 use tauwise::units::ValueUnit;
-use tauwise::{DataKind, Result};
+use tauwise::{DataKind, Record, Result};
 
 /// The kind of readings in an input file (`--data`).
 #[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
@@ -140,6 +141,44 @@ pub struct TauArgs {
     /// durations (1,10,100s,1h).
     #[arg(long, value_name = "GRID", default_value = "octave", value_parser = TauGrid::parse)]
     pub taus: TauGrid,
+}
+
+/// `--remove-drift MODEL` of the analysis commands.
+#[derive(Debug, Clone, Args)]
+pub struct DriftArgs {
+    /// Remove a least-squares frequency drift first: linear or quadratic
+    /// (aging would otherwise read as random-walk FM at long τ).
+    #[arg(long, value_name = "MODEL", value_parser = str::parse::<DriftModel>)]
+    pub remove_drift: Option<DriftModel>,
+}
+
+impl DriftArgs {
+    /// `record` with the drift removed when asked for.
+    pub fn apply(&self, record: Record) -> Result<Record> {
+        match self.remove_drift {
+            None => Ok(record),
+            Some(m) => {
+                let fit = tauwise::prepare::fit_drift(&record, m)?;
+                Ok(tauwise::prepare::remove_drift(&record, &fit))
+            }
+        }
+    }
+}
+
+/// `--fail-on-violation` of the commands that give verdicts.
+#[derive(Debug, Clone, Args)]
+pub struct GateArgs {
+    /// Exit with status 3 when a verdict exceeds its limit, 4 when none
+    /// does but one cannot be judged (for scripts).
+    #[arg(long)]
+    pub fail_on_violation: bool,
+}
+
+impl GateArgs {
+    /// What the command returns for the verdicts' `gate`.
+    pub fn outcome(&self, gate: tauwise::verdict::Gate) -> super::Outcome {
+        super::Outcome::of_gate(gate, self.fail_on_violation)
+    }
 }
 
 /// The chart a command can draw (`--plot FILE`); each command says what

@@ -84,10 +84,8 @@ pub struct Args {
     /// Noise model instead of the fit, e.g. h0=1e-22,h-1=3e-26,h-2=1e-31.
     #[arg(long, value_name = "MODEL", value_parser = str::parse::<Model>)]
     pub model: Option<Model>,
-    /// Exit with status 3 when the verdict exceeds the budget, 4 when it
-    /// cannot be judged (for scripts).
-    #[arg(long)]
-    pub fail_on_violation: bool,
+    #[command(flatten)]
+    pub gate: super::common::GateArgs,
     #[command(flatten)]
     pub plot: PlotArgs,
     #[command(flatten)]
@@ -160,8 +158,5 @@ pub fn run(args: Args) -> Result<Outcome> {
         |b| b.csv(),
         |b| b.table(&path, opts.start.is_some()).render(),
     )?;
-    Ok(Outcome::of_gate(
-        tauwise::verdict::gate([&pred.judgement]),
-        args.fail_on_violation,
-    ))
+    Ok(args.gate.outcome(tauwise::verdict::gate([&pred.judgement])))
 }

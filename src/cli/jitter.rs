@@ -111,10 +111,8 @@ pub struct Args {
     /// `wander`.
     #[arg(long = "limit-file", value_name = "FILE", requires = "table")]
     pub limit_files: Vec<PathBuf>,
-    /// Exit with status 3 when a band or a limit is exceeded, 4 when none
-    /// is but one cannot be judged (for scripts).
-    #[arg(long)]
-    pub fail_on_violation: bool,
+    #[command(flatten)]
+    pub gate: super::common::GateArgs,
     #[command(flatten)]
     pub plot: PlotArgs,
     #[command(flatten)]
@@ -190,14 +188,7 @@ pub fn run(args: Args) -> Result<Outcome> {
     })?;
     let bands: Vec<Band> = args.bands.iter().map(|b| b.1).collect();
     // Limit files first: a bad file fails before the table is read.
-    let mut limit_set = Vec::new();
-    let mut elsewhere = Vec::new();
-    for f in &args.limit_files {
-        let file = tauwise::limits::read_limit_file(f)?;
-        file.require_for("jitter")?;
-        elsewhere.extend(tauwise::limits::elsewhere(&file.limits, "jitter"));
-        limit_set.extend(file.limits);
-    }
+    let (limit_set, elsewhere) = tauwise::limits::read_for(&args.limit_files, "jitter")?;
     let mut limit_checks = Vec::new();
     let (filters, filter_tables, filter_set_name) = assemble_weightings(
         &args.filters,
@@ -218,16 +209,6 @@ pub fn run(args: Args) -> Result<Outcome> {
         setup.spurs = read_spurs(p)?;
     }
     let limits = args.limits.clone();
-    if !(limits.len() <= 1 || limits.len() == bands.len()) {
-        return Err(Error::option(
-            "--limit",
-            format!(
-                "{} --limit for {} --band: give one limit for every band, or one per band in the same order",
-                limits.len(),
-                bands.len()
-            ),
-        ));
-    }
     let spur_file = args.spurs.is_some();
     let ui_rate = args.ui_rate.map(Frequency::hertz);
     let trace = match (&args.table, &args.record) {
@@ -246,10 +227,10 @@ pub fn run(args: Args) -> Result<Outcome> {
             JitterTrace::of_table(&t, path)
         }
         (None, Some(path)) => {
-            if limit_set.iter().any(|l| l.metric.command() == "jitter") {
+            if !limit_set.is_empty() {
                 return Err(Error::option(
                     "--limit-file",
-                    "L(f) limits are checked against a phase-noise table, not a record's spectrum: give the TABLE",
+                    "L(f) limits are checked against a phase-noise TABLE, not a record's spectrum",
                 ));
             }
             let series = args.input.load(path)?;
@@ -337,15 +318,12 @@ pub fn run(args: Args) -> Result<Outcome> {
         |b| b.csv(),
         |b| b.table(&trace.source).render(),
     )?;
-    Ok(Outcome::of_gate(
-        gate(
-            judgements
-                .iter()
-                .flatten()
-                .chain(tauwise::limits::judgements(&body.limits.limits)),
-        ),
-        args.fail_on_violation,
-    ))
+    Ok(args.gate.outcome(gate(
+        judgements
+            .iter()
+            .flatten()
+            .chain(tauwise::limits::judgements(&body.limits.limits)),
+    )))
 }
 
 fn limit_of(limits: &[JitterLimit], i: usize) -> Option<&JitterLimit> {

@@ -26,10 +26,8 @@ pub struct Args {
     pub input: InputArgs,
     #[command(flatten)]
     pub taus: TauArgs,
-    /// Remove a least-squares frequency drift before the analysis (aging
-    /// would otherwise read as random-walk FM at long τ).
-    #[arg(long, value_enum, value_name = "MODEL")]
-    pub remove_drift: Option<super::prepare::DriftArg>,
+    #[command(flatten)]
+    pub drift: super::common::DriftArgs,
     #[command(flatten)]
     pub plot: PlotArgs,
     #[command(flatten)]
@@ -43,7 +41,7 @@ pub fn run(args: Args) -> Result<Outcome> {
     let progress = super::common::Progress::start("noise");
     progress.stage(format!("reading {}", args.file.display()));
     let mut series = args.input.load(&args.file)?;
-    series.record = super::prepare::without_drift(series.record, args.remove_drift)?;
+    series.record = args.drift.apply(series.record)?;
     let x = series.record.to_phase();
     let ms = grid.ms(x.tau0, Estimator::Oadev.max_m(x.len()))?;
     let ids = NoiseIdentifier::new(&x);

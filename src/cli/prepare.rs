@@ -12,43 +12,13 @@
 
 use super::common::{emit_to, InputArgs};
 use super::Outcome;
-use clap::{Args as ClapArgs, ValueEnum};
+use clap::Args as ClapArgs;
 use std::path::PathBuf;
 use tauwise::io::record_file::Start;
 use tauwise::prepare::{self, DriftModel};
 use tauwise::results::PrepareNotes;
 use tauwise::units::format_si;
-use tauwise::{Error, Record, Result};
-
-/// Drift model to remove (`--remove-drift`).
-#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
-pub enum DriftArg {
-    /// Least-squares line through the frequency.
-    Linear,
-    /// Least-squares parabola through the frequency.
-    Quadratic,
-}
-
-impl From<DriftArg> for DriftModel {
-    fn from(d: DriftArg) -> Self {
-        match d {
-            DriftArg::Linear => DriftModel::Linear,
-            DriftArg::Quadratic => DriftModel::Quadratic,
-        }
-    }
-}
-
-/// The record with the drift of `model` removed (when asked for), for the
-/// analysis commands' `--remove-drift`.
-pub fn without_drift(record: Record, model: Option<DriftArg>) -> Result<Record> {
-    match model {
-        None => Ok(record),
-        Some(m) => {
-            let fit = prepare::fit_drift(&record, m.into())?;
-            Ok(prepare::remove_drift(&record, &fit))
-        }
-    }
-}
+use tauwise::{Error, Result};
 
 /// Write a cleaned copy of a phase or frequency record.
 #[derive(Debug, ClapArgs)]
@@ -63,8 +33,8 @@ pub struct Args {
     pub output: PathBuf,
     /// Remove frequency drift fitted by least squares (the frequency at the
     /// record's centre is kept).
-    #[arg(long, value_enum, value_name = "MODEL")]
-    pub remove_drift: Option<DriftArg>,
+    #[arg(long, value_name = "MODEL", value_parser = str::parse::<DriftModel>)]
+    pub remove_drift: Option<DriftModel>,
     /// Take out the frequency values further than K scaled MADs from the
     /// median: a frequency value or a phase glitch becomes a gap, a phase
     /// step is taken out of the later phase (one sample becomes a gap).
@@ -89,7 +59,7 @@ pub fn run(args: Args) -> Result<Outcome> {
     );
     let steps = prepare::pipeline::Steps {
         outliers: args.outliers,
-        drift: args.remove_drift.map(DriftModel::from),
+        drift: args.remove_drift,
         fill_gaps: args.fill_gaps,
     };
     let done = prepare::pipeline::prepare(&series.record, &steps)?;

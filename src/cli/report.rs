@@ -47,10 +47,8 @@ pub struct Args {
     /// Size of the --charts pictures in pixels, WIDTHxHEIGHT.
     #[arg(long, value_name = "WxH", default_value = "960x600", value_parser = parse_size)]
     pub chart_size: (u32, u32),
-    /// Exit with status 3 when any verdict exceeds its limit, 4 when none
-    /// does but one cannot be judged.
-    #[arg(long)]
-    pub fail_on_violation: bool,
+    #[command(flatten)]
+    pub gate: super::common::GateArgs,
     /// Quick form: device name (default: the record's file name).
     #[arg(long, value_name = "NAME")]
     pub name: Option<String>,
@@ -141,7 +139,7 @@ pub fn run(a: Args) -> Result<Outcome> {
             tauwise::plot::render(&chart, &dir.join(format!("{stem}.png")), size)?;
         }
     }
-    Ok(Outcome::of_gate(gate, a.fail_on_violation))
+    Ok(a.gate.outcome(gate))
 }
 
 /// The single-device HTML report.
@@ -160,8 +158,7 @@ fn single(a: &Args, dut: &Dut, opts: &BuildOptions, size: (u32, u32)) -> Result<
             tauwise::plot::render(&chart, &dir.join(format!("{stem}.png")), size)?;
         }
     }
-    Ok(Outcome::of_gate(
-        tauwise::verdict::gate(report.verdicts.iter().map(|v| &v.judgement)),
-        a.fail_on_violation,
-    ))
+    Ok(a.gate.outcome(tauwise::verdict::gate(
+        report.verdicts.iter().map(|v| &v.judgement),
+    )))
 }

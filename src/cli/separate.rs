@@ -64,9 +64,8 @@ pub struct Args {
     pub taus: TauArgs,
     #[command(flatten)]
     pub confidence: ConfidenceArgs,
-    /// Remove a least-squares frequency drift from each pair record first.
-    #[arg(long, value_enum, value_name = "MODEL")]
-    pub remove_drift: Option<super::prepare::DriftArg>,
+    #[command(flatten)]
+    pub drift: super::common::DriftArgs,
     #[command(flatten)]
     pub plot: PlotArgs,
     #[command(flatten)]
@@ -90,7 +89,7 @@ pub fn run(args: Args) -> Result<Outcome> {
     let mut read = Vec::new();
     for p in &args.pairs {
         let mut series = args.input.load(&p.path)?;
-        series.record = super::prepare::without_drift(series.record, args.remove_drift)?;
+        series.record = args.drift.apply(series.record)?;
         read.push(RecordInput::of(&series));
         records.push(PairRecord {
             a: p.a.clone(),

@@ -48,10 +48,8 @@ pub struct Args {
     pub lf_uncertainty: Option<f64>,
     #[command(flatten)]
     pub plot: PlotArgs,
-    /// Remove a least-squares frequency drift before the analysis (aging
-    /// would otherwise read as random-walk FM at long τ).
-    #[arg(long, value_enum, value_name = "MODEL")]
-    pub remove_drift: Option<super::prepare::DriftArg>,
+    #[command(flatten)]
+    pub drift: super::common::DriftArgs,
     /// Report the total family (totdev, mtot, ttot, htot) as computed,
     /// without dividing out its bias for the identified noise type.
     #[arg(long)]
@@ -71,10 +69,8 @@ pub struct Args {
     /// `wander` and `jitter`.
     #[arg(long = "limit-file", value_name = "FILE")]
     pub limit_files: Vec<PathBuf>,
-    /// Exit with status 3 when a limit is exceeded, 4 when none is but one
-    /// cannot be judged (for scripts).
-    #[arg(long)]
-    pub fail_on_violation: bool,
+    #[command(flatten)]
+    pub gate: super::common::GateArgs,
     #[command(flatten)]
     pub output: OutputArgs,
 }
@@ -116,21 +112,14 @@ pub fn run(args: Args) -> Result<Outcome> {
         ],
     )?;
     // Limit files first: a bad file fails before the record is read.
-    let mut limit_set = Vec::new();
-    let mut elsewhere = Vec::new();
-    for f in &args.limit_files {
-        let file = tauwise::limits::read_limit_file(f)?;
-        file.require_for("stability")?;
-        elsewhere.extend(tauwise::limits::elsewhere(&file.limits, "stability"));
-        limit_set.extend(file.limits);
-    }
+    let (limit_set, elsewhere) = tauwise::limits::read_for(&args.limit_files, "stability")?;
     let estimators = args.dev.0.clone();
     let grid = args.taus.taus.clone();
     let forced_alpha = args.noise_type;
     let progress = super::common::Progress::start("stability");
     progress.stage(format!("reading {}", args.file.display()));
     let mut series = args.input.load(&args.file)?;
-    series.record = super::prepare::without_drift(series.record, args.remove_drift)?;
+    series.record = args.drift.apply(series.record)?;
     let request = Request {
         estimators,
         grid,
@@ -183,7 +172,7 @@ pub fn run(args: Args) -> Result<Outcome> {
         |b| b.csv(),
         |b| b.table(&RecordInput::of(&series)).render(),
     )?;
-    Ok(Outcome::of_gate(gate, args.fail_on_violation))
+    Ok(args.gate.outcome(gate))
 }
 
 /// Read the `--lf` table and convert it beside the measured curves.

@@ -39,9 +39,8 @@ pub struct Args {
     /// departs when its interval and the whole record's do not overlap).
     #[arg(long, value_name = "P", default_value_t = Probability::new(EVENT_CONFIDENCE).expect("in (0, 1)"), value_parser = str::parse::<Probability>)]
     pub event_confidence: Probability,
-    /// Remove a least-squares frequency drift before the analysis.
-    #[arg(long, value_enum, value_name = "MODEL")]
-    pub remove_drift: Option<super::prepare::DriftArg>,
+    #[command(flatten)]
+    pub drift: super::common::DriftArgs,
     #[command(flatten)]
     pub plot: PlotArgs,
     #[command(flatten)]
@@ -52,7 +51,7 @@ pub struct Args {
 pub fn run(args: Args) -> Result<Outcome> {
     args.output.check(&[args.file.as_path()], &args.plot)?;
     let mut series = args.input.load(&args.file)?;
-    series.record = super::prepare::without_drift(series.record, args.remove_drift)?;
+    series.record = args.drift.apply(series.record)?;
     let phase = series.record.to_phase();
     let (window, step) = window_and_step(
         &phase,

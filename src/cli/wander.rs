@@ -59,10 +59,8 @@ pub struct Args {
     /// Window of the windowed cTE, with its unit (default 1000s); needs --te.
     #[arg(long, value_name = "DURATION", requires = "te", value_parser = cte_window)]
     pub cte_window: Option<f64>,
-    /// Exit with status 3 when any mask is exceeded, 4 when none is but one
-    /// cannot be judged (for scripts).
-    #[arg(long)]
-    pub fail_on_violation: bool,
+    #[command(flatten)]
+    pub gate: super::common::GateArgs,
     #[command(flatten)]
     pub plot: PlotArgs,
     #[command(flatten)]
@@ -77,13 +75,8 @@ pub fn run(args: Args) -> Result<Outcome> {
     for name in &args.masks {
         masks.extend(builtin(name)?);
     }
-    let mut elsewhere = Vec::new();
-    for f in &args.mask_files {
-        let file = tauwise::limits::read_limit_file(f)?;
-        file.require_for("wander")?;
-        masks.extend(file.masks());
-        elsewhere.extend(tauwise::limits::elsewhere(&file.limits, "wander"));
-    }
+    let (set, elsewhere) = tauwise::limits::read_for(&args.mask_files, "wander")?;
+    masks.extend(set.iter().filter_map(tauwise::limits::Limit::as_mask));
     let progress = super::common::Progress::start("wander");
     progress.stage(format!("reading {}", args.file.display()));
     let series = args.input.load(&args.file)?;
@@ -111,7 +104,7 @@ pub fn run(args: Args) -> Result<Outcome> {
         |b| b.csv(),
         |b| b.table(&RecordInput::of(&series)).render(),
     )?;
-    Ok(Outcome::of_gate(gate, args.fail_on_violation))
+    Ok(args.gate.outcome(gate))
 }
 
 /// `--mask NAME`: a built-in mask (an unknown name is a bad command line).

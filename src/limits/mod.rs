@@ -612,3 +612,21 @@ impl Elsewhere {
 pub fn judgements(checks: &[LimitCheck]) -> impl Iterator<Item = &Judgement> {
     checks.iter().map(|c| &c.judgement)
 }
+
+/// The limits `command` is given in `files`: each file read
+/// ([`read_limit_file`]) and required to hold one that `command` checks
+/// ([`LimitFile::require_for`]); all their entries, with those left to
+/// other commands ([`elsewhere`]).
+pub fn read_for(
+    files: &[std::path::PathBuf],
+    command: &str,
+) -> Result<(Vec<Limit>, Vec<Elsewhere>)> {
+    let (mut all, mut other) = (Vec::new(), Vec::new());
+    for f in files {
+        let file = read_limit_file(f)?;
+        file.require_for(command)?;
+        other.extend(elsewhere(&file.limits, command));
+        all.extend(file.limits);
+    }
+    Ok((all, other))
+}

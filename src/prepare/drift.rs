@@ -26,6 +26,24 @@ impl DriftModel {
     }
 }
 
+impl std::str::FromStr for DriftModel {
+    type Err = crate::units::UnitError;
+
+    /// `linear` or `quadratic` (any case).
+    fn from_str(text: &str) -> std::result::Result<Self, Self::Err> {
+        match text.trim().to_ascii_lowercase().as_str() {
+            "linear" => Ok(DriftModel::Linear),
+            "quadratic" => Ok(DriftModel::Quadratic),
+            _ => Err(crate::units::UnitError::Bad {
+                text: text.to_string(),
+                what: "drift model",
+                expected:
+                    "linear or quadratic (a least-squares line or parabola through the frequency)",
+            }),
+        }
+    }
+}
+
 /// A least-squares fit of frequency drift.
 ///
 /// With u = t − t_c measured from the centre t_c of the valid samples, the

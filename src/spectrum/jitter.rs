@@ -480,11 +480,14 @@ pub fn judge_bands(
     limits: &[JitterLimit],
 ) -> Result<Vec<JudgedBand>> {
     if !(limits.len() <= 1 || limits.len() == bands.len()) {
-        return Err(Error::invalid(format!(
-            "{} limits for {} bands: give one limit for every band, or one per band in the same order",
-            limits.len(),
-            bands.len()
-        )));
+        return Err(Error::option(
+            "--limit",
+            format!(
+                "{} --limit for {} --band: give one limit for every band, or one per band in the same order",
+                limits.len(),
+                bands.len()
+            ),
+        ));
     }
     bands
         .iter()
