@@ -153,6 +153,7 @@ fn full_report(name: &str) -> Report {
             rms_ui: None,
             limit: Some("1.000 ps rms".into()),
             judgement: Some(Judgement::judged(true, Coverage::Full)),
+            period: None,
         }],
         notes: vec![],
     });
@@ -797,4 +798,76 @@ fn report_limit_verdicts_equal_the_commands() {
         "limit rows missing"
     );
     assert!(html.contains("checked"), "what was checked is missing");
+}
+
+/// Issue 17 point 5: a DUT band with `periods = 10` gives the period,
+/// cycle-to-cycle and 10-period jitter of `jitter --periods 10` (the same
+/// library function), and a spur injected into the table (a +30 dB point on
+/// a flat −150 dBc/Hz floor) is found and named in the jitter section, as
+/// `jitter` finds it (analytic trace).
+#[test]
+fn report_jitter_period_and_found_spurs() {
+    let dir = tempfile::tempdir().unwrap();
+    let d = dir.path();
+    let mut table = String::new();
+    for k in 0..=40 {
+        let f = 1e3 * 10f64.powf(k as f64 / 10.0);
+        let l = if k == 20 { -120.0 } else { -150.0 };
+        table.push_str(&format!("{f},{l}\n"));
+    }
+    fs::write(d.join("lf.csv"), &table).unwrap();
+    fs::write(
+        d.join("unit.toml"),
+        "[device]\nname = \"unit\"\ncarrier = \"10MHz\"\n\
+         [[phase_noise]]\npath = \"lf.csv\"\n\
+         [[jitter]]\nband = \"12k:5M\"\nperiods = 10\n",
+    )
+    .unwrap();
+    let rep = from_dut(
+        &Dut::read(&d.join("unit.toml")).unwrap(),
+        &BuildOptions::default(),
+    )
+    .unwrap();
+    let Part::Done(s) = &rep.phase_noise else {
+        panic!("no phase-noise section");
+    };
+    let p = s.bands[0].period.clone().expect("period jitter");
+    let o = std::process::Command::new(env!("CARGO_BIN_EXE_tauwise"))
+        .current_dir(d)
+        .args([
+            "jitter",
+            "lf.csv",
+            "--carrier",
+            "10MHz",
+            "--band",
+            "12k:5M",
+            "--periods",
+            "10",
+            "--format",
+            "json",
+        ])
+        .output()
+        .unwrap();
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let j: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    let b = &j["bands"][0];
+    assert_eq!(b["period_rms_s"].as_f64(), Some(p.period_rms_s));
+    assert_eq!(b["c2c_rms_s"].as_f64(), Some(p.c2c_rms_s));
+    assert_eq!(b["n_period_rms_s"].as_f64(), p.n_period_rms_s);
+    let spur = j["found_spurs"][0]["offset_hz"]
+        .as_f64()
+        .expect("jitter finds the spur");
+    assert!((spur - 1e5).abs() < 1.0, "{spur}");
+    assert!(
+        s.notes
+            .iter()
+            .any(|n| n.starts_with("Spur found in the trace") && n.contains("100.0 kHz")),
+        "{:?}",
+        s.notes
+    );
+    assert!(
+        s.notes.iter().any(|n| n.contains("over 10 periods")),
+        "{:?}",
+        s.notes
+    );
 }

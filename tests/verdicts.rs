@@ -524,6 +524,7 @@ fn report_margins_and_degrees() {
             rms_ui: None,
             limit: None,
             judgement: None,
+            period: None,
         }],
         notes: vec![],
     });

@@ -120,6 +120,8 @@ struct RawJitter {
     limit: Option<Spanned<toml::Value>>,
     ui_rate: Option<Spanned<toml::Value>>,
     source: Option<Spanned<String>>,
+    period: Option<bool>,
+    periods: Option<Spanned<i64>>,
 }
 
 #[derive(Debug, Deserialize)]
@@ -356,6 +358,10 @@ pub struct JitterSpec {
     pub ui_rate: Option<f64>,
     /// Name of the phase-noise table to use (None: the first).
     pub source: Option<String>,
+    /// Period and cycle-to-cycle jitter asked for (`period = true`, or
+    /// `periods = N` for the jitter over N periods too), as `jitter
+    /// --period` / `--periods N`.
+    pub period: Option<crate::spectrum::jitter::PeriodRequest>,
 }
 
 /// The wander check.
@@ -1183,6 +1189,24 @@ fn jitter_band(
     };
     let known: Vec<&str> = phase_noise.iter().map(|t| t.name.as_str()).collect();
     let source = cx.reference(&j.source, &k("source"), &known, "[[phase_noise]] table")?;
+    let periods = match &j.periods {
+        Some(n) if *n.get_ref() >= 1 && *n.get_ref() <= u32::MAX as i64 => {
+            Some(*n.get_ref() as u32)
+        }
+        Some(n) => {
+            return cx.err(
+                n.span(),
+                &k("periods"),
+                format!(
+                    "expected a whole number of periods ≥ 1, got {}",
+                    n.get_ref()
+                ),
+            )
+        }
+        None => None,
+    };
+    let period = (j.period == Some(true) || periods.is_some())
+        .then_some(crate::spectrum::jitter::PeriodRequest { periods });
     Ok(JitterSpec {
         name: j
             .name
@@ -1197,6 +1221,7 @@ fn jitter_band(
         limit,
         ui_rate,
         source,
+        period,
     })
 }
 

@@ -3,7 +3,7 @@
 //! `stability`) and L(f) (checked by `jitter`) — and the one check of a
 //! measured curve against a limit that all of them use.
 //!
-//! - [`file`] — the format (documented in `docs/limit-file.md`): parse,
+//! - [`file`](mod@file) — the format (documented in `docs/limit-file.md`): parse,
 //!   refuse with file and line, write back; an old-syntax mask file gets a
 //!   message that shows its TOML form ([`legacy`]).
 //! - [`check`] — a curve against a limit: verdict, coverage, worst ratio,

@@ -239,6 +239,9 @@ pub struct JitterRow {
     pub limit: Option<String>,
     /// The verdict against the limit (None without a limit).
     pub judgement: Option<crate::verdict::Judgement>,
+    /// Period, cycle-to-cycle and N-period jitter, when the DUT's band asks
+    /// for it (`period`, `periods`).
+    pub period: Option<crate::spectrum::jitter::PeriodJitter>,
 }
 
 impl JitterRow {

@@ -20,6 +20,7 @@ use crate::verdict::Judgement;
 fn setup_for(j: &JitterSpec) -> Result<JitterSetup> {
     let mut setup = JitterSetup {
         filters: j.filters.clone(),
+        period: j.period,
         ..Default::default()
     };
     for p in &j.filter_files {
@@ -135,6 +136,7 @@ pub(super) fn phase_noise(
 
     let mut rows = Vec::new();
     let mut marks = Vec::new();
+    let mut found: Vec<(String, crate::spectrum::spurs::FoundSpur)> = Vec::new();
     for j in &dut.jitter {
         // The spectrum, with the spurs its table lists (none for a record's).
         let spectrum: Option<(&Spectrum, String, &[Spur])> = match &j.source {
@@ -165,10 +167,18 @@ pub(super) fn phase_noise(
             None => Err("no spectrum to integrate (no table, or no carrier for the record)".into()),
             // As `tauwise jitter`: spurs found in the trace leave the noise
             // and count once; the listed ones take precedence.
-            Some((s, _, listed)) => setup_for(j)
+            Some((s, ref source, listed)) => setup_for(j)
                 .and_then(|mut setup| {
                     let p = prepare_trace(s, listed, Some(&SpurRule::default()))?;
                     setup.spurs = p.spurs;
+                    for f in p.found {
+                        if !found
+                            .iter()
+                            .any(|(n, g)| n == source && g.offset_hz == f.offset_hz)
+                        {
+                            found.push((source.clone(), f));
+                        }
+                    }
                     integrate_band(
                         &p.spectrum,
                         Band {
@@ -201,6 +211,7 @@ pub(super) fn phase_noise(
                     rms_ui: b.rms_ui,
                     limit: j.limit.map(|l| l.describe()),
                     judgement: judgement.clone(),
+                    period: b.period.clone(),
                 };
                 if let Some(jd) = judgement {
                     r.verdicts.push(VerdictLine {
@@ -240,6 +251,35 @@ pub(super) fn phase_noise(
                     hold_time: None,
                 });
             }
+        }
+    }
+    // Spurs found in the traces (the `jitter` command's rule): taken out of
+    // the noise and counted once as tones.
+    for (source, f) in &found {
+        notes.push(format!(
+            "Spur found in the trace of {source} at {}: {:.1} dBc as a tone ({:.1} dB above the floor){}.",
+            format_si(f.offset_hz, "Hz", 4),
+            f.level_dbc,
+            f.above_floor_db,
+            if f.replaced_by_listed {
+                "; a listed spur there is used instead"
+            } else {
+                "; taken out of the noise and counted once"
+            }
+        ));
+    }
+    for row in &rows {
+        if let Some(p) = &row.period {
+            notes.push(format!(
+                "Band {}: period jitter {} rms, cycle-to-cycle {} rms{} (from L(f), as `jitter --period`).",
+                row.name,
+                format_si(p.period_rms_s, "s", 4),
+                format_si(p.c2c_rms_s, "s", 4),
+                match (p.periods, p.n_period_rms_s) {
+                    (Some(n), Some(v)) => format!(", over {n} periods {}", format_si(v, "s", 4)),
+                    _ => String::new(),
+                }
+            ));
         }
     }
     if !dut.jitter.is_empty() {
