@@ -34,12 +34,14 @@ pub mod block_sums;
 pub mod closed_form;
 pub mod coverage;
 pub mod edf;
+pub mod form_interval;
 pub mod gacv;
 pub mod interval;
 pub mod noise_id;
 pub mod quadratic;
 pub mod theo;
 pub mod totals;
+pub mod weighted_chi2;
 
 pub use annotate::{annotate, annotate_with, StatsOptions};
 pub use edf::edf;
