@@ -193,7 +193,10 @@ impl QuadraticForm {
             return None;
         }
         let a = DMatrix::from_row_slice(n, n, &self.a);
-        let eig = SymmetricEigen::new(a);
+        let eig = SymmetricEigen::try_new(a, f64::EPSILON, 10_000)?;
+        if eig.eigenvalues.iter().any(|v| !v.is_finite()) {
+            return None;
+        }
         let top = eig.eigenvalues.iter().cloned().fold(0.0f64, f64::max);
         if !(top > 0.0) {
             return None;
@@ -201,6 +204,9 @@ impl QuadraticForm {
         let keep: Vec<usize> = (0..n)
             .filter(|&i| eig.eigenvalues[i] > 1e-10 * top)
             .collect();
+        if keep.is_empty() {
+            return None;
+        }
         let mut w = DMatrix::<f64>::zeros(n, keep.len());
         for (c, &i) in keep.iter().enumerate() {
             let s = eig.eigenvalues[i].sqrt();
@@ -233,7 +239,7 @@ impl QuadraticForm {
         let s = DMatrix::from_fn(n, n, |i, j| g[i.abs_diff(j)]);
         let gram = w.transpose() * (&s * &w);
         let gram = (&gram + gram.transpose()) * 0.5;
-        let mut lam: Vec<f64> = SymmetricEigen::new(gram)
+        let mut lam: Vec<f64> = SymmetricEigen::try_new(gram, f64::EPSILON, 10_000)?
             .eigenvalues
             .iter()
             .copied()

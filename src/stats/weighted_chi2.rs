@@ -66,11 +66,17 @@ const GL8: [(f64, f64); 4] = [
 /// assert!((p - (1.0 - (-1.0f64).exp())).abs() < 1e-6);
 /// ```
 pub fn cdf(lambdas: &[f64], x: f64) -> f64 {
-    let lam: Vec<f64> = lambdas
-        .iter()
-        .copied()
-        .filter(|l| l.is_finite() && *l > 0.0)
-        .collect();
+    let terms: Vec<(f64, f64)> = lambdas.iter().map(|&l| (l, 1.0)).collect();
+    cdf_with(&terms, x)
+}
+
+/// P(Σ_i λ_i·χ²_{h_i} ≤ x) for (weight λ_i, degrees of freedom h_i) pairs,
+/// h_i > 0 not necessarily whole (a χ²_h is a gamma variable): the same
+/// methods as [`cdf`] with multiplicities (Imhof 1961 eq. 3.2 and
+/// Farebrother 1984 both carry them). Pairs that are not positive and
+/// finite are ignored.
+pub fn cdf_with(terms: &[(f64, f64)], x: f64) -> f64 {
+    let lam = clean(terms);
     if lam.is_empty() || !(x > 0.0) {
         return if x > 0.0 { 1.0 } else { 0.0 };
     }
@@ -80,16 +86,43 @@ pub fn cdf(lambdas: &[f64], x: f64) -> f64 {
     }
 }
 
+fn clean(terms: &[(f64, f64)]) -> Vec<(f64, f64)> {
+    terms
+        .iter()
+        .copied()
+        .filter(|(l, h)| l.is_finite() && *l > 0.0 && h.is_finite() && *h > 0.0)
+        .collect()
+}
+
+/// [`cdf`] by Imhof's integral alone (for cross-checks).
+pub fn imhof_cdf(lambdas: &[f64], x: f64) -> f64 {
+    let lam = clean(&lambdas.iter().map(|&l| (l, 1.0)).collect::<Vec<_>>());
+    if lam.is_empty() || !(x > 0.0) {
+        return if x > 0.0 { 1.0 } else { 0.0 };
+    }
+    imhof(&lam, x)
+}
+
+/// [`cdf`] by Ruben's series alone, with up to `terms` terms (for
+/// cross-checks).
+pub fn ruben_cdf(lambdas: &[f64], x: f64, terms: usize) -> f64 {
+    let lam = clean(&lambdas.iter().map(|&l| (l, 1.0)).collect::<Vec<_>>());
+    if lam.is_empty() || !(x > 0.0) {
+        return if x > 0.0 { 1.0 } else { 0.0 };
+    }
+    ruben(&lam, x, terms.max(1))
+}
+
 /// Ruben's series is used when it needs at most this many terms.
 pub const RUBEN_MAX_TERMS: usize = 3000;
 
 /// The number of terms Ruben's series needs for a remainder below 1e−10,
 /// ln(1e−10)/ln γ with γ = 1 − β/λ_max, β = λ_min; `None` above
 /// [`RUBEN_MAX_TERMS`].
-fn ruben_terms(lam: &[f64]) -> Option<usize> {
+fn ruben_terms(lam: &[(f64, f64)]) -> Option<usize> {
     let (lo, hi) = lam
         .iter()
-        .fold((f64::INFINITY, 0.0f64), |(a, b), &l| (a.min(l), b.max(l)));
+        .fold((f64::INFINITY, 0.0f64), |(a, b), &(l, _)| (a.min(l), b.max(l)));
     let gamma = 1.0 - lo / hi;
     if gamma <= 0.0 {
         return Some(1);
@@ -106,25 +139,30 @@ fn ruben_terms(lam: &[f64]) -> Option<usize> {
 /// positive and sum to 1, so the remainder after J terms is at most
 /// 1 − Σ_{j<J} a_j. Fast where the weights are few or alike (k = 2, 3: the
 /// case Imhof's integral handles worst).
-fn ruben(lam: &[f64], x: f64, terms: usize) -> f64 {
+fn ruben(lam: &[(f64, f64)], x: f64, terms: usize) -> f64 {
     use statrs::distribution::{ChiSquared, ContinuousCDF};
     use statrs::function::gamma::ln_gamma;
-    let k = lam.len() as f64;
-    let beta = lam.iter().cloned().fold(f64::INFINITY, f64::min);
+    let k: f64 = lam.iter().map(|t| t.1).sum();
+    let beta = lam.iter().map(|t| t.0).fold(f64::INFINITY, f64::min);
     let y = x / beta;
-    let gammas: Vec<f64> = lam.iter().map(|l| 1.0 - beta / l).collect();
+    let gammas: Vec<(f64, f64)> = lam.iter().map(|&(l, h)| (1.0 - beta / l, h)).collect();
     let mut a = Vec::with_capacity(terms);
-    a.push(lam.iter().map(|l| 0.5 * (beta / l).ln()).sum::<f64>().exp());
-    let mut powers = gammas.clone();
+    a.push(
+        lam.iter()
+            .map(|&(l, h)| 0.5 * h * (beta / l).ln())
+            .sum::<f64>()
+            .exp(),
+    );
+    let mut powers: Vec<f64> = gammas.iter().map(|t| t.0).collect();
     let mut g = Vec::with_capacity(terms);
     // F_{k+2j}(y) by the recursion F_{ν+2} = F_ν − y^{ν/2} e^{−y/2} / (2^{ν/2} Γ(ν/2 + 1)).
     let mut f = ChiSquared::new(k).map_or(f64::NAN, |c| c.cdf(y));
     let mut total = a[0] * f;
     let mut mass = a[0];
     for j in 1..terms {
-        g.push(powers.iter().sum::<f64>());
-        for (p, gm) in powers.iter_mut().zip(&gammas) {
-            *p *= gm;
+        g.push(powers.iter().zip(&gammas).map(|(p, t)| p * t.1).sum::<f64>());
+        for (p, t) in powers.iter_mut().zip(&gammas) {
+            *p *= t.0;
         }
         let aj = (0..j).map(|r| g[j - r - 1] * a[r]).sum::<f64>() / (2.0 * j as f64);
         a.push(aj);
@@ -144,40 +182,39 @@ fn ruben(lam: &[f64], x: f64, terms: usize) -> f64 {
 }
 
 /// Imhof's integral (module notes).
-fn imhof(lam: &[f64], x: f64) -> f64 {
-    let lam = lam.to_vec();
-    let total: f64 = lam.iter().sum();
-    let mut sorted = lam.clone();
-    sorted.sort_by(|a, b| b.total_cmp(a));
-    // Integrand sin θ(u)/(u ρ(u)); at u → 0 it tends to ½(Σλ − x).
+fn imhof(lam: &[(f64, f64)], x: f64) -> f64 {
+    let total: f64 = lam.iter().map(|&(l, h)| l * h).sum();
+    let mut sorted = lam.to_vec();
+    sorted.sort_by(|a, b| b.0.total_cmp(&a.0));
+    // Integrand sin θ(u)/(u ρ(u)); at u → 0 it tends to ½(Σhλ − x).
     let f = |u: f64| -> f64 {
         if u == 0.0 {
             return 0.5 * (total - x);
         }
         let mut theta = -0.5 * x * u;
         let mut log_rho = 0.0;
-        for &l in &lam {
+        for &(l, h) in lam {
             let lu = l * u;
-            theta += 0.5 * lu.atan();
-            log_rho += 0.25 * (lu * lu).ln_1p();
+            theta += 0.5 * h * lu.atan();
+            log_rho += 0.25 * h * (lu * lu).ln_1p();
         }
         theta.sin() / (u * log_rho.exp())
     };
     // Imhof's bound on the remainder beyond u, over the weights with λu ≥ 1.
     let tail = |u: f64| -> f64 {
         let mut log_prod = 0.0;
-        let mut k = 0usize;
-        for &l in &sorted {
+        let mut k = 0.0;
+        for &(l, h) in &sorted {
             if l * u < 1.0 {
                 break;
             }
-            log_prod -= 0.5 * (l * u).ln();
-            k += 1;
+            log_prod -= 0.5 * h * (l * u).ln();
+            k += h;
         }
-        if k == 0 {
+        if k == 0.0 {
             f64::INFINITY
         } else {
-            2.0 / (std::f64::consts::PI * k as f64) * log_prod.exp()
+            2.0 / (std::f64::consts::PI * k) * log_prod.exp()
         }
     };
     let h = 2.0 * std::f64::consts::PI / (total + x);
@@ -214,48 +251,52 @@ fn imhof(lam: &[f64], x: f64) -> f64 {
 /// assert!((q - chi2_quantile(0.025, 10.0).unwrap()).abs() < 1e-5);
 /// ```
 pub fn quantile(lambdas: &[f64], p: f64) -> Result<f64> {
+    let terms: Vec<(f64, f64)> = lambdas.iter().map(|&l| (l, 1.0)).collect();
+    quantile_with(&terms, p)
+}
+
+/// The p-quantile of Σ λ_i χ²_{h_i} for (weight, degrees of freedom)
+/// pairs ([`cdf_with`]).
+pub fn quantile_with(terms: &[(f64, f64)], p: f64) -> Result<f64> {
     if !(p > 0.0 && p < 1.0) {
         return Err(Error::invalid(format!(
             "quantile probability must be in (0, 1), got {p}"
         )));
     }
-    let lam: Vec<f64> = lambdas
-        .iter()
-        .copied()
-        .filter(|l| l.is_finite() && *l > 0.0)
-        .collect();
+    let lam = clean(terms);
     if lam.is_empty() {
         return Err(Error::invalid(
             "a weighted χ² sum needs at least one positive weight",
         ));
     }
     if lam.len() == 1 {
-        return Ok(lam[0] * crate::stats::interval::chi2_quantile(p, 1.0)?);
+        let (l, h) = lam[0];
+        return Ok(l * crate::stats::interval::chi2_quantile(p, h)?);
     }
-    let total: f64 = lam.iter().sum();
-    let sq: f64 = lam.iter().map(|l| l * l).sum();
+    let total: f64 = lam.iter().map(|&(l, h)| l * h).sum();
+    let sq: f64 = lam.iter().map(|&(l, h)| l * l * h).sum();
     // Start from the χ² with the same first two moments (scale g, ν):
-    // Q ≈ g·χ²_ν with g = Σλ²/Σλ, ν = (Σλ)²/Σλ².
+    // Q ≈ g·χ²_ν with g = Σhλ²/Σhλ, ν = (Σhλ)²/Σhλ².
     let nu = total * total / sq;
     let g = sq / total;
     let guess = g * crate::stats::interval::chi2_quantile(p, nu)?;
     // Bracket around the guess by steps of 1.25.
     let x0 = guess.max(1e-300);
-    let f0 = cdf(&lam, x0) - p;
+    let f0 = cdf_with(&lam, x0) - p;
     let (mut lo, mut hi, mut f_lo, mut f_hi) = (x0, x0, f0, f0);
     let mut tries = 0;
     while f_hi < 0.0 && tries < 400 {
         lo = hi;
         f_lo = f_hi;
         hi *= 1.25;
-        f_hi = cdf(&lam, hi) - p;
+        f_hi = cdf_with(&lam, hi) - p;
         tries += 1;
     }
     while f_lo >= 0.0 && tries < 400 {
         hi = lo;
         f_hi = f_lo;
         lo /= 1.25;
-        f_lo = cdf(&lam, lo) - p;
+        f_lo = cdf_with(&lam, lo) - p;
         tries += 1;
     }
     if f_hi < 0.0 || f_lo >= 0.0 {
@@ -272,7 +313,7 @@ pub fn quantile(lambdas: &[f64], p: f64) -> Result<f64> {
         } else {
             secant
         };
-        let fx = cdf(&lam, x) - p;
+        let fx = cdf_with(&lam, x) - p;
         if fx.abs() < 1e-8 || (hi - lo) < 1e-9 * hi {
             break;
         }
