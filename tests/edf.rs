@@ -669,9 +669,15 @@ fn weighted_chi2_cdf_is_chi2_for_equal_weights() {
             let lam = vec![0.5; k];
             // Σ 0.5·χ²₁ ≤ x/2 ⇔ χ²_k ≤ x.
             assert!((cdf(&lam, 0.5 * x) - want).abs() < 1e-7, "k={k} x={x}");
-            assert!((ruben_cdf(&lam, 0.5 * x, 10) - want).abs() < 1e-9, "k={k} x={x}");
+            assert!(
+                (ruben_cdf(&lam, 0.5 * x, 10) - want).abs() < 1e-9,
+                "k={k} x={x}"
+            );
             if k >= 3 {
-                assert!((imhof_cdf(&lam, 0.5 * x) - want).abs() < 1e-6, "k={k} x={x}");
+                assert!(
+                    (imhof_cdf(&lam, 0.5 * x) - want).abs() < 1e-6,
+                    "k={k} x={x}"
+                );
             }
         }
         for &p in &[0.025, 0.1585, 0.8415, 0.975] {
@@ -701,11 +707,7 @@ fn weighted_chi2_cdf_matches_seeded_monte_carlo() {
     use tauwise::stats::weighted_chi2::{cdf, quantile};
     let mut dominant = vec![1.0];
     dominant.extend(std::iter::repeat(0.08).take(100));
-    let cases = [
-        vec![1.0, 0.3, 0.1],
-        vec![1.0, 0.8, 0.6, 0.4, 0.2],
-        dominant,
-    ];
+    let cases = [vec![1.0, 0.3, 0.1], vec![1.0, 0.8, 0.6, 0.4, 0.2], dominant];
     let mut rng = ChaCha8Rng::seed_from_u64(2024);
     let draws = 200_000;
     for lam in cases {
@@ -798,17 +800,23 @@ fn form_eigenvalues_carry_mean_and_edf() {
 }
 
 /// The reduced record (`stats::form_interval`): the pivot quantiles of the
-/// FM noises at m′ = 16 (Theo1 32) against m′ = 32 (Theo1 64), T/τ = 4, 8,
-/// within 5 % (68.3 %) and 12 % (95 %) for the lower quantiles and 2–2.5 % for the upper
-/// (measured: at most 4 % at 68.3 %'s lower quantile and 1.8 % at 95 %'s upper, MDEV at T/τ = 4;
-/// the σ bounds move by half that). And lumping the eigenvalues below 2 %
-/// of the largest into one gamma term moves the quantiles by under 0.5 %.
+/// FM noises at m′ = 16 against m′ = 32, T/τ = 4 and 8, for OADEV, MDEV,
+/// TOTDEV and HTOT: within 5 % (68.3 %) and 12 % (95 %) for the lower
+/// quantiles and 2 % / 2.5 % for the upper (measured: at most 4 % at
+/// 68.3 %'s lower quantile and 1.8 % at 95 %'s upper, MDEV at T/τ = 4; the
+/// σ bounds move by half that). Lumping the eigenvalues below 2 % of the
+/// largest into one gamma term moves the quantiles by under 0.5 %.
 #[test]
 fn reduced_spectrum_quantiles_settle() {
     use tauwise::deviation::Estimator;
     use tauwise::stats::form_interval::{lumped, spectrum_exact, LUMP_BELOW};
     use tauwise::stats::weighted_chi2::{quantile, quantile_with};
-    for est in [Estimator::Oadev, Estimator::Mdev, Estimator::Totdev, Estimator::Htot] {
+    for est in [
+        Estimator::Oadev,
+        Estimator::Mdev,
+        Estimator::Totdev,
+        Estimator::Htot,
+    ] {
         for alpha in [0, -2] {
             for ratio in [4.0, 8.0] {
                 let at = |m: usize| {
@@ -816,12 +824,23 @@ fn reduced_spectrum_quantiles_settle() {
                     spectrum_exact(est, alpha, m, n).unwrap()
                 };
                 let (a, b) = (at(16), at(32));
-                for (p, tol) in [(0.1585, 0.05), (0.8415, 0.02), (0.025, 0.12), (0.975, 0.025)] {
+                for (p, tol) in [
+                    (0.1585, 0.05),
+                    (0.8415, 0.02),
+                    (0.025, 0.12),
+                    (0.975, 0.025),
+                ] {
                     let qa = quantile(&a, p).unwrap();
                     let qb = quantile(&b, p).unwrap();
-                    assert!((qa / qb - 1.0).abs() < tol, "{est:?} α={alpha} T/τ={ratio} p={p}: {qa} vs {qb}");
+                    assert!(
+                        (qa / qb - 1.0).abs() < tol,
+                        "{est:?} α={alpha} T/τ={ratio} p={p}: {qa} vs {qb}"
+                    );
                     let ql = quantile_with(&lumped(&a, LUMP_BELOW), p).unwrap();
-                    assert!((ql / qa - 1.0).abs() < 0.005, "{est:?} lumped p={p}: {ql} vs {qa}");
+                    assert!(
+                        (ql / qa - 1.0).abs() < 0.005,
+                        "{est:?} lumped p={p}: {ql} vs {qa}"
+                    );
                 }
             }
         }

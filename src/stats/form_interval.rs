@@ -232,7 +232,11 @@ pub fn pivot_quantiles(
         return None;
     }
     let (mr, nr) = reduced(est, m, n)?;
-    let pm_bits = if mr == m || alpha <= 0 { 0 } else { edf.to_bits() };
+    let pm_bits = if mr == m || alpha <= 0 {
+        0
+    } else {
+        edf.to_bits()
+    };
     let key = (est, alpha, mr, nr, pm_bits, confidence.to_bits());
     crate::stats::cached(&CACHE, key, || {
         let w = pivot_weights(est, alpha, m, n, edf)?;

@@ -120,9 +120,9 @@ pub const RUBEN_MAX_TERMS: usize = 3000;
 /// ln(1e−10)/ln γ with γ = 1 − β/λ_max, β = λ_min; `None` above
 /// [`RUBEN_MAX_TERMS`].
 fn ruben_terms(lam: &[(f64, f64)]) -> Option<usize> {
-    let (lo, hi) = lam
-        .iter()
-        .fold((f64::INFINITY, 0.0f64), |(a, b), &(l, _)| (a.min(l), b.max(l)));
+    let (lo, hi) = lam.iter().fold((f64::INFINITY, 0.0f64), |(a, b), &(l, _)| {
+        (a.min(l), b.max(l))
+    });
     let gamma = 1.0 - lo / hi;
     if gamma <= 0.0 {
         return Some(1);
@@ -160,7 +160,13 @@ fn ruben(lam: &[(f64, f64)], x: f64, terms: usize) -> f64 {
     let mut total = a[0] * f;
     let mut mass = a[0];
     for j in 1..terms {
-        g.push(powers.iter().zip(&gammas).map(|(p, t)| p * t.1).sum::<f64>());
+        g.push(
+            powers
+                .iter()
+                .zip(&gammas)
+                .map(|(p, t)| p * t.1)
+                .sum::<f64>(),
+        );
         for (p, t) in powers.iter_mut().zip(&gammas) {
             *p *= t.0;
         }
