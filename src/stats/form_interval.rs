@@ -225,8 +225,7 @@ pub fn pivot_quantiles(
     confidence: f64,
 ) -> Option<(f64, f64)> {
     static CACHE: Cache<Key, (f64, f64)> = OnceLock::new();
-    if !(confidence > 0.0 && confidence < 1.0)
-        || !(edf.is_finite() && edf > 0.0)
+    if !(confidence > 0.0 && confidence < 1.0 && edf.is_finite() && edf > 0.0)
         || t_over_tau(est, m, n) > FORM_MAX_T_OVER_TAU
     {
         return None;
