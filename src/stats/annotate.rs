@@ -156,7 +156,7 @@ pub fn point_interval(
 /// Annotate the estimates of `est` on the record `x`: the noise at each τ
 /// ([`crate::stats::dominant_noise`], or `opts.forced_alpha`), its EDF
 /// ([`fn@edf`], [`crate::stats::theo`]) and the two-sided interval at
-/// `opts.confidence` ([`fn@interval`]). The same as [`annotate_with`] with a
+/// `opts.confidence` ([`point_interval`]: χ² or the quadratic form's distribution). The same as [`annotate_with`] with a
 /// fresh [`NoiseIdentifier`]; give one identifier to every estimator of a
 /// record to share its work.
 pub fn annotate(
