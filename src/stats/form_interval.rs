@@ -4,7 +4,7 @@
 //! A variance estimate is a quadratic form in the phase samples, so for
 //! Gaussian noise σ̂²/E\[σ̂²\] = Σ λ_i χ²₁,i / Σ λ_i exactly, λ_i the
 //! eigenvalues of A·S ([`QuadraticForm::eigenvalues`]). The χ²_ν interval
-//! of [`crate::stats::interval`] with the right EDF ν = (Σλ)²/Σλ² matches
+//! of [`mod@crate::stats::interval`] with the right EDF ν = (Σλ)²/Σλ² matches
 //! the first two moments, and its shape is right when the λ are many and
 //! alike. At the last octaves (few terms) and for TOTDEV (whose reflected
 //! ends make the two end samples' squares dominate) a few unequal λ carry
@@ -56,7 +56,7 @@ pub const FORM_MAX_T_OVER_TAU: f64 = 16.0;
 /// How a point's confidence interval was computed.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, serde::Serialize)]
 pub enum IntervalMethod {
-    /// ν·σ̂²/σ² ~ χ²_ν with the point's EDF ([`crate::stats::interval`]).
+    /// ν·σ̂²/σ² ~ χ²_ν with the point's EDF ([`mod@crate::stats::interval`]).
     #[serde(rename = "chi2")]
     Chi2,
     /// The exact distribution Σλχ²₁/Σλ of the estimate's quadratic form

@@ -6,7 +6,7 @@
 //! so it is distributed exactly as such a sum, the λ_i being the non-zero
 //! eigenvalues of A·S (S the covariance of x; see
 //! [`crate::stats::quadratic::QuadraticForm::eigenvalues`]). The χ²_ν of
-//! [`crate::stats::interval`] is the special case of ν equal weights.
+//! [`mod@crate::stats::interval`] is the special case of ν equal weights.
 //!
 //! # Imhof's formula
 //!
