@@ -5,7 +5,8 @@
 use crate::deviation::{Estimate, Estimator, Point};
 use crate::error::{Error, Result};
 use crate::record::PhaseRecord;
-use crate::stats::{edf, interval, NoiseAt, NoiseIdentifier, VarianceKind, DEFAULT_CONFIDENCE};
+use crate::stats::form_interval::IntervalMethod;
+use crate::stats::{edf, NoiseAt, NoiseIdentifier, VarianceKind, DEFAULT_CONFIDENCE};
 use rayon::prelude::*;
 
 /// How the statistics are computed.
@@ -132,10 +133,30 @@ pub fn edf_of(est: Estimator, a: i32, rec_len: usize, tau0: f64, e: &Estimate) -
     }
 }
 
+/// The two-sided interval on the (corrected) estimate `e` of `est` from a
+/// record of `rec_len` samples, noise α, EDF `edf`, at `confidence`, and the
+/// method used: the exact distribution of the estimate's quadratic form at
+/// the last octaves ([`crate::stats::form_interval`]), χ²_ν elsewhere. The
+/// one function behind every point's interval.
+pub fn point_interval(
+    est: Estimator,
+    rec_len: usize,
+    e: &Estimate,
+    alpha: i32,
+    edf: f64,
+    confidence: f64,
+) -> Result<(f64, f64, IntervalMethod)> {
+    let n = match VarianceKind::of_estimator(est) {
+        Some(kind) => kind.equivalent_points(e.m, e.terms),
+        None => rec_len,
+    };
+    crate::stats::form_interval::interval_for(est, alpha, e.m, n, e.value, edf, confidence)
+}
+
 /// Annotate the estimates of `est` on the record `x`: the noise at each τ
 /// ([`crate::stats::dominant_noise`], or `opts.forced_alpha`), its EDF
 /// ([`fn@edf`], [`crate::stats::theo`]) and the two-sided interval at
-/// `opts.confidence` ([`fn@interval`]). The same as [`annotate_with`] with a
+/// `opts.confidence` ([`point_interval`]: χ² or the quadratic form's distribution). The same as [`annotate_with`] with a
 /// fresh [`NoiseIdentifier`]; give one identifier to every estimator of a
 /// record to share its work.
 pub fn annotate(
@@ -239,7 +260,8 @@ pub fn annotate_with(
             };
             let (lo, hi) = match nu {
                 Some(v) if estimate.value.is_finite() => {
-                    let (lo, hi) = interval(estimate.value, v, opts.confidence)?;
+                    let (lo, hi, _) =
+                        point_interval(est, n, &estimate, id.alpha, v, opts.confidence)?;
                     (Some(lo), Some(hi))
                 }
                 _ => (None, None),

@@ -23,7 +23,8 @@ use crate::deviation::{compute, Estimator};
 use crate::model::fit::basis;
 use crate::model::PowerLaw;
 use crate::simulate::{simulate_phase, SimSpec};
-use crate::stats::{annotate_with, interval, NoiseIdentifier, StatsOptions};
+use crate::stats::annotate::point_interval;
+use crate::stats::{annotate_with, NoiseIdentifier, StatsOptions};
 use crate::tau::TauGrid;
 use rayon::prelude::*;
 
@@ -153,13 +154,14 @@ pub fn run(spec: &CoverageSpec) -> crate::Result<Vec<CoverageCell>> {
                             continue;
                         };
                         let v = p.estimate.value;
-                        let (h68, h95) = match p.edf {
-                            Some(nu) => {
-                                let (l68, u68) = interval(v, nu, 0.683)?;
-                                let (l95, u95) = interval(v, nu, 0.95)?;
+                        let (h68, h95) = match (p.edf, p.alpha) {
+                            (Some(nu), Some(a)) => {
+                                let ci = |c| point_interval(est, n, &p.estimate, a, nu, c);
+                                let (l68, u68, _) = ci(0.683)?;
+                                let (l95, u95, _) = ci(0.95)?;
                                 (l68 <= tr && tr <= u68, l95 <= tr && tr <= u95)
                             }
-                            None => (false, false),
+                            _ => (false, false),
                         };
                         out.push((
                             k,

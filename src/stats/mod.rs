@@ -8,6 +8,10 @@
 //! - [`closed_form`] — the Howe, Allan & Barnes (1981) closed-form EDF of the
 //!   overlapping Allan variance (a cross-check of [`mod@edf`]).
 //! - [`mod@interval`] — two-sided χ² interval on a deviation.
+//! - [`form_interval`] — at the last octaves (T/τ ≤ 16), the interval from
+//!   the exact distribution Σλχ²₁ of the estimate's quadratic form, and
+//!   [`weighted_chi2`], that distribution's CDF and quantiles (Imhof 1961,
+//!   Ruben 1962).
 //! - [`noise_id`] — the dominant noise at each τ ([`dominant_noise`]), the
 //!   one identification every consumer uses: lag-1 autocorrelation (Riley &
 //!   Greenhall 2004) with the B1 / R(n) fallback (Barnes 1969) for short
@@ -34,12 +38,14 @@ pub mod block_sums;
 pub mod closed_form;
 pub mod coverage;
 pub mod edf;
+pub mod form_interval;
 pub mod gacv;
 pub mod interval;
 pub mod noise_id;
 pub mod quadratic;
 pub mod theo;
 pub mod totals;
+pub mod weighted_chi2;
 
 pub use annotate::{annotate, annotate_with, StatsOptions};
 pub use edf::edf;

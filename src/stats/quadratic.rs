@@ -168,6 +168,90 @@ impl QuadraticForm {
         }
         (sq > 0.0 && trace.is_finite()).then(|| trace * trace / sq)
     }
+
+    /// The non-zero eigenvalues λ_i of A·S (S_ij = g(|i − j|), the GACV
+    /// table `g` at lags 0 … n−1), largest first: the weights of the exact
+    /// distribution xᵀAx ~ Σ λ_i χ²₁,i of the form for Gaussian x
+    /// ([`crate::stats::weighted_chi2`]). Σλ = tr(AS) ([`Self::mean`]) and
+    /// (Σλ)²/Σλ² = the EDF ([`Self::edf`]).
+    ///
+    /// A = Σ_t c_t c_tᵀ is positive semi-definite: with A = V D Vᵀ
+    /// (nalgebra's symmetric eigen-decomposition) and W = V_r D_r^{1/2} over
+    /// its non-zero eigenvalues, the λ are the eigenvalues of the Gram
+    /// matrix Wᵀ S W. For FM noise S is a generalised autocovariance,
+    /// meaningful only on combinations that annihilate polynomials of
+    /// degree below `annihilated` (2 for the Allan family, 3 for the
+    /// Hadamard family); W's columns are projected onto that subspace
+    /// explicitly, so rounding in V does not meet the growth of S.
+    /// O(n³): for the reduced records of
+    /// [`crate::stats::form_interval`]. `None` when the form is zero or the
+    /// table too short.
+    pub fn eigenvalues(&self, g: &[f64], annihilated: usize) -> Option<Vec<f64>> {
+        use nalgebra::{DMatrix, SymmetricEigen};
+        let n = self.n;
+        if n == 0 || g.len() < n {
+            return None;
+        }
+        let a = DMatrix::from_row_slice(n, n, &self.a);
+        let eig = SymmetricEigen::try_new(a, f64::EPSILON, 10_000)?;
+        if eig.eigenvalues.iter().any(|v| !v.is_finite()) {
+            return None;
+        }
+        let top = eig.eigenvalues.iter().cloned().fold(0.0f64, f64::max);
+        if !(top > 0.0) {
+            return None;
+        }
+        let keep: Vec<usize> = (0..n)
+            .filter(|&i| eig.eigenvalues[i] > 1e-10 * top)
+            .collect();
+        if keep.is_empty() {
+            return None;
+        }
+        let mut w = DMatrix::<f64>::zeros(n, keep.len());
+        for (c, &i) in keep.iter().enumerate() {
+            let s = eig.eigenvalues[i].sqrt();
+            w.set_column(c, &(eig.eigenvectors.column(i) * s));
+        }
+        // Orthonormal basis of the polynomials of degree < `annihilated`
+        // (modified Gram–Schmidt on 1, t, t², t centred and scaled).
+        let centre = 0.5 * (n as f64 - 1.0);
+        let scale = centre.max(1.0);
+        let mut basis: Vec<nalgebra::DVector<f64>> = Vec::new();
+        for deg in 0..annihilated {
+            let mut v = nalgebra::DVector::from_fn(n, |i, _| {
+                ((i as f64 - centre) / scale).powi(deg as i32)
+            });
+            for b in &basis {
+                let d = b.dot(&v);
+                v -= b * d;
+            }
+            let norm = v.norm();
+            if norm > 0.0 {
+                basis.push(v / norm);
+            }
+        }
+        for mut col in w.column_iter_mut() {
+            for b in &basis {
+                let d = b.dot(&col);
+                col -= b * d;
+            }
+        }
+        let s = DMatrix::from_fn(n, n, |i, j| g[i.abs_diff(j)]);
+        let gram = w.transpose() * (&s * &w);
+        let gram = (&gram + gram.transpose()) * 0.5;
+        let mut lam: Vec<f64> = SymmetricEigen::try_new(gram, f64::EPSILON, 10_000)?
+            .eigenvalues
+            .iter()
+            .copied()
+            .collect();
+        lam.sort_by(|x, y| y.total_cmp(x));
+        let first = *lam.first()?;
+        if !(first > 0.0 && first.is_finite()) {
+            return None;
+        }
+        lam.retain(|&l| l > 1e-12 * first);
+        Some(lam)
+    }
 }
 
 #[cfg(test)]

@@ -318,8 +318,21 @@ fn theo1_local_form(m: usize) -> Vec<f64> {
 /// assert!(nu > 1.0 && nu < 4.0);
 /// ```
 pub fn theo1_edf_exact(alpha: i32, n_phase: usize, m: usize) -> Option<f64> {
-    use crate::stats::quadratic::QuadraticForm;
     if !(-2..=2).contains(&alpha) || m < 2 || m % 2 == 1 || n_phase < m + 1 {
+        return None;
+    }
+    theo1_form(m, n_phase)?.edf(&phase_kernel(alpha, n_phase))
+}
+
+/// The whole Theo1 estimate at the (even) factor m on a gap-free record of
+/// `n_phase` samples as one quadratic form: the local form of one offset
+/// added at each of the N − m offsets.
+pub(crate) fn theo1_form(
+    m: usize,
+    n_phase: usize,
+) -> Option<crate::stats::quadratic::QuadraticForm> {
+    use crate::stats::quadratic::QuadraticForm;
+    if m < 2 || m % 2 == 1 || n_phase < m + 1 {
         return None;
     }
     let r = theo1_local_form(m);
@@ -328,7 +341,7 @@ pub fn theo1_edf_exact(alpha: i32, n_phase: usize, m: usize) -> Option<f64> {
     for start in 0..n_phase - m {
         q.add_local(start, &r, len);
     }
-    q.edf(&phase_kernel(alpha, n_phase))
+    Some(q)
 }
 
 /// The phase autocovariance table (lags 0 … n − 1) behind the exact Theo1

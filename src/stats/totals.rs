@@ -240,8 +240,16 @@ fn local_bias(which: Local, alpha: i32, m: usize) -> Option<f64> {
 /// samples at factor m: `count` subsequences' forms added at successive
 /// offsets, ν = tr(AS)²/tr((AS)²). O(n²·m).
 fn local_edf_exact(which: Local, alpha: i32, m: usize, n_phase: usize) -> Option<f64> {
+    let q = local_whole_form(which, m, n_phase)?;
+    let g = sampled_phase_gacv(alpha, q.samples());
+    q.edf(&g)
+}
+
+/// The whole estimate as one quadratic form: `count` subsequences' forms
+/// added at successive offsets on a gap-free record of `n_phase` samples.
+fn local_whole_form(which: Local, m: usize, n_phase: usize) -> Option<QuadraticForm> {
     let (r, len) = which.form(m);
-    if n_phase < len {
+    if m == 0 || n_phase < len {
         return None;
     }
     let count = n_phase - len + 1;
@@ -249,8 +257,38 @@ fn local_edf_exact(which: Local, alpha: i32, m: usize, n_phase: usize) -> Option
     for start in 0..count {
         q.add_local(start, &r, len);
     }
-    let g = sampled_phase_gacv(alpha, q.samples());
-    q.edf(&g)
+    Some(q)
+}
+
+/// The whole MTOT/TTOT (`hadamard` false) or HTOT (true) estimate at
+/// factor m on a gap-free record of `n_phase` samples as one quadratic
+/// form (for [`crate::stats::form_interval`]).
+pub(crate) fn modified_total_form(
+    hadamard: bool,
+    m: usize,
+    n_phase: usize,
+) -> Option<QuadraticForm> {
+    let which = if hadamard {
+        Local::Hadamard
+    } else {
+        Local::Modified
+    };
+    local_whole_form(which, m, n_phase)
+}
+
+/// TOTVAR's N − 2 terms at factor m on a gap-free record of `n_phase`
+/// samples, reflected ends included, as one quadratic form.
+pub(crate) fn totvar_form(m: usize, n_phase: usize) -> Option<QuadraticForm> {
+    if m == 0 || n_phase < 2 * m + 1 {
+        return None;
+    }
+    let mut q = QuadraticForm::new(n_phase);
+    for i in 1..n_phase - 1 {
+        let [a, b] = reflected_terms(n_phase, i as isize - m as isize);
+        let [c, d] = reflected_terms(n_phase, (i + m) as isize);
+        q.add_square(&[a, b, (i, -2.0), c, d]);
+    }
+    Some(q)
 }
 
 /// The EDF of MTOT/TTOT (`Local::Modified`) or HTOT at m on `n_phase`
@@ -556,13 +594,7 @@ pub fn totvar_edf_exact(alpha: i32, m: usize, n_phase: usize) -> Option<f64> {
     if !(-2..=2).contains(&alpha) || m == 0 || n_phase < 2 * m + 1 {
         return None;
     }
-    let mut q = QuadraticForm::new(n_phase);
-    for i in 1..n_phase - 1 {
-        let [a, b] = reflected_terms(n_phase, i as isize - m as isize);
-        let [c, d] = reflected_terms(n_phase, (i + m) as isize);
-        q.add_square(&[a, b, (i, -2.0), c, d]);
-    }
-    q.edf(&sampled_phase_gacv(alpha, n_phase))
+    totvar_form(m, n_phase)?.edf(&sampled_phase_gacv(alpha, n_phase))
 }
 
 /// The exact EDF of MTOT (and TTOT; `hadamard` false) or HTOT (true) on a

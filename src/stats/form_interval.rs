@@ -1,0 +1,388 @@
+//! Confidence intervals from the exact distribution of the estimate's
+//! quadratic form, where a χ² shape does not describe it.
+//!
+//! A variance estimate is a quadratic form in the phase samples, so for
+//! Gaussian noise σ̂²/E\[σ̂²\] = Σ λ_i χ²₁,i / Σ λ_i exactly, λ_i the
+//! eigenvalues of A·S ([`QuadraticForm::eigenvalues`]). The χ²_ν interval
+//! of [`mod@crate::stats::interval`] with the right EDF ν = (Σλ)²/Σλ² matches
+//! the first two moments, and its shape is right when the λ are many and
+//! alike. At the last octaves (few terms) and for TOTDEV (whose reflected
+//! ends make the two end samples' squares dominate) a few unequal λ carry
+//! the variance: the distribution has a lighter lower tail than χ²_ν, and
+//! the χ² interval reaches too far up (coverage 0.72–0.82 at 68.3 % in the
+//! seeded sweep, `docs/statistics.md` § Coverage).
+//!
+//! Here the pivot interval is taken from the distribution itself:
+//! σ² ∈ \[σ̂²/q_hi, σ̂²/q_lo\] with q_lo, q_hi its (1 ∓ P)/2 quantiles
+//! ([`crate::stats::weighted_chi2`], Imhof 1961).
+//!
+//! # The reduced record
+//!
+//! The eigenvalues of the full form cost O(N³). For the FM noises
+//! (α = 0 … −2), which are self-similar, the normalised spectrum depends on
+//! the record through T/τ and settles as m grows, so it is computed on a
+//! record with the same T/τ = (N − 1)/m and m′ = min(m, [`REDUCED_M`])
+//! (the method of [`crate::stats::totals`] for the EDF of MTOT). For the PM
+//! noises the spectrum keeps changing with m (the bulk splits into m
+//! interleaved chains, the EDF grows ∝ m); there the leading eigenvalues
+//! that keep their share are kept and the rest is matched to the point's
+//! EDF ([`pivot_weights`]).
+//! `tests/edf.rs` measures the reduced spectra's quantiles against those of
+//! m′ = 32.
+//!
+//! # When the form is used
+//!
+//! At T/τ ≤ [`FORM_MAX_T_OVER_TAU`] (τ at least a sixteenth of the record)
+//! for every estimator with a form here: ADEV, OADEV, MDEV, TDEV, HDEV,
+//! OHDEV, TOTDEV, MTOT, TTOT, HTOT and Theo1 (not TheoH, whose record-made
+//! ThêoBR ratio is not a quadratic form). Beyond, the χ²_ν interval: the
+//! measured rule is that at T/τ = 32 the two intervals' bounds agree within
+//! a few per cent for every estimator and FM noise (`tests/edf.rs`).
+//! Each point says which it used ([`IntervalMethod`]).
+
+use crate::deviation::Estimator;
+use crate::stats::quadratic::QuadraticForm;
+use crate::stats::{gacv, weighted_chi2, Cache, VarianceKind};
+use std::sync::OnceLock;
+
+/// The reduced records use m′ = min(m, this).
+pub const REDUCED_M: usize = 16;
+/// Theo1's reduced records use m′ = min(m, this) (its spectrum settles
+/// more slowly: at m′ = 16 the white-FM EDF at T/τ = 4 is 8 % below m′ = 32).
+pub const THEO1_REDUCED_M: usize = 32;
+/// The form's distribution is used at T/τ up to this; χ²_ν beyond.
+pub const FORM_MAX_T_OVER_TAU: f64 = 16.0;
+
+/// How a point's confidence interval was computed.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, serde::Serialize)]
+pub enum IntervalMethod {
+    /// ν·σ̂²/σ² ~ χ²_ν with the point's EDF ([`mod@crate::stats::interval`]).
+    #[serde(rename = "chi2")]
+    Chi2,
+    /// The exact distribution Σλχ²₁/Σλ of the estimate's quadratic form
+    /// (this module).
+    #[serde(rename = "quadratic-form")]
+    QuadraticForm,
+}
+
+impl IntervalMethod {
+    /// The JSON name: `chi2` or `quadratic-form`.
+    pub fn name(self) -> &'static str {
+        match self {
+            IntervalMethod::Chi2 => "chi2",
+            IntervalMethod::QuadraticForm => "quadratic-form",
+        }
+    }
+}
+
+/// The reduced problem standing for estimator `est` at factor m on `n`
+/// gap-free samples: (m′, n′), or `None` where no reduced record stands for
+/// it (PM noise beyond m′) or the estimator has no form here.
+fn reduced(est: Estimator, m: usize, n: usize) -> Option<(usize, usize)> {
+    if m == 0 || n < 2 || !has_form(est) {
+        return None;
+    }
+    let cap = if est == Estimator::Theo1 {
+        THEO1_REDUCED_M
+    } else {
+        REDUCED_M
+    };
+    let mut mr = m.min(cap);
+    if est == Estimator::Theo1 && mr % 2 == 1 {
+        mr -= 1;
+    }
+    if mr == 0 {
+        return None;
+    }
+    let ratio = (n - 1) as f64 / m as f64;
+    let nr = if mr == m {
+        n
+    } else {
+        (ratio * mr as f64).round() as usize + 1
+    };
+    Some((mr, nr))
+}
+
+/// True for the estimators whose whole estimate is built here as a
+/// quadratic form.
+pub fn has_form(est: Estimator) -> bool {
+    !matches!(est, Estimator::Theoh | Estimator::Mtie | Estimator::TieRms)
+}
+
+/// T/τ of a point: (N − 1)/m, for Theo1 (τ = 0.75·m·τ0) (N − 1)/(0.75 m).
+fn t_over_tau(est: Estimator, m: usize, n: usize) -> f64 {
+    let tau = if est == Estimator::Theo1 {
+        0.75 * m as f64
+    } else {
+        m as f64
+    };
+    (n.saturating_sub(1)) as f64 / tau
+}
+
+/// The estimate of `est` at factor m on a gap-free record of n samples as a
+/// quadratic form, with the polynomial degree its combinations annihilate.
+pub fn whole_form(est: Estimator, m: usize, n: usize) -> Option<(QuadraticForm, usize)> {
+    let diff = |q: &mut QuadraticForm, coef: &[f64], stride: usize| {
+        let span = (coef.len() - 1) * m;
+        if n <= span {
+            return false;
+        }
+        let mut i = 0;
+        while i + span < n {
+            let t: Vec<(usize, f64)> = coef
+                .iter()
+                .enumerate()
+                .map(|(k, &c)| (i + k * m, c))
+                .collect();
+            q.add_square(&t);
+            i += stride;
+        }
+        true
+    };
+    let allan = [1.0, -2.0, 1.0];
+    let hadamard = [1.0, -3.0, 3.0, -1.0];
+    let mut q = QuadraticForm::new(n);
+    let ok = match est {
+        Estimator::Adev => diff(&mut q, &allan, m),
+        Estimator::Oadev => diff(&mut q, &allan, 1),
+        Estimator::Hdev => diff(&mut q, &hadamard, m),
+        Estimator::Ohdev => diff(&mut q, &hadamard, 1),
+        Estimator::Mdev | Estimator::Tdev => {
+            if n < 3 * m {
+                return None;
+            }
+            let w = 1.0 / m as f64;
+            for i in 0..=n - 3 * m {
+                let mut t = Vec::with_capacity(3 * m);
+                for j in 0..m {
+                    t.push((i + j, w));
+                    t.push((i + j + m, -2.0 * w));
+                    t.push((i + j + 2 * m, w));
+                }
+                q.add_square(&t);
+            }
+            true
+        }
+        Estimator::Totdev => {
+            q = crate::stats::totals::totvar_form(m, n)?;
+            true
+        }
+        Estimator::Mtot | Estimator::Ttot => {
+            q = crate::stats::totals::modified_total_form(false, m, n)?;
+            true
+        }
+        Estimator::Htot => {
+            q = crate::stats::totals::modified_total_form(true, m, n)?;
+            true
+        }
+        Estimator::Theo1 => {
+            q = crate::stats::theo::theo1_form(m, n)?;
+            true
+        }
+        _ => false,
+    };
+    if !ok {
+        return None;
+    }
+    let kind = VarianceKind::of_estimator(est);
+    let degree = kind.map_or(2, |k| k.difference_order());
+    Some((q, degree))
+}
+
+/// The normalised eigenvalues (Σλ = 1, largest first) of the estimate of
+/// `est` at factor m on a gap-free record of n samples for the sampled
+/// power law α ([`gacv`], IEEE Std 1139 with f_h = 1/(2τ0)), computed on
+/// the full form. O(n³).
+pub fn spectrum_exact(est: Estimator, alpha: i32, m: usize, n: usize) -> Option<Vec<f64>> {
+    if !(-2..=2).contains(&alpha) {
+        // The Hadamard family's α = −3, −4 have no sampled model here.
+        if !(VarianceKind::of_estimator(est).is_some_and(|k| k.is_hadamard())
+            && (-4..=-3).contains(&alpha))
+        {
+            return None;
+        }
+    }
+    let (q, degree) = whole_form(est, m, n)?;
+    let g = gacv::sampled_phase_gacv(alpha, q.samples());
+    let lam = q.eigenvalues(&g, degree)?;
+    let total: f64 = lam.iter().sum();
+    (total > 0.0 && total.is_finite()).then(|| lam.iter().map(|l| l / total).collect())
+}
+
+type Key = (Estimator, i32, usize, usize, u64, u64);
+
+/// The pivot quantiles (q_lo, q_hi) of σ̂²/E\[σ̂²\] for `est` at factor m
+/// on `n` gap-free samples, noise α, EDF `edf`, two-sided `confidence`:
+/// computed from the weights of [`pivot_weights`] and remembered. `None`
+/// where the form is not used (T/τ > [`FORM_MAX_T_OVER_TAU`], no form, or
+/// no weights).
+pub fn pivot_quantiles(
+    est: Estimator,
+    alpha: i32,
+    m: usize,
+    n: usize,
+    edf: f64,
+    confidence: f64,
+) -> Option<(f64, f64)> {
+    static CACHE: Cache<Key, (f64, f64)> = OnceLock::new();
+    if !(confidence > 0.0 && confidence < 1.0 && edf.is_finite() && edf > 0.0)
+        || t_over_tau(est, m, n) > FORM_MAX_T_OVER_TAU
+    {
+        return None;
+    }
+    let (mr, nr) = reduced(est, m, n)?;
+    let pm_bits = if mr == m || alpha <= 0 {
+        0
+    } else {
+        edf.to_bits()
+    };
+    let key = (est, alpha, mr, nr, pm_bits, confidence.to_bits());
+    crate::stats::cached(&CACHE, key, || {
+        let w = pivot_weights(est, alpha, m, n, edf)?;
+        let lo = weighted_chi2::quantile_with(&w, 0.5 * (1.0 - confidence)).ok()?;
+        let hi = weighted_chi2::quantile_with(&w, 0.5 * (1.0 + confidence)).ok()?;
+        (lo > 0.0 && hi > lo && hi.is_finite()).then_some((lo, hi))
+    })
+}
+
+/// The weights (λ_i, degrees of freedom h_i) of σ̂²/E\[σ̂²\] ≈ Σ λ_i χ²_{h_i}
+/// (Σ h_i λ_i = 1) for `est` at factor m on `n` samples, noise α:
+///
+/// - FM noises, or m ≤ [`REDUCED_M`]: the eigenvalues of the reduced
+///   record's form, each with h = 1 (exact for m ≤ m′);
+/// - PM noises at m > m′ (the **split spectrum**): the form's bulk splits
+///   into ever more, ever smaller eigenvalues as m grows at fixed T/τ,
+///   while a few (TOTDEV's two end samples, read by every reflected term)
+///   keep their share of the mean. Those are found as the leading
+///   eigenvalues whose share at m′ = 16 is at least 3/4 of that at m′ = 8;
+///   they are kept, their shares continued to the actual m as
+///   λ(m) = λ∞ + c/m through m′ = 8 and 16 (TOTDEV white PM at T/τ = 8:
+///   0.090, 0.080 → 0.071), and the rest is one gamma term g·χ²_h with the rest's
+///   mean and the variance left by the point's EDF ν
+///   (2/ν − 2Σ λ_top²). With no such eigenvalue (or no variance left)
+///   `None`: the χ²_ν interval is the model.
+pub fn pivot_weights(
+    est: Estimator,
+    alpha: i32,
+    m: usize,
+    n: usize,
+    edf: f64,
+) -> Option<Vec<(f64, f64)>> {
+    let (mr, nr) = reduced(est, m, n)?;
+    if mr == m || alpha <= 0 {
+        return Some(lumped(&spectrum_cached(est, alpha, mr, nr)?, LUMP_BELOW));
+    }
+    let ratio = (n - 1) as f64 / m as f64;
+    let at = |mm: usize| spectrum_cached(est, alpha, mm, (ratio * mm as f64).round() as usize + 1);
+    let fine = at(REDUCED_M)?;
+    let coarse = at(REDUCED_M / 2)?;
+    // A kept share settles as λ(m) = λ∞ + c/m: continued from m′ = 8 and
+    // 16 to the actual m.
+    let reach = 1.0 - REDUCED_M as f64 / m as f64;
+    let top: Vec<f64> = fine
+        .iter()
+        .zip(&coarse)
+        .take(SPLIT_MAX_TOP)
+        .take_while(|(f, c)| **f >= 0.75 * **c)
+        .map(|(f, c)| f - (c - f) * reach)
+        .take_while(|l| *l > 0.0)
+        .collect();
+    if top.is_empty() {
+        return None;
+    }
+    let mean_rest = 1.0 - top.iter().sum::<f64>();
+    let var_rest = 2.0 / edf - 2.0 * top.iter().map(|l| l * l).sum::<f64>();
+    if !(mean_rest > 0.0 && var_rest > 0.0) {
+        return None;
+    }
+    let g = var_rest / (2.0 * mean_rest);
+    let mut w: Vec<(f64, f64)> = top.iter().map(|&l| (l, 1.0)).collect();
+    w.push((g, mean_rest / g));
+    Some(w)
+}
+
+/// Eigenvalues below this fraction of the largest are lumped into one gamma
+/// term by [`lumped`].
+pub const LUMP_BELOW: f64 = 0.02;
+
+/// The weights (λ, 1) of a spectrum (largest first), with those below
+/// `below`·λ_max replaced by one gamma term g·χ²_h of the same mean and
+/// variance (g = Σλ²/Σλ, h = (Σλ)²/Σλ² over the lumped ones): a sum of
+/// many small terms is close to its two-moment gamma, and Imhof's integral
+/// then converges in a few hundred panels instead of 10⁵ (a few dominant
+/// weights among many small ones is its slow case). `tests/edf.rs`
+/// measures the change in the quantiles (below 0.5 %).
+pub fn lumped(lam: &[f64], below: f64) -> Vec<(f64, f64)> {
+    let top = lam.first().copied().unwrap_or(0.0);
+    let mut w: Vec<(f64, f64)> = Vec::new();
+    let (mut s1, mut s2) = (0.0, 0.0);
+    for &l in lam {
+        if l >= below * top {
+            w.push((l, 1.0));
+        } else {
+            s1 += l;
+            s2 += l * l;
+        }
+    }
+    if s1 > 0.0 && s2 > 0.0 {
+        w.push((s2 / s1, s1 * s1 / s2));
+    }
+    w
+}
+
+/// At most this many leading eigenvalues are kept apart in the split
+/// spectrum of [`pivot_weights`].
+pub const SPLIT_MAX_TOP: usize = 8;
+
+/// [`spectrum_exact`] remembered per (estimator, α, m′, n′).
+fn spectrum_cached(est: Estimator, alpha: i32, m: usize, n: usize) -> Option<Vec<f64>> {
+    type SpecKey = (Estimator, i32, usize, usize);
+    static SPECTRA: OnceLock<
+        std::sync::Mutex<std::collections::HashMap<SpecKey, Option<Vec<f64>>>>,
+    > = OnceLock::new();
+    let map = SPECTRA.get_or_init(Default::default);
+    if let Some(v) = map
+        .lock()
+        .ok()
+        .and_then(|c| c.get(&(est, alpha, m, n)).cloned())
+    {
+        return v;
+    }
+    let v = spectrum_exact(est, alpha, m, n);
+    if let Ok(mut c) = map.lock() {
+        c.insert((est, alpha, m, n), v.clone());
+    }
+    v
+}
+
+/// The two-sided interval (σ_lo, σ_hi) on the deviation `dev` of `est` at
+/// factor m (from `n` gap-free-equivalent samples) for noise α with `edf`
+/// degrees of freedom, and the method used: the quadratic form's own
+/// distribution where [`pivot_quantiles`] gives one, χ²_ν otherwise.
+///
+/// Errors as [`crate::stats::interval()`].
+pub fn interval_for(
+    est: Estimator,
+    alpha: i32,
+    m: usize,
+    n: usize,
+    dev: f64,
+    edf: f64,
+    confidence: f64,
+) -> crate::Result<(f64, f64, IntervalMethod)> {
+    let (lo, hi) = crate::stats::interval(dev, edf, confidence)?;
+    Ok(match pivot_quantiles(est, alpha, m, n, edf, confidence) {
+        Some((q_lo, q_hi)) => (
+            dev / q_hi.sqrt(),
+            dev / q_lo.sqrt(),
+            IntervalMethod::QuadraticForm,
+        ),
+        None => (lo, hi, IntervalMethod::Chi2),
+    })
+}
+
+/// The phase GACV table (lags 0 … n − 1) the spectra use: the sampled power
+/// law α of IEEE Std 1139 with f_h = 1/(2τ0) ([`gacv`]).
+pub fn phase_gacv(alpha: i32, n: usize) -> Vec<f64> {
+    gacv::sampled_phase_gacv(alpha, n.saturating_sub(1))
+}
