@@ -355,10 +355,21 @@ fn spectrum_cached(est: Estimator, alpha: i32, m: usize, n: usize) -> Option<Vec
     v
 }
 
+/// From this two-sided confidence level on, [`interval_for`] keeps the union
+/// of the quadratic-form and the χ²_ν interval (see there why).
+pub const GUARD_CONFIDENCE: f64 = 0.9;
+
 /// The two-sided interval (σ_lo, σ_hi) on the deviation `dev` of `est` at
 /// factor m (from `n` gap-free-equivalent samples) for noise α with `edf`
 /// degrees of freedom, and the method used: the quadratic form's own
 /// distribution where [`pivot_quantiles`] gives one, χ²_ν otherwise.
+///
+/// At confidence levels of 90 % and above — the levels decisions are taken
+/// at — the interval is the union of the two: seeded Monte Carlo at
+/// N = 4096 (300 records per noise type) put the form's 95 % coverage at
+/// 0.91–0.93 in a few cells at T/τ = 4 (MDEV/TDEV WFM, OHDEV and HTOT FFM)
+/// where χ²_ν gave 0.958–0.964, so there the wider χ² bound is kept rather
+/// than risk an interval that is too narrow ([`GUARD_CONFIDENCE`]).
 ///
 /// Errors as [`crate::stats::interval()`].
 pub fn interval_for(
@@ -372,6 +383,11 @@ pub fn interval_for(
 ) -> crate::Result<(f64, f64, IntervalMethod)> {
     let (lo, hi) = crate::stats::interval(dev, edf, confidence)?;
     Ok(match pivot_quantiles(est, alpha, m, n, edf, confidence) {
+        Some((q_lo, q_hi)) if confidence >= GUARD_CONFIDENCE => (
+            (dev / q_hi.sqrt()).min(lo),
+            (dev / q_lo.sqrt()).max(hi),
+            IntervalMethod::QuadraticForm,
+        ),
         Some((q_lo, q_hi)) => (
             dev / q_hi.sqrt(),
             dev / q_lo.sqrt(),
