@@ -453,7 +453,7 @@ fn theobr_top(n: usize) -> Option<usize> {
 /// estimated from them by linear interpolation in i. Its difference from
 /// the mean of all pairs is measured in the tests on seeded records of the
 /// five power-law noises (N = 6,000 and 24,000, three seeds, with and
-/// without gaps): worst 0.19 %, allowed [`SAMPLED_BOUND`] (0.5 %). That is a
+/// without gaps): worst 0.19 %, allowed 0.5 %. That is a
 /// seeded measurement, not a proof; the switch depends on N alone.
 pub(crate) fn theobr_ratio(p: &Prepared) -> Option<f64> {
     if theobr_top(p.x.len())? < SAMPLED_FROM {
@@ -466,11 +466,6 @@ pub(crate) fn theobr_ratio(p: &Prepared) -> Option<f64> {
 /// ThêoBR averages all its pairs below this n (N ≈ 61,500), a subset from
 /// there on.
 pub(crate) const SAMPLED_FROM: usize = 2048;
-
-/// The largest relative difference between the subset mean of
-/// [`theobr_ratio_sampled`] and the mean of all pairs that the tests allow
-/// (seeded records of WPM, FPM, WFM, FFM and RWFM, with and without gaps).
-pub(crate) const SAMPLED_BOUND: f64 = 0.005;
 
 /// The indices i of [`theobr_ratio_sampled`]: from 0, steps of
 /// max(⌈i/64⌉, ⌈n/256⌉) — at most about 1.6 % of τ above i = n/4, where most
@@ -763,6 +758,11 @@ mod tests {
     use super::*;
     use rand::{Rng, SeedableRng};
     use rand_chacha::ChaCha8Rng;
+
+    /// The largest relative difference between the subset mean of
+    /// [`theobr_ratio_sampled`] and the mean of all pairs that the tests allow
+    /// (seeded records of WPM, FPM, WFM, FFM and RWFM, with and without gaps).
+    const SAMPLED_BOUND: f64 = 0.005;
 
     /// The triangle sum of `head_triangle` (D&C with FFT) equals its
     /// definition summed directly, for lengths across the direct/FFT
