@@ -353,20 +353,23 @@ fn positive(v: f64, text: &str, expected: &str) -> Result<f64, String> {
     }
 }
 
+/// A limit file as written (by [`write_limit_file`] and by the old-syntax
+/// message's conversion, [`super::legacy`]): the format's own keys.
 #[derive(Serialize)]
-struct OutFile {
+pub(super) struct OutFile {
     #[serde(skip_serializing_if = "Option::is_none")]
-    name: Option<String>,
+    pub(super) name: Option<String>,
     #[serde(skip_serializing_if = "Option::is_none")]
-    note: Option<String>,
-    limit: Vec<OutLimit>,
+    pub(super) note: Option<String>,
+    pub(super) limit: Vec<OutLimit>,
 }
 
+/// One `[[limit]]` entry as written.
 #[derive(Serialize)]
-struct OutLimit {
-    metric: String,
-    shape: String,
-    points: Vec<[String; 2]>,
+pub(super) struct OutLimit {
+    pub(super) metric: String,
+    pub(super) shape: String,
+    pub(super) points: Vec<[String; 2]>,
 }
 
 /// Write limits (all of one file) in the limit-file format, through the

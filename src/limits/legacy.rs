@@ -23,7 +23,6 @@ use crate::error::Result;
 use crate::io::ReadError;
 use crate::units::parse_duration_with_unit;
 use crate::wander::masks::{Mask, Metric, Shape};
-use serde::Serialize;
 use std::path::Path;
 
 /// Whether `text` looks like the old mask syntax.
@@ -39,21 +38,7 @@ fn looks_old(text: &str) -> bool {
     })
 }
 
-#[derive(Serialize)]
-struct OutFile {
-    #[serde(skip_serializing_if = "Option::is_none")]
-    name: Option<String>,
-    #[serde(skip_serializing_if = "Option::is_none")]
-    note: Option<String>,
-    limit: Vec<OutLimit>,
-}
-
-#[derive(Serialize)]
-struct OutLimit {
-    metric: String,
-    shape: String,
-    points: Vec<[String; 2]>,
-}
+use super::file::{OutFile, OutLimit};
 
 /// For a file in the old mask syntax: the message saying the format
 /// changed, with the file in the TOML form (its values as written) when it

@@ -109,15 +109,7 @@ pub fn check_text(c: &LimitCheck) -> Text {
             s.line(format!("  first exceeds the limit near {x} = {}", at(t)));
         }
         let list: Vec<String> = c.excesses.iter().map(|v| at(v.at)).collect();
-        let shown = if list.len() > 8 {
-            format!(
-                "{}, … {}",
-                list[..3].join(", "),
-                list[list.len() - 3..].join(", ")
-            )
-        } else {
-            list.join(", ")
-        };
+        let shown = super::table::short_list(&list);
         s.line(format!(
             "  {} {x} above the limit: {shown}",
             c.excesses.len()

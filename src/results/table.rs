@@ -11,6 +11,20 @@
 use crate::units::{format_si, format_sig};
 use std::fmt::Write as _;
 
+/// A list of many items in a line: all of them up to 8, else the first
+/// three, "…" and the last three (the τ or offsets a verdict exceeded at).
+pub fn short_list(items: &[String]) -> String {
+    if items.len() > 8 {
+        format!(
+            "{}, … {}",
+            items[..3].join(", "),
+            items[items.len() - 3..].join(", ")
+        )
+    } else {
+        items.join(", ")
+    }
+}
+
 /// How the numbers of a column are written (its unit).
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub enum Unit {

@@ -185,15 +185,7 @@ impl WanderBody {
                     s.line(format!("  first exceeds the limit near τ = {}", si(t)));
                 }
                 let list: Vec<String> = c.violations.iter().map(|v| si(v.tau)).collect();
-                let shown = if list.len() > 8 {
-                    format!(
-                        "{}, … {}",
-                        list[..3].join(", "),
-                        list[list.len() - 3..].join(", ")
-                    )
-                } else {
-                    list.join(", ")
-                };
+                let shown = super::table::short_list(&list);
                 s.line(format!("  {} violating τ: {shown}", c.violations.len()));
             }
         }
