@@ -324,6 +324,72 @@ pub fn best_curve(points: &[BestPoint]) -> Curve {
     }
 }
 
+/// What `stability` adds to the curves of one record: the `best` curve,
+/// σ limits, and a phase-noise table's view beside the measured curves.
+#[derive(Debug, Clone, Default)]
+pub struct Additions<'a> {
+    /// Add the `best` curve ([`best`]).
+    pub best: bool,
+    /// σ limits to check ([`crate::limits::check_sigma`]).
+    pub limits: &'a [crate::limits::Limit],
+    /// The limits given that other commands check (named in the document).
+    pub elsewhere: Vec<crate::limits::Elsewhere>,
+    /// A phase-noise table to convert beside the measured curves
+    /// ([`from_phase_noise`]) and how.
+    pub phase_noise: Option<(&'a crate::spectrum::Spectrum, ViewOptions)>,
+}
+
+/// The `stability` result of one record: its document body and the curves
+/// its chart draws.
+#[derive(Debug, Clone)]
+pub struct RecordStability {
+    /// The document body (`stability --format json` of this record).
+    pub body: crate::results::StabilityBody,
+    /// The curves measured on the record ([`analyse`]).
+    pub measured: Vec<Curve>,
+    /// The measured curves and those converted from the table.
+    pub shown: Vec<Curve>,
+    /// The `best` curve, when asked for.
+    pub best: Option<Curve>,
+}
+
+/// Everything `stability` computes for one record `x`: [`analyse`], then
+/// the [`Additions`]. The command line (for each FILE) and the Python
+/// package call this one function, so they give the same document.
+pub fn record_stability(
+    x: &PhaseRecord,
+    req: &Request,
+    add: &Additions,
+) -> Result<RecordStability> {
+    use crate::results::{AnyCurve, BestCurve, LimitsPart, StabilityBody};
+    let measured = analyse(x, req)?;
+    let best_points = add.best.then(|| best(&measured, x.len(), x.tau0));
+    let checks = crate::limits::check_sigma(x, req, add.limits)?;
+    let view = match &add.phase_noise {
+        Some((s, opts)) => Some(from_phase_noise(&measured, s, x.tau0, opts)?),
+        None => None,
+    };
+    let mut shown = measured.clone();
+    if let Some(v) = &view {
+        shown.extend(v.curves.iter().cloned());
+    }
+    let mut curves: Vec<AnyCurve> = shown.iter().cloned().map(AnyCurve::Plain).collect();
+    if let Some(b) = &best_points {
+        curves.push(AnyCurve::Best(BestCurve::new(b)));
+    }
+    Ok(RecordStability {
+        body: StabilityBody {
+            confidence: req.confidence,
+            curves,
+            consistency: view.map(|v| v.comparisons),
+            limits: LimitsPart::new(checks, add.elsewhere.clone()),
+        },
+        best: best_points.as_deref().map(best_curve),
+        measured,
+        shown,
+    })
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

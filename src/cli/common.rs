@@ -292,6 +292,53 @@ impl OutputArgs {
     }
 }
 
+/// One record's result, rendered in every format (the analysis commands
+/// that take several FILEs).
+pub struct Block<B> {
+    /// The file as named on the command line.
+    pub name: String,
+    /// What was read.
+    pub input: Input,
+    /// The command's result.
+    pub body: B,
+    /// Its text table.
+    pub table: String,
+    /// Its CSV.
+    pub csv: String,
+}
+
+impl OutputArgs {
+    /// Write the results of one or more records: one record's document as
+    /// [`OutputArgs::write`] does; several in one document, one block per
+    /// record ([`tauwise::results::SeveralDocument`], a `file` column in
+    /// CSV, a rule naming the file above each table).
+    pub fn write_records<B: serde::Serialize>(&self, mut blocks: Vec<Block<B>>) -> Result<()> {
+        if blocks.len() == 1 {
+            let b = blocks.remove(0);
+            return self.write(b.input, &b.body, |_| Ok(b.csv.clone()), |_| b.table.clone());
+        }
+        let named = |f: fn(&Block<B>) -> &String| -> Vec<(String, String)> {
+            blocks
+                .iter()
+                .map(|b| (b.name.clone(), f(b).clone()))
+                .collect()
+        };
+        let text = match self.format() {
+            Format::Csv => tauwise::results::csv_with_file_column(&named(|b| &b.csv))?,
+            Format::Table => tauwise::results::tables_text(&named(|b| &b.table)),
+            Format::Json => {
+                let doc = tauwise::results::SeveralDocument::new(
+                    blocks.into_iter().map(|b| (b.input, b.body)).collect(),
+                );
+                let (text, found) = doc.json()?;
+                note_not_finite(&found);
+                text
+            }
+        };
+        emit(self, &text)
+    }
+}
+
 impl PlotArgs {
     /// Draw the chart `make` builds to `--plot FILE` at the default size;
     /// nothing (and no chart built) without `--plot`.
@@ -335,6 +382,13 @@ pub fn emit_to(path: Option<&Path>, bytes: &[u8]) -> Result<()> {
 /// `"not_finite"`, and a note on standard error names it.
 pub fn json_doc<B: serde::Serialize>(input: Input, body: B) -> Result<String> {
     let (text, found) = Document::new(input, body).json()?;
+    note_not_finite(&found);
+    Ok(text)
+}
+
+/// The note on standard error naming a document's members that are not
+/// finite.
+fn note_not_finite(found: &[String]) {
     if !found.is_empty() {
         eprintln!(
             "tauwise: note: {} computed value(s) are not finite (overflowed or undefined): {}",
@@ -342,7 +396,6 @@ pub fn json_doc<B: serde::Serialize>(input: Input, body: B) -> Result<String> {
             found.iter().take(5).cloned().collect::<Vec<_>>().join(", ")
         );
     }
-    Ok(text)
 }
 
 /// Progress on standard error for commands that can run for seconds on big

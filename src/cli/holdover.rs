@@ -1,10 +1,10 @@
 //! `tauwise holdover FILE`: time error predicted through a holdover span from
 //! the record, against a budget.
 
-use super::common::{count, InputArgs, OutputArgs, PlotArgs};
+use super::common::{count, Block, InputArgs, OutputArgs, PlotArgs};
 use super::Outcome;
 use clap::Args as ClapArgs;
-use std::path::PathBuf;
+use std::path::{Path, PathBuf};
 use tauwise::holdover::aging::AgingModel;
 use tauwise::holdover::observed::observe;
 use tauwise::holdover::{caution, model_from_record, predict, FromRecord, Settings};
@@ -12,6 +12,7 @@ use tauwise::parse::{
     non_negative_fraction, temp_coeff, temp_swing, Duration, Fraction, Model, Rate,
 };
 use tauwise::plot::holdover::HoldoverPlot;
+use tauwise::plot::overlay::{holdover_chart, HoldoverItem};
 use tauwise::results::HoldoverBody;
 use tauwise::{Error, Result};
 
@@ -21,9 +22,10 @@ use tauwise::{Error, Result};
 #[command(mut_arg("plot", |a| a.help("Draw the time error through the span (deterministic, p50/p95/p99 \
 of |TE|, the budget and the hold time) to FILE (.svg or .png).")))]
 pub struct Args {
-    /// Input file: phase or frequency record up to the loss of reference.
-    #[arg(value_name = "FILE")]
-    pub file: PathBuf,
+    /// Input file: phase or frequency record up to the loss of reference;
+    /// several files give one block each and --plot overlays their p95/p50.
+    #[arg(value_name = "FILE", required = true)]
+    pub files: Vec<PathBuf>,
     #[command(flatten)]
     pub input: InputArgs,
     /// Holdover span, with its unit (e.g. 8h, 24h; a bare number is refused).
@@ -94,69 +96,91 @@ pub struct Args {
 
 /// Run `holdover`.
 pub fn run(args: Args) -> Result<Outcome> {
-    args.output.check(&[&args.file], &args.plot)?;
-    let span = args.span.seconds();
-    let budget = args.budget.seconds();
-    let te0 = args.te0.seconds();
+    let inputs: Vec<&Path> = args.files.iter().map(PathBuf::as_path).collect();
+    args.output.check(&inputs, &args.plot)?;
+    let (span, budget) = (args.span.seconds(), args.budget.seconds());
     // clap makes the two go together (`requires`).
     let temp_worst = match (args.temp_coeff, args.temp_swing) {
         (Some(c), Some(s)) => (c * s).abs(),
         _ => 0.0,
     };
-    let progress = super::common::Progress::start("holdover");
-    progress.stage(format!("reading {}", args.file.display()));
-    let series = args.input.load(&args.file)?;
-    progress.stage("computing");
-    let tau0 = series.record.tau0();
-    let noise = args.model.map(|m| m.power_law(0.5 / tau0));
-    let opts = FromRecord {
-        te0,
-        settle: args.settle.map(Duration::seconds),
-        start: args.start.map(Duration::seconds),
-        aging_model: args.aging_model,
-        aging_given: args.aging.map(Rate::per_second),
-        temp_worst,
-        noise,
-        y0_given: args
-            .y0
-            .map(|y0| (y0.value(), args.y0_sigma.map_or(0.0, Fraction::value))),
-        seed: args.seed,
-        ..FromRecord::default()
-    };
-    if opts.y0_given.is_some() && args.settle.is_some() {
+    if args.y0.is_some() && args.settle.is_some() {
         return Err(Error::option(
             "--settle",
             "sets the window for the y0 estimated on the record; with --y0 it has no use",
         ));
     }
-    let model = model_from_record(&series.record, &opts)?;
     let settings = Settings {
         paths: args.paths,
         seed: args.seed,
         steps: args.steps,
         ..Settings::new(span, budget)
     };
-    let pred = predict(&model, &settings)?;
-    let observed = opts
-        .start
-        .and_then(|_| observe(&series.record, &model, &pred, span, budget));
-    let path = series.info.path.display().to_string();
-    args.plot.draw(|| {
+    let progress = super::common::Progress::start("holdover");
+    let (mut blocks, mut plots, mut judgements) = (Vec::new(), Vec::new(), Vec::new());
+    for file in &args.files {
+        progress.stage(format!("reading {}", file.display()));
+        let series = args.input.load(file)?;
+        progress.stage("computing");
+        let opts = FromRecord {
+            te0: args.te0.seconds(),
+            settle: args.settle.map(Duration::seconds),
+            start: args.start.map(Duration::seconds),
+            aging_model: args.aging_model,
+            aging_given: args.aging.map(Rate::per_second),
+            temp_worst,
+            noise: args.model.map(|m| m.power_law(0.5 / series.record.tau0())),
+            y0_given: (args.y0).map(|y0| (y0.value(), args.y0_sigma.map_or(0.0, Fraction::value))),
+            seed: args.seed,
+            ..FromRecord::default()
+        };
+        let model = model_from_record(&series.record, &opts)?;
+        let pred = predict(&model, &settings)?;
+        let observed =
+            (opts.start).and_then(|_| observe(&series.record, &model, &pred, span, budget));
+        let path = series.info.path.display().to_string();
         let plot = HoldoverPlot::from_prediction(&path, &pred, span, budget, vec![caution()]);
-        Ok(plot.with_observed(observed.as_ref()).chart())
-    })?;
-    let body = HoldoverBody::new(
-        &settings,
-        &model,
-        &pred,
-        args.aging.is_some(),
-        observed.as_ref(),
-    );
-    args.output.write(
-        (&series).into(),
-        &body,
-        |b| b.csv(),
-        |b| b.table(&path, opts.start.is_some()).render(),
-    )?;
-    Ok(args.gate.outcome(tauwise::verdict::gate([&pred.judgement])))
+        if let ([_], Some(file)) = (&args.files[..], &args.plot.plot) {
+            let chart = plot.clone().with_observed(observed.as_ref()).chart();
+            tauwise::plot::render(&chart, file, tauwise::plot::DEFAULT_SIZE)?;
+        }
+        plots.push((path.clone(), plot));
+        judgements.push(pred.judgement.clone());
+        let body = HoldoverBody::new(
+            &settings,
+            &model,
+            &pred,
+            args.aging.is_some(),
+            observed.as_ref(),
+        );
+        blocks.push(Block {
+            name: file.display().to_string(),
+            input: (&series).into(),
+            table: body.table(&path, opts.start.is_some()).render(),
+            csv: body.csv()?,
+            body,
+        });
+    }
+    if let (Some(file), true) = (&args.plot.plot, args.files.len() > 1) {
+        let spans = [span];
+        let items: Vec<_> = (plots.iter())
+            .map(|(n, p)| {
+                (
+                    n.clone(),
+                    Some(HoldoverItem {
+                        plot: p,
+                        budget,
+                        spans: &spans,
+                    }),
+                )
+            })
+            .collect();
+        let what =
+            "p95 of |TE| (solid, markers) and p50 (dashed) of each record against the budget";
+        let mut chart = holdover_chart("holdover", what, &items, "");
+        chart.notes.push(caution());
+        tauwise::plot::render(&chart, file, tauwise::plot::DEFAULT_SIZE)?;
+    }
+    args.output.write_records(blocks)?;
+    Ok(args.gate.outcome(tauwise::verdict::gate(&judgements)))
 }

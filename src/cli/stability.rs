@@ -1,24 +1,28 @@
 //! `tauwise stability FILE`: σ(τ) curves with confidence intervals and the
 //! noise type at each τ, as a table, CSV or JSON (docs/json.md).
 
-use super::common::{ConfidenceArgs, InputArgs, OutputArgs, PlotArgs, TauArgs};
+use super::common::{Block, ConfidenceArgs, InputArgs, OutputArgs, PlotArgs, TauArgs};
 use super::Outcome;
 use clap::Args as ClapArgs;
-use std::path::PathBuf;
+use std::path::{Path, PathBuf};
 use tauwise::deviation::{Curve, Estimator};
 use tauwise::parse::{EstimatorList, Frequency};
 use tauwise::plot::stability::{stability_charts, time_chart_path};
-use tauwise::results::{AnyCurve, BestCurve, RecordInput, StabilityBody};
-use tauwise::stability::{analyse, best, Request};
+use tauwise::results::RecordInput;
+use tauwise::stability::{
+    record_stability, Additions, RecordStability, Request, ViewOptions,
+    DEFAULT_TABLE_UNCERTAINTY_DB,
+};
 use tauwise::Result;
 
 /// σ(τ) curves with confidence intervals and noise type.
 #[derive(Debug, ClapArgs)]
 #[command(mut_arg("plot", |a| a.help(plot_help())))]
 pub struct Args {
-    /// Input file (`-` reads standard input).
-    #[arg(value_name = "FILE")]
-    pub file: PathBuf,
+    /// Input file (`-` reads standard input); several files give one block
+    /// each and a chart overlaying the first estimator of --dev.
+    #[arg(value_name = "FILE", required = true)]
+    pub files: Vec<PathBuf>,
     #[command(flatten)]
     pub input: InputArgs,
     /// Estimators, comma-separated (the registry's names: see `dev_help`).
@@ -99,7 +103,7 @@ fn plot_help() -> String {
 
 /// Run `stability`.
 pub fn run(args: Args) -> Result<Outcome> {
-    let mut inputs = vec![args.file.as_path()];
+    let mut inputs: Vec<&Path> = args.files.iter().map(PathBuf::as_path).collect();
     inputs.extend(args.lf.as_deref());
     inputs.extend(args.limit_files.iter().map(|p| p.as_path()));
     let time_plot = args.plot.plot.as_deref().map(time_chart_path);
@@ -112,76 +116,80 @@ pub fn run(args: Args) -> Result<Outcome> {
         ],
     )?;
     // Limit files first: a bad file fails before the record is read.
-    let (limit_set, elsewhere) = tauwise::limits::read_for(&args.limit_files, "stability")?;
-    let estimators = args.dev.0.clone();
-    let grid = args.taus.taus.clone();
-    let forced_alpha = args.noise_type;
-    let progress = super::common::Progress::start("stability");
-    progress.stage(format!("reading {}", args.file.display()));
-    let mut series = args.input.load(&args.file)?;
-    series.record = args.drift.apply(series.record)?;
-    let request = Request {
-        estimators,
-        grid,
-        confidence: args.confidence.confidence.value(),
-        forced_alpha,
-        bias_correction: !args.uncorrected,
-    };
-    let phase = series.record.to_phase();
-    progress.stage(format!("computing {}", args.dev));
-    let measured = analyse(&phase, &request)?;
-    let best_points = args.best.then(|| best(&measured, phase.len(), phase.tau0));
-    let limit_checks = tauwise::limits::check_sigma(&phase, &request, &limit_set)?;
-    let view = match &args.lf {
-        Some(table) => Some(phase_noise_view(&args, table, &measured, phase.tau0)?),
+    let (limits, elsewhere) = tauwise::limits::read_for(&args.limit_files, "stability")?;
+    let table = match &args.lf {
+        Some(path) => Some(read_table(&args, path)?),
         None => None,
     };
-    let mut curves = measured.clone();
-    if let Some(v) = &view {
-        curves.extend(v.curves.iter().cloned());
+    let view = ViewOptions {
+        bandwidth: args.bandwidth.map(Frequency::hertz),
+        table_uncertainty_db: (args.lf_uncertainty).unwrap_or(DEFAULT_TABLE_UNCERTAINTY_DB),
+    };
+    let request = Request {
+        estimators: args.dev.0.clone(),
+        grid: args.taus.taus.clone(),
+        confidence: args.confidence.confidence.value(),
+        forced_alpha: args.noise_type,
+        bias_correction: !args.uncorrected,
+    };
+    let progress = super::common::Progress::start("stability");
+    let (mut blocks, mut results) = (Vec::new(), Vec::new());
+    for file in &args.files {
+        progress.stage(format!("reading {}", file.display()));
+        let mut series = args.input.load(file)?;
+        series.record = args.drift.apply(series.record)?;
+        progress.stage(format!("computing {}", args.dev));
+        let additions = Additions {
+            best: args.best,
+            limits: &limits,
+            elsewhere: elsewhere.clone(),
+            phase_noise: table.as_ref().map(|t| (&t.spectrum, view.clone())),
+        };
+        let r = record_stability(&series.record.to_phase(), &request, &additions)?;
+        blocks.push(Block {
+            name: file.display().to_string(),
+            input: (&series).into(),
+            table: r.body.table(&RecordInput::of(&series)).render(),
+            csv: r.body.csv()?,
+            body: r.body.clone(),
+        });
+        results.push((series.info.path.display().to_string(), r));
     }
     if let Some(path) = &args.plot.plot {
-        let best_curve = best_points.as_deref().map(tauwise::stability::best_curve);
-        let (main, time) = stability_charts(
-            &series.info.path.display().to_string(),
-            &curves,
-            &measured,
-            request.confidence,
-            best_curve.as_ref(),
-        );
+        draw(path, &results, request.confidence)?;
+    }
+    let gate = tauwise::verdict::gate(
+        blocks
+            .iter()
+            .flat_map(|b| tauwise::limits::judgements(&b.body.limits.limits)),
+    );
+    args.output.write_records(blocks)?;
+    Ok(args.gate.outcome(gate))
+}
+
+/// The chart(s) of one record, or the first estimator of each record
+/// overlaid.
+fn draw(path: &Path, results: &[(String, RecordStability)], confidence: f64) -> Result<()> {
+    if let [(title, r)] = results {
+        let (main, time) =
+            stability_charts(title, &r.shown, &r.measured, confidence, r.best.as_ref());
         tauwise::plot::render(&main, path, (960, 600))?;
         // Time deviations beside σ_y curves: their own chart, FILE-time.EXT.
         if let Some(time) = time {
             tauwise::plot::render(&time, &time_chart_path(path), (960, 600))?;
         }
+        return Ok(());
     }
-    let mut list: Vec<AnyCurve> = curves.iter().cloned().map(AnyCurve::Plain).collect();
-    if let Some(b) = &best_points {
-        list.push(AnyCurve::Best(BestCurve::new(b)));
-    }
-    let body = StabilityBody {
-        confidence: request.confidence,
-        curves: list,
-        consistency: view.as_ref().map(|v| v.comparisons.clone()),
-        limits: tauwise::results::LimitsPart::new(limit_checks, elsewhere),
-    };
-    let gate = tauwise::verdict::gate(tauwise::limits::judgements(&body.limits.limits));
-    args.output.write(
-        (&series).into(),
-        &body,
-        |b| b.csv(),
-        |b| b.table(&RecordInput::of(&series)).render(),
-    )?;
-    Ok(args.gate.outcome(gate))
+    let items: Vec<(String, &Curve)> = results
+        .iter()
+        .filter_map(|(n, r)| r.measured.first().map(|c| (n.clone(), c)))
+        .collect();
+    let chart = tauwise::plot::overlay::records_sigma_chart(&items, confidence);
+    tauwise::plot::render(&chart, path, (960, 600))
 }
 
-/// Read the `--lf` table and convert it beside the measured curves.
-fn phase_noise_view(
-    args: &Args,
-    table: &std::path::Path,
-    measured: &[Curve],
-    tau0: f64,
-) -> Result<tauwise::stability::PhaseNoiseView> {
+/// Read the `--lf` table (it needs --carrier).
+fn read_table(args: &Args, table: &Path) -> Result<tauwise::io::lf_table::LfTable> {
     let carrier = match args.input.carrier {
         Some(c) => c.hertz(),
         None => {
@@ -195,12 +203,5 @@ fn phase_noise_view(
         carrier: Some(carrier),
         ..Default::default()
     };
-    let view = tauwise::stability::ViewOptions {
-        bandwidth: args.bandwidth.map(Frequency::hertz),
-        table_uncertainty_db: args
-            .lf_uncertainty
-            .unwrap_or(tauwise::stability::DEFAULT_TABLE_UNCERTAINTY_DB),
-    };
-    let t = tauwise::io::lf_table::read_lf_table(table, &opts)?;
-    tauwise::stability::from_phase_noise(measured, &t.spectrum, tau0, &view)
+    tauwise::io::lf_table::read_lf_table(table, &opts)
 }

@@ -1,19 +1,24 @@
 //! `tauwise wander FILE`: TIE statistics, MTIE and TDEV of a phase (TIE)
 //! record, checked against built-in or user masks.
 
-use super::common::{InputArgs, OutputArgs, PlotArgs};
+use super::common::{Block, InputArgs, OutputArgs, PlotArgs};
 use super::Outcome;
 use clap::Args as ClapArgs;
-use std::path::PathBuf;
+use std::path::{Path, PathBuf};
 use tauwise::parse::{parse_tau_range, Duration, TeFilter};
+use tauwise::plot::overlay;
+use tauwise::plot::stability::suffixed_path;
+use tauwise::plot::wander::{plots_from_result, wander_chart};
 use tauwise::results::{RecordInput, WanderBody};
 use tauwise::tau::TauGrid;
 use tauwise::units::UnitError;
 use tauwise::verdict::gate;
 use tauwise::wander::masks::builtin;
+use tauwise::wander::masks::{Metric, CONDITIONS_NOTE};
 use tauwise::wander::te::{TeOptions, DEFAULT_CTE_WINDOW};
 use tauwise::wander::{analyse, Options};
 use tauwise::Result;
+use tauwise::DECISION_CAUTION;
 
 /// MTIE, TDEV and TIE statistics against wander masks.
 #[derive(Debug, ClapArgs)]
@@ -21,9 +26,11 @@ use tauwise::Result;
 #[command(mut_arg("plot", |a| a.help("Draw MTIE and TDEV against the masks, violations marked, to FILE \
 (.svg or .png).")))]
 pub struct Args {
-    /// Input file of phase (time error) readings (`-` reads standard input).
-    #[arg(value_name = "FILE")]
-    pub file: PathBuf,
+    /// Input file of phase (time error) readings (`-` reads standard
+    /// input); several files give one block each, and --plot FILE overlays
+    /// their MTIE (and their TDEV in FILE-tdev.EXT).
+    #[arg(value_name = "FILE", required = true)]
+    pub files: Vec<PathBuf>,
     #[command(flatten)]
     pub input: InputArgs,
     /// τ grid: octave, decade, all, log:N or a list of durations, used as
@@ -69,7 +76,16 @@ pub struct Args {
 
 /// Run `wander`.
 pub fn run(args: Args) -> Result<Outcome> {
-    args.output.check(&[&args.file], &args.plot)?;
+    let tdev_plot = (args.files.len() > 1)
+        .then(|| args.plot.plot.as_deref().map(|p| suffixed_path(p, "tdev")))
+        .flatten();
+    let inputs: Vec<&Path> = args.files.iter().map(PathBuf::as_path).collect();
+    let outputs = [
+        args.output.output.as_deref(),
+        args.plot.plot.as_deref(),
+        tdev_plot.as_deref(),
+    ];
+    tauwise::io::output_paths::check_output_paths(&inputs, &outputs)?;
     // Masks first: a bad name or file fails before the record is read.
     let mut masks = Vec::new();
     for name in &args.masks {
@@ -77,11 +93,6 @@ pub fn run(args: Args) -> Result<Outcome> {
     }
     let (set, elsewhere) = tauwise::limits::read_for(&args.mask_files, "wander")?;
     masks.extend(set.iter().filter_map(tauwise::limits::Limit::as_mask));
-    let progress = super::common::Progress::start("wander");
-    progress.stage(format!("reading {}", args.file.display()));
-    let series = args.input.load(&args.file)?;
-    progress.stage("computing");
-    let rec = series.record.to_phase();
     let opts = Options {
         grid: args.taus.clone(),
         range: args.tau_range,
@@ -92,22 +103,47 @@ pub fn run(args: Args) -> Result<Outcome> {
             ..TeOptions::default()
         }),
     };
-    let res = analyse(&rec, &opts, &masks)?;
-    let title = series.info.path.display().to_string();
-    args.plot
-        .draw(|| Ok(tauwise::plot::wander::wander_chart(&res, &masks, &title)))?;
-    let gate = gate(res.checks.iter().map(|c| &c.judgement));
-    let body = WanderBody::new(res).with_elsewhere(elsewhere);
-    args.output.write(
-        (&series).into(),
-        &body,
-        |b| b.csv(),
-        |b| b.table(&RecordInput::of(&series)).render(),
-    )?;
-    Ok(args.gate.outcome(gate))
+    let progress = super::common::Progress::start("wander");
+    let (mut blocks, mut charts, mut judgements) = (Vec::new(), Vec::new(), Vec::new());
+    for file in &args.files {
+        progress.stage(format!("reading {}", file.display()));
+        let series = args.input.load(file)?;
+        progress.stage("computing");
+        let res = analyse(&series.record.to_phase(), &opts, &masks)?;
+        let title = series.info.path.display().to_string();
+        charts.push((title.clone(), plots_from_result(&res, &masks, &title)));
+        if let [_] = &args.files[..] {
+            args.plot.draw(|| Ok(wander_chart(&res, &masks, &title)))?;
+        }
+        judgements.extend(res.checks.iter().map(|c| c.judgement.clone()));
+        let body = WanderBody::new(res).with_elsewhere(elsewhere.clone());
+        blocks.push(Block {
+            name: file.display().to_string(),
+            input: (&series).into(),
+            table: body.table(&RecordInput::of(&series)).render(),
+            csv: body.csv()?,
+            body,
+        });
+    }
+    if let (Some(path), Some(tdev_path)) = (&args.plot.plot, &tdev_plot) {
+        for (metric, path) in [(Metric::Mtie, path), (Metric::Tdev, tdev_path)] {
+            let items: Vec<_> = (charts.iter())
+                .map(|(n, p)| (n.clone(), p.iter().find(|p| p.metric == metric)))
+                .collect();
+            let subtitle = format!("{} of each record against the masks", metric.label());
+            let mut chart = overlay::wander_chart(&metric.label(), &subtitle, metric, &items, "");
+            if !masks.is_empty() {
+                chart
+                    .notes
+                    .push(format!("{CONDITIONS_NOTE} {DECISION_CAUTION}"));
+            }
+            tauwise::plot::render(&chart, path, tauwise::plot::DEFAULT_SIZE)?;
+        }
+    }
+    args.output.write_records(blocks)?;
+    Ok(args.gate.outcome(gate(&judgements)))
 }
 
-/// `--mask NAME`: a built-in mask (an unknown name is a bad command line).
 fn mask_name(text: &str) -> std::result::Result<String, UnitError> {
     builtin(text)
         .map(|_| text.to_string())

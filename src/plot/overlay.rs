@@ -53,6 +53,30 @@ pub fn sigma_chart(
     ch
 }
 
+/// One estimator's curve of each record (`stability` given several
+/// files), with its interval bars: the curves must be of one estimator.
+pub fn records_sigma_chart(items: &[(String, &crate::deviation::Curve)], confidence: f64) -> Chart {
+    let curves: Vec<(String, SigmaCurve)> = items
+        .iter()
+        .map(|(n, c)| (n.clone(), SigmaCurve::from_curve(c)))
+        .collect();
+    let estimator = items.first().map(|(_, c)| c.estimator);
+    let y = match estimator {
+        Some(e) if e.is_time_deviation() => Axis::log_si("time deviation", "s"),
+        _ => Axis::log_plain("fractional frequency deviation σ(τ)", ""),
+    };
+    let name = estimator
+        .map(|e| e.name().to_uppercase())
+        .unwrap_or_default();
+    let subtitle = format!(
+        "{name} of each record · bars: {:.1} % confidence intervals",
+        confidence * 100.0
+    );
+    let refs: Vec<(String, Option<&SigmaCurve>)> =
+        curves.iter().map(|(n, c)| (n.clone(), Some(c))).collect();
+    sigma_chart("frequency stability", &subtitle, y, &refs, "")
+}
+
 /// MTIE or TDEV of each item against every mask its analysis checked (each
 /// mask drawn once, at the widest sampling among the items).
 pub fn wander_chart(

@@ -355,13 +355,19 @@ pub fn stability_charts(
 /// Where the time-deviation chart goes when σ_y curves take the main one:
 /// `stab.svg` → `stab-time.svg` (same directory and format).
 pub fn time_chart_path(path: &std::path::Path) -> std::path::PathBuf {
+    suffixed_path(path, "time")
+}
+
+/// A chart beside `path`: `chart.svg` → `chart-SUFFIX.svg` (same directory
+/// and format).
+pub fn suffixed_path(path: &std::path::Path, suffix: &str) -> std::path::PathBuf {
     let stem = path
         .file_stem()
         .map(|s| s.to_string_lossy().into_owned())
         .unwrap_or_default();
     let name = match path.extension() {
-        Some(ext) => format!("{stem}-time.{}", ext.to_string_lossy()),
-        None => format!("{stem}-time"),
+        Some(ext) => format!("{stem}-{suffix}.{}", ext.to_string_lossy()),
+        None => format!("{stem}-{suffix}"),
     };
     path.with_file_name(name)
 }
