@@ -34,6 +34,19 @@ impl DataKind {
     }
 }
 
+impl std::str::FromStr for DataKind {
+    type Err = String;
+    /// `phase`, or `freq` (also `frequency`): the command line's `--data`
+    /// and the DUT file's `data`.
+    fn from_str(text: &str) -> std::result::Result<Self, String> {
+        match text.trim() {
+            "phase" => Ok(DataKind::Phase),
+            "freq" | "frequency" => Ok(DataKind::Freq),
+            other => Err(format!("expected phase or freq, got '{other}'")),
+        }
+    }
+}
+
 /// Phase record: x_i in seconds at t_i = i·τ0; NaN marks a gap.
 #[derive(Debug, Clone, PartialEq)]
 pub struct PhaseRecord {

@@ -360,7 +360,11 @@ fn combined_view_with_a_phase_noise_table_and_a_plot() {
         .output()
         .unwrap();
     assert_eq!(out.status.code(), Some(2));
-    assert!(String::from_utf8_lossy(&out.stderr).contains("--lf: needs --carrier"));
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert!(
+        err.contains("--lf: the phase-noise table needs the carrier frequency: give --carrier"),
+        "{err}"
+    );
 }
 
 /// `--dev tierms` (the old name of TIE rms) is refused with a message that

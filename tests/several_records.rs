@@ -54,14 +54,7 @@ fn stability_blocks_equal_the_single_record_documents() {
 
 #[test]
 fn wander_blocks_equal_the_single_record_documents() {
-    let opts = [
-        "--tau0",
-        "100ms",
-        "--units",
-        "ns",
-        "--mask",
-        "g8272-prtc-a",
-    ];
+    let opts = ["--tau0", "100ms", "--units", "ns", "--mask", "g8272-prtc-a"];
     blocks_equal_single_runs("wander", &[TIE_A, TIE_B], &opts);
 }
 
@@ -138,7 +131,10 @@ fn the_gate_is_the_worst_over_the_records() {
 fn assert_overlaid(svg: &std::path::Path, files: &[&str]) {
     let text = std::fs::read_to_string(svg).unwrap().to_ascii_lowercase();
     for (i, f) in files.iter().enumerate() {
-        assert!(text.contains(&f.to_ascii_lowercase()), "{f} not in the legend");
+        assert!(
+            text.contains(&f.to_ascii_lowercase()),
+            "{f} not in the legend"
+        );
         let c = tauwise::plot::style::device_colour(i).rgb();
         let hex = format!("#{:02x}{:02x}{:02x}", c.0, c.1, c.2);
         assert!(text.contains(&hex), "colour {hex} of record {i} not drawn");
@@ -164,8 +160,21 @@ fn plots_overlay_the_records_in_their_colours() {
     assert_overlaid(&s, &[A, B]);
     let h = dir.path().join("h.svg");
     let out = run(&[
-        "holdover", A, B, "--tau0", "1s", "--units", "ns", "--span", "8h", "--budget", "1.5us",
-        "--paths", "200", "--plot", h.to_str().unwrap(),
+        "holdover",
+        A,
+        B,
+        "--tau0",
+        "1s",
+        "--units",
+        "ns",
+        "--span",
+        "8h",
+        "--budget",
+        "1.5us",
+        "--paths",
+        "200",
+        "--plot",
+        h.to_str().unwrap(),
     ]);
     assert!(out.status.success(), "{}", stderr(&out));
     assert_overlaid(&h, &[A, B]);

@@ -16,32 +16,14 @@ use tauwise::tau::TauGrid;
 use tauwise::units::ValueUnit;
 use tauwise::{DataKind, Record, Result};
 
-/// The kind of readings in an input file (`--data`).
-#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
-pub enum DataArg {
-    /// Phase (time error) readings.
-    Phase,
-    /// Frequency readings (fractional, ppm, ppb or absolute Hz).
-    Freq,
-}
-
-impl From<DataArg> for DataKind {
-    fn from(d: DataArg) -> Self {
-        match d {
-            DataArg::Phase => DataKind::Phase,
-            DataArg::Freq => DataKind::Freq,
-        }
-    }
-}
-
 /// How to read a time-series input file (the record-input group every
 /// command that reads a record shares; the DUT file takes the same keys).
 #[derive(Debug, Clone, Args)]
 pub struct InputArgs {
-    /// What the readings are: phase (time error) or frequency.
+    /// What the readings are: phase (time error) or freq (frequency).
     /// Default: from the unit (--units or the header), else phase.
-    #[arg(long = "data", value_enum, value_name = "KIND")]
-    pub data: Option<DataArg>,
+    #[arg(long = "data", value_name = "KIND", value_parser = str::parse::<DataKind>)]
+    pub data: Option<DataKind>,
     /// Sampling interval τ0 (e.g. 1s, 100ms, or plain seconds). Default:
     /// the median spacing of the timestamps. With a time column too, the
     /// stamps still place the readings (gaps kept) and must agree with τ0.
@@ -100,7 +82,7 @@ impl InputArgs {
     /// The reader options these arguments ask for.
     pub fn options(&self) -> Result<SeriesOptions> {
         Ok(SeriesOptions {
-            kind: self.data.map(DataKind::from),
+            kind: self.data,
             unit: self.units,
             tau0: self.tau0.map(Duration::seconds),
             carrier: self.carrier.map(Frequency::hertz),
@@ -204,6 +186,17 @@ pub struct ConfidenceArgs {
         value_parser = str::parse::<Probability>
     )]
     pub confidence: Probability,
+}
+
+/// The carrier frequency, Hz, or the error naming `option` (the option or
+/// value that needs it) and `why`.
+pub fn carrier(given: Option<Frequency>, option: impl Into<String>, why: &str) -> Result<f64> {
+    given.map(Frequency::hertz).ok_or_else(|| {
+        tauwise::Error::option(
+            option,
+            format!("{why} needs the carrier frequency: give --carrier (e.g. --carrier 10MHz)"),
+        )
+    })
 }
 
 /// Print how a file was read (notes) and what looks wrong (warnings) on
@@ -388,7 +381,7 @@ pub fn json_doc<B: serde::Serialize>(input: Input, body: B) -> Result<String> {
 
 /// The note on standard error naming a document's members that are not
 /// finite.
-fn note_not_finite(found: &[String]) {
+pub fn note_not_finite(found: &[String]) {
     if !found.is_empty() {
         eprintln!(
             "tauwise: note: {} computed value(s) are not finite (overflowed or undefined): {}",

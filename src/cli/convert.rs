@@ -113,11 +113,8 @@ fn source(args: &Args, carrier: Option<f64>) -> Result<Source> {
             },
         )?;
         super::jitter::report_table(&t);
-        if t.quantity != TableQuantity::Sy && carrier.is_none() {
-            return Err(Error::option(
-                "--carrier",
-                "this conversion needs the carrier frequency: give --carrier (e.g. --carrier 10MHz)",
-            ));
+        if t.quantity != TableQuantity::Sy {
+            super::common::carrier(args.carrier, "--carrier", "this conversion")?;
         }
         return Ok(Source::table(t, fh_opt));
     }
@@ -145,17 +142,12 @@ pub fn run(args: Args) -> Result<Outcome> {
     let carrier = args.carrier.map(Frequency::hertz);
     let needs_carrier = args.lf.is_some() && args.quantity.is_some_and(|q| q != TableQuantity::Sy)
         || args.to == Target::Lf;
-    if needs_carrier && carrier.is_none() {
-        return Err(Error::option(
-            "--carrier",
-            "this conversion needs the carrier frequency: give --carrier (e.g. --carrier 10MHz)",
-        ));
+    if needs_carrier {
+        super::common::carrier(args.carrier, "--carrier", "this conversion")?;
     }
-    if let (Some(path), Target::Model, None) = (&args.plot.plot, args.to, carrier) {
-        return Err(Error::option(
-            format!("--plot {}", path.display()),
-            "the chart of --to model shows L(f), which needs the carrier frequency: give --carrier (e.g. --carrier 10MHz)",
-        ));
+    if let (Some(path), Target::Model) = (&args.plot.plot, args.to) {
+        let why = "the chart of --to model shows L(f), which";
+        super::common::carrier(args.carrier, format!("--plot {}", path.display()), why)?;
     }
     let src = source(&args, carrier)?;
     match args.to {

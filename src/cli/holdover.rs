@@ -6,14 +6,12 @@ use super::Outcome;
 use clap::Args as ClapArgs;
 use std::path::{Path, PathBuf};
 use tauwise::holdover::aging::AgingModel;
-use tauwise::holdover::observed::observe;
-use tauwise::holdover::{caution, model_from_record, predict, FromRecord, Settings};
+use tauwise::holdover::{caution, record_holdover, FromRecord, Settings};
 use tauwise::parse::{
     non_negative_fraction, temp_coeff, temp_swing, Duration, Fraction, Model, Rate,
 };
 use tauwise::plot::holdover::HoldoverPlot;
-use tauwise::plot::overlay::{holdover_chart, HoldoverItem};
-use tauwise::results::HoldoverBody;
+use tauwise::plot::overlay::records_holdover_chart;
 use tauwise::{Error, Result};
 
 /// Time error through a holdover span, against a budget.
@@ -134,25 +132,17 @@ pub fn run(args: Args) -> Result<Outcome> {
             seed: args.seed,
             ..FromRecord::default()
         };
-        let model = model_from_record(&series.record, &opts)?;
-        let pred = predict(&model, &settings)?;
-        let observed =
-            (opts.start).and_then(|_| observe(&series.record, &model, &pred, span, budget));
+        let r = record_holdover(&series.record, &opts, &settings)?;
         let path = series.info.path.display().to_string();
-        let plot = HoldoverPlot::from_prediction(&path, &pred, span, budget, vec![caution()]);
+        let plot =
+            HoldoverPlot::from_prediction(&path, &r.prediction, span, budget, vec![caution()]);
         if let ([_], Some(file)) = (&args.files[..], &args.plot.plot) {
-            let chart = plot.clone().with_observed(observed.as_ref()).chart();
+            let chart = plot.clone().with_observed(r.observed.as_ref()).chart();
             tauwise::plot::render(&chart, file, tauwise::plot::DEFAULT_SIZE)?;
         }
         plots.push((path.clone(), plot));
-        judgements.push(pred.judgement.clone());
-        let body = HoldoverBody::new(
-            &settings,
-            &model,
-            &pred,
-            args.aging.is_some(),
-            observed.as_ref(),
-        );
+        judgements.push(r.prediction.judgement.clone());
+        let body = r.body;
         blocks.push(Block {
             name: file.display().to_string(),
             input: (&series).into(),
@@ -162,23 +152,7 @@ pub fn run(args: Args) -> Result<Outcome> {
         });
     }
     if let (Some(file), true) = (&args.plot.plot, args.files.len() > 1) {
-        let spans = [span];
-        let items: Vec<_> = (plots.iter())
-            .map(|(n, p)| {
-                (
-                    n.clone(),
-                    Some(HoldoverItem {
-                        plot: p,
-                        budget,
-                        spans: &spans,
-                    }),
-                )
-            })
-            .collect();
-        let what =
-            "p95 of |TE| (solid, markers) and p50 (dashed) of each record against the budget";
-        let mut chart = holdover_chart("holdover", what, &items, "");
-        chart.notes.push(caution());
+        let chart = records_holdover_chart(&plots, budget, span);
         tauwise::plot::render(&chart, file, tauwise::plot::DEFAULT_SIZE)?;
     }
     args.output.write_records(blocks)?;

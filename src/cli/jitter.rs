@@ -10,14 +10,14 @@ use tauwise::io::filter_set::assemble_weightings;
 use tauwise::io::lf_table::{read_lf_table, read_spurs, LfTable, TableOptions, TableQuantity};
 use tauwise::parse::{Filter, Frequency};
 use tauwise::plot::phase_noise::{jitter_chart, TraceKind};
-use tauwise::results::{JitterBand, JitterBody, JitterTrace, SPUR_CONVENTION};
+use tauwise::results::{JitterBody, JitterRequest, JitterTrace, LimitsPart};
 use tauwise::spectrum::jitter::{
-    judge_bands, record_period_jitter, Band, BandJitter, JitterLimit, JitterSetup, PeriodRequest,
+    record_period_jitter, Band, BandJitter, JitterLimit, JitterSetup, PeriodRequest,
 };
-use tauwise::spectrum::spurs::{prepare_trace, SpurRule};
+use tauwise::spectrum::spurs::SpurRule;
 use tauwise::spectrum::welch::{WelchOptions, Window};
 use tauwise::verdict::gate;
-use tauwise::{Error, Result, DECISION_CAUTION};
+use tauwise::{Error, Result};
 
 /// Integrated phase jitter over offset bands.
 #[derive(Debug, ClapArgs)]
@@ -180,48 +180,49 @@ pub fn run(args: Args) -> Result<Outcome> {
         .map(|p| p.as_path())
         .collect();
     args.output.check(&inputs, &args.plot)?;
-    let carrier = args.input.carrier.map(Frequency::hertz).ok_or_else(|| {
-        Error::option(
-            "--carrier",
-            "jitter needs the carrier frequency: give --carrier (e.g. --carrier 10MHz)",
-        )
-    })?;
-    let bands: Vec<Band> = args.bands.iter().map(|b| b.1).collect();
+    let carrier = super::common::carrier(args.input.carrier, "--carrier", "jitter")?;
     // Limit files first: a bad file fails before the table is read.
     let (limit_set, elsewhere) = tauwise::limits::read_for(&args.limit_files, "jitter")?;
-    let mut limit_checks = Vec::new();
-    let (filters, filter_tables, filter_set_name) = assemble_weightings(
+    let (filters, filter_tables, filter_set) = assemble_weightings(
         &args.filters,
         &args.filter_files,
         args.filter_set.as_deref(),
     )?;
-    let mut setup = JitterSetup {
-        filters,
-        filter_tables,
-        extrapolate: args.extrapolate,
-        period: (args.period || args.periods.is_some()).then_some(PeriodRequest {
-            periods: args.periods,
+    let mut req = JitterRequest {
+        bands: args.bands.iter().map(|b| b.1).collect(),
+        setup: JitterSetup {
+            filters,
+            filter_tables,
+            extrapolate: args.extrapolate,
+            period: (args.period || args.periods.is_some()).then_some(PeriodRequest {
+                periods: args.periods,
+            }),
+            ..Default::default()
+        },
+        ui_rate: args.ui_rate.map(Frequency::hertz),
+        limits: args.limits.clone(),
+        // Spurs found in the trace leave the noise and count once as tones.
+        spur_rule: (!args.no_spur_search).then(|| SpurRule {
+            threshold_db: (args.spur_threshold).unwrap_or(SpurRule::default().threshold_db),
+            ..SpurRule::default()
         }),
-        ..Default::default()
+        filter_set,
     };
-    let mut record_period = None;
     if let Some(p) = &args.spurs {
-        setup.spurs = read_spurs(p)?;
+        req.setup.spurs = read_spurs(p)?;
     }
-    let limits = args.limits.clone();
-    let spur_file = args.spurs.is_some();
-    let ui_rate = args.ui_rate.map(Frequency::hertz);
+    let (mut limit_checks, mut record_period) = (Vec::new(), None);
     let trace = match (&args.table, &args.record) {
         (Some(path), _) => {
             let t = load_table(path, args.quantity, &args.input, Some(carrier))?;
-            if !t.spurs.is_empty() && spur_file {
+            if !t.spurs.is_empty() && args.spurs.is_some() {
                 eprintln!(
                     "tauwise: note: {}: the {} spur(s) listed after the table are not used: --spurs gives the spur list",
                     t.path,
                     t.spurs.len()
                 );
             } else if !t.spurs.is_empty() {
-                setup.spurs = t.spurs.clone();
+                req.setup.spurs = t.spurs.clone();
             }
             limit_checks = tauwise::limits::check_lf(&t.spectrum, &limit_set)?;
             JitterTrace::of_table(&t, path)
@@ -234,7 +235,7 @@ pub fn run(args: Args) -> Result<Outcome> {
                 ));
             }
             let series = args.input.load(path)?;
-            if setup.period.is_some() {
+            if req.setup.period.is_some() {
                 let x = series.record.to_phase();
                 record_period = Some(record_period_jitter(&x.x, x.tau0, carrier, args.periods)?);
             }
@@ -256,76 +257,27 @@ pub fn run(args: Args) -> Result<Outcome> {
             ))
         }
     };
-    // Spurs found in the trace leave the noise and count once as tones.
-    let rule = (!args.no_spur_search).then(|| SpurRule {
-        threshold_db: args
-            .spur_threshold
-            .unwrap_or(SpurRule::default().threshold_db),
-        ..SpurRule::default()
-    });
-    let prepared = prepare_trace(&trace.spectrum, &setup.spurs, rule.as_ref())?;
-    let spectrum = prepared.spectrum;
-    setup.spurs = prepared.spurs;
-    let found_spurs = prepared.found;
-    let (outcomes, judgements): (Vec<_>, Vec<_>) =
-        judge_bands(&spectrum, &bands, &setup, ui_rate, &limits)?
-            .into_iter()
-            .unzip();
-    let drawn: Vec<(&str, &BandJitter)> = args
-        .bands
-        .iter()
-        .zip(&outcomes)
-        .filter_map(|((name, _), r)| r.as_ref().ok().map(|r| (name.as_str(), r)))
+    let limits = LimitsPart::new(limit_checks, elsewhere);
+    let (body, judged) = JitterBody::compute(&trace, carrier, req, record_period, limits)?;
+    let drawn: Vec<(&str, &BandJitter)> = (args.bands.iter().zip(&judged))
+        .filter_map(|((name, _), (r, _))| r.as_ref().ok().map(|r| (name.as_str(), r)))
         .collect();
     let kind = match trace.welch {
         None => TraceKind::Table,
         Some(_) => TraceKind::RecordSpectrum,
     };
-    args.plot.draw(|| {
-        jitter_chart(
-            &trace.source,
-            carrier,
-            &trace.drawn,
-            kind,
-            &drawn,
-            &found_spurs,
-        )
-    })?;
-    let body = JitterBody {
-        carrier,
-        ui_rate,
-        spur_convention: SPUR_CONVENTION,
-        bands: outcomes
-            .iter()
-            .zip(&bands)
-            .zip(&judgements)
-            .enumerate()
-            .map(|(i, ((o, b), j))| JitterBand::new(b, o, limit_of(&limits, i), j.as_ref()))
-            .collect(),
-        caution: DECISION_CAUTION,
-        window: trace.welch.as_ref().map(|r| r.0),
-        enbw_hz: trace.welch.as_ref().map(|r| r.1),
-        gaps_handling: trace.welch.as_ref().map(|r| r.2.clone()),
-        filter_set: filter_set_name,
-        spur_rule: rule.map(|r| r.describe()),
-        found_spurs,
-        record_period,
-        limits: tauwise::results::LimitsPart::new(limit_checks, elsewhere),
-    };
+    let spurs = &body.found_spurs;
+    args.plot
+        .draw(|| jitter_chart(&trace.source, carrier, &trace.drawn, kind, &drawn, spurs))?;
+    let source = &trace.source;
     args.output.write(
         trace.input,
         &body,
         |b| b.csv(),
-        |b| b.table(&trace.source).render(),
+        |b| b.table(source).render(),
     )?;
+    let judgements = judged.iter().filter_map(|j| j.1.as_ref());
     Ok(args.gate.outcome(gate(
-        judgements
-            .iter()
-            .flatten()
-            .chain(tauwise::limits::judgements(&body.limits.limits)),
+        judgements.chain(tauwise::limits::judgements(&body.limits.limits)),
     )))
-}
-
-fn limit_of(limits: &[JitterLimit], i: usize) -> Option<&JitterLimit> {
-    limits.get(if limits.len() == 1 { 0 } else { i })
 }

@@ -119,14 +119,9 @@ pub fn run(a: Args) -> Result<Outcome> {
     );
     match a.format {
         ReportFormat::Json => {
-            let (text, not_finite) =
+            let (text, found) =
                 tauwise::results::FleetDocument::new(fleet.matrix.clone()).json()?;
-            if !not_finite.is_empty() {
-                eprintln!(
-                    "tauwise: note: not finite (written as strings): {}",
-                    not_finite.join(", ")
-                );
-            }
+            super::common::note_not_finite(&found);
             emit_to(a.output.as_deref(), text.as_bytes())?;
         }
         ReportFormat::Html => {

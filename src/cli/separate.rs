@@ -4,35 +4,17 @@
 
 use super::common::{ConfidenceArgs, InputArgs, OutputArgs, PlotArgs, TauArgs};
 use super::Outcome;
-use clap::{Args as ClapArgs, ValueEnum};
+use clap::Args as ClapArgs;
 use std::path::Path;
 use tauwise::deviation::Estimator;
 use tauwise::results::{Input, PairInputs, RecordInput, SeparateBody};
-use tauwise::separate::{align, separate, Method, PairRecord, PairSpec, Request};
+use tauwise::separate::{
+    align, separate, simultaneous_sessions, Method, PairRecord, PairSpec, Request,
+};
 use tauwise::Result;
 
 /// Monte Carlo draws of the covariance form's intervals.
 pub const DRAWS: usize = 400;
-
-/// How to separate (`--method`).
-#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
-pub enum MethodArg {
-    /// Independent clocks: three-cornered hat (Gray & Allan 1974), least
-    /// squares for more pairs or clocks (Barnes).
-    Independent,
-    /// Correlated clocks (Premoli & Tavella 1993): needs one clock compared
-    /// with every other and simultaneous records.
-    Covariance,
-}
-
-/// When the pair records were taken (`--sessions`).
-#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
-pub enum SessionsArg {
-    /// All pairs recorded over the same span (a multi-channel counter).
-    Simultaneous,
-    /// Each pair recorded in its own session.
-    Separate,
-}
 
 /// The stability of each clock from pairwise comparisons (N-cornered hat).
 #[derive(Debug, ClapArgs)]
@@ -48,15 +30,18 @@ pub struct Args {
     /// The estimator (adev, oadev, mdev, tdev, hdev, ohdev).
     #[arg(long = "dev", value_name = "EST", default_value = "oadev", value_parser = tauwise::separate::estimator_named)]
     pub dev: Estimator,
-    /// How the clocks are separated.
-    #[arg(long, value_enum, default_value = "independent")]
-    pub method: MethodArg,
-    /// When the pair records were taken: at the same time (pairs sharing a
-    /// clock share its noise, which the intervals use), or in separate
-    /// sessions (no shared noise; the covariance method needs simultaneous
-    /// records).
-    #[arg(long, value_enum, default_value = "simultaneous")]
-    pub sessions: SessionsArg,
+    /// How the clocks are separated: independent (three-cornered hat, Gray
+    /// & Allan 1974; least squares for more pairs or clocks, Barnes) or
+    /// covariance (correlated clocks, Premoli & Tavella 1993: needs one clock
+    /// compared with every other and simultaneous records).
+    #[arg(long, value_name = "METHOD", default_value = "independent", value_parser = str::parse::<Method>)]
+    pub method: Method,
+    /// When the pair records were taken: simultaneous (pairs sharing a
+    /// clock share its noise, which the intervals use) or separate (each
+    /// pair in its own session, no shared noise; the covariance method needs
+    /// simultaneous records).
+    #[arg(long = "sessions", value_name = "WHEN", default_value = "simultaneous", action = clap::ArgAction::Set, value_parser = simultaneous_sessions)]
+    pub simultaneous: bool,
     /// Seed of the covariance form's Monte Carlo intervals.
     #[arg(long, default_value_t = 1)]
     pub seed: u64,
@@ -104,13 +89,10 @@ pub fn run(args: Args) -> Result<Outcome> {
         estimator: args.dev,
         grid: args.taus.taus.clone(),
         confidence: args.confidence.confidence.value(),
-        method: match args.method {
-            MethodArg::Independent => Method::Independent,
-            MethodArg::Covariance => Method::Covariance,
-        },
+        method: args.method,
         seed: args.seed,
         draws: DRAWS,
-        simultaneous: args.sessions == SessionsArg::Simultaneous,
+        simultaneous: args.simultaneous,
     };
     let sep = separate(&records, &request)?;
     let title = format!("{} clocks from {} pairs", sep.clocks.len(), sep.pairs.len());

@@ -4,22 +4,13 @@
 //! a header `time (s),phase (ns)` naming the units, rows of time and value.
 
 use super::Outcome;
-use clap::{Args, ValueEnum};
+use clap::Args;
 use std::path::PathBuf;
 use tauwise::parse::{Duration, Fraction, Frequency, Model, Rate};
 use tauwise::results::simulated_file;
 use tauwise::simulate::{simulate_frequency, simulate_phase, SimSpec};
 use tauwise::units::{parse_value_unit, FreqUnit, PhaseUnit, ValueUnit};
-use tauwise::{Error, Record};
-
-/// Which quantity to write.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
-pub enum SimData {
-    /// Phase (time error).
-    Phase,
-    /// Fractional frequency.
-    Freq,
-}
+use tauwise::{DataKind, Error, Record};
 
 /// Synthetic power-law noise records (seeded; Kasdin & Walter 1992).
 #[derive(Debug, Args)]
@@ -41,9 +32,9 @@ pub struct SimulateArgs {
     /// Seed of the random generator (the same seed gives the same record).
     #[arg(long, value_name = "N", default_value_t = 1)]
     pub seed: u64,
-    /// Write phase or fractional frequency.
-    #[arg(long, value_enum, default_value = "phase")]
-    pub data: SimData,
+    /// Write phase or fractional frequency: phase or freq.
+    #[arg(long, value_name = "KIND", default_value = "phase", value_parser = str::parse::<DataKind>)]
+    pub data: DataKind,
     /// Units of the values written: s ms us ns ps (phase), frac ppm ppb hz (freq).
     #[arg(long, value_name = "UNIT", value_parser = parse_value_unit)]
     pub units: Option<ValueUnit>,
@@ -91,8 +82,8 @@ pub fn run(args: SimulateArgs) -> Result<Outcome, Error> {
     }
 
     let unit = args.units.unwrap_or(match args.data {
-        SimData::Phase => ValueUnit::Phase(PhaseUnit::S),
-        SimData::Freq => ValueUnit::Freq(FreqUnit::Frac),
+        DataKind::Phase => ValueUnit::Phase(PhaseUnit::S),
+        DataKind::Freq => ValueUnit::Freq(FreqUnit::Frac),
     });
     let unit_text = match unit {
         ValueUnit::Phase(u) => u.symbol(),
@@ -100,8 +91,8 @@ pub fn run(args: SimulateArgs) -> Result<Outcome, Error> {
     };
     let carrier = args.carrier.map(Frequency::hertz);
     let record = match (args.data, unit) {
-        (SimData::Phase, ValueUnit::Phase(_)) => Record::Phase(simulate_phase(&spec)?),
-        (SimData::Freq, ValueUnit::Freq(u)) => {
+        (DataKind::Phase, ValueUnit::Phase(_)) => Record::Phase(simulate_phase(&spec)?),
+        (DataKind::Freq, ValueUnit::Freq(u)) => {
             if u == FreqUnit::Hz && !carrier.is_some_and(|c| c > 0.0) {
                 return Err(Error::option(
                     "--units hz",
@@ -110,13 +101,13 @@ pub fn run(args: SimulateArgs) -> Result<Outcome, Error> {
             }
             Record::Frequency(simulate_frequency(&spec)?)
         }
-        (SimData::Phase, ValueUnit::Freq(_)) => {
+        (DataKind::Phase, ValueUnit::Freq(_)) => {
             return Err(Error::option(
                 format!("--units {unit_text}"),
                 "is a frequency unit, but --data phase writes phase: use one of s ms us ns ps",
             ))
         }
-        (SimData::Freq, ValueUnit::Phase(_)) => {
+        (DataKind::Freq, ValueUnit::Phase(_)) => {
             return Err(Error::option(
                 format!("--units {unit_text}"),
                 "is a phase unit, but --data freq writes frequency: use one of frac ppm ppb hz",

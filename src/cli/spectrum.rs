@@ -60,11 +60,13 @@ pub fn run(args: Args) -> Result<Outcome> {
             "needs the carrier frequency: give --carrier (e.g. --carrier 10MHz), or ask for --quantity sy or sx",
         ));
     }
-    if let (Some(path), None) = (&args.plot.plot, carrier) {
-        return Err(Error::option(
+    if let Some(path) = &args.plot.plot {
+        let why = "the chart shows L(f), which";
+        super::common::carrier(
+            args.input.carrier,
             format!("--plot {}", path.display()),
-            "the chart shows L(f), which needs the carrier frequency: give --carrier (e.g. --carrier 10MHz)",
-        ));
+            why,
+        )?;
     }
     let progress = super::common::Progress::start("spectrum");
     progress.stage(format!("reading {}", args.file.display()));

@@ -5,13 +5,12 @@ use super::common::{Block, ConfidenceArgs, InputArgs, OutputArgs, PlotArgs, TauA
 use super::Outcome;
 use clap::Args as ClapArgs;
 use std::path::{Path, PathBuf};
-use tauwise::deviation::{Curve, Estimator};
+use tauwise::deviation::Estimator;
 use tauwise::parse::{EstimatorList, Frequency};
-use tauwise::plot::stability::{stability_charts, time_chart_path};
+use tauwise::plot::stability::{records_charts, time_chart_path};
 use tauwise::results::RecordInput;
 use tauwise::stability::{
-    record_stability, Additions, RecordStability, Request, ViewOptions,
-    DEFAULT_TABLE_UNCERTAINTY_DB,
+    record_stability, Additions, Request, ViewOptions, DEFAULT_TABLE_UNCERTAINTY_DB,
 };
 use tauwise::Result;
 
@@ -156,7 +155,12 @@ pub fn run(args: Args) -> Result<Outcome> {
         results.push((series.info.path.display().to_string(), r));
     }
     if let Some(path) = &args.plot.plot {
-        draw(path, &results, request.confidence)?;
+        let (main, time) = records_charts(&results, request.confidence);
+        tauwise::plot::render(&main, path, (960, 600))?;
+        // Time deviations beside σ_y curves: their own chart, FILE-time.EXT.
+        if let Some(time) = time {
+            tauwise::plot::render(&time, &time_chart_path(path), (960, 600))?;
+        }
     }
     let gate = tauwise::verdict::gate(
         blocks
@@ -167,38 +171,9 @@ pub fn run(args: Args) -> Result<Outcome> {
     Ok(args.gate.outcome(gate))
 }
 
-/// The chart(s) of one record, or the first estimator of each record
-/// overlaid.
-fn draw(path: &Path, results: &[(String, RecordStability)], confidence: f64) -> Result<()> {
-    if let [(title, r)] = results {
-        let (main, time) =
-            stability_charts(title, &r.shown, &r.measured, confidence, r.best.as_ref());
-        tauwise::plot::render(&main, path, (960, 600))?;
-        // Time deviations beside σ_y curves: their own chart, FILE-time.EXT.
-        if let Some(time) = time {
-            tauwise::plot::render(&time, &time_chart_path(path), (960, 600))?;
-        }
-        return Ok(());
-    }
-    let items: Vec<(String, &Curve)> = results
-        .iter()
-        .filter_map(|(n, r)| r.measured.first().map(|c| (n.clone(), c)))
-        .collect();
-    let chart = tauwise::plot::overlay::records_sigma_chart(&items, confidence);
-    tauwise::plot::render(&chart, path, (960, 600))
-}
-
 /// Read the `--lf` table (it needs --carrier).
 fn read_table(args: &Args, table: &Path) -> Result<tauwise::io::lf_table::LfTable> {
-    let carrier = match args.input.carrier {
-        Some(c) => c.hertz(),
-        None => {
-            return Err(tauwise::Error::option(
-                "--lf",
-                "needs --carrier (the carrier frequency of the phase-noise table, e.g. 10MHz)",
-            ))
-        }
-    };
+    let carrier = super::common::carrier(args.input.carrier, "--lf", "the phase-noise table")?;
     let opts = tauwise::io::lf_table::TableOptions {
         carrier: Some(carrier),
         ..Default::default()

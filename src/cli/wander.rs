@@ -14,11 +14,9 @@ use tauwise::tau::TauGrid;
 use tauwise::units::UnitError;
 use tauwise::verdict::gate;
 use tauwise::wander::masks::builtin;
-use tauwise::wander::masks::{Metric, CONDITIONS_NOTE};
 use tauwise::wander::te::{TeOptions, DEFAULT_CTE_WINDOW};
 use tauwise::wander::{analyse, Options};
 use tauwise::Result;
-use tauwise::DECISION_CAUTION;
 
 /// MTIE, TDEV and TIE statistics against wander masks.
 #[derive(Debug, ClapArgs)]
@@ -126,19 +124,9 @@ pub fn run(args: Args) -> Result<Outcome> {
         });
     }
     if let (Some(path), Some(tdev_path)) = (&args.plot.plot, &tdev_plot) {
-        for (metric, path) in [(Metric::Mtie, path), (Metric::Tdev, tdev_path)] {
-            let items: Vec<_> = (charts.iter())
-                .map(|(n, p)| (n.clone(), p.iter().find(|p| p.metric == metric)))
-                .collect();
-            let subtitle = format!("{} of each record against the masks", metric.label());
-            let mut chart = overlay::wander_chart(&metric.label(), &subtitle, metric, &items, "");
-            if !masks.is_empty() {
-                chart
-                    .notes
-                    .push(format!("{CONDITIONS_NOTE} {DECISION_CAUTION}"));
-            }
-            tauwise::plot::render(&chart, path, tauwise::plot::DEFAULT_SIZE)?;
-        }
+        let [mtie, tdev] = overlay::records_wander_charts(&charts, !masks.is_empty());
+        tauwise::plot::render(&mtie, path, tauwise::plot::DEFAULT_SIZE)?;
+        tauwise::plot::render(&tdev, tdev_path, tauwise::plot::DEFAULT_SIZE)?;
     }
     args.output.write_records(blocks)?;
     Ok(args.gate.outcome(gate(&judgements)))

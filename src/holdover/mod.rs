@@ -684,3 +684,37 @@ pub fn aging_significance_words(z: f64) -> String {
         )
     }
 }
+
+/// The `holdover` result of one record: its model, the prediction, what
+/// the record shows after the loss (with [`FromRecord::start`]) and the
+/// document body.
+#[derive(Debug, Clone)]
+pub struct RecordHoldover {
+    /// The model fitted to the record ([`model_from_record`]).
+    pub model: HoldoverModel,
+    /// The prediction through the span ([`predict`]).
+    pub prediction: Prediction,
+    /// The time error the record shows after `start`, against the
+    /// prediction ([`observed::observe`]).
+    pub observed: Option<observed::Observed>,
+    /// The document body (`holdover --format json` of this record).
+    pub body: crate::results::HoldoverBody,
+}
+
+/// Everything `holdover` computes for one record: the model, the
+/// prediction, the observed time error when a start is given, and the
+/// document. The command line (for each FILE) calls this one function.
+pub fn record_holdover(rec: &Record, opts: &FromRecord, s: &Settings) -> Result<RecordHoldover> {
+    let model = model_from_record(rec, opts)?;
+    let prediction = predict(&model, s)?;
+    let observed =
+        (opts.start).and_then(|_| observed::observe(rec, &model, &prediction, s.span, s.budget));
+    let given = opts.aging_given.is_some();
+    let body = crate::results::HoldoverBody::new(s, &model, &prediction, given, observed.as_ref());
+    Ok(RecordHoldover {
+        model,
+        prediction,
+        observed,
+        body,
+    })
+}

@@ -715,30 +715,16 @@ fn separate_section(
     let estimator = dut_estimator(cx, &p.dev, "separate.dev", crate::separate::SUPPORTED)?;
     let method = match &p.method {
         None => crate::separate::Method::Independent,
-        Some(m) => match m.get_ref().trim() {
-            "independent" => crate::separate::Method::Independent,
-            "covariance" => crate::separate::Method::Covariance,
-            other => {
-                return cx.err(
-                    m.span(),
-                    "separate.method",
-                    format!("expected independent or covariance, got '{other}'"),
-                )
-            }
+        Some(m) => match m.get_ref().parse() {
+            Ok(m) => m,
+            Err(why) => return cx.err(m.span(), "separate.method", why),
         },
     };
     let simultaneous = match &p.sessions {
         None => true,
-        Some(m) => match m.get_ref().trim() {
-            "simultaneous" => true,
-            "separate" => false,
-            other => {
-                return cx.err(
-                    m.span(),
-                    "separate.sessions",
-                    format!("expected simultaneous or separate, got '{other}'"),
-                )
-            }
+        Some(m) => match crate::separate::simultaneous_sessions(m.get_ref()) {
+            Ok(s) => s,
+            Err(why) => return cx.err(m.span(), "separate.sessions", why),
         },
     };
     let known: Vec<&str> = records.iter().map(|r| r.name.as_str()).collect();
@@ -961,19 +947,14 @@ fn series_data(cx: &Ctx, r: &RawSeries, tie: bool, key: &str) -> Result<DataKind
     let Some(d) = &r.data else {
         return Ok(DataKind::Phase);
     };
-    match d.get_ref().as_str() {
-        "phase" => Ok(DataKind::Phase),
-        "freq" | "frequency" if !tie => Ok(DataKind::Freq),
-        "freq" | "frequency" => cx.err(
+    match d.get_ref().parse::<DataKind>() {
+        Ok(DataKind::Freq) if tie => cx.err(
             d.span(),
             key,
             "a TIE capture holds phase (time error); expected 'phase'",
         ),
-        other => cx.err(
-            d.span(),
-            key,
-            format!("expected 'phase' or 'freq', got '{other}'"),
-        ),
+        Ok(kind) => Ok(kind),
+        Err(why) => cx.err(d.span(), key, why),
     }
 }
 

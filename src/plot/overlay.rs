@@ -77,6 +77,52 @@ pub fn records_sigma_chart(items: &[(String, &crate::deviation::Curve)], confide
     sigma_chart("frequency stability", &subtitle, y, &refs, "")
 }
 
+/// The MTIE and the TDEV chart of several records' wander analyses
+/// ([`super::wander::plots_from_result`] of each), in that order; with the
+/// conditions note and the decision caution when masks were checked.
+pub fn records_wander_charts(
+    items: &[(String, Vec<WanderPlot>)],
+    masks_checked: bool,
+) -> [Chart; 2] {
+    use crate::wander::masks::Metric;
+    [Metric::Mtie, Metric::Tdev].map(|metric| {
+        let of_metric: Vec<(String, Option<&WanderPlot>)> = (items.iter())
+            .map(|(n, p)| (n.clone(), p.iter().find(|p| p.metric == metric)))
+            .collect();
+        let subtitle = format!("{} of each record against the masks", metric.label());
+        let mut chart = wander_chart(&metric.label(), &subtitle, metric, &of_metric, "");
+        if masks_checked {
+            let note = crate::wander::masks::CONDITIONS_NOTE;
+            chart
+                .notes
+                .push(format!("{note} {}", crate::DECISION_CAUTION));
+        }
+        chart
+    })
+}
+
+/// The holdover chart of several records' predictions against one budget
+/// through one span, with the holdover caution.
+pub fn records_holdover_chart(items: &[(String, HoldoverPlot)], budget: f64, span: f64) -> Chart {
+    let spans = [span];
+    let items: Vec<(String, Option<HoldoverItem>)> = (items.iter())
+        .map(|(n, plot)| {
+            (
+                n.clone(),
+                Some(HoldoverItem {
+                    plot,
+                    budget,
+                    spans: &spans,
+                }),
+            )
+        })
+        .collect();
+    let what = "p95 of |TE| (solid, markers) and p50 (dashed) of each record against the budget";
+    let mut chart = holdover_chart("holdover", what, &items, "");
+    chart.notes.push(crate::holdover::caution());
+    chart
+}
+
 /// MTIE or TDEV of each item against every mask its analysis checked (each
 /// mask drawn once, at the widest sampling among the items).
 pub fn wander_chart(

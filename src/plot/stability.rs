@@ -352,6 +352,25 @@ pub fn stability_charts(
     (plot.chart(), time)
 }
 
+/// The charts of `stability` for one or more records: one record's charts
+/// as [`stability_charts`]; several records' first measured curve each,
+/// overlaid ([`super::overlay::records_sigma_chart`]), and no second chart.
+pub fn records_charts(
+    results: &[(String, crate::stability::RecordStability)],
+    confidence: f64,
+) -> (Chart, Option<Chart>) {
+    if let [(title, r)] = results {
+        return stability_charts(title, &r.shown, &r.measured, confidence, r.best.as_ref());
+    }
+    let items: Vec<(String, &Curve)> = (results.iter())
+        .filter_map(|(n, r)| r.measured.first().map(|c| (n.clone(), c)))
+        .collect();
+    (
+        super::overlay::records_sigma_chart(&items, confidence),
+        None,
+    )
+}
+
 /// Where the time-deviation chart goes when σ_y curves take the main one:
 /// `stab.svg` → `stab-time.svg` (same directory and format).
 pub fn time_chart_path(path: &std::path::Path) -> std::path::PathBuf {

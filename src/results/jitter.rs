@@ -176,6 +176,71 @@ impl JitterBand {
     }
 }
 
+/// What `jitter` computes on a trace besides the trace itself.
+#[derive(Debug, Clone, Default)]
+pub struct JitterRequest {
+    /// The bands, in order.
+    pub bands: Vec<Band>,
+    /// Weightings, listed spurs, extrapolation and period jitter.
+    pub setup: crate::spectrum::jitter::JitterSetup,
+    /// Line rate for jitter in UI, Hz.
+    pub ui_rate: Option<f64>,
+    /// The limits: one for every band, or one per band in order.
+    pub limits: Vec<JitterLimit>,
+    /// The rule spurs are looked for by in the trace (`None`: not looked for).
+    pub spur_rule: Option<crate::spectrum::spurs::SpurRule>,
+    /// The name of the filter set the weightings came from.
+    pub filter_set: Option<String>,
+}
+
+impl JitterBody {
+    /// `jitter` on one trace: spurs found by `req.spur_rule` leave the
+    /// noise and count once as tones, a listed spur in the same place
+    /// taking precedence ([`crate::spectrum::spurs::prepare_trace`]); then
+    /// each band integrated and judged
+    /// ([`crate::spectrum::jitter::judge_bands`]). `record_period` and
+    /// `limits` (the L(f) limit checks) come from the record or table the
+    /// trace was made from. Returns the body and each band's outcome and
+    /// judgement, in band order.
+    pub fn compute(
+        trace: &JitterTrace,
+        carrier: f64,
+        mut req: JitterRequest,
+        record_period: Option<RecordPeriodJitter>,
+        limits: super::LimitsPart,
+    ) -> crate::Result<(Self, Vec<crate::spectrum::jitter::JudgedBand>)> {
+        use crate::spectrum::spurs::prepare_trace;
+        let prepared = prepare_trace(&trace.spectrum, &req.setup.spurs, req.spur_rule.as_ref())?;
+        req.setup.spurs = prepared.spurs;
+        let judged = crate::spectrum::jitter::judge_bands(
+            &prepared.spectrum,
+            &req.bands,
+            &req.setup,
+            req.ui_rate,
+            &req.limits,
+        )?;
+        let limit_of = |i: usize| req.limits.get(if req.limits.len() == 1 { 0 } else { i });
+        let body = JitterBody {
+            carrier,
+            ui_rate: req.ui_rate,
+            spur_convention: SPUR_CONVENTION,
+            bands: (judged.iter().zip(&req.bands).enumerate())
+                .map(|(i, ((o, j), b))| JitterBand::new(b, o, limit_of(i), j.as_ref()))
+                .collect(),
+            caution: crate::DECISION_CAUTION,
+            window: trace.welch.as_ref().map(|r| r.0),
+            enbw_hz: trace.welch.as_ref().map(|r| r.1),
+            gaps_handling: trace.welch.as_ref().map(|r| r.2.clone()),
+            filter_set: req.filter_set,
+            spur_rule: req.spur_rule.map(|r| r.describe()),
+            found_spurs: prepared.found,
+            record_period,
+            limits,
+        };
+        Ok((body, judged))
+    }
+}
+
 /// The extrapolated ranges of a band as `from:to from:to` (Hz).
 pub fn extrapolated_text(r: &BandJitter) -> String {
     r.extrapolated

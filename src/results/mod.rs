@@ -42,8 +42,8 @@ pub use fleet::{
 pub use holdover::HoldoverBody;
 pub use inspect::InspectBody;
 pub use jitter::{
-    extrapolated_text, BandOutcome, JitterBand, JitterBody, JitterTrace, MaybeJudged,
-    SPUR_CONVENTION,
+    extrapolated_text, BandOutcome, JitterBand, JitterBody, JitterRequest, JitterTrace,
+    MaybeJudged, SPUR_CONVENTION,
 };
 pub use limits::{check_text as limit_check_text, LimitsPart};
 pub use noise::{noise_cells, rms, DominantRange, ModelSummary, NoiseBody};

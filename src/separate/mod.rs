@@ -140,6 +140,30 @@ pub enum Method {
     Covariance,
 }
 
+impl std::str::FromStr for Method {
+    type Err = String;
+    /// `independent` or `covariance` (the command line's `--method` and the
+    /// DUT file's `separate.method`).
+    fn from_str(text: &str) -> std::result::Result<Self, String> {
+        match text.trim() {
+            "independent" => Ok(Method::Independent),
+            "covariance" => Ok(Method::Covariance),
+            other => Err(format!("expected independent or covariance, got '{other}'")),
+        }
+    }
+}
+
+/// When the pair records were taken: `simultaneous` (true: all pairs over
+/// the same span) or `separate` (false: each pair in its own session); the
+/// command line's `--sessions` and the DUT file's `separate.sessions`.
+pub fn simultaneous_sessions(text: &str) -> std::result::Result<bool, String> {
+    match text.trim() {
+        "simultaneous" => Ok(true),
+        "separate" => Ok(false),
+        other => Err(format!("expected simultaneous or separate, got '{other}'")),
+    }
+}
+
 impl Method {
     /// The name on the command line and in JSON.
     pub fn name(self) -> &'static str {
