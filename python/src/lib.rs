@@ -79,7 +79,7 @@ fn parse_kw<T, E: Display>(
     text: &str,
     parser: impl FnOnce(&str) -> Result<T, E>,
 ) -> PyResult<T> {
-    parser(text).map_err(|e| PyValueError::new_err(format!("{name}={text:?}: {e}")))
+    parser(text).map_err(|e| PyValueError::new_err(format!("{name}='{text}': {e}")))
 }
 
 /// [`parse_kw`] for an optional keyword.
@@ -221,7 +221,7 @@ impl PyRecord {
             }
             other => {
                 return Err(PyValueError::new_err(format!(
-                    "kind={other:?}: expected \"phase\" (time error, s) or \"freq\" (fractional frequency)"
+                    "kind='{other}': expected \"phase\" (time error, s) or \"freq\" (fractional frequency)"
                 )))
             }
         };
@@ -331,7 +331,7 @@ fn read(
         Some("freq") | Some("frequency") => Some(DataKind::Freq),
         Some(other) => {
             return Err(PyValueError::new_err(format!(
-                "data={other:?}: expected \"phase\" or \"freq\""
+                "data='{other}': expected \"phase\" or \"freq\""
             )))
         }
     };
@@ -349,8 +349,7 @@ fn read(
         no_time_column: time_column == Some(TimeColumn::None),
         snap: parse_opt("snap", snap, tauwise::parse::snap_fraction)?,
         wrap: parse_opt("wrap", wrap, Duration::positive)?.map(Duration::seconds),
-        comments: parse_opt("comment", comment, tauwise::parse::comment_chars)?
-            .unwrap_or_default(),
+        comments: parse_opt("comment", comment, tauwise::parse::comment_chars)?.unwrap_or_default(),
         decimal_comma,
         binary: parse_opt("binary", binary, from_str::<tauwise::parse::BinaryFormat>)?,
     };
@@ -380,6 +379,16 @@ fn drift_removed(
                 record, &fit,
             )))
         }
+    }
+}
+
+/// The record as phase: a phase record borrowed as it is (no copy; the
+/// command line's `to_phase` copies it, with the same values), a frequency
+/// record integrated.
+fn as_phase(record: &tauwise::Record) -> std::borrow::Cow<'_, PhaseRecord> {
+    match record {
+        tauwise::Record::Phase(p) => std::borrow::Cow::Borrowed(p),
+        r => std::borrow::Cow::Owned(r.to_phase()),
     }
 }
 
@@ -425,8 +434,11 @@ fn stability(
     )?;
     let carrier = parse_opt("carrier", carrier, Frequency::positive)?.map(Frequency::hertz);
     let bandwidth = parse_opt("bandwidth", bandwidth, Frequency::positive)?.map(Frequency::hertz);
-    let lf_uncertainty =
-        parse_opt("lf_uncertainty", lf_uncertainty, tauwise::parse::uncertainty_db)?;
+    let lf_uncertainty = parse_opt(
+        "lf_uncertainty",
+        lf_uncertainty,
+        tauwise::parse::uncertainty_db,
+    )?;
     if lf.is_none() && (bandwidth.is_some() || lf_uncertainty.is_some()) {
         return Err(PyValueError::new_err(
             "bandwidth and lf_uncertainty go with lf (a phase-noise table to set beside the record)",
@@ -446,7 +458,7 @@ fn stability(
                 forced_alpha,
                 bias_correction: !uncorrected,
             };
-            let phase = processed.to_phase();
+            let phase = as_phase(&processed);
             let measured = tauwise::stability::analyse(&phase, &request)?;
             let best_points =
                 best.then(|| tauwise::stability::best(&measured, phase.len(), phase.tau0));
@@ -527,7 +539,7 @@ fn noise(
     let (input, body) = py
         .detach(|| -> tauwise::Result<_> {
             let processed = drift_removed(rec, drift)?;
-            let x = processed.to_phase();
+            let x = as_phase(&processed);
             let ms = grid.ms(x.tau0, Estimator::Oadev.max_m(x.len()))?;
             let ids = NoiseIdentifier::new(&x);
             let rows: Vec<NoiseRow> = ms
@@ -577,7 +589,7 @@ fn spectrum(
     let carrier = parse_opt("carrier", carrier, Frequency::positive)?.map(Frequency::hertz);
     if carrier.is_none() && matches!(quantity, Quantity::Lf | Quantity::Sphi) {
         return Err(PyValueError::new_err(format!(
-            "quantity={:?}: needs the carrier frequency: give carrier (e.g. carrier=\"10MHz\"), or ask for quantity=\"sy\" or \"sx\"",
+            "quantity='{}': needs the carrier frequency: give carrier (e.g. carrier=\"10MHz\"), or ask for quantity=\"sy\" or \"sx\"",
             quantity.name()
         )));
     }
@@ -603,7 +615,10 @@ fn spectrum(
             } else {
                 format!("log, {per_decade} per decade")
             };
-            Ok((SpectrumBody::new(&w, carrier, bins, rows), w.warnings.clone()))
+            Ok((
+                SpectrumBody::new(&w, carrier, bins, rows),
+                w.warnings.clone(),
+            ))
         })
         .py(py)?;
     Ok((document(py, record.input_for(rec), body)?, warnings))
@@ -653,7 +668,7 @@ fn wander(
         .detach(|| -> tauwise::Result<_> {
             let (set, elsewhere) = tauwise::limits::read_for(&limit_files, "wander")?;
             mask_list.extend(set.iter().filter_map(tauwise::limits::Limit::as_mask));
-            let x = rec.to_phase();
+            let x = as_phase(rec);
             let opts = tauwise::wander::Options {
                 grid,
                 range,
@@ -820,7 +835,7 @@ fn simulate(
         "freq" | "frequency" => false,
         other => {
             return Err(PyValueError::new_err(format!(
-                "data={other:?}: expected \"phase\" or \"freq\""
+                "data='{other}': expected \"phase\" or \"freq\""
             )))
         }
     };
@@ -840,16 +855,12 @@ fn simulate(
         ValueUnit::Freq(FreqUnit::Frac)
     });
     match (phase, unit) {
-        (true, ValueUnit::Freq(_)) => {
-            return Err(PyValueError::new_err(
-                "units: a frequency unit, but data=\"phase\" writes phase: use one of s ms us ns ps",
-            ))
-        }
-        (false, ValueUnit::Phase(_)) => {
-            return Err(PyValueError::new_err(
-                "units: a phase unit, but data=\"freq\" writes frequency: use one of frac ppm ppb hz",
-            ))
-        }
+        (true, ValueUnit::Freq(_)) => return Err(PyValueError::new_err(
+            "units: a frequency unit, but data=\"phase\" writes phase: use one of s ms us ns ps",
+        )),
+        (false, ValueUnit::Phase(_)) => return Err(PyValueError::new_err(
+            "units: a phase unit, but data=\"freq\" writes frequency: use one of frac ppm ppb hz",
+        )),
         (false, ValueUnit::Freq(FreqUnit::Hz)) if !carrier.is_some_and(|c| c > 0.0) => {
             return Err(PyValueError::new_err(
                 "units=\"hz\" writes absolute frequency and needs carrier (e.g. \"10MHz\")",
@@ -882,7 +893,9 @@ fn simulate(
                 "python: tauwise.simulate(model={model:?}, tau0={tau0}, points={points}, seed={seed}, data={data:?})"
             )];
             let bytes = tauwise::results::simulated_file(&spec, &record, unit, carrier, &command)
-                .map_err(|e| PyValueError::new_err(format!("could not write the record: {e}")))?;
+                .map_err(|e| {
+                PyValueError::new_err(format!("could not write the record: {e}"))
+            })?;
             tauwise::io::write_atomic(o, &bytes).py(py)?;
             o.display().to_string()
         }
@@ -939,7 +952,7 @@ fn convert(
         "model" => Target::Model,
         other => {
             return Err(PyValueError::new_err(format!(
-                "to={other:?}: expected \"sigma\", \"lf\" or \"model\""
+                "to='{other}': expected \"sigma\", \"lf\" or \"model\""
             )))
         }
     };
@@ -1387,10 +1400,7 @@ fn fleet(py: Python<'_>, parts: Vec<PyRef<'_, DevicePart>>) -> PyResult<(String,
 fn _tauwise(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add("__version__", tauwise::VERSION)?;
     m.add("DECISION_CAUTION", tauwise::DECISION_CAUTION)?;
-    m.add(
-        "DEFAULT_CONFIDENCE",
-        tauwise::stats::DEFAULT_CONFIDENCE,
-    )?;
+    m.add("DEFAULT_CONFIDENCE", tauwise::stats::DEFAULT_CONFIDENCE)?;
     m.add_class::<PyRecord>()?;
     m.add_class::<DevicePart>()?;
     m.add_function(wrap_pyfunction!(read, m)?)?;

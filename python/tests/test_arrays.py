@@ -41,15 +41,17 @@ def test_nist_nine_point_set_from_python():
 
 def textbook_oadev(x, tau0, m):
     """Overlapping Allan deviation from phase, NIST SP 1065 eq. (8), a term
-    left out when any of its three phase points is a gap (NaN)."""
+    left out when its span x[i] … x[i+2m] touches a gap (NaN), the
+    library's rule for gaps (DEVELOPERS.md, Conventions)."""
     d = x[2 * m:] - 2 * x[m:-m] + x[: -2 * m]
-    ok = np.isfinite(d)
+    gaps = np.concatenate([[0], np.cumsum(np.isnan(x))])
+    ok = (gaps[2 * m + 1:] - gaps[: len(x) - 2 * m]) == 0
     return np.sqrt(np.sum(d[ok] ** 2) / (2 * (m * tau0) ** 2 * ok.sum())), int(ok.sum())
 
 
 def test_gaps_as_nan_skip_the_terms_they_touch():
     """Analytic: with NaN gaps, OADEV is the textbook sum over the terms
-    whose phase points are all present, and `terms` counts them."""
+    whose span holds no gap, and `terms` counts them."""
     rng = np.random.default_rng(11)
     x = np.cumsum(rng.normal(size=4000)) * 1e-9
     x[[100, 101, 2500]] = np.nan
