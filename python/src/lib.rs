@@ -91,6 +91,16 @@ fn parse_opt<T, E: Display>(
     text.map(|t| parse_kw(name, t, parser)).transpose()
 }
 
+/// A whole number (a seed, a column, a count of periods) from its text;
+/// a negative, fractional or too large value is a `ValueError`.
+fn whole<T: std::str::FromStr>(name: &str, text: &str) -> PyResult<T> {
+    text.trim().parse::<T>().map_err(|_| {
+        PyValueError::new_err(format!(
+            "{name}='{text}': expected a whole number that is not negative (e.g. 7)"
+        ))
+    })
+}
+
 /// A `FromStr` parser as a function.
 fn from_str<T: std::str::FromStr>(text: &str) -> Result<T, T::Err> {
     text.parse()
@@ -316,7 +326,7 @@ fn read(
     tau0: Option<&str>,
     units: Option<&str>,
     carrier: Option<&str>,
-    value_column: Option<usize>,
+    value_column: Option<&str>,
     time_column: Option<&str>,
     snap: Option<&str>,
     wrap: Option<&str>,
@@ -341,7 +351,7 @@ fn read(
         unit: parse_opt("units", units, tauwise::units::parse_value_unit)?,
         tau0: parse_opt("tau0", tau0, Duration::positive)?.map(Duration::seconds),
         carrier: parse_opt("carrier", carrier, Frequency::positive)?.map(Frequency::hertz),
-        value_column,
+        value_column: value_column.map(|v| whole("value_column", v)).transpose()?,
         time_column: match time_column {
             Some(TimeColumn::Number(n)) => Some(n),
             _ => None,
@@ -706,7 +716,7 @@ fn holdover(
     span: &str,
     budget: &str,
     paths: &str,
-    seed: u64,
+    seed: &str,
     steps: &str,
     te0: &str,
     y0: Option<&str>,
@@ -724,6 +734,7 @@ fn holdover(
     let span = parse_kw("span", span, Duration::positive_with_unit)?.seconds();
     let budget = parse_kw("budget", budget, Duration::positive_with_unit)?.seconds();
     let n_paths = parse_kw("paths", paths, tauwise::parse::count)?;
+    let seed: u64 = whole("seed", seed)?;
     let steps = parse_kw("steps", steps, tauwise::parse::count)?;
     let te0 = parse_kw("te0", te0, Duration::with_unit)?.seconds();
     let y0 = parse_opt("y0", y0, from_str::<Fraction>)?;
@@ -812,7 +823,7 @@ fn simulate(
     model: &str,
     tau0: &str,
     points: &str,
-    seed: u64,
+    seed: &str,
     data: &str,
     offset: Option<&str>,
     drift: Option<&str>,
@@ -826,6 +837,7 @@ fn simulate(
     let parsed = parse_kw("model", model, from_str::<Model>)?;
     let tau0 = parse_kw("tau0", tau0, Duration::positive)?.seconds();
     let points = parse_kw("points", points, tauwise::parse::points)?;
+    let seed: u64 = whole("seed", seed)?;
     let offset = parse_opt("offset", offset, from_str::<Fraction>)?;
     let drift = parse_opt("drift", drift, from_str::<Rate>)?;
     let units = parse_opt("units", units, tauwise::units::parse_value_unit)?;
@@ -1098,12 +1110,12 @@ fn jitter(
     carrier: &str,
     bands: Vec<String>,
     quantity: Option<&str>,
-    value_column: Option<usize>,
+    value_column: Option<&str>,
     filters: Vec<String>,
     filter_files: Vec<String>,
     filter_set: Option<PathBuf>,
     period: bool,
-    periods: Option<u32>,
+    periods: Option<&str>,
     spurs: Option<PathBuf>,
     ui_rate: Option<&str>,
     spur_search: bool,
@@ -1119,6 +1131,8 @@ fn jitter(
     use tauwise::spectrum::jitter::{judge_bands, Band, JitterLimit, JitterSetup, PeriodRequest};
     use tauwise::spectrum::spurs::{prepare_trace, SpurRule};
     let carrier = parse_kw("carrier", carrier, Frequency::positive)?.hertz();
+    let value_column: Option<usize> = value_column.map(|v| whole("value_column", v)).transpose()?;
+    let periods: Option<u32> = periods.map(|v| whole("periods", v)).transpose()?;
     if bands.is_empty() && limit_files.is_empty() {
         return Err(PyValueError::new_err(
             "bands: give at least one band FROM:TO (e.g. \"12k:5M\"), or a limit file",

@@ -69,3 +69,14 @@ def test_output_may_not_overwrite_an_input(tmp_path, at_repo):
     """The report's output is checked before any computing."""
     with pytest.raises(ValueError, match="ocxo-a"):
         tauwise.report("demo-data/ocxo-a.toml", out="demo-data/ocxo-a-phase.txt")
+
+
+def test_whole_numbers_are_checked():
+    with pytest.raises(ValueError, match=r"seed='-1': expected a whole number"):
+        tauwise.simulate("h0=1e-22", points=100, seed=-1)
+    with pytest.raises(ValueError, match=r"^points="):
+        tauwise.simulate("h0=1e-22", points=-5)
+    with pytest.raises(ValueError, match=r"value_column='-2'"):
+        tauwise.read("demo-data/ocxo-a-phase.txt", value_column=-2)
+    with pytest.raises(ValueError, match=r"at least 2 Monte Carlo paths"):
+        tauwise.holdover(np.arange(1000.0) * 1e-12, tau0=1.0, span="1h", budget="1us", paths=0)
