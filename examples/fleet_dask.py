@@ -1,7 +1,8 @@
 """Compare a fleet of clocks on a Dask cluster: one device per task, the
 verdict matrix gathered at the end.
 
-Every DUT file (docs/dut-file.md) in a directory is analysed by
+Every DUT file (docs/dut-file.md; a ``.toml`` file with a ``[device]``
+table) in a directory is analysed by
 ``tauwise.device`` on whichever worker Dask picks — the device's whole
 report (stability, noise model, jitter, wander masks, holdover Monte
 Carlo) built by the same library path as ``tauwise report`` — and comes back
@@ -36,11 +37,20 @@ from typing import Iterable, List
 import tauwise
 
 
+def is_dut_file(path: Path) -> bool:
+    """A DUT file has a ``[device]`` table; other TOML files (limit files,
+    filter sets) in the same directory are not devices."""
+    try:
+        return any(line.strip() == "[device]" for line in path.read_text().splitlines())
+    except (OSError, UnicodeDecodeError):
+        return False
+
+
 def dut_files(directory: Path) -> List[str]:
     """The DUT files of a directory, in name order (the matrix's input order)."""
-    files = sorted(str(p) for p in Path(directory).glob("*.toml"))
+    files = sorted(str(p) for p in Path(directory).glob("*.toml") if is_dut_file(p))
     if not files:
-        raise SystemExit(f"{directory}: no DUT files (*.toml) here")
+        raise SystemExit(f"{directory}: no DUT files (*.toml with a [device] table) here")
     return files
 
 
