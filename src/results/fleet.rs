@@ -20,10 +20,10 @@
 use crate::report::{Part, Report, VerdictKind, VerdictLine};
 use crate::units::{format_margin_db, format_si, format_sig};
 use crate::verdict::{gate, Coverage, Gate, Verdict};
-use serde::Serialize;
+use serde::{Deserialize, Serialize};
 
 /// What kind of check a column is (JSON `"kind"`).
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
 #[serde(rename_all = "lowercase")]
 pub enum CheckKind {
     /// A holdover span against the time-error budget.
@@ -68,7 +68,7 @@ impl CheckKind {
 /// One column of the matrix: `{"kind","item","criterion"}`. Two devices
 /// share a column when all three are the same (the same span and budget,
 /// the same mask and metric, the same band and limit).
-#[derive(Debug, Clone, PartialEq, Eq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Eq, Serialize, Deserialize)]
 pub struct CheckColumn {
     /// Holdover, wander or jitter.
     pub kind: CheckKind,
@@ -82,7 +82,7 @@ pub struct CheckColumn {
 /// "ratio","hold_time_s","result"}`. For a check the device's DUT file
 /// does not ask for, `verdict`, `coverage`, `result` are `null` and
 /// `reason` says so (the HTML shows "—").
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct MatrixCell {
     /// The column's kind.
     pub kind: CheckKind,
@@ -172,7 +172,7 @@ impl MatrixCell {
 /// "aging_sigma_per_day","drift_per_day","drift_sigma_per_day",
 /// "sigma_floor","lf_far","points","span_s","gaps","outliers"}` — each
 /// `null` when the report does not hold it.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct DeviceSummary {
     /// The fitted power-law model of the first record (h_α notation,
     /// accepted by `--model`).
@@ -203,7 +203,7 @@ pub struct DeviceSummary {
 }
 
 /// One model term of a summary.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct SummaryTerm {
     /// α of S_y(f) ∝ f^α.
     pub alpha: i32,
@@ -214,7 +214,7 @@ pub struct SummaryTerm {
 }
 
 /// The lowest σ_y of a record.
-#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
 pub struct FloorPoint {
     /// τ, s.
     pub tau: f64,
@@ -223,7 +223,7 @@ pub struct FloorPoint {
 }
 
 /// L(f) at the table's highest offset.
-#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
 pub struct FarPoint {
     /// Offset, Hz.
     pub f: f64,
@@ -314,7 +314,7 @@ impl DeviceSummary {
 /// One row of the matrix: `{"name","dut","rank","worst_margin_db","gate",
 /// "checks","summary"}` — `checks` has one cell per column, in the
 /// columns' order.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct MatrixRow {
     /// Device name (from its DUT file).
     pub name: String,
@@ -336,7 +336,7 @@ pub struct MatrixRow {
 /// The verdict matrix of several devices: `{"columns","devices","ranking",
 /// "answer","caution"}` (docs/json.md). `devices` are in input order;
 /// `ranking` lists their names best first.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct FleetMatrix {
     /// The checks, holdover first, then wander, then jitter, each in the
     /// order the devices first name them.
@@ -423,7 +423,7 @@ impl FleetMatrix {
         // Holdover first (the scenario's question), then wander, jitter;
         // stable within a kind.
         columns.sort_by_key(|c| c.kind.order());
-        let mut rows: Vec<MatrixRow> = devices
+        let rows: Vec<MatrixRow> = devices
             .iter()
             .map(|(r, dut)| {
                 let checks: Vec<MatrixCell> = columns
@@ -451,6 +451,58 @@ impl FleetMatrix {
                 }
             })
             .collect();
+        Self::ranked_from(columns, rows)
+    }
+
+    /// The matrix of several devices from each device's own matrix
+    /// ([`FleetMatrix::build`] of that device's report alone), as a
+    /// distributed run gathers them: the columns in the order `build` gives
+    /// (holdover, wander, jitter, limits; within a kind, as the devices first
+    /// name them), each device's cells moved to those columns (a column its
+    /// DUT file does not ask for is absent), then the ranking and the answer
+    /// — equal to `build` over all the reports. Two devices of one name are
+    /// refused, as the comparison report refuses them.
+    pub fn combine(parts: &[FleetMatrix]) -> crate::Result<Self> {
+        let mut columns: Vec<CheckColumn> = Vec::new();
+        for p in parts {
+            for c in &p.columns {
+                if !columns.contains(c) {
+                    columns.push(c.clone());
+                }
+            }
+        }
+        columns.sort_by_key(|c| c.kind.order());
+        let mut rows: Vec<MatrixRow> = Vec::new();
+        for p in parts {
+            for row in &p.devices {
+                if let Some(other) = rows.iter().find(|r| r.name == row.name) {
+                    return Err(crate::Error::invalid(format!(
+                        "{} and {} both name the device \"{}\": give each DUT file its own [device] name",
+                        other.dut, row.dut, row.name
+                    )));
+                }
+                let checks = columns
+                    .iter()
+                    .map(|c| {
+                        p.columns
+                            .iter()
+                            .position(|own| own == c)
+                            .and_then(|k| row.checks.get(k).cloned())
+                            .unwrap_or_else(|| MatrixCell::absent(c))
+                    })
+                    .collect();
+                rows.push(MatrixRow {
+                    checks,
+                    rank: 0,
+                    ..row.clone()
+                });
+            }
+        }
+        Ok(Self::ranked_from(columns, rows))
+    }
+
+    /// Rank `rows` (module notes) and write the answer.
+    fn ranked_from(columns: Vec<CheckColumn>, mut rows: Vec<MatrixRow>) -> Self {
         let mut order: Vec<usize> = (0..rows.len()).collect();
         order.sort_by(|&a, &b| rank_key(&rows[a]).total_cmp_key(&rank_key(&rows[b])));
         for (place, &i) in order.iter().enumerate() {
