@@ -432,7 +432,6 @@ fn stability(
     bandwidth: Option<&str>,
     lf_uncertainty: Option<&str>,
 ) -> PyResult<(String, String)> {
-    use tauwise::results::{AnyCurve, BestCurve, StabilityBody};
     let estimators = parse_kw("dev", dev, from_str::<tauwise::parse::EstimatorList>)?.0;
     let grid = parse_kw("taus", taus, tauwise::tau::TauGrid::parse)?;
     let confidence = parse_kw("confidence", confidence, from_str::<Probability>)?.value();
@@ -468,12 +467,7 @@ fn stability(
                 forced_alpha,
                 bias_correction: !uncorrected,
             };
-            let phase = as_phase(&processed);
-            let measured = tauwise::stability::analyse(&phase, &request)?;
-            let best_points =
-                best.then(|| tauwise::stability::best(&measured, phase.len(), phase.tau0));
-            let limit_checks = tauwise::limits::check_sigma(&phase, &request, &limit_set)?;
-            let view = match &lf {
+            let table = match &lf {
                 Some(table) => {
                     let carrier = carrier.ok_or_else(|| {
                         tauwise::Error::option(
@@ -481,41 +475,28 @@ fn stability(
                             "needs carrier (the carrier frequency of the phase-noise table, e.g. \"10MHz\")",
                         )
                     })?;
-                    let t = tauwise::io::lf_table::read_lf_table(
-                        table,
-                        &tauwise::io::lf_table::TableOptions {
-                            carrier: Some(carrier),
-                            ..Default::default()
-                        },
-                    )?;
-                    let opts = tauwise::stability::ViewOptions {
-                        bandwidth,
-                        table_uncertainty_db: lf_uncertainty
-                            .unwrap_or(tauwise::stability::DEFAULT_TABLE_UNCERTAINTY_DB),
+                    let opts = tauwise::io::lf_table::TableOptions {
+                        carrier: Some(carrier),
+                        ..Default::default()
                     };
-                    Some(tauwise::stability::from_phase_noise(
-                        &measured,
-                        &t.spectrum,
-                        phase.tau0,
-                        &opts,
-                    )?)
+                    Some(tauwise::io::lf_table::read_lf_table(table, &opts)?)
                 }
                 None => None,
             };
-            let mut curves = measured;
-            if let Some(v) = &view {
-                curves.extend(v.curves.iter().cloned());
-            }
-            let mut list: Vec<AnyCurve> = curves.into_iter().map(AnyCurve::Plain).collect();
-            if let Some(b) = &best_points {
-                list.push(AnyCurve::Best(BestCurve::new(b)));
-            }
-            let body = StabilityBody {
-                confidence: request.confidence,
-                curves: list,
-                consistency: view.as_ref().map(|v| v.comparisons.clone()),
-                limits: tauwise::results::LimitsPart::new(limit_checks, elsewhere),
+            let view = tauwise::stability::ViewOptions {
+                bandwidth,
+                table_uncertainty_db: lf_uncertainty
+                    .unwrap_or(tauwise::stability::DEFAULT_TABLE_UNCERTAINTY_DB),
             };
+            // The one library function `tauwise stability` calls per record.
+            let additions = tauwise::stability::Additions {
+                best,
+                limits: &limit_set,
+                elsewhere,
+                phase_noise: table.as_ref().map(|t| (&t.spectrum, view)),
+            };
+            let phase = as_phase(&processed);
+            let body = tauwise::stability::record_stability(&phase, &request, &additions)?.body;
             let gate = tauwise::verdict::gate(tauwise::limits::judgements(&body.limits.limits));
             Ok((input_of(rpath, rpre, &processed), body, gate))
         })
@@ -729,7 +710,7 @@ fn holdover(
     temp_swing: Option<&str>,
     model: Option<&str>,
 ) -> PyResult<(String, String)> {
-    use tauwise::holdover::{model_from_record, observed::observe, predict, FromRecord, Settings};
+    use tauwise::holdover::{FromRecord, Settings};
     use tauwise::parse::{Fraction, Model, Rate};
     let span = parse_kw("span", span, Duration::positive_with_unit)?.seconds();
     let budget = parse_kw("budget", budget, Duration::positive_with_unit)?.seconds();
@@ -785,24 +766,15 @@ fn holdover(
                 seed,
                 ..FromRecord::default()
             };
-            let hm = model_from_record(rec, &opts)?;
             let settings = Settings {
                 paths: n_paths,
                 seed,
                 steps,
                 ..Settings::new(span, budget)
             };
-            let pred = predict(&hm, &settings)?;
-            let observed = opts
-                .start
-                .and_then(|_| observe(rec, &hm, &pred, span, budget));
-            let body = tauwise::results::HoldoverBody::new(
-                &settings,
-                &hm,
-                &pred,
-                aging.is_some(),
-                observed.as_ref(),
-            );
+            // The one library function `tauwise holdover` calls per record.
+            let r = tauwise::holdover::record_holdover(rec, &opts, &settings)?;
+            let (body, pred) = (r.body, r.prediction);
             Ok((body, tauwise::verdict::gate([&pred.judgement])))
         })
         .py(py)?;
@@ -1127,9 +1099,9 @@ fn jitter(
     use tauwise::io::filter_set::assemble_weightings;
     use tauwise::io::lf_table::{read_lf_table, read_spurs, TableOptions, TableQuantity};
     use tauwise::parse::Filter;
-    use tauwise::results::{JitterBand, JitterBody, JitterTrace, SPUR_CONVENTION};
-    use tauwise::spectrum::jitter::{judge_bands, Band, JitterLimit, JitterSetup, PeriodRequest};
-    use tauwise::spectrum::spurs::{prepare_trace, SpurRule};
+    use tauwise::results::{JitterBody, JitterRequest, JitterTrace};
+    use tauwise::spectrum::jitter::{Band, JitterLimit, JitterSetup, PeriodRequest};
+    use tauwise::spectrum::spurs::{threshold_db, SpurRule};
     let carrier = parse_kw("carrier", carrier, Frequency::positive)?.hertz();
     let value_column: Option<usize> = value_column.map(|v| whole("value_column", v)).transpose()?;
     let periods: Option<u32> = periods.map(|v| whole("periods", v)).transpose()?;
@@ -1152,17 +1124,7 @@ fn jitter(
         .map(|l| parse_kw("limits", l, JitterLimit::parse))
         .collect::<PyResult<Vec<_>>>()?;
     let ui_rate = parse_opt("ui_rate", ui_rate, Frequency::positive)?.map(Frequency::hertz);
-    let spur_threshold = parse_opt("spur_threshold", spur_threshold, |t| {
-        let s = t.trim();
-        let s = s
-            .strip_suffix("dB")
-            .or_else(|| s.strip_suffix("db"))
-            .unwrap_or(s);
-        match s.trim().parse::<f64>() {
-            Ok(v) if v > 0.0 && v.is_finite() => Ok(v),
-            _ => Err(format!("'{t}' is not a positive number of dB (e.g. 10dB)")),
-        }
-    })?;
+    let spur_threshold = parse_opt("spur_threshold", spur_threshold, threshold_db)?;
     if periods == Some(0) {
         return Err(PyValueError::new_err(
             "periods=0: expected a whole number of periods, at least 1",
@@ -1175,15 +1137,25 @@ fn jitter(
             let (limit_set, elsewhere) = tauwise::limits::read_for(&limit_files, "jitter")?;
             let (wfilters, filter_tables, filter_set_name) =
                 assemble_weightings(&filters, &filter_files, filter_set.as_deref())?;
-            let mut setup = JitterSetup {
-                filters: wfilters,
-                filter_tables,
-                extrapolate,
-                period: (period || periods.is_some()).then_some(PeriodRequest { periods }),
-                ..Default::default()
+            let mut req = JitterRequest {
+                bands,
+                setup: JitterSetup {
+                    filters: wfilters,
+                    filter_tables,
+                    extrapolate,
+                    period: (period || periods.is_some()).then_some(PeriodRequest { periods }),
+                    ..Default::default()
+                },
+                ui_rate,
+                limits,
+                spur_rule: spur_search.then(|| SpurRule {
+                    threshold_db: spur_threshold.unwrap_or(SpurRule::default().threshold_db),
+                    ..SpurRule::default()
+                }),
+                filter_set: filter_set_name,
             };
             if let Some(p) = &spurs {
-                setup.spurs = read_spurs(p)?;
+                req.setup.spurs = read_spurs(p)?;
             }
             let t = read_lf_table(
                 &table,
@@ -1195,47 +1167,15 @@ fn jitter(
                 },
             )?;
             if !t.spurs.is_empty() && spurs.is_none() {
-                setup.spurs = t.spurs.clone();
+                req.setup.spurs = t.spurs.clone();
             }
             let limit_checks = tauwise::limits::check_lf(&t.spectrum, &limit_set)?;
             let trace = JitterTrace::of_table(&t, &table);
-            let rule = spur_search.then(|| SpurRule {
-                threshold_db: spur_threshold.unwrap_or(SpurRule::default().threshold_db),
-                ..SpurRule::default()
-            });
-            let prepared = prepare_trace(&trace.spectrum, &setup.spurs, rule.as_ref())?;
-            let spectrum = prepared.spectrum;
-            setup.spurs = prepared.spurs;
-            let (outcomes, judgements): (Vec<_>, Vec<_>) =
-                judge_bands(&spectrum, &bands, &setup, ui_rate, &limits)?
-                    .into_iter()
-                    .unzip();
-            let limit_of = |i: usize| limits.get(if limits.len() == 1 { 0 } else { i });
-            let body = JitterBody {
-                carrier,
-                ui_rate,
-                spur_convention: SPUR_CONVENTION,
-                bands: outcomes
-                    .iter()
-                    .zip(&bands)
-                    .zip(&judgements)
-                    .enumerate()
-                    .map(|(i, ((o, b), j))| JitterBand::new(b, o, limit_of(i), j.as_ref()))
-                    .collect(),
-                caution: tauwise::DECISION_CAUTION,
-                window: trace.welch.as_ref().map(|r| r.0),
-                enbw_hz: trace.welch.as_ref().map(|r| r.1),
-                gaps_handling: trace.welch.as_ref().map(|r| r.2.clone()),
-                filter_set: filter_set_name,
-                spur_rule: rule.map(|r| r.describe()),
-                found_spurs: prepared.found,
-                record_period: None,
-                limits: tauwise::results::LimitsPart::new(limit_checks, elsewhere),
-            };
+            // The one library function `tauwise jitter` calls per trace.
+            let limits = tauwise::results::LimitsPart::new(limit_checks, elsewhere);
+            let (body, judged) = JitterBody::compute(&trace, carrier, req, None, limits)?;
             let gate = tauwise::verdict::gate(
-                judgements
-                    .iter()
-                    .flatten()
+                (judged.iter().filter_map(|j| j.1.as_ref()))
                     .chain(tauwise::limits::judgements(&body.limits.limits)),
             );
             Ok((trace.input, body, gate))

@@ -89,7 +89,7 @@ pub struct Args {
     pub no_spur_search: bool,
     /// How far above the trace's running median a narrow peak must stand to
     /// be a spur, dB (default 10).
-    #[arg(long, value_name = "DB", value_parser = spur_threshold)]
+    #[arg(long, value_name = "DB", value_parser = tauwise::spectrum::spurs::threshold_db)]
     pub spur_threshold: Option<f64>,
     /// Allow bands beyond the table by continuing its end slopes (reported).
     #[arg(long)]
@@ -117,21 +117,6 @@ pub struct Args {
     pub plot: PlotArgs,
     #[command(flatten)]
     pub output: OutputArgs,
-}
-
-/// `--spur-threshold DB`: a positive number of dB (`10`, `10dB`).
-fn spur_threshold(text: &str) -> std::result::Result<f64, String> {
-    let t = text.trim();
-    let t = t
-        .strip_suffix("dB")
-        .or_else(|| t.strip_suffix("db"))
-        .unwrap_or(t);
-    match t.trim().parse::<f64>() {
-        Ok(v) if v > 0.0 && v.is_finite() => Ok(v),
-        _ => Err(format!(
-            "'{text}' is not a positive number of dB (e.g. 10dB)"
-        )),
-    }
 }
 
 /// `--band FROM:TO`: the band, with its text as the label of the chart.

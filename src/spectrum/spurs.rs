@@ -198,6 +198,19 @@ pub fn prepare_trace(
     })
 }
 
+/// A spur threshold in dB (`--spur-threshold`): a positive number, with or
+/// without `dB` (`10`, `10dB`).
+pub fn threshold_db(text: &str) -> std::result::Result<f64, String> {
+    let t = text.trim();
+    let t = (t.strip_suffix("dB").or_else(|| t.strip_suffix("db"))).unwrap_or(t);
+    match t.trim().parse::<f64>() {
+        Ok(v) if v > 0.0 && v.is_finite() => Ok(v),
+        _ => Err(format!(
+            "'{text}' is not a positive number of dB (e.g. 10dB)"
+        )),
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
