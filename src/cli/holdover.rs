@@ -134,6 +134,7 @@ pub fn run(args: Args) -> Result<Outcome> {
         paths: args.paths,
         seed: args.seed,
         steps: args.steps,
+        decision: args.gate.rule(None),
         ..Settings::new(span, budget)
     };
     let pred = predict(&model, &settings)?;

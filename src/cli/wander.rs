@@ -91,6 +91,7 @@ pub fn run(args: Args) -> Result<Outcome> {
             cte_window: args.cte_window.unwrap_or(DEFAULT_CTE_WINDOW),
             ..TeOptions::default()
         }),
+        decision: args.gate.rule(None),
     };
     let res = analyse(&rec, &opts, &masks)?;
     let title = series.info.path.display().to_string();

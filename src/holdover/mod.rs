@@ -162,6 +162,10 @@ pub struct Settings {
     pub steps: usize,
     /// Output times per decade.
     pub per_decade: usize,
+    /// The decision rule of the budget verdict ([`crate::decision`]):
+    /// its probability of conformance is the fraction of paths within the
+    /// budget through the span.
+    pub decision: crate::decision::DecisionRule,
 }
 
 impl Settings {
@@ -174,6 +178,7 @@ impl Settings {
             seed: 1,
             steps: 4096,
             per_decade: 10,
+            decision: crate::decision::DecisionRule::default(),
         }
     }
 
@@ -239,6 +244,10 @@ pub struct TePoint {
     pub p99: f64,
     /// rms of the simulated TE(t) (without the worst-case temperature term), s.
     pub rms: f64,
+    /// The fraction of paths whose |TE| (with the worst-case temperature
+    /// term) stayed within the budget at every step up to t: the
+    /// probability of conformance through t ([`crate::decision`]).
+    pub within_budget: f64,
 }
 
 /// At least this many Monte Carlo paths for a verdict: with fewer, the p95
@@ -272,6 +281,10 @@ pub struct Prediction {
     pub step: f64,
     /// Paths simulated.
     pub paths: usize,
+    /// Paths whose |TE| (with the worst-case temperature term) stayed
+    /// within the budget at every step through the span: the verdict's
+    /// probability of conformance is `paths_within_budget / paths`.
+    pub paths_within_budget: usize,
 }
 
 /// Percentile of `v` by linear interpolation between order statistics
@@ -380,6 +393,21 @@ pub(crate) fn summarise(
             t0 + (budget - v0) / (v1 - v0) * (t1 - t0)
         })
     };
+    // The first step at which each path's |TE| leaves the budget (n + 1:
+    // never within the span; 0: already at the start, |te0| > budget).
+    let first_out: Vec<usize> = (0..np)
+        .into_par_iter()
+        .map(|p| {
+            if model.te0.abs() > budget {
+                return 0;
+            }
+            (1..=n)
+                .find(|&k| !(te[p * n + k - 1].abs() + temp * k as f64 * step <= budget))
+                .unwrap_or(n + 1)
+        })
+        .collect();
+    let within_through = |k: usize| first_out.iter().filter(|&&f| f > k).count();
+    let paths_within_budget = within_through(n);
     // Output steps: log-spaced, ending at the span.
     let mut ks: Vec<usize> = Vec::new();
     let pd = settings.per_decade.max(1) as f64;
@@ -409,16 +437,22 @@ pub(crate) fn summarise(
                 p95: percentile(&mut buf, 0.95),
                 p99: percentile(&mut buf, 0.99),
                 rms,
+                within_budget: within_through(k) as f64 / np as f64,
             }
         })
         .collect();
-    let judgement = judge(model, &points, &p95, step, np, budget, holds_for);
+    let mut judgement = judge(model, &points, &p95, step, np, budget, holds_for);
+    let p = crate::decision::path_fraction(paths_within_budget, np);
+    settings
+        .decision
+        .decide(&mut judgement, crate::decision::Probabilities::Points(&[p]));
     Ok(Prediction {
         te: points,
         judgement,
         holds_for,
         step,
         paths: np,
+        paths_within_budget,
     })
 }
 
