@@ -349,8 +349,8 @@ pub fn point_probabilities(points: &[CheckedPoint]) -> Vec<Option<f64>> {
     points.iter().map(|p| p.probability).collect()
 }
 
-/// A probability as a percentage for reading: `99.7 %`, `62 %`, and at the
-/// ends `> 99.9 %` / `< 0.1 %` (never a rounded 100 % or 0 %).
+/// A probability as a percentage for reading: `99.7 %`, `62.0 %`, and at
+/// the ends `> 99.9 %` / `< 0.1 %` (a χ² tail never rounds to 100 % or 0 %).
 ///
 /// ```
 /// use tauwise::decision::percent;
@@ -363,12 +363,27 @@ pub fn percent(p: f64) -> String {
     if !p.is_finite() {
         return "not finite".into();
     }
-    if p >= 0.9995 && p < 1.0 {
+    if p >= 0.9995 {
         "> 99.9 %".into()
-    } else if p > 0.0 && p < 0.0005 {
+    } else if p < 0.0005 {
         "< 0.1 %".into()
     } else {
         format!("{:.1} %", 100.0 * p)
+    }
+}
+
+/// `P = 99.7 %`, or at the ends `P > 99.9 %` / `P < 0.1 %` ([`percent`]).
+///
+/// ```
+/// assert_eq!(tauwise::decision::p_words(0.62), "P = 62.0 %");
+/// assert_eq!(tauwise::decision::p_words(1.0), "P > 99.9 %");
+/// ```
+pub fn p_words(p: f64) -> String {
+    let t = percent(p);
+    if t.starts_with(['>', '<']) {
+        format!("P {t}")
+    } else {
+        format!("P = {t}")
     }
 }
 

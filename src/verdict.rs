@@ -199,7 +199,7 @@ impl Judgement {
     pub fn probability_words(&self) -> String {
         let p = self
             .probability
-            .map(|p| format!("P = {}", crate::decision::percent(p)));
+            .map(crate::decision::p_words);
         match (self.at_estimate, p) {
             (Some(e), Some(p)) => format!(": {} at the estimate, {p}", e.name()),
             (Some(e), None) => format!(": {} at the estimate", e.name()),

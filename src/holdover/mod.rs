@@ -718,3 +718,71 @@ pub fn aging_significance_words(z: f64) -> String {
         )
     }
 }
+
+#[cfg(test)]
+mod decision_tests {
+    use super::*;
+    use crate::decision::{DecisionRule, Rule};
+    use crate::verdict::Verdict;
+
+    /// Seeded Monte Carlo, exact count: the verdict's probability of
+    /// conformance is the number of simulated paths whose |TE| (with the
+    /// worst-case temperature term) stays within the budget at every step
+    /// through the span, over the paths — counted here directly on the
+    /// same simulated time errors.
+    #[test]
+    fn holdover_probability_is_the_exact_path_count() {
+        let mut noise = PowerLaw::zero(0.5);
+        noise.set(0, 2e-20);
+        let model = HoldoverModel {
+            te0: 1e-9,
+            y0: 2e-12,
+            y0_sigma: 1e-12,
+            aging: aging::Aging::Linear {
+                c: 0.0,
+                d: 0.0,
+                d_sigma: 0.0,
+            },
+            start: 0.0,
+            temp_worst: 1e-13,
+            noise,
+            uncertainty: Default::default(),
+        };
+        for (budget, rule) in [
+            (6e-9, Rule::Simple),
+            (6e-9, Rule::Guarded),
+            (2e-8, Rule::Guarded),
+        ] {
+            let settings = Settings {
+                paths: 400,
+                steps: 256,
+                decision: DecisionRule::new(rule, 0.95).unwrap(),
+                ..Settings::new(1000.0, budget)
+            };
+            let (te, n, step) = simulate_te(&model, &settings).unwrap();
+            let within = (0..settings.paths)
+                .filter(|&p| {
+                    (1..=n).all(|k| {
+                        te[p * n + k - 1].abs() + model.temp_worst * k as f64 * step <= budget
+                    })
+                })
+                .count();
+            let pred = summarise(&model, &settings, &te, n, step).unwrap();
+            assert_eq!(pred.paths_within_budget, within);
+            let p = within as f64 / settings.paths as f64;
+            assert_eq!(pred.judgement.probability, Some(p));
+            assert_eq!(pred.te.last().unwrap().within_budget, p);
+            assert_eq!(pred.judgement.decision_rule, rule);
+            if rule == Rule::Guarded {
+                let expect = if p >= 0.95 {
+                    Verdict::Meets
+                } else if p <= 0.05 {
+                    Verdict::Exceeds
+                } else {
+                    Verdict::Undecided
+                };
+                assert_eq!(pred.judgement.verdict, expect, "P = {p}");
+            }
+        }
+    }
+}

@@ -166,13 +166,9 @@ impl MatrixCell {
             return "—".into();
         };
         let p = match (self.at_estimate, self.probability) {
-            (Some(e), Some(p)) => format!(
-                ": {} at the estimate, P = {}",
-                e.name(),
-                crate::decision::percent(p)
-            ),
+            (Some(e), Some(p)) => format!(": {} at the estimate, {}", e.name(), crate::decision::p_words(p)),
             (Some(e), None) => format!(": {} at the estimate", e.name()),
-            (None, Some(p)) => format!(", P = {}", crate::decision::percent(p)),
+            (None, Some(p)) => format!(", {}", crate::decision::p_words(p)),
             (None, None) => String::new(),
         };
         let mut out = match (v, self.coverage) {
@@ -569,7 +565,7 @@ fn answer(columns: &[CheckColumn], rows: &[MatrixRow], order: &[usize]) -> Vec<S
                     "{} (undecided{})",
                     r.name,
                     cell.probability
-                        .map(|p| format!(", P = {}", crate::decision::percent(p)))
+                        .map(|p| format!(", {}", crate::decision::p_words(p)))
                         .unwrap_or_default()
                 )),
                 None => other.push(format!("{} (not asked)", r.name)),

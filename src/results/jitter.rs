@@ -328,6 +328,9 @@ impl JitterBody {
                             .unwrap_or_default()
                     ),
                 );
+                if j.verdict != crate::verdict::Verdict::NotJudged {
+                    tab.span(Cell::text(""), j.rule_words());
+                }
             }
         }
         tab.note("");
