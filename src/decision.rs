@@ -24,8 +24,8 @@
 //!   model behind every interval tauwise prints). Read as a statement about
 //!   the true σ² given the estimate — the fiducial reading, which is also
 //!   the Bayesian posterior for the scale-invariant prior p(σ²) ∝ 1/σ²
-//!   (JCGM 101:2008 §6.4.9.4 gives the same construction for a standard
-//!   deviation from a Gaussian sample) — σ² = ν·σ̂²/χ²_ν, so
+//!   (from memory: the textbook result for the variance of a Gaussian
+//!   sample, here with ν the EDF) — σ² = ν·σ̂²/χ²_ν, so
 //!
 //!   p_c = P(σ ≤ L) = P(χ²_ν ≥ ν·σ̂²/L²).
 //!
@@ -70,7 +70,8 @@ pub const DEFAULT_CONFORMANCE: f64 = 0.95;
 pub const NO_UNCERTAINTY: &str = "no uncertainty available";
 
 /// The reference cited wherever a decision rule is explained.
-pub const REFERENCE: &str = "JCGM 106:2012, The role of measurement uncertainty in conformity assessment";
+pub const REFERENCE: &str =
+    "JCGM 106:2012, The role of measurement uncertainty in conformity assessment";
 
 /// How a verdict is reached from the estimate and its uncertainty.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, Default, Serialize, Deserialize)]

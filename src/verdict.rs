@@ -197,9 +197,7 @@ impl Judgement {
     /// verdict the rule changed `: meets at the estimate, P = 62.0 %`;
     /// empty when there is no probability.
     pub fn probability_words(&self) -> String {
-        let p = self
-            .probability
-            .map(crate::decision::p_words);
+        let p = self.probability.map(crate::decision::p_words);
         match (self.at_estimate, p) {
             (Some(e), Some(p)) => format!(": {} at the estimate, {p}", e.name()),
             (Some(e), None) => format!(": {} at the estimate", e.name()),

@@ -186,7 +186,10 @@ fn guarded_undecided_exits_five_through_the_cli() {
     assert_eq!(c["probability"].as_f64().unwrap(), smallest);
     assert!(smallest > 0.05 && smallest < 0.95, "{smallest}");
 
-    let o = run(&near, &["--decision-rule", "guarded", "--conformance", "0.95"]);
+    let o = run(
+        &near,
+        &["--decision-rule", "guarded", "--conformance", "0.95"],
+    );
     assert_eq!(o.status.code(), Some(5), "{}", stderr(&o));
     let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
     let c = &v["limits"][0];

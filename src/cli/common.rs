@@ -190,7 +190,10 @@ pub struct GateArgs {
 impl GateArgs {
     /// The decision rule asked for, the command line before `dut` (the DUT
     /// file's `decision_rule` and `conformance`), then the defaults.
-    pub fn rule(&self, dut: Option<tauwise::decision::DecisionRule>) -> tauwise::decision::DecisionRule {
+    pub fn rule(
+        &self,
+        dut: Option<tauwise::decision::DecisionRule>,
+    ) -> tauwise::decision::DecisionRule {
         let base = dut.unwrap_or_default();
         tauwise::decision::DecisionRule {
             rule: self.decision_rule.unwrap_or(base.rule),

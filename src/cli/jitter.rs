@@ -12,7 +12,8 @@ use tauwise::parse::{Filter, Frequency};
 use tauwise::plot::phase_noise::{jitter_chart, TraceKind};
 use tauwise::results::{JitterBand, JitterBody, JitterTrace, SPUR_CONVENTION};
 use tauwise::spectrum::jitter::{
-    judge_bands_with, record_period_jitter, Band, BandJitter, JitterLimit, JitterSetup, PeriodRequest,
+    judge_bands_with, record_period_jitter, Band, BandJitter, JitterLimit, JitterSetup,
+    PeriodRequest,
 };
 use tauwise::spectrum::spurs::{prepare_trace, SpurRule};
 use tauwise::spectrum::welch::{WelchOptions, Window};
@@ -223,7 +224,8 @@ pub fn run(args: Args) -> Result<Outcome> {
             } else if !t.spurs.is_empty() {
                 setup.spurs = t.spurs.clone();
             }
-            limit_checks = tauwise::limits::check_lf_with(&t.spectrum, &limit_set, &args.gate.rule(None))?;
+            limit_checks =
+                tauwise::limits::check_lf_with(&t.spectrum, &limit_set, &args.gate.rule(None))?;
             JitterTrace::of_table(&t, path)
         }
         (None, Some(path)) => {
@@ -267,10 +269,16 @@ pub fn run(args: Args) -> Result<Outcome> {
     let spectrum = prepared.spectrum;
     setup.spurs = prepared.spurs;
     let found_spurs = prepared.found;
-    let (outcomes, judgements): (Vec<_>, Vec<_>) =
-        judge_bands_with(&spectrum, &bands, &setup, ui_rate, &limits, &args.gate.rule(None))?
-            .into_iter()
-            .unzip();
+    let (outcomes, judgements): (Vec<_>, Vec<_>) = judge_bands_with(
+        &spectrum,
+        &bands,
+        &setup,
+        ui_rate,
+        &limits,
+        &args.gate.rule(None),
+    )?
+    .into_iter()
+    .unzip();
     let drawn: Vec<(&str, &BandJitter)> = args
         .bands
         .iter()

@@ -131,7 +131,8 @@ pub fn run(args: Args) -> Result<Outcome> {
     progress.stage(format!("computing {}", args.dev));
     let measured = analyse(&phase, &request)?;
     let best_points = args.best.then(|| best(&measured, phase.len(), phase.tau0));
-    let limit_checks = tauwise::limits::check_sigma_with(&phase, &request, &limit_set, &args.gate.rule(None))?;
+    let limit_checks =
+        tauwise::limits::check_sigma_with(&phase, &request, &limit_set, &args.gate.rule(None))?;
     let view = match &args.lf {
         Some(table) => Some(phase_noise_view(&args, table, &measured, phase.tau0)?),
         None => None,

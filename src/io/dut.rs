@@ -835,10 +835,7 @@ fn toml_document(cx: &Ctx) -> Result<RawDut, ReadError> {
 
 /// `[device] decision_rule` (`simple`, `guarded`) and `conformance` (a
 /// probability in (0.5, 1)); `None` when neither is given.
-fn decision(
-    cx: &Ctx,
-    d: &RawDevice,
-) -> Result<Option<crate::decision::DecisionRule>, ReadError> {
+fn decision(cx: &Ctx, d: &RawDevice) -> Result<Option<crate::decision::DecisionRule>, ReadError> {
     if d.decision_rule.is_none() && d.conformance.is_none() {
         return Ok(None);
     }

@@ -166,7 +166,11 @@ impl MatrixCell {
             return "—".into();
         };
         let p = match (self.at_estimate, self.probability) {
-            (Some(e), Some(p)) => format!(": {} at the estimate, {}", e.name(), crate::decision::p_words(p)),
+            (Some(e), Some(p)) => format!(
+                ": {} at the estimate, {}",
+                e.name(),
+                crate::decision::p_words(p)
+            ),
             (Some(e), None) => format!(": {} at the estimate", e.name()),
             (None, Some(p)) => format!(", {}", crate::decision::p_words(p)),
             (None, None) => String::new(),

@@ -128,13 +128,19 @@ fn cell(h: &mut Html, c: &crate::results::MatrixCell) {
     // The decision rule's probability (crate::decision): "P = 99.7 %", or
     // "meets at the estimate, P = 62.0 %" beside `undecided`.
     let p = match (c.at_estimate, c.probability) {
-        (Some(e), Some(p)) => format!("{} at the estimate, {}", e.name(), crate::decision::p_words(p)),
+        (Some(e), Some(p)) => format!(
+            "{} at the estimate, {}",
+            e.name(),
+            crate::decision::p_words(p)
+        ),
         (Some(e), None) => format!("{} at the estimate", e.name()),
         (None, Some(p)) => crate::decision::p_words(p),
         (None, None) => String::new(),
     };
     if !p.is_empty() {
-        h.raw(" <span class=\"probability\">").text(&p).raw("</span>");
+        h.raw(" <span class=\"probability\">")
+            .text(&p)
+            .raw("</span>");
     }
     if v != Verdict::NotJudged && c.coverage == Some(crate::verdict::Coverage::Partial) {
         h.raw(" <span class=\"partial\">partial coverage</span>");
