@@ -14,6 +14,7 @@ use tauwise::Result;
 
 /// σ(τ) curves with confidence intervals and noise type.
 #[derive(Debug, ClapArgs)]
+#[command(after_help = super::EXIT_CODES)]
 #[command(mut_arg("plot", |a| a.help(plot_help())))]
 pub struct Args {
     /// Input file (`-` reads standard input).

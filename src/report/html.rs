@@ -231,6 +231,7 @@ code { font-family: "DejaVu Sans Mono", Menlo, Consolas, monospace; font-size: 1
 .badge { display:inline-block; padding: 0 8px; border-radius: 9px; font-size: 12px; font-weight: 600; color: #fff; }
 .badge.pass { background: var(--pass); } .badge.fail { background: var(--fail); } .badge.none { background: var(--none); } .badge.undecided { background: var(--none); outline: 2px dashed var(--fail); }
 span.partial { font-size: 12px; font-style: italic; color: var(--none); white-space: nowrap; }
+span.probability { font-size: 12px; white-space: nowrap; }
 figure { margin: 10px 0 16px; }
 figure svg { max-width: 100%; height: auto; border: 1px solid var(--rule); }
 figcaption { font-size: 12px; color: var(--soft); }
