@@ -224,3 +224,50 @@ fn guarded_undecided_exits_five_through_the_cli() {
         assert_eq!(o.status.code(), Some(2), "{}", stderr(&o));
     }
 }
+
+/// The DUT keys `[device] decision_rule` and `conformance` (docs/dut-file.md):
+/// read from the demo DUT file with the keys added, refused naming file,
+/// line and what was expected, and overridden by the command line
+/// (`report --decision-rule/--conformance` through `BuildOptions`).
+#[test]
+fn dut_file_names_the_rule_and_the_command_line_overrides_it() {
+    use std::path::Path;
+    use tauwise::io::dut::Dut;
+    use tauwise::report::build::BuildOptions;
+    let root = Path::new(env!("CARGO_MANIFEST_DIR")).join("demo-data");
+    let text = std::fs::read_to_string(root.join("ocxo-b.toml")).unwrap();
+    let with = |keys: &str| text.replacen("[device]\n", &format!("[device]\n{keys}\n"), 1);
+    let file = root.join("ocxo-b.toml");
+    let dut = Dut::parse(
+        &with("decision_rule = \"guarded\"\nconformance = 0.9"),
+        &file,
+        &root,
+    )
+    .unwrap();
+    let rule = dut.decision.unwrap();
+    assert_eq!((rule.rule, rule.conformance), (Rule::Guarded, 0.9));
+    assert_eq!(Dut::parse(&text, &file, &root).unwrap().decision, None);
+    // The command line first, then the DUT file, then simple at 0.95.
+    let opts = BuildOptions::default();
+    assert_eq!(opts.decision_for(&dut).rule, Rule::Guarded);
+    let opts = BuildOptions {
+        decision_rule: Some(Rule::Simple),
+        ..BuildOptions::default()
+    };
+    let r = opts.decision_for(&dut);
+    assert_eq!((r.rule, r.conformance), (Rule::Simple, 0.9));
+    for (keys, key) in [
+        ("decision_rule = \"strict\"", "device.decision_rule"),
+        ("conformance = 0.4", "device.conformance"),
+        ("conformance = 1", "device.conformance"),
+    ] {
+        let e = Dut::parse(&with(keys), &file, &root)
+            .unwrap_err()
+            .to_string();
+        assert!(
+            e.contains("ocxo-b.toml") && e.contains("ocxo-b.toml:5:"),
+            "{e}"
+        );
+        assert!(e.contains(key), "{e}");
+    }
+}
