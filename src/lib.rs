@@ -81,6 +81,7 @@
 //! - [`simulate`] — power-law noise synthesis (Kasdin & Walter 1992).
 //! - [`plot`] — charts; [`report`] — the self-contained HTML report.
 
+pub mod decision;
 pub mod deviation;
 pub mod error;
 pub mod holdover;

@@ -337,6 +337,8 @@ pub struct Additions<'a> {
     /// A phase-noise table to convert beside the measured curves
     /// ([`from_phase_noise`]) and how.
     pub phase_noise: Option<(&'a crate::spectrum::Spectrum, ViewOptions)>,
+    /// The decision rule the σ limits are judged by.
+    pub decision: crate::decision::DecisionRule,
 }
 
 /// The `stability` result of one record: its document body and the curves
@@ -364,7 +366,7 @@ pub fn record_stability(
     use crate::results::{AnyCurve, BestCurve, LimitsPart, StabilityBody};
     let measured = analyse(x, req)?;
     let best_points = add.best.then(|| best(&measured, x.len(), x.tau0));
-    let checks = crate::limits::check_sigma(x, req, add.limits)?;
+    let checks = crate::limits::check_sigma_with(x, req, add.limits, &add.decision)?;
     let view = match &add.phase_noise {
         Some((s, opts)) => Some(from_phase_noise(&measured, s, x.tau0, opts)?),
         None => None,

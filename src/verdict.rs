@@ -15,7 +15,9 @@
 //!   `none` when nothing was checked.
 //!
 //! [`gate`] is the rule behind `--fail-on-violation`: a set of judgements
-//! passes only when none `exceeds` and none is `not-judged`. A `partial`
+//! passes only when none `exceeds`, none is `not-judged` and none is
+//! `undecided` (the fourth verdict, of the guarded decision rule of
+//! [`crate::decision`]). A `partial`
 //! coverage does not fail the gate by itself; it is written beside the
 //! verdict in every output.
 //!
@@ -41,6 +43,10 @@ pub enum Verdict {
     Exceeds,
     /// The check could not be made (the reason is given beside it).
     NotJudged,
+    /// The guarded decision rule ([`crate::decision`]) could neither accept
+    /// nor reject at its conformance level: the estimate's verdict and the
+    /// probability are given beside it.
+    Undecided,
 }
 
 impl Verdict {
@@ -50,6 +56,7 @@ impl Verdict {
             Verdict::Meets => "meets",
             Verdict::Exceeds => "exceeds",
             Verdict::NotJudged => "not-judged",
+            Verdict::Undecided => "undecided",
         }
     }
 
@@ -59,6 +66,7 @@ impl Verdict {
             Verdict::Meets => "MEETS",
             Verdict::Exceeds => "EXCEEDS",
             Verdict::NotJudged => "NOT JUDGED",
+            Verdict::Undecided => "UNDECIDED",
         }
     }
 }
@@ -87,9 +95,12 @@ impl Coverage {
 }
 
 /// A check's verdict, its coverage and, when it is not a plain full
-/// `meets`/`exceeds`, the reason in words. Serialised flat:
-/// `{"verdict": "meets", "coverage": "partial", "reason": "…"}`.
-#[derive(Debug, Clone, PartialEq, Eq, Serialize, Deserialize)]
+/// `meets`/`exceeds`, the reason in words; the decision rule that reached
+/// it and, where the checked quantity has a distribution, the probability
+/// of conformance ([`crate::decision`]). Serialised flat:
+/// `{"verdict": "meets", "coverage": "partial", "reason": "…",
+/// "decision_rule": "simple", "probability": 0.997}`.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct Judgement {
     /// Meets, exceeds or not judged.
     pub verdict: Verdict,
@@ -98,6 +109,26 @@ pub struct Judgement {
     /// Why the check was not judged, or what part it did not cover;
     /// `None` for a judged check of full coverage.
     pub reason: Option<String>,
+    /// The decision rule the verdict was reached by (`simple` unless a
+    /// guarded rule was asked and could apply).
+    #[serde(default)]
+    pub decision_rule: crate::decision::Rule,
+    /// The guarded rule's conformance level (absent for `simple`).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub conformance: Option<f64>,
+    /// The probability of conformance P(true value within the limit), the
+    /// smallest over the checked points (absent where the quantity has no
+    /// distribution here, or the check was not judged).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub probability: Option<f64>,
+    /// The estimate's own verdict, where the decision rule reached another
+    /// (always given beside `undecided`).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub at_estimate: Option<Verdict>,
+    /// What is known of the uncertainty when no probability (or not one for
+    /// every point) is available: `no uncertainty available: …`.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub uncertainty: Option<String>,
 }
 
 impl Judgement {
@@ -111,6 +142,11 @@ impl Judgement {
             },
             coverage,
             reason: None,
+            decision_rule: crate::decision::Rule::Simple,
+            conformance: None,
+            probability: None,
+            at_estimate: None,
+            uncertainty: None,
         }
     }
 
@@ -120,6 +156,11 @@ impl Judgement {
             verdict: Verdict::NotJudged,
             coverage: Coverage::None,
             reason: Some(reason.into()),
+            decision_rule: crate::decision::Rule::Simple,
+            conformance: None,
+            probability: None,
+            at_estimate: None,
+            uncertainty: None,
         }
     }
 
@@ -129,18 +170,65 @@ impl Judgement {
         self
     }
 
-    /// Whether this judgement fails `--fail-on-violation` (exceeds or not judged).
+    /// Whether this judgement fails `--fail-on-violation` (exceeds, not
+    /// judged or undecided).
     pub fn fails_gate(&self) -> bool {
         self.verdict != Verdict::Meets
     }
 
-    /// The verdict cell of a table: `MEETS`, `EXCEEDS`, `NOT JUDGED`, with
-    /// `(partial coverage)` after a judged verdict of partial coverage.
+    /// The verdict cell of a table: `MEETS`, `EXCEEDS`, `NOT JUDGED`,
+    /// `UNDECIDED`, with the probability of conformance where there is one
+    /// (`MEETS, P = 99.7 %`; `UNDECIDED: meets at the estimate, P = 62.0 %`)
+    /// and `(partial coverage)` after a judged verdict of partial coverage.
     pub fn cell(&self) -> String {
-        match (self.verdict, self.coverage) {
-            (Verdict::NotJudged, _) => Verdict::NotJudged.shout().to_string(),
-            (v, Coverage::Partial) => format!("{} (partial coverage)", v.shout()),
-            (v, _) => v.shout().to_string(),
+        let head = match self.verdict {
+            Verdict::NotJudged => return Verdict::NotJudged.shout().to_string(),
+            v => v.shout().to_string(),
+        };
+        let cov = if self.coverage == Coverage::Partial {
+            " (partial coverage)"
+        } else {
+            ""
+        };
+        format!("{head}{}{cov}", self.probability_words())
+    }
+
+    /// The probability part of a verdict's words: `, P = 99.7 %`, or for a
+    /// verdict the rule changed `: meets at the estimate, P = 62.0 %`;
+    /// empty when there is no probability.
+    pub fn probability_words(&self) -> String {
+        let p = self.probability.map(crate::decision::p_words);
+        match (self.at_estimate, p) {
+            (Some(e), Some(p)) => format!(": {} at the estimate, {p}", e.name()),
+            (Some(e), None) => format!(": {} at the estimate", e.name()),
+            (None, Some(p)) => format!(", {p}"),
+            (None, None) => String::new(),
+        }
+    }
+
+    /// The verdict in lower-case words for reports and matrices:
+    /// `meets, P = 99.7 %`, `undecided: meets at the estimate, P = 62.0 %`,
+    /// `not judged`.
+    pub fn words(&self) -> String {
+        match self.verdict {
+            Verdict::NotJudged => "not judged".into(),
+            v => format!("{}{}", v.name(), self.probability_words()),
+        }
+    }
+
+    /// The decision rule in words: `decision rule: simple; P(conform) is
+    /// the smallest over the checked points` and the like, with the
+    /// uncertainty note where there is one.
+    pub fn rule_words(&self) -> String {
+        let rule = match (self.decision_rule, self.conformance) {
+            (crate::decision::Rule::Guarded, Some(c)) => {
+                format!("guarded at {} conformance", crate::decision::percent(c))
+            }
+            (r, _) => r.name().to_string(),
+        };
+        match &self.uncertainty {
+            Some(u) => format!("decision rule: {rule}; {u}"),
+            None => format!("decision rule: {rule}"),
         }
     }
 }
@@ -155,17 +243,22 @@ pub enum Gate {
     Exceeds,
     /// None exceeds, but at least one could not be judged.
     NotJudged,
+    /// None exceeds and all were judged, but the guarded decision rule left
+    /// at least one undecided.
+    Undecided,
 }
 
 /// The gate over a set of judgements: [`Gate::Exceeds`] when any exceeds,
-/// else [`Gate::NotJudged`] when any is not judged, else [`Gate::Pass`].
+/// else [`Gate::NotJudged`] when any is not judged, else
+/// [`Gate::Undecided`] when any is undecided, else [`Gate::Pass`].
 pub fn gate<'a>(judgements: impl IntoIterator<Item = &'a Judgement>) -> Gate {
     let mut out = Gate::Pass;
     for j in judgements {
         match j.verdict {
             Verdict::Exceeds => return Gate::Exceeds,
             Verdict::NotJudged => out = Gate::NotJudged,
-            Verdict::Meets => {}
+            Verdict::Undecided if out == Gate::Pass => out = Gate::Undecided,
+            Verdict::Undecided | Verdict::Meets => {}
         }
     }
     out
@@ -205,6 +298,15 @@ mod tests {
         assert_eq!(gate(std::iter::empty::<&Judgement>()), Gate::Pass);
         assert_eq!(p.cell(), "MEETS (partial coverage)");
         assert_eq!(n.cell(), "NOT JUDGED");
+        let mut u = Judgement::judged(false, Coverage::Full);
+        u.verdict = Verdict::Undecided;
+        u.at_estimate = Some(Verdict::Meets);
+        u.probability = Some(0.62);
+        assert_eq!(gate([&m, &u]), Gate::Undecided);
+        assert_eq!(gate([&u, &n]), Gate::NotJudged);
+        assert_eq!(gate([&u, &e]), Gate::Exceeds);
+        assert_eq!(u.cell(), "UNDECIDED: meets at the estimate, P = 62.0 %");
+        assert_eq!(u.words(), "undecided: meets at the estimate, P = 62.0 %");
     }
 
     #[test]

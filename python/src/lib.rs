@@ -494,6 +494,8 @@ fn stability(
                 limits: &limit_set,
                 elsewhere,
                 phase_noise: table.as_ref().map(|t| (&t.spectrum, view)),
+                // The command's default rule (`--decision-rule simple`).
+                decision: Default::default(),
             };
             let phase = as_phase(&processed);
             let body = tauwise::stability::record_stability(&phase, &request, &additions)?.body;
@@ -1153,6 +1155,8 @@ fn jitter(
                     ..SpurRule::default()
                 }),
                 filter_set: filter_set_name,
+                // The command's default rule (`--decision-rule simple`).
+                decision: Default::default(),
             };
             if let Some(p) = &spurs {
                 req.setup.spurs = read_spurs(p)?;

@@ -147,16 +147,42 @@ impl DriftArgs {
     }
 }
 
-/// `--fail-on-violation` of the commands that give verdicts.
+/// `--fail-on-violation`, `--decision-rule` and `--conformance` of the
+/// commands that give verdicts.
 #[derive(Debug, Clone, Args)]
 pub struct GateArgs {
     /// Exit with status 3 when a verdict exceeds its limit, 4 when none
-    /// does but one cannot be judged (for scripts).
+    /// does but one cannot be judged, 5 when all were judged and none
+    /// exceeds but one is undecided (for scripts).
     #[arg(long)]
     pub fail_on_violation: bool,
+    /// How a verdict is reached (docs/decision-rules.md, JCGM 106:2012):
+    /// simple (the estimate against the limit, the default) or guarded
+    /// (accept only where the probability of conformance is at least
+    /// --conformance, reject only where that of non-conformance is, else
+    /// undecided). A DUT file's `decision_rule` applies when this is not given.
+    #[arg(long, value_name = "RULE", value_parser = str::parse::<tauwise::decision::Rule>)]
+    pub decision_rule: Option<tauwise::decision::Rule>,
+    /// The conformance level of the guarded rule, in (0.5, 1) (default
+    /// 0.95; a DUT file's `conformance` applies when this is not given).
+    #[arg(long, value_name = "P", value_parser = tauwise::decision::parse_conformance)]
+    pub conformance: Option<f64>,
 }
 
 impl GateArgs {
+    /// The decision rule asked for, the command line before `dut` (the DUT
+    /// file's `decision_rule` and `conformance`), then the defaults.
+    pub fn rule(
+        &self,
+        dut: Option<tauwise::decision::DecisionRule>,
+    ) -> tauwise::decision::DecisionRule {
+        let base = dut.unwrap_or_default();
+        tauwise::decision::DecisionRule {
+            rule: self.decision_rule.unwrap_or(base.rule),
+            conformance: self.conformance.unwrap_or(base.conformance),
+        }
+    }
+
     /// What the command returns for the verdicts' `gate`.
     pub fn outcome(&self, gate: tauwise::verdict::Gate) -> super::Outcome {
         super::Outcome::of_gate(gate, self.fail_on_violation)

@@ -112,6 +112,7 @@ pub fn run(args: Args) -> Result<Outcome> {
         paths: args.paths,
         seed: args.seed,
         steps: args.steps,
+        decision: args.gate.rule(None),
         ..Settings::new(span, budget)
     };
     let progress = super::common::Progress::start("holdover");

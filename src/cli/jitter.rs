@@ -192,6 +192,7 @@ pub fn run(args: Args) -> Result<Outcome> {
             ..SpurRule::default()
         }),
         filter_set,
+        decision: args.gate.rule(None),
     };
     if let Some(p) = &args.spurs {
         req.setup.spurs = read_spurs(p)?;
@@ -209,7 +210,8 @@ pub fn run(args: Args) -> Result<Outcome> {
             } else if !t.spurs.is_empty() {
                 req.setup.spurs = t.spurs.clone();
             }
-            limit_checks = tauwise::limits::check_lf(&t.spectrum, &limit_set)?;
+            limit_checks =
+                tauwise::limits::check_lf_with(&t.spectrum, &limit_set, &args.gate.rule(None))?;
             JitterTrace::of_table(&t, path)
         }
         (None, Some(path)) => {

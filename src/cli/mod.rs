@@ -68,6 +68,9 @@ pub enum Outcome {
     /// No verdict exceeds, but one could not be judged, with
     /// `--fail-on-violation`: exit 4.
     NotJudged,
+    /// None exceeds and all were judged, but the guarded decision rule left
+    /// one undecided, with `--fail-on-violation`: exit 5.
+    Undecided,
 }
 
 impl Outcome {
@@ -79,6 +82,7 @@ impl Outcome {
             (_, false) | (Gate::Pass, _) => Outcome::Done,
             (Gate::Exceeds, true) => Outcome::VerdictFailed,
             (Gate::NotJudged, true) => Outcome::NotJudged,
+            (Gate::Undecided, true) => Outcome::Undecided,
         }
     }
 }
@@ -90,7 +94,7 @@ not an error); 1 error in the input or the computation; 2 bad command line (an o
 refused, options that do not go together); 3 a verdict exceeds \
 its limit and --fail-on-violation was given; 4 no verdict exceeds but one could not be judged \
 (a value that feeds it is not finite, nothing of its range was checked, too few paths, a band \
-outside the table) and --fail-on-violation was given.";
+outside the table) and --fail-on-violation was given; 5 every verdict was judged and none exceeds, but one is undecided under --decision-rule guarded, and --fail-on-violation was given.";
 
 /// On SIGINT or SIGTERM (and SIGHUP), remove the temporary files of the
 /// atomic writes in progress, then end with the conventional status
@@ -166,6 +170,7 @@ pub fn main() -> i32 {
         Ok(Outcome::Done) => 0,
         Ok(Outcome::VerdictFailed) => 3,
         Ok(Outcome::NotJudged) => 4,
+        Ok(Outcome::Undecided) => 5,
         Err(e) => {
             eprintln!("tauwise: error: {e}");
             if e.is_bad_request() {

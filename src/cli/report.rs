@@ -86,6 +86,8 @@ pub fn run(a: Args) -> Result<Outcome> {
     super::common::check_output_paths(&inputs, &[a.output.as_deref()])?;
     let opts = BuildOptions {
         confidence: a.confidence.confidence.value(),
+        decision_rule: a.gate.decision_rule,
+        conformance: a.gate.conformance,
         ..BuildOptions::default()
     };
     let size = a.chart_size;

@@ -16,6 +16,7 @@ use tauwise::Result;
 
 /// σ(τ) curves with confidence intervals and noise type.
 #[derive(Debug, ClapArgs)]
+#[command(after_help = super::EXIT_CODES)]
 #[command(mut_arg("plot", |a| a.help(plot_help())))]
 pub struct Args {
     /// Input file (`-` reads standard input); several files give one block
@@ -143,6 +144,7 @@ pub fn run(args: Args) -> Result<Outcome> {
             limits: &limits,
             elsewhere: elsewhere.clone(),
             phase_noise: table.as_ref().map(|t| (&t.spectrum, view.clone())),
+            decision: args.gate.rule(None),
         };
         let r = record_stability(&series.record.to_phase(), &request, &additions)?;
         blocks.push(Block {

@@ -100,6 +100,7 @@ pub fn run(args: Args) -> Result<Outcome> {
             cte_window: args.cte_window.unwrap_or(DEFAULT_CTE_WINDOW),
             ..TeOptions::default()
         }),
+        decision: args.gate.rule(None),
     };
     let progress = super::common::Progress::start("wander");
     let (mut blocks, mut charts, mut judgements) = (Vec::new(), Vec::new(), Vec::new());

@@ -162,6 +162,10 @@ pub struct Settings {
     pub steps: usize,
     /// Output times per decade.
     pub per_decade: usize,
+    /// The decision rule of the budget verdict ([`crate::decision`]):
+    /// its probability of conformance is the fraction of paths within the
+    /// budget through the span.
+    pub decision: crate::decision::DecisionRule,
 }
 
 impl Settings {
@@ -174,6 +178,7 @@ impl Settings {
             seed: 1,
             steps: 4096,
             per_decade: 10,
+            decision: crate::decision::DecisionRule::default(),
         }
     }
 
@@ -239,6 +244,10 @@ pub struct TePoint {
     pub p99: f64,
     /// rms of the simulated TE(t) (without the worst-case temperature term), s.
     pub rms: f64,
+    /// The fraction of paths whose |TE| (with the worst-case temperature
+    /// term) stayed within the budget at every step up to t: the
+    /// probability of conformance through t ([`crate::decision`]).
+    pub within_budget: f64,
 }
 
 /// At least this many Monte Carlo paths for a verdict: with fewer, the p95
@@ -272,6 +281,10 @@ pub struct Prediction {
     pub step: f64,
     /// Paths simulated.
     pub paths: usize,
+    /// Paths whose |TE| (with the worst-case temperature term) stayed
+    /// within the budget at every step through the span: the verdict's
+    /// probability of conformance is `paths_within_budget / paths`.
+    pub paths_within_budget: usize,
 }
 
 /// Percentile of `v` by linear interpolation between order statistics
@@ -380,6 +393,21 @@ pub(crate) fn summarise(
             t0 + (budget - v0) / (v1 - v0) * (t1 - t0)
         })
     };
+    // The first step at which each path's |TE| leaves the budget (n + 1:
+    // never within the span; 0: already at the start, |te0| > budget).
+    let first_out: Vec<usize> = (0..np)
+        .into_par_iter()
+        .map(|p| {
+            if model.te0.abs() > budget {
+                return 0;
+            }
+            (1..=n)
+                .find(|&k| !(te[p * n + k - 1].abs() + temp * k as f64 * step <= budget))
+                .unwrap_or(n + 1)
+        })
+        .collect();
+    let within_through = |k: usize| first_out.iter().filter(|&&f| f > k).count();
+    let paths_within_budget = within_through(n);
     // Output steps: log-spaced, ending at the span.
     let mut ks: Vec<usize> = Vec::new();
     let pd = settings.per_decade.max(1) as f64;
@@ -409,16 +437,22 @@ pub(crate) fn summarise(
                 p95: percentile(&mut buf, 0.95),
                 p99: percentile(&mut buf, 0.99),
                 rms,
+                within_budget: within_through(k) as f64 / np as f64,
             }
         })
         .collect();
-    let judgement = judge(model, &points, &p95, step, np, budget, holds_for);
+    let mut judgement = judge(model, &points, &p95, step, np, budget, holds_for);
+    let p = crate::decision::path_fraction(paths_within_budget, np);
+    settings
+        .decision
+        .decide(&mut judgement, crate::decision::Probabilities::Points(&[p]));
     Ok(Prediction {
         te: points,
         judgement,
         holds_for,
         step,
         paths: np,
+        paths_within_budget,
     })
 }
 
@@ -717,4 +751,76 @@ pub fn record_holdover(rec: &Record, opts: &FromRecord, s: &Settings) -> Result<
         observed,
         body,
     })
+}
+
+#[cfg(test)]
+mod decision_tests {
+    use super::*;
+    use crate::decision::{DecisionRule, Rule};
+    use crate::verdict::Verdict;
+
+    /// Seeded Monte Carlo, exact count: the verdict's probability of
+    /// conformance is the number of simulated paths whose |TE| (with the
+    /// worst-case temperature term) stays within the budget at every step
+    /// through the span, over the paths — counted here directly on the
+    /// same simulated time errors.
+    #[test]
+    fn holdover_probability_is_the_exact_path_count() {
+        let mut noise = PowerLaw::zero(0.5);
+        noise.set(0, 2e-20);
+        let model = HoldoverModel {
+            te0: 1e-9,
+            y0: 2e-12,
+            y0_sigma: 1e-12,
+            aging: aging::Aging::Linear {
+                c: 0.0,
+                d: 0.0,
+                d_sigma: 0.0,
+            },
+            start: 0.0,
+            temp_worst: 1e-13,
+            noise,
+            uncertainty: Default::default(),
+        };
+        for (budget, rule) in [
+            (6e-9, Rule::Simple),
+            (6e-9, Rule::Guarded),
+            (2e-8, Rule::Guarded),
+        ] {
+            let settings = Settings {
+                paths: 400,
+                steps: 256,
+                decision: DecisionRule::new(rule, 0.95).unwrap(),
+                ..Settings::new(1000.0, budget)
+            };
+            let (te, n, step) = simulate_te(&model, &settings).unwrap();
+            let within = (0..settings.paths)
+                .filter(|&p| {
+                    (1..=n).all(|k| {
+                        te[p * n + k - 1].abs() + model.temp_worst * k as f64 * step <= budget
+                    })
+                })
+                .count();
+            let pred = summarise(&model, &settings, &te, n, step).unwrap();
+            assert_eq!(pred.paths_within_budget, within);
+            let p = within as f64 / settings.paths as f64;
+            if budget < 1e-8 {
+                // A budget the paths straddle: the count is not trivial.
+                assert!(within > 20 && within < 380, "{within}");
+            }
+            assert_eq!(pred.judgement.probability, Some(p));
+            assert_eq!(pred.te.last().unwrap().within_budget, p);
+            assert_eq!(pred.judgement.decision_rule, rule);
+            if rule == Rule::Guarded {
+                let expect = if p >= 0.95 {
+                    Verdict::Meets
+                } else if p <= 0.05 {
+                    Verdict::Exceeds
+                } else {
+                    Verdict::Undecided
+                };
+                assert_eq!(pred.judgement.verdict, expect, "P = {p}");
+            }
+        }
+    }
 }

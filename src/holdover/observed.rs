@@ -67,8 +67,9 @@ impl Observed {
 ///     aging: Aging::Linear { c: 0.0, d: 0.0, d_sigma: 0.0 }, start: 100.0,
 ///     temp_worst: 0.0, noise: PowerLaw::zero(0.5), uncertainty: Default::default() };
 /// let pred = Prediction { te: vec![TePoint { t: 50.0, deterministic: 5e-8,
-///     p50: 5e-8, p95: 6e-8, p99: 7e-8, rms: 5e-8 }], holds_for: None,
-///     judgement: Judgement::judged(false, Coverage::Full), step: 1.0, paths: 100 };
+///     p50: 5e-8, p95: 6e-8, p99: 7e-8, rms: 5e-8, within_budget: 1.0 }], holds_for: None,
+///     judgement: Judgement::judged(false, Coverage::Full), step: 1.0, paths: 100,
+///     paths_within_budget: 100 };
 /// let o = observe(&rec, &model, &pred, 80.0, 3.05e-8).unwrap();
 /// assert!((o.points[0].te - 5e-8).abs() < 1e-20);
 /// assert_eq!(o.inside(), 1);

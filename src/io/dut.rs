@@ -75,6 +75,8 @@ struct RawDevice {
     carrier: Option<Spanned<toml::Value>>,
     #[serde(default)]
     limit_files: Vec<Spanned<String>>,
+    decision_rule: Option<Spanned<String>>,
+    conformance: Option<Spanned<toml::Value>>,
 }
 
 #[derive(Debug, Deserialize)]
@@ -189,6 +191,10 @@ pub struct Dut {
     /// on the first phase-noise table, their MTIE/TDEV limits with the
     /// `[wander]` masks.
     pub limit_files: Vec<PathBuf>,
+    /// The decision rule of the device's verdicts (`[device]
+    /// decision_rule`, `conformance`; docs/decision-rules.md); `None` when
+    /// the file names neither (the command line's, or `simple`).
+    pub decision: Option<crate::decision::DecisionRule>,
 }
 
 /// `[separate]`: the N-cornered hat on pair records named among the
@@ -629,6 +635,7 @@ impl Dut {
         };
         let raw = toml_document(&cx)?;
         let (name, carrier) = device(&cx, &raw.device)?;
+        let decision = decision(&cx, &raw.device)?;
         let records = series(&cx, &raw.record, "record", false, carrier)?;
         let tie = series(&cx, &raw.tie, "tie", true, carrier)?;
         let phase_noise = phase_noise(&cx, &raw.phase_noise, carrier)?;
@@ -678,6 +685,7 @@ impl Dut {
                 .enumerate()
                 .map(|(i, p)| cx.file_path(p, &format!("device.limit_files[{}]", i + 1)))
                 .collect::<Result<Vec<_>, _>>()?,
+            decision,
         })
     }
 }
@@ -809,6 +817,48 @@ fn toml_document(cx: &Ctx) -> Result<RawDut, ReadError> {
         }
         .because(ReadCause::Schema)
     })
+}
+
+/// `[device] decision_rule` (`simple`, `guarded`) and `conformance` (a
+/// probability in (0.5, 1)); `None` when neither is given.
+fn decision(cx: &Ctx, d: &RawDevice) -> Result<Option<crate::decision::DecisionRule>, ReadError> {
+    if d.decision_rule.is_none() && d.conformance.is_none() {
+        return Ok(None);
+    }
+    let mut out = crate::decision::DecisionRule::default();
+    if let Some(r) = &d.decision_rule {
+        match r.get_ref().parse::<crate::decision::Rule>() {
+            Ok(v) => out.rule = v,
+            Err(_) => {
+                return cx.err(
+                    r.span(),
+                    "device.decision_rule",
+                    format!("'{}': expected simple or guarded", r.get_ref()),
+                )
+            }
+        }
+    }
+    if let Some(c) = &d.conformance {
+        let v = match c.get_ref() {
+            toml::Value::Float(f) => Some(*f),
+            toml::Value::String(t) => crate::decision::parse_conformance(t).ok(),
+            _ => None,
+        };
+        match v {
+            Some(v) if crate::decision::check_conformance(v).is_ok() => out.conformance = v,
+            _ => {
+                return cx.err(
+                    c.span(),
+                    "device.conformance",
+                    format!(
+                        "{}: expected a probability strictly between 0.5 and 1, e.g. 0.95",
+                        c.get_ref()
+                    ),
+                )
+            }
+        }
+    }
+    Ok(Some(out))
 }
 
 /// `[device]`: the name and the carrier.

@@ -326,6 +326,11 @@ pub struct LimitCheck {
     /// there.
     #[serde(skip_serializing_if = "Vec::is_empty")]
     pub interval_reaches_limit: Vec<f64>,
+    /// σ limits: every checked τ with its estimate, limit, EDF and
+    /// probability of conformance ([`crate::decision`]); empty (absent in
+    /// JSON) for L(f), which has no distribution here.
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub checked_points: Vec<crate::decision::CheckedPoint>,
 }
 
 impl LimitCheck {
@@ -432,6 +437,7 @@ pub fn check_limit(limit: &Limit, curve: &[(f64, f64)], support: &Support) -> Li
             })
             .collect(),
         interval_reaches_limit: Vec::new(),
+        checked_points: Vec::new(),
     }
 }
 
@@ -485,6 +491,19 @@ pub fn check_sigma(
     req: &crate::stability::Request,
     limits: &[Limit],
 ) -> Result<Vec<LimitCheck>> {
+    check_sigma_with(x, req, limits, &crate::decision::DecisionRule::default())
+}
+
+/// [`check_sigma`] with a decision rule: each checked τ gets its
+/// probability of conformance from its EDF
+/// ([`crate::decision::sigma_conformance`]) and the verdict is reached by
+/// `rule` ([`crate::decision::DecisionRule::decide`]).
+pub fn check_sigma_with(
+    x: &PhaseRecord,
+    req: &crate::stability::Request,
+    limits: &[Limit],
+    rule: &crate::decision::DecisionRule,
+) -> Result<Vec<LimitCheck>> {
     let n = x.len();
     let mut out = Vec::new();
     for limit in limits.iter().filter(|l| l.metric.command() == "stability") {
@@ -527,7 +546,25 @@ pub fn check_sigma(
                     (p.estimate.value <= l && p.hi.is_some_and(|h| h > l)).then_some(p.estimate.tau)
                 })
                 .collect();
+            c.checked_points = points
+                .iter()
+                .filter(|p| p.estimate.tau.is_finite() && p.estimate.tau > 0.0)
+                .filter_map(|p| {
+                    let l = shape.eval(p.estimate.tau)?;
+                    Some(crate::decision::CheckedPoint::sigma(
+                        p.estimate.tau,
+                        p.estimate.value,
+                        l,
+                        p.edf,
+                    ))
+                })
+                .collect();
         }
+        let probs = crate::decision::point_probabilities(&c.checked_points);
+        rule.decide(
+            &mut c.judgement,
+            crate::decision::Probabilities::Points(&probs),
+        );
         out.push(c);
     }
     Ok(out)
@@ -539,6 +576,32 @@ pub fn check_sigma(
 /// the table's offset range. Limits of other metrics are skipped. A table
 /// that is not L(f) is converted first (needs its carrier).
 pub fn check_lf(table: &Spectrum, limits: &[Limit]) -> Result<Vec<LimitCheck>> {
+    check_lf_with(table, limits, &crate::decision::DecisionRule::default())
+}
+
+/// Why an L(f) limit or a jitter limit has no probability of conformance.
+pub const TABLE_NO_DISTRIBUTION: &str = "the phase-noise table carries no stated uncertainty \
+(and tauwise's spectrum estimate from a record carries no EDF)";
+
+/// [`check_lf`] with a decision rule: an L(f) table has no distribution
+/// here, so each verdict says "no uncertainty available" and a guarded rule
+/// decides at the estimate ([`crate::decision::DecisionRule::decide`]).
+pub fn check_lf_with(
+    table: &Spectrum,
+    limits: &[Limit],
+    rule: &crate::decision::DecisionRule,
+) -> Result<Vec<LimitCheck>> {
+    let mut out = check_lf_simple(table, limits)?;
+    for c in &mut out {
+        rule.decide(
+            &mut c.judgement,
+            crate::decision::Probabilities::Unavailable(TABLE_NO_DISTRIBUTION),
+        );
+    }
+    Ok(out)
+}
+
+fn check_lf_simple(table: &Spectrum, limits: &[Limit]) -> Result<Vec<LimitCheck>> {
     let lf = table.to(crate::spectrum::Quantity::Lf)?;
     let (fa, fb) = lf.range();
     let support = Support::continuous(

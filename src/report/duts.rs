@@ -98,6 +98,7 @@ pub fn quick_dut(q: &QuickForm, input: &Path) -> Result<Dut> {
         separate: None,
         timeline: None,
         limit_files: Vec::new(),
+        decision: None,
     })
 }
 

@@ -103,6 +103,7 @@ impl Html {
                             Verdict::Meets => ("pass", "meets"),
                             Verdict::Exceeds => ("fail", "exceeds"),
                             Verdict::NotJudged => ("none", "not judged"),
+                            Verdict::Undecided => ("undecided", "undecided"),
                         };
                         let partial =
                             if j.verdict != Verdict::NotJudged && j.coverage == Coverage::Partial {
@@ -110,9 +111,18 @@ impl Html {
                             } else {
                                 ""
                             };
+                        // The decision: "meets, P = 99.7 %", "undecided:
+                        // meets at the estimate, P = 62.0 %" (crate::decision).
+                        let p = j.probability_words();
+                        let p = p.trim_start_matches([',', ':']).trim();
+                        let p = if p.is_empty() {
+                            String::new()
+                        } else {
+                            format!(" <span class=\"probability\">{}</span>", escape(p))
+                        };
                         let _ = write!(
                             self.buf,
-                            "<td><span class=\"badge {class}\">{word}</span>{partial}</td>"
+                            "<td><span class=\"badge {class}\">{word}</span>{p}{partial}</td>"
                         );
                     }
                     Cell::Code(t) => {
@@ -219,8 +229,9 @@ th { background: var(--tint); font-weight: 600; }
 td.num { text-align: right; font-variant-numeric: tabular-nums; white-space: nowrap; }
 code { font-family: "DejaVu Sans Mono", Menlo, Consolas, monospace; font-size: 12px; word-break: break-all; }
 .badge { display:inline-block; padding: 0 8px; border-radius: 9px; font-size: 12px; font-weight: 600; color: #fff; }
-.badge.pass { background: var(--pass); } .badge.fail { background: var(--fail); } .badge.none { background: var(--none); }
+.badge.pass { background: var(--pass); } .badge.fail { background: var(--fail); } .badge.none { background: var(--none); } .badge.undecided { background: var(--none); outline: 2px dashed var(--fail); }
 span.partial { font-size: 12px; font-style: italic; color: var(--none); white-space: nowrap; }
+span.probability { font-size: 12px; white-space: nowrap; }
 figure { margin: 10px 0 16px; }
 figure svg { max-width: 100%; height: auto; border: 1px solid var(--rule); }
 figcaption { font-size: 12px; color: var(--soft); }

@@ -441,6 +441,8 @@ pub struct Report {
     /// Sections the DUT file's `[separate]` and `[timeline]` ask for
     /// ([`added`]).
     pub added: Vec<added::AddedSection>,
+    /// The decision rule of every verdict ([`crate::decision`]).
+    pub decision: crate::decision::DecisionRule,
 }
 
 impl Report {
@@ -462,6 +464,7 @@ impl Report {
             methods: Vec::new(),
             cautions: vec![crate::DECISION_CAUTION.to_string()],
             added: Vec::new(),
+            decision: crate::decision::DecisionRule::default(),
         }
     }
 }

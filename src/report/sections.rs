@@ -71,6 +71,7 @@ fn verdicts(h: &mut Html, r: &Report, pre: &str) {
             count(Verdict::Exceeds),
             count(Verdict::NotJudged),
         );
+        let undecided = count(Verdict::Undecided);
         let partial = r
             .verdicts
             .iter()
@@ -80,8 +81,13 @@ fn verdicts(h: &mut Html, r: &Report, pre: &str) {
             })
             .count();
         h.p(&format!(
-            "{} check(s): {pass} meet, {fail} exceed{}{}.",
+            "{} check(s): {pass} meet, {fail} exceed{}{}{}.",
             r.verdicts.len(),
+            if undecided > 0 {
+                format!(", {undecided} undecided (an undecided check fails the gate)")
+            } else {
+                String::new()
+            },
             if none > 0 {
                 format!(", {none} not judged (a check that cannot be judged fails the gate)")
             } else {
@@ -113,6 +119,14 @@ fn verdicts(h: &mut Html, r: &Report, pre: &str) {
             &["check", "item", "criterion", "result", "verdict"],
             &rows,
         );
+        // The decision rule behind every verdict above (crate::decision).
+        h.p(&format!(
+            "Decision rule: {} ({}). P is the probability that the true value is within the \
+             limit, the smallest over a check's points; MTIE, L(f) and jitter checks have no \
+             uncertainty available and are decided at the estimate.",
+            r.decision.words(),
+            crate::decision::REFERENCE
+        ));
     }
     h.p_class("caution", crate::DECISION_CAUTION);
     h.close_section();

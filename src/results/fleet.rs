@@ -105,6 +105,20 @@ pub struct MatrixCell {
     pub hold_time_s: Option<f64>,
     /// The result in words, as the device's report gives it.
     pub result: Option<String>,
+    /// The decision rule the verdict was reached by (`simple`, `guarded`);
+    /// absent for a check the device does not have.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub decision_rule: Option<crate::decision::Rule>,
+    /// The guarded rule's conformance level.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub conformance: Option<f64>,
+    /// The probability of conformance (smallest over the checked points),
+    /// where the checked quantity has a distribution.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub probability: Option<f64>,
+    /// The estimate's verdict where the rule reached another (`undecided`).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub at_estimate: Option<Verdict>,
 }
 
 impl MatrixCell {
@@ -120,6 +134,10 @@ impl MatrixCell {
             ratio: line.ratio.filter(|_| judged),
             hold_time_s: line.hold_time.filter(|_| judged),
             result: Some(line.result.clone()),
+            decision_rule: Some(line.judgement.decision_rule),
+            conformance: line.judgement.conformance,
+            probability: line.judgement.probability,
+            at_estimate: line.judgement.at_estimate,
         }
     }
 
@@ -134,6 +152,10 @@ impl MatrixCell {
             ratio: None,
             hold_time_s: None,
             result: None,
+            decision_rule: None,
+            conformance: None,
+            probability: None,
+            at_estimate: None,
         }
     }
 
@@ -143,10 +165,20 @@ impl MatrixCell {
         let Some(v) = self.verdict else {
             return "—".into();
         };
+        let p = match (self.at_estimate, self.probability) {
+            (Some(e), Some(p)) => format!(
+                ": {} at the estimate, {}",
+                e.name(),
+                crate::decision::p_words(p)
+            ),
+            (Some(e), None) => format!(": {} at the estimate", e.name()),
+            (None, Some(p)) => format!(", {}", crate::decision::p_words(p)),
+            (None, None) => String::new(),
+        };
         let mut out = match (v, self.coverage) {
             (Verdict::NotJudged, _) => "not judged".to_string(),
-            (v, Some(Coverage::Partial)) => format!("{} (partial coverage)", v.name()),
-            (v, _) => v.name().to_string(),
+            (v, Some(Coverage::Partial)) => format!("{}{p} (partial coverage)", v.name()),
+            (v, _) => format!("{}{p}", v.name()),
         };
         if let Some(m) = self.margin_db {
             out.push_str(&format!(
@@ -585,6 +617,13 @@ fn answer(columns: &[CheckColumn], rows: &[MatrixRow], order: &[usize]) -> Vec<S
                     None => r.name.clone(),
                 }),
                 Some(Verdict::NotJudged) => other.push(format!("{} (not judged)", r.name)),
+                Some(Verdict::Undecided) => other.push(format!(
+                    "{} (undecided{})",
+                    r.name,
+                    cell.probability
+                        .map(|p| format!(", {}", crate::decision::p_words(p)))
+                        .unwrap_or_default()
+                )),
                 None => other.push(format!("{} (not asked)", r.name)),
             }
         }

@@ -32,6 +32,9 @@ pub struct HoldoverBody {
     pub te: Vec<TePoint>,
     /// When p95 of |TE| first exceeds the budget, s (`null`: never).
     pub holds_for_s: Option<f64>,
+    /// Paths whose |TE| stays within the budget through the span (the
+    /// verdict's `probability` is this over `paths`).
+    pub paths_within_budget: usize,
     /// The verdict for the span.
     #[serde(flatten)]
     pub judgement: Judgement,
@@ -175,6 +178,7 @@ impl HoldoverBody {
             step_s: p.step,
             te: p.te.clone(),
             holds_for_s: p.holds_for,
+            paths_within_budget: p.paths_within_budget,
             judgement: p.judgement.clone(),
             after_start: observed.map(AfterStart::from),
             caution: crate::holdover::caution(),
@@ -346,6 +350,14 @@ impl HoldoverBody {
         ));
         if let Some(why) = &self.judgement.reason {
             o.line(format!("  not judged: {why}"));
+        }
+        if judged {
+            o.line(format!(
+                "  {}; {} of {} paths stay within the budget through the span",
+                self.judgement.rule_words(),
+                self.paths_within_budget,
+                self.paths
+            ));
         }
         match &self.after_start {
             Some(ob) => o.extend(self.after_start_table(ob)),

@@ -191,6 +191,8 @@ pub struct JitterRequest {
     pub spur_rule: Option<crate::spectrum::spurs::SpurRule>,
     /// The name of the filter set the weightings came from.
     pub filter_set: Option<String>,
+    /// The decision rule the bands' limits are judged by.
+    pub decision: crate::decision::DecisionRule,
 }
 
 impl JitterBody {
@@ -212,12 +214,13 @@ impl JitterBody {
         use crate::spectrum::spurs::prepare_trace;
         let prepared = prepare_trace(&trace.spectrum, &req.setup.spurs, req.spur_rule.as_ref())?;
         req.setup.spurs = prepared.spurs;
-        let judged = crate::spectrum::jitter::judge_bands(
+        let judged = crate::spectrum::jitter::judge_bands_with(
             &prepared.spectrum,
             &req.bands,
             &req.setup,
             req.ui_rate,
             &req.limits,
+            &req.decision,
         )?;
         let limit_of = |i: usize| req.limits.get(if req.limits.len() == 1 { 0 } else { i });
         let body = JitterBody {
@@ -393,6 +396,9 @@ impl JitterBody {
                             .unwrap_or_default()
                     ),
                 );
+                if j.verdict != crate::verdict::Verdict::NotJudged {
+                    tab.span(Cell::text(""), j.rule_words());
+                }
             }
         }
         tab.note("");

@@ -75,6 +75,9 @@ pub fn check_text(c: &LimitCheck) -> Text {
         s.line(format!("  {n}"));
     }
     if c.judgement.verdict != Verdict::NotJudged {
+        s.line(format!("  {}", c.judgement.rule_words()));
+    }
+    if c.judgement.verdict != Verdict::NotJudged {
         if let (Some(r), Some(w)) = (c.worst_ratio, c.worst_at) {
             if c.metric == LimitMetric::Lf {
                 let e = c.worst_excess_db.unwrap_or(f64::NAN);

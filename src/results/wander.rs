@@ -143,6 +143,9 @@ impl WanderBody {
                 c.judgement.cell()
             ));
             s.line(format!("  {}", c.source_note));
+            if c.judgement.verdict != Verdict::NotJudged {
+                s.line(format!("  {}", c.judgement.rule_words()));
+            }
             if let (Some(ratio), Some(t)) = (c.worst_ratio, c.worst_tau) {
                 s.line(format!(
                     "  worst: {:.3} of the limit ({} margin) at τ = {}",

@@ -323,6 +323,20 @@ impl JitterLimit {
     /// when the rms is not finite, or a UI limit has no line rate. A band
     /// that reaches beyond the table by extrapolation is judged, with
     /// partial coverage and the extrapolated offsets named.
+    pub fn judge_with(
+        &self,
+        band: std::result::Result<&BandJitter, &str>,
+        rule: &crate::decision::DecisionRule,
+    ) -> Judgement {
+        let mut j = self.judge(band);
+        rule.decide(
+            &mut j,
+            crate::decision::Probabilities::Unavailable(JITTER_NO_DISTRIBUTION),
+        );
+        j
+    }
+
+    /// [`JitterLimit::judge_with`] under the simple rule (see there).
     pub fn judge(&self, band: std::result::Result<&BandJitter, &str>) -> Judgement {
         let b = match band {
             Ok(b) => b,
@@ -479,6 +493,29 @@ pub fn judge_bands(
     ui_rate: Option<f64>,
     limits: &[JitterLimit],
 ) -> Result<Vec<JudgedBand>> {
+    judge_bands_with(
+        spectrum,
+        bands,
+        setup,
+        ui_rate,
+        limits,
+        &crate::decision::DecisionRule::default(),
+    )
+}
+
+/// Why a jitter verdict has no probability of conformance.
+pub const JITTER_NO_DISTRIBUTION: &str = "the band's jitter is integrated from a table with no \
+stated uncertainty, or from a record's spectrum, which carries no EDF in tauwise";
+
+/// [`judge_bands`] with a decision rule ([`JitterLimit::judge_with`]).
+pub fn judge_bands_with(
+    spectrum: &Spectrum,
+    bands: &[Band],
+    setup: &JitterSetup,
+    ui_rate: Option<f64>,
+    limits: &[JitterLimit],
+    rule: &crate::decision::DecisionRule,
+) -> Result<Vec<JudgedBand>> {
     if !(limits.len() <= 1 || limits.len() == bands.len()) {
         return Err(Error::option(
             "--limit",
@@ -499,7 +536,7 @@ pub fn judge_bands(
                 (Err(e), None) => Err(e),
                 (o, _) => {
                     let o = o.map_err(|e| e.to_string());
-                    let j = limit.map(|l| l.judge(o.as_ref().map_err(|e| e.as_str())));
+                    let j = limit.map(|l| l.judge_with(o.as_ref().map_err(|e| e.as_str()), rule));
                     Ok((o, j))
                 }
             }

@@ -83,6 +83,11 @@ pub struct MaskCheck {
     pub violations: Vec<Violation>,
     /// What the tool cannot know about formal compliance.
     pub conditions: &'static str,
+    /// TDEV masks: every checked τ with its value, limit, EDF and
+    /// probability of conformance ([`crate::decision`]); empty (and absent
+    /// in JSON) for MTIE, which has no distribution here.
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub checked_points: Vec<crate::decision::CheckedPoint>,
 }
 
 impl MaskCheck {
@@ -165,5 +170,6 @@ pub fn check_mask(mask: &Mask, curve: &[(f64, f64)], support: &Support) -> MaskC
             })
             .collect(),
         conditions: CONDITIONS_NOTE,
+        checked_points: Vec::new(),
     }
 }

@@ -72,6 +72,9 @@ pub struct Options {
     pub filter: Option<te::filter::MeasurementFilter>,
     /// Compute the time-error metrics ([`te`]) too, with these options.
     pub te: Option<te::TeOptions>,
+    /// The decision rule of the mask verdicts ([`crate::decision`]; simple
+    /// by default).
+    pub decision: crate::decision::DecisionRule,
 }
 
 /// The averaging factors of one metric's curve for a record of `points`
@@ -239,6 +242,7 @@ pub fn analyse(rec: &PhaseRecord, opts: &Options, masks: &[Mask]) -> Result<Wand
         remove,
         masks,
         Some(&own),
+        &opts.decision,
     )?;
     if let Some(f) = &filtered {
         res.filter = Some(f.applied.clone());
@@ -262,7 +266,15 @@ pub fn analyse_at(
     remove_offset: bool,
     masks: &[Mask],
 ) -> Result<WanderResult> {
-    run(rec, mtie_at, tdev_at, remove_offset, masks, None)
+    run(
+        rec,
+        mtie_at,
+        tdev_at,
+        remove_offset,
+        masks,
+        None,
+        &crate::decision::DecisionRule::default(),
+    )
 }
 
 /// The analysis; `own[k]`, when given, are the averaging factors mask k is
@@ -274,6 +286,7 @@ fn run(
     remove_offset: bool,
     masks: &[Mask],
     own: Option<&[Vec<usize>]>,
+    rule: &crate::decision::DecisionRule,
 ) -> Result<WanderResult> {
     let valid = rec.x.iter().filter(|v| !v.is_nan()).count();
     if valid < 2 {
@@ -317,14 +330,50 @@ fn run(
             .map(|p| (p.tau, p.value))
             .collect()
     };
+    // The EDF of each TDEV point a mask checks (the noise identified at
+    // that τ alone, as `stability` annotates TDEV), for the probability of
+    // conformance.
+    let tdev_edf: Vec<Option<f64>> = if masks.iter().any(|m| m.metric == Metric::Tdev) {
+        tdev_edfs(rec, &tdev)
+    } else {
+        Vec::new()
+    };
     let checks = masks
         .iter()
         .enumerate()
         .map(|(k, m)| {
             let keep = own.map(|o| &o[k]);
             match m.metric {
-                Metric::Mtie => check::check_mask(m, &curve(&mtie, keep), mtie_at.1),
-                Metric::Tdev => check::check_mask(m, &curve(&tdev, keep), tdev_at.1),
+                Metric::Mtie => {
+                    let mut c = check::check_mask(m, &curve(&mtie, keep), mtie_at.1);
+                    rule.decide(
+                        &mut c.judgement,
+                        crate::decision::Probabilities::Unavailable(MTIE_NO_DISTRIBUTION),
+                    );
+                    c
+                }
+                Metric::Tdev => {
+                    let pts = curve(&tdev, keep);
+                    let mut c = check::check_mask(m, &pts, tdev_at.1);
+                    c.checked_points = pts
+                        .iter()
+                        .filter(|(t, _)| t.is_finite() && *t > 0.0)
+                        .filter_map(|&(t, v)| {
+                            let l = m.limit(t)?;
+                            let edf = tdev
+                                .iter()
+                                .position(|e| e.tau == t)
+                                .and_then(|i| tdev_edf[i]);
+                            Some(crate::decision::CheckedPoint::sigma(t, v, l, edf))
+                        })
+                        .collect();
+                    let probs = crate::decision::point_probabilities(&c.checked_points);
+                    rule.decide(
+                        &mut c.judgement,
+                        crate::decision::Probabilities::Points(&probs),
+                    );
+                    c
+                }
             }
         })
         .collect();
@@ -337,4 +386,28 @@ fn run(
         te: None,
         observation: None,
     })
+}
+
+/// Why an MTIE verdict has no probability of conformance.
+pub const MTIE_NO_DISTRIBUTION: &str = "MTIE is the largest time-error excursion of this one \
+record, and tauwise has no distribution for it";
+
+/// The EDF of each TDEV estimate of `rec` (in order): the noise type
+/// identified at its τ ([`crate::stats::NoiseIdentifier`], the record and
+/// that τ alone) and the TDEV rule of [`crate::stats::annotate::point_edf`]
+/// — the EDF `stability --dev tdev` prints. `None` where no noise type was
+/// identified or the estimator has no rule for it.
+fn tdev_edfs(rec: &PhaseRecord, tdev: &[Estimate]) -> Vec<Option<f64>> {
+    use crate::stats::annotate::{identification_factor, point_edf};
+    let ids = crate::stats::NoiseIdentifier::new(rec);
+    tdev.iter()
+        .map(|e| {
+            if !e.value.is_finite() {
+                return None;
+            }
+            let m_id = identification_factor(Estimator::Tdev, e, rec.tau0);
+            let id = ids.at(m_id)?;
+            point_edf(Estimator::Tdev, rec.len(), rec.tau0, e, &id)
+        })
+        .collect()
 }

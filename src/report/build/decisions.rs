@@ -41,6 +41,7 @@ pub(super) fn wander(dut: &Dut, records: &[Loaded], ties: &[Loaded], r: &mut Rep
         remove_offset: w.remove_offset,
         filter: w.te_filter,
         te: w.te,
+        decision: r.decision,
     };
     let res = match crate::wander::analyse(&rec, &opts, &masks) {
         Ok(x) => x,
@@ -248,6 +249,7 @@ pub(super) fn holdover(
     let mut settings_used = None;
     for &span in &h.spans {
         let mut settings = Settings::new(span, h.budget);
+        settings.decision = r.decision;
         if let Some(p) = h.paths {
             settings.paths = p;
         }

@@ -194,7 +194,7 @@ pub(super) fn phase_noise(
         // The same judgement as `tauwise jitter --limit` on the same band.
         let judgement = j
             .limit
-            .map(|l| l.judge(result.as_ref().map_err(|e| e.as_str())));
+            .map(|l| l.judge_with(result.as_ref().map_err(|e| e.as_str()), &r.decision));
         match result {
             Ok(b) => {
                 let row = JitterRow {

@@ -143,7 +143,7 @@ pub(super) fn check(
                     bias_correction: true,
                 };
                 let source = format!("the record '{}' as prepared", rec.src.name);
-                for c in crate::limits::check_sigma(&x, &req, &sigma)? {
+                for c in crate::limits::check_sigma_with(&x, &req, &sigma, &r.decision)? {
                     r.verdicts.push(verdict_line(&c, &source));
                 }
             }
@@ -162,7 +162,7 @@ pub(super) fn check(
             }
             Some(t) => {
                 let source = format!("the table '{}'", t.src.name);
-                for c in crate::limits::check_lf(&t.table.spectrum, &lf)? {
+                for c in crate::limits::check_lf_with(&t.table.spectrum, &lf, &r.decision)? {
                     r.verdicts.push(verdict_line(&c, &source));
                 }
             }

@@ -30,6 +30,24 @@ pub struct BuildOptions {
     pub estimators: Vec<Estimator>,
     /// τ grid for the stability section.
     pub grid: TauGrid,
+    /// The decision rule given on the command line (overrides the DUT
+    /// file's `decision_rule`).
+    pub decision_rule: Option<crate::decision::Rule>,
+    /// The conformance level given on the command line (overrides the DUT
+    /// file's `conformance`).
+    pub conformance: Option<f64>,
+}
+
+impl BuildOptions {
+    /// The decision rule of `dut`'s verdicts: the command line's rule and
+    /// level where given, else the DUT file's, else simple at 0.95.
+    pub fn decision_for(&self, dut: &Dut) -> crate::decision::DecisionRule {
+        let base = dut.decision.unwrap_or_default();
+        crate::decision::DecisionRule {
+            rule: self.decision_rule.unwrap_or(base.rule),
+            conformance: self.conformance.unwrap_or(base.conformance),
+        }
+    }
 }
 
 impl Default for BuildOptions {
@@ -43,6 +61,8 @@ impl Default for BuildOptions {
                 Estimator::Tdev,
             ],
             grid: TauGrid::Octave,
+            decision_rule: None,
+            conformance: None,
         }
     }
 }
@@ -131,6 +151,17 @@ pub fn from_dut_with_progress(
     let mut r = Report::empty(&dut.name, "");
     r.description = dut.description.clone();
     r.dut_file = Some(dut.file.display().to_string());
+    r.decision = opts.decision_for(dut);
+    r.methods.push(method(
+        &format!(
+            "Decision rule: {}. Each verdict also gives the probability that the true value \
+             is within its limit (P(σ ≤ limit) from χ² with the point's EDF; holdover: the \
+             fraction of Monte Carlo paths within the budget through the span), where the \
+             quantity has a distribution.",
+            r.decision.words()
+        ),
+        crate::decision::REFERENCE,
+    ));
 
     // Inputs: read and hash every file.
     let mut records = Vec::new();

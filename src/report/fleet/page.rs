@@ -122,8 +122,26 @@ fn cell(h: &mut Html, c: &crate::results::MatrixCell) {
         Verdict::Meets => ("pass", "meets"),
         Verdict::Exceeds => ("fail", "exceeds"),
         Verdict::NotJudged => ("none", "not judged"),
+        Verdict::Undecided => ("undecided", "undecided"),
     };
     h.raw(&format!("<td><span class=\"badge {class}\">{word}</span>"));
+    // The decision rule's probability (crate::decision): "P = 99.7 %", or
+    // "meets at the estimate, P = 62.0 %" beside `undecided`.
+    let p = match (c.at_estimate, c.probability) {
+        (Some(e), Some(p)) => format!(
+            "{} at the estimate, {}",
+            e.name(),
+            crate::decision::p_words(p)
+        ),
+        (Some(e), None) => format!("{} at the estimate", e.name()),
+        (None, Some(p)) => crate::decision::p_words(p),
+        (None, None) => String::new(),
+    };
+    if !p.is_empty() {
+        h.raw(" <span class=\"probability\">")
+            .text(&p)
+            .raw("</span>");
+    }
     if v != Verdict::NotJudged && c.coverage == Some(crate::verdict::Coverage::Partial) {
         h.raw(" <span class=\"partial\">partial coverage</span>");
     }
