@@ -10,9 +10,9 @@ use tauwise::results::{RecordInput, WanderBody};
 use tauwise::tau::TauGrid;
 use tauwise::units::UnitError;
 use tauwise::verdict::gate;
-use tauwise::wander::masks::builtin;
+use tauwise::wander::masks::{builtin, builtin_file, builtin_list};
 use tauwise::wander::te::{TeOptions, DEFAULT_CTE_WINDOW};
-use tauwise::wander::{analyse, Options};
+use tauwise::wander::{analyse_limits, Options};
 use tauwise::Result;
 
 /// MTIE, TDEV and TIE statistics against wander masks.
@@ -22,8 +22,12 @@ use tauwise::Result;
 (.svg or .png).")))]
 pub struct Args {
     /// Input file of phase (time error) readings (`-` reads standard input).
-    #[arg(value_name = "FILE")]
-    pub file: PathBuf,
+    #[arg(value_name = "FILE", required_unless_present = "list_masks")]
+    pub file: Option<PathBuf>,
+    /// List the built-in limits (name, metrics, Recommendation and source
+    /// note) and exit.
+    #[arg(long)]
+    pub list_masks: bool,
     #[command(flatten)]
     pub input: InputArgs,
     /// τ grid: octave, decade, all, log:N or a list of durations, used as
@@ -35,7 +39,9 @@ pub struct Args {
     /// say which part of each mask they covered.
     #[arg(long, value_name = "FROM:TO", value_parser = parse_tau_range)]
     pub tau_range: Option<(f64, f64)>,
-    /// Built-in mask to check (repeatable): g811, g8272-prtc-a, g8262-opt1.
+    /// Built-in limit to check (repeatable), used exactly as a limit file:
+    /// g811, g812-type1, g8262-opt1, g8272-prtc-a, g8272-prtc-b,
+    /// g8272.1-eprtc, g8273.2-class-a/-b/-c (--list-masks describes them).
     #[arg(long = "mask", value_name = "NAME", value_parser = mask_name)]
     pub masks: Vec<String>,
     /// Limit file to check (repeatable; TOML, see docs/limit-file.md): its
@@ -69,17 +75,31 @@ pub struct Args {
 
 /// Run `wander`.
 pub fn run(args: Args) -> Result<Outcome> {
-    args.output.check(&[&args.file], &args.plot)?;
-    // Masks first: a bad name or file fails before the record is read.
-    let mut masks = Vec::new();
+    let Some(file) = args.file.clone().filter(|_| !args.list_masks) else {
+        for b in builtin_list()? {
+            println!("{}  [{}]", b.name, b.metrics.join(", "));
+            println!("  {}", b.note);
+        }
+        println!();
+        println!("Every break point: docs/time-error.md. {}", tauwise::DECISION_CAUTION);
+        return Ok(Outcome::Done);
+    };
+    args.output.check(&[&file], &args.plot)?;
+    // Limits first: a bad name or file fails before the record is read.
+    // A built-in is a limit file like the user's.
+    let mut limits = Vec::new();
     for name in &args.masks {
-        masks.extend(builtin(name)?);
+        limits.extend(builtin_file(name)?.limits);
     }
     let (set, elsewhere) = tauwise::limits::read_for(&args.mask_files, "wander")?;
-    masks.extend(set.iter().filter_map(tauwise::limits::Limit::as_mask));
+    limits.extend(set);
+    let masks: Vec<_> = limits
+        .iter()
+        .filter_map(tauwise::limits::Limit::as_mask)
+        .collect();
     let progress = super::common::Progress::start("wander");
-    progress.stage(format!("reading {}", args.file.display()));
-    let series = args.input.load(&args.file)?;
+    progress.stage(format!("reading {}", file.display()));
+    let series = args.input.load(&file)?;
     progress.stage("computing");
     let rec = series.record.to_phase();
     let opts = Options {
@@ -92,11 +112,16 @@ pub fn run(args: Args) -> Result<Outcome> {
             ..TeOptions::default()
         }),
     };
-    let res = analyse(&rec, &opts, &masks)?;
+    let res = analyse_limits(&rec, &opts, &masks, &limits)?;
     let title = series.info.path.display().to_string();
     args.plot
         .draw(|| Ok(tauwise::plot::wander::wander_chart(&res, &masks, &title)))?;
-    let gate = gate(res.checks.iter().map(|c| &c.judgement));
+    let gate = gate(
+        res.checks
+            .iter()
+            .map(|c| &c.judgement)
+            .chain(res.te_checks.iter().map(|c| &c.judgement)),
+    );
     let body = WanderBody::new(res).with_elsewhere(elsewhere);
     args.output.write(
         (&series).into(),

@@ -25,7 +25,16 @@ pub(super) fn read(dut: &Dut) -> Result<Vec<Limit>> {
 /// The verdict line of one check, `source` the record or table it ran on.
 pub fn verdict_line(c: &LimitCheck, source: &str) -> VerdictLine {
     let judged = c.judgement.verdict != Verdict::NotJudged;
-    let mut result = if judged {
+    let mut result = if judged && c.metric.is_single() {
+        format!(
+            "measured/limit {:.3} ({}); {} of {source}",
+            c.worst_ratio.unwrap_or(f64::NAN),
+            c.worst_margin_db
+                .map(format_margin_db)
+                .unwrap_or_else(|| "no margin".into()),
+            c.checked_words()
+        )
+    } else if judged {
         let worst = match (c.worst_ratio, c.worst_at) {
             (Some(r), Some(at)) => {
                 let at = format!("{} = {}", c.axis.symbol(), format_si(at, c.axis.unit(), 4));
