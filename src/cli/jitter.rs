@@ -9,6 +9,7 @@ use std::path::{Path, PathBuf};
 use tauwise::io::filter_set::assemble_weightings;
 use tauwise::io::lf_table::{read_lf_table, read_spurs, LfTable, TableOptions, TableQuantity};
 use tauwise::parse::{Filter, Frequency};
+use tauwise::limits::ValueKind;
 use tauwise::plot::phase_noise::{jitter_chart, TraceKind};
 use tauwise::results::{JitterBand, JitterBody, JitterTrace, SPUR_CONVENTION};
 use tauwise::spectrum::jitter::{
@@ -282,14 +283,16 @@ pub fn run(args: Args) -> Result<Outcome> {
         Some(_) => TraceKind::RecordSpectrum,
     };
     args.plot.draw(|| {
-        jitter_chart(
+        let mut chart = jitter_chart(
             &trace.source,
             carrier,
             &trace.drawn,
             kind,
             &drawn,
             &found_spurs,
-        )
+        )?;
+        tauwise::plot::limit_lines::add_limits(&mut chart, &limit_set, ValueKind::DbcHz);
+        Ok(chart)
     })?;
     let body = JitterBody {
         carrier,

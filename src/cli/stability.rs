@@ -142,13 +142,26 @@ pub fn run(args: Args) -> Result<Outcome> {
     }
     if let Some(path) = &args.plot.plot {
         let best_curve = best_points.as_deref().map(tauwise::stability::best_curve);
-        let (main, time) = stability_charts(
+        let (mut main, mut time) = stability_charts(
             &series.info.path.display().to_string(),
             &curves,
             &measured,
             request.confidence,
             best_curve.as_ref(),
         );
+        // Each limit on the chart of its values: σ_y on the main chart
+        // (when it shows σ_y), time deviations on theirs.
+        let main_is_time = curves.iter().all(|c| c.estimator.is_time_deviation());
+        use tauwise::limits::ValueKind;
+        use tauwise::plot::limit_lines::add_limits;
+        if main_is_time {
+            add_limits(&mut main, &limit_set, ValueKind::Duration);
+        } else {
+            add_limits(&mut main, &limit_set, ValueKind::Fraction);
+        }
+        if let Some(t) = time.as_mut() {
+            add_limits(t, &limit_set, ValueKind::Duration);
+        }
         tauwise::plot::render(&main, path, (960, 600))?;
         // Time deviations beside σ_y curves: their own chart, FILE-time.EXT.
         if let Some(time) = time {

@@ -748,25 +748,36 @@ pub fn check_lf(table: &Spectrum, limits: &[Limit]) -> Result<Vec<LimitCheck>> {
         fb,
         "the table's highest offset",
     );
-    let linear: Vec<f64> = lf.values.iter().map(|v| 10f64.powf(v / 10.0)).collect();
-    let trace = crate::spectrum::loglog::LogLog::new(&lf.f, &linear)?;
     let mut out = Vec::new();
     for limit in limits.iter().filter(|l| l.metric == LimitMetric::Lf) {
-        let mut pts: Vec<(f64, f64)> =
-            lf.f.iter()
-                .copied()
-                .zip(lf.values.iter().copied())
-                .collect();
-        for &(f, _) in &limit.points {
-            if let Some(v) = trace.eval(f, crate::spectrum::loglog::Extend::No) {
-                pts.push((f, 10.0 * v.log10()));
-            }
-        }
-        pts.sort_by(|a, b| a.0.total_cmp(&b.0));
-        pts.dedup_by(|a, b| a.0 == b.0);
+        let pts = lf_points(&lf, limit)?;
         out.push(check_limit(limit, &pts, &support));
     }
     Ok(out)
+}
+
+/// The (offset Hz, L dBc/Hz) points an `lf` limit is checked at on an L(f)
+/// table (already L(f)): the table's own points, and the table's
+/// interpolation (dB linear in log f) at each of the limit's offsets inside
+/// the table, in increasing offset — what [`check_lf`] checks, and what
+/// the report's L(f)-against-limit table lists.
+pub fn lf_points(lf: &Spectrum, limit: &Limit) -> Result<Vec<(f64, f64)>> {
+    let linear: Vec<f64> = lf.values.iter().map(|v| 10f64.powf(v / 10.0)).collect();
+    let trace = crate::spectrum::loglog::LogLog::new(&lf.f, &linear)?;
+    let mut pts: Vec<(f64, f64)> = lf
+        .f
+        .iter()
+        .copied()
+        .zip(lf.values.iter().copied())
+        .collect();
+    for &(f, _) in &limit.points {
+        if let Some(v) = trace.eval(f, crate::spectrum::loglog::Extend::No) {
+            pts.push((f, 10.0 * v.log10()));
+        }
+    }
+    pts.sort_by(|a, b| a.0.total_cmp(&b.0));
+    pts.dedup_by(|a, b| a.0 == b.0);
+    Ok(pts)
 }
 
 /// The metrics of `limits` that `command` does not check, each with the

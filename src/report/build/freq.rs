@@ -316,6 +316,9 @@ pub(super) fn phase_noise(
         },
         bands: rows,
         notes,
+        limits: Vec::new(),
+        limit_checks: Vec::new(),
+        limit_rows: Vec::new(),
     });
     Ok(())
 }
