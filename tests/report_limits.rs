@@ -146,3 +146,46 @@ fn plots_from_the_command_line_draw_the_limits() {
     let svg = fs::read_to_string(d.join("j.svg")).unwrap();
     assert!(svg.contains("limit lab L(f)"), "no limit line on the L(f) chart");
 }
+
+/// Analytic (direct formula): a time record sampled once per carrier
+/// period (τ0 = 1/ν0) has period jitter = the standard deviation of its
+/// first differences x_{k+1} − x_k; when a `[[jitter]]` band asks for
+/// period jitter, the report gives it for the record (the library function
+/// of `jitter --record --period`), equal to the direct computation here.
+#[test]
+fn report_gives_period_jitter_from_the_record() {
+    use rand::{Rng, SeedableRng};
+    let dir = tempfile::tempdir().unwrap();
+    let d = dir.path();
+    let mut rng = rand_chacha::ChaCha8Rng::seed_from_u64(21);
+    let x: Vec<f64> = (0..4000).map(|_| 2e-12 * rng.gen_range(-1.0..1.0)).collect();
+    let text: String = x.iter().map(|v| format!("{}\n", v * 1e12)).collect();
+    fs::write(d.join("clk.csv"), text).unwrap();
+    fs::write(d.join("lf.csv"), "1000,-140\n10000000,-150\n").unwrap();
+    fs::write(
+        d.join("unit.toml"),
+        "[device]\nname = \"unit\"\ncarrier = \"100MHz\"\n\
+         [[record]]\nname = \"clk\"\npath = \"clk.csv\"\ntau0 = \"10ns\"\nunits = \"ps\"\ndrift = \"none\"\n\
+         [[phase_noise]]\npath = \"lf.csv\"\n\
+         [[jitter]]\nband = \"12kHz:20MHz\"\nperiod = true\n",
+    )
+    .unwrap();
+    let rep = from_dut(
+        &Dut::read(&d.join("unit.toml")).unwrap(),
+        &BuildOptions::default(),
+    )
+    .unwrap();
+    let Part::Done(pn) = &rep.phase_noise else {
+        panic!("phase noise missing: {:?}", rep.phase_noise)
+    };
+    let note = pn
+        .notes
+        .iter()
+        .find(|n| n.starts_with("Record clk: period jitter"))
+        .unwrap_or_else(|| panic!("{:?}", pn.notes));
+    let dx: Vec<f64> = x.windows(2).map(|w| w[1] - w[0]).collect();
+    let mean = dx.iter().sum::<f64>() / dx.len() as f64;
+    let sd = (dx.iter().map(|v| (v - mean).powi(2)).sum::<f64>() / (dx.len() - 1) as f64).sqrt();
+    let shown = tauwise::units::format_si(sd, "s", 4);
+    assert!(note.contains(&shown), "{note} vs {shown}");
+}
