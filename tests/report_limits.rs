@@ -70,7 +70,12 @@ fn report_checks_every_record_and_every_table() {
     assert_eq!(sigma.len(), 2, "{:?}", rep.verdicts);
     assert_eq!(sigma[0].judgement.verdict, Verdict::Meets, "{:?}", sigma[0]);
     assert!(sigma[0].result.contains("'a'"), "{}", sigma[0].result);
-    assert_eq!(sigma[1].judgement.verdict, Verdict::Exceeds, "{:?}", sigma[1]);
+    assert_eq!(
+        sigma[1].judgement.verdict,
+        Verdict::Exceeds,
+        "{:?}",
+        sigma[1]
+    );
     assert!(sigma[1].result.contains("'b'"), "{}", sigma[1].result);
     let lf: Vec<&VerdictLine> = rep
         .verdicts
@@ -108,9 +113,18 @@ fn report_checks_every_record_and_every_table() {
     }
     assert!(pn.chart().series.iter().any(|s| s.name == "limit lab L(f)"));
     let html = render_html(&rep).unwrap();
-    assert!(html.contains("limit at τ (measured/limit)"), "σ–τ column missing");
-    assert!(html.contains("L(f) against the limits"), "L(f) limit table missing");
-    assert!(html.contains("limit lab ADEV"), "limit line not in the chart's legend");
+    assert!(
+        html.contains("limit at τ (measured/limit)"),
+        "σ–τ column missing"
+    );
+    assert!(
+        html.contains("L(f) against the limits"),
+        "L(f) limit table missing"
+    );
+    assert!(
+        html.contains("limit lab ADEV"),
+        "limit line not in the chart's legend"
+    );
 }
 
 /// The command line draws the same lines: `stability --plot` with a σ
@@ -135,7 +149,10 @@ fn plots_from_the_command_line_draw_the_limits() {
         .unwrap();
     assert!(o.status.success(), "{}", common::stderr(&o));
     let svg = fs::read_to_string(d.join("s.svg")).unwrap();
-    assert!(svg.contains("limit lab ADEV"), "no limit line on the σ–τ chart");
+    assert!(
+        svg.contains("limit lab ADEV"),
+        "no limit line on the σ–τ chart"
+    );
     let o = tauwise()
         .current_dir(d)
         .args(["jitter", "lf.csv", "--carrier", "10MHz"])
@@ -144,7 +161,10 @@ fn plots_from_the_command_line_draw_the_limits() {
         .unwrap();
     assert!(o.status.success(), "{}", common::stderr(&o));
     let svg = fs::read_to_string(d.join("j.svg")).unwrap();
-    assert!(svg.contains("limit lab L(f)"), "no limit line on the L(f) chart");
+    assert!(
+        svg.contains("limit lab L(f)"),
+        "no limit line on the L(f) chart"
+    );
 }
 
 /// Analytic (direct formula): a time record sampled once per carrier
@@ -158,7 +178,9 @@ fn report_gives_period_jitter_from_the_record() {
     let dir = tempfile::tempdir().unwrap();
     let d = dir.path();
     let mut rng = rand_chacha::ChaCha8Rng::seed_from_u64(21);
-    let x: Vec<f64> = (0..4000).map(|_| 2e-12 * rng.gen_range(-1.0..1.0)).collect();
+    let x: Vec<f64> = (0..4000)
+        .map(|_| 2e-12 * rng.gen_range(-1.0..1.0))
+        .collect();
     let text: String = x.iter().map(|v| format!("{}\n", v * 1e12)).collect();
     fs::write(d.join("clk.csv"), text).unwrap();
     fs::write(d.join("lf.csv"), "1000,-140\n10000000,-150\n").unwrap();

@@ -112,13 +112,19 @@ fn every_builtin_break_point_has_its_documented_value() {
         let l = limit_of(name, metric);
         assert!(l.metric.is_single());
         let got = l.single_value().unwrap();
-        assert!((got - want).abs() <= 1e-12 * want, "{name} {metric}: {got:e}");
+        assert!(
+            (got - want).abs() <= 1e-12 * want,
+            "{name} {metric}: {got:e}"
+        );
     }
     // Every built-in names its Recommendation and says it is recalled.
     for n in BUILTIN_NAMES {
         let f = builtin_file(n).unwrap();
         let note = f.note.unwrap();
-        assert!(note.starts_with("ITU-T G.8") || note.starts_with("ITU-T G.81"), "{note}");
+        assert!(
+            note.starts_with("ITU-T G.8") || note.starts_with("ITU-T G.81"),
+            "{note}"
+        );
         assert!(note.contains(FROM_MEMORY_NOTE), "{note}");
     }
 }
@@ -140,9 +146,19 @@ fn a_curve_on_the_edge_passes_at_the_break_and_fails_just_beyond() {
                 let v = shape.eval(t).unwrap();
                 let sup = Support::unbounded(t);
                 let on = check_limit(&l, &[(t, v)], &sup);
-                assert_eq!(on.verdict(), Verdict::Meets, "{n} {} at {t}", l.metric.name());
+                assert_eq!(
+                    on.verdict(),
+                    Verdict::Meets,
+                    "{n} {} at {t}",
+                    l.metric.name()
+                );
                 let over = check_limit(&l, &[(t, v * (1.0 + 1e-6))], &sup);
-                assert_eq!(over.verdict(), Verdict::Exceeds, "{n} {} at {t}", l.metric.name());
+                assert_eq!(
+                    over.verdict(),
+                    Verdict::Exceeds,
+                    "{n} {} at {t}",
+                    l.metric.name()
+                );
             }
         }
     }
@@ -182,7 +198,10 @@ fn max_te_on_the_edge() {
     assert_eq!(c.judgement.coverage, Coverage::Full);
     assert!((c.worst_ratio.unwrap() - 1.0).abs() < 1e-12);
     let beyond = run(vec![-40.4 * NS; 600], 1.0, &["g8272-prtc-b"]);
-    assert_eq!(te_check(&beyond, TeMetric::MaxTe).verdict(), Verdict::Exceeds);
+    assert_eq!(
+        te_check(&beyond, TeMetric::MaxTe).verdict(),
+        Verdict::Exceeds
+    );
 }
 
 fn noise(n: usize, seed: u64, sd: f64) -> Vec<f64> {
@@ -237,7 +256,11 @@ fn dte_l_of_a_ramp_on_the_edge() {
     let c = te_check(&under, TeMetric::DteL);
     assert_eq!(c.verdict(), Verdict::Meets, "{c:?}");
     assert_eq!(c.judgement.coverage, Coverage::Full);
-    assert!((c.worst_ratio.unwrap() - 0.98).abs() < 0.01, "{:?}", c.worst_ratio);
+    assert!(
+        (c.worst_ratio.unwrap() - 0.98).abs() < 0.01,
+        "{:?}",
+        c.worst_ratio
+    );
     assert_eq!(c.worst_at, Some(1000.0));
     let over = run(ramp(1.02), 1.0, &["g8273.2-class-a"]);
     let c = te_check(&over, TeMetric::DteL);

@@ -8,8 +8,8 @@ use clap::Args as ClapArgs;
 use std::path::{Path, PathBuf};
 use tauwise::io::filter_set::assemble_weightings;
 use tauwise::io::lf_table::{read_lf_table, read_spurs, LfTable, TableOptions, TableQuantity};
-use tauwise::parse::{Filter, Frequency};
 use tauwise::limits::ValueKind;
+use tauwise::parse::{Filter, Frequency};
 use tauwise::plot::phase_noise::{jitter_chart, TraceKind};
 use tauwise::results::{JitterBand, JitterBody, JitterTrace, SPUR_CONVENTION};
 use tauwise::spectrum::jitter::{

@@ -81,7 +81,10 @@ pub fn run(args: Args) -> Result<Outcome> {
             println!("  {}", b.note);
         }
         println!();
-        println!("Every break point: docs/time-error.md. {}", tauwise::DECISION_CAUTION);
+        println!(
+            "Every break point: docs/time-error.md. {}",
+            tauwise::DECISION_CAUTION
+        );
         return Ok(Outcome::Done);
     };
     args.output.check(&[&file], &args.plot)?;

@@ -26,9 +26,9 @@
 //! syntax is refused with its TOML form ([`super::legacy`]).
 
 use super::{Limit, LimitMetric, ValueKind};
-use crate::wander::masks::Segment;
 use crate::io::{ReadCause, ReadError};
 use crate::units::{self, UnitError};
+use crate::wander::masks::Segment;
 use serde::{Deserialize, Serialize};
 use std::path::Path;
 use toml::Spanned;
@@ -203,19 +203,28 @@ pub fn parse_limit_file(text: &str, path: &Path) -> crate::Result<LimitFile> {
             if let Some(p) = &e.points {
                 return Err(at(
                     p.span().start,
-                    format!("limit[{k}].points: metric {} takes `max` only: expected no points", metric.name()),
+                    format!(
+                        "limit[{k}].points: metric {} takes `max` only: expected no points",
+                        metric.name()
+                    ),
                 ));
             }
             if let Some(p) = &e.segments {
                 return Err(at(
                     p.span().start,
-                    format!("limit[{k}].segments: metric {} takes `max` only: expected no segments", metric.name()),
+                    format!(
+                        "limit[{k}].segments: metric {} takes `max` only: expected no segments",
+                        metric.name()
+                    ),
                 ));
             }
             if let Some((_, o)) = &shape_word {
                 return Err(at(
                     *o,
-                    format!("limit[{k}].shape: metric {} takes `max` only: expected no shape", metric.name()),
+                    format!(
+                        "limit[{k}].shape: metric {} takes `max` only: expected no shape",
+                        metric.name()
+                    ),
                 ));
             }
             let v = limit_value(metric, m)
@@ -260,7 +269,9 @@ pub fn parse_limit_file(text: &str, path: &Path) -> crate::Result<LimitFile> {
             if let Some(p) = &e.points {
                 return Err(at(
                     p.span().start,
-                    format!("limit[{k}].points: shape \"formula\" takes segments: expected no points"),
+                    format!(
+                        "limit[{k}].points: shape \"formula\" takes segments: expected no points"
+                    ),
                 ));
             }
             let Some(segs) = &e.segments else {
@@ -450,23 +461,25 @@ fn parse_segments(
             None => 0.0,
         };
         let add = match &r.add {
-            Some(c) => coefficient(metric, c)
-                .map_err(|m| at(c.span().start, format!("{key}.add: {m}")))?,
+            Some(c) => {
+                coefficient(metric, c).map_err(|m| at(c.span().start, format!("{key}.add: {m}")))?
+            }
             None => 0.0,
         };
-        let power = match &r.power {
-            None => 0.0,
-            Some(p) => match p.get_ref() {
-                toml::Value::Integer(i) => *i as f64,
-                toml::Value::Float(f) if f.is_finite() => *f,
-                other => {
-                    return Err(at(
+        let power =
+            match &r.power {
+                None => 0.0,
+                Some(p) => match p.get_ref() {
+                    toml::Value::Integer(i) => *i as f64,
+                    toml::Value::Float(f) if f.is_finite() => *f,
+                    other => return Err(at(
                         p.span().start,
-                        format!("{key}.power: expected a number (the exponent of τ in s), got {other}"),
-                    ))
-                }
-            },
-        };
+                        format!(
+                            "{key}.power: expected a number (the exponent of τ in s), got {other}"
+                        ),
+                    )),
+                },
+            };
         let s = Segment {
             lo,
             hi,

@@ -764,12 +764,11 @@ pub fn check_lf(table: &Spectrum, limits: &[Limit]) -> Result<Vec<LimitCheck>> {
 pub fn lf_points(lf: &Spectrum, limit: &Limit) -> Result<Vec<(f64, f64)>> {
     let linear: Vec<f64> = lf.values.iter().map(|v| 10f64.powf(v / 10.0)).collect();
     let trace = crate::spectrum::loglog::LogLog::new(&lf.f, &linear)?;
-    let mut pts: Vec<(f64, f64)> = lf
-        .f
-        .iter()
-        .copied()
-        .zip(lf.values.iter().copied())
-        .collect();
+    let mut pts: Vec<(f64, f64)> =
+        lf.f.iter()
+            .copied()
+            .zip(lf.values.iter().copied())
+            .collect();
     for &(f, _) in &limit.points {
         if let Some(v) = trace.eval(f, crate::spectrum::loglog::Extend::No) {
             pts.push((f, 10.0 * v.log10()));

@@ -38,7 +38,9 @@ pub fn limit_line(limit: &Limit, lo: f64, hi: f64) -> Option<LimitLine> {
         return None;
     }
     let mut xs: Vec<f64> = if b > a {
-        (0..=200).map(|i| a * (b / a).powf(i as f64 / 200.0)).collect()
+        (0..=200)
+            .map(|i| a * (b / a).powf(i as f64 / 200.0))
+            .collect()
     } else {
         vec![a]
     };
@@ -59,11 +61,7 @@ pub fn limit_line(limit: &Limit, lo: f64, hi: f64) -> Option<LimitLine> {
         .map(|(x, v)| (x, if power { 10.0 * v.log10() } else { v }))
         .filter(|p| p.1.is_finite())
         .collect();
-    let label = format!(
-        "limit {} {}",
-        limit.name,
-        limit.metric.label()
-    );
+    let label = format!("limit {} {}", limit.name, limit.metric.label());
     (!points.is_empty()).then(|| LimitLine {
         name: label,
         kind: limit.metric.values(),

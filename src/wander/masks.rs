@@ -218,12 +218,30 @@ pub const BUILTIN_FILES: [(&str, &str); 9] = [
     ("g811", include_str!("../../limits/g811.toml")),
     ("g812-type1", include_str!("../../limits/g812-type1.toml")),
     ("g8262-opt1", include_str!("../../limits/g8262-opt1.toml")),
-    ("g8272-prtc-a", include_str!("../../limits/g8272-prtc-a.toml")),
-    ("g8272-prtc-b", include_str!("../../limits/g8272-prtc-b.toml")),
-    ("g8272.1-eprtc", include_str!("../../limits/g8272.1-eprtc.toml")),
-    ("g8273.2-class-a", include_str!("../../limits/g8273.2-class-a.toml")),
-    ("g8273.2-class-b", include_str!("../../limits/g8273.2-class-b.toml")),
-    ("g8273.2-class-c", include_str!("../../limits/g8273.2-class-c.toml")),
+    (
+        "g8272-prtc-a",
+        include_str!("../../limits/g8272-prtc-a.toml"),
+    ),
+    (
+        "g8272-prtc-b",
+        include_str!("../../limits/g8272-prtc-b.toml"),
+    ),
+    (
+        "g8272.1-eprtc",
+        include_str!("../../limits/g8272.1-eprtc.toml"),
+    ),
+    (
+        "g8273.2-class-a",
+        include_str!("../../limits/g8273.2-class-a.toml"),
+    ),
+    (
+        "g8273.2-class-b",
+        include_str!("../../limits/g8273.2-class-b.toml"),
+    ),
+    (
+        "g8273.2-class-c",
+        include_str!("../../limits/g8273.2-class-c.toml"),
+    ),
 ];
 
 /// The names of the built-in limits (`--mask NAME`).

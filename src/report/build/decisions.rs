@@ -148,8 +148,10 @@ pub(super) fn wander(dut: &Dut, records: &[Loaded], ties: &[Loaded], r: &mut Rep
         });
     }
     for c in &res.te_checks {
-        r.verdicts
-            .push(super::limits::verdict_line(c, &format!("{} (time error)", l.src.name)));
+        r.verdicts.push(super::limits::verdict_line(
+            c,
+            &format!("{} (time error)", l.src.name),
+        ));
     }
     let mut notes = Vec::new();
     if let Some(f) = &res.filter {

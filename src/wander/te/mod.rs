@@ -27,13 +27,13 @@
 
 pub mod filter;
 
+use super::masks::{Mask, Metric};
 use crate::deviation::{compute, Estimate, Estimator};
 use crate::error::{Error, Result};
+use crate::limits::{Limit, LimitCheck, LimitMetric, TeMetric};
 use crate::record::PhaseRecord;
 use crate::units::format_si;
-use crate::limits::{Limit, LimitCheck, LimitMetric, TeMetric};
 use filter::{AppliedFilter, MeasurementFilter};
-use super::masks::{Mask, Metric};
 use serde::Serialize;
 
 /// Default cTE averaging window, s.
@@ -337,13 +337,16 @@ pub fn metrics_checked(
                 let Some(mask) = te_mask(l) else {
                     continue;
                 };
-                let (own, _) = super::plan(mask.metric, n, r.tau0, grid, std::slice::from_ref(&mask))?;
+                let (own, _) =
+                    super::plan(mask.metric, n, r.tau0, grid, std::slice::from_ref(&mask))?;
                 let (curve, mut support) = if t == TeMetric::DteL {
                     (&m.dte_l_mtie, mtie_support.clone())
                 } else {
                     (&m.dte_l_tdev, tdev_support.clone())
                 };
-                if support.top_why.starts_with("the record") || support.top_why.starts_with("a third") {
+                if support.top_why.starts_with("the record")
+                    || support.top_why.starts_with("a third")
+                {
                     support.top_why = if t == TeMetric::DteL {
                         lp_why.to_string()
                     } else {
