@@ -168,10 +168,7 @@ fn rec(x: Vec<f64>, tau0: f64) -> PhaseRecord {
     PhaseRecord::new(x, tau0).unwrap()
 }
 
-fn te_check<'a>(
-    res: &'a tauwise::wander::WanderResult,
-    m: TeMetric,
-) -> &'a tauwise::limits::LimitCheck {
+fn te_check(res: &tauwise::wander::WanderResult, m: TeMetric) -> &tauwise::limits::LimitCheck {
     res.te_checks
         .iter()
         .find(|c| c.metric == LimitMetric::Te(m))

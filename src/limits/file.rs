@@ -104,10 +104,13 @@ struct RawFile {
 struct RawLimit {
     metric: Spanned<String>,
     shape: Option<Spanned<String>>,
-    points: Option<Spanned<Vec<Spanned<Vec<Spanned<toml::Value>>>>>>,
+    points: Option<RawPoints>,
     segments: Option<Spanned<Vec<Spanned<RawSegment>>>>,
     max: Option<Spanned<toml::Value>>,
 }
+
+/// The `points` array as read, each pair with its place in the file.
+type RawPoints = Spanned<Vec<Spanned<Vec<Spanned<toml::Value>>>>>;
 
 /// One formula segment: `limit(τ) = coef·(τ/1 s)^power + add` on
 /// `(from, to]`.
@@ -466,20 +469,21 @@ fn parse_segments(
             }
             None => 0.0,
         };
-        let power =
-            match &r.power {
-                None => 0.0,
-                Some(p) => match p.get_ref() {
-                    toml::Value::Integer(i) => *i as f64,
-                    toml::Value::Float(f) if f.is_finite() => *f,
-                    other => return Err(at(
+        let power = match &r.power {
+            None => 0.0,
+            Some(p) => match p.get_ref() {
+                toml::Value::Integer(i) => *i as f64,
+                toml::Value::Float(f) if f.is_finite() => *f,
+                other => {
+                    return Err(at(
                         p.span().start,
                         format!(
                             "{key}.power: expected a number (the exponent of τ in s), got {other}"
                         ),
-                    )),
-                },
-            };
+                    ))
+                }
+            },
+        };
         let s = Segment {
             lo,
             hi,
