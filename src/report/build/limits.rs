@@ -75,10 +75,20 @@ pub fn verdict_line(c: &LimitCheck, source: &str) -> VerdictLine {
         },
         item: c.label(),
         criterion: format!(
-            "{} below the limit of {} (line {}) wherever it sets one{}",
+            "{} {} the limit of {} (line {}){}{}",
             c.metric.label(),
+            if c.metric.is_single() {
+                "over the record at or below"
+            } else {
+                "below"
+            },
             c.file,
             c.line,
+            if c.metric.is_single() {
+                ""
+            } else {
+                " wherever it sets one"
+            },
             c.note
                 .as_ref()
                 .map(|n| format!("; {n}"))
