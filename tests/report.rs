@@ -106,6 +106,8 @@ fn full_report(name: &str) -> Report {
             .collect(),
         confidence: 0.683,
         notes: vec![],
+        limits: vec![],
+        limit_checks: vec![],
     }]);
     r.noise_model = Part::Done(vec![NoiseModelSection {
         source: "rec <1>".into(),
@@ -156,6 +158,9 @@ fn full_report(name: &str) -> Report {
             period: None,
         }],
         notes: vec![],
+        limits: vec![],
+        limit_checks: vec![],
+        limit_rows: vec![],
     });
     r.combined = Part::Done(vec![CombinedSection {
         source: "rec <1>".into(),

@@ -527,6 +527,9 @@ fn report_margins_and_degrees() {
             period: None,
         }],
         notes: vec![],
+        limits: vec![],
+        limit_checks: vec![],
+        limit_rows: vec![],
     });
     r.wander = Part::Done(WanderSection {
         source: "c".into(),

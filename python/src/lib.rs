@@ -649,18 +649,25 @@ fn wander(
             "cte_window goes with te=True (the windowed cTE is one of the time-error metrics)",
         ));
     }
-    let mut mask_list = Vec::new();
+    // A built-in is a limit file like the user's (as `tauwise wander`).
+    let mut limits = Vec::new();
     for name in &masks {
-        mask_list.extend(parse_kw("masks", name, |t| {
-            tauwise::wander::masks::builtin(t).map_err(|e| e.to_string())
-        })?);
+        limits.extend(
+            parse_kw("masks", name, |t| {
+                tauwise::wander::masks::builtin_file(t).map_err(|e| e.to_string())
+            })?
+            .limits,
+        );
     }
     let limit_files = paths(&limit_files);
     let rec = &record.record;
     let (body, gate) = py
         .detach(|| -> tauwise::Result<_> {
             let (set, elsewhere) = tauwise::limits::read_for(&limit_files, "wander")?;
-            mask_list.extend(set.iter().filter_map(tauwise::limits::Limit::as_mask));
+            limits.extend(set);
+            let mask_list: Vec<_> = (limits.iter())
+                .filter_map(tauwise::limits::Limit::as_mask)
+                .collect();
             let x = as_phase(rec);
             let opts = tauwise::wander::Options {
                 grid,
@@ -671,9 +678,14 @@ fn wander(
                     cte_window: cte_window.unwrap_or(DEFAULT_CTE_WINDOW),
                     ..TeOptions::default()
                 }),
+                // The command's default rule (`--decision-rule simple`).
+                decision: Default::default(),
             };
-            let res = tauwise::wander::analyse(&x, &opts, &mask_list)?;
-            let gate = tauwise::verdict::gate(res.checks.iter().map(|c| &c.judgement));
+            let res = tauwise::wander::analyse_limits(&x, &opts, &mask_list, &limits)?;
+            let gate = tauwise::verdict::gate(
+                (res.checks.iter().map(|c| &c.judgement))
+                    .chain(res.te_checks.iter().map(|c| &c.judgement)),
+            );
             Ok((
                 tauwise::results::WanderBody::new(res).with_elsewhere(elsewhere),
                 gate,
@@ -1344,9 +1356,11 @@ fn fleet(py: Python<'_>, parts: Vec<PyRef<'_, DevicePart>>) -> PyResult<(String,
         .iter()
         .map(|d| d.gate)
         .max_by_key(|g| match g {
+            // The order `--fail-on-violation` reports them in.
             tauwise::verdict::Gate::Pass => 0,
-            tauwise::verdict::Gate::NotJudged => 1,
-            tauwise::verdict::Gate::Exceeds => 2,
+            tauwise::verdict::Gate::Undecided => 1,
+            tauwise::verdict::Gate::NotJudged => 2,
+            tauwise::verdict::Gate::Exceeds => 3,
         })
         .unwrap_or(tauwise::verdict::Gate::Pass);
     let (json, _) = FleetDocument::new(m).json().py(py)?;

@@ -359,7 +359,8 @@ class Result:
         self._text = text
         self._dict: Optional[Dict[str, Any]] = None
         #: What ``--fail-on-violation`` makes of the verdicts: ``"pass"``,
-        #: ``"exceeds"`` or ``"not-judged"`` (``None`` where nothing is judged).
+        #: ``"exceeds"``, ``"not-judged"`` or ``"undecided"``
+        #: (``None`` where nothing is judged).
         self.gate = gate
 
     def to_dict(self) -> Dict[str, Any]:
@@ -698,7 +699,7 @@ def wander(
     (``masks``: ``g811``, ``g8272-prtc-a``, ``g8262-opt1``; ``limit_files``
     your own) — ``tauwise wander``. Each verdict says which τ it checked and
     how much of the mask that covers; ``gate`` is ``"pass"``,
-    ``"exceeds"`` or ``"not-judged"``."""
+    ``"exceeds"``, ``"not-judged"`` or ``"undecided"`` (a guarded decision rule)."""
     rec = _record(data, tau0, kind, read_options)
     text, gate = _tauwise.wander(
         rec,

@@ -8,7 +8,9 @@ use clap::Args as ClapArgs;
 use std::path::{Path, PathBuf};
 use tauwise::io::filter_set::assemble_weightings;
 use tauwise::io::lf_table::{read_lf_table, read_spurs, LfTable, TableOptions, TableQuantity};
+use tauwise::limits::ValueKind;
 use tauwise::parse::{Filter, Frequency};
+use tauwise::plot::limit_lines::add_limits;
 use tauwise::plot::phase_noise::{jitter_chart, TraceKind};
 use tauwise::results::{JitterBody, JitterRequest, JitterTrace, LimitsPart};
 use tauwise::spectrum::jitter::{
@@ -254,8 +256,11 @@ pub fn run(args: Args) -> Result<Outcome> {
         Some(_) => TraceKind::RecordSpectrum,
     };
     let spurs = &body.found_spurs;
-    args.plot
-        .draw(|| jitter_chart(&trace.source, carrier, &trace.drawn, kind, &drawn, spurs))?;
+    args.plot.draw(|| {
+        let mut chart = jitter_chart(&trace.source, carrier, &trace.drawn, kind, &drawn, spurs)?;
+        add_limits(&mut chart, &limit_set, ValueKind::DbcHz);
+        Ok(chart)
+    })?;
     let source = &trace.source;
     args.output.write(
         trace.input,

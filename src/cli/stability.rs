@@ -157,7 +157,7 @@ pub fn run(args: Args) -> Result<Outcome> {
         results.push((series.info.path.display().to_string(), r));
     }
     if let Some(path) = &args.plot.plot {
-        let (main, time) = records_charts(&results, request.confidence);
+        let (main, time) = records_charts(&results, request.confidence, &limits);
         tauwise::plot::render(&main, path, (960, 600))?;
         // Time deviations beside σ_y curves: their own chart, FILE-time.EXT.
         if let Some(time) = time {

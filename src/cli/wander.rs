@@ -13,9 +13,9 @@ use tauwise::results::{RecordInput, WanderBody};
 use tauwise::tau::TauGrid;
 use tauwise::units::UnitError;
 use tauwise::verdict::gate;
-use tauwise::wander::masks::builtin;
+use tauwise::wander::masks::{builtin, builtin_file, builtin_list};
 use tauwise::wander::te::{TeOptions, DEFAULT_CTE_WINDOW};
-use tauwise::wander::{analyse, Options};
+use tauwise::wander::{analyse_limits, Options};
 use tauwise::Result;
 
 /// MTIE, TDEV and TIE statistics against wander masks.
@@ -27,8 +27,12 @@ pub struct Args {
     /// Input file of phase (time error) readings (`-` reads standard
     /// input); several files give one block each, and --plot FILE overlays
     /// their MTIE (and their TDEV in FILE-tdev.EXT).
-    #[arg(value_name = "FILE", required = true)]
+    #[arg(value_name = "FILE", required_unless_present = "list_masks")]
     pub files: Vec<PathBuf>,
+    /// List the built-in limits (name, metrics, Recommendation and source
+    /// note) and exit.
+    #[arg(long)]
+    pub list_masks: bool,
     #[command(flatten)]
     pub input: InputArgs,
     /// τ grid: octave, decade, all, log:N or a list of durations, used as
@@ -40,7 +44,9 @@ pub struct Args {
     /// say which part of each mask they covered.
     #[arg(long, value_name = "FROM:TO", value_parser = parse_tau_range)]
     pub tau_range: Option<(f64, f64)>,
-    /// Built-in mask to check (repeatable): g811, g8272-prtc-a, g8262-opt1.
+    /// Built-in limit to check (repeatable), used exactly as a limit file:
+    /// g811, g812-type1, g8262-opt1, g8272-prtc-a, g8272-prtc-b,
+    /// g8272.1-eprtc, g8273.2-class-a/-b/-c (--list-masks describes them).
     #[arg(long = "mask", value_name = "NAME", value_parser = mask_name)]
     pub masks: Vec<String>,
     /// Limit file to check (repeatable; TOML, see docs/limit-file.md): its
@@ -74,6 +80,16 @@ pub struct Args {
 
 /// Run `wander`.
 pub fn run(args: Args) -> Result<Outcome> {
+    if args.list_masks || args.files.is_empty() {
+        for b in builtin_list()? {
+            println!("{}  [{}]\n  {}", b.name, b.metrics.join(", "), b.note);
+        }
+        println!(
+            "\nEvery break point: docs/time-error.md. {}",
+            tauwise::DECISION_CAUTION
+        );
+        return Ok(Outcome::Done);
+    }
     let tdev_plot = (args.files.len() > 1)
         .then(|| args.plot.plot.as_deref().map(|p| suffixed_path(p, "tdev")))
         .flatten();
@@ -84,13 +100,17 @@ pub fn run(args: Args) -> Result<Outcome> {
         tdev_plot.as_deref(),
     ];
     tauwise::io::output_paths::check_output_paths(&inputs, &outputs)?;
-    // Masks first: a bad name or file fails before the record is read.
-    let mut masks = Vec::new();
+    // Limits first: a bad name or file fails before the record is read.
+    // A built-in is a limit file like the user's.
+    let mut limits = Vec::new();
     for name in &args.masks {
-        masks.extend(builtin(name)?);
+        limits.extend(builtin_file(name)?.limits);
     }
     let (set, elsewhere) = tauwise::limits::read_for(&args.mask_files, "wander")?;
-    masks.extend(set.iter().filter_map(tauwise::limits::Limit::as_mask));
+    limits.extend(set);
+    let masks: Vec<_> = (limits.iter())
+        .filter_map(tauwise::limits::Limit::as_mask)
+        .collect();
     let opts = Options {
         grid: args.taus.clone(),
         range: args.tau_range,
@@ -108,13 +128,14 @@ pub fn run(args: Args) -> Result<Outcome> {
         progress.stage(format!("reading {}", file.display()));
         let series = args.input.load(file)?;
         progress.stage("computing");
-        let res = analyse(&series.record.to_phase(), &opts, &masks)?;
+        let res = analyse_limits(&series.record.to_phase(), &opts, &masks, &limits)?;
         let title = series.info.path.display().to_string();
         charts.push((title.clone(), plots_from_result(&res, &masks, &title)));
         if let [_] = &args.files[..] {
             args.plot.draw(|| Ok(wander_chart(&res, &masks, &title)))?;
         }
         judgements.extend(res.checks.iter().map(|c| c.judgement.clone()));
+        judgements.extend(res.te_checks.iter().map(|c| c.judgement.clone()));
         let body = WanderBody::new(res).with_elsewhere(elsewhere.clone());
         blocks.push(Block {
             name: file.display().to_string(),

@@ -28,6 +28,7 @@
 use super::{Limit, LimitMetric, ValueKind};
 use crate::io::{ReadCause, ReadError};
 use crate::units::{self, UnitError};
+use crate::wander::masks::Segment;
 use serde::{Deserialize, Serialize};
 use std::path::Path;
 use toml::Spanned;
@@ -103,7 +104,24 @@ struct RawFile {
 struct RawLimit {
     metric: Spanned<String>,
     shape: Option<Spanned<String>>,
-    points: Spanned<Vec<Spanned<Vec<Spanned<toml::Value>>>>>,
+    points: Option<RawPoints>,
+    segments: Option<Spanned<Vec<Spanned<RawSegment>>>>,
+    max: Option<Spanned<toml::Value>>,
+}
+
+/// The `points` array as read, each pair with its place in the file.
+type RawPoints = Spanned<Vec<Spanned<Vec<Spanned<toml::Value>>>>>;
+
+/// One formula segment: `limit(τ) = coef·(τ/1 s)^power + add` on
+/// `(from, to]`.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawSegment {
+    from: Spanned<toml::Value>,
+    to: Option<Spanned<toml::Value>>,
+    coef: Option<Spanned<toml::Value>>,
+    power: Option<Spanned<toml::Value>>,
+    add: Option<Spanned<toml::Value>>,
 }
 
 /// Read a limit file from disk ([`parse_limit_file`] on its text), refusing
@@ -171,23 +189,132 @@ pub fn parse_limit_file(text: &str, path: &Path) -> crate::Result<LimitFile> {
         let k = i + 1;
         let metric = LimitMetric::from_name(e.metric.get_ref())
             .map_err(|m| at(e.metric.span().start, format!("limit[{k}].metric: {m}")))?;
-        let step = match &e.shape {
-            None => false,
-            Some(s) => match s.get_ref().trim().to_ascii_lowercase().as_str() {
-                "loglog" => false,
-                "step" => true,
+        let shape_word = e
+            .shape
+            .as_ref()
+            .map(|s| (s.get_ref().trim().to_ascii_lowercase(), s.span().start));
+        if metric.is_single() {
+            let Some(m) = &e.max else {
+                return Err(at(
+                    e.metric.span().start,
+                    format!(
+                        "limit[{k}]: metric {} is one value over the record: expected `max = \"50ns\"` (a duration with its unit), not points",
+                        metric.name()
+                    ),
+                ));
+            };
+            if let Some(p) = &e.points {
+                return Err(at(
+                    p.span().start,
+                    format!(
+                        "limit[{k}].points: metric {} takes `max` only: expected no points",
+                        metric.name()
+                    ),
+                ));
+            }
+            if let Some(p) = &e.segments {
+                return Err(at(
+                    p.span().start,
+                    format!(
+                        "limit[{k}].segments: metric {} takes `max` only: expected no segments",
+                        metric.name()
+                    ),
+                ));
+            }
+            if let Some((_, o)) = &shape_word {
+                return Err(at(
+                    *o,
+                    format!(
+                        "limit[{k}].shape: metric {} takes `max` only: expected no shape",
+                        metric.name()
+                    ),
+                ));
+            }
+            let v = limit_value(metric, m)
+                .map_err(|msg| at(m.span().start, format!("limit[{k}].max: {msg}")))?;
+            limits.push(Limit {
+                name: name.clone(),
+                note: note.clone(),
+                file: path.display().to_string(),
+                line: line_of(text, e.metric.span().start),
+                metric,
+                step: false,
+                points: vec![(0.0, v)],
+                segments: Vec::new(),
+            });
+            continue;
+        }
+        if let Some(m) = &e.max {
+            return Err(at(
+                m.span().start,
+                format!(
+                    "limit[{k}].max: metric {} is limited over {}: expected points (or segments), `max` is for cte, max-te, max-te-l, dte-h",
+                    metric.name(),
+                    metric.axis().symbol()
+                ),
+            ));
+        }
+        let (step, formula) = match &shape_word {
+            None => (false, false),
+            Some((w, o)) => match w.as_str() {
+                "loglog" => (false, false),
+                "step" => (true, false),
+                "formula" => (false, true),
                 other => {
                     return Err(at(
-                        s.span().start,
-                        format!("limit[{k}].shape: unknown shape '{other}': expected \"loglog\" or \"step\""),
+                        *o,
+                        format!("limit[{k}].shape: unknown shape '{other}': expected \"loglog\", \"step\" or \"formula\""),
                     ))
                 }
             },
         };
-        let pts = e.points.get_ref();
+        if formula {
+            if let Some(p) = &e.points {
+                return Err(at(
+                    p.span().start,
+                    format!(
+                        "limit[{k}].points: shape \"formula\" takes segments: expected no points"
+                    ),
+                ));
+            }
+            let Some(segs) = &e.segments else {
+                return Err(at(
+                    e.metric.span().start,
+                    format!("limit[{k}]: shape \"formula\" needs segments = [{{ from = \"0.1s\", to = \"1s\", coef = \"40ns\", power = 0.1, add = \"0s\" }}, …]"),
+                ));
+            };
+            let segments = parse_segments(metric, segs, k, &at)?;
+            limits.push(Limit {
+                name: name.clone(),
+                note: note.clone(),
+                file: path.display().to_string(),
+                line: line_of(text, e.metric.span().start),
+                metric,
+                step: false,
+                points: formula_points(&segments),
+                segments,
+            });
+            continue;
+        }
+        if let Some(p) = &e.segments {
+            return Err(at(
+                p.span().start,
+                format!("limit[{k}].segments: segments need shape = \"formula\""),
+            ));
+        }
+        let Some(points_raw) = &e.points else {
+            return Err(at(
+                e.metric.span().start,
+                format!(
+                    "limit[{k}]: no points: expected points = [{}, …]",
+                    example(metric)
+                ),
+            ));
+        };
+        let pts = points_raw.get_ref();
         if pts.is_empty() {
             return Err(at(
-                e.points.span().start,
+                points_raw.span().start,
                 format!(
                     "limit[{k}].points: empty: expected at least one pair such as {}",
                     example(metric)
@@ -236,6 +363,7 @@ pub fn parse_limit_file(text: &str, path: &Path) -> crate::Result<LimitFile> {
             metric,
             step,
             points,
+            segments: Vec::new(),
         });
     }
     Ok(LimitFile {
@@ -244,6 +372,142 @@ pub fn parse_limit_file(text: &str, path: &Path) -> crate::Result<LimitFile> {
         note,
         limits,
     })
+}
+
+/// The break points of formula segments: each segment's start with the
+/// limit just above it, and the last segment's end when it has one.
+fn formula_points(segs: &[Segment]) -> Vec<(f64, f64)> {
+    let mut v: Vec<(f64, f64)> = segs.iter().map(|s| (s.lo, s.eval(s.lo))).collect();
+    if let Some(l) = segs.last() {
+        if l.hi.is_finite() {
+            v.push((l.hi, l.eval(l.hi)));
+        }
+    }
+    v
+}
+
+/// A coefficient of a formula segment: a duration or a fraction as the
+/// metric's limits, zero allowed.
+fn coefficient(metric: LimitMetric, v: &Spanned<toml::Value>) -> Result<f64, String> {
+    let t = text_of(v.get_ref())?;
+    let t = t.trim();
+    let x = match metric.values() {
+        ValueKind::Duration => units::parse_duration_with_unit(t).map_err(unit_error)?,
+        ValueKind::Fraction => units::parse_fraction(t).map_err(unit_error)?,
+        ValueKind::DbcHz => {
+            return Err("an L(f) limit cannot be a formula: expected points in dBc/Hz".into())
+        }
+    };
+    if x.is_finite() && (x == 0.0 || x.is_normal()) {
+        Ok(x)
+    } else {
+        Err(format!("'{t}': expected a finite value"))
+    }
+}
+
+/// The segments of a formula limit: contiguous (each `from` the previous
+/// `to`), increasing, the limit positive and finite at both ends of each
+/// (and, on a last segment with no upper end, `coef` ≥ 0 and `power` ≥ 0,
+/// so that it stays positive).
+fn parse_segments(
+    metric: LimitMetric,
+    segs: &Spanned<Vec<Spanned<RawSegment>>>,
+    k: usize,
+    at: &dyn Fn(usize, String) -> crate::Error,
+) -> crate::Result<Vec<Segment>> {
+    if segs.get_ref().is_empty() {
+        return Err(at(
+            segs.span().start,
+            format!("limit[{k}].segments: empty: expected at least one segment"),
+        ));
+    }
+    let n = segs.get_ref().len();
+    let mut out: Vec<Segment> = Vec::new();
+    for (j, sp) in segs.get_ref().iter().enumerate() {
+        let key = format!("limit[{k}].segments[{}]", j + 1);
+        let r = sp.get_ref();
+        let here = sp.span().start;
+        let lo = axis_value(metric, &r.from)
+            .map_err(|m| at(r.from.span().start, format!("{key}.from: {m}")))?;
+        let hi = match &r.to {
+            Some(t) => {
+                axis_value(metric, t).map_err(|m| at(t.span().start, format!("{key}.to: {m}")))?
+            }
+            None if j + 1 == n => f64::INFINITY,
+            None => {
+                return Err(at(
+                    here,
+                    format!("{key}: no `to`: only the last segment may run without an upper end"),
+                ))
+            }
+        };
+        if hi <= lo {
+            return Err(at(
+                here,
+                format!("{key}: to = {hi} s is not above from = {lo} s: expected from < to"),
+            ));
+        }
+        if let Some(prev) = out.last() {
+            if prev.hi != lo {
+                return Err(at(
+                    r.from.span().start,
+                    format!(
+                        "{key}.from: {lo} s does not continue the previous segment, which ends at {} s: expected contiguous segments",
+                        prev.hi
+                    ),
+                ));
+            }
+        }
+        let coef = match &r.coef {
+            Some(c) => coefficient(metric, c)
+                .map_err(|m| at(c.span().start, format!("{key}.coef: {m}")))?,
+            None => 0.0,
+        };
+        let add = match &r.add {
+            Some(c) => {
+                coefficient(metric, c).map_err(|m| at(c.span().start, format!("{key}.add: {m}")))?
+            }
+            None => 0.0,
+        };
+        let power = match &r.power {
+            None => 0.0,
+            Some(p) => match p.get_ref() {
+                toml::Value::Integer(i) => *i as f64,
+                toml::Value::Float(f) if f.is_finite() => *f,
+                other => {
+                    return Err(at(
+                        p.span().start,
+                        format!(
+                            "{key}.power: expected a number (the exponent of τ in s), got {other}"
+                        ),
+                    ))
+                }
+            },
+        };
+        let s = Segment {
+            lo,
+            hi,
+            a: coef,
+            p: power,
+            b: add,
+        };
+        let ends_ok = [s.eval(lo)]
+            .into_iter()
+            .chain(hi.is_finite().then(|| s.eval(hi)))
+            .all(|v| v.is_finite() && v > 0.0 && v.is_normal());
+        let open_ok = hi.is_finite() || (coef >= 0.0 && power >= 0.0);
+        if !(ends_ok && open_ok) {
+            return Err(at(
+                here,
+                format!(
+                    "{key}: the limit coef·τ^power + add must be positive and finite over the whole segment{}",
+                    if hi.is_finite() { "" } else { " (with no upper end: coef ≥ 0 and power ≥ 0)" }
+                ),
+            ));
+        }
+        out.push(s);
+    }
+    Ok(out)
 }
 
 /// An example pair for a metric, for messages.
@@ -365,11 +629,28 @@ pub(super) struct OutFile {
 }
 
 /// One `[[limit]]` entry as written.
-#[derive(Serialize)]
+#[derive(Serialize, Default)]
 pub(super) struct OutLimit {
     pub(super) metric: String,
+    #[serde(skip_serializing_if = "String::is_empty")]
     pub(super) shape: String,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub(super) max: Option<String>,
+    #[serde(skip_serializing_if = "Vec::is_empty")]
     pub(super) points: Vec<[String; 2]>,
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub(super) segments: Vec<OutSegment>,
+}
+
+/// One formula segment as written.
+#[derive(Serialize)]
+pub(super) struct OutSegment {
+    from: String,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    to: Option<String>,
+    coef: String,
+    power: f64,
+    add: String,
 }
 
 /// Write limits (all of one file) in the limit-file format, through the
@@ -382,22 +663,48 @@ pub fn write_limit_file(file: &LimitFile) -> crate::Result<String> {
         limit: file
             .limits
             .iter()
-            .map(|l| OutLimit {
-                metric: l.metric.name().to_string(),
-                shape: if l.step { "step" } else { "loglog" }.to_string(),
-                points: l
-                    .points
-                    .iter()
-                    .map(|&(x, v)| {
-                        let xs = format!("{x:e}{}", l.metric.axis().unit());
-                        let vs = match l.metric.values() {
-                            ValueKind::Duration => format!("{v:e}s"),
-                            ValueKind::Fraction => format!("{v:e}"),
-                            ValueKind::DbcHz => format!("{v}dBc/Hz"),
-                        };
-                        [xs, vs]
-                    })
-                    .collect(),
+            .map(|l| {
+                let u = l.metric.axis().unit();
+                let value = |v: f64| match l.metric.values() {
+                    ValueKind::Duration => format!("{v:e}s"),
+                    ValueKind::Fraction => format!("{v:e}"),
+                    ValueKind::DbcHz => format!("{v}dBc/Hz"),
+                };
+                if let Some(v) = l.single_value() {
+                    return OutLimit {
+                        metric: l.metric.name().to_string(),
+                        max: Some(value(v)),
+                        ..OutLimit::default()
+                    };
+                }
+                if !l.segments.is_empty() {
+                    return OutLimit {
+                        metric: l.metric.name().to_string(),
+                        shape: "formula".into(),
+                        segments: l
+                            .segments
+                            .iter()
+                            .map(|s| OutSegment {
+                                from: format!("{:e}{u}", s.lo),
+                                to: s.hi.is_finite().then(|| format!("{:e}{u}", s.hi)),
+                                coef: value(s.a),
+                                power: s.p,
+                                add: value(s.b),
+                            })
+                            .collect(),
+                        ..OutLimit::default()
+                    };
+                }
+                OutLimit {
+                    metric: l.metric.name().to_string(),
+                    shape: if l.step { "step" } else { "loglog" }.to_string(),
+                    points: l
+                        .points
+                        .iter()
+                        .map(|&(x, v)| [format!("{x:e}{u}"), value(v)])
+                        .collect(),
+                    ..OutLimit::default()
+                }
             })
             .collect(),
     };

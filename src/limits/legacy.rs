@@ -77,6 +77,7 @@ fn convert(text: &str) -> Option<String> {
                 metric: h.trim_end_matches(']').trim().to_ascii_lowercase(),
                 shape: String::new(),
                 points: Vec::new(),
+                ..OutLimit::default()
             });
             continue;
         }

@@ -23,7 +23,7 @@ use crate::spectrum::Spectrum;
 use crate::tau::TauGrid;
 use crate::units::format_si;
 use crate::verdict::{Judgement, Verdict};
-use crate::wander::masks::{Mask, Metric, Shape};
+use crate::wander::masks::{Mask, Metric, Segment, Shape};
 use check::{check_curve, Support, Words};
 use serde::Serialize;
 
@@ -35,13 +35,78 @@ its first and last point) and only at the τ or offsets the measurement reaches;
 or a contract's own test conditions (bandwidth, temperature, warm-up, measurement set-up) are \
 not known to this tool.";
 
-/// What a limit limits: an estimator of the registry, or L(f).
+/// What a limit limits: an estimator of the registry, L(f), or a
+/// time-error metric.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
 pub enum LimitMetric {
     /// An estimator of the registry (`adev`, `mdev`, `mtie`, `tdev`, …).
     Estimator(Estimator),
     /// Single-sideband phase noise L(f) in dBc/Hz (IEEE Std 1139).
     Lf,
+    /// A time-error metric of `wander --te` (docs/time-error.md).
+    Te(TeMetric),
+}
+
+/// The time-error metrics a limit file may limit (checked by `wander`
+/// on the metrics of [`crate::wander::te`]): four single values — a
+/// duration that holds over the whole record — and the MTIE and TDEV of the
+/// low-passed time error over τ.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
+pub enum TeMetric {
+    /// `cte`: |cTE|, the largest |mean TE| over the cTE windows (the mean
+    /// over the whole record when no window fits).
+    Cte,
+    /// `max-te`: max |TE| of the record as read.
+    MaxTe,
+    /// `max-te-l`: max |TE_L| of the record through the dTE_L low-pass.
+    MaxTeL,
+    /// `dte-h`: peak-to-peak of the record through the dTE_H high-pass.
+    DteH,
+    /// `dte-l`: MTIE(τ) of the low-passed record (dTE_L), over τ.
+    DteL,
+    /// `dte-l-tdev`: TDEV(τ) of the low-passed record (dTE_L), over τ.
+    DteLTdev,
+}
+
+impl TeMetric {
+    /// Every time-error metric, in the order of the docs.
+    pub const ALL: [TeMetric; 6] = [
+        TeMetric::Cte,
+        TeMetric::MaxTe,
+        TeMetric::MaxTeL,
+        TeMetric::DteH,
+        TeMetric::DteL,
+        TeMetric::DteLTdev,
+    ];
+
+    /// The name in limit files and JSON.
+    pub fn name(self) -> &'static str {
+        match self {
+            TeMetric::Cte => "cte",
+            TeMetric::MaxTe => "max-te",
+            TeMetric::MaxTeL => "max-te-l",
+            TeMetric::DteH => "dte-h",
+            TeMetric::DteL => "dte-l",
+            TeMetric::DteLTdev => "dte-l-tdev",
+        }
+    }
+
+    /// The label in tables.
+    pub fn label(self) -> &'static str {
+        match self {
+            TeMetric::Cte => "cTE",
+            TeMetric::MaxTe => "max|TE|",
+            TeMetric::MaxTeL => "max|TE_L|",
+            TeMetric::DteH => "dTE_H pk-pk",
+            TeMetric::DteL => "dTE_L MTIE",
+            TeMetric::DteLTdev => "dTE_L TDEV",
+        }
+    }
+
+    /// A single value over the whole record (not a curve over τ).
+    pub fn is_single(self) -> bool {
+        !matches!(self, TeMetric::DteL | TeMetric::DteLTdev)
+    }
 }
 
 /// What the limit values of a metric are.
@@ -67,6 +132,7 @@ impl LimitMetric {
             .filter(|e| !e.uses_theo_lattice())
             .map(LimitMetric::Estimator)
             .chain([LimitMetric::Lf])
+            .chain(TeMetric::ALL.map(LimitMetric::Te))
             .collect()
     }
 
@@ -85,6 +151,12 @@ impl LimitMetric {
         let t = text.trim();
         if t.eq_ignore_ascii_case("lf") {
             return Ok(LimitMetric::Lf);
+        }
+        if let Some(m) = TeMetric::ALL
+            .iter()
+            .find(|m| m.name().eq_ignore_ascii_case(t))
+        {
+            return Ok(LimitMetric::Te(*m));
         }
         match Estimator::ALL
             .iter()
@@ -110,6 +182,7 @@ impl LimitMetric {
         match self {
             LimitMetric::Estimator(e) => e.name(),
             LimitMetric::Lf => "lf",
+            LimitMetric::Te(t) => t.name(),
         }
     }
 
@@ -118,14 +191,17 @@ impl LimitMetric {
         match self {
             LimitMetric::Estimator(e) => e.name().to_uppercase(),
             LimitMetric::Lf => "L(f)".into(),
+            LimitMetric::Te(t) => t.label().into(),
         }
     }
 
-    /// The command that checks this metric: `wander` (MTIE, TDEV),
-    /// `jitter` (L(f)), `stability` (every other estimator).
+    /// The command that checks this metric: `wander` (MTIE, TDEV, the
+    /// time-error metrics), `jitter` (L(f)), `stability` (every other
+    /// estimator).
     pub fn command(self) -> &'static str {
         match self {
             LimitMetric::Estimator(Estimator::Mtie | Estimator::Tdev) => "wander",
+            LimitMetric::Te(_) => "wander",
             LimitMetric::Estimator(_) => "stability",
             LimitMetric::Lf => "jitter",
         }
@@ -144,6 +220,7 @@ impl LimitMetric {
     pub fn values(self) -> ValueKind {
         match self {
             LimitMetric::Lf => ValueKind::DbcHz,
+            LimitMetric::Te(_) => ValueKind::Duration,
             LimitMetric::Estimator(e) if e.is_time_deviation() => ValueKind::Duration,
             LimitMetric::Estimator(_) => ValueKind::Fraction,
         }
@@ -153,8 +230,14 @@ impl LimitMetric {
     pub fn axis(self) -> Axis {
         match self {
             LimitMetric::Lf => Axis::Offset,
-            LimitMetric::Estimator(_) => Axis::Tau,
+            LimitMetric::Estimator(_) | LimitMetric::Te(_) => Axis::Tau,
         }
+    }
+
+    /// A single value over the whole record (`cte`, `max-te`, `max-te-l`,
+    /// `dte-h`): written `max = "50ns"`, not as points over τ.
+    pub fn is_single(self) -> bool {
+        matches!(self, LimitMetric::Te(t) if t.is_single())
     }
 }
 
@@ -208,8 +291,14 @@ pub struct Limit {
     /// `step` rather than `loglog`.
     pub step: bool,
     /// The points as written: (τ s or offset Hz, limit in s, fraction or
-    /// dBc/Hz).
+    /// dBc/Hz). A formula limit ([`Limit::segments`]): its break points
+    /// with the limit there (each segment's start, as the limit just above
+    /// it, and the last segment's end if it has one). A single-value limit
+    /// ([`LimitMetric::is_single`]): one point `(0, max)`.
     pub points: Vec<(f64, f64)>,
+    /// `shape = "formula"`: segments `limit(τ) = a·τ^p + b` on `(from, to]`
+    /// (τ in s; empty for the other shapes).
+    pub segments: Vec<Segment>,
 }
 
 impl Limit {
@@ -217,6 +306,9 @@ impl Limit {
     /// ratio 10^(L/10), so that log–log interpolation is dB linear in
     /// log f).
     pub fn shape(&self) -> Shape {
+        if !self.segments.is_empty() {
+            return Shape::Formula(self.segments.clone());
+        }
         let rows: Vec<(f64, f64)> = self
             .points
             .iter()
@@ -235,6 +327,14 @@ impl Limit {
             LimitMetric::Lf => 10f64.powf(v / 10.0),
             _ => v,
         }
+    }
+
+    /// The value of a single-value limit ([`LimitMetric::is_single`]).
+    pub fn single_value(&self) -> Option<f64> {
+        self.metric
+            .is_single()
+            .then(|| self.points.first().map(|p| p.1))
+            .flatten()
     }
 
     /// The same limit as a `wander` mask (MTIE and TDEV only).
@@ -339,10 +439,25 @@ impl LimitCheck {
         self.judgement.verdict
     }
 
+    /// The same check, `not-judged` with the reason (nothing checked).
+    pub fn not_judged_because(mut self, why: &str) -> Self {
+        self.judgement = Judgement::not_judged(why.to_string());
+        self.worst_ratio = None;
+        self.worst_at = None;
+        self.worst_margin_db = None;
+        self.checked = 0;
+        self.checked_range = None;
+        self.excesses.clear();
+        self
+    }
+
     /// The label of the check in tables and the fleet matrix, with the
     /// limit's range so that two limits of one metric in one file differ:
     /// `lab-acceptance ADEV 1 s–100 s`, `datasheet L(f) at 100 Hz`.
     pub fn label(&self) -> String {
+        if self.metric.is_single() {
+            return format!("{} {} over the record", self.name, self.metric.label());
+        }
         let u = self.axis.unit();
         let r = self.limit_range;
         let range = if r.from == r.to {
@@ -357,6 +472,16 @@ impl LimitCheck {
     /// 100 s), 8 points`.
     pub fn checked_words(&self) -> String {
         let u = self.axis.unit();
+        if self.metric.is_single() {
+            return match &self.checked_range {
+                Some(r) => format!(
+                    "checked over the record's {} (one value); coverage {}",
+                    format_si(r.to, u, 4),
+                    self.judgement.coverage.name()
+                ),
+                None => "nothing checked".into(),
+            };
+        }
         let x = self.axis.symbol();
         let lim = format!(
             "{} to {}",
@@ -439,6 +564,83 @@ pub fn check_limit(limit: &Limit, curve: &[(f64, f64)], support: &Support) -> Li
         interval_reaches_limit: Vec::new(),
         checked_points: Vec::new(),
     }
+}
+
+/// Check a single-value limit ([`LimitMetric::is_single`]: `cte`,
+/// `max-te`, `max-te-l`, `dte-h`) against the one measured value it
+/// limits, over a record of `span` seconds: the limit is met when
+/// |value| ≤ max (the ratio |value|/max ≤ 1; margin 20·log10(max/|value|)
+/// dB). `value` None, or a value or ratio that is not finite, is
+/// `not-judged` with `why`; `partial`, when given, makes the coverage
+/// partial with that reason (e.g. a cTE taken over the whole record
+/// because no cTE window fits).
+pub fn check_single(
+    limit: &Limit,
+    value: Option<f64>,
+    span: f64,
+    why: &str,
+    partial: Option<String>,
+) -> LimitCheck {
+    let max = limit.single_value().unwrap_or(f64::NAN);
+    let mut c = LimitCheck {
+        name: limit.name.clone(),
+        metric: limit.metric,
+        note: limit.note.clone(),
+        file: limit.file.clone(),
+        line: limit.line,
+        judgement: Judgement::not_judged(why.to_string()),
+        axis: Axis::Tau,
+        worst_ratio: None,
+        worst_at: None,
+        worst_margin_db: None,
+        worst_excess_db: None,
+        crossing_at: None,
+        checked: 0,
+        checked_range: None,
+        limit_range: Range {
+            from: span,
+            to: span,
+        },
+        excesses: Vec::new(),
+        interval_reaches_limit: Vec::new(),
+        checked_points: Vec::new(),
+    };
+    let Some(v) = value else {
+        return c;
+    };
+    let r = v.abs() / max;
+    if !(v.is_finite() && r.is_finite() && max > 0.0) {
+        c.judgement = Judgement::not_judged(format!(
+            "{} = {v:e} s against {max:e} s cannot be judged (not finite)",
+            limit.metric.label()
+        ));
+        return c;
+    }
+    let coverage = if partial.is_some() {
+        crate::verdict::Coverage::Partial
+    } else {
+        crate::verdict::Coverage::Full
+    };
+    c.judgement = Judgement::judged(r > 1.0, coverage);
+    c.judgement.reason = partial;
+    c.worst_ratio = Some(r);
+    c.worst_at = Some(span);
+    c.worst_margin_db = Some(0.0 - 20.0 * r.log10()).filter(|m| m.is_finite());
+    c.checked = 1;
+    c.checked_range = Some(Range {
+        from: span,
+        to: span,
+    });
+    if r > 1.0 {
+        c.crossing_at = Some(span);
+        c.excesses.push(LimitExcess {
+            at: span,
+            value: v.abs(),
+            limit: max,
+            ratio: r,
+        });
+    }
+    c
 }
 
 /// The averaging factors a σ limit is checked on, for estimator `est` on a
@@ -610,25 +812,35 @@ fn check_lf_simple(table: &Spectrum, limits: &[Limit]) -> Result<Vec<LimitCheck>
         fb,
         "the table's highest offset",
     );
-    let linear: Vec<f64> = lf.values.iter().map(|v| 10f64.powf(v / 10.0)).collect();
-    let trace = crate::spectrum::loglog::LogLog::new(&lf.f, &linear)?;
     let mut out = Vec::new();
     for limit in limits.iter().filter(|l| l.metric == LimitMetric::Lf) {
-        let mut pts: Vec<(f64, f64)> =
-            lf.f.iter()
-                .copied()
-                .zip(lf.values.iter().copied())
-                .collect();
-        for &(f, _) in &limit.points {
-            if let Some(v) = trace.eval(f, crate::spectrum::loglog::Extend::No) {
-                pts.push((f, 10.0 * v.log10()));
-            }
-        }
-        pts.sort_by(|a, b| a.0.total_cmp(&b.0));
-        pts.dedup_by(|a, b| a.0 == b.0);
+        let pts = lf_points(&lf, limit)?;
         out.push(check_limit(limit, &pts, &support));
     }
     Ok(out)
+}
+
+/// The (offset Hz, L dBc/Hz) points an `lf` limit is checked at on an L(f)
+/// table (already L(f)): the table's own points, and the table's
+/// interpolation (dB linear in log f) at each of the limit's offsets inside
+/// the table, in increasing offset — what [`check_lf`] checks, and what
+/// the report's L(f)-against-limit table lists.
+pub fn lf_points(lf: &Spectrum, limit: &Limit) -> Result<Vec<(f64, f64)>> {
+    let linear: Vec<f64> = lf.values.iter().map(|v| 10f64.powf(v / 10.0)).collect();
+    let trace = crate::spectrum::loglog::LogLog::new(&lf.f, &linear)?;
+    let mut pts: Vec<(f64, f64)> =
+        lf.f.iter()
+            .copied()
+            .zip(lf.values.iter().copied())
+            .collect();
+    for &(f, _) in &limit.points {
+        if let Some(v) = trace.eval(f, crate::spectrum::loglog::Extend::No) {
+            pts.push((f, 10.0 * v.log10()));
+        }
+    }
+    pts.sort_by(|a, b| a.0.total_cmp(&b.0));
+    pts.dedup_by(|a, b| a.0 == b.0);
+    Ok(pts)
 }
 
 /// The metrics of `limits` that `command` does not check, each with the

@@ -24,6 +24,7 @@ pub mod clip;
 pub mod convert;
 mod draw;
 pub mod holdover;
+pub mod limit_lines;
 pub mod overlay;
 pub mod phase_noise;
 pub mod scale;

@@ -355,20 +355,42 @@ pub fn stability_charts(
 /// The charts of `stability` for one or more records: one record's charts
 /// as [`stability_charts`]; several records' first measured curve each,
 /// overlaid ([`super::overlay::records_sigma_chart`]), and no second chart.
+/// Each limit is drawn on the chart of its values
+/// ([`super::limit_lines::add_limits`]): σ_y limits on a σ_y chart, time
+/// deviation limits on a time-deviation chart.
 pub fn records_charts(
     results: &[(String, crate::stability::RecordStability)],
     confidence: f64,
+    limits: &[crate::limits::Limit],
 ) -> (Chart, Option<Chart>) {
+    use super::limit_lines::add_limits;
+    use crate::limits::ValueKind;
+    let kind = |time: bool| {
+        if time {
+            ValueKind::Duration
+        } else {
+            ValueKind::Fraction
+        }
+    };
     if let [(title, r)] = results {
-        return stability_charts(title, &r.shown, &r.measured, confidence, r.best.as_ref());
+        let (mut main, mut time) =
+            stability_charts(title, &r.shown, &r.measured, confidence, r.best.as_ref());
+        let main_is_time = r.shown.iter().all(|c| c.estimator.is_time_deviation());
+        add_limits(&mut main, limits, kind(main_is_time));
+        if let Some(t) = time.as_mut() {
+            add_limits(t, limits, ValueKind::Duration);
+        }
+        return (main, time);
     }
     let items: Vec<(String, &Curve)> = (results.iter())
         .filter_map(|(n, r)| r.measured.first().map(|c| (n.clone(), c)))
         .collect();
-    (
-        super::overlay::records_sigma_chart(&items, confidence),
-        None,
-    )
+    let mut chart = super::overlay::records_sigma_chart(&items, confidence);
+    let time = items
+        .first()
+        .is_some_and(|(_, c)| c.estimator.is_time_deviation());
+    add_limits(&mut chart, limits, kind(time));
+    (chart, None)
 }
 
 /// Where the time-deviation chart goes when σ_y curves take the main one:

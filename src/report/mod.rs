@@ -175,6 +175,62 @@ pub struct StabilitySection {
     pub confidence: f64,
     /// Notes (what is not yet computed, forced noise type, …).
     pub notes: Vec<String>,
+    /// The σ limits of the DUT's limit files checked on this record (the
+    /// table shows each one's value and measured/limit at its τ; the charts
+    /// draw it).
+    pub limits: Vec<crate::limits::Limit>,
+    /// Their checks on this record (as in the verdict list).
+    pub limit_checks: Vec<crate::limits::LimitCheck>,
+}
+
+impl StabilitySection {
+    /// The σ–τ chart and, when σ_y curves take it, the time-deviation
+    /// chart, each with the limit lines of its values
+    /// ([`crate::plot::limit_lines`]); `None` without a chart.
+    pub fn charts(&self) -> Option<(crate::plot::Chart, Option<crate::plot::Chart>)> {
+        use crate::limits::ValueKind;
+        use crate::plot::limit_lines::add_limits;
+        let plot = self.plot.as_ref()?;
+        let mut main = plot.chart();
+        let main_is_time = plot.curves.iter().all(|c| c.time_deviation());
+        add_limits(
+            &mut main,
+            &self.limits,
+            if main_is_time {
+                ValueKind::Duration
+            } else {
+                ValueKind::Fraction
+            },
+        );
+        let time = plot.time_chart().map(|mut t| {
+            add_limits(&mut t, &self.limits, ValueKind::Duration);
+            t
+        });
+        Some((main, time))
+    }
+}
+
+impl PhaseNoiseSection {
+    /// The L(f) chart with the `lf` limit lines.
+    pub fn chart(&self) -> crate::plot::Chart {
+        let mut c = self.plot.chart();
+        crate::plot::limit_lines::add_limits(&mut c, &self.limits, crate::limits::ValueKind::DbcHz);
+        c
+    }
+}
+
+/// One checked point of an L(f) limit on the phase-noise table.
+#[derive(Debug, Clone, PartialEq)]
+pub struct LfLimitRow {
+    /// The check's label (`lab L(f) 10 Hz–100 kHz`).
+    pub limit: String,
+    /// Offset, Hz.
+    pub offset: f64,
+    /// L(f) of the table there, dBc/Hz (interpolated between its points
+    /// at the limit's own offsets).
+    pub measured: f64,
+    /// The limit there, dBc/Hz.
+    pub value: f64,
 }
 
 /// One term of the fitted power-law model.
@@ -264,6 +320,12 @@ pub struct PhaseNoiseSection {
     pub bands: Vec<JitterRow>,
     /// Notes.
     pub notes: Vec<String>,
+    /// The `lf` limits of the DUT's limit files (drawn on the chart).
+    pub limits: Vec<crate::limits::Limit>,
+    /// Their checks on this table.
+    pub limit_checks: Vec<crate::limits::LimitCheck>,
+    /// Every point they were checked at.
+    pub limit_rows: Vec<LfLimitRow>,
 }
 
 /// Short and long τ together, for one record and one table.
@@ -510,16 +572,16 @@ pub fn charts(report: &Report) -> Vec<(String, crate::plot::Chart)> {
     };
     if let Part::Done(list) = &report.stability {
         for (i, s) in list.iter().enumerate() {
-            if let Some(p) = &s.plot {
-                out.push((nth("stability", i), p.chart()));
-                if let Some(t) = p.time_chart() {
+            if let Some((main, time)) = s.charts() {
+                out.push((nth("stability", i), main));
+                if let Some(t) = time {
                     out.push((format!("{}-time", nth("stability", i)), t));
                 }
             }
         }
     }
     if let Part::Done(s) = &report.phase_noise {
-        out.push(("phase-noise".to_string(), s.plot.chart()));
+        out.push(("phase-noise".to_string(), s.chart()));
     }
     if let Part::Done(list) = &report.combined {
         for (i, s) in list.iter().enumerate() {

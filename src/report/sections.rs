@@ -214,14 +214,16 @@ fn stability(h: &mut Html, p: &Part<Vec<StabilitySection>>, pre: &str) -> Result
                     "Intervals at {:.1} % confidence.",
                     s.confidence * 100.0
                 ));
-                let chart = plot.chart();
+                let Some((chart, time_chart)) = s.charts() else {
+                    continue;
+                };
                 let cap = if plot.confidence.is_some() {
                     "σ–τ: deviations against averaging time; bars are confidence intervals"
                 } else {
                     "σ–τ: deviations against averaging time"
                 };
                 h.figure(&crate::plot::to_svg_string(&chart, CHART)?, cap);
-                if let Some(tc) = plot.time_chart() {
+                if let Some(tc) = time_chart {
                     h.figure(
                         &crate::plot::to_svg_string(&tc, CHART)?,
                         "Time deviations against averaging time",
@@ -248,27 +250,87 @@ fn stability(h: &mut Html, p: &Part<Vec<StabilitySection>>, pre: &str) -> Result
                         ]
                     })
                     .collect();
+                let mut head = vec![
+                    "estimator",
+                    "τ",
+                    "m",
+                    "deviation",
+                    "interval",
+                    "EDF",
+                    "noise",
+                    "terms",
+                ];
+                let rows = if s.limits.is_empty() {
+                    rows
+                } else {
+                    head.push("limit at τ (measured/limit)");
+                    rows.into_iter()
+                        .zip(&s.rows)
+                        .map(|(mut cells, r)| {
+                            cells.push(t(limit_cell(&s.limits, r)));
+                            cells
+                        })
+                        .collect()
+                };
                 h.el("h4", "", "Values");
-                h.table(
-                    "stability",
-                    &[
-                        "estimator",
-                        "τ",
-                        "m",
-                        "deviation",
-                        "interval",
-                        "EDF",
-                        "noise",
-                        "terms",
-                    ],
-                    &rows,
-                );
+                h.table("stability", &head, &rows);
+                limit_checks(h, &s.limit_checks);
                 notes(h, &s.notes);
             }
         }
     }
     h.close_section();
     Ok(())
+}
+
+/// The limits of a σ row's estimator at its τ: `NAME ≤ value (ratio×)`,
+/// `—` where none sets a value there.
+fn limit_cell(limits: &[crate::limits::Limit], r: &StabilityRow) -> String {
+    let time = r.estimator.is_time_deviation();
+    let cells: Vec<String> = limits
+        .iter()
+        .filter(|l| l.metric == crate::limits::LimitMetric::Estimator(r.estimator))
+        .filter_map(|l| {
+            let v = l.shape().eval(r.tau)?;
+            let shown = if time { secs(v) } else { format_sig(v, 3) };
+            let ratio = r.dev / v;
+            Some(format!(
+                "{}: {shown} ({ratio:.2}{})",
+                l.name,
+                if ratio > 1.0 { ", above" } else { "" }
+            ))
+        })
+        .collect();
+    if cells.is_empty() {
+        "—".into()
+    } else {
+        cells.join("; ")
+    }
+}
+
+/// One line per limit check of a section: the label, the verdict and the
+/// range checked.
+fn limit_checks(h: &mut Html, checks: &[crate::limits::LimitCheck]) {
+    if checks.is_empty() {
+        return;
+    }
+    let lines: Vec<String> = checks
+        .iter()
+        .map(|c| {
+            format!(
+                "{}: {} — {}{}",
+                c.label(),
+                c.judgement.cell(),
+                c.checked_words(),
+                c.judgement
+                    .reason
+                    .as_ref()
+                    .map(|r| format!("; {r}"))
+                    .unwrap_or_default()
+            )
+        })
+        .collect();
+    h.ul(&lines);
 }
 
 fn noise_model(h: &mut Html, p: &Part<Vec<NoiseModelSection>>, pre: &str) {
@@ -329,9 +391,44 @@ fn phase_noise(h: &mut Html, p: &Part<PhaseNoiseSection>, pre: &str) -> Result<(
         Part::Done(s) => {
             h.p(&format!("Table: {}. Carrier {}.", s.source, hz(s.carrier)));
             h.figure(
-                &crate::plot::to_svg_string(&s.plot.chart(), CHART)?,
-                "L(f) against offset frequency; integration bands shaded",
+                &crate::plot::to_svg_string(&s.chart(), CHART)?,
+                if s.limits.is_empty() {
+                    "L(f) against offset frequency; integration bands shaded"
+                } else {
+                    "L(f) against offset frequency; integration bands shaded; limits dashed"
+                },
             );
+            if !s.limit_rows.is_empty() {
+                h.el("h3", "", "L(f) against the limits");
+                let rows: Vec<Vec<Cell>> = s
+                    .limit_rows
+                    .iter()
+                    .map(|r| {
+                        let excess = r.measured - r.value;
+                        vec![
+                            t(&r.limit),
+                            n(hz(r.offset)),
+                            n(format!("{:.2}", r.measured)),
+                            n(format!("{:.2}", r.value)),
+                            n(format!("{excess:+.2}")),
+                            t(if excess > 0.0 { "above" } else { "at or below" }),
+                        ]
+                    })
+                    .collect();
+                h.table(
+                    "lf-limits",
+                    &[
+                        "limit",
+                        "offset",
+                        "L(f) dBc/Hz",
+                        "limit dBc/Hz",
+                        "L − limit dB",
+                        "",
+                    ],
+                    &rows,
+                );
+                limit_checks(h, &s.limit_checks);
+            }
             if s.bands.is_empty() {
                 h.p_class("absent", "No jitter band was asked for.");
             } else {

@@ -74,6 +74,27 @@ pub fn check_text(c: &LimitCheck) -> Text {
     if let Some(n) = &c.note {
         s.line(format!("  {n}"));
     }
+    if c.metric.is_single() {
+        // One value over the record: no τ to name, no crossing.
+        if let (Some(r), true) = (c.worst_ratio, c.judgement.verdict != Verdict::NotJudged) {
+            s.line(format!(
+                "  measured {r:.3} of the limit ({} margin)",
+                c.worst_margin_db
+                    .map(format_margin_db)
+                    .unwrap_or_else(|| "unlimited".into())
+            ));
+            s.line(format!("  {}", c.checked_words()));
+        }
+        if let Some(why) = &c.judgement.reason {
+            let lead = if c.judgement.verdict == Verdict::NotJudged {
+                "not judged: "
+            } else {
+                ""
+            };
+            s.line(format!("  {lead}{why}"));
+        }
+        return s;
+    }
     if c.judgement.verdict != Verdict::NotJudged {
         s.line(format!("  {}", c.judgement.rule_words()));
     }

@@ -29,7 +29,8 @@ pub struct WanderBody {
 impl WanderBody {
     /// The document body of `result`.
     pub fn new(result: WanderResult) -> Self {
-        let caution = (!result.checks.is_empty() || result.te.is_some()).then(|| {
+        let judged = !result.checks.is_empty() || !result.te_checks.is_empty();
+        let caution = (judged || result.te.is_some()).then(|| {
             format!(
                 "{} {}",
                 crate::wander::masks::CONDITIONS_NOTE,
@@ -192,11 +193,15 @@ impl WanderBody {
                 s.line(format!("  {} violating τ: {shown}", c.violations.len()));
             }
         }
+        for c in &r.te_checks {
+            s.blank();
+            s.extend(super::limits::check_text(c));
+        }
         for e in &self.limits_elsewhere {
             s.blank();
             s.line(e.words());
         }
-        if !r.checks.is_empty() || r.te.is_some() {
+        if !r.checks.is_empty() || r.te.is_some() || !r.te_checks.is_empty() {
             s.blank();
             s.line(crate::wander::masks::CONDITIONS_NOTE);
             s.line(crate::DECISION_CAUTION);
@@ -227,6 +232,10 @@ fn te_table(s: &mut Text, te: &crate::wander::te::TeMetrics) {
         Cell::opt(te.cte_windowed_max_abs),
     ]);
     t.row(vec![Cell::text("max |TE|"), Cell::num(te.max_abs)]);
+    t.row(vec![
+        Cell::text("max |TE_L|, through the low-pass"),
+        Cell::num(te.max_abs_l),
+    ]);
     t.row(vec![
         Cell::text("dTE_H, peak-to-peak through the high-pass"),
         Cell::num(te.dte_h_pkpk),

@@ -12,9 +12,12 @@
 //!
 //! Outside its τ range a mask sets no limit ([`Mask::limit`] returns `None`).
 //!
-//! The built-in values are those of ITU-T G.811 (primary reference clock),
-//! G.8272 (PRTC-A) and G.8262 (EEC option 1, constant temperature) as
-//! **recalled from memory** (docs/checks.md §F); every output that uses
+//! The built-in limits are TOML limit files of the repository's `limits/`
+//! folder, embedded at build time ([`BUILTIN_FILES`]) and read by the limit
+//! file's own parser: ITU-T G.811, G.812 type I, G.8262 option 1, G.8272
+//! PRTC-A and PRTC-B, G.8272.1 ePRTC and the G.8273.2 boundary-clock
+//! classes A, B and C, all **recalled from memory** (docs/time-error.md
+//! gives every break point and what was left out); every output that uses
 //! them carries [`FROM_MEMORY_NOTE`].
 
 use crate::error::{Error, Result};
@@ -207,96 +210,109 @@ impl Shape {
     }
 }
 
-/// The names of the built-in masks.
-pub const BUILTIN_NAMES: [&str; 3] = ["g811", "g8272-prtc-a", "g8262-opt1"];
+/// The built-in limits: (name, the limit file's text), each a TOML limit
+/// file of the repository's `limits/` folder embedded at build time
+/// (nothing is read from disk at run time), read by the same parser as a
+/// user's limit file ([`crate::limits::parse_limit_file`]).
+pub const BUILTIN_FILES: [(&str, &str); 9] = [
+    ("g811", include_str!("../../limits/g811.toml")),
+    ("g812-type1", include_str!("../../limits/g812-type1.toml")),
+    ("g8262-opt1", include_str!("../../limits/g8262-opt1.toml")),
+    (
+        "g8272-prtc-a",
+        include_str!("../../limits/g8272-prtc-a.toml"),
+    ),
+    (
+        "g8272-prtc-b",
+        include_str!("../../limits/g8272-prtc-b.toml"),
+    ),
+    (
+        "g8272.1-eprtc",
+        include_str!("../../limits/g8272.1-eprtc.toml"),
+    ),
+    (
+        "g8273.2-class-a",
+        include_str!("../../limits/g8273.2-class-a.toml"),
+    ),
+    (
+        "g8273.2-class-b",
+        include_str!("../../limits/g8273.2-class-b.toml"),
+    ),
+    (
+        "g8273.2-class-c",
+        include_str!("../../limits/g8273.2-class-c.toml"),
+    ),
+];
 
-const NS: f64 = 1e-9;
-const US: f64 = 1e-6;
+/// The names of the built-in limits (`--mask NAME`).
+pub const BUILTIN_NAMES: [&str; 9] = [
+    "g811",
+    "g812-type1",
+    "g8262-opt1",
+    "g8272-prtc-a",
+    "g8272-prtc-b",
+    "g8272.1-eprtc",
+    "g8273.2-class-a",
+    "g8273.2-class-b",
+    "g8273.2-class-c",
+];
 
-fn seg(lo: f64, hi: f64, a: f64, p: f64, b: f64) -> Segment {
-    Segment { lo, hi, a, p, b }
-}
-
-/// TDEV of G.811, also used by G.8272 PRTC-A (from memory, docs/checks.md §F):
-/// 3 ns for 0.1 < τ ≤ 100 s; 0.03·τ ns for 100 < τ ≤ 1000 s;
-/// 30 ns for 1000 < τ ≤ 10000 s.
-fn g811_tdev() -> Vec<Segment> {
-    vec![
-        seg(0.1, 100.0, 0.0, 0.0, 3.0 * NS),
-        seg(100.0, 1000.0, 0.03 * NS, 1.0, 0.0),
-        seg(1000.0, 10000.0, 0.0, 0.0, 30.0 * NS),
-    ]
-}
-
-/// The masks of one built-in name (one per metric), or an error that lists
-/// the known names.
-///
-/// Values recalled from memory (docs/checks.md §F); check against the current
-/// edition of the Recommendation:
-/// - `g811` (ITU-T G.811, primary reference clock). MTIE:
-///   (0.275e−3·τ + 0.025) µs for 0.1 < τ ≤ 1000 s; (1e−5·τ + 0.29) µs for
-///   τ > 1000 s. TDEV: see `g811_tdev` above (3 ns / 0.03·τ ns / 30 ns).
-/// - `g8272-prtc-a` (ITU-T G.8272, PRTC class A). MTIE:
-///   (0.275e−3·τ + 0.025) µs for 0.1 < τ ≤ 273 s; 0.10 µs for τ > 273 s.
-///   TDEV as G.811.
-/// - `g8262-opt1` (ITU-T G.8262, EEC option 1, constant temperature). MTIE:
-///   40 ns for 0.1 < τ ≤ 1 s; 40·τ^0.1 ns for 1 < τ ≤ 100 s;
-///   25.25·τ^0.2 ns for 100 < τ ≤ 1000 s. TDEV: 3.2 ns for 0.1 < τ ≤ 25 s;
-///   0.64·τ^0.5 ns for 25 < τ ≤ 100 s; 6.4 ns for 100 < τ ≤ 1000 s.
-pub fn builtin(name: &str) -> Result<Vec<Mask>> {
+/// The built-in limit file `name` (case ignored), read from its embedded
+/// text exactly as a user's limit file; an unknown name is refused with
+/// the list of known ones. Every built-in's `note` says it was recalled
+/// from memory ([`FROM_MEMORY_NOTE`]); its break points are in
+/// docs/time-error.md.
+pub fn builtin_file(name: &str) -> Result<crate::limits::LimitFile> {
     let key = name.trim().to_ascii_lowercase();
-    let (title, mtie, tdev) = match key.as_str() {
-        "g811" => (
-            "ITU-T G.811 primary reference clock",
-            vec![
-                seg(0.1, 1000.0, 0.275e-3 * US, 1.0, 0.025 * US),
-                seg(1000.0, f64::INFINITY, 1e-5 * US, 1.0, 0.29 * US),
-            ],
-            g811_tdev(),
-        ),
-        "g8272-prtc-a" => (
-            "ITU-T G.8272 PRTC class A",
-            vec![
-                seg(0.1, 273.0, 0.275e-3 * US, 1.0, 0.025 * US),
-                seg(273.0, f64::INFINITY, 0.0, 0.0, 0.10 * US),
-            ],
-            g811_tdev(),
-        ),
-        "g8262-opt1" => (
-            "ITU-T G.8262 EEC option 1, constant temperature",
-            vec![
-                seg(0.1, 1.0, 0.0, 0.0, 40.0 * NS),
-                seg(1.0, 100.0, 40.0 * NS, 0.1, 0.0),
-                seg(100.0, 1000.0, 25.25 * NS, 0.2, 0.0),
-            ],
-            vec![
-                seg(0.1, 25.0, 0.0, 0.0, 3.2 * NS),
-                seg(25.0, 100.0, 0.64 * NS, 0.5, 0.0),
-                seg(100.0, 1000.0, 0.0, 0.0, 6.4 * NS),
-            ],
-        ),
-        _ => {
-            return Err(Error::invalid(format!(
-            "unknown mask '{name}': the built-in masks are {} (or give your own with --limit-file)",
+    let Some((n, text)) = BUILTIN_FILES.iter().find(|(n, _)| *n == key) else {
+        return Err(Error::invalid(format!(
+            "unknown mask '{name}': the built-in masks are {} (`tauwise wander --list-masks` describes them; or give your own with --limit-file)",
             BUILTIN_NAMES.join(", ")
-        )))
-        }
+        )));
     };
-    let note = format!("{title}: {FROM_MEMORY_NOTE}");
-    Ok(vec![
-        Mask {
-            name: key.clone(),
-            source_note: note.clone(),
-            metric: Metric::Mtie,
-            shape: Shape::Formula(mtie),
-        },
-        Mask {
-            name: key,
-            source_note: note,
-            metric: Metric::Tdev,
-            shape: Shape::Formula(tdev),
-        },
-    ])
+    crate::limits::parse_limit_file(text, std::path::Path::new(&format!("limits/{n}.toml")))
+}
+
+/// The MTIE and TDEV masks of a built-in limit file ([`builtin_file`]);
+/// its time-error limits are in the file.
+///
+/// The values, recalled from memory (docs/time-error.md lists every break
+/// point); check against the current edition of the Recommendation.
+pub fn builtin(name: &str) -> Result<Vec<Mask>> {
+    Ok(builtin_file(name)?.masks())
+}
+
+/// One built-in limit, as `wander --list-masks` lists it.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct BuiltinInfo {
+    /// `--mask NAME`.
+    pub name: String,
+    /// The metrics it limits (`mtie`, `tdev`, `max-te`, …).
+    pub metrics: Vec<String>,
+    /// The Recommendation and what it limits, with the source note.
+    pub note: String,
+}
+
+/// Every built-in limit, in [`BUILTIN_NAMES`] order.
+pub fn builtin_list() -> Result<Vec<BuiltinInfo>> {
+    BUILTIN_NAMES
+        .iter()
+        .map(|n| {
+            let f = builtin_file(n)?;
+            let mut metrics: Vec<String> = Vec::new();
+            for l in &f.limits {
+                let m = l.metric.name().to_string();
+                if !metrics.contains(&m) {
+                    metrics.push(m);
+                }
+            }
+            Ok(BuiltinInfo {
+                name: f.name.clone(),
+                metrics,
+                note: f.note.clone().unwrap_or_default(),
+            })
+        })
+        .collect()
 }
 
 #[cfg(test)]

@@ -180,9 +180,14 @@ pub struct WanderResult {
     /// The measurement filter applied before everything above, when asked.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub filter: Option<te::filter::AppliedFilter>,
-    /// The time-error metrics, when asked.
+    /// The time-error metrics, when asked (or when a time-error limit
+    /// was given).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub te: Option<te::TeMetrics>,
+    /// The time-error limits judged on them (`cte`, `max-te`, `max-te-l`,
+    /// `dte-h`, `dte-l`, `dte-l-tdev`; `"te_limits"`, absent when none).
+    #[serde(rename = "te_limits", skip_serializing_if = "Vec::is_empty")]
+    pub te_checks: Vec<crate::limits::LimitCheck>,
     /// The observation the verdicts (and the time-error metrics) rest on,
     /// when masks were checked or the metrics asked for.
     #[serde(skip_serializing_if = "Option::is_none")]
@@ -203,9 +208,35 @@ pub struct WanderResult {
 /// filters are part of their definition) are added ([`te`]); with masks or
 /// `opts.te`, the observation they rest on ([`observation`]).
 pub fn analyse(rec: &PhaseRecord, opts: &Options, masks: &[Mask]) -> Result<WanderResult> {
+    analyse_limits(rec, opts, masks, &[])
+}
+
+/// [`analyse`], and the time-error limits of `limits` (metrics `cte`,
+/// `max-te`, `max-te-l`, `dte-h`, `dte-l`, `dte-l-tdev`; others are
+/// skipped) judged on the time-error metrics
+/// ([`te::metrics_checked`]), which are then computed whether or not
+/// `opts.te` asks for them (with `opts.te`'s options, or the defaults).
+/// When they cannot be computed and `opts.te` did not ask for them (a τ0
+/// too long for the 0.1 Hz split), `max-te` and `cte` are judged on the
+/// record as read and the filtered metrics are `not-judged` with the
+/// reason ([`te::check_unfiltered`]).
+pub fn analyse_limits(
+    rec: &PhaseRecord,
+    opts: &Options,
+    masks: &[Mask],
+    limits: &[crate::limits::Limit],
+) -> Result<WanderResult> {
+    let te_limits: Vec<crate::limits::Limit> = limits
+        .iter()
+        .filter(|l| matches!(l.metric, crate::limits::LimitMetric::Te(_)))
+        .cloned()
+        .collect();
     // The record the time-error metrics and the measurement filter see: as
     // read, or with the least-squares frequency offset removed.
-    let offset = if opts.remove_offset && (opts.filter.is_some() || opts.te.is_some()) {
+    let te_opts = opts
+        .te
+        .or((!te_limits.is_empty()).then(te::TeOptions::default));
+    let offset = if opts.remove_offset && (opts.filter.is_some() || te_opts.is_some()) {
         Some(tie::frequency_offset(rec)?)
     } else {
         None
@@ -248,10 +279,30 @@ pub fn analyse(rec: &PhaseRecord, opts: &Options, masks: &[Mask]) -> Result<Wand
         res.filter = Some(f.applied.clone());
         res.tie.offset_removed = offset;
     }
-    if let Some(t) = &opts.te {
-        res.te = Some(te::metrics(base, t, opts)?);
+    if let Some(t) = &te_opts {
+        match te::metrics_checked(base, t, opts, &te_limits) {
+            Ok((m, c)) => {
+                res.te = Some(m);
+                res.te_checks = c;
+            }
+            Err(e) if opts.te.is_none() => {
+                res.te_checks = te::check_unfiltered(
+                    base,
+                    t,
+                    &te_limits,
+                    &format!("the time-error metrics could not be computed: {e}"),
+                );
+            }
+            Err(e) => return Err(e),
+        }
     }
-    if !masks.is_empty() || opts.te.is_some() {
+    // Time-error values of one record have no distribution here: a guarded
+    // rule decides them at the estimate and says so.
+    for c in &mut res.te_checks {
+        let why = crate::decision::Probabilities::Unavailable(TE_NO_DISTRIBUTION);
+        opts.decision.decide(&mut c.judgement, why);
+    }
+    if !masks.is_empty() || te_opts.is_some() {
         res.observation = Some(observation::observe(work, masks));
     }
     Ok(res)
@@ -384,6 +435,7 @@ fn run(
         checks,
         filter: None,
         te: None,
+        te_checks: Vec::new(),
         observation: None,
     })
 }
@@ -391,6 +443,11 @@ fn run(
 /// Why an MTIE verdict has no probability of conformance.
 pub const MTIE_NO_DISTRIBUTION: &str = "MTIE is the largest time-error excursion of this one \
 record, and tauwise has no distribution for it";
+
+/// Why a time-error limit (cTE, max|TE|, dTE) has no probability of
+/// conformance.
+pub const TE_NO_DISTRIBUTION: &str = "time-error values (cTE, max|TE|, dTE) of this one record \
+have no distribution in tauwise";
 
 /// The EDF of each TDEV estimate of `rec` (in order): the noise type
 /// identified at its τ ([`crate::stats::NoiseIdentifier`], the record and

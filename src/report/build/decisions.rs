@@ -9,7 +9,7 @@ use crate::plot::holdover::HoldoverPlot;
 use crate::report::*;
 use crate::units::{format_margin_db, format_si};
 use crate::verdict::{Judgement, Verdict};
-use crate::wander::masks::{builtin, CONDITIONS_NOTE, FROM_MEMORY_NOTE};
+use crate::wander::masks::{builtin_file, CONDITIONS_NOTE, FROM_MEMORY_NOTE};
 
 /// The wander section and one verdict per mask.
 pub(super) fn wander(dut: &Dut, records: &[Loaded], ties: &[Loaded], r: &mut Report) -> Result<()> {
@@ -17,13 +17,18 @@ pub(super) fn wander(dut: &Dut, records: &[Loaded], ties: &[Loaded], r: &mut Rep
         r.wander = Part::not_requested("the DUT file has no [wander] section.");
         return Ok(());
     };
-    let mut masks = Vec::new();
+    // Built-ins are limit files like the user's (as `tauwise wander`).
+    let mut limits = Vec::new();
     for name in &w.masks {
-        masks.extend(builtin(name)?);
+        limits.extend(builtin_file(name)?.limits);
     }
     for f in w.mask_files.iter().chain(&dut.limit_files) {
-        masks.extend(crate::limits::read_limit_file(f)?.masks());
+        limits.extend(crate::limits::read_limit_file(f)?.limits);
     }
+    let masks: Vec<_> = limits
+        .iter()
+        .filter_map(crate::limits::Limit::as_mask)
+        .collect();
     let chosen = match &w.source {
         Some(n) => ties.iter().chain(records).find(|l| &l.src.name == n),
         None => ties.first().or(records.first()),
@@ -43,10 +48,20 @@ pub(super) fn wander(dut: &Dut, records: &[Loaded], ties: &[Loaded], r: &mut Rep
         te: w.te,
         decision: r.decision,
     };
-    let res = match crate::wander::analyse(&rec, &opts, &masks) {
+    let res = match crate::wander::analyse_limits(&rec, &opts, &masks, &limits) {
         Ok(x) => x,
         Err(e) => {
             r.wander = Part::not_computed(format!("{}: {e}", l.src.name));
+            for lim in limits
+                .iter()
+                .filter(|x| matches!(x.metric, crate::limits::LimitMetric::Te(_)))
+            {
+                let c = crate::limits::check_single(lim, None, 0.0, "not computed", None);
+                let mut line = super::limits::verdict_line(&c, &l.src.name);
+                line.judgement = Judgement::not_judged(format!("not computed: {e}"));
+                line.result = format!("not computed: {e}");
+                r.verdicts.push(line);
+            }
             for m in &masks {
                 r.verdicts.push(VerdictLine {
                     kind: VerdictKind::Mask,
@@ -132,6 +147,12 @@ pub(super) fn wander(dut: &Dut, records: &[Loaded], ties: &[Loaded], r: &mut Rep
             violations: c.violations.len(),
             source_note: c.source_note.clone(),
         });
+    }
+    for c in &res.te_checks {
+        r.verdicts.push(super::limits::verdict_line(
+            c,
+            &format!("{} (time error)", l.src.name),
+        ));
     }
     let mut notes = Vec::new();
     if let Some(f) = &res.filter {

@@ -282,6 +282,34 @@ pub(super) fn phase_noise(
             ));
         }
     }
+    // Period jitter straight from each time record (the library call of
+    // `jitter --record --period`), when a band asks for period jitter: the
+    // record's TIE differences, one carrier period apart.
+    let asked = dut.jitter.iter().find_map(|j| j.period);
+    if let (Some(req), Some(nu0)) = (asked, dut.carrier.or(carrier)) {
+        for l in records {
+            let x = l.series.record.to_phase();
+            notes.push(
+                match crate::spectrum::jitter::record_period_jitter(&x.x, x.tau0, nu0, req.periods) {
+                    Ok(p) => format!(
+                        "Record {}: period jitter {} rms, cycle-to-cycle {} rms{} from its TIE differences ({} periods; as `jitter --record --period`).",
+                        l.src.name,
+                        format_si(p.period_rms_s, "s", 4),
+                        format_si(p.c2c_rms_s, "s", 4),
+                        match (p.periods, p.n_period_rms_s) {
+                            (Some(n), Some(v)) => format!(", over {n} periods {}", format_si(v, "s", 4)),
+                            _ => String::new(),
+                        },
+                        p.count
+                    ),
+                    Err(e) => format!(
+                        "Record {}: period jitter from the record not computed: {e}.",
+                        l.src.name
+                    ),
+                },
+            );
+        }
+    }
     if !dut.jitter.is_empty() {
         r.methods.push(method(
             "integrated phase jitter",
@@ -316,6 +344,9 @@ pub(super) fn phase_noise(
         },
         bands: rows,
         notes,
+        limits: Vec::new(),
+        limit_checks: Vec::new(),
+        limit_rows: Vec::new(),
     });
     Ok(())
 }

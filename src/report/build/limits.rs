@@ -1,7 +1,7 @@
 //! Limit files of a DUT (`[device] limit_files`): each σ limit checked on
-//! the first record as the report prepared it (the `stability` command's
-//! library path, [`crate::limits::check_sigma`]), each L(f) limit on the
-//! first phase-noise table ([`crate::limits::check_lf`], as `jitter TABLE
+//! every record as the report prepared it (the `stability` command's
+//! library path, [`crate::limits::check_sigma`]), each L(f) limit on every
+//! phase-noise table ([`crate::limits::check_lf`], as `jitter TABLE
 //! --limit-file`); MTIE and TDEV limits join the `[wander]` masks
 //! (decisions.rs). One verdict line per limit, kind `limit`.
 
@@ -25,7 +25,16 @@ pub(super) fn read(dut: &Dut) -> Result<Vec<Limit>> {
 /// The verdict line of one check, `source` the record or table it ran on.
 pub fn verdict_line(c: &LimitCheck, source: &str) -> VerdictLine {
     let judged = c.judgement.verdict != Verdict::NotJudged;
-    let mut result = if judged {
+    let mut result = if judged && c.metric.is_single() {
+        format!(
+            "measured/limit {:.3} ({}); {} of {source}",
+            c.worst_ratio.unwrap_or(f64::NAN),
+            c.worst_margin_db
+                .map(format_margin_db)
+                .unwrap_or_else(|| "no margin".into()),
+            c.checked_words()
+        )
+    } else if judged {
         let worst = match (c.worst_ratio, c.worst_at) {
             (Some(r), Some(at)) => {
                 let at = format!("{} = {}", c.axis.symbol(), format_si(at, c.axis.unit(), 4));
@@ -66,10 +75,20 @@ pub fn verdict_line(c: &LimitCheck, source: &str) -> VerdictLine {
         },
         item: c.label(),
         criterion: format!(
-            "{} below the limit of {} (line {}) wherever it sets one{}",
+            "{} {} the limit of {} (line {}){}{}",
             c.metric.label(),
+            if c.metric.is_single() {
+                "over the record at or below"
+            } else {
+                "below"
+            },
             c.file,
             c.line,
+            if c.metric.is_single() {
+                ""
+            } else {
+                " wherever it sets one"
+            },
             c.note
                 .as_ref()
                 .map(|n| format!("; {n}"))
@@ -122,48 +141,73 @@ pub(super) fn check(
         .collect();
     let not_judged = not_judged_line;
     if !sigma.is_empty() {
-        match records.first() {
-            None => {
-                for l in &sigma {
-                    not_judged(r, l, "the DUT file lists no [[record]] to check it on");
-                }
+        if records.is_empty() {
+            for l in &sigma {
+                not_judged(r, l, "the DUT file lists no [[record]] to check it on");
             }
-            Some(rec) => {
-                // The record as the stability section analysed it.
-                let x = work
-                    .first()
-                    .and_then(|w| w.prepared.as_ref())
-                    .map(|p| p.record.to_phase())
-                    .unwrap_or_else(|| rec.series.record.to_phase());
-                let req = Request {
-                    estimators: opts.estimators.clone(),
-                    grid: opts.grid.clone(),
-                    confidence: opts.confidence,
-                    forced_alpha: None,
-                    bias_correction: true,
-                };
-                let source = format!("the record '{}' as prepared", rec.src.name);
-                for c in crate::limits::check_sigma_with(&x, &req, &sigma, &r.decision)? {
-                    r.verdicts.push(verdict_line(&c, &source));
+        }
+        // Every record, as the stability section analysed it.
+        let req = Request {
+            estimators: opts.estimators.clone(),
+            grid: opts.grid.clone(),
+            confidence: opts.confidence,
+            forced_alpha: None,
+            bias_correction: true,
+        };
+        for (i, rec) in records.iter().enumerate() {
+            let x = work
+                .get(i)
+                .and_then(|w| w.prepared.as_ref())
+                .map(|p| p.record.to_phase())
+                .unwrap_or_else(|| rec.series.record.to_phase());
+            let source = format!("the record '{}' as prepared", rec.src.name);
+            let checks = crate::limits::check_sigma_with(&x, &req, &sigma, &r.decision)?;
+            for c in &checks {
+                r.verdicts.push(verdict_line(c, &source));
+            }
+            if let Part::Done(list) = &mut r.stability {
+                if let Some(sec) = list.iter_mut().find(|x| x.source == rec.src.name) {
+                    sec.limits = sigma.clone();
+                    sec.limit_checks = checks;
                 }
             }
         }
     }
     if !lf.is_empty() {
-        match tables.first() {
-            None => {
-                for l in &lf {
-                    not_judged(
-                        r,
-                        l,
-                        "the DUT file lists no [[phase_noise]] table to check it on",
-                    );
-                }
+        if tables.is_empty() {
+            for l in &lf {
+                not_judged(
+                    r,
+                    l,
+                    "the DUT file lists no [[phase_noise]] table to check it on",
+                );
             }
-            Some(t) => {
-                let source = format!("the table '{}'", t.src.name);
-                for c in crate::limits::check_lf_with(&t.table.spectrum, &lf, &r.decision)? {
-                    r.verdicts.push(verdict_line(&c, &source));
+        }
+        // Every table.
+        for t in tables {
+            let source = format!("the table '{}'", t.src.name);
+            let checks = crate::limits::check_lf_with(&t.table.spectrum, &lf, &r.decision)?;
+            for c in &checks {
+                r.verdicts.push(verdict_line(c, &source));
+            }
+            if let Part::Done(sec) = &mut r.phase_noise {
+                if sec.source == t.src.name {
+                    let lf_table = t.table.spectrum.to(crate::spectrum::Quantity::Lf)?;
+                    for (l, c) in lf.iter().zip(&checks) {
+                        let shape = l.shape();
+                        for (f, v) in crate::limits::lf_points(&lf_table, l)? {
+                            if let Some(lim) = shape.eval(f) {
+                                sec.limit_rows.push(LfLimitRow {
+                                    limit: c.label(),
+                                    offset: f,
+                                    measured: v,
+                                    value: 10.0 * lim.log10(),
+                                });
+                            }
+                        }
+                    }
+                    sec.limits = lf.clone();
+                    sec.limit_checks = checks;
                 }
             }
         }

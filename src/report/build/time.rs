@@ -285,6 +285,8 @@ pub(super) fn stability(
             rows,
             confidence: opts.confidence,
             notes,
+            limits: Vec::new(),
+            limit_checks: Vec::new(),
         });
         work.push(Worked { curves, prepared });
     }

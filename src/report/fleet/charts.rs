@@ -221,6 +221,8 @@ mod tests {
             rows: vec![],
             confidence: 0.683,
             notes: vec![],
+            limits: vec![],
+            limit_checks: vec![],
         }]);
         r.phase_noise = Part::Done(PhaseNoiseSection {
             source: "t".into(),
@@ -238,6 +240,9 @@ mod tests {
             },
             bands: vec![],
             notes: vec![],
+            limits: vec![],
+            limit_checks: vec![],
+            limit_rows: vec![],
         });
         let wp = |metric| WanderPlot {
             title: name.into(),

@@ -27,8 +27,10 @@
 
 pub mod filter;
 
+use super::masks::{Mask, Metric};
 use crate::deviation::{compute, Estimate, Estimator};
 use crate::error::{Error, Result};
+use crate::limits::{Limit, LimitCheck, LimitMetric, TeMetric};
 use crate::record::PhaseRecord;
 use crate::units::format_si;
 use filter::{AppliedFilter, MeasurementFilter};
@@ -77,6 +79,9 @@ pub struct TeMetrics {
     pub cte_windows: usize,
     /// max |TE| of the record as read, s.
     pub max_abs: f64,
+    /// max |TE_L|: the largest |TE| of the record through the dTE_L
+    /// low-pass (settling dropped), s.
+    pub max_abs_l: f64,
     /// MTIE of the low-passed TE (the point shape of `stability`).
     #[serde(serialize_with = "crate::deviation::serialize_as_points")]
     pub dte_l_mtie: Vec<Estimate>,
@@ -104,6 +109,7 @@ impl TeMetrics {
         self.cte *= k;
         self.cte_windowed_max_abs = self.cte_windowed_max_abs.map(|v| v * k);
         self.max_abs *= k;
+        self.max_abs_l *= k;
         self.dte_h_pkpk *= k;
         for e in self.dte_l_mtie.iter_mut().chain(self.dte_l_tdev.iter_mut()) {
             e.value *= k;
@@ -219,6 +225,12 @@ pub fn metrics_at(
             (a.min(v), b.max(v))
         });
     notes.push(SPLIT_NOTE.to_string());
+    let max_abs_l = lowpassed
+        .record
+        .x
+        .iter()
+        .filter(|v| !v.is_nan())
+        .fold(0.0f64, |m, v| m.max(v.abs()));
     Ok(TeMetrics {
         cte,
         cte_window: opts.cte_window,
@@ -226,6 +238,7 @@ pub fn metrics_at(
         cte_windowed_at: at,
         cte_windows: windows,
         max_abs,
+        max_abs_l,
         dte_l_mtie: compute(Estimator::Mtie, &lowpassed.record, mtie_ms),
         dte_l_tdev: compute(Estimator::Tdev, &lowpassed.record, tdev_ms),
         dte_h_pkpk: hi - lo,
@@ -250,7 +263,46 @@ pub fn split(rec: &PhaseRecord, opts: &TeOptions) -> Result<(filter::Filtered, f
 /// record's span, TDEV to a third of it). A record of extreme magnitude is
 /// worked on in an exactly rescaled copy, as the wander analysis does.
 pub fn metrics(rec: &PhaseRecord, opts: &TeOptions, grid: &super::Options) -> Result<TeMetrics> {
-    use super::masks::Metric;
+    Ok(metrics_checked(rec, opts, grid, &[])?.0)
+}
+
+/// A `dte-l` or `dte-l-tdev` limit as a mask on MTIE or TDEV (to plan its
+/// τ as a mask's: the grid, the record's end and its own breakpoints).
+fn te_mask(l: &Limit) -> Option<Mask> {
+    let metric = match l.metric {
+        LimitMetric::Te(TeMetric::DteL) => Metric::Mtie,
+        LimitMetric::Te(TeMetric::DteLTdev) => Metric::Tdev,
+        _ => return None,
+    };
+    Some(Mask {
+        name: l.name.clone(),
+        source_note: l.note.clone().unwrap_or_default(),
+        metric,
+        shape: l.shape(),
+    })
+}
+
+/// [`metrics`], and every time-error limit of `limits` judged on them
+/// (limits of other metrics are skipped):
+///
+/// - `cte`: the largest |mean TE| over the cTE windows against the limit;
+///   with no window that fits, |mean over the record|, coverage `partial`
+///   with the reason;
+/// - `max-te`: max |TE| of the record as read; `max-te-l`: max |TE_L|
+///   (through the dTE_L low-pass, settling dropped); `dte-h`: the
+///   peak-to-peak of the high-passed record — each |value| ≤ max
+///   ([`crate::limits::check_single`]);
+/// - `dte-l` (MTIE) and `dte-l-tdev` (TDEV) of the low-passed record: as a
+///   wander mask ([`crate::limits::check_limit`]), on the τ of its own plan
+///   (the grid, the low-passed record's end, its own breakpoints: the τ on
+///   both sides of each, which are added to the dTE_L curves), coverage
+///   against the low-passed record's span.
+pub fn metrics_checked(
+    rec: &PhaseRecord,
+    opts: &TeOptions,
+    grid: &super::Options,
+    limits: &[Limit],
+) -> Result<(TeMetrics, Vec<LimitCheck>)> {
     let nyquist = 0.5 / rec.tau0;
     if opts.split_hz.is_nan() || opts.split_hz >= nyquist {
         return Err(Error::invalid(format!(
@@ -267,11 +319,144 @@ pub fn metrics(rec: &PhaseRecord, opts: &TeOptions, grid: &super::Options) -> Re
     };
     let (lp, hp) = split(r, opts)?;
     let n = lp.record.len();
-    let (mtie_ms, _) = super::plan(Metric::Mtie, n, r.tau0, grid, &[])?;
-    let (tdev_ms, _) = super::plan(Metric::Tdev, n, r.tau0, grid, &[])?;
+    let masks: Vec<Mask> = limits.iter().filter_map(te_mask).collect();
+    let (mtie_ms, mtie_support) = super::plan(Metric::Mtie, n, r.tau0, grid, &masks)?;
+    let (tdev_ms, tdev_support) = super::plan(Metric::Tdev, n, r.tau0, grid, &masks)?;
     let mut m = metrics_at(r, opts, &lp, &hp, &mtie_ms, &tdev_ms)?;
     if back != 1.0 {
         m.scale(back);
     }
-    Ok(m)
+    let lp_why = "the low-passed record's span (settling dropped)";
+    let mut checks = Vec::new();
+    for l in limits {
+        let LimitMetric::Te(t) = l.metric else {
+            continue;
+        };
+        let c = match t {
+            TeMetric::DteL | TeMetric::DteLTdev => {
+                let Some(mask) = te_mask(l) else {
+                    continue;
+                };
+                let (own, _) =
+                    super::plan(mask.metric, n, r.tau0, grid, std::slice::from_ref(&mask))?;
+                let (curve, mut support) = if t == TeMetric::DteL {
+                    (&m.dte_l_mtie, mtie_support.clone())
+                } else {
+                    (&m.dte_l_tdev, tdev_support.clone())
+                };
+                if support.top_why.starts_with("the record")
+                    || support.top_why.starts_with("a third")
+                {
+                    support.top_why = if t == TeMetric::DteL {
+                        lp_why.to_string()
+                    } else {
+                        format!("a third of {lp_why}")
+                    };
+                }
+                let pts: Vec<(f64, f64)> = curve
+                    .iter()
+                    .filter(|p| own.binary_search(&p.m).is_ok())
+                    .map(|p| (p.tau, p.value))
+                    .collect();
+                crate::limits::check_limit(l, &pts, &support)
+            }
+            _ => single(l, t, &m),
+        };
+        checks.push(c);
+    }
+    Ok((m, checks))
+}
+
+/// A single-value time-error limit judged on the metrics.
+fn single(l: &Limit, t: TeMetric, m: &TeMetrics) -> LimitCheck {
+    let (v, partial) = match t {
+        TeMetric::Cte => match m.cte_windowed_max_abs {
+            Some(w) => (Some(w), None),
+            None => (
+                Some(m.cte.abs()),
+                Some(format!(
+                    "no cTE window of {} fits the record: |cTE| over the whole record ({}) is judged",
+                    format_si(m.cte_window, "s", 4),
+                    format_si(m.span, "s", 4)
+                )),
+            ),
+        },
+        TeMetric::MaxTe => (Some(m.max_abs), None),
+        TeMetric::MaxTeL => (Some(m.max_abs_l), None),
+        TeMetric::DteH => (Some(m.dte_h_pkpk), None),
+        TeMetric::DteL | TeMetric::DteLTdev => (None, None),
+    };
+    crate::limits::check_single(l, v, m.span, "not computed", partial)
+}
+
+/// Time-error limits judged without the filtered metrics (when they
+/// cannot be computed, e.g. τ0 too long for the 0.1 Hz split, `why`):
+/// `max-te` on the record as read, `cte` on its whole-record mean or the
+/// cTE windows as [`metrics_checked`] does; the filtered ones `not-judged`
+/// with `why`.
+pub fn check_unfiltered(
+    rec: &PhaseRecord,
+    opts: &TeOptions,
+    limits: &[Limit],
+    why: &str,
+) -> Vec<LimitCheck> {
+    let valid: Vec<f64> = rec.x.iter().copied().filter(|v| !v.is_nan()).collect();
+    let span = (rec.len().max(1) - 1) as f64 * rec.tau0;
+    let mut out = Vec::new();
+    for l in limits {
+        let LimitMetric::Te(t) = l.metric else {
+            continue;
+        };
+        let c = match t {
+            _ if valid.len() < 2 => crate::limits::check_single(
+                l,
+                None,
+                span,
+                "the record has fewer than two valid samples",
+                None,
+            ),
+            TeMetric::MaxTe => crate::limits::check_single(
+                l,
+                Some(valid.iter().fold(0.0f64, |m, v| m.max(v.abs()))),
+                span,
+                why,
+                None,
+            ),
+            TeMetric::Cte => {
+                let m = (opts.cte_window / rec.tau0).round();
+                let w = (m >= 1.0 && m <= rec.len() as f64)
+                    .then(|| windowed_means(&rec.x, m as usize))
+                    .flatten();
+                match w {
+                    Some((v, _, _)) => crate::limits::check_single(l, Some(v), span, why, None),
+                    None => {
+                        let xr = valid[0];
+                        let mean =
+                            valid.iter().map(|v| v - xr).sum::<f64>() / valid.len() as f64 + xr;
+                        crate::limits::check_single(
+                            l,
+                            Some(mean.abs()),
+                            span,
+                            why,
+                            Some(format!(
+                                "no cTE window of {} fits the record: |cTE| over the whole record ({}) is judged",
+                                format_si(opts.cte_window, "s", 4),
+                                format_si(span, "s", 4)
+                            )),
+                        )
+                    }
+                }
+            }
+            _ => {
+                if t.is_single() {
+                    crate::limits::check_single(l, None, span, why, None)
+                } else {
+                    crate::limits::check_limit(l, &[], &super::check::Support::unbounded(rec.tau0))
+                        .not_judged_because(why)
+                }
+            }
+        };
+        out.push(c);
+    }
+    out
 }
