@@ -13,7 +13,7 @@ use tauwise::results::{RecordInput, WanderBody};
 use tauwise::tau::TauGrid;
 use tauwise::units::UnitError;
 use tauwise::verdict::gate;
-use tauwise::wander::masks::{builtin, builtin_file, builtin_list};
+use tauwise::wander::masks::{builtin, builtin_file, builtin_list_text};
 use tauwise::wander::te::{TeOptions, DEFAULT_CTE_WINDOW};
 use tauwise::wander::{analyse_limits, Options};
 use tauwise::Result;
@@ -81,13 +81,7 @@ pub struct Args {
 /// Run `wander`.
 pub fn run(args: Args) -> Result<Outcome> {
     if args.list_masks || args.files.is_empty() {
-        for b in builtin_list()? {
-            println!("{}  [{}]\n  {}", b.name, b.metrics.join(", "), b.note);
-        }
-        println!(
-            "\nEvery break point: docs/time-error.md. {}",
-            tauwise::DECISION_CAUTION
-        );
+        super::common::emit_to(None, builtin_list_text()?.as_bytes())?;
         return Ok(Outcome::Done);
     }
     let tdev_plot = (args.files.len() > 1)

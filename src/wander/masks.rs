@@ -315,6 +315,19 @@ pub fn builtin_list() -> Result<Vec<BuiltinInfo>> {
         .collect()
 }
 
+/// The text of `wander --list-masks`: each built-in limit's name and
+/// metrics, its note under it, then where every break point is written and
+/// the decision caution.
+pub fn builtin_list_text() -> Result<String> {
+    let mut out = String::new();
+    for b in builtin_list()? {
+        out.push_str(&format!("{}  [{}]\n  {}\n", b.name, b.metrics.join(", "), b.note));
+    }
+    let caution = crate::DECISION_CAUTION;
+    out.push_str(&format!("\nEvery break point: docs/time-error.md. {caution}\n"));
+    Ok(out)
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
