@@ -63,14 +63,24 @@ pub enum IntervalMethod {
     /// (this module).
     #[serde(rename = "quadratic-form")]
     QuadraticForm,
+    /// The union of the quadratic-form and the χ²_ν interval, taken at
+    /// confidence levels of [`GUARD_CONFIDENCE`] and above ([`interval_for`]).
+    #[serde(rename = "union")]
+    Union,
+    /// Percentiles of a seeded Monte Carlo of the statistic (the covariance
+    /// separation of `separate`, `crate::separate`).
+    #[serde(rename = "monte-carlo")]
+    MonteCarlo,
 }
 
 impl IntervalMethod {
-    /// The JSON name: `chi2` or `quadratic-form`.
+    /// The JSON name: `chi2`, `quadratic-form`, `union` or `monte-carlo`.
     pub fn name(self) -> &'static str {
         match self {
             IntervalMethod::Chi2 => "chi2",
             IntervalMethod::QuadraticForm => "quadratic-form",
+            IntervalMethod::Union => "union",
+            IntervalMethod::MonteCarlo => "monte-carlo",
         }
     }
 }
@@ -417,7 +427,7 @@ pub fn interval_for(
         Some((q_lo, q_hi)) if confidence >= GUARD_CONFIDENCE => (
             (dev / q_hi.sqrt()).min(lo),
             (dev / q_lo.sqrt()).max(hi),
-            IntervalMethod::QuadraticForm,
+            IntervalMethod::Union,
         ),
         Some((q_lo, q_hi)) => (
             dev / q_hi.sqrt(),
