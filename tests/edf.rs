@@ -893,7 +893,12 @@ fn each_point_says_how_its_interval_was_made() {
                 continue;
             };
             let json = serde_json::to_value(p).unwrap();
-            assert_eq!(json["interval_method"], how.name(), "τ = {}", p.estimate.tau);
+            assert_eq!(
+                json["interval_method"],
+                how.name(),
+                "τ = {}",
+                p.estimate.tau
+            );
             if t_over_tau <= 16.0 {
                 assert_eq!(how, long, "T/τ = {t_over_tau}");
                 seen.0 += 1;

@@ -28,9 +28,9 @@
 
 use super::{clock_point, pair_bound, ClockPoint, PairRecord, Request, Resolution};
 use crate::deviation::{compute, Curve, Estimate, Point};
-use crate::stats::form_interval::IntervalMethod;
 use crate::error::{Error, Result};
 use crate::record::PhaseRecord;
+use crate::stats::form_interval::IntervalMethod;
 use nalgebra::{DMatrix, DVector};
 use rand::SeedableRng;
 use rand_distr::{ChiSquared, Distribution, StandardNormal};

@@ -556,8 +556,7 @@ pub(crate) fn clock_point(
         let edf = sd.map(|s| 2.0 * var * var / (s * s));
         let (lo, hi, interval_method) = match edf {
             Some(nu) => {
-                let (lo, hi, how) =
-                    crate::stats::annotate::combined_interval(dev, nu, confidence)?;
+                let (lo, hi, how) = crate::stats::annotate::combined_interval(dev, nu, confidence)?;
                 (Some(lo), Some(hi), Some(how))
             }
             None => (None, None, None),

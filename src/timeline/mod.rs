@@ -446,8 +446,13 @@ pub fn timeline(x: &PhaseRecord, req: &Request) -> Result<Timeline> {
             })
         })
         .collect::<Result<_>>()?;
-    let (events, false_alarm) =
-        departures(&whole, x.x.len(), &windows, req.window, req.event_confidence)?;
+    let (events, false_alarm) = departures(
+        &whole,
+        x.x.len(),
+        &windows,
+        req.window,
+        req.event_confidence,
+    )?;
     Ok(Timeline {
         whole,
         windows,
