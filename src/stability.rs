@@ -411,6 +411,7 @@ mod tests {
             alpha: Some(0),
             bias: None,
             drift: false,
+            interval_method: None,
         }
     }
 

@@ -846,3 +846,70 @@ fn reduced_spectrum_quantiles_settle() {
         }
     }
 }
+
+// ---------------------------------------------------------------------------
+// The interval method each point reports (docs/json.md, `interval_method`)
+
+/// Each point's `interval_method` says what computed its interval: on a
+/// seeded white-FM record (N = 4097, OADEV, octave τ) the points with
+/// T/τ ≤ 16 take the quadratic form's distribution at 68.3 % and the union
+/// with χ² at 95 % (`form_interval::GUARD_CONFIDENCE`), the short-τ points
+/// χ²; the key is in the JSON of every point with an interval, and the
+/// bounds are those of `point_interval` (analytic: the χ²_ν interval of
+/// NIST SP 1065 §5.3 where it says `chi2`).
+#[test]
+fn each_point_says_how_its_interval_was_made() {
+    use tauwise::deviation::Estimator;
+    use tauwise::model::PowerLaw;
+    use tauwise::simulate::{simulate_phase, SimSpec};
+    use tauwise::stability::{analyse, Request};
+    use tauwise::stats::form_interval::IntervalMethod;
+    use tauwise::tau::TauGrid;
+    let mut model = PowerLaw::zero(0.5);
+    model.set(0, 1e-22);
+    let n = 4097;
+    let rec = simulate_phase(&SimSpec::new(model, 1.0, n, 2024)).unwrap();
+    for (confidence, long) in [
+        (0.683, IntervalMethod::QuadraticForm),
+        (0.95, IntervalMethod::Union),
+    ] {
+        let curve = analyse(
+            &rec,
+            &Request {
+                estimators: vec![Estimator::Oadev],
+                grid: TauGrid::Octave,
+                confidence,
+                forced_alpha: None,
+                bias_correction: true,
+            },
+        )
+        .unwrap()
+        .remove(0);
+        let mut seen = (0, 0);
+        for p in &curve.points {
+            let t_over_tau = (n - 1) as f64 / p.estimate.m as f64;
+            let Some(how) = p.interval_method else {
+                assert!(p.lo.is_none() && p.hi.is_none());
+                continue;
+            };
+            let json = serde_json::to_value(p).unwrap();
+            assert_eq!(
+                json["interval_method"],
+                how.name(),
+                "τ = {}",
+                p.estimate.tau
+            );
+            if t_over_tau <= 16.0 {
+                assert_eq!(how, long, "T/τ = {t_over_tau}");
+                seen.0 += 1;
+            } else {
+                assert_eq!(how, IntervalMethod::Chi2, "T/τ = {t_over_tau}");
+                let (lo, hi) = interval(p.estimate.value, p.edf.unwrap(), confidence).unwrap();
+                assert!((p.lo.unwrap() / lo - 1.0).abs() < 1e-12);
+                assert!((p.hi.unwrap() / hi - 1.0).abs() < 1e-12);
+                seen.1 += 1;
+            }
+        }
+        assert!(seen.0 >= 2 && seen.1 >= 5, "{seen:?}");
+    }
+}

@@ -277,10 +277,22 @@ fn the_same_estimate_has_the_same_json_keys_in_every_command() {
     let point = keys(&curve(&stab, "oadev"));
     assert_eq!(
         point,
-        ["tau", "m", "dev", "terms", "edf", "lo", "hi", "alpha", "noise", "bias"]
-            .iter()
-            .map(|k| k.to_string())
-            .collect()
+        [
+            "tau",
+            "m",
+            "dev",
+            "terms",
+            "edf",
+            "lo",
+            "hi",
+            "alpha",
+            "noise",
+            "bias",
+            "interval_method"
+        ]
+        .iter()
+        .map(|k| k.to_string())
+        .collect()
     );
     let wander = get("wander");
     for est in ["tdev", "mtie"] {

@@ -85,6 +85,7 @@ fn each_window_equals_stability_on_its_slice() {
                     assert_eq!(a.edf, b.edf);
                     assert_eq!(a.alpha, b.alpha);
                     assert_eq!(a.drift, b.drift);
+                    assert_eq!(a.interval_method, b.interval_method);
                     for (p, q) in [(a.lo, b.lo), (a.hi, b.hi)] {
                         assert!((p.unwrap() / q.unwrap() - 1.0).abs() < 1e-10);
                     }

@@ -464,6 +464,9 @@ pub struct Point {
     /// [`crate::stats::noise_id`]): estimators that see the drift have no
     /// EDF, interval or bias correction here.
     pub drift: bool,
+    /// How [`Point::lo`] and [`Point::hi`] were computed (`None` where there
+    /// is no interval): see [`crate::stats::annotate::point_interval`].
+    pub interval_method: Option<crate::stats::form_interval::IntervalMethod>,
 }
 
 /// The serialised shape of a [`Point`].
@@ -479,6 +482,7 @@ struct PointShape {
     alpha: Option<i32>,
     noise: Option<&'static str>,
     bias: Option<f64>,
+    interval_method: Option<crate::stats::form_interval::IntervalMethod>,
 }
 
 impl serde::Serialize for Point {
@@ -494,6 +498,7 @@ impl serde::Serialize for Point {
             alpha: self.alpha,
             noise: self.noise(),
             bias: self.bias,
+            interval_method: self.interval_method,
         }
         .serialize(s)
     }
@@ -538,6 +543,7 @@ impl Point {
             alpha: None,
             bias: None,
             drift: false,
+            interval_method: None,
         }
     }
 

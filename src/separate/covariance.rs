@@ -30,6 +30,7 @@ use super::{clock_point, pair_bound, ClockPoint, PairRecord, Request, Resolution
 use crate::deviation::{compute, Curve, Estimate, Point};
 use crate::error::{Error, Result};
 use crate::record::PhaseRecord;
+use crate::stats::form_interval::IntervalMethod;
 use nalgebra::{DMatrix, DVector};
 use rand::SeedableRng;
 use rand_distr::{ChiSquared, Distribution, StandardNormal};
@@ -318,9 +319,11 @@ pub(super) fn separate(
                     };
                     cp.point.lo = Some(qtl(0.5 * (1.0 - req.confidence)));
                     cp.point.hi = Some(qtl(0.5 * (1.0 + req.confidence)));
+                    cp.point.interval_method = Some(IntervalMethod::MonteCarlo);
                 } else {
                     cp.point.lo = None;
                     cp.point.hi = None;
+                    cp.point.interval_method = None;
                 }
             }
             out[c].push(cp);

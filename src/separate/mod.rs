@@ -578,12 +578,12 @@ pub(crate) fn clock_point(
     if var > 0.0 && !sd.is_some_and(|s| s > std::f64::consts::SQRT_2 * var) {
         let dev = var.sqrt();
         let edf = sd.map(|s| 2.0 * var * var / (s * s));
-        let (lo, hi) = match edf {
+        let (lo, hi, interval_method) = match edf {
             Some(nu) => {
-                let (lo, hi) = crate::stats::interval(dev, nu, confidence)?;
-                (Some(lo), Some(hi))
+                let (lo, hi, how) = crate::stats::annotate::combined_interval(dev, nu, confidence)?;
+                (Some(lo), Some(hi), Some(how))
             }
-            None => (None, None),
+            None => (None, None, None),
         };
         return Ok(ClockPoint {
             point: Point {
@@ -597,6 +597,7 @@ pub(crate) fn clock_point(
                 alpha,
                 bias: None,
                 drift: false,
+                interval_method,
             },
             variance: var,
             variance_sd: sd,
@@ -622,6 +623,7 @@ pub(crate) fn clock_point(
             alpha,
             bias: None,
             drift: false,
+            interval_method: None,
         },
         variance: var,
         variance_sd: sd,

@@ -153,6 +153,21 @@ pub fn point_interval(
     crate::stats::form_interval::interval_for(est, alpha, e.m, n, e.value, edf, confidence)
 }
 
+/// The interval of a statistic that is not one estimator's quadratic form
+/// on the record (a separated clock's variance, combined from several
+/// pairs' estimates with a Satterthwaite EDF): the χ²_ν interval
+/// ([`crate::stats::interval()`]), reported as [`IntervalMethod::Chi2`].
+/// The one path for such points, beside [`point_interval`] for an
+/// estimator's own points.
+pub fn combined_interval(
+    dev: f64,
+    edf: f64,
+    confidence: f64,
+) -> Result<(f64, f64, IntervalMethod)> {
+    let (lo, hi) = crate::stats::interval(dev, edf, confidence)?;
+    Ok((lo, hi, IntervalMethod::Chi2))
+}
+
 /// Annotate the estimates of `est` on the record `x`: the noise at each τ
 /// ([`crate::stats::dominant_noise`], or `opts.forced_alpha`), its EDF
 /// ([`fn@edf`], [`crate::stats::theo`]) and the two-sided interval at
@@ -258,13 +273,13 @@ pub fn annotate_with(
                 value: e.value / bias.unwrap_or(1.0).sqrt(),
                 ..*e
             };
-            let (lo, hi) = match nu {
+            let (lo, hi, interval_method) = match nu {
                 Some(v) if estimate.value.is_finite() => {
-                    let (lo, hi, _) =
+                    let (lo, hi, how) =
                         point_interval(est, n, &estimate, id.alpha, v, opts.confidence)?;
-                    (Some(lo), Some(hi))
+                    (Some(lo), Some(hi), Some(how))
                 }
-                _ => (None, None),
+                _ => (None, None, None),
             };
             Ok(Point {
                 estimate,
@@ -274,6 +289,7 @@ pub fn annotate_with(
                 alpha: Some(id.alpha),
                 bias,
                 drift,
+                interval_method,
             })
         })
         .collect()

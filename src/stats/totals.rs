@@ -371,11 +371,7 @@ fn totdev_edf(alpha: i32, m: usize, n_phase: usize) -> Option<f64> {
     let ratio = (n_phase - 1) as f64 / m as f64;
     let (b, c) = match alpha {
         2 => return totvar_edf_white_pm(m, n_phase),
-        1 => {
-            let penalty = 1.0 / totvar_edf_white_pm(m, n_phase)? - 1.0 / oadev(2)?;
-            let inv = 1.0 / oadev(1)? + penalty.max(0.0);
-            return (inv.is_finite() && inv > 0.0).then(|| 1.0 / inv);
-        }
+        1 => return totvar_edf_flicker_pm(m, n_phase),
         0 => (1.50, 0.0),
         -1 => (1.17, 0.22),
         -2 => (0.93, 0.36),
@@ -391,6 +387,61 @@ fn totdev_edf(alpha: i32, m: usize, n_phase: usize) -> Option<f64> {
     };
     let nu = (b * ratio - c) * factor;
     (nu > 0.0).then_some(nu)
+}
+
+/// The EDF of TOTVAR for flicker PM at factor m on a gap-free record of
+/// `n_phase` samples.
+///
+/// Exact ([`totvar_edf_by_terms`], remembered per (m, N)) while
+/// m·N ≤ [`TOTVAR_FPM_EXACT_BUDGET`]: that covers every τ of records up to
+/// 2048 samples, and m ≤ 1024 at N = 4096. Beyond, the larger of two values
+/// that both lie at or below the exact one at T/τ ≤ 16 (measured up to
+/// m = 8192 by `examples/totdev_fpm_edf.rs`, table in docs/statistics.md):
+/// the exact EDF on the reduced record with the same T/τ = (N − 1)/m and the
+/// largest m′ within the budget (at fixed T/τ the flicker-PM EDF grows
+/// slowly with m: T/τ = 4 gives 20.4, 21.3, 22.2, 22.9 at m = 1024 … 8192),
+/// and the bound [`totvar_edf_flicker_pm_bound`] (10–20 % below the exact
+/// EDF at T/τ ≤ 8, approaching it as m grows). So a long record's interval
+/// there errs wide, never narrow.
+pub fn totvar_edf_flicker_pm(m: usize, n_phase: usize) -> Option<f64> {
+    static EXACT: Cache<(usize, usize), f64> = OnceLock::new();
+    if m == 0 || n_phase < 2 * m + 1 || n_phase < 3 {
+        return None;
+    }
+    let exact = |m: usize, n: usize| cached(&EXACT, (m, n), || totvar_edf_by_terms(1, m, n));
+    if m.saturating_mul(n_phase) <= TOTVAR_FPM_EXACT_BUDGET {
+        return exact(m, n_phase);
+    }
+    let ratio = (n_phase - 1) as f64 / m as f64;
+    let reduced_n = |mr: usize| (ratio * mr as f64).round() as usize + 1;
+    let mut mr = m;
+    while mr > 1 && mr.saturating_mul(reduced_n(mr)) > TOTVAR_FPM_EXACT_BUDGET {
+        mr /= 2;
+    }
+    let nr = reduced_n(mr).max(2 * mr + 1);
+    let reduced = exact(mr, nr);
+    let bound = totvar_edf_flicker_pm_bound(m, n_phase);
+    match (reduced, bound) {
+        (Some(a), Some(b)) => Some(a.max(b)),
+        (a, b) => a.or(b),
+    }
+}
+
+/// Above this m·N the flicker-PM EDF of TOTVAR is not computed exactly at
+/// the point itself ([`totvar_edf_flicker_pm`]); at the budget the exact
+/// sum costs about 0.2 s once per (m, N) (2 cores).
+pub const TOTVAR_FPM_EXACT_BUDGET: usize = 1 << 22;
+
+/// A lower bound on TOTVAR's flicker-PM EDF (our rule, the only one before
+/// [`totvar_edf_by_terms`]): the overlapping Allan EDF of flicker PM with
+/// the penalty the reflected ends cost white PM,
+/// 1/ν = 1/ν_OADEV(FPM) + [1/ν_TOT(WPM) − 1/ν_OADEV(WPM)]. Against the exact
+/// EDF: 10–21 % low at T/τ = 3 … 8, 1–6 % at T/τ = 16 (m ≥ 16).
+pub fn totvar_edf_flicker_pm_bound(m: usize, n_phase: usize) -> Option<f64> {
+    let oa = |a: i32| crate::stats::edf::edf(VarianceKind::OverlappingAllan, a, m, n_phase);
+    let penalty = 1.0 / totvar_edf_white_pm(m, n_phase)? - 1.0 / oa(2)?;
+    let inv = 1.0 / oa(1)? + penalty.max(0.0);
+    (inv.is_finite() && inv > 0.0).then(|| 1.0 / inv)
 }
 
 /// The exact EDF of TOTVAR for white PM on a gap-free record of `n_phase`
@@ -615,4 +666,137 @@ pub fn modified_total_edf_exact(
         return None;
     }
     local_edf_exact(which, alpha, m, n_phase)
+}
+
+/// The exact EDF of TOTVAR at factor m on a gap-free record of `n_phase`
+/// samples for noise α = 2 … −2, from the covariances of its terms, in
+/// O(m·N) instead of the dense form's O(N²·m).
+///
+/// With T_t = c_tᵀx the N − 2 terms (x*_{i−m} − 2x_i + x*_{i+m}, reflected
+/// ends included) and G_tu = E\[T_t T_u\] = c_tᵀ S c_u, the estimate
+/// Σ T_t² has mean Σ_t G_tt and variance 2 Σ_{t,u} G_tu², so
+/// ν = (Σ_t G_tt)² / Σ_{t,u} G_tu² (the definition of the EDF; Greenhall &
+/// Riley 2003 evaluate the same for estimators whose terms are all alike).
+/// The N − 2m inner terms (centres m … N − 1 − m) are ordinary overlapping
+/// Allan terms, whose covariance r(k) depends only on their distance k:
+/// their pairs sum to Σ_{|k|<L} (L − |k|)·r(k)², L = N − 2m, in O(N). The
+/// 2(m − 1) end terms (each reading a reflected sample 2x_0 − x_j or its
+/// twin at the far end) are paired with every term directly: O(m·N).
+/// Checked against the dense form [`totvar_edf_exact`] (`tests/edf.rs`).
+///
+/// ```
+/// use tauwise::stats::totals::{totvar_edf_by_terms, totvar_edf_exact};
+/// for alpha in [2, 1, 0, -1, -2] {
+///     let fast = totvar_edf_by_terms(alpha, 12, 97).unwrap();
+///     let dense = totvar_edf_exact(alpha, 12, 97).unwrap();
+///     assert!((fast / dense - 1.0).abs() < 1e-9, "α = {alpha}");
+/// }
+/// ```
+pub fn totvar_edf_by_terms(alpha: i32, m: usize, n_phase: usize) -> Option<f64> {
+    let (mean, sq, _) = totvar_term_sums(alpha, m, n_phase)?;
+    (sq > 0.0 && mean.is_finite()).then(|| mean * mean / sq)
+}
+
+/// (Σ_t G_tt, Σ_{t,u} G_tu², Σ over the inner pairs alone) of
+/// [`totvar_edf_by_terms`].
+fn totvar_term_sums(alpha: i32, m: usize, n_phase: usize) -> Option<(f64, f64, f64)> {
+    use rayon::prelude::*;
+    let n = n_phase;
+    if !(-2..=2).contains(&alpha) || m == 0 || n < 2 * m + 1 || n < 3 {
+        return None;
+    }
+    let g = sampled_phase_gacv(alpha, n);
+    if g.len() < n {
+        return None;
+    }
+    let s = |k: usize| g[k];
+    let term = |i: usize| -> [(usize, f64); 5] {
+        let [a, b] = reflected_terms(n, i as isize - m as isize);
+        let [c, d] = reflected_terms(n, (i + m) as isize);
+        [a, b, (i, -2.0), c, d]
+    };
+    let cov = |t: &[(usize, f64); 5], u: &[(usize, f64); 5]| -> f64 {
+        let mut v = 0.0;
+        for &(i, ci) in t {
+            if ci == 0.0 {
+                continue;
+            }
+            for &(j, cj) in u {
+                if cj != 0.0 {
+                    v += ci * cj * s(i.abs_diff(j));
+                }
+            }
+        }
+        v
+    };
+    // Inner terms: covariance at centre distance k.
+    let inner = n - 2 * m;
+    let w = [(0usize, 1.0), (m, -2.0), (2 * m, 1.0)];
+    let r = |k: usize| -> f64 {
+        let mut v = 0.0;
+        for &(a, ca) in &w {
+            for &(b, cb) in &w {
+                v += ca * cb * s((k + a).abs_diff(b));
+            }
+        }
+        v
+    };
+    let r0 = r(0);
+    let mut inner_sq = r0 * r0 * inner as f64;
+    for k in 1..inner {
+        let v = r(k);
+        inner_sq += 2.0 * (inner - k) as f64 * v * v;
+    }
+    // h(d) = E[x_p·T_j] for p − j = d, an inner term T_j centred at j:
+    // s(|d + m|) − 2s(|d|) + s(|d − m|), tabled for |d| ≤ N.
+    let off = n as isize;
+    let h: Vec<f64> = (-off..=off)
+        .map(|d| {
+            s((d + m as isize).unsigned_abs().min(n)) - 2.0 * s(d.unsigned_abs().min(n))
+                + s((d - m as isize).unsigned_abs().min(n))
+        })
+        .collect();
+    let ends: Vec<[(usize, f64); 5]> = (1..m).chain(n - m..n - 1).map(term).collect();
+    // For each end term: its own G_tt, Σ over inner u of G_tu² and Σ over
+    // end u of G_tu².
+    let (end_diag, end_inner, end_end) = ends
+        .par_iter()
+        .map(|t| {
+            let with_end: f64 = ends
+                .iter()
+                .map(|u| {
+                    let v = cov(t, u);
+                    v * v
+                })
+                .sum();
+            let mut with_inner = 0.0;
+            for j in m..n - m {
+                let mut v = 0.0;
+                for &(p, c) in t {
+                    v += c * h[(p as isize - j as isize + off) as usize];
+                }
+                with_inner += v * v;
+            }
+            (cov(t, t), with_inner, with_end)
+        })
+        .reduce(|| (0.0, 0.0, 0.0), |a, b| (a.0 + b.0, a.1 + b.1, a.2 + b.2));
+    let mean = inner as f64 * r0 + end_diag;
+    let sq = inner_sq + 2.0 * end_inner + end_end;
+    Some((mean, sq, inner_sq))
+}
+
+/// What the reflected ends cost TOTVAR's EDF at factor m on a gap-free
+/// record of `n_phase` samples, noise α: 1/ν_TOT − 1/ν_inner, ν_TOT the
+/// exact EDF of all N − 2 terms ([`totvar_edf_by_terms`]) and ν_inner that
+/// of its N − 2m inner terms alone (the overlapping Allan variance on the
+/// same record), both exact for the sampled power law.
+pub fn totvar_end_penalty(alpha: i32, m: usize, n_phase: usize) -> Option<f64> {
+    let (mean, sq, inner_sq) = totvar_term_sums(alpha, m, n_phase)?;
+    let inner = (n_phase - 2 * m) as f64;
+    let g = sampled_phase_gacv(alpha, 2 * m);
+    let w = [(0usize, 1.0), (m, -2.0), (2 * m, 1.0)];
+    let r0 = mean_square(&w, |k| g[k]);
+    let inner_mean = inner * r0;
+    let p = sq / (mean * mean) - inner_sq / (inner_mean * inner_mean);
+    p.is_finite().then_some(p)
 }

@@ -39,6 +39,7 @@
 use crate::deviation::{Curve, Estimate, Estimator, Point};
 use crate::error::{Error, Result};
 use crate::record::PhaseRecord;
+use crate::stats::annotate::point_interval;
 use crate::stats::{annotate_with, NoiseIdentifier, StatsOptions};
 use crate::tau::TauGrid;
 use rayon::prelude::*;
@@ -445,7 +446,13 @@ pub fn timeline(x: &PhaseRecord, req: &Request) -> Result<Timeline> {
             })
         })
         .collect::<Result<_>>()?;
-    let (events, false_alarm) = departures(&whole, &windows, req.event_confidence)?;
+    let (events, false_alarm) = departures(
+        &whole,
+        x.x.len(),
+        &windows,
+        req.window,
+        req.event_confidence,
+    )?;
     Ok(Timeline {
         whole,
         windows,
@@ -456,19 +463,32 @@ pub fn timeline(x: &PhaseRecord, req: &Request) -> Result<Timeline> {
     })
 }
 
-/// The events and the expected false-alarm rate per τ (module notes).
+/// The events and the expected false-alarm rate per τ (module notes):
+/// `whole` from a record of `whole_len` samples, `windows` of `window_len`
+/// samples each. Both intervals of the event test come from
+/// [`crate::stats::annotate::point_interval`], the function behind every
+/// point's interval, at `event_confidence`.
 pub fn departures(
     whole: &Curve,
+    whole_len: usize,
     windows: &[Window],
+    window_len: usize,
     event_confidence: f64,
 ) -> Result<(Vec<Event>, Vec<FalseAlarm>)> {
+    let est = whole.estimator;
+    let interval = |len: usize, p: &Point, a: i32, nu: f64| -> Result<(f64, f64)> {
+        let (lo, hi, _) = point_interval(est, len, &p.estimate, a, nu, event_confidence)?;
+        Ok((lo, hi))
+    };
     let mut events = Vec::new();
     let mut alarms = Vec::new();
     for wp in &whole.points {
         let m = wp.estimate.m;
         let tau = wp.estimate.tau;
-        let Some(nu_all) = wp.edf else { continue };
-        let (alo, ahi) = crate::stats::interval(wp.estimate.value, nu_all, event_confidence)?;
+        let (Some(nu_all), Some(a_all)) = (wp.edf, wp.alpha) else {
+            continue;
+        };
+        let (alo, ahi) = interval(whole_len, wp, a_all, nu_all)?;
         let mut rates = Vec::new();
         let mut run: Option<Event> = None;
         for w in windows {
@@ -478,12 +498,12 @@ pub fn departures(
                 }
                 continue;
             };
-            let dir = match p.edf {
-                Some(nu) if p.estimate.value.is_finite() => {
+            let dir = match (p.edf, p.alpha) {
+                (Some(nu), Some(a)) if p.estimate.value.is_finite() => {
                     if let Some(r) = false_alarm_rate(nu, nu_all, event_confidence) {
                         rates.push(r);
                     }
-                    let (lo, hi) = crate::stats::interval(p.estimate.value, nu, event_confidence)?;
+                    let (lo, hi) = interval(window_len, p, a, nu)?;
                     if lo > ahi {
                         Some(Direction::Above)
                     } else if hi < alo {
