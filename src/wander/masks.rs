@@ -321,10 +321,17 @@ pub fn builtin_list() -> Result<Vec<BuiltinInfo>> {
 pub fn builtin_list_text() -> Result<String> {
     let mut out = String::new();
     for b in builtin_list()? {
-        out.push_str(&format!("{}  [{}]\n  {}\n", b.name, b.metrics.join(", "), b.note));
+        out.push_str(&format!(
+            "{}  [{}]\n  {}\n",
+            b.name,
+            b.metrics.join(", "),
+            b.note
+        ));
     }
     let caution = crate::DECISION_CAUTION;
-    out.push_str(&format!("\nEvery break point: docs/time-error.md. {caution}\n"));
+    out.push_str(&format!(
+        "\nEvery break point: docs/time-error.md. {caution}\n"
+    ));
     Ok(out)
 }
 
