@@ -143,7 +143,7 @@ pub fn run(args: Args) -> Result<Outcome> {
             best: args.best,
             limits: &limits,
             elsewhere: elsewhere.clone(),
-            phase_noise: table.as_ref().map(|t| (&t.spectrum, view.clone())),
+            phase_noise: table.as_ref().map(|t| (&t.spectrum, view)),
             decision: args.gate.rule(None),
         };
         let r = record_stability(&series.record.to_phase(), &request, &additions)?;
