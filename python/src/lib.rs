@@ -518,9 +518,6 @@ fn noise(
     taus: &str,
     remove_drift: Option<&str>,
 ) -> PyResult<String> {
-    use tauwise::deviation::Estimator;
-    use tauwise::results::{ModelSummary, NoiseBody};
-    use tauwise::stats::noise_id::{NoiseIdentifier, NoiseRow};
     let grid = parse_kw("taus", taus, tauwise::tau::TauGrid::parse)?;
     let drift = parse_opt(
         "remove_drift",
@@ -533,19 +530,8 @@ fn noise(
         .detach(|| -> tauwise::Result<_> {
             let processed = drift_removed(rec, drift)?;
             let x = as_phase(&processed);
-            let ms = grid.ms(x.tau0, Estimator::Oadev.max_m(x.len()))?;
-            let ids = NoiseIdentifier::new(&x);
-            let rows: Vec<NoiseRow> = ms
-                .iter()
-                .map(|&m| NoiseRow::new(m, x.tau0, ids.at(m)))
-                .collect();
-            let drift_per_day = ids.drift_rate().map(|d| d * 86_400.0);
-            let model = tauwise::stability::fit_record_model(&x, &grid)?;
-            let body = NoiseBody {
-                points: rows,
-                drift_per_day,
-                model: ModelSummary::of(&model.fit),
-            };
+            // The one library function `tauwise noise` calls.
+            let body = tauwise::results::NoiseBody::of_record(&x, &grid)?.0;
             Ok((input_of(rpath, rpre, &processed), body))
         })
         .py(py)?;
@@ -932,11 +918,7 @@ fn convert(
     use tauwise::io::lf_table::{read_lf_table, TableOptions, TableQuantity};
     use tauwise::model::PowerLaw;
     use tauwise::parse::Model;
-    use tauwise::results::{
-        ConvertSource as Source, ConvertedCurve, FittedModel, LfBody, SigmaBody, SpectrumRows,
-        SIGMA_METHOD,
-    };
-    use tauwise::spectrum::sigma::{grid_taus, sigma_curve, spectral, SigmaOptions};
+    use tauwise::results::{ConvertSource as Source, FittedModel, LfBody, SigmaBody, SpectrumRows};
     use tauwise::spectrum::{Quantity, Spectrum};
     #[derive(PartialEq)]
     enum Target {
@@ -1007,32 +989,14 @@ fn convert(
             let input = src.input.clone();
             let body = match target {
                 Target::Sigma => {
-                    for e in &estimators {
-                        spectral(*e)?;
-                    }
-                    let tau0 = tau0.unwrap_or(0.5 / src.f_h);
-                    let max_tau = max_tau.unwrap_or(src.max_tau);
-                    let taus = grid_taus(&grid, tau0, max_tau)?;
-                    let opt = SigmaOptions { tau0, f_h: src.f_h };
-                    let origin = if lf.is_some() {
-                        Origin::FromLf
-                    } else {
-                        Origin::FromModel
+                    let origin = match lf {
+                        Some(_) => Origin::FromLf,
+                        None => Origin::FromModel,
                     };
-                    let curves = estimators
-                        .iter()
-                        .map(|&e| {
-                            let points = sigma_curve(&src.spectrum, e, &taus, opt)?;
-                            Ok(ConvertedCurve::new(e, origin, &points))
-                        })
-                        .collect::<tauwise::Result<Vec<_>>>()?;
-                    ConvertBody::Sigma(SigmaBody {
-                        carrier,
-                        f_h: src.f_h,
-                        tau0,
-                        method: SIGMA_METHOD,
-                        curves,
-                    })
+                    // The one library function `tauwise convert --to sigma` calls.
+                    let range = (tau0, max_tau);
+                    let b = SigmaBody::compute(&src, &estimators, &grid, range, carrier, origin)?;
+                    ConvertBody::Sigma(b)
                 }
                 Target::Lf => {
                     let to = to_offset.unwrap_or(src.f_h);

@@ -10,11 +10,7 @@ use tauwise::io::lf_table::{read_lf_table, TableOptions, TableQuantity};
 use tauwise::model::PowerLaw;
 use tauwise::parse::{Duration, EstimatorList, Frequency, Model};
 use tauwise::plot::convert as charts;
-use tauwise::results::{
-    ConvertSource as Source, ConvertedCurve, FittedModel, LfBody, SigmaBody, SpectrumRows,
-    SIGMA_METHOD,
-};
-use tauwise::spectrum::sigma::{grid_taus, sigma_curve, spectral, SigmaOptions};
+use tauwise::results::{ConvertSource as Source, FittedModel, LfBody, SigmaBody, SpectrumRows};
 use tauwise::spectrum::{Quantity, Spectrum};
 use tauwise::{Error, Result};
 
@@ -159,33 +155,15 @@ pub fn run(args: Args) -> Result<Outcome> {
 }
 
 fn to_sigma(args: &Args, src: Source, carrier: Option<f64>) -> Result<()> {
-    let estimators = args.dev.0.clone();
-    for e in &estimators {
-        spectral(*e)?;
-    }
-    let tau0 = args.tau0.map(Duration::seconds).unwrap_or(0.5 / src.f_h);
-    let max_tau = args.max_tau.map(Duration::seconds).unwrap_or(src.max_tau);
-    let taus = grid_taus(&args.taus.taus, tau0, max_tau)?;
-    let opt = SigmaOptions { tau0, f_h: src.f_h };
-    let origin = if args.lf.is_some() {
-        Origin::FromLf
-    } else {
-        Origin::FromModel
+    let origin = match args.lf {
+        Some(_) => Origin::FromLf,
+        None => Origin::FromModel,
     };
-    let curves = estimators
-        .iter()
-        .map(|&e| {
-            let points = sigma_curve(&src.spectrum, e, &taus, opt)?;
-            Ok(ConvertedCurve::new(e, origin, &points))
-        })
-        .collect::<Result<Vec<_>>>()?;
-    let body = SigmaBody {
-        carrier,
-        f_h: src.f_h,
-        tau0,
-        method: SIGMA_METHOD,
-        curves,
-    };
+    let range = (
+        args.tau0.map(Duration::seconds),
+        args.max_tau.map(Duration::seconds),
+    );
+    let body = SigmaBody::compute(&src, &args.dev.0, &args.taus.taus, range, carrier, origin)?;
     args.plot
         .draw(|| Ok(charts::sigma_chart(&body, &src.label, args.sigma.is_some())))?;
     (args.output).write(

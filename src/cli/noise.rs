@@ -7,11 +7,8 @@ use super::common::{InputArgs, OutputArgs, PlotArgs, TauArgs};
 use super::Outcome;
 use clap::Args as ClapArgs;
 use std::path::PathBuf;
-use tauwise::deviation::Estimator;
 use tauwise::plot::stability::record_model_chart;
-use tauwise::results::{ModelSummary, NoiseBody};
-use tauwise::stability::fit_record_model;
-use tauwise::stats::noise_id::{NoiseIdentifier, NoiseRow};
+use tauwise::results::NoiseBody;
 use tauwise::Result;
 
 /// The dominant noise per τ (WPM … RWFM, or drift) and the fitted power-law model.
@@ -43,23 +40,11 @@ pub fn run(args: Args) -> Result<Outcome> {
     let mut series = args.input.load(&args.file)?;
     series.record = args.drift.apply(series.record)?;
     let x = series.record.to_phase();
-    let ms = grid.ms(x.tau0, Estimator::Oadev.max_m(x.len()))?;
-    let ids = NoiseIdentifier::new(&x);
-    let rows: Vec<NoiseRow> = ms
-        .iter()
-        .map(|&m| NoiseRow::new(m, x.tau0, ids.at(m)))
-        .collect();
-    let drift_per_day = ids.drift_rate().map(|d| d * 86_400.0);
-    progress.stage("fitting the power-law model");
-    let model = fit_record_model(&x, grid)?;
+    progress.stage("identifying the noise and fitting the power-law model");
+    let (body, model) = NoiseBody::of_record(&x, grid)?;
     let path = series.info.path.display().to_string();
     args.plot
         .draw(|| Ok(record_model_chart(&path, &model, x.tau0)))?;
-    let body = NoiseBody {
-        points: rows,
-        drift_per_day,
-        model: ModelSummary::of(&model.fit),
-    };
     args.output.write(
         (&series).into(),
         &body,

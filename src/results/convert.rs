@@ -92,6 +92,44 @@ pub struct SigmaBody {
 pub const SIGMA_METHOD: &str = "σ²(τ) = ∫ S_y(f)|H(f)|² df, table interpolated linearly in log f / dB (IEEE Std 1139 transfer functions)";
 
 impl SigmaBody {
+    /// `convert --to sigma`: each estimator's σ(τ) from `src`'s spectrum
+    /// ([`crate::spectrum::sigma::sigma_curve`]) on `grid` from `tau0`
+    /// (default 1/(2 f_h)) to `max_tau` (default the source's reach), the
+    /// curves of origin `origin` (from-lf or from-model). Every estimator
+    /// must have a transfer function ([`crate::spectrum::sigma::spectral`]).
+    /// The command line and the Python package call this one function.
+    pub fn compute(
+        src: &ConvertSource,
+        estimators: &[crate::deviation::Estimator],
+        grid: &crate::tau::TauGrid,
+        (tau0, max_tau): (Option<f64>, Option<f64>),
+        carrier: Option<f64>,
+        origin: crate::deviation::Origin,
+    ) -> crate::Result<Self> {
+        use crate::spectrum::sigma::{grid_taus, sigma_curve, spectral, SigmaOptions};
+        for e in estimators {
+            spectral(*e)?;
+        }
+        let tau0 = tau0.unwrap_or(0.5 / src.f_h);
+        let taus = grid_taus(grid, tau0, max_tau.unwrap_or(src.max_tau))?;
+        let opt = SigmaOptions { tau0, f_h: src.f_h };
+        let curves = (estimators.iter())
+            .map(|&e| {
+                let points = sigma_curve(&src.spectrum, e, &taus, opt)?;
+                Ok(ConvertedCurve::new(e, origin, &points))
+            })
+            .collect::<crate::Result<Vec<_>>>()?;
+        Ok(SigmaBody {
+            carrier,
+            f_h: src.f_h,
+            tau0,
+            method: SIGMA_METHOD,
+            curves,
+        })
+    }
+}
+
+impl SigmaBody {
     /// CSV: `estimator`, `origin`, [`Point::COLUMNS`], `below_table`,
     /// `truncated`.
     pub fn csv(&self) -> Result<String> {

@@ -22,6 +22,34 @@ pub struct NoiseBody {
     pub model: ModelSummary,
 }
 
+impl NoiseBody {
+    /// `noise` on one record: the noise identified at each τ of `grid`
+    /// (OADEV's range; [`crate::stats::noise_id::NoiseIdentifier`]), the
+    /// linear drift per day, and the power-law model fitted to the record
+    /// ([`crate::stability::fit_record_model`], returned too for its
+    /// chart). The command line and the Python package call this one
+    /// function.
+    pub fn of_record(
+        x: &crate::record::PhaseRecord,
+        grid: &crate::tau::TauGrid,
+    ) -> crate::Result<(Self, crate::stability::RecordModel)> {
+        use crate::deviation::Estimator;
+        let ms = grid.ms(x.tau0, Estimator::Oadev.max_m(x.len()))?;
+        let ids = crate::stats::NoiseIdentifier::new(x);
+        let points = (ms.iter())
+            .map(|&m| NoiseRow::new(m, x.tau0, ids.at(m)))
+            .collect();
+        let drift_per_day = ids.drift_rate().map(|d| d * 86_400.0);
+        let model = crate::stability::fit_record_model(x, grid)?;
+        let body = NoiseBody {
+            points,
+            drift_per_day,
+            model: ModelSummary::of(&model.fit),
+        };
+        Ok((body, model))
+    }
+}
+
 /// A fitted power-law model: `{"h":{"2","1","0","-1","-2"},"std_err",
 /// "left_out","significance_sigma","fh","dominant","model_string",
 /// "residual_db_rms"}`, `null` for a term the fit left out.
