@@ -129,6 +129,16 @@ impl Default for DecisionRule {
 }
 
 impl DecisionRule {
+    /// This rule with the parts given on a command line put in its place
+    /// (a command line's `--decision-rule` and `--conformance` before a DUT
+    /// file's `decision_rule` and `conformance`).
+    pub fn overridden(self, rule: Option<Rule>, conformance: Option<f64>) -> Self {
+        Self {
+            rule: rule.unwrap_or(self.rule),
+            conformance: conformance.unwrap_or(self.conformance),
+        }
+    }
+
     /// A rule and its level; the level must lie strictly between 0.5 and 1
     /// (at 0.5 or below a unit could be both accepted and rejected).
     ///

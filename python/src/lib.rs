@@ -916,10 +916,8 @@ fn convert(
 ) -> PyResult<String> {
     use tauwise::deviation::Origin;
     use tauwise::io::lf_table::{read_lf_table, TableOptions, TableQuantity};
-    use tauwise::model::PowerLaw;
     use tauwise::parse::Model;
-    use tauwise::results::{ConvertSource as Source, FittedModel, LfBody, SigmaBody, SpectrumRows};
-    use tauwise::spectrum::{Quantity, Spectrum};
+    use tauwise::results::{ConvertSource as Source, FittedModel, LfBody, SigmaBody};
     #[derive(PartialEq)]
     enum Target {
         Sigma,
@@ -999,28 +997,10 @@ fn convert(
                     ConvertBody::Sigma(b)
                 }
                 Target::Lf => {
-                    let to = to_offset.unwrap_or(src.f_h);
-                    let m = match (&model, &sigma) {
-                        (Some(m), _) => Some(PowerLaw {
-                            f_h: src.f_h,
-                            ..m.power_law(src.f_h)
-                        }),
-                        (None, Some(path)) => Some(PowerLaw {
-                            f_h: src.f_h,
-                            ..tauwise::results::model_from_stability(path, Some(src.f_h))?
-                        }),
-                        _ => None,
-                    };
-                    let spec = match m {
-                        Some(m) => {
-                            Spectrum::from_model(&m, Quantity::Lf, carrier, from, to, per_decade)?
-                        }
-                        None => src.spectrum.to(Quantity::Lf)?,
-                    };
-                    ConvertBody::Lf(LfBody {
-                        carrier,
-                        points: SpectrumRows::new(&spec)?,
-                    })
+                    // The one library function `tauwise convert --to lf` calls.
+                    let (m, sig) = (model.as_ref(), sigma.as_deref());
+                    let range = (from, to_offset);
+                    ConvertBody::Lf(LfBody::compute(&src, m, sig, carrier, range, per_decade)?.0)
                 }
                 Target::Model => {
                     ConvertBody::Model(FittedModel::of_spectrum(&src.spectrum, carrier, src.f_h)?.0)

@@ -176,11 +176,7 @@ impl GateArgs {
         &self,
         dut: Option<tauwise::decision::DecisionRule>,
     ) -> tauwise::decision::DecisionRule {
-        let base = dut.unwrap_or_default();
-        tauwise::decision::DecisionRule {
-            rule: self.decision_rule.unwrap_or(base.rule),
-            conformance: self.conformance.unwrap_or(base.conformance),
-        }
+        (dut.unwrap_or_default()).overridden(self.decision_rule, self.conformance)
     }
 
     /// What the command returns for the verdicts' `gate`.

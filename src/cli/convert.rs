@@ -7,11 +7,9 @@ use clap::{Args as ClapArgs, ValueEnum};
 use std::path::PathBuf;
 use tauwise::deviation::{Estimator, Origin};
 use tauwise::io::lf_table::{read_lf_table, TableOptions, TableQuantity};
-use tauwise::model::PowerLaw;
 use tauwise::parse::{Duration, EstimatorList, Frequency, Model};
 use tauwise::plot::convert as charts;
-use tauwise::results::{ConvertSource as Source, FittedModel, LfBody, SigmaBody, SpectrumRows};
-use tauwise::spectrum::{Quantity, Spectrum};
+use tauwise::results::{ConvertSource as Source, FittedModel, LfBody, SigmaBody};
 use tauwise::{Error, Result};
 
 /// What to convert to.
@@ -175,33 +173,12 @@ fn to_sigma(args: &Args, src: Source, carrier: Option<f64>) -> Result<()> {
 }
 
 fn to_lf(args: &Args, src: Source, carrier: Option<f64>) -> Result<()> {
-    let from = args.from.hertz();
-    let to = args.to_offset.map(Frequency::hertz).unwrap_or(src.f_h);
-    let model = match (&args.model, &args.sigma) {
-        (Some(m), _) => Some(PowerLaw {
-            f_h: src.f_h,
-            ..m.power_law(src.f_h)
-        }),
-        (None, Some(path)) => Some(PowerLaw {
-            f_h: src.f_h,
-            ..tauwise::results::model_from_stability(path, Some(src.f_h))?
-        }),
-        _ => None,
-    };
-    let from_model = model.is_some();
-    let spec = match model {
-        Some(model) => {
-            Spectrum::from_model(&model, Quantity::Lf, carrier, from, to, args.per_decade)?
-        }
-        None => src.spectrum.to(Quantity::Lf)?,
-    };
-    let from_sigma = args.sigma.is_some();
+    let range = (args.from.hertz(), args.to_offset.map(Frequency::hertz));
+    let (model, sigma) = (args.model.as_ref(), args.sigma.as_deref());
+    let (body, spec) = LfBody::compute(&src, model, sigma, carrier, range, args.per_decade)?;
+    let (from_model, from_sigma) = (model.is_some() || sigma.is_some(), sigma.is_some());
     args.plot
         .draw(|| charts::lf_chart(&src.label, carrier, &spec, from_model, from_sigma))?;
-    let body = LfBody {
-        carrier,
-        points: SpectrumRows::new(&spec)?,
-    };
     (args.output).write(src.input, &body, |b| b.points.csv(), |b| b.text(&src.label))
 }
 

@@ -276,6 +276,42 @@ pub struct LfBody {
 }
 
 impl LfBody {
+    /// `convert --to lf`: L(f) at `carrier` of the model given (`model`),
+    /// or of the model fitted to a `stability` document (`sigma`), both with
+    /// the source's f_h, sampled `per_decade` per decade from `from` to `to`
+    /// (default f_h) ([`crate::spectrum::Spectrum::from_model`]); without
+    /// either, the source's table as L(f). Returns the body and the
+    /// spectrum (for the chart). The command line and the Python package
+    /// call this one function.
+    pub fn compute(
+        src: &ConvertSource,
+        model: Option<&crate::parse::Model>,
+        sigma: Option<&std::path::Path>,
+        carrier: Option<f64>,
+        (from, to): (f64, Option<f64>),
+        per_decade: usize,
+    ) -> crate::Result<(Self, crate::spectrum::Spectrum)> {
+        use crate::spectrum::{Quantity, Spectrum};
+        let f_h = src.f_h;
+        let power_law = match (model, sigma) {
+            (Some(m), _) => Some(m.power_law(f_h)),
+            (None, Some(path)) => Some(super::model_from_stability(path, Some(f_h))?),
+            _ => None,
+        };
+        let spec = match power_law {
+            Some(m) => {
+                let m = PowerLaw { f_h, ..m };
+                let to = to.unwrap_or(f_h);
+                Spectrum::from_model(&m, Quantity::Lf, carrier, from, to, per_decade)?
+            }
+            None => src.spectrum.to(Quantity::Lf)?,
+        };
+        let points = super::SpectrumRows::new(&spec)?;
+        Ok((LfBody { carrier, points }, spec))
+    }
+}
+
+impl LfBody {
     /// The readable table: a heading naming the source, then the rows.
     pub fn text(&self, source: &str) -> String {
         format!("L(f) from {source}\n\n{}", self.points.text())

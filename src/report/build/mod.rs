@@ -42,11 +42,7 @@ impl BuildOptions {
     /// The decision rule of `dut`'s verdicts: the command line's rule and
     /// level where given, else the DUT file's, else simple at 0.95.
     pub fn decision_for(&self, dut: &Dut) -> crate::decision::DecisionRule {
-        let base = dut.decision.unwrap_or_default();
-        crate::decision::DecisionRule {
-            rule: self.decision_rule.unwrap_or(base.rule),
-            conformance: self.conformance.unwrap_or(base.conformance),
-        }
+        (dut.decision.unwrap_or_default()).overridden(self.decision_rule, self.conformance)
     }
 }
 
