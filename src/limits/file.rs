@@ -203,29 +203,17 @@ pub fn parse_limit_file(text: &str, path: &Path) -> crate::Result<LimitFile> {
                     ),
                 ));
             };
-            if let Some(p) = &e.points {
+            // A single value takes nothing that shapes a curve.
+            let extra = [
+                ("points", e.points.as_ref().map(|p| p.span().start)),
+                ("segments", e.segments.as_ref().map(|p| p.span().start)),
+                ("shape", shape_word.as_ref().map(|(_, o)| *o)),
+            ];
+            if let Some((key, Some(o))) = extra.into_iter().find(|(_, o)| o.is_some()) {
                 return Err(at(
-                    p.span().start,
+                    o,
                     format!(
-                        "limit[{k}].points: metric {} takes `max` only: expected no points",
-                        metric.name()
-                    ),
-                ));
-            }
-            if let Some(p) = &e.segments {
-                return Err(at(
-                    p.span().start,
-                    format!(
-                        "limit[{k}].segments: metric {} takes `max` only: expected no segments",
-                        metric.name()
-                    ),
-                ));
-            }
-            if let Some((_, o)) = &shape_word {
-                return Err(at(
-                    *o,
-                    format!(
-                        "limit[{k}].shape: metric {} takes `max` only: expected no shape",
+                        "limit[{k}].{key}: metric {} takes `max` only: expected no {key}",
                         metric.name()
                     ),
                 ));
