@@ -21,7 +21,7 @@ use pyo3::prelude::*;
 use pyo3::types::PyBytes;
 use std::fmt::Display;
 use std::path::{Path, PathBuf};
-use tauwise::io::series::{read_series, SeriesOptions};
+use tauwise::io::series::{read_series, Series, SeriesInfo, SeriesOptions};
 use tauwise::parse::{Duration, Frequency, Probability};
 use tauwise::results::{Document, FleetDocument, FleetMatrix, Input, RecordInput};
 use tauwise::{DataKind, FrequencyRecord, PhaseRecord};
@@ -106,6 +106,35 @@ fn from_str<T: std::str::FromStr>(text: &str) -> Result<T, T::Err> {
     text.parse()
 }
 
+/// The parts of a decision rule given as keywords (`decision_rule`:
+/// `simple` or `guarded`; `conformance` in (0.5, 1), also as `95%`),
+/// parsed by the command line's parsers (`--decision-rule`,
+/// `--conformance`).
+fn decision_parts(
+    rule: Option<&str>,
+    conformance: Option<&str>,
+) -> PyResult<(Option<tauwise::decision::Rule>, Option<f64>)> {
+    Ok((
+        parse_opt("decision_rule", rule, from_str::<tauwise::decision::Rule>)?,
+        parse_opt(
+            "conformance",
+            conformance,
+            tauwise::decision::parse_conformance,
+        )?,
+    ))
+}
+
+/// The decision rule of a command that gives verdicts: the keywords given,
+/// then the defaults (simple; 0.95), as the command line's
+/// [`tauwise::decision::DecisionRule::overridden`].
+fn decision(
+    rule: Option<&str>,
+    conformance: Option<&str>,
+) -> PyResult<tauwise::decision::DecisionRule> {
+    let (r, c) = decision_parts(rule, conformance)?;
+    Ok(tauwise::decision::DecisionRule::default().overridden(r, c))
+}
+
 /// The JSON text of a command's document (`"tool"`, `"version"`,
 /// `"schema"`, `"input"`, then the body), exactly as the command writes it.
 fn document<B: serde::Serialize>(py: Python<'_>, input: Input, body: B) -> PyResult<String> {
@@ -131,8 +160,9 @@ pub struct PyRecord {
     record: tauwise::Record,
     path: String,
     preamble: Vec<String>,
-    /// How the file was read (`tauwise inspect`'s facts), as JSON text.
-    info: Option<String>,
+    /// How the file was read (`tauwise inspect`'s facts; `None` for an
+    /// array or a record made here).
+    info: Option<SeriesInfo>,
     notes: Vec<String>,
     warnings: Vec<String>,
 }
@@ -142,6 +172,23 @@ impl PyRecord {
     /// one (a drift removed), as the command line describes its file.
     fn input_for(&self, record: &tauwise::Record) -> Input {
         input_of(&self.path, &self.preamble, record)
+    }
+
+    /// A record read from a file, with how it was read.
+    fn of_series(series: Series) -> Self {
+        Self {
+            path: series.info.path.display().to_string(),
+            preamble: series.info.preamble.clone(),
+            notes: series.info.notes.clone(),
+            warnings: series.info.warnings.clone(),
+            info: Some(series.info),
+            record: series.record,
+        }
+    }
+
+    /// The time of the first sample, s, when the file had stamps.
+    fn start_time(&self) -> Option<f64> {
+        self.info.as_ref().and_then(|i| i.start_time)
     }
 
     fn of_record(record: tauwise::Record, path: &str) -> Self {
@@ -274,7 +321,9 @@ impl PyRecord {
     /// How the file was read, as JSON text (`None` for an array).
     #[getter]
     fn info_json(&self) -> Option<String> {
-        self.info.clone()
+        self.info
+            .as_ref()
+            .and_then(|i| serde_json::to_string(i).ok())
     }
 
     /// The reader's notes.
@@ -364,15 +413,7 @@ fn read(
         binary: parse_opt("binary", binary, from_str::<tauwise::parse::BinaryFormat>)?,
     };
     let series = py.detach(|| read_series(&path, &opts)).py(py)?;
-    let info = serde_json::to_string(&series.info).ok();
-    Ok(PyRecord {
-        path: series.info.path.display().to_string(),
-        preamble: series.info.preamble.clone(),
-        notes: series.info.notes.clone(),
-        warnings: series.info.warnings.clone(),
-        info,
-        record: series.record,
-    })
+    Ok(PyRecord::of_series(series))
 }
 
 /// `record` with its least-squares drift removed when `model` asks
@@ -414,7 +455,7 @@ fn paths(list: &[String]) -> Vec<PathBuf> {
 #[pyfunction]
 #[pyo3(signature = (record, dev, taus, confidence, noise_type=None, uncorrected=false,
     best=false, remove_drift=None, limit_files=Vec::new(), lf=None, carrier=None,
-    bandwidth=None, lf_uncertainty=None))]
+    bandwidth=None, lf_uncertainty=None, decision_rule=None, conformance=None))]
 #[allow(clippy::too_many_arguments)]
 fn stability(
     py: Python<'_>,
@@ -431,7 +472,10 @@ fn stability(
     carrier: Option<&str>,
     bandwidth: Option<&str>,
     lf_uncertainty: Option<&str>,
+    decision_rule: Option<&str>,
+    conformance: Option<&str>,
 ) -> PyResult<(String, String)> {
+    let rule = decision(decision_rule, conformance)?;
     let estimators = parse_kw("dev", dev, from_str::<tauwise::parse::EstimatorList>)?.0;
     let grid = parse_kw("taus", taus, tauwise::tau::TauGrid::parse)?;
     let confidence = parse_kw("confidence", confidence, from_str::<Probability>)?.value();
@@ -494,8 +538,7 @@ fn stability(
                 limits: &limit_set,
                 elsewhere,
                 phase_noise: table.as_ref().map(|t| (&t.spectrum, view)),
-                // The command's default rule (`--decision-rule simple`).
-                decision: Default::default(),
+                decision: rule,
             };
             let phase = as_phase(&processed);
             let body = tauwise::stability::record_stability(&phase, &request, &additions)?.body;
@@ -610,7 +653,8 @@ fn spectrum(
 /// (document, gate).
 #[pyfunction]
 #[pyo3(signature = (record, taus=None, tau_range=None, masks=Vec::new(),
-    limit_files=Vec::new(), remove_offset=false, te_filter=None, te=false, cte_window=None))]
+    limit_files=Vec::new(), remove_offset=false, te_filter=None, te=false, cte_window=None,
+    decision_rule=None, conformance=None))]
 #[allow(clippy::too_many_arguments)]
 fn wander(
     py: Python<'_>,
@@ -623,8 +667,11 @@ fn wander(
     te_filter: Option<&str>,
     te: bool,
     cte_window: Option<&str>,
+    decision_rule: Option<&str>,
+    conformance: Option<&str>,
 ) -> PyResult<(String, String)> {
     use tauwise::wander::te::{TeOptions, DEFAULT_CTE_WINDOW};
+    let rule = decision(decision_rule, conformance)?;
     let grid = parse_opt("taus", taus, tauwise::tau::TauGrid::parse)?;
     let range = parse_opt("tau_range", tau_range, tauwise::parse::parse_tau_range)?;
     let filter = parse_opt("te_filter", te_filter, from_str::<tauwise::parse::TeFilter>)?;
@@ -664,8 +711,7 @@ fn wander(
                     cte_window: cte_window.unwrap_or(DEFAULT_CTE_WINDOW),
                     ..TeOptions::default()
                 }),
-                // The command's default rule (`--decision-rule simple`).
-                decision: Default::default(),
+                decision: rule,
             };
             let res = tauwise::wander::analyse_limits(&x, &opts, &mask_list, &limits)?;
             let gate = tauwise::verdict::gate(
@@ -689,7 +735,7 @@ fn wander(
 #[pyfunction]
 #[pyo3(signature = (record, span, budget, paths, seed, steps, te0, y0=None, y0_sigma=None,
     settle=None, start=None, aging=None, aging_model="linear", temp_coeff=None,
-    temp_swing=None, model=None))]
+    temp_swing=None, model=None, decision_rule=None, conformance=None))]
 #[allow(clippy::too_many_arguments)]
 fn holdover(
     py: Python<'_>,
@@ -709,8 +755,11 @@ fn holdover(
     temp_coeff: Option<&str>,
     temp_swing: Option<&str>,
     model: Option<&str>,
+    decision_rule: Option<&str>,
+    conformance: Option<&str>,
 ) -> PyResult<(String, String)> {
     use tauwise::holdover::{FromRecord, Settings};
+    let rule = decision(decision_rule, conformance)?;
     use tauwise::parse::{Fraction, Model, Rate};
     let span = parse_kw("span", span, Duration::positive_with_unit)?.seconds();
     let budget = parse_kw("budget", budget, Duration::positive_with_unit)?.seconds();
@@ -770,6 +819,7 @@ fn holdover(
                 paths: n_paths,
                 seed,
                 steps,
+                decision: rule,
                 ..Settings::new(span, budget)
             };
             // The one library function `tauwise holdover` calls per record.
@@ -1026,17 +1076,20 @@ enum ConvertBody {
 // ---------------------------------------------------------------------------
 // jitter
 
-/// `tauwise jitter TABLE`: integrated phase jitter over bands of an L(f)
-/// table; returns (document, gate).
+/// `tauwise jitter TABLE` (or `--record FILE`): integrated phase jitter
+/// over bands of an L(f) table or of a record's Welch spectrum; returns
+/// (document, gate, the spectrum's warnings).
 #[pyfunction]
-#[pyo3(signature = (table, carrier, bands, quantity=None, value_column=None,
+#[pyo3(signature = (table, record, carrier, bands, quantity=None, value_column=None,
     filters=Vec::new(), filter_files=Vec::new(), filter_set=None, period=false, periods=None,
     spurs=None, ui_rate=None, spur_search=true, spur_threshold=None, extrapolate=false,
-    limits=Vec::new(), limit_files=Vec::new()))]
+    limits=Vec::new(), limit_files=Vec::new(), window="hann", segment=None,
+    decision_rule=None, conformance=None))]
 #[allow(clippy::too_many_arguments)]
 fn jitter(
     py: Python<'_>,
-    table: PathBuf,
+    table: Option<PathBuf>,
+    record: Option<PyRef<'_, PyRecord>>,
     carrier: &str,
     bands: Vec<String>,
     quantity: Option<&str>,
@@ -1053,13 +1106,21 @@ fn jitter(
     extrapolate: bool,
     limits: Vec<String>,
     limit_files: Vec<String>,
-) -> PyResult<(String, String)> {
+    window: &str,
+    segment: Option<&str>,
+    decision_rule: Option<&str>,
+    conformance: Option<&str>,
+) -> PyResult<(String, String, Vec<String>)> {
     use tauwise::io::filter_set::assemble_weightings;
     use tauwise::io::lf_table::{read_lf_table, read_spurs, TableOptions, TableQuantity};
     use tauwise::parse::Filter;
     use tauwise::results::{JitterBody, JitterRequest, JitterTrace};
-    use tauwise::spectrum::jitter::{Band, JitterLimit, JitterSetup, PeriodRequest};
+    use tauwise::spectrum::jitter::{
+        record_period_jitter, Band, JitterLimit, JitterSetup, PeriodRequest,
+    };
     use tauwise::spectrum::spurs::{threshold_db, SpurRule};
+    use tauwise::spectrum::welch::{WelchOptions, Window};
+    let rule = decision(decision_rule, conformance)?;
     let carrier = parse_kw("carrier", carrier, Frequency::positive)?.hertz();
     let value_column: Option<usize> = value_column.map(|v| whole("value_column", v)).transpose()?;
     let periods: Option<u32> = periods.map(|v| whole("periods", v)).transpose()?;
@@ -1083,14 +1144,40 @@ fn jitter(
         .collect::<PyResult<Vec<_>>>()?;
     let ui_rate = parse_opt("ui_rate", ui_rate, Frequency::positive)?.map(Frequency::hertz);
     let spur_threshold = parse_opt("spur_threshold", spur_threshold, threshold_db)?;
+    let window = parse_kw("window", window, Window::parse)?;
+    let segment = parse_opt("segment", segment, tauwise::parse::count)?;
     if periods == Some(0) {
         return Err(PyValueError::new_err(
             "periods=0: expected a whole number of periods, at least 1",
         ));
     }
+    match (&table, &record) {
+        (Some(_), Some(_)) => {
+            return Err(PyValueError::new_err(
+                "give a phase-noise table or a record, not both",
+            ))
+        }
+        (None, None) => {
+            return Err(PyValueError::new_err(
+                "give a phase-noise table, or record= (a record, file or array) for its Welch spectrum",
+            ))
+        }
+        (None, Some(_)) if !limit_files.is_empty() => {
+            return Err(PyValueError::new_err(
+                "limit_files: L(f) limits are checked against a phase-noise table, not a record's spectrum",
+            ))
+        }
+        (None, Some(_)) if quantity.is_some() || value_column.is_some() => {
+            return Err(PyValueError::new_err(
+                "quantity and value_column go with a phase-noise table; a record is read with the reading options",
+            ))
+        }
+        _ => {}
+    }
+    let record = record.as_deref();
     let filter_files = paths(&filter_files);
     let limit_files = paths(&limit_files);
-    let (input, body, gate) = py
+    let (input, body, gate, warnings) = py
         .detach(|| -> tauwise::Result<_> {
             let (limit_set, elsewhere) = tauwise::limits::read_for(&limit_files, "jitter")?;
             let (wfilters, filter_tables, filter_set_name) =
@@ -1111,37 +1198,334 @@ fn jitter(
                     ..SpurRule::default()
                 }),
                 filter_set: filter_set_name,
-                // The command's default rule (`--decision-rule simple`).
-                decision: Default::default(),
+                decision: rule,
             };
             if let Some(p) = &spurs {
                 req.setup.spurs = read_spurs(p)?;
             }
-            let t = read_lf_table(
-                &table,
-                &TableOptions {
-                    quantity,
-                    offset_column: None,
-                    value_column,
-                    carrier: Some(carrier),
-                },
-            )?;
-            if !t.spurs.is_empty() && spurs.is_none() {
-                req.setup.spurs = t.spurs.clone();
-            }
-            let limit_checks = tauwise::limits::check_lf(&t.spectrum, &limit_set)?;
-            let trace = JitterTrace::of_table(&t, &table);
+            let (mut limit_checks, mut record_period, mut warnings) =
+                (Vec::new(), None, Vec::new());
+            let trace = match (&table, record) {
+                (Some(table), _) => {
+                    let t = read_lf_table(
+                        table,
+                        &TableOptions {
+                            quantity,
+                            offset_column: None,
+                            value_column,
+                            carrier: Some(carrier),
+                        },
+                    )?;
+                    if !t.spurs.is_empty() && spurs.is_none() {
+                        req.setup.spurs = t.spurs.clone();
+                    }
+                    limit_checks = tauwise::limits::check_lf_with(&t.spectrum, &limit_set, &rule)?;
+                    JitterTrace::of_table(&t, table)
+                }
+                (None, Some(r)) => {
+                    if req.setup.period.is_some() {
+                        let x = as_phase(&r.record);
+                        record_period = Some(record_period_jitter(&x.x, x.tau0, carrier, periods)?);
+                    }
+                    let welch = WelchOptions {
+                        window,
+                        segment,
+                        overlap: 0.5,
+                    };
+                    let input = r.input_for(&r.record);
+                    let (trace, w) =
+                        JitterTrace::of_named_record(&r.record, input, &r.path, carrier, &welch)?;
+                    warnings = w;
+                    trace
+                }
+                (None, None) => unreachable!("one source is given (checked above)"),
+            };
             // The one library function `tauwise jitter` calls per trace.
             let limits = tauwise::results::LimitsPart::new(limit_checks, elsewhere);
-            let (body, judged) = JitterBody::compute(&trace, carrier, req, None, limits)?;
+            let (body, judged) = JitterBody::compute(&trace, carrier, req, record_period, limits)?;
             let gate = tauwise::verdict::gate(
                 (judged.iter().filter_map(|j| j.1.as_ref()))
                     .chain(tauwise::limits::judgements(&body.limits.limits)),
             );
-            Ok((trace.input, body, gate))
+            Ok((trace.input, body, gate, warnings))
         })
         .py(py)?;
-    Ok((document(py, input, body)?, gate_word(gate)))
+    Ok((document(py, input, body)?, gate_word(gate), warnings))
+}
+
+// ---------------------------------------------------------------------------
+// inspect
+
+/// `tauwise inspect FILE`: how a file was read and what the record holds
+/// (size, span, τ0, gaps, frequency offset, drift, outliers). Needs a record
+/// read from a file (how it was read is half of the document).
+#[pyfunction]
+#[pyo3(signature = (record, outliers))]
+fn inspect(py: Python<'_>, record: PyRef<'_, PyRecord>, outliers: &str) -> PyResult<String> {
+    let limit = parse_kw("outliers", outliers, tauwise::parse::mad_limit)?;
+    let Some(info) = &record.info else {
+        return Err(PyValueError::new_err(format!(
+            "inspect describes how a file was read, and {} was not read from a file: give the file's path (or a record from tauwise.read)",
+            record.path
+        )));
+    };
+    let rec = &record.record;
+    let (input, body) = py
+        .detach(|| -> tauwise::Result<_> {
+            // `InspectBody` takes a whole `Series`: the record is copied
+            // once here (inspect is not on the hot path).
+            let series = Series {
+                record: rec.clone(),
+                info: info.clone(),
+            };
+            let summary = tauwise::prepare::summarize(&series.record, limit)?;
+            let hints = tauwise::io::series::suggestions(&series);
+            let body = tauwise::results::InspectBody::new(&series, &summary, &hints);
+            Ok((Input::from(&series), body))
+        })
+        .py(py)?;
+    document(py, input, body)
+}
+
+// ---------------------------------------------------------------------------
+// prepare
+
+/// `tauwise prepare FILE -o OUT`: a cleaned copy of a record (outliers made
+/// gaps, drift removed, gaps filled, decimated), with the notes of what was
+/// done; with `out`, also the file the command writes, byte for byte.
+#[pyfunction]
+#[pyo3(signature = (record, out=None, remove_drift=None, outliers=None, fill_gaps=false,
+    decimate=None))]
+fn prepare(
+    py: Python<'_>,
+    record: PyRef<'_, PyRecord>,
+    out: Option<PathBuf>,
+    remove_drift: Option<&str>,
+    outliers: Option<&str>,
+    fill_gaps: bool,
+    decimate: Option<&str>,
+) -> PyResult<PyRecord> {
+    use tauwise::io::record_file::Start;
+    use tauwise::prepare::pipeline::{prepare as run_steps, Steps};
+    let drift = parse_opt(
+        "remove_drift",
+        remove_drift,
+        from_str::<tauwise::prepare::DriftModel>,
+    )?;
+    let outliers = parse_opt("outliers", outliers, tauwise::parse::mad_limit)?;
+    let decimate = parse_opt("decimate", decimate, tauwise::parse::count)?;
+    if let Some(o) = &out {
+        let ins: Vec<&Path> = record
+            .info
+            .as_ref()
+            .map(|i| i.path.as_path())
+            .into_iter()
+            .collect();
+        tauwise::io::output_paths::check_output_paths(&ins, &[Some(o.as_path())]).py(py)?;
+    }
+    let info = record.info.as_ref();
+    let (rec, rpath) = (&record.record, record.path.as_str());
+    let (prepared, notes) = py
+        .detach(|| -> tauwise::Result<_> {
+            let inserted = info.map_or(0, |i| i.inserted_gaps);
+            let mut notes = tauwise::results::PrepareNotes::read(rpath, rec, inserted);
+            let steps = Steps {
+                outliers,
+                drift,
+                fill_gaps,
+            };
+            let done = run_steps(rec, &steps)?;
+            notes.steps(&done, rec.kind());
+            let mut prepared = done.record;
+            if let Some(n) = decimate {
+                let before = prepared.tau0();
+                prepared = tauwise::prepare::decimate(&prepared, n)?;
+                notes.decimated(n, before, &prepared);
+            }
+            if let Some(o) = &out {
+                let start = match (
+                    info.and_then(|i| i.start_unix),
+                    info.and_then(|i| i.start_time),
+                ) {
+                    (Some((s, ns)), _) => Start::DateTime(s, ns),
+                    (None, Some(t)) => Start::Seconds(t),
+                    (None, None) => Start::Seconds(0.0),
+                };
+                let bytes = notes.record_file(&prepared, start).map_err(|e| {
+                    tauwise::Error::invalid(format!("could not write the record: {e}"))
+                })?;
+                tauwise::io::write_atomic(o, &bytes)?;
+            }
+            Ok((prepared, notes))
+        })
+        .py(py)?;
+    let path = match &out {
+        Some(o) => o.display().to_string(),
+        None => "<prepared>".to_string(),
+    };
+    let mut r = PyRecord::of_record(prepared, &path);
+    r.notes = notes.0;
+    Ok(r)
+}
+
+// ---------------------------------------------------------------------------
+// separate
+
+/// A pair `CLOCK,CLOCK=FILE` parsed as the command line's `--pair`:
+/// (first clock, second clock, file).
+#[pyfunction]
+fn pair_spec(text: &str) -> PyResult<(String, String, String)> {
+    let p = parse_kw("pairs", text, from_str::<tauwise::separate::PairSpec>)?;
+    Ok((p.a, p.b, p.path.display().to_string()))
+}
+
+/// `tauwise separate --pair A,B=FILE …`: the stability of each clock from
+/// records of pairs measured against each other (three-cornered hat, least
+/// squares, or the covariance form).
+#[pyfunction]
+#[pyo3(signature = (pairs, dev, method, sessions, seed, taus, confidence, remove_drift=None))]
+#[allow(clippy::too_many_arguments)]
+fn separate(
+    py: Python<'_>,
+    pairs: Vec<(String, String, PyRef<'_, PyRecord>)>,
+    dev: &str,
+    method: &str,
+    sessions: &str,
+    seed: &str,
+    taus: &str,
+    confidence: &str,
+    remove_drift: Option<&str>,
+) -> PyResult<String> {
+    use tauwise::results::{PairInputs, SeparateBody};
+    use tauwise::separate::{align, separate as run, Method, PairRecord, PairSpec, Request};
+    let estimator = parse_kw("dev", dev, tauwise::separate::estimator_named)?;
+    let method = parse_kw("method", method, from_str::<Method>)?;
+    let simultaneous = parse_kw(
+        "sessions",
+        sessions,
+        tauwise::separate::simultaneous_sessions,
+    )?;
+    let seed: u64 = whole("seed", seed)?;
+    let grid = parse_kw("taus", taus, tauwise::tau::TauGrid::parse)?;
+    let confidence = parse_kw("confidence", confidence, from_str::<Probability>)?.value();
+    let drift = parse_opt(
+        "remove_drift",
+        remove_drift,
+        from_str::<tauwise::prepare::DriftModel>,
+    )?;
+    if pairs.len() < 3 {
+        return Err(PyValueError::new_err(format!(
+            "pairs: {} pair(s) given: separating clocks needs at least three (A,B A,C B,C)",
+            pairs.len()
+        )));
+    }
+    // The clock names are checked by the command line's `--pair` parser.
+    for (a, b, r) in &pairs {
+        parse_kw(
+            "pairs",
+            &format!("{a},{b}={}", r.path),
+            from_str::<PairSpec>,
+        )?;
+    }
+    let pairs: Vec<(&String, &String, &PyRecord)> =
+        pairs.iter().map(|(a, b, r)| (a, b, &**r)).collect();
+    let (input, body) = py
+        .detach(|| -> tauwise::Result<_> {
+            let (mut records, mut read) = (Vec::new(), Vec::new());
+            for (a, b, r) in &pairs {
+                let processed = drift_removed(&r.record, drift)?;
+                match r.input_for(&processed) {
+                    Input::Record(ri) => read.push(ri),
+                    _ => unreachable!("a record's input is a record"),
+                }
+                records.push(PairRecord {
+                    a: a.to_string(),
+                    b: b.to_string(),
+                    source: r.path.clone(),
+                    record: as_phase(&processed).into_owned(),
+                    start: r.start_time(),
+                });
+            }
+            let records = align(records)?;
+            let request = Request {
+                estimator,
+                grid,
+                confidence,
+                method,
+                seed,
+                draws: tauwise::separate::DEFAULT_DRAWS,
+                simultaneous,
+            };
+            let sep = run(&records, &request)?;
+            let input = Input::Pairs(PairInputs {
+                data: "pairs",
+                records: read,
+            });
+            Ok((input, SeparateBody::new(&sep, confidence)))
+        })
+        .py(py)?;
+    document(py, input, body)
+}
+
+// ---------------------------------------------------------------------------
+// timeline
+
+/// `tauwise timeline FILE --window W --step S`: σ(τ) in a window sliding
+/// along the record (dynamic Allan variance) and the windows that depart
+/// from the whole record.
+#[pyfunction]
+#[pyo3(signature = (record, window, step, dev, taus, confidence, event_confidence,
+    remove_drift=None))]
+#[allow(clippy::too_many_arguments)]
+fn timeline(
+    py: Python<'_>,
+    record: PyRef<'_, PyRecord>,
+    window: &str,
+    step: &str,
+    dev: &str,
+    taus: &str,
+    confidence: &str,
+    event_confidence: &str,
+    remove_drift: Option<&str>,
+) -> PyResult<String> {
+    use tauwise::timeline::{timeline as run, window_and_step, Request};
+    let window = parse_kw("window", window, Duration::positive_with_unit)?.seconds();
+    let step = parse_kw("step", step, Duration::positive_with_unit)?.seconds();
+    let estimator = parse_kw("dev", dev, tauwise::timeline::estimator_named)?;
+    let grid = parse_kw("taus", taus, tauwise::tau::TauGrid::parse)?;
+    let confidence = parse_kw("confidence", confidence, from_str::<Probability>)?.value();
+    let event_confidence = parse_kw(
+        "event_confidence",
+        event_confidence,
+        from_str::<Probability>,
+    )?
+    .value();
+    let drift = parse_opt(
+        "remove_drift",
+        remove_drift,
+        from_str::<tauwise::prepare::DriftModel>,
+    )?;
+    let me: &PyRecord = &record;
+    let rec = &me.record;
+    let (input, body) = py
+        .detach(|| -> tauwise::Result<_> {
+            let processed = drift_removed(rec, drift)?;
+            let phase = as_phase(&processed);
+            let (window, step) = window_and_step(&phase, ("window", window), ("step", step))?;
+            let request = Request {
+                estimator,
+                grid,
+                window,
+                step,
+                confidence,
+                event_confidence,
+            };
+            let t = run(&phase, &request)?;
+            let body = tauwise::results::TimelineBody::new(&t, confidence, event_confidence);
+            Ok((me.input_for(&processed), body))
+        })
+        .py(py)?;
+    document(py, input, body)
 }
 
 // ---------------------------------------------------------------------------
@@ -1157,9 +1541,17 @@ fn read_dut_files(paths: &[PathBuf]) -> tauwise::Result<Vec<tauwise::io::dut::Du
     tauwise::report::duts::read_duts(paths, &quick, false)
 }
 
-fn build_options(confidence: f64) -> tauwise::report::build::BuildOptions {
+/// The report's options: the confidence and the decision rule's parts
+/// given (a DUT file's `decision_rule` and `conformance` apply where a
+/// part is not given, as on the command line).
+fn build_options(
+    confidence: f64,
+    decision: (Option<tauwise::decision::Rule>, Option<f64>),
+) -> tauwise::report::build::BuildOptions {
     tauwise::report::build::BuildOptions {
         confidence,
+        decision_rule: decision.0,
+        conformance: decision.1,
         ..Default::default()
     }
 }
@@ -1168,14 +1560,17 @@ fn build_options(confidence: f64) -> tauwise::report::build::BuildOptions {
 /// comparison (several), written atomically to `out` when given; returns
 /// (the verdict matrix document of `report --format json`, gate).
 #[pyfunction]
-#[pyo3(signature = (duts, out, confidence))]
+#[pyo3(signature = (duts, out, confidence, decision_rule=None, conformance=None))]
 fn report(
     py: Python<'_>,
     duts: Vec<String>,
     out: Option<PathBuf>,
     confidence: &str,
+    decision_rule: Option<&str>,
+    conformance: Option<&str>,
 ) -> PyResult<(String, String)> {
     let confidence = parse_kw("confidence", confidence, from_str::<Probability>)?.value();
+    let rule = decision_parts(decision_rule, conformance)?;
     let inputs = paths(&duts);
     let (json, gate) = py
         .detach(|| -> tauwise::Result<_> {
@@ -1185,7 +1580,7 @@ fn report(
                 .flat_map(tauwise::report::duts::dut_inputs)
                 .collect();
             tauwise::io::output_paths::check_output_paths(&ins, &[out.as_deref()])?;
-            let opts = build_options(confidence);
+            let opts = build_options(confidence, rule);
             let fleet = tauwise::report::fleet::build(&duts, &opts, &|_, _, _, _| {})?;
             let gate = tauwise::verdict::gate(
                 fleet
@@ -1275,14 +1670,21 @@ impl DevicePart {
 /// One device of a fleet: its report built from its DUT file (the same
 /// path as `tauwise report`), reduced to its part of the verdict matrix.
 #[pyfunction]
-#[pyo3(signature = (dut, confidence))]
-fn device(py: Python<'_>, dut: PathBuf, confidence: &str) -> PyResult<DevicePart> {
+#[pyo3(signature = (dut, confidence, decision_rule=None, conformance=None))]
+fn device(
+    py: Python<'_>,
+    dut: PathBuf,
+    confidence: &str,
+    decision_rule: Option<&str>,
+    conformance: Option<&str>,
+) -> PyResult<DevicePart> {
     let confidence = parse_kw("confidence", confidence, from_str::<Probability>)?.value();
+    let rule = decision_parts(decision_rule, conformance)?;
     let matrix = py
         .detach(|| -> tauwise::Result<_> {
             let duts = read_dut_files(std::slice::from_ref(&dut))?;
             let d = &duts[0];
-            let r = tauwise::report::build::from_dut(d, &build_options(confidence))?;
+            let r = tauwise::report::build::from_dut(d, &build_options(confidence, rule))?;
             Ok(FleetMatrix::build(&[(&r, d.file.display().to_string())]))
         })
         .py(py)?;
@@ -1317,6 +1719,11 @@ fn _tauwise(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add("__version__", tauwise::VERSION)?;
     m.add("DECISION_CAUTION", tauwise::DECISION_CAUTION)?;
     m.add("DEFAULT_CONFIDENCE", tauwise::stats::DEFAULT_CONFIDENCE)?;
+    m.add(
+        "DEFAULT_CONFORMANCE",
+        tauwise::decision::DEFAULT_CONFORMANCE,
+    )?;
+    m.add("EVENT_CONFIDENCE", tauwise::timeline::EVENT_CONFIDENCE)?;
     m.add_class::<PyRecord>()?;
     m.add_class::<DevicePart>()?;
     m.add_function(wrap_pyfunction!(read, m)?)?;
@@ -1328,6 +1735,11 @@ fn _tauwise(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add_function(wrap_pyfunction!(simulate, m)?)?;
     m.add_function(wrap_pyfunction!(convert, m)?)?;
     m.add_function(wrap_pyfunction!(jitter, m)?)?;
+    m.add_function(wrap_pyfunction!(inspect, m)?)?;
+    m.add_function(wrap_pyfunction!(prepare, m)?)?;
+    m.add_function(wrap_pyfunction!(pair_spec, m)?)?;
+    m.add_function(wrap_pyfunction!(separate, m)?)?;
+    m.add_function(wrap_pyfunction!(timeline, m)?)?;
     m.add_function(wrap_pyfunction!(report, m)?)?;
     m.add_function(wrap_pyfunction!(device, m)?)?;
     m.add_function(wrap_pyfunction!(fleet, m)?)?;

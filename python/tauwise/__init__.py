@@ -45,17 +45,23 @@ __all__ = [
     "Result",
     "StabilityResult",
     "TauwiseWarning",
+    "DEFAULT_CONFORMANCE",
+    "EVENT_CONFIDENCE",
     "convert",
     "device",
     "fleet",
     "holdover",
+    "inspect",
     "jitter",
     "noise",
+    "prepare",
     "read",
     "report",
+    "separate",
     "simulate",
     "spectrum",
     "stability",
+    "timeline",
     "wander",
 ]
 
@@ -64,6 +70,10 @@ __version__: str = _tauwise.__version__
 DECISION_CAUTION: str = _tauwise.DECISION_CAUTION
 #: The library's default two-sided confidence level of the intervals.
 DEFAULT_CONFIDENCE: float = _tauwise.DEFAULT_CONFIDENCE
+#: The conformance level of the guarded decision rule when none is given.
+DEFAULT_CONFORMANCE: float = _tauwise.DEFAULT_CONFORMANCE
+#: The two-sided confidence of the timeline's event test by default.
+EVENT_CONFIDENCE: float = _tauwise.EVENT_CONFIDENCE
 
 DevicePart = _tauwise.DevicePart
 
@@ -282,7 +292,43 @@ def read(
     command line's (``docs/input-files.md``). The reader's warnings are
     issued as :class:`TauwiseWarning`; a file it cannot read right is
     refused with the file and line (:class:`FileContentError`)."""
-    inner = _tauwise.read(
+    inner = _read_quietly(
+        path,
+        data=data,
+        tau0=tau0,
+        units=units,
+        carrier=carrier,
+        value_column=value_column,
+        time_column=time_column,
+        snap=snap,
+        wrap=wrap,
+        comment=comment,
+        decimal_comma=decimal_comma,
+        binary=binary,
+    )
+    for w in inner.warnings:
+        warnings.warn(f"{inner.path}: {w}", TauwiseWarning, stacklevel=2)
+    return Record(inner)
+
+
+def _read_quietly(
+    path: PathLike,
+    *,
+    data: Optional[str] = None,
+    tau0: Union[float, str, None] = None,
+    units: Optional[str] = None,
+    carrier: Union[float, str, None] = None,
+    value_column: Optional[int] = None,
+    time_column: Union[int, str, None] = None,
+    snap: Union[float, str, None] = None,
+    wrap: Union[float, str, None] = None,
+    comment: Optional[str] = None,
+    decimal_comma: bool = False,
+    binary: Optional[str] = None,
+) -> "_tauwise.Record":
+    """:func:`read` with the warnings left in the record (``inspect`` shows
+    them in its document)."""
+    return _tauwise.read(
         os.fspath(path),
         data=data,
         tau0=_text(tau0),
@@ -296,9 +342,6 @@ def read(
         decimal_comma=decimal_comma,
         binary=binary,
     )
-    for w in inner.warnings:
-        warnings.warn(f"{inner.path}: {w}", TauwiseWarning, stacklevel=2)
-    return Record(inner)
 
 
 _READ_KEYS = (
@@ -319,9 +362,12 @@ def _record(
     tau0: Union[float, str, None],
     kind: Optional[str],
     read_options: Mapping[str, Any],
+    quiet: bool = False,
 ) -> "_tauwise.Record":
     """The record a function works on: a :class:`Record`, a file read with
-    ``read_options`` (and ``tau0``/``kind`` when given), or an array."""
+    ``read_options`` (and ``tau0``/``kind`` when given), or an array.
+    ``quiet`` leaves a file's warnings in the record instead of issuing
+    them."""
     unknown = set(read_options) - set(_READ_KEYS)
     if unknown:
         raise TypeError(f"unexpected keyword argument(s): {', '.join(sorted(unknown))}")
@@ -333,6 +379,8 @@ def _record(
         return data._inner
     if isinstance(data, (str, os.PathLike)):
         opts = dict(read_options)
+        if quiet:
+            return _read_quietly(data, data=kind, tau0=tau0, **opts)
         return read(data, data=kind, tau0=tau0, **opts)._inner
     if read_options:
         raise ValueError(
@@ -504,6 +552,8 @@ def stability(
     carrier: Union[float, str, None] = None,
     bandwidth: Union[float, str, None] = None,
     lf_uncertainty: Union[float, str, None] = None,
+    decision_rule: Optional[str] = None,
+    conformance: Union[float, str, None] = None,
     **read_options: Any,
 ) -> StabilityResult:
     """σ(τ) curves with confidence intervals and the noise type at each τ
@@ -520,6 +570,13 @@ def stability(
     of freedom; ``limit_files`` checks σ limits (``docs/limit-file.md``);
     ``lf`` with ``carrier`` sets a phase-noise table's σ(τ) beside the
     record. A statistic at τ does not depend on which other τ were asked for.
+
+    ``decision_rule`` (``"simple"``, the default, or ``"guarded"``) and
+    ``conformance`` (in (0.5, 1), default 0.95) say how a verdict is
+    reached from the estimate and its uncertainty (``--decision-rule``,
+    ``--conformance``; ``docs/decision-rules.md``): under ``guarded`` a
+    verdict is ``undecided`` unless the probability of conformance (or of
+    non-conformance) reaches the level.
     """
     taus_text = taus if isinstance(taus, str) else ",".join(_text(t) or "" for t in taus)
     rec = _record(data, tau0, kind, read_options)
@@ -537,6 +594,8 @@ def stability(
         carrier=_text(carrier),
         bandwidth=_text(bandwidth),
         lf_uncertainty=_text(lf_uncertainty),
+        decision_rule=decision_rule,
+        conformance=_text(conformance),
     )
     return StabilityResult(text, gate)
 
@@ -633,10 +692,13 @@ def convert(
 
 
 def jitter(
-    table: PathLike,
-    carrier: Union[float, str],
+    table: Optional[PathLike] = None,
+    carrier: Union[float, str, None] = None,
     bands: Union[str, Sequence[str]] = (),
     *,
+    record: Any = None,
+    tau0: Union[float, str, None] = None,
+    kind: Optional[str] = None,
     limits: Union[str, Sequence[str], None] = None,
     limit_files: Union[PathLike, Sequence[PathLike], None] = None,
     quantity: Optional[str] = None,
@@ -651,15 +713,43 @@ def jitter(
     spur_search: bool = True,
     spur_threshold: Union[float, str, None] = None,
     extrapolate: bool = False,
+    window: str = "hann",
+    segment: Optional[int] = None,
+    decision_rule: Optional[str] = None,
+    conformance: Union[float, str, None] = None,
+    **read_options: Any,
 ) -> Result:
-    """Integrated phase jitter of an L(f) table over offset bands
-    (``"12k:5M"``), optionally weighted (``filters``: Butterworth, loops),
-    judged against ``limits`` with their unit (``"1ps"``, ``"10mrad"``,
-    ``"0.01UI"``) — ``tauwise jitter TABLE``. Bands from a record's PSD
-    (``--record``) are not offered here: use :func:`spectrum` and the
-    command line."""
-    text, gate = _tauwise.jitter(
-        os.fspath(table),
+    """Integrated phase jitter over offset bands (``"12k:5M"``) of an L(f)
+    ``table`` — ``tauwise jitter TABLE`` — or, with ``record=`` (a
+    :class:`Record`, a file read with ``read_options``, or an array with
+    ``tau0``), of the record's Welch spectrum (``window``, ``segment``) —
+    ``tauwise jitter --record FILE``. Optionally weighted (``filters``:
+    Butterworth, loops), judged against ``limits`` with their unit
+    (``"1ps"``, ``"10mrad"``, ``"0.01UI"``). ``period`` (or ``periods=N``)
+    adds each band's rms period, cycle-to-cycle and N-period jitter from the
+    spectrum, and for a record also the same measured from its edges (a
+    record of every edge: τ0 = 1/carrier). The spectrum's warnings are
+    issued as :class:`TauwiseWarning`.
+
+    L(f) and jitter limits have no uncertainty here, so they are decided
+    at the estimate under either ``decision_rule`` (and say so); see
+    :func:`stability` for the rules."""
+    if carrier is None:
+        raise ValueError("carrier: jitter needs the carrier frequency (e.g. carrier=\"10MHz\")")
+    rec = None
+    if record is not None:
+        if value_column is not None:
+            read_options = dict(read_options, value_column=value_column)
+            value_column = None
+        rec = _record(record, tau0, kind, read_options)
+    elif tau0 is not None or kind is not None or read_options:
+        raise ValueError(
+            "tau0, kind and reading options go with record=; a phase-noise table is read with "
+            "quantity and value_column"
+        )
+    text, gate, warns = _tauwise.jitter(
+        _path(table),
+        rec,
         _text(carrier),
         _strings(bands),
         quantity=quantity,
@@ -676,8 +766,168 @@ def jitter(
         extrapolate=extrapolate,
         limits=_strings(limits),
         limit_files=_strings(limit_files),
+        window=window,
+        segment=_text(segment),
+        decision_rule=decision_rule,
+        conformance=_text(conformance),
     )
+    for w in warns:
+        warnings.warn(w, TauwiseWarning, stacklevel=2)
     return Result("jitter", text, gate)
+
+
+def inspect(
+    data: Any,
+    tau0: Union[float, str, None] = None,
+    kind: Optional[str] = None,
+    *,
+    outliers: Union[float, str] = 5.0,
+    **read_options: Any,
+) -> Result:
+    """How a file was read and what its record holds before any analysis —
+    ``tauwise inspect``: preamble, header, delimiter, decimal mark, unit and
+    where it came from, notes, warnings, options that would read it better;
+    size, span, τ0, gaps, mean frequency offset, linear drift, and the
+    frequency values further than ``outliers`` scaled MADs from the median.
+    ``data`` is a file (read with ``read_options``) or a :class:`Record`
+    from :func:`read`; an array has no file to describe and is refused.
+    The reader's warnings are in the document (not issued)."""
+    rec = _record(data, tau0, kind, read_options, quiet=True)
+    return Result("inspect", _tauwise.inspect(rec, _text(outliers)))
+
+
+def prepare(
+    data: Any,
+    out: Optional[PathLike] = None,
+    *,
+    tau0: Union[float, str, None] = None,
+    kind: Optional[str] = None,
+    remove_drift: Optional[str] = None,
+    outliers: Union[float, str, None] = None,
+    fill_gaps: bool = False,
+    decimate: Optional[int] = None,
+    **read_options: Any,
+) -> Record:
+    """A cleaned copy of a record — ``tauwise prepare``: frequency values
+    further than ``outliers`` scaled MADs from the median made gaps (a phase
+    step taken out of the later phase), a least-squares drift removed
+    (``remove_drift="linear"``/``"quadratic"``), interior gaps filled by
+    linear interpolation (``fill_gaps``), every N-th phase sample kept (or N
+    frequency values averaged, ``decimate=N``), in that order. Returns the
+    cleaned record; its ``notes`` say what each step did. With ``out`` the
+    record is also written, atomically, as the command writes it (the same
+    bytes: comment lines with the notes, a header, time stamps and values),
+    and the returned record names that file."""
+    rec = _record(data, tau0, kind, read_options)
+    return Record(
+        _tauwise.prepare(
+            rec,
+            out=_path(out),
+            remove_drift=remove_drift,
+            outliers=_text(outliers),
+            fill_gaps=fill_gaps,
+            decimate=_text(decimate),
+        )
+    )
+
+
+def separate(
+    pairs: Any,
+    *,
+    dev: str = "oadev",
+    method: str = "independent",
+    sessions: str = "simultaneous",
+    seed: int = 1,
+    taus: Union[str, Sequence[Union[float, str]]] = "octave",
+    confidence: float = DEFAULT_CONFIDENCE,
+    remove_drift: Optional[str] = None,
+    tau0: Union[float, str, None] = None,
+    kind: Optional[str] = None,
+    **read_options: Any,
+) -> Result:
+    """The stability of each clock from records of pairs measured against
+    each other — ``tauwise separate``: the three-cornered hat (Gray & Allan
+    1974) for three clocks, least squares (Barnes) for more pairs or clocks
+    (``method="independent"``), or the covariance form for correlated
+    clocks (Premoli & Tavella 1993, ``method="covariance"``, seeded Monte
+    Carlo intervals).
+
+    ``pairs`` holds at least three pair records, each ``"A,B=FILE"`` (the
+    command line's ``--pair``) or a tuple ``(A, B, data)`` where ``data`` is
+    a :class:`Record`, a file or an array of x_A − x_B (with ``tau0``); a
+    mapping ``{(A, B): data}`` is taken too. Files are read with
+    ``read_options``. ``sessions`` is ``"simultaneous"`` (pairs sharing a
+    clock share its noise) or ``"separate"``. ``dev``: adev, oadev, mdev,
+    tdev, hdev, ohdev. A separated variance that is not positive is
+    reported as the upper bound the data allow, never clipped."""
+    items: List[Any]
+    if isinstance(pairs, Mapping):
+        items = [(k[0], k[1], v) for k, v in pairs.items()]
+    elif isinstance(pairs, (str, os.PathLike)):
+        items = [pairs]
+    else:
+        items = list(pairs)
+    triples = []
+    for p in items:
+        if isinstance(p, str):
+            a, b, path = _tauwise.pair_spec(p)
+            triples.append((a, b, _record(path, tau0, kind, read_options)))
+        else:
+            try:
+                a, b, d = p
+            except (TypeError, ValueError):
+                raise ValueError(
+                    f"pairs: {p!r}: expected \"A,B=FILE\" or a tuple (A, B, data)"
+                ) from None
+            triples.append((str(a), str(b), _record(d, tau0, kind, read_options)))
+    taus_text = taus if isinstance(taus, str) else ",".join(_text(t) or "" for t in taus)
+    text = _tauwise.separate(
+        triples,
+        dev,
+        method,
+        sessions,
+        _text(seed),
+        taus_text,
+        _text(confidence),
+        remove_drift=remove_drift,
+    )
+    return Result("separate", text)
+
+
+def timeline(
+    data: Any,
+    tau0: Union[float, str, None] = None,
+    kind: Optional[str] = None,
+    *,
+    window: str,
+    step: str,
+    dev: str = "oadev",
+    taus: Union[str, Sequence[Union[float, str]]] = "octave",
+    confidence: float = DEFAULT_CONFIDENCE,
+    event_confidence: float = EVENT_CONFIDENCE,
+    remove_drift: Optional[str] = None,
+    **read_options: Any,
+) -> Result:
+    """σ(τ) in a window sliding along the record (dynamic Allan variance)
+    and the windows that depart from the whole record — ``tauwise
+    timeline``. ``window`` and ``step`` are durations with their unit
+    (``"6h"``, ``"15min"``), whole numbers of τ0; ``dev`` is oadev, mdev,
+    tdev or ohdev; a window departs at τ when its interval (at
+    ``event_confidence``) and the whole record's do not overlap, and the
+    document gives the expected false-alarm fraction beside it."""
+    rec = _record(data, tau0, kind, read_options)
+    taus_text = taus if isinstance(taus, str) else ",".join(_text(t) or "" for t in taus)
+    text = _tauwise.timeline(
+        rec,
+        _text(window),
+        _text(step),
+        dev,
+        taus_text,
+        _text(confidence),
+        _text(event_confidence),
+        remove_drift=remove_drift,
+    )
+    return Result("timeline", text)
 
 
 def wander(
@@ -693,13 +943,25 @@ def wander(
     te_filter: Optional[str] = None,
     te: bool = False,
     cte_window: Optional[str] = None,
+    decision_rule: Optional[str] = None,
+    conformance: Union[float, str, None] = None,
     **read_options: Any,
 ) -> Result:
     """TIE statistics, MTIE and TDEV of a time-error record against masks
     (``masks``: ``g811``, ``g8272-prtc-a``, ``g8262-opt1``; ``limit_files``
     your own) — ``tauwise wander``. Each verdict says which τ it checked and
     how much of the mask that covers; ``gate`` is ``"pass"``,
-    ``"exceeds"``, ``"not-judged"`` or ``"undecided"`` (a guarded decision rule)."""
+    ``"exceeds"``, ``"not-judged"`` or ``"undecided"`` (a guarded decision rule).
+
+    ``decision_rule`` (``"simple"``, the default, or ``"guarded"``) and
+    ``conformance`` (in (0.5, 1), default 0.95) say how a verdict is
+    reached from the estimate and its uncertainty (``--decision-rule``,
+    ``--conformance``; ``docs/decision-rules.md``): under ``guarded`` a
+    verdict is ``undecided`` unless the probability of conformance (or of
+    non-conformance) reaches the level.
+    MTIE has no distribution here, so its masks are decided at the
+    estimate under either rule (and say so); TDEV masks use the χ²
+    probability at each τ."""
     rec = _record(data, tau0, kind, read_options)
     text, gate = _tauwise.wander(
         rec,
@@ -711,6 +973,8 @@ def wander(
         te_filter=te_filter,
         te=te,
         cte_window=_text(cte_window),
+        decision_rule=decision_rule,
+        conformance=_text(conformance),
     )
     return Result("wander", text, gate)
 
@@ -735,11 +999,22 @@ def holdover(
     temp_coeff: Optional[str] = None,
     temp_swing: Optional[str] = None,
     model: Optional[str] = None,
+    decision_rule: Optional[str] = None,
+    conformance: Union[float, str, None] = None,
     **read_options: Any,
 ) -> Result:
     """Time error through a holdover ``span`` against a ``budget`` (both with
     their unit: ``"24h"``, ``"1.5us"``), with aging fitted on the record and
-    a seeded Monte Carlo of the fitted noise model — ``tauwise holdover``."""
+    a seeded Monte Carlo of the fitted noise model — ``tauwise holdover``.
+
+    ``decision_rule`` (``"simple"``, the default, or ``"guarded"``) and
+    ``conformance`` (in (0.5, 1), default 0.95) say how a verdict is
+    reached from the estimate and its uncertainty (``--decision-rule``,
+    ``--conformance``; ``docs/decision-rules.md``): under ``guarded`` a
+    verdict is ``undecided`` unless the probability of conformance (or of
+    non-conformance) reaches the level.
+    For holdover the probability is the fraction of Monte Carlo paths
+    whose |TE| stays within the budget through the span."""
     rec = _record(data, tau0, kind, read_options)
     text, gate = _tauwise.holdover(
         rec,
@@ -758,6 +1033,8 @@ def holdover(
         temp_coeff=_text(temp_coeff),
         temp_swing=_text(temp_swing),
         model=model,
+        decision_rule=decision_rule,
+        conformance=_text(conformance),
     )
     return Result("holdover", text, gate)
 
@@ -800,20 +1077,44 @@ def report(
     out: Optional[PathLike] = None,
     *,
     confidence: float = DEFAULT_CONFIDENCE,
+    decision_rule: Optional[str] = None,
+    conformance: Union[float, str, None] = None,
 ) -> Result:
     """The HTML report of a DUT file, or the comparison of several, written
     to ``out`` (atomically) when given — ``tauwise report``. Returns the
-    verdict matrix (``tauwise report … --format json``) with its gate."""
-    text, gate = _tauwise.report(_strings(duts), _path(out), _text(confidence))
+    verdict matrix (``tauwise report … --format json``) with its gate.
+
+    ``decision_rule`` and ``conformance``, when given, take the place of
+    the DUT files' ``decision_rule`` and ``conformance`` (as
+    ``--decision-rule`` and ``--conformance`` do); see :func:`stability`."""
+    text, gate = _tauwise.report(
+        _strings(duts),
+        _path(out),
+        _text(confidence),
+        decision_rule=decision_rule,
+        conformance=_text(conformance),
+    )
     return Result("report", text, gate)
 
 
-def device(dut: PathLike, *, confidence: float = DEFAULT_CONFIDENCE) -> "DevicePart":
+def device(
+    dut: PathLike,
+    *,
+    confidence: float = DEFAULT_CONFIDENCE,
+    decision_rule: Optional[str] = None,
+    conformance: Union[float, str, None] = None,
+) -> "DevicePart":
     """One device of a fleet, computed on its own (its report built from its
     DUT file, the same path as :func:`report`) and kept as its part of the
     verdict matrix: small and picklable, so that a distributed engine can
-    compute devices on many machines (``examples/fleet_dask.py``)."""
-    return _tauwise.device(os.fspath(dut), _text(confidence))
+    compute devices on many machines (``examples/fleet_dask.py``).
+    ``decision_rule`` and ``conformance`` as in :func:`report`."""
+    return _tauwise.device(
+        os.fspath(dut),
+        _text(confidence),
+        decision_rule=decision_rule,
+        conformance=_text(conformance),
+    )
 
 
 def fleet(parts: Iterable["DevicePart"]) -> Result:

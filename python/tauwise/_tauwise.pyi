@@ -12,6 +12,8 @@ import numpy.typing as npt
 __version__: str
 DECISION_CAUTION: str
 DEFAULT_CONFIDENCE: float
+DEFAULT_CONFORMANCE: float
+EVENT_CONFIDENCE: float
 
 class Record:
     @staticmethod
@@ -76,6 +78,8 @@ def stability(
     carrier: Optional[str] = None,
     bandwidth: Optional[str] = None,
     lf_uncertainty: Optional[str] = None,
+    decision_rule: Optional[str] = None,
+    conformance: Optional[str] = None,
 ) -> Tuple[str, str]: ...
 def noise(record: Record, taus: str, remove_drift: Optional[str] = None) -> str: ...
 def spectrum(
@@ -98,6 +102,8 @@ def wander(
     te_filter: Optional[str] = None,
     te: bool = False,
     cte_window: Optional[str] = None,
+    decision_rule: Optional[str] = None,
+    conformance: Optional[str] = None,
 ) -> Tuple[str, str]: ...
 def holdover(
     record: Record,
@@ -116,6 +122,8 @@ def holdover(
     temp_coeff: Optional[str] = None,
     temp_swing: Optional[str] = None,
     model: Optional[str] = None,
+    decision_rule: Optional[str] = None,
+    conformance: Optional[str] = None,
 ) -> Tuple[str, str]: ...
 def simulate(
     model: str,
@@ -146,7 +154,8 @@ def convert(
     per_decade: str = "10",
 ) -> str: ...
 def jitter(
-    table: str,
+    table: Optional[str],
+    record: Optional[Record],
     carrier: str,
     bands: Sequence[str],
     quantity: Optional[str] = None,
@@ -163,7 +172,52 @@ def jitter(
     extrapolate: bool = False,
     limits: Sequence[str] = ...,
     limit_files: Sequence[str] = ...,
+    window: str = "hann",
+    segment: Optional[str] = None,
+    decision_rule: Optional[str] = None,
+    conformance: Optional[str] = None,
+) -> Tuple[str, str, List[str]]: ...
+def inspect(record: Record, outliers: str) -> str: ...
+def prepare(
+    record: Record,
+    out: Optional[str] = None,
+    remove_drift: Optional[str] = None,
+    outliers: Optional[str] = None,
+    fill_gaps: bool = False,
+    decimate: Optional[str] = None,
+) -> Record: ...
+def pair_spec(text: str) -> Tuple[str, str, str]: ...
+def separate(
+    pairs: Sequence[Tuple[str, str, Record]],
+    dev: str,
+    method: str,
+    sessions: str,
+    seed: str,
+    taus: str,
+    confidence: str,
+    remove_drift: Optional[str] = None,
+) -> str: ...
+def timeline(
+    record: Record,
+    window: str,
+    step: str,
+    dev: str,
+    taus: str,
+    confidence: str,
+    event_confidence: str,
+    remove_drift: Optional[str] = None,
+) -> str: ...
+def report(
+    duts: Sequence[str],
+    out: Optional[str],
+    confidence: str,
+    decision_rule: Optional[str] = None,
+    conformance: Optional[str] = None,
 ) -> Tuple[str, str]: ...
-def report(duts: Sequence[str], out: Optional[str], confidence: str) -> Tuple[str, str]: ...
-def device(dut: str, confidence: str) -> DevicePart: ...
+def device(
+    dut: str,
+    confidence: str,
+    decision_rule: Optional[str] = None,
+    conformance: Optional[str] = None,
+) -> DevicePart: ...
 def fleet(parts: Sequence[DevicePart]) -> Tuple[str, str]: ...

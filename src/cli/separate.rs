@@ -14,7 +14,7 @@ use tauwise::separate::{
 use tauwise::Result;
 
 /// Monte Carlo draws of the covariance form's intervals.
-pub const DRAWS: usize = 400;
+pub const DRAWS: usize = tauwise::separate::DEFAULT_DRAWS;
 
 /// The stability of each clock from pairwise comparisons (N-cornered hat).
 #[derive(Debug, ClapArgs)]

@@ -47,11 +47,25 @@ impl JitterTrace {
         carrier: f64,
         options: &crate::spectrum::welch::WelchOptions,
     ) -> crate::Result<(Self, Vec<String>)> {
-        let w = crate::spectrum::welch::welch_record(&series.record, options)?;
+        let name = series.info.path.display().to_string();
+        Self::of_named_record(&series.record, series.into(), &name, carrier, options)
+    }
+
+    /// [`JitterTrace::of_record`] for a record that did not come from a
+    /// file read here (the Python package's arrays): `input` is what its
+    /// document names, `name` where it came from in words.
+    pub fn of_named_record(
+        record: &crate::Record,
+        input: super::Input,
+        name: &str,
+        carrier: f64,
+        options: &crate::spectrum::welch::WelchOptions,
+    ) -> crate::Result<(Self, Vec<String>)> {
+        let w = crate::spectrum::welch::welch_record(record, options)?;
         let trace = JitterTrace {
-            input: series.into(),
+            input,
             spectrum: w.spectrum(Some(carrier))?,
-            source: format!("Welch spectrum of {}", series.info.path.display()),
+            source: format!("Welch spectrum of {name}"),
             drawn: w.log_binned(10, Some(carrier))?,
             welch: Some((w.window.name(), w.enbw_hz, w.gap_note())),
         };

@@ -52,6 +52,10 @@ use nalgebra::DMatrix;
 
 pub mod covariance;
 
+/// Monte Carlo draws of the covariance form's intervals (the command
+/// line's and the Python package's).
+pub const DEFAULT_DRAWS: usize = 400;
+
 /// The estimators whose variance is a quadratic form in the phase with no
 /// bias correction, for which the separation's algebra holds as written.
 pub const SUPPORTED: &[Estimator] = &[
