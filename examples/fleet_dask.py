@@ -22,6 +22,7 @@ files and the records they name at the same paths (a shared file system).
     python examples/fleet_dask.py DIR --workers 8
     python examples/fleet_dask.py DIR --scheduler tcp://host:8786
     python examples/fleet_dask.py DIR --json matrix.json
+    python examples/fleet_dask.py DIR --decision-rule guarded --conformance 0.95
 
 The verdicts are engineering estimates: the governing standard, the
 equipment maker's data and local acceptance procedures decide.
@@ -32,7 +33,7 @@ from __future__ import annotations
 import argparse
 import sys
 from pathlib import Path
-from typing import Iterable, List
+from typing import Iterable, List, Optional
 
 import tauwise
 
@@ -54,12 +55,26 @@ def dut_files(directory: Path) -> List[str]:
     return files
 
 
-def fleet_on_dask(client, duts: Iterable[str], confidence: float = tauwise.DEFAULT_CONFIDENCE):
+def fleet_on_dask(
+    client,
+    duts: Iterable[str],
+    confidence: float = tauwise.DEFAULT_CONFIDENCE,
+    decision_rule: Optional[str] = None,
+    conformance: Optional[float] = None,
+):
     """The verdict matrix of ``duts`` with each device computed as one Dask
-    task; the result equals ``tauwise.report(duts)`` (the single-machine
-    comparison)."""
+    task; the result equals ``tauwise.report(duts, …)`` with the same
+    options (the single-machine comparison). ``decision_rule`` and
+    ``conformance``, when given, take the place of the DUT files' own."""
     duts = list(duts)
-    futures = client.map(tauwise.device, duts, confidence=confidence, pure=False)
+    futures = client.map(
+        tauwise.device,
+        duts,
+        confidence=confidence,
+        decision_rule=decision_rule,
+        conformance=conformance,
+        pure=False,
+    )
     parts = client.gather(futures)
     return tauwise.fleet(parts)
 
@@ -87,6 +102,16 @@ def main(argv=None) -> int:
     ap.add_argument("--scheduler", help="address of a running Dask scheduler")
     ap.add_argument("--workers", type=int, default=2, help="workers of the local cluster")
     ap.add_argument("--json", type=Path, help="also write the matrix document here")
+    ap.add_argument(
+        "--decision-rule",
+        choices=("simple", "guarded"),
+        help="how verdicts are reached (docs/decision-rules.md); default: each DUT file's, else simple",
+    )
+    ap.add_argument(
+        "--conformance",
+        type=float,
+        help="conformance level of the guarded rule, in (0.5, 1); default: each DUT file's, else 0.95",
+    )
     args = ap.parse_args(argv)
 
     from dask.distributed import Client, LocalCluster
@@ -99,7 +124,9 @@ def main(argv=None) -> int:
         cluster = LocalCluster(n_workers=args.workers, threads_per_worker=1)
         client = Client(cluster)
     try:
-        result = fleet_on_dask(client, duts)
+        result = fleet_on_dask(
+            client, duts, decision_rule=args.decision_rule, conformance=args.conformance
+        )
     finally:
         client.close()
         if cluster is not None:
@@ -107,7 +134,7 @@ def main(argv=None) -> int:
     print_matrix(result)
     if args.json:
         args.json.write_text(result.to_json())
-    return {"pass": 0, "exceeds": 3, "not-judged": 4}.get(result.gate, 0)
+    return {"pass": 0, "exceeds": 3, "not-judged": 4, "undecided": 5}.get(result.gate, 0)
 
 
 if __name__ == "__main__":

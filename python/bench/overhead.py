@@ -5,13 +5,18 @@ simulation of white and flicker FM) and, beside it, the same library calls
 with no Python in between (``python/examples/library_call.rs``: the record
 made from the values, σ(τ) with intervals and noise types, the JSON
 document). Both report wall and CPU time (CPU of the whole process, all
-threads, in 10 ms ticks); the median of the repeats is printed with the
-Python call's overhead in per cent, and the fastest run of each (the least
-disturbed by other work on a shared machine). The Python layer's own work
+threads: ``CLOCK_PROCESS_CPUTIME_ID`` on both sides, ns resolution); the
+median of the repeats is printed with the Python call's overhead in per
+cent, and the fastest run of each (the least disturbed by other work on a
+shared machine). The Python layer's own work
 (the copy of the input into the record, reading the returned document) is
 also timed alone.
 
-    python python/bench/overhead.py [--points 1000000] [--repeats 15]
+    python python/bench/overhead.py [--points 1000000] [--repeats 35]
+
+The machine's load average is printed before and after: on a shared
+machine wall time scatters with the load, so the CPU figures (and the
+fastest runs) are the ones to read.
 
 Needs the package installed (``pip install ./python``) and cargo. A
 benchmark, not a test: nothing here fails on a slow machine.
@@ -20,6 +25,7 @@ benchmark, not a test: nothing here fails on a slow machine.
 from __future__ import annotations
 
 import argparse
+import os
 import statistics
 import subprocess
 import tempfile
@@ -50,30 +56,38 @@ def python_times(x, dev, taus, repeats, layout):
     return out
 
 
-def library_times(npy, dev, taus, repeats):
-    cmd = [
-        "cargo", "run", "--quiet", "--release", "-p", "tauwise-python", "--example",
-        "library_call", "--", str(npy), dev, taus, str(repeats + 1),
-    ]
+def library_program() -> Path:
+    """The example program, built once (release)."""
+    subprocess.run(
+        ["cargo", "build", "--quiet", "--release", "-p", "tauwise-python", "--example",
+         "library_call"],
+        cwd=REPO, check=True,
+    )
+    return REPO / "target" / "release" / "examples" / "library_call"
+
+
+def library_times(program, npy, dev, taus, repeats):
+    cmd = [str(program), str(npy), dev, taus, str(repeats + 1)]
     run = subprocess.run(cmd, cwd=REPO, capture_output=True, text=True, check=True)
     rows = [tuple(float(v) for v in line.split()) for line in run.stdout.split("\n") if line.strip()]
-    return rows[1:]  # the first run is a warm-up, as on the Python side
+    return [r[:2] for r in rows[1:]]  # the first run is a warm-up, as on the Python side
 
 
 def python_layer_alone(x, dev, taus, repeats):
-    """The work the Python layer adds, timed alone: the one copy of the
-    input into the record, and reading the returned document into the
-    result (its dict and the curves' arrays)."""
+    """The Python side's work around the library, timed alone: the one
+    copy of the input into the record (which the library program makes
+    too), and reading the returned document into the result (its dict and
+    the curves' arrays)."""
     text, gate = tauwise._tauwise.stability(
         tauwise.Record.from_array(x, 1.0)._inner, dev, taus, repr(tauwise.DEFAULT_CONFIDENCE)
     )
     out = []
     for _ in range(repeats):
-        w0 = time.perf_counter()
+        c0 = time.process_time()
         tauwise.Record.from_array(x, 1.0)
         tauwise.StabilityResult(text, gate)
-        out.append(time.perf_counter() - w0)
-    return min(out)
+        out.append(time.process_time() - c0)
+    return statistics.median(out)
 
 
 def median(pairs, i):
@@ -83,38 +97,56 @@ def median(pairs, i):
 def main() -> None:
     ap = argparse.ArgumentParser(description=__doc__.split("\n\n")[0])
     ap.add_argument("--points", type=int, default=1_000_000)
-    ap.add_argument("--repeats", type=int, default=15)
+    ap.add_argument("--repeats", type=int, default=35)
     args = ap.parse_args()
     rec = tauwise.simulate("h0=1e-22,h-1=1e-26", tau0=1.0, points=args.points, seed=1)
     x = np.array(rec.x)
     with tempfile.TemporaryDirectory() as tmp:
         npy = Path(tmp) / "x.npy"
         np.save(npy, x)
-        print(f"{args.points} points, median of {args.repeats} runs; wall / CPU in seconds")
+        load = lambda: " ".join(f"{v:.2f}" for v in os.getloadavg())  # noqa: E731
+        print(f"load average before: {load()} ({os.cpu_count()} cores)")
+        print(
+            f"{args.points} points, median of {-(-args.repeats // 5) * 5} calls (rounds of 5, "
+            "library and Python interleaved); wall / CPU in ms"
+        )
         print(f"{'case':<60} {'library':>17} {'Python':>17} {'overhead (wall, CPU)':>22}")
+        program = library_program()
+        layouts = {
+            "float64": x,
+            "float32": x.astype(np.float32),
+            "strided": np.repeat(x, 2)[::2],
+        }
+        # The calls are made in rounds, each a few library calls then a few
+        # Python calls per layout, so that both sides see the same load as
+        # it changes on a shared machine.
+        chunk = 5
+        rounds = max(1, -(-args.repeats // chunk))
         for dev, taus, label in CASES:
-            lib = library_times(npy, dev, taus, args.repeats)
-            for name, layout in (
-                ("float64", lambda a: a),
-                ("float32", lambda a: a.astype(np.float32)),
-                ("strided", lambda a: np.repeat(a, 2)[::2]),
-            ):
-                arrays = layout  # the layout is made outside the timed call below
-                prepared = arrays(x)
-                py = python_times(prepared, dev, taus, args.repeats, lambda a: a)
+            lib: list = []
+            py_all: dict = {name: [] for name in layouts}
+            for _ in range(rounds):
+                lib += library_times(program, npy, dev, taus, chunk)
+                for name, arr in layouts.items():
+                    py_all[name] += python_times(arr, dev, taus, chunk, lambda a: a)
+            for name in layouts:
+                py = py_all[name]
                 lw, lc = median(lib, 0), median(lib, 1)
                 pw, pc = median(py, 0), median(py, 1)
                 lmin, pmin = min(p[0] for p in lib), min(p[0] for p in py)
                 print(
-                    f"{label + ' [' + name + ']':<60} {lw:8.3f} / {lc:6.2f} {pw:8.3f} / {pc:6.2f}"
+                    f"{label + ' [' + name + ']':<60} {1e3 * lw:7.2f} / {1e3 * lc:7.2f} "
+                    f"{1e3 * pw:7.2f} / {1e3 * pc:7.2f}"
                     f" {100 * (pw / lw - 1):+9.1f} % {100 * (pc / lc - 1) if lc > 0 else float('nan'):+8.1f} %"
-                    f"   fastest: {lmin:.4f} / {pmin:.4f} s ({100 * (pmin / lmin - 1):+.1f} %)"
+                    f"   fastest wall: {1e3 * lmin:.2f} / {1e3 * pmin:.2f} ms ({100 * (pmin / lmin - 1):+.1f} %)"
                 )
             alone = python_layer_alone(x, dev, taus, args.repeats)
             print(
-                f"{'  the Python layer alone (copy in, document out), fastest':<60} {alone:8.4f} s wall"
-                f" = {100 * alone / min(p[0] for p in lib):.1f} % of the fastest library call"
+                f"{'  copy into the record + document read back, alone':<60} {1e3 * alone:7.2f} ms CPU"
+                f" = {100 * alone / median(lib, 1):.1f} % of the library call's median CPU"
+                " (the library call makes the same copy)"
             )
+        print(f"load average after: {load()}")
 
 
 if __name__ == "__main__":

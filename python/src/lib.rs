@@ -135,6 +135,26 @@ fn decision(
     Ok(tauwise::decision::DecisionRule::default().overridden(r, c))
 }
 
+/// Before any computing, as the command line's `--plot FILE`: the chart
+/// file is not one of `inputs` and its directory takes files.
+fn check_plot(py: Python<'_>, inputs: &[&Path], plot: Option<&Path>) -> PyResult<()> {
+    match plot {
+        Some(p) => tauwise::io::output_paths::check_output_paths(inputs, &[Some(p)]).py(py),
+        None => Ok(()),
+    }
+}
+
+/// The file a record was read from, if any (an input a chart may not
+/// overwrite).
+fn record_file(record: &PyRecord) -> Vec<&Path> {
+    record
+        .info
+        .as_ref()
+        .map(|i| i.path.as_path())
+        .into_iter()
+        .collect()
+}
+
 /// The JSON text of a command's document (`"tool"`, `"version"`,
 /// `"schema"`, `"input"`, then the body), exactly as the command writes it.
 fn document<B: serde::Serialize>(py: Python<'_>, input: Input, body: B) -> PyResult<String> {
@@ -216,36 +236,69 @@ fn input_of(path: &str, preamble: &[String], record: &tauwise::Record) -> Input 
     })
 }
 
+/// Samples copied and checked together: a block small enough to stay in
+/// the first-level cache between its copy and its check.
+const BLOCK: usize = 4096;
+
+/// True when a value of `v` is ±inf (no early exit, so that the loop is
+/// vectorised).
+fn any_infinite(v: &[f64]) -> bool {
+    v.iter().fold(false, |bad, x| bad | x.is_infinite())
+}
+
+/// A contiguous float64 slice copied block by block, each block checked
+/// for ±inf while it is still in cache ([`check_finite_or_gap`] then finds
+/// the first one only when there is one).
+fn copy_checked(s: &[f64]) -> (Vec<f64>, bool) {
+    let mut v = Vec::with_capacity(s.len());
+    let mut bad = false;
+    for block in s.chunks(BLOCK) {
+        v.extend_from_slice(block);
+        bad |= any_infinite(block);
+    }
+    (v, bad)
+}
+
 /// The values of a 1-D numpy array as a `Vec<f64>`, in one pass: float64
 /// (any layout; contiguous ones copied as a block), float32, int64 and
-/// int32 converted element by element. Anything else is refused (the
-/// Python layer converts other types first).
-fn values_of(py: Python<'_>, values: &Bound<'_, PyAny>) -> PyResult<Vec<f64>> {
+/// int32 converted element by element; with whether a value is ±inf.
+/// Anything else is refused (the Python layer converts other types first).
+fn values_of(py: Python<'_>, values: &Bound<'_, PyAny>) -> PyResult<(Vec<f64>, bool)> {
+    let checked = |v: Vec<f64>| {
+        let bad = any_infinite(&v);
+        (v, bad)
+    };
     if let Ok(a) = values.extract::<PyReadonlyArray1<'_, f64>>() {
         return Ok(match a.as_slice() {
             Ok(s) => {
                 let s: &[f64] = s;
-                py.detach(|| s.to_vec())
+                py.detach(|| copy_checked(s))
             }
-            Err(_) => a.as_array().iter().copied().collect(),
+            Err(_) => checked(a.as_array().iter().copied().collect()),
         });
     }
     if let Ok(a) = values.extract::<PyReadonlyArray1<'_, f32>>() {
-        return Ok(a.as_array().iter().map(|&v| f64::from(v)).collect());
+        return Ok(checked(
+            a.as_array().iter().map(|&v| f64::from(v)).collect(),
+        ));
     }
     if let Ok(a) = values.extract::<PyReadonlyArray1<'_, i64>>() {
-        return Ok(a.as_array().iter().map(|&v| v as f64).collect());
+        return Ok((a.as_array().iter().map(|&v| v as f64).collect(), false));
     }
     if let Ok(a) = values.extract::<PyReadonlyArray1<'_, i32>>() {
-        return Ok(a.as_array().iter().map(|&v| f64::from(v)).collect());
+        return Ok((a.as_array().iter().map(|&v| f64::from(v)).collect(), false));
     }
     Err(PyValueError::new_err(
         "expected a 1-D numpy array of float64, float32, int64 or int32 readings (NaN marks a gap)",
     ))
 }
 
-/// Refuse infinite readings (NaN is a gap; ±inf is no reading at all).
-fn check_finite_or_gap(v: &[f64]) -> PyResult<()> {
+/// Refuse infinite readings (NaN is a gap; ±inf is no reading at all);
+/// `bad` says whether [`values_of`] saw one.
+fn check_finite_or_gap(v: &[f64], bad: bool) -> PyResult<()> {
+    if !bad {
+        return Ok(());
+    }
     match v.iter().position(|x| x.is_infinite()) {
         Some(i) => Err(PyValueError::new_err(format!(
             "reading {i} (0-based) is {}: a reading must be finite (NaN marks a gap)",
@@ -269,8 +322,8 @@ impl PyRecord {
         path: Option<String>,
     ) -> PyResult<Self> {
         let tau0 = parse_kw("tau0", tau0, Duration::positive)?.seconds();
-        let v = values_of(py, values)?;
-        check_finite_or_gap(&v)?;
+        let (v, bad) = values_of(py, values)?;
+        check_finite_or_gap(&v, bad)?;
         let record = match kind {
             "phase" => tauwise::Record::Phase(PhaseRecord::new(v, tau0).py(py)?),
             "freq" | "frequency" => {
@@ -455,7 +508,7 @@ fn paths(list: &[String]) -> Vec<PathBuf> {
 #[pyfunction]
 #[pyo3(signature = (record, dev, taus, confidence, noise_type=None, uncorrected=false,
     best=false, remove_drift=None, limit_files=Vec::new(), lf=None, carrier=None,
-    bandwidth=None, lf_uncertainty=None, decision_rule=None, conformance=None))]
+    bandwidth=None, lf_uncertainty=None, decision_rule=None, conformance=None, plot=None))]
 #[allow(clippy::too_many_arguments)]
 fn stability(
     py: Python<'_>,
@@ -474,8 +527,20 @@ fn stability(
     lf_uncertainty: Option<&str>,
     decision_rule: Option<&str>,
     conformance: Option<&str>,
+    plot: Option<PathBuf>,
 ) -> PyResult<(String, String)> {
     let rule = decision(decision_rule, conformance)?;
+    let time_plot = plot
+        .as_deref()
+        .map(tauwise::plot::stability::time_chart_path);
+    {
+        let mut ins = record_file(&record);
+        ins.extend(lf.as_deref());
+        let lf_ins: Vec<PathBuf> = paths(&limit_files);
+        ins.extend(lf_ins.iter().map(PathBuf::as_path));
+        check_plot(py, &ins, plot.as_deref())?;
+        check_plot(py, &ins, time_plot.as_deref())?;
+    }
     let estimators = parse_kw("dev", dev, from_str::<tauwise::parse::EstimatorList>)?.0;
     let grid = parse_kw("taus", taus, tauwise::tau::TauGrid::parse)?;
     let confidence = parse_kw("confidence", confidence, from_str::<Probability>)?.value();
@@ -541,7 +606,26 @@ fn stability(
                 decision: rule,
             };
             let phase = as_phase(&processed);
-            let body = tauwise::stability::record_stability(&phase, &request, &additions)?.body;
+            let r = tauwise::stability::record_stability(&phase, &request, &additions)?;
+            if let Some(path) = &plot {
+                // The command's `--plot FILE` (and FILE-time for time deviations).
+                let results = [(rpath.to_string(), r)];
+                let (main, time) = tauwise::plot::stability::records_charts(
+                    &results,
+                    request.confidence,
+                    &limit_set,
+                );
+                tauwise::plot::render(&main, path, (960, 600))?;
+                if let (Some(time), Some(tp)) = (time, &time_plot) {
+                    tauwise::plot::render(&time, tp, (960, 600))?;
+                }
+                let [(_, r)] = results;
+                let body = r.body;
+                let gate =
+                    tauwise::verdict::gate(tauwise::limits::judgements(&body.limits.limits));
+                return Ok((input_of(rpath, rpre, &processed), body, gate));
+            }
+            let body = r.body;
             let gate = tauwise::verdict::gate(tauwise::limits::judgements(&body.limits.limits));
             Ok((input_of(rpath, rpre, &processed), body, gate))
         })
@@ -654,7 +738,7 @@ fn spectrum(
 #[pyfunction]
 #[pyo3(signature = (record, taus=None, tau_range=None, masks=Vec::new(),
     limit_files=Vec::new(), remove_offset=false, te_filter=None, te=false, cte_window=None,
-    decision_rule=None, conformance=None))]
+    decision_rule=None, conformance=None, plot=None))]
 #[allow(clippy::too_many_arguments)]
 fn wander(
     py: Python<'_>,
@@ -669,9 +753,16 @@ fn wander(
     cte_window: Option<&str>,
     decision_rule: Option<&str>,
     conformance: Option<&str>,
+    plot: Option<PathBuf>,
 ) -> PyResult<(String, String)> {
     use tauwise::wander::te::{TeOptions, DEFAULT_CTE_WINDOW};
     let rule = decision(decision_rule, conformance)?;
+    {
+        let mut ins = record_file(&record);
+        let lf_ins: Vec<PathBuf> = paths(&limit_files);
+        ins.extend(lf_ins.iter().map(PathBuf::as_path));
+        check_plot(py, &ins, plot.as_deref())?;
+    }
     let grid = parse_opt("taus", taus, tauwise::tau::TauGrid::parse)?;
     let range = parse_opt("tau_range", tau_range, tauwise::parse::parse_tau_range)?;
     let filter = parse_opt("te_filter", te_filter, from_str::<tauwise::parse::TeFilter>)?;
@@ -694,6 +785,7 @@ fn wander(
     }
     let limit_files = paths(&limit_files);
     let rec = &record.record;
+    let title = record.path.as_str();
     let (body, gate) = py
         .detach(|| -> tauwise::Result<_> {
             let (set, elsewhere) = tauwise::limits::read_for(&limit_files, "wander")?;
@@ -714,6 +806,11 @@ fn wander(
                 decision: rule,
             };
             let res = tauwise::wander::analyse_limits(&x, &opts, &mask_list, &limits)?;
+            if let Some(path) = &plot {
+                // The command's `--plot FILE` for one record.
+                let chart = tauwise::plot::wander::wander_chart(&res, &mask_list, title);
+                tauwise::plot::render(&chart, path, tauwise::plot::DEFAULT_SIZE)?;
+            }
             let gate = tauwise::verdict::gate(
                 (res.checks.iter().map(|c| &c.judgement))
                     .chain(res.te_checks.iter().map(|c| &c.judgement)),
@@ -735,7 +832,7 @@ fn wander(
 #[pyfunction]
 #[pyo3(signature = (record, span, budget, paths, seed, steps, te0, y0=None, y0_sigma=None,
     settle=None, start=None, aging=None, aging_model="linear", temp_coeff=None,
-    temp_swing=None, model=None, decision_rule=None, conformance=None))]
+    temp_swing=None, model=None, decision_rule=None, conformance=None, plot=None))]
 #[allow(clippy::too_many_arguments)]
 fn holdover(
     py: Python<'_>,
@@ -757,9 +854,11 @@ fn holdover(
     model: Option<&str>,
     decision_rule: Option<&str>,
     conformance: Option<&str>,
+    plot: Option<PathBuf>,
 ) -> PyResult<(String, String)> {
     use tauwise::holdover::{FromRecord, Settings};
     let rule = decision(decision_rule, conformance)?;
+    check_plot(py, &record_file(&record), plot.as_deref())?;
     use tauwise::parse::{Fraction, Model, Rate};
     let span = parse_kw("span", span, Duration::positive_with_unit)?.seconds();
     let budget = parse_kw("budget", budget, Duration::positive_with_unit)?.seconds();
@@ -799,7 +898,7 @@ fn holdover(
             "settle: sets the window for the y0 estimated on the record; with y0 it has no use",
         ));
     }
-    let rec = &record.record;
+    let (rec, rpath) = (&record.record, record.path.as_str());
     let (body, gate) = py
         .detach(|| -> tauwise::Result<_> {
             let tau0 = rec.tau0();
@@ -824,6 +923,19 @@ fn holdover(
             };
             // The one library function `tauwise holdover` calls per record.
             let r = tauwise::holdover::record_holdover(rec, &opts, &settings)?;
+            if let Some(path) = &plot {
+                // The command's `--plot FILE` for one record.
+                let chart = tauwise::plot::holdover::HoldoverPlot::from_prediction(
+                    rpath,
+                    &r.prediction,
+                    span,
+                    budget,
+                    vec![tauwise::holdover::caution()],
+                )
+                .with_observed(r.observed.as_ref())
+                .chart();
+                tauwise::plot::render(&chart, path, tauwise::plot::DEFAULT_SIZE)?;
+            }
             let (body, pred) = (r.body, r.prediction);
             Ok((body, tauwise::verdict::gate([&pred.judgement])))
         })
@@ -1084,7 +1196,7 @@ enum ConvertBody {
     filters=Vec::new(), filter_files=Vec::new(), filter_set=None, period=false, periods=None,
     spurs=None, ui_rate=None, spur_search=true, spur_threshold=None, extrapolate=false,
     limits=Vec::new(), limit_files=Vec::new(), window="hann", segment=None,
-    decision_rule=None, conformance=None))]
+    decision_rule=None, conformance=None, plot=None))]
 #[allow(clippy::too_many_arguments)]
 fn jitter(
     py: Python<'_>,
@@ -1110,6 +1222,7 @@ fn jitter(
     segment: Option<&str>,
     decision_rule: Option<&str>,
     conformance: Option<&str>,
+    plot: Option<PathBuf>,
 ) -> PyResult<(String, String, Vec<String>)> {
     use tauwise::io::filter_set::assemble_weightings;
     use tauwise::io::lf_table::{read_lf_table, read_spurs, TableOptions, TableQuantity};
@@ -1129,6 +1242,7 @@ fn jitter(
             "bands: give at least one band FROM:TO (e.g. \"12k:5M\"), or a limit file",
         ));
     }
+    let band_names = bands.clone();
     let bands = bands
         .iter()
         .map(|b| parse_kw("bands", b, Band::parse))
@@ -1177,6 +1291,15 @@ fn jitter(
     let record = record.as_deref();
     let filter_files = paths(&filter_files);
     let limit_files = paths(&limit_files);
+    {
+        let mut ins: Vec<&Path> = table.iter().map(PathBuf::as_path).collect();
+        ins.extend(record.map(record_file).unwrap_or_default());
+        ins.extend(filter_files.iter().map(PathBuf::as_path));
+        ins.extend(filter_set.as_deref());
+        ins.extend(spurs.as_deref());
+        ins.extend(limit_files.iter().map(PathBuf::as_path));
+        check_plot(py, &ins, plot.as_deref())?;
+    }
     let (input, body, gate, warnings) = py
         .detach(|| -> tauwise::Result<_> {
             let (limit_set, elsewhere) = tauwise::limits::read_for(&limit_files, "jitter")?;
@@ -1243,6 +1366,27 @@ fn jitter(
             // The one library function `tauwise jitter` calls per trace.
             let limits = tauwise::results::LimitsPart::new(limit_checks, elsewhere);
             let (body, judged) = JitterBody::compute(&trace, carrier, req, record_period, limits)?;
+            if let Some(path) = &plot {
+                // The command's `--plot FILE`: L(f) with each band shaded.
+                use tauwise::plot::phase_noise::{jitter_chart, TraceKind};
+                let drawn: Vec<(&str, &tauwise::spectrum::jitter::BandJitter)> =
+                    (band_names.iter().zip(&judged))
+                        .filter_map(|(name, (r, _))| r.as_ref().ok().map(|r| (name.as_str(), r)))
+                        .collect();
+                let kind = match trace.welch {
+                    None => TraceKind::Table,
+                    Some(_) => TraceKind::RecordSpectrum,
+                };
+                let spurs = &body.found_spurs;
+                let mut chart =
+                    jitter_chart(&trace.source, carrier, &trace.drawn, kind, &drawn, spurs)?;
+                tauwise::plot::limit_lines::add_limits(
+                    &mut chart,
+                    &limit_set,
+                    tauwise::limits::ValueKind::DbcHz,
+                );
+                tauwise::plot::render(&chart, path, tauwise::plot::DEFAULT_SIZE)?;
+            }
             let gate = tauwise::verdict::gate(
                 (judged.iter().filter_map(|j| j.1.as_ref()))
                     .chain(tauwise::limits::judgements(&body.limits.limits)),
@@ -1383,7 +1527,8 @@ fn pair_spec(text: &str) -> PyResult<(String, String, String)> {
 /// records of pairs measured against each other (three-cornered hat, least
 /// squares, or the covariance form).
 #[pyfunction]
-#[pyo3(signature = (pairs, dev, method, sessions, seed, taus, confidence, remove_drift=None))]
+#[pyo3(signature = (pairs, dev, method, sessions, seed, taus, confidence, remove_drift=None,
+    plot=None))]
 #[allow(clippy::too_many_arguments)]
 fn separate(
     py: Python<'_>,
@@ -1395,6 +1540,7 @@ fn separate(
     taus: &str,
     confidence: &str,
     remove_drift: Option<&str>,
+    plot: Option<PathBuf>,
 ) -> PyResult<String> {
     use tauwise::results::{PairInputs, SeparateBody};
     use tauwise::separate::{align, separate as run, Method, PairRecord, PairSpec, Request};
@@ -1429,6 +1575,10 @@ fn separate(
     }
     let pairs: Vec<(&String, &String, &PyRecord)> =
         pairs.iter().map(|(a, b, r)| (a, b, &**r)).collect();
+    {
+        let ins: Vec<&Path> = pairs.iter().flat_map(|p| record_file(p.2)).collect();
+        check_plot(py, &ins, plot.as_deref())?;
+    }
     let (input, body) = py
         .detach(|| -> tauwise::Result<_> {
             let (mut records, mut read) = (Vec::new(), Vec::new());
@@ -1457,6 +1607,12 @@ fn separate(
                 simultaneous,
             };
             let sep = run(&records, &request)?;
+            if let Some(path) = &plot {
+                // The command's `--plot FILE`.
+                let title = format!("{} clocks from {} pairs", sep.clocks.len(), sep.pairs.len());
+                let chart = tauwise::plot::separate::chart(&sep, &title);
+                tauwise::plot::render(&chart, path, tauwise::plot::DEFAULT_SIZE)?;
+            }
             let input = Input::Pairs(PairInputs {
                 data: "pairs",
                 records: read,
@@ -1475,7 +1631,7 @@ fn separate(
 /// from the whole record.
 #[pyfunction]
 #[pyo3(signature = (record, window, step, dev, taus, confidence, event_confidence,
-    remove_drift=None))]
+    remove_drift=None, plot=None))]
 #[allow(clippy::too_many_arguments)]
 fn timeline(
     py: Python<'_>,
@@ -1487,8 +1643,10 @@ fn timeline(
     confidence: &str,
     event_confidence: &str,
     remove_drift: Option<&str>,
+    plot: Option<PathBuf>,
 ) -> PyResult<String> {
     use tauwise::timeline::{timeline as run, window_and_step, Request};
+    check_plot(py, &record_file(&record), plot.as_deref())?;
     let window = parse_kw("window", window, Duration::positive_with_unit)?.seconds();
     let step = parse_kw("step", step, Duration::positive_with_unit)?.seconds();
     let estimator = parse_kw("dev", dev, tauwise::timeline::estimator_named)?;
@@ -1521,6 +1679,10 @@ fn timeline(
                 event_confidence,
             };
             let t = run(&phase, &request)?;
+            if let Some(path) = &plot {
+                // The command's `--plot FILE`.
+                tauwise::plot::timeline::render(&t, &me.path, path)?;
+            }
             let body = tauwise::results::TimelineBody::new(&t, confidence, event_confidence);
             Ok((me.input_for(&processed), body))
         })

@@ -18,6 +18,11 @@ opened or written) or :class:`FileContentError` (a file read but refused,
 naming file and line; both an ``OSError`` and a ``ValueError``). The long
 computations release the GIL, so threads run them in parallel.
 
+``plot="chart.svg"`` (or ``.png``) on ``stability``, ``jitter``, ``wander``,
+``holdover``, ``separate`` and ``timeline`` draws the chart the command's
+``--plot`` draws, with the same library functions (the same file, byte for
+byte), written atomically.
+
 Where a result feeds a decision (masks, limits, holdover budgets) it is an
 engineering estimate: the governing standard, the equipment maker's data
 and local acceptance procedures decide (:data:`DECISION_CAUTION`).
@@ -554,6 +559,7 @@ def stability(
     lf_uncertainty: Union[float, str, None] = None,
     decision_rule: Optional[str] = None,
     conformance: Union[float, str, None] = None,
+    plot: Optional[PathLike] = None,
     **read_options: Any,
 ) -> StabilityResult:
     """σ(τ) curves with confidence intervals and the noise type at each τ
@@ -596,6 +602,7 @@ def stability(
         lf_uncertainty=_text(lf_uncertainty),
         decision_rule=decision_rule,
         conformance=_text(conformance),
+        plot=_path(plot),
     )
     return StabilityResult(text, gate)
 
@@ -717,6 +724,7 @@ def jitter(
     segment: Optional[int] = None,
     decision_rule: Optional[str] = None,
     conformance: Union[float, str, None] = None,
+    plot: Optional[PathLike] = None,
     **read_options: Any,
 ) -> Result:
     """Integrated phase jitter over offset bands (``"12k:5M"``) of an L(f)
@@ -770,6 +778,7 @@ def jitter(
         segment=_text(segment),
         decision_rule=decision_rule,
         conformance=_text(conformance),
+        plot=_path(plot),
     )
     for w in warns:
         warnings.warn(w, TauwiseWarning, stacklevel=2)
@@ -843,6 +852,7 @@ def separate(
     remove_drift: Optional[str] = None,
     tau0: Union[float, str, None] = None,
     kind: Optional[str] = None,
+    plot: Optional[PathLike] = None,
     **read_options: Any,
 ) -> Result:
     """The stability of each clock from records of pairs measured against
@@ -890,6 +900,7 @@ def separate(
         taus_text,
         _text(confidence),
         remove_drift=remove_drift,
+        plot=_path(plot),
     )
     return Result("separate", text)
 
@@ -906,6 +917,7 @@ def timeline(
     confidence: float = DEFAULT_CONFIDENCE,
     event_confidence: float = EVENT_CONFIDENCE,
     remove_drift: Optional[str] = None,
+    plot: Optional[PathLike] = None,
     **read_options: Any,
 ) -> Result:
     """σ(τ) in a window sliding along the record (dynamic Allan variance)
@@ -926,6 +938,7 @@ def timeline(
         _text(confidence),
         _text(event_confidence),
         remove_drift=remove_drift,
+        plot=_path(plot),
     )
     return Result("timeline", text)
 
@@ -945,6 +958,7 @@ def wander(
     cte_window: Optional[str] = None,
     decision_rule: Optional[str] = None,
     conformance: Union[float, str, None] = None,
+    plot: Optional[PathLike] = None,
     **read_options: Any,
 ) -> Result:
     """TIE statistics, MTIE and TDEV of a time-error record against masks
@@ -975,6 +989,7 @@ def wander(
         cte_window=_text(cte_window),
         decision_rule=decision_rule,
         conformance=_text(conformance),
+        plot=_path(plot),
     )
     return Result("wander", text, gate)
 
@@ -1001,6 +1016,7 @@ def holdover(
     model: Optional[str] = None,
     decision_rule: Optional[str] = None,
     conformance: Union[float, str, None] = None,
+    plot: Optional[PathLike] = None,
     **read_options: Any,
 ) -> Result:
     """Time error through a holdover ``span`` against a ``budget`` (both with
@@ -1035,6 +1051,7 @@ def holdover(
         model=model,
         decision_rule=decision_rule,
         conformance=_text(conformance),
+        plot=_path(plot),
     )
     return Result("holdover", text, gate)
 

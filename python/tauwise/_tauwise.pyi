@@ -80,6 +80,7 @@ def stability(
     lf_uncertainty: Optional[str] = None,
     decision_rule: Optional[str] = None,
     conformance: Optional[str] = None,
+    plot: Optional[str] = None,
 ) -> Tuple[str, str]: ...
 def noise(record: Record, taus: str, remove_drift: Optional[str] = None) -> str: ...
 def spectrum(
@@ -104,6 +105,7 @@ def wander(
     cte_window: Optional[str] = None,
     decision_rule: Optional[str] = None,
     conformance: Optional[str] = None,
+    plot: Optional[str] = None,
 ) -> Tuple[str, str]: ...
 def holdover(
     record: Record,
@@ -124,6 +126,7 @@ def holdover(
     model: Optional[str] = None,
     decision_rule: Optional[str] = None,
     conformance: Optional[str] = None,
+    plot: Optional[str] = None,
 ) -> Tuple[str, str]: ...
 def simulate(
     model: str,
@@ -176,6 +179,7 @@ def jitter(
     segment: Optional[str] = None,
     decision_rule: Optional[str] = None,
     conformance: Optional[str] = None,
+    plot: Optional[str] = None,
 ) -> Tuple[str, str, List[str]]: ...
 def inspect(record: Record, outliers: str) -> str: ...
 def prepare(
@@ -196,6 +200,7 @@ def separate(
     taus: str,
     confidence: str,
     remove_drift: Optional[str] = None,
+    plot: Optional[str] = None,
 ) -> str: ...
 def timeline(
     record: Record,
@@ -206,6 +211,7 @@ def timeline(
     confidence: str,
     event_confidence: str,
     remove_drift: Optional[str] = None,
+    plot: Optional[str] = None,
 ) -> str: ...
 def report(
     duts: Sequence[str],
