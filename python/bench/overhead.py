@@ -90,6 +90,30 @@ def python_layer_alone(x, dev, taus, repeats):
     return statistics.median(out)
 
 
+def wrapper_cost(dev, taus, repeats=2001):
+    """The Python wrapper's own work per call — keywords, checks, the
+    Record object, reading the document back into the result — measured on
+    a 1000-point record, where the library's part is small and the load of
+    a shared machine scatters it least: the whole call minus the extension
+    call on the same values (the copy and the Rust call). Median wall, s."""
+    x = np.cumsum(np.random.default_rng(1).standard_normal(1000)) * 1e-9
+    inner = tauwise._tauwise
+    conf = repr(tauwise.DEFAULT_CONFIDENCE)
+
+    def wall(f):
+        f()
+        out = []
+        for _ in range(repeats):
+            w0 = time.perf_counter()
+            f()
+            out.append(time.perf_counter() - w0)
+        return statistics.median(out)
+
+    whole = wall(lambda: tauwise.stability(x, tau0=1.0, dev=dev, taus=taus))
+    ext = wall(lambda: inner.stability(inner.Record.from_array(x, "1.0", "phase"), dev, taus, conf))
+    return whole - ext
+
+
 def median(pairs, i):
     return statistics.median(p[i] for p in pairs)
 
@@ -122,6 +146,7 @@ def main() -> None:
         # it changes on a shared machine.
         chunk = 5
         rounds = max(1, -(-args.repeats // chunk))
+        lib_all = {}
         for dev, taus, label in CASES:
             lib: list = []
             py_all: dict = {name: [] for name in layouts}
@@ -129,6 +154,7 @@ def main() -> None:
                 lib += library_times(program, npy, dev, taus, chunk)
                 for name, arr in layouts.items():
                     py_all[name] += python_times(arr, dev, taus, chunk, lambda a: a)
+            lib_all[(dev, taus)] = lib
             for name in layouts:
                 py = py_all[name]
                 lw, lc = median(lib, 0), median(lib, 1)
@@ -145,6 +171,15 @@ def main() -> None:
                 f"{'  copy into the record + document read back, alone':<60} {1e3 * alone:7.2f} ms CPU"
                 f" = {100 * alone / median(lib, 1):.1f} % of the library call's median CPU"
                 " (the library call makes the same copy)"
+            )
+        print()
+        print("the Python wrapper's own work per call (1000-point record, median of 2001):")
+        for dev, taus, label in CASES:
+            w = wrapper_cost(dev, taus)
+            lib_cpu = median(lib_all[(dev, taus)], 1)
+            print(
+                f"  {label:<58} {1e6 * w:6.1f} µs = {100 * w / lib_cpu:.2f} % of the library "
+                f"call's median CPU at {args.points} points"
             )
         print(f"load average after: {load()}")
 
