@@ -43,6 +43,17 @@ def test_bad_arrays_are_refused():
     x[7] = np.inf
     with pytest.raises(ValueError, match=r"reading 7 .*inf.*NaN marks a gap"):
         tauwise.stability(x, tau0=1.0)
+    # The same refusal for every layout the one conversion takes (strided
+    # float64, float32: each converted element by element).
+    strided = np.repeat(x, 2)[::2]
+    with pytest.raises(ValueError, match=r"reading 7 .*inf"):
+        tauwise.stability(strided, tau0=1.0)
+    with pytest.raises(ValueError, match=r"reading 7 .*inf"):
+        tauwise.stability(x.astype(np.float32), tau0=1.0)
+    big = np.zeros(100_000)
+    big[-1] = -np.inf  # in the last block of the block-by-block check
+    with pytest.raises(ValueError, match=r"reading 99999 .*-inf"):
+        tauwise.stability(big, tau0=1.0)
     with pytest.raises(ValueError, match="reading options go with a file"):
         tauwise.stability(np.arange(100.0), tau0=1.0, units="ns")
     with pytest.raises(TypeError, match="unexpected keyword"):

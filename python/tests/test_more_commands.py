@@ -151,6 +151,12 @@ def test_prepare_writes_the_commands_bytes(tmp_path, repo, at_repo):
     np.testing.assert_allclose(back.x, rec.x, rtol=1e-12, atol=1e-21)
 
 
+def test_prepare_may_not_overwrite_its_input(at_repo):
+    """Checked before any computing, as `prepare -o` is."""
+    with pytest.raises(ValueError, match="ocxo-b-tie"):
+        tauwise.prepare(TIE_B, TIE_B, units="ns", tau0="100ms", fill_gaps=True)
+
+
 def test_prepare_in_memory_removes_a_known_drift():
     """Analytic: a phase record x = ½·D·t² (pure linear frequency drift D)
     has its drift removed exactly (the residual phase is a straight line at
