@@ -45,7 +45,7 @@
 
 use crate::error::{Error, Result};
 use crate::model::PowerLaw;
-use crate::simulate::power_law_phase;
+use crate::simulate::{power_law_phase, power_law_phase_pair, PairWorkspace};
 use rand_chacha::ChaCha8Rng;
 use std::f64::consts::PI;
 
@@ -155,4 +155,66 @@ impl NoisePaths {
         }
         level
     }
+
+    /// [`NoisePaths::fill`] for two paths at once: path a from `rng_a` into
+    /// `out_a`, and path b from its generator into its slice when given,
+    /// each generator drawn in the same order as by `fill`. The flicker
+    /// terms of the two paths share one FFT pair
+    /// ([`crate::simulate::power_law_phase_pair`]): each path equals its
+    /// `fill` to rounding (the other terms bit for bit). `ws` is the
+    /// working memory, reused from pair to pair.
+    pub fn fill_pair(
+        &self,
+        rng_a: &mut ChaCha8Rng,
+        out_a: &mut [f64],
+        b: Option<(&mut ChaCha8Rng, &mut [f64])>,
+        ws: &mut PathWorkspace,
+    ) {
+        let len = (self.n + 1).min(out_a.len());
+        out_a.iter_mut().for_each(|v| *v = 0.0);
+        let mut b = b;
+        let len = match &mut b {
+            Some((_, ob)) => {
+                ob.iter_mut().for_each(|v| *v = 0.0);
+                len.min(ob.len())
+            }
+            None => len,
+        };
+        ws.xa.resize(len, 0.0);
+        ws.xb.resize(len, 0.0);
+        for &(alpha, h) in &self.terms {
+            match &mut b {
+                Some((rb, _)) => power_law_phase_pair(
+                    alpha,
+                    h,
+                    self.step,
+                    rng_a,
+                    &mut ws.xa,
+                    Some((&mut **rb, &mut ws.xb[..])),
+                    &mut ws.fft,
+                ),
+                None => {
+                    power_law_phase_pair(alpha, h, self.step, rng_a, &mut ws.xa, None, &mut ws.fft)
+                }
+            }
+            let x0 = ws.xa[0];
+            for (o, v) in out_a.iter_mut().zip(&ws.xa) {
+                *o += v - x0;
+            }
+            if let Some((_, ob)) = &mut b {
+                let x0 = ws.xb[0];
+                for (o, v) in ob.iter_mut().zip(&ws.xb) {
+                    *o += v - x0;
+                }
+            }
+        }
+    }
+}
+
+/// Working memory of [`NoisePaths::fill_pair`], one per thread.
+#[derive(Debug, Default)]
+pub struct PathWorkspace {
+    fft: PairWorkspace,
+    xa: Vec<f64>,
+    xb: Vec<f64>,
 }
