@@ -775,29 +775,30 @@ impl PairWorkspace {
     }
 }
 
-/// [`power_law_phase`] for two Monte Carlo paths at once, each drawing its
-/// white noise from its own generator in the same order as
-/// `power_law_phase` would (so each path's draws are those of a lone
-/// call): `n = out_a.len()` samples of term α into `out_a`, and into the
-/// slice of `b` from its generator when given (of the same length). The
-/// integer-exponent terms are computed exactly as by `power_law_phase`; the
-/// flicker terms share one FFT pair ([`PreparedFlicker`]), equal to the
-/// lone path's to rounding.
+/// The unit phase of one power-law term for two Monte Carlo paths at once:
+/// [`power_law_phase`] with white-noise standard deviation 1 (so that
+/// `power_law_phase(α, h, τ0, …)` is [`white_sigma`]`(α, h, τ0)` times it, to
+/// rounding), `n = out_a.len()` samples of term α into `out_a` from
+/// `rng_a`, and into the slice of `b` from its generator when given (of the
+/// same length). Each path draws its white noise from its own generator in
+/// the same order as `power_law_phase` would, so its draws are those of a
+/// lone call. The flicker terms of the two paths share one FFT pair
+/// ([`PreparedFlicker`]).
+///
+/// A unit path does not depend on h or on the step: the holdover Monte
+/// Carlo draws each path once and scales it for every span it predicts.
 ///
 /// # Panics
-/// As [`power_law_phase`]; and when `b`'s slice is not as long as `out_a`.
-pub fn power_law_phase_pair<R: Rng>(
+/// When α is outside −2 … 2, when `b`'s slice is not as long as `out_a`, or
+/// the memory for the FFT of a flicker term cannot be had.
+pub fn unit_phase_pair<R: Rng>(
     alpha: i32,
-    h: f64,
-    tau0: f64,
     rng_a: &mut R,
     out_a: &mut [f64],
     b: Option<(&mut R, &mut [f64])>,
     ws: &mut PairWorkspace,
 ) {
     assert!((-2..=2).contains(&alpha), "α must be in −2 … 2");
-    assert!(h.is_finite() && h >= 0.0, "h_α must be non-negative");
-    assert!(tau0.is_finite() && tau0 > 0.0, "τ0 must be positive");
     let n = out_a.len();
     out_a.iter_mut().for_each(|v| *v = 0.0);
     let mut b = b;
@@ -805,15 +806,14 @@ pub fn power_law_phase_pair<R: Rng>(
         assert_eq!(ob.len(), n, "both paths of a pair have the same length");
         ob.iter_mut().for_each(|v| *v = 0.0);
     }
-    if h > 0.0 && n > 0 {
-        let sigma = white_sigma(alpha, h, tau0);
+    if n > 0 {
         let mut na = || -> f64 { rng_a.sample(StandardNormal) };
         match alpha {
             2 | 0 | -2 => {
-                add_integer_term(alpha, sigma, &mut na, out_a);
+                add_integer_term(alpha, 1.0, &mut na, out_a);
                 if let Some((rb, ob)) = &mut b {
                     let mut nb = || -> f64 { rb.sample(StandardNormal) };
-                    add_integer_term(alpha, sigma, &mut nb, ob);
+                    add_integer_term(alpha, 1.0, &mut nb, ob);
                 }
             }
             _ => {
@@ -832,9 +832,9 @@ pub fn power_law_phase_pair<R: Rng>(
                     None => prepared.filter(&mut na, None, ws),
                 }
                 .expect("not enough memory for the FFT of a flicker term");
-                add_flicker_increments(alpha, sigma, ws.output(n, false), out_a);
+                add_flicker_increments(alpha, 1.0, ws.output(n, false), out_a);
                 if let Some((_, ob)) = &mut b {
-                    add_flicker_increments(alpha, sigma, ws.output(n, true), ob);
+                    add_flicker_increments(alpha, 1.0, ws.output(n, true), ob);
                 }
             }
         }
@@ -973,56 +973,45 @@ mod tests {
         assert!(simulate_frequency(&s).is_err());
     }
 
-    /// The paired flicker filter against the lone-path one (itself checked
-    /// against the direct convolution above): each path of a pair equals
-    /// `power_law_phase` of its own generator to 1e−12 of the path's largest
-    /// value (different FFT plans and packing: rounding only), and the
-    /// integer-exponent terms are bit-for-bit equal; a lone path (odd
-    /// count) likewise.
+    /// The paired unit paths against the lone-path synthesiser (itself
+    /// checked against the direct convolution above): each path of a pair,
+    /// scaled by `white_sigma`, equals `power_law_phase` of its own
+    /// generator to 1e−12 of the path's largest value (other FFT plan and
+    /// packing, scaling after the sum: rounding only), for every α; a lone
+    /// path (odd count) likewise; and each generator is left where the lone
+    /// call leaves it.
     #[test]
-    fn paired_paths_equal_lone_paths() {
+    fn paired_unit_paths_equal_lone_paths() {
         for &n in &[1usize, 2, 17, 300, 4097] {
             for alpha in -2..=2 {
-                let h = 1e-22;
+                let (h, tau0) = (1e-22, 10.0);
+                let sigma = white_sigma(alpha, h, tau0);
                 let (mut ra, mut rb) = (ChaCha8Rng::seed_from_u64(9), ChaCha8Rng::seed_from_u64(9));
                 rb.set_stream(1);
                 let (mut la, mut lb) = (ra.clone(), rb.clone());
-                let want_a = power_law_phase(alpha, h, 10.0, n, &mut la);
-                let want_b = power_law_phase(alpha, h, 10.0, n, &mut lb);
+                let want_a = power_law_phase(alpha, h, tau0, n, &mut la);
+                let want_b = power_law_phase(alpha, h, tau0, n, &mut lb);
                 let (mut xa, mut xb) = (vec![0.0; n], vec![0.0; n]);
                 let mut ws = PairWorkspace::default();
-                power_law_phase_pair(
-                    alpha,
-                    h,
-                    10.0,
-                    &mut ra,
-                    &mut xa,
-                    Some((&mut rb, &mut xb)),
-                    &mut ws,
-                );
-                for (got, want) in [(&xa, &want_a), (&xb, &want_b)] {
+                unit_phase_pair(alpha, &mut ra, &mut xa, Some((&mut rb, &mut xb)), &mut ws);
+                let close = |got: &[f64], want: &[f64], what: &str| {
                     let scale = want.iter().fold(0.0f64, |a, v| a.max(v.abs()));
-                    for (g, e) in got.iter().zip(want.iter()) {
-                        if alpha % 2 == 0 {
-                            assert_eq!(g.to_bits(), e.to_bits(), "α={alpha} n={n}");
-                        } else {
-                            assert!(
-                                (g - e).abs() <= 1e-12 * scale,
-                                "α={alpha} n={n}: {g} vs {e}"
-                            );
-                        }
+                    for (g, e) in got.iter().zip(want) {
+                        assert!(
+                            (sigma * g - e).abs() <= 1e-12 * scale,
+                            "{what} α={alpha} n={n}: {} vs {e}",
+                            sigma * g
+                        );
                     }
-                }
-                // The generators are left where the lone calls leave them.
+                };
+                close(&xa, &want_a, "path a");
+                close(&xb, &want_b, "path b");
                 assert_eq!(ra.get_word_pos(), la.get_word_pos());
                 assert_eq!(rb.get_word_pos(), lb.get_word_pos());
                 let mut lone = vec![0.0; n];
                 let mut rc = ChaCha8Rng::seed_from_u64(9);
-                power_law_phase_pair(alpha, h, 10.0, &mut rc, &mut lone, None, &mut ws);
-                let scale = want_a.iter().fold(0.0f64, |a, v| a.max(v.abs()));
-                for (g, e) in lone.iter().zip(&want_a) {
-                    assert!((g - e).abs() <= 1e-12 * scale, "lone α={alpha} n={n}");
-                }
+                unit_phase_pair(alpha, &mut rc, &mut lone, None, &mut ws);
+                close(&lone, &want_a, "lone path");
             }
         }
     }

@@ -311,6 +311,22 @@ pub fn predict(model: &HoldoverModel, settings: &Settings) -> Result<Prediction>
     summarise(model, settings, &te, n, step)
 }
 
+/// [`predict`] for several spans (or budgets) of one model at once: each
+/// prediction is bit for bit the one [`predict`] gives for its settings
+/// alone. Where the settings share the seed, the number of paths and of
+/// steps, every Monte Carlo path is drawn once and scaled for each span
+/// (its unit paths depend on the draws and the number of steps, not on the
+/// step; [`paths::NoisePaths::draw_unit_pair`]), which is how the report
+/// predicts its spans.
+pub fn predict_spans(model: &HoldoverModel, settings: &[Settings]) -> Result<Vec<Prediction>> {
+    let tables = simulate_te_spans(model, settings)?;
+    settings
+        .iter()
+        .zip(tables)
+        .map(|(s, (te, n, step))| summarise(model, s, &te, n, step))
+        .collect()
+}
+
 /// The simulated signed time errors of the prediction: `te[p·n + k − 1]`
 /// is TE of path p at step k (k = 1 … n, t = k·step), without the
 /// worst-case temperature term; returns (te, n, step).
@@ -318,65 +334,150 @@ pub(crate) fn simulate_te(
     model: &HoldoverModel,
     settings: &Settings,
 ) -> Result<(Vec<f64>, usize, f64)> {
-    settings.validate()?;
-    let n = settings.steps;
-    let step = settings.span / n as f64;
-    let gen = NoisePaths::new(&model.noise, step, n)?;
-    let np = settings.paths;
-    let base: Vec<f64> = (0..=n).map(|k| model.base(k as f64 * step)).collect();
-    let unit: Vec<f64> = (0..=n)
-        .map(|k| model.aging.te_per_unit(model.start, k as f64 * step))
-        .collect();
+    let mut one = simulate_te_spans(model, std::slice::from_ref(settings))?;
+    Ok(one.remove(0))
+}
+
+/// [`simulate_te`] for each of `settings`: those that share the seed, the
+/// number of paths and of steps (and so the noise terms drawn) are
+/// simulated together from one draw of each path, the others alone; the
+/// tables are the same either way.
+fn simulate_te_spans(
+    model: &HoldoverModel,
+    settings: &[Settings],
+) -> Result<Vec<(Vec<f64>, usize, f64)>> {
+    let mut out: Vec<Option<(Vec<f64>, usize, f64)>> = vec![None; settings.len()];
+    for i in 0..settings.len() {
+        if out[i].is_some() {
+            continue;
+        }
+        let s = &settings[i];
+        let group: Vec<usize> = (i..settings.len())
+            .filter(|&j| {
+                let o = &settings[j];
+                out[j].is_none() && o.seed == s.seed && o.paths == s.paths && o.steps == s.steps
+            })
+            .collect();
+        let chosen: Vec<&Settings> = group.iter().map(|&j| &settings[j]).collect();
+        for (j, table) in group.into_iter().zip(simulate_group(model, &chosen)?) {
+            out[j] = Some(table);
+        }
+    }
+    Ok(out.into_iter().flatten().collect())
+}
+
+/// One span's fixed parts: the noise generator at its step, the term
+/// scales, the deterministic TE and the aging's TE per unit parameter at
+/// each step.
+struct SpanPlan {
+    gen: NoisePaths,
+    scales: Vec<(i32, f64)>,
+    base: Vec<f64>,
+    unit: Vec<f64>,
+    step: f64,
+}
+
+/// The tables of settings that share the seed, the paths and the steps
+/// (the caller groups them): each path pair's unit paths are drawn once
+/// (with the generator of the first span; every span has the same terms,
+/// checked) and scaled for each span.
+fn simulate_group(
+    model: &HoldoverModel,
+    settings: &[&Settings],
+) -> Result<Vec<(Vec<f64>, usize, f64)>> {
+    let mut plans = Vec::with_capacity(settings.len());
+    for s in settings {
+        s.validate()?;
+        let n = s.steps;
+        let step = s.span / n as f64;
+        let gen = NoisePaths::new(&model.noise, step, n)?;
+        let scales = gen.scales();
+        plans.push(SpanPlan {
+            base: (0..=n).map(|k| model.base(k as f64 * step)).collect(),
+            unit: (0..=n)
+                .map(|k| model.aging.te_per_unit(model.start, k as f64 * step))
+                .collect(),
+            gen,
+            scales,
+            step,
+        });
+    }
+    let alphas = |p: &SpanPlan| p.scales.iter().map(|t| t.0).collect::<Vec<_>>();
+    if plans.iter().any(|p| alphas(p) != alphas(&plans[0])) {
+        // Different terms draw differently: one span at a time.
+        return settings
+            .iter()
+            .map(|s| Ok(simulate_group(model, &[*s])?.remove(0)))
+            .collect();
+    }
+    let (n, np, seed) = (settings[0].steps, settings[0].paths, settings[0].seed);
     let (sy0, sd) = (model.y0_sigma.abs(), model.aging.sigma().abs());
     let rho = if model.uncertainty.y0_aging_corr.is_finite() {
         model.uncertainty.y0_aging_corr.clamp(-1.0, 1.0)
     } else {
         0.0
     };
-    // te[p*n + (k−1)] = signed TE of path p at step k (k = 1 … n). The
-    // paths are drawn two at a time (paths 2i and 2i + 1; the last alone
-    // when the count is odd), each from its own stream, so the result does
-    // not depend on the number of threads.
-    let mut te = vec![0.0f64; np * n];
-    let finish = |rng: &mut ChaCha8Rng, x: &[f64], row: &mut [f64]| {
-        let z1: f64 = rng.sample(StandardNormal);
-        let z2: f64 = rng.sample(StandardNormal);
-        let dy = sy0 * z1;
-        let dd = sd * (rho * z1 + (1.0 - rho * rho).sqrt() * z2);
-        for k in 1..=n {
-            let t = k as f64 * step;
-            row[k - 1] = base[k] + dy * t + dd * unit[k] + x[k];
+    // te[p*n + (k−1)] = signed TE of path p at step k (k = 1 … n), one
+    // table per span. The paths are drawn two at a time (paths 2i and
+    // 2i + 1; the last alone when the count is odd), each from its own
+    // stream, so the result does not depend on the number of threads.
+    let mut tables: Vec<Vec<f64>> = plans.iter().map(|_| vec![0.0f64; np * n]).collect();
+    let mut per_pair: Vec<Vec<&mut [f64]>> = (0..np.div_ceil(2)).map(|_| Vec::new()).collect();
+    for t in tables.iter_mut() {
+        for (i, rows) in t.chunks_mut(2 * n).enumerate() {
+            per_pair[i].push(rows);
         }
-    };
+    }
     let stream = |p: usize| {
-        let mut rng = ChaCha8Rng::seed_from_u64(settings.seed);
+        let mut rng = ChaCha8Rng::seed_from_u64(seed);
         rng.set_stream(p as u64);
         rng
     };
-    te.par_chunks_mut(2 * n).enumerate().for_each_init(
-        || {
-            (
-                vec![0.0f64; n + 1],
-                vec![0.0f64; n + 1],
-                paths::PathWorkspace::default(),
-            )
-        },
-        |(xa, xb, ws), (i, rows)| {
+    // The y0 and aging errors of a path, drawn after its noise.
+    let errors = |rng: &mut ChaCha8Rng| {
+        let z1: f64 = rng.sample(StandardNormal);
+        let z2: f64 = rng.sample(StandardNormal);
+        (z1, z2)
+    };
+    let row = |plan: &SpanPlan, (z1, z2): (f64, f64), x: &[f64], row: &mut [f64]| {
+        let dy = sy0 * z1;
+        let dd = sd * (rho * z1 + (1.0 - rho * rho).sqrt() * z2);
+        for k in 1..=n {
+            let t = k as f64 * plan.step;
+            row[k - 1] = plan.base[k] + dy * t + dd * plan.unit[k] + x[k];
+        }
+    };
+    per_pair.into_par_iter().enumerate().for_each_init(
+        || (vec![0.0f64; n + 1], paths::PathWorkspace::default()),
+        |(x, ws), (i, mut rows)| {
             let (pa, pb) = (2 * i, 2 * i + 1);
             let mut ra = stream(pa);
-            if rows.len() == 2 * n {
+            if pb < np {
                 let mut rb = stream(pb);
-                gen.fill_pair(&mut ra, xa, Some((&mut rb, &mut xb[..])), ws);
-                let (row_a, row_b) = rows.split_at_mut(n);
-                finish(&mut ra, xa, row_a);
-                finish(&mut rb, xb, row_b);
+                plans[0].gen.draw_unit_pair(&mut ra, Some(&mut rb), ws);
+                let (ea, eb) = (errors(&mut ra), errors(&mut rb));
+                for (plan, rows) in plans.iter().zip(rows.iter_mut()) {
+                    let (row_a, row_b) = rows.split_at_mut(n);
+                    ws.path(&plan.scales, false, x);
+                    row(plan, ea, x, row_a);
+                    ws.path(&plan.scales, true, x);
+                    row(plan, eb, x, row_b);
+                }
             } else {
-                gen.fill_pair(&mut ra, xa, None, ws);
-                finish(&mut ra, xa, rows);
+                plans[0].gen.draw_unit_pair(&mut ra, None, ws);
+                let ea = errors(&mut ra);
+                for (plan, rows) in plans.iter().zip(rows.iter_mut()) {
+                    ws.path(&plan.scales, false, x);
+                    row(plan, ea, x, rows);
+                }
             }
         },
     );
-    Ok((te, n, step))
+    Ok(tables
+        .into_iter()
+        .zip(&plans)
+        .map(|(te, plan)| (te, n, plan.step))
+        .collect())
 }
 
 /// Percentiles, crossing and verdict of simulated time errors
@@ -881,11 +982,13 @@ mod paired_path_tests {
         te
     }
 
-    /// Seeded Monte Carlo, same draws: the paired paths give every path's
-    /// time error of the direct, one-path-at-a-time form to 1e−12 of the
-    /// largest |TE| (rounding of the FFT), for a model with all five noise
-    /// terms, an odd number of paths (the last one alone) and a y0–aging
-    /// correlation; and the prediction's percentiles agree to 1e−9.
+    /// Seeded Monte Carlo, same draws: the paired unit paths, scaled per
+    /// span, give every path's time error of the direct,
+    /// one-path-at-a-time form to 1e−12 of the largest |TE| (rounding of
+    /// the FFT and of the scaling), for a model with all five noise terms,
+    /// an odd number of paths (the last one alone) and a y0–aging
+    /// correlation, for one span alone and two together; and the
+    /// prediction's percentiles agree to 1e−9.
     #[test]
     fn paired_paths_equal_the_direct_form() {
         let mut noise = PowerLaw::zero(0.5);
@@ -916,6 +1019,21 @@ mod paired_path_tests {
         };
         let (te, n, step) = simulate_te(&model, &settings).unwrap();
         let want = simulate_te_direct(&model, &settings);
+        // Two spans at once: each table bit for bit the one of its span
+        // alone (the report predicts its spans together, the command one
+        // at a time).
+        let other = Settings {
+            span: 8.0 * 3600.0,
+            ..settings.clone()
+        };
+        let both = simulate_te_spans(&model, &[settings.clone(), other.clone()]).unwrap();
+        assert_eq!(both[0], (te.clone(), n, step));
+        assert_eq!(both[1], simulate_te(&model, &other).unwrap());
+        let direct_other = simulate_te_direct(&model, &other);
+        let scale_other = direct_other.iter().fold(0.0f64, |a, v| a.max(v.abs()));
+        for (g, e) in both[1].0.iter().zip(&direct_other) {
+            assert!((g - e).abs() <= 1e-12 * scale_other, "8 h span: {g} vs {e}");
+        }
         let scale = want.iter().fold(0.0f64, |a, v| a.max(v.abs()));
         assert!(scale > 0.0);
         for (i, (g, e)) in te.iter().zip(&want).enumerate() {

@@ -45,7 +45,7 @@
 
 use crate::error::{Error, Result};
 use crate::model::PowerLaw;
-use crate::simulate::{power_law_phase, power_law_phase_pair, PairWorkspace};
+use crate::simulate::{power_law_phase, unit_phase_pair, white_sigma, PairWorkspace};
 use rand_chacha::ChaCha8Rng;
 use std::f64::consts::PI;
 
@@ -156,65 +156,81 @@ impl NoisePaths {
         level
     }
 
-    /// [`NoisePaths::fill`] for two paths at once: path a from `rng_a` into
-    /// `out_a`, and path b from its generator into its slice when given,
-    /// each generator drawn in the same order as by `fill`. The flicker
-    /// terms of the two paths share one FFT pair
-    /// ([`crate::simulate::power_law_phase_pair`]): each path equals its
-    /// `fill` to rounding (the other terms bit for bit). `ws` is the
-    /// working memory, reused from pair to pair.
-    pub fn fill_pair(
+    /// The terms drawn, in the order they are drawn: (α, σ) with σ the
+    /// standard deviation of the term's white noise at this step,
+    /// [`white_sigma`]`(α, h_α, Δ)`. A path is Σ σ·u over the terms, u the
+    /// term's unit path ([`NoisePaths::draw_unit_pair`]).
+    pub fn scales(&self) -> Vec<(i32, f64)> {
+        self.terms
+            .iter()
+            .map(|&(alpha, h)| (alpha, white_sigma(alpha, h, self.step)))
+            .collect()
+    }
+
+    /// Draw the unit path of every term (white noise of standard deviation
+    /// 1, [`crate::simulate::unit_phase_pair`]) for path a from `rng_a`,
+    /// and for path b from `rng_b` when given, into `ws`: n + 1 samples
+    /// each, relative to the first. Each generator is drawn in the same
+    /// order as by [`NoisePaths::fill`], and σ-weighted sums of these unit
+    /// paths ([`PathWorkspace::path`]) are `fill`'s path to rounding. The
+    /// unit paths depend on the terms present and the number of steps, not
+    /// on h or the step, so one draw serves every span of the same
+    /// length; the flicker terms of the two paths share one FFT pair.
+    pub fn draw_unit_pair(
         &self,
         rng_a: &mut ChaCha8Rng,
-        out_a: &mut [f64],
-        b: Option<(&mut ChaCha8Rng, &mut [f64])>,
+        rng_b: Option<&mut ChaCha8Rng>,
         ws: &mut PathWorkspace,
     ) {
-        let len = (self.n + 1).min(out_a.len());
-        out_a.iter_mut().for_each(|v| *v = 0.0);
-        let mut b = b;
-        let len = match &mut b {
-            Some((_, ob)) => {
-                ob.iter_mut().for_each(|v| *v = 0.0);
-                len.min(ob.len())
+        let len = self.n + 1;
+        let terms = self.terms.len();
+        for u in [&mut ws.ua, &mut ws.ub] {
+            u.resize_with(terms, Vec::new);
+            for v in u.iter_mut() {
+                v.resize(len, 0.0);
             }
-            None => len,
-        };
-        ws.xa.resize(len, 0.0);
-        ws.xb.resize(len, 0.0);
-        for &(alpha, h) in &self.terms {
-            match &mut b {
-                Some((rb, _)) => power_law_phase_pair(
+        }
+        let mut rng_b = rng_b;
+        for (t, &(alpha, _)) in self.terms.iter().enumerate() {
+            let (ua, ub) = (&mut ws.ua[t], &mut ws.ub[t]);
+            match &mut rng_b {
+                Some(rb) => unit_phase_pair(
                     alpha,
-                    h,
-                    self.step,
                     rng_a,
-                    &mut ws.xa,
-                    Some((&mut **rb, &mut ws.xb[..])),
+                    ua,
+                    Some((&mut **rb, &mut ub[..])),
                     &mut ws.fft,
                 ),
-                None => {
-                    power_law_phase_pair(alpha, h, self.step, rng_a, &mut ws.xa, None, &mut ws.fft)
-                }
+                None => unit_phase_pair(alpha, rng_a, ua, None, &mut ws.fft),
             }
-            let x0 = ws.xa[0];
-            for (o, v) in out_a.iter_mut().zip(&ws.xa) {
-                *o += v - x0;
-            }
-            if let Some((_, ob)) = &mut b {
-                let x0 = ws.xb[0];
-                for (o, v) in ob.iter_mut().zip(&ws.xb) {
-                    *o += v - x0;
-                }
+            for u in [ua, ub] {
+                let u0 = u[0];
+                u.iter_mut().for_each(|v| *v -= u0);
             }
         }
     }
 }
 
-/// Working memory of [`NoisePaths::fill_pair`], one per thread.
+/// Working memory of [`NoisePaths::draw_unit_pair`], one per thread: the
+/// unit paths of the last pair drawn, one per term.
 #[derive(Debug, Default)]
 pub struct PathWorkspace {
     fft: PairWorkspace,
-    xa: Vec<f64>,
-    xb: Vec<f64>,
+    ua: Vec<Vec<f64>>,
+    ub: Vec<Vec<f64>>,
+}
+
+impl PathWorkspace {
+    /// Path a (`b` false) or b of the last pair drawn, for the term scales
+    /// `scales` ([`NoisePaths::scales`] of any step with the same terms):
+    /// out_k = Σ_t σ_t·u_t,k, k = 0 … n (out_0 = 0).
+    pub fn path(&self, scales: &[(i32, f64)], b: bool, out: &mut [f64]) {
+        let units = if b { &self.ub } else { &self.ua };
+        out.iter_mut().for_each(|v| *v = 0.0);
+        for (&(_, sigma), u) in scales.iter().zip(units) {
+            for (o, v) in out.iter_mut().zip(u) {
+                *o += sigma * v;
+            }
+        }
+    }
 }
