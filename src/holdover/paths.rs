@@ -8,6 +8,13 @@
 //! start of holdover), the terms are added, and the first sample is
 //! subtracted.
 //!
+//! The prediction itself draws each term as a unit path u (white noise of
+//! standard deviation 1, [`crate::simulate::unit_phase_pair`], two paths
+//! per FFT pair) and adds σ·(u − u_0) with σ = `white_sigma(α, h_α, Δ)`:
+//! the same path to rounding, and since u depends on the draws and the
+//! number of steps only, one draw serves every span of the same number of
+//! steps ([`crate::holdover::predict_spans`]).
+//!
 //! # Step and bandwidth
 //!
 //! The paths are simulated at a step Δ = span/steps suited to the span, not

@@ -103,6 +103,30 @@ impl Method {
         }
     }
 
+    /// [`Method::of`], remembered per thread for the last set of weights
+    /// (compared bit for bit, so the answer is the one `of` gives).
+    fn remembered(lam: Vec<(f64, f64)>) -> std::rc::Rc<Self> {
+        type Last = Option<(Vec<(u64, u64)>, std::rc::Rc<Method>)>;
+        thread_local! {
+            static LAST: std::cell::RefCell<Last> = const { std::cell::RefCell::new(None) };
+        }
+        let key: Vec<(u64, u64)> = lam
+            .iter()
+            .map(|(l, h)| (l.to_bits(), h.to_bits()))
+            .collect();
+        LAST.with(|last| {
+            let mut last = last.borrow_mut();
+            if let Some((k, m)) = last.as_ref() {
+                if *k == key {
+                    return m.clone();
+                }
+            }
+            let m = std::rc::Rc::new(Method::of(lam));
+            *last = Some((key, m.clone()));
+            m
+        })
+    }
+
     fn cdf(&self, x: f64) -> f64 {
         match self {
             Method::Ruben(r) => r.cdf(x),
@@ -351,8 +375,10 @@ pub fn quantile_with(terms: &[(f64, f64)], p: f64) -> Result<f64> {
     let nu = total * total / sq;
     let g = sq / total;
     let guess = g * crate::stats::interval::chi2_quantile(p, nu)?;
-    // The weights' CDF, prepared once for the whole search.
-    let method = Method::of(lam);
+    // The weights' CDF, prepared once for the whole search (and kept for
+    // the next search on the same weights: a two-sided interval asks for
+    // two quantiles of each).
+    let method = Method::remembered(lam);
     let cdf_at = |x: f64| method.cdf(x);
     // Bracket around the guess by steps of 1.25.
     let x0 = guess.max(1e-300);
