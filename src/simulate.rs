@@ -587,24 +587,24 @@ impl FlickerFft {
 // ---------------------------------------------------------------------------
 // Monte Carlo paths two at a time
 
-/// A flicker filter (the d = ½ Kasdin–Walter filter with its shaping,
-/// [`FlickerFft`]) prepared once for one number of samples: the FFT plan
-/// and the filter's spectrum F_k = H_k·√R(k/M) (H the DFT of the
-/// coefficients h_0 … h_(len−1) zero-padded to M, the same M = fast_len(2·len
-/// − 1 + 256) and guard as [`FlickerFft`]). Read-only once made, so every
-/// Monte Carlo path of every thread uses the one copy.
+/// A flicker filter (the d = ½ Kasdin–Walter filter with its shaping, as
+/// [`power_law_phase`] applies it) prepared once for one number of samples:
+/// the FFT plan and the filter's spectrum F_k = H_k·√R(k/M) (H the DFT of
+/// the coefficients h_0 … h_(len−1) zero-padded to M, with the same M =
+/// fast_len(2·len − 1 + 256) and guard as `power_law_phase`). Read-only
+/// once made, so every Monte Carlo path of every thread uses the one copy.
 ///
-/// Two paths are filtered with one complex FFT pair
-/// ([`power_law_phase_pair`]): the white noise of path a in the real part
-/// and of path b in the imaginary part; their spectra are separated by
-/// conjugate symmetry, each multiplied by F, recombined as P_a + i·P_b and
-/// transformed back, which gives y_a + i·y_b since both outputs are real.
-/// That is one forward and one inverse FFT for two paths, where
-/// [`FlickerFft`] needs two for each (its second input, h, is the same
-/// every time). The plan is rustfft's [`rustfft::FftPlanner`], which uses
-/// the processor's SIMD instructions where it has them: the values then
-/// agree with the scalar plan to rounding (1e−12 relative is tested), and
-/// may differ in the last bits from one kind of processor to another.
+/// Two paths are filtered with one complex FFT pair ([`unit_phase_pair`]):
+/// the white noise of path a in the real part and of path b in the
+/// imaginary part; their spectra are separated by conjugate symmetry, each
+/// multiplied by F, recombined as P_a + i·P_b and transformed back, which
+/// gives y_a + i·y_b since both outputs are real. That is one forward and
+/// one inverse FFT for two paths, where `power_law_phase` needs two for
+/// each (its second input, h, is the same every time). The plan is
+/// rustfft's [`rustfft::FftPlanner`], which uses the processor's SIMD
+/// instructions where it has them: the values then agree with the scalar
+/// plan to rounding (1e−12 relative is tested), and may differ in the last
+/// bits from one kind of processor to another.
 pub struct PreparedFlicker {
     n: usize,
     len: usize,
@@ -630,7 +630,7 @@ const PREPARED_KEPT: usize = 4;
 impl PreparedFlicker {
     /// Prepare the filter for `n` output samples and a shaped flicker
     /// `shape` ([`Shape::FlickerPhase`] or [`Shape::FlickerFrequency`];
-    /// [`Shape::Plain`] has no guard, as in [`FlickerFft`]).
+    /// [`Shape::Plain`] has no guard, as in [`power_law_phase`]'s filter).
     pub fn new(n: usize, shape: Shape) -> Result<Self> {
         let guard = if shape == Shape::Plain {
             0
@@ -670,7 +670,7 @@ impl PreparedFlicker {
 
     /// The filter for `n` samples and `shape`, made the first time it is
     /// asked for and shared afterwards (process-wide, thread-safe; the last
-    /// [`PREPARED_KEPT`] kept): every holdover span of every device in a
+    /// four kept): every holdover span of every device in a
     /// comparison uses the same path length.
     pub fn shared(n: usize, shape: Shape) -> Result<std::sync::Arc<Self>> {
         type Kept = Vec<(usize, Shape, std::sync::Arc<PreparedFlicker>)>;
@@ -763,7 +763,7 @@ impl PreparedFlicker {
     }
 }
 
-/// Working memory of [`power_law_phase_pair`] (one per thread: the FFT
+/// Working memory of [`unit_phase_pair`] (one per thread: the FFT
 /// buffer and scratch, reused path after path).
 #[derive(Debug, Default)]
 pub struct PairWorkspace {
