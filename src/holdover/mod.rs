@@ -317,7 +317,10 @@ pub fn predict(model: &HoldoverModel, settings: &Settings) -> Result<Prediction>
 /// steps, every Monte Carlo path is drawn once and scaled for each span
 /// (its unit paths depend on the draws and the number of steps, not on the
 /// step; [`paths::NoisePaths::draw_unit_pair`]), which is how the report
-/// predicts its spans.
+/// predicts its spans. The tables of simulated time errors of those spans
+/// are then held at once (paths × steps × 8 bytes each); where together
+/// they would exceed [`MAX_TABLE_BYTES`], the spans are simulated one at a
+/// time (the same results).
 pub fn predict_spans(model: &HoldoverModel, settings: &[Settings]) -> Result<Vec<Prediction>> {
     let tables = simulate_te_spans(model, settings)?;
     settings
@@ -403,8 +406,15 @@ fn simulate_group(
         });
     }
     let alphas = |p: &SpanPlan| p.scales.iter().map(|t| t.0).collect::<Vec<_>>();
-    if plans.iter().any(|p| alphas(p) != alphas(&plans[0])) {
-        // Different terms draw differently: one span at a time.
+    let together =
+        settings.len() as u128 * settings[0].paths as u128 * settings[0].steps as u128 * 8;
+    if settings.len() > 1
+        && (plans.iter().any(|p| alphas(p) != alphas(&plans[0]))
+            || together > MAX_TABLE_BYTES as u128)
+    {
+        // Different terms draw differently, and the tables of all the
+        // spans together may not exceed the memory one is allowed: one
+        // span at a time.
         return settings
             .iter()
             .map(|s| Ok(simulate_group(model, &[*s])?.remove(0)))
