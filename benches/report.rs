@@ -1,67 +1,198 @@
-//! Speed target of issue 6: the demo report for one DUT (two days at 1 s,
-//! one L(f) table, one TIE capture) in ≤ 5 s end to end. Measured here on
-//! `demo-data/ocxo-a.toml`: reading and hashing the inputs plus every
-//! analysis (`from_dut`), and writing the HTML with its inline charts.
+//! Wall and CPU time of the report speed targets:
 //!
-//! Speed target of issue 15: the comparison of the three demo DUTs
-//! (`report::fleet::build`, the devices in parallel, and its HTML) in at
-//! most 1.5× the slowest single-device report (`ocxo-b`).
+//! - issue 6: the demo report for one DUT (two days at 1 s, one L(f)
+//!   table, one TIE capture) in ≤ 5 s end to end;
+//! - issue 15: the comparison of the three demo DUTs (`tauwise report
+//!   A.toml B.toml C.toml`, the devices in parallel) in at most 1.5× the
+//!   slowest single-device report.
 //!
-//! `cargo bench --bench report`
+//! `cargo build --release && cargo bench --bench report` (or `… -- 5` for
+//! five runs of each; the median is printed, default 3). `TAUWISE_BIN=PATH`
+//! times another build of the binary (e.g. one built before a change) for
+//! part 1.
+//!
+//! 1. The command line, one process per report (cold, as a user runs it):
+//!    `target/release/tauwise report demo-data/NAME.toml` for each demo DUT
+//!    and the three together, interleaved run by run so that a change of
+//!    load hits them alike; wall time and the child's CPU time (user +
+//!    system, all threads), the median of each, and the fleet's wall over
+//!    the slowest single report's.
+//! 2. Each single report in this process, split by the report's own steps
+//!    (the progress callback of `report::build`): wall, CPU and the cores
+//!    kept busy (CPU / wall) per step, which shows how much of a report runs
+//!    on one core — the part the comparison can overlap.
+//!
+//! CPU time comes from /proc/self/stat (1/100 s ticks): on a shared machine
+//! the wall time depends on the load, the CPU time much less. The load
+//! average is printed before and after.
 
-use criterion::{criterion_group, criterion_main, Criterion};
 use std::path::Path;
-use std::time::Duration;
+use std::time::Instant;
 use tauwise::io::dut::Dut;
-use tauwise::report::build::{from_dut, BuildOptions};
-use tauwise::report::render_html;
+use tauwise::report::build::{from_dut_with_progress, BuildOptions};
 
-fn bench_report(c: &mut Criterion) {
-    let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("demo-data/ocxo-a.toml");
-    let dut = Dut::read(&path).expect("demo DUT file");
-    let opts = BuildOptions::default();
-    let mut g = c.benchmark_group("report");
-    g.sample_size(10).measurement_time(Duration::from_secs(40));
-    g.bench_function("ocxo-a end to end", |b| {
-        b.iter(|| {
-            let dut = Dut::read(&path).unwrap();
-            let r = from_dut(&dut, &opts).unwrap();
-            render_html(&r).unwrap().len()
-        })
-    });
-    let report = from_dut(&dut, &opts).unwrap();
-    g.bench_function("ocxo-a HTML and inline SVG only", |b| {
-        b.iter(|| render_html(&report).unwrap().len())
-    });
-    g.finish();
+/// Process CPU time in seconds (utime + stime of /proc/self/stat, in clock
+/// ticks of 1/100 s); None where /proc is not available.
+fn cpu_seconds() -> Option<f64> {
+    let stat = std::fs::read_to_string("/proc/self/stat").ok()?;
+    let after = stat.rsplit_once(')')?.1;
+    let fields: Vec<&str> = after.split_whitespace().collect();
+    let utime: f64 = fields.get(11)?.parse().ok()?;
+    let stime: f64 = fields.get(12)?.parse().ok()?;
+    Some((utime + stime) / 100.0)
 }
 
-fn bench_fleet(c: &mut Criterion) {
-    let root = Path::new(env!("CARGO_MANIFEST_DIR")).join("demo-data");
+/// CPU time of the waited-for children in seconds (cutime + cstime).
+fn children_cpu_seconds() -> Option<f64> {
+    let stat = std::fs::read_to_string("/proc/self/stat").ok()?;
+    let after = stat.rsplit_once(')')?.1;
+    let fields: Vec<&str> = after.split_whitespace().collect();
+    let cutime: f64 = fields.get(13)?.parse().ok()?;
+    let cstime: f64 = fields.get(14)?.parse().ok()?;
+    Some((cutime + cstime) / 100.0)
+}
+
+fn load_average() -> String {
+    std::fs::read_to_string("/proc/loadavg")
+        .map(|s| s.split_whitespace().take(3).collect::<Vec<_>>().join(" "))
+        .unwrap_or_else(|_| "n/a".into())
+}
+
+fn median(v: &mut [f64]) -> f64 {
+    v.sort_by(f64::total_cmp);
+    v[v.len() / 2]
+}
+
+/// One single-device report with its steps timed: (wall, CPU, steps as
+/// (what, wall, CPU)).
+fn single(path: &Path, opts: &BuildOptions) -> (f64, f64, Vec<(String, f64, f64)>) {
+    let mut steps: Vec<(String, f64, f64)> = Vec::new();
+    let t0 = Instant::now();
+    let c0 = cpu_seconds().unwrap_or(f64::NAN);
+    let mut mark = (String::from("start"), 0.0, c0);
+    let mut close = |what: &str, steps: &mut Vec<(String, f64, f64)>| {
+        let (w, c) = (
+            t0.elapsed().as_secs_f64(),
+            cpu_seconds().unwrap_or(f64::NAN),
+        );
+        steps.push((mark.0.clone(), w - mark.1, c - mark.2));
+        mark = (what.to_string(), w, c);
+    };
+    let dut = Dut::read(path).expect("demo DUT file");
+    let report = from_dut_with_progress(&dut, opts, &mut |_, _, what| close(what, &mut steps))
+        .expect("report");
+    close("HTML and inline SVG", &mut steps);
+    let html = tauwise::report::render_html(&report).expect("html");
+    std::hint::black_box(html.len());
+    close("end", &mut steps);
+    let wall = t0.elapsed().as_secs_f64();
+    let cpu = cpu_seconds().unwrap_or(f64::NAN) - c0;
+    (wall, cpu, steps.split_off(1))
+}
+
+/// Run the release binary once: (wall, CPU of the child).
+fn command(bin: &Path, args: &[String]) -> (f64, f64) {
+    let c0 = children_cpu_seconds().unwrap_or(f64::NAN);
+    let t0 = Instant::now();
+    let out = std::process::Command::new(bin)
+        .args(args)
+        .current_dir(env!("CARGO_MANIFEST_DIR"))
+        .output()
+        .expect("run tauwise");
+    let wall = t0.elapsed().as_secs_f64();
+    assert!(
+        out.status.success(),
+        "tauwise {}: {}",
+        args.join(" "),
+        String::from_utf8_lossy(&out.stderr)
+    );
+    (wall, children_cpu_seconds().unwrap_or(f64::NAN) - c0)
+}
+
+fn main() {
+    let runs: usize = std::env::args()
+        .skip(1)
+        .find_map(|a| a.parse().ok())
+        .unwrap_or(3)
+        .max(1);
+    let manifest = Path::new(env!("CARGO_MANIFEST_DIR"));
+    let root = manifest.join("demo-data");
     let names = ["ocxo-a", "ocxo-b", "rb-1"];
     let opts = BuildOptions::default();
-    let mut g = c.benchmark_group("fleet");
-    g.sample_size(10).measurement_time(Duration::from_secs(60));
-    for n in names {
-        g.bench_function(format!("{n} single report"), |b| {
-            b.iter(|| {
-                let dut = Dut::read(&root.join(format!("{n}.toml"))).unwrap();
-                render_html(&from_dut(&dut, &opts).unwrap()).unwrap().len()
+    println!(
+        "threads = {}, runs = {runs}, load average before: {}",
+        rayon::current_num_threads(),
+        load_average()
+    );
+    let out = std::env::temp_dir();
+    let bin = std::env::var_os("TAUWISE_BIN")
+        .map(std::path::PathBuf::from)
+        .unwrap_or_else(|| manifest.join("target/release/tauwise"));
+    if bin.exists() {
+        let mut jobs: Vec<(String, Vec<String>)> = names
+            .iter()
+            .map(|n| {
+                (
+                    n.to_string(),
+                    vec![
+                        "report".into(),
+                        format!("demo-data/{n}.toml"),
+                        "-o".into(),
+                        out.join(format!("tauwise-bench-{n}.html"))
+                            .display()
+                            .to_string(),
+                    ],
+                )
             })
-        });
+            .collect();
+        let mut fleet_args = vec!["report".to_string()];
+        fleet_args.extend(names.iter().map(|n| format!("demo-data/{n}.toml")));
+        fleet_args.extend([
+            "-o".into(),
+            out.join("tauwise-bench-fleet.html").display().to_string(),
+        ]);
+        jobs.push(("fleet".into(), fleet_args));
+        let mut times: Vec<(Vec<f64>, Vec<f64>)> = vec![(Vec::new(), Vec::new()); jobs.len()];
+        for _ in 0..runs {
+            for (j, (_, args)) in jobs.iter().enumerate() {
+                let (w, c) = command(&bin, args);
+                times[j].0.push(w);
+                times[j].1.push(c);
+            }
+        }
+        println!("command line ({}), median of {runs}:", bin.display());
+        let mut medians = Vec::new();
+        for ((name, _), (w, c)) in jobs.iter().zip(times.iter_mut()) {
+            let (w, c) = (median(w), median(c));
+            println!("  {name:<7} wall {w:.3} s  cpu {c:.2} s");
+            medians.push((w, c));
+        }
+        let (fw, fc) = medians[names.len()];
+        let (sw, sc) = medians[..names.len()]
+            .iter()
+            .fold((0.0f64, 0.0f64), |(a, b), &(w, c)| (a.max(w), b.max(c)));
+        let sum_cpu: f64 = medians[..names.len()].iter().map(|m| m.1).sum();
+        println!(
+            "  fleet / slowest single: wall {:.2}×, cpu {:.2}× (sum of the singles' cpu {sum_cpu:.2} s)",
+            fw / sw,
+            fc / sc
+        );
+    } else {
+        println!(
+            "({} not built: `cargo build --release` first for the command-line figures)",
+            bin.display()
+        );
     }
-    g.bench_function("three demo DUTs compared", |b| {
-        b.iter(|| {
-            let duts: Vec<Dut> = names
-                .iter()
-                .map(|n| Dut::read(&root.join(format!("{n}.toml"))).unwrap())
-                .collect();
-            let f = tauwise::report::fleet::build(&duts, &opts, &|_, _, _, _| {}).unwrap();
-            tauwise::report::fleet::render_html(&f).unwrap().len()
-        })
-    });
-    g.finish();
+    println!("each single report in this process, by step (first run, caches cold for the first report only):");
+    for n in names {
+        let (w, c, steps) = single(&root.join(format!("{n}.toml")), &opts);
+        println!("  {n:<7} wall {w:.3} s cpu {c:.2} s");
+        for (what, sw, sc) in steps {
+            println!(
+                "          {what:<40} wall {sw:.3} s cpu {sc:.2} s (cores busy {:.2})",
+                sc / sw.max(1e-9)
+            );
+        }
+    }
+    println!("load average after: {}", load_average());
 }
-
-criterion_group!(benches, bench_report, bench_fleet);
-criterion_main!(benches);

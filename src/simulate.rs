@@ -110,6 +110,13 @@
 //! choice of algorithm depends on the length only. So the same seed gives the
 //! same record on every machine, and adding a term to a model leaves the
 //! realisation of the other terms unchanged.
+//!
+//! The holdover Monte Carlo draws its paths through [`unit_phase_pair`]
+//! instead: two paths per FFT pair, with the filter prepared once per
+//! length ([`PreparedFlicker`], rustfft's SIMD planner). Its paths equal
+//! [`power_law_phase`]'s to rounding (tested to 1e−12 of the path), the
+//! same on every run on one machine whatever the number of threads; on
+//! another kind of processor their last bits may differ.
 
 use crate::error::{Error, Result};
 use crate::model::PowerLaw;
@@ -330,6 +337,24 @@ fn add_term(
     }
     let mut normal = || -> f64 { rng.sample(StandardNormal) };
     match alpha {
+        2 | 0 | -2 => add_integer_term(alpha, sigma, &mut normal, acc),
+        1 => {
+            let x = fft.filter_half(acc.len(), &mut normal, Shape::FlickerPhase)?;
+            add_flicker_increments(alpha, sigma, x, acc);
+        }
+        -1 => {
+            let z = fft.filter_half(acc.len(), &mut normal, Shape::FlickerFrequency)?;
+            add_flicker_increments(alpha, sigma, z, acc);
+        }
+        _ => unreachable!("α checked by the callers"),
+    }
+    Ok(())
+}
+
+/// The increments of the integer-exponent terms (WPM, WFM, RWFM), exact
+/// recursions (module notes), added to `acc`.
+fn add_integer_term(alpha: i32, sigma: f64, normal: &mut impl FnMut() -> f64, acc: &mut [f64]) {
+    match alpha {
         2 => {
             let mut prev = 0.0;
             for v in acc.iter_mut() {
@@ -355,23 +380,24 @@ fn add_term(
                 *v += sigma * s;
             }
         }
-        1 => {
-            let x = fft.filter_half(acc.len(), &mut normal, Shape::FlickerPhase)?;
-            let mut prev = 0.0;
-            for (v, xi) in acc.iter_mut().zip(x) {
-                *v += sigma * (xi - prev);
-                prev = xi;
-            }
-        }
-        -1 => {
-            let z = fft.filter_half(acc.len(), &mut normal, Shape::FlickerFrequency)?;
-            for (v, zi) in acc.iter_mut().zip(z) {
-                *v += sigma * zi;
-            }
-        }
-        _ => unreachable!("α checked by the callers"),
+        _ => unreachable!("integer exponents only"),
     }
-    Ok(())
+}
+
+/// The increments of a flicker term from its filter output: FPM (α = 1)
+/// filters the phase, so z = σ·Δx; FFM (α = −1) the increments, z = σ·y.
+fn add_flicker_increments(alpha: i32, sigma: f64, y: impl Iterator<Item = f64>, acc: &mut [f64]) {
+    if alpha == 1 {
+        let mut prev = 0.0;
+        for (v, xi) in acc.iter_mut().zip(y) {
+            *v += sigma * (xi - prev);
+            prev = xi;
+        }
+    } else {
+        for (v, zi) in acc.iter_mut().zip(y) {
+            *v += sigma * zi;
+        }
+    }
 }
 
 /// Kasdin–Walter coefficients h_0 … h_(n−1) of (1 − B)^(−d):
@@ -558,6 +584,277 @@ impl FlickerFft {
     }
 }
 
+// ---------------------------------------------------------------------------
+// Monte Carlo paths two at a time
+
+/// A flicker filter (the d = ½ Kasdin–Walter filter with its shaping, as
+/// [`power_law_phase`] applies it) prepared once for one number of samples:
+/// the FFT plan and the filter's spectrum F_k = H_k·√R(k/M) (H the DFT of
+/// the coefficients h_0 … h_(len−1) zero-padded to M, with the same M =
+/// fast_len(2·len − 1 + 256) and guard as `power_law_phase`). Read-only
+/// once made, so every Monte Carlo path of every thread uses the one copy.
+///
+/// Two paths are filtered with one complex FFT pair ([`unit_phase_pair`]):
+/// the white noise of path a in the real part and of path b in the
+/// imaginary part; their spectra are separated by conjugate symmetry, each
+/// multiplied by F, recombined as P_a + i·P_b and transformed back, which
+/// gives y_a + i·y_b since both outputs are real. That is one forward and
+/// one inverse FFT for two paths, where `power_law_phase` needs two for
+/// each (its second input, h, is the same every time). The plan is
+/// rustfft's [`rustfft::FftPlanner`], which uses the processor's SIMD
+/// instructions where it has them: the values then agree with the scalar
+/// plan to rounding (1e−12 relative is tested), and may differ in the last
+/// bits from one kind of processor to another.
+pub struct PreparedFlicker {
+    n: usize,
+    len: usize,
+    m: usize,
+    fft: std::sync::Arc<dyn rustfft::Fft<f64>>,
+    /// F_k for k = 0 … M/2.
+    spectrum: Vec<Complex<f64>>,
+}
+
+impl std::fmt::Debug for PreparedFlicker {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.debug_struct("PreparedFlicker")
+            .field("n", &self.n)
+            .field("fft_len", &self.m)
+            .finish()
+    }
+}
+
+/// At most this many prepared flicker filters are kept
+/// ([`PreparedFlicker::shared`]); the oldest is dropped first.
+const PREPARED_KEPT: usize = 4;
+
+impl PreparedFlicker {
+    /// Prepare the filter for `n` output samples and a shaped flicker
+    /// `shape` ([`Shape::FlickerPhase`] or [`Shape::FlickerFrequency`];
+    /// [`Shape::Plain`] has no guard, as in [`power_law_phase`]'s filter).
+    pub fn new(n: usize, shape: Shape) -> Result<Self> {
+        let guard = if shape == Shape::Plain {
+            0
+        } else {
+            SHAPE_GUARD
+        };
+        let len = n.max(1) + guard;
+        let m = fast_len(2 * len - 1 + guard);
+        let oom = || {
+            Error::insufficient(format!(
+                "not enough memory for an FFT of {m} points (a flicker term of {n} samples)"
+            ))
+        };
+        let fft = rustfft::FftPlanner::<f64>::new().plan_fft_forward(m);
+        let mut buf: Vec<Complex<f64>> = Vec::new();
+        buf.try_reserve_exact(m).map_err(|_| oom())?;
+        buf.extend(
+            kw_coefficients(0.5, len)
+                .into_iter()
+                .map(|c| Complex::new(c, 0.0)),
+        );
+        buf.resize(m, Complex::new(0.0, 0.0));
+        fft.process(&mut buf);
+        let spectrum = buf[..=m / 2]
+            .iter()
+            .enumerate()
+            .map(|(k, h)| h * shape_power_gain(shape, k as f64 / m as f64).sqrt())
+            .collect();
+        Ok(Self {
+            n,
+            len,
+            m,
+            fft,
+            spectrum,
+        })
+    }
+
+    /// The filter for `n` samples and `shape`, made the first time it is
+    /// asked for and shared afterwards (process-wide, thread-safe; the last
+    /// four kept): every holdover span of every device in a
+    /// comparison uses the same path length.
+    pub fn shared(n: usize, shape: Shape) -> Result<std::sync::Arc<Self>> {
+        type Kept = Vec<(usize, Shape, std::sync::Arc<PreparedFlicker>)>;
+        static KEPT: std::sync::OnceLock<std::sync::Mutex<Kept>> = std::sync::OnceLock::new();
+        let kept = KEPT.get_or_init(Default::default);
+        let find = |v: &Kept| {
+            v.iter()
+                .find(|(kn, ks, _)| *kn == n && *ks == shape)
+                .map(|e| e.2.clone())
+        };
+        if let Some(f) = kept.lock().ok().and_then(|v| find(&v)) {
+            return Ok(f);
+        }
+        let made = std::sync::Arc::new(Self::new(n, shape)?);
+        if let Ok(mut v) = kept.lock() {
+            if let Some(f) = find(&v) {
+                return Ok(f);
+            }
+            if v.len() >= PREPARED_KEPT {
+                v.remove(0);
+            }
+            v.push((n, shape, made.clone()));
+        }
+        Ok(made)
+    }
+
+    /// The FFT length M.
+    pub fn fft_len(&self) -> usize {
+        self.m
+    }
+
+    /// Filter the fresh white noise of path a (and of path b when given):
+    /// y_k = Σ_(j≤k) h_j w_(k−j) shaped, k < n. The outputs are left in
+    /// `ws`, read back with [`PairWorkspace::output`].
+    fn filter(
+        &self,
+        normal_a: &mut impl FnMut() -> f64,
+        normal_b: Option<&mut dyn FnMut() -> f64>,
+        ws: &mut PairWorkspace,
+    ) -> Result<()> {
+        let m = self.m;
+        let need = self.fft.get_inplace_scratch_len();
+        let oom = || {
+            Error::insufficient(format!(
+                "not enough memory for an FFT of {m} points (a flicker term of {} samples)",
+                self.n
+            ))
+        };
+        ws.buf.clear();
+        ws.buf.try_reserve_exact(m).map_err(|_| oom())?;
+        match normal_b {
+            Some(nb) => ws
+                .buf
+                .extend((0..self.len).map(|_| Complex::new(normal_a(), nb()))),
+            None => ws
+                .buf
+                .extend((0..self.len).map(|_| Complex::new(normal_a(), 0.0))),
+        }
+        ws.buf.resize(m, Complex::new(0.0, 0.0));
+        if ws.scratch.len() < need {
+            let extra = need - ws.scratch.len();
+            ws.scratch.try_reserve_exact(extra).map_err(|_| oom())?;
+            ws.scratch.resize(need, Complex::new(0.0, 0.0));
+        }
+        self.fft
+            .process_with_scratch(&mut ws.buf, &mut ws.scratch[..need]);
+        // Z = A + iB, A and B the spectra of the real inputs:
+        // A_k = (Z_k + conj Z_(M−k))/2, B_k = (Z_k − conj Z_(M−k))/(2i).
+        // Q = P_a + i·P_b with P = F·A, F·B (Hermitian), stored as conj Q for
+        // the inverse by conj∘FFT∘conj.
+        let half = Complex::new(0.5, 0.0);
+        let minus_half_i = Complex::new(0.0, -0.5);
+        let i = Complex::new(0.0, 1.0);
+        for (k, &f) in self.spectrum.iter().enumerate() {
+            let j = (m - k) % m;
+            let zk = ws.buf[k];
+            let zj = ws.buf[j].conj();
+            let pa = (zk + zj) * half * f;
+            let pb = (zk - zj) * minus_half_i * f;
+            let qk = pa + i * pb;
+            let qj = pa.conj() + i * pb.conj();
+            ws.buf[k] = qk.conj();
+            ws.buf[j] = qj.conj();
+        }
+        self.fft
+            .process_with_scratch(&mut ws.buf, &mut ws.scratch[..need]);
+        // FFT(conj Q) = M·conj(y_a + i·y_b) = M·(y_a − i·y_b).
+        ws.scale = 1.0 / m as f64;
+        Ok(())
+    }
+}
+
+/// Working memory of [`unit_phase_pair`] (one per thread: the FFT
+/// buffer and scratch, reused path after path).
+#[derive(Debug, Default)]
+pub struct PairWorkspace {
+    buf: Vec<Complex<f64>>,
+    scratch: Vec<Complex<f64>>,
+    scale: f64,
+}
+
+impl PairWorkspace {
+    /// The first n filter outputs of path a (`b` false) or b (`b` true).
+    fn output(&self, n: usize, b: bool) -> impl Iterator<Item = f64> + '_ {
+        let scale = self.scale;
+        self.buf[..n]
+            .iter()
+            .map(move |c| if b { -c.im * scale } else { c.re * scale })
+    }
+}
+
+/// The unit phase of one power-law term for two Monte Carlo paths at once:
+/// [`power_law_phase`] with white-noise standard deviation 1 (so that
+/// `power_law_phase(α, h, τ0, …)` is [`white_sigma`]`(α, h, τ0)` times it, to
+/// rounding), `n = out_a.len()` samples of term α into `out_a` from
+/// `rng_a`, and into the slice of `b` from its generator when given (of the
+/// same length). Each path draws its white noise from its own generator in
+/// the same order as `power_law_phase` would, so its draws are those of a
+/// lone call. The flicker terms of the two paths share one FFT pair
+/// ([`PreparedFlicker`]).
+///
+/// A unit path does not depend on h or on the step: the holdover Monte
+/// Carlo draws each path once and scales it for every span it predicts.
+///
+/// # Panics
+/// When α is outside −2 … 2, when `b`'s slice is not as long as `out_a`, or
+/// the memory for the FFT of a flicker term cannot be had.
+pub fn unit_phase_pair<R: Rng>(
+    alpha: i32,
+    rng_a: &mut R,
+    out_a: &mut [f64],
+    b: Option<(&mut R, &mut [f64])>,
+    ws: &mut PairWorkspace,
+) {
+    assert!((-2..=2).contains(&alpha), "α must be in −2 … 2");
+    let n = out_a.len();
+    out_a.iter_mut().for_each(|v| *v = 0.0);
+    let mut b = b;
+    if let Some((_, ob)) = &mut b {
+        assert_eq!(ob.len(), n, "both paths of a pair have the same length");
+        ob.iter_mut().for_each(|v| *v = 0.0);
+    }
+    if n > 0 {
+        let mut na = || -> f64 { rng_a.sample(StandardNormal) };
+        match alpha {
+            2 | 0 | -2 => {
+                add_integer_term(alpha, 1.0, &mut na, out_a);
+                if let Some((rb, ob)) = &mut b {
+                    let mut nb = || -> f64 { rb.sample(StandardNormal) };
+                    add_integer_term(alpha, 1.0, &mut nb, ob);
+                }
+            }
+            _ => {
+                let shape = if alpha == 1 {
+                    Shape::FlickerPhase
+                } else {
+                    Shape::FlickerFrequency
+                };
+                let prepared = PreparedFlicker::shared(n, shape)
+                    .expect("not enough memory for the FFT of a flicker term");
+                match &mut b {
+                    Some((rb, _)) => {
+                        let mut nb = || -> f64 { rb.sample(StandardNormal) };
+                        prepared.filter(&mut na, Some(&mut nb), ws)
+                    }
+                    None => prepared.filter(&mut na, None, ws),
+                }
+                .expect("not enough memory for the FFT of a flicker term");
+                add_flicker_increments(alpha, 1.0, ws.output(n, false), out_a);
+                if let Some((_, ob)) = &mut b {
+                    add_flicker_increments(alpha, 1.0, ws.output(n, true), ob);
+                }
+            }
+        }
+    }
+    for out in std::iter::once(out_a).chain(b.map(|(_, ob)| ob)) {
+        let mut sum = 0.0;
+        for v in out.iter_mut() {
+            sum += *v;
+            *v = sum;
+        }
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -681,5 +978,48 @@ mod tests {
         let mut s = SimSpec::new(model, 1.0, 10, 1);
         s.drift_per_s = f64::NAN;
         assert!(simulate_frequency(&s).is_err());
+    }
+
+    /// The paired unit paths against the lone-path synthesiser (itself
+    /// checked against the direct convolution above): each path of a pair,
+    /// scaled by `white_sigma`, equals `power_law_phase` of its own
+    /// generator to 1e−12 of the path's largest value (other FFT plan and
+    /// packing, scaling after the sum: rounding only), for every α; a lone
+    /// path (odd count) likewise; and each generator is left where the lone
+    /// call leaves it.
+    #[test]
+    fn paired_unit_paths_equal_lone_paths() {
+        for &n in &[1usize, 2, 17, 300, 4097] {
+            for alpha in -2..=2 {
+                let (h, tau0) = (1e-22, 10.0);
+                let sigma = white_sigma(alpha, h, tau0);
+                let (mut ra, mut rb) = (ChaCha8Rng::seed_from_u64(9), ChaCha8Rng::seed_from_u64(9));
+                rb.set_stream(1);
+                let (mut la, mut lb) = (ra.clone(), rb.clone());
+                let want_a = power_law_phase(alpha, h, tau0, n, &mut la);
+                let want_b = power_law_phase(alpha, h, tau0, n, &mut lb);
+                let (mut xa, mut xb) = (vec![0.0; n], vec![0.0; n]);
+                let mut ws = PairWorkspace::default();
+                unit_phase_pair(alpha, &mut ra, &mut xa, Some((&mut rb, &mut xb)), &mut ws);
+                let close = |got: &[f64], want: &[f64], what: &str| {
+                    let scale = want.iter().fold(0.0f64, |a, v| a.max(v.abs()));
+                    for (g, e) in got.iter().zip(want) {
+                        assert!(
+                            (sigma * g - e).abs() <= 1e-12 * scale,
+                            "{what} α={alpha} n={n}: {} vs {e}",
+                            sigma * g
+                        );
+                    }
+                };
+                close(&xa, &want_a, "path a");
+                close(&xb, &want_b, "path b");
+                assert_eq!(ra.get_word_pos(), la.get_word_pos());
+                assert_eq!(rb.get_word_pos(), lb.get_word_pos());
+                let mut lone = vec![0.0; n];
+                let mut rc = ChaCha8Rng::seed_from_u64(9);
+                unit_phase_pair(alpha, &mut rc, &mut lone, None, &mut ws);
+                close(&lone, &want_a, "lone path");
+            }
+        }
     }
 }

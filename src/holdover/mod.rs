@@ -311,6 +311,25 @@ pub fn predict(model: &HoldoverModel, settings: &Settings) -> Result<Prediction>
     summarise(model, settings, &te, n, step)
 }
 
+/// [`predict`] for several spans (or budgets) of one model at once: each
+/// prediction is bit for bit the one [`predict`] gives for its settings
+/// alone. Where the settings share the seed, the number of paths and of
+/// steps, every Monte Carlo path is drawn once and scaled for each span
+/// (its unit paths depend on the draws and the number of steps, not on the
+/// step; [`paths::NoisePaths::draw_unit_pair`]), which is how the report
+/// predicts its spans. The tables of simulated time errors of those spans
+/// are then held at once (paths × steps × 8 bytes each); where together
+/// they would exceed [`MAX_TABLE_BYTES`], the spans are simulated one at a
+/// time (the same results).
+pub fn predict_spans(model: &HoldoverModel, settings: &[Settings]) -> Result<Vec<Prediction>> {
+    let tables = simulate_te_spans(model, settings)?;
+    settings
+        .iter()
+        .zip(tables)
+        .map(|(s, (te, n, step))| summarise(model, s, &te, n, step))
+        .collect()
+}
+
 /// The simulated signed time errors of the prediction: `te[p·n + k − 1]`
 /// is TE of path p at step k (k = 1 … n, t = k·step), without the
 /// worst-case temperature term; returns (te, n, step).
@@ -318,40 +337,189 @@ pub(crate) fn simulate_te(
     model: &HoldoverModel,
     settings: &Settings,
 ) -> Result<(Vec<f64>, usize, f64)> {
-    settings.validate()?;
-    let n = settings.steps;
-    let step = settings.span / n as f64;
-    let gen = NoisePaths::new(&model.noise, step, n)?;
-    let np = settings.paths;
-    let base: Vec<f64> = (0..=n).map(|k| model.base(k as f64 * step)).collect();
-    let unit: Vec<f64> = (0..=n)
-        .map(|k| model.aging.te_per_unit(model.start, k as f64 * step))
-        .collect();
+    let mut one = simulate_te_spans(model, std::slice::from_ref(settings))?;
+    Ok(one.remove(0))
+}
+
+/// [`simulate_te`] for each of `settings`: those that share the seed, the
+/// number of paths and of steps (and so the noise terms drawn) are
+/// simulated together from one draw of each path, the others alone; the
+/// tables are the same either way.
+fn simulate_te_spans(
+    model: &HoldoverModel,
+    settings: &[Settings],
+) -> Result<Vec<(Vec<f64>, usize, f64)>> {
+    let mut out: Vec<Option<(Vec<f64>, usize, f64)>> = vec![None; settings.len()];
+    for i in 0..settings.len() {
+        if out[i].is_some() {
+            continue;
+        }
+        let s = &settings[i];
+        let group: Vec<usize> = (i..settings.len())
+            .filter(|&j| {
+                let o = &settings[j];
+                out[j].is_none() && o.seed == s.seed && o.paths == s.paths && o.steps == s.steps
+            })
+            .collect();
+        let chosen: Vec<&Settings> = group.iter().map(|&j| &settings[j]).collect();
+        for (j, table) in group.into_iter().zip(simulate_group(model, &chosen)?) {
+            out[j] = Some(table);
+        }
+    }
+    Ok(out.into_iter().flatten().collect())
+}
+
+/// One span's fixed parts: the noise generator at its step, the term
+/// scales, the deterministic TE and the aging's TE per unit parameter at
+/// each step.
+struct SpanPlan {
+    gen: NoisePaths,
+    scales: Vec<(i32, f64)>,
+    base: Vec<f64>,
+    unit: Vec<f64>,
+    step: f64,
+}
+
+/// The tables of settings that share the seed, the paths and the steps
+/// (the caller groups them): each path pair's unit paths are drawn once
+/// (with the generator of the first span; every span has the same terms,
+/// checked) and scaled for each span.
+fn simulate_group(
+    model: &HoldoverModel,
+    settings: &[&Settings],
+) -> Result<Vec<(Vec<f64>, usize, f64)>> {
+    let mut plans = Vec::with_capacity(settings.len());
+    for s in settings {
+        s.validate()?;
+        let n = s.steps;
+        let step = s.span / n as f64;
+        let gen = NoisePaths::new(&model.noise, step, n)?;
+        let scales = gen.scales();
+        plans.push(SpanPlan {
+            base: (0..=n).map(|k| model.base(k as f64 * step)).collect(),
+            unit: (0..=n)
+                .map(|k| model.aging.te_per_unit(model.start, k as f64 * step))
+                .collect(),
+            gen,
+            scales,
+            step,
+        });
+    }
+    let alphas = |p: &SpanPlan| p.scales.iter().map(|t| t.0).collect::<Vec<_>>();
+    let together =
+        settings.len() as u128 * settings[0].paths as u128 * settings[0].steps as u128 * 8;
+    if settings.len() > 1
+        && (plans.iter().any(|p| alphas(p) != alphas(&plans[0]))
+            || together > MAX_TABLE_BYTES as u128)
+    {
+        // Different terms draw differently, and the tables of all the
+        // spans together may not exceed the memory one is allowed: one
+        // span at a time.
+        return settings
+            .iter()
+            .map(|s| Ok(simulate_group(model, &[*s])?.remove(0)))
+            .collect();
+    }
+    let (n, np, seed) = (settings[0].steps, settings[0].paths, settings[0].seed);
     let (sy0, sd) = (model.y0_sigma.abs(), model.aging.sigma().abs());
     let rho = if model.uncertainty.y0_aging_corr.is_finite() {
         model.uncertainty.y0_aging_corr.clamp(-1.0, 1.0)
     } else {
         0.0
     };
-    // te[p*n + (k−1)] = signed TE of path p at step k (k = 1 … n).
-    let mut te = vec![0.0f64; np * n];
-    te.par_chunks_mut(n).enumerate().for_each_init(
-        || vec![0.0f64; n + 1],
-        |x, (p, row)| {
-            let mut rng = ChaCha8Rng::seed_from_u64(settings.seed);
-            rng.set_stream(p as u64);
-            gen.fill(&mut rng, x);
-            let z1: f64 = rng.sample(StandardNormal);
-            let z2: f64 = rng.sample(StandardNormal);
-            let dy = sy0 * z1;
-            let dd = sd * (rho * z1 + (1.0 - rho * rho).sqrt() * z2);
-            for k in 1..=n {
-                let t = k as f64 * step;
-                row[k - 1] = base[k] + dy * t + dd * unit[k] + x[k];
+    // te[p*n + (k−1)] = signed TE of path p at step k (k = 1 … n), one
+    // table per span. The paths are drawn two at a time (paths 2i and
+    // 2i + 1; the last alone when the count is odd), each from its own
+    // stream, so the result does not depend on the number of threads.
+    let mut tables: Vec<Vec<f64>> = plans.iter().map(|_| vec![0.0f64; np * n]).collect();
+    let mut per_pair: Vec<Vec<&mut [f64]>> = (0..np.div_ceil(2)).map(|_| Vec::new()).collect();
+    for t in tables.iter_mut() {
+        for (i, rows) in t.chunks_mut(2 * n).enumerate() {
+            per_pair[i].push(rows);
+        }
+    }
+    let stream = |p: usize| {
+        let mut rng = ChaCha8Rng::seed_from_u64(seed);
+        rng.set_stream(p as u64);
+        rng
+    };
+    // The y0 and aging errors of a path, drawn after its noise.
+    let errors = |rng: &mut ChaCha8Rng| {
+        let z1: f64 = rng.sample(StandardNormal);
+        let z2: f64 = rng.sample(StandardNormal);
+        (z1, z2)
+    };
+    let row = |plan: &SpanPlan, (z1, z2): (f64, f64), x: &[f64], row: &mut [f64]| {
+        let dy = sy0 * z1;
+        let dd = sd * (rho * z1 + (1.0 - rho * rho).sqrt() * z2);
+        for k in 1..=n {
+            let t = k as f64 * plan.step;
+            row[k - 1] = plan.base[k] + dy * t + dd * plan.unit[k] + x[k];
+        }
+    };
+    per_pair.into_par_iter().enumerate().for_each_init(
+        || (vec![0.0f64; n + 1], paths::PathWorkspace::default()),
+        |(x, ws), (i, mut rows)| {
+            let (pa, pb) = (2 * i, 2 * i + 1);
+            let mut ra = stream(pa);
+            if pb < np {
+                let mut rb = stream(pb);
+                plans[0].gen.draw_unit_pair(&mut ra, Some(&mut rb), ws);
+                let (ea, eb) = (errors(&mut ra), errors(&mut rb));
+                for (plan, rows) in plans.iter().zip(rows.iter_mut()) {
+                    let (row_a, row_b) = rows.split_at_mut(n);
+                    ws.path(&plan.scales, false, x);
+                    row(plan, ea, x, row_a);
+                    ws.path(&plan.scales, true, x);
+                    row(plan, eb, x, row_b);
+                }
+            } else {
+                plans[0].gen.draw_unit_pair(&mut ra, None, ws);
+                let ea = errors(&mut ra);
+                for (plan, rows) in plans.iter().zip(rows.iter_mut()) {
+                    ws.path(&plan.scales, false, x);
+                    row(plan, ea, x, rows);
+                }
             }
         },
     );
-    Ok((te, n, step))
+    Ok(tables
+        .into_iter()
+        .zip(&plans)
+        .map(|(te, plan)| (te, n, plan.step))
+        .collect())
+}
+
+/// Steps gathered at a time by [`p95_per_step`].
+const STEP_BLOCK: usize = 32;
+
+/// p95 over the paths of |TE(k·step)| + temp·k·step at every step k = 1 …
+/// n of a table `te[p·n + k − 1]` of `np` paths. The table holds a path's
+/// steps side by side, so the values of one step lie n apart: they are
+/// gathered [`STEP_BLOCK`] steps at a time, each path's run of steps read
+/// in one go, rather than one step at a time across the whole table. The
+/// percentile of a set of values does not depend on their order, so this
+/// is bit for bit the step-by-step gather.
+fn p95_per_step(te: &[f64], n: usize, np: usize, temp: f64, step: f64) -> Vec<f64> {
+    (0..n.div_ceil(STEP_BLOCK))
+        .into_par_iter()
+        .map(|b| {
+            let k0 = b * STEP_BLOCK + 1;
+            let k1 = (k0 + STEP_BLOCK).min(n + 1);
+            let width = k1 - k0;
+            let mut buf = vec![0.0f64; width * np];
+            for p in 0..np {
+                let run = &te[p * n + k0 - 1..p * n + k1 - 1];
+                for (j, v) in run.iter().enumerate() {
+                    buf[j * np + p] = v.abs() + temp * ((k0 + j) as f64 * step);
+                }
+            }
+            buf.chunks_mut(np)
+                .map(|col| percentile(col, 0.95))
+                .collect::<Vec<f64>>()
+        })
+        .collect::<Vec<Vec<f64>>>()
+        .concat()
 }
 
 /// Percentiles, crossing and verdict of simulated time errors
@@ -371,13 +539,7 @@ pub(crate) fn summarise(
         buf.extend((0..np).map(|p| te[p * n + k - 1].abs() + temp * t));
     };
     // p95 at every step, for the crossing.
-    let p95: Vec<f64> = (1..=n)
-        .into_par_iter()
-        .map_init(Vec::new, |buf, k| {
-            abs_at(k, buf);
-            percentile(buf, 0.95)
-        })
-        .collect();
+    let p95 = p95_per_step(te, n, np, temp, step);
     let budget = settings.budget;
     let holds_for = if model.te0.abs() > budget {
         Some(0.0)
@@ -820,6 +982,126 @@ mod decision_tests {
                     Verdict::Undecided
                 };
                 assert_eq!(pred.judgement.verdict, expect, "P = {p}");
+            }
+        }
+    }
+}
+
+#[cfg(test)]
+mod paired_path_tests {
+    use super::*;
+
+    /// The Monte Carlo as it stood before the paths were drawn two at a
+    /// time: each path alone through [`NoisePaths::fill`] (the direct form).
+    fn simulate_te_direct(model: &HoldoverModel, settings: &Settings) -> Vec<f64> {
+        let n = settings.steps;
+        let step = settings.span / n as f64;
+        let gen = NoisePaths::new(&model.noise, step, n).unwrap();
+        let (sy0, sd) = (model.y0_sigma.abs(), model.aging.sigma().abs());
+        let rho = model.uncertainty.y0_aging_corr;
+        let mut te = vec![0.0; settings.paths * n];
+        let mut x = vec![0.0; n + 1];
+        for (p, row) in te.chunks_mut(n).enumerate() {
+            let mut rng = ChaCha8Rng::seed_from_u64(settings.seed);
+            rng.set_stream(p as u64);
+            gen.fill(&mut rng, &mut x);
+            let z1: f64 = rng.sample(StandardNormal);
+            let z2: f64 = rng.sample(StandardNormal);
+            let dy = sy0 * z1;
+            let dd = sd * (rho * z1 + (1.0 - rho * rho).sqrt() * z2);
+            for k in 1..=n {
+                let t = k as f64 * step;
+                row[k - 1] =
+                    model.base(t) + dy * t + dd * model.aging.te_per_unit(model.start, t) + x[k];
+            }
+        }
+        te
+    }
+
+    /// Seeded Monte Carlo, same draws: the paired unit paths, scaled per
+    /// span, give every path's time error of the direct,
+    /// one-path-at-a-time form to 1e−12 of the largest |TE| (rounding of
+    /// the FFT and of the scaling), for a model with all five noise terms,
+    /// an odd number of paths (the last one alone) and a y0–aging
+    /// correlation, for one span alone and two together; and the
+    /// prediction's percentiles agree to 1e−9.
+    #[test]
+    fn paired_paths_equal_the_direct_form() {
+        let mut noise = PowerLaw::zero(0.5);
+        for (a, h) in [(2, 1e-24), (1, 3e-24), (0, 2e-22), (-1, 4e-24), (-2, 1e-28)] {
+            noise.set(a, h);
+        }
+        let model = HoldoverModel {
+            te0: 2e-9,
+            y0: 1e-12,
+            y0_sigma: 3e-13,
+            aging: aging::Aging::Linear {
+                c: 0.0,
+                d: 1e-16,
+                d_sigma: 2e-17,
+            },
+            start: 0.0,
+            temp_worst: 0.0,
+            noise,
+            uncertainty: Uncertainty {
+                y0_aging_corr: -0.4,
+                ..Default::default()
+            },
+        };
+        let settings = Settings {
+            paths: 7,
+            steps: 300,
+            ..Settings::new(86_400.0, 1.5e-6)
+        };
+        let (te, n, step) = simulate_te(&model, &settings).unwrap();
+        let want = simulate_te_direct(&model, &settings);
+        // Two spans at once: each table bit for bit the one of its span
+        // alone (the report predicts its spans together, the command one
+        // at a time).
+        let other = Settings {
+            span: 8.0 * 3600.0,
+            ..settings.clone()
+        };
+        let both = simulate_te_spans(&model, &[settings.clone(), other.clone()]).unwrap();
+        assert_eq!(both[0], (te.clone(), n, step));
+        assert_eq!(both[1], simulate_te(&model, &other).unwrap());
+        let direct_other = simulate_te_direct(&model, &other);
+        let scale_other = direct_other.iter().fold(0.0f64, |a, v| a.max(v.abs()));
+        for (g, e) in both[1].0.iter().zip(&direct_other) {
+            assert!((g - e).abs() <= 1e-12 * scale_other, "8 h span: {g} vs {e}");
+        }
+        let scale = want.iter().fold(0.0f64, |a, v| a.max(v.abs()));
+        assert!(scale > 0.0);
+        for (i, (g, e)) in te.iter().zip(&want).enumerate() {
+            assert!(
+                (g - e).abs() <= 1e-12 * scale,
+                "path {} step {}: {g} vs {e}",
+                i / n,
+                i % n + 1
+            );
+        }
+        // The blocked gather of p95 at every step against the step-by-step
+        // one (exact: the same values, in another order).
+        let temp = 3e-13;
+        let direct: Vec<f64> = (1..=n)
+            .map(|k| {
+                let mut v: Vec<f64> = (0..settings.paths)
+                    .map(|p| te[p * n + k - 1].abs() + temp * (k as f64 * step))
+                    .collect();
+                percentile(&mut v, 0.95)
+            })
+            .collect();
+        assert_eq!(p95_per_step(&te, n, settings.paths, temp, step), direct);
+        let a = summarise(&model, &settings, &te, n, step).unwrap();
+        let b = summarise(&model, &settings, &want, n, step).unwrap();
+        for (x, y) in a.te.iter().zip(&b.te) {
+            for (u, v) in [
+                (x.p50, y.p50),
+                (x.p95, y.p95),
+                (x.p99, y.p99),
+                (x.rms, y.rms),
+            ] {
+                assert!((u - v).abs() <= 1e-9 * v.abs(), "t = {}: {u} vs {v}", x.t);
             }
         }
     }

@@ -8,6 +8,13 @@
 //! start of holdover), the terms are added, and the first sample is
 //! subtracted.
 //!
+//! The prediction itself draws each term as a unit path u (white noise of
+//! standard deviation 1, [`crate::simulate::unit_phase_pair`], two paths
+//! per FFT pair) and adds σ·(u − u_0) with σ = `white_sigma(α, h_α, Δ)`:
+//! the same path to rounding, and since u depends on the draws and the
+//! number of steps only, one draw serves every span of the same number of
+//! steps ([`crate::holdover::predict_spans`]).
+//!
 //! # Step and bandwidth
 //!
 //! The paths are simulated at a step Δ = span/steps suited to the span, not
@@ -45,7 +52,7 @@
 
 use crate::error::{Error, Result};
 use crate::model::PowerLaw;
-use crate::simulate::power_law_phase;
+use crate::simulate::{power_law_phase, unit_phase_pair, white_sigma, PairWorkspace};
 use rand_chacha::ChaCha8Rng;
 use std::f64::consts::PI;
 
@@ -154,5 +161,83 @@ impl NoisePaths {
             }
         }
         level
+    }
+
+    /// The terms drawn, in the order they are drawn: (α, σ) with σ the
+    /// standard deviation of the term's white noise at this step,
+    /// [`white_sigma`]`(α, h_α, Δ)`. A path is Σ σ·u over the terms, u the
+    /// term's unit path ([`NoisePaths::draw_unit_pair`]).
+    pub fn scales(&self) -> Vec<(i32, f64)> {
+        self.terms
+            .iter()
+            .map(|&(alpha, h)| (alpha, white_sigma(alpha, h, self.step)))
+            .collect()
+    }
+
+    /// Draw the unit path of every term (white noise of standard deviation
+    /// 1, [`crate::simulate::unit_phase_pair`]) for path a from `rng_a`,
+    /// and for path b from `rng_b` when given, into `ws`: n + 1 samples
+    /// each, relative to the first. Each generator is drawn in the same
+    /// order as by [`NoisePaths::fill`], and σ-weighted sums of these unit
+    /// paths ([`PathWorkspace::path`]) are `fill`'s path to rounding. The
+    /// unit paths depend on the terms present and the number of steps, not
+    /// on h or the step, so one draw serves every span of the same
+    /// length; the flicker terms of the two paths share one FFT pair.
+    pub fn draw_unit_pair(
+        &self,
+        rng_a: &mut ChaCha8Rng,
+        rng_b: Option<&mut ChaCha8Rng>,
+        ws: &mut PathWorkspace,
+    ) {
+        let len = self.n + 1;
+        let terms = self.terms.len();
+        for u in [&mut ws.ua, &mut ws.ub] {
+            u.resize_with(terms, Vec::new);
+            for v in u.iter_mut() {
+                v.resize(len, 0.0);
+            }
+        }
+        let mut rng_b = rng_b;
+        for (t, &(alpha, _)) in self.terms.iter().enumerate() {
+            let (ua, ub) = (&mut ws.ua[t], &mut ws.ub[t]);
+            match &mut rng_b {
+                Some(rb) => unit_phase_pair(
+                    alpha,
+                    rng_a,
+                    ua,
+                    Some((&mut **rb, &mut ub[..])),
+                    &mut ws.fft,
+                ),
+                None => unit_phase_pair(alpha, rng_a, ua, None, &mut ws.fft),
+            }
+            for u in [ua, ub] {
+                let u0 = u[0];
+                u.iter_mut().for_each(|v| *v -= u0);
+            }
+        }
+    }
+}
+
+/// Working memory of [`NoisePaths::draw_unit_pair`], one per thread: the
+/// unit paths of the last pair drawn, one per term.
+#[derive(Debug, Default)]
+pub struct PathWorkspace {
+    fft: PairWorkspace,
+    ua: Vec<Vec<f64>>,
+    ub: Vec<Vec<f64>>,
+}
+
+impl PathWorkspace {
+    /// Path a (`b` false) or b of the last pair drawn, for the term scales
+    /// `scales` ([`NoisePaths::scales`] of any step with the same terms):
+    /// out_k = Σ_t σ_t·u_t,k, k = 0 … n (out_0 = 0).
+    pub fn path(&self, scales: &[(i32, f64)], b: bool, out: &mut [f64]) {
+        let units = if b { &self.ub } else { &self.ua };
+        out.iter_mut().for_each(|v| *v = 0.0);
+        for (&(_, sigma), u) in scales.iter().zip(units) {
+            for (o, v) in out.iter_mut().zip(u) {
+                *o += sigma * v;
+            }
+        }
     }
 }

@@ -80,9 +80,58 @@ pub fn cdf_with(terms: &[(f64, f64)], x: f64) -> f64 {
     if lam.is_empty() || !(x > 0.0) {
         return if x > 0.0 { 1.0 } else { 0.0 };
     }
-    match ruben_terms(&lam) {
-        Some(j) => ruben(&lam, x, j),
-        None => imhof(&lam, x),
+    Method::of(lam).cdf(x)
+}
+
+/// The method [`cdf_with`] evaluates the CDF of one set of (cleaned, not
+/// empty) weights with, prepared once: Ruben's mixture with its
+/// coefficients already computed, or Imhof's integral. A quantile asks for
+/// the CDF of the same weights a few dozen times; the coefficients a_j
+/// depend on the weights only (not on x), so computing them once turns each
+/// further CDF value from O(J²) into O(J) work, with bit-for-bit the same
+/// result (the same operations in the same order).
+enum Method {
+    Ruben(RubenMixture),
+    Imhof(Vec<(f64, f64)>),
+}
+
+impl Method {
+    fn of(lam: Vec<(f64, f64)>) -> Self {
+        match ruben_terms(&lam) {
+            Some(j) => Method::Ruben(RubenMixture::new(&lam, j)),
+            None => Method::Imhof(lam),
+        }
+    }
+
+    /// [`Method::of`], remembered per thread for the last set of weights
+    /// (compared bit for bit, so the answer is the one `of` gives).
+    fn remembered(lam: Vec<(f64, f64)>) -> std::rc::Rc<Self> {
+        type Last = Option<(Vec<(u64, u64)>, std::rc::Rc<Method>)>;
+        thread_local! {
+            static LAST: std::cell::RefCell<Last> = const { std::cell::RefCell::new(None) };
+        }
+        let key: Vec<(u64, u64)> = lam
+            .iter()
+            .map(|(l, h)| (l.to_bits(), h.to_bits()))
+            .collect();
+        LAST.with(|last| {
+            let mut last = last.borrow_mut();
+            if let Some((k, m)) = last.as_ref() {
+                if *k == key {
+                    return m.clone();
+                }
+            }
+            let m = std::rc::Rc::new(Method::of(lam));
+            *last = Some((key, m.clone()));
+            m
+        })
+    }
+
+    fn cdf(&self, x: f64) -> f64 {
+        match self {
+            Method::Ruben(r) => r.cdf(x),
+            Method::Imhof(lam) => imhof(lam, x),
+        }
     }
 }
 
@@ -140,51 +189,91 @@ fn ruben_terms(lam: &[(f64, f64)]) -> Option<usize> {
 /// 1 − Σ_{j<J} a_j. Fast where the weights are few or alike (k = 2, 3: the
 /// case Imhof's integral handles worst).
 fn ruben(lam: &[(f64, f64)], x: f64, terms: usize) -> f64 {
-    use statrs::distribution::{ChiSquared, ContinuousCDF};
-    use statrs::function::gamma::ln_gamma;
-    let k: f64 = lam.iter().map(|t| t.1).sum();
-    let beta = lam.iter().map(|t| t.0).fold(f64::INFINITY, f64::min);
-    let y = x / beta;
-    let gammas: Vec<(f64, f64)> = lam.iter().map(|&(l, h)| (1.0 - beta / l, h)).collect();
-    let mut a = Vec::with_capacity(terms);
-    a.push(
-        lam.iter()
-            .map(|&(l, h)| 0.5 * h * (beta / l).ln())
-            .sum::<f64>()
-            .exp(),
-    );
-    let mut powers: Vec<f64> = gammas.iter().map(|t| t.0).collect();
-    let mut g = Vec::with_capacity(terms);
-    // F_{k+2j}(y) by the recursion F_{ν+2} = F_ν − y^{ν/2} e^{−y/2} / (2^{ν/2} Γ(ν/2 + 1)).
-    let mut f = ChiSquared::new(k).map_or(f64::NAN, |c| c.cdf(y));
-    let mut total = a[0] * f;
-    let mut mass = a[0];
-    for j in 1..terms {
-        g.push(
-            powers
-                .iter()
-                .zip(&gammas)
-                .map(|(p, t)| p * t.1)
-                .sum::<f64>(),
+    RubenMixture::new(lam, terms).cdf(x)
+}
+
+/// The mixture of Ruben's expansion for one set of weights ([`ruben`]):
+/// k = Σh_i, β = λ_min and the coefficients a_0 … a_J, J the first index at
+/// which the weight left out, 1 − Σ_{j≤J} a_j, falls below 1e−11 (or the
+/// last of `terms`). The coefficients depend on the weights only, so one
+/// mixture serves every x a quantile search asks about.
+struct RubenMixture {
+    k: f64,
+    beta: f64,
+    a: Vec<f64>,
+    /// ln Γ(ν_j/2 + 1) and ν_j·ln2/2 for ν_j = k + 2(j − 1), j ≥ 1 (index
+    /// j − 1): the x-independent parts of the recursion's correction.
+    ln_gammas: Vec<f64>,
+    half_nu_ln2: Vec<f64>,
+}
+
+impl RubenMixture {
+    fn new(lam: &[(f64, f64)], terms: usize) -> Self {
+        use statrs::function::gamma::ln_gamma;
+        let k: f64 = lam.iter().map(|t| t.1).sum();
+        let beta = lam.iter().map(|t| t.0).fold(f64::INFINITY, f64::min);
+        let gammas: Vec<(f64, f64)> = lam.iter().map(|&(l, h)| (1.0 - beta / l, h)).collect();
+        let mut a = Vec::with_capacity(terms);
+        a.push(
+            lam.iter()
+                .map(|&(l, h)| 0.5 * h * (beta / l).ln())
+                .sum::<f64>()
+                .exp(),
         );
-        for (p, t) in powers.iter_mut().zip(&gammas) {
-            *p *= t.0;
+        let mut powers: Vec<f64> = gammas.iter().map(|t| t.0).collect();
+        let mut g = Vec::with_capacity(terms);
+        let mut mass = a[0];
+        for j in 1..terms {
+            g.push(
+                powers
+                    .iter()
+                    .zip(&gammas)
+                    .map(|(p, t)| p * t.1)
+                    .sum::<f64>(),
+            );
+            for (p, t) in powers.iter_mut().zip(&gammas) {
+                *p *= t.0;
+            }
+            let aj = (0..j).map(|r| g[j - r - 1] * a[r]).sum::<f64>() / (2.0 * j as f64);
+            a.push(aj);
+            mass += aj;
+            if 1.0 - mass < 1e-11 {
+                break;
+            }
         }
-        let aj = (0..j).map(|r| g[j - r - 1] * a[r]).sum::<f64>() / (2.0 * j as f64);
-        a.push(aj);
-        let nu = k + 2.0 * (j - 1) as f64;
-        let log_term = 0.5 * nu * y.ln()
-            - 0.5 * y
-            - 0.5 * nu * std::f64::consts::LN_2
-            - ln_gamma(0.5 * nu + 1.0);
-        f = (f - log_term.exp()).max(0.0);
-        total += aj * f;
-        mass += aj;
-        if 1.0 - mass < 1e-11 {
-            break;
+        let (ln_gammas, half_nu_ln2) = (1..a.len())
+            .map(|j| {
+                let nu = k + 2.0 * (j - 1) as f64;
+                (ln_gamma(0.5 * nu + 1.0), 0.5 * nu * std::f64::consts::LN_2)
+            })
+            .unzip();
+        Self {
+            k,
+            beta,
+            a,
+            ln_gammas,
+            half_nu_ln2,
         }
     }
-    total.clamp(0.0, 1.0)
+
+    /// Σ_j a_j·F_{k+2j}(x/β), with F_{k+2j} by the recursion
+    /// F_{ν+2}(y) = F_ν(y) − y^{ν/2} e^{−y/2} / (2^{ν/2} Γ(ν/2 + 1)).
+    fn cdf(&self, x: f64) -> f64 {
+        use statrs::distribution::{ChiSquared, ContinuousCDF};
+        let k = self.k;
+        let y = x / self.beta;
+        let mut f = ChiSquared::new(k).map_or(f64::NAN, |c| c.cdf(y));
+        let mut total = self.a[0] * f;
+        let ln_y = y.ln();
+        for (j, &aj) in self.a.iter().enumerate().skip(1) {
+            let nu = k + 2.0 * (j - 1) as f64;
+            let log_term =
+                0.5 * nu * ln_y - 0.5 * y - self.half_nu_ln2[j - 1] - self.ln_gammas[j - 1];
+            f = (f - log_term.exp()).max(0.0);
+            total += aj * f;
+        }
+        total.clamp(0.0, 1.0)
+    }
 }
 
 /// Imhof's integral (module notes).
@@ -286,23 +375,28 @@ pub fn quantile_with(terms: &[(f64, f64)], p: f64) -> Result<f64> {
     let nu = total * total / sq;
     let g = sq / total;
     let guess = g * crate::stats::interval::chi2_quantile(p, nu)?;
+    // The weights' CDF, prepared once for the whole search (and kept for
+    // the next search on the same weights: a two-sided interval asks for
+    // two quantiles of each).
+    let method = Method::remembered(lam);
+    let cdf_at = |x: f64| method.cdf(x);
     // Bracket around the guess by steps of 1.25.
     let x0 = guess.max(1e-300);
-    let f0 = cdf_with(&lam, x0) - p;
+    let f0 = cdf_at(x0) - p;
     let (mut lo, mut hi, mut f_lo, mut f_hi) = (x0, x0, f0, f0);
     let mut tries = 0;
     while f_hi < 0.0 && tries < 400 {
         lo = hi;
         f_lo = f_hi;
         hi *= 1.25;
-        f_hi = cdf_with(&lam, hi) - p;
+        f_hi = cdf_at(hi) - p;
         tries += 1;
     }
     while f_lo >= 0.0 && tries < 400 {
         hi = lo;
         f_hi = f_lo;
         lo /= 1.25;
-        f_lo = cdf_with(&lam, lo) - p;
+        f_lo = cdf_at(lo) - p;
         tries += 1;
     }
     if f_hi < 0.0 || f_lo >= 0.0 {
@@ -319,7 +413,7 @@ pub fn quantile_with(terms: &[(f64, f64)], p: f64) -> Result<f64> {
         } else {
             secant
         };
-        let fx = cdf_with(&lam, x) - p;
+        let fx = cdf_at(x) - p;
         if fx.abs() < 1e-8 || (hi - lo) < 1e-9 * hi {
             break;
         }
@@ -349,6 +443,188 @@ mod tests {
             for &x in &[0.2, 1.0, k as f64, 2.0 * k as f64 + 3.0] {
                 let got = cdf(&vec![1.0; k], x);
                 assert!((got - chi.cdf(x)).abs() < 2e-6, "k={k} x={x}: {got}");
+            }
+        }
+    }
+
+    /// The textbook form of Ruben's series as it stood before the mixture's
+    /// coefficients were computed once per set of weights: the a_j
+    /// recomputed inside every CDF value (Farebrother 1984, AS 204).
+    fn ruben_direct(lam: &[(f64, f64)], x: f64, terms: usize) -> f64 {
+        use statrs::distribution::{ChiSquared, ContinuousCDF};
+        use statrs::function::gamma::ln_gamma;
+        let k: f64 = lam.iter().map(|t| t.1).sum();
+        let beta = lam.iter().map(|t| t.0).fold(f64::INFINITY, f64::min);
+        let y = x / beta;
+        let gammas: Vec<(f64, f64)> = lam.iter().map(|&(l, h)| (1.0 - beta / l, h)).collect();
+        let mut a = Vec::with_capacity(terms);
+        a.push(
+            lam.iter()
+                .map(|&(l, h)| 0.5 * h * (beta / l).ln())
+                .sum::<f64>()
+                .exp(),
+        );
+        let mut powers: Vec<f64> = gammas.iter().map(|t| t.0).collect();
+        let mut g = Vec::with_capacity(terms);
+        // F_{k+2j}(y) by the recursion F_{ν+2} = F_ν − y^{ν/2} e^{−y/2} / (2^{ν/2} Γ(ν/2 + 1)).
+        let mut f = ChiSquared::new(k).map_or(f64::NAN, |c| c.cdf(y));
+        let mut total = a[0] * f;
+        let mut mass = a[0];
+        for j in 1..terms {
+            g.push(
+                powers
+                    .iter()
+                    .zip(&gammas)
+                    .map(|(p, t)| p * t.1)
+                    .sum::<f64>(),
+            );
+            for (p, t) in powers.iter_mut().zip(&gammas) {
+                *p *= t.0;
+            }
+            let aj = (0..j).map(|r| g[j - r - 1] * a[r]).sum::<f64>() / (2.0 * j as f64);
+            a.push(aj);
+            let nu = k + 2.0 * (j - 1) as f64;
+            let log_term = 0.5 * nu * y.ln()
+                - 0.5 * y
+                - 0.5 * nu * std::f64::consts::LN_2
+                - ln_gamma(0.5 * nu + 1.0);
+            f = (f - log_term.exp()).max(0.0);
+            total += aj * f;
+            mass += aj;
+            if 1.0 - mass < 1e-11 {
+                break;
+            }
+        }
+        total.clamp(0.0, 1.0)
+    }
+
+    /// The CDF as it stood: method chosen and (for Ruben) the coefficients
+    /// computed anew for every x.
+    fn cdf_direct(terms: &[(f64, f64)], x: f64) -> f64 {
+        let lam = clean(terms);
+        if lam.is_empty() || !(x > 0.0) {
+            return if x > 0.0 { 1.0 } else { 0.0 };
+        }
+        match ruben_terms(&lam) {
+            Some(j) => ruben_direct(&lam, x, j),
+            None => imhof(&lam, x),
+        }
+    }
+
+    /// The quantile search as it stood, on [`cdf_direct`].
+    fn quantile_direct(terms: &[(f64, f64)], p: f64) -> Result<f64> {
+        if !(p > 0.0 && p < 1.0) {
+            return Err(Error::invalid(format!(
+                "quantile probability must be in (0, 1), got {p}"
+            )));
+        }
+        let lam = clean(terms);
+        if lam.is_empty() {
+            return Err(Error::invalid(
+                "a weighted χ² sum needs at least one positive weight",
+            ));
+        }
+        if lam.len() == 1 {
+            let (l, h) = lam[0];
+            return Ok(l * crate::stats::interval::chi2_quantile(p, h)?);
+        }
+        let total: f64 = lam.iter().map(|&(l, h)| l * h).sum();
+        let sq: f64 = lam.iter().map(|&(l, h)| l * l * h).sum();
+        // Start from the χ² with the same first two moments (scale g, ν):
+        // Q ≈ g·χ²_ν with g = Σhλ²/Σhλ, ν = (Σhλ)²/Σhλ².
+        let nu = total * total / sq;
+        let g = sq / total;
+        let guess = g * crate::stats::interval::chi2_quantile(p, nu)?;
+        // Bracket around the guess by steps of 1.25.
+        let x0 = guess.max(1e-300);
+        let f0 = cdf_direct(&lam, x0) - p;
+        let (mut lo, mut hi, mut f_lo, mut f_hi) = (x0, x0, f0, f0);
+        let mut tries = 0;
+        while f_hi < 0.0 && tries < 400 {
+            lo = hi;
+            f_lo = f_hi;
+            hi *= 1.25;
+            f_hi = cdf_direct(&lam, hi) - p;
+            tries += 1;
+        }
+        while f_lo >= 0.0 && tries < 400 {
+            hi = lo;
+            f_hi = f_lo;
+            lo /= 1.25;
+            f_lo = cdf_direct(&lam, lo) - p;
+            tries += 1;
+        }
+        if f_hi < 0.0 || f_lo >= 0.0 {
+            return Err(Error::invalid(format!(
+                "weighted χ² quantile at p = {p}: no bracket found"
+            )));
+        }
+        // Regula falsi (Illinois) with bisection safeguard.
+        let mut x = hi;
+        for it in 0..100 {
+            let secant = hi - f_hi * (hi - lo) / (f_hi - f_lo);
+            x = if it % 3 == 2 || !(secant > lo && secant < hi) {
+                0.5 * (lo + hi)
+            } else {
+                secant
+            };
+            let fx = cdf_direct(&lam, x) - p;
+            if fx.abs() < 1e-8 || (hi - lo) < 1e-9 * hi {
+                break;
+            }
+            if fx < 0.0 {
+                lo = x;
+                f_lo = fx;
+                f_hi *= 0.5;
+            } else {
+                hi = x;
+                f_hi = fx;
+                f_lo *= 0.5;
+            }
+        }
+        Ok(x)
+    }
+
+    /// Weight sets of the shapes the pivot quantiles ask about: few and
+    /// alike, one dominant among many, a lumped gamma term with a
+    /// fractional degree of freedom, and a wide spread that goes to Imhof.
+    fn weight_sets() -> Vec<Vec<(f64, f64)>> {
+        let mut dominant = vec![(1.0, 1.0)];
+        dominant.extend(std::iter::repeat((0.08, 1.0)).take(100));
+        vec![
+            vec![(1.0, 1.0), (0.3, 1.0)],
+            vec![(1.0, 1.0), (0.3, 1.0), (0.1, 1.0)],
+            vec![(0.4, 1.0), (0.35, 1.0), (0.2, 1.0), (0.012, 4.17)],
+            vec![(0.2, 1.0), (0.11, 2.5), (0.07, 1.0), (0.0031, 37.3)],
+            dominant,
+            (1..60).map(|i| (1.0 / (i * i) as f64, 1.0)).collect(),
+        ]
+    }
+
+    /// Computing Ruben's coefficients once per set of weights is an exact
+    /// speed-up: every CDF value and every quantile is bit-for-bit the one
+    /// of the direct form (each coefficient recomputed for every x).
+    #[test]
+    fn prepared_mixture_equals_direct_series_bit_for_bit() {
+        for w in weight_sets() {
+            let lam = clean(&w);
+            for &x in &[1e-3, 0.05, 0.3, 0.9, 1.0, 1.7, 4.0, 11.0] {
+                assert_eq!(
+                    cdf_with(&w, x).to_bits(),
+                    cdf_direct(&w, x).to_bits(),
+                    "{w:?} x={x}"
+                );
+                if let Some(j) = ruben_terms(&lam) {
+                    assert_eq!(
+                        ruben(&lam, x, j).to_bits(),
+                        ruben_direct(&lam, x, j).to_bits()
+                    );
+                }
+            }
+            for &p in &[0.025, 0.1585, 0.5, 0.8415, 0.975] {
+                let got = quantile_with(&w, p).unwrap();
+                let want = quantile_direct(&w, p).unwrap();
+                assert_eq!(got.to_bits(), want.to_bits(), "{w:?} p={p}");
             }
         }
     }

@@ -3,7 +3,7 @@
 //! once per span so each verdict equals `tauwise holdover --span …`).
 
 use super::{method, Loaded};
-use crate::holdover::{model_from_record, predict, FromRecord, Settings};
+use crate::holdover::{model_from_record, predict_spans, FromRecord, Settings};
 use crate::io::dut::Dut;
 use crate::plot::holdover::HoldoverPlot;
 use crate::report::*;
@@ -268,22 +268,31 @@ pub(super) fn holdover(
     let mut spans = Vec::new();
     let mut longest: Option<(f64, crate::holdover::Prediction)> = None;
     let mut settings_used = None;
-    for &span in &h.spans {
-        let mut settings = Settings::new(span, h.budget);
-        settings.decision = r.decision;
-        if let Some(p) = h.paths {
-            settings.paths = p;
-        }
-        if let Some(s) = h.seed {
-            settings.seed = s;
-        }
-        let pred = match predict(&model, &settings) {
-            Ok(p) => p,
-            Err(e) => {
-                not_computed(r, e.to_string());
-                return Ok(());
+    let all_settings: Vec<Settings> = h
+        .spans
+        .iter()
+        .map(|&span| {
+            let mut settings = Settings::new(span, h.budget);
+            settings.decision = r.decision;
+            if let Some(p) = h.paths {
+                settings.paths = p;
             }
-        };
+            if let Some(s) = h.seed {
+                settings.seed = s;
+            }
+            settings
+        })
+        .collect();
+    // The spans together: each path drawn once (each prediction is the
+    // one `tauwise holdover --span` gives alone, bit for bit).
+    let predictions = match predict_spans(&model, &all_settings) {
+        Ok(p) => p,
+        Err(e) => {
+            not_computed(r, e.to_string());
+            return Ok(());
+        }
+    };
+    for ((&span, settings), pred) in h.spans.iter().zip(all_settings).zip(predictions) {
         let end = pred.te.last().copied();
         let judgement = pred.judgement.clone();
         r.verdicts.push(VerdictLine {
