@@ -48,7 +48,7 @@ use rayon::prelude::*;
 
 /// Error-free sum: a + b = s + e exactly (Knuth's TwoSum).
 #[inline(always)]
-fn two_sum(a: f64, b: f64) -> (f64, f64) {
+pub(crate) fn two_sum(a: f64, b: f64) -> (f64, f64) {
     let s = a + b;
     let bb = s - a;
     let e = (a - (s - bb)) + (b - bb);
