@@ -27,8 +27,8 @@ pub(crate) const BIG: usize = 1 << 18;
 static BIG_LOCK: std::sync::Mutex<()> = std::sync::Mutex::new(());
 
 /// Points of plans a thread keeps before it starts afresh: the cached
-/// twiddle tables stay below about 16 bytes × this (64 MB) per thread.
-const CACHE_POINTS: usize = 1 << 22;
+/// twiddle tables stay below about 16 bytes × this (16 MB) per thread.
+const CACHE_POINTS: usize = 1 << 20;
 
 thread_local! {
     /// The thread's planner and the points of the plans it holds.
@@ -137,9 +137,17 @@ pub(crate) fn autocorrelation(len: usize, y: impl Fn(usize) -> f64, lags: usize)
     }
     let mut spec = pair.fwd.make_output_vec();
     forward(&pair, &mut buf, &mut spec);
-    let power: Vec<f64> = spec.iter().map(|c| c.norm_sqr()).collect();
-    even_inverse(&pair, &power, &mut buf, &mut spec);
+    // The power spectrum P_k = |X_k|², k ≤ S/2, mirrored into buf; then
+    // the forward transform of P is S·R (see [`even_inverse`]).
+    for (k, b) in buf.iter_mut().enumerate() {
+        *b = spec[k.min(size - k)].norm_sqr();
+    }
+    forward(&pair, &mut buf, &mut spec);
+    let scale = 1.0 / size as f64;
     buf.truncate(lags.min(size - 1) + 1);
+    for (b, c) in buf.iter_mut().zip(&spec) {
+        *b = c.re * scale;
+    }
     buf.shrink_to_fit();
     buf
 }

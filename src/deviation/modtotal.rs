@@ -499,10 +499,16 @@ impl Plan {
 /// Scratch for one run of consecutive subsequences: the local V and its
 /// prefix sums over the samples of one parity (2 values a sample of the
 /// run; the window sums Σ t^p·V_t are running sums, not arrays).
+/// Runs up to [`BIG_RUN_LEN`] samples also keep the prefix sums
+/// P_p(t) = Σ_{s<t} s^p·V_s as arrays (`m0`, `m1`, `m2`: fewer operations
+/// a subsequence than the running cursors, at 3 more values a sample).
 #[derive(Default)]
 struct RunScratch {
     vv: Vec<f64>,
     par: Vec<f64>,
+    m0: Vec<f64>,
+    m1: Vec<f64>,
+    m2: Vec<f64>,
 }
 
 /// Running compensated sums P_p(t) = Σ_{s<t} s^p·V_s, p = 0, 1, 2, at a
@@ -538,7 +544,19 @@ impl Cursor {
 
 /// Σ_{n} Σ_{j} (m·z_j(n))² over the subsequences n = start … start+count−1
 /// (all clear of gaps), by the exact fast form of the notes above.
-fn run_sum(plan: &Plan, v: Seq, start: usize, count: usize, s: &mut RunScratch) -> f64 {
+///
+/// `stored`: the window sums Σ t^p·V_t from stored prefix arrays (short
+/// runs) or from running cursors (long runs: no record-sized arrays beyond
+/// V and its parity sums). The two give the same sums up to rounding; the
+/// caller chooses by the run's length alone.
+fn run_sum(
+    plan: &Plan,
+    v: Seq,
+    start: usize,
+    count: usize,
+    s: &mut RunScratch,
+    stored: bool,
+) -> f64 {
     let m = plan.m;
     let l3 = 3 * m;
     let len = count + l3 - 1; // samples the run reads
@@ -635,6 +653,11 @@ fn run_sum(plan: &Plan, v: Seq, start: usize, count: usize, s: &mut RunScratch) 
     // sums P_p of four cursors at n, n + m, n + 2m, n + 3m (the "plus"
     // windows [u, u+m) read P at n + A and n + A + m, the "minus" windows
     // (u−m, u] at n + A + 1 − m and n + A + 1), each moved one sample per n.
+    if stored {
+        let (m0, m1, m2) = (&mut s.m0, &mut s.m1, &mut s.m2);
+        let acc = fixed_part_stored(plan, &s.vv, count, [m0, m1, m2]);
+        return total + acc;
+    }
     let mut cur = [Cursor::default(); 4];
     {
         let mut c = Cursor::default();
@@ -686,6 +709,64 @@ fn run_sum(plan: &Plan, v: Seq, start: usize, count: usize, s: &mut RunScratch) 
     total + acc
 }
 
+/// The fixed part of [`run_sum`] with the window sums from stored prefix
+/// arrays P_p(t) = Σ_{s<t} s^p·V_s (built here in the scratch `pre`, each
+/// a compensated TwoSum chain stored rounded to one f64).
+fn fixed_part_stored(plan: &Plan, vv: &[f64], count: usize, pre: [&mut Vec<f64>; 3]) -> f64 {
+    let m = plan.m;
+    let [m0, m1, m2] = pre;
+    for a in [&mut *m0, &mut *m1, &mut *m2] {
+        a.clear();
+        a.reserve(vv.len() + 1);
+        a.push(0.0);
+    }
+    let mut h = [0.0f64; 3];
+    let mut l = [0.0f64; 3];
+    for (t, &x) in vv.iter().enumerate() {
+        let tf = t as f64;
+        for (j, v) in [x, x * tf, x * tf * tf].into_iter().enumerate() {
+            let (a, e) = two_sum(h[j], v);
+            h[j] = a;
+            l[j] += e;
+        }
+        m0.push(h[0] + l[0]);
+        m1.push(h[1] + l[1]);
+        m2.push(h[2] + l[2]);
+    }
+    // Σ_r r^p V_{u±r} for p = 0, 1, 2.
+    let window = |u: usize, plus: bool| -> [f64; 3] {
+        let (a, b) = if plus { (u, u + m) } else { (u + 1 - m, u + 1) };
+        let d0 = m0[b] - m0[a];
+        let d1 = m1[b] - m1[a];
+        let d2 = m2[b] - m2[a];
+        let uf = u as f64;
+        if plus {
+            [d0, d1 - uf * d0, d2 - 2.0 * uf * d1 + uf * uf * d0]
+        } else {
+            [d0, uf * d0 - d1, uf * uf * d0 - 2.0 * uf * d1 + d2]
+        }
+    };
+    let mut acc = 0.0;
+    for n in 0..count {
+        let vc: [f64; 4] = std::array::from_fn(|c| vv[n + plan.offsets[c]]);
+        let mut cross = 0.0;
+        for (t, &(a, plus)) in plan.terms.iter().enumerate() {
+            let w = window(n + a, plus);
+            let e = &plan.cross[t];
+            for (p, wp) in w.iter().enumerate() {
+                let coef = e[0][p] * vc[0] + e[1][p] * vc[1] + e[2][p] * vc[2] + e[3][p] * vc[3];
+                cross += coef * wp;
+            }
+        }
+        let mut own = 0.0;
+        for (c1, row) in plan.own.iter().enumerate() {
+            own += vc[c1] * (row[0] * vc[0] + row[1] * vc[1] + row[2] * vc[2] + row[3] * vc[3]);
+        }
+        acc += 2.0 * cross + own;
+    }
+    acc
+}
+
 /// G(m) by the exact O(N)-per-τ form: (Σ of mean squares, subsequences used).
 fn reflected_mean_square_fast(v: Seq, gaps: &Gaps, m: usize) -> (f64, usize) {
     let count = v.len() - 3 * m + 1;
@@ -708,7 +789,8 @@ fn reflected_mean_square_fast(v: Seq, gaps: &Gaps, m: usize) -> (f64, usize) {
                 while e < hi && v.clear(gaps, e, e + 3 * m - 1) {
                     e += 1;
                 }
-                s += run_sum(&plan, v, n, e - n, scr);
+                let stored = e - n + 3 * m - 1 <= BIG_RUN_LEN;
+                s += run_sum(&plan, v, n, e - n, scr, stored);
                 used += e - n;
                 n = e;
             }
@@ -735,6 +817,57 @@ mod tests {
             }
         }
         s
+    }
+
+    /// Both ways of the fast form's window sums — stored prefix arrays
+    /// (short runs) and running cursors (runs longer than 2^18 samples,
+    /// which the tests' records never reach through `compute`) — equal the
+    /// direct SP 1065 definition (`reference::reflected_mean_square`) to
+    /// 1e-10 relative, on phase and on its frequency steps, on random-walk
+    /// FM with a frequency offset and on white plus random-walk phase.
+    #[test]
+    fn stored_and_running_window_sums_equal_the_definition() {
+        let mut rng = ChaCha8Rng::seed_from_u64(12);
+        let (mut f, mut ph, mut w) = (0.0, 0.0, 0.0);
+        let rw: Vec<f64> = (0..700)
+            .map(|_| {
+                f += rng.gen_range(-1.0..1.0) * 1e-12;
+                ph += f + 3e-9;
+                ph
+            })
+            .collect();
+        let wp: Vec<f64> = (0..650)
+            .map(|_| {
+                w += rng.gen_range(-1.0..1.0) * 1e-9;
+                w + rng.gen_range(-1.0..1.0) * 3e-9
+            })
+            .collect();
+        for x in [rw, wp] {
+            let y: Vec<f64> = x.windows(2).map(|p| (p[1] - p[0]) / 2.0).collect();
+            for (seq, direct) in [(Seq::Values(&x), &x), (Seq::Steps(&x, 2.0), &y)] {
+                for m in [8usize, 13, 40, seq.len() / 3] {
+                    let (want, count) =
+                        crate::deviation::reference::reflected_mean_square(direct, m);
+                    let plan = Plan::new(m);
+                    let norm = (m * m * 6 * m) as f64;
+                    for stored in [true, false] {
+                        // Runs of 3m subsequences, as `reflected_mean_square_fast`.
+                        let mut scr = RunScratch::default();
+                        let got = (0..count)
+                            .step_by(3 * m)
+                            .map(|a| {
+                                run_sum(&plan, seq, a, (3 * m).min(count - a), &mut scr, stored)
+                            })
+                            .sum::<f64>()
+                            / norm;
+                        assert!(
+                            (got - want).abs() <= 1e-10 * want.abs(),
+                            "m={m} stored={stored}: {got} vs {want}"
+                        );
+                    }
+                }
+            }
+        }
     }
 
     /// The quadratic form of one subsequence equals the direct SP 1065
