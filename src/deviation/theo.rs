@@ -235,12 +235,12 @@ fn lower_pairs(a: &[f64], b: &[f64], m: usize, lo: usize, hi: usize) -> f64 {
     }
     if hi - lo <= 64 {
         let mut s = 0.0;
-        for u in lo..hi {
+        for (u, au) in a.iter().enumerate().take(hi).skip(lo) {
             let mut inner = 0.0;
             for (w, bw) in b.iter().enumerate().take(hi).skip(u) {
                 inner += triangle_weight(u + w, m) * bw;
             }
-            s += a[u] * inner;
+            s += au * inner;
         }
         return s;
     }
