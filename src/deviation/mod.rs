@@ -14,6 +14,7 @@ use crate::record::PhaseRecord;
 use rayon::prelude::*;
 
 mod allan;
+mod correlate;
 mod gaps;
 mod hadamard;
 pub(crate) mod modtotal;

@@ -48,7 +48,7 @@ use rayon::prelude::*;
 
 /// Error-free sum: a + b = s + e exactly (Knuth's TwoSum).
 #[inline(always)]
-fn two_sum(a: f64, b: f64) -> (f64, f64) {
+pub(crate) fn two_sum(a: f64, b: f64) -> (f64, f64) {
     let s = a + b;
     let bb = s - a;
     let e = (a - (s - bb)) + (b - bb);
@@ -86,9 +86,52 @@ impl PrefixSums {
     }
 }
 
-/// G(m) of the module notes on sequence v with its gap index: (Σ over the
-/// subsequences used of their mean squares, number used).
-pub(crate) fn reflected_mean_square(v: &[f64], gaps: &Gaps, m: usize) -> (f64, usize) {
+/// The sequence v of the module notes, read without a copy: the phase
+/// itself (MTOT, TTOT) or its fractional frequency y_i = (x_{i+1} − x_i)/τ0
+/// (HTOT), computed where it is read, so that HTOT holds no frequency copy
+/// of the record.
+#[derive(Clone, Copy)]
+pub(crate) enum Seq<'a> {
+    /// v_i = x_i.
+    Values(&'a [f64]),
+    /// v_i = (x_{i+1} − x_i)/τ0 on phase x with sampling interval τ0.
+    Steps(&'a [f64], f64),
+}
+
+impl Seq<'_> {
+    /// Number of values.
+    #[inline]
+    pub(crate) fn len(&self) -> usize {
+        match *self {
+            Seq::Values(v) => v.len(),
+            Seq::Steps(x, _) => x.len().saturating_sub(1),
+        }
+    }
+
+    /// v_i.
+    #[inline(always)]
+    pub(crate) fn at(&self, i: usize) -> f64 {
+        match *self {
+            Seq::Values(v) => v[i],
+            Seq::Steps(x, tau0) => (x[i + 1] - x[i]) / tau0,
+        }
+    }
+
+    /// True when v_a … v_b holds no gap, given the gap index of the slice
+    /// behind the sequence (for steps, x_a … x_{b+1}).
+    #[inline]
+    pub(crate) fn clear(&self, gaps: &Gaps, a: usize, b: usize) -> bool {
+        match *self {
+            Seq::Values(_) => gaps.clear(a, b),
+            Seq::Steps(..) => gaps.clear(a, b + 1),
+        }
+    }
+}
+
+/// G(m) of the module notes on sequence v with the gap index of the slice
+/// behind it: (Σ over the subsequences used of their mean squares, number
+/// used).
+pub(crate) fn reflected_mean_square(v: Seq, gaps: &Gaps, m: usize) -> (f64, usize) {
     let len = v.len();
     if m == 0 || len < 3 * m {
         return (0.0, 0);
@@ -114,15 +157,15 @@ pub(crate) fn reflected_mean_square(v: &[f64], gaps: &Gaps, m: usize) -> (f64, u
                 let mut s = 0.0;
                 let mut used = 0;
                 for n in b * BLOCK..((b + 1) * BLOCK).min(count) {
-                    if gaps.clear(n, n + l3 - 1) {
-                        let win = &v[n..n + l3];
+                    if v.clear(gaps, n, n + l3 - 1) {
+                        let (first, last) = (v.at(n), v.at(n + l3 - 1));
                         let slope = if l3 > 1 {
-                            (win[l3 - 1] - win[0]) / (l3 - 1) as f64
+                            (last - first) / (l3 - 1) as f64
                         } else {
                             0.0
                         };
-                        for (k, (wk, &x)) in w.iter_mut().zip(win).enumerate() {
-                            *wk = (x - win[0]) - slope * k as f64;
+                        for (k, wk) in w.iter_mut().enumerate() {
+                            *wk = (v.at(n + k) - first) - slope * k as f64;
                         }
                         let mut q = 0.0;
                         for (a, row) in r.chunks_exact(l3).enumerate() {
@@ -147,7 +190,7 @@ pub(crate) fn reflected_mean_square(v: &[f64], gaps: &Gaps, m: usize) -> (f64, u
 /// Valid for 1 ≤ m ≤ N/3.
 pub(crate) fn mtot(p: &Prepared, m: usize) -> Option<Estimate> {
     let tau = m as f64 * p.tau0;
-    let (s, used) = reflected_mean_square(p.x, &p.gaps, m);
+    let (s, used) = reflected_mean_square(Seq::Values(p.x), &p.gaps, m);
     finish(tau, m, s, 2.0 * tau * tau, used)
 }
 
@@ -162,17 +205,11 @@ pub(crate) fn ttot(p: &Prepared, m: usize) -> Option<Estimate> {
 /// Hadamard total deviation (NIST SP 1065 §5.2.14): Htotvar(τ) = G(m)/6 with
 /// G from the fractional frequency y_i = (x_{i+1} − x_i)/τ0 (module notes):
 /// the half-average detrend removes a linear frequency drift from each
-/// subsequence. Valid for 1 ≤ m ≤ (N−1)/3.
+/// subsequence. Valid for 1 ≤ m ≤ (N−1)/3. The frequencies are computed
+/// where they are read ([`Seq::Steps`]): no copy of the record.
 pub(crate) fn htot(p: &Prepared, m: usize) -> Option<Estimate> {
-    let y: Vec<f64> = p.x.windows(2).map(|w| (w[1] - w[0]) / p.tau0).collect();
-    htot_on_frequency(&y, p.tau0, m)
-}
-
-/// HTOT on a fractional-frequency sequence (τ = m·τ0).
-pub(crate) fn htot_on_frequency(y: &[f64], tau0: f64, m: usize) -> Option<Estimate> {
-    let gaps = Gaps::new(y);
-    let (s, used) = reflected_mean_square(y, &gaps, m);
-    finish(m as f64 * tau0, m, s, 6.0, used)
+    let (s, used) = reflected_mean_square(Seq::Steps(p.x, p.tau0), &p.gaps, m);
+    finish(m as f64 * p.tau0, m, s, 6.0, used)
 }
 
 /// The definition of the module notes as a quadratic form: one
@@ -459,28 +496,75 @@ impl Plan {
     }
 }
 
-/// Scratch for one run of consecutive subsequences.
+/// Scratch for one run of consecutive subsequences: the local V and its
+/// prefix sums over the samples of one parity (2 values a sample of the
+/// run; the window sums Σ t^p·V_t are running sums, not arrays).
+/// Runs up to [`BIG_RUN_LEN`] samples also keep the prefix sums
+/// P_p(t) = Σ_{s<t} s^p·V_s as arrays (`m0`, `m1`, `m2`: fewer operations
+/// a subsequence than the running cursors, at 3 more values a sample).
 #[derive(Default)]
 struct RunScratch {
     vv: Vec<f64>,
+    par: Vec<f64>,
     m0: Vec<f64>,
     m1: Vec<f64>,
     m2: Vec<f64>,
-    par: Vec<f64>,
+}
+
+/// Running compensated sums P_p(t) = Σ_{s<t} s^p·V_s, p = 0, 1, 2, at a
+/// cursor t that moves forward one sample at a time (TwoSum chains: the
+/// difference of two cursors is the window sum to about one rounding of
+/// its largest partial sum).
+#[derive(Clone, Copy, Default)]
+struct Cursor {
+    t: usize,
+    hi: [f64; 3],
+    lo: [f64; 3],
+}
+
+impl Cursor {
+    #[inline(always)]
+    fn advance(&mut self, vv: &[f64]) {
+        let x = vv[self.t];
+        let tf = self.t as f64;
+        for (p, v) in [x, x * tf, x * tf * tf].into_iter().enumerate() {
+            let (a, e) = two_sum(self.hi[p], v);
+            self.hi[p] = a;
+            self.lo[p] += e;
+        }
+        self.t += 1;
+    }
+
+    /// P_p(b) − P_p(a) for this cursor at b and `a` at a.
+    #[inline(always)]
+    fn minus(&self, a: &Cursor) -> [f64; 3] {
+        std::array::from_fn(|p| (self.hi[p] - a.hi[p]) + (self.lo[p] - a.lo[p]))
+    }
 }
 
 /// Σ_{n} Σ_{j} (m·z_j(n))² over the subsequences n = start … start+count−1
 /// (all clear of gaps), by the exact fast form of the notes above.
-fn run_sum(plan: &Plan, v: &[f64], start: usize, count: usize, s: &mut RunScratch) -> f64 {
+///
+/// `stored`: the window sums Σ t^p·V_t from stored prefix arrays (short
+/// runs) or from running cursors (long runs: no record-sized arrays beyond
+/// V and its parity sums). The two give the same sums up to rounding; the
+/// caller chooses by the run's length alone.
+fn run_sum(
+    plan: &Plan,
+    v: Seq,
+    start: usize,
+    count: usize,
+    s: &mut RunScratch,
+    stored: bool,
+) -> f64 {
     let m = plan.m;
     let l3 = 3 * m;
     let len = count + l3 - 1; // samples the run reads
-    let seg = &v[start..start + len];
     let _guard = (len > BIG_RUN_LEN).then(|| BIG_RUN.lock().unwrap_or_else(|e| e.into_inner()));
     // Local samples less an affine function of time.
-    let alpha = seg[0];
+    let alpha = v.at(start);
     let beta = if len > 1 {
-        (seg[len - 1] - seg[0]) / (len - 1) as f64
+        (v.at(start + len - 1) - alpha) / (len - 1) as f64
     } else {
         0.0
     };
@@ -489,62 +573,34 @@ fn run_sum(plan: &Plan, v: &[f64], start: usize, count: usize, s: &mut RunScratc
     s.vv.reserve(len + 1);
     let (mut hi, mut lo) = (0.0f64, 0.0f64);
     s.vv.push(0.0);
-    for (i, &x) in seg.iter().enumerate() {
-        let (a, e) = two_sum(hi, x - alpha - beta * i as f64);
+    for i in 0..len {
+        let (a, e) = two_sum(hi, v.at(start + i) - alpha - beta * i as f64);
         hi = a;
         lo += e;
         s.vv.push(hi + lo);
     }
     let vv = &s.vv;
-    // Prefix sums of t^p·V_t (p = 0, 1, 2) and of V over the samples of one
-    // parity, built in one pass with compensated (TwoSum) chains and each
-    // stored rounded to one f64 (so a stored prefix carries one rounding,
-    // not an accumulated error).
+    // Prefix sums of V over the samples of one parity, compensated
+    // (TwoSum chains) and each stored rounded to one f64.
     let len_v = vv.len();
-    for a in [&mut s.m0, &mut s.m1, &mut s.m2, &mut s.par] {
-        a.clear();
-        a.reserve(len_v + 2);
-        a.push(0.0);
-    }
+    s.par.clear();
+    s.par.reserve(len_v + 2);
     s.par.push(0.0);
-    let mut h = [0.0f64; 5];
-    let mut l = [0.0f64; 5];
+    s.par.push(0.0);
+    let mut h = [0.0f64; 2];
+    let mut l = [0.0f64; 2];
     for (t, &x) in vv.iter().enumerate() {
-        let tf = t as f64;
-        let par = 3 + (t & 1);
-        for (j, v) in [(0usize, x), (1, x * tf), (2, x * tf * tf), (par, x)] {
-            let (a, e) = two_sum(h[j], v);
-            h[j] = a;
-            l[j] += e;
-        }
-        s.m0.push(h[0] + l[0]);
-        s.m1.push(h[1] + l[1]);
-        s.m2.push(h[2] + l[2]);
+        let j = t & 1;
+        let (a, e) = two_sum(h[j], x);
+        h[j] = a;
+        l[j] += e;
         // par[t + 2] = Σ_{u ≤ t, u ≡ t (mod 2)} V_u.
-        s.par.push(h[par] + l[par]);
+        s.par.push(h[j] + l[j]);
     }
-    let (m0, m1, m2, par) = (&s.m0, &s.m1, &s.m2, &s.par);
+    let par = &s.par;
 
     let r_max = m as i64 - 1;
     let cnt = count as i64;
-    // Σ_r r^p V_{u±r} for p = 0, 1, 2.
-    let window = |u: usize, plus: bool| -> [f64; 3] {
-        if plus {
-            let (a, b) = (u, u + m);
-            let d0 = m0[b] - m0[a];
-            let d1 = m1[b] - m1[a];
-            let d2 = m2[b] - m2[a];
-            let uf = u as f64;
-            [d0, d1 - uf * d0, d2 - 2.0 * uf * d1 + uf * uf * d0]
-        } else {
-            let (a, b) = (u + 1 - m, u + 1);
-            let d0 = m0[b] - m0[a];
-            let d1 = m1[b] - m1[a];
-            let d2 = m2[b] - m2[a];
-            let uf = u as f64;
-            [d0, uf * d0 - d1, uf * uf * d0 - 2.0 * uf * d1 + d2]
-        }
-    };
     // Moving × moving: one pass per pair of distinct terms.
     let nt = plan.terms.len();
     let mut total = 0.0;
@@ -593,6 +649,103 @@ fn run_sum(plan: &Plan, v: &[f64], start: usize, count: usize, s: &mut RunScratc
     }
     // With the fixed part F_b(n, r) = Σ_c V_{n+offset c}·(φ_b[c][0] + φ_b[c][1]·r + φ_b[c][2]·r²),
     // summed over the blocks through the aggregated tables of the plan.
+    // The window sums Σ_r r^p V_{u±r} (u = n + A) come from the running
+    // sums P_p of four cursors at n, n + m, n + 2m, n + 3m (the "plus"
+    // windows [u, u+m) read P at n + A and n + A + m, the "minus" windows
+    // (u−m, u] at n + A + 1 − m and n + A + 1), each moved one sample per n.
+    if stored {
+        let (m0, m1, m2) = (&mut s.m0, &mut s.m1, &mut s.m2);
+        let acc = fixed_part_stored(plan, &s.vv, count, [m0, m1, m2]);
+        return total + acc;
+    }
+    let mut cur = [Cursor::default(); 4];
+    {
+        let mut c = Cursor::default();
+        for (j, slot) in cur.iter_mut().enumerate() {
+            while c.t < j * m {
+                c.advance(vv);
+            }
+            *slot = c;
+        }
+    }
+    let mut acc = 0.0;
+    for n in 0..count {
+        let old = cur;
+        for c in &mut cur {
+            c.advance(vv);
+        }
+        let uf0 = n as f64;
+        let vc: [f64; 4] = std::array::from_fn(|c| vv[n + plan.offsets[c]]);
+        let mut cross = 0.0;
+        for (t, &(a, plus)) in plan.terms.iter().enumerate() {
+            let j = a / m;
+            let uf = uf0 + a as f64;
+            let w = if plus {
+                // [u, u + m): cursors j (at n + A) and j + 1 (at n + A + m).
+                let [d0, d1, d2] = old[j + 1].minus(&old[j]);
+                [d0, d1 - uf * d0, d2 - 2.0 * uf * d1 + uf * uf * d0]
+            } else {
+                // (u − m, u]: cursors j − 1 and j, one sample on.
+                let [d0, d1, d2] = cur[j].minus(&cur[j - 1]);
+                [d0, uf * d0 - d1, uf * uf * d0 - 2.0 * uf * d1 + d2]
+            };
+            let e = &plan.cross[t];
+            for (p, wp) in w.iter().enumerate() {
+                let coef = e[0][p] * vc[0] + e[1][p] * vc[1] + e[2][p] * vc[2] + e[3][p] * vc[3];
+                cross += coef * wp;
+            }
+        }
+        let mut own = 0.0;
+        for (c1, row) in plan.own.iter().enumerate() {
+            own += vc[c1] * (row[0] * vc[0] + row[1] * vc[1] + row[2] * vc[2] + row[3] * vc[3]);
+        }
+        acc += 2.0 * cross + own;
+    }
+    if len > BIG_RUN_LEN {
+        // Give a record-sized scratch back before the next long run may
+        // take the lock (another thread's scratch would otherwise stay).
+        *s = RunScratch::default();
+    }
+    total + acc
+}
+
+/// The fixed part of [`run_sum`] with the window sums from stored prefix
+/// arrays P_p(t) = Σ_{s<t} s^p·V_s (built here in the scratch `pre`, each
+/// a compensated TwoSum chain stored rounded to one f64).
+fn fixed_part_stored(plan: &Plan, vv: &[f64], count: usize, pre: [&mut Vec<f64>; 3]) -> f64 {
+    let m = plan.m;
+    let [m0, m1, m2] = pre;
+    for a in [&mut *m0, &mut *m1, &mut *m2] {
+        a.clear();
+        a.reserve(vv.len() + 1);
+        a.push(0.0);
+    }
+    let mut h = [0.0f64; 3];
+    let mut l = [0.0f64; 3];
+    for (t, &x) in vv.iter().enumerate() {
+        let tf = t as f64;
+        for (j, v) in [x, x * tf, x * tf * tf].into_iter().enumerate() {
+            let (a, e) = two_sum(h[j], v);
+            h[j] = a;
+            l[j] += e;
+        }
+        m0.push(h[0] + l[0]);
+        m1.push(h[1] + l[1]);
+        m2.push(h[2] + l[2]);
+    }
+    // Σ_r r^p V_{u±r} for p = 0, 1, 2.
+    let window = |u: usize, plus: bool| -> [f64; 3] {
+        let (a, b) = if plus { (u, u + m) } else { (u + 1 - m, u + 1) };
+        let d0 = m0[b] - m0[a];
+        let d1 = m1[b] - m1[a];
+        let d2 = m2[b] - m2[a];
+        let uf = u as f64;
+        if plus {
+            [d0, d1 - uf * d0, d2 - 2.0 * uf * d1 + uf * uf * d0]
+        } else {
+            [d0, uf * d0 - d1, uf * uf * d0 - 2.0 * uf * d1 + d2]
+        }
+    };
     let mut acc = 0.0;
     for n in 0..count {
         let vc: [f64; 4] = std::array::from_fn(|c| vv[n + plan.offsets[c]]);
@@ -611,11 +764,11 @@ fn run_sum(plan: &Plan, v: &[f64], start: usize, count: usize, s: &mut RunScratc
         }
         acc += 2.0 * cross + own;
     }
-    total + acc
+    acc
 }
 
 /// G(m) by the exact O(N)-per-τ form: (Σ of mean squares, subsequences used).
-fn reflected_mean_square_fast(v: &[f64], gaps: &Gaps, m: usize) -> (f64, usize) {
+fn reflected_mean_square_fast(v: Seq, gaps: &Gaps, m: usize) -> (f64, usize) {
     let count = v.len() - 3 * m + 1;
     let plan = Plan::new(m);
     let block = 3 * m;
@@ -628,15 +781,16 @@ fn reflected_mean_square_fast(v: &[f64], gaps: &Gaps, m: usize) -> (f64, usize) 
             let mut used = 0;
             let mut n = lo;
             while n < hi {
-                if !gaps.clear(n, n + 3 * m - 1) {
+                if !v.clear(gaps, n, n + 3 * m - 1) {
                     n += 1;
                     continue;
                 }
                 let mut e = n + 1;
-                while e < hi && gaps.clear(e, e + 3 * m - 1) {
+                while e < hi && v.clear(gaps, e, e + 3 * m - 1) {
                     e += 1;
                 }
-                s += run_sum(&plan, v, n, e - n, scr);
+                let stored = e - n + 3 * m - 1 <= BIG_RUN_LEN;
+                s += run_sum(&plan, v, n, e - n, scr, stored);
                 used += e - n;
                 n = e;
             }
@@ -663,6 +817,57 @@ mod tests {
             }
         }
         s
+    }
+
+    /// Both ways of the fast form's window sums — stored prefix arrays
+    /// (short runs) and running cursors (runs longer than 2^18 samples,
+    /// which the tests' records never reach through `compute`) — equal the
+    /// direct SP 1065 definition (`reference::reflected_mean_square`) to
+    /// 1e-10 relative, on phase and on its frequency steps, on random-walk
+    /// FM with a frequency offset and on white plus random-walk phase.
+    #[test]
+    fn stored_and_running_window_sums_equal_the_definition() {
+        let mut rng = ChaCha8Rng::seed_from_u64(12);
+        let (mut f, mut ph, mut w) = (0.0, 0.0, 0.0);
+        let rw: Vec<f64> = (0..700)
+            .map(|_| {
+                f += rng.gen_range(-1.0..1.0) * 1e-12;
+                ph += f + 3e-9;
+                ph
+            })
+            .collect();
+        let wp: Vec<f64> = (0..650)
+            .map(|_| {
+                w += rng.gen_range(-1.0..1.0) * 1e-9;
+                w + rng.gen_range(-1.0..1.0) * 3e-9
+            })
+            .collect();
+        for x in [rw, wp] {
+            let y: Vec<f64> = x.windows(2).map(|p| (p[1] - p[0]) / 2.0).collect();
+            for (seq, direct) in [(Seq::Values(&x), &x), (Seq::Steps(&x, 2.0), &y)] {
+                for m in [8usize, 13, 40, seq.len() / 3] {
+                    let (want, count) =
+                        crate::deviation::reference::reflected_mean_square(direct, m);
+                    let plan = Plan::new(m);
+                    let norm = (m * m * 6 * m) as f64;
+                    for stored in [true, false] {
+                        // Runs of 3m subsequences, as `reflected_mean_square_fast`.
+                        let mut scr = RunScratch::default();
+                        let got = (0..count)
+                            .step_by(3 * m)
+                            .map(|a| {
+                                run_sum(&plan, seq, a, (3 * m).min(count - a), &mut scr, stored)
+                            })
+                            .sum::<f64>()
+                            / norm;
+                        assert!(
+                            (got - want).abs() <= 1e-10 * want.abs(),
+                            "m={m} stored={stored}: {got} vs {want}"
+                        );
+                    }
+                }
+            }
+        }
     }
 
     /// The quadratic form of one subsequence equals the direct SP 1065

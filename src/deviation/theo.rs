@@ -79,10 +79,16 @@ pub(crate) fn theo1_sum(p: &Prepared, m: usize) -> (f64, usize) {
             .collect();
         let sums: Vec<f64> = blocks
             .par_iter()
-            .map_init(
-                rustfft::FftPlanner::<f64>::new,
-                |planner, &(start, count)| theo1_block(&x[start..start + count + m], m, planner),
-            )
+            .map(|&(start, count)| {
+                let seg = &x[start..start + count + m];
+                if count <= DIRECT_TERMS {
+                    (1..=m / 2)
+                        .map(|k| sum_sq_4(seg, [0, k, m - k, m], count) / k as f64)
+                        .sum()
+                } else {
+                    theo1_block(seg, m)
+                }
+            })
             .collect();
         return (sums.iter().sum(), used);
     }
@@ -99,12 +105,10 @@ pub(crate) fn theo1_sum(p: &Prepared, m: usize) -> (f64, usize) {
     (per_k.iter().sum(), used)
 }
 
-/// FFT size from which a block is computed alone (see [`theo1_block`]).
-const BIG_FFT: usize = 1 << 18;
-
-/// Held while a block of FFT size ≥ [`BIG_FFT`] is computed, so that the
-/// τ computed in parallel do not hold several record-sized buffers at once.
-static BIG_BLOCK: std::sync::Mutex<()> = std::sync::Mutex::new(());
+/// A block of at most this many terms is summed directly (O(terms·m/2),
+/// as cheap as its FFTs and without their memory): the largest factors,
+/// where a record holds few terms.
+const DIRECT_TERMS: usize = 32;
 
 /// Theo1 factors from this one on use the correlation form
 /// ([`theo1_block`]); below it the direct sum is as fast.
@@ -134,112 +138,70 @@ pub(crate) const BLOCK_FORM_FROM: usize = 192;
 /// are of a local, detrended y over 4m samples, so the cancellation is
 /// bounded (tested to 1e-10 relative against the direct sum, random-walk FM
 /// included).
-fn theo1_block(seg: &[f64], m: usize, planner: &mut rustfft::FftPlanner<f64>) -> f64 {
-    use rustfft::num_complex::Complex;
+fn theo1_block(seg: &[f64], m: usize) -> f64 {
     let len = seg.len();
     let slope = (seg[len - 1] - seg[0]) / (len - 1) as f64;
-    let y: Vec<f64> = seg
-        .iter()
-        .enumerate()
-        .map(|(t, &v)| (v - seg[0]) - slope * t as f64)
-        .collect();
-    // A large block takes the big-block lock (one at a time across the τ
-    // computed in parallel) and its own planner (its twiddles freed after).
-    let size = (len + m + 1).next_power_of_two();
-    let _guard = (size >= BIG_FFT).then(|| BIG_BLOCK.lock().unwrap_or_else(|e| e.into_inner()));
-    let mut own_planner;
-    let planner = if size >= BIG_FFT {
-        own_planner = rustfft::FftPlanner::<f64>::new();
-        &mut own_planner
-    } else {
-        planner
-    };
-    // R(ℓ), ℓ = 0 … m (zero-padded: no wrap-around). Only forward plans:
-    // the inverse of a real even spectrum P is the forward transform of P
-    // (over the size), read at index 0 and size − ℓ.
-    let mut buf: Vec<Complex<f64>> = Vec::with_capacity(size);
-    buf.extend(y.iter().map(|&v| Complex::new(v, 0.0)));
-    buf.resize(size, Complex::new(0.0, 0.0));
-    let fwd = planner.plan_fft_forward(size);
-    fwd.process(&mut buf);
-    for c in &mut buf {
-        *c = Complex::new(c.norm_sqr(), 0.0);
-    }
-    fwd.process(&mut buf);
-    let scale = 1.0 / size as f64;
-    let r: Vec<f64> = (0..=m).map(|l| buf[(size - l) % size].re * scale).collect();
-    drop(buf);
-    let (hd, tl) = head_tail_corr(&y, m, planner);
-    let sq: Vec<f64> = y.iter().map(|v| v * v).collect();
-    let q = super::modtotal::PrefixSums::new(&sq);
-    drop(sq);
-    block_sum_given(&y, &r, &hd, &tl, &q, m, planner)
+    let y = |t: usize| (seg[t] - seg[0]) - slope * t as f64;
+    // R(ℓ), ℓ = 0 … m, by one real FFT of the block (zero-padded).
+    let r = super::correlate::autocorrelation(len, y, m);
+    block_sum_given(&y, len, &r, m)
 }
 
-/// hd(ℓ), tl(ℓ), ℓ = 0 … m: the autocorrelations of the first m samples of
-/// y and of its last m, by one FFT of size ≥ 2m + 1 (head in the real part,
-/// tail in the imaginary part).
-fn head_tail_corr(
-    y: &[f64],
-    m: usize,
-    planner: &mut rustfft::FftPlanner<f64>,
-) -> (Vec<f64>, Vec<f64>) {
-    use rustfft::num_complex::Complex;
-    let n = y.len() - m;
-    let size2 = (2 * m + 1).next_power_of_two();
-    let mut buf = vec![Complex::new(0.0, 0.0); size2];
-    // hd and tl at once: head in the real part, tail in the imaginary part;
-    // their spectra A, B from Z(k) and Z(−k), then |A|² + i|B|² back
-    // (inverse as conj ∘ forward ∘ conj), in the same buffer.
-    for t in 0..m {
-        buf[t] = Complex::new(y[t], y[n + t]);
+/// Σ_{t=a}^{a+n−1} y_t² as a compensated running sum (hi, lo).
+fn square_sum(y: &impl Fn(usize) -> f64, a: usize, n: usize) -> (f64, f64) {
+    let (mut hi, mut lo) = (0.0f64, 0.0f64);
+    for t in a..a + n {
+        let v = y(t);
+        let (s, e) = super::modtotal::two_sum(hi, v * v);
+        hi = s;
+        lo += e;
     }
-    let fwd2 = planner.plan_fft_forward(size2);
-    fwd2.process(&mut buf);
-    let spectra = |zk: Complex<f64>, zc: Complex<f64>| {
-        let a = (zk + zc) * 0.5;
-        let b = (zk - zc) * Complex::new(0.0, -0.5);
-        // conj of |A|² + i|B|² for the inverse by the forward transform.
-        Complex::new(a.norm_sqr(), -b.norm_sqr())
-    };
-    for k in 0..=size2 / 2 {
-        let j = (size2 - k) % size2;
-        let (zk, zj) = (buf[k], buf[j]);
-        buf[k] = spectra(zk, zj.conj());
-        buf[j] = spectra(zj, zk.conj());
-    }
-    fwd2.process(&mut buf);
-    let scale2 = 1.0 / size2 as f64;
-    let hd: Vec<f64> = buf[..=m].iter().map(|c| c.re * scale2).collect();
-    let tl: Vec<f64> = buf[..=m].iter().map(|c| -c.im * scale2).collect();
-    (hd, tl)
+    (hi, lo)
 }
 
-/// The rest of [`theo1_block`] once y (n + m samples), R(ℓ) of the whole
-/// y (ℓ ≤ m at least), the head and tail autocorrelations hd, tl (ℓ ≤ m)
-/// and the prefix sums of y² are known.
-fn block_sum_given(
-    y: &[f64],
-    r: &[f64],
-    hd: &[f64],
-    tl: &[f64],
-    q: &super::modtotal::PrefixSums,
-    m: usize,
-    planner: &mut rustfft::FftPlanner<f64>,
-) -> f64 {
-    let n = y.len() - m;
+/// Add v to the compensated sum (hi, lo).
+#[inline]
+fn add_to(acc: &mut (f64, f64), v: f64) {
+    let (s, e) = super::modtotal::two_sum(acc.0, v);
+    acc.0 = s;
+    acc.1 += e;
+}
+
+/// The rest of [`theo1_block`] once R(ℓ) (ℓ ≤ m at least) of y (len =
+/// n + m samples, y_t = `y(t)`) is known: the head and tail
+/// autocorrelations hd + tl (ℓ ≤ m, one real FFT of size ≥ 2m, from the
+/// sum of their power spectra: only their sum enters), the windowed sums of
+/// squares Σ_{i<n} y_{a+i}² (running compensated sums over a = k and
+/// a = m − k) and the two triangle sums.
+fn block_sum_given(y: &impl Fn(usize) -> f64, len: usize, r: &[f64], m: usize) -> f64 {
+    let n = len - m;
     let half = m / 2;
-    let sqw = |a: usize| q.sum(a, a + n);
-    let (s0, sm) = (sqw(0), sqw(m));
+    let head: Vec<f64> = (0..m).map(y).collect();
+    let tail: Vec<f64> = (n..len).map(y).collect();
+    let ht = super::correlate::autocorrelation_sum(&head, &tail, m);
+    let sum = |a: (f64, f64)| a.0 + a.1;
+    let s0 = sum(square_sum(y, 0, n));
+    let sm = sum(square_sum(y, m, n));
+    // up = Σ_{i<n} y_{k+i}², down = Σ_{i<n} y_{m−k+i}², k = 1 … m/2.
+    let mut up = square_sum(y, 1, n);
+    let mut down = square_sum(y, m - 1, n);
     let mut acc = 0.0;
     for k in 1..=half {
-        let d1 = sqw(k) + s0 - 2.0 * (r[k] - tl[k]);
-        let d2 = sm + sqw(m - k) - 2.0 * (r[k] - hd[k]);
-        let x = (r[m - k] - hd[m - k]) - r[m - 2 * k] - r[m] + (r[m - k] - tl[m - k]);
-        acc += (d1 + d2 - 2.0 * x) / k as f64;
+        if k > 1 {
+            let (a, b) = (y(k - 1), y(k - 1 + n));
+            add_to(&mut up, b * b);
+            add_to(&mut up, -(a * a));
+            let (c, d) = (y(m - k), y(m - k + n));
+            add_to(&mut down, c * c);
+            add_to(&mut down, -(d * d));
+        }
+        let d12 = sum(up) + s0 + sm + sum(down) - 2.0 * (2.0 * r[k] - ht[k]);
+        let x = 2.0 * r[m - k] - ht[m - k] - r[m - 2 * k] - r[m];
+        acc += (d12 - 2.0 * x) / k as f64;
     }
-    let tail: Vec<f64> = y[n..].iter().rev().copied().collect();
-    let tri = head_triangle(&y[..m], planner) + head_triangle(&tail, planner);
+    let rev: Vec<f64> = tail.iter().rev().copied().collect();
+    drop(tail);
+    let tri = head_triangle(&head) + head_triangle(&rev);
     acc - 2.0 * tri
 }
 
@@ -249,90 +211,65 @@ fn block_sum_given(
 /// Σ_{u≤w} h(u+w)·z_u·b_w, h(s) = 2/(s+1) for odd s < m, else 0: split
 /// [0, m) in halves, the pairs across the split are one convolution (FFT),
 /// the pairs within each half recurse. O(m·log²m).
-fn head_triangle(z: &[f64], planner: &mut rustfft::FftPlanner<f64>) -> f64 {
+fn head_triangle(z: &[f64]) -> f64 {
     let m = z.len();
     let b: Vec<f64> = z.iter().rev().copied().collect();
-    let h: Vec<f64> = (0..2 * m)
-        .map(|s| {
-            if s % 2 == 1 && s < m {
-                2.0 / (s + 1) as f64
-            } else {
-                0.0
-            }
-        })
-        .collect();
-    lower_pairs(z, &b, &h, 0, m, planner)
+    lower_pairs(z, &b, m, 0, m)
 }
 
-/// Σ_{lo ≤ u ≤ w < hi} h(u+w)·a_u·b_w with h(s) = 0 for s ≥ h.len() / 2
-/// (see [`head_triangle`]).
-fn lower_pairs(
-    a: &[f64],
-    b: &[f64],
-    h: &[f64],
-    lo: usize,
-    hi: usize,
-    planner: &mut rustfft::FftPlanner<f64>,
-) -> f64 {
-    let reach = h.len() / 2; // h(s) = 0 from s = reach on
-    if 2 * lo >= reach || hi <= lo {
+/// h(s) of [`head_triangle`]: 2/(s+1) for odd s < m, else 0.
+#[inline]
+fn triangle_weight(s: usize, m: usize) -> f64 {
+    if s % 2 == 1 && s < m {
+        2.0 / (s + 1) as f64
+    } else {
+        0.0
+    }
+}
+
+/// Σ_{lo ≤ u ≤ w < hi} h(u+w)·a_u·b_w with h of [`triangle_weight`]
+/// (zero from s = m on; see [`head_triangle`]).
+fn lower_pairs(a: &[f64], b: &[f64], m: usize, lo: usize, hi: usize) -> f64 {
+    if 2 * lo >= m || hi <= lo {
         return 0.0;
     }
     if hi - lo <= 64 {
         let mut s = 0.0;
-        for u in lo..hi {
+        for (u, au) in a.iter().enumerate().take(hi).skip(lo) {
             let mut inner = 0.0;
-            for w in u..hi {
-                inner += h[u + w] * b[w];
+            for (w, bw) in b.iter().enumerate().take(hi).skip(u) {
+                inner += triangle_weight(u + w, m) * bw;
             }
-            s += a[u] * inner;
+            s += au * inner;
         }
         return s;
     }
     let mid = (lo + hi) / 2;
-    let mut s = lower_pairs(a, b, h, lo, mid, planner) + lower_pairs(a, b, h, mid, hi, planner);
-    if lo + mid < reach {
-        s += cross_pairs(&a[lo..mid], &b[mid..hi], &h[lo + mid..], planner);
+    let mut s = lower_pairs(a, b, m, lo, mid) + lower_pairs(a, b, m, mid, hi);
+    if lo + mid < m {
+        s += cross_pairs(&a[lo..mid], &b[mid..hi], lo + mid, m);
     }
     s
 }
 
-/// Σ_{u,w} h(u+w)·a_u·b_w over all u < a.len(), w < b.len() (h indexed
-/// from 0 at u = w = 0): Σ_s h(s)·(a ∗ b)(s), the convolution by one FFT
-/// of a + i·b (the imaginary part of the inverse of its square is 2·a ∗ b;
-/// the inverse is the forward transform read at −t).
-fn cross_pairs(a: &[f64], b: &[f64], h: &[f64], planner: &mut rustfft::FftPlanner<f64>) -> f64 {
-    use rustfft::num_complex::Complex;
-    let top = (a.len() + b.len() - 1).min(h.len());
+/// Σ_{u,w} h(offset+u+w)·a_u·b_w over all u < a.len(), w < b.len(), h of
+/// [`triangle_weight`]: Σ_s h(offset+s)·(a ∗ b)(s), the convolution by
+/// real FFTs ([`super::correlate::convolution`]).
+fn cross_pairs(a: &[f64], b: &[f64], offset: usize, m: usize) -> f64 {
+    let top = (a.len() + b.len() - 1).min(m.saturating_sub(offset));
     if a.len() * b.len() <= 4096 {
         let mut s = 0.0;
         for (u, &av) in a.iter().enumerate() {
             for (w, &bv) in b.iter().enumerate().take(top.saturating_sub(u)) {
-                s += h[u + w] * av * bv;
+                s += triangle_weight(offset + u + w, m) * av * bv;
             }
         }
         return s;
     }
-    let size = (a.len() + b.len() - 1).next_power_of_two();
-    let mut buf = vec![Complex::new(0.0, 0.0); size];
-    for (c, &v) in buf.iter_mut().zip(a) {
-        c.re = v;
-    }
-    for (c, &v) in buf.iter_mut().zip(b) {
-        c.im = v;
-    }
-    let fwd = planner.plan_fft_forward(size);
-    fwd.process(&mut buf);
-    for c in &mut buf {
-        *c = *c * *c;
-    }
-    // Inverse by the forward transform read backwards.
-    fwd.process(&mut buf);
-    let scale = 0.5 / size as f64;
-    h[..top]
+    super::correlate::convolution(a, b, top)
         .iter()
         .enumerate()
-        .map(|(t, &hv)| hv * buf[(size - t) % size].im * scale)
+        .map(|(t, v)| triangle_weight(offset + t, m) * v)
         .sum()
 }
 
@@ -512,12 +449,10 @@ fn interpolation_weights(g: &[usize]) -> Vec<f64> {
 struct WholeStretch {
     y: Vec<f64>,
     r: Vec<f64>,
-    q: super::modtotal::PrefixSums,
 }
 
 impl WholeStretch {
     fn new(seg: &[f64], top: usize) -> Self {
-        use rustfft::num_complex::Complex;
         let len = seg.len();
         let slope = (seg[len - 1] - seg[0]) / (len - 1) as f64;
         let y: Vec<f64> = seg
@@ -525,33 +460,15 @@ impl WholeStretch {
             .enumerate()
             .map(|(t, &v)| (v - seg[0]) - slope * t as f64)
             .collect();
-        let size = (len + top + 1).next_power_of_two();
-        let mut buf: Vec<Complex<f64>> = Vec::with_capacity(size);
-        buf.extend(y.iter().map(|&v| Complex::new(v, 0.0)));
-        buf.resize(size, Complex::new(0.0, 0.0));
-        let mut planner = rustfft::FftPlanner::<f64>::new();
-        let fwd = planner.plan_fft_forward(size);
-        fwd.process(&mut buf);
-        for c in &mut buf {
-            *c = Complex::new(c.norm_sqr(), 0.0);
-        }
-        fwd.process(&mut buf);
-        let scale = 1.0 / size as f64;
-        let r: Vec<f64> = (0..=top)
-            .map(|l| buf[(size - l) % size].re * scale)
-            .collect();
-        drop(buf);
-        let sq: Vec<f64> = y.iter().map(|v| v * v).collect();
-        let q = super::modtotal::PrefixSums::new(&sq);
-        Self { y, r, q }
+        let r = super::correlate::autocorrelation(len, |t| y[t], top);
+        Self { y, r }
     }
 
     /// The Theo1 double sum at factor m (even, m < len, m ≤ top) over all
     /// len − m terms of the stretch, as [`theo1_block`] with one block.
-    /// O(m·log²m) given the shared R.
-    fn sum(&self, m: usize, planner: &mut rustfft::FftPlanner<f64>) -> f64 {
-        let (hd, tl) = head_tail_corr(&self.y, m, planner);
-        block_sum_given(&self.y, &self.r, &hd, &tl, &self.q, m, planner)
+    /// O(len + m·log²m) given the shared R.
+    fn sum(&self, m: usize) -> f64 {
+        block_sum_given(&|t| self.y[t], self.y.len(), &self.r, m)
     }
 }
 
@@ -591,7 +508,7 @@ pub(crate) fn theobr_ratio_sampled(p: &Prepared) -> Option<f64> {
     let ratios: Vec<Option<f64>> = factors
         .par_iter()
         .zip(nodes.par_iter())
-        .map_init(rustfft::FftPlanner::<f64>::new, |planner, (&m, &i)| {
+        .map(|(&m, &i)| {
             let a = oadev(p, 9 + 3 * i)?.value;
             let (mut s, mut used) = (0.0, 0usize);
             for (&(lo, hi), w) in stretches.iter().zip(&whole) {
@@ -601,7 +518,7 @@ pub(crate) fn theobr_ratio_sampled(p: &Prepared) -> Option<f64> {
                 }
                 used += len - m;
                 s += match w {
-                    Some(w) if len <= WHOLE_UP_TO * m => w.sum(m, planner),
+                    Some(w) if len <= WHOLE_UP_TO * m => w.sum(m),
                     _ => theo1_sum(&Prepared::new(&p.x[lo..hi], p.tau0), m).0,
                 };
             }
@@ -650,7 +567,6 @@ const DIRECT_UP_TO: usize = 256;
 /// about 1.5e-16·(N/m)³ on random-walk FM (2e-11 at N/m = 50; 5e-8 at
 /// N = 172800, m = 256 by that scaling) — why ThêoBR uses it from m = 256 on.
 pub(crate) fn theo1_sums_many(x: &[f64], ms: &[usize]) -> Vec<f64> {
-    use rustfft::num_complex::Complex;
     let n = x.len();
     let Some(&mx) = ms.iter().max() else {
         return Vec::new();
@@ -664,17 +580,8 @@ pub(crate) fn theo1_sums_many(x: &[f64], ms: &[usize]) -> Vec<f64> {
         .enumerate()
         .map(|(t, &v)| (v - x[0]) - slope * t as f64)
         .collect();
-    // R(ℓ), ℓ = 0 … mx, by FFT (zero-padded, no wrap-around).
-    let size = (n + mx + 1).next_power_of_two();
-    let mut buf: Vec<Complex<f64>> = xd.iter().map(|&v| Complex::new(v, 0.0)).collect();
-    buf.resize(size, Complex::new(0.0, 0.0));
-    let mut planner = rustfft::FftPlanner::<f64>::new();
-    planner.plan_fft_forward(size).process(&mut buf);
-    for c in &mut buf {
-        *c = Complex::new(c.norm_sqr(), 0.0);
-    }
-    planner.plan_fft_inverse(size).process(&mut buf);
-    let r: Vec<f64> = buf[..=mx].iter().map(|c| c.re / size as f64).collect();
+    // R(ℓ), ℓ = 0 … mx, by a real FFT (zero-padded, no wrap-around).
+    let r = super::correlate::autocorrelation(n, |t| xd[t], mx);
     let sq: Vec<f64> = xd.iter().map(|v| v * v).collect();
     let q = super::modtotal::PrefixSums::new(&sq);
     let sqw = |p: usize, l: usize| q.sum(p, p + l);
@@ -770,7 +677,6 @@ mod tests {
     #[test]
     fn head_triangle_equals_its_definition() {
         let mut rng = ChaCha8Rng::seed_from_u64(8);
-        let mut planner = rustfft::FftPlanner::new();
         for m in [2usize, 10, 64, 66, 130, 256, 600, 1000] {
             let z: Vec<f64> = (0..m).map(|_| rng.gen_range(-1.0..1.0)).collect();
             let mut want = 0.0;
@@ -781,7 +687,7 @@ mod tests {
                 }
                 want += s / k as f64;
             }
-            let got = head_triangle(&z, &mut planner);
+            let got = head_triangle(&z);
             assert!(
                 (got - want).abs() <= 1e-12 * want.abs().max(1.0),
                 "m={m}: {got} vs {want}"
@@ -811,7 +717,6 @@ mod tests {
                 ph
             })
             .collect();
-        let mut planner = rustfft::FftPlanner::new();
         for x in [a, b] {
             for (m, n) in [(200usize, 50usize), (256, 256), (300, 900), (1000, 399)] {
                 let seg = &x[..n + m];
@@ -821,7 +726,7 @@ mod tests {
                 for k in 1..=half {
                     want += sum_sq_4(seg, [0, k, m - k, m], n) / k as f64;
                 }
-                let got = theo1_block(seg, m, &mut planner);
+                let got = theo1_block(seg, m);
                 assert!(
                     (got - want).abs() <= 1e-10 * want.abs(),
                     "m={m} n={n}: {got} vs {want}"
@@ -882,13 +787,12 @@ mod tests {
                 *v += 1e-3 + 1e-9 * i as f64;
             }
             let w = WholeStretch::new(&x, n - 2);
-            let mut planner = rustfft::FftPlanner::new();
             for m in [12usize, 14, 50, 96, 256, 1000, 4000, n - 2] {
                 let mut want = 0.0;
                 for k in 1..=m / 2 {
                     want += sum_sq_4(&x, [0, k, m - k, m], n - m) / k as f64;
                 }
-                let got = w.sum(m, &mut planner);
+                let got = w.sum(m);
                 let rel = (got - want).abs() / want.abs();
                 let tol = if n <= 20 * m { 1e-10 } else { 1e-6 };
                 worst = worst.max(rel);

@@ -55,12 +55,46 @@ pub fn find_outliers(record: &Record, limit: f64) -> Result<Outliers> {
 
 /// [`find_outliers`] on frequency values.
 pub fn find_outliers_y(y: &[f64], limit: f64) -> Result<Outliers> {
+    check_limit(limit)?;
+    let valid: Vec<f64> = y.iter().copied().filter(|v| !v.is_nan()).collect();
+    outliers_of(valid, y.len(), |i| y[i], limit)
+}
+
+/// The outlier limit must be a positive number of MADs.
+fn check_limit(limit: f64) -> Result<()> {
     if !(limit.is_finite() && limit > 0.0) {
         return Err(Error::invalid(format!(
             "outlier limit {limit}: expected a positive number of MADs (e.g. 5)"
         )));
     }
-    let mut valid: Vec<f64> = y.iter().copied().filter(|v| !v.is_nan()).collect();
+    Ok(())
+}
+
+/// [`find_outliers_y`] taking the frequency values twice: `y` for their
+/// scratch copy, which it reorders and overwrites (the median and the
+/// median absolute deviation are found in place), and `at(i)`, i < `len`,
+/// for the values in record order. The memory is the one copy the caller
+/// hands over, so a summary can give its own frequency copy (see
+/// [`crate::prepare::summarize`]).
+pub(crate) fn find_outliers_in(
+    mut y: Vec<f64>,
+    len: usize,
+    at: impl Fn(usize) -> f64,
+    limit: f64,
+) -> Result<Outliers> {
+    check_limit(limit)?;
+    y.retain(|v| !v.is_nan());
+    outliers_of(y, len, at, limit)
+}
+
+/// The core of [`find_outliers_y`]: `valid` holds the values that are not
+/// NaN (in any order; used as scratch), `at(i)` the value at i < `len`.
+fn outliers_of(
+    mut valid: Vec<f64>,
+    len: usize,
+    at: impl Fn(usize) -> f64,
+    limit: f64,
+) -> Result<Outliers> {
     let tested = valid.len();
     let median = median_in_place(&mut valid)
         .ok_or_else(|| Error::insufficient("no frequency values to test for outliers"))?;
@@ -74,11 +108,13 @@ pub fn find_outliers_y(y: &[f64], limit: f64) -> Result<Outliers> {
     } else {
         (mean_abs * (std::f64::consts::PI / 2.0).sqrt(), true)
     };
+    drop(valid);
     let indices = if mad > 0.0 {
-        y.iter()
-            .enumerate()
-            .filter(|(_, &v)| !v.is_nan() && (v - median).abs() > limit * mad)
-            .map(|(i, _)| i)
+        (0..len)
+            .filter(|&i| {
+                let v = at(i);
+                !v.is_nan() && (v - median).abs() > limit * mad
+            })
             .collect()
     } else {
         Vec::new()

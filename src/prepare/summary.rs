@@ -2,7 +2,7 @@
 
 use super::drift::{fit_drift_y, DriftFit, DriftModel};
 use super::offset::{frequency_of, mean_valid};
-use super::outliers::{find_outliers_y, Outliers};
+use super::outliers::{find_outliers_in, Outliers};
 use crate::error::{Error, Result};
 use crate::record::Record;
 
@@ -27,13 +27,29 @@ pub struct Summary {
 
 /// Summarise a record: size, span, offset, linear drift, outliers beyond
 /// `outlier_limit`·MAD of the frequency.
+///
+/// Memory: the record and one frequency copy. The offset and the drift
+/// are taken from the copy first; the outlier search then takes the copy
+/// itself as the scratch of its medians and reads the frequencies in record
+/// order from the record (for phase, y_i = (x_{i+1} − x_i)/τ0 as in
+/// [`crate::record::PhaseRecord::to_frequency`]), so no third copy is made.
 pub fn summarize(record: &Record, outlier_limit: f64) -> Result<Summary> {
     let y = frequency_of(record);
     let span = match record {
         Record::Phase(p) => p.span(),
         Record::Frequency(f) => f.len() as f64 * f.tau0,
     };
-    let outliers = match find_outliers_y(&y, outlier_limit) {
+    let frequency_offset = mean_valid(&y);
+    let drift = fit_drift_y(&y, record.tau0(), DriftModel::Linear).ok();
+    let len = y.len();
+    let found = match record {
+        Record::Phase(p) => {
+            let (x, tau0) = (&p.x, p.tau0);
+            find_outliers_in(y, len, |i| (x[i + 1] - x[i]) / tau0, outlier_limit)
+        }
+        Record::Frequency(f) => find_outliers_in(y, len, |i| f.y[i], outlier_limit),
+    };
+    let outliers = match found {
         Ok(o) => Some(o),
         Err(Error::Insufficient(_)) => None,
         Err(e) => return Err(e),
@@ -43,8 +59,8 @@ pub fn summarize(record: &Record, outlier_limit: f64) -> Result<Summary> {
         gaps: record.gaps(),
         span,
         tau0: record.tau0(),
-        frequency_offset: mean_valid(&y),
-        drift: fit_drift_y(&y, record.tau0(), DriftModel::Linear).ok(),
+        frequency_offset,
+        drift,
         outliers,
     })
 }
@@ -71,5 +87,34 @@ mod tests {
         let mean = y0 + d * 999.0 * tau0 / 2.0;
         assert!(close(s.frequency_offset.unwrap(), mean, 1e-9));
         assert!(close(s.drift.unwrap().per_day(), d * 86400.0, 1e-6));
+    }
+
+    /// The summary's outliers (found on the frequency copy it hands over)
+    /// are those of `find_outliers` on the record, phase and frequency, with
+    /// gaps (the same MAD rule; seeded random data with planted jumps).
+    #[test]
+    fn summary_outliers_are_find_outliers() {
+        use crate::prepare::outliers::find_outliers;
+        use crate::record::FrequencyRecord;
+        use rand::{Rng, SeedableRng};
+        let mut rng = rand_chacha::ChaCha8Rng::seed_from_u64(7);
+        let mut x: Vec<f64> = Vec::new();
+        let mut acc = 0.0;
+        for i in 0..2001 {
+            acc += rng.gen_range(-1.0..1.0) * 1e-9 + if i % 397 == 5 { 4e-8 } else { 0.0 };
+            x.push(if i % 251 == 9 { f64::NAN } else { acc });
+        }
+        let y: Vec<f64> = x.windows(2).map(|w| (w[1] - w[0]) / 2.0).collect();
+        for r in [
+            Record::Phase(PhaseRecord::new(x, 2.0).unwrap()),
+            Record::Frequency(FrequencyRecord::new(y, 2.0).unwrap()),
+        ] {
+            let s = summarize(&r, 5.0).unwrap();
+            let want = find_outliers(&r, 5.0).unwrap();
+            assert!(!want.indices.is_empty());
+            assert_eq!(s.outliers.unwrap(), want);
+        }
+        let r = Record::Phase(PhaseRecord::new(vec![0.0, 1.0, 3.0], 1.0).unwrap());
+        assert!(summarize(&r, 0.0).is_err());
     }
 }
