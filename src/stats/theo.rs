@@ -148,6 +148,17 @@ pub fn theoh_excess(alpha: i32, n_phase: usize, m: usize) -> Option<f64> {
     Some(table[j] * (1.0 - w) + table[j + 1] * w)
 }
 
+/// True when TheoH's estimate with factor m on a record of `n_phase`
+/// samples is its ThêoBR part (Theo1 factor m, τ = 0.75·m·τ0 at or beyond
+/// the switch at 10 % of the record), false when it is the OADEV part
+/// (grid factor m, τ = m·τ0 below the switch): the OADEV part has
+/// m < 0.1·(N − 1), the ThêoBR part m = 2·round(m_g/1.5) ≥ (4/3)·m_g − 1
+/// with m_g ≥ 0.1·(N − 1), which is at least 0.1·(N − 1) for N ≥ 31 (and
+/// ThêoBR needs N ≥ 90), so m alone tells them apart, without τ0.
+pub fn theoh_ratio_part(n_phase: usize, m: usize) -> bool {
+    m as f64 >= 0.1 * n_phase.saturating_sub(1) as f64
+}
+
 /// EDF of TheoH's ThêoBR part at the Theo1 factor m from N phase samples:
 /// ν = 2/(2/ν_Theo1 + Δ), Δ from [`theoh_excess`] (module notes).
 pub fn theoh_edf(alpha: i32, n_phase: usize, m: usize) -> Option<f64> {
