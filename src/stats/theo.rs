@@ -43,6 +43,14 @@
 //! taken as 0. At N = 4096, T/τ = 8 this takes TheoH's white-FM EDF from
 //! Theo1's 30 to 15.
 //!
+//! The interval is not χ²_ν with that EDF (which over-covered: 0.80 at
+//! 68.3 % for the FM noises at T/τ = 2, seeded Monte Carlo, N = 4096):
+//! TheoH²/E\[TheoH²\] is taken as Q·R, Q Theo1's own quadratic-form
+//! distribution at τ and R an independent gamma factor of mean 1 and
+//! relative variance Δ/(1 + V_Q), so that Q·R has the relative variance
+//! V_Q + Δ (V_Q = 2/ν of Q) and hence the EDF above
+//! ([`crate::stats::form_interval::theoh_interval`], `form-times-ratio`).
+//!
 //! ThêoBR assumes that Theo1/AVAR is the same at every τ. It is for the FM
 //! noises (self-similar) but not for PM noise: for white PM
 //! E\[Theo1\]/AVAR = H_{m/2} + 1/m grows like ln m, so a ratio measured at
