@@ -489,6 +489,9 @@ pub fn phase_gacv(alpha: i32, n: usize) -> Vec<f64> {
     gacv::sampled_phase_gacv(alpha, n.saturating_sub(1))
 }
 
+/// Weights (λ_i, h_i) of a sum Σλ_iχ²_{h_i}.
+pub type Weights = Vec<(f64, f64)>;
+
 /// TheoH's ThêoBR part as a product: TheoH² = R̂·Theo1²(τ), R̂ the record's
 /// ThêoBR ratio ([`crate::stats::theo`]). The pivot TheoH²/E\[TheoH²\] is
 /// taken as P = Q·R with
@@ -509,7 +512,7 @@ pub fn phase_gacv(alpha: i32, n: usize) -> Vec<f64> {
 /// every other estimator's (few unequal eigenvalues; module notes).
 ///
 /// Returns the weights of Q and k (`None` for k: no excess, P = Q).
-pub fn theoh_factors(alpha: i32, m: usize, n: usize) -> Option<(Vec<(f64, f64)>, Option<f64>)> {
+pub fn theoh_factors(alpha: i32, m: usize, n: usize) -> Option<(Weights, Option<f64>)> {
     let nu_t1 = crate::stats::theo::theo1_edf(alpha, n, m)?;
     let q = pivot_weights(Estimator::Theo1, alpha, m, n, nu_t1)
         .filter(|w| !w.is_empty())
