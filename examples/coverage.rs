@@ -10,7 +10,10 @@
 //!
 //! Options: `--points N` (4096), `--records R` per noise type (1000),
 //! `--dev LIST` (every estimator with intervals), `--alphas LIST`
-//! (2,1,0,-1,-2), `--taus GRID` (octave), `--seed S` (1), `--json`.
+//! (2,1,0,-1,-2), `--taus GRID` (octave), `--seed S` (1), `--min-t-over-tau X`,
+//! `--max-t-over-tau X`, `--no-cap` (no rule across τ), `--no-guard` (the
+//! form interval alone at 95 %, without the union with χ²), `--with-99`
+//! (also the 99 % intervals), `--json`.
 //! The CI tests (`tests/coverage.rs`) run the same code with fewer records.
 
 use tauwise::deviation::Estimator;
@@ -32,6 +35,8 @@ fn main() -> tauwise::Result<()> {
         max_t_over_tau: None,
         min_t_over_tau: None,
         rule: tauwise::stats::noise_id::CrossTauRule::CapAtShorterTau,
+        guard: true,
+        check_99: false,
     };
     let mut json = false;
     let args: Vec<String> = std::env::args().skip(1).collect();
@@ -61,6 +66,16 @@ fn main() -> tauwise::Result<()> {
                 i += 1;
                 continue;
             }
+            "--with-99" => {
+                spec.check_99 = true;
+                i += 1;
+                continue;
+            }
+            "--no-guard" => {
+                spec.guard = false;
+                i += 1;
+                continue;
+            }
             "--json" => {
                 json = true;
                 i += 1;
@@ -86,7 +101,7 @@ fn main() -> tauwise::Result<()> {
         t.elapsed().as_secs_f64()
     );
     println!(
-        "{:<7} {:>5} {:>9} {:>7} {:>6} {:>7} {:>7} {:>6} {:>6} {:>9} {:>9} {:>7}",
+        "{:<7} {:>5} {:>9} {:>7} {:>6} {:>7} {:>7} {:>7} {:>6} {:>6} {:>9} {:>9} {:>7}",
         "dev",
         "noise",
         "tau",
@@ -94,6 +109,7 @@ fn main() -> tauwise::Result<()> {
         "n",
         "68.3%",
         "95%",
+        "99%",
         "right",
         "drift",
         "edf",
@@ -102,7 +118,7 @@ fn main() -> tauwise::Result<()> {
     );
     for c in &cells {
         println!(
-            "{:<7} {:>5} {:>9.1} {:>7.2} {:>6} {:>7.3} {:>7.3} {:>6.2} {:>6} {:>9.2} {:>9.2} {:>7.3}",
+            "{:<7} {:>5} {:>9.1} {:>7.2} {:>6} {:>7.3} {:>7.3} {:>7.3} {:>6.2} {:>6} {:>9.2} {:>9.2} {:>7.3}",
             c.estimator.name(),
             tauwise::model::noise_label(c.alpha).unwrap_or("?"),
             c.tau,
@@ -110,6 +126,7 @@ fn main() -> tauwise::Result<()> {
             c.with_interval,
             c.coverage_68(),
             c.coverage_95(),
+            c.coverage_99(),
             c.labelled_right as f64 / c.records.max(1) as f64,
             c.labelled_drift,
             c.mean_edf,

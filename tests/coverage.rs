@@ -40,6 +40,8 @@ fn spec(estimators: &[Estimator]) -> CoverageSpec {
         max_t_over_tau: None,
         min_t_over_tau: None,
         rule: CrossTauRule::CapAtShorterTau,
+        guard: true,
+        check_99: false,
     }
 }
 
@@ -241,6 +243,46 @@ fn totdev_flicker_pm_covers_at_nominal() {
             || !(0.91..=0.995).contains(&c95)
             || (c.mean_edf / c.monte_carlo_edf - 1.0).abs() > 0.25
         {
+            bad.push(line.clone());
+        }
+        lines.push(line);
+    }
+    eprintln!("{}", lines.join("\n"));
+    assert!(bad.is_empty(), "coverage off:\n{}", bad.join("\n"));
+}
+
+/// TheoH's ThêoBR part (τ ≥ 10 % of the record) at T/τ = 8, 4 and 2, where
+/// its χ²_ν interval over-covered (full sweep, N = 4096, 1000 records:
+/// 0.80 / 0.98 at T/τ = 2 for WFM, FFM and RWFM, 0.73–0.74 at T/τ = 4 and
+/// RWFM at 8): the interval is now the pivot interval of the product of
+/// Theo1's form distribution and the ThêoBR ratio's gamma factor
+/// (`form_interval::theoh_interval`). Seeded Monte Carlo, N = 1025 (the FM
+/// noises are self-similar: the distribution depends on T/τ), 1000 records
+/// per noise type: coverage within ±0.04 of nominal at 68.3 % and 95 %
+/// (one binomial standard error 0.015 / 0.007).
+#[test]
+fn theoh_long_tau_covers_at_nominal() {
+    let mut s = spec(&[Estimator::Theoh]);
+    s.points = 1025;
+    s.records = 1000;
+    s.alphas = vec![0, -1, -2];
+    s.grid = TauGrid::Explicit(vec![128.0, 256.0, 512.0]);
+    s.seed = 31_000;
+    let cells = run(&s).unwrap();
+    assert_eq!(cells.len(), 9, "{cells:?}");
+    let mut lines = Vec::new();
+    let mut bad = Vec::new();
+    for c in &cells {
+        assert!(c.with_interval >= 950, "{} intervals", c.with_interval);
+        let (c68, c95) = (c.coverage_68(), c.coverage_95());
+        let line = format!(
+            "theoh {} T/τ={:.1}: {c68:.3} / {c95:.3}, EDF {:.2} given, {:.2} measured",
+            tauwise::model::noise_label(c.alpha).unwrap_or("?"),
+            c.t_over_tau,
+            c.mean_edf,
+            c.monte_carlo_edf
+        );
+        if (c68 - 0.683).abs() > 0.04 || (c95 - 0.95).abs() > 0.04 {
             bad.push(line.clone());
         }
         lines.push(line);

@@ -913,3 +913,110 @@ fn each_point_says_how_its_interval_was_made() {
         assert!(seen.0 >= 2 && seen.1 >= 5, "{seen:?}");
     }
 }
+
+// ---------------------------------------------------------------------------
+// TheoH's ThêoBR part: Theo1's form distribution times the ratio's factor
+
+/// The product distribution of TheoH's pivot (`form_interval::
+/// product_quantile`: Q = Σλχ²₁ times an independent R = χ²_k/k) against
+/// 200 000 seeded Monte Carlo draws of Q·R: each quantile has p of the
+/// draws below it within 4 binomial standard errors; the trapezoid rule's
+/// node step (σ/1.5 as used, against σ/8) moves the quantiles by under
+/// 1e−5 relative; and with R → 1 (k → ∞) the product's quantiles become
+/// Q's own (analytic).
+#[test]
+fn form_times_ratio_quantiles_match_seeded_monte_carlo() {
+    use rand::{Rng, SeedableRng};
+    use rand_chacha::ChaCha8Rng;
+    use rand_distr::{ChiSquared, StandardNormal};
+    use tauwise::stats::form_interval::{
+        log_gamma_nodes, product_quantile, PRODUCT_NODES_PER_SIGMA,
+    };
+    use tauwise::stats::weighted_chi2::quantile_with;
+    let mut rng = ChaCha8Rng::seed_from_u64(4242);
+    let draws = 200_000;
+    // A dominant pair (TheoH RWFM at T/τ = 2 has 0.82, 0.14, rest), three
+    // unequal weights, and many alike; each normalised to mean 1.
+    let cases: [(Vec<(f64, f64)>, f64); 3] = [
+        (vec![(0.82, 1.0), (0.14, 1.0), (0.01, 4.0)], 27.0),
+        (vec![(0.6, 1.0), (0.3, 1.0), (0.1, 1.0)], 8.0),
+        ((0..20).map(|_| (0.05, 1.0)).collect(), 40.0),
+    ];
+    for (q, k) in cases {
+        let chi = ChiSquared::new(k).unwrap();
+        let mut sample: Vec<f64> = (0..draws)
+            .map(|_| {
+                let qv: f64 = q
+                    .iter()
+                    .map(|&(l, h)| {
+                        // χ²_h for whole h as a sum of squares.
+                        l * (0..h as usize)
+                            .map(|_| rng.sample::<f64, _>(StandardNormal).powi(2))
+                            .sum::<f64>()
+                    })
+                    .sum();
+                qv * rng.sample(chi) / k
+            })
+            .collect();
+        sample.sort_by(f64::total_cmp);
+        let nodes = log_gamma_nodes(k, PRODUCT_NODES_PER_SIGMA);
+        let fine = log_gamma_nodes(k, 8.0);
+        for &p in &[0.005, 0.025, 0.1585, 0.8415, 0.975, 0.995] {
+            let x = product_quantile(&q, k, &nodes, p).unwrap();
+            let below = sample.partition_point(|v| *v <= x) as f64 / draws as f64;
+            let se = (p * (1.0 - p) / draws as f64).sqrt();
+            assert!(
+                (below - p).abs() < 4.0 * se,
+                "q = {q:?}, k = {k}, p = {p}: {x:.5} has {below:.5} of the draws below"
+            );
+            let xf = product_quantile(&q, k, &fine, p).unwrap();
+            assert!((x / xf - 1.0).abs() < 1e-5, "p = {p}: {x} vs {xf}");
+        }
+        let big = 1e7;
+        let nodes = log_gamma_nodes(big, PRODUCT_NODES_PER_SIGMA);
+        for &p in &[0.025, 0.975] {
+            let x = product_quantile(&q, big, &nodes, p).unwrap();
+            let own = quantile_with(&q, p).unwrap();
+            assert!((x / own - 1.0).abs() < 1e-3, "p = {p}: {x} vs {own}");
+        }
+    }
+}
+
+/// TheoH's two parts are told apart by m alone (`theo::theoh_ratio_part`,
+/// used by `point_interval`, which has no τ0): on records of N = 90 … 5000
+/// samples and τ0 = 1 s and 0.01 s, every TheoH estimate of the octave
+/// grid, of every m within 6 of the switch and of the last point is in its ThêoBR part exactly when τ is at or beyond the
+/// switch at 10 % of the record (NIST SP 1065 §5.2.17).
+#[test]
+fn theoh_parts_are_told_apart_by_m() {
+    use tauwise::deviation::{compute, Estimator};
+    use tauwise::stats::theo::theoh_ratio_part;
+    use tauwise::PhaseRecord;
+    for n in [90usize, 101, 257, 1000, 1025, 4097, 5000] {
+        for tau0 in [1.0, 0.01] {
+            let x: Vec<f64> = (0..n).map(|i| ((i * 7919) % 13) as f64 * 1e-9).collect();
+            let rec = PhaseRecord::new(x, tau0).unwrap();
+            // Octaves, every m around the switch, and the last point.
+            let around = (n - 1) / 10;
+            let mut ms: Vec<usize> = (0..13).map(|k| 1usize << k).collect();
+            ms.extend(around.saturating_sub(6)..=around + 6);
+            ms.push(3 * (n - 1) / 4);
+            ms.retain(|&m| m >= 1 && m <= 3 * (n - 1) / 4);
+            ms.sort_unstable();
+            ms.dedup();
+            for e in compute(Estimator::Theoh, &rec, &ms) {
+                // The ThêoBR part sits on Theo1's lattice, τ = 0.75·m·τ0;
+                // the OADEV part at τ = m·τ0.
+                let on_lattice = (e.tau - 0.75 * e.m as f64 * tau0).abs() < 1e-9 * e.tau;
+                assert!(on_lattice || (e.tau - e.m as f64 * tau0).abs() < 1e-9 * e.tau);
+                assert_eq!(
+                    theoh_ratio_part(n, e.m),
+                    on_lattice,
+                    "N = {n}, τ0 = {tau0}: m = {}, τ = {}",
+                    e.m,
+                    e.tau
+                );
+            }
+        }
+    }
+}

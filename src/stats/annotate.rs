@@ -113,13 +113,14 @@ pub fn point_edf(
 /// at τ0) for the power law α: the rule of each estimator
 /// ([`fn@edf`], [`crate::stats::totals`], [`crate::stats::theo`]) for the
 /// gap-free record with the same number of terms. `None` where the
-/// estimator has no rule for α.
-pub fn edf_of(est: Estimator, a: i32, rec_len: usize, tau0: f64, e: &Estimate) -> Option<f64> {
+/// estimator has no rule for α. TheoH's part (OADEV or ThêoBR) is told by
+/// m alone ([`crate::stats::theo::theoh_ratio_part`]: its τ can fall just
+/// below the switch), so τ0 is not needed.
+pub fn edf_of(est: Estimator, a: i32, rec_len: usize, _tau0: f64, e: &Estimate) -> Option<f64> {
     match est {
         Estimator::Theo1 => crate::stats::theo::theo1_edf(a, rec_len, e.m),
         Estimator::Theoh => {
-            let switch = est.bias_corrected_from(rec_len, tau0);
-            if switch.is_some_and(|s| e.tau >= s) {
+            if crate::stats::theo::theoh_ratio_part(rec_len, e.m) {
                 crate::stats::theo::theoh_edf(a, rec_len, e.m)
             } else {
                 let oa = VarianceKind::OverlappingAllan;
@@ -146,11 +147,46 @@ pub fn point_interval(
     edf: f64,
     confidence: f64,
 ) -> Result<(f64, f64, IntervalMethod)> {
+    point_interval_rule(est, rec_len, e, alpha, edf, confidence, true)
+}
+
+/// [`point_interval`] with the guard of
+/// [`crate::stats::form_interval::interval_for`] (the union with the χ²_ν
+/// interval at 90 % and above) on or off; off only to measure what the
+/// guard adds (the coverage sweep's `--no-guard`).
+pub fn point_interval_rule(
+    est: Estimator,
+    rec_len: usize,
+    e: &Estimate,
+    alpha: i32,
+    edf: f64,
+    confidence: f64,
+    guard: bool,
+) -> Result<(f64, f64, IntervalMethod)> {
+    use crate::stats::form_interval::{interval_for_rule, theoh_interval_rule};
+    if est == Estimator::Theoh {
+        if crate::stats::theo::theoh_ratio_part(rec_len, e.m) {
+            return theoh_interval_rule(alpha, e.m, rec_len, e.value, edf, confidence, guard);
+        }
+        // Below the switch TheoH's point is OADEV's, and so is its interval.
+        let oa = VarianceKind::OverlappingAllan;
+        let n = oa.equivalent_points(e.m, e.terms);
+        return interval_for_rule(
+            Estimator::Oadev,
+            alpha,
+            e.m,
+            n,
+            e.value,
+            edf,
+            confidence,
+            guard,
+        );
+    }
     let n = match VarianceKind::of_estimator(est) {
         Some(kind) => kind.equivalent_points(e.m, e.terms),
         None => rec_len,
     };
-    crate::stats::form_interval::interval_for(est, alpha, e.m, n, e.value, edf, confidence)
+    interval_for_rule(est, alpha, e.m, n, e.value, edf, confidence, guard)
 }
 
 /// The interval of a statistic that is not one estimator's quadratic form
@@ -260,9 +296,7 @@ pub fn annotate_with(
                 // ratio changes with τ ([`crate::stats::theo`]).
                 None if correct
                     && est == Estimator::Theoh
-                    && est
-                        .bias_corrected_from(n, x.tau0)
-                        .is_some_and(|s| e.tau >= s) =>
+                    && crate::stats::theo::theoh_ratio_part(n, e.m) =>
                 {
                     crate::stats::theo::theoh_bias(id.alpha, n, e.m)
                 }

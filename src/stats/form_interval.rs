@@ -63,6 +63,11 @@ pub enum IntervalMethod {
     /// (this module).
     #[serde(rename = "quadratic-form")]
     QuadraticForm,
+    /// TheoH's ThêoBR part: Theo1's quadratic-form distribution times an
+    /// independent gamma factor for the record's ThêoBR ratio
+    /// ([`theoh_interval`]).
+    #[serde(rename = "form-times-ratio")]
+    FormTimesRatio,
     /// The union of the quadratic-form and the χ²_ν interval, taken at
     /// confidence levels of [`GUARD_CONFIDENCE`] and above ([`interval_for`]).
     #[serde(rename = "union")]
@@ -74,11 +79,13 @@ pub enum IntervalMethod {
 }
 
 impl IntervalMethod {
-    /// The JSON name: `chi2`, `quadratic-form`, `union` or `monte-carlo`.
+    /// The JSON name: `chi2`, `quadratic-form`, `form-times-ratio`, `union`
+    /// or `monte-carlo`.
     pub fn name(self) -> &'static str {
         match self {
             IntervalMethod::Chi2 => "chi2",
             IntervalMethod::QuadraticForm => "quadratic-form",
+            IntervalMethod::FormTimesRatio => "form-times-ratio",
             IntervalMethod::Union => "union",
             IntervalMethod::MonteCarlo => "monte-carlo",
         }
@@ -422,18 +429,56 @@ pub fn interval_for(
     edf: f64,
     confidence: f64,
 ) -> crate::Result<(f64, f64, IntervalMethod)> {
+    interval_for_rule(est, alpha, m, n, dev, edf, confidence, true)
+}
+
+/// [`interval_for`] with the guard (the union with χ²_ν at
+/// [`GUARD_CONFIDENCE`] and above) on or off: off, the form's own interval
+/// at every confidence — how the coverage sweep measures what the guard
+/// adds (`examples/coverage.rs --no-guard`). The commands use
+/// [`interval_for`].
+#[allow(clippy::too_many_arguments)]
+pub fn interval_for_rule(
+    est: Estimator,
+    alpha: i32,
+    m: usize,
+    n: usize,
+    dev: f64,
+    edf: f64,
+    confidence: f64,
+    guard: bool,
+) -> crate::Result<(f64, f64, IntervalMethod)> {
+    let pivot = pivot_quantiles(est, alpha, m, n, edf, confidence);
+    pivot_interval(
+        dev,
+        edf,
+        confidence,
+        pivot,
+        IntervalMethod::QuadraticForm,
+        guard,
+    )
+}
+
+/// The pivot interval σ² ∈ \[σ̂²/q_hi, σ̂²/q_lo\] from `pivot` (reported as
+/// `method`), united with the χ²_ν interval when `guard` is on and the
+/// confidence is at least [`GUARD_CONFIDENCE`] (then [`IntervalMethod::Union`]);
+/// the χ²_ν interval when there is no pivot.
+fn pivot_interval(
+    dev: f64,
+    edf: f64,
+    confidence: f64,
+    pivot: Option<(f64, f64)>,
+    method: IntervalMethod,
+    guard: bool,
+) -> crate::Result<(f64, f64, IntervalMethod)> {
     let (lo, hi) = crate::stats::interval(dev, edf, confidence)?;
-    Ok(match pivot_quantiles(est, alpha, m, n, edf, confidence) {
-        Some((q_lo, q_hi)) if confidence >= GUARD_CONFIDENCE => (
+    Ok(match pivot {
+        Some((q_lo, q_hi)) if guard && confidence >= GUARD_CONFIDENCE => (
             (dev / q_hi.sqrt()).min(lo),
             (dev / q_lo.sqrt()).max(hi),
             IntervalMethod::Union,
         ),
-        Some((q_lo, q_hi)) => (
-            dev / q_hi.sqrt(),
-            dev / q_lo.sqrt(),
-            IntervalMethod::QuadraticForm,
-        ),
+        Some((q_lo, q_hi)) => (dev / q_hi.sqrt(), dev / q_lo.sqrt(), method),
         None => (lo, hi, IntervalMethod::Chi2),
     })
 }
@@ -442,4 +487,231 @@ pub fn interval_for(
 /// law α of IEEE Std 1139 with f_h = 1/(2τ0) ([`gacv`]).
 pub fn phase_gacv(alpha: i32, n: usize) -> Vec<f64> {
     gacv::sampled_phase_gacv(alpha, n.saturating_sub(1))
+}
+
+/// Weights (λ_i, h_i) of a sum Σλ_iχ²_{h_i}.
+pub type Weights = Vec<(f64, f64)>;
+
+/// TheoH's ThêoBR part as a product: TheoH² = R̂·Theo1²(τ), R̂ the record's
+/// ThêoBR ratio ([`crate::stats::theo`]). The pivot TheoH²/E\[TheoH²\] is
+/// taken as P = Q·R with
+///
+/// - Q = Theo1²/E\[Theo1²\] with Theo1's own distribution at τ: the weights
+///   of its quadratic form ([`pivot_weights`]), or χ²_ν/ν with Theo1's EDF
+///   ν where the form gives none;
+/// - R an independent gamma factor with mean 1 and relative variance
+///   V_R = Δ/(1 + V_Q), Δ the excess relative variance the ratio adds
+///   ([`crate::stats::theo::theoh_excess`], seeded Monte Carlo), V_Q = 2Σh_iλ_i²
+///   that of Q; i.e. R = χ²_k/k with k = 2/V_R.
+///
+/// The product then has exactly the relative variance the calibration
+/// measured for TheoH², (1 + V_Q)(1 + V_R) − 1 = V_Q + Δ (the correlation
+/// of R̂ with Theo1(τ) is inside Δ), so its EDF is the
+/// [`crate::stats::theo::theoh_edf`] reported, while its shape is Theo1's
+/// — whose χ² interval errs wide at the last octaves for the same reason as
+/// every other estimator's (few unequal eigenvalues; module notes).
+///
+/// Returns the weights of Q and k (`None` for k: no excess, P = Q).
+pub fn theoh_factors(alpha: i32, m: usize, n: usize) -> Option<(Weights, Option<f64>)> {
+    let nu_t1 = crate::stats::theo::theo1_edf(alpha, n, m)?;
+    let q = pivot_weights(Estimator::Theo1, alpha, m, n, nu_t1)
+        .filter(|w| !w.is_empty())
+        .unwrap_or_else(|| vec![(1.0 / nu_t1, nu_t1)]);
+    let v_q: f64 = q.iter().map(|(l, h)| 2.0 * h * l * l).sum();
+    let delta = crate::stats::theo::theoh_excess(alpha, n, m)?;
+    let v_r = delta / (1.0 + v_q);
+    let k = (v_r > 1e-9).then(|| 2.0 / v_r);
+    Some((q, k))
+}
+
+/// The nodes (s_j, w_j) of E\[g(ln R)\] for R = χ²_k/k: the trapezoid rule
+/// on the density of S = ln R, f_S(s) = a^a·exp(a·s − a·eˢ)/Γ(a), a = k/2,
+/// with step `per_sigma`⁻¹·σ (σ = a^{−½}, the spread of S for large a), out
+/// to where the density is below 1e−13 of its peak at s = 0; weights
+/// normalised to sum 1. The density is analytic and decays at least
+/// exponentially on both sides, so the trapezoid rule converges
+/// geometrically in the step (for a normal density the error is about
+/// 2·exp(−2π²/h²), h the step in σ: 5e−9 at h = 1; `tests/edf.rs`
+/// compares steps of σ/2 and σ/8).
+pub fn log_gamma_nodes(k: f64, per_sigma: f64) -> Vec<(f64, f64)> {
+    let a = 0.5 * k;
+    let log_f = |s: f64| a * s - a * s.exp() + a; // relative to the peak at 0
+    let step = a.powf(-0.5) / per_sigma;
+    let mut nodes = vec![(0.0, 1.0)];
+    for dir in [-1.0, 1.0] {
+        let mut j = 1.0;
+        loop {
+            let s = dir * j * step;
+            let w = log_f(s).exp();
+            if !(w > 1e-13) || j > 10_000.0 {
+                break;
+            }
+            nodes.push((s, w));
+            j += 1.0;
+        }
+    }
+    let total: f64 = nodes.iter().map(|n| n.1).sum();
+    nodes.iter().map(|&(s, w)| (s, w / total)).collect()
+}
+
+/// Trapezoid steps per σ of ln R in [`theoh_pivot_quantiles`].
+pub const PRODUCT_NODES_PER_SIGMA: f64 = 1.5;
+
+/// P(Q·R ≤ x) for Q = Σλ_iχ²_{h_i} (`q`) and R = χ²_k/k independent
+/// (`nodes` from [`log_gamma_nodes`]): Σ_j w_j·F_Q(x·e^{−s_j}).
+pub fn product_cdf(q: &[(f64, f64)], nodes: &[(f64, f64)], x: f64) -> f64 {
+    nodes
+        .iter()
+        .map(|&(s, w)| w * weighted_chi2::cdf_with(q, x * (-s).exp()))
+        .sum()
+}
+
+/// The p-quantile of Q·R ([`product_cdf`] on `nodes`, made for R = χ²_k/k):
+/// the secant method in ln x, first on a coarse node set
+/// ([`log_gamma_nodes`] at one node per 0.75 σ, within about 1e−3) from
+/// the gamma with the product's two moments, then on `nodes` from there,
+/// to about 1e−6 relative.
+pub fn product_quantile(q: &[(f64, f64)], k: f64, nodes: &[(f64, f64)], p: f64) -> Option<f64> {
+    let mean_q: f64 = q.iter().map(|(l, h)| l * h).sum();
+    let v_q: f64 = q.iter().map(|(l, h)| 2.0 * h * l * l).sum::<f64>() / (mean_q * mean_q);
+    let v = (1.0 + v_q) * (1.0 + 2.0 / k) - 1.0;
+    let nu = 2.0 / v;
+    let guess = mean_q / nu * crate::stats::interval::chi2_quantile(p, nu).ok()?;
+    if !(guess.is_finite() && guess > 0.0) {
+        return None;
+    }
+    let coarse = log_gamma_nodes(k, 0.75);
+    let t = secant_in_log(
+        |t| product_cdf(q, &coarse, t.exp()) - p,
+        guess.ln(),
+        0.05,
+        1e-4,
+    )?;
+    let t = secant_in_log(|t| product_cdf(q, nodes, t.exp()) - p, t, 1e-3, 1e-6)?;
+    let x = t.exp();
+    (x.is_finite() && x > 0.0).then_some(x)
+}
+
+/// The root of the increasing function `f` by the secant method from
+/// `start` and `start + step`, each step at most 1 and kept inside the
+/// bracket found so far (bisection when a step leaves it, steps of ½
+/// outward while one side is open), until a step is below `tol` or |f| below 2e−8 (the CDFs here are
+/// accurate to about 1e−7, Imhof's tail bound).
+fn secant_in_log(f: impl Fn(f64) -> f64, start: f64, step: f64, tol: f64) -> Option<f64> {
+    let (mut lo, mut hi) = (f64::NEG_INFINITY, f64::INFINITY);
+    let (mut t0, mut t1) = (start, start + step);
+    let (mut f0, mut f1) = (f(t0), f(t1));
+    for (t, ft) in [(t0, f0), (t1, f1)] {
+        if ft < 0.0 {
+            lo = lo.max(t);
+        } else {
+            hi = hi.min(t);
+        }
+    }
+    for _ in 0..200 {
+        if f1.abs() < 2e-8 {
+            break;
+        }
+        // A secant step through a flat tail can be huge: at most 1 in ln x.
+        let mut t2 = if f1 != f0 {
+            (t1 - f1 * (t1 - t0) / (f1 - f0)).clamp(t1 - 1.0, t1 + 1.0)
+        } else {
+            f64::NAN
+        };
+        if !(t2 > lo && t2 < hi) {
+            t2 = match (lo.is_finite(), hi.is_finite()) {
+                (true, true) => 0.5 * (lo + hi),
+                (true, false) => lo + 0.5,
+                (false, true) => hi - 0.5,
+                _ => return None,
+            };
+        }
+        let f2 = f(t2);
+        if f2 < 0.0 {
+            lo = lo.max(t2);
+        } else {
+            hi = hi.min(t2);
+        }
+        (t0, f0, t1, f1) = (t1, f1, t2, f2);
+        if (t1 - t0).abs() < tol || (hi - lo) < tol {
+            break;
+        }
+    }
+    t1.is_finite().then_some(t1)
+}
+
+/// The pivot quantiles (q_lo, q_hi) of TheoH²/E\[TheoH²\] at its ThêoBR
+/// part (Theo1 factor m, `n` samples, noise α, two-sided `confidence`):
+/// the product distribution of [`theoh_factors`], remembered per
+/// (α, m, n, confidence). `None` where Theo1 or the excess has no rule
+/// for α.
+pub fn theoh_pivot_quantiles(
+    alpha: i32,
+    m: usize,
+    n: usize,
+    confidence: f64,
+) -> Option<(f64, f64)> {
+    static CACHE: Cache<(i32, usize, usize, u64), (f64, f64)> = OnceLock::new();
+    if !(confidence > 0.0 && confidence < 1.0) {
+        return None;
+    }
+    crate::stats::cached(&CACHE, (alpha, m, n, confidence.to_bits()), || {
+        let (q, k) = theoh_factors(alpha, m, n)?;
+        let (p_lo, p_hi) = (0.5 * (1.0 - confidence), 0.5 * (1.0 + confidence));
+        let (lo, hi) = match k {
+            Some(k) => {
+                let nodes = log_gamma_nodes(k, PRODUCT_NODES_PER_SIGMA);
+                (
+                    product_quantile(&q, k, &nodes, p_lo)?,
+                    product_quantile(&q, k, &nodes, p_hi)?,
+                )
+            }
+            None => (
+                weighted_chi2::quantile_with(&q, p_lo).ok()?,
+                weighted_chi2::quantile_with(&q, p_hi).ok()?,
+            ),
+        };
+        (lo > 0.0 && hi > lo && hi.is_finite()).then_some((lo, hi))
+    })
+}
+
+/// The two-sided interval (σ_lo, σ_hi) on TheoH's deviation `dev` at its
+/// ThêoBR part (Theo1 factor m, `n` samples, noise α, EDF `edf` — that of
+/// [`crate::stats::theo::theoh_edf`]) and the method used: the pivot
+/// interval σ² ∈ \[σ̂²/q_hi, σ̂²/q_lo\] of the product distribution
+/// ([`theoh_pivot_quantiles`]), with the union with the χ²_ν interval at
+/// [`GUARD_CONFIDENCE`] and above as for every other estimator
+/// ([`interval_for`]); χ²_ν where the product has no rule.
+///
+/// Errors as [`crate::stats::interval()`].
+pub fn theoh_interval(
+    alpha: i32,
+    m: usize,
+    n: usize,
+    dev: f64,
+    edf: f64,
+    confidence: f64,
+) -> crate::Result<(f64, f64, IntervalMethod)> {
+    theoh_interval_rule(alpha, m, n, dev, edf, confidence, true)
+}
+
+/// [`theoh_interval`] with the guard on or off (as [`interval_for_rule`]).
+pub fn theoh_interval_rule(
+    alpha: i32,
+    m: usize,
+    n: usize,
+    dev: f64,
+    edf: f64,
+    confidence: f64,
+    guard: bool,
+) -> crate::Result<(f64, f64, IntervalMethod)> {
+    let pivot = theoh_pivot_quantiles(alpha, m, n, confidence);
+    pivot_interval(
+        dev,
+        edf,
+        confidence,
+        pivot,
+        IntervalMethod::FormTimesRatio,
+        guard,
+    )
 }

@@ -43,6 +43,14 @@
 //! taken as 0. At N = 4096, T/τ = 8 this takes TheoH's white-FM EDF from
 //! Theo1's 30 to 15.
 //!
+//! The interval is not χ²_ν with that EDF (which over-covered: 0.80 at
+//! 68.3 % for the FM noises at T/τ = 2, seeded Monte Carlo, N = 4096):
+//! TheoH²/E\[TheoH²\] is taken as Q·R, Q Theo1's own quadratic-form
+//! distribution at τ and R an independent gamma factor of mean 1 and
+//! relative variance Δ/(1 + V_Q), so that Q·R has the relative variance
+//! V_Q + Δ (V_Q = 2/ν of Q) and hence the EDF above
+//! ([`crate::stats::form_interval::theoh_interval`], `form-times-ratio`).
+//!
 //! ThêoBR assumes that Theo1/AVAR is the same at every τ. It is for the FM
 //! noises (self-similar) but not for PM noise: for white PM
 //! E\[Theo1\]/AVAR = H_{m/2} + 1/m grows like ln m, so a ratio measured at
@@ -146,6 +154,17 @@ pub fn theoh_excess(alpha: i32, n_phase: usize, m: usize) -> Option<f64> {
     let (x0, x1) = (NODES[j].ln(), NODES[j + 1].ln());
     let w = ((x - x0) / (x1 - x0)).clamp(0.0, 1.0);
     Some(table[j] * (1.0 - w) + table[j + 1] * w)
+}
+
+/// True when TheoH's estimate with factor m on a record of `n_phase`
+/// samples is its ThêoBR part (Theo1 factor m, τ = 0.75·m·τ0 at or beyond
+/// the switch at 10 % of the record), false when it is the OADEV part
+/// (grid factor m, τ = m·τ0 below the switch): the OADEV part has
+/// m < 0.1·(N − 1), the ThêoBR part m = 2·round(m_g/1.5) ≥ (4/3)·m_g − 1
+/// with m_g ≥ 0.1·(N − 1), which is at least 0.1·(N − 1) for N ≥ 31 (and
+/// ThêoBR needs N ≥ 90), so m alone tells them apart, without τ0.
+pub fn theoh_ratio_part(n_phase: usize, m: usize) -> bool {
+    m as f64 >= 0.1 * n_phase.saturating_sub(1) as f64
 }
 
 /// EDF of TheoH's ThêoBR part at the Theo1 factor m from N phase samples:
