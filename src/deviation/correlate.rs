@@ -18,6 +18,7 @@
 use realfft::num_complex::Complex;
 use realfft::{RealFftPlanner, RealToComplex};
 use std::cell::RefCell;
+use std::collections::HashMap;
 use std::sync::Arc;
 
 /// FFT size from which a plan is made for one call and the call runs alone.
@@ -31,8 +32,8 @@ static BIG_LOCK: std::sync::Mutex<()> = std::sync::Mutex::new(());
 const CACHE_POINTS: usize = 1 << 20;
 
 thread_local! {
-    /// The thread's planner and the points of the plans it holds.
-    static PLANNER: RefCell<(RealFftPlanner<f64>, usize)> = RefCell::new((RealFftPlanner::new(), 0));
+    /// The thread's plans by (size, with inverse), and the points they hold.
+    static PLANS: RefCell<(HashMap<(usize, bool), Pair>, usize)> = RefCell::new((HashMap::new(), 0));
 }
 
 /// The smallest even 2^a·3^b·5^c ≥ n (n ≥ 1).
@@ -59,31 +60,42 @@ pub(crate) fn smooth_size(n: usize) -> usize {
 /// The forward real FFT of one size, and its inverse when asked, from the
 /// thread's planner (small sizes) or a planner of their own (from [`BIG`]
 /// on).
+#[derive(Clone)]
 struct Pair {
     fwd: Arc<dyn RealToComplex<f64>>,
     inv: Option<Arc<dyn realfft::ComplexToReal<f64>>>,
 }
 
+/// The plans of one size, kept per thread below [`BIG`] points.
+///
+/// Each plan comes from a planner of its own: a planner that has planned
+/// other sizes may build the same size from different inner transforms,
+/// which moves the last bits of the result, and a statistic at τ must not
+/// depend on which other τ were computed before it on the thread.
 fn plans(size: usize, with_inverse: bool) -> Pair {
-    if size >= BIG {
+    let fresh = || {
         let mut p = RealFftPlanner::<f64>::new();
-        return Pair {
-            fwd: p.plan_fft_forward(size),
-            inv: with_inverse.then(|| p.plan_fft_inverse(size)),
-        };
-    }
-    PLANNER.with(|cell| {
-        let mut cell = cell.borrow_mut();
-        let points = size * (1 + usize::from(with_inverse));
-        if cell.1 + points > CACHE_POINTS {
-            *cell = (RealFftPlanner::new(), 0);
-        }
-        cell.1 += points;
-        let p = &mut cell.0;
         Pair {
             fwd: p.plan_fft_forward(size),
             inv: with_inverse.then(|| p.plan_fft_inverse(size)),
         }
+    };
+    if size >= BIG {
+        return fresh();
+    }
+    PLANS.with(|cell| {
+        let mut cell = cell.borrow_mut();
+        if let Some(pair) = cell.0.get(&(size, with_inverse)) {
+            return pair.clone();
+        }
+        let points = size * (1 + usize::from(with_inverse));
+        if cell.1 + points > CACHE_POINTS {
+            *cell = (HashMap::new(), 0);
+        }
+        cell.1 += points;
+        let pair = fresh();
+        cell.0.insert((size, with_inverse), pair.clone());
+        pair
     })
 }
 
