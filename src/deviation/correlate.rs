@@ -31,9 +31,12 @@ static BIG_LOCK: std::sync::Mutex<()> = std::sync::Mutex::new(());
 /// twiddle tables stay below about 16 bytes × this (16 MB) per thread.
 const CACHE_POINTS: usize = 1 << 20;
 
+/// A thread's plans by (size, with inverse), and the points they hold.
+type PlanCache = (HashMap<(usize, bool), Pair>, usize);
+
 thread_local! {
-    /// The thread's plans by (size, with inverse), and the points they hold.
-    static PLANS: RefCell<(HashMap<(usize, bool), Pair>, usize)> = RefCell::new((HashMap::new(), 0));
+    /// The thread's plans.
+    static PLANS: RefCell<PlanCache> = RefCell::new((HashMap::new(), 0));
 }
 
 /// The smallest even 2^a·3^b·5^c ≥ n (n ≥ 1).
