@@ -28,16 +28,9 @@ use tauwise::deviation::{compute, Estimator};
 use tauwise::tau::TauGrid;
 use tauwise::PhaseRecord;
 
-/// Process CPU time in seconds (utime + stime of /proc/self/stat, in clock
-/// ticks of 1/100 s); None where /proc is not available.
-fn cpu_seconds() -> Option<f64> {
-    let stat = std::fs::read_to_string("/proc/self/stat").ok()?;
-    let after = stat.rsplit_once(')')?.1;
-    let fields: Vec<&str> = after.split_whitespace().collect();
-    let utime: f64 = fields.get(11)?.parse().ok()?;
-    let stime: f64 = fields.get(12)?.parse().ok()?;
-    Some((utime + stime) / 100.0)
-}
+#[path = "common/mod.rs"]
+mod common;
+use common::cpu_seconds;
 
 /// A `kB` field of /proc/self/status (`VmRSS`, `VmHWM`) in bytes.
 fn status_bytes(key: &str) -> Option<f64> {
@@ -71,15 +64,11 @@ fn main() {
         .collect();
     let rec = PhaseRecord::new(x, 1.0).expect("record");
     let record_bytes = 8.0 * n as f64;
-    let load = std::fs::read_to_string("/proc/loadavg").unwrap_or_default();
     println!(
         "N = {n}, threads = {}, record {:.0} MB, load average {}",
         rayon::current_num_threads(),
         record_bytes / 1e6,
-        load.split_whitespace()
-            .take(3)
-            .collect::<Vec<_>>()
-            .join(" ")
+        common::load_average()
     );
     for est in ests {
         let ms = TauGrid::Octave.ms(1.0, est.max_m(n)).expect("grid");

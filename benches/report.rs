@@ -31,32 +31,9 @@ use std::time::Instant;
 use tauwise::io::dut::Dut;
 use tauwise::report::build::{from_dut_with_progress, BuildOptions};
 
-/// Process CPU time in seconds (utime + stime of /proc/self/stat, in clock
-/// ticks of 1/100 s); None where /proc is not available.
-fn cpu_seconds() -> Option<f64> {
-    let stat = std::fs::read_to_string("/proc/self/stat").ok()?;
-    let after = stat.rsplit_once(')')?.1;
-    let fields: Vec<&str> = after.split_whitespace().collect();
-    let utime: f64 = fields.get(11)?.parse().ok()?;
-    let stime: f64 = fields.get(12)?.parse().ok()?;
-    Some((utime + stime) / 100.0)
-}
-
-/// CPU time of the waited-for children in seconds (cutime + cstime).
-fn children_cpu_seconds() -> Option<f64> {
-    let stat = std::fs::read_to_string("/proc/self/stat").ok()?;
-    let after = stat.rsplit_once(')')?.1;
-    let fields: Vec<&str> = after.split_whitespace().collect();
-    let cutime: f64 = fields.get(13)?.parse().ok()?;
-    let cstime: f64 = fields.get(14)?.parse().ok()?;
-    Some((cutime + cstime) / 100.0)
-}
-
-fn load_average() -> String {
-    std::fs::read_to_string("/proc/loadavg")
-        .map(|s| s.split_whitespace().take(3).collect::<Vec<_>>().join(" "))
-        .unwrap_or_else(|_| "n/a".into())
-}
+#[path = "common/mod.rs"]
+mod common;
+use common::{children_cpu_seconds, cpu_seconds, load_average};
 
 fn median(v: &mut [f64]) -> f64 {
     v.sort_by(f64::total_cmp);

@@ -19,16 +19,9 @@ use tauwise::model::PowerLaw;
 use tauwise::wander::{analyse, masks::builtin, masks::Metric, plan, Options};
 use tauwise::PhaseRecord;
 
-/// Process CPU time in seconds (utime + stime of /proc/self/stat, in clock
-/// ticks of 1/100 s); None where /proc is not available.
-fn cpu_seconds() -> Option<f64> {
-    let stat = std::fs::read_to_string("/proc/self/stat").ok()?;
-    let after = stat.rsplit_once(')')?.1;
-    let fields: Vec<&str> = after.split_whitespace().collect();
-    let utime: f64 = fields.get(11)?.parse().ok()?;
-    let stime: f64 = fields.get(12)?.parse().ok()?;
-    Some((utime + stime) / 100.0)
-}
+#[path = "common/mod.rs"]
+mod common;
+use common::cpu_seconds;
 
 fn timed<T>(label: &str, f: impl FnOnce() -> T) -> T {
     let c0 = cpu_seconds();

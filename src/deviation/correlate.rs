@@ -39,25 +39,10 @@ thread_local! {
     static PLANS: RefCell<PlanCache> = RefCell::new((HashMap::new(), 0));
 }
 
-/// The smallest even 2^a·3^b·5^c ≥ n (n ≥ 1).
+/// The smallest even 2^a·3^b·5^c ≥ n (n ≥ 1): twice the smallest
+/// 2^a·3^b·5^c ≥ ⌈n/2⌉ ([`crate::simulate::fast_len`]).
 pub(crate) fn smooth_size(n: usize) -> usize {
-    let n = n.max(2);
-    let mut best = n.next_power_of_two();
-    let mut p5 = 1usize;
-    while p5 < best {
-        let mut p35 = p5;
-        while p35 < best {
-            // The power of two that brings p35 to at least n (at least 2).
-            let mut v = p35 * 2;
-            while v < n {
-                v *= 2;
-            }
-            best = best.min(v);
-            p35 *= 3;
-        }
-        p5 *= 5;
-    }
-    best
+    2 * crate::simulate::fast_len(n.max(2).div_ceil(2))
 }
 
 /// The forward real FFT of one size, and its inverse when asked, from the

@@ -674,32 +674,17 @@ fn run_sum(
         for c in &mut cur {
             c.advance(vv);
         }
-        let uf0 = n as f64;
-        let vc: [f64; 4] = std::array::from_fn(|c| vv[n + plan.offsets[c]]);
-        let mut cross = 0.0;
-        for (t, &(a, plus)) in plan.terms.iter().enumerate() {
+        acc += point_sum(plan, vv, n, |a, plus| {
             let j = a / m;
-            let uf = uf0 + a as f64;
-            let w = if plus {
+            let d = if plus {
                 // [u, u + m): cursors j (at n + A) and j + 1 (at n + A + m).
-                let [d0, d1, d2] = old[j + 1].minus(&old[j]);
-                [d0, d1 - uf * d0, d2 - 2.0 * uf * d1 + uf * uf * d0]
+                old[j + 1].minus(&old[j])
             } else {
                 // (u − m, u]: cursors j − 1 and j, one sample on.
-                let [d0, d1, d2] = cur[j].minus(&cur[j - 1]);
-                [d0, uf * d0 - d1, uf * uf * d0 - 2.0 * uf * d1 + d2]
+                cur[j].minus(&cur[j - 1])
             };
-            let e = &plan.cross[t];
-            for (p, wp) in w.iter().enumerate() {
-                let coef = e[0][p] * vc[0] + e[1][p] * vc[1] + e[2][p] * vc[2] + e[3][p] * vc[3];
-                cross += coef * wp;
-            }
-        }
-        let mut own = 0.0;
-        for (c1, row) in plan.own.iter().enumerate() {
-            own += vc[c1] * (row[0] * vc[0] + row[1] * vc[1] + row[2] * vc[2] + row[3] * vc[3]);
-        }
-        acc += 2.0 * cross + own;
+            centred(d, (n + a) as f64, plus)
+        });
     }
     if len > BIG_RUN_LEN {
         // Give a record-sized scratch back before the next long run may
@@ -736,35 +721,49 @@ fn fixed_part_stored(plan: &Plan, vv: &[f64], count: usize, pre: [&mut Vec<f64>;
     // Σ_r r^p V_{u±r} for p = 0, 1, 2.
     let window = |u: usize, plus: bool| -> [f64; 3] {
         let (a, b) = if plus { (u, u + m) } else { (u + 1 - m, u + 1) };
-        let d0 = m0[b] - m0[a];
-        let d1 = m1[b] - m1[a];
-        let d2 = m2[b] - m2[a];
-        let uf = u as f64;
-        if plus {
-            [d0, d1 - uf * d0, d2 - 2.0 * uf * d1 + uf * uf * d0]
-        } else {
-            [d0, uf * d0 - d1, uf * uf * d0 - 2.0 * uf * d1 + d2]
-        }
+        centred(
+            [m0[b] - m0[a], m1[b] - m1[a], m2[b] - m2[a]],
+            u as f64,
+            plus,
+        )
     };
-    let mut acc = 0.0;
-    for n in 0..count {
-        let vc: [f64; 4] = std::array::from_fn(|c| vv[n + plan.offsets[c]]);
-        let mut cross = 0.0;
-        for (t, &(a, plus)) in plan.terms.iter().enumerate() {
-            let w = window(n + a, plus);
-            let e = &plan.cross[t];
-            for (p, wp) in w.iter().enumerate() {
-                let coef = e[0][p] * vc[0] + e[1][p] * vc[1] + e[2][p] * vc[2] + e[3][p] * vc[3];
-                cross += coef * wp;
-            }
-        }
-        let mut own = 0.0;
-        for (c1, row) in plan.own.iter().enumerate() {
-            own += vc[c1] * (row[0] * vc[0] + row[1] * vc[1] + row[2] * vc[2] + row[3] * vc[3]);
-        }
-        acc += 2.0 * cross + own;
+    (0..count)
+        .map(|n| point_sum(plan, vv, n, |a, plus| window(n + a, plus)))
+        .sum()
+}
+
+/// The window sums Σ_r r^p·V_{u±r} (p = 0, 1, 2) from the raw sums
+/// d_p = Σ_s s^p·V_s over the window ([u, u + m) when `plus`, (u − m, u]
+/// otherwise), by r = s − u (plus) or r = u − s (minus).
+#[inline]
+fn centred([d0, d1, d2]: [f64; 3], u: f64, plus: bool) -> [f64; 3] {
+    if plus {
+        [d0, d1 - u * d0, d2 - 2.0 * u * d1 + u * u * d0]
+    } else {
+        [d0, u * d0 - d1, u * u * d0 - 2.0 * u * d1 + d2]
     }
-    acc
+}
+
+/// The fixed part's contribution of point n: 2·Σ_terms (cross table ·
+/// window sums) + the own table's quadratic form in V at the plan's four
+/// offsets; `window(A, plus)` gives the window sums of the term at offset A.
+#[inline]
+fn point_sum(plan: &Plan, vv: &[f64], n: usize, window: impl Fn(usize, bool) -> [f64; 3]) -> f64 {
+    let vc: [f64; 4] = std::array::from_fn(|c| vv[n + plan.offsets[c]]);
+    let mut cross = 0.0;
+    for (t, &(a, plus)) in plan.terms.iter().enumerate() {
+        let w = window(a, plus);
+        let e = &plan.cross[t];
+        for (p, wp) in w.iter().enumerate() {
+            let coef = e[0][p] * vc[0] + e[1][p] * vc[1] + e[2][p] * vc[2] + e[3][p] * vc[3];
+            cross += coef * wp;
+        }
+    }
+    let mut own = 0.0;
+    for (c1, row) in plan.own.iter().enumerate() {
+        own += vc[c1] * (row[0] * vc[0] + row[1] * vc[1] + row[2] * vc[2] + row[3] * vc[3]);
+    }
+    2.0 * cross + own
 }
 
 /// G(m) by the exact O(N)-per-τ form: (Σ of mean squares, subsequences used).
