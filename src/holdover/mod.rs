@@ -331,12 +331,13 @@ pub fn predict_spans(model: &HoldoverModel, settings: &[Settings]) -> Result<Vec
 /// and scaled for each job. That is how the comparison report draws the
 /// paths of all its devices once.
 ///
-/// Nothing of size paths × steps is held. Each worker keeps, per job and
-/// step, the largest values of |TE| that the step's p95 can depend on
-/// ([`TopValues`]: at most 2·(paths − ⌊0.95·(paths − 1)⌋) values a step),
-/// and each path's first step out of the budget and its TE at the output
-/// times; the percentiles are then those of the whole set of paths, exactly
-/// (the reference test keeps the table of every path and step).
+/// Nothing of size paths × steps is held. Each job keeps, per step, the
+/// largest values of |TE| that the step's p95 can depend on ([`TopValues`]:
+/// at most 2·(paths − ⌊0.95·(paths − 1)⌋) values a step, 6.6 MB for 2000
+/// paths of 4096 steps where their table took 66 MB), and each path's first
+/// step out of the budget and its TE at the output times; the percentiles
+/// are then those of the whole set of paths, exactly (the reference test
+/// keeps the table of every path and step).
 ///
 /// A job whose model or settings are refused gets its own error; the
 /// others are made.
@@ -369,9 +370,9 @@ pub fn predict_many(jobs: &[(&HoldoverModel, &Settings)]) -> Vec<Result<Predicti
             })
             .collect();
         let per_job = TopValues::bytes(s.steps, top_count(s.paths));
-        // Batches whose kept values fit in a quarter of the table limit
-        // per worker (each batch draws the paths again: the same draws).
-        let per_batch = ((MAX_TABLE_BYTES / 4) as u128 / per_job.max(1)).max(1) as usize;
+        // Batches whose kept values fit in the table limit (each batch
+        // draws the paths again: the same draws).
+        let per_batch = (MAX_TABLE_BYTES as u128 / per_job.max(1)).max(1) as usize;
         for batch in group.chunks(per_batch) {
             let chosen: Vec<(&HoldoverModel, &Settings, &Plan)> = batch
                 .iter()
@@ -492,80 +493,67 @@ fn simulate_jobs(jobs: &[(&HoldoverModel, &Settings, &Plan)]) -> Vec<Prediction>
         .collect();
     let pairs = np.div_ceil(2);
     let chunks = pairs.div_ceil(CHUNK_PAIRS);
-    let batch_bytes: u128 = TopValues::bytes(n, keep) * jobs.len() as u128;
-    let lanes_by_memory = (MAX_TABLE_BYTES as u128 / batch_bytes.max(1)).max(1) as usize;
-    let lanes = rayon::current_num_threads()
-        .min(chunks)
-        .min(lanes_by_memory)
-        .max(1);
+    let tops: Vec<TopValues> = jobs.iter().map(|_| TopValues::new(n, keep)).collect();
+    let lanes = rayon::current_num_threads().min(chunks).max(1);
     let next = AtomicUsize::new(0);
     // Each lane takes the next chunk of pairs until none is left, so a
-    // busy core slows only its own lane; the lanes' kept values are merged
-    // at the end (a percentile of a set does not depend on who saw which
-    // value).
-    let tops: Vec<Vec<TopValues>> = (0..lanes)
-        .into_par_iter()
-        .map(|_| {
-            let mut tops: Vec<TopValues> = jobs.iter().map(|_| TopValues::new(n, keep)).collect();
-            let mut ws = paths::PathWorkspace::default();
-            let mut x = vec![0.0f64; n + 1];
-            // Each job's rows of the chunk's paths, pushed into its kept
-            // values together (step tile by step tile) once the chunk is
-            // drawn.
-            let mut rows: Vec<Vec<f64>> = jobs
-                .iter()
-                .map(|_| vec![0.0f64; 2 * CHUNK_PAIRS * n])
-                .collect();
-            let mut at = Vec::new();
-            loop {
-                let c = next.fetch_add(1, Relaxed);
-                if c >= chunks {
-                    break;
+    // busy core slows only its own lane.
+    (0..lanes).into_par_iter().for_each(|_| {
+        let mut ws = paths::PathWorkspace::default();
+        let mut x = vec![0.0f64; n + 1];
+        // Each job's rows of the chunk's paths, pushed into its kept
+        // values together (tile by tile) once the chunk is drawn.
+        let mut rows: Vec<Vec<f64>> = jobs
+            .iter()
+            .map(|_| vec![0.0f64; 2 * CHUNK_PAIRS * n])
+            .collect();
+        let mut at = Vec::new();
+        loop {
+            let c = next.fetch_add(1, Relaxed);
+            if c >= chunks {
+                break;
+            }
+            let first_pair = c * CHUNK_PAIRS;
+            let last_pair = ((c + 1) * CHUNK_PAIRS).min(pairs);
+            let (p0, p1) = (2 * first_pair, (2 * last_pair).min(np));
+            for i in first_pair..last_pair {
+                let pa = 2 * i;
+                let pb = (2 * i + 1 < np).then_some(2 * i + 1);
+                ws.draw_pair(&alphas, n, seed, pa, pb);
+                let mut members = vec![(pa, false, path_errors(seed, pa))];
+                if let Some(pb) = pb {
+                    members.push((pb, true, path_errors(seed, pb)));
                 }
-                let first_pair = c * CHUNK_PAIRS;
-                let last_pair = ((c + 1) * CHUNK_PAIRS).min(pairs);
-                let (p0, p1) = (2 * first_pair, (2 * last_pair).min(np));
-                for i in first_pair..last_pair {
-                    let pa = 2 * i;
-                    let pb = (2 * i + 1 < np).then_some(2 * i + 1);
-                    ws.draw_pair(&alphas, n, seed, pa, pb);
-                    let mut members = vec![(pa, false, path_errors(seed, pa))];
-                    if let Some(pb) = pb {
-                        members.push((pb, true, path_errors(seed, pb)));
-                    }
-                    for (j, ((_, _, plan), col)) in jobs.iter().zip(&collectors).enumerate() {
-                        at.resize(col.ks.len(), 0.0);
-                        for &(p, b, e) in &members {
-                            let row = &mut rows[j][(p - p0) * n..(p - p0 + 1) * n];
-                            ws.path(&plan.scales, b, &mut x);
-                            plan.row(e, &x, row);
-                            let fo = col.scan(row, &mut at);
-                            first_out[j][p].store(fo, Relaxed);
-                            let nks = at.len();
-                            for (slot, v) in at_ks[j][p * nks..(p + 1) * nks].iter().zip(&at) {
-                                slot.store(v.to_bits(), Relaxed);
-                            }
+                for (j, ((_, _, plan), col)) in jobs.iter().zip(&collectors).enumerate() {
+                    at.resize(col.ks.len(), 0.0);
+                    for &(p, b, e) in &members {
+                        let row = &mut rows[j][(p - p0) * n..(p - p0 + 1) * n];
+                        ws.path(&plan.scales, b, &mut x);
+                        plan.row(e, &x, row);
+                        let fo = col.scan(row, &mut at);
+                        first_out[j][p].store(fo, Relaxed);
+                        let nks = at.len();
+                        for (slot, v) in at_ks[j][p * nks..(p + 1) * nks].iter().zip(&at) {
+                            slot.store(v.to_bits(), Relaxed);
                         }
                     }
                 }
-                for ((top, col), r) in tops.iter_mut().zip(&collectors).zip(&rows) {
-                    top.push_rows(&r[..(p1 - p0) * n], col.temp, col.step);
-                }
             }
-            tops
-        })
-        .collect();
+            for ((top, col), r) in tops.iter().zip(&collectors).zip(&rows) {
+                top.push_rows(&r[..(p1 - p0) * n], col.temp, col.step, c);
+            }
+        }
+    });
     jobs.iter()
         .zip(&collectors)
         .enumerate()
         .map(|(j, (&(m, s, _), col))| {
-            let lane_tops: Vec<&TopValues> = tops.iter().map(|t| &t[j]).collect();
             let fo: Vec<usize> = first_out[j].iter().map(|a| a.load(Relaxed)).collect();
             let at: Vec<f64> = at_ks[j]
                 .iter()
                 .map(|a| f64::from_bits(a.load(Relaxed)))
                 .collect();
-            col.finish(m, s, &lane_tops, &fo, &at)
+            col.finish(m, s, &tops[j], &fo, &at)
         })
         .collect()
 }
@@ -609,95 +597,125 @@ fn top_count(paths: usize) -> usize {
 /// below every value |TE| + c a step can hold.
 const LOWEST: f64 = f64::from_bits(u64::MAX);
 
-/// One worker's largest values of |TE(k·step)| + temp·k·step at each step
-/// k, enough for the step's p95 over all the paths: each step keeps a
+/// The largest values of |TE(k·step)| + temp·k·step at each step k of one
+/// job, enough for the step's p95 over all the paths: each step keeps a
 /// buffer of up to 2·keep values and a threshold; a value at or below the
 /// threshold is dropped, and a full buffer keeps its `keep` largest (the
 /// new threshold their least). So every value dropped has at least `keep`
-/// kept values at or above it, and the kept values of all the workers hold
-/// the `keep` largest of the whole set (ties: equal values are
-/// interchangeable). The cost is a comparison a value and, on average,
-/// about 2·keep + keep·ln(paths/(2·keep)) stores a step.
+/// kept values at or above it, and the kept values hold the `keep` largest
+/// of the whole set (ties: equal values are interchangeable). The steps are
+/// held in tiles of [`STEP_TILE`], each behind its own lock, and every
+/// worker pushes into the one set (whoever pushes first, the kept values
+/// are the same set's largest). The cost is a comparison a value and, on
+/// average, about 2·keep + keep·ln(paths/(2·keep)) stores a step. Values
+/// are held as their [`order_key`], so that the cuts sort integers.
 struct TopValues {
+    n: usize,
     keep: usize,
-    cap: usize,
-    len: Vec<usize>,
-    /// Each step's threshold as its [`order_key`].
-    thr: Vec<i64>,
-    buf: Vec<f64>,
+    tiles: Vec<std::sync::Mutex<Tile>>,
 }
 
-/// Steps taken at a time by [`TopValues::push_rows`].
+/// The steps `start` … `start + len.len() − 1` of a [`TopValues`].
+struct Tile {
+    start: usize,
+    len: Vec<usize>,
+    /// Each step's threshold.
+    thr: Vec<i64>,
+    buf: Vec<i64>,
+}
+
+/// Steps held in one [`Tile`] (a multiple of [`STEP_BLOCK`]).
 const STEP_TILE: usize = 256;
 
-/// An integer whose order is [`f64::total_cmp`]'s (the same bit trick).
+/// An integer whose order is [`f64::total_cmp`]'s (the same bit trick; it
+/// is its own inverse on the bits, [`from_order_key`]).
 #[inline]
 fn order_key(v: f64) -> i64 {
     let b = v.to_bits() as i64;
     b ^ ((((b >> 63) as u64) >> 1) as i64)
 }
 
+/// The f64 of an [`order_key`].
+#[inline]
+fn from_order_key(k: i64) -> f64 {
+    f64::from_bits((k ^ ((((k >> 63) as u64) >> 1) as i64)) as u64)
+}
+
 impl TopValues {
     fn new(n: usize, keep: usize) -> Self {
-        let cap = 2 * keep.max(1);
-        Self {
-            keep: keep.max(1),
-            cap,
-            len: vec![0; n],
-            thr: vec![order_key(LOWEST); n],
-            buf: vec![0.0; n * cap],
-        }
+        let keep = keep.max(1);
+        let cap = 2 * keep;
+        let tiles = (0..n)
+            .step_by(STEP_TILE)
+            .map(|start| {
+                let len = STEP_TILE.min(n - start);
+                std::sync::Mutex::new(Tile {
+                    start,
+                    len: vec![0; len],
+                    thr: vec![order_key(LOWEST); len],
+                    buf: vec![0; len * cap],
+                })
+            })
+            .collect();
+        Self { n, keep, tiles }
     }
 
-    /// Working memory of one worker for one job, bytes.
+    /// Working memory of one job, bytes.
     fn bytes(n: usize, keep: usize) -> u128 {
         n as u128 * (2 * keep.max(1) as u128 * 8 + 16)
     }
 
     /// Take the values |TE| + temp·t of paths whose signed TE at steps
-    /// 1 … n are `rows` (path after path), step tile by step tile, so
-    /// that each step's buffer is touched once per tile and the rows'
-    /// values once per step.
-    fn push_rows(&mut self, rows: &[f64], temp: f64, step: f64) {
-        let n = self.thr.len();
-        if n == 0 {
+    /// 1 … n are `rows` (path after path), tile by tile (starting at tile
+    /// `first`, so that workers seldom wait for one another), each tile's
+    /// steps for all the rows while it is held.
+    fn push_rows(&self, rows: &[f64], temp: f64, step: f64, first: usize) {
+        let (n, cap, keep) = (self.n, 2 * self.keep, self.keep);
+        if n == 0 || self.tiles.is_empty() {
             return;
         }
-        for tile in (0..n).step_by(STEP_TILE) {
-            let end = (tile + STEP_TILE).min(n);
+        let count = self.tiles.len();
+        for t in 0..count {
+            let mut guard = self.tiles[(first + t) % count]
+                .lock()
+                .unwrap_or_else(|e| e.into_inner());
+            let tile = &mut *guard;
+            let (start, width) = (tile.start, tile.len.len());
             for row in rows.chunks_exact(n) {
-                for (k, &te) in row[tile..end].iter().enumerate() {
-                    let k = tile + k;
-                    let v = te.abs() + temp * ((k + 1) as f64 * step);
-                    if order_key(v) > self.thr[k] {
-                        self.insert(k, v);
+                for (i, &te) in row[start..start + width].iter().enumerate() {
+                    let v = order_key(te.abs() + temp * ((start + i + 1) as f64 * step));
+                    if v > tile.thr[i] {
+                        let l = tile.len[i];
+                        let kept = &mut tile.buf[i * cap..(i + 1) * cap];
+                        kept[l] = v;
+                        if l + 1 == cap {
+                            let cut = cap - keep;
+                            kept.select_nth_unstable(cut);
+                            tile.thr[i] = kept[cut];
+                            kept.copy_within(cut.., 0);
+                            tile.len[i] = keep;
+                        } else {
+                            tile.len[i] = l + 1;
+                        }
                     }
                 }
             }
         }
     }
 
-    /// Keep `v` at step index k (above the step's threshold); a full
-    /// buffer keeps its `keep` largest and raises the threshold to their
-    /// least.
-    fn insert(&mut self, k: usize, v: f64) {
-        let l = self.len[k];
-        let row = &mut self.buf[k * self.cap..(k + 1) * self.cap];
-        row[l] = v;
-        if l + 1 == self.cap {
-            let cut = self.cap - self.keep;
-            row.select_nth_unstable_by(cut, f64::total_cmp);
-            self.thr[k] = order_key(row[cut]);
-            row.copy_within(cut.., 0);
-            self.len[k] = self.keep;
-        } else {
-            self.len[k] = l + 1;
+    /// Append the values kept at steps `k0 … k1 − 1` (0-based, within one
+    /// tile) to `out`, step after step; returns each step's count.
+    fn values(&self, k0: usize, k1: usize, out: &mut Vec<f64>, counts: &mut Vec<usize>) {
+        let cap = 2 * self.keep;
+        let guard = self.tiles[k0 / STEP_TILE]
+            .lock()
+            .unwrap_or_else(|e| e.into_inner());
+        for k in k0..k1 {
+            let i = k - guard.start;
+            let l = guard.len[i];
+            out.extend(guard.buf[i * cap..i * cap + l].iter().map(|&v| from_order_key(v)));
+            counts.push(l);
         }
-    }
-
-    /// The values kept at step index k (0-based).
-    fn values(&self, k: usize) -> &[f64] {
-        &self.buf[k * self.cap..k * self.cap + self.len[k]]
     }
 }
 
@@ -770,12 +788,12 @@ impl Collector {
 
     /// The prediction from every path's first step out of the budget
     /// (`first_out[p]`), TE at the output steps (`at[p·ks + j]`) and the
-    /// workers' kept values: percentiles, crossing and verdict.
+    /// kept values of every step: percentiles, crossing and verdict.
     fn finish(
         &self,
         model: &HoldoverModel,
         settings: &Settings,
-        tops: &[&TopValues],
+        top: &TopValues,
         first_out: &[usize],
         at: &[f64],
     ) -> Prediction {
@@ -784,14 +802,16 @@ impl Collector {
         let p95: Vec<f64> = (0..n.div_ceil(STEP_BLOCK))
             .into_par_iter()
             .map(|b| {
-                let mut buf = Vec::new();
-                (b * STEP_BLOCK..((b + 1) * STEP_BLOCK).min(n))
-                    .map(|k| {
-                        buf.clear();
-                        for t in tops {
-                            buf.extend_from_slice(t.values(k));
-                        }
-                        percentile_from_top(&mut buf, np, 0.95)
+                let (k0, k1) = (b * STEP_BLOCK, ((b + 1) * STEP_BLOCK).min(n));
+                let (mut vals, mut counts) = (Vec::new(), Vec::new());
+                top.values(k0, k1, &mut vals, &mut counts);
+                let mut at = 0;
+                counts
+                    .iter()
+                    .map(|&c| {
+                        let v = percentile_from_top(&mut vals[at..at + c], np, 0.95);
+                        at += c;
+                        v
                     })
                     .collect::<Vec<f64>>()
             })
@@ -891,14 +911,14 @@ pub(crate) fn summarise(
     }
     let col = Collector::new(model, settings, n, step);
     let nks = col.ks.len();
-    let mut top = TopValues::new(n, top_count(np));
+    let top = TopValues::new(n, top_count(np));
     let mut first_out = vec![0usize; np];
     let mut at = vec![0.0f64; np * nks];
     for (p, row) in te.chunks(n).enumerate() {
         first_out[p] = col.scan(row, &mut at[p * nks..(p + 1) * nks]);
     }
-    top.push_rows(te, col.temp, step);
-    Ok(col.finish(model, settings, &[&top], &first_out, &at))
+    top.push_rows(te, col.temp, step, 0);
+    Ok(col.finish(model, settings, &top, &first_out, &at))
 }
 
 /// The verdict of a prediction (see [`Prediction::judgement`]): anything
