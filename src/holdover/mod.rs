@@ -540,7 +540,7 @@ fn simulate_jobs(jobs: &[(&HoldoverModel, &Settings, &Plan)]) -> Vec<Prediction>
                 }
             }
             for ((top, col), r) in tops.iter().zip(&collectors).zip(&rows) {
-                top.push_rows(&r[..(p1 - p0) * n], col.temp, col.step, c);
+                top.push_rows(&r[..(p1 - p0) * n], &col.added_p95, c);
             }
         }
     });
@@ -665,11 +665,12 @@ impl TopValues {
         n as u128 * (2 * keep.max(1) as u128 * 8 + 16)
     }
 
-    /// Take the values |TE| + temp·t of paths whose signed TE at steps
-    /// 1 … n are `rows` (path after path), tile by tile (starting at tile
+    /// Take the values |TE| + `added[k − 1]` (the worst-case temperature
+    /// term temp·(k·step)) of paths whose signed TE at steps 1 … n are
+    /// `rows` (path after path), tile by tile (starting at tile
     /// `first`, so that workers seldom wait for one another), each tile's
     /// steps for all the rows while it is held.
-    fn push_rows(&self, rows: &[f64], temp: f64, step: f64, first: usize) {
+    fn push_rows(&self, rows: &[f64], added: &[f64], first: usize) {
         let (n, cap, keep) = (self.n, 2 * self.keep, self.keep);
         if n == 0 || self.tiles.is_empty() {
             return;
@@ -682,21 +683,27 @@ impl TopValues {
             let tile = &mut *guard;
             let (start, width) = (tile.start, tile.len.len());
             for row in rows.chunks_exact(n) {
-                for (i, &te) in row[start..start + width].iter().enumerate() {
-                    let v = order_key(te.abs() + temp * ((start + i + 1) as f64 * step));
-                    if v > tile.thr[i] {
-                        let l = tile.len[i];
-                        let kept = &mut tile.buf[i * cap..(i + 1) * cap];
-                        kept[l] = v;
-                        if l + 1 == cap {
-                            let cut = cap - keep;
-                            kept.select_nth_unstable(cut);
-                            tile.thr[i] = kept[cut];
-                            kept.copy_within(cut.., 0);
-                            tile.len[i] = keep;
-                        } else {
-                            tile.len[i] = l + 1;
-                        }
+                let kept_rows = tile.buf.chunks_exact_mut(cap);
+                let steps = row[start..start + width]
+                    .iter()
+                    .zip(&added[start..start + width])
+                    .zip(tile.thr.iter_mut())
+                    .zip(tile.len.iter_mut())
+                    .zip(kept_rows);
+                for ((((&te, &c), thr), len), kept) in steps {
+                    let v = order_key(te.abs() + c);
+                    // Written in the first free place whether kept or not
+                    // (the place stays free when it is not): no branch on
+                    // a comparison that goes either way at random.
+                    let l = *len;
+                    kept[l] = v;
+                    *len = l + usize::from(v > *thr);
+                    if *len == cap {
+                        let cut = cap - keep;
+                        kept.select_nth_unstable(cut);
+                        *thr = kept[cut];
+                        kept.copy_within(cut.., 0);
+                        *len = keep;
                     }
                 }
             }
@@ -713,7 +720,11 @@ impl TopValues {
         for k in k0..k1 {
             let i = k - guard.start;
             let l = guard.len[i];
-            out.extend(guard.buf[i * cap..i * cap + l].iter().map(|&v| from_order_key(v)));
+            out.extend(
+                guard.buf[i * cap..i * cap + l]
+                    .iter()
+                    .map(|&v| from_order_key(v)),
+            );
             counts.push(l);
         }
     }
@@ -750,18 +761,27 @@ struct Collector {
     out_at_start: bool,
     /// The output steps ([`output_steps`]).
     ks: Vec<usize>,
+    /// temp·(k·step) for k = 1 … n: the worst-case temperature term added
+    /// to |TE| for each step's p95.
+    added_p95: Vec<f64>,
+    /// (temp·k)·step for k = 1 … n: the same term as the budget check of
+    /// each path adds it (the two roundings are kept as they were).
+    added_budget: Vec<f64>,
 }
 
 impl Collector {
     fn new(model: &HoldoverModel, settings: &Settings, n: usize, step: f64) -> Self {
+        let temp = model.temp_worst.abs();
         Self {
             n,
             np: settings.paths,
             step,
-            temp: model.temp_worst.abs(),
+            temp,
             budget: settings.budget,
             out_at_start: model.te0.abs() > settings.budget,
             ks: output_steps(n, settings.per_decade),
+            added_p95: (1..=n).map(|k| temp * (k as f64 * step)).collect(),
+            added_budget: (1..=n).map(|k| temp * k as f64 * step).collect(),
         }
     }
 
@@ -771,14 +791,27 @@ impl Collector {
     /// the span; 0: already at the start, |te0| > budget). Its values for
     /// each step's p95 go to [`TopValues::push_rows`].
     fn scan(&self, row: &[f64], at: &mut [f64]) -> usize {
-        let (n, temp, step) = (self.n, self.temp, self.step);
+        let (n, budget) = (self.n, self.budget);
+        let out = |(te, c): (&f64, &f64)| !(te.abs() + c <= budget);
         let first = if self.out_at_start {
             0
         } else {
-            row.iter()
-                .enumerate()
-                .position(|(i, te)| !(te.abs() + temp * (i + 1) as f64 * step <= self.budget))
-                .map_or(n + 1, |i| i + 1)
+            // Blocks checked whole (no early exit inside, so the check runs
+            // on several values at once), then the first step found in the
+            // first block that has one.
+            let blocks = row.chunks(64).zip(self.added_budget.chunks(64));
+            let mut first = n + 1;
+            for (b, (r, c)) in blocks.enumerate() {
+                if r.iter().zip(c).fold(false, |any, v| any | out(v)) {
+                    first = r
+                        .iter()
+                        .zip(c)
+                        .position(out)
+                        .map_or(n + 1, |i| b * 64 + i + 1);
+                    break;
+                }
+            }
+            first
         };
         for (slot, &k) in at.iter_mut().zip(&self.ks) {
             *slot = row[k - 1];
@@ -917,7 +950,7 @@ pub(crate) fn summarise(
     for (p, row) in te.chunks(n).enumerate() {
         first_out[p] = col.scan(row, &mut at[p * nks..(p + 1) * nks]);
     }
-    top.push_rows(te, col.temp, step, 0);
+    top.push_rows(te, &col.added_p95, 0);
     Ok(col.finish(model, settings, &top, &first_out, &at))
 }
 
