@@ -395,9 +395,10 @@ pub fn predict_many(jobs: &[(&HoldoverModel, &Settings)]) -> Vec<Result<Predicti
 struct Plan {
     alphas: Vec<i32>,
     scales: Vec<(i32, f64)>,
+    /// t_k = k·step, k = 0 … n.
+    t: Vec<f64>,
     base: Vec<f64>,
     unit: Vec<f64>,
-    n: usize,
     step: f64,
     sy0: f64,
     sd: f64,
@@ -418,11 +419,11 @@ impl Plan {
         Ok(Self {
             alphas: gen.alphas(),
             scales: gen.scales(),
+            t: (0..=n).map(|k| k as f64 * step).collect(),
             base: (0..=n).map(|k| model.base(k as f64 * step)).collect(),
             unit: (0..=n)
                 .map(|k| model.aging.te_per_unit(model.start, k as f64 * step))
                 .collect(),
-            n,
             step,
             sy0: model.y0_sigma.abs(),
             sd: model.aging.sigma().abs(),
@@ -437,9 +438,13 @@ impl Plan {
         let rho = self.rho;
         let dy = self.sy0 * z1;
         let dd = self.sd * (rho * z1 + (1.0 - rho * rho).sqrt() * z2);
-        for k in 1..=self.n {
-            let t = k as f64 * self.step;
-            row[k - 1] = self.base[k] + dy * t + dd * self.unit[k] + x[k];
+        let parts = self.base[1..]
+            .iter()
+            .zip(&self.t[1..])
+            .zip(&self.unit[1..])
+            .zip(&x[1..]);
+        for (r, (((b, t), u), x)) in row.iter_mut().zip(parts) {
+            *r = b + dy * t + dd * u + x;
         }
     }
 }
@@ -595,7 +600,9 @@ fn top_count(paths: usize) -> usize {
 
 /// The least f64 of the total order (a negative NaN with every bit set):
 /// below every value |TE| + c a step can hold.
-const LOWEST: f64 = f64::from_bits(u64::MAX);
+fn lowest() -> f64 {
+    f64::from_bits(u64::MAX)
+}
 
 /// The largest values of |TE(k·step)| + temp·k·step at each step k of one
 /// job, enough for the step's p95 over all the paths: each step keeps a
@@ -619,8 +626,12 @@ struct TopValues {
 struct Tile {
     start: usize,
     len: Vec<usize>,
-    /// Each step's threshold.
+    /// Each step's threshold, as its [`order_key`] and as the f64 (a
+    /// value v is a candidate when !(v ≤ threshold): every v above it in
+    /// the total order is, since the values |TE| + c are never −0 or a
+    /// negative NaN, and a NaN threshold lets every value through).
     thr: Vec<i64>,
+    thr_f: Vec<f64>,
     buf: Vec<i64>,
 }
 
@@ -652,7 +663,8 @@ impl TopValues {
                 std::sync::Mutex::new(Tile {
                     start,
                     len: vec![0; len],
-                    thr: vec![order_key(LOWEST); len],
+                    thr: vec![order_key(lowest()); len],
+                    thr_f: vec![lowest(); len],
                     buf: vec![0; len * cap],
                 })
             })
@@ -682,28 +694,36 @@ impl TopValues {
                 .unwrap_or_else(|e| e.into_inner());
             let tile = &mut *guard;
             let (start, width) = (tile.start, tile.len.len());
+            let mut idx = [0u16; STEP_TILE];
             for row in rows.chunks_exact(n) {
-                let kept_rows = tile.buf.chunks_exact_mut(cap);
-                let steps = row[start..start + width]
-                    .iter()
-                    .zip(&added[start..start + width])
-                    .zip(tile.thr.iter_mut())
-                    .zip(tile.len.iter_mut())
-                    .zip(kept_rows);
-                for ((((&te, &c), thr), len), kept) in steps {
-                    let v = order_key(te.abs() + c);
-                    // Written in the first free place whether kept or not
-                    // (the place stays free when it is not): no branch on
-                    // a comparison that goes either way at random.
-                    let l = *len;
+                let (r, c) = (&row[start..start + width], &added[start..start + width]);
+                // The candidates' places, written without a branch on a
+                // comparison that goes either way at random.
+                let mut m = 0;
+                for (i, ((te, c), thr)) in r.iter().zip(c).zip(&tile.thr_f).enumerate() {
+                    idx[m] = i as u16;
+                    m += usize::from(!(te.abs() + c <= *thr));
+                }
+                for &i in &idx[..m] {
+                    let i = usize::from(i);
+                    let v = order_key(r[i].abs() + c[i]);
+                    // Above the threshold in the total order too, else it
+                    // adds nothing (a NaN threshold passes every value).
+                    if v <= tile.thr[i] {
+                        continue;
+                    }
+                    let kept = &mut tile.buf[i * cap..(i + 1) * cap];
+                    let l = tile.len[i];
                     kept[l] = v;
-                    *len = l + usize::from(v > *thr);
-                    if *len == cap {
+                    if l + 1 == cap {
                         let cut = cap - keep;
                         kept.select_nth_unstable(cut);
-                        *thr = kept[cut];
+                        tile.thr[i] = kept[cut];
+                        tile.thr_f[i] = from_order_key(kept[cut]);
                         kept.copy_within(cut.., 0);
-                        *len = keep;
+                        tile.len[i] = keep;
+                    } else {
+                        tile.len[i] = l + 1;
                     }
                 }
             }
