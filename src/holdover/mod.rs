@@ -332,8 +332,8 @@ pub fn predict_spans(model: &HoldoverModel, settings: &[Settings]) -> Result<Vec
 /// paths of all its devices once.
 ///
 /// Nothing of size paths × steps is held. Each job keeps, per step, the
-/// largest values of |TE| that the step's p95 can depend on ([`TopValues`]:
-/// at most 2·(paths − ⌊0.95·(paths − 1)⌋) values a step, 6.6 MB for 2000
+/// largest values of |TE| that the step's p95 can depend on (at
+/// most 2·(paths − ⌊0.95·(paths − 1)⌋) values a step, 6.6 MB for 2000
 /// paths of 4096 steps where their table took 66 MB), and each path's first
 /// step out of the budget and its TE at the output times; the percentiles
 /// are then those of the whole set of paths, exactly (the reference test
