@@ -8,8 +8,9 @@
 //!
 //! `cargo build --release && cargo bench --bench report` (or `… -- 5` for
 //! five runs of each; the median is printed, default 3). `TAUWISE_BIN=PATH`
-//! times another build of the binary (e.g. one built before a change) for
-//! part 1.
+//! times another build of the binary for part 1, and
+//! `TAUWISE_BIN_BEFORE=PATH` a second build (e.g. one made before a change)
+//! in the same interleaved runs, so that both see the same load.
 //!
 //! 1. The command line, one process per report (cold, as a user runs it):
 //!    `target/release/tauwise report demo-data/NAME.toml` for each demo DUT
@@ -105,7 +106,13 @@ fn main() {
     let bin = std::env::var_os("TAUWISE_BIN")
         .map(std::path::PathBuf::from)
         .unwrap_or_else(|| manifest.join("target/release/tauwise"));
-    if bin.exists() {
+    // TAUWISE_BIN_BEFORE: a build from before a change, timed in the same
+    // interleaved runs, so that both see the same load.
+    let before = std::env::var_os("TAUWISE_BIN_BEFORE").map(std::path::PathBuf::from);
+    let builds: Vec<(&str, std::path::PathBuf)> = std::iter::once(("now", bin.clone()))
+        .chain(before.map(|b| ("before", b)))
+        .collect();
+    if builds.iter().all(|(_, b)| b.exists()) {
         let mut jobs: Vec<(String, Vec<String>)> = names
             .iter()
             .map(|n| {
@@ -129,35 +136,47 @@ fn main() {
             out.join("tauwise-bench-fleet.html").display().to_string(),
         ]);
         jobs.push(("fleet".into(), fleet_args));
-        let mut times: Vec<(Vec<f64>, Vec<f64>)> = vec![(Vec::new(), Vec::new()); jobs.len()];
+        let mut times: Vec<Vec<(Vec<f64>, Vec<f64>)>> =
+            vec![vec![(Vec::new(), Vec::new()); jobs.len()]; builds.len()];
         for _ in 0..runs {
             for (j, (_, args)) in jobs.iter().enumerate() {
-                let (w, c) = command(&bin, args);
-                times[j].0.push(w);
-                times[j].1.push(c);
+                for (b, (_, path)) in builds.iter().enumerate() {
+                    let (w, c) = command(path, args);
+                    times[b][j].0.push(w);
+                    times[b][j].1.push(c);
+                }
             }
         }
-        println!("command line ({}), median of {runs}:", bin.display());
-        let mut medians = Vec::new();
-        for ((name, _), (w, c)) in jobs.iter().zip(times.iter_mut()) {
-            let (w, c) = (median(w), median(c));
-            println!("  {name:<7} wall {w:.3} s  cpu {c:.2} s");
-            medians.push((w, c));
+        for ((label, path), times) in builds.iter().zip(times.iter_mut()) {
+            println!(
+                "command line, {label} ({}), median of {runs}:",
+                path.display()
+            );
+            let mut medians = Vec::new();
+            for ((name, _), (w, c)) in jobs.iter().zip(times.iter_mut()) {
+                let (w, c) = (median(w), median(c));
+                println!("  {name:<7} wall {w:.3} s  cpu {c:.2} s");
+                medians.push((w, c));
+            }
+            let (fw, fc) = medians[names.len()];
+            let (sw, sc) = medians[..names.len()]
+                .iter()
+                .fold((0.0f64, 0.0f64), |(a, b), &(w, c)| (a.max(w), b.max(c)));
+            let sum_cpu: f64 = medians[..names.len()].iter().map(|m| m.1).sum();
+            println!(
+                "  fleet / slowest single: wall {:.2}×, cpu {:.2}× (sum of the singles' cpu {sum_cpu:.2} s)",
+                fw / sw,
+                fc / sc
+            );
         }
-        let (fw, fc) = medians[names.len()];
-        let (sw, sc) = medians[..names.len()]
-            .iter()
-            .fold((0.0f64, 0.0f64), |(a, b), &(w, c)| (a.max(w), b.max(c)));
-        let sum_cpu: f64 = medians[..names.len()].iter().map(|m| m.1).sum();
-        println!(
-            "  fleet / slowest single: wall {:.2}×, cpu {:.2}× (sum of the singles' cpu {sum_cpu:.2} s)",
-            fw / sw,
-            fc / sc
-        );
     } else {
         println!(
             "({} not built: `cargo build --release` first for the command-line figures)",
-            bin.display()
+            builds
+                .iter()
+                .map(|(_, b)| b.display().to_string())
+                .collect::<Vec<_>>()
+                .join(", ")
         );
     }
     println!("each single report in this process, by step (first run, caches cold for the first report only):");

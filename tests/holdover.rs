@@ -335,9 +335,10 @@ fn noise_fit_recovers_the_simulated_model() {
 ///   like a standard normal variable — well under 10 % beyond 2 (nominal
 ///   4.6 %), standard deviation near 1. (The textbook regression σ_D gave a
 ///   median |D̂|/σ_D near 10.)
-/// - With aging (1e−14/s) and without: the true |TE| at the span end lies
-///   above the predicted p95 in 3–8 % and above the p50 in 40–60 % of the
-///   records. Without aging the percentiles of |TE| lean to the safe side
+/// - With aging (1e−14/s): the true |TE| at the span end lies above the
+///   predicted p95 in 3–8 % and above the p50 in 40–60 % of the records.
+///   Without aging: above the p50 in 40–60 % too, and above the p95 in
+///   1–8 %: the percentiles of |TE| lean to the safe side
 ///   (the estimated aging scatters about a true zero; see
 ///   `examples/holdover_calibration.rs` for the sweep).
 #[test]
@@ -376,16 +377,24 @@ fn holdover_prediction_is_calibrated() {
     })
     .unwrap();
     // The safe side holds there (its lower bounds need |TE| far from zero
-    // against its spread; here it is not: 2.5 % above p95, seed 1000).
+    // against its spread; here it is not: seed 1000).
     assert!(
         marginal.above_p95 <= 0.08 && marginal.above_p50 <= 0.60,
         "marginal aging: above p95 in {}, above p50 in {}",
         marginal.above_p95,
         marginal.above_p50
     );
-    for (what, c) in [("no aging", &none), ("aging", &aged)] {
+    // 200 records: the binomial standard error of a 5 % rate is 1.5 %.
+    // With aging the |TE| percentiles are held to the window (3–8 %
+    // above p95, 40–60 % above p50); with the Monte Carlo's per-term
+    // streams the records give 4.0 %. With no aging the true mean of TE
+    // here is the random-walk level carried into the holdover, small
+    // against its uncertainty on part of the records, and the folding
+    // about zero puts the p95 on the safe side: 2.5 % (1.75 % on 400
+    // records), so its window is 1–8 % (docs/verdicts.md).
+    for (what, c, low) in [("no aging", &none, 0.01), ("aging", &aged, 0.03)] {
         assert!(
-            (0.03..=0.08).contains(&c.above_p95),
+            (low..=0.08).contains(&c.above_p95),
             "{what}: above p95 in {}",
             c.above_p95
         );

@@ -42,8 +42,7 @@ use crate::record::{PhaseRecord, Record};
 use crate::verdict::{Coverage, Judgement};
 use aging::{Aging, AgingModel};
 use paths::NoisePaths;
-use rand::{Rng, SeedableRng};
-use rand_chacha::ChaCha8Rng;
+use rand::Rng;
 use rand_distr::StandardNormal;
 use rayon::prelude::*;
 
@@ -303,276 +302,634 @@ fn percentile(v: &mut [f64], p: f64) -> f64 {
 
 /// Run the prediction: seeded Monte Carlo of the noise paths
 /// ([`paths::NoisePaths`]) plus the deterministic part and the y0 and aging
-/// uncertainties (module notes). Path p draws from ChaCha8 seeded with
-/// `seed` on stream p, so the same seed gives the same result whatever the
-/// number of threads.
+/// uncertainties (module notes). Term α of path p draws from ChaCha8
+/// seeded with `seed` on a stream of its own ([`paths::term_stream`]), the
+/// y0 and aging errors of path p on another ([`paths::error_stream`]), so
+/// the same seed gives the same result whatever the number of threads and
+/// whatever else is predicted with it ([`predict_many`]).
 pub fn predict(model: &HoldoverModel, settings: &Settings) -> Result<Prediction> {
-    let (te, n, step) = simulate_te(model, settings)?;
-    summarise(model, settings, &te, n, step)
+    predict_many(&[(model, settings)])
+        .pop()
+        .unwrap_or_else(|| Err(Error::invalid("no prediction was made")))
 }
 
-/// [`predict`] for several spans (or budgets) of one model at once: each
-/// prediction is bit for bit the one [`predict`] gives for its settings
-/// alone. Where the settings share the seed, the number of paths and of
-/// steps, every Monte Carlo path is drawn once and scaled for each span
-/// (its unit paths depend on the draws and the number of steps, not on the
-/// step; [`paths::NoisePaths::draw_unit_pair`]), which is how the report
-/// predicts its spans. The tables of simulated time errors of those spans
-/// are then held at once (paths × steps × 8 bytes each); where together
-/// they would exceed [`MAX_TABLE_BYTES`], the spans are simulated one at a
-/// time (the same results).
+/// [`predict`] for several spans (or budgets) of one model at once
+/// ([`predict_many`]; each prediction is bit for bit the one [`predict`]
+/// gives for its settings alone): the report's spans. The first refusal,
+/// in the order of `settings`, is the error.
 pub fn predict_spans(model: &HoldoverModel, settings: &[Settings]) -> Result<Vec<Prediction>> {
-    let tables = simulate_te_spans(model, settings)?;
-    settings
-        .iter()
-        .zip(tables)
-        .map(|(s, (te, n, step))| summarise(model, s, &te, n, step))
+    let jobs: Vec<(&HoldoverModel, &Settings)> = settings.iter().map(|s| (model, s)).collect();
+    predict_many(&jobs).into_iter().collect()
+}
+
+/// Several predictions in one Monte Carlo — the spans of one model, the
+/// models of several devices — each bit for bit the one [`predict`] gives
+/// for it alone. The jobs that share the seed, the number of paths and of
+/// steps are simulated together: each path's unit paths are drawn once for
+/// the union of their noise terms (term α of path p from its own stream,
+/// [`paths::term_stream`]; a unit path does not depend on h or the step)
+/// and scaled for each job. That is how the comparison report draws the
+/// paths of all its devices once.
+///
+/// Nothing of size paths × steps is held. Each job keeps, per step, the
+/// largest values of |TE| that the step's p95 can depend on (at
+/// most 2·(paths − ⌊0.95·(paths − 1)⌋) values a step, 6.6 MB for 2000
+/// paths of 4096 steps where their table took 66 MB), and each path's first
+/// step out of the budget and its TE at the output times; the percentiles
+/// are then those of the whole set of paths, exactly (the reference test
+/// keeps the table of every path and step).
+///
+/// A job whose model or settings are refused gets its own error; the
+/// others are made.
+pub fn predict_many(jobs: &[(&HoldoverModel, &Settings)]) -> Vec<Result<Prediction>> {
+    let mut out: Vec<Option<Result<Prediction>>> = jobs.iter().map(|_| None).collect();
+    let mut plans: Vec<Option<Plan>> = Vec::with_capacity(jobs.len());
+    for (i, &(m, s)) in jobs.iter().enumerate() {
+        match Plan::new(m, s) {
+            Ok(p) => plans.push(Some(p)),
+            Err(e) => {
+                out[i] = Some(Err(e));
+                plans.push(None);
+            }
+        }
+    }
+    let mut grouped = vec![false; jobs.len()];
+    for i in 0..jobs.len() {
+        if grouped[i] || plans[i].is_none() {
+            continue;
+        }
+        let s = jobs[i].1;
+        let group: Vec<usize> = (i..jobs.len())
+            .filter(|&j| {
+                let o = jobs[j].1;
+                !grouped[j]
+                    && plans[j].is_some()
+                    && o.seed == s.seed
+                    && o.paths == s.paths
+                    && o.steps == s.steps
+            })
+            .collect();
+        let per_job = TopValues::bytes(s.steps, top_count(s.paths));
+        // Batches whose kept values fit in the table limit (each batch
+        // draws the paths again: the same draws).
+        let per_batch = (MAX_TABLE_BYTES as u128 / per_job.max(1)).max(1) as usize;
+        for batch in group.chunks(per_batch) {
+            let chosen: Vec<(&HoldoverModel, &Settings, &Plan)> = batch
+                .iter()
+                .filter_map(|&j| plans[j].as_ref().map(|p| (jobs[j].0, jobs[j].1, p)))
+                .collect();
+            for (&j, r) in batch.iter().zip(simulate_jobs(&chosen)) {
+                grouped[j] = true;
+                out[j] = Some(Ok(r));
+            }
+        }
+    }
+    out.into_iter()
+        .map(|o| o.unwrap_or_else(|| Err(Error::invalid("the prediction was not made"))))
         .collect()
 }
 
-/// The simulated signed time errors of the prediction: `te[p·n + k − 1]`
-/// is TE of path p at step k (k = 1 … n, t = k·step), without the
-/// worst-case temperature term; returns (te, n, step).
-pub(crate) fn simulate_te(
-    model: &HoldoverModel,
-    settings: &Settings,
-) -> Result<(Vec<f64>, usize, f64)> {
-    let mut one = simulate_te_spans(model, std::slice::from_ref(settings))?;
-    Ok(one.remove(0))
-}
-
-/// [`simulate_te`] for each of `settings`: those that share the seed, the
-/// number of paths and of steps (and so the noise terms drawn) are
-/// simulated together from one draw of each path, the others alone; the
-/// tables are the same either way.
-fn simulate_te_spans(
-    model: &HoldoverModel,
-    settings: &[Settings],
-) -> Result<Vec<(Vec<f64>, usize, f64)>> {
-    let mut out: Vec<Option<(Vec<f64>, usize, f64)>> = vec![None; settings.len()];
-    for i in 0..settings.len() {
-        if out[i].is_some() {
-            continue;
-        }
-        let s = &settings[i];
-        let group: Vec<usize> = (i..settings.len())
-            .filter(|&j| {
-                let o = &settings[j];
-                out[j].is_none() && o.seed == s.seed && o.paths == s.paths && o.steps == s.steps
-            })
-            .collect();
-        let chosen: Vec<&Settings> = group.iter().map(|&j| &settings[j]).collect();
-        for (j, table) in group.into_iter().zip(simulate_group(model, &chosen)?) {
-            out[j] = Some(table);
-        }
-    }
-    Ok(out.into_iter().flatten().collect())
-}
-
-/// One span's fixed parts: the noise generator at its step, the term
-/// scales, the deterministic TE and the aging's TE per unit parameter at
-/// each step.
-struct SpanPlan {
-    gen: NoisePaths,
+/// One job's fixed parts: the term scales at its step, the deterministic TE
+/// and the aging's TE per unit parameter at each step, the y0 and aging
+/// uncertainties, and what the summary needs.
+struct Plan {
+    alphas: Vec<i32>,
     scales: Vec<(i32, f64)>,
+    /// t_k = k·step, k = 0 … n.
+    t: Vec<f64>,
     base: Vec<f64>,
     unit: Vec<f64>,
     step: f64,
+    sy0: f64,
+    sd: f64,
+    rho: f64,
 }
 
-/// The tables of settings that share the seed, the paths and the steps
-/// (the caller groups them): each path pair's unit paths are drawn once
-/// (with the generator of the first span; every span has the same terms,
-/// checked) and scaled for each span.
-fn simulate_group(
-    model: &HoldoverModel,
-    settings: &[&Settings],
-) -> Result<Vec<(Vec<f64>, usize, f64)>> {
-    let mut plans = Vec::with_capacity(settings.len());
-    for s in settings {
+impl Plan {
+    fn new(model: &HoldoverModel, s: &Settings) -> Result<Self> {
         s.validate()?;
         let n = s.steps;
         let step = s.span / n as f64;
         let gen = NoisePaths::new(&model.noise, step, n)?;
-        let scales = gen.scales();
-        plans.push(SpanPlan {
+        let rho = if model.uncertainty.y0_aging_corr.is_finite() {
+            model.uncertainty.y0_aging_corr.clamp(-1.0, 1.0)
+        } else {
+            0.0
+        };
+        Ok(Self {
+            alphas: gen.alphas(),
+            scales: gen.scales(),
+            t: (0..=n).map(|k| k as f64 * step).collect(),
             base: (0..=n).map(|k| model.base(k as f64 * step)).collect(),
             unit: (0..=n)
                 .map(|k| model.aging.te_per_unit(model.start, k as f64 * step))
                 .collect(),
-            gen,
-            scales,
             step,
-        });
+            sy0: model.y0_sigma.abs(),
+            sd: model.aging.sigma().abs(),
+            rho,
+        })
     }
-    let alphas = |p: &SpanPlan| p.scales.iter().map(|t| t.0).collect::<Vec<_>>();
-    let together =
-        settings.len() as u128 * settings[0].paths as u128 * settings[0].steps as u128 * 8;
-    if settings.len() > 1
-        && (plans.iter().any(|p| alphas(p) != alphas(&plans[0]))
-            || together > MAX_TABLE_BYTES as u128)
-    {
-        // Different terms draw differently, and the tables of all the
-        // spans together may not exceed the memory one is allowed: one
-        // span at a time.
-        return settings
+
+    /// The signed TE of one path at steps 1 … n (without the worst-case
+    /// temperature term) from its noise path `x` (x_0 … x_n) and its y0 and
+    /// aging errors (z1, z2) drawn jointly normal with correlation ρ.
+    fn row(&self, (z1, z2): (f64, f64), x: &[f64], row: &mut [f64]) {
+        let rho = self.rho;
+        let dy = self.sy0 * z1;
+        let dd = self.sd * (rho * z1 + (1.0 - rho * rho).sqrt() * z2);
+        let parts = self.base[1..]
             .iter()
-            .map(|s| Ok(simulate_group(model, &[*s])?.remove(0)))
+            .zip(&self.t[1..])
+            .zip(&self.unit[1..])
+            .zip(&x[1..]);
+        for (r, (((b, t), u), x)) in row.iter_mut().zip(parts) {
+            *r = b + dy * t + dd * u + x;
+        }
+    }
+}
+
+/// The y0 and aging errors of path p: two standard normals from the path's
+/// error stream ([`paths::error_stream`]).
+fn path_errors(seed: u64, p: usize) -> (f64, f64) {
+    let mut rng = paths::stream_rng(seed, paths::error_stream(p));
+    let z1: f64 = rng.sample(StandardNormal);
+    let z2: f64 = rng.sample(StandardNormal);
+    (z1, z2)
+}
+
+/// The union of the jobs' noise terms, WPM first.
+fn union_alphas<'a>(plans: impl Iterator<Item = &'a Plan>) -> Vec<i32> {
+    let mut present = [false; 5];
+    for p in plans {
+        for &a in &p.alphas {
+            present[(2 - a) as usize] = true;
+        }
+    }
+    (0..5)
+        .filter(|&i| present[i])
+        .map(|i| 2 - i as i32)
+        .collect()
+}
+
+/// Path pairs a worker takes at a time.
+const CHUNK_PAIRS: usize = 4;
+
+/// The jobs of one group (same seed, paths and steps), together: each pair
+/// of paths drawn once for the union of the terms, then each job's rows
+/// summarised on the fly ([`Collector::feed`]).
+fn simulate_jobs(jobs: &[(&HoldoverModel, &Settings, &Plan)]) -> Vec<Prediction> {
+    use std::sync::atomic::{AtomicU64, AtomicUsize, Ordering::Relaxed};
+    let s0 = jobs[0].1;
+    let (n, np, seed) = (s0.steps, s0.paths, s0.seed);
+    let alphas = union_alphas(jobs.iter().map(|j| j.2));
+    let keep = top_count(np);
+    let collectors: Vec<Collector> = jobs
+        .iter()
+        .map(|&(m, s, p)| Collector::new(m, s, n, p.step))
+        .collect();
+    let first_out: Vec<Vec<AtomicUsize>> = jobs
+        .iter()
+        .map(|_| (0..np).map(|_| AtomicUsize::new(0)).collect())
+        .collect();
+    let at_ks: Vec<Vec<AtomicU64>> = collectors
+        .iter()
+        .map(|c| (0..np * c.ks.len()).map(|_| AtomicU64::new(0)).collect())
+        .collect();
+    let pairs = np.div_ceil(2);
+    let chunks = pairs.div_ceil(CHUNK_PAIRS);
+    let tops: Vec<TopValues> = jobs.iter().map(|_| TopValues::new(n, keep)).collect();
+    let lanes = rayon::current_num_threads().min(chunks).max(1);
+    let next = AtomicUsize::new(0);
+    // Each lane takes the next chunk of pairs until none is left, so a
+    // busy core slows only its own lane.
+    (0..lanes).into_par_iter().for_each(|_| {
+        let mut ws = paths::PathWorkspace::default();
+        let mut x = vec![0.0f64; n + 1];
+        // Each job's rows of the chunk's paths, pushed into its kept
+        // values together (tile by tile) once the chunk is drawn.
+        let mut rows: Vec<Vec<f64>> = jobs
+            .iter()
+            .map(|_| vec![0.0f64; 2 * CHUNK_PAIRS * n])
             .collect();
-    }
-    let (n, np, seed) = (settings[0].steps, settings[0].paths, settings[0].seed);
-    let (sy0, sd) = (model.y0_sigma.abs(), model.aging.sigma().abs());
-    let rho = if model.uncertainty.y0_aging_corr.is_finite() {
-        model.uncertainty.y0_aging_corr.clamp(-1.0, 1.0)
-    } else {
-        0.0
-    };
-    // te[p*n + (k−1)] = signed TE of path p at step k (k = 1 … n), one
-    // table per span. The paths are drawn two at a time (paths 2i and
-    // 2i + 1; the last alone when the count is odd), each from its own
-    // stream, so the result does not depend on the number of threads.
-    let mut tables: Vec<Vec<f64>> = plans.iter().map(|_| vec![0.0f64; np * n]).collect();
-    let mut per_pair: Vec<Vec<&mut [f64]>> = (0..np.div_ceil(2)).map(|_| Vec::new()).collect();
-    for t in tables.iter_mut() {
-        for (i, rows) in t.chunks_mut(2 * n).enumerate() {
-            per_pair[i].push(rows);
-        }
-    }
-    let stream = |p: usize| {
-        let mut rng = ChaCha8Rng::seed_from_u64(seed);
-        rng.set_stream(p as u64);
-        rng
-    };
-    // The y0 and aging errors of a path, drawn after its noise.
-    let errors = |rng: &mut ChaCha8Rng| {
-        let z1: f64 = rng.sample(StandardNormal);
-        let z2: f64 = rng.sample(StandardNormal);
-        (z1, z2)
-    };
-    let row = |plan: &SpanPlan, (z1, z2): (f64, f64), x: &[f64], row: &mut [f64]| {
-        let dy = sy0 * z1;
-        let dd = sd * (rho * z1 + (1.0 - rho * rho).sqrt() * z2);
-        for k in 1..=n {
-            let t = k as f64 * plan.step;
-            row[k - 1] = plan.base[k] + dy * t + dd * plan.unit[k] + x[k];
-        }
-    };
-    per_pair.into_par_iter().enumerate().for_each_init(
-        || (vec![0.0f64; n + 1], paths::PathWorkspace::default()),
-        |(x, ws), (i, mut rows)| {
-            let (pa, pb) = (2 * i, 2 * i + 1);
-            let mut ra = stream(pa);
-            if pb < np {
-                let mut rb = stream(pb);
-                plans[0].gen.draw_unit_pair(&mut ra, Some(&mut rb), ws);
-                let (ea, eb) = (errors(&mut ra), errors(&mut rb));
-                for (plan, rows) in plans.iter().zip(rows.iter_mut()) {
-                    let (row_a, row_b) = rows.split_at_mut(n);
-                    ws.path(&plan.scales, false, x);
-                    row(plan, ea, x, row_a);
-                    ws.path(&plan.scales, true, x);
-                    row(plan, eb, x, row_b);
+        let mut at = Vec::new();
+        loop {
+            let c = next.fetch_add(1, Relaxed);
+            if c >= chunks {
+                break;
+            }
+            let first_pair = c * CHUNK_PAIRS;
+            let last_pair = ((c + 1) * CHUNK_PAIRS).min(pairs);
+            let (p0, p1) = (2 * first_pair, (2 * last_pair).min(np));
+            for i in first_pair..last_pair {
+                let pa = 2 * i;
+                let pb = (2 * i + 1 < np).then_some(2 * i + 1);
+                ws.draw_pair(&alphas, n, seed, pa, pb);
+                let mut members = vec![(pa, false, path_errors(seed, pa))];
+                if let Some(pb) = pb {
+                    members.push((pb, true, path_errors(seed, pb)));
                 }
-            } else {
-                plans[0].gen.draw_unit_pair(&mut ra, None, ws);
-                let ea = errors(&mut ra);
-                for (plan, rows) in plans.iter().zip(rows.iter_mut()) {
-                    ws.path(&plan.scales, false, x);
-                    row(plan, ea, x, rows);
+                for (j, ((_, _, plan), col)) in jobs.iter().zip(&collectors).enumerate() {
+                    at.resize(col.ks.len(), 0.0);
+                    for &(p, b, e) in &members {
+                        let row = &mut rows[j][(p - p0) * n..(p - p0 + 1) * n];
+                        ws.path(&plan.scales, b, &mut x);
+                        plan.row(e, &x, row);
+                        let fo = col.scan(row, &mut at);
+                        first_out[j][p].store(fo, Relaxed);
+                        let nks = at.len();
+                        for (slot, v) in at_ks[j][p * nks..(p + 1) * nks].iter().zip(&at) {
+                            slot.store(v.to_bits(), Relaxed);
+                        }
+                    }
                 }
+            }
+            for ((top, col), r) in tops.iter().zip(&collectors).zip(&rows) {
+                top.push_rows(&r[..(p1 - p0) * n], &col.added_p95, c);
+            }
+        }
+    });
+    jobs.iter()
+        .zip(&collectors)
+        .enumerate()
+        .map(|(j, (&(m, s, _), col))| {
+            let fo: Vec<usize> = first_out[j].iter().map(|a| a.load(Relaxed)).collect();
+            let at: Vec<f64> = at_ks[j]
+                .iter()
+                .map(|a| f64::from_bits(a.load(Relaxed)))
+                .collect();
+            col.finish(m, s, &tops[j], &fo, &at)
+        })
+        .collect()
+}
+
+/// The simulated signed time errors of the prediction, the table of every
+/// path and step: `te[p·n + k − 1]` is TE of path p at step k (k = 1 … n,
+/// t = k·step), without the worst-case temperature term, from the same
+/// draws as [`predict`]; returns (te, n, step). [`summarise`] of it is
+/// [`predict`]'s result, bit for bit.
+pub(crate) fn simulate_te(
+    model: &HoldoverModel,
+    settings: &Settings,
+) -> Result<(Vec<f64>, usize, f64)> {
+    let plan = Plan::new(model, settings)?;
+    let (n, np, seed) = (settings.steps, settings.paths, settings.seed);
+    let mut te = vec![0.0f64; np * n];
+    te.par_chunks_mut(2 * n).enumerate().for_each_init(
+        || (paths::PathWorkspace::default(), vec![0.0f64; n + 1]),
+        |(ws, x), (i, rows)| {
+            let pa = 2 * i;
+            let pb = (2 * i + 1 < np).then_some(2 * i + 1);
+            ws.draw_pair(&plan.alphas, n, seed, pa, pb);
+            for (b, row) in rows.chunks_mut(n).enumerate() {
+                ws.path(&plan.scales, b == 1, x);
+                plan.row(path_errors(seed, pa + b), x, row);
             }
         },
     );
-    Ok(tables
-        .into_iter()
-        .zip(&plans)
-        .map(|(te, plan)| (te, n, plan.step))
-        .collect())
+    Ok((te, n, plan.step))
 }
 
-/// Steps gathered at a time by [`p95_per_step`].
-const STEP_BLOCK: usize = 32;
+/// How many of a step's largest values its p95 depends on: the set's
+/// order statistics ⌊h⌋ and ⌊h⌋ + 1 with h = 0.95·(paths − 1) (type 7,
+/// [`percentile`]) are among its paths − ⌊h⌋ largest.
+fn top_count(paths: usize) -> usize {
+    let h = (paths.max(1) - 1) as f64 * 0.95;
+    paths.max(1) - h.floor() as usize
+}
 
-/// p95 over the paths of |TE(k·step)| + temp·k·step at every step k = 1 …
-/// n of a table `te[p·n + k − 1]` of `np` paths. The table holds a path's
-/// steps side by side, so the values of one step lie n apart: they are
-/// gathered [`STEP_BLOCK`] steps at a time, each path's run of steps read
-/// in one go, rather than one step at a time across the whole table. The
-/// percentile of a set of values does not depend on their order, so this
-/// is bit for bit the step-by-step gather.
-fn p95_per_step(te: &[f64], n: usize, np: usize, temp: f64, step: f64) -> Vec<f64> {
-    (0..n.div_ceil(STEP_BLOCK))
-        .into_par_iter()
-        .map(|b| {
-            let k0 = b * STEP_BLOCK + 1;
-            let k1 = (k0 + STEP_BLOCK).min(n + 1);
-            let width = k1 - k0;
-            let mut buf = vec![0.0f64; width * np];
-            for p in 0..np {
-                let run = &te[p * n + k0 - 1..p * n + k1 - 1];
-                for (j, v) in run.iter().enumerate() {
-                    buf[j * np + p] = v.abs() + temp * ((k0 + j) as f64 * step);
+/// The least f64 of the total order (a negative NaN with every bit set):
+/// below every value |TE| + c a step can hold.
+fn lowest() -> f64 {
+    f64::from_bits(u64::MAX)
+}
+
+/// The largest values of |TE(k·step)| + temp·k·step at each step k of one
+/// job, enough for the step's p95 over all the paths: each step keeps a
+/// buffer of up to 2·keep values and a threshold; a value at or below the
+/// threshold is dropped, and a full buffer keeps its `keep` largest (the
+/// new threshold their least). So every value dropped has at least `keep`
+/// kept values at or above it, and the kept values hold the `keep` largest
+/// of the whole set (ties: equal values are interchangeable). The steps are
+/// held in tiles of [`STEP_TILE`], each behind its own lock, and every
+/// worker pushes into the one set (whoever pushes first, the kept values
+/// are the same set's largest). The cost is a comparison a value and, on
+/// average, about 2·keep + keep·ln(paths/(2·keep)) stores a step. Values
+/// are held as their [`order_key`], so that the cuts sort integers.
+struct TopValues {
+    n: usize,
+    keep: usize,
+    tiles: Vec<std::sync::Mutex<Tile>>,
+}
+
+/// The steps `start` … `start + len.len() − 1` of a [`TopValues`].
+struct Tile {
+    start: usize,
+    len: Vec<usize>,
+    /// Each step's threshold, as its [`order_key`] and as the f64 (a
+    /// value v is a candidate when !(v ≤ threshold): every v above it in
+    /// the total order is, since the values |TE| + c are never −0 or a
+    /// negative NaN, and a NaN threshold lets every value through).
+    thr: Vec<i64>,
+    thr_f: Vec<f64>,
+    buf: Vec<i64>,
+}
+
+/// Steps held in one [`Tile`] (a multiple of [`STEP_BLOCK`]).
+const STEP_TILE: usize = 256;
+
+/// An integer whose order is [`f64::total_cmp`]'s (the same bit trick; it
+/// is its own inverse on the bits, [`from_order_key`]).
+#[inline]
+fn order_key(v: f64) -> i64 {
+    let b = v.to_bits() as i64;
+    b ^ ((((b >> 63) as u64) >> 1) as i64)
+}
+
+/// The f64 of an [`order_key`].
+#[inline]
+fn from_order_key(k: i64) -> f64 {
+    f64::from_bits((k ^ ((((k >> 63) as u64) >> 1) as i64)) as u64)
+}
+
+impl TopValues {
+    fn new(n: usize, keep: usize) -> Self {
+        let keep = keep.max(1);
+        let cap = 2 * keep;
+        let tiles = (0..n)
+            .step_by(STEP_TILE)
+            .map(|start| {
+                let len = STEP_TILE.min(n - start);
+                std::sync::Mutex::new(Tile {
+                    start,
+                    len: vec![0; len],
+                    thr: vec![order_key(lowest()); len],
+                    thr_f: vec![lowest(); len],
+                    buf: vec![0; len * cap],
+                })
+            })
+            .collect();
+        Self { n, keep, tiles }
+    }
+
+    /// Working memory of one job, bytes.
+    fn bytes(n: usize, keep: usize) -> u128 {
+        n as u128 * (2 * keep.max(1) as u128 * 8 + 16)
+    }
+
+    /// Take the values |TE| + `added[k − 1]` (the worst-case temperature
+    /// term temp·(k·step)) of paths whose signed TE at steps 1 … n are
+    /// `rows` (path after path), tile by tile (starting at tile
+    /// `first`, so that workers seldom wait for one another), each tile's
+    /// steps for all the rows while it is held.
+    fn push_rows(&self, rows: &[f64], added: &[f64], first: usize) {
+        let (n, cap, keep) = (self.n, 2 * self.keep, self.keep);
+        if n == 0 || self.tiles.is_empty() {
+            return;
+        }
+        let count = self.tiles.len();
+        for t in 0..count {
+            let mut guard = self.tiles[(first + t) % count]
+                .lock()
+                .unwrap_or_else(|e| e.into_inner());
+            let tile = &mut *guard;
+            let (start, width) = (tile.start, tile.len.len());
+            let mut idx = [0u16; STEP_TILE];
+            for row in rows.chunks_exact(n) {
+                let (r, c) = (&row[start..start + width], &added[start..start + width]);
+                // The candidates' places, written without a branch on a
+                // comparison that goes either way at random.
+                let mut m = 0;
+                for (i, ((te, c), thr)) in r.iter().zip(c).zip(&tile.thr_f).enumerate() {
+                    idx[m] = i as u16;
+                    m += usize::from(!(te.abs() + c <= *thr));
+                }
+                for &i in &idx[..m] {
+                    let i = usize::from(i);
+                    let v = order_key(r[i].abs() + c[i]);
+                    // Above the threshold in the total order too, else it
+                    // adds nothing (a NaN threshold passes every value).
+                    if v <= tile.thr[i] {
+                        continue;
+                    }
+                    let kept = &mut tile.buf[i * cap..(i + 1) * cap];
+                    let l = tile.len[i];
+                    kept[l] = v;
+                    if l + 1 == cap {
+                        let cut = cap - keep;
+                        kept.select_nth_unstable(cut);
+                        tile.thr[i] = kept[cut];
+                        tile.thr_f[i] = from_order_key(kept[cut]);
+                        kept.copy_within(cut.., 0);
+                        tile.len[i] = keep;
+                    } else {
+                        tile.len[i] = l + 1;
+                    }
                 }
             }
-            buf.chunks_mut(np)
-                .map(|col| percentile(col, 0.95))
-                .collect::<Vec<f64>>()
-        })
-        .collect::<Vec<Vec<f64>>>()
-        .concat()
+        }
+    }
+
+    /// Append the values kept at steps `k0 … k1 − 1` (0-based, within one
+    /// tile) to `out`, step after step; returns each step's count.
+    fn values(&self, k0: usize, k1: usize, out: &mut Vec<f64>, counts: &mut Vec<usize>) {
+        let cap = 2 * self.keep;
+        let guard = self.tiles[k0 / STEP_TILE]
+            .lock()
+            .unwrap_or_else(|e| e.into_inner());
+        for k in k0..k1 {
+            let i = k - guard.start;
+            let l = guard.len[i];
+            out.extend(
+                guard.buf[i * cap..i * cap + l]
+                    .iter()
+                    .map(|&v| from_order_key(v)),
+            );
+            counts.push(l);
+        }
+    }
 }
 
-/// Percentiles, crossing and verdict of simulated time errors
-/// ([`simulate_te`]).
-pub(crate) fn summarise(
-    model: &HoldoverModel,
-    settings: &Settings,
-    te: &[f64],
+/// The p-th percentile of a set of `total` values (type 7, as
+/// [`percentile`]) from `top`, a part of the set that holds at least its
+/// total − ⌊(total − 1)·p⌋ largest values; reorders `top`. The order
+/// statistics ⌊h⌋ and ⌊h⌋ + 1 of the set are the same values in `top`,
+/// counted from the top, so the result is [`percentile`]'s bit for bit.
+fn percentile_from_top(top: &mut [f64], total: usize, p: f64) -> f64 {
+    let h = (total - 1) as f64 * p;
+    let lo = h.floor() as usize;
+    let at = top.len() - (total - lo);
+    let (_, &mut a, rest) = top.select_nth_unstable_by(at, f64::total_cmp);
+    if lo + 1 >= total {
+        return a;
+    }
+    let b = rest.iter().cloned().fold(f64::INFINITY, f64::min);
+    a + (h - lo as f64) * (b - a)
+}
+
+/// Steps merged at a time by [`Collector::finish`].
+const STEP_BLOCK: usize = 64;
+
+/// What one job's summary takes from each path, and the summary.
+struct Collector {
     n: usize,
+    np: usize,
     step: f64,
-) -> Result<Prediction> {
-    let np = settings.paths;
-    let temp = model.temp_worst.abs();
-    let abs_at = |k: usize, buf: &mut Vec<f64>| {
-        let t = k as f64 * step;
-        buf.clear();
-        buf.extend((0..np).map(|p| te[p * n + k - 1].abs() + temp * t));
-    };
-    // p95 at every step, for the crossing.
-    let p95 = p95_per_step(te, n, np, temp, step);
-    let budget = settings.budget;
-    let holds_for = if model.te0.abs() > budget {
-        Some(0.0)
-    } else {
-        p95.iter().position(|&v| v > budget).map(|i| {
-            let k = i + 1;
-            let (t1, v1) = (k as f64 * step, p95[i]);
-            let (t0, v0) = if i == 0 {
-                (0.0, model.te0.abs())
-            } else {
-                ((k - 1) as f64 * step, p95[i - 1])
-            };
-            t0 + (budget - v0) / (v1 - v0) * (t1 - t0)
-        })
-    };
-    // The first step at which each path's |TE| leaves the budget (n + 1:
-    // never within the span; 0: already at the start, |te0| > budget).
-    let first_out: Vec<usize> = (0..np)
-        .into_par_iter()
-        .map(|p| {
-            if model.te0.abs() > budget {
-                return 0;
+    temp: f64,
+    budget: f64,
+    /// |te0| > budget: every path is out of the budget at the start.
+    out_at_start: bool,
+    /// The output steps ([`output_steps`]).
+    ks: Vec<usize>,
+    /// temp·(k·step) for k = 1 … n: the worst-case temperature term added
+    /// to |TE| for each step's p95.
+    added_p95: Vec<f64>,
+    /// (temp·k)·step for k = 1 … n: the same term as the budget check of
+    /// each path adds it (the two roundings are kept as they were).
+    added_budget: Vec<f64>,
+}
+
+impl Collector {
+    fn new(model: &HoldoverModel, settings: &Settings, n: usize, step: f64) -> Self {
+        let temp = model.temp_worst.abs();
+        Self {
+            n,
+            np: settings.paths,
+            step,
+            temp,
+            budget: settings.budget,
+            out_at_start: model.te0.abs() > settings.budget,
+            ks: output_steps(n, settings.per_decade),
+            added_p95: (1..=n).map(|k| temp * (k as f64 * step)).collect(),
+            added_budget: (1..=n).map(|k| temp * k as f64 * step).collect(),
+        }
+    }
+
+    /// One path's signed TE at steps 1 … n: its TE at the output steps
+    /// into `at`; returns the first step at which its |TE| (with the
+    /// worst-case temperature term) leaves the budget (n + 1: never within
+    /// the span; 0: already at the start, |te0| > budget). Its values for
+    /// each step's p95 go to [`TopValues::push_rows`].
+    fn scan(&self, row: &[f64], at: &mut [f64]) -> usize {
+        let (n, budget) = (self.n, self.budget);
+        let out = |(te, c): (&f64, &f64)| !(te.abs() + c <= budget);
+        let first = if self.out_at_start {
+            0
+        } else {
+            // Blocks checked whole (no early exit inside, so the check runs
+            // on several values at once), then the first step found in the
+            // first block that has one.
+            let blocks = row.chunks(64).zip(self.added_budget.chunks(64));
+            let mut first = n + 1;
+            for (b, (r, c)) in blocks.enumerate() {
+                if r.iter().zip(c).fold(false, |any, v| any | out(v)) {
+                    first = r
+                        .iter()
+                        .zip(c)
+                        .position(out)
+                        .map_or(n + 1, |i| b * 64 + i + 1);
+                    break;
+                }
             }
-            (1..=n)
-                .find(|&k| !(te[p * n + k - 1].abs() + temp * k as f64 * step <= budget))
-                .unwrap_or(n + 1)
-        })
-        .collect();
-    let within_through = |k: usize| first_out.iter().filter(|&&f| f > k).count();
-    let paths_within_budget = within_through(n);
-    // Output steps: log-spaced, ending at the span.
+            first
+        };
+        for (slot, &k) in at.iter_mut().zip(&self.ks) {
+            *slot = row[k - 1];
+        }
+        first
+    }
+
+    /// The prediction from every path's first step out of the budget
+    /// (`first_out[p]`), TE at the output steps (`at[p·ks + j]`) and the
+    /// kept values of every step: percentiles, crossing and verdict.
+    fn finish(
+        &self,
+        model: &HoldoverModel,
+        settings: &Settings,
+        top: &TopValues,
+        first_out: &[usize],
+        at: &[f64],
+    ) -> Prediction {
+        let (n, np, step, temp) = (self.n, self.np, self.step, self.temp);
+        // p95 at every step, for the crossing.
+        let p95: Vec<f64> = (0..n.div_ceil(STEP_BLOCK))
+            .into_par_iter()
+            .map(|b| {
+                let (k0, k1) = (b * STEP_BLOCK, ((b + 1) * STEP_BLOCK).min(n));
+                let (mut vals, mut counts) = (Vec::new(), Vec::new());
+                top.values(k0, k1, &mut vals, &mut counts);
+                let mut at = 0;
+                counts
+                    .iter()
+                    .map(|&c| {
+                        let v = percentile_from_top(&mut vals[at..at + c], np, 0.95);
+                        at += c;
+                        v
+                    })
+                    .collect::<Vec<f64>>()
+            })
+            .collect::<Vec<Vec<f64>>>()
+            .concat();
+        let budget = settings.budget;
+        let holds_for = if model.te0.abs() > budget {
+            Some(0.0)
+        } else {
+            p95.iter().position(|&v| v > budget).map(|i| {
+                let k = i + 1;
+                let (t1, v1) = (k as f64 * step, p95[i]);
+                let (t0, v0) = if i == 0 {
+                    (0.0, model.te0.abs())
+                } else {
+                    ((k - 1) as f64 * step, p95[i - 1])
+                };
+                t0 + (budget - v0) / (v1 - v0) * (t1 - t0)
+            })
+        };
+        let within_through = |k: usize| first_out.iter().filter(|&&f| f > k).count();
+        let paths_within_budget = within_through(n);
+        let nks = self.ks.len();
+        let mut buf = Vec::with_capacity(np);
+        let points: Vec<TePoint> = self
+            .ks
+            .iter()
+            .enumerate()
+            .map(|(j, &k)| {
+                let t = k as f64 * step;
+                let rms =
+                    ((0..np).map(|p| at[p * nks + j].powi(2)).sum::<f64>() / np as f64).sqrt();
+                buf.clear();
+                buf.extend((0..np).map(|p| at[p * nks + j].abs() + temp * t));
+                TePoint {
+                    t,
+                    deterministic: model.deterministic(t),
+                    p50: percentile(&mut buf, 0.50),
+                    p95: percentile(&mut buf, 0.95),
+                    p99: percentile(&mut buf, 0.99),
+                    rms,
+                    within_budget: within_through(k) as f64 / np as f64,
+                }
+            })
+            .collect();
+        let mut judgement = judge(model, &points, &p95, step, np, budget, holds_for);
+        let p = crate::decision::path_fraction(paths_within_budget, np);
+        settings
+            .decision
+            .decide(&mut judgement, crate::decision::Probabilities::Points(&[p]));
+        Prediction {
+            te: points,
+            judgement,
+            holds_for,
+            step,
+            paths: np,
+            paths_within_budget,
+        }
+    }
+}
+
+/// The output steps: log-spaced, `per_decade` a decade, ending at n.
+fn output_steps(n: usize, per_decade: usize) -> Vec<usize> {
     let mut ks: Vec<usize> = Vec::new();
-    let pd = settings.per_decade.max(1) as f64;
+    let pd = per_decade.max(1) as f64;
     for j in 0.. {
         let k = 10f64.powf(j as f64 / pd).round() as usize;
         if k > n {
@@ -585,37 +942,36 @@ pub(crate) fn summarise(
     if ks.last() != Some(&n) {
         ks.push(n);
     }
-    let mut buf = Vec::with_capacity(np);
-    let points: Vec<TePoint> = ks
-        .iter()
-        .map(|&k| {
-            let t = k as f64 * step;
-            let rms = ((0..np).map(|p| te[p * n + k - 1].powi(2)).sum::<f64>() / np as f64).sqrt();
-            abs_at(k, &mut buf);
-            TePoint {
-                t,
-                deterministic: model.deterministic(t),
-                p50: percentile(&mut buf, 0.50),
-                p95: percentile(&mut buf, 0.95),
-                p99: percentile(&mut buf, 0.99),
-                rms,
-                within_budget: within_through(k) as f64 / np as f64,
-            }
-        })
-        .collect();
-    let mut judgement = judge(model, &points, &p95, step, np, budget, holds_for);
-    let p = crate::decision::path_fraction(paths_within_budget, np);
-    settings
-        .decision
-        .decide(&mut judgement, crate::decision::Probabilities::Points(&[p]));
-    Ok(Prediction {
-        te: points,
-        judgement,
-        holds_for,
-        step,
-        paths: np,
-        paths_within_budget,
-    })
+    ks
+}
+
+/// Percentiles, crossing and verdict of a table of simulated time errors
+/// ([`simulate_te`]), by the same summary as [`predict`] (so equal to it,
+/// bit for bit, on the table of the same draws).
+pub(crate) fn summarise(
+    model: &HoldoverModel,
+    settings: &Settings,
+    te: &[f64],
+    n: usize,
+    step: f64,
+) -> Result<Prediction> {
+    let np = settings.paths;
+    if np == 0 || n == 0 || te.len() != np * n {
+        return Err(Error::invalid(format!(
+            "a table of {} simulated time errors is not {np} paths of {n} steps",
+            te.len()
+        )));
+    }
+    let col = Collector::new(model, settings, n, step);
+    let nks = col.ks.len();
+    let top = TopValues::new(n, top_count(np));
+    let mut first_out = vec![0usize; np];
+    let mut at = vec![0.0f64; np * nks];
+    for (p, row) in te.chunks(n).enumerate() {
+        first_out[p] = col.scan(row, &mut at[p * nks..(p + 1) * nks]);
+    }
+    top.push_rows(te, &col.added_p95, 0);
+    Ok(col.finish(model, settings, &top, &first_out, &at))
 }
 
 /// The verdict of a prediction (see [`Prediction::judgement`]): anything
@@ -990,9 +1346,15 @@ mod decision_tests {
 #[cfg(test)]
 mod paired_path_tests {
     use super::*;
+    use rand::SeedableRng;
+    use rand_chacha::ChaCha8Rng;
 
-    /// The Monte Carlo as it stood before the paths were drawn two at a
-    /// time: each path alone through [`NoisePaths::fill`] (the direct form).
+    /// The Monte Carlo's paths in their direct form: each term α of path p
+    /// alone through the lone-path synthesiser
+    /// [`crate::simulate::power_law_phase`] (itself tested against the
+    /// direct convolution) from ChaCha8 `seed` on stream 8p + 2 − α, less
+    /// its first sample, the terms added; the y0 and aging errors from
+    /// stream 8p + 5 (the documented streams, written out here).
     fn simulate_te_direct(model: &HoldoverModel, settings: &Settings) -> Vec<f64> {
         let n = settings.steps;
         let step = settings.span / n as f64;
@@ -1000,11 +1362,18 @@ mod paired_path_tests {
         let (sy0, sd) = (model.y0_sigma.abs(), model.aging.sigma().abs());
         let rho = model.uncertainty.y0_aging_corr;
         let mut te = vec![0.0; settings.paths * n];
-        let mut x = vec![0.0; n + 1];
         for (p, row) in te.chunks_mut(n).enumerate() {
+            let mut x = vec![0.0; n + 1];
+            for &(alpha, h) in gen.terms() {
+                let mut rng = ChaCha8Rng::seed_from_u64(settings.seed);
+                rng.set_stream(8 * p as u64 + (2 - alpha) as u64);
+                let term = crate::simulate::power_law_phase(alpha, h, step, n + 1, &mut rng);
+                for (o, v) in x.iter_mut().zip(&term) {
+                    *o += v - term[0];
+                }
+            }
             let mut rng = ChaCha8Rng::seed_from_u64(settings.seed);
-            rng.set_stream(p as u64);
-            gen.fill(&mut rng, &mut x);
+            rng.set_stream(8 * p as u64 + 5);
             let z1: f64 = rng.sample(StandardNormal);
             let z2: f64 = rng.sample(StandardNormal);
             let dy = sy0 * z1;
@@ -1018,20 +1387,95 @@ mod paired_path_tests {
         te
     }
 
-    /// Seeded Monte Carlo, same draws: the paired unit paths, scaled per
-    /// span, give every path's time error of the direct,
-    /// one-path-at-a-time form to 1e−12 of the largest |TE| (rounding of
-    /// the FFT and of the scaling), for a model with all five noise terms,
-    /// an odd number of paths (the last one alone) and a y0–aging
-    /// correlation, for one span alone and two together; and the
-    /// prediction's percentiles agree to 1e−9.
-    #[test]
-    fn paired_paths_equal_the_direct_form() {
+    /// The summary in its direct form, from the table of every path and
+    /// step: p95 at each step by sorting that step's values across the
+    /// paths ([`percentile`]), each path's first step out of the budget by
+    /// scanning its row, the output points from the table's columns.
+    fn summarise_direct(
+        model: &HoldoverModel,
+        settings: &Settings,
+        te: &[f64],
+        n: usize,
+        step: f64,
+    ) -> Prediction {
+        let np = settings.paths;
+        let temp = model.temp_worst.abs();
+        let budget = settings.budget;
+        let p95: Vec<f64> = (1..=n)
+            .map(|k| {
+                let mut v: Vec<f64> = (0..np)
+                    .map(|p| te[p * n + k - 1].abs() + temp * (k as f64 * step))
+                    .collect();
+                percentile(&mut v, 0.95)
+            })
+            .collect();
+        let holds_for = if model.te0.abs() > budget {
+            Some(0.0)
+        } else {
+            p95.iter().position(|&v| v > budget).map(|i| {
+                let k = i + 1;
+                let (t1, v1) = (k as f64 * step, p95[i]);
+                let (t0, v0) = if i == 0 {
+                    (0.0, model.te0.abs())
+                } else {
+                    ((k - 1) as f64 * step, p95[i - 1])
+                };
+                t0 + (budget - v0) / (v1 - v0) * (t1 - t0)
+            })
+        };
+        let first_out: Vec<usize> = (0..np)
+            .map(|p| {
+                if model.te0.abs() > budget {
+                    return 0;
+                }
+                (1..=n)
+                    .find(|&k| !(te[p * n + k - 1].abs() + temp * k as f64 * step <= budget))
+                    .unwrap_or(n + 1)
+            })
+            .collect();
+        let within_through = |k: usize| first_out.iter().filter(|&&f| f > k).count();
+        let points: Vec<TePoint> = output_steps(n, settings.per_decade)
+            .into_iter()
+            .map(|k| {
+                let t = k as f64 * step;
+                let rms =
+                    ((0..np).map(|p| te[p * n + k - 1].powi(2)).sum::<f64>() / np as f64).sqrt();
+                let mut v: Vec<f64> = (0..np)
+                    .map(|p| te[p * n + k - 1].abs() + temp * t)
+                    .collect();
+                TePoint {
+                    t,
+                    deterministic: model.deterministic(t),
+                    p50: percentile(&mut v, 0.50),
+                    p95: percentile(&mut v, 0.95),
+                    p99: percentile(&mut v, 0.99),
+                    rms,
+                    within_budget: within_through(k) as f64 / np as f64,
+                }
+            })
+            .collect();
+        let mut judgement = judge(model, &points, &p95, step, np, budget, holds_for);
+        let paths_within_budget = within_through(n);
+        let p = crate::decision::path_fraction(paths_within_budget, np);
+        settings
+            .decision
+            .decide(&mut judgement, crate::decision::Probabilities::Points(&[p]));
+        Prediction {
+            te: points,
+            judgement,
+            holds_for,
+            step,
+            paths: np,
+            paths_within_budget,
+        }
+    }
+
+    fn model_with(terms: &[(i32, f64)], corr: f64, temp: f64) -> HoldoverModel {
         let mut noise = PowerLaw::zero(0.5);
-        for (a, h) in [(2, 1e-24), (1, 3e-24), (0, 2e-22), (-1, 4e-24), (-2, 1e-28)] {
+        for &(a, h) in terms {
             noise.set(a, h);
         }
-        let model = HoldoverModel {
+        HoldoverModel {
             te0: 2e-9,
             y0: 1e-12,
             y0_sigma: 3e-13,
@@ -1041,13 +1485,27 @@ mod paired_path_tests {
                 d_sigma: 2e-17,
             },
             start: 0.0,
-            temp_worst: 0.0,
+            temp_worst: temp,
             noise,
             uncertainty: Uncertainty {
-                y0_aging_corr: -0.4,
+                y0_aging_corr: corr,
                 ..Default::default()
             },
-        };
+        }
+    }
+
+    const ALL_FIVE: [(i32, f64); 5] =
+        [(2, 1e-24), (1, 3e-24), (0, 2e-22), (-1, 4e-24), (-2, 1e-28)];
+
+    /// Seeded Monte Carlo, same draws: the table of the paired unit paths,
+    /// scaled, equals every path's time error of the direct, one term at a
+    /// time form to 1e−12 of the largest |TE| (rounding of the FFT and of
+    /// the scaling), for a model with all five noise terms, an odd number
+    /// of paths (the last one alone) and a y0–aging correlation; and the
+    /// prediction is the summary of that table, bit for bit.
+    #[test]
+    fn paths_equal_the_direct_form() {
+        let model = model_with(&ALL_FIVE, -0.4, 0.0);
         let settings = Settings {
             paths: 7,
             steps: 300,
@@ -1055,21 +1513,6 @@ mod paired_path_tests {
         };
         let (te, n, step) = simulate_te(&model, &settings).unwrap();
         let want = simulate_te_direct(&model, &settings);
-        // Two spans at once: each table bit for bit the one of its span
-        // alone (the report predicts its spans together, the command one
-        // at a time).
-        let other = Settings {
-            span: 8.0 * 3600.0,
-            ..settings.clone()
-        };
-        let both = simulate_te_spans(&model, &[settings.clone(), other.clone()]).unwrap();
-        assert_eq!(both[0], (te.clone(), n, step));
-        assert_eq!(both[1], simulate_te(&model, &other).unwrap());
-        let direct_other = simulate_te_direct(&model, &other);
-        let scale_other = direct_other.iter().fold(0.0f64, |a, v| a.max(v.abs()));
-        for (g, e) in both[1].0.iter().zip(&direct_other) {
-            assert!((g - e).abs() <= 1e-12 * scale_other, "8 h span: {g} vs {e}");
-        }
         let scale = want.iter().fold(0.0f64, |a, v| a.max(v.abs()));
         assert!(scale > 0.0);
         for (i, (g, e)) in te.iter().zip(&want).enumerate() {
@@ -1080,29 +1523,122 @@ mod paired_path_tests {
                 i % n + 1
             );
         }
-        // The blocked gather of p95 at every step against the step-by-step
-        // one (exact: the same values, in another order).
-        let temp = 3e-13;
-        let direct: Vec<f64> = (1..=n)
-            .map(|k| {
-                let mut v: Vec<f64> = (0..settings.paths)
-                    .map(|p| te[p * n + k - 1].abs() + temp * (k as f64 * step))
-                    .collect();
-                percentile(&mut v, 0.95)
+        assert_eq!(
+            predict(&model, &settings).unwrap(),
+            summarise(&model, &settings, &te, n, step).unwrap()
+        );
+    }
+
+    /// The streaming summary (each step's largest values kept by each
+    /// worker, merged) against the direct one on the whole table, exactly:
+    /// many paths (so that the kept values are cut many times and the
+    /// workers are several), a budget crossed inside the span, the
+    /// worst-case temperature term, te0 over the budget, and tables with
+    /// NaN and ±∞ in some paths (the verdict `not-judged` for the same
+    /// reason) — seeded Monte Carlo tables and hand-made ones.
+    #[test]
+    fn streaming_summary_equals_the_direct_form() {
+        let model = model_with(&ALL_FIVE, 0.3, 2e-13);
+        for (paths, steps, budget) in [(401, 64, 2e-8), (2000, 40, 5e-8), (9, 33, 1e-8)] {
+            let settings = Settings {
+                paths,
+                steps,
+                ..Settings::new(20_000.0, budget)
+            };
+            let (te, n, step) = simulate_te(&model, &settings).unwrap();
+            let direct = summarise_direct(&model, &settings, &te, n, step);
+            assert!(
+                direct.holds_for.is_some() || paths == 9,
+                "{paths}: a crossing"
+            );
+            assert_eq!(summarise(&model, &settings, &te, n, step).unwrap(), direct);
+            // predict runs the paths on every worker; the same table.
+            assert_eq!(predict(&model, &settings).unwrap(), direct);
+            for bad in [f64::NAN, f64::INFINITY, f64::NEG_INFINITY] {
+                let mut t = te.clone();
+                for p in (0..paths).step_by(7) {
+                    t[p * n + n / 2] = bad;
+                }
+                let d = summarise_direct(&model, &settings, &t, n, step);
+                assert_eq!(summarise(&model, &settings, &t, n, step).unwrap(), d);
+            }
+            // Every path non-finite from a step on: p95 itself not finite.
+            let mut t = te.clone();
+            for p in 0..paths {
+                t[p * n + n / 3] = f64::NAN;
+            }
+            let d = summarise_direct(&model, &settings, &t, n, step);
+            assert_eq!(d.judgement.verdict, crate::verdict::Verdict::NotJudged);
+            assert_eq!(summarise(&model, &settings, &t, n, step).unwrap(), d);
+        }
+        let over = HoldoverModel {
+            te0: 1e-6,
+            ..model.clone()
+        };
+        let settings = Settings {
+            paths: 150,
+            steps: 50,
+            ..Settings::new(20_000.0, 1e-7)
+        };
+        let (te, n, step) = simulate_te(&over, &settings).unwrap();
+        assert_eq!(
+            summarise(&over, &settings, &te, n, step).unwrap(),
+            summarise_direct(&over, &settings, &te, n, step)
+        );
+    }
+
+    /// Seeded Monte Carlo: predictions made together — the demo devices'
+    /// kinds of model (WFM + FFM; all five terms; WFM + RWFM), two spans
+    /// each, and one with another seed — are each bit for bit the
+    /// prediction made alone (every term of every path has its own stream,
+    /// so a device's draws do not depend on the others' terms); a job with
+    /// refused settings gets its error and leaves the others alone.
+    #[test]
+    fn predictions_together_equal_each_alone() {
+        let models = [
+            model_with(&[(0, 2e-24), (-1, 6e-26)], 0.6, 0.0),
+            model_with(&ALL_FIVE, 0.35, 1e-13),
+            model_with(&[(0, 2e-22), (-2, 3e-32)], 0.3, 0.0),
+        ];
+        let spans: Vec<Settings> = [8.0 * 3600.0, 86_400.0]
+            .iter()
+            .map(|&span| Settings {
+                paths: 61,
+                steps: 128,
+                ..Settings::new(span, 1.5e-6)
             })
             .collect();
-        assert_eq!(p95_per_step(&te, n, settings.paths, temp, step), direct);
-        let a = summarise(&model, &settings, &te, n, step).unwrap();
-        let b = summarise(&model, &settings, &want, n, step).unwrap();
-        for (x, y) in a.te.iter().zip(&b.te) {
-            for (u, v) in [
-                (x.p50, y.p50),
-                (x.p95, y.p95),
-                (x.p99, y.p99),
-                (x.rms, y.rms),
-            ] {
-                assert!((u - v).abs() <= 1e-9 * v.abs(), "t = {}: {u} vs {v}", x.t);
+        let other_seed = Settings {
+            seed: 7,
+            ..spans[0].clone()
+        };
+        let refused = Settings {
+            paths: 1,
+            ..spans[0].clone()
+        };
+        let mut jobs: Vec<(&HoldoverModel, &Settings)> = Vec::new();
+        for m in &models {
+            for s in &spans {
+                jobs.push((m, s));
             }
         }
+        jobs.push((&models[1], &other_seed));
+        jobs.push((&models[0], &refused));
+        let together = predict_many(&jobs);
+        assert_eq!(together.len(), jobs.len());
+        for (&(m, s), got) in jobs.iter().zip(&together) {
+            match predict(m, s) {
+                Ok(alone) => assert_eq!(got.as_ref().unwrap(), &alone),
+                Err(e) => assert_eq!(got.as_ref().unwrap_err().to_string(), e.to_string()),
+            }
+        }
+        assert!(together.last().unwrap().is_err());
+        assert_eq!(
+            predict_spans(&models[1], &spans).unwrap(),
+            vec![
+                predict(&models[1], &spans[0]).unwrap(),
+                predict(&models[1], &spans[1]).unwrap()
+            ]
+        );
     }
 }

@@ -11,9 +11,11 @@
 //! The prediction itself draws each term as a unit path u (white noise of
 //! standard deviation 1, [`crate::simulate::unit_phase_pair`], two paths
 //! per FFT pair) and adds σ·(u − u_0) with σ = `white_sigma(α, h_α, Δ)`:
-//! the same path to rounding, and since u depends on the draws and the
-//! number of steps only, one draw serves every span of the same number of
-//! steps ([`crate::holdover::predict_spans`]).
+//! the same path to rounding. Term α of path p draws from a stream of its
+//! own ([`term_stream`]), so u depends on the seed, the path, α and the
+//! number of steps only: one draw serves every span of the same number of
+//! steps, and every model (every device of a comparison) that has the term
+//! ([`crate::holdover::predict_many`]).
 //!
 //! # Step and bandwidth
 //!
@@ -53,6 +55,7 @@
 use crate::error::{Error, Result};
 use crate::model::PowerLaw;
 use crate::simulate::{power_law_phase, unit_phase_pair, white_sigma, PairWorkspace};
+use rand::SeedableRng;
 use rand_chacha::ChaCha8Rng;
 use std::f64::consts::PI;
 
@@ -166,7 +169,7 @@ impl NoisePaths {
     /// The terms drawn, in the order they are drawn: (α, σ) with σ the
     /// standard deviation of the term's white noise at this step,
     /// [`white_sigma`]`(α, h_α, Δ)`. A path is Σ σ·u over the terms, u the
-    /// term's unit path ([`NoisePaths::draw_unit_pair`]).
+    /// term's unit path ([`PathWorkspace::draw_pair`]).
     pub fn scales(&self) -> Vec<(i32, f64)> {
         self.terms
             .iter()
@@ -174,68 +177,100 @@ impl NoisePaths {
             .collect()
     }
 
-    /// Draw the unit path of every term (white noise of standard deviation
-    /// 1, [`crate::simulate::unit_phase_pair`]) for path a from `rng_a`,
-    /// and for path b from `rng_b` when given, into `ws`: n + 1 samples
-    /// each, relative to the first. Each generator is drawn in the same
-    /// order as by [`NoisePaths::fill`], and σ-weighted sums of these unit
-    /// paths ([`PathWorkspace::path`]) are `fill`'s path to rounding. The
-    /// unit paths depend on the terms present and the number of steps, not
-    /// on h or the step, so one draw serves every span of the same
-    /// length; the flicker terms of the two paths share one FFT pair.
-    pub fn draw_unit_pair(
-        &self,
-        rng_a: &mut ChaCha8Rng,
-        rng_b: Option<&mut ChaCha8Rng>,
-        ws: &mut PathWorkspace,
-    ) {
-        let len = self.n + 1;
-        let terms = self.terms.len();
-        for u in [&mut ws.ua, &mut ws.ub] {
-            u.resize_with(terms, Vec::new);
-            for v in u.iter_mut() {
-                v.resize(len, 0.0);
-            }
-        }
-        let mut rng_b = rng_b;
-        for (t, &(alpha, _)) in self.terms.iter().enumerate() {
-            let (ua, ub) = (&mut ws.ua[t], &mut ws.ub[t]);
-            match &mut rng_b {
-                Some(rb) => unit_phase_pair(
-                    alpha,
-                    rng_a,
-                    ua,
-                    Some((&mut **rb, &mut ub[..])),
-                    &mut ws.fft,
-                ),
-                None => unit_phase_pair(alpha, rng_a, ua, None, &mut ws.fft),
-            }
-            for u in [ua, ub] {
-                let u0 = u[0];
-                u.iter_mut().for_each(|v| *v -= u0);
-            }
-        }
+    /// The terms drawn, in the order they are drawn: (α, h_α as drawn at
+    /// the step; WPM with the folded FPM part, module notes).
+    pub fn terms(&self) -> &[(i32, f64)] {
+        &self.terms
+    }
+
+    /// The exponents α of the terms drawn, in the order they are drawn
+    /// (WPM first, RWFM last).
+    pub fn alphas(&self) -> Vec<i32> {
+        self.terms.iter().map(|t| t.0).collect()
     }
 }
 
-/// Working memory of [`NoisePaths::draw_unit_pair`], one per thread: the
-/// unit paths of the last pair drawn, one per term.
+/// The random stream of term α of Monte Carlo path `path` in the holdover
+/// prediction: ChaCha8 seeded with the prediction's seed, on stream
+/// 8·path + (2 − α) (WPM 0 … RWFM 4). Each term of each path has a stream
+/// of its own, so a term's unit path depends on the seed, the path, α and
+/// the number of steps only — not on the other terms of the model — and
+/// devices predicted with the same seed, paths and steps share the unit
+/// paths of the terms they have in common ([`crate::holdover::predict_many`]).
+pub fn term_stream(path: usize, alpha: i32) -> u64 {
+    8 * path as u64 + (2 - alpha) as u64
+}
+
+/// The random stream of the y0 and aging errors of Monte Carlo path
+/// `path`: 8·path + 5 (two standard normals, drawn after nothing else).
+pub fn error_stream(path: usize) -> u64 {
+    8 * path as u64 + 5
+}
+
+/// ChaCha8 seeded with `seed` on `stream`.
+pub fn stream_rng(seed: u64, stream: u64) -> ChaCha8Rng {
+    let mut rng = ChaCha8Rng::seed_from_u64(seed);
+    rng.set_stream(stream);
+    rng
+}
+
+/// Working memory of the Monte Carlo's unit paths, one per worker: the
+/// unit paths of the last pair drawn ([`PathWorkspace::draw_pair`]), one
+/// per exponent α (slot 2 − α).
 #[derive(Debug, Default)]
 pub struct PathWorkspace {
     fft: PairWorkspace,
-    ua: Vec<Vec<f64>>,
-    ub: Vec<Vec<f64>>,
+    ua: [Vec<f64>; 5],
+    ub: [Vec<f64>; 5],
 }
 
 impl PathWorkspace {
+    /// Draw the unit path (white noise of standard deviation 1,
+    /// [`crate::simulate::unit_phase_pair`]) of each term α in `alphas`
+    /// for Monte Carlo path `pa`, and for path `pb` when given: n + 1
+    /// samples each, relative to the first, term α of path p from its own
+    /// stream ([`term_stream`]) of `seed`. σ-weighted sums of these unit
+    /// paths ([`PathWorkspace::path`]) are the noise paths of any model
+    /// whose terms are among `alphas`, at any step; the flicker terms of
+    /// the two paths share one FFT pair.
+    pub fn draw_pair(&mut self, alphas: &[i32], n: usize, seed: u64, pa: usize, pb: Option<usize>) {
+        let len = n + 1;
+        for &alpha in alphas {
+            let slot = (2 - alpha) as usize;
+            let mut ra = stream_rng(seed, term_stream(pa, alpha));
+            let (ua, ub) = (&mut self.ua[slot], &mut self.ub[slot]);
+            ua.resize(len, 0.0);
+            match pb {
+                Some(pb) => {
+                    ub.resize(len, 0.0);
+                    let mut rb = stream_rng(seed, term_stream(pb, alpha));
+                    unit_phase_pair(
+                        alpha,
+                        &mut ra,
+                        ua,
+                        Some((&mut rb, &mut ub[..])),
+                        &mut self.fft,
+                    );
+                }
+                None => unit_phase_pair(alpha, &mut ra, ua, None, &mut self.fft),
+            }
+            for u in [ua, ub] {
+                if let Some(&u0) = u.first() {
+                    u.iter_mut().for_each(|v| *v -= u0);
+                }
+            }
+        }
+    }
+
     /// Path a (`b` false) or b of the last pair drawn, for the term scales
-    /// `scales` ([`NoisePaths::scales`] of any step with the same terms):
-    /// out_k = Σ_t σ_t·u_t,k, k = 0 … n (out_0 = 0).
+    /// `scales` ([`NoisePaths::scales`]; every α among those drawn):
+    /// out_k = Σ_t σ_t·u_t,k, k = 0 … n (out_0 = 0), the terms added in
+    /// the order of `scales`.
     pub fn path(&self, scales: &[(i32, f64)], b: bool, out: &mut [f64]) {
         let units = if b { &self.ub } else { &self.ua };
         out.iter_mut().for_each(|v| *v = 0.0);
-        for (&(_, sigma), u) in scales.iter().zip(units) {
-            for (o, v) in out.iter_mut().zip(u) {
+        for &(alpha, sigma) in scales {
+            for (o, v) in out.iter_mut().zip(&units[(2 - alpha) as usize]) {
                 *o += sigma * v;
             }
         }

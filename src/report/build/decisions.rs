@@ -3,7 +3,7 @@
 //! once per span so each verdict equals `tauwise holdover --span …`).
 
 use super::{method, Loaded};
-use crate::holdover::{model_from_record, predict_spans, FromRecord, Settings};
+use crate::holdover::{model_from_record, FromRecord, Settings};
 use crate::io::dut::Dut;
 use crate::plot::holdover::HoldoverPlot;
 use crate::report::*;
@@ -201,16 +201,48 @@ fn capitalised(text: &str) -> String {
     }
 }
 
-/// The holdover section and one verdict per span.
-pub(super) fn holdover(
+/// The holdover predictions a report asks for ([`holdover_ask`]) and what
+/// its section needs besides; the predictions are made by
+/// [`crate::holdover::predict_many`], for this device alone or with the
+/// other devices of a comparison (the same numbers either way), and the
+/// section is finished by [`holdover_finish`].
+pub(crate) struct HoldoverAsk {
+    /// The model fitted to the record.
+    pub model: crate::holdover::HoldoverModel,
+    /// One settings per span, in the DUT file's order.
+    pub settings: Vec<Settings>,
+    source: String,
+    prepared_note: &'static str,
+}
+
+/// A verdict line per span, all "not computed", and the section's reason.
+fn holdover_not_computed(h: &crate::io::dut::HoldoverSpec, r: &mut Report, why: String) {
+    for &span in &h.spans {
+        r.verdicts.push(VerdictLine {
+            kind: VerdictKind::Holdover,
+            item: format!("{} span", format_si(span / 3600.0, "h", 3)),
+            criterion: format!("p95 of |TE| ≤ {}", format_si(h.budget, "s", 3)),
+            result: format!("not computed: {why}"),
+            judgement: Judgement::not_judged(format!("not computed: {why}")),
+            ratio: None,
+            hold_time: None,
+        });
+    }
+    r.holdover = Part::not_computed(why);
+}
+
+/// The holdover model of the DUT file's `[holdover]` and the settings of
+/// its spans; `None` (the section filled with the reason) when nothing is
+/// to be predicted.
+pub(super) fn holdover_ask(
     dut: &Dut,
     records: &[Loaded],
     work: &[super::time::Worked],
     r: &mut Report,
-) -> Result<()> {
+) -> Option<HoldoverAsk> {
     let Some(h) = &dut.holdover else {
         r.holdover = Part::not_requested("the DUT file has no [holdover] section.");
-        return Ok(());
+        return None;
     };
     let chosen = match &h.record {
         Some(n) => records.iter().position(|l| &l.src.name == n),
@@ -218,21 +250,7 @@ pub(super) fn holdover(
     };
     let Some((l, w)) = chosen.map(|i| (&records[i], work.get(i))) else {
         r.holdover = Part::not_computed("no record to predict from.");
-        return Ok(());
-    };
-    let not_computed = |r: &mut Report, why: String| {
-        for &span in &h.spans {
-            r.verdicts.push(VerdictLine {
-                kind: VerdictKind::Holdover,
-                item: format!("{} span", format_si(span / 3600.0, "h", 3)),
-                criterion: format!("p95 of |TE| ≤ {}", format_si(h.budget, "s", 3)),
-                result: format!("not computed: {why}"),
-                judgement: Judgement::not_judged(format!("not computed: {why}")),
-                ratio: None,
-                hold_time: None,
-            });
-        }
-        r.holdover = Part::not_computed(why);
+        return None;
     };
     let opts = FromRecord {
         te0: h.te0.unwrap_or(0.0),
@@ -261,14 +279,11 @@ pub(super) fn holdover(
     let model = match model_from_record(input, &opts) {
         Ok(m) => m,
         Err(e) => {
-            not_computed(r, format!("{}: {e}", l.src.name));
-            return Ok(());
+            holdover_not_computed(h, r, format!("{}: {e}", l.src.name));
+            return None;
         }
     };
-    let mut spans = Vec::new();
-    let mut longest: Option<(f64, crate::holdover::Prediction)> = None;
-    let mut settings_used = None;
-    let all_settings: Vec<Settings> = h
+    let settings: Vec<Settings> = h
         .spans
         .iter()
         .map(|&span| {
@@ -283,15 +298,43 @@ pub(super) fn holdover(
             settings
         })
         .collect();
-    // The spans together: each path drawn once (each prediction is the
-    // one `tauwise holdover --span` gives alone, bit for bit).
-    let predictions = match predict_spans(&model, &all_settings) {
+    Some(HoldoverAsk {
+        model,
+        settings,
+        source: l.src.name.clone(),
+        prepared_note,
+    })
+}
+
+/// The holdover section and one verdict per span, from the predictions of
+/// `ask` (`results[i]` for `ask.settings[i]`; each is the one `tauwise
+/// holdover --span` gives alone, bit for bit). The first refusal, in span
+/// order, makes the section "not computed".
+pub(super) fn holdover_finish(
+    dut: &Dut,
+    ask: HoldoverAsk,
+    results: Vec<Result<crate::holdover::Prediction>>,
+    r: &mut Report,
+) {
+    let Some(h) = &dut.holdover else {
+        return;
+    };
+    let HoldoverAsk {
+        model,
+        settings: all_settings,
+        source,
+        prepared_note,
+    } = ask;
+    let predictions = match results.into_iter().collect::<Result<Vec<_>>>() {
         Ok(p) => p,
         Err(e) => {
-            not_computed(r, e.to_string());
-            return Ok(());
+            holdover_not_computed(h, r, e.to_string());
+            return;
         }
     };
+    let mut spans = Vec::new();
+    let mut longest: Option<(f64, crate::holdover::Prediction)> = None;
+    let mut settings_used = None;
     for ((&span, settings), pred) in h.spans.iter().zip(all_settings).zip(predictions) {
         let end = pred.te.last().copied();
         let judgement = pred.judgement.clone();
@@ -333,7 +376,7 @@ pub(super) fn holdover(
     }
     let (Some((span, pred)), Some(settings)) = (longest, settings_used) else {
         r.holdover = Part::not_computed("no span given.");
-        return Ok(());
+        return;
     };
     r.methods.push(method(
         "holdover time error",
@@ -415,10 +458,10 @@ pub(super) fn holdover(
     let caution = crate::holdover::caution();
     r.cautions.push(crate::holdover::HOLDOVER_NOTE.to_string());
     r.holdover = Part::Done(HoldoverSection {
-        source: l.src.name.clone(),
+        source: source.clone(),
         budget: h.budget,
         plot: HoldoverPlot::from_prediction(
-            &format!("{} — holdover from {}", dut.name, l.src.name),
+            &format!("{} — holdover from {}", dut.name, source),
             &pred,
             span,
             h.budget,
@@ -437,5 +480,4 @@ pub(super) fn holdover(
         parameters,
         notes: vec![prepared_note.to_string(), caution],
     });
-    Ok(())
 }

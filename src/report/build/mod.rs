@@ -138,6 +138,54 @@ pub fn from_dut_with_progress(
     opts: &BuildOptions,
     progress: &mut dyn FnMut(usize, usize, &str),
 ) -> Result<Report> {
+    let pending = start(dut, opts, progress)?;
+    let results = crate::holdover::predict_many(&pending.holdover_jobs());
+    Ok(pending.finish(dut, results))
+}
+
+/// A report built up to its holdover predictions ([`start`]): the
+/// comparison makes the predictions of all its devices in one Monte Carlo
+/// ([`crate::holdover::predict_many`], each device's numbers the same as
+/// alone) and then finishes each report.
+pub(crate) struct Pending {
+    report: Report,
+    holdover: Option<decisions::HoldoverAsk>,
+}
+
+impl Pending {
+    /// The holdover predictions this report asks for, one per span.
+    pub(crate) fn holdover_jobs(
+        &self,
+    ) -> Vec<(&crate::holdover::HoldoverModel, &crate::holdover::Settings)> {
+        match &self.holdover {
+            Some(a) => a.settings.iter().map(|s| (&a.model, s)).collect(),
+            None => Vec::new(),
+        }
+    }
+
+    /// The report, with the results of [`Pending::holdover_jobs`] in order.
+    pub(crate) fn finish(
+        self,
+        dut: &Dut,
+        results: Vec<Result<crate::holdover::Prediction>>,
+    ) -> Report {
+        let mut r = self.report;
+        if let Some(ask) = self.holdover {
+            decisions::holdover_finish(dut, ask, results, &mut r);
+        }
+        if !r.cautions.iter().any(|c| c == crate::DECISION_CAUTION) {
+            r.cautions.insert(0, crate::DECISION_CAUTION.to_string());
+        }
+        r
+    }
+}
+
+/// Every step of [`from_dut_with_progress`] but the holdover Monte Carlo.
+pub(crate) fn start(
+    dut: &Dut,
+    opts: &BuildOptions,
+    progress: &mut dyn FnMut(usize, usize, &str),
+) -> Result<Pending> {
     let total = steps(dut);
     let mut done = 0usize;
     let mut step = |what: &str| {
@@ -215,11 +263,10 @@ pub fn from_dut_with_progress(
     step("limit files");
     limits::check(dut, &records, &work, &tables, opts, &mut r)?;
     step("holdover");
-    decisions::holdover(dut, &records, &work, &mut r)?;
-
-    if !r.cautions.iter().any(|c| c == crate::DECISION_CAUTION) {
-        r.cautions.insert(0, crate::DECISION_CAUTION.to_string());
-    }
+    let holdover = decisions::holdover_ask(dut, &records, &work, &mut r);
     r.added = super::added::sections(dut, opts.confidence);
-    Ok(r)
+    Ok(Pending {
+        report: r,
+        holdover,
+    })
 }

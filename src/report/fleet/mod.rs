@@ -1,6 +1,8 @@
 //! The comparison report of several devices: each device's report built
 //! from its DUT file (in parallel, by the same [`super::build`] path as the
-//! single report, so every verdict is the single report's), the verdict
+//! single report, so every verdict is the single report's; the holdover
+//! Monte Carlo of all the devices in one run, each device's paths the
+//! same as alone, [`crate::holdover::predict_many`]), the verdict
 //! matrix ([`crate::results::FleetMatrix`]) with the answer first, charts
 //! that overlay the devices — one colour and marker per device, the same
 //! in every chart ([`crate::plot::style::DEVICE_PALETTE`]) — the summary
@@ -87,14 +89,28 @@ pub fn build(
     let files: Vec<String> = duts.iter().map(|d| d.file.display().to_string()).collect();
     let names: Vec<&str> = duts.iter().map(|d| d.name.as_str()).collect();
     distinct_names(&names, &files)?;
-    let reports: Vec<Report> = duts
+    let pending: Vec<build::Pending> = duts
         .par_iter()
         .enumerate()
         .map(|(i, d)| {
-            build::from_dut_with_progress(d, opts, &mut |done, total, what| {
+            build::start(d, opts, &mut |done, total, what| {
                 progress(i, done, total, what)
             })
         })
         .collect::<Result<Vec<_>>>()?;
+    // Every device's holdover spans in one Monte Carlo: the unit paths of
+    // the noise terms the devices share are drawn once (each device's
+    // predictions are those of its single report, bit for bit).
+    let counts: Vec<usize> = pending.iter().map(|p| p.holdover_jobs().len()).collect();
+    let mut results = {
+        let jobs: Vec<_> = pending.iter().flat_map(|p| p.holdover_jobs()).collect();
+        crate::holdover::predict_many(&jobs).into_iter()
+    };
+    let reports: Vec<Report> = pending
+        .into_iter()
+        .zip(duts)
+        .zip(counts)
+        .map(|((p, d), k)| p.finish(d, results.by_ref().take(k).collect()))
+        .collect();
     Fleet::from_reports(reports, &files)
 }
