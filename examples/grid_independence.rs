@@ -4,10 +4,10 @@
 //! `all` grids whose factor is in a spread of checked factors — and every
 //! Theo1 and TheoH point on `octave`, `decade` and 7 per decade — must be
 //! identical (value, label, EDF, interval, bias) to the same τ asked
-//! alone. The test runs it with a dense grid instead of `all` at N = 4096
-//! and `all` at N = 256; this is the full version (about 5 minutes on a
-//! loaded 2-core machine: every τ of `all` from T/16 on takes an interval
-//! from the quadratic form's distribution).
+//! alone. The tests run it with a dense grid instead of `all` at N = 4096
+//! and `all` at N = 64; this is the full version (long: every τ of `all`
+//! from T/16 on — over a thousand at N = 4096 — takes an interval from the
+//! quadratic form's distribution).
 //!
 //! ```sh
 //! cargo run --release --example grid_independence
