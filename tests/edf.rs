@@ -1003,9 +1003,9 @@ fn form_times_ratio_quantiles_match_seeded_monte_carlo() {
 #[test]
 fn fast_product_quantiles_match_the_direct_integral() {
     use tauwise::stats::form_interval::{
-        log_gamma_nodes, product_quantile, product_quantiles, theoh_factors,
+        log_gamma_nodes, product_quantile, product_quantiles, theoh_factors, Weights,
     };
-    let mut cases: Vec<(String, Vec<(f64, f64)>, f64)> = vec![
+    let mut cases: Vec<(String, Weights, f64)> = vec![
         (
             "pair".into(),
             vec![(0.82, 1.0), (0.14, 1.0), (0.01, 4.0)],

@@ -946,7 +946,7 @@ pub const PRODUCT_DIRECT_NODES_PER_SIGMA: f64 = 3.0;
 /// ([`product_quantile`]) asks for fewer values. Both compute the same
 /// integral; the choice only changes the time (`tests/edf.rs` holds both
 /// within 1e−6 of the direct integral on fine nodes).
-fn prepared_cdf_pays(q: &[(f64, f64)]) -> bool {
+pub fn prepared_cdf_pays(q: &[(f64, f64)]) -> bool {
     let (lo, hi) = q
         .iter()
         .filter(|(l, h)| l.is_finite() && *l > 0.0 && h.is_finite() && *h > 0.0)
