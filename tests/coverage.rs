@@ -290,3 +290,102 @@ fn theoh_long_tau_covers_at_nominal() {
     eprintln!("{}", lines.join("\n"));
     assert!(bad.is_empty(), "coverage off:\n{}", bad.join("\n"));
 }
+
+/// The simulator's white PM against the analytic white-PM deviations, with
+/// the coverage sweep's seeds (s + 7919·r) and with consecutive seeds
+/// (1000 + r): for discrete white phase of variance σ_x² = h2·f_h/(4π²)
+/// (IEEE Std 1139, f_h = 1/(2τ0)), AVAR(mτ0) = 3σ_x²/τ² and MVAR(mτ0) =
+/// 3σ_x²/(m·τ²) exactly (analytic; NIST SP 1065 Table 5 in sampled form).
+/// Over 600 seeded records of N = 4096 per seed set, the mean of σ̂²/σ² is
+/// within 4 standard errors of 1 for OADEV (m = 1, 16, 512) and MDEV
+/// (m = 16, 128, 512), and the Monte Carlo EDF of MDEV at m = 128 within
+/// 20 % of the exact EDF of its quadratic form on white phase,
+/// ν = tr(A)²/tr(A²) (Greenhall & Riley 2003; tr(A) = M·r(0),
+/// tr(A²) = Σ_{|d|<M}(M − |d|)·r(d)², r the kernel's autocorrelation).
+/// `examples/wpm_seed_sets.rs` is the long form (docs/statistics.md, § the
+/// seed-set question).
+#[test]
+fn white_pm_simulation_matches_the_analytic_deviations_for_both_seed_sets() {
+    use rayon::prelude::*;
+    use tauwise::deviation::compute;
+    use tauwise::model::PowerLaw;
+    use tauwise::simulate::{simulate_phase, white_sigma, SimSpec};
+    let (n, records, h2) = (4096usize, 600usize, 1e-20);
+    let sx2 = white_sigma(2, h2, 1.0).powi(2);
+    let mut model = PowerLaw::zero(0.5);
+    model.set(2, h2);
+    let cases = [
+        (Estimator::Oadev, 1usize),
+        (Estimator::Oadev, 16),
+        (Estimator::Oadev, 512),
+        (Estimator::Mdev, 16),
+        (Estimator::Mdev, 128),
+        (Estimator::Mdev, 512),
+    ];
+    let kernel = |est: Estimator, m: usize| -> Vec<f64> {
+        if est == Estimator::Oadev {
+            let mut c = vec![0.0; 2 * m + 1];
+            (c[0], c[m], c[2 * m]) = (1.0, -2.0, 1.0);
+            c
+        } else {
+            let mut c = vec![0.0; 3 * m];
+            for j in 0..m {
+                c[j] += 1.0 / m as f64;
+                c[j + m] -= 2.0 / m as f64;
+                c[j + 2 * m] += 1.0 / m as f64;
+            }
+            c
+        }
+    };
+    let exact_edf = |c: &[f64]| -> f64 {
+        let w = c.len();
+        let terms = n + 1 - w;
+        let r = |d: usize| -> f64 { (0..w - d).map(|j| c[j] * c[j + d]).sum() };
+        let mut tr2 = terms as f64 * r(0).powi(2);
+        for d in 1..w.min(terms) {
+            tr2 += 2.0 * (terms - d) as f64 * r(d).powi(2);
+        }
+        (terms as f64 * r(0)).powi(2) / tr2
+    };
+    let mut bad = Vec::new();
+    for (name, first, step) in [("s + 7919·r", 1u64, 7919u64), ("1000 + r", 1000, 1)] {
+        let ratios: Vec<Vec<f64>> = (0..records)
+            .into_par_iter()
+            .map(|r| {
+                let rec =
+                    simulate_phase(&SimSpec::new(model, 1.0, n, first + step * r as u64)).unwrap();
+                cases
+                    .iter()
+                    .map(|&(est, m)| {
+                        let tau = m as f64;
+                        let truth = if est == Estimator::Oadev {
+                            3.0 * sx2 / (tau * tau)
+                        } else {
+                            3.0 * sx2 / (m as f64 * tau * tau)
+                        };
+                        compute(est, &rec, &[m])[0].value.powi(2) / truth
+                    })
+                    .collect()
+            })
+            .collect();
+        for (i, &(est, m)) in cases.iter().enumerate() {
+            let v: Vec<f64> = ratios.iter().map(|r| r[i]).collect();
+            let mean = v.iter().sum::<f64>() / v.len() as f64;
+            let var = v.iter().map(|x| (x - mean).powi(2)).sum::<f64>() / (v.len() - 1) as f64;
+            let exact = exact_edf(&kernel(est, m));
+            // The standard error of the mean from the exact EDF.
+            let se = (2.0 / exact / v.len() as f64).sqrt();
+            let mc_edf = 2.0 * mean * mean / var;
+            let line = format!(
+                "{name} {est} m = {m}: mean {mean:.4} (s.e. {se:.4}), EDF {mc_edf:.2} measured, {exact:.2} exact"
+            );
+            if (mean - 1.0).abs() > 4.0 * se
+                || (est == Estimator::Mdev && m == 128 && (mc_edf / exact - 1.0).abs() > 0.2)
+            {
+                bad.push(line.clone());
+            }
+            eprintln!("{line}");
+        }
+    }
+    assert!(bad.is_empty(), "white PM off:\n{}", bad.join("\n"));
+}

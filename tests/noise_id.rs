@@ -298,12 +298,10 @@ fn compare_with_alone(
 /// by 11 % with the grid). Seeded records from the simulator: FPM, FFM and
 /// WFM crossing into RWFM at N = 4096 with the octave, decade and a
 /// 10-per-decade grid (37 τ, intermediate τ of the kind that used to pass
-/// a misreading on); Theo1 and TheoH on the crossing record with the
-/// octave and 7-per-decade grids. The same check with `all` (every τ) is
-/// `cargo run --release --example grid_independence` — several minutes:
-/// every τ at T/τ ≤ 16 takes its interval from the quadratic form's
-/// distribution, a few hundred distinct reduced records (`all` on N = 128
-/// alone took about 60 s here).
+/// a misreading on). Theo1/TheoH and the literal `all` grid are checked by
+/// the two tests below; `all` at N = 4096 is
+/// `cargo run --release --example grid_independence` (minutes: every τ at
+/// T/τ ≤ 16 takes its interval from the quadratic form's distribution).
 #[test]
 fn statistics_at_a_tau_do_not_depend_on_the_grid() {
     use tauwise::tau::TauGrid;
@@ -331,15 +329,71 @@ fn statistics_at_a_tau_do_not_depend_on_the_grid() {
         let n = compare_with_alone(&rec, &four, &grids, &dense, model);
         assert!(n > 60, "{model}: only {n} points compared");
     }
-    let rec = model_record("h0=1e-22,h-2=1e-30", 4096, 33, 0.0);
-    let n = compare_with_alone(
-        &rec,
-        &[Estimator::Theoh, Estimator::Theo1],
-        &[TauGrid::Octave, TauGrid::PerDecade(7)],
-        &[],
-        "theo",
-    );
-    assert!(n > 20, "Theo1/TheoH: only {n} points compared");
+}
+
+/// Theo1 and TheoH (every point of their lattice, the ThêoBR part with its
+/// form-times-ratio interval included) on the FPM, FFM and crossing WFM →
+/// RWFM records of N = 4096, on the `octave` and `decade` grids (and 7 per
+/// decade on the crossing record), against the same τ asked alone: identical value, label, EDF,
+/// interval and bias. Seeded records from the simulator (Kasdin & Walter
+/// 1992).
+#[test]
+fn theo_statistics_do_not_depend_on_the_grid() {
+    use tauwise::tau::TauGrid;
+    for (model, seed, grids) in [
+        ("h1=1e-20", 31u64, vec![TauGrid::Octave, TauGrid::Decade]),
+        ("h-1=1e-24", 32, vec![TauGrid::Octave, TauGrid::Decade]),
+        (
+            "h0=1e-22,h-2=1e-30",
+            33,
+            vec![TauGrid::Octave, TauGrid::Decade, TauGrid::PerDecade(7)],
+        ),
+    ] {
+        let rec = model_record(model, 4096, seed, 0.0);
+        let n = compare_with_alone(
+            &rec,
+            &[Estimator::Theoh, Estimator::Theo1],
+            &grids,
+            &[],
+            model,
+        );
+        assert!(n > 20, "{model} Theo1/TheoH: only {n} points compared");
+    }
+}
+
+/// The literal `all` grid (every τ from τ0 to the last the estimator
+/// defines): on N = 64 records (FPM, and WFM crossing into RWFM near
+/// τ = 9 s), every point of OADEV, TOTDEV, MDEV and OHDEV on `all` is
+/// identical — value, label, EDF, interval, bias — to the same τ asked
+/// alone (and every point of `octave` and `decade` with it). Seeded records
+/// from the simulator. Small N because every τ at T/τ ≤ 16 takes its
+/// interval from the quadratic form's distribution, whose CDF (Imhof's
+/// integral for a few dominant eigenvalues and many small ones) costs up
+/// to a few tenths of a second a value: N = 128 took 170 s on the loaded
+/// machine, N = 64 with three models 47 s. `all` at N = 4096 on FPM, FFM
+/// and the crossing record: `cargo run --release --example
+/// grid_independence`.
+#[test]
+fn the_all_grid_gives_what_each_tau_alone_gives() {
+    use tauwise::tau::TauGrid;
+    let four = [
+        Estimator::Oadev,
+        Estimator::Totdev,
+        Estimator::Mdev,
+        Estimator::Ohdev,
+    ];
+    let every: Vec<usize> = (1..64).collect();
+    for (model, seed) in [("h1=1e-20", 41u64), ("h0=1e-22,h-2=1e-25", 43)] {
+        let rec = model_record(model, 64, seed, 0.0);
+        let n = compare_with_alone(
+            &rec,
+            &four,
+            &[TauGrid::All, TauGrid::Octave, TauGrid::Decade],
+            &every,
+            model,
+        );
+        assert!(n > 60, "{model}: only {n} points compared");
+    }
 }
 
 /// NIST SP 1065: linear frequency drift D makes σ_y(τ) = |D|·τ/√2 (the

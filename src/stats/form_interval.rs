@@ -554,7 +554,9 @@ pub fn log_gamma_nodes(k: f64, per_sigma: f64) -> Vec<(f64, f64)> {
     nodes.iter().map(|&(s, w)| (s, w / total)).collect()
 }
 
-/// Trapezoid steps per σ of ln R in [`theoh_pivot_quantiles`].
+/// Trapezoid steps per σ of ln R in [`theoh_pivot_quantiles`] before
+/// [`product_quantiles`] took its place (kept for the comparisons of
+/// `tests/edf.rs`).
 pub const PRODUCT_NODES_PER_SIGMA: f64 = 1.5;
 
 /// P(Q·R ≤ x) for Q = Σλ_iχ²_{h_i} (`q`) and R = χ²_k/k independent
@@ -640,6 +642,333 @@ fn secant_in_log(f: impl Fn(f64) -> f64, start: f64, step: f64, tol: f64) -> Opt
     t1.is_finite().then_some(t1)
 }
 
+/// The product P = Q·R of [`product_cdf`] prepared for fast quantiles, the
+/// outer integral taken over Q instead of R:
+///
+/// P(Q·R ≤ x) = E_Q\[F_R(x/Q)\] = ∫ F_R(x / F_Q⁻¹(Φ(z))) φ(z) dz,
+///
+/// F_R(r) = P(k/2, k·r/2) the regularised incomplete gamma function (R =
+/// χ²_k/k, closed form), Φ and φ the standard normal CDF and density. The
+/// integral is the trapezoid rule in z on \[−[`PRODUCT_Z_MAX`], +[`PRODUCT_Z_MAX`]\]
+/// (weights h·φ(z_i) normalised to sum 1): Q's quantiles q_i = F_Q⁻¹(Φ(z_i))
+/// are found once per point ([`weighted_chi2::quantile_with`], which keeps
+/// Q's prepared CDF between calls), after which every value of the product
+/// CDF, and its density in ln x,
+/// dP/d ln x = Σ w_i·r_i f_R(r_i), r f_R(r) = exp(a ln(a r) − a r − ln Γ(a)),
+/// a = k/2, r_i = x/q_i, costs a few hundred gamma functions. The quantile
+/// is then a safeguarded Newton iteration in ln x (bisection when a step
+/// leaves the bracket), to 1e−12 in ln x.
+///
+/// Error bounds: (1) each q_i is Q's exact quantile of a probability within
+/// 1e−8 of Φ(z_i) (the stopping rule of `quantile_with`), which moves the
+/// integral by at most 1e−8 × the total variation of F_R(x/q) in z (≤ 1):
+/// |ΔP| ≤ 1e−8; (2) the trapezoid rule converges geometrically in the step
+/// for this analytic integrand, and the step is halved (the new grid keeps
+/// the old nodes) until the quantiles agree with those of twice the step
+/// within 1e−7 ([`product_quantiles`]); (3) the tails beyond |z| = 6.5 hold
+/// 8e−11. A quantile error in ln x is |ΔP| over the density in ln x (about
+/// 0.06/σ at the 2.5 % point, σ the spread of ln P), so ≈ 2e−7·σ relative.
+/// `tests/edf.rs` measures it against [`product_quantile`] (the outer
+/// integral over R, the direct form of the definition) on fine nodes.
+#[derive(Debug, Clone)]
+pub struct ProductTable {
+    a: f64,
+    ln_gamma_a: f64,
+    /// (q_i, w_i) of the current grid.
+    nodes: Vec<(f64, f64)>,
+    /// Q's weights and the current trapezoid step in z.
+    q: Weights,
+    step: f64,
+}
+
+/// The trapezoid rule of [`ProductTable`] runs over |z| ≤ this.
+pub const PRODUCT_Z_MAX: f64 = 6.5;
+
+/// The first and the finest z step [`product_quantiles`] uses.
+pub const PRODUCT_Z_STEP: (f64, f64) = (0.5, 1.0 / 32.0);
+
+/// The nodes (q_i, φ(z_i)) from the quantiles found at each z_i (z
+/// ascending, z = 0 in the middle), made non-decreasing outward from the
+/// middle: a node of the far tails whose search failed (Imhof's CDF, used
+/// for many unequal weights, is accurate to 1e−7 absolute and cannot place
+/// a quantile at p = Φ(−6.5) ≈ 4e−11) or came out of order takes its inner
+/// neighbour's q. Such a node's integrand F_R(x/q) errs by at most its
+/// weight φ(z_i)·h/Σ, and only where F_R(x/q) has not yet reached its
+/// limit 1 (lower tail) or 0 (upper tail) at the neighbour's q — far from
+/// the quantiles asked for, so the effect is far below that weight
+/// (`tests/edf.rs` compares the quantiles with the direct integral).
+/// `None` when the middle has no quantile.
+fn settle(found: &[(f64, Option<f64>)]) -> Option<Vec<(f64, f64)>> {
+    let mid = found.len() / 2;
+    let centre = found.get(mid)?.1?;
+    let mut q = vec![centre; found.len()];
+    for i in (0..mid).rev() {
+        q[i] = found[i].1.map_or(q[i + 1], |v| v.min(q[i + 1]));
+    }
+    for i in mid + 1..found.len() {
+        q[i] = found[i].1.map_or(q[i - 1], |v| v.max(q[i - 1]));
+    }
+    Some(
+        found
+            .iter()
+            .zip(q)
+            .map(|(&(z, _), qv)| (qv, (-0.5 * z * z).exp()))
+            .collect(),
+    )
+}
+
+fn normal_cdf(z: f64) -> f64 {
+    0.5 * statrs::function::erf::erfc(-z / std::f64::consts::SQRT_2)
+}
+
+impl ProductTable {
+    /// The table for Q = Σλ_iχ²_{h_i} (`q`) and R = χ²_k/k at z step `step`;
+    /// `None` when a quantile of Q cannot be found or k is not positive.
+    pub fn new(q: &[(f64, f64)], k: f64, step: f64) -> Option<Self> {
+        if !(k > 0.0 && k.is_finite() && step > 0.0) {
+            return None;
+        }
+        let a = 0.5 * k;
+        let mut t = Self {
+            a,
+            ln_gamma_a: statrs::function::gamma::ln_gamma(a),
+            nodes: Vec::new(),
+            q: q.to_vec(),
+            step,
+        };
+        let count = (PRODUCT_Z_MAX / step).round() as i64;
+        let found: Vec<(f64, Option<f64>)> = (-count..=count)
+            .map(|i| {
+                let z = i as f64 * step;
+                (z, t.search(z))
+            })
+            .collect();
+        t.nodes = settle(&found)?;
+        t.normalise();
+        Some(t)
+    }
+
+    /// Q's quantile at Φ(z), if the search finds one.
+    fn search(&self, z: f64) -> Option<f64> {
+        let qz = weighted_chi2::quantile_with(&self.q, normal_cdf(z)).ok()?;
+        (qz > 0.0 && qz.is_finite()).then_some(qz)
+    }
+
+    fn normalise(&mut self) {
+        let total: f64 = self.nodes.iter().map(|n| n.1).sum();
+        for n in &mut self.nodes {
+            n.1 /= total;
+        }
+    }
+
+    /// The same table at half the z step (the old nodes kept, the midpoints
+    /// added).
+    pub fn halved(&self) -> Option<Self> {
+        let step = 0.5 * self.step;
+        let count = (PRODUCT_Z_MAX / step).round() as i64;
+        let found: Vec<(f64, Option<f64>)> = (-count..=count)
+            .map(|i| {
+                let z = i as f64 * step;
+                // The even nodes are the old ones (the same z): their q is
+                // kept, only the midpoints are searched for.
+                let old = (i % 2 == 0)
+                    .then(|| self.nodes.get(((i + count) / 2) as usize))
+                    .flatten();
+                (z, old.map(|n| n.0).or_else(|| self.search(z)))
+            })
+            .collect();
+        let nodes = settle(&found)?;
+        let mut t = Self {
+            nodes,
+            step,
+            ..self.clone()
+        };
+        t.normalise();
+        Some(t)
+    }
+
+    /// The same table at twice the z step (every other node, no search).
+    pub fn coarsened(&self) -> Self {
+        let mut t = Self {
+            nodes: self.nodes.iter().copied().step_by(2).collect(),
+            step: 2.0 * self.step,
+            ..self.clone()
+        };
+        t.normalise();
+        t
+    }
+
+    /// The z step of the table.
+    pub fn step(&self) -> f64 {
+        self.step
+    }
+
+    /// P(Q·R ≤ x).
+    pub fn cdf(&self, x: f64) -> f64 {
+        self.cdf_and_density(x.ln()).0
+    }
+
+    /// P(Q·R ≤ eᵗ) and its derivative in t.
+    fn cdf_and_density(&self, t: f64) -> (f64, f64) {
+        let (mut p, mut d) = (0.0, 0.0);
+        for &(qv, w) in &self.nodes {
+            let ar = self.a * (t - qv.ln()).exp();
+            let (f, g) = if !(ar > 0.0) {
+                (0.0, 0.0)
+            } else if !ar.is_finite() {
+                (1.0, 0.0)
+            } else {
+                (
+                    statrs::function::gamma::checked_gamma_lr(self.a, ar).unwrap_or(f64::NAN),
+                    (self.a * ar.ln() - ar - self.ln_gamma_a).exp(),
+                )
+            };
+            p += w * f;
+            d += w * g;
+        }
+        (p.clamp(0.0, 1.0), d)
+    }
+
+    /// The p-quantile of Q·R: safeguarded Newton in ln x from the gamma
+    /// with the product's two moments, to 1e−12 in ln x.
+    pub fn quantile(&self, p: f64) -> Option<f64> {
+        if !(p > 0.0 && p < 1.0) {
+            return None;
+        }
+        let mean_q: f64 = self.q.iter().map(|(l, h)| l * h).sum();
+        let v_q: f64 = self.q.iter().map(|(l, h)| 2.0 * h * l * l).sum::<f64>() / (mean_q * mean_q);
+        let v = (1.0 + v_q) * (1.0 + 1.0 / self.a) - 1.0;
+        let nu = 2.0 / v;
+        let guess = mean_q / nu * crate::stats::interval::chi2_quantile(p, nu).ok()?;
+        if !(guess.is_finite() && guess > 0.0) {
+            return None;
+        }
+        let (mut lo, mut hi) = (f64::NEG_INFINITY, f64::INFINITY);
+        let mut t = guess.ln();
+        for _ in 0..200 {
+            let (f, d) = self.cdf_and_density(t);
+            let f = f - p;
+            if !f.is_finite() {
+                return None;
+            }
+            if f < 0.0 {
+                lo = t;
+            } else {
+                hi = t;
+            }
+            if f == 0.0 {
+                break;
+            }
+            let newton = t - f / d;
+            let next = if d > 0.0 && newton > lo && newton < hi && (newton - t).abs() <= 1.0 {
+                newton
+            } else {
+                match (lo.is_finite(), hi.is_finite()) {
+                    (true, true) => 0.5 * (lo + hi),
+                    (true, false) => lo + 0.5,
+                    (false, true) => hi - 0.5,
+                    _ => return None,
+                }
+            };
+            let done = (next - t).abs() < 1e-12 || hi - lo < 1e-12;
+            t = next;
+            if done {
+                break;
+            }
+        }
+        let x = t.exp();
+        (x.is_finite() && x > 0.0).then_some(x)
+    }
+}
+
+/// The `probs` quantiles of Q·R (Q = Σλ_iχ²_{h_i} from `q`, R = χ²_k/k
+/// independent). Where Q's CDF is not a long prepared series
+/// ([`prepared_cdf_pays`]), by [`product_quantile`] on nodes
+/// [`PRODUCT_DIRECT_NODES_PER_SIGMA`] per σ; otherwise by [`ProductTable`]: the table at z step
+/// [`PRODUCT_Z_STEP`].0, checked against the table of every other node
+/// (twice the step, no new searches): where the quantiles of the two agree
+/// within [`PRODUCT_QUANTILE_AGREE`] relative, those of the finer one are
+/// returned (the trapezoid rule converges geometrically in the step, so the
+/// finer one's error is far below the difference); otherwise the step is
+/// halved (the old nodes kept) and checked again. Where that would take a
+/// step below [`PRODUCT_Z_STEP`].1 (R far sharper than Q, so that
+/// F_R(x/q(z)) turns from 1 to 0 within a small part of a unit of z),
+/// [`product_quantile`]'s outer integral over R, accurate in that case,
+/// answers instead.
+pub fn product_quantiles(q: &[(f64, f64)], k: f64, probs: &[f64]) -> Option<Vec<f64>> {
+    if !prepared_cdf_pays(q) {
+        let nodes = log_gamma_nodes(k, PRODUCT_DIRECT_NODES_PER_SIGMA);
+        return probs
+            .iter()
+            .map(|&p| product_quantile(q, k, &nodes, p))
+            .collect();
+    }
+    let quantiles =
+        |t: &ProductTable| -> Option<Vec<f64>> { probs.iter().map(|&p| t.quantile(p)).collect() };
+    let mut table = ProductTable::new(q, k, PRODUCT_Z_STEP.0)?;
+    let mut coarse = quantiles(&table.coarsened())?;
+    loop {
+        let fine = quantiles(&table)?;
+        let agree = fine
+            .iter()
+            .zip(&coarse)
+            .all(|(f, c)| (f / c - 1.0).abs() < PRODUCT_QUANTILE_AGREE);
+        if agree {
+            return Some(fine);
+        }
+        if 0.5 * table.step() < PRODUCT_Z_STEP.1 {
+            let nodes = log_gamma_nodes(k, PRODUCT_DIRECT_NODES_PER_SIGMA);
+            return probs
+                .iter()
+                .map(|&p| product_quantile(q, k, &nodes, p))
+                .collect();
+        }
+        table = table.halved()?;
+        coarse = fine;
+    }
+}
+
+/// Trapezoid steps per σ of ln R where [`product_quantiles`] takes the
+/// outer integral over R: 3 (1.5, used before, was 8e−7 from 4 per σ in
+/// the quantiles of `tests/edf.rs`; the rule's error falls as
+/// exp(−c·steps per σ)).
+pub const PRODUCT_DIRECT_NODES_PER_SIGMA: f64 = 3.0;
+
+/// True when Q's CDF is Ruben's series with at least
+/// [`PREPARED_MIN_TERMS`] terms — the choice [`weighted_chi2`] makes (the
+/// number of terms for a remainder below 1e−10 is
+/// ln(1e−10)/ln(1 − λ_min/λ_max), Ruben's series up to
+/// [`weighted_chi2::RUBEN_MAX_TERMS`], Imhof's integral beyond). Then
+/// preparing its coefficients costs far more than a value, and the outer
+/// integral over Q ([`ProductTable`]: one prepared CDF for a few hundred
+/// values) is the cheap route; otherwise (Imhof's integral, or a short
+/// series), where every value costs the same, the outer integral over R
+/// ([`product_quantile`]) asks for fewer values. Both compute the same
+/// integral; the choice only changes the time (`tests/edf.rs` holds both
+/// within 1e−6 of the direct integral on fine nodes).
+pub fn prepared_cdf_pays(q: &[(f64, f64)]) -> bool {
+    let (lo, hi) = q
+        .iter()
+        .filter(|(l, h)| l.is_finite() && *l > 0.0 && h.is_finite() && *h > 0.0)
+        .fold((f64::INFINITY, 0.0f64), |(a, b), &(l, _)| {
+            (a.min(l), b.max(l))
+        });
+    let gamma = 1.0 - lo / hi;
+    if !(gamma > 0.0 && gamma < 1.0) {
+        return false;
+    }
+    let terms = (1e-10f64).ln() / gamma.ln();
+    (PREPARED_MIN_TERMS as f64..=weighted_chi2::RUBEN_MAX_TERMS as f64).contains(&terms)
+}
+
+/// The shortest Ruben series for which [`product_quantiles`] takes the
+/// outer integral over Q ([`prepared_cdf_pays`]).
+pub const PREPARED_MIN_TERMS: usize = 100;
+
+/// [`product_quantiles`] accepts a table whose quantiles agree with those
+/// of twice its z step within this (relative).
+pub const PRODUCT_QUANTILE_AGREE: f64 = 1e-7;
+
 /// The pivot quantiles (q_lo, q_hi) of TheoH²/E\[TheoH²\] at its ThêoBR
 /// part (Theo1 factor m, `n` samples, noise α, two-sided `confidence`):
 /// the product distribution of [`theoh_factors`], remembered per
@@ -660,11 +989,8 @@ pub fn theoh_pivot_quantiles(
         let (p_lo, p_hi) = (0.5 * (1.0 - confidence), 0.5 * (1.0 + confidence));
         let (lo, hi) = match k {
             Some(k) => {
-                let nodes = log_gamma_nodes(k, PRODUCT_NODES_PER_SIGMA);
-                (
-                    product_quantile(&q, k, &nodes, p_lo)?,
-                    product_quantile(&q, k, &nodes, p_hi)?,
-                )
+                let x = product_quantiles(&q, k, &[p_lo, p_hi])?;
+                (x[0], x[1])
             }
             None => (
                 weighted_chi2::quantile_with(&q, p_lo).ok()?,
