@@ -80,7 +80,10 @@ pub fn cdf_with(terms: &[(f64, f64)], x: f64) -> f64 {
     if lam.is_empty() || !(x > 0.0) {
         return if x > 0.0 { 1.0 } else { 0.0 };
     }
-    Method::of(lam).cdf(x)
+    // Prepared once per set of weights and kept for the next call on the
+    // same set (an integral over another variable asks for many values of
+    // one CDF); the same result as preparing it anew.
+    Method::remembered(lam).cdf(x)
 }
 
 /// The method [`cdf_with`] evaluates the CDF of one set of (cleaned, not
