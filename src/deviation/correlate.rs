@@ -126,10 +126,15 @@ fn even_inverse(pair: &Pair, power: &[f64], buf: &mut [f64], spec: &mut [Complex
 }
 
 /// R(ℓ) = Σ_{t<len−ℓ} y_t·y_{t+ℓ} for ℓ = 0 … lags, y_t = `y(t)` for
-/// t < len. Working memory 16 bytes a point of S = smooth(len + lags).
+/// t < len. Working memory 16 bytes a point of S = smooth(len + lags) and
+/// the plan's tables; from S = [`IN_PLACE_FROM`] on, 8 bytes a point
+/// ([`autocorrelation_in_place`]).
 pub(crate) fn autocorrelation(len: usize, y: impl Fn(usize) -> f64, lags: usize) -> Vec<f64> {
     let size = smooth_size(len + lags);
     let _guard = (size >= BIG).then(|| BIG_LOCK.lock().unwrap_or_else(|e| e.into_inner()));
+    if size >= IN_PLACE_FROM {
+        return autocorrelation_in_place(len, y, lags, size);
+    }
     let pair = plans(size, false);
     let mut buf = vec![0.0f64; size];
     for (t, b) in buf[..len].iter_mut().enumerate() {
@@ -152,21 +157,29 @@ pub(crate) fn autocorrelation(len: usize, y: impl Fn(usize) -> f64, lags: usize)
     buf
 }
 
-/// hd(ℓ) + tl(ℓ), ℓ = 0 … lags: the sum of the autocorrelations of `a`
-/// and `b` (equal lengths), from the sum of their power spectra (one
-/// inverse transform).
-pub(crate) fn autocorrelation_sum(a: &[f64], b: &[f64], lags: usize) -> Vec<f64> {
-    let len = a.len().max(b.len());
+/// hd(ℓ) + tl(ℓ), ℓ = 0 … lags: the sum of the autocorrelations of
+/// a_t = `a(t)` and b_t = `b(t)`, t < len, from the sum of their power
+/// spectra (one inverse transform).
+pub(crate) fn autocorrelation_sum(
+    len: usize,
+    a: impl Fn(usize) -> f64,
+    b: impl Fn(usize) -> f64,
+    lags: usize,
+) -> Vec<f64> {
     let size = smooth_size(len + lags);
     let _guard = (size >= BIG).then(|| BIG_LOCK.lock().unwrap_or_else(|e| e.into_inner()));
     let pair = plans(size, false);
     let mut buf = vec![0.0f64; size];
     let mut spec = pair.fwd.make_output_vec();
-    buf[..a.len()].copy_from_slice(a);
+    for (t, v) in buf[..len].iter_mut().enumerate() {
+        *v = a(t);
+    }
     forward(&pair, &mut buf, &mut spec);
     let mut power: Vec<f64> = spec.iter().map(|c| c.norm_sqr()).collect();
     buf.fill(0.0);
-    buf[..b.len()].copy_from_slice(b);
+    for (t, v) in buf[..len].iter_mut().enumerate() {
+        *v = b(t);
+    }
     forward(&pair, &mut buf, &mut spec);
     for (p, c) in power.iter_mut().zip(&spec) {
         *p += c.norm_sqr();
@@ -175,6 +188,32 @@ pub(crate) fn autocorrelation_sum(a: &[f64], b: &[f64], lags: usize) -> Vec<f64>
     buf.truncate(lags.min(size - 1) + 1);
     buf.shrink_to_fit();
     buf
+}
+
+/// out\[ℓ\] −= hd(ℓ) + tl(ℓ), ℓ = 0 … lags (out.len() > lags), hd and tl
+/// the autocorrelations of a_t = `a(t)` and b_t = `b(t)`, t < len: by
+/// [`autocorrelation_sum`] below S = [`IN_PLACE_FROM`], from there on one
+/// in-place autocorrelation at a time, each subtracted as it comes (8 bytes
+/// a point of S beyond `out`).
+pub(crate) fn subtract_autocorrelations(
+    len: usize,
+    a: impl Fn(usize) -> f64,
+    b: impl Fn(usize) -> f64,
+    lags: usize,
+    out: &mut [f64],
+) {
+    let size = smooth_size(len + lags);
+    let sub = |out: &mut [f64], v: Vec<f64>| {
+        for (o, v) in out.iter_mut().zip(&v) {
+            *o -= v;
+        }
+    };
+    if size >= IN_PLACE_FROM {
+        sub(out, autocorrelation(len, a, lags));
+        sub(out, autocorrelation(len, b, lags));
+    } else {
+        sub(out, autocorrelation_sum(len, a, b, lags));
+    }
 }
 
 /// The linear convolution (a ∗ b)(s) = Σ_{u+w=s} a_u·b_w for s < `top`
@@ -198,6 +237,242 @@ pub(crate) fn convolution(a: &[f64], b: &[f64], top: usize) -> Vec<f64> {
     inverse(&pair, &mut fa, &mut buf);
     let scale = 1.0 / size as f64;
     buf[..top.min(size)].iter().map(|v| v * scale).collect()
+}
+
+// ---------------------------------------------------------------------------
+// Record-sized autocorrelations in place (the "four-step" FFT).
+// ---------------------------------------------------------------------------
+
+/// From this FFT size on, [`autocorrelation`] works in place on one buffer
+/// of S reals ([`autocorrelation_in_place`]) instead of the real FFT with
+/// its output, scratch and twiddle tables (about 36 bytes a point). The
+/// library's own unit tests lower it to 2^10, so that the Theo1 tests
+/// against the direct sums go through the in-place form.
+pub(crate) const IN_PLACE_FROM: usize = if cfg!(test) { 1 << 10 } else { 1 << 21 };
+
+/// Columns gathered together in the column pass of the four-step FFT.
+const COLUMN_GROUP: usize = 16;
+
+/// Roots of unity e^{−2πi·j/S}, j < S, from two tables of about √S
+/// entries each (e^{−2πi·j/S} = lo\[j mod T\]·hi\[j div T\], each entry
+/// from `sin_cos` of its own angle: about two roundings).
+struct Roots {
+    size: usize,
+    t: usize,
+    lo: Vec<Complex<f64>>,
+    hi: Vec<Complex<f64>>,
+}
+
+impl Roots {
+    fn new(size: usize) -> Self {
+        let t = (size as f64).sqrt().ceil().max(1.0) as usize;
+        let root = |j: usize| {
+            let (s, c) = (-2.0 * std::f64::consts::PI * (j as f64 / size as f64)).sin_cos();
+            Complex::new(c, s)
+        };
+        let lo = (0..t).map(root).collect();
+        let hi = (0..size.div_ceil(t)).map(|a| root(a * t)).collect();
+        Self { size, t, lo, hi }
+    }
+
+    /// e^{−2πi·j/S}, j any non-negative integer.
+    #[inline]
+    fn at(&self, j: usize) -> Complex<f64> {
+        let j = j % self.size;
+        self.lo[j % self.t] * self.hi[j / self.t]
+    }
+}
+
+/// The divisor of `n` nearest to √n from below (n a 2^a·3^b·5^c number).
+fn split_size(n: usize) -> usize {
+    let root = (n as f64).sqrt() as usize;
+    (1..=root.max(1)).rev().find(|d| n % d == 0).unwrap_or(1)
+}
+
+/// A complex DFT of size M = M1·M2 done in place by the four-step method
+/// (Bailey 1990): M1-point DFTs down the columns of the M1 × M2 row-major
+/// matrix (gathered [`COLUMN_GROUP`] at a time), the twiddles
+/// e^{−2πi·n2·k1/M}, then M2-point DFTs along the rows. Its output is in
+/// transposed order (X_k at M2·(k mod M1) + k div M1); [`FourStep::inverse`]
+/// takes that order back to natural order, so a product of spectra never
+/// needs the transpose. Memory beyond the buffer: the plans of sizes M1 and
+/// M2 and tables of about √M roots.
+struct FourStep {
+    m1: usize,
+    m2: usize,
+    col_fwd: Arc<dyn rustfft::Fft<f64>>,
+    col_inv: Arc<dyn rustfft::Fft<f64>>,
+    row_fwd: Arc<dyn rustfft::Fft<f64>>,
+    row_inv: Arc<dyn rustfft::Fft<f64>>,
+    roots: Roots,
+}
+
+impl FourStep {
+    fn new(m: usize) -> Self {
+        let m1 = split_size(m);
+        let m2 = m / m1;
+        // One planner per size, for the reason given at [`plans`].
+        let plan = |n: usize, fwd: bool| {
+            let mut p = rustfft::FftPlanner::<f64>::new();
+            if fwd {
+                p.plan_fft_forward(n)
+            } else {
+                p.plan_fft_inverse(n)
+            }
+        };
+        Self {
+            m1,
+            m2,
+            col_fwd: plan(m1, true),
+            col_inv: plan(m1, false),
+            row_fwd: plan(m2, true),
+            row_inv: plan(m2, false),
+            roots: Roots::new(m),
+        }
+    }
+
+    /// Position of X_k in the transposed output.
+    #[inline]
+    fn pos(&self, k: usize) -> usize {
+        self.m2 * (k % self.m1) + k / self.m1
+    }
+
+    /// The column pass: M1-point DFTs (forward or inverse) down every
+    /// column, each column multiplied by its twiddles after (forward) or
+    /// before (inverse) its DFT. Serial: it runs under [`BIG_LOCK`], and a
+    /// thread holding a lock must not wait on parallel work (it could pick
+    /// up a task that asks for the same lock).
+    fn columns(&self, buf: &mut [Complex<f64>], forward: bool) {
+        let (m1, m2) = (self.m1, self.m2);
+        let fft = if forward { &self.col_fwd } else { &self.col_inv };
+        let mut tmp = vec![Complex::new(0.0, 0.0); COLUMN_GROUP * m1];
+        let mut scratch = vec![Complex::new(0.0, 0.0); fft.get_inplace_scratch_len()];
+        for c0 in (0..m2).step_by(COLUMN_GROUP) {
+            let w = COLUMN_GROUP.min(m2 - c0);
+            for r in 0..m1 {
+                let row = &buf[m2 * r + c0..m2 * r + c0 + w];
+                for (c, v) in row.iter().enumerate() {
+                    tmp[c * m1 + r] = *v;
+                }
+            }
+            let part = &mut tmp[..w * m1];
+            if !forward {
+                self.twiddle(part, c0, m1, false);
+            }
+            fft.process_with_scratch(part, &mut scratch);
+            if forward {
+                self.twiddle(part, c0, m1, true);
+            }
+            for r in 0..m1 {
+                let row = &mut buf[m2 * r + c0..m2 * r + c0 + w];
+                for (c, v) in row.iter_mut().enumerate() {
+                    *v = part[c * m1 + r];
+                }
+            }
+        }
+    }
+
+    /// Multiply gathered columns c0, c0 + 1, … (each M1 long) by
+    /// e^{∓2πi·c·k1/M}.
+    fn twiddle(&self, tmp: &mut [Complex<f64>], c0: usize, m1: usize, forward: bool) {
+        for (c, col) in tmp.chunks_exact_mut(m1).enumerate() {
+            let n2 = c0 + c;
+            for (k1, v) in col.iter_mut().enumerate() {
+                let w = self.roots.at(n2 * k1);
+                *v *= if forward { w } else { w.conj() };
+            }
+        }
+    }
+
+    /// The row pass: M2-point DFTs along every row.
+    fn rows(&self, buf: &mut [Complex<f64>], forward: bool) {
+        let fft = if forward { &self.row_fwd } else { &self.row_inv };
+        let mut scratch = vec![Complex::new(0.0, 0.0); fft.get_inplace_scratch_len()];
+        fft.process_with_scratch(buf, &mut scratch);
+    }
+
+    /// Forward DFT, natural order in, transposed order out.
+    fn forward(&self, buf: &mut [Complex<f64>]) {
+        self.columns(buf, true);
+        self.rows(buf, true);
+    }
+
+    /// Unnormalised inverse DFT, transposed order in, natural order out.
+    fn inverse(&self, buf: &mut [Complex<f64>]) {
+        self.rows(buf, false);
+        self.columns(buf, false);
+    }
+}
+
+/// R(ℓ) = Σ_{t<len−ℓ} y_t·y_{t+ℓ}, ℓ = 0 … lags, in one buffer of
+/// S = `size` reals (S even, S ≥ len + lags so that nothing wraps):
+///
+/// - the buffer, read as M = S/2 complex z_t = y_{2t} + i·y_{2t+1}, is
+///   transformed in place ([`FourStep`]);
+/// - each pair Z_k, Z_{M−k} gives the real spectrum's X_k = E_k + w^k·O_k
+///   and X_{M−k} = conj(E_k − w^k·O_k), w = e^{−2πi/S},
+///   E_k = (Z_k + conj Z_{M−k})/2, O_k = (Z_k − conj Z_{M−k})/(2i), and so
+///   the power spectrum P_k = |X_k|², P_{M−k};
+/// - the inverse of the real, even P is packed the same way:
+///   V_k = (P_k + P_{M−k}) + i·(P_k − P_{M−k})·w^{−k} has the inverse
+///   M-point DFT v_t = S·(R(2t) + i·R(2t+1)), so the buffer, read as reals
+///   after the inverse transform, is S·R in natural order.
+///
+/// Working memory 8·S bytes plus about √S-sized tables and plans.
+fn autocorrelation_in_place(
+    len: usize,
+    y: impl Fn(usize) -> f64,
+    lags: usize,
+    size: usize,
+) -> Vec<f64> {
+    assert!(size % 2 == 0 && size >= len + lags);
+    let half = size / 2;
+    let plan = FourStep::new(half);
+    let roots = Roots::new(size);
+    let mut buf = vec![Complex::new(0.0f64, 0.0); half];
+    for (t, c) in buf.iter_mut().enumerate() {
+        let a = 2 * t;
+        let re = if a < len { y(a) } else { 0.0 };
+        let im = if a + 1 < len { y(a + 1) } else { 0.0 };
+        *c = Complex::new(re, im);
+    }
+    plan.forward(&mut buf);
+    // k = 0 (and M): E_0 = Re Z_0, O_0 = Im Z_0, X_0 = E + O, X_M = E − O.
+    {
+        let z = buf[0];
+        let (p0, pm) = ((z.re + z.im).powi(2), (z.re - z.im).powi(2));
+        buf[0] = Complex::new(p0 + pm, p0 - pm);
+    }
+    for k in 1..=half / 2 {
+        let (ik, jk) = (plan.pos(k), plan.pos(half - k));
+        let (zk, zj) = (buf[ik], buf[jk]);
+        let e = (zk + zj.conj()) * 0.5;
+        let o = (zk - zj.conj()) * Complex::new(0.0, -0.5);
+        let wo = roots.at(k) * o;
+        let pk = (e + wo).norm_sqr();
+        let pj = (e - wo).norm_sqr();
+        let sum = pk + pj;
+        let diff = Complex::new(0.0, pk - pj);
+        // V_k = sum + i(P_k − P_{M−k})·w^{−k}; V_{M−k} = sum + i(P_k − P_{M−k})·w^{k}.
+        buf[ik] = diff * roots.at(k).conj() + sum;
+        if jk != ik {
+            buf[jk] = diff * roots.at(k) + sum;
+        }
+    }
+    plan.inverse(&mut buf);
+    let keep = lags.min(len.saturating_sub(1)) + 1;
+    let scale = 1.0 / size as f64;
+    // The buffer read as reals is S·R(0), S·R(1), …: keep R(0 … lags) in
+    // the same allocation.
+    let mut buf = std::mem::ManuallyDrop::new(buf);
+    // SAFETY: Complex<f64> is #[repr(C)] {re, im} (num-complex), so the
+    // allocation of `half` complex values is one of 2·half f64 with the
+    // same size and alignment (8); ownership moves to the new Vec.
+    let mut out = unsafe { Vec::from_raw_parts(buf.as_mut_ptr().cast::<f64>(), 2 * half, 2 * half) };
+    out.truncate(keep);
+    out.iter_mut().for_each(|v| *v *= scale);
+    out.shrink_to_fit();
+    out
 }
 
 #[cfg(test)]
@@ -236,7 +511,7 @@ mod tests {
             let z: Vec<f64> = (0..len).map(|_| rng.gen_range(-1.0..1.0)).collect();
             let lags = len - 1;
             let r = autocorrelation(len, |t| y[t], lags);
-            let s = autocorrelation_sum(&y, &z, lags);
+            let s = autocorrelation_sum(len, |t| y[t], |t| z[t], lags);
             let c = convolution(&y, &z, 2 * len - 1);
             for l in 0..=lags {
                 let want: f64 = (0..len - l).map(|t| y[t] * y[t + l]).sum();
@@ -250,6 +525,36 @@ mod tests {
                     .map(|u| y[u] * z[q - u])
                     .sum();
                 assert!((cv - want).abs() <= 1e-12 * len as f64);
+            }
+        }
+    }
+
+    /// The in-place four-step autocorrelation equals the sum written out
+    /// (analytic identity; 1e-12 of the largest value), for even and odd
+    /// half sizes, sizes with a prime factor split unevenly, and sizes
+    /// with zero padding well beyond len + lags.
+    #[test]
+    fn in_place_against_direct_sums() {
+        let mut rng = ChaCha8Rng::seed_from_u64(3);
+        for (len, lags, size) in [
+            (10usize, 9usize, 20usize),
+            (7, 6, 14),
+            (300, 299, 600),
+            (500, 100, 720),
+            (1000, 999, 2250),
+            (999, 500, 1500),
+            (1, 0, 2),
+        ] {
+            let y: Vec<f64> = (0..len).map(|_| rng.gen_range(-1.0..1.0)).collect();
+            let r = autocorrelation_in_place(len, |t| y[t], lags, size);
+            assert_eq!(r.len(), lags + 1);
+            for l in 0..=lags {
+                let want: f64 = (0..len - l).map(|t| y[t] * y[t + l]).sum();
+                assert!(
+                    (r[l] - want).abs() <= 1e-12 * len as f64,
+                    "len={len} size={size} l={l}: {} vs {want}",
+                    r[l]
+                );
             }
         }
     }
