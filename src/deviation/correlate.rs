@@ -28,8 +28,8 @@ pub(crate) const BIG: usize = 1 << 18;
 static BIG_LOCK: std::sync::Mutex<()> = std::sync::Mutex::new(());
 
 /// Points of plans a thread keeps before it starts afresh: the cached
-/// twiddle tables stay below about 16 bytes × this (16 MB) per thread.
-const CACHE_POINTS: usize = 1 << 20;
+/// twiddle tables stay below about 16 bytes × this (4 MB) per thread.
+const CACHE_POINTS: usize = 1 << 18;
 
 /// A thread's plans by (size, with inverse), and the points they hold.
 type PlanCache = (HashMap<(usize, bool), Pair>, usize);
@@ -131,10 +131,10 @@ fn even_inverse(pair: &Pair, power: &[f64], buf: &mut [f64], spec: &mut [Complex
 /// ([`autocorrelation_in_place`]).
 pub(crate) fn autocorrelation(len: usize, y: impl Fn(usize) -> f64, lags: usize) -> Vec<f64> {
     let size = smooth_size(len + lags);
-    let _guard = (size >= BIG).then(|| BIG_LOCK.lock().unwrap_or_else(|e| e.into_inner()));
     if size >= IN_PLACE_FROM {
         return autocorrelation_in_place(len, y, lags, size);
     }
+    let _guard = (size >= BIG).then(|| BIG_LOCK.lock().unwrap_or_else(|e| e.into_inner()));
     let pair = plans(size, false);
     let mut buf = vec![0.0f64; size];
     for (t, b) in buf[..len].iter_mut().enumerate() {
@@ -220,6 +220,9 @@ pub(crate) fn subtract_autocorrelations(
 /// (top ≤ a.len() + b.len() − 1).
 pub(crate) fn convolution(a: &[f64], b: &[f64], top: usize) -> Vec<f64> {
     let size = smooth_size(a.len() + b.len() - 1);
+    if size >= IN_PLACE_FROM {
+        return convolution_in_place(a, b, top);
+    }
     let _guard = (size >= BIG).then(|| BIG_LOCK.lock().unwrap_or_else(|e| e.into_inner()));
     let pair = plans(size, true);
     let mut buf = vec![0.0f64; size];
@@ -248,7 +251,7 @@ pub(crate) fn convolution(a: &[f64], b: &[f64], top: usize) -> Vec<f64> {
 /// its output, scratch and twiddle tables (about 36 bytes a point). The
 /// library's own unit tests lower it to 2^10, so that the Theo1 tests
 /// against the direct sums go through the in-place form.
-pub(crate) const IN_PLACE_FROM: usize = if cfg!(test) { 1 << 10 } else { 1 << 21 };
+pub(crate) const IN_PLACE_FROM: usize = if cfg!(test) { 1 << 10 } else { BIG };
 
 /// Columns gathered together in the column pass of the four-step FFT.
 const COLUMN_GROUP: usize = 16;
@@ -339,18 +342,48 @@ impl FourStep {
 
     /// The column pass: M1-point DFTs (forward or inverse) down every
     /// column, each column multiplied by its twiddles after (forward) or
-    /// before (inverse) its DFT. Serial: it runs under [`BIG_LOCK`], and a
-    /// thread holding a lock must not wait on parallel work (it could pick
-    /// up a task that asks for the same lock).
-    fn columns(&self, buf: &mut [Complex<f64>], forward: bool) {
+    /// before (inverse) its DFT; the column groups split among `threads`
+    /// scoped threads (plain threads, not rayon tasks: the caller may hold
+    /// [`IN_PLACE_LOCK`], and a rayon worker waiting on parallel work could
+    /// pick up a task that asks for the same lock).
+    fn columns(&self, buf: &mut [Complex<f64>], forward: bool, threads: usize) {
+        let m2 = self.m2;
+        let groups = m2.div_ceil(COLUMN_GROUP);
+        let threads = threads.clamp(1, groups);
+        let per = groups.div_ceil(threads);
+        let base = SendPtr(buf.as_mut_ptr());
+        let len = buf.len();
+        std::thread::scope(|scope| {
+            for t in 1..threads {
+                scope.spawn(move || {
+                    // SAFETY: see `column_groups`.
+                    unsafe { self.column_groups(base, len, t * per, per, forward) }
+                });
+            }
+            // SAFETY: see `column_groups`.
+            unsafe { self.column_groups(base, len, 0, per, forward) }
+        });
+    }
+
+    /// Column groups g0 … g0 + count − 1 of the column pass.
+    ///
+    /// # Safety
+    /// `base` points to `len` = M1·M2 valid elements; this call reads and
+    /// writes only the elements M2·r + c of its own columns
+    /// (COLUMN_GROUP·g0 ≤ c < COLUMN_GROUP·(g0 + count)), and no other
+    /// running call is given the same groups.
+    unsafe fn column_groups(&self, base: SendPtr, len: usize, g0: usize, count: usize, forward: bool) {
         let (m1, m2) = (self.m1, self.m2);
+        debug_assert_eq!(len, m1 * m2);
         let fft = if forward { &self.col_fwd } else { &self.col_inv };
         let mut tmp = vec![Complex::new(0.0, 0.0); COLUMN_GROUP * m1];
         let mut scratch = vec![Complex::new(0.0, 0.0); fft.get_inplace_scratch_len()];
-        for c0 in (0..m2).step_by(COLUMN_GROUP) {
+        let first = COLUMN_GROUP * g0;
+        let last = (COLUMN_GROUP * (g0 + count)).min(m2);
+        for c0 in (first..last).step_by(COLUMN_GROUP) {
             let w = COLUMN_GROUP.min(m2 - c0);
             for r in 0..m1 {
-                let row = &buf[m2 * r + c0..m2 * r + c0 + w];
+                let row = std::slice::from_raw_parts(base.0.add(m2 * r + c0), w);
                 for (c, v) in row.iter().enumerate() {
                     tmp[c * m1 + r] = *v;
                 }
@@ -364,7 +397,7 @@ impl FourStep {
                 self.twiddle(part, c0, m1, true);
             }
             for r in 0..m1 {
-                let row = &mut buf[m2 * r + c0..m2 * r + c0 + w];
+                let row = std::slice::from_raw_parts_mut(base.0.add(m2 * r + c0), w);
                 for (c, v) in row.iter_mut().enumerate() {
                     *v = part[c * m1 + r];
                 }
@@ -384,23 +417,59 @@ impl FourStep {
         }
     }
 
-    /// The row pass: M2-point DFTs along every row.
-    fn rows(&self, buf: &mut [Complex<f64>], forward: bool) {
+    /// The row pass: M2-point DFTs along every row, the rows split among
+    /// `threads` scoped threads (see [`FourStep::columns`]).
+    fn rows(&self, buf: &mut [Complex<f64>], forward: bool, threads: usize) {
         let fft = if forward { &self.row_fwd } else { &self.row_inv };
-        let mut scratch = vec![Complex::new(0.0, 0.0); fft.get_inplace_scratch_len()];
-        fft.process_with_scratch(buf, &mut scratch);
+        let per = self.m1.div_ceil(threads.clamp(1, self.m1)) * self.m2;
+        std::thread::scope(|scope| {
+            for chunk in buf.chunks_mut(per) {
+                scope.spawn(move || {
+                    let mut scratch = vec![Complex::new(0.0, 0.0); fft.get_inplace_scratch_len()];
+                    fft.process_with_scratch(chunk, &mut scratch);
+                });
+            }
+        });
     }
 
     /// Forward DFT, natural order in, transposed order out.
-    fn forward(&self, buf: &mut [Complex<f64>]) {
-        self.columns(buf, true);
-        self.rows(buf, true);
+    fn forward(&self, buf: &mut [Complex<f64>], threads: usize) {
+        self.columns(buf, true, threads);
+        self.rows(buf, true, threads);
     }
 
     /// Unnormalised inverse DFT, transposed order in, natural order out.
-    fn inverse(&self, buf: &mut [Complex<f64>]) {
-        self.rows(buf, false);
-        self.columns(buf, false);
+    fn inverse(&self, buf: &mut [Complex<f64>], threads: usize) {
+        self.rows(buf, false, threads);
+        self.columns(buf, false, threads);
+    }
+}
+
+/// A raw pointer that may cross threads (the column pass).
+#[derive(Clone, Copy)]
+struct SendPtr(*mut Complex<f64>);
+// SAFETY: used only by `FourStep::columns`, whose threads touch disjoint
+// columns of the buffer (see `FourStep::column_groups`).
+unsafe impl Send for SendPtr {}
+unsafe impl Sync for SendPtr {}
+
+/// From this FFT size on an in-place transform runs alone
+/// ([`IN_PLACE_LOCK`]) and spreads its passes over the machine's threads;
+/// below it, in-place transforms run side by side, one a thread (their
+/// buffers are at most 8 MB).
+const LOCK_FROM: usize = if cfg!(test) { 1 << 14 } else { 1 << 20 };
+
+/// Held while an in-place transform of [`LOCK_FROM`] points or more runs.
+static IN_PLACE_LOCK: std::sync::Mutex<()> = std::sync::Mutex::new(());
+
+/// The lock and the number of threads of an in-place transform of `size`
+/// points.
+fn in_place_turn(size: usize) -> (Option<std::sync::MutexGuard<'static, ()>>, usize) {
+    if size >= LOCK_FROM {
+        let guard = IN_PLACE_LOCK.lock().unwrap_or_else(|e| e.into_inner());
+        (Some(guard), rayon::current_num_threads().max(1))
+    } else {
+        (None, 1)
     }
 }
 
@@ -427,6 +496,7 @@ fn autocorrelation_in_place(
 ) -> Vec<f64> {
     assert!(size % 2 == 0 && size >= len + lags);
     let half = size / 2;
+    let (_turn, threads) = in_place_turn(size);
     let plan = FourStep::new(half);
     let roots = Roots::new(size);
     let mut buf = vec![Complex::new(0.0f64, 0.0); half];
@@ -436,7 +506,7 @@ fn autocorrelation_in_place(
         let im = if a + 1 < len { y(a + 1) } else { 0.0 };
         *c = Complex::new(re, im);
     }
-    plan.forward(&mut buf);
+    plan.forward(&mut buf, threads);
     // k = 0 (and M): E_0 = Re Z_0, O_0 = Im Z_0, X_0 = E + O, X_M = E − O.
     {
         let z = buf[0];
@@ -459,7 +529,7 @@ fn autocorrelation_in_place(
             buf[jk] = diff * roots.at(k) + sum;
         }
     }
-    plan.inverse(&mut buf);
+    plan.inverse(&mut buf, threads);
     let keep = lags.min(len.saturating_sub(1)) + 1;
     let scale = 1.0 / size as f64;
     // The buffer read as reals is S·R(0), S·R(1), …: keep R(0 … lags) in
@@ -473,6 +543,41 @@ fn autocorrelation_in_place(
     out.iter_mut().for_each(|v| *v *= scale);
     out.shrink_to_fit();
     out
+}
+
+/// The linear convolution (a ∗ b)(s), s < `top`, in one buffer of M
+/// complex values (M = 2^a·3^b·5^c ≥ a.len() + b.len() − 1): z = a + i·b
+/// is transformed in place ([`FourStep`]), each pair Z_k, Z_{M−k} gives
+/// A_k = (Z_k + conj Z_{M−k})/2 and B_k = (Z_k − conj Z_{M−k})/(2i), the
+/// spectra of a and b, and C_k = A_k·B_k (C_{M−k} = conj C_k) is
+/// transformed back; (a ∗ b)(s) is the real part over M. Working memory
+/// 16 bytes a point of M.
+fn convolution_in_place(a: &[f64], b: &[f64], top: usize) -> Vec<f64> {
+    let size = crate::simulate::fast_len(a.len() + b.len() - 1);
+    let (_turn, threads) = in_place_turn(2 * size);
+    let plan = FourStep::new(size);
+    let mut buf = vec![Complex::new(0.0f64, 0.0); size];
+    for (t, c) in buf.iter_mut().enumerate() {
+        let re = a.get(t).copied().unwrap_or(0.0);
+        let im = b.get(t).copied().unwrap_or(0.0);
+        *c = Complex::new(re, im);
+    }
+    plan.forward(&mut buf, threads);
+    buf[0] = Complex::new(buf[0].re * buf[0].im, 0.0);
+    for k in 1..=size / 2 {
+        let (ik, jk) = (plan.pos(k), plan.pos(size - k));
+        let (zk, zj) = (buf[ik], buf[jk]);
+        let fa = (zk + zj.conj()) * 0.5;
+        let fb = (zk - zj.conj()) * Complex::new(0.0, -0.5);
+        let c = fa * fb;
+        buf[ik] = c;
+        if jk != ik {
+            buf[jk] = c.conj();
+        }
+    }
+    plan.inverse(&mut buf, threads);
+    let scale = 1.0 / size as f64;
+    buf[..top.min(size)].iter().map(|c| c.re * scale).collect()
 }
 
 #[cfg(test)]
@@ -544,6 +649,10 @@ mod tests {
             (1000, 999, 2250),
             (999, 500, 1500),
             (1, 0, 2),
+            // From LOCK_FROM on (2^14 in the unit tests): the passes on
+            // several threads.
+            (16000, 60, 16200),
+            (9000, 8999, 18000),
         ] {
             let y: Vec<f64> = (0..len).map(|_| rng.gen_range(-1.0..1.0)).collect();
             let r = autocorrelation_in_place(len, |t| y[t], lags, size);
@@ -555,6 +664,27 @@ mod tests {
                     "len={len} size={size} l={l}: {} vs {want}",
                     r[l]
                 );
+            }
+        }
+    }
+
+    /// The in-place convolution equals the sum written out (analytic
+    /// identity; 1e-12 of the largest value), unequal lengths included.
+    #[test]
+    fn in_place_convolution_against_direct_sums() {
+        let mut rng = ChaCha8Rng::seed_from_u64(4);
+        for (la, lb) in [(1usize, 1usize), (5, 3), (400, 700), (1500, 1500), (2047, 10)] {
+            let a: Vec<f64> = (0..la).map(|_| rng.gen_range(-1.0..1.0)).collect();
+            let b: Vec<f64> = (0..lb).map(|_| rng.gen_range(-1.0..1.0)).collect();
+            let top = la + lb - 1;
+            let c = convolution_in_place(&a, &b, top);
+            assert_eq!(c.len(), top);
+            for (q, cv) in c.iter().enumerate() {
+                let want: f64 = (0..la)
+                    .filter(|&u| q >= u && q - u < lb)
+                    .map(|u| a[u] * b[q - u])
+                    .sum();
+                assert!((cv - want).abs() <= 1e-12 * la.max(lb) as f64, "{la} {lb} {q}");
             }
         }
     }
