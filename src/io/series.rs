@@ -70,6 +70,7 @@
 //! # Missing values
 //! `NaN`, an empty field and `-` in the value column are gaps (NaN).
 
+use crate::prepare::outliers::order_statistic;
 use super::binary::BinaryFormat;
 use super::fields::{self, Decimal, Delimiter, NumberError, Splitter};
 use super::header_units::{self, Found, HeaderUnit};
@@ -1779,7 +1780,7 @@ impl<'a> Collected<'a> {
                 // The lower median: always one of the spacings actually seen
                 // (found without a sorted copy of the spacings).
                 let mid = (spacings.len() - 1) / 2;
-                let median = nth_in_total_order(spacings.len(), |i| spacings[i], mid);
+                let median = order_statistic(|| spacings.iter().copied(), mid);
                 let tau0 = crate::units::round_sig(median, 10);
                 // Check every spacing; count the gaps to insert.
                 let mut total: u64 = 0;
@@ -1816,7 +1817,7 @@ impl<'a> Collected<'a> {
                 // every stamp rounded to the grid through the first.
                 let times = &self.times;
                 let mid = (times.len() - 2) / 2;
-                let median = nth_in_total_order(times.len() - 1, |i| times[i + 1] - times[i], mid);
+                let median = order_statistic(|| times.windows(2).map(|w| w[1] - w[0]), mid);
                 if !(median > 0.0) {
                     // Find the first stamp that does not increase.
                     let i = times.windows(2).position(|w| !(w[1] > w[0])).unwrap_or(0) + 1;
@@ -1849,43 +1850,6 @@ impl<'a> Collected<'a> {
         self.times = Vec::new();
         Ok(out)
     }
-}
-
-/// The value of rank `rank` (0-based) among v_i = `v(i)`, i < len, in the
-/// order of `f64::total_cmp` — what `select_nth_unstable_by(rank,
-/// f64::total_cmp)` gives on a copy — without the copy: a radix selection
-/// on the 64-bit key of that order, 16 bits a pass (four passes over the
-/// values, 2^16 counters).
-fn nth_in_total_order(len: usize, v: impl Fn(usize) -> f64, rank: usize) -> f64 {
-    assert!(rank < len);
-    // The key whose unsigned order is total_cmp's order.
-    let key = |x: f64| {
-        let b = x.to_bits();
-        if b >> 63 == 1 {
-            !b
-        } else {
-            b | (1 << 63)
-        }
-    };
-    let (mut prefix, mut rank) = (0u64, rank);
-    for shift in [48u32, 32, 16, 0] {
-        let above = if shift == 48 { 0 } else { u64::MAX << (shift + 16) };
-        let mut counts = vec![0usize; 1 << 16];
-        for i in 0..len {
-            let k = key(v(i));
-            if k & above == prefix {
-                counts[((k >> shift) & 0xFFFF) as usize] += 1;
-            }
-        }
-        let mut bucket = 0;
-        while rank >= counts[bucket] {
-            rank -= counts[bucket];
-            bucket += 1;
-        }
-        prefix |= (bucket as u64) << shift;
-    }
-    let b = if prefix >> 63 == 1 { prefix & !(1 << 63) } else { !prefix };
-    f64::from_bits(b)
 }
 
 /// With --snap: how far the stamps were from the grid (and a note), or a
@@ -2484,28 +2448,6 @@ mod tests {
         SeriesOptions {
             tau0: Some(t),
             ..Default::default()
-        }
-    }
-
-    /// The copy-free selection gives what `select_nth_unstable_by` gives
-    /// on a copy, at every rank, on values with repeats, both signs, zeros
-    /// of both signs, infinities and NaN (analytic: the same total order).
-    #[test]
-    fn selection_without_a_copy() {
-        let mut v: Vec<f64> = vec![
-            1.0, 1.0, 1.0, -0.0, 0.0, 2.5, -3.0, f64::INFINITY, f64::NEG_INFINITY, f64::NAN,
-            1e-300, -1e-300, 0.001, 0.001, 7.0,
-        ];
-        let mut state = 12345u64;
-        for _ in 0..300 {
-            state = state.wrapping_mul(6364136223846793005).wrapping_add(1442695040888963407);
-            v.push(((state >> 11) as f64 / (1u64 << 53) as f64 - 0.3) * 1e3);
-        }
-        for rank in 0..v.len() {
-            let mut c = v.clone();
-            let want = *c.select_nth_unstable_by(rank, f64::total_cmp).1;
-            let got = nth_in_total_order(v.len(), |i| v[i], rank);
-            assert_eq!(got.to_bits(), want.to_bits(), "rank {rank}");
         }
     }
 
