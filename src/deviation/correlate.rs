@@ -372,10 +372,21 @@ impl FourStep {
     /// writes only the elements M2·r + c of its own columns
     /// (COLUMN_GROUP·g0 ≤ c < COLUMN_GROUP·(g0 + count)), and no other
     /// running call is given the same groups.
-    unsafe fn column_groups(&self, base: SendPtr, len: usize, g0: usize, count: usize, forward: bool) {
+    unsafe fn column_groups(
+        &self,
+        base: SendPtr,
+        len: usize,
+        g0: usize,
+        count: usize,
+        forward: bool,
+    ) {
         let (m1, m2) = (self.m1, self.m2);
         debug_assert_eq!(len, m1 * m2);
-        let fft = if forward { &self.col_fwd } else { &self.col_inv };
+        let fft = if forward {
+            &self.col_fwd
+        } else {
+            &self.col_inv
+        };
         let mut tmp = vec![Complex::new(0.0, 0.0); COLUMN_GROUP * m1];
         let mut scratch = vec![Complex::new(0.0, 0.0); fft.get_inplace_scratch_len()];
         let first = COLUMN_GROUP * g0;
@@ -420,7 +431,11 @@ impl FourStep {
     /// The row pass: M2-point DFTs along every row, the rows split among
     /// `threads` scoped threads (see [`FourStep::columns`]).
     fn rows(&self, buf: &mut [Complex<f64>], forward: bool, threads: usize) {
-        let fft = if forward { &self.row_fwd } else { &self.row_inv };
+        let fft = if forward {
+            &self.row_fwd
+        } else {
+            &self.row_inv
+        };
         let per = self.m1.div_ceil(threads.clamp(1, self.m1)) * self.m2;
         std::thread::scope(|scope| {
             for chunk in buf.chunks_mut(per) {
@@ -538,7 +553,8 @@ fn autocorrelation_in_place(
     // SAFETY: Complex<f64> is #[repr(C)] {re, im} (num-complex), so the
     // allocation of `half` complex values is one of 2·half f64 with the
     // same size and alignment (8); ownership moves to the new Vec.
-    let mut out = unsafe { Vec::from_raw_parts(buf.as_mut_ptr().cast::<f64>(), 2 * half, 2 * half) };
+    let mut out =
+        unsafe { Vec::from_raw_parts(buf.as_mut_ptr().cast::<f64>(), 2 * half, 2 * half) };
     out.truncate(keep);
     out.iter_mut().for_each(|v| *v *= scale);
     out.shrink_to_fit();
@@ -673,7 +689,13 @@ mod tests {
     #[test]
     fn in_place_convolution_against_direct_sums() {
         let mut rng = ChaCha8Rng::seed_from_u64(4);
-        for (la, lb) in [(1usize, 1usize), (5, 3), (400, 700), (1500, 1500), (2047, 10)] {
+        for (la, lb) in [
+            (1usize, 1usize),
+            (5, 3),
+            (400, 700),
+            (1500, 1500),
+            (2047, 10),
+        ] {
             let a: Vec<f64> = (0..la).map(|_| rng.gen_range(-1.0..1.0)).collect();
             let b: Vec<f64> = (0..lb).map(|_| rng.gen_range(-1.0..1.0)).collect();
             let top = la + lb - 1;
@@ -684,7 +706,10 @@ mod tests {
                     .filter(|&u| q >= u && q - u < lb)
                     .map(|u| a[u] * b[q - u])
                     .sum();
-                assert!((cv - want).abs() <= 1e-12 * la.max(lb) as f64, "{la} {lb} {q}");
+                assert!(
+                    (cv - want).abs() <= 1e-12 * la.max(lb) as f64,
+                    "{la} {lb} {q}"
+                );
             }
         }
     }

@@ -70,7 +70,6 @@
 //! # Missing values
 //! `NaN`, an empty field and `-` in the value column are gaps (NaN).
 
-use crate::prepare::outliers::order_statistic;
 use super::binary::BinaryFormat;
 use super::fields::{self, Decimal, Delimiter, NumberError, Splitter};
 use super::header_units::{self, Found, HeaderUnit};
@@ -78,6 +77,7 @@ use super::layout::{self, LayoutOptions};
 use super::parallel::{self, RowReading};
 use super::text::{self, CommentStyle, LineReader};
 use super::{binary, npy, wrap, ReadError};
+use crate::prepare::outliers::order_statistic;
 use crate::record::{DataKind, FrequencyRecord, PhaseRecord, Record};
 use crate::units::{format_sig, FreqUnit, ValueUnit};
 use serde::Serialize;

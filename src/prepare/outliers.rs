@@ -70,7 +70,6 @@ fn check_limit(limit: f64) -> Result<()> {
     Ok(())
 }
 
-
 /// The core of [`find_outliers_y`]: `valid` holds the values that are not
 /// NaN (in any order; used as scratch), `at(i)` the value at i < `len`.
 fn outliers_of(
@@ -126,7 +125,9 @@ pub(crate) fn find_outliers_at(
     check_limit(limit)?;
     let tested = (0..len).filter(|&i| !at(i).is_nan()).count();
     if tested == 0 {
-        return Err(Error::insufficient("no frequency values to test for outliers"));
+        return Err(Error::insufficient(
+            "no frequency values to test for outliers",
+        ));
     }
     let median_of = |f: &dyn Fn(usize) -> f64| {
         let mid = tested / 2;
@@ -184,7 +185,11 @@ pub(crate) fn order_statistic<I: Iterator<Item = f64>>(values: impl Fn() -> I, r
     let (mut prefix, mut rank) = (0u64, rank);
     let mut counts = vec![0usize; 1 << 16];
     for shift in [48u32, 32, 16, 0] {
-        let above = if shift == 48 { 0 } else { u64::MAX << (shift + 16) };
+        let above = if shift == 48 {
+            0
+        } else {
+            u64::MAX << (shift + 16)
+        };
         counts.fill(0);
         for k in values().map(key) {
             if k & above == prefix {
@@ -198,7 +203,11 @@ pub(crate) fn order_statistic<I: Iterator<Item = f64>>(values: impl Fn() -> I, r
         }
         prefix |= (bucket as u64) << shift;
     }
-    let b = if prefix >> 63 == 1 { prefix & !(1 << 63) } else { !prefix };
+    let b = if prefix >> 63 == 1 {
+        prefix & !(1 << 63)
+    } else {
+        !prefix
+    };
     f64::from_bits(b)
 }
 
