@@ -264,7 +264,7 @@ fn block_sum_given(
     for v in r.iter_mut() {
         *v *= 2.0;
     }
-    super::correlate::subtract_autocorrelations(m, |t| y(t), |t| y(n + t), m - 1, &mut r);
+    super::correlate::subtract_autocorrelations(m, y, |t| y(n + t), m - 1, &mut r);
     let q = r;
     let sum = |a: (f64, f64)| a.0 + a.1;
     let s0 = sum(square_sum(y, 0, n, len, total));

@@ -31,9 +31,9 @@ pub struct Summary {
 /// y_i = (x_{i+1} − x_i)/τ0 as in [`crate::record::PhaseRecord::to_frequency`])
 /// are read where they are used: the offset is their mean in index order,
 /// the drift fit reads them through a closure
-/// ([`super::drift::fit_drift_at`]), and the outlier search takes its
+/// (`prepare::drift::fit_drift_at`), and the outlier search takes its
 /// median and MAD by a radix selection over them
-/// ([`super::outliers::find_outliers_at`]) — no copy of the record.
+/// (`prepare::outliers::find_outliers_at`) — no copy of the record.
 pub fn summarize(record: &Record, outlier_limit: f64) -> Result<Summary> {
     let span = match record {
         Record::Phase(p) => p.span(),
