@@ -77,6 +77,7 @@ use super::layout::{self, LayoutOptions};
 use super::parallel::{self, RowReading};
 use super::text::{self, CommentStyle, LineReader};
 use super::{binary, npy, wrap, ReadError};
+use crate::prepare::outliers::order_statistic;
 use crate::record::{DataKind, FrequencyRecord, PhaseRecord, Record};
 use crate::units::{format_sig, FreqUnit, ValueUnit};
 use serde::Serialize;
@@ -1776,11 +1777,10 @@ impl<'a> Collected<'a> {
             (Some(t), None) => (t, false, 0),
             (None, _) if self.opts.snap.is_none() => {
                 let spacings = std::mem::take(&mut self.times);
-                // The lower median: always one of the spacings actually seen.
-                let mut sorted = spacings.clone();
-                let mid = (sorted.len() - 1) / 2;
-                let median = *sorted.select_nth_unstable_by(mid, f64::total_cmp).1;
-                drop(sorted);
+                // The lower median: always one of the spacings actually seen
+                // (found without a sorted copy of the spacings).
+                let mid = (spacings.len() - 1) / 2;
+                let median = order_statistic(|| spacings.iter().copied(), mid);
                 let tau0 = crate::units::round_sig(median, 10);
                 // Check every spacing; count the gaps to insert.
                 let mut total: u64 = 0;
@@ -1816,10 +1816,8 @@ impl<'a> Collected<'a> {
                 // --snap: the median spacing to 3 significant digits, then
                 // every stamp rounded to the grid through the first.
                 let times = &self.times;
-                let mut s: Vec<f64> = times.windows(2).map(|w| w[1] - w[0]).collect();
-                let mid = (s.len() - 1) / 2;
-                let median = *s.select_nth_unstable_by(mid, f64::total_cmp).1;
-                drop(s);
+                let mid = (times.len() - 2) / 2;
+                let median = order_statistic(|| times.windows(2).map(|w| w[1] - w[0]), mid);
                 if !(median > 0.0) {
                     // Find the first stamp that does not increase.
                     let i = times.windows(2).position(|w| !(w[1] > w[0])).unwrap_or(0) + 1;

@@ -16,6 +16,8 @@
 //! not unwrapped (jumps of nearly the readings' whole range, much larger
 //! than the ordinary steps), for `inspect`'s suggestion.
 
+use crate::prepare::outliers::order_statistic;
+
 /// A step whose remainder (after whole periods are removed) exceeds this
 /// fraction of the period cannot be unwrapped unambiguously.
 pub const AMBIGUOUS: f64 = 0.4;
@@ -94,34 +96,38 @@ pub struct WrapHint {
 /// median step is under 5 % of it, every such jump (less the median step)
 /// within 10 % of their median. The period is that median.
 pub fn find_wraps(x: &[f64]) -> Option<WrapHint> {
-    let valid: Vec<f64> = x.iter().copied().filter(|v| v.is_finite()).collect();
-    if valid.len() < 3 {
+    // Read where used (no copy of the record): the finite readings and the
+    // steps between consecutive ones; medians by radix selection.
+    let valid = || x.iter().copied().filter(|v| v.is_finite());
+    let steps = || {
+        let mut prev: Option<f64> = None;
+        valid().filter_map(move |v| {
+            let d = prev.map(|p| v - p);
+            prev = Some(v);
+            d
+        })
+    };
+    let count = valid().count();
+    if count < 3 {
         return None;
     }
-    let (lo, hi) = valid
-        .iter()
-        .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), &v| {
-            (a.min(v), b.max(v))
-        });
+    let (lo, hi) = valid().fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), v| {
+        (a.min(v), b.max(v))
+    });
     let range = hi - lo;
     if !(range > 0.0) {
         return None;
     }
-    let mut steps: Vec<f64> = valid.windows(2).map(|w| w[1] - w[0]).collect();
-    let big: Vec<f64> = steps
-        .iter()
-        .copied()
-        .filter(|d| d.abs() > 0.5 * range)
-        .collect();
+    let big: Vec<f64> = steps().filter(|d| d.abs() > 0.5 * range).collect();
     if big.is_empty() {
         return None;
     }
-    let mut abs: Vec<f64> = steps.iter().map(|d| d.abs()).collect();
-    let typical = median(&mut abs);
+    let mid = (count - 1) / 2;
+    let typical = order_statistic(|| steps().map(f64::abs), mid);
     if typical >= 0.05 * range {
         return None;
     }
-    let drift = median(&mut steps);
+    let drift = order_statistic(steps, mid);
     let mut sizes: Vec<f64> = big.iter().map(|d| (d - drift).abs()).collect();
     let period = median(&mut sizes);
     if sizes.iter().any(|s| (s - period).abs() > 0.1 * period) {

@@ -160,6 +160,18 @@ pub fn fit_drift(record: &Record, model: DriftModel) -> Result<DriftFit> {
 
 /// [`fit_drift`] on frequency values y_i at t_i = (i + ½)τ0.
 pub fn fit_drift_y(y: &[f64], tau0: f64, model: DriftModel) -> Result<DriftFit> {
+    fit_drift_at(y.len(), |i| y[i], tau0, model)
+}
+
+/// [`fit_drift_y`] on y_i = `at(i)`, i < len, read where used (no copy:
+/// `inspect` fits the frequencies of a phase record this way).
+pub(crate) fn fit_drift_at(
+    len: usize,
+    at: impl Fn(usize) -> f64,
+    tau0: f64,
+    model: DriftModel,
+) -> Result<DriftFit> {
+    let values = || (0..len).map(&at);
     let need = match model {
         DriftModel::Linear => 2,
         DriftModel::Quadratic => 3,
@@ -167,7 +179,7 @@ pub fn fit_drift_y(y: &[f64], tau0: f64, model: DriftModel) -> Result<DriftFit> 
     let t = |i: usize| (i as f64 + 0.5) * tau0;
     let (mut st, mut sy, mut n) = (0.0, 0.0, 0usize);
     let (mut tmin, mut tmax) = (f64::INFINITY, f64::NEG_INFINITY);
-    for (i, &v) in y.iter().enumerate() {
+    for (i, v) in values().enumerate() {
         if !v.is_nan() {
             st += t(i);
             sy += v;
@@ -188,10 +200,10 @@ pub fn fit_drift_y(y: &[f64], tau0: f64, model: DriftModel) -> Result<DriftFit> 
     let h = (0.5 * (tmax - tmin)).max(f64::MIN_POSITIVE);
     let q0 = (tau0 / h).powi(2) / 12.0;
     let valid = || {
-        y.iter()
+        values()
             .enumerate()
             .filter(|(_, v)| !v.is_nan())
-            .map(|(i, &v)| ((t(i) - centre) / h, v - ybar))
+            .map(|(i, v)| ((t(i) - centre) / h, v - ybar))
     };
     let (a, b, c) = match model {
         DriftModel::Linear => {
@@ -227,11 +239,10 @@ pub fn fit_drift_y(y: &[f64], tau0: f64, model: DriftModel) -> Result<DriftFit> 
         residual_rms: 0.0,
     };
     let p = need;
-    let ss: f64 = y
-        .iter()
+    let ss: f64 = values()
         .enumerate()
         .filter(|(_, v)| !v.is_nan())
-        .map(|(i, &v)| (v - fit0.frequency_at(t(i), tau0)).powi(2))
+        .map(|(i, v)| (v - fit0.frequency_at(t(i), tau0)).powi(2))
         .sum();
     let residual_rms = if n > p {
         (ss / (n - p) as f64).sqrt()

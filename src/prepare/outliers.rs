@@ -70,23 +70,6 @@ fn check_limit(limit: f64) -> Result<()> {
     Ok(())
 }
 
-/// [`find_outliers_y`] taking the frequency values twice: `y` for their
-/// scratch copy, which it reorders and overwrites (the median and the
-/// median absolute deviation are found in place), and `at(i)`, i < `len`,
-/// for the values in record order. The memory is the one copy the caller
-/// hands over, so a summary can give its own frequency copy (see
-/// [`crate::prepare::summarize`]).
-pub(crate) fn find_outliers_in(
-    mut y: Vec<f64>,
-    len: usize,
-    at: impl Fn(usize) -> f64,
-    limit: f64,
-) -> Result<Outliers> {
-    check_limit(limit)?;
-    y.retain(|v| !v.is_nan());
-    outliers_of(y, len, at, limit)
-}
-
 /// The core of [`find_outliers_y`]: `valid` holds the values that are not
 /// NaN (in any order; used as scratch), `at(i)` the value at i < `len`.
 fn outliers_of(
@@ -127,6 +110,149 @@ fn outliers_of(
         indices,
         tested,
     })
+}
+
+/// [`find_outliers_in`] without a copy of the frequencies: y_i = `at(i)`,
+/// i < len. The median and the MAD are the same values
+/// [`median_in_place`] picks (the selected order statistics), found by a
+/// radix selection over `at` ([`valid_order_statistic`]); the fallback's
+/// mean absolute deviation is summed in index order.
+pub(crate) fn find_outliers_at(
+    len: usize,
+    at: impl Fn(usize) -> f64,
+    limit: f64,
+) -> Result<Outliers> {
+    check_limit(limit)?;
+    let tested = (0..len).filter(|&i| !at(i).is_nan()).count();
+    if tested == 0 {
+        return Err(Error::insufficient(
+            "no frequency values to test for outliers",
+        ));
+    }
+    let median_of = |f: &dyn Fn(usize) -> f64| {
+        let mid = tested / 2;
+        let hi = valid_order_statistic(len, f, mid);
+        if tested % 2 == 1 {
+            hi
+        } else {
+            0.5 * (valid_order_statistic(len, f, mid - 1) + hi)
+        }
+    };
+    let median = median_of(&at);
+    let dev = |i: usize| (at(i) - median).abs();
+    let mean_abs = (0..len).map(dev).filter(|v| !v.is_nan()).sum::<f64>() / tested as f64;
+    let raw = median_of(&dev);
+    let (mad, mad_fallback) = if raw > 0.0 {
+        (raw * MAD_SCALE, false)
+    } else {
+        (mean_abs * (std::f64::consts::PI / 2.0).sqrt(), true)
+    };
+    let indices = if mad > 0.0 {
+        (0..len)
+            .filter(|&i| {
+                let v = at(i);
+                !v.is_nan() && (v - median).abs() > limit * mad
+            })
+            .collect()
+    } else {
+        Vec::new()
+    };
+    Ok(Outliers {
+        limit,
+        median,
+        mad,
+        mad_fallback,
+        indices,
+        tested,
+    })
+}
+
+/// The value of rank `rank` (0-based) among the values of `values()`, in
+/// the order of `f64::total_cmp` — what `select_nth_unstable_by(rank,
+/// f64::total_cmp)` picks on a copy of them — without the copy: a radix
+/// selection on the 64-bit key of that order, 16 bits a pass (four passes
+/// over the values, 2^16 counters). `values` gives the same sequence at
+/// every call; rank < its length.
+pub(crate) fn order_statistic<I: Iterator<Item = f64>>(values: impl Fn() -> I, rank: usize) -> f64 {
+    let key = |x: f64| {
+        let b = x.to_bits();
+        if b >> 63 == 1 {
+            !b
+        } else {
+            b | (1 << 63)
+        }
+    };
+    let (mut prefix, mut rank) = (0u64, rank);
+    let mut counts = vec![0usize; 1 << 16];
+    for shift in [48u32, 32, 16, 0] {
+        let above = if shift == 48 {
+            0
+        } else {
+            u64::MAX << (shift + 16)
+        };
+        counts.fill(0);
+        for k in values().map(key) {
+            if k & above == prefix {
+                counts[((k >> shift) & 0xFFFF) as usize] += 1;
+            }
+        }
+        let mut bucket = 0;
+        while rank >= counts[bucket] {
+            rank -= counts[bucket];
+            bucket += 1;
+        }
+        prefix |= (bucket as u64) << shift;
+    }
+    let b = if prefix >> 63 == 1 {
+        prefix & !(1 << 63)
+    } else {
+        !prefix
+    };
+    f64::from_bits(b)
+}
+
+/// [`order_statistic`] among the values v(i), i < len, that are not NaN.
+fn valid_order_statistic(len: usize, v: &dyn Fn(usize) -> f64, rank: usize) -> f64 {
+    order_statistic(|| (0..len).map(v).filter(|x| !x.is_nan()), rank)
+}
+
+/// The selection without a copy picks what `select_nth_unstable_by` picks
+/// on a copy, at every rank, on values with repeats, both signs, zeros of
+/// both signs, infinities and NaN (analytic: the same total order).
+#[cfg(test)]
+#[test]
+fn order_statistic_is_the_selection_on_a_copy() {
+    let mut v: Vec<f64> = vec![
+        1.0,
+        1.0,
+        1.0,
+        -0.0,
+        0.0,
+        2.5,
+        -3.0,
+        f64::INFINITY,
+        f64::NEG_INFINITY,
+        f64::NAN,
+        -f64::NAN,
+        1e-300,
+        -1e-300,
+        0.001,
+        0.001,
+        7.0,
+    ];
+    let mut state = 12345u64;
+    for _ in 0..300 {
+        state = state
+            .wrapping_mul(6364136223846793005)
+            .wrapping_add(1442695040888963407);
+        v.push(((state >> 11) as f64 / (1u64 << 53) as f64 - 0.3) * 1e3);
+    }
+    for rank in 0..v.len() {
+        let mut c = v.clone();
+        let want = *c.select_nth_unstable_by(rank, f64::total_cmp).1;
+        let got = order_statistic(|| v.iter().copied(), rank);
+        assert_eq!(got.to_bits(), want.to_bits(), "rank {rank}");
+    }
 }
 
 /// What replacing outliers by gaps did.

@@ -1,8 +1,7 @@
 //! The figures `tauwise inspect` shows for a record.
 
-use super::drift::{fit_drift_y, DriftFit, DriftModel};
-use super::offset::{frequency_of, mean_valid};
-use super::outliers::{find_outliers_in, Outliers};
+use super::drift::{fit_drift_at, DriftFit, DriftModel};
+use super::outliers::{find_outliers_at, Outliers};
 use crate::error::{Error, Result};
 use crate::record::Record;
 
@@ -28,27 +27,35 @@ pub struct Summary {
 /// Summarise a record: size, span, offset, linear drift, outliers beyond
 /// `outlier_limit`·MAD of the frequency.
 ///
-/// Memory: the record and one frequency copy. The offset and the drift
-/// are taken from the copy first; the outlier search then takes the copy
-/// itself as the scratch of its medians and reads the frequencies in record
-/// order from the record (for phase, y_i = (x_{i+1} − x_i)/τ0 as in
-/// [`crate::record::PhaseRecord::to_frequency`]), so no third copy is made.
+/// Memory: the record alone. The frequencies (for phase,
+/// y_i = (x_{i+1} − x_i)/τ0 as in [`crate::record::PhaseRecord::to_frequency`])
+/// are read where they are used: the offset is their mean in index order,
+/// the drift fit reads them through a closure
+/// (`prepare::drift::fit_drift_at`), and the outlier search takes its
+/// median and MAD by a radix selection over them
+/// (`prepare::outliers::find_outliers_at`) — no copy of the record.
 pub fn summarize(record: &Record, outlier_limit: f64) -> Result<Summary> {
-    let y = frequency_of(record);
     let span = match record {
         Record::Phase(p) => p.span(),
         Record::Frequency(f) => f.len() as f64 * f.tau0,
     };
-    let frequency_offset = mean_valid(&y);
-    let drift = fit_drift_y(&y, record.tau0(), DriftModel::Linear).ok();
-    let len = y.len();
-    let found = match record {
+    let (len, at): (usize, Box<dyn Fn(usize) -> f64 + '_>) = match record {
         Record::Phase(p) => {
             let (x, tau0) = (&p.x, p.tau0);
-            find_outliers_in(y, len, |i| (x[i + 1] - x[i]) / tau0, outlier_limit)
+            (
+                x.len().saturating_sub(1),
+                Box::new(move |i| (x[i + 1] - x[i]) / tau0),
+            )
         }
-        Record::Frequency(f) => find_outliers_in(y, len, |i| f.y[i], outlier_limit),
+        Record::Frequency(f) => (f.y.len(), Box::new(move |i| f.y[i])),
     };
+    let (s, n) = (0..len)
+        .map(&at)
+        .filter(|v| !v.is_nan())
+        .fold((0.0, 0usize), |(s, n), v| (s + v, n + 1));
+    let frequency_offset = (n > 0).then(|| s / n as f64);
+    let drift = fit_drift_at(len, &at, record.tau0(), DriftModel::Linear).ok();
+    let found = find_outliers_at(len, &at, outlier_limit);
     let outliers = match found {
         Ok(o) => Some(o),
         Err(Error::Insufficient(_)) => None,
