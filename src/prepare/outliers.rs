@@ -70,6 +70,46 @@ fn check_limit(limit: f64) -> Result<()> {
     Ok(())
 }
 
+/// The end of both outlier searches: the MAD from the raw median absolute
+/// deviation `raw` (scaled to σ for normal data), or, where half the values
+/// equal the median (raw = 0), the mean absolute deviation scaled by
+/// √(π/2) (the fallback); then every valid y_i = `at(i)` farther than
+/// `limit` MADs from the median.
+#[allow(clippy::too_many_arguments)]
+fn conclude(
+    len: usize,
+    at: impl Fn(usize) -> f64,
+    limit: f64,
+    median: f64,
+    raw: f64,
+    mean_abs: f64,
+    tested: usize,
+) -> Outliers {
+    let (mad, mad_fallback) = if raw > 0.0 {
+        (raw * MAD_SCALE, false)
+    } else {
+        (mean_abs * (std::f64::consts::PI / 2.0).sqrt(), true)
+    };
+    let indices = if mad > 0.0 {
+        (0..len)
+            .filter(|&i| {
+                let v = at(i);
+                !v.is_nan() && (v - median).abs() > limit * mad
+            })
+            .collect()
+    } else {
+        Vec::new()
+    };
+    Outliers {
+        limit,
+        median,
+        mad,
+        mad_fallback,
+        indices,
+        tested,
+    }
+}
+
 /// The core of [`find_outliers_y`]: `valid` holds the values that are not
 /// NaN (in any order; used as scratch), `at(i)` the value at i < `len`.
 fn outliers_of(
@@ -86,30 +126,8 @@ fn outliers_of(
     }
     let mean_abs = valid.iter().sum::<f64>() / tested as f64;
     let raw = median_in_place(&mut valid).unwrap_or(0.0);
-    let (mad, mad_fallback) = if raw > 0.0 {
-        (raw * MAD_SCALE, false)
-    } else {
-        (mean_abs * (std::f64::consts::PI / 2.0).sqrt(), true)
-    };
     drop(valid);
-    let indices = if mad > 0.0 {
-        (0..len)
-            .filter(|&i| {
-                let v = at(i);
-                !v.is_nan() && (v - median).abs() > limit * mad
-            })
-            .collect()
-    } else {
-        Vec::new()
-    };
-    Ok(Outliers {
-        limit,
-        median,
-        mad,
-        mad_fallback,
-        indices,
-        tested,
-    })
+    Ok(conclude(len, at, limit, median, raw, mean_abs, tested))
 }
 
 /// [`find_outliers_in`] without a copy of the frequencies: y_i = `at(i)`,
@@ -142,29 +160,7 @@ pub(crate) fn find_outliers_at(
     let dev = |i: usize| (at(i) - median).abs();
     let mean_abs = (0..len).map(dev).filter(|v| !v.is_nan()).sum::<f64>() / tested as f64;
     let raw = median_of(&dev);
-    let (mad, mad_fallback) = if raw > 0.0 {
-        (raw * MAD_SCALE, false)
-    } else {
-        (mean_abs * (std::f64::consts::PI / 2.0).sqrt(), true)
-    };
-    let indices = if mad > 0.0 {
-        (0..len)
-            .filter(|&i| {
-                let v = at(i);
-                !v.is_nan() && (v - median).abs() > limit * mad
-            })
-            .collect()
-    } else {
-        Vec::new()
-    };
-    Ok(Outliers {
-        limit,
-        median,
-        mad,
-        mad_fallback,
-        indices,
-        tested,
-    })
+    Ok(conclude(len, at, limit, median, raw, mean_abs, tested))
 }
 
 /// The value of rank `rank` (0-based) among the values of `values()`, in
