@@ -83,7 +83,7 @@ pub fn cdf_with(terms: &[(f64, f64)], x: f64) -> f64 {
     // Prepared once per set of weights and kept for the next call on the
     // same set (an integral over another variable asks for many values of
     // one CDF); the same result as preparing it anew.
-    Method::remembered(lam).cdf(x)
+    Method::remembered(&lam).cdf(x)
 }
 
 /// The method [`cdf_with`] evaluates the CDF of one set of (cleaned, not
@@ -108,7 +108,7 @@ impl Method {
 
     /// [`Method::of`], remembered per thread for the last set of weights
     /// (compared bit for bit, so the answer is the one `of` gives).
-    fn remembered(lam: Vec<(f64, f64)>) -> std::rc::Rc<Self> {
+    fn remembered(lam: &[(f64, f64)]) -> std::rc::Rc<Self> {
         type Last = Option<(Vec<(u64, u64)>, std::rc::Rc<Method>)>;
         thread_local! {
             static LAST: std::cell::RefCell<Last> = const { std::cell::RefCell::new(None) };
@@ -124,7 +124,7 @@ impl Method {
                     return m.clone();
                 }
             }
-            let m = std::rc::Rc::new(Method::of(lam));
+            let m = std::rc::Rc::new(Method::of(lam.to_vec()));
             *last = Some((key, m.clone()));
             m
         })
@@ -371,6 +371,18 @@ pub fn quantile_with(terms: &[(f64, f64)], p: f64) -> Result<f64> {
         let (l, h) = lam[0];
         return Ok(l * crate::stats::interval::chi2_quantile(p, h)?);
     }
+    // The weights' CDF, prepared once for the whole search (and kept for
+    // the next search on the same weights: a two-sided interval asks for
+    // two quantiles of each).
+    let method = Method::remembered(&lam);
+    search_quantile(&lam, p, |x| method.cdf(x))
+}
+
+/// The p-quantile search of [`quantile_with`] on `lam` (cleaned, two terms
+/// or more) with its CDF `cdf_at`: from the χ² with the same first two
+/// moments, a bracket by steps of 1.25, then regula falsi (Illinois) with a
+/// bisection safeguard.
+fn search_quantile(lam: &[(f64, f64)], p: f64, cdf_at: impl Fn(f64) -> f64) -> Result<f64> {
     let total: f64 = lam.iter().map(|&(l, h)| l * h).sum();
     let sq: f64 = lam.iter().map(|&(l, h)| l * l * h).sum();
     // Start from the χ² with the same first two moments (scale g, ν):
@@ -378,11 +390,6 @@ pub fn quantile_with(terms: &[(f64, f64)], p: f64) -> Result<f64> {
     let nu = total * total / sq;
     let g = sq / total;
     let guess = g * crate::stats::interval::chi2_quantile(p, nu)?;
-    // The weights' CDF, prepared once for the whole search (and kept for
-    // the next search on the same weights: a two-sided interval asks for
-    // two quantiles of each).
-    let method = Method::remembered(lam);
-    let cdf_at = |x: f64| method.cdf(x);
     // Bracket around the guess by steps of 1.25.
     let x0 = guess.max(1e-300);
     let f0 = cdf_at(x0) - p;
@@ -514,80 +521,6 @@ mod tests {
         }
     }
 
-    /// The quantile search as it stood, on [`cdf_direct`].
-    fn quantile_direct(terms: &[(f64, f64)], p: f64) -> Result<f64> {
-        if !(p > 0.0 && p < 1.0) {
-            return Err(Error::invalid(format!(
-                "quantile probability must be in (0, 1), got {p}"
-            )));
-        }
-        let lam = clean(terms);
-        if lam.is_empty() {
-            return Err(Error::invalid(
-                "a weighted χ² sum needs at least one positive weight",
-            ));
-        }
-        if lam.len() == 1 {
-            let (l, h) = lam[0];
-            return Ok(l * crate::stats::interval::chi2_quantile(p, h)?);
-        }
-        let total: f64 = lam.iter().map(|&(l, h)| l * h).sum();
-        let sq: f64 = lam.iter().map(|&(l, h)| l * l * h).sum();
-        // Start from the χ² with the same first two moments (scale g, ν):
-        // Q ≈ g·χ²_ν with g = Σhλ²/Σhλ, ν = (Σhλ)²/Σhλ².
-        let nu = total * total / sq;
-        let g = sq / total;
-        let guess = g * crate::stats::interval::chi2_quantile(p, nu)?;
-        // Bracket around the guess by steps of 1.25.
-        let x0 = guess.max(1e-300);
-        let f0 = cdf_direct(&lam, x0) - p;
-        let (mut lo, mut hi, mut f_lo, mut f_hi) = (x0, x0, f0, f0);
-        let mut tries = 0;
-        while f_hi < 0.0 && tries < 400 {
-            lo = hi;
-            f_lo = f_hi;
-            hi *= 1.25;
-            f_hi = cdf_direct(&lam, hi) - p;
-            tries += 1;
-        }
-        while f_lo >= 0.0 && tries < 400 {
-            hi = lo;
-            f_hi = f_lo;
-            lo /= 1.25;
-            f_lo = cdf_direct(&lam, lo) - p;
-            tries += 1;
-        }
-        if f_hi < 0.0 || f_lo >= 0.0 {
-            return Err(Error::invalid(format!(
-                "weighted χ² quantile at p = {p}: no bracket found"
-            )));
-        }
-        // Regula falsi (Illinois) with bisection safeguard.
-        let mut x = hi;
-        for it in 0..100 {
-            let secant = hi - f_hi * (hi - lo) / (f_hi - f_lo);
-            x = if it % 3 == 2 || !(secant > lo && secant < hi) {
-                0.5 * (lo + hi)
-            } else {
-                secant
-            };
-            let fx = cdf_direct(&lam, x) - p;
-            if fx.abs() < 1e-8 || (hi - lo) < 1e-9 * hi {
-                break;
-            }
-            if fx < 0.0 {
-                lo = x;
-                f_lo = fx;
-                f_hi *= 0.5;
-            } else {
-                hi = x;
-                f_hi = fx;
-                f_lo *= 0.5;
-            }
-        }
-        Ok(x)
-    }
-
     /// Weight sets of the shapes the pivot quantiles ask about: few and
     /// alike, one dominant among many, a lumped gamma term with a
     /// fractional degree of freedom, and a wide spread that goes to Imhof.
@@ -606,7 +539,8 @@ mod tests {
 
     /// Computing Ruben's coefficients once per set of weights is an exact
     /// speed-up: every CDF value and every quantile is bit-for-bit the one
-    /// of the direct form (each coefficient recomputed for every x).
+    /// of the direct form (each coefficient recomputed for every x; the
+    /// quantile by the same search on that CDF).
     #[test]
     fn prepared_mixture_equals_direct_series_bit_for_bit() {
         for w in weight_sets() {
@@ -626,7 +560,7 @@ mod tests {
             }
             for &p in &[0.025, 0.1585, 0.5, 0.8415, 0.975] {
                 let got = quantile_with(&w, p).unwrap();
-                let want = quantile_direct(&w, p).unwrap();
+                let want = search_quantile(&lam, p, |x| cdf_direct(&lam, x)).unwrap();
                 assert_eq!(got.to_bits(), want.to_bits(), "{w:?} p={p}");
             }
         }
