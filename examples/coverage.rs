@@ -101,7 +101,7 @@ fn main() -> tauwise::Result<()> {
         t.elapsed().as_secs_f64()
     );
     println!(
-        "{:<7} {:>5} {:>9} {:>7} {:>6} {:>7} {:>7} {:>7} {:>6} {:>6} {:>9} {:>9} {:>7}",
+        "{:<7} {:>5} {:>9} {:>7} {:>6} {:>7} {:>7} {:>7} {:>6} {:>6} {:>9} {:>9} {:>9} {:>7}",
         "dev",
         "noise",
         "tau",
@@ -114,11 +114,12 @@ fn main() -> tauwise::Result<()> {
         "drift",
         "edf",
         "edf(MC)",
+        "MC right",
         "mean"
     );
     for c in &cells {
         println!(
-            "{:<7} {:>5} {:>9.1} {:>7.2} {:>6} {:>7.3} {:>7.3} {:>7.3} {:>6.2} {:>6} {:>9.2} {:>9.2} {:>7.3}",
+            "{:<7} {:>5} {:>9.1} {:>7.2} {:>6} {:>7.3} {:>7.3} {:>7.3} {:>6.2} {:>6} {:>9.2} {:>9.2} {:>9.2} {:>7.3}",
             c.estimator.name(),
             tauwise::model::noise_label(c.alpha).unwrap_or("?"),
             c.tau,
@@ -131,6 +132,7 @@ fn main() -> tauwise::Result<()> {
             c.labelled_drift,
             c.mean_edf,
             c.monte_carlo_edf,
+            c.monte_carlo_edf_right,
             c.mean_ratio
         );
     }

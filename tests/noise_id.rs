@@ -362,19 +362,19 @@ fn theo_statistics_do_not_depend_on_the_grid() {
 }
 
 /// The literal `all` grid (every τ from τ0 to the last the estimator
-/// defines): on N = 64 records (FPM, and WFM crossing into RWFM near
-/// τ = 9 s), every point of OADEV, TOTDEV, MDEV and OHDEV on `all` is
-/// identical — value, label, EDF, interval, bias — to the same τ asked
-/// alone (and every point of `octave` and `decade` with it). Seeded records
-/// from the simulator. Small N because every τ at T/τ ≤ 16 takes its
-/// interval from the quadratic form's distribution, whose CDF (Imhof's
-/// integral for a few dominant eigenvalues and many small ones) costs up
-/// to a few tenths of a second a value: N = 128 took 170 s on the loaded
-/// machine, N = 64 with three models 47 s. `all` at N = 4096 on FPM, FFM
-/// and the crossing record: `cargo run --release --example
-/// grid_independence`.
+/// defines): on N = 512 records (FPM, and WFM crossing into RWFM), every
+/// point of OADEV, TOTDEV, MDEV and OHDEV on `all` is identical — value,
+/// label, EDF, interval, bias — to the same τ asked alone (and every point
+/// of `octave` and `decade` with it). Seeded records from the simulator.
+/// Every τ at T/τ ≤ 16 takes its interval from the quadratic form's
+/// distribution; since its CDF is Talbot's contour where Ruben's series is
+/// long (instead of Imhof's integral, up to a few tenths of a second a
+/// value) N = 512 takes about 6 s (N = 128 took 170 s before). `all` at
+/// N = 4096 on FPM, FFM and the crossing record: `cargo run --release
+/// --example grid_independence`.
 #[test]
 fn the_all_grid_gives_what_each_tau_alone_gives() {
+    const ALL_N: usize = 512;
     use tauwise::tau::TauGrid;
     let four = [
         Estimator::Oadev,
@@ -382,9 +382,9 @@ fn the_all_grid_gives_what_each_tau_alone_gives() {
         Estimator::Mdev,
         Estimator::Ohdev,
     ];
-    let every: Vec<usize> = (1..64).collect();
+    let every: Vec<usize> = (1..ALL_N).collect();
     for (model, seed) in [("h1=1e-20", 41u64), ("h0=1e-22,h-2=1e-25", 43)] {
-        let rec = model_record(model, 64, seed, 0.0);
+        let rec = model_record(model, ALL_N, seed, 0.0);
         let n = compare_with_alone(
             &rec,
             &four,

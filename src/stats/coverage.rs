@@ -114,6 +114,11 @@ pub struct CoverageCell {
     pub mean_edf: f64,
     /// The EDF the spread of the values shows: 2·E[σ̂²]²/Var[σ̂²].
     pub monte_carlo_edf: f64,
+    /// The same over the records whose label at τ was the simulated type
+    /// (a record read as another type gets another bias correction and
+    /// spreads the values beyond what the interval of the right type
+    /// describes; NaN with fewer than two).
+    pub monte_carlo_edf_right: f64,
     /// Mean σ̂² over the true σ² (1 for an unbiased value).
     pub mean_ratio: f64,
 }
@@ -212,6 +217,10 @@ pub fn run(spec: &CoverageSpec) -> crate::Result<Vec<CoverageCell>> {
             let var = ratios.iter().map(|r| (r - mean).powi(2)).sum::<f64>()
                 / (ratios.len().max(2) - 1) as f64;
             let edfs: Vec<f64> = group.iter().filter_map(|s| s.4).collect();
+            let right: Vec<f64> = group.iter().filter(|s| s.6).map(|s| s.3).collect();
+            let mean_right = right.iter().sum::<f64>() / right.len().max(1) as f64;
+            let var_right = right.iter().map(|r| (r - mean_right).powi(2)).sum::<f64>()
+                / (right.len().max(2) - 1) as f64;
             cells.push(CoverageCell {
                 estimator: spec.estimators[k],
                 alpha,
@@ -227,6 +236,11 @@ pub fn run(spec: &CoverageSpec) -> crate::Result<Vec<CoverageCell>> {
                 labelled_drift: group.iter().filter(|s| s.7).count(),
                 mean_edf: edfs.iter().sum::<f64>() / edfs.len().max(1) as f64,
                 monte_carlo_edf: 2.0 * mean * mean / var,
+                monte_carlo_edf_right: if right.len() >= 2 {
+                    2.0 * mean_right * mean_right / var_right
+                } else {
+                    f64::NAN
+                },
                 mean_ratio: mean,
             });
         }

@@ -938,10 +938,10 @@ pub const PRODUCT_DIRECT_NODES_PER_SIGMA: f64 = 3.0;
 /// [`PREPARED_MIN_TERMS`] terms — the choice [`weighted_chi2`] makes (the
 /// number of terms for a remainder below 1e−10 is
 /// ln(1e−10)/ln(1 − λ_min/λ_max), Ruben's series up to
-/// [`weighted_chi2::RUBEN_MAX_TERMS`], Imhof's integral beyond). Then
+/// [`weighted_chi2::RUBEN_MAX_TERMS`], Talbot's contour beyond). Then
 /// preparing its coefficients costs far more than a value, and the outer
 /// integral over Q ([`ProductTable`]: one prepared CDF for a few hundred
-/// values) is the cheap route; otherwise (Imhof's integral, or a short
+/// values) is the cheap route; otherwise (the contour, or a short
 /// series), where every value costs the same, the outer integral over R
 /// ([`product_quantile`]) asks for fewer values. Both compute the same
 /// integral; the choice only changes the time (`tests/edf.rs` holds both

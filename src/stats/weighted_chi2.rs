@@ -27,6 +27,39 @@
 //! With few weights the remainder decays slowly (as U^{−k/2}); the
 //! integration stops after [`MAX_PANELS`] panels.
 //!
+//! # Talbot's contour
+//!
+//! Imhof's integral runs along the real axis of the characteristic
+//! function, where the integrand oscillates at the rate x/2 and decays only
+//! as u^{−k/2}: in the far upper tail (x many times the mean, which the
+//! product quantiles of TheoH's interval ask for) it needed up to 1500
+//! panels. [`cdf_with`] therefore inverts the Laplace transform instead,
+//! L(s) = E\[e^{−sQ}\] = Π_i (1 + 2λ_i s)^{−h_i/2}, whose singularities lie
+//! on the negative real axis (branch points at −1/(2λ_i)), along a contour
+//! that wraps around them: the fixed Talbot contour of J. Abate and
+//! P. P. Valkó, "Multi-precision Laplace transform inversion", Int. J.
+//! Numer. Meth. Engng 60 (2004) 979–993 (after A. Talbot, J. Inst. Maths
+//! Applics 23 (1979) 97–120), with M nodes:
+//!
+//! f(x) ≈ (r/M)·\[½ F(r) e^{rx} + Σ_{k=1}^{M−1} Re(e^{x s_k} F(s_k)(1 + iσ_k))\],
+//!
+//! s_k = r θ_k (cot θ_k + i), σ_k = θ_k + (θ_k cot θ_k − 1) cot θ_k,
+//! θ_k = kπ/M, r = 2M/(5x), with F(s) = L(s)/s for the CDF (x at or below
+//! the mean) and F(s) = (1 − L(s))/s for P(Q > x) (above the mean, so that
+//! a small upper tail is not the difference of two numbers near 1). Along
+//! the contour e^{xs} decays, so the trapezoid rule in θ converges
+//! geometrically (about 10^{−0.6M}) while rounding grows as e^{0.4M}·ε:
+//! M = [`CONTOUR_NODES`].0 = 24 gives about 1e−12 absolute.
+//!
+//! The contour cannot follow a distribution that is nearly shifted — a
+//! lumped term of many degrees of freedom whose mean lies above x makes
+//! L(s) grow like e^{−μs} in the left half-plane (Talbot's method fails on
+//! delays). Each value is therefore computed with [`CONTOUR_NODES`].0 and
+//! .1 (= 32) nodes; where the two differ by more than [`CONTOUR_AGREE`], or
+//! either is not finite, Imhof's integral answers. `tests/edf.rs` checks
+//! the contour against Imhof's integral, Ruben's series and seeded Monte
+//! Carlo.
+//!
 //! # Ruben's series
 //!
 //! Where the weights are few or alike, [`cdf`] uses instead the exact
@@ -36,8 +69,9 @@
 //! a mixture of χ²_{k+2j} CDFs with positive weights summing to one, whose
 //! truncation error is the weight left out. It converges geometrically with
 //! ratio 1 − λ_min/λ_max and is chosen when at most [`RUBEN_MAX_TERMS`]
-//! terms reach a remainder of 1e−10; Imhof's integral otherwise (many
-//! weights spread widely, where its integrand decays fast).
+//! terms reach a remainder of 1e−10; Talbot's contour otherwise (many
+//! weights spread widely), Imhof's integral where the contour does not
+//! confirm itself.
 
 use crate::error::{Error, Result};
 
@@ -45,6 +79,13 @@ use crate::error::{Error, Result};
 pub const TAIL_TOLERANCE: f64 = 1e-7;
 /// At most this many quadrature panels per CDF value.
 pub const MAX_PANELS: usize = 400_000;
+
+/// The node counts of the two contour sums each CDF value by Talbot's
+/// contour is computed with (module notes).
+pub const CONTOUR_NODES: (usize, usize) = (24, 32);
+/// The two contour sums must agree within this (absolute, on the CDF) for
+/// the contour's value to stand; Imhof's integral answers otherwise.
+pub const CONTOUR_AGREE: f64 = 1e-9;
 
 /// Gauss–Legendre nodes and weights on [−1, 1], 8 points (Abramowitz &
 /// Stegun Table 25.4).
@@ -55,7 +96,7 @@ const GL8: [(f64, f64); 4] = [
     (0.960_289_856_497_536, 0.101_228_536_290_376),
 ];
 
-/// P(Σ λ_i χ²₁,i ≤ x) for positive weights `lambdas` (Imhof 1961; module
+/// P(Σ λ_i χ²₁,i ≤ x) for positive weights `lambdas` (Ruben 1962, Talbot contour or Imhof 1961; module
 /// notes). Weights that are not positive and finite are ignored; `x ≤ 0`
 /// gives 0.
 ///
@@ -95,14 +136,15 @@ pub fn cdf_with(terms: &[(f64, f64)], x: f64) -> f64 {
 /// result (the same operations in the same order).
 enum Method {
     Ruben(RubenMixture),
-    Imhof(Vec<(f64, f64)>),
+    /// Talbot's contour, Imhof's integral where it does not confirm itself.
+    Contour(Vec<(f64, f64)>),
 }
 
 impl Method {
     fn of(lam: Vec<(f64, f64)>) -> Self {
         match ruben_terms(&lam) {
             Some(j) => Method::Ruben(RubenMixture::new(&lam, j)),
-            None => Method::Imhof(lam),
+            None => Method::Contour(lam),
         }
     }
 
@@ -133,7 +175,7 @@ impl Method {
     fn cdf(&self, x: f64) -> f64 {
         match self {
             Method::Ruben(r) => r.cdf(x),
-            Method::Imhof(lam) => imhof(lam, x),
+            Method::Contour(lam) => contour_or_imhof(lam, x),
         }
     }
 }
@@ -153,6 +195,68 @@ pub fn imhof_cdf(lambdas: &[f64], x: f64) -> f64 {
         return if x > 0.0 { 1.0 } else { 0.0 };
     }
     imhof(&lam, x)
+}
+
+/// [`cdf`] by Talbot's contour alone with `nodes` nodes (for
+/// cross-checks; `None` where the sum is not finite).
+pub fn contour_cdf(lambdas: &[f64], x: f64, nodes: usize) -> Option<f64> {
+    let lam = clean(&lambdas.iter().map(|&l| (l, 1.0)).collect::<Vec<_>>());
+    if lam.is_empty() || !(x > 0.0) {
+        return Some(if x > 0.0 { 1.0 } else { 0.0 });
+    }
+    contour(&lam, x, nodes.max(2))
+}
+
+/// The CDF [`cdf_with`] takes where Ruben's series is long (`lam` cleaned,
+/// not empty): Talbot's contour with [`CONTOUR_NODES`].0 nodes where it
+/// agrees with [`CONTOUR_NODES`].1 within [`CONTOUR_AGREE`], otherwise
+/// Imhof's integral (module notes).
+fn contour_or_imhof(lam: &[(f64, f64)], x: f64) -> f64 {
+    match (
+        contour(lam, x, CONTOUR_NODES.0),
+        contour(lam, x, CONTOUR_NODES.1),
+    ) {
+        (Some(a), Some(b)) if (a - b).abs() <= CONTOUR_AGREE => a.clamp(0.0, 1.0),
+        _ => imhof(lam, x),
+    }
+}
+
+/// P(Σλ_iχ²_{h_i} ≤ x) by the fixed Talbot contour with `m` nodes
+/// (module notes): the CDF from F(s) = L(s)/s at x up to the mean, one
+/// minus the upper tail from F(s) = (1 − L(s))/s beyond. Each term
+/// e^{xs}F(s) is formed from one exponent (x·s + ln L(s)), so that a large
+/// L(s) against a small e^{xs} does not overflow. Not clamped; `None` when
+/// not finite.
+fn contour(lam: &[(f64, f64)], x: f64, m: usize) -> Option<f64> {
+    use rustfft::num_complex::Complex64 as C;
+    let mean: f64 = lam.iter().map(|&(l, h)| l * h).sum();
+    let upper = x > mean;
+    let mf = m as f64;
+    let r = 2.0 * mf / (5.0 * x);
+    // e^{xs}·F(s).
+    let term = |s: C| -> C {
+        let mut log_l = C::new(0.0, 0.0);
+        for &(l, h) in lam {
+            log_l -= 0.5 * h * (1.0 + 2.0 * l * s).ln();
+        }
+        let both = (x * s + log_l).exp();
+        if upper {
+            ((x * s).exp() - both) / s
+        } else {
+            both / s
+        }
+    };
+    let mut sum = 0.5 * term(C::new(r, 0.0)).re;
+    for k in 1..m {
+        let theta = k as f64 * std::f64::consts::PI / mf;
+        let cot = theta.cos() / theta.sin();
+        let s = C::new(r * theta * cot, r * theta);
+        let sigma = theta + (theta * cot - 1.0) * cot;
+        sum += (term(s) * C::new(1.0, sigma)).re;
+    }
+    let v = r / mf * sum;
+    let p = if upper { 1.0 - v } else { v };
+    p.is_finite().then_some(p)
 }
 
 /// [`cdf`] by Ruben's series alone, with up to `terms` terms (for
@@ -517,7 +621,7 @@ mod tests {
         }
         match ruben_terms(&lam) {
             Some(j) => ruben_direct(&lam, x, j),
-            None => imhof(&lam, x),
+            None => contour_or_imhof(&lam, x),
         }
     }
 
@@ -535,6 +639,145 @@ mod tests {
             dominant,
             (1..60).map(|i| (1.0 / (i * i) as f64, 1.0)).collect(),
         ]
+    }
+
+    /// Weight sets where Ruben's series is long, so the contour answers:
+    /// the slow case of Imhof's integral from `stability --dev theoh` on a
+    /// 10^5-point record (a few large eigenvalues of Theo1's form at
+    /// T/τ ≈ 4 and one lumped term), one with more weights, a wide spread,
+    /// and a nearly shifted one (a lumped term of 300 degrees of freedom)
+    /// where the contour must give way to Imhof's integral below its mean.
+    fn contour_sets() -> Vec<Vec<(f64, f64)>> {
+        vec![
+            vec![
+                (0.347786407589415, 1.0),
+                (0.30134143103895505, 1.0),
+                (0.15779800335075048, 1.0),
+                (0.05787034425234455, 1.0),
+                (0.025767595719323064, 1.0),
+                (0.02382864047034923, 1.0),
+                (0.015758659399150846, 1.0),
+                (0.013128092672917265, 1.0),
+                (0.007566993371279785, 1.0),
+                (0.0074700601634341765, 1.0),
+                (0.007029122399506108, 1.0),
+                (0.0018732244621520622, 18.49999841063442),
+            ],
+            vec![
+                (0.1571929692436698, 1.0),
+                (0.15432149250952243, 1.0),
+                (0.13197458012052418, 1.0),
+                (0.12082365318958749, 1.0),
+                (0.09616267101544614, 1.0),
+                (0.07907605505214553, 1.0),
+                (0.04765024252858258, 1.0),
+                (0.047188674912327894, 1.0),
+                (0.02570854210478926, 1.0),
+                (0.014467306209846256, 1.0),
+                (0.012950984392095617, 1.0),
+                (0.0031657352728430995, 1.0),
+                (0.001138243005584211, 33.87475502940092),
+            ],
+            vec![(1.0, 1.0), (2e-6, 500.0)],
+            vec![(0.9, 1.0), (0.1 / 300.0, 300.0)],
+        ]
+    }
+
+    /// P(λ₁χ²₁ + g·χ²_h ≤ x) by the direct integral over the second term
+    /// (analytic: E_G\[F_{χ²₁}((x − 2gG)/λ₁)\], G ~ Gamma(h/2, 1), F_{χ²₁}(y)
+    /// = erf(√(y/2))), the midpoint rule on ±12 standard deviations of G.
+    fn two_term_cdf(l1: f64, (g, h): (f64, f64), x: f64) -> f64 {
+        use statrs::function::{erf::erf, gamma::ln_gamma};
+        let a = 0.5 * h;
+        let (lo, hi) = ((a - 12.0 * a.sqrt()).max(0.0), a + 12.0 * a.sqrt());
+        let n = 200_000;
+        let d = (hi - lo) / n as f64;
+        let lg = ln_gamma(a);
+        (0..n)
+            .map(|i| {
+                let gg = lo + (i as f64 + 0.5) * d;
+                let y = (x - 2.0 * g * gg) / l1;
+                let f = if y > 0.0 { erf((0.5 * y).sqrt()) } else { 0.0 };
+                ((a - 1.0) * gg.ln() - gg - lg).exp() * d * f
+            })
+            .sum()
+    }
+
+    /// Talbot's contour (the fast route) against Imhof's integral (the
+    /// route it replaces, Imhof 1961) — within 1e−6 absolute on the CDF,
+    /// from the far lower tail to 26 times the mean — and against Ruben's
+    /// exact series run long enough (remainder below 1e−10; Farebrother
+    /// 1984) where it can be: within 1e−9; on two terms spread widely or
+    /// nearly shifted (where Imhof's integral itself errs by up to 2e−6),
+    /// against the direct integral over the second term: within 1e−8. The
+    /// quantiles at the levels the intervals and the product tables use
+    /// agree with those of Imhof's integral (p = 0.025 … 0.975) and of
+    /// Ruben's series (p = 1e−6 … 1 − 1e−6) within 1e−6 relative.
+    #[test]
+    fn contour_agrees_with_imhof_and_ruben() {
+        for (n, w) in contour_sets().into_iter().enumerate() {
+            let lam = clean(&w);
+            let mean: f64 = lam.iter().map(|(l, h)| l * h).sum();
+            for &f in &[0.02, 0.05, 0.1, 0.3, 0.6, 1.0, 1.5, 3.0, 6.0, 12.0, 26.0] {
+                let x = f * mean;
+                let got = contour_or_imhof(&lam, x);
+                if n < 2 {
+                    let im = imhof(&lam, x);
+                    assert!(
+                        (got - im).abs() < 1e-6,
+                        "set {n} x={x}: {got} vs Imhof {im}"
+                    );
+                } else {
+                    // Two terms: the direct integral over the second. Where
+                    // the contour gives way (the shifted set below its lumped
+                    // term's mean), the value is Imhof's integral's, whose
+                    // own error there reaches 6e−6.
+                    let want = two_term_cdf(lam[0].0, lam[1], x);
+                    let stands = matches!(
+                        (contour(&lam, x, CONTOUR_NODES.0), contour(&lam, x, CONTOUR_NODES.1)),
+                        (Some(a), Some(b)) if (a - b).abs() <= CONTOUR_AGREE
+                    );
+                    if stands {
+                        assert!((got - want).abs() < 1e-8, "set {n} x={x}: {got} vs {want}");
+                    } else {
+                        assert_eq!(got.to_bits(), imhof(&lam, x).to_bits());
+                        assert!((got - want).abs() < 1e-5, "set {n} x={x}: {got} vs {want}");
+                    }
+                }
+                if n < 2 {
+                    let rb = ruben(&lam, x, 6000);
+                    assert!(
+                        (got - rb).abs() < 1e-9,
+                        "set {n} x={x}: {got} vs Ruben {rb}"
+                    );
+                }
+            }
+            for &p in &[1e-6, 0.025, 0.1585, 0.5, 0.8415, 0.975, 1.0 - 1e-6] {
+                let got = quantile_with(&w, p).unwrap();
+                // Imhof's integral is accurate to about 1e−7 absolute, too
+                // coarse for a quantile at p = 1e−6; Ruben's series is not.
+                if n < 2 && (0.01..=0.99).contains(&p) {
+                    let want = search_quantile(&lam, p, |x| imhof(&lam, x)).unwrap();
+                    assert!(
+                        (got / want - 1.0).abs() < 1e-6,
+                        "set {n} p={p}: {got} vs {want}"
+                    );
+                }
+                if n < 2 {
+                    let want = search_quantile(&lam, p, |x| ruben(&lam, x, 6000)).unwrap();
+                    assert!(
+                        (got / want - 1.0).abs() < 1e-6,
+                        "set {n} p={p}: {got} vs {want}"
+                    );
+                }
+            }
+        }
+        // The nearly shifted set takes Imhof's integral below its lumped
+        // term's mean (the contour's two sums disagree there).
+        let shifted = clean(&contour_sets()[3]);
+        let a = contour(&shifted, 0.05, CONTOUR_NODES.0);
+        let b = contour(&shifted, 0.05, CONTOUR_NODES.1);
+        assert!(!matches!((a, b), (Some(a), Some(b)) if (a - b).abs() <= CONTOUR_AGREE));
     }
 
     /// Computing Ruben's coefficients once per set of weights is an exact
