@@ -455,7 +455,10 @@ impl Plan {
             .zip(&self.t[r.clone()])
             .zip(&self.unit[r]);
         for (x, ((b, t), u)) in seg.iter_mut().zip(parts) {
-            *x = b + dy * t + dd * u + *x;
+            // Added in this order (the noise last), as every prediction
+            // has made it: the same value to the last bit.
+            let noise = *x;
+            *x = b + dy * t + dd * u + noise;
         }
     }
 }
