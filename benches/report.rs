@@ -7,8 +7,8 @@
 //!   slowest single-device report.
 //!
 //! `cargo build --release && cargo bench --bench report` (or `… -- 5` for
-//! five runs of each; the median is printed, default 3). `TAUWISE_BIN=PATH`
-//! times another build of the binary for part 1, and
+//! five runs of each, default 3; the median is printed, and the least run).
+//! `TAUWISE_BIN=PATH` times another build of the binary for part 1, and
 //! `TAUWISE_BIN_BEFORE=PATH` a second build (e.g. one made before a change)
 //! in the same interleaved runs, so that both see the same load.
 //!
@@ -154,8 +154,12 @@ fn main() {
             );
             let mut medians = Vec::new();
             for ((name, _), (w, c)) in jobs.iter().zip(times.iter_mut()) {
+                // The least of the runs as well: on a shared machine the
+                // run that waited least for a core.
+                let least = |v: &[f64]| v.iter().copied().fold(f64::INFINITY, f64::min);
+                let (wl, cl) = (least(w), least(c));
                 let (w, c) = (median(w), median(c));
-                println!("  {name:<7} wall {w:.3} s  cpu {c:.2} s");
+                println!("  {name:<7} wall {w:.3} s (least {wl:.3})  cpu {c:.2} s (least {cl:.2})");
                 medians.push((w, c));
             }
             let (fw, fc) = medians[names.len()];

@@ -442,3 +442,63 @@ fn limit_columns_in_the_matrix() {
     let v: Verdict = serde_json::from_value(cell_a["verdict"].clone()).unwrap();
     assert_eq!(v, Verdict::Meets);
 }
+
+/// Issue 12: the column of a single-value limit (max|TE| over the record
+/// of the built-in G.8272 PRTC class A limits: 100 ns, values from memory)
+/// is headed by the check and its limit only; the whole criterion — the
+/// limit file, its line and the file's note — is the header's tooltip and
+/// is listed under the matrix, escaped. Seeded white-FM records (WFM h0 =
+/// 1e-24, Kasdin & Walter synthesis).
+#[test]
+fn a_single_value_limit_has_a_short_column_header() {
+    let dir = tempfile::tempdir().unwrap();
+    let d = dir.path();
+    let mut args: Vec<std::ffi::OsString> = vec!["report".into()];
+    for (name, seed) in [("p", 21u64), ("q", 22)] {
+        let mut m = PowerLaw::zero(0.5);
+        m.set(0, 1e-24);
+        let x = simulate_phase(&SimSpec::new(m, 1.0, 3000, seed)).unwrap();
+        let text: String = x.x.iter().map(|v| format!("{}\n", v * 1e9)).collect();
+        fs::write(d.join(format!("{name}.csv")), text).unwrap();
+        fs::write(
+            d.join(format!("{name}.toml")),
+            format!(
+                "[device]\nname = \"{name}\"\n[[record]]\npath = \"{name}.csv\"\ntau0 = \"1s\"\nunits = \"ns\"\n\
+                 [wander]\nmasks = [\"g8272-prtc-a\"]\n"
+            ),
+        )
+        .unwrap();
+        args.push(format!("{name}.toml").into());
+    }
+    args.extend(["-o".into(), "fleet.html".into()]);
+    let refs: Vec<&std::ffi::OsStr> = args.iter().map(|a| a.as_os_str()).collect();
+    run_ok(d, &refs);
+    let html = fs::read_to_string(d.join("fleet.html")).unwrap();
+    let doc = Html::parse_document(&html);
+    let th = Selector::parse("section#matrix table.matrix thead th").unwrap();
+    let head = doc
+        .select(&th)
+        .find(|h| h.text().collect::<String>().contains("max|TE|"))
+        .expect("a max|TE| column");
+    let words: String = head.text().collect();
+    assert!(words.contains("max|TE| ≤ 100.0 ns"), "{words}");
+    assert!(
+        !words.contains("memory") && !words.contains("line"),
+        "{words}"
+    );
+    assert!(words.chars().count() < 80, "short: {words}");
+    let title = head.value().attr("title").expect("the whole criterion");
+    assert!(
+        title.contains("recalled from memory") && title.contains("(line "),
+        "{title}"
+    );
+    let li = Selector::parse("section#matrix li").unwrap();
+    assert!(doc
+        .select(&li)
+        .any(|l| l.text().collect::<String>().ends_with(title)));
+    // The other columns keep their criterion in the header.
+    assert!(doc.select(&th).any(|h| h
+        .text()
+        .collect::<String>()
+        .contains("below the mask at every τ")));
+}

@@ -47,6 +47,7 @@ fn full_report(name: &str) -> Report {
     r.dut_file = Some("duts/<x>.toml".into());
     r.verdicts = vec![
         VerdictLine {
+            brief: None,
             kind: VerdictKind::Mask,
             item: "g8262-opt1".into(),
             criterion: "MTIE".into(),
@@ -56,6 +57,7 @@ fn full_report(name: &str) -> Report {
             hold_time: None,
         },
         VerdictLine {
+            brief: None,
             kind: VerdictKind::Jitter,
             item: "12k:20M".into(),
             criterion: "≤ 1 ps".into(),
@@ -65,6 +67,7 @@ fn full_report(name: &str) -> Report {
             hold_time: None,
         },
         VerdictLine {
+            brief: None,
             kind: VerdictKind::Holdover,
             item: "24 h".into(),
             criterion: "p95 ≤ 1.5 µs".into(),

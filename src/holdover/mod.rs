@@ -337,7 +337,10 @@ pub fn predict_spans(model: &HoldoverModel, settings: &[Settings]) -> Result<Vec
 /// paths of 4096 steps where their table took 66 MB), and each path's first
 /// step out of the budget and its TE at the output times; the percentiles
 /// are then those of the whole set of paths, exactly (the reference test
-/// keeps the table of every path and step).
+/// keeps the table of every path and step). Each worker draws 32 paths at a
+/// time and holds their unit paths (at most 5 terms × 32 × (steps + 1) × 8
+/// bytes, 5.2 MB at 4096 steps); the jobs' time errors are made from them
+/// a tile of 256 steps at a time and never held whole.
 ///
 /// A job whose model or settings are refused gets its own error; the
 /// others are made.
@@ -431,20 +434,31 @@ impl Plan {
         })
     }
 
-    /// The signed TE of one path at steps 1 … n (without the worst-case
-    /// temperature term) from its noise path `x` (x_0 … x_n) and its y0 and
-    /// aging errors (z1, z2) drawn jointly normal with correlation ρ.
-    fn row(&self, (z1, z2): (f64, f64), x: &[f64], row: &mut [f64]) {
+    /// The errors (δy0, δD) of y0 and of the aging parameter of a path
+    /// whose two standard normals are (z1, z2): jointly normal with the
+    /// standard uncertainties and correlation ρ.
+    fn errors(&self, (z1, z2): (f64, f64)) -> (f64, f64) {
         let rho = self.rho;
         let dy = self.sy0 * z1;
         let dd = self.sd * (rho * z1 + (1.0 - rho * rho).sqrt() * z2);
-        let parts = self.base[1..]
+        (dy, dd)
+    }
+
+    /// The signed TE of one path at steps k0 + 1 … k0 + seg.len() (without
+    /// the worst-case temperature term), in place: `seg` holds the path's
+    /// noise x at those steps and receives base + δy0·t + δD·TE_a/unit + x,
+    /// with its errors (δy0, δD) from [`Plan::errors`].
+    fn segment(&self, (dy, dd): (f64, f64), k0: usize, seg: &mut [f64]) {
+        let r = k0 + 1..k0 + 1 + seg.len();
+        let parts = self.base[r.clone()]
             .iter()
-            .zip(&self.t[1..])
-            .zip(&self.unit[1..])
-            .zip(&x[1..]);
-        for (r, (((b, t), u), x)) in row.iter_mut().zip(parts) {
-            *r = b + dy * t + dd * u + x;
+            .zip(&self.t[r.clone()])
+            .zip(&self.unit[r]);
+        for (x, ((b, t), u)) in seg.iter_mut().zip(parts) {
+            // Added in this order (the noise last), as every prediction
+            // has made it: the same value to the last bit.
+            let noise = *x;
+            *x = b + dy * t + dd * u + noise;
         }
     }
 }
@@ -472,12 +486,19 @@ fn union_alphas<'a>(plans: impl Iterator<Item = &'a Plan>) -> Vec<i32> {
         .collect()
 }
 
-/// Path pairs a worker takes at a time.
-const CHUNK_PAIRS: usize = 4;
+/// Paths a worker draws at a time (even, so that a batch is whole pairs).
+/// Each job's values of the batch are then taken tile by tile, the jobs
+/// inside each tile: the batch's unit paths at a tile's steps (at most
+/// 5 × 32 × 256 × 8 bytes) stay in the core's cache for every job, and each
+/// kept-value buffer is visited once for 32 paths instead of once a path.
+const BATCH_PATHS: usize = 32;
 
-/// The jobs of one group (same seed, paths and steps), together: each pair
-/// of paths drawn once for the union of the terms, then each job's rows
-/// summarised on the fly ([`Collector::feed`]).
+/// The jobs of one group (same seed, paths and steps), together: each
+/// batch of paths drawn once for the union of the terms
+/// ([`paths::PathWorkspace::draw_batch`]), then, tile of steps by tile of
+/// steps, each job's TE of those paths at those steps made and taken by
+/// its summary ([`Collector::scan_segment`], [`Tile::push`]); no row of a
+/// path is held whole.
 fn simulate_jobs(jobs: &[(&HoldoverModel, &Settings, &Plan)]) -> Vec<Prediction> {
     use std::sync::atomic::{AtomicU64, AtomicUsize, Ordering::Relaxed};
     let s0 = jobs[0].1;
@@ -496,56 +517,64 @@ fn simulate_jobs(jobs: &[(&HoldoverModel, &Settings, &Plan)]) -> Vec<Prediction>
         .iter()
         .map(|c| (0..np * c.ks.len()).map(|_| AtomicU64::new(0)).collect())
         .collect();
-    let pairs = np.div_ceil(2);
-    let chunks = pairs.div_ceil(CHUNK_PAIRS);
+    let batches = np.div_ceil(BATCH_PATHS);
     let tops: Vec<TopValues> = jobs.iter().map(|_| TopValues::new(n, keep)).collect();
-    let lanes = rayon::current_num_threads().min(chunks).max(1);
+    let tiles = tops.first().map_or(0, |t| t.tiles.len());
+    let lanes = rayon::current_num_threads().min(batches).max(1);
     let next = AtomicUsize::new(0);
-    // Each lane takes the next chunk of pairs until none is left, so a
+    // Each lane takes the next batch of paths until none is left, so a
     // busy core slows only its own lane.
     (0..lanes).into_par_iter().for_each(|_| {
         let mut ws = paths::PathWorkspace::default();
-        let mut x = vec![0.0f64; n + 1];
-        // Each job's rows of the chunk's paths, pushed into its kept
-        // values together (tile by tile) once the chunk is drawn.
-        let mut rows: Vec<Vec<f64>> = jobs
-            .iter()
-            .map(|_| vec![0.0f64; 2 * CHUNK_PAIRS * n])
-            .collect();
-        let mut at = Vec::new();
+        let mut seg = [0.0f64; STEP_TILE];
+        // Per job: each path's (δy0, δD), first step out of the budget and
+        // TE at the output steps, for the batch.
+        let mut errors: Vec<Vec<(f64, f64)>> = vec![Vec::new(); jobs.len()];
+        let mut firsts: Vec<Vec<usize>> = vec![Vec::new(); jobs.len()];
+        let mut ats: Vec<Vec<f64>> = vec![Vec::new(); jobs.len()];
         loop {
             let c = next.fetch_add(1, Relaxed);
-            if c >= chunks {
+            if c >= batches {
                 break;
             }
-            let first_pair = c * CHUNK_PAIRS;
-            let last_pair = ((c + 1) * CHUNK_PAIRS).min(pairs);
-            let (p0, p1) = (2 * first_pair, (2 * last_pair).min(np));
-            for i in first_pair..last_pair {
-                let pa = 2 * i;
-                let pb = (2 * i + 1 < np).then_some(2 * i + 1);
-                ws.draw_pair(&alphas, n, seed, pa, pb);
-                let mut members = vec![(pa, false, path_errors(seed, pa))];
-                if let Some(pb) = pb {
-                    members.push((pb, true, path_errors(seed, pb)));
-                }
-                for (j, ((_, _, plan), col)) in jobs.iter().zip(&collectors).enumerate() {
-                    at.resize(col.ks.len(), 0.0);
-                    for &(p, b, e) in &members {
-                        let row = &mut rows[j][(p - p0) * n..(p - p0 + 1) * n];
-                        ws.path(&plan.scales, b, &mut x);
-                        plan.row(e, &x, row);
-                        let fo = col.scan(row, &mut at);
-                        first_out[j][p].store(fo, Relaxed);
-                        let nks = at.len();
-                        for (slot, v) in at_ks[j][p * nks..(p + 1) * nks].iter().zip(&at) {
-                            slot.store(v.to_bits(), Relaxed);
-                        }
+            let (p0, p1) = (c * BATCH_PATHS, ((c + 1) * BATCH_PATHS).min(np));
+            ws.draw_batch(&alphas, n, seed, p0, p1);
+            let z: Vec<(f64, f64)> = (p0..p1).map(|p| path_errors(seed, p)).collect();
+            for (j, (&(_, _, plan), col)) in jobs.iter().zip(&collectors).enumerate() {
+                errors[j].clear();
+                errors[j].extend(z.iter().map(|&e| plan.errors(e)));
+                firsts[j].clear();
+                firsts[j].resize(p1 - p0, col.never_out());
+                ats[j].clear();
+                ats[j].resize((p1 - p0) * col.ks.len(), 0.0);
+            }
+            // Tiles from a different one per batch, so that the lanes
+            // seldom wait for one another.
+            for t in (0..tiles).map(|t| (c + t) % tiles) {
+                for (j, (&(_, _, plan), col)) in jobs.iter().zip(&collectors).enumerate() {
+                    let mut tile = tops[j].lock(t);
+                    let (k0, width) = (tile.start, tile.len.len());
+                    tile.warm();
+                    let seg = &mut seg[..width];
+                    let nks = col.ks.len();
+                    for (i, &e) in errors[j].iter().enumerate() {
+                        ws.segment(&plan.scales, i, k0 + 1, seg);
+                        plan.segment(e, k0, seg);
+                        let at = &mut ats[j][i * nks..(i + 1) * nks];
+                        col.scan_segment(k0, seg, &mut firsts[j][i], at);
+                        tile.push(seg, &col.added_p95[k0..k0 + width]);
                     }
                 }
             }
-            for ((top, col), r) in tops.iter().zip(&collectors).zip(&rows) {
-                top.push_rows(&r[..(p1 - p0) * n], &col.added_p95, c);
+            for (j, col) in collectors.iter().enumerate() {
+                let nks = col.ks.len();
+                for (i, &f) in firsts[j].iter().enumerate() {
+                    first_out[j][p0 + i].store(f, Relaxed);
+                }
+                let slots = &at_ks[j][p0 * nks..p1 * nks];
+                for (slot, v) in slots.iter().zip(&ats[j]) {
+                    slot.store(v.to_bits(), Relaxed);
+                }
             }
         }
     });
@@ -576,14 +605,13 @@ pub(crate) fn simulate_te(
     let (n, np, seed) = (settings.steps, settings.paths, settings.seed);
     let mut te = vec![0.0f64; np * n];
     te.par_chunks_mut(2 * n).enumerate().for_each_init(
-        || (paths::PathWorkspace::default(), vec![0.0f64; n + 1]),
-        |(ws, x), (i, rows)| {
+        paths::PathWorkspace::default,
+        |ws, (i, rows)| {
             let pa = 2 * i;
-            let pb = (2 * i + 1 < np).then_some(2 * i + 1);
-            ws.draw_pair(&plan.alphas, n, seed, pa, pb);
+            ws.draw_batch(&plan.alphas, n, seed, pa, (pa + 2).min(np));
             for (b, row) in rows.chunks_mut(n).enumerate() {
-                ws.path(&plan.scales, b == 1, x);
-                plan.row(path_errors(seed, pa + b), x, row);
+                ws.segment(&plan.scales, b, 1, row);
+                plan.segment(plan.errors(path_errors(seed, pa + b)), 0, row);
             }
         },
     );
@@ -617,7 +645,6 @@ fn lowest() -> f64 {
 /// average, about 2·keep + keep·ln(paths/(2·keep)) stores a step. Values
 /// are held as their [`order_key`], so that the cuts sort integers.
 struct TopValues {
-    n: usize,
     keep: usize,
     tiles: Vec<std::sync::Mutex<Tile>>,
 }
@@ -625,6 +652,8 @@ struct TopValues {
 /// The steps `start` … `start + len.len() − 1` of a [`TopValues`].
 struct Tile {
     start: usize,
+    /// Values kept a step at least (the buffers hold 2·keep).
+    keep: usize,
     len: Vec<usize>,
     /// Each step's threshold, as its [`order_key`] and as the f64 (a
     /// value v is a candidate when !(v ≤ threshold): every v above it in
@@ -633,6 +662,59 @@ struct Tile {
     thr: Vec<i64>,
     thr_f: Vec<f64>,
     buf: Vec<i64>,
+}
+
+impl Tile {
+    /// Read the place of each step's next kept value, so that the pushes
+    /// of a batch of paths find those lines in the core's cache instead of
+    /// waiting for memory at each store (the loads are independent and
+    /// overlap; the kept values of all the jobs do not fit in a cache).
+    fn warm(&self) {
+        let cap = 2 * self.keep;
+        let mut acc = 0i64;
+        for (i, &l) in self.len.iter().enumerate() {
+            acc ^= self.buf[i * cap + l.min(cap - 1)];
+        }
+        std::hint::black_box(acc);
+    }
+
+    /// Take one path's values |TE| + `added[i]` at the tile's steps, its
+    /// signed TE being `seg[i]` at step start + i + 1 (`added` the
+    /// worst-case temperature term temp·(k·step) there).
+    fn push(&mut self, seg: &[f64], added: &[f64]) {
+        let (keep, cap) = (self.keep, 2 * self.keep);
+        let mut idx = [0u16; STEP_TILE];
+        let thr_f = &self.thr_f[..seg.len()];
+        // The candidates' places, written without a branch on a
+        // comparison that goes either way at random.
+        let mut m = 0;
+        for (i, ((te, c), thr)) in seg.iter().zip(added).zip(thr_f).enumerate() {
+            idx[m] = i as u16;
+            m += usize::from(!(te.abs() + c <= *thr));
+        }
+        for &i in &idx[..m] {
+            let i = usize::from(i);
+            let v = order_key(seg[i].abs() + added[i]);
+            // Above the threshold in the total order too, else it adds
+            // nothing (a NaN threshold passes every value).
+            if v <= self.thr[i] {
+                continue;
+            }
+            let kept = &mut self.buf[i * cap..(i + 1) * cap];
+            let l = self.len[i];
+            kept[l] = v;
+            if l + 1 == cap {
+                let cut = cap - keep;
+                kept.select_nth_unstable(cut);
+                self.thr[i] = kept[cut];
+                self.thr_f[i] = from_order_key(kept[cut]);
+                kept.copy_within(cut.., 0);
+                self.len[i] = keep;
+            } else {
+                self.len[i] = l + 1;
+            }
+        }
+    }
 }
 
 /// Steps held in one [`Tile`] (a multiple of [`STEP_BLOCK`]).
@@ -662,6 +744,7 @@ impl TopValues {
                 let len = STEP_TILE.min(n - start);
                 std::sync::Mutex::new(Tile {
                     start,
+                    keep,
                     len: vec![0; len],
                     thr: vec![order_key(lowest()); len],
                     thr_f: vec![lowest(); len],
@@ -669,7 +752,7 @@ impl TopValues {
                 })
             })
             .collect();
-        Self { n, keep, tiles }
+        Self { keep, tiles }
     }
 
     /// Working memory of one job, bytes.
@@ -677,57 +760,9 @@ impl TopValues {
         n as u128 * (2 * keep.max(1) as u128 * 8 + 16)
     }
 
-    /// Take the values |TE| + `added[k − 1]` (the worst-case temperature
-    /// term temp·(k·step)) of paths whose signed TE at steps 1 … n are
-    /// `rows` (path after path), tile by tile (starting at tile
-    /// `first`, so that workers seldom wait for one another), each tile's
-    /// steps for all the rows while it is held.
-    fn push_rows(&self, rows: &[f64], added: &[f64], first: usize) {
-        let (n, cap, keep) = (self.n, 2 * self.keep, self.keep);
-        if n == 0 || self.tiles.is_empty() {
-            return;
-        }
-        let count = self.tiles.len();
-        for t in 0..count {
-            let mut guard = self.tiles[(first + t) % count]
-                .lock()
-                .unwrap_or_else(|e| e.into_inner());
-            let tile = &mut *guard;
-            let (start, width) = (tile.start, tile.len.len());
-            let mut idx = [0u16; STEP_TILE];
-            for row in rows.chunks_exact(n) {
-                let (r, c) = (&row[start..start + width], &added[start..start + width]);
-                // The candidates' places, written without a branch on a
-                // comparison that goes either way at random.
-                let mut m = 0;
-                for (i, ((te, c), thr)) in r.iter().zip(c).zip(&tile.thr_f).enumerate() {
-                    idx[m] = i as u16;
-                    m += usize::from(!(te.abs() + c <= *thr));
-                }
-                for &i in &idx[..m] {
-                    let i = usize::from(i);
-                    let v = order_key(r[i].abs() + c[i]);
-                    // Above the threshold in the total order too, else it
-                    // adds nothing (a NaN threshold passes every value).
-                    if v <= tile.thr[i] {
-                        continue;
-                    }
-                    let kept = &mut tile.buf[i * cap..(i + 1) * cap];
-                    let l = tile.len[i];
-                    kept[l] = v;
-                    if l + 1 == cap {
-                        let cut = cap - keep;
-                        kept.select_nth_unstable(cut);
-                        tile.thr[i] = kept[cut];
-                        tile.thr_f[i] = from_order_key(kept[cut]);
-                        kept.copy_within(cut.., 0);
-                        tile.len[i] = keep;
-                    } else {
-                        tile.len[i] = l + 1;
-                    }
-                }
-            }
-        }
+    /// Tile `t` (steps t·[`STEP_TILE`] …), locked.
+    fn lock(&self, t: usize) -> std::sync::MutexGuard<'_, Tile> {
+        self.tiles[t].lock().unwrap_or_else(|e| e.into_inner())
     }
 
     /// Append the values kept at steps `k0 … k1 − 1` (0-based, within one
@@ -805,38 +840,46 @@ impl Collector {
         }
     }
 
-    /// One path's signed TE at steps 1 … n: its TE at the output steps
-    /// into `at`; returns the first step at which its |TE| (with the
-    /// worst-case temperature term) leaves the budget (n + 1: never within
-    /// the span; 0: already at the start, |te0| > budget). Its values for
-    /// each step's p95 go to [`TopValues::push_rows`].
-    fn scan(&self, row: &[f64], at: &mut [f64]) -> usize {
-        let (n, budget) = (self.n, self.budget);
-        let out = |(te, c): (&f64, &f64)| !(te.abs() + c <= budget);
-        let first = if self.out_at_start {
+    /// A path's first step out of the budget before any of its steps is
+    /// seen: 0 when |te0| > budget (out at the start), else n + 1 (never
+    /// within the span) until [`Collector::scan_segment`] finds one.
+    fn never_out(&self) -> usize {
+        if self.out_at_start {
             0
         } else {
+            self.n + 1
+        }
+    }
+
+    /// One path's signed TE at steps k0 + 1 … k0 + seg.len(): its TE at the
+    /// output steps among them into `at` (indexed as `ks`), and `first`
+    /// lowered to the first of them at which its |TE| (with the worst-case
+    /// temperature term) leaves the budget. Segments may come in any order;
+    /// after all of them `first` is the path's first step out of the budget
+    /// ([`Collector::never_out`] when none). Its values for each step's p95
+    /// go to [`Tile::push`].
+    fn scan_segment(&self, k0: usize, seg: &[f64], first: &mut usize, at: &mut [f64]) {
+        let budget = self.budget;
+        if *first > k0 + 1 {
+            let added = &self.added_budget[k0..k0 + seg.len()];
+            let out = |(te, c): (&f64, &f64)| !(te.abs() + c <= budget);
             // Blocks checked whole (no early exit inside, so the check runs
             // on several values at once), then the first step found in the
             // first block that has one.
-            let blocks = row.chunks(64).zip(self.added_budget.chunks(64));
-            let mut first = n + 1;
-            for (b, (r, c)) in blocks.enumerate() {
+            for (b, (r, c)) in seg.chunks(64).zip(added.chunks(64)).enumerate() {
                 if r.iter().zip(c).fold(false, |any, v| any | out(v)) {
-                    first = r
-                        .iter()
-                        .zip(c)
-                        .position(out)
-                        .map_or(n + 1, |i| b * 64 + i + 1);
+                    if let Some(i) = r.iter().zip(c).position(out) {
+                        *first = (*first).min(k0 + b * 64 + i + 1);
+                    }
                     break;
                 }
             }
-            first
-        };
-        for (slot, &k) in at.iter_mut().zip(&self.ks) {
-            *slot = row[k - 1];
         }
-        first
+        let lo = self.ks.partition_point(|&k| k <= k0);
+        let hi = self.ks.partition_point(|&k| k <= k0 + seg.len());
+        for (slot, &k) in at[lo..hi].iter_mut().zip(&self.ks[lo..hi]) {
+            *slot = seg[k - 1 - k0];
+        }
     }
 
     /// The prediction from every path's first step out of the budget
@@ -965,12 +1008,17 @@ pub(crate) fn summarise(
     let col = Collector::new(model, settings, n, step);
     let nks = col.ks.len();
     let top = TopValues::new(n, top_count(np));
-    let mut first_out = vec![0usize; np];
+    let mut first_out = vec![col.never_out(); np];
     let mut at = vec![0.0f64; np * nks];
-    for (p, row) in te.chunks(n).enumerate() {
-        first_out[p] = col.scan(row, &mut at[p * nks..(p + 1) * nks]);
+    for t in 0..top.tiles.len() {
+        let mut tile = top.lock(t);
+        let (k0, width) = (tile.start, tile.len.len());
+        for (p, row) in te.chunks(n).enumerate() {
+            let seg = &row[k0..k0 + width];
+            col.scan_segment(k0, seg, &mut first_out[p], &mut at[p * nks..(p + 1) * nks]);
+            tile.push(seg, &col.added_p95[k0..k0 + width]);
+        }
     }
-    top.push_rows(te, &col.added_p95, 0);
     Ok(col.finish(model, settings, &top, &first_out, &at))
 }
 

@@ -169,7 +169,7 @@ impl NoisePaths {
     /// The terms drawn, in the order they are drawn: (α, σ) with σ the
     /// standard deviation of the term's white noise at this step,
     /// [`white_sigma`]`(α, h_α, Δ)`. A path is Σ σ·u over the terms, u the
-    /// term's unit path ([`PathWorkspace::draw_pair`]).
+    /// term's unit path ([`PathWorkspace::draw_batch`]).
     pub fn scales(&self) -> Vec<(i32, f64)> {
         self.terms
             .iter()
@@ -215,46 +215,55 @@ pub fn stream_rng(seed: u64, stream: u64) -> ChaCha8Rng {
 }
 
 /// Working memory of the Monte Carlo's unit paths, one per worker: the
-/// unit paths of the last pair drawn ([`PathWorkspace::draw_pair`]), one
-/// per exponent α (slot 2 − α).
+/// unit paths of the last batch of paths drawn
+/// ([`PathWorkspace::draw_batch`]), one buffer per exponent α (slot 2 − α),
+/// path after path.
 #[derive(Debug, Default)]
 pub struct PathWorkspace {
     fft: PairWorkspace,
-    ua: [Vec<f64>; 5],
-    ub: [Vec<f64>; 5],
+    units: [Vec<f64>; 5],
+    /// Samples per path (n + 1) and paths in the batch.
+    len: usize,
+    count: usize,
 }
 
 impl PathWorkspace {
-    /// Draw the unit path (white noise of standard deviation 1,
+    /// Draw the unit paths (white noise of standard deviation 1,
     /// [`crate::simulate::unit_phase_pair`]) of each term α in `alphas`
-    /// for Monte Carlo path `pa`, and for path `pb` when given: n + 1
+    /// for the Monte Carlo paths `first … last − 1` (`first` even): n + 1
     /// samples each, relative to the first, term α of path p from its own
-    /// stream ([`term_stream`]) of `seed`. σ-weighted sums of these unit
-    /// paths ([`PathWorkspace::path`]) are the noise paths of any model
-    /// whose terms are among `alphas`, at any step; the flicker terms of
-    /// the two paths share one FFT pair.
-    pub fn draw_pair(&mut self, alphas: &[i32], n: usize, seed: u64, pa: usize, pb: Option<usize>) {
+    /// stream ([`term_stream`]) of `seed`. The paths are drawn in the
+    /// pairs (2i, 2i + 1) — the last one alone when `last` is odd — whose
+    /// flicker terms share one FFT pair, so a path's values do not depend
+    /// on how the paths are batched. σ-weighted sums of these unit paths
+    /// ([`PathWorkspace::path`], [`PathWorkspace::segment`]) are the noise
+    /// paths of any model whose terms are among `alphas`, at any step.
+    ///
+    /// # Panics
+    /// When `first` is odd or `last < first`.
+    pub fn draw_batch(&mut self, alphas: &[i32], n: usize, seed: u64, first: usize, last: usize) {
+        assert!(
+            first % 2 == 0 && last >= first,
+            "a batch starts a pair and is not empty"
+        );
         let len = n + 1;
+        let count = last - first;
+        (self.len, self.count) = (len, count);
         for &alpha in alphas {
-            let slot = (2 - alpha) as usize;
-            let mut ra = stream_rng(seed, term_stream(pa, alpha));
-            let (ua, ub) = (&mut self.ua[slot], &mut self.ub[slot]);
-            ua.resize(len, 0.0);
-            match pb {
-                Some(pb) => {
-                    ub.resize(len, 0.0);
-                    let mut rb = stream_rng(seed, term_stream(pb, alpha));
-                    unit_phase_pair(
-                        alpha,
-                        &mut ra,
-                        ua,
-                        Some((&mut rb, &mut ub[..])),
-                        &mut self.fft,
-                    );
+            let units = &mut self.units[(2 - alpha) as usize];
+            units.resize(count * len, 0.0);
+            for (i, pair) in units.chunks_mut(2 * len).enumerate() {
+                let pa = first + 2 * i;
+                let mut ra = stream_rng(seed, term_stream(pa, alpha));
+                let (ua, ub) = pair.split_at_mut(len);
+                if ub.is_empty() {
+                    unit_phase_pair(alpha, &mut ra, ua, None, &mut self.fft);
+                } else {
+                    let mut rb = stream_rng(seed, term_stream(pa + 1, alpha));
+                    unit_phase_pair(alpha, &mut ra, ua, Some((&mut rb, ub)), &mut self.fft);
                 }
-                None => unit_phase_pair(alpha, &mut ra, ua, None, &mut self.fft),
             }
-            for u in [ua, ub] {
+            for u in units.chunks_mut(len) {
                 if let Some(&u0) = u.first() {
                     u.iter_mut().for_each(|v| *v -= u0);
                 }
@@ -262,15 +271,28 @@ impl PathWorkspace {
         }
     }
 
-    /// Path a (`b` false) or b of the last pair drawn, for the term scales
-    /// `scales` ([`NoisePaths::scales`]; every α among those drawn):
+    /// Paths in the last batch drawn.
+    pub fn count(&self) -> usize {
+        self.count
+    }
+
+    /// Path `j` of the last batch drawn (its `first + j`), for the term
+    /// scales `scales` ([`NoisePaths::scales`]; every α among those drawn):
     /// out_k = Σ_t σ_t·u_t,k, k = 0 … n (out_0 = 0), the terms added in
     /// the order of `scales`.
-    pub fn path(&self, scales: &[(i32, f64)], b: bool, out: &mut [f64]) {
-        let units = if b { &self.ub } else { &self.ua };
+    pub fn path(&self, scales: &[(i32, f64)], j: usize, out: &mut [f64]) {
+        self.segment(scales, j, 0, out);
+    }
+
+    /// Samples k0 … k0 + out.len() − 1 of [`PathWorkspace::path`] (the same
+    /// values: each sample is 0 + σ_1·u_1,k + σ_2·u_2,k + …, in the order of
+    /// `scales`).
+    pub fn segment(&self, scales: &[(i32, f64)], j: usize, k0: usize, out: &mut [f64]) {
+        let at = j * self.len + k0;
         out.iter_mut().for_each(|v| *v = 0.0);
         for &(alpha, sigma) in scales {
-            for (o, v) in out.iter_mut().zip(&units[(2 - alpha) as usize]) {
+            let u = &self.units[(2 - alpha) as usize][at..at + out.len()];
+            for (o, v) in out.iter_mut().zip(u) {
                 *o += sigma * v;
             }
         }

@@ -73,6 +73,13 @@ pub struct VerdictLine {
     pub item: String,
     /// The criterion (limit, budget), with the range it was checked over.
     pub criterion: String,
+    /// The criterion in a few words where the full one would not fit (a
+    /// column header of the comparison's verdict matrix): a single-value
+    /// limit's metric and value, `max|TE| ≤ 100 ns`, where `criterion` also
+    /// names the file, its line and the file's note. `None`: `criterion`
+    /// is short already. Not in JSON (`criterion` is).
+    #[serde(skip)]
+    pub brief: Option<String>,
     /// The result in words (worst margin, rms jitter, p95 TE; why it was
     /// not judged; what a partial check did not cover).
     pub result: String,
@@ -623,6 +630,7 @@ mod tests {
     #[test]
     fn verdict_line_serialises_flat() {
         let line = VerdictLine {
+            brief: None,
             kind: VerdictKind::Jitter,
             item: "12 kHz – 5 MHz".into(),
             criterion: "1 ps".into(),

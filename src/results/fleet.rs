@@ -76,6 +76,11 @@ pub struct CheckColumn {
     pub item: String,
     /// The criterion (budget, mask range, limit).
     pub criterion: String,
+    /// The criterion in a few words for the column's header, where the
+    /// whole one would not fit (a single-value limit: `max|TE| ≤ 100 ns`;
+    /// [`crate::report::VerdictLine::brief`]). Not in JSON.
+    #[serde(skip)]
+    pub brief: Option<String>,
 }
 
 /// One cell: `{"kind","item","verdict","coverage","reason","margin_db",
@@ -437,6 +442,7 @@ fn column_of(l: &VerdictLine) -> CheckColumn {
         kind: CheckKind::of(l.kind),
         item: l.item.clone(),
         criterion: l.criterion.clone(),
+        brief: l.brief.clone(),
     }
 }
 

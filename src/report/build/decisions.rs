@@ -58,12 +58,14 @@ pub(super) fn wander(dut: &Dut, records: &[Loaded], ties: &[Loaded], r: &mut Rep
             {
                 let c = crate::limits::check_single(lim, None, 0.0, "not computed", None);
                 let mut line = super::limits::verdict_line(&c, &l.src.name);
+                line.brief = super::limits::brief(lim);
                 line.judgement = Judgement::not_judged(format!("not computed: {e}"));
                 line.result = format!("not computed: {e}");
                 r.verdicts.push(line);
             }
             for m in &masks {
                 r.verdicts.push(VerdictLine {
+                    brief: None,
                     kind: VerdictKind::Mask,
                     item: format!("{} ({})", m.name, m.metric.name().to_uppercase()),
                     criterion: "below the mask at every τ it covers".into(),
@@ -123,6 +125,7 @@ pub(super) fn wander(dut: &Dut, records: &[Loaded], ties: &[Loaded], r: &mut Rep
             result.push_str(&format!("; {why}"));
         }
         r.verdicts.push(VerdictLine {
+            brief: None,
             kind: VerdictKind::Mask,
             item,
             criterion: format!(
@@ -149,10 +152,12 @@ pub(super) fn wander(dut: &Dut, records: &[Loaded], ties: &[Loaded], r: &mut Rep
         });
     }
     for c in &res.te_checks {
-        r.verdicts.push(super::limits::verdict_line(
-            c,
-            &format!("{} (time error)", l.src.name),
-        ));
+        let mut line = super::limits::verdict_line(c, &format!("{} (time error)", l.src.name));
+        line.brief = limits
+            .iter()
+            .find(|x| x.file == c.file && x.line == c.line)
+            .and_then(super::limits::brief);
+        r.verdicts.push(line);
     }
     let mut notes = Vec::new();
     if let Some(f) = &res.filter {
@@ -219,6 +224,7 @@ pub(crate) struct HoldoverAsk {
 fn holdover_not_computed(h: &crate::io::dut::HoldoverSpec, r: &mut Report, why: String) {
     for &span in &h.spans {
         r.verdicts.push(VerdictLine {
+            brief: None,
             kind: VerdictKind::Holdover,
             item: format!("{} span", format_si(span / 3600.0, "h", 3)),
             criterion: format!("p95 of |TE| ≤ {}", format_si(h.budget, "s", 3)),
@@ -339,6 +345,7 @@ pub(super) fn holdover_finish(
         let end = pred.te.last().copied();
         let judgement = pred.judgement.clone();
         r.verdicts.push(VerdictLine {
+            brief: None,
             kind: VerdictKind::Holdover,
             item: format!("{} span", format_si(span / 3600.0, "h", 3)),
             criterion: format!("p95 of |TE| ≤ {}", format_si(h.budget, "s", 3)),

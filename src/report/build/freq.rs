@@ -215,6 +215,7 @@ pub(super) fn phase_noise(
                 };
                 if let Some(jd) = judgement {
                     r.verdicts.push(VerdictLine {
+                        brief: None,
                         kind: VerdictKind::Jitter,
                         item,
                         criterion,
@@ -241,6 +242,7 @@ pub(super) fn phase_noise(
             Err(e) => {
                 notes.push(format!("Band {}: not computed: {e}", j.name));
                 r.verdicts.push(VerdictLine {
+                    brief: None,
                     kind: VerdictKind::Jitter,
                     item,
                     criterion,

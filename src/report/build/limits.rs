@@ -68,6 +68,7 @@ pub fn verdict_line(c: &LimitCheck, source: &str) -> VerdictLine {
         ));
     }
     VerdictLine {
+        brief: None,
         kind: if c.metric == LimitMetric::Lf {
             VerdictKind::LimitPower
         } else {
@@ -101,10 +102,26 @@ pub fn verdict_line(c: &LimitCheck, source: &str) -> VerdictLine {
     }
 }
 
+/// The short criterion of a single-value limit's line ([`VerdictLine::brief`]):
+/// its metric and value, `max|TE| ≤ 100 ns`; `None` for a curve.
+pub(super) fn brief(l: &Limit) -> Option<String> {
+    if !l.metric.is_single() {
+        return None;
+    }
+    let &(_, value) = l.points.first()?;
+    let value = match l.metric.values() {
+        crate::limits::ValueKind::Duration => format_si(value, "s", 4),
+        crate::limits::ValueKind::DbcHz => format!("{value} dBc/Hz"),
+        crate::limits::ValueKind::Fraction => format!("{value:.4e}"),
+    };
+    Some(format!("{} ≤ {value}", l.metric.label()))
+}
+
 /// A not-judged verdict line for a limit with nothing to check it on.
 fn not_judged_line(r: &mut Report, l: &Limit, why: &str) {
     let c = crate::limits::check_limit(l, &[], &crate::limits::check::Support::unbounded(1.0));
     let mut line = verdict_line(&c, "nothing");
+    line.brief = brief(l);
     line.judgement = Judgement::not_judged(why.to_string());
     line.result = format!("not judged: {why}");
     r.verdicts.push(line);

@@ -5,7 +5,7 @@
 use super::{charts, Fleet, FLEET_SECTION_IDS};
 use crate::error::Result;
 use crate::plot::style::device_colour;
-use crate::report::html::{n, t, Cell, Html, CSS};
+use crate::report::html::{escape, n, t, Cell, Html, CSS};
 use crate::results::CheckKind;
 use crate::units::{format_margin_db, format_si, format_sig};
 use crate::verdict::Verdict;
@@ -65,12 +65,28 @@ fn matrix_section(h: &mut Html, f: &Fleet) {
     let m = &f.matrix;
     h.p("One row per device, best first (every check judged before any not judged, then by the worst margin); one column per check. Margin: 20·log10(limit / measured), positive within the limit — at the worst τ of a mask, at the band's rms of a jitter limit, at the span's end (p95 of |TE|) of a holdover span. — : the check is not in that device's DUT file.");
     h.raw("<table class=\"matrix\"><thead><tr><th scope=\"col\">rank</th><th scope=\"col\">device</th><th scope=\"col\">worst margin</th>");
+    // A long criterion (a single-value limit's, with its file, line and
+    // note) is shortened in the header to the check's metric and limit; the
+    // whole criterion is the header's tooltip and is listed under the
+    // matrix.
     for c in &m.columns {
-        h.raw("<th scope=\"col\">")
-            .text(&format!("{}: {}", c.kind.word(), c.item))
-            .raw("<br><span class=\"crit\">")
-            .text(&c.criterion)
-            .raw("</span></th>");
+        match &c.brief {
+            Some(b) => h
+                .raw(&format!(
+                    "<th scope=\"col\" title=\"{}\">",
+                    escape(&c.criterion)
+                ))
+                .text(&format!("{}: {}", c.kind.word(), c.item))
+                .raw("<br><span class=\"crit\">")
+                .text(b)
+                .raw("<sup>*</sup></span></th>"),
+            None => h
+                .raw("<th scope=\"col\">")
+                .text(&format!("{}: {}", c.kind.word(), c.item))
+                .raw("<br><span class=\"crit\">")
+                .text(&c.criterion)
+                .raw("</span></th>"),
+        };
     }
     h.raw("</tr></thead><tbody>");
     for row in m.ranked() {
@@ -93,6 +109,16 @@ fn matrix_section(h: &mut Html, f: &Fleet) {
         h.raw("</tr>");
     }
     h.raw("</tbody></table>\n");
+    let criteria: Vec<String> = m
+        .columns
+        .iter()
+        .filter(|c| c.brief.is_some())
+        .map(|c| format!("{}: {} — {}", c.kind.word(), c.item, c.criterion))
+        .collect();
+    if !criteria.is_empty() {
+        h.p_class("crit-notes", "* The limit in full:");
+        h.ul(&criteria);
+    }
     let notes: Vec<String> = m
         .devices
         .iter()
