@@ -613,37 +613,26 @@ fn run_sum(
             let (pa, pplus) = plan.terms[t1];
             let (qa, qplus) = plan.terms[t2];
             let sum = if pplus == qplus {
-                // t = n + σr; weight = #{r ∈ [0, m): 0 ≤ t − σr < count}:
-                // the ramps one by one, the flat middle (weight m) as one
-                // vectorised dot product.
+                // t = n + σr; weight = #{r ∈ [0, m): 0 ≤ t − σr < count}.
                 let mut s2 = 0.0;
                 if pplus {
-                    let w_at = |t: i64| t.min(r_max) - (t - cnt + 1).max(0) + 1;
-                    let (f0, f1) = flat_range(r_max, cnt, 0, cnt + r_max);
-                    for t in (0..f0).chain(f1..cnt + r_max) {
-                        let w = w_at(t);
+                    for t in 0..(cnt + r_max) {
+                        let w = t.min(r_max) - (t - cnt + 1).max(0) + 1;
                         let t = t as usize;
                         s2 += w as f64 * vv[t + pa] * vv[t + qa];
                     }
-                    let (f0, f1) = (f0 as usize, f1 as usize);
-                    s2 += m as f64 * dot(&vv[f0 + pa..f1 + pa], &vv[f0 + qa..f1 + qa]);
                 } else {
-                    let w_at = |t: i64| r_max.min(cnt - 1 - t) - (-t).max(0) + 1;
-                    let (f0, f1) = flat_range(0, cnt - r_max, -r_max, cnt);
-                    for t in (-r_max..f0).chain(f1..cnt) {
-                        let w = w_at(t);
+                    for t in -r_max..cnt {
+                        let w = r_max.min(cnt - 1 - t) - (-t).max(0) + 1;
                         s2 +=
                             w as f64 * vv[(t + pa as i64) as usize] * vv[(t + qa as i64) as usize];
                     }
-                    let (f0, f1) = (f0 as usize, f1 as usize);
-                    s2 += m as f64 * dot(&vv[f0 + pa..f1 + pa], &vv[f0 + qa..f1 + qa]);
                 }
                 s2
             } else {
                 let (pl, mi) = if pplus { (pa, qa) } else { (qa, pa) };
                 let mut s2 = 0.0;
-                let (f0, f1) = flat_range(r_max, cnt, 0, cnt + r_max);
-                for qq in (0..f0).chain(f1..cnt + r_max) {
+                for qq in 0..(cnt + r_max) {
                     let rl = (qq - cnt + 1).max(0);
                     let rh = qq.min(r_max);
                     let base = qq + mi as i64;
@@ -652,17 +641,6 @@ fn run_sum(
                     // V at lo_t, lo_t + 2, …, hi_t − 1 (all of base's parity).
                     let inner = par[hi_t + 1] - par[lo_t];
                     s2 += vv[qq as usize + pl] * inner;
-                }
-                if f1 > f0 {
-                    // The middle: rl = 0, rh = m − 1 for every qq.
-                    let (f0, f1) = (f0 as usize, f1 as usize);
-                    let b0 = f0 + mi;
-                    let n = f1 - f0;
-                    s2 += dot_diff(
-                        &vv[f0 + pl..f1 + pl],
-                        &par[b0 + 2..b0 + 2 + n],
-                        &par[b0 - 2 * r_max as usize..b0 - 2 * r_max as usize + n],
-                    );
                 }
                 s2
             };
@@ -714,56 +692,6 @@ fn run_sum(
         *s = RunScratch::default();
     }
     total + acc
-}
-
-/// The part [a, b) of [lo, hi) where a moving pass has its flat middle
-/// weight, as (a, b) clamped into [lo, hi) with a ≤ b (empty: a = b).
-#[inline]
-fn flat_range(a: i64, b: i64, lo: i64, hi: i64) -> (i64, i64) {
-    let a = a.clamp(lo, hi);
-    (a, b.clamp(a, hi))
-}
-
-/// Σ_i x_i·y_i with eight partial sums (vectorised), added pairwise.
-#[inline]
-fn dot(x: &[f64], y: &[f64]) -> f64 {
-    let mut acc = [0.0f64; 8];
-    let (xc, yc) = (x.chunks_exact(8), y.chunks_exact(8));
-    let (xr, yr) = (xc.remainder(), yc.remainder());
-    for (a, b) in xc.zip(yc) {
-        for l in 0..8 {
-            acc[l] += a[l] * b[l];
-        }
-    }
-    let mut rest = 0.0;
-    for (a, b) in xr.iter().zip(yr) {
-        rest += a * b;
-    }
-    fold8(acc) + rest
-}
-
-/// Σ_i x_i·(p_i − q_i) with eight partial sums (vectorised).
-#[inline]
-fn dot_diff(x: &[f64], p: &[f64], q: &[f64]) -> f64 {
-    let mut acc = [0.0f64; 8];
-    let (xc, pc, qc) = (x.chunks_exact(8), p.chunks_exact(8), q.chunks_exact(8));
-    let (xr, pr, qr) = (xc.remainder(), pc.remainder(), qc.remainder());
-    for ((a, b), c) in xc.zip(pc).zip(qc) {
-        for l in 0..8 {
-            acc[l] += a[l] * (b[l] - c[l]);
-        }
-    }
-    let mut rest = 0.0;
-    for ((a, b), c) in xr.iter().zip(pr).zip(qr) {
-        rest += a * (b - c);
-    }
-    fold8(acc) + rest
-}
-
-/// The eight partial sums added pairwise.
-#[inline]
-fn fold8(a: [f64; 8]) -> f64 {
-    ((a[0] + a[4]) + (a[2] + a[6])) + ((a[1] + a[5]) + (a[3] + a[7]))
 }
 
 /// The fixed part of [`run_sum`] with the window sums from stored prefix
