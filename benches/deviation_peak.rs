@@ -80,7 +80,10 @@ fn main() {
         let mut ms = TauGrid::Octave.ms(1.0, est.max_m(n)).expect("grid");
         if let Ok(only) = std::env::var("TAUWISE_BENCH_MS") {
             // A part of the grid only, e.g. `TAUWISE_BENCH_MS=4194304`.
-            let keep: Vec<usize> = only.split(',').filter_map(|v| v.trim().parse().ok()).collect();
+            let keep: Vec<usize> = only
+                .split(',')
+                .filter_map(|v| v.trim().parse().ok())
+                .collect();
             ms.retain(|m| keep.contains(m));
         }
         if std::env::var_os("TAUWISE_BENCH_PER_TAU").is_some() {

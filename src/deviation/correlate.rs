@@ -782,9 +782,15 @@ mod tests {
                 .sum();
             let tol = 1e-12 * (la * lb) as f64;
             let got = weighted_convolution_in_place(|u| a[u], la, |w| b[w], lb, top, |s| hw[s]);
-            assert!((got - want).abs() <= tol, "{la} {lb} {top}: {got} vs {want}");
+            assert!(
+                (got - want).abs() <= tol,
+                "{la} {lb} {top}: {got} vs {want}"
+            );
             let got = weighted_convolution_sum(|u| a[u], la, |w| b[w], lb, top, |s| hw[s]);
-            assert!((got - want).abs() <= tol, "{la} {lb} {top}: {got} vs {want}");
+            assert!(
+                (got - want).abs() <= tol,
+                "{la} {lb} {top}: {got} vs {want}"
+            );
         }
     }
 }
