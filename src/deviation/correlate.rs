@@ -28,12 +28,13 @@ pub(crate) const BIG: usize = 1 << 18;
 static BIG_LOCK: std::sync::Mutex<()> = std::sync::Mutex::new(());
 
 /// Points of plans a thread keeps before it starts afresh: the cached
-/// twiddle tables stay below about 16 bytes × this (16 MB) per thread.
+/// twiddle tables stay below about 16 bytes × this (8 MB) per thread.
 /// A Theo1 block at the middle factors plans its autocorrelation, its head
 /// and tail autocorrelations and the triangle convolutions (about 2^19
 /// points at m = 2^16): a cache of 2^18 points was emptied at every block
-/// and each plan made again (a tenth of Theo1's time at 10^7 in `sin_cos`).
-const CACHE_POINTS: usize = 1 << 20;
+/// and each plan made again (a tenth of Theo1's time at 10^7 in `sin_cos`);
+/// 2^20 was no faster and held more memory.
+const CACHE_POINTS: usize = 1 << 19;
 
 /// A thread's plans by (size, with inverse), and the points they hold.
 type PlanCache = (HashMap<(usize, bool), Pair>, usize);
