@@ -18,6 +18,12 @@
 //! fair figure is one estimator a run (`TAUWISE_BENCH_DEV=<one name>`).
 //! The whole run's peak is still the one of `/usr/bin/time -f "%M KB"`.
 //!
+//! With `TAUWISE_BENCH_PER_TAU=1` each τ of the grid is also computed
+//! alone first, printing its wall and CPU time (where the time goes as N
+//! grows; the τ run in parallel in the timed pass).
+//!
+//! `TAUWISE_BENCH_MS=m1,m2,…` keeps only those factors of the grid.
+//!
 //! 10^8 points (manual: the record alone is 800 MB):
 //! `TAUWISE_BENCH_DEV=mtot cargo bench --bench deviation_peak -- 100000000`.
 
@@ -71,7 +77,29 @@ fn main() {
         common::load_average()
     );
     for est in ests {
-        let ms = TauGrid::Octave.ms(1.0, est.max_m(n)).expect("grid");
+        let mut ms = TauGrid::Octave.ms(1.0, est.max_m(n)).expect("grid");
+        if let Ok(only) = std::env::var("TAUWISE_BENCH_MS") {
+            // A part of the grid only, e.g. `TAUWISE_BENCH_MS=4194304`.
+            let keep: Vec<usize> = only
+                .split(',')
+                .filter_map(|v| v.trim().parse().ok())
+                .collect();
+            ms.retain(|m| keep.contains(m));
+        }
+        if std::env::var_os("TAUWISE_BENCH_PER_TAU").is_some() {
+            for &m in &ms {
+                let c0 = cpu_seconds();
+                let t0 = Instant::now();
+                let r = compute(est, &rec, &[m]);
+                let wall = t0.elapsed().as_secs_f64();
+                let cpu = match (c0, cpu_seconds()) {
+                    (Some(a), Some(b)) => format!("{:.2} s", b - a),
+                    _ => "n/a".into(),
+                };
+                let mp = r.first().map_or(0, |e| e.m);
+                println!("  m {m:>10} (used {mp:>10})  wall {wall:.3} s  cpu {cpu}");
+            }
+        }
         let resettable = reset_peak();
         let before = status_bytes("VmRSS");
         let c0 = cpu_seconds();

@@ -193,7 +193,10 @@ fn theo1_block(seg: &[f64], m: usize) -> f64 {
     let y = |t: usize| (seg[t] - seg[0]) - slope * t as f64;
     // R(ℓ), ℓ = 0 … m, by one real FFT of the block (zero-padded).
     let r = super::correlate::autocorrelation(len, y, m);
-    block_sum_given(&y, len, r, m, None)
+    // The compensated total of squares: each windowed sum is then the
+    // total less the samples outside it (m of the 4m, not 3m).
+    let total = square_sum(&y, 0, len, len, None);
+    block_sum_given(&y, len, r, m, Some(total))
 }
 
 /// Σ_{t=a}^{a+n−1} y_t² as a compensated sum (hi, lo). Given the
@@ -295,11 +298,12 @@ fn block_sum_given(
 /// even): the products z_u·z_v, u ≤ v, v − u even, u + v < m, each weighted
 /// by 2/(m − (v − u)). With w = m − 1 − v and b_w = z_{m−1−w} this is
 /// Σ_{u≤w} h(u+w)·z_u·b_w, h(s) = 2/(s+1) for odd s < m, else 0: split
-/// [0, m) in halves, the pairs across the split are one convolution (FFT),
-/// the pairs within each half recurse. O(m·log²m). z is never stored
-/// whole: each piece copies the samples it needs (at most
-/// [`CROSS_SPLIT`]).
-fn head_triangle(z: &dyn Fn(usize) -> f64, m: usize) -> f64 {
+/// [0, m) in halves, the pairs across the split are one weighted
+/// convolution sum (FFT), the pairs within each half recurse. O(m·log²m).
+/// z is never stored whole: each cross term reads it where it fills its
+/// transform (16 bytes a point of at most m, [`cross_pairs`]). Generic in
+/// z, so that every read is inlined (no dynamic call a sample).
+fn head_triangle<Z: Fn(usize) -> f64>(z: &Z, m: usize) -> f64 {
     lower_pairs(z, m, 0, m)
 }
 
@@ -315,23 +319,31 @@ fn triangle_weight(s: usize, m: usize) -> f64 {
 
 /// Σ_{lo ≤ u ≤ w < hi} h(u+w)·z_u·b_w, b_w = z_{m−1−w}, with h of
 /// [`triangle_weight`] (zero from s = m on; see [`head_triangle`]).
-fn lower_pairs(z: &dyn Fn(usize) -> f64, m: usize, lo: usize, hi: usize) -> f64 {
+fn lower_pairs<Z: Fn(usize) -> f64>(z: &Z, m: usize, lo: usize, hi: usize) -> f64 {
     if 2 * lo >= m || hi <= lo {
         return 0.0;
     }
-    if hi - lo <= 64 {
+    if hi - lo <= LEAF {
         // The weights of s = u + w ∈ [2·lo, 2·hi) once; only odd s count.
-        let h: Vec<f64> = (2 * lo..2 * hi).map(|s| triangle_weight(s, m)).collect();
-        let a: Vec<f64> = (lo..hi).map(z).collect();
-        let b: Vec<f64> = (lo..hi).map(|w| z(m - 1 - w)).collect();
+        let w = hi - lo;
+        let mut h = [0.0f64; 2 * LEAF];
+        for (i, v) in h[..2 * w].iter_mut().enumerate() {
+            *v = triangle_weight(2 * lo + i, m);
+        }
+        let mut a = [0.0f64; LEAF];
+        let mut b = [0.0f64; LEAF];
+        for i in 0..w {
+            a[i] = z(lo + i);
+            b[i] = z(m - 1 - (lo + i));
+        }
         let mut s = 0.0;
-        for u in 0..hi - lo {
+        for u in 0..w {
             let mut inner = 0.0;
             // w ≥ u with u + w odd.
-            let mut w = u + 1;
-            while w < hi - lo {
-                inner += h[u + w] * b[w];
-                w += 2;
+            let mut v = u + 1;
+            while v < w {
+                inner += h[u + v] * b[v];
+                v += 2;
             }
             s += a[u] * inner;
         }
@@ -345,26 +357,26 @@ fn lower_pairs(z: &dyn Fn(usize) -> f64, m: usize, lo: usize, hi: usize) -> f64 
         let top = m - (lo + mid);
         let la = (mid - lo).min(top);
         let lb = (hi - mid).min(top);
-        s += cross_pairs(&|u| z(lo + u), la, &|w| z(m - 1 - mid - w), lb, lo + mid, m);
+        s += cross_pairs(|u| z(lo + u), la, |w| z(m - 1 - mid - w), lb, lo + mid, m);
     }
     s
 }
 
-/// Largest a.len() + b.len() of one convolution in [`cross_pairs`]; longer
-/// ones are split in quarters (their memory is about 40 bytes a point).
-/// The library's unit tests lower it to 512, so that the tests against the
-/// direct sums go through the split.
-const CROSS_SPLIT: usize = if cfg!(test) { 512 } else { 1 << 20 };
+/// The leaves of [`lower_pairs`]: at most this many samples, summed
+/// directly.
+const LEAF: usize = 64;
 
 /// Σ_{u,w} h(offset+u+w)·a_u·b_w over all u < la, w < lb (a_u = `a(u)`,
 /// b_w = `b(w)`), h of [`triangle_weight`]: Σ_s h(offset+s)·(a ∗ b)(s),
-/// the convolution by FFTs ([`super::correlate::convolution`]) of the
-/// copied pieces; beyond [`CROSS_SPLIT`] the sum of its four quarters
-/// (those that reach below m).
+/// directly for small pieces, else by one FFT convolution
+/// ([`super::correlate::weighted_convolution_sum`]) that reads a and b
+/// where it fills its buffer. Never split: a split in quarters (three of
+/// which reach below m) costs 1.5 times its whole at each level, which
+/// made the largest factors grow as m^1.6.
 fn cross_pairs(
-    a: &dyn Fn(usize) -> f64,
+    a: impl Fn(usize) -> f64,
     la: usize,
-    b: &dyn Fn(usize) -> f64,
+    b: impl Fn(usize) -> f64,
     lb: usize,
     offset: usize,
     m: usize,
@@ -374,21 +386,12 @@ fn cross_pairs(
     }
     let top = (la + lb - 1).min(m - offset);
     let (la, lb) = (la.min(top), lb.min(top));
-    if la + lb > CROSS_SPLIT {
-        let (ha, hb) = (la.div_ceil(2), lb.div_ceil(2));
-        let a2 = |u: usize| a(ha + u);
-        let b2 = |w: usize| b(hb + w);
-        return cross_pairs(a, ha, b, hb, offset, m)
-            + cross_pairs(a, ha, &b2, lb - hb, offset + hb, m)
-            + cross_pairs(&a2, la - ha, b, hb, offset + ha, m)
-            + cross_pairs(&a2, la - ha, &b2, lb - hb, offset + ha + hb, m);
-    }
-    let av: Vec<f64> = (0..la).map(a).collect();
-    let bv: Vec<f64> = (0..lb).map(b).collect();
     if la * lb <= 4096 {
         let h: Vec<f64> = (0..top).map(|t| triangle_weight(offset + t, m)).collect();
+        let bv: Vec<f64> = (0..lb).map(&b).collect();
         let mut s = 0.0;
-        for (u, &x) in av.iter().enumerate() {
+        for u in 0..la {
+            let x = a(u);
             let mut inner = 0.0;
             for (w, &v) in bv.iter().enumerate().take(top.saturating_sub(u)) {
                 inner += h[u + w] * v;
@@ -397,11 +400,9 @@ fn cross_pairs(
         }
         return s;
     }
-    super::correlate::convolution(&av, &bv, top)
-        .iter()
-        .enumerate()
-        .map(|(t, v)| triangle_weight(offset + t, m) * v)
-        .sum()
+    super::correlate::weighted_convolution_sum(a, la, b, lb, top, |t| {
+        triangle_weight(offset + t, m)
+    })
 }
 
 /// Σ_{i<n} (x_{i+o0} − x_{i+o1} − x_{i+o2} + x_{i+o3})², vectorisable.
@@ -825,7 +826,7 @@ mod tests {
                 }
                 want += s / k as f64;
             }
-            let got = head_triangle(&|t| z[t], m);
+            let got = head_triangle(&|t: usize| z[t], m);
             assert!(
                 (got - want).abs() <= 1e-12 * want.abs().max(1.0),
                 "m={m}: {got} vs {want}"
