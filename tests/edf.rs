@@ -1168,3 +1168,55 @@ fn theoh_parts_are_told_apart_by_m() {
         }
     }
 }
+
+/// Non-overlapping ADEV and HDEV on white PM read the phase at multiples of
+/// m only, and white-PM samples are independent, so the estimate at factor
+/// m is Σ d_i² over the k − 1 (ADEV) or k − 2 (HDEV) second or third
+/// differences of k + 1 independent samples, k = ⌊(n − 1)/m⌋ (analytic).
+/// Its weights are the eigenvalues of the differences' covariance matrix
+/// (binomial coefficients: 6, −4, 1 and 20, −15, 6, −1 at lags 0, 1, 2, 3),
+/// normalised to sum 1; the pivot weights beyond the reduced record equal
+/// them (1e−9), with and without samples left over past the last block.
+#[test]
+fn non_overlapping_white_pm_weights_are_the_whole_forms() {
+    use nalgebra::{DMatrix, SymmetricEigen};
+    use tauwise::deviation::Estimator;
+    use tauwise::stats::form_interval::{lumped, pivot_weights, LUMP_BELOW};
+    for (est, m, n) in [
+        (Estimator::Adev, 40usize, 161usize),
+        (Estimator::Adev, 40, 159),
+        (Estimator::Adev, 1024, 4096),
+        (Estimator::Adev, 24, 200),
+        (Estimator::Hdev, 32, 257),
+        (Estimator::Hdev, 24, 250),
+        (Estimator::Hdev, 512, 4096),
+    ] {
+        let (cov, order): (&[f64], usize) = match est {
+            Estimator::Adev => (&[6.0, -4.0, 1.0], 2),
+            _ => (&[20.0, -15.0, 6.0, -1.0], 3),
+        };
+        let terms = (n - 1) / m + 1 - order;
+        let c = DMatrix::from_fn(terms, terms, |i, j| {
+            cov.get(i.abs_diff(j)).copied().unwrap_or(0.0)
+        });
+        let mut want: Vec<f64> = SymmetricEigen::new(c).eigenvalues.iter().copied().collect();
+        let total: f64 = want.iter().sum();
+        want.iter_mut().for_each(|l| *l /= total);
+        want.sort_by(|a, b| b.total_cmp(a));
+        // Small eigenvalues are lumped into one gamma term as everywhere
+        // (`form_interval::lumped`).
+        let want = lumped(&want, LUMP_BELOW);
+        let got = pivot_weights(est, 2, m, n, 1.0).expect("weights");
+        assert_eq!(
+            got.len(),
+            want.len(),
+            "{est:?} m={m} n={n}: {got:?} vs {want:?}"
+        );
+        for (a, b) in got.iter().zip(&want) {
+            assert!(
+                (a.0 - b.0).abs() <= 1e-9 && (a.1 - b.1).abs() <= 1e-9 * b.1,
+                "{est:?} m={m} n={n}: {got:?} vs {want:?}"
+            );
+        }
+    }
+}

@@ -289,6 +289,18 @@ pub fn pivot_weights(
     if mr == m || alpha <= 0 {
         return Some(lumped(&spectrum_cached(est, alpha, mr, nr)?, LUMP_BELOW));
     }
+    if alpha == 2 && matches!(est, Estimator::Adev | Estimator::Hdev) {
+        // The non-overlapping estimators read the phase at multiples of m
+        // only, and white-PM samples are independent: the form at factor m
+        // is exactly the form at factor 1 on its ⌊(n − 1)/m⌋ + 1 samples
+        // (analytic), whatever m — no split spectrum, and no rounding of
+        // T/τ (the reduced record's round(T/τ·m′) gave T/τ = 3.999 a third
+        // Allan term and a degenerate rest).
+        return Some(lumped(
+            &spectrum_cached(est, alpha, 1, (n - 1) / m + 1)?,
+            LUMP_BELOW,
+        ));
+    }
     let ratio = (n - 1) as f64 / m as f64;
     let at = |mm: usize| spectrum_cached(est, alpha, mm, (ratio * mm as f64).round() as usize + 1);
     let fine = at(REDUCED_M)?;
