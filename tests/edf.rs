@@ -1220,3 +1220,192 @@ fn non_overlapping_white_pm_weights_are_the_whole_forms() {
         }
     }
 }
+
+/// Normalised eigenvalues (Σ = 1, largest first) of the symmetric Toeplitz
+/// matrix of `terms` × `terms` with first row `cov` (zero beyond): the
+/// weights of Σ d_i² for jointly Gaussian differences d_i with that
+/// covariance.
+fn toeplitz_weights(cov: &[f64], terms: usize) -> Vec<f64> {
+    use nalgebra::{DMatrix, SymmetricEigen};
+    let c = DMatrix::from_fn(terms, terms, |i, j| {
+        cov.get(i.abs_diff(j)).copied().unwrap_or(0.0)
+    });
+    let mut w: Vec<f64> = SymmetricEigen::new(c).eigenvalues.iter().copied().collect();
+    let total: f64 = w.iter().sum();
+    w.iter_mut().for_each(|l| *l /= total);
+    w.sort_by(|a, b| b.total_cmp(a));
+    w
+}
+
+fn assert_weights_equal(got: &[(f64, f64)], want: &[(f64, f64)], tol: f64, what: &str) {
+    assert_eq!(got.len(), want.len(), "{what}: {got:?} vs {want:?}");
+    for (a, b) in got.iter().zip(want) {
+        assert!(
+            (a.0 - b.0).abs() <= tol && (a.1 - b.1).abs() <= tol * b.1,
+            "{what}: {got:?} vs {want:?}"
+        );
+    }
+}
+
+/// Non-overlapping ADEV and HDEV read the phase at multiples of m only, so
+/// their estimate at factor m is Σ d_i² over the k − 1 (ADEV) or k − 2
+/// (HDEV) second or third differences of the k + 1 samples x_0, x_m, …,
+/// x_{km}, k = ⌊(n − 1)/m⌋, and its weights are the eigenvalues of the
+/// differences' covariance matrix, normalised. For white FM the samples
+/// are a random walk with independent steps of variance m, so the
+/// differences are first and second differences of independent steps:
+/// covariance (2, −1) and (6, −4, 1) at lags 0, 1, 2 (analytic). For
+/// random-walk FM (GACV |k|³/12, the sampled continuous model) the
+/// differences are m times the first and second differences of the
+/// τ-averaged frequency, whose own first differences are MA(1) with
+/// covariance (2/3, 1/6)·m (the triangle kernel of a random walk averaged
+/// over τ): covariance ∝ (4, 1) and (6, −2, −1) (analytic, from
+/// Σ_ab c_a c_b |j + b − a|³). The pivot weights must equal them for every
+/// m — with and without samples past the last block, m beyond the reduced
+/// record's 16 (where the reduced record rounded T/τ = 3.999 to a third
+/// Allan term) — and not depend on the EDF passed (1e−9).
+#[test]
+fn non_overlapping_fm_weights_are_the_differences_covariance() {
+    use tauwise::deviation::Estimator;
+    use tauwise::stats::form_interval::{lumped, pivot_weights, LUMP_BELOW};
+    for (est, m, n) in [
+        (Estimator::Adev, 40usize, 161usize),
+        (Estimator::Adev, 40, 159),
+        (Estimator::Adev, 1024, 4096),
+        (Estimator::Adev, 1024, 3073),
+        (Estimator::Adev, 8, 100),
+        (Estimator::Adev, 24, 200),
+        (Estimator::Hdev, 32, 257),
+        (Estimator::Hdev, 24, 250),
+        (Estimator::Hdev, 512, 4096),
+        (Estimator::Hdev, 4, 60),
+    ] {
+        for alpha in [0, -2] {
+            let (cov, order): (&[f64], usize) = match (est, alpha) {
+                (Estimator::Adev, 0) => (&[2.0, -1.0], 2),
+                (Estimator::Adev, _) => (&[4.0, 1.0], 2),
+                (_, 0) => (&[6.0, -4.0, 1.0], 3),
+                _ => (&[6.0, -2.0, -1.0], 3),
+            };
+            let terms = (n - 1) / m + 1 - order;
+            let want = lumped(&toeplitz_weights(cov, terms), LUMP_BELOW);
+            for edf in [1.0, 7.5] {
+                let got = pivot_weights(est, alpha, m, n, edf).expect("weights");
+                assert_weights_equal(&got, &want, 1e-9, &format!("{est:?} α={alpha} m={m} n={n}"));
+            }
+        }
+    }
+}
+
+/// Flicker PM and flicker FM have no closed form for the differences'
+/// covariance; there the pivot weights of non-overlapping ADEV and HDEV
+/// (built on the samples read) are checked against the dense form of the
+/// whole record (`form_interval::spectrum_exact`: every phase sample, the
+/// GACV at every lag, O(N³)) at N ≤ 512 — a direct construction of the
+/// same distribution (analytic identity; 1e−9), at factors below, at and
+/// beyond the reduced record's 16, T/τ from 3 to 16.
+#[test]
+fn non_overlapping_flicker_weights_equal_the_whole_record_form() {
+    use tauwise::deviation::Estimator;
+    use tauwise::stats::form_interval::{lumped, pivot_weights, spectrum_exact, LUMP_BELOW};
+    for (est, m, n) in [
+        (Estimator::Adev, 8usize, 129usize),
+        (Estimator::Adev, 32, 512),
+        (Estimator::Adev, 64, 512),
+        (Estimator::Adev, 128, 512),
+        (Estimator::Adev, 170, 512),
+        (Estimator::Hdev, 16, 200),
+        (Estimator::Hdev, 32, 512),
+        (Estimator::Hdev, 100, 501),
+    ] {
+        for alpha in [2, 1, 0, -1, -2] {
+            let want = lumped(
+                &spectrum_exact(est, alpha, m, n).expect("dense spectrum"),
+                LUMP_BELOW,
+            );
+            let got = pivot_weights(est, alpha, m, n, 5.0).expect("weights");
+            assert_weights_equal(&got, &want, 1e-9, &format!("{est:?} α={alpha} m={m} n={n}"));
+        }
+    }
+}
+
+/// The dense eigen-solver on rank-deficient forms: the non-overlapping
+/// Allan form at factor m on n samples has rank ⌊(n − 1)/m⌋ − 1 of n, and
+/// nalgebra's QR iteration returned NaN eigenvalues for it (ADEV m = 16 on
+/// 49 samples, m = 32 and 64 on 512). On white FM its weights are the
+/// eigenvalues of the tridiagonal Toeplitz matrix m·(2, −1) of the second
+/// differences of a random walk, m·(2 − 2cos(kπ/(T + 1))), k = 1 … T, T
+/// the number of terms (analytic); they must come out to 1e−9 relative,
+/// and the mean and EDF identities hold (Σλ = tr(AS), (Σλ)²/Σλ² = EDF).
+#[test]
+fn rank_deficient_forms_have_their_eigenvalues() {
+    use tauwise::deviation::Estimator;
+    use tauwise::stats::form_interval::{phase_gacv, whole_form};
+    for (est, m, n) in [
+        (Estimator::Adev, 16usize, 49usize),
+        (Estimator::Adev, 32, 512),
+        (Estimator::Adev, 64, 512),
+        (Estimator::Adev, 8, 512),
+        (Estimator::Hdev, 64, 512),
+        (Estimator::Hdev, 8, 512),
+    ] {
+        let (q, degree) = whole_form(est, m, n).unwrap();
+        let g = phase_gacv(0, q.samples());
+        let lam = q
+            .eigenvalues(&g, degree)
+            .unwrap_or_else(|| panic!("{est:?} m={m} n={n}: no eigenvalues"));
+        let terms = (n - 1) / m + 1 - degree;
+        assert_eq!(lam.len(), terms, "{est:?} m={m} n={n}: {lam:?}");
+        if est == Estimator::Adev {
+            let mut want: Vec<f64> = (1..=terms)
+                .map(|k| {
+                    m as f64
+                        * (2.0 - 2.0 * (k as f64 * std::f64::consts::PI / (terms + 1) as f64).cos())
+                })
+                .collect();
+            want.sort_by(|a, b| b.total_cmp(a));
+            for (a, b) in lam.iter().zip(&want) {
+                assert!(
+                    (a / b - 1.0).abs() < 1e-9,
+                    "m={m} n={n}: {lam:?} vs {want:?}"
+                );
+            }
+        }
+        let s1: f64 = lam.iter().sum();
+        let s2: f64 = lam.iter().map(|l| l * l).sum();
+        assert!((s1 / q.mean(&g) - 1.0).abs() < 1e-9, "{est:?} m={m} n={n}");
+        assert!((s1 * s1 / s2 / q.edf(&g).unwrap() - 1.0).abs() < 1e-8);
+    }
+}
+
+/// A record whose T/τ is exactly 3 at a non-overlapping factor beyond the
+/// reduced record's 16 (N = 3073, m = 1024: x_0, x_1024, x_2048, x_3072,
+/// two Allan terms, one Hadamard term) gets the interval of its quadratic
+/// form for every noise type, not the χ²_ν fallback (it fell back for the
+/// FM noises when the dense eigen-solver failed on the reduced record's
+/// rank-deficient form); with one Hadamard term the form is χ²₁ and the
+/// interval equals χ²_1's (analytic).
+#[test]
+fn non_overlapping_forms_at_t_over_tau_three() {
+    use tauwise::deviation::Estimator;
+    use tauwise::stats::form_interval::{interval_for, IntervalMethod};
+    let (m, n) = (1024usize, 3073usize);
+    for (est, kind) in [
+        (Estimator::Adev, VarianceKind::Allan),
+        (Estimator::Hdev, VarianceKind::Hadamard),
+    ] {
+        for alpha in [2, 1, 0, -1, -2] {
+            let nu = edf(kind, alpha, m, n).expect("edf");
+            let (lo, hi, how) = interval_for(est, alpha, m, n, 1.0, nu, 0.683).unwrap();
+            assert_eq!(
+                how,
+                IntervalMethod::QuadraticForm,
+                "{est:?} α={alpha}: {lo}…{hi}"
+            );
+            if est == Estimator::Hdev {
+                let (l1, h1) = interval(1.0, 1.0, 0.683).unwrap();
+                assert!((lo / l1 - 1.0).abs() < 1e-6 && (hi / h1 - 1.0).abs() < 1e-6);
+            }
+        }
+    }
+}

@@ -30,6 +30,11 @@
 //! `tests/edf.rs` measures the reduced spectra's quantiles against those of
 //! m′ = 32.
 //!
+//! Non-overlapping ADEV and HDEV need no reduced record: they read only
+//! the ⌊(n − 1)/m⌋ + 1 samples x_0, x_m, x_{2m}, …, and their form on those
+//! samples, with the phase covariance at lags that are multiples of m, is
+//! exact for every noise type and every m ([`spectrum_subsampled`]).
+//!
 //! # When the form is used
 //!
 //! At T/τ ≤ [`FORM_MAX_T_OVER_TAU`] (τ at least a sixteenth of the record)
@@ -226,6 +231,65 @@ pub fn spectrum_exact(est: Estimator, alpha: i32, m: usize, n: usize) -> Option<
     (total > 0.0 && total.is_finite()).then(|| lam.iter().map(|l| l / total).collect())
 }
 
+/// True for the estimators whose form is built on the samples they read
+/// ([`spectrum_subsampled`]): non-overlapping ADEV and HDEV.
+pub fn is_subsampled(est: Estimator) -> bool {
+    matches!(est, Estimator::Adev | Estimator::Hdev)
+}
+
+/// The phase GACV of the sampled power law α ([`gacv`], as
+/// [`spectrum_exact`] uses it) at the lags 0, m, 2m, …, (k − 1)·m: the
+/// covariance of the k samples x_0, x_m, …, x_{(k−1)m}. α = 2 … −2 lag by
+/// lag from the closed forms (flicker PM from its Ci series or quadrature);
+/// the Hadamard family's α = −3, −4 from the discrete kernels' table.
+fn strided_gacv(alpha: i32, m: usize, k: usize) -> Option<Vec<f64>> {
+    if k == 0 || m == 0 {
+        return None;
+    }
+    if (-2..=2).contains(&alpha) {
+        (0..k)
+            .map(|j| gacv::sampled_phase_gacv_at(alpha, j * m))
+            .collect()
+    } else {
+        let table = gacv::sampled_phase_gacv(alpha, (k - 1) * m);
+        (table.len() > (k - 1) * m).then(|| table.iter().step_by(m).copied().collect())
+    }
+}
+
+/// The normalised eigenvalues (Σλ = 1, largest first) of non-overlapping
+/// ADEV or HDEV at factor m on `n` gap-free samples, noise α, computed on
+/// the samples the estimate reads.
+///
+/// Their terms are second (third) differences of x_0, x_m, x_{2m}, …,
+/// x_{km}, k = ⌊(n − 1)/m⌋: the estimate at factor m on n samples is
+/// exactly the estimate at factor 1 on those k + 1 samples, whose
+/// covariance is the phase GACV at lags that are multiples of m
+/// ([`strided_gacv`]; analytic). So the spectrum is exact for every noise
+/// type and every m, at O(k³) instead of the whole record's O(n³), and
+/// T/τ is never rounded (the reduced record of m′ = 16 samples per τ gave
+/// T/τ = 3.999 a third Allan term where the record has two). At the
+/// T/τ ≤ [`FORM_MAX_T_OVER_TAU`] where the form is used, k ≤ 16.
+/// `tests/edf.rs` checks it against the differences' covariance (white PM,
+/// white FM, random-walk FM: analytic) and against [`spectrum_exact`] on
+/// whole records of up to 512 samples (every noise type). `None` for
+/// other estimators, fewer samples than one term needs, or α without a
+/// model.
+pub fn spectrum_subsampled(est: Estimator, alpha: i32, m: usize, n: usize) -> Option<Vec<f64>> {
+    if !is_subsampled(est) || m == 0 || n < 2 {
+        return None;
+    }
+    let hadamard = est == Estimator::Hdev;
+    if !((-2..=2).contains(&alpha) || (hadamard && (-4..=-3).contains(&alpha))) {
+        return None;
+    }
+    let k = (n - 1) / m + 1;
+    let (q, degree) = whole_form(est, 1, k)?;
+    let g = strided_gacv(alpha, m, k)?;
+    let lam = q.eigenvalues(&g, degree)?;
+    let total: f64 = lam.iter().sum();
+    (total > 0.0 && total.is_finite()).then(|| lam.iter().map(|l| l / total).collect())
+}
+
 type Key = (Estimator, i32, usize, usize, u64, u64);
 
 /// The pivot quantiles (q_lo, q_hi) of σ̂²/E\[σ̂²\] for `est` at factor m
@@ -247,13 +311,26 @@ pub fn pivot_quantiles(
     {
         return None;
     }
-    let (mr, nr) = reduced(est, m, n)?;
-    let pm_bits = if mr == m || alpha <= 0 {
-        0
+    let key = if is_subsampled(est) {
+        // Exact on the samples read: the weights depend on m and their
+        // count only.
+        (
+            est,
+            alpha,
+            m,
+            n.saturating_sub(1) / m + 1,
+            0,
+            confidence.to_bits(),
+        )
     } else {
-        edf.to_bits()
+        let (mr, nr) = reduced(est, m, n)?;
+        let pm_bits = if mr == m || alpha <= 0 {
+            0
+        } else {
+            edf.to_bits()
+        };
+        (est, alpha, mr, nr, pm_bits, confidence.to_bits())
     };
-    let key = (est, alpha, mr, nr, pm_bits, confidence.to_bits());
     crate::stats::cached(&CACHE, key, || {
         let w = pivot_weights(est, alpha, m, n, edf)?;
         let lo = weighted_chi2::quantile_with(&w, 0.5 * (1.0 - confidence)).ok()?;
@@ -265,6 +342,9 @@ pub fn pivot_quantiles(
 /// The weights (λ_i, degrees of freedom h_i) of σ̂²/E\[σ̂²\] ≈ Σ λ_i χ²_{h_i}
 /// (Σ h_i λ_i = 1) for `est` at factor m on `n` samples, noise α:
 ///
+/// - non-overlapping ADEV and HDEV, every noise and every m: the exact
+///   eigenvalues of the form on the samples they read
+///   ([`spectrum_subsampled`]), each with h = 1;
 /// - FM noises, or m ≤ [`REDUCED_M`]: the eigenvalues of the reduced
 ///   record's form, each with h = 1 (exact for m ≤ m′);
 /// - PM noises at m > m′ (the **split spectrum**): the form's bulk splits
@@ -285,21 +365,12 @@ pub fn pivot_weights(
     n: usize,
     edf: f64,
 ) -> Option<Vec<(f64, f64)>> {
+    if is_subsampled(est) {
+        return Some(lumped(&spectrum_subsampled(est, alpha, m, n)?, LUMP_BELOW));
+    }
     let (mr, nr) = reduced(est, m, n)?;
     if mr == m || alpha <= 0 {
         return Some(lumped(&spectrum_cached(est, alpha, mr, nr)?, LUMP_BELOW));
-    }
-    if alpha == 2 && matches!(est, Estimator::Adev | Estimator::Hdev) {
-        // The non-overlapping estimators read the phase at multiples of m
-        // only, and white-PM samples are independent: the form at factor m
-        // is exactly the form at factor 1 on its ⌊(n − 1)/m⌋ + 1 samples
-        // (analytic), whatever m — no split spectrum, and no rounding of
-        // T/τ (the reduced record's round(T/τ·m′) gave T/τ = 3.999 a third
-        // Allan term and a degenerate rest).
-        return Some(lumped(
-            &spectrum_cached(est, alpha, 1, (n - 1) / m + 1)?,
-            LUMP_BELOW,
-        ));
     }
     let ratio = (n - 1) as f64 / m as f64;
     let at = |mm: usize| spectrum_cached(est, alpha, mm, (ratio * mm as f64).round() as usize + 1);
