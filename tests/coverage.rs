@@ -215,8 +215,13 @@ fn former_wide_cells_cover_at_nominal() {
 /// 500 records): its EDF is now exact from the terms' covariances
 /// (`stats::totals::totvar_edf_flicker_pm`; the former rule, 15–20 % low,
 /// covered 0.77–0.82 at 68.3 %) and its interval the split spectrum with the
-/// two end samples' eigenvalues kept apart. Coverage within ±0.04 of
-/// nominal at 68.3 %; at 95 % not below 0.91 (the dangerous side) and at
+/// two end samples' eigenvalues kept apart. Coverage at 68.3 % not below
+/// nominal by more than 0.04 and not above by more than 0.06: these
+/// records are the first N samples of a flicker process started from rest
+/// (src/simulate.rs), whose reflected ends vary less than the stationary
+/// process the form describes (EDF measured 17 % above the exact one at
+/// T/τ = 8: 0.734 at 68.3 % here; on stationary records the same interval
+/// covers at nominal, `totdev_flicker_pm_covers_on_stationary_records`); at 95 % not below 0.91 (the dangerous side) and at
 /// most 0.995 — there the interval is the union with the χ² interval
 /// (`form_interval::GUARD_CONFIDENCE`), which puts it at 0.97–0.99; and the
 /// EDF within 25 % of the one the spread of 500 values shows (the spread's
@@ -239,7 +244,7 @@ fn totdev_flicker_pm_covers_at_nominal() {
             "totdev FPM T/τ={:.1}: {c68:.3} / {c95:.3}, EDF {:.1} given, {:.1} measured",
             c.t_over_tau, c.mean_edf, c.monte_carlo_edf
         );
-        if (c68 - 0.683).abs() > 0.04
+        if !(0.683 - 0.04..=0.683 + 0.06).contains(&c68)
             || !(0.91..=0.995).contains(&c95)
             || (c.mean_edf / c.monte_carlo_edf - 1.0).abs() > 0.25
         {
@@ -627,4 +632,108 @@ fn overlapping_flicker_pm_last_octaves_cover_at_nominal() {
     }
     eprintln!("{}", lines.join("\n"));
     assert!(bad.is_empty(), "coverage off:\n{}", bad.join("\n"));
+}
+
+/// TOTDEV on flicker PM at T/τ = 4, the form's own interval without the
+/// union with χ²_ν (seeded Monte Carlo, N = 4096, 1000 records, seed 1 of
+/// `examples/coverage`, `--no-guard`): it covered 0.894 at 95 % (too
+/// narrow — the end pair's continued shares were too large and the rest
+/// too narrow), which is why the union was kept there. With the weights
+/// continued per unit m (`form_interval::pivot_weights`) the form alone
+/// is within ±0.04 of nominal at 68.3 % and 95 %; with the guard (as the
+/// commands) the 95 % coverage stays within +0.04.
+#[test]
+fn totdev_flicker_pm_form_alone_covers_at_nominal() {
+    for guard in [false, true] {
+        let s = CoverageSpec {
+            estimators: vec![Estimator::Totdev],
+            alphas: vec![1],
+            points: 4096,
+            records: 1000,
+            seed: 1,
+            grid: TauGrid::Explicit(vec![1024.0]),
+            max_t_over_tau: None,
+            min_t_over_tau: None,
+            rule: CrossTauRule::CapAtShorterTau,
+            guard,
+            check_99: false,
+        };
+        let cells = run(&s).unwrap();
+        assert_eq!(cells.len(), 1);
+        let c = &cells[0];
+        assert!(c.with_interval >= 950, "{} intervals", c.with_interval);
+        let (c68, c95) = (c.coverage_68(), c.coverage_95());
+        eprintln!("guard {guard}: {c68:.3} / {c95:.3}");
+        assert!(
+            (c68 - 0.683).abs() <= 0.04 && (c95 - 0.95).abs() <= 0.04,
+            "guard {guard}: {c68:.3} / {c95:.3}"
+        );
+    }
+}
+
+/// TOTDEV on flicker PM at T/τ = 8 and 4 on stationary records: seeded
+/// records of 5N samples of which the last N = 2049 are kept, so that the
+/// start from rest of the simulator's flicker filter (src/simulate.rs) is
+/// 4N samples behind (seeded Monte Carlo, 1000 records, the true noise
+/// type and the exact bias factor, the form's own interval without the
+/// union). On these the exact EDF is what the spread shows (within 10 %),
+/// the bias-corrected mean is within 2 % of the truth, and the intervals
+/// cover within ±0.04 of nominal at 68.3 % and 95 %. (On the records
+/// started from rest the sweep's cells read 0.70–0.72 at 68.3 % at
+/// T/τ = 8 and a mean of 0.95 at T/τ = 4.)
+#[test]
+fn totdev_flicker_pm_covers_on_stationary_records() {
+    use tauwise::deviation::compute;
+    use tauwise::model::PowerLaw;
+    use tauwise::record::PhaseRecord;
+    use tauwise::simulate::{simulate_phase, SimSpec};
+    use tauwise::stats::coverage::truth;
+    use tauwise::stats::form_interval::interval_for_rule;
+    use tauwise::stats::{edf, totals::totvar_bias, VarianceKind};
+    let (n, records) = (2049usize, 1000usize);
+    let mut model = PowerLaw::zero(0.5);
+    model.set(1, 1.0);
+    let recs: Vec<PhaseRecord> = (0..records)
+        .map(|r| {
+            let rec =
+                simulate_phase(&SimSpec::new(model, 1.0, 5 * n, 321 + 7919 * r as u64)).unwrap();
+            PhaseRecord::new(rec.x[4 * n..].to_vec(), 1.0).unwrap()
+        })
+        .collect();
+    let mut bad = Vec::new();
+    for m in [256usize, 512] {
+        let b = totvar_bias(1, m, n).unwrap();
+        let nu = edf(VarianceKind::Total, 1, m, n).unwrap();
+        let tr = truth(Estimator::Totdev, 1, m as f64, m, 1.0).unwrap();
+        let (mut h68, mut h95, mut s1, mut s2) = (0usize, 0usize, 0.0, 0.0);
+        for rec in &recs {
+            let v = compute(Estimator::Totdev, rec, &[m])[0].value / b.sqrt();
+            let ratio = (v / tr).powi(2);
+            s1 += ratio;
+            s2 += ratio * ratio;
+            for (c, h) in [(0.683, &mut h68), (0.95, &mut h95)] {
+                let (lo, hi, _) =
+                    interval_for_rule(Estimator::Totdev, 1, m, n, v, nu, c, false).unwrap();
+                *h += usize::from(lo <= tr && tr <= hi);
+            }
+        }
+        let k = records as f64;
+        let mean = s1 / k;
+        let var = (s2 / k - mean * mean) * k / (k - 1.0);
+        let (c68, c95) = (h68 as f64 / k, h95 as f64 / k);
+        let line = format!(
+            "T/τ={:.1}: {c68:.3} / {c95:.3}, mean {mean:.3}, EDF {nu:.1} given, {:.1} measured",
+            (n - 1) as f64 / m as f64,
+            2.0 * mean * mean / var
+        );
+        eprintln!("{line}");
+        if (c68 - 0.683).abs() > 0.04
+            || (c95 - 0.95).abs() > 0.04
+            || (mean - 1.0).abs() > 0.02
+            || (nu * var / (2.0 * mean * mean) - 1.0).abs() > 0.1
+        {
+            bad.push(line);
+        }
+    }
+    assert!(bad.is_empty(), "off:\n{}", bad.join("\n"));
 }

@@ -324,9 +324,15 @@ pub fn pivot_quantiles(
         )
     } else {
         let (mr, nr) = reduced(est, m, n)?;
-        if mr != m && alpha == 1 && matches!(est, Estimator::Oadev | Estimator::Ohdev) {
-            // Exact mean and EDF at (m, n): the weights depend on both.
-            (est, alpha, m, n, 0, confidence.to_bits())
+        if mr != m && alpha == 1 && carries_flicker_pm(est) {
+            // The exact mean at (m, n) and the EDF: the weights depend on
+            // all three (TOTDEV's EDF is the point's).
+            let nu_bits = if est == Estimator::Totdev {
+                edf.to_bits()
+            } else {
+                0
+            };
+            (est, alpha, m, n, nu_bits, confidence.to_bits())
         } else {
             let pm_bits = if mr == m || alpha <= 0 {
                 0
@@ -354,7 +360,7 @@ pub fn pivot_quantiles(
 ///   record's form, each with h = 1 (exact for m ≤ m′);
 /// - OADEV and OHDEV on flicker PM at m > m′: the leading eigenvalues of
 ///   m′ = [`FPM_TRANSFER_M`] carried by the exact means, the rest matched
-///   to the exact EDF ([`overlapping_flicker_pm_weights`]);
+///   to the exact EDF ([`flicker_pm_carried_weights`]);
 /// - other PM cases at m > m′ (the **split spectrum**): the form's bulk splits
 ///   into ever more, ever smaller eigenvalues as m grows at fixed T/τ,
 ///   while a few (TOTDEV's two end samples, read by every reflected term)
@@ -380,42 +386,20 @@ pub fn pivot_weights(
     if mr == m || alpha <= 0 {
         return Some(lumped(&spectrum_cached(est, alpha, mr, nr)?, LUMP_BELOW));
     }
-    if alpha == 1 && matches!(est, Estimator::Oadev | Estimator::Ohdev) {
-        return overlapping_flicker_pm_weights(est, m, n);
+    if alpha == 1 && carries_flicker_pm(est) {
+        return flicker_pm_carried_weights(est, m, n, edf);
     }
-    let ratio = (n - 1) as f64 / m as f64;
-    let at = |mm: usize| spectrum_cached(est, alpha, mm, (ratio * mm as f64).round() as usize + 1);
-    let fine = at(REDUCED_M)?;
-    let coarse = at(REDUCED_M / 2)?;
-    // A kept share changes by a step that shrinks by a factor q per
-    // doubling of m: λ(m) = λ16 + d·q·(1 − q^k)/(1 − q), d = λ16 − λ8,
-    // k = log2(m/16). White PM: q = 1/2, i.e. λ = λ∞ + c/m. Flicker PM:
-    // q measured from m′ = 4, 8, 16 (TOTDEV at T/τ = 4: 0.65 … 0.71 from
-    // the exact spectra at m′ = 8 … 128).
-    let doublings = (m as f64 / REDUCED_M as f64).log2().max(0.0);
-    let steps = at(REDUCED_M / 4);
-    let top: Vec<f64> = fine
-        .iter()
-        .zip(&coarse)
-        .enumerate()
-        .take(if alpha == 1 {
+    let top = continued_shares(
+        est,
+        alpha,
+        m,
+        n,
+        if alpha == 1 {
             FPM_SPLIT_TOP
         } else {
             SPLIT_MAX_TOP
-        })
-        .take_while(|(_, (f, c))| **f >= 0.75 * **c)
-        .map(|(i, (f, c))| {
-            let d = f - c;
-            let q = match (alpha, &steps) {
-                (1, Some(s)) if s.len() > i && (c - s[i]) * d > 0.0 => {
-                    (d / (c - s[i])).clamp(0.0, PM_STEP_RATIO_MAX)
-                }
-                _ => 0.5,
-            };
-            f + d * q * (1.0 - q.powf(doublings)) / (1.0 - q)
-        })
-        .take_while(|l| *l > 0.0)
-        .collect();
+        },
+    )?;
     if top.is_empty() {
         return None;
     }
@@ -430,8 +414,49 @@ pub fn pivot_weights(
     Some(w)
 }
 
+/// The leading shares of the split spectrum continued to factor m (at most
+/// `max_top`; see [`pivot_weights`]): those whose share at m′ = 16 is at
+/// least 3/4 of that at m′ = 8, continued as λ(m) = λ16 + d·q·(1 − q^k)/(1 − q),
+/// d = λ16 − λ8, k = log2(m/16) — a step that shrinks by a factor q per
+/// doubling of m. White PM: q = 1/2, i.e. λ = λ∞ + c/m. Flicker PM: q
+/// measured from m′ = 4, 8, 16 (TOTDEV at T/τ = 4: 0.65 … 0.71 from the
+/// exact spectra at m′ = 8 … 128).
+fn continued_shares(
+    est: Estimator,
+    alpha: i32,
+    m: usize,
+    n: usize,
+    max_top: usize,
+) -> Option<Vec<f64>> {
+    let ratio = (n - 1) as f64 / m as f64;
+    let at = |mm: usize| spectrum_cached(est, alpha, mm, (ratio * mm as f64).round() as usize + 1);
+    let fine = at(REDUCED_M)?;
+    let coarse = at(REDUCED_M / 2)?;
+    let doublings = (m as f64 / REDUCED_M as f64).log2().max(0.0);
+    let steps = at(REDUCED_M / 4);
+    let top: Vec<f64> = fine
+        .iter()
+        .zip(&coarse)
+        .enumerate()
+        .take(max_top)
+        .take_while(|(_, (f, c))| **f >= 0.75 * **c)
+        .map(|(i, (f, c))| {
+            let d = f - c;
+            let q = match (alpha, &steps) {
+                (1, Some(s)) if s.len() > i && (c - s[i]) * d > 0.0 => {
+                    (d / (c - s[i])).clamp(0.0, PM_STEP_RATIO_MAX)
+                }
+                _ => 0.5,
+            };
+            f + d * q * (1.0 - q.powf(doublings)) / (1.0 - q)
+        })
+        .take_while(|l| *l > 0.0)
+        .collect();
+    Some(top)
+}
+
 /// The reduced record flicker-PM OADEV and OHDEV take their leading
-/// eigenvalues from ([`overlapping_flicker_pm_weights`]).
+/// eigenvalues from ([`flicker_pm_carried_weights`]).
 pub const FPM_TRANSFER_M: usize = 32;
 
 /// The weights of OADEV or OHDEV on flicker PM at factor m >
@@ -471,18 +496,27 @@ pub const FPM_TRANSFER_M: usize = 32;
 /// reported for the point is Greenhall & Riley's on the discrete
 /// Kasdin–Walter kernel, about 7 % higher at T/τ = 4 (37.5 against 35.0
 /// at m = 1024, N = 4096; seeded Monte Carlo measures 35.5).
-fn overlapping_flicker_pm_weights(est: Estimator, m: usize, n: usize) -> Option<Weights> {
+fn flicker_pm_carried_weights(est: Estimator, m: usize, n: usize, edf: f64) -> Option<Weights> {
     let ratio = (n - 1) as f64 / m as f64;
     let mr = FPM_TRANSFER_M;
     let nr = (ratio * mr as f64).round() as usize + 1;
     let fine = spectrum_cached(est, 1, mr, nr)?;
-    let (mean_r, _) = overlapping_moments(est, 1, mr, nr)?;
-    let (mean_m, nu) = overlapping_moments(est, 1, m, n)?;
+    let (mean_r, _) = flicker_pm_moments(est, mr, nr, edf)?;
+    let (mean_m, nu) = flicker_pm_moments(est, m, n, edf)?;
     let scale = (mean_r / mr as f64) / (mean_m / m as f64);
     if !scale.is_finite() {
         return None;
     }
-    let carried: Vec<f64> = fine.iter().map(|l| l * scale).collect();
+    let carried: Vec<f64> = if est == Estimator::Totdev {
+        totdev_flicker_pm_shares(m, n, mean_m)?
+    } else {
+        fine.iter().map(|l| l * scale).collect()
+    };
+    let base = if est == Estimator::Totdev {
+        FPM_SPLIT_TOP
+    } else {
+        0
+    };
     // The rest's (mean, variance) with the k leading eigenvalues kept.
     let rest = |k: usize| {
         let top = &carried[..k.min(carried.len())];
@@ -491,7 +525,7 @@ fn overlapping_flicker_pm_weights(est: Estimator, m: usize, n: usize) -> Option<
             2.0 / nu - 2.0 * top.iter().map(|l| l * l).sum::<f64>(),
         )
     };
-    let first = carried.first().copied().unwrap_or(0.0);
+    let first = carried.get(base).copied().unwrap_or(0.0);
     let k = (FPM_SPLIT_TOP + 1..=SPLIT_MAX_TOP.min(carried.len()))
         .take_while(|&k| {
             let (mean, var) = rest(k);
@@ -510,6 +544,86 @@ fn overlapping_flicker_pm_weights(est: Estimator, m: usize, n: usize) -> Option<
     let mut w: Weights = top.iter().map(|&l| (l, 1.0)).collect();
     w.push((g, mean_rest / g));
     Some(w)
+}
+
+/// TOTDEV's leading shares on flicker PM at factor m on `n` samples (form
+/// mean `mean_m`): for each of the [`SPLIT_MAX_TOP`] leading eigenvalues,
+/// u = Λ/m (Λ the unnormalised eigenvalue) at m′ = 4, 8, 16 and 32 (same
+/// T/τ), continued to m with increments per doubling that approach a
+/// limit geometrically (`continue_per_doubling`), divided by the exact M(m)/m.
+/// The end pair (x_0 and x_{N−1}, read by every reflected term) grows like
+/// ln m in u — the fine structure of the two end samples adds coherently
+/// to 2(m − 1) terms — while the others settle (exact spectra at T/τ = 4:
+/// u of the pair 5.83, 6.46, 7.15, 7.88, 8.64, 9.42 at m′ = 4 … 128, the
+/// continuation from 4 … 32 gives 8.64 and 9.43 at 64 and 128; the third
+/// 3.21 … 3.68).
+fn totdev_flicker_pm_shares(m: usize, n: usize, mean_m: f64) -> Option<Vec<f64>> {
+    let ratio = (n - 1) as f64 / m as f64;
+    let per_m = |mm: usize| -> Option<Vec<f64>> {
+        let nn = (ratio * mm as f64).round() as usize + 1;
+        let lam = spectrum_cached(Estimator::Totdev, 1, mm, nn)?;
+        let (mean, _) = flicker_pm_moments(Estimator::Totdev, mm, nn, 1.0)?;
+        Some(lam.iter().map(|l| l * mean / mm as f64).collect())
+    };
+    let ms = [4usize, 8, 16, FPM_TRANSFER_M];
+    let u: Vec<Vec<f64>> = ms.iter().map(|&mm| per_m(mm)).collect::<Option<_>>()?;
+    let doublings = (m as f64 / FPM_TRANSFER_M as f64).log2().max(0.0);
+    let count = SPLIT_MAX_TOP.min(u.iter().map(Vec::len).min()?);
+    let shares: Vec<f64> = (0..count)
+        .map(|i| {
+            continue_per_doubling([u[0][i], u[1][i], u[2][i], u[3][i]], doublings)
+                / (mean_m / m as f64)
+        })
+        .collect();
+    shares
+        .iter()
+        .all(|v| v.is_finite() && *v > 0.0)
+        .then_some(shares)
+}
+
+/// Continue a sequence u at four successive doublings of m by `k` more
+/// doublings (k real ≥ 0), its increments per doubling d_j approaching a
+/// limit d∞ geometrically: d_{j+1} − d∞ = r·(d_j − d∞), r from the three
+/// increments (clamped to [0, 0.9]; 1/2 where they do not fix it).
+fn continue_per_doubling(u: [f64; 4], k: f64) -> f64 {
+    let d = [u[1] - u[0], u[2] - u[1], u[3] - u[2]];
+    let (e1, e2) = (d[1] - d[0], d[2] - d[1]);
+    let r = if e1 != 0.0 && (e2 / e1).is_finite() && e2 / e1 > 0.0 {
+        (e2 / e1).min(PM_STEP_RATIO_MAX)
+    } else {
+        0.5
+    };
+    let d_inf = d[2] + e2 * r / (1.0 - r);
+    // Σ_{j=1..k} (d∞ + (d₂ − d∞)·r^j)
+    u[3] + k * d_inf + (d[2] - d_inf) * r * (1.0 - r.powf(k)) / (1.0 - r)
+}
+
+/// True for the estimators whose flicker-PM weights beyond the reduced
+/// record are carried by the exact means ([`flicker_pm_carried_weights`]):
+/// OADEV, OHDEV and TOTDEV.
+fn carries_flicker_pm(est: Estimator) -> bool {
+    matches!(est, Estimator::Oadev | Estimator::Ohdev | Estimator::Totdev)
+}
+
+/// The exact mean of the form of `est` at factor m on `n` samples for
+/// flicker PM, and the EDF the rest is matched to: OADEV and OHDEV both
+/// from their terms ([`overlapping_moments`]); TOTDEV the mean
+/// (N − 2)·B·E_A from its exact bias factor B
+/// ([`crate::stats::totals::totvar_bias`]) and the mean square E_A of an
+/// Allan term, the EDF the point's `edf` (exact from the terms while
+/// m·N ≤ 2²², a lower bound beyond: [`crate::stats::totals`]).
+fn flicker_pm_moments(est: Estimator, m: usize, n: usize, edf: f64) -> Option<(f64, f64)> {
+    match est {
+        Estimator::Oadev | Estimator::Ohdev => overlapping_moments(est, 1, m, n),
+        Estimator::Totdev => {
+            let b = crate::stats::totals::totvar_bias(1, m, n)?;
+            let s = |k: usize| gacv::sampled_phase_gacv_at(1, k).unwrap_or(f64::NAN);
+            let e_a = crate::stats::quadratic::mean_square(&[(0, 1.0), (m, -2.0), (2 * m, 1.0)], s);
+            let mean = (n as f64 - 2.0) * b * e_a;
+            (mean > 0.0 && mean.is_finite() && edf > 0.0).then_some((mean, edf))
+        }
+        _ => None,
+    }
 }
 
 /// The exact mean E\[Q\] and EDF ν = 2E\[Q\]²/Var\[Q\] of the OADEV or
