@@ -358,9 +358,9 @@ pub fn pivot_quantiles(
 ///   ([`spectrum_subsampled`]), each with h = 1;
 /// - FM noises, or m ≤ [`REDUCED_M`]: the eigenvalues of the reduced
 ///   record's form, each with h = 1 (exact for m ≤ m′);
-/// - OADEV and OHDEV on flicker PM at m > m′: the leading eigenvalues of
-///   m′ = [`FPM_TRANSFER_M`] carried by the exact means, the rest matched
-///   to the exact EDF ([`flicker_pm_carried_weights`]);
+/// - OADEV, OHDEV and TOTDEV on flicker PM at m > m′: the leading
+///   eigenvalues carried to m per unit m and divided by the exact mean,
+///   the rest matched to the exact EDF ([`flicker_pm_carried_weights`]);
 /// - other PM cases at m > m′ (the **split spectrum**): the form's bulk splits
 ///   into ever more, ever smaller eigenvalues as m grows at fixed T/τ,
 ///   while a few (TOTDEV's two end samples, read by every reflected term)
@@ -456,11 +456,15 @@ fn continued_shares(
 }
 
 /// The reduced record flicker-PM OADEV and OHDEV take their leading
-/// eigenvalues from ([`flicker_pm_carried_weights`]).
+/// eigenvalues from, and the last of TOTDEV's four
+/// ([`flicker_pm_carried_weights`]).
 pub const FPM_TRANSFER_M: usize = 32;
 
-/// The weights of OADEV or OHDEV on flicker PM at factor m >
-/// [`REDUCED_M`] on `n` samples.
+/// The weights of OADEV, OHDEV or TOTDEV on flicker PM at factor m >
+/// [`REDUCED_M`] on `n` samples (`edf`: the point's, used by TOTDEV).
+/// TOTDEV's leading eigenvalues are continued per unit m from four reduced
+/// records ([`totdev_flicker_pm_shares`]), and beyond its end pair the
+/// rule below compares with the third; OADEV's and OHDEV's as follows.
 ///
 /// Flicker-PM phase at scale m is a log-correlated field: the Allan and
 /// Hadamard combinations cancel the kernel's ln m, so the covariance of
@@ -468,7 +472,10 @@ pub const FPM_TRANSFER_M: usize = 32;
 /// and the leading eigenvalues of the form (the covariance matrix of its
 /// n − d·m terms) grow as m·Λ_i with Λ_i settling fast — exact spectra at
 /// T/τ = 4 (`examples/flicker_pm_spectrum.rs`): Λ_1 = 3.684, 3.676, 3.672,
-/// 3.670, 3.669, 3.668, 3.667 at m = 16 … 1024 for OADEV. The mean of the
+/// 3.670, 3.669, 3.668, 3.667 at m = 16 … 1024 for OADEV. TOTDEV at
+/// m = 512, N = 2049: 0.5983, 0.7211, 1.2797, 1.8311 against the exact
+/// 0.6004, 0.7197, 1.2803, 1.8305 (the former share continuation: 0.6268,
+/// 0.7325, 1.273, 1.8512). The mean of the
 /// form grows faster (each doubling of m adds an octave of fine structure,
 /// about 2.6·m to the OADEV mean per doubling), so the leading *shares*
 /// fall like 1/ln m — the geometric continuation of the shares that the
@@ -702,13 +709,13 @@ pub fn lumped(lam: &[f64], below: f64) -> Vec<(f64, f64)> {
 /// flicker-PM share with ([`pivot_weights`]).
 pub const PM_STEP_RATIO_MAX: f64 = 0.9;
 
-/// For flicker PM the split spectrum keeps at most this many leading
-/// eigenvalues: TOTDEV's pair for its two end samples. Beyond them the
-/// flicker-PM bulk's shares also hold from m′ = 8 to 16 but keep falling
-/// with m, and kept apart they take all the variance the exact EDF leaves
-/// (no rest; the χ² model would be used). Seeded Monte Carlo (N = 4096,
-/// 400 records, `examples/coverage.rs`): T/τ = 16, 8, 4 cover 0.677,
-/// 0.672, 0.642 at 68.3 % with the pair, 0.677, 0.672, 0.755 with three.
+/// For flicker PM the split spectrum of MDEV, TDEV and the modified totals
+/// keeps at most this many leading eigenvalues, continued as shares; OADEV,
+/// OHDEV and TOTDEV keep at least this many, carried per unit m
+/// ([`flicker_pm_carried_weights`]). Continued as shares, further
+/// eigenvalues (whose shares fall like 1/ln m) took all the variance the
+/// exact EDF leaves.
+
 pub const FPM_SPLIT_TOP: usize = 2;
 
 /// At most this many leading eigenvalues are kept apart in the split
