@@ -264,7 +264,7 @@ fn strided_gacv(alpha: i32, m: usize, k: usize) -> Option<Vec<f64>> {
 /// x_{km}, k = ⌊(n − 1)/m⌋: the estimate at factor m on n samples is
 /// exactly the estimate at factor 1 on those k + 1 samples, whose
 /// covariance is the phase GACV at lags that are multiples of m
-/// ([`strided_gacv`]; analytic). So the spectrum is exact for every noise
+/// (`strided_gacv`; analytic). So the spectrum is exact for every noise
 /// type and every m, at O(k³) instead of the whole record's O(n³), and
 /// T/τ is never rounded (the reduced record of m′ = 16 samples per τ gave
 /// T/τ = 3.999 a third Allan term where the record has two). At the
@@ -360,7 +360,7 @@ pub fn pivot_quantiles(
 ///   record's form, each with h = 1 (exact for m ≤ m′);
 /// - OADEV, OHDEV and TOTDEV on flicker PM at m > m′: the leading
 ///   eigenvalues carried to m per unit m and divided by the exact mean,
-///   the rest matched to the exact EDF ([`flicker_pm_carried_weights`]);
+///   the rest matched to the exact EDF (`flicker_pm_carried_weights`);
 /// - other PM cases at m > m′ (the **split spectrum**): the form's bulk splits
 ///   into ever more, ever smaller eigenvalues as m grows at fixed T/τ,
 ///   while a few (TOTDEV's two end samples, read by every reflected term)
@@ -457,7 +457,7 @@ fn continued_shares(
 
 /// The reduced record flicker-PM OADEV and OHDEV take their leading
 /// eigenvalues from, and the last of TOTDEV's four
-/// ([`flicker_pm_carried_weights`]).
+/// (`flicker_pm_carried_weights`).
 pub const FPM_TRANSFER_M: usize = 32;
 
 /// The weights of OADEV, OHDEV or TOTDEV on flicker PM at factor m >
@@ -606,7 +606,7 @@ fn continue_per_doubling(u: [f64; 4], k: f64) -> f64 {
 }
 
 /// True for the estimators whose flicker-PM weights beyond the reduced
-/// record are carried by the exact means ([`flicker_pm_carried_weights`]):
+/// record are carried by the exact means (`flicker_pm_carried_weights`):
 /// OADEV, OHDEV and TOTDEV.
 fn carries_flicker_pm(est: Estimator) -> bool {
     matches!(est, Estimator::Oadev | Estimator::Ohdev | Estimator::Totdev)
@@ -712,7 +712,7 @@ pub const PM_STEP_RATIO_MAX: f64 = 0.9;
 /// For flicker PM the split spectrum of MDEV, TDEV and the modified totals
 /// keeps at most this many leading eigenvalues, continued as shares; OADEV,
 /// OHDEV and TOTDEV keep at least this many, carried per unit m
-/// ([`flicker_pm_carried_weights`]). Continued as shares, further
+/// (`flicker_pm_carried_weights`). Continued as shares, further
 /// eigenvalues (whose shares fall like 1/ln m) took all the variance the
 /// exact EDF leaves.
 
