@@ -715,7 +715,6 @@ pub const PM_STEP_RATIO_MAX: f64 = 0.9;
 /// (`flicker_pm_carried_weights`). Continued as shares, further
 /// eigenvalues (whose shares fall like 1/ln m) took all the variance the
 /// exact EDF leaves.
-
 pub const FPM_SPLIT_TOP: usize = 2;
 
 /// At most this many leading eigenvalues are kept apart in the split
