@@ -195,29 +195,25 @@ pub(crate) fn autocorrelation_sum(
     buf
 }
 
-/// out\[ℓ\] −= hd(ℓ) + tl(ℓ), ℓ = 0 … lags (out.len() > lags), hd and tl
-/// the autocorrelations of a_t = `a(t)` and b_t = `b(t)`, t < len: by
-/// [`autocorrelation_sum`] below S = [`IN_PLACE_FROM`], from there on one
-/// in-place autocorrelation at a time, each subtracted as it comes (8 bytes
-/// a point of S beyond `out`).
-pub(crate) fn subtract_autocorrelations(
+/// Hands hd(ℓ) + tl(ℓ), ℓ = 0 … lags, to `visit`, hd and tl the
+/// autocorrelations of a_t = `a(t)` and b_t = `b(t)`, t < len: below
+/// S = [`IN_PLACE_FROM`] as one slice of their sum ([`autocorrelation_sum`]);
+/// from there on as two slices, hd then tl, each computed in place after the
+/// previous one is given back (8 bytes a point of S at a time, nothing held
+/// beside it by this function).
+pub(crate) fn visit_autocorrelations(
     len: usize,
     a: impl Fn(usize) -> f64,
     b: impl Fn(usize) -> f64,
     lags: usize,
-    out: &mut [f64],
+    mut visit: impl FnMut(&[f64]),
 ) {
     let size = smooth_size(len + lags);
-    let sub = |out: &mut [f64], v: Vec<f64>| {
-        for (o, v) in out.iter_mut().zip(&v) {
-            *o -= v;
-        }
-    };
     if size >= IN_PLACE_FROM {
-        sub(out, autocorrelation(len, a, lags));
-        sub(out, autocorrelation(len, b, lags));
+        visit(&autocorrelation(len, a, lags));
+        visit(&autocorrelation(len, b, lags));
     } else {
-        sub(out, autocorrelation_sum(len, a, b, lags));
+        visit(&autocorrelation_sum(len, a, b, lags));
     }
 }
 

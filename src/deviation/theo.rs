@@ -238,44 +238,65 @@ fn add_to(acc: &mut (f64, f64), v: f64) {
 }
 
 /// The rest of [`theo1_block`] once R(ℓ) (ℓ ≤ m at least; taken and
-/// reused as scratch) of y (len = n + m samples, y_t = `y(t)`) is known.
+/// given back first) of y (len = n + m samples, y_t = `y(t)`) is known.
 ///
 /// With Q(ℓ) = 2R(ℓ) − hd(ℓ) − tl(ℓ) the sum of [`theo1_block`] is
 /// Σ_k [S_k − 2Q(k) − 2Q(m−k) + 2R(m−2k) + 2R(m)]/k − 2·(triangles), S_k the
 /// four windowed sums of squares Σ_{i<n} y_{a+i}² (a = 0, k, m − k, m).
-/// The R-only part is summed first, then R becomes Q in place: the head and
-/// tail autocorrelations hd, tl (ℓ < m; [`super::correlate::subtract_autocorrelations`])
-/// are subtracted from 2R, so one array of m + 1 values is held. The
-/// windowed sums are running compensated sums (from the total less the
-/// samples outside the window when `total` is given and the window is the
-/// longer part); then the two triangle sums, one copy of m samples at a
-/// time.
+/// Its R part Σ_k [2R(m−2k) + 2R(m) − 4R(k) − 4R(m−k)]/k is summed first
+/// and R is dropped; the head and tail autocorrelations hd, tl (ℓ < m) enter
+/// only as Σ_ℓ w(ℓ)·(hd(ℓ) + tl(ℓ)), w(ℓ) = 1/ℓ below m/2, 1/(m − ℓ) above,
+/// 4/m at m/2 (the k and m − k of each pair), so each is reduced as it comes
+/// ([`super::correlate::visit_autocorrelations`]) and never held beside R:
+/// at the largest factors (one block of the whole record, m ≈ 0.9·N) the
+/// peak is the larger of R's transform (8·smooth(len + m) bytes) and the
+/// head's (8·smooth(2m − 1)), not their sum. Every part is a compensated
+/// sum, added in one compensated accumulator (the parts cancel to the
+/// m-scale differences); the windowed sums of squares are running
+/// compensated sums (from the total less the samples outside the window
+/// when `total` is given and the window is the longer part); then the two
+/// triangle sums.
 fn block_sum_given(
     y: &impl Fn(usize) -> f64,
     len: usize,
-    mut r: Vec<f64>,
+    r: Vec<f64>,
     m: usize,
     total: Option<(f64, f64)>,
 ) -> f64 {
     let n = len - m;
     let half = m / 2;
-    r.truncate(m + 1);
-    let mut fixed = (0.0f64, 0.0f64);
+    let mut acc = (0.0f64, 0.0f64);
     for k in 1..=half {
-        add_to(&mut fixed, 2.0 * (r[m - 2 * k] + r[m]) / k as f64);
+        let v = 2.0 * (r[m - 2 * k] + r[m]) - 4.0 * (r[k] + r[m - k]);
+        add_to(&mut acc, v / k as f64);
     }
-    for v in r.iter_mut() {
-        *v *= 2.0;
-    }
-    super::correlate::subtract_autocorrelations(m, y, |t| y(n + t), m - 1, &mut r);
-    let q = r;
-    let sum = |a: (f64, f64)| a.0 + a.1;
-    let s0 = sum(square_sum(y, 0, n, len, total));
-    let sm = sum(square_sum(y, m, n, len, total));
+    drop(r);
+    // + 2·Σ_k [hd(k) + tl(k) + hd(m−k) + tl(m−k)]/k.
+    let weight = |l: usize| {
+        if 2 * l < m {
+            1.0 / l as f64
+        } else if 2 * l == m {
+            4.0 / m as f64
+        } else {
+            1.0 / (m - l) as f64
+        }
+    };
+    super::correlate::visit_autocorrelations(
+        m,
+        y,
+        |t| y(n + t),
+        m - 1,
+        |v| {
+            for (l, &c) in v.iter().enumerate().take(m).skip(1) {
+                add_to(&mut acc, 2.0 * weight(l) * c);
+            }
+        },
+    );
+    let s0 = square_sum(y, 0, n, len, total);
+    let sm = square_sum(y, m, n, len, total);
     // up = Σ_{i<n} y_{k+i}², down = Σ_{i<n} y_{m−k+i}², k = 1 … m/2.
     let mut up = square_sum(y, 1, n, len, total);
     let mut down = square_sum(y, m - 1, n, len, total);
-    let mut moving = (0.0f64, 0.0f64);
     for k in 1..=half {
         if k > 1 {
             let (a, b) = (y(k - 1), y(k - 1 + n));
@@ -285,13 +306,14 @@ fn block_sum_given(
             add_to(&mut down, c * c);
             add_to(&mut down, -(d * d));
         }
-        let d12 = sum(up) + s0 + sm + sum(down) - 2.0 * q[k] - 2.0 * q[m - k];
-        add_to(&mut moving, d12 / k as f64);
+        let kf = k as f64;
+        for part in [up, s0, sm, down] {
+            add_to(&mut acc, part.0 / kf);
+            add_to(&mut acc, part.1 / kf);
+        }
     }
-    drop(q);
-    let acc = sum(fixed) + sum(moving);
     let tri = head_triangle(&|t| y(t), m) + head_triangle(&|t| y(len - 1 - t), m);
-    acc - 2.0 * tri
+    (acc.0 + acc.1) - 2.0 * tri
 }
 
 /// Σ_{k=1}^{m/2} (1/k)·Σ_{j<k} z_j·z_{j+m−2k} for z_t = `z(t)`, t < m (m
@@ -324,28 +346,37 @@ fn lower_pairs<Z: Fn(usize) -> f64>(z: &Z, m: usize, lo: usize, hi: usize) -> f6
         return 0.0;
     }
     if hi - lo <= LEAF {
-        // The weights of s = u + w ∈ [2·lo, 2·hi) once; only odd s count.
+        // Only odd s = 2·lo + u + v count (u, v block offsets, v > u):
+        // ho[r] = h(2·lo + 2r + 1); an even u = 2p pairs with the odd
+        // v = 2q + 1 (q ≥ p), an odd u = 2p + 1 with the even v = 2q
+        // (q > p), both at ho[p + q]: contiguous dot products.
         let w = hi - lo;
-        let mut h = [0.0f64; 2 * LEAF];
-        for (i, v) in h[..2 * w].iter_mut().enumerate() {
-            *v = triangle_weight(2 * lo + i, m);
+        let mut ho = [0.0f64; LEAF];
+        for (r, v) in ho[..w].iter_mut().enumerate() {
+            *v = triangle_weight(2 * lo + 2 * r + 1, m);
         }
         let mut a = [0.0f64; LEAF];
-        let mut b = [0.0f64; LEAF];
+        let mut be = [0.0f64; LEAF / 2 + 1];
+        let mut bo = [0.0f64; LEAF / 2 + 1];
         for i in 0..w {
             a[i] = z(lo + i);
-            b[i] = z(m - 1 - (lo + i));
-        }
-        let mut s = 0.0;
-        for u in 0..w {
-            let mut inner = 0.0;
-            // w ≥ u with u + w odd.
-            let mut v = u + 1;
-            while v < w {
-                inner += h[u + v] * b[v];
-                v += 2;
+            let bv = z(m - 1 - (lo + i));
+            if i % 2 == 0 {
+                be[i / 2] = bv;
+            } else {
+                bo[i / 2] = bv;
             }
-            s += a[u] * inner;
+        }
+        let (ne, no) = (w.div_ceil(2), w / 2);
+        let mut s = 0.0;
+        for (u, &au) in a[..w].iter().enumerate() {
+            let p = u / 2;
+            let inner = if u % 2 == 0 {
+                dot(&ho[2 * p..], &bo[p..no])
+            } else {
+                dot(&ho[2 * p + 1..], &be[(p + 1).min(ne)..ne])
+            };
+            s += au * inner;
         }
         return s;
     }
@@ -387,22 +418,55 @@ fn cross_pairs(
     let top = (la + lb - 1).min(m - offset);
     let (la, lb) = (la.min(top), lb.min(top));
     if la * lb <= 4096 {
-        let h: Vec<f64> = (0..top).map(|t| triangle_weight(offset + t, m)).collect();
-        let bv: Vec<f64> = (0..lb).map(&b).collect();
+        // Only t = u + w with offset + t odd counts: hp[r] = h(offset + 2r + π),
+        // π the parity of those t; w of the parity that makes u + w ≡ π,
+        // w = 2q + pw, read from the split bp (contiguous dot products).
+        let par = (offset + 1) % 2;
+        let hp: Vec<f64> = (0..top.div_ceil(2))
+            .map(|r| triangle_weight(offset + 2 * r + par, m))
+            .collect();
+        let split: [Vec<f64>; 2] = [
+            (0..lb).step_by(2).map(&b).collect(),
+            (1..lb).step_by(2).map(&b).collect(),
+        ];
         let mut s = 0.0;
         for u in 0..la {
-            let x = a(u);
-            let mut inner = 0.0;
-            for (w, &v) in bv.iter().enumerate().take(top.saturating_sub(u)) {
-                inner += h[u + w] * v;
+            let pw = (par + u) % 2;
+            if u + pw >= top {
+                continue;
             }
-            s += x * inner;
+            // q < ⌈(top − u − pw)/2⌉ keeps t < top; r = (u + pw − π)/2 + q.
+            let qn = (top - u - pw).div_ceil(2).min(split[pw].len());
+            let r0 = (u + pw - par) / 2;
+            s += a(u) * dot(&hp[r0..], &split[pw][..qn]);
         }
         return s;
     }
     super::correlate::weighted_convolution_sum(a, la, b, lb, top, |t| {
         triangle_weight(offset + t, m)
     })
+}
+
+/// Σ_i x_i·y_i over the shorter of the two, in four running sums (so that
+/// the loop vectorises; the order of the additions is fixed by the lengths
+/// alone).
+#[inline]
+fn dot(x: &[f64], y: &[f64]) -> f64 {
+    let n = x.len().min(y.len());
+    let (x, y) = (&x[..n], &y[..n]);
+    let mut acc = [0.0f64; 4];
+    let (xc, yc) = (x.chunks_exact(4), y.chunks_exact(4));
+    let (xr, yr) = (xc.remainder(), yc.remainder());
+    for (p, q) in xc.zip(yc) {
+        for l in 0..4 {
+            acc[l] += p[l] * q[l];
+        }
+    }
+    let mut s = (acc[0] + acc[2]) + (acc[1] + acc[3]);
+    for (p, q) in xr.iter().zip(yr) {
+        s += p * q;
+    }
+    s
 }
 
 /// Σ_{i<n} (x_{i+o0} − x_{i+o1} − x_{i+o2} + x_{i+o3})², vectorisable.
