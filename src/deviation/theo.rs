@@ -41,7 +41,8 @@ pub(crate) fn theo_factor(m: usize, n_phase: usize) -> Option<usize> {
 ///   vectorised pass over four shifted copies of each gap-free stretch;
 ///   O(N·m/2) per τ.
 /// - from [`BLOCK_FORM_FROM`] on: the correlation form of [`theo1_block`]
-///   on blocks of 3m terms; O(N·log²m) per τ, memory O(m) per thread.
+///   on blocks of [`BLOCK_TERMS`]·m terms; O(N·log²m) per τ, memory O(m)
+///   per thread.
 pub(crate) fn theo1_sum(p: &Prepared, m: usize) -> (f64, usize) {
     let x = p.x;
     let n = x.len();
@@ -65,9 +66,9 @@ pub(crate) fn theo1_sum(p: &Prepared, m: usize) -> (f64, usize) {
         return (0.0, 0);
     }
     if m >= BLOCK_FORM_FROM {
-        // Blocks of at most 3m terms (the first index of each block and its
+        // Blocks of at most BLOCK_TERMS·m terms (the first index of each block and its
         // number of terms), summed in record order.
-        let per_block = 3 * m;
+        let per_block = BLOCK_TERMS * m;
         let blocks: Vec<(usize, usize)> = stretches
             .iter()
             .flat_map(|&(a, b)| {
@@ -159,6 +160,17 @@ impl Drop for BlockMemory {
 /// where a record holds few terms.
 const DIRECT_TERMS: usize = 32;
 
+/// A Theo1 block of the correlation form holds up to this many times m
+/// terms (len ≤ 13m samples). Each block pays its head and tail (the
+/// triangle sums, O(m·log²m), most of a block's cost, and the head and
+/// tail autocorrelations) once, so longer blocks share them among more
+/// terms: at 12m the edges cost a quarter of what they cost at 3m per
+/// term, while the block's own transform grows only as its length. The
+/// rounding of the form grows with the block's spread against its m-scale
+/// differences, about (len/m)³ on random-walk FM (see [`theo1_sums_many`]):
+/// at 13m some 1e-13 relative, tested to 1e-10 against the direct sum.
+const BLOCK_TERMS: usize = 12;
+
 /// Theo1 factors from this one on use the correlation form
 /// ([`theo1_block`]); below it the direct sum is as fast.
 pub(crate) const BLOCK_FORM_FROM: usize = 192;
@@ -194,7 +206,7 @@ fn theo1_block(seg: &[f64], m: usize) -> f64 {
     // R(ℓ), ℓ = 0 … m, by one real FFT of the block (zero-padded).
     let r = super::correlate::autocorrelation(len, y, m);
     // The compensated total of squares: each windowed sum is then the
-    // total less the samples outside it (m of the 4m, not 3m).
+    // total less the samples outside it (m samples, not the n of the window).
     let total = square_sum(&y, 0, len, len, None);
     block_sum_given(&y, len, r, m, Some(total))
 }
@@ -678,7 +690,8 @@ impl<'a> WholeStretch<'a> {
 /// The single-block form ([`WholeStretch`]) serves a stretch at factor m
 /// when the stretch is at most this many times m: its rounding grows as
 /// (len/m)³ on random-walk FM (see [`theo1_sums_many`]); the tests bound
-/// it at this ratio. Longer stretches take [`theo1_sum`] (blocks of 3m).
+/// it at this ratio. Longer stretches take [`theo1_sum`] (blocks of
+/// [`BLOCK_TERMS`]·m terms).
 const WHOLE_UP_TO: usize = 400;
 
 /// The ThêoBR ratio from the subset of pairs [`theobr_nodes`]: each
@@ -901,7 +914,7 @@ mod tests {
     /// The block correlation form equals the direct double sum (SP 1065
     /// eq. 31) to 1e-10 relative on white + random-walk phase and on
     /// random-walk FM with a frequency offset, for blocks of n terms of
-    /// several shapes (n < m, n = m, n = 3m).
+    /// several shapes (n < m, n = m, n = 3m, n = [`BLOCK_TERMS`]·m).
     #[test]
     fn block_form_equals_the_direct_sum() {
         let mut rng = ChaCha8Rng::seed_from_u64(9);
@@ -921,7 +934,13 @@ mod tests {
             })
             .collect();
         for x in [a, b] {
-            for (m, n) in [(200usize, 50usize), (256, 256), (300, 900), (1000, 399)] {
+            for (m, n) in [
+                (200usize, 50usize),
+                (256, 256),
+                (300, 900),
+                (1000, 399),
+                (100, 100 * BLOCK_TERMS),
+            ] {
                 let seg = &x[..n + m];
                 let p = Prepared::new(seg, 1.0);
                 let half = m / 2;
