@@ -194,7 +194,7 @@ pub(crate) const BLOCK_FORM_FROM: usize = 192;
 /// H_k = Σ_{j<k} y_j·y_{j+m−2k} are the products at lag m − 2k whose two
 /// indices add to less than m (a triangle, not a segment), and T_k the same
 /// at the other end (H_k of the reversed segment); their weighted sum
-/// Σ_k H_k/k comes from [`head_triangle`]. R, hd and tl come from FFTs; the
+/// Σ_k H_k/k comes from [`two_triangles`]. R, hd and tl come from FFTs; the
 /// sums of squares from double-double prefix sums. Rounding: the products
 /// are of a local, detrended y over 4m samples, so the cancellation is
 /// bounded (tested to 1e-10 relative against the direct sum, random-walk FM
@@ -324,24 +324,42 @@ fn block_sum_given(
             add_to(&mut acc, part.1 / kf);
         }
     }
-    let tri = head_triangle(&|t| y(t), m) + head_triangle(&|t| y(len - 1 - t), m);
+    let tri = two_triangles(&|t| y(t), &|t| y(len - 1 - t), m);
     (acc.0 + acc.1) - 2.0 * tri
 }
 
-/// Σ_{k=1}^{m/2} (1/k)·Σ_{j<k} z_j·z_{j+m−2k} for z_t = `z(t)`, t < m (m
-/// even): the products z_u·z_v, u ≤ v, v − u even, u + v < m, each weighted
-/// by 2/(m − (v − u)). With w = m − 1 − v and b_w = z_{m−1−w} this is
-/// Σ_{u≤w} h(u+w)·z_u·b_w, h(s) = 2/(s+1) for odd s < m, else 0: split
-/// [0, m) in halves, the pairs across the split are one weighted
-/// convolution sum (FFT), the pairs within each half recurse. O(m·log²m).
-/// z is never stored whole: each cross term reads it where it fills its
-/// transform (16 bytes a point of at most m, [`cross_pairs`]). Generic in
-/// z, so that every read is inlined (no dynamic call a sample).
+/// The triangle sum of one sequence (the tests' handle on
+/// [`two_triangles`]).
+#[cfg(test)]
 fn head_triangle<Z: Fn(usize) -> f64>(z: &Z, m: usize) -> f64 {
-    lower_pairs(z, m, 0, m)
+    two_triangles(z, &|_| 0.0, m)
 }
 
-/// h(s) of [`head_triangle`]: 2/(s+1) for odd s < m, else 0.
+/// The triangle sum T(z) = Σ_{k=1}^{m/2} (1/k)·Σ_{j<k} z_j·z_{j+m−2k}
+/// (z_t, t < m, m even) of two sequences z1, z2 — the head of a block and
+/// its tail read backwards —, added: T(z1) + T(z2).
+///
+/// T(z) sums the products z_u·z_v, u ≤ v, v − u even, u + v < m, each
+/// weighted by 2/(m − (v − u)). With w = m − 1 − v and b_w = z_{m−1−w} this
+/// is Σ_{u≤w} h(u+w)·z_u·b_w, h(s) = 2/(s+1) for odd s < m, else 0: split
+/// [0, m) in halves, the pairs across the split are one weighted
+/// convolution sum (FFT), the pairs within each half recurse. O(m·log²m).
+/// The two sequences share the recursion: each cross term adds their two
+/// products of spectra before one inverse transform, from the even and odd
+/// halves of the pieces (h vanishes at even s;
+/// [`super::correlate::weighted_convolution_pair_sum`]). z is never stored
+/// whole: each cross term reads it where it fills its transform (16 bytes a
+/// point of at most m, [`cross_pairs`]). Generic in z, so that every read
+/// is inlined (no dynamic call a sample).
+fn two_triangles<Z1, Z2>(z1: &Z1, z2: &Z2, m: usize) -> f64
+where
+    Z1: Fn(usize) -> f64,
+    Z2: Fn(usize) -> f64,
+{
+    lower_pairs(z1, z2, m, 0, m)
+}
+
+/// h(s) of [`two_triangles`]: 2/(s+1) for odd s < m, else 0.
 #[inline]
 fn triangle_weight(s: usize, m: usize) -> f64 {
     if s % 2 == 1 && s < m {
@@ -352,55 +370,72 @@ fn triangle_weight(s: usize, m: usize) -> f64 {
 }
 
 /// Σ_{lo ≤ u ≤ w < hi} h(u+w)·z_u·b_w, b_w = z_{m−1−w}, with h of
-/// [`triangle_weight`] (zero from s = m on; see [`head_triangle`]).
-fn lower_pairs<Z: Fn(usize) -> f64>(z: &Z, m: usize, lo: usize, hi: usize) -> f64 {
+/// [`triangle_weight`] (zero from s = m on; see [`two_triangles`]), for
+/// z = z1 and z = z2, added.
+fn lower_pairs<Z1, Z2>(z1: &Z1, z2: &Z2, m: usize, lo: usize, hi: usize) -> f64
+where
+    Z1: Fn(usize) -> f64,
+    Z2: Fn(usize) -> f64,
+{
     if 2 * lo >= m || hi <= lo {
         return 0.0;
     }
     if hi - lo <= LEAF {
-        // Only odd s = 2·lo + u + v count (u, v block offsets, v > u):
-        // ho[r] = h(2·lo + 2r + 1); an even u = 2p pairs with the odd
-        // v = 2q + 1 (q ≥ p), an odd u = 2p + 1 with the even v = 2q
-        // (q > p), both at ho[p + q]: contiguous dot products.
-        let w = hi - lo;
-        let mut ho = [0.0f64; LEAF];
-        for (r, v) in ho[..w].iter_mut().enumerate() {
-            *v = triangle_weight(2 * lo + 2 * r + 1, m);
-        }
-        let mut a = [0.0f64; LEAF];
-        let mut be = [0.0f64; LEAF / 2 + 1];
-        let mut bo = [0.0f64; LEAF / 2 + 1];
-        for i in 0..w {
-            a[i] = z(lo + i);
-            let bv = z(m - 1 - (lo + i));
-            if i % 2 == 0 {
-                be[i / 2] = bv;
-            } else {
-                bo[i / 2] = bv;
-            }
-        }
-        let (ne, no) = (w.div_ceil(2), w / 2);
-        let mut s = 0.0;
-        for (u, &au) in a[..w].iter().enumerate() {
-            let p = u / 2;
-            let inner = if u % 2 == 0 {
-                dot(&ho[2 * p..], &bo[p..no])
-            } else {
-                dot(&ho[2 * p + 1..], &be[(p + 1).min(ne)..ne])
-            };
-            s += au * inner;
-        }
-        return s;
+        return leaf_pairs(z1, m, lo, hi) + leaf_pairs(z2, m, lo, hi);
     }
     let mid = (lo + hi) / 2;
-    let mut s = lower_pairs(z, m, lo, mid) + lower_pairs(z, m, mid, hi);
+    let mut s = lower_pairs(z1, z2, m, lo, mid) + lower_pairs(z1, z2, m, mid, hi);
     if lo + mid < m {
         // u ∈ [lo, mid), w ∈ [mid, hi), s = u + w < m: only the first
         // m − (lo + mid) of each side can pair.
         let top = m - (lo + mid);
         let la = (mid - lo).min(top);
         let lb = (hi - mid).min(top);
-        s += cross_pairs(|u| z(lo + u), la, |w| z(m - 1 - mid - w), lb, lo + mid, m);
+        s += cross_pairs(
+            (|u| z1(lo + u), |w| z1(m - 1 - mid - w)),
+            (|u| z2(lo + u), |w| z2(m - 1 - mid - w)),
+            (la, lb),
+            lo + mid,
+            m,
+        );
+    }
+    s
+}
+
+/// [`lower_pairs`] of one sequence on a block of at most [`LEAF`] samples,
+/// summed directly.
+fn leaf_pairs(z: &impl Fn(usize) -> f64, m: usize, lo: usize, hi: usize) -> f64 {
+    // Only odd s = 2·lo + u + v count (u, v block offsets, v > u):
+    // ho[r] = h(2·lo + 2r + 1); an even u = 2p pairs with the odd
+    // v = 2q + 1 (q ≥ p), an odd u = 2p + 1 with the even v = 2q
+    // (q > p), both at ho[p + q]: contiguous dot products.
+    let w = hi - lo;
+    let mut ho = [0.0f64; LEAF];
+    for (r, v) in ho[..w].iter_mut().enumerate() {
+        *v = triangle_weight(2 * lo + 2 * r + 1, m);
+    }
+    let mut a = [0.0f64; LEAF];
+    let mut be = [0.0f64; LEAF / 2 + 1];
+    let mut bo = [0.0f64; LEAF / 2 + 1];
+    for i in 0..w {
+        a[i] = z(lo + i);
+        let bv = z(m - 1 - (lo + i));
+        if i % 2 == 0 {
+            be[i / 2] = bv;
+        } else {
+            bo[i / 2] = bv;
+        }
+    }
+    let (ne, no) = (w.div_ceil(2), w / 2);
+    let mut s = 0.0;
+    for (u, &au) in a[..w].iter().enumerate() {
+        let p = u / 2;
+        let inner = if u % 2 == 0 {
+            dot(&ho[2 * p..], &bo[p..no])
+        } else {
+            dot(&ho[2 * p + 1..], &be[(p + 1).min(ne)..ne])
+        };
+        s += au * inner;
     }
     s
 }
@@ -409,54 +444,75 @@ fn lower_pairs<Z: Fn(usize) -> f64>(z: &Z, m: usize, lo: usize, hi: usize) -> f6
 /// directly.
 const LEAF: usize = 64;
 
-/// Σ_{u,w} h(offset+u+w)·a_u·b_w over all u < la, w < lb (a_u = `a(u)`,
-/// b_w = `b(w)`), h of [`triangle_weight`]: Σ_s h(offset+s)·(a ∗ b)(s),
-/// directly for small pieces, else by one FFT convolution
-/// ([`super::correlate::weighted_convolution_sum`]) that reads a and b
-/// where it fills its buffer. Never split: a split in quarters (three of
-/// which reach below m) costs 1.5 times its whole at each level, which
+/// Σ_{u,w} h(offset+u+w)·a_u·b_w over all u < la, w < lb, h of
+/// [`triangle_weight`], for the pairs (a, b) = `p1` and `p2`, added:
+/// Σ_s h(offset+s)·[(a1 ∗ b1)(s) + (a2 ∗ b2)(s)], directly for small
+/// pieces, else by FFT convolutions
+/// ([`super::correlate::weighted_convolution_pair_sum`]) that read a and b
+/// where they fill their buffers. Never split: a split in quarters (three
+/// of which reach below m) costs 1.5 times its whole at each level, which
 /// made the largest factors grow as m^1.6.
-fn cross_pairs(
-    a: impl Fn(usize) -> f64,
-    la: usize,
-    b: impl Fn(usize) -> f64,
-    lb: usize,
+fn cross_pairs<A1, B1, A2, B2>(
+    p1: (A1, B1),
+    p2: (A2, B2),
+    (la, lb): (usize, usize),
     offset: usize,
     m: usize,
-) -> f64 {
+) -> f64
+where
+    A1: Fn(usize) -> f64,
+    B1: Fn(usize) -> f64,
+    A2: Fn(usize) -> f64,
+    B2: Fn(usize) -> f64,
+{
     if offset >= m || la == 0 || lb == 0 {
         return 0.0;
     }
     let top = (la + lb - 1).min(m - offset);
     let (la, lb) = (la.min(top), lb.min(top));
+    // Only t = u + w with offset + t odd counts.
+    let par = (offset + 1) % 2;
     if la * lb <= 4096 {
-        // Only t = u + w with offset + t odd counts: hp[r] = h(offset + 2r + π),
-        // π the parity of those t; w of the parity that makes u + w ≡ π,
-        // w = 2q + pw, read from the split bp (contiguous dot products).
-        let par = (offset + 1) % 2;
         let hp: Vec<f64> = (0..top.div_ceil(2))
             .map(|r| triangle_weight(offset + 2 * r + par, m))
             .collect();
-        let split: [Vec<f64>; 2] = [
-            (0..lb).step_by(2).map(&b).collect(),
-            (1..lb).step_by(2).map(&b).collect(),
-        ];
-        let mut s = 0.0;
-        for u in 0..la {
-            let pw = (par + u) % 2;
-            if u + pw >= top {
-                continue;
-            }
-            // q < ⌈(top − u − pw)/2⌉ keeps t < top; r = (u + pw − π)/2 + q.
-            let qn = (top - u - pw).div_ceil(2).min(split[pw].len());
-            let r0 = (u + pw - par) / 2;
-            s += a(u) * dot(&hp[r0..], &split[pw][..qn]);
-        }
-        return s;
+        return direct_cross(&p1.0, &p1.1, la, lb, top, par, &hp)
+            + direct_cross(&p2.0, &p2.1, la, lb, top, par, &hp);
     }
-    super::correlate::weighted_convolution_sum(a, la, b, lb, top, |t| {
+    super::correlate::weighted_convolution_pair_sum(p1, p2, (la, lb), top, par, |t| {
         triangle_weight(offset + t, m)
     })
+}
+
+/// Σ_{u<la, w<lb, t=u+w<top} hp[(t − π)/2]·a_u·b_w over the t ≡ π (mod 2)
+/// (the weights of the other parity are zero): for each u the w of the
+/// parity that makes u + w ≡ π, w = 2q + pw, read from the split b
+/// (contiguous dot products).
+fn direct_cross(
+    a: &impl Fn(usize) -> f64,
+    b: &impl Fn(usize) -> f64,
+    la: usize,
+    lb: usize,
+    top: usize,
+    par: usize,
+    hp: &[f64],
+) -> f64 {
+    let split: [Vec<f64>; 2] = [
+        (0..lb).step_by(2).map(b).collect(),
+        (1..lb).step_by(2).map(b).collect(),
+    ];
+    let mut s = 0.0;
+    for u in 0..la {
+        let pw = (par + u) % 2;
+        if u + pw >= top {
+            continue;
+        }
+        // q < ⌈(top − u − pw)/2⌉ keeps t < top; r = (u + pw − π)/2 + q.
+        let qn = (top - u - pw).div_ceil(2).min(split[pw].len());
+        let r0 = (u + pw - par) / 2;
+        s += a(u) * dot(&hp[r0..], &split[pw][..qn]);
+    }
+    s
 }
 
 /// Σ_i x_i·y_i over the shorter of the two, in four running sums (so that
@@ -887,14 +943,14 @@ mod tests {
     /// (seeded records of WPM, FPM, WFM, FFM and RWFM, with and without gaps).
     const SAMPLED_BOUND: f64 = 0.005;
 
-    /// The triangle sum of `head_triangle` (D&C with FFT) equals its
-    /// definition summed directly, for lengths across the direct/FFT
-    /// thresholds (analytic identity; 1e-12 relative).
+    /// The triangle sums of `two_triangles` (D&C with FFT, two sequences
+    /// sharing the recursion) equal their definition summed directly, for
+    /// one sequence and for two, at lengths across the direct/FFT and
+    /// in-place thresholds (analytic identity; 1e-12 relative).
     #[test]
     fn head_triangle_equals_its_definition() {
         let mut rng = ChaCha8Rng::seed_from_u64(8);
-        for m in [2usize, 10, 64, 66, 130, 256, 600, 1000, 2000, 4098] {
-            let z: Vec<f64> = (0..m).map(|_| rng.gen_range(-1.0..1.0)).collect();
+        let def = |z: &[f64], m: usize| {
             let mut want = 0.0;
             for k in 1..=m / 2 {
                 let mut s = 0.0;
@@ -903,10 +959,22 @@ mod tests {
                 }
                 want += s / k as f64;
             }
+            want
+        };
+        for m in [2usize, 10, 64, 66, 130, 256, 600, 1000, 2000, 4098] {
+            let z: Vec<f64> = (0..m).map(|_| rng.gen_range(-1.0..1.0)).collect();
+            let z2: Vec<f64> = (0..m).map(|_| rng.gen_range(-1.0..1.0)).collect();
+            let want = def(&z, m);
             let got = head_triangle(&|t: usize| z[t], m);
             assert!(
                 (got - want).abs() <= 1e-12 * want.abs().max(1.0),
                 "m={m}: {got} vs {want}"
+            );
+            let want = want + def(&z2, m);
+            let got = two_triangles(&|t: usize| z[t], &|t: usize| z2[t], m);
+            assert!(
+                (got - want).abs() <= 1e-12 * want.abs().max(1.0),
+                "two, m={m}: {got} vs {want}"
             );
         }
     }
