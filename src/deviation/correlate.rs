@@ -359,9 +359,9 @@ where
         let ao1 = |p: usize| if p == 0 { 0.0 } else { a1(2 * p - 1) };
         let ao2 = |p: usize| if p == 0 { 0.0 } else { a2(2 * p - 1) };
         add_spectrum_product(&pair, &mut bufs, &mut acc, l0, |p| a1(2 * p), |q| b1(2 * q));
-        add_spectrum_product(&pair, &mut bufs, &mut acc, l1, &ao1, |q| b1(2 * q + 1));
+        add_spectrum_product(&pair, &mut bufs, &mut acc, l1, ao1, |q| b1(2 * q + 1));
         add_spectrum_product(&pair, &mut bufs, &mut acc, l0, |p| a2(2 * p), |q| b2(2 * q));
-        add_spectrum_product(&pair, &mut bufs, &mut acc, l1, &ao2, |q| b2(2 * q + 1));
+        add_spectrum_product(&pair, &mut bufs, &mut acc, l1, ao2, |q| b2(2 * q + 1));
     }
     let (mut buf, fa, fb) = bufs;
     drop((fa, fb));
