@@ -203,27 +203,28 @@ fn theo1_fast_equals_direct() {
 /// direct SP 1065 eq. 31 double sum (1e-10 relative) through `compute`, on
 /// white + random-walk phase with and without gaps (isolated samples and a
 /// run) and on random-walk FM with a frequency offset, at factors on both
-/// sides of the switch, for blocks of 3m' terms and single short blocks.
+/// sides of the switch, for several blocks of 12m' terms a record, a short
+/// last block, and single blocks.
 #[test]
 fn theo1_block_form_equals_direct() {
     let mut rng = ChaCha8Rng::seed_from_u64(31);
     let (mut f, mut ph) = (0.0, 0.0);
-    let rw: Vec<f64> = (0..2400)
+    let rw: Vec<f64> = (0..6000)
         .map(|_| {
             f += 1e-12 * rng.sample::<f64, _>(StandardNormal);
             ph += f + 3e-9;
             ph
         })
         .collect();
-    let mut gappy = random_phase(2600, 32);
+    let mut gappy = random_phase(6200, 32);
     for i in [700usize, 701, 1650] {
         gappy[i] = f64::NAN;
     }
-    for v in &mut gappy[2000..2011] {
+    for v in &mut gappy[4000..4011] {
         *v = f64::NAN;
     }
     for (label, x) in [
-        ("clean", random_phase(2500, 33)),
+        ("clean", random_phase(6100, 33)),
         ("gappy", gappy),
         ("rwfm", rw),
     ] {

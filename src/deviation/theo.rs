@@ -41,7 +41,8 @@ pub(crate) fn theo_factor(m: usize, n_phase: usize) -> Option<usize> {
 ///   vectorised pass over four shifted copies of each gap-free stretch;
 ///   O(N·m/2) per τ.
 /// - from [`BLOCK_FORM_FROM`] on: the correlation form of [`theo1_block`]
-///   on blocks of 3m terms; O(N·log²m) per τ, memory O(m) per thread.
+///   on blocks of [`BLOCK_TERMS`]·m terms; O(N·log²m) per τ, memory O(m)
+///   per thread.
 pub(crate) fn theo1_sum(p: &Prepared, m: usize) -> (f64, usize) {
     let x = p.x;
     let n = x.len();
@@ -65,9 +66,9 @@ pub(crate) fn theo1_sum(p: &Prepared, m: usize) -> (f64, usize) {
         return (0.0, 0);
     }
     if m >= BLOCK_FORM_FROM {
-        // Blocks of at most 3m terms (the first index of each block and its
+        // Blocks of at most BLOCK_TERMS·m terms (the first index of each block and its
         // number of terms), summed in record order.
-        let per_block = 3 * m;
+        let per_block = BLOCK_TERMS * m;
         let blocks: Vec<(usize, usize)> = stretches
             .iter()
             .flat_map(|&(a, b)| {
@@ -159,6 +160,17 @@ impl Drop for BlockMemory {
 /// where a record holds few terms.
 const DIRECT_TERMS: usize = 32;
 
+/// A Theo1 block of the correlation form holds up to this many times m
+/// terms (len ≤ 13m samples). Each block pays its head and tail (the
+/// triangle sums, O(m·log²m), most of a block's cost, and the head and
+/// tail autocorrelations) once, so longer blocks share them among more
+/// terms: at 12m the edges cost a quarter of what they cost at 3m per
+/// term, while the block's own transform grows only as its length. The
+/// rounding of the form grows with the block's spread against its m-scale
+/// differences, about (len/m)³ on random-walk FM (see [`theo1_sums_many`]):
+/// at 13m some 1e-13 relative, tested to 1e-10 against the direct sum.
+const BLOCK_TERMS: usize = 12;
+
 /// Theo1 factors from this one on use the correlation form
 /// ([`theo1_block`]); below it the direct sum is as fast.
 pub(crate) const BLOCK_FORM_FROM: usize = 192;
@@ -182,7 +194,7 @@ pub(crate) const BLOCK_FORM_FROM: usize = 192;
 /// H_k = Σ_{j<k} y_j·y_{j+m−2k} are the products at lag m − 2k whose two
 /// indices add to less than m (a triangle, not a segment), and T_k the same
 /// at the other end (H_k of the reversed segment); their weighted sum
-/// Σ_k H_k/k comes from [`head_triangle`]. R, hd and tl come from FFTs; the
+/// Σ_k H_k/k comes from [`two_triangles`]. R, hd and tl come from FFTs; the
 /// sums of squares from double-double prefix sums. Rounding: the products
 /// are of a local, detrended y over 4m samples, so the cancellation is
 /// bounded (tested to 1e-10 relative against the direct sum, random-walk FM
@@ -194,7 +206,7 @@ fn theo1_block(seg: &[f64], m: usize) -> f64 {
     // R(ℓ), ℓ = 0 … m, by one real FFT of the block (zero-padded).
     let r = super::correlate::autocorrelation(len, y, m);
     // The compensated total of squares: each windowed sum is then the
-    // total less the samples outside it (m of the 4m, not 3m).
+    // total less the samples outside it (m samples, not the n of the window).
     let total = square_sum(&y, 0, len, len, None);
     block_sum_given(&y, len, r, m, Some(total))
 }
@@ -238,44 +250,65 @@ fn add_to(acc: &mut (f64, f64), v: f64) {
 }
 
 /// The rest of [`theo1_block`] once R(ℓ) (ℓ ≤ m at least; taken and
-/// reused as scratch) of y (len = n + m samples, y_t = `y(t)`) is known.
+/// given back first) of y (len = n + m samples, y_t = `y(t)`) is known.
 ///
 /// With Q(ℓ) = 2R(ℓ) − hd(ℓ) − tl(ℓ) the sum of [`theo1_block`] is
 /// Σ_k [S_k − 2Q(k) − 2Q(m−k) + 2R(m−2k) + 2R(m)]/k − 2·(triangles), S_k the
 /// four windowed sums of squares Σ_{i<n} y_{a+i}² (a = 0, k, m − k, m).
-/// The R-only part is summed first, then R becomes Q in place: the head and
-/// tail autocorrelations hd, tl (ℓ < m; [`super::correlate::subtract_autocorrelations`])
-/// are subtracted from 2R, so one array of m + 1 values is held. The
-/// windowed sums are running compensated sums (from the total less the
-/// samples outside the window when `total` is given and the window is the
-/// longer part); then the two triangle sums, one copy of m samples at a
-/// time.
+/// Its R part Σ_k [2R(m−2k) + 2R(m) − 4R(k) − 4R(m−k)]/k is summed first
+/// and R is dropped; the head and tail autocorrelations hd, tl (ℓ < m) enter
+/// only as Σ_ℓ w(ℓ)·(hd(ℓ) + tl(ℓ)), w(ℓ) = 1/ℓ below m/2, 1/(m − ℓ) above,
+/// 4/m at m/2 (the k and m − k of each pair), so each is reduced as it comes
+/// ([`super::correlate::visit_autocorrelations`]) and never held beside R:
+/// at the largest factors (one block of the whole record, m ≈ 0.9·N) the
+/// peak is the larger of R's transform (8·smooth(len + m) bytes) and the
+/// head's (8·smooth(2m − 1)), not their sum. Every part is a compensated
+/// sum, added in one compensated accumulator (the parts cancel to the
+/// m-scale differences); the windowed sums of squares are running
+/// compensated sums (from the total less the samples outside the window
+/// when `total` is given and the window is the longer part); then the two
+/// triangle sums.
 fn block_sum_given(
     y: &impl Fn(usize) -> f64,
     len: usize,
-    mut r: Vec<f64>,
+    r: Vec<f64>,
     m: usize,
     total: Option<(f64, f64)>,
 ) -> f64 {
     let n = len - m;
     let half = m / 2;
-    r.truncate(m + 1);
-    let mut fixed = (0.0f64, 0.0f64);
+    let mut acc = (0.0f64, 0.0f64);
     for k in 1..=half {
-        add_to(&mut fixed, 2.0 * (r[m - 2 * k] + r[m]) / k as f64);
+        let v = 2.0 * (r[m - 2 * k] + r[m]) - 4.0 * (r[k] + r[m - k]);
+        add_to(&mut acc, v / k as f64);
     }
-    for v in r.iter_mut() {
-        *v *= 2.0;
-    }
-    super::correlate::subtract_autocorrelations(m, y, |t| y(n + t), m - 1, &mut r);
-    let q = r;
-    let sum = |a: (f64, f64)| a.0 + a.1;
-    let s0 = sum(square_sum(y, 0, n, len, total));
-    let sm = sum(square_sum(y, m, n, len, total));
+    drop(r);
+    // + 2·Σ_k [hd(k) + tl(k) + hd(m−k) + tl(m−k)]/k.
+    let weight = |l: usize| {
+        if 2 * l < m {
+            1.0 / l as f64
+        } else if 2 * l == m {
+            4.0 / m as f64
+        } else {
+            1.0 / (m - l) as f64
+        }
+    };
+    super::correlate::visit_autocorrelations(
+        m,
+        y,
+        |t| y(n + t),
+        m - 1,
+        |v| {
+            for (l, &c) in v.iter().enumerate().take(m).skip(1) {
+                add_to(&mut acc, 2.0 * weight(l) * c);
+            }
+        },
+    );
+    let s0 = square_sum(y, 0, n, len, total);
+    let sm = square_sum(y, m, n, len, total);
     // up = Σ_{i<n} y_{k+i}², down = Σ_{i<n} y_{m−k+i}², k = 1 … m/2.
     let mut up = square_sum(y, 1, n, len, total);
     let mut down = square_sum(y, m - 1, n, len, total);
-    let mut moving = (0.0f64, 0.0f64);
     for k in 1..=half {
         if k > 1 {
             let (a, b) = (y(k - 1), y(k - 1 + n));
@@ -285,29 +318,48 @@ fn block_sum_given(
             add_to(&mut down, c * c);
             add_to(&mut down, -(d * d));
         }
-        let d12 = sum(up) + s0 + sm + sum(down) - 2.0 * q[k] - 2.0 * q[m - k];
-        add_to(&mut moving, d12 / k as f64);
+        let kf = k as f64;
+        for part in [up, s0, sm, down] {
+            add_to(&mut acc, part.0 / kf);
+            add_to(&mut acc, part.1 / kf);
+        }
     }
-    drop(q);
-    let acc = sum(fixed) + sum(moving);
-    let tri = head_triangle(&|t| y(t), m) + head_triangle(&|t| y(len - 1 - t), m);
-    acc - 2.0 * tri
+    let tri = two_triangles(&|t| y(t), &|t| y(len - 1 - t), m);
+    (acc.0 + acc.1) - 2.0 * tri
 }
 
-/// Σ_{k=1}^{m/2} (1/k)·Σ_{j<k} z_j·z_{j+m−2k} for z_t = `z(t)`, t < m (m
-/// even): the products z_u·z_v, u ≤ v, v − u even, u + v < m, each weighted
-/// by 2/(m − (v − u)). With w = m − 1 − v and b_w = z_{m−1−w} this is
-/// Σ_{u≤w} h(u+w)·z_u·b_w, h(s) = 2/(s+1) for odd s < m, else 0: split
+/// The triangle sum of one sequence (the tests' handle on
+/// [`two_triangles`]).
+#[cfg(test)]
+fn head_triangle<Z: Fn(usize) -> f64>(z: &Z, m: usize) -> f64 {
+    two_triangles(z, &|_| 0.0, m)
+}
+
+/// The triangle sum T(z) = Σ_{k=1}^{m/2} (1/k)·Σ_{j<k} z_j·z_{j+m−2k}
+/// (z_t, t < m, m even) of two sequences z1, z2 — the head of a block and
+/// its tail read backwards —, added: T(z1) + T(z2).
+///
+/// T(z) sums the products z_u·z_v, u ≤ v, v − u even, u + v < m, each
+/// weighted by 2/(m − (v − u)). With w = m − 1 − v and b_w = z_{m−1−w} this
+/// is Σ_{u≤w} h(u+w)·z_u·b_w, h(s) = 2/(s+1) for odd s < m, else 0: split
 /// [0, m) in halves, the pairs across the split are one weighted
 /// convolution sum (FFT), the pairs within each half recurse. O(m·log²m).
-/// z is never stored whole: each cross term reads it where it fills its
-/// transform (16 bytes a point of at most m, [`cross_pairs`]). Generic in
-/// z, so that every read is inlined (no dynamic call a sample).
-fn head_triangle<Z: Fn(usize) -> f64>(z: &Z, m: usize) -> f64 {
-    lower_pairs(z, m, 0, m)
+/// The two sequences share the recursion: each cross term adds their two
+/// products of spectra before one inverse transform, from the even and odd
+/// halves of the pieces (h vanishes at even s;
+/// [`super::correlate::weighted_convolution_pair_sum`]). z is never stored
+/// whole: each cross term reads it where it fills its transform (16 bytes a
+/// point of at most m, [`cross_pairs`]). Generic in z, so that every read
+/// is inlined (no dynamic call a sample).
+fn two_triangles<Z1, Z2>(z1: &Z1, z2: &Z2, m: usize) -> f64
+where
+    Z1: Fn(usize) -> f64,
+    Z2: Fn(usize) -> f64,
+{
+    lower_pairs(z1, z2, m, 0, m)
 }
 
-/// h(s) of [`head_triangle`]: 2/(s+1) for odd s < m, else 0.
+/// h(s) of [`two_triangles`]: 2/(s+1) for odd s < m, else 0.
 #[inline]
 fn triangle_weight(s: usize, m: usize) -> f64 {
     if s % 2 == 1 && s < m {
@@ -318,46 +370,72 @@ fn triangle_weight(s: usize, m: usize) -> f64 {
 }
 
 /// Σ_{lo ≤ u ≤ w < hi} h(u+w)·z_u·b_w, b_w = z_{m−1−w}, with h of
-/// [`triangle_weight`] (zero from s = m on; see [`head_triangle`]).
-fn lower_pairs<Z: Fn(usize) -> f64>(z: &Z, m: usize, lo: usize, hi: usize) -> f64 {
+/// [`triangle_weight`] (zero from s = m on; see [`two_triangles`]), for
+/// z = z1 and z = z2, added.
+fn lower_pairs<Z1, Z2>(z1: &Z1, z2: &Z2, m: usize, lo: usize, hi: usize) -> f64
+where
+    Z1: Fn(usize) -> f64,
+    Z2: Fn(usize) -> f64,
+{
     if 2 * lo >= m || hi <= lo {
         return 0.0;
     }
     if hi - lo <= LEAF {
-        // The weights of s = u + w ∈ [2·lo, 2·hi) once; only odd s count.
-        let w = hi - lo;
-        let mut h = [0.0f64; 2 * LEAF];
-        for (i, v) in h[..2 * w].iter_mut().enumerate() {
-            *v = triangle_weight(2 * lo + i, m);
-        }
-        let mut a = [0.0f64; LEAF];
-        let mut b = [0.0f64; LEAF];
-        for i in 0..w {
-            a[i] = z(lo + i);
-            b[i] = z(m - 1 - (lo + i));
-        }
-        let mut s = 0.0;
-        for u in 0..w {
-            let mut inner = 0.0;
-            // w ≥ u with u + w odd.
-            let mut v = u + 1;
-            while v < w {
-                inner += h[u + v] * b[v];
-                v += 2;
-            }
-            s += a[u] * inner;
-        }
-        return s;
+        return leaf_pairs(z1, m, lo, hi) + leaf_pairs(z2, m, lo, hi);
     }
     let mid = (lo + hi) / 2;
-    let mut s = lower_pairs(z, m, lo, mid) + lower_pairs(z, m, mid, hi);
+    let mut s = lower_pairs(z1, z2, m, lo, mid) + lower_pairs(z1, z2, m, mid, hi);
     if lo + mid < m {
         // u ∈ [lo, mid), w ∈ [mid, hi), s = u + w < m: only the first
         // m − (lo + mid) of each side can pair.
         let top = m - (lo + mid);
         let la = (mid - lo).min(top);
         let lb = (hi - mid).min(top);
-        s += cross_pairs(|u| z(lo + u), la, |w| z(m - 1 - mid - w), lb, lo + mid, m);
+        s += cross_pairs(
+            (|u| z1(lo + u), |w| z1(m - 1 - mid - w)),
+            (|u| z2(lo + u), |w| z2(m - 1 - mid - w)),
+            (la, lb),
+            lo + mid,
+            m,
+        );
+    }
+    s
+}
+
+/// [`lower_pairs`] of one sequence on a block of at most [`LEAF`] samples,
+/// summed directly.
+fn leaf_pairs(z: &impl Fn(usize) -> f64, m: usize, lo: usize, hi: usize) -> f64 {
+    // Only odd s = 2·lo + u + v count (u, v block offsets, v > u):
+    // ho[r] = h(2·lo + 2r + 1); an even u = 2p pairs with the odd
+    // v = 2q + 1 (q ≥ p), an odd u = 2p + 1 with the even v = 2q
+    // (q > p), both at ho[p + q]: contiguous dot products.
+    let w = hi - lo;
+    let mut ho = [0.0f64; LEAF];
+    for (r, v) in ho[..w].iter_mut().enumerate() {
+        *v = triangle_weight(2 * lo + 2 * r + 1, m);
+    }
+    let mut a = [0.0f64; LEAF];
+    let mut be = [0.0f64; LEAF / 2 + 1];
+    let mut bo = [0.0f64; LEAF / 2 + 1];
+    for i in 0..w {
+        a[i] = z(lo + i);
+        let bv = z(m - 1 - (lo + i));
+        if i % 2 == 0 {
+            be[i / 2] = bv;
+        } else {
+            bo[i / 2] = bv;
+        }
+    }
+    let (ne, no) = (w.div_ceil(2), w / 2);
+    let mut s = 0.0;
+    for (u, &au) in a[..w].iter().enumerate() {
+        let p = u / 2;
+        let inner = if u % 2 == 0 {
+            dot(&ho[2 * p..], &bo[p..no])
+        } else {
+            dot(&ho[2 * p + 1..], &be[(p + 1).min(ne)..ne])
+        };
+        s += au * inner;
     }
     s
 }
@@ -366,43 +444,97 @@ fn lower_pairs<Z: Fn(usize) -> f64>(z: &Z, m: usize, lo: usize, hi: usize) -> f6
 /// directly.
 const LEAF: usize = 64;
 
-/// Σ_{u,w} h(offset+u+w)·a_u·b_w over all u < la, w < lb (a_u = `a(u)`,
-/// b_w = `b(w)`), h of [`triangle_weight`]: Σ_s h(offset+s)·(a ∗ b)(s),
-/// directly for small pieces, else by one FFT convolution
-/// ([`super::correlate::weighted_convolution_sum`]) that reads a and b
-/// where it fills its buffer. Never split: a split in quarters (three of
-/// which reach below m) costs 1.5 times its whole at each level, which
+/// Σ_{u,w} h(offset+u+w)·a_u·b_w over all u < la, w < lb, h of
+/// [`triangle_weight`], for the pairs (a, b) = `p1` and `p2`, added:
+/// Σ_s h(offset+s)·[(a1 ∗ b1)(s) + (a2 ∗ b2)(s)], directly for small
+/// pieces, else by FFT convolutions
+/// ([`super::correlate::weighted_convolution_pair_sum`]) that read a and b
+/// where they fill their buffers. Never split: a split in quarters (three
+/// of which reach below m) costs 1.5 times its whole at each level, which
 /// made the largest factors grow as m^1.6.
-fn cross_pairs(
-    a: impl Fn(usize) -> f64,
-    la: usize,
-    b: impl Fn(usize) -> f64,
-    lb: usize,
+fn cross_pairs<A1, B1, A2, B2>(
+    p1: (A1, B1),
+    p2: (A2, B2),
+    (la, lb): (usize, usize),
     offset: usize,
     m: usize,
-) -> f64 {
+) -> f64
+where
+    A1: Fn(usize) -> f64,
+    B1: Fn(usize) -> f64,
+    A2: Fn(usize) -> f64,
+    B2: Fn(usize) -> f64,
+{
     if offset >= m || la == 0 || lb == 0 {
         return 0.0;
     }
     let top = (la + lb - 1).min(m - offset);
     let (la, lb) = (la.min(top), lb.min(top));
+    // Only t = u + w with offset + t odd counts.
+    let par = (offset + 1) % 2;
     if la * lb <= 4096 {
-        let h: Vec<f64> = (0..top).map(|t| triangle_weight(offset + t, m)).collect();
-        let bv: Vec<f64> = (0..lb).map(&b).collect();
-        let mut s = 0.0;
-        for u in 0..la {
-            let x = a(u);
-            let mut inner = 0.0;
-            for (w, &v) in bv.iter().enumerate().take(top.saturating_sub(u)) {
-                inner += h[u + w] * v;
-            }
-            s += x * inner;
-        }
-        return s;
+        let hp: Vec<f64> = (0..top.div_ceil(2))
+            .map(|r| triangle_weight(offset + 2 * r + par, m))
+            .collect();
+        return direct_cross(&p1.0, &p1.1, la, lb, top, par, &hp)
+            + direct_cross(&p2.0, &p2.1, la, lb, top, par, &hp);
     }
-    super::correlate::weighted_convolution_sum(a, la, b, lb, top, |t| {
+    super::correlate::weighted_convolution_pair_sum(p1, p2, (la, lb), top, par, |t| {
         triangle_weight(offset + t, m)
     })
+}
+
+/// Σ_{u<la, w<lb, t=u+w<top} hp[(t − π)/2]·a_u·b_w over the t ≡ π (mod 2)
+/// (the weights of the other parity are zero): for each u the w of the
+/// parity that makes u + w ≡ π, w = 2q + pw, read from the split b
+/// (contiguous dot products).
+fn direct_cross(
+    a: &impl Fn(usize) -> f64,
+    b: &impl Fn(usize) -> f64,
+    la: usize,
+    lb: usize,
+    top: usize,
+    par: usize,
+    hp: &[f64],
+) -> f64 {
+    let split: [Vec<f64>; 2] = [
+        (0..lb).step_by(2).map(b).collect(),
+        (1..lb).step_by(2).map(b).collect(),
+    ];
+    let mut s = 0.0;
+    for u in 0..la {
+        let pw = (par + u) % 2;
+        if u + pw >= top {
+            continue;
+        }
+        // q < ⌈(top − u − pw)/2⌉ keeps t < top; r = (u + pw − π)/2 + q.
+        let qn = (top - u - pw).div_ceil(2).min(split[pw].len());
+        let r0 = (u + pw - par) / 2;
+        s += a(u) * dot(&hp[r0..], &split[pw][..qn]);
+    }
+    s
+}
+
+/// Σ_i x_i·y_i over the shorter of the two, in four running sums (so that
+/// the loop vectorises; the order of the additions is fixed by the lengths
+/// alone).
+#[inline]
+fn dot(x: &[f64], y: &[f64]) -> f64 {
+    let n = x.len().min(y.len());
+    let (x, y) = (&x[..n], &y[..n]);
+    let mut acc = [0.0f64; 4];
+    let (xc, yc) = (x.chunks_exact(4), y.chunks_exact(4));
+    let (xr, yr) = (xc.remainder(), yc.remainder());
+    for (p, q) in xc.zip(yc) {
+        for l in 0..4 {
+            acc[l] += p[l] * q[l];
+        }
+    }
+    let mut s = (acc[0] + acc[2]) + (acc[1] + acc[3]);
+    for (p, q) in xr.iter().zip(yr) {
+        s += p * q;
+    }
+    s
 }
 
 /// Σ_{i<n} (x_{i+o0} − x_{i+o1} − x_{i+o2} + x_{i+o3})², vectorisable.
@@ -614,7 +746,8 @@ impl<'a> WholeStretch<'a> {
 /// The single-block form ([`WholeStretch`]) serves a stretch at factor m
 /// when the stretch is at most this many times m: its rounding grows as
 /// (len/m)³ on random-walk FM (see [`theo1_sums_many`]); the tests bound
-/// it at this ratio. Longer stretches take [`theo1_sum`] (blocks of 3m).
+/// it at this ratio. Longer stretches take [`theo1_sum`] (blocks of
+/// [`BLOCK_TERMS`]·m terms).
 const WHOLE_UP_TO: usize = 400;
 
 /// The ThêoBR ratio from the subset of pairs [`theobr_nodes`]: each
@@ -810,14 +943,14 @@ mod tests {
     /// (seeded records of WPM, FPM, WFM, FFM and RWFM, with and without gaps).
     const SAMPLED_BOUND: f64 = 0.005;
 
-    /// The triangle sum of `head_triangle` (D&C with FFT) equals its
-    /// definition summed directly, for lengths across the direct/FFT
-    /// thresholds (analytic identity; 1e-12 relative).
+    /// The triangle sums of `two_triangles` (D&C with FFT, two sequences
+    /// sharing the recursion) equal their definition summed directly, for
+    /// one sequence and for two, at lengths across the direct/FFT and
+    /// in-place thresholds (analytic identity; 1e-12 relative).
     #[test]
     fn head_triangle_equals_its_definition() {
         let mut rng = ChaCha8Rng::seed_from_u64(8);
-        for m in [2usize, 10, 64, 66, 130, 256, 600, 1000, 2000, 4098] {
-            let z: Vec<f64> = (0..m).map(|_| rng.gen_range(-1.0..1.0)).collect();
+        let def = |z: &[f64], m: usize| {
             let mut want = 0.0;
             for k in 1..=m / 2 {
                 let mut s = 0.0;
@@ -826,10 +959,22 @@ mod tests {
                 }
                 want += s / k as f64;
             }
+            want
+        };
+        for m in [2usize, 10, 64, 66, 130, 256, 600, 1000, 2000, 4098] {
+            let z: Vec<f64> = (0..m).map(|_| rng.gen_range(-1.0..1.0)).collect();
+            let z2: Vec<f64> = (0..m).map(|_| rng.gen_range(-1.0..1.0)).collect();
+            let want = def(&z, m);
             let got = head_triangle(&|t: usize| z[t], m);
             assert!(
                 (got - want).abs() <= 1e-12 * want.abs().max(1.0),
                 "m={m}: {got} vs {want}"
+            );
+            let want = want + def(&z2, m);
+            let got = two_triangles(&|t: usize| z[t], &|t: usize| z2[t], m);
+            assert!(
+                (got - want).abs() <= 1e-12 * want.abs().max(1.0),
+                "two, m={m}: {got} vs {want}"
             );
         }
     }
@@ -837,7 +982,7 @@ mod tests {
     /// The block correlation form equals the direct double sum (SP 1065
     /// eq. 31) to 1e-10 relative on white + random-walk phase and on
     /// random-walk FM with a frequency offset, for blocks of n terms of
-    /// several shapes (n < m, n = m, n = 3m).
+    /// several shapes (n < m, n = m, n = 3m, n = [`BLOCK_TERMS`]·m).
     #[test]
     fn block_form_equals_the_direct_sum() {
         let mut rng = ChaCha8Rng::seed_from_u64(9);
@@ -857,7 +1002,13 @@ mod tests {
             })
             .collect();
         for x in [a, b] {
-            for (m, n) in [(200usize, 50usize), (256, 256), (300, 900), (1000, 399)] {
+            for (m, n) in [
+                (200usize, 50usize),
+                (256, 256),
+                (300, 900),
+                (1000, 399),
+                (100, 100 * BLOCK_TERMS),
+            ] {
                 let seg = &x[..n + m];
                 let p = Prepared::new(seg, 1.0);
                 let half = m / 2;
