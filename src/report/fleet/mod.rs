@@ -81,6 +81,14 @@ fn distinct_names(names: &[&str], files: &[String]) -> Result<()> {
 /// Build every device's report in parallel (rayon) and the matrix.
 /// `progress(device, done, total, what)` is called before each step of
 /// each device, from the worker threads.
+///
+/// The order of the work (the results do not depend on it): first every
+/// device's inputs are read and its holdover model fitted
+/// ([`build::begin`]); then the holdover Monte Carlo of all the devices
+/// runs beside the devices' other sections ([`build::analyse`]), the two
+/// sharing the cores (the Monte Carlo's workers take batches of paths
+/// until none is left, so whichever finishes first helps the other);
+/// then each report is finished with its predictions.
 pub fn build(
     duts: &[Dut],
     opts: &build::BuildOptions,
@@ -89,28 +97,45 @@ pub fn build(
     let files: Vec<String> = duts.iter().map(|d| d.file.display().to_string()).collect();
     let names: Vec<&str> = duts.iter().map(|d| d.name.as_str()).collect();
     distinct_names(&names, &files)?;
-    let pending: Vec<build::Pending> = duts
+    let begun: Vec<(build::Begun, build::HoldoverStart)> = duts
         .par_iter()
         .enumerate()
         .map(|(i, d)| {
-            build::start(d, opts, &mut |done, total, what| {
+            build::begin(d, opts, &mut |done, total, what| {
                 progress(i, done, total, what)
             })
         })
         .collect::<Result<Vec<_>>>()?;
+    let (begun, holdovers): (Vec<build::Begun>, Vec<build::HoldoverStart>) =
+        begun.into_iter().unzip();
     // Every device's holdover spans in one Monte Carlo: the unit paths of
     // the noise terms the devices share are drawn once (each device's
     // predictions are those of its single report, bit for bit).
-    let counts: Vec<usize> = pending.iter().map(|p| p.holdover_jobs().len()).collect();
-    let mut results = {
-        let jobs: Vec<_> = pending.iter().flat_map(|p| p.holdover_jobs()).collect();
-        crate::holdover::predict_many(&jobs).into_iter()
-    };
-    let reports: Vec<Report> = pending
+    let counts: Vec<usize> = holdovers.iter().map(|h| h.jobs().len()).collect();
+    let jobs: Vec<_> = holdovers.iter().flat_map(|h| h.jobs()).collect();
+    let (predictions, analysed) = rayon::join(
+        || crate::holdover::predict_many(&jobs),
+        || {
+            begun
+                .into_par_iter()
+                .zip(duts)
+                .enumerate()
+                .map(|(i, (b, d))| {
+                    build::analyse(d, opts, b, &mut |done, total, what| {
+                        progress(i, done, total, what)
+                    })
+                })
+                .collect::<Result<Vec<Report>>>()
+        },
+    );
+    let analysed = analysed?;
+    let mut results = predictions.into_iter();
+    let reports: Vec<Report> = analysed
         .into_iter()
+        .zip(holdovers)
         .zip(duts)
         .zip(counts)
-        .map(|((p, d), k)| p.finish(d, results.by_ref().take(k).collect()))
+        .map(|(((r, h), d), k)| build::finish(d, r, h, results.by_ref().take(k).collect()))
         .collect();
     Fleet::from_reports(reports, &files)
 }
