@@ -335,7 +335,7 @@ pub fn predict_spans(model: &HoldoverModel, settings: &[Settings]) -> Result<Vec
 /// largest values of |TE| that the step's p95 can depend on (at
 /// most 2·(paths − ⌊0.95·(paths − 1)⌋) values a step, 6.6 MB for 2000
 /// paths of 4096 steps where their table took 66 MB) — only those above
-/// half the budget, since a p95 below that decides nothing ([`Floor`]; in
+/// half the budget, since a p95 below that decides nothing (`Floor`; in
 /// the rare table where that leaves the crossing undecided, the job is
 /// run again keeping every value) — and each path's first
 /// step out of the budget and its TE at the output times; the percentiles

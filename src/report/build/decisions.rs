@@ -248,7 +248,7 @@ pub(crate) enum HoldoverStart {
     /// The model could not be made (the reason, naming the record).
     Failed(String),
     /// The predictions to make.
-    Ask(HoldoverAsk),
+    Ask(Box<HoldoverAsk>),
 }
 
 /// The holdover model of the DUT file's `[holdover]` and the settings of
@@ -314,12 +314,12 @@ pub(super) fn holdover_start(
             settings
         })
         .collect();
-    HoldoverStart::Ask(HoldoverAsk {
+    HoldoverStart::Ask(Box::new(HoldoverAsk {
         model,
         settings,
         source: l.src.name.clone(),
         prepared_note,
-    })
+    }))
 }
 
 /// Write what [`holdover_start`] decided into the report: the section's
@@ -345,7 +345,7 @@ pub(super) fn holdover_place(
             }
             None
         }
-        HoldoverStart::Ask(a) => Some(a),
+        HoldoverStart::Ask(a) => Some(*a),
     }
 }
 

@@ -84,8 +84,8 @@ fn distinct_names(names: &[&str], files: &[String]) -> Result<()> {
 ///
 /// The order of the work (the results do not depend on it): first every
 /// device's inputs are read and its holdover model fitted
-/// ([`build::begin`]); then the holdover Monte Carlo of all the devices
-/// runs beside the devices' other sections ([`build::analyse`]), the two
+/// (`build::begin`); then the holdover Monte Carlo of all the devices
+/// runs beside the devices' other sections (`build::analyse`), the two
 /// sharing the cores (the Monte Carlo's workers take batches of paths
 /// until none is left, so whichever finishes first helps the other);
 /// then each report is finished with its predictions.
