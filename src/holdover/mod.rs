@@ -334,7 +334,10 @@ pub fn predict_spans(model: &HoldoverModel, settings: &[Settings]) -> Result<Vec
 /// Nothing of size paths × steps is held. Each job keeps, per step, the
 /// largest values of |TE| that the step's p95 can depend on (at
 /// most 2·(paths − ⌊0.95·(paths − 1)⌋) values a step, 6.6 MB for 2000
-/// paths of 4096 steps where their table took 66 MB), and each path's first
+/// paths of 4096 steps where their table took 66 MB) — only those above
+/// half the budget, since a p95 below that decides nothing (`Floor`; in
+/// the rare table where that leaves the crossing undecided, the job is
+/// run again keeping every value) — and each path's first
 /// step out of the budget and its TE at the output times; the percentiles
 /// are then those of the whole set of paths, exactly (the reference test
 /// keeps the table of every path and step). Each worker draws 32 paths at a
@@ -383,7 +386,7 @@ pub fn predict_many(jobs: &[(&HoldoverModel, &Settings)]) -> Vec<Result<Predicti
                 .collect();
             for (&j, r) in batch.iter().zip(simulate_jobs(&chosen)) {
                 grouped[j] = true;
-                out[j] = Some(Ok(r));
+                out[j] = Some(r);
             }
         }
     }
@@ -499,7 +502,34 @@ const BATCH_PATHS: usize = 32;
 /// steps, each job's TE of those paths at those steps made and taken by
 /// its summary ([`Collector::scan_segment`], [`Tile::push`]); no row of a
 /// path is held whole.
-fn simulate_jobs(jobs: &[(&HoldoverModel, &Settings, &Plan)]) -> Vec<Prediction> {
+fn simulate_jobs(jobs: &[(&HoldoverModel, &Settings, &Plan)]) -> Vec<Result<Prediction>> {
+    let first = simulate_jobs_kept(jobs, true);
+    // The jobs whose kept values above the floor did not decide their
+    // summary (module notes of [`Floor`]): again, every value kept.
+    let again: Vec<usize> = (0..jobs.len()).filter(|&j| first[j].is_none()).collect();
+    let mut redone = if again.is_empty() {
+        Vec::new()
+    } else {
+        let sub: Vec<_> = again.iter().map(|&j| jobs[j]).collect();
+        simulate_jobs_kept(&sub, false)
+    }
+    .into_iter();
+    first
+        .into_iter()
+        .map(|p| match p {
+            Some(p) => Ok(p),
+            None => redone.next().flatten().ok_or_else(undecided),
+        })
+        .collect()
+}
+
+/// [`simulate_jobs`] with each job's kept values above its [`Floor`]
+/// (`floored`) or all of them; `None` for a job whose floor left its
+/// summary undecided.
+fn simulate_jobs_kept(
+    jobs: &[(&HoldoverModel, &Settings, &Plan)],
+    floored: bool,
+) -> Vec<Option<Prediction>> {
     use std::sync::atomic::{AtomicU64, AtomicUsize, Ordering::Relaxed};
     let s0 = jobs[0].1;
     let (n, np, seed) = (s0.steps, s0.paths, s0.seed);
@@ -518,7 +548,10 @@ fn simulate_jobs(jobs: &[(&HoldoverModel, &Settings, &Plan)]) -> Vec<Prediction>
         .map(|c| (0..np * c.ks.len()).map(|_| AtomicU64::new(0)).collect())
         .collect();
     let batches = np.div_ceil(BATCH_PATHS);
-    let tops: Vec<TopValues> = jobs.iter().map(|_| TopValues::new(n, keep)).collect();
+    let tops: Vec<TopValues> = jobs
+        .iter()
+        .map(|&(_, st, _)| TopValues::new(n, keep, Floor::of(st.budget, floored)))
+        .collect();
     let tiles = tops.first().map_or(0, |t| t.tiles.len());
     let lanes = rayon::current_num_threads().min(batches).max(1);
     let next = AtomicUsize::new(0);
@@ -634,11 +667,13 @@ fn lowest() -> f64 {
 
 /// The largest values of |TE(k·step)| + temp·k·step at each step k of one
 /// job, enough for the step's p95 over all the paths: each step keeps a
-/// buffer of up to 2·keep values and a threshold; a value at or below the
-/// threshold is dropped, and a full buffer keeps its `keep` largest (the
+/// buffer of up to 2·keep values and a threshold, at first the job's
+/// [`Floor`]; a value at or below the threshold is dropped, and a full buffer keeps its `keep` largest (the
 /// new threshold their least). So every value dropped has at least `keep`
 /// kept values at or above it, and the kept values hold the `keep` largest
-/// of the whole set (ties: equal values are interchangeable). The steps are
+/// of the whole set above the floor (ties: equal values are
+/// interchangeable); a step that kept fewer than `keep` kept every value
+/// above the floor and no other. The steps are
 /// held in tiles of [`STEP_TILE`], each behind its own lock, and every
 /// worker pushes into the one set (whoever pushes first, the kept values
 /// are the same set's largest). The cost is a comparison a value and, on
@@ -672,7 +707,9 @@ impl Tile {
     fn warm(&self) {
         let cap = 2 * self.keep;
         let mut acc = 0i64;
-        for (i, &l) in self.len.iter().enumerate() {
+        // A step that has kept nothing yet is likely below the floor
+        // ([`Floor`]): not read.
+        for (i, &l) in self.len.iter().enumerate().filter(|(_, &l)| l > 0) {
             acc ^= self.buf[i * cap + l.min(cap - 1)];
         }
         std::hint::black_box(acc);
@@ -734,8 +771,39 @@ fn from_order_key(k: i64) -> f64 {
     f64::from_bits((k ^ ((((k >> 63) as u64) >> 1) as i64)) as u64)
 }
 
+/// The least value a job's kept values must exceed: half the budget, or
+/// none (every value is a candidate).
+///
+/// A step's p95 matters to the summary only where it may exceed the
+/// budget (the crossing and whether it is finite) and just before the
+/// crossing (the interpolation), so values at or below budget/2 are not
+/// kept. [`Collector::finish`] then knows, from how many values a step
+/// kept, whether it has the step's exact p95 (at least the
+/// paths − ⌊0.95·(paths − 1)⌋ largest values kept), or that p95 there is
+/// finite and at most the budget (two or more fewer: the two order
+/// statistics p95 interpolates are both ≤ budget/2), or (one fewer) the
+/// upper of the two only. Where that does not decide the summary — a
+/// step with one fewer whose upper value is ≥ the budget before the
+/// crossing, or a crossing whose step before kept too few to give p95
+/// there — the job is summarised again with every value kept: the same
+/// result either way, bit for bit, the floor only saves the stores.
+#[derive(Debug, Clone, Copy)]
+struct Floor(f64);
+
+impl Floor {
+    /// Half of `budget` when `floored` (a validated budget is finite and
+    /// positive; anything else keeps every value), else none.
+    fn of(budget: f64, floored: bool) -> Self {
+        if floored && budget.is_finite() && budget > 0.0 {
+            Floor(0.5 * budget)
+        } else {
+            Floor(lowest())
+        }
+    }
+}
+
 impl TopValues {
-    fn new(n: usize, keep: usize) -> Self {
+    fn new(n: usize, keep: usize, floor: Floor) -> Self {
         let keep = keep.max(1);
         let cap = 2 * keep;
         let tiles = (0..n)
@@ -746,8 +814,8 @@ impl TopValues {
                     start,
                     keep,
                     len: vec![0; len],
-                    thr: vec![order_key(lowest()); len],
-                    thr_f: vec![lowest(); len],
+                    thr: vec![order_key(floor.0); len],
+                    thr_f: vec![floor.0; len],
                     buf: vec![0; len * cap],
                 })
             })
@@ -884,7 +952,9 @@ impl Collector {
 
     /// The prediction from every path's first step out of the budget
     /// (`first_out[p]`), TE at the output steps (`at[p·ks + j]`) and the
-    /// kept values of every step: percentiles, crossing and verdict.
+    /// kept values of every step: percentiles, crossing and verdict;
+    /// `None` when the values kept above the [`Floor`] do not decide it
+    /// (never with every value kept).
     fn finish(
         &self,
         model: &HoldoverModel,
@@ -892,10 +962,12 @@ impl Collector {
         top: &TopValues,
         first_out: &[usize],
         at: &[f64],
-    ) -> Prediction {
+    ) -> Option<Prediction> {
         let (n, np, step, temp) = (self.n, self.np, self.step, self.temp);
-        // p95 at every step, for the crossing.
-        let p95: Vec<f64> = (0..n.div_ceil(STEP_BLOCK))
+        let budget = settings.budget;
+        // p95 at every step, for the crossing, as far as the kept values
+        // give it.
+        let p95: Vec<Step95> = (0..n.div_ceil(STEP_BLOCK))
             .into_par_iter()
             .map(|b| {
                 let (k0, k1) = (b * STEP_BLOCK, ((b + 1) * STEP_BLOCK).min(n));
@@ -905,29 +977,51 @@ impl Collector {
                 counts
                     .iter()
                     .map(|&c| {
-                        let v = percentile_from_top(&mut vals[at..at + c], np, 0.95);
+                        let v = step_p95(&mut vals[at..at + c], np, budget);
                         at += c;
                         v
                     })
-                    .collect::<Vec<f64>>()
+                    .collect::<Vec<Step95>>()
             })
-            .collect::<Vec<Vec<f64>>>()
+            .collect::<Vec<Vec<Step95>>>()
             .concat();
-        let budget = settings.budget;
-        let holds_for = if model.te0.abs() > budget {
+        // The first step whose p95 exceeds the budget; undecided when a
+        // step before it (or any, without one) may exceed it.
+        let mut crossing = None;
+        let from_start = model.te0.abs() > budget;
+        for (i, v) in p95.iter().enumerate().filter(|_| !from_start) {
+            match *v {
+                Step95::Exact(x) if x > budget => {
+                    crossing = Some(i);
+                    break;
+                }
+                Step95::Unsure => return None,
+                _ => {}
+            }
+        }
+        let holds_for = if from_start {
             Some(0.0)
         } else {
-            p95.iter().position(|&v| v > budget).map(|i| {
-                let k = i + 1;
-                let (t1, v1) = (k as f64 * step, p95[i]);
-                let (t0, v0) = if i == 0 {
-                    (0.0, model.te0.abs())
-                } else {
-                    ((k - 1) as f64 * step, p95[i - 1])
-                };
-                t0 + (budget - v0) / (v1 - v0) * (t1 - t0)
-            })
+            match crossing {
+                None => None,
+                Some(i) => {
+                    let k = i + 1;
+                    let v1 = p95[i].exact()?;
+                    let (t1, (t0, v0)) = (
+                        k as f64 * step,
+                        if i == 0 {
+                            (0.0, model.te0.abs())
+                        } else {
+                            ((k - 1) as f64 * step, p95[i - 1].exact()?)
+                        },
+                    );
+                    Some(t0 + (budget - v0) / (v1 - v0) * (t1 - t0))
+                }
+            }
         };
+        // For the verdict only whether each step's p95 is finite counts: a
+        // step known to be at most the budget is finite.
+        let p95: Vec<f64> = p95.iter().map(|v| v.exact().unwrap_or(budget)).collect();
         let within_through = |k: usize| first_out.iter().filter(|&&f| f > k).count();
         let paths_within_budget = within_through(n);
         let nks = self.ks.len();
@@ -958,14 +1052,71 @@ impl Collector {
         settings
             .decision
             .decide(&mut judgement, crate::decision::Probabilities::Points(&[p]));
-        Prediction {
+        Some(Prediction {
             te: points,
             judgement,
             holds_for,
             step,
             paths: np,
             paths_within_budget,
+        })
+    }
+}
+
+/// A step's p95 as far as its kept values give it ([`step_p95`]).
+#[derive(Debug, Clone, Copy, PartialEq)]
+enum Step95 {
+    /// The value, exactly as [`percentile`] gives it on all the paths.
+    Exact(f64),
+    /// Finite and at most the budget (not kept: below the [`Floor`]).
+    WithinBudget,
+    /// Not known to be within the budget.
+    Unsure,
+}
+
+impl Step95 {
+    fn exact(self) -> Option<f64> {
+        match self {
+            Step95::Exact(v) => Some(v),
+            _ => None,
         }
+    }
+}
+
+/// The p95 (type 7, as [`percentile`]) of a step's `total` values from
+/// `kept`, the values a [`TopValues`] kept there: the `need` = total −
+/// ⌊0.95·(total − 1)⌋ largest at least, or — when fewer are kept — every
+/// value above the [`Floor`] (≤ budget/2 < `budget`), since a step's
+/// threshold rises only once it has kept `need`. Reorders `kept`.
+///
+/// With p95 = a + f·(b − a), a and b the order statistics ⌊h⌋ and ⌊h⌋ + 1
+/// (b the least non-NaN value above a, +∞ when there is none, as in
+/// [`percentile`]):
+/// - `need` or more kept: exact ([`percentile_from_top`]);
+/// - `need` − 2 or fewer: a ≤ b ≤ floor, so p95 is finite and at most the
+///   float after b, within the budget;
+/// - `need` − 1: b is the least non-NaN kept value, a ≤ floor finite: b
+///   infinite gives +∞ (f > 0) or NaN (f = 0, 0·∞) exactly; b below the
+///   budget gives within the budget; else unsure.
+fn step_p95(kept: &mut [f64], total: usize, budget: f64) -> Step95 {
+    let h = (total - 1) as f64 * 0.95;
+    let lo = h.floor() as usize;
+    let need = total - lo;
+    if kept.len() >= need {
+        return Step95::Exact(percentile_from_top(kept, total, 0.95));
+    }
+    // One value (p95 = a ≤ floor), or b ≤ floor too.
+    if lo + 1 >= total || kept.len() + 2 <= need {
+        return Step95::WithinBudget;
+    }
+    let b = kept.iter().cloned().fold(f64::INFINITY, f64::min);
+    let f = h - lo as f64;
+    if b.is_infinite() {
+        Step95::Exact(if f > 0.0 { f64::INFINITY } else { f64::NAN })
+    } else if b < budget {
+        Step95::WithinBudget
+    } else {
+        Step95::Unsure
     }
 }
 
@@ -1005,9 +1156,32 @@ pub(crate) fn summarise(
             te.len()
         )));
     }
+    match summarise_kept(model, settings, te, n, step, true) {
+        Some(p) => Ok(p),
+        None => summarise_kept(model, settings, te, n, step, false).ok_or_else(undecided),
+    }
+}
+
+/// The error of a summary left undecided with every value kept — which
+/// cannot happen ([`Collector::finish`]); an error rather than a panic.
+fn undecided() -> Error {
+    Error::invalid("the holdover summary was left undecided with every value kept")
+}
+
+/// [`summarise`] with the kept values above the budget's [`Floor`]
+/// (`floored`) or all of them; `None` when the floor left it undecided.
+fn summarise_kept(
+    model: &HoldoverModel,
+    settings: &Settings,
+    te: &[f64],
+    n: usize,
+    step: f64,
+    floored: bool,
+) -> Option<Prediction> {
+    let np = settings.paths;
     let col = Collector::new(model, settings, n, step);
     let nks = col.ks.len();
-    let top = TopValues::new(n, top_count(np));
+    let top = TopValues::new(n, top_count(np), Floor::of(settings.budget, floored));
     let mut first_out = vec![col.never_out(); np];
     let mut at = vec![0.0f64; np * nks];
     for t in 0..top.tiles.len() {
@@ -1019,7 +1193,7 @@ pub(crate) fn summarise(
             tile.push(seg, &col.added_p95[k0..k0 + width]);
         }
     }
-    Ok(col.finish(model, settings, &top, &first_out, &at))
+    col.finish(model, settings, &top, &first_out, &at)
 }
 
 /// The verdict of a prediction (see [`Prediction::judgement`]): anything
@@ -1600,6 +1774,13 @@ mod paired_path_tests {
                 "{paths}: a crossing"
             );
             assert_eq!(summarise(&model, &settings, &te, n, step).unwrap(), direct);
+            // The values kept above the floor decide it alone (no second
+            // summary with every value kept).
+            assert_eq!(
+                summarise_kept(&model, &settings, &te, n, step, true).as_ref(),
+                Some(&direct),
+                "{paths}: decided by the kept values above the floor"
+            );
             // predict runs the paths on every worker; the same table.
             assert_eq!(predict(&model, &settings).unwrap(), direct);
             for bad in [f64::NAN, f64::INFINITY, f64::NEG_INFINITY] {
@@ -1633,6 +1814,157 @@ mod paired_path_tests {
             summarise(&over, &settings, &te, n, step).unwrap(),
             summarise_direct(&over, &settings, &te, n, step)
         );
+    }
+
+    /// The summary with the values kept above the floor (budget/2) against
+    /// the direct one on the whole table, exactly, on hand-made tables
+    /// that put a step in each case [`step_p95`] tells apart (need = paths
+    /// − ⌊0.95·(paths − 1)⌋ largest values; 40 paths: the interpolation
+    /// fraction f > 0, 41 paths: f = 0, where a + 0·∞ is NaN): need − 1
+    /// values +∞ or NaN above small ones (p95 +∞ or NaN, known without the
+    /// rest), need − 2 values +∞ (p95 finite, within the budget), need − 1
+    /// values between the floor and the budget (within), need − 1 values
+    /// over the budget before the crossing (undecided: summarised again
+    /// with every value kept), a crossing whose step before is under the
+    /// floor (undecided), a crossing at the first step (from te0), and te0
+    /// over the budget (no crossing needed). Analytic (type-7 percentile
+    /// of each step's values, [`percentile`]).
+    #[test]
+    fn floored_summary_equals_the_direct_form() {
+        let mut model = model_with(&[(0, 1e-22)], 0.0, 0.0);
+        let budget = 1.0;
+        let n = 20;
+        // Values below the floor (0.5) everywhere, growing to a crossing
+        // at step 15 (k = 15) through values above the floor from step 11.
+        let smooth = |p: usize, k: usize, np: usize| -> f64 {
+            let spread = 1.0 + 0.01 * p as f64 / np as f64;
+            if k < 11 {
+                0.1 * spread
+            } else {
+                (0.6 + 0.1 * (k - 11) as f64) * spread
+            }
+        };
+        type Edit = Box<dyn Fn(usize, usize, usize, &mut f64)>;
+        // The last `count` paths of `np` at step `at` get the value `v`.
+        let last = |at: usize, count: fn(usize) -> usize, v: f64| -> Edit {
+            Box::new(move |p, k, np, x| {
+                if k == at && p >= np - count(np) {
+                    *x = v
+                }
+            })
+        };
+        let need_less_1: fn(usize) -> usize = |np| top_count(np) - 1;
+        let need_less_2: fn(usize) -> usize = |np| top_count(np) - 2;
+        // (what, edit of the value of path p at step k for np paths,
+        // whether the floor decides it at 40 and at 41 paths, te0 over the
+        // budget)
+        let cases: Vec<(&str, Edit, [bool; 2], bool)> = vec![
+            (
+                "smooth crossing",
+                Box::new(|_, _, _, _| {}),
+                [true; 2],
+                false,
+            ),
+            // p95 +∞ at 40 paths (a crossing whose step before is under
+            // the floor), NaN at 41 (no crossing there).
+            (
+                "need - 1 infinite before the crossing",
+                last(3, need_less_1, f64::INFINITY),
+                [false, true],
+                false,
+            ),
+            (
+                "need - 1 infinite after the crossing",
+                last(17, need_less_1, f64::INFINITY),
+                [true; 2],
+                false,
+            ),
+            (
+                "need - 1 NaN after the crossing",
+                last(17, need_less_1, f64::NAN),
+                [true; 2],
+                false,
+            ),
+            (
+                "need - 2 infinite",
+                last(7, need_less_2, -f64::INFINITY),
+                [true; 2],
+                false,
+            ),
+            (
+                "need - 1 between floor and budget",
+                last(4, need_less_1, 0.9),
+                [true; 2],
+                false,
+            ),
+            (
+                "need - 1 over the budget before the crossing",
+                last(4, need_less_1, -2.0),
+                [false; 2],
+                false,
+            ),
+            (
+                "a jump over the budget from under the floor",
+                Box::new(|_, k, _, v| {
+                    if (11..15).contains(&k) {
+                        *v = 0.2
+                    }
+                }),
+                [false; 2],
+                false,
+            ),
+            (
+                "a crossing at the first step",
+                Box::new(|_, _, _, v| *v += 1.5),
+                [true; 2],
+                false,
+            ),
+            (
+                "te0 over the budget",
+                last(4, need_less_1, 2.0),
+                [true; 2],
+                true,
+            ),
+        ];
+        for np in [40, 41] {
+            let h = (np - 1) as f64 * 0.95;
+            assert_eq!(h.fract() == 0.0, np == 41, "f = 0 at 41 paths only");
+            let settings = Settings {
+                paths: np,
+                steps: n,
+                ..Settings::new(2000.0, budget)
+            };
+            let step = settings.span / n as f64;
+            for (what, edit, floor_decides, te0_over) in &cases {
+                model.te0 = if *te0_over { 1.5 } else { 0.2 };
+                let mut te = vec![0.0; np * n];
+                for p in 0..np {
+                    for k in 1..=n {
+                        let mut v = smooth(p, k, np);
+                        edit(p, k, np, &mut v);
+                        te[p * n + k - 1] = v;
+                    }
+                }
+                let direct = summarise_direct(&model, &settings, &te, n, step);
+                let floored = summarise_kept(&model, &settings, &te, n, step, true);
+                assert_eq!(
+                    floored.is_some(),
+                    floor_decides[np - 40],
+                    "{np} paths, {what}"
+                );
+                // Compared as printed (every f64 to the last bit; NaN,
+                // which is not equal to itself, as NaN).
+                let want = format!("{direct:?}");
+                if let Some(f) = floored {
+                    assert_eq!(format!("{f:?}"), want, "{np} paths, {what}");
+                }
+                let got = summarise(&model, &settings, &te, n, step).unwrap();
+                assert_eq!(format!("{got:?}"), want, "{np} paths, {what}");
+                if !*te0_over {
+                    assert!(direct.holds_for.is_some(), "{np} paths, {what}: a crossing");
+                }
+            }
+        }
     }
 
     /// Seeded Monte Carlo: predictions made together — the demo devices'

@@ -237,26 +237,39 @@ fn holdover_not_computed(h: &crate::io::dut::HoldoverSpec, r: &mut Report, why: 
     r.holdover = Part::not_computed(why);
 }
 
+/// What the holdover section will hold, decided before the other sections
+/// are made ([`holdover_start`]) and written into the report at the
+/// section's place ([`holdover_place`]).
+pub(crate) enum HoldoverStart {
+    /// The DUT file has no `[holdover]`.
+    NotRequested,
+    /// No record to predict from.
+    NoRecord,
+    /// The model could not be made (the reason, naming the record).
+    Failed(String),
+    /// The predictions to make.
+    Ask(Box<HoldoverAsk>),
+}
+
 /// The holdover model of the DUT file's `[holdover]` and the settings of
-/// its spans; `None` (the section filled with the reason) when nothing is
-/// to be predicted.
-pub(super) fn holdover_ask(
+/// its spans, from the records and their preparations (`prepared[i]` for
+/// `records[i]`); the verdicts take `decision`.
+pub(super) fn holdover_start(
     dut: &Dut,
     records: &[Loaded],
-    work: &[super::time::Worked],
-    r: &mut Report,
-) -> Option<HoldoverAsk> {
+    prepared: &[Result<crate::prepare::pipeline::Prepared>],
+    decision: crate::decision::DecisionRule,
+) -> HoldoverStart {
     let Some(h) = &dut.holdover else {
-        r.holdover = Part::not_requested("the DUT file has no [holdover] section.");
-        return None;
+        return HoldoverStart::NotRequested;
     };
     let chosen = match &h.record {
         Some(n) => records.iter().position(|l| &l.src.name == n),
         None => (!records.is_empty()).then_some(0),
     };
-    let Some((l, w)) = chosen.map(|i| (&records[i], work.get(i))) else {
-        r.holdover = Part::not_computed("no record to predict from.");
-        return None;
+    let Some((l, p)) = chosen.map(|i| (&records[i], prepared.get(i).and_then(|p| p.as_ref().ok())))
+    else {
+        return HoldoverStart::NoRecord;
     };
     let opts = FromRecord {
         te0: h.te0.unwrap_or(0.0),
@@ -268,7 +281,7 @@ pub(super) fn holdover_ask(
     };
     // The record as prepared (outliers and gaps as its DUT entry says),
     // with its drift kept: holdover fits its own aging law.
-    let (input, prepared_note) = match w.and_then(|w| w.prepared.as_ref()) {
+    let (input, prepared_note) = match p {
         Some(p) => (
             &p.before_drift,
             if p.outliers.is_some() || p.gaps.is_some() {
@@ -284,17 +297,14 @@ pub(super) fn holdover_ask(
     };
     let model = match model_from_record(input, &opts) {
         Ok(m) => m,
-        Err(e) => {
-            holdover_not_computed(h, r, format!("{}: {e}", l.src.name));
-            return None;
-        }
+        Err(e) => return HoldoverStart::Failed(format!("{}: {e}", l.src.name)),
     };
     let settings: Vec<Settings> = h
         .spans
         .iter()
         .map(|&span| {
             let mut settings = Settings::new(span, h.budget);
-            settings.decision = r.decision;
+            settings.decision = decision;
             if let Some(p) = h.paths {
                 settings.paths = p;
             }
@@ -304,12 +314,39 @@ pub(super) fn holdover_ask(
             settings
         })
         .collect();
-    Some(HoldoverAsk {
+    HoldoverStart::Ask(Box::new(HoldoverAsk {
         model,
         settings,
         source: l.src.name.clone(),
         prepared_note,
-    })
+    }))
+}
+
+/// Write what [`holdover_start`] decided into the report: the section's
+/// reason when nothing is predicted (with a "not computed" verdict per
+/// span when the model failed), else the predictions to make.
+pub(super) fn holdover_place(
+    dut: &Dut,
+    start: HoldoverStart,
+    r: &mut Report,
+) -> Option<HoldoverAsk> {
+    match start {
+        HoldoverStart::NotRequested => {
+            r.holdover = Part::not_requested("the DUT file has no [holdover] section.");
+            None
+        }
+        HoldoverStart::NoRecord => {
+            r.holdover = Part::not_computed("no record to predict from.");
+            None
+        }
+        HoldoverStart::Failed(why) => {
+            if let Some(h) = &dut.holdover {
+                holdover_not_computed(h, r, why);
+            }
+            None
+        }
+        HoldoverStart::Ask(a) => Some(*a),
+    }
 }
 
 /// The holdover section and one verdict per span, from the predictions of

@@ -128,7 +128,7 @@ pub fn from_dut(dut: &Dut, opts: &BuildOptions) -> Result<Report> {
 
 /// The number of steps [`from_dut_with_progress`] reports for a DUT file.
 pub fn steps(dut: &Dut) -> usize {
-    dut.records.len() + dut.tie.len() + dut.phase_noise.len() + 5
+    dut.records.len() + dut.tie.len() + dut.phase_noise.len() + 6
 }
 
 /// Build the report, calling `progress(done, total, what)` before each
@@ -138,54 +138,72 @@ pub fn from_dut_with_progress(
     opts: &BuildOptions,
     progress: &mut dyn FnMut(usize, usize, &str),
 ) -> Result<Report> {
-    let pending = start(dut, opts, progress)?;
-    let results = crate::holdover::predict_many(&pending.holdover_jobs());
-    Ok(pending.finish(dut, results))
+    let (begun, holdover) = begin(dut, opts, progress)?;
+    let report = analyse(dut, opts, begun, progress)?;
+    let results = crate::holdover::predict_many(&holdover.jobs());
+    Ok(finish(dut, report, holdover, results))
 }
 
-/// A report built up to its holdover predictions ([`start`]): the
-/// comparison makes the predictions of all its devices in one Monte Carlo
-/// ([`crate::holdover::predict_many`], each device's numbers the same as
-/// alone) and then finishes each report.
-pub(crate) struct Pending {
+/// A report's first part ([`begin`]): every input read, each record
+/// prepared, the report's header filled. The holdover model is made from
+/// it too (it needs only the records), so that a comparison can start the
+/// Monte Carlo of all its devices while their other sections are computed
+/// ([`analyse`]).
+pub(crate) struct Begun<'a> {
     report: Report,
-    holdover: Option<decisions::HoldoverAsk>,
+    records: Vec<Loaded<'a>>,
+    ties: Vec<Loaded<'a>>,
+    tables: Vec<LoadedTable<'a>>,
+    /// Each record's preparation (its DUT entry's steps), in order.
+    prepared: Vec<Result<crate::prepare::pipeline::Prepared>>,
+    /// Steps done so far (for the progress).
+    done: usize,
 }
 
-impl Pending {
+/// What the holdover section will hold: the predictions to make
+/// ([`decisions::HoldoverAsk`]) or why there are none. Decided by
+/// [`begin`], written into the report by [`finish`] (at the place the
+/// section has among the others, so the verdict list's order does not
+/// depend on when the model was made).
+pub(crate) struct HoldoverStart(decisions::HoldoverStart);
+
+impl HoldoverStart {
     /// The holdover predictions this report asks for, one per span.
-    pub(crate) fn holdover_jobs(
+    pub(crate) fn jobs(
         &self,
     ) -> Vec<(&crate::holdover::HoldoverModel, &crate::holdover::Settings)> {
-        match &self.holdover {
-            Some(a) => a.settings.iter().map(|s| (&a.model, s)).collect(),
-            None => Vec::new(),
+        match &self.0 {
+            decisions::HoldoverStart::Ask(a) => a.settings.iter().map(|s| (&a.model, s)).collect(),
+            _ => Vec::new(),
         }
-    }
-
-    /// The report, with the results of [`Pending::holdover_jobs`] in order.
-    pub(crate) fn finish(
-        self,
-        dut: &Dut,
-        results: Vec<Result<crate::holdover::Prediction>>,
-    ) -> Report {
-        let mut r = self.report;
-        if let Some(ask) = self.holdover {
-            decisions::holdover_finish(dut, ask, results, &mut r);
-        }
-        if !r.cautions.iter().any(|c| c == crate::DECISION_CAUTION) {
-            r.cautions.insert(0, crate::DECISION_CAUTION.to_string());
-        }
-        r
     }
 }
 
-/// Every step of [`from_dut_with_progress`] but the holdover Monte Carlo.
-pub(crate) fn start(
+/// The report, with the results of [`HoldoverStart::jobs`] in order.
+pub(crate) fn finish(
     dut: &Dut,
+    mut r: Report,
+    holdover: HoldoverStart,
+    results: Vec<Result<crate::holdover::Prediction>>,
+) -> Report {
+    if let Some(ask) = decisions::holdover_place(dut, holdover.0, &mut r) {
+        decisions::holdover_finish(dut, ask, results, &mut r);
+    }
+    if !r.cautions.iter().any(|c| c == crate::DECISION_CAUTION) {
+        r.cautions.insert(0, crate::DECISION_CAUTION.to_string());
+    }
+    r
+}
+
+/// The first steps of a report: read and hash every input, prepare each
+/// record as its DUT entry says, and fit the holdover model (the
+/// `holdover` command's library path) — the parts the holdover Monte
+/// Carlo waits for. [`analyse`] makes the rest.
+pub(crate) fn begin<'a>(
+    dut: &'a Dut,
     opts: &BuildOptions,
     progress: &mut dyn FnMut(usize, usize, &str),
-) -> Result<Pending> {
+) -> Result<(Begun<'a>, HoldoverStart)> {
     let total = steps(dut);
     let mut done = 0usize;
     let mut step = |what: &str| {
@@ -251,9 +269,49 @@ pub(crate) fn start(
             )?);
         }
     }
+    let prepared: Vec<_> = records
+        .iter()
+        .map(|l| crate::prepare::pipeline::prepare(&l.series.record, &l.src.prepare))
+        .collect();
+    step("holdover model");
+    let holdover = decisions::holdover_start(dut, &records, &prepared, r.decision);
+    Ok((
+        Begun {
+            report: r,
+            records,
+            ties,
+            tables,
+            prepared,
+            done,
+        },
+        HoldoverStart(holdover),
+    ))
+}
 
+/// Every section of a [`Begun`] report but holdover: stability and noise
+/// model, phase noise and jitter, wander, the limit files and the sections
+/// the DUT file adds. [`finish`] adds holdover from the predictions.
+pub(crate) fn analyse(
+    dut: &Dut,
+    opts: &BuildOptions,
+    begun: Begun<'_>,
+    progress: &mut dyn FnMut(usize, usize, &str),
+) -> Result<Report> {
+    let Begun {
+        report: mut r,
+        records,
+        ties,
+        tables,
+        prepared,
+        mut done,
+    } = begun;
+    let total = steps(dut);
+    let mut step = |what: &str| {
+        progress(done, total, what);
+        done += 1;
+    };
     step("stability and noise model");
-    let work = time::stability(dut, &records, opts, &mut r)?;
+    let work = time::stability(dut, &records, prepared, opts, &mut r)?;
     time::noise_model(&records, &work, opts, &mut r);
     step("phase noise and jitter");
     freq::phase_noise(dut, &records, &tables, &mut r)?;
@@ -262,11 +320,7 @@ pub(crate) fn start(
     decisions::wander(dut, &records, &ties, &mut r)?;
     step("limit files");
     limits::check(dut, &records, &work, &tables, opts, &mut r)?;
-    step("holdover");
-    let holdover = decisions::holdover_ask(dut, &records, &work, &mut r);
+    step("holdover Monte Carlo");
     r.added = super::added::sections(dut, opts.confidence);
-    Ok(Pending {
-        report: r,
-        holdover,
-    })
+    Ok(r)
 }

@@ -9,7 +9,7 @@ use super::{method, BuildOptions, Loaded};
 use crate::deviation::Curve;
 use crate::io::dut::Dut;
 use crate::plot::stability::{regions_from_curve, SigmaCurve, StabilityPlot};
-use crate::prepare::pipeline::{gap_runs, prepare, OutlierReport, Prepared};
+use crate::prepare::pipeline::{gap_runs, OutlierReport, Prepared};
 use crate::prepare::{summarize, DriftModel, DAY};
 use crate::report::*;
 use crate::stability::{analyse, Request};
@@ -114,9 +114,13 @@ fn per_day(v: f64, sigma: Option<f64>) -> String {
 
 /// Data quality, preparation and the stability picture of every record;
 /// returns each record's work for the other sections.
+/// `prepared` is each record's preparation
+/// ([`crate::prepare::pipeline::prepare`] with its DUT
+/// entry's steps), made beforehand because holdover needs it first.
 pub(super) fn stability(
     dut: &Dut,
     records: &[Loaded],
+    prepared: Vec<Result<Prepared>>,
     opts: &BuildOptions,
     r: &mut Report,
 ) -> Result<Vec<Worked>> {
@@ -128,7 +132,7 @@ pub(super) fn stability(
     let mut work = Vec::new();
     let mut any_ci = false;
     let mut any_noise = false;
-    for l in records {
+    for (l, prepared) in records.iter().zip(prepared) {
         let rec = &l.series.record;
         let steps = l.src.prepare;
         let mut notes = Vec::new();
@@ -172,7 +176,7 @@ pub(super) fn stability(
             outliers: s.outliers.as_ref().map(|o| OutlierReport::found(o, rec)),
         });
         // The preparation.
-        let prepared = match prepare(rec, &steps) {
+        let prepared = match prepared {
             Ok(p) => Some(p),
             Err(e) => {
                 notes.push(format!(
