@@ -133,14 +133,28 @@ pub fn steps(dut: &Dut) -> usize {
 
 /// Build the report, calling `progress(done, total, what)` before each
 /// step (reading a file, each analysis) so that a caller can show progress.
+///
+/// As in a comparison ([`crate::report::fleet::build`]), the holdover Monte
+/// Carlo runs beside the other sections once the inputs are read and the
+/// holdover model fitted; the results do not depend on it (the predictions
+/// are those of the seeds, the sections are written in their fixed order).
 pub fn from_dut_with_progress(
     dut: &Dut,
     opts: &BuildOptions,
     progress: &mut dyn FnMut(usize, usize, &str),
 ) -> Result<Report> {
     let (begun, holdover) = begin(dut, opts, progress)?;
-    let report = analyse(dut, opts, begun, progress)?;
-    let results = crate::holdover::predict_many(&holdover.jobs());
+    let jobs = holdover.jobs();
+    let (report, results) = std::thread::scope(|s| {
+        let predictions = s.spawn(|| crate::holdover::predict_many(&jobs));
+        let report = analyse(dut, opts, begun, progress);
+        let results = predictions
+            .join()
+            .unwrap_or_else(|e| std::panic::resume_unwind(e));
+        (report, results)
+    });
+    let report = report?;
+    drop(jobs);
     Ok(finish(dut, report, holdover, results))
 }
 
