@@ -503,11 +503,7 @@ fn non_overlapping_white_pm_last_octaves_cover_at_nominal() {
         records: 1000,
         seed: 1,
         grid: TauGrid::Explicit(vec![512.0, 1024.0]),
-        max_t_over_tau: None,
-        min_t_over_tau: None,
-        rule: CrossTauRule::CapAtShorterTau,
-        guard: true,
-        check_99: false,
+        ..spec(&[])
     };
     let cells = run(&s).unwrap();
     let mut lines = Vec::new();
@@ -555,11 +551,7 @@ fn non_overlapping_last_octaves_cover_at_nominal_for_every_noise() {
         records: 1000,
         seed: 1,
         grid: TauGrid::Explicit(vec![256.0, 512.0, 1024.0]),
-        max_t_over_tau: None,
-        min_t_over_tau: None,
-        rule: CrossTauRule::CapAtShorterTau,
-        guard: true,
-        check_99: false,
+        ..spec(&[])
     };
     let cells = run(&s).unwrap();
     assert_eq!(cells.len(), 30, "{} cells", cells.len());
@@ -607,11 +599,7 @@ fn overlapping_flicker_pm_last_octaves_cover_at_nominal() {
         records: 1000,
         seed: 1,
         grid: TauGrid::Explicit(vec![512.0, 1024.0]),
-        max_t_over_tau: None,
-        min_t_over_tau: None,
-        rule: CrossTauRule::CapAtShorterTau,
-        guard: true,
-        check_99: false,
+        ..spec(&[])
     };
     let cells = run(&s).unwrap();
     assert_eq!(cells.len(), 4, "{} cells", cells.len());
@@ -652,11 +640,8 @@ fn totdev_flicker_pm_form_alone_covers_at_nominal() {
             records: 1000,
             seed: 1,
             grid: TauGrid::Explicit(vec![1024.0]),
-            max_t_over_tau: None,
-            min_t_over_tau: None,
-            rule: CrossTauRule::CapAtShorterTau,
             guard,
-            check_99: false,
+            ..spec(&[])
         };
         let cells = run(&s).unwrap();
         assert_eq!(cells.len(), 1);

@@ -320,49 +320,8 @@ where
         pair.fwd.make_output_vec(),
         pair.fwd.make_output_vec(),
     );
-    let (a1, b1) = (&p1.0, &p1.1);
-    let (a2, b2) = (&p2.0, &p2.1);
-    if par == 1 {
-        add_spectrum_product(
-            &pair,
-            &mut bufs,
-            &mut acc,
-            l0,
-            |p| a1(2 * p),
-            |q| b1(2 * q + 1),
-        );
-        add_spectrum_product(
-            &pair,
-            &mut bufs,
-            &mut acc,
-            l1,
-            |p| a1(2 * p + 1),
-            |q| b1(2 * q),
-        );
-        add_spectrum_product(
-            &pair,
-            &mut bufs,
-            &mut acc,
-            l0,
-            |p| a2(2 * p),
-            |q| b2(2 * q + 1),
-        );
-        add_spectrum_product(
-            &pair,
-            &mut bufs,
-            &mut acc,
-            l1,
-            |p| a2(2 * p + 1),
-            |q| b2(2 * q),
-        );
-    } else {
-        let ao1 = |p: usize| if p == 0 { 0.0 } else { a1(2 * p - 1) };
-        let ao2 = |p: usize| if p == 0 { 0.0 } else { a2(2 * p - 1) };
-        add_spectrum_product(&pair, &mut bufs, &mut acc, l0, |p| a1(2 * p), |q| b1(2 * q));
-        add_spectrum_product(&pair, &mut bufs, &mut acc, l1, ao1, |q| b1(2 * q + 1));
-        add_spectrum_product(&pair, &mut bufs, &mut acc, l0, |p| a2(2 * p), |q| b2(2 * q));
-        add_spectrum_product(&pair, &mut bufs, &mut acc, l1, ao2, |q| b2(2 * q + 1));
-    }
+    for_parity_halves(&pair, &mut bufs, &mut acc, (l0, l1), par, &p1.0, &p1.1);
+    for_parity_halves(&pair, &mut bufs, &mut acc, (l0, l1), par, &p2.0, &p2.1);
     let (mut buf, fa, fb) = bufs;
     drop((fa, fb));
     inverse(&pair, &mut acc, &mut buf);
@@ -378,6 +337,30 @@ where
         .enumerate()
         .map(|(r, v)| h(2 * r + par) * (v * scale))
         .sum()
+}
+
+/// Add to `acc` the spectrum products of one pair (a, b) split in its even
+/// and odd halves, as [`weighted_convolution_pair_sum`] needs them for lags
+/// s of parity `par`: for s odd, A_even ∗ B_odd and A_odd ∗ B_even; for s
+/// even, A_even ∗ B_even and A_odd (shifted by one, a(2p − 1)) ∗ B_odd.
+/// `l` holds the two products' factor lengths.
+fn for_parity_halves(
+    pair: &Pair,
+    bufs: &mut (Vec<f64>, Vec<Complex<f64>>, Vec<Complex<f64>>),
+    acc: &mut [Complex<f64>],
+    (l0, l1): ((usize, usize), (usize, usize)),
+    par: usize,
+    a: impl Fn(usize) -> f64,
+    b: impl Fn(usize) -> f64,
+) {
+    if par == 1 {
+        add_spectrum_product(pair, bufs, acc, l0, |p| a(2 * p), |q| b(2 * q + 1));
+        add_spectrum_product(pair, bufs, acc, l1, |p| a(2 * p + 1), |q| b(2 * q));
+    } else {
+        let shifted_odd = |p: usize| if p == 0 { 0.0 } else { a(2 * p - 1) };
+        add_spectrum_product(pair, bufs, acc, l0, |p| a(2 * p), |q| b(2 * q));
+        add_spectrum_product(pair, bufs, acc, l1, shifted_odd, |q| b(2 * q + 1));
+    }
 }
 
 /// acc += FFT(x)·FFT(y), x of lx.0 values and y of lx.1 (zero-padded to
