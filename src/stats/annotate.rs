@@ -112,7 +112,11 @@ pub fn point_edf(
 /// The EDF of the estimate `e` of `est` (from a record of `rec_len` samples
 /// at τ0) for the power law α: the rule of each estimator
 /// ([`fn@edf`], [`crate::stats::totals`], [`crate::stats::theo`]) for the
-/// gap-free record with the same number of terms. `None` where the
+/// gap-free record with the same number of terms, or the exact EDF of the
+/// distribution its interval is taken from where that differs from the
+/// rule (OADEV and OHDEV on flicker PM at T/τ ≤ 16:
+/// [`crate::stats::form_interval::form_edf`]; TheoH's ThêoBR part:
+/// [`crate::stats::theo::theoh_edf`]). `None` where the
 /// estimator has no rule for α. TheoH's part (OADEV or ThêoBR) is told by
 /// m alone ([`crate::stats::theo::theoh_ratio_part`]: its τ can fall just
 /// below the switch), so τ0 is not needed.
@@ -123,15 +127,28 @@ pub fn edf_of(est: Estimator, a: i32, rec_len: usize, _tau0: f64, e: &Estimate) 
             if crate::stats::theo::theoh_ratio_part(rec_len, e.m) {
                 crate::stats::theo::theoh_edf(a, rec_len, e.m)
             } else {
-                let oa = VarianceKind::OverlappingAllan;
-                edf(oa, a, e.m, oa.equivalent_points(e.m, e.terms))
+                rule_or_form_edf(Estimator::Oadev, a, e)
             }
         }
-        _ => {
-            let kind = VarianceKind::of_estimator(est)?;
-            edf(kind, a, e.m, kind.equivalent_points(e.m, e.terms))
-        }
+        _ => rule_or_form_edf(est, a, e),
     }
+}
+
+/// The EDF of `e` (an estimate of `est`, one of the [`VarianceKind`]
+/// estimators) for α on the gap-free record with the same number of terms:
+/// the exact EDF of the form where the interval is the form's and its
+/// moments are exact ([`crate::stats::form_interval::form_edf`]: OADEV and
+/// OHDEV on flicker PM at T/τ ≤ 16; TOTDEV at m = 1, where it is OADEV
+/// term for term), else the estimator's rule ([`fn@edf`]).
+fn rule_or_form_edf(est: Estimator, a: i32, e: &Estimate) -> Option<f64> {
+    let kind = VarianceKind::of_estimator(est)?;
+    let n = kind.equivalent_points(e.m, e.terms);
+    let form_est = if est == Estimator::Totdev && e.m == 1 {
+        Estimator::Oadev
+    } else {
+        est
+    };
+    crate::stats::form_interval::form_edf(form_est, a, e.m, n).or_else(|| edf(kind, a, e.m, n))
 }
 
 /// The two-sided interval on the (corrected) estimate `e` of `est` from a

@@ -499,10 +499,10 @@ pub const FPM_TRANSFER_M: usize = 32;
 /// method against exact spectra at N ≤ 1025.
 ///
 /// The exact EDF here is that of the sampled band-limited flicker PM of
-/// IEEE Std 1139 (f_h = 1/(2τ0), the process `simulate` draws); the EDF
-/// reported for the point is Greenhall & Riley's on the discrete
-/// Kasdin–Walter kernel, about 7 % higher at T/τ = 4 (37.5 against 35.0
-/// at m = 1024, N = 4096; seeded Monte Carlo measures 35.5).
+/// IEEE Std 1139 (f_h = 1/(2τ0), the process `simulate` draws), and it is
+/// the EDF the point reports ([`form_edf`]); Greenhall & Riley's rule on
+/// the discrete Kasdin–Walter kernel is about 7 % higher at T/τ = 4 (37.5
+/// against 35.0 at m = 1024, N = 4096; seeded Monte Carlo measures 35.5).
 fn flicker_pm_carried_weights(est: Estimator, m: usize, n: usize, edf: f64) -> Option<Weights> {
     let ratio = (n - 1) as f64 / m as f64;
     let mr = FPM_TRANSFER_M;
@@ -631,6 +631,32 @@ fn flicker_pm_moments(est: Estimator, m: usize, n: usize, edf: f64) -> Option<(f
         }
         _ => None,
     }
+}
+
+/// The EDF an OADEV or OHDEV point on flicker PM (α = 1) at factor m on
+/// `n` samples reports where its interval is the distribution of its form
+/// (T/τ ≤ [`FORM_MAX_T_OVER_TAU`]): the exact ν = 2E\[Q\]²/Var\[Q\] of
+/// [`overlapping_moments`] for the sampled band-limited flicker PM the
+/// interval describes. It is the EDF of the interval's weights: the exact
+/// spectrum at m ≤ [`REDUCED_M`] (the same Gaussian moments), the carried
+/// one beyond, whose rest is matched to it. Greenhall & Riley's rule on the
+/// discrete Kasdin–Walter kernel ([`fn@crate::stats::edf`]) is 7–9 % higher
+/// at T/τ = 4 … 16 (37.5 against 35.0 at m = 1024, N = 4097; seeded Monte
+/// Carlo measures 35.5) and stays the EDF beyond T/τ = 16, where the
+/// interval is χ²_ν. `None` for other estimators or noises, or beyond
+/// T/τ = 16. O(n) the first time for each (estimator, m, n), then cached.
+pub fn form_edf(est: Estimator, alpha: i32, m: usize, n: usize) -> Option<f64> {
+    static CACHE: Cache<(Estimator, usize, usize), f64> = OnceLock::new();
+    if alpha != 1
+        || !matches!(est, Estimator::Oadev | Estimator::Ohdev)
+        || m == 0
+        || t_over_tau(est, m, n) > FORM_MAX_T_OVER_TAU
+    {
+        return None;
+    }
+    crate::stats::cached(&CACHE, (est, m, n), || {
+        overlapping_moments(est, 1, m, n).map(|(_, nu)| nu)
+    })
 }
 
 /// The exact mean E\[Q\] and EDF ν = 2E\[Q\]²/Var\[Q\] of the OADEV or
