@@ -751,7 +751,7 @@ fn overlapping_flicker_pm_edf_describes_its_interval() {
             let x: Vec<f64> = (0..n).map(|i| (0.37 * i as f64).sin()).collect();
             let rec = PhaseRecord::new(x, 1.0).unwrap();
             for &m in ms {
-                let e = compute(est, &rec, &[m])[0].clone();
+                let e = compute(est, &rec, &[m])[0];
                 let got = edf_of(est, 1, n, 1.0, &e).unwrap();
                 let w = pivot_weights(est, 1, m, n, got).unwrap();
                 let mean: f64 = w.iter().map(|(l, h)| h * l).sum();
