@@ -37,9 +37,12 @@
 //! (`reference::reflected_mean_square`) to 1e-10 relative in the tests;
 //! subsequences are spread over threads in fixed blocks (reproducible).
 //! The six reflection blocks of the fast form share six distinct moving
-//! terms, so the lagged products are summed once per pair of distinct
-//! terms (21 passes) and the fixed part in one loop. Cost O(N) per τ;
-//! memory O(run length) per thread, record-sized runs one at a time.
+//! terms (three forward, three backward windows), so the lagged products
+//! are summed in three fused passes and the fixed part, a
+//! piecewise-quadratic filter on three segments, in one loop (`Plan`).
+//! Cost O(N) per τ; memory O(run length) per thread: short runs keep five
+//! prefix values a sample, runs longer than 2^18 samples only the prefix
+//! sums V (one value a sample), one such run at a time.
 
 use super::allan::finish;
 use super::gaps::{Gaps, Prepared};
