@@ -37,9 +37,12 @@
 //! (`reference::reflected_mean_square`) to 1e-10 relative in the tests;
 //! subsequences are spread over threads in fixed blocks (reproducible).
 //! The six reflection blocks of the fast form share six distinct moving
-//! terms, so the lagged products are summed once per pair of distinct
-//! terms (21 passes) and the fixed part in one loop. Cost O(N) per τ;
-//! memory O(run length) per thread, record-sized runs one at a time.
+//! terms (three forward, three backward windows), so the lagged products
+//! are summed in three fused passes and the fixed part, a
+//! piecewise-quadratic filter on three segments, in one loop (`Plan`).
+//! Cost O(N) per τ; memory O(run length) per thread: short runs keep five
+//! prefix values a sample, runs longer than 2^18 samples only the prefix
+//! sums V (one value a sample), one such run at a time.
 
 use super::allan::finish;
 use super::gaps::{Gaps, Prepared};
@@ -337,7 +340,7 @@ const FAST_FROM_M: usize = 8;
 const BIG_RUN_LEN: usize = 1 << 18;
 
 /// Held while a run longer than [`BIG_RUN_LEN`] is summed, so that two
-/// long-τ sums never hold record-sized prefix arrays at once.
+/// long-τ sums never hold record-sized arrays at once ([`lock_big_run`]).
 static BIG_RUN: std::sync::Mutex<()> = std::sync::Mutex::new(());
 
 /// A moving term γ·V_{n+A+σr}.
@@ -355,10 +358,9 @@ struct BlockPlan {
     fixed: [[f64; 3]; 4],
 }
 
-/// Everything about m that does not depend on the data.
-struct Plan {
-    m: usize,
-    offsets: [usize; 4],
+/// The six ninth-blocks aggregated over their distinct moving terms (the
+/// first step of [`Plan`]).
+struct Aggregate {
     /// The distinct moving terms V_{n+A+σr} of all six blocks (six: A ∈
     /// {0, m, 2m} with σ = +1 and A ∈ {m, 2m, 3m} with σ = −1).
     terms: Vec<(usize, bool)>,
@@ -373,7 +375,7 @@ struct Plan {
     own: [[f64; 4]; 4],
 }
 
-impl Plan {
+impl Aggregate {
     fn new(m: usize) -> Self {
         let l3 = 3 * m;
         let h = l3 / 2;
@@ -486,8 +488,6 @@ impl Plan {
             }
         }
         Self {
-            m,
-            offsets: [0, h, l3 - h, l3],
             terms,
             pair,
             cross,
@@ -496,19 +496,133 @@ impl Plan {
     }
 }
 
-/// Scratch for one run of consecutive subsequences: the local V and its
-/// prefix sums over the samples of one parity (2 values a sample of the
-/// run; the window sums Σ t^p·V_t are running sums, not arrays).
-/// Runs up to [`BIG_RUN_LEN`] samples also keep the prefix sums
-/// P_p(t) = Σ_{s<t} s^p·V_s as arrays (`m0`, `m1`, `m2`: fewer operations
-/// a subsequence than the running cursors, at 3 more values a sample).
+/// Everything about m that does not depend on the data, in the fused
+/// form of [`run_sum`].
+///
+/// The three plus terms V_{n+A+r} (A = 0, m, 2m) and the three minus terms
+/// V_{n+A−r} (A = m, 2m, 3m) give three moving × moving sums: plus × plus
+/// and minus × minus (each one pass over t with the trapezoid weight and
+/// a quadratic form in three V), and plus × minus (one pass with the three
+/// every-other-sample inner sums). The fixed part reads the four V_{n+c}
+/// only through three values f = (V_n, V_{n+h} + V_{n+3m−h}, V_{n+3m}) (the
+/// blocks' φ at offsets h and 3m − h are equal), and each plus window
+/// [n + jm, n + (j+1)m) and minus window (n + jm, n + (j+1)m] covers the
+/// same segment: so the moving × fixed part is, for each f_k, a fixed
+/// piecewise-quadratic filter on V, Σ_j Σ_p seg\[k\]\[j\]\[p\]·Σ_{ρ<m} ρ^p
+/// V_{n+jm+ρ} + Σ_j pt\[k\]\[j\]·V_{n+jm} (the minus window's ends moved to
+/// the point terms), three moment triples a point in place of six.
+struct Plan {
+    m: usize,
+    h: usize,
+    /// Offsets A of the plus terms and of the minus terms.
+    pa: [usize; 3],
+    qa: [usize; 3],
+    /// Coefficients of the products plus i × plus j and minus i × minus j
+    /// (i ≤ j, the off-diagonal ones doubled), and plus i × minus j (doubled).
+    fpp: [[f64; 3]; 3],
+    fmm: [[f64; 3]; 3],
+    fpm: [[f64; 3]; 3],
+    /// seg\[k\]\[j\]\[p\]: the weight of f_k·Σ_{ρ<m} ρ^p·V_{n+jm+ρ}.
+    seg: [[[f64; 3]; 3]; 3],
+    /// pt\[k\]\[j\]: the weight of f_k·V_{n+jm}, j = 0 … 3.
+    pt: [[f64; 4]; 3],
+    /// The fixed × fixed part as a form in f.
+    own: [[f64; 3]; 3],
+}
+
+impl Plan {
+    fn new(m: usize) -> Self {
+        let ag = Aggregate::new(m);
+        let mut plus: Vec<(usize, usize)> = Vec::new();
+        let mut minus: Vec<(usize, usize)> = Vec::new();
+        for (t, &(a, pl)) in ag.terms.iter().enumerate() {
+            if pl {
+                plus.push((a, t));
+            } else {
+                minus.push((a, t));
+            }
+        }
+        plus.sort_unstable();
+        minus.sort_unstable();
+        assert!(
+            plus.iter().map(|p| p.0).eq([0, m, 2 * m])
+                && minus.iter().map(|p| p.0).eq([m, 2 * m, 3 * m]),
+            "the six moving terms of the notes"
+        );
+        let pa = [0, m, 2 * m];
+        let qa = [m, 2 * m, 3 * m];
+        let mut fpp = [[0.0; 3]; 3];
+        let mut fmm = [[0.0; 3]; 3];
+        let mut fpm = [[0.0; 3]; 3];
+        for i in 0..3 {
+            for j in 0..3 {
+                let twice = if i == j { 1.0 } else { 2.0 };
+                if i <= j {
+                    fpp[i][j] = twice * ag.pair[plus[i].1][plus[j].1];
+                    fmm[i][j] = twice * ag.pair[minus[i].1][minus[j].1];
+                }
+                fpm[i][j] = 2.0 * ag.pair[plus[i].1][minus[j].1];
+            }
+        }
+        // cross of the aggregate with the offsets h and 3m − h merged
+        // (equal rows: both are the blocks' φ at the half-average points)
+        // and doubled (2·moving·fixed).
+        let merged = |t: usize| -> [[f64; 3]; 3] {
+            let c = &ag.cross[t];
+            debug_assert_eq!(c[1], c[2]);
+            [c[0], c[1], c[3]].map(|row| row.map(|x| 2.0 * x))
+        };
+        let mf = m as f64;
+        let mut seg = [[[0.0; 3]; 3]; 3];
+        let mut pt = [[0.0; 4]; 3];
+        for j in 0..3 {
+            let (cp, cm) = (merged(plus[j].1), merged(minus[j].1));
+            for k in 0..3 {
+                let (p, q) = (cp[k], cm[k]);
+                // Minus window j in ρ = jm + m − (n + jm + ρ)'s r = m − ρ:
+                // Σ_p q_p (m − ρ)^p, over ρ = 1 … m.
+                seg[k][j] = [
+                    p[0] + q[0] + mf * q[1] + mf * mf * q[2],
+                    p[1] - q[1] - 2.0 * mf * q[2],
+                    p[2] + q[2],
+                ];
+                // The segment counts ρ = 0 (r = m), which the minus window
+                // does not hold, and misses ρ = m (r = 0), which it does.
+                pt[k][j] -= q[0] + mf * q[1] + mf * mf * q[2];
+                pt[k][j + 1] += q[0];
+            }
+        }
+        let map = [0usize, 1, 3];
+        let own = map.map(|a| map.map(|b| ag.own[a][b]));
+        // own[1][1] stands for the four products of V_{n+h} and
+        // V_{n+3m−h} (all equal entries), so f_1² carries them exactly.
+        Self {
+            m,
+            h: 3 * m / 2,
+            pa,
+            qa,
+            fpp,
+            fmm,
+            fpm,
+            seg,
+            pt,
+            own,
+        }
+    }
+}
+
+/// Scratch for one run of consecutive subsequences: the local V (one value
+/// a sample of the run). Runs up to [`BIG_RUN_LEN`] samples also keep the
+/// prefix sums of V over the samples of one parity (`par`) and the
+/// prefix moments P_p(t) = Σ_{s<t} s^p·V_s, p = 0, 1, 2 (`mom`): 5 values
+/// a sample. Longer runs take the parity sums from sliding compensated
+/// sums and the moments from running cursors instead (no record-sized
+/// arrays beyond V).
 #[derive(Default)]
 struct RunScratch {
     vv: Vec<f64>,
     par: Vec<f64>,
-    m0: Vec<f64>,
-    m1: Vec<f64>,
-    m2: Vec<f64>,
+    mom: Vec<[f64; 3]>,
 }
 
 /// Running compensated sums P_p(t) = Σ_{s<t} s^p·V_s, p = 0, 1, 2, at a
@@ -542,12 +656,234 @@ impl Cursor {
     }
 }
 
+/// A compensated sum of V over every other sample, lo, lo + 2, …, hi,
+/// whose ends slide (the plus × minus inner sums of long runs).
+#[derive(Clone, Copy)]
+struct Slide {
+    lo: i64,
+    hi: i64,
+    s: f64,
+    e: f64,
+    started: bool,
+}
+
+impl Slide {
+    const EMPTY: Slide = Slide {
+        lo: 0,
+        hi: -2,
+        s: 0.0,
+        e: 0.0,
+        started: false,
+    };
+
+    #[inline(always)]
+    fn add(&mut self, x: f64) {
+        let (a, e) = two_sum(self.s, x);
+        self.s = a;
+        self.e += e;
+    }
+
+    /// Σ V_u over u = lo, lo + 2, …, hi (lo ≡ hi mod 2).
+    #[inline(always)]
+    fn window(&mut self, vv: &[f64], lo: i64, hi: i64) -> f64 {
+        if !self.started {
+            self.started = true;
+            self.lo = lo;
+            self.hi = lo - 2;
+        }
+        while self.hi < hi {
+            self.hi += 2;
+            self.add(vv[self.hi as usize]);
+        }
+        while self.lo > lo {
+            self.lo -= 2;
+            self.add(vv[self.lo as usize]);
+        }
+        while self.lo < lo {
+            self.add(-vv[self.lo as usize]);
+            self.lo += 2;
+        }
+        while self.hi > hi {
+            self.add(-vv[self.hi as usize]);
+            self.hi -= 2;
+        }
+        self.s + self.e
+    }
+}
+
+/// Fill the scratch for a run of `len` samples read by `at`: the local
+/// V_t = Σ_{i<t} (v_i − α − β·i), t = 0 … len (compensated, stored rounded;
+/// α + β·i the straight line through the run's end samples), and when
+/// `stored` its parity prefix sums and prefix moments (each a compensated
+/// TwoSum chain stored rounded to one f64).
+fn build<F: Fn(usize) -> f64>(at: F, len: usize, s: &mut RunScratch, stored: bool) {
+    let alpha = at(0);
+    let beta = if len > 1 {
+        (at(len - 1) - alpha) / (len - 1) as f64
+    } else {
+        0.0
+    };
+    s.vv.clear();
+    s.vv.resize(len + 1, 0.0);
+    let (mut hi, mut lo) = (0.0f64, 0.0f64);
+    for (t, out) in s.vv[1..].iter_mut().enumerate() {
+        let (a, e) = two_sum(hi, at(t) - alpha - beta * t as f64);
+        hi = a;
+        lo += e;
+        *out = hi + lo;
+    }
+    s.par.clear();
+    s.mom.clear();
+    if stored {
+        // par[t + 2] = Σ_{u ≤ t, u ≡ t (mod 2)} V_u; mom[t + 1] = P_p(t + 1).
+        s.par.resize(len + 3, 0.0);
+        s.mom.resize(len + 2, [0.0; 3]);
+        let mut ph = [0.0f64; 2];
+        let mut pl = [0.0f64; 2];
+        let mut mh = [0.0f64; 3];
+        let mut ml = [0.0f64; 3];
+        let outs = s.par[2..].iter_mut().zip(&mut s.mom[1..]);
+        for (t, (&x, (p, mo))) in s.vv.iter().zip(outs).enumerate() {
+            let j = t & 1;
+            let (a, e) = two_sum(ph[j], x);
+            ph[j] = a;
+            pl[j] += e;
+            *p = a + pl[j];
+            let tf = t as f64;
+            let xs = [x, x * tf, x * tf * tf];
+            for q in 0..3 {
+                let (a, e) = two_sum(mh[q], xs[q]);
+                mh[q] = a;
+                ml[q] += e;
+            }
+            *mo = [mh[0] + ml[0], mh[1] + ml[1], mh[2] + ml[2]];
+        }
+    }
+}
+
+/// Σ_{i ≤ j} f_ij·x_i·x_j.
+#[inline(always)]
+fn upper_form(f: &[[f64; 3]; 3], [a, b, c]: [f64; 3]) -> f64 {
+    a * (f[0][0] * a + f[0][1] * b + f[0][2] * c)
+        + b * (f[1][1] * b + f[1][2] * c)
+        + f[2][2] * c * c
+}
+
+/// The moving × moving part of [`run_sum`]: Σ_n Σ_{b,r} M_b(n, r)².
+fn moving_part(plan: &Plan, vv: &[f64], par: Option<&[f64]>, count: usize) -> f64 {
+    let r_max = plan.m as i64 - 1;
+    let cnt = count as i64;
+    let (pa, qa) = (plan.pa, plan.qa);
+    // Plus × plus: t = n + r; weight #{r ∈ [0, m): 0 ≤ t − r < count}.
+    let mut spp = 0.0;
+    for t in 0..(cnt + r_max) {
+        let w = (t.min(r_max) - (t - cnt + 1).max(0) + 1) as f64;
+        let t = t as usize;
+        spp += w * upper_form(&plan.fpp, pa.map(|a| vv[t + a]));
+    }
+    // Minus × minus: t = n − r ∈ [−r_max, count), read at t + A ≥ 1.
+    let mut smm = 0.0;
+    for t in -r_max..cnt {
+        let w = (r_max.min(cnt - 1 - t) - (-t).max(0) + 1) as f64;
+        smm += w * upper_form(&plan.fmm, qa.map(|a| vv[(t + a as i64) as usize]));
+    }
+    // Plus × minus: Σ_q V_{q+pa_i}·Σ_{r} V_{q+qa_j−2r} over the r with
+    // 0 ≤ q − r < count (every other sample).
+    let mut spm = 0.0;
+    let mut slides = [[Slide::EMPTY; 2]; 3];
+    for q in 0..(cnt + r_max) {
+        let rl = (q - cnt + 1).max(0);
+        let rh = q.min(r_max);
+        let inner: [f64; 3] = match par {
+            Some(par) => qa.map(|a| {
+                let base = q + a as i64;
+                par[(base - 2 * rl) as usize + 2] - par[(base - 2 * rh) as usize]
+            }),
+            None => {
+                let side = (q & 1) as usize;
+                std::array::from_fn(|j| {
+                    let base = q + qa[j] as i64;
+                    slides[j][side].window(vv, base - 2 * rh, base - 2 * rl)
+                })
+            }
+        };
+        let qu = q as usize;
+        let v = pa.map(|a| vv[qu + a]);
+        let f = &plan.fpm;
+        for (j, inn) in inner.iter().enumerate() {
+            spm += inn * (f[0][j] * v[0] + f[1][j] * v[1] + f[2][j] * v[2]);
+        }
+    }
+    spp + smm + spm
+}
+
+/// The fixed part of point n from the three segment moment triples
+/// c\[j\]\[p\] = Σ_{ρ<m} ρ^p·V_{n+jm+ρ}: 2·Σ_b Σ_r M_b·F_b + Σ_b Σ_r F_b².
+#[inline(always)]
+fn point_sum(plan: &Plan, vv: &[f64], n: usize, c: &[[f64; 3]; 3]) -> f64 {
+    let m = plan.m;
+    let l3 = 3 * m;
+    let v = [vv[n], vv[n + m], vv[n + 2 * m], vv[n + l3]];
+    let f = [v[0], vv[n + plan.h] + vv[n + l3 - plan.h], v[3]];
+    let y: [f64; 3] = std::array::from_fn(|k| {
+        let (a, b) = (&plan.seg[k], &plan.pt[k]);
+        let mut s = b[0] * v[0] + b[1] * v[1] + b[2] * v[2] + b[3] * v[3];
+        for (aj, cj) in a.iter().zip(c) {
+            s += aj[0] * cj[0] + aj[1] * cj[1] + aj[2] * cj[2];
+        }
+        s
+    });
+    let o = &plan.own;
+    let mut own = 0.0;
+    for (row, fk) in o.iter().zip(f) {
+        own += fk * (row[0] * f[0] + row[1] * f[1] + row[2] * f[2]);
+    }
+    y[0] * f[0] + y[1] * f[1] + y[2] * f[2] + own
+}
+
+/// The moving × fixed and fixed × fixed parts of [`run_sum`], the segment
+/// moments from the stored prefix moments (`mom`) or, without them, from
+/// four running cursors at n, n + m, n + 2m, n + 3m.
+fn fixed_part(plan: &Plan, vv: &[f64], mom: Option<&[[f64; 3]]>, count: usize) -> f64 {
+    let m = plan.m;
+    let mut acc = 0.0;
+    if let Some(mom) = mom {
+        for n in 0..count {
+            let c: [[f64; 3]; 3] = std::array::from_fn(|j| {
+                let u = n + j * m;
+                let (a, b) = (&mom[u], &mom[u + m]);
+                centred([b[0] - a[0], b[1] - a[1], b[2] - a[2]], u as f64)
+            });
+            acc += point_sum(plan, vv, n, &c);
+        }
+        return acc;
+    }
+    let mut cur = [Cursor::default(); 4];
+    let mut c0 = Cursor::default();
+    for (j, slot) in cur.iter_mut().enumerate() {
+        while c0.t < j * m {
+            c0.advance(vv);
+        }
+        *slot = c0;
+    }
+    for n in 0..count {
+        let c: [[f64; 3]; 3] =
+            std::array::from_fn(|j| centred(cur[j + 1].minus(&cur[j]), (n + j * m) as f64));
+        acc += point_sum(plan, vv, n, &c);
+        for c in &mut cur {
+            c.advance(vv);
+        }
+    }
+    acc
+}
+
 /// Σ_{n} Σ_{j} (m·z_j(n))² over the subsequences n = start … start+count−1
 /// (all clear of gaps), by the exact fast form of the notes above.
 ///
-/// `stored`: the window sums Σ t^p·V_t from stored prefix arrays (short
-/// runs) or from running cursors (long runs: no record-sized arrays beyond
-/// V and its parity sums). The two give the same sums up to rounding; the
+/// `stored`: the parity sums and window moments from stored prefix arrays
+/// (short runs) or from sliding sums and running cursors (long runs: no
+/// record-sized arrays beyond V; the moving and the fixed parts then run
+/// on two threads). The two give the same sums up to rounding; the
 /// caller chooses by the run's length alone.
 fn run_sum(
     plan: &Plan,
@@ -557,217 +893,67 @@ fn run_sum(
     s: &mut RunScratch,
     stored: bool,
 ) -> f64 {
-    let m = plan.m;
-    let l3 = 3 * m;
-    let len = count + l3 - 1; // samples the run reads
-    let _guard = (len > BIG_RUN_LEN).then(|| BIG_RUN.lock().unwrap_or_else(|e| e.into_inner()));
-    // Local samples less an affine function of time.
-    let alpha = v.at(start);
-    let beta = if len > 1 {
-        (v.at(start + len - 1) - alpha) / (len - 1) as f64
+    let len = count + 3 * plan.m - 1; // samples the run reads
+    let _guard = (!stored).then(lock_big_run);
+    match v {
+        Seq::Values(x) => build(|i| x[start + i], len, s, stored),
+        Seq::Steps(x, tau0) => build(|i| (x[start + i + 1] - x[start + i]) / tau0, len, s, stored),
+    }
+    let vv = &s.vv[..];
+    let total = if stored {
+        moving_part(plan, vv, Some(&s.par), count) + fixed_part(plan, vv, Some(&s.mom), count)
     } else {
-        0.0
+        // A plain scoped thread, not a rayon task: the thread holding
+        // BIG_RUN must never pick up a task that waits for it.
+        std::thread::scope(|sc| {
+            let fixed = sc.spawn(|| fixed_part(plan, vv, None, count));
+            let moving = moving_part(plan, vv, None, count);
+            moving
+                + fixed
+                    .join()
+                    .unwrap_or_else(|e| std::panic::resume_unwind(e))
+        })
     };
-    // Local V_t = Σ_{i<t} (v_i − α − β·i), t = 0 … len, compensated.
-    s.vv.clear();
-    s.vv.reserve(len + 1);
-    let (mut hi, mut lo) = (0.0f64, 0.0f64);
-    s.vv.push(0.0);
-    for i in 0..len {
-        let (a, e) = two_sum(hi, v.at(start + i) - alpha - beta * i as f64);
-        hi = a;
-        lo += e;
-        s.vv.push(hi + lo);
-    }
-    let vv = &s.vv;
-    // Prefix sums of V over the samples of one parity, compensated
-    // (TwoSum chains) and each stored rounded to one f64.
-    let len_v = vv.len();
-    s.par.clear();
-    s.par.reserve(len_v + 2);
-    s.par.push(0.0);
-    s.par.push(0.0);
-    let mut h = [0.0f64; 2];
-    let mut l = [0.0f64; 2];
-    for (t, &x) in vv.iter().enumerate() {
-        let j = t & 1;
-        let (a, e) = two_sum(h[j], x);
-        h[j] = a;
-        l[j] += e;
-        // par[t + 2] = Σ_{u ≤ t, u ≡ t (mod 2)} V_u.
-        s.par.push(h[j] + l[j]);
-    }
-    let par = &s.par;
-
-    let r_max = m as i64 - 1;
-    let cnt = count as i64;
-    // Moving × moving: one pass per pair of distinct terms.
-    let nt = plan.terms.len();
-    let mut total = 0.0;
-    for t1 in 0..nt {
-        for t2 in t1..nt {
-            let f = if t1 == t2 { 1.0 } else { 2.0 } * plan.pair[t1][t2];
-            if f == 0.0 {
-                continue;
-            }
-            let (pa, pplus) = plan.terms[t1];
-            let (qa, qplus) = plan.terms[t2];
-            let sum = if pplus == qplus {
-                // t = n + σr; weight = #{r ∈ [0, m): 0 ≤ t − σr < count}.
-                let mut s2 = 0.0;
-                if pplus {
-                    for t in 0..(cnt + r_max) {
-                        let w = t.min(r_max) - (t - cnt + 1).max(0) + 1;
-                        let t = t as usize;
-                        s2 += w as f64 * vv[t + pa] * vv[t + qa];
-                    }
-                } else {
-                    for t in -r_max..cnt {
-                        let w = r_max.min(cnt - 1 - t) - (-t).max(0) + 1;
-                        s2 +=
-                            w as f64 * vv[(t + pa as i64) as usize] * vv[(t + qa as i64) as usize];
-                    }
-                }
-                s2
-            } else {
-                let (pl, mi) = if pplus { (pa, qa) } else { (qa, pa) };
-                let mut s2 = 0.0;
-                for qq in 0..(cnt + r_max) {
-                    let rl = (qq - cnt + 1).max(0);
-                    let rh = qq.min(r_max);
-                    let base = qq + mi as i64;
-                    let lo_t = (base - 2 * rh) as usize;
-                    let hi_t = (base - 2 * rl) as usize + 1;
-                    // V at lo_t, lo_t + 2, …, hi_t − 1 (all of base's parity).
-                    let inner = par[hi_t + 1] - par[lo_t];
-                    s2 += vv[qq as usize + pl] * inner;
-                }
-                s2
-            };
-            total += f * sum;
-        }
-    }
-    // With the fixed part F_b(n, r) = Σ_c V_{n+offset c}·(φ_b[c][0] + φ_b[c][1]·r + φ_b[c][2]·r²),
-    // summed over the blocks through the aggregated tables of the plan.
-    // The window sums Σ_r r^p V_{u±r} (u = n + A) come from the running
-    // sums P_p of four cursors at n, n + m, n + 2m, n + 3m (the "plus"
-    // windows [u, u+m) read P at n + A and n + A + m, the "minus" windows
-    // (u−m, u] at n + A + 1 − m and n + A + 1), each moved one sample per n.
-    if stored {
-        let (m0, m1, m2) = (&mut s.m0, &mut s.m1, &mut s.m2);
-        let acc = fixed_part_stored(plan, &s.vv, count, [m0, m1, m2]);
-        return total + acc;
-    }
-    let mut cur = [Cursor::default(); 4];
-    {
-        let mut c = Cursor::default();
-        for (j, slot) in cur.iter_mut().enumerate() {
-            while c.t < j * m {
-                c.advance(vv);
-            }
-            *slot = c;
-        }
-    }
-    let mut acc = 0.0;
-    for n in 0..count {
-        let old = cur;
-        for c in &mut cur {
-            c.advance(vv);
-        }
-        acc += point_sum(plan, vv, n, |a, plus| {
-            let j = a / m;
-            let d = if plus {
-                // [u, u + m): cursors j (at n + A) and j + 1 (at n + A + m).
-                old[j + 1].minus(&old[j])
-            } else {
-                // (u − m, u]: cursors j − 1 and j, one sample on.
-                cur[j].minus(&cur[j - 1])
-            };
-            centred(d, (n + a) as f64, plus)
-        });
-    }
-    if len > BIG_RUN_LEN {
+    if !stored {
         // Give a record-sized scratch back before the next long run may
         // take the lock (another thread's scratch would otherwise stay).
         *s = RunScratch::default();
     }
-    total + acc
+    total
 }
 
-/// The fixed part of [`run_sum`] with the window sums from stored prefix
-/// arrays P_p(t) = Σ_{s<t} s^p·V_s (built here in the scratch `pre`, each
-/// a compensated TwoSum chain stored rounded to one f64).
-fn fixed_part_stored(plan: &Plan, vv: &[f64], count: usize, pre: [&mut Vec<f64>; 3]) -> f64 {
-    let m = plan.m;
-    let [m0, m1, m2] = pre;
-    for a in [&mut *m0, &mut *m1, &mut *m2] {
-        a.clear();
-        a.reserve(vv.len() + 1);
-        a.push(0.0);
-    }
-    let mut h = [0.0f64; 3];
-    let mut l = [0.0f64; 3];
-    for (t, &x) in vv.iter().enumerate() {
-        let tf = t as f64;
-        for (j, v) in [x, x * tf, x * tf * tf].into_iter().enumerate() {
-            let (a, e) = two_sum(h[j], v);
-            h[j] = a;
-            l[j] += e;
-        }
-        m0.push(h[0] + l[0]);
-        m1.push(h[1] + l[1]);
-        m2.push(h[2] + l[2]);
-    }
-    // Σ_r r^p V_{u±r} for p = 0, 1, 2.
-    let window = |u: usize, plus: bool| -> [f64; 3] {
-        let (a, b) = if plus { (u, u + m) } else { (u + 1 - m, u + 1) };
-        centred(
-            [m0[b] - m0[a], m1[b] - m1[a], m2[b] - m2[a]],
-            u as f64,
-            plus,
-        )
-    };
-    (0..count)
-        .map(|n| point_sum(plan, vv, n, |a, plus| window(n + a, plus)))
-        .sum()
-}
-
-/// The window sums Σ_r r^p·V_{u±r} (p = 0, 1, 2) from the raw sums
-/// d_p = Σ_s s^p·V_s over the window ([u, u + m) when `plus`, (u − m, u]
-/// otherwise), by r = s − u (plus) or r = u − s (minus).
-#[inline]
-fn centred([d0, d1, d2]: [f64; 3], u: f64, plus: bool) -> [f64; 3] {
-    if plus {
-        [d0, d1 - u * d0, d2 - 2.0 * u * d1 + u * u * d0]
-    } else {
-        [d0, u * d0 - d1, u * u * d0 - 2.0 * u * d1 + d2]
-    }
-}
-
-/// The fixed part's contribution of point n: 2·Σ_terms (cross table ·
-/// window sums) + the own table's quadratic form in V at the plan's four
-/// offsets; `window(A, plus)` gives the window sums of the term at offset A.
-#[inline]
-fn point_sum(plan: &Plan, vv: &[f64], n: usize, window: impl Fn(usize, bool) -> [f64; 3]) -> f64 {
-    let vc: [f64; 4] = std::array::from_fn(|c| vv[n + plan.offsets[c]]);
-    let mut cross = 0.0;
-    for (t, &(a, plus)) in plan.terms.iter().enumerate() {
-        let w = window(a, plus);
-        let e = &plan.cross[t];
-        for (p, wp) in w.iter().enumerate() {
-            let coef = e[0][p] * vc[0] + e[1][p] * vc[1] + e[2][p] * vc[2] + e[3][p] * vc[3];
-            cross += coef * wp;
+/// Take [`BIG_RUN`], running other pending rayon tasks while it is held
+/// elsewhere (so that a waiting thread still helps, e.g. with the halves
+/// of the running long run, instead of blocking a core).
+fn lock_big_run() -> std::sync::MutexGuard<'static, ()> {
+    loop {
+        match BIG_RUN.try_lock() {
+            Ok(g) => return g,
+            Err(std::sync::TryLockError::Poisoned(e)) => return e.into_inner(),
+            Err(std::sync::TryLockError::WouldBlock) => {
+                if rayon::yield_now() != Some(rayon::Yield::Executed) {
+                    std::thread::sleep(std::time::Duration::from_micros(200));
+                }
+            }
         }
     }
-    let mut own = 0.0;
-    for (c1, row) in plan.own.iter().enumerate() {
-        own += vc[c1] * (row[0] * vc[0] + row[1] * vc[1] + row[2] * vc[2] + row[3] * vc[3]);
-    }
-    2.0 * cross + own
+}
+
+/// The window sums Σ_{ρ<m} ρ^p·V_{u+ρ} (p = 0, 1, 2) from the raw sums
+/// d_p = Σ_s s^p·V_s over the window [u, u + m), by ρ = s − u.
+#[inline(always)]
+fn centred([d0, d1, d2]: [f64; 3], u: f64) -> [f64; 3] {
+    [d0, d1 - u * d0, d2 - 2.0 * u * d1 + u * u * d0]
 }
 
 /// G(m) by the exact O(N)-per-τ form: (Σ of mean squares, subsequences used).
 fn reflected_mean_square_fast(v: Seq, gaps: &Gaps, m: usize) -> (f64, usize) {
+    fast_form(v, gaps, m, BIG_RUN_LEN)
+}
+
+/// [`reflected_mean_square_fast`] with runs longer than `big_run` samples
+/// taken the long way (sliding sums, cursors, two threads, one at a time).
+fn fast_form(v: Seq, gaps: &Gaps, m: usize, big_run: usize) -> (f64, usize) {
     let count = v.len() - 3 * m + 1;
     let plan = Plan::new(m);
     let block = 3 * m;
@@ -788,7 +974,7 @@ fn reflected_mean_square_fast(v: Seq, gaps: &Gaps, m: usize) -> (f64, usize) {
                 while e < hi && v.clear(gaps, e, e + 3 * m - 1) {
                     e += 1;
                 }
-                let stored = e - n + 3 * m - 1 <= BIG_RUN_LEN;
+                let stored = e - n + 3 * m - 1 <= big_run;
                 s += run_sum(&plan, v, n, e - n, scr, stored);
                 used += e - n;
                 n = e;
@@ -862,6 +1048,59 @@ mod tests {
                         assert!(
                             (got - want).abs() <= 1e-10 * want.abs(),
                             "m={m} stored={stored}: {got} vs {want}"
+                        );
+                    }
+                }
+            }
+        }
+    }
+
+    /// The whole fast form, with every run taken the long way (sliding
+    /// parity sums, running cursors, the moving and fixed parts on two
+    /// threads, the long-run lock) and with every run taken the short way,
+    /// equals the direct SP 1065 definition (`reference::reflected_mean_square`,
+    /// which skips every subsequence holding a gap) to 1e-10 relative, with
+    /// and without gaps, on phase and on its frequency steps; several τ at
+    /// once in parallel, as `compute` does (the lock is taken by one at a
+    /// time).
+    #[test]
+    fn long_and_short_runs_equal_the_definition_with_gaps() {
+        let mut rng = ChaCha8Rng::seed_from_u64(29);
+        let (mut f, mut ph) = (0.0, 0.0);
+        let rw: Vec<f64> = (0..900)
+            .map(|_| {
+                f += rng.gen_range(-1.0..1.0) * 1e-12;
+                ph += f + 3e-9;
+                ph
+            })
+            .collect();
+        let mut gappy = rw.clone();
+        for i in (11..gappy.len()).step_by(97) {
+            gappy[i] = f64::NAN;
+        }
+        for v in &mut gappy[400..431] {
+            *v = f64::NAN;
+        }
+        for x in [rw, gappy] {
+            let gaps = Gaps::new(&x);
+            let y: Vec<f64> = x.windows(2).map(|p| (p[1] - p[0]) / 2.0).collect();
+            for (seq, direct) in [(Seq::Values(&x), &x), (Seq::Steps(&x, 2.0), &y)] {
+                let ms = [8usize, 9, 21, 50, 64, 101, seq.len() / 3];
+                let got: Vec<[(f64, usize); 2]> = ms
+                    .par_iter()
+                    .map(|&m| [0, usize::MAX].map(|big| fast_form(seq, &gaps, m, big)))
+                    .collect();
+                for (&m, pair) in ms.iter().zip(&got) {
+                    let (want, count) =
+                        crate::deviation::reference::reflected_mean_square(direct, m);
+                    for (big, &(s, used)) in ["long", "short"].iter().zip(pair) {
+                        assert_eq!(used, count, "m={m} {big}");
+                        if count == 0 {
+                            continue;
+                        }
+                        assert!(
+                            (s - want).abs() <= 1e-10 * want.abs(),
+                            "m={m} {big}: {s} vs {want}"
                         );
                     }
                 }
