@@ -27,8 +27,8 @@ pub(crate) const BIG: usize = 1 << 18;
 /// Held while an FFT of [`BIG`] points or more is computed.
 static BIG_LOCK: std::sync::Mutex<()> = std::sync::Mutex::new(());
 
-/// Points of plans a thread keeps (beyond them it gives back its largest plans first): the cached
-/// twiddle tables stay below about 16 bytes × this (8 MB) per thread.
+/// Points of plans a thread keeps (beyond them it gives back its largest
+/// plans first, [`plans`]): the cached twiddle tables stay below about 16 bytes × this (8 MB) per thread.
 /// A Theo1 block at the middle factors plans its autocorrelation, its head
 /// and tail autocorrelations and the triangle convolutions (about 2^19
 /// points at m = 2^16): a cache of 2^18 points was emptied at every block
@@ -87,7 +87,8 @@ fn plans(size: usize, with_inverse: bool) -> Pair {
             // the small sizes serve every level of a triangle recursion
             // (and every block), a large one a few cross terms. (Emptying
             // the whole cache here made every small plan again after each
-            // large one: about 6 % of the ThêoBR ratio's time in planning.)
+            // large one; planning was about 6 % of the ThêoBR ratio's
+            // profile at N = 3·10^6.)
             let mut keys: Vec<(usize, bool)> = cell.0.keys().copied().collect();
             keys.sort_unstable_by(|a, b| b.cmp(a));
             for key in keys {
