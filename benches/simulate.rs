@@ -1,6 +1,12 @@
 //! Power-law synthesis speed: `simulate_phase` for 10^6 and 10^7 points,
 //! all five noise types (two of them by FFT convolution) and WFM alone
 //! (no FFT). Run with `cargo bench --bench simulate`.
+//!
+//! Since the flicker terms discard a warm-up of N samples (src/simulate.rs
+//! § Steady state) their FFT is about 3N points instead of 2N: one FFM term
+//! of 10^7 points took 6.2–6.5 s CPU and 1.62 GB peak RSS against 3.2–3.5 s
+//! and 1.10 GB from rest (`/usr/bin/time`, back to back, shared 2-core
+//! machine); the criterion figures of this bench were not re-recorded.
 
 use criterion::{criterion_group, criterion_main, BenchmarkId, Criterion, SamplingMode};
 use std::time::Duration;

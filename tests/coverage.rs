@@ -212,24 +212,28 @@ fn former_wide_cells_cover_at_nominal() {
 }
 
 /// TOTDEV on flicker PM at T/τ = 16, 8 and 4 (seeded Monte Carlo, N = 2049,
-/// 500 records): its EDF is now exact from the terms' covariances
+/// 1000 records: one binomial standard error 0.015 at 68.3 %; with 500,
+/// 0.021, the T/τ = 4 cell read 0.723 on these seeds, at the edge of
+/// ±0.04 by chance, and 0.704 with 1000): its EDF is now exact from the terms' covariances
 /// (`stats::totals::totvar_edf_flicker_pm`; the former rule, 15–20 % low,
 /// covered 0.77–0.82 at 68.3 %) and its interval the split spectrum with the
-/// two end samples' eigenvalues kept apart. Coverage at 68.3 % not below
-/// nominal by more than 0.04 and not above by more than 0.06: these
-/// records are the first N samples of a flicker process started from rest
-/// (src/simulate.rs), whose reflected ends vary less than the stationary
-/// process the form describes (EDF measured 17 % above the exact one at
-/// T/τ = 8: 0.734 at 68.3 % here; on stationary records the same interval
-/// covers at nominal, `totdev_flicker_pm_covers_on_stationary_records`); at 95 % not below 0.91 (the dangerous side) and at
+/// two end samples' eigenvalues kept apart. Coverage at 68.3 % within
+/// ±0.04 of nominal (issue 11: when the simulator's flicker records were
+/// the first N samples of a process started from rest, their reflected
+/// ends varied less than the stationary process the form describes — EDF
+/// measured 17 % above the exact one at T/τ = 8, 0.734 at 68.3 % here —
+/// and the upper tolerance had been relaxed to +0.06; the records are now
+/// segments of the process in steady state, src/simulate.rs § Steady
+/// state: now 0.706, 0.694, 0.704 at T/τ = 16, 8, 4, EDF within 12 % of
+/// the spread's); at 95 % not below 0.91 (the dangerous side) and at
 /// most 0.995 — there the interval is the union with the χ² interval
 /// (`form_interval::GUARD_CONFIDENCE`), which puts it at 0.97–0.99; and the
-/// EDF within 25 % of the one the spread of 500 values shows (the spread's
-/// own sampling error at EDF ≈ 20 is about 10 %).
+/// EDF within 25 % of the one the spread of 1000 values shows (the spread's
+/// own sampling error at EDF ≈ 20 is about 7 %).
 #[test]
 fn totdev_flicker_pm_covers_at_nominal() {
     let mut s = spec(&[Estimator::Totdev]);
-    s.records = 500;
+    s.records = 1000;
     s.alphas = vec![1];
     s.grid = TauGrid::Explicit(vec![128.0, 256.0, 512.0]);
     s.seed = 123_000;
@@ -238,13 +242,13 @@ fn totdev_flicker_pm_covers_at_nominal() {
     let mut lines = Vec::new();
     let mut bad = Vec::new();
     for c in &cells {
-        assert!(c.with_interval >= 450, "{} intervals", c.with_interval);
+        assert!(c.with_interval >= 900, "{} intervals", c.with_interval);
         let (c68, c95) = (c.coverage_68(), c.coverage_95());
         let line = format!(
             "totdev FPM T/τ={:.1}: {c68:.3} / {c95:.3}, EDF {:.1} given, {:.1} measured",
             c.t_over_tau, c.mean_edf, c.monte_carlo_edf
         );
-        if !(0.683 - 0.04..=0.683 + 0.06).contains(&c68)
+        if (c68 - 0.683).abs() > 0.04
             || !(0.91..=0.995).contains(&c95)
             || (c.mean_edf / c.monte_carlo_edf - 1.0).abs() > 0.25
         {
@@ -656,16 +660,16 @@ fn totdev_flicker_pm_form_alone_covers_at_nominal() {
     }
 }
 
-/// TOTDEV on flicker PM at T/τ = 8 and 4 on stationary records: seeded
-/// records of 5N samples of which the last N = 2049 are kept, so that the
-/// start from rest of the simulator's flicker filter (src/simulate.rs) is
-/// 4N samples behind (seeded Monte Carlo, 1000 records, the true noise
-/// type and the exact bias factor, the form's own interval without the
-/// union). On these the exact EDF is what the spread shows (within 10 %),
-/// the bias-corrected mean is within 2 % of the truth, and the intervals
-/// cover within ±0.04 of nominal at 68.3 % and 95 %. (On the records
-/// started from rest the sweep's cells read 0.70–0.72 at 68.3 % at
-/// T/τ = 8 and a mean of 0.95 at T/τ = 4.)
+/// TOTDEV on flicker PM at T/τ = 8 and 4 on the simulator's records as
+/// made, N = 2049, which are segments of the process in steady state
+/// (src/simulate.rs § Steady state; this test first took the last N of
+/// 5N samples to get there, issue 11) (seeded Monte Carlo, 1000 records,
+/// the true noise type and the exact bias factor, the form's own interval
+/// without the union). On these the exact EDF is what the spread shows
+/// (within 10 %), the bias-corrected mean is within 2 % of the truth, and
+/// the intervals cover within ±0.04 of nominal at 68.3 % and 95 %. (On
+/// records started from rest the sweep's cells read 0.70–0.72 at 68.3 %
+/// at T/τ = 8 and a mean of 0.95 at T/τ = 4.)
 #[test]
 fn totdev_flicker_pm_covers_on_stationary_records() {
     use tauwise::deviation::compute;
@@ -679,11 +683,7 @@ fn totdev_flicker_pm_covers_on_stationary_records() {
     let mut model = PowerLaw::zero(0.5);
     model.set(1, 1.0);
     let recs: Vec<PhaseRecord> = (0..records)
-        .map(|r| {
-            let rec =
-                simulate_phase(&SimSpec::new(model, 1.0, 5 * n, 321 + 7919 * r as u64)).unwrap();
-            PhaseRecord::new(rec.x[4 * n..].to_vec(), 1.0).unwrap()
-        })
+        .map(|r| simulate_phase(&SimSpec::new(model, 1.0, n, 321 + 7919 * r as u64)).unwrap())
         .collect();
     let mut bad = Vec::new();
     for m in [256usize, 512] {
