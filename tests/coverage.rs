@@ -89,6 +89,35 @@ fn check(cells: &[CoverageCell]) {
     assert!(cells.len() >= 2 * 3);
 }
 
+/// Every cell of `cells` has at least `min_intervals` intervals and covers
+/// within ±0.04 of nominal at 68.3 % and at 95 % (the bound); the
+/// cells are printed (`--nocapture`) and every one outside is named.
+fn check_nominal<'a>(cells: impl IntoIterator<Item = &'a CoverageCell>, min_intervals: usize) {
+    let mut lines = Vec::new();
+    let mut bad = Vec::new();
+    for c in cells {
+        let name = format!(
+            "{} {} m={}",
+            c.estimator.name(),
+            tauwise::model::noise_label(c.alpha).unwrap_or("?"),
+            c.m
+        );
+        assert!(
+            c.with_interval >= min_intervals,
+            "{name}: {} intervals",
+            c.with_interval
+        );
+        let (c68, c95) = (c.coverage_68(), c.coverage_95());
+        let line = format!("{name} T/τ={:.1}: {c68:.3} / {c95:.3}", c.t_over_tau);
+        if (c68 - 0.683).abs() > 0.04 || (c95 - 0.95).abs() > 0.04 {
+            bad.push(line.clone());
+        }
+        lines.push(line);
+    }
+    eprintln!("{}", lines.join("\n"));
+    assert!(bad.is_empty(), "coverage off:\n{}", bad.join("\n"));
+}
+
 /// NIST SP 1065 estimators with Greenhall & Riley (2003) EDF: ADEV, OADEV.
 #[test]
 fn allan_intervals_cover() {
@@ -510,31 +539,13 @@ fn non_overlapping_white_pm_last_octaves_cover_at_nominal() {
         ..spec(&[])
     };
     let cells = run(&s).unwrap();
-    let mut lines = Vec::new();
-    let mut bad = Vec::new();
-    for (est, m) in [(Estimator::Adev, 1024usize), (Estimator::Hdev, 512)] {
-        let c = cells
+    let wanted = [(Estimator::Adev, 1024usize), (Estimator::Hdev, 512)].map(|(est, m)| {
+        cells
             .iter()
             .find(|c| c.estimator == est && c.m == m)
-            .unwrap_or_else(|| panic!("no cell {est:?} m={m}"));
-        assert!(
-            c.with_interval >= 900,
-            "{est:?}: {} intervals",
-            c.with_interval
-        );
-        let (c68, c95) = (c.coverage_68(), c.coverage_95());
-        let line = format!(
-            "{} T/τ={:.1}: {c68:.3} / {c95:.3}",
-            est.name(),
-            c.t_over_tau
-        );
-        if (c68 - 0.683).abs() > 0.04 || (c95 - 0.95).abs() > 0.04 {
-            bad.push(line.clone());
-        }
-        lines.push(line);
-    }
-    eprintln!("{}", lines.join("\n"));
-    assert!(bad.is_empty(), "coverage off:\n{}", bad.join("\n"));
+            .unwrap_or_else(|| panic!("no cell {est:?} m={m}"))
+    });
+    check_nominal(wanted, 900);
 }
 
 /// ADEV and HDEV at T/τ = 12, 6 and exactly 3 (N = 3073, m = 256, 512,
@@ -559,31 +570,7 @@ fn non_overlapping_last_octaves_cover_at_nominal_for_every_noise() {
     };
     let cells = run(&s).unwrap();
     assert_eq!(cells.len(), 30, "{} cells", cells.len());
-    let mut lines = Vec::new();
-    let mut bad = Vec::new();
-    for c in &cells {
-        assert!(
-            c.with_interval >= 950,
-            "{:?} α={} m={}: {} intervals",
-            c.estimator,
-            c.alpha,
-            c.m,
-            c.with_interval
-        );
-        let (c68, c95) = (c.coverage_68(), c.coverage_95());
-        let line = format!(
-            "{} α={} T/τ={:.1}: {c68:.3} / {c95:.3}",
-            c.estimator.name(),
-            c.alpha,
-            c.t_over_tau
-        );
-        if (c68 - 0.683).abs() > 0.04 || (c95 - 0.95).abs() > 0.04 {
-            bad.push(line.clone());
-        }
-        lines.push(line);
-    }
-    eprintln!("{}", lines.join("\n"));
-    assert!(bad.is_empty(), "coverage off:\n{}", bad.join("\n"));
+    check_nominal(&cells, 950);
 }
 
 /// OADEV and OHDEV on flicker PM at T/τ = 4 (seeded Monte Carlo, N = 4096,
@@ -607,23 +594,7 @@ fn overlapping_flicker_pm_last_octaves_cover_at_nominal() {
     };
     let cells = run(&s).unwrap();
     assert_eq!(cells.len(), 4, "{} cells", cells.len());
-    let mut lines = Vec::new();
-    let mut bad = Vec::new();
-    for c in &cells {
-        assert!(c.with_interval >= 950, "{:?} m={}", c.estimator, c.m);
-        let (c68, c95) = (c.coverage_68(), c.coverage_95());
-        let line = format!(
-            "{} T/τ={:.1}: {c68:.3} / {c95:.3}",
-            c.estimator.name(),
-            c.t_over_tau
-        );
-        if (c68 - 0.683).abs() > 0.04 || (c95 - 0.95).abs() > 0.04 {
-            bad.push(line.clone());
-        }
-        lines.push(line);
-    }
-    eprintln!("{}", lines.join("\n"));
-    assert!(bad.is_empty(), "coverage off:\n{}", bad.join("\n"));
+    check_nominal(&cells, 950);
 }
 
 /// TOTDEV on flicker PM at T/τ = 4, the form's own interval without the
