@@ -621,7 +621,7 @@ fn carries_flicker_pm(est: Estimator) -> bool {
 /// m·N ≤ 2²², a lower bound beyond: [`crate::stats::totals`]).
 fn flicker_pm_moments(est: Estimator, m: usize, n: usize, edf: f64) -> Option<(f64, f64)> {
     match est {
-        Estimator::Oadev | Estimator::Ohdev => overlapping_moments(est, 1, m, n),
+        Estimator::Oadev | Estimator::Ohdev => flicker_pm_overlapping_moments(est, m, n),
         Estimator::Totdev => {
             let b = crate::stats::totals::totvar_bias(1, m, n)?;
             let s = |k: usize| gacv::sampled_phase_gacv_at(1, k).unwrap_or(f64::NAN);
@@ -644,9 +644,9 @@ fn flicker_pm_moments(est: Estimator, m: usize, n: usize, edf: f64) -> Option<(f
 /// at T/τ = 4 … 16 (37.5 against 35.0 at m = 1024, N = 4097; seeded Monte
 /// Carlo measures 35.5) and stays the EDF beyond T/τ = 16, where the
 /// interval is χ²_ν. `None` for other estimators or noises, or beyond
-/// T/τ = 16. O(n) the first time for each (estimator, m, n), then cached.
+/// T/τ = 16. O(n) the first time for each (estimator, m, n), then cached
+/// (`flicker_pm_overlapping_moments`, shared with the interval's weights).
 pub fn form_edf(est: Estimator, alpha: i32, m: usize, n: usize) -> Option<f64> {
-    static CACHE: Cache<(Estimator, usize, usize), f64> = OnceLock::new();
     if alpha != 1
         || !matches!(est, Estimator::Oadev | Estimator::Ohdev)
         || m == 0
@@ -654,9 +654,16 @@ pub fn form_edf(est: Estimator, alpha: i32, m: usize, n: usize) -> Option<f64> {
     {
         return None;
     }
-    crate::stats::cached(&CACHE, (est, m, n), || {
-        overlapping_moments(est, 1, m, n).map(|(_, nu)| nu)
-    })
+    flicker_pm_overlapping_moments(est, m, n).map(|(_, nu)| nu)
+}
+
+/// [`overlapping_moments`] for flicker PM, computed once per
+/// (estimator, m, n): the point's EDF ([`form_edf`]) and its interval's
+/// weights at each confidence (`flicker_pm_carried_weights`) ask for the
+/// same O(n) sum.
+fn flicker_pm_overlapping_moments(est: Estimator, m: usize, n: usize) -> Option<(f64, f64)> {
+    static CACHE: Cache<(Estimator, usize, usize), (f64, f64)> = OnceLock::new();
+    crate::stats::cached(&CACHE, (est, m, n), || overlapping_moments(est, 1, m, n))
 }
 
 /// The exact mean E\[Q\] and EDF ν = 2E\[Q\]²/Var\[Q\] of the OADEV or
