@@ -114,7 +114,7 @@ pub fn point_edf(
 /// ([`fn@edf`], [`crate::stats::totals`], [`crate::stats::theo`]) for the
 /// gap-free record with the same number of terms, or the exact EDF of the
 /// distribution its interval is taken from where that differs from the
-/// rule (OADEV and OHDEV on flicker PM at T/τ ≤ 16:
+/// rule (OADEV and OHDEV on flicker PM:
 /// [`crate::stats::form_interval::form_edf`]; TheoH's ThêoBR part:
 /// [`crate::stats::theo::theoh_edf`]). `None` where the
 /// estimator has no rule for α. TheoH's part (OADEV or ThêoBR) is told by
@@ -136,10 +136,10 @@ pub fn edf_of(est: Estimator, a: i32, rec_len: usize, _tau0: f64, e: &Estimate) 
 
 /// The EDF of `e` (an estimate of `est`, one of the [`VarianceKind`]
 /// estimators) for α on the gap-free record with the same number of terms:
-/// the exact EDF of the form where the interval is the form's and its
-/// moments are exact ([`crate::stats::form_interval::form_edf`]: OADEV and
-/// OHDEV on flicker PM at T/τ ≤ 16; TOTDEV at m = 1, where it is OADEV
-/// term for term), else the estimator's rule ([`fn@edf`]).
+/// the exact EDF of the form's terms where it is known and the rule is
+/// not ([`crate::stats::form_interval::form_edf`]: OADEV and OHDEV on
+/// flicker PM, whose rule is 7–9 % high; TOTDEV at m = 1, where it is
+/// OADEV term for term), else the estimator's rule ([`fn@edf`]).
 fn rule_or_form_edf(est: Estimator, a: i32, e: &Estimate) -> Option<f64> {
     let kind = VarianceKind::of_estimator(est)?;
     let n = kind.equivalent_points(e.m, e.terms);
