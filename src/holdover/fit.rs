@@ -141,10 +141,12 @@ pub fn fit_noise(x: &PhaseRecord) -> Result<ModelFit> {
 /// of the noise model too.
 ///
 /// Calibration (seeded Monte Carlo, `examples/holdover_calibration.rs`,
-/// 200 records of 4096 points each): (D̂ − D)/σ_D has sd 1.04 / 0.91 /
-/// 0.92 and lies beyond 2 in 5.5 / 5.0 / 4.0 % of the records (nominal
-/// 1 and 4.6 %) for weak RWFM, strong RWFM and all four FM/PM terms; from
-/// the point estimate alone it was 2.55 / 1.01 / 1.60 and 25 / 5 / 16 %.
+/// 400 records of 4096 points each, rerun with the simulator's flicker
+/// terms in steady state; the table is in docs/verdicts.md): (D̂ − D)/σ_D
+/// has sd 1.25 / 0.91 / 0.75 and lies beyond 2 in 7.5 / 4.0 / 2.0 % of the
+/// records (nominal 1 and 4.6 %) for weak RWFM, strong RWFM and all four
+/// FM/PM terms; from the point estimate alone (200 records, before the
+/// per-term random streams) it was 2.55 / 1.01 / 1.60 and 25 / 5 / 16 %.
 /// (The posterior form W·ν_W/χ²_{ν_W}, tried as well, over-covers: sd 0.6–0.9.)
 #[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
 pub struct RwfmSpread {
