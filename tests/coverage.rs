@@ -771,3 +771,55 @@ fn overlapping_flicker_pm_beyond_the_form_covers_at_nominal() {
     assert_eq!(cells.len(), 8, "{} cells", cells.len());
     check_nominal(&cells, 950);
 }
+
+/// OHDEV on flicker FM at T/τ = 64 (N = 4096): seed 1 of the
+/// steady-state sweep covered 0.639 at 68.3 %, 3 binomial standard errors
+/// low, though its EDF (Greenhall & Riley's rule, 61.8) equals the exact ν
+/// of the form's terms (`form_interval::overlapping_moments`: 61.8) and the
+/// spread of those records (57.6) is within the sampling error of an EDF
+/// measured on 1000 records (about 5 %). Seeds 1 … 7 (7000 records, seeded
+/// Monte Carlo; the other six read 0.672–0.710): pooled within ±0.015 of
+/// nominal at 68.3 % and ±0.01 at 95 % (one standard error 0.0056 /
+/// 0.0026), and the measured EDF within 5 % of the one given — the seed-1
+/// cell is chance, not the rule.
+#[test]
+fn ohdev_flicker_fm_at_t_over_tau_64_covers_over_seeds() {
+    let (mut n, mut h68, mut h95, mut edf_given, mut edf_mc) = (0usize, 0usize, 0usize, 0.0, 0.0);
+    for seed in 1..=7u64 {
+        let s = CoverageSpec {
+            estimators: vec![Estimator::Ohdev],
+            alphas: vec![-1],
+            points: 4096,
+            records: 1000,
+            seed,
+            grid: TauGrid::Explicit(vec![64.0]),
+            ..spec(&[])
+        };
+        let cells = run(&s).unwrap();
+        assert_eq!(cells.len(), 1);
+        let c = &cells[0];
+        eprintln!(
+            "seed {seed}: {:.3} / {:.3}, EDF {:.1} given, {:.1} measured",
+            c.coverage_68(),
+            c.coverage_95(),
+            c.mean_edf,
+            c.monte_carlo_edf
+        );
+        n += c.with_interval;
+        h68 += c.hits_68;
+        h95 += c.hits_95;
+        edf_given += c.mean_edf;
+        edf_mc += c.monte_carlo_edf;
+    }
+    let (c68, c95) = (h68 as f64 / n as f64, h95 as f64 / n as f64);
+    eprintln!("pooled over {n}: {c68:.3} / {c95:.3}");
+    assert!(n >= 6900, "{n} intervals");
+    assert!(
+        (c68 - 0.683).abs() <= 0.015 && (c95 - 0.95).abs() <= 0.01,
+        "{c68:.3} / {c95:.3}"
+    );
+    assert!(
+        (edf_mc / edf_given - 1.0).abs() < 0.05,
+        "EDF {edf_given} given, {edf_mc} measured"
+    );
+}
