@@ -45,6 +45,24 @@ fn spec(estimators: &[Estimator]) -> CoverageSpec {
     }
 }
 
+/// The spec of the sweep's cells (`examples/coverage --points N
+/// --records 1000 --seed 1`) for the given estimators, noises and τ.
+fn sweep_spec(
+    estimators: &[Estimator],
+    alphas: &[i32],
+    points: usize,
+    taus: &[f64],
+) -> CoverageSpec {
+    CoverageSpec {
+        alphas: alphas.to_vec(),
+        points,
+        records: 1000,
+        seed: 1,
+        grid: TauGrid::Explicit(taus.to_vec()),
+        ..spec(estimators)
+    }
+}
+
 fn check(cells: &[CoverageCell]) {
     let mut lines = Vec::new();
     let mut bad = Vec::new();
@@ -559,15 +577,12 @@ fn non_overlapping_white_pm_last_octaves_cover_at_nominal() {
 /// record rounded T/τ = 3.999 to 4 (a third Allan term).
 #[test]
 fn non_overlapping_last_octaves_cover_at_nominal_for_every_noise() {
-    let s = CoverageSpec {
-        estimators: vec![Estimator::Adev, Estimator::Hdev],
-        alphas: vec![2, 1, 0, -1, -2],
-        points: 3073,
-        records: 1000,
-        seed: 1,
-        grid: TauGrid::Explicit(vec![256.0, 512.0, 1024.0]),
-        ..spec(&[])
-    };
+    let s = sweep_spec(
+        &[Estimator::Adev, Estimator::Hdev],
+        &[2, 1, 0, -1, -2],
+        3073,
+        &[256.0, 512.0, 1024.0],
+    );
     let cells = run(&s).unwrap();
     assert_eq!(cells.len(), 30, "{} cells", cells.len());
     check_nominal(&cells, 950);
@@ -583,15 +598,12 @@ fn non_overlapping_last_octaves_cover_at_nominal_for_every_noise() {
 /// nominal at 68.3 % and 95 %, T/τ = 8 and 4.
 #[test]
 fn overlapping_flicker_pm_last_octaves_cover_at_nominal() {
-    let s = CoverageSpec {
-        estimators: vec![Estimator::Oadev, Estimator::Ohdev],
-        alphas: vec![1],
-        points: 4096,
-        records: 1000,
-        seed: 1,
-        grid: TauGrid::Explicit(vec![512.0, 1024.0]),
-        ..spec(&[])
-    };
+    let s = sweep_spec(
+        &[Estimator::Oadev, Estimator::Ohdev],
+        &[1],
+        4096,
+        &[512.0, 1024.0],
+    );
     let cells = run(&s).unwrap();
     assert_eq!(cells.len(), 4, "{} cells", cells.len());
     check_nominal(&cells, 950);
@@ -609,14 +621,8 @@ fn overlapping_flicker_pm_last_octaves_cover_at_nominal() {
 fn totdev_flicker_pm_form_alone_covers_at_nominal() {
     for guard in [false, true] {
         let s = CoverageSpec {
-            estimators: vec![Estimator::Totdev],
-            alphas: vec![1],
-            points: 4096,
-            records: 1000,
-            seed: 1,
-            grid: TauGrid::Explicit(vec![1024.0]),
             guard,
-            ..spec(&[])
+            ..sweep_spec(&[Estimator::Totdev], &[1], 4096, &[1024.0])
         };
         let cells = run(&s).unwrap();
         assert_eq!(cells.len(), 1);
@@ -758,15 +764,12 @@ fn overlapping_flicker_pm_edf_describes_its_interval() {
 /// definition), 573 there. Every cell within ±0.04 of nominal.
 #[test]
 fn overlapping_flicker_pm_beyond_the_form_covers_at_nominal() {
-    let s = CoverageSpec {
-        estimators: vec![Estimator::Oadev, Estimator::Ohdev],
-        alphas: vec![1],
-        points: 4096,
-        records: 1000,
-        seed: 1,
-        grid: TauGrid::Explicit(vec![8.0, 32.0, 64.0, 128.0]),
-        ..spec(&[])
-    };
+    let s = sweep_spec(
+        &[Estimator::Oadev, Estimator::Ohdev],
+        &[1],
+        4096,
+        &[8.0, 32.0, 64.0, 128.0],
+    );
     let cells = run(&s).unwrap();
     assert_eq!(cells.len(), 8, "{} cells", cells.len());
     check_nominal(&cells, 950);
@@ -787,13 +790,8 @@ fn ohdev_flicker_fm_at_t_over_tau_64_covers_over_seeds() {
     let (mut n, mut h68, mut h95, mut edf_given, mut edf_mc) = (0usize, 0usize, 0usize, 0.0, 0.0);
     for seed in 1..=7u64 {
         let s = CoverageSpec {
-            estimators: vec![Estimator::Ohdev],
-            alphas: vec![-1],
-            points: 4096,
-            records: 1000,
             seed,
-            grid: TauGrid::Explicit(vec![64.0]),
-            ..spec(&[])
+            ..sweep_spec(&[Estimator::Ohdev], &[-1], 4096, &[64.0])
         };
         let cells = run(&s).unwrap();
         assert_eq!(cells.len(), 1);

@@ -670,6 +670,25 @@ fn flicker_pm_overlapping_moments(est: Estimator, m: usize, n: usize) -> Option<
     })
 }
 
+/// The binomial coefficients c of the OADEV (d = 2) or OHDEV (d = 3)
+/// terms and their number T = n − d·m on `n` samples at factor m, for
+/// [`overlapping_moments`] and [`overlapping_moments_fast`]; `None` for
+/// other estimators, m = 0, α outside 2 … −2 or no term.
+fn overlapping_terms(
+    est: Estimator,
+    alpha: i32,
+    m: usize,
+    n: usize,
+) -> Option<(&'static [f64], usize)> {
+    let coef: &'static [f64] = match est {
+        Estimator::Oadev => &[1.0, -2.0, 1.0],
+        Estimator::Ohdev => &[1.0, -3.0, 3.0, -1.0],
+        _ => return None,
+    };
+    let d = coef.len() - 1;
+    (m > 0 && n > d * m && (-2..=2).contains(&alpha)).then(|| (coef, n - d * m))
+}
+
 /// The exact mean E\[Q\] and EDF ν = 2E\[Q\]²/Var\[Q\] of the OADEV or
 /// OHDEV form Q = Σ_i d_i² at factor m on `n` gap-free samples, noise α
 /// (2 … −2, the sampled power law of [`gacv`]), from the covariance of its
@@ -681,16 +700,7 @@ fn flicker_pm_overlapping_moments(est: Estimator, m: usize, n: usize) -> Option<
 /// of the EDF, Greenhall & Riley 2003). O(n·d²). `None` for other
 /// estimators, α outside 2 … −2 or fewer than one term.
 pub fn overlapping_moments(est: Estimator, alpha: i32, m: usize, n: usize) -> Option<(f64, f64)> {
-    let coef: &[f64] = match est {
-        Estimator::Oadev => &[1.0, -2.0, 1.0],
-        Estimator::Ohdev => &[1.0, -3.0, 3.0, -1.0],
-        _ => return None,
-    };
-    let d = coef.len() - 1;
-    if m == 0 || n <= d * m || !(-2..=2).contains(&alpha) {
-        return None;
-    }
-    let terms = n - d * m;
+    let (coef, terms) = overlapping_terms(est, alpha, m, n)?;
     let s = |lag: usize| gacv::sampled_phase_gacv_at(alpha, lag);
     let r = |k: usize| -> Option<f64> {
         let mut v = 0.0;
@@ -743,16 +753,8 @@ pub fn overlapping_moments_fast(
     n: usize,
 ) -> Option<(f64, f64)> {
     use rayon::prelude::*;
-    let coef: &[f64] = match est {
-        Estimator::Oadev => &[1.0, -2.0, 1.0],
-        Estimator::Ohdev => &[1.0, -3.0, 3.0, -1.0],
-        _ => return None,
-    };
+    let (coef, terms) = overlapping_terms(est, alpha, m, n)?;
     let d = coef.len() - 1;
-    if m == 0 || n <= d * m || !(-2..=2).contains(&alpha) {
-        return None;
-    }
-    let terms = n - d * m;
     // w_j for j = −d … d (index j + d), symmetric.
     let w: Vec<f64> = (0..=2 * d)
         .map(|jj| {
