@@ -377,13 +377,10 @@ impl std::fmt::Display for Estimator {
     }
 }
 
-fn estimate_at(
-    est: Estimator,
-    p: &gaps::Prepared,
-    m: usize,
-    theobr: Option<f64>,
-) -> Option<Estimate> {
-    if m < est.min_m() || m > est.max_m(p.x.len()) {
+/// The estimate of `est` at factor m; TheoH, whose long τ share the
+/// record's ThêoBR ratio, comes from [`theo::theoh_many`] instead.
+fn estimate_at(est: Estimator, p: &gaps::Prepared, m: usize) -> Option<Estimate> {
+    if !in_range(est, p.x.len(), m) {
         return None;
     }
     match est {
@@ -398,7 +395,7 @@ fn estimate_at(
         Estimator::Ttot => modtotal::ttot(p, m),
         Estimator::Htot => modtotal::htot(p, m),
         Estimator::Theo1 => theo::theo1(p, m),
-        Estimator::Theoh => theo::theoh(p, m, theobr),
+        Estimator::Theoh => theo::theoh_many(p, &[m], |m| in_range(est, p.x.len(), m))[0],
         Estimator::Mtie => tie::mtie(p, m),
         Estimator::TieRms => tie::tierms(p, m),
     }
@@ -426,24 +423,27 @@ fn estimate_at(
 /// ```
 pub fn compute(est: Estimator, x: &PhaseRecord, ms: &[usize]) -> Vec<Estimate> {
     let p = gaps::Prepared::new(&x.x, x.tau0);
-    let theobr = if est == Estimator::Theoh {
-        let split = theo::theoh_switch(x.len(), x.tau0);
-        let needed = ms
-            .iter()
-            .any(|&m| m as f64 * x.tau0 >= split && m <= est.max_m(x.len()));
-        needed.then(|| theo::theobr_ratio(&p)).flatten()
+    let mut out: Vec<Estimate> = if est == Estimator::Theoh {
+        theo::theoh_many(&p, ms, |m| in_range(est, x.len(), m))
+            .into_iter()
+            .flatten()
+            .collect()
     } else {
-        None
+        ms.par_iter()
+            .filter_map(|&m| estimate_at(est, &p, m))
+            .collect()
     };
-    let mut out: Vec<Estimate> = ms
-        .par_iter()
-        .filter_map(|&m| estimate_at(est, &p, m, theobr))
-        .collect();
     if est.uses_theo_lattice() {
         let mut seen = std::collections::HashSet::new();
         out.retain(|e| seen.insert(e.tau.to_bits()));
     }
     out
+}
+
+/// True when m is within the valid factors of `est` for a record of
+/// `n_phase` samples ([`Estimator::min_m`] … [`Estimator::max_m`]).
+fn in_range(est: Estimator, n_phase: usize, m: usize) -> bool {
+    m >= est.min_m() && m <= est.max_m(n_phase)
 }
 
 /// One estimated deviation at one τ.
