@@ -412,6 +412,7 @@ mod tests {
             bias: None,
             drift: false,
             interval_method: None,
+            approximation: None,
         }
     }
 

@@ -405,3 +405,82 @@ fn old_estimator_name_is_refused_with_the_new_one() {
     let doc: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
     assert_eq!(doc["curves"][0]["estimator"], "tie-rms");
 }
+
+/// Issue 18: TheoH's ThêoBR part on a record of 61,530 points or more (where
+/// the record's ThêoBR ratio is the mean over a subset of its pairs) carries
+/// that approximation — JSON `"approximation": {"name": "subset-bias-ratio",
+/// "bound": 0.005}`, a `≈` after its row in the text table and one note
+/// saying what it means —, and nothing else does: TheoH's OADEV part (τ
+/// below 10 % of the record, NIST SP 1065 §5.2.17), the OADEV curve, and
+/// every point of a record one sample shorter (every pair used) carry
+/// `null` and no mark. The `best` curve keeps the mark of the points it
+/// takes from TheoH. Seeded white FM plus white PM (the marks depend on N
+/// and τ alone).
+#[test]
+fn theoh_marks_its_approximated_points() {
+    use rand::{Rng, SeedableRng};
+    let dir = tempfile::tempdir().unwrap();
+    for n in [61_530usize, 61_529] {
+        let mut rng = rand_chacha::ChaCha8Rng::seed_from_u64(18);
+        let mut walk = 0.0;
+        let text: String = (0..n)
+            .map(|_| {
+                walk += rng.gen_range(-1.0..1.0) * 1e-9;
+                format!("{:e}\n", walk + rng.gen_range(-1.0..1.0) * 1e-10)
+            })
+            .collect();
+        let f = write(dir.path(), &format!("x{n}.txt"), &text);
+        let run = |format: &str| {
+            let out = tauwise()
+                .arg("stability")
+                .arg(&f)
+                .args(["--tau0", "1s", "--dev", "oadev,theoh", "--best"])
+                .args(["--format", format])
+                .output()
+                .unwrap();
+            assert!(
+                out.status.success(),
+                "{}",
+                String::from_utf8_lossy(&out.stderr)
+            );
+            out.stdout
+        };
+        let doc: serde_json::Value = serde_json::from_slice(&run("json")).unwrap();
+        let split = 0.1 * (n - 1) as f64;
+        let sampled = n >= 61_530;
+        let mut marked = 0;
+        let mut ratio_part = 0;
+        for c in doc["curves"].as_array().unwrap() {
+            for p in c["points"].as_array().unwrap() {
+                let tau = p["tau"].as_f64().unwrap();
+                let from_theoh = c["name"] == "theoh" || p["from"] == "theoh";
+                let want = from_theoh && tau >= split && sampled;
+                ratio_part += usize::from(c["name"] == "theoh" && tau >= split);
+                let a = &p["approximation"];
+                if want {
+                    marked += 1;
+                    assert_eq!(a["name"], "subset-bias-ratio", "n={n} τ={tau}");
+                    assert_eq!(a["bound"], 0.005);
+                } else {
+                    assert!(a.is_null(), "n={n} {} τ={tau}: {a}", c["name"]);
+                }
+            }
+        }
+        // The TheoH curve reaches its ThêoBR part (a few octaves).
+        assert!(ratio_part >= 2, "n={n}: {ratio_part} ThêoBR points");
+        assert_eq!(marked > 0, sampled);
+        let table = String::from_utf8(run("table")).unwrap();
+        let rows = table.lines().filter(|l| l.ends_with("  ≈")).count();
+        assert_eq!(rows, marked, "n={n}:\n{table}");
+        let notes = table
+            .lines()
+            .filter(|l| {
+                l.starts_with("≈ approximated: theoh beyond 10 % of a record of 61,530 points")
+            })
+            .count();
+        // One note under each table that shows the mark (the theoh curve and
+        // `best` when it takes a marked point).
+        assert_eq!(notes > 0, sampled, "{table}");
+        assert!(table.contains("within 0.5 % of the mean of all pairs") == sampled);
+    }
+}

@@ -288,7 +288,8 @@ fn the_same_estimate_has_the_same_json_keys_in_every_command() {
             "alpha",
             "noise",
             "bias",
-            "interval_method"
+            "interval_method",
+            "approximation"
         ]
         .iter()
         .map(|k| k.to_string())

@@ -105,6 +105,7 @@ fn full_report(name: &str) -> Report {
                 edf: Some(10.0),
                 noise: Some("WFM".into()),
                 terms: 100,
+                approximation: None,
             })
             .collect(),
         confidence: 0.683,
@@ -878,4 +879,50 @@ fn report_jitter_period_and_found_spurs() {
         "{:?}",
         s.notes
     );
+}
+
+/// Issue 18: a row whose value carries an approximation (TheoH's ThêoBR
+/// part on a record of 61,530 points or more, [`Approximation`]) shows `≈`
+/// beside its deviation, and the table one note saying what it means; the
+/// rows without one, and a report with none, show neither.
+#[test]
+fn approximated_rows_are_marked_with_a_note() {
+    use tauwise::deviation::{Approximation, Estimator};
+    let note = Approximation::SubsetBiasRatio.note();
+    let plain = render_html(&full_report("ocxo-a")).unwrap();
+    assert!(!plain.contains('≈') && !plain.contains("approximated"));
+    let mut r = full_report("ocxo-a");
+    let Part::Done(sections) = &mut r.stability else {
+        panic!("stability part")
+    };
+    let first = sections[0].rows[0].clone();
+    for m in [20_000usize, 40_000] {
+        sections[0].rows.push(StabilityRow {
+            estimator: Estimator::Theoh,
+            tau: 0.75 * m as f64,
+            m,
+            dev: 2.5e-13,
+            approximation: Estimator::Theoh.approximation(100_000, m),
+            ..first.clone()
+        });
+    }
+    let html = render_html(&r).unwrap();
+    let doc = check_document(&html);
+    let rows = Selector::parse("section#stability table tr").unwrap();
+    let marked: Vec<String> = doc
+        .select(&rows)
+        .map(|tr| tr.text().collect::<String>())
+        .filter(|t| t.contains('≈'))
+        .collect();
+    assert_eq!(marked.len(), 2, "{marked:?}");
+    assert!(marked
+        .iter()
+        .all(|t| t.contains("theoh") && t.contains("2.500e-13 ≈")));
+    let notes = Selector::parse("section#stability p.note").unwrap();
+    let shown: Vec<String> = doc
+        .select(&notes)
+        .map(|p| p.text().collect::<String>())
+        .filter(|t| t.starts_with('≈'))
+        .collect();
+    assert_eq!(shown, [note]);
 }

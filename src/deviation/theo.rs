@@ -649,7 +649,7 @@ fn theobr_top(n: usize) -> Option<usize> {
 ///
 /// Up to n < [`SAMPLED_FROM`] (N below about 61,500) every pair is
 /// computed ([`theobr_ratio_all`]). From there on the mean is an
-/// approximation ([`theobr_ratio_sampled`]): it is taken over a fixed
+/// approximation ([`theobr_ratio_sampled_beside`]): it is taken over a fixed
 /// subset of i, AVAR exact at each, Theo1 exact (rounding below 1e-6
 /// relative) at a sparser subset of those and interpolated in log–log
 /// between them, and the mean of all n + 1 pairs estimated from the subset
@@ -658,20 +658,44 @@ fn theobr_top(n: usize) -> Option<usize> {
 /// (N = 6,000, 24,000 and 72,000, three seeds, with and without gaps):
 /// worst 0.30 % (0.19 % with Theo1 exact at every node of the subset),
 /// allowed 0.5 %. That is a seeded measurement, not a proof; the switch
-/// depends on N alone.
-pub(crate) fn theobr_ratio(p: &Prepared) -> Option<f64> {
-    if theobr_top(p.x.len())? < SAMPLED_FROM {
-        theobr_ratio_all(p)
+/// depends on N alone ([`theobr_ratio_is_sampled`]).
+///
+/// `beside` runs beside the ratio ([`rayon::join`]; for the subset mean,
+/// once its large transform is done: [`theobr_ratio_sampled_beside`]) and
+/// its result is returned with the ratio, which does not depend on it.
+fn theobr_ratio_beside<T: Send>(
+    p: &Prepared,
+    beside: impl FnOnce() -> T + Send,
+) -> (Option<f64>, T) {
+    if theobr_ratio_is_sampled(p.x.len()) {
+        theobr_ratio_sampled_beside(p, THEO1_DENSITY, beside)
     } else {
-        theobr_ratio_sampled(p)
+        rayon::join(|| theobr_ratio_all(p), beside)
     }
+}
+
+/// True when the ThêoBR ratio of a record of `n_phase` samples is the
+/// subset mean of [`theobr_ratio_sampled_beside`] (n ≥ [`SAMPLED_FROM`], that is
+/// N ≥ 61,530), an approximation of the mean of all pairs within
+/// [`SAMPLED_RATIO_BOUND`] in the tests; false when every pair is used (or
+/// there is no ratio). The one test of that switch: [`theobr_ratio_beside`] and the
+/// mark on TheoH's points ([`super::Estimator::approximation`]) both read it.
+pub(crate) fn theobr_ratio_is_sampled(n_phase: usize) -> bool {
+    theobr_top(n_phase).is_some_and(|nb| nb >= SAMPLED_FROM)
 }
 
 /// ThêoBR averages all its pairs below this n (N ≈ 61,500), a subset from
 /// there on.
 pub(crate) const SAMPLED_FROM: usize = 2048;
 
-/// The indices i of [`theobr_ratio_sampled`]: from 0, steps of
+/// The largest relative difference between the subset mean of
+/// [`theobr_ratio_sampled_beside`] and the mean of all pairs that the tests allow
+/// (seeded records of WPM, FPM, WFM, FFM and RWFM, with and without gaps;
+/// worst measured 0.30 %): the bound the mark on TheoH's points states
+/// ([`super::Approximation::SubsetBiasRatio`]).
+pub(crate) const SAMPLED_RATIO_BOUND: f64 = 0.005;
+
+/// The indices i of [`theobr_ratio_sampled_beside`]: from 0, steps of
 /// max(⌈i/64⌉, ⌈n/256⌉) — at most about 1.6 % of τ above i = n/4, where most
 /// of the mean lies, and an even stride below —, and always the last, n.
 /// About 150 indices for large n, whatever N.
@@ -753,9 +777,18 @@ impl<'a> WholeStretch<'a> {
 /// [`BLOCK_TERMS`]·m terms).
 const WHOLE_UP_TO: usize = 400;
 
+/// The ThêoBR ratio from the subset of pairs [`theobr_nodes`] with
+/// Theo1 exact at the density `density` ([`theobr_ratio_sampled_beside`]
+/// alone; the tests' handle).
+#[cfg(test)]
+fn theobr_ratio_sampled_with(p: &Prepared, density: usize) -> Option<f64> {
+    theobr_ratio_sampled_beside(p, density, || ()).0
+}
+
 /// The ThêoBR ratio from the subset of pairs [`theobr_nodes`] (the
-/// density of [`THEO1_DENSITY`]; see [`theobr_ratio_sampled_with`]).
-pub(crate) fn theobr_ratio_sampled(p: &Prepared) -> Option<f64> {
+/// density of [`THEO1_DENSITY`]; see [`theobr_ratio_sampled_beside`]).
+#[cfg(test)]
+fn theobr_ratio_sampled(p: &Prepared) -> Option<f64> {
     theobr_ratio_sampled_with(p, THEO1_DENSITY)
 }
 
@@ -808,9 +841,22 @@ fn interpolate_theo1((ma, ta): (usize, f64), (mb, tb): (usize, f64), m: usize) -
 /// fluctuates more; and Theo1 costs O(m·log²m) a node (its triangle sums
 /// and head and tail autocorrelations), AVAR O(N). The difference from the
 /// mean of all pairs is measured in the tests (seeded Monte Carlo, see
-/// [`theobr_ratio`]).
-pub(crate) fn theobr_ratio_sampled_with(p: &Prepared, density: usize) -> Option<f64> {
-    let nb = theobr_top(p.x.len())?;
+/// [`theobr_ratio_beside`]).
+///
+/// `beside` runs beside the sums ([`rayon::join`]) once the one large
+/// transform (the autocorrelation of each stretch, [`WholeStretch::new`],
+/// counted in [`BlockMemory`]) is done: the two share the threads, so that
+/// work of `beside` that runs on one thread (the triangle sums of a large
+/// Theo1 block) leaves the others to the ratio's many small sums. The
+/// ratio's value does not depend on `beside`.
+fn theobr_ratio_sampled_beside<T: Send>(
+    p: &Prepared,
+    density: usize,
+    beside: impl FnOnce() -> T + Send,
+) -> (Option<f64>, T) {
+    let Some(nb) = theobr_top(p.x.len()) else {
+        return (None, beside());
+    };
     let nodes = theobr_nodes(nb);
     let exact = theo1_nodes(&nodes, nb, density);
     let factors: Vec<usize> = exact.iter().map(|&i| 12 + 4 * i).collect();
@@ -828,9 +874,27 @@ pub(crate) fn theobr_ratio_sampled_with(p: &Prepared, density: usize) -> Option<
                 .copied()
                 .filter(|&m| m < len && len <= WHOLE_UP_TO * m)
                 .max()?;
+            let _share = BlockMemory::take(len, top, p.x.len());
             Some(WholeStretch::new(&p.x[a..b], top))
         })
         .collect();
+    let ((theo, avar), other) =
+        rayon::join(|| node_sums(p, &stretches, whole, &factors, &nodes), beside);
+    (
+        ratio_from_nodes(&nodes, &exact, &factors, &theo, &avar),
+        other,
+    )
+}
+
+/// The Theo1 variance at each exact node factor (`factors`) and AVAR at
+/// each node i (factor 9 + 3i) of [`theobr_ratio_sampled_beside`].
+fn node_sums(
+    p: &Prepared,
+    stretches: &[(usize, usize)],
+    whole: Vec<Option<WholeStretch>>,
+    factors: &[usize],
+    nodes: &[usize],
+) -> (Vec<Option<f64>>, Vec<Option<f64>>) {
     // Theo1 variance at each exact node, then AVAR at every node.
     let theo: Vec<Option<f64>> = factors
         .par_iter()
@@ -844,7 +908,7 @@ pub(crate) fn theobr_ratio_sampled_with(p: &Prepared, density: usize) -> Option<
                 used += len - m;
                 s += match w {
                     Some(w) if len <= WHOLE_UP_TO * m => w.sum(m),
-                    _ => theo1_sum(&Prepared::new(&p.x[lo..hi], p.tau0), m).0,
+                    _ => ratio_stretch_sum(&p.x[lo..hi], m, p.x.len()),
                 };
             }
             if used == 0 {
@@ -860,13 +924,77 @@ pub(crate) fn theobr_ratio_sampled_with(p: &Prepared, density: usize) -> Option<
         .par_iter()
         .map(|&i| oadev(p, 9 + 3 * i).map(|e| e.value * e.value))
         .collect();
+    (theo, avar)
+}
+
+/// The Theo1 double sum at factor m over a gap-free stretch `seg` longer
+/// than [`WHOLE_UP_TO`]·m, for the ThêoBR ratio's exact nodes (`n` the
+/// record's length): below [`BLOCK_FORM_FROM`] the direct sum of
+/// [`theo1_sum`]; from there on the correlation form of [`theo1_block`] on
+/// blocks of at most [`RATIO_BLOCK`] samples (at least [`BLOCK_TERMS`]·m
+/// terms), whatever the record. Longer blocks than [`theo1_sum`]'s
+/// 13·m share each block's head and tail work (its triangle sums and
+/// head and tail autocorrelations, O(m·log²m)) among more terms: at
+/// m = 5,224 on 10^7 points, 10 blocks instead of 160. The rounding is
+/// that of the single-block form at up to [`RATIO_BLOCK`]/m samples a
+/// factor, below [`WHOLE_UP_TO`]·m here (a block holds fewer than
+/// 2^20 samples, or 13·m when 13·m is more; m < len/[`WHOLE_UP_TO`]),
+/// the bound [`WholeStretch`] already serves the ratio with (tested to
+/// 1e-6 relative up to [`WHOLE_UP_TO`]·m; the ratio itself is an
+/// approximation within 0.5 %). Not used for a Theo1 point of the grid,
+/// which keeps the 1e-10 blocks of [`theo1_sum`].
+fn ratio_stretch_sum(seg: &[f64], m: usize, n: usize) -> f64 {
+    if m < BLOCK_FORM_FROM {
+        return theo1_sum(&Prepared::new(seg, 1.0), m).0;
+    }
+    let terms = seg.len() - m;
+    let per_block = RATIO_BLOCK
+        .saturating_sub(2 * m)
+        .max(BLOCK_TERMS * m)
+        .min((WHOLE_UP_TO - 1) * m);
+    let blocks: Vec<(usize, usize)> = (0..terms)
+        .step_by(per_block)
+        .map(|s| (s, per_block.min(terms - s)))
+        .collect();
+    let sums: Vec<f64> = blocks
+        .par_iter()
+        .map(|&(start, count)| {
+            let sub = &seg[start..start + count + m];
+            if count <= DIRECT_TERMS {
+                (1..=m / 2)
+                    .map(|k| sum_sq_4(sub, [0, k, m - k, m], count) / k as f64)
+                    .sum()
+            } else {
+                let _share = BlockMemory::take(sub.len(), m, n);
+                theo1_block(sub, m)
+            }
+        })
+        .collect();
+    sums.iter().sum()
+}
+
+/// A block of [`ratio_stretch_sum`] of len samples has len + m at most
+/// this (below the 2^20 from which [`BlockMemory`] counts a block), unless
+/// [`BLOCK_TERMS`]·m terms need more.
+const RATIO_BLOCK: usize = (1 << 20) - 1;
+
+/// The ratio of [`theobr_ratio_sampled_beside`] from its node values: Theo1
+/// `theo` at the exact nodes `exact` (factors `factors`), AVAR `avar` at
+/// every node of `nodes`.
+fn ratio_from_nodes(
+    nodes: &[usize],
+    exact: &[usize],
+    factors: &[usize],
+    theo: &[Option<f64>],
+    avar: &[Option<f64>],
+) -> Option<f64> {
     // Theo1 at each node: exact where computed, else interpolated between
     // the exact nodes on either side (`exact` is a subset of `nodes`, with
     // the first and the last).
     let mut next = 0usize;
     let ratios: Vec<Option<f64>> = nodes
         .iter()
-        .zip(&avar)
+        .zip(avar)
         .map(|(&i, a)| {
             while exact[next] < i {
                 next += 1;
@@ -996,20 +1124,49 @@ pub(crate) fn theoh_switch(n_phase: usize, tau0: f64) -> f64 {
     0.1 * n_phase.saturating_sub(1) as f64 * tau0
 }
 
-/// TheoH at the grid factor m, given the record's ThêoBR ratio:
-/// the overlapping ADEV at τ = m·τ0 when τ is below [`theoh_switch`], else
-/// ThêoBR = sqrt(R·Theo1) at the nearest Theo1 factor.
-pub(crate) fn theoh(p: &Prepared, m: usize, ratio: Option<f64>) -> Option<Estimate> {
+/// TheoH at each grid factor of `ms` (None where there is no estimate, or
+/// where `in_range` refuses the factor): the overlapping ADEV at τ = m·τ0
+/// when τ is below [`theoh_switch`], else ThêoBR = sqrt(R·Theo1) at the
+/// nearest Theo1 factor, R the record's ThêoBR ratio ([`theobr_ratio_beside`]).
+///
+/// The ThêoBR part's Theo1 values do not depend on R, so they are computed
+/// beside it ([`theobr_ratio_beside`]), one after the other, largest first:
+/// their blocks are the largest transforms of the run and take most of the
+/// memory allowed to blocks in flight ([`BlockMemory`]), and their triangle
+/// sums run on one thread, while R's many small sums keep the other
+/// threads busy. Each value is the one [`theo1`] gives alone: no τ depends
+/// on which others were asked for.
+pub(crate) fn theoh_many(
+    p: &Prepared,
+    ms: &[usize],
+    in_range: impl Fn(usize) -> bool + Sync,
+) -> Vec<Option<Estimate>> {
     let split = theoh_switch(p.x.len(), p.tau0);
-    if (m as f64) * p.tau0 < split {
-        return oadev(p, m);
-    }
-    let r = ratio?;
-    let e = theo1(p, m)?;
-    Some(Estimate {
-        value: e.value * r.sqrt(),
-        ..e
-    })
+    let long = |m: usize| in_range(m) && (m as f64) * p.tau0 >= split;
+    let mut long_ms: Vec<usize> = ms.iter().copied().filter(|&m| long(m)).collect();
+    long_ms.sort_unstable_by(|a, b| b.cmp(a));
+    long_ms.dedup();
+    let (ratio, theo): (Option<f64>, Vec<(usize, Option<Estimate>)>) = if long_ms.is_empty() {
+        (None, Vec::new())
+    } else {
+        theobr_ratio_beside(p, || long_ms.iter().map(|&m| (m, theo1(p, m))).collect())
+    };
+    ms.par_iter()
+        .map(|&m| {
+            if !in_range(m) {
+                return None;
+            }
+            if !long(m) {
+                return oadev(p, m);
+            }
+            let r = ratio?;
+            let e = theo.iter().find(|(k, _)| *k == m)?.1?;
+            Some(Estimate {
+                value: e.value * r.sqrt(),
+                ..e
+            })
+        })
+        .collect()
 }
 
 #[cfg(test)]
@@ -1017,11 +1174,6 @@ mod tests {
     use super::*;
     use rand::{Rng, SeedableRng};
     use rand_chacha::ChaCha8Rng;
-
-    /// The largest relative difference between the subset mean of
-    /// [`theobr_ratio_sampled`] and the mean of all pairs that the tests allow
-    /// (seeded records of WPM, FPM, WFM, FFM and RWFM, with and without gaps).
-    const SAMPLED_BOUND: f64 = 0.005;
 
     /// The triangle sums of `two_triangles` (D&C with FFT, two sequences
     /// sharing the recursion) equal their definition summed directly, for
@@ -1172,6 +1324,40 @@ mod tests {
         eprintln!("single-block form, worst relative rounding {worst:e}");
     }
 
+    /// The ThêoBR ratio's long-block Theo1 sums (`ratio_stretch_sum`:
+    /// blocks of up to 399·m samples here, the last with fewer than
+    /// [`DIRECT_TERMS`] terms, and the direct form below
+    /// [`BLOCK_FORM_FROM`]) equal the direct double sum (SP 1065 eq. 31)
+    /// within the single-block form's bound, 1e-6 relative, on seeded WPM,
+    /// WFM and RWFM with an offset and a frequency offset (analytic
+    /// identity; rounding measured and printed).
+    #[test]
+    fn ratio_stretch_sum_equals_the_direct_sum() {
+        let mut worst = 0.0f64;
+        for alpha in [2, 0, -2] {
+            let mut rng = ChaCha8Rng::seed_from_u64(31);
+            let n = 2 * 399 * 200 + 10 + 200;
+            let mut x = crate::simulate::power_law_phase(alpha, 1e-20, 1.0, n, &mut rng);
+            for (i, v) in x.iter_mut().enumerate() {
+                *v += 1e-3 + 1e-9 * i as f64;
+            }
+            for m in [12usize, 200, 256] {
+                let mut want = 0.0;
+                for k in 1..=m / 2 {
+                    want += sum_sq_4(&x, [0, k, m - k, m], n - m) / k as f64;
+                }
+                let got = ratio_stretch_sum(&x, m, n);
+                let rel = (got - want).abs() / want.abs();
+                worst = worst.max(rel);
+                assert!(
+                    rel <= 1e-6,
+                    "alpha={alpha} m={m}: {got} vs {want} ({rel:e})"
+                );
+            }
+        }
+        eprintln!("ratio's long blocks, worst relative rounding {worst:e}");
+    }
+
     /// The nodes start at 0, end at n, step by max(⌈i/64⌉, ⌈n/256⌉) (every
     /// i below 64 when n ≤ 256), and the interpolation weights count every
     /// integer once and sum a linear f exactly (analytic).
@@ -1208,9 +1394,9 @@ mod tests {
     /// (both exact per pair; SP 1065 eq. 32), on seeded records of the five
     /// power-law noises (WPM, FPM, WFM, FFM, RWFM), three seeds each, at
     /// N = 6,000, 24,000 and 72,000 (where the subset serves), without and
-    /// with gaps (isolated samples and a run): within [`SAMPLED_BOUND`]
-    /// relative for the Theo1 density in use, [`THEO1_DENSITY`] (seeded
-    /// Monte Carlo). The worst difference at the Theo1 densities 64 (Theo1
+    /// with gaps (isolated samples and a run): within
+    /// [`SAMPLED_RATIO_BOUND`] relative for the Theo1 density in use,
+    /// [`THEO1_DENSITY`] (seeded Monte Carlo). The worst difference at the Theo1 densities 64 (Theo1
     /// exact at every node, as before session 10), 32 and the one in use is
     /// printed (`--nocapture`): 0.19 %, 0.19 % and 0.30 % when measured
     /// (density 8: 0.50 %, not taken).
@@ -1239,7 +1425,7 @@ mod tests {
                             *w = w.max(rel);
                             if *d == THEO1_DENSITY {
                                 assert!(
-                                    rel <= SAMPLED_BOUND,
+                                    rel <= SAMPLED_RATIO_BOUND,
                                     "n={n} alpha={alpha} seed={seed}: {sub} vs {all} ({rel:e})"
                                 );
                             }
@@ -1307,9 +1493,14 @@ mod tests {
         let mut rng = ChaCha8Rng::seed_from_u64(4);
         let x = crate::simulate::power_law_phase(0, 1e-20, 1.0, 3000, &mut rng);
         let p = Prepared::new(&x, 1.0);
-        assert_eq!(theobr_ratio(&p), theobr_ratio_all(&p));
+        let (r, beside) = theobr_ratio_beside(&p, || 7);
+        assert_eq!((r, beside), (theobr_ratio_all(&p), 7));
         let n = 30 * (SAMPLED_FROM + 3) + 3;
         assert_eq!(theobr_top(n), Some(SAMPLED_FROM));
         assert_eq!(theobr_top(n - 30), Some(SAMPLED_FROM - 1));
+        // The subset serves from N = 30·(SAMPLED_FROM + 3) = 61,530 on.
+        assert!(theobr_ratio_is_sampled(61_530));
+        assert!(!theobr_ratio_is_sampled(61_529));
+        assert!(!theobr_ratio_is_sampled(89));
     }
 }

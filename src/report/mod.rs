@@ -134,6 +134,9 @@ pub struct StabilityRow {
     pub noise: Option<String>,
     /// Terms used.
     pub terms: usize,
+    /// The approximation the value carries ([`crate::deviation::Point::approximation`]):
+    /// the table marks it and says what it is under the table.
+    pub approximation: Option<crate::deviation::Approximation>,
 }
 
 /// What a record looks like before analysis: the figures `tauwise

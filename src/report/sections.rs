@@ -239,7 +239,14 @@ fn stability(h: &mut Html, p: &Part<Vec<StabilitySection>>, pre: &str) -> Result
                             t(r.estimator.name()),
                             n(tau(r.tau)),
                             n(r.m.to_string()),
-                            n(f(r.dev)),
+                            n(match r.approximation {
+                                Some(_) => format!(
+                                    "{} {}",
+                                    f(r.dev),
+                                    crate::deviation::Approximation::MARK
+                                ),
+                                None => f(r.dev),
+                            }),
                             n(match (r.lo, r.hi) {
                                 (Some(lo), Some(hi)) => format!("{} … {}", f(lo), f(hi)),
                                 _ => "—".into(),
@@ -274,6 +281,14 @@ fn stability(h: &mut Html, p: &Part<Vec<StabilitySection>>, pre: &str) -> Result
                 };
                 h.el("h4", "", "Values");
                 h.table("stability", &head, &rows);
+                // One note per approximation the table marks.
+                let mut marked: Vec<crate::deviation::Approximation> = Vec::new();
+                for a in s.rows.iter().filter_map(|r| r.approximation) {
+                    if !marked.contains(&a) {
+                        marked.push(a);
+                        h.p_class("note", &a.note());
+                    }
+                }
                 limit_checks(h, &s.limit_checks);
                 notes(h, &s.notes);
             }

@@ -3,7 +3,7 @@
 
 use super::table::{Cell, Column, Table, Text, Unit};
 use super::{csv_text, Result};
-use crate::deviation::{Curve, Estimator, Origin, Point};
+use crate::deviation::{Approximation, Curve, Estimator, Origin, Point};
 use crate::error::Error;
 use crate::model::PowerLaw;
 use crate::stability::{BestPoint, Comparison};
@@ -205,7 +205,8 @@ fn corrected(est: Estimator, p: &Point, n: usize, tau0: f64) -> bool {
 impl StabilityBody {
     /// The table for reading: one block per curve (τ with SI prefix, the
     /// value to 4 significant digits and its interval; bias-corrected
-    /// values marked `*` with a footnote), the `best` block, and the
+    /// values marked `*` with a footnote; values carrying an approximation
+    /// marked `≈` after the row, with a footnote), the `best` block, and the
     /// comparison with the phase-noise table. `input` is the record the
     /// curves were computed on.
     pub fn table(&self, input: &super::RecordInput) -> Text {
@@ -250,23 +251,28 @@ impl StabilityBody {
         .heading("")
         .heading(format!("{} — {title}", c.name()));
         let mut any = false;
+        let mut approximated = Vec::new();
         for p in &c.points {
             let marked = est.is_some_and(|e| corrected(e, p, input.points, input.tau0));
             any |= marked;
             let dev = Cell::num(p.estimate.value);
-            t.row(vec![
-                Cell::num(p.estimate.tau),
-                Cell::int(p.estimate.m),
-                if marked { dev.mark('*') } else { dev },
-                Cell::range(p.lo, p.hi),
-                Cell::opt(p.edf),
-                Cell::int(p.estimate.terms),
-                p.noise().map_or_else(Cell::none, Cell::text),
-            ]);
+            t.row_with(
+                vec![
+                    Cell::num(p.estimate.tau),
+                    Cell::int(p.estimate.m),
+                    if marked { dev.mark('*') } else { dev },
+                    Cell::range(p.lo, p.hi),
+                    Cell::opt(p.edf),
+                    Cell::int(p.estimate.terms),
+                    p.noise().map_or_else(Cell::none, Cell::text),
+                ],
+                approximation_tail(p, &mut approximated),
+            );
         }
         if any {
             t.note(CORRECTED_NOTE);
         }
+        approximation_notes(&mut t, &approximated);
         t
     }
 }
@@ -294,25 +300,52 @@ fn best_table(b: &BestCurve, input: &super::RecordInput) -> Table {
         crate::stability::BEST_CURVE
     ));
     let mut any = false;
+    let mut approximated = Vec::new();
     for r in &b.points {
         let p = &r.point;
         let marked = from(r).is_some_and(|e| corrected(e, p, input.points, input.tau0));
         any |= marked;
         let dev = Cell::num(p.estimate.value);
-        t.row(vec![
-            Cell::num(p.estimate.tau),
-            if marked { dev.mark('*') } else { dev },
-            Cell::range(p.lo, p.hi),
-            Cell::opt(p.edf),
-            p.noise().map_or_else(Cell::none, Cell::text),
-            Cell::text(r.from),
-        ]);
+        t.row_with(
+            vec![
+                Cell::num(p.estimate.tau),
+                if marked { dev.mark('*') } else { dev },
+                Cell::range(p.lo, p.hi),
+                Cell::opt(p.edf),
+                p.noise().map_or_else(Cell::none, Cell::text),
+                Cell::text(r.from),
+            ],
+            approximation_tail(p, &mut approximated),
+        );
     }
     if any {
         t.note(CORRECTED_NOTE);
     }
+    approximation_notes(&mut t, &approximated);
     t.note(crate::DECISION_CAUTION);
     t
+}
+
+/// What follows a row of a σ(τ) table: `  ≈` ([`Approximation::MARK`])
+/// for a point whose value carries an approximation ([`Point::approximation`],
+/// added to `seen` for the notes), else nothing.
+fn approximation_tail(p: &Point, seen: &mut Vec<Approximation>) -> String {
+    match p.approximation {
+        Some(a) => {
+            if !seen.contains(&a) {
+                seen.push(a);
+            }
+            format!("  {}", Approximation::MARK)
+        }
+        None => String::new(),
+    }
+}
+
+/// One note per approximation shown in a table ([`Approximation::note`]).
+fn approximation_notes(t: &mut Table, seen: &[Approximation]) {
+    for a in seen {
+        t.note(a.note());
+    }
 }
 
 /// One comparison of a measured curve with the phase-noise table.

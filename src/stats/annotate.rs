@@ -298,7 +298,10 @@ pub fn annotate_with(
                 None => ids.at(m_id),
             };
             let Some(id) = id else {
-                return Ok(Point::bare(*e));
+                return Ok(Point {
+                    approximation: est.approximation(n, e.m),
+                    ..Point::bare(*e)
+                });
             };
             let drift = id.is_drift();
             let nu = point_edf(est, n, x.tau0, e, &id);
@@ -341,6 +344,7 @@ pub fn annotate_with(
                 bias,
                 drift,
                 interval_method,
+                approximation: est.approximation(n, e.m),
             })
         })
         .collect()

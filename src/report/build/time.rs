@@ -271,6 +271,7 @@ pub(super) fn stability(
                     edf: p.edf,
                     noise: p.noise().map(str::to_string),
                     terms: p.estimate.terms,
+                    approximation: p.approximation,
                 })
             })
             .collect();
