@@ -335,22 +335,9 @@ pub(crate) fn frequency_form_on_phase(r: &[f64], len: usize) -> Vec<f64> {
 /// Below this m the O(m)-per-subsequence form is as fast and simpler.
 const FAST_FROM_M: usize = 8;
 
-/// Runs up to this many samples always keep their stored prefix arrays
-/// (five values a sample, 10 MB a thread); see [`big_run_len`].
+/// Runs longer than this many samples are summed one at a time across the
+/// τ computed in parallel ([`BIG_RUN`]).
 const BIG_RUN_LEN: usize = 1 << 18;
-
-/// Runs longer than this many samples (of a sequence of `n`) are summed
-/// the long way, one at a time across the τ computed in parallel
-/// ([`BIG_RUN`]): the larger of [`BIG_RUN_LEN`] and n/(8·threads). The
-/// stored arrays of the other runs then take at most 40 bytes a sample of
-/// a run on each thread, 5n bytes in all once n/(8·threads) is the larger
-/// — 0.625× the record's own 8n (issue 18 allows 2.5×) — while the long
-/// way's sliding sums and cursors cost about 1.8× the CPU time a sample
-/// (10^7 points, m = 65536: 1.30 against 0.72 s CPU). Which way a run
-/// takes does not change its value beyond rounding (tested both ways).
-fn big_run_len(n: usize) -> usize {
-    BIG_RUN_LEN.max(n / (8 * rayon::current_num_threads().max(1)))
-}
 
 /// Held while a run longer than [`BIG_RUN_LEN`] is summed, so that two
 /// long-τ sums never hold record-sized arrays at once ([`lock_big_run`]).
@@ -625,7 +612,7 @@ impl Plan {
 }
 
 /// Scratch for one run of consecutive subsequences: the local V (one value
-/// a sample of the run). Runs up to [`big_run_len`] samples also keep the
+/// a sample of the run). Runs up to [`BIG_RUN_LEN`] samples also keep the
 /// prefix sums of V over the samples of one parity (`par`) and the
 /// prefix moments P_p(t) = Σ_{s<t} s^p·V_s, p = 0, 1, 2 (`mom`): 5 values
 /// a sample. Longer runs take the parity sums from sliding compensated
@@ -961,7 +948,7 @@ fn centred([d0, d1, d2]: [f64; 3], u: f64) -> [f64; 3] {
 
 /// G(m) by the exact O(N)-per-τ form: (Σ of mean squares, subsequences used).
 fn reflected_mean_square_fast(v: Seq, gaps: &Gaps, m: usize) -> (f64, usize) {
-    fast_form(v, gaps, m, big_run_len(v.len()))
+    fast_form(v, gaps, m, BIG_RUN_LEN)
 }
 
 /// [`reflected_mean_square_fast`] with runs longer than `big_run` samples
