@@ -2,7 +2,7 @@
 //! contract (docs/design.md §5), and its errors.
 
 mod common;
-use common::{tauwise, write};
+use common::{stdout_of, tauwise, write};
 
 /// NIST SP 1065 nine-point set (docs/checks.md §A): fractional-frequency data.
 const NINE: [f64; 9] = [892., 809., 823., 798., 671., 644., 883., 903., 677.];
@@ -199,19 +199,14 @@ fn best_curve_takes_one_estimator_per_tau() {
         String::from_utf8_lossy(&sim.stderr)
     );
     let run = |fmt: &str| {
-        let out = tauwise()
-            .arg("stability")
-            .arg(&rec)
-            .args(["--tau0", "1s", "--dev", "oadev,totdev,tdev,theoh", "--best"])
-            .args(["--format", fmt])
-            .output()
-            .unwrap();
-        assert!(
-            out.status.success(),
-            "{}",
-            String::from_utf8_lossy(&out.stderr)
-        );
-        String::from_utf8(out.stdout).unwrap()
+        String::from_utf8(stdout_of(
+            tauwise()
+                .arg("stability")
+                .arg(&rec)
+                .args(["--tau0", "1s", "--dev", "oadev,totdev,tdev,theoh", "--best"])
+                .args(["--format", fmt]),
+        ))
+        .unwrap()
     };
     let doc: serde_json::Value = serde_json::from_str(&run("json")).unwrap();
     let curves = doc["curves"].as_array().unwrap();
@@ -431,19 +426,13 @@ fn theoh_marks_its_approximated_points() {
             .collect();
         let f = write(dir.path(), &format!("x{n}.txt"), &text);
         let run = |format: &str| {
-            let out = tauwise()
-                .arg("stability")
-                .arg(&f)
-                .args(["--tau0", "1s", "--dev", "oadev,theoh", "--best"])
-                .args(["--format", format])
-                .output()
-                .unwrap();
-            assert!(
-                out.status.success(),
-                "{}",
-                String::from_utf8_lossy(&out.stderr)
-            );
-            out.stdout
+            stdout_of(
+                tauwise()
+                    .arg("stability")
+                    .arg(&f)
+                    .args(["--tau0", "1s", "--dev", "oadev,theoh", "--best"])
+                    .args(["--format", format]),
+            )
         };
         let doc: serde_json::Value = serde_json::from_slice(&run("json")).unwrap();
         let split = 0.1 * (n - 1) as f64;

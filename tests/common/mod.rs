@@ -23,6 +23,14 @@ pub fn stderr(o: &Output) -> String {
     String::from_utf8_lossy(&o.stderr).into_owned()
 }
 
+/// Run `cmd`, assert that it succeeded (showing its standard error when it
+/// did not), and return its standard output.
+pub fn stdout_of(cmd: &mut Command) -> Vec<u8> {
+    let out = cmd.output().unwrap();
+    assert!(out.status.success(), "{}", stderr(&out));
+    out.stdout
+}
+
 /// Relative difference |a − b| / max(|a|, |b|), 0 when a = b (symmetric).
 pub fn rel(a: f64, b: f64) -> f64 {
     if a == b {
