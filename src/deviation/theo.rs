@@ -172,8 +172,12 @@ const DIRECT_TERMS: usize = 32;
 const BLOCK_TERMS: usize = 12;
 
 /// Theo1 factors from this one on use the correlation form
-/// ([`theo1_block`]); below it the direct sum is as fast.
-pub(crate) const BLOCK_FORM_FROM: usize = 192;
+/// ([`theo1_block`]); below it the direct sum is as fast. Measured quietly
+/// at 10^7 points (per τ, `TAUWISE_BENCH_PER_TAU=1`): at m = 86 the direct
+/// sum took 0.31 s and the correlation form 0.14 s, at m = 170 0.59 s
+/// against 0.15 s (the switch was at 192 until session 11); at m = 42 the
+/// direct sum takes 0.20 s.
+pub(crate) const BLOCK_FORM_FROM: usize = 64;
 
 /// The Theo1 double sum over the n = seg.len() − m terms i = 0 … n−1 of a
 /// gap-free segment (m even), exactly, in O((n + m)·log(n + m) + m·log²m).
@@ -1240,6 +1244,8 @@ mod tests {
                 (300, 900),
                 (1000, 399),
                 (100, 100 * BLOCK_TERMS),
+                (BLOCK_FORM_FROM, BLOCK_FORM_FROM * BLOCK_TERMS),
+                (86, 500),
             ] {
                 let seg = &x[..n + m];
                 let p = Prepared::new(seg, 1.0);
