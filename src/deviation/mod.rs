@@ -498,6 +498,18 @@ impl Approximation {
     /// The short mark of an approximated value in text and HTML tables.
     pub const MARK: char = '≈';
 
+    /// The approximations among `items`, each once, in the order first
+    /// seen: the notes under a table that marks them ([`Approximation::note`]).
+    pub fn distinct(items: impl IntoIterator<Item = Option<Approximation>>) -> Vec<Approximation> {
+        let mut out: Vec<Approximation> = Vec::new();
+        for a in items.into_iter().flatten() {
+            if !out.contains(&a) {
+                out.push(a);
+            }
+        }
+        out
+    }
+
     /// One line saying what the mark means, under a table that shows it.
     pub fn note(self) -> String {
         match self {

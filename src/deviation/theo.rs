@@ -80,17 +80,7 @@ pub(crate) fn theo1_sum(p: &Prepared, m: usize) -> (f64, usize) {
             .collect();
         let sums: Vec<f64> = blocks
             .par_iter()
-            .map(|&(start, count)| {
-                let seg = &x[start..start + count + m];
-                if count <= DIRECT_TERMS {
-                    (1..=m / 2)
-                        .map(|k| sum_sq_4(seg, [0, k, m - k, m], count) / k as f64)
-                        .sum()
-                } else {
-                    let _share = BlockMemory::take(seg.len(), m, n);
-                    theo1_block(seg, m)
-                }
-            })
+            .map(|&(start, count)| block_sum(&x[start..start + count + m], m, n))
             .collect();
         return (sums.iter().sum(), used);
     }
@@ -105,6 +95,23 @@ pub(crate) fn theo1_sum(p: &Prepared, m: usize) -> (f64, usize) {
         })
         .collect();
     (per_k.iter().sum(), used)
+}
+
+/// The Theo1 double sum at factor m over the seg.len() − m terms of one
+/// gap-free block (of a record of `n` samples): summed directly when it
+/// has at most [`DIRECT_TERMS`] terms, else by the correlation form of
+/// [`theo1_block`] once [`BlockMemory`] has room for it. The blocks of
+/// [`theo1_sum`] and of the ratio's [`ratio_stretch_sum`].
+fn block_sum(seg: &[f64], m: usize, n: usize) -> f64 {
+    let count = seg.len() - m;
+    if count <= DIRECT_TERMS {
+        (1..=m / 2)
+            .map(|k| sum_sq_4(seg, [0, k, m - k, m], count) / k as f64)
+            .sum()
+    } else {
+        let _share = BlockMemory::take(seg.len(), m, n);
+        theo1_block(seg, m)
+    }
 }
 
 /// The memory of the Theo1 blocks in flight: a block of len samples at
@@ -962,17 +969,7 @@ fn ratio_stretch_sum(seg: &[f64], m: usize, n: usize) -> f64 {
         .collect();
     let sums: Vec<f64> = blocks
         .par_iter()
-        .map(|&(start, count)| {
-            let sub = &seg[start..start + count + m];
-            if count <= DIRECT_TERMS {
-                (1..=m / 2)
-                    .map(|k| sum_sq_4(sub, [0, k, m - k, m], count) / k as f64)
-                    .sum()
-            } else {
-                let _share = BlockMemory::take(sub.len(), m, n);
-                theo1_block(sub, m)
-            }
-        })
+        .map(|&(start, count)| block_sum(&seg[start..start + count + m], m, n))
         .collect();
     sums.iter().sum()
 }

@@ -282,12 +282,9 @@ fn stability(h: &mut Html, p: &Part<Vec<StabilitySection>>, pre: &str) -> Result
                 h.el("h4", "", "Values");
                 h.table("stability", &head, &rows);
                 // One note per approximation the table marks.
-                let mut marked: Vec<crate::deviation::Approximation> = Vec::new();
-                for a in s.rows.iter().filter_map(|r| r.approximation) {
-                    if !marked.contains(&a) {
-                        marked.push(a);
-                        h.p_class("note", &a.note());
-                    }
+                let marked = s.rows.iter().map(|r| r.approximation);
+                for a in crate::deviation::Approximation::distinct(marked) {
+                    h.p_class("note", &a.note());
                 }
                 limit_checks(h, &s.limit_checks);
                 notes(h, &s.notes);

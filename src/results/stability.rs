@@ -251,7 +251,6 @@ impl StabilityBody {
         .heading("")
         .heading(format!("{} — {title}", c.name()));
         let mut any = false;
-        let mut approximated = Vec::new();
         for p in &c.points {
             let marked = est.is_some_and(|e| corrected(e, p, input.points, input.tau0));
             any |= marked;
@@ -266,13 +265,13 @@ impl StabilityBody {
                     Cell::int(p.estimate.terms),
                     p.noise().map_or_else(Cell::none, Cell::text),
                 ],
-                approximation_tail(p, &mut approximated),
+                approximation_tail(p),
             );
         }
         if any {
             t.note(CORRECTED_NOTE);
         }
-        approximation_notes(&mut t, &approximated);
+        approximation_notes(&mut t, c.points.iter());
         t
     }
 }
@@ -300,7 +299,6 @@ fn best_table(b: &BestCurve, input: &super::RecordInput) -> Table {
         crate::stability::BEST_CURVE
     ));
     let mut any = false;
-    let mut approximated = Vec::new();
     for r in &b.points {
         let p = &r.point;
         let marked = from(r).is_some_and(|e| corrected(e, p, input.points, input.tau0));
@@ -315,35 +313,31 @@ fn best_table(b: &BestCurve, input: &super::RecordInput) -> Table {
                 p.noise().map_or_else(Cell::none, Cell::text),
                 Cell::text(r.from),
             ],
-            approximation_tail(p, &mut approximated),
+            approximation_tail(p),
         );
     }
     if any {
         t.note(CORRECTED_NOTE);
     }
-    approximation_notes(&mut t, &approximated);
+    approximation_notes(&mut t, b.points.iter().map(|r| &r.point));
     t.note(crate::DECISION_CAUTION);
     t
 }
 
 /// What follows a row of a σ(τ) table: `  ≈` ([`Approximation::MARK`])
-/// for a point whose value carries an approximation ([`Point::approximation`],
-/// added to `seen` for the notes), else nothing.
-fn approximation_tail(p: &Point, seen: &mut Vec<Approximation>) -> String {
+/// for a point whose value carries an approximation
+/// ([`Point::approximation`]), else nothing.
+fn approximation_tail(p: &Point) -> String {
     match p.approximation {
-        Some(a) => {
-            if !seen.contains(&a) {
-                seen.push(a);
-            }
-            format!("  {}", Approximation::MARK)
-        }
+        Some(_) => format!("  {}", Approximation::MARK),
         None => String::new(),
     }
 }
 
-/// One note per approximation shown in a table ([`Approximation::note`]).
-fn approximation_notes(t: &mut Table, seen: &[Approximation]) {
-    for a in seen {
+/// One note per approximation among the table's `points`
+/// ([`Approximation::distinct`], [`Approximation::note`]).
+fn approximation_notes<'a>(t: &mut Table, points: impl Iterator<Item = &'a Point>) {
+    for a in Approximation::distinct(points.map(|p| p.approximation)) {
         t.note(a.note());
     }
 }
