@@ -429,9 +429,23 @@ pub fn compute(est: Estimator, x: &PhaseRecord, ms: &[usize]) -> Vec<Estimate> {
             .flatten()
             .collect()
     } else {
-        ms.par_iter()
-            .filter_map(|&m| estimate_at(est, &p, m))
-            .collect()
+        // Largest factor first, one task a τ: the costliest τ (the long
+        // ones of Theo1 and the total deviations) start at once and the
+        // short ones fill the other threads around them, instead of the
+        // longest being picked up last and run alone. Each value is
+        // computed alone, whatever the order.
+        let mut order: Vec<usize> = (0..ms.len()).collect();
+        order.sort_by_key(|&i| std::cmp::Reverse(ms[i]));
+        let got: Vec<Option<Estimate>> = order
+            .par_iter()
+            .with_max_len(1)
+            .map(|&i| estimate_at(est, &p, ms[i]))
+            .collect();
+        let mut placed: Vec<Option<Estimate>> = vec![None; ms.len()];
+        for (&i, e) in order.iter().zip(got) {
+            placed[i] = e;
+        }
+        placed.into_iter().flatten().collect()
     };
     if est.uses_theo_lattice() {
         let mut seen = std::collections::HashSet::new();
