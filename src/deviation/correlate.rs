@@ -231,55 +231,6 @@ pub(crate) fn visit_autocorrelations(
     }
 }
 
-/// Σ_{s<top} h(s)·(a ∗ b)(s), the linear convolution
-/// (a ∗ b)(s) = Σ_{u+w=s} a_u·b_w of a_u = `a(u)`, u < la, and b_w = `b(w)`,
-/// w < lb, weighted by h(s) = `h(s)` (top ≤ la + lb − 1), summed in order of
-/// s. The sequences are read where they are written into the transform's
-/// buffer (no copies); the convolution is never stored apart from it.
-/// Working memory: below [`IN_PLACE_FROM`] the real FFT's (about 24 bytes a
-/// point of S = smooth(la + lb − 1)), from there on 16 bytes a point of
-/// M ≥ la + lb − 1 ([`weighted_convolution_in_place`]).
-pub(crate) fn weighted_convolution_sum(
-    a: impl Fn(usize) -> f64,
-    la: usize,
-    b: impl Fn(usize) -> f64,
-    lb: usize,
-    top: usize,
-    h: impl Fn(usize) -> f64,
-) -> f64 {
-    if la == 0 || lb == 0 {
-        return 0.0;
-    }
-    let size = smooth_size(la + lb - 1);
-    if size >= IN_PLACE_FROM {
-        return weighted_convolution_in_place(a, la, b, lb, top, h);
-    }
-    let pair = plans(size, true);
-    let mut buf = vec![0.0f64; size];
-    let mut fa = pair.fwd.make_output_vec();
-    let mut fb = pair.fwd.make_output_vec();
-    for (u, v) in buf[..la].iter_mut().enumerate() {
-        *v = a(u);
-    }
-    forward(&pair, &mut buf, &mut fa);
-    buf.fill(0.0);
-    for (w, v) in buf[..lb].iter_mut().enumerate() {
-        *v = b(w);
-    }
-    forward(&pair, &mut buf, &mut fb);
-    for (x, y) in fa.iter_mut().zip(&fb) {
-        *x *= y;
-    }
-    drop(fb);
-    inverse(&pair, &mut fa, &mut buf);
-    let scale = 1.0 / size as f64;
-    buf[..top.min(size)]
-        .iter()
-        .enumerate()
-        .map(|(s, v)| h(s) * (v * scale))
-        .sum()
-}
-
 /// Σ_{s<top} h(s)·[(a1 ∗ b1)(s) + (a2 ∗ b2)(s)] for the pairs of sequences
 /// (a1, b1) = `p1`, (a2, b2) = `p2` (a of la values, b of lb), where h(s)
 /// is zero for every s ≢ `par` (mod 2) (h(s) is not asked there).
@@ -291,11 +242,11 @@ pub(crate) fn weighted_convolution_sum(
 /// zero: four convolutions of half length, whose products of spectra are
 /// added for both pairs before one inverse transform (8 forward and 1
 /// inverse transforms of about half the size, where the two pairs taken
-/// apart by [`weighted_convolution_sum`] take 4 forward and 2 inverse of
+/// apart, each transformed whole, take 4 forward and 2 inverse of
 /// the full size). Working memory about 40 bytes a point of the half size.
 /// From S = smooth(la + lb − 1) ≥ [`IN_PLACE_FROM`] on, each pair is
-/// [`weighted_convolution_in_place`] (16 bytes a point of S, one pair at a
-/// time).
+/// [`parity_convolution_in_place`] (two complex buffers of the half size,
+/// about 16 bytes a point of S, one pair at a time).
 pub(crate) fn weighted_convolution_pair_sum<A1, B1, A2, B2>(
     p1: (A1, B1),
     p2: (A2, B2),
@@ -314,19 +265,12 @@ where
         return 0.0;
     }
     if smooth_size(la + lb - 1) >= IN_PLACE_FROM {
-        return weighted_convolution_sum(p1.0, la, p1.1, lb, top, &h)
-            + weighted_convolution_sum(p2.0, la, p2.1, lb, top, &h);
+        return parity_convolution_in_place(p1, (la, lb), top, par, &h)
+            + parity_convolution_in_place(p2, (la, lb), top, par, &h);
     }
     let par = par % 2;
-    let (ea, oa, eb, ob) = (la.div_ceil(2), la / 2, lb.div_ceil(2), lb / 2);
-    // Lengths of the two products' factors (A0 ∗ B0, A1 ∗ B1).
-    let (l0, l1) = if par == 1 {
-        ((ea, ob), (oa, eb))
-    } else {
-        ((ea, eb), (if oa > 0 { oa + 1 } else { 0 }, ob))
-    };
-    let conv_len = |(x, y): (usize, usize)| if x > 0 && y > 0 { x + y - 1 } else { 0 };
-    let size = smooth_size(conv_len(l0).max(conv_len(l1)).max(1));
+    let (l0, l1) = parity_factor_lengths((la, lb), par);
+    let size = smooth_size(parity_convolution_len(l0, l1));
     let pair = plans(size, true);
     let mut acc = pair.fwd.make_output_vec();
     let mut bufs = (
@@ -351,6 +295,24 @@ where
         .enumerate()
         .map(|(r, v)| h(2 * r + par) * (v * scale))
         .sum()
+}
+
+/// The lengths of the two products' factors of one pair (a of la values,
+/// b of lb) split in its halves for the lags of parity `par`
+/// ([`for_parity_halves`]): (A0, B0) and (A1, B1).
+fn parity_factor_lengths((la, lb): (usize, usize), par: usize) -> ((usize, usize), (usize, usize)) {
+    let (ea, oa, eb, ob) = (la.div_ceil(2), la / 2, lb.div_ceil(2), lb / 2);
+    if par == 1 {
+        ((ea, ob), (oa, eb))
+    } else {
+        ((ea, eb), (if oa > 0 { oa + 1 } else { 0 }, ob))
+    }
+}
+
+/// The longer of the two products' linear convolutions (at least 1).
+fn parity_convolution_len(l0: (usize, usize), l1: (usize, usize)) -> usize {
+    let conv_len = |(x, y): (usize, usize)| if x > 0 && y > 0 { x + y - 1 } else { 0 };
+    conv_len(l0).max(conv_len(l1)).max(1)
 }
 
 /// Add to `acc` the spectrum products of one pair (a, b) split in its even
@@ -752,51 +714,101 @@ fn autocorrelation_in_place(
     out
 }
 
-/// [`weighted_convolution_sum`] in one buffer of M complex values
-/// (M = 2^a·3^b·5^c ≥ la + lb − 1): z_t = a_t + i·b_t is transformed in
-/// place ([`FourStep`]), each pair Z_k, Z_{M−k} gives
-/// A_k = (Z_k + conj Z_{M−k})/2 and B_k = (Z_k − conj Z_{M−k})/(2i), the
-/// spectra of a and b, and C_k = A_k·B_k (C_{M−k} = conj C_k) is
-/// transformed back; (a ∗ b)(s) is the real part over M, weighted and
-/// summed where it lies. Working memory 16 bytes a point of M.
-fn weighted_convolution_in_place(
-    a: impl Fn(usize) -> f64,
-    la: usize,
-    b: impl Fn(usize) -> f64,
-    lb: usize,
+/// Σ_{s<top, s ≡ π} h(s)·(a ∗ b)(s) for one pair (a, b) = `pair` (a of la
+/// values, b of lb; π = `par`), in place in two buffers of M complex values,
+/// M = 2^a·3^b·5^c at least the halves' convolution length (about
+/// (la + lb)/2).
+///
+/// The halves of [`weighted_convolution_pair_sum`]: (a ∗ b)(2r + π) =
+/// (x0 ∗ y0)(r) + (x1 ∗ y1)(r), with (x0, y0, x1, y1) = (a_e, b_o, a_o, b_e)
+/// for π = 1 and (a_e, b_e, a_o′, b_o) for π = 0 (a_o′ = a_o behind one
+/// zero). X = x0 + i·x1 and Y = y0 + i·y1 are transformed in place
+/// ([`FourStep`]); each pair X_k, X_{M−k} gives the spectra
+/// X0_k = (X_k + conj X_{M−k})/2 and X1_k = (X_k − conj X_{M−k})/(2i) (and
+/// alike for Y), and C_k = X0_k·Y0_k + X1_k·Y1_k (C_{M−k} = conj C_k, the
+/// spectrum of a real sequence) is transformed back: the real part over M
+/// is the sum of the two convolutions at r, weighted and summed where
+/// 2r + π < top. Three transforms of about half the full convolution's
+/// length, where the full one in place takes two of the full length.
+/// Working memory 32 bytes a point of M (about 16 bytes a point of
+/// la + lb).
+fn parity_convolution_in_place<A, B>(
+    (a, b): (A, B),
+    (la, lb): (usize, usize),
     top: usize,
+    par: usize,
     h: impl Fn(usize) -> f64,
-) -> f64 {
-    let size = crate::simulate::fast_len(la + lb - 1);
-    let (_turn, threads) = in_place_turn(2 * size);
+) -> f64
+where
+    A: Fn(usize) -> f64,
+    B: Fn(usize) -> f64,
+{
+    if la == 0 || lb == 0 {
+        return 0.0;
+    }
+    let par = par % 2;
+    let (l0, l1) = parity_factor_lengths((la, lb), par);
+    let size = crate::simulate::fast_len(parity_convolution_len(l0, l1));
+    // Two buffers of M complex values: the memory of one transform of 4M
+    // reals, and its turn.
+    let (_turn, threads) = in_place_turn(4 * size);
     let plan = FourStep::new(size);
-    let mut buf = vec![Complex::new(0.0f64, 0.0); size];
-    for (u, c) in buf[..la].iter_mut().enumerate() {
-        c.re = a(u);
+    let mut x = vec![Complex::new(0.0f64, 0.0); size];
+    let mut y = vec![Complex::new(0.0f64, 0.0); size];
+    if par == 1 {
+        fill_pair(&mut x, (|p| a(2 * p), l0.0), (|p| a(2 * p + 1), l1.0));
+        fill_pair(&mut y, (|q| b(2 * q + 1), l0.1), (|q| b(2 * q), l1.1));
+    } else {
+        let shifted_odd = |p: usize| if p == 0 { 0.0 } else { a(2 * p - 1) };
+        fill_pair(&mut x, (|p| a(2 * p), l0.0), (shifted_odd, l1.0));
+        fill_pair(&mut y, (|q| b(2 * q), l0.1), (|q| b(2 * q + 1), l1.1));
     }
-    for (w, c) in buf[..lb].iter_mut().enumerate() {
-        c.im = b(w);
-    }
-    plan.forward(&mut buf, threads);
-    buf[0] = Complex::new(buf[0].re * buf[0].im, 0.0);
-    for k in 1..=size / 2 {
-        let (ik, jk) = (plan.pos(k), plan.pos(size - k));
-        let (zk, zj) = (buf[ik], buf[jk]);
-        let fa = (zk + zj.conj()) * 0.5;
-        let fb = (zk - zj.conj()) * Complex::new(0.0, -0.5);
-        let c = fa * fb;
-        buf[ik] = c;
+    plan.forward(&mut x, threads);
+    plan.forward(&mut y, threads);
+    let parts = |z: Complex<f64>, zj: Complex<f64>| {
+        (
+            (z + zj.conj()) * 0.5,
+            (z - zj.conj()) * Complex::new(0.0, -0.5),
+        )
+    };
+    for k in 0..=size / 2 {
+        let (ik, jk) = (plan.pos(k), plan.pos((size - k) % size));
+        let (xa, xb) = parts(x[ik], x[jk]);
+        let (ya, yb) = parts(y[ik], y[jk]);
+        let c = xa * ya + xb * yb;
+        x[ik] = c;
         if jk != ik {
-            buf[jk] = c.conj();
+            x[jk] = c.conj();
         }
     }
-    plan.inverse(&mut buf, threads);
+    drop(y);
+    plan.inverse(&mut x, threads);
     let scale = 1.0 / size as f64;
-    buf[..top.min(size)]
+    // s = 2r + π < top.
+    let rn = if top > par {
+        (top - par).div_ceil(2).min(size)
+    } else {
+        0
+    };
+    x[..rn]
         .iter()
         .enumerate()
-        .map(|(s, c)| h(s) * (c.re * scale))
+        .map(|(r, v)| h(2 * r + par) * (v.re * scale))
         .sum()
+}
+
+/// buf[p] = re(p) + i·im(p), each part zero from its length on (the rest
+/// of the buffer is left as it is: zero).
+fn fill_pair(
+    buf: &mut [Complex<f64>],
+    (re, nr): (impl Fn(usize) -> f64, usize),
+    (im, ni): (impl Fn(usize) -> f64, usize),
+) {
+    for (p, c) in buf.iter_mut().enumerate().take(nr.max(ni)) {
+        let r = if p < nr { re(p) } else { 0.0 };
+        let i = if p < ni { im(p) } else { 0.0 };
+        *c = Complex::new(r, i);
+    }
 }
 
 #[cfg(test)]
@@ -837,7 +849,20 @@ mod tests {
             let r = autocorrelation(len, |t| y[t], lags);
             let s = autocorrelation_sum(len, |t| y[t], |t| z[t], lags);
             let hw: Vec<f64> = (0..2 * len - 1).map(|_| rng.gen_range(-1.0..1.0)).collect();
-            let c = weighted_convolution_sum(|t| y[t], len, |t| z[t], len, 2 * len - 1, |s| hw[s]);
+            // All lags: the two parities, the second pair zero.
+            let c: f64 = [0usize, 1]
+                .iter()
+                .map(|&par| {
+                    weighted_convolution_pair_sum(
+                        (|t| y[t], |t| z[t]),
+                        (|_| 0.0, |_| 0.0),
+                        (len, len),
+                        2 * len - 1,
+                        par,
+                        |s| if s % 2 == par { hw[s] } else { 0.0 },
+                    )
+                })
+                .sum();
             for l in 0..=lags {
                 let want: f64 = (0..len - l).map(|t| y[t] * y[t + l]).sum();
                 let want2: f64 = want + (0..len - l).map(|t| z[t] * z[t + l]).sum::<f64>();
@@ -893,10 +918,12 @@ mod tests {
 
     /// The weighted convolution sum equals the sum written out (analytic
     /// identity; 1e-12 of the sum of the absolute terms' scale), unequal
-    /// lengths and partial ranges of s included, in place and by the real
-    /// FFT (the unit tests lower [`IN_PLACE_FROM`] to 2^10); and the sum of
-    /// two pairs with the weights of one parity, from the even and odd
-    /// halves ([`weighted_convolution_pair_sum`]).
+    /// lengths and partial ranges of s included: in place one parity at a
+    /// time ([`parity_convolution_in_place`], both parities added), and the
+    /// sum of two pairs with the weights of one parity
+    /// ([`weighted_convolution_pair_sum`]: by the real FFT below
+    /// [`IN_PLACE_FROM`], lowered to 2^10 in the unit tests, in place from
+    /// there on).
     #[test]
     fn weighted_convolution_against_direct_sums() {
         let mut rng = ChaCha8Rng::seed_from_u64(4);
@@ -928,12 +955,13 @@ mod tests {
                 })
                 .sum();
             let tol = 1e-12 * (la * lb) as f64;
-            let got = weighted_convolution_in_place(|u| a[u], la, |w| b[w], lb, top, |s| hw[s]);
-            assert!(
-                (got - want).abs() <= tol,
-                "{la} {lb} {top}: {got} vs {want}"
-            );
-            let got = weighted_convolution_sum(|u| a[u], la, |w| b[w], lb, top, |s| hw[s]);
+            // In place, one parity at a time (whatever the size).
+            let got: f64 = [0usize, 1]
+                .iter()
+                .map(|&par| {
+                    parity_convolution_in_place((|u| a[u], |w| b[w]), (la, lb), top, par, |s| hw[s])
+                })
+                .sum();
             assert!(
                 (got - want).abs() <= tol,
                 "{la} {lb} {top}: {got} vs {want}"
