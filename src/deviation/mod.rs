@@ -394,7 +394,7 @@ fn estimate_at(est: Estimator, p: &gaps::Prepared, m: usize) -> Option<Estimate>
         Estimator::Mtot => modtotal::mtot(p, m),
         Estimator::Ttot => modtotal::ttot(p, m),
         Estimator::Htot => modtotal::htot(p, m),
-        Estimator::Theo1 => theo::theo1(p, m),
+        Estimator::Theo1 => theo::theo1(p, m, true),
         Estimator::Theoh => theo::theoh_many(p, &[m], |m| in_range(est, p.x.len(), m))[0],
         Estimator::Mtie => tie::mtie(p, m),
         Estimator::TieRms => tie::tierms(p, m),

@@ -43,7 +43,10 @@ pub(crate) fn theo_factor(m: usize, n_phase: usize) -> Option<usize> {
 /// - from [`BLOCK_FORM_FROM`] on: the correlation form of [`theo1_block`]
 ///   on blocks of [`BLOCK_TERMS`]·m terms; O(N·log²m) per τ, memory O(m)
 ///   per thread.
-pub(crate) fn theo1_sum(p: &Prepared, m: usize) -> (f64, usize) {
+///
+/// `spread`: whether a long block's triangle sums may use the other
+/// threads ([`two_triangles`]); the sum is the same bit for bit either way.
+pub(crate) fn theo1_sum(p: &Prepared, m: usize, spread: bool) -> (f64, usize) {
     let x = p.x;
     let n = x.len();
     if m < 2 || m % 2 == 1 || n < m + 1 {
@@ -80,7 +83,7 @@ pub(crate) fn theo1_sum(p: &Prepared, m: usize) -> (f64, usize) {
             .collect();
         let sums: Vec<f64> = blocks
             .par_iter()
-            .map(|&(start, count)| block_sum(&x[start..start + count + m], m, n))
+            .map(|&(start, count)| block_sum(&x[start..start + count + m], m, n, spread))
             .collect();
         return (sums.iter().sum(), used);
     }
@@ -101,8 +104,9 @@ pub(crate) fn theo1_sum(p: &Prepared, m: usize) -> (f64, usize) {
 /// gap-free block (of a record of `n` samples): summed directly when it
 /// has at most [`DIRECT_TERMS`] terms, else by the correlation form of
 /// [`theo1_block`] once [`BlockMemory`] has room for it. The blocks of
-/// [`theo1_sum`] and of the ratio's [`ratio_stretch_sum`].
-fn block_sum(seg: &[f64], m: usize, n: usize) -> f64 {
+/// [`theo1_sum`] and of the ratio's [`ratio_stretch_sum`]; `spread` as in
+/// [`two_triangles`].
+fn block_sum(seg: &[f64], m: usize, n: usize, spread: bool) -> f64 {
     let count = seg.len() - m;
     if count <= DIRECT_TERMS {
         (1..=m / 2)
@@ -110,7 +114,7 @@ fn block_sum(seg: &[f64], m: usize, n: usize) -> f64 {
             .sum()
     } else {
         let _share = BlockMemory::take(seg.len(), m, n);
-        theo1_block(seg, m)
+        theo1_block(seg, m, spread)
     }
 }
 
@@ -210,7 +214,7 @@ pub(crate) const BLOCK_FORM_FROM: usize = 64;
 /// are of a local, detrended y over 4m samples, so the cancellation is
 /// bounded (tested to 1e-10 relative against the direct sum, random-walk FM
 /// included).
-fn theo1_block(seg: &[f64], m: usize) -> f64 {
+fn theo1_block(seg: &[f64], m: usize, spread: bool) -> f64 {
     let len = seg.len();
     let slope = (seg[len - 1] - seg[0]) / (len - 1) as f64;
     let y = |t: usize| (seg[t] - seg[0]) - slope * t as f64;
@@ -219,7 +223,7 @@ fn theo1_block(seg: &[f64], m: usize) -> f64 {
     // The compensated total of squares: each windowed sum is then the
     // total less the samples outside it (m samples, not the n of the window).
     let total = square_sum(&y, 0, len, len, None);
-    block_sum_given(&y, len, r, m, Some(total))
+    block_sum_given(&y, len, r, m, Some(total), spread)
 }
 
 /// Σ_{t=a}^{a+n−1} y_t² as a compensated sum (hi, lo). Given the
@@ -285,6 +289,7 @@ fn block_sum_given(
     r: Vec<f64>,
     m: usize,
     total: Option<(f64, f64)>,
+    spread: bool,
 ) -> f64 {
     let n = len - m;
     let half = m / 2;
@@ -335,7 +340,7 @@ fn block_sum_given(
             add_to(&mut acc, part.1 / kf);
         }
     }
-    let tri = two_triangles(&|t| y(t), &|t| y(len - 1 - t), m);
+    let tri = two_triangles(&|t| y(t), &|t| y(len - 1 - t), m, spread);
     (acc.0 + acc.1) - 2.0 * tri
 }
 
@@ -343,7 +348,7 @@ fn block_sum_given(
 /// [`two_triangles`]).
 #[cfg(test)]
 fn head_triangle<Z: Fn(usize) -> f64 + Sync>(z: &Z, m: usize) -> f64 {
-    two_triangles(z, &|_| 0.0, m)
+    two_triangles(z, &|_| 0.0, m, true)
 }
 
 /// The triangle sum T(z) = Σ_{k=1}^{m/2} (1/k)·Σ_{j<k} z_j·z_{j+m−2k}
@@ -363,20 +368,55 @@ fn head_triangle<Z: Fn(usize) -> f64 + Sync>(z: &Z, m: usize) -> f64 {
 /// point of at most m, [`cross_pairs`]). Generic in z, so that every read
 /// is inlined (no dynamic call a sample).
 ///
-/// From m = [`TRIANGLES_SPREAD_FROM`] on the recursion is cut into pieces
-/// ([`triangle_pieces`]) that run on the machine's threads and are added
-/// back in the recursion's own order ([`add_pieces`]): the same operations
-/// on the same values, so the sum does not depend on the threads.
-fn two_triangles<Z1, Z2>(z1: &Z1, z2: &Z2, m: usize) -> f64
+/// With `spread`, from m = [`TRIANGLES_SPREAD_FROM`] on, the recursion is
+/// cut into pieces ([`triangle_pieces`]) that run on the machine's threads
+/// and are added back in the recursion's own order ([`add_pieces`]): the
+/// same operations on the same values, so the sum does not depend on the
+/// threads. Theo1's own points spread (a long τ is one block, alone on its
+/// thread); TheoH does not, neither the ratio's many node sums nor its
+/// Theo1 points computed beside them (the ratio already fills the threads:
+/// at 10^7 points spreading there gained no time and added up to 0.8× the
+/// record's memory in flight).
+fn two_triangles<Z1, Z2>(z1: &Z1, z2: &Z2, m: usize, spread: bool) -> f64
 where
     Z1: Fn(usize) -> f64 + Sync,
     Z2: Fn(usize) -> f64 + Sync,
 {
     let threads = rayon::current_num_threads();
-    if m < TRIANGLES_SPREAD_FROM || threads < 2 {
+    if !spread || m < TRIANGLES_SPREAD_FROM || threads < 2 {
         return lower_pairs(z1, z2, m, 0, m);
     }
+    // One spread at a time: the others (TheoH's ratio beside its Theo1
+    // points, several long τ at once) keep to their own thread, so that
+    // the spread adds threads only where the work alone would leave them
+    // idle, and its pieces' memory is in flight once.
+    let Some(_slot) = SpreadSlot::take() else {
+        return lower_pairs(z1, z2, m, 0, m);
+    };
     spread_triangles(z1, z2, m, threads)
+}
+
+/// The one spread of [`two_triangles`] in flight (held while it runs).
+struct SpreadSlot;
+
+/// True while a spread holds [`SpreadSlot`].
+static SPREADING: std::sync::atomic::AtomicBool = std::sync::atomic::AtomicBool::new(false);
+
+impl SpreadSlot {
+    /// The slot when no other spread holds it.
+    fn take() -> Option<Self> {
+        use std::sync::atomic::Ordering;
+        SPREADING
+            .compare_exchange(false, true, Ordering::Acquire, Ordering::Relaxed)
+            .is_ok()
+            .then_some(SpreadSlot)
+    }
+}
+
+impl Drop for SpreadSlot {
+    fn drop(&mut self) {
+        SPREADING.store(false, std::sync::atomic::Ordering::Release);
+    }
 }
 
 /// [`lower_pairs`] over [0, m) in pieces on `threads` threads (see
@@ -485,27 +525,30 @@ fn add_pieces(
 fn on_plain_threads(order: &[usize], threads: usize, f: impl Fn(usize) -> f64 + Sync) -> Vec<f64> {
     let count = order.len();
     let next = std::sync::atomic::AtomicUsize::new(0);
+    let work = || {
+        let mut done = Vec::new();
+        loop {
+            let k = next.fetch_add(1, std::sync::atomic::Ordering::Relaxed);
+            let Some(&i) = order.get(k) else {
+                break done;
+            };
+            done.push((i, f(i)));
+        }
+    };
     let mut out = vec![0.0f64; count];
     std::thread::scope(|scope| {
-        let workers: Vec<_> = (0..threads.min(count))
-            .map(|_| {
-                scope.spawn(|| {
-                    let mut done = Vec::new();
-                    loop {
-                        let k = next.fetch_add(1, std::sync::atomic::Ordering::Relaxed);
-                        let Some(&i) = order.get(k) else {
-                            break done;
-                        };
-                        done.push((i, f(i)));
-                    }
-                })
-            })
-            .collect();
-        for w in workers {
+        // The calling thread is one of the workers (its FFT plans are
+        // already made), the others are spawned.
+        let others: Vec<_> = (1..threads.min(count)).map(|_| scope.spawn(work)).collect();
+        let mut all = vec![work()];
+        for w in others {
             match w.join() {
-                Ok(done) => done.into_iter().for_each(|(i, v)| out[i] = v),
+                Ok(done) => all.push(done),
                 Err(e) => std::panic::resume_unwind(e),
             }
+        }
+        for (i, v) in all.into_iter().flatten() {
+            out[i] = v;
         }
     });
     out
@@ -725,15 +768,15 @@ fn sum_sq_4(x: &[f64], o: [usize; 4], n: usize) -> f64 {
 /// Theo1(τ) = 1/(0.75·(N−m)·(m·τ0)²) · Σ_i Σ_{k=1}^{m/2} (1/k)(x_i − x_{i+k} − x_{i+m−k} + x_{i+m})²,
 /// τ = 0.75·m·τ0 (NIST SP 1065 eq. 31). For white FM it equals the Allan
 /// variance at the same τ.
-pub(crate) fn theo1_at(p: &Prepared, m: usize) -> Option<Estimate> {
-    let (s, used) = theo1_sum(p, m);
+pub(crate) fn theo1_at(p: &Prepared, m: usize, spread: bool) -> Option<Estimate> {
+    let (s, used) = theo1_sum(p, m, spread);
     let mt = m as f64 * p.tau0;
     finish(0.75 * mt, m, s, 0.75 * mt * mt, used)
 }
 
 /// Theo1 deviation at the grid factor m (see the module notes).
-pub(crate) fn theo1(p: &Prepared, m: usize) -> Option<Estimate> {
-    theo1_at(p, theo_factor(m, p.x.len())?)
+pub(crate) fn theo1(p: &Prepared, m: usize, spread: bool) -> Option<Estimate> {
+    theo1_at(p, theo_factor(m, p.x.len())?, spread)
 }
 
 /// The ThêoBR bias ratio from every pair (NIST SP 1065 eq. 32, from memory):
@@ -748,7 +791,7 @@ pub(crate) fn theo1(p: &Prepared, m: usize) -> Option<Estimate> {
 /// record.
 fn theobr_ratio_all(p: &Prepared) -> Option<f64> {
     let nb = theobr_top(p.x.len())?;
-    let direct = |i: usize| theo1_at(p, 12 + 4 * i).map(|e| e.value * e.value);
+    let direct = |i: usize| theo1_at(p, 12 + 4 * i, false).map(|e| e.value * e.value);
     // The Theo1 values beyond m = DIRECT_UP_TO all at once from the
     // all-factor form, run on each gap-free stretch of the record (a Theo1
     // term is used only when its whole span x_i … x_{i+m} is clear, so the
@@ -927,7 +970,14 @@ impl<'a> WholeStretch<'a> {
     fn sum(&self, m: usize) -> f64 {
         let (seg, slope) = (self.seg, self.slope);
         let y = |t: usize| (seg[t] - seg[0]) - slope * t as f64;
-        block_sum_given(&y, seg.len(), self.r[..=m].to_vec(), m, Some(self.total))
+        block_sum_given(
+            &y,
+            seg.len(),
+            self.r[..=m].to_vec(),
+            m,
+            Some(self.total),
+            false,
+        )
     }
 }
 
@@ -1106,7 +1156,7 @@ fn node_sums(
 /// which keeps the 1e-10 blocks of [`theo1_sum`].
 fn ratio_stretch_sum(seg: &[f64], m: usize, n: usize) -> f64 {
     if m < BLOCK_FORM_FROM {
-        return theo1_sum(&Prepared::new(seg, 1.0), m).0;
+        return theo1_sum(&Prepared::new(seg, 1.0), m, false).0;
     }
     let terms = seg.len() - m;
     let per_block = RATIO_BLOCK
@@ -1119,7 +1169,7 @@ fn ratio_stretch_sum(seg: &[f64], m: usize, n: usize) -> f64 {
         .collect();
     let sums: Vec<f64> = blocks
         .par_iter()
-        .map(|&(start, count)| block_sum(&seg[start..start + count + m], m, n))
+        .map(|&(start, count)| block_sum(&seg[start..start + count + m], m, n, false))
         .collect();
     sums.iter().sum()
 }
@@ -1300,7 +1350,9 @@ pub(crate) fn theoh_many(
     let (ratio, theo): (Option<f64>, Vec<(usize, Option<Estimate>)>) = if long_ms.is_empty() {
         (None, Vec::new())
     } else {
-        theobr_ratio_beside(p, || long_ms.iter().map(|&m| (m, theo1(p, m))).collect())
+        theobr_ratio_beside(p, || {
+            long_ms.iter().map(|&m| (m, theo1(p, m, false))).collect()
+        })
     };
     ms.par_iter()
         .map(|&m| {
@@ -1354,7 +1406,7 @@ mod tests {
                 "m={m}: {got} vs {want}"
             );
             let want = want + def(&z2, m);
-            let got = two_triangles(&|t: usize| z[t], &|t: usize| z2[t], m);
+            let got = two_triangles(&|t: usize| z[t], &|t: usize| z2[t], m, true);
             assert!(
                 (got - want).abs() <= 1e-12 * want.abs().max(1.0),
                 "two, m={m}: {got} vs {want}"
@@ -1419,12 +1471,12 @@ mod tests {
                 for k in 1..=half {
                     want += sum_sq_4(seg, [0, k, m - k, m], n) / k as f64;
                 }
-                let got = theo1_block(seg, m);
+                let got = theo1_block(seg, m, true);
                 assert!(
                     (got - want).abs() <= 1e-10 * want.abs(),
                     "m={m} n={n}: {got} vs {want}"
                 );
-                assert_eq!(theo1_sum(&p, m).1, n);
+                assert_eq!(theo1_sum(&p, m, true).1, n);
             }
         }
     }
@@ -1457,7 +1509,7 @@ mod tests {
             let p = Prepared::new(&x, 1.0);
             let fast = theo1_sums_many(&x, &ms);
             for (&m, &s) in ms.iter().zip(&fast) {
-                let (d, used) = theo1_sum(&p, m);
+                let (d, used) = theo1_sum(&p, m, true);
                 assert_eq!(used, n - m);
                 assert!((s - d).abs() <= 1e-10 * d.abs(), "m={m}: {s} vs {d}");
             }
