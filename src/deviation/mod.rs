@@ -528,13 +528,28 @@ impl Approximation {
     pub fn note(self) -> String {
         match self {
             Approximation::SubsetBiasRatio => format!(
-                "{} approximated: theoh beyond 10 % of a record of 61,530 points or more scales Theo1 by a ThêoBR ratio averaged over a subset of its pairs (Theo1 interpolated between exact factors), tested within {} % of the mean of all pairs (seeded Monte Carlo), so the deviation within {} %",
+                "{} approximated: theoh beyond 10 % of a record of {} points or more scales Theo1 by a ThêoBR ratio averaged over a subset of its pairs (Theo1 interpolated between exact factors), tested within {} % of the mean of all pairs (seeded Monte Carlo), so the deviation within {} %",
                 Self::MARK,
+                grouped_digits(theo::SAMPLED_FROM_POINTS),
                 self.bound() * 100.0,
                 self.bound() * 50.0
             ),
         }
     }
+}
+
+/// n in decimal with a comma between groups of three digits (61530 →
+/// "61,530").
+fn grouped_digits(n: usize) -> String {
+    let digits = n.to_string();
+    let mut out = String::with_capacity(digits.len() + digits.len() / 3);
+    for (i, c) in digits.chars().enumerate() {
+        if i > 0 && (digits.len() - i) % 3 == 0 {
+            out.push(',');
+        }
+        out.push(c);
+    }
+    out
 }
 
 /// Serialised as `{"name", "bound"}` ([`Approximation::name`],
@@ -786,4 +801,27 @@ pub fn serialize_as_points<S: serde::Serializer>(
         seq.serialize_element(&Point::bare(*e))?;
     }
     seq.end()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// Digits grouped by three from the right (analytic).
+    #[test]
+    fn digits_are_grouped_by_three() {
+        for (n, want) in [
+            (0usize, "0"),
+            (7, "7"),
+            (999, "999"),
+            (1000, "1,000"),
+            (61_530, "61,530"),
+            (1_234_567, "1,234,567"),
+        ] {
+            assert_eq!(grouped_digits(n), want);
+        }
+        assert!(Approximation::SubsetBiasRatio
+            .note()
+            .contains("a record of 61,530 points or more"));
+    }
 }

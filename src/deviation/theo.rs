@@ -892,6 +892,11 @@ pub(crate) fn theobr_ratio_is_sampled(n_phase: usize) -> bool {
 /// there on.
 pub(crate) const SAMPLED_FROM: usize = 2048;
 
+/// The record length (phase points) from which the ThêoBR ratio is the
+/// subset mean: n = ⌊N/30 − 3⌋ reaches [`SAMPLED_FROM`] at
+/// N = 30·([`SAMPLED_FROM`] + 3) = 61,530.
+pub(crate) const SAMPLED_FROM_POINTS: usize = 30 * (SAMPLED_FROM + 3);
+
 /// The largest relative difference between the subset mean of
 /// [`theobr_ratio_sampled_beside`] and the mean of all pairs that the tests allow
 /// (seeded records of WPM, FPM, WFM, FFM and RWFM, with and without gaps;
@@ -1722,8 +1727,9 @@ mod tests {
         assert_eq!(theobr_top(n), Some(SAMPLED_FROM));
         assert_eq!(theobr_top(n - 30), Some(SAMPLED_FROM - 1));
         // The subset serves from N = 30·(SAMPLED_FROM + 3) = 61,530 on.
-        assert!(theobr_ratio_is_sampled(61_530));
-        assert!(!theobr_ratio_is_sampled(61_529));
+        assert_eq!(SAMPLED_FROM_POINTS, 61_530);
+        assert!(theobr_ratio_is_sampled(SAMPLED_FROM_POINTS));
+        assert!(!theobr_ratio_is_sampled(SAMPLED_FROM_POINTS - 1));
         assert!(!theobr_ratio_is_sampled(89));
     }
 }
