@@ -299,7 +299,7 @@ where
 
 /// The lengths of the two products' factors of one pair (a of la values,
 /// b of lb) split in its halves for the lags of parity `par`
-/// ([`for_parity_halves`]): (A0, B0) and (A1, B1).
+/// ([`parity_halves`]): (x0, y0) and (x1, y1).
 fn parity_factor_lengths((la, lb): (usize, usize), par: usize) -> ((usize, usize), (usize, usize)) {
     let (ea, oa, eb, ob) = (la.div_ceil(2), la / 2, lb.div_ceil(2), lb / 2);
     if par == 1 {
@@ -315,11 +315,10 @@ fn parity_convolution_len(l0: (usize, usize), l1: (usize, usize)) -> usize {
     conv_len(l0).max(conv_len(l1)).max(1)
 }
 
-/// Add to `acc` the spectrum products of one pair (a, b) split in its even
-/// and odd halves, as [`weighted_convolution_pair_sum`] needs them for lags
-/// s of parity `par`: for s odd, A_even ∗ B_odd and A_odd ∗ B_even; for s
-/// even, A_even ∗ B_even and A_odd (shifted by one, a(2p − 1)) ∗ B_odd.
-/// `l` holds the two products' factor lengths.
+/// Add to `acc` the spectrum products of one pair (a, b) split in its
+/// halves ([`parity_halves`]), as [`weighted_convolution_pair_sum`] needs
+/// them for lags s of parity `par`. `l` holds the two products' factor
+/// lengths ([`parity_factor_lengths`]).
 fn for_parity_halves(
     pair: &Pair,
     bufs: &mut (Vec<f64>, Vec<Complex<f64>>, Vec<Complex<f64>>),
@@ -329,14 +328,40 @@ fn for_parity_halves(
     a: impl Fn(usize) -> f64,
     b: impl Fn(usize) -> f64,
 ) {
-    if par == 1 {
-        add_spectrum_product(pair, bufs, acc, l0, |p| a(2 * p), |q| b(2 * q + 1));
-        add_spectrum_product(pair, bufs, acc, l1, |p| a(2 * p + 1), |q| b(2 * q));
-    } else {
-        let shifted_odd = |p: usize| if p == 0 { 0.0 } else { a(2 * p - 1) };
-        add_spectrum_product(pair, bufs, acc, l0, |p| a(2 * p), |q| b(2 * q));
-        add_spectrum_product(pair, bufs, acc, l1, shifted_odd, |q| b(2 * q + 1));
-    }
+    let (x0, y0, x1, y1) = parity_halves(&a, &b, par);
+    add_spectrum_product(pair, bufs, acc, l0, x0, y0);
+    add_spectrum_product(pair, bufs, acc, l1, x1, y1);
+}
+
+/// The halves (x0, y0, x1, y1) of one pair (a, b) for the lags of parity
+/// π = `par`: (a ∗ b)(2r + π) = (x0 ∗ y0)(r) + (x1 ∗ y1)(r). For π = 1
+/// (s odd) A_even ∗ B_odd and A_odd ∗ B_even; for π = 0 (s even)
+/// A_even ∗ B_even and A_odd shifted by one (a(2p − 1), zero at p = 0) ∗
+/// B_odd. Their lengths are [`parity_factor_lengths`].
+#[allow(clippy::type_complexity)] // four closures of distinct types
+fn parity_halves<'a>(
+    a: &'a impl Fn(usize) -> f64,
+    b: &'a impl Fn(usize) -> f64,
+    par: usize,
+) -> (
+    impl Fn(usize) -> f64 + 'a,
+    impl Fn(usize) -> f64 + 'a,
+    impl Fn(usize) -> f64 + 'a,
+    impl Fn(usize) -> f64 + 'a,
+) {
+    let par = par % 2;
+    (
+        move |p: usize| a(2 * p),
+        move |q: usize| b(2 * q + par),
+        move |p: usize| {
+            if p + par == 0 {
+                0.0
+            } else {
+                a(2 * p + 2 * par - 1)
+            }
+        },
+        move |q: usize| b(2 * q + 1 - par),
+    )
 }
 
 /// acc += FFT(x)·FFT(y), x of lx.0 values and y of lx.1 (zero-padded to
@@ -755,14 +780,9 @@ where
     let plan = FourStep::new(size);
     let mut x = vec![Complex::new(0.0f64, 0.0); size];
     let mut y = vec![Complex::new(0.0f64, 0.0); size];
-    if par == 1 {
-        fill_pair(&mut x, (|p| a(2 * p), l0.0), (|p| a(2 * p + 1), l1.0));
-        fill_pair(&mut y, (|q| b(2 * q + 1), l0.1), (|q| b(2 * q), l1.1));
-    } else {
-        let shifted_odd = |p: usize| if p == 0 { 0.0 } else { a(2 * p - 1) };
-        fill_pair(&mut x, (|p| a(2 * p), l0.0), (shifted_odd, l1.0));
-        fill_pair(&mut y, (|q| b(2 * q), l0.1), (|q| b(2 * q + 1), l1.1));
-    }
+    let (x0, y0, x1, y1) = parity_halves(&a, &b, par);
+    fill_pair(&mut x, (x0, l0.0), (x1, l1.0));
+    fill_pair(&mut y, (y0, l0.1), (y1, l1.1));
     plan.forward(&mut x, threads);
     plan.forward(&mut y, threads);
     let parts = |z: Complex<f64>, zj: Complex<f64>| {

@@ -386,38 +386,20 @@ where
     if !spread || m < TRIANGLES_SPREAD_FROM || threads < 2 {
         return lower_pairs(z1, z2, m, 0, m);
     }
-    // One spread at a time: the others (TheoH's ratio beside its Theo1
-    // points, several long τ at once) keep to their own thread, so that
-    // the spread adds threads only where the work alone would leave them
-    // idle, and its pieces' memory is in flight once.
-    let Some(_slot) = SpreadSlot::take() else {
-        return lower_pairs(z1, z2, m, 0, m);
+    // One spread at a time: the others (several long τ at once) keep to
+    // their own thread, so that the spread adds threads only where the
+    // work alone would leave them idle, and its pieces' memory is in
+    // flight once.
+    let _slot = match SPREAD_SLOT.try_lock() {
+        Ok(g) => g,
+        Err(std::sync::TryLockError::Poisoned(e)) => e.into_inner(),
+        Err(std::sync::TryLockError::WouldBlock) => return lower_pairs(z1, z2, m, 0, m),
     };
     spread_triangles(z1, z2, m, threads)
 }
 
-/// The one spread of [`two_triangles`] in flight (held while it runs).
-struct SpreadSlot;
-
-/// True while a spread holds [`SpreadSlot`].
-static SPREADING: std::sync::atomic::AtomicBool = std::sync::atomic::AtomicBool::new(false);
-
-impl SpreadSlot {
-    /// The slot when no other spread holds it.
-    fn take() -> Option<Self> {
-        use std::sync::atomic::Ordering;
-        SPREADING
-            .compare_exchange(false, true, Ordering::Acquire, Ordering::Relaxed)
-            .is_ok()
-            .then_some(SpreadSlot)
-    }
-}
-
-impl Drop for SpreadSlot {
-    fn drop(&mut self) {
-        SPREADING.store(false, std::sync::atomic::Ordering::Release);
-    }
-}
+/// Held by the one spread of [`two_triangles`] in flight.
+static SPREAD_SLOT: std::sync::Mutex<()> = std::sync::Mutex::new(());
 
 /// [`lower_pairs`] over [0, m) in pieces on `threads` threads (see
 /// [`two_triangles`]).
