@@ -18,6 +18,7 @@ mod correlate;
 mod gaps;
 mod hadamard;
 pub(crate) mod modtotal;
+mod reciprocal;
 #[doc(hidden)]
 pub mod reference;
 mod sums;
@@ -60,9 +61,8 @@ pub enum Estimator {
     /// Hadamard total deviation (NIST SP 1065 §5.2.14). Cost as MTOT.
     Htot,
     /// Theo1 deviation (NIST SP 1065 §5.2.15), τ = 0.75·m·τ0 with m even,
-    /// up to 0.75 of the record. Exact; O(N·log²m) per τ from m = 192
-    /// (correlation form): about 2.9 s of CPU for the octave grid at
-    /// N = 10⁶, end to end.
+    /// up to 0.75 of the record. Exact; O(N·log m) per τ from m = 64
+    /// (correlation form; see `docs/scale.md` for the times).
     Theo1,
     /// TheoH: overlapping ADEV up to 10 % of the record, bias-removed Theo1
     /// (ThêoBR) beyond (NIST SP 1065 §5.2.17). The ThêoBR bias ratio needs
@@ -394,7 +394,7 @@ fn estimate_at(est: Estimator, p: &gaps::Prepared, m: usize) -> Option<Estimate>
         Estimator::Mtot => modtotal::mtot(p, m),
         Estimator::Ttot => modtotal::ttot(p, m),
         Estimator::Htot => modtotal::htot(p, m),
-        Estimator::Theo1 => theo::theo1(p, m, true),
+        Estimator::Theo1 => theo::theo1(p, m),
         Estimator::Theoh => theo::theoh_many(p, &[m], |m| in_range(est, p.x.len(), m))[0],
         Estimator::Mtie => tie::mtie(p, m),
         Estimator::TieRms => tie::tierms(p, m),

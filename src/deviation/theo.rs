@@ -41,12 +41,10 @@ pub(crate) fn theo_factor(m: usize, n_phase: usize) -> Option<usize> {
 ///   vectorised pass over four shifted copies of each gap-free stretch;
 ///   O(N·m/2) per τ.
 /// - from [`BLOCK_FORM_FROM`] on: the correlation form of [`theo1_block`]
-///   on blocks of [`BLOCK_TERMS`]·m terms; O(N·log²m) per τ, memory O(m)
+///   on blocks of [`BLOCK_TERMS`]·m terms; O(N·log m) per τ, memory O(m)
 ///   per thread.
 ///
-/// `spread`: whether a long block's triangle sums may use the other
-/// threads ([`two_triangles`]); the sum is the same bit for bit either way.
-pub(crate) fn theo1_sum(p: &Prepared, m: usize, spread: bool) -> (f64, usize) {
+pub(crate) fn theo1_sum(p: &Prepared, m: usize) -> (f64, usize) {
     let x = p.x;
     let n = x.len();
     if m < 2 || m % 2 == 1 || n < m + 1 {
@@ -83,7 +81,7 @@ pub(crate) fn theo1_sum(p: &Prepared, m: usize, spread: bool) -> (f64, usize) {
             .collect();
         let sums: Vec<f64> = blocks
             .par_iter()
-            .map(|&(start, count)| block_sum(&x[start..start + count + m], m, n, spread))
+            .map(|&(start, count)| block_sum(&x[start..start + count + m], m, n))
             .collect();
         return (sums.iter().sum(), used);
     }
@@ -104,9 +102,8 @@ pub(crate) fn theo1_sum(p: &Prepared, m: usize, spread: bool) -> (f64, usize) {
 /// gap-free block (of a record of `n` samples): summed directly when it
 /// has at most [`DIRECT_TERMS`] terms, else by the correlation form of
 /// [`theo1_block`] once [`BlockMemory`] has room for it. The blocks of
-/// [`theo1_sum`] and of the ratio's [`ratio_stretch_sum`]; `spread` as in
-/// [`two_triangles`].
-fn block_sum(seg: &[f64], m: usize, n: usize, spread: bool) -> f64 {
+/// [`theo1_sum`] and of the ratio's [`ratio_stretch_sum`].
+fn block_sum(seg: &[f64], m: usize, n: usize) -> f64 {
     let count = seg.len() - m;
     if count <= DIRECT_TERMS {
         (1..=m / 2)
@@ -114,7 +111,7 @@ fn block_sum(seg: &[f64], m: usize, n: usize, spread: bool) -> f64 {
             .sum()
     } else {
         let _share = BlockMemory::take(seg.len(), m, n);
-        theo1_block(seg, m, spread)
+        theo1_block(seg, m)
     }
 }
 
@@ -173,10 +170,12 @@ const DIRECT_TERMS: usize = 32;
 
 /// A Theo1 block of the correlation form holds up to this many times m
 /// terms (len ≤ 13m samples). Each block pays its head and tail (the
-/// triangle sums, O(m·log²m), most of a block's cost, and the head and
-/// tail autocorrelations) once, so longer blocks share them among more
-/// terms: at 12m the edges cost a quarter of what they cost at 3m per
-/// term, while the block's own transform grows only as its length. The
+/// head and tail autocorrelations and the one pass of
+/// [`super::reciprocal::triangles_and_far_lags`]) once, so longer blocks
+/// share them among more terms, while the block's own transform grows only
+/// as its length. (Chosen in session 12, when the head and tail were the
+/// triangle recursion, O(m·log²m) and most of a block's cost: at 12m the
+/// edges cost a quarter of what they cost at 3m per term.) The
 /// rounding of the form grows with the block's spread against its m-scale
 /// differences, about (len/m)³ on random-walk FM (see [`theo1_sums_many`]):
 /// at 13m some 1e-13 relative, tested to 1e-10 against the direct sum.
@@ -191,7 +190,8 @@ const BLOCK_TERMS: usize = 12;
 pub(crate) const BLOCK_FORM_FROM: usize = 64;
 
 /// The Theo1 double sum over the n = seg.len() − m terms i = 0 … n−1 of a
-/// gap-free segment (m even), exactly, in O((n + m)·log(n + m) + m·log²m).
+/// gap-free segment (m even), exactly, in O((n + m)·log(n + m) + m·K),
+/// K ≈ 45–120 the nodes of [`super::reciprocal`].
 ///
 /// With y the segment less the straight line through its end points (Theo1
 /// is exactly invariant to a + b·t), Δ_k(i) = y_{i+k} − y_i and L = n + m,
@@ -209,12 +209,14 @@ pub(crate) const BLOCK_FORM_FROM: usize = 64;
 /// H_k = Σ_{j<k} y_j·y_{j+m−2k} are the products at lag m − 2k whose two
 /// indices add to less than m (a triangle, not a segment), and T_k the same
 /// at the other end (H_k of the reversed segment); their weighted sum
-/// Σ_k H_k/k comes from [`two_triangles`]. R, hd and tl come from FFTs; the
-/// sums of squares from double-double prefix sums. Rounding: the products
+/// Σ_k H_k/k comes from [`super::reciprocal::triangles_and_far_lags`]. R
+/// and hd, tl at the lags up to m/2 come from FFTs, hd and tl at the lags
+/// beyond from the same pass as the triangles; the sums of squares from
+/// double-double prefix sums. Rounding: the products
 /// are of a local, detrended y over 4m samples, so the cancellation is
 /// bounded (tested to 1e-10 relative against the direct sum, random-walk FM
 /// included).
-fn theo1_block(seg: &[f64], m: usize, spread: bool) -> f64 {
+fn theo1_block(seg: &[f64], m: usize) -> f64 {
     let len = seg.len();
     let slope = (seg[len - 1] - seg[0]) / (len - 1) as f64;
     let y = |t: usize| (seg[t] - seg[0]) - slope * t as f64;
@@ -223,7 +225,7 @@ fn theo1_block(seg: &[f64], m: usize, spread: bool) -> f64 {
     // The compensated total of squares: each windowed sum is then the
     // total less the samples outside it (m samples, not the n of the window).
     let total = square_sum(&y, 0, len, len, None);
-    block_sum_given(&y, len, r, m, Some(total), spread)
+    block_sum_given(&y, len, r, m, Some(total))
 }
 
 /// Σ_{t=a}^{a+n−1} y_t² as a compensated sum (hi, lo). Given the
@@ -272,24 +274,26 @@ fn add_to(acc: &mut (f64, f64), v: f64) {
 /// four windowed sums of squares Σ_{i<n} y_{a+i}² (a = 0, k, m − k, m).
 /// Its R part Σ_k [2R(m−2k) + 2R(m) − 4R(k) − 4R(m−k)]/k is summed first
 /// and R is dropped; the head and tail autocorrelations hd, tl (ℓ < m) enter
-/// only as Σ_ℓ w(ℓ)·(hd(ℓ) + tl(ℓ)), w(ℓ) = 1/ℓ below m/2, 1/(m − ℓ) above,
-/// 4/m at m/2 (the k and m − k of each pair), so each is reduced as it comes
+/// only as Σ_ℓ w(ℓ)·(hd(ℓ) + tl(ℓ)), w(ℓ) = 1/ℓ up to m/2 and 1/(m − ℓ)
+/// from m/2 on (both at m/2: the k and m − k of each pair). The lags up to
+/// m/2 are reduced as they come
 /// ([`super::correlate::visit_autocorrelations`]) and never held beside R:
 /// at the largest factors (one block of the whole record, m ≈ 0.9·N) the
 /// peak is the larger of R's transform (8·smooth(len + m) bytes) and the
-/// head's (8·smooth(2m − 1)), not their sum. Every part is a compensated
+/// head's (8·smooth(1.5·m)), not their sum; the lags from m/2 on come with
+/// the triangles from one pass over the head and the tail
+/// ([`super::reciprocal::triangles_and_far_lags`]). Every part is a compensated
 /// sum, added in one compensated accumulator (the parts cancel to the
 /// m-scale differences); the windowed sums of squares are running
 /// compensated sums (from the total less the samples outside the window
-/// when `total` is given and the window is the longer part); then the two
-/// triangle sums.
+/// when `total` is given and the window is the longer part); then the far
+/// lags and the two triangle sums.
 fn block_sum_given(
     y: &(impl Fn(usize) -> f64 + Sync),
     len: usize,
     r: Vec<f64>,
     m: usize,
     total: Option<(f64, f64)>,
-    spread: bool,
 ) -> f64 {
     let n = len - m;
     let half = m / 2;
@@ -299,24 +303,17 @@ fn block_sum_given(
         add_to(&mut acc, v / k as f64);
     }
     drop(r);
-    // + 2·Σ_k [hd(k) + tl(k) + hd(m−k) + tl(m−k)]/k.
-    let weight = |l: usize| {
-        if 2 * l < m {
-            1.0 / l as f64
-        } else if 2 * l == m {
-            4.0 / m as f64
-        } else {
-            1.0 / (m - l) as f64
-        }
-    };
+    // + 2·Σ_k [hd(k) + tl(k) + hd(m−k) + tl(m−k)]/k: the near lags
+    // ℓ = k ≤ m/2 from the head's and tail's autocorrelations (FFT), the
+    // far lags ℓ = m − k ≥ m/2 beside the triangles below.
     super::correlate::visit_autocorrelations(
         m,
         y,
         |t| y(n + t),
-        m - 1,
+        half,
         |v| {
-            for (l, &c) in v.iter().enumerate().take(m).skip(1) {
-                add_to(&mut acc, 2.0 * weight(l) * c);
+            for (l, &c) in v.iter().enumerate().take(half + 1).skip(1) {
+                add_to(&mut acc, 2.0 * c / l as f64);
             }
         },
     );
@@ -340,387 +337,10 @@ fn block_sum_given(
             add_to(&mut acc, part.1 / kf);
         }
     }
-    let tri = two_triangles(&|t| y(t), &|t| y(len - 1 - t), m, spread);
+    // The tail read backwards: its autocorrelation is the tail's.
+    let (tri, far) = super::reciprocal::triangles_and_far_lags(&|t| y(t), &|t| y(len - 1 - t), m);
+    add_to(&mut acc, 2.0 * far);
     (acc.0 + acc.1) - 2.0 * tri
-}
-
-/// The triangle sum of one sequence (the tests' handle on
-/// [`two_triangles`]).
-#[cfg(test)]
-fn head_triangle<Z: Fn(usize) -> f64 + Sync>(z: &Z, m: usize) -> f64 {
-    two_triangles(z, &|_| 0.0, m, true)
-}
-
-/// The triangle sum T(z) = Σ_{k=1}^{m/2} (1/k)·Σ_{j<k} z_j·z_{j+m−2k}
-/// (z_t, t < m, m even) of two sequences z1, z2 — the head of a block and
-/// its tail read backwards —, added: T(z1) + T(z2).
-///
-/// T(z) sums the products z_u·z_v, u ≤ v, v − u even, u + v < m, each
-/// weighted by 2/(m − (v − u)). With w = m − 1 − v and b_w = z_{m−1−w} this
-/// is Σ_{u≤w} h(u+w)·z_u·b_w, h(s) = 2/(s+1) for odd s < m, else 0: split
-/// [0, m) in halves, the pairs across the split are one weighted
-/// convolution sum (FFT), the pairs within each half recurse. O(m·log²m).
-/// The two sequences share the recursion: each cross term adds their two
-/// products of spectra before one inverse transform, from the even and odd
-/// halves of the pieces (h vanishes at even s;
-/// [`super::correlate::weighted_convolution_pair_sum`]). z is never stored
-/// whole: each cross term reads it where it fills its transform (16 bytes a
-/// point of at most m, [`cross_pairs`]). Generic in z, so that every read
-/// is inlined (no dynamic call a sample).
-///
-/// With `spread`, from m = [`TRIANGLES_SPREAD_FROM`] on, the recursion is
-/// cut into pieces ([`triangle_pieces`]) that run on the machine's threads
-/// and are added back in the recursion's own order ([`add_pieces`]): the
-/// same operations on the same values, so the sum does not depend on the
-/// threads. Theo1's own points spread (a long τ is one block, alone on its
-/// thread); TheoH does not, neither the ratio's many node sums nor its
-/// Theo1 points computed beside them (the ratio already fills the threads:
-/// at 10^7 points spreading there gained no time and added up to 0.8× the
-/// record's memory in flight).
-fn two_triangles<Z1, Z2>(z1: &Z1, z2: &Z2, m: usize, spread: bool) -> f64
-where
-    Z1: Fn(usize) -> f64 + Sync,
-    Z2: Fn(usize) -> f64 + Sync,
-{
-    let threads = rayon::current_num_threads();
-    if !spread || m < TRIANGLES_SPREAD_FROM || threads < 2 {
-        return lower_pairs(z1, z2, m, 0, m);
-    }
-    // One spread at a time: the others (several long τ at once) keep to
-    // their own thread, so that the spread adds threads only where the
-    // work alone would leave them idle, and its pieces' memory is in
-    // flight once.
-    let _slot = match SPREAD_SLOT.try_lock() {
-        Ok(g) => g,
-        Err(std::sync::TryLockError::Poisoned(e)) => e.into_inner(),
-        Err(std::sync::TryLockError::WouldBlock) => return lower_pairs(z1, z2, m, 0, m),
-    };
-    spread_triangles(z1, z2, m, threads)
-}
-
-/// Held by the one spread of [`two_triangles`] in flight.
-static SPREAD_SLOT: std::sync::Mutex<()> = std::sync::Mutex::new(());
-
-/// [`lower_pairs`] over [0, m) in pieces on `threads` threads (see
-/// [`two_triangles`]).
-fn spread_triangles<Z1, Z2>(z1: &Z1, z2: &Z2, m: usize, threads: usize) -> f64
-where
-    Z1: Fn(usize) -> f64 + Sync,
-    Z2: Fn(usize) -> f64 + Sync,
-{
-    let width = (m / TRIANGLE_PIECES).max(LEAF);
-    let mut pieces = Vec::new();
-    triangle_pieces(m, 0, m, width, &mut pieces);
-    // The costliest pieces first, so that no thread is left with a large
-    // one at the end.
-    let mut order: Vec<usize> = (0..pieces.len()).collect();
-    order.sort_by(|&a, &b| pieces[b].cost().total_cmp(&pieces[a].cost()));
-    let values = on_plain_threads(&order, threads, |i| match pieces[i] {
-        Piece::Below(lo, hi) => lower_pairs(z1, z2, m, lo, hi),
-        Piece::Across(lo, mid, hi) => node_cross(z1, z2, m, lo, mid, hi),
-    });
-    add_pieces(m, 0, m, width, &mut values.into_iter())
-}
-
-/// From this factor on [`two_triangles`] spreads its recursion over the
-/// threads (below it a block's triangles take a small part of its time,
-/// and the blocks of a τ already run side by side). Measured quietly at
-/// 10^7 points: without the spread the largest factor (m = 5,592,406,
-/// one block) kept 1.2 of the 2 cores busy.
-const TRIANGLES_SPREAD_FROM: usize = if cfg!(test) { 1 << 11 } else { 1 << 19 };
-
-/// The pieces of [`two_triangles`] at factor m are subtrees of at most
-/// m / this many samples and the cross terms above them.
-const TRIANGLE_PIECES: usize = 64;
-
-/// A piece of the [`lower_pairs`] recursion: a whole subtree [lo, hi), or
-/// the cross term of the node [lo, hi) split at mid.
-#[derive(Clone, Copy)]
-enum Piece {
-    Below(usize, usize),
-    Across(usize, usize, usize),
-}
-
-impl Piece {
-    /// The rough cost of a piece of w samples, for the order of the work:
-    /// a cross term's transforms w·log w, a subtree's log(w/[`LEAF`])
-    /// levels of them.
-    fn cost(&self) -> f64 {
-        let (w, levels) = match *self {
-            Piece::Below(lo, hi) => (hi - lo, ((hi - lo) as f64 / LEAF as f64).log2().max(1.0)),
-            Piece::Across(lo, _, hi) => (hi - lo, 1.0),
-        };
-        let w = w as f64;
-        w * w.log2().max(1.0) * levels
-    }
-}
-
-/// The pieces of [`lower_pairs`] over [lo, hi) in the order in which its
-/// recursion adds them: the subtrees of at most `width` samples whole,
-/// above them each node's two halves, then its cross term.
-fn triangle_pieces(m: usize, lo: usize, hi: usize, width: usize, out: &mut Vec<Piece>) {
-    if 2 * lo >= m || hi <= lo {
-        return;
-    }
-    if hi - lo <= width {
-        out.push(Piece::Below(lo, hi));
-        return;
-    }
-    let mid = (lo + hi) / 2;
-    triangle_pieces(m, lo, mid, width, out);
-    triangle_pieces(m, mid, hi, width, out);
-    if lo + mid < m {
-        out.push(Piece::Across(lo, mid, hi));
-    }
-}
-
-/// The sum of [`lower_pairs`] over [lo, hi) from the values of its
-/// [`triangle_pieces`] (in their order), added as the recursion adds them.
-fn add_pieces(
-    m: usize,
-    lo: usize,
-    hi: usize,
-    width: usize,
-    values: &mut impl Iterator<Item = f64>,
-) -> f64 {
-    if 2 * lo >= m || hi <= lo {
-        return 0.0;
-    }
-    // A missing value (never: the pieces come from the same recursion)
-    // would show as NaN, not as a wrong number.
-    if hi - lo <= width {
-        return values.next().unwrap_or(f64::NAN);
-    }
-    let mid = (lo + hi) / 2;
-    let mut s = add_pieces(m, lo, mid, width, values) + add_pieces(m, mid, hi, width, values);
-    if lo + mid < m {
-        s += values.next().unwrap_or(f64::NAN);
-    }
-    s
-}
-
-/// f(i) for every i of `order` (a permutation of 0 … count − 1), in the
-/// vector at i: computed on `threads` plain scoped threads, each taking the
-/// next index of `order` in turn. Plain threads, not rayon tasks: the
-/// caller may hold a share of [`BlockMemory`], and a rayon worker waiting
-/// here could pick up a block that waits for that share.
-fn on_plain_threads(order: &[usize], threads: usize, f: impl Fn(usize) -> f64 + Sync) -> Vec<f64> {
-    let count = order.len();
-    let next = std::sync::atomic::AtomicUsize::new(0);
-    let work = || {
-        let mut done = Vec::new();
-        loop {
-            let k = next.fetch_add(1, std::sync::atomic::Ordering::Relaxed);
-            let Some(&i) = order.get(k) else {
-                break done;
-            };
-            done.push((i, f(i)));
-        }
-    };
-    let mut out = vec![0.0f64; count];
-    std::thread::scope(|scope| {
-        // The calling thread is one of the workers (its FFT plans are
-        // already made), the others are spawned.
-        let others: Vec<_> = (1..threads.min(count)).map(|_| scope.spawn(work)).collect();
-        let mut all = vec![work()];
-        for w in others {
-            match w.join() {
-                Ok(done) => all.push(done),
-                Err(e) => std::panic::resume_unwind(e),
-            }
-        }
-        for (i, v) in all.into_iter().flatten() {
-            out[i] = v;
-        }
-    });
-    out
-}
-
-/// h(s) of [`two_triangles`]: 2/(s+1) for odd s < m, else 0.
-#[inline]
-fn triangle_weight(s: usize, m: usize) -> f64 {
-    if s % 2 == 1 && s < m {
-        2.0 / (s + 1) as f64
-    } else {
-        0.0
-    }
-}
-
-/// Σ_{lo ≤ u ≤ w < hi} h(u+w)·z_u·b_w, b_w = z_{m−1−w}, with h of
-/// [`triangle_weight`] (zero from s = m on; see [`two_triangles`]), for
-/// z = z1 and z = z2, added.
-fn lower_pairs<Z1, Z2>(z1: &Z1, z2: &Z2, m: usize, lo: usize, hi: usize) -> f64
-where
-    Z1: Fn(usize) -> f64,
-    Z2: Fn(usize) -> f64,
-{
-    if 2 * lo >= m || hi <= lo {
-        return 0.0;
-    }
-    if hi - lo <= LEAF {
-        return leaf_pairs(z1, m, lo, hi) + leaf_pairs(z2, m, lo, hi);
-    }
-    let mid = (lo + hi) / 2;
-    let mut s = lower_pairs(z1, z2, m, lo, mid) + lower_pairs(z1, z2, m, mid, hi);
-    if lo + mid < m {
-        s += node_cross(z1, z2, m, lo, mid, hi);
-    }
-    s
-}
-
-/// The cross term of the [`lower_pairs`] node [lo, hi) split at mid
-/// (lo + mid < m): u ∈ [lo, mid), w ∈ [mid, hi), s = u + w < m, so only
-/// the first m − (lo + mid) of each side can pair.
-fn node_cross<Z1, Z2>(z1: &Z1, z2: &Z2, m: usize, lo: usize, mid: usize, hi: usize) -> f64
-where
-    Z1: Fn(usize) -> f64,
-    Z2: Fn(usize) -> f64,
-{
-    let top = m - (lo + mid);
-    let la = (mid - lo).min(top);
-    let lb = (hi - mid).min(top);
-    cross_pairs(
-        (|u| z1(lo + u), |w| z1(m - 1 - mid - w)),
-        (|u| z2(lo + u), |w| z2(m - 1 - mid - w)),
-        (la, lb),
-        lo + mid,
-        m,
-    )
-}
-
-/// [`lower_pairs`] of one sequence on a block of at most [`LEAF`] samples,
-/// summed directly.
-fn leaf_pairs(z: &impl Fn(usize) -> f64, m: usize, lo: usize, hi: usize) -> f64 {
-    // Only odd s = 2·lo + u + v count (u, v block offsets, v > u):
-    // ho[r] = h(2·lo + 2r + 1); an even u = 2p pairs with the odd
-    // v = 2q + 1 (q ≥ p), an odd u = 2p + 1 with the even v = 2q
-    // (q > p), both at ho[p + q]: contiguous dot products.
-    let w = hi - lo;
-    let mut ho = [0.0f64; LEAF];
-    for (r, v) in ho[..w].iter_mut().enumerate() {
-        *v = triangle_weight(2 * lo + 2 * r + 1, m);
-    }
-    let mut a = [0.0f64; LEAF];
-    let mut be = [0.0f64; LEAF / 2 + 1];
-    let mut bo = [0.0f64; LEAF / 2 + 1];
-    for i in 0..w {
-        a[i] = z(lo + i);
-        let bv = z(m - 1 - (lo + i));
-        if i % 2 == 0 {
-            be[i / 2] = bv;
-        } else {
-            bo[i / 2] = bv;
-        }
-    }
-    let (ne, no) = (w.div_ceil(2), w / 2);
-    let mut s = 0.0;
-    for (u, &au) in a[..w].iter().enumerate() {
-        let p = u / 2;
-        let inner = if u % 2 == 0 {
-            dot(&ho[2 * p..], &bo[p..no])
-        } else {
-            dot(&ho[2 * p + 1..], &be[(p + 1).min(ne)..ne])
-        };
-        s += au * inner;
-    }
-    s
-}
-
-/// The leaves of [`lower_pairs`]: at most this many samples, summed
-/// directly.
-const LEAF: usize = 64;
-
-/// Σ_{u,w} h(offset+u+w)·a_u·b_w over all u < la, w < lb, h of
-/// [`triangle_weight`], for the pairs (a, b) = `p1` and `p2`, added:
-/// Σ_s h(offset+s)·[(a1 ∗ b1)(s) + (a2 ∗ b2)(s)], directly for small
-/// pieces, else by FFT convolutions
-/// ([`super::correlate::weighted_convolution_pair_sum`]) that read a and b
-/// where they fill their buffers. Never split: a split in quarters (three
-/// of which reach below m) costs 1.5 times its whole at each level, which
-/// made the largest factors grow as m^1.6.
-fn cross_pairs<A1, B1, A2, B2>(
-    p1: (A1, B1),
-    p2: (A2, B2),
-    (la, lb): (usize, usize),
-    offset: usize,
-    m: usize,
-) -> f64
-where
-    A1: Fn(usize) -> f64,
-    B1: Fn(usize) -> f64,
-    A2: Fn(usize) -> f64,
-    B2: Fn(usize) -> f64,
-{
-    if offset >= m || la == 0 || lb == 0 {
-        return 0.0;
-    }
-    let top = (la + lb - 1).min(m - offset);
-    let (la, lb) = (la.min(top), lb.min(top));
-    // Only t = u + w with offset + t odd counts.
-    let par = (offset + 1) % 2;
-    if la * lb <= 4096 {
-        let hp: Vec<f64> = (0..top.div_ceil(2))
-            .map(|r| triangle_weight(offset + 2 * r + par, m))
-            .collect();
-        return direct_cross(&p1.0, &p1.1, la, lb, top, par, &hp)
-            + direct_cross(&p2.0, &p2.1, la, lb, top, par, &hp);
-    }
-    super::correlate::weighted_convolution_pair_sum(p1, p2, (la, lb), top, par, |t| {
-        triangle_weight(offset + t, m)
-    })
-}
-
-/// Σ_{u<la, w<lb, t=u+w<top} hp[(t − π)/2]·a_u·b_w over the t ≡ π (mod 2)
-/// (the weights of the other parity are zero): for each u the w of the
-/// parity that makes u + w ≡ π, w = 2q + pw, read from the split b
-/// (contiguous dot products).
-fn direct_cross(
-    a: &impl Fn(usize) -> f64,
-    b: &impl Fn(usize) -> f64,
-    la: usize,
-    lb: usize,
-    top: usize,
-    par: usize,
-    hp: &[f64],
-) -> f64 {
-    let split: [Vec<f64>; 2] = [
-        (0..lb).step_by(2).map(b).collect(),
-        (1..lb).step_by(2).map(b).collect(),
-    ];
-    let mut s = 0.0;
-    for u in 0..la {
-        let pw = (par + u) % 2;
-        if u + pw >= top {
-            continue;
-        }
-        // q < ⌈(top − u − pw)/2⌉ keeps t < top; r = (u + pw − π)/2 + q.
-        let qn = (top - u - pw).div_ceil(2).min(split[pw].len());
-        let r0 = (u + pw - par) / 2;
-        s += a(u) * dot(&hp[r0..], &split[pw][..qn]);
-    }
-    s
-}
-
-/// Σ_i x_i·y_i over the shorter of the two, in four running sums (so that
-/// the loop vectorises; the order of the additions is fixed by the lengths
-/// alone).
-#[inline]
-fn dot(x: &[f64], y: &[f64]) -> f64 {
-    let n = x.len().min(y.len());
-    let (x, y) = (&x[..n], &y[..n]);
-    let mut acc = [0.0f64; 4];
-    let (xc, yc) = (x.chunks_exact(4), y.chunks_exact(4));
-    let (xr, yr) = (xc.remainder(), yc.remainder());
-    for (p, q) in xc.zip(yc) {
-        for l in 0..4 {
-            acc[l] += p[l] * q[l];
-        }
-    }
-    let mut s = (acc[0] + acc[2]) + (acc[1] + acc[3]);
-    for (p, q) in xr.iter().zip(yr) {
-        s += p * q;
-    }
-    s
 }
 
 /// Σ_{i<n} (x_{i+o0} − x_{i+o1} − x_{i+o2} + x_{i+o3})², vectorisable.
@@ -750,15 +370,15 @@ fn sum_sq_4(x: &[f64], o: [usize; 4], n: usize) -> f64 {
 /// Theo1(τ) = 1/(0.75·(N−m)·(m·τ0)²) · Σ_i Σ_{k=1}^{m/2} (1/k)(x_i − x_{i+k} − x_{i+m−k} + x_{i+m})²,
 /// τ = 0.75·m·τ0 (NIST SP 1065 eq. 31). For white FM it equals the Allan
 /// variance at the same τ.
-pub(crate) fn theo1_at(p: &Prepared, m: usize, spread: bool) -> Option<Estimate> {
-    let (s, used) = theo1_sum(p, m, spread);
+pub(crate) fn theo1_at(p: &Prepared, m: usize) -> Option<Estimate> {
+    let (s, used) = theo1_sum(p, m);
     let mt = m as f64 * p.tau0;
     finish(0.75 * mt, m, s, 0.75 * mt * mt, used)
 }
 
 /// Theo1 deviation at the grid factor m (see the module notes).
-pub(crate) fn theo1(p: &Prepared, m: usize, spread: bool) -> Option<Estimate> {
-    theo1_at(p, theo_factor(m, p.x.len())?, spread)
+pub(crate) fn theo1(p: &Prepared, m: usize) -> Option<Estimate> {
+    theo1_at(p, theo_factor(m, p.x.len())?)
 }
 
 /// The ThêoBR bias ratio from every pair (NIST SP 1065 eq. 32, from memory):
@@ -773,7 +393,7 @@ pub(crate) fn theo1(p: &Prepared, m: usize, spread: bool) -> Option<Estimate> {
 /// record.
 fn theobr_ratio_all(p: &Prepared) -> Option<f64> {
     let nb = theobr_top(p.x.len())?;
-    let direct = |i: usize| theo1_at(p, 12 + 4 * i, false).map(|e| e.value * e.value);
+    let direct = |i: usize| theo1_at(p, 12 + 4 * i).map(|e| e.value * e.value);
     // The Theo1 values beyond m = DIRECT_UP_TO all at once from the
     // all-factor form, run on each gap-free stretch of the record (a Theo1
     // term is used only when its whole span x_i … x_{i+m} is clear, so the
@@ -953,18 +573,11 @@ impl<'a> WholeStretch<'a> {
 
     /// The Theo1 double sum at factor m (even, m < len, m ≤ top) over all
     /// len − m terms of the stretch, as [`theo1_block`] with one block.
-    /// O(m·log²m) given the shared R and the total of squares.
+    /// O(m·log m) given the shared R and the total of squares.
     fn sum(&self, m: usize) -> f64 {
         let (seg, slope) = (self.seg, self.slope);
         let y = |t: usize| (seg[t] - seg[0]) - slope * t as f64;
-        block_sum_given(
-            &y,
-            seg.len(),
-            self.r[..=m].to_vec(),
-            m,
-            Some(self.total),
-            false,
-        )
+        block_sum_given(&y, seg.len(), self.r[..=m].to_vec(), m, Some(self.total))
     }
 }
 
@@ -1036,15 +649,15 @@ fn interpolate_theo1((ma, ta): (usize, f64), (mb, tb): (usize, f64), m: usize) -
 ///
 /// Why Theo1 sparser than AVAR: an estimate of Theo1 averages over every
 /// span k ≤ m/2 and moves smoothly with m, while AVAR at nearby m
-/// fluctuates more; and Theo1 costs O(m·log²m) a node (its triangle sums
-/// and head and tail autocorrelations), AVAR O(N). The difference from the
+/// fluctuates more; and Theo1 costs O(m·log m) a node (its head and tail
+/// autocorrelations and the one pass of the triangle sums), AVAR O(N). The difference from the
 /// mean of all pairs is measured in the tests (seeded Monte Carlo, see
 /// [`theobr_ratio_beside`]).
 ///
 /// `beside` runs beside the sums ([`rayon::join`]) once the one large
 /// transform (the autocorrelation of each stretch, [`WholeStretch::new`],
 /// counted in [`BlockMemory`]) is done: the two share the threads, so that
-/// work of `beside` that runs on one thread (the triangle sums of a large
+/// work of `beside` that runs on one thread (the head and tail of a large
 /// Theo1 block) leaves the others to the ratio's many small sums. The
 /// ratio's value does not depend on `beside`.
 fn theobr_ratio_sampled_beside<T: Send>(
@@ -1131,8 +744,8 @@ fn node_sums(
 /// [`theo1_sum`]; from there on the correlation form of [`theo1_block`] on
 /// blocks of at most [`RATIO_BLOCK`] samples (at least [`BLOCK_TERMS`]·m
 /// terms), whatever the record. Longer blocks than [`theo1_sum`]'s
-/// 13·m share each block's head and tail work (its triangle sums and
-/// head and tail autocorrelations, O(m·log²m)) among more terms: at
+/// 13·m share each block's head and tail work (its head and tail
+/// autocorrelations and triangle sums, O(m·log m)) among more terms: at
 /// m = 5,224 on 10^7 points, 10 blocks instead of 160. The rounding is
 /// that of the single-block form at up to [`RATIO_BLOCK`]/m samples a
 /// factor, below [`WHOLE_UP_TO`]·m here (a block holds fewer than
@@ -1143,7 +756,7 @@ fn node_sums(
 /// which keeps the 1e-10 blocks of [`theo1_sum`].
 fn ratio_stretch_sum(seg: &[f64], m: usize, n: usize) -> f64 {
     if m < BLOCK_FORM_FROM {
-        return theo1_sum(&Prepared::new(seg, 1.0), m, false).0;
+        return theo1_sum(&Prepared::new(seg, 1.0), m).0;
     }
     let terms = seg.len() - m;
     let per_block = RATIO_BLOCK
@@ -1156,7 +769,7 @@ fn ratio_stretch_sum(seg: &[f64], m: usize, n: usize) -> f64 {
         .collect();
     let sums: Vec<f64> = blocks
         .par_iter()
-        .map(|&(start, count)| block_sum(&seg[start..start + count + m], m, n, false))
+        .map(|&(start, count)| block_sum(&seg[start..start + count + m], m, n))
         .collect();
     sums.iter().sum()
 }
@@ -1320,8 +933,8 @@ pub(crate) fn theoh_switch(n_phase: usize, tau0: f64) -> f64 {
 /// The ThêoBR part's Theo1 values do not depend on R, so they are computed
 /// beside it ([`theobr_ratio_beside`]), one after the other, largest first:
 /// their blocks are the largest transforms of the run and take most of the
-/// memory allowed to blocks in flight ([`BlockMemory`]), and their triangle
-/// sums run on one thread, while R's many small sums keep the other
+/// memory allowed to blocks in flight ([`BlockMemory`]), and their head and
+/// tail passes run on one thread, while R's many small sums keep the other
 /// threads busy. Each value is the one [`theo1`] gives alone: no τ depends
 /// on which others were asked for.
 pub(crate) fn theoh_many(
@@ -1337,9 +950,7 @@ pub(crate) fn theoh_many(
     let (ratio, theo): (Option<f64>, Vec<(usize, Option<Estimate>)>) = if long_ms.is_empty() {
         (None, Vec::new())
     } else {
-        theobr_ratio_beside(p, || {
-            long_ms.iter().map(|&m| (m, theo1(p, m, false))).collect()
-        })
+        theobr_ratio_beside(p, || long_ms.iter().map(|&m| (m, theo1(p, m))).collect())
     };
     ms.par_iter()
         .map(|&m| {
@@ -1364,60 +975,6 @@ mod tests {
     use super::*;
     use rand::{Rng, SeedableRng};
     use rand_chacha::ChaCha8Rng;
-
-    /// The triangle sums of `two_triangles` (D&C with FFT, two sequences
-    /// sharing the recursion) equal their definition summed directly, for
-    /// one sequence and for two, at lengths across the direct/FFT and
-    /// in-place thresholds (analytic identity; 1e-12 relative).
-    #[test]
-    fn head_triangle_equals_its_definition() {
-        let mut rng = ChaCha8Rng::seed_from_u64(8);
-        let def = |z: &[f64], m: usize| {
-            let mut want = 0.0;
-            for k in 1..=m / 2 {
-                let mut s = 0.0;
-                for j in 0..k {
-                    s += z[j] * z[j + m - 2 * k];
-                }
-                want += s / k as f64;
-            }
-            want
-        };
-        for m in [2usize, 10, 64, 66, 130, 256, 600, 1000, 2000, 4098] {
-            let z: Vec<f64> = (0..m).map(|_| rng.gen_range(-1.0..1.0)).collect();
-            let z2: Vec<f64> = (0..m).map(|_| rng.gen_range(-1.0..1.0)).collect();
-            let want = def(&z, m);
-            let got = head_triangle(&|t: usize| z[t], m);
-            assert!(
-                (got - want).abs() <= 1e-12 * want.abs().max(1.0),
-                "m={m}: {got} vs {want}"
-            );
-            let want = want + def(&z2, m);
-            let got = two_triangles(&|t: usize| z[t], &|t: usize| z2[t], m, true);
-            assert!(
-                (got - want).abs() <= 1e-12 * want.abs().max(1.0),
-                "two, m={m}: {got} vs {want}"
-            );
-        }
-    }
-
-    /// The triangle sums spread over threads in pieces are the recursion's
-    /// own sum bit for bit, whatever the number of threads (the same
-    /// operations in the same order; analytic).
-    #[test]
-    fn spread_triangles_are_the_recursion_exactly() {
-        let mut rng = ChaCha8Rng::seed_from_u64(18);
-        for m in [130usize, 2048, 4098, 20_000, 70_002] {
-            let z: Vec<f64> = (0..m).map(|_| rng.gen_range(-1.0..1.0)).collect();
-            let z2: Vec<f64> = (0..m).map(|_| rng.gen_range(-1.0..1.0)).collect();
-            let (a, b) = (|t: usize| z[t], |t: usize| z2[t]);
-            let want = lower_pairs(&a, &b, m, 0, m);
-            for threads in [1, 2, 3, 5] {
-                let got = spread_triangles(&a, &b, m, threads);
-                assert_eq!(got.to_bits(), want.to_bits(), "m={m} threads={threads}");
-            }
-        }
-    }
 
     /// The block correlation form equals the direct double sum (SP 1065
     /// eq. 31) to 1e-10 relative on white + random-walk phase and on
@@ -1458,12 +1015,12 @@ mod tests {
                 for k in 1..=half {
                     want += sum_sq_4(seg, [0, k, m - k, m], n) / k as f64;
                 }
-                let got = theo1_block(seg, m, true);
+                let got = theo1_block(seg, m);
                 assert!(
                     (got - want).abs() <= 1e-10 * want.abs(),
                     "m={m} n={n}: {got} vs {want}"
                 );
-                assert_eq!(theo1_sum(&p, m, true).1, n);
+                assert_eq!(theo1_sum(&p, m).1, n);
             }
         }
     }
@@ -1496,7 +1053,7 @@ mod tests {
             let p = Prepared::new(&x, 1.0);
             let fast = theo1_sums_many(&x, &ms);
             for (&m, &s) in ms.iter().zip(&fast) {
-                let (d, used) = theo1_sum(&p, m, true);
+                let (d, used) = theo1_sum(&p, m);
                 assert_eq!(used, n - m);
                 assert!((s - d).abs() <= 1e-10 * d.abs(), "m={m}: {s} vs {d}");
             }
