@@ -460,41 +460,49 @@ where
     for z in seqs {
         let mut p = [[0.0f64; LANES]; 2];
         let mut tr = [0.0f64; LANES];
-        let mut j0 = 0;
-        while j0 < r {
-            let len = BLOCK.min(r - j0);
-            let be = decay(&g.rate, j0 as f64);
-            for i in 0..len {
-                let j = j0 + i;
-                let (aj, bj) = (z(j), z(m - 1 - j));
-                let (pc, po) = (j % 2, 1 - j % 2);
-                for l in 0..LANES {
-                    p[pc][l] += aj * be[l] * t[i][l];
-                    tr[l] += bj * be[l] * t[i + 1][l] * p[po][l];
-                }
+        powers(g, t, r, |j, e, e1| {
+            let (aj, bj) = (z(j), z(m - 1 - j));
+            let (pc, po) = (j % 2, 1 - j % 2);
+            for l in 0..LANES {
+                p[pc][l] += aj * e[l];
+                tr[l] += bj * e1[l] * p[po][l];
             }
-            j0 += len;
-        }
+        });
         // F: v = j + m/2 with j = m/2 − 1 − i, weight e^{−λ(i+1)}.
         let mut fr = [0.0f64; LANES];
-        let mut i0 = 0;
-        while i0 < r {
-            let len = BLOCK.min(r - i0);
-            let be = decay(&g.rate, i0 as f64);
-            for i in 0..len {
-                let cj = z(m - 1 - (i0 + i));
-                for l in 0..LANES {
-                    fr[l] += cj * be[l] * t[i + 1][l] * (p[0][l] + p[1][l]);
-                }
+        powers(g, t, r, |i, _, e1| {
+            let c = z(m - 1 - i);
+            for l in 0..LANES {
+                fr[l] += c * e1[l] * (p[0][l] + p[1][l]);
             }
-            i0 += len;
-        }
+        });
         for l in 0..LANES {
             tri += 2.0 * g.weight[l] * tr[l];
             far += g.weight[l] * fr[l];
         }
     }
     (tri, far)
+}
+
+/// f(j, e^{−λj}, e^{−λ(j+1)}) for j = 0 … r − 1 and the group's lanes:
+/// the table `t` (e^{−λi}, i ≤ [`BLOCK`]) times e^{−λ·j0} taken afresh at
+/// each block start j0.
+#[inline]
+fn powers(g: &Group, t: &[V], r: usize, mut f: impl FnMut(usize, &V, &V)) {
+    let mut j0 = 0;
+    while j0 < r {
+        let len = BLOCK.min(r - j0);
+        let be = decay(&g.rate, j0 as f64);
+        for i in 0..len {
+            let (mut e, mut e1) = ([0.0; LANES], [0.0; LANES]);
+            for l in 0..LANES {
+                e[l] = be[l] * t[i][l];
+                e1[l] = be[l] * t[i + 1][l];
+            }
+            f(j0 + i, &e, &e1);
+        }
+        j0 += len;
+    }
 }
 
 #[cfg(test)]
