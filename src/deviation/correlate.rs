@@ -218,10 +218,14 @@ pub(crate) fn visit_autocorrelations(
 
 /// From this FFT size on, [`autocorrelation`] works in place on one buffer
 /// of S reals ([`autocorrelation_in_place`]) instead of the real FFT with
-/// its output, scratch and twiddle tables (about 36 bytes a point). The
-/// library's own unit tests lower it to 2^10, so that the Theo1 tests
-/// against the direct sums go through the in-place form.
-pub(crate) const IN_PLACE_FROM: usize = if cfg!(test) { 1 << 10 } else { BIG };
+/// its output, scratch and twiddle tables (about 36 bytes a point). 2^18
+/// until session 13; at 2^16 TheoH's working memory at 10^6 points went
+/// from 3.7–3.9× to 2.9× the record (its ratio's head and tail transforms
+/// of up to 2·10^5 points, two at a time, no longer 7 MB each), at the
+/// same time at 10^6 and 10^7. The library's own unit tests lower it to
+/// 2^10, so that the Theo1 tests against the direct sums go through the
+/// in-place form.
+pub(crate) const IN_PLACE_FROM: usize = if cfg!(test) { 1 << 10 } else { 1 << 16 };
 
 /// Columns gathered together in the column pass of the four-step FFT.
 const COLUMN_GROUP: usize = 16;

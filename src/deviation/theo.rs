@@ -120,7 +120,12 @@ fn block_sum(seg: &[f64], m: usize, n: usize) -> f64 {
 /// autocorrelation of [`super::correlate`]); blocks run side by side
 /// while their sum stays within [`BLOCK_MEMORY`] times the record's 8
 /// bytes a point, and a block that alone exceeds it runs alone. Blocks
-/// below 2^20 samples are not counted. A block holds no parallel work
+/// (len + m) below [`UNCOUNTED_BELOW`] samples or a quarter of the record,
+/// whichever is less, are not counted: one such block a thread holds at
+/// most about a quarter of the record's bytes. (Until session 13 the bound
+/// was 2^20 samples alone: at 10^6 points two whole-record blocks of the
+/// largest factors then ran side by side uncounted, 3.0–3.3× the record;
+/// with a quarter of the record, 2.2×.) A block holds no parallel work
 /// while it waits or runs (its transforms use plain threads), so waiting
 /// cannot deadlock.
 struct BlockMemory(usize);
@@ -128,6 +133,10 @@ struct BlockMemory(usize);
 /// Bytes of the blocks in flight.
 static IN_FLIGHT: (std::sync::Mutex<usize>, std::sync::Condvar) =
     (std::sync::Mutex::new(0), std::sync::Condvar::new());
+
+/// Blocks of fewer samples (len + m) than this are not counted in
+/// [`BlockMemory`] (nor than a quarter of the record).
+const UNCOUNTED_BELOW: usize = 1 << 20;
 
 /// The blocks in flight may hold this many times the record's 8 bytes a
 /// point (issue 18 asks at most 2.5× in all).
@@ -137,7 +146,7 @@ impl BlockMemory {
     /// Wait for room for a block of `len` samples at factor m of a record
     /// of `n` samples.
     fn take(len: usize, m: usize, n: usize) -> Self {
-        if len + m < 1 << 20 {
+        if len + m < UNCOUNTED_BELOW.min(n / 4) {
             return Self(0);
         }
         let cost = 8 * super::correlate::smooth_size(len + m);
