@@ -123,10 +123,11 @@ type V = [f64; LANES];
 ///   e^{−λ(j+1)}·P_{(j+1) mod 2}(j);
 /// - F, v = j + m/2 (u ≤ v − m/2 = j): z_{j+m/2}·e^{−λ(m/2−j)}·(P_0 + P_1)(j).
 ///
-/// A node whose rate λ makes λ·m/2 large (a "short" node) only weighs the
-/// pairs with small x: its running sums settle within CUT/λ samples, T's
-/// first half and F's early terms vanish, and F needs only the last CUT/λ
-/// values of j; those nodes run over those samples alone.
+/// A group of nodes whose slowest rate λ has λ·m/4 > [`CUT`] (a "short"
+/// group) only weighs the pairs with small x: its running sums settle
+/// within CUT/λ < m/4 samples, T's first half and F's early terms vanish,
+/// and F needs only the last CUT/λ values of j; such groups run over those
+/// samples alone.
 pub(crate) fn triangles_and_far_lags<Z1, Z2>(z1: &Z1, z2: &Z2, m: usize) -> (f64, f64)
 where
     Z1: Fn(usize) -> f64 + Sync,
