@@ -5,10 +5,9 @@
 //! (16 bytes a point), half of a complex FFT of the same size with its
 //! scratch. Sizes are the smallest even 2^a·3^b·5^c at or above what is
 //! needed (at most a few per cent above it, where a power of two can be
-//! nearly twice). Plans below [`BIG`] are kept per thread and reused; a
-//! plan of [`BIG`] points or more is made for the call and dropped after
-//! it (its twiddle tables are as large as its data), and such calls run one
-//! at a time across threads.
+//! nearly twice). The real FFT serves sizes below [`IN_PLACE_FROM`]; its
+//! plans are kept per thread and reused. From [`IN_PLACE_FROM`] on the
+//! autocorrelations are computed in place (the four-step form below).
 //!
 //! Zero padding makes the circular results linear: for a sequence of
 //! length L, the circular autocorrelation at size S ≥ L + ℓ equals the
@@ -20,12 +19,6 @@ use realfft::{RealFftPlanner, RealToComplex};
 use std::cell::RefCell;
 use std::collections::HashMap;
 use std::sync::Arc;
-
-/// FFT size from which a plan is made for one call and the call runs alone.
-pub(crate) const BIG: usize = 1 << 18;
-
-/// Held while an FFT of [`BIG`] points or more is computed.
-static BIG_LOCK: std::sync::Mutex<()> = std::sync::Mutex::new(());
 
 /// Points of plans a thread keeps (beyond them it gives back its largest
 /// plans first, [`plans`]): the cached twiddle tables stay below about 16
@@ -52,14 +45,13 @@ pub(crate) fn smooth_size(n: usize) -> usize {
 }
 
 /// The forward real FFT of one size (the inverses are forward transforms
-/// of even spectra, [`even_inverse`]), kept per thread below [`BIG`]
-/// points, made for the call from there on.
+/// of even spectra, [`even_inverse`]), kept per thread.
 #[derive(Clone)]
 struct Pair {
     fwd: Arc<dyn RealToComplex<f64>>,
 }
 
-/// The plans of one size, kept per thread below [`BIG`] points.
+/// The plans of one size, kept per thread (sizes below [`IN_PLACE_FROM`]).
 ///
 /// Each plan comes from a planner of its own: a planner that has planned
 /// other sizes may build the same size from different inner transforms,
@@ -69,9 +61,6 @@ fn plans(size: usize) -> Pair {
     let fresh = || Pair {
         fwd: RealFftPlanner::<f64>::new().plan_fft_forward(size),
     };
-    if size >= BIG {
-        return fresh();
-    }
     PLANS.with(|cell| {
         let mut cell = cell.borrow_mut();
         if let Some(pair) = cell.0.get(&size) {
@@ -134,7 +123,6 @@ pub(crate) fn autocorrelation(len: usize, y: impl Fn(usize) -> f64, lags: usize)
     if size >= IN_PLACE_FROM {
         return autocorrelation_in_place(len, y, lags, size);
     }
-    let _guard = (size >= BIG).then(|| BIG_LOCK.lock().unwrap_or_else(|e| e.into_inner()));
     let pair = plans(size);
     let mut buf = vec![0.0f64; size];
     for (t, b) in buf[..len].iter_mut().enumerate() {
@@ -167,7 +155,6 @@ pub(crate) fn autocorrelation_sum(
     lags: usize,
 ) -> Vec<f64> {
     let size = smooth_size(len + lags);
-    let _guard = (size >= BIG).then(|| BIG_LOCK.lock().unwrap_or_else(|e| e.into_inner()));
     let pair = plans(size);
     let mut buf = vec![0.0f64; size];
     let mut spec = pair.fwd.make_output_vec();
