@@ -784,8 +784,9 @@ fn ratio_stretch_sum(seg: &[f64], m: usize, n: usize) -> f64 {
 }
 
 /// A block of [`ratio_stretch_sum`] of len samples has len + m at most
-/// this (below the 2^20 from which [`BlockMemory`] counts a block), unless
-/// [`BLOCK_TERMS`]·m terms need more.
+/// this (below the [`UNCOUNTED_BELOW`] from which [`BlockMemory`] counts a
+/// block on records of 4·2^20 samples or more; on shorter records it counts
+/// from a quarter of the record), unless [`BLOCK_TERMS`]·m terms need more.
 const RATIO_BLOCK: usize = (1 << 20) - 1;
 
 /// The ratio of [`theobr_ratio_sampled_beside`] from its node values: Theo1
