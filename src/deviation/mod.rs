@@ -379,7 +379,16 @@ impl std::fmt::Display for Estimator {
 
 /// The estimate of `est` at factor m; TheoH, whose long τ share the
 /// record's ThêoBR ratio, comes from [`theo::theoh_many`] instead.
-fn estimate_at(est: Estimator, p: &gaps::Prepared, m: usize) -> Option<Estimate> {
+///
+/// `theo1_parts` carries the record-sized transforms shared by the Theo1
+/// factors asked together ([`theo::WholeParts`]); the value is the same
+/// without it.
+fn estimate_at(
+    est: Estimator,
+    p: &gaps::Prepared,
+    m: usize,
+    theo1_parts: Option<&theo::WholeParts>,
+) -> Option<Estimate> {
     if !in_range(est, p.x.len(), m) {
         return None;
     }
@@ -394,7 +403,7 @@ fn estimate_at(est: Estimator, p: &gaps::Prepared, m: usize) -> Option<Estimate>
         Estimator::Mtot => modtotal::mtot(p, m),
         Estimator::Ttot => modtotal::ttot(p, m),
         Estimator::Htot => modtotal::htot(p, m),
-        Estimator::Theo1 => theo::theo1(p, m),
+        Estimator::Theo1 => theo::theo1(p, m, theo1_parts),
         Estimator::Theoh => theo::theoh_many(p, &[m], |m| in_range(est, p.x.len(), m))[0],
         Estimator::Mtie => tie::mtie(p, m),
         Estimator::TieRms => tie::tierms(p, m),
@@ -434,12 +443,15 @@ pub fn compute(est: Estimator, x: &PhaseRecord, ms: &[usize]) -> Vec<Estimate> {
         // short ones fill the other threads around them, instead of the
         // longest being picked up last and run alone. Each value is
         // computed alone, whatever the order.
+        let theo1_parts = (est == Estimator::Theo1).then(|| {
+            theo::WholeParts::new(ms.iter().filter_map(|&m| theo::theo_factor(m, x.len())))
+        });
         let mut order: Vec<usize> = (0..ms.len()).collect();
         order.sort_by_key(|&i| std::cmp::Reverse(ms[i]));
         let got: Vec<Option<Estimate>> = order
             .par_iter()
             .with_max_len(1)
-            .map(|&i| estimate_at(est, &p, ms[i]))
+            .map(|&i| estimate_at(est, &p, ms[i], theo1_parts.as_ref()))
             .collect();
         let mut placed: Vec<Option<Estimate>> = vec![None; ms.len()];
         for (&i, e) in order.iter().zip(got) {

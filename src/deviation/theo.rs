@@ -42,9 +42,11 @@ pub(crate) fn theo_factor(m: usize, n_phase: usize) -> Option<usize> {
 ///   O(N·m/2) per τ.
 /// - from [`BLOCK_FORM_FROM`] on: the correlation form of [`theo1_block`]
 ///   on blocks of [`BLOCK_TERMS`]·m terms; O(N·log m) per τ, memory O(m)
-///   per thread.
-///
-pub(crate) fn theo1_sum(p: &Prepared, m: usize) -> (f64, usize) {
+///   per thread. A stretch that is one block ([`whole_block`]) takes its
+///   autocorrelation to the stretch's largest factor, shared through
+///   `shared` with the other factors asked together ([`WholeParts`]; None:
+///   a set of its own), the same value either way.
+pub(crate) fn theo1_sum(p: &Prepared, m: usize, shared: Option<&WholeParts>) -> (f64, usize) {
     let x = p.x;
     let n = x.len();
     if m < 2 || m % 2 == 1 || n < m + 1 {
@@ -70,18 +72,34 @@ pub(crate) fn theo1_sum(p: &Prepared, m: usize) -> (f64, usize) {
         // Blocks of at most BLOCK_TERMS·m terms (the first index of each block and its
         // number of terms), summed in record order.
         let per_block = BLOCK_TERMS * m;
-        let blocks: Vec<(usize, usize)> = stretches
+        // (first index, number of terms, whether the block is its whole
+        // stretch)
+        let blocks: Vec<(usize, usize, bool)> = stretches
             .iter()
             .flat_map(|&(a, b)| {
                 let terms = b - a - m;
                 (0..terms)
                     .step_by(per_block)
-                    .map(move |s| (a + s, per_block.min(terms - s)))
+                    .map(move |s| (a + s, per_block.min(terms - s), terms <= per_block))
             })
             .collect();
+        let local;
+        let shared = match shared {
+            Some(s) => s,
+            None => {
+                local = WholeParts::new([m]);
+                &local
+            }
+        };
         let sums: Vec<f64> = blocks
             .par_iter()
-            .map(|&(start, count)| block_sum(&x[start..start + count + m], m, n))
+            .map(|&(start, count, whole)| {
+                if whole && whole_block(count + m, m) {
+                    shared.whole_sum(x, start, count + m, m)
+                } else {
+                    block_sum(&x[start..start + count + m], m, n)
+                }
+            })
             .collect();
         return (sums.iter().sum(), used);
     }
@@ -146,10 +164,16 @@ impl BlockMemory {
     /// Wait for room for a block of `len` samples at factor m of a record
     /// of `n` samples.
     fn take(len: usize, m: usize, n: usize) -> Self {
-        if len + m < UNCOUNTED_BELOW.min(n / 4) {
+        Self::take_points(len + m, n)
+    }
+
+    /// Wait for room for a transform of smooth(`points`) reals on a
+    /// record of `n` samples.
+    fn take_points(points: usize, n: usize) -> Self {
+        if points < UNCOUNTED_BELOW.min(n / 4) {
             return Self(0);
         }
-        let cost = 8 * super::correlate::smooth_size(len + m);
+        let cost = 8 * super::correlate::smooth_size(points);
         let limit = (BLOCK_MEMORY * 8.0 * n as f64) as usize;
         let (lock, cv) = &IN_FLIGHT;
         let mut used = lock.lock().unwrap_or_else(|e| e.into_inner());
@@ -230,11 +254,23 @@ fn theo1_block(seg: &[f64], m: usize) -> f64 {
     let slope = (seg[len - 1] - seg[0]) / (len - 1) as f64;
     let y = |t: usize| (seg[t] - seg[0]) - slope * t as f64;
     // R(ℓ), ℓ = 0 … m, by one real FFT of the block (zero-padded).
-    let r = super::correlate::autocorrelation(len, y, m);
+    let r_sum = r_part(&super::correlate::autocorrelation(len, y, m), m);
     // The compensated total of squares: each windowed sum is then the
     // total less the samples outside it (m samples, not the n of the window).
     let total = square_sum(&y, 0, len, len, None);
-    block_sum_given(&y, len, r, m, Some(total))
+    block_sum_given(&y, len, r_sum, m, Some(total))
+}
+
+/// The R part of [`block_sum_given`]: Σ_{k=1}^{m/2} [2R(m−2k) + 2R(m) −
+/// 4R(k) − 4R(m−k)]/k as a compensated sum (hi, lo), R(ℓ) = `r[ℓ]`
+/// (ℓ ≤ m at least).
+fn r_part(r: &[f64], m: usize) -> (f64, f64) {
+    let mut acc = (0.0f64, 0.0f64);
+    for k in 1..=m / 2 {
+        let v = 2.0 * (r[m - 2 * k] + r[m]) - 4.0 * (r[k] + r[m - k]);
+        add_to(&mut acc, v / k as f64);
+    }
+    acc
 }
 
 /// Σ_{t=a}^{a+n−1} y_t² as a compensated sum (hi, lo). Given the
@@ -275,14 +311,16 @@ fn add_to(acc: &mut (f64, f64), v: f64) {
     acc.1 += e;
 }
 
-/// The rest of [`theo1_block`] once R(ℓ) (ℓ ≤ m at least; taken and
-/// given back first) of y (len = n + m samples, y_t = `y(t)`) is known.
+/// The rest of [`theo1_block`] once the R part `r_sum` ([`r_part`] of the
+/// autocorrelation R(ℓ), ℓ ≤ m, of y; len = n + m samples, y_t = `y(t)`)
+/// is known: R itself is given back before this runs, or shared by the
+/// factors that take a whole stretch ([`WholeParts`]).
 ///
 /// With Q(ℓ) = 2R(ℓ) − hd(ℓ) − tl(ℓ) the sum of [`theo1_block`] is
 /// Σ_k [S_k − 2Q(k) − 2Q(m−k) + 2R(m−2k) + 2R(m)]/k − 2·(triangles), S_k the
 /// four windowed sums of squares Σ_{i<n} y_{a+i}² (a = 0, k, m − k, m).
 /// Its R part Σ_k [2R(m−2k) + 2R(m) − 4R(k) − 4R(m−k)]/k is summed first
-/// and R is dropped; the head and tail autocorrelations hd, tl (ℓ < m) enter
+/// (the accumulator starts from it); the head and tail autocorrelations hd, tl (ℓ < m) enter
 /// only as Σ_ℓ w(ℓ)·(hd(ℓ) + tl(ℓ)), w(ℓ) = 1/ℓ up to m/2 and 1/(m − ℓ)
 /// from m/2 on (both at m/2: the k and m − k of each pair). The lags up to
 /// m/2 are reduced as they come
@@ -300,18 +338,13 @@ fn add_to(acc: &mut (f64, f64), v: f64) {
 fn block_sum_given(
     y: &(impl Fn(usize) -> f64 + Sync),
     len: usize,
-    r: Vec<f64>,
+    r_sum: (f64, f64),
     m: usize,
     total: Option<(f64, f64)>,
 ) -> f64 {
     let n = len - m;
     let half = m / 2;
-    let mut acc = (0.0f64, 0.0f64);
-    for k in 1..=half {
-        let v = 2.0 * (r[m - 2 * k] + r[m]) - 4.0 * (r[k] + r[m - k]);
-        add_to(&mut acc, v / k as f64);
-    }
-    drop(r);
+    let mut acc = r_sum;
     // + 2·Σ_k [hd(k) + tl(k) + hd(m−k) + tl(m−k)]/k: the near lags
     // ℓ = k ≤ m/2 from the head's and tail's autocorrelations (FFT), the
     // far lags ℓ = m − k ≥ m/2 beside the triangles below.
@@ -352,6 +385,102 @@ fn block_sum_given(
     (acc.0 + acc.1) - 2.0 * tri
 }
 
+/// True when a gap-free stretch of `len` samples is, at factor m, one
+/// block of the correlation form of [`theo1_sum`] (m ≥ [`BLOCK_FORM_FROM`],
+/// more than [`DIRECT_TERMS`] and at most [`BLOCK_TERMS`]·m terms): the
+/// block is then the whole stretch, the same samples at every such m.
+/// (Only for a whole stretch: a block of a longer stretch may have as many
+/// terms and is not shared.)
+fn whole_block(len: usize, m: usize) -> bool {
+    m >= BLOCK_FORM_FROM && len > m + DIRECT_TERMS && len - m <= BLOCK_TERMS * m
+}
+
+/// The stretch's R parts ([`r_part`]) at the factors of a [`WholeParts`]
+/// that take the stretch whole.
+type PartsOfStretch = Vec<(usize, (f64, f64))>;
+
+/// A stretch's parts, computed once by the first factor to need them.
+type PartsCell = std::sync::Arc<std::sync::OnceLock<PartsOfStretch>>;
+
+/// The R parts of the Theo1 factors asked together whose one block is a
+/// whole gap-free stretch ([`whole_block`]; at 10^8 points the four
+/// largest factors of the octave grid, m ≥ N/13).
+///
+/// Such a block's autocorrelation is taken to the stretch's largest
+/// factor, R(ℓ) for ℓ ≤ top = the largest even ≤ len − 1, whatever m: the
+/// same transform (size smooth(len + top)) of the same samples at every
+/// m. So the first factor to need it computes it once and reduces it to
+/// the R part of every factor of the set that takes the stretch whole
+/// ([`r_part`], O(m) each), and the others take their part from there
+/// instead of a transform of their own (four record-sized transforms of
+/// 1.1–1.9 N points become one of 2 N at 10^8). A factor's value is the
+/// same asked alone or with others, bit for bit: its part comes from the
+/// same R by the same sum either way.
+///
+/// A factor waiting for the part holds nothing: the one computing it takes
+/// its share of [`BlockMemory`] for the transform and gives it back before
+/// the parts are handed out, and a block takes its own share (its head and
+/// tail transforms) only once it has its part, so no thread holding a share
+/// waits for another.
+pub(crate) struct WholeParts {
+    /// The Theo1 factors asked (sorted, no repeats).
+    ms: Vec<usize>,
+    /// The parts by stretch (first sample, length), each computed once.
+    cells: std::sync::Mutex<std::collections::HashMap<(usize, usize), PartsCell>>,
+}
+
+impl WholeParts {
+    /// The shared parts of the Theo1 factors `ms` (even, as
+    /// [`theo_factor`] gives them).
+    pub(crate) fn new(ms: impl IntoIterator<Item = usize>) -> Self {
+        let mut ms: Vec<usize> = ms.into_iter().collect();
+        ms.sort_unstable();
+        ms.dedup();
+        Self {
+            ms,
+            cells: Default::default(),
+        }
+    }
+
+    /// The Theo1 double sum at factor m over the stretch x[a .. a + len]
+    /// taken as one block ([`whole_block`]); `x` is the record.
+    fn whole_sum(&self, x: &[f64], a: usize, len: usize, m: usize) -> f64 {
+        let seg = &x[a..a + len];
+        let slope = (seg[len - 1] - seg[0]) / (len - 1) as f64;
+        let y = |t: usize| (seg[t] - seg[0]) - slope * t as f64;
+        let top = (len - 1) & !1;
+        let r_of = || {
+            let _share = BlockMemory::take(len, top, x.len());
+            super::correlate::autocorrelation(len, y, top)
+        };
+        let cell = {
+            let mut cells = self.cells.lock().unwrap_or_else(|e| e.into_inner());
+            cells.entry((a, len)).or_default().clone()
+        };
+        let parts = cell.get_or_init(|| {
+            let r = r_of();
+            self.ms
+                .iter()
+                .copied()
+                .filter(|&k| whole_block(len, k))
+                .chain((!self.ms.contains(&m)).then_some(m))
+                .map(|k| (k, r_part(&r, k)))
+                .collect()
+        });
+        // A factor not in the set (the part was computed for another set's
+        // first factor) computes the same transform itself.
+        let r_sum = match parts.iter().find(|(k, _)| *k == m) {
+            Some(&(_, v)) => v,
+            None => r_part(&r_of(), m),
+        };
+        // The head and tail transforms (smooth(1.5·m) reals each, one at a
+        // time) and the one pass.
+        let _share = BlockMemory::take_points(m + m / 2, x.len());
+        let total = square_sum(&y, 0, len, len, None);
+        block_sum_given(&y, len, r_sum, m, Some(total))
+    }
+}
+
 /// Σ_{i<n} (x_{i+o0} − x_{i+o1} − x_{i+o2} + x_{i+o3})², vectorisable.
 fn sum_sq_4(x: &[f64], o: [usize; 4], n: usize) -> f64 {
     let c0 = &x[o[0]..o[0] + n];
@@ -379,15 +508,15 @@ fn sum_sq_4(x: &[f64], o: [usize; 4], n: usize) -> f64 {
 /// Theo1(τ) = 1/(0.75·(N−m)·(m·τ0)²) · Σ_i Σ_{k=1}^{m/2} (1/k)(x_i − x_{i+k} − x_{i+m−k} + x_{i+m})²,
 /// τ = 0.75·m·τ0 (NIST SP 1065 eq. 31). For white FM it equals the Allan
 /// variance at the same τ.
-pub(crate) fn theo1_at(p: &Prepared, m: usize) -> Option<Estimate> {
-    let (s, used) = theo1_sum(p, m);
+pub(crate) fn theo1_at(p: &Prepared, m: usize, shared: Option<&WholeParts>) -> Option<Estimate> {
+    let (s, used) = theo1_sum(p, m, shared);
     let mt = m as f64 * p.tau0;
     finish(0.75 * mt, m, s, 0.75 * mt * mt, used)
 }
 
 /// Theo1 deviation at the grid factor m (see the module notes).
-pub(crate) fn theo1(p: &Prepared, m: usize) -> Option<Estimate> {
-    theo1_at(p, theo_factor(m, p.x.len())?)
+pub(crate) fn theo1(p: &Prepared, m: usize, shared: Option<&WholeParts>) -> Option<Estimate> {
+    theo1_at(p, theo_factor(m, p.x.len())?, shared)
 }
 
 /// The ThêoBR bias ratio from every pair (NIST SP 1065 eq. 32, from memory):
@@ -402,7 +531,7 @@ pub(crate) fn theo1(p: &Prepared, m: usize) -> Option<Estimate> {
 /// record.
 fn theobr_ratio_all(p: &Prepared) -> Option<f64> {
     let nb = theobr_top(p.x.len())?;
-    let direct = |i: usize| theo1_at(p, 12 + 4 * i).map(|e| e.value * e.value);
+    let direct = |i: usize| theo1_at(p, 12 + 4 * i, None).map(|e| e.value * e.value);
     // The Theo1 values beyond m = DIRECT_UP_TO all at once from the
     // all-factor form, run on each gap-free stretch of the record (a Theo1
     // term is used only when its whole span x_i … x_{i+m} is clear, so the
@@ -586,7 +715,7 @@ impl<'a> WholeStretch<'a> {
     fn sum(&self, m: usize) -> f64 {
         let (seg, slope) = (self.seg, self.slope);
         let y = |t: usize| (seg[t] - seg[0]) - slope * t as f64;
-        block_sum_given(&y, seg.len(), self.r[..=m].to_vec(), m, Some(self.total))
+        block_sum_given(&y, seg.len(), r_part(&self.r, m), m, Some(self.total))
     }
 }
 
@@ -765,7 +894,7 @@ fn node_sums(
 /// which keeps the 1e-10 blocks of [`theo1_sum`].
 fn ratio_stretch_sum(seg: &[f64], m: usize, n: usize) -> f64 {
     if m < BLOCK_FORM_FROM {
-        return theo1_sum(&Prepared::new(seg, 1.0), m).0;
+        return theo1_sum(&Prepared::new(seg, 1.0), m, None).0;
     }
     let terms = seg.len() - m;
     let per_block = RATIO_BLOCK
@@ -960,7 +1089,14 @@ pub(crate) fn theoh_many(
     let (ratio, theo): (Option<f64>, Vec<(usize, Option<Estimate>)>) = if long_ms.is_empty() {
         (None, Vec::new())
     } else {
-        theobr_ratio_beside(p, || long_ms.iter().map(|&m| (m, theo1(p, m))).collect())
+        let n = p.x.len();
+        let shared = WholeParts::new(long_ms.iter().filter_map(|&m| theo_factor(m, n)));
+        theobr_ratio_beside(p, || {
+            long_ms
+                .iter()
+                .map(|&m| (m, theo1(p, m, Some(&shared))))
+                .collect()
+        })
     };
     ms.par_iter()
         .map(|&m| {
@@ -1030,8 +1166,63 @@ mod tests {
                     (got - want).abs() <= 1e-10 * want.abs(),
                     "m={m} n={n}: {got} vs {want}"
                 );
-                assert_eq!(theo1_sum(&p, m).1, n);
+                assert_eq!(theo1_sum(&p, m, None).1, n);
             }
+        }
+    }
+
+    /// Factors that take a whole gap-free stretch as their one block share
+    /// its autocorrelation ([`WholeParts`]): on random-walk FM with a
+    /// frequency offset and on white plus random-walk phase, each with a
+    /// gap (two stretches of 2,300 and 700 samples), every even factor from
+    /// 60 to the record's end asked together (in parallel) gives the sum it
+    /// gives asked alone, bit for bit, and the direct double sum (SP 1065
+    /// eq. 31) within 1e-10 relative.
+    #[test]
+    fn whole_stretch_factors_share_their_transform() {
+        let mut rng = ChaCha8Rng::seed_from_u64(17);
+        let (mut f, mut ph, mut w) = (0.0, 0.0, 0.0);
+        let len = 3001;
+        let a: Vec<f64> = (0..len)
+            .map(|_| {
+                f += rng.gen_range(-1.0..1.0) * 1e-12;
+                ph += f + 1e-9;
+                ph
+            })
+            .collect();
+        let b: Vec<f64> = (0..len)
+            .map(|i| {
+                w += rng.gen_range(-1.0..1.0) * 1e-9;
+                1e-6 + w + rng.gen_range(-1.0..1.0) * 3e-9 + 5e-11 * i as f64
+            })
+            .collect();
+        for mut x in [a, b] {
+            x[2300] = f64::NAN;
+            let p = Prepared::new(&x, 1.0);
+            let ms: Vec<usize> = (30..1500).map(|h| 2 * h).collect();
+            let shared = WholeParts::new(ms.iter().copied());
+            let together: Vec<(f64, usize)> = ms
+                .par_iter()
+                .map(|&m| theo1_sum(&p, m, Some(&shared)))
+                .collect();
+            let mut whole = 0;
+            for (&m, &(s, used)) in ms.iter().zip(&together) {
+                let alone = theo1_sum(&p, m, None);
+                assert_eq!((s.to_bits(), used), (alone.0.to_bits(), alone.1), "m={m}");
+                let mut want = 0.0;
+                for (lo, hi) in [(0usize, 2300usize), (2301, len)] {
+                    if hi - lo > m {
+                        let seg = &x[lo..hi];
+                        for k in 1..=m / 2 {
+                            want += sum_sq_4(seg, [0, k, m - k, m], hi - lo - m) / k as f64;
+                        }
+                        whole += usize::from(whole_block(hi - lo, m));
+                    }
+                }
+                assert!((s - want).abs() <= 1e-10 * want, "m={m}: {s} vs {want}");
+            }
+            // Both stretches are taken whole by many factors.
+            assert!(whole > 1000, "{whole}");
         }
     }
 
@@ -1063,7 +1254,7 @@ mod tests {
             let p = Prepared::new(&x, 1.0);
             let fast = theo1_sums_many(&x, &ms);
             for (&m, &s) in ms.iter().zip(&fast) {
-                let (d, used) = theo1_sum(&p, m);
+                let (d, used) = theo1_sum(&p, m, None);
                 assert_eq!(used, n - m);
                 assert!((s - d).abs() <= 1e-10 * d.abs(), "m={m}: {s} vs {d}");
             }
