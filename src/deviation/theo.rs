@@ -442,6 +442,36 @@ impl WholeParts {
         }
     }
 
+    /// The cell of the stretch x[a .. a + len].
+    fn cell(&self, a: usize, len: usize) -> PartsCell {
+        let mut cells = self.cells.lock().unwrap_or_else(|e| e.into_inner());
+        cells.entry((a, len)).or_default().clone()
+    }
+
+    /// The R parts of the set's factors that take a stretch of `len`
+    /// samples whole, and of `also` (the factor asking), from the
+    /// stretch's R (ℓ up to its largest factor).
+    fn parts_from(&self, len: usize, r: &[f64], also: Option<usize>) -> PartsOfStretch {
+        self.ms
+            .iter()
+            .copied()
+            .filter(|&k| whole_block(len, k))
+            .chain(also.filter(|m| !self.ms.contains(m)))
+            .map(|k| (k, r_part(r, k)))
+            .collect()
+    }
+
+    /// Hand the set the R of the stretch x[a .. a + len], ℓ up to its
+    /// largest factor, computed elsewhere (the ThêoBR ratio's
+    /// [`WholeStretch`], from the same samples by the same transform): the
+    /// set's factors that take the stretch whole take their parts from it.
+    fn offer(&self, a: usize, len: usize, r: &[f64]) {
+        if self.ms.iter().any(|&k| whole_block(len, k)) {
+            self.cell(a, len)
+                .get_or_init(|| self.parts_from(len, r, None));
+        }
+    }
+
     /// The Theo1 double sum at factor m over the stretch x[a .. a + len]
     /// taken as one block ([`whole_block`]); `x` is the record.
     fn whole_sum(&self, x: &[f64], a: usize, len: usize, m: usize) -> f64 {
@@ -453,20 +483,8 @@ impl WholeParts {
             let _share = BlockMemory::take(len, top, x.len());
             super::correlate::autocorrelation(len, y, top)
         };
-        let cell = {
-            let mut cells = self.cells.lock().unwrap_or_else(|e| e.into_inner());
-            cells.entry((a, len)).or_default().clone()
-        };
-        let parts = cell.get_or_init(|| {
-            let r = r_of();
-            self.ms
-                .iter()
-                .copied()
-                .filter(|&k| whole_block(len, k))
-                .chain((!self.ms.contains(&m)).then_some(m))
-                .map(|k| (k, r_part(&r, k)))
-                .collect()
-        });
+        let cell = self.cell(a, len);
+        let parts = cell.get_or_init(|| self.parts_from(len, &r_of(), Some(m)));
         // A factor not in the set (the part was computed for another set's
         // first factor) computes the same transform itself.
         let r_sum = match parts.iter().find(|(k, _)| *k == m) {
@@ -594,7 +612,8 @@ fn theobr_top(n: usize) -> Option<usize> {
 /// Up to n < [`SAMPLED_FROM`] (N below about 61,500) every pair is
 /// computed ([`theobr_ratio_all`]). From there on the mean is an
 /// approximation ([`theobr_ratio_sampled_beside`]): it is taken over a fixed
-/// subset of i, AVAR exact at each, Theo1 exact (rounding below 1e-6
+/// subset of i, AVAR at each (rounding below 1e-6 relative,
+/// [`node_avar`]), Theo1 exact (rounding below 1e-6
 /// relative) at a sparser subset of those and interpolated in log–log
 /// between them, and the mean of all n + 1 pairs estimated from the subset
 /// by linear interpolation in i. Its difference from the mean of all pairs
@@ -609,10 +628,11 @@ fn theobr_top(n: usize) -> Option<usize> {
 /// its result is returned with the ratio, which does not depend on it.
 fn theobr_ratio_beside<T: Send>(
     p: &Prepared,
+    parts: Option<&WholeParts>,
     beside: impl FnOnce() -> T + Send,
 ) -> (Option<f64>, T) {
     if theobr_ratio_is_sampled(p.x.len()) {
-        theobr_ratio_sampled_beside(p, THEO1_DENSITY, beside)
+        theobr_ratio_sampled_beside(p, THEO1_DENSITY, parts, beside)
     } else {
         rayon::join(|| theobr_ratio_all(p), beside)
     }
@@ -695,11 +715,29 @@ struct WholeStretch<'a> {
 }
 
 impl<'a> WholeStretch<'a> {
-    fn new(seg: &'a [f64], top: usize) -> Self {
+    /// The stretch x[a .. b] of the record `x`, R kept for ℓ ≤ `keep`
+    /// (Theo1 factors up to it, AVAR factors up to half of it).
+    ///
+    /// R is computed to the stretch's largest factor (the largest even
+    /// ≤ len − 1), whatever `keep`: the transform of the grid's factors that
+    /// take the stretch whole ([`WholeParts`]), which take their parts from
+    /// it when `parts` is given; then R is cut to ℓ ≤ keep. (So the ratio's
+    /// value never depends on whether the grid shares its transform.)
+    fn new(x: &'a [f64], a: usize, b: usize, keep: usize, parts: Option<&WholeParts>) -> Self {
+        let seg = &x[a..b];
         let len = seg.len();
         let slope = (seg[len - 1] - seg[0]) / (len - 1) as f64;
         let y = |t: usize| (seg[t] - seg[0]) - slope * t as f64;
-        let r = super::correlate::autocorrelation(len, y, top);
+        let reach = (len - 1) & !1;
+        let mut r = {
+            let _share = BlockMemory::take(len, reach, x.len());
+            super::correlate::autocorrelation(len, y, reach)
+        };
+        if let Some(parts) = parts {
+            parts.offer(a, len, &r);
+        }
+        r.truncate(keep + 1);
+        r.shrink_to_fit();
         let total = square_sum(&y, 0, len, len, None);
         Self {
             seg,
@@ -709,13 +747,46 @@ impl<'a> WholeStretch<'a> {
         }
     }
 
-    /// The Theo1 double sum at factor m (even, m < len, m ≤ top) over all
+    /// The Theo1 double sum at factor m (even, m < len, m ≤ keep) over all
     /// len − m terms of the stretch, as [`theo1_block`] with one block.
     /// O(m·log m) given the shared R and the total of squares.
     fn sum(&self, m: usize) -> f64 {
         let (seg, slope) = (self.seg, self.slope);
         let y = |t: usize| (seg[t] - seg[0]) - slope * t as f64;
         block_sum_given(&y, seg.len(), r_part(&self.r, m), m, Some(self.total))
+    }
+
+    /// The overlapping Allan sum Σ_{i<T} (y_{i+2m} − 2y_{i+m} + y_i)² over
+    /// the T = len − 2m terms of the stretch (2m ≤ keep, 2m < len), from R
+    /// in O(m): it equals the same sum of x (a second difference does not
+    /// see the line taken out), and expanded it is
+    /// A_0 + 4A_1 + A_2 − 4C_1 − 4C_2 + 2C_3, with the windowed sums of
+    /// squares A_j = Σ_{i<T} y_{i+jm}² and the lagged products
+    /// C_1 = Σ_{i<T} y_i·y_{i+m} = R(m) − Σ_{j<m} y_{T+j}·y_{T+j+m},
+    /// C_2 = Σ_{i<T} y_{i+m}·y_{i+2m} = R(m) − Σ_{j<m} y_j·y_{j+m},
+    /// C_3 = Σ_{i<T} y_i·y_{i+2m} = R(2m). Each A_j is the total Σy² less
+    /// the 2m samples outside its window, so with a_j = y_j, b_j = y_{m+j},
+    /// c_j = y_{len−m+j}, d_j = y_{T+j} (j < m) the sum is
+    /// 6·Σy² − 8R(m) + 2R(2m) + Σ_{j<m} (4a·b + 4c·d − 5a² − b² − 5c² − d²)
+    /// (analytic). The total is compensated and each j's part is added to
+    /// one compensated accumulator; the rounding is that of the
+    /// single-block Theo1 form on the same stretch (the products of y over
+    /// the stretch against the m-scale differences; tested to 1e-6
+    /// relative against the direct sum up to [`WHOLE_UP_TO`]·m).
+    fn avar_sum(&self, m: usize) -> f64 {
+        let (seg, slope) = (self.seg, self.slope);
+        let y = |t: usize| (seg[t] - seg[0]) - slope * t as f64;
+        let len = seg.len();
+        let n = len - 2 * m;
+        let mut acc = (6.0 * self.total.0, 6.0 * self.total.1);
+        add_to(&mut acc, -8.0 * self.r[m]);
+        add_to(&mut acc, 2.0 * self.r[2 * m]);
+        for j in 0..m {
+            let (a, b, c, d) = (y(j), y(m + j), y(len - m + j), y(n + j));
+            let v = 4.0 * (a * b + c * d) - (5.0 * (a * a + c * c) + (b * b + d * d));
+            add_to(&mut acc, v);
+        }
+        acc.0 + acc.1
     }
 }
 
@@ -731,7 +802,7 @@ const WHOLE_UP_TO: usize = 400;
 /// alone; the tests' handle).
 #[cfg(test)]
 fn theobr_ratio_sampled_with(p: &Prepared, density: usize) -> Option<f64> {
-    theobr_ratio_sampled_beside(p, density, || ()).0
+    theobr_ratio_sampled_beside(p, density, None, || ()).0
 }
 
 /// The ThêoBR ratio from the subset of pairs [`theobr_nodes`] (the
@@ -744,7 +815,7 @@ fn theobr_ratio_sampled(p: &Prepared) -> Option<f64> {
 /// The Theo1 values of the sampled ThêoBR ratio are computed exactly at
 /// the nodes of [`theo1_nodes`] with this density (a step of at most
 /// ⌈i/16⌉, about 6 % of τ, above the floor) and interpolated between them;
-/// AVAR is computed exactly at every node of [`theobr_nodes`].
+/// AVAR is computed at every node of [`theobr_nodes`] ([`node_avar`]).
 const THEO1_DENSITY: usize = 16;
 
 /// The nodes of [`theobr_nodes`] (`nodes`, for n = `nb`) at which the
@@ -776,7 +847,7 @@ fn interpolate_theo1((ma, ta): (usize, f64), (mb, tb): (usize, f64), m: usize) -
 }
 
 /// The ThêoBR ratio from the subset of pairs [`theobr_nodes`]: at each
-/// node i, AVAR(9+3i) exact; Theo1(12+4i) exact at the nodes of
+/// node i, AVAR(9+3i) ([`node_avar`]); Theo1(12+4i) exact at the nodes of
 /// [`theo1_nodes`] (density `density`; by the single-block correlation
 /// form on stretches up to [`WHOLE_UP_TO`]·m long, else by
 /// [`theo1_sum`]) and, between two of them, interpolated linearly in
@@ -788,7 +859,7 @@ fn interpolate_theo1((ma, ta): (usize, f64), (mb, tb): (usize, f64), m: usize) -
 /// Why Theo1 sparser than AVAR: an estimate of Theo1 averages over every
 /// span k ≤ m/2 and moves smoothly with m, while AVAR at nearby m
 /// fluctuates more; and Theo1 costs O(m·log m) a node (its head and tail
-/// autocorrelations and the one pass of the triangle sums), AVAR O(N). The difference from the
+/// autocorrelations and the one pass of the triangle sums), AVAR O(m) ([`node_avar`]). The difference from the
 /// mean of all pairs is measured in the tests (seeded Monte Carlo, see
 /// [`theobr_ratio_beside`]).
 ///
@@ -801,6 +872,7 @@ fn interpolate_theo1((ma, ta): (usize, f64), (mb, tb): (usize, f64), m: usize) -
 fn theobr_ratio_sampled_beside<T: Send>(
     p: &Prepared,
     density: usize,
+    parts: Option<&WholeParts>,
     beside: impl FnOnce() -> T + Send,
 ) -> (Option<f64>, T) {
     let Some(nb) = theobr_top(p.x.len()) else {
@@ -823,8 +895,16 @@ fn theobr_ratio_sampled_beside<T: Send>(
                 .copied()
                 .filter(|&m| m < len && len <= WHOLE_UP_TO * m)
                 .max()?;
-            let _share = BlockMemory::take(len, top, p.x.len());
-            Some(WholeStretch::new(&p.x[a..b], top))
+            // R also serves the AVAR nodes that take the stretch by
+            // [`WholeStretch::avar_sum`] (lags up to 2m).
+            let avar_top = nodes
+                .iter()
+                .map(|&i| 9 + 3 * i)
+                .filter(|&m| 2 * m < len && len <= WHOLE_UP_TO * m)
+                .max()
+                .unwrap_or(0);
+            let keep = top.max(2 * avar_top);
+            Some(WholeStretch::new(p.x, a, b, keep, parts))
         })
         .collect();
     let ((theo, avar), other) =
@@ -868,12 +948,42 @@ fn node_sums(
             (t > 0.0).then_some(t)
         })
         .collect();
-    drop(whole);
     let avar: Vec<Option<f64>> = nodes
         .par_iter()
-        .map(|&i| oadev(p, 9 + 3 * i).map(|e| e.value * e.value))
+        .map(|&i| node_avar(p, stretches, &whole, 9 + 3 * i))
         .collect();
     (theo, avar)
+}
+
+/// The overlapping Allan variance at factor m (NIST SP 1065 eq. 11) over
+/// the gap-free `stretches` of the record (a term is used when its span is
+/// clear, so the record's sum is the sum over its stretches): on a stretch
+/// with its [`WholeStretch`] and at most [`WHOLE_UP_TO`]·m long, the
+/// correlation form [`WholeStretch::avar_sum`] (O(m)); on the others the
+/// direct sum (O(len)). None when no term is clear.
+fn node_avar(
+    p: &Prepared,
+    stretches: &[(usize, usize)],
+    whole: &[Option<WholeStretch>],
+    m: usize,
+) -> Option<f64> {
+    let (mut s, mut used) = (0.0, 0usize);
+    for (&(lo, hi), w) in stretches.iter().zip(whole) {
+        let len = hi - lo;
+        if len <= 2 * m {
+            continue;
+        }
+        used += len - 2 * m;
+        s += match w {
+            Some(w) if len <= WHOLE_UP_TO * m && w.r.len() > 2 * m => w.avar_sum(m),
+            _ => {
+                let none = super::gaps::Gaps::None;
+                super::sums::sum_sq(&p.x[lo..hi], &none, m, 0, len - 2 * m, &super::sums::D2).0
+            }
+        };
+    }
+    let tau = m as f64 * p.tau0;
+    (used > 0).then(|| s / (2.0 * tau * tau * used as f64))
 }
 
 /// The Theo1 double sum at factor m over a gap-free stretch `seg` longer
@@ -1091,7 +1201,7 @@ pub(crate) fn theoh_many(
     } else {
         let n = p.x.len();
         let shared = WholeParts::new(long_ms.iter().filter_map(|&m| theo_factor(m, n)));
-        theobr_ratio_beside(p, || {
+        theobr_ratio_beside(p, Some(&shared), || {
             long_ms
                 .iter()
                 .map(|&m| (m, theo1(p, m, Some(&shared))))
@@ -1276,7 +1386,7 @@ mod tests {
             for (i, v) in x.iter_mut().enumerate() {
                 *v += 1e-3 + 1e-9 * i as f64;
             }
-            let w = WholeStretch::new(&x, n - 2);
+            let w = WholeStretch::new(&x, 0, x.len(), n - 2, None);
             for m in [12usize, 14, 50, 96, 256, 1000, 4000, n - 2] {
                 let mut want = 0.0;
                 for k in 1..=m / 2 {
@@ -1290,6 +1400,68 @@ mod tests {
             }
         }
         eprintln!("single-block form, worst relative rounding {worst:e}");
+    }
+
+    /// The overlapping Allan sum of the ratio's nodes by the correlation
+    /// form ([`WholeStretch::avar_sum`]) equals the direct sum (NIST SP 1065
+    /// eq. 11) within 1e-6 relative for stretches up to [`WHOLE_UP_TO`]·m
+    /// (the single-block form's bound), on seeded WPM, WFM and RWFM with an
+    /// offset and a frequency offset (analytic identity; rounding measured
+    /// and printed); and the node AVAR with a gap is the stretches' sums
+    /// over their terms.
+    #[test]
+    fn node_avar_equals_the_direct_sum() {
+        let mut rng = ChaCha8Rng::seed_from_u64(29);
+        let n = 4800;
+        let mut worst = 0.0f64;
+        for alpha in [2, 0, -2] {
+            let mut x = crate::simulate::power_law_phase(alpha, 1e-20, 1.0, n, &mut rng);
+            for (i, v) in x.iter_mut().enumerate() {
+                *v += 1e-3 + 1e-9 * i as f64;
+            }
+            let w = WholeStretch::new(&x, 0, n, n - 1, None);
+            let direct = |x: &[f64], m: usize| -> f64 {
+                (0..x.len() - 2 * m)
+                    .map(|i| (x[i + 2 * m] - 2.0 * x[i + m] + x[i]).powi(2))
+                    .sum()
+            };
+            for m in [12usize, 13, 50, 97, 500, 1200, n / 2 - 1] {
+                let want = direct(&x, m);
+                let got = w.avar_sum(m);
+                let rel = (got - want).abs() / want;
+                worst = worst.max(rel);
+                assert!(
+                    rel <= 1e-6,
+                    "alpha={alpha} m={m}: {got} vs {want} ({rel:e})"
+                );
+            }
+            // With a gap: stretches of 1,799 and 3,000 samples, the first
+            // without a whole-stretch form (direct), the second with one.
+            let mut g = x.clone();
+            g[1799] = f64::NAN;
+            let p = Prepared::new(&g, 2.0);
+            let stretches = [(0usize, 1799usize), (1800, n)];
+            let whole = [None, Some(WholeStretch::new(&g, 1800, n, 1498, None))];
+            for m in [12usize, 300, 749, 1000] {
+                let got = node_avar(&p, &stretches, &whole, m).unwrap();
+                let (mut s, mut used) = (0.0, 0);
+                for &(lo, hi) in &stretches {
+                    if hi - lo > 2 * m {
+                        s += direct(&g[lo..hi], m);
+                        used += hi - lo - 2 * m;
+                    }
+                }
+                let want = s / (2.0 * (2.0 * m as f64).powi(2) * used as f64);
+                let rel = (got - want).abs() / want;
+                assert!(
+                    rel <= 1e-6,
+                    "gap alpha={alpha} m={m}: {got} vs {want} ({rel:e})"
+                );
+                let e = oadev(&p, m).unwrap();
+                assert_eq!(e.terms, used);
+            }
+        }
+        eprintln!("node AVAR by the correlation form, worst relative rounding {worst:e}");
     }
 
     /// The ThêoBR ratio's long-block Theo1 sums (`ratio_stretch_sum`:
@@ -1454,6 +1626,46 @@ mod tests {
         }
     }
 
+    /// TheoH's long τ on a record whose ratio is the subset mean (N =
+    /// 70,000, seeded WFM plus RWFM, with and without a gap): the ratio's
+    /// transform of each stretch serves the grid's factors that take the
+    /// stretch whole ([`WholeParts::offer`]), and every ThêoBR point is
+    /// still sqrt(R·Theo1) with R the ratio alone and Theo1 the factor
+    /// alone, bit for bit.
+    #[test]
+    fn theoh_takes_what_each_part_gives_alone() {
+        let mut rng = ChaCha8Rng::seed_from_u64(23);
+        let n = 70_000;
+        let white = crate::simulate::power_law_phase(0, 1e-20, 1.0, n, &mut rng);
+        let walk = crate::simulate::power_law_phase(-2, 1e-26, 1.0, n, &mut rng);
+        let mut x: Vec<f64> = white.iter().zip(&walk).map(|(a, b)| a + b).collect();
+        for gap in [false, true] {
+            if gap {
+                x[20_000] = f64::NAN;
+            }
+            let p = Prepared::new(&x, 1.0);
+            let ms: Vec<usize> = (13..17).map(|k| 1usize << k).chain([n - 1]).collect();
+            let got = theoh_many(&p, &ms, |_| true);
+            let ratio = theobr_ratio_beside(&p, None, || ()).0.unwrap();
+            let mut shared = 0;
+            for (&m, e) in ms.iter().zip(&got) {
+                let alone = theo1(&p, m, None);
+                assert_eq!(e.is_some(), alone.is_some(), "m={m}");
+                let (Some(e), Some(alone)) = (e, alone) else {
+                    continue;
+                };
+                assert_eq!(
+                    e.value.to_bits(),
+                    (alone.value * ratio.sqrt()).to_bits(),
+                    "m={m}"
+                );
+                let mp = theo_factor(m, n).unwrap();
+                shared += usize::from(whole_block(if gap { n - 20_001 } else { n }, mp));
+            }
+            assert!(shared >= 2, "{shared}");
+        }
+    }
+
     /// Below [`SAMPLED_FROM`] the ratio is the mean of all pairs; from
     /// there on, the subset mean (the switch depends on N alone).
     #[test]
@@ -1461,7 +1673,7 @@ mod tests {
         let mut rng = ChaCha8Rng::seed_from_u64(4);
         let x = crate::simulate::power_law_phase(0, 1e-20, 1.0, 3000, &mut rng);
         let p = Prepared::new(&x, 1.0);
-        let (r, beside) = theobr_ratio_beside(&p, || 7);
+        let (r, beside) = theobr_ratio_beside(&p, None, || 7);
         assert_eq!((r, beside), (theobr_ratio_all(&p), 7));
         let n = 30 * (SAMPLED_FROM + 3) + 3;
         assert_eq!(theobr_top(n), Some(SAMPLED_FROM));
