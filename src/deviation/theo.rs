@@ -1232,15 +1232,12 @@ mod tests {
     use rand::{Rng, SeedableRng};
     use rand_chacha::ChaCha8Rng;
 
-    /// The block correlation form equals the direct double sum (SP 1065
-    /// eq. 31) to 1e-10 relative on white + random-walk phase and on
-    /// random-walk FM with a frequency offset, for blocks of n terms of
-    /// several shapes (n < m, n = m, n = 3m, n = [`BLOCK_TERMS`]·m).
-    #[test]
-    fn block_form_equals_the_direct_sum() {
-        let mut rng = ChaCha8Rng::seed_from_u64(9);
+    /// Two seeded records of `len` samples: white plus random-walk phase
+    /// with an offset and a frequency offset, and random-walk FM with a
+    /// frequency offset.
+    fn two_records(seed: u64, len: usize) -> [Vec<f64>; 2] {
+        let mut rng = ChaCha8Rng::seed_from_u64(seed);
         let (mut f, mut ph, mut w) = (0.0, 0.0, 0.0);
-        let len = 1400;
         let a: Vec<f64> = (0..len)
             .map(|i| {
                 w += rng.gen_range(-1.0..1.0) * 1e-9;
@@ -1254,7 +1251,16 @@ mod tests {
                 ph
             })
             .collect();
-        for x in [a, b] {
+        [a, b]
+    }
+
+    /// The block correlation form equals the direct double sum (SP 1065
+    /// eq. 31) to 1e-10 relative on white + random-walk phase and on
+    /// random-walk FM with a frequency offset, for blocks of n terms of
+    /// several shapes (n < m, n = m, n = 3m, n = [`BLOCK_TERMS`]·m).
+    #[test]
+    fn block_form_equals_the_direct_sum() {
+        for x in two_records(9, 1400) {
             for (m, n) in [
                 (200usize, 50usize),
                 (256, 256),
@@ -1282,31 +1288,16 @@ mod tests {
     }
 
     /// Factors that take a whole gap-free stretch as their one block share
-    /// its autocorrelation ([`WholeParts`]): on random-walk FM with a
-    /// frequency offset and on white plus random-walk phase, each with a
+    /// its autocorrelation ([`WholeParts`]): on white plus random-walk phase
+    /// and on random-walk FM, each with a frequency offset and a
     /// gap (two stretches of 2,300 and 700 samples), every even factor from
     /// 60 to the record's end asked together (in parallel) gives the sum it
     /// gives asked alone, bit for bit, and the direct double sum (SP 1065
     /// eq. 31) within 1e-10 relative.
     #[test]
     fn whole_stretch_factors_share_their_transform() {
-        let mut rng = ChaCha8Rng::seed_from_u64(17);
-        let (mut f, mut ph, mut w) = (0.0, 0.0, 0.0);
         let len = 3001;
-        let a: Vec<f64> = (0..len)
-            .map(|_| {
-                f += rng.gen_range(-1.0..1.0) * 1e-12;
-                ph += f + 1e-9;
-                ph
-            })
-            .collect();
-        let b: Vec<f64> = (0..len)
-            .map(|i| {
-                w += rng.gen_range(-1.0..1.0) * 1e-9;
-                1e-6 + w + rng.gen_range(-1.0..1.0) * 3e-9 + 5e-11 * i as f64
-            })
-            .collect();
-        for mut x in [a, b] {
+        for mut x in two_records(17, len) {
             x[2300] = f64::NAN;
             let p = Prepared::new(&x, 1.0);
             let ms: Vec<usize> = (30..1500).map(|h| 2 * h).collect();
