@@ -251,14 +251,58 @@ pub(crate) const BLOCK_FORM_FROM: usize = 64;
 /// included).
 fn theo1_block(seg: &[f64], m: usize) -> f64 {
     let len = seg.len();
-    let slope = (seg[len - 1] - seg[0]) / (len - 1) as f64;
-    let y = |t: usize| (seg[t] - seg[0]) - slope * t as f64;
+    let d = Detrended::new(seg);
+    let y = |t: usize| d.at(t);
     // R(ℓ), ℓ = 0 … m, by one real FFT of the block (zero-padded).
     let r_sum = r_part(&super::correlate::autocorrelation(len, y, m), m);
     // The compensated total of squares: each windowed sum is then the
     // total less the samples outside it (m samples, not the n of the window).
     let total = square_sum(&y, 0, len, len, None);
     block_sum_given(&y, len, r_sum, m, Some(total))
+}
+
+/// A gap-free stretch (or block) s less the straight line through its end
+/// points, read where it is used: y_t = (s_t − s_0) − b·t, b = (s_{len−1} −
+/// s_0)/(len − 1). Theo1 and the Allan variance are exactly invariant to
+/// a + b·t; taking the line out keeps the correlation forms' products
+/// small. One definition, so that every transform of a stretch reads the
+/// same values bit for bit.
+#[derive(Clone, Copy)]
+struct Detrended<'a> {
+    seg: &'a [f64],
+    slope: f64,
+}
+
+impl<'a> Detrended<'a> {
+    /// The stretch `seg` (at least two samples) less its end-point line.
+    fn new(seg: &'a [f64]) -> Self {
+        let len = seg.len();
+        let slope = (seg[len - 1] - seg[0]) / (len - 1) as f64;
+        Self { seg, slope }
+    }
+
+    /// y_t.
+    #[inline]
+    fn at(&self, t: usize) -> f64 {
+        (self.seg[t] - self.seg[0]) - self.slope * t as f64
+    }
+}
+
+/// The autocorrelation R(ℓ) of a whole stretch `d` to its largest factor
+/// (ℓ ≤ the largest even ≤ len − 1, whatever factor asks: the same
+/// transform, smooth(len + top) points, every time), counted in
+/// [`BlockMemory`] for a record of `n` samples, and the compensated total
+/// Σ y². The one computation of [`WholeParts`] and [`WholeStretch`], so
+/// that the ratio can hand its transform to the grid.
+fn whole_transform(d: Detrended, n: usize) -> (Vec<f64>, (f64, f64)) {
+    let len = d.seg.len();
+    let y = |t: usize| d.at(t);
+    let top = (len - 1) & !1;
+    let r = {
+        let _share = BlockMemory::take(len, top, n);
+        super::correlate::autocorrelation(len, y, top)
+    };
+    (r, square_sum(&y, 0, len, len, None))
 }
 
 /// The R part of [`block_sum_given`]: Σ_{k=1}^{m/2} [2R(m−2k) + 2R(m) −
@@ -395,9 +439,13 @@ fn whole_block(len: usize, m: usize) -> bool {
     m >= BLOCK_FORM_FROM && len > m + DIRECT_TERMS && len - m <= BLOCK_TERMS * m
 }
 
-/// The stretch's R parts ([`r_part`]) at the factors of a [`WholeParts`]
-/// that take the stretch whole.
-type PartsOfStretch = Vec<(usize, (f64, f64))>;
+/// What the factors of a [`WholeParts`] that take a stretch whole share:
+/// the stretch's compensated total Σ y² and each factor's R part
+/// ([`r_part`]).
+struct PartsOfStretch {
+    total: (f64, f64),
+    parts: Vec<(usize, (f64, f64))>,
+}
 
 /// A stretch's parts, computed once by the first factor to need them.
 type PartsCell = std::sync::Arc<std::sync::OnceLock<PartsOfStretch>>;
@@ -448,54 +496,49 @@ impl WholeParts {
         cells.entry((a, len)).or_default().clone()
     }
 
-    /// The R parts of the set's factors that take a stretch of `len`
-    /// samples whole, and of `also` (the factor asking), from the
-    /// stretch's R (ℓ up to its largest factor).
-    fn parts_from(&self, len: usize, r: &[f64], also: Option<usize>) -> PartsOfStretch {
-        self.ms
+    /// The parts of the set's factors that take a stretch of `len` samples
+    /// whole, from the stretch's [`whole_transform`] (R to its largest
+    /// factor, and the total of squares).
+    fn parts_from(&self, len: usize, (r, total): (&[f64], (f64, f64))) -> PartsOfStretch {
+        let parts = self
+            .ms
             .iter()
             .copied()
             .filter(|&k| whole_block(len, k))
-            .chain(also.filter(|m| !self.ms.contains(m)))
             .map(|k| (k, r_part(r, k)))
-            .collect()
+            .collect();
+        PartsOfStretch { total, parts }
     }
 
-    /// Hand the set the R of the stretch x[a .. a + len], ℓ up to its
-    /// largest factor, computed elsewhere (the ThêoBR ratio's
-    /// [`WholeStretch`], from the same samples by the same transform): the
-    /// set's factors that take the stretch whole take their parts from it.
-    fn offer(&self, a: usize, len: usize, r: &[f64]) {
+    /// Hand the set the [`whole_transform`] of the stretch x[a .. a + len]
+    /// computed elsewhere (the ThêoBR ratio's [`WholeStretch`]): the set's
+    /// factors that take the stretch whole take their parts from it.
+    fn offer(&self, a: usize, len: usize, r: &[f64], total: (f64, f64)) {
         if self.ms.iter().any(|&k| whole_block(len, k)) {
             self.cell(a, len)
-                .get_or_init(|| self.parts_from(len, r, None));
+                .get_or_init(|| self.parts_from(len, (r, total)));
         }
     }
 
     /// The Theo1 double sum at factor m over the stretch x[a .. a + len]
     /// taken as one block ([`whole_block`]); `x` is the record.
     fn whole_sum(&self, x: &[f64], a: usize, len: usize, m: usize) -> f64 {
-        let seg = &x[a..a + len];
-        let slope = (seg[len - 1] - seg[0]) / (len - 1) as f64;
-        let y = |t: usize| (seg[t] - seg[0]) - slope * t as f64;
-        let top = (len - 1) & !1;
-        let r_of = || {
-            let _share = BlockMemory::take(len, top, x.len());
-            super::correlate::autocorrelation(len, y, top)
-        };
+        let d = Detrended::new(&x[a..a + len]);
         let cell = self.cell(a, len);
-        let parts = cell.get_or_init(|| self.parts_from(len, &r_of(), Some(m)));
-        // A factor not in the set (the part was computed for another set's
-        // first factor) computes the same transform itself.
-        let r_sum = match parts.iter().find(|(k, _)| *k == m) {
+        let shared = cell.get_or_init(|| {
+            let (r, total) = whole_transform(d, x.len());
+            self.parts_from(len, (&r, total))
+        });
+        // A factor outside the set (never, as the callers build their sets)
+        // computes the same transform itself.
+        let r_sum = match shared.parts.iter().find(|(k, _)| *k == m) {
             Some(&(_, v)) => v,
-            None => r_part(&r_of(), m),
+            None => r_part(&whole_transform(d, x.len()).0, m),
         };
         // The head and tail transforms (smooth(1.5·m) reals each, one at a
         // time) and the one pass.
         let _share = BlockMemory::take_points(m + m / 2, x.len());
-        let total = square_sum(&y, 0, len, len, None);
-        block_sum_given(&y, len, r_sum, m, Some(total))
+        block_sum_given(&|t| d.at(t), len, r_sum, m, Some(shared.total))
     }
 }
 
@@ -708,8 +751,7 @@ fn interpolation_weights(g: &[usize]) -> Vec<f64> {
 /// its end points, computed where it is read), R(ℓ) of y for ℓ ≤ top (one
 /// FFT) and the compensated total Σ y².
 struct WholeStretch<'a> {
-    seg: &'a [f64],
-    slope: f64,
+    y: Detrended<'a>,
     r: Vec<f64>,
     total: (f64, f64),
 }
@@ -724,36 +766,23 @@ impl<'a> WholeStretch<'a> {
     /// it when `parts` is given; then R is cut to ℓ ≤ keep. (So the ratio's
     /// value never depends on whether the grid shares its transform.)
     fn new(x: &'a [f64], a: usize, b: usize, keep: usize, parts: Option<&WholeParts>) -> Self {
-        let seg = &x[a..b];
-        let len = seg.len();
-        let slope = (seg[len - 1] - seg[0]) / (len - 1) as f64;
-        let y = |t: usize| (seg[t] - seg[0]) - slope * t as f64;
-        let reach = (len - 1) & !1;
-        let mut r = {
-            let _share = BlockMemory::take(len, reach, x.len());
-            super::correlate::autocorrelation(len, y, reach)
-        };
+        let y = Detrended::new(&x[a..b]);
+        let (mut r, total) = whole_transform(y, x.len());
         if let Some(parts) = parts {
-            parts.offer(a, len, &r);
+            parts.offer(a, b - a, &r, total);
         }
         r.truncate(keep + 1);
         r.shrink_to_fit();
-        let total = square_sum(&y, 0, len, len, None);
-        Self {
-            seg,
-            slope,
-            r,
-            total,
-        }
+        Self { y, r, total }
     }
 
     /// The Theo1 double sum at factor m (even, m < len, m ≤ keep) over all
     /// len − m terms of the stretch, as [`theo1_block`] with one block.
     /// O(m·log m) given the shared R and the total of squares.
     fn sum(&self, m: usize) -> f64 {
-        let (seg, slope) = (self.seg, self.slope);
-        let y = |t: usize| (seg[t] - seg[0]) - slope * t as f64;
-        block_sum_given(&y, seg.len(), r_part(&self.r, m), m, Some(self.total))
+        let d = self.y;
+        let y = |t: usize| d.at(t);
+        block_sum_given(&y, d.seg.len(), r_part(&self.r, m), m, Some(self.total))
     }
 
     /// The overlapping Allan sum Σ_{i<T} (y_{i+2m} − 2y_{i+m} + y_i)² over
@@ -774,9 +803,9 @@ impl<'a> WholeStretch<'a> {
     /// the stretch against the m-scale differences; tested to 1e-6
     /// relative against the direct sum up to [`WHOLE_UP_TO`]·m).
     fn avar_sum(&self, m: usize) -> f64 {
-        let (seg, slope) = (self.seg, self.slope);
-        let y = |t: usize| (seg[t] - seg[0]) - slope * t as f64;
-        let len = seg.len();
+        let d = self.y;
+        let y = |t: usize| d.at(t);
+        let len = d.seg.len();
         let n = len - 2 * m;
         let mut acc = (6.0 * self.total.0, 6.0 * self.total.1);
         add_to(&mut acc, -8.0 * self.r[m]);
@@ -1104,12 +1133,8 @@ pub(crate) fn theo1_sums_many(x: &[f64], ms: &[usize]) -> Vec<f64> {
     if n < 3 || mx + 1 > n {
         return Vec::new();
     }
-    let slope = (x[n - 1] - x[0]) / (n - 1) as f64;
-    let xd: Vec<f64> = x
-        .iter()
-        .enumerate()
-        .map(|(t, &v)| (v - x[0]) - slope * t as f64)
-        .collect();
+    let d = Detrended::new(x);
+    let xd: Vec<f64> = (0..n).map(|t| d.at(t)).collect();
     // R(ℓ), ℓ = 0 … mx, by a real FFT (zero-padded, no wrap-around).
     let r = super::correlate::autocorrelation(n, |t| xd[t], mx);
     let sq: Vec<f64> = xd.iter().map(|v| v * v).collect();
