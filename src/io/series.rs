@@ -77,9 +77,10 @@ use super::layout::{self, LayoutOptions};
 use super::parallel::{self, RowReading};
 use super::text::{self, CommentStyle, LineReader};
 use super::{binary, npy, wrap, ReadError};
-use crate::prepare::outliers::order_statistic;
+use crate::prepare::outliers::{order_statistic, order_statistic_of};
 use crate::record::{DataKind, FrequencyRecord, PhaseRecord, Record};
 use crate::units::{format_sig, FreqUnit, ValueUnit};
+use rayon::prelude::*;
 use serde::Serialize;
 use std::io::BufRead;
 use std::path::{Path, PathBuf};
@@ -296,8 +297,13 @@ enum Conversion {
 }
 
 impl Conversion {
+    /// The reading in the record's unit; a missing reading (NaN) stays
+    /// missing.
     #[inline]
     fn apply(self, v: f64) -> f64 {
+        if v.is_nan() {
+            return v;
+        }
         match self {
             Conversion::Scale(s) => v * s,
             Conversion::Carrier { nu0, scale } => (v * scale - nu0) / nu0,
@@ -622,17 +628,26 @@ impl TimeForm {
     #[inline(always)]
     fn relative(self, field: &str, decimal: Decimal) -> Option<f64> {
         match self {
-            TimeForm::Seconds { t0, scale } => match fields::number(field, decimal) {
-                Ok(Some(t)) => Some((t - t0) * scale),
-                _ => None,
-            },
-            TimeForm::Mjd { d0 } => match fields::number(field, decimal) {
-                Ok(Some(d)) => Some((d - d0) * 86400.0),
-                _ => None,
-            },
+            TimeForm::Seconds { .. } | TimeForm::Mjd { .. } => {
+                match fields::number(field, decimal) {
+                    Ok(Some(t)) => self.of_number(t),
+                    _ => None,
+                }
+            }
             TimeForm::Iso { s0, ns0 } => {
                 parse_iso(field).map(|(s, ns)| (s - s0) as f64 + (ns as f64 - ns0 as f64) * 1e-9)
             }
+        }
+    }
+
+    /// Time since the first timestamp, in seconds, of a stamp written as a
+    /// number (`None` for the date-time form).
+    #[inline(always)]
+    fn of_number(self, t: f64) -> Option<f64> {
+        match self {
+            TimeForm::Seconds { t0, scale } => Some((t - t0) * scale),
+            TimeForm::Mjd { d0 } => Some((t - d0) * 86400.0),
+            TimeForm::Iso { .. } => None,
         }
     }
 }
@@ -901,6 +916,27 @@ fn steps(dt: f64, tau0: f64) -> Result<u64, String> {
     Ok(k as u64)
 }
 
+/// The readings to insert as gaps between stamps `spacings` apart on the
+/// grid of `tau0` (Σ (k_i − 1), k_i = [`steps`]), or the first spacing
+/// that is not a whole multiple of τ0 (its index and the message). Worked
+/// out in parallel over blocks of spacings, the first failure in order
+/// kept.
+fn gaps_to_insert(spacings: &[f64], tau0: f64) -> Result<u64, (usize, String)> {
+    const BLOCK: usize = 1 << 16;
+    let blocks: Vec<Result<u64, (usize, String)>> = spacings
+        .par_chunks(BLOCK)
+        .enumerate()
+        .map(|(b, c)| {
+            let mut total = 0u64;
+            for (i, &dt) in c.iter().enumerate() {
+                total += steps(dt, tau0).map_err(|m| (b * BLOCK + i, m))? - 1;
+            }
+            Ok(total)
+        })
+        .collect();
+    blocks.into_iter().sum()
+}
+
 /// A data row as parsed.
 #[derive(Debug, Clone, Copy, PartialEq)]
 enum Row {
@@ -1005,6 +1041,88 @@ impl RowParser {
         Some(Row::Data(v, t))
     }
 
+    /// The most common data line read in one pass over its bytes, without
+    /// finding its end first: the readings (and numeric stamps) are read
+    /// where they start ([`fields::number_prefix`]), each must be followed
+    /// by the delimiter or the line end, and what follows the last column
+    /// needed is only checked to be UTF-8 up to the line end. Gives what
+    /// [`RowParser::parse`] gives for the line, and the bytes it takes
+    /// with its line end; `None` sends the line through the line rules
+    /// ([`parse_piece`]) and [`RowParser::parse`], which classify it and
+    /// word any error. So it is never the only judge of a line: a line it
+    /// reads is one that the line rules read the same way (a first byte
+    /// that starts a number is neither blank nor a comment, the bytes read
+    /// are ASCII, the line is within [`text::MAX_LINE_BYTES`]).
+    #[inline]
+    fn fast_row(&self, b: &[u8]) -> Option<(f64, Option<f64>, usize)> {
+        let line_end = |at: usize| -> Option<usize> {
+            // The line's bytes without its `\n` (a `\r` before it counts,
+            // as for the line rules), and the bytes taken.
+            let (raw, used) = match b.get(at) {
+                None => (at, at),
+                Some(b'\n') => (at, at + 1),
+                Some(b'\r') if b.get(at + 1) == Some(&b'\n') => (at + 1, at + 2),
+                _ => return None,
+            };
+            (raw <= text::MAX_LINE_BYTES).then_some(used)
+        };
+        if self.single {
+            let (v, n) = fields::number_prefix(b)?;
+            return Some((v, None, line_end(n)?));
+        }
+        let sep = self.sep?;
+        if self.check_first {
+            return None;
+        }
+        let numeric_time = self.form.is_some_and(|f| f.of_number(0.0).is_some());
+        let need = self.value_col.max(self.time_col.unwrap_or(0));
+        let (mut v, mut t) = (None, None);
+        let mut start = 0;
+        for idx in 1..=need {
+            let is_time = Some(idx) == self.time_col && self.form.is_some();
+            let end = if idx == self.value_col || (is_time && numeric_time) {
+                let (x, n) = fields::number_prefix(&b[start..])?;
+                if idx == self.value_col {
+                    v = Some(x);
+                } else {
+                    t = Some(self.form?.of_number(x)?);
+                }
+                start + n
+            } else {
+                // A column not read, or a date-time stamp: up to the next
+                // delimiter (a quote sends the line to the line rules).
+                let end =
+                    memchr::memchr3(sep, b'"', b'\n', &b[start..]).map_or(b.len(), |i| start + i);
+                if b.get(end) == Some(&b'"') {
+                    return None;
+                }
+                let field = std::str::from_utf8(&b[start..end]).ok()?;
+                if !field.is_ascii() {
+                    return None;
+                }
+                if is_time {
+                    t = Some(self.form?.relative(field.trim_ascii(), self.decimal)?);
+                }
+                end
+            };
+            if idx < need {
+                if b.get(end) != Some(&sep) {
+                    return None;
+                }
+                start = end + 1;
+            } else if b.get(end) == Some(&sep) {
+                // Columns after the last one needed: the rest of the line,
+                // which must be UTF-8 as every line.
+                let stop = memchr::memchr(b'\n', &b[end..]).map_or(b.len(), |i| end + i);
+                std::str::from_utf8(&b[end..stop]).ok()?;
+                return Some((v?, t, line_end(stop)?));
+            } else {
+                return Some((v?, t, line_end(end)?));
+            }
+        }
+        None
+    }
+
     fn parse_split(&mut self, label: &Path, number: u64, line: &str) -> Result<Row, ReadError> {
         let n = match self.splitter.split(line) {
             Ok(n) => n,
@@ -1100,10 +1218,17 @@ impl RowParser {
 /// The rows of one piece of a text file, parsed apart from the rest (lines
 /// counted from the piece's first line, 1).
 struct Piece {
-    /// The readings as written (before the unit's conversion).
+    /// The readings, converted to the record's unit ([`Conversion`]).
     values: Vec<f64>,
     /// Their stamps, when there is a time column.
     times: Vec<f64>,
+    /// The smallest and largest reading (NaN skipped).
+    lo: f64,
+    hi: f64,
+    /// The spacings of the stamps after the piece's first, when asked
+    /// ([`PieceRule::spacings`]); empty when one of them is not positive
+    /// (then the rows are taken one by one, which words the error).
+    spacings: Vec<f64>,
     /// (row, line) wherever a row's line is not the line after the row
     /// before (the first row included).
     breaks: Vec<(usize, u64)>,
@@ -1112,6 +1237,55 @@ struct Piece {
     texts: Vec<(usize, u64, Option<String>)>,
     /// The error that ended the piece, after its rows.
     error: Option<ReadError>,
+    /// The line of the last row (0 before the first).
+    last: u64,
+}
+
+/// What [`parse_piece`] does beyond parsing.
+#[derive(Debug, Clone, Copy)]
+struct PieceRule {
+    /// The readings' conversion.
+    conv: Conversion,
+    /// Work out the spacings of the stamps (τ0 from the stamps, no --snap).
+    spacings: bool,
+}
+
+impl Piece {
+    /// What only depends on the piece, done where it was parsed (in
+    /// parallel): the conversion, the extremes and the spacings.
+    fn finish(&mut self, rule: PieceRule) {
+        let (mut lo, mut hi) = (f64::INFINITY, f64::NEG_INFINITY);
+        for v in self.values.iter_mut() {
+            *v = rule.conv.apply(*v);
+            // NaN compares false: gaps are skipped.
+            if *v < lo {
+                lo = *v;
+            }
+            if *v > hi {
+                hi = *v;
+            }
+        }
+        (self.lo, self.hi) = (lo, hi);
+        if rule.spacings && self.times.len() > 1 {
+            self.spacings = self.times.windows(2).map(|w| w[1] - w[0]).collect();
+            if !self.spacings.iter().all(|&dt| dt > 0.0) {
+                self.spacings = Vec::new();
+            }
+        }
+    }
+
+    /// A reading (and its stamp) on line `number` of the piece.
+    #[inline(always)]
+    fn push(&mut self, number: u64, v: f64, t: Option<f64>) {
+        if self.values.is_empty() || number != self.last + 1 {
+            self.breaks.push((self.values.len(), number));
+        }
+        self.last = number;
+        self.values.push(v);
+        if let Some(t) = t {
+            self.times.push(t);
+        }
+    }
 }
 
 /// Parse the lines of a piece with the line rules of
@@ -1121,20 +1295,41 @@ fn parse_piece(
     bytes: &[u8],
     parser: &RowParser,
     comments: &CommentStyle,
+    rule: PieceRule,
     label: &Path,
 ) -> (Piece, u64) {
     let mut parser = parser.fresh();
     let mut p = Piece {
         values: Vec::with_capacity(bytes.len() / 16 + 1),
         times: Vec::new(),
+        lo: f64::INFINITY,
+        hi: f64::NEG_INFINITY,
+        spacings: Vec::new(),
         breaks: Vec::new(),
         texts: Vec::new(),
         error: None,
+        last: 0,
     };
     let mut number = 0u64;
-    let mut last = 0u64;
-    for raw in parallel::raw_lines(bytes) {
+    let mut pos = 0;
+    while pos < bytes.len() {
         number += 1;
+        let rest = &bytes[pos..];
+        if let Some((v, t, used)) = parser.fast_row(rest) {
+            pos += used;
+            p.push(number, v, t);
+            continue;
+        }
+        let raw = match memchr::memchr(b'\n', rest) {
+            Some(i) => {
+                pos += i + 1;
+                &rest[..i]
+            }
+            None => {
+                pos = bytes.len();
+                rest
+            }
+        };
         if raw.len() > text::MAX_LINE_BYTES {
             p.error = Some(text::too_long(label, number));
             break;
@@ -1151,16 +1346,7 @@ fn parse_piece(
             }
         };
         match parser.parse(label, number, line) {
-            Ok(Row::Data(v, t)) => {
-                if p.values.is_empty() || number != last + 1 {
-                    p.breaks.push((p.values.len(), number));
-                }
-                last = number;
-                p.values.push(v);
-                if let Some(t) = t {
-                    p.times.push(t);
-                }
-            }
+            Ok(Row::Data(v, t)) => p.push(number, v, t),
             Ok(Row::Text) => {
                 let text = p.texts.is_empty().then(|| line.to_string());
                 p.texts.push((p.values.len(), number, text));
@@ -1172,6 +1358,7 @@ fn parse_piece(
             }
         }
     }
+    p.finish(rule);
     (p, number)
 }
 
@@ -1293,13 +1480,14 @@ pub fn read_series_from_with<R: BufRead>(
             };
             let comments =
                 CommentStyle::with_extra(&opts.comments).map_err(|m| ReadError::file(label, m))?;
+            let rule = c.piece_rule();
             let (n, b) = parallel::read_blocks(
                 rest,
                 label,
                 before,
                 block,
                 piece,
-                |bytes| parse_piece(bytes, &parser, &comments, label),
+                |bytes| parse_piece(bytes, &parser, &comments, rule, label),
                 |p, before| c.take_piece(p, before),
             )?;
             (n, bytes_before + b)
@@ -1611,8 +1799,29 @@ impl<'a> Collected<'a> {
                 self.take_text(number, Some(line));
                 Ok(())
             }
-            Row::Data(v, t) => self.take_data(number, v, t),
+            Row::Data(v, t) => {
+                let v = self.conv.apply(v);
+                self.take_data(number, v, t)
+            }
         }
+    }
+
+    /// What the pieces of the rest of the file work out where they are
+    /// parsed ([`Piece::finish`]).
+    fn piece_rule(&self) -> PieceRule {
+        PieceRule {
+            conv: self.conv,
+            spacings: self.spacings_only(),
+        }
+    }
+
+    /// True when the stamps are kept as their spacings only: τ0 from the
+    /// stamps, no --snap, no --wrap.
+    fn spacings_only(&self) -> bool {
+        self.time_col.is_some()
+            && self.grid.is_none()
+            && self.opts.snap.is_none()
+            && !self.keep_lines
     }
 
     /// A line of text after the readings (its text is needed only for the
@@ -1638,28 +1847,35 @@ impl<'a> Collected<'a> {
     /// row, the readings of a plain column appended at once.
     fn take_piece(&mut self, p: Piece, before: u64) -> Result<(), ReadError> {
         let plain = p.texts.is_empty()
-            && p.times.is_empty()
-            && self.time_col.is_none()
             && !self.keep_lines
             && self.trailer.is_none()
             && self.values.len() + p.values.len() <= MAX_POINTS;
-        if plain {
-            if let Some(&(row, line)) = p.breaks.last() {
-                self.last_line = before + line + (p.values.len() - 1 - row) as u64;
+        let untimed = self.time_col.is_none();
+        // With stamps: every spacing positive, the first row's included.
+        let spaced = self.spacings_only()
+            && p.spacings.len() + 1 == p.values.len()
+            && (self.rows == 0 || p.times[0] - self.prev_t > 0.0);
+        if plain && !p.values.is_empty() && (untimed || spaced) {
+            if spaced {
+                if self.rows > 0 {
+                    self.times.push(p.times[0] - self.prev_t);
+                }
+                self.times.extend_from_slice(&p.spacings);
+                self.prev_t = p.times[p.times.len() - 1];
+                for &(row, line) in &p.breaks {
+                    self.map.push(self.rows + row, before + line);
+                }
+                self.map.last = before + p.last;
             }
-            let conv = self.conv;
-            let (mut lo, mut hi) = (self.lo, self.hi);
-            self.values.extend(p.values.iter().map(|&v| {
-                let v = if v.is_nan() { v } else { conv.apply(v) };
-                if v < lo {
-                    lo = v;
-                }
-                if v > hi {
-                    hi = v;
-                }
-                v
-            }));
-            (self.lo, self.hi) = (lo, hi);
+            self.last_line = before + p.last;
+            self.values.extend_from_slice(&p.values);
+            // NaN compares false: an empty piece's extremes change nothing.
+            if p.lo < self.lo {
+                self.lo = p.lo;
+            }
+            if p.hi > self.hi {
+                self.hi = p.hi;
+            }
             self.rows += p.values.len();
         } else {
             let mut texts = p.texts.into_iter().peekable();
@@ -1688,7 +1904,8 @@ impl<'a> Collected<'a> {
         }
     }
 
-    /// A reading (NaN for a missing one) and its time, on line `number`.
+    /// A reading (NaN for a missing one) in the record's unit and its
+    /// time, on line `number`.
     fn take_data(&mut self, number: u64, v: f64, t: Option<f64>) -> Result<(), ReadError> {
         let label = self.label;
         if let Some((tl, _, first, _)) = &self.trailer {
@@ -1709,7 +1926,6 @@ impl<'a> Collected<'a> {
                 ),
             ));
         }
-        let v = if v.is_nan() { v } else { self.conv.apply(v) };
         // NaN compares false: gaps are skipped.
         if v < self.lo {
             self.lo = v;
@@ -1780,15 +1996,12 @@ impl<'a> Collected<'a> {
                 // The lower median: always one of the spacings actually seen
                 // (found without a sorted copy of the spacings).
                 let mid = (spacings.len() - 1) / 2;
-                let median = order_statistic(|| spacings.iter().copied(), mid);
+                let median = order_statistic_of(&spacings, mid);
                 let tau0 = crate::units::round_sig(median, 10);
-                // Check every spacing; count the gaps to insert.
-                let mut total: u64 = 0;
-                for (i, &dt) in spacings.iter().enumerate() {
-                    let k = steps(dt, tau0)
-                        .map_err(|m| ReadError::at(label, self.map.line_of(i + 1), m))?;
-                    total += k - 1;
-                }
+                // Check every spacing (the first that fails is named);
+                // count the gaps to insert.
+                let total = gaps_to_insert(&spacings, tau0)
+                    .map_err(|(i, m)| ReadError::at(label, self.map.line_of(i + 1), m))?;
                 if total as usize + rows > MAX_POINTS {
                     return Err(too_many(label, self.last_line));
                 }
