@@ -900,6 +900,12 @@ fn snap_tau0(times: &[f64], median: f64) -> f64 {
 #[inline]
 fn steps(dt: f64, tau0: f64) -> Result<u64, String> {
     let q = dt / tau0;
+    // The common spacing, one τ0, without the rounding below (a call on
+    // processors without a rounding instruction): the same outcome, as
+    // |q − 1| ≤ the tolerance (< 0.5) rounds q to 1.
+    if (q - 1.0).abs() <= SPACING_TOLERANCE {
+        return Ok(1);
+    }
     let k = q.round();
     if !(k >= 1.0 && (q - k).abs() <= SPACING_TOLERANCE) {
         return Err(format!(
@@ -1289,8 +1295,11 @@ impl Piece {
 }
 
 /// Parse the lines of a piece with the line rules of
-/// [`text::LineReader`] (the same functions) and `parser`'s row rules:
-/// what was found and the number of lines.
+/// [`text::LineReader`] (the same functions) and `parser`'s row rules —
+/// a line in the common shape read in one pass ([`RowParser::fast_row`]),
+/// any other line found, trimmed, checked and parsed as the line reader
+/// does — then finish the piece as `rule` says ([`Piece::finish`]): what
+/// was found and the number of lines.
 fn parse_piece(
     bytes: &[u8],
     parser: &RowParser,
