@@ -147,20 +147,15 @@ fn sizes() -> Vec<usize> {
     }
 }
 
-const READINGS: [(&str, RowReading); 2] = [
-    (
-        "",
-        RowReading::Blocks {
-            block: 16 << 20,
-            piece: 1 << 20,
-        },
-    ),
-    ("_lines", RowReading::Serial),
-];
+/// The block reader as the tool runs it (`RowReading::default()`), and the
+/// line reader.
+fn readings() -> [(&'static str, RowReading); 2] {
+    [("", RowReading::default()), ("_lines", RowReading::Serial)]
+}
 
 fn bench_wall(c: &mut Criterion) {
     let dir = tempfile::tempdir().unwrap();
-    for (suffix, reading) in READINGS {
+    for (suffix, reading) in readings() {
         let mut group = c.benchmark_group(format!("read_series{suffix}"));
         run_group(&mut group, &sizes(), dir.path(), reading);
         group.finish();
@@ -169,7 +164,7 @@ fn bench_wall(c: &mut Criterion) {
 
 fn bench_cpu(c: &mut Criterion<ThreadCpu>) {
     let dir = tempfile::tempdir().unwrap();
-    for (suffix, reading) in READINGS {
+    for (suffix, reading) in readings() {
         let mut group = c.benchmark_group(format!("read_series{suffix}_cpu"));
         run_group(&mut group, &sizes(), dir.path(), reading);
         group.finish();
