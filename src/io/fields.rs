@@ -182,23 +182,16 @@ pub fn is_missing(field: &str) -> bool {
 /// [`Decimal`] says. `Ok(None)` is a missing value.
 #[inline]
 pub fn number(field: &str, decimal: Decimal) -> Result<Option<f64>, NumberError> {
-    let b = field.as_bytes();
-    let Some(&first) = b.first() else {
+    if field.is_empty() {
         return Ok(None);
-    };
-    if first.is_ascii_digit() || first == b'-' || first == b'+' || first == b'.' {
-        // `fast-float2` (Lemire's algorithm, exact like the standard
-        // library's parser, faster on short fields); the first-byte test
-        // above keeps out `inf` and `nan`, the finiteness test `1e400`.
-        if let Ok(v) = fast_float2::parse::<f64, _>(b) {
-            return if v.is_finite() {
-                Ok(Some(v))
-            } else {
-                Err(NumberError::Malformed)
-            };
-        }
     }
-    slow_number(field, decimal)
+    // The whole field read as a number ([`number_prefix`]); anything else
+    // (a missing value, a decimal comma, a word, `1e400`) is sorted out by
+    // the slow path.
+    match number_prefix(field.as_bytes()) {
+        Some((v, n)) if n == field.len() => Ok(Some(v)),
+        _ => slow_number(field, decimal),
+    }
 }
 
 /// The finite number that `bytes` start with, and how many bytes it takes:
@@ -214,6 +207,9 @@ pub fn number(field: &str, decimal: Decimal) -> Result<Option<f64>, NumberError>
 /// delimiter test tells that `1,5` is not the field `1`.
 #[inline]
 pub fn number_prefix(bytes: &[u8]) -> Option<(f64, usize)> {
+    // `fast-float2` (Lemire's algorithm, exact like the standard library's
+    // parser, faster on short fields); the first-byte test keeps out `inf`
+    // and `nan`, the finiteness test `1e400`.
     let first = *bytes.first()?;
     if !(first.is_ascii_digit() || first == b'-' || first == b'+' || first == b'.') {
         return None;
@@ -246,12 +242,8 @@ fn slow_number(field: &str, decimal: Decimal) -> Result<Option<f64>, NumberError
 }
 
 fn strict(s: &str) -> Result<Option<f64>, NumberError> {
-    let first = *s.as_bytes().first().ok_or(NumberError::Malformed)?;
-    if !(first.is_ascii_digit() || first == b'-' || first == b'+' || first == b'.') {
-        return Err(NumberError::Malformed);
-    }
-    match s.parse::<f64>() {
-        Ok(v) if v.is_finite() => Ok(Some(v)),
+    match number_prefix(s.as_bytes()) {
+        Some((v, n)) if n == s.len() => Ok(Some(v)),
         _ => Err(NumberError::Malformed),
     }
 }

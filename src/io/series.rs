@@ -1853,7 +1853,9 @@ impl<'a> Collected<'a> {
 
     /// The rows of a piece parsed apart ([`parse_piece`]), `before` lines
     /// of the file before it: the same steps as [`Collected::take`] row by
-    /// row, the readings of a plain column appended at once.
+    /// row; a piece of readings only (no text among them) appended at once,
+    /// with its stamps' spacings when τ0 comes from the stamps and each
+    /// spacing is positive.
     fn take_piece(&mut self, p: Piece, before: u64) -> Result<(), ReadError> {
         let plain = p.texts.is_empty()
             && !self.keep_lines
@@ -1862,6 +1864,7 @@ impl<'a> Collected<'a> {
         let untimed = self.time_col.is_none();
         // With stamps: every spacing positive, the first row's included.
         let spaced = self.spacings_only()
+            && p.times.len() == p.values.len()
             && p.spacings.len() + 1 == p.values.len()
             && (self.rows == 0 || p.times[0] - self.prev_t > 0.0);
         if plain && !p.values.is_empty() && (untimed || spaced) {
