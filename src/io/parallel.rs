@@ -287,6 +287,37 @@ mod tests {
         assert_eq!(cut_pieces(b"a\nb", 100), [&b"a\nb"[..]]);
     }
 
+    /// Every line `read_blocks` hands to `take`, with the number it gives
+    /// it, and the outcome.
+    #[allow(clippy::type_complexity)]
+    fn every_line<R: Read>(
+        reader: R,
+        lines_before: u64,
+        block: usize,
+        piece: usize,
+    ) -> (Result<(u64, u64), ReadError>, Vec<(u64, Vec<u8>)>) {
+        let mut seen = Vec::new();
+        let outcome = read_blocks(
+            reader,
+            Path::new("t"),
+            lines_before,
+            block,
+            piece,
+            |p| {
+                let l: Vec<Vec<u8>> = raw_lines(p).map(|l| l.to_vec()).collect();
+                let n = l.len() as u64;
+                (l, n)
+            },
+            |l, before| {
+                for (i, line) in l.into_iter().enumerate() {
+                    seen.push((before + 1 + i as u64, line));
+                }
+                Ok(())
+            },
+        );
+        (outcome, seen)
+    }
+
     /// Every line reaches `take` once, in order, with its own number,
     /// whatever the block and piece sizes (a line longer than a block
     /// included).
@@ -296,27 +327,9 @@ mod tests {
             .map(|i| format!("{}\n", "x".repeat(i % 37)))
             .collect();
         for (block, piece) in [(1, 1), (7, 3), (64, 16), (1000, 100), (1 << 20, 1 << 10)] {
-            let mut seen = Vec::new();
-            let (lines, bytes) = read_blocks(
-                text.as_bytes(),
-                Path::new("t"),
-                10,
-                block,
-                piece,
-                |p| {
-                    let l: Vec<usize> = raw_lines(p).map(|l| l.len()).collect();
-                    let n = l.len() as u64;
-                    (l, n)
-                },
-                |l, before| {
-                    for (i, len) in l.into_iter().enumerate() {
-                        seen.push((before + 1 + i as u64, len));
-                    }
-                    Ok(())
-                },
-            )
-            .unwrap();
-            assert_eq!((lines, bytes), (510, text.len() as u64));
+            let (outcome, lines) = every_line(text.as_bytes(), 10, block, piece);
+            assert_eq!(outcome.unwrap(), (510, text.len() as u64));
+            let seen: Vec<(u64, usize)> = lines.into_iter().map(|(n, l)| (n, l.len())).collect();
             let want: Vec<(u64, usize)> = (1..=500).map(|i| (10 + i as u64, i % 37)).collect();
             assert_eq!(seen, want, "block {block} piece {piece}");
         }
@@ -358,26 +371,8 @@ mod tests {
                     at: 0,
                     fail_at,
                 };
-                let mut seen = Vec::new();
-                let e = read_blocks(
-                    reader,
-                    Path::new("t"),
-                    0,
-                    block,
-                    piece,
-                    |p| {
-                        let l: Vec<Vec<u8>> = raw_lines(p).map(|l| l.to_vec()).collect();
-                        let n = l.len() as u64;
-                        (l, n)
-                    },
-                    |l, before| {
-                        for (i, line) in l.into_iter().enumerate() {
-                            seen.push((before + 1 + i as u64, line));
-                        }
-                        Ok(())
-                    },
-                )
-                .unwrap_err();
+                let (outcome, seen) = every_line(reader, 0, block, piece);
+                let e = outcome.unwrap_err();
                 let taken = seen.len() as u64;
                 assert_eq!(e.line, Some(taken + 1), "block {block} fail at {fail_at}");
                 assert!(e.to_string().contains("device gone"), "{e}");
