@@ -146,15 +146,7 @@ pub fn read_blocks<R: Read, T: Send>(
     // The block to parse next, and the buffer the one after it is read into.
     let (mut cur, mut next): (Vec<u8>, Vec<u8>) = (Vec::new(), Vec::new());
     let mut filled = 0usize;
-    let mut stop = fill(
-        &mut reader,
-        &mut cur,
-        &mut filled,
-        block,
-        &mut eof,
-        &mut bytes,
-    )
-    .err();
+    let mut stop: Option<Stop> = None;
     // The parsed pieces of the block before, not yet taken.
     let mut pending: Option<Vec<(T, u64)>> = None;
     let mut take_all = |parsed: Vec<(T, u64)>, lines: &mut u64| -> Result<(), ReadError> {
@@ -165,7 +157,8 @@ pub fn read_blocks<R: Read, T: Send>(
         Ok(())
     };
     loop {
-        // The whole lines of `cur`; while one line fills it, read on.
+        // The whole lines of `cur`; while it holds no line end (at first,
+        // nothing), read on.
         let mut cut = 0;
         while stop.is_none() {
             if eof {
