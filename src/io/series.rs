@@ -971,6 +971,9 @@ struct RowParser {
     /// True when neither column is column 1 (then a first field that is a
     /// word must be looked at separately).
     check_first: bool,
+    /// The stamps are numbers (seconds or MJD), read by
+    /// [`RowParser::fast_row`] where they start.
+    numeric_stamps: bool,
     /// One column of readings separated by white space: the first word of
     /// the line is the reading (the common case, read without splitting).
     single: bool,
@@ -1080,13 +1083,12 @@ impl RowParser {
         if self.check_first {
             return None;
         }
-        let numeric_time = self.form.is_some_and(|f| f.of_number(0.0).is_some());
         let need = self.value_col.max(self.time_col.unwrap_or(0));
         let (mut v, mut t) = (None, None);
         let mut start = 0;
         for idx in 1..=need {
             let is_time = Some(idx) == self.time_col && self.form.is_some();
-            let end = if idx == self.value_col || (is_time && numeric_time) {
+            let end = if idx == self.value_col || (is_time && self.numeric_stamps) {
                 let (x, n) = fields::number_prefix(&b[start..])?;
                 if idx == self.value_col {
                     v = Some(x);
@@ -1102,10 +1104,11 @@ impl RowParser {
                 if b.get(end) == Some(&b'"') {
                     return None;
                 }
-                let field = std::str::from_utf8(&b[start..end]).ok()?;
-                if !field.is_ascii() {
+                // ASCII only (so UTF-8, and no Unicode white space to trim).
+                if !b[start..end].is_ascii() {
                     return None;
                 }
+                let field = std::str::from_utf8(&b[start..end]).ok()?;
                 if is_time {
                     t = Some(self.form?.relative(field.trim_ascii(), self.decimal)?);
                 }
@@ -1463,6 +1466,7 @@ pub fn read_series_from_with<R: BufRead>(
         time_col,
         form,
         check_first: value_col != 1 && time_col != Some(1),
+        numeric_stamps: form.is_some_and(|f| f.of_number(0.0).is_some()),
         single: delim == Delimiter::Whitespace && value_col == 1 && time_col.is_none(),
         sep: match delim {
             Delimiter::Comma => Some(b','),
