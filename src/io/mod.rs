@@ -20,6 +20,7 @@ pub mod output_paths;
 pub mod parallel;
 pub mod record_file;
 pub mod series;
+mod spacings;
 pub mod text;
 pub mod wrap;
 pub mod write;

@@ -75,12 +75,12 @@ use super::fields::{self, Decimal, Delimiter, NumberError, Splitter};
 use super::header_units::{self, Found, HeaderUnit};
 use super::layout::{self, LayoutOptions};
 use super::parallel::{self, RowReading};
+use super::spacings::Spacings;
 use super::text::{self, CommentStyle, LineReader};
 use super::{binary, npy, wrap, ReadError};
-use crate::prepare::outliers::{order_statistic, order_statistic_of};
+use crate::prepare::outliers::order_statistic;
 use crate::record::{DataKind, FrequencyRecord, PhaseRecord, Record};
 use crate::units::{format_sig, FreqUnit, ValueUnit};
-use rayon::prelude::*;
 use serde::Serialize;
 use std::io::BufRead;
 use std::path::{Path, PathBuf};
@@ -898,7 +898,7 @@ fn snap_tau0(times: &[f64], median: f64) -> f64 {
 
 /// Number of τ0 steps in a spacing, or an error message.
 #[inline]
-fn steps(dt: f64, tau0: f64) -> Result<u64, String> {
+pub(super) fn steps(dt: f64, tau0: f64) -> Result<u64, String> {
     let q = dt / tau0;
     // The common spacing, one τ0, without the rounding below (a call on
     // processors without a rounding instruction): the same outcome, as
@@ -920,27 +920,6 @@ fn steps(dt: f64, tau0: f64) -> Result<u64, String> {
         return Err(jump_message(dt, k as u64, tau0));
     }
     Ok(k as u64)
-}
-
-/// The readings to insert as gaps between stamps `spacings` apart on the
-/// grid of `tau0` (Σ (k_i − 1), k_i = [`steps`]), or the first spacing
-/// that is not a whole multiple of τ0 (its index and the message). Worked
-/// out in parallel over blocks of spacings, the first failure in order
-/// kept.
-fn gaps_to_insert(spacings: &[f64], tau0: f64) -> Result<u64, (usize, String)> {
-    const BLOCK: usize = 1 << 16;
-    let blocks: Vec<Result<u64, (usize, String)>> = spacings
-        .par_chunks(BLOCK)
-        .enumerate()
-        .map(|(b, c)| {
-            let mut total = 0u64;
-            for (i, &dt) in c.iter().enumerate() {
-                total += steps(dt, tau0).map_err(|m| (b * BLOCK + i, m))? - 1;
-            }
-            Ok(total)
-        })
-        .collect();
-    blocks.into_iter().sum()
 }
 
 /// A data row as parsed.
@@ -974,6 +953,10 @@ struct RowParser {
     /// The stamps are numbers (seconds or MJD), read by
     /// [`RowParser::fast_row`] where they start.
     numeric_stamps: bool,
+    /// The first data row's stamp is a whole number in digits alone: the
+    /// stamps are read with [`fields::whole_number_prefix`] (the same
+    /// values, faster for counts of seconds).
+    whole_stamps: bool,
     /// One column of readings separated by white space: the first word of
     /// the line is the reading (the common case, read without splitting).
     single: bool,
@@ -1089,7 +1072,11 @@ impl RowParser {
         for idx in 1..=need {
             let is_time = Some(idx) == self.time_col && self.form.is_some();
             let end = if idx == self.value_col || (is_time && self.numeric_stamps) {
-                let (x, n) = fields::number_prefix(&b[start..])?;
+                let (x, n) = if is_time && self.whole_stamps {
+                    fields::whole_number_prefix(&b[start..])?
+                } else {
+                    fields::number_prefix(&b[start..])?
+                };
                 if idx == self.value_col {
                     v = Some(x);
                 } else {
@@ -1237,7 +1224,7 @@ struct Piece {
     /// The spacings of the stamps after the piece's first, when asked
     /// ([`PieceRule::spacings`]); empty when one of them is not positive
     /// (then the rows are taken one by one, which words the error).
-    spacings: Vec<f64>,
+    spacings: Spacings,
     /// (row, line) wherever a row's line is not the line after the row
     /// before (the first row included).
     breaks: Vec<(usize, u64)>,
@@ -1275,11 +1262,8 @@ impl Piece {
             }
         }
         (self.lo, self.hi) = (lo, hi);
-        if rule.spacings && self.times.len() > 1 {
-            self.spacings = self.times.windows(2).map(|w| w[1] - w[0]).collect();
-            if !self.spacings.iter().all(|&dt| dt > 0.0) {
-                self.spacings = Vec::new();
-            }
+        if rule.spacings {
+            self.spacings = Spacings::of_times(&self.times).unwrap_or_default();
         }
     }
 
@@ -1313,10 +1297,13 @@ fn parse_piece(
     let mut parser = parser.fresh();
     let mut p = Piece {
         values: Vec::with_capacity(bytes.len() / 16 + 1),
-        times: Vec::new(),
+        times: match parser.time_col {
+            Some(_) => Vec::with_capacity(bytes.len() / 16 + 1),
+            None => Vec::new(),
+        },
         lo: f64::INFINITY,
         hi: f64::NEG_INFINITY,
-        spacings: Vec::new(),
+        spacings: Spacings::default(),
         breaks: Vec::new(),
         texts: Vec::new(),
         error: None,
@@ -1467,6 +1454,10 @@ pub fn read_series_from_with<R: BufRead>(
         form,
         check_first: value_col != 1 && time_col != Some(1),
         numeric_stamps: form.is_some_and(|f| f.of_number(0.0).is_some()),
+        whole_stamps: time_col.is_some_and(|tc| {
+            let mut s = Splitter::new(delim).with_limit(limit);
+            s.split(&first_text).is_ok() && fields::is_whole(s.field(&first_text, tc - 1).trim())
+        }),
         single: delim == Delimiter::Whitespace && value_col == 1 && time_col.is_none(),
         sep: match delim {
             Delimiter::Comma => Some(b','),
@@ -1757,8 +1748,10 @@ struct Collected<'a> {
     keep_lines: bool,
     grid: Option<Grid>,
     values: Vec<f64>,
-    /// While τ0 is unknown: the spacings Δt_i (or, with --snap, the times).
+    /// While τ0 is unknown, with --snap: the times.
     times: Vec<f64>,
+    /// While τ0 is unknown, without --snap: the spacings Δt_i.
+    spacings: Spacings,
     prev_t: f64,
     map: LineMap,
     /// (slot, line), only for --wrap and --snap.
@@ -1792,6 +1785,7 @@ impl<'a> Collected<'a> {
             },
             values: Vec::new(),
             times: Vec::new(),
+            spacings: Spacings::default(),
             prev_t: 0.0,
             map: LineMap::default(),
             slot_lines: Vec::new(),
@@ -1874,9 +1868,9 @@ impl<'a> Collected<'a> {
         if plain && !p.values.is_empty() && (untimed || spaced) {
             if spaced {
                 if self.rows > 0 {
-                    self.times.push(p.times[0] - self.prev_t);
+                    self.spacings.push(p.times[0] - self.prev_t);
                 }
-                self.times.extend_from_slice(&p.spacings);
+                self.spacings.append(p.spacings);
                 self.prev_t = p.times[p.times.len() - 1];
                 for &(row, line) in &p.breaks {
                     self.map.push(self.rows + row, before + line);
@@ -1973,7 +1967,7 @@ impl<'a> Collected<'a> {
                                 "the timestamp is not later than the one before; expected increasing timestamps",
                             ));
                         }
-                        self.times.push(dt);
+                        self.spacings.push(dt);
                     }
                     self.prev_t = t;
                 }
@@ -2008,16 +2002,12 @@ impl<'a> Collected<'a> {
             }
             (Some(t), None) => (t, false, 0),
             (None, _) if self.opts.snap.is_none() => {
-                let spacings = std::mem::take(&mut self.times);
-                // The lower median: always one of the spacings actually seen
-                // (found without a sorted copy of the spacings).
-                let mid = (spacings.len() - 1) / 2;
-                let median = order_statistic_of(&spacings, mid);
-                let tau0 = crate::units::round_sig(median, 10);
-                // Check every spacing (the first that fails is named);
-                // count the gaps to insert.
-                let total = gaps_to_insert(&spacings, tau0)
-                    .map_err(|(i, m)| ReadError::at(label, self.map.line_of(i + 1), m))?;
+                let spacings = std::mem::take(&mut self.spacings);
+                // τ0 from the median spacing; every spacing checked (the
+                // first that fails is named) and the gaps counted.
+                let (tau0, total) = spacings.tau0_and_gaps();
+                let total =
+                    total.map_err(|(i, m)| ReadError::at(label, self.map.line_of(i + 1), m))?;
                 if total as usize + rows > MAX_POINTS {
                     return Err(too_many(label, self.last_line));
                 }
@@ -2028,7 +2018,7 @@ impl<'a> Collected<'a> {
                     if keep_lines {
                         self.slot_lines.push((0, self.map.line_of(0)));
                     }
-                    for (i, &dt) in spacings.iter().enumerate() {
+                    for (i, dt) in spacings.iter().enumerate() {
                         let k = steps(dt, tau0).unwrap_or(1);
                         grid_values.resize(grid_values.len() + k as usize - 1, f64::NAN);
                         if keep_lines {

@@ -3,7 +3,6 @@
 use super::offset::frequency_of;
 use crate::error::{Error, Result};
 use crate::record::{FrequencyRecord, PhaseRecord, Record};
-use rayon::prelude::*;
 
 /// Scale factor that makes the median absolute deviation an estimate of the
 /// standard deviation for normal data: 1/Φ⁻¹(3/4) = 1/0.6744898 (analytic).
@@ -214,29 +213,16 @@ fn order_key(x: f64) -> u64 {
     }
 }
 
-/// [`order_statistic`] of a slice (the same value), for a slice in which
-/// one value is likely to fill the middle — the spacings of a record's
-/// stamps, nearly all one τ0. The value at `rank` itself is tried first:
-/// it is the answer exactly when fewer than `rank + 1` values lie below it
-/// and at least `rank + 1` lie at or below it (one counting pass, in
-/// parallel); otherwise the radix selection runs.
-pub(crate) fn order_statistic_of(values: &[f64], rank: usize) -> f64 {
-    let guess = values[rank];
+/// How many of `values` lie below `guess` and how many at it, in the order
+/// of `f64::total_cmp`: `guess` is the value of rank r (from 0) exactly
+/// when below ≤ r < below + at, summed over the whole set.
+#[inline]
+pub(crate) fn rank_counts(values: &[f64], guess: f64) -> (usize, usize) {
     let g = order_key(guess);
-    let (below, at) = values
-        .par_chunks(1 << 16)
-        .map(|c| {
-            c.iter().fold((0usize, 0usize), |(b, a), &x| {
-                let k = order_key(x);
-                (b + usize::from(k < g), a + usize::from(k == g))
-            })
-        })
-        .reduce(|| (0, 0), |x, y| (x.0 + y.0, x.1 + y.1));
-    if below <= rank && rank < below + at {
-        guess
-    } else {
-        order_statistic(|| values.iter().copied(), rank)
-    }
+    values.iter().fold((0usize, 0usize), |(b, a), &x| {
+        let k = order_key(x);
+        (b + usize::from(k < g), a + usize::from(k == g))
+    })
 }
 
 /// [`order_statistic`] among the values v(i), i < len, that are not NaN.
@@ -280,7 +266,13 @@ fn order_statistic_is_the_selection_on_a_copy() {
         let want = *c.select_nth_unstable_by(rank, f64::total_cmp).1;
         let got = order_statistic(|| v.iter().copied(), rank);
         assert_eq!(got.to_bits(), want.to_bits(), "rank {rank}");
-        assert_eq!(order_statistic_of(&v, rank).to_bits(), want.to_bits());
+        // The guess test: the value at `rank` in the slice's own order is
+        // the answer exactly when the counts say so.
+        let (below, at) = rank_counts(&v, v[rank]);
+        assert_eq!(
+            below <= rank && rank < below + at,
+            v[rank].to_bits() == want.to_bits()
+        );
     }
     // Mostly one value, as the spacings of stamps: the guess is right for
     // the ranks within the run of that value and wrong for the others.
@@ -293,9 +285,10 @@ fn order_statistic_is_the_selection_on_a_copy() {
     for rank in [0, 1, 2, 3, 100, 99_999, 199_700, 199_798, 199_799, 199_999] {
         let mut c = w.clone();
         let want = *c.select_nth_unstable_by(rank, f64::total_cmp).1;
+        let (below, at) = rank_counts(&w, w[rank]);
         assert_eq!(
-            order_statistic_of(&w, rank).to_bits(),
-            want.to_bits(),
+            below <= rank && rank < below + at,
+            w[rank].to_bits() == want.to_bits(),
             "rank {rank}"
         );
     }
