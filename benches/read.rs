@@ -1,8 +1,9 @@
 //! Reading speed of the time-series reader (`tauwise::io::series`).
 //!
 //! Writes text files of 10^6 and 10^7 lines to a temporary directory — one
-//! phase value per line, and a `seconds,phase` two-column form whose τ0
-//! comes from the timestamps — and reads them with `read_series`. Criterion
+//! phase value per line, and a `seconds,phase` two-column form read with τ0
+//! from the timestamps (`time_and_phase`) and with τ0 given
+//! (`time_and_phase_tau0`, the stamps placed on its grid) — and reads them with `read_series`. Criterion
 //! reports the throughput in bytes per second (target: ≥ 600 MB/s of wall
 //! time on 2 free cores, i.e. ≥ 300 MB per CPU-second in the `_cpu` groups).
 //!
@@ -115,16 +116,16 @@ fn run_group<M: Measurement>(
     group.warm_up_time(Duration::from_millis(500));
     group.measurement_time(Duration::from_secs(5));
     for &n in sizes {
-        for with_time in [false, true] {
-            let name = if with_time {
-                "time_and_phase"
-            } else {
-                "phase_only"
-            };
+        // (name, a time column, τ0 given)
+        for (name, with_time, tau0) in [
+            ("phase_only", false, Some(1.0)),
+            ("time_and_phase", true, None),
+            ("time_and_phase_tau0", true, Some(1.0)),
+        ] {
             let path: PathBuf = dir.join(format!("{name}-{n}.txt"));
             let bytes = write_file(&path, n, with_time);
             let opts = SeriesOptions {
-                tau0: if with_time { None } else { Some(1.0) },
+                tau0,
                 ..Default::default()
             };
             group.throughput(Throughput::Bytes(bytes));

@@ -1002,7 +1002,7 @@ fn block_reader_equals_line_reader_at_the_edges() {
 /// space at either end, quotes, a comma or a second word after the
 /// number, Windows line ends, `inf`, `nan`, `1e400`, a missing value, a
 /// non-UTF-8 byte or a no-break space before or after the columns read,
-/// comments and blank lines — it gives what the line reader gives: the
+/// comments and blank lines, stamps that jump (gaps) — it gives what the line reader gives: the
 /// same values bit for bit and facts, or the same error at the same line
 /// (by construction: the line reader is the reference).
 #[test]
@@ -1081,6 +1081,7 @@ fn block_reader_equals_line_reader_on_random_lines() {
         shape("", " ", tau(1.0), 0, 1, 1, 0),
         shape("t,x", ",", plain(), 1, 2, 2, 1),
         shape("t;x", ";", tau(1.0), 1, 2, 2, 1),
+        shape("t,x", ",", tau(1.0), 1, 2, 2, 1),
         shape("t\tx", "\t", plain(), 1, 2, 2, 1),
         shape("t,a,x", ",", with(|o| o.value_column = Some(3)), 1, 3, 3, 1),
         shape(
@@ -1136,7 +1137,10 @@ fn block_reader_equals_line_reader_on_random_lines() {
                 _ => (0.3, true),
             };
             let rows = 60;
+            // Numeric stamps: one apart, now and then a jump (gaps).
+            let mut stamp = 0u64;
             for i in 0..rows {
+                stamp += if rng.gen_bool(0.03) { 3 } else { 1 };
                 let odd = i >= 3 && rng.gen_bool(odd_rate);
                 match rng.gen_range(0..40) {
                     0 if i >= 3 => text.extend_from_slice(b"# note\n"),
@@ -1155,8 +1159,8 @@ fn block_reader_equals_line_reader_on_random_lines() {
                         let stamp = match shape.stamps {
                             2 => format!("2024-05-01T12:{:02}:{:02}Z", i / 60, i % 60),
                             3 => format!("{}", 60000.0 + i as f64 / 86400.0),
-                            _ if rng.gen_bool(0.2) => format!("{i}.000"),
-                            _ => format!("{i}"),
+                            _ if rng.gen_bool(0.2) => format!("{stamp}.000"),
+                            _ => format!("{stamp}"),
                         };
                         if odd && !only_others && rng.gen_bool(0.3) {
                             ODD[rng.gen_range(0..ODD.len())].to_vec()

@@ -75,7 +75,7 @@ use super::fields::{self, Decimal, Delimiter, NumberError, Splitter};
 use super::header_units::{self, Found, HeaderUnit};
 use super::layout::{self, LayoutOptions};
 use super::parallel::{self, RowReading};
-use super::spacings::Spacings;
+use super::spacings::{one_step_band, Spacings};
 use super::text::{self, CommentStyle, LineReader};
 use super::{binary, npy, wrap, ReadError};
 use crate::prepare::outliers::order_statistic;
@@ -824,6 +824,26 @@ impl Grid {
         Ok(next)
     }
 
+    /// `n` readings stamped from `first` to `last`, each stamp one τ0 after
+    /// the one before (the first one τ0 after the grid's last stamp, when
+    /// the grid has started): what [`Grid::place`] does for each of them,
+    /// without --snap, at once.
+    fn place_one_steps(&mut self, last: f64, n: usize) {
+        debug_assert!(self.snap.is_none() && n > 0);
+        let steps = if self.started {
+            self.slot += n as u64;
+            n
+        } else {
+            self.started = true;
+            self.slot = n as u64 - 1;
+            n - 1
+        };
+        self.spacings += steps as u64;
+        self.ones += steps as u64;
+        self.prev_t = last;
+        self.rows += n;
+    }
+
     fn note_residual(&mut self, r: f64, row: usize) {
         self.r_sum += r;
         if r < self.r_min.0 {
@@ -1231,6 +1251,9 @@ struct Piece {
     /// Lines of text among the rows: (rows before it, line, its text — kept
     /// for the piece's first only).
     texts: Vec<(usize, u64, Option<String>)>,
+    /// Every stamp after the piece's first is surely one τ0 after the one
+    /// before ([`one_step_band`]), when asked ([`PieceRule::one_step`]).
+    one_step: bool,
     /// The error that ended the piece, after its rows.
     error: Option<ReadError>,
     /// The line of the last row (0 before the first).
@@ -1244,6 +1267,9 @@ struct PieceRule {
     conv: Conversion,
     /// Work out the spacings of the stamps (τ0 from the stamps, no --snap).
     spacings: bool,
+    /// τ0 given, with stamps, no --snap: tell whether every stamp of the
+    /// piece is surely one τ0 after the one before ([`Piece::one_step`]).
+    one_step: Option<f64>,
 }
 
 impl Piece {
@@ -1264,6 +1290,13 @@ impl Piece {
         (self.lo, self.hi) = (lo, hi);
         if rule.spacings {
             self.spacings = Spacings::of_times(&self.times).unwrap_or_default();
+        }
+        if let Some(tau0) = rule.one_step {
+            let (lo, hi) = one_step_band(tau0);
+            self.one_step = self.times.windows(2).all(|w| {
+                let dt = w[1] - w[0];
+                dt >= lo && dt <= hi
+            });
         }
     }
 
@@ -1304,6 +1337,7 @@ fn parse_piece(
         lo: f64::INFINITY,
         hi: f64::NEG_INFINITY,
         spacings: Spacings::default(),
+        one_step: false,
         breaks: Vec::new(),
         texts: Vec::new(),
         error: None,
@@ -1819,6 +1853,10 @@ impl<'a> Collected<'a> {
         PieceRule {
             conv: self.conv,
             spacings: self.spacings_only(),
+            one_step: match &self.grid {
+                Some(g) if self.opts.snap.is_none() && !self.keep_lines => Some(g.tau0),
+                _ => None,
+            },
         }
     }
 
@@ -1865,7 +1903,22 @@ impl<'a> Collected<'a> {
             && p.times.len() == p.values.len()
             && p.spacings.len() + 1 == p.values.len()
             && (self.rows == 0 || p.times[0] - self.prev_t > 0.0);
-        if plain && !p.values.is_empty() && (untimed || spaced) {
+        // τ0 given, no --snap: every stamp one τ0 after the one before, the
+        // first row's included (then each reading takes the next slot).
+        let stepped = p.one_step
+            && self.opts.snap.is_none()
+            && !self.keep_lines
+            && !p.values.is_empty()
+            && p.times.len() == p.values.len()
+            && self
+                .grid
+                .as_ref()
+                .is_some_and(|g| !g.started || steps(p.times[0] - g.prev_t, g.tau0) == Ok(1));
+        if plain && !p.values.is_empty() && (untimed || spaced || stepped) {
+            if stepped {
+                let g = self.grid.as_mut().expect("a grid when stepped");
+                g.place_one_steps(p.times[p.times.len() - 1], p.values.len());
+            }
             if spaced {
                 if self.rows > 0 {
                     self.spacings.push(p.times[0] - self.prev_t);

@@ -227,7 +227,7 @@ impl Spacings {
 /// that a spacing inside is one step without the division, and one near
 /// an edge or outside goes through [`steps`]. Empty (lower bound +∞) when
 /// τ0 is not a positive normal number well inside the range.
-fn one_step_band(tau0: f64) -> (f64, f64) {
+pub(super) fn one_step_band(tau0: f64) -> (f64, f64) {
     if (f64::MIN_POSITIVE * 1e3..=f64::MAX / 4.0).contains(&tau0) {
         (
             tau0 * (1.0 - SPACING_TOLERANCE) * (1.0 + 1e-9),
