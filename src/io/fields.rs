@@ -675,9 +675,7 @@ mod tests {
         .map(|s| s.to_string())
         .collect();
         for _ in 0..2000 {
-            state = state
-                .wrapping_mul(6364136223846793005)
-                .wrapping_add(1442695040888963407);
+            let state = lcg(&mut state);
             let x = f64::from_bits(state >> 2) * if state & 1 == 1 { -1.0 } else { 1.0 };
             if x.is_finite() {
                 fields.push(format!("{x:e}"));
@@ -721,6 +719,14 @@ mod tests {
         }
     }
 
+    /// The next state of a seeded linear congruential generator.
+    fn lcg(state: &mut u64) -> u64 {
+        *state = state
+            .wrapping_mul(6364136223846793005)
+            .wrapping_add(1442695040888963407);
+        *state
+    }
+
     /// The integer read of whole fields gives what the float parse gives,
     /// bit for bit and byte for byte (the standard library's parse is the
     /// reference): on seeded random digit strings of 1 to 22 digits (past
@@ -747,17 +753,12 @@ mod tests {
         .map(|s| s.to_string())
         .collect();
         for _ in 0..4000 {
-            state = state
-                .wrapping_mul(6364136223846793005)
-                .wrapping_add(1442695040888963407);
+            let state = lcg(&mut state);
             let digits = 1 + (state >> 59) as usize % 22;
             let mut f = String::new();
             let mut x = state;
             for _ in 0..digits {
-                x = x
-                    .wrapping_mul(6364136223846793005)
-                    .wrapping_add(1442695040888963407);
-                f.push(char::from(b'0' + (x >> 60) as u8 % 10));
+                f.push(char::from(b'0' + (lcg(&mut x) >> 60) as u8 % 10));
             }
             fields.push(f);
         }
