@@ -824,9 +824,9 @@ impl Grid {
         Ok(next)
     }
 
-    /// `n` readings stamped from `first` to `last`, each stamp one τ0 after
-    /// the one before (the first one τ0 after the grid's last stamp, when
-    /// the grid has started): what [`Grid::place`] does for each of them,
+    /// `n` readings, the last stamped `last`, each stamp one τ0 after the
+    /// one before (the first one τ0 after the grid's last stamp, when the
+    /// grid has started): what [`Grid::place`] does for each of them,
     /// without --snap, at once.
     fn place_one_steps(&mut self, last: f64, n: usize) {
         debug_assert!(self.snap.is_none() && n > 0);

@@ -8,8 +8,8 @@
 //!
 //! The spacings are held as runs of one value where they repeat bit for
 //! bit, as a block of stamps that count whole seconds does (one run for a
-//! whole file of such stamps: no memory a spacing), and listed where they
-//! vary. The run form changes nothing the reader reports: every question
+//! whole file of such stamps, instead of 8 bytes a spacing), and listed
+//! where they vary. The run form changes nothing the reader reports: every question
 //! below is answered for the sequence of spacings in order.
 
 use super::series::{steps, SPACING_TOLERANCE};
@@ -44,9 +44,9 @@ enum Share<'a> {
 }
 
 impl Spacings {
-    /// The spacings of `times` (in order, at least one), when each is
-    /// positive; `None` otherwise. Held as one run when all are the same,
-    /// found without listing them.
+    /// The spacings of `times` (in order), when there are at least two
+    /// stamps and each spacing is positive; `None` otherwise. Held as one
+    /// run when all are the same, found without listing them.
     pub(super) fn of_times(times: &[f64]) -> Option<Spacings> {
         let mut same = true;
         let first = times.get(1)? - times[0];
