@@ -3,6 +3,7 @@
 use super::offset::frequency_of;
 use crate::error::{Error, Result};
 use crate::record::{FrequencyRecord, PhaseRecord, Record};
+use rayon::prelude::*;
 
 /// Scale factor that makes the median absolute deviation an estimate of the
 /// standard deviation for normal data: 1/Φ⁻¹(3/4) = 1/0.6744898 (analytic).
@@ -137,17 +138,20 @@ fn outliers_of(
 /// mean absolute deviation is summed in index order.
 pub(crate) fn find_outliers_at(
     len: usize,
-    at: impl Fn(usize) -> f64,
+    at: impl Fn(usize) -> f64 + Sync,
     limit: f64,
 ) -> Result<Outliers> {
     check_limit(limit)?;
-    let tested = (0..len).filter(|&i| !at(i).is_nan()).count();
+    let tested = (0..len)
+        .into_par_iter()
+        .filter(|&i| !at(i).is_nan())
+        .count();
     if tested == 0 {
         return Err(Error::insufficient(
             "no frequency values to test for outliers",
         ));
     }
-    let median_of = |f: &dyn Fn(usize) -> f64| {
+    let median_of = |f: &(dyn Fn(usize) -> f64 + Sync)| {
         let mid = tested / 2;
         let hi = valid_order_statistic(len, f, mid);
         if tested % 2 == 1 {
@@ -170,21 +174,30 @@ pub(crate) fn find_outliers_at(
 /// over the values, 2^16 counters). `values` gives the same sequence at
 /// every call; rank < its length.
 pub(crate) fn order_statistic<I: Iterator<Item = f64>>(values: impl Fn() -> I, rank: usize) -> f64 {
-    let key = order_key;
-    let (mut prefix, mut rank) = (0u64, rank);
-    let mut counts = vec![0usize; 1 << 16];
+    radix_select(rank, |shift, above, prefix| {
+        let mut counts = vec![0usize; 1 << 16];
+        for k in values().map(order_key) {
+            if k & above == prefix {
+                counts[((k >> shift) & 0xFFFF) as usize] += 1;
+            }
+        }
+        counts
+    })
+}
+
+/// The radix selection of [`order_statistic`]: `count(shift, above,
+/// prefix)` gives, for the keys k whose bits `above` equal `prefix`, how
+/// many have each value of the 16 bits at `shift`; four passes, from the
+/// top 16 bits down, fix the key of rank `rank` 16 bits at a time.
+fn radix_select(mut rank: usize, mut count: impl FnMut(u32, u64, u64) -> Vec<usize>) -> f64 {
+    let mut prefix = 0u64;
     for shift in [48u32, 32, 16, 0] {
         let above = if shift == 48 {
             0
         } else {
             u64::MAX << (shift + 16)
         };
-        counts.fill(0);
-        for k in values().map(key) {
-            if k & above == prefix {
-                counts[((k >> shift) & 0xFFFF) as usize] += 1;
-            }
-        }
+        let counts = count(shift, above, prefix);
         let mut bucket = 0;
         while rank >= counts[bucket] {
             rank -= counts[bucket];
@@ -225,9 +238,35 @@ pub(crate) fn rank_counts(values: &[f64], guess: f64) -> (usize, usize) {
     })
 }
 
-/// [`order_statistic`] among the values v(i), i < len, that are not NaN.
-fn valid_order_statistic(len: usize, v: &dyn Fn(usize) -> f64, rank: usize) -> f64 {
-    order_statistic(|| (0..len).map(v).filter(|x| !x.is_nan()), rank)
+/// [`order_statistic`] among the values v(i), i < len, that are not NaN:
+/// the same radix selection, each pass counted over stretches of 2^20
+/// indices in parallel and the counts added (whole numbers: the same
+/// outcome as one thread).
+fn valid_order_statistic(len: usize, v: &(dyn Fn(usize) -> f64 + Sync), rank: usize) -> f64 {
+    const STRETCH: usize = 1 << 20;
+    radix_select(rank, |shift, above, prefix| {
+        (0..len.div_ceil(STRETCH))
+            .into_par_iter()
+            .map(|c| {
+                let mut counts = vec![0usize; 1 << 16];
+                for i in c * STRETCH..((c + 1) * STRETCH).min(len) {
+                    let x = v(i);
+                    if x.is_nan() {
+                        continue;
+                    }
+                    let k = order_key(x);
+                    if k & above == prefix {
+                        counts[((k >> shift) & 0xFFFF) as usize] += 1;
+                    }
+                }
+                counts
+            })
+            .reduce_with(|mut a, b| {
+                a.iter_mut().zip(b).for_each(|(x, y)| *x += y);
+                a
+            })
+            .unwrap_or_else(|| vec![0; 1 << 16])
+    })
 }
 
 /// The selection without a copy picks what `select_nth_unstable_by` picks
@@ -291,6 +330,36 @@ fn order_statistic_is_the_selection_on_a_copy() {
             w[rank].to_bits() == want.to_bits(),
             "rank {rank}"
         );
+    }
+}
+
+/// The parallel selection over indices picks what `select_nth_unstable_by`
+/// picks on a copy of the values that are not NaN (analytic: the same
+/// total order), over several stretches of 2^20 indices: seeded values
+/// with NaN, repeats and both signs, at ranks across the set.
+#[cfg(test)]
+#[test]
+fn valid_order_statistic_over_stretches_is_the_selection_on_a_copy() {
+    let mut state = 0x5e1ec7u64;
+    let v: Vec<f64> = (0..2_500_003)
+        .map(|i| {
+            state = state
+                .wrapping_mul(6364136223846793005)
+                .wrapping_add(1442695040888963407);
+            match i % 101 {
+                0 => f64::NAN,
+                1 => 0.25,
+                _ => ((state >> 11) as f64 / (1u64 << 53) as f64 - 0.4) * 1e-9,
+            }
+        })
+        .collect();
+    let valid: Vec<f64> = v.iter().copied().filter(|x| !x.is_nan()).collect();
+    let n = valid.len();
+    for rank in [0, 1, n / 3, n / 2 - 1, n / 2, n - 25_000, n - 1] {
+        let mut c = valid.clone();
+        let want = *c.select_nth_unstable_by(rank, f64::total_cmp).1;
+        let got = valid_order_statistic(v.len(), &|i| v[i], rank);
+        assert_eq!(got.to_bits(), want.to_bits(), "rank {rank}");
     }
 }
 

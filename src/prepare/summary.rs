@@ -35,19 +35,30 @@ pub struct Summary {
 /// median and MAD by a radix selection over them
 /// (`prepare::outliers::find_outliers_at`) — no copy of the record.
 pub fn summarize(record: &Record, outlier_limit: f64) -> Result<Summary> {
+    match record {
+        Record::Phase(p) => {
+            let (x, tau0) = (&p.x, p.tau0);
+            summarize_at(
+                record,
+                x.len().saturating_sub(1),
+                |i| (x[i + 1] - x[i]) / tau0,
+                outlier_limit,
+            )
+        }
+        Record::Frequency(f) => summarize_at(record, f.y.len(), |i| f.y[i], outlier_limit),
+    }
+}
+
+/// [`summarize`] given the frequencies y_i = `at(i)`, i < `len`.
+fn summarize_at(
+    record: &Record,
+    len: usize,
+    at: impl Fn(usize) -> f64 + Sync,
+    outlier_limit: f64,
+) -> Result<Summary> {
     let span = match record {
         Record::Phase(p) => p.span(),
         Record::Frequency(f) => f.len() as f64 * f.tau0,
-    };
-    let (len, at): (usize, Box<dyn Fn(usize) -> f64 + '_>) = match record {
-        Record::Phase(p) => {
-            let (x, tau0) = (&p.x, p.tau0);
-            (
-                x.len().saturating_sub(1),
-                Box::new(move |i| (x[i + 1] - x[i]) / tau0),
-            )
-        }
-        Record::Frequency(f) => (f.y.len(), Box::new(move |i| f.y[i])),
     };
     let (s, n) = (0..len)
         .map(&at)
