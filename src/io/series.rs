@@ -1903,11 +1903,10 @@ impl<'a> Collected<'a> {
             && p.times.len() == p.values.len()
             && p.spacings.len() + 1 == p.values.len()
             && (self.rows == 0 || p.times[0] - self.prev_t > 0.0);
-        // τ0 given, no --snap: every stamp one τ0 after the one before, the
-        // first row's included (then each reading takes the next slot).
+        // τ0 given (the piece is asked only then, without --snap or --wrap:
+        // `piece_rule`): every stamp one τ0 after the one before, the first
+        // row's included (then each reading takes the next slot).
         let stepped = p.one_step
-            && self.opts.snap.is_none()
-            && !self.keep_lines
             && !p.values.is_empty()
             && p.times.len() == p.values.len()
             && self

@@ -135,11 +135,14 @@ impl Spacings {
     /// The spacings in order.
     pub(super) fn iter(&self) -> impl Iterator<Item = f64> + '_ {
         self.parts.iter().flat_map(|p| {
-            let (run, list) = match p {
-                Part::Same { value, count } => (Some(std::iter::repeat(*value).take(*count)), None),
-                Part::Listed(l) => (None, Some(l.iter().copied())),
+            // A run, then nothing listed; or no run, then the list.
+            let (value, count, list) = match p {
+                Part::Same { value, count } => (*value, *count, &[][..]),
+                Part::Listed(l) => (0.0, 0, &l[..]),
             };
-            run.into_iter().flatten().chain(list.into_iter().flatten())
+            std::iter::repeat(value)
+                .take(count)
+                .chain(list.iter().copied())
         })
     }
 

@@ -176,10 +176,8 @@ pub(crate) fn find_outliers_at(
 pub(crate) fn order_statistic<I: Iterator<Item = f64>>(values: impl Fn() -> I, rank: usize) -> f64 {
     radix_select(rank, |shift, above, prefix| {
         let mut counts = vec![0usize; 1 << 16];
-        for k in values().map(order_key) {
-            if k & above == prefix {
-                counts[((k >> shift) & 0xFFFF) as usize] += 1;
-            }
+        for x in values() {
+            tally(&mut counts, x, shift, above, prefix);
         }
         counts
     })
@@ -211,6 +209,16 @@ fn radix_select(mut rank: usize, mut count: impl FnMut(u32, u64, u64) -> Vec<usi
         !prefix
     };
     f64::from_bits(b)
+}
+
+/// One value in a pass of [`radix_select`]: when its key's bits `above`
+/// equal `prefix`, count it under the 16 bits at `shift`.
+#[inline(always)]
+fn tally(counts: &mut [usize], x: f64, shift: u32, above: u64, prefix: u64) {
+    let k = order_key(x);
+    if k & above == prefix {
+        counts[((k >> shift) & 0xFFFF) as usize] += 1;
+    }
 }
 
 /// The key of `x` in the order of `f64::total_cmp`, as an unsigned
@@ -249,14 +257,9 @@ fn valid_order_statistic(len: usize, v: &(dyn Fn(usize) -> f64 + Sync), rank: us
             .into_par_iter()
             .map(|c| {
                 let mut counts = vec![0usize; 1 << 16];
-                for i in c * STRETCH..((c + 1) * STRETCH).min(len) {
-                    let x = v(i);
-                    if x.is_nan() {
-                        continue;
-                    }
-                    let k = order_key(x);
-                    if k & above == prefix {
-                        counts[((k >> shift) & 0xFFFF) as usize] += 1;
+                for x in (c * STRETCH..((c + 1) * STRETCH).min(len)).map(v) {
+                    if !x.is_nan() {
+                        tally(&mut counts, x, shift, above, prefix);
                     }
                 }
                 counts
