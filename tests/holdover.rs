@@ -335,18 +335,22 @@ fn noise_fit_recovers_the_simulated_model() {
 ///   like a standard normal variable — well under 10 % beyond 2 (nominal
 ///   4.6 %), standard deviation near 1. (The textbook regression σ_D gave a
 ///   median |D̂|/σ_D near 10.)
-/// - With aging (1e−14/s): the true |TE| at the span end lies above the
-///   predicted p95 in 3–8 % and above the p50 in 40–60 % of the records.
-///   Without aging: above the p50 in 40–60 % too, and above the p95 in
-///   1–8 %: the percentiles of |TE| lean to the safe side
-///   (the estimated aging scatters about a true zero; see
-///   `examples/holdover_calibration.rs` for the sweep).
+/// - With aging (1e−14/s), and with no aging on a unit whose frequency
+///   offset at the record's start (1e−10) carries on into the holdover: the
+///   true |TE| at the span end lies above the predicted p95 in 3–8 % and
+///   above the p50 in 40–60 % of the records.
+/// - With no aging and no offset: above the p50 in 40–60 % too, and above
+///   the p95 in 1–8 %: with the mean TE near zero the percentiles of |TE|
+///   lean to the safe side, as they must for any honest rule
+///   (`no_rule_reaches_the_no_aging_window_when_the_start_is_loosely_known`;
+///   `examples/holdover_calibration.rs` for the sweep, docs/verdicts.md).
 #[test]
 fn holdover_prediction_is_calibrated() {
     use tauwise::holdover::calibration::{run, Trial};
     let trial = Trial {
         model: PowerLaw::parse("h0=1e-22,h-2=3e-27", 0.5).unwrap(),
         aging: 0.0,
+        offset: 0.0,
         tau0: 1.0,
         points: 4096,
         span_samples: 256,
@@ -384,15 +388,27 @@ fn holdover_prediction_is_calibrated() {
         marginal.above_p95,
         marginal.above_p50
     );
+    // No aging on a free-running unit: its frequency offset (1e−10 here)
+    // carries on into the holdover, so the mean TE at the span end is far
+    // from zero against its uncertainty and the folding does not matter.
+    let free = run(&Trial {
+        offset: 1e-10,
+        ..trial
+    })
+    .unwrap();
     // 200 records: the binomial standard error of a 5 % rate is 1.5 %.
-    // With aging the |TE| percentiles are held to the issue's window (3–8 %
-    // above p95, 40–60 % above p50); with the Monte Carlo's per-term
-    // streams the records give 4.0 %. With no aging the true mean of TE
-    // here is the random-walk level carried into the holdover, small
-    // against its uncertainty on part of the records, and the folding
-    // about zero puts the p95 on the safe side: 2.5 % (1.75 % on 400
-    // records), so its window is 1–8 % (docs/verdicts.md).
-    for (what, c, low) in [("no aging", &none, 0.01), ("aging", &aged, 0.03)] {
+    // With aging, and with no aging but an offset, the |TE| percentiles are
+    // held to the issue's window (3–8 % above p95, 40–60 % above p50); the
+    // records give 4.0 % both. With no aging and no offset the true mean of
+    // TE here is the random walk's frequency at the record's end, small
+    // against its uncertainty on part of the records, and the fitted aging
+    // carries the walk's trend on: the p95 is on the safe side, 2.5 %
+    // (1.75 % on 400 records), so its window is 1–8 % (docs/verdicts.md).
+    for (what, c, low) in [
+        ("no aging, no offset", &none, 0.01),
+        ("no aging, free-running offset", &free, 0.03),
+        ("aging", &aged, 0.03),
+    ] {
         assert!(
             (low..=0.08).contains(&c.above_p95),
             "{what}: above p95 in {}",
@@ -423,6 +439,7 @@ fn aging_uncertainty_holds_a_loosely_known_random_walk() {
     let c = run(&Trial {
         model: PowerLaw::parse("h0=1e-22,h-2=3e-29", 0.5).unwrap(),
         aging: 0.0,
+        offset: 0.0,
         tau0: 1.0,
         points: 4096,
         span_samples: 1024,
@@ -519,4 +536,72 @@ fn folding_about_zero_is_why_no_aging_leans_safe() {
     );
     let (_, p95) = rates(1.5 * a, true);
     assert!(p95 > 0.15, "dropped, μ = 1.5a: {p95}");
+}
+
+/// Analytic (Gaussian model of `folding_about_zero_is_why_no_aging_leans_safe`,
+/// weak Lagrangian duality): how close to 5 % any rule can put the
+/// exceedance of its p95 of |TE| when the record shows no aging, if it is to
+/// stay honest at every aging.
+///
+/// The true time error is TE = μ + ε, ε ~ N(0, 1); the record gives
+/// μ̂ ~ N(μ, r²) — r is the spread the uncertainty of the fitted start
+/// frequency and aging gives TE at the span end, over the noise's own
+/// spread there. A rule is any bound U(μ̂) (even a randomised one) that
+/// never claims less than the p95 of |ε| alone, 1.96: no tighter than for a
+/// clock whose aging and start frequency were known exactly. Its exceedance
+/// at μ is C(μ) = P(|μ + ε| > U(μ̂)). The issue asks C(0) in 3–8 %; the
+/// rule must also keep C(μ) ≤ 8 % at every true μ, or it is overconfident
+/// where an aging is present but hidden in the noise.
+///
+/// For any λ ≥ 0 and any μ₁, every such rule has
+///   C(0) ≤ C(0) − λ·(½C(μ₁) + ½C(−μ₁) − 8 %)
+///        ≤ 8 %·λ + ∫ sup_{u ≥ 1.96} [p₀(m)·Q(0, u) − λ·p̄₁(m)·Q(μ₁, u)] dm,
+/// with p₀, p̄₁ the densities of μ̂ at μ = 0 and (averaged) at ±μ₁, and
+/// Q(μ, u) = P(|μ + ε| > u). The multipliers (μ₁, λ) below came from a
+/// linear program over rules on a grid (the one binding aging is about
+/// 1.25r to 1.5r); the test checks the certificate, which holds for any
+/// choice. Where r ≥ 1, no rule reaches 3 % at no aging: at r = 1 at most
+/// 3.0 %, at r = 1.5 at most 1.8 %, at r = 2 at most 1.2 %. Where r is
+/// small the window is within reach (the same bound at r = 0.25 is above
+/// 3 %). docs/verdicts.md gives the r of the calibration cases.
+#[test]
+fn no_rule_reaches_the_no_aging_window_when_the_start_is_loosely_known() {
+    use statrs::distribution::{Continuous, ContinuousCDF, Normal};
+    let phi = Normal::new(0.0, 1.0).unwrap();
+    let q = |mu: f64, u: f64| phi.sf(u - mu) + phi.sf(u + mu);
+    let floor = 1.959_963_984_540_054; // P(|ε| > floor) = 5 %
+    let cap = 0.08;
+    // The certificate's bound on C(0) for rules at ratio r. The bracket
+    // g(u) = a·Q(0, u) − b·Q(μ₁, u) has g'(u) = 2φ(u)·(b·e^{−μ₁²/2}·cosh(μ₁u) − a):
+    // it falls, then rises towards g(∞) = 0, so its sup over u ≥ 1.96 is
+    // max(g(1.96), 0) exactly — the best rule at each μ̂ is either the
+    // tightest bound or no bound. Only the integral over m is numeric
+    // (trapezoid on 20 001 points; μ̂ beyond ±m_hi adds at most the mass
+    // of N(0, r²) there).
+    let bound = |r: f64, mu1: f64, lambda: f64| {
+        let n = 20_001usize;
+        let m_hi = mu1 + 9.0 * r;
+        let dm = 2.0 * m_hi / (n - 1) as f64;
+        let (q0, q1) = (q(0.0, floor), q(mu1, floor));
+        let integrand = |m: f64| {
+            let a = phi.pdf(m / r) / r;
+            let b = lambda * 0.5 * (phi.pdf((m - mu1) / r) + phi.pdf((m + mu1) / r)) / r;
+            (a * q0 - b * q1).max(0.0)
+        };
+        let inner: f64 = (1..n - 1).map(|i| integrand(-m_hi + i as f64 * dm)).sum();
+        let integral = dm * (inner + 0.5 * (integrand(-m_hi) + integrand(m_hi)));
+        cap * lambda + integral + 2.0 * phi.sf(m_hi / r)
+    };
+    for (r, mu1, lambda, most) in [
+        (1.0, 1.5, 0.25045, 0.0305),
+        (1.5, 1.875, 0.20015, 0.0180),
+        (2.0, 2.5, 0.14465, 0.0122),
+    ] {
+        let c0 = bound(r, mu1, lambda);
+        assert!(c0 <= most, "r = {r}: C(0) can reach {c0}");
+    }
+    // Not vacuous: where the start is well known the window is reachable,
+    // and no certificate can say otherwise.
+    let c0 = bound(0.25, 0.3, 0.2);
+    assert!(c0 > 0.03, "r = 0.25: bound {c0}");
 }
