@@ -79,15 +79,17 @@ pub struct Outcome {
     /// fitted y0 and aging give TE there, a² = σ_y0²·t² + σ_D²·u² +
     /// 2ρ·σ_y0·σ_D·t·u (u the aging's TE per unit of its parameter), and n
     /// is the spread of the predicted paths' TE with y0 and the aging known
-    /// exactly (the same paths drawn again without their errors).
-    /// Where r is 1 or more, no rule can put the exceedance of the |TE| p95
-    /// near 5 % on records with no aging without being overconfident at
-    /// some aging (docs/verdicts.md).
+    /// exactly (the same paths drawn again without their errors); infinite
+    /// when those paths have no noise. Where r is 1 or more and the true
+    /// mean TE is zero, no rule can put the exceedance of its |TE| p95 near
+    /// 5 % without being overconfident at some aging (at most 3.0 % at
+    /// r = 1; docs/verdicts.md).
     pub spread_ratio: f64,
     /// m/a: the predicted mean TE at the span end (the deterministic part,
-    /// te0 + y0·t + aging) in units of a, signed. Where it is small as well as r large, the record cannot
-    /// tell the mean from zero, and the |TE| percentiles are wide however
-    /// they are made; where it is large the folding does not matter.
+    /// te0 + y0·t + aging) in units of a, signed; 0 when a is. Where it is
+    /// small as well as r large, the record cannot tell the mean from zero,
+    /// and the |TE| percentiles are wide however they are made; where it is
+    /// large the folding does not matter.
     pub mean_in_spreads: f64,
 }
 
@@ -229,12 +231,7 @@ fn one(trial: &Trial, seed: u64) -> Result<Outcome> {
 /// The median of `values` (NaN when there are none).
 fn median(values: impl Iterator<Item = f64>) -> f64 {
     let mut v: Vec<f64> = values.collect();
-    v.sort_by(f64::total_cmp);
-    match v.len() {
-        0 => f64::NAN,
-        k if k % 2 == 1 => v[k / 2],
-        k => 0.5 * (v[k / 2 - 1] + v[k / 2]),
-    }
+    crate::prepare::outliers::median_in_place(&mut v).unwrap_or(f64::NAN)
 }
 
 /// ([`Outcome::spread_ratio`], [`Outcome::mean_in_spreads`]) of the
@@ -271,7 +268,8 @@ fn spreads(model: &super::HoldoverModel, settings: &Settings) -> Result<(f64, f6
     let noise = (ends.iter().map(|x| (x - mean).powi(2)).sum::<f64>() / (k - 1.0)).sqrt();
     // m/a is 0 when a is: a prediction with y0 and the aging given.
     let m = if a > 0.0 { model.base(span) / a } else { 0.0 };
-    Ok((a / noise, m))
+    let r = if a > 0.0 { a / noise } else { 0.0 };
+    Ok((r, m))
 }
 
 #[cfg(test)]
