@@ -79,8 +79,8 @@ pub struct Outcome {
     /// fitted y0 and aging give TE there, a² = σ_y0²·t² + σ_D²·u² +
     /// 2ρ·σ_y0·σ_D·t·u (u the aging's TE per unit of its parameter), and n
     /// is the spread of the predicted paths' TE with y0 and the aging known
-    /// exactly (the same paths drawn again without their errors); infinite
-    /// when those paths have no noise. Where r is 1 or more and the true
+    /// exactly (the same paths without their errors); infinite when those
+    /// paths have no noise. Where r is 1 or more and the true
     /// mean TE is zero, no rule can put the exceedance of its |TE| p95 near
     /// 5 % without being overconfident at some aging (at most 3.0 % at
     /// r = 1; docs/verdicts.md).
@@ -204,7 +204,8 @@ fn one(trial: &Trial, seed: u64) -> Result<Outcome> {
         .filter(|p| te[p * n + n - 1] < signed_te)
         .count();
     let pit = below as f64 / trial.paths as f64;
-    let (spread_ratio, mean_in_spreads) = spreads(&model, &settings)?;
+    let ends: Vec<f64> = (0..trial.paths).map(|p| te[p * n + n - 1]).collect();
+    let (spread_ratio, mean_in_spreads) = spreads(&model, &settings, &ends)?;
     let end =
         pred.te.last().copied().ok_or_else(|| {
             crate::error::Error::insufficient("the prediction gave no time point")
@@ -235,41 +236,35 @@ fn median(values: impl Iterator<Item = f64>) -> f64 {
 }
 
 /// ([`Outcome::spread_ratio`], [`Outcome::mean_in_spreads`]) of the
-/// prediction from `model` under `settings`, at the span end. n is the
-/// spread of the same paths drawn with y0 and the aging known exactly.
-fn spreads(model: &super::HoldoverModel, settings: &Settings) -> Result<(f64, f64)> {
-    let span = settings.span;
-    let (sy, sd) = (model.y0_sigma.abs(), model.aging.sigma().abs());
-    let rho = model.uncertainty.y0_aging_corr;
-    let rho = if rho.is_finite() {
-        rho.clamp(-1.0, 1.0)
-    } else {
-        0.0
-    };
-    let u = model.aging.te_per_unit(model.start, span);
-    let a = ((sy * span).powi(2) + (sd * u).powi(2) + 2.0 * rho * sy * sd * span * u)
+/// prediction from `model` under `settings`, whose paths' signed TE at the
+/// span end are `ends` (path order). n is the spread of the same paths'
+/// noise: each end less its base and its own y0 and aging errors, as
+/// the prediction composed it.
+fn spreads(model: &super::HoldoverModel, settings: &Settings, ends: &[f64]) -> Result<(f64, f64)> {
+    let plan = super::Plan::new(model, settings)?;
+    let k = settings.steps;
+    let (t, b, u) = (plan.t[k], plan.base[k], plan.unit[k]);
+    let (sy, sd, rho) = (plan.sy0, plan.sd, plan.rho);
+    let a = ((sy * t).powi(2) + (sd * u).powi(2) + 2.0 * rho * sy * sd * t * u)
         .max(0.0)
         .sqrt();
-    let mut known = model.clone();
-    known.y0_sigma = 0.0;
-    known.aging = match known.aging {
-        Aging::Linear { c, d, .. } => Aging::Linear { c, d, d_sigma: 0.0 },
-        Aging::Log { c, a, tc, .. } => Aging::Log {
-            c,
-            a,
-            a_sigma: 0.0,
-            tc,
-        },
-    };
-    let (te, n, _) = simulate_te(&known, settings)?;
-    let ends: Vec<f64> = (0..settings.paths).map(|p| te[p * n + n - 1]).collect();
-    let k = ends.len() as f64;
-    let mean = ends.iter().sum::<f64>() / k;
-    let noise = (ends.iter().map(|x| (x - mean).powi(2)).sum::<f64>() / (k - 1.0)).sqrt();
-    // m/a is 0 when a is: a prediction with y0 and the aging given.
-    let m = if a > 0.0 { model.base(span) / a } else { 0.0 };
-    let r = if a > 0.0 { a / noise } else { 0.0 };
-    Ok((r, m))
+    let noise: Vec<f64> = ends
+        .iter()
+        .enumerate()
+        .map(|(p, x)| {
+            let (dy, dd) = plan.errors(super::path_errors(settings.seed, p));
+            x - b - dy * t - dd * u
+        })
+        .collect();
+    let count = noise.len() as f64;
+    let mean = noise.iter().sum::<f64>() / count;
+    let n = (noise.iter().map(|x| (x - mean).powi(2)).sum::<f64>() / (count - 1.0)).sqrt();
+    // Both are 0 when a is: a prediction with y0 and the aging given.
+    if a > 0.0 {
+        Ok((a / n, b / a))
+    } else {
+        Ok((0.0, 0.0))
+    }
 }
 
 #[cfg(test)]
@@ -305,7 +300,9 @@ mod tests {
             seed: 7,
             ..Settings::new(1000.0, 1.0)
         };
-        let (r, m) = spreads(&model, &settings).unwrap();
+        let (te, n, _) = simulate_te(&model, &settings).unwrap();
+        let ends: Vec<f64> = (0..settings.paths).map(|p| te[p * n + n - 1]).collect();
+        let (r, m) = spreads(&model, &settings, &ends).unwrap();
         assert!((r / 0.5 - 1.0).abs() < 0.05, "r = {r}");
         assert!((m - 1e-9 / 1.25e-20f64.sqrt()).abs() < 1e-9, "m/a = {m}");
     }
